@@ -1,0 +1,343 @@
+//! Diagnostics shared by every reader: unusable input ([`BadInput`]) and the ledger of
+//! records read, used and reported ([`Ledger`]).
+
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::fmt;
+use std::path::Path;
+
+/// An input that cannot be used at all. The command exits with code 2.
+///
+/// ```
+/// use basefit::BadInput;
+/// let err = BadInput::at("registry.yaml", 12, "expected a mapping for a version record");
+/// assert_eq!(err.to_string(), "registry.yaml:12: expected a mapping for a version record");
+/// ```
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct BadInput {
+    pub file: String,
+    pub line: Option<usize>,
+    pub message: String,
+    /// Further errors of the same file, so one run shows all of them (capped by the reader).
+    pub more: Vec<BadInput>,
+}
+
+impl BadInput {
+    pub fn at(file: impl Into<String>, line: usize, message: impl Into<String>) -> Self {
+        BadInput {
+            file: file.into(),
+            line: Some(line),
+            message: message.into(),
+            more: Vec::new(),
+        }
+    }
+
+    pub fn file(file: impl Into<String>, message: impl Into<String>) -> Self {
+        BadInput {
+            file: file.into(),
+            line: None,
+            message: message.into(),
+            more: Vec::new(),
+        }
+    }
+
+    /// Combines several errors into one value; `None` when there are none.
+    pub fn combine(mut errors: Vec<BadInput>) -> Option<BadInput> {
+        if errors.is_empty() {
+            return None;
+        }
+        let mut first = errors.remove(0);
+        first.more.extend(errors);
+        Some(first)
+    }
+
+    fn fmt_one(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.line {
+            Some(line) => write!(f, "{}:{}: {}", self.file, line, self.message),
+            None => write!(f, "{}: {}", self.file, self.message),
+        }
+    }
+}
+
+impl fmt::Display for BadInput {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        self.fmt_one(f)?;
+        for other in &self.more {
+            writeln!(f)?;
+            other.fmt_one(f)?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for BadInput {}
+
+/// Reads a whole input file as UTF-8 text, naming the file in the error.
+pub fn read_text(path: &Path) -> Result<String, BadInput> {
+    let bytes = std::fs::read(path)
+        .map_err(|e| BadInput::file(path.display().to_string(), format!("cannot read: {e}")))?;
+    String::from_utf8(bytes).map_err(|e| {
+        let upto = &e.as_bytes()[..e.utf8_error().valid_up_to()];
+        let line = upto.iter().filter(|&&b| b == b'\n').count() + 1;
+        BadInput::at(
+            path.display().to_string(),
+            line,
+            "not UTF-8 text (binary data?)",
+        )
+    })
+}
+
+/// Where a record came from: file and 1-based line.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+pub struct Origin {
+    pub file: String,
+    pub line: usize,
+}
+
+impl fmt::Display for Origin {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}:{}", self.file, self.line)
+    }
+}
+
+/// What kind of input a record belongs to; the ledger counts each separately.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum RecordKind {
+    Package,
+    Version,
+    Dependency,
+    Image,
+    Priority,
+    Result,
+    SourceEntry,
+}
+
+impl RecordKind {
+    pub fn label(self) -> &'static str {
+        match self {
+            RecordKind::Package => "package records",
+            RecordKind::Version => "version records",
+            RecordKind::Dependency => "dependency records",
+            RecordKind::Image => "image records",
+            RecordKind::Priority => "priority entries",
+            RecordKind::Result => "recorded results",
+            RecordKind::SourceEntry => "source-list entries",
+        }
+    }
+}
+
+/// A category of data-quality problem. Each has a fixed severity: whether the record it is
+/// attached to is left out of solving.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ProblemKind {
+    /// A version string that is not strict semver but whose intent is clear; used as normalised.
+    NormalisedVersion,
+    /// A version string that cannot be read; the version is left out.
+    UnreadableVersion,
+    /// A requirement string that cannot be read; the version carrying it is left out.
+    UnreadableRequirement,
+    /// A release date that cannot be read; the version is used without a date.
+    UnreadableDate,
+    /// A dependency on a name the registry does not have; used (it cannot be satisfied).
+    UnknownDependency,
+    /// A second record for the same package and version; the later one is left out.
+    DuplicateVersion,
+    /// A second record for the same package name; its versions are merged into the first.
+    DuplicatePackage,
+    /// A dependency requirement that no published version of the target satisfies.
+    UnsatisfiableRequirement,
+    /// A package all of whose versions are yanked.
+    NoInstallableVersion,
+    /// A package with no version records at all.
+    NoVersions,
+    /// An image that names an unknown base image or extends in a cycle; left out.
+    BadImage,
+    /// A second record with the same id or name (image, priority entry); the later one is left out.
+    DuplicateEntry,
+    /// A priority entry or recorded result naming a package the registry does not have.
+    UnknownPackage,
+    /// A recorded result naming an image that is not declared.
+    UnknownImage,
+    /// A recorded result whose log file cannot be read; used without its log.
+    MissingLog,
+    /// A record with a value out of range or of the wrong form; left out.
+    BadValue,
+}
+
+impl ProblemKind {
+    pub fn label(self) -> &'static str {
+        match self {
+            ProblemKind::NormalisedVersion => "versions normalised to semver",
+            ProblemKind::UnreadableVersion => "unreadable versions (left out)",
+            ProblemKind::UnreadableRequirement => "unreadable requirements (version left out)",
+            ProblemKind::UnreadableDate => "unreadable release dates (date ignored)",
+            ProblemKind::UnknownDependency => "dependencies on names not in the registry",
+            ProblemKind::DuplicateVersion => "duplicate versions (later record left out)",
+            ProblemKind::DuplicatePackage => "duplicate package records (versions merged)",
+            ProblemKind::UnsatisfiableRequirement => {
+                "dependency requirements no published version satisfies"
+            }
+            ProblemKind::NoInstallableVersion => {
+                "packages with no installable version (all yanked)"
+            }
+            ProblemKind::NoVersions => "packages without any version record",
+            ProblemKind::BadImage => "images that cannot be built (left out)",
+            ProblemKind::DuplicateEntry => "duplicate ids or names (later record left out)",
+            ProblemKind::UnknownPackage => "entries naming packages not in the registry",
+            ProblemKind::UnknownImage => "results naming images not declared",
+            ProblemKind::MissingLog => "log files that cannot be read (result kept without log)",
+            ProblemKind::BadValue => "records with an unusable value (left out)",
+        }
+    }
+}
+
+/// One reported problem.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Problem {
+    pub kind: ProblemKind,
+    pub origin: Origin,
+    /// What the problem is about: a package name, `name@version`, an image id.
+    pub subject: String,
+    pub detail: String,
+    /// Whether the record was left out of solving.
+    pub left_out: bool,
+}
+
+/// Counts per record kind.
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
+pub struct Tally {
+    pub read: u64,
+    pub used: u64,
+    pub left_out: u64,
+}
+
+/// Every record read is counted here as used or left out, and every problem is listed.
+///
+/// The invariant `read == used + left_out` holds per record kind once loading ends; readers
+/// call [`Ledger::read`] for each record and exactly one of [`Ledger::used`] or a problem with
+/// `left_out` set.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Ledger {
+    pub tallies: BTreeMap<RecordKind, Tally>,
+    pub problems: Vec<Problem>,
+}
+
+impl Ledger {
+    pub fn read(&mut self, kind: RecordKind) {
+        self.tallies.entry(kind).or_default().read += 1;
+    }
+
+    pub fn used(&mut self, kind: RecordKind) {
+        self.tallies.entry(kind).or_default().used += 1;
+    }
+
+    /// Records a problem that does not leave the record out.
+    pub fn note(
+        &mut self,
+        kind: ProblemKind,
+        origin: Origin,
+        subject: impl Into<String>,
+        detail: impl Into<String>,
+    ) {
+        self.problems.push(Problem {
+            kind,
+            origin,
+            subject: subject.into(),
+            detail: detail.into(),
+            left_out: false,
+        });
+    }
+
+    /// Records a problem that leaves a record of `record` kind out.
+    pub fn leave_out(
+        &mut self,
+        record: RecordKind,
+        kind: ProblemKind,
+        origin: Origin,
+        subject: impl Into<String>,
+        detail: impl Into<String>,
+    ) {
+        self.tallies.entry(record).or_default().left_out += 1;
+        self.problems.push(Problem {
+            kind,
+            origin,
+            subject: subject.into(),
+            detail: detail.into(),
+            left_out: true,
+        });
+    }
+
+    pub fn merge(&mut self, other: Ledger) {
+        for (kind, t) in other.tallies {
+            let mine = self.tallies.entry(kind).or_default();
+            mine.read += t.read;
+            mine.used += t.used;
+            mine.left_out += t.left_out;
+        }
+        self.problems.extend(other.problems);
+    }
+
+    /// Problems grouped by kind, in a fixed order, each group in input order.
+    pub fn by_kind(&self) -> BTreeMap<ProblemKind, Vec<&Problem>> {
+        let mut groups: BTreeMap<ProblemKind, Vec<&Problem>> = BTreeMap::new();
+        for p in &self.problems {
+            groups.entry(p.kind).or_default().push(p);
+        }
+        groups
+    }
+
+    /// Record kinds whose counts do not add up; empty when nothing was lost.
+    pub fn unbalanced(&self) -> Vec<RecordKind> {
+        self.tallies
+            .iter()
+            .filter(|(_, t)| t.read != t.used + t.left_out)
+            .map(|(k, _)| *k)
+            .collect()
+    }
+
+    pub fn is_clean(&self) -> bool {
+        self.problems.is_empty()
+    }
+
+    /// Orders problems by file, line and kind so reports do not depend on reading order.
+    pub fn sort(&mut self) {
+        self.problems
+            .sort_by(|a, b| (&a.origin, a.kind, &a.subject).cmp(&(&b.origin, b.kind, &b.subject)));
+    }
+}
+
+/// The closest of `known` to `word` by edit distance, when it is close enough to be a likely
+/// typo (at most a third of the word's length, and at least one edit allowed).
+///
+/// ```
+/// use basefit::load::diag::closest;
+/// assert_eq!(closest("dependz", &["depends", "builds"]), Some("depends"));
+/// assert_eq!(closest("zzz", &["depends", "builds"]), None);
+/// ```
+pub fn closest<'a>(word: &str, known: &[&'a str]) -> Option<&'a str> {
+    let limit = (word.chars().count() / 3).max(1);
+    known
+        .iter()
+        .map(|k| (edit_distance(word, k), *k))
+        .filter(|(d, _)| *d <= limit)
+        .min()
+        .map(|(_, k)| k)
+}
+
+fn edit_distance(a: &str, b: &str) -> usize {
+    let a: Vec<char> = a.chars().collect();
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    let mut cur = vec![0; b.len() + 1];
+    for i in 1..=a.len() {
+        cur[0] = i;
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            cur[j] = (prev[j] + 1).min(cur[j - 1] + 1).min(prev[j - 1] + cost);
+        }
+        std::mem::swap(&mut prev, &mut cur);
+    }
+    prev[b.len()]
+}

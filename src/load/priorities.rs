@@ -1,0 +1,215 @@
+//! Priority lists, in YAML or CSV.
+
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::table::Table;
+use super::yaml::{self, Ctx, Value};
+use crate::model::{Priority, PriorityList, Requirement};
+use std::collections::HashMap;
+use std::path::Path;
+
+const TOP_FIELDS: &[&str] = &["priorities"];
+const ENTRY_FIELDS: &[&str] = &["name", "weight", "req", "prerelease"];
+const CSV_COLUMNS: &[&str] = &["rank", "name", "weight", "req", "prerelease"];
+
+/// A priority entry as written.
+struct RawEntry {
+    line: usize,
+    rank: Option<f64>,
+    name: String,
+    weight: Option<f64>,
+    req: Option<String>,
+    prerelease: bool,
+}
+
+/// Reads a priority list; `.csv` files are read as CSV, anything else as YAML.
+pub fn read_priorities(path: &Path, ledger: &mut Ledger) -> Result<PriorityList, BadInput> {
+    let file = path.display().to_string();
+    let raw = if has_extension(path, "csv") {
+        read_csv(path)?
+    } else {
+        read_yaml(&file, &read_text(path)?)?
+    };
+    Ok(assemble(&file, raw, ledger))
+}
+
+pub(crate) fn has_extension(path: &Path, ext: &str) -> bool {
+    path.extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case(ext))
+}
+
+/// Reads priority YAML from a string; `file` names it in messages.
+pub fn read_priorities_str(
+    file: &str,
+    text: &str,
+    ledger: &mut Ledger,
+) -> Result<PriorityList, BadInput> {
+    Ok(assemble(file, read_yaml(file, text)?, ledger))
+}
+
+fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
+    let doc = yaml::parse(file, text)?;
+    let ctx = Ctx { file };
+    let top = ctx.map(&doc, "priority list", TOP_FIELDS)?;
+    let items = top.seq("priorities")?;
+    if items.is_empty() {
+        return Err(ctx.err(&doc, "priority list: `priorities` is missing or empty"));
+    }
+    yaml::collect_errors(items, 20, |node| {
+        // A bare name is the short form of an entry.
+        if let Value::Scalar(name, _) = &node.value {
+            return Ok(RawEntry {
+                line: node.line,
+                rank: None,
+                name: name.clone(),
+                weight: None,
+                req: None,
+                prerelease: false,
+            });
+        }
+        let m = ctx.map(node, "priority entry", ENTRY_FIELDS)?;
+        Ok(RawEntry {
+            line: m.line(),
+            rank: None,
+            name: m.required_str("name")?.to_string(),
+            weight: m.opt_number("weight")?,
+            req: m.opt_str("req")?.map(str::to_owned),
+            prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
+        })
+    })
+}
+
+fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
+    let mut table = Table::open(path, CSV_COLUMNS, &["name"])?;
+    let (c_rank, c_name, c_weight, c_req, c_pre) = (
+        table.column("rank"),
+        table.column("name"),
+        table.column("weight"),
+        table.column("req"),
+        table.column("prerelease"),
+    );
+    let mut out = Vec::new();
+    let mut errors = Vec::new();
+    while let Some(row) = table.next_row()? {
+        let number = |col: Option<usize>, what: &str| -> Result<Option<f64>, BadInput> {
+            match row.get(col) {
+                None => Ok(None),
+                Some(s) => s
+                    .parse::<f64>()
+                    .ok()
+                    .filter(|v| v.is_finite())
+                    .map(Some)
+                    .ok_or_else(|| {
+                        BadInput::at(
+                            &table.file,
+                            row.line,
+                            format!("`{what}`: expected a number, found `{s}`"),
+                        )
+                    }),
+            }
+        };
+        let entry = (|| {
+            let name = row
+                .get(c_name)
+                .ok_or_else(|| BadInput::at(&table.file, row.line, "`name` is empty"))?;
+            let prerelease = match row.get(c_pre) {
+                None | Some("false") => false,
+                Some("true") => true,
+                Some(other) => {
+                    return Err(BadInput::at(
+                        &table.file,
+                        row.line,
+                        format!("`prerelease`: expected true or false, found `{other}`"),
+                    ));
+                }
+            };
+            Ok(RawEntry {
+                line: row.line,
+                rank: number(c_rank, "rank")?,
+                name: name.to_string(),
+                weight: number(c_weight, "weight")?,
+                req: row.get(c_req).map(str::to_owned),
+                prerelease,
+            })
+        })();
+        match entry {
+            Ok(e) => out.push(e),
+            Err(e) if errors.len() < 20 => errors.push(e),
+            Err(_) => {}
+        }
+    }
+    if let Some(e) = BadInput::combine(errors) {
+        return Err(e);
+    }
+    if out.is_empty() {
+        return Err(BadInput::file(
+            &table.file,
+            "no priority entries after the header",
+        ));
+    }
+    // An explicit rank column orders the list; rows keep file order among equal ranks.
+    if out.iter().any(|e| e.rank.is_some()) {
+        out.sort_by(|a, b| {
+            let ra = a.rank.unwrap_or(f64::INFINITY);
+            let rb = b.rank.unwrap_or(f64::INFINITY);
+            ra.total_cmp(&rb).then(a.line.cmp(&b.line))
+        });
+    }
+    Ok(out)
+}
+
+fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> PriorityList {
+    let mut seen: HashMap<String, usize> = HashMap::new();
+    let mut entries = Vec::new();
+    for e in raw {
+        ledger.read(RecordKind::Priority);
+        let origin = Origin {
+            file: file.to_string(),
+            line: e.line,
+        };
+        if let Some(first) = seen.get(&e.name) {
+            ledger.leave_out(
+                RecordKind::Priority,
+                ProblemKind::DuplicateEntry,
+                origin,
+                &e.name,
+                format!("already listed at line {first}"),
+            );
+            continue;
+        }
+        if let Some(w) = e.weight.filter(|w| *w < 0.0) {
+            ledger.leave_out(
+                RecordKind::Priority,
+                ProblemKind::BadValue,
+                origin,
+                &e.name,
+                format!("weight {w} is negative"),
+            );
+            continue;
+        }
+        let req = match e.req.as_deref().map(Requirement::parse) {
+            None => None,
+            Some(Ok(r)) => Some(r),
+            Some(Err(why)) => {
+                ledger.leave_out(
+                    RecordKind::Priority,
+                    ProblemKind::UnreadableRequirement,
+                    origin,
+                    &e.name,
+                    why,
+                );
+                continue;
+            }
+        };
+        seen.insert(e.name.clone(), e.line);
+        ledger.used(RecordKind::Priority);
+        entries.push(Priority {
+            rank: entries.len() + 1,
+            name: e.name,
+            weight: e.weight.unwrap_or(1.0),
+            req,
+            prerelease: e.prerelease,
+            origin,
+        });
+    }
+    PriorityList { entries }
+}

@@ -1,0 +1,454 @@
+//! The registry snapshot in YAML, and the assembly step shared with the bulk CSV reader.
+
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::lenient::{VersionRead, read_version};
+use super::yaml::{self, Ctx, Node};
+use crate::model::{
+    Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate,
+};
+use rayon::prelude::*;
+use rustc_hash::FxHashMap;
+use std::path::Path;
+
+/// Schema errors reported per file before giving up, so one run shows many of them.
+const ERROR_CAP: usize = 20;
+
+/// Builds a [`Registry`] from records read in any format, counting every record in the
+/// ledger. The YAML and bulk CSV readers both feed it, so both report problems alike.
+pub struct RegistryBuilder {
+    pub registry: Registry,
+    pub ledger: Ledger,
+}
+
+/// The fields of one version record as written, before interning.
+pub struct RawRelease<'a> {
+    pub version: &'a str,
+    pub released: Option<&'a str>,
+    pub runtime: Option<&'a str>,
+    /// (name, requirement, kind, line)
+    pub deps: Vec<(&'a str, &'a str, DepKind, usize)>,
+    pub source_build: bool,
+    pub prebuilt: Vec<Platform>,
+    pub native: Option<NativeHints>,
+    pub yanked: bool,
+}
+
+impl Default for RegistryBuilder {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl RegistryBuilder {
+    pub fn new() -> Self {
+        RegistryBuilder {
+            registry: Registry::new(),
+            ledger: Ledger::default(),
+        }
+    }
+
+    /// Declares a package record; a second record of the same name merges into the first.
+    pub fn declare_package(
+        &mut self,
+        file: &str,
+        line: usize,
+        name: &str,
+        summary: Option<&str>,
+        native_helper: bool,
+    ) -> PackageId {
+        self.ledger.read(RecordKind::Package);
+        self.ledger.used(RecordKind::Package);
+        let file_index = self.registry.add_file(file);
+        let id = self.registry.intern_package(name);
+        let pkg = self.registry.package(id);
+        if pkg.declared {
+            let first = format!("{}:{}", self.registry.files[pkg.file as usize], pkg.line);
+            self.ledger.note(
+                ProblemKind::DuplicatePackage,
+                Origin {
+                    file: file.to_string(),
+                    line,
+                },
+                name,
+                format!("package already declared at {first}; versions merged"),
+            );
+            let pkg = self.registry.package_mut(id);
+            pkg.native_helper |= native_helper;
+            if pkg.summary.is_none() {
+                pkg.summary = summary.map(Into::into);
+            }
+        } else {
+            let pkg = self.registry.package_mut(id);
+            pkg.declared = true;
+            pkg.file = file_index;
+            pkg.line = line as u32;
+            pkg.summary = summary.map(Into::into);
+            pkg.native_helper = native_helper;
+        }
+        id
+    }
+
+    /// Adds one version record of `package`, or reports why it is left out.
+    pub fn add_release(
+        &mut self,
+        package: PackageId,
+        file: &str,
+        line: usize,
+        raw: RawRelease<'_>,
+    ) {
+        self.ledger.read(RecordKind::Version);
+        let origin = || Origin {
+            file: file.to_string(),
+            line,
+        };
+        let name = self.registry.name(package).to_string();
+        let (version, raw_version) = match read_version(raw.version) {
+            VersionRead::Strict(v) => (v, None),
+            VersionRead::Normalised(v, how) => {
+                self.ledger.note(
+                    ProblemKind::NormalisedVersion,
+                    origin(),
+                    format!("{name}@{}", raw.version),
+                    format!("read as {v} ({how})"),
+                );
+                (v, Some(raw.version.into()))
+            }
+            VersionRead::Refused(why) => {
+                self.ledger.leave_out(
+                    RecordKind::Version,
+                    ProblemKind::UnreadableVersion,
+                    origin(),
+                    format!("{name}@{}", raw.version),
+                    why,
+                );
+                return;
+            }
+        };
+        let subject = format!("{name}@{version}");
+        let runtime = match raw.runtime {
+            None => None,
+            Some(text) => match self.registry.intern_requirement(text) {
+                Ok(id) => Some(id),
+                Err(why) => {
+                    self.ledger.leave_out(
+                        RecordKind::Version,
+                        ProblemKind::UnreadableRequirement,
+                        origin(),
+                        subject,
+                        format!("runtime requirement {why}"),
+                    );
+                    return;
+                }
+            },
+        };
+        let mut deps = Vec::with_capacity(raw.deps.len());
+        for (dep_name, req_text, kind, dep_line) in &raw.deps {
+            match self.registry.intern_requirement(req_text) {
+                Ok(req) => deps.push(Dep {
+                    package: self.registry.intern_package(dep_name),
+                    req,
+                    kind: *kind,
+                }),
+                Err(why) => {
+                    self.ledger.leave_out(
+                        RecordKind::Version,
+                        ProblemKind::UnreadableRequirement,
+                        Origin {
+                            file: file.to_string(),
+                            line: *dep_line,
+                        },
+                        subject,
+                        format!("requirement on {dep_name}: {why}"),
+                    );
+                    return;
+                }
+            }
+        }
+        let released = match raw.released {
+            None => None,
+            Some(text) => {
+                let date = ReleaseDate::parse(text);
+                if date.is_none() {
+                    self.ledger.note(
+                        ProblemKind::UnreadableDate,
+                        origin(),
+                        subject.clone(),
+                        format!("`{text}` is not a date (expected YYYY-MM-DD); ignored"),
+                    );
+                }
+                date
+            }
+        };
+        let prebuilt: Box<[_]> = raw
+            .prebuilt
+            .into_iter()
+            .map(|p| self.registry.intern_platform(p))
+            .collect();
+        let release = Release {
+            version,
+            raw_version,
+            released,
+            runtime,
+            deps: deps.into_boxed_slice(),
+            build: Build {
+                source: raw.source_build,
+                prebuilt,
+            },
+            native: raw.native.map(Box::new),
+            yanked: raw.yanked,
+            line: line as u32,
+        };
+        self.registry.package_mut(package).releases.push(release);
+    }
+
+    /// Sorts releases, drops duplicate versions, counts what is used and runs the
+    /// registry-wide checks.
+    pub fn finish(mut self) -> (Registry, Ledger) {
+        let registry = &mut self.registry;
+        let ledger = &mut self.ledger;
+        for pkg in &mut registry.packages {
+            // Stable sort: among equal versions the earlier record comes first and is kept.
+            pkg.releases.sort_by(|a, b| a.version.cmp(&b.version));
+            let file = &registry.files[pkg.file as usize];
+            let mut kept: Vec<Release> = Vec::with_capacity(pkg.releases.len());
+            for r in std::mem::take(&mut pkg.releases) {
+                match kept.last() {
+                    Some(prev) if prev.version == r.version => {
+                        ledger.leave_out(
+                            RecordKind::Version,
+                            ProblemKind::DuplicateVersion,
+                            Origin {
+                                file: file.clone(),
+                                line: r.line as usize,
+                            },
+                            format!("{}@{}", pkg.name, r.version),
+                            format!("same version as the record at line {}", prev.line),
+                        );
+                    }
+                    _ => kept.push(r),
+                }
+            }
+            for _ in &kept {
+                ledger.used(RecordKind::Version);
+            }
+            pkg.releases = kept;
+        }
+        registry_checks(registry, ledger);
+        (self.registry, self.ledger)
+    }
+}
+
+fn origin_of(registry: &Registry, id: PackageId, line: u32) -> Origin {
+    let pkg = registry.package(id);
+    Origin {
+        file: registry
+            .files
+            .get(pkg.file as usize)
+            .cloned()
+            .unwrap_or_default(),
+        line: line as usize,
+    }
+}
+
+/// Registry-wide data-quality checks: unknown dependency names, requirements nothing
+/// satisfies, packages with nothing installable.
+fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
+    // Each distinct (target, requirement) pair is matched against the target's versions once,
+    // in parallel: at registry scale this is millions of pairs.
+    let mut pairs: FxHashMap<(PackageId, crate::model::ReqId), bool> = FxHashMap::default();
+    for pkg in &registry.packages {
+        for r in &pkg.releases {
+            for d in r.runtime_deps() {
+                pairs.entry((d.package, d.req)).or_insert(false);
+            }
+        }
+    }
+    let mut keys: Vec<_> = pairs.keys().copied().collect();
+    keys.sort_unstable();
+    let satisfiable: FxHashMap<_, bool> = keys
+        .par_iter()
+        .map(|&(target, req)| {
+            let req_v = registry.requirement(req);
+            let ok = registry
+                .package(target)
+                .releases
+                .iter()
+                .any(|r| req_v.matches(&r.version));
+            ((target, req), ok)
+        })
+        .collect();
+    for (index, pkg) in registry.packages.iter().enumerate() {
+        let id = PackageId(index as u32);
+        if !pkg.declared {
+            continue;
+        }
+        for r in &pkg.releases {
+            for d in r.runtime_deps() {
+                let target = registry.package(d.package);
+                let subject = format!("{}@{}", pkg.name, r.version);
+                if !target.declared {
+                    ledger.note(
+                        ProblemKind::UnknownDependency,
+                        origin_of(registry, id, r.line),
+                        subject,
+                        format!(
+                            "depends on `{}`, which the registry does not have",
+                            target.name
+                        ),
+                    );
+                } else if !satisfiable[&(d.package, d.req)] {
+                    ledger.note(
+                        ProblemKind::UnsatisfiableRequirement,
+                        origin_of(registry, id, r.line),
+                        subject,
+                        format!(
+                            "requires {} {}, which no published version satisfies",
+                            target.name,
+                            registry.requirement(d.req)
+                        ),
+                    );
+                }
+            }
+        }
+        if pkg.releases.is_empty() {
+            ledger.note(
+                ProblemKind::NoVersions,
+                origin_of(registry, id, pkg.line),
+                &*pkg.name,
+                "no usable version record",
+            );
+        } else if pkg.releases.iter().all(|r| r.yanked) {
+            ledger.note(
+                ProblemKind::NoInstallableVersion,
+                origin_of(registry, id, pkg.line),
+                &*pkg.name,
+                format!("all {} versions are yanked", pkg.releases.len()),
+            );
+        }
+    }
+}
+
+const TOP_FIELDS: &[&str] = &["packages"];
+const PACKAGE_FIELDS: &[&str] = &["name", "summary", "native_helper", "versions"];
+const VERSION_FIELDS: &[&str] = &[
+    "version", "released", "runtime", "yanked", "depends", "builds", "native",
+];
+const DEP_FIELDS: &[&str] = &["name", "req", "kind"];
+const BUILD_FIELDS: &[&str] = &["source", "prebuilt"];
+const NATIVE_FIELDS: &[&str] = &["libraries", "files"];
+
+/// Reads a registry snapshot in YAML into `builder`.
+pub fn read_yaml(path: &Path, builder: &mut RegistryBuilder) -> Result<(), BadInput> {
+    let file = path.display().to_string();
+    let text = read_text(path)?;
+    read_yaml_str(&file, &text, builder)
+}
+
+/// Reads registry YAML from a string; `file` names it in messages.
+pub fn read_yaml_str(
+    file: &str,
+    text: &str,
+    builder: &mut RegistryBuilder,
+) -> Result<(), BadInput> {
+    let doc = yaml::parse(file, text)?;
+    let ctx = Ctx { file };
+    let top = ctx.map(&doc, "registry", TOP_FIELDS)?;
+    let packages = top.seq("packages")?;
+    if top.get("packages").is_none() {
+        return Err(ctx.err(&doc, "registry: missing required field `packages`"));
+    }
+    // Schema errors are collected over the whole file before anything is added, so a
+    // malformed file adds nothing and reports many errors at once.
+    let parsed = yaml::collect_errors(packages, ERROR_CAP, |node| parse_package(ctx, node))?;
+    for pkg in parsed {
+        let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
+        for (line, raw) in pkg.releases {
+            builder.add_release(id, file, line, raw);
+        }
+    }
+    Ok(())
+}
+
+struct ParsedPackage<'a> {
+    line: usize,
+    name: &'a str,
+    summary: Option<&'a str>,
+    native_helper: bool,
+    releases: Vec<(usize, RawRelease<'a>)>,
+}
+
+fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, BadInput> {
+    let m = ctx.map(node, "package", PACKAGE_FIELDS)?;
+    let name = m.required_str("name")?;
+    if name.trim().is_empty() {
+        return Err(ctx.err(node, "package: `name` is empty"));
+    }
+    let releases = m
+        .seq("versions")?
+        .iter()
+        .map(|v| Ok((v.line, parse_release(ctx, v)?)))
+        .collect::<Result<Vec<_>, BadInput>>()?;
+    Ok(ParsedPackage {
+        line: m.line(),
+        name,
+        summary: m.opt_str("summary")?,
+        native_helper: m.opt_bool("native_helper")?.unwrap_or(false),
+        releases,
+    })
+}
+
+fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, BadInput> {
+    let m = ctx.map(node, "version record", VERSION_FIELDS)?;
+    let version = m.required_str("version")?;
+    let mut deps = Vec::new();
+    for d in m.seq("depends")? {
+        let dm = ctx.map(d, "dependency", DEP_FIELDS)?;
+        let name = dm.required_str("name")?;
+        let req = dm.opt_str("req")?.unwrap_or("*");
+        let kind = match dm.opt_str("kind")? {
+            None | Some("runtime") => DepKind::Runtime,
+            Some("development") => DepKind::Development,
+            Some(other) => {
+                return Err(ctx.err(
+                    d,
+                    format!("dependency `kind`: expected runtime or development, found `{other}`"),
+                ));
+            }
+        };
+        deps.push((name, req, kind, d.line));
+    }
+    let (source_build, prebuilt) = match m.get("builds") {
+        // No builds given: the common case of a package published as source only.
+        None => (true, Vec::new()),
+        Some(b) => {
+            let bm = ctx.map(b, "builds", BUILD_FIELDS)?;
+            let source = bm.opt_bool("source")?.unwrap_or(false);
+            let mut platforms = Vec::new();
+            for p in bm.seq("prebuilt")? {
+                let text = ctx.str(p, "builds `prebuilt`")?;
+                platforms.push(Platform::parse(text).map_err(|e| ctx.err(p, e))?);
+            }
+            (source, platforms)
+        }
+    };
+    let native = match m.get("native") {
+        None => None,
+        Some(n) => {
+            let nm = ctx.map(n, "native", NATIVE_FIELDS)?;
+            Some(NativeHints {
+                libraries: nm.str_list("libraries")?,
+                files: nm.str_list("files")?,
+            })
+        }
+    };
+    Ok(RawRelease {
+        version,
+        released: m.opt_str("released")?,
+        runtime: m.opt_str("runtime")?,
+        deps,
+        source_build,
+        prebuilt,
+        native,
+        yanked: m.opt_bool("yanked")?.unwrap_or(false),
+    })
+}

@@ -1,0 +1,277 @@
+//! Recorded install results, in YAML, CSV or JSON lines.
+
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::lenient::{VersionRead, read_version};
+use super::priorities::has_extension;
+use super::table::Table;
+use super::yaml::{self, Ctx};
+use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
+use std::path::{Path, PathBuf};
+
+const FIELDS: &[&str] = &["package", "image", "outcome", "version", "log", "log_file"];
+const REQUIRED: &[&str] = &["package", "image", "outcome"];
+
+/// A result record as written.
+struct RawResult {
+    line: usize,
+    package: String,
+    image: String,
+    outcome: String,
+    version: Option<String>,
+    log: Option<String>,
+    log_file: Option<String>,
+}
+
+/// What results are checked against: records naming anything else are reported.
+pub struct Known<'a> {
+    pub registry: &'a Registry,
+    pub images: &'a ImageSet,
+}
+
+/// Reads recorded results by extension: `.csv`, `.jsonl`/`.ndjson` (JSON lines), otherwise YAML.
+/// Log file paths are relative to the results file.
+pub fn read_results(
+    path: &Path,
+    known: &Known<'_>,
+    ledger: &mut Ledger,
+) -> Result<Vec<RecordedResult>, BadInput> {
+    let file = path.display().to_string();
+    let raw = if has_extension(path, "csv") {
+        read_csv(path)?
+    } else if has_extension(path, "jsonl") || has_extension(path, "ndjson") {
+        read_json_lines(&file, &read_text(path)?)?
+    } else {
+        read_yaml(&file, &read_text(path)?)?
+    };
+    let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    Ok(assemble(&file, &base, raw, known, ledger))
+}
+
+fn read_yaml(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
+    let doc = yaml::parse(file, text)?;
+    let ctx = Ctx { file };
+    let top = ctx.map(&doc, "results file", &["results"])?;
+    let items = top.seq("results")?;
+    yaml::collect_errors(items, 20, |node| {
+        let m = ctx.map(node, "result", FIELDS)?;
+        Ok(RawResult {
+            line: m.line(),
+            package: m.required_str("package")?.to_string(),
+            image: m.required_str("image")?.to_string(),
+            outcome: m.required_str("outcome")?.to_string(),
+            version: m.opt_str("version")?.map(str::to_owned),
+            log: m.opt_str("log")?.map(str::to_owned),
+            log_file: m.opt_str("log_file")?.map(str::to_owned),
+        })
+    })
+}
+
+fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
+    let mut table = Table::open(path, FIELDS, REQUIRED)?;
+    let cols: Vec<Option<usize>> = FIELDS.iter().map(|f| table.column(f)).collect();
+    let mut out = Vec::new();
+    let mut errors = Vec::new();
+    while let Some(row) = table.next_row()? {
+        let get = |i: usize| row.get(cols[i]).map(str::to_owned);
+        let missing: Vec<&str> = (0..3)
+            .filter(|&i| get(i).is_none())
+            .map(|i| FIELDS[i])
+            .collect();
+        if !missing.is_empty() {
+            if errors.len() < 20 {
+                errors.push(BadInput::at(
+                    &table.file,
+                    row.line,
+                    format!("result: empty required column(s) {}", missing.join(", ")),
+                ));
+            }
+            continue;
+        }
+        out.push(RawResult {
+            line: row.line,
+            package: get(0).unwrap_or_default(),
+            image: get(1).unwrap_or_default(),
+            outcome: get(2).unwrap_or_default(),
+            version: get(3),
+            log: get(4),
+            log_file: get(5),
+        });
+    }
+    match BadInput::combine(errors) {
+        Some(e) => Err(e),
+        None => Ok(out),
+    }
+}
+
+fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
+    let mut out = Vec::new();
+    let mut errors = Vec::new();
+    for (index, line_text) in text.lines().enumerate() {
+        let line = index + 1;
+        if line_text.trim().is_empty() {
+            continue;
+        }
+        match json_record(file, line, line_text) {
+            Ok(r) => out.push(r),
+            Err(e) if errors.len() < 20 => errors.push(e),
+            Err(_) => {}
+        }
+    }
+    if let Some(e) = BadInput::combine(errors) {
+        return Err(e);
+    }
+    if out.is_empty() {
+        return Err(BadInput::file(
+            file,
+            "the file is empty; expected one JSON object per line",
+        ));
+    }
+    Ok(out)
+}
+
+fn json_record(file: &str, line: usize, text: &str) -> Result<RawResult, BadInput> {
+    let value: serde_json::Value = serde_json::from_str(text)
+        .map_err(|e| BadInput::at(file, line, format!("not valid JSON: {e}")))?;
+    let obj = value
+        .as_object()
+        .ok_or_else(|| BadInput::at(file, line, "expected a JSON object"))?;
+    for key in obj.keys() {
+        if !FIELDS.contains(&key.as_str()) {
+            let hint = super::diag::closest(key, FIELDS)
+                .map(|c| format!("; did you mean `{c}`?"))
+                .unwrap_or_else(|| format!("; known fields: {}", FIELDS.join(", ")));
+            return Err(BadInput::at(
+                file,
+                line,
+                format!("result: unknown field `{key}`{hint}"),
+            ));
+        }
+    }
+    let field = |key: &str| -> Result<Option<String>, BadInput> {
+        match obj.get(key) {
+            None | Some(serde_json::Value::Null) => Ok(None),
+            Some(serde_json::Value::String(s)) => Ok(Some(s.clone())),
+            Some(other) => Err(BadInput::at(
+                file,
+                line,
+                format!("result `{key}`: expected a string, found {other}"),
+            )),
+        }
+    };
+    let required = |key: &str| -> Result<String, BadInput> {
+        field(key)?.ok_or_else(|| {
+            BadInput::at(
+                file,
+                line,
+                format!("result: missing required field `{key}`"),
+            )
+        })
+    };
+    Ok(RawResult {
+        line,
+        package: required("package")?,
+        image: required("image")?,
+        outcome: required("outcome")?,
+        version: field("version")?,
+        log: field("log")?,
+        log_file: field("log_file")?,
+    })
+}
+
+fn assemble(
+    file: &str,
+    base: &Path,
+    raw: Vec<RawResult>,
+    known: &Known<'_>,
+    ledger: &mut Ledger,
+) -> Vec<RecordedResult> {
+    let mut out = Vec::new();
+    for r in raw {
+        ledger.read(RecordKind::Result);
+        let origin = Origin {
+            file: file.to_string(),
+            line: r.line,
+        };
+        let subject = format!("{} on {}", r.package, r.image);
+        let Some(outcome) = RecordedOutcome::parse(&r.outcome) else {
+            ledger.leave_out(
+                RecordKind::Result,
+                ProblemKind::BadValue,
+                origin,
+                subject,
+                format!("outcome `{}`: expected installed or failed", r.outcome),
+            );
+            continue;
+        };
+        if known.images.get(&r.image).is_none() {
+            ledger.leave_out(
+                RecordKind::Result,
+                ProblemKind::UnknownImage,
+                origin,
+                subject,
+                format!("image `{}` is not declared", r.image),
+            );
+            continue;
+        }
+        if known
+            .registry
+            .id(&r.package)
+            .is_none_or(|id| !known.registry.package(id).declared)
+        {
+            ledger.leave_out(
+                RecordKind::Result,
+                ProblemKind::UnknownPackage,
+                origin,
+                subject,
+                format!("package `{}` is not in the registry", r.package),
+            );
+            continue;
+        }
+        let version = match r.version.as_deref().map(read_version) {
+            None => None,
+            Some(VersionRead::Strict(v)) | Some(VersionRead::Normalised(v, _)) => Some(v),
+            Some(VersionRead::Refused(why)) => {
+                ledger.leave_out(
+                    RecordKind::Result,
+                    ProblemKind::UnreadableVersion,
+                    origin,
+                    subject,
+                    format!(
+                        "installed version `{}`: {why}",
+                        r.version.unwrap_or_default()
+                    ),
+                );
+                continue;
+            }
+        };
+        let mut log = r.log;
+        if let Some(path) = &r.log_file {
+            let full: PathBuf = base.join(path);
+            match std::fs::read(&full) {
+                Ok(bytes) => {
+                    let text = String::from_utf8_lossy(&bytes).into_owned();
+                    log = Some(match log {
+                        Some(inline) => format!("{inline}\n{text}"),
+                        None => text,
+                    });
+                }
+                Err(e) => ledger.note(
+                    ProblemKind::MissingLog,
+                    origin.clone(),
+                    subject.clone(),
+                    format!("log file {}: {e}", full.display()),
+                ),
+            }
+        }
+        ledger.used(RecordKind::Result);
+        out.push(RecordedResult {
+            package: r.package,
+            image: r.image,
+            outcome,
+            version,
+            log,
+            origin,
+        });
+    }
+    out
+}

@@ -1,0 +1,459 @@
+//! A YAML document as a tree of nodes that keep their line, and typed readers over it that
+//! produce errors naming the file, the line and what was expected.
+//!
+//! serde-based YAML readers lose positions of values that deserialize fine, but data-quality
+//! problems (an unreadable version string in record 40,000) must still name their line, so
+//! the loaders read this tree instead.
+
+use super::diag::{BadInput, closest};
+use std::rc::Rc;
+use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser, Tag};
+use yaml_rust2::scanner::{Marker, TScalarStyle};
+
+/// Aliases may repeat a subtree; more expanded nodes than this is treated as an
+/// alias-expansion attack rather than data (a registry of millions of versions stays far
+/// below it per file: records are not repeated through aliases in practice).
+pub const MAX_EXPANDED_NODES: u64 = 50_000_000;
+
+/// One node of a YAML document.
+#[derive(Debug)]
+pub struct Node {
+    pub line: usize,
+    pub value: Value,
+    /// Nodes this one stands for once every alias below it is expanded.
+    expanded: u64,
+}
+
+#[derive(Debug)]
+pub enum Value {
+    Null,
+    /// A scalar and whether it was quoted (a quoted scalar is always a string).
+    Scalar(String, bool),
+    Seq(Vec<Rc<Node>>),
+    Map(Vec<(Rc<Node>, Rc<Node>)>),
+}
+
+impl Node {
+    pub fn type_name(&self) -> &'static str {
+        match &self.value {
+            Value::Null => "nothing",
+            Value::Scalar(..) => "a scalar",
+            Value::Seq(_) => "a list",
+            Value::Map(_) => "a mapping",
+        }
+    }
+
+    pub fn is_null(&self) -> bool {
+        matches!(self.value, Value::Null)
+    }
+}
+
+enum Open {
+    Seq(usize, Vec<Rc<Node>>, usize),
+    Map(usize, Vec<Rc<Node>>, usize),
+}
+
+struct Builder {
+    stack: Vec<Open>,
+    anchors: Vec<Option<Rc<Node>>>,
+    docs: Vec<Rc<Node>>,
+    expanded_total: u64,
+    error: Option<(usize, String)>,
+}
+
+impl Builder {
+    fn push_node(&mut self, node: Rc<Node>, anchor: usize) {
+        if anchor > 0 {
+            if self.anchors.len() <= anchor {
+                self.anchors.resize(anchor + 1, None);
+            }
+            self.anchors[anchor] = Some(node.clone());
+        }
+        match self.stack.last_mut() {
+            Some(Open::Seq(_, items, _)) | Some(Open::Map(_, items, _)) => items.push(node),
+            None => self.docs.push(node),
+        }
+    }
+}
+
+fn is_null_scalar(text: &str, style: TScalarStyle, tag: &Option<Tag>) -> bool {
+    if tag.as_ref().is_some_and(|t| t.suffix == "null") {
+        return true;
+    }
+    style == TScalarStyle::Plain && matches!(text, "" | "~" | "null" | "Null" | "NULL")
+}
+
+impl MarkedEventReceiver for Builder {
+    fn on_event(&mut self, ev: Event, mark: Marker) {
+        if self.error.is_some() {
+            return;
+        }
+        let line = mark.line();
+        match ev {
+            Event::Scalar(text, style, anchor, tag) => {
+                let value = if is_null_scalar(&text, style, &tag) {
+                    Value::Null
+                } else {
+                    Value::Scalar(text, style != TScalarStyle::Plain)
+                };
+                self.push_node(
+                    Rc::new(Node {
+                        line,
+                        value,
+                        expanded: 1,
+                    }),
+                    anchor,
+                );
+            }
+            Event::SequenceStart(anchor, _) => self.stack.push(Open::Seq(line, Vec::new(), anchor)),
+            Event::MappingStart(anchor, _) => self.stack.push(Open::Map(line, Vec::new(), anchor)),
+            Event::SequenceEnd | Event::MappingEnd => {
+                let Some(open) = self.stack.pop() else { return };
+                let (node, anchor) = match open {
+                    Open::Seq(line, items, anchor) => {
+                        let expanded = 1 + items.iter().map(|n| n.expanded).sum::<u64>();
+                        (
+                            Node {
+                                line,
+                                value: Value::Seq(items),
+                                expanded,
+                            },
+                            anchor,
+                        )
+                    }
+                    Open::Map(line, items, anchor) => {
+                        let expanded = 1 + items.iter().map(|n| n.expanded).sum::<u64>();
+                        let mut pairs = Vec::with_capacity(items.len() / 2);
+                        let mut it = items.into_iter();
+                        while let (Some(k), Some(v)) = (it.next(), it.next()) {
+                            pairs.push((k, v));
+                        }
+                        (
+                            Node {
+                                line,
+                                value: Value::Map(pairs),
+                                expanded,
+                            },
+                            anchor,
+                        )
+                    }
+                };
+                self.push_node(Rc::new(node), anchor);
+            }
+            Event::Alias(id) => {
+                let Some(target) = self.anchors.get(id).cloned().flatten() else {
+                    self.error = Some((line, "alias to an unknown anchor".into()));
+                    return;
+                };
+                self.expanded_total = self.expanded_total.saturating_add(target.expanded);
+                if self.expanded_total > MAX_EXPANDED_NODES || target.expanded > MAX_EXPANDED_NODES
+                {
+                    self.error = Some((
+                        line,
+                        format!(
+                            "aliases expand to more than {MAX_EXPANDED_NODES} nodes \
+                             (an alias-expansion bomb?); refusing to read further"
+                        ),
+                    ));
+                    return;
+                }
+                self.push_node(target, 0);
+            }
+            _ => {}
+        }
+    }
+}
+
+/// Parses `text` as one YAML document. An empty document is an error: every input of
+/// basefit has required content.
+pub fn parse(file: &str, text: &str) -> Result<Rc<Node>, BadInput> {
+    let mut builder = Builder {
+        stack: Vec::new(),
+        anchors: Vec::new(),
+        docs: Vec::new(),
+        expanded_total: 0,
+        error: None,
+    };
+    let mut parser = Parser::new_from_str(text);
+    if let Err(e) = parser.load(&mut builder, true) {
+        return Err(BadInput::at(
+            file,
+            e.marker().line(),
+            format!("not valid YAML: {}", e.info()),
+        ));
+    }
+    if let Some((line, msg)) = builder.error {
+        return Err(BadInput::at(file, line, msg));
+    }
+    match builder.docs.len() {
+        0 => Err(BadInput::file(
+            file,
+            "the file is empty; expected a YAML mapping",
+        )),
+        1 => Ok(builder.docs.remove(0)),
+        _ => Err(BadInput::at(
+            file,
+            builder.docs[1].line,
+            "more than one YAML document; expected exactly one",
+        )),
+    }
+}
+
+/// Reading context: the file name, so every error can name it.
+#[derive(Clone, Copy)]
+pub struct Ctx<'a> {
+    pub file: &'a str,
+}
+
+impl<'a> Ctx<'a> {
+    pub fn err(&self, node: &Node, message: impl Into<String>) -> BadInput {
+        BadInput::at(self.file, node.line, message)
+    }
+
+    pub fn str<'n>(&self, node: &'n Node, what: &str) -> Result<&'n str, BadInput> {
+        match &node.value {
+            Value::Scalar(s, _) => Ok(s),
+            _ => Err(self.err(
+                node,
+                format!("{what}: expected text, found {}", node.type_name()),
+            )),
+        }
+    }
+
+    /// Text, or `None` when the node is null.
+    pub fn opt_str<'n>(
+        &self,
+        node: Option<&'n Node>,
+        what: &str,
+    ) -> Result<Option<&'n str>, BadInput> {
+        match node {
+            None => Ok(None),
+            Some(n) if n.is_null() => Ok(None),
+            Some(n) => self.str(n, what).map(Some),
+        }
+    }
+
+    pub fn bool(&self, node: &Node, what: &str) -> Result<bool, BadInput> {
+        match &node.value {
+            Value::Scalar(s, false) => match s.as_str() {
+                "true" | "True" | "TRUE" | "yes" => Ok(true),
+                "false" | "False" | "FALSE" | "no" => Ok(false),
+                _ => Err(self.err(node, format!("{what}: expected true or false, found `{s}`"))),
+            },
+            _ => Err(self.err(
+                node,
+                format!("{what}: expected true or false, found {}", node.type_name()),
+            )),
+        }
+    }
+
+    pub fn number(&self, node: &Node, what: &str) -> Result<f64, BadInput> {
+        match &node.value {
+            Value::Scalar(s, false) => s
+                .parse::<f64>()
+                .ok()
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| self.err(node, format!("{what}: expected a number, found `{s}`"))),
+            _ => Err(self.err(
+                node,
+                format!("{what}: expected a number, found {}", node.type_name()),
+            )),
+        }
+    }
+
+    pub fn seq<'n>(&self, node: &'n Node, what: &str) -> Result<&'n [Rc<Node>], BadInput> {
+        match &node.value {
+            Value::Seq(items) => Ok(items),
+            Value::Null => Ok(&[]),
+            _ => Err(self.err(
+                node,
+                format!("{what}: expected a list, found {}", node.type_name()),
+            )),
+        }
+    }
+
+    /// A list of strings; a single string is accepted as a list of one.
+    pub fn str_list(&self, node: Option<&Node>, what: &str) -> Result<Vec<String>, BadInput> {
+        let Some(node) = node else {
+            return Ok(Vec::new());
+        };
+        if let Value::Scalar(s, _) = &node.value {
+            return Ok(vec![s.clone()]);
+        }
+        self.seq(node, what)?
+            .iter()
+            .map(|n| self.str(n, what).map(str::to_owned))
+            .collect()
+    }
+
+    /// Opens a mapping whose keys must all be among `known`.
+    pub fn map<'n>(
+        &self,
+        node: &'n Node,
+        what: &'static str,
+        known: &'static [&'static str],
+    ) -> Result<MapReader<'n, 'a>, BadInput> {
+        match &node.value {
+            Value::Map(pairs) => {
+                let mut entries = Vec::with_capacity(pairs.len());
+                for (k, v) in pairs {
+                    let key = match &k.value {
+                        Value::Scalar(s, _) => s.as_str(),
+                        _ => return Err(self.err(k, format!("{what}: keys must be text"))),
+                    };
+                    if !known.contains(&key) {
+                        let hint = closest(key, known)
+                            .map(|c| format!("; did you mean `{c}`?"))
+                            .unwrap_or_else(|| format!("; known fields: {}", known.join(", ")));
+                        return Err(self.err(k, format!("{what}: unknown field `{key}`{hint}")));
+                    }
+                    if entries.iter().any(|(seen, _)| *seen == key) {
+                        return Err(self.err(k, format!("{what}: field `{key}` given twice")));
+                    }
+                    entries.push((key, &**v));
+                }
+                Ok(MapReader {
+                    ctx: *self,
+                    node,
+                    what,
+                    entries,
+                })
+            }
+            _ => Err(self.err(
+                node,
+                format!("{what}: expected a mapping, found {}", node.type_name()),
+            )),
+        }
+    }
+}
+
+/// Field access on a mapping already checked for unknown keys.
+pub struct MapReader<'n, 'a> {
+    pub ctx: Ctx<'a>,
+    pub node: &'n Node,
+    what: &'static str,
+    entries: Vec<(&'n str, &'n Node)>,
+}
+
+impl<'n> MapReader<'n, '_> {
+    pub fn line(&self) -> usize {
+        self.node.line
+    }
+
+    /// The field's node; a null value counts as absent.
+    pub fn get(&self, key: &str) -> Option<&'n Node> {
+        self.entries
+            .iter()
+            .find(|(k, _)| *k == key)
+            .map(|(_, v)| *v)
+            .filter(|v| !v.is_null())
+    }
+
+    pub fn required(&self, key: &str) -> Result<&'n Node, BadInput> {
+        self.get(key).ok_or_else(|| {
+            self.ctx.err(
+                self.node,
+                format!("{}: missing required field `{key}`", self.what),
+            )
+        })
+    }
+
+    pub fn required_str(&self, key: &str) -> Result<&'n str, BadInput> {
+        let node = self.required(key)?;
+        self.ctx.str(node, &format!("{} `{key}`", self.what))
+    }
+
+    pub fn opt_str(&self, key: &str) -> Result<Option<&'n str>, BadInput> {
+        self.ctx
+            .opt_str(self.get(key), &format!("{} `{key}`", self.what))
+    }
+
+    pub fn opt_bool(&self, key: &str) -> Result<Option<bool>, BadInput> {
+        self.get(key)
+            .map(|n| self.ctx.bool(n, &format!("{} `{key}`", self.what)))
+            .transpose()
+    }
+
+    pub fn opt_number(&self, key: &str) -> Result<Option<f64>, BadInput> {
+        self.get(key)
+            .map(|n| self.ctx.number(n, &format!("{} `{key}`", self.what)))
+            .transpose()
+    }
+
+    pub fn str_list(&self, key: &str) -> Result<Vec<String>, BadInput> {
+        self.ctx
+            .str_list(self.get(key), &format!("{} `{key}`", self.what))
+    }
+
+    pub fn seq(&self, key: &str) -> Result<&'n [Rc<Node>], BadInput> {
+        match self.get(key) {
+            None => Ok(&[]),
+            Some(n) => self.ctx.seq(n, &format!("{} `{key}`", self.what)),
+        }
+    }
+}
+
+/// Runs `read` over every item, collecting up to `cap` schema errors so one run reports many.
+pub fn collect_errors<'n, T>(
+    items: &'n [Rc<Node>],
+    cap: usize,
+    mut read: impl FnMut(&'n Node) -> Result<T, BadInput>,
+) -> Result<Vec<T>, BadInput> {
+    let mut out = Vec::with_capacity(items.len());
+    let mut errors = Vec::new();
+    for item in items {
+        match read(item) {
+            Ok(v) => out.push(v),
+            Err(e) => {
+                if errors.len() < cap {
+                    errors.push(e);
+                }
+            }
+        }
+    }
+    match BadInput::combine(errors) {
+        Some(e) => Err(e),
+        None => Ok(out),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn lines_are_kept() {
+        let doc = parse("t.yaml", "a: 1\nb:\n  - x\n  - y\n").unwrap();
+        let ctx = Ctx { file: "t.yaml" };
+        let m = ctx.map(&doc, "top", &["a", "b"]).unwrap();
+        let items = m.seq("b").unwrap();
+        assert_eq!(items[1].line, 4);
+    }
+
+    #[test]
+    fn unknown_field_suggests() {
+        let doc = parse("t.yaml", "nmae: x\n").unwrap();
+        let ctx = Ctx { file: "t.yaml" };
+        let err = ctx
+            .map(&doc, "package", &["name", "versions"])
+            .err()
+            .unwrap();
+        assert_eq!(
+            err.to_string(),
+            "t.yaml:1: package: unknown field `nmae`; did you mean `name`?"
+        );
+    }
+
+    #[test]
+    fn alias_bomb_is_refused() {
+        let mut text = String::from("a0: &a0 [x, x, x, x, x, x, x, x, x, x]\n");
+        for i in 1..12 {
+            let p = i - 1;
+            text.push_str(&format!(
+                "a{i}: &a{i} [*a{p}, *a{p}, *a{p}, *a{p}, *a{p}, *a{p}, *a{p}, *a{p}, *a{p}, *a{p}]\n"
+            ));
+        }
+        let err = parse("bomb.yaml", &text).unwrap_err();
+        assert!(err.message.contains("alias-expansion"), "{err}");
+    }
+}

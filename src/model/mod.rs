@@ -1,0 +1,144 @@
+//! The loaded inputs, interned for solving at registry scale.
+//!
+//! Package names and requirement strings are interned to integers once at load: registries
+//! repeat the same few thousand requirement strings millions of times, and the solver compares
+//! package ids, not strings.
+
+mod registry;
+mod requirement;
+
+pub use registry::{
+    Build, Dep, DepKind, NativeHints, Package, PackageId, Platform, PlatformId, Registry, Release,
+    ReleaseDate,
+};
+pub use requirement::{ReqId, Requirement};
+
+use semver::Version;
+use serde::Serialize;
+use std::collections::BTreeSet;
+use std::fmt;
+
+use crate::load::diag::Origin;
+
+/// The OS families basefit knows system-package names for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum OsFamily {
+    Debian,
+    Alpine,
+    Rhel,
+}
+
+impl OsFamily {
+    pub const ALL: [OsFamily; 3] = [OsFamily::Debian, OsFamily::Alpine, OsFamily::Rhel];
+
+    pub fn parse(s: &str) -> Option<OsFamily> {
+        match s {
+            "debian" => Some(OsFamily::Debian),
+            "alpine" => Some(OsFamily::Alpine),
+            "rhel" => Some(OsFamily::Rhel),
+            _ => None,
+        }
+    }
+
+    pub fn as_str(self) -> &'static str {
+        match self {
+            OsFamily::Debian => "debian",
+            OsFamily::Alpine => "alpine",
+            OsFamily::Rhel => "rhel",
+        }
+    }
+}
+
+impl fmt::Display for OsFamily {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+/// A runtime image with its base images already applied.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Image {
+    pub id: String,
+    pub runtime: Version,
+    pub family: OsFamily,
+    pub platform: Platform,
+    pub toolchain: bool,
+    /// Installed system packages (names as the OS family spells them).
+    pub system_packages: BTreeSet<String>,
+    pub extends: Option<String>,
+    pub origin: Origin,
+}
+
+/// The declared set of images, in declared order.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct ImageSet {
+    pub images: Vec<Image>,
+}
+
+impl ImageSet {
+    pub fn get(&self, id: &str) -> Option<&Image> {
+        self.images.iter().find(|i| i.id == id)
+    }
+
+    pub fn position(&self, id: &str) -> Option<usize> {
+        self.images.iter().position(|i| i.id == id)
+    }
+}
+
+/// One entry of a priority list.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Priority {
+    /// 1-based position in the list.
+    pub rank: usize,
+    pub name: String,
+    /// Relative importance; 1.0 when the list gives none.
+    pub weight: f64,
+    /// Restricts the root version; `None` admits any non-pre-release version.
+    pub req: Option<Requirement>,
+    /// Admits pre-release versions of the root even when `req` names none.
+    pub prerelease: bool,
+    pub origin: Origin,
+}
+
+/// A ranked list of packages, most important first.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct PriorityList {
+    pub entries: Vec<Priority>,
+}
+
+impl PriorityList {
+    pub fn total_weight(&self) -> f64 {
+        self.entries.iter().map(|e| e.weight).sum()
+    }
+}
+
+/// What a recorded install reported.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum RecordedOutcome {
+    Installed,
+    Failed,
+}
+
+impl RecordedOutcome {
+    pub fn parse(s: &str) -> Option<Self> {
+        match s {
+            "installed" => Some(RecordedOutcome::Installed),
+            "failed" => Some(RecordedOutcome::Failed),
+            _ => None,
+        }
+    }
+}
+
+/// One recorded install of a package on an image.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RecordedResult {
+    pub package: String,
+    pub image: String,
+    pub outcome: RecordedOutcome,
+    pub version: Option<Version>,
+    /// The install log, read from the record or from its log file.
+    pub log: Option<String>,
+    pub origin: Origin,
+}

@@ -1,0 +1,292 @@
+//! The interned registry: packages, their releases sorted by version, dependencies.
+
+use super::requirement::{ReqId, Requirement};
+use rustc_hash::FxHashMap;
+use semver::Version;
+use serde::Serialize;
+use std::fmt;
+
+/// A package name interned in a [`Registry`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+pub struct PackageId(pub u32);
+
+/// A platform interned in a [`Registry`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct PlatformId(pub u16);
+
+/// The platform a prebuilt build targets, or an image runs: `os/libc/arch`.
+///
+/// ```
+/// use basefit::model::Platform;
+/// let p = Platform::parse("linux/glibc/x86_64").unwrap();
+/// assert_eq!(p.libc, "glibc");
+/// assert_eq!(p.to_string(), "linux/glibc/x86_64");
+/// assert!(Platform::parse("linux/x86_64").is_err());
+/// ```
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+pub struct Platform {
+    pub os: String,
+    pub libc: String,
+    pub arch: String,
+}
+
+impl Platform {
+    pub fn parse(s: &str) -> Result<Platform, String> {
+        let parts: Vec<&str> = s.trim().split('/').collect();
+        match parts.as_slice() {
+            [os, libc, arch] if !os.is_empty() && !libc.is_empty() && !arch.is_empty() => {
+                Ok(Platform {
+                    os: os.to_string(),
+                    libc: libc.to_string(),
+                    arch: arch.to_string(),
+                })
+            }
+            _ => Err(format!(
+                "`{s}`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64"
+            )),
+        }
+    }
+}
+
+impl fmt::Display for Platform {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}/{}/{}", self.os, self.libc, self.arch)
+    }
+}
+
+/// A release date, kept as `yyyymmdd` so it is small and orders correctly.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub struct ReleaseDate(pub u32);
+
+impl ReleaseDate {
+    /// Reads `YYYY-MM-DD`, optionally followed by a time (`T...` or a space).
+    ///
+    /// ```
+    /// use basefit::model::ReleaseDate;
+    /// assert_eq!(ReleaseDate::parse("2024-02-29").unwrap().to_string(), "2024-02-29");
+    /// assert!(ReleaseDate::parse("2023-02-29").is_none());
+    /// assert!(ReleaseDate::parse("yesterday").is_none());
+    /// ```
+    pub fn parse(s: &str) -> Option<ReleaseDate> {
+        let s = s.trim();
+        let day_part = match s.find(['T', ' ']) {
+            Some(i) => &s[..i],
+            None => s,
+        };
+        let mut it = day_part.split('-');
+        let (y, m, d) = (it.next()?, it.next()?, it.next()?);
+        if it.next().is_some() || y.len() != 4 || m.len() != 2 || d.len() != 2 {
+            return None;
+        }
+        let (y, m, d): (u32, u32, u32) = (y.parse().ok()?, m.parse().ok()?, d.parse().ok()?);
+        let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+        let days = [
+            31,
+            if leap { 29 } else { 28 },
+            31,
+            30,
+            31,
+            30,
+            31,
+            31,
+            30,
+            31,
+            30,
+            31,
+        ];
+        if !(1..=12).contains(&m) || d == 0 || d > days[(m - 1) as usize] {
+            return None;
+        }
+        Some(ReleaseDate(y * 10_000 + m * 100 + d))
+    }
+}
+
+impl fmt::Display for ReleaseDate {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let v = self.0;
+        write!(f, "{:04}-{:02}-{:02}", v / 10_000, (v / 100) % 100, v % 100)
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum DepKind {
+    /// Needed to install and run; the only kind that counts for installation.
+    Runtime,
+    /// Needed only to develop or test the package; ignored by the solver.
+    Development,
+}
+
+/// A dependency of one release.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Dep {
+    pub package: PackageId,
+    pub req: ReqId,
+    pub kind: DepKind,
+}
+
+/// How a release can be installed.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct Build {
+    /// A source build exists (installable anywhere, compiling what it must).
+    pub source: bool,
+    /// Platforms with a prebuilt build.
+    pub prebuilt: Box<[PlatformId]>,
+}
+
+/// What a release declares or ships that hints at native system libraries.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct NativeHints {
+    /// System libraries declared in the metadata (catalog ids or free names).
+    pub libraries: Vec<String>,
+    /// Files the release ships (paths inside its archive).
+    pub files: Vec<String>,
+}
+
+/// One published version of a package.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Release {
+    pub version: Version,
+    /// The string as written, when it was normalised.
+    pub raw_version: Option<Box<str>>,
+    pub released: Option<ReleaseDate>,
+    /// Runtime requirement; `None` admits every runtime.
+    pub runtime: Option<ReqId>,
+    pub deps: Box<[Dep]>,
+    pub build: Build,
+    pub native: Option<Box<NativeHints>>,
+    pub yanked: bool,
+    /// Line of the record in its package's file.
+    pub line: u32,
+}
+
+impl Release {
+    pub fn runtime_deps(&self) -> impl Iterator<Item = &Dep> {
+        self.deps.iter().filter(|d| d.kind == DepKind::Runtime)
+    }
+}
+
+/// A package: its releases in ascending version order (the `semver` crate's total order,
+/// which follows Semantic Versioning precedence and breaks its ties by build metadata).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Package {
+    pub name: Box<str>,
+    pub summary: Option<Box<str>>,
+    /// Marked as a helper for building native extensions; depending on it hints at a native
+    /// build.
+    pub native_helper: bool,
+    pub releases: Vec<Release>,
+    /// False for names that only appear as dependencies.
+    pub declared: bool,
+    /// Index into [`Registry::files`] and line of the package record.
+    pub file: u16,
+    pub line: u32,
+}
+
+/// The whole registry snapshot.
+#[derive(Debug, Clone, Default)]
+pub struct Registry {
+    pub packages: Vec<Package>,
+    pub requirements: Vec<Requirement>,
+    pub platforms: Vec<Platform>,
+    /// Input files, referenced by index from packages.
+    pub files: Vec<String>,
+    names: FxHashMap<Box<str>, PackageId>,
+    req_index: FxHashMap<Box<str>, ReqId>,
+    platform_index: FxHashMap<Platform, PlatformId>,
+}
+
+impl Registry {
+    pub fn new() -> Registry {
+        Registry::default()
+    }
+
+    pub fn id(&self, name: &str) -> Option<PackageId> {
+        self.names.get(name).copied()
+    }
+
+    pub fn package(&self, id: PackageId) -> &Package {
+        &self.packages[id.0 as usize]
+    }
+
+    pub fn package_mut(&mut self, id: PackageId) -> &mut Package {
+        &mut self.packages[id.0 as usize]
+    }
+
+    pub fn name(&self, id: PackageId) -> &str {
+        &self.packages[id.0 as usize].name
+    }
+
+    pub fn requirement(&self, id: ReqId) -> &Requirement {
+        &self.requirements[id.0 as usize]
+    }
+
+    pub fn platform(&self, id: PlatformId) -> &Platform {
+        &self.platforms[id.0 as usize]
+    }
+
+    pub fn ids(&self) -> impl Iterator<Item = PackageId> + use<> {
+        (0..self.packages.len() as u32).map(PackageId)
+    }
+
+    pub fn release_count(&self) -> usize {
+        self.packages.iter().map(|p| p.releases.len()).sum()
+    }
+
+    pub fn add_file(&mut self, file: &str) -> u16 {
+        if let Some(i) = self.files.iter().position(|f| f == file) {
+            return i as u16;
+        }
+        self.files.push(file.to_string());
+        (self.files.len() - 1) as u16
+    }
+
+    /// The id for `name`, creating an undeclared package when it is new.
+    pub fn intern_package(&mut self, name: &str) -> PackageId {
+        if let Some(id) = self.names.get(name) {
+            return *id;
+        }
+        let id = PackageId(self.packages.len() as u32);
+        self.packages.push(Package {
+            name: name.into(),
+            summary: None,
+            native_helper: false,
+            releases: Vec::new(),
+            declared: false,
+            file: 0,
+            line: 0,
+        });
+        self.names.insert(name.into(), id);
+        id
+    }
+
+    /// The id for a requirement string, parsing each distinct string once.
+    pub fn intern_requirement(&mut self, text: &str) -> Result<ReqId, String> {
+        if let Some(id) = self.req_index.get(text) {
+            return Ok(*id);
+        }
+        let req = Requirement::parse(text)?;
+        let id = ReqId(self.requirements.len() as u32);
+        self.requirements.push(req);
+        self.req_index.insert(text.into(), id);
+        Ok(id)
+    }
+
+    pub fn intern_platform(&mut self, platform: Platform) -> PlatformId {
+        if let Some(id) = self.platform_index.get(&platform) {
+            return *id;
+        }
+        let id = PlatformId(self.platforms.len() as u16);
+        self.platforms.push(platform.clone());
+        self.platform_index.insert(platform, id);
+        id
+    }
+
+    /// The index of `version` among the package's releases.
+    pub fn find_release(&self, id: PackageId, version: &Version) -> Option<usize> {
+        self.package(id)
+            .releases
+            .binary_search_by(|r| r.version.cmp(version))
+            .ok()
+    }
+}
