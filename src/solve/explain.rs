@@ -1,0 +1,338 @@
+//! Turning the solver's derivation tree into a cause class, readable lines and blockers.
+
+use super::Cause;
+use super::image::{Admission, ImageView};
+use super::provider::Node;
+use super::sets::{IndexSet, describe, indices};
+use crate::model::PackageId;
+use pubgrub::{DerivationTree, External};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+type Tree = DerivationTree<Node, IndexSet, String>;
+
+/// A package (other than the root) whose state makes the root fail.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Blocker {
+    pub package: PackageId,
+    /// Short reason, e.g. `needs a newer runtime (>=3.1)`.
+    pub reason: String,
+}
+
+/// A failed solve, explained.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Failure {
+    pub cause: Cause,
+    pub lines: Vec<String>,
+    pub blockers: Vec<Blocker>,
+}
+
+/// The facts of a derivation tree, in the order the tree states them. Runs of unavailable
+/// versions of one package are merged into one fact so they read as one line.
+struct Facts {
+    no_versions: BTreeMap<PackageId, IndexSet>,
+    order: Vec<Fact>,
+}
+
+enum Fact {
+    NoVersions(PackageId),
+    Depends(Node, IndexSet, PackageId, IndexSet),
+    Other(String),
+}
+
+fn collect(tree: &Tree, facts: &mut Facts) {
+    match tree {
+        DerivationTree::External(ext) => match ext {
+            External::NotRoot(..) => {}
+            External::NoVersions(Node::Package(p), set) => match facts.no_versions.get_mut(p) {
+                Some(existing) => *existing = existing.union(set),
+                None => {
+                    facts.no_versions.insert(*p, set.clone());
+                    facts.order.push(Fact::NoVersions(*p));
+                }
+            },
+            External::NoVersions(..) => {}
+            External::FromDependencyOf(_, _, Node::Runtime, _) => {}
+            External::FromDependencyOf(a, sa, Node::Package(b), sb) => {
+                let dup = facts.order.iter().any(|f| {
+                    matches!(f, Fact::Depends(x, xs, y, ys) if x == a && xs == sa && y == b && ys == sb)
+                });
+                if !dup {
+                    facts
+                        .order
+                        .push(Fact::Depends(*a, sa.clone(), *b, sb.clone()));
+                }
+            }
+            External::FromDependencyOf(..) => {}
+            External::Custom(_, _, msg) => facts.order.push(Fact::Other(msg.clone())),
+        },
+        DerivationTree::Derived(d) => {
+            collect(&d.cause1, facts);
+            collect(&d.cause2, facts);
+        }
+    }
+}
+
+/// Tally of why the releases of `package` in `set` cannot be used on the image.
+fn refusals(
+    view: &ImageView<'_>,
+    package: PackageId,
+    set: &IndexSet,
+) -> BTreeMap<Admission, Vec<u32>> {
+    let admissions = view.admissions(package);
+    let mut out: BTreeMap<Admission, Vec<u32>> = BTreeMap::new();
+    for i in indices(set, admissions.len()) {
+        if admissions[i as usize] != Admission::Admissible {
+            out.entry(admissions[i as usize]).or_default().push(i);
+        }
+    }
+    out
+}
+
+fn cause_of_refusals(tally: &BTreeMap<Admission, Vec<u32>>) -> Cause {
+    if tally.contains_key(&Admission::NeedsNewerRuntime) {
+        Cause::RuntimeTooOld
+    } else if tally.contains_key(&Admission::NeedsOlderRuntime) {
+        Cause::RuntimeTooNew
+    } else if tally.contains_key(&Admission::NoBuild) {
+        Cause::NoBuildForPlatform
+    } else {
+        Cause::OnlyYankedOrPrerelease
+    }
+}
+
+/// Why nothing in `set` of `package` is usable, as one cause and one phrase.
+pub(crate) fn unusable(
+    view: &ImageView<'_>,
+    package: PackageId,
+    set: &IndexSet,
+) -> (Cause, String) {
+    let registry = view.registry;
+    let pkg = registry.package(package);
+    if !pkg.declared {
+        return (Cause::MissingFromRegistry, "is not in the registry".into());
+    }
+    let releases = &pkg.releases;
+    if indices(set, releases.len()).next().is_none() {
+        if !releases.is_empty()
+            && releases
+                .iter()
+                .all(|r| r.yanked || !r.version.pre.is_empty())
+        {
+            return (
+                Cause::OnlyYankedOrPrerelease,
+                "has only yanked or pre-release versions".into(),
+            );
+        }
+        return (
+            Cause::MissingFromRegistry,
+            "has no published version matching the requirement".into(),
+        );
+    }
+    let tally = refusals(view, package, set);
+    let image = view.image;
+    let mut parts = Vec::new();
+    for (reason, idx) in &tally {
+        let n = idx.len();
+        let versions = if n == 1 { "version" } else { "versions" };
+        let phrase = match reason {
+            Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime => {
+                let mut reqs: Vec<String> = idx
+                    .iter()
+                    .filter_map(|&i| releases[i as usize].runtime)
+                    .map(|r| registry.requirement(r).text.clone())
+                    .collect();
+                reqs.sort();
+                reqs.dedup();
+                let shown = if reqs.len() > 3 {
+                    format!("{} and {} more", reqs[..3].join("; "), reqs.len() - 3)
+                } else {
+                    reqs.join("; ")
+                };
+                let dir = if *reason == Admission::NeedsNewerRuntime {
+                    "newer"
+                } else {
+                    "older"
+                };
+                format!(
+                    "{n} {versions} need a {dir} runtime ({shown}; the image has {})",
+                    image.runtime
+                )
+            }
+            Admission::Yanked => format!("{n} {versions} yanked"),
+            Admission::NoBuild => format!(
+                "{n} {versions} without a source build or a prebuilt build for {}",
+                image.platform
+            ),
+            Admission::Admissible => continue,
+        };
+        parts.push(phrase);
+    }
+    (
+        cause_of_refusals(&tally),
+        format!("{}: {}", describe(registry, package, set), parts.join(", ")),
+    )
+}
+
+/// The requirement text `dependent`'s releases in `dependent_set` place on `target`, when they
+/// all agree; otherwise the set is described by its versions.
+fn requirement_text(
+    view: &ImageView<'_>,
+    dependent: PackageId,
+    dependent_set: &IndexSet,
+    target: PackageId,
+    target_set: &IndexSet,
+) -> String {
+    let registry = view.registry;
+    let releases = &registry.package(dependent).releases;
+    let mut texts: Vec<&str> = Vec::new();
+    for i in indices(dependent_set, releases.len()) {
+        for d in releases[i as usize]
+            .runtime_deps()
+            .filter(|d| d.package == target)
+        {
+            let t = registry.requirement(d.req).text.as_str();
+            if !texts.contains(&t) {
+                texts.push(t);
+            }
+        }
+    }
+    match texts.as_slice() {
+        [one] => one.to_string(),
+        _ => describe(registry, target, target_set),
+    }
+}
+
+/// Explains a failed solve of `root` on the view's image.
+pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
+    let registry = view.registry;
+    let mut facts = Facts {
+        no_versions: BTreeMap::new(),
+        order: Vec::new(),
+    };
+    collect(tree, &mut facts);
+    let mut lines = Vec::new();
+    let mut blockers = Vec::new();
+    let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
+    let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
+    for fact in &facts.order {
+        match fact {
+            Fact::NoVersions(p) => {
+                let set = &facts.no_versions[p];
+                let (cause, phrase) = unusable(view, *p, set);
+                let name = registry.name(*p);
+                lines.push(if registry.package(*p).declared {
+                    format!("no version of {name} can be used here: {phrase}")
+                } else {
+                    format!("{name} {phrase}")
+                });
+                leaf_causes.push((*p, cause));
+                if *p != root {
+                    blockers.push(Blocker {
+                        package: *p,
+                        reason: format!("{name} {}", cause.label()),
+                    });
+                }
+            }
+            Fact::Depends(a, sa, b, sb) => {
+                let target = registry.name(*b);
+                let deps_on = constrained_by.entry(*b).or_default();
+                if !deps_on.contains(a) {
+                    deps_on.push(*a);
+                }
+                match a {
+                    Node::Root => {
+                        let root_desc = describe(registry, *b, sb);
+                        lines.push(format!("the entry asks for {target} ({root_desc})"));
+                        if indices(sb, registry.package(*b).releases.len())
+                            .next()
+                            .is_none()
+                        {
+                            let (cause, phrase) = unusable(view, *b, sb);
+                            lines.push(format!("{target} {phrase}"));
+                            leaf_causes.push((*b, cause));
+                        }
+                    }
+                    Node::Package(ap) => {
+                        let req = requirement_text(view, *ap, sa, *b, sb);
+                        lines.push(format!(
+                            "{} {} depends on {target} {req}",
+                            registry.name(*ap),
+                            describe(registry, *ap, sa)
+                        ));
+                        if indices(sb, registry.package(*b).releases.len())
+                            .next()
+                            .is_none()
+                        {
+                            let (cause, phrase) = unusable(view, *b, sb);
+                            lines.push(format!("{target} {phrase}"));
+                            leaf_causes.push((*b, cause));
+                            blockers.push(Blocker {
+                                package: *b,
+                                reason: format!("{target} {req}: {}", cause.label()),
+                            });
+                        }
+                    }
+                    Node::Runtime => {}
+                }
+            }
+            Fact::Other(msg) => lines.push(msg.clone()),
+        }
+    }
+    let conflict = constrained_by
+        .iter()
+        .find(|(_, by)| by.len() >= 2)
+        .map(|(p, _)| *p);
+    let cause = if let Some((_, c)) = leaf_causes
+        .iter()
+        .find(|(_, c)| *c == Cause::MissingFromRegistry)
+    {
+        *c
+    } else if let Some((_, c)) = leaf_causes.iter().find(|(p, _)| *p == root) {
+        *c
+    } else if conflict.is_some() {
+        Cause::DependencyConflict
+    } else {
+        [
+            Cause::RuntimeTooOld,
+            Cause::RuntimeTooNew,
+            Cause::NoBuildForPlatform,
+            Cause::OnlyYankedOrPrerelease,
+        ]
+        .into_iter()
+        .find(|c| leaf_causes.iter().any(|(_, lc)| lc == c))
+        .unwrap_or(Cause::DependencyConflict)
+    };
+    if let Some(p) = conflict.filter(|_| cause == Cause::DependencyConflict) {
+        let by: Vec<String> = constrained_by[&p]
+            .iter()
+            .map(|n| match n {
+                Node::Package(q) => registry.name(*q).to_string(),
+                _ => "the entry".to_string(),
+            })
+            .collect();
+        lines.push(format!(
+            "{} and {} need versions of {} that do not overlap",
+            by[..by.len() - 1].join(", "),
+            by[by.len() - 1],
+            registry.name(p)
+        ));
+        if p != root {
+            blockers.push(Blocker {
+                package: p,
+                reason: format!("conflicting requirements on {}", registry.name(p)),
+            });
+        }
+    }
+    lines.push(format!(
+        "so {} cannot be installed on {}",
+        registry.name(root),
+        view.image.id
+    ));
+    blockers.dedup();
+    Failure {
+        cause,
+        lines,
+        blockers,
+    }
+}

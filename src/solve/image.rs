@@ -1,0 +1,146 @@
+//! What depends only on the image, computed once per image and shared by all of its cells:
+//! which releases of each package are admissible there, and why the others are not.
+
+use super::sets::SetCache;
+use crate::model::{Image, PackageId, Registry, ReqId, Requirement};
+use semver::{Op, Version};
+use serde::Serialize;
+use std::sync::OnceLock;
+
+/// Whether one release can be chosen on an image.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Admission {
+    Admissible,
+    Yanked,
+    /// Its runtime requirement admits only runtimes newer than the image's.
+    NeedsNewerRuntime,
+    /// Its runtime requirement admits only runtimes older than the image's.
+    NeedsOlderRuntime,
+    /// Neither a source build nor a prebuilt build for the image's platform.
+    NoBuild,
+}
+
+/// How a chosen release gets onto the image.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum BuildKind {
+    Prebuilt,
+    Source,
+}
+
+/// Per-image solver context: the registry, the image, and lazily computed admissibility.
+pub struct ImageView<'r> {
+    pub registry: &'r Registry,
+    pub image: &'r Image,
+    pub sets: &'r SetCache,
+    platform: Option<crate::model::PlatformId>,
+    runtime_verdicts: Vec<OnceLock<Admission>>,
+    admissions: Vec<OnceLock<Box<[Admission]>>>,
+}
+
+impl<'r> ImageView<'r> {
+    pub fn new(registry: &'r Registry, image: &'r Image, sets: &'r SetCache) -> Self {
+        let platform = registry
+            .platforms
+            .iter()
+            .position(|p| *p == image.platform)
+            .map(|i| crate::model::PlatformId(i as u16));
+        ImageView {
+            registry,
+            image,
+            sets,
+            platform,
+            runtime_verdicts: (0..registry.requirements.len())
+                .map(|_| OnceLock::new())
+                .collect(),
+            admissions: (0..registry.packages.len())
+                .map(|_| OnceLock::new())
+                .collect(),
+        }
+    }
+
+    fn runtime_verdict(&self, req: ReqId) -> Admission {
+        *self.runtime_verdicts[req.0 as usize]
+            .get_or_init(|| runtime_verdict(self.registry.requirement(req), &self.image.runtime))
+    }
+
+    /// Admission of every release of `package`, in release order.
+    pub fn admissions(&self, package: PackageId) -> &[Admission] {
+        self.admissions[package.0 as usize].get_or_init(|| {
+            self.registry
+                .package(package)
+                .releases
+                .iter()
+                .map(|r| {
+                    if r.yanked {
+                        return Admission::Yanked;
+                    }
+                    if let Some(req) = r.runtime {
+                        let v = self.runtime_verdict(req);
+                        if v != Admission::Admissible {
+                            return v;
+                        }
+                    }
+                    if r.build.source || self.prebuilt_here(&r.build.prebuilt) {
+                        Admission::Admissible
+                    } else {
+                        Admission::NoBuild
+                    }
+                })
+                .collect()
+        })
+    }
+
+    fn prebuilt_here(&self, prebuilt: &[crate::model::PlatformId]) -> bool {
+        self.platform.is_some_and(|p| prebuilt.contains(&p))
+    }
+
+    /// How release `index` of `package` would be installed here.
+    pub fn build_kind(&self, package: PackageId, index: usize) -> BuildKind {
+        let r = &self.registry.package(package).releases[index];
+        if self.prebuilt_here(&r.build.prebuilt) {
+            BuildKind::Prebuilt
+        } else {
+            BuildKind::Source
+        }
+    }
+}
+
+/// Whether `runtime` meets `req`, and if not, in which direction it misses.
+///
+/// A requirement misses "low" when some alternative would admit a newer runtime: one of its
+/// comparators puts a lower bound above `runtime`. Otherwise every alternative fails on an
+/// upper bound and the runtime is too new.
+///
+/// ```
+/// use basefit::model::Requirement;
+/// use basefit::solve::image::{runtime_verdict, Admission};
+/// use semver::Version;
+/// let v = Version::parse("3.0.5").unwrap();
+/// assert_eq!(runtime_verdict(&Requirement::parse(">=3.1").unwrap(), &v), Admission::NeedsNewerRuntime);
+/// assert_eq!(runtime_verdict(&Requirement::parse(">=2.4, <3.0").unwrap(), &v), Admission::NeedsOlderRuntime);
+/// assert_eq!(runtime_verdict(&Requirement::parse("^3").unwrap(), &v), Admission::Admissible);
+/// ```
+pub fn runtime_verdict(req: &Requirement, runtime: &Version) -> Admission {
+    if req.matches(runtime) {
+        return Admission::Admissible;
+    }
+    let below_some_alternative = req.alternatives.iter().any(|alt| {
+        alt.comparators.iter().any(|c| {
+            let lower = Version::new(c.major, c.minor.unwrap_or(0), c.patch.unwrap_or(0));
+            match c.op {
+                Op::Greater => *runtime <= lower,
+                Op::GreaterEq | Op::Exact | Op::Tilde | Op::Caret | Op::Wildcard => {
+                    *runtime < lower
+                }
+                _ => false,
+            }
+        })
+    });
+    if below_some_alternative {
+        Admission::NeedsNewerRuntime
+    } else {
+        Admission::NeedsOlderRuntime
+    }
+}

@@ -1,0 +1,218 @@
+//! Version solving for one (package, image) cell with the `pubgrub` crate.
+//!
+//! ```
+//! use basefit::load::{RegistryBuilder, registry::read_yaml_str, images::read_images_str};
+//! use basefit::solve::{SetCache, ImageView, RootSpec, Solved, solve_cell};
+//! let mut b = RegistryBuilder::new();
+//! read_yaml_str("r.yaml", "packages:\n- name: kelp\n  versions:\n  - {version: 1.0.0}\n  - {version: 2.0.0, runtime: '>=3'}\n", &mut b).unwrap();
+//! let (registry, _) = b.finish();
+//! let mut ledger = Default::default();
+//! let images = read_images_str("i.yaml", "images:\n- {id: old, runtime: 2.9.0, family: debian, platform: linux/glibc/x86_64}\n", &mut ledger).unwrap();
+//! let sets = SetCache::default();
+//! let view = ImageView::new(&registry, &images.images[0], &sets);
+//! let out = solve_cell(&view, &RootSpec { package: "kelp", req: None, prerelease: false }, 10_000);
+//! let Solved::Installs { root_index, .. } = out.solved else { panic!() };
+//! assert_eq!(registry.package(registry.id("kelp").unwrap()).releases[root_index as usize].version.to_string(), "1.0.0");
+//! ```
+
+pub mod explain;
+pub mod image;
+pub mod provider;
+pub mod sets;
+
+pub use explain::{Blocker, Failure};
+pub use image::{Admission, BuildKind, ImageView};
+pub use provider::{CellProvider, Node};
+pub use sets::{IndexSet, SetCache};
+
+use crate::model::{PackageId, Requirement};
+use pubgrub::PubGrubError;
+use serde::Serialize;
+
+/// The default number of solver steps one cell may take before it is undecided.
+pub const DEFAULT_BUDGET: u64 = 20_000;
+
+/// Why a package does not install on an image.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Cause {
+    RuntimeTooOld,
+    RuntimeTooNew,
+    DependencyConflict,
+    MissingFromRegistry,
+    NoBuildForPlatform,
+    OnlyYankedOrPrerelease,
+    BudgetExhausted,
+    /// Set by the native-library step: a needed development package is not on the image.
+    MissingSystemLibrary,
+    /// Set by the native-library step: a source build needs a C toolchain the image lacks.
+    MissingToolchain,
+}
+
+impl Cause {
+    pub const ALL: [Cause; 9] = [
+        Cause::RuntimeTooOld,
+        Cause::RuntimeTooNew,
+        Cause::DependencyConflict,
+        Cause::MissingFromRegistry,
+        Cause::NoBuildForPlatform,
+        Cause::OnlyYankedOrPrerelease,
+        Cause::BudgetExhausted,
+        Cause::MissingSystemLibrary,
+        Cause::MissingToolchain,
+    ];
+
+    /// The kebab-case name used in every output format.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Cause::RuntimeTooOld => "runtime-too-old",
+            Cause::RuntimeTooNew => "runtime-too-new",
+            Cause::DependencyConflict => "dependency-conflict",
+            Cause::MissingFromRegistry => "missing-from-registry",
+            Cause::NoBuildForPlatform => "no-build-for-platform",
+            Cause::OnlyYankedOrPrerelease => "only-yanked-or-prerelease",
+            Cause::BudgetExhausted => "budget-exhausted",
+            Cause::MissingSystemLibrary => "missing-system-library",
+            Cause::MissingToolchain => "missing-toolchain",
+        }
+    }
+
+    pub fn parse(s: &str) -> Option<Cause> {
+        Cause::ALL.into_iter().find(|c| c.as_str() == s)
+    }
+
+    /// A short phrase for sentences.
+    pub fn label(self) -> &'static str {
+        match self {
+            Cause::RuntimeTooOld => "needs a newer runtime",
+            Cause::RuntimeTooNew => "needs an older runtime",
+            Cause::DependencyConflict => "has conflicting dependency requirements",
+            Cause::MissingFromRegistry => "is missing from the registry",
+            Cause::NoBuildForPlatform => "has no build for this platform",
+            Cause::OnlyYankedOrPrerelease => "has only yanked or pre-release versions",
+            Cause::BudgetExhausted => "was not decided within the solver budget",
+            Cause::MissingSystemLibrary => "needs a system library the image lacks",
+            Cause::MissingToolchain => "needs a C toolchain the image lacks",
+        }
+    }
+}
+
+/// One package and release chosen in a solution.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+pub struct Pin {
+    pub package: PackageId,
+    pub index: u32,
+    pub build: BuildKind,
+}
+
+/// The answer for one cell.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub enum Solved {
+    /// Installs; the closure holds every package pulled in (the root included), by name order.
+    Installs {
+        root_index: u32,
+        closure: Vec<Pin>,
+    },
+    Fails(Failure),
+    Undecided {
+        steps: u64,
+    },
+}
+
+/// A solve and what it looked at.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct CellSolve {
+    pub solved: Solved,
+    /// Every package whose versions or dependencies were consulted, sorted and unique: the
+    /// answer cannot change unless one of them (or the image) does.
+    pub touched: Vec<PackageId>,
+    pub steps: u64,
+}
+
+/// What to solve: a package name, an optional requirement on its version, and whether its
+/// pre-releases are admitted.
+#[derive(Debug, Clone, Copy)]
+pub struct RootSpec<'a> {
+    pub package: &'a str,
+    pub req: Option<&'a Requirement>,
+    pub prerelease: bool,
+}
+
+/// Solves one package on one image.
+pub fn solve_cell(view: &ImageView<'_>, root: &RootSpec<'_>, budget: u64) -> CellSolve {
+    let registry = view.registry;
+    let Some(root_id) = registry
+        .id(root.package)
+        .filter(|id| registry.package(*id).declared)
+    else {
+        return CellSolve {
+            solved: Solved::Fails(Failure {
+                cause: Cause::MissingFromRegistry,
+                lines: vec![format!("{} is not in the registry", root.package)],
+                blockers: Vec::new(),
+            }),
+            touched: Vec::new(),
+            steps: 0,
+        };
+    };
+    let any = Requirement::any();
+    let req = root.req.unwrap_or(&any);
+    let root_set = sets::root_set(registry, root_id, req, root.prerelease);
+    solve_with_root_set(view, root_id, root_set, budget)
+}
+
+/// Solves with the root restricted to the release indices in `root_set`.
+pub fn solve_with_root_set(
+    view: &ImageView<'_>,
+    root_id: PackageId,
+    root_set: IndexSet,
+    budget: u64,
+) -> CellSolve {
+    let registry = view.registry;
+    let provider = CellProvider::new(view, root_id, root_set, budget);
+    let result = pubgrub::resolve(&provider, Node::Root, 0u32);
+    let steps = provider.steps();
+    let mut touched = provider.touched.take();
+    touched.sort_unstable();
+    touched.dedup();
+    let solved = match result {
+        Ok(selected) => {
+            let mut closure: Vec<Pin> = selected
+                .iter()
+                .filter_map(|(node, index)| match node {
+                    Node::Package(p) => Some(Pin {
+                        package: *p,
+                        index: *index,
+                        build: view.build_kind(*p, *index as usize),
+                    }),
+                    _ => None,
+                })
+                .collect();
+            closure.sort_by(|a, b| registry.name(a.package).cmp(registry.name(b.package)));
+            let root_index = closure
+                .iter()
+                .find(|p| p.package == root_id)
+                .map(|p| p.index)
+                .unwrap_or(0);
+            Solved::Installs {
+                root_index,
+                closure,
+            }
+        }
+        Err(PubGrubError::NoSolution(err)) => {
+            let mut tree = err;
+            tree.collapse_no_versions();
+            Solved::Fails(explain::explain(view, root_id, &tree))
+        }
+        Err(PubGrubError::ErrorInShouldCancel(e)) => Solved::Undecided { steps: e.steps },
+        Err(PubGrubError::ErrorChoosingVersion { source, .. })
+        | Err(PubGrubError::ErrorRetrievingDependencies { source, .. }) => Solved::Undecided {
+            steps: source.steps,
+        },
+    };
+    CellSolve {
+        solved,
+        touched,
+        steps,
+    }
+}

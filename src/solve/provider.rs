@@ -1,0 +1,167 @@
+//! The pubgrub dependency provider for one (package, image) cell.
+
+use super::image::{Admission, ImageView};
+use super::sets::{IndexSet, indices};
+use crate::model::PackageId;
+use pubgrub::{
+    Dependencies, DependencyConstraints, DependencyProvider, PackageResolutionStatistics,
+};
+use std::cell::{Cell, RefCell};
+use std::cmp::Reverse;
+use std::fmt;
+
+/// A package as the solver sees it. The root stands for the priority entry being solved, so a
+/// missing or unusable root package is explained like any other dependency; the runtime is a
+/// virtual package fixed at the image's runtime version.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Node {
+    Root,
+    Runtime,
+    Package(PackageId),
+}
+
+impl fmt::Display for Node {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Node::Root => f.write_str("(root)"),
+            Node::Runtime => f.write_str("(runtime)"),
+            Node::Package(id) => write!(f, "#{}", id.0),
+        }
+    }
+}
+
+/// Why a solve stopped without an answer.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct BudgetExhausted {
+    pub steps: u64,
+}
+
+impl fmt::Display for BudgetExhausted {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "solver budget of {} steps used up", self.steps)
+    }
+}
+
+impl std::error::Error for BudgetExhausted {}
+
+pub struct CellProvider<'v, 'r> {
+    pub view: &'v ImageView<'r>,
+    pub root: PackageId,
+    pub root_set: IndexSet,
+    budget: u64,
+    steps: Cell<u64>,
+    /// Packages whose versions or dependencies the solver asked about: exactly the packages
+    /// that can influence this cell's answer.
+    pub touched: RefCell<Vec<PackageId>>,
+}
+
+impl<'v, 'r> CellProvider<'v, 'r> {
+    pub fn new(view: &'v ImageView<'r>, root: PackageId, root_set: IndexSet, budget: u64) -> Self {
+        CellProvider {
+            view,
+            root,
+            root_set,
+            budget,
+            steps: Cell::new(0),
+            touched: RefCell::new(vec![root]),
+        }
+    }
+
+    pub fn steps(&self) -> u64 {
+        self.steps.get()
+    }
+}
+
+impl DependencyProvider for CellProvider<'_, '_> {
+    type P = Node;
+    type V = u32;
+    type VS = IndexSet;
+    type M = String;
+    type Err = BudgetExhausted;
+    /// Higher first: packages that conflicted more, then those with fewer candidate versions.
+    type Priority = (u32, Reverse<u32>);
+
+    fn prioritize(
+        &self,
+        package: &Node,
+        range: &IndexSet,
+        stats: &PackageResolutionStatistics,
+    ) -> Self::Priority {
+        let candidates = match package {
+            Node::Root | Node::Runtime => 0,
+            Node::Package(id) => {
+                let count = self.view.registry.package(*id).releases.len();
+                indices(range, count).count() as u32
+            }
+        };
+        (stats.conflict_count(), Reverse(candidates))
+    }
+
+    fn choose_version(
+        &self,
+        package: &Node,
+        range: &IndexSet,
+    ) -> Result<Option<u32>, BudgetExhausted> {
+        match package {
+            Node::Root | Node::Runtime => Ok(range.contains(&0).then_some(0)),
+            Node::Package(id) => {
+                self.touched.borrow_mut().push(*id);
+                let admissions = self.view.admissions(*id);
+                // Newest admissible first; inadmissible releases are never offered, so an
+                // exhausted range is learned in one step as "no versions".
+                let mut newest = None;
+                for i in indices(range, admissions.len()) {
+                    if admissions[i as usize] == Admission::Admissible {
+                        newest = Some(i);
+                    }
+                }
+                Ok(newest)
+            }
+        }
+    }
+
+    fn get_dependencies(
+        &self,
+        package: &Node,
+        version: &u32,
+    ) -> Result<Dependencies<Node, IndexSet, String>, BudgetExhausted> {
+        match package {
+            Node::Runtime => Ok(Dependencies::Available(DependencyConstraints::default())),
+            Node::Root => Ok(Dependencies::Available(
+                [(Node::Package(self.root), self.root_set.clone())]
+                    .into_iter()
+                    .collect(),
+            )),
+            Node::Package(id) => {
+                let registry = self.view.registry;
+                let release = &registry.package(*id).releases[*version as usize];
+                let mut deps: Vec<(Node, IndexSet)> = Vec::with_capacity(release.deps.len() + 1);
+                if release.runtime.is_some() {
+                    // Admissible releases meet the image's runtime; stating the dependency keeps
+                    // the runtime in every solution and explanation.
+                    deps.push((Node::Runtime, IndexSet::singleton(0u32)));
+                }
+                for d in release.runtime_deps() {
+                    let set = self.view.sets.get(registry, d.package, d.req);
+                    let node = Node::Package(d.package);
+                    // Two requirements on one package must both hold.
+                    match deps.iter_mut().find(|(n, _)| *n == node) {
+                        Some((_, existing)) => *existing = existing.intersection(&set),
+                        None => deps.push((node, set)),
+                    }
+                }
+                Ok(Dependencies::Available(deps.into_iter().collect()))
+            }
+        }
+    }
+
+    fn should_cancel(&self) -> Result<(), BudgetExhausted> {
+        let steps = self.steps.get() + 1;
+        self.steps.set(steps);
+        if steps > self.budget {
+            Err(BudgetExhausted { steps: self.budget })
+        } else {
+            Ok(())
+        }
+    }
+}

@@ -1,0 +1,151 @@
+//! Version sets over a package's published releases.
+//!
+//! The solver's versions are indices into a package's sorted release list, and a version set is
+//! a [`Ranges<u32>`] of indices. A requirement becomes a set by calling
+//! `semver::VersionReq::matches` on every listed release, so the solver agrees with the
+//! `semver` crate exactly by construction, pre-release rule included; union, intersection and
+//! complement are interval operations on small integers.
+
+use crate::model::{PackageId, Registry, ReqId, Requirement};
+use pubgrub::Ranges;
+use rustc_hash::{FxHashMap, FxHasher};
+use semver::Version;
+use std::hash::{Hash, Hasher};
+use std::ops::Bound;
+use std::sync::Mutex;
+
+/// A set of release indices of one package.
+pub type IndexSet = Ranges<u32>;
+
+/// The set of indices `i` for which `admit(i)` holds, as maximal runs.
+pub fn set_from_predicate(count: usize, mut admit: impl FnMut(usize) -> bool) -> IndexSet {
+    let mut segments = Vec::new();
+    let mut start: Option<u32> = None;
+    for i in 0..count {
+        match (admit(i), start) {
+            (true, None) => start = Some(i as u32),
+            (false, Some(s)) => {
+                segments.push((Bound::Included(s), Bound::Excluded(i as u32)));
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    if let Some(s) = start {
+        segments.push((Bound::Included(s), Bound::Excluded(count as u32)));
+    }
+    segments.into_iter().collect()
+}
+
+/// The releases of `package` that `req` admits.
+pub fn requirement_set(registry: &Registry, package: PackageId, req: &Requirement) -> IndexSet {
+    let releases = &registry.package(package).releases;
+    set_from_predicate(releases.len(), |i| req.matches(&releases[i].version))
+}
+
+/// Like [`requirement_set`], and when `prerelease` is set also admits pre-releases whose
+/// release part (the version without its pre-release tag) the requirement admits.
+pub fn root_set(
+    registry: &Registry,
+    package: PackageId,
+    req: &Requirement,
+    prerelease: bool,
+) -> IndexSet {
+    let releases = &registry.package(package).releases;
+    set_from_predicate(releases.len(), |i| {
+        let v = &releases[i].version;
+        req.matches(v)
+            || (prerelease
+                && !v.pre.is_empty()
+                && req.matches(&Version::new(v.major, v.minor, v.patch)))
+    })
+}
+
+/// The indices in `set`, in ascending order.
+pub fn indices(set: &IndexSet, count: usize) -> impl Iterator<Item = u32> + '_ {
+    set.iter().flat_map(move |(lo, hi)| {
+        let lo = match lo {
+            Bound::Included(v) => *v,
+            Bound::Excluded(v) => v.saturating_add(1),
+            Bound::Unbounded => 0,
+        };
+        let hi = match hi {
+            Bound::Included(v) => v.saturating_add(1),
+            Bound::Excluded(v) => *v,
+            Bound::Unbounded => count as u32,
+        }
+        .min(count as u32);
+        lo..hi.max(lo)
+    })
+}
+
+/// Requirement sets shared by every solve of a plan: they depend only on the registry, and
+/// the same (package, requirement) pair recurs across thousands of cells.
+pub struct SetCache {
+    shards: Vec<Mutex<FxHashMap<(PackageId, ReqId), IndexSet>>>,
+}
+
+impl Default for SetCache {
+    fn default() -> Self {
+        SetCache {
+            shards: (0..64).map(|_| Mutex::new(FxHashMap::default())).collect(),
+        }
+    }
+}
+
+impl SetCache {
+    pub fn get(&self, registry: &Registry, package: PackageId, req: ReqId) -> IndexSet {
+        let mut h = FxHasher::default();
+        (package, req).hash(&mut h);
+        let shard = &self.shards[(h.finish() as usize) % self.shards.len()];
+        if let Some(s) = shard
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .get(&(package, req))
+        {
+            return s.clone();
+        }
+        // Computed outside the lock; a rare duplicate computation gives the same value.
+        let set = requirement_set(registry, package, registry.requirement(req));
+        shard
+            .lock()
+            .unwrap_or_else(|e| e.into_inner())
+            .insert((package, req), set.clone());
+        set
+    }
+}
+
+/// Renders a set of releases of `package` for people: `any version`, `1.2.0`, or runs such
+/// as `1.0.0 to 1.4.2, 2.0.1`.
+pub fn describe(registry: &Registry, package: PackageId, set: &IndexSet) -> String {
+    let releases = &registry.package(package).releases;
+    let idx: Vec<u32> = indices(set, releases.len()).collect();
+    if idx.is_empty() {
+        return "no published version".into();
+    }
+    if idx.len() == releases.len() && releases.len() > 1 {
+        return "any version".into();
+    }
+    let mut runs: Vec<String> = Vec::new();
+    let mut i = 0;
+    while i < idx.len() {
+        let mut j = i;
+        while j + 1 < idx.len() && idx[j + 1] == idx[j] + 1 {
+            j += 1;
+        }
+        let a = &releases[idx[i] as usize].version;
+        if i == j {
+            runs.push(a.to_string());
+        } else {
+            let b = &releases[idx[j] as usize].version;
+            runs.push(format!("{a} to {b}"));
+        }
+        i = j + 1;
+    }
+    if runs.len() > 4 {
+        let n = runs.len();
+        runs.truncate(3);
+        runs.push(format!("and {} more runs", n - 3));
+    }
+    runs.join(", ")
+}

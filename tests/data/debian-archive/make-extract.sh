@@ -1,0 +1,174 @@
+#!/usr/bin/env bash
+# Regenerates extract.tsv: a small extract of Debian's package archive
+# (file lists of -dev packages) used as an external reference by basefit's tests.
+#
+# For every library in src/native/catalog.yaml whose debian entry says
+# "source: verified", the script downloads that entry's dev package with
+# `apt-get download` into a temporary directory, reads its file list with
+# `dpkg -c`, and writes one row for each header, pkg-config module and link
+# name that the catalog lists for it, naming the package whose file list
+# contains it.  A name that no downloaded file list contains is an error.
+#
+# How names are derived from a file list (amd64, multiarch x86_64-linux-gnu):
+#   header     a file under /usr/include, /usr/include/x86_64-linux-gnu or any
+#              -I directory in the Cflags of a .pc file shipped by the same
+#              package, named relative to that directory (a file under several
+#              such directories gets one name for each)
+#   pkgconfig  NAME for a file .../pkgconfig/NAME.pc under /usr/lib or /usr/share
+#   link       NAME for a file or symlink .../libNAME.so under
+#              /usr/lib/x86_64-linux-gnu or /lib/x86_64-linux-gnu
+#
+# Usage: make-extract.sh [--debs DIR] [--index] [CATALOG [OUT]]
+#   --debs DIR  use the .deb files already in DIR instead of downloading
+#   --index     print every derivable row of the downloaded packages
+#               (not only the catalog's) to OUT instead of the extract
+# Defaults: CATALOG = ../../../src/native/catalog.yaml, OUT = ./extract.tsv
+# (both relative to this script).  Needs: bash, awk, sort, apt-get, dpkg, tar.
+set -euo pipefail
+export LC_ALL=C
+
+here=$(cd "$(dirname "$0")" && pwd)
+debs_dir=""
+index_only=0
+while [ $# -gt 0 ]; do
+  case "$1" in
+    --debs) debs_dir=$2; shift 2 ;;
+    --index) index_only=1; shift ;;
+    -h|--help) sed -n '2,27p' "$0"; exit 0 ;;
+    *) break ;;
+  esac
+done
+catalog=${1:-$here/../../../src/native/catalog.yaml}
+out=${2:-$here/extract.tsv}
+multiarch=x86_64-linux-gnu
+
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+
+# 1. Wanted rows from the catalog: kind <TAB> name <TAB> dev package.
+#    Relies on the catalog's layout: one key per line, lists in [a, b] form,
+#    families.debian as a one-line {dev: ..., runtime: ..., source: ...} map.
+awk '
+  function flush(   i, n, a) {
+    if (id != "" && dev != "" && src == "verified") {
+      n = split(hdr, a, ","); for (i = 1; i <= n; i++) if (a[i] != "") print "header\t" a[i] "\t" dev
+      n = split(pc,  a, ","); for (i = 1; i <= n; i++) if (a[i] != "") print "pkgconfig\t" a[i] "\t" dev
+      n = split(lnk, a, ","); for (i = 1; i <= n; i++) if (a[i] != "") print "link\t" a[i] "\t" dev
+    }
+    id = ""; hdr = ""; pc = ""; lnk = ""; dev = ""; src = ""
+  }
+  function list(line) {
+    sub(/#.*/, "", line); sub(/^[^[]*\[/, "", line); sub(/\].*$/, "", line)
+    gsub(/[ \t"\047]/, "", line); return line
+  }
+  /^  - id:/              { flush(); id = $3; next }
+  /^    headers:/         { hdr = list($0); next }
+  /^    pkg_config:/      { pc = list($0); next }
+  /^    link:/            { lnk = list($0); next }
+  /^      debian:/        {
+    line = $0; sub(/#.*/, "", line)
+    if (match(line, /dev: *[^,} ]+/))    { dev = substr(line, RSTART, RLENGTH); sub(/dev: */, "", dev) }
+    if (match(line, /source: *[^,} ]+/)) { src = substr(line, RSTART, RLENGTH); sub(/source: */, "", src) }
+    next
+  }
+  END { flush() }
+' "$catalog" | sort -u > "$work/wanted.tsv"
+
+if [ ! -s "$work/wanted.tsv" ]; then
+  echo "make-extract: no verified debian entries found in $catalog" >&2
+  exit 1
+fi
+
+# 2. Get the dev packages.
+cut -f3 "$work/wanted.tsv" | sort -u > "$work/packages.txt"
+if [ -z "$debs_dir" ]; then
+  debs_dir=$work/debs
+  mkdir -p "$debs_dir"
+  chmod 777 "$work" "$debs_dir"   # lets apt fetch as its unprivileged user
+  (cd "$debs_dir" && xargs apt-get download -q < "$work/packages.txt" >&2)
+fi
+
+# 3. Index: every row derivable from each package's file list.
+: > "$work/index.tsv"
+while read -r pkg; do
+  deb=$(ls "$debs_dir"/"${pkg}"_*.deb 2>/dev/null | head -n1 || true)
+  if [ -z "$deb" ]; then
+    echo "make-extract: no .deb for $pkg in $debs_dir" >&2
+    exit 1
+  fi
+  echo "$pkg $(dpkg-deb -f "$deb" Version)" >> "$work/versions.txt"
+
+  # Include roots from the Cflags of the package's own .pc files.
+  pcdir=$work/pc/$pkg
+  mkdir -p "$pcdir"
+  dpkg-deb --fsys-tarfile "$deb" | tar -x -C "$pcdir" --wildcards '*.pc' 2>/dev/null || true
+  find "$pcdir" -type f -name '*.pc' | sort | while read -r f; do
+    awk '
+      function expand(s,   guard, name) {
+        guard = 0
+        while (match(s, /\$\{[A-Za-z0-9_.]+\}/) && guard++ < 50) {
+          name = substr(s, RSTART + 2, RLENGTH - 3)
+          s = substr(s, 1, RSTART - 1) var[name] substr(s, RSTART + RLENGTH)
+        }
+        return s
+      }
+      /^[A-Za-z0-9_.]+=/ { k = $0; sub(/=.*/, "", k); v = $0; sub(/^[^=]*=/, "", v); var[k] = expand(v); next }
+      /^Cflags:/ {
+        s = expand($0); sub(/^Cflags:/, "", s)
+        n = split(s, t, /[ \t]+/)
+        for (i = 1; i <= n; i++) if (t[i] ~ /^-I/) { d = substr(t[i], 3); sub(/\/+$/, "", d); print d }
+      }
+    ' "$f"
+  done | sort -u > "$work/roots.txt"
+
+  dpkg -c "$deb" | awk -v pkg="$pkg" -v ma="$multiarch" -v rootsfile="$work/roots.txt" '
+    BEGIN {
+      nr = 0
+      roots[++nr] = "/usr/include"; roots[++nr] = "/usr/include/" ma
+      while ((getline r < rootsfile) > 0) if (r != "") roots[++nr] = r
+    }
+    {
+      p = $6
+      if (substr($1, 1, 1) == "d") next
+      sub(/^\./, "", p)
+      for (i = 1; i <= nr; i++) {
+        pre = roots[i] "/"
+        if (substr(p, 1, length(pre)) == pre) print "header\t" substr(p, length(pre) + 1) "\t" pkg
+      }
+      if (p ~ /^\/usr\/(lib|share)\/.*pkgconfig\/[^\/]+\.pc$/) {
+        n = p; sub(/^.*\//, "", n); sub(/\.pc$/, "", n); print "pkgconfig\t" n "\t" pkg
+      }
+      if (p ~ ("^(/usr)?/lib/" ma "/(.*/)?lib[^/]+\\.so$")) {
+        n = p; sub(/^.*\/lib/, "", n); sub(/\.so$/, "", n); print "link\t" n "\t" pkg
+      }
+    }
+  ' >> "$work/index.tsv"
+done < "$work/packages.txt"
+sort -u -o "$work/index.tsv" "$work/index.tsv"
+echo "make-extract: package versions read:" >&2
+sed 's/^/  /' "$work/versions.txt" >&2
+
+if [ "$index_only" = 1 ]; then
+  { printf 'kind\tname\tpackage\n'; cat "$work/index.tsv"; } > "$out"
+  echo "make-extract: wrote full index to $out" >&2
+  exit 0
+fi
+
+# 4. Extract: for each wanted (kind, name), every package whose list has it;
+#    the catalog's own dev package must be one of them.
+awk -F'\t' -v idx="$work/index.tsv" '
+  BEGIN { while ((getline l < idx) > 0) { split(l, f, "\t"); k = f[1] "\t" f[2]; has[k] = has[k] " " f[3]; row[l] = 1 } }
+  {
+    k = $1 "\t" $2
+    if (!(k in has)) { print "make-extract: not in any file list: " $1 " " $2 " (catalog says " $3 ")" > "/dev/stderr"; bad = 1; next }
+    if (!(($1 "\t" $2 "\t" $3) in row)) { print "make-extract: " $1 " " $2 " is in" has[k] ", not in " $3 > "/dev/stderr"; bad = 1 }
+    n = split(substr(has[k], 2), ps, " ")
+    for (i = 1; i <= n; i++) print $1 "\t" $2 "\t" ps[i]
+  }
+  END { exit bad }
+' "$work/wanted.tsv" | sort -u > "$work/extract.tsv" || {
+  echo "make-extract: catalog and archive disagree (see above); $out not written" >&2
+  exit 1
+}
+{ printf 'kind\tname\tpackage\n'; cat "$work/extract.tsv"; } > "$out"
+echo "make-extract: wrote $(wc -l < "$work/extract.tsv") rows to $out" >&2
