@@ -10,8 +10,12 @@
 //! Predictions come from declared metadata only. They must be confirmed by real installs, and
 //! installing untrusted packages runs their code, so recorded installs belong in sandboxed CI.
 
+pub mod commands;
 pub mod load;
 pub mod model;
+pub mod native;
+pub mod plan;
+pub mod report;
 pub mod solve;
 
 pub use load::diag::{BadInput, Ledger, Problem, ProblemKind};

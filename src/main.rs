@@ -1,1 +1,220 @@
-fn main() {}
+//! The `basefit` command: parses arguments and dispatches to one library call per command.
+
+use basefit::commands::{self, Output, exit};
+use basefit::load::{BadInput, InputPaths};
+use basefit::plan::PlanOptions;
+use basefit::report::Format;
+use clap::{Args, Parser, Subcommand};
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+#[derive(Parser)]
+#[command(
+    name = "basefit",
+    version,
+    about = "Plan and verify which packages install on which runtime images"
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Load every input and print the data-quality report.
+    #[command(
+        after_help = "Example:\n  basefit check --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --results demo-data/results.yaml"
+    )]
+    Check(CheckArgs),
+    /// Solve every priority entry on every image and write the predicted matrix.
+    #[command(
+        after_help = "Example:\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --out out/"
+    )]
+    Plan(PlanArgs),
+    /// Explain one package on one image: its resolved tree, or why it fails and what would help.
+    #[command(
+        after_help = "Example:\n  basefit explain tidewater debian-2.4 --registry demo-data/registry.yaml \\\n    --images matrices/demo-images.yaml --priorities demo-data/priorities.yaml"
+    )]
+    Explain(ExplainArgs),
+}
+
+#[derive(Args, Clone)]
+struct InputArgs {
+    /// Registry snapshot in YAML (repeatable).
+    #[arg(long, value_name = "FILE")]
+    registry: Vec<PathBuf>,
+    /// Bulk registry as two CSV files: versions, then dependencies.
+    #[arg(long, num_args = 2, value_names = ["VERSIONS_CSV", "DEPS_CSV"])]
+    bulk: Option<Vec<PathBuf>>,
+    /// Runtime images (YAML).
+    #[arg(long, value_name = "FILE")]
+    images: Option<PathBuf>,
+    /// Priority list (YAML, or CSV by extension).
+    #[arg(long, value_name = "FILE")]
+    priorities: Option<PathBuf>,
+    /// System-library catalog file applied over the shipped one.
+    #[arg(long, value_name = "FILE")]
+    catalog: Option<PathBuf>,
+    /// Treat every data-quality problem as unusable input (exit 2).
+    #[arg(long)]
+    strict: bool,
+}
+
+impl InputArgs {
+    fn paths(&self, results: &[PathBuf]) -> InputPaths {
+        InputPaths {
+            registry: self.registry.clone(),
+            bulk: self.bulk.as_ref().map(|b| (b[0].clone(), b[1].clone())),
+            images: self.images.clone(),
+            priorities: self.priorities.clone(),
+            results: results.to_vec(),
+            catalog: self.catalog.clone(),
+        }
+    }
+}
+
+#[derive(Args)]
+struct SolveArgs {
+    /// Solver steps per cell before it is reported undecided.
+    #[arg(long, default_value_t = basefit::solve::DEFAULT_BUDGET)]
+    budget: u64,
+    /// Skip the native-library step (predictions from version solving only).
+    #[arg(long)]
+    no_native: bool,
+    /// Worker threads (default: all cores). Output is identical at any count.
+    #[arg(long)]
+    threads: Option<usize>,
+}
+
+impl SolveArgs {
+    fn options(&self) -> PlanOptions {
+        PlanOptions {
+            budget: self.budget,
+            native: !self.no_native,
+            closures: true,
+        }
+    }
+}
+
+#[derive(Args)]
+struct CheckArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    /// Recorded install results to check too (YAML, CSV or JSON lines; repeatable).
+    #[arg(long, value_name = "FILE")]
+    results: Vec<PathBuf>,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+#[derive(Args)]
+struct PlanArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    /// Folder to write matrix.yaml and matrix.json into.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Shared blockers listed per image.
+    #[arg(long, default_value_t = 3)]
+    blockers: usize,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+#[derive(Args)]
+struct ExplainArgs {
+    /// Package name.
+    package: String,
+    /// Image id.
+    image: String,
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
+    Ok(commands::check(&commands::CheckOptions {
+        inputs: a.input.paths(&a.results),
+        strict: a.input.strict,
+        format: a.format,
+    })?)
+}
+
+fn run_plan(a: PlanArgs) -> anyhow::Result<Output> {
+    with_threads(a.solve.threads, || {
+        commands::plan(&commands::PlanCommand {
+            inputs: a.input.paths(&[]),
+            strict: a.input.strict,
+            plan: a.solve.options(),
+            out: a.out.clone(),
+            format: a.format,
+            blockers: a.blockers,
+        })
+    })
+}
+
+fn run_explain(a: ExplainArgs) -> anyhow::Result<Output> {
+    commands::explain(&commands::ExplainCommand {
+        inputs: a.input.paths(&[]),
+        strict: a.input.strict,
+        plan: a.solve.options(),
+        package: a.package,
+        image: a.image,
+        format: a.format,
+    })
+}
+
+/// Runs `f` on a rayon pool of `threads` workers (the global pool when not given).
+fn with_threads<T: Send>(
+    threads: Option<usize>,
+    f: impl FnOnce() -> anyhow::Result<T> + Send,
+) -> anyhow::Result<T> {
+    match threads {
+        None => f(),
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n.max(1))
+            .build()?
+            .install(f),
+    }
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Command::Check(a) => run_check(a),
+        Command::Plan(a) => run_plan(a),
+        Command::Explain(a) => run_explain(a),
+    };
+    match result {
+        Ok(out) => {
+            for line in &out.stderr {
+                eprintln!("{line}");
+            }
+            let mut stdout = std::io::stdout().lock();
+            // A closed pipe (e.g. `| head`) ends the run quietly.
+            let written = stdout
+                .write_all(out.stdout.as_bytes())
+                .and_then(|_| stdout.flush());
+            if let Err(e) = written
+                && e.kind() != std::io::ErrorKind::BrokenPipe
+            {
+                eprintln!("basefit: cannot write output: {e}");
+                return ExitCode::from(exit::BAD_INPUT);
+            }
+            ExitCode::from(out.exit)
+        }
+        Err(e) => {
+            match e.downcast_ref::<BadInput>() {
+                Some(bad) => eprintln!("basefit: {bad}"),
+                None => eprintln!("basefit: {e:#}"),
+            }
+            ExitCode::from(exit::BAD_INPUT)
+        }
+    }
+}

@@ -211,6 +211,10 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         order: Vec::new(),
     };
     collect(tree, &mut facts);
+    // What the entry asks for reads best first; the rest keeps the tree's order.
+    facts
+        .order
+        .sort_by_key(|f| !matches!(f, Fact::Depends(Node::Root, ..)));
     let mut lines = Vec::new();
     let mut blockers = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
@@ -269,7 +273,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                             leaf_causes.push((*b, cause));
                             blockers.push(Blocker {
                                 package: *b,
-                                reason: format!("{target} {req}: {}", cause.label()),
+                                reason: format!("{target} (wanted {req}) {}", cause.label()),
                             });
                         }
                     }

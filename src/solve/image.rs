@@ -22,7 +22,9 @@ pub enum Admission {
 }
 
 /// How a chosen release gets onto the image.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, serde::Deserialize,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum BuildKind {
     Prebuilt,

@@ -33,7 +33,9 @@ use serde::Serialize;
 pub const DEFAULT_BUDGET: u64 = 20_000;
 
 /// Why a package does not install on an image.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, serde::Deserialize,
+)]
 #[serde(rename_all = "kebab-case")]
 pub enum Cause {
     RuntimeTooOld,

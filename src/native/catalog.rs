@@ -1,0 +1,277 @@
+//! The catalog of system libraries: headers, link names, pkg-config modules and the
+//! development and runtime package names per OS family.
+//!
+//! The project ships one (`src/native/catalog.yaml`); a user file can replace entries by id,
+//! add new ones and mark registry packages as native-build helpers.
+
+use crate::load::diag::{BadInput, read_text};
+use crate::load::yaml::{self, Ctx, Node};
+use crate::model::OsFamily;
+use serde::Serialize;
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::Path;
+
+const BUILTIN: &str = include_str!("catalog.yaml");
+const TOP_FIELDS: &[&str] = &["debian_release", "libraries", "native_helpers"];
+const LIBRARY_FIELDS: &[&str] = &[
+    "id",
+    "summary",
+    "aliases",
+    "headers",
+    "link",
+    "pkg_config",
+    "families",
+];
+const FAMILY_FIELDS: &[&str] = &["dev", "runtime", "source"];
+
+/// Where a family's package names come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum FactSource {
+    /// Checked against the family's package archive.
+    Verified,
+    /// Written from memory, not checked here.
+    Memory,
+}
+
+/// The packages that provide a library on one OS family.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct FamilyPackages {
+    /// Headers, link symlinks and pkg-config files: needed to build against the library.
+    pub dev: Option<String>,
+    /// The shared library itself: needed to run a prebuilt build linked against it.
+    pub runtime: Option<String>,
+    pub source: FactSource,
+}
+
+/// One system library.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Library {
+    pub id: String,
+    pub summary: String,
+    pub aliases: Vec<String>,
+    pub headers: Vec<String>,
+    pub link: Vec<String>,
+    pub pkg_config: Vec<String>,
+    pub families: BTreeMap<OsFamily, FamilyPackages>,
+}
+
+/// The catalog with lookups by header, link name, pkg-config module and alias.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Catalog {
+    pub debian_release: String,
+    pub libraries: Vec<Library>,
+    /// Registry package names marked as native-build helpers by a user file.
+    pub native_helpers: BTreeSet<String>,
+    #[serde(skip)]
+    by_header: BTreeMap<String, usize>,
+    #[serde(skip)]
+    by_link: BTreeMap<String, usize>,
+    #[serde(skip)]
+    by_pkg_config: BTreeMap<String, usize>,
+    #[serde(skip)]
+    by_word: BTreeMap<String, usize>,
+}
+
+impl Catalog {
+    /// The catalog shipped with basefit.
+    ///
+    /// ```
+    /// let catalog = basefit::native::Catalog::builtin();
+    /// let xml = catalog.by_header("libxml/parser.h").unwrap();
+    /// assert_eq!(xml.id, "libxml2");
+    /// ```
+    pub fn builtin() -> Catalog {
+        let mut catalog = Catalog::default();
+        // The shipped file is tested to parse; failing here would be a build defect.
+        catalog
+            .apply("builtin catalog", BUILTIN)
+            .unwrap_or_else(|e| panic!("the shipped catalog does not parse: {e}"));
+        catalog
+    }
+
+    /// The shipped catalog with a user file applied on top.
+    pub fn with_override(path: &Path) -> Result<Catalog, BadInput> {
+        let mut catalog = Catalog::builtin();
+        let text = read_text(path)?;
+        catalog.apply(&path.display().to_string(), &text)?;
+        Ok(catalog)
+    }
+
+    /// Applies a catalog file: entries replace those with the same id, new ids are added.
+    pub fn apply(&mut self, file: &str, text: &str) -> Result<(), BadInput> {
+        let doc = yaml::parse(file, text)?;
+        let ctx = Ctx { file };
+        let top = ctx.map(&doc, "catalog", TOP_FIELDS)?;
+        if let Some(release) = top.opt_str("debian_release")? {
+            self.debian_release = release.to_string();
+        }
+        self.native_helpers.extend(top.str_list("native_helpers")?);
+        let libraries = yaml::collect_errors(top.seq("libraries")?, 20, |n| parse_library(ctx, n))?;
+        let mut seen = BTreeSet::new();
+        for (line, lib) in libraries {
+            if !seen.insert(lib.id.clone()) {
+                return Err(BadInput::at(
+                    file,
+                    line,
+                    format!("library `{}` is listed twice", lib.id),
+                ));
+            }
+            match self.libraries.iter_mut().find(|l| l.id == lib.id) {
+                Some(existing) => *existing = lib,
+                None => self.libraries.push(lib),
+            }
+        }
+        self.reindex();
+        Ok(())
+    }
+
+    fn reindex(&mut self) {
+        self.by_header.clear();
+        self.by_link.clear();
+        self.by_pkg_config.clear();
+        self.by_word.clear();
+        for (i, lib) in self.libraries.iter().enumerate() {
+            for h in &lib.headers {
+                self.by_header.entry(h.clone()).or_insert(i);
+            }
+            for l in &lib.link {
+                self.by_link.entry(l.clone()).or_insert(i);
+            }
+            for p in &lib.pkg_config {
+                self.by_pkg_config.entry(p.clone()).or_insert(i);
+            }
+            self.by_word.entry(lib.id.to_lowercase()).or_insert(i);
+            for a in &lib.aliases {
+                self.by_word.entry(a.to_lowercase()).or_insert(i);
+            }
+        }
+    }
+
+    pub fn get(&self, id: &str) -> Option<&Library> {
+        self.libraries.iter().find(|l| l.id == id)
+    }
+
+    /// A library by id or alias.
+    pub fn by_name(&self, name: &str) -> Option<&Library> {
+        self.get(name).or_else(|| {
+            self.by_word
+                .get(&name.to_lowercase())
+                .map(|&i| &self.libraries[i])
+        })
+    }
+
+    pub fn by_header(&self, header: &str) -> Option<&Library> {
+        self.by_header.get(header).map(|&i| &self.libraries[i])
+    }
+
+    pub fn by_link(&self, link: &str) -> Option<&Library> {
+        self.by_link.get(link).map(|&i| &self.libraries[i])
+    }
+
+    pub fn by_pkg_config(&self, module: &str) -> Option<&Library> {
+        self.by_pkg_config.get(module).map(|&i| &self.libraries[i])
+    }
+
+    /// The library a word of a name or summary stands for.
+    pub fn by_word(&self, word: &str) -> Option<&Library> {
+        self.by_word.get(word).map(|&i| &self.libraries[i])
+    }
+
+    /// The header entries ordered by length, longest first, for suffix matching of paths.
+    pub fn headers(&self) -> impl Iterator<Item = (&str, &Library)> {
+        self.by_header
+            .iter()
+            .map(|(h, &i)| (h.as_str(), &self.libraries[i]))
+    }
+
+    pub fn pkg_config_modules(&self) -> impl Iterator<Item = (&str, &Library)> {
+        self.by_pkg_config
+            .iter()
+            .map(|(m, &i)| (m.as_str(), &self.libraries[i]))
+    }
+}
+
+/// The packages that give an image of `family` a C toolchain (common practice, no source).
+pub fn toolchain_packages(family: OsFamily) -> &'static [&'static str] {
+    match family {
+        OsFamily::Debian => &["build-essential"],
+        OsFamily::Alpine => &["build-base"],
+        OsFamily::Rhel => &["gcc", "make"],
+    }
+}
+
+/// The one-line command that adds `packages` on `family` (common practice, no source).
+///
+/// ```
+/// use basefit::model::OsFamily;
+/// use basefit::native::catalog::install_command;
+/// assert_eq!(install_command(OsFamily::Alpine, &["libxml2-dev".into()]), "apk add --no-cache libxml2-dev");
+/// ```
+pub fn install_command(family: OsFamily, packages: &[String]) -> String {
+    let list = packages.join(" ");
+    match family {
+        OsFamily::Debian => {
+            format!("apt-get update && apt-get install -y --no-install-recommends {list}")
+        }
+        OsFamily::Alpine => format!("apk add --no-cache {list}"),
+        OsFamily::Rhel => format!("dnf install -y {list}"),
+    }
+}
+
+fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput> {
+    let m = ctx.map(node, "library", LIBRARY_FIELDS)?;
+    let id = m.required_str("id")?.trim().to_string();
+    if id.is_empty() {
+        return Err(ctx.err(node, "library: `id` is empty"));
+    }
+    let mut families = BTreeMap::new();
+    if let Some(f) = m.get("families") {
+        let Some(pairs) = (match &f.value {
+            yaml::Value::Map(p) => Some(p),
+            _ => None,
+        }) else {
+            return Err(ctx.err(
+                f,
+                "library `families`: expected a mapping of family to packages",
+            ));
+        };
+        for (k, v) in pairs {
+            let name = ctx.str(k, "family name")?;
+            let family = OsFamily::parse(name).ok_or_else(|| {
+                ctx.err(k, format!("library `families`: unknown family `{name}`; expected debian, alpine or rhel"))
+            })?;
+            let fm = ctx.map(v, "family packages", FAMILY_FIELDS)?;
+            let source = match fm.opt_str("source")? {
+                None | Some("memory") => FactSource::Memory,
+                Some("verified") => FactSource::Verified,
+                Some(other) => {
+                    return Err(ctx.err(
+                        v,
+                        format!("family `source`: expected verified or memory, found `{other}`"),
+                    ));
+                }
+            };
+            families.insert(
+                family,
+                FamilyPackages {
+                    dev: fm.opt_str("dev")?.map(str::to_owned),
+                    runtime: fm.opt_str("runtime")?.map(str::to_owned),
+                    source,
+                },
+            );
+        }
+    }
+    Ok((
+        m.line(),
+        Library {
+            id,
+            summary: m.opt_str("summary")?.unwrap_or_default().to_string(),
+            aliases: m.str_list("aliases")?,
+            headers: m.str_list("headers")?,
+            link: m.str_list("link")?,
+            pkg_config: m.str_list("pkg_config")?,
+            families,
+        },
+    ))
+}

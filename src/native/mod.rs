@@ -1,0 +1,283 @@
+//! Native system libraries: which releases probably need them, how sure that is, and what an
+//! image must add for a resolved closure.
+
+pub mod catalog;
+
+pub use catalog::{Catalog, Library, install_command, toolchain_packages};
+
+use crate::model::{Image, PackageId, Registry};
+use crate::solve::{BuildKind, Pin};
+use serde::Serialize;
+use std::collections::BTreeSet;
+
+/// How sure basefit is that a release needs a native library.
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, serde::Deserialize,
+)]
+#[serde(rename_all = "lowercase")]
+pub enum Confidence {
+    /// A name or summary mentions a catalog library.
+    Possible,
+    /// Shipped files or a helper dependency point at a native build.
+    Likely,
+    /// Declared in the release's metadata.
+    Certain,
+}
+
+/// One piece of evidence for a native need of one release.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+pub struct Evidence {
+    pub confidence: Confidence,
+    /// The catalog library id (or the declared name when the catalog lacks it); `None` when
+    /// the evidence shows a native build but not against which library.
+    pub library: Option<String>,
+    /// What was seen, e.g. `declares libxml2` or `ships src/ext/parse.c`.
+    pub detail: String,
+}
+
+/// File name endings that mean compiled native code or a native build (common practice, no
+/// source).
+const NATIVE_SOURCE_ENDINGS: &[&str] = &[
+    ".c", ".cc", ".cpp", ".cxx", ".h", ".hh", ".hpp", ".m", ".s", ".S",
+];
+const NATIVE_BUILD_FILES: &[&str] = &[
+    "Makefile",
+    "makefile",
+    "GNUmakefile",
+    "CMakeLists.txt",
+    "configure",
+    "configure.ac",
+    "meson.build",
+    "build.ninja",
+    "binding.gyp",
+];
+
+/// Every piece of evidence for release `index` of `package`, strongest first.
+pub fn release_evidence(
+    registry: &Registry,
+    catalog: &Catalog,
+    package: PackageId,
+    index: usize,
+) -> Vec<Evidence> {
+    let pkg = registry.package(package);
+    let release = &pkg.releases[index];
+    let mut out: Vec<Evidence> = Vec::new();
+    if let Some(hints) = &release.native {
+        for lib in &hints.libraries {
+            let id = catalog
+                .by_name(lib)
+                .map(|l| l.id.clone())
+                .unwrap_or_else(|| lib.clone());
+            out.push(Evidence {
+                confidence: Confidence::Certain,
+                library: Some(id),
+                detail: format!("declares {lib}"),
+            });
+        }
+        let mut native_files = 0usize;
+        let mut first_native: Option<&str> = None;
+        for f in &hints.files {
+            let base = f.rsplit('/').next().unwrap_or(f);
+            if NATIVE_SOURCE_ENDINGS.iter().any(|e| base.ends_with(e))
+                || NATIVE_BUILD_FILES.contains(&base)
+            {
+                native_files += 1;
+                first_native.get_or_insert(f);
+            }
+            // A shipped copy of a catalog header, or a pkg-config file of a catalog module,
+            // names the library it builds against.
+            for (header, lib) in catalog.headers() {
+                if f == header || f.ends_with(&format!("/{header}")) {
+                    out.push(Evidence {
+                        confidence: Confidence::Likely,
+                        library: Some(lib.id.clone()),
+                        detail: format!("ships {f}, a header of {}", lib.id),
+                    });
+                }
+            }
+            if let Some(module) = base.strip_suffix(".pc")
+                && let Some(lib) = catalog.by_pkg_config(module)
+            {
+                {
+                    out.push(Evidence {
+                        confidence: Confidence::Likely,
+                        library: Some(lib.id.clone()),
+                        detail: format!("ships {f}, naming pkg-config module {module}"),
+                    });
+                }
+            }
+        }
+        if let Some(first) = first_native {
+            let more = if native_files > 1 {
+                format!(
+                    " and {} more native source or build files",
+                    native_files - 1
+                )
+            } else {
+                String::new()
+            };
+            out.push(Evidence {
+                confidence: Confidence::Likely,
+                library: None,
+                detail: format!("ships {first}{more}"),
+            });
+        }
+    }
+    for d in release.runtime_deps() {
+        let target = registry.package(d.package);
+        if target.native_helper || catalog.native_helpers.contains(&*target.name) {
+            out.push(Evidence {
+                confidence: Confidence::Likely,
+                library: None,
+                detail: format!("depends on native-build helper {}", target.name),
+            });
+        }
+    }
+    let mut words: BTreeSet<String> = BTreeSet::new();
+    for text in [Some(&*pkg.name), pkg.summary.as_deref()]
+        .into_iter()
+        .flatten()
+    {
+        for w in text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '+')) {
+            if !w.is_empty() {
+                words.insert(w.to_ascii_lowercase());
+            }
+        }
+    }
+    for w in &words {
+        if let Some(lib) = catalog.by_word(w) {
+            out.push(Evidence {
+                confidence: Confidence::Possible,
+                library: Some(lib.id.clone()),
+                detail: format!("name or summary mentions `{w}`"),
+            });
+        }
+    }
+    out.sort_by(|a, b| b.confidence.cmp(&a.confidence).then_with(|| a.cmp(b)));
+    out.dedup();
+    out
+}
+
+/// A native need of a resolved closure, and the package it comes through.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Need {
+    pub library: Option<String>,
+    pub confidence: Confidence,
+    /// The closure package whose release shows the need.
+    pub via: String,
+    pub build: BuildKind,
+    pub evidence: Vec<String>,
+}
+
+/// What one installable closure needs from the image, and what the image lacks.
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
+pub struct Assessment {
+    pub needs: Vec<Need>,
+    /// Strongest confidence among source builds that need a C toolchain, when the image lacks one.
+    pub toolchain_missing: Option<Confidence>,
+    /// System packages to add, each with the strongest confidence that asks for it.
+    pub missing: Vec<(String, Confidence)>,
+    /// Libraries needed but not in the catalog, so no package can be named for them.
+    pub unknown_libraries: Vec<String>,
+}
+
+impl Assessment {
+    /// The strongest confidence of anything missing, if anything is.
+    pub fn worst_missing(&self) -> Option<Confidence> {
+        self.missing
+            .iter()
+            .map(|(_, c)| *c)
+            .chain(self.toolchain_missing)
+            .max()
+    }
+
+    pub fn packages_to_add(&self) -> Vec<String> {
+        self.missing.iter().map(|(p, _)| p.clone()).collect()
+    }
+}
+
+/// Assesses a resolved closure on `image`. Native need is transitive: every package of the
+/// closure contributes its own evidence, and each need says through which package it comes.
+/// A release installed from a prebuilt build for the image's platform needs no compiler and
+/// no development package, only the library's runtime package.
+pub fn assess(
+    registry: &Registry,
+    catalog: &Catalog,
+    image: &Image,
+    closure: &[Pin],
+) -> Assessment {
+    let mut a = Assessment::default();
+    let mut missing: std::collections::BTreeMap<String, Confidence> = Default::default();
+    let mut unknown: BTreeSet<String> = BTreeSet::new();
+    let add_missing =
+        |pkg: &str, c: Confidence, missing: &mut std::collections::BTreeMap<String, Confidence>| {
+            if !image.system_packages.contains(pkg) {
+                let e = missing.entry(pkg.to_string()).or_insert(c);
+                *e = (*e).max(c);
+            }
+        };
+    for pin in closure {
+        let evidence = release_evidence(registry, catalog, pin.package, pin.index as usize);
+        if evidence.is_empty() {
+            continue;
+        }
+        let via = registry.name(pin.package).to_string();
+        // One need per library (the unnamed native build counts as one), at its strongest.
+        let mut libs: Vec<(Option<String>, Confidence, Vec<String>)> = Vec::new();
+        for e in &evidence {
+            match libs.iter_mut().find(|(l, _, _)| *l == e.library) {
+                Some((_, c, details)) => {
+                    *c = (*c).max(e.confidence);
+                    details.push(e.detail.clone());
+                }
+                None => libs.push((e.library.clone(), e.confidence, vec![e.detail.clone()])),
+            }
+        }
+        // An unnamed native build is subsumed by a named need of at least its confidence.
+        let strongest_named = libs
+            .iter()
+            .filter(|(l, _, _)| l.is_some())
+            .map(|(_, c, _)| *c)
+            .max();
+        libs.retain(|(l, c, _)| l.is_some() || strongest_named.is_none_or(|s| s < *c));
+        for (library, confidence, details) in libs {
+            if pin.build == BuildKind::Source && !image.toolchain {
+                a.toolchain_missing = Some(
+                    a.toolchain_missing
+                        .map_or(confidence, |t| t.max(confidence)),
+                );
+            }
+            if let Some(id) = &library {
+                match catalog.get(id).and_then(|l| l.families.get(&image.family)) {
+                    Some(fam) => {
+                        let wanted = match pin.build {
+                            BuildKind::Source => fam.dev.as_ref(),
+                            BuildKind::Prebuilt => fam.runtime.as_ref(),
+                        };
+                        if let Some(p) = wanted {
+                            add_missing(p, confidence, &mut missing);
+                        }
+                    }
+                    None => {
+                        unknown.insert(id.clone());
+                    }
+                }
+            }
+            a.needs.push(Need {
+                library,
+                confidence,
+                via: via.clone(),
+                build: pin.build,
+                evidence: details,
+            });
+        }
+    }
+    if let Some(c) = a.toolchain_missing {
+        for p in toolchain_packages(image.family) {
+            add_missing(p, c, &mut missing);
+        }
+    }
+    a.missing = missing.into_iter().collect();
+    a.unknown_libraries = unknown.into_iter().collect();
+    a
+}

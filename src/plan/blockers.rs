@@ -1,0 +1,113 @@
+//! Shared blockers: the few packages whose state makes the most priority weight fail.
+
+use super::matrix::{Matrix, Outcome};
+use petgraph::Direction;
+use petgraph::graph::{DiGraph, NodeIndex};
+use petgraph::visit::Dfs;
+use serde::Serialize;
+use std::collections::{BTreeMap, BTreeSet};
+
+/// One package that blocks priority entries on one image.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SharedBlocker {
+    pub image: String,
+    pub package: String,
+    /// Reasons the failing cells give for it, deduplicated.
+    pub reasons: Vec<String>,
+    /// Priority entries that fail through it, in priority order.
+    pub blocks: Vec<String>,
+    pub blocked_weight: f64,
+    /// Share of the list's total weight.
+    pub blocked_share: f64,
+}
+
+/// Per image, the `top` packages that block the most priority weight.
+///
+/// For each image a graph is built from the failing cells: an edge from a failing entry to
+/// each package its explanation names as a blocker. A blocker that is itself a failing entry
+/// passes its own blockers on, so a low-level package is credited with everything that fails
+/// through it, directly or not.
+pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
+    let total: f64 = m.packages.iter().map(|p| p.weight).sum();
+    let weight: BTreeMap<&str, (usize, f64)> = m
+        .packages
+        .iter()
+        .map(|p| (p.name.as_str(), (p.rank, p.weight)))
+        .collect();
+    let mut out = Vec::new();
+    for (col, image) in m.images.iter().enumerate() {
+        let mut graph: DiGraph<&str, ()> = DiGraph::new();
+        let mut nodes: BTreeMap<&str, NodeIndex> = BTreeMap::new();
+        let mut reasons: BTreeMap<&str, BTreeSet<&str>> = BTreeMap::new();
+        for r in 0..m.packages.len() {
+            let cell = &m.cells[r * m.images.len() + col];
+            if cell.outcome != Outcome::Fails && cell.outcome != Outcome::Undecided {
+                continue;
+            }
+            let from = *nodes
+                .entry(&cell.package)
+                .or_insert_with(|| graph.add_node(&cell.package));
+            for b in &cell.blockers {
+                let to = *nodes
+                    .entry(&b.package)
+                    .or_insert_with(|| graph.add_node(&b.package));
+                graph.update_edge(from, to, ());
+                reasons
+                    .entry(&b.package)
+                    .or_default()
+                    .insert(b.reason.as_str());
+            }
+        }
+        let mut ranked: Vec<SharedBlocker> = Vec::new();
+        for (&name, &idx) in &nodes {
+            if graph
+                .neighbors_directed(idx, Direction::Incoming)
+                .next()
+                .is_none()
+            {
+                continue;
+            }
+            // Everything that reaches this blocker fails through it.
+            let reversed = petgraph::visit::Reversed(&graph);
+            let mut dfs = Dfs::new(reversed, idx);
+            let mut blocked: Vec<(usize, &str, f64)> = Vec::new();
+            while let Some(n) = dfs.next(reversed) {
+                if n == idx {
+                    continue;
+                }
+                if let Some(&(rank, w)) = weight.get(graph[n]) {
+                    blocked.push((rank, graph[n], w));
+                }
+            }
+            if blocked.is_empty() {
+                continue;
+            }
+            blocked.sort_by_key(|b| b.0);
+            let blocked_weight: f64 = blocked.iter().map(|b| b.2).sum();
+            ranked.push(SharedBlocker {
+                image: image.id.clone(),
+                package: name.to_string(),
+                reasons: reasons
+                    .get(name)
+                    .map(|s| s.iter().map(|r| r.to_string()).collect())
+                    .unwrap_or_default(),
+                blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
+                blocked_weight,
+                blocked_share: if total > 0.0 {
+                    blocked_weight / total
+                } else {
+                    0.0
+                },
+            });
+        }
+        ranked.sort_by(|a, b| {
+            b.blocked_weight
+                .total_cmp(&a.blocked_weight)
+                .then(b.blocks.len().cmp(&a.blocks.len()))
+                .then(a.package.cmp(&b.package))
+        });
+        ranked.truncate(top);
+        out.extend(ranked);
+    }
+    out
+}

@@ -1,0 +1,469 @@
+//! The predicted matrix: every priority entry solved on every image, in parallel.
+
+use crate::load::Inputs;
+use crate::model::{Image, PackageId, Priority};
+use crate::native::{self, Confidence};
+use crate::solve::{self, BuildKind, Cause, ImageView, RootSpec, SetCache, Solved};
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// The prediction for one cell.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Outcome {
+    /// Resolves, and nothing native is missing.
+    Installs,
+    /// Resolves, but a likely or possible native need is not met by the image.
+    AtRisk,
+    Fails,
+    /// The solver budget ran out.
+    Undecided,
+}
+
+impl Outcome {
+    pub const ALL: [Outcome; 4] = [
+        Outcome::Installs,
+        Outcome::AtRisk,
+        Outcome::Fails,
+        Outcome::Undecided,
+    ];
+
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Outcome::Installs => "installs",
+            Outcome::AtRisk => "at-risk",
+            Outcome::Fails => "fails",
+            Outcome::Undecided => "undecided",
+        }
+    }
+
+    pub fn parse(s: &str) -> Option<Outcome> {
+        Outcome::ALL.into_iter().find(|o| o.as_str() == s)
+    }
+
+    /// Whether the package resolves (cleanly or at risk).
+    pub fn resolves(self) -> bool {
+        matches!(self, Outcome::Installs | Outcome::AtRisk)
+    }
+}
+
+/// One package of a resolved closure.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Pinned {
+    pub name: String,
+    pub version: String,
+    pub build: BuildKind,
+}
+
+/// A native need of a cell, for output.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct NeedRow {
+    pub library: Option<String>,
+    pub confidence: Confidence,
+    pub via: String,
+    pub evidence: Vec<String>,
+}
+
+/// One (package, image) prediction.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Cell {
+    pub package: String,
+    pub image: String,
+    pub outcome: Outcome,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cause: Option<Cause>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub root_version: Option<String>,
+    pub closure_size: usize,
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub closure: Vec<Pinned>,
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub explanation: Vec<String>,
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub native_needs: Vec<NeedRow>,
+    /// System packages the image would have to add for this cell.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub missing_system_packages: Vec<String>,
+    /// Packages whose state makes this cell fail, with a short reason.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub blockers: Vec<BlockerRow>,
+    /// Registry packages the solve consulted, for re-planning; not part of the rendered output.
+    #[serde(skip)]
+    pub touched: Vec<PackageId>,
+}
+
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct BlockerRow {
+    pub package: String,
+    pub reason: String,
+}
+
+/// An image as the matrix shows it.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct ImageColumn {
+    pub id: String,
+    pub runtime: String,
+    pub family: String,
+    pub platform: String,
+    pub toolchain: bool,
+}
+
+/// A priority entry as the matrix shows it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PackageRow {
+    pub rank: usize,
+    pub name: String,
+    pub weight: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub summary: Option<String>,
+}
+
+/// Printed with every matrix: predictions are not install results.
+pub const NOTICE: &str = "Predicted from declared metadata only: confirm with real installs before shipping an \
+image. Installing untrusted packages runs their code, so record installs in sandboxed CI.";
+
+/// The predicted support matrix: rows in priority order, columns in declared image order,
+/// cells row by row.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Matrix {
+    pub notice: String,
+    pub images: Vec<ImageColumn>,
+    pub packages: Vec<PackageRow>,
+    pub cells: Vec<Cell>,
+}
+
+impl Matrix {
+    pub fn cell(&self, package: &str, image: &str) -> Option<&Cell> {
+        let row = self.packages.iter().position(|p| p.name == package)?;
+        let col = self.images.iter().position(|i| i.id == image)?;
+        self.cells.get(row * self.images.len() + col)
+    }
+
+    pub fn row(&self, index: usize) -> &[Cell] {
+        let n = self.images.len();
+        &self.cells[index * n..(index + 1) * n]
+    }
+}
+
+/// Options of a plan run.
+#[derive(Debug, Clone)]
+pub struct PlanOptions {
+    /// Solver steps per cell before the cell is undecided.
+    pub budget: u64,
+    /// Apply the native-library step.
+    pub native: bool,
+    /// Keep the full closure of each cell in the output.
+    pub closures: bool,
+}
+
+impl Default for PlanOptions {
+    fn default() -> Self {
+        PlanOptions {
+            budget: solve::DEFAULT_BUDGET,
+            native: true,
+            closures: true,
+        }
+    }
+}
+
+/// Solves `entry` on the image of `view` and applies the native step: one cell.
+pub fn plan_cell(
+    inputs: &Inputs,
+    view: &ImageView<'_>,
+    entry: &Priority,
+    options: &PlanOptions,
+) -> Cell {
+    let registry = &inputs.registry;
+    let image = view.image;
+    let spec = RootSpec {
+        package: &entry.name,
+        req: entry.req.as_ref(),
+        prerelease: entry.prerelease,
+    };
+    let solved = solve::solve_cell(view, &spec, options.budget);
+    let mut cell = Cell {
+        package: entry.name.clone(),
+        image: image.id.clone(),
+        outcome: Outcome::Fails,
+        cause: None,
+        root_version: None,
+        closure_size: 0,
+        closure: Vec::new(),
+        explanation: Vec::new(),
+        native_needs: Vec::new(),
+        missing_system_packages: Vec::new(),
+        blockers: Vec::new(),
+        touched: solved.touched,
+    };
+    match solved.solved {
+        Solved::Installs {
+            root_index,
+            closure,
+        } => {
+            let root = registry
+                .id(&entry.name)
+                .expect("an installed root is in the registry");
+            cell.outcome = Outcome::Installs;
+            cell.root_version = Some(
+                registry.package(root).releases[root_index as usize]
+                    .version
+                    .to_string(),
+            );
+            cell.closure_size = closure.len();
+            if options.native {
+                apply_native(inputs, image, &closure, &mut cell);
+            }
+            if options.closures {
+                cell.closure = closure
+                    .iter()
+                    .map(|p| Pinned {
+                        name: registry.name(p.package).to_string(),
+                        version: registry.package(p.package).releases[p.index as usize]
+                            .version
+                            .to_string(),
+                        build: p.build,
+                    })
+                    .collect();
+            }
+        }
+        Solved::Fails(failure) => {
+            cell.cause = Some(failure.cause);
+            cell.explanation = failure.lines;
+            cell.blockers = failure
+                .blockers
+                .into_iter()
+                .map(|b| BlockerRow {
+                    package: registry.name(b.package).to_string(),
+                    reason: b.reason,
+                })
+                .collect();
+        }
+        Solved::Undecided { steps } => {
+            cell.outcome = Outcome::Undecided;
+            cell.cause = Some(Cause::BudgetExhausted);
+            cell.explanation = vec![format!(
+                "the solver gave up after {steps} steps; raise --budget to decide this cell"
+            )];
+        }
+    }
+    cell
+}
+
+fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &mut Cell) {
+    let a = native::assess(&inputs.registry, &inputs.catalog, image, closure);
+    cell.native_needs = a
+        .needs
+        .iter()
+        .map(|n| NeedRow {
+            library: n.library.clone(),
+            confidence: n.confidence,
+            via: n.via.clone(),
+            evidence: n.evidence.clone(),
+        })
+        .collect();
+    cell.missing_system_packages = a.packages_to_add();
+    let certain_missing = a.missing.iter().any(|(_, c)| *c == Confidence::Certain);
+    if a.toolchain_missing == Some(Confidence::Certain) {
+        cell.outcome = Outcome::Fails;
+        cell.cause = Some(Cause::MissingToolchain);
+        cell.explanation.push(format!(
+            "a declared native library must be compiled, and {} has no C toolchain; add: {}",
+            image.id,
+            cell.missing_system_packages.join(" ")
+        ));
+    } else if certain_missing {
+        cell.outcome = Outcome::Fails;
+        cell.cause = Some(Cause::MissingSystemLibrary);
+        let certain: Vec<&str> = a
+            .missing
+            .iter()
+            .filter(|(_, c)| *c == Confidence::Certain)
+            .map(|(p, _)| p.as_str())
+            .collect();
+        cell.explanation.push(format!(
+            "a declared native library is missing on {}; add: {}",
+            image.id,
+            certain.join(" ")
+        ));
+    } else if a.worst_missing().is_some() || !a.unknown_libraries.is_empty() {
+        cell.outcome = Outcome::AtRisk;
+        let mut why = Vec::new();
+        if a.worst_missing().is_some() {
+            why.push(format!(
+                "probably needs: {}",
+                cell.missing_system_packages.join(" ")
+            ));
+        }
+        if !a.unknown_libraries.is_empty() {
+            why.push(format!(
+                "needs libraries the catalog does not know: {}",
+                a.unknown_libraries.join(", ")
+            ));
+        }
+        cell.explanation.push(why.join("; "));
+    }
+}
+
+/// Plans every priority entry on every image. Cells are solved in parallel on the current
+/// rayon pool; the result does not depend on the number of threads.
+pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
+    plan_selected(inputs, options, |_| true)
+}
+
+/// Plans the cells whose flat index (row * images + column) `select` accepts; the others are
+/// left out of the returned matrix's cells. Used for sharding.
+pub fn plan_selected(
+    inputs: &Inputs,
+    options: &PlanOptions,
+    select: impl Fn(usize) -> bool + Sync,
+) -> Matrix {
+    let sets = SetCache::default();
+    let views: Vec<ImageView<'_>> = inputs
+        .images
+        .images
+        .iter()
+        .map(|img| ImageView::new(&inputs.registry, img, &sets))
+        .collect();
+    let n_images = views.len();
+    let total = inputs.priorities.entries.len() * n_images;
+    let cells: Vec<Cell> = (0..total)
+        .into_par_iter()
+        .filter(|i| select(*i))
+        .map(|i| {
+            let entry = &inputs.priorities.entries[i / n_images];
+            plan_cell(inputs, &views[i % n_images], entry, options)
+        })
+        .collect();
+    Matrix {
+        notice: NOTICE.to_string(),
+        images: image_columns(inputs),
+        packages: package_rows(inputs),
+        cells,
+    }
+}
+
+pub fn image_columns(inputs: &Inputs) -> Vec<ImageColumn> {
+    inputs
+        .images
+        .images
+        .iter()
+        .map(|i| ImageColumn {
+            id: i.id.clone(),
+            runtime: i.runtime.to_string(),
+            family: i.family.to_string(),
+            platform: i.platform.to_string(),
+            toolchain: i.toolchain,
+        })
+        .collect()
+}
+
+pub fn package_rows(inputs: &Inputs) -> Vec<PackageRow> {
+    inputs
+        .priorities
+        .entries
+        .iter()
+        .map(|e| PackageRow {
+            rank: e.rank,
+            name: e.name.clone(),
+            weight: e.weight,
+            summary: inputs.registry.id(&e.name).and_then(|id| {
+                inputs
+                    .registry
+                    .package(id)
+                    .summary
+                    .as_deref()
+                    .map(str::to_owned)
+            }),
+        })
+        .collect()
+}
+
+/// Counts per image and per package.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Summary {
+    pub images: Vec<ImageCounts>,
+    pub packages: Vec<PackageCounts>,
+    pub causes: BTreeMap<String, usize>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImageCounts {
+    pub image: String,
+    pub installs: usize,
+    pub at_risk: usize,
+    pub fails: usize,
+    pub undecided: usize,
+    /// Share of the priority weight that resolves (cleanly or at risk).
+    pub weight_share: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PackageCounts {
+    pub package: String,
+    pub installs_on: usize,
+    pub at_risk_on: usize,
+    pub images: usize,
+}
+
+/// Summarises a full matrix.
+pub fn summarise(m: &Matrix) -> Summary {
+    let total_weight: f64 = m.packages.iter().map(|p| p.weight).sum();
+    let n = m.images.len();
+    let mut images: Vec<ImageCounts> = m
+        .images
+        .iter()
+        .map(|i| ImageCounts {
+            image: i.id.clone(),
+            installs: 0,
+            at_risk: 0,
+            fails: 0,
+            undecided: 0,
+            weight_share: 0.0,
+        })
+        .collect();
+    let mut packages = Vec::new();
+    let mut causes: BTreeMap<String, usize> = BTreeMap::new();
+    for (r, row) in m.packages.iter().enumerate() {
+        let mut pc = PackageCounts {
+            package: row.name.clone(),
+            installs_on: 0,
+            at_risk_on: 0,
+            images: n,
+        };
+        for (c, cell) in m.row(r).iter().enumerate() {
+            let ic = &mut images[c];
+            match cell.outcome {
+                Outcome::Installs => {
+                    ic.installs += 1;
+                    pc.installs_on += 1;
+                }
+                Outcome::AtRisk => {
+                    ic.at_risk += 1;
+                    pc.at_risk_on += 1;
+                }
+                Outcome::Fails => ic.fails += 1,
+                Outcome::Undecided => ic.undecided += 1,
+            }
+            if cell.outcome.resolves() {
+                ic.weight_share += row.weight;
+            }
+            if let Some(cause) = cell.cause {
+                *causes.entry(cause.as_str().to_string()).or_default() += 1;
+            }
+        }
+        packages.push(pc);
+    }
+    for ic in &mut images {
+        ic.weight_share = if total_weight > 0.0 {
+            ic.weight_share / total_weight
+        } else {
+            0.0
+        };
+    }
+    Summary {
+        images,
+        packages,
+        causes,
+    }
+}

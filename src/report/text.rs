@@ -1,0 +1,290 @@
+//! Readable text reports.
+
+use crate::load::Ledger;
+use crate::load::diag::Tally;
+use crate::plan::blockers::SharedBlocker;
+use crate::plan::explain::Explanation;
+use crate::plan::matrix::{NOTICE, Summary};
+use serde::Serialize;
+use std::fmt::Write;
+
+/// Lays out rows as aligned columns; the first row is the header.
+pub fn table(rows: &[Vec<String>]) -> String {
+    let cols = rows.iter().map(|r| r.len()).max().unwrap_or(0);
+    let mut widths = vec![0usize; cols];
+    for r in rows {
+        for (i, c) in r.iter().enumerate() {
+            widths[i] = widths[i].max(c.chars().count());
+        }
+    }
+    let mut out = String::new();
+    for (n, r) in rows.iter().enumerate() {
+        let mut line = String::new();
+        for (i, c) in r.iter().enumerate() {
+            if i + 1 == r.len() {
+                line.push_str(c);
+            } else {
+                let pad = widths[i] - c.chars().count();
+                line.push_str(c);
+                line.push_str(&" ".repeat(pad + 2));
+            }
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+        if n == 0 {
+            let total: usize = widths.iter().sum::<usize>() + 2 * cols.saturating_sub(1);
+            out.push_str(&"-".repeat(total));
+            out.push('\n');
+        }
+    }
+    out
+}
+
+/// How many examples of each problem kind the text report shows.
+const EXAMPLES: usize = 5;
+
+/// The data-quality report as JSON-ready data.
+#[derive(Debug, Serialize)]
+pub struct CheckReport<'a> {
+    pub clean: bool,
+    pub records: Vec<(&'static str, &'a Tally)>,
+    pub problems: Vec<ProblemGroup<'a>>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct ProblemGroup<'a> {
+    pub kind: crate::load::diag::ProblemKind,
+    pub label: &'static str,
+    pub total: usize,
+    pub left_out: usize,
+    pub items: Vec<&'a crate::load::diag::Problem>,
+}
+
+pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
+    CheckReport {
+        clean: ledger.is_clean(),
+        records: ledger.tallies.iter().map(|(k, t)| (k.label(), t)).collect(),
+        problems: ledger
+            .by_kind()
+            .into_iter()
+            .map(|(kind, items)| ProblemGroup {
+                kind,
+                label: kind.label(),
+                total: items.len(),
+                left_out: items.iter().filter(|p| p.left_out).count(),
+                items,
+            })
+            .collect(),
+    }
+}
+
+/// The data-quality report for people: records read and used, then each problem kind with
+/// its total and a few examples.
+pub fn check_text(ledger: &Ledger) -> String {
+    let mut out = String::new();
+    let mut rows = vec![vec![
+        "records".to_string(),
+        "read".into(),
+        "used".into(),
+        "left out".into(),
+    ]];
+    for (kind, t) in &ledger.tallies {
+        rows.push(vec![
+            kind.label().to_string(),
+            t.read.to_string(),
+            t.used.to_string(),
+            t.left_out.to_string(),
+        ]);
+    }
+    out.push_str(&table(&rows));
+    let groups = ledger.by_kind();
+    if groups.is_empty() {
+        out.push_str("\nno problems found\n");
+        return out;
+    }
+    let _ = writeln!(
+        out,
+        "\n{} problems in {} categories",
+        ledger.problems.len(),
+        groups.len()
+    );
+    for (kind, items) in groups {
+        let _ = writeln!(out, "\n{} ({}): {}", kind.label(), kebab(kind), items.len());
+        for p in items.iter().take(EXAMPLES) {
+            let _ = writeln!(out, "  {}  {}: {}", p.origin, p.subject, p.detail);
+        }
+        if items.len() > EXAMPLES {
+            let _ = writeln!(
+                out,
+                "  ... and {} more (see --format json)",
+                items.len() - EXAMPLES
+            );
+        }
+    }
+    out
+}
+
+fn kebab<T: Serialize>(v: T) -> String {
+    serde_json::to_value(v)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_owned))
+        .unwrap_or_default()
+}
+
+/// The plan summary: per image how many install, per package on how many images, and the
+/// shared blockers.
+pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
+    let mut out = String::new();
+    let mut rows = vec![vec![
+        "image".to_string(),
+        "installs".into(),
+        "at-risk".into(),
+        "fails".into(),
+        "undecided".into(),
+        "weight resolving".into(),
+    ]];
+    for i in &summary.images {
+        rows.push(vec![
+            i.image.clone(),
+            i.installs.to_string(),
+            i.at_risk.to_string(),
+            i.fails.to_string(),
+            i.undecided.to_string(),
+            format!("{:.1}%", i.weight_share * 100.0),
+        ]);
+    }
+    out.push_str(&table(&rows));
+    out.push('\n');
+    let mut rows = vec![vec![
+        "package".to_string(),
+        "installs on".into(),
+        "at-risk on".into(),
+    ]];
+    for p in &summary.packages {
+        rows.push(vec![
+            p.package.clone(),
+            format!("{}/{}", p.installs_on, p.images),
+            p.at_risk_on.to_string(),
+        ]);
+    }
+    out.push_str(&table(&rows));
+    if !summary.causes.is_empty() {
+        out.push_str("\nfailure causes: ");
+        let parts: Vec<String> = summary
+            .causes
+            .iter()
+            .map(|(c, n)| format!("{c} {n}"))
+            .collect();
+        out.push_str(&parts.join(", "));
+        out.push('\n');
+    }
+    if !blockers.is_empty() {
+        out.push_str("\nshared blockers (what blocks the most priority weight per image):\n");
+        let n_entries = summary.packages.len();
+        for b in blockers {
+            let _ = writeln!(
+                out,
+                "  {}: {} blocks {} of the {} entries ({:.1}% of the weight): {}",
+                b.image,
+                b.package,
+                b.blocks.len(),
+                n_entries,
+                b.blocked_share * 100.0,
+                b.reasons.join("; ")
+            );
+        }
+    }
+    let _ = writeln!(out, "\n{NOTICE}");
+    out
+}
+
+/// One cell explained for people.
+pub fn explain_text(e: &Explanation) -> String {
+    let c = &e.cell;
+    let mut out = String::new();
+    let _ = write!(out, "{} on {}: {}", c.package, c.image, c.outcome.as_str());
+    if let Some(v) = &c.root_version {
+        let _ = write!(out, " ({v})");
+    }
+    if let Some(cause) = c.cause {
+        let _ = write!(out, ", {}", cause.as_str());
+    }
+    out.push('\n');
+    if !e.tree.is_empty() {
+        out.push_str("\nresolved closure:\n");
+        for line in &e.tree {
+            let indent = "  ".repeat(line.depth + 1);
+            let req = line
+                .requirement
+                .as_deref()
+                .map(|r| format!(" (wants {r})"))
+                .unwrap_or_default();
+            let rep = if line.repeated { " (shown above)" } else { "" };
+            let build = c
+                .closure
+                .iter()
+                .find(|p| p.name == line.name)
+                .map(|p| {
+                    format!(
+                        " [{}]",
+                        serde_json::to_value(p.build)
+                            .ok()
+                            .and_then(|v| v.as_str().map(str::to_owned))
+                            .unwrap_or_default()
+                    )
+                })
+                .unwrap_or_default();
+            let _ = writeln!(
+                out,
+                "{indent}{} {}{build}{req}{rep}",
+                line.name, line.version
+            );
+        }
+    }
+    if !c.explanation.is_empty() {
+        out.push_str("\nwhy:\n");
+        for l in &c.explanation {
+            let _ = writeln!(out, "  {l}");
+        }
+    }
+    if !c.native_needs.is_empty() {
+        out.push_str("\nnative needs:\n");
+        for n in &c.native_needs {
+            let lib = n.library.as_deref().unwrap_or("(unnamed native build)");
+            let _ = writeln!(
+                out,
+                "  {lib} [{}] via {}: {}",
+                kebab(n.confidence),
+                n.via,
+                n.evidence.join("; ")
+            );
+        }
+    }
+    if !c.missing_system_packages.is_empty() {
+        let _ = writeln!(
+            out,
+            "\nmissing system packages: {}",
+            c.missing_system_packages.join(" ")
+        );
+    }
+    if !c.outcome.resolves() {
+        out.push_str("\nhints:\n");
+        match &e.lowest_runtime {
+            Some(rt) => {
+                let _ = writeln!(
+                    out,
+                    "  lowest declared runtime at which it resolves here: {rt}"
+                );
+            }
+            None => out.push_str("  it resolves at none of the declared images' runtimes\n"),
+        }
+        match &e.older_release {
+            Some(v) => {
+                let _ = writeln!(out, "  newest release that resolves on this image: {v}");
+            }
+            None => out.push_str("  no recent release of it resolves on this image\n"),
+        }
+    }
+    let _ = writeln!(out, "\n{NOTICE}");
+    out
+}
