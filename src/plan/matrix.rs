@@ -88,9 +88,28 @@ pub struct Cell {
     /// Packages whose state makes this cell fail, with a short reason.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub blockers: Vec<BlockerRow>,
+    /// Recorded install results for this cell, set by `verify` when results are given.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub recorded: Option<RecordedCheck>,
     /// Registry packages the solve consulted, for re-planning; not part of the rendered output.
     #[serde(skip)]
     pub touched: Vec<PackageId>,
+}
+
+/// How recorded installs of one cell compare with its prediction.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct RecordedCheck {
+    /// `installed`, `failed` or `flaky` (retries disagree).
+    pub recorded: String,
+    /// How it compares, e.g. `agreed-install`, `surprise-failure`, `drift`.
+    pub verdict: String,
+    /// Installed version, when the record gives one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub version: Option<String>,
+    /// One line on the probable cause or the difference.
+    pub detail: String,
+    /// Number of recorded attempts.
+    pub attempts: usize,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
@@ -194,6 +213,7 @@ pub fn plan_cell(
         native_needs: Vec::new(),
         missing_system_packages: Vec::new(),
         blockers: Vec::new(),
+        recorded: None,
         touched: solved.touched,
     };
     match solved.solved {
