@@ -17,5 +17,6 @@ pub mod native;
 pub mod plan;
 pub mod report;
 pub mod solve;
+pub mod verify;
 
 pub use load::diag::{BadInput, Ledger, Problem, ProblemKind};

@@ -1,0 +1,970 @@
+//! Names why an install failed, from its log.
+//!
+//! A recorded failure is only useful to verification once we know *why* it failed: a missing
+//! header confirms (or contradicts) a predicted missing library, while a dropped connection says
+//! nothing about the image. [`classify`] reads a log line by line and reports every recognised
+//! cause with the line that shows it; [`primary`] picks the one verification should act on.
+//!
+//! # Recognised messages
+//!
+//! Matching is on the English (C locale) wording of the tools, so recorders should run installs
+//! with `LC_ALL=C`; a localised compiler message is simply not recognised.
+//!
+//! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
+//!   directory`, clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
+//!   file: 'foo.h'`.
+//! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
+//!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
+//!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
+//! - [`LogCause::MissingPkgConfig`]: `Package foo was not found in the pkg-config search path.`,
+//!   `No package 'foo' found` and pkgconf's `Package 'foo', required by 'bar', not found`.
+//! - [`LogCause::NoCompiler`] and [`LogCause::NoMake`]: a shell that cannot find the program
+//!   (`gcc: command not found`, `sh: 1: cc: not found`, `command not found: cc`), setuptools
+//!   (`command 'gcc' failed: No such file or directory`, `unable to execute 'cc': No such file or
+//!   directory`), Go (`exec: "gcc": executable file not found in $PATH`), rustc (``linker `cc`
+//!   not found``), autoconf (`C compiler cannot create executables`, `no acceptable C compiler
+//!   found`) and CMake (`No CMAKE_C_COMPILER could be found`, `CMake was unable to find a build
+//!   program corresponding to "Unix Makefiles"`). Compiler names may carry a directory, a target
+//!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`).
+//! - [`LogCause::RuntimeRefused`]: the form defined below.
+//! - [`LogCause::OutOfMemory`]: `out of memory` (including `cc1: out of memory allocating`),
+//!   `Cannot allocate memory`, `virtual memory exhausted`, `std::bad_alloc`, OOM-killer notes.
+//! - [`LogCause::Killed`]: the shell's `Killed` job report, gcc's `Killed signal terminated
+//!   program`, `SIGKILL`, `signal 9`, `signal: killed`, and exit code or status 137.
+//! - [`LogCause::Network`]: refused, reset, aborted or timed-out connections, DNS failures
+//!   (`Could not resolve host`, `Temporary failure in name resolution`, `EAI_AGAIN`), TLS
+//!   handshake timeouts, unreachable networks and gateway errors (502, 503, 504).
+//! - [`LogCause::Timeout`]: `timed out`, `deadline exceeded`, `timeout expired`.
+//!
+//! # The runtime-refused form
+//!
+//! Runtimes and installers word "this package needs a newer runtime" in many ways, so recorders
+//! are asked to write one tool-neutral line of their own when an install is refused for the
+//! runtime version:
+//!
+//! ```text
+//! runtime refused: requires <REQUIREMENT>, found <VERSION>
+//! ```
+//!
+//! The marker `runtime refused: requires ` is matched without regard to case and may follow a
+//! prefix on the same line (`error: runtime refused: ...`). `<REQUIREMENT>` runs up to the
+//! *last* `, found ` on the line, so it may itself contain commas (`>=3.8, <4`); `<VERSION>` is
+//! the rest of the line. Both are trimmed and must be non-empty.
+//!
+//! # Limits
+//!
+//! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
+//! failure at the end); line numbers still count from the start of the whole log. A bare carriage
+//! return splits a line into segments that share its number, because progress bars redraw a line
+//! with `\r` and the error often lands on the same physical line; this also makes CRLF harmless.
+//! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
+//! ANSI escape sequences and other control characters are removed first. Each segment yields at
+//! most one cause: the most specific that matches.
+
+use memchr::memmem::Finder;
+use serde::Serialize;
+use std::collections::HashSet;
+use std::fmt;
+use std::sync::LazyLock;
+
+/// How much of the end of a log [`classify`] reads.
+pub const SCAN_TAIL_BYTES: usize = 16 << 20;
+
+/// The longest [`LogFinding::evidence`] in characters, before the closing ellipsis.
+pub const EVIDENCE_CHARS: usize = 300;
+
+/// Longer segments are minified code or binary noise; their tails are not worth the time.
+const SEGMENT_BYTES: usize = 16 << 10;
+
+/// Why an install failed, as far as its log shows.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+#[serde(tag = "cause", rename_all = "kebab-case")]
+pub enum LogCause {
+    /// The compiler could not find a header, named as written in `#include <...>`.
+    MissingHeader { header: String },
+    /// The linker could not find a library, named as given to `-l` (without the `-l`).
+    MissingLibrary { link: String },
+    /// pkg-config has no `.pc` file for a module.
+    MissingPkgConfig { module: String },
+    /// A compiler is not installed or cannot build anything. `tool` is the program the log
+    /// names, or `cc` / `c++` when it only says "C compiler" / "C++ compiler".
+    NoCompiler { tool: String },
+    /// `make` is not installed.
+    NoMake,
+    /// The installer refused the runtime version; see the module docs for the line format.
+    RuntimeRefused { required: String, found: String },
+    /// The network failed (connection, DNS, TLS, gateway).
+    Network,
+    /// Something gave up waiting.
+    Timeout,
+    /// Memory ran out.
+    OutOfMemory,
+    /// A process was killed (SIGKILL, exit code 137).
+    Killed,
+    /// Nothing recognised. [`classify`] never reports this; it is the answer of
+    /// [`primary_cause`] for a log without findings.
+    Unknown,
+}
+
+impl LogCause {
+    /// Whether a rerun may well succeed: network trouble and timeouts depend on the moment,
+    /// not the image. Memory exhaustion and kills are not counted, since they usually repeat on
+    /// an image of the same size.
+    pub fn likely_flaky(&self) -> bool {
+        matches!(self, LogCause::Network | LogCause::Timeout)
+    }
+
+    /// A stable kebab-case name, the same as the `cause` tag in serialised output.
+    pub fn label(&self) -> &'static str {
+        match self {
+            LogCause::MissingHeader { .. } => "missing-header",
+            LogCause::MissingLibrary { .. } => "missing-library",
+            LogCause::MissingPkgConfig { .. } => "missing-pkg-config",
+            LogCause::NoCompiler { .. } => "no-compiler",
+            LogCause::NoMake => "no-make",
+            LogCause::RuntimeRefused { .. } => "runtime-refused",
+            LogCause::Network => "network",
+            LogCause::Timeout => "timeout",
+            LogCause::OutOfMemory => "out-of-memory",
+            LogCause::Killed => "killed",
+            LogCause::Unknown => "unknown",
+        }
+    }
+
+    /// Lower is more specific. A missing header names what to install; a kill or a timeout is
+    /// often only the consequence of something printed earlier.
+    fn rank(&self) -> u8 {
+        match self {
+            LogCause::MissingHeader { .. }
+            | LogCause::MissingLibrary { .. }
+            | LogCause::MissingPkgConfig { .. } => 0,
+            LogCause::NoCompiler { .. } | LogCause::NoMake => 1,
+            LogCause::RuntimeRefused { .. } => 2,
+            LogCause::OutOfMemory | LogCause::Killed => 3,
+            LogCause::Network | LogCause::Timeout => 4,
+            LogCause::Unknown => 5,
+        }
+    }
+}
+
+impl fmt::Display for LogCause {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            LogCause::MissingHeader { header } => write!(f, "missing header {header}"),
+            LogCause::MissingLibrary { link } => write!(f, "missing library -l{link}"),
+            LogCause::MissingPkgConfig { module } => {
+                write!(f, "missing pkg-config module {module}")
+            }
+            LogCause::NoCompiler { tool } => write!(f, "no compiler ({tool})"),
+            LogCause::NoMake => f.write_str("no make"),
+            LogCause::RuntimeRefused { required, found } => {
+                write!(f, "runtime refused: requires {required}, found {found}")
+            }
+            LogCause::Network => f.write_str("network failure"),
+            LogCause::Timeout => f.write_str("timed out"),
+            LogCause::OutOfMemory => f.write_str("out of memory"),
+            LogCause::Killed => f.write_str("killed"),
+            LogCause::Unknown => f.write_str("unknown cause"),
+        }
+    }
+}
+
+/// One recognised cause and where the log shows it.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct LogFinding {
+    /// What the line says went wrong.
+    pub cause: LogCause,
+    /// 1-based line number in the whole log.
+    pub line: usize,
+    /// The line as shown, without escape codes, trimmed and cut to [`EVIDENCE_CHARS`].
+    pub evidence: String,
+}
+
+/// Every cause the log shows, in log order. A cause seen again (same kind and same name) is
+/// reported only at its first line, so a header missing from ten files is one finding.
+pub fn classify(log: &str) -> Vec<LogFinding> {
+    classify_tail(log, SCAN_TAIL_BYTES)
+}
+
+/// The finding verification should act on: the most specific kind, and the earliest of those,
+/// since later errors are often fallout from the first.
+pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
+    findings.iter().min_by_key(|f| f.cause.rank())
+}
+
+/// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
+pub fn primary_cause(log: &str) -> LogCause {
+    primary(&classify(log)).map_or(LogCause::Unknown, |f| f.cause.clone())
+}
+
+fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
+    let start = window_start(log, limit);
+    let first_line = 1 + log.as_bytes()[..start]
+        .iter()
+        .filter(|&&b| b == b'\n')
+        .count();
+    let mut seen = HashSet::new();
+    let mut findings = Vec::new();
+    // Reused across lines: a big log has millions of them.
+    let mut clean = String::new();
+    let mut lower = String::new();
+    for (i, line) in log[start..].split('\n').enumerate() {
+        for segment in line.split('\r') {
+            strip_controls(prefix(segment, SEGMENT_BYTES), &mut clean);
+            let text = clean.trim();
+            if text.is_empty() {
+                continue;
+            }
+            lower.clear();
+            lower.push_str(text);
+            lower.make_ascii_lowercase();
+            if !may_match(&lower) {
+                continue;
+            }
+            if let Some(cause) = match_segment(text, &lower)
+                && seen.insert(cause.clone())
+            {
+                findings.push(LogFinding {
+                    cause,
+                    line: first_line + i,
+                    evidence: evidence(text),
+                });
+            }
+        }
+    }
+    findings
+}
+
+/// Where reading starts: `limit` bytes before the end, moved forward to the next line start so
+/// the first line read is whole.
+fn window_start(log: &str, limit: usize) -> usize {
+    if log.len() <= limit {
+        return 0;
+    }
+    let at = log.len() - limit;
+    let bytes = log.as_bytes();
+    if bytes[at - 1] == b'\n' {
+        return at;
+    }
+    match bytes[at..].iter().position(|&b| b == b'\n') {
+        Some(i) => at + i + 1,
+        None => log.len(),
+    }
+}
+
+/// The longest prefix of `s` of at most `max` bytes that ends on a character boundary.
+fn prefix(s: &str, max: usize) -> &str {
+    if s.len() <= max {
+        return s;
+    }
+    let mut end = max;
+    while !s.is_char_boundary(end) {
+        end -= 1;
+    }
+    &s[..end]
+}
+
+/// Copies `s` into `out` without ANSI escape sequences and control characters; tabs become
+/// spaces so that words stay apart.
+fn strip_controls(s: &str, out: &mut String) {
+    out.clear();
+    // 0xC2 leads every UTF-8 encoded C1 control, including the one-character CSI U+009B.
+    if !s.bytes().any(|b| b < 0x20 || b == 0x7f || b == 0xc2) {
+        out.push_str(s);
+        return;
+    }
+    let mut chars = s.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '\u{1b}' => match chars.next() {
+                Some('[') => skip_csi(&mut chars),
+                Some(']') => skip_osc(&mut chars),
+                // Charset designations like `ESC ( B` take one more character.
+                Some('\u{20}'..='\u{2f}') => {
+                    chars.next();
+                }
+                _ => {}
+            },
+            '\u{9b}' => skip_csi(&mut chars),
+            '\t' => out.push(' '),
+            c if c.is_control() => {}
+            c => out.push(c),
+        }
+    }
+}
+
+/// Skips the rest of a control sequence: parameter and intermediate bytes, then one final byte.
+fn skip_csi(chars: &mut std::iter::Peekable<std::str::Chars<'_>>) {
+    while let Some(&c) = chars.peek() {
+        match c {
+            '\u{20}'..='\u{3f}' => {
+                chars.next();
+            }
+            '\u{40}'..='\u{7e}' => {
+                chars.next();
+                return;
+            }
+            // Malformed: keep the character, it is probably text.
+            _ => return,
+        }
+    }
+}
+
+/// Skips an operating system command (window titles, hyperlinks) up to BEL or `ESC \`.
+fn skip_osc(chars: &mut std::iter::Peekable<std::str::Chars<'_>>) {
+    while let Some(c) = chars.next() {
+        match c {
+            '\u{7}' => return,
+            '\u{1b}' => {
+                if chars.peek() == Some(&'\\') {
+                    chars.next();
+                }
+                return;
+            }
+            _ => {}
+        }
+    }
+}
+
+fn evidence(text: &str) -> String {
+    match text.char_indices().nth(EVIDENCE_CHARS) {
+        None => text.to_owned(),
+        Some((end, _)) => format!("{}…", &text[..end]),
+    }
+}
+
+/// Lowercase words at least one of which every matcher in [`match_segment`] needs in its line.
+/// Most of a big log is chatter that contains none of them, and testing these few with
+/// prebuilt searchers costs far less than running every matcher; a new matcher must add its
+/// word here (the unit tests check the phrase lists).
+const ANCHORS: [&str; 26] = [
+    "found",
+    "find",
+    "no such file",
+    "include file",
+    "compiler",
+    "make_program",
+    "refused",
+    "memory",
+    "bad_alloc",
+    "kill",
+    "signal 9",
+    "137",
+    "connect",
+    "resol",
+    "not known",
+    "address associated",
+    "eai_again",
+    "econn",
+    "handshake",
+    "unreachable",
+    "route to host",
+    "gateway",
+    "unavailable",
+    "timed out",
+    "deadline",
+    "timeout",
+];
+
+static ANCHOR_FINDERS: LazyLock<Vec<Finder<'static>>> =
+    LazyLock::new(|| ANCHORS.iter().map(Finder::new).collect());
+
+fn may_match(lower: &str) -> bool {
+    ANCHOR_FINDERS
+        .iter()
+        .any(|f| f.find(lower.as_bytes()).is_some())
+}
+
+/// The most specific cause in one cleaned segment. `lower` is `text` with ASCII lowercased, so
+/// byte offsets agree between the two.
+fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
+    if let Some(header) = missing_header(text) {
+        return Some(LogCause::MissingHeader {
+            header: header.to_owned(),
+        });
+    }
+    if let Some(link) = missing_library(text) {
+        return Some(LogCause::MissingLibrary {
+            link: link.to_owned(),
+        });
+    }
+    if let Some(module) = missing_pkg_config(text) {
+        return Some(LogCause::MissingPkgConfig {
+            module: module.to_owned(),
+        });
+    }
+    if let Some(program) = missing_program(text) {
+        match program_kind(program) {
+            Some(Program::Compiler) => {
+                return Some(LogCause::NoCompiler {
+                    tool: program.to_owned(),
+                });
+            }
+            Some(Program::Make) => return Some(LogCause::NoMake),
+            None => {}
+        }
+    }
+    if let Some(tool) = compiler_phrase(lower) {
+        return Some(LogCause::NoCompiler {
+            tool: tool.to_owned(),
+        });
+    }
+    if MAKE_PHRASES.iter().any(|p| lower.contains(p)) {
+        return Some(LogCause::NoMake);
+    }
+    if let Some((required, found)) = runtime_refused(text, lower) {
+        return Some(LogCause::RuntimeRefused {
+            required: required.to_owned(),
+            found: found.to_owned(),
+        });
+    }
+    if OOM_PHRASES.iter().any(|p| lower.contains(p)) {
+        return Some(LogCause::OutOfMemory);
+    }
+    if killed(text, lower) {
+        return Some(LogCause::Killed);
+    }
+    // Before timeouts: "connection timed out" is a network failure first.
+    if NETWORK_PHRASES.iter().any(|p| lower.contains(p)) {
+        return Some(LogCause::Network);
+    }
+    if TIMEOUT_PHRASES.iter().any(|p| lower.contains(p)) {
+        return Some(LogCause::Timeout);
+    }
+    None
+}
+
+fn missing_header(t: &str) -> Option<&str> {
+    // gcc. The location prefix tells a header apart from a missing source file, which gcc
+    // reports as `cc1: fatal error: x.c: No such file or directory`.
+    if let Some(p) = t.find("fatal error: ") {
+        let rest = &t[p + "fatal error: ".len()..];
+        if let Some(q) = rest.find(": No such file or directory")
+            && ends_with_location(&t[..p])
+            && let Some(name) = plausible_name(&rest[..q])
+        {
+            return Some(name);
+        }
+    }
+    // clang, as a fatal error or (in some modes) a plain one.
+    if let Some(p) = t.find("error: '") {
+        let rest = &t[p + "error: '".len()..];
+        if let Some(q) = rest.find("' file not found")
+            && let Some(name) = plausible_name(&rest[..q])
+        {
+            return Some(name);
+        }
+    }
+    if let Some(p) = t.find("Cannot open include file: '") {
+        let rest = &t[p + "Cannot open include file: '".len()..];
+        if let Some(q) = rest.find('\'') {
+            return plausible_name(&rest[..q]);
+        }
+    }
+    None
+}
+
+/// Whether the last word of `prefix` is a compiler location: `file:line:` or `file:line:col:`.
+fn ends_with_location(prefix: &str) -> bool {
+    let word = prefix
+        .trim_end()
+        .rsplit(char::is_whitespace)
+        .next()
+        .unwrap_or("");
+    let Some(word) = word.strip_suffix(':') else {
+        return false;
+    };
+    let is_number = |s: &str| !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
+    let mut parts = word.rsplit(':');
+    if !parts.next().is_some_and(is_number) {
+        return false;
+    }
+    match parts.next() {
+        Some(p) if is_number(p) => parts.next().is_some_and(|f| !f.is_empty()),
+        Some(p) => !p.is_empty(),
+        None => false,
+    }
+}
+
+/// A header path or similar name, unless it carries quoting that shows we cut in the wrong place.
+fn plausible_name(s: &str) -> Option<&str> {
+    let s = s.trim();
+    let ok = !s.is_empty() && s.len() <= 400 && !s.contains(['\'', '"', '<', '>', '`']);
+    ok.then_some(s)
+}
+
+const LINK_MARKERS: [&str; 3] = [
+    "cannot find -l",
+    "unable to find library -l",
+    "library not found for -l",
+];
+
+fn missing_library(t: &str) -> Option<&str> {
+    for marker in LINK_MARKERS {
+        if let Some(p) = t.find(marker)
+            && let Some(name) = link_name(&t[p + marker.len()..])
+        {
+            return Some(name);
+        }
+    }
+    // Apple's newer linker.
+    if let Some(p) = t.find("ld: library '") {
+        let rest = &t[p + "ld: library '".len()..];
+        if let Some(q) = rest.find("' not found") {
+            return link_name(&rest[..q]);
+        }
+    }
+    None
+}
+
+/// The `-l` argument at the start of `rest`, up to white space and without trailing punctuation.
+/// A leading `:` (`-l:libfoo.so.1`, an exact file name) is kept.
+fn link_name(rest: &str) -> Option<&str> {
+    let word = rest.split(char::is_whitespace).next().unwrap_or("");
+    let word = word.trim_end_matches([':', ',', ';', '\'', '"', '`', ')']);
+    let ok = !word.is_empty()
+        && word.len() <= 200
+        && word
+            .chars()
+            .all(|c| c.is_alphanumeric() || "._+-:/@".contains(c));
+    ok.then_some(word)
+}
+
+fn missing_pkg_config(t: &str) -> Option<&str> {
+    if let Some(p) = t.find(" was not found in the pkg-config search path")
+        && let Some(q) = t[..p].rfind("Package ")
+    {
+        return module_name(&t[q + "Package ".len()..p]);
+    }
+    if let Some(p) = t.find("No package '") {
+        let rest = &t[p + "No package '".len()..];
+        if let Some(q) = rest.find("' found") {
+            return module_name(&rest[..q]);
+        }
+    }
+    if let Some(p) = t.find("Package '") {
+        let rest = &t[p + "Package '".len()..];
+        if let Some(q) = rest.find("', required by '")
+            && rest[q..].contains("not found")
+        {
+            return module_name(&rest[..q]);
+        }
+    }
+    None
+}
+
+fn module_name(s: &str) -> Option<&str> {
+    let s = s.trim().trim_matches(['\'', '"']);
+    let ok = !s.is_empty() && s.len() <= 200 && !s.contains(char::is_whitespace);
+    ok.then_some(s)
+}
+
+/// The program a line says could not be run, whatever kind of program it is.
+fn missing_program(t: &str) -> Option<&str> {
+    // bash `bash: line 1: gcc: command not found`, dash `sh: 1: cc: not found`.
+    for suffix in [": command not found", ": not found"] {
+        if let Some(rest) = t.strip_suffix(suffix) {
+            return quoted_or_word(rest.rsplit(": ").next().unwrap_or(rest));
+        }
+    }
+    // zsh.
+    if let Some(p) = t.find("command not found: ") {
+        return quoted_or_word(&t[p + "command not found: ".len()..]);
+    }
+    // setuptools / distutils. Without "No such file" the compiler ran and failed, which is
+    // a different story.
+    if let Some(p) = t.find("command '") {
+        let rest = &t[p + "command '".len()..];
+        if let Some(q) = rest.find("' failed")
+            && rest[q..].contains("No such file or directory")
+        {
+            return quoted_or_word(&rest[..q]);
+        }
+    }
+    if let Some(p) = t.find("unable to execute '") {
+        let rest = &t[p + "unable to execute '".len()..];
+        if let Some(q) = rest.find("': No such file or directory") {
+            return quoted_or_word(&rest[..q]);
+        }
+    }
+    // Go's os/exec, as seen from cgo builds.
+    if let Some(p) = t.find("exec: \"") {
+        let rest = &t[p + "exec: \"".len()..];
+        if let Some(q) = rest.find("\": executable file not found") {
+            return quoted_or_word(&rest[..q]);
+        }
+    }
+    if let Some(p) = t.find("linker `") {
+        let rest = &t[p + "linker `".len()..];
+        if let Some(q) = rest.find("` not found") {
+            return quoted_or_word(&rest[..q]);
+        }
+    }
+    None
+}
+
+/// A single program name: one word, quotes removed. Anything with spaces is prose such as
+/// `checking for clang: not found`, not a program the shell tried.
+fn quoted_or_word(s: &str) -> Option<&str> {
+    let s = s.trim().trim_matches(['\'', '"', '`']);
+    let ok = !s.is_empty() && s.len() <= 200 && !s.contains(char::is_whitespace);
+    ok.then_some(s)
+}
+
+enum Program {
+    Compiler,
+    Make,
+}
+
+const COMPILERS: [&str; 8] = [
+    "cc", "c++", "gcc", "g++", "clang", "clang++", "cpp", "gfortran",
+];
+
+fn program_kind(name: &str) -> Option<Program> {
+    let base = name.rsplit(['/', '\\']).next().unwrap_or(name);
+    let base = without_version(base);
+    if matches!(base, "make" | "gmake") {
+        return Some(Program::Make);
+    }
+    // A target prefix (`x86_64-linux-gnu-gcc`) still means gcc.
+    let compiler = COMPILERS.iter().any(|c| {
+        base.strip_suffix(c)
+            .is_some_and(|head| head.is_empty() || head.ends_with('-'))
+    });
+    compiler.then_some(Program::Compiler)
+}
+
+/// `gcc-12` -> `gcc`, `clang-15.0` -> `clang`.
+fn without_version(base: &str) -> &str {
+    match base.rsplit_once('-') {
+        Some((head, v))
+            if !head.is_empty()
+                && !v.is_empty()
+                && v.bytes().all(|b| b.is_ascii_digit() || b == b'.') =>
+        {
+            head
+        }
+        _ => base,
+    }
+}
+
+/// Lowercased phrases from build systems that name no program, with the tool they stand for.
+/// C++ comes first: its phrases would otherwise read as C ones in a looser list.
+const COMPILER_PHRASES: [(&str, &str); 5] = [
+    ("c++ compiler cannot create executables", "c++"),
+    ("c compiler cannot create executables", "cc"),
+    ("no acceptable c compiler found", "cc"),
+    ("no cmake_cxx_compiler could be found", "c++"),
+    ("no cmake_c_compiler could be found", "cc"),
+];
+
+fn compiler_phrase(lower: &str) -> Option<&'static str> {
+    COMPILER_PHRASES
+        .iter()
+        .find(|(phrase, _)| lower.contains(phrase))
+        .map(|&(_, tool)| tool)
+}
+
+const MAKE_PHRASES: [&str; 2] = [
+    "unable to find a build program corresponding to \"unix makefiles\"",
+    "cmake_make_program is not set",
+];
+
+const RUNTIME_MARKER: &str = "runtime refused: requires ";
+
+fn runtime_refused<'a>(text: &'a str, lower: &str) -> Option<(&'a str, &'a str)> {
+    let p = lower.find(RUNTIME_MARKER)?;
+    // `get`, not indexing: offsets come from `lower`, and a mismatch must not panic.
+    let rest = text.get(p + RUNTIME_MARKER.len()..)?;
+    let q = rest.rfind(", found ")?;
+    let required = rest[..q].trim();
+    let found = rest[q + ", found ".len()..].trim();
+    (!required.is_empty() && !found.is_empty()).then_some((required, found))
+}
+
+const OOM_PHRASES: [&str; 7] = [
+    "out of memory",
+    "cannot allocate memory",
+    "virtual memory exhausted",
+    "std::bad_alloc",
+    "oomkilled",
+    "oom-kill",
+    "oom killer",
+];
+
+fn killed(text: &str, lower: &str) -> bool {
+    lower == "killed"
+        || shell_killed(text)
+        || lower.contains("killed signal terminated program")
+        || lower.contains("sigkill")
+        || lower.contains("signal: killed")
+        || lower
+            .match_indices("signal 9")
+            .any(|(i, m)| !next_is_digit(lower, i + m.len()))
+        || exit_137(lower)
+}
+
+/// The shell's job report: `bash: line 1:  4242 Killed   cc ...`, or `Killed` opening a line.
+fn shell_killed(text: &str) -> bool {
+    text.match_indices("Killed").any(|(i, m)| {
+        let end = i + m.len();
+        if text[end..].starts_with(|c: char| c.is_alphanumeric()) {
+            return false;
+        }
+        let before = &text[..i];
+        if before.trim().is_empty() {
+            return true;
+        }
+        before.ends_with(char::is_whitespace)
+            && before
+                .trim_end()
+                .rsplit(char::is_whitespace)
+                .next()
+                .is_some_and(|pid| !pid.is_empty() && pid.bytes().all(|b| b.is_ascii_digit()))
+    })
+}
+
+/// Exit code 137 is 128 + SIGKILL, however the tool words it: `exit code 137`, `exit status:
+/// 137`, `returned a non-zero code: 137`, `code=137`.
+fn exit_137(lower: &str) -> bool {
+    lower.match_indices("137").any(|(i, m)| {
+        if next_is_digit(lower, i + m.len()) || lower[..i].ends_with(|c: char| c.is_ascii_digit()) {
+            return false;
+        }
+        let before = lower[..i].trim_end_matches([' ', ':', '=']);
+        before.ends_with("code") || before.ends_with("status")
+    })
+}
+
+fn next_is_digit(s: &str, at: usize) -> bool {
+    s.as_bytes().get(at).is_some_and(u8::is_ascii_digit)
+}
+
+const NETWORK_PHRASES: [&str; 22] = [
+    "connection refused",
+    "connection reset",
+    "connection aborted",
+    "connection timed out",
+    "couldn't connect to server",
+    "failed to connect to",
+    "failed to establish a new connection",
+    "remote end closed connection",
+    "could not resolve host",
+    "could not resolve proxy",
+    "temporary failure in name resolution",
+    "name or service not known",
+    "no address associated with hostname",
+    "eai_again",
+    "econnrefused",
+    "econnreset",
+    "tls handshake timeout",
+    "network is unreachable",
+    "no route to host",
+    "502 bad gateway",
+    "503 service unavailable",
+    "504 gateway time",
+];
+
+const TIMEOUT_PHRASES: [&str; 4] = [
+    "timed out",
+    "deadline exceeded",
+    "timeout expired",
+    "timeout exceeded",
+];
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn causes(log: &str) -> Vec<LogCause> {
+        classify(log).into_iter().map(|f| f.cause).collect()
+    }
+
+    fn one(log: &str) -> LogCause {
+        let found = causes(log);
+        assert_eq!(found.len(), 1, "{log:?} gave {found:?}");
+        found.into_iter().next().unwrap()
+    }
+
+    #[test]
+    fn gcc_missing_source_is_not_a_missing_header() {
+        // source: GNU gcc 12 wording for a source file that does not exist (no location prefix)
+        assert!(causes("cc1: fatal error: nosuch.c: No such file or directory").is_empty());
+    }
+
+    #[test]
+    fn location_prefixes() {
+        assert!(ends_with_location("a.c:1:10: "));
+        assert!(ends_with_location("  src/x.c:3: "));
+        assert!(ends_with_location(r"C:\src\a.c:1:10: "));
+        assert!(!ends_with_location("cc1: "));
+        assert!(!ends_with_location("gcc: "));
+        assert!(!ends_with_location(""));
+        assert!(!ends_with_location("12:34: "));
+    }
+
+    #[test]
+    fn compiler_names_with_prefix_path_and_version() {
+        for name in [
+            "cc",
+            "gcc",
+            "/usr/bin/gcc",
+            "x86_64-linux-gnu-gcc-12",
+            "clang-15",
+            "c++",
+            "aarch64-linux-gnu-g++",
+        ] {
+            assert!(
+                matches!(program_kind(name), Some(Program::Compiler)),
+                "{name}"
+            );
+        }
+        for name in ["ccache", "gcc-ar-x", "ninja", "cmake", "python3", "occ"] {
+            assert!(program_kind(name).is_none(), "{name}");
+        }
+        assert!(matches!(program_kind("gmake"), Some(Program::Make)));
+    }
+
+    #[test]
+    fn other_missing_programs_are_not_findings() {
+        // source: dash wording, as for any other program
+        assert!(causes("sh: 1: ninja: not found").is_empty());
+        // source: waf-style configure chatter; prose before the colon is no program name
+        assert!(causes("Checking for program 'clang': not found").is_empty());
+    }
+
+    #[test]
+    fn compiler_that_ran_and_failed_is_not_missing() {
+        // source: setuptools wording when gcc exits 1 (it exists)
+        assert!(causes("error: command '/usr/bin/gcc' failed with exit code 1").is_empty());
+    }
+
+    #[test]
+    fn runtime_refused_form() {
+        assert_eq!(
+            one("runtime refused: requires >=3.8, <4, found 3.7.2"),
+            LogCause::RuntimeRefused {
+                required: ">=3.8, <4".into(),
+                found: "3.7.2".into()
+            }
+        );
+        assert_eq!(
+            one("ERROR: Runtime Refused: requires ^2.1, found 1.9"),
+            LogCause::RuntimeRefused {
+                required: "^2.1".into(),
+                found: "1.9".into()
+            }
+        );
+        assert!(causes("runtime refused: requires , found 1.0").is_empty());
+        assert!(causes("runtime refused: requires 2.0").is_empty());
+    }
+
+    #[test]
+    fn exit_code_137_needs_a_code_word_and_digit_bounds() {
+        assert!(exit_137("exit code: 137"));
+        assert!(exit_137("returned non-zero exit status 137."));
+        assert!(exit_137("code=137"));
+        assert!(!exit_137("exit code 1370"));
+        assert!(!exit_137("exit code 2137"));
+        assert!(!exit_137("downloaded 137 files"));
+    }
+
+    #[test]
+    fn killed_word_positions() {
+        assert!(shell_killed("Killed"));
+        assert!(shell_killed("bash: line 1:  4242 Killed     cc1 x.c"));
+        assert!(!shell_killed("process was Killedx"));
+        assert!(!shell_killed("tests: Killed 3 mutants"));
+    }
+
+    #[test]
+    fn escape_sequences_are_removed() {
+        let mut out = String::new();
+        strip_controls("\u{1b}[01;31m\u{1b}[Kfatal\u{1b}[m\u{1b}[K x", &mut out);
+        assert_eq!(out, "fatal x");
+        strip_controls("\u{1b}]0;title\u{7}a\u{1b}(Bb\u{9b}1mc\u{0}\td", &mut out);
+        assert_eq!(out, "abc d");
+        // An escape at the very end, or a sequence cut short, must not panic.
+        strip_controls("x\u{1b}", &mut out);
+        assert_eq!(out, "x");
+        strip_controls("x\u{1b}[12", &mut out);
+        assert_eq!(out, "x");
+    }
+
+    #[test]
+    fn evidence_is_capped_on_a_char_boundary() {
+        let long = "é".repeat(1000);
+        let e = evidence(&long);
+        assert_eq!(e.chars().count(), EVIDENCE_CHARS + 1);
+        assert!(e.ends_with('…'));
+        assert_eq!(evidence("short"), "short");
+    }
+
+    #[test]
+    fn tail_window_keeps_whole_log_line_numbers() {
+        let log = "Killed\nfiller line\nmore filler\nConnection refused\n";
+        // A window that starts mid-line skips to the next line start.
+        let found = classify_tail(log, 25);
+        assert_eq!(found.len(), 1);
+        assert_eq!(found[0].cause, LogCause::Network);
+        assert_eq!(found[0].line, 4);
+        // A window that starts exactly at a line start keeps that line.
+        let found = classify_tail(log, "Connection refused\n".len());
+        assert_eq!(found.len(), 1);
+        assert_eq!(found[0].line, 4);
+        // A window inside the last, unterminated line reads nothing rather than half a line.
+        assert!(classify_tail("Killed\nConnection refused", 5).is_empty());
+    }
+
+    #[test]
+    fn long_segments_are_cut_on_a_char_boundary() {
+        let s = format!("a{}", "é".repeat(SEGMENT_BYTES));
+        let p = prefix(&s, SEGMENT_BYTES);
+        assert!(p.len() <= SEGMENT_BYTES);
+        assert!(s.is_char_boundary(p.len()));
+    }
+
+    #[test]
+    fn carriage_returns_split_progress_lines() {
+        let found = classify("Downloading 10%\rDownloading 20%\rerror: Connection reset by peer\n");
+        assert_eq!(found.len(), 1);
+        assert_eq!(found[0].line, 1);
+        assert_eq!(found[0].evidence, "error: Connection reset by peer");
+    }
+
+    #[test]
+    fn every_phrase_passes_the_anchor_gate() {
+        let lists: [&[&str]; 6] = [
+            &LINK_MARKERS,
+            &MAKE_PHRASES,
+            &OOM_PHRASES,
+            &NETWORK_PHRASES,
+            &TIMEOUT_PHRASES,
+            &[RUNTIME_MARKER],
+        ];
+        for phrase in lists.iter().flat_map(|l| l.iter()) {
+            assert!(may_match(&phrase.to_ascii_lowercase()), "{phrase}");
+        }
+        for (phrase, _) in COMPILER_PHRASES {
+            assert!(may_match(phrase), "{phrase}");
+        }
+        assert!(!may_match("compiling module 12 of 99: ok"));
+    }
+
+    #[test]
+    fn labels_and_flakiness() {
+        assert_eq!(LogCause::NoMake.label(), "no-make");
+        assert!(LogCause::Network.likely_flaky());
+        assert!(LogCause::Timeout.likely_flaky());
+        assert!(!LogCause::OutOfMemory.likely_flaky());
+        assert!(
+            !LogCause::MissingHeader {
+                header: "x.h".into()
+            }
+            .likely_flaky()
+        );
+        assert_eq!(primary_cause(""), LogCause::Unknown);
+        let json = serde_json::to_string(&LogCause::MissingLibrary { link: "z".into() }).unwrap();
+        assert_eq!(json, r#"{"cause":"missing-library","link":"z"}"#);
+    }
+}
