@@ -4,4 +4,5 @@
 //! importance of a package does not rest on a single measure. [`cover`] chooses which system
 //! packages to add to an image so the most priority weight installs per package added.
 
+pub mod cover;
 pub mod fusion;
