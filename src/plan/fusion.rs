@@ -516,7 +516,7 @@ impl Method {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Missing {
     /// Rank `len + 1`, just behind the list's last entry: [`Method::RankSum`] adds `len + 1`,
-    /// [`Method::Borda`] gives `n - len - 1` points (one less than the last entry, never
+    /// [`Method::Borda`] gives `n - len - 1` points (fewer than any listed entry, never
     /// negative), [`Method::Reciprocal`] adds `1 / (k + len + 1)`. [`Method::ShareSum`] gives
     /// a share of 0: the list recorded nothing for the package.
     WorstPlusOne,
