@@ -164,6 +164,9 @@ pub enum ProblemKind {
     MissingLog,
     /// A record with a value out of range or of the wrong form; left out.
     BadValue,
+    /// A dated source-list row outside the requested time window; left out, so a 30-day
+    /// download count is not inflated by older rows in the same file.
+    OutsideWindow,
 }
 
 impl ProblemKind {
@@ -189,6 +192,7 @@ impl ProblemKind {
             ProblemKind::UnknownImage => "results naming images not declared",
             ProblemKind::MissingLog => "log files that cannot be read (result kept without log)",
             ProblemKind::BadValue => "records with an unusable value (left out)",
+            ProblemKind::OutsideWindow => "source-list rows outside the time window (left out)",
         }
     }
 }

@@ -1,7 +1,10 @@
-//! Plans built from solves: the predicted matrix, shared blockers, one-cell explanations.
+//! Plans built from solves: the predicted matrix, shared blockers, one-cell explanations, and
+//! the image-planning computations (rank fusion, system-package advice by set cover).
 
 pub mod blockers;
+pub mod cover;
 pub mod explain;
+pub mod fusion;
 pub mod matrix;
 
 pub use matrix::{Cell, Matrix, Outcome, PlanOptions, plan, summarise};
