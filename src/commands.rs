@@ -159,3 +159,125 @@ pub fn explain(o: &ExplainCommand) -> Result<Output> {
         },
     })
 }
+
+/// Reads a matrix written by `plan` (JSON, or YAML by extension).
+pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
+    let file = path.display().to_string();
+    let text = crate::load::diag::read_text(path)?;
+    let yaml = path.extension().is_some_and(|e| e == "yaml" || e == "yml");
+    let parsed: Result<Matrix, String> = if yaml {
+        serde_yaml::from_str(&text).map_err(|e| e.to_string())
+    } else {
+        serde_json::from_str(&text).map_err(|e| format!("line {}: {e}", e.line()))
+    };
+    let m = parsed.map_err(|e| BadInput::file(&file, format!("not a basefit matrix: {e}")))?;
+    if m.cells.len() != m.packages.len() * m.images.len() {
+        return Err(BadInput::file(
+            &file,
+            format!(
+                "not a complete matrix: {} cells for {} packages x {} images (merge shards first)",
+                m.cells.len(),
+                m.packages.len(),
+                m.images.len()
+            ),
+        ));
+    }
+    Ok(m)
+}
+
+pub struct ReviewCommand {
+    pub inputs: InputPaths,
+    pub strict: bool,
+    pub plan: PlanOptions,
+    /// A matrix from an earlier `plan`; planned afresh when absent.
+    pub matrix: Option<PathBuf>,
+    pub max_surprises: usize,
+    pub format: Format,
+}
+
+/// `review`: recorded results against predictions. Exit 1 when surprises exceed the limit.
+pub fn review(o: &ReviewCommand) -> Result<Output> {
+    let mut inputs = load(&o.inputs, o.strict)?;
+    if inputs.results.is_empty()
+        && !inputs
+            .ledger
+            .tallies
+            .contains_key(&crate::load::diag::RecordKind::Result)
+    {
+        return Err(BadInput::file("command line", "review needs --results").into());
+    }
+    let matrix = match &o.matrix {
+        Some(p) => read_matrix(p)?,
+        None => {
+            // Recorded packages outside the priority list are planned too, so no result is
+            // left uncompared.
+            let mut next_rank = inputs.priorities.entries.len();
+            for r in inputs.results.clone() {
+                if !inputs
+                    .priorities
+                    .entries
+                    .iter()
+                    .any(|e| e.name == r.package)
+                {
+                    next_rank += 1;
+                    inputs.priorities.entries.push(crate::model::Priority {
+                        rank: next_rank,
+                        name: r.package.clone(),
+                        weight: 0.0,
+                        req: None,
+                        prerelease: false,
+                        origin: r.origin.clone(),
+                    });
+                }
+            }
+            plan::plan(&inputs, &o.plan)
+        }
+    };
+    let review = crate::verify::compare(
+        &matrix,
+        &inputs.results,
+        &inputs.registry,
+        &inputs.images,
+        &inputs.catalog,
+    );
+    let surprises = review.surprises();
+    let stdout = match o.format {
+        Format::Json => report::to_json(&review),
+        _ => text::review_text(&review, &inputs.ledger),
+    };
+    Ok(Output {
+        stdout,
+        stderr: Vec::new(),
+        exit: if surprises > o.max_surprises {
+            exit::FOUND
+        } else {
+            exit::OK
+        },
+    })
+}
+
+pub struct DiffCommand {
+    pub before: PathBuf,
+    pub after: PathBuf,
+    pub format: Format,
+}
+
+/// `diff`: what changed between two matrices. Exit 1 when anything did.
+pub fn diff(o: &DiffCommand) -> Result<Output> {
+    let a = read_matrix(&o.before)?;
+    let b = read_matrix(&o.after)?;
+    let d = crate::verify::diff::diff(&a, &b, text::grid);
+    let stdout = match o.format {
+        Format::Json => report::to_json(&d),
+        _ => text::diff_text(&d),
+    };
+    Ok(Output {
+        stdout,
+        stderr: Vec::new(),
+        exit: if d.changes.is_empty() {
+            exit::OK
+        } else {
+            exit::FOUND
+        },
+    })
+}

@@ -37,6 +37,14 @@ enum Command {
         after_help = "Example:\n  basefit explain tidewater debian-2.4 --registry demo-data/registry.yaml \\\n    --images matrices/demo-images.yaml --priorities demo-data/priorities.yaml"
     )]
     Explain(ExplainArgs),
+    /// Compare recorded install results with the predictions: surprises first.
+    #[command(
+        after_help = "Example:\n  basefit review --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --results demo-data/results.yaml --max-surprises 0"
+    )]
+    Review(ReviewArgs),
+    /// Compare two matrices written by `plan`: changed cells and a unified diff.
+    #[command(after_help = "Example:\n  basefit diff before/matrix.json after/matrix.json")]
+    Diff(DiffArgs),
 }
 
 #[derive(Args, Clone)]
@@ -138,6 +146,56 @@ struct ExplainArgs {
     format: Format,
 }
 
+#[derive(Args)]
+struct ReviewArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    /// Recorded install results (YAML, CSV or JSON lines; repeatable).
+    #[arg(long, value_name = "FILE", required = true)]
+    results: Vec<PathBuf>,
+    /// Compare against this matrix (from `plan`) instead of planning afresh.
+    #[arg(long, value_name = "FILE")]
+    matrix: Option<PathBuf>,
+    /// Exit 1 when there are more surprises than this.
+    #[arg(long, default_value_t = 0)]
+    max_surprises: usize,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+#[derive(Args)]
+struct DiffArgs {
+    /// The earlier matrix (JSON or YAML).
+    before: PathBuf,
+    /// The later matrix.
+    after: PathBuf,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+fn run_review(a: ReviewArgs) -> anyhow::Result<Output> {
+    with_threads(a.solve.threads, || {
+        commands::review(&commands::ReviewCommand {
+            inputs: a.input.paths(&a.results),
+            strict: a.input.strict,
+            plan: a.solve.options(),
+            matrix: a.matrix.clone(),
+            max_surprises: a.max_surprises,
+            format: a.format,
+        })
+    })
+}
+
+fn run_diff(a: DiffArgs) -> anyhow::Result<Output> {
+    commands::diff(&commands::DiffCommand {
+        before: a.before,
+        after: a.after,
+        format: a.format,
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -190,6 +248,8 @@ fn main() -> ExitCode {
         Command::Check(a) => run_check(a),
         Command::Plan(a) => run_plan(a),
         Command::Explain(a) => run_explain(a),
+        Command::Review(a) => run_review(a),
+        Command::Diff(a) => run_diff(a),
     };
     match result {
         Ok(out) => {

@@ -55,11 +55,17 @@ fn messy_strings_normalise_or_are_refused_with_a_reason() {
         match (read_version(input), expected) {
             (VersionRead::Normalised(v, how), Some(want)) => {
                 assert_eq!(v.to_string(), *want, "input {input:?}");
-                assert!(how.contains(reason_word), "input {input:?}: note {how:?} lacks {reason_word:?}");
+                assert!(
+                    how.contains(reason_word),
+                    "input {input:?}: note {how:?} lacks {reason_word:?}"
+                );
             }
             (VersionRead::Refused(why), None) => {
                 let why = why.replace("5 numeric", "five numeric");
-                assert!(why.contains(reason_word), "input {input:?}: reason {why:?} lacks {reason_word:?}");
+                assert!(
+                    why.contains(reason_word),
+                    "input {input:?}: reason {why:?} lacks {reason_word:?}"
+                );
             }
             (other, _) => panic!("input {input:?}: got {other:?}, expected {expected:?}"),
         }
@@ -113,7 +119,12 @@ fn spec_precedence_example_sorts_in_order_after_loading() {
     let (registry, ledger) = b.finish();
     assert!(ledger.is_clean(), "{:?}", ledger.problems);
     let id = registry.id("wren-spec").unwrap();
-    let got: Vec<String> = registry.package(id).releases.iter().map(|r| r.version.to_string()).collect();
+    let got: Vec<String> = registry
+        .package(id)
+        .releases
+        .iter()
+        .map(|r| r.version.to_string())
+        .collect();
     assert_eq!(got, ordered);
 }
 
@@ -126,7 +137,12 @@ fn build_metadata_does_not_affect_precedence() {
     assert_eq!(a.cmp_precedence(&b), std::cmp::Ordering::Equal);
     // The four-part normalisation keeps releases distinct yet equal in precedence to their
     // three-part release, so requirements treat them alike.
-    let VersionRead::Normalised(four, _) = read_version("1.2.3.4") else { panic!() };
-    assert_eq!(four.cmp_precedence(&semver::Version::new(1, 2, 3)), std::cmp::Ordering::Equal);
+    let VersionRead::Normalised(four, _) = read_version("1.2.3.4") else {
+        panic!()
+    };
+    assert_eq!(
+        four.cmp_precedence(&semver::Version::new(1, 2, 3)),
+        std::cmp::Ordering::Equal
+    );
     assert!(semver::VersionReq::parse("=1.2.3").unwrap().matches(&four));
 }

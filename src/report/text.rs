@@ -288,3 +288,209 @@ pub fn explain_text(e: &Explanation) -> String {
     let _ = writeln!(out, "\n{NOTICE}");
     out
 }
+
+/// A plain-text grid of a matrix: one line per package, one short code per image.
+pub fn grid(m: &crate::plan::Matrix) -> String {
+    let mut rows = vec![
+        std::iter::once("package".to_string())
+            .chain(m.images.iter().map(|i| i.id.clone()))
+            .collect::<Vec<_>>(),
+    ];
+    for (r, p) in m.packages.iter().enumerate() {
+        let mut row = vec![p.name.clone()];
+        for c in m.row(r) {
+            let mut code = c.outcome.as_str().to_string();
+            if let Some(v) = &c.root_version {
+                code = format!("{code} {v}");
+            }
+            if let Some(cause) = c.cause {
+                code = format!("{code} ({})", cause.as_str());
+            }
+            row.push(code);
+        }
+        rows.push(row);
+    }
+    table(&rows)
+}
+
+/// The review for people: summary, then surprises by probable cause, then agreed failures.
+pub fn review_text(r: &crate::verify::Review, ledger: &Ledger) -> String {
+    use crate::verify::Verdict;
+    let mut out = String::new();
+    let _ = writeln!(out, "{} cells with recorded results", r.cells.len());
+    for (k, n) in &r.counts {
+        let _ = writeln!(out, "  {k}: {n}");
+    }
+    let c = &r.confusion;
+    out.push_str("\npredicted \\ recorded   failed  installed\n");
+    let _ = writeln!(
+        out,
+        "fails                  {:<7} {}",
+        c.true_failures, c.false_failures
+    );
+    let _ = writeln!(
+        out,
+        "installs or at-risk    {:<7} {}",
+        c.missed_failures, c.true_installs
+    );
+    let pct = |v: Option<f64>| {
+        v.map(|v| format!("{:.1}%", v * 100.0))
+            .unwrap_or_else(|| "n/a".into())
+    };
+    let _ = writeln!(
+        out,
+        "failure predictions: precision {}, recall {}",
+        pct(c.precision),
+        pct(c.recall)
+    );
+    let mut groups: std::collections::BTreeMap<String, Vec<&crate::verify::compare::CellReview>> =
+        Default::default();
+    for cell in r.cells.iter().filter(|c| c.verdict.is_surprise()) {
+        let key = match (&cell.log_cause, cell.verdict) {
+            (_, Verdict::SurpriseInstall) => "installed although predicted to fail".to_string(),
+            (Some(lc), _) => lc.label().to_string(),
+            (None, _) => "failed, cause not recognised in the log".to_string(),
+        };
+        groups.entry(key).or_default().push(cell);
+    }
+    if groups.is_empty() {
+        out.push_str("\nno surprises\n");
+    } else {
+        let _ = writeln!(out, "\nsurprises ({}), by probable cause:", r.surprises());
+        for (k, cells) in &groups {
+            let _ = writeln!(out, "\n  {k}:");
+            for cell in cells {
+                review_cell(&mut out, cell);
+            }
+        }
+    }
+    let agreed: Vec<_> = r
+        .cells
+        .iter()
+        .filter(|c| matches!(c.verdict, Verdict::AgreedFailure | Verdict::RiskConfirmed))
+        .collect();
+    if !agreed.is_empty() {
+        out.push_str("\nagreed failures:\n");
+        for cell in agreed {
+            review_cell(&mut out, cell);
+        }
+    }
+    let other: Vec<_> = r
+        .cells
+        .iter()
+        .filter(|c| {
+            matches!(
+                c.verdict,
+                Verdict::Flaky | Verdict::Drift | Verdict::Undecided
+            )
+        })
+        .collect();
+    if !other.is_empty() {
+        out.push_str("\nflaky, drifted or undecided:\n");
+        for cell in other {
+            review_cell(&mut out, cell);
+        }
+    }
+    for o in &r.outside_matrix {
+        let _ = writeln!(out, "not compared: {o}");
+    }
+    let left_out = ledger
+        .problems
+        .iter()
+        .filter(|p| {
+            p.left_out
+                && matches!(
+                    p.kind,
+                    crate::load::diag::ProblemKind::UnknownImage
+                        | crate::load::diag::ProblemKind::UnknownPackage
+                        | crate::load::diag::ProblemKind::BadValue
+                        | crate::load::diag::ProblemKind::UnreadableVersion
+                )
+        })
+        .count();
+    if left_out > 0 {
+        let _ = writeln!(
+            out,
+            "\n{left_out} input records were left out (run `basefit check` for the list)"
+        );
+    }
+    let _ = writeln!(out, "\n{NOTICE}");
+    out
+}
+
+fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
+    let cause = c
+        .predicted_cause
+        .map(|c| format!(", {}", c.as_str()))
+        .unwrap_or_default();
+    let attempts: Vec<&str> = c
+        .attempts
+        .iter()
+        .map(|a| match a {
+            crate::model::RecordedOutcome::Installed => "installed",
+            crate::model::RecordedOutcome::Failed => "failed",
+        })
+        .collect();
+    let _ = writeln!(
+        out,
+        "    {} on {}: {} (predicted {}{cause}; recorded {})",
+        c.package,
+        c.image,
+        c.verdict.as_str(),
+        c.predicted.as_str(),
+        attempts.join(", ")
+    );
+    if let (Some(e), Some(at)) = (&c.evidence, &c.evidence_at) {
+        let _ = writeln!(out, "      log ({at}): {e}");
+    }
+    if let Some(agree) = c.cause_agrees {
+        let _ = writeln!(
+            out,
+            "      cause {}",
+            if agree {
+                "agrees"
+            } else {
+                "differs from the prediction"
+            }
+        );
+    }
+    if let Some(s) = &c.suggestion {
+        let _ = writeln!(out, "      suggestion: {s}");
+    }
+}
+
+/// A matrix diff for people.
+pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
+    let mut out = String::new();
+    if d.changes.is_empty() {
+        out.push_str("the matrices agree\n");
+        return out;
+    }
+    let _ = writeln!(out, "{} cells changed", d.changes.len());
+    let brief = |b: &Option<crate::verify::diff::CellBrief>| match b {
+        None => "(absent)".to_string(),
+        Some(b) => {
+            let mut s = b.outcome.as_str().to_string();
+            if let Some(v) = &b.version {
+                s.push_str(&format!(" {v}"));
+            }
+            if let Some(c) = b.cause {
+                s.push_str(&format!(" ({})", c.as_str()));
+            }
+            s
+        }
+    };
+    for c in &d.changes {
+        let _ = writeln!(
+            out,
+            "  {} on {}: {} -> {}",
+            c.package,
+            c.image,
+            brief(&c.before),
+            brief(&c.after)
+        );
+    }
+    out.push('\n');
+    out.push_str(&d.unified);
+    out
+}

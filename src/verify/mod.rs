@@ -1,6 +1,10 @@
 //! Checking predictions against recorded install results.
 //!
-//! [`logs`] reads the install log of a failed record and names why it failed, so a failure can
-//! be matched against the library the prediction said was missing, or set aside as flaky.
+//! [`logs`] reads the install log of a failed record and names why it failed; [`compare`]
+//! sets each recorded cell against its prediction; [`diff`] compares two matrices.
 
+pub mod compare;
+pub mod diff;
 pub mod logs;
+
+pub use compare::{Review, Verdict, annotate, compare};

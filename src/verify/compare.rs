@@ -1,0 +1,398 @@
+//! Comparing a predicted matrix with recorded install results, cell by cell.
+
+use super::logs::{self, LogCause};
+use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
+use crate::native::Catalog;
+use crate::plan::matrix::{Matrix, Outcome, RecordedCheck};
+use crate::solve::Cause;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// How one cell's records compare with its prediction.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Verdict {
+    AgreedInstall,
+    /// Predicted to fail, and it failed.
+    AgreedFailure,
+    /// Predicted at risk, and it failed: the risk was real.
+    RiskConfirmed,
+    /// Predicted to install (cleanly), but it failed.
+    SurpriseFailure,
+    /// Predicted to fail, but it installed: the metadata is stricter than reality.
+    SurpriseInstall,
+    /// Installed, but not the version predicted.
+    Drift,
+    /// Attempts disagree, or the failure looks transient (network, timeout).
+    Flaky,
+    /// The prediction was undecided (solver budget), so nothing can be compared.
+    Undecided,
+}
+
+impl Verdict {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Verdict::AgreedInstall => "agreed-install",
+            Verdict::AgreedFailure => "agreed-failure",
+            Verdict::RiskConfirmed => "risk-confirmed",
+            Verdict::SurpriseFailure => "surprise-failure",
+            Verdict::SurpriseInstall => "surprise-install",
+            Verdict::Drift => "drift",
+            Verdict::Flaky => "flaky",
+            Verdict::Undecided => "undecided",
+        }
+    }
+
+    pub fn is_surprise(self) -> bool {
+        matches!(self, Verdict::SurpriseFailure | Verdict::SurpriseInstall)
+    }
+}
+
+/// One compared cell.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CellReview {
+    pub package: String,
+    pub image: String,
+    pub predicted: Outcome,
+    pub predicted_cause: Option<Cause>,
+    pub predicted_version: Option<String>,
+    pub verdict: Verdict,
+    /// Recorded outcomes of every attempt, in file order.
+    pub attempts: Vec<RecordedOutcome>,
+    pub installed_version: Option<String>,
+    /// The classified cause of the last failed attempt's log.
+    pub log_cause: Option<LogCause>,
+    /// The log line that shows it.
+    pub evidence: Option<String>,
+    pub evidence_at: Option<String>,
+    /// For failures: whether the recorded cause matches the predicted cause class.
+    pub cause_agrees: Option<bool>,
+    pub suggestion: Option<String>,
+}
+
+/// Counts of predicted against recorded, flaky and undecided cells left aside.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct Confusion {
+    /// Predicted failure, recorded failure.
+    pub true_failures: usize,
+    /// Predicted failure, recorded install.
+    pub false_failures: usize,
+    /// Predicted install (at-risk included), recorded failure.
+    pub missed_failures: usize,
+    /// Predicted install, recorded install.
+    pub true_installs: usize,
+    /// Of the predicted failures, the share that failed; `None` without predicted failures.
+    pub precision: Option<f64>,
+    /// Of the recorded failures, the share predicted; `None` without recorded failures.
+    pub recall: Option<f64>,
+}
+
+/// The review of a set of recorded results.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Review {
+    pub cells: Vec<CellReview>,
+    pub counts: BTreeMap<String, usize>,
+    pub confusion: Confusion,
+    /// Results naming a cell the matrix does not have.
+    pub outside_matrix: Vec<String>,
+}
+
+impl Review {
+    pub fn surprises(&self) -> usize {
+        self.cells
+            .iter()
+            .filter(|c| c.verdict.is_surprise())
+            .count()
+    }
+}
+
+/// Which predicted cause classes a log cause confirms.
+fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
+    let predicted = predicted?;
+    let expected: &[Cause] = match log {
+        LogCause::MissingHeader { .. }
+        | LogCause::MissingLibrary { .. }
+        | LogCause::MissingPkgConfig { .. } => &[Cause::MissingSystemLibrary],
+        LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
+        LogCause::RuntimeRefused { .. } => &[Cause::RuntimeTooOld, Cause::RuntimeTooNew],
+        _ => return None,
+    };
+    Some(expected.contains(&predicted))
+}
+
+/// The catalog library a log cause names, if any.
+pub fn library_of<'c>(
+    catalog: &'c Catalog,
+    cause: &LogCause,
+) -> Option<&'c crate::native::Library> {
+    match cause {
+        LogCause::MissingHeader { header } => catalog.by_header(header),
+        LogCause::MissingLibrary { link } => catalog.by_link(link),
+        LogCause::MissingPkgConfig { module } => catalog.by_pkg_config(module),
+        _ => None,
+    }
+}
+
+/// A concrete next step for a failed cell.
+fn suggest(
+    registry: &Registry,
+    images: &ImageSet,
+    catalog: &Catalog,
+    package: &str,
+    image_id: &str,
+    cause: &LogCause,
+    declared_in_closure: bool,
+) -> Option<String> {
+    let image = images.get(image_id)?;
+    match cause {
+        LogCause::MissingHeader { .. }
+        | LogCause::MissingLibrary { .. }
+        | LogCause::MissingPkgConfig { .. } => {
+            let what = match cause {
+                LogCause::MissingHeader { header } => format!("header {header}"),
+                LogCause::MissingLibrary { link } => format!("library -l{link}"),
+                LogCause::MissingPkgConfig { module } => format!("pkg-config module {module}"),
+                _ => String::new(),
+            };
+            let Some(lib) = library_of(catalog, cause) else {
+                return Some(format!(
+                    "the log misses {what}, which the catalog does not know: add it to a catalog file"
+                ));
+            };
+            let dev = lib
+                .families
+                .get(&image.family)
+                .and_then(|f| f.dev.clone())
+                .unwrap_or_else(|| format!("the {} development package", lib.id));
+            let hint = if declared_in_closure {
+                String::new()
+            } else {
+                let known = registry.id(package).is_some();
+                let who = if known { package } else { "the package" };
+                format!(
+                    "undeclared native dependency on {}: add a hint for {who}; ",
+                    lib.id
+                )
+            };
+            Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
+        }
+        LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
+            "{image_id} lacks a C toolchain: add {}",
+            crate::native::toolchain_packages(image.family).join(" ")
+        )),
+        LogCause::RuntimeRefused { required, found } => Some(format!(
+            "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
+        )),
+        LogCause::Network | LogCause::Timeout => {
+            Some("likely transient: retry before acting".into())
+        }
+        LogCause::OutOfMemory | LogCause::Killed => {
+            Some("the build ran out of memory or was killed: give the CI job more memory".into())
+        }
+        LogCause::Unknown => None,
+    }
+}
+
+/// Compares `matrix` with recorded `results`. Every result is either compared or listed in
+/// `outside_matrix`.
+pub fn compare(
+    matrix: &Matrix,
+    results: &[RecordedResult],
+    registry: &Registry,
+    images: &ImageSet,
+    catalog: &Catalog,
+) -> Review {
+    let mut by_cell: BTreeMap<(usize, usize), Vec<&RecordedResult>> = BTreeMap::new();
+    let mut outside = Vec::new();
+    let rows: BTreeMap<&str, usize> = matrix
+        .packages
+        .iter()
+        .enumerate()
+        .map(|(i, p)| (p.name.as_str(), i))
+        .collect();
+    let cols: BTreeMap<&str, usize> = matrix
+        .images
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (c.id.as_str(), i))
+        .collect();
+    for r in results {
+        match (rows.get(r.package.as_str()), cols.get(r.image.as_str())) {
+            (Some(&row), Some(&col)) if row * matrix.images.len() + col < matrix.cells.len() => {
+                by_cell.entry((row, col)).or_default().push(r)
+            }
+            _ => outside.push(format!(
+                "{}: {} on {} is not in the matrix",
+                r.origin, r.package, r.image
+            )),
+        }
+    }
+    let mut cells = Vec::new();
+    for ((row, col), records) in by_cell {
+        let cell = &matrix.cells[row * matrix.images.len() + col];
+        let attempts: Vec<RecordedOutcome> = records.iter().map(|r| r.outcome).collect();
+        let last = records.last().expect("a cell has at least one record");
+        let last_failed = records
+            .iter()
+            .rev()
+            .find(|r| r.outcome == RecordedOutcome::Failed);
+        let findings = last_failed
+            .and_then(|r| r.log.as_deref())
+            .map(logs::classify)
+            .unwrap_or_default();
+        let primary = logs::primary(&findings).cloned();
+        let installed_version = records
+            .iter()
+            .rev()
+            .find(|r| r.outcome == RecordedOutcome::Installed)
+            .and_then(|r| r.version.as_ref().map(|v| v.to_string()));
+        let any_installed = attempts.contains(&RecordedOutcome::Installed);
+        let any_failed = attempts.contains(&RecordedOutcome::Failed);
+        let declared = cell.native_needs.iter().any(|n| {
+            n.confidence == crate::native::Confidence::Certain
+                && primary
+                    .as_ref()
+                    .and_then(|p| library_of(catalog, &p.cause))
+                    .is_some_and(|lib| n.library.as_deref() == Some(lib.id.as_str()))
+        });
+        let verdict = if cell.outcome == Outcome::Undecided {
+            Verdict::Undecided
+        } else if (any_installed && any_failed)
+            || (any_failed
+                && primary.as_ref().is_some_and(|p| p.cause.likely_flaky())
+                && cell.outcome.resolves())
+        {
+            Verdict::Flaky
+        } else if any_failed {
+            match cell.outcome {
+                Outcome::Fails => Verdict::AgreedFailure,
+                Outcome::AtRisk => Verdict::RiskConfirmed,
+                _ => Verdict::SurpriseFailure,
+            }
+        } else if cell.outcome == Outcome::Fails {
+            Verdict::SurpriseInstall
+        } else if installed_version.is_some() && installed_version != cell.root_version {
+            Verdict::Drift
+        } else {
+            Verdict::AgreedInstall
+        };
+        let log_cause = primary.as_ref().map(|p| p.cause.clone());
+        let suggestion = match verdict {
+            Verdict::SurpriseInstall => Some(format!(
+                "predicted {} ({}), but it installed: the metadata is stricter than reality; check the runtime requirement and builds of {}",
+                cell.outcome.as_str(),
+                cell.cause.map(|c| c.as_str()).unwrap_or("no cause"),
+                cell.package
+            )),
+            Verdict::Drift => Some(format!(
+                "installed {} where {} was predicted: the registry snapshot may be older than the install",
+                installed_version.as_deref().unwrap_or("?"),
+                cell.root_version.as_deref().unwrap_or("?")
+            )),
+            _ => log_cause.as_ref().and_then(|c| {
+                suggest(
+                    registry,
+                    images,
+                    catalog,
+                    &cell.package,
+                    &cell.image,
+                    c,
+                    declared,
+                )
+            }),
+        };
+        cells.push(CellReview {
+            package: cell.package.clone(),
+            image: cell.image.clone(),
+            predicted: cell.outcome,
+            predicted_cause: cell.cause,
+            predicted_version: cell.root_version.clone(),
+            verdict,
+            attempts,
+            installed_version,
+            cause_agrees: match (verdict, &log_cause) {
+                (Verdict::AgreedFailure | Verdict::RiskConfirmed, Some(c)) => agrees(cell.cause, c),
+                _ => None,
+            },
+            evidence: primary.as_ref().map(|p| p.evidence.clone()),
+            evidence_at: primary.as_ref().map(|p| {
+                format!(
+                    "{} line {}",
+                    last_failed
+                        .map(|r| r.origin.to_string())
+                        .unwrap_or_default(),
+                    p.line
+                )
+            }),
+            log_cause,
+            suggestion,
+        });
+        let _ = last;
+    }
+    let mut counts: BTreeMap<String, usize> = BTreeMap::new();
+    let mut confusion = Confusion::default();
+    for c in &cells {
+        *counts.entry(c.verdict.as_str().to_string()).or_default() += 1;
+        let failed = c.attempts.contains(&RecordedOutcome::Failed);
+        match (c.verdict, c.predicted == Outcome::Fails, failed) {
+            (Verdict::Flaky | Verdict::Undecided, _, _) => {}
+            (_, true, true) => confusion.true_failures += 1,
+            (_, true, false) => confusion.false_failures += 1,
+            (_, false, true) => confusion.missed_failures += 1,
+            (_, false, false) => confusion.true_installs += 1,
+        }
+    }
+    let predicted_failures = confusion.true_failures + confusion.false_failures;
+    let recorded_failures = confusion.true_failures + confusion.missed_failures;
+    confusion.precision = (predicted_failures > 0)
+        .then(|| confusion.true_failures as f64 / predicted_failures as f64);
+    confusion.recall =
+        (recorded_failures > 0).then(|| confusion.true_failures as f64 / recorded_failures as f64);
+    Review {
+        cells,
+        counts,
+        confusion,
+        outside_matrix: outside,
+    }
+}
+
+/// Writes each cell's comparison into the matrix, for renderers.
+pub fn annotate(matrix: &mut Matrix, review: &Review) {
+    let n = matrix.images.len();
+    let rows: BTreeMap<String, usize> = matrix
+        .packages
+        .iter()
+        .enumerate()
+        .map(|(i, p)| (p.name.clone(), i))
+        .collect();
+    let cols: BTreeMap<String, usize> = matrix
+        .images
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (c.id.clone(), i))
+        .collect();
+    for c in &review.cells {
+        let (Some(&r), Some(&k)) = (rows.get(&c.package), cols.get(&c.image)) else {
+            continue;
+        };
+        let recorded = if c.verdict == Verdict::Flaky && c.attempts.windows(2).any(|w| w[0] != w[1])
+        {
+            "flaky"
+        } else if c.attempts.contains(&RecordedOutcome::Failed) {
+            "failed"
+        } else {
+            "installed"
+        };
+        matrix.cells[r * n + k].recorded = Some(RecordedCheck {
+            recorded: recorded.to_string(),
+            verdict: c.verdict.as_str().to_string(),
+            version: c.installed_version.clone(),
+            detail: c
+                .suggestion
+                .clone()
+                .or_else(|| c.evidence.clone())
+                .unwrap_or_default(),
+            attempts: c.attempts.len(),
+        });
+    }
+}

@@ -1,0 +1,89 @@
+//! Comparing two matrices: structured cell changes and a unified diff of their renderings.
+
+use crate::plan::matrix::{Cell, Matrix, Outcome};
+use crate::solve::Cause;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// What a cell says, in brief.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct CellBrief {
+    pub outcome: Outcome,
+    pub cause: Option<Cause>,
+    pub version: Option<String>,
+    pub missing_system_packages: Vec<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub recorded: Option<String>,
+}
+
+impl CellBrief {
+    fn of(c: &Cell) -> CellBrief {
+        CellBrief {
+            outcome: c.outcome,
+            cause: c.cause,
+            version: c.root_version.clone(),
+            missing_system_packages: c.missing_system_packages.clone(),
+            recorded: c.recorded.as_ref().map(|r| r.recorded.clone()),
+        }
+    }
+}
+
+/// One cell that differs; `None` on a side where the cell does not exist.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct CellChange {
+    pub package: String,
+    pub image: String,
+    pub before: Option<CellBrief>,
+    pub after: Option<CellBrief>,
+}
+
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct MatrixDiff {
+    pub changes: Vec<CellChange>,
+    /// Unified diff of the two renderings; empty when they are equal.
+    pub unified: String,
+}
+
+/// Cells of `before` and `after` that differ, in `after`'s order (then cells only in
+/// `before`), and a unified diff of `render` applied to each.
+pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String) -> MatrixDiff {
+    let key = |c: &Cell| (c.package.clone(), c.image.clone());
+    let old: BTreeMap<(String, String), &Cell> = before.cells.iter().map(|c| (key(c), c)).collect();
+    let mut seen = std::collections::BTreeSet::new();
+    let mut changes = Vec::new();
+    for c in &after.cells {
+        let k = key(c);
+        let b = old.get(&k).map(|c| CellBrief::of(c));
+        let a = Some(CellBrief::of(c));
+        if b != a {
+            changes.push(CellChange {
+                package: c.package.clone(),
+                image: c.image.clone(),
+                before: b,
+                after: a,
+            });
+        }
+        seen.insert(k);
+    }
+    for c in &before.cells {
+        if !seen.contains(&key(c)) {
+            changes.push(CellChange {
+                package: c.package.clone(),
+                image: c.image.clone(),
+                before: Some(CellBrief::of(c)),
+                after: None,
+            });
+        }
+    }
+    let (ra, rb) = (render(before), render(after));
+    let unified = if ra == rb {
+        String::new()
+    } else {
+        similar::TextDiff::from_lines(&ra, &rb)
+            .unified_diff()
+            .context_radius(2)
+            .header("before", "after")
+            .to_string()
+    };
+    MatrixDiff { changes, unified }
+}
