@@ -281,3 +281,28 @@ pub fn diff(o: &DiffCommand) -> Result<Output> {
         },
     })
 }
+
+pub struct SystemCommand {
+    pub inputs: InputPaths,
+    pub strict: bool,
+    pub plan: PlanOptions,
+    pub format: Format,
+}
+
+/// `syslibs`: native evidence per package, missing system packages per image with the weight
+/// they unblock, and one install command per OS family. Exit 1 when anything is missing.
+pub fn system(o: &SystemCommand) -> Result<Output> {
+    let inputs = load(&o.inputs, o.strict)?;
+    let matrix = plan::plan(&inputs, &o.plan);
+    let r = plan::system::system_report(&inputs, &matrix);
+    let stdout = match o.format {
+        Format::Json => report::to_json(&r),
+        _ => text::system_text(&r),
+    };
+    let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
+    Ok(Output {
+        stdout,
+        stderr: Vec::new(),
+        exit: if any_missing { exit::FOUND } else { exit::OK },
+    })
+}

@@ -45,6 +45,11 @@ enum Command {
     /// Compare two matrices written by `plan`: changed cells and a unified diff.
     #[command(after_help = "Example:\n  basefit diff before/matrix.json after/matrix.json")]
     Diff(DiffArgs),
+    /// Native system libraries: evidence per package, what each image lacks, install commands.
+    #[command(
+        after_help = "Example:\n  basefit syslibs --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml"
+    )]
+    Syslibs(SyslibsArgs),
 }
 
 #[derive(Args, Clone)]
@@ -196,6 +201,27 @@ fn run_diff(a: DiffArgs) -> anyhow::Result<Output> {
     })
 }
 
+#[derive(Args)]
+struct SyslibsArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
+}
+
+fn run_syslibs(a: SyslibsArgs) -> anyhow::Result<Output> {
+    with_threads(a.solve.threads, || {
+        commands::system(&commands::SystemCommand {
+            inputs: a.input.paths(&[]),
+            strict: a.input.strict,
+            plan: a.solve.options(),
+            format: a.format,
+        })
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -250,6 +276,7 @@ fn main() -> ExitCode {
         Command::Explain(a) => run_explain(a),
         Command::Review(a) => run_review(a),
         Command::Diff(a) => run_diff(a),
+        Command::Syslibs(a) => run_syslibs(a),
     };
     match result {
         Ok(out) => {

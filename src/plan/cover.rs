@@ -170,7 +170,7 @@ pub struct Blocked {
 }
 
 /// One step of the advice: the system packages to add and what adding them unblocks.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct AdviceStep {
     /// The packages added in this step, in name order.
     pub add: Vec<String>,

@@ -6,5 +6,6 @@ pub mod cover;
 pub mod explain;
 pub mod fusion;
 pub mod matrix;
+pub mod system;
 
 pub use matrix::{Cell, Matrix, Outcome, PlanOptions, plan, summarise};

@@ -494,3 +494,70 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
     out.push_str(&d.unified);
     out
 }
+
+/// The system-package report for people.
+pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
+    let mut out = String::new();
+    out.push_str("native evidence per package (chosen release):\n");
+    if r.packages.is_empty() {
+        out.push_str("  none\n");
+    }
+    for p in &r.packages {
+        let conf = p.confidence.map(kebab).unwrap_or_default();
+        let _ = writeln!(out, "  {} {} [{conf}]", p.package, p.version);
+        for e in &p.own {
+            let lib = e.library.as_deref().unwrap_or("(unnamed native build)");
+            let _ = writeln!(out, "    {lib} [{}]: {}", kebab(e.confidence), e.detail);
+        }
+        for (lib, c, via) in &p.through {
+            let _ = writeln!(
+                out,
+                "    {} [{}] through {via}",
+                lib.as_deref().unwrap_or("(unnamed native build)"),
+                kebab(*c)
+            );
+        }
+    }
+    out.push_str("\nmissing system packages per image (weight = priority weight of the cells that lack it):\n");
+    for i in &r.images {
+        if i.missing.is_empty() {
+            let _ = writeln!(out, "  {}: nothing missing", i.image);
+            continue;
+        }
+        let _ = writeln!(out, "  {} ({}):", i.image, i.family);
+        for m in &i.missing {
+            let _ = writeln!(
+                out,
+                "    {} [{}] weight {:.2}: {}",
+                m.package,
+                kebab(m.strongest),
+                m.weight,
+                m.needed_by.join(", ")
+            );
+        }
+        if !i.advice.is_empty() {
+            out.push_str("    add in this order (greedy; stop where the gain gets small):\n");
+            for (n, s) in i.advice.iter().enumerate() {
+                let _ = writeln!(
+                    out,
+                    "      {}. {}  +{:.2} (total {:.2})",
+                    n + 1,
+                    s.add.join(" "),
+                    s.gain,
+                    s.cumulative
+                );
+            }
+        }
+        if let Some(c) = &i.command {
+            let _ = writeln!(out, "    {c}");
+        }
+    }
+    if !r.families.is_empty() {
+        out.push_str("\nper OS family, everything missing on any of its images:\n");
+        for f in &r.families {
+            let _ = writeln!(out, "  {}: {}", f.family, f.command);
+        }
+    }
+    let _ = writeln!(out, "\n{NOTICE}");
+    out
+}

@@ -1,0 +1,179 @@
+//! System packages per image: who needs what, what each image lacks and what adding it
+//! would unblock, built from a planned matrix.
+
+use super::cover::{AdviceStep, Blocked, advise};
+use super::matrix::{Matrix, Outcome};
+use crate::load::Inputs;
+use crate::model::OsFamily;
+use crate::native::{self, Confidence, Evidence};
+use serde::Serialize;
+use std::collections::{BTreeMap, BTreeSet};
+
+/// The native evidence of one priority entry's chosen release.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PackageEvidence {
+    pub package: String,
+    /// The release the evidence is for: the newest one chosen on any image.
+    pub version: String,
+    /// Strongest confidence over the package itself and its closure.
+    pub confidence: Option<Confidence>,
+    pub own: Vec<Evidence>,
+    /// Needs that come through other packages of the closure: (library, confidence, via).
+    pub through: Vec<(Option<String>, Confidence, String)>,
+}
+
+/// One missing system package on one image.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MissingPackage {
+    pub package: String,
+    pub strongest: Confidence,
+    /// Entries whose cell lists it as missing.
+    pub needed_by: Vec<String>,
+    /// Priority weight of the cells that would no longer lack it.
+    pub weight: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImageNeeds {
+    pub image: String,
+    pub family: OsFamily,
+    pub missing: Vec<MissingPackage>,
+    /// Greedy advice: packages in the order that unblocks the most weight per package added.
+    pub advice: Vec<AdviceStep>,
+    pub command: Option<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FamilyCommand {
+    pub family: OsFamily,
+    pub packages: Vec<String>,
+    pub command: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SystemReport {
+    pub packages: Vec<PackageEvidence>,
+    pub images: Vec<ImageNeeds>,
+    pub families: Vec<FamilyCommand>,
+}
+
+/// Builds the report from a planned `matrix` of `inputs`.
+pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
+    let registry = &inputs.registry;
+    let n = matrix.images.len();
+    let mut packages = Vec::new();
+    for (r, row) in matrix.packages.iter().enumerate() {
+        let cells = matrix.row(r);
+        // The newest version chosen anywhere stands for the package.
+        let chosen = cells
+            .iter()
+            .filter_map(|c| {
+                c.root_version
+                    .as_ref()
+                    .and_then(|v| semver::Version::parse(v).ok())
+                    .map(|v| (v, c))
+            })
+            .max_by(|a, b| a.0.cmp(&b.0));
+        let Some((version, cell)) = chosen else {
+            continue;
+        };
+        let Some(id) = registry.id(&row.name) else {
+            continue;
+        };
+        let Some(index) = registry.find_release(id, &version) else {
+            continue;
+        };
+        let own = native::release_evidence(registry, &inputs.catalog, id, index);
+        let through: Vec<(Option<String>, Confidence, String)> = cell
+            .native_needs
+            .iter()
+            .filter(|nd| nd.via != row.name)
+            .map(|nd| (nd.library.clone(), nd.confidence, nd.via.clone()))
+            .collect();
+        let confidence = own
+            .iter()
+            .map(|e| e.confidence)
+            .chain(through.iter().map(|t| t.1))
+            .max();
+        if confidence.is_none() {
+            continue;
+        }
+        packages.push(PackageEvidence {
+            package: row.name.clone(),
+            version: version.to_string(),
+            confidence,
+            own,
+            through,
+        });
+    }
+    let mut images = Vec::new();
+    let mut by_family: BTreeMap<OsFamily, BTreeSet<String>> = BTreeMap::new();
+    for (col, image) in inputs.images.images.iter().enumerate() {
+        let mut missing: BTreeMap<String, MissingPackage> = BTreeMap::new();
+        let mut blocked = Vec::new();
+        for (r, row) in matrix.packages.iter().enumerate() {
+            let cell = &matrix.cells[r * n + col];
+            if cell.missing_system_packages.is_empty()
+                || !matches!(cell.outcome, Outcome::Fails | Outcome::AtRisk)
+            {
+                continue;
+            }
+            let strongest = cell
+                .native_needs
+                .iter()
+                .map(|nd| nd.confidence)
+                .max()
+                .unwrap_or(Confidence::Possible);
+            for p in &cell.missing_system_packages {
+                let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
+                    package: p.clone(),
+                    strongest,
+                    needed_by: Vec::new(),
+                    weight: 0.0,
+                });
+                m.strongest = m.strongest.max(strongest);
+                m.needed_by.push(row.name.clone());
+                m.weight += row.weight;
+            }
+            blocked.push(Blocked {
+                weight: row.weight,
+                missing: cell.missing_system_packages.iter().cloned().collect(),
+            });
+        }
+        let mut missing: Vec<MissingPackage> = missing.into_values().collect();
+        missing.sort_by(|a, b| {
+            b.weight
+                .total_cmp(&a.weight)
+                .then(a.package.cmp(&b.package))
+        });
+        let names: Vec<String> = missing.iter().map(|m| m.package.clone()).collect();
+        by_family
+            .entry(image.family)
+            .or_default()
+            .extend(names.iter().cloned());
+        images.push(ImageNeeds {
+            image: image.id.clone(),
+            family: image.family,
+            advice: advise(&blocked),
+            command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
+            missing,
+        });
+    }
+    let families = by_family
+        .into_iter()
+        .filter(|(_, p)| !p.is_empty())
+        .map(|(family, p)| {
+            let packages: Vec<String> = p.into_iter().collect();
+            FamilyCommand {
+                family,
+                command: native::install_command(family, &packages),
+                packages,
+            }
+        })
+        .collect();
+    SystemReport {
+        packages,
+        images,
+        families,
+    }
+}
