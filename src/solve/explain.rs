@@ -223,6 +223,16 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         match fact {
             Fact::NoVersions(p) => {
                 let set = &facts.no_versions[p];
+                // Past the published releases (pubgrub derives these from exhausted ranges):
+                // a consequence, not a cause. Empty requirements are reported where they are
+                // stated, on the dependency.
+                if registry.package(*p).declared
+                    && indices(set, registry.package(*p).releases.len())
+                        .next()
+                        .is_none()
+                {
+                    continue;
+                }
                 let (cause, phrase) = unusable(view, *p, set);
                 let name = registry.name(*p);
                 lines.push(if registry.package(*p).declared {

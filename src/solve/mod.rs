@@ -202,9 +202,9 @@ pub fn solve_with_root_set(
             }
         }
         Err(PubGrubError::NoSolution(err)) => {
-            let mut tree = err;
-            tree.collapse_no_versions();
-            Solved::Fails(explain::explain(view, root_id, &tree))
+            // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
+            // cause; the explainer merges them per package itself.
+            Solved::Fails(explain::explain(view, root_id, &err))
         }
         Err(PubGrubError::ErrorInShouldCancel(e)) => Solved::Undecided { steps: e.steps },
         Err(PubGrubError::ErrorChoosingVersion { source, .. })
