@@ -394,24 +394,11 @@ pub fn review_text(r: &crate::verify::Review, ledger: &Ledger) -> String {
     for o in &r.outside_matrix {
         let _ = writeln!(out, "not compared: {o}");
     }
-    let left_out = ledger
-        .problems
-        .iter()
-        .filter(|p| {
-            p.left_out
-                && matches!(
-                    p.kind,
-                    crate::load::diag::ProblemKind::UnknownImage
-                        | crate::load::diag::ProblemKind::UnknownPackage
-                        | crate::load::diag::ProblemKind::BadValue
-                        | crate::load::diag::ProblemKind::UnreadableVersion
-                )
-        })
-        .count();
-    if left_out > 0 {
+    if !ledger.is_clean() {
         let _ = writeln!(
             out,
-            "\n{left_out} input records were left out (run `basefit check` for the list)"
+            "\nnote: {} data-quality problems in the inputs (run `basefit check` for the list)",
+            ledger.problems.len()
         );
     }
     let _ = writeln!(out, "\n{NOTICE}");
