@@ -83,6 +83,9 @@ pub struct PlanCommand {
     pub format: Format,
     /// Shared blockers shown per image.
     pub blockers: usize,
+    /// A plan cache: read when it exists, so unchanged cells are reused; written afterwards.
+    pub cache: Option<PathBuf>,
+    pub shard: Option<plan::replan::Shard>,
 }
 
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
@@ -95,10 +98,33 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         )
         .into());
     }
-    let matrix = plan::plan(&inputs, &o.plan);
+    let previous = match &o.cache {
+        Some(p) if p.exists() => Some(read_cache(p)?),
+        _ => None,
+    };
+    let (matrix, cache, stats) = plan::replan::replan(&inputs, &o.plan, previous.as_ref(), o.shard);
     let mut out = Output::default();
     if let Some(dir) = &o.out {
         write_matrix(&matrix, dir, &mut out)?;
+    }
+    if let Some(p) = &o.cache {
+        report::write_atomic(p, serde_json::to_string(&cache)?.as_bytes())?;
+        out.stderr.push(format!(
+            "plan cache {}: {} cells reused, {} solved",
+            p.display(),
+            stats.reused,
+            stats.solved
+        ));
+    }
+    if let Some(s) = o.shard {
+        out.stdout = format!(
+            "shard {}/{}: {} of {} cells planned; merge the shards with `basefit merge`\n",
+            s.index,
+            s.count,
+            matrix.cells.len(),
+            matrix.packages.len() * matrix.images.len()
+        );
+        return Ok(out);
     }
     let summary = plan::summarise(&matrix);
     let shared = blockers::shared_blockers(&matrix, o.blockers);
@@ -119,6 +145,50 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         }
     };
     Ok(out)
+}
+
+fn read_cache(path: &std::path::Path) -> Result<plan::replan::PlanCache, BadInput> {
+    let text = crate::load::diag::read_text(path)?;
+    serde_json::from_str(&text).map_err(|e| {
+        BadInput::at(
+            path.display().to_string(),
+            e.line(),
+            format!("not a basefit plan cache ({e}); delete it to plan from scratch"),
+        )
+    })
+}
+
+pub struct MergeCommand {
+    pub shards: Vec<PathBuf>,
+    pub out: PathBuf,
+}
+
+/// `merge`: shard matrices into the matrix one run gives.
+pub fn merge(o: &MergeCommand) -> Result<Output> {
+    let mut parts = Vec::new();
+    for p in &o.shards {
+        parts.push(read_shard(p)?);
+    }
+    let merged = plan::replan::merge_shards(parts).map_err(|e| BadInput::file("shards", e))?;
+    let mut out = Output::default();
+    write_matrix(&merged, &o.out, &mut out)?;
+    out.stdout = format!(
+        "{} cells from {} shards\n",
+        merged.cells.len(),
+        o.shards.len()
+    );
+    Ok(out)
+}
+
+fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
+    let text = crate::load::diag::read_text(path)?;
+    serde_json::from_str(&text).map_err(|e| {
+        BadInput::at(
+            path.display().to_string(),
+            e.line(),
+            format!("not a basefit matrix: {e}"),
+        )
+    })
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.

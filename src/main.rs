@@ -50,6 +50,11 @@ enum Command {
         after_help = "Example:\n  basefit syslibs --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml"
     )]
     Syslibs(SyslibsArgs),
+    /// Combine shard matrices (from `plan --shard K/N --out DIR`) into the whole matrix.
+    #[command(
+        after_help = "Example:\n  basefit merge --out out/ shard1/matrix.json shard2/matrix.json"
+    )]
+    Merge(MergeArgs),
 }
 
 #[derive(Args, Clone)]
@@ -133,6 +138,12 @@ struct PlanArgs {
     /// Shared blockers listed per image.
     #[arg(long, default_value_t = 3)]
     blockers: usize,
+    /// Plan cache file: unchanged cells of the previous plan are reused, then it is rewritten.
+    #[arg(long, value_name = "FILE")]
+    cache: Option<PathBuf>,
+    /// Plan only shard K of N (cells with index % N == K-1); merge shards with `merge`.
+    #[arg(long, value_name = "K/N", value_parser = basefit::plan::replan::Shard::parse)]
+    shard: Option<basefit::plan::replan::Shard>,
     #[arg(long, value_enum, default_value = "table")]
     format: Format,
 }
@@ -222,6 +233,23 @@ fn run_syslibs(a: SyslibsArgs) -> anyhow::Result<Output> {
     })
 }
 
+#[derive(Args)]
+struct MergeArgs {
+    /// Shard matrices (matrix.json of each shard run).
+    #[arg(required = true)]
+    shards: Vec<PathBuf>,
+    /// Folder for the merged matrix.yaml and matrix.json.
+    #[arg(long, value_name = "DIR")]
+    out: PathBuf,
+}
+
+fn run_merge(a: MergeArgs) -> anyhow::Result<Output> {
+    commands::merge(&commands::MergeCommand {
+        shards: a.shards,
+        out: a.out,
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -239,6 +267,8 @@ fn run_plan(a: PlanArgs) -> anyhow::Result<Output> {
             out: a.out.clone(),
             format: a.format,
             blockers: a.blockers,
+            cache: a.cache.clone(),
+            shard: a.shard,
         })
     })
 }
@@ -277,6 +307,7 @@ fn main() -> ExitCode {
         Command::Review(a) => run_review(a),
         Command::Diff(a) => run_diff(a),
         Command::Syslibs(a) => run_syslibs(a),
+        Command::Merge(a) => run_merge(a),
     };
     match result {
         Ok(out) => {

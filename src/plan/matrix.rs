@@ -3,8 +3,7 @@
 use crate::load::Inputs;
 use crate::model::{Image, PackageId, Priority};
 use crate::native::{self, Confidence};
-use crate::solve::{self, BuildKind, Cause, ImageView, RootSpec, SetCache, Solved};
-use rayon::prelude::*;
+use crate::solve::{self, BuildKind, Cause, ImageView, RootSpec, Solved};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -150,6 +149,9 @@ pub struct Matrix {
     pub images: Vec<ImageColumn>,
     pub packages: Vec<PackageRow>,
     pub cells: Vec<Cell>,
+    /// Set on a shard's partial matrix; merge the shards to get the whole one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub shard: Option<super::replan::Shard>,
 }
 
 impl Matrix {
@@ -328,39 +330,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
 /// Plans every priority entry on every image. Cells are solved in parallel on the current
 /// rayon pool; the result does not depend on the number of threads.
 pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
-    plan_selected(inputs, options, |_| true)
-}
-
-/// Plans the cells whose flat index (row * images + column) `select` accepts; the others are
-/// left out of the returned matrix's cells. Used for sharding.
-pub fn plan_selected(
-    inputs: &Inputs,
-    options: &PlanOptions,
-    select: impl Fn(usize) -> bool + Sync,
-) -> Matrix {
-    let sets = SetCache::default();
-    let views: Vec<ImageView<'_>> = inputs
-        .images
-        .images
-        .iter()
-        .map(|img| ImageView::new(&inputs.registry, img, &sets))
-        .collect();
-    let n_images = views.len();
-    let total = inputs.priorities.entries.len() * n_images;
-    let cells: Vec<Cell> = (0..total)
-        .into_par_iter()
-        .filter(|i| select(*i))
-        .map(|i| {
-            let entry = &inputs.priorities.entries[i / n_images];
-            plan_cell(inputs, &views[i % n_images], entry, options)
-        })
-        .collect();
-    Matrix {
-        notice: NOTICE.to_string(),
-        images: image_columns(inputs),
-        packages: package_rows(inputs),
-        cells,
-    }
+    super::replan::replan(inputs, options, None, None).0
 }
 
 pub fn image_columns(inputs: &Inputs) -> Vec<ImageColumn> {

@@ -6,6 +6,7 @@ pub mod cover;
 pub mod explain;
 pub mod fusion;
 pub mod matrix;
+pub mod replan;
 pub mod system;
 
 pub use matrix::{Cell, Matrix, Outcome, PlanOptions, plan, summarise};

@@ -135,6 +135,11 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Package(id) => {
                 let registry = self.view.registry;
                 let release = &registry.package(*id).releases[*version as usize];
+                // Dependency targets count as consulted even if never decided: their release
+                // lists shape the requirement sets the solver reasons with.
+                self.touched
+                    .borrow_mut()
+                    .extend(release.runtime_deps().map(|d| d.package));
                 let mut deps: Vec<(Node, IndexSet)> = Vec::with_capacity(release.deps.len() + 1);
                 if release.runtime.is_some() {
                     // Admissible releases meet the image's runtime; stating the dependency keeps

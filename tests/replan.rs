@@ -1,0 +1,116 @@
+//! Incremental re-plans give exactly a cold plan's results; shards merge into exactly the
+//! bytes of a single run.
+
+use basefit::load::{InputPaths, Inputs, load_inputs};
+use basefit::plan::replan::{Shard, merge_shards, replan};
+use basefit::plan::{Matrix, PlanOptions, plan};
+use basefit::report::{to_json, to_yaml};
+
+fn demo() -> Inputs {
+    load_inputs(&InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        ..Default::default()
+    })
+    .unwrap()
+}
+
+#[test]
+fn shards_merge_into_the_single_run() {
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let whole = plan(&inputs, &options);
+    for count in [1, 3, 7] {
+        let parts: Vec<Matrix> = (1..=count)
+            .map(|index| {
+                let (m, _, _) = replan(&inputs, &options, None, Some(Shard { index, count }));
+                // Through JSON, as the merge command reads shard files.
+                serde_json::from_str(&to_json(&m)).unwrap()
+            })
+            .collect();
+        let total: usize = parts.iter().map(|p| p.cells.len()).sum();
+        assert_eq!(total, whole.cells.len());
+        let merged = merge_shards(parts).unwrap();
+        assert!(
+            to_json(&merged) == to_json(&whole),
+            "JSON differs for {count} shards"
+        );
+        assert!(
+            to_yaml(&merged) == to_yaml(&whole),
+            "YAML differs for {count} shards"
+        );
+    }
+}
+
+#[test]
+fn merging_refuses_incomplete_or_repeated_shards() {
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let shard = |index| replan(&inputs, &options, None, Some(Shard { index, count: 3 })).0;
+    assert!(
+        merge_shards(vec![shard(1), shard(2)])
+            .unwrap_err()
+            .contains("shard 3/3 is missing")
+    );
+    assert!(
+        merge_shards(vec![shard(1), shard(1), shard(3)])
+            .unwrap_err()
+            .contains("given twice")
+    );
+}
+
+#[test]
+fn replan_after_a_change_reuses_what_it_can_and_equals_a_cold_plan() {
+    let mut inputs = demo();
+    let options = PlanOptions::default();
+    let (first, cache, stats) = replan(&inputs, &options, None, None);
+    assert_eq!(stats.reused, 0);
+    // Unchanged inputs: everything is reused.
+    let (again, cache, stats) = replan(&inputs, &options, Some(&cache), None);
+    assert_eq!(stats.solved, 0);
+    assert!(to_json(&again) == to_json(&first));
+    // wattle-core's 2.x line stops needing runtime >= 3.1: every cell that consulted it is
+    // solved again, the rest is reused.
+    let id = inputs.registry.id("wattle-core").unwrap();
+    let relaxed = inputs.registry.intern_requirement(">=2.4").unwrap();
+    for r in &mut inputs.registry.package_mut(id).releases {
+        if r.version.major == 2 {
+            r.runtime = Some(relaxed);
+        }
+    }
+    let (warm, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    let cold = plan(&inputs, &options);
+    assert!(
+        to_json(&warm) == to_json(&cold),
+        "re-plan differs from a cold plan"
+    );
+    assert!(stats.reused > 0 && stats.solved > 0, "{stats:?}");
+    assert!(to_json(&cold) != to_json(&first), "the change must matter");
+    // A cell that never looked at wattle-core was reused, one that did was solved again.
+    let saltbush_before = first.cell("saltbush", "deb-2.4").unwrap();
+    let saltbush_after = warm.cell("saltbush", "deb-2.4").unwrap();
+    assert_ne!(saltbush_before.outcome, saltbush_after.outcome);
+}
+
+#[test]
+fn a_changed_image_or_option_invalidates_its_cells() {
+    let mut inputs = demo();
+    let options = PlanOptions::default();
+    let (_, cache, _) = replan(&inputs, &options, None, None);
+    inputs.images.images[0]
+        .system_packages
+        .insert("libxml2-dev-extra".into());
+    let (_, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    assert_eq!(
+        stats.solved,
+        inputs.priorities.entries.len(),
+        "one image's column is solved again"
+    );
+    let other = PlanOptions {
+        budget: 7,
+        ..PlanOptions::default()
+    };
+    let (_, _, stats) = replan(&inputs, &other, Some(&cache), None);
+    assert_eq!(stats.reused, 0);
+}
