@@ -103,6 +103,9 @@ struct SolveArgs {
     /// Worker threads (default: all cores). Output is identical at any count.
     #[arg(long)]
     threads: Option<usize>,
+    /// No progress bar.
+    #[arg(long)]
+    quiet: bool,
 }
 
 impl SolveArgs {
@@ -111,6 +114,7 @@ impl SolveArgs {
             budget: self.budget,
             native: !self.no_native,
             closures: true,
+            progress: progress_bar(self.quiet),
         }
     }
 }
@@ -282,6 +286,20 @@ fn run_explain(a: ExplainArgs) -> anyhow::Result<Output> {
         image: a.image,
         format: a.format,
     })
+}
+
+/// A progress bar on stderr, only when stderr is a terminal and `--quiet` is not given.
+fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
+    use std::io::IsTerminal;
+    if quiet || !std::io::stderr().is_terminal() {
+        return None;
+    }
+    let pb = indicatif::ProgressBar::new(0);
+    let style =
+        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} cells, {per_sec}, eta {eta}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar());
+    pb.set_style(style);
+    Some(pb)
 }
 
 /// Runs `f` on a rayon pool of `threads` workers (the global pool when not given).

@@ -176,6 +176,8 @@ pub struct PlanOptions {
     pub native: bool,
     /// Keep the full closure of each cell in the output.
     pub closures: bool,
+    /// Advanced once per planned cell; the command layer shows it on a terminal only.
+    pub progress: Option<indicatif::ProgressBar>,
 }
 
 impl Default for PlanOptions {
@@ -184,6 +186,7 @@ impl Default for PlanOptions {
             budget: solve::DEFAULT_BUDGET,
             native: true,
             closures: true,
+            progress: None,
         }
     }
 }

@@ -227,10 +227,19 @@ pub fn replan(
     let image_keys: Vec<u64> = inputs.images.images.iter().map(image_fingerprint).collect();
     let n_images = views.len();
     let total = inputs.priorities.entries.len() * n_images;
+    if let Some(pb) = &options.progress {
+        pb.set_length(match shard {
+            Some(s) => (0..total).filter(|i| s.contains(*i)).count() as u64,
+            None => total as u64,
+        });
+    }
     let results: Vec<(CachedCell, bool)> = (0..total)
         .into_par_iter()
         .filter(|i| shard.is_none_or(|s| s.contains(*i)))
         .map(|i| {
+            if let Some(pb) = &options.progress {
+                pb.inc(1);
+            }
             let entry = &inputs.priorities.entries[i / n_images];
             let col = i % n_images;
             let entry_key = entry_fingerprint(entry);
@@ -267,6 +276,9 @@ pub fn replan(
             )
         })
         .collect();
+    if let Some(pb) = &options.progress {
+        pb.finish_and_clear();
+    }
     let stats = ReplanStats {
         reused: results.iter().filter(|r| r.1).count(),
         solved: results.iter().filter(|r| !r.1).count(),
