@@ -3,9 +3,11 @@
 
 pub mod blockers;
 pub mod cover;
+pub mod coverage;
 pub mod explain;
 pub mod fusion;
 pub mod matrix;
+pub mod preinstall;
 pub mod system;
 
 pub use matrix::{Cell, Matrix, Outcome, PlanOptions, plan, summarise};
