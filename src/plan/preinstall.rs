@@ -73,11 +73,11 @@ pub fn preinstall(
     for entry in &inputs.priorities.entries {
         let cell = plan_cell(inputs, &view, entry, options);
         if !cell.outcome.resolves() {
-            let why = cell
-                .explanation
-                .last()
-                .cloned()
-                .unwrap_or_else(|| "does not resolve".to_string());
+            let why = if cell.explanation.is_empty() {
+                "does not resolve".to_string()
+            } else {
+                cell.explanation.join("; ")
+            };
             let cause = cell
                 .cause
                 .map(|c| c.as_str())
