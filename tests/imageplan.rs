@@ -349,3 +349,40 @@ fn svg_escapes_its_text() {
     assert!(svg.contains("3.0.0&lt;/text&gt;&lt;script&gt;"));
     assert_eq!(svg.matches("<circle class=\"point\"").count(), 1);
 }
+
+#[test]
+fn command_writes_yaml_and_svg() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |n: &str| dir.path().join(n);
+    std::fs::write(path("r.yaml"), PRE_REGISTRY).unwrap();
+    std::fs::write(path("i.yaml"), ONE_IMAGE).unwrap();
+    std::fs::write(path("p.yaml"), PRE_PRIORITIES).unwrap();
+    let o = basefit::commands::ImageplanCommand {
+        inputs: basefit::load::InputPaths {
+            registry: vec![path("r.yaml")],
+            images: Some(path("i.yaml")),
+            priorities: Some(path("p.yaml")),
+            ..Default::default()
+        },
+        strict: false,
+        plan: PlanOptions::default(),
+        images: vec!["deb".to_string()],
+        runtimes: vec![v("3.0.5"), v("3.1.2")],
+        target: 0.95,
+        out: Some(path("out")),
+    };
+    let out = basefit::commands::imageplan(&o).unwrap();
+    let yaml = std::fs::read_to_string(path("out/imageplan.yaml")).unwrap();
+    let svg = std::fs::read_to_string(path("out/coverage.svg")).unwrap();
+    assert!(yaml.contains("preinstall:") && yaml.contains("coverage:"));
+    assert_eq!(svg.matches("<circle class=\"point\"").count(), 2);
+    assert!(out.stdout.contains("left out legacy"), "{}", out.stdout);
+    let again = basefit::commands::imageplan(&o).unwrap();
+    assert_eq!(out.stdout, again.stdout, "deterministic output");
+
+    let bad = basefit::commands::ImageplanCommand {
+        images: vec!["nope".to_string()],
+        ..o
+    };
+    assert!(basefit::commands::imageplan(&bad).is_err());
+}
