@@ -376,3 +376,149 @@ pub fn system(o: &SystemCommand) -> Result<Output> {
         exit: if any_missing { exit::FOUND } else { exit::OK },
     })
 }
+
+pub struct ImageplanCommand {
+    pub inputs: InputPaths,
+    pub strict: bool,
+    pub plan: PlanOptions,
+    /// Image ids to plan; empty means every declared image.
+    pub images: Vec<String>,
+    /// Candidate runtimes for coverage; empty means the declared images' runtimes.
+    pub runtimes: Vec<semver::Version>,
+    /// Share of priority weight a runtime must resolve to count as covering.
+    pub target: f64,
+    /// Folder for imageplan.yaml and coverage.svg.
+    pub out: Option<PathBuf>,
+}
+
+/// The document `imageplan` writes.
+#[derive(Debug, serde::Serialize)]
+pub struct ImagePlan {
+    pub notice: String,
+    pub target: f64,
+    pub coverage: Vec<plan::coverage::Coverage>,
+    pub system: plan::system::SystemReport,
+    pub preinstall: Vec<plan::preinstall::Preinstall>,
+}
+
+/// Builds the image plan for the selected images: runtime coverage per base image,
+/// system-package advice and the pre-install set of each image.
+pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePlan, BadInput> {
+    if !(0.0..=1.0).contains(&o.target) {
+        return Err(BadInput::file(
+            "command line",
+            format!("--target {} must be between 0 and 1", o.target),
+        ));
+    }
+    let mut selected = Vec::new();
+    for id in &o.images {
+        match inputs.images.get(id) {
+            Some(img)
+                if !selected
+                    .iter()
+                    .any(|s: &crate::model::Image| s.id == img.id) =>
+            {
+                selected.push(img.clone())
+            }
+            Some(_) => {}
+            None => {
+                return Err(BadInput::file(
+                    "command line",
+                    format!("--image {id}: no such image in --images"),
+                ));
+            }
+        }
+    }
+    if o.images.is_empty() {
+        selected = inputs.images.images.clone();
+    }
+    let runtimes = if o.runtimes.is_empty() {
+        plan::coverage::declared_runtimes(inputs)
+    } else {
+        o.runtimes.clone()
+    };
+    let sets = crate::solve::SetCache::default();
+    let coverage = plan::coverage::default_bases(&selected)
+        .into_iter()
+        .map(|base| plan::coverage::coverage(inputs, base, &runtimes, o.target, &o.plan, &sets))
+        .collect();
+    // The system report walks every image of its inputs, so it gets inputs narrowed to the
+    // selection rather than a filtered copy of a full report.
+    let narrowed = Inputs {
+        images: crate::model::ImageSet {
+            images: selected.clone(),
+        },
+        ..inputs.clone()
+    };
+    let matrix = plan::plan(&narrowed, &o.plan);
+    let system = plan::system::system_report(&narrowed, &matrix);
+    let preinstall = selected
+        .iter()
+        .map(|img| plan::preinstall::preinstall(inputs, img, &o.plan, &sets))
+        .collect();
+    Ok(ImagePlan {
+        notice: plan::matrix::NOTICE.to_string(),
+        target: o.target,
+        coverage,
+        system,
+        preinstall,
+    })
+}
+
+/// `imageplan`: coverage by runtime, system packages and pre-install sets per image, written
+/// as `imageplan.yaml` and `coverage.svg` with `--out`.
+pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
+    let inputs = load(&o.inputs, o.strict)?;
+    if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
+        return Err(BadInput::file(
+            "command line",
+            "imageplan needs --images and --priorities with at least one entry each",
+        )
+        .into());
+    }
+    let p = build_imageplan(&inputs, o)?;
+    let mut out = Output::default();
+    if let Some(dir) = &o.out {
+        let yaml = dir.join("imageplan.yaml");
+        report::write_atomic(&yaml, report::to_yaml(&p).as_bytes())?;
+        out.stderr.push(format!("wrote {}", yaml.display()));
+        // One chart per base image; the first keeps the plain name the docs promise.
+        for (i, c) in p.coverage.iter().enumerate() {
+            let name = if i == 0 {
+                "coverage.svg".to_string()
+            } else {
+                format!("coverage-{}.svg", sanitize(&c.base_image))
+            };
+            let path = dir.join(name);
+            report::write_atomic(&path, plan::coverage::coverage_svg(c).as_bytes())?;
+            out.stderr.push(format!("wrote {}", path.display()));
+        }
+    }
+    // The system report's text already ends with the notice, so it is not repeated here.
+    let mut s = String::new();
+    for c in &p.coverage {
+        s.push_str(&plan::coverage::coverage_text(c));
+        s.push('\n');
+    }
+    s.push_str(&text::system_text(&p.system));
+    s.push('\n');
+    for pre in &p.preinstall {
+        s.push_str(&plan::preinstall::preinstall_text(pre));
+        s.push('\n');
+    }
+    out.stdout = s;
+    Ok(out)
+}
+
+/// A file-name-safe form of an image id.
+fn sanitize(id: &str) -> String {
+    id.chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '.' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect()
+}

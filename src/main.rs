@@ -55,6 +55,11 @@ enum Command {
         after_help = "Example:\n  basefit merge --out out/ shard1/matrix.json shard2/matrix.json"
     )]
     Merge(MergeArgs),
+    /// Plan images: runtime coverage, system-package advice and a pre-install set per image.
+    #[command(
+        after_help = "Example:\n  basefit imageplan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --image debian-2.4 --runtimes 3.0.5,3.1.2 \\\n    --target 0.95 --out out/"
+    )]
+    Imageplan(ImageplanArgs),
 }
 
 #[derive(Args, Clone)]
@@ -254,6 +259,40 @@ fn run_merge(a: MergeArgs) -> anyhow::Result<Output> {
     })
 }
 
+#[derive(Args)]
+struct ImageplanArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    /// Image id to plan (repeatable; default: every image).
+    #[arg(long = "image", value_name = "ID")]
+    image: Vec<String>,
+    /// Candidate runtime versions for coverage, comma-separated (default: the images' runtimes).
+    #[arg(long, value_delimiter = ',', value_name = "VERSIONS")]
+    runtimes: Vec<semver::Version>,
+    /// Share of priority weight a runtime must resolve, between 0 and 1.
+    #[arg(long, default_value_t = 0.95)]
+    target: f64,
+    /// Folder to write imageplan.yaml and coverage.svg into.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+}
+
+fn run_imageplan(a: ImageplanArgs) -> anyhow::Result<Output> {
+    with_threads(a.solve.threads, || {
+        commands::imageplan(&commands::ImageplanCommand {
+            inputs: a.input.paths(&[]),
+            strict: a.input.strict,
+            plan: a.solve.options(),
+            images: a.image.clone(),
+            runtimes: a.runtimes.clone(),
+            target: a.target,
+            out: a.out.clone(),
+        })
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -326,6 +365,7 @@ fn main() -> ExitCode {
         Command::Diff(a) => run_diff(a),
         Command::Syslibs(a) => run_syslibs(a),
         Command::Merge(a) => run_merge(a),
+        Command::Imageplan(a) => run_imageplan(a),
     };
     match result {
         Ok(out) => {

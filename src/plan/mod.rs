@@ -3,9 +3,11 @@
 
 pub mod blockers;
 pub mod cover;
+pub mod coverage;
 pub mod explain;
 pub mod fusion;
 pub mod matrix;
+pub mod preinstall;
 pub mod replan;
 pub mod system;
 

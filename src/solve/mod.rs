@@ -170,8 +170,42 @@ pub fn solve_with_root_set(
     root_set: IndexSet,
     budget: u64,
 ) -> CellSolve {
+    run(
+        view,
+        CellProvider::new(view, root_id, root_set, budget),
+        root_id,
+    )
+}
+
+/// Solves several packages together on one image: one solution in which every root of
+/// `roots` (package, allowed release indices) is installed at once, as when an image
+/// pre-installs them. An empty `roots` trivially installs nothing. On success the closure
+/// covers every root; `root_index` is the first root's release. A failure is explained from
+/// the first root's point of view, but its lines and blockers cover the whole derivation.
+pub fn solve_joint(
+    view: &ImageView<'_>,
+    roots: &[(PackageId, IndexSet)],
+    budget: u64,
+) -> CellSolve {
+    let Some(first) = roots.first().map(|r| r.0) else {
+        return CellSolve {
+            solved: Solved::Installs {
+                root_index: 0,
+                closure: Vec::new(),
+            },
+            touched: Vec::new(),
+            steps: 0,
+        };
+    };
+    run(
+        view,
+        CellProvider::joint(view, roots.to_vec(), budget),
+        first,
+    )
+}
+
+fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId) -> CellSolve {
     let registry = view.registry;
-    let provider = CellProvider::new(view, root_id, root_set, budget);
     let result = pubgrub::resolve(&provider, Node::Root, 0u32);
     let steps = provider.steps();
     let mut touched = provider.touched.take();

@@ -46,8 +46,9 @@ impl std::error::Error for BudgetExhausted {}
 
 pub struct CellProvider<'v, 'r> {
     pub view: &'v ImageView<'r>,
-    pub root: PackageId,
-    pub root_set: IndexSet,
+    /// What the virtual root depends on: one package for a cell, several for a joint solve
+    /// (packages an image pre-installs together), each restricted to its allowed releases.
+    pub roots: Vec<(PackageId, IndexSet)>,
     budget: u64,
     steps: Cell<u64>,
     /// Packages whose versions or dependencies the solver asked about: exactly the packages
@@ -57,13 +58,26 @@ pub struct CellProvider<'v, 'r> {
 
 impl<'v, 'r> CellProvider<'v, 'r> {
     pub fn new(view: &'v ImageView<'r>, root: PackageId, root_set: IndexSet, budget: u64) -> Self {
+        Self::joint(view, vec![(root, root_set)], budget)
+    }
+
+    /// A provider whose root depends on every package of `roots` at once. Duplicate packages
+    /// are intersected, since pubgrub takes one constraint per package.
+    pub fn joint(view: &'v ImageView<'r>, roots: Vec<(PackageId, IndexSet)>, budget: u64) -> Self {
+        let mut merged: Vec<(PackageId, IndexSet)> = Vec::with_capacity(roots.len());
+        for (id, set) in roots {
+            match merged.iter_mut().find(|(p, _)| *p == id) {
+                Some((_, existing)) => *existing = existing.intersection(&set),
+                None => merged.push((id, set)),
+            }
+        }
+        let touched = merged.iter().map(|(p, _)| *p).collect();
         CellProvider {
             view,
-            root,
-            root_set,
+            roots: merged,
             budget,
             steps: Cell::new(0),
-            touched: RefCell::new(vec![root]),
+            touched: RefCell::new(touched),
         }
     }
 
@@ -128,8 +142,9 @@ impl DependencyProvider for CellProvider<'_, '_> {
         match package {
             Node::Runtime => Ok(Dependencies::Available(DependencyConstraints::default())),
             Node::Root => Ok(Dependencies::Available(
-                [(Node::Package(self.root), self.root_set.clone())]
-                    .into_iter()
+                self.roots
+                    .iter()
+                    .map(|(p, set)| (Node::Package(*p), set.clone()))
                     .collect(),
             )),
             Node::Package(id) => {

@@ -1,0 +1,354 @@
+//! Runtime coverage: how much of the priority weight resolves on a base image as its runtime
+//! moves through candidate versions, and which packages drop out or come in between them.
+
+use super::matrix::{PlanOptions, plan_cell};
+use crate::load::Inputs;
+use crate::model::Image;
+use crate::solve::{ImageView, SetCache};
+use rayon::prelude::*;
+use semver::Version;
+use serde::Serialize;
+use std::fmt::Write;
+
+/// Coverage at one runtime version.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CoveragePoint {
+    pub runtime: String,
+    /// Priority-weighted share of entries that resolve, in `[0, 1]`.
+    pub share: f64,
+    /// Entries that resolve here, in priority order.
+    pub resolves: Vec<String>,
+}
+
+/// What changes between two neighbouring runtime versions.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RuntimeStep {
+    pub older: String,
+    pub newer: String,
+    /// Resolve at the newer runtime but not at the older one.
+    pub drop_out: Vec<String>,
+    /// Resolve at the older runtime but not at the newer one.
+    pub come_in: Vec<String>,
+}
+
+/// Coverage of one base image over candidate runtimes, oldest first.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Coverage {
+    pub base_image: String,
+    pub family: String,
+    pub platform: String,
+    pub target: f64,
+    pub points: Vec<CoveragePoint>,
+    /// The oldest runtime whose share reaches `target`, if any does.
+    pub oldest_reaching_target: Option<String>,
+    pub steps: Vec<RuntimeStep>,
+}
+
+/// The default candidate runtimes: the distinct runtimes of the declared images, oldest first.
+pub fn declared_runtimes(inputs: &Inputs) -> Vec<Version> {
+    let mut v: Vec<Version> = inputs
+        .images
+        .images
+        .iter()
+        .map(|i| i.runtime.clone())
+        .collect();
+    v.sort();
+    v.dedup();
+    v
+}
+
+/// The default base images: the first image of each (family, platform) among `images`, in
+/// declared order.
+pub fn default_bases(images: &[Image]) -> Vec<&Image> {
+    let mut seen = Vec::new();
+    let mut out = Vec::new();
+    for img in images {
+        let key = (img.family, img.platform.clone());
+        if !seen.contains(&key) {
+            seen.push(key);
+            out.push(img);
+        }
+    }
+    out
+}
+
+/// Plans every priority entry on `base` with its runtime replaced by each of `runtimes`
+/// (sorted and de-duplicated first). `sets` is shared so requirement sets are computed once
+/// across all runtimes. The result does not depend on the thread count.
+pub fn coverage(
+    inputs: &Inputs,
+    base: &Image,
+    runtimes: &[Version],
+    target: f64,
+    options: &PlanOptions,
+    sets: &SetCache,
+) -> Coverage {
+    let mut runtimes = runtimes.to_vec();
+    runtimes.sort();
+    runtimes.dedup();
+    let images: Vec<Image> = runtimes
+        .iter()
+        .map(|r| Image {
+            runtime: r.clone(),
+            ..base.clone()
+        })
+        .collect();
+    let views: Vec<ImageView<'_>> = images
+        .iter()
+        .map(|img| ImageView::new(&inputs.registry, img, sets))
+        .collect();
+    let entries = &inputs.priorities.entries;
+    let n = entries.len();
+    let resolved: Vec<bool> = (0..views.len() * n)
+        .into_par_iter()
+        .map(|i| {
+            plan_cell(inputs, &views[i / n], &entries[i % n], options)
+                .outcome
+                .resolves()
+        })
+        .collect();
+    let total: f64 = entries.iter().map(|e| e.weight).sum();
+    let points: Vec<CoveragePoint> = runtimes
+        .iter()
+        .enumerate()
+        .map(|(r, v)| {
+            let row = &resolved[r * n..(r + 1) * n];
+            let weight: f64 = entries
+                .iter()
+                .zip(row)
+                .filter(|(_, ok)| **ok)
+                .map(|(e, _)| e.weight)
+                .sum();
+            CoveragePoint {
+                runtime: v.to_string(),
+                // An all-zero weight list covers nothing rather than dividing by zero.
+                share: if total > 0.0 { weight / total } else { 0.0 },
+                resolves: entries
+                    .iter()
+                    .zip(row)
+                    .filter(|(_, ok)| **ok)
+                    .map(|(e, _)| e.name.clone())
+                    .collect(),
+            }
+        })
+        .collect();
+    let steps = (1..runtimes.len())
+        .map(|r| {
+            let older = &resolved[(r - 1) * n..r * n];
+            let newer = &resolved[r * n..(r + 1) * n];
+            let pick = |want_old: bool| -> Vec<String> {
+                entries
+                    .iter()
+                    .enumerate()
+                    .filter(|(i, _)| older[*i] == want_old && newer[*i] != want_old)
+                    .map(|(_, e)| e.name.clone())
+                    .collect()
+            };
+            RuntimeStep {
+                older: runtimes[r - 1].to_string(),
+                newer: runtimes[r].to_string(),
+                drop_out: pick(false),
+                come_in: pick(true),
+            }
+        })
+        .collect();
+    // A small tolerance so a share that is exactly the target in decimal is not missed by
+    // floating-point rounding of the weight sum.
+    let oldest_reaching_target = points
+        .iter()
+        .find(|p| p.share + 1e-9 >= target)
+        .map(|p| p.runtime.clone());
+    Coverage {
+        base_image: base.id.clone(),
+        family: base.family.to_string(),
+        platform: base.platform.to_string(),
+        target,
+        points,
+        oldest_reaching_target,
+        steps,
+    }
+}
+
+/// A readable table of coverage per runtime, with drop-outs and come-ins per step.
+pub fn coverage_text(c: &Coverage) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "Runtime coverage of {} ({}, {}), target {:.1}%",
+        c.base_image,
+        c.family,
+        c.platform,
+        c.target * 100.0
+    );
+    let mut rows = vec![vec![
+        "runtime".to_string(),
+        "coverage".to_string(),
+        "drop out (vs next newer)".to_string(),
+        "come in (vs next newer)".to_string(),
+    ]];
+    for (i, p) in c.points.iter().enumerate() {
+        let step = c.steps.get(i);
+        let list = |v: Option<&Vec<String>>| match v {
+            Some(v) if !v.is_empty() => v.join(" "),
+            _ => "-".to_string(),
+        };
+        rows.push(vec![
+            p.runtime.clone(),
+            format!("{:.1}%", p.share * 100.0),
+            list(step.map(|s| &s.drop_out)),
+            list(step.map(|s| &s.come_in)),
+        ]);
+    }
+    s.push_str(&crate::report::text::table(&rows));
+    match &c.oldest_reaching_target {
+        Some(v) => {
+            let _ = writeln!(s, "oldest runtime reaching the target: {v}");
+        }
+        None => s.push_str("no candidate runtime reaches the target\n"),
+    }
+    s
+}
+
+/// Escapes text for SVG element content and attribute values.
+fn esc(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for ch in s.chars() {
+        match ch {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// A self-contained SVG line chart of coverage against runtime version: one point per
+/// runtime, the target as a dashed line. Colours are from the Okabe-Ito palette (safe for
+/// the common colour-vision deficiencies) and the font is the generic `sans-serif`, so
+/// nothing is fetched.
+pub fn coverage_svg(c: &Coverage) -> String {
+    const W: f64 = 640.0;
+    const H: f64 = 360.0;
+    const L: f64 = 60.0;
+    const R: f64 = 20.0;
+    const T: f64 = 40.0;
+    const B: f64 = 60.0;
+    let pw = W - L - R;
+    let ph = H - T - B;
+    let n = c.points.len();
+    // Runtimes are categories spaced evenly: version numbers have no meaningful distance.
+    let x = |i: usize| {
+        if n <= 1 {
+            L + pw / 2.0
+        } else {
+            L + pw * i as f64 / (n - 1) as f64
+        }
+    };
+    let y = |share: f64| T + ph * (1.0 - share.clamp(0.0, 1.0));
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{W}\" height=\"{H}\" viewBox=\"0 0 {W} {H}\" font-family=\"sans-serif\" font-size=\"12\">"
+    );
+    let _ = writeln!(
+        s,
+        "<title>Runtime coverage of {}</title>",
+        esc(&c.base_image)
+    );
+    let _ = writeln!(s, "<rect width=\"{W}\" height=\"{H}\" fill=\"#ffffff\"/>");
+    let _ = writeln!(
+        s,
+        "<text x=\"{}\" y=\"20\" text-anchor=\"middle\" font-size=\"14\">Coverage of {} ({}) by runtime</text>",
+        W / 2.0,
+        esc(&c.base_image),
+        esc(&c.platform)
+    );
+    for k in 0..=4 {
+        let share = k as f64 / 4.0;
+        let yy = y(share);
+        let _ = writeln!(
+            s,
+            "<line x1=\"{L}\" y1=\"{yy:.1}\" x2=\"{:.1}\" y2=\"{yy:.1}\" stroke=\"#dddddd\"/>",
+            L + pw
+        );
+        let _ = writeln!(
+            s,
+            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\">{}%</text>",
+            L - 6.0,
+            yy + 4.0,
+            k * 25
+        );
+    }
+    let _ = writeln!(
+        s,
+        "<line x1=\"{L}\" y1=\"{T}\" x2=\"{L}\" y2=\"{:.1}\" stroke=\"#000000\"/>",
+        T + ph
+    );
+    let _ = writeln!(
+        s,
+        "<line x1=\"{L}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#000000\"/>",
+        T + ph,
+        L + pw,
+        T + ph
+    );
+    let ty = y(c.target);
+    let _ = writeln!(
+        s,
+        "<line class=\"target\" x1=\"{L}\" y1=\"{ty:.1}\" x2=\"{:.1}\" y2=\"{ty:.1}\" stroke=\"#D55E00\" stroke-width=\"1.5\" stroke-dasharray=\"6 4\"/>",
+        L + pw
+    );
+    let _ = writeln!(
+        s,
+        "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {:.1}%</text>",
+        L + pw,
+        ty - 4.0,
+        c.target * 100.0
+    );
+    if n > 1 {
+        let pts: Vec<String> = c
+            .points
+            .iter()
+            .enumerate()
+            .map(|(i, p)| format!("{:.1},{:.1}", x(i), y(p.share)))
+            .collect();
+        let _ = writeln!(
+            s,
+            "<polyline fill=\"none\" stroke=\"#0072B2\" stroke-width=\"2\" points=\"{}\"/>",
+            pts.join(" ")
+        );
+    }
+    for (i, p) in c.points.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "<circle class=\"point\" cx=\"{:.1}\" cy=\"{:.1}\" r=\"4\" fill=\"#0072B2\"><title>{}: {:.1}%</title></circle>",
+            x(i),
+            y(p.share),
+            esc(&p.runtime),
+            p.share * 100.0
+        );
+        let _ = writeln!(
+            s,
+            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">{}</text>",
+            x(i),
+            T + ph + 18.0,
+            esc(&p.runtime)
+        );
+    }
+    let _ = writeln!(
+        s,
+        "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">runtime version</text>",
+        L + pw / 2.0,
+        H - 15.0
+    );
+    let _ = writeln!(
+        s,
+        "<text x=\"15\" y=\"{:.1}\" text-anchor=\"middle\" transform=\"rotate(-90 15 {:.1})\">priority weight that resolves</text>",
+        T + ph / 2.0,
+        T + ph / 2.0
+    );
+    s.push_str("</svg>\n");
+    s
+}

@@ -1,0 +1,388 @@
+//! Image planning: runtime coverage, the pre-install set and the coverage chart.
+//!
+//! Every registry here is hand-built for the test (no outside source); weights are chosen so
+//! the expected shares are exact binary fractions of ten.
+
+use basefit::load::images::read_images_str;
+use basefit::load::priorities::read_priorities_str;
+use basefit::load::registry::read_yaml_str;
+use basefit::load::{Inputs, RegistryBuilder};
+use basefit::model::DepKind;
+use basefit::plan::PlanOptions;
+use basefit::plan::coverage::{Coverage, CoveragePoint, coverage, coverage_svg};
+use basefit::plan::preinstall::preinstall;
+use basefit::solve::SetCache;
+use semver::Version;
+
+fn inputs(registry: &str, images: &str, priorities: &str) -> Inputs {
+    let mut b = RegistryBuilder::new();
+    read_yaml_str("r.yaml", registry, &mut b).unwrap();
+    let (registry, mut ledger) = b.finish();
+    let images = read_images_str("i.yaml", images, &mut ledger).unwrap();
+    let priorities = read_priorities_str("p.yaml", priorities, &mut ledger).unwrap();
+    Inputs {
+        registry,
+        images,
+        priorities,
+        ledger,
+        ..Default::default()
+    }
+}
+
+fn v(s: &str) -> Version {
+    Version::parse(s).unwrap()
+}
+
+const COVERAGE_REGISTRY: &str = "packages:
+- name: anchor
+  versions:
+  - {version: 1.0.0}
+- name: brine
+  versions:
+  - {version: 1.0.0, runtime: '>=3.1'}
+- name: coral
+  versions:
+  - {version: 1.0.0, runtime: '>=3.2'}
+- name: dune
+  versions:
+  - {version: 1.0.0, runtime: '<3.2'}
+";
+
+const COVERAGE_PRIORITIES: &str = "priorities:
+- {name: anchor, weight: 5}
+- {name: brine, weight: 2}
+- {name: coral, weight: 2}
+- {name: dune, weight: 1}
+";
+
+const ONE_IMAGE: &str =
+    "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64}\n";
+
+fn coverage_of(target: f64) -> Coverage {
+    let inp = inputs(COVERAGE_REGISTRY, ONE_IMAGE, COVERAGE_PRIORITIES);
+    let sets = SetCache::default();
+    // Unsorted and repeated on purpose: coverage sorts and de-duplicates.
+    let runtimes = [v("3.2.0"), v("3.0.0"), v("3.1.0"), v("3.0.0")];
+    coverage(
+        &inp,
+        &inp.images.images[0],
+        &runtimes,
+        target,
+        &PlanOptions::default(),
+        &sets,
+    )
+}
+
+#[test]
+fn coverage_shares_are_priority_weighted() {
+    let c = coverage_of(0.85);
+    let got: Vec<(&str, f64)> = c
+        .points
+        .iter()
+        .map(|p| (p.runtime.as_str(), p.share))
+        .collect();
+    // 3.0: anchor+dune = 6/10; 3.1: anchor+brine+dune = 8/10; 3.2: anchor+brine+coral = 9/10.
+    assert_eq!(got, vec![("3.0.0", 0.6), ("3.1.0", 0.8), ("3.2.0", 0.9)]);
+    assert_eq!(c.points[1].resolves, vec!["anchor", "brine", "dune"]);
+}
+
+#[test]
+fn oldest_runtime_reaching_target() {
+    assert_eq!(
+        coverage_of(0.85).oldest_reaching_target.as_deref(),
+        Some("3.2.0")
+    );
+    // Exactly reaching the target counts.
+    assert_eq!(
+        coverage_of(0.8).oldest_reaching_target.as_deref(),
+        Some("3.1.0")
+    );
+    assert_eq!(
+        coverage_of(0.5).oldest_reaching_target.as_deref(),
+        Some("3.0.0")
+    );
+    assert_eq!(coverage_of(0.95).oldest_reaching_target, None);
+}
+
+#[test]
+fn drop_outs_and_come_ins_between_neighbours() {
+    let c = coverage_of(0.95);
+    assert_eq!(c.steps.len(), 2);
+    assert_eq!(
+        (c.steps[0].older.as_str(), c.steps[0].newer.as_str()),
+        ("3.0.0", "3.1.0")
+    );
+    assert_eq!(c.steps[0].drop_out, vec!["brine"]);
+    assert!(c.steps[0].come_in.is_empty());
+    assert_eq!(c.steps[1].drop_out, vec!["coral"]);
+    assert_eq!(c.steps[1].come_in, vec!["dune"]);
+}
+
+#[test]
+fn coverage_is_deterministic_across_thread_counts() {
+    let one = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .unwrap()
+        .install(|| coverage_of(0.9));
+    let two = rayon::ThreadPoolBuilder::new()
+        .num_threads(2)
+        .build()
+        .unwrap()
+        .install(|| coverage_of(0.9));
+    assert_eq!(one, two);
+}
+
+/// `web` 2.0.0 needs a newer runtime than the image, so web 1.0.0 (lib ^1) is chosen; lib
+/// 1.1.0 is yanked and 1.2.0 has only a musl prebuilt, so lib 1.0.0 is the only choice;
+/// `legacy` needs lib ^2 and so conflicts with web; `tool` needs a prebuilt-only helper.
+const PRE_REGISTRY: &str = "packages:
+- name: web
+  versions:
+  - {version: 1.0.0, runtime: '>=3.0', depends: [{name: lib, req: '^1'}, {name: lint, req: '*', kind: development}]}
+  - {version: 2.0.0, runtime: '>=3.2', depends: [{name: lib, req: '^2'}]}
+- name: lib
+  versions:
+  - {version: 1.0.0}
+  - {version: 1.1.0, yanked: true}
+  - {version: 1.2.0, builds: {prebuilt: [linux/musl/x86_64]}}
+  - {version: 2.0.0}
+- name: util
+  versions:
+  - {version: 0.3.0}
+- name: legacy
+  versions:
+  - {version: 1.0.0, depends: [{name: lib, req: '^2'}]}
+- name: tool
+  versions:
+  - {version: 1.0.0, runtime: '^3', depends: [{name: helper, req: '>=1'}]}
+- name: helper
+  versions:
+  - {version: 1.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}
+  - {version: 1.5.0, builds: {prebuilt: [linux/musl/x86_64]}}
+- name: lint
+  versions:
+  - {version: 1.0.0, runtime: '>=9'}
+";
+
+const PRE_PRIORITIES: &str = "priorities:
+- web
+- util
+- legacy
+- tool
+";
+
+#[test]
+fn preinstall_manifest_passes_an_independent_check() {
+    let inp = inputs(PRE_REGISTRY, ONE_IMAGE, PRE_PRIORITIES);
+    let image = &inp.images.images[0];
+    let p = preinstall(&inp, image, &PlanOptions::default(), &SetCache::default());
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, vec!["web", "util", "tool"]);
+
+    // The check below reads the registry directly and never calls the solver.
+    let reg = &inp.registry;
+    let chosen = |name: &str| p.manifest.iter().find(|m| m.name == name);
+    let mut names: Vec<&str> = p.manifest.iter().map(|m| m.name.as_str()).collect();
+    names.sort();
+    names.dedup();
+    assert_eq!(names.len(), p.manifest.len(), "one version per package");
+    for k in &p.kept {
+        assert_eq!(chosen(&k.name).map(|m| &m.version), Some(&k.version));
+    }
+    for m in &p.manifest {
+        let id = reg.id(&m.name).expect("manifest names registry packages");
+        let release = reg
+            .package(id)
+            .releases
+            .iter()
+            .find(|r| r.version == v(&m.version))
+            .expect("manifest versions are published");
+        assert!(!release.yanked, "{} {} is yanked", m.name, m.version);
+        if let Some(req) = release.runtime {
+            assert!(
+                reg.requirement(req).matches(&image.runtime),
+                "{} {} does not admit runtime {}",
+                m.name,
+                m.version,
+                image.runtime
+            );
+        }
+        let prebuilt_here = release
+            .build
+            .prebuilt
+            .iter()
+            .any(|pid| *reg.platform(*pid) == image.platform);
+        assert!(
+            release.build.source || prebuilt_here,
+            "{} {} has no build for {}",
+            m.name,
+            m.version,
+            image.platform
+        );
+        for d in release.deps.iter().filter(|d| d.kind == DepKind::Runtime) {
+            let target = reg.name(d.package);
+            let got = chosen(target).unwrap_or_else(|| {
+                panic!("{} needs {target}, which is not in the manifest", m.name)
+            });
+            assert!(
+                reg.requirement(d.req).matches(&v(&got.version)),
+                "{} needs {target} {}, manifest has {}",
+                m.name,
+                reg.requirement(d.req),
+                got.version
+            );
+        }
+    }
+    // The specific choices the registry forces.
+    assert_eq!(chosen("web").unwrap().version, "1.0.0");
+    assert_eq!(chosen("lib").unwrap().version, "1.0.0");
+    assert_eq!(chosen("helper").unwrap().version, "1.0.0");
+    assert!(
+        chosen("lint").is_none(),
+        "development dependencies are not installed"
+    );
+}
+
+#[test]
+fn conflicting_lower_priority_package_names_its_conflict() {
+    let inp = inputs(PRE_REGISTRY, ONE_IMAGE, PRE_PRIORITIES);
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    assert_eq!(p.left_out.len(), 1);
+    let l = &p.left_out[0];
+    assert_eq!(l.name, "legacy");
+    assert_eq!(l.conflicts_with, vec!["web"]);
+    assert!(l.reason.contains("web"), "{}", l.reason);
+}
+
+#[test]
+fn package_that_fails_alone_is_left_out_without_naming_others() {
+    let inp = inputs(
+        COVERAGE_REGISTRY,
+        "images:\n- {id: old, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        COVERAGE_PRIORITIES,
+    );
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    let out: Vec<&str> = p.left_out.iter().map(|l| l.name.as_str()).collect();
+    assert_eq!(out, vec!["brine", "coral"]);
+    assert!(p.left_out.iter().all(|l| l.conflicts_with.is_empty()));
+    assert!(p.left_out[0].reason.contains("does not install alone"));
+}
+
+/// Tag names in document order, checked for balance; panics on a mismatch.
+fn check_balanced(svg: &str) -> usize {
+    let mut stack: Vec<String> = Vec::new();
+    let mut rest = svg;
+    let mut elements = 0;
+    while let Some(start) = rest.find('<') {
+        let end = rest[start..].find('>').expect("unterminated tag") + start;
+        let tag = &rest[start + 1..end];
+        assert!(!tag.contains('<'), "`<` inside a tag: {tag}");
+        if let Some(name) = tag.strip_prefix('/') {
+            assert_eq!(
+                stack.pop().as_deref(),
+                Some(name.trim()),
+                "mismatched </{name}>"
+            );
+        } else {
+            elements += 1;
+            let name: String = tag
+                .chars()
+                .take_while(|c| !c.is_whitespace() && *c != '/')
+                .collect();
+            if !tag.ends_with('/') {
+                stack.push(name);
+            }
+        }
+        rest = &rest[end + 1..];
+    }
+    assert!(stack.is_empty(), "unclosed: {stack:?}");
+    elements
+}
+
+#[test]
+fn svg_is_balanced_with_one_point_per_runtime() {
+    let c = coverage_of(0.9);
+    let svg = coverage_svg(&c);
+    assert!(svg.starts_with("<svg "));
+    assert!(check_balanced(&svg) > 3);
+    assert_eq!(svg.matches("<circle class=\"point\"").count(), 3);
+    assert_eq!(svg.matches("class=\"target\"").count(), 1);
+    assert!(svg.contains("stroke-dasharray"));
+    assert!(svg.contains(">runtime version<"));
+    assert!(
+        !svg.contains("http://") || svg.matches("http://").count() == 1,
+        "only the xmlns"
+    );
+}
+
+#[test]
+fn svg_escapes_its_text() {
+    let c = Coverage {
+        base_image: "img<&\"'>".to_string(),
+        family: "debian".to_string(),
+        platform: "linux/<x>/y".to_string(),
+        target: 0.5,
+        points: vec![CoveragePoint {
+            runtime: "3.0.0</text><script>".to_string(),
+            share: 0.25,
+            resolves: Vec::new(),
+        }],
+        oldest_reaching_target: None,
+        steps: Vec::new(),
+    };
+    let svg = coverage_svg(&c);
+    check_balanced(&svg);
+    assert!(!svg.contains("<script>"));
+    assert!(!svg.contains("<x>"));
+    assert!(svg.contains("img&lt;&amp;&quot;&#39;&gt;"));
+    assert!(svg.contains("3.0.0&lt;/text&gt;&lt;script&gt;"));
+    assert_eq!(svg.matches("<circle class=\"point\"").count(), 1);
+}
+
+#[test]
+fn command_writes_yaml_and_svg() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |n: &str| dir.path().join(n);
+    std::fs::write(path("r.yaml"), PRE_REGISTRY).unwrap();
+    std::fs::write(path("i.yaml"), ONE_IMAGE).unwrap();
+    std::fs::write(path("p.yaml"), PRE_PRIORITIES).unwrap();
+    let o = basefit::commands::ImageplanCommand {
+        inputs: basefit::load::InputPaths {
+            registry: vec![path("r.yaml")],
+            images: Some(path("i.yaml")),
+            priorities: Some(path("p.yaml")),
+            ..Default::default()
+        },
+        strict: false,
+        plan: PlanOptions::default(),
+        images: vec!["deb".to_string()],
+        runtimes: vec![v("3.0.5"), v("3.1.2")],
+        target: 0.95,
+        out: Some(path("out")),
+    };
+    let out = basefit::commands::imageplan(&o).unwrap();
+    let yaml = std::fs::read_to_string(path("out/imageplan.yaml")).unwrap();
+    let svg = std::fs::read_to_string(path("out/coverage.svg")).unwrap();
+    assert!(yaml.contains("preinstall:") && yaml.contains("coverage:"));
+    assert_eq!(svg.matches("<circle class=\"point\"").count(), 2);
+    assert!(out.stdout.contains("left out legacy"), "{}", out.stdout);
+    let again = basefit::commands::imageplan(&o).unwrap();
+    assert_eq!(out.stdout, again.stdout, "deterministic output");
+
+    let bad = basefit::commands::ImageplanCommand {
+        images: vec!["nope".to_string()],
+        ..o
+    };
+    assert!(basefit::commands::imageplan(&bad).is_err());
+}
