@@ -2,11 +2,13 @@
 //! matrix as Markdown, CSV and a self-contained HTML page, files written atomically.
 
 pub mod csv;
+pub mod html;
 pub mod layout;
 pub mod markdown;
 pub mod text;
 
 pub use csv::csv;
+pub use html::html;
 pub use markdown::markdown;
 
 use anyhow::{Context, Result};
