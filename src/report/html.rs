@@ -213,7 +213,7 @@ pub fn html(m: &Matrix) -> String {
     out.push_str("<div class=\"workspace\">\n<section class=\"grid-section\" aria-labelledby=\"grid-title\">\n");
     out.push_str("<div class=\"grid-top\"><h2 id=\"grid-title\">Matrix</h2>\n");
     out.push_str(
-        "<p class=\"hint\">Highest priority first. Select a cell, or move with the arrow keys \
+        "<p class=\"hint\" data-needs-script hidden>Highest priority first. Select a cell, or move with the arrow keys \
          and press Enter, for its resolved versions or why it fails.</p></div>\n",
     );
     legend(&mut out);
@@ -305,7 +305,7 @@ pub fn html(m: &Matrix) -> String {
     out.push_str("</div>\n</section>\n");
 
     out.push_str(
-        "<aside class=\"detail\" id=\"detail\" aria-labelledby=\"detail-title\" data-open=\"false\">\n\
+        "<aside class=\"detail\" id=\"detail\" aria-labelledby=\"detail-title\" data-open=\"false\" data-needs-script hidden>\n\
          <div class=\"detail-head\"><h2 id=\"detail-title\" tabindex=\"-1\">Cell detail</h2>\
          <button type=\"button\" id=\"detail-close\" class=\"detail-close\" hidden aria-label=\"Close the detail panel\">Close</button></div>\n\
          <div id=\"detail-body\" class=\"detail-body\"><p class=\"detail-empty\">Select a cell to see \
@@ -537,7 +537,7 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
 
 fn controls(out: &mut String, m: &Matrix, families: &[&str], counts: &[ColumnCounts]) {
     // Hidden until the script runs: without it the filters could not work.
-    out.push_str("<section class=\"controls\" id=\"controls\" aria-label=\"Filters\" hidden>\n");
+    out.push_str("<section class=\"controls\" id=\"controls\" aria-label=\"Filters\" data-needs-script hidden>\n");
     out.push_str("<fieldset class=\"filter\" id=\"filter-family\"><legend>Image family</legend>\n");
     for (i, fam) in families.iter().enumerate() {
         let n = m.images.iter().filter(|img| img.family == *fam).count();

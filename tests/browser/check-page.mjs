@@ -267,7 +267,7 @@ async function main() {
     check('Enter opens the focused cell in the detail panel', opened.open && opened.same && opened.focus === 'detail-title', JSON.stringify(opened));
     await key('Escape', 'Escape', 27);
     const closed = await js(`const a = document.activeElement; return { open: document.getElementById('detail').dataset.open, back: !!a && a.matches('td.cell') && a.dataset.index === ${JSON.stringify(moved ? moved.index : '')} };`);
-    check('Escape closes the panel and returns to the cell', closed.open === 'false' && closed.back, JSON.stringify(closed));
+    check('Escape closes the panel and returns to the cell', opened.open && closed.open === 'false' && closed.back, JSON.stringify(closed));
   }
 
   const external = requests.filter((u) => !u.startsWith('file:') && !u.startsWith('data:') && !u.startsWith('about:'));

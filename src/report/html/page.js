@@ -27,8 +27,8 @@
   const detailBody = byId('detail-body');
   const detailClose = byId('detail-close');
   const emptyNote = byId('grid-empty');
-  const controls = byId('controls');
-  if (controls) controls.hidden = false;
+  // What works only with this script stays hidden in readers that do not run it.
+  for (const node of document.querySelectorAll('[data-needs-script]')) node.hidden = false;
 
   // Bidirectional controls could make a name read as another; show them as a replacement mark.
   const clean = (s) => String(s == null ? '' : s).replace(/[\u061C\u200E\u200F\u202A-\u202E\u2066-\u2069]/g, '\uFFFD');
