@@ -1,7 +1,15 @@
-//! Everything people and machines read: text reports, YAML and JSON documents, files written
-//! atomically.
+//! Everything people and machines read: text reports, YAML and JSON documents, the support
+//! matrix as Markdown, CSV and a self-contained HTML page, files written atomically.
 
+pub mod csv;
+pub mod html;
+pub mod layout;
+pub mod markdown;
 pub mod text;
+
+pub use csv::csv;
+pub use html::html;
+pub use markdown::markdown;
 
 use anyhow::{Context, Result};
 use serde::Serialize;

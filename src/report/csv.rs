@@ -1,0 +1,87 @@
+//! The support matrix as CSV: one record per (package, image) cell, for spreadsheets and
+//! scripts.
+//!
+//! Values are written as they are in the matrix (the `csv` crate quotes what needs quoting),
+//! so the file reads back to the same strings, with one exception: a text field that a
+//! spreadsheet would run as a formula (it starts with `=`, `+`, `-`, `@`, a tab or a carriage
+//! return) gets a leading `'`, which spreadsheets show as plain text. Every record carries the notice in
+//! its last column: a header comment would break strict CSV readers, and a filtered or
+//! pasted selection of rows keeps the warning with it.
+
+use super::layout::grid;
+use crate::plan::matrix::{Matrix, NOTICE};
+use std::borrow::Cow;
+
+/// The header record, in column order.
+pub const COLUMNS: [&str; 15] = [
+    "package",
+    "rank",
+    "weight",
+    "image",
+    "runtime",
+    "family",
+    "outcome",
+    "cause",
+    "root_version",
+    "closure_size",
+    "missing_system_packages",
+    "recorded",
+    "verdict",
+    "explanation",
+    "notice",
+];
+
+/// Renders one record per cell, rows in priority order and images in declared order.
+/// Pairs the matrix holds no cell for are left out rather than invented.
+pub fn csv(m: &Matrix) -> String {
+    let mut w = ::csv::WriterBuilder::new()
+        .terminator(::csv::Terminator::Any(b'\n'))
+        .from_writer(Vec::new());
+    // Writing into a Vec cannot fail on I/O, and every record has the header's length, so an
+    // error here would be a bug; it still must not abort the caller, hence the fallbacks.
+    let _ = w.write_record(COLUMNS);
+    for (row, slots) in m.packages.iter().zip(grid(m)) {
+        for (img, slot) in m.images.iter().zip(slots) {
+            let Some((_, cell)) = slot else { continue };
+            let (recorded, verdict) = cell
+                .recorded
+                .as_ref()
+                .map_or(("", ""), |r| (r.recorded.as_str(), r.verdict.as_str()));
+            let record: [Cow<'_, str>; COLUMNS.len()] = [
+                defuse(&row.name),
+                Cow::Owned(row.rank.to_string()),
+                Cow::Owned(row.weight.to_string()),
+                defuse(&img.id),
+                defuse(&img.runtime),
+                defuse(&img.family),
+                Cow::Borrowed(cell.outcome.as_str()),
+                Cow::Borrowed(cell.cause.map_or("", |c| c.as_str())),
+                defuse(cell.root_version.as_deref().unwrap_or("")),
+                Cow::Owned(cell.closure_size.to_string()),
+                owned(defuse(&cell.missing_system_packages.join(" "))),
+                defuse(recorded),
+                defuse(verdict),
+                owned(defuse(&cell.explanation.join(" / "))),
+                Cow::Borrowed(NOTICE),
+            ];
+            let _ = w.write_record(record.iter().map(|f| f.as_bytes()));
+        }
+    }
+    let bytes = w.into_inner().unwrap_or_default();
+    // Every field came from a `&str`, so the bytes are UTF-8; the lossy path is never taken.
+    String::from_utf8(bytes).unwrap_or_else(|e| String::from_utf8_lossy(e.as_bytes()).into_owned())
+}
+
+/// Makes a text field from the input inert in spreadsheets, which run a cell starting with
+/// one of these characters as a formula (CSV injection).
+pub fn defuse(field: &str) -> Cow<'_, str> {
+    if field.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        Cow::Owned(format!("'{field}"))
+    } else {
+        Cow::Borrowed(field)
+    }
+}
+
+fn owned(c: Cow<'_, str>) -> Cow<'static, str> {
+    Cow::Owned(c.into_owned())
+}

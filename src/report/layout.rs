@@ -1,0 +1,297 @@
+//! What the matrix renderers share: where each cell sits, the symbols that stand for an
+//! outcome, how recorded installs are read, per-image counts and one-line reasons.
+//!
+//! A matrix read from a file may be sharded, truncated or hand-edited, so nothing here
+//! trusts `cells` to be the full row-by-row grid that [`Matrix::row`] expects.
+
+use crate::plan::matrix::{Cell, Matrix, Outcome, RecordedCheck};
+use std::collections::HashMap;
+
+/// The symbol that stands for an outcome in every rendered matrix, so a reader never
+/// depends on colour alone.
+pub fn outcome_symbol(outcome: Outcome) -> &'static str {
+    match outcome {
+        Outcome::Installs => "✓",
+        Outcome::AtRisk => "△",
+        Outcome::Fails => "✗",
+        Outcome::Undecided => "?",
+    }
+}
+
+/// A short, readable name of an outcome for legends and badges.
+pub fn outcome_label(outcome: Outcome) -> &'static str {
+    match outcome {
+        Outcome::Installs => "installs",
+        Outcome::AtRisk => "at risk",
+        Outcome::Fails => "fails",
+        Outcome::Undecided => "undecided",
+    }
+}
+
+/// One sentence on what an outcome promises, for legends.
+pub fn outcome_meaning(outcome: Outcome) -> &'static str {
+    match outcome {
+        Outcome::Installs => "resolves, and every native need found is met by the image",
+        Outcome::AtRisk => "resolves, but a likely or possible native need is not met by the image",
+        Outcome::Fails => "does not resolve, or a declared native need is certainly unmet",
+        Outcome::Undecided => "the solver budget ran out before an answer",
+    }
+}
+
+/// How a recorded install compares with the prediction, as far as a reader should care.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Mark {
+    /// Recorded installs agree with the prediction.
+    Agreed,
+    /// The recorded result contradicts the prediction.
+    Surprise,
+    /// Neither agreement nor contradiction: flaky retries, version drift, or a verdict this
+    /// version of basefit does not know.
+    Unsettled,
+}
+
+impl Mark {
+    /// Reads a recorded check. Verdicts are open strings written by `verify`, so anything
+    /// that is not plainly an agreement is flagged rather than silently passed as one.
+    pub fn of(check: &RecordedCheck) -> Mark {
+        let verdict = check.verdict.trim();
+        if verdict.starts_with("surprise") {
+            Mark::Surprise
+        } else if verdict.starts_with("agreed") && check.recorded.trim() != "flaky" {
+            Mark::Agreed
+        } else {
+            Mark::Unsettled
+        }
+    }
+
+    /// The marker appended to a cell's symbol; agreement needs none.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Mark::Agreed => "",
+            Mark::Surprise => "!",
+            Mark::Unsettled => "~",
+        }
+    }
+
+    /// What the marker means, for legends.
+    pub fn meaning(self) -> &'static str {
+        match self {
+            Mark::Agreed => "recorded installs agree with the prediction",
+            Mark::Surprise => "recorded installs contradict the prediction",
+            Mark::Unsettled => "recorded installs are flaky or drifted from the prediction",
+        }
+    }
+}
+
+/// The mark of a cell, when it has recorded installs.
+pub(crate) fn mark_of(cell: &Cell) -> Option<Mark> {
+    cell.recorded.as_ref().map(Mark::of)
+}
+
+/// Cells laid out as rows of packages by columns of images; `None` where the matrix holds
+/// no cell for that pair. Each present cell comes with its index in `Matrix::cells`.
+pub(crate) fn grid(m: &Matrix) -> Vec<Vec<Option<(usize, &Cell)>>> {
+    let n = m.images.len();
+    let mut by_pair: HashMap<(&str, &str), usize> = HashMap::new();
+    for (i, c) in m.cells.iter().enumerate() {
+        by_pair
+            .entry((c.package.as_str(), c.image.as_str()))
+            .or_insert(i);
+    }
+    m.packages
+        .iter()
+        .enumerate()
+        .map(|(r, p)| {
+            m.images
+                .iter()
+                .enumerate()
+                .map(|(c, img)| {
+                    // The declared layout is row by row; fall back to a look-up by name only
+                    // when a cell is not where the layout puts it.
+                    let at = r
+                        .checked_mul(n)
+                        .and_then(|x| x.checked_add(c))
+                        .filter(|&i| {
+                            m.cells
+                                .get(i)
+                                .is_some_and(|cell| cell.package == p.name && cell.image == img.id)
+                        })
+                        .or_else(|| by_pair.get(&(p.name.as_str(), img.id.as_str())).copied());
+                    at.and_then(|i| m.cells.get(i).map(|cell| (i, cell)))
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// Outcome counts of one image column.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub(crate) struct ColumnCounts {
+    pub installs: usize,
+    pub at_risk: usize,
+    pub fails: usize,
+    pub undecided: usize,
+    /// Cells the matrix does not hold.
+    pub missing: usize,
+    pub surprises: usize,
+    pub unsettled: usize,
+    pub agreed: usize,
+    /// Share of the priority weight that resolves (cleanly or at risk); `None` when the
+    /// weights do not add up to a positive number.
+    pub weight_share: Option<f64>,
+}
+
+impl ColumnCounts {
+    pub fn of(&self, outcome: Outcome) -> usize {
+        match outcome {
+            Outcome::Installs => self.installs,
+            Outcome::AtRisk => self.at_risk,
+            Outcome::Fails => self.fails,
+            Outcome::Undecided => self.undecided,
+        }
+    }
+
+    pub fn recorded(&self) -> usize {
+        self.agreed + self.surprises + self.unsettled
+    }
+}
+
+/// Per-image counts over a grid from [`grid`].
+pub(crate) fn column_counts(m: &Matrix, grid: &[Vec<Option<(usize, &Cell)>>]) -> Vec<ColumnCounts> {
+    let total: f64 = m
+        .packages
+        .iter()
+        .map(|p| p.weight)
+        .filter(|w| w.is_finite() && *w > 0.0)
+        .sum();
+    (0..m.images.len())
+        .map(|c| {
+            let mut k = ColumnCounts::default();
+            let mut resolving = 0.0;
+            for (r, row) in grid.iter().enumerate() {
+                let Some((_, cell)) = row.get(c).copied().flatten() else {
+                    k.missing += 1;
+                    continue;
+                };
+                match cell.outcome {
+                    Outcome::Installs => k.installs += 1,
+                    Outcome::AtRisk => k.at_risk += 1,
+                    Outcome::Fails => k.fails += 1,
+                    Outcome::Undecided => k.undecided += 1,
+                }
+                match mark_of(cell) {
+                    Some(Mark::Agreed) => k.agreed += 1,
+                    Some(Mark::Surprise) => k.surprises += 1,
+                    Some(Mark::Unsettled) => k.unsettled += 1,
+                    None => {}
+                }
+                let w = m.packages.get(r).map_or(0.0, |p| p.weight);
+                if cell.outcome.resolves() && w.is_finite() && w > 0.0 {
+                    resolving += w;
+                }
+            }
+            k.weight_share = (total > 0.0).then(|| resolving / total);
+            k
+        })
+        .collect()
+}
+
+/// Whether a cell deserves a note under the table: anything a reader must not take as
+/// "installs", and any recorded result that is not a plain agreement.
+pub(crate) fn needs_note(cell: &Cell) -> bool {
+    cell.outcome != Outcome::Installs
+        || cell.cause.is_some()
+        || mark_of(cell).is_some_and(|m| m != Mark::Agreed)
+}
+
+/// The longest one-line reason printed per cell; whole explanations are in the JSON and the
+/// HTML detail panel.
+const REASON_CHARS: usize = 320;
+
+/// One line on why a cell is what it is: the blockers when the solver named them, otherwise
+/// the explanation.
+pub(crate) fn reason(cell: &Cell) -> String {
+    let parts: Vec<&str> = if cell.blockers.is_empty() {
+        cell.explanation.iter().map(String::as_str).collect()
+    } else {
+        cell.blockers.iter().map(|b| b.reason.as_str()).collect()
+    };
+    let mut line = one_line(&parts.join("; "));
+    if line.chars().count() > REASON_CHARS {
+        line = line.chars().take(REASON_CHARS - 1).collect::<String>();
+        line.push('…');
+    }
+    line
+}
+
+/// Folds line breaks and other control characters into single spaces, and replaces
+/// bidirectional formatting characters, which could make a row read as something it is not.
+pub(crate) fn one_line(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    let mut space = false;
+    for ch in s.chars() {
+        if ch.is_control() || matches!(ch, '\u{2028}' | '\u{2029}') {
+            if !space && !out.is_empty() {
+                out.push(' ');
+            }
+            space = true;
+            continue;
+        }
+        space = false;
+        if is_bidi_control(ch) {
+            out.push('\u{FFFD}');
+        } else {
+            out.push(ch);
+        }
+    }
+    if space {
+        out.pop();
+    }
+    out
+}
+
+fn is_bidi_control(ch: char) -> bool {
+    matches!(ch, '\u{200E}' | '\u{200F}' | '\u{061C}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}')
+}
+
+/// A share as a whole percentage, the same on every machine.
+pub(crate) fn percent(share: f64) -> String {
+    if !share.is_finite() {
+        return "n/a".to_string();
+    }
+    format!("{:.0}%", (share * 100.0).clamp(0.0, 100.0))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn one_line_folds_breaks_and_neutralises_bidi() {
+        assert_eq!(one_line("a\r\nb\tc\n"), "a b c");
+        assert_eq!(one_line("\nx"), "x");
+        assert_eq!(one_line("ab\u{202E}cd"), "ab\u{FFFD}cd");
+    }
+
+    #[test]
+    fn unknown_verdicts_are_not_taken_as_agreement() {
+        let check = |recorded: &str, verdict: &str| RecordedCheck {
+            recorded: recorded.into(),
+            verdict: verdict.into(),
+            version: None,
+            detail: String::new(),
+            attempts: 1,
+        };
+        assert_eq!(
+            Mark::of(&check("installed", "agreed-install")),
+            Mark::Agreed
+        );
+        assert_eq!(
+            Mark::of(&check("failed", "surprise-failure")),
+            Mark::Surprise
+        );
+        assert_eq!(Mark::of(&check("installed", "drift")), Mark::Unsettled);
+        assert_eq!(Mark::of(&check("flaky", "agreed-install")), Mark::Unsettled);
+        assert_eq!(Mark::of(&check("installed", "")), Mark::Unsettled);
+    }
+}

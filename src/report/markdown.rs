@@ -1,0 +1,280 @@
+//! The support matrix as a Markdown page for documentation sites: a packages × images table
+//! with one symbol per cell, a legend, numbered notes on every cell that does not simply
+//! install, and a table of the images with their counts.
+//!
+//! The output is GitHub-flavoured Markdown (pipe tables) and avoids HTML, footnote syntax and
+//! other extensions, so it reads the same in any renderer and in a plain diff.
+
+use super::layout::{self, Mark, grid, mark_of, one_line, outcome_label, outcome_symbol};
+use crate::plan::matrix::{Cell, Matrix, NOTICE, Outcome};
+use std::collections::HashMap;
+use std::fmt::Write;
+
+/// Shown in place of a symbol where the matrix holds no cell (a sharded or partial matrix).
+pub const NO_CELL: &str = "–";
+
+/// Escapes text from the input for a Markdown table cell or paragraph.
+///
+/// Line breaks become spaces (a break would end the table row), and every character that
+/// Markdown, GitHub's extensions or MDX-based sites give a meaning inside a line is
+/// backslash-escaped, so input can neither add a column nor emphasis, links, HTML or maths.
+///
+/// ```
+/// use basefit::report::markdown::escape_markdown;
+/// assert_eq!(escape_markdown("a|b<script>"), "a\\|b\\<script\\>");
+/// ```
+pub fn escape_markdown(s: &str) -> String {
+    let line = one_line(s);
+    let mut out = String::with_capacity(line.len() + 8);
+    for ch in line.chars() {
+        if matches!(
+            ch,
+            '\\' | '`'
+                | '*'
+                | '_'
+                | '{'
+                | '}'
+                | '['
+                | ']'
+                | '<'
+                | '>'
+                | '|'
+                | '~'
+                | '&'
+                | '$'
+                | '#'
+                | '!'
+        ) {
+            out.push('\\');
+        }
+        out.push(ch);
+    }
+    out
+}
+
+/// One note under the table; cells of one package that fail the same way share it.
+struct Note {
+    row: usize,
+    images: Vec<usize>,
+    text: String,
+}
+
+/// Renders the matrix as Markdown. Rows keep the matrix's priority order and columns the
+/// declared image order, so re-rendering after a change diffs line by line.
+pub fn markdown(m: &Matrix) -> String {
+    let cells = grid(m);
+    let counts = layout::column_counts(m, &cells);
+    let mut out = String::new();
+
+    let _ = writeln!(out, "> **Prediction, not a test result.** {NOTICE}\n");
+
+    // Notes are numbered in reading order (row by row) and shared by identical causes of
+    // one package, so a package that fails everywhere for one reason carries one note.
+    let mut notes: Vec<Note> = Vec::new();
+    let mut note_of: HashMap<(usize, String), usize> = HashMap::new();
+    let mut refs: Vec<Vec<Option<usize>>> = Vec::with_capacity(cells.len());
+    for (r, row) in cells.iter().enumerate() {
+        let mut row_refs = Vec::with_capacity(row.len());
+        for (c, slot) in row.iter().enumerate() {
+            let number = slot
+                .filter(|(_, cell)| layout::needs_note(cell))
+                .map(|(_, cell)| {
+                    let text = note_text(cell);
+                    *note_of.entry((r, text.clone())).or_insert_with(|| {
+                        notes.push(Note {
+                            row: r,
+                            images: Vec::new(),
+                            text,
+                        });
+                        notes.len()
+                    })
+                });
+            if let Some(n) = number
+                && let Some(note) = notes.get_mut(n - 1)
+            {
+                note.images.push(c);
+            }
+            row_refs.push(number);
+        }
+        refs.push(row_refs);
+    }
+
+    out.push_str("| # | package |");
+    for img in &m.images {
+        let _ = write!(out, " {} |", escape_markdown(&img.id));
+    }
+    out.push_str("\n| ---: | :--- |");
+    for _ in &m.images {
+        out.push_str(" :---: |");
+    }
+    out.push('\n');
+    let mut any_missing = false;
+    for ((row, slots), row_refs) in m.packages.iter().zip(&cells).zip(&refs) {
+        let _ = write!(out, "| {} | {} |", row.rank, escape_markdown(&row.name));
+        for (slot, note) in slots.iter().zip(row_refs) {
+            match slot {
+                Some((_, cell)) => {
+                    out.push(' ');
+                    out.push_str(&cell_symbol(cell));
+                    if let Some(n) = note {
+                        let _ = write!(out, " [{n}]");
+                    }
+                    out.push_str(" |");
+                }
+                None => {
+                    any_missing = true;
+                    let _ = write!(out, " {NO_CELL} |");
+                }
+            }
+        }
+        out.push('\n');
+    }
+
+    out.push_str("\n**Legend**\n\n");
+    for o in Outcome::ALL {
+        let _ = writeln!(
+            out,
+            "- {} {}: {}",
+            outcome_symbol(o),
+            outcome_label(o),
+            layout::outcome_meaning(o)
+        );
+    }
+    for mark in [Mark::Surprise, Mark::Unsettled] {
+        let _ = writeln!(
+            out,
+            "- {} after a symbol: {}",
+            mark.symbol(),
+            mark.meaning()
+        );
+    }
+    if any_missing {
+        let _ = writeln!(out, "- {NO_CELL} not in this matrix (not planned)");
+    }
+    out.push_str("- [n] see note n below\n");
+
+    if !notes.is_empty() {
+        out.push_str("\n**Notes**\n\n");
+        for (i, note) in notes.iter().enumerate() {
+            let package = m.packages.get(note.row).map_or("", |p| p.name.as_str());
+            let images: Vec<String> = note
+                .images
+                .iter()
+                .filter_map(|&c| m.images.get(c))
+                .map(|img| escape_markdown(&img.id))
+                .collect();
+            let _ = writeln!(
+                out,
+                "- **[{}]** {} on {}: {}",
+                i + 1,
+                escape_markdown(package),
+                images.join(", "),
+                note.text
+            );
+        }
+    }
+
+    out.push_str("\n**Images**\n\n");
+    out.push_str(
+        "| image | runtime | family | platform | C toolchain | ✓ | △ | ✗ | ? | priority weight resolving |\n",
+    );
+    out.push_str("| :--- | :--- | :--- | :--- | :---: | ---: | ---: | ---: | ---: | ---: |\n");
+    for (img, k) in m.images.iter().zip(&counts) {
+        let _ = writeln!(
+            out,
+            "| {} | {} | {} | {} | {} | {} | {} | {} | {} | {} |",
+            escape_markdown(&img.id),
+            escape_markdown(&img.runtime),
+            escape_markdown(&img.family),
+            escape_markdown(&img.platform),
+            if img.toolchain { "yes" } else { "no" },
+            k.installs,
+            k.at_risk,
+            k.fails,
+            k.undecided,
+            k.weight_share.map_or("n/a".to_string(), layout::percent),
+        );
+    }
+    let recorded: usize = counts.iter().map(|k| k.recorded()).sum();
+    if recorded > 0 {
+        let surprises: usize = counts.iter().map(|k| k.surprises).sum();
+        let unsettled: usize = counts.iter().map(|k| k.unsettled).sum();
+        let _ = writeln!(
+            out,
+            "\nRecorded installs cover {recorded} cells: {} agree, {surprises} contradict the \
+             prediction, {unsettled} are flaky or drifted.",
+            recorded - surprises - unsettled
+        );
+    }
+    out
+}
+
+/// The symbol of a cell with its recorded-install marker.
+pub(crate) fn cell_symbol(cell: &Cell) -> String {
+    let mut s = outcome_symbol(cell.outcome).to_string();
+    if let Some(mark) = mark_of(cell) {
+        s.push_str(mark.symbol());
+    }
+    s
+}
+
+/// The escaped text of a note, without the package and image names that head it.
+fn note_text(cell: &Cell) -> String {
+    let mut text = format!(
+        "{} {}",
+        outcome_symbol(cell.outcome),
+        outcome_label(cell.outcome)
+    );
+    if let Some(cause) = cell.cause {
+        let _ = write!(text, ", {} ({})", cause.as_str(), cause.label());
+    }
+    let reason = layout::reason(cell);
+    if !reason.is_empty() {
+        let _ = write!(text, " — {}", escape_markdown(&reason));
+    }
+    let unnamed: Vec<&str> = cell
+        .missing_system_packages
+        .iter()
+        .map(String::as_str)
+        .filter(|p| !reason.contains(p))
+        .collect();
+    if !unnamed.is_empty() {
+        let _ = write!(
+            text,
+            ". System packages to add: {}",
+            escape_markdown(&unnamed.join(" "))
+        );
+    }
+    if let Some(rec) = &cell.recorded {
+        let _ = write!(
+            text,
+            ". Recorded: {} ({}, {} attempt{})",
+            escape_markdown(&rec.recorded),
+            escape_markdown(&rec.verdict),
+            rec.attempts,
+            if rec.attempts == 1 { "" } else { "s" }
+        );
+        if let Some(v) = &rec.version {
+            let _ = write!(text, ", version {}", escape_markdown(v));
+        }
+        let detail = one_line(&rec.detail);
+        if !detail.is_empty() {
+            let _ = write!(text, ": {}", escape_markdown(&detail));
+        }
+    }
+    text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escaping_keeps_table_structure_and_html_out() {
+        assert_eq!(escape_markdown("a|b"), "a\\|b");
+        assert_eq!(escape_markdown("<script>"), "\\<script\\>");
+        assert_eq!(escape_markdown("x\\|y"), "x\\\\\\|y");
+        assert_eq!(escape_markdown("line\nbreak"), "line break");
+        assert_eq!(escape_markdown("&amp;"), "\\&amp;");
+    }
+}

@@ -1,0 +1,615 @@
+//! The rendered matrix formats: escaping of hostile input, a Markdown snapshot checked cell by
+//! cell, CSV that reads back, HTML whose embedded data reads back, and byte-identical output.
+
+use basefit::native::Confidence;
+use basefit::plan::matrix::{
+    BlockerRow, Cell, ImageColumn, Matrix, NOTICE, NeedRow, Outcome, PackageRow, Pinned,
+    RecordedCheck,
+};
+use basefit::report::csv::COLUMNS;
+use basefit::report::html::DATA_ID;
+use basefit::report::layout::{Mark, outcome_symbol};
+use basefit::report::markdown::NO_CELL;
+use basefit::report::{csv, html, markdown};
+use basefit::solve::{BuildKind, Cause};
+use std::path::Path;
+
+const XSS: &str = "<script>alert(1)</script>";
+
+fn data(name: &str) -> String {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data")
+        .join(name);
+    std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+fn load(name: &str) -> Matrix {
+    serde_json::from_str(&data(name)).expect("a matrix")
+}
+
+fn image(id: &str, family: &str) -> ImageColumn {
+    ImageColumn {
+        id: id.into(),
+        runtime: "3.1.2".into(),
+        family: family.into(),
+        platform: "linux/glibc/x86_64".into(),
+        toolchain: true,
+    }
+}
+
+fn cell(package: &str, image: &str, outcome: Outcome) -> Cell {
+    Cell {
+        package: package.into(),
+        image: image.into(),
+        outcome,
+        cause: None,
+        root_version: None,
+        closure_size: 0,
+        closure: Vec::new(),
+        explanation: Vec::new(),
+        native_needs: Vec::new(),
+        missing_system_packages: Vec::new(),
+        blockers: Vec::new(),
+        recorded: None,
+        touched: Vec::new(),
+    }
+}
+
+/// A matrix whose every string tries to break out of the format it lands in.
+fn hostile() -> Matrix {
+    let names = [
+        XSS.to_string(),
+        "a|b<script>".to_string(),
+        "\"quotes\", commas, and \\back\\slash".to_string(),
+        "new\nline\r\nand </script> & &amp; `tick` *star* _under_ [link](x) ~strike~ $x$"
+            .to_string(),
+        "=HYPERLINK(\"http://example.invalid\")".to_string(),
+        "line\u{2028}sep\u{2029}para <!-- comment".to_string(),
+    ];
+    let images = vec![
+        image("img|<b>one</b>", "debian"),
+        image("img \"two\", 'quoted'", "alp|ine<i>"),
+        image("img</script>three", "debian"),
+    ];
+    let mut cells = Vec::new();
+    for (r, name) in names.iter().enumerate() {
+        for (c, img) in images.iter().enumerate() {
+            let outcome = Outcome::ALL[(r + c) % 4];
+            let mut cell = cell(name, &img.id, outcome);
+            match outcome {
+                Outcome::Installs | Outcome::AtRisk => {
+                    cell.root_version = Some(format!("1.0.{r}+<b>{c}</b>"));
+                    cell.closure_size = 2;
+                    cell.closure = vec![
+                        Pinned {
+                            name: name.clone(),
+                            version: format!("1.0.{r}+<b>{c}</b>"),
+                            build: BuildKind::Source,
+                        },
+                        Pinned {
+                            name: "dep\"</script>".into(),
+                            version: "2.0.0, \"x\"".into(),
+                            build: BuildKind::Prebuilt,
+                        },
+                    ];
+                }
+                Outcome::Fails => {
+                    cell.cause = Some(Cause::DependencyConflict);
+                    cell.explanation = vec![
+                        format!("{name} wants </script><script>alert(2)</script>"),
+                        "second, \"line\"\nwith a break | pipe".into(),
+                    ];
+                    cell.blockers = vec![BlockerRow {
+                        package: "base<i>".into(),
+                        reason: "conflicting | requirements on <base>".into(),
+                    }];
+                }
+                Outcome::Undecided => {
+                    cell.cause = Some(Cause::BudgetExhausted);
+                    cell.explanation = vec!["gave up & stopped".into()];
+                }
+            }
+            if outcome == Outcome::AtRisk {
+                cell.native_needs = vec![NeedRow {
+                    library: Some("lib<xml>".into()),
+                    confidence: Confidence::Possible,
+                    via: name.clone(),
+                    evidence: vec!["mentions `lib<xml>` | maybe".into()],
+                }];
+                cell.missing_system_packages = vec!["lib<xml>-dev".into(), "a,b".into()];
+                cell.explanation = vec!["probably needs: lib<xml>-dev a,b".into()];
+            }
+            if (r + c) % 3 == 0 {
+                cell.recorded = Some(RecordedCheck {
+                    recorded: if r % 2 == 0 { "failed" } else { "installed" }.into(),
+                    verdict: ["surprise-failure", "agreed-install", "drift"][r % 3].into(),
+                    version: Some("9.9<9>".into()),
+                    detail: format!("log said </script>{XSS}\n\"done\", ok"),
+                    attempts: 2,
+                });
+            }
+            cells.push(cell);
+        }
+    }
+    Matrix {
+        notice: "<b>not the notice</b>".into(),
+        images,
+        packages: names
+            .iter()
+            .enumerate()
+            .map(|(i, n)| PackageRow {
+                rank: i + 1,
+                name: n.clone(),
+                weight: 1.5 * (i + 1) as f64,
+                summary: Some(format!("summary of {n} </script> & \"more\"")),
+            })
+            .collect(),
+        cells,
+    }
+}
+
+// ---------------------------------------------------------------- markdown
+
+/// Splits a Markdown table row at its unescaped pipes; an odd run of backslashes escapes.
+fn split_row(line: &str) -> Vec<String> {
+    let mut cells = vec![String::new()];
+    let mut backslashes = 0;
+    for ch in line.chars() {
+        if ch == '|' && backslashes % 2 == 0 {
+            cells.push(String::new());
+        } else if let Some(last) = cells.last_mut() {
+            last.push(ch);
+        }
+        backslashes = if ch == '\\' { backslashes + 1 } else { 0 };
+    }
+    cells
+}
+
+fn unescape_markdown(s: &str) -> String {
+    let mut out = String::new();
+    let mut chars = s.chars();
+    while let Some(ch) = chars.next() {
+        if ch == '\\' {
+            if let Some(next) = chars.next() {
+                out.push(next);
+            }
+        } else {
+            out.push(ch);
+        }
+    }
+    out
+}
+
+/// The tables of a Markdown page: runs of consecutive lines starting with `|`.
+fn tables(md: &str) -> Vec<Vec<&str>> {
+    let mut out: Vec<Vec<&str>> = Vec::new();
+    let mut current: Vec<&str> = Vec::new();
+    for line in md.lines() {
+        if line.starts_with('|') {
+            current.push(line);
+        } else if !current.is_empty() {
+            out.push(std::mem::take(&mut current));
+        }
+    }
+    if !current.is_empty() {
+        out.push(current);
+    }
+    out
+}
+
+#[test]
+fn markdown_tables_keep_their_shape_and_let_no_html_through() {
+    let m = hostile();
+    let md = markdown(&m);
+    let tables = tables(&md);
+    assert_eq!(tables.len(), 2, "the matrix and the images table:\n{md}");
+    let matrix = &tables[0];
+    assert_eq!(matrix.len(), 2 + m.packages.len());
+    let want = 3 + m.images.len();
+    for line in matrix {
+        assert_eq!(split_row(line).len() - 1, want, "pipes in {line:?}");
+    }
+    for line in &tables[1] {
+        assert_eq!(split_row(line).len() - 1, 11, "pipes in {line:?}");
+    }
+    // The package column reads back to the names, line breaks folded into spaces.
+    for (line, p) in matrix[2..].iter().zip(&m.packages) {
+        let cells = split_row(line);
+        let name: String = p
+            .name
+            .split(['\n', '\r', '\u{2028}', '\u{2029}'])
+            .filter(|s| !s.is_empty())
+            .collect::<Vec<_>>()
+            .join(" ");
+        assert_eq!(unescape_markdown(cells[2].trim()), name);
+    }
+    // No character that opens HTML, code, emphasis or a link is left unescaped in a cell
+    // or a note that holds input.
+    let unescaped = |text: &str| -> Option<char> {
+        let chars: Vec<char> = text.chars().collect();
+        chars.iter().enumerate().find_map(|(i, ch)| {
+            let special = matches!(
+                ch,
+                '<' | '>' | '`' | '[' | ']' | '&' | '*' | '_' | '$' | '|'
+            );
+            let escaped = chars[..i].iter().rev().take_while(|c| **c == '\\').count() % 2 == 1;
+            (special && !escaped).then_some(*ch)
+        })
+    };
+    for line in matrix[2..].iter() {
+        let cols = split_row(line);
+        assert_eq!(unescaped(&cols[2]), None, "{line}");
+    }
+    for h in &split_row(matrix[0])[3..] {
+        assert_eq!(unescaped(h), None, "{h}");
+    }
+    let notes: Vec<&str> = md.lines().filter(|l| l.starts_with("- **[")).collect();
+    assert!(!notes.is_empty());
+    for line in notes {
+        let body = &line[line.find("]** ").unwrap() + 4..];
+        assert_eq!(unescaped(body), None, "{line}");
+    }
+    assert!(!md.contains(XSS));
+    assert!(md.contains(NOTICE));
+}
+
+#[test]
+fn markdown_snapshot_of_the_sample_matrix() {
+    let m = load("sample-matrix.json");
+    let md = markdown(&m);
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/sample-matrix.md");
+    if std::env::var_os("BASEFIT_UPDATE_SNAPSHOTS").is_some() {
+        std::fs::write(&path, &md).expect("snapshot written");
+    }
+    let want = data("sample-matrix.md");
+    if md != want {
+        let diff = similar::TextDiff::from_lines(want.as_str(), md.as_str())
+            .unified_diff()
+            .header("expected", "rendered")
+            .to_string();
+        panic!(
+            "Markdown for sample-matrix.json changed (BASEFIT_UPDATE_SNAPSHOTS=1 rewrites it):\n{diff}"
+        );
+    }
+}
+
+/// Reads the matrix table back and checks every cell's symbol, marker and note against the
+/// matrix, so the snapshot cannot drift into showing the wrong outcome.
+fn cross_check_symbols(m: &Matrix) {
+    let md = markdown(m);
+    let table = &tables(&md)[0];
+    let header = split_row(table[0]);
+    for (img, h) in m.images.iter().zip(&header[3..]) {
+        assert_eq!(unescape_markdown(h.trim()), img.id);
+    }
+    let mut checked = 0;
+    for (r, line) in table[2..].iter().enumerate() {
+        let cols = split_row(line);
+        let p = &m.packages[r];
+        assert_eq!(cols[1].trim(), p.rank.to_string());
+        assert_eq!(unescape_markdown(cols[2].trim()), p.name);
+        for (c, img) in m.images.iter().enumerate() {
+            let text = cols[3 + c].trim();
+            let cell = m.cell(&p.name, &img.id).expect("a full matrix");
+            let (symbol, note) = text.split_once(' ').unwrap_or((text, ""));
+            let mark = cell
+                .recorded
+                .as_ref()
+                .map_or("", |rec| Mark::of(rec).symbol());
+            assert_eq!(
+                symbol,
+                format!("{}{mark}", outcome_symbol(cell.outcome)),
+                "{} on {}",
+                p.name,
+                img.id
+            );
+            let noted = cell.outcome != Outcome::Installs
+                || matches!(
+                    cell.recorded.as_ref().map(Mark::of),
+                    Some(Mark::Surprise | Mark::Unsettled)
+                );
+            assert_eq!(
+                !note.is_empty(),
+                noted,
+                "note on {} on {}: {text:?}",
+                p.name,
+                img.id
+            );
+            if let Some(n) = note.strip_prefix('[').and_then(|n| n.strip_suffix(']')) {
+                let n: usize = n.parse().expect("a note number");
+                let prefix = format!("- **[{n}]** ");
+                let line = md
+                    .lines()
+                    .find(|l| l.starts_with(&prefix))
+                    .unwrap_or_else(|| panic!("note {n} is listed"));
+                if let Some(cause) = cell.cause {
+                    assert!(line.contains(cause.as_str()), "{line}");
+                }
+            }
+            checked += 1;
+        }
+    }
+    assert_eq!(checked, m.packages.len() * m.images.len());
+}
+
+#[test]
+fn markdown_symbols_match_the_sample_and_demo_matrices() {
+    cross_check_symbols(&load("sample-matrix.json"));
+    cross_check_symbols(&load("demo-matrix.json"));
+}
+
+// ---------------------------------------------------------------- csv
+
+fn expected_field(s: &str) -> String {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
+#[test]
+fn csv_reads_back_to_the_same_values() {
+    let m = hostile();
+    let text = csv(&m);
+    let mut reader = ::csv::Reader::from_reader(text.as_bytes());
+    let headers: Vec<String> = reader
+        .headers()
+        .expect("a header")
+        .iter()
+        .map(str::to_owned)
+        .collect();
+    assert_eq!(headers, COLUMNS);
+    let records: Vec<::csv::StringRecord> =
+        reader.records().collect::<Result<_, _>>().expect("records");
+    assert_eq!(records.len(), m.packages.len() * m.images.len());
+    let mut i = 0;
+    for p in &m.packages {
+        for img in &m.images {
+            let cell = m.cell(&p.name, &img.id).expect("a full matrix");
+            let rec = &records[i];
+            i += 1;
+            let get = |col: &str| rec.get(COLUMNS.iter().position(|c| *c == col).unwrap());
+            assert_eq!(get("package"), Some(expected_field(&p.name).as_str()));
+            assert_eq!(get("rank"), Some(p.rank.to_string().as_str()));
+            assert_eq!(
+                get("weight").map(|w| w.parse::<f64>().unwrap()),
+                Some(p.weight)
+            );
+            let text = |col: &str, want: &str| {
+                assert_eq!(get(col), Some(expected_field(want).as_str()), "{col}");
+            };
+            text("image", &img.id);
+            text("runtime", &img.runtime);
+            text("family", &img.family);
+            assert_eq!(get("outcome"), Some(cell.outcome.as_str()));
+            assert_eq!(get("cause"), Some(cell.cause.map_or("", |c| c.as_str())));
+            text("root_version", cell.root_version.as_deref().unwrap_or(""));
+            assert_eq!(
+                get("closure_size"),
+                Some(cell.closure_size.to_string().as_str())
+            );
+            text(
+                "missing_system_packages",
+                &cell.missing_system_packages.join(" "),
+            );
+            let rec_check = cell.recorded.as_ref();
+            text("recorded", rec_check.map_or("", |r| r.recorded.as_str()));
+            text("verdict", rec_check.map_or("", |r| r.verdict.as_str()));
+            text("explanation", &cell.explanation.join(" / "));
+            assert_eq!(get("notice"), Some(NOTICE));
+        }
+    }
+    // The formula-looking name is the one value that changes, and only by a leading quote.
+    assert!(text.contains("'=HYPERLINK"));
+}
+
+// ---------------------------------------------------------------- html
+
+fn unescape_html(s: &str) -> String {
+    s.replace("&lt;", "<")
+        .replace("&gt;", ">")
+        .replace("&quot;", "\"")
+        .replace("&#39;", "'")
+        .replace("&#13;", "\r")
+        .replace("&#10;", "\n")
+        .replace("&#9;", "\t")
+        .replace("&amp;", "&")
+}
+
+/// Values of `attr="..."` on every tag that starts with `tag_start`.
+fn attribute_values(page: &str, tag_start: &str, attr: &str) -> Vec<String> {
+    let needle = format!(" {attr}=\"");
+    page.match_indices(tag_start)
+        .filter_map(|(at, _)| {
+            let tag = &page[at..at + page[at..].find('>')?];
+            let start = tag.find(&needle)? + needle.len();
+            let len = tag[start..].find('"')?;
+            Some(unescape_html(&tag[start..start + len]))
+        })
+        .collect()
+}
+
+/// Tags the page writes itself; any other tag would have come from the input.
+const PAGE_TAGS: &[&str] = &[
+    "!DOCTYPE", "html", "head", "meta", "title", "style", "body", "header", "p", "h1", "h2", "h3",
+    "aside", "div", "span", "strong", "main", "section", "fieldset", "legend", "label", "input",
+    "button", "table", "thead", "tfoot", "tbody", "tr", "th", "td", "ul", "li", "dl", "dt", "dd",
+    "footer", "script",
+];
+
+/// With `BASEFIT_RENDER_OUT=DIR`, writes the hostile matrix in every format, for the browser
+/// check (`tests/browser/run.sh DIR/hostile.html DIR`) and for a look by eye.
+#[test]
+fn write_hostile_pages_when_asked() {
+    let Some(dir) = std::env::var_os("BASEFIT_RENDER_OUT") else {
+        return;
+    };
+    let dir = Path::new(&dir);
+    let m = hostile();
+    basefit::report::write_atomic(&dir.join("hostile.html"), html(&m).as_bytes()).unwrap();
+    basefit::report::write_atomic(&dir.join("hostile.md"), markdown(&m).as_bytes()).unwrap();
+    basefit::report::write_atomic(&dir.join("hostile.csv"), csv(&m).as_bytes()).unwrap();
+}
+
+#[test]
+fn html_lets_no_tag_come_from_the_input_and_its_data_reads_back() {
+    let m = hostile();
+    let page = html(&m);
+
+    // Exactly the page's own two scripts: the data and the code, in that order.
+    let data_open = format!("<script type=\"application/json\" id=\"{DATA_ID}\">");
+    assert_eq!(page.matches("<script").count(), 2);
+    assert_eq!(page.matches("</script>").count(), 2);
+    assert_eq!(page.matches(&data_open).count(), 1);
+    assert!(!page.contains("<script>alert"));
+    assert!(!page.contains("<b>") && !page.contains("<i>") && !page.contains("<!--"));
+
+    // Every `<` outside the page's own script opens one of the page's own tags.
+    let code = page.rfind("<script>\n").expect("the page script");
+    for (at, _) in page[..code].match_indices('<') {
+        let rest = &page[at + 1..];
+        let name: String = rest
+            .trim_start_matches('/')
+            .chars()
+            .take_while(|c| c.is_ascii_alphanumeric() || *c == '!')
+            .collect();
+        assert!(
+            PAGE_TAGS.contains(&name.as_str()),
+            "a tag the page does not write: <{}",
+            &rest[..rest.len().min(40)]
+        );
+    }
+
+    // The embedded JSON cannot end its element early and parses back to the matrix.
+    let start = page.find(&data_open).unwrap() + data_open.len();
+    let len = page[start..].find("</script>").unwrap();
+    let json = &page[start..start + len];
+    for bad in ['<', '>', '&', '\u{2028}', '\u{2029}'] {
+        assert!(!json.contains(bad), "raw {bad:?} in the embedded JSON");
+    }
+    let value: serde_json::Value = serde_json::from_str(json).expect("JSON");
+    let back: Matrix = serde_json::from_value(value["matrix"].clone()).expect("a matrix");
+    assert_eq!(back, m);
+    assert_eq!(value["notice"], NOTICE);
+
+    // DOM hooks carry the exact values, in matrix order, one cell per pair.
+    let tds = "<td class=\"cell ";
+    let packages = attribute_values(&page, tds, "data-package");
+    let images = attribute_values(&page, tds, "data-image");
+    let families = attribute_values(&page, tds, "data-family");
+    let outcomes = attribute_values(&page, tds, "data-outcome");
+    assert_eq!(packages.len(), m.packages.len() * m.images.len());
+    let mut i = 0;
+    for p in &m.packages {
+        for img in &m.images {
+            assert_eq!(packages[i], p.name);
+            assert_eq!(images[i], img.id);
+            assert_eq!(families[i], img.family);
+            assert_eq!(
+                outcomes[i],
+                m.cell(&p.name, &img.id).unwrap().outcome.as_str()
+            );
+            i += 1;
+        }
+    }
+    // The notice is the crate's, whatever the matrix file says.
+    assert!(page.contains(NOTICE));
+    assert!(!page.contains("<b>not the notice</b>"));
+}
+
+#[test]
+fn html_page_fetches_nothing() {
+    let page = html(&load("demo-matrix.json"));
+    assert!(page.contains("default-src 'none'"));
+    for needle in ["http://", "https://", "src=", "@import", "url(", "<link"] {
+        assert!(!page.contains(needle), "{needle} in the page");
+    }
+}
+
+#[test]
+fn html_has_filters_legend_summaries_and_hooks() {
+    let m = load("demo-matrix.json");
+    let page = html(&m);
+    for o in Outcome::ALL {
+        assert!(page.contains(&format!("id=\"filter-outcome-{}\"", o.as_str())));
+    }
+    let families = attribute_values(
+        &page,
+        "<input type=\"checkbox\" id=\"filter-family-",
+        "data-family",
+    );
+    assert_eq!(families, ["debian", "alpine", "rhel"]);
+    assert_eq!(
+        attribute_values(&page, "<li class=\"image-summary\"", "data-image"),
+        m.images.iter().map(|i| i.id.clone()).collect::<Vec<_>>()
+    );
+    assert!(page.contains("id=\"detail\""));
+    assert!(page.contains("class=\"legend\""));
+    assert_eq!(page.matches("tabindex=\"0\" role=\"gridcell\"").count(), 1);
+}
+
+// ---------------------------------------------------------------- any input
+
+#[test]
+fn rendering_is_deterministic() {
+    for m in [
+        hostile(),
+        load("sample-matrix.json"),
+        load("demo-matrix.json"),
+    ] {
+        let copy: Matrix = serde_json::from_str(&serde_json::to_string(&m).unwrap()).unwrap();
+        assert_eq!(markdown(&m), markdown(&m));
+        assert_eq!(markdown(&m), markdown(&copy));
+        assert_eq!(csv(&m), csv(&copy));
+        assert_eq!(html(&m), html(&m));
+        assert_eq!(html(&m).as_bytes(), html(&copy).as_bytes());
+    }
+}
+
+#[test]
+fn partial_and_odd_matrices_render_without_panicking() {
+    let full = load("demo-matrix.json");
+    let mut shard = full.clone();
+    shard
+        .cells
+        .retain(|c| c.package != "kelp" || c.image == "ubi-3.1");
+    let mut shuffled = full.clone();
+    shuffled.cells.reverse();
+    let mut odd = hostile();
+    odd.packages[0].weight = f64::NAN;
+    odd.packages[1].weight = f64::INFINITY;
+    odd.packages.push(odd.packages[0].clone());
+    odd.cells.truncate(5);
+    odd.cells.push(cell("nobody", "nowhere", Outcome::Fails));
+    let empty = Matrix {
+        notice: String::new(),
+        images: Vec::new(),
+        packages: Vec::new(),
+        cells: Vec::new(),
+    };
+    let no_images = Matrix {
+        images: Vec::new(),
+        ..full.clone()
+    };
+    for m in [&shard, &shuffled, &odd, &empty, &no_images] {
+        let md = markdown(m);
+        let _ = csv(m);
+        let page = html(m);
+        assert!(md.contains(NOTICE) && page.contains(NOTICE));
+    }
+    // A cell the matrix lacks is shown as such, never as an outcome.
+    let md = markdown(&shard);
+    let kelp = md.lines().find(|l| l.contains("| kelp |")).unwrap();
+    assert_eq!(kelp.matches(NO_CELL).count(), 4, "{kelp}");
+    assert_eq!(
+        csv(&shard)
+            .lines()
+            .filter(|l| l.starts_with("kelp,"))
+            .count(),
+        1
+    );
+    // Reordered cells land in their own places.
+    assert_eq!(markdown(&shuffled), markdown(&full));
+    assert_eq!(csv(&shuffled), csv(&full));
+}
