@@ -336,7 +336,7 @@ pub struct DiffCommand {
 pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
-    let d = crate::verify::diff::diff(&a, &b, text::grid);
+    let d = crate::verify::diff::diff(&a, &b, report::markdown);
     let stdout = match o.format {
         Format::Json => report::to_json(&d),
         _ => text::diff_text(&d),
@@ -521,4 +521,72 @@ fn sanitize(id: &str) -> String {
             }
         })
         .collect()
+}
+
+pub struct RenderCommand {
+    pub inputs: InputPaths,
+    pub strict: bool,
+    pub plan: PlanOptions,
+    /// Render this matrix (from `plan`) instead of planning afresh.
+    pub matrix: Option<PathBuf>,
+    /// Folder for matrix.html, matrix.md, matrix.csv, matrix.json and matrix.yaml.
+    pub out: Option<PathBuf>,
+    /// Without `out`: the one format printed to stdout.
+    pub format: Format,
+}
+
+/// `render`: the support matrix as an HTML page, a Markdown table, CSV, JSON and YAML; with
+/// recorded results, each cell also shows how its installs compare.
+pub fn render(o: &RenderCommand) -> Result<Output> {
+    let inputs = load(&o.inputs, o.strict)?;
+    let mut matrix = match &o.matrix {
+        Some(p) => read_matrix(p)?,
+        None => {
+            if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
+                return Err(BadInput::file(
+                    "command line",
+                    "render needs --matrix, or --images and --priorities to plan from",
+                )
+                .into());
+            }
+            plan::plan(&inputs, &o.plan)
+        }
+    };
+    if !inputs.results.is_empty() {
+        let review = crate::verify::compare(
+            &matrix,
+            &inputs.results,
+            &inputs.registry,
+            &inputs.images,
+            &inputs.catalog,
+        );
+        crate::verify::annotate(&mut matrix, &review);
+    }
+    let mut out = Output::default();
+    match &o.out {
+        Some(dir) => {
+            let files = [
+                ("matrix.html", report::html(&matrix)),
+                ("matrix.md", report::markdown(&matrix)),
+                ("matrix.csv", report::csv(&matrix)),
+                ("matrix.json", report::to_json(&matrix)),
+                ("matrix.yaml", report::to_yaml(&matrix)),
+            ];
+            for (name, body) in files {
+                let path = dir.join(name);
+                report::write_atomic(&path, body.as_bytes())?;
+                out.stdout.push_str(&format!("{}\n", path.display()));
+            }
+        }
+        None => {
+            out.stdout = match o.format {
+                Format::Html => report::html(&matrix),
+                Format::Csv => report::csv(&matrix),
+                Format::Json => report::to_json(&matrix),
+                Format::Yaml => report::to_yaml(&matrix),
+                Format::Markdown | Format::Table => report::markdown(&matrix),
+            }
+        }
+    }
+    Ok(out)
 }

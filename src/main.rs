@@ -55,6 +55,11 @@ enum Command {
         after_help = "Example:\n  basefit merge --out out/ shard1/matrix.json shard2/matrix.json"
     )]
     Merge(MergeArgs),
+    /// Render the support matrix: HTML page, Markdown table, CSV, JSON and YAML.
+    #[command(
+        after_help = "Example:\n  basefit render --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --results demo-data/results.yaml --out out/"
+    )]
+    Render(RenderArgs),
     /// Plan images: runtime coverage, system-package advice and a pre-install set per image.
     #[command(
         after_help = "Example:\n  basefit imageplan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --image debian-2.4 --runtimes 3.0.5,3.1.2 \\\n    --target 0.95 --out out/"
@@ -293,6 +298,40 @@ fn run_imageplan(a: ImageplanArgs) -> anyhow::Result<Output> {
     })
 }
 
+#[derive(Args)]
+struct RenderArgs {
+    #[command(flatten)]
+    input: InputArgs,
+    #[command(flatten)]
+    solve: SolveArgs,
+    /// Recorded install results to show in the cells (repeatable).
+    #[arg(long, value_name = "FILE")]
+    results: Vec<PathBuf>,
+    /// Render this matrix (from `plan`) instead of planning afresh.
+    #[arg(long, value_name = "FILE")]
+    matrix: Option<PathBuf>,
+    /// Folder for matrix.html, matrix.md, matrix.csv, matrix.json and matrix.yaml; their paths
+    /// are printed.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Without --out: the format printed to stdout.
+    #[arg(long, value_enum, default_value = "markdown")]
+    format: Format,
+}
+
+fn run_render(a: RenderArgs) -> anyhow::Result<Output> {
+    with_threads(a.solve.threads, || {
+        commands::render(&commands::RenderCommand {
+            inputs: a.input.paths(&a.results),
+            strict: a.input.strict,
+            plan: a.solve.options(),
+            matrix: a.matrix.clone(),
+            out: a.out.clone(),
+            format: a.format,
+        })
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -365,6 +404,7 @@ fn main() -> ExitCode {
         Command::Diff(a) => run_diff(a),
         Command::Syslibs(a) => run_syslibs(a),
         Command::Merge(a) => run_merge(a),
+        Command::Render(a) => run_render(a),
         Command::Imageplan(a) => run_imageplan(a),
     };
     match result {

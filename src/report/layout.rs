@@ -57,7 +57,10 @@ impl Mark {
         let verdict = check.verdict.trim();
         if verdict.starts_with("surprise") {
             Mark::Surprise
-        } else if verdict.starts_with("agreed") && check.recorded.trim() != "flaky" {
+        } else if (verdict.starts_with("agreed")
+            || verdict == crate::verify::Verdict::RiskConfirmed.as_str())
+            && check.recorded.trim() != "flaky"
+        {
             Mark::Agreed
         } else {
             Mark::Unsettled
