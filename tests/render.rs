@@ -132,6 +132,7 @@ fn hostile() -> Matrix {
         }
     }
     Matrix {
+        shard: None,
         notice: "<b>not the notice</b>".into(),
         images,
         packages: names
@@ -587,6 +588,7 @@ fn partial_and_odd_matrices_render_without_panicking() {
         images: Vec::new(),
         packages: Vec::new(),
         cells: Vec::new(),
+        shard: None,
     };
     let no_images = Matrix {
         images: Vec::new(),
