@@ -590,3 +590,50 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     }
     Ok(out)
 }
+
+pub struct FuseCommand {
+    pub sources: Vec<PathBuf>,
+    pub method: plan::fusion::Method,
+    pub missing: plan::fusion::Missing,
+    pub window: Option<plan::fusion::Window>,
+    /// File for the priority list; stdout when absent.
+    pub out: Option<PathBuf>,
+}
+
+/// `fuse`: one priority list (basefit's YAML format) from several ranked or scored lists.
+pub fn fuse(o: &FuseCommand) -> Result<Output> {
+    let mut ledger = crate::load::Ledger::default();
+    let mut lists = Vec::new();
+    for p in &o.sources {
+        lists.push(plan::fusion::read_source_csv_within(
+            p,
+            o.window,
+            &mut ledger,
+        )?);
+    }
+    let fused = plan::fusion::fuse(&lists, o.method, o.missing)
+        .map_err(|e| BadInput::file("command line", e.to_string()))?;
+    let yaml = plan::fusion::to_priority_yaml(&fused, o.method, o.missing, &lists);
+    let mut out = Output::default();
+    for p in &ledger.problems {
+        out.stderr
+            .push(format!("{}: {}: {}", p.origin, p.subject, p.detail));
+    }
+    match &o.out {
+        Some(path) => {
+            report::write_atomic(path, yaml.as_bytes())?;
+            out.stderr.push(format!(
+                "wrote {} ({} packages)",
+                path.display(),
+                fused.len()
+            ));
+        }
+        None => out.stdout = yaml,
+    }
+    out.exit = if ledger.is_clean() {
+        exit::OK
+    } else {
+        exit::FOUND
+    };
+    Ok(out)
+}

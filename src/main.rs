@@ -60,6 +60,11 @@ enum Command {
         after_help = "Example:\n  basefit render --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --results demo-data/results.yaml --out out/"
     )]
     Render(RenderArgs),
+    /// Build a priority list from several ranked or scored source lists (CSV).
+    #[command(
+        after_help = "Example:\n  basefit fuse --source downloads.csv --source usage.csv --method reciprocal --out priorities.yaml"
+    )]
+    Fuse(FuseArgs),
     /// Plan images: runtime coverage, system-package advice and a pre-install set per image.
     #[command(
         after_help = "Example:\n  basefit imageplan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --image debian-2.4 --runtimes 3.0.5,3.1.2 \\\n    --target 0.95 --out out/"
@@ -332,6 +337,78 @@ fn run_render(a: RenderArgs) -> anyhow::Result<Output> {
     })
 }
 
+#[derive(Clone, Copy, clap::ValueEnum)]
+enum FuseMethod {
+    /// Sum of ranks, lowest first.
+    RankSum,
+    /// Borda count.
+    Borda,
+    /// Reciprocal rank fusion (see --k).
+    Reciprocal,
+    /// Sum of each list's score shares.
+    ShareSum,
+}
+
+#[derive(Clone, Copy, clap::ValueEnum)]
+enum FuseMissing {
+    /// A package absent from a list ranks just behind its last entry.
+    WorstPlusOne,
+    /// A package is scored only on the lists that hold it.
+    Exclude,
+}
+
+#[derive(Args)]
+struct FuseArgs {
+    /// Source list CSV with columns name and rank and/or score (and date); repeatable.
+    #[arg(long = "source", value_name = "FILE", required = true)]
+    sources: Vec<PathBuf>,
+    #[arg(long, value_enum, default_value = "reciprocal")]
+    method: FuseMethod,
+    /// The reciprocal rank fusion constant.
+    #[arg(long, default_value_t = 60.0)]
+    k: f64,
+    #[arg(long, value_enum, default_value = "worst-plus-one")]
+    missing: FuseMissing,
+    /// Only rows dated within FROM..TO (YYYY-MM-DD..YYYY-MM-DD, both included).
+    #[arg(long, value_name = "FROM..TO", value_parser = parse_window)]
+    window: Option<basefit::plan::fusion::Window>,
+    /// File for the priority list (default: stdout).
+    #[arg(long, value_name = "FILE")]
+    out: Option<PathBuf>,
+}
+
+fn parse_window(s: &str) -> Result<basefit::plan::fusion::Window, String> {
+    let (a, b) = s
+        .split_once("..")
+        .ok_or("expected FROM..TO, e.g. 2026-01-01..2026-06-30")?;
+    let date = |t: &str| {
+        basefit::model::ReleaseDate::parse(t).ok_or(format!("`{t}` is not a date (YYYY-MM-DD)"))
+    };
+    Ok(basefit::plan::fusion::Window {
+        from: date(a)?,
+        to: date(b)?,
+    })
+}
+
+fn run_fuse(a: FuseArgs) -> anyhow::Result<Output> {
+    use basefit::plan::fusion::{Method, Missing};
+    commands::fuse(&commands::FuseCommand {
+        sources: a.sources,
+        method: match a.method {
+            FuseMethod::RankSum => Method::RankSum,
+            FuseMethod::Borda => Method::Borda,
+            FuseMethod::Reciprocal => Method::Reciprocal { k: a.k },
+            FuseMethod::ShareSum => Method::ShareSum,
+        },
+        missing: match a.missing {
+            FuseMissing::WorstPlusOne => Missing::WorstPlusOne,
+            FuseMissing::Exclude => Missing::Exclude,
+        },
+        window: a.window,
+        out: a.out,
+    })
+}
+
 fn run_check(a: CheckArgs) -> anyhow::Result<Output> {
     Ok(commands::check(&commands::CheckOptions {
         inputs: a.input.paths(&a.results),
@@ -405,6 +482,7 @@ fn main() -> ExitCode {
         Command::Syslibs(a) => run_syslibs(a),
         Command::Merge(a) => run_merge(a),
         Command::Render(a) => run_render(a),
+        Command::Fuse(a) => run_fuse(a),
         Command::Imageplan(a) => run_imageplan(a),
     };
     match result {

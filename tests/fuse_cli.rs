@@ -1,0 +1,43 @@
+//! `fuse` writes a priority list that basefit's own priority reader accepts, in fused order.
+
+use basefit::load::{Ledger, read_priorities};
+use std::process::Command;
+
+#[test]
+fn fused_list_reads_back_as_a_priority_list() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("priorities.yaml");
+    let status = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args([
+            "fuse",
+            "--source",
+            "demo-data/sources/downloads.csv",
+            "--source",
+            "demo-data/sources/usage.csv",
+            "--method",
+            "rank-sum",
+            "--out",
+        ])
+        .arg(&out)
+        .status()
+        .unwrap();
+    assert_eq!(status.code(), Some(0));
+    let mut ledger = Ledger::default();
+    let list = read_priorities(&out, &mut ledger).unwrap();
+    assert!(ledger.is_clean(), "{:?}", ledger.problems);
+    let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
+    // Ranks by hand. downloads.csv summed per name: tidewater-http 1200 (1), wattle-core 700
+    // (2), gumleaf 650 (3), saltbush 100 (4), brolga-cli absent (5 = worst plus one).
+    // usage.csv: wattle-core 1, gumleaf 2, saltbush 3, brolga-cli 4, tidewater-http absent (5).
+    // Sums: wattle-core 3, gumleaf 5, tidewater-http 6, saltbush 7, brolga-cli 9.
+    assert_eq!(
+        names,
+        [
+            "wattle-core",
+            "gumleaf",
+            "tidewater-http",
+            "saltbush",
+            "brolga-cli"
+        ]
+    );
+}
