@@ -185,11 +185,13 @@ impl DependencyProvider for CellProvider<'_, '_> {
     }
 
     fn should_cancel(&self) -> Result<(), BudgetExhausted> {
+        // The step that would exceed the budget is refused, not taken: it is not counted, so
+        // the steps a solve reports never exceed its budget.
         let steps = self.steps.get() + 1;
-        self.steps.set(steps);
         if steps > self.budget {
             Err(BudgetExhausted { steps: self.budget })
         } else {
+            self.steps.set(steps);
             Ok(())
         }
     }
