@@ -170,17 +170,43 @@ impl DependencyProvider for CellProvider<'_, '_> {
                         None => deps.push((node, set)),
                     }
                 }
+                // A dependency of a release on its own package is decided by the release
+                // alone, since one version per package is chosen: met when the requirement
+                // admits this very version, never met otherwise. pubgrub 0.4 must not see it:
+                // it turns a self-dependency into an incompatibility with two terms on one
+                // package, and when the requirement excludes the version, resolution can then
+                // drop a required package and report a "solution" without it (fixed upstream in
+                // pubgrub-rs/pubgrub#455, after 0.4.0, by tracking it as a single term).
+                if let Some(pos) = deps.iter().position(|(n, _)| *n == Node::Package(*id)) {
+                    let (_, own) = deps.swap_remove(pos);
+                    if !own.contains(version) {
+                        let mut reqs: Vec<&str> = release
+                            .runtime_deps()
+                            .filter(|d| d.package == *id)
+                            .map(|d| registry.requirement(d.req).text.as_str())
+                            .collect();
+                        reqs.dedup();
+                        let name = registry.name(*id);
+                        return Ok(Dependencies::Unavailable(format!(
+                            "{name} {} depends on {name} {}, which excludes itself",
+                            release.version,
+                            reqs.join(", ")
+                        )));
+                    }
+                }
                 Ok(Dependencies::Available(deps.into_iter().collect()))
             }
         }
     }
 
     fn should_cancel(&self) -> Result<(), BudgetExhausted> {
+        // The step that would exceed the budget is refused, not taken: it is not counted, so
+        // the steps a solve reports never exceed its budget.
         let steps = self.steps.get() + 1;
-        self.steps.set(steps);
         if steps > self.budget {
             Err(BudgetExhausted { steps: self.budget })
         } else {
+            self.steps.set(steps);
             Ok(())
         }
     }

@@ -1,0 +1,375 @@
+//! basefit's requirement -> version-set conversion against the `semver` crate, and version
+//! order against Semantic Versioning 2.0.0.
+//!
+//! The reference for what a requirement admits is `semver::VersionReq::matches` (pre-release
+//! rule included). basefit's requirement syntax is the semver crate's plus `||`, meaning any
+//! alternative (model/requirement.rs), so the reference for `A || B` is
+//! `[A, B].iter().any(|r| r.matches(v))`, each alternative parsed by `semver::VersionReq`.
+//!
+//! Pairs: `BASEFIT_SEMVER_PAIRS` (default 6,000) sets how many (requirement, version) pairs
+//! are compared at least; e.g. `BASEFIT_SEMVER_PAIRS=200000 cargo test --test
+//! semver_agreement -- --nocapture` for a long run. The count compared and the number of
+//! disagreements (always zero: any disagreement fails the test with a shrunk example) are
+//! printed.
+
+use basefit::load::RegistryBuilder;
+use basefit::load::registry::RawRelease;
+use basefit::model::{PackageId, Registry, Requirement};
+use basefit::solve::SetCache;
+use basefit::solve::sets::{indices, requirement_set, set_from_predicate};
+use proptest::prelude::*;
+use proptest::test_runner::{Config, RngAlgorithm, TestCaseError, TestRng, TestRunner};
+use semver::{Version, VersionReq};
+use std::cmp::Ordering;
+use std::collections::BTreeSet;
+use std::sync::atomic::{AtomicU64, Ordering::Relaxed};
+
+const PRE: &[&str] = &[
+    "alpha",
+    "alpha.1",
+    "alpha.beta",
+    "beta",
+    "beta.2",
+    "beta.11",
+    "rc.1",
+    "rc.2",
+    "0",
+    "1",
+    "x.7.z.92",
+];
+const BUILD: &[&str] = &["build.1", "001", "exp.sha.5114f85", "20130313144700"];
+
+fn version() -> impl Strategy<Value = Version> {
+    (
+        0u64..4,
+        0u64..4,
+        0u64..4,
+        prop::option::weighted(0.35, prop::sample::select(PRE)),
+        prop::option::weighted(0.2, prop::sample::select(BUILD)),
+    )
+        .prop_map(|(ma, mi, pa, pre, build)| {
+            let mut s = format!("{ma}.{mi}.{pa}");
+            if let Some(p) = pre {
+                s.push('-');
+                s.push_str(p);
+            }
+            if let Some(b) = build {
+                s.push('+');
+                s.push_str(b);
+            }
+            Version::parse(&s).unwrap()
+        })
+}
+
+/// One comparator: an operator (or none) before a partial version, a wildcard, or a full
+/// version with a pre-release tag; now and then a malformed one, which both parsers must
+/// refuse.
+fn comparator() -> impl Strategy<Value = String> {
+    prop_oneof![
+        19 => well_formed_comparator(),
+        1 => malformed_comparator(),
+    ]
+}
+
+fn malformed_comparator() -> impl Strategy<Value = String> {
+    prop_oneof![
+        // A pre-release tag on a partial version.
+        (0u64..4, 0u64..4, prop::sample::select(PRE)).prop_map(|(m, n, p)| format!("{m}.{n}-{p}")),
+        // A number after a wildcard.
+        (0u64..4, 0u64..4).prop_map(|(m, p)| format!("{m}.*.{p}")),
+        // A leading zero.
+        (1u64..4, 0u64..4).prop_map(|(m, n)| format!("0{m}.{n}.0")),
+        // A lone `*` among other comparators.
+        Just("*".to_string()),
+    ]
+}
+
+fn well_formed_comparator() -> impl Strategy<Value = String> {
+    let op = prop::sample::select(&["", "=", ">", ">=", "<", "<=", "~", "^"][..]);
+    let body = prop_oneof![
+        (0u64..4).prop_map(|m| format!("{m}")),
+        (0u64..4, 0u64..4).prop_map(|(m, n)| format!("{m}.{n}")),
+        (0u64..4, 0u64..4, 0u64..4).prop_map(|(m, n, p)| format!("{m}.{n}.{p}")),
+        (0u64..4, 0u64..4, 0u64..4, prop::sample::select(PRE))
+            .prop_map(|(m, n, p, pre)| format!("{m}.{n}.{p}-{pre}")),
+        (0u64..4, prop::sample::select(&["*", "x", "X"][..])).prop_map(|(m, w)| format!("{m}.{w}")),
+        (0u64..4, 0u64..4, prop::sample::select(&["*", "x", "X"][..]))
+            .prop_map(|(m, n, w)| format!("{m}.{n}.{w}")),
+    ];
+    (op, body).prop_map(|(op, body)| format!("{op}{body}"))
+}
+
+/// A requirement: one to three alternatives joined by `||`, each one to three comparators
+/// joined by commas (or a lone `*`).
+fn requirement() -> impl Strategy<Value = String> {
+    let alternative = prop_oneof![
+        9 => prop::collection::vec(comparator(), 1..=3),
+        1 => Just(vec!["*".to_string()]),
+    ]
+    .prop_map(|cs| cs.join(", "));
+    (
+        prop::collection::vec(alternative, 1..=3),
+        prop::sample::select(&[" || ", "||", " ||  "][..]),
+    )
+        .prop_map(|(alts, sep)| alts.join(sep))
+}
+
+/// The reference: every alternative parsed by `semver::VersionReq`, or none if any fails.
+fn reference(text: &str) -> Option<Vec<VersionReq>> {
+    text.split("||")
+        .map(|a| VersionReq::parse(a.trim()).ok())
+        .collect()
+}
+
+/// A registry with one package `pkg` whose releases are `versions`, fed in the given order.
+fn registry_with(versions: &[Version]) -> (Registry, PackageId) {
+    let mut b = RegistryBuilder::new();
+    let id = b.declare_package("semver.yaml", 1, "pkg", None, false);
+    for (line, v) in versions.iter().enumerate() {
+        let text = v.to_string();
+        b.add_release(
+            id,
+            "semver.yaml",
+            line + 2,
+            RawRelease {
+                version: &text,
+                released: None,
+                runtime: None,
+                deps: Vec::new(),
+                source_build: true,
+                prebuilt: Vec::new(),
+                native: None,
+                yanked: false,
+            },
+        );
+    }
+    (b.finish().0, id)
+}
+
+fn members(set: &basefit::solve::IndexSet, count: usize) -> BTreeSet<u32> {
+    indices(set, count).collect()
+}
+
+#[test]
+fn requirement_sets_agree_with_semver_matches() {
+    let target: u64 = std::env::var("BASEFIT_SEMVER_PAIRS")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(6_000);
+    let pairs = AtomicU64::new(0);
+    let parsed = AtomicU64::new(0);
+    let refused = AtomicU64::new(0);
+    let strategy = (
+        prop::collection::btree_set(version(), 5..25),
+        prop::collection::vec(requirement(), 8),
+        any::<u64>(),
+    );
+    let config = Config {
+        cases: 64,
+        failure_persistence: None,
+        ..Config::default()
+    };
+    // A fixed seed: the run is reproducible; shrinking reports a minimal disagreement. A
+    // runner runs its cases once, so each round of 64 cases gets a fresh runner whose
+    // generator is forked from the seeded one.
+    let mut seeds = TestRunner::new_with_rng(
+        config.clone(),
+        TestRng::deterministic_rng(RngAlgorithm::ChaCha),
+    );
+    while pairs.load(Relaxed) < target {
+        let mut runner = TestRunner::new_with_rng(config.clone(), seeds.new_rng());
+        let result = runner.run(&strategy, |(versions, reqs, shuffle)| {
+            // Feed the versions shuffled; the registry must order them as semver does.
+            let sorted: Vec<Version> = versions.into_iter().collect();
+            let mut fed = sorted.clone();
+            let mut s = shuffle;
+            for i in (1..fed.len()).rev() {
+                s = s
+                    .wrapping_mul(6364136223846793005)
+                    .wrapping_add(1442695040888963407);
+                fed.swap(i, (s >> 33) as usize % (i + 1));
+            }
+            let (mut registry, id) = registry_with(&fed);
+            let loaded: Vec<&Version> = registry
+                .package(id)
+                .releases
+                .iter()
+                .map(|r| &r.version)
+                .collect();
+            prop_assert_eq!(loaded, sorted.iter().collect::<Vec<_>>());
+            let n = sorted.len();
+            let cache = SetCache::default();
+            for text in &reqs {
+                let ours = Requirement::parse(text);
+                let theirs = reference(text);
+                // Both accept or both refuse the text.
+                prop_assert_eq!(
+                    ours.is_ok(),
+                    theirs.is_some(),
+                    "parse of `{}`: {:?}",
+                    text,
+                    ours
+                );
+                let (Ok(req), Some(alts)) = (ours, theirs) else {
+                    refused.fetch_add(1, Relaxed);
+                    continue;
+                };
+                parsed.fetch_add(1, Relaxed);
+                let by_set = members(&requirement_set(&registry, id, &req), n);
+                // The path the solver takes: the interned requirement through the set cache.
+                let rid = registry.intern_requirement(text).unwrap();
+                let by_cache = members(&cache.get(&registry, id, rid), n);
+                let by_predicate = members(
+                    &set_from_predicate(n, |i| alts.iter().any(|r| r.matches(&sorted[i]))),
+                    n,
+                );
+                for (i, v) in sorted.iter().enumerate() {
+                    let expected = alts.iter().any(|r| r.matches(v));
+                    let i = i as u32;
+                    prop_assert_eq!(by_set.contains(&i), expected, "`{}` vs {}", text, v);
+                    prop_assert_eq!(
+                        by_cache.contains(&i),
+                        expected,
+                        "`{}` vs {} (cache)",
+                        text,
+                        v
+                    );
+                    prop_assert_eq!(
+                        by_predicate.contains(&i),
+                        expected,
+                        "`{}` vs {} (predicate)",
+                        text,
+                        v
+                    );
+                    pairs.fetch_add(1, Relaxed);
+                }
+            }
+            Ok::<(), TestCaseError>(())
+        });
+        if let Err(e) = result {
+            panic!("disagreement with semver::VersionReq::matches: {e}");
+        }
+    }
+    let (pairs, parsed, refused) = (
+        pairs.load(Relaxed),
+        parsed.load(Relaxed),
+        refused.load(Relaxed),
+    );
+    println!(
+        "compared {pairs} (requirement, version) pairs over {parsed} requirements \
+         ({refused} requirement texts refused by both parsers): 0 disagreements"
+    );
+    assert!(pairs >= target);
+    // Refusals are agreement too, but most generated texts must be real requirements.
+    assert!(parsed > refused * 2, "{parsed} parsed, {refused} refused");
+}
+
+/// Semantic Versioning 2.0.0, section 11: "Example: 1.0.0-alpha < 1.0.0-alpha.1 <
+/// 1.0.0-alpha.beta < 1.0.0-beta < 1.0.0-beta.2 < 1.0.0-beta.11 < 1.0.0-rc.1 < 1.0.0."
+#[test]
+fn semver_spec_section_11_precedence_example() {
+    let spec_order = [
+        "1.0.0-alpha",
+        "1.0.0-alpha.1",
+        "1.0.0-alpha.beta",
+        "1.0.0-beta",
+        "1.0.0-beta.2",
+        "1.0.0-beta.11",
+        "1.0.0-rc.1",
+        "1.0.0",
+    ];
+    // Several shuffles, including the reverse order.
+    let shuffles: [[usize; 8]; 4] = [
+        [7, 6, 5, 4, 3, 2, 1, 0],
+        [3, 7, 0, 5, 1, 6, 2, 4],
+        [5, 2, 7, 1, 4, 0, 6, 3],
+        [1, 0, 3, 2, 5, 4, 7, 6],
+    ];
+    for shuffle in shuffles {
+        let fed: Vec<Version> = shuffle
+            .iter()
+            .map(|&i| Version::parse(spec_order[i]).unwrap())
+            .collect();
+        let (registry, id) = registry_with(&fed);
+        let loaded: Vec<String> = registry
+            .package(id)
+            .releases
+            .iter()
+            .map(|r| r.version.to_string())
+            .collect();
+        assert_eq!(loaded, spec_order, "fed as {shuffle:?}");
+        // Each release has strictly higher precedence than the one before it (section 11).
+        let releases = &registry.package(id).releases;
+        for w in releases.windows(2) {
+            assert_eq!(w[0].version.cmp_precedence(&w[1].version), Ordering::Less);
+        }
+    }
+}
+
+/// Semantic Versioning 2.0.0, section 10: "Build metadata MUST be ignored when determining
+/// version precedence. Thus two versions that differ only in the build metadata, have the
+/// same precedence." (Section 11 likewise: "Build metadata does not figure into
+/// precedence".) The semver crate's `Ord` breaks such ties by build metadata so that it is a
+/// total order; precedence is `Version::cmp_precedence`.
+#[test]
+fn build_metadata_does_not_affect_precedence() {
+    let fed: Vec<Version> = [
+        "1.0.0+exp.sha.5114f85",
+        "1.0.0-rc.1+build.2",
+        "1.0.0",
+        "1.0.0+20130313144700",
+        "1.0.0-rc.1+build.1",
+        "1.0.1-alpha+001",
+        "0.9.0+build.1",
+    ]
+    .iter()
+    .map(|s| Version::parse(s).unwrap())
+    .collect();
+    let (registry, id) = registry_with(&fed);
+    let releases = &registry.package(id).releases;
+    // Versions differing only in build metadata are distinct releases, all kept.
+    assert_eq!(releases.len(), fed.len());
+    let by_precedence = |a: &str| {
+        let a = Version::parse(a).unwrap();
+        releases
+            .iter()
+            .filter(|r| r.version.cmp_precedence(&a) == Ordering::Equal)
+            .count()
+    };
+    assert_eq!(by_precedence("1.0.0"), 3);
+    assert_eq!(by_precedence("1.0.0-rc.1"), 2);
+    // The registry's order never contradicts precedence (section 11), and equal-precedence
+    // releases are adjacent.
+    for w in releases.windows(2) {
+        assert_ne!(
+            w[0].version.cmp_precedence(&w[1].version),
+            Ordering::Greater
+        );
+    }
+    let names: Vec<String> = releases.iter().map(|r| r.version.to_string()).collect();
+    let group = |pred: &dyn Fn(&Version) -> bool| {
+        let idx: Vec<usize> = releases
+            .iter()
+            .enumerate()
+            .filter(|(_, r)| pred(&r.version))
+            .map(|(i, _)| i)
+            .collect();
+        idx.windows(2).all(|w| w[1] == w[0] + 1)
+    };
+    assert!(
+        group(&|v| v.cmp_precedence(&Version::new(1, 0, 0)) == Ordering::Equal),
+        "{names:?}"
+    );
+    // What a requirement admits ignores build metadata too (semver::VersionReq::matches):
+    // `=1.0.0` admits all three 1.0.0 builds and nothing else.
+    let req = Requirement::parse("=1.0.0").unwrap();
+    let set = members(&requirement_set(&registry, id, &req), releases.len());
+    let expected: BTreeSet<u32> = releases
+        .iter()
+        .enumerate()
+        .filter(|(_, r)| r.version.cmp_precedence(&Version::new(1, 0, 0)) == Ordering::Equal)
+        .map(|(i, _)| i as u32)
+        .collect();
+    assert_eq!(set.len(), 3);
+    assert_eq!(set, expected, "{names:?}");
+}

@@ -1,0 +1,123 @@
+//! A registry that forces heavy backtracking ends within a small step budget as undecided.
+//!
+//! The registry encodes the pigeonhole principle: `PIGEONS` packages ("pigeons") must each be
+//! installed, pigeon `i` at version `j.0.0` means "pigeon i sits in hole j", and that release
+//! depends on hole package `hj` at exactly version `i.0.0`. Two pigeons in one hole ask for
+//! two versions of the same hole package, which cannot both be chosen (one version per
+//! package), so with more pigeons than holes there is no solution. Conflict-driven clause
+//! learning, which PubGrub is built on (dart-lang/pub `doc/solver.md`, "Overview": "based on
+//! the Conflict-Driven Clause Learning algorithm"), needs exponentially many steps to refute
+//! pigeonhole formulas (Haken 1985, "The intractability of resolution": every resolution
+//! refutation of the pigeonhole formulas has exponential size): each conflict the solver meets
+//! is local (two pigeons in one hole) and says nothing about the other holes, so it learns
+//! one small fact after another and backtracks again and again before it can conclude.
+
+use basefit::load::RegistryBuilder;
+use basefit::load::images::read_images_str;
+use basefit::load::registry::read_yaml_str;
+use basefit::model::Registry;
+use basefit::solve::{Cause, CellSolve, ImageView, RootSpec, SetCache, Solved, solve_cell};
+
+/// 8 pigeons into 7 holes: about 3,600 steps to refute (a few seconds in debug); one hole more
+/// takes minutes, one fewer refutes within the small budget.
+const HOLES: usize = 7;
+const PIGEONS: usize = HOLES + 1;
+const SMALL_BUDGET: u64 = 2_000;
+const HUGE_BUDGET: u64 = 10_000_000;
+
+/// `flock 1.0.0` needs every one of `pigeons` pigeons; pigeon `i` has one release per hole.
+fn pigeonhole_registry(pigeons: usize, holes: usize) -> Registry {
+    let mut y =
+        String::from("packages:\n- name: flock\n  versions:\n  - version: '1.0.0'\n    depends:\n");
+    for i in 1..=pigeons {
+        y.push_str(&format!("    - {{name: pigeon{i}, req: '*'}}\n"));
+    }
+    for i in 1..=pigeons {
+        y.push_str(&format!("- name: pigeon{i}\n  versions:\n"));
+        for j in 1..=holes {
+            y.push_str(&format!(
+                "  - {{version: '{j}.0.0', depends: [{{name: hole{j}, req: '={i}.0.0'}}]}}\n"
+            ));
+        }
+    }
+    for j in 1..=holes {
+        y.push_str(&format!("- name: hole{j}\n  versions:\n"));
+        for i in 1..=pigeons {
+            y.push_str(&format!("  - {{version: '{i}.0.0'}}\n"));
+        }
+    }
+    let mut b = RegistryBuilder::new();
+    read_yaml_str("pigeonhole.yaml", &y, &mut b).unwrap();
+    b.finish().0
+}
+
+fn solve(registry: &Registry, budget: u64) -> CellSolve {
+    let mut ledger = Default::default();
+    let images = read_images_str(
+        "i.yaml",
+        "images:\n- {id: img, runtime: 1.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        &mut ledger,
+    )
+    .unwrap();
+    let sets = SetCache::default();
+    let view = ImageView::new(registry, &images.images[0], &sets);
+    let root = RootSpec {
+        package: "flock",
+        req: None,
+        prerelease: false,
+    };
+    solve_cell(&view, &root, budget)
+}
+
+#[test]
+fn pigeonhole_exhausts_a_small_budget() {
+    let registry = pigeonhole_registry(PIGEONS, HOLES);
+    let small = solve(&registry, SMALL_BUDGET);
+    assert_eq!(
+        small.solved,
+        Solved::Undecided {
+            steps: SMALL_BUDGET
+        },
+        "a small budget must end the solve undecided"
+    );
+    // The steps taken are reported, and never more than the budget.
+    assert_eq!(small.steps, SMALL_BUDGET);
+    // The budget really bit: given room, the same solve takes far more steps than the small
+    // budget, and ends with the answer the pigeonhole principle gives (no solution).
+    let full = solve(&registry, HUGE_BUDGET);
+    println!("pigeonhole {PIGEONS} into {HOLES}: {} steps", full.steps);
+    assert!(
+        full.steps > SMALL_BUDGET,
+        "only {} steps without a budget",
+        full.steps
+    );
+    match &full.solved {
+        Solved::Fails(f) => assert_eq!(f.cause, Cause::DependencyConflict, "{:#?}", f.lines),
+        other => panic!("expected no solution, got {other:?}"),
+    }
+}
+
+#[test]
+fn one_pigeon_fewer_installs() {
+    // Control: with as many pigeons as holes the registry is solvable (each pigeon in its own
+    // hole), so the failure above comes from the counting argument, not from the encoding.
+    let registry = pigeonhole_registry(HOLES, HOLES);
+    let out = solve(&registry, HUGE_BUDGET);
+    let Solved::Installs { closure, .. } = out.solved else {
+        panic!("{:?}", out.solved)
+    };
+    // flock, HOLES pigeons and HOLES holes; every hole holds a distinct pigeon.
+    assert_eq!(closure.len(), 1 + 2 * HOLES);
+    let mut holes_used: Vec<String> = closure
+        .iter()
+        .filter(|p| registry.name(p.package).starts_with("pigeon"))
+        .map(|p| {
+            registry.package(p.package).releases[p.index as usize]
+                .version
+                .to_string()
+        })
+        .collect();
+    holes_used.sort();
+    holes_used.dedup();
+    assert_eq!(holes_used.len(), HOLES);
+}
