@@ -197,9 +197,21 @@ fn requirement_text(
             }
         }
     }
+    let empty = indices(target_set, registry.package(target).releases.len())
+        .next()
+        .is_none();
     match texts.as_slice() {
         [one] => one.to_string(),
-        _ => describe(registry, target, target_set),
+        [] => describe(registry, target, target_set),
+        many if empty => format!(
+            "{} (no published version meets all of them)",
+            many.join(" and ")
+        ),
+        many => format!(
+            "{} ({})",
+            many.join(" and "),
+            describe(registry, target, target_set)
+        ),
     }
 }
 
@@ -293,10 +305,12 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
             Fact::Other(msg) => lines.push(msg.clone()),
         }
     }
-    let conflict = constrained_by
+    let conflicts: Vec<PackageId> = constrained_by
         .iter()
-        .find(|(_, by)| by.len() >= 2)
-        .map(|(p, _)| *p);
+        .filter(|(_, by)| by.len() >= 2)
+        .map(|(p, _)| *p)
+        .collect();
+    let conflict = conflicts.first().copied();
     let cause = if let Some((_, c)) = leaf_causes
         .iter()
         .find(|(_, c)| *c == Cause::MissingFromRegistry)
@@ -317,7 +331,10 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .find(|c| leaf_causes.iter().any(|(_, lc)| lc == c))
         .unwrap_or(Cause::DependencyConflict)
     };
-    if let Some(p) = conflict.filter(|_| cause == Cause::DependencyConflict) {
+    for &p in conflicts
+        .iter()
+        .filter(|_| cause == Cause::DependencyConflict)
+    {
         let by: Vec<String> = constrained_by[&p]
             .iter()
             .map(|n| match n {
