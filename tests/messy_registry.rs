@@ -1,0 +1,42 @@
+//! Nothing is lost on a deliberately messy registry: every record is used or reported.
+
+use basefit::load::diag::{ProblemKind, RecordKind};
+use basefit::load::read_registry;
+use std::path::Path;
+
+#[test]
+fn every_record_is_used_or_reported() {
+    let (registry, ledger) = read_registry(&[Path::new("tests/data/messy-registry.yaml")]).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let v = &ledger.tallies[&RecordKind::Version];
+    // 13 records: 7 of marsh-a, 2 + 2 of marsh-b, 2 of marsh-c. Left out: the duplicate 1.1.0,
+    // `nightly`, 1.2.0 (runtime requirement), 1.4.0 (dependency requirement), the second
+    // 1.0.0.7.
+    assert_eq!((v.read, v.used, v.left_out), (13, 8, 5), "{v:?}");
+    let count = |k: ProblemKind| ledger.problems.iter().filter(|p| p.kind == k).count();
+    assert_eq!(count(ProblemKind::NormalisedVersion), 5); // v1.0, 1.1, 1.0.0.7 twice, 2.0rc1
+    assert_eq!(count(ProblemKind::UnreadableVersion), 1);
+    assert_eq!(count(ProblemKind::UnreadableRequirement), 2);
+    assert_eq!(count(ProblemKind::UnreadableDate), 1);
+    assert_eq!(count(ProblemKind::DuplicateVersion), 2);
+    assert_eq!(count(ProblemKind::DuplicatePackage), 1);
+    assert_eq!(count(ProblemKind::UnsatisfiableRequirement), 1);
+    assert_eq!(count(ProblemKind::UnknownDependency), 1);
+    assert_eq!(count(ProblemKind::NoInstallableVersion), 1);
+    assert_eq!(count(ProblemKind::NoVersions), 1);
+    // Every left-out record names its line.
+    for p in ledger.problems.iter().filter(|p| p.left_out) {
+        assert!(
+            p.origin.line > 0 && p.origin.file.ends_with("messy-registry.yaml"),
+            "{p:?}"
+        );
+    }
+    let b = registry.id("marsh-b").unwrap();
+    let versions: Vec<String> = registry
+        .package(b)
+        .releases
+        .iter()
+        .map(|r| r.version.to_string())
+        .collect();
+    assert_eq!(versions, ["1.0.0+7", "2.0.0-rc1", "3.0.0"]);
+}
