@@ -1,0 +1,467 @@
+//! Registry-scale benchmark: prints its figures, asserts nothing about time.
+//!
+//! `cargo bench --bench scale` generates (once, cached under target/bench-data) a synthetic
+//! registry of 200,000 packages, 1.5 million versions and 6 million dependency edges, then:
+//! 1. loads it from the bulk CSV pair (wall time, peak memory) and compares with just reading
+//!    and splitting the same files (the physical floor);
+//! 2. plans the 1,000 most depended-on packages on 12 images (wall, median and 99th-percentile
+//!    per-cell time);
+//! 3. runs the same plan through a straightforward baseline: one pubgrub
+//!    `OfflineDependencyProvider` per image, filled from the image-filtered registry, then one
+//!    resolve per cell (fill time included);
+//! 4. re-plans after a change to 1% of the packages, warm (with the plan cache) and cold, and
+//!    checks the results are identical;
+//! 5. sweeps the newest version of every package on 4 images with a progress bar and a rate.
+//!
+//! Environment: `BASEFIT_BENCH_VERSIONS` (default 1500000) scales the registry;
+//! `BASEFIT_BENCH_SWEEP=0` skips the sweep; `BASEFIT_BENCH_BASELINE=0` skips the baseline.
+
+use basefit::load::Inputs;
+use basefit::load::bulk::read_bulk;
+use basefit::model::{
+    Image, ImageSet, OsFamily, PackageId, Platform, Priority, PriorityList, Registry, Requirement,
+};
+use basefit::plan::PlanOptions;
+use basefit::plan::matrix::plan_cell;
+use basefit::plan::replan::replan;
+use basefit::solve::{Admission, ImageView, SetCache};
+use basefit::synth::{SynthOptions, write_bulk};
+use pubgrub::{OfflineDependencyProvider, Ranges};
+use rayon::prelude::*;
+use semver::Version;
+use std::collections::{BTreeSet, HashMap};
+use std::io::BufWriter;
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+fn env_usize(name: &str, default: usize) -> usize {
+    std::env::var(name)
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(default)
+}
+
+/// Peak resident memory of this process since the last reset, in bytes.
+fn peak_rss() -> u64 {
+    let status = std::fs::read_to_string("/proc/self/status").unwrap_or_default();
+    status
+        .lines()
+        .find(|l| l.starts_with("VmHWM:"))
+        .and_then(|l| l.split_whitespace().nth(1))
+        .and_then(|kb| kb.parse::<u64>().ok())
+        .map(|kb| kb * 1024)
+        .unwrap_or(0)
+}
+
+/// Resets the peak so the next reading covers only what follows (Linux: clear_refs 5).
+fn reset_peak() {
+    let _ = std::fs::write("/proc/self/clear_refs", "5");
+}
+
+fn gib(bytes: u64) -> f64 {
+    bytes as f64 / (1u64 << 30) as f64
+}
+
+fn data(versions: usize) -> (PathBuf, PathBuf) {
+    let dir = PathBuf::from(format!("target/bench-data/v{versions}"));
+    let (v, d) = (dir.join("versions.csv"), dir.join("dependencies.csv"));
+    let stamp = dir.join("complete");
+    if !stamp.exists() {
+        std::fs::create_dir_all(&dir).unwrap();
+        let t = Instant::now();
+        let opts = SynthOptions::scaled(7, versions);
+        let summary = write_bulk(
+            &opts,
+            BufWriter::new(std::fs::File::create(&v).unwrap()),
+            BufWriter::new(std::fs::File::create(&d).unwrap()),
+        )
+        .unwrap();
+        std::fs::write(&stamp, format!("{summary:?}\n")).unwrap();
+        println!(
+            "generated {summary:?} in {:.1} s",
+            t.elapsed().as_secs_f64()
+        );
+    }
+    (v, d)
+}
+
+/// Reading and splitting the files, nothing else: the floor any loader pays.
+fn floor(paths: &[&Path]) -> (Duration, u64) {
+    let t = Instant::now();
+    let mut fields = 0u64;
+    for p in paths {
+        let mut reader = csv::ReaderBuilder::new().from_reader(std::io::BufReader::with_capacity(
+            1 << 20,
+            std::fs::File::open(p).unwrap(),
+        ));
+        let mut rec = csv::ByteRecord::new();
+        while reader.read_byte_record(&mut rec).unwrap() {
+            fields += rec.len() as u64;
+        }
+    }
+    (t.elapsed(), fields)
+}
+
+fn images() -> ImageSet {
+    let runtimes = [
+        "2.0.0", "2.2.0", "2.4.0", "2.5.0", "2.6.0", "2.7.0", "2.8.0", "2.9.0", "3.0.0", "3.1.0",
+        "3.2.0", "3.2.0",
+    ];
+    let kinds = [
+        (OsFamily::Debian, "glibc", "x86_64", true),
+        (OsFamily::Alpine, "musl", "x86_64", true),
+        (OsFamily::Rhel, "glibc", "x86_64", false),
+        (OsFamily::Debian, "glibc", "aarch64", true),
+    ];
+    let images = runtimes
+        .iter()
+        .enumerate()
+        .map(|(i, rt)| {
+            let (family, libc, arch, toolchain) = kinds[i % kinds.len()];
+            Image {
+                id: format!("bench-{i:02}-{rt}-{}-{arch}", family.as_str()),
+                runtime: Version::parse(rt).unwrap(),
+                family,
+                platform: Platform {
+                    os: "linux".into(),
+                    libc: libc.into(),
+                    arch: arch.into(),
+                },
+                toolchain,
+                system_packages: ["zlib1g-dev", "libssl-dev", "zlib-dev", "openssl-dev"]
+                    .iter()
+                    .map(|s| s.to_string())
+                    .collect(),
+                extends: None,
+                origin: basefit::load::diag::Origin {
+                    file: "bench".into(),
+                    line: i + 1,
+                },
+            }
+        })
+        .collect();
+    ImageSet { images }
+}
+
+/// The `n` most depended-on declared packages, as a priority list (weight = dependents).
+fn top_packages(registry: &Registry, n: usize) -> PriorityList {
+    let mut dependents = vec![0u64; registry.packages.len()];
+    for p in &registry.packages {
+        for r in &p.releases {
+            for d in r.runtime_deps() {
+                dependents[d.package.0 as usize] += 1;
+            }
+        }
+    }
+    let mut ids: Vec<PackageId> = registry
+        .ids()
+        .filter(|id| registry.package(*id).declared)
+        .collect();
+    ids.sort_by(|a, b| {
+        dependents[b.0 as usize]
+            .cmp(&dependents[a.0 as usize])
+            .then(a.cmp(b))
+    });
+    PriorityList {
+        entries: ids
+            .into_iter()
+            .take(n)
+            .enumerate()
+            .map(|(i, id)| Priority {
+                rank: i + 1,
+                name: registry.name(id).to_string(),
+                weight: dependents[id.0 as usize] as f64 + 1.0,
+                req: None,
+                prerelease: false,
+                origin: basefit::load::diag::Origin {
+                    file: "bench".into(),
+                    line: i + 1,
+                },
+            })
+            .collect(),
+    }
+}
+
+fn percentile(sorted: &[Duration], q: f64) -> Duration {
+    if sorted.is_empty() {
+        return Duration::ZERO;
+    }
+    sorted[((sorted.len() - 1) as f64 * q).round() as usize]
+}
+
+/// Plans every cell, timing each; returns wall time and the per-cell times.
+fn timed_plan(
+    inputs: &Inputs,
+    options: &PlanOptions,
+) -> (Duration, Vec<Duration>, Vec<basefit::plan::Outcome>) {
+    let t = Instant::now();
+    let sets = SetCache::default();
+    let views: Vec<ImageView<'_>> = inputs
+        .images
+        .images
+        .iter()
+        .map(|i| ImageView::new(&inputs.registry, i, &sets))
+        .collect();
+    let n = views.len();
+    let total = inputs.priorities.entries.len() * n;
+    let out: Vec<(Duration, basefit::plan::Outcome)> = (0..total)
+        .into_par_iter()
+        .map(|i| {
+            let s = Instant::now();
+            let cell = plan_cell(
+                inputs,
+                &views[i % n],
+                &inputs.priorities.entries[i / n],
+                options,
+            );
+            (s.elapsed(), cell.outcome)
+        })
+        .collect();
+    let wall = t.elapsed();
+    let mut times: Vec<Duration> = out.iter().map(|o| o.0).collect();
+    times.sort();
+    (wall, times, out.into_iter().map(|o| o.1).collect())
+}
+
+type BaseVs = Ranges<Version>;
+
+/// The straightforward baseline: per image, an `OfflineDependencyProvider` holding every
+/// admissible release of every package, each dependency as the union of the target's
+/// admissible matching versions; then one resolve per cell through a root package.
+fn baseline(inputs: &Inputs) -> (Duration, Duration, usize) {
+    let registry = &inputs.registry;
+    let t = Instant::now();
+    let mut fill = Duration::ZERO;
+    let mut installs = 0usize;
+    for image in &inputs.images.images {
+        let f = Instant::now();
+        let sets = SetCache::default();
+        let view = ImageView::new(registry, image, &sets);
+        let mut dp: OfflineDependencyProvider<String, BaseVs> = OfflineDependencyProvider::new();
+        let mut req_cache: HashMap<(u32, u32), BaseVs> = HashMap::new();
+        for id in registry.ids() {
+            let pkg = registry.package(id);
+            let admissions = view.admissions(id).to_vec();
+            for (i, r) in pkg.releases.iter().enumerate() {
+                if admissions[i] != Admission::Admissible {
+                    continue;
+                }
+                let deps: Vec<(String, BaseVs)> = r
+                    .runtime_deps()
+                    .map(|d| {
+                        let set = req_cache
+                            .entry((d.package.0, d.req.0))
+                            .or_insert_with(|| {
+                                let target = registry.package(d.package);
+                                let adm = view.admissions(d.package);
+                                let req = registry.requirement(d.req);
+                                target
+                                    .releases
+                                    .iter()
+                                    .enumerate()
+                                    .filter(|(j, t)| {
+                                        adm[*j] == Admission::Admissible && req.matches(&t.version)
+                                    })
+                                    .fold(BaseVs::empty(), |acc, (_, t)| {
+                                        acc.union(&BaseVs::singleton(t.version.clone()))
+                                    })
+                            })
+                            .clone();
+                        (registry.name(d.package).to_string(), set)
+                    })
+                    .collect();
+                dp.add_dependencies(pkg.name.to_string(), r.version.clone(), deps);
+            }
+        }
+        fill += f.elapsed();
+        let any = Requirement::any();
+        for entry in &inputs.priorities.entries {
+            let Some(id) = registry.id(&entry.name) else {
+                continue;
+            };
+            let root_set = registry
+                .package(id)
+                .releases
+                .iter()
+                .filter(|r| any.matches(&r.version))
+                .fold(BaseVs::empty(), |acc, r| {
+                    acc.union(&BaseVs::singleton(r.version.clone()))
+                });
+            let mut cell_dp = dp.clone();
+            cell_dp.add_dependencies(
+                "(root)".to_string(),
+                Version::new(0, 0, 0),
+                [(entry.name.clone(), root_set)],
+            );
+            if pubgrub::resolve(&cell_dp, "(root)".to_string(), Version::new(0, 0, 0)).is_ok() {
+                installs += 1;
+            }
+        }
+    }
+    (t.elapsed(), fill, installs)
+}
+
+fn main() {
+    let versions = env_usize("BASEFIT_BENCH_VERSIONS", 1_500_000);
+    println!(
+        "basefit scale benchmark: {versions} versions, {} threads",
+        rayon::current_num_threads()
+    );
+    let (vpath, dpath) = data(versions);
+
+    let (floor_time, fields) = floor(&[&vpath, &dpath]);
+    reset_peak();
+    let t = Instant::now();
+    let (registry, ledger) = read_bulk(&vpath, &dpath).unwrap();
+    let load = t.elapsed();
+    let load_peak = peak_rss();
+    println!(
+        "load: {:.2} s, peak {:.2} GiB; floor (read and split {fields} fields): {:.2} s; ratio {:.1}x; {} packages, {} versions, {} problems",
+        load.as_secs_f64(),
+        gib(load_peak),
+        floor_time.as_secs_f64(),
+        load.as_secs_f64() / floor_time.as_secs_f64(),
+        registry.packages.len(),
+        registry.release_count(),
+        ledger.problems.len()
+    );
+
+    let mut inputs = Inputs {
+        priorities: top_packages(&registry, 1000),
+        images: images(),
+        registry,
+        ledger,
+        ..Default::default()
+    };
+    let options = PlanOptions::default();
+    let (wall, times, outcomes) = timed_plan(&inputs, &options);
+    let resolving = outcomes.iter().filter(|o| o.resolves()).count();
+    println!(
+        "plan {} x {} = {} cells: {:.2} s wall; per cell median {:.3} ms, p99 {:.3} ms, max {:.1} ms; {resolving} resolve",
+        inputs.priorities.entries.len(),
+        inputs.images.images.len(),
+        times.len(),
+        wall.as_secs_f64(),
+        percentile(&times, 0.5).as_secs_f64() * 1e3,
+        percentile(&times, 0.99).as_secs_f64() * 1e3,
+        times.last().copied().unwrap_or_default().as_secs_f64() * 1e3,
+    );
+
+    if env_usize("BASEFIT_BENCH_BASELINE", 1) != 0 {
+        let native_off = PlanOptions {
+            native: false,
+            ..PlanOptions::default()
+        };
+        let (ours, _, ours_out) = timed_plan(&inputs, &native_off);
+        let (base, fill, base_installs) = baseline(&inputs);
+        let ours_installs = ours_out.iter().filter(|o| o.resolves()).count();
+        println!(
+            "baseline (OfflineDependencyProvider per image, sequential fill + resolve): {:.2} s ({:.2} s fill); basefit without native step: {:.2} s; speed-up {:.1}x; installs agree: {} (baseline {base_installs}, basefit {ours_installs})",
+            base.as_secs_f64(),
+            fill.as_secs_f64(),
+            ours.as_secs_f64(),
+            base.as_secs_f64() / ours.as_secs_f64(),
+            base_installs == ours_installs
+        );
+    }
+
+    // Re-plan after a change to 1% of the packages: the newest release of every 100th package
+    // among those the plan consulted most is yanked.
+    let (cold_first, cache, _) = replan(&inputs, &options, None, None);
+    drop(cold_first);
+    let ids: Vec<PackageId> = inputs
+        .registry
+        .ids()
+        .filter(|id| inputs.registry.package(*id).declared)
+        .collect();
+    let mut changed = BTreeSet::new();
+    for id in ids.iter().step_by(100) {
+        if let Some(r) = inputs.registry.package_mut(*id).releases.last_mut() {
+            r.yanked = !r.yanked;
+            changed.insert(*id);
+        }
+    }
+    let t = Instant::now();
+    let (warm, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    let warm_time = t.elapsed();
+    let t = Instant::now();
+    let (cold, _, _) = replan(&inputs, &options, None, None);
+    let cold_time = t.elapsed();
+    println!(
+        "re-plan after changing {} packages (1%): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
+        changed.len(),
+        warm_time.as_secs_f64(),
+        stats.reused,
+        stats.solved,
+        cold_time.as_secs_f64(),
+        cold_time.as_secs_f64() / warm_time.as_secs_f64(),
+        warm == cold
+    );
+
+    if env_usize("BASEFIT_BENCH_SWEEP", 1) != 0 {
+        let registry = &inputs.registry;
+        let entries: Vec<Priority> = registry
+            .ids()
+            .filter(|id| registry.package(*id).declared)
+            .filter_map(|id| {
+                let newest = registry
+                    .package(id)
+                    .releases
+                    .iter()
+                    .rev()
+                    .find(|r| !r.yanked)?;
+                Some(Priority {
+                    rank: 0,
+                    name: registry.name(id).to_string(),
+                    weight: 1.0,
+                    req: Requirement::parse(&format!("={}", newest.version)).ok(),
+                    prerelease: true,
+                    origin: basefit::load::diag::Origin {
+                        file: "sweep".into(),
+                        line: 0,
+                    },
+                })
+            })
+            .collect();
+        let sweep_images = ImageSet {
+            images: inputs
+                .images
+                .images
+                .iter()
+                .step_by(3)
+                .take(4)
+                .cloned()
+                .collect(),
+        };
+        let sweep = Inputs {
+            priorities: PriorityList { entries },
+            images: sweep_images,
+            registry: std::mem::take(&mut inputs.registry),
+            ..Default::default()
+        };
+        let pb = indicatif::ProgressBar::new(0);
+        pb.set_style(
+            indicatif::ProgressStyle::with_template(
+                "sweep {bar:40} {pos}/{len} cells, {per_sec}, eta {eta}",
+            )
+            .unwrap(),
+        );
+        let sweep_options = PlanOptions {
+            progress: Some(pb),
+            closures: false,
+            ..PlanOptions::default()
+        };
+        let t = Instant::now();
+        let (m, _, _) = replan(&sweep, &sweep_options, None, None);
+        let took = t.elapsed();
+        println!(
+            "sweep: newest version of {} packages x {} images = {} cells in {:.1} s ({:.0} cells/s), {} resolve",
+            sweep.priorities.entries.len(),
+            sweep.images.images.len(),
+            m.cells.len(),
+            took.as_secs_f64(),
+            m.cells.len() as f64 / took.as_secs_f64(),
+            m.cells.iter().filter(|c| c.outcome.resolves()).count()
+        );
+    }
+}
