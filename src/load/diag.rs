@@ -314,6 +314,7 @@ impl Ledger {
 /// ```
 /// use basefit::load::diag::closest;
 /// assert_eq!(closest("dependz", &["depends", "builds"]), Some("depends"));
+/// assert_eq!(closest("nmae", &["name", "versions"]), Some("name"));
 /// assert_eq!(closest("zzz", &["depends", "builds"]), None);
 /// ```
 pub fn closest<'a>(word: &str, known: &[&'a str]) -> Option<&'a str> {
@@ -326,9 +327,12 @@ pub fn closest<'a>(word: &str, known: &[&'a str]) -> Option<&'a str> {
         .map(|(_, k)| k)
 }
 
+/// Edit distance counting a swap of two neighbouring letters as one edit (optimal string
+/// alignment): swapped letters are the commonest typo in field names (`nmae`).
 fn edit_distance(a: &str, b: &str) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
+    let mut before: Vec<usize> = vec![0; b.len() + 1];
     let mut prev: Vec<usize> = (0..=b.len()).collect();
     let mut cur = vec![0; b.len() + 1];
     for i in 1..=a.len() {
@@ -336,7 +340,11 @@ fn edit_distance(a: &str, b: &str) -> usize {
         for j in 1..=b.len() {
             let cost = usize::from(a[i - 1] != b[j - 1]);
             cur[j] = (prev[j] + 1).min(cur[j - 1] + 1).min(prev[j - 1] + cost);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                cur[j] = cur[j].min(before[j - 2] + 1);
+            }
         }
+        std::mem::swap(&mut before, &mut prev);
         std::mem::swap(&mut prev, &mut cur);
     }
     prev[b.len()]

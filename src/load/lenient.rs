@@ -49,11 +49,11 @@ pub fn read_version(raw: &str) -> VersionRead {
         notes.push("white space removed");
     }
     let mut s = trimmed;
-    if let Some(rest) = s.strip_prefix(['v', 'V']) {
-        if rest.starts_with(|c: char| c.is_ascii_digit()) {
-            s = rest;
-            notes.push("leading `v` removed");
-        }
+    if let Some(rest) = s.strip_prefix(['v', 'V'])
+        && rest.starts_with(|c: char| c.is_ascii_digit())
+    {
+        s = rest;
+        notes.push("leading `v` removed");
     }
     if !s.starts_with(|c: char| c.is_ascii_digit()) {
         let why = if s.starts_with(['^', '~', '=', '<', '>', '*']) {
@@ -124,10 +124,8 @@ pub fn read_version(raw: &str) -> VersionRead {
     } else {
         return VersionRead::Refused(format!("cannot read `{rest}` after the version numbers"));
     };
-    if let Some(tag) = pre {
-        if tag.is_empty() {
-            return VersionRead::Refused("empty pre-release tag".into());
-        }
+    if pre.is_some_and(str::is_empty) {
+        return VersionRead::Refused("empty pre-release tag".into());
     }
     let mut build_parts: Vec<String> = Vec::new();
     if numbers.len() == 4 {
