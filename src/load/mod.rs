@@ -5,6 +5,7 @@
 //! come back as [`BadInput`]; data-quality problems (an unreadable version string, a dependency
 //! on an unknown name) are written to the [`Ledger`] and the rest of the file is used.
 
+pub mod bulk;
 pub mod diag;
 pub mod images;
 pub mod lenient;
@@ -14,6 +15,7 @@ pub mod results;
 pub mod table;
 pub mod yaml;
 
+pub use bulk::read_bulk;
 pub use diag::{BadInput, Ledger};
 pub use images::read_images;
 pub use priorities::read_priorities;
