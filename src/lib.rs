@@ -12,5 +12,6 @@
 
 pub mod load;
 pub mod model;
+pub mod synth;
 
 pub use load::diag::{BadInput, Ledger, Problem, ProblemKind};
