@@ -550,3 +550,30 @@ fn documented_example_loads() {
             .native_helper
     );
 }
+
+#[test]
+fn byte_order_mark_crlf_and_quoted_line_breaks_are_read() {
+    let versions =
+        "\u{feff}package,version,summary\r\npkg-a,1.0.0,\"two\r\nlines\"\r\npkg-a,bad!,\r\n";
+    let deps = "package,version,dependency\r\npkg-a,1.0.0,pkg-a\r\n";
+    let (registry, ledger) = load(versions, deps).unwrap();
+    assert_eq!(registry.release_count(), 1);
+    let bad = find(&ledger, ProblemKind::UnreadableVersion);
+    // The quoted line break makes the third row start on line 4.
+    assert_eq!(bad[0].origin.line, 4);
+}
+
+#[test]
+fn crlf_rows_keep_their_lines_and_blank_lines_are_skipped() {
+    let versions = "package,version\r\npkg-a,1.0.0\r\n\r\npkg-a,bad!\r\n";
+    let (_, ledger) = load(versions, D_HEAD).unwrap();
+    assert_eq!(
+        find(&ledger, ProblemKind::UnreadableVersion)[0].origin.line,
+        4
+    );
+    let err = load("package,version\r\npkg-a,1.0.0,x\r\n", D_HEAD).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "versions.csv:2: expected 2 fields as in the header, found 3"
+    );
+}

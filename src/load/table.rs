@@ -124,7 +124,14 @@ impl Table {
         known: &[&'static str],
         required: &[&'static str],
     ) -> Result<Table, BadInput> {
-        let mut reader = csv::ReaderBuilder::new().flexible(false).from_reader(input);
+        // Rows end at `\n` only, with a `\r` before it trimmed off as white space: with the
+        // csv crate's CRLF mode the line it reports for each row of a CRLF file is one short.
+        // Field counts are checked here rather than by the crate, so a blank CRLF line (one
+        // field holding `\r`) can be skipped like a blank LF line.
+        let mut reader = csv::ReaderBuilder::new()
+            .flexible(true)
+            .terminator(csv::Terminator::Any(b'\n'))
+            .from_reader(input);
         let headers = reader
             .headers()
             .map_err(|e| csv_error(file, e))?
@@ -178,17 +185,38 @@ impl Table {
 
     /// Reads the next row into `row`; `false` at the end of the file.
     pub fn next_into(&mut self, row: &mut RowBuf) -> Result<bool, BadInput> {
-        match self.reader.read_record(&mut row.record) {
-            Ok(more) => {
-                row.line = row
-                    .record
-                    .position()
-                    .map(|p| p.line() as usize)
-                    .unwrap_or(0);
-                Ok(more)
+        loop {
+            match self.reader.read_record(&mut row.record) {
+                Ok(false) => return Ok(false),
+                Ok(true) => {
+                    row.line = line_of(&row.record);
+                    if !self.check_width(&row.record, row.line)? {
+                        return Ok(true);
+                    }
+                }
+                Err(e) => return Err(csv_error(&self.file, e)),
             }
-            Err(e) => Err(csv_error(&self.file, e)),
         }
+    }
+
+    /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
+    /// is skipped.
+    fn check_width(&self, record: &csv::StringRecord, line: usize) -> Result<bool, BadInput> {
+        if record.len() == self.columns.len() {
+            return Ok(false);
+        }
+        if record.len() == 1 && record[0].trim().is_empty() {
+            return Ok(true);
+        }
+        Err(BadInput::at(
+            &self.file,
+            line,
+            format!(
+                "expected {} fields as in the header, found {}",
+                self.columns.len(),
+                record.len()
+            ),
+        ))
     }
 
     /// Reads every row on a second thread and hands them to `each` in batches, in file order,
@@ -263,15 +291,14 @@ impl Table {
 
     /// The next row, or `None` at the end of the file.
     pub fn next_row(&mut self) -> Result<Option<Row>, BadInput> {
-        let mut record = csv::StringRecord::new();
-        match self.reader.read_record(&mut record) {
-            Ok(false) => Ok(None),
-            Ok(true) => Ok(Some(Row {
-                line: record.position().map(|p| p.line() as usize).unwrap_or(0),
-                record,
-            })),
-            Err(e) => Err(csv_error(&self.file, e)),
+        let mut row = RowBuf::default();
+        if !self.next_into(&mut row)? {
+            return Ok(None);
         }
+        Ok(Some(Row {
+            line: row.line,
+            record: row.record,
+        }))
     }
 }
 
@@ -283,6 +310,10 @@ impl Row {
             .map(str::trim)
             .filter(|s| !s.is_empty())
     }
+}
+
+fn line_of(record: &csv::StringRecord) -> usize {
+    record.position().map(|p| p.line() as usize).unwrap_or(0)
 }
 
 fn csv_error(file: &str, e: csv::Error) -> BadInput {
