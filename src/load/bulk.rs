@@ -40,6 +40,9 @@ const VERSION_REQUIRED: &[&str] = &["package", "version"];
 pub const DEPENDENCY_COLUMNS: &[&str] = &["package", "version", "dependency", "req", "kind"];
 const DEPENDENCY_REQUIRED: &[&str] = &["package", "version", "dependency"];
 
+/// Dependency names remembered per package while reading its versions' dependencies.
+const SEEN_LIMIT: usize = 48;
+
 /// Separates the items of a list cell (`prebuilt`, `native_libraries`, `native_files`).
 pub const LIST_SEPARATOR: char = ';';
 
@@ -156,31 +159,30 @@ impl VersionIndex {
         let len = u32::try_from(bytes.len()).unwrap_or(u32::MAX);
         let hash = key_hash(package, bytes);
         let arena = &self.arena;
-        let found = self.table.find_mut(hash, |k| {
-            k.package == package && text_at(arena, k.start, k.len) == bytes
-        });
-        match found {
-            Some(k) => {
+        // One probe: the entry is found or its free slot is, in the same pass.
+        let entry = self.table.entry(
+            hash,
+            |k| k.package == package && text_at(arena, k.start, k.len) == bytes,
+            |k| key_hash(k.package, text_at(arena, k.start, k.len)),
+        );
+        match entry {
+            hashbrown::hash_table::Entry::Occupied(mut e) => {
+                let k = e.get_mut();
                 let replaced = k.slot == Slot::LeftOut.pack();
                 if replaced {
                     k.slot = slot.pack();
                 }
                 (k.start, k.len, replaced)
             }
-            None => {
+            hashbrown::hash_table::Entry::Vacant(e) => {
                 let start = self.arena.len();
+                e.insert(Key {
+                    start,
+                    len,
+                    package,
+                    slot: slot.pack(),
+                });
                 self.arena.extend_from_slice(bytes);
-                let arena = &self.arena;
-                self.table.insert_unique(
-                    hash,
-                    Key {
-                        start,
-                        len,
-                        package,
-                        slot: slot.pack(),
-                    },
-                    |k| key_hash(k.package, text_at(arena, k.start, k.len)),
-                );
                 (start, len, true)
             }
         }
@@ -314,6 +316,11 @@ struct DepPass {
     next_staged: usize,
     memo: DepMemo,
     previous: DepMemo,
+    /// Dependency names met in the current package's earlier versions: a version that
+    /// adds or drops a dependency shifts positions, but its names were mostly seen before.
+    seen: Vec<(String, PackageId)>,
+    /// The package whose versions `seen` is about.
+    seen_for: Option<PackageId>,
     /// The staged version whose dependencies `memo` is collecting.
     group: Option<u32>,
 }
@@ -447,6 +454,13 @@ impl Load {
             native,
             yanked,
         };
+        if self.staged.len() >= Slot::LeftOut.pack() as usize {
+            return Err(BadInput::at(
+                file,
+                line,
+                "more version rows than one load can index; split the dump",
+            ));
+        }
         match self.builder.stage_release(package, file, line, fields) {
             Some(staged) => {
                 let slot = Slot::Staged(self.staged.len() as u32);
@@ -555,6 +569,8 @@ impl Load {
             next_staged: 0,
             memo: DepMemo::default(),
             previous: DepMemo::default(),
+            seen: Vec::new(),
+            seen_for: None,
             group: None,
         };
         let _ = pass
@@ -631,7 +647,8 @@ impl Load {
             std::mem::swap(&mut pass.memo, &mut pass.previous);
             pass.memo.len = 0;
         }
-        pass.attached.counts[s as usize] += 1;
+        let count = &mut pass.attached.counts[s as usize];
+        *count = count.saturating_add(1);
         if pass.attached.bad.contains_key(&s) {
             // As in YAML, reading a version's dependencies stops at the first unreadable
             // requirement.
@@ -649,7 +666,26 @@ impl Load {
                 }
             },
         };
-        let package = known_package.unwrap_or_else(|| registry.intern_package(dependency));
+        let owner = self.staged[s as usize].package;
+        if pass.seen_for != Some(owner) {
+            pass.seen_for = Some(owner);
+            pass.seen.clear();
+        }
+        let package = match known_package {
+            Some(p) => p,
+            None => match pass.seen.iter().find(|(n, _)| n == dependency) {
+                Some((_, p)) => *p,
+                None => {
+                    let p = registry.intern_package(dependency);
+                    // Bounded, so a package with hundreds of dependencies does not make
+                    // every miss a long scan.
+                    if pass.seen.len() < SEEN_LIMIT {
+                        pass.seen.push((dependency.to_string(), p));
+                    }
+                    p
+                }
+            },
+        };
         pass.memo.push(dependency, req, package, req_id);
         pass.attached.deps.push((
             s,
