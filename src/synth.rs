@@ -31,7 +31,9 @@ use std::io::{self, Write};
 /// What to generate. [`SynthOptions::default`] is the full benchmark scale.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SynthOptions {
+    /// The same seed and options give byte-identical output.
     pub seed: u64,
+    /// Packages in total (named `pkg-000000` upwards).
     pub packages: usize,
     /// Version records in total; every package gets at least one, so `packages` is lowered
     /// to this when it is larger.
@@ -105,6 +107,7 @@ impl SynthOptions {
 /// What a generator run wrote, so a test can check a loader against it.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct SynthSummary {
+    /// Packages written (fewer than asked when there are fewer versions than packages).
     pub packages: u64,
     /// Version records written.
     pub versions: u64,
@@ -116,7 +119,9 @@ pub struct SynthSummary {
     pub unreadable: u64,
     /// Dependency records of the unreadable versions (left out with them).
     pub unreadable_dependencies: u64,
+    /// Versions that are pre-releases (`-rc.N`).
     pub prereleases: u64,
+    /// Versions marked yanked.
     pub yanked: u64,
     /// Versions that declare native libraries.
     pub native: u64,

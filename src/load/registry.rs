@@ -57,8 +57,11 @@ pub struct RawRelease<'a> {
 
 /// The fields of a version record other than its dependencies, with platforms interned.
 pub struct VersionFields<'a> {
+    /// The version as written; read leniently.
     pub version: &'a str,
+    /// Release date as written (`YYYY-MM-DD`).
     pub released: Option<&'a str>,
+    /// Requirement on the runtime version, as written.
     pub runtime: Option<&'a str>,
     pub build: Build,
     pub native: Option<NativeHints>,
@@ -67,6 +70,7 @@ pub struct VersionFields<'a> {
 
 /// A version record whose own fields passed their checks, waiting for its dependencies.
 pub struct StagedRelease {
+    /// The package the version belongs to.
     pub package: PackageId,
     release: Release,
 }
@@ -74,9 +78,12 @@ pub struct StagedRelease {
 /// The first dependency of a staged version whose requirement cannot be read; it leaves the
 /// whole version out, as in every format.
 pub struct BadDependency<'a> {
+    /// Where the dependency record is.
     pub file: &'a str,
     pub line: usize,
+    /// The package depended on.
     pub name: &'a str,
+    /// Why its requirement cannot be read.
     pub why: String,
 }
 
