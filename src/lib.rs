@@ -17,6 +17,7 @@ pub mod native;
 pub mod plan;
 pub mod report;
 pub mod solve;
+pub mod synth;
 pub mod verify;
 
 pub use load::diag::{BadInput, Ledger, Problem, ProblemKind};

@@ -167,6 +167,9 @@ pub enum ProblemKind {
     /// A dated source-list row outside the requested time window; left out, so a 30-day
     /// download count is not inflated by older rows in the same file.
     OutsideWindow,
+    /// A dependency record (bulk format) naming a package version that has no version
+    /// record; left out.
+    OrphanDependency,
 }
 
 impl ProblemKind {
@@ -193,6 +196,9 @@ impl ProblemKind {
             ProblemKind::MissingLog => "log files that cannot be read (result kept without log)",
             ProblemKind::BadValue => "records with an unusable value (left out)",
             ProblemKind::OutsideWindow => "source-list rows outside the time window (left out)",
+            ProblemKind::OrphanDependency => {
+                "dependency records naming a version without a version record (left out)"
+            }
         }
     }
 }
@@ -235,6 +241,35 @@ impl Ledger {
 
     pub fn used(&mut self, kind: RecordKind) {
         self.tallies.entry(kind).or_default().used += 1;
+    }
+
+    /// Counts `count` records read at once; bulk readers count millions of dependency rows,
+    /// and one call per batch keeps the ledger off the hot path.
+    pub fn read_many(&mut self, kind: RecordKind, count: u64) {
+        self.tallies.entry(kind).or_default().read += count;
+    }
+
+    /// Counts `count` records used at once.
+    pub fn used_many(&mut self, kind: RecordKind, count: u64) {
+        self.tallies.entry(kind).or_default().used += count;
+    }
+
+    /// Counts `count` records left out together with the record they belong to (the
+    /// dependencies of a version that is left out). They get no problem of their own: the
+    /// owner's problem explains them, and listing each would bury it.
+    ///
+    /// ```
+    /// use basefit::Ledger;
+    /// use basefit::load::diag::RecordKind;
+    /// let mut ledger = Ledger::default();
+    /// ledger.read_many(RecordKind::Dependency, 3);
+    /// ledger.used_many(RecordKind::Dependency, 1);
+    /// ledger.left_out_with_owner(RecordKind::Dependency, 2);
+    /// assert!(ledger.unbalanced().is_empty());
+    /// assert!(ledger.problems.is_empty());
+    /// ```
+    pub fn left_out_with_owner(&mut self, kind: RecordKind, count: u64) {
+        self.tallies.entry(kind).or_default().left_out += count;
     }
 
     /// Records a problem that does not leave the record out.
@@ -318,6 +353,7 @@ impl Ledger {
 /// ```
 /// use basefit::load::diag::closest;
 /// assert_eq!(closest("dependz", &["depends", "builds"]), Some("depends"));
+/// assert_eq!(closest("nmae", &["name", "versions"]), Some("name"));
 /// assert_eq!(closest("zzz", &["depends", "builds"]), None);
 /// ```
 pub fn closest<'a>(word: &str, known: &[&'a str]) -> Option<&'a str> {

@@ -5,6 +5,7 @@
 //! come back as [`BadInput`]; data-quality problems (an unreadable version string, a dependency
 //! on an unknown name) are written to the [`Ledger`] and the rest of the file is used.
 
+pub mod bulk;
 pub mod diag;
 pub mod images;
 pub mod lenient;
@@ -14,6 +15,7 @@ pub mod results;
 pub mod table;
 pub mod yaml;
 
+pub use bulk::read_bulk;
 pub use diag::{BadInput, Ledger};
 pub use images::read_images;
 pub use priorities::read_priorities;
@@ -68,7 +70,7 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
         registry::read_yaml(path, &mut builder)?;
     }
     let (registry, mut ledger) = match &paths.bulk {
-        Some((versions, deps)) if paths.registry.is_empty() => bulk_registry(versions, deps)?,
+        Some((versions, deps)) if paths.registry.is_empty() => read_bulk(versions, deps)?,
         Some(_) => {
             return Err(BadInput::file(
                 "command line",
@@ -120,11 +122,4 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
         catalog,
         ledger,
     })
-}
-
-fn bulk_registry(_versions: &Path, _deps: &Path) -> Result<(Registry, Ledger), BadInput> {
-    Err(BadInput::file(
-        "command line",
-        "the bulk CSV registry reader is not built yet",
-    ))
 }

@@ -4,23 +4,45 @@ use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
-    Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate,
+    Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate, ReqId,
 };
 use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 use std::path::Path;
 
 /// Schema errors reported per file before giving up, so one run shows many of them.
-const ERROR_CAP: usize = 20;
+pub(crate) const ERROR_CAP: usize = 20;
 
 /// Builds a [`Registry`] from records read in any format, counting every record in the
 /// ledger. The YAML and bulk CSV readers both feed it, so both report problems alike.
+///
+/// A version record goes through two steps: [`RegistryBuilder::stage_release`] checks its
+/// own fields, [`RegistryBuilder::commit_release`] adds it with its dependencies. The YAML
+/// reader has both at hand and calls [`RegistryBuilder::add_release`], which does the two
+/// at once; the bulk reader stages every version before it reads the dependency file.
+///
+/// ```
+/// use basefit::load::RegistryBuilder;
+/// use basefit::load::registry::RawRelease;
+/// use basefit::model::DepKind;
+/// let mut b = RegistryBuilder::new();
+/// let id = b.declare_package("r.yaml", 1, "pkg-a", None, false);
+/// b.add_release(id, "r.yaml", 2, RawRelease {
+///     version: "v1.2",
+///     deps: vec![("pkg-b", "^1", DepKind::Runtime, 3)],
+///     ..RawRelease::default()
+/// });
+/// let (registry, ledger) = b.finish();
+/// assert_eq!(registry.release_count(), 1);
+/// assert!(ledger.unbalanced().is_empty());
+/// ```
 pub struct RegistryBuilder {
     pub registry: Registry,
     pub ledger: Ledger,
 }
 
 /// The fields of one version record as written, before interning.
+#[derive(Default)]
 pub struct RawRelease<'a> {
     pub version: &'a str,
     pub released: Option<&'a str>,
@@ -31,6 +53,38 @@ pub struct RawRelease<'a> {
     pub prebuilt: Vec<Platform>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
+}
+
+/// The fields of a version record other than its dependencies, with platforms interned.
+pub struct VersionFields<'a> {
+    /// The version as written; read leniently.
+    pub version: &'a str,
+    /// Release date as written (`YYYY-MM-DD`).
+    pub released: Option<&'a str>,
+    /// Requirement on the runtime version, as written.
+    pub runtime: Option<&'a str>,
+    pub build: Build,
+    pub native: Option<NativeHints>,
+    pub yanked: bool,
+}
+
+/// A version record whose own fields passed their checks, waiting for its dependencies.
+pub struct StagedRelease {
+    /// The package the version belongs to.
+    pub package: PackageId,
+    release: Release,
+}
+
+/// The first dependency of a staged version whose requirement cannot be read; it leaves the
+/// whole version out, as in every format.
+pub struct BadDependency<'a> {
+    /// Where the dependency record is.
+    pub file: &'a str,
+    pub line: usize,
+    /// The package depended on.
+    pub name: &'a str,
+    /// Why its requirement cannot be read.
+    pub why: String,
 }
 
 impl Default for RegistryBuilder {
@@ -88,7 +142,8 @@ impl RegistryBuilder {
         id
     }
 
-    /// Adds one version record of `package`, or reports why it is left out.
+    /// Adds one version record of `package` with its dependencies, or reports why it is
+    /// left out. Its dependencies are counted as dependency records.
     pub fn add_release(
         &mut self,
         package: PackageId,
@@ -96,36 +151,108 @@ impl RegistryBuilder {
         line: usize,
         raw: RawRelease<'_>,
     ) {
+        let dep_count = raw.deps.len() as u64;
+        self.ledger.read_many(RecordKind::Dependency, dep_count);
+        let prebuilt: Box<[_]> = raw
+            .prebuilt
+            .into_iter()
+            .map(|p| self.registry.intern_platform(p))
+            .collect();
+        let fields = VersionFields {
+            version: raw.version,
+            released: raw.released,
+            runtime: raw.runtime,
+            build: Build {
+                source: raw.source_build,
+                prebuilt,
+            },
+            native: raw.native,
+            yanked: raw.yanked,
+        };
+        let Some(staged) = self.stage_release(package, file, line, fields) else {
+            self.ledger
+                .left_out_with_owner(RecordKind::Dependency, dep_count);
+            return;
+        };
+        let mut deps = Vec::with_capacity(raw.deps.len());
+        let mut bad = None;
+        for &(name, req_text, kind, dep_line) in &raw.deps {
+            match self.registry.intern_requirement(req_text) {
+                Ok(req) => deps.push(Dep {
+                    package: self.registry.intern_package(name),
+                    req,
+                    kind,
+                }),
+                Err(why) => {
+                    bad = Some(BadDependency {
+                        file,
+                        line: dep_line,
+                        name,
+                        why,
+                    });
+                    break;
+                }
+            }
+        }
+        self.commit_release(staged, deps.into_boxed_slice(), dep_count, bad);
+    }
+
+    /// Checks the fields of a version record other than its dependencies. Counts the record
+    /// as read; returns `None` when it is left out (the problem is in the ledger).
+    ///
+    /// Notes that do not leave the record out (a normalised version, an unreadable date) are
+    /// made here, so a record left out later for a bad dependency still carries them.
+    pub fn stage_release(
+        &mut self,
+        package: PackageId,
+        file: &str,
+        line: usize,
+        fields: VersionFields<'_>,
+    ) -> Option<StagedRelease> {
         self.ledger.read(RecordKind::Version);
         let origin = || Origin {
             file: file.to_string(),
             line,
         };
-        let name = self.registry.name(package).to_string();
-        let (version, raw_version) = match read_version(raw.version) {
+        let (version, raw_version) = match read_version(fields.version) {
             VersionRead::Strict(v) => (v, None),
             VersionRead::Normalised(v, how) => {
                 self.ledger.note(
                     ProblemKind::NormalisedVersion,
                     origin(),
-                    format!("{name}@{}", raw.version),
+                    format!("{}@{}", self.registry.name(package), fields.version),
                     format!("read as {v} ({how})"),
                 );
-                (v, Some(raw.version.into()))
+                (v, Some(fields.version.into()))
             }
             VersionRead::Refused(why) => {
                 self.ledger.leave_out(
                     RecordKind::Version,
                     ProblemKind::UnreadableVersion,
                     origin(),
-                    format!("{name}@{}", raw.version),
+                    format!("{}@{}", self.registry.name(package), fields.version),
                     why,
                 );
-                return;
+                return None;
             }
         };
-        let subject = format!("{name}@{version}");
-        let runtime = match raw.runtime {
+        let subject = |registry: &Registry| format!("{}@{version}", registry.name(package));
+        let released = match fields.released {
+            None => None,
+            Some(text) => {
+                let date = ReleaseDate::parse(text);
+                if date.is_none() {
+                    self.ledger.note(
+                        ProblemKind::UnreadableDate,
+                        origin(),
+                        subject(&self.registry),
+                        format!("`{text}` is not a date (expected YYYY-MM-DD); ignored"),
+                    );
+                }
+                date
+            }
+        };
+        let runtime = match fields.runtime {
             None => None,
             Some(text) => match self.registry.intern_requirement(text) {
                 Ok(id) => Some(id),
@@ -134,70 +261,59 @@ impl RegistryBuilder {
                         RecordKind::Version,
                         ProblemKind::UnreadableRequirement,
                         origin(),
-                        subject,
+                        subject(&self.registry),
                         format!("runtime requirement {why}"),
                     );
-                    return;
+                    return None;
                 }
             },
         };
-        let mut deps = Vec::with_capacity(raw.deps.len());
-        for (dep_name, req_text, kind, dep_line) in &raw.deps {
-            match self.registry.intern_requirement(req_text) {
-                Ok(req) => deps.push(Dep {
-                    package: self.registry.intern_package(dep_name),
-                    req,
-                    kind: *kind,
-                }),
-                Err(why) => {
-                    self.ledger.leave_out(
-                        RecordKind::Version,
-                        ProblemKind::UnreadableRequirement,
-                        Origin {
-                            file: file.to_string(),
-                            line: *dep_line,
-                        },
-                        subject,
-                        format!("requirement on {dep_name}: {why}"),
-                    );
-                    return;
-                }
-            }
+        Some(StagedRelease {
+            package,
+            release: Release {
+                version,
+                raw_version,
+                released,
+                runtime,
+                deps: Box::default(),
+                build: fields.build,
+                native: fields.native.map(Box::new),
+                yanked: fields.yanked,
+                line: line as u32,
+            },
+        })
+    }
+
+    /// Adds a staged version with its dependencies, or leaves it out when `bad` names a
+    /// dependency whose requirement cannot be read. `dep_count` is the number of dependency
+    /// records that belong to the version (read already), so they are left out with it.
+    pub fn commit_release(
+        &mut self,
+        staged: StagedRelease,
+        deps: Box<[Dep]>,
+        dep_count: u64,
+        bad: Option<BadDependency<'_>>,
+    ) {
+        let StagedRelease {
+            package,
+            mut release,
+        } = staged;
+        if let Some(bad) = bad {
+            self.ledger.leave_out(
+                RecordKind::Version,
+                ProblemKind::UnreadableRequirement,
+                Origin {
+                    file: bad.file.to_string(),
+                    line: bad.line,
+                },
+                format!("{}@{}", self.registry.name(package), release.version),
+                format!("requirement on {}: {}", bad.name, bad.why),
+            );
+            self.ledger
+                .left_out_with_owner(RecordKind::Dependency, dep_count);
+            return;
         }
-        let released = match raw.released {
-            None => None,
-            Some(text) => {
-                let date = ReleaseDate::parse(text);
-                if date.is_none() {
-                    self.ledger.note(
-                        ProblemKind::UnreadableDate,
-                        origin(),
-                        subject.clone(),
-                        format!("`{text}` is not a date (expected YYYY-MM-DD); ignored"),
-                    );
-                }
-                date
-            }
-        };
-        let prebuilt: Box<[_]> = raw
-            .prebuilt
-            .into_iter()
-            .map(|p| self.registry.intern_platform(p))
-            .collect();
-        let release = Release {
-            version,
-            raw_version,
-            released,
-            runtime,
-            deps: deps.into_boxed_slice(),
-            build: Build {
-                source: raw.source_build,
-                prebuilt,
-            },
-            native: raw.native.map(Box::new),
-            yanked: raw.yanked,
-            line: line as u32,
-        };
+        release.deps = deps;
         self.registry.package_mut(package).releases.push(release);
     }
 
@@ -206,33 +322,47 @@ impl RegistryBuilder {
     pub fn finish(mut self) -> (Registry, Ledger) {
         let registry = &mut self.registry;
         let ledger = &mut self.ledger;
+        let (mut versions_used, mut deps_used, mut deps_dropped) = (0u64, 0u64, 0u64);
         for pkg in &mut registry.packages {
             // Stable sort: among equal versions the earlier record comes first and is kept.
             pkg.releases.sort_by(|a, b| a.version.cmp(&b.version));
-            let file = &registry.files[pkg.file as usize];
-            let mut kept: Vec<Release> = Vec::with_capacity(pkg.releases.len());
-            for r in std::mem::take(&mut pkg.releases) {
-                match kept.last() {
-                    Some(prev) if prev.version == r.version => {
-                        ledger.leave_out(
-                            RecordKind::Version,
-                            ProblemKind::DuplicateVersion,
-                            Origin {
-                                file: file.clone(),
-                                line: r.line as usize,
-                            },
-                            format!("{}@{}", pkg.name, r.version),
-                            format!("same version as the record at line {}", prev.line),
-                        );
+            let has_duplicates = pkg
+                .releases
+                .windows(2)
+                .any(|w| w[0].version == w[1].version);
+            if has_duplicates {
+                let file = &registry.files[pkg.file as usize];
+                let mut kept: Vec<Release> = Vec::with_capacity(pkg.releases.len());
+                for r in std::mem::take(&mut pkg.releases) {
+                    match kept.last() {
+                        Some(prev) if prev.version == r.version => {
+                            deps_dropped += r.deps.len() as u64;
+                            ledger.leave_out(
+                                RecordKind::Version,
+                                ProblemKind::DuplicateVersion,
+                                Origin {
+                                    file: file.clone(),
+                                    line: r.line as usize,
+                                },
+                                format!("{}@{}", pkg.name, r.version),
+                                format!("same version as the record at line {}", prev.line),
+                            );
+                        }
+                        _ => kept.push(r),
                     }
-                    _ => kept.push(r),
                 }
+                pkg.releases = kept;
             }
-            for _ in &kept {
-                ledger.used(RecordKind::Version);
-            }
-            pkg.releases = kept;
+            versions_used += pkg.releases.len() as u64;
+            deps_used += pkg
+                .releases
+                .iter()
+                .map(|r| r.deps.len() as u64)
+                .sum::<u64>();
         }
+        ledger.used_many(RecordKind::Version, versions_used);
+        ledger.used_many(RecordKind::Dependency, deps_used);
+        ledger.left_out_with_owner(RecordKind::Dependency, deps_dropped);
         registry_checks(registry, ledger);
         (self.registry, self.ledger)
     }
@@ -255,7 +385,7 @@ fn origin_of(registry: &Registry, id: PackageId, line: u32) -> Origin {
 fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
     // Each distinct (target, requirement) pair is matched against the target's versions once,
     // in parallel: at registry scale this is millions of pairs.
-    let mut pairs: FxHashMap<(PackageId, crate::model::ReqId), bool> = FxHashMap::default();
+    let mut pairs: FxHashMap<(PackageId, ReqId), bool> = FxHashMap::default();
     for pkg in &registry.packages {
         for r in &pkg.releases {
             for d in r.runtime_deps() {
@@ -263,16 +393,18 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
             }
         }
     }
-    let mut keys: Vec<_> = pairs.keys().copied().collect();
+    let mut keys: Vec<_> = pairs.into_keys().collect();
     keys.sort_unstable();
     let satisfiable: FxHashMap<_, bool> = keys
         .par_iter()
         .map(|&(target, req)| {
             let req_v = registry.requirement(req);
+            // Newest first: requirements mostly admit recent versions, so the scan stops early.
             let ok = registry
                 .package(target)
                 .releases
                 .iter()
+                .rev()
                 .any(|r| req_v.matches(&r.version));
             ((target, req), ok)
         })
@@ -285,22 +417,22 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
         for r in &pkg.releases {
             for d in r.runtime_deps() {
                 let target = registry.package(d.package);
-                let subject = format!("{}@{}", pkg.name, r.version);
+                // The subject is formatted only for a problem: this loop sees every dependency.
                 if !target.declared {
                     ledger.note(
                         ProblemKind::UnknownDependency,
                         origin_of(registry, id, r.line),
-                        subject,
+                        format!("{}@{}", pkg.name, r.version),
                         format!(
                             "depends on `{}`, which the registry does not have",
                             target.name
                         ),
                     );
-                } else if !satisfiable[&(d.package, d.req)] {
+                } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
                     ledger.note(
                         ProblemKind::UnsatisfiableRequirement,
                         origin_of(registry, id, r.line),
-                        subject,
+                        format!("{}@{}", pkg.name, r.version),
                         format!(
                             "requires {} {}, which no published version satisfies",
                             target.name,

@@ -7,14 +7,94 @@ use std::path::Path;
 /// A CSV file read with its header checked against the known columns.
 pub struct Table {
     pub file: String,
+    /// Size of the input in bytes when it is a file: lets readers size their buffers once.
+    pub byte_len: Option<u64>,
     columns: Vec<String>,
-    reader: csv::Reader<Box<dyn std::io::Read>>,
+    reader: csv::Reader<Box<dyn std::io::Read + Send>>,
 }
 
 /// One data row and its 1-based line in the file.
 pub struct Row {
     pub line: usize,
     pub record: csv::StringRecord,
+}
+
+/// A data row read into a buffer that is reused from row to row, for files of millions of
+/// rows: reading it allocates nothing once the buffer has grown to the longest row, and its
+/// text is checked for UTF-8 once per row rather than once per cell.
+///
+/// ```
+/// use basefit::load::table::{RowBuf, Table};
+/// let text = "name,flag\n pkg-a ,yes\n";
+/// let mut table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name", "flag"], &["name"])
+///     .unwrap();
+/// let (name, flag) = (table.column("name"), table.column("flag"));
+/// let mut row = RowBuf::default();
+/// assert!(table.next_into(&mut row).unwrap());
+/// assert_eq!(row.line, 2);
+/// assert_eq!(row.text(name), Some("pkg-a"));
+/// assert_eq!(row.flag(&table.file, flag, "flag").unwrap(), Some(true));
+/// assert!(!table.next_into(&mut row).unwrap());
+/// ```
+#[derive(Debug, Default)]
+pub struct RowBuf {
+    pub line: usize,
+    pub record: csv::StringRecord,
+}
+
+/// Reads a true/false cell. CSV exports spell booleans many ways; the YAML spellings are
+/// accepted, and `1`/`0` and `t`/`f` as SQL exports write them.
+///
+/// ```
+/// use basefit::load::table::parse_flag;
+/// assert_eq!(parse_flag("t"), Some(true));
+/// assert_eq!(parse_flag("FALSE"), Some(false));
+/// assert_eq!(parse_flag("maybe"), None);
+/// ```
+pub fn parse_flag(text: &str) -> Option<bool> {
+    match text {
+        "true" | "True" | "TRUE" | "yes" | "1" | "t" => Some(true),
+        "false" | "False" | "FALSE" | "no" | "0" | "f" => Some(false),
+        _ => None,
+    }
+}
+
+impl RowBuf {
+    /// The trimmed cell in column `index`; `None` when the column is absent or the cell is
+    /// empty.
+    pub fn text(&self, index: Option<usize>) -> Option<&str> {
+        index
+            .and_then(|i| self.record.get(i))
+            .map(trim)
+            .filter(|s| !s.is_empty())
+    }
+
+    /// A true/false cell named `column` in messages; `None` when absent or empty.
+    pub fn flag(
+        &self,
+        file: &str,
+        index: Option<usize>,
+        column: &str,
+    ) -> Result<Option<bool>, BadInput> {
+        match self.text(index) {
+            None => Ok(None),
+            Some(text) => parse_flag(text).map(Some).ok_or_else(|| {
+                BadInput::at(
+                    file,
+                    self.line,
+                    format!("`{column}`: expected true or false, found `{text}`"),
+                )
+            }),
+        }
+    }
+}
+
+/// `str::trim`, without its Unicode scan for the common cell that has nothing to trim.
+fn trim(s: &str) -> &str {
+    match (s.as_bytes().first(), s.as_bytes().last()) {
+        (Some(&a), Some(&b)) if a > b' ' && a < 0x80 && b > b' ' && b < 0x80 => s,
+        _ => s.trim(),
+    }
 }
 
 impl Table {
@@ -27,21 +107,31 @@ impl Table {
         let file = path.display().to_string();
         let handle = std::fs::File::open(path)
             .map_err(|e| BadInput::file(&file, format!("cannot read: {e}")))?;
-        Self::from_reader(
+        let byte_len = handle.metadata().ok().map(|m| m.len());
+        let mut table = Self::from_reader(
             &file,
             Box::new(std::io::BufReader::with_capacity(1 << 20, handle)),
             known,
             required,
-        )
+        )?;
+        table.byte_len = byte_len;
+        Ok(table)
     }
 
     pub fn from_reader(
         file: &str,
-        input: Box<dyn std::io::Read>,
+        input: Box<dyn std::io::Read + Send>,
         known: &[&'static str],
         required: &[&'static str],
     ) -> Result<Table, BadInput> {
-        let mut reader = csv::ReaderBuilder::new().flexible(false).from_reader(input);
+        // Rows end at `\n` only, with a `\r` before it trimmed off as white space: with the
+        // csv crate's CRLF mode the line it reports for each row of a CRLF file is one short.
+        // Field counts are checked here rather than by the crate, so a blank CRLF line (one
+        // field holding `\r`) can be skipped like a blank LF line.
+        let mut reader = csv::ReaderBuilder::new()
+            .flexible(true)
+            .terminator(csv::Terminator::Any(b'\n'))
+            .from_reader(input);
         let headers = reader
             .headers()
             .map_err(|e| csv_error(file, e))?
@@ -66,6 +156,11 @@ impl Table {
                 return Err(BadInput::at(file, 1, format!("unknown column `{h}`{hint}")));
             }
         }
+        for (i, h) in headers.iter().enumerate() {
+            if headers[..i].contains(h) {
+                return Err(BadInput::at(file, 1, format!("column `{h}` appears twice")));
+            }
+        }
         for r in required {
             if !headers.iter().any(|h| h == r) {
                 return Err(BadInput::at(
@@ -77,6 +172,7 @@ impl Table {
         }
         Ok(Table {
             file: file.to_string(),
+            byte_len: None,
             columns: headers,
             reader,
         })
@@ -87,17 +183,122 @@ impl Table {
         self.columns.iter().position(|c| c == name)
     }
 
+    /// Reads the next row into `row`; `false` at the end of the file.
+    pub fn next_into(&mut self, row: &mut RowBuf) -> Result<bool, BadInput> {
+        loop {
+            match self.reader.read_record(&mut row.record) {
+                Ok(false) => return Ok(false),
+                Ok(true) => {
+                    row.line = line_of(&row.record);
+                    if !self.check_width(&row.record, row.line)? {
+                        return Ok(true);
+                    }
+                }
+                Err(e) => return Err(csv_error(&self.file, e)),
+            }
+        }
+    }
+
+    /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
+    /// is skipped.
+    fn check_width(&self, record: &csv::StringRecord, line: usize) -> Result<bool, BadInput> {
+        if record.len() == self.columns.len() {
+            return Ok(false);
+        }
+        if record.len() == 1 && record[0].trim().is_empty() {
+            return Ok(true);
+        }
+        Err(BadInput::at(
+            &self.file,
+            line,
+            format!(
+                "expected {} fields as in the header, found {}",
+                self.columns.len(),
+                record.len()
+            ),
+        ))
+    }
+
+    /// Reads every row on a second thread and hands them to `each` in batches, in file order,
+    /// so parsing overlaps with the caller's work on the rows. `each` may stop early with
+    /// `ControlFlow::Break`. A CSV error ends the reading after the rows before it were
+    /// handed over, as reading row by row would.
+    ///
+    /// ```
+    /// use basefit::load::table::Table;
+    /// use std::ops::ControlFlow;
+    /// let text = "name\na\nb\nc\n";
+    /// let table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name"], &["name"]).unwrap();
+    /// let mut lines = Vec::new();
+    /// table
+    ///     .for_each_batch(|rows| {
+    ///         lines.extend(rows.iter().map(|r| r.line));
+    ///         ControlFlow::Continue(())
+    ///     })
+    ///     .unwrap();
+    /// assert_eq!(lines, [2, 3, 4]);
+    /// ```
+    pub fn for_each_batch(
+        mut self,
+        mut each: impl FnMut(&[RowBuf]) -> std::ops::ControlFlow<()>,
+    ) -> Result<(), BadInput> {
+        use std::sync::mpsc;
+        const BATCH: usize = 2048;
+        // Full batches go one way and emptied ones come back, so rows are not reallocated.
+        let (full_tx, full_rx) = mpsc::sync_channel::<(Vec<RowBuf>, usize)>(4);
+        let (empty_tx, empty_rx) = mpsc::channel::<Vec<RowBuf>>();
+        let file = self.file.clone();
+        std::thread::scope(|scope| {
+            let reader = scope.spawn(move || -> Result<(), BadInput> {
+                loop {
+                    let mut batch = empty_rx.try_recv().unwrap_or_default();
+                    let mut filled = 0;
+                    let mut outcome = Ok(true);
+                    while filled < BATCH {
+                        if batch.len() == filled {
+                            batch.push(RowBuf::default());
+                        }
+                        match self.next_into(&mut batch[filled]) {
+                            Ok(true) => filled += 1,
+                            other => {
+                                outcome = other;
+                                break;
+                            }
+                        }
+                    }
+                    if filled > 0 && full_tx.send((batch, filled)).is_err() {
+                        return Ok(()); // The caller stopped early.
+                    }
+                    match outcome {
+                        Ok(true) => {}
+                        Ok(false) => return Ok(()),
+                        Err(e) => return Err(e),
+                    }
+                }
+            });
+            for (batch, filled) in full_rx.iter() {
+                if each(&batch[..filled]).is_break() {
+                    break;
+                }
+                let _ = empty_tx.send(batch);
+            }
+            drop(full_rx);
+            reader
+                .join()
+                .unwrap_or_else(|_| Err(BadInput::file(file, "the reading thread failed")))
+        })
+    }
+
     /// The next row, or `None` at the end of the file.
     pub fn next_row(&mut self) -> Result<Option<Row>, BadInput> {
-        let mut record = csv::StringRecord::new();
-        match self.reader.read_record(&mut record) {
-            Ok(false) => Ok(None),
-            Ok(true) => Ok(Some(Row {
-                line: record.position().map(|p| p.line() as usize).unwrap_or(0),
-                record,
-            })),
-            Err(e) => Err(csv_error(&self.file, e)),
+        let mut row = RowBuf::default();
+        if !self.next_into(&mut row)? {
+            return Ok(None);
         }
+        Ok(Some(Row {
+            line: row.line,
+            record: row.record,
+        }))
     }
 }
 
@@ -109,6 +310,10 @@ impl Row {
             .map(str::trim)
             .filter(|s| !s.is_empty())
     }
+}
+
+fn line_of(record: &csv::StringRecord) -> usize {
+    record.position().map(|p| p.line() as usize).unwrap_or(0)
 }
 
 fn csv_error(file: &str, e: csv::Error) -> BadInput {

@@ -1,0 +1,801 @@
+//! The bulk registry format: a registry dump as two CSV files, one row per version and one
+//! row per dependency, read as streams (see `docs/bulk-format.md`).
+//!
+//! Rows feed the same [`RegistryBuilder`] as the YAML reader, so a data problem is reported
+//! with the same kind and wording in both formats; only the place (the CSV row) differs.
+//! Every version is staged while the versions file is read, dependencies are attached by
+//! (package, version text) while the dependency file is read, and the versions are then
+//! committed in file order.
+
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind};
+use super::registry::{BadDependency, ERROR_CAP, RegistryBuilder, StagedRelease, VersionFields};
+use super::table::{RowBuf, Table};
+use crate::model::{
+    Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId,
+};
+use hashbrown::HashTable;
+use rustc_hash::{FxHashMap, FxHasher};
+use std::hash::Hasher;
+use std::io::Read;
+use std::ops::ControlFlow;
+use std::path::Path;
+
+/// Columns of the versions file, in the order a writer should use.
+pub const VERSION_COLUMNS: &[&str] = &[
+    "package",
+    "version",
+    "released",
+    "runtime",
+    "yanked",
+    "source_build",
+    "prebuilt",
+    "native_libraries",
+    "native_files",
+    "summary",
+    "native_helper",
+];
+const VERSION_REQUIRED: &[&str] = &["package", "version"];
+
+/// Columns of the dependencies file, in the order a writer should use.
+pub const DEPENDENCY_COLUMNS: &[&str] = &["package", "version", "dependency", "req", "kind"];
+const DEPENDENCY_REQUIRED: &[&str] = &["package", "version", "dependency"];
+
+/// Dependency names remembered per package while reading its versions' dependencies.
+const SEEN_LIMIT: usize = 48;
+
+/// Separates the items of a list cell (`prebuilt`, `native_libraries`, `native_files`).
+pub const LIST_SEPARATOR: char = ';';
+
+/// Reads a registry dump in the bulk format: the versions file, then the dependencies file.
+///
+/// Schema errors (an unknown or missing column, a row with the wrong number of fields, a
+/// cell that is not UTF-8, an unreadable platform or true/false cell, an empty package or
+/// dependency name, an unknown dependency kind) make the input unusable and come back as
+/// [`BadInput`] naming file and line, up to 20 of them. Data problems go to the ledger.
+///
+/// ```
+/// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+/// let dir = tempfile::tempdir()?;
+/// let (versions, deps) = (dir.path().join("versions.csv"), dir.path().join("deps.csv"));
+/// std::fs::write(&versions, "package,version,runtime\npkg-a,1.0.0,>=3.1\npkg-b,v2.1,\n")?;
+/// std::fs::write(&deps, "package,version,dependency,req\npkg-a,1.0.0,pkg-b,^2\n")?;
+/// let (registry, ledger) = basefit::load::read_bulk(&versions, &deps)?;
+/// assert_eq!(registry.release_count(), 2);
+/// assert!(ledger.unbalanced().is_empty());
+/// # Ok(()) }
+/// ```
+pub fn read_bulk(versions: &Path, deps: &Path) -> Result<(Registry, Ledger), BadInput> {
+    let versions = Table::open(versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
+    // The dependency header is checked before the (long) versions pass, so a wrong column
+    // there is reported at once.
+    let deps = Table::open(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
+    read_tables(versions, deps)
+}
+
+/// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.
+pub fn read_bulk_from(
+    versions_name: &str,
+    versions: Box<dyn Read + Send>,
+    deps_name: &str,
+    deps: Box<dyn Read + Send>,
+) -> Result<(Registry, Ledger), BadInput> {
+    let versions = Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
+    let deps = Table::from_reader(deps_name, deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
+    read_tables(versions, deps)
+}
+
+fn read_tables(versions: Table, deps: Table) -> Result<(Registry, Ledger), BadInput> {
+    let mut load = Load::default();
+    load.read_versions(versions)?;
+    let attached = load.read_dependencies(deps)?;
+    Ok(load.commit(attached).finish())
+}
+
+/// Where the dependencies of a (package, version text) go.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Slot {
+    /// Index into the staged versions.
+    Staged(u32),
+    /// The version record was left out; its dependencies go with it.
+    LeftOut,
+}
+
+impl Slot {
+    /// Packed into a `u32` so a [`Key`] stays small: the index holds one per version.
+    fn pack(self) -> u32 {
+        match self {
+            Slot::Staged(i) => i,
+            Slot::LeftOut => u32::MAX,
+        }
+    }
+
+    fn unpack(v: u32) -> Slot {
+        match v {
+            u32::MAX => Slot::LeftOut,
+            i => Slot::Staged(i),
+        }
+    }
+}
+
+/// One key of [`VersionIndex`]: the version text lives in the index's arena.
+struct Key {
+    start: usize,
+    len: u32,
+    package: PackageId,
+    slot: u32,
+}
+
+/// (package, version text) → slot, without a string allocation per version: the texts are
+/// kept end to end in one buffer.
+#[derive(Default)]
+struct VersionIndex {
+    table: HashTable<Key>,
+    arena: Vec<u8>,
+}
+
+fn key_hash(package: PackageId, text: &[u8]) -> u64 {
+    let mut h = FxHasher::default();
+    h.write_u32(package.0);
+    h.write(text);
+    h.finish()
+}
+
+impl VersionIndex {
+    fn get(&self, package: PackageId, text: &str) -> Option<Slot> {
+        let text = text.as_bytes();
+        self.table
+            .find(key_hash(package, text), |k| {
+                k.package == package && self.text(k.start, k.len) == text
+            })
+            .map(|k| Slot::unpack(k.slot))
+    }
+
+    /// Records `slot` for the key unless a usable slot is there already: dependencies attach
+    /// to the first usable version record with that text (a later one is a duplicate).
+    /// Returns where the text is kept and whether the key now maps to `slot`.
+    fn offer(&mut self, package: PackageId, text: &str, slot: Slot) -> (usize, u32, bool) {
+        let bytes = text.as_bytes();
+        // A cell cannot be 4 GiB long in practice; a longer one would just never match.
+        let len = u32::try_from(bytes.len()).unwrap_or(u32::MAX);
+        let hash = key_hash(package, bytes);
+        let arena = &self.arena;
+        // One probe: the entry is found or its free slot is, in the same pass.
+        let entry = self.table.entry(
+            hash,
+            |k| k.package == package && text_at(arena, k.start, k.len) == bytes,
+            |k| key_hash(k.package, text_at(arena, k.start, k.len)),
+        );
+        match entry {
+            hashbrown::hash_table::Entry::Occupied(mut e) => {
+                let k = e.get_mut();
+                let replaced = k.slot == Slot::LeftOut.pack();
+                if replaced {
+                    k.slot = slot.pack();
+                }
+                (k.start, k.len, replaced)
+            }
+            hashbrown::hash_table::Entry::Vacant(e) => {
+                let start = self.arena.len();
+                e.insert(Key {
+                    start,
+                    len,
+                    package,
+                    slot: slot.pack(),
+                });
+                self.arena.extend_from_slice(bytes);
+                (start, len, true)
+            }
+        }
+    }
+
+    fn text(&self, start: usize, len: u32) -> &[u8] {
+        text_at(&self.arena, start, len)
+    }
+}
+
+fn text_at(arena: &[u8], start: usize, len: u32) -> &[u8] {
+    arena
+        .get(start..start.saturating_add(len as usize))
+        .unwrap_or_default()
+}
+
+/// Where a staged version's text is kept in the index, and whether the index maps that text
+/// to this version (it does not for a duplicate). Lets the dependency pass check the staged
+/// version after the last one before it hashes anything.
+struct StagedKey {
+    start: usize,
+    len: u32,
+    canonical: bool,
+}
+
+/// The dependencies of the previous version read, by position: consecutive versions of a
+/// package mostly repeat them, so their ids are taken from here instead of being looked up.
+#[derive(Default)]
+struct DepMemo {
+    entries: Vec<(String, String, PackageId, ReqId)>,
+    len: usize,
+}
+
+impl DepMemo {
+    /// The ids at position `at` for whichever of `name` and `req` match what was there.
+    fn get(&self, at: usize, name: &str, req: &str) -> (Option<PackageId>, Option<ReqId>) {
+        match self.entries[..self.len].get(at) {
+            None => (None, None),
+            Some(e) => ((e.0 == name).then_some(e.2), (e.1 == req).then_some(e.3)),
+        }
+    }
+
+    /// Appends an entry, reusing the strings of an earlier one.
+    fn push(&mut self, name: &str, req: &str, package: PackageId, req_id: ReqId) {
+        if let Some(e) = self.entries.get_mut(self.len) {
+            e.0.clear();
+            e.0.push_str(name);
+            e.1.clear();
+            e.1.push_str(req);
+            e.2 = package;
+            e.3 = req_id;
+        } else {
+            self.entries
+                .push((name.to_string(), req.to_string(), package, req_id));
+        }
+        self.len += 1;
+    }
+}
+
+/// Column positions of the versions file.
+struct VersionCols {
+    package: Option<usize>,
+    version: Option<usize>,
+    released: Option<usize>,
+    runtime: Option<usize>,
+    yanked: Option<usize>,
+    source_build: Option<usize>,
+    prebuilt: Option<usize>,
+    native_libraries: Option<usize>,
+    native_files: Option<usize>,
+    summary: Option<usize>,
+    native_helper: Option<usize>,
+}
+
+/// Column positions of the dependencies file.
+struct DepCols {
+    package: Option<usize>,
+    version: Option<usize>,
+    dependency: Option<usize>,
+    req: Option<usize>,
+    kind: Option<usize>,
+}
+
+/// The cells of one dependency row, checked.
+struct DepCells<'a> {
+    package: &'a str,
+    version: &'a str,
+    dependency: &'a str,
+    req: &'a str,
+    kind: DepKind,
+}
+
+fn dep_cells<'r>(file: &str, cols: &DepCols, row: &'r RowBuf) -> Result<DepCells<'r>, BadInput> {
+    let line = row.line;
+    let package = row
+        .text(cols.package)
+        .ok_or_else(|| BadInput::at(file, line, "`package` is empty"))?;
+    let dependency = row
+        .text(cols.dependency)
+        .ok_or_else(|| BadInput::at(file, line, "`dependency` is empty"))?;
+    let kind = match row.text(cols.kind) {
+        None | Some("runtime") => DepKind::Runtime,
+        Some("development") => DepKind::Development,
+        Some(other) => {
+            return Err(BadInput::at(
+                file,
+                line,
+                format!("`kind`: expected runtime or development, found `{other}`"),
+            ));
+        }
+    };
+    Ok(DepCells {
+        package,
+        version: row.text(cols.version).unwrap_or(""),
+        dependency,
+        req: row.text(cols.req).unwrap_or("*"),
+        kind,
+    })
+}
+
+/// The state of the dependency pass.
+struct DepPass {
+    attached: Attached,
+    /// Dependency rows read, and those left out with their version.
+    rows: u64,
+    with_owner: u64,
+    /// Dumps list the dependencies of one version together: the last key saves the lookup.
+    last_key: (String, String, Option<Slot>),
+    /// Dumps usually list dependencies in the order of the versions: the staged version after
+    /// the last one is checked before the index is.
+    next_staged: usize,
+    memo: DepMemo,
+    previous: DepMemo,
+    /// Dependency names met in the current package's earlier versions: a version that
+    /// adds or drops a dependency shifts positions, but its names were mostly seen before.
+    seen: Vec<(String, PackageId)>,
+    /// The package whose versions `seen` is about.
+    seen_for: Option<PackageId>,
+    /// The staged version whose dependencies `memo` is collecting.
+    group: Option<u32>,
+}
+
+/// Dependencies read for the staged versions, before they are grouped per version.
+struct Attached {
+    /// (staged index, dependency), in file order.
+    deps: Vec<(u32, Dep)>,
+    /// Dependency rows per staged version, readable or not.
+    counts: Vec<u32>,
+    /// The first dependency with an unreadable requirement, per staged version.
+    bad: FxHashMap<u32, (usize, Box<str>, String)>,
+    file: String,
+}
+
+#[derive(Default)]
+struct Load {
+    builder: RegistryBuilder,
+    staged: Vec<StagedRelease>,
+    staged_keys: Vec<StagedKey>,
+    index: VersionIndex,
+    /// Per package id: whether a row has given `native_helper` yet (the first one counts).
+    helper_given: Vec<bool>,
+    /// Parsed `prebuilt` cells: dumps repeat the same few lists millions of times.
+    platform_lists: FxHashMap<Box<str>, Box<[PlatformId]>>,
+}
+
+impl Load {
+    fn read_versions(&mut self, table: Table) -> Result<(), BadInput> {
+        let cols = VersionCols {
+            package: table.column("package"),
+            version: table.column("version"),
+            released: table.column("released"),
+            runtime: table.column("runtime"),
+            yanked: table.column("yanked"),
+            source_build: table.column("source_build"),
+            prebuilt: table.column("prebuilt"),
+            native_libraries: table.column("native_libraries"),
+            native_files: table.column("native_files"),
+            summary: table.column("summary"),
+            native_helper: table.column("native_helper"),
+        };
+        let file = table.file.clone();
+        // Sized once from the file size: growing by doubling would copy these large buffers
+        // several times. Capacity beyond the rows actually read is never touched, so it costs
+        // address space, not memory; a failed reservation only means growing as usual.
+        let rows = estimated_rows(table.byte_len, 32);
+        let _ = self.staged.try_reserve(rows);
+        let _ = self.staged_keys.try_reserve(rows);
+        let arena = &self.index.arena;
+        let _ = self.index.table.try_reserve(rows, |k| {
+            key_hash(k.package, text_at(arena, k.start, k.len))
+        });
+        let _ = self.index.arena.try_reserve(rows.saturating_mul(8));
+        let mut errors = Vec::new();
+        // Rows of one package are usually adjacent: the last name saves a lookup per row.
+        let mut last: Option<(String, PackageId)> = None;
+        let read = table.for_each_batch(|rows| {
+            for row in rows {
+                if let Err(e) = self.version_row(&file, &cols, row, &mut last) {
+                    errors.push(e);
+                    if errors.len() >= ERROR_CAP {
+                        return ControlFlow::Break(());
+                    }
+                }
+            }
+            ControlFlow::Continue(())
+        });
+        if let Err(e) = read {
+            errors.push(e);
+        }
+        match BadInput::combine(errors) {
+            Some(e) => Err(e),
+            None => Ok(()),
+        }
+    }
+
+    fn version_row(
+        &mut self,
+        file: &str,
+        cols: &VersionCols,
+        row: &RowBuf,
+        last: &mut Option<(String, PackageId)>,
+    ) -> Result<(), BadInput> {
+        let line = row.line;
+        let name = row
+            .text(cols.package)
+            .ok_or_else(|| BadInput::at(file, line, "`package` is empty"))?;
+        // Every cell is checked before anything is added, so a schema error adds nothing.
+        let version = row.text(cols.version).unwrap_or("");
+        let released = row.text(cols.released);
+        let runtime = row.text(cols.runtime);
+        let yanked = row.flag(file, cols.yanked, "yanked")?.unwrap_or(false);
+        let source_build = row.flag(file, cols.source_build, "source_build")?;
+        let prebuilt_text = row.text(cols.prebuilt);
+        let libraries = row.text(cols.native_libraries);
+        let files = row.text(cols.native_files);
+        let summary = row.text(cols.summary);
+        let native_helper = row.flag(file, cols.native_helper, "native_helper")?;
+        let prebuilt = match prebuilt_text {
+            None => Box::default(),
+            Some(text) => self
+                .platforms(text)
+                .map_err(|e| BadInput::at(file, line, e))?,
+        };
+        // No build columns filled means nothing is said about builds: source only, as a YAML
+        // record without `builds`.
+        let source = match (source_build, prebuilt_text) {
+            (None, None) => true,
+            (given, _) => given.unwrap_or(false),
+        };
+        let native = (libraries.is_some() || files.is_some()).then(|| NativeHints {
+            libraries: split_list(libraries),
+            files: split_list(files),
+        });
+
+        let package = match last {
+            Some((n, id)) if n == name => *id,
+            _ => {
+                let id = self.package(file, line, name, summary, native_helper);
+                *last = Some((name.to_string(), id));
+                id
+            }
+        };
+        self.package_fields(package, summary, native_helper);
+        let fields = VersionFields {
+            version,
+            released,
+            runtime,
+            build: Build { source, prebuilt },
+            native,
+            yanked,
+        };
+        if self.staged.len() >= Slot::LeftOut.pack() as usize {
+            return Err(BadInput::at(
+                file,
+                line,
+                "more version rows than one load can index; split the dump",
+            ));
+        }
+        match self.builder.stage_release(package, file, line, fields) {
+            Some(staged) => {
+                let slot = Slot::Staged(self.staged.len() as u32);
+                self.staged.push(staged);
+                let (start, len, canonical) = self.index.offer(package, version, slot);
+                self.staged_keys.push(StagedKey {
+                    start,
+                    len,
+                    canonical,
+                });
+            }
+            None => {
+                self.index.offer(package, version, Slot::LeftOut);
+            }
+        }
+        Ok(())
+    }
+
+    /// The package a row belongs to, declared at its first row.
+    fn package(
+        &mut self,
+        file: &str,
+        line: usize,
+        name: &str,
+        summary: Option<&str>,
+        native_helper: Option<bool>,
+    ) -> PackageId {
+        if let Some(id) = self.builder.registry.id(name)
+            && self.builder.registry.package(id).declared
+        {
+            return id;
+        }
+        let id =
+            self.builder
+                .declare_package(file, line, name, summary, native_helper.unwrap_or(false));
+        let index = id.0 as usize;
+        if self.helper_given.len() <= index {
+            self.helper_given.resize(index + 1, false);
+        }
+        self.helper_given[index] = native_helper.is_some();
+        id
+    }
+
+    /// Package-level cells repeat on every row of a package: the first non-empty value of
+    /// each wins and later ones are ignored.
+    fn package_fields(&mut self, id: PackageId, summary: Option<&str>, helper: Option<bool>) {
+        let index = id.0 as usize;
+        if self.helper_given.len() <= index {
+            self.helper_given.resize(index + 1, false);
+        }
+        if let Some(flag) = helper
+            && !self.helper_given[index]
+        {
+            self.helper_given[index] = true;
+            self.builder.registry.package_mut(id).native_helper = flag;
+        }
+        if let Some(text) = summary {
+            let pkg = self.builder.registry.package_mut(id);
+            if pkg.summary.is_none() {
+                pkg.summary = Some(text.into());
+            }
+        }
+    }
+
+    fn platforms(&mut self, text: &str) -> Result<Box<[PlatformId]>, String> {
+        if let Some(ids) = self.platform_lists.get(text) {
+            return Ok(ids.clone());
+        }
+        let mut ids = Vec::new();
+        for item in text.split(LIST_SEPARATOR).map(str::trim) {
+            if item.is_empty() {
+                continue;
+            }
+            let id = self
+                .builder
+                .registry
+                .intern_platform(Platform::parse(item)?);
+            if !ids.contains(&id) {
+                ids.push(id);
+            }
+        }
+        let ids: Box<[PlatformId]> = ids.into();
+        self.platform_lists.insert(text.into(), ids.clone());
+        Ok(ids)
+    }
+
+    fn read_dependencies(&mut self, table: Table) -> Result<Attached, BadInput> {
+        let cols = DepCols {
+            package: table.column("package"),
+            version: table.column("version"),
+            dependency: table.column("dependency"),
+            req: table.column("req"),
+            kind: table.column("kind"),
+        };
+        let file = table.file.clone();
+        let mut pass = DepPass {
+            attached: Attached {
+                deps: Vec::new(),
+                counts: vec![0; self.staged.len()],
+                bad: FxHashMap::default(),
+                file: file.clone(),
+            },
+            rows: 0,
+            with_owner: 0,
+            last_key: (String::new(), String::new(), None),
+            next_staged: 0,
+            memo: DepMemo::default(),
+            previous: DepMemo::default(),
+            seen: Vec::new(),
+            seen_for: None,
+            group: None,
+        };
+        let _ = pass
+            .attached
+            .deps
+            .try_reserve(estimated_rows(table.byte_len, 16));
+        let mut errors = Vec::new();
+        let read = table.for_each_batch(|rows| {
+            for row in rows {
+                match dep_cells(&file, &cols, row) {
+                    Ok(cells) if errors.is_empty() => self.dep_row(&mut pass, row.line, cells),
+                    // The input is unusable already; only further schema errors matter.
+                    Ok(_) => {}
+                    Err(e) => {
+                        errors.push(e);
+                        if errors.len() >= ERROR_CAP {
+                            return ControlFlow::Break(());
+                        }
+                    }
+                }
+            }
+            ControlFlow::Continue(())
+        });
+        if let Err(e) = read {
+            errors.push(e);
+        }
+        if let Some(e) = BadInput::combine(errors) {
+            return Err(e);
+        }
+        let ledger = &mut self.builder.ledger;
+        ledger.read_many(RecordKind::Dependency, pass.rows);
+        ledger.left_out_with_owner(RecordKind::Dependency, pass.with_owner);
+        Ok(pass.attached)
+    }
+
+    fn dep_row(&mut self, pass: &mut DepPass, line: usize, cells: DepCells<'_>) {
+        let DepCells {
+            package,
+            version,
+            dependency,
+            req,
+            kind,
+        } = cells;
+        pass.rows += 1;
+        let slot = if pass.last_key.0 == package && pass.last_key.1 == version {
+            pass.last_key.2
+        } else {
+            let slot = self
+                .predict(pass.next_staged, package, version)
+                .or_else(|| {
+                    self.builder
+                        .registry
+                        .id(package)
+                        .and_then(|id| self.index.get(id, version))
+                });
+            pass.last_key.0.clear();
+            pass.last_key.0.push_str(package);
+            pass.last_key.1.clear();
+            pass.last_key.1.push_str(version);
+            pass.last_key.2 = slot;
+            slot
+        };
+        let s = match slot {
+            None => return self.orphan(&pass.attached.file, line, package, version),
+            Some(Slot::LeftOut) => {
+                pass.with_owner += 1;
+                return;
+            }
+            Some(Slot::Staged(s)) => s,
+        };
+        pass.next_staged = s as usize + 1;
+        if pass.group != Some(s) {
+            pass.group = Some(s);
+            std::mem::swap(&mut pass.memo, &mut pass.previous);
+            pass.memo.len = 0;
+        }
+        let count = &mut pass.attached.counts[s as usize];
+        *count = count.saturating_add(1);
+        if pass.attached.bad.contains_key(&s) {
+            // As in YAML, reading a version's dependencies stops at the first unreadable
+            // requirement.
+            return;
+        }
+        let (known_package, known_req) = pass.previous.get(pass.memo.len, dependency, req);
+        let registry = &mut self.builder.registry;
+        let req_id = match known_req {
+            Some(r) => r,
+            None => match registry.intern_requirement(req) {
+                Ok(r) => r,
+                Err(why) => {
+                    pass.attached.bad.insert(s, (line, dependency.into(), why));
+                    return;
+                }
+            },
+        };
+        let owner = self.staged[s as usize].package;
+        if pass.seen_for != Some(owner) {
+            pass.seen_for = Some(owner);
+            pass.seen.clear();
+        }
+        let package = match known_package {
+            Some(p) => p,
+            None => match pass.seen.iter().find(|(n, _)| n == dependency) {
+                Some((_, p)) => *p,
+                None => {
+                    let p = registry.intern_package(dependency);
+                    // Bounded, so a package with hundreds of dependencies does not make
+                    // every miss a long scan.
+                    if pass.seen.len() < SEEN_LIMIT {
+                        pass.seen.push((dependency.to_string(), p));
+                    }
+                    p
+                }
+            },
+        };
+        pass.memo.push(dependency, req, package, req_id);
+        pass.attached.deps.push((
+            s,
+            Dep {
+                package,
+                req: req_id,
+                kind,
+            },
+        ));
+    }
+
+    /// The staged version at `at` when it is the one `package`@`version` names.
+    fn predict(&self, at: usize, package: &str, version: &str) -> Option<Slot> {
+        let key = self.staged_keys.get(at)?;
+        let staged = &self.staged[at];
+        (key.canonical
+            && self.index.text(key.start, key.len) == version.as_bytes()
+            && self.builder.registry.name(staged.package) == package)
+            .then_some(Slot::Staged(at as u32))
+    }
+
+    fn orphan(&mut self, file: &str, line: usize, package: &str, version: &str) {
+        let detail = if self.builder.registry.id(package).is_some() {
+            format!("the versions file has no record of `{package}` version `{version}`")
+        } else {
+            format!("the versions file has no record of package `{package}`")
+        };
+        self.builder.ledger.leave_out(
+            RecordKind::Dependency,
+            ProblemKind::OrphanDependency,
+            Origin {
+                file: file.to_string(),
+                line,
+            },
+            format!("{package}@{version}"),
+            detail,
+        );
+    }
+
+    /// Groups the dependencies per staged version (a counting sort, keeping file order) and
+    /// commits the versions in the order of the versions file.
+    fn commit(self, attached: Attached) -> RegistryBuilder {
+        let Load {
+            mut builder,
+            staged,
+            ..
+        } = self;
+        let Attached {
+            deps,
+            counts,
+            bad,
+            file,
+        } = attached;
+        let mut starts = vec![0usize; staged.len() + 1];
+        for (s, _) in &deps {
+            starts[*s as usize + 1] += 1;
+        }
+        for i in 1..starts.len() {
+            starts[i] += starts[i - 1];
+        }
+        let mut grouped = vec![
+            Dep {
+                package: PackageId(0),
+                req: crate::model::ReqId(0),
+                kind: DepKind::Runtime,
+            };
+            deps.len()
+        ];
+        let mut next = starts.clone();
+        for (s, dep) in deps {
+            grouped[next[s as usize]] = dep;
+            next[s as usize] += 1;
+        }
+        drop(next);
+        // Each package's release list is sized once instead of growing by doubling.
+        let mut per_package = vec![0usize; builder.registry.packages.len()];
+        for st in &staged {
+            per_package[st.package.0 as usize] += 1;
+        }
+        for (pkg, n) in builder.registry.packages.iter_mut().zip(per_package) {
+            pkg.releases.reserve_exact(n);
+        }
+        for (i, st) in staged.into_iter().enumerate() {
+            let deps: Box<[Dep]> = grouped[starts[i]..starts[i + 1]].into();
+            let bad_dep = bad.get(&(i as u32)).map(|(line, name, why)| BadDependency {
+                file: &file,
+                line: *line,
+                name,
+                why: why.clone(),
+            });
+            builder.commit_release(st, deps, u64::from(counts[i]), bad_dep);
+        }
+        builder
+    }
+}
+
+/// An upper estimate of the rows of a file of `bytes` bytes whose rows are at least
+/// `min_row` bytes long, capped so a huge file does not ask for absurd buffers up front.
+fn estimated_rows(bytes: Option<u64>, min_row: u64) -> usize {
+    let rows = bytes.unwrap_or(0) / min_row;
+    rows.min(1 << 26) as usize
+}
+
+fn split_list(cell: Option<&str>) -> Vec<String> {
+    cell.map(|text| {
+        text.split(LIST_SEPARATOR)
+            .map(str::trim)
+            .filter(|s| !s.is_empty())
+            .map(str::to_owned)
+            .collect()
+    })
+    .unwrap_or_default()
+}
