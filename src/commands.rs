@@ -49,6 +49,17 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
     Ok(inputs)
 }
 
+/// Refuses a run that has nothing to put in a matrix.
+fn require_matrix_inputs(inputs: &Inputs, command: &str) -> Result<(), BadInput> {
+    if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
+        return Err(BadInput::file(
+            "command line",
+            format!("{command} needs --images and --priorities with at least one entry each"),
+        ));
+    }
+    Ok(())
+}
+
 pub struct CheckOptions {
     pub inputs: InputPaths,
     pub strict: bool,
@@ -91,13 +102,7 @@ pub struct PlanCommand {
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
 pub fn plan(o: &PlanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
-        return Err(BadInput::file(
-            "command line",
-            "plan needs --images and --priorities with at least one entry each",
-        )
-        .into());
-    }
+    require_matrix_inputs(&inputs, "plan")?;
     let previous = match &o.cache {
         Some(p) if p.exists() => Some(read_cache(p)?),
         _ => None,
@@ -469,13 +474,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
-        return Err(BadInput::file(
-            "command line",
-            "imageplan needs --images and --priorities with at least one entry each",
-        )
-        .into());
-    }
+    require_matrix_inputs(&inputs, "imageplan")?;
     let p = build_imageplan(&inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {

@@ -7,8 +7,8 @@
 //! (package, version text) while the dependency file is read, and the versions are then
 //! committed in file order.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind};
-use super::registry::{BadDependency, ERROR_CAP, RegistryBuilder, StagedRelease, VersionFields};
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
+use super::registry::{BadDependency, RegistryBuilder, StagedRelease, VersionFields};
 use super::table::{RowBuf, Table};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId,
@@ -375,14 +375,14 @@ impl Load {
             key_hash(k.package, text_at(arena, k.start, k.len))
         });
         let _ = self.index.arena.try_reserve(rows.saturating_mul(8));
-        let mut errors = Vec::new();
+        let mut errors = SchemaErrors::new();
         // Rows of one package are usually adjacent: the last name saves a lookup per row.
         let mut last: Option<(String, PackageId)> = None;
         let read = table.for_each_batch(|rows| {
             for row in rows {
                 if let Err(e) = self.version_row(&file, &cols, row, &mut last) {
                     errors.push(e);
-                    if errors.len() >= ERROR_CAP {
+                    if errors.full() {
                         return ControlFlow::Break(());
                     }
                 }
@@ -392,10 +392,7 @@ impl Load {
         if let Err(e) = read {
             errors.push(e);
         }
-        match BadInput::combine(errors) {
-            Some(e) => Err(e),
-            None => Ok(()),
-        }
+        errors.finish()
     }
 
     fn version_row(
@@ -577,7 +574,7 @@ impl Load {
             .attached
             .deps
             .try_reserve(estimated_rows(table.byte_len, 16));
-        let mut errors = Vec::new();
+        let mut errors = SchemaErrors::new();
         let read = table.for_each_batch(|rows| {
             for row in rows {
                 match dep_cells(&file, &cols, row) {
@@ -586,7 +583,7 @@ impl Load {
                     Ok(_) => {}
                     Err(e) => {
                         errors.push(e);
-                        if errors.len() >= ERROR_CAP {
+                        if errors.full() {
                             return ControlFlow::Break(());
                         }
                     }
@@ -597,9 +594,7 @@ impl Load {
         if let Err(e) = read {
             errors.push(e);
         }
-        if let Some(e) = BadInput::combine(errors) {
-            return Err(e);
-        }
+        errors.finish()?;
         let ledger = &mut self.builder.ledger;
         ledger.read_many(RecordKind::Dependency, pass.rows);
         ledger.left_out_with_owner(RecordKind::Dependency, pass.with_owner);

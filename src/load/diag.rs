@@ -393,3 +393,52 @@ fn edit_distance(a: &str, b: &str) -> usize {
     }
     d[a.len() * w + b.len()]
 }
+
+/// The schema errors of one file, up to [`SchemaErrors::CAP`], so one run shows many of them
+/// instead of stopping at the first. Every reader collects through this.
+#[derive(Debug, Default)]
+pub struct SchemaErrors {
+    errors: Vec<BadInput>,
+}
+
+impl SchemaErrors {
+    pub const CAP: usize = 20;
+
+    pub fn new() -> Self {
+        SchemaErrors::default()
+    }
+
+    /// The value, or `None` after recording the error.
+    pub fn keep<T>(&mut self, result: Result<T, BadInput>) -> Option<T> {
+        match result {
+            Ok(v) => Some(v),
+            Err(e) => {
+                self.push(e);
+                None
+            }
+        }
+    }
+
+    pub fn push(&mut self, e: BadInput) {
+        if self.errors.len() < Self::CAP {
+            self.errors.push(e);
+        }
+    }
+
+    /// Whether the cap is reached, so a reader can stop early.
+    pub fn full(&self) -> bool {
+        self.errors.len() >= Self::CAP
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.errors.is_empty()
+    }
+
+    /// `Ok` when nothing was recorded, else all recorded errors as one.
+    pub fn finish(self) -> Result<(), BadInput> {
+        match BadInput::combine(self.errors) {
+            Some(e) => Err(e),
+            None => Ok(()),
+        }
+    }
+}

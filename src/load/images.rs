@@ -53,7 +53,7 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
             "image file: `images` is missing or empty; expected a list of images",
         ));
     }
-    let declared = yaml::collect_errors(items, 20, |n| parse_image(ctx, n))?;
+    let declared = yaml::collect_errors(items, |n| parse_image(ctx, n))?;
     let origin = |line| Origin {
         file: file.to_string(),
         line,

@@ -1,6 +1,6 @@
 //! Priority lists, in YAML or CSV.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
 use super::table::Table;
 use super::yaml::{self, Ctx, Value};
 use crate::model::{Priority, PriorityList, Requirement};
@@ -54,7 +54,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
     if items.is_empty() {
         return Err(ctx.err(&doc, "priority list: `priorities` is missing or empty"));
     }
-    yaml::collect_errors(items, 20, |node| {
+    yaml::collect_errors(items, |node| {
         // A bare name is the short form of an entry.
         if let Value::Scalar(name, _) = &node.value {
             return Ok(RawEntry {
@@ -88,7 +88,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
         table.column("prerelease"),
     );
     let mut out = Vec::new();
-    let mut errors = Vec::new();
+    let mut errors = SchemaErrors::new();
     while let Some(row) = table.next_row()? {
         let number = |col: Option<usize>, what: &str| -> Result<Option<f64>, BadInput> {
             match row.get(col) {
@@ -131,15 +131,9 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
                 prerelease,
             })
         })();
-        match entry {
-            Ok(e) => out.push(e),
-            Err(e) if errors.len() < 20 => errors.push(e),
-            Err(_) => {}
-        }
+        out.extend(errors.keep(entry));
     }
-    if let Some(e) = BadInput::combine(errors) {
-        return Err(e);
-    }
+    errors.finish()?;
     if out.is_empty() {
         return Err(BadInput::file(
             &table.file,

@@ -10,9 +10,6 @@ use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 use std::path::Path;
 
-/// Schema errors reported per file before giving up, so one run shows many of them.
-pub(crate) const ERROR_CAP: usize = 20;
-
 /// Builds a [`Registry`] from records read in any format, counting every record in the
 /// ledger. The YAML and bulk CSV readers both feed it, so both report problems alike.
 ///
@@ -491,7 +488,7 @@ pub fn read_yaml_str(
     }
     // Schema errors are collected over the whole file before anything is added, so a
     // malformed file adds nothing and reports many errors at once.
-    let parsed = yaml::collect_errors(packages, ERROR_CAP, |node| parse_package(ctx, node))?;
+    let parsed = yaml::collect_errors(packages, |node| parse_package(ctx, node))?;
     for pkg in parsed {
         let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
         for (line, raw) in pkg.releases {

@@ -1,6 +1,6 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
 use super::table::Table;
@@ -52,7 +52,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let ctx = Ctx { file };
     let top = ctx.map(&doc, "results file", &["results"])?;
     let items = top.seq("results")?;
-    yaml::collect_errors(items, 20, |node| {
+    yaml::collect_errors(items, |node| {
         let m = ctx.map(node, "result", FIELDS)?;
         Ok(RawResult {
             line: m.line(),
@@ -70,7 +70,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
     let mut table = Table::open(path, FIELDS, REQUIRED)?;
     let cols: Vec<Option<usize>> = FIELDS.iter().map(|f| table.column(f)).collect();
     let mut out = Vec::new();
-    let mut errors = Vec::new();
+    let mut errors = SchemaErrors::new();
     while let Some(row) = table.next_row()? {
         let get = |i: usize| row.get(cols[i]).map(str::to_owned);
         let missing: Vec<&str> = (0..3)
@@ -78,13 +78,11 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
             .map(|i| FIELDS[i])
             .collect();
         if !missing.is_empty() {
-            if errors.len() < 20 {
-                errors.push(BadInput::at(
-                    &table.file,
-                    row.line,
-                    format!("result: empty required column(s) {}", missing.join(", ")),
-                ));
-            }
+            errors.push(BadInput::at(
+                &table.file,
+                row.line,
+                format!("result: empty required column(s) {}", missing.join(", ")),
+            ));
             continue;
         }
         out.push(RawResult {
@@ -97,29 +95,20 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
             log_file: get(5),
         });
     }
-    match BadInput::combine(errors) {
-        Some(e) => Err(e),
-        None => Ok(out),
-    }
+    errors.finish().map(|_| out)
 }
 
 fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let mut out = Vec::new();
-    let mut errors = Vec::new();
+    let mut errors = SchemaErrors::new();
     for (index, line_text) in text.lines().enumerate() {
         let line = index + 1;
         if line_text.trim().is_empty() {
             continue;
         }
-        match json_record(file, line, line_text) {
-            Ok(r) => out.push(r),
-            Err(e) if errors.len() < 20 => errors.push(e),
-            Err(_) => {}
-        }
+        out.extend(errors.keep(json_record(file, line, line_text)));
     }
-    if let Some(e) = BadInput::combine(errors) {
-        return Err(e);
-    }
+    errors.finish()?;
     if out.is_empty() {
         return Err(BadInput::file(
             file,

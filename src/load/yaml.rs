@@ -393,28 +393,17 @@ impl<'n> MapReader<'n, '_> {
     }
 }
 
-/// Runs `read` over every item, collecting up to `cap` schema errors so one run reports many.
+/// Runs `read` over every item, collecting schema errors so one run reports many.
 pub fn collect_errors<'n, T>(
     items: &'n [Rc<Node>],
-    cap: usize,
     mut read: impl FnMut(&'n Node) -> Result<T, BadInput>,
 ) -> Result<Vec<T>, BadInput> {
-    let mut out = Vec::with_capacity(items.len());
-    let mut errors = Vec::new();
-    for item in items {
-        match read(item) {
-            Ok(v) => out.push(v),
-            Err(e) => {
-                if errors.len() < cap {
-                    errors.push(e);
-                }
-            }
-        }
-    }
-    match BadInput::combine(errors) {
-        Some(e) => Err(e),
-        None => Ok(out),
-    }
+    let mut errors = super::diag::SchemaErrors::new();
+    let out: Vec<T> = items
+        .iter()
+        .filter_map(|item| errors.keep(read(item)))
+        .collect();
+    errors.finish().map(|_| out)
 }
 
 #[cfg(test)]

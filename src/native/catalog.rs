@@ -107,7 +107,7 @@ impl Catalog {
             self.debian_release = release.to_string();
         }
         self.native_helpers.extend(top.str_list("native_helpers")?);
-        let libraries = yaml::collect_errors(top.seq("libraries")?, 20, |n| parse_library(ctx, n))?;
+        let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
         let mut seen = BTreeSet::new();
         for (line, lib) in libraries {
             if !seen.insert(lib.id.clone()) {

@@ -209,22 +209,6 @@ pub fn coverage_text(c: &Coverage) -> String {
     s
 }
 
-/// Escapes text for SVG element content and attribute values.
-fn esc(s: &str) -> String {
-    let mut out = String::with_capacity(s.len());
-    for ch in s.chars() {
-        match ch {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            c => out.push(c),
-        }
-    }
-    out
-}
-
 /// A self-contained SVG line chart of coverage against runtime version: one point per
 /// runtime, the target as a dashed line. Colours are from the Okabe-Ito palette (safe for
 /// the common colour-vision deficiencies) and the font is the generic `sans-serif`, so
@@ -256,15 +240,15 @@ pub fn coverage_svg(c: &Coverage) -> String {
     let _ = writeln!(
         s,
         "<title>Runtime coverage of {}</title>",
-        esc(&c.base_image)
+        crate::report::html::escape_html(&c.base_image)
     );
     let _ = writeln!(s, "<rect width=\"{W}\" height=\"{H}\" fill=\"#ffffff\"/>");
     let _ = writeln!(
         s,
         "<text x=\"{}\" y=\"20\" text-anchor=\"middle\" font-size=\"14\">Coverage of {} ({}) by runtime</text>",
         W / 2.0,
-        esc(&c.base_image),
-        esc(&c.platform)
+        crate::report::html::escape_html(&c.base_image),
+        crate::report::html::escape_html(&c.platform)
     );
     for k in 0..=4 {
         let share = k as f64 / 4.0;
@@ -326,7 +310,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
             "<circle class=\"point\" cx=\"{:.1}\" cy=\"{:.1}\" r=\"4\" fill=\"#0072B2\"><title>{}: {:.1}%</title></circle>",
             x(i),
             y(p.share),
-            esc(&p.runtime),
+            crate::report::html::escape_html(&p.runtime),
             p.share * 100.0
         );
         let _ = writeln!(
@@ -334,7 +318,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
             "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">{}</text>",
             x(i),
             T + ph + 18.0,
-            esc(&p.runtime)
+            crate::report::html::escape_html(&p.runtime)
         );
     }
     let _ = writeln!(

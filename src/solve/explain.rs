@@ -231,6 +231,23 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     let mut blockers = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
     let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
+    // A requirement no published release meets is a cause in itself: say so where it is stated.
+    let empty_requirement = |b: PackageId,
+                             set: &IndexSet,
+                             lines: &mut Vec<String>,
+                             leaf_causes: &mut Vec<(PackageId, Cause)>|
+     -> Option<Cause> {
+        if indices(set, registry.package(b).releases.len())
+            .next()
+            .is_some()
+        {
+            return None;
+        }
+        let (cause, phrase) = unusable(view, b, set);
+        lines.push(format!("{} {phrase}", registry.name(b)));
+        leaf_causes.push((b, cause));
+        Some(cause)
+    };
     for fact in &facts.order {
         match fact {
             Fact::NoVersions(p) => {
@@ -270,14 +287,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                     Node::Root => {
                         let root_desc = describe(registry, *b, sb);
                         lines.push(format!("the entry asks for {target} ({root_desc})"));
-                        if indices(sb, registry.package(*b).releases.len())
-                            .next()
-                            .is_none()
-                        {
-                            let (cause, phrase) = unusable(view, *b, sb);
-                            lines.push(format!("{target} {phrase}"));
-                            leaf_causes.push((*b, cause));
-                        }
+                        empty_requirement(*b, sb, &mut lines, &mut leaf_causes);
                     }
                     Node::Package(ap) => {
                         let req = requirement_text(view, *ap, sa, *b, sb);
@@ -286,13 +296,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                             registry.name(*ap),
                             describe(registry, *ap, sa)
                         ));
-                        if indices(sb, registry.package(*b).releases.len())
-                            .next()
-                            .is_none()
+                        if let Some(cause) = empty_requirement(*b, sb, &mut lines, &mut leaf_causes)
                         {
-                            let (cause, phrase) = unusable(view, *b, sb);
-                            lines.push(format!("{target} {phrase}"));
-                            leaf_causes.push((*b, cause));
                             blockers.push(Blocker {
                                 package: *b,
                                 reason: format!("{target} (wanted {req}) {}", cause.label()),
@@ -310,7 +315,6 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .filter(|(_, by)| by.len() >= 2)
         .map(|(p, _)| *p)
         .collect();
-    let conflict = conflicts.first().copied();
     let cause = if let Some((_, c)) = leaf_causes
         .iter()
         .find(|(_, c)| *c == Cause::MissingFromRegistry)
@@ -318,7 +322,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         *c
     } else if let Some((_, c)) = leaf_causes.iter().find(|(p, _)| *p == root) {
         *c
-    } else if conflict.is_some() {
+    } else if !conflicts.is_empty() {
         Cause::DependencyConflict
     } else {
         [
