@@ -615,3 +615,47 @@ fn partial_and_odd_matrices_render_without_panicking() {
     assert_eq!(markdown(&shuffled), markdown(&full));
     assert_eq!(csv(&shuffled), csv(&full));
 }
+
+/// The demo scenario planned from demo-data/ and matrices/, with its recorded results.
+fn demo_data_matrix() -> Matrix {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let inputs = basefit::load::load_inputs(&basefit::load::InputPaths {
+        registry: vec![root.join("demo-data/registry.yaml")],
+        images: Some(root.join("matrices/demo-images.yaml")),
+        priorities: Some(root.join("demo-data/priorities.yaml")),
+        results: vec![root.join("demo-data/results.yaml")],
+        ..Default::default()
+    })
+    .unwrap();
+    let mut m = basefit::plan::plan(&inputs, &basefit::plan::PlanOptions::default());
+    let review = basefit::verify::compare(
+        &m,
+        &inputs.results,
+        &inputs.registry,
+        &inputs.images,
+        &inputs.catalog,
+    );
+    basefit::verify::annotate(&mut m, &review);
+    m
+}
+
+#[test]
+fn markdown_snapshot_of_the_demo_data_with_symbols_checked_cell_by_cell() {
+    let m = demo_data_matrix();
+    let md = markdown(&m);
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/demo-support-matrix.md");
+    if std::env::var_os("BASEFIT_UPDATE_SNAPSHOTS").is_some() {
+        std::fs::write(&path, &md).expect("snapshot written");
+    }
+    let want = data("demo-support-matrix.md");
+    if md != want {
+        let diff = similar::TextDiff::from_lines(want.as_str(), md.as_str())
+            .unified_diff()
+            .header("expected", "rendered")
+            .to_string();
+        panic!(
+            "Markdown for the demo data changed (BASEFIT_UPDATE_SNAPSHOTS=1 rewrites it):\n{diff}"
+        );
+    }
+    cross_check_symbols(&m);
+}

@@ -1,0 +1,126 @@
+//! Install-failure logs produced for real by the machine's tools, classified and mapped
+//! through the catalog to the system package to add.
+//!
+//! Sources: GNU gcc (missing header), GNU ld through gcc (missing -l library) and pkg-config
+//! (missing module) on this machine; Debian's archive extract (tests/data/debian-archive) for
+//! which package ships each file. Libraries whose development files happen to be installed
+//! here cannot fail, so they are skipped; the test says how many it could provoke.
+
+use basefit::model::OsFamily;
+use basefit::native::Catalog;
+use basefit::verify::compare::library_of;
+use basefit::verify::logs::{LogCause, classify, primary};
+use std::process::Command;
+
+fn have(tool: &str) -> bool {
+    Command::new(tool).arg("--version").output().is_ok()
+}
+
+fn run(cmd: &mut Command) -> Option<String> {
+    let out = cmd.env("LC_ALL", "C").output().ok()?;
+    if out.status.success() {
+        return None;
+    }
+    Some(format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    ))
+}
+
+fn archive_package(kind: &str, name: &str) -> Option<String> {
+    let extract = std::fs::read_to_string("tests/data/debian-archive/extract.tsv").ok()?;
+    extract.lines().find_map(|l| {
+        let cols: Vec<&str> = l.split('\t').collect();
+        (cols.len() == 3 && cols[0] == kind && cols[1] == name).then(|| cols[2].to_string())
+    })
+}
+
+/// Classifies `log`, maps it through the catalog, and checks the Debian package against the
+/// archive extract.
+fn check(catalog: &Catalog, log: &str, kind: &str, name: &str) {
+    let findings = classify(log);
+    let p = primary(&findings).unwrap_or_else(|| panic!("nothing classified in {log}"));
+    let named = match &p.cause {
+        LogCause::MissingHeader { header } => ("header", header.as_str()),
+        LogCause::MissingLibrary { link } => ("link", link.as_str()),
+        LogCause::MissingPkgConfig { module } => ("pkgconfig", module.as_str()),
+        other => panic!("{kind} {name}: classified as {other:?} from {log}"),
+    };
+    assert_eq!(named.0, kind, "{log}");
+    // An installed header can include one that is not (libxslt's headers include libxml2's,
+    // found only through pkg-config's -I): the tool names the missing one, and so must we.
+    if named.1 != name {
+        assert!(
+            log.contains(&format!("{name}:")),
+            "{kind} {name}: gcc named {} without mentioning the probe: {log}",
+            named.1
+        );
+    }
+    let (kind, name) = named;
+    let lib = library_of(catalog, &p.cause)
+        .unwrap_or_else(|| panic!("{kind} {name} maps to no catalog library"));
+    let dev = lib.families[&OsFamily::Debian].dev.clone().unwrap();
+    assert_eq!(
+        Some(dev),
+        archive_package(kind, name),
+        "{kind} {name} ({})",
+        lib.id
+    );
+}
+
+#[test]
+fn real_tool_failures_map_to_the_package_that_ships_the_file() {
+    if !have("gcc") || !have("pkg-config") {
+        eprintln!(
+            "skipped: gcc or pkg-config is not installed (apt-get install -y gcc pkg-config)"
+        );
+        return;
+    }
+    let catalog = Catalog::builtin();
+    let dir = tempfile::tempdir().unwrap();
+    let (mut headers, mut links, mut modules) = (0, 0, 0);
+    for lib in catalog.libraries.iter().take(40) {
+        if let Some(h) = lib.headers.first() {
+            let src = dir.path().join("probe.c");
+            // Some headers expect the standard ones first (jpeglib.h uses size_t and FILE).
+            std::fs::write(&src, format!("#include <stddef.h>\n#include <stdio.h>\n#include <{h}>\nint main(void) {{ return 0; }}\n")).unwrap();
+            let log = run(Command::new("gcc")
+                .arg("-c")
+                .arg(&src)
+                .arg("-o")
+                .arg(dir.path().join("probe.o")));
+            // A present header that fails to compile on its own is not a missing-file case.
+            if let Some(log) = log.filter(|l| l.contains("No such file or directory")) {
+                check(&catalog, &log, "header", h);
+                headers += 1;
+            }
+        }
+        if let Some(l) = lib.link.first() {
+            let src = dir.path().join("main.c");
+            std::fs::write(&src, "int main(void) { return 0; }\n").unwrap();
+            if let Some(log) = run(Command::new("gcc")
+                .arg(&src)
+                .arg(format!("-l{l}"))
+                .arg("-o")
+                .arg(dir.path().join("a.out")))
+            {
+                check(&catalog, &log, "link", l);
+                links += 1;
+            }
+        }
+        if let Some(m) = lib.pkg_config.first() {
+            if let Some(log) = run(Command::new("pkg-config").args(["--cflags", m])) {
+                check(&catalog, &log, "pkgconfig", m);
+                modules += 1;
+            }
+        }
+    }
+    eprintln!(
+        "provoked for real: {headers} missing headers, {links} missing libraries, {modules} missing pkg-config modules"
+    );
+    assert!(
+        headers + links + modules > 0,
+        "every library's development files are installed; nothing could be provoked"
+    );
+}
