@@ -109,11 +109,11 @@ fn real_tool_failures_map_to_the_package_that_ships_the_file() {
                 links += 1;
             }
         }
-        if let Some(m) = lib.pkg_config.first() {
-            if let Some(log) = run(Command::new("pkg-config").args(["--cflags", m])) {
-                check(&catalog, &log, "pkgconfig", m);
-                modules += 1;
-            }
+        if let Some(m) = lib.pkg_config.first()
+            && let Some(log) = run(Command::new("pkg-config").args(["--cflags", m]))
+        {
+            check(&catalog, &log, "pkgconfig", m);
+            modules += 1;
         }
     }
     eprintln!(
