@@ -225,6 +225,18 @@ fn timed_plan(
 
 type BaseVs = Ranges<Version>;
 
+/// The set of exactly these versions (ascending), built in one pass.
+fn singletons<'a>(versions: impl Iterator<Item = &'a Version>) -> BaseVs {
+    versions
+        .map(|v| {
+            (
+                std::ops::Bound::Included(v.clone()),
+                std::ops::Bound::Included(v.clone()),
+            )
+        })
+        .collect()
+}
+
 /// The straightforward baseline: per image, an `OfflineDependencyProvider` holding every
 /// admissible release of every package, each dependency as the union of the target's
 /// admissible matching versions; then one resolve per cell through a root package.
@@ -255,16 +267,17 @@ fn baseline(inputs: &Inputs) -> (Duration, Duration, usize) {
                                 let target = registry.package(d.package);
                                 let adm = view.admissions(d.package);
                                 let req = registry.requirement(d.req);
-                                target
-                                    .releases
-                                    .iter()
-                                    .enumerate()
-                                    .filter(|(j, t)| {
-                                        adm[*j] == Admission::Admissible && req.matches(&t.version)
-                                    })
-                                    .fold(BaseVs::empty(), |acc, (_, t)| {
-                                        acc.union(&BaseVs::singleton(t.version.clone()))
-                                    })
+                                singletons(
+                                    target
+                                        .releases
+                                        .iter()
+                                        .enumerate()
+                                        .filter(|(j, t)| {
+                                            adm[*j] == Admission::Admissible
+                                                && req.matches(&t.version)
+                                        })
+                                        .map(|(_, t)| &t.version),
+                                )
                             })
                             .clone();
                         (registry.name(d.package).to_string(), set)
@@ -279,21 +292,22 @@ fn baseline(inputs: &Inputs) -> (Duration, Duration, usize) {
             let Some(id) = registry.id(&entry.name) else {
                 continue;
             };
-            let root_set = registry
-                .package(id)
-                .releases
-                .iter()
-                .filter(|r| any.matches(&r.version))
-                .fold(BaseVs::empty(), |acc, r| {
-                    acc.union(&BaseVs::singleton(r.version.clone()))
-                });
-            let mut cell_dp = dp.clone();
-            cell_dp.add_dependencies(
-                "(root)".to_string(),
+            let root_set = singletons(
+                registry
+                    .package(id)
+                    .releases
+                    .iter()
+                    .filter(|r| any.matches(&r.version))
+                    .map(|r| &r.version),
+            );
+            // One root package per entry, added to the image's provider.
+            let root = format!("(root) {}", entry.name);
+            dp.add_dependencies(
+                root.clone(),
                 Version::new(0, 0, 0),
                 [(entry.name.clone(), root_set)],
             );
-            if pubgrub::resolve(&cell_dp, "(root)".to_string(), Version::new(0, 0, 0)).is_ok() {
+            if pubgrub::resolve(&dp, root, Version::new(0, 0, 0)).is_ok() {
                 installs += 1;
             }
         }
@@ -395,7 +409,7 @@ fn main() {
         stats.solved,
         cold_time.as_secs_f64(),
         cold_time.as_secs_f64() / warm_time.as_secs_f64(),
-        warm == cold
+        basefit::report::to_json(&warm) == basefit::report::to_json(&cold)
     );
 
     if env_usize("BASEFIT_BENCH_SWEEP", 1) != 0 {
