@@ -25,6 +25,26 @@ pub struct Output {
     pub exit: u8,
 }
 
+impl Output {
+    /// `value` as JSON when asked for, else its text rendering; exit 1 when `found` (the run
+    /// found what the command warns about), else 0.
+    fn report<T: serde::Serialize>(
+        format: Format,
+        value: &T,
+        text: impl FnOnce(&T) -> String,
+        found: bool,
+    ) -> Output {
+        Output {
+            stdout: match format {
+                Format::Json => report::to_json(value),
+                _ => text(value),
+            },
+            stderr: Vec::new(),
+            exit: if found { exit::FOUND } else { exit::OK },
+        }
+    }
+}
+
 /// Loads inputs, and with `strict` refuses any data-quality problem.
 pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
     let inputs = load::load_inputs(paths)?;
@@ -70,19 +90,12 @@ pub struct CheckOptions {
 pub fn check(o: &CheckOptions) -> Result<Output, BadInput> {
     let inputs = load(&o.inputs, o.strict)?;
     let ledger = &inputs.ledger;
-    let stdout = match o.format {
-        Format::Json => report::to_json(&text::check_report(ledger)),
-        _ => text::check_text(ledger),
-    };
-    Ok(Output {
-        stdout,
-        stderr: Vec::new(),
-        exit: if ledger.is_clean() {
-            exit::OK
-        } else {
-            exit::FOUND
-        },
-    })
+    Ok(Output::report(
+        o.format,
+        &text::check_report(ledger),
+        |_| text::check_text(ledger),
+        !ledger.is_clean(),
+    ))
 }
 
 pub struct PlanCommand {
@@ -220,19 +233,12 @@ pub struct ExplainCommand {
 pub fn explain(o: &ExplainCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     let e = plan::explain::explain(&inputs, &o.package, &o.image, &o.plan)?;
-    let stdout = match o.format {
-        Format::Json => report::to_json(&e),
-        _ => text::explain_text(&e),
-    };
-    Ok(Output {
-        stdout,
-        stderr: Vec::new(),
-        exit: if plan::explain::needs_attention(e.cell.outcome) {
-            exit::FOUND
-        } else {
-            exit::OK
-        },
-    })
+    Ok(Output::report(
+        o.format,
+        &e,
+        text::explain_text,
+        plan::explain::needs_attention(e.cell.outcome),
+    ))
 }
 
 /// Reads a matrix written by `plan` (JSON, or YAML by extension).
@@ -316,19 +322,12 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         &inputs.catalog,
     );
     let surprises = review.surprises();
-    let stdout = match o.format {
-        Format::Json => report::to_json(&review),
-        _ => text::review_text(&review, &inputs.ledger),
-    };
-    Ok(Output {
-        stdout,
-        stderr: Vec::new(),
-        exit: if surprises > o.max_surprises {
-            exit::FOUND
-        } else {
-            exit::OK
-        },
-    })
+    Ok(Output::report(
+        o.format,
+        &review,
+        |v| text::review_text(v, &inputs.ledger),
+        surprises > o.max_surprises,
+    ))
 }
 
 pub struct DiffCommand {
@@ -342,19 +341,12 @@ pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
     let d = crate::verify::diff::diff(&a, &b, report::markdown);
-    let stdout = match o.format {
-        Format::Json => report::to_json(&d),
-        _ => text::diff_text(&d),
-    };
-    Ok(Output {
-        stdout,
-        stderr: Vec::new(),
-        exit: if d.changes.is_empty() {
-            exit::OK
-        } else {
-            exit::FOUND
-        },
-    })
+    Ok(Output::report(
+        o.format,
+        &d,
+        text::diff_text,
+        !d.changes.is_empty(),
+    ))
 }
 
 pub struct SystemCommand {
@@ -370,16 +362,8 @@ pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
-    let stdout = match o.format {
-        Format::Json => report::to_json(&r),
-        _ => text::system_text(&r),
-    };
     let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
-    Ok(Output {
-        stdout,
-        stderr: Vec::new(),
-        exit: if any_missing { exit::FOUND } else { exit::OK },
-    })
+    Ok(Output::report(o.format, &r, text::system_text, any_missing))
 }
 
 pub struct ImageplanCommand {

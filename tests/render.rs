@@ -256,21 +256,25 @@ fn markdown_tables_keep_their_shape_and_let_no_html_through() {
 
 #[test]
 fn markdown_snapshot_of_the_sample_matrix() {
-    let m = load("sample-matrix.json");
-    let md = markdown(&m);
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/sample-matrix.md");
+    assert_snapshot("sample-matrix.md", &markdown(&load("sample-matrix.json")));
+}
+
+/// Compares `rendered` with the snapshot file `name` in tests/data;
+/// `BASEFIT_UPDATE_SNAPSHOTS=1` rewrites the file instead.
+fn assert_snapshot(name: &str, rendered: &str) {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data")
+        .join(name);
     if std::env::var_os("BASEFIT_UPDATE_SNAPSHOTS").is_some() {
-        std::fs::write(&path, &md).expect("snapshot written");
+        std::fs::write(&path, rendered).expect("snapshot written");
     }
-    let want = data("sample-matrix.md");
-    if md != want {
-        let diff = similar::TextDiff::from_lines(want.as_str(), md.as_str())
+    let want = data(name);
+    if rendered != want {
+        let diff = similar::TextDiff::from_lines(want.as_str(), rendered)
             .unified_diff()
             .header("expected", "rendered")
             .to_string();
-        panic!(
-            "Markdown for sample-matrix.json changed (BASEFIT_UPDATE_SNAPSHOTS=1 rewrites it):\n{diff}"
-        );
+        panic!("{name} changed (BASEFIT_UPDATE_SNAPSHOTS=1 rewrites it):\n{diff}");
     }
 }
 
@@ -642,20 +646,6 @@ fn demo_data_matrix() -> Matrix {
 #[test]
 fn markdown_snapshot_of_the_demo_data_with_symbols_checked_cell_by_cell() {
     let m = demo_data_matrix();
-    let md = markdown(&m);
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/demo-support-matrix.md");
-    if std::env::var_os("BASEFIT_UPDATE_SNAPSHOTS").is_some() {
-        std::fs::write(&path, &md).expect("snapshot written");
-    }
-    let want = data("demo-support-matrix.md");
-    if md != want {
-        let diff = similar::TextDiff::from_lines(want.as_str(), md.as_str())
-            .unified_diff()
-            .header("expected", "rendered")
-            .to_string();
-        panic!(
-            "Markdown for the demo data changed (BASEFIT_UPDATE_SNAPSHOTS=1 rewrites it):\n{diff}"
-        );
-    }
+    assert_snapshot("demo-support-matrix.md", &markdown(&m));
     cross_check_symbols(&m);
 }
