@@ -166,12 +166,20 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
 }
 
 fn read_cache(path: &std::path::Path) -> Result<plan::replan::PlanCache, BadInput> {
+    read_json(path, "basefit plan cache (delete it to plan from scratch)")
+}
+
+/// Reads a JSON document basefit wrote, naming the file and line when it does not parse.
+fn read_json<T: serde::de::DeserializeOwned>(
+    path: &std::path::Path,
+    what: &str,
+) -> Result<T, BadInput> {
     let text = crate::load::diag::read_text(path)?;
     serde_json::from_str(&text).map_err(|e| {
         BadInput::at(
             path.display().to_string(),
             e.line(),
-            format!("not a basefit plan cache ({e}); delete it to plan from scratch"),
+            format!("not a {what}: {e}"),
         )
     })
 }
@@ -199,14 +207,7 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
 }
 
 fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
-    let text = crate::load::diag::read_text(path)?;
-    serde_json::from_str(&text).map_err(|e| {
-        BadInput::at(
-            path.display().to_string(),
-            e.line(),
-            format!("not a basefit matrix: {e}"),
-        )
-    })
+    read_json(path, "basefit matrix")
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.

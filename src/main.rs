@@ -34,7 +34,7 @@ enum Command {
     Plan(PlanArgs),
     /// Explain one package on one image: its resolved tree, or why it fails and what would help.
     #[command(
-        after_help = "Example:\n  basefit explain tidewater debian-2.4 --registry demo-data/registry.yaml \\\n    --images matrices/demo-images.yaml --priorities demo-data/priorities.yaml"
+        after_help = "Example:\n  basefit explain saltbush deb-2.4 --registry demo-data/registry.yaml \\\n    --images matrices/demo-images.yaml --priorities demo-data/priorities.yaml"
     )]
     Explain(ExplainArgs),
     /// Compare recorded install results with the predictions: surprises first.
@@ -67,7 +67,7 @@ enum Command {
     Fuse(FuseArgs),
     /// Plan images: runtime coverage, system-package advice and a pre-install set per image.
     #[command(
-        after_help = "Example:\n  basefit imageplan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --image debian-2.4 --runtimes 3.0.5,3.1.2 \\\n    --target 0.95 --out out/"
+        after_help = "Example:\n  basefit imageplan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --image deb-2.4 --runtimes 2.8.1,3.1.2 \\\n    --target 0.95 --out out/"
     )]
     Imageplan(ImageplanArgs),
 }
