@@ -386,3 +386,32 @@ fn command_writes_yaml_and_svg() {
     };
     assert!(basefit::commands::imageplan(&bad).is_err());
 }
+
+#[test]
+fn manifest_reports_native_needs_of_the_joint_closure() {
+    // Alone, `xylem` takes brace 3.0.0 (pure). Jointly with `yarrow` (brace <3) the set takes
+    // brace 2.0.0, which ships a copy of a libxml2 header: a likely need of libxml2-dev that
+    // neither package alone showed on this image.
+    let registry = "packages:
+- name: brace
+  versions:
+  - {version: 2.0.0, native: {files: [include/libxml/parser.h]}}
+  - {version: 3.0.0}
+- name: xylem
+  versions:
+  - {version: 1.0.0, depends: [{name: brace, req: '*'}]}
+- name: yarrow
+  versions:
+  - {version: 1.0.0, depends: [{name: brace, req: '<3'}]}
+";
+    let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let mut inp = inputs(registry, images, "priorities:\n- xylem\n- yarrow\n");
+    inp.catalog = basefit::native::Catalog::builtin();
+    let image = &inp.images.images[0];
+    let p = preinstall(&inp, image, &PlanOptions::default(), &SetCache::default());
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["xylem", "yarrow"]);
+    let brace = p.manifest.iter().find(|m| m.name == "brace").unwrap();
+    assert_eq!(brace.version, "2.0.0");
+    assert_eq!(p.missing_system_packages, ["libxml2-dev"]);
+}

@@ -37,6 +37,9 @@ pub struct Preinstall {
     /// The manifest: every package of the final joint solution with its exact version.
     pub manifest: Vec<Pinned>,
     pub left_out: Vec<LeftOut>,
+    /// System packages the image lacks for the joint closure (the native step on the final
+    /// solution, which may pick other versions than each package alone).
+    pub missing_system_packages: Vec<String>,
 }
 
 struct Root {
@@ -153,6 +156,7 @@ pub fn preinstall(
     let all: Vec<&Root> = kept.iter().collect();
     let final_solve = joint(&view, &all, options.budget);
     let mut manifest = Vec::new();
+    let mut missing_system_packages = Vec::new();
     let mut kept_rows: Vec<Kept> = kept
         .iter()
         .map(|r| Kept {
@@ -161,6 +165,10 @@ pub fn preinstall(
         })
         .collect();
     if let Solved::Installs { closure, .. } = &final_solve.solved {
+        if options.native {
+            missing_system_packages =
+                crate::native::assess(registry, &inputs.catalog, image, closure).packages_to_add();
+        }
         for p in closure {
             let version = registry.package(p.package).releases[p.index as usize]
                 .version
@@ -190,6 +198,7 @@ pub fn preinstall(
         kept: kept_rows,
         manifest,
         left_out,
+        missing_system_packages,
     }
 }
 
@@ -224,6 +233,13 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     }
     for l in &p.left_out {
         let _ = writeln!(s, "left out {}: {}", l.name, l.reason);
+    }
+    if !p.missing_system_packages.is_empty() {
+        let _ = writeln!(
+            s,
+            "the manifest needs system packages the image lacks: {}",
+            p.missing_system_packages.join(" ")
+        );
     }
     s
 }
