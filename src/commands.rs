@@ -379,6 +379,7 @@ pub struct ImageplanCommand {
     pub target: f64,
     /// Folder for imageplan.yaml and coverage.svg.
     pub out: Option<PathBuf>,
+    pub format: Format,
 }
 
 /// The document `imageplan` writes.
@@ -477,6 +478,10 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
             report::write_atomic(&path, plan::coverage::coverage_svg(c).as_bytes())?;
             out.stderr.push(format!("wrote {}", path.display()));
         }
+    }
+    if o.format == Format::Json {
+        out.stdout = report::to_json(&p);
+        return Ok(out);
     }
     // The system report's text already ends with the notice, so it is not repeated here.
     let mut s = String::new();

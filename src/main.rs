@@ -287,6 +287,8 @@ struct ImageplanArgs {
     /// Folder to write imageplan.yaml and coverage.svg into.
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    #[arg(long, value_enum, default_value = "table")]
+    format: Format,
 }
 
 fn run_imageplan(a: ImageplanArgs) -> anyhow::Result<Output> {
@@ -299,6 +301,7 @@ fn run_imageplan(a: ImageplanArgs) -> anyhow::Result<Output> {
             runtimes: a.runtimes.clone(),
             target: a.target,
             out: a.out.clone(),
+            format: a.format,
         })
     })
 }

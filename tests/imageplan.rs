@@ -370,6 +370,7 @@ fn command_writes_yaml_and_svg() {
         runtimes: vec![v("3.0.5"), v("3.1.2")],
         target: 0.95,
         out: Some(path("out")),
+        format: basefit::report::Format::Table,
     };
     let out = basefit::commands::imageplan(&o).unwrap();
     let yaml = std::fs::read_to_string(path("out/imageplan.yaml")).unwrap();
@@ -380,9 +381,17 @@ fn command_writes_yaml_and_svg() {
     let again = basefit::commands::imageplan(&o).unwrap();
     assert_eq!(out.stdout, again.stdout, "deterministic output");
 
+    let json = basefit::commands::ImageplanCommand {
+        format: basefit::report::Format::Json,
+        out: None,
+        ..o
+    };
+    let parsed: serde_json::Value =
+        serde_json::from_str(&basefit::commands::imageplan(&json).unwrap().stdout).unwrap();
+    assert_eq!(parsed["preinstall"][0]["image"], "deb");
     let bad = basefit::commands::ImageplanCommand {
         images: vec!["nope".to_string()],
-        ..o
+        ..json
     };
     assert!(basefit::commands::imageplan(&bad).is_err());
 }
