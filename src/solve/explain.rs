@@ -150,12 +150,12 @@ pub(crate) fn unusable(
                     reqs.join("; ")
                 };
                 let dir = if *reason == Admission::NeedsNewerRuntime {
-                    "newer"
+                    "a newer"
                 } else {
-                    "older"
+                    "an older"
                 };
                 format!(
-                    "{n} {versions} need a {dir} runtime ({shown}; the image has {})",
+                    "{n} {versions} need {dir} runtime ({shown}; the image has {})",
                     image.runtime
                 )
             }
@@ -248,6 +248,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         leaf_causes.push((b, cause));
         Some(cause)
     };
+    let mut stated: Vec<(PackageId, PackageId, String, IndexSet)> = Vec::new();
     for fact in &facts.order {
         match fact {
             Fact::NoVersions(p) => {
@@ -291,6 +292,15 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                     }
                     Node::Package(ap) => {
                         let req = requirement_text(view, *ap, sa, *b, sb);
+                        // pubgrub may state one dependency for a range and again for part of
+                        // it; the part adds nothing to read.
+                        let covered = stated.iter().any(|(p, t, r, set)| {
+                            p == ap && t == b && *r == req && sa.subset_of(set)
+                        });
+                        if covered {
+                            continue;
+                        }
+                        stated.push((*ap, *b, req.clone(), sa.clone()));
                         lines.push(format!(
                             "{} {} depends on {target} {req}",
                             registry.name(*ap),
