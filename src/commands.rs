@@ -315,13 +315,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             plan::plan(&inputs, &o.plan)
         }
     };
-    let review = crate::verify::compare(
-        &matrix,
-        &inputs.results,
-        &inputs.registry,
-        &inputs.images,
-        &inputs.catalog,
-    );
+    let review = crate::verify::compare_inputs(&matrix, &inputs);
     let surprises = review.surprises();
     Ok(Output::report(
         o.format,
@@ -542,13 +536,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         }
     };
     if !inputs.results.is_empty() {
-        let review = crate::verify::compare(
-            &matrix,
-            &inputs.results,
-            &inputs.registry,
-            &inputs.images,
-            &inputs.catalog,
-        );
+        let review = crate::verify::compare_inputs(&matrix, &inputs);
         crate::verify::annotate(&mut matrix, &review);
     }
     let mut out = Output::default();

@@ -356,6 +356,17 @@ pub fn compare(
     }
 }
 
+/// [`compare`] with the registry, images and catalog of loaded inputs.
+pub fn compare_inputs(matrix: &Matrix, inputs: &crate::load::Inputs) -> Review {
+    compare(
+        matrix,
+        &inputs.results,
+        &inputs.registry,
+        &inputs.images,
+        &inputs.catalog,
+    )
+}
+
 /// Writes each cell's comparison into the matrix, for renderers.
 pub fn annotate(matrix: &mut Matrix, review: &Review) {
     let n = matrix.images.len();

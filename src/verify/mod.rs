@@ -7,4 +7,4 @@ pub mod compare;
 pub mod diff;
 pub mod logs;
 
-pub use compare::{Review, Verdict, annotate, compare};
+pub use compare::{Review, Verdict, annotate, compare, compare_inputs};
