@@ -51,7 +51,7 @@ fn cell(package: &str, image: &str, outcome: Outcome) -> Cell {
         missing_system_packages: Vec::new(),
         blockers: Vec::new(),
         recorded: None,
-        touched: Vec::new(),
+        observed: Default::default(),
     }
 }
 

@@ -944,9 +944,9 @@ mod tests {
 
     #[test]
     fn reciprocal_formula_by_hand_fractions() {
-        // No published worked example with numbers was found to cite, so this evaluates the
-        // formula of Cormack, Clarke and Buettcher (SIGIR 2009), RRF(d) = sum 1/(k + r(d)),
-        // k = 60, with fractions computed by hand:
+        // Exact fractions for the formula of Cormack, Clarke and Buettcher (SIGIR 2009),
+        // RRF(d) = sum 1/(k + r(d)), k = 60, computed by hand (the published example above
+        // is only given to 32-bit precision):
         //   a: ranks 1, 3 -> 1/61 + 1/63 = 124/3843
         //   b: ranks 2, 1 -> 1/62 + 1/61 = 123/3782
         //   c: ranks 3, 2 -> 1/63 + 1/62 = 125/3906
@@ -961,6 +961,59 @@ mod tests {
         assert!(close(score_of(&fused, "a"), 124.0 / 3843.0));
         assert!(close(score_of(&fused, "b"), 123.0 / 3782.0));
         assert!(close(score_of(&fused, "c"), 125.0 / 3906.0));
+    }
+
+    #[test]
+    fn reciprocal_reproduces_published_worked_example() {
+        // Source: OpenSearch documentation, "Reciprocal rank fusion" (vector search, hybrid
+        // search), example "Fusing keyword and vector results" and the table under "Tuning the
+        // rank constant" (read from the documentation-website repository,
+        // _vector-search/ai-search/hybrid-search/rrf.md). Keyword list: documents 1, 2; vector
+        // list: 2, 3, 4; a document absent from a list contributes nothing (our Exclude).
+        // Published scores (printed as 32-bit floats, so compared to 1e-7):
+        //   rank constant 60: doc 2 0.032522473, doc 1 0.016393442, doc 3 0.016129032,
+        //                     doc 4 0.015873017;
+        //   rank constant 1:  doc 2 0.8333334, doc 1 0.5, doc 3 0.33333334, doc 4 0.25.
+        let lists = [
+            ranked("keyword", &["1", "2"]),
+            ranked("vector", &["2", "3", "4"]),
+        ];
+        let published_k60 = [
+            ("2", 0.032522473),
+            ("1", 0.016393442),
+            ("3", 0.016129032),
+            ("4", 0.015873017),
+        ];
+        let published_k1 = [("2", 0.8333334), ("1", 0.5), ("3", 0.33333334), ("4", 0.25)];
+        for (method, published) in [
+            (Method::RECIPROCAL, published_k60),
+            (Method::Reciprocal { k: 1.0 }, published_k1),
+        ] {
+            let fused = fuse(&lists, method, Missing::Exclude).unwrap();
+            assert_eq!(order(&fused), ["2", "1", "3", "4"], "{method:?}");
+            for (name, score) in published {
+                let ours = score_of(&fused, name);
+                assert!((ours - score).abs() < 1e-7, "{method:?} {name}: {ours}");
+            }
+        }
+        // The same page's three-shard variant: keyword 2, 1; vector 2, 3, 4, 1, 5; rank
+        // constant 1. Published: doc 2 1.0, doc 1 0.53333336, doc 3 0.33333334, doc 4 0.25,
+        // doc 5 0.16666667.
+        let lists = [
+            ranked("keyword", &["2", "1"]),
+            ranked("vector", &["2", "3", "4", "1", "5"]),
+        ];
+        let fused = fuse(&lists, Method::Reciprocal { k: 1.0 }, Missing::Exclude).unwrap();
+        assert_eq!(order(&fused), ["2", "1", "3", "4", "5"]);
+        for (name, score) in [
+            ("2", 1.0),
+            ("1", 0.53333336),
+            ("3", 0.33333334),
+            ("4", 0.25),
+            ("5", 0.16666667),
+        ] {
+            assert!((score_of(&fused, name) - score).abs() < 1e-7, "{name}");
+        }
     }
 
     #[test]

@@ -1,9 +1,9 @@
 //! The predicted matrix: every priority entry solved on every image, in parallel.
 
 use crate::load::Inputs;
-use crate::model::{Image, PackageId, Priority};
+use crate::model::{Image, Priority};
 use crate::native::{self, Confidence};
-use crate::solve::{self, BuildKind, Cause, ImageView, RootSpec, Solved};
+use crate::solve::{self, BuildKind, Cause, ImageView, Observed, RootSpec, Solved};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -90,9 +90,10 @@ pub struct Cell {
     /// Recorded install results for this cell, set by `verify` when results are given.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub recorded: Option<RecordedCheck>,
-    /// Registry packages the solve consulted, for re-planning; not part of the rendered output.
+    /// What the solve observed of the registry, for re-planning; not part of the rendered
+    /// output.
     #[serde(skip)]
-    pub touched: Vec<PackageId>,
+    pub observed: Observed,
 }
 
 /// How recorded installs of one cell compare with its prediction.
@@ -219,7 +220,7 @@ pub fn plan_cell(
         missing_system_packages: Vec::new(),
         blockers: Vec::new(),
         recorded: None,
-        touched: solved.touched,
+        observed: solved.observed,
     };
     match solved.solved {
         Solved::Installs {

@@ -215,6 +215,28 @@ fn requirement_text(
     }
 }
 
+/// Every package an explanation of `tree` reads beyond what the solver was answered: those
+/// its facts name, whose refusals, requirement texts and release lists it describes.
+pub fn examined(tree: &Tree) -> Vec<PackageId> {
+    let mut facts = Facts {
+        no_versions: BTreeMap::new(),
+        order: Vec::new(),
+    };
+    collect(tree, &mut facts);
+    let mut out: Vec<PackageId> = facts.no_versions.keys().copied().collect();
+    for f in &facts.order {
+        if let Fact::Depends(a, _, b, _) = f {
+            if let Node::Package(a) = a {
+                out.push(*a);
+            }
+            out.push(*b);
+        }
+    }
+    out.sort_unstable();
+    out.dedup();
+    out
+}
+
 /// Explains a failed solve of `root` on the view's image.
 pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     let registry = view.registry;

@@ -22,7 +22,7 @@ pub mod sets;
 
 pub use explain::{Blocker, Failure};
 pub use image::{Admission, BuildKind, ImageView};
-pub use provider::{CellProvider, Node};
+pub use provider::{CellProvider, Node, Observed};
 pub use sets::{IndexSet, SetCache};
 
 use crate::model::{PackageId, Requirement};
@@ -125,9 +125,8 @@ pub enum Solved {
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct CellSolve {
     pub solved: Solved,
-    /// Every package whose versions or dependencies were consulted, sorted and unique: the
-    /// answer cannot change unless one of them (or the image) does.
-    pub touched: Vec<PackageId>,
+    /// What the solve asked of the registry and the image.
+    pub observed: Observed,
     pub steps: u64,
 }
 
@@ -147,13 +146,20 @@ pub fn solve_cell(view: &ImageView<'_>, root: &RootSpec<'_>, budget: u64) -> Cel
         .id(root.package)
         .filter(|id| registry.package(*id).declared)
     else {
+        // A name only used as a dependency must stay undeclared for this answer to hold; a
+        // name the registry lacks altogether leaves nothing to observe.
+        let undeclared: Vec<PackageId> = registry.id(root.package).into_iter().collect();
         return CellSolve {
             solved: Solved::Fails(Failure {
                 cause: Cause::MissingFromRegistry,
                 lines: vec![format!("{} is not in the registry", root.package)],
                 blockers: Vec::new(),
             }),
-            touched: Vec::new(),
+            observed: Observed {
+                packages: undeclared.clone(),
+                explained: undeclared,
+                ..Observed::default()
+            },
             steps: 0,
         };
     };
@@ -193,7 +199,7 @@ pub fn solve_joint(
                 root_index: 0,
                 closure: Vec::new(),
             },
-            touched: Vec::new(),
+            observed: Observed::default(),
             steps: 0,
         };
     };
@@ -208,9 +214,7 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
     let registry = view.registry;
     let result = pubgrub::resolve(&provider, Node::Root, 0u32);
     let steps = provider.steps();
-    let mut touched = provider.touched.take();
-    touched.sort_unstable();
-    touched.dedup();
+    let mut observed = provider.take_observed();
     let solved = match result {
         Ok(selected) => {
             let mut closure: Vec<Pin> = selected
@@ -238,6 +242,7 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
         Err(PubGrubError::NoSolution(err)) => {
             // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
             // cause; the explainer merges them per package itself.
+            observed.explained = explain::examined(&err);
             Solved::Fails(explain::explain(view, root_id, &err))
         }
         Err(PubGrubError::ErrorInShouldCancel(e)) => Solved::Undecided { steps: e.steps },
@@ -248,7 +253,7 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
     };
     CellSolve {
         solved,
-        touched,
+        observed,
         steps,
     }
 }

@@ -1,7 +1,7 @@
 //! The pubgrub dependency provider for one (package, image) cell.
 
 use super::image::{Admission, ImageView};
-use super::sets::{IndexSet, indices};
+use super::sets::{IndexSet, indices, indices_newest_first};
 use crate::model::PackageId;
 use pubgrub::{
     Dependencies, DependencyConstraints, DependencyProvider, PackageResolutionStatistics,
@@ -51,9 +51,42 @@ pub struct CellProvider<'v, 'r> {
     pub roots: Vec<(PackageId, IndexSet)>,
     budget: u64,
     steps: Cell<u64>,
-    /// Packages whose versions or dependencies the solver asked about: exactly the packages
-    /// that can influence this cell's answer.
-    pub touched: RefCell<Vec<PackageId>>,
+    /// What the solver asked and was answered; see [`Observed`].
+    pub observed: RefCell<Observed>,
+}
+
+/// What one solve learnt from the registry and the image, kept so that a later plan can tell
+/// whether a changed registry would answer every question the same way. pubgrub is
+/// deterministic: given the same answers it asks the same questions and reaches the same
+/// result, so a cell whose observations all still hold needs no new solve.
+///
+/// Release indices are only comparable while a package's list of versions is unchanged;
+/// whoever checks observations must check that first.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct Observed {
+    /// Every package whose versions or dependencies were consulted (sorted and unique once
+    /// the solve is over): the answer cannot change unless one of them, or the image, does.
+    pub packages: Vec<PackageId>,
+    /// `(package, release, admissible)` for each release whose admission decided a choice of
+    /// version: the release chosen and every newer one in the range asked about (the whole
+    /// range when none was admissible). Older releases in the range did not matter.
+    pub admissions: Vec<(PackageId, u32, bool)>,
+    /// Releases whose dependencies the solver read.
+    pub fetched: Vec<(PackageId, u32)>,
+    /// Packages a failure's explanation read beyond the solver's answers (refusal reasons,
+    /// the requirements of releases never picked): they must be unchanged as a whole.
+    pub explained: Vec<PackageId>,
+}
+
+impl Observed {
+    fn finish(&mut self) {
+        self.packages.sort_unstable();
+        self.packages.dedup();
+        self.admissions.sort_unstable();
+        self.admissions.dedup();
+        self.fetched.sort_unstable();
+        self.fetched.dedup();
+    }
 }
 
 impl<'v, 'r> CellProvider<'v, 'r> {
@@ -71,14 +104,24 @@ impl<'v, 'r> CellProvider<'v, 'r> {
                 None => merged.push((id, set)),
             }
         }
-        let touched = merged.iter().map(|(p, _)| *p).collect();
+        let observed = Observed {
+            packages: merged.iter().map(|(p, _)| *p).collect(),
+            ..Observed::default()
+        };
         CellProvider {
             view,
             roots: merged,
             budget,
             steps: Cell::new(0),
-            touched: RefCell::new(touched),
+            observed: RefCell::new(observed),
         }
+    }
+
+    /// What the solve observed, sorted and unique.
+    pub fn take_observed(&self) -> Observed {
+        let mut observed = self.observed.take();
+        observed.finish();
+        observed
     }
 
     pub fn steps(&self) -> u64 {
@@ -119,17 +162,19 @@ impl DependencyProvider for CellProvider<'_, '_> {
         match package {
             Node::Root | Node::Runtime => Ok(range.contains(&0).then_some(0)),
             Node::Package(id) => {
-                self.touched.borrow_mut().push(*id);
                 let admissions = self.view.admissions(*id);
+                let mut observed = self.observed.borrow_mut();
+                observed.packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
                 // exhausted range is learned in one step as "no versions".
-                let mut newest = None;
-                for i in indices(range, admissions.len()) {
-                    if admissions[i as usize] == Admission::Admissible {
-                        newest = Some(i);
+                for i in indices_newest_first(range, admissions.len()) {
+                    let admissible = admissions[i as usize] == Admission::Admissible;
+                    observed.admissions.push((*id, i, admissible));
+                    if admissible {
+                        return Ok(Some(i));
                     }
                 }
-                Ok(newest)
+                Ok(None)
             }
         }
     }
@@ -152,9 +197,12 @@ impl DependencyProvider for CellProvider<'_, '_> {
                 let release = &registry.package(*id).releases[*version as usize];
                 // Dependency targets count as consulted even if never decided: their release
                 // lists shape the requirement sets the solver reasons with.
-                self.touched
-                    .borrow_mut()
+                let mut observed = self.observed.borrow_mut();
+                observed.fetched.push((*id, *version));
+                observed
+                    .packages
                     .extend(release.runtime_deps().map(|d| d.package));
+                drop(observed);
                 let mut deps: Vec<(Node, IndexSet)> = Vec::with_capacity(release.deps.len() + 1);
                 if release.runtime.is_some() {
                     // Admissible releases meet the image's runtime; stating the dependency keeps

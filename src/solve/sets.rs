@@ -61,22 +61,31 @@ pub fn root_set(
     })
 }
 
+/// The indices one run of a set covers, clipped to a list of `count` releases.
+fn index_run((lo, hi): (&Bound<u32>, &Bound<u32>), count: usize) -> std::ops::Range<u32> {
+    let lo = match lo {
+        Bound::Included(v) => *v,
+        Bound::Excluded(v) => v.saturating_add(1),
+        Bound::Unbounded => 0,
+    };
+    let hi = match hi {
+        Bound::Included(v) => v.saturating_add(1),
+        Bound::Excluded(v) => *v,
+        Bound::Unbounded => count as u32,
+    }
+    .min(count as u32);
+    lo..hi.max(lo)
+}
+
 /// The indices in `set`, in ascending order.
 pub fn indices(set: &IndexSet, count: usize) -> impl Iterator<Item = u32> + '_ {
-    set.iter().flat_map(move |(lo, hi)| {
-        let lo = match lo {
-            Bound::Included(v) => *v,
-            Bound::Excluded(v) => v.saturating_add(1),
-            Bound::Unbounded => 0,
-        };
-        let hi = match hi {
-            Bound::Included(v) => v.saturating_add(1),
-            Bound::Excluded(v) => *v,
-            Bound::Unbounded => count as u32,
-        }
-        .min(count as u32);
-        lo..hi.max(lo)
-    })
+    set.iter().flat_map(move |run| index_run(run, count))
+}
+
+/// The indices in `set`, newest (highest) first.
+pub fn indices_newest_first(set: &IndexSet, count: usize) -> impl Iterator<Item = u32> {
+    let runs: Vec<std::ops::Range<u32>> = set.iter().map(|run| index_run(run, count)).collect();
+    runs.into_iter().rev().flat_map(|r| r.rev())
 }
 
 /// Requirement sets shared by every solve of a plan: they depend only on the registry, and

@@ -1,0 +1,298 @@
+//! Incremental re-plans on seeded synthetic registries under random edits of every kind a
+//! registry snapshot can see: the warm matrix and the cache it leaves must be exactly those of
+//! a cold plan (the reference is basefit's own cold plan, which the solver tests check against
+//! exhaustive search and the PubGrub documentation's examples).
+//!
+//! `BASEFIT_REPLAN_SEEDS=N` runs more seeds (default 4).
+
+use basefit::load::Inputs;
+use basefit::load::images::read_images_str;
+use basefit::load::registry::{RegistryBuilder, read_yaml_str};
+use basefit::model::{Dep, PackageId, Priority, PriorityList, Registry, Release};
+use basefit::native::catalog::Catalog;
+use basefit::plan::PlanOptions;
+use basefit::plan::replan::{PlanCache, replan};
+use basefit::report::to_json;
+use basefit::synth::{SynthOptions, write_yaml};
+
+/// splitmix64, as in the generator: the same sequence on every platform.
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+    fn below(&mut self, n: usize) -> usize {
+        (self.next() % n.max(1) as u64) as usize
+    }
+}
+
+const IMAGES: &str = "images:
+- {id: old-deb, runtime: 2.3.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [zlib1g-dev]}
+- {id: mid-alpine, runtime: 2.7.0, family: alpine, platform: linux/musl/x86_64, toolchain: true}
+- {id: new-rhel, runtime: 3.1.0, family: rhel, platform: linux/glibc/x86_64, toolchain: false}
+- {id: new-arm, runtime: 3.2.0, family: debian, platform: linux/glibc/aarch64, toolchain: true, packages: [libssl-dev]}
+";
+
+fn inputs(seed: u64) -> Inputs {
+    let mut text = Vec::new();
+    write_yaml(&SynthOptions::scaled(seed, 6_000), &mut text).unwrap();
+    let mut builder = RegistryBuilder::new();
+    read_yaml_str(
+        "synth.yaml",
+        std::str::from_utf8(&text).unwrap(),
+        &mut builder,
+    )
+    .unwrap();
+    let (registry, mut ledger) = builder.finish();
+    let images = read_images_str("images.yaml", IMAGES, &mut ledger).unwrap();
+    // The most depended-on packages (long closures), a few others, and two absent names.
+    let mut dependents = vec![0usize; registry.packages.len()];
+    for p in &registry.packages {
+        for r in &p.releases {
+            for d in r.runtime_deps() {
+                dependents[d.package.0 as usize] += 1;
+            }
+        }
+    }
+    let mut ids: Vec<PackageId> = registry
+        .ids()
+        .filter(|id| registry.package(*id).declared)
+        .collect();
+    ids.sort_by_key(|id| (std::cmp::Reverse(dependents[id.0 as usize]), *id));
+    let mut names: Vec<String> = ids[..40]
+        .iter()
+        .chain(ids.iter().step_by(37).take(20))
+        .map(|id| registry.name(*id).to_string())
+        .collect();
+    names.push("not-yet-published".into());
+    names.push("never-published".into());
+    let entries = names
+        .into_iter()
+        .enumerate()
+        .map(|(i, name)| Priority {
+            rank: i + 1,
+            name,
+            weight: 1.0,
+            req: None,
+            prerelease: false,
+            origin: basefit::load::diag::Origin {
+                file: "test".into(),
+                line: i + 1,
+            },
+        })
+        .collect();
+    Inputs {
+        registry,
+        images,
+        priorities: PriorityList { entries },
+        catalog: Catalog::builtin(),
+        ledger,
+        ..Default::default()
+    }
+}
+
+/// One random edit to one package, of the kinds a daily snapshot brings. Returns what it did.
+fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
+    let reqs = [">=2.0", ">=2.6", ">=3.0", "<3.0", "^2.4", "*"];
+    let req = registry
+        .intern_requirement(reqs[rng.below(reqs.len())])
+        .unwrap();
+    let dep_req = registry
+        .intern_requirement(["*", "^1", "<1", ">=2"][rng.below(4)])
+        .unwrap();
+    let other = PackageId(rng.below(registry.packages.len()) as u32);
+    let p = registry.package_mut(id);
+    let n = p.releases.len();
+    if n == 0 {
+        p.summary = Some("now with a summary".into());
+        return "summary";
+    }
+    let i = if rng.below(2) == 0 {
+        n - 1
+    } else {
+        rng.below(n)
+    };
+    let r = &mut p.releases[i];
+    match rng.below(10) {
+        0 => {
+            r.yanked = !r.yanked;
+            "yank toggled"
+        }
+        1 => {
+            r.runtime = Some(req);
+            "runtime requirement"
+        }
+        2 => {
+            let mut deps = r.deps.to_vec();
+            if deps.is_empty() {
+                deps.push(Dep {
+                    package: other,
+                    req: dep_req,
+                    kind: basefit::model::DepKind::Runtime,
+                });
+            } else {
+                deps.remove(rng.below(deps.len()));
+            }
+            r.deps = deps.into();
+            "dependency added or removed"
+        }
+        3 => {
+            let mut deps = r.deps.to_vec();
+            if let Some(d) = deps.first_mut() {
+                d.req = dep_req;
+            }
+            r.deps = deps.into();
+            "dependency requirement"
+        }
+        4 => {
+            r.build.source = !r.build.source;
+            "source build toggled"
+        }
+        5 => {
+            r.native
+                .get_or_insert_with(Default::default)
+                .libraries
+                .push("libxml2".into());
+            "native library declared"
+        }
+        6 => {
+            p.summary = Some("bindings to zlib and sqlite".into());
+            "summary"
+        }
+        7 => {
+            p.native_helper = !p.native_helper;
+            "native helper toggled"
+        }
+        _ => {
+            // A new newest release, like the previous newest but a patch higher.
+            let mut next: Release = p.releases[n - 1].clone();
+            next.version = semver::Version::new(
+                next.version.major,
+                next.version.minor,
+                next.version.patch + 1,
+            );
+            next.version.pre = semver::Prerelease::EMPTY;
+            if next.version > p.releases[n - 1].version {
+                p.releases.push(next);
+                "new release"
+            } else {
+                "nothing"
+            }
+        }
+    }
+}
+
+/// Makes a release some cell saw admissible refused everywhere, or one it saw refused
+/// admissible everywhere: the edits a re-plan must notice through admissions alone.
+fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
+    let seen: Vec<(&str, u32, bool)> = cache
+        .cells
+        .iter()
+        .flat_map(|c| &c.answers)
+        .flat_map(|a| {
+            let name = cache.packages[a.package as usize].name.as_str();
+            let ok = a.admissible.iter().map(move |&i| (name, i, true));
+            let no = a.refused.iter().map(move |&i| (name, i, false));
+            ok.chain(no)
+        })
+        .collect();
+    if seen.is_empty() {
+        return "nothing observed";
+    }
+    let (name, index, admissible) = seen[rng.below(seen.len())];
+    let registry = &mut inputs.registry;
+    let any = registry.intern_requirement("*").unwrap();
+    let id = registry.id(name).unwrap();
+    let r = &mut registry.package_mut(id).releases[index as usize];
+    if admissible {
+        r.yanked = true;
+        "an admissible release yanked"
+    } else {
+        r.yanked = false;
+        r.runtime = Some(any);
+        r.build.source = true;
+        "a refused release made admissible"
+    }
+}
+
+/// Rounds of edits per seed, each to about 1% of the packages: few enough that most cells
+/// survive a round, so a re-plan that kept a cell it should have solved again shows.
+const ROUNDS: usize = 6;
+
+fn cache_json(cache: &PlanCache) -> String {
+    serde_json::to_string(cache).unwrap()
+}
+
+#[test]
+fn warm_replans_equal_cold_plans_under_random_edits() {
+    let seeds: u64 = std::env::var("BASEFIT_REPLAN_SEEDS")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(4);
+    let options = PlanOptions::default();
+    let (mut reused, mut solved) = (0, 0);
+    for seed in 1..=seeds {
+        let mut inputs = inputs(seed);
+        let mut rng = Rng(seed);
+        let (_, mut cache, _) = replan(&inputs, &options, None, None);
+
+        for round in 0..ROUNDS {
+            let count = inputs.registry.packages.len();
+            let mut done = Vec::new();
+            // Half the edits hit packages some cell consulted, the rest anywhere.
+            let consulted: Vec<PackageId> = cache
+                .packages
+                .iter()
+                .filter_map(|p| inputs.registry.id(&p.name))
+                .collect();
+            for k in 0..(count / 100).max(1) {
+                let id = if k % 2 == 0 && !consulted.is_empty() {
+                    consulted[rng.below(consulted.len())]
+                } else {
+                    PackageId(rng.below(count) as u32)
+                };
+                done.push(edit(&mut inputs.registry, id, &mut rng));
+            }
+            // And one release whose admission decided a choice changes sides.
+            done.push(flip_observed(&mut inputs, &cache, &mut rng));
+            if round == ROUNDS - 1 {
+                // A name the priorities asked for appears in the registry.
+                let mut builder = RegistryBuilder::new();
+                read_yaml_str(
+                    "late.yaml",
+                    "packages:\n- name: not-yet-published\n  versions:\n  - {version: 1.0.0}\n",
+                    &mut builder,
+                )
+                .unwrap();
+                let (late, _) = builder.finish();
+                let mut merged = inputs.registry.clone();
+                let id = merged.intern_package("not-yet-published");
+                let p = merged.package_mut(id);
+                p.declared = true;
+                p.releases = late.packages[0].releases.clone();
+                inputs.registry = merged;
+            }
+            let (warm, warm_cache, stats) = replan(&inputs, &options, Some(&cache), None);
+            let (cold, cold_cache, _) = replan(&inputs, &options, None, None);
+            assert!(
+                to_json(&warm) == to_json(&cold),
+                "seed {seed} round {round}: warm matrix differs from cold after {done:?}"
+            );
+            assert!(
+                cache_json(&warm_cache) == cache_json(&cold_cache),
+                "seed {seed} round {round}: warm cache differs from cold"
+            );
+            reused += stats.reused;
+            solved += stats.solved;
+            cache = warm_cache;
+        }
+    }
+    // The edits must both leave cells valid and invalidate some: otherwise this test could
+    // not tell a re-plan that reuses nothing, or everything, from a correct one.
+    assert!(reused > 0 && solved > 0, "reused {reused}, solved {solved}");
+}
