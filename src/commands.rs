@@ -116,12 +116,12 @@ pub struct PlanCommand {
 pub fn plan(o: &PlanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, "plan")?;
+    let mut out = Output::default();
     let previous = match &o.cache {
-        Some(p) if p.exists() => Some(read_cache(p)?),
+        Some(p) if p.exists() => read_cache(p, &mut out)?,
         _ => None,
     };
     let (matrix, cache, stats) = plan::replan::replan(&inputs, &o.plan, previous.as_ref(), o.shard);
-    let mut out = Output::default();
     if let Some(dir) = &o.out {
         write_matrix(&matrix, dir, &mut out)?;
     }
@@ -165,8 +165,26 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     Ok(out)
 }
 
-fn read_cache(path: &std::path::Path) -> Result<plan::replan::PlanCache, BadInput> {
-    read_json(path, "basefit plan cache (delete it to plan from scratch)")
+/// A plan cache, or `None` (with a note) when another version of basefit wrote it: its
+/// cells cannot be checked, so the plan starts from scratch and replaces it.
+fn read_cache(
+    path: &std::path::Path,
+    out: &mut Output,
+) -> Result<Option<plan::replan::PlanCache>, BadInput> {
+    #[derive(serde::Deserialize)]
+    struct Header {
+        format: Option<u32>,
+    }
+    let what = "basefit plan cache (delete it to plan from scratch)";
+    let header: Header = read_json(path, what)?;
+    if header.format != Some(plan::replan::CACHE_FORMAT) {
+        out.stderr.push(format!(
+            "plan cache {} was written by another version of basefit; planning from scratch",
+            path.display()
+        ));
+        return Ok(None);
+    }
+    read_json(path, what).map(Some)
 }
 
 /// Reads a JSON document basefit wrote, naming the file and line when it does not parse.

@@ -29,7 +29,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-const CACHE_FORMAT: u32 = 2;
+pub const CACHE_FORMAT: u32 = 2;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
