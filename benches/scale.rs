@@ -386,9 +386,9 @@ fn main() {
 
     // Re-plan after a change to 1% of the packages: the yank flag of the newest release of
     // every 100th declared package is flipped (mostly yanks, a few un-yanks).
-    let (before, cache, _) = replan(&inputs, &options, None, None);
+    let (cache, _) = replan(&inputs, &options, None, None);
     let t = Instant::now();
-    let (_, _, unchanged) = replan(&inputs, &options, Some(&cache), None);
+    let (cache, unchanged) = replan(&inputs, &options, Some(cache), None);
     println!(
         "re-plan with nothing changed: {:.3} s ({} reused, {} solved)",
         t.elapsed().as_secs_f64(),
@@ -407,12 +407,14 @@ fn main() {
             changed.insert(*id);
         }
     }
+    let before = cache.matrix.clone();
     let t = Instant::now();
-    let (warm, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    let (warm, stats) = replan(&inputs, &options, Some(cache), None);
     let warm_time = t.elapsed();
     let t = Instant::now();
-    let (cold, _, _) = replan(&inputs, &options, None, None);
+    let (cold, _) = replan(&inputs, &options, None, None);
     let cold_time = t.elapsed();
+    let (warm, cold) = (warm.matrix, cold.matrix);
     println!(
         "re-plan after changing {} packages (1%): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
         changed.len(),
@@ -496,7 +498,7 @@ fn main() {
             ..PlanOptions::default()
         };
         let t = Instant::now();
-        let (m, _, _) = replan(&sweep, &sweep_options, None, None);
+        let m = replan(&sweep, &sweep_options, None, None).0.matrix;
         let took = t.elapsed();
         println!(
             "sweep: newest version of {} packages x {} images = {} cells in {:.1} s ({:.0} cells/s), {} resolve",

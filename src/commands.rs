@@ -121,9 +121,10 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Some(p) if p.exists() => read_cache(p, &mut out)?,
         _ => None,
     };
-    let (matrix, cache, stats) = plan::replan::replan(&inputs, &o.plan, previous.as_ref(), o.shard);
+    let (cache, stats) = plan::replan::replan(&inputs, &o.plan, previous, o.shard);
+    let matrix = &cache.matrix;
     if let Some(dir) = &o.out {
-        write_matrix(&matrix, dir, &mut out)?;
+        write_matrix(matrix, dir, &mut out)?;
     }
     if let Some(p) = &o.cache {
         report::write_atomic(p, serde_json::to_string(&cache)?.as_bytes())?;
@@ -144,8 +145,8 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         );
         return Ok(out);
     }
-    let summary = plan::summarise(&matrix);
-    let shared = blockers::shared_blockers(&matrix, o.blockers);
+    let summary = plan::summarise(matrix);
+    let shared = blockers::shared_blockers(matrix, o.blockers);
     out.stdout = match o.format {
         Format::Json => {
             report::to_json(&serde_json::json!({ "summary": summary, "shared_blockers": shared }))

@@ -24,7 +24,9 @@ fn shards_merge_into_the_single_run() {
     for count in [1, 3, 7] {
         let parts: Vec<Matrix> = (1..=count)
             .map(|index| {
-                let (m, _, _) = replan(&inputs, &options, None, Some(Shard { index, count }));
+                let m = replan(&inputs, &options, None, Some(Shard { index, count }))
+                    .0
+                    .matrix;
                 // Through JSON, as the merge command reads shard files.
                 serde_json::from_str(&to_json(&m)).unwrap()
             })
@@ -47,7 +49,11 @@ fn shards_merge_into_the_single_run() {
 fn merging_refuses_incomplete_or_repeated_shards() {
     let inputs = demo();
     let options = PlanOptions::default();
-    let shard = |index| replan(&inputs, &options, None, Some(Shard { index, count: 3 })).0;
+    let shard = |index| {
+        replan(&inputs, &options, None, Some(Shard { index, count: 3 }))
+            .0
+            .matrix
+    };
     assert!(
         merge_shards(vec![shard(1), shard(2)])
             .unwrap_err()
@@ -64,12 +70,13 @@ fn merging_refuses_incomplete_or_repeated_shards() {
 fn replan_after_a_change_reuses_what_it_can_and_equals_a_cold_plan() {
     let mut inputs = demo();
     let options = PlanOptions::default();
-    let (first, cache, stats) = replan(&inputs, &options, None, None);
+    let (cache, stats) = replan(&inputs, &options, None, None);
+    let first = cache.matrix.clone();
     assert_eq!(stats.reused, 0);
     // Unchanged inputs: everything is reused.
-    let (again, cache, stats) = replan(&inputs, &options, Some(&cache), None);
+    let (cache, stats) = replan(&inputs, &options, Some(cache), None);
     assert_eq!(stats.solved, 0);
-    assert!(to_json(&again) == to_json(&first));
+    assert!(to_json(&cache.matrix) == to_json(&first));
     // wattle-core's 2.x line stops needing runtime >= 3.1: every cell that consulted it is
     // solved again, the rest is reused.
     let id = inputs.registry.id("wattle-core").unwrap();
@@ -79,7 +86,8 @@ fn replan_after_a_change_reuses_what_it_can_and_equals_a_cold_plan() {
             r.runtime = Some(relaxed);
         }
     }
-    let (warm, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    let (warm, stats) = replan(&inputs, &options, Some(cache), None);
+    let warm = warm.matrix;
     let cold = plan(&inputs, &options);
     assert!(
         to_json(&warm) == to_json(&cold),
@@ -97,11 +105,11 @@ fn replan_after_a_change_reuses_what_it_can_and_equals_a_cold_plan() {
 fn a_changed_image_or_option_invalidates_its_cells() {
     let mut inputs = demo();
     let options = PlanOptions::default();
-    let (_, cache, _) = replan(&inputs, &options, None, None);
+    let (cache, _) = replan(&inputs, &options, None, None);
     inputs.images.images[0]
         .system_packages
         .insert("libxml2-dev-extra".into());
-    let (_, _, stats) = replan(&inputs, &options, Some(&cache), None);
+    let (_, stats) = replan(&inputs, &options, Some(cache.clone()), None);
     assert_eq!(
         stats.solved,
         inputs.priorities.entries.len(),
@@ -111,6 +119,6 @@ fn a_changed_image_or_option_invalidates_its_cells() {
         budget: 7,
         ..PlanOptions::default()
     };
-    let (_, _, stats) = replan(&inputs, &other, Some(&cache), None);
+    let (_, stats) = replan(&inputs, &other, Some(cache), None);
     assert_eq!(stats.reused, 0);
 }

@@ -334,7 +334,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
 /// Plans every priority entry on every image. Cells are solved in parallel on the current
 /// rayon pool; the result does not depend on the number of threads.
 pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
-    super::replan::replan(inputs, options, None, None).0
+    super::replan::replan(inputs, options, None, None).0.matrix
 }
 
 pub fn image_columns(inputs: &Inputs) -> Vec<ImageColumn> {

@@ -212,43 +212,33 @@ pub struct CachedPackage {
     pub releases: Vec<u64>,
 }
 
-/// What a resolved cell observed of one package (indices into [`PlanCache::packages`] and
-/// into the package's release list).
+/// What one cell of the cached matrix depends on.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
-pub struct Answers {
-    pub package: u32,
-    /// Releases that were admissible and must still be.
-    #[serde(default, skip_serializing_if = "Vec::is_empty")]
-    pub admissible: Vec<u32>,
-    /// Releases that were refused on the image and must still be.
-    #[serde(default, skip_serializing_if = "Vec::is_empty")]
-    pub refused: Vec<u32>,
-    /// Releases whose dependencies were read and must be unchanged.
-    #[serde(default, skip_serializing_if = "Vec::is_empty")]
-    pub fetched: Vec<u32>,
-}
-
-/// One cached cell and what it depends on.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct CachedCell {
+pub struct CellBasis {
     pub entry: u64,
     pub image: u64,
-    /// What the solve observed of each consulted package.
-    pub answers: Vec<Answers>,
-    /// Packages (indices into [`PlanCache::packages`]) that must be unchanged as a whole.
+    /// What the solve observed, one run per consulted package in table order: the package's
+    /// index in [`PlanCache::packages`], then three counted lists of release indices: those
+    /// that were admissible and must still be, those refused that must still be, and those
+    /// whose dependencies were read and must be unchanged. Flat, because a registry-sized
+    /// plan has millions of these and a re-plan copies them all.
+    pub observed: Vec<u32>,
+    /// Packages (table indices) that must be unchanged as a whole.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub unchanged: Vec<u32>,
-    pub cell: Cell,
 }
 
-/// What a plan leaves behind for the next one.
+/// What a plan leaves behind for the next one: the matrix, and for each of its cells what
+/// the cell depends on.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PlanCache {
     pub format: u32,
     pub global: u64,
-    /// Every package a cached cell consulted, in name order.
+    /// Every package a cell consulted, in name order.
     pub packages: Vec<CachedPackage>,
-    pub cells: Vec<CachedCell>,
+    /// One per cell of `matrix`, in the same order.
+    pub bases: Vec<CellBasis>,
+    pub matrix: Matrix,
 }
 
 /// How much of a re-plan was reused.
@@ -266,108 +256,116 @@ enum Standing {
     Changed,
 }
 
+impl Standing {
+    fn id(&self) -> Option<PackageId> {
+        match self {
+            Standing::Unchanged(id) | Standing::SameListing(id) => Some(*id),
+            Standing::Changed => None,
+        }
+    }
+}
+
+/// One package's run of [`CellBasis::observed`].
+struct Run<'a> {
+    package: u32,
+    admissible: &'a [u32],
+    refused: &'a [u32],
+    fetched: &'a [u32],
+}
+
+/// The runs of an observed list; `None` for a damaged one.
+fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
+    fn take<'a>(rest: &mut &'a [u32]) -> Option<&'a [u32]> {
+        let (&n, tail) = rest.split_first()?;
+        let list = tail.get(..n as usize)?;
+        *rest = &tail[n as usize..];
+        Some(list)
+    }
+    let mut out = Vec::new();
+    let mut rest = observed;
+    while let Some((&package, tail)) = rest.split_first() {
+        rest = tail;
+        let admissible = take(&mut rest)?;
+        let refused = take(&mut rest)?;
+        let fetched = take(&mut rest)?;
+        out.push(Run {
+            package,
+            admissible,
+            refused,
+            fetched,
+        });
+    }
+    Some(out)
+}
+
 /// Whether the current registry would answer the cached cell's solve, and read its
-/// explanation, exactly as before. Returns the cell's observations in terms of the current
-/// registry when so. A cell that observed nothing was asked for a name the registry lacked,
-/// and holds while the name is still absent. A damaged cache makes cells invalid, never a
-/// panic.
+/// explanation, exactly as before. A cell that observed nothing was asked for a name the
+/// registry lacked, and holds while the name is still absent. A damaged cache makes cells
+/// invalid, never a panic.
 fn recheck(
-    cached: &CachedCell,
+    basis: &CellBasis,
+    package_name: &str,
     old: &[CachedPackage],
     standing: &[Standing],
     view: &ImageView<'_>,
     prints: &PrintTable<'_>,
-) -> Option<Observed> {
-    let mut observed = Observed::default();
-    if cached.answers.is_empty() {
-        return view
-            .registry
-            .id(&cached.cell.package)
-            .is_none()
-            .then_some(observed);
+) -> bool {
+    if basis.observed.is_empty() {
+        return view.registry.id(package_name).is_none();
     }
-    for &k in &cached.unchanged {
-        match standing.get(k as usize)? {
-            Standing::Unchanged(id) => observed.explained.push(*id),
-            _ => return None,
-        }
+    let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
+    if !basis.unchanged.iter().all(|&k| unchanged(k)) {
+        return false;
     }
-    for a in &cached.answers {
-        let k = a.package as usize;
-        let (id, unchanged) = match standing.get(k)? {
-            Standing::Unchanged(id) => (*id, true),
-            Standing::SameListing(id) => (*id, false),
-            Standing::Changed => return None,
+    let Some(runs) = runs(&basis.observed) else {
+        return false;
+    };
+    runs.iter().all(|run| {
+        let Some(id) = standing.get(run.package as usize).and_then(Standing::id) else {
+            return false;
         };
         let count = view.registry.package(id).releases.len();
-        let all = || a.admissible.iter().chain(&a.refused).chain(&a.fetched);
-        if all().any(|&i| i as usize >= count) {
-            return None;
+        let lists = [run.admissible, run.refused, run.fetched];
+        if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count)) {
+            return false;
         }
-        if !unchanged {
-            let admissions = view.admissions(id);
-            let is_admissible = |i: u32| admissions[i as usize] == Admission::Admissible;
-            let now = &prints.of(id).releases;
-            let before = &old[k].releases;
-            if !a.admissible.iter().all(|&i| is_admissible(i))
-                || a.refused.iter().any(|&i| is_admissible(i))
-                || !a
-                    .fetched
-                    .iter()
-                    .all(|&i| before.get(i as usize) == Some(&now[i as usize]))
-            {
-                return None;
-            }
+        if unchanged(run.package) {
+            return true;
         }
-        observed.packages.push(id);
-        observed
-            .admissions
-            .extend(a.admissible.iter().map(|&i| (id, i, true)));
-        observed
-            .admissions
-            .extend(a.refused.iter().map(|&i| (id, i, false)));
-        observed.fetched.extend(a.fetched.iter().map(|&i| (id, i)));
-    }
-    observed.packages.sort_unstable();
-    observed.admissions.sort_unstable();
-    observed.fetched.sort_unstable();
-    observed.explained.sort_unstable();
-    Some(observed)
+        let admissions = view.admissions(id);
+        let is_admissible = |i: &u32| admissions[*i as usize] == Admission::Admissible;
+        let now = &prints.of(id).releases;
+        let before = &old[run.package as usize].releases;
+        run.admissible.iter().all(is_admissible)
+            && !run.refused.iter().any(is_admissible)
+            && run
+                .fetched
+                .iter()
+                .all(|&i| before.get(i as usize) == Some(&now[i as usize]))
+    })
 }
 
-/// A cell's observations as cache entries, in terms of the package table `slot`.
-fn answers_of(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<Answers> {
-    let (mut adm, mut fet) = (0, 0);
-    observed
-        .packages
-        .iter()
-        .map(|&id| {
-            let mut a = Answers {
-                package: slot(id),
-                admissible: Vec::new(),
-                refused: Vec::new(),
-                fetched: Vec::new(),
-            };
-            // Both lists are sorted by package, like `packages`.
-            while let Some(&(p, i, ok)) = observed.admissions.get(adm).filter(|x| x.0 <= id) {
-                if p == id {
-                    if ok {
-                        a.admissible.push(i)
-                    } else {
-                        a.refused.push(i)
-                    }
-                }
-                adm += 1;
-            }
-            while let Some(&(p, i)) = observed.fetched.get(fet).filter(|x| x.0 <= id) {
-                if p == id {
-                    a.fetched.push(i);
-                }
-                fet += 1;
-            }
-            a
-        })
-        .collect()
+/// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
+fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
+    let mut order = observed.packages.clone();
+    order.sort_unstable_by_key(|id| slot(*id));
+    let mut out = Vec::new();
+    for id in order {
+        out.push(slot(id));
+        // `admissions` and `fetched` are sorted by package first.
+        let adm = &observed.admissions;
+        let adm = &adm[adm.partition_point(|a| a.0 < id)..adm.partition_point(|a| a.0 <= id)];
+        for admissible in [true, false] {
+            let of_kind = || adm.iter().filter(move |a| a.2 == admissible);
+            out.push(of_kind().count() as u32);
+            out.extend(of_kind().map(|a| a.1));
+        }
+        let fet = &observed.fetched;
+        let fet = &fet[fet.partition_point(|f| f.0 < id)..fet.partition_point(|f| f.0 <= id)];
+        out.push(fet.len() as u32);
+        out.extend(fet.iter().map(|f| f.1));
+    }
+    out
 }
 
 /// A shard: `index` of `count`, 1-based as written on the command line (`--shard 2/8`).
@@ -409,27 +407,57 @@ impl Shard {
     }
 }
 
+/// What is left behind in the previous plan's cell list when a cell moves out of it.
+fn placeholder() -> Cell {
+    Cell {
+        package: String::new(),
+        image: String::new(),
+        outcome: super::matrix::Outcome::Undecided,
+        cause: None,
+        root_version: None,
+        closure_size: 0,
+        closure: Vec::new(),
+        explanation: Vec::new(),
+        native_needs: Vec::new(),
+        missing_system_packages: Vec::new(),
+        blockers: Vec::new(),
+        recorded: None,
+        observed: Observed::default(),
+    }
+}
+
+/// Where a cell of a re-plan comes from.
+enum Source {
+    /// Cell `k` of the previous plan, still valid.
+    Reused(usize),
+    Solved(Box<Cell>),
+}
+
 /// Plans the cells of `shard` (all when `None`), reusing every still-valid cell of `previous`.
-/// The matrix is identical to a cold plan of the same cells.
+/// The matrix is identical to a cold plan of the same cells, and so is the cache.
+///
+/// Takes the previous cache by value: its still-valid cells move into the new one.
 pub fn replan(
     inputs: &Inputs,
     options: &PlanOptions,
-    previous: Option<&PlanCache>,
+    previous: Option<PlanCache>,
     shard: Option<Shard>,
-) -> (Matrix, PlanCache, ReplanStats) {
+) -> (PlanCache, ReplanStats) {
     let registry = &inputs.registry;
     let global = global_fingerprint(inputs, options);
-    let previous = previous.filter(|p| p.format == CACHE_FORMAT && p.global == global);
-    let old: HashMap<(&str, &str), &CachedCell> = previous
-        .map(|p| {
-            p.cells
-                .iter()
-                .map(|c| ((c.cell.package.as_str(), c.cell.image.as_str()), c))
-                .collect()
-        })
-        .unwrap_or_default();
+    let previous = previous.filter(|p| {
+        p.format == CACHE_FORMAT && p.global == global && p.bases.len() == p.matrix.cells.len()
+    });
+    let (old_packages, old_bases, old_cells) = match previous {
+        Some(p) => (p.packages, p.bases, p.matrix.cells),
+        None => Default::default(),
+    };
+    let old: HashMap<(&str, &str), usize> = old_cells
+        .iter()
+        .enumerate()
+        .map(|(k, c)| ((c.package.as_str(), c.image.as_str()), k))
+        .collect();
     let prints = PrintTable::new(registry);
-    let old_packages: &[CachedPackage] = previous.map(|p| p.packages.as_slice()).unwrap_or(&[]);
     let standing: Vec<Standing> = old_packages
         .par_iter()
         .map(|p| match registry.id(&p.name) {
@@ -462,7 +490,7 @@ pub fn replan(
             None => total as u64,
         });
     }
-    let results: Vec<(Cell, u64, u64, bool)> = (0..total)
+    let results: Vec<(Source, u64, u64)> = (0..total)
         .into_par_iter()
         .filter(|i| shard.is_none_or(|s| s.contains(*i)))
         .map(|i| {
@@ -474,50 +502,59 @@ pub fn replan(
             let entry_key = entry_fingerprint(entry);
             let image_key = image_keys[col];
             let image = &inputs.images.images[col];
-            if let Some(c) = old.get(&(entry.name.as_str(), image.id.as_str()))
-                && c.entry == entry_key
-                && c.image == image_key
-                && let Some(observed) = recheck(c, old_packages, &standing, &views[col], &prints)
+            if let Some(&k) = old.get(&(entry.name.as_str(), image.id.as_str()))
+                && old_bases[k].entry == entry_key
+                && old_bases[k].image == image_key
+                && recheck(
+                    &old_bases[k],
+                    &entry.name,
+                    &old_packages,
+                    &standing,
+                    &views[col],
+                    &prints,
+                )
             {
-                let mut cell = c.cell.clone();
-                cell.observed = observed;
-                return (cell, entry_key, image_key, true);
+                return (Source::Reused(k), entry_key, image_key);
             }
             let cell = plan_cell(inputs, &views[col], entry, options);
-            (cell, entry_key, image_key, false)
+            (Source::Solved(Box::new(cell)), entry_key, image_key)
         })
         .collect();
     if let Some(pb) = &options.progress {
         pb.finish_and_clear();
     }
+    drop(old);
     let stats = ReplanStats {
-        reused: results.iter().filter(|r| r.3).count(),
-        solved: results.iter().filter(|r| !r.3).count(),
+        reused: results
+            .iter()
+            .filter(|r| matches!(r.0, Source::Reused(_)))
+            .count(),
+        solved: results
+            .iter()
+            .filter(|r| matches!(r.0, Source::Solved(_)))
+            .count(),
     };
-    let cache = build_cache(&prints, global, &results);
-    let matrix = Matrix {
-        notice: super::matrix::NOTICE.to_string(),
-        images: image_columns(inputs),
-        packages: package_rows(inputs),
-        cells: results.into_iter().map(|r| r.0).collect(),
-        shard,
-    };
-    (matrix, cache, stats)
-}
 
-/// The cache of a finished plan: one table of every consulted package, in name order, and
-/// each cell's basis in terms of it.
-fn build_cache(
-    prints: &PrintTable<'_>,
-    global: u64,
-    results: &[(Cell, u64, u64, bool)],
-) -> PlanCache {
-    let registry = prints.registry;
+    // The new package table: every package a cell of this plan consulted, in name order.
     let mut ids: Vec<PackageId> = results
-        .iter()
-        .flat_map(|r| {
-            let o = &r.0.observed;
-            o.packages.iter().chain(&o.explained).copied()
+        .par_iter()
+        .flat_map_iter(|(source, _, _)| -> Vec<PackageId> {
+            match source {
+                Source::Solved(cell) => {
+                    let o = &cell.observed;
+                    o.packages.iter().chain(&o.explained).copied().collect()
+                }
+                Source::Reused(k) => {
+                    let basis = &old_bases[*k];
+                    let listed = runs(&basis.observed).unwrap_or_default();
+                    listed
+                        .iter()
+                        .map(|r| r.package)
+                        .chain(basis.unchanged.iter().copied())
+                        .filter_map(|p| standing[p as usize].id())
+                        .collect()
+                }
+            }
         })
         .collect();
     ids.par_sort_unstable();
@@ -528,7 +565,12 @@ fn build_cache(
         slots[id.0 as usize] = k as u32;
     }
     let slot = |id: PackageId| slots[id.0 as usize];
-    let packages = ids
+    // Old table index to new: order is kept, since both tables are in name order.
+    let renumber: Vec<u32> = standing
+        .iter()
+        .map(|s| s.id().map_or(u32::MAX, slot))
+        .collect();
+    let packages: Vec<CachedPackage> = ids
         .par_iter()
         .map(|&id| {
             let p = prints.of(id);
@@ -540,22 +582,82 @@ fn build_cache(
             }
         })
         .collect();
-    let cells = results
+    let bases: Vec<CellBasis> = results
         .par_iter()
-        .map(|(cell, entry, image, _)| CachedCell {
-            entry: *entry,
-            image: *image,
-            answers: answers_of(&cell.observed, &slot),
-            unchanged: cell.observed.explained.iter().map(|id| slot(*id)).collect(),
-            cell: cell.clone(),
+        .map(|(source, entry, image)| {
+            let (observed, unchanged) = match source {
+                Source::Solved(cell) => {
+                    let mut unchanged: Vec<u32> =
+                        cell.observed.explained.iter().map(|id| slot(*id)).collect();
+                    unchanged.sort_unstable();
+                    (encode(&cell.observed, &slot), unchanged)
+                }
+                Source::Reused(k) => {
+                    let basis = &old_bases[*k];
+                    let mut observed = basis.observed.clone();
+                    let mut at = 0;
+                    while at < observed.len() {
+                        observed[at] = renumber[observed[at] as usize];
+                        at += 1;
+                        for _ in 0..3 {
+                            at += 1 + observed[at] as usize;
+                        }
+                    }
+                    let unchanged = basis
+                        .unchanged
+                        .iter()
+                        .map(|&p| renumber[p as usize])
+                        .collect();
+                    (observed, unchanged)
+                }
+            };
+            CellBasis {
+                entry: *entry,
+                image: *image,
+                observed,
+                unchanged,
+            }
         })
         .collect();
-    PlanCache {
-        format: CACHE_FORMAT,
-        global,
-        packages,
-        cells,
+    // A priority list may name a package twice; its old cell is then copied, not moved.
+    let mut uses = vec![0usize; old_cells.len()];
+    for (source, _, _) in &results {
+        if let Source::Reused(k) = source {
+            uses[*k] += 1;
+        }
     }
+    let mut old_cells = old_cells;
+    let cells: Vec<Cell> = results
+        .into_iter()
+        .map(|(source, _, _)| match source {
+            Source::Solved(cell) => *cell,
+            Source::Reused(k) => {
+                uses[k] -= 1;
+                if uses[k] == 0 {
+                    std::mem::replace(&mut old_cells[k], placeholder())
+                } else {
+                    old_cells[k].clone()
+                }
+            }
+        })
+        .collect();
+    let matrix = Matrix {
+        notice: super::matrix::NOTICE.to_string(),
+        images: image_columns(inputs),
+        packages: package_rows(inputs),
+        cells,
+        shard,
+    };
+    (
+        PlanCache {
+            format: CACHE_FORMAT,
+            global,
+            packages,
+            bases,
+            matrix,
+        },
+        stats,
+    )
 }
 
 /// Puts shard matrices back together into exactly the matrix a single run gives.
