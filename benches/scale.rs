@@ -21,15 +21,15 @@ use basefit::load::bulk::read_bulk;
 use basefit::model::{
     Image, ImageSet, OsFamily, PackageId, Platform, Priority, PriorityList, Registry, Requirement,
 };
-use basefit::plan::PlanOptions;
 use basefit::plan::matrix::plan_cell;
 use basefit::plan::replan::replan;
+use basefit::plan::{Matrix, PlanOptions};
 use basefit::solve::{Admission, ImageView, SetCache};
 use basefit::synth::{SynthOptions, write_bulk};
 use pubgrub::{OfflineDependencyProvider, Ranges};
 use rayon::prelude::*;
 use semver::Version;
-use std::collections::{BTreeSet, HashMap};
+use std::collections::HashMap;
 use std::io::BufWriter;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
@@ -180,6 +180,56 @@ fn top_packages(registry: &Registry, n: usize) -> PriorityList {
             })
             .collect(),
     }
+}
+
+/// Prints how many cells predict differently between `before` and `after` (both of
+/// `inputs`' cells), and the share of the cold solve time they take: any exact re-plan must
+/// compute at least those cells again, so that share bounds the speed-up any exact reuse can
+/// reach, whatever it records.
+fn exact_bound(inputs: &Inputs, options: &PlanOptions, before: &Matrix, after: &Matrix) {
+    let (_, _, per_cell) = timed_plan(inputs, options);
+    let differs: Vec<usize> = (0..after.cells.len())
+        .filter(|&i| {
+            serde_json::to_string(&before.cells[i]).ok()
+                != serde_json::to_string(&after.cells[i]).ok()
+        })
+        .collect();
+    let all: Duration = per_cell.iter().map(|c| c.0).sum();
+    let needed: Duration = differs.iter().map(|&i| per_cell[i].0).sum();
+    println!(
+        "  {} cells predict differently after the change; solving only those takes {:.0}% of the cold solve time, so no exact re-plan can be more than {:.1}x faster here",
+        differs.len(),
+        100.0 * needed.as_secs_f64() / all.as_secs_f64(),
+        all.as_secs_f64() / needed.as_secs_f64().max(1e-9)
+    );
+}
+
+/// Re-plans after `change`, warm and cold, and prints both with the exact bound.
+fn replan_after(
+    what: &str,
+    inputs: &mut Inputs,
+    options: &PlanOptions,
+    change: impl FnOnce(&mut Registry) -> usize,
+) {
+    let (cache, _) = replan(inputs, options, None, None);
+    let before = cache.matrix.clone();
+    let changed = change(&mut inputs.registry);
+    let t = Instant::now();
+    let (warm, stats) = replan(inputs, options, Some(cache), None);
+    let warm_time = t.elapsed();
+    let t = Instant::now();
+    let (cold, _) = replan(inputs, options, None, None);
+    let cold_time = t.elapsed();
+    println!(
+        "re-plan after {what} ({changed} packages, 1%): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
+        warm_time.as_secs_f64(),
+        stats.reused,
+        stats.solved,
+        cold_time.as_secs_f64(),
+        cold_time.as_secs_f64() / warm_time.as_secs_f64(),
+        basefit::report::to_json(&warm.matrix) == basefit::report::to_json(&cold.matrix)
+    );
+    exact_bound(inputs, options, &before, &cold.matrix);
 }
 
 fn percentile(sorted: &[Duration], q: f64) -> Duration {
@@ -384,64 +434,68 @@ fn main() {
         );
     }
 
-    // Re-plan after a change to 1% of the packages: the yank flag of the newest release of
-    // every 100th declared package is flipped (mostly yanks, a few un-yanks).
     let (cache, _) = replan(&inputs, &options, None, None);
     let t = Instant::now();
-    let (cache, unchanged) = replan(&inputs, &options, Some(cache), None);
+    let (_, unchanged) = replan(&inputs, &options, Some(cache), None);
     println!(
         "re-plan with nothing changed: {:.3} s ({} reused, {} solved)",
         t.elapsed().as_secs_f64(),
         unchanged.reused,
         unchanged.solved
     );
-    let ids: Vec<PackageId> = inputs
-        .registry
-        .ids()
-        .filter(|id| inputs.registry.package(*id).declared)
-        .collect();
-    let mut changed = BTreeSet::new();
-    for id in ids.iter().step_by(100) {
-        if let Some(r) = inputs.registry.package_mut(*id).releases.last_mut() {
-            r.yanked = !r.yanked;
-            changed.insert(*id);
-        }
-    }
-    let before = cache.matrix.clone();
-    let t = Instant::now();
-    let (warm, stats) = replan(&inputs, &options, Some(cache), None);
-    let warm_time = t.elapsed();
-    let t = Instant::now();
-    let (cold, _) = replan(&inputs, &options, None, None);
-    let cold_time = t.elapsed();
-    let (warm, cold) = (warm.matrix, cold.matrix);
-    println!(
-        "re-plan after changing {} packages (1%): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
-        changed.len(),
-        warm_time.as_secs_f64(),
-        stats.reused,
-        stats.solved,
-        cold_time.as_secs_f64(),
-        cold_time.as_secs_f64() / warm_time.as_secs_f64(),
-        basefit::report::to_json(&warm) == basefit::report::to_json(&cold)
+    // Two kinds of change to 1% of the packages (every 100th declared package): the yank
+    // flag of the newest release flipped (mostly yanks, a few un-yanks), and a new release.
+    replan_after(
+        "flipping the yank flag of the newest release",
+        &mut inputs,
+        &options,
+        |registry| {
+            let ids: Vec<PackageId> = registry
+                .ids()
+                .filter(|id| registry.package(*id).declared)
+                .collect();
+            let mut changed = 0;
+            for id in ids.iter().step_by(100) {
+                if let Some(r) = registry.package_mut(*id).releases.last_mut() {
+                    r.yanked = !r.yanked;
+                    changed += 1;
+                }
+            }
+            changed
+        },
     );
-    // Any exact re-plan must compute again at least the cells whose prediction changed; the
-    // share of the cold solve time those cells take bounds the speed-up any exact reuse can
-    // reach, whatever it records.
-    let (_, _, per_cell) = timed_plan(&inputs, &options);
-    let differs: Vec<usize> = (0..cold.cells.len())
-        .filter(|&i| {
-            serde_json::to_string(&before.cells[i]).ok()
-                != serde_json::to_string(&cold.cells[i]).ok()
-        })
-        .collect();
-    let all: Duration = per_cell.iter().map(|c| c.0).sum();
-    let needed: Duration = differs.iter().map(|&i| per_cell[i].0).sum();
-    println!(
-        "  {} cells predict differently after the change; solving only those takes {:.0}% of the cold solve time, so no exact re-plan can be more than {:.1}x faster here",
-        differs.len(),
-        100.0 * needed.as_secs_f64() / all.as_secs_f64(),
-        all.as_secs_f64() / needed.as_secs_f64().max(1e-9)
+    replan_after(
+        "publishing a new patch release",
+        &mut inputs,
+        &options,
+        |registry| {
+            let ids: Vec<PackageId> = registry
+                .ids()
+                .filter(|id| registry.package(*id).declared)
+                .collect();
+            let mut changed = 0;
+            for id in ids.iter().skip(50).step_by(100) {
+                let releases = &mut registry.package_mut(*id).releases;
+                let Some(newest) = releases.iter().rev().find(|r| !r.yanked) else {
+                    continue;
+                };
+                let mut next = newest.clone();
+                next.version = Version::new(
+                    newest.version.major,
+                    newest.version.minor,
+                    newest.version.patch + 1,
+                );
+                next.raw_version = None;
+                if releases
+                    .last()
+                    .is_some_and(|last| next.version > last.version)
+                {
+                    releases.push(next);
+                    changed += 1;
+                }
+            }
+            changed
+        },
     );
 
     if env_usize("BASEFIT_BENCH_SWEEP", 1) != 0 {
