@@ -122,3 +122,87 @@ fn a_changed_image_or_option_invalidates_its_cells() {
     let (_, stats) = replan(&inputs, &other, Some(cache), None);
     assert_eq!(stats.reused, 0);
 }
+
+/// A small registry (`app` depends on `lib ^1`) planned on one image, then re-planned after
+/// `lib`'s versions change to `lib_versions`; returns the warm and cold matrices as JSON and
+/// how many cells the warm re-plan solved again.
+fn replan_after_lib_versions(lib_versions: &[&str]) -> (String, String, usize) {
+    use basefit::load::images::read_images_str;
+    use basefit::load::registry::{RegistryBuilder, read_yaml_str};
+    use basefit::model::{Priority, PriorityList};
+    let registry_text = |versions: &[&str]| {
+        let mut text = String::from(
+            "packages:\n- name: app\n  versions:\n  - version: 1.0.0\n    depends: [{name: lib, req: '^1'}]\n- name: lib\n  versions:\n",
+        );
+        for v in versions {
+            text.push_str(&format!("  - {{version: {v}}}\n"));
+        }
+        text
+    };
+    let load = |versions: &[&str]| {
+        let mut builder = RegistryBuilder::new();
+        read_yaml_str("r.yaml", &registry_text(versions), &mut builder).unwrap();
+        let (registry, mut ledger) = builder.finish();
+        let images = read_images_str(
+            "i.yaml",
+            "images:\n- {id: one, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            &mut ledger,
+        )
+        .unwrap();
+        let entry = |rank: usize, name: &str| Priority {
+            rank,
+            name: name.into(),
+            weight: 1.0,
+            req: None,
+            prerelease: false,
+            origin: basefit::load::diag::Origin {
+                file: "p".into(),
+                line: rank,
+            },
+        };
+        Inputs {
+            registry,
+            images,
+            priorities: PriorityList {
+                entries: vec![entry(1, "app")],
+            },
+            ledger,
+            ..Default::default()
+        }
+    };
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&load(&["1.0.0", "2.0.0"]), &options, None, None);
+    let after = load(lib_versions);
+    let (warm, stats) = replan(&after, &options, Some(cache), None);
+    let cold = plan(&after, &options);
+    (to_json(&warm.matrix), to_json(&cold), stats.solved)
+}
+
+#[test]
+fn a_release_published_outside_every_requirement_seen_keeps_the_cell() {
+    // lib 3.0.0 is newer than everything, and `^1` does not admit it (Semantic Versioning
+    // 2.0.0 caret rule as the semver crate implements it): app's cell is reused.
+    let (warm, cold, solved) = replan_after_lib_versions(&["1.0.0", "2.0.0", "3.0.0"]);
+    assert!(warm == cold);
+    assert_eq!(solved, 0);
+}
+
+#[test]
+fn a_release_published_inside_a_requirement_seen_is_solved_again() {
+    // lib 1.5.0 sorts between 1.0.0 and 2.0.0, so the old list is no longer a prefix, and
+    // `^1` admits it.
+    let (warm, cold, solved) = replan_after_lib_versions(&["1.0.0", "1.5.0", "2.0.0"]);
+    assert!(warm == cold);
+    assert_eq!(solved, 1);
+    assert!(cold.contains("\"1.5.0\""), "{cold}");
+}
+
+#[test]
+fn a_renamed_old_release_is_noticed_even_when_releases_were_appended() {
+    // 1.0.0 became 1.0.1 and 3.0.0 was published: same count plus one, so only the check
+    // that the old versions are still a prefix tells this apart from a plain publication.
+    let (warm, cold, solved) = replan_after_lib_versions(&["1.0.1", "2.0.0", "3.0.0"]);
+    assert!(warm == cold, "{warm}\n{cold}");
+    assert_eq!(solved, 1);
+    assert!(cold.contains("\"1.0.1\""), "{cold}");
+}

@@ -118,7 +118,7 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
         rng.below(n)
     };
     let r = &mut p.releases[i];
-    match rng.below(10) {
+    match rng.below(11) {
         0 => {
             r.yanked = !r.yanked;
             "yank toggled"
@@ -167,6 +167,18 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
         7 => {
             p.native_helper = !p.native_helper;
             "native helper toggled"
+        }
+        8 => {
+            // A fix published for an older line: a release between existing ones.
+            let mut fix: Release = p.releases[i].clone();
+            fix.version =
+                semver::Version::new(fix.version.major, fix.version.minor, fix.version.patch + 1);
+            let at = p.releases.partition_point(|r| r.version < fix.version);
+            if p.releases.get(at).is_some_and(|r| r.version == fix.version) {
+                return "nothing";
+            }
+            p.releases.insert(at, fix);
+            "release inserted between others"
         }
         _ => {
             // A new newest release, like the previous newest but a patch higher.

@@ -20,7 +20,8 @@
 
 use super::matrix::{Cell, Matrix, PlanOptions, image_columns, package_rows, plan_cell};
 use crate::load::Inputs;
-use crate::model::{Image, PackageId, Priority, Registry, Release};
+use crate::model::{Image, PackageId, Priority, Registry, Release, Requirement};
+use crate::solve::sets::{IndexSet, indices_newest_first, root_set};
 use crate::solve::{Admission, ImageView, Observed, SetCache};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -76,11 +77,12 @@ impl fmt::Write for Fnv {
 struct Prints {
     /// Everything that can change a solve, its explanation or its native assessment.
     whole: u64,
-    /// What release indices mean and what a cell reads of the package itself: its name,
-    /// summary, flags and list of versions.
-    listing: u64,
+    /// What a cell reads of the package itself: its name, summary and flags.
+    own: u64,
+    /// Its list of versions, which gives release indices their meaning.
+    versions: u64,
     /// Per release, what reading its dependencies and assessing it natively sees. Neither
-    /// the version (in `listing`) nor the yank flag: a yank only changes admission, which
+    /// the version (in `versions`) nor the yank flag: a yank only changes admission, which
     /// is observed on its own.
     releases: Box<[u64]>,
 }
@@ -88,33 +90,40 @@ struct Prints {
 impl Prints {
     fn of(registry: &Registry, id: PackageId) -> Prints {
         let p = registry.package(id);
-        let mut listing = Fnv::new();
-        listing
-            .str(&p.name)
+        let mut own = Fnv::new();
+        own.str(&p.name)
             .flag(p.declared)
             .str(p.summary.as_deref().unwrap_or(""))
             .flag(p.summary.is_some())
             .flag(p.native_helper);
-        for r in &p.releases {
-            listing.shown(&r.version);
-        }
         let releases: Box<[u64]> = p
             .releases
             .iter()
             .map(|r| release_print(registry, r))
             .collect();
+        let versions = versions_print(&p.releases);
         let mut whole = Fnv::new();
-        whole.feed(&listing.0.to_le_bytes());
+        whole.feed(&own.0.to_le_bytes());
+        whole.feed(&versions.to_le_bytes());
         for (r, print) in p.releases.iter().zip(&releases) {
             whole.feed(&print.to_le_bytes());
             whole.flag(r.yanked);
         }
         Prints {
             whole: whole.0,
-            listing: listing.0,
+            own: own.0,
+            versions,
             releases,
         }
     }
+}
+
+fn versions_print(releases: &[Release]) -> u64 {
+    let mut h = Fnv::new();
+    for r in releases {
+        h.shown(&r.version);
+    }
+    h.0
 }
 
 /// Fingerprints of the current registry's packages, computed on first use.
@@ -208,7 +217,8 @@ fn global_fingerprint(inputs: &Inputs, options: &PlanOptions) -> u64 {
 pub struct CachedPackage {
     pub name: String,
     pub whole: u64,
-    pub listing: u64,
+    pub own: u64,
+    pub versions: u64,
     pub releases: Vec<u64>,
 }
 
@@ -226,6 +236,10 @@ pub struct CellBasis {
     /// Packages (table indices) that must be unchanged as a whole.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub unchanged: Vec<u32>,
+    /// Packages (table indices) the solver asked about with a range reaching past their last
+    /// release: a newly published release would be seen.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub open_ended: Vec<u32>,
 }
 
 /// What a plan leaves behind for the next one: the matrix, and for each of its cells what
@@ -253,14 +267,39 @@ enum Standing {
     Unchanged(PackageId),
     /// Same versions and own fields; some release or yank flag differs.
     SameListing(PackageId),
+    /// Same own fields, the old versions first and newer ones published after them.
+    Extended(PackageId),
     Changed,
 }
 
 impl Standing {
     fn id(&self) -> Option<PackageId> {
         match self {
-            Standing::Unchanged(id) | Standing::SameListing(id) => Some(*id),
+            Standing::Unchanged(id) | Standing::SameListing(id) | Standing::Extended(id) => {
+                Some(*id)
+            }
             Standing::Changed => None,
+        }
+    }
+
+    fn of(registry: &Registry, prints: &PrintTable<'_>, old: &CachedPackage) -> Standing {
+        let Some(id) = registry.id(&old.name) else {
+            return Standing::Changed;
+        };
+        let now = prints.of(id);
+        let releases = &registry.package(id).releases;
+        if now.whole == old.whole {
+            Standing::Unchanged(id)
+        } else if now.own != old.own {
+            Standing::Changed
+        } else if now.versions == old.versions {
+            Standing::SameListing(id)
+        } else if releases.len() > old.releases.len()
+            && versions_print(&releases[..old.releases.len()]) == old.versions
+        {
+            Standing::Extended(id)
+        } else {
+            Standing::Changed
         }
     }
 }
@@ -304,27 +343,32 @@ fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
 /// invalid, never a panic.
 fn recheck(
     basis: &CellBasis,
-    package_name: &str,
+    entry: &Priority,
     old: &[CachedPackage],
     standing: &[Standing],
     view: &ImageView<'_>,
     prints: &PrintTable<'_>,
 ) -> bool {
+    let registry = view.registry;
     if basis.observed.is_empty() {
-        return view.registry.id(package_name).is_none();
+        return registry.id(&entry.name).is_none();
     }
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
-    if !basis.unchanged.iter().all(|&k| unchanged(k)) {
+    let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
+    if !basis.unchanged.iter().all(|&k| unchanged(k)) || !basis.open_ended.iter().all(known) {
         return false;
     }
     let Some(runs) = runs(&basis.observed) else {
         return false;
     };
-    runs.iter().all(|run| {
-        let Some(id) = standing.get(run.package as usize).and_then(Standing::id) else {
+    // Packages with releases published since, and how many releases they had.
+    let mut extended: Vec<(PackageId, usize)> = Vec::new();
+    let answered_alike = runs.iter().all(|run| {
+        let k = run.package as usize;
+        let Some(id) = standing.get(k).and_then(Standing::id) else {
             return false;
         };
-        let count = view.registry.package(id).releases.len();
+        let count = old[k].releases.len();
         let lists = [run.admissible, run.refused, run.fetched];
         if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count)) {
             return false;
@@ -332,16 +376,57 @@ fn recheck(
         if unchanged(run.package) {
             return true;
         }
+        if matches!(standing[k], Standing::Extended(_)) {
+            if basis.open_ended.contains(&run.package) {
+                return false;
+            }
+            extended.push((id, count));
+        }
         let admissions = view.admissions(id);
         let is_admissible = |i: &u32| admissions[*i as usize] == Admission::Admissible;
         let now = &prints.of(id).releases;
-        let before = &old[run.package as usize].releases;
+        let before = &old[k].releases;
         run.admissible.iter().all(is_admissible)
             && !run.refused.iter().any(is_admissible)
             && run
                 .fetched
                 .iter()
                 .all(|&i| before.get(i as usize) == Some(&now[i as usize]))
+    });
+    if !answered_alike {
+        return false;
+    }
+    // Every range the solver saw of a package comes from a requirement on it: the entry's,
+    // or a dependency of a release whose dependencies it read. While none of those admits a
+    // newly published release, every such set, and so every answer, is as before.
+    let stops_before = |id: PackageId, set: &IndexSet, count: usize| {
+        let total = registry.package(id).releases.len();
+        indices_newest_first(set, total)
+            .next()
+            .is_none_or(|i| (i as usize) < count)
+    };
+    extended.iter().all(|&(id, count)| {
+        if registry.name(id) != entry.name {
+            return true;
+        }
+        let any = Requirement::any();
+        let req = entry.req.as_ref().unwrap_or(&any);
+        stops_before(id, &root_set(registry, id, req, entry.prerelease), count)
+    }) && runs.iter().all(|run| {
+        let Some(dependent) = standing[run.package as usize].id() else {
+            return false;
+        };
+        let releases = &registry.package(dependent).releases;
+        run.fetched.iter().all(|&i| {
+            releases[i as usize].runtime_deps().all(|d| {
+                match extended.iter().find(|(id, _)| *id == d.package) {
+                    Some(&(id, count)) => {
+                        stops_before(id, &view.sets.get(registry, id, d.req), count)
+                    }
+                    None => true,
+                }
+            })
+        })
     })
 }
 
@@ -460,19 +545,7 @@ pub fn replan(
     let prints = PrintTable::new(registry);
     let standing: Vec<Standing> = old_packages
         .par_iter()
-        .map(|p| match registry.id(&p.name) {
-            None => Standing::Changed,
-            Some(id) => {
-                let now = prints.of(id);
-                if now.whole == p.whole {
-                    Standing::Unchanged(id)
-                } else if now.listing == p.listing {
-                    Standing::SameListing(id)
-                } else {
-                    Standing::Changed
-                }
-            }
-        })
+        .map(|p| Standing::of(registry, &prints, p))
         .collect();
     let sets = SetCache::default();
     let views: Vec<ImageView<'_>> = inputs
@@ -507,7 +580,7 @@ pub fn replan(
                 && old_bases[k].image == image_key
                 && recheck(
                     &old_bases[k],
-                    &entry.name,
+                    entry,
                     &old_packages,
                     &standing,
                     &views[col],
@@ -542,7 +615,8 @@ pub fn replan(
             match source {
                 Source::Solved(cell) => {
                     let o = &cell.observed;
-                    o.packages.iter().chain(&o.explained).copied().collect()
+                    let all = o.packages.iter().chain(&o.explained).chain(&o.open_ended);
+                    all.copied().collect()
                 }
                 Source::Reused(k) => {
                     let basis = &old_bases[*k];
@@ -551,6 +625,7 @@ pub fn replan(
                         .iter()
                         .map(|r| r.package)
                         .chain(basis.unchanged.iter().copied())
+                        .chain(basis.open_ended.iter().copied())
                         .filter_map(|p| standing[p as usize].id())
                         .collect()
                 }
@@ -577,7 +652,8 @@ pub fn replan(
             CachedPackage {
                 name: registry.name(id).to_string(),
                 whole: p.whole,
-                listing: p.listing,
+                own: p.own,
+                versions: p.versions,
                 releases: p.releases.to_vec(),
             }
         })
@@ -585,12 +661,19 @@ pub fn replan(
     let bases: Vec<CellBasis> = results
         .par_iter()
         .map(|(source, entry, image)| {
-            let (observed, unchanged) = match source {
+            let (observed, unchanged, open_ended) = match source {
                 Source::Solved(cell) => {
-                    let mut unchanged: Vec<u32> =
-                        cell.observed.explained.iter().map(|id| slot(*id)).collect();
-                    unchanged.sort_unstable();
-                    (encode(&cell.observed, &slot), unchanged)
+                    let o = &cell.observed;
+                    let in_table_order = |ids: &[PackageId]| {
+                        let mut list: Vec<u32> = ids.iter().map(|id| slot(*id)).collect();
+                        list.sort_unstable();
+                        list
+                    };
+                    (
+                        encode(o, &slot),
+                        in_table_order(&o.explained),
+                        in_table_order(&o.open_ended),
+                    )
                 }
                 Source::Reused(k) => {
                     let basis = &old_bases[*k];
@@ -603,12 +686,13 @@ pub fn replan(
                             at += 1 + observed[at] as usize;
                         }
                     }
-                    let unchanged = basis
-                        .unchanged
-                        .iter()
-                        .map(|&p| renumber[p as usize])
-                        .collect();
-                    (observed, unchanged)
+                    let renumbered =
+                        |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
+                    (
+                        observed,
+                        renumbered(&basis.unchanged),
+                        renumbered(&basis.open_ended),
+                    )
                 }
             };
             CellBasis {
@@ -616,6 +700,7 @@ pub fn replan(
                 image: *image,
                 observed,
                 unchanged,
+                open_ended,
             }
         })
         .collect();

@@ -9,6 +9,7 @@ use pubgrub::{
 use std::cell::{Cell, RefCell};
 use std::cmp::Reverse;
 use std::fmt;
+use std::ops::Bound;
 
 /// A package as the solver sees it. The root stands for the priority entry being solved, so a
 /// missing or unusable root package is explained like any other dependency; the runtime is a
@@ -76,6 +77,8 @@ pub struct Observed {
     /// Packages a failure's explanation read beyond the solver's answers (refusal reasons,
     /// the requirements of releases never picked): they must be unchanged as a whole.
     pub explained: Vec<PackageId>,
+    /// Packages asked about with a range that reaches past their last release.
+    pub open_ended: Vec<PackageId>,
 }
 
 impl Observed {
@@ -86,6 +89,8 @@ impl Observed {
         self.admissions.dedup();
         self.fetched.sort_unstable();
         self.fetched.dedup();
+        self.open_ended.sort_unstable();
+        self.open_ended.dedup();
     }
 }
 
@@ -114,6 +119,21 @@ impl<'v, 'r> CellProvider<'v, 'r> {
             budget,
             steps: Cell::new(0),
             observed: RefCell::new(observed),
+        }
+    }
+
+    /// Records `package` as open-ended when `range` reaches past its last release: a release
+    /// published later would then fall inside a range the solver asked about. Ranges built
+    /// from requirement sets never do; the record keeps re-plans exact if pubgrub ever asks
+    /// with one that does.
+    fn note_reach(&self, package: PackageId, range: &IndexSet, count: usize) {
+        let open = range.iter().last().is_some_and(|(_, hi)| match hi {
+            Bound::Included(v) => *v as usize >= count,
+            Bound::Excluded(v) => *v as usize > count,
+            Bound::Unbounded => true,
+        });
+        if open {
+            self.observed.borrow_mut().open_ended.push(package);
         }
     }
 
@@ -148,6 +168,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Root | Node::Runtime => 0,
             Node::Package(id) => {
                 let count = self.view.registry.package(*id).releases.len();
+                self.note_reach(*id, range, count);
                 indices(range, count).count() as u32
             }
         };
@@ -163,6 +184,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Root | Node::Runtime => Ok(range.contains(&0).then_some(0)),
             Node::Package(id) => {
                 let admissions = self.view.admissions(*id);
+                self.note_reach(*id, range, admissions.len());
                 let mut observed = self.observed.borrow_mut();
                 observed.packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
