@@ -145,32 +145,16 @@ fn images() -> ImageSet {
 
 /// The `n` most depended-on declared packages, as a priority list (weight = dependents).
 fn top_packages(registry: &Registry, n: usize) -> PriorityList {
-    let mut dependents = vec![0u64; registry.packages.len()];
-    for p in &registry.packages {
-        for r in &p.releases {
-            for d in r.runtime_deps() {
-                dependents[d.package.0 as usize] += 1;
-            }
-        }
-    }
-    let mut ids: Vec<PackageId> = registry
-        .ids()
-        .filter(|id| registry.package(*id).declared)
-        .collect();
-    ids.sort_by(|a, b| {
-        dependents[b.0 as usize]
-            .cmp(&dependents[a.0 as usize])
-            .then(a.cmp(b))
-    });
     PriorityList {
-        entries: ids
+        entries: registry
+            .most_depended_on()
             .into_iter()
             .take(n)
             .enumerate()
-            .map(|(i, id)| Priority {
+            .map(|(i, (id, dependents))| Priority {
                 rank: i + 1,
                 name: registry.name(id).to_string(),
-                weight: dependents[id.0 as usize] as f64 + 1.0,
+                weight: dependents as f64 + 1.0,
                 req: None,
                 prerelease: false,
                 origin: basefit::load::diag::Origin {
@@ -202,6 +186,12 @@ fn exact_bound(inputs: &Inputs, options: &PlanOptions, before: &Matrix, after: &
         100.0 * needed.as_secs_f64() / all.as_secs_f64(),
         all.as_secs_f64() / needed.as_secs_f64().max(1e-9)
     );
+}
+
+/// Every 100th declared package from `offset` on: 1% of them.
+fn every_hundredth(registry: &Registry, offset: usize) -> Vec<PackageId> {
+    let declared = registry.ids().filter(|id| registry.package(*id).declared);
+    declared.skip(offset).step_by(100).collect()
 }
 
 /// Re-plans after `change`, warm and cold, and prints both with the exact bound.
@@ -450,13 +440,9 @@ fn main() {
         &mut inputs,
         &options,
         |registry| {
-            let ids: Vec<PackageId> = registry
-                .ids()
-                .filter(|id| registry.package(*id).declared)
-                .collect();
             let mut changed = 0;
-            for id in ids.iter().step_by(100) {
-                if let Some(r) = registry.package_mut(*id).releases.last_mut() {
+            for id in every_hundredth(registry, 0) {
+                if let Some(r) = registry.package_mut(id).releases.last_mut() {
                     r.yanked = !r.yanked;
                     changed += 1;
                 }
@@ -469,13 +455,9 @@ fn main() {
         &mut inputs,
         &options,
         |registry| {
-            let ids: Vec<PackageId> = registry
-                .ids()
-                .filter(|id| registry.package(*id).declared)
-                .collect();
             let mut changed = 0;
-            for id in ids.iter().skip(50).step_by(100) {
-                let releases = &mut registry.package_mut(*id).releases;
+            for id in every_hundredth(registry, 50) {
+                let releases = &mut registry.package_mut(id).releases;
                 let Some(newest) = releases.iter().rev().find(|r| !r.yanked) else {
                     continue;
                 };

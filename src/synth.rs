@@ -167,21 +167,32 @@ pub fn write_yaml(opts: &SynthOptions, out: impl Write) -> io::Result<SynthSumma
     Ok(summary)
 }
 
-/// splitmix64: a tiny generator whose sequence is the same on every platform.
-struct Rng(u64);
+/// splitmix64: a tiny generator whose sequence is the same on every platform, for seeded
+/// data that must not change with a dependency's version.
+///
+/// ```
+/// use basefit::synth::SplitMix64;
+/// let mut a = SplitMix64::new(7, 1, 2);
+/// let mut b = SplitMix64::new(7, 1, 2);
+/// assert_eq!(a.next(), b.next());
+/// assert!(a.below(10) < 10);
+/// ```
+pub struct SplitMix64(u64);
 
-impl Rng {
+impl SplitMix64 {
     /// An independent stream per purpose and index, so adding a draw in one place does not
     /// shift every value after it.
-    fn new(seed: u64, stream: u64, index: u64) -> Rng {
-        let mut r = Rng(seed
-            ^ stream.wrapping_mul(0xD1B5_4A32_D192_ED03)
-            ^ index.wrapping_mul(0x8CB9_2BA7_2F3D_8DD7));
+    pub fn new(seed: u64, stream: u64, index: u64) -> SplitMix64 {
+        let mut r = SplitMix64(
+            seed ^ stream.wrapping_mul(0xD1B5_4A32_D192_ED03)
+                ^ index.wrapping_mul(0x8CB9_2BA7_2F3D_8DD7),
+        );
         r.next();
         r
     }
 
-    fn next(&mut self) -> u64 {
+    #[allow(clippy::should_implement_trait)]
+    pub fn next(&mut self) -> u64 {
         self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
         let mut z = self.0;
         z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
@@ -195,7 +206,7 @@ impl Rng {
     }
 
     /// Uniform in 0..n (0 when n is 0).
-    fn below(&mut self, n: u64) -> u64 {
+    pub fn below(&mut self, n: u64) -> u64 {
         ((u128::from(self.next()) * u128::from(n)) >> 64) as u64
     }
 
@@ -536,8 +547,8 @@ struct Plan {
 fn plan(opts: &SynthOptions) -> Plan {
     let n_pkg = opts.packages.min(opts.versions);
     let extra = (opts.versions - n_pkg) as f64;
-    let mut pkg_rng: Vec<Rng> = (0..n_pkg)
-        .map(|i| Rng::new(opts.seed, STREAM_PACKAGE, i as u64))
+    let mut pkg_rng: Vec<SplitMix64> = (0..n_pkg)
+        .map(|i| SplitMix64::new(opts.seed, STREAM_PACKAGE, i as u64))
         .collect();
     let shares: Vec<f64> = pkg_rng.iter_mut().map(|r| r.heavy(1000.0)).collect();
     let total_share: f64 = shares.iter().sum();
@@ -625,7 +636,7 @@ fn plan_versions(
     life: f64,
     out: &mut Vec<VersionPlan>,
 ) {
-    let mut rng = Rng::new(opts.seed, STREAM_VERSION, package as u64);
+    let mut rng = SplitMix64::new(opts.seed, STREAM_VERSION, package as u64);
     let (mut major, mut minor, mut patch) = if rng.chance(0.4) {
         (0, 1, 0)
     } else {
@@ -748,7 +759,7 @@ fn generate(opts: &SynthOptions, sink: &mut dyn Sink) -> io::Result<SynthSummary
             .collect();
         let summary_text = format!("Synthetic package number {i}");
         sink.package(&names[i], &summary_text, p.helper)?;
-        let mut late_rng = Rng::new(opts.seed, STREAM_LATE, i as u64);
+        let mut late_rng = SplitMix64::new(opts.seed, STREAM_LATE, i as u64);
         for k in 0..p.count {
             let v = &plan.versions[p.first + k];
             v.write_text(&mut version_text);
@@ -805,7 +816,7 @@ fn choose_targets(
     p: &PackagePlan,
     pool: &mut Vec<u32>,
 ) -> Vec<(usize, DepKind)> {
-    let mut rng = Rng::new(seed, STREAM_TARGETS, i as u64);
+    let mut rng = SplitMix64::new(seed, STREAM_TARGETS, i as u64);
     let mut chosen: Vec<usize> = Vec::with_capacity(wanted);
     let helpers = (n_pkg / 2000).max(1);
     if wanted > 0 && p.libraries != 0 && i >= helpers {
@@ -876,7 +887,8 @@ fn requirement(seed: u64, plan: &Plan, from: usize, target: usize, day: i64) -> 
     let (ma, mi, pa) = (v.major, v.minor, v.patch);
     // The style is a habit of the depending package towards this target, not a per-version
     // whim.
-    let style = Rng::new(seed, STREAM_STYLE, ((from as u64) << 32) ^ target as u64).below(100);
+    let style =
+        SplitMix64::new(seed, STREAM_STYLE, ((from as u64) << 32) ^ target as u64).below(100);
     match style {
         0..=72 => format!("^{ma}.{mi}"),
         73..=84 => format!(">={ma}.{mi}"),
@@ -938,7 +950,7 @@ mod tests {
     #[test]
     fn rng_is_fixed() {
         // splitmix64's published first output for state 0 after one step.
-        let mut r = Rng(0);
+        let mut r = SplitMix64(0);
         assert_eq!(r.next(), 0xE220_A839_7B1D_CDAF);
     }
 

@@ -38,21 +38,7 @@ fn image(id: &str, family: &str) -> ImageColumn {
 }
 
 fn cell(package: &str, image: &str, outcome: Outcome) -> Cell {
-    Cell {
-        package: package.into(),
-        image: image.into(),
-        outcome,
-        cause: None,
-        root_version: None,
-        closure_size: 0,
-        closure: Vec::new(),
-        explanation: Vec::new(),
-        native_needs: Vec::new(),
-        missing_system_packages: Vec::new(),
-        blockers: Vec::new(),
-        recorded: None,
-        observed: Default::default(),
-    }
+    Cell::new(package, image, outcome)
 }
 
 /// A matrix whose every string tries to break out of the format it lands in.

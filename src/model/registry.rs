@@ -233,6 +233,27 @@ impl Registry {
         self.packages.iter().map(|p| p.releases.len()).sum()
     }
 
+    /// Declared packages, most depended-on first (counting runtime dependencies of every
+    /// release), ties by id: the packages whose predictions matter to most users, as the
+    /// benchmark and tests choose them from synthetic registries.
+    pub fn most_depended_on(&self) -> Vec<(PackageId, u64)> {
+        let mut dependents = vec![0u64; self.packages.len()];
+        for p in &self.packages {
+            for r in &p.releases {
+                for d in r.runtime_deps() {
+                    dependents[d.package.0 as usize] += 1;
+                }
+            }
+        }
+        let mut ids: Vec<(PackageId, u64)> = self
+            .ids()
+            .filter(|id| self.package(*id).declared)
+            .map(|id| (id, dependents[id.0 as usize]))
+            .collect();
+        ids.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
+        ids
+    }
+
     pub fn add_file(&mut self, file: &str) -> u16 {
         if let Some(i) = self.files.iter().position(|f| f == file) {
             return i as u16;

@@ -96,6 +96,27 @@ pub struct Cell {
     pub observed: Observed,
 }
 
+impl Cell {
+    /// A cell with `outcome` and nothing else known yet.
+    pub fn new(package: &str, image: &str, outcome: Outcome) -> Cell {
+        Cell {
+            package: package.into(),
+            image: image.into(),
+            outcome,
+            cause: None,
+            root_version: None,
+            closure_size: 0,
+            closure: Vec::new(),
+            explanation: Vec::new(),
+            native_needs: Vec::new(),
+            missing_system_packages: Vec::new(),
+            blockers: Vec::new(),
+            recorded: None,
+            observed: Observed::default(),
+        }
+    }
+}
+
 /// How recorded installs of one cell compare with its prediction.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct RecordedCheck {
@@ -207,21 +228,8 @@ pub fn plan_cell(
         prerelease: entry.prerelease,
     };
     let solved = solve::solve_cell(view, &spec, options.budget);
-    let mut cell = Cell {
-        package: entry.name.clone(),
-        image: image.id.clone(),
-        outcome: Outcome::Fails,
-        cause: None,
-        root_version: None,
-        closure_size: 0,
-        closure: Vec::new(),
-        explanation: Vec::new(),
-        native_needs: Vec::new(),
-        missing_system_packages: Vec::new(),
-        blockers: Vec::new(),
-        recorded: None,
-        observed: solved.observed,
-    };
+    let mut cell = Cell::new(&entry.name, &image.id, Outcome::Fails);
+    cell.observed = solved.observed;
     match solved.solved {
         Solved::Installs {
             root_index,

@@ -18,7 +18,7 @@
 //! Shards split the cells of a plan by index (`index % count`), so every shard gets a mix of
 //! rows; [`merge_shards`] puts them back in order, giving exactly the matrix one run gives.
 
-use super::matrix::{Cell, Matrix, PlanOptions, image_columns, package_rows, plan_cell};
+use super::matrix::{Cell, Matrix, Outcome, PlanOptions, image_columns, package_rows, plan_cell};
 use crate::load::Inputs;
 use crate::model::{Image, PackageId, Priority, Registry, Release, Requirement};
 use crate::solve::sets::{IndexSet, indices_newest_first, root_set};
@@ -492,25 +492,6 @@ impl Shard {
     }
 }
 
-/// What is left behind in the previous plan's cell list when a cell moves out of it.
-fn placeholder() -> Cell {
-    Cell {
-        package: String::new(),
-        image: String::new(),
-        outcome: super::matrix::Outcome::Undecided,
-        cause: None,
-        root_version: None,
-        closure_size: 0,
-        closure: Vec::new(),
-        explanation: Vec::new(),
-        native_needs: Vec::new(),
-        missing_system_packages: Vec::new(),
-        blockers: Vec::new(),
-        recorded: None,
-        observed: Observed::default(),
-    }
-}
-
 /// Where a cell of a re-plan comes from.
 enum Source {
     /// Cell `k` of the previous plan, still valid.
@@ -719,7 +700,7 @@ pub fn replan(
             Source::Reused(k) => {
                 uses[k] -= 1;
                 if uses[k] == 0 {
-                    std::mem::replace(&mut old_cells[k], placeholder())
+                    std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))
                 } else {
                     old_cells[k].clone()
                 }
