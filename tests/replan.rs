@@ -206,3 +206,137 @@ fn a_renamed_old_release_is_noticed_even_when_releases_were_appended() {
     assert_eq!(solved, 1);
     assert!(cold.contains("\"1.0.1\""), "{cold}");
 }
+
+fn load_registry_text(text: &str) -> Inputs {
+    use basefit::load::images::read_images_str;
+    use basefit::load::registry::{RegistryBuilder, read_yaml_str};
+    use basefit::model::{Priority, PriorityList};
+    let mut builder = RegistryBuilder::new();
+    read_yaml_str("r.yaml", text, &mut builder).unwrap();
+    let (registry, mut ledger) = builder.finish();
+    let images = read_images_str(
+        "i.yaml",
+        "images:\n- {id: one, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        &mut ledger,
+    )
+    .unwrap();
+    let entries = ["root", "absent-name"]
+        .iter()
+        .enumerate()
+        .map(|(i, name)| Priority {
+            rank: i + 1,
+            name: name.to_string(),
+            weight: 1.0,
+            req: None,
+            prerelease: false,
+            origin: basefit::load::diag::Origin {
+                file: "p".into(),
+                line: i + 1,
+            },
+        })
+        .collect();
+    Inputs {
+        registry,
+        images,
+        priorities: PriorityList { entries },
+        ledger,
+        ..Default::default()
+    }
+}
+
+/// `root` needs alpha and beta; every alpha conflicts with beta over cee or dee.
+const CONFLICT: &str = "packages:
+- name: root
+  versions:
+  - {version: 1.0.0, depends: [{name: alpha, req: '*'}, {name: beta, req: '*'}]}
+- name: alpha
+  versions:
+  - {version: 1.0.0, depends: [{name: cee, req: '^1'}]}
+  - {version: 2.0.0, depends: [{name: dee, req: '^1'}]}
+- name: beta
+  versions:
+  - {version: 1.0.0, depends: [{name: cee, req: '^2'}, {name: dee, req: '^2'}]}
+- name: cee
+  versions: [{version: 1.0.0}, {version: 2.0.0}]
+- name: dee
+  versions: [{version: 1.0.0}, {version: 2.0.0}]
+";
+
+#[test]
+fn an_unrelated_record_that_renumbers_packages_changes_no_output() {
+    // A package listed first takes the first internal id, so dee is numbered before cee
+    // afterwards. Nothing about the cell changed; a reused cell must still read exactly as a
+    // cold plan does, so no output may follow internal numbering.
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&load_registry_text(CONFLICT), &options, None, None);
+    let renumbered = format!(
+        "packages:\n- name: newcomer\n  versions:\n  - {{version: 1.0.0, depends: [{{name: dee, req: '*'}}]}}\n{}",
+        CONFLICT.trim_start_matches("packages:\n")
+    );
+    let after = load_registry_text(&renumbered);
+    let (warm, stats) = replan(&after, &options, Some(cache), None);
+    let cold = plan(&after, &options);
+    assert!(to_json(&warm.matrix) == to_json(&cold));
+    assert_eq!(stats.solved, 0, "nothing the cells read changed");
+    let lines = &cold.cell("root", "one").unwrap().explanation;
+    let cee = lines.iter().position(|l| l.contains("versions of cee"));
+    let dee = lines.iter().position(|l| l.contains("versions of dee"));
+    assert!(cee < dee && cee.is_some(), "{lines:?}");
+}
+
+#[test]
+fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
+    let inputs = load_registry_text(CONFLICT);
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&inputs, &options, None, None);
+    let cold = to_json(&plan(&inputs, &options));
+    let mut damaged = Vec::new();
+    // A package table entry claiming more releases than the registry has, and a cell that
+    // read the dependencies of that release.
+    let mut c = cache.clone();
+    let k = c.packages.iter().position(|p| p.name == "root").unwrap();
+    let real = c.packages[k].releases.len() as u32;
+    c.packages[k].releases.push(7);
+    let cell = c.matrix.cells.iter().position(|x| x.package == "root").unwrap();
+    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real];
+    damaged.push(c);
+    // Observation lists pointing past the table, past release lists, or cut short.
+    for observed in [vec![999, 0, 0, 0], vec![0, 1, 50, 0, 0], vec![0, 3, 1]] {
+        let mut c = cache.clone();
+        for b in &mut c.bases {
+            b.observed = observed.clone();
+        }
+        damaged.push(c);
+    }
+    // A cell for an absent name that names packages it never saw.
+    let mut c = cache.clone();
+    for b in &mut c.bases {
+        if b.observed.is_empty() {
+            b.unchanged = vec![999];
+            b.open_ended = vec![999];
+        }
+    }
+    damaged.push(c);
+    for c in damaged {
+        let (warm, _) = replan(&inputs, &options, Some(c), None);
+        assert!(to_json(&warm.matrix) == cold);
+    }
+}
+
+#[test]
+fn merging_refuses_a_shard_numbered_out_of_range() {
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let mut first = replan(&inputs, &options, None, Some(Shard { index: 1, count: 2 }))
+        .0
+        .matrix;
+    let second = replan(&inputs, &options, None, Some(Shard { index: 2, count: 2 }))
+        .0
+        .matrix;
+    first.shard = Some(Shard { index: 0, count: 2 });
+    assert!(
+        merge_shards(vec![first, second])
+            .unwrap_err()
+            .contains("not a valid shard")
+    );
+}

@@ -30,7 +30,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 2;
+pub const CACHE_FORMAT: u32 = 3;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -288,11 +288,14 @@ impl Standing {
         };
         let now = prints.of(id);
         let releases = &registry.package(id).releases;
-        if now.whole == old.whole {
+        // The count is compared as well as the fingerprints, so a damaged cache cannot point
+        // past a release list.
+        let same_count = releases.len() == old.releases.len();
+        if now.whole == old.whole && same_count {
             Standing::Unchanged(id)
         } else if now.own != old.own {
             Standing::Changed
-        } else if now.versions == old.versions {
+        } else if now.versions == old.versions && same_count {
             Standing::SameListing(id)
         } else if releases.len() > old.releases.len()
             && versions_print(&releases[..old.releases.len()]) == old.versions
@@ -350,13 +353,15 @@ fn recheck(
     prints: &PrintTable<'_>,
 ) -> bool {
     let registry = view.registry;
-    if basis.observed.is_empty() {
-        return registry.id(&entry.name).is_none();
-    }
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
     let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
     if !basis.unchanged.iter().all(|&k| unchanged(k)) || !basis.open_ended.iter().all(known) {
         return false;
+    }
+    if basis.observed.is_empty() {
+        return registry.id(&entry.name).is_none()
+            && basis.unchanged.is_empty()
+            && basis.open_ended.is_empty();
     }
     let Some(runs) = runs(&basis.observed) else {
         return false;
@@ -749,6 +754,12 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
         if p.images != first.images || p.packages != first.packages {
             return Err(format!(
                 "shard {}/{} was planned from other images or priorities",
+                s.index, s.count
+            ));
+        }
+        if s.index == 0 || s.index > count {
+            return Err(format!(
+                "shard {}/{} is not a valid shard",
                 s.index, s.count
             ));
         }

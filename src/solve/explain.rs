@@ -342,11 +342,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
             Fact::Other(msg) => lines.push(msg.clone()),
         }
     }
-    let conflicts: Vec<PackageId> = constrained_by
+    // By name: package ids follow the order names appear in the input files, which an
+    // unrelated edit can change, and output must depend on content only (re-plans rely on it).
+    let mut conflicts: Vec<PackageId> = constrained_by
         .iter()
         .filter(|(_, by)| by.len() >= 2)
         .map(|(p, _)| *p)
         .collect();
+    conflicts.sort_by(|a, b| registry.name(*a).cmp(registry.name(*b)));
     let cause = if let Some((_, c)) = leaf_causes
         .iter()
         .find(|(_, c)| *c == Cause::MissingFromRegistry)
