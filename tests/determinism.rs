@@ -26,3 +26,37 @@ fn plan_is_byte_identical_at_one_and_many_threads() {
     }
     assert!(one.contains("\"cells\""));
 }
+
+#[test]
+fn plan_cache_and_warm_replan_are_byte_identical_at_one_and_many_threads() {
+    use basefit::plan::replan::replan;
+    let mut inputs = load_inputs(&InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        ..Default::default()
+    })
+    .unwrap();
+    let options = PlanOptions::default();
+    let (first, _) = replan(&inputs, &options, None, None);
+    // One yank so that the warm re-plan both reuses and solves.
+    let id = inputs.registry.id("wattle-core").unwrap();
+    if let Some(r) = inputs.registry.package_mut(id).releases.last_mut() {
+        r.yanked = !r.yanked;
+    }
+    let run = |threads: usize| {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap();
+        pool.install(|| {
+            let (cache, stats) = replan(&inputs, &options, Some(first.clone()), None);
+            assert!(stats.reused > 0 && stats.solved > 0, "{stats:?}");
+            serde_json::to_string(&cache).unwrap()
+        })
+    };
+    let one = run(1);
+    for n in [2, 4, 8] {
+        assert!(one == run(n), "plan cache differs at {n} threads");
+    }
+}

@@ -297,7 +297,12 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
     let k = c.packages.iter().position(|p| p.name == "root").unwrap();
     let real = c.packages[k].releases.len() as u32;
     c.packages[k].releases.push(7);
-    let cell = c.matrix.cells.iter().position(|x| x.package == "root").unwrap();
+    let cell = c
+        .matrix
+        .cells
+        .iter()
+        .position(|x| x.package == "root")
+        .unwrap();
     c.bases[cell].observed = vec![k as u32, 0, 0, 1, real];
     damaged.push(c);
     // Observation lists pointing past the table, past release lists, or cut short.
