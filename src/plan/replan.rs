@@ -10,7 +10,9 @@
 //! weighed leaves the cell valid. What the cell's output reads of a package besides (its
 //! versions, summary and flags, the native hints of picked releases) is fingerprinted, and a
 //! failure's explanation, which reads refusal reasons and the requirements of releases never
-//! picked, keeps the packages it names valid only while they are unchanged as a whole.
+//! picked, keeps the packages it names valid only while they are unchanged as a whole. A
+//! package that only gained releases newer than all it had leaves a cell valid while no
+//! requirement the solve used on it admits them.
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -240,6 +242,46 @@ pub struct CellBasis {
     /// release: a newly published release would be seen.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub open_ended: Vec<u32>,
+}
+
+impl CellBasis {
+    fn of_solve(entry: u64, image: u64, o: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Self {
+        let in_table_order = |ids: &[PackageId]| {
+            let mut list: Vec<u32> = ids.iter().map(|id| slot(*id)).collect();
+            list.sort_unstable();
+            list
+        };
+        CellBasis {
+            entry,
+            image,
+            observed: encode(o, slot),
+            unchanged: in_table_order(&o.explained),
+            open_ended: in_table_order(&o.open_ended),
+        }
+    }
+
+    /// The same basis over a new package table; `renumber` maps old table indices to new ones
+    /// (order-preserving, both tables being in name order). Only for bases that passed
+    /// [`recheck`], whose lists are well formed.
+    fn renumbered(&self, renumber: &[u32]) -> Self {
+        let mut observed = self.observed.clone();
+        let mut at = 0;
+        while at < observed.len() {
+            observed[at] = renumber[observed[at] as usize];
+            at += 1;
+            for _ in 0..3 {
+                at += 1 + observed[at] as usize;
+            }
+        }
+        let renumbered = |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
+        CellBasis {
+            entry: self.entry,
+            image: self.image,
+            observed,
+            unchanged: renumbered(&self.unchanged),
+            open_ended: renumbered(&self.open_ended),
+        }
+    }
 }
 
 /// What a plan leaves behind for the next one: the matrix, and for each of its cells what
@@ -646,48 +688,9 @@ pub fn replan(
         .collect();
     let bases: Vec<CellBasis> = results
         .par_iter()
-        .map(|(source, entry, image)| {
-            let (observed, unchanged, open_ended) = match source {
-                Source::Solved(cell) => {
-                    let o = &cell.observed;
-                    let in_table_order = |ids: &[PackageId]| {
-                        let mut list: Vec<u32> = ids.iter().map(|id| slot(*id)).collect();
-                        list.sort_unstable();
-                        list
-                    };
-                    (
-                        encode(o, &slot),
-                        in_table_order(&o.explained),
-                        in_table_order(&o.open_ended),
-                    )
-                }
-                Source::Reused(k) => {
-                    let basis = &old_bases[*k];
-                    let mut observed = basis.observed.clone();
-                    let mut at = 0;
-                    while at < observed.len() {
-                        observed[at] = renumber[observed[at] as usize];
-                        at += 1;
-                        for _ in 0..3 {
-                            at += 1 + observed[at] as usize;
-                        }
-                    }
-                    let renumbered =
-                        |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
-                    (
-                        observed,
-                        renumbered(&basis.unchanged),
-                        renumbered(&basis.open_ended),
-                    )
-                }
-            };
-            CellBasis {
-                entry: *entry,
-                image: *image,
-                observed,
-                unchanged,
-                open_ended,
-            }
+        .map(|(source, entry, image)| match source {
+            Source::Solved(cell) => CellBasis::of_solve(*entry, *image, &cell.observed, &slot),
+            Source::Reused(k) => old_bases[*k].renumbered(&renumber),
         })
         .collect();
     // A priority list may name a package twice; its old cell is then copied, not moved.
