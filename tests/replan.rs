@@ -127,9 +127,6 @@ fn a_changed_image_or_option_invalidates_its_cells() {
 /// `lib`'s versions change to `lib_versions`; returns the warm and cold matrices as JSON and
 /// how many cells the warm re-plan solved again.
 fn replan_after_lib_versions(lib_versions: &[&str]) -> (String, String, usize) {
-    use basefit::load::images::read_images_str;
-    use basefit::load::registry::{RegistryBuilder, read_yaml_str};
-    use basefit::model::{Priority, PriorityList};
     let registry_text = |versions: &[&str]| {
         let mut text = String::from(
             "packages:\n- name: app\n  versions:\n  - version: 1.0.0\n    depends: [{name: lib, req: '^1'}]\n- name: lib\n  versions:\n",
@@ -139,40 +136,10 @@ fn replan_after_lib_versions(lib_versions: &[&str]) -> (String, String, usize) {
         }
         text
     };
-    let load = |versions: &[&str]| {
-        let mut builder = RegistryBuilder::new();
-        read_yaml_str("r.yaml", &registry_text(versions), &mut builder).unwrap();
-        let (registry, mut ledger) = builder.finish();
-        let images = read_images_str(
-            "i.yaml",
-            "images:\n- {id: one, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
-            &mut ledger,
-        )
-        .unwrap();
-        let entry = |rank: usize, name: &str| Priority {
-            rank,
-            name: name.into(),
-            weight: 1.0,
-            req: None,
-            prerelease: false,
-            origin: basefit::load::diag::Origin {
-                file: "p".into(),
-                line: rank,
-            },
-        };
-        Inputs {
-            registry,
-            images,
-            priorities: PriorityList {
-                entries: vec![entry(1, "app")],
-            },
-            ledger,
-            ..Default::default()
-        }
-    };
     let options = PlanOptions::default();
-    let (cache, _) = replan(&load(&["1.0.0", "2.0.0"]), &options, None, None);
-    let after = load(lib_versions);
+    let before = small_inputs(&registry_text(&["1.0.0", "2.0.0"]), &["app"]);
+    let (cache, _) = replan(&before, &options, None, None);
+    let after = small_inputs(&registry_text(lib_versions), &["app"]);
     let (warm, stats) = replan(&after, &options, Some(cache), None);
     let cold = plan(&after, &options);
     (to_json(&warm.matrix), to_json(&cold), stats.solved)
@@ -207,7 +174,8 @@ fn a_renamed_old_release_is_noticed_even_when_releases_were_appended() {
     assert!(cold.contains("\"1.0.1\""), "{cold}");
 }
 
-fn load_registry_text(text: &str) -> Inputs {
+/// A registry from YAML text, one Debian image, and priority entries for `names`.
+fn small_inputs(text: &str, names: &[&str]) -> Inputs {
     use basefit::load::images::read_images_str;
     use basefit::load::registry::{RegistryBuilder, read_yaml_str};
     use basefit::model::{Priority, PriorityList};
@@ -220,7 +188,7 @@ fn load_registry_text(text: &str) -> Inputs {
         &mut ledger,
     )
     .unwrap();
-    let entries = ["root", "absent-name"]
+    let entries = names
         .iter()
         .enumerate()
         .map(|(i, name)| Priority {
@@ -268,12 +236,17 @@ fn an_unrelated_record_that_renumbers_packages_changes_no_output() {
     // afterwards. Nothing about the cell changed; a reused cell must still read exactly as a
     // cold plan does, so no output may follow internal numbering.
     let options = PlanOptions::default();
-    let (cache, _) = replan(&load_registry_text(CONFLICT), &options, None, None);
+    let (cache, _) = replan(
+        &small_inputs(CONFLICT, &["root", "absent-name"]),
+        &options,
+        None,
+        None,
+    );
     let renumbered = format!(
         "packages:\n- name: newcomer\n  versions:\n  - {{version: 1.0.0, depends: [{{name: dee, req: '*'}}]}}\n{}",
         CONFLICT.trim_start_matches("packages:\n")
     );
-    let after = load_registry_text(&renumbered);
+    let after = small_inputs(&renumbered, &["root", "absent-name"]);
     let (warm, stats) = replan(&after, &options, Some(cache), None);
     let cold = plan(&after, &options);
     assert!(to_json(&warm.matrix) == to_json(&cold));
@@ -286,7 +259,7 @@ fn an_unrelated_record_that_renumbers_packages_changes_no_output() {
 
 #[test]
 fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
-    let inputs = load_registry_text(CONFLICT);
+    let inputs = small_inputs(CONFLICT, &["root", "absent-name"]);
     let options = PlanOptions::default();
     let (cache, _) = replan(&inputs, &options, None, None);
     let cold = to_json(&plan(&inputs, &options));
