@@ -151,16 +151,15 @@ fn top_packages(registry: &Registry, n: usize) -> PriorityList {
             .into_iter()
             .take(n)
             .enumerate()
-            .map(|(i, (id, dependents))| Priority {
-                rank: i + 1,
-                name: registry.name(id).to_string(),
-                weight: dependents as f64 + 1.0,
-                req: None,
-                prerelease: false,
-                origin: basefit::load::diag::Origin {
+            .map(|(i, (id, dependents))| {
+                let origin = basefit::load::diag::Origin {
                     file: "bench".into(),
                     line: i + 1,
-                },
+                };
+                Priority {
+                    weight: dependents as f64 + 1.0,
+                    ..Priority::named(i + 1, registry.name(id), origin)
+                }
             })
             .collect(),
     }

@@ -177,7 +177,8 @@ fn read_cache(
         format: Option<u32>,
     }
     let what = "basefit plan cache (delete it to plan from scratch)";
-    let header: Header = read_json(path, what)?;
+    let text = crate::load::diag::read_text(path)?;
+    let header: Header = parse_json(path, &text, what)?;
     if header.format != Some(plan::replan::CACHE_FORMAT) {
         out.stderr.push(format!(
             "plan cache {} was written by another version of basefit; planning from scratch",
@@ -185,7 +186,7 @@ fn read_cache(
         ));
         return Ok(None);
     }
-    read_json(path, what).map(Some)
+    parse_json(path, &text, what).map(Some)
 }
 
 /// Reads a JSON document basefit wrote, naming the file and line when it does not parse.
@@ -193,8 +194,15 @@ fn read_json<T: serde::de::DeserializeOwned>(
     path: &std::path::Path,
     what: &str,
 ) -> Result<T, BadInput> {
-    let text = crate::load::diag::read_text(path)?;
-    serde_json::from_str(&text).map_err(|e| {
+    parse_json(path, &crate::load::diag::read_text(path)?, what)
+}
+
+fn parse_json<T: serde::de::DeserializeOwned>(
+    path: &std::path::Path,
+    text: &str,
+    what: &str,
+) -> Result<T, BadInput> {
+    serde_json::from_str(text).map_err(|e| {
         BadInput::at(
             path.display().to_string(),
             e.line(),

@@ -191,16 +191,12 @@ fn small_inputs(text: &str, names: &[&str]) -> Inputs {
     let entries = names
         .iter()
         .enumerate()
-        .map(|(i, name)| Priority {
-            rank: i + 1,
-            name: name.to_string(),
-            weight: 1.0,
-            req: None,
-            prerelease: false,
-            origin: basefit::load::diag::Origin {
+        .map(|(i, name)| {
+            let origin = basefit::load::diag::Origin {
                 file: "p".into(),
                 line: i + 1,
-            },
+            };
+            Priority::named(i + 1, name, origin)
         })
         .collect();
     Inputs {

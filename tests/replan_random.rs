@@ -62,16 +62,12 @@ fn inputs(seed: u64) -> Inputs {
     let entries = names
         .into_iter()
         .enumerate()
-        .map(|(i, name)| Priority {
-            rank: i + 1,
-            name,
-            weight: 1.0,
-            req: None,
-            prerelease: false,
-            origin: basefit::load::diag::Origin {
+        .map(|(i, name)| {
+            let origin = basefit::load::diag::Origin {
                 file: "test".into(),
                 line: i + 1,
-            },
+            };
+            Priority::named(i + 1, &name, origin)
         })
         .collect();
     Inputs {

@@ -101,6 +101,28 @@ pub struct Priority {
     pub origin: Origin,
 }
 
+impl Priority {
+    /// An entry for `name` at `rank` with weight 1, no requirement and no pre-releases, as a
+    /// list that only names packages gives them.
+    ///
+    /// ```
+    /// use basefit::model::Priority;
+    /// use basefit::load::diag::Origin;
+    /// let e = Priority::named(3, "gumleaf", Origin { file: "p.csv".into(), line: 4 });
+    /// assert_eq!((e.rank, e.weight, e.req.is_none()), (3, 1.0, true));
+    /// ```
+    pub fn named(rank: usize, name: &str, origin: Origin) -> Priority {
+        Priority {
+            rank,
+            name: name.to_string(),
+            weight: 1.0,
+            req: None,
+            prerelease: false,
+            origin,
+        }
+    }
+}
+
 /// A ranked list of packages, most important first.
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct PriorityList {
