@@ -314,3 +314,58 @@ fn merging_refuses_a_shard_numbered_out_of_range() {
             .contains("not a valid shard")
     );
 }
+
+/// `app` needs alpha `^1` and beta; beta 2.0.0 needs an alpha `>=1.2` that is not
+/// published, so the solver installs beta 1.0.0 with alpha 1.0.2. beta is decided first,
+/// having fewer candidates.
+fn narrowing(extra_alpha: &str) -> String {
+    format!(
+        "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: alpha, req: '^1'}}, {{name: beta, req: '*'}}]}}
+- name: alpha
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 1.0.1}}
+  - {{version: 1.0.2}}
+{extra_alpha}- name: beta
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0, depends: [{{name: alpha, req: '>=1.2'}}]}}
+"
+    )
+}
+
+#[test]
+fn a_refused_release_that_only_it_meets_some_requirements_with_is_solved_again() {
+    use basefit::plan::Outcome;
+    let decided = |inputs: &Inputs, budget: u64| {
+        let options = PlanOptions {
+            budget,
+            ..PlanOptions::default()
+        };
+        !matches!(plan(inputs, &options).cells[0].outcome, Outcome::Undecided)
+    };
+    // The fewest solver steps that decide app before the publication.
+    let before = small_inputs(&narrowing(""), &["app"]);
+    let budget = (1..100).find(|&b| decided(&before, b)).unwrap();
+    let options = PlanOptions {
+        budget,
+        ..PlanOptions::default()
+    };
+    let (cache, _) = replan(&before, &options, None, None);
+    // alpha 1.2.0 needs a newer runtime than the image's 3.0.0, so it is never a candidate.
+    // But `^1` and `>=1.2` both admit it and no older release: where beta 2.0.0 was refused
+    // at once for an empty requirement, the solver now asks for a version in {1.2.0} and
+    // learns there is none. That step is over the budget, so the answer changes.
+    let after = small_inputs(
+        &narrowing("  - {version: 1.2.0, runtime: '>=4'}\n"),
+        &["app"],
+    );
+    assert!(!decided(&after, budget), "the publication must cost a step");
+    let (warm, stats) = replan(&after, &options, Some(cache), None);
+    let cold = plan(&after, &options);
+    assert!(to_json(&warm.matrix) == to_json(&cold));
+    assert_eq!(stats.solved, 1);
+}

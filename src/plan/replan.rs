@@ -23,7 +23,7 @@
 use super::matrix::{Cell, Matrix, Outcome, PlanOptions, image_columns, package_rows, plan_cell};
 use crate::load::Inputs;
 use crate::model::{Image, PackageId, Priority, Registry, Release, Requirement};
-use crate::solve::sets::{IndexSet, indices_newest_first, root_set};
+use crate::solve::sets::{IndexSet, root_set};
 use crate::solve::{Admission, ImageView, Observed, SetCache};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -32,7 +32,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 3;
+pub const CACHE_FORMAT: u32 = 4;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -260,17 +260,29 @@ impl CellBasis {
         }
     }
 
-    /// The same basis over a new package table; `renumber` maps old table indices to new ones
-    /// (order-preserving, both tables being in name order). Only for bases that passed
-    /// [`recheck`], whose lists are well formed.
-    fn renumbered(&self, renumber: &[u32]) -> Self {
-        let mut observed = self.observed.clone();
-        let mut at = 0;
-        while at < observed.len() {
-            observed[at] = renumber[observed[at] as usize];
-            at += 1;
-            for _ in 0..3 {
-                at += 1 + observed[at] as usize;
+    /// The same basis over a new package table, with `additions` among the refused
+    /// releases; `renumber` maps old table indices to new ones (order-preserving, both tables
+    /// being in name order). Only for bases that passed [`recheck`], whose lists are well
+    /// formed.
+    fn renumbered(&self, renumber: &[u32], additions: &Additions) -> Self {
+        let mut observed = Vec::with_capacity(
+            self.observed.len() + additions.iter().map(|a| a.1.len()).sum::<usize>(),
+        );
+        let mut rest = &self.observed[..];
+        while let Some((&package, tail)) = rest.split_first() {
+            observed.push(renumber[package as usize]);
+            rest = tail;
+            for list in 0..3 {
+                let n = rest[0] as usize;
+                let added = match additions.iter().find(|a| a.0 == package) {
+                    Some((_, refused)) if list == 1 => &refused[..],
+                    _ => &[],
+                };
+                // Added releases were published after all the old ones: order is kept.
+                observed.push((n + added.len()) as u32);
+                observed.extend_from_slice(&rest[1..=n]);
+                observed.extend_from_slice(added);
+                rest = &rest[1 + n..];
             }
         }
         let renumbered = |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
@@ -382,34 +394,53 @@ fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
     Some(out)
 }
 
+/// An image's solver context, built only when some cell needs it: a re-plan that finds
+/// nothing changed never does.
+struct LazyView<'r> {
+    registry: &'r Registry,
+    image: &'r Image,
+    sets: &'r SetCache,
+    view: OnceLock<ImageView<'r>>,
+}
+
+impl<'r> LazyView<'r> {
+    fn get(&self) -> &ImageView<'r> {
+        self.view
+            .get_or_init(|| ImageView::new(self.registry, self.image, self.sets))
+    }
+}
+
+/// Releases published since a cached solve that its reused basis must record as refused:
+/// `(old table index, release indices)`.
+type Additions = Vec<(u32, Vec<u32>)>;
+
 /// Whether the current registry would answer the cached cell's solve, and read its
-/// explanation, exactly as before. A cell that observed nothing was asked for a name the
-/// registry lacked, and holds while the name is still absent. A damaged cache makes cells
-/// invalid, never a panic.
+/// explanation, exactly as before; if so, what its basis gains. A cell that observed nothing
+/// was asked for a name the registry lacked, and holds while the name is still absent. A
+/// damaged cache makes cells invalid, never a panic.
 fn recheck(
     basis: &CellBasis,
     entry: &Priority,
     old: &[CachedPackage],
     standing: &[Standing],
-    view: &ImageView<'_>,
+    view: &LazyView<'_>,
     prints: &PrintTable<'_>,
-) -> bool {
+) -> Option<Additions> {
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
     let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
     if !basis.unchanged.iter().all(|&k| unchanged(k)) || !basis.open_ended.iter().all(known) {
-        return false;
+        return None;
     }
     if basis.observed.is_empty() {
-        return registry.id(&entry.name).is_none()
+        let still_absent = registry.id(&entry.name).is_none()
             && basis.unchanged.is_empty()
             && basis.open_ended.is_empty();
+        return still_absent.then(Vec::new);
     }
-    let Some(runs) = runs(&basis.observed) else {
-        return false;
-    };
+    let runs = runs(&basis.observed)?;
     // Packages with releases published since, and how many releases they had.
-    let mut extended: Vec<(PackageId, usize)> = Vec::new();
+    let mut extended: Vec<(PackageId, usize, u32)> = Vec::new();
     let answered_alike = runs.iter().all(|run| {
         let k = run.package as usize;
         let Some(id) = standing.get(k).and_then(Standing::id) else {
@@ -427,9 +458,9 @@ fn recheck(
             if basis.open_ended.contains(&run.package) {
                 return false;
             }
-            extended.push((id, count));
+            extended.push((id, count, run.package));
         }
-        let admissions = view.admissions(id);
+        let admissions = view.get().admissions(id);
         let is_admissible = |i: &u32| admissions[*i as usize] == Admission::Admissible;
         let now = &prints.of(id).releases;
         let before = &old[k].releases;
@@ -441,40 +472,67 @@ fn recheck(
                 .all(|&i| before.get(i as usize) == Some(&now[i as usize]))
     });
     if !answered_alike {
-        return false;
+        return None;
     }
-    // Every range the solver saw of a package comes from a requirement on it: the entry's,
-    // or a dependency of a release whose dependencies it read. While none of those admits a
-    // newly published release, every such set, and so every answer, is as before.
-    let stops_before = |id: PackageId, set: &IndexSet, count: usize| {
-        let total = registry.package(id).releases.len();
-        indices_newest_first(set, total)
-            .next()
-            .is_none_or(|i| (i as usize) < count)
-    };
-    extended.iter().all(|&(id, count)| {
-        if registry.name(id) != entry.name {
-            return true;
+    // Every range the solver saw of a package lies within the requirement sets it was given
+    // on it: the entry's, or those of the dependencies of releases whose dependencies it
+    // read. pubgrub treats a set of indices as a set of points on a line, so each release
+    // `j` stands for the stretch from `j` to `j + 1`: deciding `j` removes the point and
+    // leaves the stretch after it. A newly published release outside all the sets joins the
+    // stretch past the last release, which no set admits either. One inside some of them
+    // must be refused here, and some old release must lie in exactly the same sets: then
+    // every set the solver builds is empty, contained in another or disjoint from it exactly
+    // as before, the admissible counts that order its decisions and the newest admissible
+    // release it picks are unchanged, and so is every answer. A cold solve records such a
+    // release as refused, so the reused basis does too.
+    let mut given: Vec<Vec<IndexSet>> = vec![Vec::new(); extended.len()];
+    let mut note = |id: PackageId, set: IndexSet| {
+        if let Some(k) = extended.iter().position(|e| e.0 == id)
+            && !given[k].contains(&set)
+        {
+            given[k].push(set);
         }
+    };
+    if let Some(id) = registry.id(&entry.name)
+        && extended.iter().any(|e| e.0 == id)
+    {
         let any = Requirement::any();
         let req = entry.req.as_ref().unwrap_or(&any);
-        stops_before(id, &root_set(registry, id, req, entry.prerelease), count)
-    }) && runs.iter().all(|run| {
-        let Some(dependent) = standing[run.package as usize].id() else {
-            return false;
-        };
-        let releases = &registry.package(dependent).releases;
-        run.fetched.iter().all(|&i| {
-            releases[i as usize].runtime_deps().all(|d| {
-                match extended.iter().find(|(id, _)| *id == d.package) {
-                    Some(&(id, count)) => {
-                        stops_before(id, &view.sets.get(registry, id, d.req), count)
-                    }
-                    None => true,
-                }
-            })
-        })
-    })
+        note(id, root_set(registry, id, req, entry.prerelease));
+    }
+    for run in &runs {
+        let dependent = standing[run.package as usize].id()?;
+        for &i in run.fetched {
+            for (id, set) in view.get().dependency_sets(dependent, i) {
+                note(id, set);
+            }
+        }
+    }
+    let mut additions = Vec::new();
+    for (&(id, count, slot), sets) in extended.iter().zip(&given) {
+        let admissions = view.get().admissions(id);
+        let mut refused = Vec::new();
+        for new in count as u32..admissions.len() as u32 {
+            let within: Vec<bool> = sets.iter().map(|s| s.contains(&new)).collect();
+            if !within.contains(&true) {
+                continue;
+            }
+            if admissions[new as usize] == Admission::Admissible {
+                return None;
+            }
+            let mate = (0..count as u32)
+                .rev()
+                .any(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(&j) == *w));
+            if !mate {
+                return None;
+            }
+            refused.push(new);
+        }
+        if !refused.is_empty() {
+            additions.push((slot, refused));
+        }
+    }
+    Some(additions)
 }
 
 /// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
@@ -541,8 +599,8 @@ impl Shard {
 
 /// Where a cell of a re-plan comes from.
 enum Source {
-    /// Cell `k` of the previous plan, still valid.
-    Reused(usize),
+    /// Cell `k` of the previous plan, still valid, and what its basis gains.
+    Reused(usize, Additions),
     Solved(Box<Cell>),
 }
 
@@ -576,11 +634,16 @@ pub fn replan(
         .map(|p| Standing::of(registry, &prints, p))
         .collect();
     let sets = SetCache::default();
-    let views: Vec<ImageView<'_>> = inputs
+    let views: Vec<LazyView<'_>> = inputs
         .images
         .images
         .iter()
-        .map(|i| ImageView::new(registry, i, &sets))
+        .map(|image| LazyView {
+            registry,
+            image,
+            sets: &sets,
+            view: OnceLock::new(),
+        })
         .collect();
     let image_keys: Vec<u64> = inputs.images.images.iter().map(image_fingerprint).collect();
     let n_images = views.len();
@@ -606,7 +669,7 @@ pub fn replan(
             if let Some(&k) = old.get(&(entry.name.as_str(), image.id.as_str()))
                 && old_bases[k].entry == entry_key
                 && old_bases[k].image == image_key
-                && recheck(
+                && let Some(additions) = recheck(
                     &old_bases[k],
                     entry,
                     &old_packages,
@@ -615,9 +678,9 @@ pub fn replan(
                     &prints,
                 )
             {
-                return (Source::Reused(k), entry_key, image_key);
+                return (Source::Reused(k, additions), entry_key, image_key);
             }
-            let cell = plan_cell(inputs, &views[col], entry, options);
+            let cell = plan_cell(inputs, views[col].get(), entry, options);
             (Source::Solved(Box::new(cell)), entry_key, image_key)
         })
         .collect();
@@ -628,7 +691,7 @@ pub fn replan(
     let stats = ReplanStats {
         reused: results
             .iter()
-            .filter(|r| matches!(r.0, Source::Reused(_)))
+            .filter(|r| matches!(r.0, Source::Reused(..)))
             .count(),
         solved: results
             .iter()
@@ -646,7 +709,7 @@ pub fn replan(
                     let all = o.packages.iter().chain(&o.explained).chain(&o.open_ended);
                     all.copied().collect()
                 }
-                Source::Reused(k) => {
+                Source::Reused(k, _) => {
                     let basis = &old_bases[*k];
                     let listed = runs(&basis.observed).unwrap_or_default();
                     listed
@@ -690,13 +753,13 @@ pub fn replan(
         .par_iter()
         .map(|(source, entry, image)| match source {
             Source::Solved(cell) => CellBasis::of_solve(*entry, *image, &cell.observed, &slot),
-            Source::Reused(k) => old_bases[*k].renumbered(&renumber),
+            Source::Reused(k, additions) => old_bases[*k].renumbered(&renumber, additions),
         })
         .collect();
     // A priority list may name a package twice; its old cell is then copied, not moved.
     let mut uses = vec![0usize; old_cells.len()];
     for (source, _, _) in &results {
-        if let Source::Reused(k) = source {
+        if let Source::Reused(k, _) = source {
             uses[*k] += 1;
         }
     }
@@ -705,7 +768,7 @@ pub fn replan(
         .into_iter()
         .map(|(source, _, _)| match source {
             Source::Solved(cell) => *cell,
-            Source::Reused(k) => {
+            Source::Reused(k, _) => {
                 uses[k] -= 1;
                 if uses[k] == 0 {
                     std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))

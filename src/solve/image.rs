@@ -1,7 +1,7 @@
 //! What depends only on the image, computed once per image and shared by all of its cells:
 //! which releases of each package are admissible there, and why the others are not.
 
-use super::sets::SetCache;
+use super::sets::{IndexSet, SetCache};
 use crate::model::{Image, PackageId, Registry, ReqId, Requirement};
 use semver::{Op, Version};
 use serde::Serialize;
@@ -92,6 +92,19 @@ impl<'r> ImageView<'r> {
                 })
                 .collect()
         })
+    }
+
+    /// The requirement sets the solver is given for the runtime dependencies of release
+    /// `index` of `package`, one per dependency, in the release's order.
+    pub fn dependency_sets(
+        &self,
+        package: PackageId,
+        index: u32,
+    ) -> impl Iterator<Item = (PackageId, IndexSet)> + '_ {
+        let registry = self.registry;
+        registry.package(package).releases[index as usize]
+            .runtime_deps()
+            .map(move |d| (d.package, self.sets.get(registry, d.package, d.req)))
     }
 
     fn prebuilt_here(&self, prebuilt: &[crate::model::PlatformId]) -> bool {

@@ -1,7 +1,7 @@
 //! The pubgrub dependency provider for one (package, image) cell.
 
 use super::image::{Admission, ImageView};
-use super::sets::{IndexSet, indices, indices_newest_first};
+use super::sets::{IndexSet, index_run, indices_newest_first};
 use crate::model::PackageId;
 use pubgrub::{
     Dependencies, DependencyConstraints, DependencyProvider, PackageResolutionStatistics,
@@ -69,8 +69,12 @@ pub struct Observed {
     /// the solve is over): the answer cannot change unless one of them, or the image, does.
     pub packages: Vec<PackageId>,
     /// `(package, release, admissible)` for each release whose admission decided a choice of
-    /// version: the release chosen and every newer one in the range asked about (the whole
-    /// range when none was admissible). Older releases in the range did not matter.
+    /// version or a priority: in each range the solver asked about, and in each requirement
+    /// set it was given (the root's, and those of the dependencies of every release fetched),
+    /// the newest admissible release and every newer one (the whole range when none was
+    /// admissible). Older releases in a range did not matter. The sets are scanned even where
+    /// the solver asked about a narrower range, so that what is recorded depends on the sets
+    /// alone and a re-plan can tell what a cold solve would record.
     pub admissions: Vec<(PackageId, u32, bool)>,
     /// Releases whose dependencies the solver read.
     pub fetched: Vec<(PackageId, u32)>,
@@ -137,8 +141,37 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }
     }
 
-    /// What the solve observed, sorted and unique.
+    /// The newest admissible release of `package` in `range`, recording the admission of it
+    /// and of every newer release in the range.
+    fn newest_admissible(&self, package: PackageId, range: &IndexSet) -> Option<u32> {
+        let admissions = self.view.admissions(package);
+        let mut observed = self.observed.borrow_mut();
+        for i in indices_newest_first(range, admissions.len()) {
+            let admissible = admissions[i as usize] == Admission::Admissible;
+            observed.admissions.push((package, i, admissible));
+            if admissible {
+                return Some(i);
+            }
+        }
+        None
+    }
+
+    /// What the solve observed, sorted and unique, with the scans of every requirement set it
+    /// was given.
     pub fn take_observed(&self) -> Observed {
+        let fetched = {
+            let mut observed = self.observed.borrow_mut();
+            observed.finish();
+            observed.fetched.clone()
+        };
+        for (package, set) in &self.roots {
+            self.newest_admissible(*package, set);
+        }
+        for (package, index) in fetched {
+            for (target, set) in self.view.dependency_sets(package, index) {
+                self.newest_admissible(target, &set);
+            }
+        }
         let mut observed = self.observed.take();
         observed.finish();
         observed
@@ -169,7 +202,17 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Package(id) => {
                 let count = self.view.registry.package(*id).releases.len();
                 self.note_reach(*id, range, count);
-                indices(range, count).count() as u32
+                // The releases up to the newest admissible one: those newer can never be
+                // picked (typically they need a newer runtime), and counting them would let a
+                // release the image refuses change the order of decisions. Counting only
+                // admissible ones would make every admission in the range matter.
+                match self.newest_admissible(*id, range) {
+                    Some(newest) => range
+                        .iter()
+                        .map(|run| index_run(run, newest as usize + 1).len() as u32)
+                        .sum(),
+                    None => 0,
+                }
             }
         };
         (stats.conflict_count(), Reverse(candidates))
@@ -183,20 +226,12 @@ impl DependencyProvider for CellProvider<'_, '_> {
         match package {
             Node::Root | Node::Runtime => Ok(range.contains(&0).then_some(0)),
             Node::Package(id) => {
-                let admissions = self.view.admissions(*id);
-                self.note_reach(*id, range, admissions.len());
-                let mut observed = self.observed.borrow_mut();
-                observed.packages.push(*id);
+                let count = self.view.registry.package(*id).releases.len();
+                self.note_reach(*id, range, count);
+                self.observed.borrow_mut().packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
                 // exhausted range is learned in one step as "no versions".
-                for i in indices_newest_first(range, admissions.len()) {
-                    let admissible = admissions[i as usize] == Admission::Admissible;
-                    observed.admissions.push((*id, i, admissible));
-                    if admissible {
-                        return Ok(Some(i));
-                    }
-                }
-                Ok(None)
+                Ok(self.newest_admissible(*id, range))
             }
         }
     }
@@ -231,9 +266,8 @@ impl DependencyProvider for CellProvider<'_, '_> {
                     // the runtime in every solution and explanation.
                     deps.push((Node::Runtime, IndexSet::singleton(0u32)));
                 }
-                for d in release.runtime_deps() {
-                    let set = self.view.sets.get(registry, d.package, d.req);
-                    let node = Node::Package(d.package);
+                for (package, set) in self.view.dependency_sets(*id, *version) {
+                    let node = Node::Package(package);
                     // Two requirements on one package must both hold.
                     match deps.iter_mut().find(|(n, _)| *n == node) {
                         Some((_, existing)) => *existing = existing.intersection(&set),

@@ -62,7 +62,10 @@ pub fn root_set(
 }
 
 /// The indices one run of a set covers, clipped to a list of `count` releases.
-fn index_run((lo, hi): (&Bound<u32>, &Bound<u32>), count: usize) -> std::ops::Range<u32> {
+pub(crate) fn index_run(
+    (lo, hi): (&Bound<u32>, &Bound<u32>),
+    count: usize,
+) -> std::ops::Range<u32> {
     let lo = match lo {
         Bound::Included(v) => *v,
         Bound::Excluded(v) => v.saturating_add(1),
