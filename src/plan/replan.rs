@@ -11,8 +11,10 @@
 //! versions, summary and flags, the native hints of picked releases) is fingerprinted, and a
 //! failure's explanation, which reads refusal reasons and the requirements of releases never
 //! picked, keeps the packages it names valid only while they are unchanged as a whole. A
-//! package that only gained releases newer than all it had leaves a cell valid while no
-//! requirement the solve used on it admits them.
+//! package that only gained releases newer than all it had leaves a cell valid while each new
+//! release is either admitted by no requirement the solve used on it, or refused on the image
+//! and admitted by exactly the same of those requirements as some older release (see
+//! [`recheck`] for why that is exact).
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -32,7 +34,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 4;
+pub const CACHE_FORMAT: u32 = 5;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -230,10 +232,11 @@ pub struct CellBasis {
     pub entry: u64,
     pub image: u64,
     /// What the solve observed, one run per consulted package in table order: the package's
-    /// index in [`PlanCache::packages`], then three counted lists of release indices: those
-    /// that were admissible and must still be, those refused that must still be, and those
-    /// whose dependencies were read and must be unchanged. Flat, because a registry-sized
-    /// plan has millions of these and a re-plan copies them all.
+    /// index in [`PlanCache::packages`], then four counted lists of release indices: those
+    /// that were admissible and must still be, those refused that must still be, those whose
+    /// dependencies were read and must be unchanged, and `from, to` pairs of the releases
+    /// whose stretch lay in a range asked about ([`Observed::covered`]). Flat, because a
+    /// registry-sized plan has millions of these and a re-plan copies them all.
     pub observed: Vec<u32>,
     /// Packages (table indices) that must be unchanged as a whole.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -272,17 +275,26 @@ impl CellBasis {
         while let Some((&package, tail)) = rest.split_first() {
             observed.push(renumber[package as usize]);
             rest = tail;
-            for list in 0..3 {
+            let added = additions
+                .iter()
+                .find(|a| a.0 == package)
+                .map_or(&[][..], |a| &a.1[..]);
+            for list in 0..4 {
                 let n = rest[0] as usize;
-                let added = match additions.iter().find(|a| a.0 == package) {
-                    Some((_, refused)) if list == 1 => &refused[..],
-                    _ => &[],
-                };
-                // Added releases were published after all the old ones: order is kept.
-                observed.push((n + added.len()) as u32);
-                observed.extend_from_slice(&rest[1..=n]);
-                observed.extend_from_slice(added);
+                let mut items = rest[1..=n].to_vec();
                 rest = &rest[1 + n..];
+                // Added releases were published after all the old ones, so they go last, and
+                // a stretch run reaching the old end continues through them.
+                for &new in added {
+                    match list {
+                        1 => items.push(new),
+                        3 if items.last() == Some(&new) => *items.last_mut().unwrap_or(&mut 0) += 1,
+                        3 => items.extend([new, new + 1]),
+                        _ => {}
+                    }
+                }
+                observed.push(items.len() as u32);
+                observed.extend_from_slice(&items);
             }
         }
         let renumbered = |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
@@ -367,6 +379,17 @@ struct Run<'a> {
     admissible: &'a [u32],
     refused: &'a [u32],
     fetched: &'a [u32],
+    /// Pairs `from, to`: see [`Observed::covered`].
+    covered: &'a [u32],
+}
+
+impl Run<'_> {
+    /// Whether release `index`'s stretch lay in a range the solver asked about.
+    fn covers(&self, index: u32) -> bool {
+        self.covered
+            .chunks_exact(2)
+            .any(|pair| pair[0] <= index && index < pair[1])
+    }
 }
 
 /// The runs of an observed list; `None` for a damaged one.
@@ -384,11 +407,13 @@ fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
         let admissible = take(&mut rest)?;
         let refused = take(&mut rest)?;
         let fetched = take(&mut rest)?;
+        let covered = take(&mut rest)?;
         out.push(Run {
             package,
             admissible,
             refused,
             fetched,
+            covered,
         });
     }
     Some(out)
@@ -440,7 +465,7 @@ fn recheck(
     }
     let runs = runs(&basis.observed)?;
     // Packages with releases published since, and how many releases they had.
-    let mut extended: Vec<(PackageId, usize, u32)> = Vec::new();
+    let mut extended: Vec<(PackageId, usize, u32, &Run<'_>)> = Vec::new();
     let answered_alike = runs.iter().all(|run| {
         let k = run.package as usize;
         let Some(id) = standing.get(k).and_then(Standing::id) else {
@@ -448,7 +473,10 @@ fn recheck(
         };
         let count = old[k].releases.len();
         let lists = [run.admissible, run.refused, run.fetched];
-        if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count)) {
+        if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
+            || run.covered.len() % 2 != 0
+            || run.covered.iter().any(|&i| i as usize > count)
+        {
             return false;
         }
         if unchanged(run.package) {
@@ -458,7 +486,7 @@ fn recheck(
             if basis.open_ended.contains(&run.package) {
                 return false;
             }
-            extended.push((id, count, run.package));
+            extended.push((id, count, run.package, run));
         }
         let admissions = view.get().admissions(id);
         let is_admissible = |i: &u32| admissions[*i as usize] == Admission::Admissible;
@@ -509,7 +537,7 @@ fn recheck(
         }
     }
     let mut additions = Vec::new();
-    for (&(id, count, slot), sets) in extended.iter().zip(&given) {
+    for (&(id, count, slot, run), sets) in extended.iter().zip(&given) {
         let admissions = view.get().admissions(id);
         let mut refused = Vec::new();
         for new in count as u32..admissions.len() as u32 {
@@ -522,11 +550,15 @@ fn recheck(
             }
             let mate = (0..count as u32)
                 .rev()
-                .any(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(&j) == *w));
-            if !mate {
+                .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w));
+            let Some(mate) = mate else {
                 return None;
+            };
+            // A cold solve would ask about the new release exactly where it asked about the
+            // older one's stretch, and record it as refused there.
+            if run.covers(mate) {
+                refused.push(new);
             }
-            refused.push(new);
         }
         if !refused.is_empty() {
             additions.push((slot, refused));
@@ -542,7 +574,7 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
     let mut out = Vec::new();
     for id in order {
         out.push(slot(id));
-        // `admissions` and `fetched` are sorted by package first.
+        // `admissions`, `fetched` and `covered` are sorted by package first.
         let adm = &observed.admissions;
         let adm = &adm[adm.partition_point(|a| a.0 < id)..adm.partition_point(|a| a.0 <= id)];
         for admissible in [true, false] {
@@ -554,6 +586,10 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
         let fet = &fet[fet.partition_point(|f| f.0 < id)..fet.partition_point(|f| f.0 <= id)];
         out.push(fet.len() as u32);
         out.extend(fet.iter().map(|f| f.1));
+        let cov = &observed.covered;
+        let cov = &cov[cov.partition_point(|c| c.0 < id)..cov.partition_point(|c| c.0 <= id)];
+        out.push(2 * cov.len() as u32);
+        out.extend(cov.iter().flat_map(|c| [c.1, c.2]));
     }
     out
 }

@@ -69,13 +69,17 @@ pub struct Observed {
     /// the solve is over): the answer cannot change unless one of them, or the image, does.
     pub packages: Vec<PackageId>,
     /// `(package, release, admissible)` for each release whose admission decided a choice of
-    /// version or a priority: in each range the solver asked about, and in each requirement
-    /// set it was given (the root's, and those of the dependencies of every release fetched),
-    /// the newest admissible release and every newer one (the whole range when none was
-    /// admissible). Older releases in a range did not matter. The sets are scanned even where
-    /// the solver asked about a narrower range, so that what is recorded depends on the sets
-    /// alone and a re-plan can tell what a cold solve would record.
+    /// version or a priority: in each range the solver asked about, the newest admissible
+    /// release and every newer one (the whole range when none was admissible). Older releases
+    /// in a range did not matter.
     pub admissions: Vec<(PackageId, u32, bool)>,
+    /// `(package, from, to)`: releases `from..to` whose stretch (the points between a release
+    /// and the next, which pubgrub's sets can hold without the release itself) lies in a range
+    /// the solver asked about. A release published since that lies in exactly the same
+    /// requirement sets as an old one falls in a range exactly when the old one's stretch
+    /// does, so this tells a re-plan whether a cold solve would have asked about it.
+    /// Merged runs, in order.
+    pub covered: Vec<(PackageId, u32, u32)>,
     /// Releases whose dependencies the solver read.
     pub fetched: Vec<(PackageId, u32)>,
     /// Packages a failure's explanation read beyond the solver's answers (refusal reasons,
@@ -95,6 +99,15 @@ impl Observed {
         self.fetched.dedup();
         self.open_ended.sort_unstable();
         self.open_ended.dedup();
+        self.covered.sort_unstable();
+        let mut merged: Vec<(PackageId, u32, u32)> = Vec::with_capacity(self.covered.len());
+        for &(package, from, to) in &self.covered {
+            match merged.last_mut() {
+                Some(last) if last.0 == package && from <= last.2 => last.2 = last.2.max(to),
+                _ => merged.push((package, from, to)),
+            }
+        }
+        self.covered = merged;
     }
 }
 
@@ -146,6 +159,19 @@ impl<'v, 'r> CellProvider<'v, 'r> {
     fn newest_admissible(&self, package: PackageId, range: &IndexSet) -> Option<u32> {
         let admissions = self.view.admissions(package);
         let mut observed = self.observed.borrow_mut();
+        // A run of the range from `a` to `b` (either end open or closed) holds the stretch
+        // after each release from `a` up to but not including `b`.
+        observed.covered.extend(range.iter().filter_map(|(lo, hi)| {
+            let from = match lo {
+                Bound::Included(v) | Bound::Excluded(v) => *v,
+                Bound::Unbounded => 0,
+            };
+            let to = match hi {
+                Bound::Included(v) | Bound::Excluded(v) => (*v).min(admissions.len() as u32),
+                Bound::Unbounded => admissions.len() as u32,
+            };
+            (from < to).then_some((package, from, to))
+        }));
         for i in indices_newest_first(range, admissions.len()) {
             let admissible = admissions[i as usize] == Admission::Admissible;
             observed.admissions.push((package, i, admissible));
@@ -156,22 +182,8 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         None
     }
 
-    /// What the solve observed, sorted and unique, with the scans of every requirement set it
-    /// was given.
+    /// What the solve observed, sorted and unique.
     pub fn take_observed(&self) -> Observed {
-        let fetched = {
-            let mut observed = self.observed.borrow_mut();
-            observed.finish();
-            observed.fetched.clone()
-        };
-        for (package, set) in &self.roots {
-            self.newest_admissible(*package, set);
-        }
-        for (package, index) in fetched {
-            for (target, set) in self.view.dependency_sets(package, index) {
-                self.newest_admissible(target, &set);
-            }
-        }
         let mut observed = self.observed.take();
         observed.finish();
         observed
