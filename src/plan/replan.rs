@@ -550,10 +550,7 @@ fn recheck(
             }
             let mate = (0..count as u32)
                 .rev()
-                .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w));
-            let Some(mate) = mate else {
-                return None;
-            };
+                .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w))?;
             // A cold solve would ask about the new release exactly where it asked about the
             // older one's stretch, and record it as refused there.
             if run.covers(mate) {
