@@ -369,3 +369,41 @@ fn a_refused_release_that_only_it_meets_some_requirements_with_is_solved_again()
     assert!(to_json(&warm.matrix) == to_json(&cold));
     assert_eq!(stats.solved, 1);
 }
+
+#[test]
+fn an_admissible_release_inside_a_requirement_but_outside_every_range_asked_keeps_the_cell() {
+    // app asks for lib `<1.5` itself, and mid asks for lib `^1`: the solver only ever asks
+    // about lib within `<1.5`. lib 1.6.0 is admitted by `^1` (Semantic Versioning 2.0.0 caret
+    // rule as the semver crate implements it) and installable, but lies in the same
+    // requirements as 1.5.0, whose stretch no range asked about held: the cell is reused.
+    let registry = |extra: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '<1.5'}}, {{name: mid, req: '*'}}]}}
+- name: mid
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '^1'}}]}}
+- name: lib
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 1.4.0}}
+  - {{version: 1.5.0}}
+{extra}"
+        )
+    };
+    let options = PlanOptions::default();
+    let before = small_inputs(&registry(""), &["app", "mid"]);
+    let (cache, _) = replan(&before, &options, None, None);
+    let after = small_inputs(&registry("  - {version: 1.6.0}\n"), &["app", "mid"]);
+    let (warm, stats) = replan(&after, &options, Some(cache), None);
+    let cold = plan(&after, &options);
+    assert!(to_json(&warm.matrix) == to_json(&cold));
+    // app's cell is reused; mid's, whose range `^1` now holds 1.6.0, is solved again.
+    assert_eq!((stats.reused, stats.solved), (1, 1));
+    assert!(
+        to_json(&cold).contains("\"1.6.0\""),
+        "mid now picks lib 1.6.0"
+    );
+}

@@ -12,9 +12,9 @@
 //! failure's explanation, which reads refusal reasons and the requirements of releases never
 //! picked, keeps the packages it names valid only while they are unchanged as a whole. A
 //! package that only gained releases newer than all it had leaves a cell valid while each new
-//! release is either admitted by no requirement the solve used on it, or refused on the image
-//! and admitted by exactly the same of those requirements as some older release (see
-//! [`recheck`] for why that is exact).
+//! release is either admitted by no requirement the solve used on it, or admitted by exactly
+//! the same of those requirements as some older release and either refused on the image or
+//! outside every range the solver asked about (see [`recheck`] for why that is exact).
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -508,11 +508,13 @@ fn recheck(
     // `j` stands for the stretch from `j` to `j + 1`: deciding `j` removes the point and
     // leaves the stretch after it. A newly published release outside all the sets joins the
     // stretch past the last release, which no set admits either. One inside some of them
-    // must be refused here, and some old release must lie in exactly the same sets: then
-    // every set the solver builds is empty, contained in another or disjoint from it exactly
-    // as before, the admissible counts that order its decisions and the newest admissible
-    // release it picks are unchanged, and so is every answer. A cold solve records such a
-    // release as refused, so the reused basis does too.
+    // needs an old release that lies in exactly the same sets: then it only joins a group of
+    // points that was already there, and every set the solver builds is empty, contained in
+    // another or disjoint from it exactly as before. It lies in a range the solver asks about
+    // exactly where the old release's stretch did; where it never does, no answer changes,
+    // and where it does, it must be refused here, so that the newest admissible release and
+    // the candidate counts up to it are unchanged. A cold solve records such a release as
+    // refused and covered, so the reused basis does too.
     let mut given: Vec<Vec<IndexSet>> = vec![Vec::new(); extended.len()];
     let mut note = |id: PackageId, set: IndexSet| {
         if let Some(k) = extended.iter().position(|e| e.0 == id)
@@ -545,16 +547,20 @@ fn recheck(
             if !within.contains(&true) {
                 continue;
             }
-            if admissions[new as usize] == Admission::Admissible {
-                return None;
-            }
             let mate = (0..count as u32)
                 .rev()
                 .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w))?;
             // A cold solve would ask about the new release exactly where it asked about the
-            // older one's stretch, and record it as refused there.
-            if run.covers(mate) {
-                refused.push(new);
+            // older one's stretch. An admissible release it asks about could be picked and
+            // counts as a candidate; one it never asks about changes no answer. A refused one
+            // changes none either way, and is recorded as refused where asked about.
+            match (
+                run.covers(mate),
+                admissions[new as usize] == Admission::Admissible,
+            ) {
+                (true, true) => return None,
+                (true, false) => refused.push(new),
+                (false, _) => {}
             }
         }
         if !refused.is_empty() {
