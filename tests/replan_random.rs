@@ -186,8 +186,8 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
 /// Makes a release some cell saw admissible refused everywhere, or one it saw refused
 /// admissible everywhere: the edits a re-plan must notice through admissions alone.
 fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
-    // Runs of the flat list: package, then counted admissible, refused, fetched and covered
-    // lists.
+    // Runs of the flat list: package, then counted admissible, refused, fetched, covered,
+    // suiting and not suiting lists.
     let mut seen: Vec<(&str, u32, bool)> = Vec::new();
     for basis in &cache.bases {
         let o = &basis.observed;
@@ -195,9 +195,17 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
         while at < o.len() {
             let name = cache.packages[o[at] as usize].name.as_str();
             at += 1;
-            for (list, admissible) in [(0, true), (1, false), (2, false), (3, false)] {
+            let lists = [
+                (0, true),
+                (1, false),
+                (2, false),
+                (3, false),
+                (4, false),
+                (5, false),
+            ];
+            for (list, admissible) in lists {
                 let n = o[at] as usize;
-                if list < 2 {
+                if list < 2 || list == 5 {
                     seen.extend(o[at + 1..at + 1 + n].iter().map(|&i| (name, i, admissible)));
                 }
                 at += 1 + n;

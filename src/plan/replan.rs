@@ -34,7 +34,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 5;
+pub const CACHE_FORMAT: u32 = 6;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -232,10 +232,12 @@ pub struct CellBasis {
     pub entry: u64,
     pub image: u64,
     /// What the solve observed, one run per consulted package in table order: the package's
-    /// index in [`PlanCache::packages`], then four counted lists of release indices: those
+    /// index in [`PlanCache::packages`], then six counted lists of release indices: those
     /// that were admissible and must still be, those refused that must still be, those whose
-    /// dependencies were read and must be unchanged, and `from, to` pairs of the releases
-    /// whose stretch lay in a range asked about ([`Observed::covered`]). Flat, because a
+    /// dependencies were read and must be unchanged, `from, to` pairs of the releases whose
+    /// stretch lay in a range asked about ([`Observed::covered`]), and those that suited the
+    /// image's runtime and platform and must still, and those that did not and still must not
+    /// ([`Observed::fits`]). Flat, because a
     /// registry-sized plan has millions of these and a re-plan copies them all.
     pub observed: Vec<u32>,
     /// Packages (table indices) that must be unchanged as a whole.
@@ -279,7 +281,7 @@ impl CellBasis {
                 .iter()
                 .find(|a| a.0 == package)
                 .map_or(&[][..], |a| &a.1[..]);
-            for list in 0..4 {
+            for list in 0..6 {
                 let n = rest[0] as usize;
                 let mut items = rest[1..=n].to_vec();
                 rest = &rest[1 + n..];
@@ -287,7 +289,7 @@ impl CellBasis {
                 // a stretch run reaching the old end continues through them.
                 for &new in added {
                     match list {
-                        1 => items.push(new),
+                        5 => items.push(new),
                         3 if items.last() == Some(&new) => *items.last_mut().unwrap_or(&mut 0) += 1,
                         3 => items.extend([new, new + 1]),
                         _ => {}
@@ -381,6 +383,9 @@ struct Run<'a> {
     fetched: &'a [u32],
     /// Pairs `from, to`: see [`Observed::covered`].
     covered: &'a [u32],
+    /// Releases seen to suit the image, yank flag aside, and seen not to.
+    fit: &'a [u32],
+    unfit: &'a [u32],
 }
 
 impl Run<'_> {
@@ -408,12 +413,16 @@ fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
         let refused = take(&mut rest)?;
         let fetched = take(&mut rest)?;
         let covered = take(&mut rest)?;
+        let fit = take(&mut rest)?;
+        let unfit = take(&mut rest)?;
         out.push(Run {
             package,
             admissible,
             refused,
             fetched,
             covered,
+            fit,
+            unfit,
         });
     }
     Some(out)
@@ -435,7 +444,8 @@ impl<'r> LazyView<'r> {
     }
 }
 
-/// Releases published since a cached solve that its reused basis must record as refused:
+/// Releases published since a cached solve that its reused basis must record as covered and
+/// not suiting the image:
 /// `(old table index, release indices)`.
 type Additions = Vec<(u32, Vec<u32>)>;
 
@@ -472,7 +482,7 @@ fn recheck(
             return false;
         };
         let count = old[k].releases.len();
-        let lists = [run.admissible, run.refused, run.fetched];
+        let lists = [run.admissible, run.refused, run.fetched, run.fit, run.unfit];
         if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
             || run.covered.len() % 2 != 0
             || run.covered.iter().any(|&i| i as usize > count)
@@ -488,12 +498,16 @@ fn recheck(
             }
             extended.push((id, count, run.package, run));
         }
-        let admissions = view.get().admissions(id);
+        let view = view.get();
+        let admissions = view.admissions(id);
         let is_admissible = |i: &u32| admissions[*i as usize] == Admission::Admissible;
+        let fits = |i: &u32| view.fits(id, *i);
         let now = &prints.of(id).releases;
         let before = &old[k].releases;
         run.admissible.iter().all(is_admissible)
             && !run.refused.iter().any(is_admissible)
+            && run.fit.iter().all(fits)
+            && !run.unfit.iter().any(fits)
             && run
                 .fetched
                 .iter()
@@ -541,7 +555,7 @@ fn recheck(
     let mut additions = Vec::new();
     for (&(id, count, slot, run), sets) in extended.iter().zip(&given) {
         let admissions = view.get().admissions(id);
-        let mut refused = Vec::new();
+        let mut unfit = Vec::new();
         for new in count as u32..admissions.len() as u32 {
             let within: Vec<bool> = sets.iter().map(|s| s.contains(&new)).collect();
             if !within.contains(&true) {
@@ -551,20 +565,18 @@ fn recheck(
                 .rev()
                 .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w))?;
             // A cold solve would ask about the new release exactly where it asked about the
-            // older one's stretch. An admissible release it asks about could be picked and
-            // counts as a candidate; one it never asks about changes no answer. A refused one
-            // changes none either way, and is recorded as refused where asked about.
-            match (
-                run.covers(mate),
-                admissions[new as usize] == Admission::Admissible,
-            ) {
+            // older one's stretch. One that suits the image and is asked about could be
+            // picked or counts as a candidate; one never asked about changes no answer. One
+            // that does not suit changes none either way, and is recorded as not suiting
+            // where asked about.
+            match (run.covers(mate), view.get().fits(id, new)) {
                 (true, true) => return None,
-                (true, false) => refused.push(new),
+                (true, false) => unfit.push(new),
                 (false, _) => {}
             }
         }
-        if !refused.is_empty() {
-            additions.push((slot, refused));
+        if !unfit.is_empty() {
+            additions.push((slot, unfit));
         }
     }
     Some(additions)
@@ -593,6 +605,13 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
         let cov = &cov[cov.partition_point(|c| c.0 < id)..cov.partition_point(|c| c.0 <= id)];
         out.push(2 * cov.len() as u32);
         out.extend(cov.iter().flat_map(|c| [c.1, c.2]));
+        let fits = &observed.fits;
+        let fits = &fits[fits.partition_point(|f| f.0 < id)..fits.partition_point(|f| f.0 <= id)];
+        for suits in [true, false] {
+            let of_kind = || fits.iter().filter(move |f| f.2 == suits);
+            out.push(of_kind().count() as u32);
+            out.extend(of_kind().map(|f| f.1));
+        }
     }
     out
 }

@@ -76,22 +76,34 @@ impl<'r> ImageView<'r> {
                 .iter()
                 .map(|r| {
                     if r.yanked {
-                        return Admission::Yanked;
-                    }
-                    if let Some(req) = r.runtime {
-                        let v = self.runtime_verdict(req);
-                        if v != Admission::Admissible {
-                            return v;
-                        }
-                    }
-                    if r.build.source || self.prebuilt_here(&r.build.prebuilt) {
-                        Admission::Admissible
+                        Admission::Yanked
                     } else {
-                        Admission::NoBuild
+                        self.fit(r)
                     }
                 })
                 .collect()
         })
+    }
+
+    /// Whether release `index` of `package` suits the image's runtime and platform, yanked
+    /// or not.
+    pub fn fits(&self, package: PackageId, index: u32) -> bool {
+        self.fit(&self.registry.package(package).releases[index as usize]) == Admission::Admissible
+    }
+
+    /// A release's admission leaving its yank flag aside.
+    fn fit(&self, r: &crate::model::Release) -> Admission {
+        if let Some(req) = r.runtime {
+            let v = self.runtime_verdict(req);
+            if v != Admission::Admissible {
+                return v;
+            }
+        }
+        if r.build.source || self.prebuilt_here(&r.build.prebuilt) {
+            Admission::Admissible
+        } else {
+            Admission::NoBuild
+        }
     }
 
     /// The requirement sets the solver is given for the runtime dependencies of release

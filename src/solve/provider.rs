@@ -31,6 +31,15 @@ impl fmt::Display for Node {
     }
 }
 
+/// What a scan of a range looks for.
+#[derive(Clone, Copy)]
+enum Wanted {
+    /// The version to pick: the newest admissible release.
+    Admissible,
+    /// Where candidates end for a priority: the newest release that suits the image.
+    Candidate,
+}
+
 /// Why a solve stopped without an answer.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct BudgetExhausted {
@@ -69,10 +78,16 @@ pub struct Observed {
     /// the solve is over): the answer cannot change unless one of them, or the image, does.
     pub packages: Vec<PackageId>,
     /// `(package, release, admissible)` for each release whose admission decided a choice of
-    /// version or a priority: in each range the solver asked about, the newest admissible
-    /// release and every newer one (the whole range when none was admissible). Older releases
-    /// in a range did not matter.
+    /// version: in each range the solver picked from, the newest admissible release and every
+    /// newer one that suits the image (the whole range when none was admissible). Newer ones
+    /// that do not suit are in `fits`; older releases in the range did not matter.
     pub admissions: Vec<(PackageId, u32, bool)>,
+    /// `(package, release, suits)` for each release whose fit to the image's runtime and
+    /// platform, yank flag aside, decided a priority or was passed over when picking: in each
+    /// range the solver asked about, the releases that do not suit, from the newest down to
+    /// the first that does (the priorities count candidates up to it), and those a pick
+    /// passed over below it.
+    pub fits: Vec<(PackageId, u32, bool)>,
     /// `(package, from, to)`: releases `from..to` whose stretch (the points between a release
     /// and the next, which pubgrub's sets can hold without the release itself) lies in a range
     /// the solver asked about. A release published since that lies in exactly the same
@@ -95,6 +110,8 @@ impl Observed {
         self.packages.dedup();
         self.admissions.sort_unstable();
         self.admissions.dedup();
+        self.fits.sort_unstable();
+        self.fits.dedup();
         self.fetched.sort_unstable();
         self.fetched.dedup();
         self.open_ended.sort_unstable();
@@ -154,9 +171,11 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }
     }
 
-    /// The newest admissible release of `package` in `range`, recording the admission of it
-    /// and of every newer release in the range.
-    fn newest_admissible(&self, package: PackageId, range: &IndexSet) -> Option<u32> {
+    /// The newest release of `package` in `range` that `wanted` accepts, recording what the
+    /// scan read: releases that do not suit the image go to [`Observed::fits`] (their yank
+    /// flag did not matter), the others to `admissions` when picking a version and to `fits`
+    /// when counting candidates.
+    fn scan(&self, package: PackageId, range: &IndexSet, wanted: Wanted) -> Option<u32> {
         let admissions = self.view.admissions(package);
         let mut observed = self.observed.borrow_mut();
         // A run of the range from `a` to `b` (either end open or closed) holds the stretch
@@ -173,10 +192,22 @@ impl<'v, 'r> CellProvider<'v, 'r> {
             (from < to).then_some((package, from, to))
         }));
         for i in indices_newest_first(range, admissions.len()) {
-            let admissible = admissions[i as usize] == Admission::Admissible;
-            observed.admissions.push((package, i, admissible));
-            if admissible {
-                return Some(i);
+            if !self.view.fits(package, i) {
+                observed.fits.push((package, i, false));
+                continue;
+            }
+            match wanted {
+                Wanted::Candidate => {
+                    observed.fits.push((package, i, true));
+                    return Some(i);
+                }
+                Wanted::Admissible => {
+                    let admissible = admissions[i as usize] == Admission::Admissible;
+                    observed.admissions.push((package, i, admissible));
+                    if admissible {
+                        return Some(i);
+                    }
+                }
             }
         }
         None
@@ -214,11 +245,13 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Package(id) => {
                 let count = self.view.registry.package(*id).releases.len();
                 self.note_reach(*id, range, count);
-                // The releases up to the newest admissible one: those newer can never be
-                // picked (typically they need a newer runtime), and counting them would let a
-                // release the image refuses change the order of decisions. Counting only
-                // admissible ones would make every admission in the range matter.
-                match self.newest_admissible(*id, range) {
+                // The releases up to the newest one that suits the image: those newer can
+                // never be picked (typically they need a newer runtime), and counting them
+                // would let a release the image refuses change the order of decisions. Yank
+                // flags are left aside, so that a yank does not reorder decisions either;
+                // counting only admissible releases would make every admission in the range
+                // matter.
+                match self.scan(*id, range, Wanted::Candidate) {
                     Some(newest) => range
                         .iter()
                         .map(|run| index_run(run, newest as usize + 1).len() as u32)
@@ -243,7 +276,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
                 self.observed.borrow_mut().packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
                 // exhausted range is learned in one step as "no versions".
-                Ok(self.newest_admissible(*id, range))
+                Ok(self.scan(*id, range, Wanted::Admissible))
             }
         }
     }
