@@ -283,20 +283,22 @@ impl CellBasis {
                 .map_or(&[][..], |a| &a.1[..]);
             for list in 0..6 {
                 let n = rest[0] as usize;
-                let mut items = rest[1..=n].to_vec();
+                let count_at = observed.len();
+                observed.extend_from_slice(&rest[..=n]);
                 rest = &rest[1 + n..];
                 // Added releases were published after all the old ones, so they go last, and
                 // a stretch run reaching the old end continues through them.
                 for &new in added {
                     match list {
-                        5 => items.push(new),
-                        3 if items.last() == Some(&new) => *items.last_mut().unwrap_or(&mut 0) += 1,
-                        3 => items.extend([new, new + 1]),
+                        5 => observed.push(new),
+                        3 if observed.len() > count_at + 1 && observed.last() == Some(&new) => {
+                            *observed.last_mut().unwrap_or(&mut 0) += 1
+                        }
+                        3 => observed.extend([new, new + 1]),
                         _ => {}
                     }
                 }
-                observed.push(items.len() as u32);
-                observed.extend_from_slice(&items);
+                observed[count_at] = (observed.len() - count_at - 1) as u32;
             }
         }
         let renumbered = |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
