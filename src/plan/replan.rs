@@ -591,31 +591,31 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
     let mut out = Vec::new();
     for id in order {
         out.push(slot(id));
-        // `admissions`, `fetched` and `covered` are sorted by package first.
-        let adm = &observed.admissions;
-        let adm = &adm[adm.partition_point(|a| a.0 < id)..adm.partition_point(|a| a.0 <= id)];
-        for admissible in [true, false] {
-            let of_kind = || adm.iter().filter(move |a| a.2 == admissible);
-            out.push(of_kind().count() as u32);
-            out.extend(of_kind().map(|a| a.1));
-        }
-        let fet = &observed.fetched;
-        let fet = &fet[fet.partition_point(|f| f.0 < id)..fet.partition_point(|f| f.0 <= id)];
-        out.push(fet.len() as u32);
-        out.extend(fet.iter().map(|f| f.1));
-        let cov = &observed.covered;
-        let cov = &cov[cov.partition_point(|c| c.0 < id)..cov.partition_point(|c| c.0 <= id)];
-        out.push(2 * cov.len() as u32);
-        out.extend(cov.iter().flat_map(|c| [c.1, c.2]));
-        let fits = &observed.fits;
-        let fits = &fits[fits.partition_point(|f| f.0 < id)..fits.partition_point(|f| f.0 <= id)];
-        for suits in [true, false] {
-            let of_kind = || fits.iter().filter(move |f| f.2 == suits);
-            out.push(of_kind().count() as u32);
-            out.extend(of_kind().map(|f| f.1));
-        }
+        // Every list of `Observed` is sorted by package first.
+        push_by_flag(&mut out, entries_of(&observed.admissions, id, |a| a.0));
+        let fetched = entries_of(&observed.fetched, id, |f| f.0);
+        out.push(fetched.len() as u32);
+        out.extend(fetched.iter().map(|f| f.1));
+        let covered = entries_of(&observed.covered, id, |c| c.0);
+        out.push(2 * covered.len() as u32);
+        out.extend(covered.iter().flat_map(|c| [c.1, c.2]));
+        push_by_flag(&mut out, entries_of(&observed.fits, id, |f| f.0));
     }
     out
+}
+
+/// The entries of `list`, sorted by package first, that belong to `id`.
+fn entries_of<T>(list: &[T], id: PackageId, package: impl Fn(&T) -> PackageId) -> &[T] {
+    &list[list.partition_point(|e| package(e) < id)..list.partition_point(|e| package(e) <= id)]
+}
+
+/// Two counted lists: the releases of `entries` whose flag is set, then the others.
+fn push_by_flag(out: &mut Vec<u32>, entries: &[(PackageId, u32, bool)]) {
+    for flag in [true, false] {
+        let of_kind = || entries.iter().filter(move |e| e.2 == flag);
+        out.push(of_kind().count() as u32);
+        out.extend(of_kind().map(|e| e.1));
+    }
 }
 
 /// A shard: `index` of `count`, 1-based as written on the command line (`--shard 2/8`).
