@@ -272,10 +272,19 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
         .iter()
         .position(|x| x.package == "root")
         .unwrap();
-    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real];
+    // Runs: package, then counted admissible, refused, fetched, covered (pairs), suiting
+    // and not suiting lists.
+    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real, 0, 0, 0];
     damaged.push(c);
-    // Observation lists pointing past the table, past release lists, or cut short.
-    for observed in [vec![999, 0, 0, 0], vec![0, 1, 50, 0, 0], vec![0, 3, 1]] {
+    // Observation lists pointing past the table, past release lists, with a stretch pair cut
+    // in half, or cut short.
+    for observed in [
+        vec![999, 0, 0, 0, 0, 0, 0],
+        vec![0, 1, 50, 0, 0, 0, 0, 0],
+        vec![0, 0, 0, 0, 0, 0, 1, 50],
+        vec![0, 0, 0, 0, 1, 0, 0, 0],
+        vec![0, 3, 1],
+    ] {
         let mut c = cache.clone();
         for b in &mut c.bases {
             b.observed = observed.clone();
@@ -295,6 +304,20 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
         let (warm, _) = replan(&inputs, &options, Some(c), None);
         assert!(to_json(&warm.matrix) == cold);
     }
+    // An unchanged package claiming to have had the dependencies of a release it lacks read,
+    // read only because lib has a new release since.
+    let text = |lib: &str| {
+        format!(
+            "packages:\n- name: app\n  versions:\n  - {{version: 1.0.0, depends: [{{name: lib, req: '^1'}}]}}\n- name: lib\n  versions: [{lib}]\n"
+        )
+    };
+    let before = small_inputs(&text("{version: 1.0.0}"), &["app"]);
+    let (mut c, _) = replan(&before, &options, None, None);
+    let app = c.packages.iter().position(|p| p.name == "app").unwrap() as u32;
+    c.bases[0].observed.extend([app, 0, 0, 1, 50, 0, 0, 0]);
+    let after = small_inputs(&text("{version: 1.0.0}, {version: 3.0.0}"), &["app"]);
+    let (warm, _) = replan(&after, &options, Some(c), None);
+    assert!(to_json(&warm.matrix) == to_json(&plan(&after, &options)));
 }
 
 #[test]

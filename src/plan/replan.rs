@@ -378,6 +378,7 @@ impl Standing {
 }
 
 /// One package's run of [`CellBasis::observed`].
+#[derive(Clone, Copy)]
 struct Run<'a> {
     package: u32,
     admissible: &'a [u32],
@@ -399,35 +400,37 @@ impl Run<'_> {
     }
 }
 
-/// The runs of an observed list; `None` for a damaged one.
-fn runs(observed: &[u32]) -> Option<Vec<Run<'_>>> {
+/// The runs of an observed list, in order; a damaged list ends with a `None`.
+fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
     fn take<'a>(rest: &mut &'a [u32]) -> Option<&'a [u32]> {
         let (&n, tail) = rest.split_first()?;
         let list = tail.get(..n as usize)?;
         *rest = &tail[n as usize..];
         Some(list)
     }
-    let mut out = Vec::new();
-    let mut rest = observed;
-    while let Some((&package, tail)) = rest.split_first() {
-        rest = tail;
-        let admissible = take(&mut rest)?;
-        let refused = take(&mut rest)?;
-        let fetched = take(&mut rest)?;
-        let covered = take(&mut rest)?;
-        let fit = take(&mut rest)?;
-        let unfit = take(&mut rest)?;
-        out.push(Run {
+    fn next<'a>(package: u32, rest: &mut &'a [u32]) -> Option<Run<'a>> {
+        Some(Run {
             package,
-            admissible,
-            refused,
-            fetched,
-            covered,
-            fit,
-            unfit,
-        });
+            admissible: take(rest)?,
+            refused: take(rest)?,
+            fetched: take(rest)?,
+            covered: take(rest)?,
+            fit: take(rest)?,
+            unfit: take(rest)?,
+        })
     }
-    Some(out)
+    let mut rest = observed;
+    let mut damaged = false;
+    std::iter::from_fn(move || {
+        if damaged {
+            return None;
+        }
+        let (&package, tail) = rest.split_first()?;
+        rest = tail;
+        let run = next(package, &mut rest);
+        damaged = run.is_none();
+        Some(run)
+    })
 }
 
 /// An image's solver context, built only when some cell needs it: a re-plan that finds
@@ -475,30 +478,29 @@ fn recheck(
             && basis.open_ended.is_empty();
         return still_absent.then(Vec::new);
     }
-    let runs = runs(&basis.observed)?;
-    // Packages with releases published since, and how many releases they had.
-    let mut extended: Vec<(PackageId, usize, u32, &Run<'_>)> = Vec::new();
-    let answered_alike = runs.iter().all(|run| {
+    // Packages with releases published since, how many releases they had, and their runs.
+    let mut extended: Vec<(PackageId, usize, Run<'_>)> = Vec::new();
+    for run in runs(&basis.observed) {
+        let run = run?;
+        // Nothing of an unchanged package is read, so its lists need no checking.
+        if unchanged(run.package) {
+            continue;
+        }
         let k = run.package as usize;
-        let Some(id) = standing.get(k).and_then(Standing::id) else {
-            return false;
-        };
+        let id = standing.get(k).and_then(Standing::id)?;
         let count = old[k].releases.len();
         let lists = [run.admissible, run.refused, run.fetched, run.fit, run.unfit];
         if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
             || run.covered.len() % 2 != 0
             || run.covered.iter().any(|&i| i as usize > count)
         {
-            return false;
-        }
-        if unchanged(run.package) {
-            return true;
+            return None;
         }
         if matches!(standing[k], Standing::Extended(_)) {
             if basis.open_ended.contains(&run.package) {
-                return false;
+                return None;
             }
-            extended.push((id, count, run.package, run));
+            extended.push((id, count, run));
         }
         let view = view.get();
         let admissions = view.admissions(id);
@@ -506,17 +508,20 @@ fn recheck(
         let fits = |i: &u32| view.fits(id, *i);
         let now = &prints.of(id).releases;
         let before = &old[k].releases;
-        run.admissible.iter().all(is_admissible)
+        let answered_alike = run.admissible.iter().all(is_admissible)
             && !run.refused.iter().any(is_admissible)
             && run.fit.iter().all(fits)
             && !run.unfit.iter().any(fits)
             && run
                 .fetched
                 .iter()
-                .all(|&i| before.get(i as usize) == Some(&now[i as usize]))
-    });
-    if !answered_alike {
-        return None;
+                .all(|&i| before.get(i as usize) == Some(&now[i as usize]));
+        if !answered_alike {
+            return None;
+        }
+    }
+    if extended.is_empty() {
+        return Some(Vec::new());
     }
     // Every range the solver saw of a package lies within the requirement sets it was given
     // on it: the entry's, or those of the dependencies of releases whose dependencies it
@@ -528,9 +533,9 @@ fn recheck(
     // points that was already there, and every set the solver builds is empty, contained in
     // another or disjoint from it exactly as before. It lies in a range the solver asks about
     // exactly where the old release's stretch did; where it never does, no answer changes,
-    // and where it does, it must be refused here, so that the newest admissible release and
-    // the candidate counts up to it are unchanged. A cold solve records such a release as
-    // refused and covered, so the reused basis does too.
+    // and where it does, it must not suit the image, so that the newest admissible release
+    // and the candidate counts up to the newest suiting one are unchanged. A cold solve
+    // records such a release as covered and not suiting, so the reused basis does too.
     let mut given: Vec<Vec<IndexSet>> = vec![Vec::new(); extended.len()];
     let mut note = |id: PackageId, set: IndexSet| {
         if let Some(k) = extended.iter().position(|e| e.0 == id)
@@ -546,16 +551,21 @@ fn recheck(
         let req = entry.req.as_ref().unwrap_or(&any);
         note(id, root_set(registry, id, req, entry.prerelease));
     }
-    for run in &runs {
-        let dependent = standing[run.package as usize].id()?;
+    for run in runs(&basis.observed) {
+        let run = run?;
+        let dependent = standing.get(run.package as usize)?.id()?;
+        let releases = registry.package(dependent).releases.len();
         for &i in run.fetched {
+            if i as usize >= releases {
+                return None;
+            }
             for (id, set) in view.get().dependency_sets(dependent, i) {
                 note(id, set);
             }
         }
     }
     let mut additions = Vec::new();
-    for (&(id, count, slot, run), sets) in extended.iter().zip(&given) {
+    for (&(id, count, run), sets) in extended.iter().zip(&given) {
         let admissions = view.get().admissions(id);
         let mut unfit = Vec::new();
         for new in count as u32..admissions.len() as u32 {
@@ -578,7 +588,7 @@ fn recheck(
             }
         }
         if !unfit.is_empty() {
-            additions.push((slot, unfit));
+            additions.push((run.package, unfit));
         }
     }
     Some(additions)
@@ -771,10 +781,8 @@ pub fn replan(
                 }
                 Source::Reused(k, _) => {
                     let basis = &old_bases[*k];
-                    let listed = runs(&basis.observed).unwrap_or_default();
-                    listed
-                        .iter()
-                        .map(|r| r.package)
+                    runs(&basis.observed)
+                        .map_while(|r| r.map(|r| r.package))
                         .chain(basis.unchanged.iter().copied())
                         .chain(basis.open_ended.iter().copied())
                         .filter_map(|p| standing[p as usize].id())
@@ -796,6 +804,8 @@ pub fn replan(
         .iter()
         .map(|s| s.id().map_or(u32::MAX, slot))
         .collect();
+    let same_table =
+        renumber.len() == ids.len() && renumber.iter().enumerate().all(|(k, &r)| r == k as u32);
     let packages: Vec<CachedPackage> = ids
         .par_iter()
         .map(|&id| {
@@ -813,6 +823,10 @@ pub fn replan(
         .par_iter()
         .map(|(source, entry, image)| match source {
             Source::Solved(cell) => CellBasis::of_solve(*entry, *image, &cell.observed, &slot),
+            // Usually the table is the same and nothing was published: a plain copy.
+            Source::Reused(k, additions) if same_table && additions.is_empty() => {
+                old_bases[*k].clone()
+            }
             Source::Reused(k, additions) => old_bases[*k].renumbered(&renumber, additions),
         })
         .collect();
