@@ -5,7 +5,8 @@
 //! same way. pubgrub is deterministic: given the same answers it asks the same questions and
 //! reaches the same result. So each cell keeps what its solve observed ([`Observed`]): for
 //! every consulted package, which releases were admissible or refused where that decided a
-//! choice, and which releases' dependencies were read. A re-plan rechecks exactly those. A
+//! choice, which suited the image where that decided a priority, which releases' dependencies
+//! were read, and where the ranges it asked about lay. A re-plan rechecks exactly those. A
 //! yank, a new runtime requirement or a changed dependency list of a release the solve never
 //! weighed leaves the cell valid. What the cell's output reads of a package besides (its
 //! versions, summary and flags, the native hints of picked releases) is fingerprinted, and a
@@ -13,8 +14,9 @@
 //! picked, keeps the packages it names valid only while they are unchanged as a whole. A
 //! package that only gained releases newer than all it had leaves a cell valid while each new
 //! release is either admitted by no requirement the solve used on it, or admitted by exactly
-//! the same of those requirements as some older release and either refused on the image or
-//! outside every range the solver asked about (see [`recheck`] for why that is exact).
+//! the same of those requirements as some older release and either does not suit the image
+//! or lies outside every range the solver asked about (see `recheck` for why that is
+//! exact).
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -265,10 +267,10 @@ impl CellBasis {
         }
     }
 
-    /// The same basis over a new package table, with `additions` among the refused
-    /// releases; `renumber` maps old table indices to new ones (order-preserving, both tables
-    /// being in name order). Only for bases that passed [`recheck`], whose lists are well
-    /// formed.
+    /// The same basis over a new package table, with `additions` among the covered and not
+    /// suiting releases; `renumber` maps old table indices to new ones (order-preserving, both
+    /// tables being in name order). Only for bases that passed [`recheck`], whose lists are
+    /// well formed.
     fn renumbered(&self, renumber: &[u32], additions: &Additions) -> Self {
         let mut observed = Vec::with_capacity(
             self.observed.len() + additions.iter().map(|a| a.1.len()).sum::<usize>(),
