@@ -430,3 +430,36 @@ fn an_admissible_release_inside_a_requirement_but_outside_every_range_asked_keep
         "mid now picks lib 1.6.0"
     );
 }
+
+#[test]
+fn a_yanked_release_that_stops_suiting_the_image_is_recorded_as_a_cold_solve_would() {
+    // app needs lib `*`. lib 3.0.0 and 2.0.0 are yanked but suit the image, so picking a
+    // version records them as refused; 1.0.0 is picked. Then lib 2.0.0, still yanked, gains a
+    // runtime requirement the image does not meet: a cold solve records it as not suiting
+    // instead, so the cell is solved again and the warm cache equals the cold one.
+    let registry = |two: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '*'}}]}}
+- name: lib
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0, yanked: true{two}}}
+  - {{version: 3.0.0, yanked: true}}
+"
+        )
+    };
+    let options = PlanOptions::default();
+    let before = small_inputs(&registry(""), &["app"]);
+    let (cache, _) = replan(&before, &options, None, None);
+    let after = small_inputs(&registry(", runtime: '>=4'"), &["app"]);
+    let (warm, _) = replan(&after, &options, Some(cache), None);
+    let (cold, _) = replan(&after, &options, None, None);
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+    assert!(
+        serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
+        "warm cache differs from cold"
+    );
+}

@@ -183,30 +183,23 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
     }
 }
 
-/// Makes a release some cell saw admissible refused everywhere, or one it saw refused
-/// admissible everywhere: the edits a re-plan must notice through admissions alone.
+/// Makes a release some cell saw admissible refused everywhere, one it saw refused admissible
+/// everywhere, or one it saw refused for a yank also unsuitable for its runtime: the edits a
+/// re-plan must notice through what it observed of single releases.
 fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
     // Runs of the flat list: package, then counted admissible, refused, fetched, covered,
     // suiting and not suiting lists.
-    let mut seen: Vec<(&str, u32, bool)> = Vec::new();
+    let mut seen: Vec<(&str, u32, usize)> = Vec::new();
     for basis in &cache.bases {
         let o = &basis.observed;
         let mut at = 0;
         while at < o.len() {
             let name = cache.packages[o[at] as usize].name.as_str();
             at += 1;
-            let lists = [
-                (0, true),
-                (1, false),
-                (2, false),
-                (3, false),
-                (4, false),
-                (5, false),
-            ];
-            for (list, admissible) in lists {
+            for list in 0..6 {
                 let n = o[at] as usize;
                 if list < 2 || list == 5 {
-                    seen.extend(o[at + 1..at + 1 + n].iter().map(|&i| (name, i, admissible)));
+                    seen.extend(o[at + 1..at + 1 + n].iter().map(|&i| (name, i, list)));
                 }
                 at += 1 + n;
             }
@@ -215,14 +208,19 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
     if seen.is_empty() {
         return "nothing observed";
     }
-    let (name, index, admissible) = seen[rng.below(seen.len())];
+    let (name, index, list) = seen[rng.below(seen.len())];
     let registry = &mut inputs.registry;
     let any = registry.intern_requirement("*").unwrap();
+    let never = registry.intern_requirement(">=99").unwrap();
     let id = registry.id(name).unwrap();
     let r = &mut registry.package_mut(id).releases[index as usize];
-    if admissible {
+    if list == 0 {
         r.yanked = true;
         "an admissible release yanked"
+    } else if list == 1 && rng.below(2) == 0 {
+        // Refused for its yank flag, and from now on also for its runtime requirement.
+        r.runtime = Some(never);
+        "a refused release made unsuitable too"
     } else {
         r.yanked = false;
         r.runtime = Some(any);

@@ -512,6 +512,7 @@ fn recheck(
         let before = &old[k].releases;
         let answered_alike = run.admissible.iter().all(is_admissible)
             && !run.refused.iter().any(is_admissible)
+            && run.refused.iter().all(fits)
             && run.fit.iter().all(fits)
             && !run.unfit.iter().any(fits)
             && run
