@@ -2,7 +2,7 @@
 //! bytes of a single run.
 
 use basefit::load::{InputPaths, Inputs, load_inputs};
-use basefit::plan::replan::{Shard, merge_shards, replan};
+use basefit::plan::replan::{PlanCache, ReplanStats, Shard, merge_shards, replan};
 use basefit::plan::{Matrix, PlanOptions, plan};
 use basefit::report::{to_json, to_yaml};
 
@@ -136,13 +136,28 @@ fn replan_after_lib_versions(lib_versions: &[&str]) -> (String, String, usize) {
         }
         text
     };
-    let options = PlanOptions::default();
-    let before = small_inputs(&registry_text(&["1.0.0", "2.0.0"]), &["app"]);
-    let (cache, _) = replan(&before, &options, None, None);
-    let after = small_inputs(&registry_text(lib_versions), &["app"]);
-    let (warm, stats) = replan(&after, &options, Some(cache), None);
-    let cold = plan(&after, &options);
-    (to_json(&warm.matrix), to_json(&cold), stats.solved)
+    let (warm, stats, cold) = warm_and_cold(
+        &registry_text(&["1.0.0", "2.0.0"]),
+        &registry_text(lib_versions),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    (to_json(&warm.matrix), to_json(&cold.matrix), stats.solved)
+}
+
+/// Plans the registry `before` cold, then re-plans the registry `after` warm from its cache
+/// and cold; returns the warm cache, its reuse counts and the cold cache.
+fn warm_and_cold(
+    before: &str,
+    after: &str,
+    names: &[&str],
+    options: &PlanOptions,
+) -> (PlanCache, ReplanStats, PlanCache) {
+    let (cache, _) = replan(&small_inputs(before, names), options, None, None);
+    let after = small_inputs(after, names);
+    let (warm, stats) = replan(&after, options, Some(cache), None);
+    let (cold, _) = replan(&after, options, None, None);
+    (warm, stats, cold)
 }
 
 #[test]
@@ -416,12 +431,13 @@ fn an_admissible_release_inside_a_requirement_but_outside_every_range_asked_keep
 {extra}"
         )
     };
-    let options = PlanOptions::default();
-    let before = small_inputs(&registry(""), &["app", "mid"]);
-    let (cache, _) = replan(&before, &options, None, None);
-    let after = small_inputs(&registry("  - {version: 1.6.0}\n"), &["app", "mid"]);
-    let (warm, stats) = replan(&after, &options, Some(cache), None);
-    let cold = plan(&after, &options);
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(""),
+        &registry("  - {version: 1.6.0}\n"),
+        &["app", "mid"],
+        &PlanOptions::default(),
+    );
+    let cold = cold.matrix;
     assert!(to_json(&warm.matrix) == to_json(&cold));
     // app's cell is reused; mid's, whose range `^1` now holds 1.6.0, is solved again.
     assert_eq!((stats.reused, stats.solved), (1, 1));
@@ -451,12 +467,12 @@ fn a_yanked_release_that_stops_suiting_the_image_is_recorded_as_a_cold_solve_wou
 "
         )
     };
-    let options = PlanOptions::default();
-    let before = small_inputs(&registry(""), &["app"]);
-    let (cache, _) = replan(&before, &options, None, None);
-    let after = small_inputs(&registry(", runtime: '>=4'"), &["app"]);
-    let (warm, _) = replan(&after, &options, Some(cache), None);
-    let (cold, _) = replan(&after, &options, None, None);
+    let (warm, _, cold) = warm_and_cold(
+        &registry(""),
+        &registry(", runtime: '>=4'"),
+        &["app"],
+        &PlanOptions::default(),
+    );
     assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
     assert!(
         serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
