@@ -1,7 +1,8 @@
 //! Checking predictions against recorded install results.
 //!
-//! [`logs`] reads the install log of a failed record and names why it failed; [`compare`]
-//! sets each recorded cell against its prediction; [`diff`] compares two matrices.
+//! [`logs`] reads the install log of a failed record and names why it failed;
+//! [`compare`](mod@compare) sets each recorded cell against its prediction; [`diff`] compares
+//! two matrices.
 
 pub mod compare;
 pub mod diff;
