@@ -479,3 +479,112 @@ fn a_yanked_release_that_stops_suiting_the_image_is_recorded_as_a_cold_solve_wou
         "warm cache differs from cold"
     );
 }
+
+#[test]
+fn a_suiting_release_published_where_the_solver_never_picked_keeps_the_cell() {
+    // app 2.0.0 needs alpha `^1` and beta, whose one release needs a newer runtime than the
+    // image's: beta has no candidates, so it is decided first, fails, and the solver falls
+    // back to app 1.0.0, which needs nothing. alpha was prioritized on `^1` but never picked
+    // from. alpha 1.1.0 suits the image and lies in `^1` (Semantic Versioning 2.0.0 caret rule
+    // as the semver crate implements it): it only raises a count that decided nothing, so
+    // the cell is reused, and its cache reads exactly as a cold plan's.
+    let registry = |extra: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0, depends: [{{name: alpha, req: '^1'}}, {{name: beta, req: '*'}}]}}
+- name: alpha
+  versions:
+  - {{version: 1.0.0}}
+{extra}- name: beta
+  versions:
+  - {{version: 1.0.0, runtime: '>=4'}}
+"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(""),
+        &registry("  - {version: 1.1.0}\n"),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    assert_eq!((stats.reused, stats.solved), (1, 0));
+    assert!(to_json(&cold.matrix).contains("\"root_version\": \"1.0.0\""));
+    assert!(
+        serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
+        "warm cache differs from cold"
+    );
+}
+
+/// app needs lib `<2` and other `*`. lib 1.0.0 needs other `^1`, lib 0.9.0 needs other `^2`;
+/// `lib_tail` follows them.
+fn order_sensitive(lib_tail: &str) -> String {
+    format!(
+        "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '<2'}}, {{name: other, req: '*'}}]}}
+- name: lib
+  versions:
+  - {{version: 0.9.0, depends: [{{name: other, req: '^2'}}]}}
+  - {{version: 1.0.0, depends: [{{name: other, req: '^1'}}]}}
+{lib_tail}- name: other
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0}}
+  - {{version: 2.1.0}}
+"
+    )
+}
+
+#[test]
+fn a_higher_candidate_ceiling_in_a_range_picked_from_is_solved_again() {
+    // lib's candidates in `<2` are its releases there up to the newest one suiting the
+    // image. Before, they are 0.9.0 and 1.0.0, fewer than other's three: lib is decided
+    // first, at 1.0.0, and other follows at 1.0.0. Once a newer lib release suits the image,
+    // the releases in `<2` that need a newer runtime count too: four candidates, so other is
+    // decided first, at 2.1.0, and lib falls back to 0.9.0. No release the solver picked or
+    // passed over changed its answer; only the count did, so the cell must be solved again.
+    let unsuited = |v: &str| format!("  - {{version: {v}, runtime: '>=4'}}\n");
+    let old_pair = unsuited("1.5.0") + &unsuited("1.6.0");
+    for (before, after, what) in [
+        (
+            old_pair.clone() + &unsuited("2.0.0"),
+            old_pair.clone() + "  - {version: 2.0.0}\n",
+            "lib 2.0.0 now suits the image",
+        ),
+        (
+            old_pair.clone() + &unsuited("2.0.0"),
+            old_pair.clone() + &unsuited("2.0.0") + "  - {version: 2.1.0}\n",
+            "lib 2.1.0 published",
+        ),
+        (
+            String::new(),
+            unsuited("1.7.0") + &unsuited("1.8.0") + "  - {version: 2.0.0}\n",
+            "lib 1.7.0, 1.8.0 and 2.0.0 published",
+        ),
+    ] {
+        let (before, after) = (order_sensitive(&before), order_sensitive(&after));
+        let (cache, _) = replan(
+            &small_inputs(&before, &["app"]),
+            &PlanOptions::default(),
+            None,
+            None,
+        );
+        let first = to_json(&cache.matrix);
+        assert!(
+            !first.contains("\"0.9.0\"") && !first.contains("\"2.1.0\""),
+            "{what}: lib is decided first before the change: {first}"
+        );
+        let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+        let cold_json = to_json(&cold.matrix);
+        assert!(
+            cold_json.contains("\"0.9.0\"") && cold_json.contains("\"2.1.0\""),
+            "{what}: the order of decisions must change the answer: {cold_json}"
+        );
+        assert_eq!(stats.solved, 1, "{what}");
+        assert!(to_json(&warm.matrix) == cold_json, "{what}");
+    }
+}

@@ -184,11 +184,12 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
 }
 
 /// Makes a release some cell saw admissible refused everywhere, one it saw refused admissible
-/// everywhere, or one it saw refused for a yank also unsuitable for its runtime: the edits a
-/// re-plan must notice through what it observed of single releases.
+/// everywhere, one it saw refused for a yank also unsuitable for its runtime, or the newest
+/// release that suits an image unsuitable: the edits a re-plan must notice through what it
+/// observed of single releases.
 fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
     // Runs of the flat list: package, then counted admissible, refused, fetched, covered,
-    // suiting and not suiting lists.
+    // unsuitable and ceiling lists.
     let mut seen: Vec<(&str, u32, usize)> = Vec::new();
     for basis in &cache.bases {
         let o = &basis.observed;
@@ -198,8 +199,12 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
             at += 1;
             for list in 0..6 {
                 let n = o[at] as usize;
-                if list < 2 || list == 5 {
-                    seen.extend(o[at + 1..at + 1 + n].iter().map(|&i| (name, i, list)));
+                let listed = o[at + 1..at + 1 + n].iter();
+                match list {
+                    0 | 1 | 4 => seen.extend(listed.map(|&i| (name, i, list))),
+                    // The newest suiting release sits just below the ceiling.
+                    5 => seen.extend(listed.filter(|&&c| c > 0).map(|&c| (name, c - 1, list))),
+                    _ => {}
                 }
                 at += 1 + n;
             }
@@ -217,6 +222,9 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
     if list == 0 {
         r.yanked = true;
         "an admissible release yanked"
+    } else if list == 5 {
+        r.runtime = Some(never);
+        "the newest suiting release made unsuitable"
     } else if list == 1 && rng.below(2) == 0 {
         // Refused for its yank flag, and from now on also for its runtime requirement.
         r.runtime = Some(never);
@@ -225,7 +233,7 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
         r.yanked = false;
         r.runtime = Some(any);
         r.build.source = true;
-        "a refused release made admissible"
+        "a refused or unsuitable release made admissible"
     }
 }
 

@@ -5,18 +5,24 @@
 //! same way. pubgrub is deterministic: given the same answers it asks the same questions and
 //! reaches the same result. So each cell keeps what its solve observed ([`Observed`]): for
 //! every consulted package, which releases were admissible or refused where that decided a
-//! choice, which suited the image where that decided a priority, which releases' dependencies
-//! were read, and where the ranges it asked about lay. A re-plan rechecks exactly those. A
-//! yank, a new runtime requirement or a changed dependency list of a release the solve never
-//! weighed leaves the cell valid. What the cell's output reads of a package besides (its
-//! versions, summary and flags, the native hints of picked releases) is fingerprinted, and a
-//! failure's explanation, which reads refusal reasons and the requirements of releases never
-//! picked, keeps the packages it names valid only while they are unchanged as a whole. A
-//! package that only gained releases newer than all it had leaves a cell valid while each new
-//! release is either admitted by no requirement the solve used on it, or admitted by exactly
-//! the same of those requirements as some older release and either does not suit the image
-//! or lies outside every range the solver asked about (see `recheck` for why that is
-//! exact).
+//! choice, which were passed over for not suiting the image, which releases' dependencies
+//! were read, where the ranges it picked from lay, and the package's candidate ceiling (the
+//! releases up to the newest one that suits the image count as candidates for priorities).
+//! A re-plan rechecks exactly those. A yank, a new runtime requirement or a changed
+//! dependency list of a release the solve never weighed leaves the cell valid. What the
+//! cell's output reads of a package besides (its versions, summary and flags, the native
+//! hints of picked releases) is fingerprinted, and a failure's explanation, which reads
+//! refusal reasons and the requirements of releases never picked, keeps the packages it
+//! names valid only while they are unchanged as a whole.
+//!
+//! Candidate counts may rise where the solver never picked from a range: pubgrub decides the
+//! package of highest priority, so lowering the priority of one it did not decide at a step
+//! changes no decision. So a ceiling may rise while no range picked from holds a release
+//! between the old and new ceiling, and a package that only gained releases newer than all
+//! it had leaves a cell valid while each new release is either admitted by no requirement
+//! the solve used on it, or admitted by exactly the same of those requirements as some older
+//! release and either lies outside every range picked from or past the ceiling (see
+//! `recheck` for why that is exact).
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -36,7 +42,7 @@ use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 6;
+pub const CACHE_FORMAT: u32 = 7;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -237,9 +243,9 @@ pub struct CellBasis {
     /// index in [`PlanCache::packages`], then six counted lists of release indices: those
     /// that were admissible and must still be, those refused that must still be, those whose
     /// dependencies were read and must be unchanged, `from, to` pairs of the releases whose
-    /// stretch lay in a range asked about ([`Observed::covered`]), and those that suited the
-    /// image's runtime and platform and must still, and those that did not and still must not
-    /// ([`Observed::fits`]). Flat, because a
+    /// stretch lay in a range picked from ([`Observed::covered`]), those passed over for not
+    /// suiting the image that still must not, and the package's candidate ceiling when it was
+    /// prioritized (none or one value, [`Observed::ceilings`]). Flat, because a
     /// registry-sized plan has millions of these and a re-plan copies them all.
     pub observed: Vec<u32>,
     /// Packages (table indices) that must be unchanged as a whole.
@@ -267,38 +273,38 @@ impl CellBasis {
         }
     }
 
-    /// The same basis over a new package table, with `additions` among the covered and not
-    /// suiting releases; `renumber` maps old table indices to new ones (order-preserving, both
-    /// tables being in name order). Only for bases that passed [`recheck`], whose lists are
-    /// well formed.
-    fn renumbered(&self, renumber: &[u32], additions: &Additions) -> Self {
-        let mut observed = Vec::with_capacity(
-            self.observed.len() + additions.iter().map(|a| a.1.len()).sum::<usize>(),
-        );
+    /// The same basis over a new package table, with `updates` applied; `renumber` maps old
+    /// table indices to new ones (order-preserving, both tables being in name order). Only for
+    /// bases that passed [`recheck`], whose lists are well formed.
+    fn renumbered(&self, renumber: &[u32], updates: &Updates) -> Self {
+        let added: usize = updates.iter().map(|u| 2 * u.unfit.len()).sum();
+        let mut observed = Vec::with_capacity(self.observed.len() + added);
         let mut rest = &self.observed[..];
         while let Some((&package, tail)) = rest.split_first() {
             observed.push(renumber[package as usize]);
             rest = tail;
-            let added = additions
-                .iter()
-                .find(|a| a.0 == package)
-                .map_or(&[][..], |a| &a.1[..]);
+            let update = updates.iter().find(|u| u.package == package);
             for list in 0..6 {
                 let n = rest[0] as usize;
                 let count_at = observed.len();
                 observed.extend_from_slice(&rest[..=n]);
                 rest = &rest[1 + n..];
-                // Added releases were published after all the old ones, so they go last, and
-                // a stretch run reaching the old end continues through them.
-                for &new in added {
-                    match list {
-                        5 => observed.push(new),
-                        3 if observed.len() > count_at + 1 && observed.last() == Some(&new) => {
-                            *observed.last_mut().unwrap_or(&mut 0) += 1
+                let Some(update) = update else { continue };
+                match list {
+                    // Added releases were published after all the old ones, so they go last,
+                    // and a stretch run reaching the old end continues through them.
+                    3 => {
+                        for &new in &update.unfit {
+                            if observed.len() > count_at + 1 && observed.last() == Some(&new) {
+                                *observed.last_mut().unwrap_or(&mut 0) += 1;
+                            } else {
+                                observed.extend([new, new + 1]);
+                            }
                         }
-                        3 => observed.extend([new, new + 1]),
-                        _ => {}
                     }
+                    4 => observed.extend_from_slice(&update.unfit),
+                    5 if n == 1 => observed[count_at + 1] = update.ceiling,
+                    _ => {}
                 }
                 observed[count_at] = (observed.len() - count_at - 1) as u32;
             }
@@ -388,13 +394,13 @@ struct Run<'a> {
     fetched: &'a [u32],
     /// Pairs `from, to`: see [`Observed::covered`].
     covered: &'a [u32],
-    /// Releases seen to suit the image, yank flag aside, and seen not to.
-    fit: &'a [u32],
     unfit: &'a [u32],
+    /// The candidate ceiling, when the package was prioritized: none or one value.
+    ceiling: &'a [u32],
 }
 
 impl Run<'_> {
-    /// Whether release `index`'s stretch lay in a range the solver asked about.
+    /// Whether release `index`'s stretch lay in a range picked from.
     fn covers(&self, index: u32) -> bool {
         self.covered
             .chunks_exact(2)
@@ -417,8 +423,8 @@ fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
             refused: take(rest)?,
             fetched: take(rest)?,
             covered: take(rest)?,
-            fit: take(rest)?,
             unfit: take(rest)?,
+            ceiling: take(rest)?,
         })
     }
     let mut rest = observed;
@@ -451,15 +457,28 @@ impl<'r> LazyView<'r> {
     }
 }
 
-/// Releases published since a cached solve that its reused basis must record as covered and
-/// not suiting the image:
-/// `(old table index, release indices)`.
-type Additions = Vec<(u32, Vec<u32>)>;
+/// What a reused basis gains for one package (by old table index) so that it reads exactly as
+/// a cold solve's would: releases published since that a pick would pass over for not suiting
+/// the image, and the package's candidate ceiling now.
+struct Update {
+    package: u32,
+    unfit: Vec<u32>,
+    ceiling: u32,
+}
+
+type Updates = Vec<Update>;
 
 /// Whether the current registry would answer the cached cell's solve, and read its
 /// explanation, exactly as before; if so, what its basis gains. A cell that observed nothing
 /// was asked for a name the registry lacked, and holds while the name is still absent. A
 /// damaged cache makes cells invalid, never a panic.
+///
+/// Candidate counts may rise where the solver never picked: pubgrub 0.4 decides the package of
+/// highest priority, ties broken by a fixed order of packages, so lowering the priority of a
+/// package it did not decide at some step leaves that step's decision as it was (a package's
+/// priority is computed afresh whenever its range changes, so the priority it is decided at is
+/// that of the range it is decided in). In ranges it picked from, counts must stay as they
+/// were.
 fn recheck(
     basis: &CellBasis,
     entry: &Priority,
@@ -467,7 +486,7 @@ fn recheck(
     standing: &[Standing],
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
-) -> Option<Additions> {
+) -> Option<Updates> {
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
     let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
@@ -480,6 +499,7 @@ fn recheck(
             && basis.open_ended.is_empty();
         return still_absent.then(Vec::new);
     }
+    let mut updates = Vec::new();
     // Packages with releases published since, how many releases they had, and their runs.
     let mut extended: Vec<(PackageId, usize, Run<'_>)> = Vec::new();
     for run in runs(&basis.observed) {
@@ -491,18 +511,14 @@ fn recheck(
         let k = run.package as usize;
         let id = standing.get(k).and_then(Standing::id)?;
         let count = old[k].releases.len();
-        let lists = [run.admissible, run.refused, run.fetched, run.fit, run.unfit];
+        let lists = [run.admissible, run.refused, run.fetched, run.unfit];
         if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
             || run.covered.len() % 2 != 0
             || run.covered.iter().any(|&i| i as usize > count)
+            || run.ceiling.len() > 1
+            || run.ceiling.iter().any(|&c| c as usize > count)
         {
             return None;
-        }
-        if matches!(standing[k], Standing::Extended(_)) {
-            if basis.open_ended.contains(&run.package) {
-                return None;
-            }
-            extended.push((id, count, run));
         }
         let view = view.get();
         let admissions = view.admissions(id);
@@ -513,7 +529,6 @@ fn recheck(
         let answered_alike = run.admissible.iter().all(is_admissible)
             && !run.refused.iter().any(is_admissible)
             && run.refused.iter().all(fits)
-            && run.fit.iter().all(fits)
             && !run.unfit.iter().any(fits)
             && run
                 .fetched
@@ -522,9 +537,31 @@ fn recheck(
         if !answered_alike {
             return None;
         }
+        // A lower ceiling lowers counts; a higher one raises them, which matters only in a
+        // range picked from: every release of such a range above the old ceiling was passed
+        // over, so it is among `unfit`.
+        let ceiling = view.ceiling(id);
+        if let Some(&was) = run.ceiling.first() {
+            if ceiling < was || run.unfit.iter().any(|&i| was <= i && i < ceiling) {
+                return None;
+            }
+            if ceiling != was {
+                updates.push(Update {
+                    package: run.package,
+                    unfit: Vec::new(),
+                    ceiling,
+                });
+            }
+        }
+        if matches!(standing[k], Standing::Extended(_)) {
+            if basis.open_ended.contains(&run.package) {
+                return None;
+            }
+            extended.push((id, count, run));
+        }
     }
     if extended.is_empty() {
-        return Some(Vec::new());
+        return Some(updates);
     }
     // Every range the solver saw of a package lies within the requirement sets it was given
     // on it: the entry's, or those of the dependencies of releases whose dependencies it
@@ -534,11 +571,12 @@ fn recheck(
     // stretch past the last release, which no set admits either. One inside some of them
     // needs an old release that lies in exactly the same sets: then it only joins a group of
     // points that was already there, and every set the solver builds is empty, contained in
-    // another or disjoint from it exactly as before. It lies in a range the solver asks about
-    // exactly where the old release's stretch did; where it never does, no answer changes,
-    // and where it does, it must not suit the image, so that the newest admissible release
-    // and the candidate counts up to the newest suiting one are unchanged. A cold solve
-    // records such a release as covered and not suiting, so the reused basis does too.
+    // another or disjoint from it exactly as before. It lies in a range the solver picks from
+    // exactly where the old release's stretch did. Where it never does, it can only raise
+    // candidate counts of ranges never picked from, which changes no decision. Where it
+    // does, it must not suit the image and must lie past the candidate ceiling, so that the
+    // newest admissible release and the count are unchanged; a cold solve then records it as
+    // passed over, and so does the reused basis.
     let mut given: Vec<Vec<IndexSet>> = vec![Vec::new(); extended.len()];
     let mut note = |id: PackageId, set: IndexSet| {
         if let Some(k) = extended.iter().position(|e| e.0 == id)
@@ -567,11 +605,11 @@ fn recheck(
             }
         }
     }
-    let mut additions = Vec::new();
     for (&(id, count, run), sets) in extended.iter().zip(&given) {
-        let admissions = view.get().admissions(id);
+        let view = view.get();
+        let ceiling = view.ceiling(id);
         let mut unfit = Vec::new();
-        for new in count as u32..admissions.len() as u32 {
+        for new in count as u32..view.admissions(id).len() as u32 {
             let within: Vec<bool> = sets.iter().map(|s| s.contains(&new)).collect();
             if !within.contains(&true) {
                 continue;
@@ -579,22 +617,27 @@ fn recheck(
             let mate = (0..count as u32)
                 .rev()
                 .find(|j| sets.iter().zip(&within).all(|(s, w)| s.contains(j) == *w))?;
-            // A cold solve would ask about the new release exactly where it asked about the
-            // older one's stretch. One that suits the image and is asked about could be
-            // picked or counts as a candidate; one never asked about changes no answer. One
-            // that does not suit changes none either way, and is recorded as not suiting
-            // where asked about.
-            match (run.covers(mate), view.get().fits(id, new)) {
-                (true, true) => return None,
-                (true, false) => unfit.push(new),
-                (false, _) => {}
+            // A release below the ceiling counts as a candidate; one that suits the image
+            // is always below it.
+            if run.covers(mate) {
+                if new < ceiling {
+                    return None;
+                }
+                unfit.push(new);
             }
         }
         if !unfit.is_empty() {
-            additions.push((run.package, unfit));
+            match updates.iter_mut().find(|u| u.package == run.package) {
+                Some(update) => update.unfit = unfit,
+                None => updates.push(Update {
+                    package: run.package,
+                    unfit,
+                    ceiling,
+                }),
+            }
         }
     }
-    Some(additions)
+    Some(updates)
 }
 
 /// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
@@ -612,7 +655,12 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
         let covered = entries_of(&observed.covered, id, |c| c.0);
         out.push(2 * covered.len() as u32);
         out.extend(covered.iter().flat_map(|c| [c.1, c.2]));
-        push_by_flag(&mut out, entries_of(&observed.fits, id, |f| f.0));
+        let unfit = entries_of(&observed.unfit, id, |u| u.0);
+        out.push(unfit.len() as u32);
+        out.extend(unfit.iter().map(|u| u.1));
+        let ceiling = entries_of(&observed.ceilings, id, |c| c.0);
+        out.push(ceiling.len() as u32);
+        out.extend(ceiling.iter().map(|c| c.1));
     }
     out
 }
@@ -673,7 +721,7 @@ impl Shard {
 /// Where a cell of a re-plan comes from.
 enum Source {
     /// Cell `k` of the previous plan, still valid, and what its basis gains.
-    Reused(usize, Additions),
+    Reused(usize, Updates),
     Solved(Box<Cell>),
 }
 
@@ -742,7 +790,7 @@ pub fn replan(
             if let Some(&k) = old.get(&(entry.name.as_str(), image.id.as_str()))
                 && old_bases[k].entry == entry_key
                 && old_bases[k].image == image_key
-                && let Some(additions) = recheck(
+                && let Some(updates) = recheck(
                     &old_bases[k],
                     entry,
                     &old_packages,
@@ -751,7 +799,7 @@ pub fn replan(
                     &prints,
                 )
             {
-                return (Source::Reused(k, additions), entry_key, image_key);
+                return (Source::Reused(k, updates), entry_key, image_key);
             }
             let cell = plan_cell(inputs, views[col].get(), entry, options);
             (Source::Solved(Box::new(cell)), entry_key, image_key)
@@ -827,10 +875,8 @@ pub fn replan(
         .map(|(source, entry, image)| match source {
             Source::Solved(cell) => CellBasis::of_solve(*entry, *image, &cell.observed, &slot),
             // Usually the table is the same and nothing was published: a plain copy.
-            Source::Reused(k, additions) if same_table && additions.is_empty() => {
-                old_bases[*k].clone()
-            }
-            Source::Reused(k, additions) => old_bases[*k].renumbered(&renumber, additions),
+            Source::Reused(k, updates) if same_table && updates.is_empty() => old_bases[*k].clone(),
+            Source::Reused(k, updates) => old_bases[*k].renumbered(&renumber, updates),
         })
         .collect();
     // A priority list may name a package twice; its old cell is then copied, not moved.

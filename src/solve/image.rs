@@ -38,7 +38,13 @@ pub struct ImageView<'r> {
     pub sets: &'r SetCache,
     platform: Option<crate::model::PlatformId>,
     runtime_verdicts: Vec<OnceLock<Admission>>,
-    admissions: Vec<OnceLock<Box<[Admission]>>>,
+    packages: Vec<OnceLock<PackageFit>>,
+}
+
+/// What the image makes of one package's releases.
+struct PackageFit {
+    admissions: Box<[Admission]>,
+    ceiling: u32,
 }
 
 impl<'r> ImageView<'r> {
@@ -56,7 +62,7 @@ impl<'r> ImageView<'r> {
             runtime_verdicts: (0..registry.requirements.len())
                 .map(|_| OnceLock::new())
                 .collect(),
-            admissions: (0..registry.packages.len())
+            packages: (0..registry.packages.len())
                 .map(|_| OnceLock::new())
                 .collect(),
         }
@@ -67,22 +73,36 @@ impl<'r> ImageView<'r> {
             .get_or_init(|| runtime_verdict(self.registry.requirement(req), &self.image.runtime))
     }
 
+    fn package_fit(&self, package: PackageId) -> &PackageFit {
+        self.packages[package.0 as usize].get_or_init(|| {
+            let releases = &self.registry.package(package).releases;
+            let fits: Vec<Admission> = releases.iter().map(|r| self.fit(r)).collect();
+            let ceiling = fits
+                .iter()
+                .rposition(|a| *a == Admission::Admissible)
+                .map_or(0, |newest| newest as u32 + 1);
+            let admissions = releases
+                .iter()
+                .zip(fits)
+                .map(|(r, fit)| if r.yanked { Admission::Yanked } else { fit })
+                .collect();
+            PackageFit {
+                admissions,
+                ceiling,
+            }
+        })
+    }
+
     /// Admission of every release of `package`, in release order.
     pub fn admissions(&self, package: PackageId) -> &[Admission] {
-        self.admissions[package.0 as usize].get_or_init(|| {
-            self.registry
-                .package(package)
-                .releases
-                .iter()
-                .map(|r| {
-                    if r.yanked {
-                        Admission::Yanked
-                    } else {
-                        self.fit(r)
-                    }
-                })
-                .collect()
-        })
+        &self.package_fit(package).admissions
+    }
+
+    /// How many releases of `package` lie up to and including the newest one that suits the
+    /// image's runtime and platform, yanked or not (0 when none does). Releases past it can
+    /// never be picked here: typically they need a newer runtime.
+    pub fn ceiling(&self, package: PackageId) -> u32 {
+        self.package_fit(package).ceiling
     }
 
     /// Whether release `index` of `package` suits the image's runtime and platform, yanked

@@ -31,15 +31,6 @@ impl fmt::Display for Node {
     }
 }
 
-/// What a scan of a range looks for.
-#[derive(Clone, Copy)]
-enum Wanted {
-    /// The version to pick: the newest admissible release.
-    Admissible,
-    /// Where candidates end for a priority: the newest release that suits the image.
-    Candidate,
-}
-
 /// Why a solve stopped without an answer.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct BudgetExhausted {
@@ -80,21 +71,22 @@ pub struct Observed {
     /// `(package, release, admissible)` for each release whose admission decided a choice of
     /// version: in each range the solver picked from, the newest admissible release and every
     /// newer one that suits the image (the whole range when none was admissible). Newer ones
-    /// that do not suit are in `fits`; older releases in the range did not matter.
+    /// that do not suit are in `unfit`; older releases in the range did not matter.
     pub admissions: Vec<(PackageId, u32, bool)>,
-    /// `(package, release, suits)` for each release whose fit to the image's runtime and
-    /// platform, yank flag aside, decided a priority or was passed over when picking: in each
-    /// range the solver asked about, the releases that do not suit, from the newest down to
-    /// the first that does (the priorities count candidates up to it), and those a pick
-    /// passed over below it.
-    pub fits: Vec<(PackageId, u32, bool)>,
+    /// `(package, release)` for each release that a pick passed over because it does not
+    /// suit the image's runtime or platform (its yank flag did not matter).
+    pub unfit: Vec<(PackageId, u32)>,
     /// `(package, from, to)`: releases `from..to` whose stretch (the points between a release
     /// and the next, which pubgrub's sets can hold without the release itself) lies in a range
-    /// the solver asked about. A release published since that lies in exactly the same
-    /// requirement sets as an old one falls in a range exactly when the old one's stretch
-    /// does, so this tells a re-plan whether a cold solve would have asked about it.
-    /// Merged runs, in order.
+    /// the solver picked from. A release published since that lies in exactly the same
+    /// requirement sets as an old one falls in such a range exactly when the old one's stretch
+    /// does, so this tells a re-plan whether a cold solve would have picked from a range
+    /// holding it. Merged runs, in order.
     pub covered: Vec<(PackageId, u32, u32)>,
+    /// `(package, ceiling)` for each package the solver prioritized: its candidate count in a
+    /// range is the number of releases in the range below the ceiling
+    /// ([`ImageView::ceiling`]).
+    pub ceilings: Vec<(PackageId, u32)>,
     /// Releases whose dependencies the solver read.
     pub fetched: Vec<(PackageId, u32)>,
     /// Packages a failure's explanation read beyond the solver's answers (refusal reasons,
@@ -110,8 +102,10 @@ impl Observed {
         self.packages.dedup();
         self.admissions.sort_unstable();
         self.admissions.dedup();
-        self.fits.sort_unstable();
-        self.fits.dedup();
+        self.unfit.sort_unstable();
+        self.unfit.dedup();
+        self.ceilings.sort_unstable();
+        self.ceilings.dedup();
         self.fetched.sort_unstable();
         self.fetched.dedup();
         self.open_ended.sort_unstable();
@@ -171,11 +165,10 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }
     }
 
-    /// The newest release of `package` in `range` that `wanted` accepts, recording what the
-    /// scan read: releases that do not suit the image go to [`Observed::fits`] (their yank
-    /// flag did not matter), the others to `admissions` when picking a version and to `fits`
-    /// when counting candidates.
-    fn scan(&self, package: PackageId, range: &IndexSet, wanted: Wanted) -> Option<u32> {
+    /// The newest admissible release of `package` in `range`, recording what the walk down
+    /// to it read: the stretches of the range, the admission of each release that suits the
+    /// image, and the releases that do not (whose yank flag did not matter).
+    fn pick(&self, package: PackageId, range: &IndexSet) -> Option<u32> {
         let admissions = self.view.admissions(package);
         let mut observed = self.observed.borrow_mut();
         // A run of the range from `a` to `b` (either end open or closed) holds the stretch
@@ -193,21 +186,13 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }));
         for i in indices_newest_first(range, admissions.len()) {
             if !self.view.fits(package, i) {
-                observed.fits.push((package, i, false));
+                observed.unfit.push((package, i));
                 continue;
             }
-            match wanted {
-                Wanted::Candidate => {
-                    observed.fits.push((package, i, true));
-                    return Some(i);
-                }
-                Wanted::Admissible => {
-                    let admissible = admissions[i as usize] == Admission::Admissible;
-                    observed.admissions.push((package, i, admissible));
-                    if admissible {
-                        return Some(i);
-                    }
-                }
+            let admissible = admissions[i as usize] == Admission::Admissible;
+            observed.admissions.push((package, i, admissible));
+            if admissible {
+                return Some(i);
             }
         }
         None
@@ -248,16 +233,15 @@ impl DependencyProvider for CellProvider<'_, '_> {
                 // The releases up to the newest one that suits the image: those newer can
                 // never be picked (typically they need a newer runtime), and counting them
                 // would let a release the image refuses change the order of decisions. Yank
-                // flags are left aside, so that a yank does not reorder decisions either;
-                // counting only admissible releases would make every admission in the range
-                // matter.
-                match self.scan(*id, range, Wanted::Candidate) {
-                    Some(newest) => range
-                        .iter()
-                        .map(|run| index_run(run, newest as usize + 1).len() as u32)
-                        .sum(),
-                    None => 0,
-                }
+                // flags are left aside, so that a yank does not reorder decisions either. The
+                // ceiling is the package's, not the range's: a newly published release that
+                // suits the image can then only raise counts, which a re-plan relies on.
+                let ceiling = self.view.ceiling(*id);
+                self.observed.borrow_mut().ceilings.push((*id, ceiling));
+                range
+                    .iter()
+                    .map(|run| index_run(run, ceiling as usize).len() as u32)
+                    .sum()
             }
         };
         (stats.conflict_count(), Reverse(candidates))
@@ -276,7 +260,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
                 self.observed.borrow_mut().packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
                 // exhausted range is learned in one step as "no versions".
-                Ok(self.scan(*id, range, Wanted::Admissible))
+                Ok(self.pick(*id, range))
             }
         }
     }
