@@ -600,7 +600,8 @@ fn recheck(
             if i as usize >= releases {
                 return None;
             }
-            for (id, set) in view.get().dependency_sets(dependent, i) {
+            let on_extended = |id: PackageId| extended.iter().any(|e| e.0 == id);
+            for (id, set) in view.get().dependency_sets_on(dependent, i, on_extended) {
                 note(id, set);
             }
         }

@@ -133,9 +133,21 @@ impl<'r> ImageView<'r> {
         package: PackageId,
         index: u32,
     ) -> impl Iterator<Item = (PackageId, IndexSet)> + '_ {
+        self.dependency_sets_on(package, index, |_| true)
+    }
+
+    /// [`ImageView::dependency_sets`] on the dependency targets `wanted` accepts only, so
+    /// that no set is built for the others.
+    pub fn dependency_sets_on<'a>(
+        &'a self,
+        package: PackageId,
+        index: u32,
+        wanted: impl Fn(PackageId) -> bool + 'a,
+    ) -> impl Iterator<Item = (PackageId, IndexSet)> + 'a {
         let registry = self.registry;
         registry.package(package).releases[index as usize]
             .runtime_deps()
+            .filter(move |d| wanted(d.package))
             .map(move |d| (d.package, self.sets.get(registry, d.package, d.req)))
     }
 
