@@ -9,8 +9,9 @@
 //! 3. runs the same plan through a straightforward baseline: one pubgrub
 //!    `OfflineDependencyProvider` per image, filled from the image-filtered registry, then one
 //!    resolve per cell (fill time included);
-//! 4. re-plans after a change to 1% of the packages, warm (with the plan cache) and cold, and
-//!    checks the results are identical;
+//! 4. re-plans after changes to 1% of the packages (yanks and publications, on every 100th
+//!    package and on random draws), warm (with the plan cache) and cold, checks the results
+//!    are identical, and prints the bound any exact re-plan is held to;
 //! 5. sweeps the newest version of every package on 4 images with a progress bar and a rate.
 //!
 //! Environment: `BASEFIT_BENCH_VERSIONS` (default 1500000) scales the registry;
@@ -187,10 +188,70 @@ fn exact_bound(inputs: &Inputs, options: &PlanOptions, before: &Matrix, after: &
     );
 }
 
-/// Every 100th declared package from `offset` on: 1% of them.
+/// Every 100th declared package from `offset` on: 1% of them. Packages are declared oldest
+/// first, and the oldest are the most depended on, so offset 0 takes the hub of the whole
+/// registry.
 fn every_hundredth(registry: &Registry, offset: usize) -> Vec<PackageId> {
     let declared = registry.ids().filter(|id| registry.package(*id).declared);
     declared.skip(offset).step_by(100).collect()
+}
+
+/// 1% of the declared packages drawn at random (seeded), in id order.
+fn random_hundredth(registry: &Registry, seed: u64) -> Vec<PackageId> {
+    let declared: Vec<PackageId> = registry
+        .ids()
+        .filter(|id| registry.package(*id).declared)
+        .collect();
+    let mut rng = basefit::synth::SplitMix64::new(seed, 0x0062_656e_6368, 0);
+    let mut taken = vec![false; declared.len()];
+    let mut picked = Vec::with_capacity(declared.len() / 100);
+    while picked.len() < declared.len() / 100 {
+        let k = rng.below(declared.len() as u64) as usize;
+        if !std::mem::replace(&mut taken[k], true) {
+            picked.push(declared[k]);
+        }
+    }
+    picked.sort_unstable();
+    picked
+}
+
+/// Flips the yank flag of the newest release of each of `ids`; returns how many changed.
+fn flip_newest_yank(registry: &mut Registry, ids: &[PackageId]) -> usize {
+    let mut changed = 0;
+    for &id in ids {
+        if let Some(r) = registry.package_mut(id).releases.last_mut() {
+            r.yanked = !r.yanked;
+            changed += 1;
+        }
+    }
+    changed
+}
+
+/// Publishes, for each of `ids`, a release a patch above its newest unyanked one (same
+/// metadata) when that is newer than everything published; returns how many were.
+fn publish_patch(registry: &mut Registry, ids: &[PackageId]) -> usize {
+    let mut changed = 0;
+    for &id in ids {
+        let releases = &mut registry.package_mut(id).releases;
+        let Some(newest) = releases.iter().rev().find(|r| !r.yanked) else {
+            continue;
+        };
+        let mut next = newest.clone();
+        next.version = Version::new(
+            newest.version.major,
+            newest.version.minor,
+            newest.version.patch + 1,
+        );
+        next.raw_version = None;
+        if releases
+            .last()
+            .is_some_and(|last| next.version > last.version)
+        {
+            releases.push(next);
+            changed += 1;
+        }
+    }
+    changed
 }
 
 /// Re-plans after `change`, warm and cold, and prints both with the exact bound.
@@ -210,7 +271,7 @@ fn replan_after(
     let (cold, _) = replan(inputs, options, None, None);
     let cold_time = t.elapsed();
     println!(
-        "re-plan after {what} ({changed} packages, 1%): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
+        "re-plan after {what} ({changed} packages): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
         warm_time.as_secs_f64(),
         stats.reused,
         stats.solved,
@@ -433,52 +494,36 @@ fn main() {
         unchanged.reused,
         unchanged.solved
     );
-    // Two kinds of change to 1% of the packages (every 100th declared package): the yank
-    // flag of the newest release flipped (mostly yanks, a few un-yanks), and a new release.
+    // Two kinds of change to 1% of the packages: the yank flag of the newest release flipped
+    // (mostly yanks, a few un-yanks), and a new patch release. First on every 100th declared
+    // package, which takes the registry's hub for the yanks; then on random draws of 1%.
+    // Changes accumulate: each re-plan starts from the registry the previous one left.
     replan_after(
-        "flipping the yank flag of the newest release",
+        "flipping the yank flag of the newest release of every 100th package",
         &mut inputs,
         &options,
-        |registry| {
-            let mut changed = 0;
-            for id in every_hundredth(registry, 0) {
-                if let Some(r) = registry.package_mut(id).releases.last_mut() {
-                    r.yanked = !r.yanked;
-                    changed += 1;
-                }
-            }
-            changed
-        },
+        |registry| flip_newest_yank(registry, &every_hundredth(registry, 0)),
     );
     replan_after(
-        "publishing a new patch release",
+        "publishing a new patch release of every 100th package",
         &mut inputs,
         &options,
-        |registry| {
-            let mut changed = 0;
-            for id in every_hundredth(registry, 50) {
-                let releases = &mut registry.package_mut(id).releases;
-                let Some(newest) = releases.iter().rev().find(|r| !r.yanked) else {
-                    continue;
-                };
-                let mut next = newest.clone();
-                next.version = Version::new(
-                    newest.version.major,
-                    newest.version.minor,
-                    newest.version.patch + 1,
-                );
-                next.raw_version = None;
-                if releases
-                    .last()
-                    .is_some_and(|last| next.version > last.version)
-                {
-                    releases.push(next);
-                    changed += 1;
-                }
-            }
-            changed
-        },
+        |registry| publish_patch(registry, &every_hundredth(registry, 50)),
     );
+    for seed in 1..=3 {
+        replan_after(
+            &format!("publishing a new patch release of a random 1% (draw {seed})"),
+            &mut inputs,
+            &options,
+            |registry| publish_patch(registry, &random_hundredth(registry, seed)),
+        );
+        replan_after(
+            &format!("flipping the yank flag of the newest release of a random 1% (draw {seed})"),
+            &mut inputs,
+            &options,
+            |registry| flip_newest_yank(registry, &random_hundredth(registry, 100 + seed)),
+        );
+    }
 
     if env_usize("BASEFIT_BENCH_SWEEP", 1) != 0 {
         let registry = &inputs.registry;
