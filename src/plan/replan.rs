@@ -40,6 +40,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::HashMap;
 use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
 pub const CACHE_FORMAT: u32 = 7;
@@ -235,7 +236,7 @@ pub struct CachedPackage {
 }
 
 /// What one cell of the cached matrix depends on.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
 pub struct CellBasis {
     pub entry: u64,
     pub image: u64,
@@ -270,6 +271,21 @@ impl CellBasis {
             observed: encode(o, slot),
             unchanged: in_table_order(&o.explained),
             open_ended: in_table_order(&o.open_ended),
+        }
+    }
+
+    /// [`CellBasis::renumbered`] with nothing to add, in place.
+    fn renumber(&mut self, renumber: &[u32]) {
+        let mut at = 0;
+        while at < self.observed.len() {
+            self.observed[at] = renumber[self.observed[at] as usize];
+            at += 1;
+            for _ in 0..6 {
+                at += 1 + self.observed[at] as usize;
+            }
+        }
+        for p in self.unchanged.iter_mut().chain(&mut self.open_ended) {
+            *p = renumber[*p as usize];
         }
     }
 
@@ -822,29 +838,35 @@ pub fn replan(
     };
 
     // The new package table: every package a cell of this plan consulted, in name order.
-    let mut ids: Vec<PackageId> = results
-        .par_iter()
-        .flat_map_iter(|(source, _, _)| -> Vec<PackageId> {
-            match source {
-                Source::Solved(cell) => {
-                    let o = &cell.observed;
-                    let all = o.packages.iter().chain(&o.explained).chain(&o.open_ended);
-                    all.copied().collect()
-                }
-                Source::Reused(k, _) => {
-                    let basis = &old_bases[*k];
-                    runs(&basis.observed)
-                        .map_while(|r| r.map(|r| r.package))
-                        .chain(basis.unchanged.iter().copied())
-                        .chain(basis.open_ended.iter().copied())
-                        .filter_map(|p| standing[p as usize].id())
-                        .collect()
-                }
-            }
-        })
+    // Marks rather than a list of every cell's packages, which runs to millions.
+    let consulted: Vec<AtomicBool> = (0..registry.packages.len())
+        .map(|_| AtomicBool::new(false))
         .collect();
-    ids.par_sort_unstable();
-    ids.dedup();
+    let mark = |id: PackageId| consulted[id.0 as usize].store(true, Ordering::Relaxed);
+    results.par_iter().for_each(|(source, _, _)| match source {
+        Source::Solved(cell) => {
+            let o = &cell.observed;
+            o.packages
+                .iter()
+                .chain(&o.explained)
+                .chain(&o.open_ended)
+                .for_each(|id| mark(*id));
+        }
+        Source::Reused(k, _) => {
+            let basis = &old_bases[*k];
+            runs(&basis.observed)
+                .map_while(|r| r.map(|r| r.package))
+                .chain(basis.unchanged.iter().copied())
+                .chain(basis.open_ended.iter().copied())
+                .filter_map(|p| standing[p as usize].id())
+                .for_each(mark);
+        }
+    });
+    let mut ids: Vec<PackageId> = registry
+        .ids()
+        .filter(|id| consulted[id.0 as usize].load(Ordering::Relaxed))
+        .collect();
+    drop(consulted);
     ids.par_sort_by(|a, b| registry.name(*a).cmp(registry.name(*b)));
     let mut slots = vec![u32::MAX; registry.packages.len()];
     for (k, id) in ids.iter().enumerate() {
@@ -871,35 +893,63 @@ pub fn replan(
             }
         })
         .collect();
-    let bases: Vec<CellBasis> = results
-        .par_iter()
-        .map(|(source, entry, image)| match source {
-            Source::Solved(cell) => CellBasis::of_solve(*entry, *image, &cell.observed, &slot),
-            // Usually the table is the same and nothing was published: a plain copy.
-            Source::Reused(k, updates) if same_table && updates.is_empty() => old_bases[*k].clone(),
-            Source::Reused(k, updates) => old_bases[*k].renumbered(&renumber, updates),
-        })
-        .collect();
-    // A priority list may name a package twice; its old cell is then copied, not moved.
-    let mut uses = vec![0usize; old_cells.len()];
+    // Still-valid cells and their bases move into the new cache; a priority list may name a
+    // package twice, and then all but the last use of an old cell copy it.
+    let mut remaining = vec![0usize; old_cells.len()];
     for (source, _, _) in &results {
         if let Source::Reused(k, _) = source {
-            uses[*k] += 1;
+            remaining[*k] += 1;
         }
     }
+    let moves: Vec<bool> = results
+        .iter()
+        .map(|(source, _, _)| match source {
+            Source::Reused(k, _) => {
+                remaining[*k] -= 1;
+                remaining[*k] == 0
+            }
+            Source::Solved(_) => false,
+        })
+        .collect();
+    let take = |old: &mut [CellBasis], k: usize, last: bool| {
+        if last {
+            std::mem::take(&mut old[k])
+        } else {
+            old[k].clone()
+        }
+    };
+    let mut old_bases = old_bases;
+    let mut bases: Vec<CellBasis> = results
+        .iter()
+        .zip(&moves)
+        .map(|((source, _, _), &last)| match source {
+            Source::Reused(k, _) => take(&mut old_bases, *k, last),
+            Source::Solved(_) => CellBasis::default(),
+        })
+        .collect();
+    drop(old_bases);
+    bases
+        .par_iter_mut()
+        .zip(results.par_iter())
+        .for_each(|(basis, (source, entry, image))| match source {
+            Source::Solved(cell) => {
+                *basis = CellBasis::of_solve(*entry, *image, &cell.observed, &slot)
+            }
+            // Usually the table is the same and nothing was published: kept as it is.
+            Source::Reused(_, updates) if same_table && updates.is_empty() => {}
+            Source::Reused(_, updates) if updates.is_empty() => basis.renumber(&renumber),
+            Source::Reused(_, updates) => *basis = basis.renumbered(&renumber, updates),
+        });
     let mut old_cells = old_cells;
     let cells: Vec<Cell> = results
         .into_iter()
-        .map(|(source, _, _)| match source {
+        .zip(moves)
+        .map(|((source, _, _), last)| match source {
             Source::Solved(cell) => *cell,
-            Source::Reused(k, _) => {
-                uses[k] -= 1;
-                if uses[k] == 0 {
-                    std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))
-                } else {
-                    old_cells[k].clone()
-                }
+            Source::Reused(k, _) if last => {
+                std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))
             }
+            Source::Reused(k, _) => old_cells[k].clone(),
         })
         .collect();
     let matrix = Matrix {
