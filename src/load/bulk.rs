@@ -8,8 +8,8 @@
 //! committed in file order.
 
 use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, StagedRelease, VersionFields};
-use super::table::{RowBuf, Table};
+use super::registry::{BadDependency, RegistryBuilder, VersionFields};
+use super::table::{RowRef, Table};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId,
 };
@@ -275,7 +275,7 @@ struct DepCells<'a> {
     kind: DepKind,
 }
 
-fn dep_cells<'r>(file: &str, cols: &DepCols, row: &'r RowBuf) -> Result<DepCells<'r>, BadInput> {
+fn dep_cells<'r>(file: &str, cols: &DepCols, row: RowRef<'r>) -> Result<DepCells<'r>, BadInput> {
     let line = row.line;
     let package = row
         .text(cols.package)
@@ -327,8 +327,10 @@ struct DepPass {
 
 /// Dependencies read for the staged versions, before they are grouped per version.
 struct Attached {
-    /// (staged index, dependency), in file order.
-    deps: Vec<(u32, Dep)>,
+    /// Dependencies in file order, and the staged index each belongs to. Apart, so that a
+    /// file listing them in the order of the versions is grouped already and needs no copy.
+    deps: Vec<Dep>,
+    owners: Vec<u32>,
     /// Dependency rows per staged version, readable or not.
     counts: Vec<u32>,
     /// The first dependency with an unreadable requirement, per staged version.
@@ -339,7 +341,14 @@ struct Attached {
 #[derive(Default)]
 struct Load {
     builder: RegistryBuilder,
-    staged: Vec<StagedRelease>,
+    /// Per staged version: its package, and its place in the package's release list (where
+    /// it is put as soon as it is read, its dependencies filled in at the commit).
+    staged: Vec<(PackageId, u32)>,
+    /// The releases of the package whose rows are being read, moved into its list when its
+    /// rows end: rows of a package are usually adjacent, so each list is sized once rather
+    /// than grown by doubling, and no second copy of every release is held until the end.
+    run: Vec<crate::model::Release>,
+    run_package: Option<PackageId>,
     staged_keys: Vec<StagedKey>,
     index: VersionIndex,
     /// Per package id: whether a row has given `native_helper` yet (the first one counts).
@@ -378,8 +387,8 @@ impl Load {
         let mut errors = SchemaErrors::new();
         // Rows of one package are usually adjacent: the last name saves a lookup per row.
         let mut last: Option<(String, PackageId)> = None;
-        let read = table.for_each_batch(|rows| {
-            for row in rows {
+        let read = table.for_each_batch(|batch| {
+            for row in batch.rows() {
                 if let Err(e) = self.version_row(&file, &cols, row, &mut last) {
                     errors.push(e);
                     if errors.full() {
@@ -392,14 +401,26 @@ impl Load {
         if let Err(e) = read {
             errors.push(e);
         }
+        self.end_run();
         errors.finish()
+    }
+
+    /// Moves the releases of the current run into their package's list.
+    fn end_run(&mut self) {
+        if let Some(package) = self.run_package.take() {
+            let releases = &mut self.builder.registry.package_mut(package).releases;
+            if releases.is_empty() {
+                releases.reserve_exact(self.run.len());
+            }
+            releases.append(&mut self.run);
+        }
     }
 
     fn version_row(
         &mut self,
         file: &str,
         cols: &VersionCols,
-        row: &RowBuf,
+        row: RowRef<'_>,
         last: &mut Option<(String, PackageId)>,
     ) -> Result<(), BadInput> {
         let line = row.line;
@@ -461,7 +482,15 @@ impl Load {
         match self.builder.stage_release(package, file, line, fields) {
             Some(staged) => {
                 let slot = Slot::Staged(self.staged.len() as u32);
-                self.staged.push(staged);
+                if self.run_package != Some(package) {
+                    self.end_run();
+                    self.run_package = Some(package);
+                }
+                let listed = self.builder.registry.package(package).releases.len();
+                // Below `Slot::LeftOut` like the staged count checked above.
+                self.staged
+                    .push((package, (listed + self.run.len()) as u32));
+                self.run.push(staged.into_release());
                 let (start, len, canonical) = self.index.offer(package, version, slot);
                 self.staged_keys.push(StagedKey {
                     start,
@@ -556,6 +585,7 @@ impl Load {
         let mut pass = DepPass {
             attached: Attached {
                 deps: Vec::new(),
+                owners: Vec::new(),
                 counts: vec![0; self.staged.len()],
                 bad: FxHashMap::default(),
                 file: file.clone(),
@@ -570,13 +600,12 @@ impl Load {
             seen_for: None,
             group: None,
         };
-        let _ = pass
-            .attached
-            .deps
-            .try_reserve(estimated_rows(table.byte_len, 16));
+        let rows = estimated_rows(table.byte_len, 16);
+        let _ = pass.attached.deps.try_reserve(rows);
+        let _ = pass.attached.owners.try_reserve(rows);
         let mut errors = SchemaErrors::new();
-        let read = table.for_each_batch(|rows| {
-            for row in rows {
+        let read = table.for_each_batch(|batch| {
+            for row in batch.rows() {
                 match dep_cells(&file, &cols, row) {
                     Ok(cells) if errors.is_empty() => self.dep_row(&mut pass, row.line, cells),
                     // The input is unusable already; only further schema errors matter.
@@ -661,7 +690,7 @@ impl Load {
                 }
             },
         };
-        let owner = self.staged[s as usize].package;
+        let owner = self.staged[s as usize].0;
         if pass.seen_for != Some(owner) {
             pass.seen_for = Some(owner);
             pass.seen.clear();
@@ -682,23 +711,21 @@ impl Load {
             },
         };
         pass.memo.push(dependency, req, package, req_id);
-        pass.attached.deps.push((
-            s,
-            Dep {
-                package,
-                req: req_id,
-                kind,
-            },
-        ));
+        pass.attached.deps.push(Dep {
+            package,
+            req: req_id,
+            kind,
+        });
+        pass.attached.owners.push(s);
     }
 
     /// The staged version at `at` when it is the one `package`@`version` names.
     fn predict(&self, at: usize, package: &str, version: &str) -> Option<Slot> {
         let key = self.staged_keys.get(at)?;
-        let staged = &self.staged[at];
+        let (owner, _) = self.staged[at];
         (key.canonical
             && self.index.text(key.start, key.len) == version.as_bytes()
-            && self.builder.registry.name(staged.package) == package)
+            && self.builder.registry.name(owner) == package)
             .then_some(Slot::Staged(at as u32))
     }
 
@@ -720,8 +747,8 @@ impl Load {
         );
     }
 
-    /// Groups the dependencies per staged version (a counting sort, keeping file order) and
-    /// commits the versions in the order of the versions file.
+    /// Groups the dependencies per staged version (a counting sort, keeping file order),
+    /// gives each version its own, and drops the versions with an unreadable requirement.
     fn commit(self, attached: Attached) -> RegistryBuilder {
         let Load {
             mut builder,
@@ -730,48 +757,68 @@ impl Load {
         } = self;
         let Attached {
             deps,
+            owners,
             counts,
             bad,
             file,
         } = attached;
         let mut starts = vec![0usize; staged.len() + 1];
-        for (s, _) in &deps {
-            starts[*s as usize + 1] += 1;
+        for &s in &owners {
+            starts[s as usize + 1] += 1;
         }
         for i in 1..starts.len() {
             starts[i] += starts[i - 1];
         }
-        let mut grouped = vec![
-            Dep {
-                package: PackageId(0),
-                req: crate::model::ReqId(0),
-                kind: DepKind::Runtime,
-            };
-            deps.len()
-        ];
-        let mut next = starts.clone();
-        for (s, dep) in deps {
-            grouped[next[s as usize]] = dep;
-            next[s as usize] += 1;
+        let grouped = if owners.is_sorted() {
+            deps
+        } else {
+            let mut grouped = deps.clone();
+            let mut next = starts.clone();
+            for (&s, dep) in owners.iter().zip(deps) {
+                grouped[next[s as usize]] = dep;
+                next[s as usize] += 1;
+            }
+            grouped
+        };
+        drop(owners);
+        // Left-out versions are removed afterwards, so the places recorded for the others
+        // stay right until then.
+        let mut dropped: Vec<(PackageId, u32)> = Vec::new();
+        for (i, &(package, place)) in staged.iter().enumerate() {
+            match bad.get(&(i as u32)) {
+                None => {
+                    let release =
+                        &mut builder.registry.package_mut(package).releases[place as usize];
+                    release.deps = grouped[starts[i]..starts[i + 1]].into();
+                }
+                Some((line, name, why)) => {
+                    let version =
+                        &builder.registry.package(package).releases[place as usize].version;
+                    let subject = format!("{}@{version}", builder.registry.name(package));
+                    let bad_dep = BadDependency {
+                        file: &file,
+                        line: *line,
+                        name,
+                        why: why.clone(),
+                    };
+                    builder.leave_out_for_dependency(subject, u64::from(counts[i]), bad_dep);
+                    dropped.push((package, place));
+                }
+            }
         }
-        drop(next);
-        // Each package's release list is sized once instead of growing by doubling.
-        let mut per_package = vec![0usize; builder.registry.packages.len()];
-        for st in &staged {
-            per_package[st.package.0 as usize] += 1;
-        }
-        for (pkg, n) in builder.registry.packages.iter_mut().zip(per_package) {
-            pkg.releases.reserve_exact(n);
-        }
-        for (i, st) in staged.into_iter().enumerate() {
-            let deps: Box<[Dep]> = grouped[starts[i]..starts[i + 1]].into();
-            let bad_dep = bad.get(&(i as u32)).map(|(line, name, why)| BadDependency {
-                file: &file,
-                line: *line,
-                name,
-                why: why.clone(),
-            });
-            builder.commit_release(st, deps, u64::from(counts[i]), bad_dep);
+        dropped.sort_unstable();
+        for group in dropped.chunk_by(|a, b| a.0 == b.0) {
+            let mut places = group.iter().map(|d| d.1 as usize).peekable();
+            let mut place = 0;
+            builder
+                .registry
+                .package_mut(group[0].0)
+                .releases
+                .retain(|_| {
+                    let keep = places.next_if_eq(&place).is_none();
+                    place += 1;
+                    keep
+                });
         }
         builder
     }

@@ -72,6 +72,14 @@ pub struct StagedRelease {
     release: Release,
 }
 
+impl StagedRelease {
+    /// The release without its dependencies yet, for a reader that places it itself and
+    /// fills in [`Release::deps`] later.
+    pub fn into_release(self) -> Release {
+        self.release
+    }
+}
+
 /// The first dependency of a staged version whose requirement cannot be read; it leaves the
 /// whole version out, as in every format.
 pub struct BadDependency<'a> {
@@ -296,22 +304,35 @@ impl RegistryBuilder {
             mut release,
         } = staged;
         if let Some(bad) = bad {
-            self.ledger.leave_out(
-                RecordKind::Version,
-                ProblemKind::UnreadableRequirement,
-                Origin {
-                    file: bad.file.to_string(),
-                    line: bad.line,
-                },
-                format!("{}@{}", self.registry.name(package), release.version),
-                format!("requirement on {}: {}", bad.name, bad.why),
-            );
-            self.ledger
-                .left_out_with_owner(RecordKind::Dependency, dep_count);
+            let subject = format!("{}@{}", self.registry.name(package), release.version);
+            self.leave_out_for_dependency(subject, dep_count, bad);
             return;
         }
         release.deps = deps;
         self.registry.package_mut(package).releases.push(release);
+    }
+
+    /// Records a version (named `package@version` in `subject`) as left out for its first
+    /// unreadable requirement, with its `dep_count` dependency records. The caller drops the
+    /// release itself.
+    pub fn leave_out_for_dependency(
+        &mut self,
+        subject: String,
+        dep_count: u64,
+        bad: BadDependency<'_>,
+    ) {
+        self.ledger.leave_out(
+            RecordKind::Version,
+            ProblemKind::UnreadableRequirement,
+            Origin {
+                file: bad.file.to_string(),
+                line: bad.line,
+            },
+            subject,
+            format!("requirement on {}: {}", bad.name, bad.why),
+        );
+        self.ledger
+            .left_out_with_owner(RecordKind::Dependency, dep_count);
     }
 
     /// Sorts releases, drops duplicate versions, counts what is used and runs the

@@ -28,18 +28,94 @@ pub struct Row {
 /// let text = "name,flag\n pkg-a ,yes\n";
 /// let mut table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name", "flag"], &["name"])
 ///     .unwrap();
-/// let (name, flag) = (table.column("name"), table.column("flag"));
 /// let mut row = RowBuf::default();
 /// assert!(table.next_into(&mut row).unwrap());
-/// assert_eq!(row.line, 2);
-/// assert_eq!(row.text(name), Some("pkg-a"));
-/// assert_eq!(row.flag(&table.file, flag, "flag").unwrap(), Some(true));
+/// assert_eq!((row.line, &row.record[0]), (2, " pkg-a "));
 /// assert!(!table.next_into(&mut row).unwrap());
 /// ```
 #[derive(Debug, Default)]
 pub struct RowBuf {
     pub line: usize,
     pub record: csv::StringRecord,
+}
+
+/// Rows read ahead by [`Table::for_each_batch`], their cells packed end to end in one
+/// buffer: the thread that works on them then reads memory in order, rather than chasing
+/// each row's own buffers that another thread wrote.
+#[derive(Default)]
+pub struct Batch {
+    text: String,
+    /// Per cell, where it ends in `text`; every row has the header's number of cells.
+    ends: Vec<u32>,
+    lines: Vec<usize>,
+    width: usize,
+}
+
+impl Batch {
+    fn clear(&mut self) {
+        self.text.clear();
+        self.ends.clear();
+        self.lines.clear();
+    }
+
+    fn push(&mut self, row: &RowBuf) {
+        for cell in row.record.iter() {
+            self.text.push_str(cell);
+            // Batches are a few thousand rows, far below 4 GiB; a longer row would only
+            // make its cells read wrong, never past the buffer.
+            self.ends
+                .push(u32::try_from(self.text.len()).unwrap_or(u32::MAX));
+        }
+        self.lines.push(row.line);
+    }
+
+    pub fn len(&self) -> usize {
+        self.lines.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.lines.is_empty()
+    }
+
+    /// The rows in file order.
+    pub fn rows(&self) -> impl Iterator<Item = RowRef<'_>> {
+        self.lines.iter().enumerate().map(|(i, &line)| RowRef {
+            line,
+            text: &self.text,
+            ends: &self.ends[i * self.width..(i + 1) * self.width],
+            start: match i {
+                0 => 0,
+                _ => self.ends[i * self.width - 1],
+            },
+        })
+    }
+}
+
+/// One row of a [`Batch`] and its 1-based line in the file.
+///
+/// ```
+/// use basefit::load::table::Table;
+/// use std::ops::ControlFlow;
+/// let text = "name,flag\n pkg-a ,yes\n";
+/// let table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name", "flag"], &["name"])
+///     .unwrap();
+/// let (name, flag) = (table.column("name"), table.column("flag"));
+/// table
+///     .for_each_batch(|batch| {
+///         let row = batch.rows().next().unwrap();
+///         assert_eq!(row.line, 2);
+///         assert_eq!(row.text(name), Some("pkg-a"));
+///         assert_eq!(row.flag("t.csv", flag, "flag").unwrap(), Some(true));
+///         ControlFlow::Continue(())
+///     })
+///     .unwrap();
+/// ```
+#[derive(Clone, Copy)]
+pub struct RowRef<'b> {
+    pub line: usize,
+    text: &'b str,
+    ends: &'b [u32],
+    start: u32,
 }
 
 /// Reads a true/false cell. CSV exports spell booleans many ways; the YAML spellings are
@@ -59,12 +135,18 @@ pub fn parse_flag(text: &str) -> Option<bool> {
     }
 }
 
-impl RowBuf {
+impl<'b> RowRef<'b> {
     /// The trimmed cell in column `index`; `None` when the column is absent or the cell is
     /// empty.
-    pub fn text(&self, index: Option<usize>) -> Option<&str> {
-        index
-            .and_then(|i| self.record.get(i))
+    pub fn text(&self, index: Option<usize>) -> Option<&'b str> {
+        let i = index?;
+        let end = *self.ends.get(i)?;
+        let start = match i {
+            0 => self.start,
+            _ => self.ends[i - 1],
+        };
+        self.text
+            .get(start as usize..end as usize)
             .map(trim)
             .filter(|s| !s.is_empty())
     }
@@ -231,8 +313,8 @@ impl Table {
     /// let table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name"], &["name"]).unwrap();
     /// let mut lines = Vec::new();
     /// table
-    ///     .for_each_batch(|rows| {
-    ///         lines.extend(rows.iter().map(|r| r.line));
+    ///     .for_each_batch(|batch| {
+    ///         lines.extend(batch.rows().map(|r| r.line));
     ///         ControlFlow::Continue(())
     ///     })
     ///     .unwrap();
@@ -240,33 +322,33 @@ impl Table {
     /// ```
     pub fn for_each_batch(
         mut self,
-        mut each: impl FnMut(&[RowBuf]) -> std::ops::ControlFlow<()>,
+        mut each: impl FnMut(&Batch) -> std::ops::ControlFlow<()>,
     ) -> Result<(), BadInput> {
         use std::sync::mpsc;
         const BATCH: usize = 2048;
-        // Full batches go one way and emptied ones come back, so rows are not reallocated.
-        let (full_tx, full_rx) = mpsc::sync_channel::<(Vec<RowBuf>, usize)>(4);
-        let (empty_tx, empty_rx) = mpsc::channel::<Vec<RowBuf>>();
+        // Full batches go one way and emptied ones come back, so buffers are not reallocated.
+        let (full_tx, full_rx) = mpsc::sync_channel::<Batch>(4);
+        let (empty_tx, empty_rx) = mpsc::channel::<Batch>();
         let file = self.file.clone();
+        let width = self.columns.len();
         std::thread::scope(|scope| {
             let reader = scope.spawn(move || -> Result<(), BadInput> {
+                let mut row = RowBuf::default();
                 loop {
                     let mut batch = empty_rx.try_recv().unwrap_or_default();
-                    let mut filled = 0;
+                    batch.clear();
+                    batch.width = width;
                     let mut outcome = Ok(true);
-                    while filled < BATCH {
-                        if batch.len() == filled {
-                            batch.push(RowBuf::default());
-                        }
-                        match self.next_into(&mut batch[filled]) {
-                            Ok(true) => filled += 1,
+                    while batch.len() < BATCH {
+                        match self.next_into(&mut row) {
+                            Ok(true) => batch.push(&row),
                             other => {
                                 outcome = other;
                                 break;
                             }
                         }
                     }
-                    if filled > 0 && full_tx.send((batch, filled)).is_err() {
+                    if !batch.is_empty() && full_tx.send(batch).is_err() {
                         return Ok(()); // The caller stopped early.
                     }
                     match outcome {
@@ -276,8 +358,8 @@ impl Table {
                     }
                 }
             });
-            for (batch, filled) in full_rx.iter() {
-                if each(&batch[..filled]).is_break() {
+            for batch in full_rx.iter() {
+                if each(&batch).is_break() {
                     break;
                 }
                 let _ = empty_tx.send(batch);
