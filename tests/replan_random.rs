@@ -5,6 +5,8 @@
 //!
 //! `BASEFIT_REPLAN_SEEDS=N` runs more seeds (default 4).
 
+mod common;
+
 use basefit::load::Inputs;
 use basefit::load::images::read_images_str;
 use basefit::load::registry::{RegistryBuilder, read_yaml_str};
@@ -247,10 +249,7 @@ fn cache_json(cache: &PlanCache) -> String {
 
 #[test]
 fn warm_replans_equal_cold_plans_under_random_edits() {
-    let seeds: u64 = std::env::var("BASEFIT_REPLAN_SEEDS")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(4);
+    let seeds: u64 = common::env_count("BASEFIT_REPLAN_SEEDS", 4);
     let options = PlanOptions::default();
     let (mut reused, mut solved) = (0, 0);
     for seed in 1..=seeds {

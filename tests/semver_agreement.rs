@@ -12,6 +12,8 @@
 //! disagreements (always zero: any disagreement fails the test with a shrunk example) are
 //! printed.
 
+mod common;
+
 use basefit::load::RegistryBuilder;
 use basefit::load::registry::RawRelease;
 use basefit::model::{PackageId, Registry, Requirement};
@@ -152,10 +154,7 @@ fn members(set: &basefit::solve::IndexSet, count: usize) -> BTreeSet<u32> {
 
 #[test]
 fn requirement_sets_agree_with_semver_matches() {
-    let target: u64 = std::env::var("BASEFIT_SEMVER_PAIRS")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(6_000);
+    let target: u64 = common::env_count("BASEFIT_SEMVER_PAIRS", 6_000);
     let pairs = AtomicU64::new(0);
     let parsed = AtomicU64::new(0);
     let refused = AtomicU64::new(0);

@@ -18,6 +18,8 @@
 //! e.g. `BASEFIT_ORACLE_CASES=100000 cargo test --release --test solver_oracle` for a long
 //! run. `BASEFIT_ORACLE_SEED` changes the base seed.
 
+mod common;
+
 use basefit::load::RegistryBuilder;
 use basefit::load::images::read_images_str;
 use basefit::load::registry::RawRelease;
@@ -25,26 +27,20 @@ use basefit::model::{DepKind, Platform, Registry, Requirement};
 use basefit::solve::{
     BuildKind, DEFAULT_BUDGET, ImageView, RootSpec, SetCache, Solved, solve_cell,
 };
+use basefit::synth::SplitMix64;
 use semver::{Version, VersionReq};
 use std::collections::{BTreeMap, BTreeSet};
 use std::panic::{AssertUnwindSafe, catch_unwind};
 
-/// splitmix64: a small deterministic generator, so every case is reproducible from its seed.
-struct Rng(u64);
+/// The project's seeded generator, so every case is reproducible from its seed.
+struct Rng(SplitMix64);
 
 impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
     fn below(&mut self, n: usize) -> usize {
-        (self.next() % n as u64) as usize
+        self.0.below(n as u64) as usize
     }
     fn chance(&mut self, percent: u64) -> bool {
-        self.next() % 100 < percent
+        self.0.below(100) < percent
     }
     fn pick<T: Copy>(&mut self, items: &[T]) -> T {
         items[self.below(items.len())]
@@ -137,7 +133,7 @@ fn admits(alts: &[VersionReq], v: &Version) -> bool {
 }
 
 fn generate(seed: u64) -> Spec {
-    let mut rng = Rng(seed);
+    let mut rng = Rng(SplitMix64::new(seed, 0x6f72_6163_6c65, 0));
     let declared = 3 + rng.below(4);
     let mut names: Vec<String> = (0..declared).map(|i| format!("p{i}")).collect();
     names.extend(GHOSTS.iter().map(|g| g.to_string()));
@@ -649,14 +645,8 @@ fn run_case(seed: u64, tally: &mut Tally) {
 
 #[test]
 fn agrees_with_brute_force_oracle() {
-    let cases: u64 = std::env::var("BASEFIT_ORACLE_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(5_000);
-    let base: u64 = std::env::var("BASEFIT_ORACLE_SEED")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(0x0BA5_EF17);
+    let cases: u64 = common::env_count("BASEFIT_ORACLE_CASES", 5_000);
+    let base: u64 = common::env_count("BASEFIT_ORACLE_SEED", 0x0BA5_EF17);
     let mut tally = Tally::default();
     for k in 0..cases {
         run_case(base.wrapping_add(k), &mut tally);
