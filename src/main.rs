@@ -92,6 +92,9 @@ struct InputArgs {
     /// Treat every data-quality problem as unusable input (exit 2).
     #[arg(long)]
     strict: bool,
+    /// No progress bars.
+    #[arg(long)]
+    quiet: bool,
 }
 
 impl InputArgs {
@@ -103,6 +106,7 @@ impl InputArgs {
             priorities: self.priorities.clone(),
             results: results.to_vec(),
             catalog: self.catalog.clone(),
+            progress: progress_bar(self.quiet),
         }
     }
 }
@@ -118,18 +122,15 @@ struct SolveArgs {
     /// Worker threads (default: all cores). Output is identical at any count.
     #[arg(long)]
     threads: Option<usize>,
-    /// No progress bar.
-    #[arg(long)]
-    quiet: bool,
 }
 
 impl SolveArgs {
-    fn options(&self) -> PlanOptions {
+    fn options(&self, quiet: bool) -> PlanOptions {
         PlanOptions {
             budget: self.budget,
             native: !self.no_native,
             closures: true,
-            progress: progress_bar(self.quiet),
+            progress: progress_bar(quiet),
         }
     }
 }
@@ -215,7 +216,7 @@ fn run_review(a: ReviewArgs) -> anyhow::Result<Output> {
         commands::review(&commands::ReviewCommand {
             inputs: a.input.paths(&a.results),
             strict: a.input.strict,
-            plan: a.solve.options(),
+            plan: a.solve.options(a.input.quiet),
             matrix: a.matrix.clone(),
             max_surprises: a.max_surprises,
             format: a.format,
@@ -246,7 +247,7 @@ fn run_syslibs(a: SyslibsArgs) -> anyhow::Result<Output> {
         commands::system(&commands::SystemCommand {
             inputs: a.input.paths(&[]),
             strict: a.input.strict,
-            plan: a.solve.options(),
+            plan: a.solve.options(a.input.quiet),
             format: a.format,
         })
     })
@@ -296,7 +297,7 @@ fn run_imageplan(a: ImageplanArgs) -> anyhow::Result<Output> {
         commands::imageplan(&commands::ImageplanCommand {
             inputs: a.input.paths(&[]),
             strict: a.input.strict,
-            plan: a.solve.options(),
+            plan: a.solve.options(a.input.quiet),
             images: a.image.clone(),
             runtimes: a.runtimes.clone(),
             target: a.target,
@@ -332,7 +333,7 @@ fn run_render(a: RenderArgs) -> anyhow::Result<Output> {
         commands::render(&commands::RenderCommand {
             inputs: a.input.paths(&a.results),
             strict: a.input.strict,
-            plan: a.solve.options(),
+            plan: a.solve.options(a.input.quiet),
             matrix: a.matrix.clone(),
             out: a.out.clone(),
             format: a.format,
@@ -425,7 +426,7 @@ fn run_plan(a: PlanArgs) -> anyhow::Result<Output> {
         commands::plan(&commands::PlanCommand {
             inputs: a.input.paths(&[]),
             strict: a.input.strict,
-            plan: a.solve.options(),
+            plan: a.solve.options(a.input.quiet),
             out: a.out.clone(),
             format: a.format,
             blockers: a.blockers,
@@ -439,25 +440,21 @@ fn run_explain(a: ExplainArgs) -> anyhow::Result<Output> {
     commands::explain(&commands::ExplainCommand {
         inputs: a.input.paths(&[]),
         strict: a.input.strict,
-        plan: a.solve.options(),
+        plan: a.solve.options(a.input.quiet),
         package: a.package,
         image: a.image,
         format: a.format,
     })
 }
 
-/// A progress bar on stderr, only when stderr is a terminal and `--quiet` is not given.
+/// A progress bar on stderr, only when stderr is a terminal and `--quiet` is not given; the
+/// step that uses it sets its style.
 fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
     use std::io::IsTerminal;
     if quiet || !std::io::stderr().is_terminal() {
         return None;
     }
-    let pb = indicatif::ProgressBar::new(0);
-    let style =
-        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} cells, {per_sec}, eta {eta}")
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar());
-    pb.set_style(style);
-    Some(pb)
+    Some(indicatif::ProgressBar::new(0))
 }
 
 /// Runs `f` on a rayon pool of `threads` workers (the global pool when not given).

@@ -281,3 +281,35 @@ fn results_malformed_inputs() {
         "{stdout}"
     );
 }
+
+/// `--quiet` belongs to the input flags, so every command that reads inputs takes it; off a
+/// terminal no bar is drawn either way, so stderr holds only what the command reports.
+#[test]
+fn every_input_reading_command_takes_quiet() {
+    let d = dir();
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        b"package,version\nfernwood,1.0.0\n",
+    );
+    let deps = write(d.path(), "deps.csv", b"package,version,dependency\n");
+    let images = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    for quiet in [false, true] {
+        let mut command = Command::new(env!("CARGO_BIN_EXE_basefit"));
+        command
+            .args(["check", "--bulk"])
+            .args([&versions, &deps])
+            .arg("--images")
+            .arg(&images);
+        if quiet {
+            command.arg("--quiet");
+        }
+        let out = command.output().unwrap();
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(0), "stderr: {stderr}");
+        assert!(
+            !stderr.contains("registry read"),
+            "a bar off a terminal: {stderr}"
+        );
+    }
+}

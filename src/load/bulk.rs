@@ -65,11 +65,48 @@ pub const LIST_SEPARATOR: char = ';';
 /// # Ok(()) }
 /// ```
 pub fn read_bulk(versions: &Path, deps: &Path) -> Result<(Registry, Ledger), BadInput> {
-    let versions = Table::open(versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
+    read_bulk_showing(versions, deps, None)
+}
+
+/// [`read_bulk`], showing how many bytes of the two files have been read on `progress`,
+/// whose length becomes their total size.
+///
+/// ```
+/// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+/// let dir = tempfile::tempdir()?;
+/// let (versions, deps) = (dir.path().join("versions.csv"), dir.path().join("deps.csv"));
+/// std::fs::write(&versions, "package,version\npkg-a,1.0.0\n")?;
+/// std::fs::write(&deps, "package,version,dependency\n")?;
+/// let bar = indicatif::ProgressBar::hidden();
+/// basefit::load::bulk::read_bulk_showing(&versions, &deps, Some(&bar))?;
+/// assert_eq!((bar.position(), bar.length()), (55, Some(55)));
+/// # Ok(()) }
+/// ```
+pub fn read_bulk_showing(
+    versions: &Path,
+    deps: &Path,
+    progress: Option<&indicatif::ProgressBar>,
+) -> Result<(Registry, Ledger), BadInput> {
+    if let Some(bar) = progress {
+        let size = |p: &Path| std::fs::metadata(p).map_or(0, |m| m.len());
+        bar.reset();
+        bar.set_length(size(versions) + size(deps));
+        bar.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{bar:40} {bytes}/{total_bytes} of the registry read, {bytes_per_sec}, eta {eta}",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        );
+    }
+    let versions = Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
     // The dependency header is checked before the (long) versions pass, so a wrong column
     // there is reported at once.
-    let deps = Table::open(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
-    read_tables(versions, deps)
+    let deps = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
+    let read = read_tables(versions, deps);
+    if let Some(bar) = progress {
+        bar.finish_and_clear();
+    }
+    read
 }
 
 /// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.

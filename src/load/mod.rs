@@ -50,6 +50,8 @@ pub struct InputPaths {
     pub results: Vec<PathBuf>,
     /// A user catalog file applied over the shipped one.
     pub catalog: Option<PathBuf>,
+    /// Shows how far the bulk registry has been read (the one input that can take long).
+    pub progress: Option<indicatif::ProgressBar>,
 }
 
 /// Everything a command works on, with the ledger of what was read.
@@ -70,7 +72,9 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
         registry::read_yaml(path, &mut builder)?;
     }
     let (registry, mut ledger) = match &paths.bulk {
-        Some((versions, deps)) if paths.registry.is_empty() => read_bulk(versions, deps)?,
+        Some((versions, deps)) if paths.registry.is_empty() => {
+            bulk::read_bulk_showing(versions, deps, paths.progress.as_ref())?
+        }
         Some(_) => {
             return Err(BadInput::file(
                 "command line",

@@ -186,13 +186,27 @@ impl Table {
         known: &[&'static str],
         required: &[&'static str],
     ) -> Result<Table, BadInput> {
+        Self::open_showing(path, known, required, None)
+    }
+
+    /// [`Table::open`], advancing `progress` by every byte read from the file.
+    pub fn open_showing(
+        path: &Path,
+        known: &[&'static str],
+        required: &[&'static str],
+        progress: Option<&indicatif::ProgressBar>,
+    ) -> Result<Table, BadInput> {
         let file = path.display().to_string();
         let handle = std::fs::File::open(path)
             .map_err(|e| BadInput::file(&file, format!("cannot read: {e}")))?;
         let byte_len = handle.metadata().ok().map(|m| m.len());
+        let input: Box<dyn std::io::Read + Send> = match progress {
+            Some(bar) => Box::new(bar.wrap_read(handle)),
+            None => Box::new(handle),
+        };
         let mut table = Self::from_reader(
             &file,
-            Box::new(std::io::BufReader::with_capacity(1 << 20, handle)),
+            Box::new(std::io::BufReader::with_capacity(1 << 20, input)),
             known,
             required,
         )?;
