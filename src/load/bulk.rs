@@ -3,9 +3,9 @@
 //!
 //! Rows feed the same [`RegistryBuilder`] as the YAML reader, so a data problem is reported
 //! with the same kind and wording in both formats; only the place (the CSV row) differs.
-//! Every version is staged while the versions file is read, dependencies are attached by
-//! (package, version text) while the dependency file is read, and the versions are then
-//! committed in file order.
+//! Each version is checked and put in its package's release list while the versions file is
+//! read, dependencies are attached by (package, version text) while the dependency file is
+//! read, and each version then gets its own, or is dropped for an unreadable requirement.
 
 use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
 use super::registry::{BadDependency, RegistryBuilder, VersionFields};
