@@ -46,7 +46,7 @@ pub struct RowBuf {
 pub struct Batch {
     text: String,
     /// Per cell, where it ends in `text`; every row has the header's number of cells.
-    ends: Vec<u32>,
+    ends: Vec<usize>,
     lines: Vec<usize>,
     width: usize,
 }
@@ -61,10 +61,7 @@ impl Batch {
     fn push(&mut self, row: &RowBuf) {
         for cell in row.record.iter() {
             self.text.push_str(cell);
-            // Batches are a few thousand rows, far below 4 GiB; a longer row would only
-            // make its cells read wrong, never past the buffer.
-            self.ends
-                .push(u32::try_from(self.text.len()).unwrap_or(u32::MAX));
+            self.ends.push(self.text.len());
         }
         self.lines.push(row.line);
     }
@@ -114,8 +111,8 @@ impl Batch {
 pub struct RowRef<'b> {
     pub line: usize,
     text: &'b str,
-    ends: &'b [u32],
-    start: u32,
+    ends: &'b [usize],
+    start: usize,
 }
 
 /// Reads a true/false cell. CSV exports spell booleans many ways; the YAML spellings are
@@ -146,7 +143,7 @@ impl<'b> RowRef<'b> {
             _ => self.ends[i - 1],
         };
         self.text
-            .get(start as usize..end as usize)
+            .get(start..end)
             .map(trim)
             .filter(|s| !s.is_empty())
     }
