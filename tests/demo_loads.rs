@@ -321,3 +321,38 @@ fn expected_cells_are_well_formed() {
         );
     }
 }
+
+/// Reading a registry moves its progress bar from the start to exactly its end, in both
+/// formats, so a bar never stops short or runs past its length. The bar is hidden (no
+/// terminal), but counts all the same.
+#[test]
+fn registry_reading_fills_its_progress_bar() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::bulk::read_bulk_showing;
+    use basefit::load::registry::read_yaml_showing;
+    let size = |p: &Path| std::fs::metadata(p).unwrap().len();
+
+    let yaml = root().join("demo-data/registry.yaml");
+    let bar = indicatif::ProgressBar::hidden();
+    // Parsing, then checking the packages, each counted as the file's size.
+    bar.set_length(2 * size(&yaml));
+    read_yaml_showing(&yaml, &mut RegistryBuilder::new(), Some(&bar)).unwrap();
+    assert_eq!(bar.position(), 2 * size(&yaml));
+
+    let dir = tempfile::tempdir().unwrap();
+    let (versions, deps) = (dir.path().join("v.csv"), dir.path().join("d.csv"));
+    std::fs::write(
+        &versions,
+        "package,version\nfernwood,1.0.0\nfernwood,1.1.0\n",
+    )
+    .unwrap();
+    std::fs::write(
+        &deps,
+        "package,version,dependency\nfernwood,1.1.0,fernwood-core\n",
+    )
+    .unwrap();
+    let bar = indicatif::ProgressBar::hidden();
+    read_bulk_showing(&versions, &deps, Some(&bar)).unwrap();
+    let want = size(&versions) + size(&deps);
+    assert_eq!((bar.position(), bar.length()), (want, Some(want)));
+}

@@ -69,7 +69,7 @@ pub fn read_bulk(versions: &Path, deps: &Path) -> Result<(Registry, Ledger), Bad
 }
 
 /// [`read_bulk`], showing how many bytes of the two files have been read on `progress`,
-/// whose length becomes their total size.
+/// whose length becomes their total size; the caller clears the bar.
 ///
 /// ```
 /// # fn main() -> Result<(), Box<dyn std::error::Error>> {
@@ -88,25 +88,17 @@ pub fn read_bulk_showing(
     progress: Option<&indicatif::ProgressBar>,
 ) -> Result<(Registry, Ledger), BadInput> {
     if let Some(bar) = progress {
-        let size = |p: &Path| std::fs::metadata(p).map_or(0, |m| m.len());
-        bar.reset();
-        bar.set_length(size(versions) + size(deps));
-        bar.set_style(
-            indicatif::ProgressStyle::with_template(
-                "{bar:40} {bytes}/{total_bytes} of the registry read, {bytes_per_sec}, eta {eta}",
-            )
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        super::start_bar(
+            bar,
+            super::file_size(versions) + super::file_size(deps),
+            "{bar:40} {bytes}/{total_bytes} of the registry read, {bytes_per_sec}, eta {eta}",
         );
     }
     let versions = Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
     // The dependency header is checked before the (long) versions pass, so a wrong column
     // there is reported at once.
     let deps = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
-    let read = read_tables(versions, deps);
-    if let Some(bar) = progress {
-        bar.finish_and_clear();
-    }
-    read
+    read_tables(versions, deps)
 }
 
 /// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.

@@ -25,6 +25,21 @@ pub use results::read_results;
 use crate::model::Registry;
 use std::path::Path;
 
+fn file_size(path: &Path) -> u64 {
+    std::fs::metadata(path).map_or(0, |m| m.len())
+}
+
+/// Gives a bar its length and style, and starts its clock: bars are made before the step that
+/// shows on them.
+pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &str) {
+    bar.set_length(length);
+    bar.reset();
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(template)
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+}
+
 /// Reads one or more registry files (YAML) into one registry.
 pub fn read_registry(paths: &[&Path]) -> Result<(Registry, Ledger), BadInput> {
     let mut builder = RegistryBuilder::new();
@@ -50,7 +65,7 @@ pub struct InputPaths {
     pub results: Vec<PathBuf>,
     /// A user catalog file applied over the shipped one.
     pub catalog: Option<PathBuf>,
-    /// Shows how far the bulk registry has been read (the one input that can take long).
+    /// Shows how far the registry has been read (the one input that can take long).
     pub progress: Option<indicatif::ProgressBar>,
 }
 
@@ -68,12 +83,32 @@ pub struct Inputs {
 /// Loads every input named in `paths`. A missing optional input is simply empty.
 pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
     let mut builder = RegistryBuilder::new();
+    let yaml_bar = paths
+        .progress
+        .as_ref()
+        .filter(|_| !paths.registry.is_empty());
+    if let Some(bar) = yaml_bar {
+        // Parsing, then checking the packages: each is counted as the file's size.
+        let sizes = paths.registry.iter().map(|p| 2 * file_size(p)).sum();
+        start_bar(
+            bar,
+            sizes,
+            "{bar:40} {percent}% of the registry read, eta {eta}",
+        );
+    }
     for path in &paths.registry {
-        registry::read_yaml(path, &mut builder)?;
+        registry::read_yaml_showing(path, &mut builder, yaml_bar)?;
+    }
+    if let Some(bar) = yaml_bar {
+        bar.finish_and_clear();
     }
     let (registry, mut ledger) = match &paths.bulk {
         Some((versions, deps)) if paths.registry.is_empty() => {
-            bulk::read_bulk_showing(versions, deps, paths.progress.as_ref())?
+            let read = bulk::read_bulk_showing(versions, deps, paths.progress.as_ref())?;
+            if let Some(bar) = &paths.progress {
+                bar.finish_and_clear();
+            }
+            read
         }
         Some(_) => {
             return Err(BadInput::file(

@@ -489,9 +489,19 @@ const NATIVE_FIELDS: &[&str] = &["libraries", "files"];
 
 /// Reads a registry snapshot in YAML into `builder`.
 pub fn read_yaml(path: &Path, builder: &mut RegistryBuilder) -> Result<(), BadInput> {
+    read_yaml_showing(path, builder, None)
+}
+
+/// [`read_yaml`], advancing `progress` by twice the file's size: the first half while the
+/// text is parsed, the second while its packages are checked.
+pub fn read_yaml_showing(
+    path: &Path,
+    builder: &mut RegistryBuilder,
+    progress: Option<&indicatif::ProgressBar>,
+) -> Result<(), BadInput> {
     let file = path.display().to_string();
     let text = read_text(path)?;
-    read_yaml_str(&file, &text, builder)
+    read_yaml_text(&file, &text, builder, progress)
 }
 
 /// Reads registry YAML from a string; `file` names it in messages.
@@ -500,7 +510,19 @@ pub fn read_yaml_str(
     text: &str,
     builder: &mut RegistryBuilder,
 ) -> Result<(), BadInput> {
-    let doc = yaml::parse(file, text)?;
+    read_yaml_text(file, text, builder, None)
+}
+
+fn read_yaml_text(
+    file: &str,
+    text: &str,
+    builder: &mut RegistryBuilder,
+    bar: Option<&indicatif::ProgressBar>,
+) -> Result<(), BadInput> {
+    let start = bar.map_or(0, |b| b.position());
+    let size = text.len() as u64;
+    let progress = bar.map(|bar| yaml::Progress { bar, start });
+    let doc = yaml::parse_showing(file, text, progress.as_ref())?;
     let ctx = Ctx { file };
     let top = ctx.map(&doc, "registry", TOP_FIELDS)?;
     let packages = top.seq("packages")?;
@@ -509,12 +531,23 @@ pub fn read_yaml_str(
     }
     // Schema errors are collected over the whole file before anything is added, so a
     // malformed file adds nothing and reports many errors at once.
-    let parsed = yaml::collect_errors(packages, |node| parse_package(ctx, node))?;
+    let count = packages.len().max(1) as u64;
+    let mut done = 0;
+    let parsed = yaml::collect_errors(packages, |node| {
+        if let Some(bar) = bar {
+            bar.set_position(start + size + size * done / count);
+        }
+        done += 1;
+        parse_package(ctx, node)
+    })?;
     for pkg in parsed {
         let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
         for (line, raw) in pkg.releases {
             builder.add_release(id, file, line, raw);
         }
+    }
+    if let Some(bar) = bar {
+        bar.set_position(start + 2 * size);
     }
     Ok(())
 }

@@ -53,15 +53,23 @@ enum Open {
     Map(usize, Vec<Rc<Node>>, usize),
 }
 
-struct Builder {
+struct Builder<'p> {
     stack: Vec<Open>,
     anchors: Vec<Option<Rc<Node>>>,
     docs: Vec<Rc<Node>>,
     expanded_total: u64,
     error: Option<(usize, String)>,
+    progress: Option<&'p Progress<'p>>,
+    events: u32,
 }
 
-impl Builder {
+/// A bar that a parse advances by the position it has reached in the text, from `start`.
+pub struct Progress<'p> {
+    pub bar: &'p indicatif::ProgressBar,
+    pub start: u64,
+}
+
+impl Builder<'_> {
     fn push_node(&mut self, node: Rc<Node>, anchor: usize) {
         if anchor > 0 {
             if self.anchors.len() <= anchor {
@@ -83,10 +91,17 @@ fn is_null_scalar(text: &str, style: TScalarStyle, tag: &Option<Tag>) -> bool {
     style == TScalarStyle::Plain && matches!(text, "" | "~" | "null" | "Null" | "NULL")
 }
 
-impl MarkedEventReceiver for Builder {
+impl MarkedEventReceiver for Builder<'_> {
     fn on_event(&mut self, ev: Event, mark: Marker) {
         if self.error.is_some() {
             return;
+        }
+        self.events = self.events.wrapping_add(1);
+        if let Some(p) = self.progress
+            && self.events.is_multiple_of(4096)
+        {
+            // A character position: at most the byte length the bar was sized with.
+            p.bar.set_position(p.start + mark.index() as u64);
         }
         let line = mark.line();
         match ev {
@@ -167,12 +182,23 @@ impl MarkedEventReceiver for Builder {
 /// Parses `text` as one YAML document. An empty document is an error: every input of
 /// basefit has required content.
 pub fn parse(file: &str, text: &str) -> Result<Rc<Node>, BadInput> {
+    parse_showing(file, text, None)
+}
+
+/// [`parse`], advancing `progress` as the parser moves through the text.
+pub fn parse_showing(
+    file: &str,
+    text: &str,
+    progress: Option<&Progress<'_>>,
+) -> Result<Rc<Node>, BadInput> {
     let mut builder = Builder {
         stack: Vec::new(),
         anchors: Vec::new(),
         docs: Vec::new(),
         expanded_total: 0,
         error: None,
+        progress,
+        events: 0,
     };
     let mut parser = Parser::new_from_str(text);
     if let Err(e) = parser.load(&mut builder, true) {

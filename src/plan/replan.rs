@@ -787,19 +787,15 @@ pub fn replan(
     let n_images = views.len();
     let total = inputs.priorities.entries.len() * n_images;
     if let Some(pb) = &options.progress {
-        pb.set_style(
-            indicatif::ProgressStyle::with_template(
-                "{bar:40} {pos}/{len} cells, {per_sec}, eta {eta}",
-            )
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
-        );
-        // The bar is made before the inputs are read; its clock starts with the cells, so
-        // the rate and time left are the solver's.
-        pb.reset();
-        pb.set_length(match shard {
+        let cells = match shard {
             Some(s) => (0..total).filter(|i| s.contains(*i)).count() as u64,
             None => total as u64,
-        });
+        };
+        crate::load::start_bar(
+            pb,
+            cells,
+            "{bar:40} {pos}/{len} cells, {per_sec}, eta {eta}",
+        );
     }
     let results: Vec<(Source, u64, u64)> = (0..total)
         .into_par_iter()
