@@ -198,17 +198,21 @@ fn results_load_with_their_logs() {
     let (images, _) = load_images();
     let mut ledger = Ledger::default();
     let path: &Path = &root().join("demo-data/results.yaml");
-    let results = read_results(
+    // Read through a (hidden) progress bar, which must count every record once.
+    let bar = indicatif::ProgressBar::hidden();
+    let results = basefit::load::results::read_results_showing(
         path,
         &Known {
             registry: &registry,
             images: &images,
         },
         &mut ledger,
+        Some(&bar),
     )
     .unwrap_or_else(|e| panic!("{e}"));
     assert!(ledger.is_clean(), "{:#?}", ledger.problems);
     assert_eq!(results.len(), 12);
+    assert_eq!((bar.position(), bar.length()), (12, Some(12)));
     let log = |package: &str, image: &str| {
         results
             .iter()

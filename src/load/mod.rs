@@ -65,7 +65,8 @@ pub struct InputPaths {
     pub results: Vec<PathBuf>,
     /// A user catalog file applied over the shipped one.
     pub catalog: Option<PathBuf>,
-    /// Shows how far the registry has been read (the one input that can take long).
+    /// Shows how far the registry and the recorded results have been read (the inputs that
+    /// can take long).
     pub progress: Option<indicatif::ProgressBar>,
 }
 
@@ -141,12 +142,32 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
         }
     }
     let mut results = Vec::new();
+    let results_bar = paths
+        .progress
+        .as_ref()
+        .filter(|_| !paths.results.is_empty());
+    if let Some(bar) = results_bar {
+        // Grown by each file's records as it is read.
+        start_bar(
+            bar,
+            0,
+            "{bar:40} {pos}/{len} recorded results read, eta {eta}",
+        );
+    }
     for p in &paths.results {
         let known = results::Known {
             registry: &registry,
             images: &images,
         };
-        results.extend(read_results(p, &known, &mut ledger)?);
+        results.extend(results::read_results_showing(
+            p,
+            &known,
+            &mut ledger,
+            results_bar,
+        )?);
+    }
+    if let Some(bar) = results_bar {
+        bar.finish_and_clear();
     }
     let catalog = match &paths.catalog {
         Some(p) => Catalog::with_override(p)?,

@@ -35,6 +35,17 @@ pub fn read_results(
     known: &Known<'_>,
     ledger: &mut Ledger,
 ) -> Result<Vec<RecordedResult>, BadInput> {
+    read_results_showing(path, known, ledger, None)
+}
+
+/// [`read_results`], counting the file's records into `progress` (its length grows by their
+/// number, its position by each record checked, log included).
+pub fn read_results_showing(
+    path: &Path,
+    known: &Known<'_>,
+    ledger: &mut Ledger,
+    progress: Option<&indicatif::ProgressBar>,
+) -> Result<Vec<RecordedResult>, BadInput> {
     let file = path.display().to_string();
     let raw = if has_extension(path, "csv") {
         read_csv(path)?
@@ -44,7 +55,11 @@ pub fn read_results(
         read_yaml(&file, &read_text(path)?)?
     };
     let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
-    Ok(assemble(&file, &base, raw, known, ledger))
+    if let Some(bar) = progress {
+        // Set rather than grown: a bar without a length yet ignores growth.
+        bar.set_length(bar.length().unwrap_or(0) + raw.len() as u64);
+    }
+    Ok(assemble(&file, &base, raw, known, ledger, progress))
 }
 
 fn read_yaml(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
@@ -173,9 +188,13 @@ fn assemble(
     raw: Vec<RawResult>,
     known: &Known<'_>,
     ledger: &mut Ledger,
+    progress: Option<&indicatif::ProgressBar>,
 ) -> Vec<RecordedResult> {
     let mut out = Vec::new();
     for r in raw {
+        if let Some(bar) = progress {
+            bar.inc(1);
+        }
         ledger.read(RecordKind::Result);
         let origin = Origin {
             file: file.to_string(),
