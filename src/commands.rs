@@ -450,6 +450,10 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
         o.runtimes.clone()
     };
     let sets = crate::solve::SetCache::default();
+    if let Some(pb) = &o.plan.progress {
+        let template = "{bar:40} {pos}/{len} cells at candidate runtimes, {per_sec}, eta {eta}";
+        crate::load::start_bar(pb, 0, template);
+    }
     let coverage = plan::coverage::default_bases(&selected)
         .into_iter()
         .map(|base| plan::coverage::coverage(inputs, base, &runtimes, o.target, &o.plan, &sets))

@@ -424,3 +424,21 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
     assert_eq!(brace.version, "2.0.0");
     assert_eq!(p.missing_system_packages, ["libxml2-dev"]);
 }
+
+/// Coverage counts every cell it solves into the progress bar, once: three distinct runtimes
+/// (of four given) times four priority entries, twice over for two bases sharing the bar.
+#[test]
+fn coverage_counts_its_cells_into_the_progress_bar() {
+    let inp = inputs(COVERAGE_REGISTRY, ONE_IMAGE, COVERAGE_PRIORITIES);
+    let bar = indicatif::ProgressBar::hidden();
+    let options = PlanOptions {
+        progress: Some(bar.clone()),
+        ..PlanOptions::default()
+    };
+    let runtimes = [v("3.2.0"), v("3.0.0"), v("3.1.0"), v("3.0.0")];
+    for _ in 0..2 {
+        let image = &inp.images.images[0];
+        coverage(&inp, image, &runtimes, 0.5, &options, &SetCache::default());
+    }
+    assert_eq!((bar.position(), bar.length()), (24, Some(24)));
+}

@@ -30,14 +30,18 @@ fn file_size(path: &Path) -> u64 {
 }
 
 /// Gives a bar its length and style, and starts its clock: bars are made before the step that
-/// shows on them.
+/// shows on them, and one bar may serve several steps in turn. Nothing is drawn until all is
+/// set, so no frame shows one step's style with another's numbers. Bars exist only when stderr
+/// is a terminal (the command layer decides), so drawing goes back to stderr.
 pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &str) {
-    bar.set_length(length);
-    bar.reset();
+    bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
     bar.set_style(
         indicatif::ProgressStyle::with_template(template)
             .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
     );
+    bar.set_length(length);
+    bar.reset();
+    bar.set_draw_target(indicatif::ProgressDrawTarget::stderr());
 }
 
 /// Reads one or more registry files (YAML) into one registry.

@@ -99,12 +99,20 @@ pub fn coverage(
         .collect();
     let entries = &inputs.priorities.entries;
     let n = entries.len();
+    if let Some(pb) = &options.progress {
+        // Several bases share one bar, each adding its cells.
+        pb.set_length(pb.length().unwrap_or(0) + (views.len() * n) as u64);
+    }
     let resolved: Vec<bool> = (0..views.len() * n)
         .into_par_iter()
         .map(|i| {
-            plan_cell(inputs, &views[i / n], &entries[i % n], options)
+            let resolves = plan_cell(inputs, &views[i / n], &entries[i % n], options)
                 .outcome
-                .resolves()
+                .resolves();
+            if let Some(pb) = &options.progress {
+                pb.inc(1);
+            }
+            resolves
         })
         .collect();
     let total: f64 = entries.iter().map(|e| e.weight).sum();
