@@ -451,7 +451,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
     };
     let sets = crate::solve::SetCache::default();
     if let Some(pb) = &o.plan.progress {
-        let template = "{bar:40} {pos}/{len} cells at candidate runtimes, {per_sec}, eta {eta}";
+        let template = "{pos}/{len} cells at candidate runtimes, {rate}, eta {eta} {wide_bar}";
         crate::load::start_bar(pb, 0, template);
     }
     let coverage = plan::coverage::default_bases(&selected)

@@ -91,7 +91,7 @@ pub fn read_bulk_showing(
         super::start_bar(
             bar,
             super::file_size(versions) + super::file_size(deps),
-            "{bar:40} {bytes}/{total_bytes} of the registry read, {bytes_per_sec}, eta {eta}",
+            "registry {bytes}/{total_bytes} read, eta {eta} {wide_bar}",
         );
     }
     let versions = Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;

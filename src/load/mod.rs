@@ -35,10 +35,16 @@ fn file_size(path: &Path) -> u64 {
 /// is a terminal (the command layer decides), so drawing goes back to stderr.
 pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &str) {
     bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
-    bar.set_style(
-        indicatif::ProgressStyle::with_template(template)
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
-    );
+    let style = indicatif::ProgressStyle::with_template(template)
+        .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+        // Whole steps per second: `{per_sec}` prints four decimals.
+        .with_key(
+            "rate",
+            |state: &indicatif::ProgressState, w: &mut dyn std::fmt::Write| {
+                let _ = write!(w, "{:.0}/s", state.per_sec());
+            },
+        );
+    bar.set_style(style);
     bar.set_length(length);
     bar.reset();
     bar.set_draw_target(indicatif::ProgressDrawTarget::stderr());
@@ -95,11 +101,7 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
     if let Some(bar) = yaml_bar {
         // Parsing, then checking the packages: each is counted as the file's size.
         let sizes = paths.registry.iter().map(|p| 2 * file_size(p)).sum();
-        start_bar(
-            bar,
-            sizes,
-            "{bar:40} {percent}% of the registry read, eta {eta}",
-        );
+        start_bar(bar, sizes, "registry {percent}% read, eta {eta} {wide_bar}");
     }
     for path in &paths.registry {
         registry::read_yaml_showing(path, &mut builder, yaml_bar)?;
@@ -155,7 +157,7 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
         start_bar(
             bar,
             0,
-            "{bar:40} {pos}/{len} recorded results read, eta {eta}",
+            "{pos}/{len} recorded results read, eta {eta} {wide_bar}",
         );
     }
     for p in &paths.results {

@@ -791,11 +791,7 @@ pub fn replan(
             Some(s) => (0..total).filter(|i| s.contains(*i)).count() as u64,
             None => total as u64,
         };
-        crate::load::start_bar(
-            pb,
-            cells,
-            "{bar:40} {pos}/{len} cells, {per_sec}, eta {eta}",
-        );
+        crate::load::start_bar(pb, cells, "{pos}/{len} cells, {rate}, eta {eta} {wide_bar}");
     }
     let results: Vec<(Source, u64, u64)> = (0..total)
         .into_par_iter()
