@@ -537,16 +537,14 @@ fn main() {
                     .iter()
                     .rev()
                     .find(|r| !r.yanked)?;
+                let origin = basefit::load::diag::Origin {
+                    file: "sweep".into(),
+                    line: 0,
+                };
                 Some(Priority {
-                    rank: 0,
-                    name: registry.name(id).to_string(),
-                    weight: 1.0,
                     req: Requirement::parse(&format!("={}", newest.version)).ok(),
                     prerelease: true,
-                    origin: basefit::load::diag::Origin {
-                        file: "sweep".into(),
-                        line: 0,
-                    },
+                    ..Priority::named(0, registry.name(id), origin)
                 })
             })
             .collect();

@@ -330,12 +330,8 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
                 {
                     next_rank += 1;
                     inputs.priorities.entries.push(crate::model::Priority {
-                        rank: next_rank,
-                        name: r.package.clone(),
                         weight: 0.0,
-                        req: None,
-                        prerelease: false,
-                        origin: r.origin.clone(),
+                        ..crate::model::Priority::named(next_rank, &r.package, r.origin.clone())
                     });
                 }
             }

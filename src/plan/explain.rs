@@ -54,16 +54,15 @@ pub fn explain(
         .iter()
         .find(|e| e.name == package)
         .cloned()
-        .unwrap_or_else(|| Priority {
-            rank: 0,
-            name: package.to_string(),
-            weight: 0.0,
-            req: None,
-            prerelease: false,
-            origin: crate::load::diag::Origin {
+        .unwrap_or_else(|| {
+            let origin = crate::load::diag::Origin {
                 file: "command line".into(),
                 line: 0,
-            },
+            };
+            Priority {
+                weight: 0.0,
+                ..Priority::named(0, package, origin)
+            }
         });
     let sets = SetCache::default();
     let view = ImageView::new(&inputs.registry, image, &sets);
