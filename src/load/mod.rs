@@ -93,6 +93,15 @@ pub struct Inputs {
 
 /// Loads every input named in `paths`. A missing optional input is simply empty.
 pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
+    let loaded = load_all(paths);
+    // Also when a file is unusable, so its message is not printed under a stale bar.
+    if let Some(bar) = &paths.progress {
+        bar.finish_and_clear();
+    }
+    loaded
+}
+
+fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
     let mut builder = RegistryBuilder::new();
     let yaml_bar = paths
         .progress
