@@ -564,15 +564,9 @@ fn main() {
             registry: std::mem::take(&mut inputs.registry),
             ..Default::default()
         };
-        let pb = indicatif::ProgressBar::new(0);
-        pb.set_style(
-            indicatif::ProgressStyle::with_template(
-                "sweep {bar:40} {pos}/{len} cells, {per_sec}, eta {eta}",
-            )
-            .unwrap(),
-        );
+        // The plan styles the bar (cells, rate, time left); it draws only on a terminal.
         let sweep_options = PlanOptions {
-            progress: Some(pb),
+            progress: Some(indicatif::ProgressBar::new(0)),
             closures: false,
             ..PlanOptions::default()
         };
