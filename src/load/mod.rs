@@ -34,6 +34,8 @@ fn file_size(path: &Path) -> u64 {
 /// set, so no frame shows one step's style with another's numbers. Bars exist only when stderr
 /// is a terminal (the command layer decides), so drawing goes back to stderr.
 pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &str) {
+    // Erases what the previous step left on screen; a new draw target would not know of it.
+    bar.finish_and_clear();
     bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
     let style = indicatif::ProgressStyle::with_template(template)
         .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
@@ -94,7 +96,8 @@ pub struct Inputs {
 /// Loads every input named in `paths`. A missing optional input is simply empty.
 pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
     let loaded = load_all(paths);
-    // Also when a file is unusable, so its message is not printed under a stale bar.
+    // One clear for every step (each step's `start_bar` resets the bar), and also when a file
+    // is unusable, so its message is not printed under a stale bar.
     if let Some(bar) = &paths.progress {
         bar.finish_and_clear();
     }
@@ -115,16 +118,9 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
     for path in &paths.registry {
         registry::read_yaml_showing(path, &mut builder, yaml_bar)?;
     }
-    if let Some(bar) = yaml_bar {
-        bar.finish_and_clear();
-    }
     let (registry, mut ledger) = match &paths.bulk {
         Some((versions, deps)) if paths.registry.is_empty() => {
-            let read = bulk::read_bulk_showing(versions, deps, paths.progress.as_ref())?;
-            if let Some(bar) = &paths.progress {
-                bar.finish_and_clear();
-            }
-            read
+            bulk::read_bulk_showing(versions, deps, paths.progress.as_ref())?
         }
         Some(_) => {
             return Err(BadInput::file(
@@ -180,9 +176,6 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
             &mut ledger,
             results_bar,
         )?);
-    }
-    if let Some(bar) = results_bar {
-        bar.finish_and_clear();
     }
     let catalog = match &paths.catalog {
         Some(p) => Catalog::with_override(p)?,
