@@ -821,16 +821,22 @@ impl Load {
                     release.deps = grouped[starts[i]..starts[i + 1]].into();
                 }
                 Some((line, name, why)) => {
-                    let version =
-                        &builder.registry.package(package).releases[place as usize].version;
-                    let subject = format!("{}@{version}", builder.registry.name(package));
+                    // Cloned: the builder is borrowed mutably to record the problem.
+                    let version = builder.registry.package(package).releases[place as usize]
+                        .version
+                        .clone();
                     let bad_dep = BadDependency {
                         file: &file,
                         line: *line,
                         name,
                         why: why.clone(),
                     };
-                    builder.leave_out_for_dependency(subject, u64::from(counts[i]), bad_dep);
+                    builder.leave_out_for_dependency(
+                        package,
+                        &version,
+                        u64::from(counts[i]),
+                        bad_dep,
+                    );
                     dropped.push((package, place));
                 }
             }

@@ -304,23 +304,23 @@ impl RegistryBuilder {
             mut release,
         } = staged;
         if let Some(bad) = bad {
-            let subject = format!("{}@{}", self.registry.name(package), release.version);
-            self.leave_out_for_dependency(subject, dep_count, bad);
+            self.leave_out_for_dependency(package, &release.version, dep_count, bad);
             return;
         }
         release.deps = deps;
         self.registry.package_mut(package).releases.push(release);
     }
 
-    /// Records a version (named `package@version` in `subject`) as left out for its first
-    /// unreadable requirement, with its `dep_count` dependency records. The caller drops the
-    /// release itself.
+    /// Records `package`@`version` as left out for its first unreadable requirement, with its
+    /// `dep_count` dependency records. The caller drops the release itself.
     pub fn leave_out_for_dependency(
         &mut self,
-        subject: String,
+        package: PackageId,
+        version: &semver::Version,
         dep_count: u64,
         bad: BadDependency<'_>,
     ) {
+        let subject = format!("{}@{version}", self.registry.name(package));
         self.ledger.leave_out(
             RecordKind::Version,
             ProblemKind::UnreadableRequirement,
