@@ -4,8 +4,11 @@
 //! repeat the same few thousand requirement strings millions of times, and the solver compares
 //! package ids, not strings.
 
+mod lazy;
 mod registry;
 mod requirement;
+
+pub use lazy::PerPackage;
 
 pub use registry::{
     Build, Dep, DepKind, NativeHints, Package, PackageId, Platform, PlatformId, Registry, Release,

@@ -32,7 +32,7 @@
 
 use super::matrix::{Cell, Matrix, Outcome, PlanOptions, image_columns, package_rows, plan_cell};
 use crate::load::Inputs;
-use crate::model::{Image, PackageId, Priority, Registry, Release, Requirement};
+use crate::model::{Image, PackageId, PerPackage, Priority, Registry, Release, Requirement};
 use crate::solve::sets::{IndexSet, root_set};
 use crate::solve::{Admission, ImageView, Observed, SetCache};
 use rayon::prelude::*;
@@ -142,21 +142,20 @@ fn versions_print(releases: &[Release]) -> u64 {
 /// Fingerprints of the current registry's packages, computed on first use.
 struct PrintTable<'r> {
     registry: &'r Registry,
-    prints: Vec<OnceLock<Prints>>,
+    prints: PerPackage<Prints>,
 }
 
 impl<'r> PrintTable<'r> {
     fn new(registry: &'r Registry) -> Self {
         PrintTable {
             registry,
-            prints: (0..registry.packages.len())
-                .map(|_| OnceLock::new())
-                .collect(),
+            prints: PerPackage::new(registry.packages.len()),
         }
     }
 
     fn of(&self, id: PackageId) -> &Prints {
-        self.prints[id.0 as usize].get_or_init(|| Prints::of(self.registry, id))
+        self.prints
+            .get_or_init(id, || Prints::of(self.registry, id))
     }
 }
 

@@ -2,7 +2,7 @@
 //! which releases of each package are admissible there, and why the others are not.
 
 use super::sets::{IndexSet, SetCache};
-use crate::model::{Image, PackageId, Registry, ReqId, Requirement};
+use crate::model::{Image, PackageId, PerPackage, Registry, ReqId, Requirement};
 use semver::{Op, Version};
 use serde::Serialize;
 use std::sync::OnceLock;
@@ -38,7 +38,7 @@ pub struct ImageView<'r> {
     pub sets: &'r SetCache,
     platform: Option<crate::model::PlatformId>,
     runtime_verdicts: Vec<OnceLock<Admission>>,
-    packages: Vec<OnceLock<PackageFit>>,
+    packages: PerPackage<PackageFit>,
 }
 
 /// What the image makes of one package's releases.
@@ -62,9 +62,7 @@ impl<'r> ImageView<'r> {
             runtime_verdicts: (0..registry.requirements.len())
                 .map(|_| OnceLock::new())
                 .collect(),
-            packages: (0..registry.packages.len())
-                .map(|_| OnceLock::new())
-                .collect(),
+            packages: PerPackage::new(registry.packages.len()),
         }
     }
 
@@ -74,7 +72,7 @@ impl<'r> ImageView<'r> {
     }
 
     fn package_fit(&self, package: PackageId) -> &PackageFit {
-        self.packages[package.0 as usize].get_or_init(|| {
+        self.packages.get_or_init(package, || {
             let releases = &self.registry.package(package).releases;
             let fits: Vec<Admission> = releases.iter().map(|r| self.fit(r)).collect();
             let ceiling = fits
