@@ -98,7 +98,7 @@ pub fn read_bulk_showing(
     // The dependency header is checked before the (long) versions pass, so a wrong column
     // there is reported at once.
     let deps = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
-    read_tables(versions, deps)
+    read_tables(versions, deps, progress)
 }
 
 /// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.
@@ -110,13 +110,20 @@ pub fn read_bulk_from(
 ) -> Result<(Registry, Ledger), BadInput> {
     let versions = Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
     let deps = Table::from_reader(deps_name, deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
-    read_tables(versions, deps)
+    read_tables(versions, deps, None)
 }
 
-fn read_tables(versions: Table, deps: Table) -> Result<(Registry, Ledger), BadInput> {
+fn read_tables(
+    versions: Table,
+    deps: Table,
+    progress: Option<&indicatif::ProgressBar>,
+) -> Result<(Registry, Ledger), BadInput> {
     let mut load = Load::default();
     load.read_versions(versions)?;
     let attached = load.read_dependencies(deps)?;
+    if let Some(bar) = progress {
+        super::show_indexing(bar);
+    }
     Ok(load.commit(attached).finish())
 }
 

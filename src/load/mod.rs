@@ -34,6 +34,8 @@ fn file_size(path: &Path) -> u64 {
 /// set, so no frame shows one step's style with another's numbers. Bars exist only when stderr
 /// is a terminal (the command layer decides), so drawing goes back to stderr.
 pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &str) {
+    // A step of unknown length before this one animated the bar on a timer.
+    bar.disable_steady_tick();
     // Erases what the previous step left on screen; a new draw target would not know of it.
     bar.finish_and_clear();
     bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
@@ -50,6 +52,19 @@ pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &st
     bar.set_length(length);
     bar.reset();
     bar.set_draw_target(indicatif::ProgressDrawTarget::stderr());
+}
+
+/// Shows on `bar` that the registry files are read and the registry is being indexed (names
+/// sorted, versions ordered, requirements checked): seconds on a registry-sized input, with
+/// nothing to count, so the bar animates on a timer rather than sit full and still. Position
+/// and length are kept.
+pub(crate) fn show_indexing(bar: &indicatif::ProgressBar) {
+    let style = indicatif::ProgressStyle::with_template(
+        "registry read, indexing {spinner} {elapsed} {wide_bar}",
+    )
+    .unwrap_or_else(|_| indicatif::ProgressStyle::default_spinner());
+    bar.set_style(style);
+    bar.enable_steady_tick(std::time::Duration::from_millis(120));
 }
 
 /// Reads one or more registry files (YAML) into one registry.
@@ -128,7 +143,12 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
                 "give either YAML registry files or a bulk CSV pair, not both",
             ));
         }
-        None => builder.finish(),
+        None => {
+            if let Some(bar) = yaml_bar {
+                show_indexing(bar);
+            }
+            builder.finish()
+        }
     };
     let images = match &paths.images {
         Some(p) => read_images(p, &mut ledger)?,

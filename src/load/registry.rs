@@ -546,6 +546,8 @@ fn read_yaml_text(
             builder.add_release(id, file, line, raw);
         }
     }
+    // Freeing a registry-sized tree takes a noticeable while; the bar fills after it.
+    drop(doc);
     if let Some(bar) = bar {
         bar.set_position(start + 2 * size);
     }
