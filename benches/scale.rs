@@ -254,29 +254,49 @@ fn publish_patch(registry: &mut Registry, ids: &[PackageId]) -> usize {
     changed
 }
 
-/// Re-plans after `change`, warm and cold, and prints both with the exact bound.
+/// Re-plans after `change`, warm and cold, and prints both with the exact bound. A single
+/// run of either swings by a third on this machine from one run to the next, so each is run
+/// `RUNS` times (the warm one from a copy of the same cache) and the medians are compared.
 fn replan_after(
     what: &str,
     inputs: &mut Inputs,
     options: &PlanOptions,
     change: impl FnOnce(&mut Registry) -> usize,
 ) {
+    const RUNS: usize = 5;
     let (cache, _) = replan(inputs, options, None, None);
     let before = cache.matrix.clone();
     let changed = change(&mut inputs.registry);
-    let t = Instant::now();
-    let (warm, stats) = replan(inputs, options, Some(cache), None);
-    let warm_time = t.elapsed();
-    let t = Instant::now();
-    let (cold, _) = replan(inputs, options, None, None);
-    let cold_time = t.elapsed();
+    let mut warm_times = Vec::with_capacity(RUNS);
+    let mut warm = None;
+    for _ in 0..RUNS {
+        let previous = cache.clone();
+        let t = Instant::now();
+        let run = replan(inputs, options, Some(previous), None);
+        warm_times.push(t.elapsed());
+        warm = Some(run);
+    }
+    let mut cold_times = Vec::with_capacity(RUNS);
+    let mut cold = None;
+    for _ in 0..RUNS {
+        let t = Instant::now();
+        let run = replan(inputs, options, None, None);
+        cold_times.push(t.elapsed());
+        cold = Some(run);
+    }
+    let ((warm, stats), (cold, _)) = (warm.expect("RUNS > 0"), cold.expect("RUNS > 0"));
+    warm_times.sort();
+    cold_times.sort();
+    let (warm_time, cold_time) = (warm_times[RUNS / 2], cold_times[RUNS / 2]);
     println!(
-        "re-plan after {what} ({changed} packages): warm {:.2} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x, identical: {}",
+        "re-plan after {what} ({changed} packages): warm {:.3} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x (medians of {RUNS}; warm {:.3}-{:.3} s), identical: {}",
         warm_time.as_secs_f64(),
         stats.reused,
         stats.solved,
         cold_time.as_secs_f64(),
         cold_time.as_secs_f64() / warm_time.as_secs_f64(),
+        warm_times[0].as_secs_f64(),
+        warm_times[RUNS - 1].as_secs_f64(),
         basefit::report::to_json(&warm.matrix) == basefit::report::to_json(&cold.matrix)
     );
     exact_bound(inputs, options, &before, &cold.matrix);
