@@ -64,6 +64,8 @@ pub(crate) fn show_indexing(bar: &indicatif::ProgressBar) {
     )
     .unwrap_or_else(|_| indicatif::ProgressStyle::default_spinner());
     bar.set_style(style);
+    // `{elapsed}` then counts the indexing, not the reading before it.
+    bar.reset_elapsed();
     bar.enable_steady_tick(std::time::Duration::from_millis(120));
 }
 
