@@ -22,6 +22,7 @@ const CHUNK: usize = 256;
 /// ```
 pub struct PerPackage<T> {
     chunks: Box<[OnceLock<Chunk<T>>]>,
+    packages: usize,
 }
 
 /// The slots of `CHUNK` consecutive packages.
@@ -34,6 +35,7 @@ impl<T> PerPackage<T> {
             chunks: (0..packages.div_ceil(CHUNK))
                 .map(|_| OnceLock::new())
                 .collect(),
+            packages,
         }
     }
 
@@ -43,9 +45,15 @@ impl<T> PerPackage<T> {
     /// past its end would.
     pub fn get_or_init(&self, id: PackageId, init: impl FnOnce() -> T) -> &T {
         let at = id.0 as usize;
-        let chunk =
-            self.chunks[at / CHUNK].get_or_init(|| (0..CHUNK).map(|_| OnceLock::new()).collect());
-        chunk[at % CHUNK].get_or_init(init)
+        let first = at - at % CHUNK;
+        // The last chunk is cut to the table's length, so an id past it fails as it would on
+        // a slice rather than finding a spare slot.
+        let chunk = self.chunks[at / CHUNK].get_or_init(|| {
+            (first..self.packages.min(first + CHUNK))
+                .map(|_| OnceLock::new())
+                .collect()
+        });
+        chunk[at - first].get_or_init(init)
     }
 }
 
@@ -72,6 +80,13 @@ mod tests {
             }
         });
         assert_eq!(runs.load(Ordering::Relaxed), 3 * CHUNK + 1);
+    }
+
+    #[test]
+    #[should_panic]
+    fn an_id_past_the_table_is_refused_even_inside_the_last_chunk() {
+        let table: PerPackage<u8> = PerPackage::new(CHUNK + 1);
+        table.get_or_init(PackageId(CHUNK as u32 + 1), || 1);
     }
 
     #[test]
