@@ -124,7 +124,11 @@ fn read_tables(
     if let Some(bar) = progress {
         super::show_indexing(bar);
     }
-    Ok(load.commit(attached).finish())
+    let loaded = load.commit(attached).finish();
+    if let Some(bar) = progress {
+        bar.disable_steady_tick();
+    }
+    Ok(loaded)
 }
 
 /// Where the dependencies of a (package, version text) go.

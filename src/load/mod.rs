@@ -57,7 +57,8 @@ pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &st
 /// Shows on `bar` that the registry files are read and the registry is being indexed (names
 /// sorted, versions ordered, requirements checked): seconds on a registry-sized input, with
 /// nothing to count, so the bar animates on a timer rather than sit full and still. Position
-/// and length are kept.
+/// and length are kept. The caller stops the timer when the indexing is done: while it runs,
+/// the bar draws only on the timer.
 pub(crate) fn show_indexing(bar: &indicatif::ProgressBar) {
     let style = indicatif::ProgressStyle::with_template(
         "registry read, indexing {spinner} {elapsed} {wide_bar}",
@@ -149,7 +150,11 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
             if let Some(bar) = yaml_bar {
                 show_indexing(bar);
             }
-            builder.finish()
+            let loaded = builder.finish();
+            if let Some(bar) = yaml_bar {
+                bar.disable_steady_tick();
+            }
+            loaded
         }
     };
     let images = match &paths.images {
