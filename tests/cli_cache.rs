@@ -1,0 +1,126 @@
+//! `plan --cache` through the real command line: a warm run writes exactly the files a cold
+//! run writes, a cache another version wrote is replaced with a note, and a damaged cache is
+//! an input error naming the file and line (exit 2), never a panic.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Runs `basefit plan` on the demo inputs with `cache`, writing into `out`; returns (exit
+/// code, stdout, stderr).
+fn plan(cache: &Path, out: &Path) -> (i32, String, String) {
+    let r = root();
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .arg("plan")
+        .arg("--registry")
+        .arg(r.join("demo-data/registry.yaml"))
+        .arg("--images")
+        .arg(r.join("matrices/demo-images.yaml"))
+        .arg("--priorities")
+        .arg(r.join("demo-data/priorities.yaml"))
+        .arg("--cache")
+        .arg(cache)
+        .arg("--out")
+        .arg(out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr).into_owned();
+    assert!(!stderr.contains("panicked"), "panic: {stderr}");
+    (
+        run.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&run.stdout).into_owned(),
+        stderr,
+    )
+}
+
+fn read(path: PathBuf) -> Vec<u8> {
+    std::fs::read(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+/// The "N cells reused, M solved" counts of a run's stderr.
+fn counts(stderr: &str) -> (usize, usize) {
+    let line = stderr
+        .lines()
+        .find(|l| l.starts_with("plan cache ") && l.contains(" cells reused, "))
+        .unwrap_or_else(|| panic!("no cache line in {stderr}"));
+    let numbers: Vec<usize> = line
+        .split(|c: char| !c.is_ascii_digit())
+        .filter_map(|w| w.parse().ok())
+        .collect();
+    let n = numbers.len();
+    assert!(n >= 2, "{line}");
+    (numbers[n - 2], numbers[n - 1])
+}
+
+#[test]
+fn a_warm_run_writes_the_files_a_cold_run_writes() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, cold_stdout, cold_err) = plan(&cache, &d.path().join("cold"));
+    assert_eq!(code, 0, "{cold_err}");
+    let (reused, solved) = counts(&cold_err);
+    assert_eq!(reused, 0);
+    assert!(solved > 0);
+    let (code, warm_stdout, warm_err) = plan(&cache, &d.path().join("warm"));
+    assert_eq!(code, 0, "{warm_err}");
+    // Nothing changed, so every cell is reused and none solved.
+    assert_eq!(counts(&warm_err), (solved, 0));
+    assert_eq!(cold_stdout, warm_stdout);
+    for file in ["matrix.json", "matrix.yaml"] {
+        assert!(
+            read(d.path().join("cold").join(file)) == read(d.path().join("warm").join(file)),
+            "{file} differs between the cold and the warm run"
+        );
+    }
+}
+
+#[test]
+fn a_cache_another_version_wrote_is_replanned_and_replaced() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    std::fs::write(&cache, "{\"format\": 0, \"anything\": [1, 2, 3]}\n").unwrap();
+    let (code, _, stderr) = plan(&cache, &d.path().join("first"));
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("written by another version of basefit; planning from scratch"),
+        "{stderr}"
+    );
+    let (reused, solved) = counts(&stderr);
+    assert_eq!(reused, 0);
+    // The file now holds this version's cache: the next run reuses every cell.
+    let (code, _, stderr) = plan(&cache, &d.path().join("second"));
+    assert_eq!(code, 0, "{stderr}");
+    assert_eq!(counts(&stderr), (solved, 0));
+}
+
+#[test]
+fn a_damaged_cache_is_an_input_error_naming_file_and_line() {
+    let format = basefit::plan::replan::CACHE_FORMAT;
+    for (text, line) in [
+        // Not JSON at all, on the second line.
+        ("{\n  oops\n}\n".to_string(), 2),
+        // This version's format, cut short.
+        (
+            format!("{{\"format\": {format},\n\"global\": 1,\n\"packages\": ["),
+            3,
+        ),
+        // This version's format without its fields.
+        (format!("{{\"format\": {format}}}\n"), 1),
+    ] {
+        let d = tempfile::tempdir().unwrap();
+        let cache = d.path().join("plan.cache");
+        std::fs::write(&cache, &text).unwrap();
+        let (code, _, stderr) = plan(&cache, &d.path().join("out"));
+        assert_eq!(code, 2, "{text:?}: {stderr}");
+        assert!(
+            stderr.contains(&format!("plan.cache:{line}:")),
+            "{text:?}: wanted line {line} in {stderr}"
+        );
+        assert!(stderr.contains("not a basefit plan cache"), "{stderr}");
+        // The damaged file is left as it was for the user to look at.
+        assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
+    }
+}
