@@ -178,15 +178,25 @@ fn read_cache(
     }
     let what = "basefit plan cache (delete it to plan from scratch)";
     let text = crate::load::diag::read_text(path)?;
-    let header: Header = parse_json(path, &text, what)?;
-    if header.format != Some(plan::replan::CACHE_FORMAT) {
-        out.stderr.push(format!(
-            "plan cache {} was written by another version of basefit; planning from scratch",
-            path.display()
-        ));
-        return Ok(None);
+    // One parse on the usual path: a registry-sized cache is tens of megabytes. Only when the
+    // whole does not read is the header read alone, to tell another version's cache from a
+    // damaged one.
+    let whole: Result<plan::replan::PlanCache, BadInput> = parse_json(path, &text, what);
+    if let Ok(cache) = &whole
+        && cache.format == plan::replan::CACHE_FORMAT
+    {
+        return whole.map(Some);
     }
-    parse_json(path, &text, what).map(Some)
+    let header: Header = parse_json(path, &text, what)?;
+    if header.format == Some(plan::replan::CACHE_FORMAT) {
+        // This version's cache that does not read: damaged, reported where it breaks.
+        return whole.map(Some);
+    }
+    out.stderr.push(format!(
+        "plan cache {} was written by another version of basefit; planning from scratch",
+        path.display()
+    ));
+    Ok(None)
 }
 
 /// Reads a JSON document basefit wrote, naming the file and line when it does not parse.
