@@ -2,8 +2,9 @@
 //! run writes, a cache another version wrote is replaced with a note, and a damaged cache is
 //! an input error naming the file and line (exit 2), never a panic.
 
+mod common;
+
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -13,27 +14,19 @@ fn root() -> PathBuf {
 /// code, stdout, stderr).
 fn plan(cache: &Path, out: &Path) -> (i32, String, String) {
     let r = root();
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .arg("plan")
-        .arg("--registry")
-        .arg(r.join("demo-data/registry.yaml"))
-        .arg("--images")
-        .arg(r.join("matrices/demo-images.yaml"))
-        .arg("--priorities")
-        .arg(r.join("demo-data/priorities.yaml"))
-        .arg("--cache")
-        .arg(cache)
-        .arg("--out")
-        .arg(out)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr).into_owned();
-    assert!(!stderr.contains("panicked"), "panic: {stderr}");
-    (
-        run.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&run.stdout).into_owned(),
-        stderr,
-    )
+    common::run_basefit([
+        "plan".as_ref(),
+        "--registry".as_ref(),
+        r.join("demo-data/registry.yaml").as_os_str(),
+        "--images".as_ref(),
+        r.join("matrices/demo-images.yaml").as_os_str(),
+        "--priorities".as_ref(),
+        r.join("demo-data/priorities.yaml").as_os_str(),
+        "--cache".as_ref(),
+        cache.as_os_str(),
+        "--out".as_ref(),
+        out.as_os_str(),
+    ])
 }
 
 fn read(path: PathBuf) -> Vec<u8> {

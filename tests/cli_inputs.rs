@@ -1,6 +1,8 @@
 //! Malformed inputs through the real command line: exit code 2 (or a reported problem where
 //! the rest of the file is usable), a message naming the file and line, and never a panic.
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -21,20 +23,14 @@ fn write(dir: &Path, name: &str, content: &[u8]) -> PathBuf {
 
 /// Runs `basefit check` and returns (exit code, stderr, stdout).
 fn check(registry: &Path, images: &Path) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args(["check", "--registry"])
-        .arg(registry)
-        .arg("--images")
-        .arg(images)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
-    assert!(!stderr.contains("panicked"), "panic: {stderr}");
-    (
-        out.status.code().unwrap_or(-1),
-        stderr,
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-    )
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        registry.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+    ]);
+    (code, stderr, stdout)
 }
 
 fn assert_bad(registry_text: &[u8], want_line: Option<usize>, want_words: &[&str]) {

@@ -3,6 +3,7 @@
 /// A case count (or seed) for a long-running test, from the environment variable `name` when
 /// it is set, else `default`: CI uses the small defaults, long runs set the variable. A value
 /// that is not a number stops the test rather than quietly running the default.
+#[allow(dead_code)] // Not every test file that shares this module runs long cases.
 pub fn env_count(name: &str, default: u64) -> u64 {
     match std::env::var(name) {
         Err(_) => default,
@@ -11,4 +12,25 @@ pub fn env_count(name: &str, default: u64) -> u64 {
             .parse()
             .unwrap_or_else(|_| panic!("{name}={text}: expected a whole number")),
     }
+}
+
+/// Runs the built `basefit` with `args`; returns (exit code, stdout, stderr). A panic fails
+/// the test whatever the exit code: bad input must be reported, never crash the tool.
+#[allow(dead_code)] // Not every test file that shares this module runs the binary.
+pub fn run_basefit<I, S>(args: I) -> (i32, String, String)
+where
+    I: IntoIterator<Item = S>,
+    S: AsRef<std::ffi::OsStr>,
+{
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(args)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert!(!stderr.contains("panicked"), "panic: {stderr}");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr,
+    )
 }
