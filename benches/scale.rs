@@ -267,26 +267,17 @@ fn replan_after(
     let (cache, _) = replan(inputs, options, None, None);
     let before = cache.matrix.clone();
     let changed = change(&mut inputs.registry);
-    let mut warm_times = Vec::with_capacity(RUNS);
-    let mut warm = None;
-    for _ in 0..RUNS {
+    let (warm_times, (warm, stats)) = timed_runs(RUNS, || {
         let previous = cache.clone();
         let t = Instant::now();
         let run = replan(inputs, options, Some(previous), None);
-        warm_times.push(t.elapsed());
-        warm = Some(run);
-    }
-    let mut cold_times = Vec::with_capacity(RUNS);
-    let mut cold = None;
-    for _ in 0..RUNS {
+        (t.elapsed(), run)
+    });
+    let (cold_times, (cold, _)) = timed_runs(RUNS, || {
         let t = Instant::now();
         let run = replan(inputs, options, None, None);
-        cold_times.push(t.elapsed());
-        cold = Some(run);
-    }
-    let ((warm, stats), (cold, _)) = (warm.expect("RUNS > 0"), cold.expect("RUNS > 0"));
-    warm_times.sort();
-    cold_times.sort();
+        (t.elapsed(), run)
+    });
     let (warm_time, cold_time) = (warm_times[RUNS / 2], cold_times[RUNS / 2]);
     println!(
         "re-plan after {what} ({changed} packages): warm {:.3} s ({} reused, {} solved), cold {:.2} s, speed-up {:.1}x (medians of {RUNS}; warm {:.3}-{:.3} s), identical: {}",
@@ -300,6 +291,21 @@ fn replan_after(
         basefit::report::to_json(&warm.matrix) == basefit::report::to_json(&cold.matrix)
     );
     exact_bound(inputs, options, &before, &cold.matrix);
+}
+
+/// Runs `run` `runs` times (at least once); returns the times it reports, sorted, and the
+/// last result. Each run times itself, so what it sets up or drops outside its clock is not
+/// counted, and the previous result is dropped only after the next run has been timed.
+fn timed_runs<T>(runs: usize, mut run: impl FnMut() -> (Duration, T)) -> (Vec<Duration>, T) {
+    let (first, mut last) = run();
+    let mut times = vec![first];
+    for _ in 1..runs {
+        let (time, result) = run();
+        times.push(time);
+        last = result;
+    }
+    times.sort();
+    (times, last)
 }
 
 fn percentile(sorted: &[Duration], q: f64) -> Duration {

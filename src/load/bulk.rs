@@ -121,14 +121,9 @@ fn read_tables(
     let mut load = Load::default();
     load.read_versions(versions)?;
     let attached = load.read_dependencies(deps)?;
-    if let Some(bar) = progress {
-        super::show_indexing(bar);
-    }
-    let loaded = load.commit(attached).finish();
-    if let Some(bar) = progress {
-        bar.disable_steady_tick();
-    }
-    Ok(loaded)
+    Ok(super::while_indexing(progress, || {
+        load.commit(attached).finish()
+    }))
 }
 
 /// Where the dependencies of a (package, version text) go.

@@ -54,12 +54,18 @@ pub(crate) fn start_bar(bar: &indicatif::ProgressBar, length: u64, template: &st
     bar.set_draw_target(indicatif::ProgressDrawTarget::stderr());
 }
 
-/// Shows on `bar` that the registry files are read and the registry is being indexed (names
-/// sorted, versions ordered, requirements checked): seconds on a registry-sized input, with
-/// nothing to count, so the bar animates on a timer rather than sit full and still. Position
-/// and length are kept. The caller stops the timer when the indexing is done: while it runs,
-/// the bar draws only on the timer.
-pub(crate) fn show_indexing(bar: &indicatif::ProgressBar) {
+/// Runs `index` (sorting names, ordering versions, checking requirements: seconds on a
+/// registry-sized input, with nothing to count) while `bar`, if any, shows that the registry
+/// files are read and the registry is being indexed, animated on a timer rather than sitting
+/// full and still. Position and length are kept; the timer stops when `index` returns, since
+/// while it runs the bar draws only on the timer.
+pub(crate) fn while_indexing<T>(
+    bar: Option<&indicatif::ProgressBar>,
+    index: impl FnOnce() -> T,
+) -> T {
+    let Some(bar) = bar else {
+        return index();
+    };
     let style = indicatif::ProgressStyle::with_template(
         "registry read, indexing {spinner} {elapsed} {wide_bar}",
     )
@@ -68,6 +74,9 @@ pub(crate) fn show_indexing(bar: &indicatif::ProgressBar) {
     // `{elapsed}` then counts the indexing, not the reading before it.
     bar.reset_elapsed();
     bar.enable_steady_tick(std::time::Duration::from_millis(120));
+    let indexed = index();
+    bar.disable_steady_tick();
+    indexed
 }
 
 /// Reads one or more registry files (YAML) into one registry.
@@ -146,16 +155,7 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
                 "give either YAML registry files or a bulk CSV pair, not both",
             ));
         }
-        None => {
-            if let Some(bar) = yaml_bar {
-                show_indexing(bar);
-            }
-            let loaded = builder.finish();
-            if let Some(bar) = yaml_bar {
-                bar.disable_steady_tick();
-            }
-            loaded
-        }
+        None => while_indexing(yaml_bar, || builder.finish()),
     };
     let images = match &paths.images {
         Some(p) => read_images(p, &mut ledger)?,
