@@ -287,17 +287,18 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
         .iter()
         .position(|x| x.package == "root")
         .unwrap();
-    // Runs: package, then counted admissible, refused, fetched, covered (pairs), suiting
-    // and not suiting lists.
-    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real, 0, 0, 0];
+    // Runs: package, then counted admissible, refused, fetched, covered (pairs), unsuitable,
+    // ceiling and split lists.
+    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real, 0, 0, 0, 0];
     damaged.push(c);
-    // Observation lists pointing past the table, past release lists, with a stretch pair cut
-    // in half, or cut short.
+    // Observation lists pointing past the table, past release lists (a ceiling or a split
+    // too), with a stretch pair cut in half, or cut short.
     for observed in [
-        vec![999, 0, 0, 0, 0, 0, 0],
-        vec![0, 1, 50, 0, 0, 0, 0, 0],
-        vec![0, 0, 0, 0, 0, 0, 1, 50],
-        vec![0, 0, 0, 0, 1, 0, 0, 0],
+        vec![999, 0, 0, 0, 0, 0, 0, 0],
+        vec![0, 1, 50, 0, 0, 0, 0, 0, 0],
+        vec![0, 0, 0, 0, 0, 0, 1, 50, 0],
+        vec![0, 0, 0, 0, 0, 0, 0, 1, 50],
+        vec![0, 0, 0, 0, 1, 0, 0, 0, 0],
         vec![0, 3, 1],
     ] {
         let mut c = cache.clone();
@@ -329,7 +330,7 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
     let before = small_inputs(&text("{version: 1.0.0}"), &["app"]);
     let (mut c, _) = replan(&before, &options, None, None);
     let app = c.packages.iter().position(|p| p.name == "app").unwrap() as u32;
-    c.bases[0].observed.extend([app, 0, 0, 1, 50, 0, 0, 0]);
+    c.bases[0].observed.extend([app, 0, 0, 1, 50, 0, 0, 0, 0]);
     let after = small_inputs(&text("{version: 1.0.0}, {version: 3.0.0}"), &["app"]);
     let (warm, _) = replan(&after, &options, Some(c), None);
     assert!(to_json(&warm.matrix) == to_json(&plan(&after, &options)));
@@ -364,9 +365,9 @@ fn narrowing(extra_alpha: &str) -> String {
   - {{version: 1.0.0, depends: [{{name: alpha, req: '^1'}}, {{name: beta, req: '*'}}]}}
 - name: alpha
   versions:
-  - {{version: 1.0.0}}
-  - {{version: 1.0.1}}
-  - {{version: 1.0.2}}
+  - {{version: 1.0.0, runtime: '>=1.0'}}
+  - {{version: 1.0.1, runtime: '>=1.1'}}
+  - {{version: 1.0.2, runtime: '>=1.2'}}
 {extra_alpha}- name: beta
   versions:
   - {{version: 1.0.0}}
@@ -519,7 +520,7 @@ fn a_suiting_release_published_where_the_solver_never_picked_keeps_the_cell() {
 }
 
 /// app needs lib `<2` and other `*`. lib 1.0.0 needs other `^1`, lib 0.9.0 needs other `^2`;
-/// `lib_tail` follows them.
+/// `lib_tail` follows them. No two releases look alike, so each counts as a candidate.
 fn order_sensitive(lib_tail: &str) -> String {
     format!(
         "packages:
@@ -532,9 +533,9 @@ fn order_sensitive(lib_tail: &str) -> String {
   - {{version: 1.0.0, depends: [{{name: other, req: '^1'}}]}}
 {lib_tail}- name: other
   versions:
-  - {{version: 1.0.0}}
-  - {{version: 2.0.0}}
-  - {{version: 2.1.0}}
+  - {{version: 1.0.0, runtime: '>=1.0'}}
+  - {{version: 2.0.0, runtime: '>=2.0'}}
+  - {{version: 2.1.0, runtime: '>=2.1'}}
 "
     )
 }
@@ -548,7 +549,8 @@ fn a_candidate_ceiling_that_moves_across_a_range_picked_from_is_solved_again() {
     // too: four candidates, so other is decided first, at 2.1.0, and lib falls back to
     // 0.9.0. No release the solver picked or passed over changes its answer; only the count
     // does, so the cell must be solved again, whichever way the ceiling moves.
-    let unsuited = |v: &str| format!("  - {{version: {v}, runtime: '>=4'}}\n");
+    // Each needs a runtime newer than the image's; none looks like another.
+    let unsuited = |v: &str| format!("  - {{version: {v}, runtime: '>=4.{}'}}\n", &v[2..3]);
     let old_pair = unsuited("1.5.0") + &unsuited("1.6.0");
     for (before, after, what) in [
         (
@@ -590,4 +592,135 @@ fn a_candidate_ceiling_that_moves_across_a_range_picked_from_is_solved_again() {
         assert_eq!(stats.solved, 1, "{what}");
         assert!(to_json(&warm.matrix) == cold_json, "{what}");
     }
+}
+
+/// app needs p `*` and z `*`. Every z release needs a w version that does not exist, so app
+/// fails on z; the solver decides p first (fewer candidates) and never names it in the
+/// failure. `p_releases` lists p's releases.
+fn failing_beside(p_releases: &str) -> String {
+    format!(
+        "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: p, req: '*'}}, {{name: z, req: '*'}}]}}
+- name: p
+  versions:
+{p_releases}- name: q
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0, depends: [{{name: w, req: '^9'}}]}}
+- name: z
+  versions:
+  - {{version: 1.0.0, depends: [{{name: w, req: '^5'}}]}}
+  - {{version: 1.1.0, depends: [{{name: w, req: '^6'}}]}}
+  - {{version: 1.2.0, depends: [{{name: w, req: '^7'}}]}}
+  - {{version: 1.3.0, depends: [{{name: w, req: '^8'}}]}}
+- name: w
+  versions:
+  - {{version: 1.0.0}}
+"
+    )
+}
+
+#[test]
+fn a_look_alike_of_the_newest_release_keeps_a_failing_cell_that_picked_it() {
+    let p = |tail: &str| {
+        format!("  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0}}\n{tail}")
+    };
+    let check = |before: &str, after: &str, names: &[&str], solved: usize, what: &str| {
+        let (warm, stats, cold) = warm_and_cold(before, after, names, &PlanOptions::default());
+        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{what}");
+        // The reused basis must read exactly as the cold solve's, or the next re-plan would
+        // check the wrong releases.
+        assert!(
+            serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
+            "{what}: warm cache differs from cold"
+        );
+        assert_eq!(stats.solved, solved, "{what}");
+    };
+    let before = failing_beside(&p(""));
+    assert!(
+        to_json(&plan(
+            &small_inputs(&before, &["app"]),
+            &PlanOptions::default()
+        ))
+        .contains("\"fails\"")
+    );
+    // p 1.2.0 declares what 1.1.0 does: a cold solve decides it where it decided 1.1.0, and
+    // fails the same way.
+    check(
+        &before,
+        &failing_beside(&p("  - {version: 1.2.0}\n")),
+        &["app"],
+        0,
+        "look-alike published",
+    );
+    // Not a look-alike: it needs q, which the solver must now weigh.
+    check(
+        &before,
+        &failing_beside(&p("  - {version: 1.2.0, depends: [{name: q, req: '*'}]}\n")),
+        &["app"],
+        1,
+        "a release with another dependency",
+    );
+    // A look-alike that is yanked is passed over, so the solve walks differently.
+    check(
+        &before,
+        &failing_beside(&p("  - {version: 1.2.0, yanked: true}\n")),
+        &["app"],
+        1,
+        "a yanked look-alike",
+    );
+    // A solution names the release it picked: p's own cell installs and must change.
+    check(
+        &before,
+        &failing_beside(&p("  - {version: 1.2.0}\n")),
+        &["app", "p"],
+        1,
+        "an installing cell",
+    );
+}
+
+#[test]
+fn a_look_alike_of_a_newest_release_the_solver_backed_away_from_is_solved_again() {
+    // p 1.1.0 needs q `^2`, whose only release needs a w that does not exist: the solver
+    // decides p 1.1.0, learns it cannot be used, and picks 1.0.0 from what is left of p's
+    // range, which still holds the stretch after 1.1.0. With a look-alike 1.2.0 published,
+    // a cold solve decides 1.2.0, backs away, and then tries 1.1.0 before 1.0.0: one step
+    // more, and other releases read, though app still fails on z alone.
+    let p = |tail: &str| {
+        format!(
+            "  - {{version: 1.0.0, depends: [{{name: q, req: '^1'}}]}}\n  - {{version: 1.1.0, depends: [{{name: q, req: '^2'}}]}}\n{tail}"
+        )
+    };
+    let before = failing_beside(&p(""));
+    let after = failing_beside(&p(
+        "  - {version: 1.2.0, depends: [{name: q, req: '^2'}]}\n",
+    ));
+    let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+    assert!(to_json(&cold.matrix).contains("\"fails\""));
+    assert!(
+        serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
+        "warm cache differs from cold"
+    );
+    assert_eq!(stats.solved, 1);
+}
+
+#[test]
+fn releases_that_come_to_look_alike_below_the_ceiling_are_solved_again() {
+    // Before, other's three releases differ, so they are three candidates against lib's two:
+    // lib is decided first, at 1.0.0, and other follows at 1.0.0. Once 2.0.0 and 2.1.0
+    // declare what 1.0.0 declares, the three count once: other is decided first, at 2.1.0,
+    // and lib falls back to 0.9.0. The solve never read either release, only their count.
+    let before = order_sensitive("");
+    let after = before
+        .replace("2.0.0, runtime: '>=2.0'", "2.0.0, runtime: '>=1.0'")
+        .replace("2.1.0, runtime: '>=2.1'", "2.1.0, runtime: '>=1.0'");
+    assert_ne!(before, after);
+    let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+    let first = plan(&small_inputs(&before, &["app"]), &PlanOptions::default());
+    let lib_first = |json: &str| !json.contains("\"0.9.0\"");
+    assert!(lib_first(&to_json(&first)) && !lib_first(&to_json(&cold.matrix)));
+    assert_eq!(stats.solved, 1);
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
 }

@@ -191,7 +191,7 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
 /// observed of single releases.
 fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
     // Runs of the flat list: package, then counted admissible, refused, fetched, covered,
-    // unsuitable and ceiling lists.
+    // unsuitable, ceiling and split lists.
     let mut seen: Vec<(&str, u32, usize)> = Vec::new();
     for basis in &cache.bases {
         let o = &basis.observed;
@@ -199,7 +199,7 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
         while at < o.len() {
             let name = cache.packages[o[at] as usize].name.as_str();
             at += 1;
-            for list in 0..6 {
+            for list in 0..7 {
                 let n = o[at] as usize;
                 let listed = o[at + 1..at + 1 + n].iter();
                 match list {

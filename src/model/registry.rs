@@ -164,6 +164,36 @@ impl Release {
     pub fn runtime_deps(&self) -> impl Iterator<Item = &Dep> {
         self.deps.iter().filter(|d| d.kind == DepKind::Runtime)
     }
+
+    /// Whether `other` declares exactly what this release declares: the same runtime
+    /// requirement, dependencies, builds and native hints. Version, date, yank flag and
+    /// source line may differ. A patch that only fixes code usually looks like this; the
+    /// solver counts a run of look-alike releases as one candidate.
+    ///
+    /// ```
+    /// use basefit::model::{Build, Release};
+    /// let a = Release {
+    ///     version: semver::Version::new(1, 0, 0),
+    ///     raw_version: None,
+    ///     released: None,
+    ///     runtime: None,
+    ///     deps: Box::new([]),
+    ///     build: Build { source: true, prebuilt: Box::new([]) },
+    ///     native: None,
+    ///     yanked: false,
+    ///     line: 1,
+    /// };
+    /// let mut b = Release { version: semver::Version::new(1, 0, 1), yanked: true, line: 2, ..a.clone() };
+    /// assert!(a.same_shape(&b));
+    /// b.build.source = false;
+    /// assert!(!a.same_shape(&b));
+    /// ```
+    pub fn same_shape(&self, other: &Release) -> bool {
+        self.runtime == other.runtime
+            && self.deps == other.deps
+            && self.build == other.build
+            && self.native == other.native
+    }
 }
 
 /// A package: its releases in ascending version order (the `semver` crate's total order,

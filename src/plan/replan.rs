@@ -24,6 +24,14 @@
 //! release and either lies outside every range picked from or past the ceiling (see
 //! `recheck` for why that is exact).
 //!
+//! A failed solve is also kept when a package it decided at its newest release has gained
+//! one release since, published just after it and declaring exactly what it declares (a
+//! look-alike, [`Release::same_shape`]): a cold solve would decide the new release where the
+//! old one was decided, step for step, and fail the same way, as long as no range it asked
+//! about split the old newest release from the stretch after it (see `stands_in`). The
+//! basis then reads the new release where it read the old one. Solutions are solved again,
+//! since they name the release they picked.
+//!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
 //!
@@ -43,7 +51,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 7;
+pub const CACHE_FORMAT: u32 = 8;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -234,6 +242,9 @@ pub struct CachedPackage {
     pub releases: Vec<u64>,
 }
 
+/// How many counted lists follow each package in [`CellBasis::observed`].
+const LISTS: usize = 7;
+
 /// What one cell of the cached matrix depends on.
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
 pub struct CellBasis {
@@ -244,8 +255,9 @@ pub struct CellBasis {
     /// that were admissible and must still be, those refused that must still be, those whose
     /// dependencies were read and must be unchanged, `from, to` pairs of the releases whose
     /// stretch lay in a range picked from ([`Observed::covered`]), those passed over for not
-    /// suiting the image that still must not, and the package's candidate ceiling when it was
-    /// prioritized (none or one value, [`Observed::ceilings`]). Flat, because a
+    /// suiting the image that still must not, the package's candidate ceiling when it was
+    /// prioritized (none or one value, [`Observed::ceilings`]), and the releases a range split
+    /// from their stretch ([`Observed::splits`]). Flat, because a
     /// registry-sized plan has millions of these and a re-plan copies them all.
     pub observed: Vec<u32>,
     /// Packages (table indices) that must be unchanged as a whole.
@@ -279,7 +291,7 @@ impl CellBasis {
         while at < self.observed.len() {
             self.observed[at] = renumber[self.observed[at] as usize];
             at += 1;
-            for _ in 0..6 {
+            for _ in 0..LISTS {
                 at += 1 + self.observed[at] as usize;
             }
         }
@@ -299,12 +311,32 @@ impl CellBasis {
             observed.push(renumber[package as usize]);
             rest = tail;
             let update = updates.iter().find(|u| u.package == package);
-            for list in 0..6 {
+            for list in 0..LISTS {
                 let n = rest[0] as usize;
                 let count_at = observed.len();
                 observed.extend_from_slice(&rest[..=n]);
                 rest = &rest[1 + n..];
                 let Some(update) = update else { continue };
+                // A look-alike published just after the newest release takes its place in
+                // every walk, fetch and stretch (see `recheck`); every list is sorted, so the
+                // newest release is last where it is listed.
+                if let Some(newest) = update.stand_in {
+                    let listed = &mut observed[count_at + 1..];
+                    match list {
+                        0 | 2 => {
+                            if let Some(last) = listed.last_mut().filter(|l| **l == newest) {
+                                *last = newest + 1;
+                            }
+                        }
+                        1 if listed.last() == Some(&newest) => observed.push(newest + 1),
+                        3 => {
+                            if let Some(to) = listed.last_mut().filter(|t| **t == newest + 1) {
+                                *to = newest + 2;
+                            }
+                        }
+                        _ => {}
+                    }
+                }
                 match list {
                     // Added releases were published after all the old ones, so they go last,
                     // and a stretch run reaching the old end continues through them.
@@ -412,6 +444,8 @@ struct Run<'a> {
     unfit: &'a [u32],
     /// The candidate ceiling, when the package was prioritized: none or one value.
     ceiling: &'a [u32],
+    /// See [`Observed::splits`].
+    splits: &'a [u32],
 }
 
 impl Run<'_> {
@@ -440,6 +474,7 @@ fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
             covered: take(rest)?,
             unfit: take(rest)?,
             ceiling: take(rest)?,
+            splits: take(rest)?,
         })
     }
     let mut rest = observed;
@@ -479,6 +514,9 @@ struct Update {
     package: u32,
     unfit: Vec<u32>,
     ceiling: u32,
+    /// The package's newest release, when a look-alike published just after it stands in
+    /// for it.
+    stand_in: Option<u32>,
 }
 
 type Updates = Vec<Update>;
@@ -501,6 +539,7 @@ fn recheck(
     standing: &[Standing],
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
+    solver_failed: bool,
 ) -> Option<Updates> {
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
@@ -532,6 +571,7 @@ fn recheck(
             || run.covered.iter().any(|&i| i as usize > count)
             || run.ceiling.len() > 1
             || run.ceiling.iter().any(|&c| c as usize > count)
+            || run.splits.iter().any(|&i| i as usize >= count)
         {
             return None;
         }
@@ -552,6 +592,15 @@ fn recheck(
         if !answered_alike {
             return None;
         }
+        // Candidate counts take each run of look-alike releases below the ceiling once, so
+        // which of those releases look alike must be as it was. (Release prints hold exactly
+        // what `Release::same_shape` compares.)
+        if let Some(&was) = run.ceiling.first() {
+            let alike = |prints: &[u64], i: usize| prints[i] == prints[i + 1];
+            if (0..(was as usize).saturating_sub(1)).any(|i| alike(before, i) != alike(now, i)) {
+                return None;
+            }
+        }
         // A lower ceiling lowers counts; a higher one raises them, which matters only in a
         // range picked from: every release of such a range above the old ceiling was passed
         // over, so it is among `unfit`.
@@ -565,6 +614,7 @@ fn recheck(
                     package: run.package,
                     unfit: Vec::new(),
                     ceiling,
+                    stand_in: None,
                 });
             }
         }
@@ -625,6 +675,7 @@ fn recheck(
         let view = view.get();
         let ceiling = view.ceiling(id);
         let mut unfit = Vec::new();
+        let mut stand_in = None;
         for new in count as u32..view.admissions(id).len() as u32 {
             let within: Vec<bool> = sets.iter().map(|s| s.contains(&new)).collect();
             if !within.contains(&true) {
@@ -636,10 +687,24 @@ fn recheck(
             // A release below the ceiling counts as a candidate; one that suits the image
             // is always below it.
             if run.covers(mate) {
-                if new < ceiling {
+                if new >= ceiling {
+                    unfit.push(new);
+                } else if solver_failed && stands_in(view, id, count, mate, new, &run) {
+                    stand_in = Some(mate);
+                } else {
                     return None;
                 }
-                unfit.push(new);
+            }
+        }
+        if let Some(newest) = stand_in {
+            match updates.iter_mut().find(|u| u.package == run.package) {
+                Some(update) => update.stand_in = Some(newest),
+                None => updates.push(Update {
+                    package: run.package,
+                    unfit: Vec::new(),
+                    ceiling,
+                    stand_in,
+                }),
             }
         }
         if !unfit.is_empty() {
@@ -649,11 +714,62 @@ fn recheck(
                     package: run.package,
                     unfit,
                     ceiling,
+                    stand_in: None,
                 }),
             }
         }
     }
     Some(updates)
+}
+
+/// Whether `new`, the one release `package` gained since a solve that failed, stands in for
+/// `mate`, the newest release it had then, in a solve on the current registry. It must be
+/// published just after it, look alike ([`Release::same_shape`]), be admitted the same way
+/// and suit the image (so a walk that met `mate` first now meets `new` first and stops or
+/// goes on alike), and no range the solve asked about may have split `mate` from its stretch
+/// ([`Observed::splits`]).
+///
+/// Then a solve on the current registry is the old one with `new` wherever `mate` was
+/// decided, fetched or walked, step for step. Every set pubgrub builds maps onto the new
+/// numbering by one rule: the point `mate` goes to `new`, and the stretch after `mate` to
+/// `mate`, its stretch, and the stretch after `new`. The rule keeps unions, intersections
+/// and complements, takes requirement sets to themselves (both releases lie in the same
+/// ones: that is how `mate` was found) and the singleton of `mate` to that of `new`. No
+/// split means every range asked about holds `mate` and its stretch together or neither,
+/// so it maps to one that holds `mate` and `new` together or neither: the same newest pick,
+/// with `new` for `mate`, and the same candidate count, since look-alikes count once. The
+/// dependencies read for `new` are those read for `mate`. Only a failed solve qualifies: a
+/// solution would name `new` where it named `mate`, and a failure's explanation names no
+/// release of a package that is not unchanged as a whole (those are in
+/// [`CellBasis::unchanged`]). A release that depends on its own package is left out: the
+/// refusal that follows names the release in text.
+fn stands_in(
+    view: &ImageView<'_>,
+    package: PackageId,
+    count: usize,
+    mate: u32,
+    new: u32,
+    run: &Run<'_>,
+) -> bool {
+    let releases = &view.registry.package(package).releases;
+    let admissions = view.admissions(package);
+    new as usize == count
+        && releases.len() == count + 1
+        && mate + 1 == new
+        && releases[mate as usize].same_shape(&releases[new as usize])
+        && admissions[mate as usize] == admissions[new as usize]
+        && view.fits(package, mate)
+        && !run.splits.contains(&mate)
+        && releases[mate as usize]
+            .deps
+            .iter()
+            .all(|d| d.package != package)
+}
+
+/// Whether a cached cell's solve failed or gave up, rather than finding a solution (which a
+/// native check may still have turned into a failure).
+fn solver_failed(cell: &Cell) -> bool {
+    !cell.outcome.resolves() && cell.root_version.is_none()
 }
 
 /// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
@@ -677,6 +793,9 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
         let ceiling = entries_of(&observed.ceilings, id, |c| c.0);
         out.push(ceiling.len() as u32);
         out.extend(ceiling.iter().map(|c| c.1));
+        let splits = entries_of(&observed.splits, id, |s| s.0);
+        out.push(splits.len() as u32);
+        out.extend(splits.iter().map(|s| s.1));
     }
     out
 }
@@ -814,6 +933,7 @@ pub fn replan(
                     &standing,
                     &views[col],
                     &prints,
+                    solver_failed(&old_cells[k]),
                 )
             {
                 return (Source::Reused(k, updates), entry_key, image_key);

@@ -1,7 +1,7 @@
 //! What depends only on the image, computed once per image and shared by all of its cells:
 //! which releases of each package are admissible there, and why the others are not.
 
-use super::sets::{IndexSet, SetCache};
+use super::sets::{IndexSet, SetCache, index_run};
 use crate::model::{Image, PackageId, PerPackage, Registry, ReqId, Requirement};
 use semver::{Op, Version};
 use serde::Serialize;
@@ -45,6 +45,10 @@ pub struct ImageView<'r> {
 struct PackageFit {
     admissions: Box<[Admission]>,
     ceiling: u32,
+    /// For each release, how many releases before it look like the one after them
+    /// ([`Release::same_shape`](crate::model::Release::same_shape)): runs of look-alikes then
+    /// count once, by a difference of two entries.
+    alike_before: Box<[u32]>,
 }
 
 impl<'r> ImageView<'r> {
@@ -84,9 +88,23 @@ impl<'r> ImageView<'r> {
                 .zip(fits)
                 .map(|(r, fit)| if r.yanked { Admission::Yanked } else { fit })
                 .collect();
+            let mut alike = 0;
+            let alike_before = (0..releases.len())
+                .map(|i| {
+                    let before = alike;
+                    if releases
+                        .get(i + 1)
+                        .is_some_and(|next| releases[i].same_shape(next))
+                    {
+                        alike += 1;
+                    }
+                    before
+                })
+                .collect();
             PackageFit {
                 admissions,
                 ceiling,
+                alike_before,
             }
         })
     }
@@ -101,6 +119,27 @@ impl<'r> ImageView<'r> {
     /// never be picked here: typically they need a newer runtime.
     pub fn ceiling(&self, package: PackageId) -> u32 {
         self.package_fit(package).ceiling
+    }
+
+    /// How many candidates `range` offers for ordering decisions: its releases below the
+    /// [ceiling](ImageView::ceiling), each run of consecutive look-alike releases counted once.
+    /// A run of patches that change nothing the solver reads is one choice as far as
+    /// conflicts go; counting it once also lets a re-plan keep a cell whose solve would only
+    /// see one more look-alike release (see `plan::replan`).
+    pub fn candidates(&self, package: PackageId, range: &IndexSet) -> u32 {
+        let fit = self.package_fit(package);
+        range
+            .iter()
+            .map(|run| {
+                let run = index_run(run, fit.ceiling as usize);
+                if run.is_empty() {
+                    return 0;
+                }
+                let merged =
+                    fit.alike_before[run.end as usize - 1] - fit.alike_before[run.start as usize];
+                run.len() as u32 - merged
+            })
+            .sum()
     }
 
     /// Whether release `index` of `package` suits the image's runtime and platform, yanked

@@ -1,7 +1,7 @@
 //! The pubgrub dependency provider for one (package, image) cell.
 
 use super::image::{Admission, ImageView};
-use super::sets::{IndexSet, index_run, indices_newest_first};
+use super::sets::{IndexSet, indices_newest_first};
 use crate::model::PackageId;
 use pubgrub::{
     Dependencies, DependencyConstraints, DependencyProvider, PackageResolutionStatistics,
@@ -94,6 +94,12 @@ pub struct Observed {
     pub explained: Vec<PackageId>,
     /// Packages asked about with a range that reaches past their last release.
     pub open_ended: Vec<PackageId>,
+    /// `(package, release)` where a range the solver prioritized or picked from held the
+    /// release without the stretch after it, or the stretch without the release. Ranges
+    /// built from requirements never do; only what the solver learned from deciding that
+    /// very release (and later undoing it) splits them so. A re-plan that lets a new
+    /// look-alike release stand in for the newest one relies on there being no split there.
+    pub splits: Vec<(PackageId, u32)>,
 }
 
 impl Observed {
@@ -110,6 +116,8 @@ impl Observed {
         self.fetched.dedup();
         self.open_ended.sort_unstable();
         self.open_ended.dedup();
+        self.splits.sort_unstable();
+        self.splits.dedup();
         self.covered.sort_unstable();
         let mut merged: Vec<(PackageId, u32, u32)> = Vec::with_capacity(self.covered.len());
         for &(package, from, to) in &self.covered {
@@ -150,18 +158,34 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }
     }
 
-    /// Records `package` as open-ended when `range` reaches past its last release: a release
-    /// published later would then fall inside a range the solver asked about. Ranges built
-    /// from requirement sets never do; the record keeps re-plans exact if pubgrub ever asks
-    /// with one that does.
-    fn note_reach(&self, package: PackageId, range: &IndexSet, count: usize) {
+    /// Records what the shape of `range` tells a re-plan: `package` is open-ended when the
+    /// range reaches past its last release (a release published later would then fall inside
+    /// a range the solver asked about; ranges built from requirement sets never do, the
+    /// record keeps re-plans exact if pubgrub ever asks with one that does), and each release
+    /// the range splits from its stretch ([`Observed::splits`]).
+    fn note_range(&self, package: PackageId, range: &IndexSet, count: usize) {
         let open = range.iter().last().is_some_and(|(_, hi)| match hi {
             Bound::Included(v) => *v as usize >= count,
             Bound::Excluded(v) => *v as usize > count,
             Bound::Unbounded => true,
         });
+        let mut observed = self.observed.borrow_mut();
         if open {
-            self.observed.borrow_mut().open_ended.push(package);
+            observed.open_ended.push(package);
+        }
+        for (lo, hi) in range.iter() {
+            // A run that starts just after a release holds its stretch without it; one that
+            // ends at a release holds it without its stretch.
+            if let Bound::Excluded(v) = lo
+                && (*v as usize) < count
+            {
+                observed.splits.push((package, *v));
+            }
+            if let Bound::Included(v) = hi
+                && (*v as usize) < count
+            {
+                observed.splits.push((package, *v));
+            }
         }
     }
 
@@ -229,19 +253,17 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Root | Node::Runtime => 0,
             Node::Package(id) => {
                 let count = self.view.registry.package(*id).releases.len();
-                self.note_reach(*id, range, count);
+                self.note_range(*id, range, count);
                 // The releases up to the newest one that suits the image: those newer can
                 // never be picked (typically they need a newer runtime), and counting them
                 // would let a release the image refuses change the order of decisions. Yank
                 // flags are left aside, so that a yank does not reorder decisions either. The
                 // ceiling is the package's, not the range's: a newly published release that
                 // suits the image can then only raise counts, which a re-plan relies on.
+                // Look-alike releases count once ([`ImageView::candidates`]).
                 let ceiling = self.view.ceiling(*id);
                 self.observed.borrow_mut().ceilings.push((*id, ceiling));
-                range
-                    .iter()
-                    .map(|run| index_run(run, ceiling as usize).len() as u32)
-                    .sum()
+                self.view.candidates(*id, range)
             }
         };
         (stats.conflict_count(), Reverse(candidates))
@@ -256,7 +278,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
             Node::Root | Node::Runtime => Ok(range.contains(&0).then_some(0)),
             Node::Package(id) => {
                 let count = self.view.registry.package(*id).releases.len();
-                self.note_reach(*id, range, count);
+                self.note_range(*id, range, count);
                 self.observed.borrow_mut().packages.push(*id);
                 // Newest admissible first; inadmissible releases are never offered, so an
                 // exhausted range is learned in one step as "no versions".
