@@ -592,8 +592,9 @@ fn recheck(
         if !answered_alike {
             return None;
         }
-        // Candidate counts take each run of look-alike releases below the ceiling once, so
-        // which of those releases look alike must be as it was. (Release prints hold exactly
+        // Candidate counts take the run of look-alike releases at the ceiling once, so which
+        // releases below the ceiling look alike must be as it was (checked for all of them,
+        // which is simpler and errs on the side of solving again). (Release prints hold exactly
         // what `Release::same_shape` compares.)
         if let Some(&was) = run.ceiling.first() {
             let alike = |prints: &[u64], i: usize| prints[i] == prints[i + 1];
@@ -737,7 +738,8 @@ fn recheck(
 /// ones: that is how `mate` was found) and the singleton of `mate` to that of `new`. No
 /// split means every range asked about holds `mate` and its stretch together or neither,
 /// so it maps to one that holds `mate` and `new` together or neither: the same newest pick,
-/// with `new` for `mate`, and the same candidate count, since look-alikes count once. The
+/// with `new` for `mate`, and the same candidate count, since the run of look-alikes at the
+/// ceiling counts once and `new` only lengthens it. The
 /// dependencies read for `new` are those read for `mate`. Only a failed solve qualifies: a
 /// solution would name `new` where it named `mate`, and a failure's explanation names no
 /// release of a package that is not unchanged as a whole (those are in

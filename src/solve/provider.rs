@@ -260,7 +260,7 @@ impl DependencyProvider for CellProvider<'_, '_> {
                 // flags are left aside, so that a yank does not reorder decisions either. The
                 // ceiling is the package's, not the range's: a newly published release that
                 // suits the image can then only raise counts, which a re-plan relies on.
-                // Look-alike releases count once ([`ImageView::candidates`]).
+                // The look-alikes at the ceiling count once ([`ImageView::candidates`]).
                 let ceiling = self.view.ceiling(*id);
                 self.observed.borrow_mut().ceilings.push((*id, ceiling));
                 self.view.candidates(*id, range)
