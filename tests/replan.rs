@@ -598,12 +598,19 @@ fn a_candidate_ceiling_that_moves_across_a_range_picked_from_is_solved_again() {
 /// fails on z; the solver decides p first (fewer candidates) and never names it in the
 /// failure. `p_releases` lists p's releases.
 fn failing_beside(p_releases: &str) -> String {
+    beside(
+        "  - {version: 1.0.0, depends: [{name: p, req: '*'}, {name: z, req: '*'}]}\n",
+        p_releases,
+    )
+}
+
+/// The registry of [`failing_beside`] with `app_releases` for app's releases.
+fn beside(app_releases: &str, p_releases: &str) -> String {
     format!(
         "packages:
 - name: app
   versions:
-  - {{version: 1.0.0, depends: [{{name: p, req: '*'}}, {{name: z, req: '*'}}]}}
-- name: p
+{app_releases}- name: p
   versions:
 {p_releases}- name: q
   versions:
@@ -623,12 +630,17 @@ fn failing_beside(p_releases: &str) -> String {
 }
 
 #[test]
-fn a_look_alike_of_the_newest_release_keeps_a_failing_cell_that_picked_it() {
+fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it() {
     let p = |tail: &str| {
         format!("  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0}}\n{tail}")
     };
-    let check = |before: &str, after: &str, names: &[&str], solved: usize, what: &str| {
-        let (warm, stats, cold) = warm_and_cold(before, after, names, &PlanOptions::default());
+    let check_with = |before: &str,
+                      after: &str,
+                      names: &[&str],
+                      options: &PlanOptions,
+                      solved: usize,
+                      what: &str| {
+        let (warm, stats, cold) = warm_and_cold(before, after, names, options);
         assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{what}");
         // The reused basis must read exactly as the cold solve's, or the next re-plan would
         // check the wrong releases.
@@ -637,6 +649,9 @@ fn a_look_alike_of_the_newest_release_keeps_a_failing_cell_that_picked_it() {
             "{what}: warm cache differs from cold"
         );
         assert_eq!(stats.solved, solved, "{what}");
+    };
+    let check = |before: &str, after: &str, names: &[&str], solved: usize, what: &str| {
+        check_with(before, after, names, &PlanOptions::default(), solved, what)
     };
     let before = failing_beside(&p(""));
     assert!(
@@ -678,6 +693,40 @@ fn a_look_alike_of_the_newest_release_keeps_a_failing_cell_that_picked_it() {
         &["app", "p"],
         1,
         "an installing cell",
+    );
+    // app 1.1.0 fails as app did above, after p was decided; app 1.0.0 needs nothing and
+    // installs alone. The solution leaves p out, so the cell is kept, but only where the
+    // cell lists its closure: without it, the cell cannot show that p is not in it.
+    let dropped = |tail: &str| {
+        beside(
+            "  - {version: 1.0.0}\n  - {version: 1.1.0, depends: [{name: p, req: '*'}, {name: z, req: '*'}]}\n",
+            &p(tail),
+        )
+    };
+    let installed = plan(
+        &small_inputs(&dropped(""), &["app"]),
+        &PlanOptions::default(),
+    );
+    assert!(to_json(&installed).contains("\"root_version\": \"1.0.0\""));
+    assert!(!to_json(&installed).contains("\"name\": \"p\""));
+    check(
+        &dropped(""),
+        &dropped("  - {version: 1.2.0}\n"),
+        &["app"],
+        0,
+        "p left out",
+    );
+    let no_closures = PlanOptions {
+        closures: false,
+        ..PlanOptions::default()
+    };
+    check_with(
+        &dropped(""),
+        &dropped("  - {version: 1.2.0}\n"),
+        &["app"],
+        &no_closures,
+        1,
+        "p left out, closures not kept",
     );
 }
 

@@ -24,13 +24,14 @@
 //! release and either lies outside every range picked from or past the ceiling (see
 //! `recheck` for why that is exact).
 //!
-//! A failed solve is also kept when a package it decided at its newest release has gained
+//! A cell is also kept when a package its solve picked from at the newest release has gained
 //! one release since, published just after it and declaring exactly what it declares (a
 //! look-alike, [`Release::same_shape`]): a cold solve would decide the new release where the
-//! old one was decided, step for step, and fail the same way, as long as no range it asked
-//! about split the old newest release from the stretch after it (see `stands_in`). The
-//! basis then reads the new release where it read the old one. Solutions are solved again,
-//! since they name the release they picked.
+//! old one was decided, step for step, as long as no range it asked about split the old
+//! newest release from the stretch after it (see `stands_in`). Its answer is then the same
+//! unless it names a release of that package: a failure's explanation never does (those
+//! packages must be unchanged), a solution does when the package is in its closure. The
+//! basis then reads the new release where it read the old one.
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -539,7 +540,7 @@ fn recheck(
     standing: &[Standing],
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
-    solver_failed: bool,
+    cached: &Cell,
 ) -> Option<Updates> {
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
@@ -690,7 +691,9 @@ fn recheck(
             if run.covers(mate) {
                 if new >= ceiling {
                     unfit.push(new);
-                } else if solver_failed && stands_in(view, id, count, mate, new, &run) {
+                } else if names_no_release_of(cached, &old[run.package as usize].name)
+                    && stands_in(view, id, count, mate, new, &run)
+                {
                     stand_in = Some(mate);
                 } else {
                     return None;
@@ -723,28 +726,25 @@ fn recheck(
     Some(updates)
 }
 
-/// Whether `new`, the one release `package` gained since a solve that failed, stands in for
-/// `mate`, the newest release it had then, in a solve on the current registry. It must be
-/// published just after it, look alike ([`Release::same_shape`]), be admitted the same way
-/// and suit the image (so a walk that met `mate` first now meets `new` first and stops or
-/// goes on alike), and no range the solve asked about may have split `mate` from its stretch
-/// ([`Observed::splits`]).
+/// Whether `new`, the one release `package` gained since a solve, stands in for `mate`, the
+/// newest release it had then, in a solve on the current registry. It must be published just
+/// after it, look alike ([`Release::same_shape`]), be admitted the same way and suit the image
+/// (so a walk that met `mate` first now meets `new` first and stops or goes on alike), and no
+/// range the solve asked about may have split `mate` from its stretch ([`Observed::splits`]).
 ///
-/// Then a solve on the current registry is the old one with `new` wherever `mate` was
-/// decided, fetched or walked, step for step. Every set pubgrub builds maps onto the new
-/// numbering by one rule: the point `mate` goes to `new`, and the stretch after `mate` to
-/// `mate`, its stretch, and the stretch after `new`. The rule keeps unions, intersections
-/// and complements, takes requirement sets to themselves (both releases lie in the same
-/// ones: that is how `mate` was found) and the singleton of `mate` to that of `new`. No
-/// split means every range asked about holds `mate` and its stretch together or neither,
-/// so it maps to one that holds `mate` and `new` together or neither: the same newest pick,
-/// with `new` for `mate`, and the same candidate count, since the run of look-alikes at the
-/// ceiling counts once and `new` only lengthens it. The
-/// dependencies read for `new` are those read for `mate`. Only a failed solve qualifies: a
-/// solution would name `new` where it named `mate`, and a failure's explanation names no
-/// release of a package that is not unchanged as a whole (those are in
-/// [`CellBasis::unchanged`]). A release that depends on its own package is left out: the
-/// refusal that follows names the release in text.
+/// Then a solve on the current registry is the old one with `new` wherever `mate` was decided,
+/// fetched or walked, step for step. Every set pubgrub builds maps onto the new numbering by
+/// one rule: the point `mate` goes to `new`, and the stretch after `mate` to `mate`, its
+/// stretch, and the stretch after `new`. The rule keeps unions, intersections and complements,
+/// takes requirement sets to themselves (both releases lie in the same ones: that is how `mate`
+/// was found) and the singleton of `mate` to that of `new`. No split means every range asked
+/// about holds `mate` and its stretch together or neither, so it maps to one that holds `mate`
+/// and `new` together or neither: the same newest pick, with `new` for `mate`, and the same
+/// candidate count, since the run of look-alikes at the ceiling counts once and `new` only
+/// lengthens it. The dependencies read for `new` are those read for `mate`. The output is then
+/// the same wherever it names no release of `package` (the caller checks that: a solution that
+/// keeps the package names `new` where it named `mate`). A release that depends on its own
+/// package is left out: the refusal that follows names the release in text.
 fn stands_in(
     view: &ImageView<'_>,
     package: PackageId,
@@ -768,10 +768,18 @@ fn stands_in(
             .all(|d| d.package != package)
 }
 
-/// Whether a cached cell's solve failed or gave up, rather than finding a solution (which a
-/// native check may still have turned into a failure).
-fn solver_failed(cell: &Cell) -> bool {
-    !cell.outcome.resolves() && cell.root_version.is_none()
+/// Whether a cached cell's output names no release of package `name`, as far as the cell
+/// shows. A solve that failed or gave up names releases only in its explanation, whose
+/// packages a basis keeps whole ([`CellBasis::unchanged`]). A solution names the releases
+/// of its closure, which the cell lists only when closures were kept; without the list it
+/// cannot tell.
+fn names_no_release_of(cell: &Cell, name: &str) -> bool {
+    match cell.root_version {
+        None => true,
+        Some(_) => {
+            cell.closure.len() == cell.closure_size && cell.closure.iter().all(|p| p.name != name)
+        }
+    }
 }
 
 /// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
@@ -935,7 +943,7 @@ pub fn replan(
                     &standing,
                     &views[col],
                     &prints,
-                    solver_failed(&old_cells[k]),
+                    &old_cells[k],
                 )
             {
                 return (Source::Reused(k, updates), entry_key, image_key);
