@@ -678,6 +678,20 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
         1,
         "a release with another dependency",
     );
+    // With the newest release yanked, a yanked look-alike is passed over just before it: the
+    // walk goes on alike, and the basis lists both as refused.
+    let yanked_newest = |tail: &str| {
+        failing_beside(&format!(
+            "  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0, yanked: true}}\n{tail}"
+        ))
+    };
+    check(
+        &yanked_newest(""),
+        &yanked_newest("  - {version: 1.2.0, yanked: true}\n"),
+        &["app"],
+        0,
+        "a yanked look-alike of a yanked newest release",
+    );
     // A look-alike that is yanked is passed over, so the solve walks differently.
     check(
         &before,
@@ -772,4 +786,37 @@ fn releases_that_come_to_look_alike_below_the_ceiling_are_solved_again() {
     assert!(lib_first(&to_json(&first)) && !lib_first(&to_json(&cold.matrix)));
     assert_eq!(stats.solved, 1);
     assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+}
+
+#[test]
+fn a_merged_run_at_the_ceiling_that_splits_up_is_solved_again() {
+    // lib 1.0.0 to 1.0.2 look alike and end at lib's ceiling, so `<2` offers two candidates
+    // (0.9.0 and the run) against other's three: lib is decided first, at 1.0.2. Once lib
+    // 2.0.0 suits the image and looks like none of them, the run no longer ends at the
+    // ceiling and counts three times: other goes first, at 2.1.0, and lib falls back to
+    // 0.9.0, though the range picked from gained no release.
+    let alike = "  - {version: 1.0.1, depends: [{name: other, req: '^1'}]}\n  - {version: 1.0.2, depends: [{name: other, req: '^1'}]}\n";
+    let before = order_sensitive(alike);
+    for (after, what) in [
+        (
+            order_sensitive(&format!("{alike}  - {{version: 2.0.0}}\n")),
+            "lib 2.0.0 published",
+        ),
+        (
+            // Present but empty native hints make a release look like no other.
+            order_sensitive(&alike.replacen("}]}", "}], native: {}}", 1)),
+            "empty native hints on lib 1.0.1",
+        ),
+    ] {
+        assert_ne!(before, after);
+        let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+        let first = plan(&small_inputs(&before, &["app"]), &PlanOptions::default());
+        let lib_first = |json: &str| !json.contains("\"0.9.0\"");
+        assert!(
+            lib_first(&to_json(&first)) && !lib_first(&to_json(&cold.matrix)),
+            "{what}: the order of decisions must change the answer"
+        );
+        assert_eq!(stats.solved, 1, "{what}");
+        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{what}");
+    }
 }

@@ -139,12 +139,20 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
             r.build.source = !r.build.source;
             "source build toggled"
         }
-        5 => {
+        5 if rng.below(2) == 0 => {
             r.native
                 .get_or_insert_with(Default::default)
                 .libraries
                 .push("libxml2".into());
             "native library declared"
+        }
+        5 => {
+            // Empty hints differ from none for telling look-alike releases apart.
+            r.native = match r.native {
+                Some(_) => None,
+                None => Some(Default::default()),
+            };
+            "native hints emptied or dropped"
         }
         6 => {
             p.summary = Some("bindings to zlib and sqlite".into());
@@ -175,9 +183,19 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
                 next.version.patch + 1,
             );
             next.version.pre = semver::Prerelease::EMPTY;
+            // Half of them declare what the previous newest does (a look-alike), half a
+            // runtime requirement of their own.
+            let look_alike = rng.below(2) == 0;
+            if !look_alike {
+                next.runtime = Some(req);
+            }
             if next.version > p.releases[n - 1].version {
                 p.releases.push(next);
-                "new release"
+                if look_alike {
+                    "new look-alike release"
+                } else {
+                    "new release"
+                }
             } else {
                 "nothing"
             }

@@ -168,8 +168,8 @@ impl Release {
     /// Whether `other` declares exactly what this release declares: the same runtime
     /// requirement, dependencies, builds and native hints. Version, date, yank flag and
     /// source line may differ. A patch that only fixes code usually looks like this; the
-    /// solver counts the run of look-alikes that ends at a package's newest usable release as
-    /// one candidate.
+    /// solver counts the run of look-alikes that ends at a package's newest release suiting
+    /// the image (yanked or not) as one candidate.
     ///
     /// ```
     /// use basefit::model::{Build, Release};

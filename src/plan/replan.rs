@@ -30,8 +30,9 @@
 //! old one was decided, step for step, as long as no range it asked about split the old
 //! newest release from the stretch after it (see `stands_in`). Its answer is then the same
 //! unless it names a release of that package: a failure's explanation never does (those
-//! packages must be unchanged), a solution does when the package is in its closure. The
-//! basis then reads the new release where it read the old one.
+//! packages must be unchanged), nor does a solve that gave up, and a solution does when the
+//! package is in its closure. The basis then reads the new release where it read the old
+//! one.
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -184,6 +185,8 @@ fn release_print(registry: &Registry, r: &Release) -> u64 {
     for p in r.build.prebuilt.iter() {
         h.shown(registry.platform(*p));
     }
+    // Present but empty hints are told apart from none, as `Release::same_shape` does.
+    h.flag(r.native.is_some());
     if let Some(n) = &r.native {
         for l in &n.libraries {
             h.str("L").str(l);
@@ -305,7 +308,10 @@ impl CellBasis {
     /// table indices to new ones (order-preserving, both tables being in name order). Only for
     /// bases that passed [`recheck`], whose lists are well formed.
     fn renumbered(&self, renumber: &[u32], updates: &Updates) -> Self {
-        let added: usize = updates.iter().map(|u| 2 * u.unfit.len()).sum();
+        let added: usize = updates
+            .iter()
+            .map(|u| 2 * u.unfit.len() + usize::from(u.stand_in.is_some()))
+            .sum();
         let mut observed = Vec::with_capacity(self.observed.len() + added);
         let mut rest = &self.observed[..];
         while let Some((&package, tail)) = rest.split_first() {
@@ -593,31 +599,32 @@ fn recheck(
         if !answered_alike {
             return None;
         }
-        // Candidate counts take the run of look-alike releases at the ceiling once, so which
-        // releases below the ceiling look alike must be as it was (checked for all of them,
-        // which is simpler and errs on the side of solving again). (Release prints hold exactly
-        // what `Release::same_shape` compares.)
-        if let Some(&was) = run.ceiling.first() {
-            let alike = |prints: &[u64], i: usize| prints[i] == prints[i + 1];
-            if (0..(was as usize).saturating_sub(1)).any(|i| alike(before, i) != alike(now, i)) {
-                return None;
-            }
-        }
-        // A lower ceiling lowers counts; a higher one raises them, which matters only in a
-        // range picked from: every release of such a range above the old ceiling was passed
-        // over, so it is among `unfit`.
+        // Candidate counts take the run of look-alike releases at the ceiling once (release
+        // prints hold what `Release::same_shape` compares), so which releases below the old
+        // ceiling look alike must be as it was: checked for all of them, which is simpler and
+        // errs on the side of solving again. A lower ceiling lowers counts. A higher one
+        // raises them, which matters only in a range picked from: every release of such a
+        // range above the old ceiling was passed over, so it is among `unfit`. And the old run
+        // at the ceiling must stay merged, or a range holding two of its releases gains
+        // candidates without gaining a release: so either it was one release long, or every
+        // release from the old newest suiting one up to the new one looks alike.
         let ceiling = view.ceiling(id);
         if let Some(&was) = run.ceiling.first() {
-            if ceiling < was || run.unfit.iter().any(|&i| was <= i && i < ceiling) {
+            let alike = |prints: &[u64], i: usize| prints[i] == prints[i + 1];
+            let (was, now_ceiling) = (was as usize, ceiling as usize);
+            if (0..was.saturating_sub(1)).any(|i| alike(before, i) != alike(now, i))
+                || now_ceiling < was
+                || run.unfit.iter().any(|&i| was <= i as usize && i < ceiling)
+            {
                 return None;
             }
-            if ceiling != was {
-                updates.push(Update {
-                    package: run.package,
-                    unfit: Vec::new(),
-                    ceiling,
-                    stand_in: None,
-                });
+            if now_ceiling != was {
+                let run_was_single = was < 2 || !alike(before, was - 2);
+                let run_goes_on = was >= 1 && (was - 1..now_ceiling - 1).all(|i| alike(now, i));
+                if !(run_was_single || run_goes_on) {
+                    return None;
+                }
+                update_of(&mut updates, run.package, ceiling);
             }
         }
         if matches!(standing[k], Standing::Extended(_)) {
@@ -700,30 +707,32 @@ fn recheck(
                 }
             }
         }
-        if let Some(newest) = stand_in {
-            match updates.iter_mut().find(|u| u.package == run.package) {
-                Some(update) => update.stand_in = Some(newest),
-                None => updates.push(Update {
-                    package: run.package,
-                    unfit: Vec::new(),
-                    ceiling,
-                    stand_in,
-                }),
-            }
+        if stand_in.is_some() {
+            update_of(&mut updates, run.package, ceiling).stand_in = stand_in;
         }
         if !unfit.is_empty() {
-            match updates.iter_mut().find(|u| u.package == run.package) {
-                Some(update) => update.unfit = unfit,
-                None => updates.push(Update {
-                    package: run.package,
-                    unfit,
-                    ceiling,
-                    stand_in: None,
-                }),
-            }
+            update_of(&mut updates, run.package, ceiling).unfit = unfit;
         }
     }
     Some(updates)
+}
+
+/// The update for `package` (old table index), made with the current `ceiling` if there is
+/// none yet.
+fn update_of(updates: &mut Updates, package: u32, ceiling: u32) -> &mut Update {
+    let at = match updates.iter().position(|u| u.package == package) {
+        Some(at) => at,
+        None => {
+            updates.push(Update {
+                package,
+                unfit: Vec::new(),
+                ceiling,
+                stand_in: None,
+            });
+            updates.len() - 1
+        }
+    };
+    &mut updates[at]
 }
 
 /// Whether `new`, the one release `package` gained since a solve, stands in for `mate`, the
@@ -755,8 +764,7 @@ fn stands_in(
 ) -> bool {
     let releases = &view.registry.package(package).releases;
     let admissions = view.admissions(package);
-    new as usize == count
-        && releases.len() == count + 1
+    releases.len() == count + 1
         && mate + 1 == new
         && releases[mate as usize].same_shape(&releases[new as usize])
         && admissions[mate as usize] == admissions[new as usize]
