@@ -634,13 +634,111 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
     let p = |tail: &str| {
         format!("  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0}}\n{tail}")
     };
-    let check_with = |before: &str,
-                      after: &str,
-                      names: &[&str],
-                      options: &PlanOptions,
-                      solved: usize,
-                      what: &str| {
-        let (warm, stats, cold) = warm_and_cold(before, after, names, options);
+    let before = failing_beside(&p(""));
+    let options = PlanOptions::default();
+    assert!(to_json(&plan(&small_inputs(&before, &["app"]), &options)).contains("\"fails\""));
+    // With the newest release yanked too.
+    let yanked_newest = |tail: &str| {
+        failing_beside(&format!(
+            "  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0, yanked: true}}\n{tail}"
+        ))
+    };
+    // app 1.1.0 fails as app did above, after p was decided; app 1.0.0 needs nothing and
+    // installs alone, leaving p out of the solution.
+    let dropped = |tail: &str| {
+        beside(
+            "  - {version: 1.0.0}\n  - {version: 1.1.0, depends: [{name: p, req: '*'}, {name: z, req: '*'}]}\n",
+            &p(tail),
+        )
+    };
+    let installed = to_json(&plan(&small_inputs(&dropped(""), &["app"]), &options));
+    assert!(
+        installed.contains("\"root_version\": \"1.0.0\"") && !installed.contains("\"name\": \"p\"")
+    );
+    let no_closures = PlanOptions {
+        closures: false,
+        ..PlanOptions::default()
+    };
+    let one_more = "  - {version: 1.2.0}\n";
+    // Registry before and after, entries, options, cells solved again, what the case is.
+    type Case<'a> = (
+        String,
+        String,
+        &'a [&'a str],
+        &'a PlanOptions,
+        usize,
+        &'a str,
+    );
+    let cases: [Case; 7] = [
+        // p 1.2.0 declares what 1.1.0 does: a cold solve decides it where it decided 1.1.0,
+        // and fails the same way.
+        (
+            before.clone(),
+            failing_beside(&p(one_more)),
+            &["app"],
+            &options,
+            0,
+            "look-alike published",
+        ),
+        // Not a look-alike: it needs q, which the solver must now weigh.
+        (
+            before.clone(),
+            failing_beside(&p("  - {version: 1.2.0, depends: [{name: q, req: '*'}]}\n")),
+            &["app"],
+            &options,
+            1,
+            "a release with another dependency",
+        ),
+        // A yanked look-alike of a yanked newest release is passed over just before it: the
+        // walk goes on alike, and the basis lists both as refused.
+        (
+            yanked_newest(""),
+            yanked_newest("  - {version: 1.2.0, yanked: true}\n"),
+            &["app"],
+            &options,
+            0,
+            "a yanked look-alike of a yanked newest release",
+        ),
+        // A yanked look-alike of a newest release that is not is passed over, so the solve
+        // walks differently.
+        (
+            before.clone(),
+            failing_beside(&p("  - {version: 1.2.0, yanked: true}\n")),
+            &["app"],
+            &options,
+            1,
+            "a yanked look-alike",
+        ),
+        // A solution names the release it picked: p's own cell installs and must change.
+        (
+            before.clone(),
+            failing_beside(&p(one_more)),
+            &["app", "p"],
+            &options,
+            1,
+            "an installing cell",
+        ),
+        // A solution that leaves p out is kept, but only where the cell lists its closure:
+        // without it, the cell cannot show that p is not in it.
+        (
+            dropped(""),
+            dropped(one_more),
+            &["app"],
+            &options,
+            0,
+            "p left out",
+        ),
+        (
+            dropped(""),
+            dropped(one_more),
+            &["app"],
+            &no_closures,
+            1,
+            "p left out, closures not kept",
+        ),
+    ];
+    for (before, after, names, options, solved, what) in cases {
+        let (warm, stats, cold) = warm_and_cold(&before, &after, names, options);
         assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{what}");
         // The reused basis must read exactly as the cold solve's, or the next re-plan would
         // check the wrong releases.
@@ -649,99 +747,7 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
             "{what}: warm cache differs from cold"
         );
         assert_eq!(stats.solved, solved, "{what}");
-    };
-    let check = |before: &str, after: &str, names: &[&str], solved: usize, what: &str| {
-        check_with(before, after, names, &PlanOptions::default(), solved, what)
-    };
-    let before = failing_beside(&p(""));
-    assert!(
-        to_json(&plan(
-            &small_inputs(&before, &["app"]),
-            &PlanOptions::default()
-        ))
-        .contains("\"fails\"")
-    );
-    // p 1.2.0 declares what 1.1.0 does: a cold solve decides it where it decided 1.1.0, and
-    // fails the same way.
-    check(
-        &before,
-        &failing_beside(&p("  - {version: 1.2.0}\n")),
-        &["app"],
-        0,
-        "look-alike published",
-    );
-    // Not a look-alike: it needs q, which the solver must now weigh.
-    check(
-        &before,
-        &failing_beside(&p("  - {version: 1.2.0, depends: [{name: q, req: '*'}]}\n")),
-        &["app"],
-        1,
-        "a release with another dependency",
-    );
-    // With the newest release yanked, a yanked look-alike is passed over just before it: the
-    // walk goes on alike, and the basis lists both as refused.
-    let yanked_newest = |tail: &str| {
-        failing_beside(&format!(
-            "  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0, yanked: true}}\n{tail}"
-        ))
-    };
-    check(
-        &yanked_newest(""),
-        &yanked_newest("  - {version: 1.2.0, yanked: true}\n"),
-        &["app"],
-        0,
-        "a yanked look-alike of a yanked newest release",
-    );
-    // A look-alike that is yanked is passed over, so the solve walks differently.
-    check(
-        &before,
-        &failing_beside(&p("  - {version: 1.2.0, yanked: true}\n")),
-        &["app"],
-        1,
-        "a yanked look-alike",
-    );
-    // A solution names the release it picked: p's own cell installs and must change.
-    check(
-        &before,
-        &failing_beside(&p("  - {version: 1.2.0}\n")),
-        &["app", "p"],
-        1,
-        "an installing cell",
-    );
-    // app 1.1.0 fails as app did above, after p was decided; app 1.0.0 needs nothing and
-    // installs alone. The solution leaves p out, so the cell is kept, but only where the
-    // cell lists its closure: without it, the cell cannot show that p is not in it.
-    let dropped = |tail: &str| {
-        beside(
-            "  - {version: 1.0.0}\n  - {version: 1.1.0, depends: [{name: p, req: '*'}, {name: z, req: '*'}]}\n",
-            &p(tail),
-        )
-    };
-    let installed = plan(
-        &small_inputs(&dropped(""), &["app"]),
-        &PlanOptions::default(),
-    );
-    assert!(to_json(&installed).contains("\"root_version\": \"1.0.0\""));
-    assert!(!to_json(&installed).contains("\"name\": \"p\""));
-    check(
-        &dropped(""),
-        &dropped("  - {version: 1.2.0}\n"),
-        &["app"],
-        0,
-        "p left out",
-    );
-    let no_closures = PlanOptions {
-        closures: false,
-        ..PlanOptions::default()
-    };
-    check_with(
-        &dropped(""),
-        &dropped("  - {version: 1.2.0}\n"),
-        &["app"],
-        &no_closures,
-        1,
-        "p left out, closures not kept",
-    );
+    }
 }
 
 #[test]
