@@ -826,3 +826,30 @@ fn a_merged_run_at_the_ceiling_that_splits_up_is_solved_again() {
         assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{what}");
     }
 }
+
+#[test]
+fn requirements_written_differently_but_read_alike_keep_releases_alike() {
+    // `'^1 '` reads as `^1` and an empty requirement as `*`: lib 1.0.2 still looks like
+    // 1.0.1, so the counts, the answer and the cache stay those of a cold plan. Were the two
+    // told apart, the run at lib's ceiling would split up unseen, as in
+    // `a_merged_run_at_the_ceiling_that_splits_up_is_solved_again`.
+    let w = "- name: w\n  versions:\n  - {version: 1.0.0}\n";
+    let release = |v: &str, other: &str, w: &str| {
+        format!(
+            "  - {{version: {v}, depends: [{{name: other, req: '{other}'}}, {{name: w, req: '{w}'}}]}}\n"
+        )
+    };
+    let with = |second_other: &str, second_w: &str| {
+        order_sensitive(&(release("1.0.1", "^1", "*") + &release("1.0.2", second_other, second_w)))
+            + w
+    };
+    let before = with("^1", "*");
+    for after in [with("^1 ", "*"), with("^1", "")] {
+        let (warm, _, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{after}");
+        assert!(
+            serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
+            "{after}: warm cache differs from cold"
+        );
+    }
+}

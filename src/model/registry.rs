@@ -312,14 +312,23 @@ impl Registry {
         id
     }
 
-    /// The id for a requirement string, parsing each distinct string once.
+    /// The id of requirement `text`, parsing it on first sight. Texts that parse to the same
+    /// normalised text (`^1` and ` ^1 `, `` and `*`) share one id, so comparing ids agrees
+    /// with comparing the texts a requirement prints as (which re-plan fingerprints hash).
     pub fn intern_requirement(&mut self, text: &str) -> Result<ReqId, String> {
         if let Some(id) = self.req_index.get(text) {
             return Ok(*id);
         }
         let req = Requirement::parse(text)?;
-        let id = ReqId(self.requirements.len() as u32);
-        self.requirements.push(req);
+        let id = match self.req_index.get(req.text.as_str()) {
+            Some(id) => *id,
+            None => {
+                let id = ReqId(self.requirements.len() as u32);
+                self.req_index.insert(req.text.as_str().into(), id);
+                self.requirements.push(req);
+                id
+            }
+        };
         self.req_index.insert(text.into(), id);
         Ok(id)
     }
