@@ -782,12 +782,8 @@ fn stands_in(
 /// of its closure, which the cell lists only when closures were kept; without the list it
 /// cannot tell.
 fn names_no_release_of(cell: &Cell, name: &str) -> bool {
-    match cell.root_version {
-        None => true,
-        Some(_) => {
-            cell.closure.len() == cell.closure_size && cell.closure.iter().all(|p| p.name != name)
-        }
-    }
+    cell.root_version.is_none()
+        || (cell.closure.len() == cell.closure_size && cell.closure.iter().all(|p| p.name != name))
 }
 
 /// A solve's observations as a [`CellBasis::observed`] list, runs in table order.

@@ -98,7 +98,7 @@ impl<'r> ImageView<'r> {
             PackageFit {
                 admissions,
                 ceiling,
-                top_run: top_run.min(ceiling),
+                top_run,
             }
         })
     }
