@@ -102,6 +102,23 @@ fn replan_after_a_change_reuses_what_it_can_and_equals_a_cold_plan() {
 }
 
 #[test]
+fn cells_that_moved_in_the_lists_are_found_by_name_and_reused() {
+    let mut inputs = demo();
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&inputs, &options, None, None);
+    // Both lists reversed, and the list's first package named once more at its end: no cell
+    // sits where it sat, and one old cell serves two.
+    let entries = &mut inputs.priorities.entries;
+    entries.reverse();
+    entries.push(entries[0].clone());
+    inputs.images.images.reverse();
+    let (warm, stats) = replan(&inputs, &options, Some(cache), None);
+    assert_eq!(stats.solved, 0, "nothing any cell read changed");
+    let (cold, _) = replan(&inputs, &options, None, None);
+    assert!(serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap());
+}
+
+#[test]
 fn a_changed_image_or_option_invalidates_its_cells() {
     let mut inputs = demo();
     let options = PlanOptions::default();

@@ -53,7 +53,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 8;
+pub const CACHE_FORMAT: u32 = 9;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -82,6 +82,10 @@ impl Fnv {
     fn shown(&mut self, x: impl fmt::Display) -> &mut Fnv {
         let _ = write!(self, "{x}");
         self.end()
+    }
+    fn number(&mut self, n: u64) -> &mut Fnv {
+        self.feed(&n.to_le_bytes());
+        self
     }
     fn flag(&mut self, b: bool) -> &mut Fnv {
         self.feed(&[b as u8]);
@@ -143,8 +147,15 @@ impl Prints {
 
 fn versions_print(releases: &[Release]) -> u64 {
     let mut h = Fnv::new();
+    // The fields rather than the displayed text, which is the same information at a tenth of
+    // the cost: every package a cache holds is printed on every re-plan.
     for r in releases {
-        h.shown(&r.version);
+        let v = &r.version;
+        h.number(v.major)
+            .number(v.minor)
+            .number(v.patch)
+            .str(v.pre.as_str())
+            .str(v.build.as_str());
     }
     h.0
 }
@@ -464,17 +475,26 @@ impl Run<'_> {
     }
 }
 
-/// The runs of an observed list, in order; a damaged list ends with a `None`.
-fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
-    fn take<'a>(rest: &mut &'a [u32]) -> Option<&'a [u32]> {
-        let (&n, tail) = rest.split_first()?;
-        let list = tail.get(..n as usize)?;
-        *rest = &tail[n as usize..];
-        Some(list)
-    }
-    fn next<'a>(package: u32, rest: &mut &'a [u32]) -> Option<Run<'a>> {
+/// One package's run of [`CellBasis::observed`], found but not yet split into its lists:
+/// most runs of a reused basis belong to packages unchanged since the solve, and are skipped.
+#[derive(Clone, Copy)]
+struct Found<'a> {
+    package: u32,
+    /// The run's [`LISTS`] counted lists, known to end where the run does.
+    lists: &'a [u32],
+}
+
+impl<'a> Found<'a> {
+    fn read(mut self) -> Option<Run<'a>> {
+        fn take<'a>(rest: &mut &'a [u32]) -> Option<&'a [u32]> {
+            let (&n, tail) = rest.split_first()?;
+            let list = tail.get(..n as usize)?;
+            *rest = &tail[n as usize..];
+            Some(list)
+        }
+        let rest = &mut self.lists;
         Some(Run {
-            package,
+            package: self.package,
             admissible: take(rest)?,
             refused: take(rest)?,
             fetched: take(rest)?,
@@ -484,6 +504,10 @@ fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
             splits: take(rest)?,
         })
     }
+}
+
+/// The runs of an observed list, in order; a damaged list ends with a `None`.
+fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Found<'_>>> {
     let mut rest = observed;
     let mut damaged = false;
     std::iter::from_fn(move || {
@@ -491,10 +515,19 @@ fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Run<'_>>> {
             return None;
         }
         let (&package, tail) = rest.split_first()?;
-        rest = tail;
-        let run = next(package, &mut rest);
-        damaged = run.is_none();
-        Some(run)
+        let mut len = 0usize;
+        for _ in 0..LISTS {
+            match tail.get(len) {
+                Some(&n) => len = len.saturating_add(n as usize).saturating_add(1),
+                None => len = usize::MAX,
+            }
+        }
+        let Some(lists) = tail.get(..len) else {
+            damaged = true;
+            return Some(None);
+        };
+        rest = &tail[len..];
+        Some(Some(Found { package, lists }))
     })
 }
 
@@ -528,10 +561,18 @@ struct Update {
 
 type Updates = Vec<Update>;
 
+/// The previous cache's package table, and where each of its packages stands now.
+#[derive(Clone, Copy)]
+struct Before<'a> {
+    packages: &'a [CachedPackage],
+    standing: &'a [Standing],
+}
+
 /// Whether the current registry would answer the cached cell's solve, and read its
 /// explanation, exactly as before; if so, what its basis gains. A cell that observed nothing
 /// was asked for a name the registry lacked, and holds while the name is still absent. A
-/// damaged cache makes cells invalid, never a panic.
+/// damaged cache makes cells invalid, never a panic. When the cell holds, `packages` ends
+/// with the old table index of every package its runs name, for the new table.
 ///
 /// Candidate counts may rise where the solver never picked: pubgrub 0.4 decides the package of
 /// highest priority, ties broken by a fixed order of packages, so lowering the priority of a
@@ -542,12 +583,17 @@ type Updates = Vec<Update>;
 fn recheck(
     basis: &CellBasis,
     entry: &Priority,
-    old: &[CachedPackage],
-    standing: &[Standing],
+    before: Before<'_>,
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
     cached: &Cell,
+    packages: &mut Vec<u32>,
 ) -> Option<Updates> {
+    packages.clear();
+    let Before {
+        packages: old,
+        standing,
+    } = before;
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
     let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
@@ -565,10 +611,12 @@ fn recheck(
     let mut extended: Vec<(PackageId, usize, Run<'_>)> = Vec::new();
     for run in runs(&basis.observed) {
         let run = run?;
+        packages.push(run.package);
         // Nothing of an unchanged package is read, so its lists need no checking.
         if unchanged(run.package) {
             continue;
         }
+        let run = run.read()?;
         let k = run.package as usize;
         let id = standing.get(k).and_then(Standing::id)?;
         let count = old[k].releases.len();
@@ -667,7 +715,7 @@ fn recheck(
         note(id, root_set(registry, id, req, entry.prerelease));
     }
     for run in runs(&basis.observed) {
-        let run = run?;
+        let run = run?.read()?;
         let dependent = standing.get(run.package as usize)?.id()?;
         let releases = registry.package(dependent).releases.len();
         for &i in run.fetched {
@@ -893,11 +941,25 @@ pub fn replan(
         Some(p) => (p.packages, p.bases, p.matrix.cells),
         None => Default::default(),
     };
-    let old: HashMap<(&str, &str), usize> = old_cells
-        .iter()
-        .enumerate()
-        .map(|(k, c)| ((c.package.as_str(), c.image.as_str()), k))
-        .collect();
+    // A cell usually sits where it sat in the previous plan; it is looked up by name only
+    // when the priorities or images have moved, or the previous plan was a shard.
+    let by_name: OnceLock<HashMap<(&str, &str), usize>> = OnceLock::new();
+    let old_cell = |i: usize, package: &str, image: &str| {
+        if old_cells
+            .get(i)
+            .is_some_and(|c| c.package == package && c.image == image)
+        {
+            return Some(i);
+        }
+        let by_name = by_name.get_or_init(|| {
+            old_cells
+                .iter()
+                .enumerate()
+                .map(|(k, c)| ((c.package.as_str(), c.image.as_str()), k))
+                .collect()
+        });
+        by_name.get(&(package, image)).copied()
+    };
     let prints = PrintTable::new(registry);
     let standing: Vec<Standing> = old_packages
         .par_iter()
@@ -925,10 +987,24 @@ pub fn replan(
         };
         crate::load::start_bar(pb, cells, "{pos}/{len} cells, {rate}, eta {eta} {wide_bar}");
     }
+    // The new package table holds every package a cell of this plan consulted. Marked as
+    // the cells are rechecked or solved, which walks each basis once rather than twice; a
+    // reused basis marks old table indices, mapped to the registry's afterwards.
+    let consulted: Vec<AtomicBool> = (0..registry.packages.len())
+        .map(|_| AtomicBool::new(false))
+        .collect();
+    let mark = |id: PackageId| consulted[id.0 as usize].store(true, Ordering::Relaxed);
+    let before = Before {
+        packages: &old_packages,
+        standing: &standing,
+    };
+    let consulted_before: Vec<AtomicBool> = (0..old_packages.len())
+        .map(|_| AtomicBool::new(false))
+        .collect();
     let results: Vec<(Source, u64, u64)> = (0..total)
         .into_par_iter()
         .filter(|i| shard.is_none_or(|s| s.contains(*i)))
-        .map(|i| {
+        .map_init(Vec::new, |packages, i| {
             if let Some(pb) = &options.progress {
                 pb.inc(1);
             }
@@ -937,29 +1013,44 @@ pub fn replan(
             let entry_key = entry_fingerprint(entry);
             let image_key = image_keys[col];
             let image = &inputs.images.images[col];
-            if let Some(&k) = old.get(&(entry.name.as_str(), image.id.as_str()))
+            if let Some(k) = old_cell(i, &entry.name, &image.id)
                 && old_bases[k].entry == entry_key
                 && old_bases[k].image == image_key
                 && let Some(updates) = recheck(
                     &old_bases[k],
                     entry,
-                    &old_packages,
-                    &standing,
+                    before,
                     &views[col],
                     &prints,
                     &old_cells[k],
+                    packages,
                 )
             {
+                let basis = &old_bases[k];
+                for &p in packages
+                    .iter()
+                    .chain(&basis.unchanged)
+                    .chain(&basis.open_ended)
+                {
+                    if let Some(m) = consulted_before.get(p as usize) {
+                        m.store(true, Ordering::Relaxed);
+                    }
+                }
                 return (Source::Reused(k, updates), entry_key, image_key);
             }
             let cell = plan_cell(inputs, views[col].get(), entry, options);
+            let o = &cell.observed;
+            o.packages
+                .iter()
+                .chain(&o.explained)
+                .chain(&o.open_ended)
+                .for_each(|id| mark(*id));
             (Source::Solved(Box::new(cell)), entry_key, image_key)
         })
         .collect();
     if let Some(pb) = &options.progress {
         pb.finish_and_clear();
     }
-    drop(old);
     let stats = ReplanStats {
         reused: results
             .iter()
@@ -970,32 +1061,14 @@ pub fn replan(
             .filter(|r| matches!(r.0, Source::Solved(_)))
             .count(),
     };
-
-    // The new package table: every package a cell of this plan consulted, in name order.
-    // Marks rather than a list of every cell's packages, which runs to millions.
-    let consulted: Vec<AtomicBool> = (0..registry.packages.len())
-        .map(|_| AtomicBool::new(false))
-        .collect();
-    let mark = |id: PackageId| consulted[id.0 as usize].store(true, Ordering::Relaxed);
-    results.par_iter().for_each(|(source, _, _)| match source {
-        Source::Solved(cell) => {
-            let o = &cell.observed;
-            o.packages
-                .iter()
-                .chain(&o.explained)
-                .chain(&o.open_ended)
-                .for_each(|id| mark(*id));
+    for (k, marked) in consulted_before.iter().enumerate() {
+        if marked.load(Ordering::Relaxed)
+            && let Some(id) = standing[k].id()
+        {
+            mark(id);
         }
-        Source::Reused(k, _) => {
-            let basis = &old_bases[*k];
-            runs(&basis.observed)
-                .map_while(|r| r.map(|r| r.package))
-                .chain(basis.unchanged.iter().copied())
-                .chain(basis.open_ended.iter().copied())
-                .filter_map(|p| standing[p as usize].id())
-                .for_each(mark);
-        }
-    });
+    }
+    drop(consulted_before);
     let mut ids: Vec<PackageId> = registry
         .ids()
         .filter(|id| consulted[id.0 as usize].load(Ordering::Relaxed))
