@@ -304,30 +304,45 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
         .iter()
         .position(|x| x.package == "root")
         .unwrap();
-    // Runs: package, then counted admissible, refused, fetched, covered (pairs), unsuitable,
+    // A package's run: counted admissible, refused, fetched, covered (pairs), unsuitable,
     // ceiling and split lists.
-    c.bases[cell].observed = vec![k as u32, 0, 0, 1, real, 0, 0, 0, 0];
+    let basis = &mut c.bases[cell];
+    basis.packages = vec![k as u32];
+    basis.lengths = vec![8];
+    basis.observed = vec![0, 0, 1, real, 0, 0, 0, 0];
     damaged.push(c);
-    // Observation lists pointing past the table, past release lists (a ceiling or a split
-    // too), with a stretch pair cut in half, or cut short.
-    for observed in [
-        vec![999, 0, 0, 0, 0, 0, 0, 0],
-        vec![0, 1, 50, 0, 0, 0, 0, 0, 0],
-        vec![0, 0, 0, 0, 0, 0, 1, 50, 0],
-        vec![0, 0, 0, 0, 0, 0, 0, 1, 50],
-        vec![0, 0, 0, 0, 1, 0, 0, 0, 0],
-        vec![0, 3, 1],
+    // Packages past the table; lists pointing past release lists (a ceiling or a split too),
+    // with a stretch pair cut in half, or cut short (read only when the package changed:
+    // here it has not); run lengths past the lists, short of them, or one too few, which
+    // no cell survives.
+    for (packages, lengths, observed, none_survives) in [
+        (vec![999], vec![7], vec![0; 7], true),
+        (vec![0], vec![8], vec![1, 50, 0, 0, 0, 0, 0, 0], false),
+        (vec![0], vec![8], vec![0, 0, 0, 0, 0, 1, 50, 0], false),
+        (vec![0], vec![8], vec![0, 0, 0, 0, 0, 0, 1, 50], false),
+        (vec![0], vec![8], vec![0, 0, 0, 1, 0, 0, 0, 0], false),
+        (vec![0], vec![2], vec![3, 1], false),
+        (vec![0], vec![9], vec![0; 8], true),
+        (vec![0], vec![6], vec![0; 7], true),
+        (vec![0, 1], vec![7], vec![0; 7], true),
     ] {
         let mut c = cache.clone();
         for b in &mut c.bases {
+            b.packages = packages.clone();
+            b.lengths = lengths.clone();
             b.observed = observed.clone();
+        }
+        if none_survives {
+            let (warm, stats) = replan(&inputs, &options, Some(c.clone()), None);
+            assert_eq!(stats.reused, 0, "{packages:?} {lengths:?} {observed:?}");
+            assert!(to_json(&warm.matrix) == cold);
         }
         damaged.push(c);
     }
     // A cell for an absent name that names packages it never saw.
     let mut c = cache.clone();
     for b in &mut c.bases {
-        if b.observed.is_empty() {
+        if b.packages.is_empty() {
             b.unchanged = vec![999];
             b.open_ended = vec![999];
         }
@@ -347,7 +362,10 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
     let before = small_inputs(&text("{version: 1.0.0}"), &["app"]);
     let (mut c, _) = replan(&before, &options, None, None);
     let app = c.packages.iter().position(|p| p.name == "app").unwrap() as u32;
-    c.bases[0].observed.extend([app, 0, 0, 1, 50, 0, 0, 0, 0]);
+    let basis = &mut c.bases[0];
+    basis.packages.push(app);
+    basis.lengths.push(8);
+    basis.observed.extend([0, 0, 1, 50, 0, 0, 0, 0]);
     let after = small_inputs(&text("{version: 1.0.0}, {version: 3.0.0}"), &["app"]);
     let (warm, _) = replan(&after, &options, Some(c), None);
     assert!(to_json(&warm.matrix) == to_json(&plan(&after, &options)));

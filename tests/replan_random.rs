@@ -208,15 +208,14 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
 /// release that suits an image unsuitable: the edits a re-plan must notice through what it
 /// observed of single releases.
 fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
-    // Runs of the flat list: package, then counted admissible, refused, fetched, covered,
-    // unsuitable, ceiling and split lists.
+    // Each package's run: counted admissible, refused, fetched, covered, unsuitable, ceiling
+    // and split lists.
     let mut seen: Vec<(&str, u32, usize)> = Vec::new();
     for basis in &cache.bases {
         let o = &basis.observed;
         let mut at = 0;
-        while at < o.len() {
-            let name = cache.packages[o[at] as usize].name.as_str();
-            at += 1;
+        for &package in &basis.packages {
+            let name = cache.packages[package as usize].name.as_str();
             for list in 0..7 {
                 let n = o[at] as usize;
                 let listed = o[at + 1..at + 1 + n].iter();

@@ -53,7 +53,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 9;
+pub const CACHE_FORMAT: u32 = 10;
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -257,7 +257,7 @@ pub struct CachedPackage {
     pub releases: Vec<u64>,
 }
 
-/// How many counted lists follow each package in [`CellBasis::observed`].
+/// How many counted lists each package's run of [`CellBasis::observed`] holds.
 const LISTS: usize = 7;
 
 /// What one cell of the cached matrix depends on.
@@ -265,15 +265,24 @@ const LISTS: usize = 7;
 pub struct CellBasis {
     pub entry: u64,
     pub image: u64,
-    /// What the solve observed, one run per consulted package in table order: the package's
-    /// index in [`PlanCache::packages`], then six counted lists of release indices: those
-    /// that were admissible and must still be, those refused that must still be, those whose
-    /// dependencies were read and must be unchanged, `from, to` pairs of the releases whose
-    /// stretch lay in a range picked from ([`Observed::covered`]), those passed over for not
-    /// suiting the image that still must not, the package's candidate ceiling when it was
-    /// prioritized (none or one value, [`Observed::ceilings`]), and the releases a range split
-    /// from their stretch ([`Observed::splits`]). Flat, because a
-    /// registry-sized plan has millions of these and a re-plan copies them all.
+    /// The packages the solve consulted, as indices in [`PlanCache::packages`], ascending:
+    /// kept apart from their runs, so that a re-plan finds the changed ones (usually none)
+    /// and renumbers the table without walking every run.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub packages: Vec<u32>,
+    /// How many values of `observed` each package's run takes, in the same order.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub lengths: Vec<u32>,
+    /// What the solve observed, one run per package of `packages`, each of seven counted
+    /// lists of release indices: those that were admissible and must still be, those refused
+    /// that must still be, those whose dependencies were read and must be unchanged,
+    /// `from, to` pairs of the releases whose stretch lay in a range picked from
+    /// ([`Observed::covered`]), those passed over for not suiting the image that still must
+    /// not, the package's candidate ceiling when it was prioritized (none or one value,
+    /// [`Observed::ceilings`]), and the releases a range split from their stretch
+    /// ([`Observed::splits`]). Flat, because a registry-sized plan has millions of these and
+    /// a re-plan copies them all.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub observed: Vec<u32>,
     /// Packages (table indices) that must be unchanged as a whole.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -291,50 +300,87 @@ impl CellBasis {
             list.sort_unstable();
             list
         };
+        let (packages, lengths, observed) = encode(o, slot);
         CellBasis {
             entry,
             image,
-            observed: encode(o, slot),
+            packages,
+            lengths,
+            observed,
             unchanged: in_table_order(&o.explained),
             open_ended: in_table_order(&o.open_ended),
         }
     }
 
+    /// [`CellBasis::renumbered`] without renumbering, in place, when `updates` only move
+    /// ceilings (most do: a release published where the solver never picked); false, and
+    /// nothing changed, otherwise.
+    fn move_ceilings(&mut self, updates: &Updates) -> bool {
+        if updates
+            .iter()
+            .any(|u| !u.unfit.is_empty() || u.stand_in.is_some())
+        {
+            return false;
+        }
+        let mut at = 0;
+        for (package, &length) in self.packages.iter().zip(&self.lengths) {
+            if let Some(update) = updates.iter().find(|u| u.package == *package) {
+                // Past the first five lists to the ceiling's; the run was read by `recheck`.
+                let mut list = at;
+                for _ in 0..5 {
+                    list += 1 + self.observed.get(list).copied().unwrap_or(0) as usize;
+                }
+                if self.observed.get(list) == Some(&1)
+                    && let Some(ceiling) = self.observed.get_mut(list + 1)
+                {
+                    *ceiling = update.ceiling;
+                }
+            }
+            at += length as usize;
+        }
+        true
+    }
+
     /// [`CellBasis::renumbered`] with nothing to add, in place.
     fn renumber(&mut self, renumber: &[u32]) {
-        let mut at = 0;
-        while at < self.observed.len() {
-            self.observed[at] = renumber[self.observed[at] as usize];
-            at += 1;
-            for _ in 0..LISTS {
-                at += 1 + self.observed[at] as usize;
-            }
-        }
-        for p in self.unchanged.iter_mut().chain(&mut self.open_ended) {
+        let lists = self.packages.iter_mut();
+        for p in lists.chain(&mut self.unchanged).chain(&mut self.open_ended) {
             *p = renumber[*p as usize];
         }
     }
 
     /// The same basis over a new package table, with `updates` applied; `renumber` maps old
     /// table indices to new ones (order-preserving, both tables being in name order). Only for
-    /// bases that passed [`recheck`], whose lists are well formed.
+    /// bases that passed [`recheck`], which read the run of every package with an update.
     fn renumbered(&self, renumber: &[u32], updates: &Updates) -> Self {
         let added: usize = updates
             .iter()
             .map(|u| 2 * u.unfit.len() + usize::from(u.stand_in.is_some()))
             .sum();
         let mut observed = Vec::with_capacity(self.observed.len() + added);
-        let mut rest = &self.observed[..];
-        while let Some((&package, tail)) = rest.split_first() {
-            observed.push(renumber[package as usize]);
-            rest = tail;
-            let update = updates.iter().find(|u| u.package == package);
-            for list in 0..LISTS {
-                let n = rest[0] as usize;
+        let mut lengths = Vec::with_capacity(self.lengths.len());
+        for found in runs(self).map_while(|found| found) {
+            let run_at = observed.len();
+            let update = updates.iter().find(|u| u.package == found.package);
+            let Some((update, run)) = update.zip(found.read()) else {
+                observed.extend_from_slice(found.lists);
+                lengths.push(found.lists.len() as u32);
+                continue;
+            };
+            let lists: [&[u32]; LISTS] = [
+                run.admissible,
+                run.refused,
+                run.fetched,
+                run.covered,
+                run.unfit,
+                run.ceiling,
+                run.splits,
+            ];
+            for (list, listed) in lists.into_iter().enumerate() {
+                let n = listed.len();
                 let count_at = observed.len();
-                observed.extend_from_slice(&rest[..=n]);
-                rest = &rest[1 + n..];
-                let Some(update) = update else { continue };
+                observed.push(n as u32);
+                observed.extend_from_slice(listed);
                 // A look-alike published just after the newest release takes its place in
                 // every walk, fetch and stretch (see `recheck`); every list is sorted, so the
                 // newest release is last where it is listed.
@@ -373,11 +419,14 @@ impl CellBasis {
                 }
                 observed[count_at] = (observed.len() - count_at - 1) as u32;
             }
+            lengths.push((observed.len() - run_at) as u32);
         }
         let renumbered = |list: &[u32]| list.iter().map(|&p| renumber[p as usize]).collect();
         CellBasis {
             entry: self.entry,
             image: self.image,
+            packages: renumbered(&self.packages),
+            lengths,
             observed,
             unchanged: renumbered(&self.unchanged),
             open_ended: renumbered(&self.open_ended),
@@ -480,11 +529,12 @@ impl Run<'_> {
 #[derive(Clone, Copy)]
 struct Found<'a> {
     package: u32,
-    /// The run's [`LISTS`] counted lists, known to end where the run does.
+    /// The run's [`LISTS`] counted lists.
     lists: &'a [u32],
 }
 
 impl<'a> Found<'a> {
+    /// The run's lists; `None` when they do not fill the run exactly (a damaged cache).
     fn read(mut self) -> Option<Run<'a>> {
         fn take<'a>(rest: &mut &'a [u32]) -> Option<&'a [u32]> {
             let (&n, tail) = rest.split_first()?;
@@ -493,7 +543,7 @@ impl<'a> Found<'a> {
             Some(list)
         }
         let rest = &mut self.lists;
-        Some(Run {
+        let run = Run {
             package: self.package,
             admissible: take(rest)?,
             refused: take(rest)?,
@@ -502,33 +552,26 @@ impl<'a> Found<'a> {
             unfit: take(rest)?,
             ceiling: take(rest)?,
             splits: take(rest)?,
-        })
+        };
+        rest.is_empty().then_some(run)
     }
 }
 
-/// The runs of an observed list, in order; a damaged list ends with a `None`.
-fn runs(observed: &[u32]) -> impl Iterator<Item = Option<Found<'_>>> {
-    let mut rest = observed;
-    let mut damaged = false;
-    std::iter::from_fn(move || {
-        if damaged {
-            return None;
-        }
-        let (&package, tail) = rest.split_first()?;
-        let mut len = 0usize;
-        for _ in 0..LISTS {
-            match tail.get(len) {
-                Some(&n) => len = len.saturating_add(n as usize).saturating_add(1),
-                None => len = usize::MAX,
-            }
-        }
-        let Some(lists) = tail.get(..len) else {
-            damaged = true;
-            return Some(None);
-        };
-        rest = &tail[len..];
-        Some(Some(Found { package, lists }))
-    })
+/// The runs of a basis, in order; a damaged basis (lengths that do not add up to its
+/// observed list, or one per package) gives a single `None`.
+fn runs(basis: &CellBasis) -> impl Iterator<Item = Option<Found<'_>>> {
+    let total: u64 = basis.lengths.iter().map(|&n| u64::from(n)).sum();
+    let sound = basis.lengths.len() == basis.packages.len() && total == basis.observed.len() as u64;
+    let damaged = (!sound).then_some(None);
+    let mut at = 0usize;
+    let found = basis.packages.iter().zip(&basis.lengths);
+    let found = found.take_while(move |_| sound).map(move |(&package, &n)| {
+        // In bounds: the lengths add up to the list's.
+        let lists = &basis.observed[at..at + n as usize];
+        at += n as usize;
+        Some(Found { package, lists })
+    });
+    damaged.into_iter().chain(found)
 }
 
 /// An image's solver context, built only when some cell needs it: a re-plan that finds
@@ -561,18 +604,10 @@ struct Update {
 
 type Updates = Vec<Update>;
 
-/// The previous cache's package table, and where each of its packages stands now.
-#[derive(Clone, Copy)]
-struct Before<'a> {
-    packages: &'a [CachedPackage],
-    standing: &'a [Standing],
-}
-
 /// Whether the current registry would answer the cached cell's solve, and read its
 /// explanation, exactly as before; if so, what its basis gains. A cell that observed nothing
 /// was asked for a name the registry lacked, and holds while the name is still absent. A
-/// damaged cache makes cells invalid, never a panic. When the cell holds, `packages` ends
-/// with the old table index of every package its runs name, for the new table.
+/// damaged cache makes cells invalid, never a panic.
 ///
 /// Candidate counts may rise where the solver never picked: pubgrub 0.4 decides the package of
 /// highest priority, ties broken by a fixed order of packages, so lowering the priority of a
@@ -583,24 +618,19 @@ struct Before<'a> {
 fn recheck(
     basis: &CellBasis,
     entry: &Priority,
-    before: Before<'_>,
+    old: &[CachedPackage],
+    standing: &[Standing],
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
     cached: &Cell,
-    packages: &mut Vec<u32>,
 ) -> Option<Updates> {
-    packages.clear();
-    let Before {
-        packages: old,
-        standing,
-    } = before;
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
     let known = |k: &u32| standing.get(*k as usize).and_then(Standing::id).is_some();
     if !basis.unchanged.iter().all(|&k| unchanged(k)) || !basis.open_ended.iter().all(known) {
         return None;
     }
-    if basis.observed.is_empty() {
+    if basis.packages.is_empty() && basis.observed.is_empty() {
         let still_absent = registry.id(&entry.name).is_none()
             && basis.unchanged.is_empty()
             && basis.open_ended.is_empty();
@@ -609,9 +639,8 @@ fn recheck(
     let mut updates = Vec::new();
     // Packages with releases published since, how many releases they had, and their runs.
     let mut extended: Vec<(PackageId, usize, Run<'_>)> = Vec::new();
-    for run in runs(&basis.observed) {
+    for run in runs(basis) {
         let run = run?;
-        packages.push(run.package);
         // Nothing of an unchanged package is read, so its lists need no checking.
         if unchanged(run.package) {
             continue;
@@ -714,7 +743,7 @@ fn recheck(
         let req = entry.req.as_ref().unwrap_or(&any);
         note(id, root_set(registry, id, req, entry.prerelease));
     }
-    for run in runs(&basis.observed) {
+    for run in runs(basis) {
         let run = run?.read()?;
         let dependent = standing.get(run.package as usize)?.id()?;
         let releases = registry.package(dependent).releases.len();
@@ -834,13 +863,16 @@ fn names_no_release_of(cell: &Cell, name: &str) -> bool {
         || (cell.closure.len() == cell.closure_size && cell.closure.iter().all(|p| p.name != name))
 }
 
-/// A solve's observations as a [`CellBasis::observed`] list, runs in table order.
-fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
+/// A solve's observations as [`CellBasis::packages`], [`CellBasis::lengths`] and
+/// [`CellBasis::observed`], runs in table order.
+fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> (Vec<u32>, Vec<u32>, Vec<u32>) {
     let mut order = observed.packages.clone();
     order.sort_unstable_by_key(|id| slot(*id));
+    let packages: Vec<u32> = order.iter().map(|id| slot(*id)).collect();
+    let mut lengths = Vec::with_capacity(order.len());
     let mut out = Vec::new();
     for id in order {
-        out.push(slot(id));
+        let run_at = out.len();
         // Every list of `Observed` is sorted by package first.
         push_by_flag(&mut out, entries_of(&observed.admissions, id, |a| a.0));
         let fetched = entries_of(&observed.fetched, id, |f| f.0);
@@ -858,8 +890,9 @@ fn encode(observed: &Observed, slot: &dyn Fn(PackageId) -> u32) -> Vec<u32> {
         let splits = entries_of(&observed.splits, id, |s| s.0);
         out.push(splits.len() as u32);
         out.extend(splits.iter().map(|s| s.1));
+        lengths.push((out.len() - run_at) as u32);
     }
-    out
+    (packages, lengths, out)
 }
 
 /// The entries of `list`, sorted by package first, that belong to `id`.
@@ -987,24 +1020,20 @@ pub fn replan(
         };
         crate::load::start_bar(pb, cells, "{pos}/{len} cells, {rate}, eta {eta} {wide_bar}");
     }
-    // The new package table holds every package a cell of this plan consulted. Marked as
-    // the cells are rechecked or solved, which walks each basis once rather than twice; a
-    // reused basis marks old table indices, mapped to the registry's afterwards.
+    // The new package table holds every package a cell of this plan consulted, marked as the
+    // cells are rechecked or solved; a reused basis marks old table indices, mapped to the
+    // registry's afterwards.
     let consulted: Vec<AtomicBool> = (0..registry.packages.len())
         .map(|_| AtomicBool::new(false))
         .collect();
     let mark = |id: PackageId| consulted[id.0 as usize].store(true, Ordering::Relaxed);
-    let before = Before {
-        packages: &old_packages,
-        standing: &standing,
-    };
     let consulted_before: Vec<AtomicBool> = (0..old_packages.len())
         .map(|_| AtomicBool::new(false))
         .collect();
     let results: Vec<(Source, u64, u64)> = (0..total)
         .into_par_iter()
         .filter(|i| shard.is_none_or(|s| s.contains(*i)))
-        .map_init(Vec::new, |packages, i| {
+        .map(|i| {
             if let Some(pb) = &options.progress {
                 pb.inc(1);
             }
@@ -1019,15 +1048,16 @@ pub fn replan(
                 && let Some(updates) = recheck(
                     &old_bases[k],
                     entry,
-                    before,
+                    &old_packages,
+                    &standing,
                     &views[col],
                     &prints,
                     &old_cells[k],
-                    packages,
                 )
             {
                 let basis = &old_bases[k];
-                for &p in packages
+                for &p in basis
+                    .packages
                     .iter()
                     .chain(&basis.unchanged)
                     .chain(&basis.open_ended)
@@ -1142,9 +1172,12 @@ pub fn replan(
             Source::Solved(cell) => {
                 *basis = CellBasis::of_solve(*entry, *image, &cell.observed, &slot)
             }
-            // Usually the table is the same and nothing was published: kept as it is.
-            Source::Reused(_, updates) if same_table && updates.is_empty() => {}
-            Source::Reused(_, updates) if updates.is_empty() => basis.renumber(&renumber),
+            // Usually the table is the same and at most ceilings moved: changed in place.
+            Source::Reused(_, updates) if basis.move_ceilings(updates) => {
+                if !same_table {
+                    basis.renumber(&renumber)
+                }
+            }
             Source::Reused(_, updates) => *basis = basis.renumbered(&renumber, updates),
         });
     let mut old_cells = old_cells;
@@ -1263,4 +1296,53 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
         cells,
         shard: None,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn basis(packages: Vec<u32>, lengths: Vec<u32>, observed: Vec<u32>) -> CellBasis {
+        CellBasis {
+            packages,
+            lengths,
+            observed,
+            ..CellBasis::default()
+        }
+    }
+
+    #[test]
+    fn a_run_reads_only_when_its_lists_fill_it_exactly() {
+        // Package 3: admissible [1], refused [], fetched [0, 1], covered [0, 2], and empty
+        // unsuitable, ceiling and split lists; package 5: all lists empty.
+        let run3 = vec![1, 1, 0, 2, 0, 1, 2, 0, 2, 0, 0, 0];
+        let mut observed = run3.clone();
+        observed.extend([0; 7]);
+        let sound = basis(vec![3, 5], vec![12, 7], observed.clone());
+        let found: Vec<_> = runs(&sound).map(|f| f.unwrap()).collect();
+        assert_eq!(found.len(), 2);
+        let run = found[0].read().unwrap();
+        assert_eq!(
+            (run.package, run.admissible, run.fetched),
+            (3, &[1][..], &[0, 1][..])
+        );
+        assert!(run.covers(1) && !run.covers(2));
+        assert!(found[1].read().is_some_and(|r| r.package == 5));
+        // The same values cut into runs one value apart: lists that stop short of their run,
+        // or run past it.
+        let shifted = basis(vec![3, 5], vec![13, 6], observed.clone());
+        let found: Vec<_> = runs(&shifted).map(|f| f.unwrap()).collect();
+        assert!(found[0].read().is_none() && found[1].read().is_none());
+        // Lengths that do not add up to the list, or do not match the packages.
+        assert!(
+            runs(&basis(vec![3, 5], vec![12, 8], observed.clone()))
+                .map(|f| f.is_none())
+                .eq([true])
+        );
+        assert!(
+            runs(&basis(vec![3], vec![12, 7], observed))
+                .map(|f| f.is_none())
+                .eq([true])
+        );
+    }
 }
