@@ -185,6 +185,11 @@ fn read_cache(
     if let Ok(cache) = &whole
         && cache.format == plan::replan::CACHE_FORMAT
     {
+        // Well-formed JSON can still be damaged: a re-plan carries runs of unchanged packages
+        // over unread, so they are checked here, once, at a fraction of the parse.
+        cache.check().map_err(|e| {
+            BadInput::file(path.display().to_string(), format!("not a {what}: {e}"))
+        })?;
         return whole.map(Some);
     }
     let header: Header = parse_json(path, &text, what)?;

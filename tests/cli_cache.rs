@@ -117,3 +117,32 @@ fn a_damaged_cache_is_an_input_error_naming_file_and_line() {
         assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
     }
 }
+
+#[test]
+fn a_cache_that_reads_but_is_damaged_is_an_input_error_naming_the_cell() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, _, stderr) = plan(&cache, &d.path().join("first"));
+    assert_eq!(code, 0, "{stderr}");
+    // Valid JSON and this version's format, but the first run of the first cell that observed
+    // anything is one value longer than its lists and the next one shorter: runs that a
+    // re-plan would carry over unread while their packages stay unchanged.
+    let mut json: serde_json::Value = serde_json::from_slice(&read(cache.clone())).unwrap();
+    let bases = json["bases"].as_array_mut().unwrap();
+    let (k, basis) = bases
+        .iter_mut()
+        .enumerate()
+        .find(|(_, b)| b["lengths"].as_array().is_some_and(|l| l.len() >= 2))
+        .unwrap();
+    let lengths = basis["lengths"].as_array_mut().unwrap();
+    lengths[0] = (lengths[0].as_u64().unwrap() + 1).into();
+    lengths[1] = (lengths[1].as_u64().unwrap() - 1).into();
+    let text = serde_json::to_string(&json).unwrap();
+    std::fs::write(&cache, &text).unwrap();
+    let (code, _, stderr) = plan(&cache, &d.path().join("second"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("plan.cache"), "{stderr}");
+    assert!(stderr.contains("not a basefit plan cache"), "{stderr}");
+    assert!(stderr.contains(&format!("cell {} (", k + 1)), "{stderr}");
+    assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
+}

@@ -332,6 +332,7 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
             b.lengths = lengths.clone();
             b.observed = observed.clone();
         }
+        assert!(c.check().is_err(), "{packages:?} {lengths:?} {observed:?}");
         if none_survives {
             let (warm, stats) = replan(&inputs, &options, Some(c.clone()), None);
             assert_eq!(stats.reused, 0, "{packages:?} {lengths:?} {observed:?}");
@@ -347,6 +348,7 @@ fn a_damaged_cache_never_panics_and_is_never_trusted_wrongly() {
             b.open_ended = vec![999];
         }
     }
+    assert!(c.check().is_err());
     damaged.push(c);
     for c in damaged {
         let (warm, _) = replan(&inputs, &options, Some(c), None);
@@ -886,5 +888,67 @@ fn requirements_written_differently_but_read_alike_keep_releases_alike() {
             serde_json::to_string(&warm).unwrap() == serde_json::to_string(&cold).unwrap(),
             "{after}: warm cache differs from cold"
         );
+    }
+}
+
+/// `app` 1.0.0 depends on `lib ^1`; `lib` has one release, yanked or not.
+fn app_lib(lib_yanked: bool) -> String {
+    format!(
+        "packages:\n- name: app\n  versions:\n  - {{version: 1.0.0, depends: [{{name: lib, req: '^1'}}]}}\n- name: lib\n  versions: [{{version: 1.0.0, yanked: {lib_yanked}}}]\n"
+    )
+}
+
+fn cache_json(cache: &PlanCache) -> String {
+    serde_json::to_string(cache).unwrap()
+}
+
+#[test]
+fn a_package_table_out_of_name_order_is_not_trusted() {
+    // A repeated entry shifts every later table index by one, so a basis would point at the
+    // wrong packages and miss that lib was yanked.
+    let options = PlanOptions::default();
+    let before = small_inputs(&app_lib(false), &["app"]);
+    let (mut c, _) = replan(&before, &options, None, None);
+    let repeated = c.packages[0].clone();
+    c.packages.insert(0, repeated);
+    assert!(c.check().is_err());
+    let after = small_inputs(&app_lib(true), &["app"]);
+    let cold = to_json(&plan(&after, &options));
+    assert!(
+        cold != to_json(&plan(&before, &options)),
+        "the yank must matter"
+    );
+    let (warm, stats) = replan(&after, &options, Some(c), None);
+    assert!(to_json(&warm.matrix) == cold);
+    assert_eq!(stats.reused, 0);
+}
+
+#[test]
+fn stray_or_unordered_basis_lists_are_not_carried_over() {
+    let options = PlanOptions::default();
+    let inputs = small_inputs(&app_lib(false), &["app", "absent"]);
+    let (cache, _) = replan(&inputs, &options, None, None);
+    let cold = cache_json(&cache);
+    // Lengths on the cell of a name the registry lacks, which observed nothing.
+    let mut stray = cache.clone();
+    let absent = stray
+        .matrix
+        .cells
+        .iter()
+        .position(|x| x.package == "absent");
+    stray.bases[absent.unwrap()].lengths = vec![5];
+    // The packages of app's cell, with their runs, listed in the other order.
+    let mut unordered = cache.clone();
+    let b = &mut unordered.bases[0];
+    assert_eq!(b.packages.len(), 2);
+    let first = b.lengths[0] as usize;
+    b.observed.rotate_left(first);
+    b.packages.reverse();
+    b.lengths.reverse();
+    for damaged in [stray, unordered] {
+        assert!(damaged.check().is_err());
+        let (warm, stats) = replan(&inputs, &options, Some(damaged), None);
+        assert_eq!(stats.solved, 1);
+        assert!(cache_json(&warm) == cold);
     }
 }

@@ -447,6 +447,70 @@ pub struct PlanCache {
     pub matrix: Matrix,
 }
 
+impl PlanCache {
+    /// Checks that the cache is well formed: a basis per cell, the package table in strict name
+    /// order, and every basis naming packages of the table in ascending order with runs that
+    /// read exactly and fit their packages' releases. The error names the first damaged cell
+    /// (1-based, in matrix order).
+    ///
+    /// ```
+    /// use basefit::plan::replan::{replan, CellBasis};
+    /// let inputs = basefit::load::Inputs::default();
+    /// let (mut cache, _) = replan(&inputs, &Default::default(), None, None);
+    /// assert!(cache.check().is_ok());
+    /// cache.bases.push(CellBasis::default());
+    /// assert!(cache.check().is_err());
+    /// ```
+    pub fn check(&self) -> Result<(), String> {
+        if self.bases.len() != self.matrix.cells.len() {
+            return Err(format!(
+                "{} cell bases for {} cells",
+                self.bases.len(),
+                self.matrix.cells.len()
+            ));
+        }
+        if let Some(w) = self.packages.windows(2).find(|w| w[0].name >= w[1].name) {
+            return Err(format!(
+                "package table out of name order at `{}`",
+                w[1].name
+            ));
+        }
+        for (k, (basis, cell)) in self.bases.iter().zip(&self.matrix.cells).enumerate() {
+            basis_damage(basis, &self.packages).map_err(|what| {
+                format!(
+                    "cell {} ({} on {}): {what}",
+                    k + 1,
+                    cell.package,
+                    cell.image
+                )
+            })?;
+        }
+        Ok(())
+    }
+}
+
+/// Whether `list` rises strictly, so holds no index twice.
+fn ascending(list: &[u32]) -> bool {
+    list.windows(2).all(|w| w[0] < w[1])
+}
+
+/// What is wrong with one basis over the package table `table`, if anything.
+fn basis_damage(basis: &CellBasis, table: &[CachedPackage]) -> Result<(), &'static str> {
+    let in_table =
+        |list: &[u32]| ascending(list) && list.iter().all(|&p| (p as usize) < table.len());
+    if !in_table(&basis.packages) || !in_table(&basis.unchanged) || !in_table(&basis.open_ended) {
+        return Err("package indices out of order or past the package table");
+    }
+    for run in runs(basis) {
+        let run = run.ok_or("run lengths that do not add up to the observed list")?;
+        let run = run.read().ok_or("a run whose lists do not fill it")?;
+        if !run.within(table[run.package as usize].releases.len()) {
+            return Err("a run reaching past its package's releases");
+        }
+    }
+    Ok(())
+}
+
 /// How much of a re-plan was reused.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
 pub struct ReplanStats {
@@ -516,6 +580,18 @@ struct Run<'a> {
 }
 
 impl Run<'_> {
+    /// Whether the run fits a package of `count` releases: release indices below it (stretch
+    /// ends and the ceiling up to it), stretches in pairs, at most one ceiling.
+    fn within(&self, count: usize) -> bool {
+        let lists = [self.admissible, self.refused, self.fetched, self.unfit];
+        !(lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
+            || !self.covered.len().is_multiple_of(2)
+            || self.covered.iter().any(|&i| i as usize > count)
+            || self.ceiling.len() > 1
+            || self.ceiling.iter().any(|&c| c as usize > count)
+            || self.splits.iter().any(|&i| i as usize >= count))
+    }
+
     /// Whether release `index`'s stretch lay in a range picked from.
     fn covers(&self, index: u32) -> bool {
         self.covered
@@ -630,7 +706,10 @@ fn recheck(
     if !basis.unchanged.iter().all(|&k| unchanged(k)) || !basis.open_ended.iter().all(known) {
         return None;
     }
-    if basis.packages.is_empty() && basis.observed.is_empty() {
+    if !ascending(&basis.packages) {
+        return None;
+    }
+    if basis.packages.is_empty() && basis.lengths.is_empty() && basis.observed.is_empty() {
         let still_absent = registry.id(&entry.name).is_none()
             && basis.unchanged.is_empty()
             && basis.open_ended.is_empty();
@@ -649,14 +728,7 @@ fn recheck(
         let k = run.package as usize;
         let id = standing.get(k).and_then(Standing::id)?;
         let count = old[k].releases.len();
-        let lists = [run.admissible, run.refused, run.fetched, run.unfit];
-        if lists.iter().any(|l| l.iter().any(|&i| i as usize >= count))
-            || run.covered.len() % 2 != 0
-            || run.covered.iter().any(|&i| i as usize > count)
-            || run.ceiling.len() > 1
-            || run.ceiling.iter().any(|&c| c as usize > count)
-            || run.splits.iter().any(|&i| i as usize >= count)
-        {
+        if !run.within(count) {
             return None;
         }
         let view = view.get();
@@ -958,6 +1030,11 @@ enum Source {
 /// Plans the cells of `shard` (all when `None`), reusing every still-valid cell of `previous`.
 /// The matrix is identical to a cold plan of the same cells, and so is the cache.
 ///
+/// A cell's runs for packages that have not changed are carried over unread, so a cache from
+/// anywhere but a previous `replan` should pass [`PlanCache::check`] first (the command line
+/// does this); a damaged run is otherwise only noticed, and the cell solved again, once its
+/// package changes.
+///
 /// Takes the previous cache by value: its still-valid cells move into the new one.
 pub fn replan(
     inputs: &Inputs,
@@ -968,7 +1045,10 @@ pub fn replan(
     let registry = &inputs.registry;
     let global = global_fingerprint(inputs, options);
     let previous = previous.filter(|p| {
-        p.format == CACHE_FORMAT && p.global == global && p.bases.len() == p.matrix.cells.len()
+        p.format == CACHE_FORMAT
+            && p.global == global
+            && p.bases.len() == p.matrix.cells.len()
+            && p.packages.windows(2).all(|w| w[0].name < w[1].name)
     });
     let (old_packages, old_bases, old_cells) = match previous {
         Some(p) => (p.packages, p.bases, p.matrix.cells),
