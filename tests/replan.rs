@@ -132,6 +132,22 @@ fn a_changed_image_or_option_invalidates_its_cells() {
         inputs.priorities.entries.len(),
         "one image's column is solved again"
     );
+    // Cells are numbered entry by entry, each entry's images in order.
+    let images = inputs.images.images.len();
+    let column: Vec<usize> = (0..inputs.priorities.entries.len())
+        .map(|entry| entry * images)
+        .collect();
+    assert_eq!(stats.solved_cells, column);
+    // A shard numbers its cells as the whole plan does.
+    let shard = Shard { index: 2, count: 3 };
+    let (_, stats) = replan(&inputs, &options, Some(cache.clone()), Some(shard));
+    let in_shard: Vec<usize> = column
+        .iter()
+        .copied()
+        .filter(|&i| shard.contains(i))
+        .collect();
+    assert!(!in_shard.is_empty());
+    assert_eq!(stats.solved_cells, in_shard);
     let other = PlanOptions {
         budget: 7,
         ..PlanOptions::default()
