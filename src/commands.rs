@@ -237,7 +237,16 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
     for p in &o.shards {
         parts.push(read_shard(p)?);
     }
-    let merged = plan::replan::merge_shards(parts).map_err(|e| BadInput::file("shards", e))?;
+    let merged = plan::replan::merge_shards(parts).map_err(|e| {
+        let file = match e.part.and_then(|k| o.shards.get(k)) {
+            Some(path) => path.display().to_string(),
+            None => match o.shards.len() {
+                1 => "the shard file given".to_string(),
+                n => format!("the {n} shard files given"),
+            },
+        };
+        BadInput::file(file, e.message)
+    })?;
     let mut out = Output::default();
     write_matrix(&merged, &o.out, &mut out)?;
     out.stdout = format!(
@@ -295,17 +304,7 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
         serde_json::from_str(&text).map_err(|e| format!("line {}: {e}", e.line()))
     };
     let m = parsed.map_err(|e| BadInput::file(&file, format!("not a basefit matrix: {e}")))?;
-    if m.cells.len() != m.packages.len() * m.images.len() {
-        return Err(BadInput::file(
-            &file,
-            format!(
-                "not a complete matrix: {} cells for {} packages x {} images (merge shards first)",
-                m.cells.len(),
-                m.packages.len(),
-                m.images.len()
-            ),
-        ));
-    }
+    m.check_layout().map_err(|e| BadInput::file(&file, e))?;
     Ok(m)
 }
 
@@ -322,16 +321,38 @@ pub struct ReviewCommand {
 /// `review`: recorded results against predictions. Exit 1 when surprises exceed the limit.
 pub fn review(o: &ReviewCommand) -> Result<Output> {
     let mut inputs = load(&o.inputs, o.strict)?;
-    if inputs.results.is_empty()
-        && !inputs
-            .ledger
-            .tallies
-            .contains_key(&crate::load::diag::RecordKind::Result)
-    {
-        return Err(BadInput::file("command line", "review needs --results").into());
+    let results_read = inputs
+        .ledger
+        .tallies
+        .get(&crate::load::diag::RecordKind::Result)
+        .cloned()
+        .unwrap_or_default();
+    if results_read.read == 0 {
+        let files: Vec<String> = o
+            .inputs
+            .results
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect();
+        return Err(BadInput::file(
+            files.join(", "),
+            "holds no recorded install result: nothing to review",
+        )
+        .into());
     }
     let matrix = match &o.matrix {
-        Some(p) => read_matrix(p)?,
+        Some(p) => {
+            // Results are read against the images and the registry: without them every one
+            // would be left out, and an empty review would pass for a clean one.
+            if inputs.images.images.is_empty() || inputs.registry.packages.is_empty() {
+                return Err(BadInput::file(
+                    "command line",
+                    "review --matrix needs the --images and the registry (--registry or --bulk) the matrix was planned from: recorded results are read against them",
+                )
+                .into());
+            }
+            read_matrix(p)?
+        }
         None => {
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.
@@ -354,6 +375,19 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         }
     };
     let review = crate::verify::compare_inputs(&matrix, &inputs);
+    if review.cells.is_empty() {
+        let tally = results_read;
+        return Err(BadInput::file(
+            "command line",
+            format!(
+                "no recorded result could be compared with the predictions: of {} read, {} were left out (`basefit check` lists why) and {} name cells the matrix does not have",
+                tally.read,
+                tally.left_out,
+                review.outside_matrix.len()
+            ),
+        )
+        .into());
+    }
     let surprises = review.surprises();
     Ok(Output::report(
         o.format,

@@ -119,6 +119,7 @@ fn hostile() -> Matrix {
     }
     Matrix {
         shard: None,
+        planned_from: None,
         notice: "<b>not the notice</b>".into(),
         images,
         packages: names
@@ -579,6 +580,7 @@ fn partial_and_odd_matrices_render_without_panicking() {
         packages: Vec::new(),
         cells: Vec::new(),
         shard: None,
+        planned_from: None,
     };
     let no_images = Matrix {
         images: Vec::new(),

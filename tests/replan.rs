@@ -57,11 +57,13 @@ fn merging_refuses_incomplete_or_repeated_shards() {
     assert!(
         merge_shards(vec![shard(1), shard(2)])
             .unwrap_err()
+            .message
             .contains("shard 3/3 is missing")
     );
     assert!(
         merge_shards(vec![shard(1), shard(1), shard(3)])
             .unwrap_err()
+            .message
             .contains("given twice")
     );
 }
@@ -403,8 +405,82 @@ fn merging_refuses_a_shard_numbered_out_of_range() {
     assert!(
         merge_shards(vec![first, second])
             .unwrap_err()
+            .message
             .contains("not a valid shard")
     );
+}
+
+#[test]
+fn merging_refuses_shards_of_different_plans() {
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let shard = |inputs: &Inputs, options: &PlanOptions, index| {
+        replan(inputs, options, None, Some(Shard { index, count: 2 }))
+            .0
+            .matrix
+    };
+    let first = shard(&inputs, &options, 1);
+    assert!(merge_shards(vec![first.clone(), shard(&inputs, &options, 2)]).is_ok());
+    // Each of these leaves the image columns and the priority rows as they were, so only
+    // the record of what the shard was planned from tells the plans apart.
+    let no_native = PlanOptions {
+        native: false,
+        ..PlanOptions::default()
+    };
+    let small_budget = PlanOptions {
+        budget: 7,
+        ..PlanOptions::default()
+    };
+    let mut yanked = demo();
+    let id = yanked.registry.id("wattle-core").unwrap();
+    yanked
+        .registry
+        .package_mut(id)
+        .releases
+        .last_mut()
+        .unwrap()
+        .yanked = true;
+    let mut more_system = demo();
+    more_system.images.images[0]
+        .system_packages
+        .insert("libfictional-dev".into());
+    for (what, second) in [
+        ("native checks off", shard(&inputs, &no_native, 2)),
+        ("another budget", shard(&inputs, &small_budget, 2)),
+        ("a release yanked", shard(&yanked, &options, 2)),
+        ("a system package added", shard(&more_system, &options, 2)),
+    ] {
+        let Err(err) = merge_shards(vec![first.clone(), second]) else {
+            panic!("{what}: shards of two plans merged");
+        };
+        assert_eq!(err.part, Some(1), "{what}: {err}");
+        assert!(
+            err.message.contains("planned from other inputs"),
+            "{what}: {err}"
+        );
+    }
+    // A shard written before shards recorded their plan does not merge either.
+    let mut unmarked = shard(&inputs, &options, 2);
+    unmarked.planned_from = None;
+    let Err(err) = merge_shards(vec![first, unmarked]) else {
+        panic!("a shard without a record of its plan merged");
+    };
+    assert_eq!(err.part, Some(1));
+}
+
+#[test]
+fn a_shard_count_no_run_could_have_is_refused_without_sizing_anything() {
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let mut only = replan(&inputs, &options, None, Some(Shard { index: 1, count: 2 }))
+        .0
+        .matrix;
+    only.shard = Some(Shard {
+        index: 1,
+        count: usize::MAX,
+    });
+    let err = merge_shards(vec![only]).unwrap_err();
+    assert!(err.message.contains("shard 2/"), "{err}");
 }
 
 /// `app` needs alpha `^1` and beta; beta 2.0.0 needs an alpha `>=1.2` that is not

@@ -174,6 +174,10 @@ pub struct Matrix {
     /// Set on a shard's partial matrix; merge the shards to get the whole one.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub shard: Option<super::replan::Shard>,
+    /// On a shard: a fingerprint of everything its cells were planned from (registry, images,
+    /// priorities, catalog, options, basefit version), so that only shards of one plan merge.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub planned_from: Option<String>,
 }
 
 impl Matrix {
@@ -186,6 +190,67 @@ impl Matrix {
     pub fn row(&self, index: usize) -> &[Cell] {
         let n = self.images.len();
         &self.cells[index * n..(index + 1) * n]
+    }
+
+    /// Whether this is a whole matrix laid out as `plan` writes it: one cell per package row
+    /// and image column, row by row, each naming its row's package and its column's image,
+    /// and no image twice. Readers index cells by position, so a file that breaks this would
+    /// be rendered or compared wrongly rather than refused.
+    ///
+    /// ```
+    /// use basefit::plan::Matrix;
+    /// let mut m = Matrix {
+    ///     notice: String::new(),
+    ///     images: Vec::new(),
+    ///     packages: Vec::new(),
+    ///     cells: Vec::new(),
+    ///     shard: None,
+    ///     planned_from: None,
+    /// };
+    /// assert!(m.check_layout().is_ok());
+    /// m.packages.push(basefit::plan::matrix::PackageRow {
+    ///     rank: 1,
+    ///     name: "quokka".into(),
+    ///     weight: 1.0,
+    ///     summary: None,
+    /// });
+    /// m.images.push(basefit::plan::matrix::ImageColumn {
+    ///     id: "deb-3.2".into(),
+    ///     runtime: "3.2.0".into(),
+    ///     family: "debian".into(),
+    ///     platform: "linux/glibc/x86_64".into(),
+    ///     toolchain: true,
+    /// });
+    /// // One row and one column, but no cell for them.
+    /// assert!(m.check_layout().unwrap_err().contains("0 cells for 1 package rows"));
+    /// ```
+    pub fn check_layout(&self) -> Result<(), String> {
+        let n = self.images.len();
+        if self.cells.len() != self.packages.len() * n {
+            return Err(format!(
+                "not a complete matrix: {} cells for {} package rows x {} images (merge shards first)",
+                self.cells.len(),
+                self.packages.len(),
+                n
+            ));
+        }
+        let mut ids: Vec<&str> = self.images.iter().map(|i| i.id.as_str()).collect();
+        ids.sort_unstable();
+        if let Some(w) = ids.windows(2).find(|w| w[0] == w[1]) {
+            return Err(format!("image `{}` has two columns", w[0]));
+        }
+        for (i, cell) in self.cells.iter().enumerate() {
+            let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
+            if cell.package != *package || cell.image != *image {
+                return Err(format!(
+                    "cell {} is {} on {} where {package} on {image} belongs (cells must follow the rows and columns)",
+                    i + 1,
+                    cell.package,
+                    cell.image
+                ));
+            }
+        }
+        Ok(())
     }
 }
 

@@ -236,6 +236,35 @@ fn entry_fingerprint(entry: &Priority) -> u64 {
     h.0
 }
 
+/// What a shard records of the plan it belongs to: every input and option its cells are
+/// computed from. Package prints are summed, so the order the registry was read in does not
+/// matter; each is scrambled first so that sums of similar prints do not collide.
+fn planned_from(inputs: &Inputs, options: &PlanOptions) -> String {
+    let registry = &inputs.registry;
+    let ids: Vec<PackageId> = registry.ids().collect();
+    let packages = ids
+        .par_iter()
+        .map(|&id| scramble(Prints::of(registry, id).whole))
+        .reduce(|| 0, u64::wrapping_add);
+    let mut h = Fnv::new();
+    h.number(global_fingerprint(inputs, options))
+        .number(packages);
+    for image in &inputs.images.images {
+        h.number(image_fingerprint(image));
+    }
+    for entry in &inputs.priorities.entries {
+        h.number(entry_fingerprint(entry));
+    }
+    format!("{:016x}", h.0)
+}
+
+/// The splitmix64 finaliser: spreads every input bit over the whole word.
+fn scramble(mut x: u64) -> u64 {
+    x = (x ^ (x >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    x = (x ^ (x >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    x ^ (x >> 31)
+}
+
 fn global_fingerprint(inputs: &Inputs, options: &PlanOptions) -> u64 {
     let mut h = Fnv::new();
     h.str(env!("CARGO_PKG_VERSION"))
@@ -1281,6 +1310,7 @@ pub fn replan(
         packages: package_rows(inputs),
         cells,
         shard,
+        planned_from: shard.map(|_| planned_from(inputs, options)),
     };
     (
         PlanCache {
@@ -1294,44 +1324,89 @@ pub fn replan(
     )
 }
 
-/// Puts shard matrices back together into exactly the matrix a single run gives.
-pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
+/// Why shards do not merge, and which of the given parts (0-based) is at fault, when one is.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct MergeError {
+    pub part: Option<usize>,
+    pub message: String,
+}
+
+impl fmt::Display for MergeError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+/// Puts shard matrices back together into exactly the matrix a single run gives. Refuses
+/// parts that are not the shards of one split of one plan: planned from other inputs or
+/// options (their `planned_from` keys differ), given twice or missing.
+pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
+    let fail = |part: Option<usize>, message: String| MergeError { part, message };
     let Some(first) = parts.first() else {
-        return Err("no shard matrices given".into());
+        return Err(fail(None, "no shard matrices given".into()));
     };
-    let count = first
-        .shard
-        .map(|s| s.count)
-        .ok_or("the first matrix is not a shard (no `shard` field)")?;
-    let mut seen = vec![false; count];
-    for p in &parts {
-        let s = p
-            .shard
-            .ok_or("a matrix without a `shard` field cannot be merged")?;
-        if s.count != count {
-            return Err(format!(
-                "shard {}/{} does not belong to a split into {count}",
-                s.index, s.count
+    let Some(Shard { count, .. }) = first.shard else {
+        return Err(fail(
+            Some(0),
+            "not a shard (no `shard` field): only the outputs of `plan --shard` merge".into(),
+        ));
+    };
+    // Each part holds a distinct shard, so a count above the number of parts means some are
+    // missing; checking that first keeps a damaged count from sizing anything.
+    let mut seen: HashMap<usize, usize> = HashMap::new();
+    for (k, p) in parts.iter().enumerate() {
+        let Some(s) = p.shard else {
+            return Err(fail(
+                Some(k),
+                "not a shard (no `shard` field): only the outputs of `plan --shard` merge".into(),
             ));
-        }
-        if p.images != first.images || p.packages != first.packages {
-            return Err(format!(
-                "shard {}/{} was planned from other images or priorities",
-                s.index, s.count
+        };
+        if s.count != count {
+            return Err(fail(
+                Some(k),
+                format!(
+                    "shard {}/{} does not belong to the split into {count} the first part is from",
+                    s.index, s.count
+                ),
             ));
         }
         if s.index == 0 || s.index > count {
-            return Err(format!(
-                "shard {}/{} is not a valid shard",
-                s.index, s.count
+            return Err(fail(
+                Some(k),
+                format!("shard {}/{} is not a valid shard", s.index, s.count),
             ));
         }
-        if std::mem::replace(&mut seen[s.index - 1], true) {
-            return Err(format!("shard {}/{count} is given twice", s.index));
+        if p.planned_from.is_none() || p.planned_from != first.planned_from {
+            return Err(fail(
+                Some(k),
+                format!(
+                    "shard {}/{count} was planned from other inputs or options than the first part (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
+                    s.index
+                ),
+            ));
+        }
+        if p.images != first.images || p.packages != first.packages {
+            return Err(fail(
+                Some(k),
+                format!(
+                    "shard {}/{count} lists other images or priorities than the first part",
+                    s.index
+                ),
+            ));
+        }
+        if let Some(earlier) = seen.insert(s.index, k) {
+            return Err(fail(
+                Some(k),
+                format!(
+                    "shard {}/{count} is given twice (also as part {})",
+                    s.index,
+                    earlier + 1
+                ),
+            ));
         }
     }
-    if let Some(missing) = seen.iter().position(|s| !s) {
-        return Err(format!("shard {}/{count} is missing", missing + 1));
+    if let Some(missing) = (1..=count.min(parts.len() + 1)).find(|i| !seen.contains_key(i)) {
+        return Err(fail(None, format!("shard {missing}/{count} is missing")));
     }
     let n = first.images.len();
     let total = first.packages.len() * n;
@@ -1352,16 +1427,16 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
         for c in &p.cells {
             let (Some(&r), Some(&k)) = (rows.get(c.package.as_str()), cols.get(c.image.as_str()))
             else {
-                return Err(format!(
-                    "cell {} on {} is not in the matrix",
-                    c.package, c.image
+                return Err(fail(
+                    None,
+                    format!("cell {} on {} is not in the matrix", c.package, c.image),
                 ));
             };
             let slot = &mut cells[r * n + k];
             if slot.is_some() {
-                return Err(format!(
-                    "cell {} on {} appears in two shards",
-                    c.package, c.image
+                return Err(fail(
+                    None,
+                    format!("cell {} on {} appears in two shards", c.package, c.image),
                 ));
             }
             *slot = Some(c.clone());
@@ -1370,7 +1445,19 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
     let cells: Vec<Cell> = cells
         .into_iter()
         .enumerate()
-        .map(|(i, c)| c.ok_or_else(|| format!("cell {} of {total} is in no shard", i + 1)))
+        .map(|(i, c)| {
+            c.ok_or_else(|| {
+                fail(
+                    None,
+                    format!(
+                        "cell {} of {total} ({} on {}) is in no shard",
+                        i + 1,
+                        first.packages[i / n].name,
+                        first.images[i % n].id
+                    ),
+                )
+            })
+        })
         .collect::<Result<_, _>>()?;
     Ok(Matrix {
         notice: first.notice.clone(),
@@ -1378,6 +1465,7 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, String> {
         packages: first.packages.clone(),
         cells,
         shard: None,
+        planned_from: None,
     })
 }
 

@@ -1,0 +1,141 @@
+//! Commands that read matrices or recorded results written earlier: a file that cannot be
+//! what it claims, or a run that would compare nothing, is an input error naming the file
+//! (exit 2), never an empty report that passes for a clean one.
+
+mod common;
+
+use common::run_basefit;
+use std::path::Path;
+
+const DEMO: [&str; 6] = [
+    "--registry",
+    "demo-data/registry.yaml",
+    "--images",
+    "matrices/demo-images.yaml",
+    "--priorities",
+    "demo-data/priorities.yaml",
+];
+
+/// Plans the demo into `dir` (optionally one shard of it) and returns the matrix.json path.
+fn plan_into(dir: &Path, shard: Option<&str>) -> String {
+    let mut args = vec!["plan", "--quiet"];
+    args.extend(DEMO);
+    if let Some(s) = shard {
+        args.extend(["--shard", s]);
+    }
+    let out = dir.to_str().unwrap();
+    args.extend(["--out", out]);
+    let (code, _, stderr) = run_basefit(&args);
+    assert_eq!(code, 0, "{stderr}");
+    format!("{out}/matrix.json")
+}
+
+#[test]
+fn review_against_a_matrix_needs_the_inputs_it_reads_results_against() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    // Without images and registry every result would be left out, and an empty review
+    // would exit 0 with "no surprises".
+    let (code, _, stderr) = run_basefit([
+        "review",
+        "--quiet",
+        "--matrix",
+        &matrix,
+        "--results",
+        "demo-data/results.yaml",
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("--images"), "{stderr}");
+    // With them, the demo's two surprises are found (demo-data/expected.yaml).
+    let mut args = vec!["review", "--quiet", "--matrix", &matrix];
+    args.extend(DEMO);
+    args.extend(["--results", "demo-data/results.yaml"]);
+    let (code, stdout, stderr) = run_basefit(&args);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stdout.contains("11 cells with recorded results"),
+        "{stdout}"
+    );
+}
+
+#[test]
+fn a_review_that_can_compare_nothing_is_an_input_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("empty-results.yaml");
+    std::fs::write(&empty, "results: []\n").unwrap();
+    let mut args = vec!["review", "--quiet"];
+    args.extend(DEMO);
+    args.extend(["--results", empty.to_str().unwrap()]);
+    let (code, _, stderr) = run_basefit(&args);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("empty-results.yaml") && stderr.contains("no recorded install result"),
+        "{stderr}"
+    );
+    // Results recorded on images the images file does not declare: all are left out.
+    let images = dir.path().join("other-images.yaml");
+    std::fs::write(
+        &images,
+        "images:\n- {id: elsewhere, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    let (code, _, stderr) = run_basefit([
+        "review",
+        "--quiet",
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+        "--results",
+        "demo-data/results.yaml",
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("of 12 read, 12 were left out"), "{stderr}");
+}
+
+#[test]
+fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    let cells = m["cells"].as_array_mut().unwrap();
+    cells.swap(0, 1);
+    let swapped = dir.path().join("swapped.json");
+    std::fs::write(&swapped, serde_json::to_string(&m).unwrap()).unwrap();
+    for args in [
+        vec!["render", "--quiet", "--format", "csv", "--matrix"],
+        vec!["diff", &matrix],
+    ] {
+        let mut args = args.clone();
+        args.push(swapped.to_str().unwrap());
+        let (code, _, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(
+            stderr.contains("swapped.json")
+                && stderr.contains("cell 1 is tidewater-http on deb-2.8"),
+            "{args:?}: {stderr}"
+        );
+    }
+}
+
+#[test]
+fn merge_names_the_shard_file_at_fault() {
+    let dir = tempfile::tempdir().unwrap();
+    let first = plan_into(&dir.path().join("s1"), Some("1/2"));
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        dir.path().join("m").to_str().unwrap(),
+        &first,
+        &first,
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{first}: shard 1/2 is given twice")),
+        "{stderr}"
+    );
+    assert!(!dir.path().join("m").exists(), "nothing is written");
+}
