@@ -666,6 +666,24 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
     }
     let fused = plan::fusion::fuse(&lists, o.method, o.missing)
         .map_err(|e| BadInput::file("command line", e.to_string()))?;
+    if fused.is_empty() {
+        // An empty list is no priority list (the priority reader refuses one), and writing
+        // it would pass the problems off as a result.
+        let files: Vec<String> = o.sources.iter().map(|p| p.display().to_string()).collect();
+        let first = ledger
+            .problems
+            .first()
+            .map(|p| format!(": first, {}: {}: {}", p.origin, p.subject, p.detail))
+            .unwrap_or_default();
+        return Err(BadInput::file(
+            files.join(", "),
+            format!(
+                "no usable row in any source, so there is nothing to fuse ({} problems noted){first}",
+                ledger.problems.len()
+            ),
+        )
+        .into());
+    }
     let yaml = plan::fusion::to_priority_yaml(&fused, o.method, o.missing, &lists);
     let mut out = Output::default();
     for p in &ledger.problems {

@@ -374,24 +374,11 @@ struct FuseArgs {
     #[arg(long, value_enum, default_value = "worst-plus-one")]
     missing: FuseMissing,
     /// Only rows dated within FROM..TO (YYYY-MM-DD..YYYY-MM-DD, both included).
-    #[arg(long, value_name = "FROM..TO", value_parser = parse_window)]
+    #[arg(long, value_name = "FROM..TO", value_parser = basefit::plan::fusion::Window::parse)]
     window: Option<basefit::plan::fusion::Window>,
     /// File for the priority list (default: stdout).
     #[arg(long, value_name = "FILE")]
     out: Option<PathBuf>,
-}
-
-fn parse_window(s: &str) -> Result<basefit::plan::fusion::Window, String> {
-    let (a, b) = s
-        .split_once("..")
-        .ok_or("expected FROM..TO, e.g. 2026-01-01..2026-06-30")?;
-    let date = |t: &str| {
-        basefit::model::ReleaseDate::parse(t).ok_or(format!("`{t}` is not a date (YYYY-MM-DD)"))
-    };
-    Ok(basefit::plan::fusion::Window {
-        from: date(a)?,
-        to: date(b)?,
-    })
 }
 
 fn run_fuse(a: FuseArgs) -> anyhow::Result<Output> {

@@ -41,3 +41,40 @@ fn fused_list_reads_back_as_a_priority_list() {
         ]
     );
 }
+
+#[test]
+fn sources_with_no_usable_row_or_an_empty_window_are_input_errors() {
+    let dir = tempfile::tempdir().unwrap();
+    let source = dir.path().join("bad.csv");
+    std::fs::write(&source, "name,rank\n,1\nnumbat,x\n").unwrap();
+    let out = dir.path().join("priorities.yaml");
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .arg("fuse")
+        .arg("--source")
+        .arg(&source)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("bad.csv") && stderr.contains("no usable row"),
+        "{stderr}"
+    );
+    assert!(!out.exists(), "an empty list is not written");
+    // A window that ends before it starts holds no day.
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args([
+            "fuse",
+            "--source",
+            "demo-data/sources/downloads.csv",
+            "--window",
+            "2024-12-31..2024-01-01",
+        ])
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("ends before it starts"), "{stderr}");
+}

@@ -34,8 +34,6 @@ const COLUMNS: &[&str] = &["name", "rank", "score", "date"];
 
 /// An inclusive range of days; rows dated outside it are left out of a scored list.
 ///
-/// A window whose `from` is after its `to` contains no day.
-///
 /// ```
 /// use basefit::model::ReleaseDate;
 /// use basefit::plan::fusion::Window;
@@ -53,6 +51,32 @@ pub struct Window {
 }
 
 impl Window {
+    /// Reads `FROM..TO` (days as YYYY-MM-DD, both included). A window that ends before it
+    /// starts would leave every dated row out, so it is refused.
+    ///
+    /// ```
+    /// use basefit::plan::fusion::Window;
+    /// assert!(Window::parse("2024-03-01..2024-03-31").is_ok());
+    /// assert!(Window::parse("2024-03-01..2024-03-01").is_ok());
+    /// assert!(Window::parse("2024-12-31..2024-01-01").unwrap_err().contains("ends before"));
+    /// assert!(Window::parse("2024-03-01").is_err());
+    /// ```
+    pub fn parse(s: &str) -> Result<Window, String> {
+        let (a, b) = s
+            .split_once("..")
+            .ok_or("expected FROM..TO, e.g. 2026-01-01..2026-06-30")?;
+        let date =
+            |t: &str| ReleaseDate::parse(t).ok_or(format!("`{t}` is not a date (YYYY-MM-DD)"));
+        let window = Window {
+            from: date(a)?,
+            to: date(b)?,
+        };
+        if window.from > window.to {
+            return Err(format!("`{s}`: the window ends before it starts"));
+        }
+        Ok(window)
+    }
+
     /// Whether `day` is in the window, both ends included.
     pub fn contains(&self, day: ReleaseDate) -> bool {
         self.from <= day && day <= self.to
