@@ -69,12 +69,53 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
     Ok(inputs)
 }
 
-/// Refuses a run that has nothing to put in a matrix.
-fn require_matrix_inputs(inputs: &Inputs, command: &str) -> Result<(), BadInput> {
-    if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
+/// Refuses a run that has nothing to put in a matrix, naming the file that left it empty.
+fn require_matrix_inputs(
+    inputs: &Inputs,
+    paths: &InputPaths,
+    command: &str,
+) -> Result<(), BadInput> {
+    use crate::load::diag::RecordKind;
+    let checks = [
+        (
+            inputs.images.images.is_empty(),
+            &paths.images,
+            "--images",
+            RecordKind::Image,
+            "image",
+        ),
+        (
+            inputs.priorities.entries.is_empty(),
+            &paths.priorities,
+            "--priorities",
+            RecordKind::Priority,
+            "priority entry",
+        ),
+    ];
+    for (empty, path, flag, kind, noun) in checks {
+        if !empty {
+            continue;
+        }
+        let Some(path) = path else {
+            return Err(BadInput::file(
+                "command line",
+                format!(
+                    "{command} needs --images and --priorities with at least one entry each (no {flag} given)"
+                ),
+            ));
+        };
+        let tally = inputs
+            .ledger
+            .tallies
+            .get(&kind)
+            .cloned()
+            .unwrap_or_default();
         return Err(BadInput::file(
-            "command line",
-            format!("{command} needs --images and --priorities with at least one entry each"),
+            path.display().to_string(),
+            format!(
+                "{command} needs at least one {noun}: of {} read, {} were left out (`basefit check` lists why)",
+                tally.read, tally.left_out
+            ),
         ));
     }
     Ok(())
@@ -115,7 +156,7 @@ pub struct PlanCommand {
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
 pub fn plan(o: &PlanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, "plan")?;
+    require_matrix_inputs(&inputs, &o.inputs, "plan")?;
     let mut out = Output::default();
     let previous = match &o.cache {
         Some(p) if p.exists() => read_cache(p, &mut out)?,
@@ -530,7 +571,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, "imageplan")?;
+    require_matrix_inputs(&inputs, &o.inputs, "imageplan")?;
     let p = build_imageplan(&inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {

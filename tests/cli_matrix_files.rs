@@ -139,3 +139,30 @@ fn merge_names_the_shard_file_at_fault() {
     );
     assert!(!dir.path().join("m").exists(), "nothing is written");
 }
+
+#[test]
+fn a_plan_left_with_no_image_names_the_images_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = dir.path().join("images.yaml");
+    // The only image has a runtime that is not a version: it is left out, not fatal.
+    std::fs::write(
+        &images,
+        "images:\n- {id: odd, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    let (code, _, stderr) = run_basefit([
+        "plan",
+        "--quiet",
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("images.yaml: plan needs at least one image: of 1 read, 1 were left out"),
+        "{stderr}"
+    );
+}
