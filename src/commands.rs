@@ -306,8 +306,10 @@ fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
     let yaml = dir.join("matrix.yaml");
     let json = dir.join("matrix.json");
-    report::write_atomic(&yaml, report::to_yaml(matrix).as_bytes())?;
-    report::write_atomic(&json, report::to_json(matrix).as_bytes())?;
+    report::write_all_atomic(&[
+        (yaml.clone(), report::to_yaml(matrix).into_bytes()),
+        (json.clone(), report::to_json(matrix).into_bytes()),
+    ])?;
     out.stderr
         .push(format!("wrote {} and {}", yaml.display(), json.display()));
     Ok(())
@@ -575,9 +577,7 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let p = build_imageplan(&inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {
-        let yaml = dir.join("imageplan.yaml");
-        report::write_atomic(&yaml, report::to_yaml(&p).as_bytes())?;
-        out.stderr.push(format!("wrote {}", yaml.display()));
+        let mut files = vec![(dir.join("imageplan.yaml"), report::to_yaml(&p).into_bytes())];
         // One chart per base image; the first keeps the plain name the docs promise.
         for (i, c) in p.coverage.iter().enumerate() {
             let name = if i == 0 {
@@ -585,8 +585,10 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
             } else {
                 format!("coverage-{}.svg", sanitize(&c.base_image))
             };
-            let path = dir.join(name);
-            report::write_atomic(&path, plan::coverage::coverage_svg(c).as_bytes())?;
+            files.push((dir.join(name), plan::coverage::coverage_svg(c).into_bytes()));
+        }
+        report::write_all_atomic(&files)?;
+        for (path, _) in &files {
             out.stderr.push(format!("wrote {}", path.display()));
         }
     }
@@ -666,9 +668,12 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 ("matrix.json", report::to_json(&matrix)),
                 ("matrix.yaml", report::to_yaml(&matrix)),
             ];
-            for (name, body) in files {
-                let path = dir.join(name);
-                report::write_atomic(&path, body.as_bytes())?;
+            let files: Vec<(PathBuf, Vec<u8>)> = files
+                .into_iter()
+                .map(|(name, body)| (dir.join(name), body.into_bytes()))
+                .collect();
+            report::write_all_atomic(&files)?;
+            for (path, _) in &files {
                 out.stdout.push_str(&format!("{}\n", path.display()));
             }
         }

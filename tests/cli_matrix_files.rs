@@ -166,3 +166,27 @@ fn a_plan_left_with_no_image_names_the_images_file() {
         "{stderr}"
     );
 }
+
+#[test]
+fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out");
+    std::fs::create_dir_all(out.join("matrix.json")).unwrap();
+    std::fs::write(out.join("matrix.yaml"), "old\n").unwrap();
+    let mut args = vec!["plan", "--quiet"];
+    args.extend(DEMO);
+    args.extend(["--out", out.to_str().unwrap()]);
+    let (code, _, stderr) = run_basefit(&args);
+    assert_ne!(code, 0, "{stderr}");
+    assert!(stderr.contains("matrix.json"), "{stderr}");
+    assert_eq!(
+        std::fs::read_to_string(out.join("matrix.yaml")).unwrap(),
+        "old\n",
+        "the YAML half is not replaced while the JSON half cannot be"
+    );
+    let left: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(left.iter().all(|n| !n.contains(".tmp-")), "{left:?}");
+}

@@ -14,7 +14,7 @@ pub use markdown::markdown;
 use anyhow::{Context, Result};
 use serde::Serialize;
 use std::io::Write;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 /// Output formats a command can print.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -31,6 +31,46 @@ pub enum Format {
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an
 /// interrupted run never leaves half a file behind.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+}
+
+/// Writes several files that belong together (a matrix as YAML and JSON, a rendered set):
+/// every one goes to a temporary file first, and only when all are written are they renamed
+/// into place, so a failure leaves the old set whole rather than half replaced. A name taken
+/// by a folder is refused before anything is written.
+pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<()> {
+    for (path, _) in files {
+        if path.is_dir() {
+            anyhow::bail!("cannot write {}: a folder has that name", path.display());
+        }
+    }
+    let mut staged: Vec<(PathBuf, &Path)> = Vec::with_capacity(files.len());
+    let staging = files.iter().try_for_each(|(path, bytes)| -> Result<()> {
+        let tmp = stage(path, bytes)?;
+        staged.push((tmp, path));
+        Ok(())
+    });
+    if let Err(e) = staging {
+        for (tmp, _) in &staged {
+            let _ = std::fs::remove_file(tmp);
+        }
+        return Err(e);
+    }
+    let mut moved = 0;
+    let result = staged.iter().try_for_each(|(tmp, path)| -> Result<()> {
+        std::fs::rename(tmp, path)
+            .with_context(|| format!("cannot move {} into place", path.display()))?;
+        moved += 1;
+        Ok(())
+    });
+    for (tmp, _) in &staged[moved..] {
+        let _ = std::fs::remove_file(tmp);
+    }
+    result
+}
+
+/// Writes `bytes` to a temporary file beside `path` and returns its name.
+fn stage(path: &Path, bytes: &[u8]) -> Result<PathBuf> {
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
@@ -42,19 +82,18 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    let result = (|| -> Result<()> {
+    let written = (|| -> Result<()> {
         let mut f = std::fs::File::create(&tmp)
             .with_context(|| format!("cannot write {}", tmp.display()))?;
         f.write_all(bytes)?;
         f.sync_all()?;
-        std::fs::rename(&tmp, path)
-            .with_context(|| format!("cannot move {} into place", path.display()))?;
         Ok(())
     })();
-    if result.is_err() {
+    if let Err(e) = written {
         let _ = std::fs::remove_file(&tmp);
+        return Err(e);
     }
-    result
+    Ok(tmp)
 }
 
 /// Pretty JSON with a trailing newline.
