@@ -43,7 +43,9 @@ enum Command {
     )]
     Review(ReviewArgs),
     /// Compare two matrices written by `plan`: changed cells and a unified diff.
-    #[command(after_help = "Example:\n  basefit diff before/matrix.json after/matrix.json")]
+    #[command(
+        after_help = "Example (each matrix from `basefit plan ... --out DIR`):\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --out before/\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --no-native --out after/\n  basefit diff before/matrix.json after/matrix.json"
+    )]
     Diff(DiffArgs),
     /// Native system libraries: evidence per package, what each image lacks, install commands.
     #[command(
@@ -52,7 +54,7 @@ enum Command {
     Syslibs(SyslibsArgs),
     /// Combine shard matrices (from `plan --shard K/N --out DIR`) into the whole matrix.
     #[command(
-        after_help = "Example:\n  basefit merge --out out/ shard1/matrix.json shard2/matrix.json"
+        after_help = "Example (the shards from `basefit plan ... --shard K/N --out DIR`):\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --shard 1/2 --out shard1/\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --shard 2/2 --out shard2/\n  basefit merge --out out/ shard1/matrix.json shard2/matrix.json"
     )]
     Merge(MergeArgs),
     /// Render the support matrix: HTML page, Markdown table, CSV, JSON and YAML.
@@ -62,7 +64,7 @@ enum Command {
     Render(RenderArgs),
     /// Build a priority list from several ranked or scored source lists (CSV).
     #[command(
-        after_help = "Example:\n  basefit fuse --source downloads.csv --source usage.csv --method reciprocal --out priorities.yaml"
+        after_help = "Example:\n  basefit fuse --source demo-data/sources/downloads.csv --source demo-data/sources/usage.csv \\\n    --method reciprocal --out priorities.yaml"
     )]
     Fuse(FuseArgs),
     /// Plan images: runtime coverage, system-package advice and a pre-install set per image.
@@ -191,7 +193,8 @@ struct ReviewArgs {
     /// Recorded install results (YAML, CSV or JSON lines; repeatable).
     #[arg(long, value_name = "FILE", required = true)]
     results: Vec<PathBuf>,
-    /// Compare against this matrix (from `plan`) instead of planning afresh.
+    /// Compare against this matrix (from `plan`) instead of planning afresh; still give the
+    /// images and registry it was planned from, since results are read against them.
     #[arg(long, value_name = "FILE")]
     matrix: Option<PathBuf>,
     /// Exit 1 when there are more surprises than this.
