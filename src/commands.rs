@@ -168,7 +168,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         write_matrix(matrix, dir, &mut out)?;
     }
     if let Some(p) = &o.cache {
-        report::write_atomic(p, serde_json::to_string(&cache)?.as_bytes())?;
+        report::write_atomic(p, cache.to_sealed_json().as_bytes())?;
         out.stderr.push(format!(
             "plan cache {}: {} cells reused, {} solved",
             p.display(),
@@ -231,6 +231,14 @@ fn read_cache(
         cache.check().map_err(|e| {
             BadInput::file(path.display().to_string(), format!("not a {what}: {e}"))
         })?;
+        if !plan::replan::PlanCache::seal_holds(&text) {
+            return Err(BadInput::file(
+                path.display().to_string(),
+                format!(
+                    "not a {what}: it was changed after basefit wrote it (its seal does not match what it holds)"
+                ),
+            ));
+        }
         return whole.map(Some);
     }
     let header: Header = parse_json(path, &text, what)?;

@@ -146,3 +146,24 @@ fn a_cache_that_reads_but_is_damaged_is_an_input_error_naming_the_cell() {
     assert!(stderr.contains(&format!("cell {} (", k + 1)), "{stderr}");
     assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
 }
+
+#[test]
+fn a_cache_edited_where_its_structure_stays_sound_is_an_input_error() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, _, stderr) = plan(&cache, &d.path().join("first"));
+    assert_eq!(code, 0, "{stderr}");
+    // One cached prediction changed by hand: every structure check still passes, and a
+    // re-plan would carry the cell over unread into the new matrix.
+    let text = String::from_utf8(read(cache.clone())).unwrap();
+    let edited = text.replacen("\"outcome\":\"installs\"", "\"outcome\":\"fails\"", 1);
+    assert_ne!(edited, text);
+    std::fs::write(&cache, &edited).unwrap();
+    let (code, _, stderr) = plan(&cache, &d.path().join("second"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("plan.cache") && stderr.contains("changed after basefit wrote it"),
+        "{stderr}"
+    );
+    assert_eq!(std::fs::read_to_string(&cache).unwrap(), edited);
+}

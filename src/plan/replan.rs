@@ -53,7 +53,10 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 10;
+pub const CACHE_FORMAT: u32 = 11;
+
+/// What precedes the seal at the end of a cache file ([`PlanCache::to_sealed_json`]).
+const SEAL_KEY: &str = ",\"seal\":\"";
 
 /// 64-bit FNV-1a: stable across runs, platforms and Rust versions, unlike std's hashers.
 #[derive(Clone, Copy)]
@@ -477,6 +480,41 @@ pub struct PlanCache {
 }
 
 impl PlanCache {
+    /// The cache as `plan --cache` writes it: JSON with a last field `seal`, a fingerprint of
+    /// all that comes before it. Cached predictions are reused unread, so an edit that leaves
+    /// the structure sound (a cell's outcome changed by hand, a flipped bit) would otherwise
+    /// pass straight into the next matrix; the seal makes it show ([`PlanCache::seal_holds`]).
+    ///
+    /// ```
+    /// use basefit::plan::replan::{replan, PlanCache};
+    /// let inputs = basefit::load::Inputs::default();
+    /// let (cache, _) = replan(&inputs, &Default::default(), None, None);
+    /// let text = cache.to_sealed_json();
+    /// assert!(PlanCache::seal_holds(&text));
+    /// assert!(!PlanCache::seal_holds(&text.replacen("\"format\":", "\"format\": ", 1)));
+    /// ```
+    pub fn to_sealed_json(&self) -> String {
+        let mut text = serde_json::to_string(self).expect("a plan cache serializes");
+        // A struct serializes as one object, so the text ends with its closing brace.
+        text.pop();
+        let seal = Fnv::new().str(&text).0;
+        text.push_str(&format!("{SEAL_KEY}{seal:016x}\"}}"));
+        text
+    }
+
+    /// Whether `text` is exactly what [`PlanCache::to_sealed_json`] wrote.
+    pub fn seal_holds(text: &str) -> bool {
+        let Some(at) = text.rfind(SEAL_KEY) else {
+            return false;
+        };
+        let (body, rest) = text.split_at(at);
+        let Some(hex) = rest[SEAL_KEY.len()..].strip_suffix("\"}") else {
+            return false;
+        };
+        hex.len() == 16
+            && u64::from_str_radix(hex, 16).is_ok_and(|seal| seal == Fnv::new().str(body).0)
+    }
+
     /// Checks that the cache is well formed: a basis per cell, the package table in strict name
     /// order, and every basis naming packages of the table in ascending order with runs that
     /// read exactly and fit their packages' releases. The error names the first damaged cell
