@@ -329,3 +329,61 @@ fn every_input_reading_command_takes_quiet() {
         assert_eq!(help.contains("--quiet"), takes_quiet, "{command}: {help}");
     }
 }
+
+/// Runs `basefit check` with `inputs`, using a good registry and good images for the flags
+/// it leaves out; returns (exit code, stdout, stderr).
+fn check_with(d: &Path, inputs: &[(&str, &Path)]) -> (i32, String, String) {
+    let reg = write(d, "good-registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d, "good-images.yaml", GOOD_IMAGES.as_bytes());
+    let mut args: Vec<&std::ffi::OsStr> = vec!["check".as_ref()];
+    for (flag, default) in [("--registry", &reg), ("--images", &img)] {
+        if !inputs.iter().any(|(f, _)| *f == flag) {
+            args.push(flag.as_ref());
+            args.push(default.as_os_str());
+        }
+    }
+    for (flag, path) in inputs {
+        args.push(flag.as_ref());
+        args.push(path.as_os_str());
+    }
+    common::run_basefit(args)
+}
+
+/// The YAML parser stops at a NUL as if the file ended there, so a NUL must make every YAML
+/// input unusable rather than cut it short.
+#[test]
+fn nul_byte_in_any_yaml_input_is_refused_with_its_line() {
+    let d = dir();
+    let cases: [(&str, &str, &[u8]); 4] = [
+        (
+            "--registry",
+            "nul-registry.yaml",
+            b"packages:\n  - name: fernwood\n    versions: [{version: 1.0.0}]\n\0  - name: gumleaf\n    versions: [{version: 1.0.0}]\n",
+        ),
+        (
+            "--images",
+            "nul-images.yaml",
+            b"images:\n  - {id: a, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n\n  - {id: b, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\0\n",
+        ),
+        (
+            "--priorities",
+            "nul-priorities.yaml",
+            b"priorities:\n  - fernwood\n\n\0  - gumleaf\n",
+        ),
+        (
+            "--results",
+            "nul-results.yaml",
+            b"results:\n  - {package: fernwood, image: plain, outcome: installed}\n\n  - \0{package: fernwood, image: plain, outcome: failed}\n",
+        ),
+    ];
+    for (flag, name, text) in cases {
+        let path = write(d.path(), name, text);
+        let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        assert!(
+            stderr.contains(&format!("{name}:4:"))
+                && stderr.contains("a text file cannot hold a NUL byte"),
+            "{name}: {stderr}"
+        );
+    }
+}

@@ -191,6 +191,16 @@ pub fn parse_showing(
     text: &str,
     progress: Option<&Progress<'_>>,
 ) -> Result<Rc<Node>, BadInput> {
+    // yaml-rust2 ends the stream at a NUL without an error, so whatever follows one would be
+    // dropped without a word.
+    if let Some(at) = text.find('\0') {
+        let line = text[..at].matches('\n').count() + 1;
+        return Err(BadInput::at(
+            file,
+            line,
+            "found a NUL byte; a text file cannot hold a NUL byte (binary data?)",
+        ));
+    }
     let mut builder = Builder {
         stack: Vec::new(),
         anchors: Vec::new(),
