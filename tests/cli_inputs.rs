@@ -387,3 +387,50 @@ fn nul_byte_in_any_yaml_input_is_refused_with_its_line() {
         );
     }
 }
+
+/// CSV inputs accept a UTF-8 byte-order mark; YAML and JSON-lines inputs must read the same
+/// text with one just as they read it without.
+#[test]
+fn byte_order_mark_starts_yaml_and_json_lines_inputs() {
+    let d = dir();
+    let bom = |text: &str| [b"\xef\xbb\xbf".as_slice(), text.as_bytes()].concat();
+    let reg = write(d.path(), "bom-registry.yaml", &bom(GOOD_REGISTRY));
+    let img = write(d.path(), "bom-images.yaml", &bom(GOOD_IMAGES));
+    let pri = write(
+        d.path(),
+        "bom-priorities.yaml",
+        &bom("priorities: [fernwood]\n"),
+    );
+    let res_yaml = write(
+        d.path(),
+        "bom-results.yaml",
+        &bom("results:\n  - {package: fernwood, image: plain, outcome: installed}\n"),
+    );
+    let res_jsonl = write(
+        d.path(),
+        "bom-results.jsonl",
+        &bom("{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\"}\n"),
+    );
+    for results in [&res_yaml, &res_jsonl] {
+        let (code, stdout, stderr) = check_with(
+            d.path(),
+            &[
+                ("--registry", &reg),
+                ("--images", &img),
+                ("--priorities", &pri),
+                ("--results", results),
+            ],
+        );
+        assert_eq!(code, 0, "stdout {stdout} stderr {stderr}");
+        for (kind, counts) in [
+            ("package records", ["1", "1", "0"]),
+            ("image records", ["1", "1", "0"]),
+            ("priority entries", ["1", "1", "0"]),
+            ("recorded results", ["1", "1", "0"]),
+        ] {
+            let line = stdout.lines().find(|l| l.starts_with(kind)).unwrap();
+            let nums: Vec<&str> = line[kind.len()..].split_whitespace().collect();
+            assert_eq!(nums, counts, "{line}");
+        }
+    }
+}

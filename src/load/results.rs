@@ -116,6 +116,8 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
 fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let mut out = Vec::new();
     let mut errors = SchemaErrors::new();
+    // A byte-order mark, as CSV and YAML inputs may start with, is not JSON.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     for (index, line_text) in text.lines().enumerate() {
         let line = index + 1;
         if line_text.trim().is_empty() {
