@@ -434,3 +434,42 @@ fn byte_order_mark_starts_yaml_and_json_lines_inputs() {
         }
     }
 }
+
+/// A key given twice in one results record makes the record a schema error in JSON lines as
+/// in YAML, rather than letting one of the two values win.
+#[test]
+fn results_record_with_a_key_given_twice_is_refused() {
+    let d = dir();
+    let cases = [
+        (
+            "dup.jsonl",
+            "{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"installed\"}\n\
+             {\"package\":\"fernwood\",\"package\":\"ghost\",\"image\":\"plain\",\"outcome\":\"failed\"}\n",
+        ),
+        (
+            "dup.yaml",
+            "results:\n  - {package: fernwood, image: plain, outcome: installed}\n  - {package: fernwood, package: ghost, image: plain, outcome: failed}\n",
+        ),
+    ];
+    let mut messages = Vec::new();
+    for (name, text) in cases {
+        let res = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--results", &res)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        let line = if name.ends_with("jsonl") { 2 } else { 3 };
+        let want = format!("{name}:{line}: result: field `package` given twice");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        messages.push(stderr.replace(&format!("{name}:{line}:"), "FILE:"));
+    }
+    assert_eq!(messages[0], messages[1], "JSON lines and YAML differ");
+    // Reading the members in order must not change what other bad lines say.
+    for (text, want) in [
+        ("[1, 2]\n", "other.jsonl:1: expected a JSON object"),
+        ("{\"package\": \n", "other.jsonl:1: not valid JSON"),
+    ] {
+        let res = write(d.path(), "other.jsonl", text.as_bytes());
+        let (code, _, stderr) = check_with(d.path(), &[("--results", &res)]);
+        assert_eq!(code, 2, "{stderr}");
+        assert!(stderr.contains(want), "wanted {want} in {stderr}");
+    }
+}
