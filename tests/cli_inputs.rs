@@ -473,3 +473,43 @@ fn results_record_with_a_key_given_twice_is_refused() {
         assert!(stderr.contains(want), "wanted {want} in {stderr}");
     }
 }
+
+/// Priority names are trimmed and an empty one refused in YAML as in CSV, so a name written
+/// with spaces around it still matches its package.
+#[test]
+fn priority_names_are_trimmed_and_empty_ones_refused_in_yaml_as_in_csv() {
+    let d = dir();
+    let padded = write(
+        d.path(),
+        "padded.yaml",
+        b"priorities:\n  - \" fernwood \"\n  - {name: \"\\tfernwood\", weight: 2}\n",
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &padded)]);
+    // The second entry is the first one again once trimmed: a duplicate, not a new package.
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    assert!(
+        stdout.contains("padded.yaml:3") && stdout.contains("already listed at line 2"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("not have"), "{stdout}");
+    for (name, text, lines) in [
+        (
+            "empty.yaml",
+            "priorities:\n  - fernwood\n  - \"\"\n  - {name: \"  \"}\n",
+            [3, 4],
+        ),
+        (
+            "empty.csv",
+            "name,weight\nfernwood,1\n\"\",1\n  ,1\n",
+            [3, 4],
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        for line in lines {
+            let want = format!("{name}:{line}: `name` is empty");
+            assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        }
+    }
+}

@@ -60,7 +60,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
             return Ok(RawEntry {
                 line: node.line,
                 rank: None,
-                name: name.clone(),
+                name: entry_name(file, node.line, name)?,
                 weight: None,
                 req: None,
                 prerelease: false,
@@ -70,12 +70,21 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
         Ok(RawEntry {
             line: m.line(),
             rank: None,
-            name: m.required_str("name")?.to_string(),
+            name: entry_name(file, m.line(), m.required_str("name")?)?,
             weight: m.opt_number("weight")?,
             req: m.opt_str("req")?.map(str::to_owned),
             prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
         })
     })
+}
+
+/// A name as the CSV reader gets it from its trimmed cell, so both formats match the same
+/// registry names and refuse the same empty ones.
+fn entry_name(file: &str, line: usize, written: &str) -> Result<String, BadInput> {
+    match written.trim() {
+        "" => Err(BadInput::at(file, line, "`name` is empty")),
+        name => Ok(name.to_string()),
+    }
 }
 
 fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
@@ -108,9 +117,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
             }
         };
         let entry = (|| {
-            let name = row
-                .get(c_name)
-                .ok_or_else(|| BadInput::at(&table.file, row.line, "`name` is empty"))?;
+            let name = entry_name(&table.file, row.line, row.get(c_name).unwrap_or_default())?;
             let prerelease = match row.get(c_pre) {
                 None | Some("false") => false,
                 Some("true") => true,
@@ -125,7 +132,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
             Ok(RawEntry {
                 line: row.line,
                 rank: number(c_rank, "rank")?,
-                name: name.to_string(),
+                name,
                 weight: number(c_weight, "weight")?,
                 req: row.get(c_req).map(str::to_owned),
                 prerelease,
