@@ -513,3 +513,28 @@ fn priority_names_are_trimmed_and_empty_ones_refused_in_yaml_as_in_csv() {
         }
     }
 }
+
+/// A blank line is skipped in every CSV table whatever the line endings and the number of
+/// columns.
+#[test]
+fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
+    let d = dir();
+    for (header, row_a, row_b) in [
+        ("name", "fernwood", "ghost"),
+        ("name,weight", "fernwood,1", "ghost,1"),
+    ] {
+        for ending in ["\n", "\r\n"] {
+            let text = [header, row_a, "", row_b, ""].join(ending);
+            let path = write(d.path(), "blank.csv", text.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+            let case = format!("{header:?} {ending:?}");
+            assert_eq!(code, 1, "{case}: stdout {stdout} stderr {stderr}");
+            let line = stdout
+                .lines()
+                .find(|l| l.starts_with("priority entries"))
+                .unwrap();
+            let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+            assert_eq!(nums, ["2", "2", "0"], "{case}: {line}");
+        }
+    }
+}

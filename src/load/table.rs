@@ -295,11 +295,13 @@ impl Table {
     /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
     /// is skipped.
     fn check_width(&self, record: &csv::StringRecord, line: usize) -> Result<bool, BadInput> {
-        if record.len() == self.columns.len() {
-            return Ok(false);
-        }
+        // Checked before the width: in a one-column table a blank CRLF line is one field, the
+        // header's width, and would otherwise be read as a row with an empty cell.
         if record.len() == 1 && record[0].trim().is_empty() {
             return Ok(true);
+        }
+        if record.len() == self.columns.len() {
+            return Ok(false);
         }
         Err(BadInput::at(
             &self.file,
