@@ -515,7 +515,7 @@ fn priority_names_are_trimmed_and_empty_ones_refused_in_yaml_as_in_csv() {
 }
 
 /// A blank line is skipped in every CSV table whatever the line endings and the number of
-/// columns.
+/// columns, and the row after it keeps its own line number.
 #[test]
 fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
     let d = dir();
@@ -529,6 +529,10 @@ fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
             let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
             let case = format!("{header:?} {ending:?}");
             assert_eq!(code, 1, "{case}: stdout {stdout} stderr {stderr}");
+            assert!(
+                stdout.contains("blank.csv:4  ghost"),
+                "{case}: the unknown name is on line 4: {stdout}"
+            );
             let line = stdout
                 .lines()
                 .find(|l| l.starts_with("priority entries"))
