@@ -542,3 +542,42 @@ fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
         }
     }
 }
+
+/// Weights are each finite but their total must be too: every share of the weight is taken
+/// of the total, and past the largest f64 the shares are not numbers.
+#[test]
+fn priority_weights_that_add_up_past_the_largest_number_are_refused() {
+    let d = dir();
+    for (name, text) in [
+        (
+            "huge.yaml",
+            "priorities:\n  - {name: fernwood, weight: 1e308}\n  - {name: gumleaf, weight: 0}\n  - {name: ghost, weight: 1e308}\n",
+        ),
+        (
+            "huge.csv",
+            "name,weight\nfernwood,1e308\ngumleaf,0\nghost,1e308\n",
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        let want = format!("{name}:4: the weights up to this entry add up to more than 1.7e308");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        assert!(
+            stderr.contains("must add up to a finite number"),
+            "{stderr}"
+        );
+    }
+    // Just below the largest number is still a total.
+    let near = write(
+        d.path(),
+        "near.yaml",
+        b"priorities:\n  - {name: fernwood, weight: 1e308}\n  - {name: gumleaf, weight: 7e307}\n",
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &near)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    assert!(
+        !stdout.contains("NaN") && !stderr.contains("NaN"),
+        "{stdout}"
+    );
+}

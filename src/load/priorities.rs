@@ -29,7 +29,7 @@ pub fn read_priorities(path: &Path, ledger: &mut Ledger) -> Result<PriorityList,
     } else {
         read_yaml(&file, &read_text(path)?)?
     };
-    Ok(assemble(&file, raw, ledger))
+    assemble(&file, raw, ledger)
 }
 
 pub(crate) fn has_extension(path: &Path, ext: &str) -> bool {
@@ -43,7 +43,7 @@ pub fn read_priorities_str(
     text: &str,
     ledger: &mut Ledger,
 ) -> Result<PriorityList, BadInput> {
-    Ok(assemble(file, read_yaml(file, text)?, ledger))
+    assemble(file, read_yaml(file, text)?, ledger)
 }
 
 fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
@@ -158,9 +158,10 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
     Ok(out)
 }
 
-fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> PriorityList {
+fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<PriorityList, BadInput> {
     let mut seen: HashMap<String, usize> = HashMap::new();
     let mut entries = Vec::new();
+    let mut total = 0.0_f64;
     for e in raw {
         ledger.read(RecordKind::Priority);
         let origin = Origin {
@@ -201,16 +202,28 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> PriorityList
                 continue;
             }
         };
+        let weight = e.weight.unwrap_or(1.0);
+        total += weight;
+        if !total.is_finite() {
+            // Every share of the weight is divided by the total: past the largest f64 the
+            // shares come out NaN.
+            return Err(BadInput::at(
+                file,
+                e.line,
+                "the weights up to this entry add up to more than 1.7e308, the largest number \
+                 basefit can hold; the weights of a priority list must add up to a finite number",
+            ));
+        }
         seen.insert(e.name.clone(), e.line);
         ledger.used(RecordKind::Priority);
         entries.push(Priority {
             rank: entries.len() + 1,
             name: e.name,
-            weight: e.weight.unwrap_or(1.0),
+            weight,
             req,
             prerelease: e.prerelease,
             origin,
         });
     }
-    PriorityList { entries }
+    Ok(PriorityList { entries })
 }
