@@ -329,3 +329,255 @@ fn every_input_reading_command_takes_quiet() {
         assert_eq!(help.contains("--quiet"), takes_quiet, "{command}: {help}");
     }
 }
+
+/// Runs `basefit check` with `inputs`, using a good registry and good images for the flags
+/// it leaves out; returns (exit code, stdout, stderr).
+fn check_with(d: &Path, inputs: &[(&str, &Path)]) -> (i32, String, String) {
+    let reg = write(d, "good-registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d, "good-images.yaml", GOOD_IMAGES.as_bytes());
+    let mut args: Vec<&std::ffi::OsStr> = vec!["check".as_ref()];
+    for (flag, default) in [("--registry", &reg), ("--images", &img)] {
+        if !inputs.iter().any(|(f, _)| *f == flag) {
+            args.push(flag.as_ref());
+            args.push(default.as_os_str());
+        }
+    }
+    for (flag, path) in inputs {
+        args.push(flag.as_ref());
+        args.push(path.as_os_str());
+    }
+    common::run_basefit(args)
+}
+
+/// The YAML parser stops at a NUL as if the file ended there, so a NUL must make every YAML
+/// input unusable rather than cut it short.
+#[test]
+fn nul_byte_in_any_yaml_input_is_refused_with_its_line() {
+    let d = dir();
+    let cases: [(&str, &str, &[u8]); 4] = [
+        (
+            "--registry",
+            "nul-registry.yaml",
+            b"packages:\n  - name: fernwood\n    versions: [{version: 1.0.0}]\n\0  - name: gumleaf\n    versions: [{version: 1.0.0}]\n",
+        ),
+        (
+            "--images",
+            "nul-images.yaml",
+            b"images:\n  - {id: a, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n\n  - {id: b, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\0\n",
+        ),
+        (
+            "--priorities",
+            "nul-priorities.yaml",
+            b"priorities:\n  - fernwood\n\n\0  - gumleaf\n",
+        ),
+        (
+            "--results",
+            "nul-results.yaml",
+            b"results:\n  - {package: fernwood, image: plain, outcome: installed}\n\n  - \0{package: fernwood, image: plain, outcome: failed}\n",
+        ),
+    ];
+    for (flag, name, text) in cases {
+        let path = write(d.path(), name, text);
+        let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        assert!(
+            stderr.contains(&format!("{name}:4:"))
+                && stderr.contains("a text file cannot hold a NUL byte"),
+            "{name}: {stderr}"
+        );
+    }
+}
+
+/// CSV inputs accept a UTF-8 byte-order mark; YAML and JSON-lines inputs must read the same
+/// text with one just as they read it without.
+#[test]
+fn byte_order_mark_starts_yaml_and_json_lines_inputs() {
+    let d = dir();
+    let bom = |text: &str| [b"\xef\xbb\xbf".as_slice(), text.as_bytes()].concat();
+    let reg = write(d.path(), "bom-registry.yaml", &bom(GOOD_REGISTRY));
+    let img = write(d.path(), "bom-images.yaml", &bom(GOOD_IMAGES));
+    let pri = write(
+        d.path(),
+        "bom-priorities.yaml",
+        &bom("priorities: [fernwood]\n"),
+    );
+    let res_yaml = write(
+        d.path(),
+        "bom-results.yaml",
+        &bom("results:\n  - {package: fernwood, image: plain, outcome: installed}\n"),
+    );
+    let res_jsonl = write(
+        d.path(),
+        "bom-results.jsonl",
+        &bom("{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\"}\n"),
+    );
+    for results in [&res_yaml, &res_jsonl] {
+        let (code, stdout, stderr) = check_with(
+            d.path(),
+            &[
+                ("--registry", &reg),
+                ("--images", &img),
+                ("--priorities", &pri),
+                ("--results", results),
+            ],
+        );
+        assert_eq!(code, 0, "stdout {stdout} stderr {stderr}");
+        for (kind, counts) in [
+            ("package records", ["1", "1", "0"]),
+            ("image records", ["1", "1", "0"]),
+            ("priority entries", ["1", "1", "0"]),
+            ("recorded results", ["1", "1", "0"]),
+        ] {
+            let line = stdout.lines().find(|l| l.starts_with(kind)).unwrap();
+            let nums: Vec<&str> = line[kind.len()..].split_whitespace().collect();
+            assert_eq!(nums, counts, "{line}");
+        }
+    }
+}
+
+/// A key given twice in one results record makes the record a schema error in JSON lines as
+/// in YAML, rather than letting one of the two values win.
+#[test]
+fn results_record_with_a_key_given_twice_is_refused() {
+    let d = dir();
+    let cases = [
+        (
+            "dup.jsonl",
+            "{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"installed\"}\n\
+             {\"package\":\"fernwood\",\"package\":\"ghost\",\"image\":\"plain\",\"outcome\":\"failed\"}\n",
+        ),
+        (
+            "dup.yaml",
+            "results:\n  - {package: fernwood, image: plain, outcome: installed}\n  - {package: fernwood, package: ghost, image: plain, outcome: failed}\n",
+        ),
+    ];
+    let mut messages = Vec::new();
+    for (name, text) in cases {
+        let res = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--results", &res)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        let line = if name.ends_with("jsonl") { 2 } else { 3 };
+        let want = format!("{name}:{line}: result: field `package` given twice");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        messages.push(stderr.replace(&format!("{name}:{line}:"), "FILE:"));
+    }
+    assert_eq!(messages[0], messages[1], "JSON lines and YAML differ");
+    // Reading the members in order must not change what other bad lines say.
+    for (text, want) in [
+        ("[1, 2]\n", "other.jsonl:1: expected a JSON object"),
+        ("{\"package\": \n", "other.jsonl:1: not valid JSON"),
+    ] {
+        let res = write(d.path(), "other.jsonl", text.as_bytes());
+        let (code, _, stderr) = check_with(d.path(), &[("--results", &res)]);
+        assert_eq!(code, 2, "{stderr}");
+        assert!(stderr.contains(want), "wanted {want} in {stderr}");
+    }
+}
+
+/// Priority names are trimmed and an empty one refused in YAML as in CSV, so a name written
+/// with spaces around it still matches its package.
+#[test]
+fn priority_names_are_trimmed_and_empty_ones_refused_in_yaml_as_in_csv() {
+    let d = dir();
+    let padded = write(
+        d.path(),
+        "padded.yaml",
+        b"priorities:\n  - \" fernwood \"\n  - {name: \"\\tfernwood\", weight: 2}\n",
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &padded)]);
+    // The second entry is the first one again once trimmed: a duplicate, not a new package.
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    assert!(
+        stdout.contains("padded.yaml:3") && stdout.contains("already listed at line 2"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("not have"), "{stdout}");
+    for (name, text, lines) in [
+        (
+            "empty.yaml",
+            "priorities:\n  - fernwood\n  - \"\"\n  - {name: \"  \"}\n",
+            [3, 4],
+        ),
+        (
+            "empty.csv",
+            "name,weight\nfernwood,1\n\"\",1\n  ,1\n",
+            [3, 4],
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        for line in lines {
+            let want = format!("{name}:{line}: `name` is empty");
+            assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        }
+    }
+}
+
+/// A blank line is skipped in every CSV table whatever the line endings and the number of
+/// columns, and the row after it keeps its own line number.
+#[test]
+fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
+    let d = dir();
+    for (header, row_a, row_b) in [
+        ("name", "fernwood", "ghost"),
+        ("name,weight", "fernwood,1", "ghost,1"),
+    ] {
+        for ending in ["\n", "\r\n"] {
+            let text = [header, row_a, "", row_b, ""].join(ending);
+            let path = write(d.path(), "blank.csv", text.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+            let case = format!("{header:?} {ending:?}");
+            assert_eq!(code, 1, "{case}: stdout {stdout} stderr {stderr}");
+            assert!(
+                stdout.contains("blank.csv:4  ghost"),
+                "{case}: the unknown name is on line 4: {stdout}"
+            );
+            let line = stdout
+                .lines()
+                .find(|l| l.starts_with("priority entries"))
+                .unwrap();
+            let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+            assert_eq!(nums, ["2", "2", "0"], "{case}: {line}");
+        }
+    }
+}
+
+/// Weights are each finite but their total must be too: every share of the weight is taken
+/// of the total, and past the largest f64 the shares are not numbers.
+#[test]
+fn priority_weights_that_add_up_past_the_largest_number_are_refused() {
+    let d = dir();
+    for (name, text) in [
+        (
+            "huge.yaml",
+            "priorities:\n  - {name: fernwood, weight: 1e308}\n  - {name: gumleaf, weight: 0}\n  - {name: ghost, weight: 1e308}\n",
+        ),
+        (
+            "huge.csv",
+            "name,weight\nfernwood,1e308\ngumleaf,0\nghost,1e308\n",
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        let want = format!("{name}:4: the weights up to this entry add up to more than 1.7e308");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        assert!(
+            stderr.contains("must add up to a finite number"),
+            "{stderr}"
+        );
+    }
+    // Just below the largest number is still a total.
+    let near = write(
+        d.path(),
+        "near.yaml",
+        b"priorities:\n  - {name: fernwood, weight: 1e308}\n  - {name: gumleaf, weight: 7e307}\n",
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &near)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    assert!(
+        !stdout.contains("NaN") && !stderr.contains("NaN"),
+        "{stdout}"
+    );
+}

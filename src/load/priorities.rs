@@ -29,7 +29,7 @@ pub fn read_priorities(path: &Path, ledger: &mut Ledger) -> Result<PriorityList,
     } else {
         read_yaml(&file, &read_text(path)?)?
     };
-    Ok(assemble(&file, raw, ledger))
+    assemble(&file, raw, ledger)
 }
 
 pub(crate) fn has_extension(path: &Path, ext: &str) -> bool {
@@ -43,7 +43,7 @@ pub fn read_priorities_str(
     text: &str,
     ledger: &mut Ledger,
 ) -> Result<PriorityList, BadInput> {
-    Ok(assemble(file, read_yaml(file, text)?, ledger))
+    assemble(file, read_yaml(file, text)?, ledger)
 }
 
 fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
@@ -60,7 +60,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
             return Ok(RawEntry {
                 line: node.line,
                 rank: None,
-                name: name.clone(),
+                name: entry_name(file, node.line, name)?,
                 weight: None,
                 req: None,
                 prerelease: false,
@@ -70,12 +70,21 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
         Ok(RawEntry {
             line: m.line(),
             rank: None,
-            name: m.required_str("name")?.to_string(),
+            name: entry_name(file, m.line(), m.required_str("name")?)?,
             weight: m.opt_number("weight")?,
             req: m.opt_str("req")?.map(str::to_owned),
             prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
         })
     })
+}
+
+/// A name as the CSV reader gets it from its trimmed cell, so both formats match the same
+/// registry names and refuse the same empty ones.
+fn entry_name(file: &str, line: usize, written: &str) -> Result<String, BadInput> {
+    match written.trim() {
+        "" => Err(BadInput::at(file, line, "`name` is empty")),
+        name => Ok(name.to_string()),
+    }
 }
 
 fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
@@ -108,9 +117,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
             }
         };
         let entry = (|| {
-            let name = row
-                .get(c_name)
-                .ok_or_else(|| BadInput::at(&table.file, row.line, "`name` is empty"))?;
+            let name = entry_name(&table.file, row.line, row.get(c_name).unwrap_or_default())?;
             let prerelease = match row.get(c_pre) {
                 None | Some("false") => false,
                 Some("true") => true,
@@ -125,7 +132,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
             Ok(RawEntry {
                 line: row.line,
                 rank: number(c_rank, "rank")?,
-                name: name.to_string(),
+                name,
                 weight: number(c_weight, "weight")?,
                 req: row.get(c_req).map(str::to_owned),
                 prerelease,
@@ -151,9 +158,10 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
     Ok(out)
 }
 
-fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> PriorityList {
+fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<PriorityList, BadInput> {
     let mut seen: HashMap<String, usize> = HashMap::new();
     let mut entries = Vec::new();
+    let mut total = 0.0_f64;
     for e in raw {
         ledger.read(RecordKind::Priority);
         let origin = Origin {
@@ -194,16 +202,28 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> PriorityList
                 continue;
             }
         };
+        let weight = e.weight.unwrap_or(1.0);
+        total += weight;
+        if !total.is_finite() {
+            // Every share of the weight is divided by the total: past the largest f64 the
+            // shares come out NaN.
+            return Err(BadInput::at(
+                file,
+                e.line,
+                "the weights up to this entry add up to more than 1.7e308, the largest number \
+                 basefit can hold; the weights of a priority list must add up to a finite number",
+            ));
+        }
         seen.insert(e.name.clone(), e.line);
         ledger.used(RecordKind::Priority);
         entries.push(Priority {
             rank: entries.len() + 1,
             name: e.name,
-            weight: e.weight.unwrap_or(1.0),
+            weight,
             req,
             prerelease: e.prerelease,
             origin,
         });
     }
-    PriorityList { entries }
+    Ok(PriorityList { entries })
 }

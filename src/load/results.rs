@@ -116,6 +116,8 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
 fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let mut out = Vec::new();
     let mut errors = SchemaErrors::new();
+    // A byte-order mark, as CSV and YAML inputs may start with, is not JSON.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     for (index, line_text) in text.lines().enumerate() {
         let line = index + 1;
         if line_text.trim().is_empty() {
@@ -133,15 +135,48 @@ fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     Ok(out)
 }
 
+/// The members of a JSON object in the order written, repeats included: `serde_json::Value`
+/// keeps only the last of two equal keys, which would let a record's second `package` win
+/// without a word.
+struct Members(Vec<(String, serde_json::Value)>);
+
+impl<'de> serde::Deserialize<'de> for Members {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct Visit;
+        impl<'de> serde::de::Visitor<'de> for Visit {
+            type Value = Members;
+            fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str("a JSON object")
+            }
+            fn visit_map<A: serde::de::MapAccess<'de>>(
+                self,
+                mut map: A,
+            ) -> Result<Members, A::Error> {
+                let mut members = Vec::new();
+                while let Some(member) = map.next_entry()? {
+                    members.push(member);
+                }
+                Ok(Members(members))
+            }
+        }
+        deserializer.deserialize_map(Visit)
+    }
+}
+
 fn json_record(file: &str, line: usize, text: &str) -> Result<RawResult, BadInput> {
-    let value: serde_json::Value = serde_json::from_str(text)
-        .map_err(|e| BadInput::at(file, line, format!("not valid JSON: {e}")))?;
-    let obj = value
-        .as_object()
-        .ok_or_else(|| BadInput::at(file, line, "expected a JSON object"))?;
-    for key in obj.keys() {
+    let Members(members) = serde_json::from_str(text).map_err(|e| {
+        // Members take any value, so the one type that can be wrong is the line's own.
+        let message = if e.is_data() {
+            "expected a JSON object".to_string()
+        } else {
+            format!("not valid JSON: {e}")
+        };
+        BadInput::at(file, line, message)
+    })?;
+    let mut obj = serde_json::Map::new();
+    for (key, value) in members {
         if !FIELDS.contains(&key.as_str()) {
-            let hint = super::diag::closest(key, FIELDS)
+            let hint = super::diag::closest(&key, FIELDS)
                 .map(|c| format!("; did you mean `{c}`?"))
                 .unwrap_or_else(|| format!("; known fields: {}", FIELDS.join(", ")));
             return Err(BadInput::at(
@@ -150,6 +185,14 @@ fn json_record(file: &str, line: usize, text: &str) -> Result<RawResult, BadInpu
                 format!("result: unknown field `{key}`{hint}"),
             ));
         }
+        if obj.contains_key(&key) {
+            return Err(BadInput::at(
+                file,
+                line,
+                format!("result: field `{key}` given twice"),
+            ));
+        }
+        obj.insert(key, value);
     }
     let field = |key: &str| -> Result<Option<String>, BadInput> {
         match obj.get(key) {

@@ -10,7 +10,30 @@ pub struct Table {
     /// Size of the input in bytes when it is a file: lets readers size their buffers once.
     pub byte_len: Option<u64>,
     columns: Vec<String>,
-    reader: csv::Reader<Box<dyn std::io::Read + Send>>,
+    reader: csv::Reader<Tally<Box<dyn std::io::Read + Send>>>,
+}
+
+/// The input as the csv crate reads it, with what [`Table::next_into`] needs to tell whether
+/// a record ended with a line break: only the last record of a file can end without one.
+struct Tally<R> {
+    input: R,
+    delivered: u64,
+    last: Option<u8>,
+    ended: bool,
+}
+
+impl<R: std::io::Read> std::io::Read for Tally<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.input.read(buf)?;
+        if n == 0 && !buf.is_empty() {
+            self.ended = true;
+        }
+        if let Some(&b) = buf[..n].last() {
+            self.last = Some(b);
+        }
+        self.delivered += n as u64;
+        Ok(n)
+    }
 }
 
 /// One data row and its 1-based line in the file.
@@ -224,7 +247,12 @@ impl Table {
         let mut reader = csv::ReaderBuilder::new()
             .flexible(true)
             .terminator(csv::Terminator::Any(b'\n'))
-            .from_reader(input);
+            .from_reader(Tally {
+                input,
+                delivered: 0,
+                last: None,
+                ended: false,
+            });
         let headers = reader
             .headers()
             .map_err(|e| csv_error(file, e))?
@@ -282,7 +310,7 @@ impl Table {
             match self.reader.read_record(&mut row.record) {
                 Ok(false) => return Ok(false),
                 Ok(true) => {
-                    row.line = line_of(&row.record);
+                    row.line = self.first_line(&row.record);
                     if !self.check_width(&row.record, row.line)? {
                         return Ok(true);
                     }
@@ -292,14 +320,34 @@ impl Table {
         }
     }
 
+    /// The line a record starts on. The csv crate gives the first record after blank LF lines
+    /// the line of the first blank one (it skips them itself), but it counts every line break
+    /// it reads: the breaks between where it started and where it stopped are the skipped
+    /// blank lines, the breaks inside quoted cells and the one ending the record.
+    fn first_line(&self, record: &csv::StringRecord) -> usize {
+        let start = line_of(record);
+        let end = self.reader.position();
+        let input = self.reader.get_ref();
+        let ends_file = input.ended && end.byte() == input.delivered && input.last != Some(b'\n');
+        let breaks = (end.line() as usize).saturating_sub(start);
+        let beyond = breaks.saturating_sub(usize::from(!ends_file));
+        if beyond == 0 {
+            return start;
+        }
+        let inside = record.as_slice().bytes().filter(|&b| b == b'\n').count();
+        start + beyond.saturating_sub(inside)
+    }
+
     /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
     /// is skipped.
     fn check_width(&self, record: &csv::StringRecord, line: usize) -> Result<bool, BadInput> {
-        if record.len() == self.columns.len() {
-            return Ok(false);
-        }
+        // Checked before the width: in a one-column table a blank CRLF line is one field, the
+        // header's width, and would otherwise be read as a row with an empty cell.
         if record.len() == 1 && record[0].trim().is_empty() {
             return Ok(true);
+        }
+        if record.len() == self.columns.len() {
+            return Ok(false);
         }
         Err(BadInput::at(
             &self.file,
@@ -423,5 +471,58 @@ fn csv_error(file: &str, e: csv::Error) -> BadInput {
     match line {
         Some(l) => BadInput::at(file, l, message),
         None => BadInput::file(file, message),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Hands over one byte per read, so the end of the input is met in every possible place.
+    struct Trickle(&'static [u8]);
+
+    impl std::io::Read for Trickle {
+        fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+            let n = buf.len().min(self.0.len()).min(1);
+            buf[..n].copy_from_slice(&self.0[..n]);
+            self.0 = &self.0[n..];
+            Ok(n)
+        }
+    }
+
+    /// Each row's line and first cell, read row by row.
+    fn lines(text: &'static str) -> Vec<(usize, String)> {
+        let read = |input: Box<dyn std::io::Read + Send>| {
+            let mut table = Table::from_reader("t.csv", input, &["a", "b"], &["a"]).unwrap();
+            let mut out = Vec::new();
+            while let Some(row) = table.next_row().unwrap() {
+                out.push((row.line, row.record[0].to_string()));
+            }
+            out
+        };
+        let whole = read(Box::new(text.as_bytes()));
+        assert_eq!(read(Box::new(Trickle(text.as_bytes()))), whole, "{text:?}");
+        whole
+    }
+
+    fn rows(pairs: &[(usize, &str)]) -> Vec<(usize, String)> {
+        pairs.iter().map(|&(l, c)| (l, c.to_string())).collect()
+    }
+
+    #[test]
+    fn rows_after_blank_lines_keep_their_own_line() {
+        let want = rows(&[(2, "x"), (4, "y"), (7, "z")]);
+        assert_eq!(lines("a,b\nx,1\n\ny,2\n\n\nz,3\n"), want);
+        assert_eq!(lines("a,b\r\nx,1\r\n\r\ny,2\r\n\r\n\r\nz,3\r\n"), want);
+        // The last row without a line break after it, with and without blank lines before.
+        assert_eq!(lines("a,b\nx,1\n\ny,2\n\n\nz,3"), want);
+        assert_eq!(lines("a,b\nx,1\ny,2"), rows(&[(2, "x"), (3, "y")]));
+        // Line breaks inside quoted cells belong to their row, blank lines among them too.
+        assert_eq!(
+            lines("a,b\n\n\"x\n\ny\",1\n\nz,\"2\n\"\n\nw,3"),
+            rows(&[(3, "x\n\ny"), (7, "z"), (10, "w")])
+        );
+        // Blank lines at the end are no rows.
+        assert_eq!(lines("a,b\nx,1\n\n\n"), rows(&[(2, "x")]));
     }
 }

@@ -191,6 +191,19 @@ pub fn parse_showing(
     text: &str,
     progress: Option<&Progress<'_>>,
 ) -> Result<Rc<Node>, BadInput> {
+    // Editors on Windows start UTF-8 files with a byte-order mark; yaml-rust2 would read it
+    // as part of the first key.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    // yaml-rust2 ends the stream at a NUL without an error, so whatever follows one would be
+    // dropped without a word.
+    if let Some(at) = text.find('\0') {
+        let line = text[..at].matches('\n').count() + 1;
+        return Err(BadInput::at(
+            file,
+            line,
+            "found a NUL byte; a text file cannot hold a NUL byte (binary data?)",
+        ));
+    }
     let mut builder = Builder {
         stack: Vec::new(),
         anchors: Vec::new(),
