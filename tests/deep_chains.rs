@@ -82,3 +82,22 @@ fn explain_draws_a_deep_closure_tree() {
         );
     }
 }
+
+/// A chain ending in a package the registry does not have: the derivation tree is as deep
+/// as the chain, and the explanation walks it.
+#[test]
+fn explain_walks_a_deep_derivation_tree() {
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = chain_inputs(dir.path(), Some("nowhere"));
+    let e = on_small_stack(move || explain(&inputs, "p0", "deb", &options()).unwrap());
+    assert_eq!(e.cell.outcome.as_str(), "fails");
+    assert!(
+        e.cell
+            .explanation
+            .iter()
+            .any(|l| l == "nowhere is not in the registry"),
+        "{:?}",
+        &e.cell.explanation[..5]
+    );
+    assert!(e.tree.is_empty());
+}
