@@ -581,3 +581,30 @@ fn priority_weights_that_add_up_past_the_largest_number_are_refused() {
         "{stdout}"
     );
 }
+
+/// Each image extends the next one declared, so the first image's chain is the whole file.
+/// Resolving bases recursively overflowed the stack at 10,000 images (about 5,000 in a debug
+/// build), and its cycle check scanned the path at every step.
+#[test]
+fn long_extends_chain_resolves() {
+    const N: usize = 10_000;
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let mut text = String::from("images:\n");
+    for i in 0..N {
+        text.push_str(&format!("  - {{id: c{i}, extends: c{}}}\n", i + 1));
+    }
+    text.push_str(&format!(
+        "  - {{id: c{N}, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [zlib]}}\n"
+    ));
+    let img = write(d.path(), "images.yaml", text.as_bytes());
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 0, "{stderr}{stdout}");
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("image records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    let all = (N + 1).to_string();
+    assert_eq!(nums, [all.as_str(), all.as_str(), "0"], "{line}");
+}

@@ -78,9 +78,10 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
     }
 
     let mut resolved: Vec<Option<Result<Image, String>>> = vec![None; unique.len()];
+    let mut on_path = vec![false; unique.len()];
     let mut images = Vec::new();
     for i in 0..unique.len() {
-        let result = resolve(i, &unique, &by_id, &mut resolved, &mut Vec::new(), file);
+        let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
                 ledger.used(RecordKind::Image);
@@ -98,88 +99,120 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
     Ok(ImageSet { images })
 }
 
-/// Applies the chain of bases of image `i`, memoised; `path` detects cycles.
+/// Applies the chain of bases of image `i`, memoised. The chain is walked with an explicit
+/// path rather than by recursion, since a file may declare a chain of any length and the
+/// stack would not hold it; `on_path` makes the cycle check one lookup per step instead of a
+/// scan of the path, which grew with the square of the chain.
+///
+/// The messages are the ones a depth-first recursion gives, memo writes included: when a
+/// cycle closes on an image, that image's cycle message is what the images after it on the
+/// path build on, and the image itself is rewritten once the walk unwinds back to it.
 fn resolve(
     i: usize,
     declared: &[&Declared],
     by_id: &HashMap<&str, usize>,
-    memo: &mut Vec<Option<Result<Image, String>>>,
-    path: &mut Vec<usize>,
+    memo: &mut [Option<Result<Image, String>>],
+    on_path: &mut [bool],
     file: &str,
 ) -> Result<Image, String> {
-    if let Some(done) = &memo[i] {
-        return done.clone();
-    }
-    let d = declared[i];
-    let result = (|| {
-        if path.contains(&i) {
+    let mut path: Vec<usize> = Vec::new();
+    let mut at = i;
+    // The result handed back to the top of the path (or to the caller once it is empty).
+    let mut result = loop {
+        if let Some(done) = &memo[at] {
+            break done.clone();
+        }
+        let d = declared[at];
+        if on_path[at] {
             let names: Vec<&str> = path.iter().map(|&j| declared[j].id.as_str()).collect();
-            return Err(format!(
+            let cycle = Err(format!(
                 "extends in a cycle: {} -> {}",
                 names.join(" -> "),
                 d.id
             ));
+            memo[at] = Some(cycle.clone());
+            break cycle;
         }
-        let base = match &d.extends {
-            None => None,
-            Some(b) => {
-                let &j = by_id
-                    .get(b.as_str())
-                    .ok_or_else(|| format!("extends `{b}`, which is not declared"))?;
-                path.push(i);
-                let base = resolve(j, declared, by_id, memo, path, file);
-                path.pop();
-                Some(base.map_err(|e| format!("its base `{b}` cannot be built: {e}"))?)
+        let step = match &d.extends {
+            None => Ok(None),
+            Some(b) => by_id
+                .get(b.as_str())
+                .copied()
+                .map(Some)
+                .ok_or_else(|| format!("extends `{b}`, which is not declared")),
+        };
+        match step {
+            Ok(Some(j)) => {
+                path.push(at);
+                on_path[at] = true;
+                at = j;
             }
-        };
-        let runtime_text = d
-            .runtime
-            .clone()
-            .or_else(|| base.as_ref().map(|b| b.runtime.to_string()))
-            .ok_or("missing `runtime` (and no base to inherit it from)")?;
-        let runtime = match read_version(&runtime_text) {
-            VersionRead::Strict(v) | VersionRead::Normalised(v, _) => v,
-            VersionRead::Refused(why) => return Err(format!("runtime `{runtime_text}`: {why}")),
-        };
-        let family = d
-            .family
-            .or(base.as_ref().map(|b| b.family))
-            .ok_or("missing `family` (and no base to inherit it from)")?;
-        let platform = d
-            .platform
-            .clone()
-            .or_else(|| base.as_ref().map(|b| b.platform.clone()))
-            .ok_or("missing `platform` (and no base to inherit it from)")?;
-        let toolchain = d
-            .toolchain
-            .or(base.as_ref().map(|b| b.toolchain))
-            .unwrap_or(false);
-        let mut packages: BTreeSet<String> = base
-            .as_ref()
-            .map(|b| b.system_packages.clone())
-            .unwrap_or_default();
-        packages.extend(d.add.iter().cloned());
-        for r in &d.remove {
-            if !packages.remove(r) {
-                return Err(format!("removes `{r}`, which it does not have"));
+            Ok(None) => {
+                let own = build(d, None, file);
+                memo[at] = Some(own.clone());
+                break own;
+            }
+            Err(why) => {
+                memo[at] = Some(Err(why.clone()));
+                break Err(why);
             }
         }
-        Ok(Image {
-            id: d.id.clone(),
-            runtime,
-            family,
-            platform,
-            toolchain,
-            system_packages: packages,
-            extends: d.extends.clone(),
-            origin: Origin {
-                file: file.to_string(),
-                line: d.line,
-            },
-        })
-    })();
-    memo[i] = Some(result.clone());
+    };
+    while let Some(at) = path.pop() {
+        on_path[at] = false;
+        let d = declared[at];
+        let b = d.extends.as_deref().unwrap_or_default();
+        result = match result {
+            Ok(base) => build(d, Some(&base), file),
+            Err(e) => Err(format!("its base `{b}` cannot be built: {e}")),
+        };
+        memo[at] = Some(result.clone());
+    }
     result
+}
+
+/// Image `d` on top of its base (already built), or on its own when it extends nothing.
+fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String> {
+    let runtime_text = d
+        .runtime
+        .clone()
+        .or_else(|| base.map(|b| b.runtime.to_string()))
+        .ok_or("missing `runtime` (and no base to inherit it from)")?;
+    let runtime = match read_version(&runtime_text) {
+        VersionRead::Strict(v) | VersionRead::Normalised(v, _) => v,
+        VersionRead::Refused(why) => return Err(format!("runtime `{runtime_text}`: {why}")),
+    };
+    let family = d
+        .family
+        .or(base.map(|b| b.family))
+        .ok_or("missing `family` (and no base to inherit it from)")?;
+    let platform = d
+        .platform
+        .clone()
+        .or_else(|| base.map(|b| b.platform.clone()))
+        .ok_or("missing `platform` (and no base to inherit it from)")?;
+    let toolchain = d.toolchain.or(base.map(|b| b.toolchain)).unwrap_or(false);
+    let mut packages: BTreeSet<String> =
+        base.map(|b| b.system_packages.clone()).unwrap_or_default();
+    packages.extend(d.add.iter().cloned());
+    for r in &d.remove {
+        if !packages.remove(r) {
+            return Err(format!("removes `{r}`, which it does not have"));
+        }
+    }
+    Ok(Image {
+        id: d.id.clone(),
+        runtime,
+        family,
+        platform,
+        toolchain,
+        system_packages: packages,
+        extends: d.extends.clone(),
+        origin: Origin {
+            file: file.to_string(),
+            line: d.line,
+        },
+    })
 }
 
 fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {

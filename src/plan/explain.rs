@@ -131,7 +131,9 @@ fn hints(
     (lowest.map(|v| v.to_string()), older)
 }
 
-/// The closure of a resolved cell as a dependency tree from the root.
+/// The closure of a resolved cell as a dependency tree from the root, in depth-first order
+/// with each package's dependencies by name. An explicit stack rather than recursion: the tree
+/// is as deep as the longest dependency chain, which a registry may make any length.
 fn closure_tree(inputs: &Inputs, cell: &Cell) -> Vec<TreeLine> {
     let registry = &inputs.registry;
     let chosen: BTreeMap<&str, &str> = cell
@@ -140,19 +142,11 @@ fn closure_tree(inputs: &Inputs, cell: &Cell) -> Vec<TreeLine> {
         .map(|p| (p.name.as_str(), p.version.as_str()))
         .collect();
     let mut out = Vec::new();
-    let mut shown: BTreeSet<String> = BTreeSet::new();
-    fn walk(
-        inputs: &Inputs,
-        chosen: &BTreeMap<&str, &str>,
-        name: &str,
-        requirement: Option<String>,
-        depth: usize,
-        shown: &mut BTreeSet<String>,
-        out: &mut Vec<TreeLine>,
-    ) {
-        let registry = &inputs.registry;
+    let mut shown: BTreeSet<&str> = BTreeSet::new();
+    let mut stack: Vec<(&str, Option<String>, usize)> = vec![(cell.package.as_str(), None, 0)];
+    while let Some((name, requirement, depth)) = stack.pop() {
         let version = chosen.get(name).copied().unwrap_or("?");
-        let repeated = !shown.insert(name.to_string());
+        let repeated = !shown.insert(name);
         out.push(TreeLine {
             depth,
             name: name.to_string(),
@@ -161,16 +155,16 @@ fn closure_tree(inputs: &Inputs, cell: &Cell) -> Vec<TreeLine> {
             repeated,
         });
         if repeated {
-            return;
+            continue;
         }
         let Some(id): Option<PackageId> = registry.id(name) else {
-            return;
+            continue;
         };
         let Ok(v) = semver::Version::parse(version) else {
-            return;
+            continue;
         };
         let Some(index) = registry.find_release(id, &v) else {
-            return;
+            continue;
         };
         let release = &registry.package(id).releases[index];
         let mut deps: Vec<(&str, String)> = release
@@ -184,20 +178,11 @@ fn closure_tree(inputs: &Inputs, cell: &Cell) -> Vec<TreeLine> {
             .collect();
         deps.sort();
         deps.dedup();
-        for (dep, req) in deps {
-            walk(inputs, chosen, dep, Some(req), depth + 1, shown, out);
+        // Reversed so the first by name is popped, and its subtree written, first.
+        for (dep, req) in deps.into_iter().rev() {
+            stack.push((dep, Some(req), depth + 1));
         }
     }
-    let _ = registry;
-    walk(
-        inputs,
-        &chosen,
-        &cell.package,
-        None,
-        0,
-        &mut shown,
-        &mut out,
-    );
     out
 }
 

@@ -8,6 +8,7 @@ use crate::model::PackageId;
 use pubgrub::{DerivationTree, External};
 use serde::Serialize;
 use std::collections::BTreeMap;
+use std::sync::Arc;
 
 type Tree = DerivationTree<Node, IndexSet, String>;
 
@@ -40,7 +41,17 @@ enum Fact {
     Other(String),
 }
 
+/// Walks the tree depth first, `cause1` before `cause2`, with an explicit stack: a chain of
+/// dependencies makes a tree as deep as the chain is long, and a recursive walk overflowed the
+/// stack of a solver thread on a chain of 20,000 packages.
 fn collect(tree: &Tree, facts: &mut Facts) {
+    let mut stack = vec![tree];
+    while let Some(tree) = stack.pop() {
+        collect_one(tree, facts, &mut stack);
+    }
+}
+
+fn collect_one<'t>(tree: &'t Tree, facts: &mut Facts, stack: &mut Vec<&'t Tree>) {
     match tree {
         DerivationTree::External(ext) => match ext {
             External::NotRoot(..) => {}
@@ -67,8 +78,25 @@ fn collect(tree: &Tree, facts: &mut Facts) {
             External::Custom(_, _, msg) => facts.order.push(Fact::Other(msg.clone())),
         },
         DerivationTree::Derived(d) => {
-            collect(&d.cause1, facts);
-            collect(&d.cause2, facts);
+            stack.push(&d.cause2);
+            stack.push(&d.cause1);
+        }
+    }
+}
+
+/// Drops a derivation tree one node at a time. The tree's own drop recurses once per level
+/// (each cause is an `Arc` of a subtree), and a chain of 3,000 packages was enough to overflow
+/// a 256 KiB stack that way. A cause shared with another node is only released here; the last
+/// node to hold it takes it apart.
+pub(crate) fn dismantle(tree: Tree) {
+    let mut stack = vec![tree];
+    while let Some(tree) = stack.pop() {
+        if let DerivationTree::Derived(d) = tree {
+            for cause in [d.cause1, d.cause2] {
+                if let Ok(inner) = Arc::try_unwrap(cause) {
+                    stack.push(inner);
+                }
+            }
         }
     }
 }

@@ -243,7 +243,9 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
             // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
             // cause; the explainer merges them per package itself.
             observed.explained = explain::examined(&err);
-            Solved::Fails(explain::explain(view, root_id, &err))
+            let failure = explain::explain(view, root_id, &err);
+            explain::dismantle(err);
+            Solved::Fails(failure)
         }
         Err(PubGrubError::ErrorInShouldCancel(e)) => Solved::Undecided { steps: e.steps },
         Err(PubGrubError::ErrorChoosingVersion { source, .. })

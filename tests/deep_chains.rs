@@ -1,0 +1,103 @@
+//! Dependency chains far deeper than any real registry has, solved and explained on a thread
+//! with a small stack: whatever walks the chain must not need stack in proportion to it. The
+//! recursive walks these tests were written against overflowed at this depth in a debug build
+//! (a whole-process abort, not a test failure).
+
+use basefit::load::{InputPaths, load_inputs};
+use basefit::plan::PlanOptions;
+use basefit::plan::explain::explain;
+use std::path::Path;
+
+/// Packages in the chain: p0 depends on p1, ..., the last on `tail`.
+const DEPTH: usize = 3_000;
+/// Far below the main thread's 8 MiB, so a walk that recursed once per link would overflow
+/// here at a depth a test can solve quickly.
+const STACK: usize = 256 * 1024;
+
+fn chain_inputs(dir: &Path, tail: Option<&str>) -> basefit::load::Inputs {
+    let mut reg = String::from("packages:\n");
+    for i in 0..DEPTH {
+        let dep = if i + 1 < DEPTH {
+            format!("p{}", i + 1)
+        } else {
+            match tail {
+                Some(t) => t.to_string(),
+                None => {
+                    reg.push_str(&format!(
+                        "  - name: p{i}\n    versions: [{{version: \"1.0.0\"}}]\n"
+                    ));
+                    continue;
+                }
+            }
+        };
+        reg.push_str(&format!(
+            "  - name: p{i}\n    versions: [{{version: \"1.0.0\", depends: [{{name: {dep}}}]}}]\n"
+        ));
+    }
+    std::fs::write(dir.join("r.yaml"), reg).unwrap();
+    std::fs::write(
+        dir.join("i.yaml"),
+        "images:\n  - {id: deb, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    std::fs::write(dir.join("p.yaml"), "priorities: [p0]\n").unwrap();
+    load_inputs(&InputPaths {
+        registry: vec![dir.join("r.yaml")],
+        images: Some(dir.join("i.yaml")),
+        priorities: Some(dir.join("p.yaml")),
+        ..Default::default()
+    })
+    .unwrap()
+}
+
+fn options() -> PlanOptions {
+    PlanOptions {
+        budget: 10 * DEPTH as u64,
+        ..PlanOptions::default()
+    }
+}
+
+/// Runs `f` on a thread with a small stack; an overflow there aborts the test binary.
+fn on_small_stack<T: Send + 'static>(f: impl FnOnce() -> T + Send + 'static) -> T {
+    std::thread::Builder::new()
+        .stack_size(STACK)
+        .spawn(f)
+        .unwrap()
+        .join()
+        .unwrap()
+}
+
+/// The closure tree of a cell that installs is as deep as the chain.
+#[test]
+fn explain_draws_a_deep_closure_tree() {
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = chain_inputs(dir.path(), None);
+    let e = on_small_stack(move || explain(&inputs, "p0", "deb", &options()).unwrap());
+    assert_eq!(e.cell.outcome.as_str(), "installs");
+    assert_eq!(e.tree.len(), DEPTH);
+    for (i, line) in e.tree.iter().enumerate() {
+        assert_eq!(
+            (line.depth, line.name.as_str()),
+            (i, format!("p{i}").as_str())
+        );
+    }
+}
+
+/// A chain ending in a package the registry does not have: the derivation tree is as deep
+/// as the chain, and the explanation walks it.
+#[test]
+fn explain_walks_a_deep_derivation_tree() {
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = chain_inputs(dir.path(), Some("nowhere"));
+    let e = on_small_stack(move || explain(&inputs, "p0", "deb", &options()).unwrap());
+    assert_eq!(e.cell.outcome.as_str(), "fails");
+    assert!(
+        e.cell
+            .explanation
+            .iter()
+            .any(|l| l == "nowhere is not in the registry"),
+        "{:?}",
+        &e.cell.explanation[..5]
+    );
+    assert!(e.tree.is_empty());
+}
