@@ -7,7 +7,7 @@ use super::sets::{IndexSet, describe, indices};
 use crate::model::PackageId;
 use pubgrub::{DerivationTree, External};
 use serde::Serialize;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashSet};
 use std::sync::Arc;
 
 type Tree = DerivationTree<Node, IndexSet, String>;
@@ -30,9 +30,13 @@ pub struct Failure {
 
 /// The facts of a derivation tree, in the order the tree states them. Runs of unavailable
 /// versions of one package are merged into one fact so they read as one line.
+#[derive(Default)]
 struct Facts {
     no_versions: BTreeMap<PackageId, IndexSet>,
     order: Vec<Fact>,
+    /// The dependency facts in `order`, so a repeat is found without scanning it: a chain of
+    /// dependencies states one per link, and scanning made collecting them quadratic.
+    depends: HashSet<(Node, IndexSet, PackageId, IndexSet)>,
 }
 
 enum Fact {
@@ -65,10 +69,7 @@ fn collect_one<'t>(tree: &'t Tree, facts: &mut Facts, stack: &mut Vec<&'t Tree>)
             External::NoVersions(..) => {}
             External::FromDependencyOf(_, _, Node::Runtime, _) => {}
             External::FromDependencyOf(a, sa, Node::Package(b), sb) => {
-                let dup = facts.order.iter().any(|f| {
-                    matches!(f, Fact::Depends(x, xs, y, ys) if x == a && xs == sa && y == b && ys == sb)
-                });
-                if !dup {
+                if facts.depends.insert((*a, sa.clone(), *b, sb.clone())) {
                     facts
                         .order
                         .push(Fact::Depends(*a, sa.clone(), *b, sb.clone()));
@@ -246,10 +247,7 @@ fn requirement_text(
 /// Every package an explanation of `tree` reads beyond what the solver was answered: those
 /// its facts name, whose refusals, requirement texts and release lists it describes.
 pub fn examined(tree: &Tree) -> Vec<PackageId> {
-    let mut facts = Facts {
-        no_versions: BTreeMap::new(),
-        order: Vec::new(),
-    };
+    let mut facts = Facts::default();
     collect(tree, &mut facts);
     let mut out: Vec<PackageId> = facts.no_versions.keys().copied().collect();
     for f in &facts.order {
@@ -268,10 +266,7 @@ pub fn examined(tree: &Tree) -> Vec<PackageId> {
 /// Explains a failed solve of `root` on the view's image.
 pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     let registry = view.registry;
-    let mut facts = Facts {
-        no_versions: BTreeMap::new(),
-        order: Vec::new(),
-    };
+    let mut facts = Facts::default();
     collect(tree, &mut facts);
     // What the entry asks for reads best first; the rest keeps the tree's order.
     facts
