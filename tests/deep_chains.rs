@@ -101,3 +101,52 @@ fn explain_walks_a_deep_derivation_tree() {
     );
     assert!(e.tree.is_empty());
 }
+
+/// Every image of a long `extends` chain that cannot be built is reported on its own, each
+/// with the first cause only. Repeating each base's message inside the next one made the
+/// messages of a 4,000-image chain hundreds of megabytes; a cycle's path is shortened the
+/// same way, since it is reported once per image on it.
+#[test]
+fn images_of_a_long_broken_chain_get_short_messages() {
+    use basefit::load::images::read_images_str;
+    const IMAGES: usize = 4_000;
+    let fields = "runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64";
+    let mut chain = String::from("images:\n");
+    let mut cycle = String::from("images:\n");
+    for i in 0..IMAGES {
+        let base = if i + 1 < IMAGES {
+            format!("i{}", i + 1)
+        } else {
+            "nowhere".to_string()
+        };
+        chain.push_str(&format!("- {{id: i{i}, {fields}, extends: {base}}}\n"));
+        cycle.push_str(&format!(
+            "- {{id: c{i}, {fields}, extends: c{}}}\n",
+            (i + 1) % IMAGES
+        ));
+    }
+    for (text, first) in [
+        (
+            chain,
+            "its base `i1` cannot be built: extends `nowhere`, which is not declared",
+        ),
+        (
+            cycle,
+            "its base `c1` cannot be built: extends in a cycle: c0 -> c1 -> c2 -> c3 -> (3993 more) -> c3997 -> c3998 -> c3999 -> c0",
+        ),
+    ] {
+        let mut ledger = Default::default();
+        let images = read_images_str("images.yaml", &text, &mut ledger).unwrap();
+        assert!(images.images.is_empty());
+        let ledger: basefit::load::Ledger = ledger;
+        assert_eq!(ledger.problems.len(), IMAGES, "one report per image");
+        assert_eq!(ledger.problems[0].detail, first);
+        let longest = ledger
+            .problems
+            .iter()
+            .map(|p| p.detail.len())
+            .max()
+            .unwrap();
+        assert!(longest < 200, "a message of {longest} bytes");
+    }
+}

@@ -127,7 +127,7 @@ fn resolve(
             let names: Vec<&str> = path.iter().map(|&j| declared[j].id.as_str()).collect();
             let cycle = Err(format!(
                 "extends in a cycle: {} -> {}",
-                names.join(" -> "),
+                shortened_path(&names),
                 d.id
             ));
             memo[at] = Some(cycle.clone());
@@ -164,11 +164,41 @@ fn resolve(
         let b = d.extends.as_deref().unwrap_or_default();
         result = match result {
             Ok(base) => build(d, Some(&base), file),
-            Err(e) => Err(format!("its base `{b}` cannot be built: {e}")),
+            // The first cause only: every image of the chain is reported on its own, and
+            // repeating each base's message inside the next one made the messages of a long
+            // chain grow with the square of its length.
+            Err(e) => Err(format!(
+                "its base `{b}` cannot be built: {}",
+                first_cause(&e)
+            )),
         };
         memo[at] = Some(result.clone());
     }
     result
+}
+
+/// What an image's failure comes down to, without the bases it passed through.
+fn first_cause(message: &str) -> &str {
+    match message.strip_prefix("its base `") {
+        Some(rest) => rest
+            .split_once("` cannot be built: ")
+            .map_or(message, |(_, c)| c),
+        None => message,
+    }
+}
+
+/// A path of image ids for a message, its middle left out past eight: a cycle through
+/// thousands of images is reported for each of them.
+fn shortened_path(names: &[&str]) -> String {
+    if names.len() <= 8 {
+        return names.join(" -> ");
+    }
+    format!(
+        "{} -> ({} more) -> {}",
+        names[..4].join(" -> "),
+        names.len() - 7,
+        names[names.len() - 3..].join(" -> ")
+    )
 }
 
 /// Image `d` on top of its base (already built), or on its own when it extends nothing.
