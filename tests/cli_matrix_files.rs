@@ -30,6 +30,25 @@ fn plan_into(dir: &Path, shard: Option<&str>) -> String {
     format!("{out}/matrix.json")
 }
 
+/// Runs `args` with the demo registry and priorities and an images file in `dir` holding
+/// only `image` (a YAML flow mapping); returns the exit code and stderr.
+fn run_on_one_image(dir: &Path, image: &str, args: &[&str]) -> (i32, String) {
+    let images = dir.join("images.yaml");
+    std::fs::write(&images, format!("images:\n- {image}\n")).unwrap();
+    let mut all = args.to_vec();
+    all.extend([
+        "--quiet",
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+    ]);
+    let (code, _, stderr) = run_basefit(&all);
+    (code, stderr)
+}
+
 #[test]
 fn review_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     let dir = tempfile::tempdir().unwrap();
@@ -73,24 +92,11 @@ fn a_review_that_can_compare_nothing_is_an_input_error() {
         "{stderr}"
     );
     // Results recorded on images the images file does not declare: all are left out.
-    let images = dir.path().join("other-images.yaml");
-    std::fs::write(
-        &images,
-        "images:\n- {id: elsewhere, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
-    )
-    .unwrap();
-    let (code, _, stderr) = run_basefit([
-        "review",
-        "--quiet",
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-        "--results",
-        "demo-data/results.yaml",
-    ]);
+    let (code, stderr) = run_on_one_image(
+        dir.path(),
+        "{id: elsewhere, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}",
+        &["review", "--results", "demo-data/results.yaml"],
+    );
     assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains("of 12 read, 12 were left out"), "{stderr}");
 }
@@ -143,23 +149,12 @@ fn merge_names_the_shard_file_at_fault() {
 #[test]
 fn a_plan_left_with_no_image_names_the_images_file() {
     let dir = tempfile::tempdir().unwrap();
-    let images = dir.path().join("images.yaml");
     // The only image has a runtime that is not a version: it is left out, not fatal.
-    std::fs::write(
-        &images,
-        "images:\n- {id: odd, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
-    )
-    .unwrap();
-    let (code, _, stderr) = run_basefit([
-        "plan",
-        "--quiet",
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-    ]);
+    let (code, stderr) = run_on_one_image(
+        dir.path(),
+        "{id: odd, runtime: soon, family: debian, platform: linux/glibc/x86_64}",
+        &["plan"],
+    );
     assert_eq!(code, 2, "{stderr}");
     assert!(
         stderr.contains("images.yaml: plan needs at least one image: of 1 read, 1 were left out"),
