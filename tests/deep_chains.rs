@@ -150,3 +150,25 @@ fn images_of_a_long_broken_chain_get_short_messages() {
         assert!(longest < 200, "a message of {longest} bytes");
     }
 }
+
+/// The text form of a deep closure tree grows with the number of lines, not with the square
+/// of the depth: indentation stops at a depth no reader follows, and deeper lines give it.
+#[test]
+fn a_deep_closure_tree_reads_as_text_without_growing_with_the_square_of_its_depth() {
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = chain_inputs(dir.path(), None);
+    let e = on_small_stack(move || explain(&inputs, "p0", "deb", &options()).unwrap());
+    let text = basefit::report::text::explain_text(&e);
+    let last = format!("(depth {}) p{} 1.0.0 [source]", DEPTH - 1, DEPTH - 1);
+    assert!(text.contains(&last), "{}", &text[..2000]);
+    let tree_lines = text.lines().filter(|l| l.contains(" 1.0.0"));
+    assert_eq!(tree_lines.clone().count(), DEPTH);
+    let longest = tree_lines.map(str::len).max().unwrap();
+    assert!(longest < 120, "a tree line of {longest} bytes");
+    // Shallow lines keep their indentation: two spaces per level, plus two.
+    assert!(
+        text.contains("\n      p2 1.0.0 [source] (wants *)\n"),
+        "{}",
+        &text[..400]
+    );
+}

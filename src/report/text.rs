@@ -198,6 +198,9 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
     out
 }
 
+/// Closure-tree depth past which `explain_text` stops indenting further.
+const MAX_INDENT: usize = 30;
+
 /// One cell explained for people.
 pub fn explain_text(e: &Explanation) -> String {
     let c = &e.cell;
@@ -212,31 +215,37 @@ pub fn explain_text(e: &Explanation) -> String {
     out.push('\n');
     if !e.tree.is_empty() {
         out.push_str("\nresolved closure:\n");
+        let builds: std::collections::HashMap<&str, String> = c
+            .closure
+            .iter()
+            .map(|p| {
+                let label = serde_json::to_value(p.build)
+                    .ok()
+                    .and_then(|v| v.as_str().map(str::to_owned))
+                    .unwrap_or_default();
+                (p.name.as_str(), format!(" [{label}]"))
+            })
+            .collect();
         for line in &e.tree {
-            let indent = "  ".repeat(line.depth + 1);
+            // Indentation stops growing at a depth no reader follows by eye; deeper lines say
+            // their depth instead. Unbounded, a chain of 50,000 packages wrote gigabytes of
+            // spaces.
+            let indent = "  ".repeat(line.depth.min(MAX_INDENT) + 1);
+            let deep = if line.depth > MAX_INDENT {
+                format!("(depth {}) ", line.depth)
+            } else {
+                String::new()
+            };
             let req = line
                 .requirement
                 .as_deref()
                 .map(|r| format!(" (wants {r})"))
                 .unwrap_or_default();
             let rep = if line.repeated { " (shown above)" } else { "" };
-            let build = c
-                .closure
-                .iter()
-                .find(|p| p.name == line.name)
-                .map(|p| {
-                    format!(
-                        " [{}]",
-                        serde_json::to_value(p.build)
-                            .ok()
-                            .and_then(|v| v.as_str().map(str::to_owned))
-                            .unwrap_or_default()
-                    )
-                })
-                .unwrap_or_default();
+            let build = builds.get(line.name.as_str()).map_or("", String::as_str);
             let _ = writeln!(
                 out,
-                "{indent}{} {}{build}{req}{rep}",
+                "{indent}{deep}{} {}{build}{req}{rep}",
                 line.name, line.version
             );
         }
