@@ -10,19 +10,19 @@ pub struct Table {
     /// Size of the input in bytes when it is a file: lets readers size their buffers once.
     pub byte_len: Option<u64>,
     columns: Vec<String>,
-    reader: csv::Reader<Tally<Box<dyn std::io::Read + Send>>>,
+    reader: csv::Reader<CountingInput<Box<dyn std::io::Read + Send>>>,
 }
 
 /// The input as the csv crate reads it, with what [`Table::next_into`] needs to tell whether
 /// a record ended with a line break: only the last record of a file can end without one.
-struct Tally<R> {
+struct CountingInput<R> {
     input: R,
     delivered: u64,
     last: Option<u8>,
     ended: bool,
 }
 
-impl<R: std::io::Read> std::io::Read for Tally<R> {
+impl<R: std::io::Read> std::io::Read for CountingInput<R> {
     fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
         let n = self.input.read(buf)?;
         if n == 0 && !buf.is_empty() {
@@ -247,7 +247,7 @@ impl Table {
         let mut reader = csv::ReaderBuilder::new()
             .flexible(true)
             .terminator(csv::Terminator::Any(b'\n'))
-            .from_reader(Tally {
+            .from_reader(CountingInput {
                 input,
                 delivered: 0,
                 last: None,
