@@ -378,15 +378,15 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         .get(&crate::load::diag::RecordKind::Result)
         .cloned()
         .unwrap_or_default();
+    let results_files: Vec<String> = o
+        .inputs
+        .results
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect();
     if results_read.read == 0 {
-        let files: Vec<String> = o
-            .inputs
-            .results
-            .iter()
-            .map(|p| p.display().to_string())
-            .collect();
         return Err(BadInput::file(
-            files.join(", "),
+            results_files.join(", "),
             "holds no recorded install result: nothing to review",
         )
         .into());
@@ -429,7 +429,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     if review.cells.is_empty() {
         let tally = results_read;
         return Err(BadInput::file(
-            "command line",
+            results_files.join(", "),
             format!(
                 "no recorded result could be compared with the predictions: of {} read, {} were left out (`basefit check` lists why) and {} name cells the matrix does not have",
                 tally.read,
@@ -586,13 +586,23 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let mut out = Output::default();
     if let Some(dir) = &o.out {
         let mut files = vec![(dir.join("imageplan.yaml"), report::to_yaml(&p).into_bytes())];
-        // One chart per base image; the first keeps the plain name the docs promise.
+        // One chart per base image; the first keeps the plain name the docs promise. Ids that
+        // make the same file name (`arm:3.2` and `arm/3.2`) get a number each after the first,
+        // so no chart overwrites another.
+        let mut taken = std::collections::HashSet::new();
         for (i, c) in p.coverage.iter().enumerate() {
-            let name = if i == 0 {
-                "coverage.svg".to_string()
+            let stem = if i == 0 {
+                "coverage".to_string()
             } else {
-                format!("coverage-{}.svg", sanitize(&c.base_image))
+                format!("coverage-{}", sanitize(&c.base_image))
             };
+            let name = (1..)
+                .map(|k| match k {
+                    1 => format!("{stem}.svg"),
+                    k => format!("{stem}-{k}.svg"),
+                })
+                .find(|name| taken.insert(name.clone()))
+                .expect("some number is free");
             files.push((dir.join(name), plan::coverage::coverage_svg(c).into_bytes()));
         }
         report::write_all_atomic(&files)?;

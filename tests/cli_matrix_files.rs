@@ -98,7 +98,11 @@ fn a_review_that_can_compare_nothing_is_an_input_error() {
         &["review", "--results", "demo-data/results.yaml"],
     );
     assert_eq!(code, 2, "{stderr}");
-    assert!(stderr.contains("of 12 read, 12 were left out"), "{stderr}");
+    assert!(
+        stderr.contains("demo-data/results.yaml: no recorded result could be compared")
+            && stderr.contains("of 12 read, 12 were left out"),
+        "{stderr}"
+    );
 }
 
 #[test]
@@ -184,4 +188,51 @@ fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
     assert!(left.iter().all(|n| !n.contains(".tmp-")), "{left:?}");
+}
+
+#[test]
+fn coverage_charts_of_images_whose_ids_make_one_file_name_do_not_overwrite_each_other() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = dir.path().join("images.yaml");
+    // Three base images (one per family and platform); the last two ids differ only in a
+    // character a file name cannot hold.
+    std::fs::write(
+        &images,
+        "images:\n\
+         - {id: deb-3.2, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}\n\
+         - {id: 'arm:3.2', runtime: 3.2.0, family: debian, platform: linux/glibc/aarch64}\n\
+         - {id: arm/3.2, runtime: 3.2.0, family: alpine, platform: linux/musl/aarch64}\n",
+    )
+    .unwrap();
+    let out = dir.path().join("out");
+    let (code, _, stderr) = run_basefit([
+        "imageplan",
+        "--quiet",
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let mut charts: Vec<String> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".svg"))
+        .collect();
+    charts.sort();
+    assert_eq!(
+        charts,
+        [
+            "coverage-arm_3.2-2.svg",
+            "coverage-arm_3.2.svg",
+            "coverage.svg"
+        ]
+    );
+    let first = std::fs::read_to_string(out.join("coverage-arm_3.2.svg")).unwrap();
+    let second = std::fs::read_to_string(out.join("coverage-arm_3.2-2.svg")).unwrap();
+    assert!(first.contains("arm:3.2") && second.contains("arm/3.2"));
 }

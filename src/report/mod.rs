@@ -36,12 +36,18 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 
 /// Writes several files that belong together (a matrix as YAML and JSON, a rendered set):
 /// every one goes to a temporary file first, and only when all are written are they renamed
-/// into place, so a failure leaves the old set whole rather than half replaced. A name taken
-/// by a folder is refused before anything is written.
+/// into place, so a failure to write leaves the old set whole rather than half replaced. What
+/// would make a rename fail is refused before anything is written: a name a folder holds, or
+/// one file named twice. A rename can still fail midway for reasons no check foresees (the
+/// disk removed, say), and then the files renamed so far stay new.
 pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<()> {
+    let mut names = std::collections::HashSet::new();
     for (path, _) in files {
         if path.is_dir() {
             anyhow::bail!("cannot write {}: a folder has that name", path.display());
+        }
+        if !names.insert(path) {
+            anyhow::bail!("cannot write {} twice in one set of files", path.display());
         }
     }
     let mut staged: Vec<(PathBuf, &Path)> = Vec::with_capacity(files.len());
@@ -106,4 +112,28 @@ pub fn to_json<T: Serialize>(value: &T) -> String {
 /// YAML as serde_yaml writes it.
 pub fn to_yaml<T: Serialize>(value: &T) -> String {
     serde_yaml::to_string(value).expect("report values serialize")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_set_naming_one_file_twice_writes_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("matrix.json");
+        std::fs::write(&path, "old").unwrap();
+        let set = [
+            (path.clone(), b"one".to_vec()),
+            (path.clone(), b"two".to_vec()),
+        ];
+        let err = write_all_atomic(&set).unwrap_err();
+        assert!(err.to_string().contains("twice"), "{err}");
+        assert_eq!(std::fs::read_to_string(&path).unwrap(), "old");
+        assert_eq!(
+            std::fs::read_dir(dir.path()).unwrap().count(),
+            1,
+            "no temporary file left"
+        );
+    }
 }
