@@ -14,11 +14,15 @@ pub struct Table {
 }
 
 /// The input as the csv crate reads it, with what [`Table::next_into`] needs to tell whether
-/// a record ended with a line break: only the last record of a file can end without one.
+/// a record ended with a line break (only the last record of a file can end without one) and
+/// whether the file ended inside a quoted cell.
 struct CountingInput<R> {
     input: R,
     delivered: u64,
     last: Option<u8>,
+    /// The last byte read that is not white space: a closing quote when the file's last cell
+    /// was quoted and closed.
+    last_visible: Option<u8>,
     ended: bool,
 }
 
@@ -30,6 +34,9 @@ impl<R: std::io::Read> std::io::Read for CountingInput<R> {
         }
         if let Some(&b) = buf[..n].last() {
             self.last = Some(b);
+        }
+        if let Some(&b) = buf[..n].iter().rev().find(|b| !b.is_ascii_whitespace()) {
+            self.last_visible = Some(b);
         }
         self.delivered += n as u64;
         Ok(n)
@@ -251,6 +258,7 @@ impl Table {
                 input,
                 delivered: 0,
                 last: None,
+                last_visible: None,
                 ended: false,
             });
         let headers = reader
@@ -310,7 +318,19 @@ impl Table {
             match self.reader.read_record(&mut row.record) {
                 Ok(false) => return Ok(false),
                 Ok(true) => {
-                    row.line = self.first_line(&row.record);
+                    let unclosed = self.ends_in_open_quote(&row.record);
+                    row.line = self.first_line(&row.record, unclosed);
+                    if unclosed {
+                        // The csv crate reads an unclosed quote to the end of the file, so
+                        // every line after it would vanish into one cell uncounted.
+                        return Err(BadInput::at(
+                            &self.file,
+                            row.line,
+                            "a quoted cell in this row is never closed: every line after it \
+                             would be read into that cell (a `\"` missing, or one that should \
+                             have been doubled)",
+                        ));
+                    }
                     if !self.check_width(&row.record, row.line)? {
                         return Ok(true);
                     }
@@ -324,11 +344,14 @@ impl Table {
     /// the line of the first blank one (it skips them itself), but it counts every line break
     /// it reads: the breaks between where it started and where it stopped are the skipped
     /// blank lines, the breaks inside quoted cells and the one ending the record.
-    fn first_line(&self, record: &csv::StringRecord) -> usize {
+    /// `unclosed`: the record ran to the end of the file inside a quote, so it has no line
+    /// break of its own whatever its text ends with.
+    fn first_line(&self, record: &csv::StringRecord, unclosed: bool) -> usize {
         let start = line_of(record);
         let end = self.reader.position();
         let input = self.reader.get_ref();
-        let ends_file = input.ended && end.byte() == input.delivered && input.last != Some(b'\n');
+        let ends_file =
+            unclosed || (input.ended && end.byte() == input.delivered && input.last != Some(b'\n'));
         let breaks = (end.line() as usize).saturating_sub(start);
         let beyond = breaks.saturating_sub(usize::from(!ends_file));
         if beyond == 0 {
@@ -336,6 +359,21 @@ impl Table {
         }
         let inside = record.as_slice().bytes().filter(|&b| b == b'\n').count();
         start + beyond.saturating_sub(inside)
+    }
+
+    /// Whether `record` ran to the end of the file inside a quoted cell. Only a quoted cell
+    /// holds a line feed (a carriage return is ordinary text to a reader that ends lines at
+    /// `\n`), and one that was closed leaves its quote as the file's last visible byte; an
+    /// unclosed one ends the file with its own text.
+    fn ends_in_open_quote(&self, record: &csv::StringRecord) -> bool {
+        let input = self.reader.get_ref();
+        input.ended
+            && self.reader.position().byte() == input.delivered
+            && record
+                .iter()
+                .next_back()
+                .is_some_and(|cell| cell.contains('\n'))
+            && input.last_visible != Some(b'"')
     }
 
     /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
@@ -503,6 +541,54 @@ mod tests {
         let whole = read(Box::new(text.as_bytes()));
         assert_eq!(read(Box::new(Trickle(text.as_bytes()))), whole, "{text:?}");
         whole
+    }
+
+    /// The rows read before the first error, and that error's line and message, read whole
+    /// and one byte at a time (both must agree).
+    fn until_error(text: &'static str) -> (Vec<usize>, Option<(Option<usize>, String)>) {
+        let read = |input: Box<dyn std::io::Read + Send>| {
+            let mut table = Table::from_reader("t.csv", input, &["a", "b"], &["a"]).unwrap();
+            let mut seen = Vec::new();
+            loop {
+                match table.next_row() {
+                    Ok(Some(row)) => seen.push(row.line),
+                    Ok(None) => return (seen, None),
+                    Err(e) => return (seen, Some((e.line, e.message))),
+                }
+            }
+        };
+        let whole = read(Box::new(text.as_bytes()));
+        assert_eq!(read(Box::new(Trickle(text.as_bytes()))), whole, "{text:?}");
+        whole
+    }
+
+    #[test]
+    fn a_quoted_cell_left_open_to_the_end_of_the_file_is_an_error_at_its_row() {
+        // The csv crate would hand back `y` with the rest of the file as its second cell.
+        for text in [
+            "a,b\nx,1\ny,\"2\nz,3\nw,4\n",
+            "a,b\nx,1\ny,\"2\nz,3\nw,4",
+            "a,b\r\nx,1\r\ny,\"2\r\nz,3\r\n",
+        ] {
+            let (seen, error) = until_error(text);
+            assert_eq!(seen, [2], "{text:?}");
+            let (line, message) = error.expect(text);
+            assert_eq!(line, Some(3), "{text:?}");
+            assert!(message.contains("never closed"), "{message}");
+        }
+        // After a blank line, and with the open cell's own text ending in a line feed.
+        let (seen, error) = until_error("a,b\nx,1\n\ny,\"2\n");
+        assert_eq!((seen, error.map(|e| e.0)), (vec![2], Some(Some(4))));
+        // Closed quoted cells that hold line breaks, at the very end too, are rows as usual;
+        // so is a last line ended by a carriage return alone.
+        for text in [
+            "a,b\nx,\"1\n2\"",
+            "a,b\nx,\"1\n2\"\n\n",
+            "a,b\r\nx,\"1\r\n2\"\r\n",
+            "a,b\r\nx,1\r",
+        ] {
+            assert_eq!(until_error(text), (vec![2], None), "{text:?}");
+        }
     }
 
     fn rows(pairs: &[(usize, &str)]) -> Vec<(usize, String)> {
