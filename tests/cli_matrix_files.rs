@@ -16,16 +16,22 @@ const DEMO: [&str; 6] = [
     "demo-data/priorities.yaml",
 ];
 
+/// Runs `command` quietly on the demo inputs, then `rest`; returns (exit code, stdout, stderr).
+fn run_on_demo(command: &str, rest: &[&str]) -> (i32, String, String) {
+    let mut args = vec![command, "--quiet"];
+    args.extend(DEMO);
+    args.extend(rest);
+    run_basefit(&args)
+}
+
 /// Plans the demo into `dir` (optionally one shard of it) and returns the matrix.json path.
 fn plan_into(dir: &Path, shard: Option<&str>) -> String {
-    let mut args = vec!["plan", "--quiet"];
-    args.extend(DEMO);
-    if let Some(s) = shard {
-        args.extend(["--shard", s]);
-    }
     let out = dir.to_str().unwrap();
-    args.extend(["--out", out]);
-    let (code, _, stderr) = run_basefit(&args);
+    let mut rest = vec!["--out", out];
+    if let Some(s) = shard {
+        rest.extend(["--shard", s]);
+    }
+    let (code, _, stderr) = run_on_demo("plan", &rest);
     assert_eq!(code, 0, "{stderr}");
     format!("{out}/matrix.json")
 }
@@ -66,10 +72,10 @@ fn review_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains("--images"), "{stderr}");
     // With them, the demo's two surprises are found (demo-data/expected.yaml).
-    let mut args = vec!["review", "--quiet", "--matrix", &matrix];
-    args.extend(DEMO);
-    args.extend(["--results", "demo-data/results.yaml"]);
-    let (code, stdout, stderr) = run_basefit(&args);
+    let (code, stdout, stderr) = run_on_demo(
+        "review",
+        &["--matrix", &matrix, "--results", "demo-data/results.yaml"],
+    );
     assert_eq!(code, 1, "{stderr}");
     assert!(
         stdout.contains("11 cells with recorded results"),
@@ -82,10 +88,7 @@ fn a_review_that_can_compare_nothing_is_an_input_error() {
     let dir = tempfile::tempdir().unwrap();
     let empty = dir.path().join("empty-results.yaml");
     std::fs::write(&empty, "results: []\n").unwrap();
-    let mut args = vec!["review", "--quiet"];
-    args.extend(DEMO);
-    args.extend(["--results", empty.to_str().unwrap()]);
-    let (code, _, stderr) = run_basefit(&args);
+    let (code, _, stderr) = run_on_demo("review", &["--results", empty.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
     assert!(
         stderr.contains("empty-results.yaml") && stderr.contains("no recorded install result"),
@@ -172,10 +175,7 @@ fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
     let out = dir.path().join("out");
     std::fs::create_dir_all(out.join("matrix.json")).unwrap();
     std::fs::write(out.join("matrix.yaml"), "old\n").unwrap();
-    let mut args = vec!["plan", "--quiet"];
-    args.extend(DEMO);
-    args.extend(["--out", out.to_str().unwrap()]);
-    let (code, _, stderr) = run_basefit(&args);
+    let (code, _, stderr) = run_on_demo("plan", &["--out", out.to_str().unwrap()]);
     assert_ne!(code, 0, "{stderr}");
     assert!(stderr.contains("matrix.json"), "{stderr}");
     assert_eq!(
