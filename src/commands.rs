@@ -104,12 +104,7 @@ fn require_matrix_inputs(
                 ),
             ));
         };
-        let tally = inputs
-            .ledger
-            .tallies
-            .get(&kind)
-            .cloned()
-            .unwrap_or_default();
+        let tally = inputs.ledger.tally(kind);
         return Err(BadInput::file(
             path.display().to_string(),
             format!(
@@ -372,12 +367,7 @@ pub struct ReviewCommand {
 /// `review`: recorded results against predictions. Exit 1 when surprises exceed the limit.
 pub fn review(o: &ReviewCommand) -> Result<Output> {
     let mut inputs = load(&o.inputs, o.strict)?;
-    let results_read = inputs
-        .ledger
-        .tallies
-        .get(&crate::load::diag::RecordKind::Result)
-        .cloned()
-        .unwrap_or_default();
+    let results_read = inputs.ledger.tally(crate::load::diag::RecordKind::Result);
     let results_files: Vec<String> = o
         .inputs
         .results

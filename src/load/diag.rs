@@ -235,6 +235,11 @@ pub struct Ledger {
 }
 
 impl Ledger {
+    /// The counts for one kind of record; all zero when none was read.
+    pub fn tally(&self, kind: RecordKind) -> Tally {
+        self.tallies.get(&kind).cloned().unwrap_or_default()
+    }
+
     pub fn read(&mut self, kind: RecordKind) {
         self.tallies.entry(kind).or_default().read += 1;
     }

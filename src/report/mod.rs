@@ -31,7 +31,7 @@ pub enum Format {
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an
 /// interrupted run never leaves half a file behind.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
-    write_all_atomic(&[(path.to_path_buf(), bytes.to_vec())])
+    write_all_atomic(&[(path.to_path_buf(), bytes)])
 }
 
 /// Writes several files that belong together (a matrix as YAML and JSON, a rendered set):
@@ -40,7 +40,7 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 /// would make a rename fail is refused before anything is written: a name a folder holds, or
 /// one file named twice. A rename can still fail midway for reasons no check foresees (the
 /// disk removed, say), and then the files renamed so far stay new.
-pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<()> {
+pub fn write_all_atomic<B: AsRef<[u8]>>(files: &[(PathBuf, B)]) -> Result<()> {
     let mut names = std::collections::HashSet::new();
     for (path, _) in files {
         if path.is_dir() {
@@ -52,7 +52,7 @@ pub fn write_all_atomic(files: &[(PathBuf, Vec<u8>)]) -> Result<()> {
     }
     let mut staged: Vec<(PathBuf, &Path)> = Vec::with_capacity(files.len());
     let staging = files.iter().try_for_each(|(path, bytes)| -> Result<()> {
-        let tmp = stage(path, bytes)?;
+        let tmp = stage(path, bytes.as_ref())?;
         staged.push((tmp, path));
         Ok(())
     });
