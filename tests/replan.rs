@@ -555,26 +555,37 @@ fn an_admissible_release_inside_a_requirement_but_outside_every_range_asked_keep
   - {{version: 1.0.0, depends: [{{name: lib, req: '^1'}}]}}
 - name: lib
   versions:
-  - {{version: 1.0.0}}
-  - {{version: 1.4.0}}
-  - {{version: 1.5.0}}
+  - {{version: 1.0.0, native: {{libraries: [one]}}}}
+  - {{version: 1.4.0, native: {{libraries: [two]}}}}
+  - {{version: 1.5.0, native: {{libraries: [three]}}}}
 {extra}"
         )
     };
-    let (warm, stats, cold) = warm_and_cold(
-        &registry(""),
-        &registry("  - {version: 1.6.0}\n"),
-        &["app", "mid"],
-        &PlanOptions::default(),
-    );
-    let cold = cold.matrix;
-    assert!(to_json(&warm.matrix) == to_json(&cold));
-    // app's cell is reused; mid's, whose range `^1` now holds 1.6.0, is solved again.
-    assert_eq!((stats.reused, stats.solved), (1, 1));
-    assert!(
-        to_json(&cold).contains("\"1.6.0\""),
-        "mid now picks lib 1.6.0"
-    );
+    // app's cell is reused. mid's range `^1` now holds 1.6.0: a look-alike of 1.5.0 stands
+    // in for it in a reused cell; one that declares another native library is solved again.
+    // (Each release declares its own library, so that none looks like another.)
+    for (published, solved) in [
+        ("  - {version: 1.6.0, native: {libraries: [three]}}\n", 0),
+        ("  - {version: 1.6.0, native: {libraries: [four]}}\n", 1),
+    ] {
+        let (warm, stats, cold) = warm_and_cold(
+            &registry(""),
+            &registry(published),
+            &["app", "mid"],
+            &PlanOptions::default(),
+        );
+        let cold = cold.matrix;
+        assert!(to_json(&warm.matrix) == to_json(&cold), "{published}");
+        assert_eq!(
+            (stats.reused, stats.solved),
+            (2 - solved, solved),
+            "{published}"
+        );
+        assert!(
+            to_json(&cold).contains("\"1.6.0\""),
+            "mid now picks lib 1.6.0"
+        );
+    }
 }
 
 #[test]
@@ -759,7 +770,7 @@ fn beside(app_releases: &str, p_releases: &str) -> String {
 }
 
 #[test]
-fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it() {
+fn a_look_alike_of_the_newest_release_keeps_the_cell_and_takes_the_old_ones_place() {
     let p = |tail: &str| {
         format!("  - {{version: 1.0.0, runtime: '>=1'}}\n  - {{version: 1.1.0}}\n{tail}")
     };
@@ -798,7 +809,7 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
         usize,
         &'a str,
     );
-    let cases: [Case; 7] = [
+    let cases: [Case; 10] = [
         // p 1.2.0 declares what 1.1.0 does: a cold solve decides it where it decided 1.1.0,
         // and fails the same way.
         (
@@ -838,17 +849,17 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
             1,
             "a yanked look-alike",
         ),
-        // A solution names the release it picked: p's own cell installs and must change.
+        // p's own cell installs: a cold solve picks 1.2.0 where it picked 1.1.0, and the
+        // reused cell names 1.2.0 as its root and in its closure.
         (
             before.clone(),
             failing_beside(&p(one_more)),
             &["app", "p"],
             &options,
-            1,
+            0,
             "an installing cell",
         ),
-        // A solution that leaves p out is kept, but only where the cell lists its closure:
-        // without it, the cell cannot show that p is not in it.
+        // A solution that leaves p out is kept, with or without its closure listed.
         (
             dropped(""),
             dropped(one_more),
@@ -862,8 +873,48 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
             dropped(one_more),
             &["app"],
             &no_closures,
-            1,
+            0,
             "p left out, closures not kept",
+        ),
+        // p in the closure of app's solution, shown with and without the closure listed.
+        (
+            dropped(""),
+            beside(
+                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+                &p(one_more),
+            ),
+            &["app"],
+            &options,
+            1,
+            "app now needs p",
+        ),
+        (
+            beside(
+                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+                &p(""),
+            ),
+            beside(
+                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+                &p(one_more),
+            ),
+            &["app", "p"],
+            &options,
+            0,
+            "p in app's closure",
+        ),
+        (
+            beside(
+                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+                &p(""),
+            ),
+            beside(
+                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+                &p(one_more),
+            ),
+            &["app", "p"],
+            &no_closures,
+            0,
+            "p in app's closure, closures not kept",
         ),
     ];
     for (before, after, names, options, solved, what) in cases {
@@ -876,6 +927,15 @@ fn a_look_alike_of_the_newest_release_keeps_a_cell_whose_answer_does_not_name_it
             "{what}: warm cache differs from cold"
         );
         assert_eq!(stats.solved, solved, "{what}");
+        // Where the cold answer names p, it names the new release: the reused cell was
+        // rewritten, not merely kept.
+        let cold_json = to_json(&cold.matrix);
+        if cold_json.contains("\"name\": \"p\"") || names.contains(&"p") {
+            assert!(
+                cold_json.contains("\"1.2.0\"") && !cold_json.contains("\"1.1.0\""),
+                "{what}: {cold_json}"
+            );
+        }
     }
 }
 

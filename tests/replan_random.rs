@@ -256,6 +256,43 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
     }
 }
 
+/// Publishes a look-alike just after the newest release of a package that some installing
+/// cell picked at that release, so that a reused cell must name the new release where it
+/// named the old one.
+fn publish_over_picked(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'static str {
+    let registry = &inputs.registry;
+    let mut picked: Vec<PackageId> = Vec::new();
+    for cell in &cache.matrix.cells {
+        for pinned in &cell.closure {
+            if let Some(id) = registry.id(&pinned.name)
+                && registry
+                    .package(id)
+                    .releases
+                    .last()
+                    .is_some_and(|r| r.version.to_string() == pinned.version)
+                && !picked.contains(&id)
+            {
+                picked.push(id);
+            }
+        }
+    }
+    if picked.is_empty() {
+        return "nothing";
+    }
+    let id = picked[rng.below(picked.len())];
+    let releases = &mut inputs.registry.package_mut(id).releases;
+    let mut next: Release = releases[releases.len() - 1].clone();
+    next.version.patch += 1;
+    next.version.pre = semver::Prerelease::EMPTY;
+    next.version.build = semver::BuildMetadata::EMPTY;
+    next.raw_version = None;
+    if next.version <= releases[releases.len() - 1].version {
+        return "nothing";
+    }
+    releases.push(next);
+    "look-alike of a picked newest release"
+}
+
 /// Rounds of edits per seed, each to about 1% of the packages: few enough that most cells
 /// survive a round, so a re-plan that kept a cell it should have solved again shows.
 const ROUNDS: usize = 6;
@@ -293,6 +330,8 @@ fn warm_replans_equal_cold_plans_under_random_edits() {
             }
             // And one release whose admission decided a choice changes sides.
             done.push(flip_observed(&mut inputs, &cache, &mut rng));
+            // And one picked newest release gains a look-alike.
+            done.push(publish_over_picked(&mut inputs, &cache, &mut rng));
             if round == ROUNDS - 1 {
                 // A name the priorities asked for appears in the registry.
                 let mut builder = RegistryBuilder::new();

@@ -28,11 +28,11 @@
 //! one release since, published just after it and declaring exactly what it declares (a
 //! look-alike, [`Release::same_shape`]): a cold solve would decide the new release where the
 //! old one was decided, step for step, as long as no range it asked about split the old
-//! newest release from the stretch after it (see `stands_in`). Its answer is then the same
-//! unless it names a release of that package: a failure's explanation never does (those
-//! packages must be unchanged), nor does a solve that gave up, and a solution does when the
-//! package is in its closure. The basis then reads the new release where it read the old
-//! one.
+//! newest release from the stretch after it (see `stands_in`). Its answer is then the old one
+//! with the new release wherever that named the old: a failure's explanation never does
+//! (those packages must be unchanged), nor does a solve that gave up, and a solution does as
+//! its root or in its closure, which the reused cell is rewritten to show
+//! (`stand_in_output`). The basis then reads the new release where it read the old one.
 //!
 //! Anything that could enter a closure was consulted, because a package can only enter
 //! through a dependency of a release the solve read. Exact, and cheap to check.
@@ -768,7 +768,6 @@ fn recheck(
     standing: &[Standing],
     view: &LazyView<'_>,
     prints: &PrintTable<'_>,
-    cached: &Cell,
 ) -> Option<Updates> {
     let registry = view.registry;
     let unchanged = |k: u32| matches!(standing.get(k as usize), Some(Standing::Unchanged(_)));
@@ -917,9 +916,7 @@ fn recheck(
             if run.covers(mate) {
                 if new >= ceiling {
                     unfit.push(new);
-                } else if names_no_release_of(cached, &old[run.package as usize].name)
-                    && stands_in(view, id, count, mate, new, &run)
-                {
+                } else if stands_in(view, id, count, mate, new, &run) {
                     stand_in = Some(mate);
                 } else {
                     return None;
@@ -970,9 +967,9 @@ fn update_of(updates: &mut Updates, package: u32, ceiling: u32) -> &mut Update {
 /// and `new` together or neither: the same newest pick, with `new` for `mate`, and the same
 /// candidate count, since the run of look-alikes at the ceiling counts once and `new` only
 /// lengthens it. The dependencies read for `new` are those read for `mate`. The output is then
-/// the same wherever it names no release of `package` (the caller checks that: a solution that
-/// keeps the package names `new` where it named `mate`). A release that depends on its own
-/// package is left out: the refusal that follows names the release in text.
+/// the same with `new` wherever it named `mate` (`stand_in_output` rewrites a reused cell so).
+/// A release that depends on its own package is left out: the refusal that follows names the
+/// release in text.
 fn stands_in(
     view: &ImageView<'_>,
     package: PackageId,
@@ -995,14 +992,36 @@ fn stands_in(
             .all(|d| d.package != package)
 }
 
-/// Whether a cached cell's output names no release of package `name`, as far as the cell
-/// shows. A solve that failed or gave up names releases only in its explanation, whose
-/// packages a basis keeps whole ([`CellBasis::unchanged`]). A solution names the releases
-/// of its closure, which the cell lists only when closures were kept; without the list it
-/// cannot tell.
-fn names_no_release_of(cell: &Cell, name: &str) -> bool {
-    cell.root_version.is_none()
-        || (cell.closure.len() == cell.closure_size && cell.closure.iter().all(|p| p.name != name))
+/// A reused cell's output as a cold solve on the current registry gives it: where a look-alike
+/// stands in for the newest release of a package ([`Update::stand_in`]), a solution names the
+/// new release wherever it named the old one, as its root and in its closure (see
+/// `stands_in`). Nothing else a cell shows reads a release's version: native evidence and
+/// build kinds come from what the two releases share, and a failure's explanation names only
+/// packages that must be unchanged.
+fn stand_in_output(cell: &mut Cell, updates: &Updates, old: &[CachedPackage], registry: &Registry) {
+    for update in updates {
+        let Some(mate) = update.stand_in else {
+            continue;
+        };
+        let name = &old[update.package as usize].name;
+        let Some(id) = registry.id(name) else {
+            continue;
+        };
+        let releases = &registry.package(id).releases;
+        let (Some(was), Some(now)) = (releases.get(mate as usize), releases.get(mate as usize + 1))
+        else {
+            continue;
+        };
+        let (was, now) = (was.version.to_string(), now.version.to_string());
+        if cell.package == **name && cell.root_version.as_deref() == Some(was.as_str()) {
+            cell.root_version = Some(now.clone());
+        }
+        for pinned in &mut cell.closure {
+            if pinned.name == **name && pinned.version == was {
+                pinned.version = now.clone();
+            }
+        }
+    }
 }
 
 /// A solve's observations as [`CellBasis::packages`], [`CellBasis::lengths`] and
@@ -1202,7 +1221,6 @@ pub fn replan(
                     &standing,
                     &views[col],
                     &prints,
-                    &old_cells[k],
                 )
             {
                 let basis = &old_bases[k];
@@ -1336,10 +1354,15 @@ pub fn replan(
         .zip(moves)
         .map(|((source, _, _), last)| match source {
             Source::Solved(cell) => *cell,
-            Source::Reused(k, _) if last => {
-                std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))
+            Source::Reused(k, updates) => {
+                let mut cell = if last {
+                    std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))
+                } else {
+                    old_cells[k].clone()
+                };
+                stand_in_output(&mut cell, &updates, &old_packages, registry);
+                cell
             }
-            Source::Reused(k, _) => old_cells[k].clone(),
         })
         .collect();
     let matrix = Matrix {
