@@ -116,6 +116,65 @@ fn require_matrix_inputs(
     Ok(())
 }
 
+/// The note that inputs had data-quality problems, for stderr: records were left out or
+/// changed, and a report should not pass for one built on clean inputs.
+fn data_quality_note(inputs: &Inputs, out: &mut Output) {
+    if !inputs.ledger.is_clean() {
+        out.stderr.push(format!(
+            "note: {} data-quality problems in the inputs (run `basefit check` for the list)",
+            inputs.ledger.problems.len()
+        ));
+    }
+}
+
+/// The recorded-results files given, for messages.
+fn results_files(paths: &InputPaths) -> String {
+    paths
+        .results
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Refuses recorded results set against a matrix read from a file without the inputs they are
+/// read against: without the images and the registry every result would be left out, and an
+/// empty comparison would pass for a clean one.
+fn require_results_context(inputs: &Inputs, command: &str) -> Result<(), BadInput> {
+    if inputs.images.images.is_empty() || inputs.registry.packages.is_empty() {
+        return Err(BadInput::file(
+            "command line",
+            format!(
+                "{command} --matrix with --results needs the --images and the registry (--registry or --bulk) the matrix was planned from: recorded results are read against them"
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Compares `matrix` with the recorded results, refusing a comparison of nothing: a review
+/// or rendering with every result left out would pass for one where all agree.
+fn review_results(
+    matrix: &Matrix,
+    inputs: &Inputs,
+    paths: &InputPaths,
+) -> Result<crate::verify::Review, BadInput> {
+    let review = crate::verify::compare_inputs(matrix, inputs);
+    if review.cells.is_empty() {
+        let tally = inputs.ledger.tally(crate::load::diag::RecordKind::Result);
+        return Err(BadInput::file(
+            results_files(paths),
+            format!(
+                "no recorded result could be compared with the predictions: of {} read, {} were left out (`basefit check` lists why) and {} name cells the matrix does not have",
+                tally.read,
+                tally.left_out,
+                review.outside_matrix.len()
+            ),
+        ));
+    }
+    Ok(review)
+}
+
 pub struct CheckOptions {
     pub inputs: InputPaths,
     pub strict: bool,
@@ -187,18 +246,9 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Format::Json => {
             report::to_json(&serde_json::json!({ "summary": summary, "shared_blockers": shared }))
         }
-        _ => {
-            let mut s = String::new();
-            if !inputs.ledger.is_clean() {
-                s.push_str(&format!(
-                    "note: {} data-quality problems in the inputs (run `basefit check` for the list)\n\n",
-                    inputs.ledger.problems.len()
-                ));
-            }
-            s.push_str(&text::plan_text(&summary, &shared));
-            s
-        }
+        _ => text::plan_text(&summary, &shared),
     };
+    data_quality_note(&inputs, &mut out);
     Ok(out)
 }
 
@@ -368,30 +418,16 @@ pub struct ReviewCommand {
 pub fn review(o: &ReviewCommand) -> Result<Output> {
     let mut inputs = load(&o.inputs, o.strict)?;
     let results_read = inputs.ledger.tally(crate::load::diag::RecordKind::Result);
-    let results_files: Vec<String> = o
-        .inputs
-        .results
-        .iter()
-        .map(|p| p.display().to_string())
-        .collect();
     if results_read.read == 0 {
         return Err(BadInput::file(
-            results_files.join(", "),
+            results_files(&o.inputs),
             "holds no recorded install result: nothing to review",
         )
         .into());
     }
     let matrix = match &o.matrix {
         Some(p) => {
-            // Results are read against the images and the registry: without them every one
-            // would be left out, and an empty review would pass for a clean one.
-            if inputs.images.images.is_empty() || inputs.registry.packages.is_empty() {
-                return Err(BadInput::file(
-                    "command line",
-                    "review --matrix needs the --images and the registry (--registry or --bulk) the matrix was planned from: recorded results are read against them",
-                )
-                .into());
-            }
+            require_results_context(&inputs, "review")?;
             read_matrix(p)?
         }
         None => {
@@ -415,27 +451,16 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             plan::plan(&inputs, &o.plan)
         }
     };
-    let review = crate::verify::compare_inputs(&matrix, &inputs);
-    if review.cells.is_empty() {
-        let tally = results_read;
-        return Err(BadInput::file(
-            results_files.join(", "),
-            format!(
-                "no recorded result could be compared with the predictions: of {} read, {} were left out (`basefit check` lists why) and {} name cells the matrix does not have",
-                tally.read,
-                tally.left_out,
-                review.outside_matrix.len()
-            ),
-        )
-        .into());
-    }
+    let review = review_results(&matrix, &inputs, &o.inputs)?;
     let surprises = review.surprises();
-    Ok(Output::report(
+    let mut out = Output::report(
         o.format,
         &review,
-        |v| text::review_text(v, &inputs.ledger),
+        text::review_text,
         surprises > o.max_surprises,
-    ))
+    );
+    data_quality_note(&inputs, &mut out);
+    Ok(out)
 }
 
 pub struct DiffCommand {
@@ -650,7 +675,12 @@ pub struct RenderCommand {
 pub fn render(o: &RenderCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     let mut matrix = match &o.matrix {
-        Some(p) => read_matrix(p)?,
+        Some(p) => {
+            if !o.inputs.results.is_empty() {
+                require_results_context(&inputs, "render")?;
+            }
+            read_matrix(p)?
+        }
         None => {
             if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
                 return Err(BadInput::file(
@@ -662,11 +692,14 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             plan::plan(&inputs, &o.plan)
         }
     };
-    if !inputs.results.is_empty() {
-        let review = crate::verify::compare_inputs(&matrix, &inputs);
+    // Results given but none usable are refused as in `review`, not rendered as a matrix
+    // without recorded installs.
+    if !o.inputs.results.is_empty() {
+        let review = review_results(&matrix, &inputs, &o.inputs)?;
         crate::verify::annotate(&mut matrix, &review);
     }
     let mut out = Output::default();
+    data_quality_note(&inputs, &mut out);
     match &o.out {
         Some(dir) => {
             let files = [

@@ -236,3 +236,105 @@ fn coverage_charts_of_images_whose_ids_make_one_file_name_do_not_overwrite_each_
     let second = std::fs::read_to_string(out.join("coverage-arm_3.2-2.svg")).unwrap();
     assert!(first.contains("arm:3.2") && second.contains("arm/3.2"));
 }
+
+#[test]
+fn render_against_a_matrix_needs_the_inputs_it_reads_results_against() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    // The same guard as review's: without images and registry every recorded result would be
+    // dropped and the page rendered without them.
+    for command in ["render", "review"] {
+        let (code, _, stderr) = run_basefit([
+            command,
+            "--quiet",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+        ]);
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "{command} --matrix with --results needs the --images"
+            )),
+            "{command}: {stderr}"
+        );
+    }
+    // A matrix alone renders without them.
+    let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", &matrix]);
+    assert_eq!(code, 0, "{stderr}");
+}
+
+#[test]
+fn render_refuses_results_it_cannot_compare_and_notes_left_out_ones() {
+    let dir = tempfile::tempdir().unwrap();
+    let none = dir.path().join("none.yaml");
+    std::fs::write(
+        &none,
+        "results:\n  - {package: nosuch, image: deb-3.2, outcome: installed}\n",
+    )
+    .unwrap();
+    let (code, stdout, stderr) = run_on_demo("render", &["--results", none.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stdout.is_empty(), "{stdout}");
+    assert!(
+        stderr.contains("none.yaml: no recorded result could be compared"),
+        "{stderr}"
+    );
+    // One bad row among good ones: rendered, with the note every command gives on stderr.
+    let some = dir.path().join("some.csv");
+    std::fs::write(
+        &some,
+        "package,image,outcome\ngumleaf,deb-2.8,installed\ngumleaf,deb-2.8,instaled\n",
+    )
+    .unwrap();
+    let (code, stdout, stderr) = run_on_demo("render", &["--results", some.to_str().unwrap()]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stdout.contains("Recorded installs cover 1 cells"),
+        "{stdout}"
+    );
+    assert!(
+        stderr.contains("data-quality problems in the inputs"),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn the_data_quality_note_goes_to_stderr() {
+    // The demo registry has planted data-quality problems (demo-data/STORIES.md); README:
+    // "Data goes to stdout, diagnostics to stderr".
+    for (command, rest) in [
+        ("plan", vec![]),
+        ("review", vec!["--results", "demo-data/results.yaml"]),
+        ("render", vec![]),
+    ] {
+        let (_, stdout, stderr) = run_on_demo(command, &rest);
+        assert!(!stdout.contains("data-quality"), "{command}: {stdout}");
+        assert!(
+            stderr.contains("note: 10 data-quality problems in the inputs"),
+            "{command}: {stderr}"
+        );
+    }
+}
+
+#[test]
+fn a_surprise_install_after_a_failed_retry_fails_the_review() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = dir.path().join("retries.yaml");
+    std::fs::write(
+        &results,
+        "results:
+  - {package: spadefoot-compat, image: deb-3.2, outcome: failed, log: \"error: download failed: Connection reset by peer\"}
+  - {package: spadefoot-compat, image: deb-3.2, outcome: installed, version: \"0.5.1\"}
+",
+    )
+    .unwrap();
+    let results = results.to_str().unwrap();
+    let (code, stdout, stderr) = run_on_demo("review", &["--results", results]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(stdout.contains("surprise-install: 1"), "{stdout}");
+    let (code, stdout, stderr) = run_on_demo("render", &["--results", results]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stdout.contains("1 contradict the prediction"), "{stdout}");
+}

@@ -323,7 +323,7 @@ pub fn grid(m: &crate::plan::Matrix) -> String {
 }
 
 /// The review for people: summary, then surprises by probable cause, then agreed failures.
-pub fn review_text(r: &crate::verify::Review, ledger: &Ledger) -> String {
+pub fn review_text(r: &crate::verify::Review) -> String {
     use crate::verify::Verdict;
     let mut out = String::new();
     let _ = writeln!(out, "{} cells with recorded results", r.cells.len());
@@ -402,13 +402,6 @@ pub fn review_text(r: &crate::verify::Review, ledger: &Ledger) -> String {
     }
     for o in &r.outside_matrix {
         let _ = writeln!(out, "not compared: {o}");
-    }
-    if !ledger.is_clean() {
-        let _ = writeln!(
-            out,
-            "\nnote: {} data-quality problems in the inputs (run `basefit check` for the list)",
-            ledger.problems.len()
-        );
     }
     let _ = writeln!(out, "\n{NOTICE}");
     out

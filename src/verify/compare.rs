@@ -174,6 +174,13 @@ fn suggest(
                     lib.id
                 )
             };
+            // Advice to add what the image already declares would send the reader in a
+            // circle: then the declaration is what is wrong, or the build looks elsewhere.
+            if image.system_packages.contains(&dev) {
+                return Some(format!(
+                    "{hint}{image_id} declares {dev}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
+                ));
+            }
             Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
         }
         LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
@@ -190,6 +197,42 @@ fn suggest(
             Some("the build ran out of memory or was killed: give the CI job more memory".into())
         }
         LogCause::Unknown => None,
+    }
+}
+
+/// The next step when a cell predicted to fail installed, by what the prediction blamed: a
+/// native cause was read from the image declaration, so that declaration is what is out of
+/// date; any other cause was read from the package metadata.
+fn surprise_install_step(cell: &crate::plan::matrix::Cell, images: &ImageSet) -> String {
+    let image = &cell.image;
+    match cell.cause {
+        Some(Cause::MissingSystemLibrary) => {
+            let declared = images.get(image);
+            let absent: Vec<&str> = cell
+                .missing_system_packages
+                .iter()
+                .map(String::as_str)
+                .filter(|p| declared.is_none_or(|i| !i.system_packages.contains(*p)))
+                .collect();
+            if absent.is_empty() {
+                format!(
+                    "the declaration of {image} is out of date: it lacks a system package the real image has; update its packages in the images file"
+                )
+            } else {
+                format!(
+                    "the declaration of {image} is out of date: the real image has {}; add {} to its packages in the images file",
+                    absent.join(" "),
+                    if absent.len() == 1 { "it" } else { "them" }
+                )
+            }
+        }
+        Some(Cause::MissingToolchain) => format!(
+            "the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
+        ),
+        _ => format!(
+            "the metadata is stricter than reality; check the runtime requirement and builds of {}",
+            cell.package
+        ),
     }
 }
 
@@ -255,8 +298,12 @@ pub fn compare(
                     .and_then(|p| library_of(catalog, &p.cause))
                     .is_some_and(|lib| n.library.as_deref() == Some(lib.id.as_str()))
         });
+        // One recorded install disproves a predicted failure, however many attempts failed
+        // around it: retries that disagree must not hide the surprise.
         let verdict = if cell.outcome == Outcome::Undecided {
             Verdict::Undecided
+        } else if any_installed && cell.outcome == Outcome::Fails {
+            Verdict::SurpriseInstall
         } else if (any_installed && any_failed)
             || (any_failed
                 && primary.as_ref().is_some_and(|p| p.cause.likely_flaky())
@@ -269,8 +316,6 @@ pub fn compare(
                 Outcome::AtRisk => Verdict::RiskConfirmed,
                 _ => Verdict::SurpriseFailure,
             }
-        } else if cell.outcome == Outcome::Fails {
-            Verdict::SurpriseInstall
         } else if installed_version.is_some() && installed_version != cell.root_version {
             Verdict::Drift
         } else {
@@ -278,12 +323,23 @@ pub fn compare(
         };
         let log_cause = primary.as_ref().map(|p| p.cause.clone());
         let suggestion = match verdict {
-            Verdict::SurpriseInstall => Some(format!(
-                "predicted {} ({}), but it installed: the metadata is stricter than reality; check the runtime requirement and builds of {}",
-                cell.outcome.as_str(),
-                cell.cause.map(|c| c.as_str()).unwrap_or("no cause"),
-                cell.package
-            )),
+            Verdict::SurpriseInstall => {
+                let failed = attempts
+                    .iter()
+                    .filter(|a| **a == RecordedOutcome::Failed)
+                    .count();
+                let retries = match failed {
+                    0 => String::new(),
+                    1 => " (after 1 failed attempt: the retries disagree)".to_string(),
+                    n => format!(" (after {n} failed attempts: the retries disagree)"),
+                };
+                Some(format!(
+                    "predicted {} ({}), but it installed{retries}: {}",
+                    cell.outcome.as_str(),
+                    cell.cause.map(|c| c.as_str()).unwrap_or("no cause"),
+                    surprise_install_step(cell, images)
+                ))
+            }
             Verdict::Drift => Some(format!(
                 "installed {} where {} was predicted: the registry snapshot may be older than the install",
                 installed_version.as_deref().unwrap_or("?"),
@@ -333,7 +389,9 @@ pub fn compare(
     let mut confusion = Confusion::default();
     for c in &cells {
         *counts.entry(c.verdict.as_str().to_string()).or_default() += 1;
-        let failed = c.attempts.contains(&RecordedOutcome::Failed);
+        // Attempts that disagree are left aside as flaky, except where an install disproves a
+        // predicted failure: that cell counts as installed.
+        let failed = !c.attempts.contains(&RecordedOutcome::Installed);
         match (c.verdict, c.predicted == Outcome::Fails, failed) {
             (Verdict::Flaky | Verdict::Undecided, _, _) => {}
             (_, true, true) => confusion.true_failures += 1,
@@ -386,8 +444,9 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
         let (Some(&r), Some(&k)) = (rows.get(&c.package), cols.get(&c.image)) else {
             continue;
         };
-        let recorded = if c.verdict == Verdict::Flaky && c.attempts.windows(2).any(|w| w[0] != w[1])
-        {
+        // Retries that disagree read as flaky whatever the verdict: a surprise install after a
+        // failed attempt keeps its surprise mark, and the record shows both.
+        let recorded = if c.attempts.windows(2).any(|w| w[0] != w[1]) {
             "flaky"
         } else if c.attempts.contains(&RecordedOutcome::Failed) {
             "failed"
