@@ -3,7 +3,8 @@
 //! An image lacks system packages that some priority packages need. Adding every missing
 //! package makes the image large; adding none leaves important packages uninstallable.
 //! [`advise`] orders the additions so each one unblocks as much priority weight as it can,
-//! and lists the gain of each step so a user can stop where the gains get small.
+//! and lists the gain and running total of each step. Gains need not fall from step to step:
+//! a package that helps only beside another unblocks nothing until both are in.
 //!
 //! [`greedy_set_cover`] is the classic algorithm the advice generalises: when every blocked
 //! package misses exactly one system package, choosing system packages is a covering problem

@@ -525,7 +525,12 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             );
         }
         if !i.advice.is_empty() {
-            out.push_str("    add in this order (greedy; stop where the gain gets small):\n");
+            // A package that only helps beside another gains nothing until both are in, so
+            // gains can rise from one step to the next: the advice must not invite stopping
+            // at the first small one.
+            out.push_str(
+                "    add in this order (greedy; a step can gain more than the one before when packages help only together, so judge by the total):\n",
+            );
             for (n, s) in i.advice.iter().enumerate() {
                 let _ = writeln!(
                     out,
