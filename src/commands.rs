@@ -352,7 +352,10 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
 }
 
 fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
-    read_json(path, "basefit matrix")
+    read_json(
+        path,
+        "basefit matrix in JSON (merge reads the matrix.json that `plan --shard` wrote)",
+    )
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.

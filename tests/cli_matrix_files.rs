@@ -151,6 +151,19 @@ fn merge_names_the_shard_file_at_fault() {
         "{stderr}"
     );
     assert!(!dir.path().join("m").exists(), "nothing is written");
+    // A shard's YAML matrix is the wrong file of the pair: say which one merge reads.
+    let yaml = first.replace("matrix.json", "matrix.yaml");
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        dir.path().join("m").to_str().unwrap(),
+        &yaml,
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{yaml}:1:")) && stderr.contains("matrix.json"),
+        "{stderr}"
+    );
 }
 
 #[test]
