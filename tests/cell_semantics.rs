@@ -74,3 +74,50 @@ fn prerelease_flag_keeps_the_requirements_lower_bound() {
     assert_eq!(run("<1.1.0").as_deref(), Some("1.1.0-rc.1"));
     assert_eq!(run(">=1.0.0").as_deref(), Some("1.1.0-rc.1"));
 }
+
+/// A requirement on a published package that none of its versions meets is a dependency
+/// conflict, and says so; `missing-from-registry` is kept for names the registry lacks
+/// (README, "What the outcomes mean"; demo-data/STORIES.md).
+#[test]
+fn unmatched_requirement_on_a_published_package_is_not_missing() {
+    let registry = r#"packages:
+  - name: bittern
+    versions: [{version: "1.0.0"}, {version: "1.4.0"}, {version: "2.0.0"}]
+  - name: r-disjoint
+    versions: [{version: "1.0.0", depends: [{name: bittern, req: "^1"}, {name: bittern, req: "^2"}]}]
+  - name: r-high
+    versions: [{version: "1.0.0", depends: [{name: bittern, req: "^3"}]}]
+  - name: r-ghost
+    versions: [{version: "1.0.0", depends: [{name: phantom, req: "^1"}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [r-disjoint, r-high, r-ghost]\n");
+    let options = PlanOptions::default();
+    let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
+
+    let disjoint = cell("r-disjoint");
+    assert_eq!(disjoint.cause, Some(Cause::DependencyConflict));
+    assert!(
+        disjoint
+            .explanation
+            .iter()
+            .any(|l| l == "bittern has no published version matching the requirement"),
+        "{:?}",
+        disjoint.explanation
+    );
+
+    let high = cell("r-high");
+    assert_eq!(high.cause, Some(Cause::DependencyConflict));
+    let reasons: Vec<&str> = high.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(
+        reasons,
+        ["bittern (wanted ^3) has no published version matching the requirement"]
+    );
+
+    let ghost = cell("r-ghost");
+    assert_eq!(ghost.cause, Some(Cause::MissingFromRegistry));
+    let reasons: Vec<&str> = ghost.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(
+        reasons,
+        ["phantom (wanted ^1) is missing from the registry"]
+    );
+}
