@@ -40,3 +40,53 @@ fn every_record_is_used_or_reported() {
         .collect();
     assert_eq!(versions, ["1.0.0+7", "2.0.0-rc1", "3.0.0"]);
 }
+
+/// A package declared in two files has releases in both; each problem with a release must name
+/// the file that release was read from, at the line it has there.
+#[test]
+fn release_problems_name_the_file_of_the_release() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "first.yaml",
+        "packages:\n  - name: wren\n    versions:\n      - {version: \"1.0.0\"}\n",
+        &mut b,
+    )
+    .unwrap();
+    read_yaml_str(
+        "second.yaml",
+        concat!(
+            "# padding so the lines differ from the first file's\n",
+            "packages:\n",
+            "  - name: wren\n",
+            "    versions:\n",
+            "      - {version: \"1.0.0\"}\n",
+            "      - {version: \"1.1.0\", depends: [{name: phantom}]}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (_, ledger) = b.finish();
+    let at = |k: ProblemKind| {
+        let p = ledger.problems.iter().find(|p| p.kind == k).unwrap();
+        (p.origin.file.as_str(), p.origin.line, p.detail.as_str())
+    };
+    assert_eq!(
+        at(ProblemKind::UnknownDependency),
+        (
+            "second.yaml",
+            6,
+            "depends on `phantom`, which the registry does not have"
+        )
+    );
+    assert_eq!(
+        at(ProblemKind::DuplicateVersion),
+        (
+            "second.yaml",
+            5,
+            "same version as the record at first.yaml:4"
+        )
+    );
+    assert_eq!(at(ProblemKind::DuplicatePackage).0, "second.yaml");
+}

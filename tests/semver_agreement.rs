@@ -372,3 +372,83 @@ fn build_metadata_does_not_affect_precedence() {
     assert_eq!(set.len(), 3);
     assert_eq!(set, expected, "{names:?}");
 }
+
+/// With `prerelease: true`, the root set admits a pre-release exactly when each comparator of
+/// the requirement holds for it by precedence. For the five ordering operators with a full
+/// version that is the spec's order (Semantic Versioning 2.0.0, section 11:
+/// `Version::cmp_precedence`); wherever the semver crate's same-major.minor.patch rule does not
+/// apply (a release, or a pre-release a comparator names at its own major.minor.patch) it
+/// must also agree with the semver crate's VersionReq::matches.
+#[test]
+fn prerelease_flag_admits_by_precedence() {
+    use basefit::solve::sets::root_set;
+    let versions: Vec<Version> = [
+        "1.0.0",
+        "1.1.0-alpha",
+        "1.1.0-rc.1",
+        "1.1.0",
+        "1.1.1-0",
+        "1.2.0-beta.2",
+        "1.2.0",
+        "2.0.0-rc.1",
+        "2.0.0",
+    ]
+    .iter()
+    .map(|s| Version::parse(s).unwrap())
+    .collect();
+    let (registry, id) = registry_with(&versions);
+    let releases = &registry.package(id).releases;
+    let bounds = [
+        "1.0.0",
+        "1.1.0-rc.1",
+        "1.1.0",
+        "1.2.0-beta.2",
+        "1.2.0",
+        "2.0.0",
+    ];
+    type Holds = fn(Ordering) -> bool;
+    let ops: [(&str, Holds); 5] = [
+        (">=", |o| o != Ordering::Less),
+        (">", |o| o == Ordering::Greater),
+        ("<", |o| o == Ordering::Less),
+        ("<=", |o| o != Ordering::Greater),
+        ("=", |o| o == Ordering::Equal),
+    ];
+    let mut checked = 0;
+    for (op, holds) in ops {
+        for bound in bounds {
+            let b = Version::parse(bound).unwrap();
+            let text = format!("{op}{bound}");
+            let req = Requirement::parse(&text).unwrap();
+            let set = members(&root_set(&registry, id, &req, true), releases.len());
+            let semver_req = VersionReq::parse(&text).unwrap();
+            for (i, r) in releases.iter().enumerate() {
+                let v = &r.version;
+                let admitted = set.contains(&(i as u32));
+                // Semantic Versioning 2.0.0, section 11.
+                assert_eq!(admitted, holds(v.cmp_precedence(&b)), "{text} on {v}");
+                let named_here =
+                    !b.pre.is_empty() && (b.major, b.minor, b.patch) == (v.major, v.minor, v.patch);
+                let rule_applies = !v.pre.is_empty() && !named_here;
+                if !rule_applies {
+                    // The semver crate's VersionReq::matches.
+                    assert_eq!(admitted, semver_req.matches(v), "{text} on {v}");
+                }
+                checked += 1;
+            }
+        }
+    }
+    assert_eq!(checked, 5 * 6 * 9);
+    // Without the flag, the semver crate's rule stands: `>=1.0.0` admits no pre-release.
+    let plain = root_set(
+        &registry,
+        id,
+        &Requirement::parse(">=1.0.0").unwrap(),
+        false,
+    );
+    assert!(
+        members(&plain, releases.len())
+            .iter()
+            .all(|&i| releases[i as usize].version.pre.is_empty())
+    );
+}

@@ -241,6 +241,7 @@ impl RegistryBuilder {
                 return None;
             }
         };
+        let file_index = self.registry.add_file(file);
         let subject = |registry: &Registry| format!("{}@{version}", registry.name(package));
         let released = match fields.released {
             None => None,
@@ -284,6 +285,7 @@ impl RegistryBuilder {
                 build: fields.build,
                 native: fields.native.map(Box::new),
                 yanked: fields.yanked,
+                file: file_index,
                 line: line as u32,
             },
         })
@@ -349,7 +351,8 @@ impl RegistryBuilder {
                 .windows(2)
                 .any(|w| w[0].version == w[1].version);
             if has_duplicates {
-                let file = &registry.files[pkg.file as usize];
+                let files = &registry.files;
+                let file_of = |r: &Release| files.get(r.file as usize).cloned().unwrap_or_default();
                 let mut kept: Vec<Release> = Vec::with_capacity(pkg.releases.len());
                 for r in std::mem::take(&mut pkg.releases) {
                     match kept.last() {
@@ -359,11 +362,19 @@ impl RegistryBuilder {
                                 RecordKind::Version,
                                 ProblemKind::DuplicateVersion,
                                 Origin {
-                                    file: file.clone(),
+                                    file: file_of(&r),
                                     line: r.line as usize,
                                 },
                                 format!("{}@{}", pkg.name, r.version),
-                                format!("same version as the record at line {}", prev.line),
+                                if prev.file == r.file {
+                                    format!("same version as the record at line {}", prev.line)
+                                } else {
+                                    format!(
+                                        "same version as the record at {}:{}",
+                                        file_of(prev),
+                                        prev.line
+                                    )
+                                },
                             );
                         }
                         _ => kept.push(r),
@@ -386,12 +397,12 @@ impl RegistryBuilder {
     }
 }
 
-fn origin_of(registry: &Registry, id: PackageId, line: u32) -> Origin {
-    let pkg = registry.package(id);
+/// Where a record is: a file index and a line, as packages and releases each keep them.
+fn origin_of(registry: &Registry, file: u16, line: u32) -> Origin {
     Origin {
         file: registry
             .files
-            .get(pkg.file as usize)
+            .get(file as usize)
             .cloned()
             .unwrap_or_default(),
         line: line as usize,
@@ -427,8 +438,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
             ((target, req), ok)
         })
         .collect();
-    for (index, pkg) in registry.packages.iter().enumerate() {
-        let id = PackageId(index as u32);
+    for pkg in &registry.packages {
         if !pkg.declared {
             continue;
         }
@@ -439,7 +449,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
                 if !target.declared {
                     ledger.note(
                         ProblemKind::UnknownDependency,
-                        origin_of(registry, id, r.line),
+                        origin_of(registry, r.file, r.line),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "depends on `{}`, which the registry does not have",
@@ -449,7 +459,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
                 } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
                     ledger.note(
                         ProblemKind::UnsatisfiableRequirement,
-                        origin_of(registry, id, r.line),
+                        origin_of(registry, r.file, r.line),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "requires {} {}, which no published version satisfies",
@@ -463,14 +473,14 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
         if pkg.releases.is_empty() {
             ledger.note(
                 ProblemKind::NoVersions,
-                origin_of(registry, id, pkg.line),
+                origin_of(registry, pkg.file, pkg.line),
                 &*pkg.name,
                 "no usable version record",
             );
         } else if pkg.releases.iter().all(|r| r.yanked) {
             ledger.note(
                 ProblemKind::NoInstallableVersion,
-                origin_of(registry, id, pkg.line),
+                origin_of(registry, pkg.file, pkg.line),
                 &*pkg.name,
                 format!("all {} versions are yanked", pkg.releases.len()),
             );

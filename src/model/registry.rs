@@ -156,7 +156,10 @@ pub struct Release {
     pub build: Build,
     pub native: Option<Box<NativeHints>>,
     pub yanked: bool,
-    /// Line of the record in its package's file.
+    /// Index into [`Registry::files`] of the record's file: a package declared in several
+    /// files has releases in each.
+    pub file: u16,
+    /// Line of the record in that file.
     pub line: u32,
 }
 
@@ -182,6 +185,7 @@ impl Release {
     ///     build: Build { source: true, prebuilt: Box::new([]) },
     ///     native: None,
     ///     yanked: false,
+    ///     file: 0,
     ///     line: 1,
     /// };
     /// let mut b = Release { version: semver::Version::new(1, 0, 1), yanked: true, line: 2, ..a.clone() };
@@ -220,7 +224,7 @@ pub struct Registry {
     pub packages: Vec<Package>,
     pub requirements: Vec<Requirement>,
     pub platforms: Vec<Platform>,
-    /// Input files, referenced by index from packages.
+    /// Input files, referenced by index from packages and releases.
     pub files: Vec<String>,
     names: FxHashMap<Box<str>, PackageId>,
     req_index: FxHashMap<Box<str>, ReqId>,

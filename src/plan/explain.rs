@@ -1,7 +1,7 @@
 //! One cell in depth: the resolved closure as a tree, or the failure, plus cheap hints on what
 //! would make it install.
 
-use super::matrix::{Cell, Outcome, PlanOptions, plan_cell};
+use super::matrix::{Cell, Outcome, PlanOptions, plan_cell, plan_pinned_cell};
 use crate::load::{BadInput, Inputs};
 use crate::model::{PackageId, Priority};
 use crate::solve::{ImageView, SetCache};
@@ -107,7 +107,9 @@ fn hints(
         plan_cell(inputs, &view, entry, options).outcome.resolves()
     });
     // Older releases are judged like the cell itself, native step included, by pinning the
-    // entry to each release in turn.
+    // entry to each release in turn. Pinned by index: a requirement such as `=2.3.0+2` also
+    // admits 2.3.0+1 (matching ignores build metadata), so the hint could name a release
+    // that does not resolve.
     let view = ImageView::new(&inputs.registry, image, sets);
     let older = inputs.registry.id(&entry.name).and_then(|root| {
         let releases = &inputs.registry.package(root).releases;
@@ -116,13 +118,7 @@ fn hints(
             .filter(|&i| !releases[i].yanked)
             .take(OLDER_RELEASES_TRIED)
             .find(|&i| {
-                let pinned = Priority {
-                    req: crate::model::Requirement::parse(&format!("={}", releases[i].version))
-                        .ok(),
-                    prerelease: true,
-                    ..entry.clone()
-                };
-                plan_cell(inputs, &view, &pinned, options)
+                plan_pinned_cell(inputs, &view, entry, root, i as u32, options)
                     .outcome
                     .resolves()
             })

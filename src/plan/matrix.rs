@@ -1,7 +1,7 @@
 //! The predicted matrix: every priority entry solved on every image, in parallel.
 
 use crate::load::Inputs;
-use crate::model::{Image, Priority};
+use crate::model::{Image, PackageId, Priority};
 use crate::native::{self, Confidence};
 use crate::solve::{self, BuildKind, Cause, ImageView, Observed, RootSpec, Solved};
 use serde::{Deserialize, Serialize};
@@ -285,14 +285,45 @@ pub fn plan_cell(
     entry: &Priority,
     options: &PlanOptions,
 ) -> Cell {
-    let registry = &inputs.registry;
-    let image = view.image;
     let spec = RootSpec {
         package: &entry.name,
         req: entry.req.as_ref(),
         prerelease: entry.prerelease,
     };
     let solved = solve::solve_cell(view, &spec, options.budget);
+    cell_from_solve(inputs, view, entry, solved, options)
+}
+
+/// Like [`plan_cell`] with the root pinned to exactly the release at `index` of `root`
+/// (the entry's package): no requirement string can pin one release, since matching ignores
+/// build metadata and `=1.1.0` with pre-releases admitted also takes `1.1.0-rc.1`.
+pub fn plan_pinned_cell(
+    inputs: &Inputs,
+    view: &ImageView<'_>,
+    entry: &Priority,
+    root: PackageId,
+    index: u32,
+    options: &PlanOptions,
+) -> Cell {
+    let solved = solve::solve_with_root_set(
+        view,
+        root,
+        solve::IndexSet::singleton(index),
+        options.budget,
+    );
+    cell_from_solve(inputs, view, entry, solved, options)
+}
+
+/// The cell for a solve of `entry`, native step applied.
+fn cell_from_solve(
+    inputs: &Inputs,
+    view: &ImageView<'_>,
+    entry: &Priority,
+    solved: solve::CellSolve,
+    options: &PlanOptions,
+) -> Cell {
+    let registry = &inputs.registry;
+    let image = view.image;
     let mut cell = Cell::new(&entry.name, &image.id, Outcome::Fails);
     cell.observed = solved.observed;
     match solved.solved {

@@ -153,8 +153,10 @@ pub(crate) fn unusable(
                 "has only yanked or pre-release versions".into(),
             );
         }
+        // The package is there; the requirement is what nothing meets. "missing" would send
+        // the reader to look for a name that exists.
         return (
-            Cause::MissingFromRegistry,
+            Cause::DependencyConflict,
             "has no published version matching the requirement".into(),
         );
     }
@@ -281,7 +283,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                              set: &IndexSet,
                              lines: &mut Vec<String>,
                              leaf_causes: &mut Vec<(PackageId, Cause)>|
-     -> Option<Cause> {
+     -> Option<(Cause, String)> {
         if indices(set, registry.package(b).releases.len())
             .next()
             .is_some()
@@ -291,7 +293,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         let (cause, phrase) = unusable(view, b, set);
         lines.push(format!("{} {phrase}", registry.name(b)));
         leaf_causes.push((b, cause));
-        Some(cause)
+        Some((cause, phrase))
     };
     let mut stated: Vec<(PackageId, PackageId, String, IndexSet)> = Vec::new();
     for fact in &facts.order {
@@ -351,11 +353,19 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                             registry.name(*ap),
                             describe(registry, *ap, sa)
                         ));
-                        if let Some(cause) = empty_requirement(*b, sb, &mut lines, &mut leaf_causes)
+                        if let Some((cause, phrase)) =
+                            empty_requirement(*b, sb, &mut lines, &mut leaf_causes)
                         {
+                            // The cause's label speaks of conflicting requirements in general;
+                            // the phrase says that no published version meets this one.
+                            let why = if cause == Cause::DependencyConflict {
+                                phrase.as_str()
+                            } else {
+                                cause.label()
+                            };
                             blockers.push(Blocker {
                                 package: *b,
-                                reason: format!("{target} (wanted {req}) {}", cause.label()),
+                                reason: format!("{target} (wanted {req}) {why}"),
                             });
                         }
                     }
@@ -380,7 +390,11 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         *c
     } else if let Some((_, c)) = leaf_causes.iter().find(|(p, _)| *p == root) {
         *c
-    } else if !conflicts.is_empty() {
+    } else if !conflicts.is_empty()
+        || leaf_causes
+            .iter()
+            .any(|(_, c)| *c == Cause::DependencyConflict)
+    {
         Cause::DependencyConflict
     } else {
         [

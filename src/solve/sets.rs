@@ -43,8 +43,10 @@ pub fn requirement_set(registry: &Registry, package: PackageId, req: &Requiremen
     set_from_predicate(releases.len(), |i| req.matches(&releases[i].version))
 }
 
-/// Like [`requirement_set`], and when `prerelease` is set also admits pre-releases whose
-/// release part (the version without its pre-release tag) the requirement admits.
+/// Like [`requirement_set`], and when `prerelease` is set also admits every pre-release for
+/// which the requirement's comparators hold by precedence (Semantic Versioning 2.0.0, section
+/// 11: `1.1.0-rc.1` is below `1.1.0`, so `>=1.1.0` does not admit it), as if the `semver`
+/// crate did not limit pre-releases to a comparator's own major.minor.patch.
 pub fn root_set(
     registry: &Registry,
     package: PackageId,
@@ -54,10 +56,28 @@ pub fn root_set(
     let releases = &registry.package(package).releases;
     set_from_predicate(releases.len(), |i| {
         let v = &releases[i].version;
-        req.matches(v)
-            || (prerelease
-                && !v.pre.is_empty()
-                && req.matches(&Version::new(v.major, v.minor, v.patch)))
+        req.matches(v) || (prerelease && !v.pre.is_empty() && holds_by_precedence(req, v))
+    })
+}
+
+/// Whether some alternative of `req` has every comparator hold for `version` by precedence.
+///
+/// The `semver` crate evaluates each comparator by precedence and then admits a pre-release
+/// only when some comparator names a pre-release of the same major.minor.patch. Adding
+/// `>=M.m.p-0` (`-0` is the lowest pre-release of `M.m.p`, so it holds for every one of them)
+/// meets that condition without changing the verdict of the others.
+pub fn holds_by_precedence(req: &Requirement, version: &Version) -> bool {
+    let floor = semver::Comparator {
+        op: semver::Op::GreaterEq,
+        major: version.major,
+        minor: Some(version.minor),
+        patch: Some(version.patch),
+        pre: semver::Prerelease::new("0").expect("`0` is a valid pre-release"),
+    };
+    req.alternatives.iter().any(|alt| {
+        let mut lifted = alt.clone();
+        lifted.comparators.push(floor.clone());
+        lifted.matches(version)
     })
 }
 

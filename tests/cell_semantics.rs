@@ -1,0 +1,123 @@
+//! What single cells predict and how they explain it: the pre-release flag's bounds, the
+//! "newest release that resolves" hint, and the cause given when a requirement on a published
+//! package matches none of its versions. A fictional runtime with invented package names.
+
+use basefit::load::{InputPaths, Inputs, load_inputs};
+use basefit::plan::PlanOptions;
+use basefit::plan::explain::explain;
+use basefit::solve::Cause;
+
+const IMAGES: &str = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+
+fn inputs(registry: &str, priorities: &str) -> Inputs {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("r.yaml"), registry).unwrap();
+    std::fs::write(dir.path().join("i.yaml"), IMAGES).unwrap();
+    std::fs::write(dir.path().join("p.yaml"), priorities).unwrap();
+    load_inputs(&InputPaths {
+        registry: vec![dir.path().join("r.yaml")],
+        images: Some(dir.path().join("i.yaml")),
+        priorities: Some(dir.path().join("p.yaml")),
+        ..Default::default()
+    })
+    .unwrap()
+}
+
+/// The hint names a release that resolves when pinned alone. Build metadata is ignored by
+/// requirement matching (Semantic Versioning 2.0.0, section 10; the semver crate's
+/// VersionReq::matches), so `=2.3.0+2` would also admit 2.3.0+1, and `=1.1.0` with
+/// pre-releases admitted takes 1.1.0-rc.1: neither may stand in for the release it names.
+#[test]
+fn newest_resolving_release_hint_names_a_release_that_resolves() {
+    let registry = r#"packages:
+  - name: tern
+    versions:
+      - {version: "2.3.0+1"}
+      - {version: "2.3.0+2", runtime: ">=4"}
+      - {version: "2.4.0", runtime: ">=4"}
+  - name: heron
+    versions:
+      - {version: "1.1.0-rc.1"}
+      - {version: "1.1.0", runtime: ">=4"}
+      - {version: "1.2.0", runtime: ">=4"}
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities:\n  - {name: tern, req: \">=2.4\"}\n  - {name: heron, req: \">=1.2\"}\n",
+    );
+    let options = PlanOptions::default();
+    let tern = explain(&inputs, "tern", "deb", &options).unwrap();
+    assert_eq!(tern.cell.cause, Some(Cause::RuntimeTooOld));
+    assert_eq!(tern.older_release.as_deref(), Some("2.3.0+1"));
+    let heron = explain(&inputs, "heron", "deb", &options).unwrap();
+    assert_eq!(heron.older_release.as_deref(), Some("1.1.0-rc.1"));
+}
+
+/// `prerelease: true` admits a pre-release only where the requirement's comparators hold for
+/// it by precedence: 1.1.0-rc.1 is below 1.1.0 (Semantic Versioning 2.0.0, section 11), so
+/// neither `>=1.1.0` nor `=1.1.0` admits it; `>=1.0.5` does.
+#[test]
+fn prerelease_flag_keeps_the_requirements_lower_bound() {
+    let registry = r#"packages:
+  - name: tern
+    versions: [{version: "1.0.0"}, {version: "1.1.0-rc.1"}]
+"#;
+    let run = |req: &str| {
+        let prio = format!("priorities:\n  - {{name: tern, req: \"{req}\", prerelease: true}}\n");
+        let inputs = inputs(registry, &prio);
+        let e = explain(&inputs, "tern", "deb", &PlanOptions::default()).unwrap();
+        e.cell.root_version
+    };
+    assert_eq!(run(">=1.1.0"), None);
+    assert_eq!(run("=1.1.0"), None);
+    assert_eq!(run(">=1.0.5").as_deref(), Some("1.1.0-rc.1"));
+    assert_eq!(run("<1.1.0").as_deref(), Some("1.1.0-rc.1"));
+    assert_eq!(run(">=1.0.0").as_deref(), Some("1.1.0-rc.1"));
+}
+
+/// A requirement on a published package that none of its versions meets is a dependency
+/// conflict, and says so; `missing-from-registry` is kept for names the registry lacks
+/// (README, "What the outcomes mean"; demo-data/STORIES.md).
+#[test]
+fn unmatched_requirement_on_a_published_package_is_not_missing() {
+    let registry = r#"packages:
+  - name: bittern
+    versions: [{version: "1.0.0"}, {version: "1.4.0"}, {version: "2.0.0"}]
+  - name: r-disjoint
+    versions: [{version: "1.0.0", depends: [{name: bittern, req: "^1"}, {name: bittern, req: "^2"}]}]
+  - name: r-high
+    versions: [{version: "1.0.0", depends: [{name: bittern, req: "^3"}]}]
+  - name: r-ghost
+    versions: [{version: "1.0.0", depends: [{name: phantom, req: "^1"}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [r-disjoint, r-high, r-ghost]\n");
+    let options = PlanOptions::default();
+    let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
+
+    let disjoint = cell("r-disjoint");
+    assert_eq!(disjoint.cause, Some(Cause::DependencyConflict));
+    assert!(
+        disjoint
+            .explanation
+            .iter()
+            .any(|l| l == "bittern has no published version matching the requirement"),
+        "{:?}",
+        disjoint.explanation
+    );
+
+    let high = cell("r-high");
+    assert_eq!(high.cause, Some(Cause::DependencyConflict));
+    let reasons: Vec<&str> = high.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(
+        reasons,
+        ["bittern (wanted ^3) has no published version matching the requirement"]
+    );
+
+    let ghost = cell("r-ghost");
+    assert_eq!(ghost.cause, Some(Cause::MissingFromRegistry));
+    let reasons: Vec<&str> = ghost.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(
+        reasons,
+        ["phantom (wanted ^1) is missing from the registry"]
+    );
+}
