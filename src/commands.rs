@@ -3,7 +3,7 @@
 
 use crate::load::{self, BadInput, InputPaths, Inputs};
 use crate::plan::{self, Matrix, PlanOptions, blockers};
-use crate::report::{self, Format, text};
+use crate::report::{self, Format, MatrixFormat, text};
 use anyhow::Result;
 use std::path::PathBuf;
 
@@ -37,7 +37,7 @@ impl Output {
         Output {
             stdout: match format {
                 Format::Json => report::to_json(value),
-                _ => text(value),
+                Format::Table => text(value),
             },
             stderr: Vec::new(),
             exit: if found { exit::FOUND } else { exit::OK },
@@ -246,7 +246,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Format::Json => {
             report::to_json(&serde_json::json!({ "summary": summary, "shared_blockers": shared }))
         }
-        _ => text::plan_text(&summary, &shared),
+        Format::Table => text::plan_text(&summary, &shared),
     };
     data_quality_note(&inputs, &mut out);
     Ok(out)
@@ -670,7 +670,7 @@ pub struct RenderCommand {
     /// Folder for matrix.html, matrix.md, matrix.csv, matrix.json and matrix.yaml.
     pub out: Option<PathBuf>,
     /// Without `out`: the one format printed to stdout.
-    pub format: Format,
+    pub format: MatrixFormat,
 }
 
 /// `render`: the support matrix as an HTML page, a Markdown table, CSV, JSON and YAML; with
@@ -723,11 +723,11 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         }
         None => {
             out.stdout = match o.format {
-                Format::Html => report::html(&matrix),
-                Format::Csv => report::csv(&matrix),
-                Format::Json => report::to_json(&matrix),
-                Format::Yaml => report::to_yaml(&matrix),
-                Format::Markdown | Format::Table => report::markdown(&matrix),
+                MatrixFormat::Html => report::html(&matrix),
+                MatrixFormat::Csv => report::csv(&matrix),
+                MatrixFormat::Json => report::to_json(&matrix),
+                MatrixFormat::Yaml => report::to_yaml(&matrix),
+                MatrixFormat::Markdown => report::markdown(&matrix),
             }
         }
     }

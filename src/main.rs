@@ -3,7 +3,7 @@
 use basefit::commands::{self, Output, exit};
 use basefit::load::{BadInput, InputPaths};
 use basefit::plan::PlanOptions;
-use basefit::report::Format;
+use basefit::report::{Format, MatrixFormat};
 use clap::{Args, Parser, Subcommand};
 use std::io::Write;
 use std::path::PathBuf;
@@ -328,7 +328,7 @@ struct RenderArgs {
     out: Option<PathBuf>,
     /// Without --out: the format printed to stdout.
     #[arg(long, value_enum, default_value = "markdown")]
-    format: Format,
+    format: MatrixFormat,
 }
 
 fn run_render(a: RenderArgs) -> anyhow::Result<Output> {

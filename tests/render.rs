@@ -121,6 +121,7 @@ fn hostile() -> Matrix {
         shard: None,
         planned_from: None,
         notice: "<b>not the notice</b>".into(),
+        native_skipped: false,
         images,
         packages: names
             .iter()
@@ -576,6 +577,7 @@ fn partial_and_odd_matrices_render_without_panicking() {
     odd.cells.push(cell("nobody", "nowhere", Outcome::Fails));
     let empty = Matrix {
         notice: String::new(),
+        native_skipped: false,
         images: Vec::new(),
         packages: Vec::new(),
         cells: Vec::new(),

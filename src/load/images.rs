@@ -221,7 +221,6 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
         .clone()
         .or_else(|| base.map(|b| b.platform.clone()))
         .ok_or("missing `platform` (and no base to inherit it from)")?;
-    let toolchain = d.toolchain.or(base.map(|b| b.toolchain)).unwrap_or(false);
     let mut packages: BTreeSet<String> =
         base.map(|b| b.system_packages.clone()).unwrap_or_default();
     packages.extend(d.add.iter().cloned());
@@ -230,6 +229,13 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
             return Err(format!("removes `{r}`, which it does not have"));
         }
     }
+    // An image whose packages include its family's toolchain packages can compile, whatever
+    // its flag says: `syslibs` advises adding exactly those packages, and an image that took
+    // the advice must not go on failing for want of a toolchain.
+    let toolchain = d.toolchain.or(base.map(|b| b.toolchain)).unwrap_or(false)
+        || crate::native::toolchain_packages(family)
+            .iter()
+            .all(|p| packages.contains(*p));
     Ok(Image {
         id: d.id.clone(),
         runtime,

@@ -163,11 +163,22 @@ pub struct PackageRow {
 pub const NOTICE: &str = "Predicted from declared metadata only: confirm with real installs before shipping an \
 image. Installing untrusted packages runs their code, so record installs in sandboxed CI.";
 
+/// Printed with a matrix planned with `--no-native` ([`Matrix::native_skipped`]), whose ✓ would
+/// otherwise read as a promise about system libraries it never looked at.
+pub const NATIVE_SKIPPED_NOTICE: &str = "Planned with --no-native, so native needs were not checked: \
+an installs verdict means only that the version requirements resolve; a system library or C \
+toolchain the image lacks is not caught.";
+
 /// The predicted support matrix: rows in priority order, columns in declared image order,
 /// cells row by row.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Matrix {
     pub notice: String,
+    /// Planned with `--no-native`: outcomes come from version solving alone, so a system
+    /// library or toolchain the image lacks was not looked for. Absent in matrices written
+    /// before the field existed, which were all planned with native checks.
+    #[serde(default)]
+    pub native_skipped: bool,
     pub images: Vec<ImageColumn>,
     pub packages: Vec<PackageRow>,
     pub cells: Vec<Cell>,
@@ -201,6 +212,7 @@ impl Matrix {
     /// use basefit::plan::Matrix;
     /// let mut m = Matrix {
     ///     notice: String::new(),
+    ///     native_skipped: false,
     ///     images: Vec::new(),
     ///     packages: Vec::new(),
     ///     cells: Vec::new(),
@@ -398,9 +410,9 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         cell.outcome = Outcome::Fails;
         cell.cause = Some(Cause::MissingToolchain);
         cell.explanation.push(format!(
-            "a declared native library must be compiled, and {} has no C toolchain; add: {}",
+            "a declared native library must be compiled, and {} has no C toolchain{}",
             image.id,
-            cell.missing_system_packages.join(" ")
+            add_list(&cell.missing_system_packages)
         ));
     } else if certain_missing {
         cell.outcome = Outcome::Fails;
@@ -420,10 +432,10 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         cell.outcome = Outcome::AtRisk;
         let mut why = Vec::new();
         if a.worst_missing().is_some() {
-            why.push(format!(
-                "probably needs: {}",
-                cell.missing_system_packages.join(" ")
-            ));
+            why.push(match cell.missing_system_packages.is_empty() {
+                true => "probably needs a C toolchain".to_string(),
+                false => format!("probably needs: {}", cell.missing_system_packages.join(" ")),
+            });
         }
         if !a.unknown_libraries.is_empty() {
             why.push(format!(
@@ -432,6 +444,16 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
             ));
         }
         cell.explanation.push(why.join("; "));
+    }
+}
+
+/// "; add: ..." naming the packages to add, or nothing when there are none to name: an empty
+/// list after "add:" reads as a truncated message.
+fn add_list(packages: &[String]) -> String {
+    if packages.is_empty() {
+        String::new()
+    } else {
+        format!("; add: {}", packages.join(" "))
     }
 }
 
@@ -480,6 +502,8 @@ pub fn package_rows(inputs: &Inputs) -> Vec<PackageRow> {
 /// Counts per image and per package.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Summary {
+    /// The matrix was planned with `--no-native` ([`Matrix::native_skipped`]).
+    pub native_skipped: bool,
     pub images: Vec<ImageCounts>,
     pub packages: Vec<PackageCounts>,
     pub causes: BTreeMap<String, usize>,
@@ -560,6 +584,7 @@ pub fn summarise(m: &Matrix) -> Summary {
         };
     }
     Summary {
+        native_skipped: m.native_skipped,
         images,
         packages,
         causes,

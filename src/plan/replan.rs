@@ -1367,6 +1367,7 @@ pub fn replan(
         .collect();
     let matrix = Matrix {
         notice: super::matrix::NOTICE.to_string(),
+        native_skipped: !options.native,
         images: image_columns(inputs),
         packages: package_rows(inputs),
         cells,
@@ -1522,6 +1523,7 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .collect::<Result<_, _>>()?;
     Ok(Matrix {
         notice: first.notice.clone(),
+        native_skipped: parts.iter().any(|p| p.native_skipped),
         images: first.images.clone(),
         packages: first.packages.clone(),
         cells,

@@ -6,14 +6,16 @@
 //! spreadsheet would run as a formula (it starts with `=`, `+`, `-`, `@`, a tab or a carriage
 //! return) gets a leading `'`, which spreadsheets show as plain text. Every record carries the notice in
 //! its last column: a header comment would break strict CSV readers, and a filtered or
-//! pasted selection of rows keeps the warning with it.
+//! pasted selection of rows keeps the warning with it. For the same reason every record says
+//! whether native needs were checked (`native_checked`), and a matrix planned with
+//! `--no-native` adds that warning to the notice.
 
 use super::layout::grid;
-use crate::plan::matrix::{Matrix, NOTICE};
+use crate::plan::matrix::{Matrix, NATIVE_SKIPPED_NOTICE, NOTICE};
 use std::borrow::Cow;
 
 /// The header record, in column order.
-pub const COLUMNS: [&str; 15] = [
+pub const COLUMNS: [&str; 16] = [
     "package",
     "rank",
     "weight",
@@ -28,6 +30,7 @@ pub const COLUMNS: [&str; 15] = [
     "recorded",
     "verdict",
     "explanation",
+    "native_checked",
     "notice",
 ];
 
@@ -40,6 +43,14 @@ pub fn csv(m: &Matrix) -> String {
     // Writing into a Vec cannot fail on I/O, and every record has the header's length, so an
     // error here would be a bug; it still must not abort the caller, hence the fallbacks.
     let _ = w.write_record(COLUMNS);
+    let (native_checked, notice) = if m.native_skipped {
+        (
+            "false",
+            Cow::Owned(format!("{NOTICE} {NATIVE_SKIPPED_NOTICE}")),
+        )
+    } else {
+        ("true", Cow::Borrowed(NOTICE))
+    };
     for (row, slots) in m.packages.iter().zip(grid(m)) {
         for (img, slot) in m.images.iter().zip(slots) {
             let Some((_, cell)) = slot else { continue };
@@ -62,7 +73,8 @@ pub fn csv(m: &Matrix) -> String {
                 defuse(recorded),
                 defuse(verdict),
                 owned(defuse(&cell.explanation.join(" / "))),
-                Cow::Borrowed(NOTICE),
+                Cow::Borrowed(native_checked),
+                Cow::Borrowed(notice.as_ref()),
             ];
             let _ = w.write_record(record.iter().map(|f| f.as_bytes()));
         }

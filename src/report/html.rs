@@ -10,7 +10,7 @@
 use super::layout::{self, ColumnCounts, Mark, grid, mark_of, one_line};
 use crate::model::OsFamily;
 use crate::native::install_command;
-use crate::plan::matrix::{Cell, Matrix, NOTICE, Outcome};
+use crate::plan::matrix::{Cell, Matrix, NATIVE_SKIPPED_NOTICE, NOTICE, Outcome};
 use crate::solve::Cause;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -106,7 +106,7 @@ struct OutcomeLabel {
     meaning: &'static str,
 }
 
-fn labels() -> Labels {
+fn labels(native_skipped: bool) -> Labels {
     Labels {
         outcomes: Outcome::ALL
             .into_iter()
@@ -116,7 +116,7 @@ fn labels() -> Labels {
                     OutcomeLabel {
                         symbol: layout::outcome_symbol(o),
                         label: layout::outcome_label(o),
-                        meaning: layout::outcome_meaning(o),
+                        meaning: layout::outcome_meaning(o, native_skipped),
                     },
                 )
             })
@@ -206,6 +206,14 @@ pub fn html(m: &Matrix) -> String {
          aria-hidden=\"true\">!</span><p><strong>Prediction, not a test result.</strong> {}</p></div></aside>",
         escape_html(NOTICE)
     );
+    if m.native_skipped {
+        let _ = writeln!(
+            out,
+            "<aside class=\"notice\" id=\"notice-native\" role=\"note\"><div class=\"notice-box\"><span class=\"notice-icon\" \
+             aria-hidden=\"true\">!</span><p><strong>Version solving only.</strong> {}</p></div></aside>",
+            escape_html(NATIVE_SKIPPED_NOTICE)
+        );
+    }
 
     out.push_str("<main>\n");
     controls(&mut out, m, &families, &counts);
@@ -216,7 +224,7 @@ pub fn html(m: &Matrix) -> String {
         "<p class=\"hint\" data-needs-script hidden>Highest priority first. Select a cell, or move with the arrow keys \
          and press Enter, for its resolved versions or why it fails.</p></div>\n",
     );
-    legend(&mut out);
+    legend(&mut out, m.native_skipped);
     out.push_str("<div class=\"grid-wrap\">\n<table class=\"grid\" id=\"grid\" role=\"grid\" aria-labelledby=\"grid-title\">\n<thead>\n<tr>\n");
     out.push_str("<th scope=\"col\" class=\"corner\"><span class=\"corner-main\">Package</span><span class=\"corner-sub\">rank · weight</span></th>\n");
     for (c, img) in m.images.iter().enumerate() {
@@ -326,7 +334,7 @@ pub fn html(m: &Matrix) -> String {
         notice: NOTICE,
         matrix: m,
         install_commands: install_commands(m),
-        labels: labels(),
+        labels: labels(m.native_skipped),
     };
     // Serializing plain data into memory fails only on non-string map keys, which the
     // payload has none of; an empty object keeps the page usable if it ever did.
@@ -571,7 +579,7 @@ fn controls(out: &mut String, m: &Matrix, families: &[&str], counts: &[ColumnCou
     out.push_str("<p class=\"status\" id=\"filter-status\" role=\"status\" aria-live=\"polite\"></p>\n</section>\n");
 }
 
-fn legend(out: &mut String) {
+fn legend(out: &mut String, native_skipped: bool) {
     out.push_str("<section class=\"legend\" aria-labelledby=\"legend-title\">\n<h3 id=\"legend-title\" class=\"visually-hidden\">Legend</h3>\n<dl class=\"legend-list\">\n");
     for o in Outcome::ALL {
         let _ = writeln!(
@@ -580,7 +588,7 @@ fn legend(out: &mut String) {
             outcome_class(o),
             layout::outcome_symbol(o),
             layout::outcome_label(o),
-            layout::outcome_meaning(o)
+            layout::outcome_meaning(o, native_skipped)
         );
     }
     out.push_str("</dl>\n<p class=\"legend-marks\">Corner marks, where installs were recorded:");

@@ -28,9 +28,12 @@ pub fn outcome_label(outcome: Outcome) -> &'static str {
     }
 }
 
-/// One sentence on what an outcome promises, for legends.
-pub fn outcome_meaning(outcome: Outcome) -> &'static str {
+/// One sentence on what an outcome promises, for legends; `native_skipped` for a matrix
+/// planned without the native step, where no outcome says anything about system libraries.
+pub fn outcome_meaning(outcome: Outcome, native_skipped: bool) -> &'static str {
     match outcome {
+        Outcome::Installs if native_skipped => "resolves; native needs were not checked",
+        Outcome::Fails if native_skipped => "does not resolve (native needs were not checked)",
         Outcome::Installs => "resolves, and every native need found is met by the image",
         Outcome::AtRisk => "resolves, but a likely or possible native need is not met by the image",
         Outcome::Fails => "does not resolve, or a declared native need is certainly unmet",

@@ -6,7 +6,7 @@
 //! other extensions, so it reads the same in any renderer and in a plain diff.
 
 use super::layout::{self, Mark, grid, mark_of, one_line, outcome_label, outcome_symbol};
-use crate::plan::matrix::{Cell, Matrix, NOTICE, Outcome};
+use crate::plan::matrix::{Cell, Matrix, NATIVE_SKIPPED_NOTICE, NOTICE, Outcome};
 use std::collections::HashMap;
 use std::fmt::Write;
 
@@ -67,6 +67,9 @@ pub fn markdown(m: &Matrix) -> String {
     let mut out = String::new();
 
     let _ = writeln!(out, "> **Prediction, not a test result.** {NOTICE}\n");
+    if m.native_skipped {
+        let _ = writeln!(out, "> **Version solving only.** {NATIVE_SKIPPED_NOTICE}\n");
+    }
 
     // Notes are numbered in reading order (row by row) and shared by identical causes of
     // one package, so a package that fails everywhere for one reason carries one note.
@@ -137,7 +140,7 @@ pub fn markdown(m: &Matrix) -> String {
             "- {} {}: {}",
             outcome_symbol(o),
             outcome_label(o),
-            layout::outcome_meaning(o)
+            layout::outcome_meaning(o, m.native_skipped)
         );
     }
     for mark in [Mark::Surprise, Mark::Unsettled] {

@@ -16,16 +16,23 @@ use serde::Serialize;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-/// Output formats a command can print.
+/// What a report command (check, plan, explain, review, diff, syslibs, imageplan) prints:
+/// only the formats each of them honours, so the command line refuses any other.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Format {
     /// A readable table.
     Table,
     Json,
-    Yaml,
-    Csv,
+}
+
+/// What `render` prints to stdout: the matrix in one of the formats it writes with `--out`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum MatrixFormat {
     Markdown,
     Html,
+    Csv,
+    Json,
+    Yaml,
 }
 
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an

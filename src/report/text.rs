@@ -4,7 +4,7 @@ use crate::load::Ledger;
 use crate::load::diag::Tally;
 use crate::plan::blockers::SharedBlocker;
 use crate::plan::explain::Explanation;
-use crate::plan::matrix::{NOTICE, Summary};
+use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -135,6 +135,9 @@ fn kebab<T: Serialize>(v: T) -> String {
 /// shared blockers.
 pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
     let mut out = String::new();
+    if summary.native_skipped {
+        let _ = writeln!(out, "{NATIVE_SKIPPED_NOTICE}\n");
+    }
     let mut rows = vec![vec![
         "image".to_string(),
         "installs".into(),

@@ -1,0 +1,252 @@
+//! What commands print, through the binary: each accepts only the `--format` values it
+//! honours, a matrix planned with `--no-native` says so wherever it is shown, and an image's
+//! toolchain reads the same to every command.
+
+mod common;
+
+use common::run_basefit;
+use std::path::Path;
+
+const DEMO: [&str; 6] = [
+    "--registry",
+    "demo-data/registry.yaml",
+    "--images",
+    "matrices/demo-images.yaml",
+    "--priorities",
+    "demo-data/priorities.yaml",
+];
+
+/// Runs `command` with `args`, quietly where it reads inputs (`diff` has no bars); returns
+/// (exit code, stdout, stderr).
+fn run(command: &[&str], args: &[&str]) -> (i32, String, String) {
+    let mut all = command.to_vec();
+    if command[0] != "diff" {
+        all.push("--quiet");
+    }
+    all.extend(args);
+    run_basefit(&all)
+}
+
+/// Plans the demo into `dir`, with `extra` options; returns the matrix.json path.
+fn plan_into(dir: &Path, extra: &[&str]) -> String {
+    let out = dir.to_str().unwrap();
+    let mut args = DEMO.to_vec();
+    args.extend(["--out", out]);
+    args.extend(extra);
+    let (code, _, stderr) = run(&["plan"], &args);
+    assert!(code == 0 || code == 1, "{stderr}");
+    format!("{out}/matrix.json")
+}
+
+/// The `--format` values clap lists for `command`, read from its refusal of a made-up one.
+fn listed_formats(command: &[&str], args: &[&str]) -> Vec<String> {
+    let mut all = args.to_vec();
+    all.extend(["--format", "no-such-format"]);
+    let (code, _, stderr) = run(command, &all);
+    assert_eq!(code, 2, "{stderr}");
+    let list = stderr
+        .split("[possible values: ")
+        .nth(1)
+        .and_then(|rest| rest.split(']').next())
+        .unwrap_or_else(|| panic!("no possible values in: {stderr}"));
+    list.split(", ").map(str::to_string).collect()
+}
+
+#[test]
+fn every_command_lists_only_the_formats_it_honours() {
+    let dir = tempfile::tempdir().unwrap();
+    let before = plan_into(&dir.path().join("a"), &[]);
+    let after = plan_into(&dir.path().join("b"), &["--no-native"]);
+    let with_results = |extra: &[&'static str]| {
+        let mut v = DEMO.to_vec();
+        v.extend(extra);
+        v
+    };
+    let report = ["table", "json"];
+    let matrix = ["markdown", "html", "csv", "json", "yaml"];
+    let cases: Vec<(Vec<&str>, Vec<&str>, &[&str])> = vec![
+        (
+            vec!["check"],
+            with_results(&["--results", "demo-data/results.yaml"]),
+            &report,
+        ),
+        (vec!["plan"], DEMO.to_vec(), &report),
+        (
+            vec!["explain", "quill-xml", "alpine-2.6"],
+            DEMO.to_vec(),
+            &report,
+        ),
+        (vec!["syslibs"], DEMO.to_vec(), &report),
+        (
+            vec!["review"],
+            with_results(&[
+                "--results",
+                "demo-data/results.yaml",
+                "--max-surprises",
+                "99",
+            ]),
+            &report,
+        ),
+        (
+            vec!["imageplan"],
+            with_results(&["--image", "deb-2.4"]),
+            &report,
+        ),
+        (vec!["diff", &before, &after], Vec::new(), &report),
+        (vec!["render"], DEMO.to_vec(), &matrix),
+    ];
+    for (command, args, expected) in cases {
+        let listed = listed_formats(&command, &args);
+        assert_eq!(listed, expected, "{command:?}");
+        // Each listed format prints something no other listed format prints.
+        let mut seen: Vec<(String, String)> = Vec::new();
+        for format in &listed {
+            let mut all = args.clone();
+            all.extend(["--format", format]);
+            let (code, stdout, stderr) = run(&command, &all);
+            assert!(code < 2, "{command:?} --format {format}: {stderr}");
+            assert!(!stdout.is_empty(), "{command:?} --format {format}");
+            for (other, text) in &seen {
+                assert_ne!(
+                    *text, stdout,
+                    "{command:?}: --format {format} prints what --format {other} prints"
+                );
+            }
+            seen.push((format.clone(), stdout));
+        }
+        // The formats a command used to accept and ignore are refused.
+        for format in ["table", "yaml", "csv", "markdown", "html"] {
+            if expected.contains(&format) {
+                continue;
+            }
+            let mut all = args.clone();
+            all.extend(["--format", format]);
+            let (code, _, stderr) = run(&command, &all);
+            assert_eq!(code, 2, "{command:?} --format {format}: {stderr}");
+        }
+    }
+}
+
+const NOT_CHECKED: &str = "native needs were not checked";
+
+#[test]
+fn a_matrix_planned_without_native_checks_says_so_wherever_it_is_shown() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("nn");
+    let mut args = DEMO.to_vec();
+    args.extend(["--no-native", "--out", out.to_str().unwrap()]);
+    let (code, summary, stderr) = run(&["plan"], &args);
+    assert!(code < 2, "{stderr}");
+    assert!(summary.contains(NOT_CHECKED), "{summary}");
+    let (_, json_summary, _) = run(&["plan"], &[&args[..], &["--format", "json"]].concat());
+    assert!(
+        json_summary.contains("\"native_skipped\": true"),
+        "{json_summary}"
+    );
+
+    let json = out.join("matrix.json");
+    let yaml = out.join("matrix.yaml");
+    let text = std::fs::read_to_string(&json).unwrap();
+    assert!(text.contains("\"native_skipped\": true"));
+    assert!(
+        std::fs::read_to_string(&yaml)
+            .unwrap()
+            .contains("native_skipped: true")
+    );
+    for (matrix, format, needle) in [
+        (&json, "markdown", NOT_CHECKED),
+        (&json, "html", NOT_CHECKED),
+        (&json, "csv", ",false,"),
+        (&json, "csv", NOT_CHECKED),
+        (&json, "json", "\"native_skipped\": true"),
+        (&yaml, "yaml", "native_skipped: true"),
+    ] {
+        let (code, stdout, stderr) = run(
+            &["render"],
+            &["--matrix", matrix.to_str().unwrap(), "--format", format],
+        );
+        assert_eq!(code, 0, "{stderr}");
+        assert!(stdout.contains(needle), "{format} lacks {needle:?}");
+        // The legend no longer promises that native needs are met.
+        assert!(
+            !stdout.contains("every native need found is met"),
+            "{format} still promises native needs are met"
+        );
+    }
+
+    // A matrix written before the field existed reads as one planned with native checks, and
+    // so does a full plan: neither carries the warning.
+    let old = dir.path().join("old.json");
+    std::fs::write(&old, text.replace("\"native_skipped\": true,", "")).unwrap();
+    let full = plan_into(&dir.path().join("full"), &[]);
+    for matrix in [&old.to_str().unwrap().to_string(), &full] {
+        for format in ["markdown", "html", "csv"] {
+            let (code, stdout, stderr) =
+                run(&["render"], &["--matrix", matrix, "--format", format]);
+            assert_eq!(code, 0, "{stderr}");
+            assert!(!stdout.contains(NOT_CHECKED), "{matrix} {format}");
+        }
+    }
+}
+
+/// The demo registry and priorities on one Debian image with `toolchain: false` whose
+/// packages are `packages` (the advice `syslibs` gives, taken or not).
+fn one_image(dir: &Path, packages: &str) -> Vec<String> {
+    let images = dir.join("images.yaml");
+    std::fs::write(
+        &images,
+        format!(
+            "images:\n  - id: slim-fixed\n    runtime: 3.2.0\n    family: debian\n    \
+             platform: linux/glibc/x86_64\n    toolchain: false\n    packages: [{packages}]\n"
+        ),
+    )
+    .unwrap();
+    [
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+    ]
+    .map(str::to_string)
+    .to_vec()
+}
+
+#[test]
+fn an_image_carrying_its_toolchain_packages_has_a_toolchain_for_every_command() {
+    let dir = tempfile::tempdir().unwrap();
+    let fixed = one_image(
+        dir.path(),
+        "build-essential, gcc, make, libc6-dev, pkg-config, libpq5, libpq-dev, libxml2, \
+         libxml2-dev, zlib1g, zlib1g-dev, libpng16-16, libpng-dev, libssl3",
+    );
+    let fixed: Vec<&str> = fixed.iter().map(String::as_str).collect();
+    let (code, stdout, stderr) = run(&["syslibs"], &fixed);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let (_, plan, stderr) = run(&["plan"], &[&fixed[..], &["--format", "json"]].concat());
+    assert!(!plan.contains("missing-toolchain"), "{plan}{stderr}");
+    for package in ["burrowdb", "snapfrost"] {
+        let (code, stdout, stderr) = run(&["explain", package, "slim-fixed"], &fixed);
+        assert_eq!(code, 0, "{package}: {stdout}{stderr}");
+        assert!(!stdout.contains("no C toolchain"), "{stdout}");
+    }
+
+    // Without them the image has none, and every command names what to add.
+    let bare = one_image(dir.path(), "libpq5, libpq-dev");
+    let bare: Vec<&str> = bare.iter().map(String::as_str).collect();
+    let (code, stdout, _) = run(&["syslibs"], &bare);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("build-essential"), "{stdout}");
+    let (code, stdout, _) = run(&["explain", "burrowdb", "slim-fixed"], &bare);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("has no C toolchain; add: build-essential"),
+        "{stdout}"
+    );
+    for text in [stdout.as_str()] {
+        for empty in ["add: \n", "needs: \n", "add: ;", "needs: ;"] {
+            assert!(!text.contains(empty), "empty list in: {text}");
+        }
+    }
+}
