@@ -68,3 +68,105 @@ fn nothing_is_lost_on_the_demo_data() {
         assert_eq!(t.read, t.used + t.left_out, "{kind:?}");
     }
 }
+
+/// `explain`'s hints claim only what their trials found, and agree with the plan: the trial at
+/// the image's own runtime is the cell itself, and the full Debian images deb-2.4, deb-2.8,
+/// deb-3.1 and deb-3.2 differ in their runtime only, so a trial on one of them at another's
+/// runtime must come out as that image's cell does. A cell whose version constraints resolve
+/// (it fails for a native reason) is never said to resolve nowhere.
+#[test]
+fn explain_hints_agree_with_the_plan() {
+    use basefit::plan::explain::{NotAdmitted, explain};
+    use basefit::report::text::explain_text;
+    let inputs = demo_inputs();
+    let options = PlanOptions::default();
+    let matrix = plan(&inputs, &options);
+    let siblings = ["deb-2.4", "deb-2.8", "deb-3.1", "deb-3.2"];
+    let runtime_of = |id: &str| {
+        let col = matrix.images.iter().find(|i| i.id == id).unwrap();
+        col.runtime.clone()
+    };
+    let mut explained = 0;
+    for cell in matrix.cells.iter().filter(|c| !c.outcome.resolves()) {
+        let e = explain(&inputs, &cell.package, &cell.image, &options).unwrap();
+        assert_eq!((e.cell.outcome, e.cell.cause), (cell.outcome, cell.cause));
+        let text = explain_text(&e);
+        let rt = e.runtime_hint.as_ref().expect("a failing cell gets hints");
+        let own = runtime_of(&cell.image);
+        for t in &rt.trials {
+            if t.version == own {
+                assert_eq!((t.outcome, t.cause), (cell.outcome, cell.cause), "{text}");
+            }
+            if siblings.contains(&cell.image.as_str())
+                && let Some(other) = siblings.iter().find(|s| runtime_of(s) == t.version)
+            {
+                let c = matrix.cell(&cell.package, other).unwrap();
+                assert_eq!(
+                    (t.outcome, t.cause),
+                    (c.outcome, c.cause),
+                    "at {other}: {text}"
+                );
+            }
+        }
+        if rt
+            .trials
+            .iter()
+            .any(|t| t.fails_natively() || t.undecided())
+        {
+            assert!(!text.contains("resolves at none"), "{text}");
+        }
+        let rel = e.release_hint.as_ref().unwrap();
+        if rel
+            .trials
+            .iter()
+            .any(|t| t.fails_natively() || t.undecided())
+        {
+            assert!(!text.contains("releases resolves on"), "{text}");
+            assert!(!text.contains("does not resolve on"), "{text}");
+        }
+        explained += 1;
+    }
+    assert!(explained >= 20, "{explained}");
+
+    // The reviewers' cells. quill-xml resolves on the slim image (2.0.1) but must compile.
+    let e = explain(&inputs, "quill-xml", "deb-3.2-slim", &options).unwrap();
+    let text = explain_text(&e);
+    assert!(
+        text.contains("its version constraints resolve, but it fails: missing-toolchain"),
+        "{text}"
+    );
+    assert!(
+        text.contains("no declared image's runtime makes it install here"),
+        "{text}"
+    );
+    assert!(
+        text.contains("none of its releases installs on this image"),
+        "{text}"
+    );
+    // bluetongue-async has pre-releases only, and its entry does not ask for them: no runtime
+    // helps, and the release that resolves when pinned is named as the pre-release it is.
+    let e = explain(&inputs, "bluetongue-async", "deb-3.2", &options).unwrap();
+    let text = explain_text(&e);
+    assert!(
+        text.contains("it resolves at none of the declared images' runtimes"),
+        "{text}"
+    );
+    assert_eq!(
+        e.release_hint.as_ref().unwrap().not_admitted,
+        Some(NotAdmitted::Prerelease)
+    );
+    assert!(
+        text.contains(
+            "newest release that resolves on this image: 0.2.0-beta.1 (installs); a pre-release, which the entry does not ask for"
+        ),
+        "{text}"
+    );
+    // saltbush on deb-2.4 (STORIES.md, story b): every release needs wattle-core 2.x, which
+    // needs runtime 3.1 or newer.
+    let e = explain(&inputs, "saltbush", "deb-2.4", &options).unwrap();
+    let text = explain_text(&e);
+    assert!(
+        text.contains("lowest declared runtime at which it resolves here: 3.1.2 (installs)"),
+        "{text}"
+    );
+}

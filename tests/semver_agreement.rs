@@ -18,6 +18,7 @@ use basefit::load::RegistryBuilder;
 use basefit::load::registry::RawRelease;
 use basefit::model::{PackageId, Registry, Requirement};
 use basefit::solve::SetCache;
+use basefit::solve::image::{Admission, runtime_verdict};
 use basefit::solve::sets::{indices, requirement_set, set_from_predicate};
 use proptest::prelude::*;
 use proptest::test_runner::{Config, RngAlgorithm, TestCaseError, TestRng, TestRunner};
@@ -451,4 +452,289 @@ fn prerelease_flag_admits_by_precedence() {
             .iter()
             .all(|&i| releases[i as usize].version.pre.is_empty())
     );
+}
+
+// ------------------------------------------------------------------------ runtime verdicts
+//
+// `solve::image::runtime_verdict` says whether an image's runtime meets a release's runtime
+// requirement and, when it does not, whether the image needs a newer or an older runtime (the
+// `runtime-too-old` and `runtime-too-new` causes). The reference is the semver crate's
+// `VersionReq::matches` over a grid of release versions that reaches one past every number the
+// requirements use, so the crate's own reading of partial versions decides each answer
+// (documented on `semver::Op`: `>I.J` is `>=I.(J+1).0`, `>I` is `>=(I+1).0.0`, `<=I.J` is
+// `<I.(J+1).0`, `~I.J` is `=I.J`, `^I` is `=I`, `I.J.*` is `=I.J`, ...):
+//
+// - admissible exactly when the crate matches the runtime;
+// - otherwise "needs a newer runtime" exactly when the crate matches some version above it,
+//   and "needs an older runtime" when every version it matches lies below it (a requirement
+//   it matches nowhere has no direction; it must still not be admissible).
+
+/// Every `I.J.K` with parts below `n`, ascending.
+fn release_grid(n: u64) -> Vec<Version> {
+    let mut out = Vec::new();
+    for i in 0..n {
+        for j in 0..n {
+            for k in 0..n {
+                out.push(Version::new(i, j, k));
+            }
+        }
+    }
+    out
+}
+
+/// Every comparator the syntax allows without a pre-release tag, numbers 0 to 3: each operator
+/// (or none, which is `^`) before `I`, `I.J` and `I.J.K`, and the wildcards.
+fn partial_comparators() -> Vec<String> {
+    let mut bodies = Vec::new();
+    for i in 0..4 {
+        bodies.push(format!("{i}"));
+        bodies.push(format!("{i}.*"));
+        for j in 0..4 {
+            bodies.push(format!("{i}.{j}"));
+            bodies.push(format!("{i}.{j}.*"));
+            for k in 0..4 {
+                bodies.push(format!("{i}.{j}.{k}"));
+            }
+        }
+    }
+    let mut out = vec!["*".to_string()];
+    for op in ["", "=", ">", ">=", "<", "<=", "~", "^"] {
+        for b in &bodies {
+            if op.is_empty() || !b.contains('*') {
+                out.push(format!("{op}{b}"));
+            }
+        }
+    }
+    out
+}
+
+/// splitmix64, for a fixed sample of combinations.
+struct Mix(u64);
+
+impl Mix {
+    fn below(&mut self, n: usize) -> usize {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        ((z ^ (z >> 31)) % n as u64) as usize
+    }
+}
+
+/// Every single comparator, then a fixed sample of two-comparator alternatives and of unions
+/// of two alternatives.
+fn runtime_requirements() -> Vec<String> {
+    let mut out = partial_comparators();
+    // A lone `*` must stand alone in an alternative.
+    let singles: Vec<String> = out.iter().filter(|c| *c != "*").cloned().collect();
+    let mut mix = Mix(18);
+    for _ in 0..3000 {
+        let (a, b) = (mix.below(singles.len()), mix.below(singles.len()));
+        out.push(format!("{}, {}", singles[a], singles[b]));
+    }
+    for _ in 0..1500 {
+        let pick = |mix: &mut Mix| singles[mix.below(singles.len())].clone();
+        let left = pick(&mut mix);
+        let right = if mix.below(2) == 0 {
+            pick(&mut mix)
+        } else {
+            format!("{}, {}", pick(&mut mix), pick(&mut mix))
+        };
+        out.push(format!("{left} || {right}"));
+    }
+    out
+}
+
+fn reference_verdict(
+    alts: &[VersionReq],
+    runtime: &Version,
+    grid: &[Version],
+) -> Option<Admission> {
+    if alts.iter().any(|a| a.matches(runtime)) {
+        return Some(Admission::Admissible);
+    }
+    let admitted: Vec<&Version> = grid
+        .iter()
+        .filter(|v| alts.iter().any(|a| a.matches(v)))
+        .collect();
+    if admitted.is_empty() {
+        None
+    } else if admitted.iter().any(|v| *v > runtime) {
+        Some(Admission::NeedsNewerRuntime)
+    } else {
+        Some(Admission::NeedsOlderRuntime)
+    }
+}
+
+/// Release runtimes, every operator with partial and full versions: the verdict agrees with
+/// `semver::VersionReq::matches` as described above. The reviewer's case first: `>3.1` on
+/// 3.1.5 needs a newer runtime (the crate reads it as `>=3.2.0`).
+#[test]
+fn runtime_verdicts_agree_with_semver_matches_on_partial_requirements() {
+    let v315 = Version::new(3, 1, 5);
+    for (req, want) in [
+        (">3.1", Admission::NeedsNewerRuntime),
+        (">3", Admission::NeedsNewerRuntime),
+        (">3.1.5", Admission::NeedsNewerRuntime),
+        (">3.1.4", Admission::Admissible),
+        ("<=3.1", Admission::Admissible),
+        ("<=3.0", Admission::NeedsOlderRuntime),
+        ("<3.1", Admission::NeedsOlderRuntime),
+        ("=3.1", Admission::Admissible),
+        ("~3.0", Admission::NeedsOlderRuntime),
+        ("^2.4", Admission::NeedsOlderRuntime),
+        ("3.*", Admission::Admissible),
+        ("<2.4 || >=3.2", Admission::NeedsNewerRuntime),
+    ] {
+        let r = Requirement::parse(req).unwrap();
+        assert_eq!(runtime_verdict(&r, &v315), want, "{req} on 3.1.5");
+    }
+
+    let grid = release_grid(6);
+    let runtimes = release_grid(5);
+    let mut compared = 0u64;
+    let mut directions = [0u64; 3];
+    for text in runtime_requirements() {
+        let req = Requirement::parse(&text).unwrap();
+        let alts = reference(&text).expect("the semver crate parses it too");
+        for r in &runtimes {
+            let got = runtime_verdict(&req, r);
+            compared += 1;
+            match reference_verdict(&alts, r, &grid) {
+                Some(want) => {
+                    assert_eq!(got, want, "`{text}` on runtime {r}");
+                    directions[match want {
+                        Admission::Admissible => 0,
+                        Admission::NeedsNewerRuntime => 1,
+                        _ => 2,
+                    }] += 1;
+                }
+                None => assert_ne!(got, Admission::Admissible, "`{text}` on runtime {r}"),
+            }
+            // Build metadata plays no part (Semantic Versioning 2.0.0, section 10).
+            let built = Version {
+                build: semver::BuildMetadata::new("build.7").unwrap(),
+                ..r.clone()
+            };
+            assert_eq!(runtime_verdict(&req, &built), got, "`{text}` on {built}");
+        }
+    }
+    println!(
+        "runtime verdicts: {compared} (requirement, runtime) pairs agree with semver::VersionReq::matches"
+    );
+    assert!(directions.iter().all(|&n| n > 10_000), "{directions:?}");
+}
+
+/// A pre-release runtime stands for the release it previews: against requirements that name
+/// no pre-release of it, `3.2.0-rc.1` gets exactly the verdicts of `3.2.0` (so `>=3.0`, `<4`
+/// and `>=3.2` admit it and `<3.2` does not). The reviewer's image: 3.2.0-rc.1 with `>=3.0`
+/// and `<4`.
+#[test]
+fn prerelease_runtime_counts_as_its_release() {
+    let rc = Version::parse("3.2.0-rc.1").unwrap();
+    for (req, want) in [
+        (">=3.0", Admission::Admissible),
+        ("<4", Admission::Admissible),
+        (">=3.2", Admission::Admissible),
+        ("^3.2", Admission::Admissible),
+        ("=3.2.0", Admission::Admissible),
+        ("<3.2", Admission::NeedsOlderRuntime),
+        ("<3.2.0", Admission::NeedsOlderRuntime),
+        (">=3.3", Admission::NeedsNewerRuntime),
+        (">3.2.0", Admission::NeedsNewerRuntime),
+    ] {
+        let r = Requirement::parse(req).unwrap();
+        assert_eq!(runtime_verdict(&r, &rc), want, "{req} on {rc}");
+    }
+    let runtimes = release_grid(5);
+    for text in runtime_requirements().iter().step_by(7) {
+        let req = Requirement::parse(text).unwrap();
+        for r in &runtimes {
+            let release = runtime_verdict(&req, r);
+            for pre in ["alpha", "rc.1", "0"] {
+                let v = Version {
+                    pre: semver::Prerelease::new(pre).unwrap(),
+                    ..r.clone()
+                };
+                assert_eq!(runtime_verdict(&req, &v), release, "`{text}` on {v}");
+            }
+        }
+    }
+}
+
+/// Where an alternative names a pre-release of the runtime's own release, that alternative
+/// compares the runtime whole, by precedence (Semantic Versioning 2.0.0, section 11: 1.2.3-alpha
+/// < 1.2.3-beta < 1.2.3-rc.1 < 1.2.3), through the semver crate's matching. The reference is
+/// `VersionReq::matches` over the releases below 4.0.0 and every pre-release of 1.2.3 in
+/// `PRE`; the other alternatives see the release 1.2.3. Only full versions are paired with a
+/// pre-release comparator: the crate matches a pre-release against partial ones (`>=1`,
+/// `<=1.2`, `=1.2`) in a way that departs from their documented meaning, so they have no single
+/// reference here.
+#[test]
+fn prerelease_runtime_against_requirements_naming_its_release() {
+    let pres: Vec<Version> = PRE
+        .iter()
+        .map(|p| Version::parse(&format!("1.2.3-{p}")).unwrap())
+        .collect();
+    let mut grid = release_grid(4);
+    grid.extend(pres.iter().cloned());
+    grid.sort();
+    let ops = ["=", ">", ">=", "<", "<=", "~", "^"];
+    let partners = [
+        "",
+        ", <1.2.3",
+        ", <1.2.4",
+        ", >1.2.2",
+        ", >=1.0.0",
+        ", <2.0.0",
+        " || >=2.0.0",
+        " || <1.0.0",
+        " || >=1.2.3",
+    ];
+    let release = Version::new(1, 2, 3);
+    let mut compared = 0u64;
+    for op in ops {
+        for named in PRE {
+            for partner in partners {
+                let text = format!("{op}1.2.3-{named}{partner}");
+                let req = Requirement::parse(&text).unwrap();
+                let alts = reference(&text).unwrap();
+                let names = |a: &VersionReq| a.comparators.iter().any(|c| !c.pre.is_empty());
+                for runtime in &pres {
+                    let seen = |a: &VersionReq| if names(a) { runtime } else { &release };
+                    let want = if alts.iter().any(|a| a.matches(seen(a))) {
+                        Some(Admission::Admissible)
+                    } else if alts.iter().any(|a| {
+                        let s = seen(a);
+                        grid.iter().any(|v| v > s && a.matches(v))
+                    }) {
+                        Some(Admission::NeedsNewerRuntime)
+                    } else if grid.iter().any(|v| alts.iter().any(|a| a.matches(v))) {
+                        Some(Admission::NeedsOlderRuntime)
+                    } else {
+                        None
+                    };
+                    let got = runtime_verdict(&req, runtime);
+                    compared += 1;
+                    match want {
+                        Some(w) => assert_eq!(got, w, "`{text}` on runtime {runtime}"),
+                        None => assert_ne!(got, Admission::Admissible, "`{text}` on {runtime}"),
+                    }
+                }
+            }
+        }
+    }
+    println!("pre-release runtimes: {compared} pairs agree");
+    // The cases a release candidate image meets first.
+    let rc1 = Version::parse("3.2.0-rc.1").unwrap();
+    for (req, want) in [
+        (">=3.2.0-rc.2", Admission::NeedsNewerRuntime),
+        (">=3.2.0-rc.1", Admission::Admissible),
+        (">=3.2.0-beta.1, <3.2.0", Admission::Admissible),
+        ("<3.2.0-rc.1", Admission::NeedsOlderRuntime),
+        ("=3.2.0-rc.2 || <3.1", Admission::NeedsNewerRuntime),
+    ] {
+        let r = Requirement::parse(req).unwrap();
+        assert_eq!(runtime_verdict(&r, &rc1), want, "{req} on {rc1}");
+    }
 }

@@ -121,3 +121,66 @@ fn one_pigeon_fewer_installs() {
     holes_used.dedup();
     assert_eq!(holes_used.len(), HOLES);
 }
+
+/// `explain` on a cell the budget left undecided: its hints say they do not know, rather than
+/// that nothing resolves; with the default budget the same cell installs. The diamond: `dia-ok`
+/// needs `b ^1` and `c ^1`, and only `c 1.0.0` agrees with `b ^1`.
+#[test]
+fn explain_hints_on_an_undecided_cell_say_they_do_not_know() {
+    use basefit::load::{InputPaths, load_inputs};
+    use basefit::plan::PlanOptions;
+    use basefit::plan::explain::explain;
+    use basefit::plan::matrix::Outcome;
+    use basefit::report::text::explain_text;
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| std::fs::write(dir.path().join(name), text).unwrap();
+    write(
+        "r.yaml",
+        "packages:
+  - name: b
+    versions: [{version: 1.0.0}, {version: 1.5.0}, {version: 2.0.0}, {version: 2.3.0}]
+  - name: c
+    versions:
+      - {version: 1.0.0, depends: [{name: b, req: '^1'}]}
+      - {version: 1.1.0, depends: [{name: b, req: '^2'}]}
+  - name: dia-ok
+    versions: [{version: 1.0.0, depends: [{name: b, req: '^1'}, {name: c, req: '^1'}]}]
+",
+    );
+    write(
+        "i.yaml",
+        "images:
+  - {id: deb-3.1, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64}
+  - {id: deb-2.4, runtime: 2.4.0, family: debian, platform: linux/glibc/x86_64}
+",
+    );
+    write("p.yaml", "priorities: [dia-ok]\n");
+    let inputs = load_inputs(&InputPaths {
+        registry: vec![dir.path().join("r.yaml")],
+        images: Some(dir.path().join("i.yaml")),
+        priorities: Some(dir.path().join("p.yaml")),
+        ..Default::default()
+    })
+    .unwrap();
+    let tight = PlanOptions {
+        budget: 2,
+        ..PlanOptions::default()
+    };
+    let e = explain(&inputs, "dia-ok", "deb-3.1", &tight).unwrap();
+    assert_eq!(e.cell.outcome, Outcome::Undecided);
+    let text = explain_text(&e);
+    assert!(
+        text.contains("at runtimes 2.4.0, 3.1.5 the solver ran out of budget"),
+        "{text}"
+    );
+    assert!(
+        text.contains("whether its only release resolves on this image is unknown"),
+        "{text}"
+    );
+    for claim in ["resolves at none", "does not resolve", "none of its"] {
+        assert!(!text.contains(claim), "`{claim}` in {text}");
+    }
+    let e = explain(&inputs, "dia-ok", "deb-3.1", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.outcome, Outcome::Installs);
+    assert!(e.runtime_hint.is_none() && e.release_hint.is_none());
+}

@@ -4,7 +4,8 @@
 use super::matrix::{Cell, Outcome, PlanOptions, plan_cell, plan_pinned_cell};
 use crate::load::{BadInput, Inputs};
 use crate::model::{PackageId, Priority};
-use crate::solve::{ImageView, SetCache};
+use crate::solve::sets::{indices, root_set};
+use crate::solve::{Cause, ImageView, SetCache};
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 
@@ -27,11 +28,97 @@ pub struct TreeLine {
 pub struct Explanation {
     pub cell: Cell,
     pub tree: Vec<TreeLine>,
-    /// The lowest runtime among the declared images' runtimes at which the package resolves on
-    /// this image's platform, if any.
-    pub lowest_runtime: Option<String>,
-    /// The newest root release older than the newest one that resolves on this image.
-    pub older_release: Option<String>,
+    /// The entry tried on this image at the declared images' runtimes (when the cell does not
+    /// resolve).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub runtime_hint: Option<RuntimeHint>,
+    /// The entry pinned to its newest releases in turn (when the cell does not resolve).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub release_hint: Option<ReleaseHint>,
+}
+
+/// How the cell came out at one declared runtime, or with the entry pinned to one release.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Trial {
+    /// The runtime tried, or the release pinned.
+    pub version: String,
+    pub outcome: Outcome,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cause: Option<Cause>,
+}
+
+impl Trial {
+    fn of(version: String, cell: &Cell) -> Trial {
+        Trial {
+            version,
+            outcome: cell.outcome,
+            cause: cell.cause,
+        }
+    }
+
+    /// Installs or is at risk.
+    pub fn resolves(&self) -> bool {
+        self.outcome.resolves()
+    }
+
+    /// Its version constraints resolve, and the native step fails it.
+    pub fn fails_natively(&self) -> bool {
+        self.outcome == Outcome::Fails
+            && matches!(
+                self.cause,
+                Some(Cause::MissingToolchain | Cause::MissingSystemLibrary)
+            )
+    }
+
+    /// The solver ran out of budget: nothing is known.
+    pub fn undecided(&self) -> bool {
+        self.outcome == Outcome::Undecided
+    }
+}
+
+/// The entry on this image (its platform, toolchain and system packages) at each declared
+/// image's runtime, lowest first, up to and including the first at which it resolves. At the
+/// image's own runtime the trial is the cell itself.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct RuntimeHint {
+    pub trials: Vec<Trial>,
+}
+
+impl RuntimeHint {
+    /// The lowest runtime at which it resolves, if any was found.
+    pub fn resolves_at(&self) -> Option<&Trial> {
+        self.trials.last().filter(|t| t.resolves())
+    }
+}
+
+/// The entry pinned to each of its newest releases (yanked ones aside) in turn, newest first,
+/// up to and including the first that resolves on this image.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct ReleaseHint {
+    pub trials: Vec<Trial>,
+    /// Releases (yanked ones aside) older than the oldest one tried, left untried.
+    pub untried: usize,
+    /// When the last trial resolves and the entry as written does not admit that release: why
+    /// not.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub not_admitted: Option<NotAdmitted>,
+}
+
+/// Why the entry as written does not ask for a release the hint found.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum NotAdmitted {
+    /// A pre-release, and the entry does not set `prerelease: true`.
+    Prerelease,
+    /// Outside the entry's requirement (its text).
+    Requirement(String),
+}
+
+impl ReleaseHint {
+    /// The newest release tried that resolves, if any.
+    pub fn resolves(&self) -> Option<&Trial> {
+        self.trials.last().filter(|t| t.resolves())
+    }
 }
 
 /// Explains `package` on `image_id`.
@@ -72,26 +159,30 @@ pub fn explain(
     } else {
         Vec::new()
     };
-    let (lowest_runtime, older_release) = if cell.outcome.resolves() {
+    let (runtime_hint, release_hint) = if cell.outcome.resolves() {
         (None, None)
     } else {
-        hints(inputs, image, &entry, &sets, options)
+        (
+            Some(runtime_hint(inputs, image, &entry, &cell, &sets, options)),
+            Some(release_hint(inputs, &view, &entry, options)),
+        )
     };
     Ok(Explanation {
         cell,
         tree,
-        lowest_runtime,
-        older_release,
+        runtime_hint,
+        release_hint,
     })
 }
 
-fn hints(
+fn runtime_hint(
     inputs: &Inputs,
     image: &crate::model::Image,
     entry: &Priority,
+    cell: &Cell,
     sets: &SetCache,
     options: &PlanOptions,
-) -> (Option<String>, Option<String>) {
+) -> RuntimeHint {
     let mut runtimes: Vec<semver::Version> = inputs
         .images
         .images
@@ -100,31 +191,80 @@ fn hints(
         .collect();
     runtimes.sort();
     runtimes.dedup();
-    let lowest = runtimes.into_iter().find(|rt| {
-        let mut trial = image.clone();
-        trial.runtime = rt.clone();
-        let view = ImageView::new(&inputs.registry, &trial, sets);
-        plan_cell(inputs, &view, entry, options).outcome.resolves()
-    });
-    // Older releases are judged like the cell itself, native step included, by pinning the
-    // entry to each release in turn. Pinned by index: a requirement such as `=2.3.0+2` also
-    // admits 2.3.0+1 (matching ignores build metadata), so the hint could name a release
-    // that does not resolve.
-    let view = ImageView::new(&inputs.registry, image, sets);
-    let older = inputs.registry.id(&entry.name).and_then(|root| {
-        let releases = &inputs.registry.package(root).releases;
-        (0..releases.len())
-            .rev()
-            .filter(|&i| !releases[i].yanked)
-            .take(OLDER_RELEASES_TRIED)
-            .find(|&i| {
-                plan_pinned_cell(inputs, &view, entry, root, i as u32, options)
-                    .outcome
-                    .resolves()
-            })
-            .map(|i| releases[i].version.to_string())
-    });
-    (lowest.map(|v| v.to_string()), older)
+    let mut trials = Vec::new();
+    for rt in runtimes {
+        let trial = if rt == image.runtime {
+            // The cell itself: the hint must not contradict it.
+            Trial::of(rt.to_string(), cell)
+        } else {
+            let mut trial = image.clone();
+            trial.runtime = rt.clone();
+            let view = ImageView::new(&inputs.registry, &trial, sets);
+            Trial::of(rt.to_string(), &plan_cell(inputs, &view, entry, options))
+        };
+        let done = trial.resolves();
+        trials.push(trial);
+        if done {
+            break;
+        }
+    }
+    RuntimeHint { trials }
+}
+
+/// Older releases are judged like the cell itself, native step included, by pinning the
+/// entry to each release in turn.
+fn release_hint(
+    inputs: &Inputs,
+    view: &ImageView<'_>,
+    entry: &Priority,
+    options: &PlanOptions,
+) -> ReleaseHint {
+    let registry = &inputs.registry;
+    let mut hint = ReleaseHint {
+        trials: Vec::new(),
+        untried: 0,
+        not_admitted: None,
+    };
+    let Some(root) = registry.id(&entry.name) else {
+        return hint;
+    };
+    let releases = &registry.package(root).releases;
+    let candidates: Vec<usize> = (0..releases.len())
+        .rev()
+        .filter(|&i| !releases[i].yanked)
+        .collect();
+    let mut found = None;
+    for &i in candidates.iter().take(OLDER_RELEASES_TRIED) {
+        // Pinned by index: a requirement such as `=2.3.0+2` also admits 2.3.0+1 (matching
+        // ignores build metadata), so the hint could name a release that does not resolve.
+        let trial = Trial::of(
+            releases[i].version.to_string(),
+            &plan_pinned_cell(inputs, view, entry, root, i as u32, options),
+        );
+        let done = trial.resolves();
+        hint.trials.push(trial);
+        if done {
+            found = Some(i);
+            break;
+        }
+    }
+    hint.untried = candidates.len() - hint.trials.len();
+    if let Some(i) = found {
+        let any = crate::model::Requirement::any();
+        let req = entry.req.as_ref().unwrap_or(&any);
+        let admits = |prerelease: bool| {
+            let set = root_set(registry, root, req, prerelease);
+            indices(&set, releases.len()).any(|j| j as usize == i)
+        };
+        hint.not_admitted = if admits(entry.prerelease) {
+            None
+        } else if admits(true) {
+            Some(NotAdmitted::Prerelease)
+        } else {
+            Some(NotAdmitted::Requirement(req.text.clone()))
+        };
+    }
+    hint
 }
 
 /// The closure of a resolved cell as a dependency tree from the root, in depth-first order

@@ -3,7 +3,7 @@
 use crate::load::Ledger;
 use crate::load::diag::Tally;
 use crate::plan::blockers::SharedBlocker;
-use crate::plan::explain::Explanation;
+use crate::plan::explain::{Explanation, NotAdmitted, ReleaseHint, RuntimeHint, Trial};
 use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
 use serde::Serialize;
 use std::fmt::Write;
@@ -279,25 +279,210 @@ pub fn explain_text(e: &Explanation) -> String {
             c.missing_system_packages.join(" ")
         );
     }
-    if !c.outcome.resolves() {
+    let mut hints = Vec::new();
+    if let Some(h) = &e.runtime_hint {
+        hints.extend(runtime_hint_lines(h));
+    }
+    if let Some(h) = &e.release_hint {
+        hints.extend(release_hint_lines(h));
+    }
+    if !hints.is_empty() {
         out.push_str("\nhints:\n");
-        match &e.lowest_runtime {
-            Some(rt) => {
-                let _ = writeln!(
-                    out,
-                    "  lowest declared runtime at which it resolves here: {rt}"
-                );
-            }
-            None => out.push_str("  it resolves at none of the declared images' runtimes\n"),
-        }
-        match &e.older_release {
-            Some(v) => {
-                let _ = writeln!(out, "  newest release that resolves on this image: {v}");
-            }
-            None => out.push_str("  no recent release of it resolves on this image\n"),
+        for l in hints {
+            let _ = writeln!(out, "  {l}");
         }
     }
     let _ = writeln!(out, "\n{NOTICE}");
+    out
+}
+
+/// `runtime 3.1.2` or `runtimes 3.1.2, 3.2.0`.
+fn runtimes(trials: &[&Trial]) -> String {
+    let noun = if trials.len() == 1 {
+        "runtime"
+    } else {
+        "runtimes"
+    };
+    format!("{noun} {}", versions(trials))
+}
+
+/// Versions for a sentence: the first few, then how many more.
+fn versions(trials: &[&Trial]) -> String {
+    const SHOWN: usize = 6;
+    let mut s: Vec<&str> = trials
+        .iter()
+        .take(SHOWN)
+        .map(|t| t.version.as_str())
+        .collect();
+    let more = trials.len().saturating_sub(SHOWN);
+    let more = format!("and {more} more");
+    if trials.len() > SHOWN {
+        s.push(&more);
+    }
+    s.join(", ")
+}
+
+/// The distinct causes of `trials`, for a sentence.
+fn causes(trials: &[&Trial]) -> String {
+    let mut c: Vec<&str> = trials
+        .iter()
+        .filter_map(|t| t.cause.map(|c| c.as_str()))
+        .collect();
+    c.sort_unstable();
+    c.dedup();
+    c.join(", ")
+}
+
+/// The three ways a tried runtime or release can fail to resolve: its version constraints
+/// resolve but the native step fails it; the solver ran out of budget; its version
+/// constraints do not resolve.
+fn failed_trials(trials: &[Trial]) -> [Vec<&Trial>; 3] {
+    let mut out: [Vec<&Trial>; 3] = Default::default();
+    for t in trials.iter().filter(|t| !t.resolves()) {
+        let k = if t.fails_natively() {
+            0
+        } else if t.undecided() {
+            1
+        } else {
+            2
+        };
+        out[k].push(t);
+    }
+    out
+}
+
+/// The runtime hint, saying only what its trials found: a runtime where the solver ran out
+/// of budget is unknown, and one where the version constraints resolve but a native need
+/// fails is not said not to resolve.
+fn runtime_hint_lines(h: &RuntimeHint) -> Vec<String> {
+    let [native, undecided, unresolved] = failed_trials(&h.trials);
+    let mut out = Vec::new();
+    if let Some(t) = h.resolves_at() {
+        out.push(format!(
+            "lowest declared runtime at which it resolves here: {} ({})",
+            t.version,
+            t.outcome.as_str()
+        ));
+        if !native.is_empty() {
+            out.push(format!(
+                "at the lower {} its version constraints resolve, but it fails: {}",
+                runtimes(&native),
+                causes(&native)
+            ));
+        }
+        if !undecided.is_empty() {
+            out.push(format!(
+                "at the lower {} the solver ran out of budget, so it may resolve lower (raise --budget)",
+                runtimes(&undecided)
+            ));
+        }
+        return out;
+    }
+    if !native.is_empty() {
+        out.push(format!(
+            "at {} its version constraints resolve, but it fails: {}",
+            runtimes(&native),
+            causes(&native)
+        ));
+    }
+    if !undecided.is_empty() {
+        out.push(format!(
+            "at {} the solver ran out of budget, so whether it resolves there is unknown (raise --budget)",
+            runtimes(&undecided)
+        ));
+        if !unresolved.is_empty() {
+            out.push(format!(
+                "at {} its version constraints do not resolve",
+                runtimes(&unresolved)
+            ));
+        }
+    } else if !native.is_empty() {
+        if !unresolved.is_empty() {
+            out.push(format!(
+                "at {} its version constraints do not resolve",
+                runtimes(&unresolved)
+            ));
+        }
+        out.push("no declared image's runtime makes it install here".into());
+    } else {
+        out.push(format!(
+            "it resolves at none of the declared images' runtimes ({})",
+            versions(&unresolved)
+        ));
+    }
+    out
+}
+
+/// The release hint, saying only what its trials found (see [`runtime_hint_lines`]).
+fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
+    let [native, undecided, unresolved] = failed_trials(&h.trials);
+    let mut out = Vec::new();
+    if let Some(t) = h.resolves() {
+        let mut line = format!(
+            "newest release that resolves on this image: {} ({})",
+            t.version,
+            t.outcome.as_str()
+        );
+        match &h.not_admitted {
+            Some(NotAdmitted::Prerelease) => line.push_str(
+                "; a pre-release, which the entry does not ask for (set `prerelease: true` on it)",
+            ),
+            Some(NotAdmitted::Requirement(req)) => {
+                let pre = semver::Version::parse(&t.version).is_ok_and(|v| !v.pre.is_empty());
+                let what = if pre { "a pre-release " } else { "" };
+                let _ = write!(line, "; {what}outside the entry's requirement `{req}`");
+            }
+            None => {}
+        }
+        out.push(line);
+        if !undecided.is_empty() {
+            out.push(format!(
+                "on the newer {} the solver ran out of budget, so a newer one may resolve too (raise --budget)",
+                versions(&undecided)
+            ));
+        }
+        return out;
+    }
+    if h.trials.is_empty() {
+        out.push("it has no release to try on this image".into());
+        return out;
+    }
+    let only = h.trials.len() == 1 && h.untried == 0;
+    let scope = match (h.trials.len(), h.untried) {
+        (_, 0) => "its releases".to_string(),
+        (n, _) => format!("its {n} newest releases"),
+    };
+    if !native.is_empty() {
+        out.push(format!(
+            "pinned to {}, its version constraints resolve, but it fails: {}",
+            versions(&native),
+            causes(&native)
+        ));
+    }
+    if !undecided.is_empty() {
+        out.push(format!(
+            "pinned to {}, the solver ran out of budget (raise --budget)",
+            versions(&undecided)
+        ));
+    }
+    if !unresolved.is_empty() && (!native.is_empty() || !undecided.is_empty()) {
+        out.push(format!(
+            "pinned to {}, its version constraints do not resolve",
+            versions(&unresolved)
+        ));
+    }
+    // Releases whose constraints resolve may not be said not to resolve.
+    let verb = if native.is_empty() {
+        "resolve"
+    } else {
+        "install"
+    };
+    out.push(match (undecided.is_empty(), only) {
+        (true, true) => format!("its only release does not {verb} on this image"),
+        (true, false) => format!("none of {scope} {verb}s on this image"),
+        (false, true) => "whether its only release resolves on this image is unknown".into(),
+        (false, false) => format!("whether any of {scope} resolves on this image is unknown"),
+    });
     out
 }
 

@@ -3,7 +3,7 @@
 
 use super::sets::{IndexSet, SetCache, index_run};
 use crate::model::{Image, PackageId, PerPackage, Registry, ReqId, Requirement};
-use semver::{Op, Version};
+use semver::{BuildMetadata, Comparator, Op, Prerelease, Version, VersionReq};
 use serde::Serialize;
 use std::sync::OnceLock;
 
@@ -198,38 +198,198 @@ impl<'r> ImageView<'r> {
 
 /// Whether `runtime` meets `req`, and if not, in which direction it misses.
 ///
-/// A requirement misses "low" when some alternative would admit a newer runtime: one of its
-/// comparators puts a lower bound above `runtime`. Otherwise every alternative fails on an
-/// upper bound and the runtime is too new.
+/// An alternative (the part between `||`) admits a release runtime exactly when
+/// `semver::VersionReq::matches` says so. A pre-release runtime (`3.2.0-rc.1`) stands for the
+/// release it previews: it is compared as `3.2.0` against every alternative except those that
+/// name a pre-release of that same major.minor.patch (`>=3.2.0-rc.2`), which get it whole, by
+/// the semver crate's own rule. So a release candidate image predicts what the release will
+/// install, which is what an engineer testing a candidate wants to know; toolchains commonly
+/// judge a pre-release of themselves so when checking a package's declared minimum (common
+/// practice, no source).
+///
+/// A runtime that no alternative admits misses "low" (the image needs a newer runtime) when an
+/// alternative that admits some runtime puts its lower bound above this one, and "high"
+/// otherwise: every such alternative lies wholly below it. Bounds follow the semver crate's
+/// documented meaning of partial versions (`>3.1` is `>=3.2.0`, `<=3.1` is `<3.2.0`, `~3.1` is
+/// `>=3.1.0, <3.2.0`, ...). A requirement no runtime meets has no true direction; it is
+/// reported "low" when some lower bound lies above the runtime.
 ///
 /// ```
 /// use basefit::model::Requirement;
 /// use basefit::solve::image::{runtime_verdict, Admission};
 /// use semver::Version;
-/// let v = Version::parse("3.0.5").unwrap();
-/// assert_eq!(runtime_verdict(&Requirement::parse(">=3.1").unwrap(), &v), Admission::NeedsNewerRuntime);
-/// assert_eq!(runtime_verdict(&Requirement::parse(">=2.4, <3.0").unwrap(), &v), Admission::NeedsOlderRuntime);
-/// assert_eq!(runtime_verdict(&Requirement::parse("^3").unwrap(), &v), Admission::Admissible);
+/// let v = Version::parse("3.1.5").unwrap();
+/// let verdict = |r: &str| runtime_verdict(&Requirement::parse(r).unwrap(), &v);
+/// assert_eq!(verdict(">=3.2"), Admission::NeedsNewerRuntime);
+/// assert_eq!(verdict(">3.1"), Admission::NeedsNewerRuntime); // `>3.1` is `>=3.2.0`
+/// assert_eq!(verdict(">=2.4, <3.1"), Admission::NeedsOlderRuntime);
+/// assert_eq!(verdict("^3"), Admission::Admissible);
+/// // A release candidate counts as the release it previews...
+/// let rc = Version::parse("3.2.0-rc.1").unwrap();
+/// let verdict = |r: &str| runtime_verdict(&Requirement::parse(r).unwrap(), &rc);
+/// assert_eq!(verdict(">=3.0"), Admission::Admissible);
+/// assert_eq!(verdict(">=3.2"), Admission::Admissible);
+/// assert_eq!(verdict("<3.2"), Admission::NeedsOlderRuntime);
+/// // ...except where a requirement names a pre-release of that release.
+/// assert_eq!(verdict(">=3.2.0-rc.2"), Admission::NeedsNewerRuntime);
+/// assert_eq!(verdict(">=3.2.0-beta.1, <3.2.0"), Admission::Admissible);
 /// ```
 pub fn runtime_verdict(req: &Requirement, runtime: &Version) -> Admission {
-    if req.matches(runtime) {
+    let whole = Version {
+        build: BuildMetadata::EMPTY,
+        ..runtime.clone()
+    };
+    let release = Version::new(runtime.major, runtime.minor, runtime.patch);
+    // The runtime as `alt` sees it.
+    let seen = |alt: &VersionReq| -> &Version {
+        if names_prerelease_of(alt, &whole) {
+            &whole
+        } else {
+            &release
+        }
+    };
+    if req.alternatives.iter().any(|alt| alt.matches(seen(alt))) {
         return Admission::Admissible;
     }
-    let below_some_alternative = req.alternatives.iter().any(|alt| {
-        alt.comparators.iter().any(|c| {
-            let lower = Version::new(c.major, c.minor.unwrap_or(0), c.patch.unwrap_or(0));
-            match c.op {
-                Op::Greater => *runtime <= lower,
-                Op::GreaterEq | Op::Exact | Op::Tilde | Op::Caret | Op::Wildcard => {
-                    *runtime < lower
-                }
-                _ => false,
-            }
-        })
-    });
-    if below_some_alternative {
+    let above = |alt: &&VersionReq| {
+        let v = seen(alt);
+        alt.comparators
+            .iter()
+            .any(|c| lower_bound(c).is_some_and(|lo| lo.above(v)))
+    };
+    let mut satisfiable = req
+        .alternatives
+        .iter()
+        .filter(|a| satisfiable(a))
+        .peekable();
+    let newer = if satisfiable.peek().is_some() {
+        satisfiable.any(|a| above(&a))
+    } else {
+        req.alternatives.iter().any(|a| above(&a))
+    };
+    if newer {
         Admission::NeedsNewerRuntime
     } else {
         Admission::NeedsOlderRuntime
     }
+}
+
+/// Whether a comparator of `alt` names a pre-release of `v`'s major.minor.patch: the semver
+/// crate's condition for letting a pre-release `v` match at all.
+fn names_prerelease_of(alt: &VersionReq, v: &Version) -> bool {
+    !v.pre.is_empty()
+        && alt.comparators.iter().any(|c| {
+            !c.pre.is_empty()
+                && c.major == v.major
+                && c.minor == Some(v.minor)
+                && c.patch == Some(v.patch)
+        })
+}
+
+/// The lowest version a comparator admits, by precedence.
+#[derive(Debug, Clone, PartialEq, Eq)]
+enum Lower {
+    /// This version and everything above it.
+    From(Version),
+    /// Everything above this version.
+    After(Version),
+    /// Nothing: the bound lies past the largest version there is (`>18446744073709551615`).
+    Beyond,
+}
+
+impl Lower {
+    /// Whether `v` lies below the bound.
+    fn above(&self, v: &Version) -> bool {
+        match self {
+            Lower::From(lo) => v < lo,
+            Lower::After(lo) => v <= lo,
+            Lower::Beyond => true,
+        }
+    }
+
+    /// The least version past the bound (`None` for [`Lower::Beyond`]).
+    fn least(&self) -> Option<Version> {
+        match self {
+            Lower::From(lo) => Some(lo.clone()),
+            Lower::After(lo) if lo.pre.is_empty() => {
+                let (major, minor, patch) = (lo.major, lo.minor, lo.patch);
+                patch
+                    .checked_add(1)
+                    .map(|p| Version::new(major, minor, p))
+                    .or_else(|| minor.checked_add(1).map(|m| Version::new(major, m, 0)))
+                    .or_else(|| major.checked_add(1).map(|m| Version::new(m, 0, 0)))
+            }
+            // The successor of `I.J.K-pre` by precedence: one more, lowest, identifier.
+            Lower::After(lo) => Prerelease::new(&format!("{}.0", lo.pre))
+                .ok()
+                .map(|pre| Version { pre, ..lo.clone() }),
+            Lower::Beyond => None,
+        }
+    }
+
+    /// The tighter of two bounds.
+    fn max(self, other: Lower) -> Lower {
+        fn key(l: &Lower) -> (bool, Option<&Version>, bool) {
+            match l {
+                Lower::From(v) => (false, Some(v), false),
+                Lower::After(v) => (false, Some(v), true),
+                Lower::Beyond => (true, None, false),
+            }
+        }
+        if key(&other) > key(&self) {
+            other
+        } else {
+            self
+        }
+    }
+}
+
+/// The lower bound of `c` (`None` for `<` and `<=`, which have none), by the semver crate's
+/// documented meaning of partial versions: `>I.J` is `>=I.(J+1).0`, `>I` is `>=(I+1).0.0`,
+/// and `=`, `~`, `^`, `>=` and wildcards start at the version with missing parts set to 0.
+fn lower_bound(c: &Comparator) -> Option<Lower> {
+    let full = |minor: u64, patch: u64| Version {
+        major: c.major,
+        minor,
+        patch,
+        pre: c.pre.clone(),
+        build: BuildMetadata::EMPTY,
+    };
+    Some(match c.op {
+        Op::Less | Op::LessEq => return None,
+        Op::Greater => match (c.minor, c.patch) {
+            (Some(minor), Some(patch)) => Lower::After(full(minor, patch)),
+            (Some(minor), None) => match minor.checked_add(1) {
+                Some(next) => Lower::From(Version::new(c.major, next, 0)),
+                None => next_major(c.major),
+            },
+            (None, _) => next_major(c.major),
+        },
+        _ => Lower::From(full(c.minor.unwrap_or(0), c.patch.unwrap_or(0))),
+    })
+}
+
+fn next_major(major: u64) -> Lower {
+    major
+        .checked_add(1)
+        .map_or(Lower::Beyond, |m| Lower::From(Version::new(m, 0, 0)))
+}
+
+/// Whether some runtime meets `alt`: the least version its lower bounds allow does, since
+/// what an alternative admits is one stretch of versions.
+fn satisfiable(alt: &VersionReq) -> bool {
+    let lowest = alt
+        .comparators
+        .iter()
+        .filter_map(lower_bound)
+        .fold(Lower::From(Version::new(0, 0, 0)), Lower::max);
+    lowest.least().is_some_and(|v| {
+        let release = Version::new(v.major, v.minor, v.patch);
+        let seen = if names_prerelease_of(alt, &v) {
+            &v
+        } else {
+            &release
+        };
+        alt.matches(seen)
+    })
 }
