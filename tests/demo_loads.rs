@@ -360,3 +360,26 @@ fn registry_reading_fills_its_progress_bar() {
     let want = size(&versions) + size(&deps);
     assert_eq!((bar.position(), bar.length()), (want, Some(want)));
 }
+
+#[test]
+fn priority_csv_flags_read_as_the_bulk_csv_flags_do() {
+    // Both CSV inputs take one set of spellings for true and false (`load::table::parse_flag`).
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("p.csv");
+    std::fs::write(
+        &path,
+        "rank,name,prerelease\n1,alpha,yes\n2,beta,0\n3,gamma,TRUE\n4,delta,\n",
+    )
+    .unwrap();
+    let mut ledger = Ledger::default();
+    let list = read_priorities(&path, &mut ledger).unwrap();
+    let flags: Vec<bool> = list.entries.iter().map(|e| e.prerelease).collect();
+    assert_eq!(flags, [true, false, true, false]);
+    std::fs::write(&path, "rank,name,prerelease\n1,alpha,true\n2,beta,maybe\n").unwrap();
+    let err = read_priorities(&path, &mut Ledger::default()).unwrap_err();
+    let text = err.to_string();
+    assert!(
+        text.contains("p.csv:3") && text.contains("`maybe`"),
+        "{text}"
+    );
+}

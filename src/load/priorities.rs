@@ -118,16 +118,16 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
         };
         let entry = (|| {
             let name = entry_name(&table.file, row.line, row.get(c_name).unwrap_or_default())?;
+            // The same spellings as the bulk CSV's flags: one reader of CSV true/false.
             let prerelease = match row.get(c_pre) {
-                None | Some("false") => false,
-                Some("true") => true,
-                Some(other) => {
-                    return Err(BadInput::at(
+                None => false,
+                Some(text) => super::table::parse_flag(text).ok_or_else(|| {
+                    BadInput::at(
                         &table.file,
                         row.line,
-                        format!("`prerelease`: expected true or false, found `{other}`"),
-                    ));
-                }
+                        format!("`prerelease`: expected true or false, found `{text}`"),
+                    )
+                })?,
             };
             Ok(RawEntry {
                 line: row.line,
