@@ -236,6 +236,26 @@ fn surprise_install_step(cell: &crate::plan::matrix::Cell, images: &ImageSet) ->
     }
 }
 
+/// The next step when an install took another version than predicted, by which way it went:
+/// a newer one means the snapshot lags the registry the install used; an older one means
+/// something held the install back (a lock file, a pin, or a mirror behind the snapshot).
+fn drift_step(installed: &str, predicted: &str) -> String {
+    let order = semver::Version::parse(installed)
+        .ok()
+        .zip(semver::Version::parse(predicted).ok())
+        .map(|(i, p)| i.cmp_precedence(&p));
+    let why = match order {
+        Some(std::cmp::Ordering::Greater) => {
+            "the registry snapshot may be older than the registry the install used"
+        }
+        Some(std::cmp::Ordering::Less) => {
+            "something held the install back: a lock file, a pin, or a registry mirror behind the snapshot"
+        }
+        _ => "the snapshot and the install disagree on the version",
+    };
+    format!("installed {installed} where {predicted} was predicted: {why}")
+}
+
 /// Compares `matrix` with recorded `results`. Every result is either compared or listed in
 /// `outside_matrix`.
 pub fn compare(
@@ -340,10 +360,9 @@ pub fn compare(
                     surprise_install_step(cell, images)
                 ))
             }
-            Verdict::Drift => Some(format!(
-                "installed {} where {} was predicted: the registry snapshot may be older than the install",
+            Verdict::Drift => Some(drift_step(
                 installed_version.as_deref().unwrap_or("?"),
-                cell.root_version.as_deref().unwrap_or("?")
+                cell.root_version.as_deref().unwrap_or("?"),
             )),
             _ => log_cause.as_ref().and_then(|c| {
                 suggest(
@@ -464,5 +483,24 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 .unwrap_or_default(),
             attempts: c.attempts.len(),
         });
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::drift_step;
+
+    #[test]
+    fn drift_advice_follows_the_direction_of_the_version() {
+        // Precedence by Semantic Versioning 2.0.0, section 11: 2.0.0-rc.1 < 2.0.0.
+        assert!(drift_step("1.2.0", "1.4.2").contains("held the install back"));
+        assert!(drift_step("2.0.0-rc.1", "2.0.0").contains("held the install back"));
+        assert!(drift_step("1.5.0", "1.4.2").contains("snapshot may be older"));
+        // Build metadata does not order versions (section 10), and text that is no version
+        // gives no direction.
+        for (installed, predicted) in [("1.4.2+b", "1.4.2+a"), ("nightly", "1.4.2")] {
+            let step = drift_step(installed, predicted);
+            assert!(step.contains("disagree"), "{step}");
+        }
     }
 }
