@@ -127,3 +127,37 @@ fn unmatched_requirement_on_a_published_package_is_not_missing() {
         ["phantom (wanted ^1) is missing from the registry"]
     );
 }
+
+/// pubgrub merges what several releases require into one fact; the explanation must keep
+/// apart "each release needs one of these" (or) from "one release needs all of these" (and).
+#[test]
+fn requirements_of_different_releases_read_as_alternatives() {
+    let registry = r#"packages:
+  - name: either
+    versions:
+      - {version: "1.0.0", depends: [{name: base, req: "^1"}]}
+      - {version: "2.0.0", depends: [{name: base, req: "^2"}]}
+  - name: both
+    versions:
+      - {version: "1.0.0", depends: [{name: base, req: "^1"}, {name: base, req: "^2"}]}
+  - name: base
+    versions:
+      - {version: "3.0.0"}
+"#;
+    let inputs = inputs(registry, "priorities:\n  - either\n  - both\n");
+    let options = PlanOptions::default();
+    let lines = |name: &str| {
+        explain(&inputs, name, "deb", &options)
+            .unwrap()
+            .cell
+            .explanation
+    };
+    let either = lines("either");
+    assert!(
+        either.iter().any(|l| l.contains("base ^1 or ^2"))
+            && !either.iter().any(|l| l.contains("^1 and ^2")),
+        "{either:?}"
+    );
+    let both = lines("both");
+    assert!(both.iter().any(|l| l.contains("^1 and ^2")), "{both:?}");
+}

@@ -206,7 +206,10 @@ pub(crate) fn unusable(
 }
 
 /// The requirement text `dependent`'s releases in `dependent_set` place on `target`, when they
-/// all agree; otherwise the set is described by its versions.
+/// all agree; otherwise the requirements of each release joined with "and", and those of
+/// different releases with "or" (pubgrub merges facts about several releases into one, and a
+/// reader must not take requirements of two releases for one release's pair); a set no
+/// requirement names is described by its versions.
 fn requirement_text(
     view: &ImageView<'_>,
     dependent: PackageId,
@@ -216,33 +219,45 @@ fn requirement_text(
 ) -> String {
     let registry = view.registry;
     let releases = &registry.package(dependent).releases;
-    let mut texts: Vec<&str> = Vec::new();
+    let mut groups: Vec<Vec<&str>> = Vec::new();
     for i in indices(dependent_set, releases.len()) {
+        let mut group: Vec<&str> = Vec::new();
         for d in releases[i as usize]
             .runtime_deps()
             .filter(|d| d.package == target)
         {
             let t = registry.requirement(d.req).text.as_str();
-            if !texts.contains(&t) {
-                texts.push(t);
+            if !group.contains(&t) {
+                group.push(t);
             }
+        }
+        if !group.is_empty() && !groups.contains(&group) {
+            groups.push(group);
         }
     }
     let empty = indices(target_set, registry.package(target).releases.len())
         .next()
         .is_none();
-    match texts.as_slice() {
-        [one] => one.to_string(),
+    let alternatives = groups.len();
+    let phrase = groups
+        .iter()
+        .map(|g| {
+            let joined = g.join(" and ");
+            if g.len() > 1 && alternatives > 1 {
+                format!("({joined})")
+            } else {
+                joined
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" or ");
+    match groups.as_slice() {
         [] => describe(registry, target, target_set),
-        many if empty => format!(
-            "{} (no published version meets all of them)",
-            many.join(" and ")
-        ),
-        many => format!(
-            "{} ({})",
-            many.join(" and "),
-            describe(registry, target, target_set)
-        ),
+        [one] if one.len() == 1 => phrase,
+        [_] if empty => format!("{phrase} (no published version meets all of them)"),
+        _ if empty => format!("{phrase} (no published version meets any of them)"),
+        [_] => format!("{phrase} ({})", describe(registry, target, target_set)),
+        _ => format!("{phrase} ({})", describe(registry, target, target_set)),
     }
 }
 
