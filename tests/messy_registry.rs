@@ -90,3 +90,47 @@ fn release_problems_name_the_file_of_the_release() {
     );
     assert_eq!(at(ProblemKind::DuplicatePackage).0, "second.yaml");
 }
+
+#[test]
+fn versions_differing_only_in_build_metadata_are_reported_and_both_used() {
+    // Semantic Versioning 2.0.0, section 10: build metadata MUST be ignored when determining
+    // precedence, so 1.0.0+aaa and 1.0.0+zzz have the same precedence and the registry gives
+    // no newest between them. They are distinct versions all the same (section 10's examples
+    // are distinct strings), so both stay in use.
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "meta.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: finch\n",
+            "    versions:\n",
+            "      - {version: \"1.0.0+zzz\"}\n",
+            "      - {version: \"1.0.0+aaa\"}\n",
+            "      - {version: \"1.0.1\"}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    let same: Vec<_> = ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == ProblemKind::SamePrecedence)
+        .collect();
+    assert_eq!(same.len(), 1, "{:?}", ledger.problems);
+    // The semver crate orders the build text: +zzz comes after +aaa, at line 4.
+    assert_eq!(
+        (
+            same[0].origin.file.as_str(),
+            same[0].origin.line,
+            same[0].subject.as_str()
+        ),
+        ("meta.yaml", 4, "finch@1.0.0+zzz")
+    );
+    assert!(!same[0].left_out);
+    assert_eq!(registry.packages[0].releases.len(), 3);
+    let versions = ledger.tally(RecordKind::Version);
+    assert_eq!((versions.read, versions.used, versions.left_out), (3, 3, 0));
+}

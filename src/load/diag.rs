@@ -146,6 +146,10 @@ pub enum ProblemKind {
     DuplicateVersion,
     /// A second record for the same package name; its versions are merged into the first.
     DuplicatePackage,
+    /// A version that differs from another of its package only in build metadata: Semantic
+    /// Versioning 2.0.0 gives the two the same precedence, so which is newer is basefit's
+    /// choice (the `semver` crate's order), not the registry's; both are used.
+    SamePrecedence,
     /// A dependency requirement that no published version of the target satisfies.
     UnsatisfiableRequirement,
     /// A package all of whose versions are yanked.
@@ -182,6 +186,9 @@ impl ProblemKind {
             ProblemKind::UnknownDependency => "dependencies on names not in the registry",
             ProblemKind::DuplicateVersion => "duplicate versions (later record left out)",
             ProblemKind::DuplicatePackage => "duplicate package records (versions merged)",
+            ProblemKind::SamePrecedence => {
+                "versions differing only in build metadata (both used; newer by build text)"
+            }
             ProblemKind::UnsatisfiableRequirement => {
                 "dependency requirements no published version satisfies"
             }

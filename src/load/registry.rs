@@ -352,7 +352,7 @@ impl RegistryBuilder {
                 .any(|w| w[0].version == w[1].version);
             if has_duplicates {
                 let files = &registry.files;
-                let file_of = |r: &Release| files.get(r.file as usize).cloned().unwrap_or_default();
+                let file_of = |r: &Release| origin_of(files, r.file, r.line).file;
                 let mut kept: Vec<Release> = Vec::with_capacity(pkg.releases.len());
                 for r in std::mem::take(&mut pkg.releases) {
                     match kept.last() {
@@ -361,10 +361,7 @@ impl RegistryBuilder {
                             ledger.leave_out(
                                 RecordKind::Version,
                                 ProblemKind::DuplicateVersion,
-                                Origin {
-                                    file: file_of(&r),
-                                    line: r.line as usize,
-                                },
+                                origin_of(files, r.file, r.line),
                                 format!("{}@{}", pkg.name, r.version),
                                 if prev.file == r.file {
                                     format!("same version as the record at line {}", prev.line)
@@ -382,6 +379,23 @@ impl RegistryBuilder {
                 }
                 pkg.releases = kept;
             }
+            // Kept apart from duplicates: both are used, but which one is "newest" is decided
+            // by the build text, which Semantic Versioning 2.0.0 (section 10) says carries no
+            // precedence; a registry holding both should know.
+            for w in pkg.releases.windows(2) {
+                if w[0].version.cmp_precedence(&w[1].version) == std::cmp::Ordering::Equal {
+                    ledger.note(
+                        ProblemKind::SamePrecedence,
+                        origin_of(&registry.files, w[1].file, w[1].line),
+                        format!("{}@{}", pkg.name, w[1].version),
+                        format!(
+                            "differs from {} only in build metadata, which gives no precedence; \
+                             basefit takes {} as the newer, by the text after `+`",
+                            w[0].version, w[1].version
+                        ),
+                    );
+                }
+            }
             versions_used += pkg.releases.len() as u64;
             deps_used += pkg
                 .releases
@@ -398,13 +412,9 @@ impl RegistryBuilder {
 }
 
 /// Where a record is: a file index and a line, as packages and releases each keep them.
-fn origin_of(registry: &Registry, file: u16, line: u32) -> Origin {
+fn origin_of(files: &[String], file: u16, line: u32) -> Origin {
     Origin {
-        file: registry
-            .files
-            .get(file as usize)
-            .cloned()
-            .unwrap_or_default(),
+        file: files.get(file as usize).cloned().unwrap_or_default(),
         line: line as usize,
     }
 }
@@ -449,7 +459,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
                 if !target.declared {
                     ledger.note(
                         ProblemKind::UnknownDependency,
-                        origin_of(registry, r.file, r.line),
+                        origin_of(&registry.files, r.file, r.line),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "depends on `{}`, which the registry does not have",
@@ -459,7 +469,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
                 } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
                     ledger.note(
                         ProblemKind::UnsatisfiableRequirement,
-                        origin_of(registry, r.file, r.line),
+                        origin_of(&registry.files, r.file, r.line),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "requires {} {}, which no published version satisfies",
@@ -473,14 +483,14 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
         if pkg.releases.is_empty() {
             ledger.note(
                 ProblemKind::NoVersions,
-                origin_of(registry, pkg.file, pkg.line),
+                origin_of(&registry.files, pkg.file, pkg.line),
                 &*pkg.name,
                 "no usable version record",
             );
         } else if pkg.releases.iter().all(|r| r.yanked) {
             ledger.note(
                 ProblemKind::NoInstallableVersion,
-                origin_of(registry, pkg.file, pkg.line),
+                origin_of(&registry.files, pkg.file, pkg.line),
                 &*pkg.name,
                 format!("all {} versions are yanked", pkg.releases.len()),
             );
