@@ -161,3 +161,25 @@ fn requirements_of_different_releases_read_as_alternatives() {
     let both = lines("both");
     assert!(both.iter().any(|l| l.contains("^1 and ^2")), "{both:?}");
 }
+
+/// The system-package advice counts as unblocked only cells that adding packages can unblock:
+/// a cell that also needs a library the catalog has no package for stays at risk.
+#[test]
+fn advice_gains_leave_out_cells_no_package_can_unblock() {
+    let registry = r#"packages:
+  - name: parser
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2, libnowhere-at-all]}}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - parser\n  - oddball\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    // Both cells lack libxml2-dev; only parser's is unblocked by it.
+    assert_eq!(deb.missing[0].needed_by, ["parser", "oddball"]);
+    assert_eq!(deb.advice.len(), 1);
+    assert_eq!(deb.advice[0].add, ["libxml2-dev"]);
+    assert_eq!(deb.advice[0].gain, 1.0);
+    assert_eq!(deb.beyond_advice, ["oddball"]);
+}

@@ -152,6 +152,13 @@ impl Catalog {
         self.libraries.iter().find(|l| l.id == id)
     }
 
+    /// Whether the catalog names system packages for library `id` on `family`: without them
+    /// no advice can say what to add, and a cell needing it stays at risk whatever is added.
+    pub fn knows(&self, id: &str, family: OsFamily) -> bool {
+        self.get(id)
+            .is_some_and(|l| l.families.contains_key(&family))
+    }
+
     /// A library by id or alias.
     pub fn by_name(&self, name: &str) -> Option<&Library> {
         self.get(name).or_else(|| {

@@ -39,7 +39,12 @@ pub struct ImageNeeds {
     pub family: OsFamily,
     pub missing: Vec<MissingPackage>,
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
+    /// Only cells that adding packages can unblock count toward its gains.
     pub advice: Vec<AdviceStep>,
+    /// Priority packages whose cell here needs a library the catalog has no system package
+    /// for on this family: they stay at risk whatever the advice adds.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub beyond_advice: Vec<String>,
     pub command: Option<String>,
 }
 
@@ -111,6 +116,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
     for (col, image) in inputs.images.images.iter().enumerate() {
         let mut missing: BTreeMap<String, MissingPackage> = BTreeMap::new();
         let mut blocked = Vec::new();
+        let mut beyond_advice = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
             if cell.missing_system_packages.is_empty()
@@ -135,6 +141,15 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 m.needed_by.push(row.name.clone());
                 m.weight += row.weight;
             }
+            let unknown_library = cell.native_needs.iter().any(|nd| {
+                nd.library
+                    .as_deref()
+                    .is_some_and(|id| !inputs.catalog.knows(id, image.family))
+            });
+            if unknown_library {
+                beyond_advice.push(row.name.clone());
+                continue;
+            }
             blocked.push(Blocked {
                 weight: row.weight,
                 missing: cell.missing_system_packages.iter().cloned().collect(),
@@ -155,6 +170,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             image: image.id.clone(),
             family: image.family,
             advice: advise(&blocked),
+            beyond_advice,
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
             missing,
         });

@@ -730,6 +730,14 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
                 );
             }
         }
+        if !i.beyond_advice.is_empty() {
+            let _ = writeln!(
+                out,
+                "    still at risk whatever is added (a library the catalog has no {} package for): {}",
+                i.family,
+                i.beyond_advice.join(", ")
+            );
+        }
         if let Some(c) = &i.command {
             let _ = writeln!(out, "    {c}");
         }
