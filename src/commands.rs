@@ -152,6 +152,18 @@ fn require_results_context(inputs: &Inputs, command: &str) -> Result<(), BadInpu
     Ok(())
 }
 
+/// A note for stderr when results set against a matrix read from a file name cells it does
+/// not have: planned afresh, their packages would have been planned too and compared, so a
+/// gate on the file's review could pass where a fresh one fails.
+fn outside_matrix_note(review: &crate::verify::Review, remedy: &str, out: &mut Output) {
+    if !review.outside_matrix.is_empty() {
+        out.stderr.push(format!(
+            "note: {} recorded results name cells the matrix does not have and were not compared; {remedy}",
+            review.outside_matrix.len()
+        ));
+    }
+}
+
 /// Compares `matrix` with the recorded results, refusing a comparison of nothing: a review
 /// or rendering with every result left out would pass for one where all agree.
 fn review_results(
@@ -463,6 +475,11 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         surprises > o.max_surprises,
     );
     data_quality_note(&inputs, &mut out);
+    outside_matrix_note(
+        &review,
+        "without --matrix their packages are planned and compared too",
+        &mut out,
+    );
     Ok(out)
 }
 
@@ -697,11 +714,16 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     };
     // Results given but none usable are refused as in `review`, not rendered as a matrix
     // without recorded installs.
+    let mut out = Output::default();
     if !o.inputs.results.is_empty() {
         let review = review_results(&matrix, &inputs, &o.inputs)?;
         crate::verify::annotate(&mut matrix, &review);
+        outside_matrix_note(
+            &review,
+            "the support matrix shows the priority list's packages only (`review` compares them all)",
+            &mut out,
+        );
     }
-    let mut out = Output::default();
     data_quality_note(&inputs, &mut out);
     match &o.out {
         Some(dir) => {

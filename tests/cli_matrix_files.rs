@@ -351,3 +351,36 @@ fn a_surprise_install_after_a_failed_retry_fails_the_review() {
     assert_eq!(code, 0, "{stderr}");
     assert!(stdout.contains("1 contradict the prediction"), "{stdout}");
 }
+
+#[test]
+fn results_outside_a_matrix_read_from_a_file_are_not_passed_over_in_silence() {
+    // mudflat is in the demo registry but not its priority list: a fresh review plans it and
+    // finds the recorded failure a surprise; a review of a matrix file cannot, and says so.
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("plan"), None);
+    let results = dir.path().join("results.yaml");
+    std::fs::write(
+        &results,
+        "results:\n  - {package: mudflat, image: deb-3.2, outcome: failed}\n  - {package: gumleaf, image: deb-3.2, outcome: installed, version: \"2.1.1\"}\n",
+    )
+    .unwrap();
+    let results = results.to_str().unwrap();
+    let (fresh, _, _) = run_on_demo("review", &["--results", results]);
+    assert_eq!(
+        fresh, 1,
+        "a fresh review plans mudflat and finds a surprise"
+    );
+    let (code, _, stderr) = run_on_demo("review", &["--matrix", &matrix, "--results", results]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("note: 1 recorded results name cells the matrix does not have")
+            && stderr.contains("without --matrix"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = run_on_demo("render", &["--results", results]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("1 recorded results name cells the matrix does not have"),
+        "{stderr}"
+    );
+}
