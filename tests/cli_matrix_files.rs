@@ -4,17 +4,8 @@
 
 mod common;
 
-use common::run_basefit;
+use common::{DEMO, run_basefit};
 use std::path::Path;
-
-const DEMO: [&str; 6] = [
-    "--registry",
-    "demo-data/registry.yaml",
-    "--images",
-    "matrices/demo-images.yaml",
-    "--priorities",
-    "demo-data/priorities.yaml",
-];
 
 /// Runs `command` quietly on the demo inputs, then `rest`; returns (exit code, stdout, stderr).
 fn run_on_demo(command: &str, rest: &[&str]) -> (i32, String, String) {

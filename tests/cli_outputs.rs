@@ -4,17 +4,8 @@
 
 mod common;
 
-use common::run_basefit;
+use common::{DEMO, run_basefit};
 use std::path::Path;
-
-const DEMO: [&str; 6] = [
-    "--registry",
-    "demo-data/registry.yaml",
-    "--images",
-    "matrices/demo-images.yaml",
-    "--priorities",
-    "demo-data/priorities.yaml",
-];
 
 /// Runs `command` with `args`, quietly where it reads inputs (`diff` has no bars); returns
 /// (exit code, stdout, stderr).

@@ -791,6 +791,13 @@ fn a_look_alike_of_the_newest_release_keeps_the_cell_and_takes_the_old_ones_plac
             &p(tail),
         )
     };
+    // app's one release needs p: p is in every solution's closure.
+    let needs_p = |tail: &str| {
+        beside(
+            "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
+            &p(tail),
+        )
+    };
     let installed = to_json(&plan(&small_inputs(&dropped(""), &["app"]), &options));
     assert!(
         installed.contains("\"root_version\": \"1.0.0\"") && !installed.contains("\"name\": \"p\"")
@@ -879,38 +886,23 @@ fn a_look_alike_of_the_newest_release_keeps_the_cell_and_takes_the_old_ones_plac
         // p in the closure of app's solution, shown with and without the closure listed.
         (
             dropped(""),
-            beside(
-                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
-                &p(one_more),
-            ),
+            needs_p(one_more),
             &["app"],
             &options,
             1,
             "app now needs p",
         ),
         (
-            beside(
-                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
-                &p(""),
-            ),
-            beside(
-                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
-                &p(one_more),
-            ),
+            needs_p(""),
+            needs_p(one_more),
             &["app", "p"],
             &options,
             0,
             "p in app's closure",
         ),
         (
-            beside(
-                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
-                &p(""),
-            ),
-            beside(
-                "  - {version: 1.0.0, depends: [{name: p, req: '*'}]}\n",
-                &p(one_more),
-            ),
+            needs_p(""),
+            needs_p(one_more),
             &["app", "p"],
             &no_closures,
             0,

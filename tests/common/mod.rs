@@ -14,6 +14,18 @@ pub fn env_count(name: &str, default: u64) -> u64 {
     }
 }
 
+/// The input flags of the bundled demo scenario, relative to the repository root (where
+/// `cargo test` runs integration tests).
+#[allow(dead_code)] // Not every test file that shares this module runs the demo.
+pub const DEMO: [&str; 6] = [
+    "--registry",
+    "demo-data/registry.yaml",
+    "--images",
+    "matrices/demo-images.yaml",
+    "--priorities",
+    "demo-data/priorities.yaml",
+];
+
 /// Runs the built `basefit` with `args`; returns (exit code, stdout, stderr). A panic fails
 /// the test whatever the exit code: bad input must be reported, never crash the tool.
 #[allow(dead_code)] // Not every test file that shares this module runs the binary.
