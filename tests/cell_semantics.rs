@@ -61,7 +61,8 @@ fn newest_resolving_release_hint_names_a_release_that_resolves() {
 
 /// `prerelease: true` admits a pre-release only where the requirement's comparators hold for
 /// it by precedence: 1.1.0-rc.1 is below 1.1.0 (Semantic Versioning 2.0.0, section 11), so
-/// neither `>=1.1.0` nor `=1.1.0` admits it; `>=1.0.5` does.
+/// neither `>=1.1.0` nor `=1.1.0` admits it; `>=1.0.5` does, and `<1.1.0` does not (see
+/// `holds_by_precedence`).
 #[test]
 fn prerelease_flag_keeps_the_requirements_lower_bound() {
     let registry = r#"packages:
@@ -77,7 +78,9 @@ fn prerelease_flag_keeps_the_requirements_lower_bound() {
     assert_eq!(run(">=1.1.0"), None);
     assert_eq!(run("=1.1.0"), None);
     assert_eq!(run(">=1.0.5").as_deref(), Some("1.1.0-rc.1"));
-    assert_eq!(run("<1.1.0").as_deref(), Some("1.1.0-rc.1"));
+    // A full upper bound leaves out its own release candidates, as `~1.0` does.
+    assert_eq!(run("<1.1.0").as_deref(), Some("1.0.0"));
+    assert_eq!(run("~1.0").as_deref(), Some("1.0.0"));
     assert_eq!(run(">=1.0.0").as_deref(), Some("1.1.0-rc.1"));
 }
 
@@ -117,6 +120,16 @@ fn unmatched_requirement_on_a_published_package_is_not_missing() {
     assert_eq!(
         reasons,
         ["bittern (wanted ^3) has no published version matching the requirement"]
+    );
+
+    // The entry's own requirement matching nothing reads as that, not as a package without
+    // releases.
+    let pinned = crate::inputs(registry, "priorities:\n  - {name: bittern, req: \">=9\"}\n");
+    let own = explain(&pinned, "bittern", "deb", &options).unwrap().cell;
+    assert_eq!(own.cause, Some(Cause::DependencyConflict));
+    assert_eq!(
+        own.explanation[0],
+        "the entry asks for bittern (a requirement no published version meets)"
     );
 
     let ghost = cell("r-ghost");

@@ -426,8 +426,18 @@ fn prerelease_flag_admits_by_precedence() {
             for (i, r) in releases.iter().enumerate() {
                 let v = &r.version;
                 let admitted = set.contains(&(i as u32));
-                // Semantic Versioning 2.0.0, section 11.
-                assert_eq!(admitted, holds(v.cmp_precedence(&b)), "{text} on {v}");
+                // Semantic Versioning 2.0.0, section 11, except that a full upper bound
+                // `<M.m.p` admits no pre-release of M.m.p, as `^`, `~` and `<M` do not
+                // (common practice, no source; checked against the crate below).
+                let own_prerelease_of_bound = op == "<"
+                    && b.pre.is_empty()
+                    && !v.pre.is_empty()
+                    && (b.major, b.minor, b.patch) == (v.major, v.minor, v.patch);
+                assert_eq!(
+                    admitted,
+                    holds(v.cmp_precedence(&b)) && !own_prerelease_of_bound,
+                    "{text} on {v}"
+                );
                 let named_here =
                     !b.pre.is_empty() && (b.major, b.minor, b.patch) == (v.major, v.minor, v.patch);
                 let rule_applies = !v.pre.is_empty() && !named_here;
@@ -440,6 +450,32 @@ fn prerelease_flag_admits_by_precedence() {
         }
     }
     assert_eq!(checked, 5 * 6 * 9);
+    // Spellings of one bound agree with the flag set, as they do without it in the semver
+    // crate's VersionReq::matches: `^1`, `<2` and `<2.0.0` on 2.0.0-rc.1, `~1.1` and
+    // `<1.2.0` on 1.2.0-beta.2.
+    for (spellings, version) in [
+        (&["^1", "<2", "<2.0.0", ">=1, <2.0.0"][..], "2.0.0-rc.1"),
+        (
+            &["~1.1", ">=1.1.0, <1.2", ">=1.1.0, <1.2.0"][..],
+            "1.2.0-beta.2",
+        ),
+    ] {
+        let i = releases
+            .iter()
+            .position(|r| r.version.to_string() == version)
+            .unwrap() as u32;
+        let verdicts: Vec<bool> = spellings
+            .iter()
+            .map(|text| {
+                let req = Requirement::parse(text).unwrap();
+                members(&root_set(&registry, id, &req, true), releases.len()).contains(&i)
+            })
+            .collect();
+        assert!(
+            verdicts.iter().all(|v| !v),
+            "{spellings:?} on {version}: {verdicts:?}"
+        );
+    }
     // Without the flag, the semver crate's rule stands: `>=1.0.0` admits no pre-release.
     let plain = root_set(
         &registry,

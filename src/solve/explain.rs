@@ -256,7 +256,6 @@ fn requirement_text(
         [one] if one.len() == 1 => phrase,
         [_] if empty => format!("{phrase} (no published version meets all of them)"),
         _ if empty => format!("{phrase} (no published version meets any of them)"),
-        [_] => format!("{phrase} ({})", describe(registry, target, target_set)),
         _ => format!("{phrase} ({})", describe(registry, target, target_set)),
     }
 }
@@ -348,7 +347,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                 }
                 match a {
                     Node::Root => {
-                        let root_desc = describe(registry, *b, sb);
+                        // An empty set here is the entry's requirement matching nothing, not a
+                        // package without releases: the next line names what is missing.
+                        let releases = registry.package(*b).releases.len();
+                        let root_desc = if indices(sb, releases).next().is_none() && releases > 0 {
+                            "a requirement no published version meets".to_string()
+                        } else {
+                            describe(registry, *b, sb)
+                        };
                         lines.push(format!("the entry asks for {target} ({root_desc})"));
                         empty_requirement(*b, sb, &mut lines, &mut leaf_causes);
                     }

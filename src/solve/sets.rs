@@ -46,7 +46,8 @@ pub fn requirement_set(registry: &Registry, package: PackageId, req: &Requiremen
 /// Like [`requirement_set`], and when `prerelease` is set also admits every pre-release for
 /// which the requirement's comparators hold by precedence (Semantic Versioning 2.0.0, section
 /// 11: `1.1.0-rc.1` is below `1.1.0`, so `>=1.1.0` does not admit it), as if the `semver`
-/// crate did not limit pre-releases to a comparator's own major.minor.patch.
+/// crate did not limit pre-releases to a comparator's own major.minor.patch; `<2.0.0` admits
+/// no pre-release of 2.0.0 ([`holds_by_precedence`]).
 pub fn root_set(
     registry: &Registry,
     package: PackageId,
@@ -60,22 +61,36 @@ pub fn root_set(
     })
 }
 
-/// Whether some alternative of `req` has every comparator hold for `version` by precedence.
+/// Whether some alternative of `req` has every comparator hold for `version` by precedence,
+/// except that an upper bound written in full, `<M.m.p`, admits no pre-release of `M.m.p`.
 ///
 /// The `semver` crate evaluates each comparator by precedence and then admits a pre-release
 /// only when some comparator names a pre-release of the same major.minor.patch. Adding
 /// `>=M.m.p-0` (`-0` is the lowest pre-release of `M.m.p`, so it holds for every one of them)
-/// meets that condition without changing the verdict of the others.
+/// meets that condition without changing the verdict of the others. The exception keeps the
+/// spellings of one bound in agreement: `^1`, `~1` and `<2` refuse `2.0.0-rc.1` in the crate
+/// (they compare major.minor.patch first), so `<2.0.0` must refuse it too; a user who caps a
+/// requirement below 2.0.0 does not mean its release candidates (common practice, no source).
 pub fn holds_by_precedence(req: &Requirement, version: &Version) -> bool {
+    let zero = semver::Prerelease::new("0").expect("`0` is a valid pre-release");
     let floor = semver::Comparator {
         op: semver::Op::GreaterEq,
         major: version.major,
         minor: Some(version.minor),
         patch: Some(version.patch),
-        pre: semver::Prerelease::new("0").expect("`0` is a valid pre-release"),
+        pre: zero.clone(),
     };
     req.alternatives.iter().any(|alt| {
         let mut lifted = alt.clone();
+        for c in &mut lifted.comparators {
+            if c.op == semver::Op::Less
+                && c.pre.is_empty()
+                && (c.major, c.minor, c.patch)
+                    == (version.major, Some(version.minor), Some(version.patch))
+            {
+                c.pre = zero.clone();
+            }
+        }
         lifted.comparators.push(floor.clone());
         lifted.matches(version)
     })
