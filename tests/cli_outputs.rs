@@ -217,6 +217,13 @@ fn an_image_carrying_its_toolchain_packages_has_a_toolchain_for_every_command() 
     assert_eq!(code, 0, "{stdout}{stderr}");
     let (_, plan, stderr) = run(&["plan"], &[&fixed[..], &["--format", "json"]].concat());
     assert!(!plan.contains("missing-toolchain"), "{plan}{stderr}");
+    // The file says `toolchain: false`: check says the packages win.
+    let (code, stdout, _) = run(&["check"], &fixed);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("slim-fixed: says toolchain: false but carries build-essential"),
+        "{stdout}"
+    );
     for package in ["burrowdb", "snapfrost"] {
         let (code, stdout, stderr) = run(&["explain", package, "slim-fixed"], &fixed);
         assert_eq!(code, 0, "{package}: {stdout}{stderr}");

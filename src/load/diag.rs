@@ -158,6 +158,9 @@ pub enum ProblemKind {
     NoVersions,
     /// An image that names an unknown base image or extends in a cycle; left out.
     BadImage,
+    /// An image that says `toolchain: false` yet carries its family's toolchain packages; used
+    /// as having a toolchain.
+    ToolchainContradiction,
     /// A second record with the same id or name (image, priority entry); the later one is left out.
     DuplicateEntry,
     /// A priority entry or recorded result naming a package the registry does not have.
@@ -197,6 +200,9 @@ impl ProblemKind {
             }
             ProblemKind::NoVersions => "packages without any version record",
             ProblemKind::BadImage => "images that cannot be built (left out)",
+            ProblemKind::ToolchainContradiction => {
+                "images saying toolchain: false that carry the toolchain packages (used as having one)"
+            }
             ProblemKind::DuplicateEntry => "duplicate ids or names (later record left out)",
             ProblemKind::UnknownPackage => "entries naming packages not in the registry",
             ProblemKind::UnknownImage => "results naming images not declared",

@@ -84,6 +84,19 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
         let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
+                // The packages win over the flag (see `build`); say so, since the file says
+                // otherwise.
+                if unique[i].toolchain == Some(false) && image.toolchain {
+                    ledger.note(
+                        ProblemKind::ToolchainContradiction,
+                        origin(unique[i].line),
+                        &unique[i].id,
+                        format!(
+                            "says toolchain: false but carries {}; planned as having a C toolchain",
+                            crate::native::toolchain_packages(image.family).join(" and ")
+                        ),
+                    );
+                }
                 ledger.used(RecordKind::Image);
                 images.push(image);
             }
