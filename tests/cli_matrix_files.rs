@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::{DEMO, run_basefit};
+use common::{DEMO, demo_on_images, run_basefit};
 use std::path::Path;
 
 /// Runs `command` quietly on the demo inputs, then `rest`; returns (exit code, stdout, stderr).
@@ -30,18 +30,10 @@ fn plan_into(dir: &Path, shard: Option<&str>) -> String {
 /// Runs `args` with the demo registry and priorities and an images file in `dir` holding
 /// only `image` (a YAML flow mapping); returns the exit code and stderr.
 fn run_on_one_image(dir: &Path, image: &str, args: &[&str]) -> (i32, String) {
-    let images = dir.join("images.yaml");
-    std::fs::write(&images, format!("images:\n- {image}\n")).unwrap();
+    let flags = demo_on_images(dir, &format!("images:\n- {image}\n"));
     let mut all = args.to_vec();
-    all.extend([
-        "--quiet",
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-    ]);
+    all.push("--quiet");
+    all.extend(flags.iter().map(String::as_str));
     let (code, _, stderr) = run_basefit(&all);
     (code, stderr)
 }

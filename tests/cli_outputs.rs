@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::{DEMO, run_basefit};
+use common::{DEMO, demo_on_images, run_basefit};
 use std::path::Path;
 
 /// Runs `command` with `args`, quietly where it reads inputs (`diff` has no bars); returns
@@ -183,25 +183,13 @@ fn a_matrix_planned_without_native_checks_says_so_wherever_it_is_shown() {
 /// The demo registry and priorities on one Debian image with `toolchain: false` whose
 /// packages are `packages` (the advice `syslibs` gives, taken or not).
 fn one_image(dir: &Path, packages: &str) -> Vec<String> {
-    let images = dir.join("images.yaml");
-    std::fs::write(
-        &images,
-        format!(
+    demo_on_images(
+        dir,
+        &format!(
             "images:\n  - id: slim-fixed\n    runtime: 3.2.0\n    family: debian\n    \
              platform: linux/glibc/x86_64\n    toolchain: false\n    packages: [{packages}]\n"
         ),
     )
-    .unwrap();
-    [
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-    ]
-    .map(str::to_string)
-    .to_vec()
 }
 
 #[test]

@@ -26,6 +26,24 @@ pub const DEMO: [&str; 6] = [
     "demo-data/priorities.yaml",
 ];
 
+/// The demo registry and priorities with an images file written into `dir` holding
+/// `images_yaml` instead of the demo's images, as command-line flags.
+#[allow(dead_code)] // Not every test file that shares this module runs the demo.
+pub fn demo_on_images(dir: &std::path::Path, images_yaml: &str) -> Vec<String> {
+    let images = dir.join("images.yaml");
+    std::fs::write(&images, images_yaml).unwrap();
+    [
+        "--registry",
+        "demo-data/registry.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--images",
+        images.to_str().unwrap(),
+    ]
+    .map(str::to_string)
+    .to_vec()
+}
+
 /// Runs the built `basefit` with `args`; returns (exit code, stdout, stderr). A panic fails
 /// the test whatever the exit code: bad input must be reported, never crash the tool.
 #[allow(dead_code)] // Not every test file that shares this module runs the binary.
