@@ -240,14 +240,7 @@ pub fn runtime_verdict(req: &Requirement, runtime: &Version) -> Admission {
         ..runtime.clone()
     };
     let release = Version::new(runtime.major, runtime.minor, runtime.patch);
-    // The runtime as `alt` sees it.
-    let seen = |alt: &VersionReq| -> &Version {
-        if names_prerelease_of(alt, &whole) {
-            &whole
-        } else {
-            &release
-        }
-    };
+    let seen = |alt: &VersionReq| seen_by(alt, &whole, &release);
     if req.alternatives.iter().any(|alt| alt.matches(seen(alt))) {
         return Admission::Admissible;
     }
@@ -271,6 +264,16 @@ pub fn runtime_verdict(req: &Requirement, runtime: &Version) -> Admission {
         Admission::NeedsNewerRuntime
     } else {
         Admission::NeedsOlderRuntime
+    }
+}
+
+/// A runtime as alternative `alt` sees it: `whole` where `alt` names a pre-release of its
+/// major.minor.patch, else `release`, the release it previews.
+fn seen_by<'v>(alt: &VersionReq, whole: &'v Version, release: &'v Version) -> &'v Version {
+    if names_prerelease_of(alt, whole) {
+        whole
+    } else {
+        release
     }
 }
 
@@ -385,11 +388,6 @@ fn satisfiable(alt: &VersionReq) -> bool {
         .fold(Lower::From(Version::new(0, 0, 0)), Lower::max);
     lowest.least().is_some_and(|v| {
         let release = Version::new(v.major, v.minor, v.patch);
-        let seen = if names_prerelease_of(alt, &v) {
-            &v
-        } else {
-            &release
-        };
-        alt.matches(seen)
+        alt.matches(seen_by(alt, &v, &release))
     })
 }
