@@ -4,7 +4,7 @@
 use super::matrix::{Cell, Outcome, PlanOptions, plan_cell, plan_pinned_cell};
 use crate::load::{BadInput, Inputs};
 use crate::model::{PackageId, Priority};
-use crate::solve::sets::{indices, root_set};
+use crate::solve::sets::root_set;
 use crate::solve::{Cause, ImageView, SetCache};
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
@@ -252,10 +252,8 @@ fn release_hint(
     if let Some(i) = found {
         let any = crate::model::Requirement::any();
         let req = entry.req.as_ref().unwrap_or(&any);
-        let admits = |prerelease: bool| {
-            let set = root_set(registry, root, req, prerelease);
-            indices(&set, releases.len()).any(|j| j as usize == i)
-        };
+        let admits =
+            |prerelease: bool| root_set(registry, root, req, prerelease).contains(&(i as u32));
         hint.not_admitted = if admits(entry.prerelease) {
             None
         } else if admits(true) {
