@@ -236,3 +236,39 @@ fn an_image_carrying_its_toolchain_packages_has_a_toolchain_for_every_command() 
         }
     }
 }
+
+/// An image that inherits `toolchain: true` and removes its base's compiler package.
+const SLIMMED: &str = "images:\n  - id: full\n    runtime: 3.2.0\n    family: debian\n    \
+    platform: linux/glibc/x86_64\n    toolchain: true\n    packages: [build-essential, libpq5, libpq-dev]\n  \
+    - id: slimmed\n    extends: full\n    remove: [build-essential]\n  \
+    - id: slimmed-with-cc\n    extends: full\n    remove: [build-essential]\n    toolchain: true\n";
+
+#[test]
+fn removing_the_compiler_package_drops_an_inherited_toolchain() {
+    let dir = tempfile::tempdir().unwrap();
+    let args = demo_on_images(dir.path(), SLIMMED);
+    let args: Vec<&str> = args.iter().map(String::as_str).collect();
+    // burrowdb builds from source on every image (see `an_image_carrying_...` above).
+    let (code, stdout, _) = run(&["explain", "burrowdb", "slimmed"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("has no C toolchain; add: build-essential"),
+        "{stdout}"
+    );
+    // Its own flag still speaks for it, and the base keeps its compiler.
+    for image in ["slimmed-with-cc", "full"] {
+        let (code, stdout, stderr) = run(&["explain", "burrowdb", image], &args);
+        assert_eq!(code, 0, "{image}: {stdout}{stderr}");
+        assert!(!stdout.contains("no C toolchain"), "{image}: {stdout}");
+    }
+    let (code, stdout, _) = run(&["check"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains(
+            "slimmed: inherits toolchain: true from `full` but removes build-essential; \
+             planned without a C toolchain"
+        ),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("slimmed-with-cc: inherits"), "{stdout}");
+}

@@ -97,6 +97,37 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
                         ),
                     );
                 }
+                // The inherited flag gave way to the removal (see `build`): say so, since the
+                // base says otherwise and a slim image meant to compile would plan as failing.
+                let base_toolchain = unique[i]
+                    .extends
+                    .as_deref()
+                    .and_then(|b| by_id.get(b))
+                    .and_then(|&j| resolved[j].as_ref())
+                    .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
+                if unique[i].toolchain.is_none()
+                    && base_toolchain
+                    && !image.toolchain
+                    && drops_toolchain(unique[i], image.family)
+                {
+                    ledger.note(
+                        ProblemKind::ToolchainContradiction,
+                        origin(unique[i].line),
+                        &unique[i].id,
+                        format!(
+                            "inherits toolchain: true from `{}` but removes {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
+                            unique[i].extends.as_deref().unwrap_or_default(),
+                            unique[i]
+                                .remove
+                                .iter()
+                                .filter(|r| crate::native::toolchain_packages(image.family)
+                                    .contains(&r.as_str()))
+                                .map(String::as_str)
+                                .collect::<Vec<_>>()
+                                .join(" and ")
+                        ),
+                    );
+                }
                 ledger.used(RecordKind::Image);
                 images.push(image);
             }
@@ -190,6 +221,16 @@ fn resolve(
     result
 }
 
+/// Whether image `d` removes one of its family's toolchain packages. A slim image made by
+/// removing the compiler from its base has no compiler, so the base's `toolchain: true` no
+/// longer speaks for it; only its own flag can say it has one by other means.
+fn drops_toolchain(d: &Declared, family: OsFamily) -> bool {
+    let toolchain_packages = crate::native::toolchain_packages(family);
+    d.remove
+        .iter()
+        .any(|r| toolchain_packages.contains(&r.as_str()))
+}
+
 /// What an image's failure comes down to, without the bases it passed through.
 fn first_cause(message: &str) -> &str {
     match message.strip_prefix("its base `") {
@@ -245,10 +286,15 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
     // An image whose packages include its family's toolchain packages can compile, whatever
     // its flag says: `syslibs` advises adding exactly those packages, and an image that took
     // the advice must not go on failing for want of a toolchain.
-    let toolchain = d.toolchain.or(base.map(|b| b.toolchain)).unwrap_or(false)
-        || crate::native::toolchain_packages(family)
-            .iter()
-            .all(|p| packages.contains(*p));
+    let toolchain_packages = crate::native::toolchain_packages(family);
+    let carries_toolchain = toolchain_packages.iter().all(|p| packages.contains(*p));
+    let toolchain = d
+        .toolchain
+        .or(base
+            .map(|b| b.toolchain)
+            .filter(|_| !drops_toolchain(d, family)))
+        .unwrap_or(false)
+        || carries_toolchain;
     Ok(Image {
         id: d.id.clone(),
         runtime,
