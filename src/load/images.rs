@@ -84,48 +84,18 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
         let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
-                // The packages win over the flag (see `build`); say so, since the file says
-                // otherwise.
-                if unique[i].toolchain == Some(false) && image.toolchain {
-                    ledger.note(
-                        ProblemKind::ToolchainContradiction,
-                        origin(unique[i].line),
-                        &unique[i].id,
-                        format!(
-                            "says toolchain: false but carries {}; planned as having a C toolchain",
-                            crate::native::toolchain_packages(image.family).join(" and ")
-                        ),
-                    );
-                }
-                // The inherited flag gave way to the removal (see `build`): say so, since the
-                // base says otherwise and a slim image meant to compile would plan as failing.
                 let base_toolchain = unique[i]
                     .extends
                     .as_deref()
                     .and_then(|b| by_id.get(b))
                     .and_then(|&j| resolved[j].as_ref())
                     .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
-                if unique[i].toolchain.is_none()
-                    && base_toolchain
-                    && !image.toolchain
-                    && drops_toolchain(unique[i], image.family)
-                {
+                if let Some(why) = toolchain_contradiction(unique[i], base_toolchain, &image) {
                     ledger.note(
                         ProblemKind::ToolchainContradiction,
                         origin(unique[i].line),
                         &unique[i].id,
-                        format!(
-                            "inherits toolchain: true from `{}` but removes {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
-                            unique[i].extends.as_deref().unwrap_or_default(),
-                            unique[i]
-                                .remove
-                                .iter()
-                                .filter(|r| crate::native::toolchain_packages(image.family)
-                                    .contains(&r.as_str()))
-                                .map(String::as_str)
-                                .collect::<Vec<_>>()
-                                .join(" and ")
-                        ),
+                        why,
                     );
                 }
                 ledger.used(RecordKind::Image);
@@ -221,14 +191,38 @@ fn resolve(
     result
 }
 
-/// Whether image `d` removes one of its family's toolchain packages. A slim image made by
+/// The toolchain packages of its family that image `d` removes. A slim image made by
 /// removing the compiler from its base has no compiler, so the base's `toolchain: true` no
 /// longer speaks for it; only its own flag can say it has one by other means.
-fn drops_toolchain(d: &Declared, family: OsFamily) -> bool {
+fn removed_toolchain(d: &Declared, family: OsFamily) -> Vec<&str> {
     let toolchain_packages = crate::native::toolchain_packages(family);
     d.remove
         .iter()
-        .any(|r| toolchain_packages.contains(&r.as_str()))
+        .map(String::as_str)
+        .filter(|r| toolchain_packages.contains(r))
+        .collect()
+}
+
+/// Why `image`'s toolchain differs from what its file says, if it does (see `build`): the
+/// packages win over `toolchain: false`, and a removal wins over an inherited `true`. Both
+/// are worth a note, since the file reads otherwise.
+fn toolchain_contradiction(d: &Declared, base_toolchain: bool, image: &Image) -> Option<String> {
+    if d.toolchain == Some(false) && image.toolchain {
+        return Some(format!(
+            "says toolchain: false but carries {}; planned as having a C toolchain",
+            crate::native::toolchain_packages(image.family).join(" and ")
+        ));
+    }
+    let removed = removed_toolchain(d, image.family);
+    (d.toolchain.is_none() && base_toolchain && !image.toolchain && !removed.is_empty()).then(
+        || {
+            format!(
+                "inherits toolchain: true from `{}` but removes {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
+                d.extends.as_deref().unwrap_or_default(),
+                removed.join(" and ")
+            )
+        },
+    )
 }
 
 /// What an image's failure comes down to, without the bases it passed through.
@@ -292,7 +286,7 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
         .toolchain
         .or(base
             .map(|b| b.toolchain)
-            .filter(|_| !drops_toolchain(d, family)))
+            .filter(|_| removed_toolchain(d, family).is_empty()))
         .unwrap_or(false)
         || carries_toolchain;
     Ok(Image {
