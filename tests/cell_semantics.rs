@@ -196,3 +196,60 @@ fn advice_gains_leave_out_cells_no_package_can_unblock() {
     assert_eq!(deb.advice[0].gain, 1.0);
     assert_eq!(deb.beyond_advice, ["oddball"]);
 }
+
+/// The per-package weight in `syslibs` promises no more than the advice can gain: a cell no
+/// addition unblocks still names the package it lacks, marked, with its weight shown apart.
+#[test]
+fn missing_package_weight_leaves_out_cells_beyond_advice() {
+    let registry = r#"packages:
+  - name: parser
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2, libnowhere-at-all]}}]
+  - name: stray
+    versions: [{version: "1.0.0", native: {libraries: [libpng, libnowhere-at-all]}}]
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities:\n  - {name: parser, weight: 1}\n  - {name: oddball, weight: 4}\n  - {name: stray, weight: 2}\n",
+    );
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    let rows: Vec<(&str, f64, f64, &[String])> = deb
+        .missing
+        .iter()
+        .map(|m| {
+            (
+                m.package.as_str(),
+                m.weight,
+                m.weight_beyond_advice,
+                m.beyond_advice.as_slice(),
+            )
+        })
+        .collect();
+    // libxml2-dev unblocks parser alone; oddball's weight is counted apart. libpng-dev
+    // unblocks nothing, yet stays listed: stray lacks it whatever else it lacks.
+    assert_eq!(
+        rows,
+        [
+            ("libxml2-dev", 1.0, 4.0, &["oddball".to_string()][..]),
+            ("libpng-dev", 0.0, 2.0, &["stray".to_string()][..]),
+        ]
+    );
+    assert_eq!(deb.missing[0].needed_by, ["parser", "oddball"]);
+    assert_eq!(deb.beyond_advice, ["oddball", "stray"]);
+    // The weights of the table add up to the advice's total.
+    let table: f64 = deb.missing.iter().map(|m| m.weight).sum();
+    assert_eq!(deb.advice.last().map(|s| s.cumulative), Some(table));
+
+    let text = basefit::report::text::system_text(&report);
+    assert!(
+        text.contains("libxml2-dev [certain] weight 1.00 (+4.00 beyond advice): parser, oddball*"),
+        "{text}"
+    );
+    assert!(
+        text.contains("libpng-dev [certain] weight 0.00 (+2.00 beyond advice): stray*"),
+        "{text}"
+    );
+}

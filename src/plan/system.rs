@@ -27,12 +27,22 @@ pub struct PackageEvidence {
 pub struct MissingPackage {
     pub package: String,
     pub strongest: Confidence,
-    /// Entries whose cell lists it as missing.
+    /// Entries whose cell lists it as missing, beyond-advice ones included.
     pub needed_by: Vec<String>,
-    /// Priority weight of the cells that would no longer lack it.
+    /// Priority weight of the cells that lack it and that additions can unblock: the cells the
+    /// advice counts. A cell lacking several packages counts toward each of them.
     pub weight: f64,
+    /// The entries of `needed_by` whose cell is beyond advice (see
+    /// [`ImageNeeds::beyond_advice`]): they need this package too, but adding it does not make
+    /// them install, so their weight is in `weight_beyond_advice`, not in `weight`.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub beyond_advice: Vec<String>,
+    /// Priority weight of the `beyond_advice` cells. Kept apart so that weights summed over
+    /// the table agree with what the advice can gain.
+    pub weight_beyond_advice: f64,
 }
 
+/// What one image lacks for the priority cells that need system packages, and the advice.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ImageNeeds {
     pub image: String,
@@ -41,8 +51,9 @@ pub struct ImageNeeds {
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
     /// Only cells that adding packages can unblock count toward its gains.
     pub advice: Vec<AdviceStep>,
-    /// Priority packages whose cell here needs a library the catalog has no system package
-    /// for on this family: they stay at risk whatever the advice adds.
+    /// Priority packages whose cell here lacks system packages and needs a library the catalog
+    /// has no system package for on this family: they stay at risk whatever the advice adds,
+    /// so no step's gain and no package's `weight` counts them.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub beyond_advice: Vec<String>,
     pub command: Option<String>,
@@ -130,23 +141,30 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
+            let beyond = cell.native_needs.iter().any(|nd| {
+                nd.library
+                    .as_deref()
+                    .is_some_and(|id| !inputs.catalog.knows(id, image.family))
+            });
             for p in &cell.missing_system_packages {
                 let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
                     package: p.clone(),
                     strongest,
                     needed_by: Vec::new(),
                     weight: 0.0,
+                    beyond_advice: Vec::new(),
+                    weight_beyond_advice: 0.0,
                 });
                 m.strongest = m.strongest.max(strongest);
                 m.needed_by.push(row.name.clone());
-                m.weight += row.weight;
+                if beyond {
+                    m.beyond_advice.push(row.name.clone());
+                    m.weight_beyond_advice += row.weight;
+                } else {
+                    m.weight += row.weight;
+                }
             }
-            let unknown_library = cell.native_needs.iter().any(|nd| {
-                nd.library
-                    .as_deref()
-                    .is_some_and(|id| !inputs.catalog.knows(id, image.family))
-            });
-            if unknown_library {
+            if beyond {
                 beyond_advice.push(row.name.clone());
                 continue;
             }
@@ -159,6 +177,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         missing.sort_by(|a, b| {
             b.weight
                 .total_cmp(&a.weight)
+                .then(b.weight_beyond_advice.total_cmp(&a.weight_beyond_advice))
                 .then(a.package.cmp(&b.package))
         });
         let names: Vec<String> = missing.iter().map(|m| m.package.clone()).collect();
