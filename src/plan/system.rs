@@ -51,11 +51,17 @@ pub struct ImageNeeds {
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
     /// Only cells that adding packages can unblock count toward its gains.
     pub advice: Vec<AdviceStep>,
-    /// Priority packages whose cell here lacks system packages and needs a library the catalog
-    /// has no system package for on this family: they stay at risk whatever the advice adds,
-    /// so no step's gain and no package's `weight` counts them.
+    /// Priority packages whose cell here lacks system packages and has a `likely` or `certain`
+    /// need of a library the catalog has no system package for on this family: they stay at
+    /// risk whatever the advice adds, so no step's gain and no package's `weight` counts them.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub beyond_advice: Vec<String>,
+    /// Priority packages counted in the advice whose cell also has a `possible` need (a name
+    /// or summary mention, nothing stronger) of a library the catalog has no system package
+    /// for on this family: the advice adds what their other needs name, and the mention
+    /// stays unconfirmed, so they may still be at risk after every addition.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub at_risk_after_advice: Vec<String>,
     pub command: Option<String>,
 }
 
@@ -128,6 +134,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut missing: BTreeMap<String, MissingPackage> = BTreeMap::new();
         let mut blocked = Vec::new();
         let mut beyond_advice = Vec::new();
+        let mut at_risk_after_advice = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
             if cell.missing_system_packages.is_empty()
@@ -141,11 +148,26 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
-            let beyond = cell.native_needs.iter().any(|nd| {
-                nd.library
-                    .as_deref()
-                    .is_some_and(|id| !inputs.catalog.knows(id, image.family))
-            });
+            // The strongest need of a library no package can be named for on this family.
+            let unknown = cell
+                .native_needs
+                .iter()
+                .filter(|nd| {
+                    nd.library
+                        .as_deref()
+                        .is_some_and(|id| !inputs.catalog.knows(id, image.family))
+                })
+                .map(|nd| nd.confidence)
+                .max();
+            // A `possible` need rests on one word of a name or summary, the weakest evidence
+            // there is, and the advice already counts cells whose only missing packages come
+            // from such words. Letting an unnameable `possible` need veto the cell would drop
+            // its whole weight from the advice even when the additions meet every declared or
+            // shipped need it has. So only a `likely` or `certain` unknown need (declared in
+            // the metadata, or a shipped header or pkg-config file of the library) puts a cell
+            // beyond advice; a `possible` one leaves it counted, and listed as still at risk
+            // after the additions, since the mention may be real.
+            let beyond = unknown.is_some_and(|c| c >= Confidence::Likely);
             for p in &cell.missing_system_packages {
                 let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
                     package: p.clone(),
@@ -167,6 +189,9 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             if beyond {
                 beyond_advice.push(row.name.clone());
                 continue;
+            }
+            if unknown.is_some() {
+                at_risk_after_advice.push(row.name.clone());
             }
             blocked.push(Blocked {
                 weight: row.weight,
@@ -190,6 +215,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             family: image.family,
             advice: advise(&blocked),
             beyond_advice,
+            at_risk_after_advice,
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
             missing,
         });

@@ -716,9 +716,14 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             let needed_by: Vec<String> = m
                 .needed_by
                 .iter()
-                .map(|name| match m.beyond_advice.contains(name) {
-                    true => format!("{name}*"),
-                    false => name.clone(),
+                .map(|name| {
+                    if m.beyond_advice.contains(name) {
+                        format!("{name}*")
+                    } else if i.at_risk_after_advice.contains(name) {
+                        format!("{name}?")
+                    } else {
+                        name.clone()
+                    }
                 })
                 .collect();
             let _ = writeln!(
@@ -751,9 +756,17 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         if !i.beyond_advice.is_empty() {
             let _ = writeln!(
                 out,
-                "    * still at risk whatever is added (needs a library the catalog has no {} package for; not counted in weights or gains): {}",
+                "    * still at risk whatever is added (declares, or ships a header or pkg-config file of, a library the catalog has no {} package for; not counted in weights or gains): {}",
                 i.family,
                 i.beyond_advice.join(", ")
+            );
+        }
+        if !i.at_risk_after_advice.is_empty() {
+            let _ = writeln!(
+                out,
+                "    ? counted above but may stay at risk after the additions (a name or summary mentions a library the catalog has no {} package for): {}",
+                i.family,
+                i.at_risk_after_advice.join(", ")
             );
         }
         if let Some(c) = &i.command {
