@@ -37,8 +37,8 @@ pub struct MissingPackage {
     /// them install, so their weight is in `weight_beyond_advice`, not in `weight`.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub beyond_advice: Vec<String>,
-    /// Priority weight of the `beyond_advice` cells. Kept apart so that weights summed over
-    /// the table agree with what the advice can gain.
+    /// Priority weight of the `beyond_advice` cells, kept apart so that `weight` promises
+    /// nothing the advice cannot gain.
     pub weight_beyond_advice: f64,
 }
 
@@ -148,7 +148,6 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
-            // The strongest need of a library no package can be named for on this family.
             let unknown = cell
                 .native_needs
                 .iter()
