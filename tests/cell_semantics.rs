@@ -196,3 +196,126 @@ fn advice_gains_leave_out_cells_no_package_can_unblock() {
     assert_eq!(deb.advice[0].gain, 1.0);
     assert_eq!(deb.beyond_advice, ["oddball"]);
 }
+
+/// The per-package weight in `syslibs` promises no more than the advice can gain: a cell no
+/// addition unblocks still names the package it lacks, marked, with its weight shown apart.
+#[test]
+fn missing_package_weight_leaves_out_cells_beyond_advice() {
+    let registry = r#"packages:
+  - name: parser
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2, libnowhere-at-all]}}]
+  - name: stray
+    versions: [{version: "1.0.0", native: {libraries: [libpng, libnowhere-at-all]}}]
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities:\n  - {name: parser, weight: 1}\n  - {name: oddball, weight: 4}\n  - {name: stray, weight: 2}\n",
+    );
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    let rows: Vec<(&str, f64, f64, &[String])> = deb
+        .missing
+        .iter()
+        .map(|m| {
+            (
+                m.package.as_str(),
+                m.weight,
+                m.weight_beyond_advice,
+                m.beyond_advice.as_slice(),
+            )
+        })
+        .collect();
+    // libxml2-dev unblocks parser alone; oddball's weight is counted apart. libpng-dev
+    // unblocks nothing, yet stays listed: stray lacks it whatever else it lacks.
+    assert_eq!(
+        rows,
+        [
+            ("libxml2-dev", 1.0, 4.0, &["oddball".to_string()][..]),
+            ("libpng-dev", 0.0, 2.0, &["stray".to_string()][..]),
+        ]
+    );
+    assert_eq!(deb.missing[0].needed_by, ["parser", "oddball"]);
+    assert_eq!(deb.beyond_advice, ["oddball", "stray"]);
+    // The weights of the table add up to the advice's total.
+    let table: f64 = deb.missing.iter().map(|m| m.weight).sum();
+    assert_eq!(deb.advice.last().map(|s| s.cumulative), Some(table));
+
+    let text = basefit::report::text::system_text(&report);
+    assert!(
+        text.contains("libxml2-dev [certain] weight 1.00 (+4.00 beyond advice): parser, oddball*"),
+        "{text}"
+    );
+    assert!(
+        text.contains("libpng-dev [certain] weight 0.00 (+2.00 beyond advice): stray*"),
+        "{text}"
+    );
+}
+
+/// A library the catalog knows only on Alpine: on the Debian image no package can be named for
+/// it. Invented, as are its package names.
+const ALPINE_ONLY_CATALOG: &str = r#"libraries:
+  - id: quasar
+    summary: invented library packaged for Alpine only
+    aliases: [quasar]
+    headers: [quasar.h]
+    families:
+      alpine: {dev: quasar-dev, runtime: quasar-libs, source: memory}
+"#;
+
+/// Only a `likely` or `certain` need of a library no package can be named for puts a cell
+/// beyond advice. A `possible` one (the entry's name mentions the library) leaves the cell
+/// counted in the advice and the table, named as possibly at risk after the additions: the
+/// advice already counts cells whose missing packages rest on such a mention.
+#[test]
+fn a_possible_need_of_an_unnamed_library_keeps_the_cell_in_the_advice() {
+    let registry = r#"packages:
+  - name: parser
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: vireo-quasar
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2], files: [include/quasar.h]}}]
+"#;
+    let mut inputs = inputs(
+        registry,
+        "priorities:\n  - {name: parser, weight: 1}\n  - {name: vireo-quasar, weight: 3}\n  - {name: oddball, weight: 4}\n",
+    );
+    inputs
+        .catalog
+        .apply("test catalog", ALPINE_ONLY_CATALOG)
+        .unwrap();
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    let confidence = |package: &str| {
+        let cell = matrix.cells.iter().find(|c| c.package == package).unwrap();
+        cell.native_needs
+            .iter()
+            .find(|n| n.library.as_deref() == Some("quasar"))
+            .map(|n| n.confidence)
+    };
+    use basefit::native::Confidence;
+    assert_eq!(confidence("vireo-quasar"), Some(Confidence::Possible));
+    assert_eq!(confidence("oddball"), Some(Confidence::Likely));
+
+    assert_eq!(deb.beyond_advice, ["oddball"]);
+    assert_eq!(deb.at_risk_after_advice, ["vireo-quasar"]);
+    assert_eq!(deb.advice.len(), 1);
+    assert_eq!(deb.advice[0].add, ["libxml2-dev"]);
+    assert_eq!(deb.advice[0].gain, 4.0);
+    assert_eq!(deb.missing[0].weight, 4.0);
+    assert_eq!(deb.missing[0].weight_beyond_advice, 4.0);
+
+    let text = basefit::report::text::system_text(&report);
+    assert!(
+        text.contains("weight 4.00 (+4.00 beyond advice): parser, vireo-quasar?, oddball*"),
+        "{text}"
+    );
+    assert!(
+        text.contains("may stay at risk after the additions") && text.contains(": vireo-quasar\n"),
+        "{text}"
+    );
+}

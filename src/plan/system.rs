@@ -27,12 +27,22 @@ pub struct PackageEvidence {
 pub struct MissingPackage {
     pub package: String,
     pub strongest: Confidence,
-    /// Entries whose cell lists it as missing.
+    /// Entries whose cell lists it as missing, beyond-advice ones included.
     pub needed_by: Vec<String>,
-    /// Priority weight of the cells that would no longer lack it.
+    /// Priority weight of the cells that lack it and that additions can unblock: the cells the
+    /// advice counts. A cell lacking several packages counts toward each of them.
     pub weight: f64,
+    /// The entries of `needed_by` whose cell is beyond advice (see
+    /// [`ImageNeeds::beyond_advice`]): they need this package too, but adding it does not make
+    /// them install, so their weight is in `weight_beyond_advice`, not in `weight`.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub beyond_advice: Vec<String>,
+    /// Priority weight of the `beyond_advice` cells, kept apart so that `weight` promises
+    /// nothing the advice cannot gain.
+    pub weight_beyond_advice: f64,
 }
 
+/// What one image lacks for the priority cells that need system packages, and the advice.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ImageNeeds {
     pub image: String,
@@ -41,10 +51,17 @@ pub struct ImageNeeds {
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
     /// Only cells that adding packages can unblock count toward its gains.
     pub advice: Vec<AdviceStep>,
-    /// Priority packages whose cell here needs a library the catalog has no system package
-    /// for on this family: they stay at risk whatever the advice adds.
+    /// Priority packages whose cell here lacks system packages and has a `likely` or `certain`
+    /// need of a library the catalog has no system package for on this family: they stay at
+    /// risk whatever the advice adds, so no step's gain and no package's `weight` counts them.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub beyond_advice: Vec<String>,
+    /// Priority packages counted in the advice whose cell also has a `possible` need (a name
+    /// or summary mention, nothing stronger) of a library the catalog has no system package
+    /// for on this family: the advice adds what their other needs name, and the mention
+    /// stays unconfirmed, so they may still be at risk after every addition.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub at_risk_after_advice: Vec<String>,
     pub command: Option<String>,
 }
 
@@ -117,6 +134,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut missing: BTreeMap<String, MissingPackage> = BTreeMap::new();
         let mut blocked = Vec::new();
         let mut beyond_advice = Vec::new();
+        let mut at_risk_after_advice = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
             if cell.missing_system_packages.is_empty()
@@ -130,25 +148,49 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
+            let unknown = cell
+                .native_needs
+                .iter()
+                .filter(|nd| {
+                    nd.library
+                        .as_deref()
+                        .is_some_and(|id| !inputs.catalog.knows(id, image.family))
+                })
+                .map(|nd| nd.confidence)
+                .max();
+            // A `possible` need rests on one word of a name or summary, the weakest evidence
+            // there is, and the advice already counts cells whose only missing packages come
+            // from such words. Letting an unnameable `possible` need veto the cell would drop
+            // its whole weight from the advice even when the additions meet every declared or
+            // shipped need it has. So only a `likely` or `certain` unknown need (declared in
+            // the metadata, or a shipped header or pkg-config file of the library) puts a cell
+            // beyond advice; a `possible` one leaves it counted, and listed as still at risk
+            // after the additions, since the mention may be real.
+            let beyond = unknown.is_some_and(|c| c >= Confidence::Likely);
             for p in &cell.missing_system_packages {
                 let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
                     package: p.clone(),
                     strongest,
                     needed_by: Vec::new(),
                     weight: 0.0,
+                    beyond_advice: Vec::new(),
+                    weight_beyond_advice: 0.0,
                 });
                 m.strongest = m.strongest.max(strongest);
                 m.needed_by.push(row.name.clone());
-                m.weight += row.weight;
+                if beyond {
+                    m.beyond_advice.push(row.name.clone());
+                    m.weight_beyond_advice += row.weight;
+                } else {
+                    m.weight += row.weight;
+                }
             }
-            let unknown_library = cell.native_needs.iter().any(|nd| {
-                nd.library
-                    .as_deref()
-                    .is_some_and(|id| !inputs.catalog.knows(id, image.family))
-            });
-            if unknown_library {
+            if beyond {
                 beyond_advice.push(row.name.clone());
                 continue;
+            }
+            if unknown.is_some() {
+                at_risk_after_advice.push(row.name.clone());
             }
             blocked.push(Blocked {
                 weight: row.weight,
@@ -159,6 +201,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         missing.sort_by(|a, b| {
             b.weight
                 .total_cmp(&a.weight)
+                .then(b.weight_beyond_advice.total_cmp(&a.weight_beyond_advice))
                 .then(a.package.cmp(&b.package))
         });
         let names: Vec<String> = missing.iter().map(|m| m.package.clone()).collect();
@@ -171,6 +214,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             family: image.family,
             advice: advise(&blocked),
             beyond_advice,
+            at_risk_after_advice,
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
             missing,
         });

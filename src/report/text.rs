@@ -695,7 +695,9 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             );
         }
     }
-    out.push_str("\nmissing system packages per image (weight = priority weight of the cells that lack it):\n");
+    out.push_str(
+        "\nmissing system packages per image (weight = priority weight of the cells that lack it and that additions can unblock):\n",
+    );
     for i in &r.images {
         if i.missing.is_empty() {
             let _ = writeln!(out, "  {}: nothing missing", i.image);
@@ -703,13 +705,34 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         }
         let _ = writeln!(out, "  {} ({}):", i.image, i.family);
         for m in &i.missing {
+            // Beyond-advice cells need the package too, so they are named, but their weight
+            // is shown apart: no addition unblocks them, and the weight column must not
+            // promise more than the advice can gain.
+            let beyond = if m.beyond_advice.is_empty() {
+                String::new()
+            } else {
+                format!(" (+{:.2} beyond advice)", m.weight_beyond_advice)
+            };
+            let needed_by: Vec<String> = m
+                .needed_by
+                .iter()
+                .map(|name| {
+                    if m.beyond_advice.contains(name) {
+                        format!("{name}*")
+                    } else if i.at_risk_after_advice.contains(name) {
+                        format!("{name}?")
+                    } else {
+                        name.clone()
+                    }
+                })
+                .collect();
             let _ = writeln!(
                 out,
-                "    {} [{}] weight {:.2}: {}",
+                "    {} [{}] weight {:.2}{beyond}: {}",
                 m.package,
                 kebab(m.strongest),
                 m.weight,
-                m.needed_by.join(", ")
+                needed_by.join(", ")
             );
         }
         if !i.advice.is_empty() {
@@ -733,9 +756,17 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         if !i.beyond_advice.is_empty() {
             let _ = writeln!(
                 out,
-                "    still at risk whatever is added (a library the catalog has no {} package for): {}",
+                "    * still at risk whatever is added (declares, or ships a header or pkg-config file of, a library the catalog has no {} package for; not counted in weights or gains): {}",
                 i.family,
                 i.beyond_advice.join(", ")
+            );
+        }
+        if !i.at_risk_after_advice.is_empty() {
+            let _ = writeln!(
+                out,
+                "    ? counted above but may stay at risk after the additions (a name or summary mentions a library the catalog has no {} package for): {}",
+                i.family,
+                i.at_risk_after_advice.join(", ")
             );
         }
         if let Some(c) = &i.command {
