@@ -192,9 +192,17 @@ fn advice_gains_leave_out_cells_no_package_can_unblock() {
     // Both cells lack libxml2-dev; only parser's is unblocked by it.
     assert_eq!(deb.missing[0].needed_by, ["parser", "oddball"]);
     assert_eq!(deb.advice.len(), 1);
-    assert_eq!(deb.advice[0].add, ["libxml2-dev"]);
-    assert_eq!(deb.advice[0].gain, 1.0);
+    assert_eq!(deb.advice[0].step.add, ["libxml2-dev"]);
+    assert_eq!(deb.advice[0].step.gain, 1.0);
     assert_eq!(deb.beyond_advice, ["oddball"]);
+    // Each step names what it unblocks; JSON carries the names, not positions in a list it
+    // never shows.
+    assert_eq!(deb.advice[0].unblocks, ["parser"]);
+    let json = serde_json::to_value(&report).unwrap();
+    let step = &json["images"][0]["advice"][0];
+    assert_eq!(step["unblocks"], serde_json::json!(["parser"]));
+    assert_eq!(step["add"], serde_json::json!(["libxml2-dev"]));
+    assert!(step.get("unblocked").is_none(), "{step}");
 }
 
 /// The per-package weight in `syslibs` promises no more than the advice can gain: a cell no
@@ -241,7 +249,7 @@ fn missing_package_weight_leaves_out_cells_beyond_advice() {
     assert_eq!(deb.beyond_advice, ["oddball", "stray"]);
     // The weights of the table add up to the advice's total.
     let table: f64 = deb.missing.iter().map(|m| m.weight).sum();
-    assert_eq!(deb.advice.last().map(|s| s.cumulative), Some(table));
+    assert_eq!(deb.advice.last().map(|s| s.step.cumulative), Some(table));
 
     let text = basefit::report::text::system_text(&report);
     assert!(
@@ -304,8 +312,8 @@ fn a_possible_need_of_an_unnamed_library_keeps_the_cell_in_the_advice() {
     assert_eq!(deb.beyond_advice, ["oddball"]);
     assert_eq!(deb.at_risk_after_advice, ["vireo-quasar"]);
     assert_eq!(deb.advice.len(), 1);
-    assert_eq!(deb.advice[0].add, ["libxml2-dev"]);
-    assert_eq!(deb.advice[0].gain, 4.0);
+    assert_eq!(deb.advice[0].step.add, ["libxml2-dev"]);
+    assert_eq!(deb.advice[0].step.gain, 4.0);
     assert_eq!(deb.missing[0].weight, 4.0);
     assert_eq!(deb.missing[0].weight_beyond_advice, 4.0);
 

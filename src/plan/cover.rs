@@ -177,7 +177,10 @@ pub struct AdviceStep {
     pub add: Vec<String>,
     /// The weight newly unblocked by this step (its marginal gain).
     pub gain: f64,
-    /// Indices into the `blocked` slice of the items this step unblocks, ascending.
+    /// Indices into the `blocked` slice of the items this step unblocks, ascending. Left out
+    /// of serialized output, where an index into the caller's slice means nothing; callers
+    /// name the items instead (as `syslibs` does).
+    #[serde(skip)]
     pub unblocked: Vec<usize>,
     /// The weight unblocked by this and all earlier steps.
     pub cumulative: f64,

@@ -42,6 +42,15 @@ pub struct MissingPackage {
     pub weight_beyond_advice: f64,
 }
 
+/// One step of an image's advice, naming the priority packages it lets install.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AdviceLine {
+    #[serde(flatten)]
+    pub step: AdviceStep,
+    /// The priority packages whose cells this step unblocks, in priority order.
+    pub unblocks: Vec<String>,
+}
+
 /// What one image lacks for the priority cells that need system packages, and the advice.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ImageNeeds {
@@ -50,7 +59,7 @@ pub struct ImageNeeds {
     pub missing: Vec<MissingPackage>,
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
     /// Only cells that adding packages can unblock count toward its gains.
-    pub advice: Vec<AdviceStep>,
+    pub advice: Vec<AdviceLine>,
     /// Priority packages whose cell here lacks system packages and has a `likely` or `certain`
     /// need of a library the catalog has no system package for on this family: they stay at
     /// risk whatever the advice adds, so no step's gain and no package's `weight` counts them.
@@ -135,6 +144,8 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut blocked = Vec::new();
         let mut beyond_advice = Vec::new();
         let mut at_risk_after_advice = Vec::new();
+        // Beside `blocked`: the priority package of each of its items.
+        let mut blocked_names: Vec<String> = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
             if cell.missing_system_packages.is_empty()
@@ -192,6 +203,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             if unknown.is_some() {
                 at_risk_after_advice.push(row.name.clone());
             }
+            blocked_names.push(row.name.clone());
             blocked.push(Blocked {
                 weight: row.weight,
                 missing: cell.missing_system_packages.iter().cloned().collect(),
@@ -212,7 +224,17 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         images.push(ImageNeeds {
             image: image.id.clone(),
             family: image.family,
-            advice: advise(&blocked),
+            advice: advise(&blocked)
+                .into_iter()
+                .map(|step| AdviceLine {
+                    unblocks: step
+                        .unblocked
+                        .iter()
+                        .map(|&i| blocked_names[i].clone())
+                        .collect(),
+                    step,
+                })
+                .collect(),
             beyond_advice,
             at_risk_after_advice,
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),

@@ -745,11 +745,13 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             for (n, s) in i.advice.iter().enumerate() {
                 let _ = writeln!(
                     out,
-                    "      {}. {}  +{:.2} (total {:.2})",
+                    "      {}. {}  +{:.2} (total {:.2}){}{}",
                     n + 1,
-                    s.add.join(" "),
-                    s.gain,
-                    s.cumulative
+                    s.step.add.join(" "),
+                    s.step.gain,
+                    s.step.cumulative,
+                    if s.unblocks.is_empty() { "" } else { ": " },
+                    s.unblocks.join(", ")
                 );
             }
         }
