@@ -205,6 +205,27 @@ fn advice_gains_leave_out_cells_no_package_can_unblock() {
     assert!(step.get("unblocked").is_none(), "{step}");
 }
 
+/// A cell at risk only for a library the catalog cannot name lacks no system package, yet
+/// `syslibs` must still list it: no addition helps it.
+#[test]
+fn a_cell_at_risk_only_for_an_unnamed_library_is_listed_beyond_advice() {
+    let registry = r#"packages:
+  - name: loner
+    versions: [{version: "1.0.0", native: {libraries: [libnowhere-at-all]}}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - loner\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    assert_eq!(matrix.cells[0].outcome, basefit::plan::Outcome::AtRisk);
+    assert!(matrix.cells[0].missing_system_packages.is_empty());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    assert_eq!(deb.beyond_advice, ["loner"]);
+    assert!(deb.missing.is_empty() && deb.advice.is_empty());
+    let text = basefit::report::text::system_text(&report);
+    assert!(text.contains("still at risk whatever is added"), "{text}");
+    assert!(text.contains(": loner"), "{text}");
+}
+
 /// The per-package weight in `syslibs` promises no more than the advice can gain: a cell no
 /// addition unblocks still names the package it lacks, marked, with its weight shown apart.
 #[test]

@@ -148,9 +148,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut blocked_names: Vec<String> = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
-            if cell.missing_system_packages.is_empty()
-                || !matches!(cell.outcome, Outcome::Fails | Outcome::AtRisk)
-            {
+            if !matches!(cell.outcome, Outcome::Fails | Outcome::AtRisk) {
                 continue;
             }
             let strongest = cell
@@ -178,6 +176,15 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             // beyond advice; a `possible` one leaves it counted, and listed as still at risk
             // after the additions, since the mention may be real.
             let beyond = unknown.is_some_and(|c| c >= Confidence::Likely);
+            // A cell at risk only for a library the catalog cannot name lacks no package, yet
+            // no addition helps it either: it belongs with the cells beyond advice, not out of
+            // the report.
+            if cell.missing_system_packages.is_empty() {
+                if beyond {
+                    beyond_advice.push(row.name.clone());
+                }
+                continue;
+            }
             for p in &cell.missing_system_packages {
                 let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
                     package: p.clone(),

@@ -701,9 +701,14 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
     for i in &r.images {
         if i.missing.is_empty() {
             let _ = writeln!(out, "  {}: nothing missing", i.image);
-            continue;
+            // A cell at risk for a library no package provides lacks nothing, yet no
+            // addition helps it: say so even here.
+            if i.beyond_advice.is_empty() {
+                continue;
+            }
+        } else {
+            let _ = writeln!(out, "  {} ({}):", i.image, i.family);
         }
-        let _ = writeln!(out, "  {} ({}):", i.image, i.family);
         for m in &i.missing {
             // Beyond-advice cells need the package too, so they are named, but their weight
             // is shown apart: no addition unblocks them, and the weight column must not
