@@ -1,6 +1,7 @@
 //! What single cells predict and how they explain it: the pre-release flag's bounds, the
-//! "newest release that resolves" hint, and the cause given when a requirement on a published
-//! package matches none of its versions. A fictional runtime with invented package names.
+//! "newest release that resolves" hint, the cause given when a requirement on a published
+//! package matches none of its versions, and the blockers of a cause read off the root's own
+//! releases. A fictional runtime with invented package names.
 
 use basefit::load::{InputPaths, Inputs, load_inputs};
 use basefit::plan::PlanOptions;
@@ -138,6 +139,36 @@ fn unmatched_requirement_on_a_published_package_is_not_missing() {
     assert_eq!(
         reasons,
         ["phantom (wanted ^1) is missing from the registry"]
+    );
+}
+
+/// When the cause is read off the root's own releases, its blockers are the dependencies that
+/// fail the same way; the cell's one-line reason is built from them, so one that fails
+/// otherwise would contradict the cause. quarry 2.0.0 needs a newer runtime and 1.0.0 a
+/// version of bittern nobody published: the cell reads runtime-too-old (a newer runtime
+/// installs 2.0.0), and its lines, not a blocker, say what stops 1.0.0.
+#[test]
+fn blockers_of_a_cause_read_off_the_root_fail_the_same_way() {
+    let registry = r#"packages:
+  - name: quarry
+    versions:
+      - {version: "1.0.0", depends: [{name: bittern, req: "^9"}]}
+      - {version: "2.0.0", runtime: ">=4.0"}
+  - name: bittern
+    versions: [{version: "1.0.0"}]
+"#;
+    let inputs = inputs(registry, "priorities: [quarry]\n");
+    let cell = explain(&inputs, "quarry", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::RuntimeTooOld));
+    assert!(cell.blockers.is_empty(), "{:?}", cell.blockers);
+    assert!(
+        cell.explanation
+            .iter()
+            .any(|l| l == "bittern has no published version matching the requirement"),
+        "{:?}",
+        cell.explanation
     );
 }
 

@@ -289,7 +289,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .order
         .sort_by_key(|f| !matches!(f, Fact::Depends(Node::Root, ..)));
     let mut lines = Vec::new();
-    let mut blockers = Vec::new();
+    // Each with the cause it stands for, so that the ones a chosen cause disowns can go.
+    let mut blockers: Vec<(Blocker, Cause)> = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
     let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
     // A requirement no published release meets is a cause in itself: say so where it is stated.
@@ -333,10 +334,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                 });
                 leaf_causes.push((*p, cause));
                 if *p != root {
-                    blockers.push(Blocker {
-                        package: *p,
-                        reason: format!("{name} {}", cause.label()),
-                    });
+                    let reason = format!("{name} {}", cause.label());
+                    blockers.push((
+                        Blocker {
+                            package: *p,
+                            reason,
+                        },
+                        cause,
+                    ));
                 }
             }
             Fact::Depends(a, sa, b, sb) => {
@@ -384,10 +389,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                             } else {
                                 cause.label()
                             };
-                            blockers.push(Blocker {
-                                package: *b,
-                                reason: format!("{target} (wanted {req}) {why}"),
-                            });
+                            let reason = format!("{target} (wanted {req}) {why}");
+                            blockers.push((
+                                Blocker {
+                                    package: *b,
+                                    reason,
+                                },
+                                cause,
+                            ));
                         }
                     }
                     Node::Runtime => {}
@@ -404,21 +413,21 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .map(|(p, _)| *p)
         .collect();
     conflicts.sort_by(|a, b| registry.name(*a).cmp(registry.name(*b)));
-    let cause = if let Some((_, c)) = leaf_causes
+    let (cause, from_root) = if let Some((_, c)) = leaf_causes
         .iter()
         .find(|(_, c)| *c == Cause::MissingFromRegistry)
     {
-        *c
+        (*c, false)
     } else if let Some((_, c)) = leaf_causes.iter().find(|(p, _)| *p == root) {
-        *c
+        (*c, true)
     } else if !conflicts.is_empty()
         || leaf_causes
             .iter()
             .any(|(_, c)| *c == Cause::DependencyConflict)
     {
-        Cause::DependencyConflict
+        (Cause::DependencyConflict, false)
     } else {
-        [
+        let c = [
             Cause::RuntimeTooOld,
             Cause::RuntimeTooNew,
             Cause::NoBuildForPlatform,
@@ -426,7 +435,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         ]
         .into_iter()
         .find(|c| leaf_causes.iter().any(|(_, lc)| lc == c))
-        .unwrap_or(Cause::DependencyConflict)
+        .unwrap_or(Cause::DependencyConflict);
+        (c, false)
     };
     for &p in conflicts
         .iter()
@@ -446,10 +456,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
             registry.name(p)
         ));
         if p != root {
-            blockers.push(Blocker {
-                package: p,
-                reason: format!("conflicting requirements on {}", registry.name(p)),
-            });
+            let reason = format!("conflicting requirements on {}", registry.name(p));
+            blockers.push((Blocker { package: p, reason }, Cause::DependencyConflict));
         }
     }
     lines.push(format!(
@@ -457,6 +465,13 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         registry.name(root),
         view.image.id
     ));
+    // A cause read off the root's own releases names no other package; a dependency that
+    // fails in another way only blocks the releases left over, and as the cell's one-line
+    // reason it would contradict the cause.
+    if from_root {
+        blockers.retain(|(_, c)| *c == cause);
+    }
+    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _)| b).collect();
     blockers.dedup();
     Failure {
         cause,
