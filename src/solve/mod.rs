@@ -187,7 +187,9 @@ pub fn solve_with_root_set(
 /// `roots` (package, allowed release indices) is installed at once, as when an image
 /// pre-installs them. An empty `roots` trivially installs nothing. On success the closure
 /// covers every root; `root_index` is the first root's release. A failure is explained from
-/// the first root's point of view, but its lines and blockers cover the whole derivation.
+/// the first root's point of view: its lines cover the whole derivation, and so do its
+/// blockers unless the cause is read off the first root's own releases (then only those that
+/// fail the same way are kept, as in a cell).
 pub fn solve_joint(
     view: &ImageView<'_>,
     roots: &[(PackageId, IndexSet)],
