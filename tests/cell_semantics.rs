@@ -1,6 +1,7 @@
 //! What single cells predict and how they explain it: the pre-release flag's bounds, the
-//! "newest release that resolves" hint, and the cause given when a requirement on a published
-//! package matches none of its versions. A fictional runtime with invented package names.
+//! "newest release that resolves" hint, the cause given when a requirement on a published
+//! package matches none of its versions, and which cause a cell reads when its releases fail in
+//! different ways. A fictional runtime with invented package names.
 
 use basefit::load::{InputPaths, Inputs, load_inputs};
 use basefit::plan::PlanOptions;
@@ -10,9 +11,13 @@ use basefit::solve::Cause;
 const IMAGES: &str = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
 
 fn inputs(registry: &str, priorities: &str) -> Inputs {
+    inputs_on(IMAGES, registry, priorities)
+}
+
+fn inputs_on(images: &str, registry: &str, priorities: &str) -> Inputs {
     let dir = tempfile::tempdir().unwrap();
     std::fs::write(dir.path().join("r.yaml"), registry).unwrap();
-    std::fs::write(dir.path().join("i.yaml"), IMAGES).unwrap();
+    std::fs::write(dir.path().join("i.yaml"), images).unwrap();
     std::fs::write(dir.path().join("p.yaml"), priorities).unwrap();
     load_inputs(&InputPaths {
         registry: vec![dir.path().join("r.yaml")],
@@ -139,6 +144,184 @@ fn unmatched_requirement_on_a_published_package_is_not_missing() {
         reasons,
         ["phantom (wanted ^1) is missing from the registry"]
     );
+}
+
+/// When the cause is read off the root's own releases, its blockers are the dependencies that
+/// fail the same way; the cell's one-line reason is built from them, so one that fails
+/// otherwise would contradict the cause. quarry 2.0.0 needs a newer runtime and 1.0.0 a
+/// version of bittern nobody published: the cell reads runtime-too-old (a newer runtime
+/// installs 2.0.0), and its lines, not a blocker, say what stops 1.0.0.
+#[test]
+fn blockers_of_a_cause_read_off_the_root_fail_the_same_way() {
+    let registry = r#"packages:
+  - name: quarry
+    versions:
+      - {version: "1.0.0", depends: [{name: bittern, req: "^9"}]}
+      - {version: "2.0.0", runtime: ">=4.0"}
+  - name: bittern
+    versions: [{version: "1.0.0"}]
+"#;
+    let inputs = inputs(registry, "priorities: [quarry]\n");
+    let cell = explain(&inputs, "quarry", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::RuntimeTooOld));
+    assert!(cell.blockers.is_empty(), "{:?}", cell.blockers);
+    assert!(
+        cell.explanation
+            .iter()
+            .any(|l| l == "bittern has no published version matching the requirement"),
+        "{:?}",
+        cell.explanation
+    );
+}
+
+/// Three images that differ in their runtime only, the cell's at 3.5.0.
+const RUNTIMES: &str = "images:
+  - {id: old, runtime: 2.9.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+  - {id: mid, runtime: 3.5.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+  - {id: new, runtime: 4.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+";
+
+/// Root releases the image refuses, beside older or newer ones that need a package the registry
+/// lacks: when one refused release asks for nothing missing, an image with another runtime or
+/// platform installs it, so the cell names the image's refusal, not the missing name that only
+/// blocks the releases left over. Its blockers and lines must not contradict that cause.
+#[test]
+fn a_release_another_image_would_install_outranks_a_missing_dependency_of_the_others() {
+    let registry = r#"packages:
+  - name: quill
+    versions:
+      - {version: "1.0.0", runtime: ">=3.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0"}
+  - name: quire
+    versions:
+      - {version: "1.0.0", runtime: "<3.0"}
+      - {version: "2.0.0", depends: [{name: nonesuch, req: "^1"}]}
+  - name: quoll
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", builds: {source: false, prebuilt: [linux/musl/x86_64]}}
+  - name: quasar
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", depends: [{name: reedbuck, req: "*"}]}
+      - {version: "3.0.0", runtime: ">=4.0"}
+  - name: reedbuck
+    versions:
+      - {version: "1.0.0", runtime: ">=4.0"}
+"#;
+    let inputs = inputs_on(
+        RUNTIMES,
+        registry,
+        "priorities: [quill, quire, quoll, quasar]\n",
+    );
+    let options = PlanOptions::default();
+    let on_mid = |name: &str| explain(&inputs, name, "mid", &options).unwrap();
+
+    // quill 2.0.0 needs runtime 4.0; 1.0.0, the one the image admits, needs nonesuch.
+    let quill = on_mid("quill");
+    assert_eq!(quill.cell.cause, Some(Cause::RuntimeTooOld));
+    assert!(quill.cell.blockers.is_empty(), "{:?}", quill.cell.blockers);
+    let lines = &quill.cell.explanation;
+    assert!(
+        lines.iter().any(|l| {
+            l.starts_with("no version of quill can be used here: 2.0.0:")
+                && l.contains("newer runtime (>=4.0; the image has 3.5.0)")
+        }) && lines.iter().any(|l| l == "nonesuch is not in the registry"),
+        "{lines:?}"
+    );
+    // The hint, which solves again at each declared runtime, agrees.
+    let hint = quill.runtime_hint.as_ref().unwrap().resolves_at().unwrap();
+    assert_eq!(hint.version, "4.1.0");
+    let on_new = explain(&inputs, "quill", "new", &options).unwrap().cell;
+    assert_eq!(on_new.root_version.as_deref(), Some("2.0.0"));
+
+    // The mirror: the newest release needs nonesuch, the older one an older runtime.
+    let quire = on_mid("quire");
+    assert_eq!(quire.cell.cause, Some(Cause::RuntimeTooNew));
+    assert!(quire.cell.blockers.is_empty(), "{:?}", quire.cell.blockers);
+    let hint = quire.runtime_hint.as_ref().unwrap().resolves_at().unwrap();
+    assert_eq!(hint.version, "2.9.0");
+
+    // The platform is the image's too: quoll 2.0.0 is built for musl only.
+    assert_eq!(on_mid("quoll").cell.cause, Some(Cause::NoBuildForPlatform));
+
+    // A dependency that fails the same way as the root stays a blocker; the missing name,
+    // which only blocks the oldest release, does not.
+    let quasar = on_mid("quasar").cell;
+    assert_eq!(quasar.cause, Some(Cause::RuntimeTooOld));
+    let reasons: Vec<&str> = quasar.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(reasons, ["reedbuck needs a newer runtime"]);
+}
+
+/// `missing-from-registry` stays where no image would help: the entry's package is missing, a
+/// yanked release is the only other one, every release needs a missing package, or the
+/// releases the image refuses ask for a missing package or an unmet version themselves.
+#[test]
+fn a_missing_name_stays_the_cause_where_no_image_would_lift_the_failure() {
+    let registry = r#"packages:
+  - name: quell
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: nonesuch, req: "*"}]}
+  - name: quern
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: bittern, req: "^9"}]}
+      - {version: "2.1.0", runtime: ">=4.0", depends: [{name: bittern, req: "^2"}]}
+  - name: bittern
+    versions:
+      - {version: "1.0.0"}
+      - {version: "2.0.0", yanked: true}
+  - name: quince
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", yanked: true}
+  - name: quaff
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", depends: [{name: nonesuch, req: "^2"}]}
+"#;
+    let inputs = inputs_on(
+        RUNTIMES,
+        registry,
+        "priorities: [quell, quern, quince, quaff, quagga]\n",
+    );
+    let options = PlanOptions::default();
+    for name in ["quell", "quern", "quince", "quaff", "quagga"] {
+        let cell = explain(&inputs, name, "mid", &options).unwrap().cell;
+        assert_eq!(cell.cause, Some(Cause::MissingFromRegistry), "{name}");
+        if name != "quagga" {
+            let reasons: Vec<&str> = cell.blockers.iter().map(|b| b.reason.as_str()).collect();
+            assert!(
+                reasons.iter().any(|r| r.starts_with("nonesuch ")),
+                "{name}: {reasons:?}"
+            );
+        }
+    }
+}
+
+/// Only the root's own refusals are weighed against a missing name: a dependency's refusal is
+/// the first blocker the solver met for the releases that need it, and says nothing of the
+/// others. quiver 2.0.0 needs reedbuck, which needs runtime 4.0; the cell reads the missing
+/// name, and the runtime hint, which solves again, shows that runtime 4.1.0 installs it.
+#[test]
+fn a_dependency_refused_by_the_image_leaves_the_missing_name_as_the_cause() {
+    let registry = r#"packages:
+  - name: quiver
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", depends: [{name: reedbuck, req: "*"}]}
+  - name: reedbuck
+    versions:
+      - {version: "1.0.0", runtime: ">=4.0"}
+"#;
+    let inputs = inputs_on(RUNTIMES, registry, "priorities: [quiver]\n");
+    let e = explain(&inputs, "quiver", "mid", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.cause, Some(Cause::MissingFromRegistry));
+    let hint = e.runtime_hint.as_ref().unwrap().resolves_at().unwrap();
+    assert_eq!(hint.version, "4.1.0");
 }
 
 /// pubgrub merges what several releases require into one fact; the explanation must keep

@@ -622,6 +622,33 @@ fn a_yanked_release_that_stops_suiting_the_image_is_recorded_as_a_cold_solve_wou
 }
 
 #[test]
+fn a_dependency_of_a_refused_root_release_that_is_published_or_withdrawn_is_solved_again() {
+    // app 1.0.0 needs ghost, which the registry lacks; app 2.0.0 needs runtime 4 and later.
+    // Whether a newer runtime would install app 2.0.0 (runtime-too-old) or not
+    // (missing-from-registry) turns on later alone, which the solver never asked about.
+    let registry = |later: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: ghost, req: '*'}}]}}
+  - {{version: 2.0.0, runtime: '>=4', depends: [{{name: later, req: '^1'}}]}}
+{later}"
+        )
+    };
+    let published = registry("- name: later\n  versions: [{version: 1.0.0}]\n");
+    for (before, after, cause) in [
+        (registry(""), published.clone(), "runtime-too-old"),
+        (published, registry(""), "missing-from-registry"),
+    ] {
+        let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+        assert_eq!(cold.matrix.cells[0].cause.map(|c| c.as_str()), Some(cause));
+        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{cause}");
+        assert_eq!(stats.solved, 1, "{cause}");
+    }
+}
+
+#[test]
 fn a_suiting_release_published_where_the_solver_never_picked_keeps_the_cell() {
     // app 2.0.0 needs alpha `^1` and beta, whose one release needs a newer runtime than the
     // image's: beta has no candidates, so it is decided first, fails, and the solver falls

@@ -130,6 +130,47 @@ fn cause_of_refusals(tally: &BTreeMap<Admission, Vec<u32>>) -> Cause {
     }
 }
 
+/// The releases of `root` in `set` that the image refuses for its runtime or platform and
+/// that ask nothing the registry cannot supply (a name it lacks, or a requirement no published
+/// release outside the yanked ones meets), tallied by reason, and the packages read to tell.
+/// An image that admits one of them would let the solver try a release it never tried here;
+/// one that needs a missing package would fail on any image, so it does not count.
+fn refusals_another_image_lifts(
+    view: &ImageView<'_>,
+    root: PackageId,
+    set: &IndexSet,
+) -> (BTreeMap<Admission, Vec<u32>>, Vec<PackageId>) {
+    let registry = view.registry;
+    let releases = &registry.package(root).releases;
+    let mut read = Vec::new();
+    let mut tally = refusals(view, root, set);
+    tally.retain(|reason, _| {
+        matches!(
+            reason,
+            Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime | Admission::NoBuild
+        )
+    });
+    for idx in tally.values_mut() {
+        idx.retain(|&i| {
+            let release = &releases[i as usize];
+            read.extend(release.runtime_deps().map(|d| d.package));
+            release.runtime_deps().all(|d| {
+                let target = registry.package(d.package);
+                target.declared
+                    && indices(
+                        &view.sets.get(registry, d.package, d.req),
+                        target.releases.len(),
+                    )
+                    .any(|j| !target.releases[j as usize].yanked)
+            })
+        });
+    }
+    tally.retain(|_, idx| !idx.is_empty());
+    read.sort_unstable();
+    read.dedup();
+    (tally, read)
+}
+
 /// Why nothing in `set` of `package` is usable, as one cause and one phrase.
 pub(crate) fn unusable(
     view: &ImageView<'_>,
@@ -260,9 +301,12 @@ fn requirement_text(
     }
 }
 
-/// Every package an explanation of `tree` reads beyond what the solver was answered: those
-/// its facts name, whose refusals, requirement texts and release lists it describes.
-pub fn examined(tree: &Tree) -> Vec<PackageId> {
+/// Every package an explanation of `tree` for `root` reads beyond what the solver was
+/// answered: those its facts name, whose refusals, requirement texts and release lists it
+/// describes, and, when a fact names a package missing from the registry, the dependencies of
+/// the root's releases the image refuses, which decide whether another image would lift the
+/// failure ([`explain`]'s choice of cause).
+pub fn examined(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Vec<PackageId> {
     let mut facts = Facts::default();
     collect(tree, &mut facts);
     let mut out: Vec<PackageId> = facts.no_versions.keys().copied().collect();
@@ -273,6 +317,13 @@ pub fn examined(tree: &Tree) -> Vec<PackageId> {
             }
             out.push(*b);
         }
+    }
+    // Wider than `explain`'s own test (a missing leaf), never narrower: reading more only
+    // costs a re-plan a solve.
+    if out.iter().any(|p| !view.registry.package(*p).declared)
+        && let Some(set) = facts.no_versions.get(&root)
+    {
+        out.extend(refusals_another_image_lifts(view, root, set).1);
     }
     out.sort_unstable();
     out.dedup();
@@ -289,7 +340,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .order
         .sort_by_key(|f| !matches!(f, Fact::Depends(Node::Root, ..)));
     let mut lines = Vec::new();
-    let mut blockers = Vec::new();
+    // Each with the cause it stands for, so that the ones a chosen cause disowns can go.
+    let mut blockers: Vec<(Blocker, Cause)> = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
     let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
     // A requirement no published release meets is a cause in itself: say so where it is stated.
@@ -333,10 +385,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                 });
                 leaf_causes.push((*p, cause));
                 if *p != root {
-                    blockers.push(Blocker {
-                        package: *p,
-                        reason: format!("{name} {}", cause.label()),
-                    });
+                    let reason = format!("{name} {}", cause.label());
+                    blockers.push((
+                        Blocker {
+                            package: *p,
+                            reason,
+                        },
+                        cause,
+                    ));
                 }
             }
             Fact::Depends(a, sa, b, sb) => {
@@ -384,10 +440,14 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
                             } else {
                                 cause.label()
                             };
-                            blockers.push(Blocker {
-                                package: *b,
-                                reason: format!("{target} (wanted {req}) {why}"),
-                            });
+                            let reason = format!("{target} (wanted {req}) {why}");
+                            blockers.push((
+                                Blocker {
+                                    package: *b,
+                                    reason,
+                                },
+                                cause,
+                            ));
                         }
                     }
                     Node::Runtime => {}
@@ -404,21 +464,40 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         .map(|(p, _)| *p)
         .collect();
     conflicts.sort_by(|a, b| registry.name(*a).cmp(registry.name(*b)));
-    let cause = if let Some((_, c)) = leaf_causes
+    let missing = leaf_causes
         .iter()
-        .find(|(_, c)| *c == Cause::MissingFromRegistry)
-    {
-        *c
-    } else if let Some((_, c)) = leaf_causes.iter().find(|(p, _)| *p == root) {
-        *c
+        .any(|(_, c)| *c == Cause::MissingFromRegistry);
+    let own = leaf_causes
+        .iter()
+        .find(|(p, _)| *p == root)
+        .map(|(_, c)| *c);
+    // A missing name fails a release on every image, so it outranks the root's own refusals
+    // unless one of them is the image's doing alone: then an image with another runtime or
+    // platform would install that release, and saying so is what the image's maintainer can
+    // act on. Only the root's own refusals are weighed: they name exactly the releases the
+    // image rules out, while a dependency's refusal is the first blocker the solver met on
+    // one path, and may hide others (`explain`'s runtime hint solves again to find out).
+    let lifted = match facts.no_versions.get(&root) {
+        Some(set) if missing => {
+            let (tally, _) = refusals_another_image_lifts(view, root, set);
+            (!tally.is_empty()).then(|| cause_of_refusals(&tally))
+        }
+        _ => None,
+    };
+    let (cause, from_root) = if let Some(c) = lifted {
+        (c, true)
+    } else if missing {
+        (Cause::MissingFromRegistry, false)
+    } else if let Some(c) = own {
+        (c, true)
     } else if !conflicts.is_empty()
         || leaf_causes
             .iter()
             .any(|(_, c)| *c == Cause::DependencyConflict)
     {
-        Cause::DependencyConflict
+        (Cause::DependencyConflict, false)
     } else {
-        [
+        let c = [
             Cause::RuntimeTooOld,
             Cause::RuntimeTooNew,
             Cause::NoBuildForPlatform,
@@ -426,7 +505,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         ]
         .into_iter()
         .find(|c| leaf_causes.iter().any(|(_, lc)| lc == c))
-        .unwrap_or(Cause::DependencyConflict)
+        .unwrap_or(Cause::DependencyConflict);
+        (c, false)
     };
     for &p in conflicts
         .iter()
@@ -446,10 +526,8 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
             registry.name(p)
         ));
         if p != root {
-            blockers.push(Blocker {
-                package: p,
-                reason: format!("conflicting requirements on {}", registry.name(p)),
-            });
+            let reason = format!("conflicting requirements on {}", registry.name(p));
+            blockers.push((Blocker { package: p, reason }, Cause::DependencyConflict));
         }
     }
     lines.push(format!(
@@ -457,6 +535,13 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
         registry.name(root),
         view.image.id
     ));
+    // A cause read off the root's own releases names no other package; a dependency that
+    // fails in another way only blocks the releases left over, and as the cell's one-line
+    // reason it would contradict the cause.
+    if from_root {
+        blockers.retain(|(_, c)| *c == cause);
+    }
+    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _)| b).collect();
     blockers.dedup();
     Failure {
         cause,

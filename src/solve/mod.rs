@@ -187,7 +187,9 @@ pub fn solve_with_root_set(
 /// `roots` (package, allowed release indices) is installed at once, as when an image
 /// pre-installs them. An empty `roots` trivially installs nothing. On success the closure
 /// covers every root; `root_index` is the first root's release. A failure is explained from
-/// the first root's point of view, but its lines and blockers cover the whole derivation.
+/// the first root's point of view: its lines cover the whole derivation, and so do its
+/// blockers unless the cause is read off the first root's own releases (then only those that
+/// fail the same way are kept, as in a cell).
 pub fn solve_joint(
     view: &ImageView<'_>,
     roots: &[(PackageId, IndexSet)],
@@ -242,7 +244,7 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
         Err(PubGrubError::NoSolution(err)) => {
             // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
             // cause; the explainer merges them per package itself.
-            observed.explained = explain::examined(&err);
+            observed.explained = explain::examined(view, root_id, &err);
             let failure = explain::explain(view, root_id, &err);
             explain::dismantle(err);
             Solved::Fails(failure)
