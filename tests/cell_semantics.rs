@@ -531,3 +531,40 @@ fn a_possible_need_of_an_unnamed_library_keeps_the_cell_in_the_advice() {
         "{text}"
     );
 }
+
+/// A yanked newest release does not make the cause "only yanked or pre-release versions"
+/// when an older, unyanked release is there and fails for another reason.
+#[test]
+fn a_yanked_newest_release_does_not_hide_why_the_older_ones_fail() {
+    let registry = r#"packages:
+  - name: plover
+    versions:
+      - {version: "1.0.0", depends: [{name: godwit, req: ">=5"}]}
+      - {version: "2.0.0", yanked: true}
+  - name: godwit
+    versions: [{version: "1.0.0"}]
+"#;
+    let planned = inputs(registry, "priorities:\n  - plover\n");
+    let matrix = basefit::plan::plan(&planned, &PlanOptions::default());
+    let cell = &matrix.cells[0];
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{cell:#?}");
+    assert!(
+        cell.blockers.iter().any(|b| b.package == "godwit"),
+        "{cell:#?}"
+    );
+    // With nothing else tried, the yank is the whole story.
+    let registry = r#"packages:
+  - name: plover
+    versions:
+      - {version: "1.0.0", yanked: true}
+      - {version: "2.0.0-rc.1"}
+"#;
+    let planned = inputs(registry, "priorities:\n  - plover\n");
+    let matrix = basefit::plan::plan(&planned, &PlanOptions::default());
+    assert_eq!(
+        matrix.cells[0].cause,
+        Some(Cause::OnlyYankedOrPrerelease),
+        "{:#?}",
+        matrix.cells[0]
+    );
+}

@@ -467,10 +467,15 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     let missing = leaf_causes
         .iter()
         .any(|(_, c)| *c == Cause::MissingFromRegistry);
+    // Yanked and pre-release releases are set aside by the registry, not by the image: when
+    // the root's other releases were tried and failed for a reason of their own, that reason
+    // is the cause, and "has only yanked or pre-release versions" would be untrue.
+    let others_failed = !conflicts.is_empty() || leaf_causes.iter().any(|(p, _)| *p != root);
     let own = leaf_causes
         .iter()
         .find(|(p, _)| *p == root)
-        .map(|(_, c)| *c);
+        .map(|(_, c)| *c)
+        .filter(|c| *c != Cause::OnlyYankedOrPrerelease || !others_failed);
     // A missing name fails a release on every image, so it outranks the root's own refusals
     // unless one of them is the image's doing alone: then an image with another runtime or
     // platform would install that release, and saying so is what the image's maintainer can
