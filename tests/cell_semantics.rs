@@ -568,3 +568,29 @@ fn a_yanked_newest_release_does_not_hide_why_the_older_ones_fail() {
         matrix.cells[0]
     );
 }
+
+/// Each missing system package carries the confidence of the needs that ask for it, not the
+/// cell's strongest need of any library.
+#[test]
+fn a_missing_package_is_as_certain_as_the_needs_that_name_it() {
+    let registry = r#"packages:
+  - name: parser
+    summary: draws libpng thumbnails of its trees
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - parser\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let rows: Vec<(&str, basefit::native::Confidence)> = report.images[0]
+        .missing
+        .iter()
+        .map(|m| (m.package.as_str(), m.strongest))
+        .collect();
+    use basefit::native::Confidence::{Certain, Possible};
+    assert_eq!(
+        rows,
+        [("libpng-dev", Possible), ("libxml2-dev", Certain)],
+        "{:#?}",
+        matrix.cells[0]
+    );
+}

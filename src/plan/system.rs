@@ -26,6 +26,8 @@ pub struct PackageEvidence {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct MissingPackage {
     pub package: String,
+    /// The strongest evidence, over the cells that lack it, of a need that asks for this
+    /// package (for toolchain packages, of any native need of the cell).
     pub strongest: Confidence,
     /// Entries whose cell lists it as missing, beyond-advice ones included.
     pub needed_by: Vec<String>,
@@ -151,12 +153,37 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             if !matches!(cell.outcome, Outcome::Fails | Outcome::AtRisk) {
                 continue;
             }
-            let strongest = cell
+            let cell_strongest = cell
                 .native_needs
                 .iter()
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
+            // How sure the cell is that it needs package `p`: its strongest need of a library
+            // the catalog maps to `p` on this family. The cell's strongest need of any library
+            // would mark a package wanted only on a name's say-so as certain when another
+            // library is certain. Toolchain packages serve every native build, and a package
+            // no need maps to (a catalog given since the matrix was planned) keeps the cell's.
+            let toolchain = native::toolchain_packages(image.family);
+            let strongest_for = |p: &str| {
+                if toolchain.contains(&p) {
+                    return cell_strongest;
+                }
+                cell.native_needs
+                    .iter()
+                    .filter(|nd| {
+                        nd.library
+                            .as_deref()
+                            .and_then(|id| inputs.catalog.get(id))
+                            .and_then(|l| l.families.get(&image.family))
+                            .is_some_and(|f| {
+                                f.dev.as_deref() == Some(p) || f.runtime.as_deref() == Some(p)
+                            })
+                    })
+                    .map(|nd| nd.confidence)
+                    .max()
+                    .unwrap_or(cell_strongest)
+            };
             let unknown = cell
                 .native_needs
                 .iter()
@@ -186,6 +213,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 continue;
             }
             for p in &cell.missing_system_packages {
+                let strongest = strongest_for(p);
                 let m = missing.entry(p.clone()).or_insert_with(|| MissingPackage {
                     package: p.clone(),
                     strongest,
