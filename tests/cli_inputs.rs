@@ -608,3 +608,39 @@ fn long_extends_chain_resolves() {
     let all = (N + 1).to_string();
     assert_eq!(nums, [all.as_str(), all.as_str(), "0"], "{line}");
 }
+
+/// A problem with a field of a long version record names the line of that field's value, not
+/// the line where the record starts: in a record of many lines the record's first line points
+/// the reader at the wrong place.
+#[test]
+fn version_record_field_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        yanked: false\n",
+            "        released: someday\n",
+            "      - version: 1.1.0\n",
+            "        released: 2024-02-03\n",
+            "        runtime: \">=>3\"\n",
+            "      - yanked: true\n",
+            "        version: v2.0\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    for want in [
+        "registry.yaml:6  fernwood@1.0.0: `someday` is not a date",
+        "registry.yaml:9  fernwood@1.1.0: runtime requirement",
+        "registry.yaml:11  fernwood@v2.0: read as 2.0.0",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+}

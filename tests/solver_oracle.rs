@@ -21,6 +21,7 @@
 mod common;
 
 use basefit::load::RegistryBuilder;
+use basefit::load::diag::At;
 use basefit::load::images::read_images_str;
 use basefit::load::registry::RawRelease;
 use basefit::model::{DepKind, Platform, Registry, Requirement};
@@ -300,9 +301,9 @@ impl Spec {
                     "oracle.yaml",
                     line + 1,
                     RawRelease {
-                        version: &version,
+                        version: At::new(&version, line + 1),
                         released: None,
-                        runtime: r.runtime.as_ref().map(|(t, _)| *t),
+                        runtime: r.runtime.as_ref().map(|(t, _)| At::new(*t, line + 1)),
                         deps,
                         source_build,
                         prebuilt,

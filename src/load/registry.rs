@@ -1,6 +1,6 @@
 //! The registry snapshot in YAML, and the assembly step shared with the bulk CSV reader.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
@@ -20,12 +20,13 @@ use std::path::Path;
 ///
 /// ```
 /// use basefit::load::RegistryBuilder;
+/// use basefit::load::diag::At;
 /// use basefit::load::registry::RawRelease;
 /// use basefit::model::DepKind;
 /// let mut b = RegistryBuilder::new();
 /// let id = b.declare_package("r.yaml", 1, "pkg-a", None, false);
 /// b.add_release(id, "r.yaml", 2, RawRelease {
-///     version: "v1.2",
+///     version: At::new("v1.2", 2),
 ///     deps: vec![("pkg-b", "^1", DepKind::Runtime, 3)],
 ///     ..RawRelease::default()
 /// });
@@ -41,9 +42,9 @@ pub struct RegistryBuilder {
 /// The fields of one version record as written, before interning.
 #[derive(Default)]
 pub struct RawRelease<'a> {
-    pub version: &'a str,
-    pub released: Option<&'a str>,
-    pub runtime: Option<&'a str>,
+    pub version: At<&'a str>,
+    pub released: Option<At<&'a str>>,
+    pub runtime: Option<At<&'a str>>,
     /// (name, requirement, kind, line)
     pub deps: Vec<(&'a str, &'a str, DepKind, usize)>,
     pub source_build: bool,
@@ -53,13 +54,16 @@ pub struct RawRelease<'a> {
 }
 
 /// The fields of a version record other than its dependencies, with platforms interned.
+///
+/// Each field keeps its own line: a problem with a value names the value's line, which in a
+/// record of many lines is not the record's.
 pub struct VersionFields<'a> {
     /// The version as written; read leniently.
-    pub version: &'a str,
+    pub version: At<&'a str>,
     /// Release date as written (`YYYY-MM-DD`).
-    pub released: Option<&'a str>,
+    pub released: Option<At<&'a str>>,
     /// Requirement on the runtime version, as written.
-    pub runtime: Option<&'a str>,
+    pub runtime: Option<At<&'a str>>,
     pub build: Build,
     pub native: Option<NativeHints>,
     pub yanked: bool,
@@ -215,27 +219,28 @@ impl RegistryBuilder {
         fields: VersionFields<'_>,
     ) -> Option<StagedRelease> {
         self.ledger.read(RecordKind::Version);
-        let origin = || Origin {
+        let origin = |line| Origin {
             file: file.to_string(),
             line,
         };
-        let (version, raw_version) = match read_version(fields.version) {
+        let written = fields.version;
+        let (version, raw_version) = match read_version(written.value) {
             VersionRead::Strict(v) => (v, None),
             VersionRead::Normalised(v, how) => {
                 self.ledger.note(
                     ProblemKind::NormalisedVersion,
-                    origin(),
-                    format!("{}@{}", self.registry.name(package), fields.version),
+                    origin(written.line),
+                    format!("{}@{}", self.registry.name(package), written.value),
                     format!("read as {v} ({how})"),
                 );
-                (v, Some(fields.version.into()))
+                (v, Some(written.value.into()))
             }
             VersionRead::Refused(why) => {
                 self.ledger.leave_out(
                     RecordKind::Version,
                     ProblemKind::UnreadableVersion,
-                    origin(),
-                    format!("{}@{}", self.registry.name(package), fields.version),
+                    origin(written.line),
+                    format!("{}@{}", self.registry.name(package), written.value),
                     why,
                 );
                 return None;
@@ -245,12 +250,12 @@ impl RegistryBuilder {
         let subject = |registry: &Registry| format!("{}@{version}", registry.name(package));
         let released = match fields.released {
             None => None,
-            Some(text) => {
+            Some(At { value: text, line }) => {
                 let date = ReleaseDate::parse(text);
                 if date.is_none() {
                     self.ledger.note(
                         ProblemKind::UnreadableDate,
-                        origin(),
+                        origin(line),
                         subject(&self.registry),
                         format!("`{text}` is not a date (expected YYYY-MM-DD); ignored"),
                     );
@@ -260,13 +265,13 @@ impl RegistryBuilder {
         };
         let runtime = match fields.runtime {
             None => None,
-            Some(text) => match self.registry.intern_requirement(text) {
+            Some(At { value: text, line }) => match self.registry.intern_requirement(text) {
                 Ok(id) => Some(id),
                 Err(why) => {
                     self.ledger.leave_out(
                         RecordKind::Version,
                         ProblemKind::UnreadableRequirement,
-                        origin(),
+                        origin(line),
                         subject(&self.registry),
                         format!("runtime requirement {why}"),
                     );
@@ -604,7 +609,7 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
 
 fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, BadInput> {
     let m = ctx.map(node, "version record", VERSION_FIELDS)?;
-    let version = m.required_str("version")?;
+    let version = m.required_str_at("version")?;
     let mut deps = Vec::new();
     for d in m.seq("depends")? {
         let dm = ctx.map(d, "dependency", DEP_FIELDS)?;
@@ -648,8 +653,8 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
     };
     Ok(RawRelease {
         version,
-        released: m.opt_str("released")?,
-        runtime: m.opt_str("runtime")?,
+        released: m.opt_str_at("released")?,
+        runtime: m.opt_str_at("runtime")?,
         deps,
         source_build,
         prebuilt,

@@ -5,7 +5,7 @@
 //! problems (an unreadable version string in record 40,000) must still name their line, so
 //! the loaders read this tree instead.
 
-use super::diag::{BadInput, closest};
+use super::diag::{At, BadInput, closest};
 use std::rc::Rc;
 use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser, Tag};
 use yaml_rust2::scanner::{Marker, TScalarStyle};
@@ -405,6 +405,20 @@ impl<'n> MapReader<'n, '_> {
     pub fn opt_str(&self, key: &str) -> Result<Option<&'n str>, BadInput> {
         self.ctx
             .opt_str(self.get(key), &format!("{} `{key}`", self.what))
+    }
+
+    /// [`MapReader::required_str`] with the line of the value.
+    pub fn required_str_at(&self, key: &str) -> Result<At<&'n str>, BadInput> {
+        let node = self.required(key)?;
+        let text = self.ctx.str(node, &format!("{} `{key}`", self.what))?;
+        Ok(At::new(text, node.line))
+    }
+
+    /// [`MapReader::opt_str`] with the line of the value.
+    pub fn opt_str_at(&self, key: &str) -> Result<Option<At<&'n str>>, BadInput> {
+        let node = self.get(key);
+        let text = self.opt_str(key)?;
+        Ok(text.zip(node).map(|(t, n)| At::new(t, n.line)))
     }
 
     pub fn opt_bool(&self, key: &str) -> Result<Option<bool>, BadInput> {
