@@ -644,3 +644,23 @@ fn version_record_field_problems_name_the_line_of_the_value() {
         assert!(stdout.contains(want), "wanted {want} in {stdout}");
     }
 }
+
+/// An unknown dependency `kind` is refused at the line of the kind, not of the entry.
+#[test]
+fn dependency_kind_is_refused_at_its_line() {
+    assert_bad(
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        depends:\n",
+            "          - name: gumleaf\n",
+            "            req: \"^1\"\n",
+            "            kind: optional\n",
+        )
+        .as_bytes(),
+        Some(8),
+        &["dependency `kind`: expected runtime or development, found `optional`"],
+    );
+}
