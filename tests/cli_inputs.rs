@@ -664,3 +664,13 @@ fn dependency_kind_is_refused_at_its_line() {
         &["dependency `kind`: expected runtime or development, found `optional`"],
     );
 }
+
+/// An empty package name is refused at the line of the name, not of the package record.
+#[test]
+fn empty_package_name_is_refused_at_its_line() {
+    assert_bad(
+        b"packages:\n  - summary: Reads fern files\n    name: \"  \"\n",
+        Some(3),
+        &["package: `name` is empty"],
+    );
+}

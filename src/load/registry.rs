@@ -645,10 +645,15 @@ struct ParsedPackage<'a> {
 
 fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, BadInput> {
     let m = ctx.map(node, "package", PACKAGE_FIELDS)?;
-    let name = m.required_str("name")?;
-    if name.trim().is_empty() {
-        return Err(ctx.err(node, "package: `name` is empty"));
+    let name = m.required_str_at("name")?;
+    if name.value.trim().is_empty() {
+        return Err(BadInput::at(
+            ctx.file,
+            name.line,
+            "package: `name` is empty",
+        ));
     }
+    let name = name.value;
     let releases = m
         .seq("versions")?
         .iter()
