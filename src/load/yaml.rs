@@ -313,15 +313,25 @@ impl<'a> Ctx<'a> {
 
     /// A list of strings; a single string is accepted as a list of one.
     pub fn str_list(&self, node: Option<&Node>, what: &str) -> Result<Vec<String>, BadInput> {
+        let items = self.str_list_at(node, what)?;
+        Ok(items.into_iter().map(|item| item.value).collect())
+    }
+
+    /// [`Ctx::str_list`] with the line of each item.
+    pub fn str_list_at(
+        &self,
+        node: Option<&Node>,
+        what: &str,
+    ) -> Result<Vec<At<String>>, BadInput> {
         let Some(node) = node else {
             return Ok(Vec::new());
         };
         if let Value::Scalar(s, _) = &node.value {
-            return Ok(vec![s.clone()]);
+            return Ok(vec![At::new(s.clone(), node.line)]);
         }
         self.seq(node, what)?
             .iter()
-            .map(|n| self.str(n, what).map(str::to_owned))
+            .map(|n| self.str(n, what).map(|s| At::new(s.to_owned(), n.line)))
             .collect()
     }
 
@@ -421,6 +431,13 @@ impl<'n> MapReader<'n, '_> {
         Ok(text.zip(node).map(|(t, n)| At::new(t, n.line)))
     }
 
+    /// [`MapReader::opt_bool`] with the line of the value.
+    pub fn opt_bool_at(&self, key: &str) -> Result<Option<At<bool>>, BadInput> {
+        let node = self.get(key);
+        let value = self.opt_bool(key)?;
+        Ok(value.zip(node).map(|(v, n)| At::new(v, n.line)))
+    }
+
     pub fn opt_bool(&self, key: &str) -> Result<Option<bool>, BadInput> {
         self.get(key)
             .map(|n| self.ctx.bool(n, &format!("{} `{key}`", self.what)))
@@ -436,6 +453,12 @@ impl<'n> MapReader<'n, '_> {
     pub fn str_list(&self, key: &str) -> Result<Vec<String>, BadInput> {
         self.ctx
             .str_list(self.get(key), &format!("{} `{key}`", self.what))
+    }
+
+    /// [`MapReader::str_list`] with the line of each item.
+    pub fn str_list_at(&self, key: &str) -> Result<Vec<At<String>>, BadInput> {
+        self.ctx
+            .str_list_at(self.get(key), &format!("{} `{key}`", self.what))
     }
 
     pub fn seq(&self, key: &str) -> Result<&'n [Rc<Node>], BadInput> {
