@@ -674,3 +674,48 @@ fn empty_package_name_is_refused_at_its_line() {
         &["package: `name` is empty"],
     );
 }
+
+/// A problem with a priority entry's weight, requirement or name names the line of that
+/// value, not the line where the entry starts.
+#[test]
+fn priority_entry_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let path = write(
+        d.path(),
+        "prio.yaml",
+        concat!(
+            "priorities:\n",
+            "  - name: fernwood\n",
+            "    prerelease: false\n",
+            "    weight: -2\n",
+            "  - name: gumleaf\n",
+            "    req: \">=>1\"\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    for want in [
+        "prio.yaml:4  fernwood: weight -2 is negative",
+        "prio.yaml:6  gumleaf: ",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    for (name, text, want) in [
+        (
+            "empty.yaml",
+            "priorities:\n  - weight: 2\n    name: \"  \"\n",
+            "empty.yaml:3: `name` is empty",
+        ),
+        (
+            "huge.yaml",
+            "priorities:\n  - name: fernwood\n    weight: 1e308\n  - name: gumleaf\n    prerelease: true\n    weight: 1e308\n",
+            "huge.yaml:6: the weights up to this entry add up to more than 1.7e308",
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        assert!(stderr.contains(want), "wanted {want} in {stderr}");
+    }
+}

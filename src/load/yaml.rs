@@ -431,6 +431,13 @@ impl<'n> MapReader<'n, '_> {
         Ok(text.zip(node).map(|(t, n)| At::new(t, n.line)))
     }
 
+    /// [`MapReader::opt_number`] with the line of the value.
+    pub fn opt_number_at(&self, key: &str) -> Result<Option<At<f64>>, BadInput> {
+        let node = self.get(key);
+        let value = self.opt_number(key)?;
+        Ok(value.zip(node).map(|(v, n)| At::new(v, n.line)))
+    }
+
     /// [`MapReader::opt_bool`] with the line of the value.
     pub fn opt_bool_at(&self, key: &str) -> Result<Option<At<bool>>, BadInput> {
         let node = self.get(key);
