@@ -719,3 +719,46 @@ fn priority_entry_problems_name_the_line_of_the_value() {
         assert!(stderr.contains(want), "wanted {want} in {stderr}");
     }
 }
+
+/// A problem with one value of a recorded result names the line of that value, not the line
+/// where the result starts.
+#[test]
+fn result_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let path = write(
+        d.path(),
+        "r.yaml",
+        concat!(
+            "results:\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: exploded\n",
+            "  - package: fernwood\n",
+            "    image: nowhere\n",
+            "    outcome: installed\n",
+            "  - image: plain\n",
+            "    package: ghost\n",
+            "    outcome: failed\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: installed\n",
+            "    version: nightly\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: failed\n",
+            "    log_file: missing.log\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--results", &path)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    for want in [
+        "r.yaml:4  fernwood on plain: outcome `exploded`: expected installed or failed",
+        "r.yaml:6  fernwood on nowhere: image `nowhere` is not declared",
+        "r.yaml:9  ghost on plain: package `ghost` is not in the registry",
+        "r.yaml:14  fernwood on plain: installed version `nightly`: ",
+        "r.yaml:18  fernwood on plain: log file ",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+}
