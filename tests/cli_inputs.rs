@@ -608,3 +608,157 @@ fn long_extends_chain_resolves() {
     let all = (N + 1).to_string();
     assert_eq!(nums, [all.as_str(), all.as_str(), "0"], "{line}");
 }
+
+/// A problem with a field of a long version record names the line of that field's value, not
+/// the line where the record starts: in a record of many lines the record's first line points
+/// the reader at the wrong place.
+#[test]
+fn version_record_field_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        yanked: false\n",
+            "        released: someday\n",
+            "      - version: 1.1.0\n",
+            "        released: 2024-02-03\n",
+            "        runtime: \">=>3\"\n",
+            "      - yanked: true\n",
+            "        version: v2.0\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    for want in [
+        "registry.yaml:6  fernwood@1.0.0: `someday` is not a date",
+        "registry.yaml:9  fernwood@1.1.0: runtime requirement",
+        "registry.yaml:11  fernwood@v2.0: read as 2.0.0",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+}
+
+/// An unknown dependency `kind` is refused at the line of the kind, not of the entry.
+#[test]
+fn dependency_kind_is_refused_at_its_line() {
+    assert_bad(
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        depends:\n",
+            "          - name: gumleaf\n",
+            "            req: \"^1\"\n",
+            "            kind: optional\n",
+        )
+        .as_bytes(),
+        Some(8),
+        &["dependency `kind`: expected runtime or development, found `optional`"],
+    );
+}
+
+/// An empty package name is refused at the line of the name, not of the package record.
+#[test]
+fn empty_package_name_is_refused_at_its_line() {
+    assert_bad(
+        b"packages:\n  - summary: Reads fern files\n    name: \"  \"\n",
+        Some(3),
+        &["package: `name` is empty"],
+    );
+}
+
+/// A problem with a priority entry's weight, requirement or name names the line of that
+/// value, not the line where the entry starts.
+#[test]
+fn priority_entry_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let path = write(
+        d.path(),
+        "prio.yaml",
+        concat!(
+            "priorities:\n",
+            "  - name: fernwood\n",
+            "    prerelease: false\n",
+            "    weight: -2\n",
+            "  - name: gumleaf\n",
+            "    req: \">=>1\"\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    for want in [
+        "prio.yaml:4  fernwood: weight -2 is negative",
+        "prio.yaml:6  gumleaf: ",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    for (name, text, want) in [
+        (
+            "empty.yaml",
+            "priorities:\n  - weight: 2\n    name: \"  \"\n",
+            "empty.yaml:3: `name` is empty",
+        ),
+        (
+            "huge.yaml",
+            "priorities:\n  - name: fernwood\n    weight: 1e308\n  - name: gumleaf\n    prerelease: true\n    weight: 1e308\n",
+            "huge.yaml:6: the weights up to this entry add up to more than 1.7e308",
+        ),
+    ] {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        assert!(stderr.contains(want), "wanted {want} in {stderr}");
+    }
+}
+
+/// A problem with one value of a recorded result names the line of that value, not the line
+/// where the result starts.
+#[test]
+fn result_problems_name_the_line_of_the_value() {
+    let d = dir();
+    let path = write(
+        d.path(),
+        "r.yaml",
+        concat!(
+            "results:\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: exploded\n",
+            "  - package: fernwood\n",
+            "    image: nowhere\n",
+            "    outcome: installed\n",
+            "  - image: plain\n",
+            "    package: ghost\n",
+            "    outcome: failed\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: installed\n",
+            "    version: nightly\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: failed\n",
+            "    log_file: missing.log\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--results", &path)]);
+    assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+    for want in [
+        "r.yaml:4  fernwood on plain: outcome `exploded`: expected installed or failed",
+        "r.yaml:6  fernwood on nowhere: image `nowhere` is not declared",
+        "r.yaml:9  ghost on plain: package `ghost` is not in the registry",
+        "r.yaml:14  fernwood on plain: installed version `nightly`: ",
+        "r.yaml:18  fernwood on plain: log file ",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+}

@@ -134,3 +134,67 @@ fn versions_differing_only_in_build_metadata_are_reported_and_both_used() {
     let versions = ledger.tally(RecordKind::Version);
     assert_eq!((versions.read, versions.used, versions.left_out), (3, 3, 0));
 }
+
+/// A problem with one dependency names the line of the value at fault: the name for a name the
+/// registry lacks, the requirement for one that cannot be read or that nothing satisfies. The
+/// version record's own line, or the line where the dependency entry starts, would point the
+/// reader at the wrong line of a long record.
+#[test]
+fn dependency_problems_name_the_line_of_the_value() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let text = concat!(
+        "packages:\n",
+        "  - name: quillon\n",
+        "    versions:\n",
+        "      - version: 1.0.0\n",
+        "        depends:\n",
+        "          - kind: runtime\n",
+        "            name: quillon-ghost\n",
+        "          - name: quillon-base\n",
+        "            kind: runtime\n",
+        "            req: \"^9\"\n",
+        "          - name: quillon-base\n",
+        "      - version: 2.0.0\n",
+        "        depends:\n",
+        "          - name: quillon-base\n",
+        "            req: \"~~1\"\n",
+        "  - name: quillon-base\n",
+        "    versions:\n",
+        "      - {version: 1.0.0}\n",
+    );
+    let mut b = RegistryBuilder::new();
+    read_yaml_str("deps.yaml", text, &mut b).unwrap();
+    let (_, ledger) = b.finish();
+    let found: Vec<(ProblemKind, String, String)> = ledger
+        .problems
+        .iter()
+        .map(|p| (p.kind, p.origin.to_string(), p.detail.clone()))
+        .collect();
+    let want = |kind, at: &str, detail: &str| (kind, at.to_string(), detail.to_string());
+    for w in [
+        want(
+            ProblemKind::UnknownDependency,
+            "deps.yaml:7",
+            "depends on `quillon-ghost`, which the registry does not have",
+        ),
+        want(
+            ProblemKind::UnsatisfiableRequirement,
+            "deps.yaml:10",
+            "requires quillon-base ^9, which no published version satisfies",
+        ),
+    ] {
+        assert!(found.contains(&w), "wanted {w:?} in {found:?}");
+    }
+    let unreadable = ledger
+        .problems
+        .iter()
+        .find(|p| p.kind == ProblemKind::UnreadableRequirement)
+        .unwrap();
+    assert_eq!(
+        (unreadable.origin.to_string(), unreadable.subject.as_str()),
+        ("deps.yaml:15".to_string(), "quillon@2.0.0")
+    );
+    // The dependency without a requirement is satisfiable and reported nowhere.
+    assert_eq!(ledger.problems.len(), 3, "{found:?}");
+}

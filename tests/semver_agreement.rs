@@ -15,6 +15,7 @@
 mod common;
 
 use basefit::load::RegistryBuilder;
+use basefit::load::diag::At;
 use basefit::load::registry::RawRelease;
 use basefit::model::{PackageId, Registry, Requirement};
 use basefit::solve::SetCache;
@@ -135,7 +136,7 @@ fn registry_with(versions: &[Version]) -> (Registry, PackageId) {
             "semver.yaml",
             line + 2,
             RawRelease {
-                version: &text,
+                version: At::new(&text, line + 2),
                 released: None,
                 runtime: None,
                 deps: Vec::new(),

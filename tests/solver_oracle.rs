@@ -21,8 +21,9 @@
 mod common;
 
 use basefit::load::RegistryBuilder;
+use basefit::load::diag::At;
 use basefit::load::images::read_images_str;
-use basefit::load::registry::RawRelease;
+use basefit::load::registry::{RawDep, RawRelease};
 use basefit::model::{DepKind, Platform, Registry, Requirement};
 use basefit::solve::{
     BuildKind, DEFAULT_BUDGET, ImageView, RootSpec, SetCache, Solved, solve_cell,
@@ -288,7 +289,11 @@ impl Spec {
                         } else {
                             DepKind::Runtime
                         };
-                        (self.names[d.target].as_str(), d.text, kind, line + 1)
+                        RawDep {
+                            name: At::new(self.names[d.target].as_str(), line + 1),
+                            req: At::new(d.text, line + 1),
+                            kind,
+                        }
                     })
                     .collect();
                 let (source_build, prebuilt) = match &r.builds {
@@ -300,9 +305,9 @@ impl Spec {
                     "oracle.yaml",
                     line + 1,
                     RawRelease {
-                        version: &version,
+                        version: At::new(&version, line + 1),
                         released: None,
-                        runtime: r.runtime.as_ref().map(|(t, _)| *t),
+                        runtime: r.runtime.as_ref().map(|(t, _)| At::new(*t, line + 1)),
                         deps,
                         source_build,
                         prebuilt,

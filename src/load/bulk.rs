@@ -7,7 +7,7 @@
 //! read, dependencies are attached by (package, version text) while the dependency file is
 //! read, and each version then gets its own, or is dropped for an unreadable requirement.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
 use super::registry::{BadDependency, RegistryBuilder, VersionFields};
 use super::table::{RowRef, Table};
 use crate::model::{
@@ -499,10 +499,11 @@ impl Load {
             }
         };
         self.package_fields(package, summary, native_helper);
+        // Problems in the bulk format name the row (its first line) for each of its values.
         let fields = VersionFields {
-            version,
-            released,
-            runtime,
+            version: At::new(version, line),
+            released: released.map(|t| At::new(t, line)),
+            runtime: runtime.map(|t| At::new(t, line)),
             build: Build { source, prebuilt },
             native,
             yanked,

@@ -100,6 +100,21 @@ impl fmt::Display for Origin {
     }
 }
 
+/// A field's value with the line it is written on. Values are checked after parsing, away
+/// from the YAML node they came from; a problem with one must still name its own line, which
+/// in a record of many lines is not the record's first.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct At<T> {
+    pub value: T,
+    pub line: usize,
+}
+
+impl<T> At<T> {
+    pub fn new(value: T, line: usize) -> Self {
+        At { value, line }
+    }
+}
+
 /// What kind of input a record belongs to; the ledger counts each separately.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "kebab-case")]

@@ -1,6 +1,6 @@
 //! Runtime images in YAML. An image may extend another and add or remove system packages.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{Image, ImageSet, OsFamily, Platform};
@@ -20,18 +20,30 @@ const IMAGE_FIELDS: &[&str] = &[
     "remove",
 ];
 
-/// An image record as written, before its base is applied.
+/// An image record as written, before its base is applied. The fields checked only once
+/// bases are applied keep their lines, so a problem with one names it.
 struct Declared {
     id: String,
     line: usize,
-    extends: Option<String>,
-    runtime: Option<String>,
+    extends: Option<At<String>>,
+    runtime: Option<At<String>>,
     family: Option<OsFamily>,
     platform: Option<Platform>,
-    toolchain: Option<bool>,
+    toolchain: Option<At<bool>>,
     add: Vec<String>,
-    remove: Vec<String>,
+    remove: Vec<At<String>>,
 }
+
+impl Declared {
+    /// The line a problem with the image's base is about.
+    fn extends_line(&self) -> usize {
+        self.extends.as_ref().map_or(self.line, |e| e.line)
+    }
+}
+
+/// Why an image cannot be built, at the line of the value at fault (the record's, when a
+/// field is missing).
+type Refusal = At<String>;
 
 /// Reads an image file. Schema errors make the file unusable; images whose base is unknown,
 /// that extend in a cycle, or lack a required field after inheritance are reported and left
@@ -77,7 +89,7 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
         unique.push(d);
     }
 
-    let mut resolved: Vec<Option<Result<Image, String>>> = vec![None; unique.len()];
+    let mut resolved: Vec<Option<Result<Image, Refusal>>> = vec![None; unique.len()];
     let mut on_path = vec![false; unique.len()];
     let mut images = Vec::new();
     for i in 0..unique.len() {
@@ -86,14 +98,16 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
             Ok(image) => {
                 let base_toolchain = unique[i]
                     .extends
-                    .as_deref()
-                    .and_then(|b| by_id.get(b))
+                    .as_ref()
+                    .and_then(|b| by_id.get(b.value.as_str()))
                     .and_then(|&j| resolved[j].as_ref())
                     .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
-                if let Some(why) = toolchain_contradiction(unique[i], base_toolchain, &image) {
+                if let Some(At { value: why, line }) =
+                    toolchain_contradiction(unique[i], base_toolchain, &image)
+                {
                     ledger.note(
                         ProblemKind::ToolchainContradiction,
-                        origin(unique[i].line),
+                        origin(line),
                         &unique[i].id,
                         why,
                     );
@@ -104,9 +118,9 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
             Err(why) => ledger.leave_out(
                 RecordKind::Image,
                 ProblemKind::BadImage,
-                origin(unique[i].line),
+                origin(why.line),
                 &unique[i].id,
-                why,
+                why.value,
             ),
         }
     }
@@ -125,10 +139,10 @@ fn resolve(
     i: usize,
     declared: &[&Declared],
     by_id: &HashMap<&str, usize>,
-    memo: &mut [Option<Result<Image, String>>],
+    memo: &mut [Option<Result<Image, Refusal>>],
     on_path: &mut [bool],
     file: &str,
-) -> Result<Image, String> {
+) -> Result<Image, Refusal> {
     let mut path: Vec<usize> = Vec::new();
     let mut at = i;
     // The result handed back to the top of the path (or to the caller once it is empty).
@@ -139,10 +153,9 @@ fn resolve(
         let d = declared[at];
         if on_path[at] {
             let names: Vec<&str> = path.iter().map(|&j| declared[j].id.as_str()).collect();
-            let cycle = Err(format!(
-                "extends in a cycle: {} -> {}",
-                shortened_path(&names),
-                d.id
+            let cycle = Err(At::new(
+                format!("extends in a cycle: {} -> {}", shortened_path(&names), d.id),
+                d.extends_line(),
             ));
             memo[at] = Some(cycle.clone());
             break cycle;
@@ -150,10 +163,15 @@ fn resolve(
         let step = match &d.extends {
             None => Ok(None),
             Some(b) => by_id
-                .get(b.as_str())
+                .get(b.value.as_str())
                 .copied()
                 .map(Some)
-                .ok_or_else(|| format!("extends `{b}`, which is not declared")),
+                .ok_or_else(|| {
+                    At::new(
+                        format!("extends `{}`, which is not declared", b.value),
+                        b.line,
+                    )
+                }),
         };
         match step {
             Ok(Some(j)) => {
@@ -175,15 +193,15 @@ fn resolve(
     while let Some(at) = path.pop() {
         on_path[at] = false;
         let d = declared[at];
-        let b = d.extends.as_deref().unwrap_or_default();
+        let b = d.extends.as_ref().map_or("", |e| e.value.as_str());
         result = match result {
             Ok(base) => build(d, Some(&base), file),
             // The first cause only: every image of the chain is reported on its own, and
             // repeating each base's message inside the next one made the messages of a long
             // chain grow with the square of its length.
-            Err(e) => Err(format!(
-                "its base `{b}` cannot be built: {}",
-                first_cause(&e)
+            Err(e) => Err(At::new(
+                format!("its base `{b}` cannot be built: {}", first_cause(&e.value)),
+                d.extends_line(),
             )),
         };
         memo[at] = Some(result.clone());
@@ -194,35 +212,46 @@ fn resolve(
 /// The toolchain packages of its family that image `d` removes. A slim image made by
 /// removing the compiler from its base has no compiler, so the base's `toolchain: true` no
 /// longer speaks for it; only its own flag can say it has one by other means.
-fn removed_toolchain(d: &Declared, family: OsFamily) -> Vec<&str> {
+fn removed_toolchain(d: &Declared, family: OsFamily) -> Vec<&At<String>> {
     let toolchain_packages = crate::native::toolchain_packages(family);
     d.remove
         .iter()
-        .map(String::as_str)
-        .filter(|r| toolchain_packages.contains(r))
+        .filter(|r| toolchain_packages.contains(&r.value.as_str()))
         .collect()
 }
 
-/// Why `image`'s toolchain differs from what its file says, if it does (see `build`): the
-/// packages win over `toolchain: false`, and a removal wins over an inherited `true`. Both
-/// are worth a note, since the file reads otherwise.
-fn toolchain_contradiction(d: &Declared, base_toolchain: bool, image: &Image) -> Option<String> {
-    if d.toolchain == Some(false) && image.toolchain {
-        return Some(format!(
-            "says toolchain: false but carries {}; planned as having a C toolchain",
-            crate::native::toolchain_packages(image.family).join(" and ")
+/// Why `image`'s toolchain differs from what its file says, if it does (see `build`), at the
+/// line that says otherwise: the packages win over `toolchain: false`, and a removal wins
+/// over an inherited `true`. Both are worth a note, since the file reads otherwise.
+fn toolchain_contradiction(
+    d: &Declared,
+    base_toolchain: bool,
+    image: &Image,
+) -> Option<At<String>> {
+    if let Some(At { value: false, line }) = d.toolchain
+        && image.toolchain
+    {
+        return Some(At::new(
+            format!(
+                "says toolchain: false but carries {}; planned as having a C toolchain",
+                crate::native::toolchain_packages(image.family).join(" and ")
+            ),
+            line,
         ));
     }
     let removed = removed_toolchain(d, image.family);
-    (d.toolchain.is_none() && base_toolchain && !image.toolchain && !removed.is_empty()).then(
-        || {
+    let first = removed.first()?;
+    (d.toolchain.is_none() && base_toolchain && !image.toolchain).then(|| {
+        let names: Vec<&str> = removed.iter().map(|r| r.value.as_str()).collect();
+        At::new(
             format!(
                 "inherits toolchain: true from `{}` but removes {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
-                d.extends.as_deref().unwrap_or_default(),
-                removed.join(" and ")
-            )
-        },
-    )
+                d.extends.as_ref().map(|e| e.value.as_str()).unwrap_or_default(),
+                names.join(" and ")
+            ),
+            first.line,
+        )
+    })
 }
 
 /// What an image's failure comes down to, without the bases it passed through.
@@ -250,31 +279,40 @@ fn shortened_path(names: &[&str]) -> String {
 }
 
 /// Image `d` on top of its base (already built), or on its own when it extends nothing.
-fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String> {
+fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusal> {
+    let missing = |what: &str| At::new(what.to_string(), d.line);
     let runtime_text = d
         .runtime
         .clone()
-        .or_else(|| base.map(|b| b.runtime.to_string()))
-        .ok_or("missing `runtime` (and no base to inherit it from)")?;
-    let runtime = match read_version(&runtime_text) {
+        .or_else(|| base.map(|b| At::new(b.runtime.to_string(), d.extends_line())))
+        .ok_or_else(|| missing("missing `runtime` (and no base to inherit it from)"))?;
+    let runtime = match read_version(&runtime_text.value) {
         VersionRead::Strict(v) | VersionRead::Normalised(v, _) => v,
-        VersionRead::Refused(why) => return Err(format!("runtime `{runtime_text}`: {why}")),
+        VersionRead::Refused(why) => {
+            return Err(At::new(
+                format!("runtime `{}`: {why}", runtime_text.value),
+                runtime_text.line,
+            ));
+        }
     };
     let family = d
         .family
         .or(base.map(|b| b.family))
-        .ok_or("missing `family` (and no base to inherit it from)")?;
+        .ok_or_else(|| missing("missing `family` (and no base to inherit it from)"))?;
     let platform = d
         .platform
         .clone()
         .or_else(|| base.map(|b| b.platform.clone()))
-        .ok_or("missing `platform` (and no base to inherit it from)")?;
+        .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?;
     let mut packages: BTreeSet<String> =
         base.map(|b| b.system_packages.clone()).unwrap_or_default();
     packages.extend(d.add.iter().cloned());
     for r in &d.remove {
-        if !packages.remove(r) {
-            return Err(format!("removes `{r}`, which it does not have"));
+        if !packages.remove(&r.value) {
+            return Err(At::new(
+                format!("removes `{}`, which it does not have", r.value),
+                r.line,
+            ));
         }
     }
     // An image whose packages include its family's toolchain packages can compile, whatever
@@ -284,6 +322,7 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
     let carries_toolchain = toolchain_packages.iter().all(|p| packages.contains(*p));
     let toolchain = d
         .toolchain
+        .map(|t| t.value)
         .or(base
             .map(|b| b.toolchain)
             .filter(|_| removed_toolchain(d, family).is_empty()))
@@ -296,7 +335,7 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
         platform,
         toolchain,
         system_packages: packages,
-        extends: d.extends.clone(),
+        extends: d.extends.as_ref().map(|e| e.value.clone()),
         origin: Origin {
             file: file.to_string(),
             line: d.line,
@@ -306,11 +345,12 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, String
 
 fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
     let m = ctx.map(node, "image", IMAGE_FIELDS)?;
-    let id = m.required_str("id")?.trim().to_string();
-    if id.is_empty() {
-        return Err(ctx.err(node, "image: `id` is empty"));
+    let id = m.required_str_at("id")?;
+    if id.value.trim().is_empty() {
+        return Err(BadInput::at(ctx.file, id.line, "image: `id` is empty"));
     }
-    let extends = m.opt_str("extends")?.map(str::to_owned);
+    let id = id.value.trim().to_string();
+    let extends = m.opt_str_at("extends")?.map(owned);
     if extends.is_none() {
         for key in ["runtime", "family", "platform"] {
             m.required(key)?;
@@ -340,11 +380,93 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         id,
         line: m.line(),
         extends,
-        runtime: m.opt_str("runtime")?.map(str::to_owned),
+        runtime: m.opt_str_at("runtime")?.map(owned),
         family,
         platform,
-        toolchain: m.opt_bool("toolchain")?,
+        toolchain: m.opt_bool_at("toolchain")?,
         add,
-        remove: m.str_list("remove")?,
+        remove: m.str_list_at("remove")?,
     })
+}
+
+fn owned(text: At<&str>) -> At<String> {
+    At::new(text.value.to_owned(), text.line)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Each problem names the line of the value at fault, not the line where the image's
+    /// record starts.
+    #[test]
+    fn problems_name_the_line_of_the_value() {
+        let text = concat!(
+            "images:\n",
+            "  - id: base\n",
+            "    runtime: 3.0.0\n",
+            "    family: debian\n",
+            "    platform: linux/glibc/x86_64\n",
+            "  - id: orphan\n",
+            "    add: [curl]\n",
+            "    extends: nobody\n",
+            "  - id: odd\n",
+            "    family: debian\n",
+            "    platform: linux/glibc/x86_64\n",
+            "    runtime: nightly\n",
+            "  - id: trimmed\n",
+            "    extends: base\n",
+            "    remove:\n",
+            "      - zlib1g\n",
+            "  - id: loop-a\n",
+            "    family: debian\n",
+            "    extends: loop-b\n",
+            "  - id: loop-b\n",
+            "    platform: linux/glibc/x86_64\n",
+            "    extends: loop-a\n",
+            "  - id: heir\n",
+            "    runtime: 3.1.0\n",
+            "    extends: orphan\n",
+            "  - id: compiler\n",
+            "    extends: base\n",
+            "    add: [build-essential]\n",
+            "    toolchain: false\n",
+        );
+        let mut ledger = Ledger::default();
+        let images = read_images_str("img.yaml", text, &mut ledger).unwrap();
+        let kept: Vec<&str> = images.images.iter().map(|i| i.id.as_str()).collect();
+        assert_eq!(kept, ["base", "compiler"]);
+        ledger.sort();
+        let found: Vec<(String, &str, ProblemKind)> = ledger
+            .problems
+            .iter()
+            .map(|p| (p.origin.to_string(), p.subject.as_str(), p.kind))
+            .collect();
+        let want = |at: &str, id, kind| (at.to_string(), id, kind);
+        assert_eq!(
+            found,
+            [
+                want("img.yaml:8", "orphan", ProblemKind::BadImage),
+                want("img.yaml:12", "odd", ProblemKind::BadImage),
+                want("img.yaml:16", "trimmed", ProblemKind::BadImage),
+                want("img.yaml:19", "loop-a", ProblemKind::BadImage),
+                want("img.yaml:22", "loop-b", ProblemKind::BadImage),
+                want("img.yaml:25", "heir", ProblemKind::BadImage),
+                want(
+                    "img.yaml:29",
+                    "compiler",
+                    ProblemKind::ToolchainContradiction
+                ),
+            ],
+            "{:?}",
+            ledger.problems
+        );
+    }
+
+    #[test]
+    fn empty_id_is_refused_at_its_line() {
+        let text = "images:\n  - runtime: 3.0.0\n    family: debian\n    id: \" \"\n";
+        let err = read_images_str("img.yaml", text, &mut Ledger::default()).unwrap_err();
+        assert_eq!(err.to_string(), "img.yaml:4: image: `id` is empty");
+    }
 }

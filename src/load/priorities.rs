@@ -1,6 +1,6 @@
 //! Priority lists, in YAML or CSV.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
 use super::table::Table;
 use super::yaml::{self, Ctx, Value};
 use crate::model::{Priority, PriorityList, Requirement};
@@ -11,13 +11,14 @@ const TOP_FIELDS: &[&str] = &["priorities"];
 const ENTRY_FIELDS: &[&str] = &["name", "weight", "req", "prerelease"];
 const CSV_COLUMNS: &[&str] = &["rank", "name", "weight", "req", "prerelease"];
 
-/// A priority entry as written.
+/// A priority entry as written. The values checked after reading keep their lines (a CSV
+/// row's for each of its cells), so a problem with one names it.
 struct RawEntry {
     line: usize,
     rank: Option<f64>,
     name: String,
-    weight: Option<f64>,
-    req: Option<String>,
+    weight: Option<At<f64>>,
+    req: Option<At<String>>,
     prerelease: bool,
 }
 
@@ -67,12 +68,15 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
             });
         }
         let m = ctx.map(node, "priority entry", ENTRY_FIELDS)?;
+        let name = m.required_str_at("name")?;
         Ok(RawEntry {
             line: m.line(),
             rank: None,
-            name: entry_name(file, m.line(), m.required_str("name")?)?,
-            weight: m.opt_number("weight")?,
-            req: m.opt_str("req")?.map(str::to_owned),
+            name: entry_name(file, name.line, name.value)?,
+            weight: m.opt_number_at("weight")?,
+            req: m
+                .opt_str_at("req")?
+                .map(|r| At::new(r.value.to_owned(), r.line)),
             prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
         })
     })
@@ -133,8 +137,8 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
                 line: row.line,
                 rank: number(c_rank, "rank")?,
                 name,
-                weight: number(c_weight, "weight")?,
-                req: row.get(c_req).map(str::to_owned),
+                weight: number(c_weight, "weight")?.map(|w| At::new(w, row.line)),
+                req: row.get(c_req).map(|r| At::new(r.to_owned(), row.line)),
                 prerelease,
             })
         })();
@@ -178,38 +182,44 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
             );
             continue;
         }
-        if let Some(w) = e.weight.filter(|w| *w < 0.0) {
+        let at = |line| Origin {
+            file: file.to_string(),
+            line,
+        };
+        if let Some(w) = e.weight.filter(|w| w.value < 0.0) {
             ledger.leave_out(
                 RecordKind::Priority,
                 ProblemKind::BadValue,
-                origin,
+                at(w.line),
                 &e.name,
-                format!("weight {w} is negative"),
+                format!("weight {} is negative", w.value),
             );
             continue;
         }
-        let req = match e.req.as_deref().map(Requirement::parse) {
+        let req = match &e.req {
             None => None,
-            Some(Ok(r)) => Some(r),
-            Some(Err(why)) => {
-                ledger.leave_out(
-                    RecordKind::Priority,
-                    ProblemKind::UnreadableRequirement,
-                    origin,
-                    &e.name,
-                    why,
-                );
-                continue;
-            }
+            Some(r) => match Requirement::parse(&r.value) {
+                Ok(req) => Some(req),
+                Err(why) => {
+                    ledger.leave_out(
+                        RecordKind::Priority,
+                        ProblemKind::UnreadableRequirement,
+                        at(r.line),
+                        &e.name,
+                        why,
+                    );
+                    continue;
+                }
+            },
         };
-        let weight = e.weight.unwrap_or(1.0);
+        let weight = e.weight.map_or(1.0, |w| w.value);
         total += weight;
         if !total.is_finite() {
             // Every share of the weight is divided by the total: past the largest f64 the
             // shares come out NaN.
             return Err(BadInput::at(
                 file,
-                e.line,
+                e.weight.map_or(e.line, |w| w.line),
                 "the weights up to this entry add up to more than 1.7e308, the largest number \
                  basefit can hold; the weights of a priority list must add up to a finite number",
             ));

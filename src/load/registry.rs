@@ -1,6 +1,6 @@
 //! The registry snapshot in YAML, and the assembly step shared with the bulk CSV reader.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
@@ -20,13 +20,18 @@ use std::path::Path;
 ///
 /// ```
 /// use basefit::load::RegistryBuilder;
-/// use basefit::load::registry::RawRelease;
+/// use basefit::load::diag::At;
+/// use basefit::load::registry::{RawDep, RawRelease};
 /// use basefit::model::DepKind;
 /// let mut b = RegistryBuilder::new();
 /// let id = b.declare_package("r.yaml", 1, "pkg-a", None, false);
 /// b.add_release(id, "r.yaml", 2, RawRelease {
-///     version: "v1.2",
-///     deps: vec![("pkg-b", "^1", DepKind::Runtime, 3)],
+///     version: At::new("v1.2", 2),
+///     deps: vec![RawDep {
+///         name: At::new("pkg-b", 3),
+///         req: At::new("^1", 4),
+///         kind: DepKind::Runtime,
+///     }],
 ///     ..RawRelease::default()
 /// });
 /// let (registry, ledger) = b.finish();
@@ -36,30 +41,57 @@ use std::path::Path;
 pub struct RegistryBuilder {
     pub registry: Registry,
     pub ledger: Ledger,
+    /// Where the name and requirement of each dependency of a version record are written,
+    /// for the registry-wide checks to name. Kept beside the registry rather than in each
+    /// [`Dep`]: the solver walks millions of those, and only a reported problem needs a line.
+    /// Versions read from the bulk format have none; their problems name the version's row.
+    dep_lines: FxHashMap<ReleaseKey, Box<[DepLines]>>,
+}
+
+/// A release as the registry-wide checks find it after sorting: its package, file, line and
+/// version. Two records on one line (flow style) differ in package or version, and of two
+/// with the same version on one line only the first is kept, as in [`RegistryBuilder::finish`].
+type ReleaseKey = (PackageId, u16, u32, semver::Version);
+
+/// The lines of one dependency's name and requirement (its name's line when it gives none).
+#[derive(Clone, Copy)]
+struct DepLines {
+    name: usize,
+    req: usize,
 }
 
 /// The fields of one version record as written, before interning.
 #[derive(Default)]
 pub struct RawRelease<'a> {
-    pub version: &'a str,
-    pub released: Option<&'a str>,
-    pub runtime: Option<&'a str>,
-    /// (name, requirement, kind, line)
-    pub deps: Vec<(&'a str, &'a str, DepKind, usize)>,
+    pub version: At<&'a str>,
+    pub released: Option<At<&'a str>>,
+    pub runtime: Option<At<&'a str>>,
+    pub deps: Vec<RawDep<'a>>,
     pub source_build: bool,
     pub prebuilt: Vec<Platform>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
 }
 
+/// One dependency of a version record as written.
+pub struct RawDep<'a> {
+    pub name: At<&'a str>,
+    /// `*` at the name's line when the record gives none.
+    pub req: At<&'a str>,
+    pub kind: DepKind,
+}
+
 /// The fields of a version record other than its dependencies, with platforms interned.
+///
+/// Each field keeps its own line: a problem with a value names the value's line, which in a
+/// record of many lines is not the record's.
 pub struct VersionFields<'a> {
     /// The version as written; read leniently.
-    pub version: &'a str,
+    pub version: At<&'a str>,
     /// Release date as written (`YYYY-MM-DD`).
-    pub released: Option<&'a str>,
+    pub released: Option<At<&'a str>>,
     /// Requirement on the runtime version, as written.
-    pub runtime: Option<&'a str>,
+    pub runtime: Option<At<&'a str>>,
     pub build: Build,
     pub native: Option<NativeHints>,
     pub yanked: bool,
@@ -103,6 +135,7 @@ impl RegistryBuilder {
         RegistryBuilder {
             registry: Registry::new(),
             ledger: Ledger::default(),
+            dep_lines: FxHashMap::default(),
         }
     }
 
@@ -181,23 +214,36 @@ impl RegistryBuilder {
         };
         let mut deps = Vec::with_capacity(raw.deps.len());
         let mut bad = None;
-        for &(name, req_text, kind, dep_line) in &raw.deps {
-            match self.registry.intern_requirement(req_text) {
+        for d in &raw.deps {
+            match self.registry.intern_requirement(d.req.value) {
                 Ok(req) => deps.push(Dep {
-                    package: self.registry.intern_package(name),
+                    package: self.registry.intern_package(d.name.value),
                     req,
-                    kind,
+                    kind: d.kind,
                 }),
                 Err(why) => {
                     bad = Some(BadDependency {
                         file,
-                        line: dep_line,
-                        name,
+                        line: d.req.line,
+                        name: d.name.value,
                         why,
                     });
                     break;
                 }
             }
+        }
+        if bad.is_none() && !deps.is_empty() {
+            let r = &staged.release;
+            let key = (package, r.file, r.line, r.version.clone());
+            self.dep_lines.entry(key).or_insert_with(|| {
+                raw.deps
+                    .iter()
+                    .map(|d| DepLines {
+                        name: d.name.line,
+                        req: d.req.line,
+                    })
+                    .collect()
+            });
         }
         self.commit_release(staged, deps.into_boxed_slice(), dep_count, bad);
     }
@@ -215,27 +261,28 @@ impl RegistryBuilder {
         fields: VersionFields<'_>,
     ) -> Option<StagedRelease> {
         self.ledger.read(RecordKind::Version);
-        let origin = || Origin {
+        let origin = |line| Origin {
             file: file.to_string(),
             line,
         };
-        let (version, raw_version) = match read_version(fields.version) {
+        let written = fields.version;
+        let (version, raw_version) = match read_version(written.value) {
             VersionRead::Strict(v) => (v, None),
             VersionRead::Normalised(v, how) => {
                 self.ledger.note(
                     ProblemKind::NormalisedVersion,
-                    origin(),
-                    format!("{}@{}", self.registry.name(package), fields.version),
+                    origin(written.line),
+                    format!("{}@{}", self.registry.name(package), written.value),
                     format!("read as {v} ({how})"),
                 );
-                (v, Some(fields.version.into()))
+                (v, Some(written.value.into()))
             }
             VersionRead::Refused(why) => {
                 self.ledger.leave_out(
                     RecordKind::Version,
                     ProblemKind::UnreadableVersion,
-                    origin(),
-                    format!("{}@{}", self.registry.name(package), fields.version),
+                    origin(written.line),
+                    format!("{}@{}", self.registry.name(package), written.value),
                     why,
                 );
                 return None;
@@ -245,12 +292,12 @@ impl RegistryBuilder {
         let subject = |registry: &Registry| format!("{}@{version}", registry.name(package));
         let released = match fields.released {
             None => None,
-            Some(text) => {
+            Some(At { value: text, line }) => {
                 let date = ReleaseDate::parse(text);
                 if date.is_none() {
                     self.ledger.note(
                         ProblemKind::UnreadableDate,
-                        origin(),
+                        origin(line),
                         subject(&self.registry),
                         format!("`{text}` is not a date (expected YYYY-MM-DD); ignored"),
                     );
@@ -260,13 +307,13 @@ impl RegistryBuilder {
         };
         let runtime = match fields.runtime {
             None => None,
-            Some(text) => match self.registry.intern_requirement(text) {
+            Some(At { value: text, line }) => match self.registry.intern_requirement(text) {
                 Ok(id) => Some(id),
                 Err(why) => {
                     self.ledger.leave_out(
                         RecordKind::Version,
                         ProblemKind::UnreadableRequirement,
-                        origin(),
+                        origin(line),
                         subject(&self.registry),
                         format!("runtime requirement {why}"),
                     );
@@ -406,7 +453,7 @@ impl RegistryBuilder {
         ledger.used_many(RecordKind::Version, versions_used);
         ledger.used_many(RecordKind::Dependency, deps_used);
         ledger.left_out_with_owner(RecordKind::Dependency, deps_dropped);
-        registry_checks(registry, ledger);
+        registry_checks(registry, ledger, &self.dep_lines);
         (self.registry, self.ledger)
     }
 }
@@ -421,7 +468,11 @@ fn origin_of(files: &[String], file: u16, line: u32) -> Origin {
 
 /// Registry-wide data-quality checks: unknown dependency names, requirements nothing
 /// satisfies, packages with nothing installable.
-fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
+fn registry_checks(
+    registry: &Registry,
+    ledger: &mut Ledger,
+    dep_lines: &FxHashMap<ReleaseKey, Box<[DepLines]>>,
+) {
     // Each distinct (target, requirement) pair is matched against the target's versions once,
     // in parallel: at registry scale this is millions of pairs.
     let mut pairs: FxHashMap<(PackageId, ReqId), bool> = FxHashMap::default();
@@ -448,18 +499,28 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
             ((target, req), ok)
         })
         .collect();
-    for pkg in &registry.packages {
+    for (index, pkg) in registry.packages.iter().enumerate() {
         if !pkg.declared {
             continue;
         }
+        let id = PackageId(index as u32);
         for r in &pkg.releases {
-            for d in r.runtime_deps() {
+            // Looked up only for a problem: this loop sees every dependency.
+            let origin = |at: usize, line: fn(&DepLines) -> usize| {
+                let mut origin = origin_of(&registry.files, r.file, r.line);
+                if let Some(lines) = dep_lines.get(&(id, r.file, r.line, r.version.clone())) {
+                    origin.line = lines.get(at).map_or(origin.line, line);
+                }
+                origin
+            };
+            let runtime_deps = r.deps.iter().enumerate();
+            for (at, d) in runtime_deps.filter(|(_, d)| d.kind == DepKind::Runtime) {
                 let target = registry.package(d.package);
                 // The subject is formatted only for a problem: this loop sees every dependency.
                 if !target.declared {
                     ledger.note(
                         ProblemKind::UnknownDependency,
-                        origin_of(&registry.files, r.file, r.line),
+                        origin(at, |l| l.name),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "depends on `{}`, which the registry does not have",
@@ -469,7 +530,7 @@ fn registry_checks(registry: &Registry, ledger: &mut Ledger) {
                 } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
                     ledger.note(
                         ProblemKind::UnsatisfiableRequirement,
-                        origin_of(&registry.files, r.file, r.line),
+                        origin(at, |l| l.req),
                         format!("{}@{}", pkg.name, r.version),
                         format!(
                             "requires {} {}, which no published version satisfies",
@@ -584,10 +645,15 @@ struct ParsedPackage<'a> {
 
 fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, BadInput> {
     let m = ctx.map(node, "package", PACKAGE_FIELDS)?;
-    let name = m.required_str("name")?;
-    if name.trim().is_empty() {
-        return Err(ctx.err(node, "package: `name` is empty"));
+    let name = m.required_str_at("name")?;
+    if name.value.trim().is_empty() {
+        return Err(BadInput::at(
+            ctx.file,
+            name.line,
+            "package: `name` is empty",
+        ));
     }
+    let name = name.value;
     let releases = m
         .seq("versions")?
         .iter()
@@ -604,23 +670,28 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
 
 fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, BadInput> {
     let m = ctx.map(node, "version record", VERSION_FIELDS)?;
-    let version = m.required_str("version")?;
+    let version = m.required_str_at("version")?;
     let mut deps = Vec::new();
     for d in m.seq("depends")? {
         let dm = ctx.map(d, "dependency", DEP_FIELDS)?;
-        let name = dm.required_str("name")?;
-        let req = dm.opt_str("req")?.unwrap_or("*");
-        let kind = match dm.opt_str("kind")? {
-            None | Some("runtime") => DepKind::Runtime,
-            Some("development") => DepKind::Development,
-            Some(other) => {
-                return Err(ctx.err(
-                    d,
-                    format!("dependency `kind`: expected runtime or development, found `{other}`"),
-                ));
-            }
+        let name = dm.required_str_at("name")?;
+        let req = dm.opt_str_at("req")?.unwrap_or(At::new("*", name.line));
+        let kind = match dm.get("kind") {
+            None => DepKind::Runtime,
+            Some(k) => match ctx.str(k, "dependency `kind`")? {
+                "runtime" => DepKind::Runtime,
+                "development" => DepKind::Development,
+                other => {
+                    return Err(ctx.err(
+                        k,
+                        format!(
+                            "dependency `kind`: expected runtime or development, found `{other}`"
+                        ),
+                    ));
+                }
+            },
         };
-        deps.push((name, req, kind, d.line));
+        deps.push(RawDep { name, req, kind });
     }
     let (source_build, prebuilt) = match m.get("builds") {
         // No builds given: the common case of a package published as source only.
@@ -648,8 +719,8 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
     };
     Ok(RawRelease {
         version,
-        released: m.opt_str("released")?,
-        runtime: m.opt_str("runtime")?,
+        released: m.opt_str_at("released")?,
+        runtime: m.opt_str_at("runtime")?,
         deps,
         source_build,
         prebuilt,

@@ -1,6 +1,6 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
-use super::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
+use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
 use super::table::Table;
@@ -11,15 +11,16 @@ use std::path::{Path, PathBuf};
 const FIELDS: &[&str] = &["package", "image", "outcome", "version", "log", "log_file"];
 const REQUIRED: &[&str] = &["package", "image", "outcome"];
 
-/// A result record as written.
+/// A result record as written. The values checked after reading keep their lines (a CSV row's
+/// or a JSON line's for each of its values), so a problem with one names it.
 struct RawResult {
     line: usize,
-    package: String,
-    image: String,
-    outcome: String,
-    version: Option<String>,
+    package: At<String>,
+    image: At<String>,
+    outcome: At<String>,
+    version: Option<At<String>>,
     log: Option<String>,
-    log_file: Option<String>,
+    log_file: Option<At<String>>,
 }
 
 /// What results are checked against: records naming anything else are reported.
@@ -69,14 +70,15 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let items = top.seq("results")?;
     yaml::collect_errors(items, |node| {
         let m = ctx.map(node, "result", FIELDS)?;
+        let owned = |text: At<&str>| At::new(text.value.to_owned(), text.line);
         Ok(RawResult {
             line: m.line(),
-            package: m.required_str("package")?.to_string(),
-            image: m.required_str("image")?.to_string(),
-            outcome: m.required_str("outcome")?.to_string(),
-            version: m.opt_str("version")?.map(str::to_owned),
+            package: owned(m.required_str_at("package")?),
+            image: owned(m.required_str_at("image")?),
+            outcome: owned(m.required_str_at("outcome")?),
+            version: m.opt_str_at("version")?.map(owned),
             log: m.opt_str("log")?.map(str::to_owned),
-            log_file: m.opt_str("log_file")?.map(str::to_owned),
+            log_file: m.opt_str_at("log_file")?.map(owned),
         })
     })
 }
@@ -88,6 +90,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
     let mut errors = SchemaErrors::new();
     while let Some(row) = table.next_row()? {
         let get = |i: usize| row.get(cols[i]).map(str::to_owned);
+        let at = |i: usize| get(i).map(|text| At::new(text, row.line));
         let missing: Vec<&str> = (0..3)
             .filter(|&i| get(i).is_none())
             .map(|i| FIELDS[i])
@@ -102,12 +105,12 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
         }
         out.push(RawResult {
             line: row.line,
-            package: get(0).unwrap_or_default(),
-            image: get(1).unwrap_or_default(),
-            outcome: get(2).unwrap_or_default(),
-            version: get(3),
+            package: at(0).unwrap_or_default(),
+            image: at(1).unwrap_or_default(),
+            outcome: at(2).unwrap_or_default(),
+            version: at(3),
             log: get(4),
-            log_file: get(5),
+            log_file: at(5),
         });
     }
     errors.finish().map(|_| out)
@@ -214,14 +217,15 @@ fn json_record(file: &str, line: usize, text: &str) -> Result<RawResult, BadInpu
             )
         })
     };
+    let at = |text: String| At::new(text, line);
     Ok(RawResult {
         line,
-        package: required("package")?,
-        image: required("image")?,
-        outcome: required("outcome")?,
-        version: field("version")?,
+        package: at(required("package")?),
+        image: at(required("image")?),
+        outcome: at(required("outcome")?),
+        version: field("version")?.map(at),
         log: field("log")?,
-        log_file: field("log_file")?,
+        log_file: field("log_file")?.map(at),
     })
 }
 
@@ -243,60 +247,67 @@ fn assemble(
             file: file.to_string(),
             line: r.line,
         };
-        let subject = format!("{} on {}", r.package, r.image);
-        let Some(outcome) = RecordedOutcome::parse(&r.outcome) else {
+        let at = |line| Origin {
+            file: file.to_string(),
+            line,
+        };
+        let (package, image) = (r.package, r.image);
+        let subject = format!("{} on {}", package.value, image.value);
+        let Some(outcome) = RecordedOutcome::parse(&r.outcome.value) else {
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::BadValue,
-                origin,
+                at(r.outcome.line),
                 subject,
-                format!("outcome `{}`: expected installed or failed", r.outcome),
+                format!(
+                    "outcome `{}`: expected installed or failed",
+                    r.outcome.value
+                ),
             );
             continue;
         };
-        if known.images.get(&r.image).is_none() {
+        if known.images.get(&image.value).is_none() {
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::UnknownImage,
-                origin,
+                at(image.line),
                 subject,
-                format!("image `{}` is not declared", r.image),
+                format!("image `{}` is not declared", image.value),
             );
             continue;
         }
         if known
             .registry
-            .id(&r.package)
+            .id(&package.value)
             .is_none_or(|id| !known.registry.package(id).declared)
         {
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::UnknownPackage,
-                origin,
+                at(package.line),
                 subject,
-                format!("package `{}` is not in the registry", r.package),
+                format!("package `{}` is not in the registry", package.value),
             );
             continue;
         }
-        let version = match r.version.as_deref().map(read_version) {
+        let version = match &r.version {
             None => None,
-            Some(VersionRead::Strict(v)) | Some(VersionRead::Normalised(v, _)) => Some(v),
-            Some(VersionRead::Refused(why)) => {
-                ledger.leave_out(
-                    RecordKind::Result,
-                    ProblemKind::UnreadableVersion,
-                    origin,
-                    subject,
-                    format!(
-                        "installed version `{}`: {why}",
-                        r.version.unwrap_or_default()
-                    ),
-                );
-                continue;
-            }
+            Some(written) => match read_version(&written.value) {
+                VersionRead::Strict(v) | VersionRead::Normalised(v, _) => Some(v),
+                VersionRead::Refused(why) => {
+                    ledger.leave_out(
+                        RecordKind::Result,
+                        ProblemKind::UnreadableVersion,
+                        at(written.line),
+                        subject,
+                        format!("installed version `{}`: {why}", written.value),
+                    );
+                    continue;
+                }
+            },
         };
         let mut log = r.log;
-        if let Some(path) = &r.log_file {
+        if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
             match std::fs::read(&full) {
                 Ok(bytes) => {
@@ -308,7 +319,7 @@ fn assemble(
                 }
                 Err(e) => ledger.note(
                     ProblemKind::MissingLog,
-                    origin.clone(),
+                    at(*line),
                     subject.clone(),
                     format!("log file {}: {e}", full.display()),
                 ),
@@ -316,8 +327,8 @@ fn assemble(
         }
         ledger.used(RecordKind::Result);
         out.push(RecordedResult {
-            package: r.package,
-            image: r.image,
+            package: package.value,
+            image: image.value,
             outcome,
             version,
             log,

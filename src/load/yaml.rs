@@ -5,7 +5,7 @@
 //! problems (an unreadable version string in record 40,000) must still name their line, so
 //! the loaders read this tree instead.
 
-use super::diag::{BadInput, closest};
+use super::diag::{At, BadInput, closest};
 use std::rc::Rc;
 use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser, Tag};
 use yaml_rust2::scanner::{Marker, TScalarStyle};
@@ -313,15 +313,25 @@ impl<'a> Ctx<'a> {
 
     /// A list of strings; a single string is accepted as a list of one.
     pub fn str_list(&self, node: Option<&Node>, what: &str) -> Result<Vec<String>, BadInput> {
+        let items = self.str_list_at(node, what)?;
+        Ok(items.into_iter().map(|item| item.value).collect())
+    }
+
+    /// [`Ctx::str_list`] with the line of each item.
+    pub fn str_list_at(
+        &self,
+        node: Option<&Node>,
+        what: &str,
+    ) -> Result<Vec<At<String>>, BadInput> {
         let Some(node) = node else {
             return Ok(Vec::new());
         };
         if let Value::Scalar(s, _) = &node.value {
-            return Ok(vec![s.clone()]);
+            return Ok(vec![At::new(s.clone(), node.line)]);
         }
         self.seq(node, what)?
             .iter()
-            .map(|n| self.str(n, what).map(str::to_owned))
+            .map(|n| self.str(n, what).map(|s| At::new(s.to_owned(), n.line)))
             .collect()
     }
 
@@ -407,6 +417,34 @@ impl<'n> MapReader<'n, '_> {
             .opt_str(self.get(key), &format!("{} `{key}`", self.what))
     }
 
+    /// [`MapReader::required_str`] with the line of the value.
+    pub fn required_str_at(&self, key: &str) -> Result<At<&'n str>, BadInput> {
+        let node = self.required(key)?;
+        let text = self.ctx.str(node, &format!("{} `{key}`", self.what))?;
+        Ok(At::new(text, node.line))
+    }
+
+    /// [`MapReader::opt_str`] with the line of the value.
+    pub fn opt_str_at(&self, key: &str) -> Result<Option<At<&'n str>>, BadInput> {
+        let node = self.get(key);
+        let text = self.opt_str(key)?;
+        Ok(text.zip(node).map(|(t, n)| At::new(t, n.line)))
+    }
+
+    /// [`MapReader::opt_number`] with the line of the value.
+    pub fn opt_number_at(&self, key: &str) -> Result<Option<At<f64>>, BadInput> {
+        let node = self.get(key);
+        let value = self.opt_number(key)?;
+        Ok(value.zip(node).map(|(v, n)| At::new(v, n.line)))
+    }
+
+    /// [`MapReader::opt_bool`] with the line of the value.
+    pub fn opt_bool_at(&self, key: &str) -> Result<Option<At<bool>>, BadInput> {
+        let node = self.get(key);
+        let value = self.opt_bool(key)?;
+        Ok(value.zip(node).map(|(v, n)| At::new(v, n.line)))
+    }
+
     pub fn opt_bool(&self, key: &str) -> Result<Option<bool>, BadInput> {
         self.get(key)
             .map(|n| self.ctx.bool(n, &format!("{} `{key}`", self.what)))
@@ -422,6 +460,12 @@ impl<'n> MapReader<'n, '_> {
     pub fn str_list(&self, key: &str) -> Result<Vec<String>, BadInput> {
         self.ctx
             .str_list(self.get(key), &format!("{} `{key}`", self.what))
+    }
+
+    /// [`MapReader::str_list`] with the line of each item.
+    pub fn str_list_at(&self, key: &str) -> Result<Vec<At<String>>, BadInput> {
+        self.ctx
+            .str_list_at(self.get(key), &format!("{} `{key}`", self.what))
     }
 
     pub fn seq(&self, key: &str) -> Result<&'n [Rc<Node>], BadInput> {
