@@ -409,12 +409,20 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
     let file = path.display().to_string();
     let text = crate::load::diag::read_text(path)?;
     let yaml = path.extension().is_some_and(|e| e == "yaml" || e == "yml");
-    let parsed: Result<Matrix, String> = if yaml {
-        serde_yaml::from_str(&text).map_err(|e| e.to_string())
+    // The line goes into the error's own field, so the message reads `file:line:` as every
+    // other input error does, not `file: ... line N` inside the text.
+    let parsed: Result<Matrix, (Option<usize>, String)> = if yaml {
+        serde_yaml::from_str(&text).map_err(|e| (e.location().map(|l| l.line()), e.to_string()))
     } else {
-        serde_json::from_str(&text).map_err(|e| format!("line {}: {e}", e.line()))
+        serde_json::from_str(&text).map_err(|e| (Some(e.line()), e.to_string()))
     };
-    let m = parsed.map_err(|e| BadInput::file(&file, format!("not a basefit matrix: {e}")))?;
+    let m = parsed.map_err(|(line, e)| {
+        let message = format!("not a basefit matrix: {e}");
+        match line {
+            Some(line) if line > 0 => BadInput::at(&file, line, message),
+            _ => BadInput::file(&file, message),
+        }
+    })?;
     m.check_layout().map_err(|e| BadInput::file(&file, e))?;
     Ok(m)
 }

@@ -118,6 +118,31 @@ fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
 }
 
 #[test]
+fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    let text = std::fs::read_to_string(&matrix).unwrap();
+    // Cut inside the cells, as an interrupted copy leaves it: JSON then ends on its last line.
+    let cut = dir.path().join("cut.json");
+    let kept = &text[..text.find("\"cells\"").unwrap() + 20];
+    std::fs::write(&cut, kept).unwrap();
+    let last = kept.lines().count();
+    for args in [
+        vec!["render", "--quiet", "--format", "csv", "--matrix"],
+        vec!["diff", &matrix],
+    ] {
+        let mut args = args.clone();
+        args.push(cut.to_str().unwrap());
+        let (code, _, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(
+            stderr.contains(&format!("cut.json:{last}: not a basefit matrix: ")),
+            "{args:?}: {stderr}"
+        );
+    }
+}
+
+#[test]
 fn merge_names_the_shard_file_at_fault() {
     let dir = tempfile::tempdir().unwrap();
     let first = plan_into(&dir.path().join("s1"), Some("1/2"));

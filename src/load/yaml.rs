@@ -61,6 +61,8 @@ struct Builder<'p> {
     error: Option<(usize, String)>,
     progress: Option<&'p Progress<'p>>,
     events: u32,
+    /// The text's last line ([`yaml_line_count`]): no node or error lies beyond it.
+    last_line: usize,
 }
 
 /// A bar that a parse advances by the position it has reached in the text, from `start`.
@@ -103,7 +105,10 @@ impl MarkedEventReceiver for Builder<'_> {
             // A character position: at most the byte length the bar was sized with.
             p.bar.set_position(p.start + mark.index() as u64);
         }
-        let line = mark.line();
+        // yaml-rust2 reads the end of a text without a final line break as if one followed,
+        // so the empty value of a record cut off there (`- ` as the last bytes) would name a
+        // line after the last one.
+        let line = mark.line().min(self.last_line);
         match ev {
             Event::Scalar(text, style, anchor, tag) => {
                 let value = if is_null_scalar(&text, style, &tag) {
@@ -212,12 +217,15 @@ pub fn parse_showing(
         error: None,
         progress,
         events: 0,
+        last_line: yaml_line_count(text),
     };
     let mut parser = Parser::new_from_str(text);
     if let Err(e) = parser.load(&mut builder, true) {
+        // As for nodes (`on_event`): an unclosed bracket in a truncated file.
+        let line = e.marker().line().min(builder.last_line);
         return Err(BadInput::at(
             file,
-            e.marker().line(),
+            line,
             format!("not valid YAML: {}", e.info()),
         ));
     }
@@ -236,6 +244,18 @@ pub fn parse_showing(
             "more than one YAML document; expected exactly one",
         )),
     }
+}
+
+/// Lines as YAML counts them (a line ends at LF, CRLF or a lone CR), counting the empty line
+/// after a final line break, where an error at the end of the text is placed.
+fn yaml_line_count(text: &str) -> usize {
+    let bytes = text.as_bytes();
+    let lone_cr = bytes
+        .iter()
+        .enumerate()
+        .filter(|&(i, &b)| b == b'\r' && bytes.get(i + 1) != Some(&b'\n'))
+        .count();
+    bytes.iter().filter(|&&b| b == b'\n').count() + lone_cr + 1
 }
 
 /// Reading context: the file name, so every error can name it.
@@ -514,6 +534,25 @@ mod tests {
             err.to_string(),
             "t.yaml:1: package: unknown field `nmae`; did you mean `name`?"
         );
+    }
+
+    #[test]
+    fn an_error_at_the_end_of_a_truncated_text_names_its_last_line() {
+        for (text, line) in [
+            // Cut off inside a flow sequence, with and without the final line break.
+            ("packages:\n  - name: [unclosed", 2),
+            ("packages:\n  - name: [unclosed\n", 3),
+            ("packages:\r\n  - {name: a", 2),
+            ("a: [", 1),
+        ] {
+            let err = parse("cut.yaml", text).unwrap_err();
+            assert_eq!(err.line, Some(line), "{text:?}: {err}");
+        }
+        // A list item cut off after its dash is an empty node on the last line.
+        let doc = parse("cut.yaml", "a:\n  - x\n  - ").unwrap();
+        let ctx = Ctx { file: "cut.yaml" };
+        let items = ctx.map(&doc, "top", &["a"]).unwrap().seq("a").unwrap();
+        assert_eq!(items[1].line, 3);
     }
 
     #[test]
