@@ -760,21 +760,24 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
                 );
             }
         }
-        if !i.beyond_advice.is_empty() {
-            let _ = writeln!(
-                out,
-                "    * still at risk whatever is added (declares, or ships a header or pkg-config file of, a library the catalog has no {} package for; not counted in weights or gains): {}",
-                i.family,
-                i.beyond_advice.join(", ")
-            );
-        }
-        if !i.at_risk_after_advice.is_empty() {
-            let _ = writeln!(
-                out,
-                "    ? counted above but may stay at risk after the additions (a name or summary mentions a library the catalog has no {} package for): {}",
-                i.family,
-                i.at_risk_after_advice.join(", ")
-            );
+        let family = i.family;
+        for (cells, why) in [
+            (
+                &i.beyond_advice,
+                format!(
+                    "* still at risk whatever is added (declares, or ships a header or pkg-config file of, a library the catalog has no {family} package for; not counted in weights or gains)"
+                ),
+            ),
+            (
+                &i.at_risk_after_advice,
+                format!(
+                    "? counted above but may stay at risk after the additions (a name or summary mentions a library the catalog has no {family} package for)"
+                ),
+            ),
+        ] {
+            if !cells.is_empty() {
+                let _ = writeln!(out, "    {why}: {}", cells.join(", "));
+            }
         }
         if let Some(c) = &i.command {
             let _ = writeln!(out, "    {c}");
