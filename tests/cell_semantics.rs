@@ -227,7 +227,7 @@ fn a_release_another_image_would_install_outranks_a_missing_dependency_of_the_ot
     assert!(
         lines.iter().any(|l| {
             l.starts_with("no version of quill can be used here: 2.0.0:")
-                && l.contains("newer runtime (>=4.0; the image has 3.5.0)")
+                && l.contains("1 version needs a newer runtime (>=4.0; the image has 3.5.0)")
         }) && lines.iter().any(|l| l == "nonesuch is not in the registry"),
         "{lines:?}"
     );

@@ -226,8 +226,9 @@ pub(crate) fn unusable(
                 } else {
                     "an older"
                 };
+                let need = if n == 1 { "needs" } else { "need" };
                 format!(
-                    "{n} {versions} need {dir} runtime ({shown}; the image has {})",
+                    "{n} {versions} {need} {dir} runtime ({shown}; the image has {})",
                     image.runtime
                 )
             }
