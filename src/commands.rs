@@ -140,7 +140,36 @@ fn results_files(paths: &InputPaths) -> String {
 /// Refuses recorded results set against a matrix read from a file without the inputs they are
 /// read against: without the images and the registry every result would be left out, and an
 /// empty comparison would pass for a clean one.
-fn require_results_context(inputs: &Inputs, command: &str) -> Result<(), BadInput> {
+fn require_results_context(
+    inputs: &Inputs,
+    paths: &InputPaths,
+    command: &str,
+) -> Result<(), BadInput> {
+    // A file that was given but left nothing usable is what to fix, not the command line.
+    let registry_files: Vec<String> = paths
+        .registry
+        .iter()
+        .chain(paths.bulk.iter().map(|(versions, _)| versions))
+        .map(|p| p.display().to_string())
+        .collect();
+    let given_but_empty = if inputs.images.images.is_empty() {
+        paths
+            .images
+            .as_ref()
+            .map(|p| (p.display().to_string(), "image"))
+    } else if inputs.registry.packages.is_empty() && !registry_files.is_empty() {
+        Some((registry_files.join(", "), "package"))
+    } else {
+        None
+    };
+    if let Some((file, noun)) = given_but_empty {
+        return Err(BadInput::file(
+            file,
+            format!(
+                "{command} --matrix with --results needs at least one {noun} from here to read recorded results against; none was usable (`basefit check` lists why)"
+            ),
+        ));
+    }
     if inputs.images.images.is_empty() || inputs.registry.packages.is_empty() {
         return Err(BadInput::file(
             "command line",
@@ -450,7 +479,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     }
     let matrix = match &o.matrix {
         Some(p) => {
-            require_results_context(&inputs, "review")?;
+            require_results_context(&inputs, &o.inputs, "review")?;
             read_matrix(p)?
         }
         None => {
@@ -705,7 +734,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     let mut matrix = match &o.matrix {
         Some(p) => {
             if !o.inputs.results.is_empty() {
-                require_results_context(&inputs, "render")?;
+                require_results_context(&inputs, &o.inputs, "render")?;
             }
             read_matrix(p)?
         }

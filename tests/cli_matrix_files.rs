@@ -284,6 +284,32 @@ fn render_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     // A matrix alone renders without them.
     let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", &matrix]);
     assert_eq!(code, 0, "{stderr}");
+
+    // Given, but with nothing in it: the file is what to fix, not the command line.
+    let broken = dir.path().join("empty.yaml");
+    std::fs::write(&broken, "packages: []\n").unwrap();
+    for command in ["render", "review"] {
+        let (code, _, stderr) = run_basefit([
+            command,
+            "--quiet",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--registry",
+            broken.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "{}: {command} --matrix with --results needs at least one package from here",
+                broken.display()
+            )),
+            "{command}: {stderr}"
+        );
+    }
 }
 
 #[test]
