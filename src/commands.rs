@@ -328,9 +328,19 @@ fn read_cache(
         return whole.map(Some);
     }
     let header: Header = parse_json(path, &text, what)?;
-    if header.format == Some(plan::replan::CACHE_FORMAT) {
+    match header.format {
         // This version's cache that does not read: damaged, reported where it breaks.
-        return whole.map(Some);
+        Some(plan::replan::CACHE_FORMAT) => return whole.map(Some),
+        // Every cache basefit ever wrote says its format. JSON without one is some other
+        // file given as --cache by mistake (a matrix.json, say), which planning from scratch
+        // would overwrite.
+        None => {
+            return Err(BadInput::file(
+                path.display().to_string(),
+                format!("not a {what}: it has no `format` field, which every cache carries"),
+            ));
+        }
+        Some(_) => {}
     }
     out.stderr.push(format!(
         "plan cache {} was written by another version of basefit; planning from scratch",

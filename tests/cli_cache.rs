@@ -89,6 +89,24 @@ fn a_cache_another_version_wrote_is_replanned_and_replaced() {
     assert_eq!(counts(&stderr), (solved, 0));
 }
 
+/// JSON without a `format` field is no cache of any version (every one carried it), but some
+/// other file given as --cache by mistake: overwriting it would lose it.
+#[test]
+fn a_json_file_that_is_no_cache_is_refused_and_left_alone() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("matrix.json");
+    let text = "{\"packages\": [], \"cells\": []}\n";
+    std::fs::write(&cache, text).unwrap();
+    let (code, _, stderr) = plan(&cache, &d.path().join("out"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("matrix.json: not a basefit plan cache")
+            && stderr.contains("no `format` field"),
+        "{stderr}"
+    );
+    assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
+}
+
 #[test]
 fn a_damaged_cache_is_an_input_error_naming_file_and_line() {
     let format = basefit::plan::replan::CACHE_FORMAT;

@@ -879,8 +879,9 @@ fn check_cli(fixture: &Fixture, target: Target, text: &[u8]) -> Result<(), Strin
 }
 
 /// Whether `plan --cache` must refuse this text (README: a cache that does not read, reads
-/// but is damaged, or does not match its seal is an input error). A text that reads as JSON
-/// naming another format is another version's cache, replaced with a note; a cache that
+/// but is damaged, or does not match its seal is an input error, and so is JSON naming no
+/// format). A text that reads as JSON naming another format is another version's cache,
+/// replaced with a note; a cache that
 /// was sealed again after an edit is judged by its structure, which the run itself checks.
 fn cache_must_be_refused(fixture: &Fixture, text: &[u8]) -> bool {
     #[derive(serde::Deserialize)]
@@ -893,7 +894,10 @@ fn cache_must_be_refused(fixture: &Fixture, text: &[u8]) -> bool {
     if text.as_bytes() == fixture.original(Target::Cache) || PlanCache::seal_holds(text) {
         return false;
     }
-    !matches!(serde_json::from_str::<Header>(text), Ok(h) if h.format != Some(CACHE_FORMAT))
+    !matches!(
+        serde_json::from_str::<Header>(text),
+        Ok(h) if h.format.is_some_and(|f| f != CACHE_FORMAT)
+    )
 }
 
 fn fuzz(target: Target) {
