@@ -363,10 +363,11 @@ fn parse_json<T: serde::de::DeserializeOwned>(
     what: &str,
 ) -> Result<T, BadInput> {
     serde_json::from_str(text).map_err(|e| {
-        BadInput::at(
+        BadInput::parsed(
             path.display().to_string(),
             e.line(),
-            format!("not a {what}: {e}"),
+            e.column(),
+            &format!("not a {what}: {e}"),
         )
     })
 }
@@ -450,17 +451,16 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
     let yaml = path.extension().is_some_and(|e| e == "yaml" || e == "yml");
     // The line goes into the error's own field, so the message reads `file:line:` as every
     // other input error does, not `file: ... line N` inside the text.
-    let parsed: Result<Matrix, (Option<usize>, String)> = if yaml {
-        serde_yaml::from_str(&text).map_err(|e| (e.location().map(|l| l.line()), e.to_string()))
+    let parsed: Result<Matrix, (usize, usize, String)> = if yaml {
+        serde_yaml::from_str(&text).map_err(|e| {
+            let (line, column) = e.location().map_or((0, 0), |l| (l.line(), l.column()));
+            (line, column, e.to_string())
+        })
     } else {
-        serde_json::from_str(&text).map_err(|e| (Some(e.line()), e.to_string()))
+        serde_json::from_str(&text).map_err(|e| (e.line(), e.column(), e.to_string()))
     };
-    let m = parsed.map_err(|(line, e)| {
-        let message = format!("not a basefit matrix: {e}");
-        match line {
-            Some(line) if line > 0 => BadInput::at(&file, line, message),
-            _ => BadInput::file(&file, message),
-        }
+    let m = parsed.map_err(|(line, column, e)| {
+        BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"))
     })?;
     m.check_layout().map_err(|e| BadInput::file(&file, e))?;
     Ok(m)

@@ -139,7 +139,22 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
             stderr.contains(&format!("cut.json:{last}: not a basefit matrix: ")),
             "{args:?}: {stderr}"
         );
+        // The prefix says where; the parser's own "at line L column C" would say it twice.
+        assert!(
+            !stderr.contains(&format!("at line {last} column")),
+            "{args:?}: {stderr}"
+        );
     }
+    // The same for a YAML matrix, whose parser words its positions alike.
+    let yaml = dir.path().join("broken.yaml");
+    std::fs::write(&yaml, "packages: []\n  cells: []\n").unwrap();
+    let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", yaml.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("broken.yaml:2: not a basefit matrix: "),
+        "{stderr}"
+    );
+    assert!(!stderr.contains("at line 2 column"), "{stderr}");
 }
 
 #[test]

@@ -41,6 +41,23 @@ impl BadInput {
         }
     }
 
+    /// A parser's error at `line` and `column` (1-based; a line of 0 means none). Parsers
+    /// end their messages with "at line L column C", which the `file:line:` prefix already
+    /// says: that part goes, and a context position elsewhere in the message stays.
+    ///
+    /// ```
+    /// use basefit::load::diag::BadInput;
+    /// let e = BadInput::parsed("m.json", 6, 9, "not a matrix: expected `,` at line 6 column 9");
+    /// assert_eq!(e.to_string(), "m.json:6: not a matrix: expected `,`");
+    /// ```
+    pub fn parsed(file: impl Into<String>, line: usize, column: usize, message: &str) -> Self {
+        if line == 0 {
+            return BadInput::file(file, message);
+        }
+        let message = message.replacen(&format!(" at line {line} column {column}"), "", 1);
+        BadInput::at(file, line, message)
+    }
+
     /// Combines several errors into one value; `None` when there are none.
     pub fn combine(mut errors: Vec<BadInput>) -> Option<BadInput> {
         if errors.is_empty() {
