@@ -271,4 +271,21 @@ fn removing_the_compiler_package_drops_an_inherited_toolchain() {
         "{stdout}"
     );
     assert!(!stdout.contains("slimmed-with-cc: inherits"), "{stdout}");
+    assert!(
+        stdout.contains(
+            "images whose toolchain flag, written or inherited, their packages contradict"
+        ),
+        "{stdout}"
+    );
+
+    // A base that has a toolchain only by carrying the package writes no flag: removing the
+    // package contradicts nothing the file says, so check has nothing to report.
+    let unflagged = "images:\n  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential, zlib1g]}\n  - id: slim\n    extends: full\n    remove: [build-essential]\n  - {id: flagged-off, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: false, packages: [build-essential]}\n  - id: slim-off\n    extends: flagged-off\n    remove: [build-essential]\n";
+    let args = demo_on_images(dir.path(), unflagged);
+    let args: Vec<&str> = args.iter().map(String::as_str).collect();
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(!stdout.contains("inherits toolchain"), "{stdout}");
+    let (code, stdout, _) = run(&["explain", "burrowdb", "slim"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("has no C toolchain"), "{stdout}");
 }

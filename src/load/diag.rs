@@ -233,7 +233,7 @@ impl ProblemKind {
             ProblemKind::NoVersions => "packages without any version record",
             ProblemKind::BadImage => "images that cannot be built (left out)",
             ProblemKind::ToolchainContradiction => {
-                "images saying toolchain: false that carry the toolchain packages (used as having one)"
+                "images whose toolchain flag, written or inherited, their packages contradict (the packages win)"
             }
             ProblemKind::DuplicateEntry => "duplicate ids or names (later record left out)",
             ProblemKind::UnknownPackage => "entries naming packages not in the registry",

@@ -96,14 +96,9 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
         let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
-                let base_toolchain = unique[i]
-                    .extends
-                    .as_ref()
-                    .and_then(|b| by_id.get(b.value.as_str()))
-                    .and_then(|&j| resolved[j].as_ref())
-                    .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
+                let inherits_true = inherited_flag(i, &unique, &by_id) == Some(true);
                 if let Some(At { value: why, line }) =
-                    toolchain_contradiction(unique[i], base_toolchain, &image)
+                    toolchain_contradiction(unique[i], inherits_true, &image)
                 {
                     ledger.note(
                         ProblemKind::ToolchainContradiction,
@@ -220,14 +215,25 @@ fn removed_toolchain(d: &Declared, family: OsFamily) -> Vec<&At<String>> {
         .collect()
 }
 
+/// The `toolchain` flag image `i` would inherit: the nearest one its bases write. A base that
+/// has a toolchain only by carrying the packages writes none, so removing them contradicts
+/// nothing the file says.
+fn inherited_flag(i: usize, declared: &[&Declared], by_id: &HashMap<&str, usize>) -> Option<bool> {
+    let mut at = i;
+    // Bounded: a cycle of bases (reported elsewhere) must not loop.
+    for _ in 0..declared.len() {
+        at = *by_id.get(declared[at].extends.as_ref()?.value.as_str())?;
+        if let Some(flag) = &declared[at].toolchain {
+            return Some(flag.value);
+        }
+    }
+    None
+}
+
 /// Why `image`'s toolchain differs from what its file says, if it does (see `build`), at the
 /// line that says otherwise: the packages win over `toolchain: false`, and a removal wins
 /// over an inherited `true`. Both are worth a note, since the file reads otherwise.
-fn toolchain_contradiction(
-    d: &Declared,
-    base_toolchain: bool,
-    image: &Image,
-) -> Option<At<String>> {
+fn toolchain_contradiction(d: &Declared, inherits_true: bool, image: &Image) -> Option<At<String>> {
     if let Some(At { value: false, line }) = d.toolchain
         && image.toolchain
     {
@@ -241,7 +247,7 @@ fn toolchain_contradiction(
     }
     let removed = removed_toolchain(d, image.family);
     let first = removed.first()?;
-    (d.toolchain.is_none() && base_toolchain && !image.toolchain).then(|| {
+    (d.toolchain.is_none() && inherits_true && !image.toolchain).then(|| {
         let names: Vec<&str> = removed.iter().map(|r| r.value.as_str()).collect();
         At::new(
             format!(
