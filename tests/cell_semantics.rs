@@ -392,17 +392,28 @@ fn advice_gains_leave_out_cells_no_package_can_unblock() {
 /// `syslibs` must still list it: no addition helps it.
 #[test]
 fn a_cell_at_risk_only_for_an_unnamed_library_is_listed_beyond_advice() {
+    // loner declares the library; vireo-quasar only names it (a `possible` need): neither
+    // lacks a package the advice could add.
     let registry = r#"packages:
   - name: loner
     versions: [{version: "1.0.0", native: {libraries: [libnowhere-at-all]}}]
+  - name: vireo-quasar
+    versions: [{version: "1.0.0"}]
 "#;
-    let inputs = inputs(registry, "priorities:\n  - loner\n");
+    let mut inputs = inputs(registry, "priorities:\n  - loner\n  - vireo-quasar\n");
+    inputs
+        .catalog
+        .apply("test catalog", ALPINE_ONLY_CATALOG)
+        .unwrap();
     let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
-    assert_eq!(matrix.cells[0].outcome, basefit::plan::Outcome::AtRisk);
-    assert!(matrix.cells[0].missing_system_packages.is_empty());
+    for cell in &matrix.cells {
+        assert_eq!(cell.outcome, basefit::plan::Outcome::AtRisk, "{cell:#?}");
+        assert!(cell.missing_system_packages.is_empty(), "{cell:#?}");
+    }
     let report = basefit::plan::system::system_report(&inputs, &matrix);
     let deb = &report.images[0];
-    assert_eq!(deb.beyond_advice, ["loner"]);
+    assert_eq!(deb.beyond_advice, ["loner", "vireo-quasar"]);
+    assert!(deb.at_risk_after_advice.is_empty());
     assert!(deb.missing.is_empty() && deb.advice.is_empty());
     let text = basefit::report::text::system_text(&report);
     assert!(text.contains("still at risk whatever is added"), "{text}");

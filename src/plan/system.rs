@@ -62,9 +62,10 @@ pub struct ImageNeeds {
     /// Greedy advice: packages in the order that unblocks the most weight per package added.
     /// Only cells that adding packages can unblock count toward its gains.
     pub advice: Vec<AdviceLine>,
-    /// Priority packages whose cell here lacks system packages and has a `likely` or `certain`
-    /// need of a library the catalog has no system package for on this family: they stay at
-    /// risk whatever the advice adds, so no step's gain and no package's `weight` counts them.
+    /// Priority packages whose cell here needs a library the catalog has no system package for
+    /// on this family, and either lacks system packages with a `likely` or `certain` need of it
+    /// or lacks none: they stay at risk whatever the advice adds, so no step's gain and no
+    /// package's `weight` counts them.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub beyond_advice: Vec<String>,
     /// Priority packages counted in the advice whose cell also has a `possible` need (a name
@@ -207,7 +208,8 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             // no addition helps it either: it belongs with the cells beyond advice, not out of
             // the report.
             if cell.missing_system_packages.is_empty() {
-                if beyond {
+                // Even a `possible` need then: the advice counts nothing for such a cell.
+                if unknown.is_some() {
                     beyond_advice.push(row.name.clone());
                 }
                 continue;

@@ -765,7 +765,7 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             (
                 &i.beyond_advice,
                 format!(
-                    "* still at risk whatever is added (declares, or ships a header or pkg-config file of, a library the catalog has no {family} package for; not counted in weights or gains)"
+                    "* still at risk whatever is added (needs a library the catalog has no {family} package for; not counted in weights or gains)"
                 ),
             ),
             (
