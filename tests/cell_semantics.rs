@@ -282,14 +282,37 @@ fn a_missing_name_stays_the_cause_where_no_image_would_lift_the_failure() {
     versions:
       - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
       - {version: "2.0.0", depends: [{name: nonesuch, req: "^2"}]}
+  - name: wombat-top
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: wombat-mid, req: "^1"}]}
+  - name: wombat-mid
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "^1"}]}
+      - {version: "1.1.0", yanked: true}
+  - name: quokka
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", builds: {source: false, prebuilt: []}, depends: [{name: wombat-mid, req: "^1"}]}
 "#;
+    // wombat-top 2.0.0 and quokka 2.0.0 are refused by the image, but their dependency leads
+    // only to the missing name (its other release is yanked): no image installs them either.
+    let entries = [
+        "quell",
+        "quern",
+        "quince",
+        "quaff",
+        "quagga",
+        "wombat-top",
+        "quokka",
+    ];
     let inputs = inputs_on(
         RUNTIMES,
         registry,
-        "priorities: [quell, quern, quince, quaff, quagga]\n",
+        &format!("priorities: [{}]\n", entries.join(", ")),
     );
     let options = PlanOptions::default();
-    for name in ["quell", "quern", "quince", "quaff", "quagga"] {
+    for name in entries {
         let cell = explain(&inputs, name, "mid", &options).unwrap().cell;
         assert_eq!(cell.cause, Some(Cause::MissingFromRegistry), "{name}");
         if name != "quagga" {

@@ -646,6 +646,25 @@ fn a_dependency_of_a_refused_root_release_that_is_published_or_withdrawn_is_solv
         assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{cause}");
         assert_eq!(stats.solved, 1, "{cause}");
     }
+    // The same a level further down: later is published, and its own dependency decides.
+    let deeper = |deepest: &str| {
+        registry(&format!(
+            "- name: later\n  versions: [{{version: 1.0.0, depends: [{{name: deepest, req: '^1'}}]}}]\n{deepest}"
+        ))
+    };
+    let published = deeper("- name: deepest\n  versions: [{version: 1.0.0}]\n");
+    for (before, after, cause) in [
+        (deeper(""), published.clone(), "runtime-too-old"),
+        (published, deeper(""), "missing-from-registry"),
+    ] {
+        let (warm, stats, cold) = warm_and_cold(&before, &after, &["app"], &PlanOptions::default());
+        assert_eq!(cold.matrix.cells[0].cause.map(|c| c.as_str()), Some(cause));
+        assert!(
+            to_json(&warm.matrix) == to_json(&cold.matrix),
+            "deeper {cause}"
+        );
+        assert_eq!(stats.solved, 1, "deeper {cause}");
+    }
 }
 
 #[test]

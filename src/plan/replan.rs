@@ -13,7 +13,8 @@
 //! cell's output reads of a package besides (its versions, summary and flags, the native
 //! hints of picked releases) is fingerprinted, and a failure's explanation, which reads
 //! refusal reasons and the requirements of releases never picked, keeps the packages it
-//! names valid only while they are unchanged as a whole.
+//! names, and those its choice of cause walks (the dependencies of root releases the image
+//! refuses), valid only while they are unchanged as a whole.
 //!
 //! Candidate counts may rise where the solver never picked from a range: pubgrub decides the
 //! package of highest priority, so lowering the priority of one it did not decide at a step

@@ -6,6 +6,7 @@ use super::provider::Node;
 use super::sets::{IndexSet, describe, indices};
 use crate::model::PackageId;
 use pubgrub::{DerivationTree, External};
+use rustc_hash::FxHashMap;
 use serde::Serialize;
 use std::collections::{BTreeMap, HashSet};
 use std::sync::Arc;
@@ -131,18 +132,15 @@ fn cause_of_refusals(tally: &BTreeMap<Admission, Vec<u32>>) -> Cause {
 }
 
 /// The releases of `root` in `set` that the image refuses for its runtime or platform and
-/// that ask nothing the registry cannot supply (a name it lacks, or a requirement no published
-/// release outside the yanked ones meets), tallied by reason, and the packages read to tell.
-/// An image that admits one of them would let the solver try a release it never tried here;
-/// one that needs a missing package would fail on any image, so it does not count.
+/// whose dependencies the registry can supply all the way down (see [`Supply`]), tallied by
+/// reason, and the packages read to tell. An image that admits one of them would let the
+/// solver try a release it never tried here; one whose dependencies lead to a missing package
+/// would fail on any image, so it does not count.
 fn refusals_another_image_lifts(
     view: &ImageView<'_>,
     root: PackageId,
     set: &IndexSet,
 ) -> (BTreeMap<Admission, Vec<u32>>, Vec<PackageId>) {
-    let registry = view.registry;
-    let releases = &registry.package(root).releases;
-    let mut read = Vec::new();
     let mut tally = refusals(view, root, set);
     tally.retain(|reason, _| {
         matches!(
@@ -150,25 +148,76 @@ fn refusals_another_image_lifts(
             Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime | Admission::NoBuild
         )
     });
+    let mut supply = Supply::new(view);
     for idx in tally.values_mut() {
-        idx.retain(|&i| {
-            let release = &releases[i as usize];
-            read.extend(release.runtime_deps().map(|d| d.package));
-            release.runtime_deps().all(|d| {
-                let target = registry.package(d.package);
-                target.declared
-                    && indices(
-                        &view.sets.get(registry, d.package, d.req),
-                        target.releases.len(),
-                    )
-                    .any(|j| !target.releases[j as usize].yanked)
-            })
-        });
+        idx.retain(|&i| supply.release(root, i));
     }
     tally.retain(|_, idx| !idx.is_empty());
+    let mut read = supply.read;
     read.sort_unstable();
     read.dedup();
     (tally, read)
+}
+
+/// Whether the registry can supply a release's dependencies all the way down: every name it
+/// depends on is published, and each requirement admits some unyanked release that can in
+/// turn be supplied. Runtimes, platforms and conflicts between branches are left aside, so
+/// this over-approximates what another image could install; what it rules out (a chain that
+/// ends at a missing name or at nothing published) fails on every image. A dependency cycle
+/// counts as supplied. The walk stops after [`Supply::LIMIT`] releases and then says no, so
+/// a deep graph keeps the missing name as the cause rather than taking long to drop it.
+struct Supply<'v, 'r> {
+    view: &'v ImageView<'r>,
+    /// Per (package, release): `Some(true)` supplied or being walked, `Some(false)` not.
+    known: FxHashMap<(PackageId, u32), bool>,
+    /// Every package whose releases or dependencies the walk read.
+    read: Vec<PackageId>,
+    walked: usize,
+}
+
+impl<'v, 'r> Supply<'v, 'r> {
+    const LIMIT: usize = 4096;
+
+    fn new(view: &'v ImageView<'r>) -> Self {
+        Supply {
+            view,
+            known: FxHashMap::default(),
+            read: Vec::new(),
+            walked: 0,
+        }
+    }
+
+    fn release(&mut self, package: PackageId, index: u32) -> bool {
+        if let Some(&known) = self.known.get(&(package, index)) {
+            return known;
+        }
+        self.walked += 1;
+        if self.walked > Self::LIMIT {
+            return false;
+        }
+        // Optimistic while walked: a cycle back to it is supplied if the rest is.
+        self.known.insert((package, index), true);
+        let registry = self.view.registry;
+        let release = &registry.package(package).releases[index as usize];
+        let deps: Vec<_> = release.runtime_deps().map(|d| (d.package, d.req)).collect();
+        let supplied = deps.into_iter().all(|(target, req)| {
+            self.read.push(target);
+            let pkg = registry.package(target);
+            if !pkg.declared {
+                return false;
+            }
+            let wanted = self.view.sets.get(registry, target, req);
+            let candidates: Vec<u32> = indices(&wanted, pkg.releases.len())
+                .filter(|&j| !pkg.releases[j as usize].yanked)
+                .collect();
+            candidates
+                .into_iter()
+                .rev()
+                .any(|j| self.release(target, j))
+        });
+        self.known.insert((package, index), supplied);
+        supplied
+    }
 }
 
 /// Why nothing in `set` of `package` is usable, as one cause and one phrase.

@@ -90,7 +90,8 @@ pub struct Observed {
     /// Releases whose dependencies the solver read.
     pub fetched: Vec<(PackageId, u32)>,
     /// Packages a failure's explanation read beyond the solver's answers (refusal reasons,
-    /// the requirements of releases never picked): they must be unchanged as a whole.
+    /// the requirements of releases never picked, the dependencies its choice of cause walks
+    /// below root releases the image refuses): they must be unchanged as a whole.
     pub explained: Vec<PackageId>,
     /// Packages asked about with a range that reaches past their last release.
     pub open_ended: Vec<PackageId>,
