@@ -627,4 +627,37 @@ fn a_missing_package_is_as_certain_as_the_needs_that_name_it() {
         "{:#?}",
         matrix.cells[0]
     );
+
+    // A prebuilt release's certain need asks for the runtime package alone: the compiler and
+    // the development package are wanted only on the summary's say-so.
+    let registry = r#"packages:
+  - name: possum-app
+    summary: helper for zlib streams
+    versions: [{version: "1.0.0", depends: [{name: possum-bin, req: "^1"}]}]
+  - name: possum-bin
+    versions:
+      - version: "1.0.0"
+        builds: {source: false, prebuilt: [linux/glibc/x86_64]}
+        native: {libraries: [zlib]}
+"#;
+    let bare = "images:\n  - {id: bare, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, packages: [ca-certificates]}\n";
+    let inputs = inputs_on(bare, registry, "priorities:\n  - possum-app\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let mut rows: Vec<(&str, basefit::native::Confidence)> = report.images[0]
+        .missing
+        .iter()
+        .map(|m| (m.package.as_str(), m.strongest))
+        .collect();
+    rows.sort();
+    assert_eq!(
+        rows,
+        [
+            ("build-essential", Possible),
+            ("zlib1g", Certain),
+            ("zlib1g-dev", Possible)
+        ],
+        "{:#?}",
+        matrix.cells[0]
+    );
 }

@@ -97,6 +97,7 @@ fn hostile() -> Matrix {
             }
             if outcome == Outcome::AtRisk {
                 cell.native_needs = vec![NeedRow {
+                    build: None,
                     library: Some("lib<xml>".into()),
                     confidence: Confidence::Possible,
                     via: name.clone(),

@@ -61,6 +61,11 @@ pub struct NeedRow {
     pub library: Option<String>,
     pub confidence: Confidence,
     pub via: String,
+    /// How the release that needs it is built: from source (the development package and a
+    /// toolchain) or prebuilt (the runtime package). Absent in matrices written before it was
+    /// recorded.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub build: Option<BuildKind>,
     pub evidence: Vec<String>,
 }
 
@@ -401,6 +406,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
             library: n.library.clone(),
             confidence: n.confidence,
             via: n.via.clone(),
+            build: Some(n.build),
             evidence: n.evidence.clone(),
         })
         .collect();

@@ -6,6 +6,7 @@ use super::matrix::{Matrix, Outcome};
 use crate::load::Inputs;
 use crate::model::OsFamily;
 use crate::native::{self, Confidence, Evidence};
+use crate::solve::BuildKind;
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 
@@ -27,7 +28,8 @@ pub struct PackageEvidence {
 pub struct MissingPackage {
     pub package: String,
     /// The strongest evidence, over the cells that lack it, of a need that asks for this
-    /// package (for toolchain packages, of any native need of the cell).
+    /// package: a source build's need asks for the development package and the toolchain, a
+    /// prebuilt one's for the runtime package.
     pub strongest: Confidence,
     /// Entries whose cell lists it as missing, beyond-advice ones included.
     pub needed_by: Vec<String>,
@@ -160,25 +162,30 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .map(|nd| nd.confidence)
                 .max()
                 .unwrap_or(Confidence::Possible);
-            // How sure the cell is that it needs package `p`: its strongest need of a library
-            // the catalog maps to `p` on this family. The cell's strongest need of any library
-            // would mark a package wanted only on a name's say-so as certain when another
-            // library is certain. Toolchain packages serve every native build, and a package
-            // no need maps to (a catalog given since the matrix was planned) keeps the cell's.
+            // How sure the cell is that it needs package `p`: its strongest need that asks for
+            // `p`. A source build asks for the library's development package and a toolchain, a
+            // prebuilt one for its runtime package only (a need whose build a matrix does not
+            // record asks for any of them). The cell's strongest need of any library would
+            // mark a package wanted only on a name's say-so as certain when another need is.
+            // A package no need asks for (a catalog given since the matrix was planned)
+            // keeps the cell's strongest.
             let toolchain = native::toolchain_packages(image.family);
             let strongest_for = |p: &str| {
-                if toolchain.contains(&p) {
-                    return cell_strongest;
-                }
                 cell.native_needs
                     .iter()
                     .filter(|nd| {
+                        let source = nd.build != Some(BuildKind::Prebuilt);
+                        let prebuilt = nd.build != Some(BuildKind::Source);
+                        if toolchain.contains(&p) {
+                            return source;
+                        }
                         nd.library
                             .as_deref()
                             .and_then(|id| inputs.catalog.get(id))
                             .and_then(|l| l.families.get(&image.family))
                             .is_some_and(|f| {
-                                f.dev.as_deref() == Some(p) || f.runtime.as_deref() == Some(p)
+                                (source && f.dev.as_deref() == Some(p))
+                                    || (prebuilt && f.runtime.as_deref() == Some(p))
                             })
                     })
                     .map(|nd| nd.confidence)
