@@ -172,3 +172,33 @@ fn a_deep_closure_tree_reads_as_text_without_growing_with_the_square_of_its_dept
         &text[..400]
     );
 }
+
+/// A root whose newest release the image refuses for its runtime, on top of the chain, and
+/// whose older release needs a missing name: whether another runtime would help turns on the
+/// whole chain, which the choice of cause walks without recursing.
+#[test]
+fn the_cause_check_walks_a_deep_chain_below_a_refused_release() {
+    for (tail, cause) in [
+        (None, "runtime-too-old"),
+        (Some("nowhere"), "missing-from-registry"),
+    ] {
+        let dir = tempfile::tempdir().unwrap();
+        chain_inputs(dir.path(), tail);
+        let registry = dir.path().join("r.yaml");
+        let mut text = std::fs::read_to_string(&registry).unwrap();
+        text.push_str(
+            "  - name: crest\n    versions:\n      - {version: \"1.0.0\", depends: [{name: nowhere}]}\n      - {version: \"2.0.0\", runtime: \">=4.0\", depends: [{name: p0}]}\n",
+        );
+        std::fs::write(&registry, text).unwrap();
+        std::fs::write(dir.path().join("p.yaml"), "priorities: [crest]\n").unwrap();
+        let inputs = load_inputs(&InputPaths {
+            registry: vec![registry],
+            images: Some(dir.path().join("i.yaml")),
+            priorities: Some(dir.path().join("p.yaml")),
+            ..Default::default()
+        })
+        .unwrap();
+        let e = on_small_stack(move || explain(&inputs, "crest", "deb", &options()).unwrap());
+        assert_eq!(e.cell.cause.map(|c| c.as_str()), Some(cause), "{tail:?}");
+    }
+}

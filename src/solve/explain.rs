@@ -187,37 +187,98 @@ impl<'v, 'r> Supply<'v, 'r> {
         }
     }
 
+    /// Whether `package`'s release `index` can be supplied. Walked with an explicit stack:
+    /// a dependency chain thousands of packages deep must not overflow a worker's stack.
     fn release(&mut self, package: PackageId, index: u32) -> bool {
-        if let Some(&known) = self.known.get(&(package, index)) {
-            return known;
+        let Some(first) = self.enter(package, index) else {
+            return self.known.get(&(package, index)).copied().unwrap_or(false);
+        };
+        let mut stack = vec![first];
+        // The answer of the frame just finished, for the one below it.
+        let mut answer: Option<bool> = None;
+        while let Some(top) = stack.last_mut() {
+            match answer.take() {
+                // One candidate of the current dependency is supplied: on to the next one.
+                Some(true) => {
+                    top.dep += 1;
+                    top.candidates = None;
+                }
+                Some(false) => top.candidate += 1,
+                None => {}
+            }
+            let done = if top.dep == top.deps.len() {
+                Some(true)
+            } else {
+                let (target, req) = top.deps[top.dep];
+                if top.candidates.is_none() {
+                    self.read.push(target);
+                    let registry = self.view.registry;
+                    let pkg = registry.package(target);
+                    let wanted = self.view.sets.get(registry, target, req);
+                    // Newest first; none at all when the name is missing.
+                    let mut candidates: Vec<u32> = indices(&wanted, pkg.releases.len())
+                        .filter(|&j| pkg.declared && !pkg.releases[j as usize].yanked)
+                        .collect();
+                    candidates.reverse();
+                    top.candidates = Some(candidates);
+                    top.candidate = 0;
+                }
+                match top.candidates.as_ref().and_then(|c| c.get(top.candidate)) {
+                    None => Some(false),
+                    Some(&j) => {
+                        if let Some(&known) = self.known.get(&(target, j)) {
+                            answer = Some(known);
+                        } else if let Some(frame) = self.enter(target, j) {
+                            stack.push(frame);
+                        } else {
+                            answer = Some(false);
+                        }
+                        None
+                    }
+                }
+            };
+            if let Some(supplied) = done {
+                if let Some(frame) = stack.pop() {
+                    self.known.insert((frame.package, frame.index), supplied);
+                }
+                answer = Some(supplied);
+            }
+        }
+        answer.unwrap_or(false)
+    }
+
+    /// Starts walking a release not known yet, or `None` once the walk is over its limit.
+    fn enter(&mut self, package: PackageId, index: u32) -> Option<SupplyFrame> {
+        if self.known.contains_key(&(package, index)) {
+            return None;
         }
         self.walked += 1;
         if self.walked > Self::LIMIT {
-            return false;
+            return None;
         }
         // Optimistic while walked: a cycle back to it is supplied if the rest is.
         self.known.insert((package, index), true);
-        let registry = self.view.registry;
-        let release = &registry.package(package).releases[index as usize];
-        let deps: Vec<_> = release.runtime_deps().map(|d| (d.package, d.req)).collect();
-        let supplied = deps.into_iter().all(|(target, req)| {
-            self.read.push(target);
-            let pkg = registry.package(target);
-            if !pkg.declared {
-                return false;
-            }
-            let wanted = self.view.sets.get(registry, target, req);
-            let candidates: Vec<u32> = indices(&wanted, pkg.releases.len())
-                .filter(|&j| !pkg.releases[j as usize].yanked)
-                .collect();
-            candidates
-                .into_iter()
-                .rev()
-                .any(|j| self.release(target, j))
-        });
-        self.known.insert((package, index), supplied);
-        supplied
+        let release = &self.view.registry.package(package).releases[index as usize];
+        Some(SupplyFrame {
+            package,
+            index,
+            deps: release.runtime_deps().map(|d| (d.package, d.req)).collect(),
+            dep: 0,
+            candidates: None,
+            candidate: 0,
+        })
     }
+}
+
+/// One release being walked by [`Supply`]: its dependencies, the one being tried, and that
+/// one's unyanked candidates, newest first, with the one being tried.
+struct SupplyFrame {
+    package: PackageId,
+    index: u32,
+    deps: Vec<(PackageId, crate::model::ReqId)>,
+    dep: usize,
+    candidates: Option<Vec<u32>>,
+    candidate: usize,
 }
 
 /// Why nothing in `set` of `package` is usable, as one cause and one phrase.
