@@ -49,12 +49,20 @@ impl BadInput {
     /// use basefit::load::diag::BadInput;
     /// let e = BadInput::parsed("m.json", 6, 9, "not a matrix: expected `,` at line 6 column 9");
     /// assert_eq!(e.to_string(), "m.json:6: not a matrix: expected `,`");
+    /// // What the file says is kept, even where it reads like a position.
+    /// let e = BadInput::parsed("m.json", 1, 9, r#"bad "a at line 1 column 9" at line 1 column 9"#);
+    /// assert_eq!(e.to_string(), r#"m.json:1: bad "a at line 1 column 9""#);
     /// ```
     pub fn parsed(file: impl Into<String>, line: usize, column: usize, message: &str) -> Self {
         if line == 0 {
             return BadInput::file(file, message);
         }
-        let message = message.replacen(&format!(" at line {line} column {column}"), "", 1);
+        // The last match: quoted input earlier in the message may hold the same words.
+        let position = format!(" at line {line} column {column}");
+        let mut message = message.to_string();
+        if let Some(at) = message.rfind(&position) {
+            message.replace_range(at..at + position.len(), "");
+        }
         BadInput::at(file, line, message)
     }
 
