@@ -285,7 +285,20 @@ fn removing_the_compiler_package_drops_an_inherited_toolchain() {
     let args: Vec<&str> = args.iter().map(String::as_str).collect();
     let (_, stdout, _) = run(&["check"], &args);
     assert!(!stdout.contains("inherits toolchain"), "{stdout}");
+
     let (code, stdout, _) = run(&["explain", "burrowdb", "slim"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("has no C toolchain"), "{stdout}");
+
+    // Removed a generation up, the toolchain is not inherited, so removing more of it
+    // contradicts nothing: only the first removal is noted.
+    let generations = "images:\n  - {id: el-full, runtime: 3.2.0, family: rhel, platform: linux/glibc/x86_64, toolchain: true, packages: [gcc, make, zlib]}\n  - {id: el-nogcc, extends: el-full, remove: [gcc]}\n  - {id: el-bare, extends: el-nogcc, remove: [make]}\n";
+    let generation_args = demo_on_images(dir.path(), generations);
+    let generation_args: Vec<&str> = generation_args.iter().map(String::as_str).collect();
+    let (_, stdout, _) = run(&["check"], &generation_args);
+    assert!(
+        stdout.contains("el-nogcc: inherits toolchain: true from `el-full` but removes gcc"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("el-bare: inherits"), "{stdout}");
 }

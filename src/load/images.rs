@@ -96,7 +96,16 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
         let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
-                let inherits_true = inherited_flag(i, &unique, &by_id) == Some(true);
+                // A written `true` up the chain is inherited only while every base between
+                // kept it: one that removed the compiler itself passes on no toolchain.
+                let base_has_toolchain = unique[i]
+                    .extends
+                    .as_ref()
+                    .and_then(|b| by_id.get(b.value.as_str()))
+                    .and_then(|&j| resolved[j].as_ref())
+                    .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
+                let inherits_true =
+                    base_has_toolchain && inherited_flag(i, &unique, &by_id) == Some(true);
                 if let Some(At { value: why, line }) =
                     toolchain_contradiction(unique[i], inherits_true, &image)
                 {
