@@ -294,10 +294,30 @@ fn a_missing_name_stays_the_cause_where_no_image_would_lift_the_failure() {
     versions:
       - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
       - {version: "2.0.0", builds: {source: false, prebuilt: []}, depends: [{name: wombat-mid, req: "^1"}]}
+  - name: bilby-root
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: bilby-a, req: "*"}]}
+      - {version: "3.0.0", runtime: ">=4.0", depends: [{name: bilby-b, req: "*"}]}
+  - name: bilby-swapped
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: bilby-b, req: "*"}]}
+      - {version: "3.0.0", runtime: ">=4.0", depends: [{name: bilby-a, req: "*"}]}
+  - name: bilby-a
+    versions:
+      - {version: "1.0.0", depends: [{name: bilby-b, req: "*"}, {name: nonesuch, req: "*"}]}
+  - name: bilby-b
+    versions:
+      - {version: "1.0.0", depends: [{name: bilby-a, req: "*"}]}
 "#;
     // wombat-top 2.0.0 and quokka 2.0.0 are refused by the image, but their dependency leads
     // only to the missing name (its other release is yanked): no image installs them either.
+    // bilby-a and bilby-b depend on each other, and bilby-a on the missing name too: the
+    // cycle supplies nothing, whichever of them a walk meets first.
     let entries = [
+        "bilby-root",
+        "bilby-swapped",
         "quell",
         "quern",
         "quince",
@@ -660,4 +680,25 @@ fn a_missing_package_is_as_certain_as_the_needs_that_name_it() {
         "{:#?}",
         matrix.cells[0]
     );
+}
+
+/// A dependency cycle that needs nothing outside itself can be supplied: a release the image
+/// refuses that depends on it is one another runtime would let the solver try.
+#[test]
+fn a_refused_release_over_a_closed_dependency_cycle_outranks_a_missing_name() {
+    let registry = r#"packages:
+  - name: cycler
+    versions:
+      - {version: "1.0.0", depends: [{name: nonesuch, req: "*"}]}
+      - {version: "2.0.0", runtime: ">=4.0", depends: [{name: loop-a, req: "*"}]}
+  - name: loop-a
+    versions: [{version: "1.0.0", depends: [{name: loop-b, req: "*"}]}]
+  - name: loop-b
+    versions: [{version: "1.0.0", depends: [{name: loop-a, req: "*"}]}]
+"#;
+    let inputs = inputs_on(RUNTIMES, registry, "priorities: [cycler]\n");
+    let cell = explain(&inputs, "cycler", "mid", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::RuntimeTooOld), "{cell:#?}");
 }

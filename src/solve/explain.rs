@@ -132,7 +132,7 @@ fn cause_of_refusals(tally: &BTreeMap<Admission, Vec<u32>>) -> Cause {
 }
 
 /// The releases of `root` in `set` that the image refuses for its runtime or platform and
-/// whose dependencies the registry can supply all the way down (see [`Supply`]), tallied by
+/// whose dependencies the registry can supply all the way down (see [`supplied`]), tallied by
 /// reason, and the packages read to tell. An image that admits one of them would let the
 /// solver try a release it never tried here; one whose dependencies lead to a missing package
 /// would fail on any image, so it does not count.
@@ -148,137 +148,128 @@ fn refusals_another_image_lifts(
             Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime | Admission::NoBuild
         )
     });
-    let mut supply = Supply::new(view);
+    let starts: Vec<(PackageId, u32)> = tally.values().flatten().map(|&i| (root, i)).collect();
+    let (answers, mut read) = supplied(view, &starts);
+    let ok: std::collections::BTreeSet<u32> = starts
+        .iter()
+        .zip(answers)
+        .filter(|(_, ok)| *ok)
+        .map(|((_, i), _)| *i)
+        .collect();
     for idx in tally.values_mut() {
-        idx.retain(|&i| supply.release(root, i));
+        idx.retain(|i| ok.contains(i));
     }
     tally.retain(|_, idx| !idx.is_empty());
-    let mut read = supply.read;
     read.sort_unstable();
     read.dedup();
     (tally, read)
 }
 
-/// Whether the registry can supply a release's dependencies all the way down: every name it
-/// depends on is published, and each requirement admits some unyanked release that can in
+/// Which of `starts` (releases) the registry can supply all the way down: every name they
+/// depend on is published, and each requirement admits some unyanked release that can in
 /// turn be supplied. Runtimes, platforms and conflicts between branches are left aside, so
 /// this over-approximates what another image could install; what it rules out (a chain that
-/// ends at a missing name or at nothing published) fails on every image. A dependency cycle
-/// counts as supplied. The walk stops after [`Supply::LIMIT`] releases and then says no, so
-/// a deep graph keeps the missing name as the cause rather than taking long to drop it.
-struct Supply<'v, 'r> {
-    view: &'v ImageView<'r>,
-    /// Per (package, release): `Some(true)` supplied or being walked, `Some(false)` not.
-    known: FxHashMap<(PackageId, u32), bool>,
-    /// Every package whose releases or dependencies the walk read.
-    read: Vec<PackageId>,
-    walked: usize,
-}
-
-impl<'v, 'r> Supply<'v, 'r> {
-    const LIMIT: usize = 4096;
-
-    fn new(view: &'v ImageView<'r>) -> Self {
-        Supply {
-            view,
-            known: FxHashMap::default(),
-            read: Vec::new(),
-            walked: 0,
-        }
+/// ends at a missing name or at nothing published) fails on every image.
+///
+/// The answer is the largest set of releases each of whose requirements admits a release in
+/// the set, so a dependency cycle counts as supplied exactly when nothing it needs outside
+/// itself fails, whatever order the walk takes. The walk reads the dependencies of at most
+/// [`SUPPLY_LIMIT`] releases (and stops adding candidates past eight times that); a release
+/// it did not read counts as not supplied, so a huge graph keeps the missing name as the
+/// cause rather than taking long to drop it. Also returns every package whose releases the
+/// walk read, for re-plans. No recursion: chains thousands deep must not need stack.
+fn supplied(view: &ImageView<'_>, starts: &[(PackageId, u32)]) -> (Vec<bool>, Vec<PackageId>) {
+    let registry = view.registry;
+    let mut graph = SupplyGraph::default();
+    for &start in starts {
+        graph.node(start);
     }
-
-    /// Whether `package`'s release `index` can be supplied. Walked with an explicit stack:
-    /// a dependency chain thousands of packages deep must not overflow a worker's stack.
-    fn release(&mut self, package: PackageId, index: u32) -> bool {
-        let Some(first) = self.enter(package, index) else {
-            return self.known.get(&(package, index)).copied().unwrap_or(false);
-        };
-        let mut stack = vec![first];
-        // The answer of the frame just finished, for the one below it.
-        let mut answer: Option<bool> = None;
-        while let Some(top) = stack.last_mut() {
-            match answer.take() {
-                // One candidate of the current dependency is supplied: on to the next one.
-                Some(true) => {
-                    top.dep += 1;
-                    top.candidates = None;
-                }
-                Some(false) => top.candidate += 1,
-                None => {}
+    let mut read = Vec::new();
+    let mut next = 0;
+    while next < graph.nodes.len() && next < SUPPLY_LIMIT && graph.nodes.len() < 8 * SUPPLY_LIMIT {
+        let (package, index) = graph.nodes[next];
+        graph.explored[next] = true;
+        for d in registry.package(package).releases[index as usize].runtime_deps() {
+            read.push(d.package);
+            let target = registry.package(d.package);
+            let slot = graph.slot_owner.len();
+            graph.slot_owner.push(next);
+            graph.slot_alive.push(0);
+            if !target.declared {
+                continue;
             }
-            let done = if top.dep == top.deps.len() {
-                Some(true)
-            } else {
-                let (target, req) = top.deps[top.dep];
-                if top.candidates.is_none() {
-                    self.read.push(target);
-                    let registry = self.view.registry;
-                    let pkg = registry.package(target);
-                    let wanted = self.view.sets.get(registry, target, req);
-                    // Newest first; none at all when the name is missing.
-                    let mut candidates: Vec<u32> = indices(&wanted, pkg.releases.len())
-                        .filter(|&j| pkg.declared && !pkg.releases[j as usize].yanked)
-                        .collect();
-                    candidates.reverse();
-                    top.candidates = Some(candidates);
-                    top.candidate = 0;
+            let wanted = view.sets.get(registry, d.package, d.req);
+            for j in indices(&wanted, target.releases.len())
+                .collect::<Vec<_>>()
+                .into_iter()
+                .rev()
+            {
+                if !target.releases[j as usize].yanked {
+                    let candidate = graph.node((d.package, j));
+                    graph.candidate_in[candidate].push(slot);
+                    graph.slot_alive[slot] += 1;
                 }
-                match top.candidates.as_ref().and_then(|c| c.get(top.candidate)) {
-                    None => Some(false),
-                    Some(&j) => {
-                        if let Some(&known) = self.known.get(&(target, j)) {
-                            answer = Some(known);
-                        } else if let Some(frame) = self.enter(target, j) {
-                            stack.push(frame);
-                        } else {
-                            answer = Some(false);
-                        }
-                        None
-                    }
-                }
-            };
-            if let Some(supplied) = done {
-                if let Some(frame) = stack.pop() {
-                    self.known.insert((frame.package, frame.index), supplied);
-                }
-                answer = Some(supplied);
             }
         }
-        answer.unwrap_or(false)
+        next += 1;
     }
-
-    /// Starts walking a release not known yet, or `None` once the walk is over its limit.
-    fn enter(&mut self, package: PackageId, index: u32) -> Option<SupplyFrame> {
-        if self.known.contains_key(&(package, index)) {
-            return None;
+    // Take out what cannot be supplied, and whatever then has a requirement left without a
+    // candidate, until nothing changes.
+    let mut alive: Vec<bool> = graph.explored.clone();
+    let mut dying: Vec<usize> = (0..graph.nodes.len()).filter(|&n| !alive[n]).collect();
+    for (slot, &owner) in graph.slot_owner.iter().enumerate() {
+        if graph.slot_alive[slot] == 0 && alive[owner] {
+            alive[owner] = false;
+            dying.push(owner);
         }
-        self.walked += 1;
-        if self.walked > Self::LIMIT {
-            return None;
-        }
-        // Optimistic while walked: a cycle back to it is supplied if the rest is.
-        self.known.insert((package, index), true);
-        let release = &self.view.registry.package(package).releases[index as usize];
-        Some(SupplyFrame {
-            package,
-            index,
-            deps: release.runtime_deps().map(|d| (d.package, d.req)).collect(),
-            dep: 0,
-            candidates: None,
-            candidate: 0,
-        })
     }
+    while let Some(n) = dying.pop() {
+        for &slot in &graph.candidate_in[n] {
+            graph.slot_alive[slot] -= 1;
+            let owner = graph.slot_owner[slot];
+            if graph.slot_alive[slot] == 0 && alive[owner] {
+                alive[owner] = false;
+                dying.push(owner);
+            }
+        }
+    }
+    let answers = starts
+        .iter()
+        .map(|start| graph.index.get(start).is_some_and(|&n| alive[n]))
+        .collect();
+    (answers, read)
 }
 
-/// One release being walked by [`Supply`]: its dependencies, the one being tried, and that
-/// one's unyanked candidates, newest first, with the one being tried.
-struct SupplyFrame {
-    package: PackageId,
-    index: u32,
-    deps: Vec<(PackageId, crate::model::ReqId)>,
-    dep: usize,
-    candidates: Option<Vec<u32>>,
-    candidate: usize,
+/// Releases whose dependencies [`supplied`] reads.
+const SUPPLY_LIMIT: usize = 4096;
+
+/// The releases [`supplied`] met and their requirements ("slots"): a release is supplied
+/// while every one of its slots has a candidate left that is.
+#[derive(Default)]
+struct SupplyGraph {
+    nodes: Vec<(PackageId, u32)>,
+    index: FxHashMap<(PackageId, u32), usize>,
+    /// Whether the node's dependencies were read.
+    explored: Vec<bool>,
+    /// The slots each node is a candidate in.
+    candidate_in: Vec<Vec<usize>>,
+    /// Per slot: the node whose requirement it is, and how many candidates it has left.
+    slot_owner: Vec<usize>,
+    slot_alive: Vec<usize>,
+}
+
+impl SupplyGraph {
+    fn node(&mut self, release: (PackageId, u32)) -> usize {
+        if let Some(&n) = self.index.get(&release) {
+            return n;
+        }
+        let n = self.nodes.len();
+        self.nodes.push(release);
+        self.index.insert(release, n);
+        self.explored.push(false);
+        self.candidate_in.push(Vec::new());
+        n
+    }
 }
 
 /// Why nothing in `set` of `package` is usable, as one cause and one phrase.
