@@ -403,14 +403,10 @@ fn requirement_text(
     }
 }
 
-/// Every package an explanation of `tree` for `root` reads beyond what the solver was
+/// Every package whose facts the explanation of `facts` reads beyond what the solver was
 /// answered: those its facts name, whose refusals, requirement texts and release lists it
-/// describes, and, when a fact names a package missing from the registry, the dependencies of
-/// the root's releases the image refuses, which decide whether another image would lift the
-/// failure ([`explain`]'s choice of cause).
-pub fn examined(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Vec<PackageId> {
-    let mut facts = Facts::default();
-    collect(tree, &mut facts);
+/// describes.
+fn named(facts: &Facts) -> Vec<PackageId> {
     let mut out: Vec<PackageId> = facts.no_versions.keys().copied().collect();
     for f in &facts.order {
         if let Fact::Depends(a, _, b, _) = f {
@@ -420,23 +416,31 @@ pub fn examined(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Vec<Packa
             out.push(*b);
         }
     }
-    // Wider than `explain`'s own test (a missing leaf), never narrower: reading more only
-    // costs a re-plan a solve.
-    if out.iter().any(|p| !view.registry.package(*p).declared)
-        && let Some(set) = facts.no_versions.get(&root)
-    {
-        out.extend(refusals_another_image_lifts(view, root, set).1);
-    }
-    out.sort_unstable();
-    out.dedup();
     out
 }
 
-/// Explains a failed solve of `root` on the view's image.
-pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
+/// Explains a failed solve of `root` on the view's image. Also returns every package the
+/// explanation read beyond what the solver was answered (sorted, unique): a re-plan keeps the
+/// failure only while they are unchanged. Those are the packages its facts name and, when a
+/// fact names a package missing from the registry, those below the root's releases the image
+/// refuses, which decide whether another image would lift the failure (the choice of cause).
+pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, Vec<PackageId>) {
     let registry = view.registry;
     let mut facts = Facts::default();
     collect(tree, &mut facts);
+    let mut examined = named(&facts);
+    // Walked wherever a missing name is among the facts, which covers every failure whose
+    // cause can be a missing name: reading more only costs a re-plan a solve.
+    let refusals_lifted = match facts.no_versions.get(&root) {
+        Some(set) if examined.iter().any(|p| !registry.package(*p).declared) => {
+            let (tally, read) = refusals_another_image_lifts(view, root, set);
+            examined.extend(read);
+            Some(tally)
+        }
+        _ => None,
+    };
+    examined.sort_unstable();
+    examined.dedup();
     // What the entry asks for reads best first; the rest keeps the tree's order.
     facts
         .order
@@ -584,13 +588,9 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     // act on. Only the root's own refusals are weighed: they name exactly the releases the
     // image rules out, while a dependency's refusal is the first blocker the solver met on
     // one path, and may hide others (`explain`'s runtime hint solves again to find out).
-    let lifted = match facts.no_versions.get(&root) {
-        Some(set) if missing => {
-            let (tally, _) = refusals_another_image_lifts(view, root, set);
-            (!tally.is_empty()).then(|| cause_of_refusals(&tally))
-        }
-        _ => None,
-    };
+    let lifted = refusals_lifted
+        .filter(|tally| missing && !tally.is_empty())
+        .map(|tally| cause_of_refusals(&tally));
     let (cause, from_root) = if let Some(c) = lifted {
         (c, true)
     } else if missing {
@@ -650,9 +650,12 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> Failure {
     }
     let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _)| b).collect();
     blockers.dedup();
-    Failure {
-        cause,
-        lines,
-        blockers,
-    }
+    (
+        Failure {
+            cause,
+            lines,
+            blockers,
+        },
+        examined,
+    )
 }

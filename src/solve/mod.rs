@@ -244,8 +244,8 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
         Err(PubGrubError::NoSolution(err)) => {
             // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
             // cause; the explainer merges them per package itself.
-            observed.explained = explain::examined(view, root_id, &err);
-            let failure = explain::explain(view, root_id, &err);
+            let (failure, examined) = explain::explain(view, root_id, &err);
+            observed.explained = examined;
             explain::dismantle(err);
             Solved::Fails(failure)
         }
