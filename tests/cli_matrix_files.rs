@@ -229,30 +229,20 @@ fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
 #[test]
 fn coverage_charts_of_images_whose_ids_make_one_file_name_do_not_overwrite_each_other() {
     let dir = tempfile::tempdir().unwrap();
-    let images = dir.path().join("images.yaml");
     // Three base images (one per family and platform); the last two ids differ only in a
     // character a file name cannot hold.
-    std::fs::write(
-        &images,
+    let flags = demo_on_images(
+        dir.path(),
         "images:\n\
          - {id: deb-3.2, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}\n\
          - {id: 'arm:3.2', runtime: 3.2.0, family: debian, platform: linux/glibc/aarch64}\n\
          - {id: arm/3.2, runtime: 3.2.0, family: alpine, platform: linux/musl/aarch64}\n",
-    )
-    .unwrap();
+    );
     let out = dir.path().join("out");
-    let (code, _, stderr) = run_basefit([
-        "imageplan",
-        "--quiet",
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
+    let mut args = vec!["imageplan".to_string(), "--quiet".to_string()];
+    args.extend(flags);
+    args.extend(["--out".to_string(), out.to_str().unwrap().to_string()]);
+    let (code, _, stderr) = run_basefit(args);
     assert_eq!(code, 0, "{stderr}");
     let mut charts: Vec<String> = std::fs::read_dir(&out)
         .unwrap()

@@ -1,6 +1,8 @@
 //! The review of the demo's recorded results, its counts asserted exactly against the
 //! outcomes written down in demo-data/STORIES.md.
 
+mod common;
+
 use basefit::load::{InputPaths, load_inputs};
 use basefit::plan::{PlanOptions, plan};
 use basefit::verify::{Verdict, compare};
@@ -72,14 +74,9 @@ fn demo_review_counts() {
 fn review_command_gates_on_max_surprises() {
     let run = |max: &str| {
         std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+            .arg("review")
+            .args(common::DEMO)
             .args([
-                "review",
-                "--registry",
-                "demo-data/registry.yaml",
-                "--images",
-                "matrices/demo-images.yaml",
-                "--priorities",
-                "demo-data/priorities.yaml",
                 "--results",
                 "demo-data/results.yaml",
                 "--max-surprises",
