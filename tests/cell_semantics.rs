@@ -401,6 +401,39 @@ fn requirements_of_different_releases_read_as_alternatives() {
     assert!(both.iter().any(|l| l.contains("^1 and ^2")), "{both:?}");
 }
 
+/// A blocker's reason names the versions that fail when others of the package suit the image
+/// (an entry can install its older line while blocking entries that need the newer one), and
+/// says nothing of published versions for a package the registry lacks.
+#[test]
+fn blocker_reasons_name_the_versions_that_fail_and_no_versions_of_a_missing_package() {
+    let registry = r#"packages:
+  - name: hub
+    versions:
+      - {version: "1.4.0"}
+      - {version: "2.0.0", runtime: ">=4"}
+      - {version: "2.1.0", runtime: ">=4"}
+  - name: rider
+    versions:
+      - {version: "1.0.0", depends: [{name: hub, req: "^2"}]}
+  - name: seeker
+    versions:
+      - {version: "1.0.0", depends: [{name: ghost, req: "^4.2"}]}
+      - {version: "1.1.0", depends: [{name: ghost, req: "^4.5"}]}
+"#;
+    let inputs = inputs(registry, "priorities:\n  - hub\n  - rider\n  - seeker\n");
+    let options = PlanOptions::default();
+    let blocker = |name: &str| {
+        let e = explain(&inputs, name, "deb", &options).unwrap();
+        assert_eq!(e.cell.blockers.len(), 1, "{:?}", e.cell.blockers);
+        e.cell.blockers[0].reason.clone()
+    };
+    assert_eq!(blocker("rider"), "hub 2.0.0 to 2.1.0 needs a newer runtime");
+    assert_eq!(
+        blocker("seeker"),
+        "ghost (wanted ^4.2 or ^4.5) is missing from the registry"
+    );
+}
+
 /// The system-package advice counts as unblocked only cells that adding packages can unblock:
 /// a cell that also needs a library the catalog has no package for stays at risk.
 #[test]

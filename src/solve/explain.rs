@@ -394,9 +394,13 @@ fn requirement_text(
         })
         .collect::<Vec<_>>()
         .join(" or ");
+    // A package the registry lacks has no versions to describe: saying none meets the
+    // requirements would read as if some were published.
+    let absent = registry.package(target).releases.is_empty();
     match groups.as_slice() {
         [] => describe(registry, target, target_set),
         [one] if one.len() == 1 => phrase,
+        _ if absent => phrase,
         [_] if empty => format!("{phrase} (no published version meets all of them)"),
         _ if empty => format!("{phrase} (no published version meets any of them)"),
         _ => format!("{phrase} ({})", describe(registry, target, target_set)),
@@ -491,7 +495,15 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
                 });
                 leaf_causes.push((*p, cause));
                 if *p != root {
-                    let reason = format!("{name} {}", cause.label());
+                    // Naming the versions matters when others suit the image: a package that
+                    // installs as an entry can still block entries that need its newer line.
+                    let all = indices(set, registry.package(*p).releases.len()).count()
+                        == registry.package(*p).releases.len();
+                    let reason = if registry.package(*p).declared && !all {
+                        format!("{name} {} {}", describe(registry, *p, set), cause.label())
+                    } else {
+                        format!("{name} {}", cause.label())
+                    };
                     blockers.push((
                         Blocker {
                             package: *p,
