@@ -193,7 +193,7 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
                 b.blocks.len(),
                 n_entries,
                 b.blocked_share * 100.0,
-                b.reasons.join("; ")
+                shown_reasons(&b.reasons)
             );
         }
     }
@@ -791,4 +791,27 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
     }
     let _ = writeln!(out, "\n{NOTICE}");
     out
+}
+
+/// A shared blocker's reasons for one line: a hub blocks entries through many version ranges,
+/// and listing each would bury the next blocker (JSON keeps them all).
+fn shown_reasons(reasons: &[String]) -> String {
+    const SHOWN: usize = 3;
+    let mut line = reasons[..reasons.len().min(SHOWN)].join("; ");
+    if reasons.len() > SHOWN {
+        let _ = write!(line, "; and {} other reasons", reasons.len() - SHOWN);
+    }
+    line
+}
+
+#[cfg(test)]
+mod tests {
+    use super::shown_reasons;
+
+    #[test]
+    fn a_shared_blockers_line_shows_three_reasons_and_counts_the_rest() {
+        let reasons: Vec<String> = (1..=5).map(|i| format!("r{i}")).collect();
+        assert_eq!(shown_reasons(&reasons[..3]), "r1; r2; r3");
+        assert_eq!(shown_reasons(&reasons), "r1; r2; r3; and 2 other reasons");
+    }
 }
