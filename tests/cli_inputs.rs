@@ -710,6 +710,49 @@ fn version_record_field_problems_name_the_line_of_the_value() {
     }
 }
 
+/// A prebuilt platform that cannot be read leaves out its version alone, named at the line of
+/// the platform, and the rest of the registry is used; it used to make the whole file
+/// unusable (exit 2).
+#[test]
+fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - {version: 1.0.0}\n",
+            "      - version: 1.1.0\n",
+            "        builds:\n",
+            "          prebuilt:\n",
+            "            - linux/glibc/x86_64\n",
+            "            - linux-x86_64\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    assert!(
+        stdout.contains(
+            "registry.yaml:9  fernwood@1.1.0: prebuilt platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64"
+        ),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("records with an unusable value (left out) (bad-value): 1"),
+        "{stdout}"
+    );
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("version records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["2", "1", "1"], "{line}");
+}
+
 /// An unknown dependency `kind` is refused at the line of the kind, not of the entry.
 #[test]
 fn dependency_kind_is_refused_at_its_line() {
