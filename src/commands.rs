@@ -113,7 +113,53 @@ fn require_matrix_inputs(
             ),
         ));
     }
-    Ok(())
+    require_releases(inputs, paths, command)
+}
+
+/// The registry files given (YAML, or the versions file of a bulk pair), for messages.
+fn registry_files(paths: &InputPaths) -> Vec<String> {
+    paths
+        .registry
+        .iter()
+        .chain(paths.bulk.iter().map(|(versions, _)| versions))
+        .map(|p| p.display().to_string())
+        .collect()
+}
+
+/// When registry files were given but hold no usable release: the files, what came to
+/// nothing (no package at all, or packages whose every version record was left out) and the
+/// counts of that kind of record. `None` when a release is usable or no registry was given.
+fn registry_left_nothing(
+    inputs: &Inputs,
+    paths: &InputPaths,
+) -> Option<(String, &'static str, crate::load::diag::Tally)> {
+    use crate::load::diag::RecordKind;
+    let files = registry_files(paths);
+    if files.is_empty() || inputs.registry.release_count() > 0 {
+        return None;
+    }
+    let (noun, kind) = if inputs.registry.packages.is_empty() {
+        ("package", RecordKind::Package)
+    } else {
+        ("version record", RecordKind::Version)
+    };
+    Some((files.join(", "), noun, inputs.ledger.tally(kind)))
+}
+
+/// Refuses a registry that was given but has no usable release. Every cell would fail for
+/// want of versions the file does have, written in a way basefit cannot read, and recorded
+/// results would be set against those failures: the registry file is what to fix.
+fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Result<(), BadInput> {
+    match registry_left_nothing(inputs, paths) {
+        None => Ok(()),
+        Some((files, noun, tally)) => Err(BadInput::file(
+            files,
+            format!(
+                "{command} needs at least one {noun}: of {} read, {} were left out (`basefit check` lists why)",
+                tally.read, tally.left_out
+            ),
+        )),
+    }
 }
 
 /// The note that inputs had data-quality problems, for stderr: records were left out or
@@ -146,27 +192,28 @@ fn require_results_context(
     command: &str,
 ) -> Result<(), BadInput> {
     // A file that was given but left nothing usable is what to fix, not the command line.
-    let registry_files: Vec<String> = paths
-        .registry
-        .iter()
-        .chain(paths.bulk.iter().map(|(versions, _)| versions))
-        .map(|p| p.display().to_string())
-        .collect();
     let given_but_empty = if inputs.images.images.is_empty() {
-        paths
-            .images
-            .as_ref()
-            .map(|p| (p.display().to_string(), "image"))
-    } else if inputs.registry.packages.is_empty() && !registry_files.is_empty() {
-        Some((registry_files.join(", "), "package"))
+        paths.images.as_ref().map(|p| {
+            (
+                p.display().to_string(),
+                "image",
+                "none was usable".to_string(),
+            )
+        })
     } else {
-        None
+        registry_left_nothing(inputs, paths).map(|(files, noun, tally)| {
+            let why = match tally.read {
+                0 => "none was usable".to_string(),
+                read => format!("of {read} read, {} were left out", tally.left_out),
+            };
+            (files, noun, why)
+        })
     };
-    if let Some((file, noun)) = given_but_empty {
+    if let Some((file, noun, why)) = given_but_empty {
         return Err(BadInput::file(
             file,
             format!(
-                "{command} --matrix with --results needs at least one {noun} from here to read recorded results against; none was usable (`basefit check` lists why)"
+                "{command} --matrix with --results needs at least one {noun} from here to read recorded results against; {why} (`basefit check` lists why)"
             ),
         ));
     }
@@ -435,6 +482,7 @@ pub struct ExplainCommand {
 /// `explain`: one cell in depth. Exit 1 when it does not install cleanly.
 pub fn explain(o: &ExplainCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
+    require_releases(&inputs, &o.inputs, "explain")?;
     let e = plan::explain::explain(&inputs, &o.package, &o.image, &o.plan)?;
     Ok(Output::report(
         o.format,
@@ -493,6 +541,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             read_matrix(p)?
         }
         None => {
+            require_releases(&inputs, &o.inputs, "review")?;
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.
             let mut next_rank = inputs.priorities.entries.len();
@@ -560,6 +609,7 @@ pub struct SystemCommand {
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing.
 pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
+    require_releases(&inputs, &o.inputs, "syslibs")?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
     let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
@@ -756,6 +806,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 )
                 .into());
             }
+            require_releases(&inputs, &o.inputs, "render")?;
             plan::plan(&inputs, &o.plan)
         }
     };

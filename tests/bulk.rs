@@ -435,11 +435,6 @@ fn schema_errors_name_file_and_line() {
             "versions.csv:2: `yanked`: expected true or false, found `maybe`",
         ),
         (
-            "package,version,prebuilt\npkg-a,1.0.0,linux/x86_64\n".into(),
-            ok_deps.into(),
-            "versions.csv:2: `linux/x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
-        ),
-        (
             "package,version\n,1.0.0\n".into(),
             ok_deps.into(),
             "versions.csv:2: `package` is empty",
@@ -465,6 +460,82 @@ fn schema_errors_name_file_and_line() {
             .err()
             .unwrap_or_else(|| panic!("no error for {want}"));
         assert_eq!(err.to_string(), want);
+    }
+}
+
+/// A `prebuilt` platform not of the form os/libc/arch leaves out its version record alone,
+/// with its dependencies, in both formats with the same kind and wording; the rest of the
+/// file is used. It used to make the whole file unusable.
+#[test]
+fn unreadable_platform_leaves_out_its_version_alone_in_both_formats() {
+    let yaml = "packages:
+  - name: pkg-a
+    versions:
+      - {version: 1.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}
+      - version: 1.1.0
+        depends: [{name: pkg-b, req: ^2}]
+        builds:
+          source: true
+          prebuilt:
+            - linux/musl/x86_64
+            - linux/x86_64
+  - name: pkg-b
+    versions:
+      - {version: 2.0.0, builds: {prebuilt: [linux/glibc/aarch64]}}
+";
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("r.yaml");
+    std::fs::write(&path, yaml).unwrap();
+    let mut builder = RegistryBuilder::new();
+    read_yaml(&path, &mut builder).unwrap();
+    let (yaml_registry, yaml_ledger) = builder.finish();
+    let versions = format!(
+        "{V_HEAD}pkg-a,1.0.0,,,,,linux/glibc/x86_64,,,,\n\
+         pkg-a,1.1.0,,,,true,linux/musl/x86_64;linux/x86_64,,,,\n\
+         pkg-b,2.0.0,,,,,linux/glibc/aarch64,,,,\n"
+    );
+    let deps = format!("{D_HEAD}pkg-a,1.1.0,pkg-b,^2,\n");
+    let (bulk_registry, bulk_ledger) = load(&versions, &deps).unwrap();
+
+    let want = "prebuilt platform `linux/x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64";
+    for (ledger, at) in [
+        (&yaml_ledger, "r.yaml:11"),
+        (&bulk_ledger, "versions.csv:3"),
+    ] {
+        let found: Vec<_> = ledger
+            .problems
+            .iter()
+            .map(|p| (p.kind, p.subject.as_str(), p.detail.as_str(), p.left_out))
+            .collect();
+        assert_eq!(
+            found,
+            [(ProblemKind::BadValue, "pkg-a@1.1.0", want, true)],
+            "{at}"
+        );
+        let origin = &ledger.problems[0].origin;
+        assert!(
+            format!("{}:{}", origin.file, origin.line).ends_with(at),
+            "{origin} is not {at}"
+        );
+        assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+        assert_eq!(tally(ledger, RecordKind::Version), (3, 2, 1));
+        assert_eq!(tally(ledger, RecordKind::Dependency), (1, 0, 1));
+    }
+    assert_eq!(problem_view(&bulk_ledger), problem_view(&yaml_ledger));
+    for registry in [&yaml_registry, &bulk_registry] {
+        let kept: Vec<String> = registry
+            .packages
+            .iter()
+            .flat_map(|p| {
+                p.releases
+                    .iter()
+                    .map(move |r| format!("{}@{}", p.name, r.version))
+            })
+            .collect();
+        assert_eq!(kept, ["pkg-a@1.0.0", "pkg-b@2.0.0"]);
+        // The readable platform beside the bad one is not taken in either.
+        let platforms: Vec<String> = registry.platforms.iter().map(|p| p.to_string()).collect();
+        assert_eq!(platforms, ["linux/glibc/x86_64", "linux/glibc/aarch64"]);
     }
 }
 

@@ -212,6 +212,71 @@ fn image_with_unknown_base_is_reported_not_dropped() {
     assert_eq!(nums, ["4", "1", "3"], "{line}");
 }
 
+/// An image runtime that is not strict semver is listed by `check` as a registry version read
+/// the same way is (text and JSON), at the line it is written on and only there: an image
+/// that extends it inherits the version read.
+#[test]
+fn normalised_image_runtime_is_listed_where_written() {
+    let d = dir();
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - id: base\n",
+            "    family: debian\n",
+            "    platform: linux/glibc/x86_64\n",
+            "    runtime: \"3.1\"\n",
+            "  - {id: slim, extends: base}\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = check_with(d.path(), &[("--images", &img)]);
+    assert_eq!(code, 1, "a note is a problem found; stderr: {stderr}");
+    assert!(
+        stdout.contains("versions normalised to semver (normalised-version): 1"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains(
+            "images.yaml:5  base: runtime `3.1` read as 3.1.0 (missing components filled with 0)"
+        ),
+        "{stdout}"
+    );
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("image records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["2", "2", "0"], "both used: {line}");
+
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--format".as_ref(),
+        "json".as_ref(),
+        "--images".as_ref(),
+        img.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    let groups = v["problems"].as_array().unwrap();
+    assert_eq!(groups.len(), 1, "{stdout}");
+    assert_eq!(groups[0]["kind"], "normalised-version");
+    assert_eq!(groups[0]["left_out"], 0);
+    let items = groups[0]["items"].as_array().unwrap();
+    assert_eq!(items.len(), 1, "{stdout}");
+    assert_eq!(items[0]["subject"], "base");
+    assert_eq!(items[0]["origin"]["line"], 5);
+    assert!(
+        items[0]["origin"]["file"]
+            .as_str()
+            .unwrap()
+            .ends_with("images.yaml"),
+        "{stdout}"
+    );
+    assert_eq!(items[0]["left_out"], false);
+}
+
 #[test]
 fn results_malformed_inputs() {
     let d = dir();
@@ -643,6 +708,49 @@ fn version_record_field_problems_name_the_line_of_the_value() {
     ] {
         assert!(stdout.contains(want), "wanted {want} in {stdout}");
     }
+}
+
+/// A prebuilt platform that cannot be read leaves out its version alone, named at the line of
+/// the platform, and the rest of the registry is used; it used to make the whole file
+/// unusable (exit 2).
+#[test]
+fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - {version: 1.0.0}\n",
+            "      - version: 1.1.0\n",
+            "        builds:\n",
+            "          prebuilt:\n",
+            "            - linux/glibc/x86_64\n",
+            "            - linux-x86_64\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    assert!(
+        stdout.contains(
+            "registry.yaml:9  fernwood@1.1.0: prebuilt platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64"
+        ),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("records with an unusable value (left out) (bad-value): 1"),
+        "{stdout}"
+    );
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("version records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["2", "1", "1"], "{line}");
 }
 
 /// An unknown dependency `kind` is refused at the line of the kind, not of the entry.

@@ -317,6 +317,127 @@ fn render_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     }
 }
 
+/// A registry whose every version record is left out (unreadable versions) is named, with its
+/// counts, by every command that would plan, explain or read results against it: every cell
+/// would fail for want of versions the file has, and results would be set against those
+/// failures (or left out, with the results file blamed). `check` still lists why.
+#[test]
+fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = dir.path().join("registry.yaml");
+    std::fs::write(
+        &registry,
+        "packages:\n  - name: fernwood\n    versions:\n      - {version: nightly}\n      - {version: latest}\n",
+    )
+    .unwrap();
+    let results = dir.path().join("results.yaml");
+    std::fs::write(
+        &results,
+        "results:\n  - {package: fernwood, image: deb-3.2, outcome: installed}\n",
+    )
+    .unwrap();
+    let (registry, results) = (registry.to_str().unwrap(), results.to_str().unwrap());
+    let inputs = [
+        "--quiet",
+        "--registry",
+        registry,
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+    ];
+    let runs: [(&str, &[&str]); 7] = [
+        ("plan", &[]),
+        ("imageplan", &[]),
+        ("syslibs", &[]),
+        ("explain", &["fernwood", "deb-3.2"]),
+        ("review", &["--results", results]),
+        ("render", &[]),
+        ("render", &["--results", results]),
+    ];
+    for (command, rest) in runs {
+        let mut args = vec![command];
+        args.extend(rest);
+        args.extend(inputs);
+        let (code, stdout, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{command} {rest:?}: {stderr}");
+        assert!(stdout.is_empty(), "{command} {rest:?}: {stdout}");
+        assert!(
+            stderr.contains(&format!(
+                "{registry}: {command} needs at least one version record: of 2 read, 2 were left out (`basefit check` lists why)"
+            )),
+            "{command} {rest:?}: {stderr}"
+        );
+    }
+    // `check` lists the problems rather than refusing the registry.
+    let mut args = vec!["check"];
+    args.extend(inputs);
+    let (code, stdout, stderr) = run_basefit(&args);
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        "registry.yaml:4  fernwood@nightly: does not start with a number",
+        "registry.yaml:5  fernwood@latest: does not start with a number",
+        "registry.yaml:2  fernwood: no usable version record",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+
+    // The bulk pair is named by its versions file.
+    let versions = dir.path().join("versions.csv");
+    std::fs::write(&versions, "package,version\nfernwood,nightly\n").unwrap();
+    let deps = dir.path().join("dependencies.csv");
+    std::fs::write(&deps, "package,version,dependency\n").unwrap();
+    let (versions, deps) = (versions.to_str().unwrap(), deps.to_str().unwrap());
+    let mut args = vec!["plan", "--bulk", versions, deps];
+    args.extend(&inputs[3..]);
+    let (code, _, stderr) = run_basefit(&args);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{versions}: plan needs at least one version record: of 1 read, 1 were left out"
+        )),
+        "{stderr}"
+    );
+}
+
+/// Against a matrix from an earlier plan, recorded results are read against the registry
+/// given; one with no usable release is named, rather than the results file being blamed for
+/// results left out against it.
+#[test]
+fn results_against_a_matrix_name_a_registry_with_no_usable_release() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    let registry = dir.path().join("registry.yaml");
+    std::fs::write(
+        &registry,
+        "packages:\n  - name: fernwood\n    versions:\n      - {version: nightly}\n",
+    )
+    .unwrap();
+    let registry = registry.to_str().unwrap();
+    for command in ["review", "render"] {
+        let (code, stdout, stderr) = run_basefit([
+            command,
+            "--quiet",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--registry",
+            registry,
+        ]);
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(stdout.is_empty(), "{command}: {stdout}");
+        assert!(
+            stderr.contains(&format!(
+                "{registry}: {command} --matrix with --results needs at least one version record from here to read recorded results against; of 1 read, 1 were left out (`basefit check` lists why)"
+            )),
+            "{command}: {stderr}"
+        );
+    }
+}
+
 #[test]
 fn render_refuses_results_it_cannot_compare_and_notes_left_out_ones() {
     let dir = tempfile::tempdir().unwrap();

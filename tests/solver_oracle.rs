@@ -24,7 +24,7 @@ use basefit::load::RegistryBuilder;
 use basefit::load::diag::At;
 use basefit::load::images::read_images_str;
 use basefit::load::registry::{RawDep, RawRelease};
-use basefit::model::{DepKind, Platform, Registry, Requirement};
+use basefit::model::{DepKind, Registry, Requirement};
 use basefit::solve::{
     BuildKind, DEFAULT_BUDGET, ImageView, RootSpec, SetCache, Solved, solve_cell,
 };
@@ -298,7 +298,7 @@ impl Spec {
                     .collect();
                 let (source_build, prebuilt) = match &r.builds {
                     None => (true, Vec::new()),
-                    Some((s, pb)) => (*s, pb.iter().map(|t| Platform::parse(t).unwrap()).collect()),
+                    Some((s, pb)) => (*s, pb.iter().map(|t| At::new(*t, line + 1)).collect()),
                 };
                 b.add_release(
                     id,

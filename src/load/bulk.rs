@@ -8,11 +8,9 @@
 //! read, and each version then gets its own, or is dropped for an unreadable requirement.
 
 use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, VersionFields};
+use super::registry::{BadDependency, RegistryBuilder, VersionFields, read_platforms};
 use super::table::{RowRef, Table};
-use crate::model::{
-    Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId,
-};
+use crate::model::{Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId};
 use hashbrown::HashTable;
 use rustc_hash::{FxHashMap, FxHasher};
 use std::hash::Hasher;
@@ -49,8 +47,8 @@ pub const LIST_SEPARATOR: char = ';';
 /// Reads a registry dump in the bulk format: the versions file, then the dependencies file.
 ///
 /// Schema errors (an unknown or missing column, a row with the wrong number of fields, a
-/// cell that is not UTF-8, an unreadable platform or true/false cell, an empty package or
-/// dependency name, an unknown dependency kind) make the input unusable and come back as
+/// cell that is not UTF-8, an unreadable true/false cell, an empty package or dependency
+/// name, an unknown dependency kind) make the input unusable and come back as
 /// [`BadInput`] naming file and line, up to 20 of them. Data problems go to the ledger.
 ///
 /// ```
@@ -473,11 +471,12 @@ impl Load {
         let files = row.text(cols.native_files);
         let summary = row.text(cols.summary);
         let native_helper = row.flag(file, cols.native_helper, "native_helper")?;
-        let prebuilt = match prebuilt_text {
-            None => Box::default(),
-            Some(text) => self
-                .platforms(text)
-                .map_err(|e| BadInput::at(file, line, e))?,
+        let (prebuilt, unreadable_platform) = match prebuilt_text {
+            None => (Box::default(), None),
+            Some(text) => match self.platforms(text, line) {
+                Ok(ids) => (ids, None),
+                Err(why) => (Box::default(), Some(why)),
+            },
         };
         // No build columns filled means nothing is said about builds: source only, as a YAML
         // record without `builds`.
@@ -505,6 +504,7 @@ impl Load {
             released: released.map(|t| At::new(t, line)),
             runtime: runtime.map(|t| At::new(t, line)),
             build: Build { source, prebuilt },
+            unreadable_platform,
             native,
             yanked,
         };
@@ -587,19 +587,17 @@ impl Load {
         }
     }
 
-    fn platforms(&mut self, text: &str) -> Result<Box<[PlatformId]>, String> {
+    /// The platforms of a `prebuilt` cell on `line`, or why the first unreadable one cannot be
+    /// read (the version is then left out, as in YAML).
+    fn platforms(&mut self, text: &str, line: usize) -> Result<Box<[PlatformId]>, At<String>> {
         if let Some(ids) = self.platform_lists.get(text) {
             return Ok(ids.clone());
         }
+        let items = text.split(LIST_SEPARATOR).map(str::trim);
+        let written = items.filter(|i| !i.is_empty()).map(|i| At::new(i, line));
         let mut ids = Vec::new();
-        for item in text.split(LIST_SEPARATOR).map(str::trim) {
-            if item.is_empty() {
-                continue;
-            }
-            let id = self
-                .builder
-                .registry
-                .intern_platform(Platform::parse(item)?);
+        for platform in read_platforms(written)? {
+            let id = self.builder.registry.intern_platform(platform);
             if !ids.contains(&id) {
                 ids.push(id);
             }

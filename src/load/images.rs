@@ -93,6 +93,18 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
     let mut on_path = vec![false; unique.len()];
     let mut images = Vec::new();
     for i in 0..unique.len() {
+        // Noted where the runtime is written, whatever becomes of the image, as a registry
+        // version is: an image that extends it inherits the version read, not the text.
+        if let Some(written) = &unique[i].runtime
+            && let VersionRead::Normalised(v, how) = read_version(&written.value)
+        {
+            ledger.note(
+                ProblemKind::NormalisedVersion,
+                origin(written.line),
+                &unique[i].id,
+                format!("runtime `{}` read as {v} ({how})", written.value),
+            );
+        }
         let result = resolve(i, &unique, &by_id, &mut resolved, &mut on_path, file);
         match result {
             Ok(image) => {
@@ -476,6 +488,101 @@ mod tests {
             "{:?}",
             ledger.problems
         );
+    }
+
+    /// A runtime read leniently is noted at the line it is written on, as a registry version
+    /// is: once, not again for each image that inherits it, and also when the image is left
+    /// out for another reason.
+    #[test]
+    fn normalised_runtimes_are_noted_where_written() {
+        let text = concat!(
+            "images:\n",
+            "  - id: base\n",
+            "    family: debian\n",
+            "    runtime: \"3.1\"\n",
+            "    platform: linux/glibc/x86_64\n",
+            "  - id: child\n",
+            "    extends: base\n",
+            "  - id: grandchild\n",
+            "    extends: child\n",
+            "  - id: own\n",
+            "    extends: base\n",
+            "    runtime: v3.2.0\n",
+            "  - id: broken\n",
+            "    runtime: \"3\"\n",
+            "    extends: base\n",
+            "    remove: [curl]\n",
+            "  - id: strict\n",
+            "    extends: base\n",
+            "    runtime: 3.3.0\n",
+        );
+        let mut ledger = Ledger::default();
+        let images = read_images_str("img.yaml", text, &mut ledger).unwrap();
+        let runtimes: Vec<String> = images
+            .images
+            .iter()
+            .map(|i| format!("{} {}", i.id, i.runtime))
+            .collect();
+        assert_eq!(
+            runtimes,
+            [
+                "base 3.1.0",
+                "child 3.1.0",
+                "grandchild 3.1.0",
+                "own 3.2.0",
+                "strict 3.3.0"
+            ]
+        );
+        ledger.sort();
+        let found: Vec<(String, &str, ProblemKind, &str, bool)> = ledger
+            .problems
+            .iter()
+            .map(|p| {
+                let at = p.origin.to_string();
+                (
+                    at,
+                    p.subject.as_str(),
+                    p.kind,
+                    p.detail.as_str(),
+                    p.left_out,
+                )
+            })
+            .collect();
+        let normalised = ProblemKind::NormalisedVersion;
+        assert_eq!(
+            found,
+            [
+                (
+                    "img.yaml:4".to_string(),
+                    "base",
+                    normalised,
+                    "runtime `3.1` read as 3.1.0 (missing components filled with 0)",
+                    false
+                ),
+                (
+                    "img.yaml:12".to_string(),
+                    "own",
+                    normalised,
+                    "runtime `v3.2.0` read as 3.2.0 (leading `v` removed)",
+                    false
+                ),
+                (
+                    "img.yaml:14".to_string(),
+                    "broken",
+                    normalised,
+                    "runtime `3` read as 3.0.0 (missing components filled with 0)",
+                    false
+                ),
+                (
+                    "img.yaml:16".to_string(),
+                    "broken",
+                    ProblemKind::BadImage,
+                    "removes `curl`, which it does not have",
+                    true
+                ),
+            ]
+        );
+        assert!(ledger.unbalanced().is_empty());
     }
 
     #[test]

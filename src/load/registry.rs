@@ -68,7 +68,9 @@ pub struct RawRelease<'a> {
     pub runtime: Option<At<&'a str>>,
     pub deps: Vec<RawDep<'a>>,
     pub source_build: bool,
-    pub prebuilt: Vec<Platform>,
+    /// Platforms with a prebuilt build, as written: one that cannot be read leaves the
+    /// version out (see [`VersionFields::unreadable_platform`]).
+    pub prebuilt: Vec<At<&'a str>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
 }
@@ -93,8 +95,24 @@ pub struct VersionFields<'a> {
     /// Requirement on the runtime version, as written.
     pub runtime: Option<At<&'a str>>,
     pub build: Build,
+    /// The first `prebuilt` platform that cannot be read, as why (from [`Platform::parse`])
+    /// at its line; `build` then lists none. It leaves the version out, as an unreadable
+    /// runtime requirement does: the rest of the file is still usable.
+    pub unreadable_platform: Option<At<String>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
+}
+
+/// Reads the platforms of a `prebuilt` list, or says why the first unreadable one cannot be
+/// read, at its line. All are read before any is interned, so a version left out for one
+/// adds no platform to the registry, in whichever format it was written.
+pub fn read_platforms<'t>(
+    written: impl IntoIterator<Item = At<&'t str>>,
+) -> Result<Vec<Platform>, At<String>> {
+    written
+        .into_iter()
+        .map(|p| Platform::parse(p.value).map_err(|why| At::new(why, p.line)))
+        .collect()
 }
 
 /// A version record whose own fields passed their checks, waiting for its dependencies.
@@ -191,11 +209,16 @@ impl RegistryBuilder {
     ) {
         let dep_count = raw.deps.len() as u64;
         self.ledger.read_many(RecordKind::Dependency, dep_count);
-        let prebuilt: Box<[_]> = raw
-            .prebuilt
-            .into_iter()
-            .map(|p| self.registry.intern_platform(p))
-            .collect();
+        let (prebuilt, unreadable_platform) = match read_platforms(raw.prebuilt) {
+            Ok(platforms) => (
+                platforms
+                    .into_iter()
+                    .map(|p| self.registry.intern_platform(p))
+                    .collect(),
+                None,
+            ),
+            Err(why) => (Box::default(), Some(why)),
+        };
         let fields = VersionFields {
             version: raw.version,
             released: raw.released,
@@ -204,6 +227,7 @@ impl RegistryBuilder {
                 source: raw.source_build,
                 prebuilt,
             },
+            unreadable_platform,
             native: raw.native,
             yanked: raw.yanked,
         };
@@ -321,6 +345,16 @@ impl RegistryBuilder {
                 }
             },
         };
+        if let Some(At { value: why, line }) = fields.unreadable_platform {
+            self.ledger.leave_out(
+                RecordKind::Version,
+                ProblemKind::BadValue,
+                origin(line),
+                subject(&self.registry),
+                format!("prebuilt platform {why}"),
+            );
+            return None;
+        }
         Some(StagedRelease {
             package,
             release: Release {
@@ -701,8 +735,7 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
             let source = bm.opt_bool("source")?.unwrap_or(false);
             let mut platforms = Vec::new();
             for p in bm.seq("prebuilt")? {
-                let text = ctx.str(p, "builds `prebuilt`")?;
-                platforms.push(Platform::parse(text).map_err(|e| ctx.err(p, e))?);
+                platforms.push(At::new(ctx.str(p, "builds `prebuilt`")?, p.line));
             }
             (source, platforms)
         }
