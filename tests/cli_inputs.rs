@@ -647,6 +647,39 @@ fn priority_weights_that_add_up_past_the_largest_number_are_refused() {
     );
 }
 
+/// A weight written `-0` is zero, in YAML as in CSV: kept with its sign, it reached the
+/// matrix as `"weight": -0.0` and the page as `w -0`.
+#[test]
+fn a_priority_weight_written_minus_zero_is_zero() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    for (name, text) in [
+        (
+            "zero.yaml",
+            "priorities:\n  - {name: fernwood, weight: -0}\n",
+        ),
+        ("zero.csv", "name,weight\nfernwood,-0.0\n"),
+    ] {
+        let pri = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = common::run_basefit([
+            "render".as_ref(),
+            "--quiet".as_ref(),
+            "--format".as_ref(),
+            "json".as_ref(),
+            "--registry".as_ref(),
+            reg.as_os_str(),
+            "--images".as_ref(),
+            img.as_os_str(),
+            "--priorities".as_ref(),
+            pri.as_os_str(),
+        ]);
+        assert_eq!(code, 0, "{name}: {stderr}");
+        assert!(stdout.contains("\"weight\": 0.0"), "{name}: {stdout}");
+        assert!(!stdout.contains("-0"), "{name}: {stdout}");
+    }
+}
+
 /// Each image extends the next one declared, so the first image's chain is the whole file.
 /// Resolving bases recursively overflowed the stack at 10,000 images (about 5,000 in a debug
 /// build), and its cycle check scanned the path at every step.

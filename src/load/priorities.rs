@@ -212,7 +212,9 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
                 }
             },
         };
-        let weight = e.weight.map_or(1.0, |w| w.value);
+        // A weight written `-0` is zero; adding zero drops the sign, which every document
+        // that carries the weight would print.
+        let weight = e.weight.map_or(1.0, |w| w.value + 0.0);
         total += weight;
         if !total.is_finite() {
             // Every share of the weight is divided by the total: past the largest f64 the
