@@ -650,6 +650,8 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
             format!("--target {} must be between 0 and 1", o.target),
         ));
     }
+    // `--target=-0` is zero; adding zero drops the sign the documents would print.
+    let target = o.target + 0.0;
     let mut selected = Vec::new();
     for id in &o.images {
         match inputs.images.get(id) {
@@ -684,7 +686,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
     }
     let coverage = plan::coverage::default_bases(&selected)
         .into_iter()
-        .map(|base| plan::coverage::coverage(inputs, base, &runtimes, o.target, &o.plan, &sets))
+        .map(|base| plan::coverage::coverage(inputs, base, &runtimes, target, &o.plan, &sets))
         .collect();
     // The system report walks every image of its inputs, so it gets inputs narrowed to the
     // selection rather than a filtered copy of a full report.
@@ -702,7 +704,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
         .collect();
     Ok(ImagePlan {
         notice: plan::matrix::NOTICE.to_string(),
-        target: o.target,
+        target,
         coverage,
         system,
         preinstall,

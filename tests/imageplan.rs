@@ -442,3 +442,60 @@ fn coverage_counts_its_cells_into_the_progress_bar() {
     }
     assert_eq!((bar.position(), bar.length()), (24, Some(24)));
 }
+
+/// A runtime at which nothing resolves has a share of zero, and every rendering says `0.0`:
+/// the weight that resolves is a sum of no weights, which in f64 is negative zero and used to
+/// print as `-0.0%` in the table and the chart and `-0.0` in the YAML and JSON.
+#[test]
+fn a_runtime_where_nothing_resolves_prints_zero_not_negative_zero() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |n: &str| dir.path().join(n);
+    std::fs::write(
+        path("r.yaml"),
+        "packages:\n- name: anchor\n  versions:\n  - {version: 1.0.0, runtime: '>=9'}\n",
+    )
+    .unwrap();
+    std::fs::write(path("i.yaml"), ONE_IMAGE).unwrap();
+    std::fs::write(path("p.yaml"), "priorities:\n- {name: anchor, weight: 2}\n").unwrap();
+    let o = basefit::commands::ImageplanCommand {
+        inputs: basefit::load::InputPaths {
+            registry: vec![path("r.yaml")],
+            images: Some(path("i.yaml")),
+            priorities: Some(path("p.yaml")),
+            ..Default::default()
+        },
+        strict: false,
+        plan: PlanOptions::default(),
+        images: Vec::new(),
+        runtimes: Vec::new(),
+        // `--target=-0` is zero too.
+        target: -0.0,
+        out: Some(path("out")),
+        format: basefit::report::Format::Table,
+    };
+    let text = basefit::commands::imageplan(&o).unwrap().stdout;
+    assert!(text.contains("3.1.0    0.0%"), "{text}");
+    assert!(text.contains("target 0.0%"), "{text}");
+    let json = basefit::commands::imageplan(&basefit::commands::ImageplanCommand {
+        format: basefit::report::Format::Json,
+        out: None,
+        ..o
+    })
+    .unwrap()
+    .stdout;
+    let yaml = std::fs::read_to_string(path("out/imageplan.yaml")).unwrap();
+    let svg = std::fs::read_to_string(path("out/coverage.svg")).unwrap();
+    assert!(svg.contains("<title>3.1.0: 0.0%</title>"), "{svg}");
+    assert!(yaml.contains("share: 0.0"), "{yaml}");
+    for (name, doc) in [
+        ("text", &text),
+        ("JSON", &json),
+        ("YAML", &yaml),
+        ("SVG", &svg),
+    ] {
+        assert!(
+            !doc.contains("-0.0") && !doc.contains("-0%"),
+            "{name}: {doc}"
+        );
+    }
+}

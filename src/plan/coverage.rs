@@ -4,6 +4,7 @@
 use super::matrix::{PlanOptions, plan_cell};
 use crate::load::Inputs;
 use crate::model::Image;
+use crate::report::percent;
 use crate::solve::{ImageView, SetCache};
 use rayon::prelude::*;
 use semver::Version;
@@ -121,12 +122,13 @@ pub fn coverage(
         .enumerate()
         .map(|(r, v)| {
             let row = &resolved[r * n..(r + 1) * n];
-            let weight: f64 = entries
+            // A fold from zero, not `sum`: a sum of nothing is negative zero, which the
+            // YAML and JSON documents would print as `-0.0` when nothing resolves.
+            let weight = entries
                 .iter()
                 .zip(row)
                 .filter(|(_, ok)| **ok)
-                .map(|(e, _)| e.weight)
-                .sum();
+                .fold(0.0, |sum, (e, _)| sum + e.weight);
             CoveragePoint {
                 runtime: v.to_string(),
                 // An all-zero weight list covers nothing rather than dividing by zero.
@@ -182,11 +184,11 @@ pub fn coverage_text(c: &Coverage) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "Runtime coverage of {} ({}, {}), target {:.1}%",
+        "Runtime coverage of {} ({}, {}), target {}",
         c.base_image,
         c.family,
         c.platform,
-        c.target * 100.0
+        percent(c.target, 1)
     );
     let mut rows = vec![vec![
         "runtime".to_string(),
@@ -202,7 +204,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         };
         rows.push(vec![
             p.runtime.clone(),
-            format!("{:.1}%", p.share * 100.0),
+            percent(p.share, 1),
             list(step.map(|s| &s.drop_out)),
             list(step.map(|s| &s.come_in)),
         ]);
@@ -294,10 +296,10 @@ pub fn coverage_svg(c: &Coverage) -> String {
     );
     let _ = writeln!(
         s,
-        "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {:.1}%</text>",
+        "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {}</text>",
         L + pw,
         ty - 4.0,
-        c.target * 100.0
+        percent(c.target, 1)
     );
     if n > 1 {
         let pts: Vec<String> = c
@@ -315,11 +317,11 @@ pub fn coverage_svg(c: &Coverage) -> String {
     for (i, p) in c.points.iter().enumerate() {
         let _ = writeln!(
             s,
-            "<circle class=\"point\" cx=\"{:.1}\" cy=\"{:.1}\" r=\"4\" fill=\"#0072B2\"><title>{}: {:.1}%</title></circle>",
+            "<circle class=\"point\" cx=\"{:.1}\" cy=\"{:.1}\" r=\"4\" fill=\"#0072B2\"><title>{}: {}</title></circle>",
             x(i),
             y(p.share),
             crate::report::html::escape_html(&p.runtime),
-            p.share * 100.0
+            percent(p.share, 1)
         );
         let _ = writeln!(
             s,

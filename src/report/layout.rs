@@ -262,10 +262,7 @@ fn is_bidi_control(ch: char) -> bool {
 
 /// A share as a whole percentage, the same on every machine.
 pub(crate) fn percent(share: f64) -> String {
-    if !share.is_finite() {
-        return "n/a".to_string();
-    }
-    format!("{:.0}%", (share * 100.0).clamp(0.0, 100.0))
+    super::percent(share.clamp(0.0, 1.0), 0)
 }
 
 #[cfg(test)]

@@ -35,6 +35,21 @@ pub enum MatrixFormat {
     Yaml,
 }
 
+/// A share (0 to 1) as a percentage with `decimals` places, or `n/a` when it is no number:
+/// every share any command prints goes through here. Zero prints as `0.0%`, never `-0.0%`:
+/// a sum of no f64 values is negative zero (`Iterator::sum` starts there), and a share that
+/// rounds to zero from below is none either.
+pub fn percent(share: f64, decimals: usize) -> String {
+    if !share.is_finite() {
+        return "n/a".to_string();
+    }
+    let text = format!("{:.*}", decimals, share * 100.0);
+    match text.strip_prefix('-') {
+        Some(digits) if digits.bytes().all(|b| b == b'0' || b == b'.') => format!("{digits}%"),
+        _ => format!("{text}%"),
+    }
+}
+
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an
 /// interrupted run never leaves half a file behind.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
@@ -142,5 +157,21 @@ mod tests {
             1,
             "no temporary file left"
         );
+    }
+
+    #[test]
+    fn zero_and_shares_that_round_to_zero_print_without_a_sign() {
+        let empty: f64 = std::iter::empty::<f64>().sum();
+        assert!(
+            empty.is_sign_negative(),
+            "a sum of nothing is negative zero"
+        );
+        assert_eq!(percent(empty, 1), "0.0%");
+        assert_eq!(percent(-0.0, 0), "0%");
+        assert_eq!(percent(-1e-9, 1), "0.0%");
+        assert_eq!(percent(0.0, 1), "0.0%");
+        assert_eq!(percent(0.125, 1), "12.5%");
+        assert_eq!(percent(1.0, 0), "100%");
+        assert_eq!(percent(f64::NAN, 1), "n/a");
     }
 }

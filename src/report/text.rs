@@ -153,7 +153,7 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
             i.at_risk.to_string(),
             i.fails.to_string(),
             i.undecided.to_string(),
-            format!("{:.1}%", i.weight_share * 100.0),
+            super::percent(i.weight_share, 1),
         ]);
     }
     out.push_str(&table(&rows));
@@ -187,12 +187,12 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
         for b in blockers {
             let _ = writeln!(
                 out,
-                "  {}: {} blocks {} of the {} entries ({:.1}% of the weight): {}",
+                "  {}: {} blocks {} of the {} entries ({} of the weight): {}",
                 b.image,
                 b.package,
                 b.blocks.len(),
                 n_entries,
-                b.blocked_share * 100.0,
+                super::percent(b.blocked_share, 1),
                 shown_reasons(&b.reasons)
             );
         }
@@ -530,10 +530,7 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         "installs or at-risk    {:<7} {}",
         c.missed_failures, c.true_installs
     );
-    let pct = |v: Option<f64>| {
-        v.map(|v| format!("{:.1}%", v * 100.0))
-            .unwrap_or_else(|| "n/a".into())
-    };
+    let pct = |v: Option<f64>| v.map_or_else(|| "n/a".into(), |v| super::percent(v, 1));
     let _ = writeln!(
         out,
         "failure predictions: precision {}, recall {}",
