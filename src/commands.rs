@@ -146,10 +146,21 @@ fn registry_left_nothing(
     Some((files.join(", "), noun, inputs.ledger.tally(kind)))
 }
 
-/// Refuses a registry that was given but has no usable release. Every cell would fail for
-/// want of versions the file does have, written in a way basefit cannot read, and recorded
-/// results would be set against those failures: the registry file is what to fix.
+/// Refuses a run that would plan without a registry, or from one that was given but has no
+/// usable release. Without one every cell would be planned as missing from the registry, a
+/// matrix of nothing but failures that reads like a finding. A registry with no usable
+/// release would fail every cell for want of versions the file does have, written in a way
+/// basefit cannot read, and recorded results would be set against those failures: the
+/// registry file is what to fix.
 fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Result<(), BadInput> {
+    if registry_files(paths).is_empty() {
+        return Err(BadInput::file(
+            "command line",
+            format!(
+                "{command} needs a registry to plan from: --registry FILE or --bulk VERSIONS_CSV DEPS_CSV (neither given)"
+            ),
+        ));
+    }
     match registry_left_nothing(inputs, paths) {
         None => Ok(()),
         Some((files, noun, tally)) => Err(BadInput::file(

@@ -400,6 +400,54 @@ fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() 
     );
 }
 
+/// Without any registry every cell would be planned as missing from it: each command that
+/// plans refuses, naming both ways of giving one. `check` still checks the images and
+/// priorities alone.
+#[test]
+fn every_command_that_plans_refuses_to_run_without_a_registry() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = dir.path().join("results.yaml");
+    std::fs::write(
+        &results,
+        "results:\n  - {package: tidewater-http, image: deb-3.2, outcome: installed}\n",
+    )
+    .unwrap();
+    let results = results.to_str().unwrap();
+    let inputs = [
+        "--quiet",
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+    ];
+    let runs: [(&str, &[&str]); 7] = [
+        ("plan", &[]),
+        ("imageplan", &[]),
+        ("syslibs", &[]),
+        ("explain", &["tidewater-http", "deb-3.2"]),
+        ("review", &["--results", results]),
+        ("render", &[]),
+        ("render", &["--results", results]),
+    ];
+    for (command, rest) in runs {
+        let mut args = vec![command];
+        args.extend(rest);
+        args.extend(inputs);
+        let (code, stdout, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{command} {rest:?}: {stderr}");
+        assert!(stdout.is_empty(), "{command} {rest:?}: {stdout}");
+        assert!(
+            stderr.contains(&format!(
+                "command line: {command} needs a registry to plan from: --registry FILE or --bulk VERSIONS_CSV DEPS_CSV (neither given)"
+            )),
+            "{command} {rest:?}: {stderr}"
+        );
+    }
+    let (code, stdout, stderr) = run_basefit(["check", "--images", "matrices/demo-images.yaml"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stdout.contains("no problems found"), "{stdout}");
+}
+
 /// Against a matrix from an earlier plan, recorded results are read against the registry
 /// given; one with no usable release is named, rather than the results file being blamed for
 /// results left out against it.
