@@ -620,7 +620,7 @@ pub struct SystemCommand {
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing.
 pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_releases(&inputs, &o.inputs, "syslibs")?;
+    require_matrix_inputs(&inputs, &o.inputs, "syslibs")?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
     let any_missing = r.images.iter().any(|i| !i.missing.is_empty());

@@ -205,6 +205,76 @@ fn a_plan_left_with_no_image_names_the_images_file() {
     );
 }
 
+/// Every command that plans a matrix (`plan`, `imageplan`, `syslibs`) refuses one with no
+/// image or no priority entry the same way: a flag not given names the flag, a file that left
+/// nothing names the file with its counts. `syslibs` used to plan an empty matrix and report
+/// nothing missing.
+#[test]
+fn commands_that_plan_a_matrix_need_images_and_priorities() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = dir.path().join("images.yaml");
+    std::fs::write(
+        &images,
+        "images:\n- {id: odd, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    let priorities = dir.path().join("priorities.yaml");
+    std::fs::write(&priorities, "priorities:\n- {name: fernwood, weight: -1}\n").unwrap();
+    let (images, priorities) = (images.to_str().unwrap(), priorities.to_str().unwrap());
+    let registry = ["--registry", "demo-data/registry.yaml"];
+    let demo_images = ["--images", "matrices/demo-images.yaml"];
+    let demo_priorities = ["--priorities", "demo-data/priorities.yaml"];
+    for command in ["plan", "imageplan", "syslibs"] {
+        let cases: [(Vec<&str>, String); 4] = [
+            (
+                [&registry[..], &demo_priorities[..]].concat(),
+                format!(
+                    "command line: {command} needs --images and --priorities with at least one entry each (no --images given)"
+                ),
+            ),
+            (
+                [&registry[..], &demo_images[..]].concat(),
+                format!(
+                    "command line: {command} needs --images and --priorities with at least one entry each (no --priorities given)"
+                ),
+            ),
+            (
+                [
+                    &registry[..],
+                    &["--images", images][..],
+                    &demo_priorities[..],
+                ]
+                .concat(),
+                format!(
+                    "{images}: {command} needs at least one image: of 1 read, 1 were left out (`basefit check` lists why)"
+                ),
+            ),
+            (
+                [
+                    &registry[..],
+                    &demo_images[..],
+                    &["--priorities", priorities][..],
+                ]
+                .concat(),
+                format!(
+                    "{priorities}: {command} needs at least one priority entry: of 1 read, 1 were left out (`basefit check` lists why)"
+                ),
+            ),
+        ];
+        for (flags, want) in cases {
+            let mut args = vec![command, "--quiet"];
+            args.extend(&flags);
+            let (code, stdout, stderr) = run_basefit(&args);
+            assert_eq!(code, 2, "{command} {flags:?}: {stderr}");
+            assert!(stdout.is_empty(), "{command} {flags:?}: {stdout}");
+            assert!(
+                stderr.contains(&want),
+                "{command} {flags:?}: wanted {want} in {stderr}"
+            );
+        }
+    }
+}
+
 #[test]
 fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
     let dir = tempfile::tempdir().unwrap();
