@@ -786,6 +786,89 @@ fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
     assert_eq!(nums, ["2", "1", "1"], "{line}");
 }
 
+/// An image platform not of the form os/libc/arch leaves out that image, at the line of the
+/// platform and in the words a registry's `prebuilt` platform gets, and the images built on
+/// it as other left-out bases do; the rest of the file is used. It used to be a schema error
+/// that made the whole images file unusable.
+#[test]
+fn unreadable_image_platform_leaves_out_only_that_image() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: odd\n",
+            "    runtime: 3.1.0\n",
+            "    family: debian\n",
+            "    platform: linux-x86_64\n",
+            "  - id: heir\n",
+            "    extends: odd\n",
+            "    platform: linux/glibc/aarch64\n",
+            "  - {id: arm, extends: plain, platform: linux/glibc/aarch64}\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    for want in [
+        "images.yaml:6  odd: platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
+        "images.yaml:8  heir: its base `odd` cannot be built: platform `linux-x86_64`: expected a platform as os/libc/arch",
+        "images that cannot be built (left out) (bad-image): 2",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("image records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["4", "2", "2"], "{line}");
+    // The images that are left are planned.
+    let (code, stdout, stderr) = common::run_basefit([
+        "plan".as_ref(),
+        "--quiet".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--images".as_ref(),
+        img.as_os_str(),
+        "--priorities".as_ref(),
+        write(d.path(), "p.yaml", b"priorities: [fernwood]\n").as_os_str(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let rows: Vec<&str> = stdout
+        .lines()
+        .skip(2)
+        .take_while(|l| !l.is_empty())
+        .filter_map(|l| l.split_whitespace().next())
+        .collect();
+    assert_eq!(rows, ["plain", "arm"], "{stdout}");
+
+    // A file whose every image is left out is refused as any such file is.
+    let lone = write(
+        d.path(),
+        "lone.yaml",
+        b"images:\n  - {id: odd, runtime: 3.0.0, family: debian, platform: x86_64}\n",
+    );
+    let (code, _, stderr) = common::run_basefit([
+        "plan".as_ref(),
+        "--quiet".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--images".as_ref(),
+        lone.as_os_str(),
+        "--priorities".as_ref(),
+        d.path().join("p.yaml").as_os_str(),
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("lone.yaml: plan needs at least one image: of 1 read, 1 were left out"),
+        "{stderr}"
+    );
+}
+
 /// An unknown dependency `kind` is refused at the line of the kind, not of the entry.
 #[test]
 fn dependency_kind_is_refused_at_its_line() {

@@ -196,7 +196,9 @@ pub enum ProblemKind {
     NoInstallableVersion,
     /// A package with no version records at all.
     NoVersions,
-    /// An image that names an unknown base image or extends in a cycle; left out.
+    /// An image that cannot be built (an unknown base, a cycle of bases, a field missing after
+    /// inheritance, an unreadable runtime or platform, a removal of a package it lacks); left
+    /// out, with the images built on it.
     BadImage,
     /// An image that says `toolchain: false` yet carries its family's toolchain packages; used
     /// as having a toolchain.

@@ -28,7 +28,9 @@ struct Declared {
     extends: Option<At<String>>,
     runtime: Option<At<String>>,
     family: Option<OsFamily>,
-    platform: Option<Platform>,
+    /// As written: one that cannot be read leaves the image out (see `build`), as an
+    /// unreadable runtime does.
+    platform: Option<At<String>>,
     toolchain: Option<At<bool>>,
     add: Vec<String>,
     remove: Vec<At<String>>,
@@ -46,8 +48,8 @@ impl Declared {
 type Refusal = At<String>;
 
 /// Reads an image file. Schema errors make the file unusable; images whose base is unknown,
-/// that extend in a cycle, or lack a required field after inheritance are reported and left
-/// out.
+/// that extend in a cycle, lack a required field after inheritance, or whose runtime or
+/// platform cannot be read are reported and left out, and so are the images that extend them.
 pub fn read_images(path: &Path, ledger: &mut Ledger) -> Result<ImageSet, BadInput> {
     let file = path.display().to_string();
     let text = read_text(path)?;
@@ -326,11 +328,16 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
         .family
         .or(base.map(|b| b.family))
         .ok_or_else(|| missing("missing `family` (and no base to inherit it from)"))?;
-    let platform = d
-        .platform
-        .clone()
-        .or_else(|| base.map(|b| b.platform.clone()))
-        .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?;
+    // Read here rather than with the record, so an unreadable platform leaves out this image
+    // and those built on it, as a registry version's unreadable `prebuilt` platform leaves
+    // out that version, not the whole file.
+    let platform = match &d.platform {
+        Some(written) => Platform::parse(&written.value)
+            .map_err(|why| At::new(format!("platform {why}"), written.line))?,
+        None => base
+            .map(|b| b.platform.clone())
+            .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?,
+    };
     let mut packages: BTreeSet<String> =
         base.map(|b| b.system_packages.clone()).unwrap_or_default();
     packages.extend(d.add.iter().cloned());
@@ -395,12 +402,6 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
             })?)
         }
     };
-    let platform = match m.get("platform") {
-        None => None,
-        Some(n) => {
-            Some(Platform::parse(ctx.str(n, "image `platform`")?).map_err(|e| ctx.err(n, e))?)
-        }
-    };
     let mut add = m.str_list("packages")?;
     add.extend(m.str_list("add")?);
     Ok(Declared {
@@ -409,7 +410,7 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         extends,
         runtime: m.opt_str_at("runtime")?.map(owned),
         family,
-        platform,
+        platform: m.opt_str_at("platform")?.map(owned),
         toolchain: m.opt_bool_at("toolchain")?,
         add,
         remove: m.str_list_at("remove")?,
