@@ -251,11 +251,24 @@ fn load(versions: &str, deps: &str) -> Result<(Registry, Ledger), BadInput> {
 }
 
 fn load_bytes(versions: &[u8], deps: &[u8]) -> Result<(Registry, Ledger), BadInput> {
+    load_changing(versions, &[deps])
+}
+
+/// [`load_bytes`] whose dependencies file reads as `deps[n]` the `n`-th time it is opened
+/// (the last one ever after): a file that changes between reads.
+fn load_changing(versions: &[u8], deps: &[&[u8]]) -> Result<(Registry, Ledger), BadInput> {
+    let opened = std::cell::Cell::new(0);
+    let open = || -> std::io::Result<Box<dyn std::io::Read + Send>> {
+        let n = opened.get();
+        opened.set(n + 1);
+        let text = deps[n.min(deps.len() - 1)].to_vec();
+        Ok(Box::new(std::io::Cursor::new(text)))
+    };
     basefit::load::bulk::read_bulk_from(
         "versions.csv",
         Box::new(std::io::Cursor::new(versions.to_vec())),
         "deps.csv",
-        Box::new(std::io::Cursor::new(deps.to_vec())),
+        &open,
     )
 }
 
@@ -362,6 +375,117 @@ fn bad_rows_are_reported_at_their_line() {
     let native = b2.native.as_deref().unwrap();
     assert_eq!(native.libraries, ["zlib", "openssl"]);
     assert_eq!(native.files, ["ext/a.c"]);
+}
+
+const DEPENDENCY_PROBLEMS_VERSIONS: &str = "package,version\n\
+     pkg-a,1.0.0\n\
+     pkg-a,v1.1\n\
+     pkg-b,2.0.0\n\
+     pkg-b,2.1.0\n\
+     pkg-c,0.3.0\n";
+
+/// Rows of two versions interleaved with others, blank lines and a quoted line break, so a
+/// row's line is neither its version's nor its place among the rows.
+const DEPENDENCY_PROBLEMS_DEPS: &str = "package,version,dependency,req,kind\n\
+     pkg-b,2.0.0,pkg-c,^0.3,\n\
+     pkg-a,v1.1,pkg-b,^2,\n\
+     \n\
+     pkg-a,1.0.0,pkg-b,^2,\n\
+     pkg-a,v1.1,pkg-gone,*,\n\
+     pkg-b,2.1.0,\"pkg-c\n\",^0.3,\n\
+     pkg-a,v1.1,pkg-c,^0.4,\n\
+     pkg-a,v1.1,pkg-zz,*,development\n\
+     pkg-a,v1.1,pkg-gone,^1,\n\
+     pkg-b,2.1.0,pkg-c,>=1,\n";
+
+/// The problems that only the registry-wide checks find (a dependency on a name the versions
+/// file never declares, a requirement no version meets) name the dependency's own row, as
+/// the YAML path names the dependency's own line.
+#[test]
+fn dependency_problems_name_the_dependency_row() {
+    let (_, ledger) = load(DEPENDENCY_PROBLEMS_VERSIONS, DEPENDENCY_PROBLEMS_DEPS).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let at = |p: &Problem| {
+        format!(
+            "{}:{} {}: {}",
+            p.origin.file, p.origin.line, p.subject, p.detail
+        )
+    };
+    let unknown: Vec<_> = find(&ledger, ProblemKind::UnknownDependency)
+        .into_iter()
+        .map(at)
+        .collect();
+    assert_eq!(
+        unknown,
+        [
+            "deps.csv:6 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+            "deps.csv:11 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+        ]
+    );
+    let unsatisfiable: Vec<_> = find(&ledger, ProblemKind::UnsatisfiableRequirement)
+        .into_iter()
+        .map(at)
+        .collect();
+    assert_eq!(
+        unsatisfiable,
+        [
+            "deps.csv:9 pkg-a@1.1.0: requires pkg-c ^0.4, which no published version satisfies",
+            "deps.csv:12 pkg-b@2.1.0: requires pkg-c >=1, which no published version satisfies",
+        ]
+    );
+    // Nothing else: the development dependency on an unknown name is not checked.
+    assert_eq!(ledger.problems.len(), 5, "{:?}", ledger.problems);
+    assert_eq!(tally(&ledger, RecordKind::Dependency), (9, 9, 0));
+}
+
+/// A dependencies file that no longer holds the rows read the first time: the problems are
+/// still reported, at their version's row, and so is every one whose row is still there.
+#[test]
+fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
+    let first = DEPENDENCY_PROBLEMS_DEPS.as_bytes();
+    let header_only = b"package,version,dependency,req,kind\n".as_slice();
+    // The first `pkg-gone` row of `pkg-a` `v1.1` now names another package, and the rows
+    // after it are gone.
+    let edited = DEPENDENCY_PROBLEMS_DEPS.replacen(",pkg-gone,*,", ",pkg-b,*,", 1);
+    let cut = edited.lines().take(9).collect::<Vec<_>>().join("\n") + "\n";
+    let unusable = b"package,version\n".as_slice();
+    let places = |deps: &[&[u8]]| {
+        let (_, ledger) = load_changing(DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(), deps).unwrap();
+        assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+        let mut places: Vec<_> = find(&ledger, ProblemKind::UnknownDependency)
+            .into_iter()
+            .chain(find(&ledger, ProblemKind::UnsatisfiableRequirement))
+            .map(|p| format!("{}:{} {}", p.origin.file, p.origin.line, p.subject))
+            .collect();
+        places.sort();
+        places
+    };
+    assert_eq!(
+        places(&[first]),
+        [
+            "deps.csv:11 pkg-a@1.1.0",
+            "deps.csv:12 pkg-b@2.1.0",
+            "deps.csv:6 pkg-a@1.1.0",
+            "deps.csv:9 pkg-a@1.1.0",
+        ]
+    );
+    let at_versions = [
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:5 pkg-b@2.1.0",
+    ];
+    assert_eq!(places(&[first, header_only]), at_versions);
+    assert_eq!(places(&[first, unusable]), at_versions);
+    assert_eq!(
+        places(&[first, cut.as_bytes()]),
+        [
+            "deps.csv:9 pkg-a@1.1.0",
+            "versions.csv:3 pkg-a@1.1.0",
+            "versions.csv:3 pkg-a@1.1.0",
+            "versions.csv:5 pkg-b@2.1.0",
+        ]
+    );
 }
 
 /// The same records as YAML give the same problems (kinds and subjects).

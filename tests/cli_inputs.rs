@@ -330,6 +330,48 @@ fn every_input_reading_command_takes_quiet() {
     }
 }
 
+/// A bulk dependency on a name the versions file never declares, and a requirement no
+/// version meets, are reported at the dependency's row (not the first row of the file, nor
+/// its version's row), as YAML reports them at the dependency's line.
+#[test]
+fn bulk_dependency_problems_name_the_dependency_row() {
+    let d = dir();
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        b"package,version\npkg-a,1.0.0\npkg-b,2.0.0\npkg-c,0.3.0\n",
+    );
+    let deps = write(
+        d.path(),
+        "deps.csv",
+        b"package,version,dependency,req\n\
+          pkg-b,2.0.0,pkg-c,^0.3\n\
+          pkg-a,1.0.0,pkg-b,^2\n\
+          \n\
+          pkg-a,1.0.0,pkg-c,^0.4\n\
+          pkg-a,1.0.0,pkg-gone,*\n",
+    );
+    let images = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        versions.as_os_str(),
+        deps.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    let deps = deps.display();
+    for want in [
+        format!(
+            "  {deps}:5  pkg-a@1.0.0: requires pkg-c ^0.4, which no published version satisfies"
+        ),
+        format!("  {deps}:6  pkg-a@1.0.0: depends on `pkg-gone`, which the registry does not have"),
+    ] {
+        assert!(stdout.lines().any(|l| l == want), "{want}\n{stdout}");
+    }
+}
+
 /// Runs `basefit check` with `inputs`, using a good registry and good images for the flags
 /// it leaves out; returns (exit code, stdout, stderr).
 fn check_with(d: &Path, inputs: &[(&str, &Path)]) -> (i32, String, String) {

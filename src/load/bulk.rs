@@ -6,12 +6,18 @@
 //! Each version is checked and put in its package's release list while the versions file is
 //! read, dependencies are attached by (package, version text) while the dependency file is
 //! read, and each version then gets its own, or is dropped for an unreadable requirement.
+//!
+//! A dependency's row is not kept: a line for each of millions of dependencies would cost
+//! memory in every load. The registry-wide checks that run once everything is read (a
+//! dependency on a name no version row declares, a requirement no version satisfies) report
+//! their problems at the version's row, and when there are any the dependencies file is read
+//! a second time to move each to its dependency's row. A load without them reads it once.
 
 use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, VersionFields};
+use super::registry::{BadDependency, RegistryBuilder, Unplaced, VersionFields};
 use super::table::{RowRef, Table};
 use crate::model::{
-    Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId,
+    Build, Dep, DepKind, NativeHints, PackageId, Platform, PlatformId, Registry, ReqId, Requirement,
 };
 use hashbrown::HashTable;
 use rustc_hash::{FxHashMap, FxHasher};
@@ -94,35 +100,69 @@ pub fn read_bulk_showing(
             "registry {bytes}/{total_bytes} read, eta {eta} {wide_bar}",
         );
     }
-    let versions = Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
+    let versions_table =
+        Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
     // The dependency header is checked before the (long) versions pass, so a wrong column
     // there is reported at once.
-    let deps = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
-    read_tables(versions, deps, progress)
+    let deps_table = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
+    let reopen = || Table::open(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED);
+    read_tables(versions_table, deps_table, &reopen, progress)
 }
 
 /// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.
+///
+/// `deps` opens the dependencies from the start each time it is called: they are read a
+/// second time when a problem found after reading them must name a dependency's row (see
+/// `docs/bulk-format.md`).
+///
+/// ```
+/// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+/// use std::io::{Cursor, Read};
+/// let versions = "package,version\npkg-a,1.0.0\n";
+/// let deps = "package,version,dependency\npkg-a,1.0.0,pkg-gone\n";
+/// let open_deps = || -> std::io::Result<Box<dyn Read + Send>> {
+///     Ok(Box::new(Cursor::new(deps.as_bytes().to_vec())))
+/// };
+/// let (_, ledger) = basefit::load::bulk::read_bulk_from(
+///     "versions.csv",
+///     Box::new(Cursor::new(versions.as_bytes().to_vec())),
+///     "deps.csv",
+///     &open_deps,
+/// )?;
+/// let unknown = &ledger.problems[0];
+/// assert_eq!(unknown.origin.to_string(), "deps.csv:2");
+/// # Ok(()) }
+/// ```
 pub fn read_bulk_from(
     versions_name: &str,
     versions: Box<dyn Read + Send>,
     deps_name: &str,
-    deps: Box<dyn Read + Send>,
+    deps: &dyn Fn() -> std::io::Result<Box<dyn Read + Send>>,
 ) -> Result<(Registry, Ledger), BadInput> {
+    let open = || {
+        let input = deps().map_err(|e| BadInput::file(deps_name, format!("cannot read: {e}")))?;
+        Table::from_reader(deps_name, input, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)
+    };
     let versions = Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
-    let deps = Table::from_reader(deps_name, deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
-    read_tables(versions, deps, None)
+    read_tables(versions, open()?, &open, None)
 }
 
 fn read_tables(
     versions: Table,
     deps: Table,
+    reopen_deps: &dyn Fn() -> Result<Table, BadInput>,
     progress: Option<&indicatif::ProgressBar>,
 ) -> Result<(Registry, Ledger), BadInput> {
     let mut load = Load::default();
     load.read_versions(versions)?;
     let attached = load.read_dependencies(deps)?;
     Ok(super::while_indexing(progress, || {
-        load.commit(attached).finish()
+        let (registry, mut ledger, unplaced) = load.commit(attached).finish_unplaced();
+        // Most dumps have no such problem, and then the file is read once.
+        if !unplaced.is_empty() {
+            place_dep_problems(&registry, &mut ledger, &unplaced, reopen_deps);
+        }
+        (registry, ledger)
     }))
 }
 
@@ -299,6 +339,18 @@ struct DepCols {
     dependency: Option<usize>,
     req: Option<usize>,
     kind: Option<usize>,
+}
+
+impl DepCols {
+    fn of(table: &Table) -> DepCols {
+        DepCols {
+            package: table.column("package"),
+            version: table.column("version"),
+            dependency: table.column("dependency"),
+            req: table.column("req"),
+            kind: table.column("kind"),
+        }
+    }
 }
 
 /// The cells of one dependency row, checked.
@@ -610,13 +662,7 @@ impl Load {
     }
 
     fn read_dependencies(&mut self, table: Table) -> Result<Attached, BadInput> {
-        let cols = DepCols {
-            package: table.column("package"),
-            version: table.column("version"),
-            dependency: table.column("dependency"),
-            req: table.column("req"),
-            kind: table.column("kind"),
-        };
+        let cols = DepCols::of(&table);
         let file = table.file.clone();
         let mut pass = DepPass {
             attached: Attached {
@@ -864,6 +910,121 @@ impl Load {
         }
         builder
     }
+}
+
+/// The rows of one release's dependencies in a second read of the dependencies file, and the
+/// problems to place among them.
+struct Wanted {
+    package: PackageId,
+    release: usize,
+    /// Rows of the release met so far.
+    rows: usize,
+    /// (index among the release's dependencies, index of the problem), by dependency.
+    problems: Vec<(usize, usize)>,
+}
+
+/// Moves each problem in `unplaced` from its version's row to its dependency's row, found by
+/// reading the dependencies file again: keeping a row for every dependency would cost memory
+/// in every load for the few loads that have such problems.
+///
+/// The `k`-th dependency of a release is the `k`-th row written with its package and version
+/// text: the rows of a version attach to the first usable version row with that text, in
+/// file order, and a release that kept dependencies is that row (its package's other records
+/// with the text are duplicates, left out or without rows). A row is used only when it still
+/// names the same dependency, requirement and kind; if the file changed since the first
+/// read, or cannot be read again, the problems not placed stay at the version's row.
+fn place_dep_problems(
+    registry: &Registry,
+    ledger: &mut Ledger,
+    unplaced: &[Unplaced],
+    reopen: &dyn Fn() -> Result<Table, BadInput>,
+) {
+    let Ok(table) = reopen() else {
+        return;
+    };
+    let cols = DepCols::of(&table);
+    let file = table.file.clone();
+    let mut wanted: Vec<Wanted> = Vec::new();
+    // Package name, then version text as written: the key the first read attached rows by.
+    let mut by_key: FxHashMap<&str, FxHashMap<String, usize>> = FxHashMap::default();
+    for u in unplaced {
+        let package = registry.package(u.package);
+        let Some(release) = package.releases.get(u.release) else {
+            continue;
+        };
+        // A version read strictly prints as it was written, so only a normalised one keeps
+        // its text.
+        let text = match &release.raw_version {
+            Some(raw) => raw.to_string(),
+            None => release.version.to_string(),
+        };
+        let at = *by_key
+            .entry(&*package.name)
+            .or_default()
+            .entry(text)
+            .or_insert_with(|| {
+                wanted.push(Wanted {
+                    package: u.package,
+                    release: u.release,
+                    rows: 0,
+                    problems: Vec::new(),
+                });
+                wanted.len() - 1
+            });
+        wanted[at].problems.push((u.dep, u.problem));
+    }
+    for w in &mut wanted {
+        w.problems.sort_unstable();
+    }
+    let mut left = unplaced.len();
+    // A read error here (the file changed, or cannot be read now): what is not placed stays
+    // at its version's row.
+    let _ = table.for_each_batch(|batch| {
+        for row in batch.rows() {
+            let Ok(cells) = dep_cells(&file, &cols, row) else {
+                return ControlFlow::Break(());
+            };
+            let Some(&at) = by_key
+                .get(cells.package)
+                .and_then(|versions| versions.get(cells.version))
+            else {
+                continue;
+            };
+            let w = &mut wanted[at];
+            let k = w.rows;
+            w.rows += 1;
+            let Ok(i) = w.problems.binary_search_by_key(&k, |p| p.0) else {
+                continue;
+            };
+            let dep = registry
+                .package(w.package)
+                .releases
+                .get(w.release)
+                .and_then(|r| r.deps.get(k));
+            let problem = w.problems[i].1;
+            if let (Some(dep), Some(p)) = (dep, ledger.problems.get_mut(problem))
+                && same_dependency(registry, dep, &cells)
+            {
+                p.origin = Origin {
+                    file: file.clone(),
+                    line: row.line,
+                };
+                left -= 1;
+                if left == 0 {
+                    return ControlFlow::Break(());
+                }
+            }
+        }
+        ControlFlow::Continue(())
+    });
+}
+
+/// Whether a row read again still says what `dep` was read from.
+fn same_dependency(registry: &Registry, dep: &Dep, cells: &DepCells<'_>) -> bool {
+    dep.kind == cells.kind
+        && &*registry.package(dep.package).name == cells.dependency
+        && Requirement::parse(cells.req)
+            .is_ok_and(|req| req.text == registry.requirement(dep.req).text)
 }
 
 /// An upper estimate of the rows of a file of `bytes` bytes whose rows are at least
