@@ -45,14 +45,15 @@ pub struct RegistryBuilder {
     /// for the registry-wide checks to name. Kept beside the registry rather than in each
     /// [`Dep`]: the solver walks millions of those, and only a reported problem needs a line.
     /// Versions read from the bulk format have none: [`RegistryBuilder::finish_unplaced`]
-    /// lists their problems for the bulk reader to place.
+    /// lists their problems for the bulk reader to place on request.
     dep_lines: FxHashMap<ReleaseKey, Box<[DepLines]>>,
 }
 
 /// A problem about a dependency that the registry-wide checks could only report at its
 /// version's record, because the builder was never told the dependency's own line (the bulk
 /// reader keeps none: a line for each of millions of dependencies would cost more than the
-/// few problems are worth). The reader that can find the dependency's record moves it there.
+/// few problems are worth). The reader that can find the dependency's record keeps what it
+/// takes to move it there when asked ([`Ledger::place_deferred`]).
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct Unplaced {
     /// Index into the ledger's problems.
