@@ -45,10 +45,14 @@ impl Output {
     }
 }
 
-/// Loads inputs, and with `strict` refuses any data-quality problem.
+/// Loads inputs, and with `strict` refuses any data-quality problem, naming the first by its
+/// own place. Otherwise problems may still be at stand-in places: a command that shows them
+/// calls [`Inputs::place_deferred`] first (only `check` does).
 pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
-    let inputs = load::load_inputs(paths)?;
+    let mut inputs = load::load_inputs(paths)?;
     if strict && !inputs.ledger.is_clean() {
+        // Which problem comes first depends on where each is.
+        inputs.place_deferred(paths.progress.as_ref());
         let groups = inputs.ledger.by_kind();
         let parts: Vec<String> = groups
             .iter()
@@ -282,7 +286,9 @@ pub struct CheckOptions {
 
 /// `check`: the data-quality report. Exit 0 when clean, 1 when problems were found.
 pub fn check(o: &CheckOptions) -> Result<Output, BadInput> {
-    let inputs = load(&o.inputs, o.strict)?;
+    let mut inputs = load(&o.inputs, o.strict)?;
+    // The report names each problem's place; the other commands only count problems.
+    inputs.place_deferred(o.inputs.progress.as_ref());
     let ledger = &inputs.ledger;
     Ok(Output::report(
         o.format,

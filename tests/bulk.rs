@@ -8,6 +8,8 @@ use basefit::synth::{SynthOptions, SynthSummary, write_bulk, write_yaml};
 use basefit::{Problem, ProblemKind};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::Instant;
 
 fn generate_bulk(dir: &Path, opts: &SynthOptions) -> (PathBuf, PathBuf, SynthSummary) {
@@ -251,12 +253,31 @@ fn load(versions: &str, deps: &str) -> Result<(Registry, Ledger), BadInput> {
 }
 
 fn load_bytes(versions: &[u8], deps: &[u8]) -> Result<(Registry, Ledger), BadInput> {
-    basefit::load::bulk::read_bulk_from(
+    load_changing(versions, &[deps]).0
+}
+
+/// [`load_bytes`] whose dependencies file reads as `deps[n]` the `n`-th time it is opened
+/// (the last one ever after): a file that changes between reads. Also gives the count of
+/// opens so far.
+fn load_changing(
+    versions: &[u8],
+    deps: &[&[u8]],
+) -> (Result<(Registry, Ledger), BadInput>, Arc<AtomicUsize>) {
+    let opened = Arc::new(AtomicUsize::new(0));
+    let deps: Vec<Vec<u8>> = deps.iter().map(|d| d.to_vec()).collect();
+    let count = Arc::clone(&opened);
+    let open = move || -> std::io::Result<Box<dyn std::io::Read + Send>> {
+        let n = count.fetch_add(1, Ordering::SeqCst);
+        let text = deps[n.min(deps.len() - 1)].clone();
+        Ok(Box::new(std::io::Cursor::new(text)))
+    };
+    let loaded = basefit::load::bulk::read_bulk_from(
         "versions.csv",
         Box::new(std::io::Cursor::new(versions.to_vec())),
         "deps.csv",
-        Box::new(std::io::Cursor::new(deps.to_vec())),
-    )
+        open,
+    );
+    (loaded, opened)
 }
 
 fn find(ledger: &Ledger, kind: ProblemKind) -> Vec<&Problem> {
@@ -362,6 +383,158 @@ fn bad_rows_are_reported_at_their_line() {
     let native = b2.native.as_deref().unwrap();
     assert_eq!(native.libraries, ["zlib", "openssl"]);
     assert_eq!(native.files, ["ext/a.c"]);
+}
+
+const DEPENDENCY_PROBLEMS_VERSIONS: &str = "package,version\n\
+     pkg-a,1.0.0\n\
+     pkg-a,v1.1\n\
+     pkg-b,2.0.0\n\
+     pkg-b,2.1.0\n\
+     pkg-c,0.3.0\n";
+
+/// Rows of two versions interleaved with others, blank lines and a quoted line break, so a
+/// row's line is neither its version's nor its place among the rows.
+const DEPENDENCY_PROBLEMS_DEPS: &str = "package,version,dependency,req,kind\n\
+     pkg-b,2.0.0,pkg-c,^0.3,\n\
+     pkg-a,v1.1,pkg-b,^2,\n\
+     \n\
+     pkg-a,1.0.0,pkg-b,^2,\n\
+     pkg-a,v1.1,pkg-gone,*,\n\
+     pkg-b,2.1.0,\"pkg-c\n\",^0.3,\n\
+     pkg-a,v1.1,pkg-c,^0.4,\n\
+     pkg-a,v1.1,pkg-zz,*,development\n\
+     pkg-a,v1.1,pkg-gone,^1,\n\
+     pkg-b,2.1.0,pkg-c,>=1,\n";
+
+/// `file:line subject: detail` of the unknown dependencies, then of the unsatisfiable
+/// requirements, each in ledger order.
+fn dependency_problems(ledger: &Ledger) -> Vec<String> {
+    find(ledger, ProblemKind::UnknownDependency)
+        .into_iter()
+        .chain(find(ledger, ProblemKind::UnsatisfiableRequirement))
+        .map(|p| {
+            format!(
+                "{}:{} {}: {}",
+                p.origin.file, p.origin.line, p.subject, p.detail
+            )
+        })
+        .collect()
+}
+
+/// A load reads the dependencies file once and reports the problems only the registry-wide
+/// checks find (a dependency on a name the versions file never declares, a requirement no
+/// version meets) at their version's row, with the same counts and wording as once placed:
+/// a caller that only counts problems (`plan`) pays for no second read.
+#[test]
+fn dependency_problems_stay_at_the_version_row_until_placed() {
+    let (loaded, opened) = load_changing(
+        DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(),
+        &[DEPENDENCY_PROBLEMS_DEPS.as_bytes()],
+    );
+    let (_, ledger) = loaded.unwrap();
+    assert_eq!(opened.load(Ordering::SeqCst), 1);
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    assert_eq!(
+        dependency_problems(&ledger),
+        [
+            "versions.csv:3 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+            "versions.csv:3 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+            "versions.csv:3 pkg-a@1.1.0: requires pkg-c ^0.4, which no published version satisfies",
+            "versions.csv:5 pkg-b@2.1.0: requires pkg-c >=1, which no published version satisfies",
+        ]
+    );
+    assert_eq!(ledger.deferred(), 4);
+    assert_eq!(ledger.problems.len(), 5, "{:?}", ledger.problems);
+    assert_eq!(tally(&ledger, RecordKind::Dependency), (9, 9, 0));
+    // Cloning or merging the ledger keeps what placing needs, and reads nothing.
+    let mut merged = Ledger::default();
+    merged.merge(ledger.clone());
+    assert_eq!(merged.deferred(), 4);
+    assert_eq!(opened.load(Ordering::SeqCst), 1);
+}
+
+/// Once placed, the same problems name the dependency's own row, as the YAML path names the
+/// dependency's own line; counts and wording do not change.
+#[test]
+fn dependency_problems_name_the_dependency_row() {
+    let (loaded, opened) = load_changing(
+        DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(),
+        &[DEPENDENCY_PROBLEMS_DEPS.as_bytes()],
+    );
+    let (_, mut ledger) = loaded.unwrap();
+    // Problems are found by value: sorting first, as `load_inputs` does, loses none.
+    ledger.sort();
+    assert_eq!(ledger.place_deferred(), 4);
+    assert_eq!(opened.load(Ordering::SeqCst), 2);
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    assert_eq!(
+        dependency_problems(&ledger),
+        [
+            "deps.csv:6 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+            "deps.csv:11 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
+            "deps.csv:9 pkg-a@1.1.0: requires pkg-c ^0.4, which no published version satisfies",
+            "deps.csv:12 pkg-b@2.1.0: requires pkg-c >=1, which no published version satisfies",
+        ]
+    );
+    // Nothing else: the development dependency on an unknown name is not checked.
+    assert_eq!(ledger.problems.len(), 5, "{:?}", ledger.problems);
+    assert_eq!(tally(&ledger, RecordKind::Dependency), (9, 9, 0));
+    // Placed once: a second call reads nothing.
+    assert_eq!(ledger.deferred(), 0);
+    assert_eq!(ledger.place_deferred(), 0);
+    assert_eq!(opened.load(Ordering::SeqCst), 2);
+}
+
+/// A dependencies file that no longer holds the rows read the first time: the problems are
+/// still reported, at their version's row, and so is every one whose row is still there.
+#[test]
+fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
+    let first = DEPENDENCY_PROBLEMS_DEPS.as_bytes();
+    let header_only = b"package,version,dependency,req,kind\n".as_slice();
+    // The first `pkg-gone` row of `pkg-a` `v1.1` now names another package, and the rows
+    // after it are gone.
+    let edited = DEPENDENCY_PROBLEMS_DEPS.replacen(",pkg-gone,*,", ",pkg-b,*,", 1);
+    let cut = edited.lines().take(9).collect::<Vec<_>>().join("\n") + "\n";
+    let unusable = b"package,version\n".as_slice();
+    let places = |deps: &[&[u8]]| {
+        let (loaded, _) = load_changing(DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(), deps);
+        let (_, mut ledger) = loaded.unwrap();
+        ledger.place_deferred();
+        assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+        let mut places: Vec<_> = find(&ledger, ProblemKind::UnknownDependency)
+            .into_iter()
+            .chain(find(&ledger, ProblemKind::UnsatisfiableRequirement))
+            .map(|p| format!("{}:{} {}", p.origin.file, p.origin.line, p.subject))
+            .collect();
+        places.sort();
+        places
+    };
+    assert_eq!(
+        places(&[first]),
+        [
+            "deps.csv:11 pkg-a@1.1.0",
+            "deps.csv:12 pkg-b@2.1.0",
+            "deps.csv:6 pkg-a@1.1.0",
+            "deps.csv:9 pkg-a@1.1.0",
+        ]
+    );
+    let at_versions = [
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:5 pkg-b@2.1.0",
+    ];
+    assert_eq!(places(&[first, header_only]), at_versions);
+    assert_eq!(places(&[first, unusable]), at_versions);
+    assert_eq!(
+        places(&[first, cut.as_bytes()]),
+        [
+            "deps.csv:9 pkg-a@1.1.0",
+            "versions.csv:3 pkg-a@1.1.0",
+            "versions.csv:3 pkg-a@1.1.0",
+            "versions.csv:5 pkg-b@2.1.0",
+        ]
+    );
 }
 
 /// The same records as YAML give the same problems (kinds and subjects).

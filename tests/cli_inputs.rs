@@ -395,6 +395,97 @@ fn every_input_reading_command_takes_quiet() {
     }
 }
 
+/// A bulk registry with an unknown dependency (row 6 of `deps.csv`) and a requirement no
+/// version meets (row 5), beside good images and a priority list: (versions, deps, images,
+/// priorities).
+fn bulk_with_dependency_problems(d: &Path) -> (PathBuf, PathBuf, PathBuf, PathBuf) {
+    let versions = write(
+        d,
+        "versions.csv",
+        b"package,version\npkg-a,1.0.0\npkg-b,2.0.0\npkg-c,0.3.0\n",
+    );
+    let deps = write(
+        d,
+        "deps.csv",
+        b"package,version,dependency,req\n\
+          pkg-b,2.0.0,pkg-c,^0.3\n\
+          pkg-a,1.0.0,pkg-b,^2\n\
+          \n\
+          pkg-a,1.0.0,pkg-c,^0.4\n\
+          pkg-a,1.0.0,pkg-gone,*\n",
+    );
+    let images = write(d, "images.yaml", GOOD_IMAGES.as_bytes());
+    let priorities = write(d, "priorities.yaml", b"priorities:\n  - name: pkg-a\n");
+    (versions, deps, images, priorities)
+}
+
+/// A bulk dependency on a name the versions file never declares, and a requirement no
+/// version meets, are reported at the dependency's row (not the first row of the file, nor
+/// its version's row), as YAML reports them at the dependency's line.
+#[test]
+fn bulk_dependency_problems_name_the_dependency_row() {
+    let d = dir();
+    let (versions, deps, images, _) = bulk_with_dependency_problems(d.path());
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        versions.as_os_str(),
+        deps.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    let deps = deps.display();
+    for want in [
+        format!(
+            "  {deps}:5  pkg-a@1.0.0: requires pkg-c ^0.4, which no published version satisfies"
+        ),
+        format!("  {deps}:6  pkg-a@1.0.0: depends on `pkg-gone`, which the registry does not have"),
+    ] {
+        assert!(stdout.lines().any(|l| l == want), "{want}\n{stdout}");
+    }
+}
+
+/// `--strict` names the first problem by place, so it names the dependency's row too; without
+/// `--strict` a plan only counts the problems, the same two.
+#[test]
+fn bulk_dependency_problems_name_the_dependency_row_under_strict() {
+    let d = dir();
+    let (versions, deps, images, priorities) = bulk_with_dependency_problems(d.path());
+    let plan = |strict: bool| {
+        let out = d.path().join("out");
+        let mut args = vec![
+            "plan".as_ref(),
+            "--bulk".as_ref(),
+            versions.as_os_str(),
+            deps.as_os_str(),
+            "--images".as_ref(),
+            images.as_os_str(),
+            "--priorities".as_ref(),
+            priorities.as_os_str(),
+            "--out".as_ref(),
+            out.as_os_str(),
+        ];
+        if strict {
+            args.push("--strict".as_ref());
+        }
+        common::run_basefit(args)
+    };
+    let (code, _, stderr) = plan(true);
+    assert_eq!(code, 2, "{stderr}");
+    let want = format!(
+        "{}:5: --strict: pkg-a@1.0.0: requires pkg-c ^0.4, which no published version satisfies \
+         (in all: 1 dependencies on names not in the registry, \
+         1 dependency requirements no published version satisfies)",
+        deps.display()
+    );
+    assert!(stderr.contains(&want), "{want}\n{stderr}");
+    let (code, _, stderr) = plan(false);
+    assert_eq!(code, 0, "{stderr}");
+    let note = "note: 2 data-quality problems in the inputs (run `basefit check` for the list)";
+    assert!(stderr.lines().any(|l| l == note), "{stderr}");
+}
+
 /// Runs `basefit check` with `inputs`, using a good registry and good images for the flags
 /// it leaves out; returns (exit code, stdout, stderr).
 fn check_with(d: &Path, inputs: &[(&str, &Path)]) -> (i32, String, String) {

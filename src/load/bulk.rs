@@ -6,17 +6,28 @@
 //! Each version is checked and put in its package's release list while the versions file is
 //! read, dependencies are attached by (package, version text) while the dependency file is
 //! read, and each version then gets its own, or is dropped for an unreadable requirement.
+//!
+//! A dependency's row is not kept: a line for each of millions of dependencies would cost
+//! memory in every load. The registry-wide checks that run once everything is read (a
+//! dependency on a name no version row declares, a requirement no version satisfies) report
+//! their problems at the version's row, and the ledger keeps what it takes to move each to
+//! its dependency's row (`DeferredRows`). Only [`Ledger::place_deferred`] reads the
+//! dependencies file a second time to do it, so a load whose problems are only counted reads
+//! it once.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, VersionFields, read_platforms};
+use super::diag::{At, BadInput, Ledger, Origin, Problem, ProblemKind, RecordKind, SchemaErrors};
+use super::registry::{BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms};
 use super::table::{RowRef, Table};
-use crate::model::{Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId};
+use crate::model::{
+    Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId, Requirement,
+};
 use hashbrown::HashTable;
 use rustc_hash::{FxHashMap, FxHasher};
 use std::hash::Hasher;
 use std::io::Read;
 use std::ops::ControlFlow;
 use std::path::Path;
+use std::sync::Arc;
 
 /// Columns of the versions file, in the order a writer should use.
 pub const VERSION_COLUMNS: &[&str] = &[
@@ -51,15 +62,35 @@ pub const LIST_SEPARATOR: char = ';';
 /// name, an unknown dependency kind) make the input unusable and come back as
 /// [`BadInput`] naming file and line, up to 20 of them. Data problems go to the ledger.
 ///
+/// Two kinds of problem are found only once both files are read: a dependency on a name no
+/// version row declares (`unknown-dependency`) and a requirement no version satisfies
+/// (`unsatisfiable-requirement`). The load reports them at their version's row in the
+/// versions file, with the same counts, kinds and wording; finding each one's row in the
+/// dependencies file takes a second read of that file, which [`Ledger::place_deferred`] does
+/// on request. Call it before showing where problems are; a caller that only counts them
+/// pays nothing.
+///
 /// ```
 /// # fn main() -> Result<(), Box<dyn std::error::Error>> {
 /// let dir = tempfile::tempdir()?;
 /// let (versions, deps) = (dir.path().join("versions.csv"), dir.path().join("deps.csv"));
 /// std::fs::write(&versions, "package,version,runtime\npkg-a,1.0.0,>=3.1\npkg-b,v2.1,\n")?;
-/// std::fs::write(&deps, "package,version,dependency,req\npkg-a,1.0.0,pkg-b,^2\n")?;
-/// let (registry, ledger) = basefit::load::read_bulk(&versions, &deps)?;
+/// std::fs::write(
+///     &deps,
+///     "package,version,dependency,req\npkg-a,1.0.0,pkg-b,^2\npkg-a,1.0.0,pkg-c,^1\n",
+/// )?;
+/// let (registry, mut ledger) = basefit::load::read_bulk(&versions, &deps)?;
 /// assert_eq!(registry.release_count(), 2);
 /// assert!(ledger.unbalanced().is_empty());
+/// // `pkg-c` has no version row: reported at `pkg-a` 1.0.0's row until placed.
+/// use basefit::ProblemKind;
+/// let at = |ledger: &basefit::Ledger| {
+///     let unknown = ledger.problems.iter().find(|p| p.kind == ProblemKind::UnknownDependency);
+///     unknown.unwrap().origin.to_string()
+/// };
+/// assert!(at(&ledger).ends_with("versions.csv:2"));
+/// ledger.place_deferred();
+/// assert!(at(&ledger).ends_with("deps.csv:3"));
 /// # Ok(()) }
 /// ```
 pub fn read_bulk(versions: &Path, deps: &Path) -> Result<(Registry, Ledger), BadInput> {
@@ -92,35 +123,84 @@ pub fn read_bulk_showing(
             "registry {bytes}/{total_bytes} read, eta {eta} {wide_bar}",
         );
     }
-    let versions = Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
+    let versions_table =
+        Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
     // The dependency header is checked before the (long) versions pass, so a wrong column
     // there is reported at once.
-    let deps = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
-    read_tables(versions, deps, progress)
+    let deps_table = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
+    let path = deps.to_path_buf();
+    let reopen: Arc<Reopen> = Arc::new(move |progress: Option<&indicatif::ProgressBar>| {
+        if let Some(bar) = progress {
+            super::start_bar(
+                bar,
+                super::file_size(&path),
+                "placing problems: dependencies {bytes}/{total_bytes} read, eta {eta} {wide_bar}",
+            );
+        }
+        Table::open_showing(&path, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)
+    });
+    read_tables(versions_table, deps_table, reopen, progress)
 }
 
 /// [`read_bulk`] over readers; `versions_name` and `deps_name` name them in messages.
+///
+/// `deps` opens the dependencies from the start each time it is called: once for the load,
+/// and once more if [`Ledger::place_deferred`] is asked to place problems found after
+/// reading them (see [`read_bulk`]). The ledger keeps it until then.
+///
+/// ```
+/// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+/// use std::io::{Cursor, Read};
+/// let versions = "package,version\npkg-a,1.0.0\n";
+/// let deps = "package,version,dependency\npkg-a,1.0.0,pkg-gone\n";
+/// let open_deps = || -> std::io::Result<Box<dyn Read + Send>> {
+///     Ok(Box::new(Cursor::new(deps.as_bytes().to_vec())))
+/// };
+/// let (_, mut ledger) = basefit::load::bulk::read_bulk_from(
+///     "versions.csv",
+///     Box::new(Cursor::new(versions.as_bytes().to_vec())),
+///     "deps.csv",
+///     open_deps,
+/// )?;
+/// // The unknown dependency is at its version's row until it is placed.
+/// assert_eq!(ledger.problems[0].origin.to_string(), "versions.csv:2");
+/// assert_eq!(ledger.place_deferred(), 1);
+/// assert_eq!(ledger.problems[0].origin.to_string(), "deps.csv:2");
+/// # Ok(()) }
+/// ```
 pub fn read_bulk_from(
     versions_name: &str,
     versions: Box<dyn Read + Send>,
     deps_name: &str,
-    deps: Box<dyn Read + Send>,
+    deps: impl Fn() -> std::io::Result<Box<dyn Read + Send>> + Send + Sync + 'static,
 ) -> Result<(Registry, Ledger), BadInput> {
+    let name = deps_name.to_string();
+    let open: Arc<Reopen> = Arc::new(move |_: Option<&indicatif::ProgressBar>| {
+        let input = deps().map_err(|e| BadInput::file(&name, format!("cannot read: {e}")))?;
+        Table::from_reader(&name, input, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)
+    });
     let versions = Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
-    let deps = Table::from_reader(deps_name, deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)?;
-    read_tables(versions, deps, None)
+    read_tables(versions, open(None)?, open, None)
 }
 
 fn read_tables(
     versions: Table,
     deps: Table,
+    reopen_deps: Arc<Reopen>,
     progress: Option<&indicatif::ProgressBar>,
 ) -> Result<(Registry, Ledger), BadInput> {
     let mut load = Load::default();
     load.read_versions(versions)?;
     let attached = load.read_dependencies(deps)?;
     Ok(super::while_indexing(progress, || {
-        load.commit(attached).finish()
+        let (registry, mut ledger, unplaced) = load.commit(attached).finish_unplaced();
+        // Most dumps have no such problem, and a load that has some keeps only what it takes
+        // to place them: the second read is for those who show the places.
+        if !unplaced.is_empty() {
+            let deferred = DeferredRows::new(&registry, &ledger, &unplaced, reopen_deps);
+            ledger.defer(deferred);
+        }
+        (registry, ledger)
     }))
 }
 
@@ -297,6 +377,18 @@ struct DepCols {
     dependency: Option<usize>,
     req: Option<usize>,
     kind: Option<usize>,
+}
+
+impl DepCols {
+    fn of(table: &Table) -> DepCols {
+        DepCols {
+            package: table.column("package"),
+            version: table.column("version"),
+            dependency: table.column("dependency"),
+            req: table.column("req"),
+            kind: table.column("kind"),
+        }
+    }
 }
 
 /// The cells of one dependency row, checked.
@@ -608,13 +700,7 @@ impl Load {
     }
 
     fn read_dependencies(&mut self, table: Table) -> Result<Attached, BadInput> {
-        let cols = DepCols {
-            package: table.column("package"),
-            version: table.column("version"),
-            dependency: table.column("dependency"),
-            req: table.column("req"),
-            kind: table.column("kind"),
-        };
+        let cols = DepCols::of(&table);
         let file = table.file.clone();
         let mut pass = DepPass {
             attached: Attached {
@@ -862,6 +948,204 @@ impl Load {
         }
         builder
     }
+}
+
+/// Opens the dependencies file again from its start, advancing `progress` (if any) by the
+/// bytes read.
+type Reopen = dyn Fn(Option<&indicatif::ProgressBar>) -> Result<Table, BadInput> + Send + Sync;
+
+/// The dependency problems of one bulk load that are still at their version's row, and what
+/// it takes to move each to its dependency's row later: a way to read the dependencies file
+/// again, and for each problem the dependency it is about. Kept by the [`Ledger`] until
+/// [`Ledger::place_deferred`]; a few strings per problem, nothing per dependency.
+#[derive(Clone)]
+pub(crate) struct DeferredRows {
+    reopen: Arc<Reopen>,
+    problems: Vec<DeferredProblem>,
+}
+
+impl std::fmt::Debug for DeferredRows {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("DeferredRows")
+            .field("problems", &self.problems)
+            .finish_non_exhaustive()
+    }
+}
+
+/// One problem waiting for its dependency's row.
+#[derive(Debug, Clone)]
+struct DeferredProblem {
+    /// The problem as the load reported it, at its version's row: the one to move. Found in
+    /// the ledger by value, so sorting or merging the ledger meanwhile does not lose it.
+    problem: Problem,
+    /// The version's package name and version text as written: the key its rows were
+    /// attached by in the first read.
+    package: Box<str>,
+    version: String,
+    /// Index among the release's dependencies, of every kind.
+    dep: usize,
+    /// What the row must still say: dependency name, requirement text as read, and kind.
+    dependency: Box<str>,
+    req: String,
+    kind: DepKind,
+}
+
+impl DeferredRows {
+    /// What it takes to place `unplaced` (problems in `ledger`, about dependencies of
+    /// `registry`) once the load is over.
+    fn new(
+        registry: &Registry,
+        ledger: &Ledger,
+        unplaced: &[Unplaced],
+        reopen: Arc<Reopen>,
+    ) -> DeferredRows {
+        let problems = unplaced
+            .iter()
+            .filter_map(|u| {
+                let package = registry.package(u.package);
+                let release = package.releases.get(u.release)?;
+                let dep = release.deps.get(u.dep)?;
+                // A version read strictly prints as it was written, so only a normalised one
+                // keeps its text.
+                let version = match &release.raw_version {
+                    Some(raw) => raw.to_string(),
+                    None => release.version.to_string(),
+                };
+                Some(DeferredProblem {
+                    problem: ledger.problems.get(u.problem)?.clone(),
+                    package: package.name.clone(),
+                    version,
+                    dep: u.dep,
+                    dependency: registry.package(dep.package).name.clone(),
+                    req: registry.requirement(dep.req).text.clone(),
+                    kind: dep.kind,
+                })
+            })
+            .collect();
+        DeferredRows { reopen, problems }
+    }
+
+    /// How many problems wait here.
+    pub(crate) fn len(&self) -> usize {
+        self.problems.len()
+    }
+
+    /// Moves each of these problems still in `problems` from its version's row to its
+    /// dependency's row, found by reading the dependencies file again; returns how many
+    /// moved. See [`Ledger::place_deferred`].
+    ///
+    /// The `k`-th dependency of a release is the `k`-th row written with its package and
+    /// version text: the rows of a version attach to the first usable version row with that
+    /// text, in file order, and a release that kept dependencies is that row (its package's
+    /// other records with the text are duplicates, left out or without rows). A row is used
+    /// only when it still names the same dependency, requirement and kind; if the file
+    /// changed since the first read, or cannot be read again, the problems not placed stay
+    /// at the version's row.
+    pub(crate) fn place(
+        &self,
+        problems: &mut [Problem],
+        progress: Option<&indicatif::ProgressBar>,
+    ) -> usize {
+        // Each deferred problem is the next one of equal value: equal problems (two rows of
+        // one version naming the same unknown package) are interchangeable until placed.
+        let mut equal: FxHashMap<&Problem, Vec<usize>> = FxHashMap::default();
+        for (i, p) in problems.iter().enumerate().rev() {
+            equal.entry(p).or_default().push(i);
+        }
+        let targets: Vec<Option<usize>> = self
+            .problems
+            .iter()
+            .map(|d| equal.get_mut(&d.problem).and_then(Vec::pop))
+            .collect();
+        let mut left = targets.iter().flatten().count();
+        if left == 0 {
+            return 0;
+        }
+        let Ok(table) = (self.reopen)(progress) else {
+            return 0;
+        };
+        let cols = DepCols::of(&table);
+        let file = table.file.clone();
+        let mut wanted: Vec<Wanted> = Vec::new();
+        // Package name, then version text as written: the key the first read attached rows by.
+        let mut by_key: FxHashMap<&str, FxHashMap<&str, usize>> = FxHashMap::default();
+        for (d, target) in self.problems.iter().zip(&targets) {
+            let Some(problem) = *target else {
+                continue;
+            };
+            let at = *by_key
+                .entry(&d.package)
+                .or_default()
+                .entry(&d.version)
+                .or_insert_with(|| {
+                    wanted.push(Wanted::default());
+                    wanted.len() - 1
+                });
+            wanted[at].problems.push((d.dep, d, problem));
+        }
+        for w in &mut wanted {
+            w.problems.sort_unstable_by_key(|p| p.0);
+        }
+        let mut moved = 0;
+        // A read error here (the file changed, or cannot be read now): what is not placed
+        // stays at its version's row.
+        let _ = table.for_each_batch(|batch| {
+            for row in batch.rows() {
+                let Ok(cells) = dep_cells(&file, &cols, row) else {
+                    return ControlFlow::Break(());
+                };
+                let Some(&at) = by_key
+                    .get(cells.package)
+                    .and_then(|versions| versions.get(cells.version))
+                else {
+                    continue;
+                };
+                let w = &mut wanted[at];
+                let k = w.rows;
+                w.rows += 1;
+                let Ok(i) = w.problems.binary_search_by_key(&k, |p| p.0) else {
+                    continue;
+                };
+                let (_, d, problem) = w.problems[i];
+                // Found once: a row is the k-th of its version only once.
+                left -= 1;
+                if let Some(p) = problems.get_mut(problem)
+                    && d.said_by(&cells)
+                {
+                    p.origin = Origin {
+                        file: file.clone(),
+                        line: row.line,
+                    };
+                    moved += 1;
+                }
+                if left == 0 {
+                    return ControlFlow::Break(());
+                }
+            }
+            ControlFlow::Continue(())
+        });
+        moved
+    }
+}
+
+impl DeferredProblem {
+    /// Whether a row read again still says what the dependency was read from.
+    fn said_by(&self, cells: &DepCells<'_>) -> bool {
+        self.kind == cells.kind
+            && *self.dependency == *cells.dependency
+            && Requirement::parse(cells.req).is_ok_and(|req| req.text == self.req)
+    }
+}
+
+/// The rows of one release's dependencies in a second read of the dependencies file, and the
+/// problems to place among them.
+#[derive(Default)]
+struct Wanted<'a> {
+    /// Rows of the release met so far.
+    rows: usize,
+    /// (index among the release's dependencies, the problem, its index in the ledger), by
+    /// dependency.
+    problems: Vec<(usize, &'a DeferredProblem, usize)>,
 }
 
 /// An upper estimate of the rows of a file of `bytes` bytes whose rows are at least

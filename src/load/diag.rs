@@ -1,6 +1,7 @@
 //! Diagnostics shared by every reader: unusable input ([`BadInput`]) and the ledger of
 //! records read, used and reported ([`Ledger`]).
 
+use super::bulk::DeferredRows;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::fmt;
@@ -259,7 +260,7 @@ impl ProblemKind {
 }
 
 /// One reported problem.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct Problem {
     pub kind: ProblemKind,
     pub origin: Origin,
@@ -283,10 +284,16 @@ pub struct Tally {
 /// The invariant `read == used + left_out` holds per record kind once loading ends; readers
 /// call [`Ledger::read`] for each record and exactly one of [`Ledger::used`] or a problem with
 /// `left_out` set.
+///
+/// A few problems may be reported at a stand-in place until [`Ledger::place_deferred`] finds
+/// their own (see there); counts, kinds and wording never change.
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct Ledger {
     pub tallies: BTreeMap<RecordKind, Tally>,
     pub problems: Vec<Problem>,
+    /// Problems whose own place takes another read of an input, with what that read needs.
+    #[serde(skip)]
+    deferred: Vec<DeferredRows>,
 }
 
 impl Ledger {
@@ -376,6 +383,70 @@ impl Ledger {
             mine.left_out += t.left_out;
         }
         self.problems.extend(other.problems);
+        self.deferred.extend(other.deferred);
+    }
+
+    /// Keeps `rows` for [`Ledger::place_deferred`].
+    pub(crate) fn defer(&mut self, rows: DeferredRows) {
+        self.deferred.push(rows);
+    }
+
+    /// How many problems wait for [`Ledger::place_deferred`] to find their own place.
+    pub fn deferred(&self) -> usize {
+        self.deferred.iter().map(DeferredRows::len).sum()
+    }
+
+    /// Moves the problems a load reported at a stand-in place to their own, reading an input
+    /// again to find them; returns how many moved. Call it before showing where problems
+    /// are: a caller that only counts them need not, and then pays nothing.
+    ///
+    /// Today these are the bulk format's dependency problems found once both files are read
+    /// (`unknown-dependency`, `unsatisfiable-requirement`): loaded, they name their
+    /// version's row in the versions file; placed, their dependency's row in the
+    /// dependencies file, which this reads a second time ([`crate::load::read_bulk`]). A
+    /// problem whose row cannot be found (the file changed since the load, or cannot be read
+    /// now) keeps its version's row. Problems keep their order in the list (sort again if
+    /// the order by place matters: [`Ledger::sort`], or [`crate::load::Inputs::place_deferred`],
+    /// which does both), and are found by value, so the ledger may be sorted or merged first.
+    /// Only the first call reads anything.
+    ///
+    /// ```
+    /// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+    /// let dir = tempfile::tempdir()?;
+    /// let (versions, deps) = (dir.path().join("versions.csv"), dir.path().join("deps.csv"));
+    /// std::fs::write(&versions, "package,version\npkg-a,1.0.0\npkg-b,2.0.0\n")?;
+    /// std::fs::write(
+    ///     &deps,
+    ///     "package,version,dependency,req\npkg-a,1.0.0,pkg-b,^2\npkg-a,1.0.0,pkg-b,^3\n",
+    /// )?;
+    /// let (_, mut ledger) = basefit::load::read_bulk(&versions, &deps)?;
+    /// let place = |ledger: &basefit::Ledger| {
+    ///     let origin = &ledger.problems[0].origin;
+    ///     let file = std::path::Path::new(&origin.file).file_name().unwrap().to_owned();
+    ///     format!("{}:{}", file.to_string_lossy(), origin.line)
+    /// };
+    /// assert_eq!(ledger.deferred(), 1);
+    /// assert_eq!(place(&ledger), "versions.csv:2");
+    /// assert_eq!(ledger.place_deferred(), 1);
+    /// assert_eq!(place(&ledger), "deps.csv:3");
+    /// assert_eq!(ledger.deferred(), 0);
+    /// assert_eq!(ledger.problems[0].detail, "requires pkg-b ^3, which no published version satisfies");
+    /// # Ok(()) }
+    /// ```
+    pub fn place_deferred(&mut self) -> usize {
+        self.place_deferred_showing(None)
+    }
+
+    /// [`Ledger::place_deferred`], showing the read on `progress`; the caller clears the bar.
+    pub(crate) fn place_deferred_showing(
+        &mut self,
+        progress: Option<&indicatif::ProgressBar>,
+    ) -> usize {
+        let deferred = std::mem::take(&mut self.deferred);
+        deferred
+            .iter()
+            .map(|rows| rows.place(&mut self.problems, progress))
+            .sum()
     }
 
     /// Problems grouped by kind, in a fixed order, each group in input order.

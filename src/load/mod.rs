@@ -120,7 +120,48 @@ pub struct Inputs {
     pub ledger: Ledger,
 }
 
+impl Inputs {
+    /// Moves every problem the load reported at a stand-in place to its own
+    /// ([`Ledger::place_deferred`]) and keeps the problems in order ([`Ledger::sort`]).
+    /// `progress`, if given, shows the read and is cleared after it. Call it before showing
+    /// where problems are (`check`, the error of `--strict`); a run that only counts them
+    /// should not, since it may read the bulk dependencies file a second time.
+    ///
+    /// ```
+    /// # fn main() -> Result<(), Box<dyn std::error::Error>> {
+    /// use basefit::load::{InputPaths, load_inputs};
+    /// let dir = tempfile::tempdir()?;
+    /// let (versions, deps) = (dir.path().join("versions.csv"), dir.path().join("deps.csv"));
+    /// std::fs::write(&versions, "package,version\npkg-a,1.0.0\n")?;
+    /// std::fs::write(&deps, "package,version,dependency\npkg-a,1.0.0,pkg-gone\n")?;
+    /// let paths = InputPaths { bulk: Some((versions.clone(), deps.clone())), ..Default::default() };
+    /// let mut inputs = load_inputs(&paths)?;
+    /// let first = |inputs: &basefit::load::Inputs| inputs.ledger.problems[0].origin.clone();
+    /// assert_eq!(first(&inputs).file, versions.display().to_string());
+    /// inputs.place_deferred(None);
+    /// assert_eq!(first(&inputs).file, deps.display().to_string());
+    /// assert_eq!(first(&inputs).line, 2);
+    /// # Ok(()) }
+    /// ```
+    pub fn place_deferred(&mut self, progress: Option<&indicatif::ProgressBar>) {
+        if self.ledger.deferred() == 0 {
+            return;
+        }
+        if self.ledger.place_deferred_showing(progress) > 0 {
+            self.ledger.sort();
+        }
+        if let Some(bar) = progress {
+            bar.finish_and_clear();
+        }
+    }
+}
+
 /// Loads every input named in `paths`. A missing optional input is simply empty.
+///
+/// Problems come sorted by place ([`Ledger::sort`]). A few may be at a stand-in place (a
+/// bulk registry's dependency problems at their version's row, see
+/// [`read_bulk`]) until [`Inputs::place_deferred`] finds their own; a caller that shows
+/// places calls it, one that only counts problems need not.
 pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
     let loaded = load_all(paths);
     // One clear for every step (each step's `start_bar` resets the bar), and also when a file

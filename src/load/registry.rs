@@ -44,8 +44,25 @@ pub struct RegistryBuilder {
     /// Where the name and requirement of each dependency of a version record are written,
     /// for the registry-wide checks to name. Kept beside the registry rather than in each
     /// [`Dep`]: the solver walks millions of those, and only a reported problem needs a line.
-    /// Versions read from the bulk format have none; their problems name the version's row.
+    /// Versions read from the bulk format have none: [`RegistryBuilder::finish_unplaced`]
+    /// lists their problems for the bulk reader to place on request.
     dep_lines: FxHashMap<ReleaseKey, Box<[DepLines]>>,
+}
+
+/// A problem about a dependency that the registry-wide checks could only report at its
+/// version's record, because the builder was never told the dependency's own line (the bulk
+/// reader keeps none: a line for each of millions of dependencies would cost more than the
+/// few problems are worth). The reader that can find the dependency's record keeps what it
+/// takes to move it there when asked ([`Ledger::place_deferred`]).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Unplaced {
+    /// Index into the ledger's problems.
+    pub problem: usize,
+    pub package: PackageId,
+    /// Index into the package's releases, once sorted.
+    pub release: usize,
+    /// Index into the release's dependencies, of every kind.
+    pub dep: usize,
 }
 
 /// A release as the registry-wide checks find it after sorting: its package, file, line and
@@ -420,7 +437,14 @@ impl RegistryBuilder {
 
     /// Sorts releases, drops duplicate versions, counts what is used and runs the
     /// registry-wide checks.
-    pub fn finish(mut self) -> (Registry, Ledger) {
+    pub fn finish(self) -> (Registry, Ledger) {
+        let (registry, ledger, _) = self.finish_unplaced();
+        (registry, ledger)
+    }
+
+    /// [`RegistryBuilder::finish`], also listing the problems about dependencies whose lines
+    /// it was not given; each is in the ledger at its version's record.
+    pub(crate) fn finish_unplaced(mut self) -> (Registry, Ledger, Vec<Unplaced>) {
         let registry = &mut self.registry;
         let ledger = &mut self.ledger;
         let (mut versions_used, mut deps_used, mut deps_dropped) = (0u64, 0u64, 0u64);
@@ -487,8 +511,8 @@ impl RegistryBuilder {
         ledger.used_many(RecordKind::Version, versions_used);
         ledger.used_many(RecordKind::Dependency, deps_used);
         ledger.left_out_with_owner(RecordKind::Dependency, deps_dropped);
-        registry_checks(registry, ledger, &self.dep_lines);
-        (self.registry, self.ledger)
+        let unplaced = registry_checks(registry, ledger, &self.dep_lines);
+        (self.registry, self.ledger, unplaced)
     }
 }
 
@@ -501,12 +525,13 @@ fn origin_of(files: &[String], file: u16, line: u32) -> Origin {
 }
 
 /// Registry-wide data-quality checks: unknown dependency names, requirements nothing
-/// satisfies, packages with nothing installable.
+/// satisfies, packages with nothing installable. Returns the problems about dependencies of
+/// releases without an entry in `dep_lines`.
 fn registry_checks(
     registry: &Registry,
     ledger: &mut Ledger,
     dep_lines: &FxHashMap<ReleaseKey, Box<[DepLines]>>,
-) {
+) -> Vec<Unplaced> {
     // Each distinct (target, requirement) pair is matched against the target's versions once,
     // in parallel: at registry scale this is millions of pairs.
     let mut pairs: FxHashMap<(PackageId, ReqId), bool> = FxHashMap::default();
@@ -533,46 +558,52 @@ fn registry_checks(
             ((target, req), ok)
         })
         .collect();
+    let mut unplaced = Vec::new();
     for (index, pkg) in registry.packages.iter().enumerate() {
         if !pkg.declared {
             continue;
         }
         let id = PackageId(index as u32);
-        for r in &pkg.releases {
-            // Looked up only for a problem: this loop sees every dependency.
-            let origin = |at: usize, line: fn(&DepLines) -> usize| {
-                let mut origin = origin_of(&registry.files, r.file, r.line);
-                if let Some(lines) = dep_lines.get(&(id, r.file, r.line, r.version.clone())) {
-                    origin.line = lines.get(at).map_or(origin.line, line);
-                }
-                origin
-            };
+        for (release, r) in pkg.releases.iter().enumerate() {
             let runtime_deps = r.deps.iter().enumerate();
             for (at, d) in runtime_deps.filter(|(_, d)| d.kind == DepKind::Runtime) {
                 let target = registry.package(d.package);
-                // The subject is formatted only for a problem: this loop sees every dependency.
-                if !target.declared {
-                    ledger.note(
+                // The subject and detail are formatted only for a problem: this loop sees
+                // every dependency.
+                let (kind, detail, line): (_, _, fn(&DepLines) -> usize) = if !target.declared {
+                    (
                         ProblemKind::UnknownDependency,
-                        origin(at, |l| l.name),
-                        format!("{}@{}", pkg.name, r.version),
                         format!(
                             "depends on `{}`, which the registry does not have",
                             target.name
                         ),
-                    );
+                        |l| l.name,
+                    )
                 } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
-                    ledger.note(
+                    (
                         ProblemKind::UnsatisfiableRequirement,
-                        origin(at, |l| l.req),
-                        format!("{}@{}", pkg.name, r.version),
                         format!(
                             "requires {} {}, which no published version satisfies",
                             target.name,
                             registry.requirement(d.req)
                         ),
-                    );
+                        |l| l.req,
+                    )
+                } else {
+                    continue;
+                };
+                let mut origin = origin_of(&registry.files, r.file, r.line);
+                // Looked up only for a problem: the key clones the version.
+                match dep_lines.get(&(id, r.file, r.line, r.version.clone())) {
+                    Some(lines) => origin.line = lines.get(at).map_or(origin.line, line),
+                    None => unplaced.push(Unplaced {
+                        problem: ledger.problems.len(),
+                        package: id,
+                        release,
+                        dep: at,
+                    }),
                 }
+                ledger.note(kind, origin, format!("{}@{}", pkg.name, r.version), detail);
             }
         }
         if pkg.releases.is_empty() {
@@ -591,6 +622,7 @@ fn registry_checks(
             );
         }
     }
+    unplaced
 }
 
 const TOP_FIELDS: &[&str] = &["packages"];
