@@ -189,6 +189,78 @@ fn merge_names_the_shard_file_at_fault() {
     );
 }
 
+/// Plans the demo in two shards under `dir`, applies `edit` to the parsed shards, writes them
+/// back and merges them; returns the shard paths, the exit code and stderr.
+fn merge_edited(
+    dir: &Path,
+    edit: impl FnOnce(&mut [serde_json::Value; 2]),
+) -> ([String; 2], i32, String) {
+    let paths = ["1/2", "2/2"].map(|s| plan_into(&dir.join(s.replace('/', "-of-")), Some(s)));
+    let mut shards = paths
+        .clone()
+        .map(|p| serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap());
+    edit(&mut shards);
+    for (path, shard) in paths.iter().zip(&shards) {
+        std::fs::write(path, serde_json::to_string_pretty(shard).unwrap()).unwrap();
+    }
+    let out = dir.join("merged");
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        out.to_str().unwrap(),
+        &paths[0],
+        &paths[1],
+    ]);
+    assert!(code != 2 || !out.exists(), "nothing is written on an error");
+    (paths, code, stderr)
+}
+
+#[test]
+fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
+    let dir = tempfile::tempdir().unwrap();
+    // A cell naming an image no part lists.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[1]["cells"][0]["image"] = "deb-9.9".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell 1 of the shard", paths[1]))
+            && stderr.contains("on deb-9.9) names a package or image the matrix does not list"),
+        "{stderr}"
+    );
+    // A cell moved into the other shard: the part that holds it out of place is named, not
+    // the part left without it.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        let moved = s[1]["cells"].as_array_mut().unwrap().remove(0);
+        s[0]["cells"].as_array_mut().unwrap().push(moved);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell ", paths[0]))
+            && stderr.contains("belongs to shard 2/2, not 1/2"),
+        "{stderr}"
+    );
+    // A cell given twice in one part.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        let copy = s[0]["cells"][3].clone();
+        s[0]["cells"].as_array_mut().unwrap().push(copy);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell ", paths[0])) && stderr.contains("is listed twice"),
+        "{stderr}"
+    );
+    // A cell removed: the shard it belongs to is named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[1]["cells"].as_array_mut().unwrap().remove(2);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: shard 2/2 lacks its cell for ", paths[1])),
+        "{stderr}"
+    );
+}
+
 #[test]
 fn a_plan_left_with_no_image_names_the_images_file() {
     let dir = tempfile::tempdir().unwrap();

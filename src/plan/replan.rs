@@ -1402,7 +1402,8 @@ impl fmt::Display for MergeError {
 
 /// Puts shard matrices back together into exactly the matrix a single run gives. Refuses
 /// parts that are not the shards of one split of one plan: planned from other inputs or
-/// options (their `planned_from` keys differ), given twice or missing.
+/// options (their `planned_from` keys differ), given twice or missing, or holding a cell
+/// that is not theirs, twice, or not at all.
 pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
     let fail = |part: Option<usize>, message: String| MergeError { part, message };
     let Some(first) = parts.first() else {
@@ -1485,24 +1486,50 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .enumerate()
         .map(|(i, c)| (c.id.as_str(), i))
         .collect();
+    // Each cell is held to the shard its position puts it in, so a cell that is wrong, twice
+    // or missing is blamed on the one part that should hold it, and the error can name a file.
     let mut cells: Vec<Option<Cell>> = vec![None; total];
-    for p in &parts {
-        for c in &p.cells {
+    for (part, p) in parts.iter().enumerate() {
+        let shard = p.shard.expect("every part was checked to be a shard");
+        for (j, c) in p.cells.iter().enumerate() {
             let (Some(&r), Some(&k)) = (rows.get(c.package.as_str()), cols.get(c.image.as_str()))
             else {
                 return Err(fail(
-                    None,
-                    format!("cell {} on {} is not in the matrix", c.package, c.image),
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) names a package or image the matrix does not list",
+                        j + 1,
+                        c.package,
+                        c.image
+                    ),
                 ));
             };
-            let slot = &mut cells[r * n + k];
-            if slot.is_some() {
+            let i = r * n + k;
+            if !shard.contains(i) {
                 return Err(fail(
-                    None,
-                    format!("cell {} on {} appears in two shards", c.package, c.image),
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) belongs to shard {}/{count}, not {}/{count}",
+                        j + 1,
+                        c.package,
+                        c.image,
+                        i % count + 1,
+                        shard.index
+                    ),
                 ));
             }
-            *slot = Some(c.clone());
+            if cells[i].is_some() {
+                return Err(fail(
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) is listed twice",
+                        j + 1,
+                        c.package,
+                        c.image
+                    ),
+                ));
+            }
+            cells[i] = Some(c.clone());
         }
     }
     let cells: Vec<Cell> = cells
@@ -1510,13 +1537,14 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .enumerate()
         .map(|(i, c)| {
             c.ok_or_else(|| {
+                let index = i % count + 1;
                 fail(
-                    None,
+                    seen.get(&index).copied(),
                     format!(
-                        "cell {} of {total} ({} on {}) is in no shard",
-                        i + 1,
+                        "shard {index}/{count} lacks its cell for {} on {} (cell {} of {total} of the whole matrix)",
                         first.packages[i / n].name,
-                        first.images[i % n].id
+                        first.images[i % n].id,
+                        i + 1
                     ),
                 )
             })
