@@ -391,7 +391,11 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
                 n => format!("the {n} shard files given"),
             },
         };
-        BadInput::file(file, e.message)
+        let message = match e.other.and_then(|k| Some((k, o.shards.get(k)?))) {
+            Some((k, path)) => format!("{} (part {} is {})", e.message, k + 1, path.display()),
+            None => e.message,
+        };
+        BadInput::file(file, message)
     })?;
     let mut out = Output::default();
     write_matrix(&merged, &o.out, &mut out)?;

@@ -262,6 +262,43 @@ fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
 }
 
 #[test]
+fn merge_names_both_shards_that_disagree() {
+    let dir = tempfile::tempdir().unwrap();
+    // Damage to the first part shows as the second disagreeing with it: which is wrong cannot
+    // be told, so both are named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["packages"][0]["weight"] = 0.5.into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: shard 2/2 lists other images or priorities than part 1 (part 1 is {})",
+            paths[1], paths[0]
+        )),
+        "{stderr}"
+    );
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["shard"]["count"] = 3.into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: shard 2/2 does not belong to the split into 3 that part 1 is from (part 1 is {})",
+            paths[1], paths[0]
+        )),
+        "{stderr}"
+    );
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["planned_from"] = "0".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("(part 1 is {})", paths[0])) && stderr.contains(&paths[1]),
+        "{stderr}"
+    );
+}
+
+#[test]
 fn a_plan_left_with_no_image_names_the_images_file() {
     let dir = tempfile::tempdir().unwrap();
     // The only image has a runtime that is not a version: it is left out, not fatal.

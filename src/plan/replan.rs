@@ -1391,6 +1391,9 @@ pub fn replan(
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct MergeError {
     pub part: Option<usize>,
+    /// The part `part` disagrees with, which the message names as "part N" (1-based): of two
+    /// parts that disagree either may be the damaged one, so a message must name both.
+    pub other: Option<usize>,
     pub message: String,
 }
 
@@ -1405,7 +1408,16 @@ impl fmt::Display for MergeError {
 /// options (their `planned_from` keys differ), given twice or missing, or holding a cell
 /// that is not theirs, twice, or not at all.
 pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
-    let fail = |part: Option<usize>, message: String| MergeError { part, message };
+    let fail = |part: Option<usize>, message: String| MergeError {
+        part,
+        other: None,
+        message,
+    };
+    let versus = |part: usize, other: usize, message: String| MergeError {
+        part: Some(part),
+        other: Some(other),
+        message,
+    };
     let Some(first) = parts.first() else {
         return Err(fail(None, "no shard matrices given".into()));
     };
@@ -1426,10 +1438,11 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
             ));
         };
         if s.count != count {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                0,
                 format!(
-                    "shard {}/{} does not belong to the split into {count} the first part is from",
+                    "shard {}/{} does not belong to the split into {count} that part 1 is from",
                     s.index, s.count
                 ),
             ));
@@ -1440,27 +1453,39 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 format!("shard {}/{} is not a valid shard", s.index, s.count),
             ));
         }
-        if p.planned_from.is_none() || p.planned_from != first.planned_from {
+        if p.planned_from.is_none() {
             return Err(fail(
                 Some(k),
                 format!(
-                    "shard {}/{count} was planned from other inputs or options than the first part (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
+                    "shard {}/{count} does not record what it was planned from (`planned_from`): it was written by another basefit version",
+                    s.index
+                ),
+            ));
+        }
+        if p.planned_from != first.planned_from {
+            return Err(versus(
+                k,
+                0,
+                format!(
+                    "shard {}/{count} was planned from other inputs or options than part 1 (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
                     s.index
                 ),
             ));
         }
         if p.images != first.images || p.packages != first.packages {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                0,
                 format!(
-                    "shard {}/{count} lists other images or priorities than the first part",
+                    "shard {}/{count} lists other images or priorities than part 1",
                     s.index
                 ),
             ));
         }
         if let Some(earlier) = seen.insert(s.index, k) {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                earlier,
                 format!(
                     "shard {}/{count} is given twice (also as part {})",
                     s.index,
