@@ -464,7 +464,15 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
         serde_json::from_str(&text).map_err(|e| (e.line(), e.column(), e.to_string()))
     };
     let m = parsed.map_err(|(line, column, e)| {
-        BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"))
+        let mut err = BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"));
+        // The YAML parser reads a text without a final line break as if one followed, so an
+        // error at its end would name a line after the last.
+        if yaml {
+            err.line = err
+                .line
+                .map(|l| l.min(crate::load::yaml::line_count(&text)));
+        }
+        err
     })?;
     m.check_layout().map_err(|e| BadInput::file(&file, e))?;
     Ok(m)

@@ -155,6 +155,20 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
         "{stderr}"
     );
     assert!(!stderr.contains("at line 2 column"), "{stderr}");
+    // A YAML matrix cut off inside a key: the YAML parser places the error on the line after
+    // the last, as if the text ended with a line break; the message names the last line.
+    let yaml_matrix = matrix.replace("matrix.json", "matrix.yaml");
+    let text = std::fs::read_to_string(&yaml_matrix).unwrap();
+    let kept = &text[..text.find("\n  runtime:").unwrap() + 6];
+    let cut = dir.path().join("cut.yaml");
+    std::fs::write(&cut, kept).unwrap();
+    let last = kept.lines().count();
+    let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", cut.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("cut.yaml:{last}: not a basefit matrix: ")),
+        "{stderr}"
+    );
 }
 
 #[test]
