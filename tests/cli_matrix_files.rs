@@ -118,6 +118,37 @@ fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
 }
 
 #[test]
+fn a_yaml_matrix_whose_weight_is_no_number_json_can_write_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None).replace("matrix.json", "matrix.yaml");
+    let text = std::fs::read_to_string(&matrix).unwrap();
+    let edited = dir.path().join("edited.yaml");
+    // Not-a-number and the infinities as the YAML 1.2.2 core schema spells them (section
+    // 10.3.2, "Tag Resolution"), and a negative weight, which no priority list can give.
+    for weight in [".nan", ".inf", "-.inf", "-1.5"] {
+        std::fs::write(
+            &edited,
+            text.replacen("weight: 8.9", &format!("weight: {weight}"), 1),
+        )
+        .unwrap();
+        let (code, _, stderr) = run_basefit([
+            "render",
+            "--quiet",
+            "--format",
+            "json",
+            "--matrix",
+            edited.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "{weight}: {stderr}");
+        assert!(
+            stderr.contains("edited.yaml: package row 2 (wattle-core): weight ")
+                && stderr.contains("is not a finite number of at least 0"),
+            "{weight}: {stderr}"
+        );
+    }
+}
+
+#[test]
 fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
     let dir = tempfile::tempdir().unwrap();
     let matrix = plan_into(dir.path(), None);

@@ -211,7 +211,10 @@ impl Matrix {
     /// Whether this is a whole matrix laid out as `plan` writes it: one cell per package row
     /// and image column, row by row, each naming its row's package and its column's image,
     /// and no image twice. Readers index cells by position, so a file that breaks this would
-    /// be rendered or compared wrongly rather than refused.
+    /// be rendered or compared wrongly rather than refused. Each row's weight must be a finite
+    /// number of at least 0, as a priority list's are: YAML can spell infinities and
+    /// not-a-number, which a JSON rendering of the matrix would write as `null`, and no
+    /// reader takes that back.
     ///
     /// ```
     /// use basefit::plan::Matrix;
@@ -249,6 +252,19 @@ impl Matrix {
                 self.cells.len(),
                 self.packages.len(),
                 n
+            ));
+        }
+        if let Some((i, row)) = self
+            .packages
+            .iter()
+            .enumerate()
+            .find(|(_, p)| !(p.weight.is_finite() && p.weight >= 0.0))
+        {
+            return Err(format!(
+                "package row {} ({}): weight {} is not a finite number of at least 0",
+                i + 1,
+                row.name,
+                row.weight
             ));
         }
         let mut ids: Vec<&str> = self.images.iter().map(|i| i.id.as_str()).collect();
