@@ -835,8 +835,15 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
             &mut ledger,
         )?);
     }
-    let fused = plan::fusion::fuse(&lists, o.method, o.missing)
-        .map_err(|e| BadInput::file("command line", e.to_string()))?;
+    let fused = plan::fusion::fuse(&lists, o.method, o.missing).map_err(|e| match &e {
+        plan::fusion::FuseError::NotScored {
+            file,
+            line: Some(line),
+            ..
+        } => BadInput::at(file, *line, e.message()),
+        plan::fusion::FuseError::NotScored { file, .. } => BadInput::file(file, e.message()),
+        plan::fusion::FuseError::BadConstant { .. } => BadInput::file("command line", e.message()),
+    })?;
     if fused.is_empty() {
         // An empty list is no priority list (the priority reader refuses one), and writing
         // it would pass the problems off as a result.
