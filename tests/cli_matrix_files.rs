@@ -577,3 +577,40 @@ fn results_outside_a_matrix_read_from_a_file_are_not_passed_over_in_silence() {
         "{stderr}"
     );
 }
+
+#[test]
+fn a_package_with_two_rows_is_refused_by_readers_and_by_merge() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("whole"), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    let n = m["images"].as_array().unwrap().len();
+    let row = m["packages"][0].clone();
+    let cells: Vec<serde_json::Value> = m["cells"].as_array().unwrap()[..n].to_vec();
+    m["packages"].as_array_mut().unwrap().push(row);
+    m["cells"].as_array_mut().unwrap().extend(cells);
+    let twice = dir.path().join("twice.json");
+    std::fs::write(&twice, serde_json::to_string(&m).unwrap()).unwrap();
+    // `diff` looks cells up by name: it called this matrix equal to the one without the copy.
+    let (code, _, stderr) = run_basefit(["diff", &matrix, twice.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("twice.json: package `tidewater-http` has two rows"),
+        "{stderr}"
+    );
+    // Shards that agree on the same doubled row: the first part is named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        for shard in s.iter_mut() {
+            let row = shard["packages"][0].clone();
+            shard["packages"].as_array_mut().unwrap().push(row);
+        }
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: package `tidewater-http` has two rows",
+            paths[0]
+        )),
+        "{stderr}"
+    );
+}

@@ -1497,6 +1497,9 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
     if let Some(missing) = (1..=count.min(parts.len() + 1)).find(|i| !seen.contains_key(i)) {
         return Err(fail(None, format!("shard {missing}/{count} is missing")));
     }
+    // Cells are placed by name; every part lists the same rows and columns, so the first
+    // speaks for all.
+    first.check_names().map_err(|e| fail(Some(0), e))?;
     let n = first.images.len();
     let total = first.packages.len() * n;
     let rows: HashMap<&str, usize> = first
