@@ -455,7 +455,11 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
                 n => format!("the {n} shard files given"),
             },
         };
-        BadInput::file(file, e.message)
+        let message = match e.other.and_then(|k| Some((k, o.shards.get(k)?))) {
+            Some((k, path)) => format!("{} (part {} is {})", e.message, k + 1, path.display()),
+            None => e.message,
+        };
+        BadInput::file(file, message)
     })?;
     let mut out = Output::default();
     write_matrix(&merged, &o.out, &mut out)?;
@@ -525,7 +529,15 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
         serde_json::from_str(&text).map_err(|e| (e.line(), e.column(), e.to_string()))
     };
     let m = parsed.map_err(|(line, column, e)| {
-        BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"))
+        let mut err = BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"));
+        // The YAML parser reads a text without a final line break as if one followed, so an
+        // error at its end would name a line after the last.
+        if yaml {
+            err.line = err
+                .line
+                .map(|l| l.min(crate::load::yaml::line_count(&text)));
+        }
+        err
     })?;
     m.check_layout().map_err(|e| BadInput::file(&file, e))?;
     Ok(m)
@@ -893,8 +905,15 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
             &mut ledger,
         )?);
     }
-    let fused = plan::fusion::fuse(&lists, o.method, o.missing)
-        .map_err(|e| BadInput::file("command line", e.to_string()))?;
+    let fused = plan::fusion::fuse(&lists, o.method, o.missing).map_err(|e| match &e {
+        plan::fusion::FuseError::NotScored {
+            file,
+            line: Some(line),
+            ..
+        } => BadInput::at(file, *line, e.message()),
+        plan::fusion::FuseError::NotScored { file, .. } => BadInput::file(file, e.message()),
+        plan::fusion::FuseError::BadConstant { .. } => BadInput::file("command line", e.message()),
+    })?;
     if fused.is_empty() {
         // An empty list is no priority list (the priority reader refuses one), and writing
         // it would pass the problems off as a result.

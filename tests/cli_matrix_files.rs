@@ -118,6 +118,37 @@ fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
 }
 
 #[test]
+fn a_yaml_matrix_whose_weight_is_no_number_json_can_write_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None).replace("matrix.json", "matrix.yaml");
+    let text = std::fs::read_to_string(&matrix).unwrap();
+    let edited = dir.path().join("edited.yaml");
+    // Not-a-number and the infinities as the YAML 1.2.2 core schema spells them (section
+    // 10.3.2, "Tag Resolution"), and a negative weight, which no priority list can give.
+    for weight in [".nan", ".inf", "-.inf", "-1.5"] {
+        std::fs::write(
+            &edited,
+            text.replacen("weight: 8.9", &format!("weight: {weight}"), 1),
+        )
+        .unwrap();
+        let (code, _, stderr) = run_basefit([
+            "render",
+            "--quiet",
+            "--format",
+            "json",
+            "--matrix",
+            edited.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "{weight}: {stderr}");
+        assert!(
+            stderr.contains("edited.yaml: package row 2 (wattle-core): weight ")
+                && stderr.contains("is not a finite number of at least 0"),
+            "{weight}: {stderr}"
+        );
+    }
+}
+
+#[test]
 fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
     let dir = tempfile::tempdir().unwrap();
     let matrix = plan_into(dir.path(), None);
@@ -155,6 +186,20 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
         "{stderr}"
     );
     assert!(!stderr.contains("at line 2 column"), "{stderr}");
+    // A YAML matrix cut off inside a key: the YAML parser places the error on the line after
+    // the last, as if the text ended with a line break; the message names the last line.
+    let yaml_matrix = matrix.replace("matrix.json", "matrix.yaml");
+    let text = std::fs::read_to_string(&yaml_matrix).unwrap();
+    let kept = &text[..text.find("\n  runtime:").unwrap() + 6];
+    let cut = dir.path().join("cut.yaml");
+    std::fs::write(&cut, kept).unwrap();
+    let last = kept.lines().count();
+    let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", cut.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("cut.yaml:{last}: not a basefit matrix: ")),
+        "{stderr}"
+    );
 }
 
 #[test]
@@ -185,6 +230,115 @@ fn merge_names_the_shard_file_at_fault() {
     assert_eq!(code, 2, "{stderr}");
     assert!(
         stderr.contains(&format!("{yaml}:1:")) && stderr.contains("matrix.json"),
+        "{stderr}"
+    );
+}
+
+/// Plans the demo in two shards under `dir`, applies `edit` to the parsed shards, writes them
+/// back and merges them; returns the shard paths, the exit code and stderr.
+fn merge_edited(
+    dir: &Path,
+    edit: impl FnOnce(&mut [serde_json::Value; 2]),
+) -> ([String; 2], i32, String) {
+    let paths = ["1/2", "2/2"].map(|s| plan_into(&dir.join(s.replace('/', "-of-")), Some(s)));
+    let mut shards = paths
+        .clone()
+        .map(|p| serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap());
+    edit(&mut shards);
+    for (path, shard) in paths.iter().zip(&shards) {
+        std::fs::write(path, serde_json::to_string_pretty(shard).unwrap()).unwrap();
+    }
+    let out = dir.join("merged");
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        out.to_str().unwrap(),
+        &paths[0],
+        &paths[1],
+    ]);
+    assert!(code != 2 || !out.exists(), "nothing is written on an error");
+    (paths, code, stderr)
+}
+
+#[test]
+fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
+    let dir = tempfile::tempdir().unwrap();
+    // A cell naming an image no part lists.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[1]["cells"][0]["image"] = "deb-9.9".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell 1 of the shard", paths[1]))
+            && stderr.contains("on deb-9.9) names a package or image the matrix does not list"),
+        "{stderr}"
+    );
+    // A cell moved into the other shard: the part that holds it out of place is named, not
+    // the part left without it.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        let moved = s[1]["cells"].as_array_mut().unwrap().remove(0);
+        s[0]["cells"].as_array_mut().unwrap().push(moved);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell ", paths[0]))
+            && stderr.contains("belongs to shard 2/2, not 1/2"),
+        "{stderr}"
+    );
+    // A cell given twice in one part.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        let copy = s[0]["cells"][3].clone();
+        s[0]["cells"].as_array_mut().unwrap().push(copy);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: cell ", paths[0])) && stderr.contains("is listed twice"),
+        "{stderr}"
+    );
+    // A cell removed: the shard it belongs to is named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[1]["cells"].as_array_mut().unwrap().remove(2);
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: shard 2/2 lacks its cell for ", paths[1])),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn merge_names_both_shards_that_disagree() {
+    let dir = tempfile::tempdir().unwrap();
+    // Damage to the first part shows as the second disagreeing with it: which is wrong cannot
+    // be told, so both are named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["packages"][0]["weight"] = 0.5.into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: shard 2/2 lists other images or priorities than part 1 (part 1 is {})",
+            paths[1], paths[0]
+        )),
+        "{stderr}"
+    );
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["shard"]["count"] = 3.into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: shard 2/2 does not belong to the split into 3 that part 1 is from (part 1 is {})",
+            paths[1], paths[0]
+        )),
+        "{stderr}"
+    );
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        s[0]["planned_from"] = "0".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("(part 1 is {})", paths[0])) && stderr.contains(&paths[1]),
         "{stderr}"
     );
 }
@@ -659,6 +813,43 @@ fn results_outside_a_matrix_read_from_a_file_are_not_passed_over_in_silence() {
     assert_eq!(code, 0, "{stderr}");
     assert!(
         stderr.contains("1 recorded results name cells the matrix does not have"),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn a_package_with_two_rows_is_refused_by_readers_and_by_merge() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("whole"), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    let n = m["images"].as_array().unwrap().len();
+    let row = m["packages"][0].clone();
+    let cells: Vec<serde_json::Value> = m["cells"].as_array().unwrap()[..n].to_vec();
+    m["packages"].as_array_mut().unwrap().push(row);
+    m["cells"].as_array_mut().unwrap().extend(cells);
+    let twice = dir.path().join("twice.json");
+    std::fs::write(&twice, serde_json::to_string(&m).unwrap()).unwrap();
+    // `diff` looks cells up by name: it called this matrix equal to the one without the copy.
+    let (code, _, stderr) = run_basefit(["diff", &matrix, twice.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("twice.json: package `tidewater-http` has two rows"),
+        "{stderr}"
+    );
+    // Shards that agree on the same doubled row: the first part is named.
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        for shard in s.iter_mut() {
+            let row = shard["packages"][0].clone();
+            shard["packages"].as_array_mut().unwrap().push(row);
+        }
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: package `tidewater-http` has two rows",
+            paths[0]
+        )),
         "{stderr}"
     );
 }

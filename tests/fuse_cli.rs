@@ -78,3 +78,42 @@ fn sources_with_no_usable_row_or_an_empty_window_are_input_errors() {
     assert_eq!(run.status.code(), Some(2), "{stderr}");
     assert!(stderr.contains("ends before it starts"), "{stderr}");
 }
+
+#[test]
+fn share_sum_names_the_row_without_a_score() {
+    let dir = tempfile::tempdir().unwrap();
+    let source = dir.path().join("stars.csv");
+    std::fs::write(&source, "rank,name,score\n1,gumleaf,420\n2,numbat,\n").unwrap();
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["fuse", "--method", "share-sum", "--source"])
+        .arg(&source)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}:3: share-sum fusion needs a score for every entry, but `numbat` has an empty `score`",
+            source.display()
+        )),
+        "{stderr}"
+    );
+    // A ranking without the column is refused at its header.
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args([
+            "fuse",
+            "--method",
+            "share-sum",
+            "--source",
+            "demo-data/sources/usage.csv",
+        ])
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("demo-data/sources/usage.csv:1: share-sum fusion needs a score")
+            && stderr.contains("no `score` column"),
+        "{stderr}"
+    );
+}

@@ -1,13 +1,16 @@
-//! Seeded mutation fuzzing of every input reader. Each valid demo input is damaged at random
+//! Seeded mutation fuzzing of every input reader. Each valid input is damaged at random
 //! (lines deleted, duplicated, swapped or re-indented, bytes flipped or inserted, invalid UTF-8
 //! and NUL, truncation, scalars replaced by hostile tokens, CRLF, a byte-order mark, and for
-//! JSON files values edited inside a structure that still parses) and read again:
+//! the files basefit writes itself, JSON or YAML, values edited inside a structure that still
+//! parses) and read again:
 //!
 //! - through the library: no panic; an error names the damaged file and, where it gives a
-//!   line, one that exists; a load that succeeds accounts for every record in the ledger;
+//!   line, one that exists; a load that succeeds accounts for every record in the ledger; what
+//!   a command writes from a damaged input (a matrix, a fused priority list, merged shards)
+//!   reads back as basefit's own input with nothing lost;
 //! - for the first few mutants of each input, through the binary at one and at two worker
 //!   threads: exit 0, 1 or 2 and never a crash, an exit 2 names the file, and both runs print
-//!   the same bytes.
+//!   (and write) the same bytes.
 //!
 //! `BASEFIT_FUZZ_CASES` (library mutants per input, default 60) and `BASEFIT_FUZZ_CLI_CASES`
 //! (of those, how many also run through the binary, default 4) set the size of a run;
@@ -16,8 +19,9 @@
 
 mod common;
 
-use basefit::load::{self, BadInput, InputPaths};
-use basefit::plan::replan::{CACHE_FORMAT, PlanCache, replan};
+use basefit::load::{self, BadInput, InputPaths, Ledger};
+use basefit::plan::fusion::{self, Method, Missing, Window};
+use basefit::plan::replan::{CACHE_FORMAT, PlanCache, Shard, replan};
 use basefit::plan::{Matrix, PlanOptions};
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
@@ -47,9 +51,9 @@ impl Rng {
     }
 }
 
-/// Values that readers get wrong: empty, out of range, YAML's null and empty collections,
-/// requirement operators without operands, over-long versions, control and bidirectional
-/// characters, and characters that end or open syntax in YAML, CSV and JSON.
+/// Values that readers get wrong: empty, out of range, YAML's null, infinities, not-a-number
+/// and empty collections, requirement operators without operands, over-long versions, control
+/// and bidirectional characters, and characters that end or open syntax in YAML, CSV and JSON.
 fn nasty_tokens() -> Vec<String> {
     let mut tokens: Vec<String> = [
         "",
@@ -61,6 +65,8 @@ fn nasty_tokens() -> Vec<String> {
         "1e999",
         "NaN",
         ".inf",
+        "-.inf",
+        ".nan",
         "0x1f",
         "~",
         "null",
@@ -273,9 +279,9 @@ fn shorten(text: &str) -> String {
     }
 }
 
-/// Edits one value inside a JSON document and writes it back, so the damage reaches the
-/// checks behind the parser: numbers off by one or out of range, list items removed,
-/// repeated or swapped, strings replaced by hostile tokens.
+/// Edits one value inside a JSON document (or a YAML one read as JSON values) so the damage
+/// reaches the checks behind the parser: numbers off by one, out of range or not numbers at
+/// all, list items removed, repeated or swapped, strings replaced by hostile tokens.
 fn mutate_json(rng: &mut Rng, value: &mut serde_json::Value, tokens: &[String]) -> String {
     fn count(v: &serde_json::Value) -> usize {
         1 + match v {
@@ -327,13 +333,16 @@ fn mutate_json(rng: &mut Rng, value: &mut serde_json::Value, tokens: &[String]) 
     let what = match target {
         serde_json::Value::Number(num) => {
             let old = num.as_i64().unwrap_or(0);
-            let new: serde_json::Value = match rng.below(7) {
+            let new: serde_json::Value = match rng.below(9) {
                 0 => (old + 1).into(),
                 1 => (old - 1).into(),
                 2 => 0.into(),
                 3 => u32::MAX.into(),
                 4 => u64::MAX.into(),
                 5 => (-1).into(),
+                // JSON has no spelling for these; `yaml_floats` makes them numbers in YAML.
+                6 => ".nan".into(),
+                7 => "-.inf".into(),
                 _ => serde_json::Value::Null,
             };
             let text = new.to_string();
@@ -390,8 +399,35 @@ enum Target {
     ResultsJsonLines,
     Log,
     Matrix,
+    MatrixYaml,
     Cache,
     Catalog,
+    /// `fuse` sources: a scored list with dates, a bare ranking, and a ranking that keeps
+    /// scores and dates.
+    FuseScores,
+    FuseRanks,
+    FuseRanksWithScores,
+    /// The two shard matrices `merge` reads; the first part sets the split the others join.
+    ShardFirst,
+    ShardSecond,
+}
+
+/// Where the commands read a damaged file.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Role {
+    /// Among the inputs `load::load_inputs` reads.
+    Input,
+    /// Beside those inputs, which stay undamaged, so they are loaded once per run.
+    BesideInputs,
+    /// Without them: `fuse` and `merge` read only files of their own kind.
+    Alone,
+}
+
+/// How the structure of a file basefit writes can be edited while it still parses.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Syntax {
+    Json,
+    Yaml,
 }
 
 impl Target {
@@ -409,16 +445,79 @@ impl Target {
             Target::ResultsJsonLines => "results.jsonl",
             Target::Log => "logs/gumleaf-deb-2.8.log",
             Target::Matrix => "matrix.json",
+            Target::MatrixYaml => "matrix.yaml",
             Target::Cache => "plan.cache",
             Target::Catalog => "catalog.yaml",
+            Target::FuseScores => "downloads.csv",
+            Target::FuseRanks => "usage.csv",
+            Target::FuseRanksWithScores => "stars.csv",
+            Target::ShardFirst => "shard-1.json",
+            Target::ShardSecond => "shard-2.json",
         }
     }
 
-    /// Whether structure-aware JSON edits apply.
-    fn json(self) -> bool {
-        matches!(self, Target::Matrix | Target::Cache)
+    /// The syntax of a file basefit writes, for structure-aware edits.
+    fn written_by_basefit(self) -> Option<Syntax> {
+        match self {
+            Target::Matrix | Target::Cache | Target::ShardFirst | Target::ShardSecond => {
+                Some(Syntax::Json)
+            }
+            Target::MatrixYaml => Some(Syntax::Yaml),
+            _ => None,
+        }
+    }
+
+    /// The same matrix in the other syntax, which `diff` compares a damaged one with.
+    fn twin(self) -> Target {
+        match self {
+            Target::Matrix => Target::MatrixYaml,
+            Target::MatrixYaml => Target::Matrix,
+            other => panic!("{other:?} is not a matrix"),
+        }
+    }
+
+    fn role(self) -> Role {
+        match self {
+            Target::Matrix | Target::MatrixYaml | Target::Cache => Role::BesideInputs,
+            Target::FuseScores
+            | Target::FuseRanks
+            | Target::FuseRanksWithScores
+            | Target::ShardFirst
+            | Target::ShardSecond => Role::Alone,
+            _ => Role::Input,
+        }
+    }
+
+    /// Whether the command reads the damaged file together with others of its kind and may
+    /// blame the disagreement on either: its error must name the damaged file, but may do so
+    /// in the message rather than as the file it is about.
+    fn read_with_siblings(self) -> bool {
+        matches!(
+            self,
+            Target::FuseScores
+                | Target::FuseRanks
+                | Target::FuseRanksWithScores
+                | Target::ShardFirst
+                | Target::ShardSecond
+        )
     }
 }
+
+const FUSE_SOURCES: [Target; 3] = [
+    Target::FuseScores,
+    Target::FuseRanks,
+    Target::FuseRanksWithScores,
+];
+
+/// A ranking with every optional column, so a ranked list's scores (kept for share-sum) and
+/// dates (read for a window) are damaged too; the demo's `usage.csv` has neither.
+const STARS: &str = "\
+rank,name,score,date
+1,gumleaf,420,2026-10-01
+2,tidewater-http,310,2026-10-02
+3,numbat-json,120,2026-10-02
+4,wattle-core,95,2026-10-03
+";
 
 /// A folder holding a valid copy of every input, the demo's wherever there is one.
 struct Fixture {
@@ -465,6 +564,9 @@ impl Fixture {
             (Target::PrioritiesCsv, copy("demo-data/priorities.csv")),
             (Target::ResultsYaml, copy("demo-data/results.yaml")),
             (Target::Catalog, CATALOG.as_bytes().to_vec()),
+            (Target::FuseScores, copy("demo-data/sources/downloads.csv")),
+            (Target::FuseRanks, copy("demo-data/sources/usage.csv")),
+            (Target::FuseRanksWithScores, STARS.as_bytes().to_vec()),
         ];
         std::fs::create_dir(dir.path().join("logs")).unwrap();
         for entry in std::fs::read_dir(root.join("demo-data/logs")).unwrap() {
@@ -486,13 +588,25 @@ impl Fixture {
         let (csv, jsonl) = results_as_csv_and_json_lines(&inputs);
         let options = PlanOptions::default();
         let (cache, _) = replan(&inputs, &options, None, None);
-        let matrix = basefit::report::to_json(&cache.matrix);
+        let shard = |index| {
+            let (part, _) = replan(&inputs, &options, None, Some(Shard { index, count: 2 }));
+            basefit::report::to_json(&part.matrix).into_bytes()
+        };
         let mut fixture = fixture;
         fixture.originals.extend([
             (Target::ResultsCsv, csv.into_bytes()),
             (Target::ResultsJsonLines, jsonl.into_bytes()),
-            (Target::Matrix, matrix.into_bytes()),
+            (
+                Target::Matrix,
+                basefit::report::to_json(&cache.matrix).into_bytes(),
+            ),
+            (
+                Target::MatrixYaml,
+                basefit::report::to_yaml(&cache.matrix).into_bytes(),
+            ),
             (Target::Cache, cache.to_sealed_json().into_bytes()),
+            (Target::ShardFirst, shard(1)),
+            (Target::ShardSecond, shard(2)),
         ]);
         fixture.write_originals();
         fixture
@@ -662,23 +776,37 @@ fn mutant(
     let mut bytes = fixture.original(target).to_vec();
     let mut done = Vec::new();
     for _ in 0..1 + rng.below(3) {
-        let structured = target.json() && rng.below(2) == 0;
-        let parsed = serde_json::from_slice::<serde_json::Value>(&bytes);
+        let syntax = target.written_by_basefit().filter(|_| rng.below(2) == 0);
+        let parsed = match syntax {
+            Some(Syntax::Json) => serde_json::from_slice::<serde_json::Value>(&bytes).ok(),
+            Some(Syntax::Yaml) => serde_yaml::from_slice::<serde_json::Value>(&bytes).ok(),
+            None => None,
+        };
         match parsed {
-            Ok(mut value) if structured => {
+            Some(mut value) => {
                 done.push(mutate_json(&mut rng, &mut value, tokens));
-                bytes = if target == Target::Cache {
-                    reseal(&value)
+                bytes = match target {
+                    Target::Cache => reseal(&value)
                         .unwrap_or_else(|| value.to_string())
-                        .into_bytes()
-                } else {
-                    serde_json::to_vec_pretty(&value).unwrap()
+                        .into_bytes(),
+                    Target::MatrixYaml => yaml_floats(&serde_yaml::to_string(&value).unwrap()),
+                    _ => serde_json::to_vec_pretty(&value).unwrap(),
                 };
             }
-            _ => done.push(mutate_bytes(&mut rng, &mut bytes, tokens)),
+            None => done.push(mutate_bytes(&mut rng, &mut bytes, tokens)),
         }
     }
     (bytes, done)
+}
+
+/// YAML written from JSON values, with the strings that spell YAML's infinities and
+/// not-a-number unquoted, so an edit can put them where a number belongs.
+fn yaml_floats(yaml: &str) -> Vec<u8> {
+    let mut yaml = yaml.to_string();
+    for float in [".nan", ".inf", "-.inf"] {
+        yaml = yaml.replace(&format!("'{float}'"), float);
+    }
+    yaml.into_bytes()
 }
 
 /// A cache edited by structure is sealed again when it still reads as one, as if basefit
@@ -690,18 +818,22 @@ fn reseal(value: &serde_json::Value) -> Option<String> {
     Some(cache.to_sealed_json())
 }
 
-/// Every line an error names lies in the file, and every error names the damaged file.
-fn check_error(err: &BadInput, file: &str, text: &[u8]) -> Result<(), String> {
+/// Every line an error names lies in the file, and every error names the damaged file. With
+/// `siblings` (files read together, such as the parts of a merge) an error about another of
+/// them passes if it names the damaged one too: which of two disagreeing files is the wrong one
+/// cannot be known. Never is the command line to blame: it is the same for every mutant.
+fn check_error(err: &BadInput, file: &str, text: &[u8], siblings: bool) -> Result<(), String> {
     // YAML ends a line at a lone CR too, so a file with stray CRs has more lines to YAML than
     // to `wc -l`; either count is accepted.
     let crlf = text.windows(2).filter(|w| w == b"\r\n").count();
     let breaks = text.iter().filter(|&&b| b == b'\n' || b == b'\r').count() - crlf;
     let lines = breaks + 1;
     for e in std::iter::once(err).chain(&err.more) {
-        if e.file != file {
+        let named = e.file == file || (siblings && e.to_string().contains(file));
+        if !named || e.file == "command line" {
             return Err(format!("error names {} instead of {file}: {e}", e.file));
         }
-        if let Some(line) = e.line
+        if let Some(line) = e.line.filter(|_| e.file == file)
             && !(1..=lines).contains(&line)
         {
             return Err(format!("line {line} of a {lines}-line file: {e}"));
@@ -726,44 +858,103 @@ fn panic_text(payload: Box<dyn std::any::Any + Send>) -> String {
         .unwrap_or_else(|| "a panic".to_string())
 }
 
-/// The library side of one mutant: loads it (and for a matrix or cache, uses it as the
-/// command that reads it does) and returns what went wrong.
-fn check_library(fixture: &Fixture, target: Target, text: &[u8]) -> Result<(), String> {
-    let damaged = fixture.path(target).display().to_string();
-    let loaded = catch_unwind(AssertUnwindSafe(|| {
-        load::load_inputs(&fixture.paths(target))
-    }))
-    .map_err(|p| format!("loading panicked: {}", panic_text(p)))?;
-    let inputs = match loaded {
-        Err(e) if target == Target::Log => return Err(format!("a log file failed the load: {e}")),
-        Err(e) => return check_error(&e, &damaged, text),
-        Ok(inputs) => inputs,
-    };
-    let unbalanced = inputs.ledger.unbalanced();
-    if !unbalanced.is_empty() {
-        let tallies: Vec<String> = unbalanced
-            .iter()
-            .map(|k| format!("{k:?} {:?}", inputs.ledger.tally(*k)))
-            .collect();
-        return Err(format!("ledger does not balance: {}", tallies.join(", ")));
+/// A ledger in which some kind of record is neither used nor left out, as a finding.
+fn balanced(ledger: &Ledger) -> Result<(), String> {
+    let unbalanced = ledger.unbalanced();
+    if unbalanced.is_empty() {
+        return Ok(());
     }
-    let used = catch_unwind(AssertUnwindSafe(|| use_file(fixture, target, &inputs)))
-        .map_err(|p| format!("using the input panicked: {}", panic_text(p)))?;
-    match used {
-        Ok(()) => Ok(()),
-        Err(e) => check_error(&e, &damaged, text),
+    let tallies: Vec<String> = unbalanced
+        .iter()
+        .map(|k| format!("{k:?} {:?}", ledger.tally(*k)))
+        .collect();
+    Err(format!("ledger does not balance: {}", tallies.join(", ")))
+}
+
+/// How using a damaged file can end other than well.
+enum Used {
+    /// Refused as bad input: right, if the error names the file and a line in it.
+    Refused(BadInput),
+    /// Accepted, but what came of it is wrong.
+    Wrong(String),
+}
+
+impl From<BadInput> for Used {
+    fn from(e: BadInput) -> Used {
+        Used::Refused(e)
     }
 }
 
-/// Reads a matrix or a cache as the commands do and uses what reads; logs are classified.
-fn use_file(fixture: &Fixture, target: Target, inputs: &load::Inputs) -> Result<(), BadInput> {
+impl From<String> for Used {
+    fn from(what: String) -> Used {
+        Used::Wrong(what)
+    }
+}
+
+/// A command's error: bad input is a refusal; anything else (a failed write) is a finding.
+fn refused(e: anyhow::Error) -> Used {
+    match e.downcast::<BadInput>() {
+        Ok(bad) => Used::Refused(bad),
+        Err(other) => Used::Wrong(format!("not an input error: {other:#}")),
+    }
+}
+
+/// The library side of one mutant: loads it (and for a file a command reads beside the
+/// inputs, or alone, uses it as that command does) and returns what went wrong. `beside` are
+/// the undamaged inputs of a `Role::BesideInputs` target.
+fn check_library(
+    fixture: &Fixture,
+    target: Target,
+    text: &[u8],
+    beside: Option<&load::Inputs>,
+) -> Result<(), String> {
+    let damaged = fixture.path(target).display().to_string();
+    let siblings = target.read_with_siblings();
+    let mut loaded = None;
+    if target.role() == Role::Input {
+        let load = catch_unwind(AssertUnwindSafe(|| {
+            load::load_inputs(&fixture.paths(target))
+        }))
+        .map_err(|p| format!("loading panicked: {}", panic_text(p)))?;
+        match load {
+            Err(e) if target == Target::Log => {
+                return Err(format!("a log file failed the load: {e}"));
+            }
+            Err(e) => return check_error(&e, &damaged, text, siblings),
+            Ok(inputs) => {
+                balanced(&inputs.ledger)?;
+                loaded = Some(inputs);
+            }
+        }
+    }
+    let inputs = loaded.as_ref().or(beside);
+    let used = catch_unwind(AssertUnwindSafe(|| use_file(fixture, target, inputs)))
+        .map_err(|p| format!("using the input panicked: {}", panic_text(p)))?;
+    match used {
+        Ok(()) => Ok(()),
+        Err(Used::Refused(e)) => check_error(&e, &damaged, text, siblings),
+        Err(Used::Wrong(what)) => Err(what),
+    }
+}
+
+/// The undamaged inputs a `Role::BesideInputs` target is read with.
+fn inputs_beside(fixture: &Fixture, target: Target) -> Option<load::Inputs> {
+    (target.role() == Role::BesideInputs)
+        .then(|| load::load_inputs(&fixture.paths(target)).unwrap())
+}
+
+/// Uses the damaged file as the commands that read it do: a matrix is rendered, compared and
+/// diffed, a cache re-planned from, fuse sources fused, shards merged; logs are classified.
+/// `inputs` are given for every target but those read alone.
+fn use_file(fixture: &Fixture, target: Target, inputs: Option<&load::Inputs>) -> Result<(), Used> {
+    let inputs = || inputs.expect("given for a target read with the inputs");
     match target {
         Target::Log => {
-            for r in &inputs.results {
+            for r in &inputs().results {
                 basefit::verify::logs::classify(r.log.as_deref().unwrap_or(""));
             }
         }
-        Target::Matrix => {
+        Target::Matrix | Target::MatrixYaml => {
             let mut matrix: Matrix = basefit::commands::read_matrix(&fixture.path(target))?;
             for render in [
                 basefit::report::html,
@@ -772,9 +963,16 @@ fn use_file(fixture: &Fixture, target: Target, inputs: &load::Inputs) -> Result<
             ] {
                 render(&matrix);
             }
-            let review = basefit::verify::compare_inputs(&matrix, inputs);
+            let undamaged = basefit::commands::read_matrix(&fixture.path(target.twin()))
+                .map_err(|e| format!("the undamaged matrix does not read: {e}"))?;
+            basefit::verify::diff::diff(&undamaged, &matrix, basefit::report::markdown);
+            let review = basefit::verify::compare_inputs(&matrix, inputs());
             basefit::verify::annotate(&mut matrix, &review);
-            basefit::report::to_yaml(&matrix);
+            reads_back(
+                fixture,
+                &matrix,
+                "an accepted matrix, annotated as `render` writes it",
+            )?;
         }
         Target::Cache => {
             let text = std::fs::read_to_string(fixture.path(target)).unwrap_or_default();
@@ -784,10 +982,159 @@ fn use_file(fixture: &Fixture, target: Target, inputs: &load::Inputs) -> Result<
                 && cache.check().is_ok()
                 && PlanCache::seal_holds(&text)
             {
-                replan(inputs, &PlanOptions::default(), Some(cache), None);
+                replan(inputs(), &PlanOptions::default(), Some(cache), None);
             }
         }
+        Target::FuseScores | Target::FuseRanks | Target::FuseRanksWithScores => {
+            fuse_sources(fixture, target)?;
+        }
+        Target::ShardFirst | Target::ShardSecond => merge_shards(fixture)?,
         _ => {}
+    }
+    Ok(())
+}
+
+/// The source sets `fuse` is run on, with the window each is read within, and the method
+/// the command line uses on it. Share-sum needs a score in every list and a window a date
+/// column, which the demo's ranking has neither of, so those run on the other two.
+fn fuse_runs() -> [(&'static [Target], Option<&'static str>, &'static str); 3] {
+    const SCORED: &[Target] = &[Target::FuseScores, Target::FuseRanksWithScores];
+    [
+        (&FUSE_SOURCES, None, "reciprocal"),
+        (SCORED, None, "share-sum"),
+        (SCORED, Some("2026-10-01..2026-10-02"), "borda"),
+    ]
+}
+
+const FUSE_METHODS: [Method; 4] = [
+    Method::RankSum,
+    Method::Borda,
+    Method::RECIPROCAL,
+    Method::ShareSum,
+];
+
+/// Fuses every source set holding `target` by every method: the ledger balances, and the
+/// list `fuse` writes reads back through the priority reader, cleanly, with every name of
+/// every source exactly once.
+fn fuse_sources(fixture: &Fixture, target: Target) -> Result<(), Used> {
+    for (sources, window, _) in fuse_runs() {
+        if !sources.contains(&target) {
+            continue;
+        }
+        let window = window.map(|w| Window::parse(w).unwrap());
+        let paths: Vec<PathBuf> = sources.iter().map(|t| fixture.path(*t)).collect();
+        let mut ledger = Ledger::default();
+        let mut names = std::collections::BTreeSet::new();
+        for path in &paths {
+            let list = fusion::read_source_csv_within(path, window, &mut ledger)?;
+            names.extend(list.entries().iter().map(|e| e.name.clone()));
+        }
+        balanced(&ledger)?;
+        for method in FUSE_METHODS {
+            if method == Method::ShareSum && sources.contains(&Target::FuseRanks) {
+                continue;
+            }
+            for missing in [Missing::WorstPlusOne, Missing::Exclude] {
+                let out = basefit::commands::fuse(&basefit::commands::FuseCommand {
+                    sources: paths.clone(),
+                    method,
+                    missing,
+                    window,
+                    out: None,
+                })
+                .map_err(refused)?;
+                let what = format!("the list fused by {} ({})", method.label(), missing.label());
+                let mut back = Ledger::default();
+                let list = basefit::load::priorities::read_priorities_str(
+                    "fused.yaml",
+                    &out.stdout,
+                    &mut back,
+                )
+                .map_err(|e| format!("{what} does not read as a priority list: {e}"))?;
+                if !back.is_clean() {
+                    let problem = &back.problems[0];
+                    return Err(Used::Wrong(format!(
+                        "{what} reads back with problems: {}: {}: {}",
+                        problem.origin, problem.subject, problem.detail
+                    )));
+                }
+                let fused: Vec<&String> = list.entries.iter().map(|e| &e.name).collect();
+                if fused.len() != names.len() || !fused.iter().all(|n| names.contains(*n)) {
+                    return Err(Used::Wrong(format!(
+                        "{what} holds {fused:?}, the sources {names:?}"
+                    )));
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Merges the two shards as `merge` does: the whole matrix it writes holds every cell of the
+/// parts and reads back, from JSON and from YAML, as `render`, `review` and `diff` read it.
+fn merge_shards(fixture: &Fixture) -> Result<(), Used> {
+    let out = fixture.dir.path().join("merged");
+    let _ = std::fs::remove_dir_all(&out);
+    std::fs::create_dir(&out).unwrap();
+    let shards = vec![
+        fixture.path(Target::ShardFirst),
+        fixture.path(Target::ShardSecond),
+    ];
+    basefit::commands::merge(&basefit::commands::MergeCommand {
+        shards: shards.clone(),
+        out: out.clone(),
+    })
+    .map_err(refused)?;
+    #[derive(serde::Deserialize)]
+    struct Cells {
+        cells: Vec<serde::de::IgnoredAny>,
+    }
+    // Every part reads, since the merge read it.
+    let part_cells: usize = shards
+        .iter()
+        .map(|p| {
+            let text = std::fs::read_to_string(p).unwrap();
+            serde_json::from_str::<Cells>(&text).unwrap().cells.len()
+        })
+        .sum();
+    let mut read = Vec::new();
+    for name in ["matrix.json", "matrix.yaml"] {
+        let merged = basefit::commands::read_matrix(&out.join(name))
+            .map_err(|e| format!("the merged {name} does not read back: {e}"))?;
+        if merged.cells.len() != part_cells {
+            return Err(Used::Wrong(format!(
+                "the merged {name} holds {} cells, the parts {part_cells}",
+                merged.cells.len()
+            )));
+        }
+        read.push(basefit::report::to_json(&merged));
+    }
+    if read[0] != read[1] {
+        return Err(Used::Wrong(
+            "the merged matrix.json and matrix.yaml read back as different matrices".into(),
+        ));
+    }
+    Ok(())
+}
+
+/// `matrix` written as `render` and `merge` write it, as JSON and as YAML, reads back as the
+/// same matrix.
+fn reads_back(fixture: &Fixture, matrix: &Matrix, what: &str) -> Result<(), Used> {
+    let json = basefit::report::to_json(matrix);
+    let written = [
+        ("written.json", json.clone()),
+        ("written.yaml", basefit::report::to_yaml(matrix)),
+    ];
+    for (name, text) in written {
+        let path = fixture.dir.path().join(name);
+        std::fs::write(&path, &text).unwrap();
+        let back = basefit::commands::read_matrix(&path)
+            .map_err(|e| format!("{what}, written as {name}, does not read back: {e}"))?;
+        if basefit::report::to_json(&back) != json {
+            return Err(Used::Wrong(format!(
+                "{what}, written as {name}, reads back as another matrix"
+            )));
+        }
     }
     Ok(())
 }
@@ -814,26 +1161,79 @@ fn commands(fixture: &Fixture, target: Target) -> Vec<Vec<String>> {
         args.extend(extra.iter().cloned());
         args
     };
-    let matrix = fixture.path(Target::Matrix).display().to_string();
-    let matrix_flag = ["--matrix".to_string(), matrix];
+    let shown = |t: Target| fixture.path(t).display().to_string();
+    let matrix_flag = ["--matrix".to_string(), shown(target)];
+    // The damaged matrix is the later one, so every change it makes is listed.
+    let diff = |before: Target| vec!["diff".to_string(), shown(before), shown(target)];
     match target {
         Target::ResultsYaml | Target::ResultsCsv | Target::ResultsJsonLines | Target::Log => vec![
             with("check", true, &[]),
             with("review", true, &[]),
             with("render", true, &[]),
         ],
-        Target::Matrix => vec![
-            with(
-                "render",
-                false,
-                &[&matrix_flag[..], &["--format".into(), "html".into()]].concat(),
-            ),
-            with("review", true, &matrix_flag),
-        ],
+        Target::Matrix | Target::MatrixYaml => {
+            // A matrix read from YAML is printed as JSON: what YAML can hold that JSON cannot
+            // (infinities, not-a-number) shows there.
+            let format = if target == Target::Matrix {
+                "html"
+            } else {
+                "json"
+            };
+            vec![
+                with(
+                    "render",
+                    false,
+                    &[&matrix_flag[..], &["--format".into(), format.into()]].concat(),
+                ),
+                with("review", true, &matrix_flag),
+                diff(target.twin()),
+            ]
+        }
         // Filled in per run: each run reads and rewrites its own copy.
         Target::Cache => vec![with("plan", false, &[])],
+        Target::FuseScores | Target::FuseRanks | Target::FuseRanksWithScores => fuse_runs()
+            .into_iter()
+            .filter(|(sources, _, _)| sources.contains(&target))
+            .map(|(sources, window, method)| {
+                let mut args = vec!["fuse".to_string(), "--method".into(), method.into()];
+                for source in sources {
+                    args.extend(["--source".to_string(), shown(*source)]);
+                }
+                if let Some(w) = window {
+                    args.extend(["--window".to_string(), w.to_string()]);
+                }
+                args
+            })
+            .collect(),
+        Target::ShardFirst | Target::ShardSecond => vec![vec![
+            "merge".to_string(),
+            "--out".into(),
+            OUT.into(),
+            shown(Target::ShardFirst),
+            shown(Target::ShardSecond),
+        ]],
         _ => vec![with("check", true, &[]), with("plan", false, &[])],
     }
+}
+
+/// Stands for a fresh output folder per run in `commands`; what the run writes there is
+/// compared with the other run's as its stdout is.
+const OUT: &str = "{out}";
+
+/// The files in `dir`, each after its name, in name order.
+fn written_files(dir: &Path) -> String {
+    let mut names: Vec<PathBuf> = std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .collect();
+    names.sort();
+    let mut all = String::new();
+    for path in names {
+        let name = path.file_name().unwrap().to_string_lossy().into_owned();
+        let text = String::from_utf8_lossy(&std::fs::read(&path).unwrap()).into_owned();
+        all.push_str(&format!("\n== {name}\n{text}"));
+    }
+    all
 }
 
 /// The command-line side of one mutant, at one and at two worker threads.
@@ -850,7 +1250,16 @@ fn check_cli(fixture: &Fixture, target: Target, text: &[u8]) -> Result<(), Strin
                 named = copy.display().to_string();
                 args.extend(["--cache".to_string(), named.clone()]);
             }
-            let (code, stdout, stderr) = run(&args, threads);
+            let out = fixture.dir.path().join(format!("out-{threads}"));
+            let writes = args.iter_mut().find(|a| *a == OUT).map(|arg| {
+                let _ = std::fs::remove_dir_all(&out);
+                std::fs::create_dir(&out).unwrap();
+                *arg = out.display().to_string();
+            });
+            let (code, mut stdout, stderr) = run(&args, threads);
+            if writes.is_some() {
+                stdout.push_str(&written_files(&out));
+            }
             let shown = format!("`basefit {}` at {threads} thread(s)", args[0]);
             if stdout.contains("panicked")
                 || stderr.contains("panicked")
@@ -908,10 +1317,11 @@ fn fuzz(target: Target) {
         target,
         failures: Vec::new(),
     };
+    let beside = inputs_beside(&fixture, target);
     for (case, seed) in seeds(target).into_iter().enumerate() {
         let (text, mutations) = mutant(&fixture, target, seed, &tokens);
         std::fs::write(fixture.path(target), &text).unwrap();
-        if let Err(what) = check_library(&fixture, target, &text) {
+        if let Err(what) = check_library(&fixture, target, &text, beside.as_ref()) {
             findings.fail(seed, &mutations, what);
         } else if case < cli_cases
             && let Err(what) = check_cli(&fixture, target, &text)
@@ -993,6 +1403,36 @@ fn catalog_yaml() {
     fuzz(Target::Catalog);
 }
 
+#[test]
+fn matrix_yaml() {
+    fuzz(Target::MatrixYaml);
+}
+
+#[test]
+fn fuse_scored_source() {
+    fuzz(Target::FuseScores);
+}
+
+#[test]
+fn fuse_ranked_source() {
+    fuzz(Target::FuseRanks);
+}
+
+#[test]
+fn fuse_ranked_source_with_scores() {
+    fuzz(Target::FuseRanksWithScores);
+}
+
+#[test]
+fn merge_first_shard() {
+    fuzz(Target::ShardFirst);
+}
+
+#[test]
+fn merge_second_shard() {
+    fuzz(Target::ShardSecond);
+}
+
 /// The unchanged fixture passes every check, so a failure above is the mutation's doing; and
 /// the checks are not vacuous: a damaged file is refused naming it.
 #[test]
@@ -1001,24 +1441,32 @@ fn the_unchanged_fixture_is_clean_and_damage_is_caught() {
     for target in [
         Target::Registry,
         Target::Matrix,
+        Target::MatrixYaml,
         Target::Cache,
         Target::BulkVersions,
+        Target::FuseScores,
+        Target::FuseRanks,
+        Target::FuseRanksWithScores,
+        Target::ShardFirst,
+        Target::ShardSecond,
     ] {
         let text = fixture.original(target).to_vec();
-        check_library(&fixture, target, &text).unwrap();
+        let beside = inputs_beside(&fixture, target);
+        check_library(&fixture, target, &text, beside.as_ref()).unwrap();
         check_cli(&fixture, target, &text).unwrap();
     }
     let damaged = b"packages:\n  - name: [unclosed\n";
     std::fs::write(fixture.path(Target::Registry), damaged).unwrap();
-    check_library(&fixture, Target::Registry, damaged).unwrap();
+    check_library(&fixture, Target::Registry, damaged, None).unwrap();
     let err = load::load_inputs(&fixture.paths(Target::Registry)).unwrap_err();
-    assert!(check_error(&err, "elsewhere.yaml", damaged).is_err());
+    assert!(check_error(&err, "elsewhere.yaml", damaged, false).is_err());
     let lines = BadInput::at(fixture.path(Target::Registry).display().to_string(), 9, "x");
     assert!(
         check_error(
             &lines,
             &fixture.path(Target::Registry).display().to_string(),
-            damaged
+            damaged,
+            false
         )
         .is_err()
     );

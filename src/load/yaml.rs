@@ -61,7 +61,7 @@ struct Builder<'p> {
     error: Option<(usize, String)>,
     progress: Option<&'p Progress<'p>>,
     events: u32,
-    /// The text's last line ([`yaml_line_count`]): no node or error lies beyond it.
+    /// The text's last line ([`line_count`]): no node or error lies beyond it.
     last_line: usize,
 }
 
@@ -217,7 +217,7 @@ pub fn parse_showing(
         error: None,
         progress,
         events: 0,
-        last_line: yaml_line_count(text),
+        last_line: line_count(text),
     };
     let mut parser = Parser::new_from_str(text);
     if let Err(e) = parser.load(&mut builder, true) {
@@ -248,7 +248,7 @@ pub fn parse_showing(
 
 /// Lines as YAML counts them (a line ends at LF, CRLF or a lone CR), counting the empty line
 /// after a final line break, where an error at the end of the text is placed.
-fn yaml_line_count(text: &str) -> usize {
+pub(crate) fn line_count(text: &str) -> usize {
     let bytes = text.as_bytes();
     let lone_cr = bytes
         .iter()

@@ -110,6 +110,15 @@ pub struct SourceEntry {
 pub struct SourceList {
     file: String,
     entries: Vec<SourceEntry>,
+    /// Where the list first lacks a score, when it does: what [`FuseError::NotScored`] says.
+    unscored: Option<Unscored>,
+}
+
+/// The first place a list lacks a score: a line of its file when it was read from one.
+#[derive(Debug, Clone, PartialEq)]
+struct Unscored {
+    line: Option<usize>,
+    detail: String,
 }
 
 impl SourceList {
@@ -146,7 +155,12 @@ impl SourceList {
             }
             rows.push((name, (i + 1) as f64, None));
         }
-        Ok(assign_ranks(file, rows, Order::Ascending))
+        let mut list = assign_ranks(file, rows, Order::Ascending);
+        list.unscored = Some(Unscored {
+            line: None,
+            detail: "the list has no scores".to_string(),
+        });
+        Ok(list)
     }
 
     /// A list ordered by score, highest first; a name given more than once has its scores
@@ -249,7 +263,11 @@ fn assign_ranks(
         .zip(ranks)
         .map(|((name, _, score), rank)| SourceEntry { name, rank, score })
         .collect();
-    SourceList { file, entries }
+    SourceList {
+        file,
+        entries,
+        unscored: None,
+    }
 }
 
 fn from_sums(file: String, sums: BTreeMap<String, f64>) -> SourceList {
@@ -366,6 +384,14 @@ fn read_table(
     let mut ranked_rows: Vec<(String, f64, Option<f64>)> = Vec::new();
     let mut first_line: HashMap<String, usize> = HashMap::new();
     let mut sums: BTreeMap<String, f64> = BTreeMap::new();
+    // A ranking may leave scores out; share-sum then needs to say where.
+    let mut unscored = match (ranked, cols.score) {
+        (true, None) => Some(Unscored {
+            line: Some(1),
+            detail: "the list has no `score` column".to_string(),
+        }),
+        _ => None,
+    };
     while let Some(row) = table.next_row()? {
         rows_read += 1;
         local.read(RecordKind::SourceEntry);
@@ -403,6 +429,12 @@ fn read_table(
                 match good.rank {
                     Some(rank) => {
                         first_line.insert(good.name.clone(), row.line);
+                        if good.score.is_none() && unscored.is_none() {
+                            unscored = Some(Unscored {
+                                line: Some(row.line),
+                                detail: format!("`{}` has an empty `score`", good.name),
+                            });
+                        }
                         ranked_rows.push((good.name, rank, good.score));
                     }
                     None => {
@@ -419,11 +451,13 @@ fn read_table(
         return Err(BadInput::file(&file, "no entries after the header"));
     }
     ledger.merge(local);
-    Ok(if ranked {
+    let mut list = if ranked {
         assign_ranks(file, ranked_rows, Order::Ascending)
     } else {
         from_sums(file, sums)
-    })
+    };
+    list.unscored = unscored;
+    Ok(list)
 }
 
 fn check_row(row: &Row, cols: &Columns, window: Option<Window>, ranked: bool) -> Result<Good, Bad> {
@@ -577,8 +611,14 @@ pub struct Fused {
 /// Why lists cannot be fused.
 #[derive(Debug, Clone, PartialEq)]
 pub enum FuseError {
-    /// [`Method::ShareSum`] was asked for but a list has entries without a score.
-    NotScored { file: String },
+    /// [`Method::ShareSum`] was asked for but a list has entries without a score: `line` is
+    /// where its file first lacks one (the header when it has no `score` column), when the
+    /// list was read from a file, and `detail` says what is missing there.
+    NotScored {
+        file: String,
+        line: Option<usize>,
+        detail: String,
+    },
     /// The reciprocal constant `k` must be finite and not negative.
     BadConstant { k: f64 },
 }
@@ -586,16 +626,31 @@ pub enum FuseError {
 impl fmt::Display for FuseError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            FuseError::NotScored { file } => write!(
-                f,
-                "{file}: share-sum fusion needs a score for every entry; use a rank-based method \
-                 or add a `score` column"
-            ),
+            FuseError::NotScored { file, line, .. } => {
+                match line {
+                    Some(line) => write!(f, "{file}:{line}: ")?,
+                    None => write!(f, "{file}: ")?,
+                }
+                f.write_str(&self.message())
+            }
             FuseError::BadConstant { k } => write!(
                 f,
                 "the reciprocal rank fusion constant k must be a finite number of at least 0, \
                  not {k}"
             ),
+        }
+    }
+}
+
+impl FuseError {
+    /// What is wrong, without the file and line of [`FuseError::NotScored`].
+    pub fn message(&self) -> String {
+        match self {
+            FuseError::NotScored { detail, .. } => format!(
+                "share-sum fusion needs a score for every entry, but {detail}; use a rank-based \
+                 method or give every entry a score"
+            ),
+            FuseError::BadConstant { .. } => self.to_string(),
         }
     }
 }
@@ -631,8 +686,14 @@ pub fn fuse(
     if method == Method::ShareSum
         && let Some(list) = lists.iter().find(|l| !l.is_scored())
     {
+        let unscored = list.unscored.clone().unwrap_or_else(|| Unscored {
+            line: None,
+            detail: "some entries have no score".to_string(),
+        });
         return Err(FuseError::NotScored {
             file: list.file.clone(),
+            line: unscored.line,
+            detail: unscored.detail,
         });
     }
     let mut terms: BTreeMap<&str, (Vec<f64>, usize)> = BTreeMap::new();
@@ -1128,10 +1189,26 @@ mod tests {
         let lists = [ranked("top.csv", &["a"])];
         let err = fuse(&lists, Method::ShareSum, Missing::Exclude).unwrap_err();
         assert_eq!(
-            err,
-            FuseError::NotScored {
-                file: "top.csv".into()
-            }
+            err.to_string(),
+            "top.csv: share-sum fusion needs a score for every entry, but the list has no \
+             scores; use a rank-based method or give every entry a score"
+        );
+        // Read from a file, the line where a score is first missing is named.
+        let mut ledger = Ledger::default();
+        let text = "rank,name,score\n1,a,5\n2,b,\n3,c,\n";
+        let lists = [read_source_str("top.csv", text, None, &mut ledger).unwrap()];
+        let err = fuse(&lists, Method::ShareSum, Missing::Exclude).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "top.csv:3: share-sum fusion needs a score for every entry, but `b` has an empty \
+             `score`; use a rank-based method or give every entry a score"
+        );
+        let lists = [read_source_str("top.csv", "rank,name\n1,a\n", None, &mut ledger).unwrap()];
+        let err = fuse(&lists, Method::ShareSum, Missing::Exclude).unwrap_err();
+        assert!(
+            err.to_string()
+                .starts_with("top.csv:1: share-sum fusion needs a score for every entry, but the list has no `score` column;"),
+            "{err}"
         );
         for k in [f64::NAN, -1.0, f64::INFINITY] {
             assert!(fuse(&lists, Method::Reciprocal { k }, Missing::Exclude).is_err());

@@ -210,8 +210,11 @@ impl Matrix {
 
     /// Whether this is a whole matrix laid out as `plan` writes it: one cell per package row
     /// and image column, row by row, each naming its row's package and its column's image,
-    /// and no image twice. Readers index cells by position, so a file that breaks this would
-    /// be rendered or compared wrongly rather than refused.
+    /// and no image or package twice ([`Matrix::check_names`]). Readers index cells by position, so a file that breaks this would
+    /// be rendered or compared wrongly rather than refused. Each row's weight must be a finite
+    /// number of at least 0, as a priority list's are: YAML can spell infinities and
+    /// not-a-number, which a JSON rendering of the matrix would write as `null`, and no
+    /// reader takes that back.
     ///
     /// ```
     /// use basefit::plan::Matrix;
@@ -251,11 +254,20 @@ impl Matrix {
                 n
             ));
         }
-        let mut ids: Vec<&str> = self.images.iter().map(|i| i.id.as_str()).collect();
-        ids.sort_unstable();
-        if let Some(w) = ids.windows(2).find(|w| w[0] == w[1]) {
-            return Err(format!("image `{}` has two columns", w[0]));
+        if let Some((i, row)) = self
+            .packages
+            .iter()
+            .enumerate()
+            .find(|(_, p)| !(p.weight.is_finite() && p.weight >= 0.0))
+        {
+            return Err(format!(
+                "package row {} ({}): weight {} is not a finite number of at least 0",
+                i + 1,
+                row.name,
+                row.weight
+            ));
         }
+        self.check_names()?;
         for (i, cell) in self.cells.iter().enumerate() {
             let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
             if cell.package != *package || cell.image != *image {
@@ -266,6 +278,23 @@ impl Matrix {
                     cell.image
                 ));
             }
+        }
+        Ok(())
+    }
+
+    /// Whether every package has one row and every image one column. Cells are looked up by
+    /// name, so a second row or column of one name would be shown but never compared: `diff`
+    /// would call a matrix with an extra copy of a row equal to the one without it.
+    pub fn check_names(&self) -> Result<(), String> {
+        let mut ids: Vec<&str> = self.images.iter().map(|i| i.id.as_str()).collect();
+        ids.sort_unstable();
+        if let Some(w) = ids.windows(2).find(|w| w[0] == w[1]) {
+            return Err(format!("image `{}` has two columns", w[0]));
+        }
+        let mut names: Vec<&str> = self.packages.iter().map(|p| p.name.as_str()).collect();
+        names.sort_unstable();
+        if let Some(w) = names.windows(2).find(|w| w[0] == w[1]) {
+            return Err(format!("package `{}` has two rows", w[0]));
         }
         Ok(())
     }

@@ -1391,6 +1391,9 @@ pub fn replan(
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct MergeError {
     pub part: Option<usize>,
+    /// The part `part` disagrees with, which the message names as "part N" (1-based): of two
+    /// parts that disagree either may be the damaged one, so a message must name both.
+    pub other: Option<usize>,
     pub message: String,
 }
 
@@ -1402,9 +1405,19 @@ impl fmt::Display for MergeError {
 
 /// Puts shard matrices back together into exactly the matrix a single run gives. Refuses
 /// parts that are not the shards of one split of one plan: planned from other inputs or
-/// options (their `planned_from` keys differ), given twice or missing.
+/// options (their `planned_from` keys differ), given twice or missing, or holding a cell
+/// that is not theirs, twice, or not at all.
 pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
-    let fail = |part: Option<usize>, message: String| MergeError { part, message };
+    let fail = |part: Option<usize>, message: String| MergeError {
+        part,
+        other: None,
+        message,
+    };
+    let versus = |part: usize, other: usize, message: String| MergeError {
+        part: Some(part),
+        other: Some(other),
+        message,
+    };
     let Some(first) = parts.first() else {
         return Err(fail(None, "no shard matrices given".into()));
     };
@@ -1425,10 +1438,11 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
             ));
         };
         if s.count != count {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                0,
                 format!(
-                    "shard {}/{} does not belong to the split into {count} the first part is from",
+                    "shard {}/{} does not belong to the split into {count} that part 1 is from",
                     s.index, s.count
                 ),
             ));
@@ -1439,27 +1453,39 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 format!("shard {}/{} is not a valid shard", s.index, s.count),
             ));
         }
-        if p.planned_from.is_none() || p.planned_from != first.planned_from {
+        if p.planned_from.is_none() {
             return Err(fail(
                 Some(k),
                 format!(
-                    "shard {}/{count} was planned from other inputs or options than the first part (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
+                    "shard {}/{count} does not record what it was planned from (`planned_from`): it was written by another basefit version",
+                    s.index
+                ),
+            ));
+        }
+        if p.planned_from != first.planned_from {
+            return Err(versus(
+                k,
+                0,
+                format!(
+                    "shard {}/{count} was planned from other inputs or options than part 1 (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
                     s.index
                 ),
             ));
         }
         if p.images != first.images || p.packages != first.packages {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                0,
                 format!(
-                    "shard {}/{count} lists other images or priorities than the first part",
+                    "shard {}/{count} lists other images or priorities than part 1",
                     s.index
                 ),
             ));
         }
         if let Some(earlier) = seen.insert(s.index, k) {
-            return Err(fail(
-                Some(k),
+            return Err(versus(
+                k,
+                earlier,
                 format!(
                     "shard {}/{count} is given twice (also as part {})",
                     s.index,
@@ -1471,6 +1497,9 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
     if let Some(missing) = (1..=count.min(parts.len() + 1)).find(|i| !seen.contains_key(i)) {
         return Err(fail(None, format!("shard {missing}/{count} is missing")));
     }
+    // Cells are placed by name; every part lists the same rows and columns, so the first
+    // speaks for all.
+    first.check_names().map_err(|e| fail(Some(0), e))?;
     let n = first.images.len();
     let total = first.packages.len() * n;
     let rows: HashMap<&str, usize> = first
@@ -1485,24 +1514,50 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .enumerate()
         .map(|(i, c)| (c.id.as_str(), i))
         .collect();
+    // Each cell is held to the shard its position puts it in, so a cell that is wrong, twice
+    // or missing is blamed on the one part that should hold it, and the error can name a file.
     let mut cells: Vec<Option<Cell>> = vec![None; total];
-    for p in &parts {
-        for c in &p.cells {
+    for (part, p) in parts.iter().enumerate() {
+        let shard = p.shard.expect("every part was checked to be a shard");
+        for (j, c) in p.cells.iter().enumerate() {
             let (Some(&r), Some(&k)) = (rows.get(c.package.as_str()), cols.get(c.image.as_str()))
             else {
                 return Err(fail(
-                    None,
-                    format!("cell {} on {} is not in the matrix", c.package, c.image),
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) names a package or image the matrix does not list",
+                        j + 1,
+                        c.package,
+                        c.image
+                    ),
                 ));
             };
-            let slot = &mut cells[r * n + k];
-            if slot.is_some() {
+            let i = r * n + k;
+            if !shard.contains(i) {
                 return Err(fail(
-                    None,
-                    format!("cell {} on {} appears in two shards", c.package, c.image),
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) belongs to shard {}/{count}, not {}/{count}",
+                        j + 1,
+                        c.package,
+                        c.image,
+                        i % count + 1,
+                        shard.index
+                    ),
                 ));
             }
-            *slot = Some(c.clone());
+            if cells[i].is_some() {
+                return Err(fail(
+                    Some(part),
+                    format!(
+                        "cell {} of the shard ({} on {}) is listed twice",
+                        j + 1,
+                        c.package,
+                        c.image
+                    ),
+                ));
+            }
+            cells[i] = Some(c.clone());
         }
     }
     let cells: Vec<Cell> = cells
@@ -1510,13 +1565,14 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .enumerate()
         .map(|(i, c)| {
             c.ok_or_else(|| {
+                let index = i % count + 1;
                 fail(
-                    None,
+                    seen.get(&index).copied(),
                     format!(
-                        "cell {} of {total} ({} on {}) is in no shard",
-                        i + 1,
+                        "shard {index}/{count} lacks its cell for {} on {} (cell {} of {total} of the whole matrix)",
                         first.packages[i / n].name,
-                        first.images[i % n].id
+                        first.images[i % n].id,
+                        i + 1
                     ),
                 )
             })
