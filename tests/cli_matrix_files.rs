@@ -306,6 +306,81 @@ fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
     );
 }
 
+/// `merge` holds shards to what `render` and `diff` ask of a matrix, so it never writes one
+/// they refuse.
+#[test]
+fn merge_refuses_what_a_matrix_reader_would() {
+    let dir = tempfile::tempdir().unwrap();
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        for shard in s.iter_mut() {
+            shard["packages"][0]["weight"] = (-5.0).into();
+        }
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("{}: package row 1 (", paths[0]))
+            && stderr.contains("weight -5 is not a finite number of at least 0"),
+        "{stderr}"
+    );
+}
+
+/// Rows and columns added by hand, however many, give an error naming a shard rather than an
+/// allocation that ends the run.
+#[test]
+fn merge_allocates_by_the_cells_the_shards_hold() {
+    let dir = tempfile::tempdir().unwrap();
+    // 40,000 images x 40,000 packages would be 1.6 billion cells.
+    const MANY: usize = 40_000;
+    let (paths, code, stderr) = merge_edited(dir.path(), |s| {
+        for shard in s.iter_mut() {
+            let images = shard["images"].as_array_mut().unwrap();
+            let template = images[0].clone();
+            let packages = shard["packages"].as_array_mut().unwrap();
+            let row = packages[0].clone();
+            for i in 0..MANY {
+                let mut row = row.clone();
+                row["name"] = format!("added-{i}").into();
+                packages.push(row);
+            }
+            let images = shard["images"].as_array_mut().unwrap();
+            for i in 0..MANY {
+                let mut column = template.clone();
+                column["id"] = format!("added-{i}").into();
+                images.push(column);
+            }
+        }
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("lacks its cell for"), "{stderr}");
+    assert!(
+        stderr.contains(&paths[0]) || stderr.contains(&paths[1]),
+        "{stderr}"
+    );
+}
+
+/// A weight written `-0` reads back as zero, as a priority list's does, so no rendering
+/// prints `-0`.
+#[test]
+fn a_matrix_weight_of_minus_zero_renders_as_zero() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = plan_into(&dir.path().join("plan"), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    m["packages"][0]["weight"] = (-0.0).into();
+    std::fs::write(&path, serde_json::to_string(&m).unwrap()).unwrap();
+    let out = dir.path().join("out");
+    let (code, _, stderr) =
+        run_basefit(["render", "--matrix", &path, "--out", out.to_str().unwrap()]);
+    assert_eq!(code, 0, "{stderr}");
+    for file in ["matrix.csv", "matrix.html", "matrix.json", "matrix.yaml"] {
+        let text = std::fs::read_to_string(out.join(file)).unwrap();
+        assert!(
+            !text.contains(",-0,") && !text.contains("w -0<") && !text.contains("-0.0"),
+            "{file} prints a signed zero"
+        );
+    }
+}
+
 #[test]
 fn merge_names_both_shards_that_disagree() {
     let dir = tempfile::tempdir().unwrap();

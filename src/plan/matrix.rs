@@ -159,9 +159,16 @@ pub struct ImageColumn {
 pub struct PackageRow {
     pub rank: usize,
     pub name: String,
+    #[serde(deserialize_with = "unsigned_zero")]
     pub weight: f64,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub summary: Option<String>,
+}
+
+/// A weight read back as `-0` is zero, as a priority list's is: every document that carries
+/// the weight would print the sign.
+fn unsigned_zero<'de, D: serde::Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+    f64::deserialize(d).map(|w| w + 0.0)
 }
 
 /// Printed with every matrix: predictions are not install results.
@@ -254,6 +261,25 @@ impl Matrix {
                 n
             ));
         }
+        self.check_rows()?;
+        for (i, cell) in self.cells.iter().enumerate() {
+            let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
+            if cell.package != *package || cell.image != *image {
+                return Err(format!(
+                    "cell {} is {} on {} where {package} on {image} belongs (cells must follow the rows and columns)",
+                    i + 1,
+                    cell.package,
+                    cell.image
+                ));
+            }
+        }
+        Ok(())
+    }
+
+    /// What [`Matrix::check_layout`] asks of the rows and columns alone, which shards of one
+    /// plan share: finite weights of at least 0 and no package or image twice
+    /// ([`Matrix::check_names`]).
+    pub fn check_rows(&self) -> Result<(), String> {
         if let Some((i, row)) = self
             .packages
             .iter()
@@ -267,19 +293,7 @@ impl Matrix {
                 row.weight
             ));
         }
-        self.check_names()?;
-        for (i, cell) in self.cells.iter().enumerate() {
-            let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
-            if cell.package != *package || cell.image != *image {
-                return Err(format!(
-                    "cell {} is {} on {} where {package} on {image} belongs (cells must follow the rows and columns)",
-                    i + 1,
-                    cell.package,
-                    cell.image
-                ));
-            }
-        }
-        Ok(())
+        self.check_names()
     }
 
     /// Whether every package has one row and every image one column. Cells are looked up by

@@ -48,7 +48,7 @@ use crate::solve::sets::{IndexSet, root_set};
 use crate::solve::{Admission, ImageView, Observed, SetCache};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::fmt::{self, Write as _};
 use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -1498,10 +1498,10 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         return Err(fail(None, format!("shard {missing}/{count} is missing")));
     }
     // Cells are placed by name; every part lists the same rows and columns, so the first
-    // speaks for all.
-    first.check_names().map_err(|e| fail(Some(0), e))?;
+    // speaks for all. Its weights are checked too: the merged matrix must read back.
+    first.check_rows().map_err(|e| fail(Some(0), e))?;
     let n = first.images.len();
-    let total = first.packages.len() * n;
+    let total = first.packages.len().saturating_mul(n);
     let rows: HashMap<&str, usize> = first
         .packages
         .iter()
@@ -1516,7 +1516,12 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         .collect();
     // Each cell is held to the shard its position puts it in, so a cell that is wrong, twice
     // or missing is blamed on the one part that should hold it, and the error can name a file.
-    let mut cells: Vec<Option<Cell>> = vec![None; total];
+    // Held by position and sorted afterwards rather than in a slot per cell of the whole
+    // matrix: rows and columns edited in by hand could ask for more slots than memory holds,
+    // while the cells the shards do hold are bounded by their files.
+    let held: usize = parts.iter().map(|p| p.cells.len()).sum();
+    let mut placed: Vec<(usize, &Cell)> = Vec::with_capacity(held);
+    let mut taken: HashSet<usize> = HashSet::with_capacity(held);
     for (part, p) in parts.iter().enumerate() {
         let shard = p.shard.expect("every part was checked to be a shard");
         for (j, c) in p.cells.iter().enumerate() {
@@ -1546,7 +1551,7 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                     ),
                 ));
             }
-            if cells[i].is_some() {
+            if !taken.insert(i) {
                 return Err(fail(
                     Some(part),
                     format!(
@@ -1557,27 +1562,28 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                     ),
                 ));
             }
-            cells[i] = Some(c.clone());
+            placed.push((i, c));
         }
     }
-    let cells: Vec<Cell> = cells
-        .into_iter()
-        .enumerate()
-        .map(|(i, c)| {
-            c.ok_or_else(|| {
-                let index = i % count + 1;
-                fail(
-                    seen.get(&index).copied(),
-                    format!(
-                        "shard {index}/{count} lacks its cell for {} on {} (cell {} of {total} of the whole matrix)",
-                        first.packages[i / n].name,
-                        first.images[i % n].id,
-                        i + 1
-                    ),
-                )
-            })
-        })
-        .collect::<Result<_, _>>()?;
+    placed.sort_unstable_by_key(|&(i, _)| i);
+    // Positions are distinct and below `total`: the first one out of step with the order is
+    // the first cell missing.
+    let gap = (0..placed.len())
+        .find(|&k| placed[k].0 != k)
+        .or((placed.len() < total).then_some(placed.len()));
+    if let Some(i) = gap {
+        let index = i % count + 1;
+        return Err(fail(
+            seen.get(&index).copied(),
+            format!(
+                "shard {index}/{count} lacks its cell for {} on {} (cell {} of {total} of the whole matrix)",
+                first.packages[i / n].name,
+                first.images[i % n].id,
+                i + 1
+            ),
+        ));
+    }
+    let cells: Vec<Cell> = placed.into_iter().map(|(_, c)| c.clone()).collect();
     Ok(Matrix {
         notice: first.notice.clone(),
         native_skipped: parts.iter().any(|p| p.native_skipped),
