@@ -116,4 +116,21 @@ fn share_sum_names_the_row_without_a_score() {
             && stderr.contains("no `score` column"),
         "{stderr}"
     );
+    // Blank lines may come before the header: the error names the header's own line.
+    let spaced = dir.path().join("spaced.csv");
+    std::fs::write(&spaced, "\n\nrank,name\n1,gumleaf\n").unwrap();
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["fuse", "--method", "share-sum", "--source"])
+        .arg(&spaced)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}:3: share-sum fusion needs a score",
+            spaced.display()
+        )),
+        "{stderr}"
+    );
 }

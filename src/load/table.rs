@@ -9,6 +9,8 @@ pub struct Table {
     pub file: String,
     /// Size of the input in bytes when it is a file: lets readers size their buffers once.
     pub byte_len: Option<u64>,
+    /// The header's 1-based line: problems with the columns are reported there.
+    pub header_line: usize,
     columns: Vec<String>,
     reader: csv::Reader<CountingInput<Box<dyn std::io::Read + Send>>>,
 }
@@ -41,6 +43,17 @@ impl<R: std::io::Read> std::io::Read for CountingInput<R> {
         self.delivered += n as u64;
         Ok(n)
     }
+}
+
+/// The csv crate reads an unclosed quote to the end of the file, so every line after it
+/// would vanish into one cell uncounted.
+fn unclosed_quote(file: &str, line: usize) -> BadInput {
+    BadInput::at(
+        file,
+        line,
+        "a quoted cell in this row is never closed: every line after it would be read into \
+         that cell (a `\"` missing, or one that should have been doubled)",
+    )
 }
 
 /// One data row and its 1-based line in the file.
@@ -251,7 +264,8 @@ impl Table {
         // csv crate's CRLF mode the line it reports for each row of a CRLF file is one short.
         // Field counts are checked here rather than by the crate, so a blank CRLF line (one
         // field holding `\r`) can be skipped like a blank LF line.
-        let mut reader = csv::ReaderBuilder::new()
+        let reader = csv::ReaderBuilder::new()
+            .has_headers(false)
             .flexible(true)
             .terminator(csv::Terminator::Any(b'\n'))
             .from_reader(CountingInput {
@@ -261,9 +275,37 @@ impl Table {
                 last_visible: None,
                 ended: false,
             });
-        let headers = reader
-            .headers()
-            .map_err(|e| csv_error(file, e))?
+        let mut table = Table {
+            file: file.to_string(),
+            byte_len: None,
+            header_line: 1,
+            columns: Vec::new(),
+            reader,
+        };
+        // Read as a record, not through the crate's header handling, so that blank lines
+        // before it (a CRLF one holds a lone `\r`) are skipped as rows are, and its line is
+        // counted as a row's is: problems with the columns are reported there.
+        let mut header_record = csv::StringRecord::new();
+        loop {
+            if !table
+                .reader
+                .read_record(&mut header_record)
+                .map_err(|e| csv_error(file, e))?
+            {
+                header_record.clear();
+                break;
+            }
+            let unclosed = table.ends_in_open_quote(&header_record);
+            table.header_line = table.first_line(&header_record, unclosed);
+            if unclosed {
+                return Err(unclosed_quote(file, table.header_line));
+            }
+            if header_record.len() != 1 || !header_record[0].trim().is_empty() {
+                break;
+            }
+        }
+        let header_line = table.header_line;
+        let headers = header_record
             .iter()
             .map(|h| h.trim().to_string())
             .collect::<Vec<_>>();
@@ -282,29 +324,33 @@ impl Table {
                 let hint = closest(h, known)
                     .map(|c| format!("; did you mean `{c}`?"))
                     .unwrap_or_else(|| format!("; known columns: {}", known.join(", ")));
-                return Err(BadInput::at(file, 1, format!("unknown column `{h}`{hint}")));
+                return Err(BadInput::at(
+                    file,
+                    header_line,
+                    format!("unknown column `{h}`{hint}"),
+                ));
             }
         }
         for (i, h) in headers.iter().enumerate() {
             if headers[..i].contains(h) {
-                return Err(BadInput::at(file, 1, format!("column `{h}` appears twice")));
+                return Err(BadInput::at(
+                    file,
+                    header_line,
+                    format!("column `{h}` appears twice"),
+                ));
             }
         }
         for r in required {
             if !headers.iter().any(|h| h == r) {
                 return Err(BadInput::at(
                     file,
-                    1,
+                    header_line,
                     format!("missing required column `{r}`"),
                 ));
             }
         }
-        Ok(Table {
-            file: file.to_string(),
-            byte_len: None,
-            columns: headers,
-            reader,
-        })
+        table.columns = headers;
+        Ok(table)
     }
 
     /// The position of a column, if the file has it.
@@ -321,15 +367,7 @@ impl Table {
                     let unclosed = self.ends_in_open_quote(&row.record);
                     row.line = self.first_line(&row.record, unclosed);
                     if unclosed {
-                        // The csv crate reads an unclosed quote to the end of the file, so
-                        // every line after it would vanish into one cell uncounted.
-                        return Err(BadInput::at(
-                            &self.file,
-                            row.line,
-                            "a quoted cell in this row is never closed: every line after it \
-                             would be read into that cell (a `\"` missing, or one that should \
-                             have been doubled)",
-                        ));
+                        return Err(unclosed_quote(&self.file, row.line));
                     }
                     if !self.check_width(&row.record, row.line)? {
                         return Ok(true);
@@ -593,6 +631,41 @@ mod tests {
 
     fn rows(pairs: &[(usize, &str)]) -> Vec<(usize, String)> {
         pairs.iter().map(|&(l, c)| (l, c.to_string())).collect()
+    }
+
+    /// The header's line and message when the columns are refused, read whole and one byte
+    /// at a time (both must agree).
+    fn header_error(text: &'static str) -> (Option<usize>, String) {
+        let read = |input: Box<dyn std::io::Read + Send>| match Table::from_reader(
+            "t.csv",
+            input,
+            &["a", "b"],
+            &["a"],
+        ) {
+            Ok(_) => panic!("{text:?} was accepted"),
+            Err(e) => (e.line, e.message),
+        };
+        let whole = read(Box::new(text.as_bytes()));
+        assert_eq!(read(Box::new(Trickle(text.as_bytes()))), whole, "{text:?}");
+        whole
+    }
+
+    #[test]
+    fn column_problems_name_the_headers_own_line() {
+        // Blank lines, LF or CRLF, may come before the header; rows after it already kept
+        // their own lines, and the header's problems now do too.
+        assert_eq!(header_error("a,c\nx,1\n").0, Some(1));
+        assert_eq!(header_error("\n\na,c\nx,1\n").0, Some(3));
+        assert_eq!(header_error("\r\n\r\nb\nx\n").0, Some(3));
+        assert_eq!(header_error("\n\na,a\n").0, Some(3));
+        let (line, message) = header_error("\n\"a,b\nx,1\n");
+        assert_eq!(line, Some(2));
+        assert!(message.contains("never closed"), "{message}");
+        let (line, message) = header_error("\n\r\n\n");
+        assert_eq!(line, Some(1));
+        assert!(message.contains("the file is empty"), "{message}");
+        // A header after blank lines still gives its rows their own lines.
+        assert_eq!(lines("\r\n\na,b\nx,1\n"), rows(&[(4, "x")]));
     }
 
     #[test]

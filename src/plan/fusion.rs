@@ -367,14 +367,14 @@ fn read_table(
     if cols.rank.is_none() && cols.score.is_none() {
         return Err(BadInput::at(
             &file,
-            1,
+            table.header_line,
             "a source list needs a `rank` or a `score` column; found neither",
         ));
     }
     if let (Some(w), None) = (window, cols.date) {
         return Err(BadInput::at(
             &file,
-            1,
+            table.header_line,
             format!("a time window ({w}) was given but the file has no `date` column"),
         ));
     }
@@ -387,7 +387,7 @@ fn read_table(
     // A ranking may leave scores out; share-sum then needs to say where.
     let mut unscored = match (ranked, cols.score) {
         (true, None) => Some(Unscored {
-            line: Some(1),
+            line: Some(table.header_line),
             detail: "the list has no `score` column".to_string(),
         }),
         _ => None,
