@@ -1,7 +1,7 @@
 //! One library call per command: each takes its options struct, does the work and returns
 //! what to print and the exit code. `main.rs` only parses arguments into these structs.
 
-use crate::load::{self, BadInput, InputPaths, Inputs};
+use crate::load::{self, BadInput, InputPaths, Inputs, REGISTRY_FLAGS};
 use crate::plan::{self, Matrix, PlanOptions, blockers};
 use crate::report::{self, Format, MatrixFormat, text};
 use anyhow::Result;
@@ -161,7 +161,7 @@ fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Resul
         return Err(BadInput::file(
             "command line",
             format!(
-                "{command} needs a registry to plan from: --registry FILE or --bulk VERSIONS_CSV DEPS_CSV (neither given)"
+                "{command} needs a registry to plan from: {REGISTRY_FLAGS} (neither given)"
             ),
         ));
     }
@@ -236,7 +236,7 @@ fn require_results_context(
         return Err(BadInput::file(
             "command line",
             format!(
-                "{command} --matrix with --results needs the --images and the registry (--registry or --bulk) the matrix was planned from: recorded results are read against them"
+                "{command} --matrix with --results needs the --images and the registry ({REGISTRY_FLAGS}) the matrix was planned from: recorded results are read against them"
             ),
         ));
     }

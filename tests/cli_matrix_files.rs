@@ -518,6 +518,57 @@ fn every_command_that_plans_refuses_to_run_without_a_registry() {
     assert!(stdout.contains("no problems found"), "{stdout}");
 }
 
+/// Every message that names the ways of giving a registry spells them alike, as `--help`
+/// shows them. `review`/`render --matrix --results` once wrote "(--registry or --bulk)", and
+/// giving both once named neither flag.
+#[test]
+fn messages_spell_the_registry_flags_one_way() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    let spelling = "--registry FILE or --bulk VERSIONS_CSV DEPS_CSV";
+    let runs: [&[&str]; 4] = [
+        &[
+            "plan",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--priorities",
+            "demo-data/priorities.yaml",
+        ],
+        &[
+            "review",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+        ],
+        &[
+            "render",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+        ],
+        &[
+            "check",
+            "--registry",
+            "demo-data/registry.yaml",
+            "--bulk",
+            "v.csv",
+            "d.csv",
+        ],
+    ];
+    for args in runs {
+        let mut all = vec![args[0], "--quiet"];
+        all.extend(&args[1..]);
+        let (code, _, stderr) = run_basefit(&all);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(
+            stderr.starts_with("basefit: command line: ") && stderr.contains(spelling),
+            "{args:?}: wanted {spelling} in {stderr}"
+        );
+    }
+}
+
 /// Against a matrix from an earlier plan, recorded results are read against the registry
 /// given; one with no usable release is named, rather than the results file being blamed for
 /// results left out against it.

@@ -92,6 +92,10 @@ use crate::model::{ImageSet, PriorityList, RecordedResult};
 use crate::native::Catalog;
 use std::path::PathBuf;
 
+/// The two ways of giving a registry, as every message that names them spells them (the
+/// value names `--help` shows), so a user reads one spelling whichever message they meet.
+pub const REGISTRY_FLAGS: &str = "--registry FILE or --bulk VERSIONS_CSV DEPS_CSV";
+
 /// Where the inputs of a run come from.
 #[derive(Debug, Clone, Default)]
 pub struct InputPaths {
@@ -193,7 +197,7 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         Some(_) => {
             return Err(BadInput::file(
                 "command line",
-                "give either YAML registry files or a bulk CSV pair, not both",
+                format!("give {REGISTRY_FLAGS}, not both"),
             ));
         }
         None => while_indexing(yaml_bar, || builder.finish()),
