@@ -73,12 +73,40 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
     Ok(inputs)
 }
 
+/// A command that plans a matrix, as [`require_matrix_inputs`] names it.
+#[derive(Clone, Copy)]
+struct Planner<'a> {
+    command: &'a str,
+    /// Whether a matrix from an earlier plan (`--matrix`) can stand in for planning; the
+    /// usage error then offers it, so it does not read as the only way to run the command.
+    or_matrix: bool,
+}
+
+impl<'a> Planner<'a> {
+    /// A command that always plans.
+    fn plans(command: &'a str) -> Self {
+        Planner {
+            command,
+            or_matrix: false,
+        }
+    }
+
+    /// A command that plans unless given `--matrix`.
+    fn plans_without_matrix(command: &'a str) -> Self {
+        Planner {
+            command,
+            or_matrix: true,
+        }
+    }
+}
+
 /// Refuses a run that has nothing to put in a matrix, naming the file that left it empty.
 fn require_matrix_inputs(
     inputs: &Inputs,
     paths: &InputPaths,
-    command: &str,
+    planner: Planner<'_>,
 ) -> Result<(), BadInput> {
+    let command = planner.command;
     use crate::load::diag::RecordKind;
     let checks = [
         (
@@ -101,11 +129,14 @@ fn require_matrix_inputs(
             continue;
         }
         let Some(path) = path else {
+            let needs = "--images and --priorities with at least one entry each";
+            let needs = match planner.or_matrix {
+                true => format!("--matrix, or {needs} to plan from"),
+                false => needs.to_string(),
+            };
             return Err(BadInput::file(
                 "command line",
-                format!(
-                    "{command} needs --images and --priorities with at least one entry each (no {flag} given)"
-                ),
+                format!("{command} needs {needs} (no {flag} given)"),
             ));
         };
         let tally = inputs.ledger.tally(kind);
@@ -160,9 +191,7 @@ fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Resul
     if registry_files(paths).is_empty() {
         return Err(BadInput::file(
             "command line",
-            format!(
-                "{command} needs a registry to plan from: {REGISTRY_FLAGS} (neither given)"
-            ),
+            format!("{command} needs a registry to plan from: {REGISTRY_FLAGS} (neither given)"),
         ));
     }
     match registry_left_nothing(inputs, paths) {
@@ -315,7 +344,7 @@ pub struct PlanCommand {
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
 pub fn plan(o: &PlanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "plan")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
     let mut out = Output::default();
     let previous = match &o.cache {
         Some(p) if p.exists() => read_cache(p, &mut out)?,
@@ -626,7 +655,7 @@ pub struct SystemCommand {
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing.
 pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "syslibs")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("syslibs"))?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
     let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
@@ -732,7 +761,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "imageplan")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
     let p = build_imageplan(&inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {
@@ -818,14 +847,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             read_matrix(p)?
         }
         None => {
-            if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
-                return Err(BadInput::file(
-                    "command line",
-                    "render needs --matrix, or --images and --priorities to plan from",
-                )
-                .into());
-            }
-            require_releases(&inputs, &o.inputs, "render")?;
+            require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
             plan::plan(&inputs, &o.plan)
         }
     };

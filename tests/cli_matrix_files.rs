@@ -205,10 +205,11 @@ fn a_plan_left_with_no_image_names_the_images_file() {
     );
 }
 
-/// Every command that plans a matrix (`plan`, `imageplan`, `syslibs`) refuses one with no
-/// image or no priority entry the same way: a flag not given names the flag, a file that left
-/// nothing names the file with its counts. `syslibs` used to plan an empty matrix and report
-/// nothing missing.
+/// Every command that plans a matrix (`plan`, `imageplan`, `syslibs`, and `render` without
+/// `--matrix`) refuses one with no image or no priority entry the same way: a flag not given
+/// names the flag (`render` offers `--matrix` beside it), a file that left nothing names the
+/// file with its counts. `syslibs` used to plan an empty matrix and report nothing missing,
+/// and `render` blamed the command line for a file that was given.
 #[test]
 fn commands_that_plan_a_matrix_need_images_and_priorities() {
     let dir = tempfile::tempdir().unwrap();
@@ -224,19 +225,21 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
     let registry = ["--registry", "demo-data/registry.yaml"];
     let demo_images = ["--images", "matrices/demo-images.yaml"];
     let demo_priorities = ["--priorities", "demo-data/priorities.yaml"];
-    for command in ["plan", "imageplan", "syslibs"] {
+    for command in ["plan", "imageplan", "syslibs", "render"] {
+        let needs = match command {
+            "render" => {
+                "--matrix, or --images and --priorities with at least one entry each to plan from"
+            }
+            _ => "--images and --priorities with at least one entry each",
+        };
         let cases: [(Vec<&str>, String); 4] = [
             (
                 [&registry[..], &demo_priorities[..]].concat(),
-                format!(
-                    "command line: {command} needs --images and --priorities with at least one entry each (no --images given)"
-                ),
+                format!("command line: {command} needs {needs} (no --images given)"),
             ),
             (
                 [&registry[..], &demo_images[..]].concat(),
-                format!(
-                    "command line: {command} needs --images and --priorities with at least one entry each (no --priorities given)"
-                ),
+                format!("command line: {command} needs {needs} (no --priorities given)"),
             ),
             (
                 [
