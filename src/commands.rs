@@ -80,6 +80,8 @@ struct Planner<'a> {
     /// Whether a matrix from an earlier plan (`--matrix`) can stand in for planning; the
     /// usage error then offers it, so it does not read as the only way to run the command.
     or_matrix: bool,
+    /// Whether it needs a priority entry; `review` plans every recorded package as well.
+    priorities: bool,
 }
 
 impl<'a> Planner<'a> {
@@ -88,6 +90,7 @@ impl<'a> Planner<'a> {
         Planner {
             command,
             or_matrix: false,
+            priorities: true,
         }
     }
 
@@ -96,6 +99,7 @@ impl<'a> Planner<'a> {
         Planner {
             command,
             or_matrix: true,
+            priorities: true,
         }
     }
 }
@@ -117,7 +121,7 @@ fn require_matrix_inputs(
             "image",
         ),
         (
-            inputs.priorities.entries.is_empty(),
+            planner.priorities && inputs.priorities.entries.is_empty(),
             &paths.priorities,
             "--priorities",
             RecordKind::Priority,
@@ -129,7 +133,10 @@ fn require_matrix_inputs(
             continue;
         }
         let Some(path) = path else {
-            let needs = "--images and --priorities with at least one entry each";
+            let needs = match planner.priorities {
+                true => "--images and --priorities with at least one entry each",
+                false => "--images with at least one image",
+            };
             let needs = match planner.or_matrix {
                 true => format!("--matrix, or {needs} to plan from"),
                 false => needs.to_string(),
@@ -188,7 +195,7 @@ fn registry_left_nothing(
 /// basefit cannot read, and recorded results would be set against those failures: the
 /// registry file is what to fix.
 fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Result<(), BadInput> {
-    if registry_files(paths).is_empty() {
+    if !paths.registry_given() {
         return Err(BadInput::file(
             "command line",
             format!("{command} needs a registry to plan from: {REGISTRY_FLAGS} (neither given)"),
@@ -587,7 +594,16 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             read_matrix(p)?
         }
         None => {
-            require_releases(&inputs, &o.inputs, "review")?;
+            // Results are read against the images only when images are given, so without
+            // them every result would end up outside an empty matrix.
+            require_matrix_inputs(
+                &inputs,
+                &o.inputs,
+                Planner {
+                    priorities: false,
+                    ..Planner::plans_without_matrix("review")
+                },
+            )?;
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.
             let mut next_rank = inputs.priorities.entries.len();
