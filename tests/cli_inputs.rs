@@ -181,14 +181,57 @@ fn image_errors_name_file_and_line() {
     let img = write(
         d.path(),
         "images.yaml",
-        b"images:\n  - {id: x, runtime: 3.0.0, family: gentoo, platform: linux/glibc/x86_64}\n",
+        b"images:\n  - {id: x, runtime: 3.0.0, family: [debian], platform: linux/glibc/x86_64}\n",
     );
     let (code, stderr, _) = check(&reg, &img);
     assert_eq!(code, 2);
     assert!(
-        stderr.contains("images.yaml:2:") && stderr.contains("expected debian, alpine or rhel"),
+        stderr.contains("images.yaml:2:") && stderr.contains("family"),
         "{stderr}"
     );
+}
+
+/// An unknown image family leaves out that image, at the line of the family and with the
+/// families accepted, and the images built on it as other left-out bases do; the rest of the
+/// file is used, as with an unreadable platform. It used to be a schema error that made the
+/// whole images file unusable.
+#[test]
+fn unknown_image_family_leaves_out_only_that_image() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: odd\n",
+            "    runtime: 3.1.0\n",
+            "    platform: linux/glibc/x86_64\n",
+            "    family: gentoo\n",
+            "  - id: heir\n",
+            "    extends: odd\n",
+            "    runtime: 3.2.0\n",
+            "  - {id: fixed, extends: odd, family: alpine, platform: linux/musl/x86_64}\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    for want in [
+        "images.yaml:6  odd: family `gentoo`: expected debian, alpine or rhel",
+        "images.yaml:8  heir: its base `odd` cannot be built: family `gentoo`: expected debian, alpine or rhel",
+        "images.yaml:10  fixed: its base `odd` cannot be built: family `gentoo`",
+        "images that cannot be built (left out) (bad-image): 3",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("image records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["4", "1", "3"], "{line}");
 }
 
 #[test]

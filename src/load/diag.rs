@@ -225,8 +225,8 @@ pub enum ProblemKind {
     /// A package with no version records at all.
     NoVersions,
     /// An image that cannot be built (an unknown base, a cycle of bases, a field missing after
-    /// inheritance, an unreadable runtime or platform, a removal of a package it lacks); left
-    /// out, with the images built on it.
+    /// inheritance, an unreadable runtime or platform, an unknown family, a removal of a
+    /// package it lacks); left out, with the images built on it.
     BadImage,
     /// An image that says `toolchain: false` yet carries its family's toolchain packages; used
     /// as having a toolchain.
