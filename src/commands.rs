@@ -102,6 +102,14 @@ impl<'a> Planner<'a> {
             priorities: true,
         }
     }
+
+    /// The same command when it plans packages named elsewhere than the priority list.
+    fn without_priorities(self) -> Self {
+        Planner {
+            priorities: false,
+            ..self
+        }
+    }
 }
 
 /// Refuses a run that has nothing to put in a matrix, naming the file that left it empty.
@@ -535,7 +543,13 @@ pub struct ExplainCommand {
 /// `explain`: one cell in depth. Exit 1 when it does not install cleanly.
 pub fn explain(o: &ExplainCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_releases(&inputs, &o.inputs, "explain")?;
+    // The image is looked up among those given: without any, the lookup would blame the
+    // image id on the command line rather than the flag or the file that left none.
+    require_matrix_inputs(
+        &inputs,
+        &o.inputs,
+        Planner::plans("explain").without_priorities(),
+    )?;
     let e = plan::explain::explain(&inputs, &o.package, &o.image, &o.plan)?;
     Ok(Output::report(
         o.format,
@@ -599,10 +613,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             require_matrix_inputs(
                 &inputs,
                 &o.inputs,
-                Planner {
-                    priorities: false,
-                    ..Planner::plans_without_matrix("review")
-                },
+                Planner::plans_without_matrix("review").without_priorities(),
             )?;
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.

@@ -278,6 +278,42 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
     }
 }
 
+/// `explain` looks its image up among those given: with none given it names `--images`, and
+/// with a file that left none it names the file with its counts. It used to blame the image
+/// id ("no image `deb-3.2`; declared: ", an empty list) either way.
+#[test]
+fn explain_names_the_images_it_was_not_given() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = dir.path().join("images.yaml");
+    std::fs::write(
+        &images,
+        "images:\n- {id: deb-3.2, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    let images = images.to_str().unwrap();
+    let explain = ["explain", "saltbush", "deb-3.2", "--quiet"];
+    let registry = ["--registry", "demo-data/registry.yaml"];
+    let cases = [
+        (
+            [&explain[..], &registry[..]].concat(),
+            "command line: explain needs --images with at least one image (no --images given)"
+                .to_string(),
+        ),
+        (
+            [&explain[..], &registry[..], &["--images", images][..]].concat(),
+            format!(
+                "{images}: explain needs at least one image: of 1 read, 1 were left out (`basefit check` lists why)"
+            ),
+        ),
+    ];
+    for (args, want) in cases {
+        let (code, stdout, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(stdout.is_empty(), "{args:?}: {stdout}");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+    }
+}
+
 #[test]
 fn output_files_that_belong_together_are_replaced_together_or_not_at_all() {
     let dir = tempfile::tempdir().unwrap();
