@@ -1,7 +1,7 @@
 //! One library call per command: each takes its options struct, does the work and returns
 //! what to print and the exit code. `main.rs` only parses arguments into these structs.
 
-use crate::load::{self, BadInput, InputPaths, Inputs};
+use crate::load::{self, BadInput, InputPaths, Inputs, REGISTRY_FLAGS};
 use crate::plan::{self, Matrix, PlanOptions, blockers};
 use crate::report::{self, Format, MatrixFormat, text};
 use anyhow::Result;
@@ -73,12 +73,52 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
     Ok(inputs)
 }
 
+/// A command that plans a matrix, as [`require_matrix_inputs`] names it.
+#[derive(Clone, Copy)]
+struct Planner<'a> {
+    command: &'a str,
+    /// Whether a matrix from an earlier plan (`--matrix`) can stand in for planning; the
+    /// usage error then offers it, so it does not read as the only way to run the command.
+    or_matrix: bool,
+    /// Whether it needs a priority entry; `review` plans every recorded package as well.
+    priorities: bool,
+}
+
+impl<'a> Planner<'a> {
+    /// A command that always plans.
+    fn plans(command: &'a str) -> Self {
+        Planner {
+            command,
+            or_matrix: false,
+            priorities: true,
+        }
+    }
+
+    /// A command that plans unless given `--matrix`.
+    fn plans_without_matrix(command: &'a str) -> Self {
+        Planner {
+            command,
+            or_matrix: true,
+            priorities: true,
+        }
+    }
+
+    /// The same command when it plans packages named elsewhere than the priority list.
+    fn without_priorities(self) -> Self {
+        Planner {
+            priorities: false,
+            ..self
+        }
+    }
+}
+
 /// Refuses a run that has nothing to put in a matrix, naming the file that left it empty.
 fn require_matrix_inputs(
     inputs: &Inputs,
     paths: &InputPaths,
-    command: &str,
+    planner: Planner<'_>,
 ) -> Result<(), BadInput> {
+    let command = planner.command;
     use crate::load::diag::RecordKind;
     let checks = [
         (
@@ -89,7 +129,7 @@ fn require_matrix_inputs(
             "image",
         ),
         (
-            inputs.priorities.entries.is_empty(),
+            planner.priorities && inputs.priorities.entries.is_empty(),
             &paths.priorities,
             "--priorities",
             RecordKind::Priority,
@@ -101,11 +141,17 @@ fn require_matrix_inputs(
             continue;
         }
         let Some(path) = path else {
+            let needs = match planner.priorities {
+                true => "--images and --priorities with at least one entry each",
+                false => "--images with at least one image",
+            };
+            let needs = match planner.or_matrix {
+                true => format!("--matrix, or {needs} to plan from"),
+                false => needs.to_string(),
+            };
             return Err(BadInput::file(
                 "command line",
-                format!(
-                    "{command} needs --images and --priorities with at least one entry each (no {flag} given)"
-                ),
+                format!("{command} needs {needs} (no {flag} given)"),
             ));
         };
         let tally = inputs.ledger.tally(kind);
@@ -157,12 +203,10 @@ fn registry_left_nothing(
 /// basefit cannot read, and recorded results would be set against those failures: the
 /// registry file is what to fix.
 fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Result<(), BadInput> {
-    if registry_files(paths).is_empty() {
+    if !paths.registry_given() {
         return Err(BadInput::file(
             "command line",
-            format!(
-                "{command} needs a registry to plan from: --registry FILE or --bulk VERSIONS_CSV DEPS_CSV (neither given)"
-            ),
+            format!("{command} needs a registry to plan from: {REGISTRY_FLAGS} (neither given)"),
         ));
     }
     match registry_left_nothing(inputs, paths) {
@@ -236,7 +280,7 @@ fn require_results_context(
         return Err(BadInput::file(
             "command line",
             format!(
-                "{command} --matrix with --results needs the --images and the registry (--registry or --bulk) the matrix was planned from: recorded results are read against them"
+                "{command} --matrix with --results needs the --images and the registry ({REGISTRY_FLAGS}) the matrix was planned from: recorded results are read against them"
             ),
         ));
     }
@@ -315,7 +359,7 @@ pub struct PlanCommand {
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
 pub fn plan(o: &PlanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "plan")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
     let mut out = Output::default();
     let previous = match &o.cache {
         Some(p) if p.exists() => read_cache(p, &mut out)?,
@@ -503,7 +547,13 @@ pub struct ExplainCommand {
 /// `explain`: one cell in depth. Exit 1 when it does not install cleanly.
 pub fn explain(o: &ExplainCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_releases(&inputs, &o.inputs, "explain")?;
+    // The image is looked up among those given: without any, the lookup would blame the
+    // image id on the command line rather than the flag or the file that left none.
+    require_matrix_inputs(
+        &inputs,
+        &o.inputs,
+        Planner::plans("explain").without_priorities(),
+    )?;
     let e = plan::explain::explain(&inputs, &o.package, &o.image, &o.plan)?;
     Ok(Output::report(
         o.format,
@@ -570,7 +620,13 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             read_matrix(p)?
         }
         None => {
-            require_releases(&inputs, &o.inputs, "review")?;
+            // Results are read against the images only when images are given, so without
+            // them every result would end up outside an empty matrix.
+            require_matrix_inputs(
+                &inputs,
+                &o.inputs,
+                Planner::plans_without_matrix("review").without_priorities(),
+            )?;
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.
             let mut next_rank = inputs.priorities.entries.len();
@@ -638,7 +694,7 @@ pub struct SystemCommand {
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing.
 pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "syslibs")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("syslibs"))?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
     let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
@@ -744,7 +800,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
-    require_matrix_inputs(&inputs, &o.inputs, "imageplan")?;
+    require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
     let p = build_imageplan(&inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {
@@ -830,14 +886,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             read_matrix(p)?
         }
         None => {
-            if inputs.images.images.is_empty() || inputs.priorities.entries.is_empty() {
-                return Err(BadInput::file(
-                    "command line",
-                    "render needs --matrix, or --images and --priorities to plan from",
-                )
-                .into());
-            }
-            require_releases(&inputs, &o.inputs, "render")?;
+            require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
             plan::plan(&inputs, &o.plan)
         }
     };

@@ -181,14 +181,57 @@ fn image_errors_name_file_and_line() {
     let img = write(
         d.path(),
         "images.yaml",
-        b"images:\n  - {id: x, runtime: 3.0.0, family: gentoo, platform: linux/glibc/x86_64}\n",
+        b"images:\n  - {id: x, runtime: 3.0.0, family: [debian], platform: linux/glibc/x86_64}\n",
     );
     let (code, stderr, _) = check(&reg, &img);
     assert_eq!(code, 2);
     assert!(
-        stderr.contains("images.yaml:2:") && stderr.contains("expected debian, alpine or rhel"),
+        stderr.contains("images.yaml:2:") && stderr.contains("family"),
         "{stderr}"
     );
+}
+
+/// An unknown image family leaves out that image, at the line of the family and with the
+/// families accepted, and the images built on it as other left-out bases do; the rest of the
+/// file is used, as with an unreadable platform. It used to be a schema error that made the
+/// whole images file unusable.
+#[test]
+fn unknown_image_family_leaves_out_only_that_image() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: odd\n",
+            "    runtime: 3.1.0\n",
+            "    platform: linux/glibc/x86_64\n",
+            "    family: gentoo\n",
+            "  - id: heir\n",
+            "    extends: odd\n",
+            "    runtime: 3.2.0\n",
+            "  - {id: fixed, extends: odd, family: alpine, platform: linux/musl/x86_64}\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stderr, stdout) = check(&reg, &img);
+    assert_eq!(code, 1, "stderr: {stderr}");
+    for want in [
+        "images.yaml:6  odd: family `gentoo`: expected debian, alpine or rhel",
+        "images.yaml:8  heir: its base `odd` cannot be built: family `gentoo`: expected debian, alpine or rhel",
+        "images.yaml:10  fixed: its base `odd` cannot be built: family `gentoo`",
+        "images that cannot be built (left out) (bad-image): 3",
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with("image records"))
+        .unwrap();
+    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
+    assert_eq!(nums, ["4", "1", "3"], "{line}");
 }
 
 #[test]
@@ -1076,4 +1119,129 @@ fn result_problems_name_the_line_of_the_value() {
     ] {
         assert!(stdout.contains(want), "wanted {want} in {stdout}");
     }
+}
+
+/// Without a registry (or images) there is nothing to check the names of priority entries
+/// and recorded results against: `check` used to report every priority entry and every
+/// result as naming something unknown (exit 1, 2 with `--strict`). Those checks are now
+/// skipped, the records used, and the report says once, in text and JSON, which checks were
+/// skipped for want of which input, so a clean report is not read as names verified.
+#[test]
+fn check_skips_cross_checks_against_inputs_not_given() {
+    use std::ffi::OsStr;
+    let d = dir();
+    let priorities = write(d.path(), "p.yaml", b"priorities: [fernwood, ghost]\n");
+    let results = write(
+        d.path(),
+        "r.yaml",
+        concat!(
+            "results:\n",
+            "  - {package: fernwood, image: plain, outcome: installed}\n",
+            "  - {package: ghost, image: nowhere, outcome: failed}\n",
+        )
+        .as_bytes(),
+    );
+    let registry_flags = "--registry FILE or --bulk VERSIONS_CSV DEPS_CSV";
+    let run = |args: &[&OsStr]| {
+        let mut all = vec![OsStr::new("check")];
+        all.extend(args);
+        common::run_basefit(all)
+    };
+    let p = [
+        OsStr::new("--priorities"),
+        priorities.as_os_str(),
+        OsStr::new("--results"),
+        results.as_os_str(),
+    ];
+    for strict in [false, true] {
+        let mut args = p.to_vec();
+        if strict {
+            args.push(OsStr::new("--strict"));
+        }
+        let (code, stdout, stderr) = run(&args);
+        assert_eq!(code, 0, "strict {strict}: {stdout}{stderr}");
+        let want = [
+            format!(
+                "  the packages named by priority entries and recorded results: no registry given ({registry_flags})"
+            ),
+            "  the images named by recorded results: no images given (--images FILE)".to_string(),
+        ];
+        for w in &want {
+            assert_eq!(
+                stdout.matches(w.as_str()).count(),
+                1,
+                "wanted {w} in {stdout}"
+            );
+        }
+        assert!(
+            stdout.contains("no problems found in what could be checked"),
+            "{stdout}"
+        );
+    }
+    let mut args = p.to_vec();
+    args.extend([OsStr::new("--format"), OsStr::new("json")]);
+    let (code, stdout, stderr) = run(&args);
+    assert_eq!(code, 0, "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(v["clean"], true);
+    assert_eq!(
+        v["skipped_checks"],
+        serde_json::json!([
+            {"missing": "registry", "flags": registry_flags, "records": ["priority", "result"]},
+            {"missing": "images", "flags": "--images FILE", "records": ["result"]},
+        ])
+    );
+
+    // Each input given makes its own checks and leaves only the other skipped.
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let mut args = p.to_vec();
+    args.extend([OsStr::new("--registry"), reg.as_os_str()]);
+    let (code, stdout, _) = run(&args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("p.yaml:1  ghost: priority entry names a package")
+            && stdout
+                .contains("r.yaml:3  ghost on nowhere: package `ghost` is not in the registry")
+            && stdout.contains("  the images named by recorded results: no images given")
+            && !stdout.contains("no registry given")
+            && !stdout.contains("is not declared"),
+        "{stdout}"
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    args.extend([OsStr::new("--images"), img.as_os_str()]);
+    let (code, stdout, _) = run(&args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("r.yaml:3  ghost on nowhere: image `nowhere` is not declared")
+            && !stdout.contains("not checked"),
+        "{stdout}"
+    );
+}
+
+/// `review` without `--matrix` plans on the images given; without any, results are no longer
+/// left out against absent images, so the command line is what is named, not the results.
+#[test]
+fn review_without_a_matrix_needs_images() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let results = write(
+        d.path(),
+        "r.yaml",
+        b"results:\n  - {package: fernwood, image: plain, outcome: installed}\n",
+    );
+    let (code, stdout, stderr) = common::run_basefit([
+        "review".as_ref(),
+        "--quiet".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--results".as_ref(),
+        results.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "{stdout}{stderr}");
+    assert!(
+        stderr.contains(
+            "command line: review needs --matrix, or --images with at least one image to plan from (no --images given)"
+        ),
+        "{stderr}"
+    );
 }

@@ -434,10 +434,11 @@ fn a_plan_left_with_no_image_names_the_images_file() {
     );
 }
 
-/// Every command that plans a matrix (`plan`, `imageplan`, `syslibs`) refuses one with no
-/// image or no priority entry the same way: a flag not given names the flag, a file that left
-/// nothing names the file with its counts. `syslibs` used to plan an empty matrix and report
-/// nothing missing.
+/// Every command that plans a matrix (`plan`, `imageplan`, `syslibs`, and `render` without
+/// `--matrix`) refuses one with no image or no priority entry the same way: a flag not given
+/// names the flag (`render` offers `--matrix` beside it), a file that left nothing names the
+/// file with its counts. `syslibs` used to plan an empty matrix and report nothing missing,
+/// and `render` blamed the command line for a file that was given.
 #[test]
 fn commands_that_plan_a_matrix_need_images_and_priorities() {
     let dir = tempfile::tempdir().unwrap();
@@ -453,19 +454,21 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
     let registry = ["--registry", "demo-data/registry.yaml"];
     let demo_images = ["--images", "matrices/demo-images.yaml"];
     let demo_priorities = ["--priorities", "demo-data/priorities.yaml"];
-    for command in ["plan", "imageplan", "syslibs"] {
+    for command in ["plan", "imageplan", "syslibs", "render"] {
+        let needs = match command {
+            "render" => {
+                "--matrix, or --images and --priorities with at least one entry each to plan from"
+            }
+            _ => "--images and --priorities with at least one entry each",
+        };
         let cases: [(Vec<&str>, String); 4] = [
             (
                 [&registry[..], &demo_priorities[..]].concat(),
-                format!(
-                    "command line: {command} needs --images and --priorities with at least one entry each (no --images given)"
-                ),
+                format!("command line: {command} needs {needs} (no --images given)"),
             ),
             (
                 [&registry[..], &demo_images[..]].concat(),
-                format!(
-                    "command line: {command} needs --images and --priorities with at least one entry each (no --priorities given)"
-                ),
+                format!("command line: {command} needs {needs} (no --priorities given)"),
             ),
             (
                 [
@@ -501,6 +504,42 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
                 "{command} {flags:?}: wanted {want} in {stderr}"
             );
         }
+    }
+}
+
+/// `explain` looks its image up among those given: with none given it names `--images`, and
+/// with a file that left none it names the file with its counts. It used to blame the image
+/// id ("no image `deb-3.2`; declared: ", an empty list) either way.
+#[test]
+fn explain_names_the_images_it_was_not_given() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = dir.path().join("images.yaml");
+    std::fs::write(
+        &images,
+        "images:\n- {id: deb-3.2, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    let images = images.to_str().unwrap();
+    let explain = ["explain", "saltbush", "deb-3.2", "--quiet"];
+    let registry = ["--registry", "demo-data/registry.yaml"];
+    let cases = [
+        (
+            [&explain[..], &registry[..]].concat(),
+            "command line: explain needs --images with at least one image (no --images given)"
+                .to_string(),
+        ),
+        (
+            [&explain[..], &registry[..], &["--images", images][..]].concat(),
+            format!(
+                "{images}: explain needs at least one image: of 1 read, 1 were left out (`basefit check` lists why)"
+            ),
+        ),
+    ];
+    for (args, want) in cases {
+        let (code, stdout, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(stdout.is_empty(), "{args:?}: {stdout}");
+        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
     }
 }
 
@@ -745,6 +784,57 @@ fn every_command_that_plans_refuses_to_run_without_a_registry() {
     let (code, stdout, stderr) = run_basefit(["check", "--images", "matrices/demo-images.yaml"]);
     assert_eq!(code, 0, "{stderr}");
     assert!(stdout.contains("no problems found"), "{stdout}");
+}
+
+/// Every message that names the ways of giving a registry spells them alike, as `--help`
+/// shows them. `review`/`render --matrix --results` once wrote "(--registry or --bulk)", and
+/// giving both once named neither flag.
+#[test]
+fn messages_spell_the_registry_flags_one_way() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(dir.path(), None);
+    let spelling = "--registry FILE or --bulk VERSIONS_CSV DEPS_CSV";
+    let runs: [&[&str]; 4] = [
+        &[
+            "plan",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--priorities",
+            "demo-data/priorities.yaml",
+        ],
+        &[
+            "review",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+        ],
+        &[
+            "render",
+            "--matrix",
+            &matrix,
+            "--results",
+            "demo-data/results.yaml",
+        ],
+        &[
+            "check",
+            "--registry",
+            "demo-data/registry.yaml",
+            "--bulk",
+            "v.csv",
+            "d.csv",
+        ],
+    ];
+    for args in runs {
+        let mut all = vec![args[0], "--quiet"];
+        all.extend(&args[1..]);
+        let (code, _, stderr) = run_basefit(&all);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(
+            stderr.starts_with("basefit: command line: ") && stderr.contains(spelling),
+            "{args:?}: wanted {spelling} in {stderr}"
+        );
+    }
 }
 
 /// Against a matrix from an earlier plan, recorded results are read against the registry

@@ -203,8 +203,8 @@ fn results_load_with_their_logs() {
     let results = basefit::load::results::read_results_showing(
         path,
         &Known {
-            registry: &registry,
-            images: &images,
+            registry: Some(&registry),
+            images: Some(&images),
         },
         &mut ledger,
         Some(&bar),
@@ -310,8 +310,8 @@ fn expected_cells_are_well_formed() {
     let results = read_results(
         &root().join("demo-data/results.yaml"),
         &Known {
-            registry: &registry,
-            images: &images,
+            registry: Some(&registry),
+            images: Some(&images),
         },
         &mut ledger,
     )

@@ -3,7 +3,7 @@
 
 use super::bulk::DeferredRows;
 use serde::Serialize;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 use std::path::Path;
 
@@ -168,6 +168,33 @@ impl RecordKind {
     }
 }
 
+/// An input other records are checked against: the registry for the packages that priority
+/// entries and recorded results name, the images for the images results name.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Reference {
+    Registry,
+    Images,
+}
+
+impl Reference {
+    /// The flags that give it, spelled as in every other message.
+    pub fn flags(self) -> &'static str {
+        match self {
+            Reference::Registry => super::REGISTRY_FLAGS,
+            Reference::Images => "--images FILE",
+        }
+    }
+
+    /// What a record is checked for against it.
+    pub fn names(self) -> &'static str {
+        match self {
+            Reference::Registry => "the packages named by",
+            Reference::Images => "the images named by",
+        }
+    }
+}
+
 /// A category of data-quality problem. Each has a fixed severity: whether the record it is
 /// attached to is left out of solving.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
@@ -198,17 +225,19 @@ pub enum ProblemKind {
     /// A package with no version records at all.
     NoVersions,
     /// An image that cannot be built (an unknown base, a cycle of bases, a field missing after
-    /// inheritance, an unreadable runtime or platform, a removal of a package it lacks); left
-    /// out, with the images built on it.
+    /// inheritance, an unreadable runtime or platform, an unknown family, a removal of a
+    /// package it lacks); left out, with the images built on it.
     BadImage,
     /// An image that says `toolchain: false` yet carries its family's toolchain packages; used
     /// as having a toolchain.
     ToolchainContradiction,
     /// A second record with the same id or name (image, priority entry); the later one is left out.
     DuplicateEntry,
-    /// A priority entry or recorded result naming a package the registry does not have.
+    /// A priority entry or recorded result naming a package the registry does not have
+    /// (checked only when a registry is given: see [`Ledger::skipped`]).
     UnknownPackage,
-    /// A recorded result naming an image that is not declared.
+    /// A recorded result naming an image that is not declared (checked only when images are
+    /// given).
     UnknownImage,
     /// A recorded result whose log file cannot be read; used without its log.
     MissingLog,
@@ -294,6 +323,10 @@ pub struct Ledger {
     /// Problems whose own place takes another read of an input, with what that read needs.
     #[serde(skip)]
     deferred: Vec<DeferredRows>,
+    /// Cross-checks not made because the input they check against was not given: the kinds
+    /// of record each absent input would have checked. Without it a report with no
+    /// unknown-package problem would pass for one whose names were verified.
+    pub skipped: BTreeMap<Reference, BTreeSet<RecordKind>>,
 }
 
 impl Ledger {
@@ -337,6 +370,11 @@ impl Ledger {
     /// ```
     pub fn left_out_with_owner(&mut self, kind: RecordKind, count: u64) {
         self.tallies.entry(kind).or_default().left_out += count;
+    }
+
+    /// Records that `kind` records were not checked against `reference`, which was not given.
+    pub fn skip_check(&mut self, kind: RecordKind, reference: Reference) {
+        self.skipped.entry(reference).or_default().insert(kind);
     }
 
     /// Records a problem that does not leave the record out.
@@ -384,6 +422,9 @@ impl Ledger {
         }
         self.problems.extend(other.problems);
         self.deferred.extend(other.deferred);
+        for (reference, kinds) in other.skipped {
+            self.skipped.entry(reference).or_default().extend(kinds);
+        }
     }
 
     /// Keeps `rows` for [`Ledger::place_deferred`].

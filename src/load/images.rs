@@ -27,7 +27,8 @@ struct Declared {
     line: usize,
     extends: Option<At<String>>,
     runtime: Option<At<String>>,
-    family: Option<OsFamily>,
+    /// As written, as the platform is: an unknown family leaves the image out (see `build`).
+    family: Option<At<String>>,
     /// As written: one that cannot be read leaves the image out (see `build`), as an
     /// unreadable runtime does.
     platform: Option<At<String>>,
@@ -48,8 +49,9 @@ impl Declared {
 type Refusal = At<String>;
 
 /// Reads an image file. Schema errors make the file unusable; images whose base is unknown,
-/// that extend in a cycle, lack a required field after inheritance, or whose runtime or
-/// platform cannot be read are reported and left out, and so are the images that extend them.
+/// that extend in a cycle, lack a required field after inheritance, whose runtime or platform
+/// cannot be read or whose family is unknown are reported and left out, and so are the images
+/// that extend them.
 pub fn read_images(path: &Path, ledger: &mut Ledger) -> Result<ImageSet, BadInput> {
     let file = path.display().to_string();
     let text = read_text(path)?;
@@ -324,10 +326,23 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
             ));
         }
     };
-    let family = d
-        .family
-        .or(base.map(|b| b.family))
-        .ok_or_else(|| missing("missing `family` (and no base to inherit it from)"))?;
+    // Read here for the reason the platform is (below): an unknown family is one image's
+    // problem, not the file's.
+    let family = match &d.family {
+        Some(written) => OsFamily::parse(&written.value).ok_or_else(|| {
+            At::new(
+                format!(
+                    "family `{}`: expected {}",
+                    written.value,
+                    OsFamily::expected()
+                ),
+                written.line,
+            )
+        })?,
+        None => base
+            .map(|b| b.family)
+            .ok_or_else(|| missing("missing `family` (and no base to inherit it from)"))?,
+    };
     // Read here rather than with the record, so an unreadable platform leaves out this image
     // and those built on it, as a registry version's unreadable `prebuilt` platform leaves
     // out that version, not the whole file.
@@ -390,18 +405,6 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
             m.required(key)?;
         }
     }
-    let family = match m.get("family") {
-        None => None,
-        Some(n) => {
-            let text = ctx.str(n, "image `family`")?;
-            Some(OsFamily::parse(text).ok_or_else(|| {
-                ctx.err(
-                    n,
-                    format!("image `family`: expected debian, alpine or rhel, found `{text}`"),
-                )
-            })?)
-        }
-    };
     let mut add = m.str_list("packages")?;
     add.extend(m.str_list("add")?);
     Ok(Declared {
@@ -409,7 +412,7 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         line: m.line(),
         extends,
         runtime: m.opt_str_at("runtime")?.map(owned),
-        family,
+        family: m.opt_str_at("family")?.map(owned),
         platform: m.opt_str_at("platform")?.map(owned),
         toolchain: m.opt_bool_at("toolchain")?,
         add,

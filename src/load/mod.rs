@@ -92,6 +92,10 @@ use crate::model::{ImageSet, PriorityList, RecordedResult};
 use crate::native::Catalog;
 use std::path::PathBuf;
 
+/// The two ways of giving a registry, as every message that names them spells them (the
+/// value names `--help` shows), so a user reads one spelling whichever message they meet.
+pub const REGISTRY_FLAGS: &str = "--registry FILE or --bulk VERSIONS_CSV DEPS_CSV";
+
 /// Where the inputs of a run come from.
 #[derive(Debug, Clone, Default)]
 pub struct InputPaths {
@@ -107,6 +111,13 @@ pub struct InputPaths {
     /// Shows how far the registry and the recorded results have been read (the inputs that
     /// can take long).
     pub progress: Option<indicatif::ProgressBar>,
+}
+
+impl InputPaths {
+    /// Whether a registry was given, in either format.
+    pub fn registry_given(&self) -> bool {
+        !self.registry.is_empty() || self.bulk.is_some()
+    }
 }
 
 /// Everything a command works on, with the ledger of what was read.
@@ -193,7 +204,7 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         Some(_) => {
             return Err(BadInput::file(
                 "command line",
-                "give either YAML registry files or a bulk CSV pair, not both",
+                format!("give {REGISTRY_FLAGS}, not both"),
             ));
         }
         None => while_indexing(yaml_bar, || builder.finish()),
@@ -206,19 +217,30 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         Some(p) => read_priorities(p, &mut ledger)?,
         None => PriorityList::default(),
     };
-    for entry in &priorities.entries {
-        if registry
-            .id(&entry.name)
-            .is_none_or(|id| !registry.package(id).declared)
-        {
-            // Kept: the plan reports the entry as missing from the registry.
-            ledger.note(
-                diag::ProblemKind::UnknownPackage,
-                entry.origin.clone(),
-                &entry.name,
-                "priority entry names a package the registry does not have",
-            );
+    // Without a registry there is nothing to check names against: the check is recorded as
+    // skipped rather than every entry reported unknown.
+    let known_registry = paths.registry_given().then_some(&registry);
+    match known_registry {
+        Some(registry) => {
+            for entry in &priorities.entries {
+                if registry
+                    .id(&entry.name)
+                    .is_none_or(|id| !registry.package(id).declared)
+                {
+                    // Kept: the plan reports the entry as missing from the registry.
+                    ledger.note(
+                        diag::ProblemKind::UnknownPackage,
+                        entry.origin.clone(),
+                        &entry.name,
+                        "priority entry names a package the registry does not have",
+                    );
+                }
+            }
         }
+        None if paths.priorities.is_some() => {
+            ledger.skip_check(diag::RecordKind::Priority, diag::Reference::Registry);
+        }
+        None => {}
     }
     let mut results = Vec::new();
     let results_bar = paths
@@ -235,8 +257,8 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
     }
     for p in &paths.results {
         let known = results::Known {
-            registry: &registry,
-            images: &images,
+            registry: known_registry,
+            images: paths.images.as_ref().map(|_| &images),
         };
         results.extend(results::read_results_showing(
             p,

@@ -1,6 +1,8 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors, read_text,
+};
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
 use super::table::Table;
@@ -23,10 +25,13 @@ struct RawResult {
     log_file: Option<At<String>>,
 }
 
-/// What results are checked against: records naming anything else are reported.
+/// What results are checked against: records naming anything else are reported. An input
+/// that was not given (`None`) checks nothing: every name would be reported unknown, and the
+/// report would blame the results for an input left off the command line. The ledger records
+/// the check as skipped instead.
 pub struct Known<'a> {
-    pub registry: &'a Registry,
-    pub images: &'a ImageSet,
+    pub registry: Option<&'a Registry>,
+    pub images: Option<&'a ImageSet>,
 }
 
 /// Reads recorded results by extension: `.csv`, `.jsonl`/`.ndjson` (JSON lines), otherwise YAML.
@@ -55,6 +60,12 @@ pub fn read_results_showing(
     } else {
         read_yaml(&file, &read_text(path)?)?
     };
+    if known.registry.is_none() {
+        ledger.skip_check(RecordKind::Result, Reference::Registry);
+    }
+    if known.images.is_none() {
+        ledger.skip_check(RecordKind::Result, Reference::Images);
+    }
     let base = path.parent().map(Path::to_path_buf).unwrap_or_default();
     if let Some(bar) = progress {
         // Set rather than grown: a bar without a length yet ignores growth.
@@ -266,7 +277,10 @@ fn assemble(
             );
             continue;
         };
-        if known.images.get(&image.value).is_none() {
+        if known
+            .images
+            .is_some_and(|images| images.get(&image.value).is_none())
+        {
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::UnknownImage,
@@ -276,11 +290,11 @@ fn assemble(
             );
             continue;
         }
-        if known
-            .registry
-            .id(&package.value)
-            .is_none_or(|id| !known.registry.package(id).declared)
-        {
+        if known.registry.is_some_and(|registry| {
+            registry
+                .id(&package.value)
+                .is_none_or(|id| !registry.package(id).declared)
+        }) {
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::UnknownPackage,

@@ -44,6 +44,16 @@ impl OsFamily {
         }
     }
 
+    /// The accepted families as a message lists them: "debian, alpine or rhel".
+    pub fn expected() -> String {
+        let names: Vec<&str> = OsFamily::ALL.iter().map(|f| f.as_str()).collect();
+        let (last, rest) = names.split_last().unwrap_or((&"", &[]));
+        match rest {
+            [] => last.to_string(),
+            _ => format!("{} or {last}", rest.join(", ")),
+        }
+    }
+
     pub fn as_str(self) -> &'static str {
         match self {
             OsFamily::Debian => "debian",

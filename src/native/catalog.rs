@@ -246,7 +246,13 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
         for (k, v) in pairs {
             let name = ctx.str(k, "family name")?;
             let family = OsFamily::parse(name).ok_or_else(|| {
-                ctx.err(k, format!("library `families`: unknown family `{name}`; expected debian, alpine or rhel"))
+                ctx.err(
+                    k,
+                    format!(
+                        "library `families`: unknown family `{name}`; expected {}",
+                        OsFamily::expected()
+                    ),
+                )
             })?;
             let fm = ctx.map(v, "family packages", FAMILY_FIELDS)?;
             let source = match fm.opt_str("source")? {

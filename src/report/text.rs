@@ -1,7 +1,7 @@
 //! Readable text reports.
 
 use crate::load::Ledger;
-use crate::load::diag::Tally;
+use crate::load::diag::{RecordKind, Reference, Tally};
 use crate::plan::blockers::SharedBlocker;
 use crate::plan::explain::{Explanation, NotAdmitted, ReleaseHint, RuntimeHint, Trial};
 use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
@@ -48,7 +48,31 @@ const EXAMPLES: usize = 5;
 pub struct CheckReport<'a> {
     pub clean: bool,
     pub records: Vec<(&'static str, &'a Tally)>,
+    /// Cross-checks not made for want of an input, so `clean` is not read as names verified.
+    pub skipped_checks: Vec<SkippedCheck>,
     pub problems: Vec<ProblemGroup<'a>>,
+}
+
+/// The cross-checks one absent input would have made.
+#[derive(Debug, Serialize)]
+pub struct SkippedCheck {
+    pub missing: Reference,
+    /// The flags that give it.
+    pub flags: &'static str,
+    /// The kinds of record whose names were not checked against it.
+    pub records: Vec<RecordKind>,
+}
+
+fn skipped_checks(ledger: &Ledger) -> Vec<SkippedCheck> {
+    ledger
+        .skipped
+        .iter()
+        .map(|(&missing, kinds)| SkippedCheck {
+            missing,
+            flags: missing.flags(),
+            records: kinds.iter().copied().collect(),
+        })
+        .collect()
 }
 
 #[derive(Debug, Serialize)]
@@ -64,6 +88,7 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
     CheckReport {
         clean: ledger.is_clean(),
         records: ledger.tallies.iter().map(|(k, t)| (k.label(), t)).collect(),
+        skipped_checks: skipped_checks(ledger),
         problems: ledger
             .by_kind()
             .into_iter()
@@ -97,9 +122,27 @@ pub fn check_text(ledger: &Ledger) -> String {
         ]);
     }
     out.push_str(&table(&rows));
+    let skipped = skipped_checks(ledger);
+    if !skipped.is_empty() {
+        out.push_str("\nnot checked, for want of an input (these names were not verified):\n");
+        for s in &skipped {
+            let records: Vec<&str> = s.records.iter().map(|k| k.label()).collect();
+            let _ = writeln!(
+                out,
+                "  {} {}: no {} given ({})",
+                s.missing.names(),
+                records.join(" and "),
+                kebab(s.missing),
+                s.flags
+            );
+        }
+    }
     let groups = ledger.by_kind();
     if groups.is_empty() {
-        out.push_str("\nno problems found\n");
+        out.push_str(match skipped.is_empty() {
+            true => "\nno problems found\n",
+            false => "\nno problems found in what could be checked\n",
+        });
         return out;
     }
     let _ = writeln!(
