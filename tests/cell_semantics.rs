@@ -434,6 +434,39 @@ fn blocker_reasons_name_the_versions_that_fail_and_no_versions_of_a_missing_pack
     );
 }
 
+/// A shared blocker lists first the reason given by the most priority weight: text shows only
+/// a few, and they must be the ones that matter, not the first in alphabetical order.
+#[test]
+fn a_shared_blockers_heaviest_reason_comes_first() {
+    let registry = r#"packages:
+  - name: hub
+    versions:
+      - {version: "1.0.0"}
+      - {version: "2.0.0", runtime: ">=4"}
+      - {version: "3.0.0", runtime: ">=4"}
+  - name: light
+    versions:
+      - {version: "1.0.0", depends: [{name: hub, req: "^2"}]}
+  - name: heavy
+    versions:
+      - {version: "1.0.0", depends: [{name: hub, req: "^3"}]}
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities:\n  - {name: light, weight: 1}\n  - {name: heavy, weight: 5}\n",
+    );
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let blockers = basefit::plan::blockers::shared_blockers(&matrix, 5);
+    let hub = blockers.iter().find(|b| b.package == "hub").unwrap();
+    assert_eq!(
+        hub.reasons,
+        [
+            "hub 3.0.0 needs a newer runtime",
+            "hub 2.0.0 needs a newer runtime"
+        ]
+    );
+}
+
 /// The system-package advice counts as unblocked only cells that adding packages can unblock:
 /// a cell that also needs a library the catalog has no package for stays at risk.
 #[test]

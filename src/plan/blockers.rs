@@ -5,14 +5,15 @@ use petgraph::Direction;
 use petgraph::graph::{DiGraph, NodeIndex};
 use petgraph::visit::Dfs;
 use serde::Serialize;
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::BTreeMap;
 
 /// One package that blocks priority entries on one image.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SharedBlocker {
     pub image: String,
     pub package: String,
-    /// Reasons the failing cells give for it, deduplicated.
+    /// Reasons the failing cells give for it, deduplicated, the one given by the most priority
+    /// weight first (text shows only the first few).
     pub reasons: Vec<String>,
     /// Priority entries that fail through it, in priority order.
     pub blocks: Vec<String>,
@@ -38,7 +39,8 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
     for (col, image) in m.images.iter().enumerate() {
         let mut graph: DiGraph<&str, ()> = DiGraph::new();
         let mut nodes: BTreeMap<&str, NodeIndex> = BTreeMap::new();
-        let mut reasons: BTreeMap<&str, BTreeSet<&str>> = BTreeMap::new();
+        // Per blocker, the weight of the entries that give each reason.
+        let mut reasons: BTreeMap<&str, BTreeMap<&str, f64>> = BTreeMap::new();
         for r in 0..m.packages.len() {
             let cell = &m.cells[r * m.images.len() + col];
             if cell.outcome != Outcome::Fails && cell.outcome != Outcome::Undecided {
@@ -47,15 +49,17 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
             let from = *nodes
                 .entry(&cell.package)
                 .or_insert_with(|| graph.add_node(&cell.package));
+            let cell_weight = weight.get(cell.package.as_str()).map_or(0.0, |w| w.1);
             for b in &cell.blockers {
                 let to = *nodes
                     .entry(&b.package)
                     .or_insert_with(|| graph.add_node(&b.package));
                 graph.update_edge(from, to, ());
-                reasons
+                *reasons
                     .entry(&b.package)
                     .or_default()
-                    .insert(b.reason.as_str());
+                    .entry(b.reason.as_str())
+                    .or_default() += cell_weight;
             }
         }
         let mut ranked: Vec<SharedBlocker> = Vec::new();
@@ -87,10 +91,7 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
             ranked.push(SharedBlocker {
                 image: image.id.clone(),
                 package: name.to_string(),
-                reasons: reasons
-                    .get(name)
-                    .map(|s| s.iter().map(|r| r.to_string()).collect())
-                    .unwrap_or_default(),
+                reasons: reasons.get(name).map(by_weight).unwrap_or_default(),
                 blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
                 blocked_weight,
                 blocked_share: if total > 0.0 {
@@ -110,4 +111,12 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
         out.extend(ranked);
     }
     out
+}
+
+/// Reasons with the most weight first; equal weights keep the text order, so output does not
+/// depend on the order cells were read in.
+fn by_weight(reasons: &BTreeMap<&str, f64>) -> Vec<String> {
+    let mut list: Vec<(&str, f64)> = reasons.iter().map(|(r, w)| (*r, *w)).collect();
+    list.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(b.0)));
+    list.into_iter().map(|(r, _)| r.to_string()).collect()
 }
