@@ -21,6 +21,19 @@ fn write(dir: &Path, name: &str, content: &[u8]) -> PathBuf {
     p
 }
 
+/// The counts on the row for `kind` ("version records", "image records", ...) of the table
+/// `check` prints: read, used, left out.
+fn record_counts(stdout: &str, kind: &str) -> Vec<String> {
+    let line = stdout
+        .lines()
+        .find(|l| l.starts_with(kind))
+        .unwrap_or_else(|| panic!("no `{kind}` row in {stdout}"));
+    line[kind.len()..]
+        .split_whitespace()
+        .map(str::to_string)
+        .collect()
+}
+
 /// Runs `basefit check` and returns (exit code, stderr, stdout).
 fn check(registry: &Path, images: &Path) -> (i32, String, String) {
     let (code, stdout, stderr) = common::run_basefit([
@@ -124,12 +137,11 @@ fn unreadable_version_is_reported_and_the_rest_used() {
     assert!(stdout.contains("registry.yaml:5"), "{stdout}");
     assert!(stdout.contains("fernwood@nightly-build"), "{stdout}");
     // version records: 2 read, 1 used, 1 left out.
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("version records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["2", "1", "1"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "version records"),
+        ["2", "1", "1"],
+        "{stdout}"
+    );
 }
 
 #[test]
@@ -226,12 +238,11 @@ fn unknown_image_family_leaves_out_only_that_image() {
     ] {
         assert!(stdout.contains(want), "wanted {want} in {stdout}");
     }
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("image records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["4", "1", "3"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        ["4", "1", "3"],
+        "{stdout}"
+    );
 }
 
 #[test]
@@ -247,12 +258,11 @@ fn image_with_unknown_base_is_reported_not_dropped() {
     assert_eq!(code, 1);
     assert!(stdout.contains("extends `nobody`"), "{stdout}");
     assert!(stdout.contains("cycle"), "{stdout}");
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("image records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["4", "1", "3"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        ["4", "1", "3"],
+        "{stdout}"
+    );
 }
 
 /// An image runtime that is not strict semver is listed by `check` as a registry version read
@@ -286,12 +296,11 @@ fn normalised_image_runtime_is_listed_where_written() {
         ),
         "{stdout}"
     );
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("image records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["2", "2", "0"], "both used: {line}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        ["2", "2", "0"],
+        "both used: {stdout}"
+    );
 
     let (code, stdout, stderr) = common::run_basefit([
         "check".as_ref(),
@@ -369,12 +378,11 @@ fn results_malformed_inputs() {
         stdout.contains("r3.jsonl:1") && stdout.contains("nope.log"),
         "{stdout}"
     );
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("recorded results"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["1", "1", "0"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "recorded results"),
+        ["1", "1", "0"],
+        "{stdout}"
+    );
     // Unknown image and package: reported.
     let (_, stdout, _) = run(
         "r4.csv",
@@ -627,9 +635,7 @@ fn byte_order_mark_starts_yaml_and_json_lines_inputs() {
             ("priority entries", ["1", "1", "0"]),
             ("recorded results", ["1", "1", "0"]),
         ] {
-            let line = stdout.lines().find(|l| l.starts_with(kind)).unwrap();
-            let nums: Vec<&str> = line[kind.len()..].split_whitespace().collect();
-            assert_eq!(nums, counts, "{line}");
+            assert_eq!(record_counts(&stdout, kind), counts, "{stdout}");
         }
     }
 }
@@ -732,12 +738,11 @@ fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
                 stdout.contains("blank.csv:4  ghost"),
                 "{case}: the unknown name is on line 4: {stdout}"
             );
-            let line = stdout
-                .lines()
-                .find(|l| l.starts_with("priority entries"))
-                .unwrap();
-            let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-            assert_eq!(nums, ["2", "2", "0"], "{case}: {line}");
+            assert_eq!(
+                record_counts(&stdout, "priority entries"),
+                ["2", "2", "0"],
+                "{case}: {stdout}"
+            );
         }
     }
 }
@@ -832,13 +837,12 @@ fn long_extends_chain_resolves() {
     let img = write(d.path(), "images.yaml", text.as_bytes());
     let (code, stderr, stdout) = check(&reg, &img);
     assert_eq!(code, 0, "{stderr}{stdout}");
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("image records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
     let all = (N + 1).to_string();
-    assert_eq!(nums, [all.as_str(), all.as_str(), "0"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        [all.as_str(), all.as_str(), "0"],
+        "{stdout}"
+    );
 }
 
 /// A problem with a field of a long version record names the line of that field's value, not
@@ -912,12 +916,11 @@ fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
         stdout.contains("records with an unusable value (left out) (bad-value): 1"),
         "{stdout}"
     );
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("version records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["2", "1", "1"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "version records"),
+        ["2", "1", "1"],
+        "{stdout}"
+    );
 }
 
 /// An image platform not of the form os/libc/arch leaves out that image, at the line of the
@@ -954,12 +957,11 @@ fn unreadable_image_platform_leaves_out_only_that_image() {
     ] {
         assert!(stdout.contains(want), "wanted {want} in {stdout}");
     }
-    let line = stdout
-        .lines()
-        .find(|l| l.starts_with("image records"))
-        .unwrap();
-    let nums: Vec<&str> = line.split_whitespace().skip(2).collect();
-    assert_eq!(nums, ["4", "2", "2"], "{line}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        ["4", "2", "2"],
+        "{stdout}"
+    );
     // The images that are left are planned.
     let (code, stdout, stderr) = common::run_basefit([
         "plan".as_ref(),

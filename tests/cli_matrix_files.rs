@@ -38,6 +38,41 @@ fn run_on_one_image(dir: &Path, image: &str, args: &[&str]) -> (i32, String) {
     (code, stderr)
 }
 
+/// Runs `args` and asserts it is refused as an input error (exit 2) naming `want` on stderr,
+/// with nothing on stdout that could pass for a report.
+fn assert_refused(args: &[&str], want: &str) {
+    let (code, stdout, stderr) = run_basefit(args);
+    assert_eq!(code, 2, "{args:?}: {stderr}");
+    assert!(stdout.is_empty(), "{args:?}: {stdout}");
+    assert!(stderr.contains(want), "{args:?}: wanted {want} in {stderr}");
+}
+
+/// Runs every command that plans, explains or reads results against a registry with
+/// `inputs` (`explain` on the cell `package` `image`, `review` and `render --results` with
+/// `results`), and asserts each is refused with the message `want` gives for the command.
+fn assert_every_planning_command_refuses(
+    inputs: &[&str],
+    [package, image]: [&str; 2],
+    results: &str,
+    want: impl Fn(&str) -> String,
+) {
+    let runs: [(&str, &[&str]); 7] = [
+        ("plan", &[]),
+        ("imageplan", &[]),
+        ("syslibs", &[]),
+        ("explain", &[package, image]),
+        ("review", &["--results", results]),
+        ("render", &[]),
+        ("render", &["--results", results]),
+    ];
+    for (command, rest) in runs {
+        let mut args = vec![command];
+        args.extend(rest);
+        args.extend(inputs);
+        assert_refused(&args, &want(command));
+    }
+}
+
 #[test]
 fn review_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     let dir = tempfile::tempdir().unwrap();
@@ -496,13 +531,7 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
         for (flags, want) in cases {
             let mut args = vec![command, "--quiet"];
             args.extend(&flags);
-            let (code, stdout, stderr) = run_basefit(&args);
-            assert_eq!(code, 2, "{command} {flags:?}: {stderr}");
-            assert!(stdout.is_empty(), "{command} {flags:?}: {stdout}");
-            assert!(
-                stderr.contains(&want),
-                "{command} {flags:?}: wanted {want} in {stderr}"
-            );
+            assert_refused(&args, &want);
         }
     }
 }
@@ -536,10 +565,7 @@ fn explain_names_the_images_it_was_not_given() {
         ),
     ];
     for (args, want) in cases {
-        let (code, stdout, stderr) = run_basefit(&args);
-        assert_eq!(code, 2, "{args:?}: {stderr}");
-        assert!(stdout.is_empty(), "{args:?}: {stdout}");
-        assert!(stderr.contains(&want), "wanted {want} in {stderr}");
+        assert_refused(&args, &want);
     }
 }
 
@@ -684,29 +710,11 @@ fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() 
         "--priorities",
         "demo-data/priorities.yaml",
     ];
-    let runs: [(&str, &[&str]); 7] = [
-        ("plan", &[]),
-        ("imageplan", &[]),
-        ("syslibs", &[]),
-        ("explain", &["fernwood", "deb-3.2"]),
-        ("review", &["--results", results]),
-        ("render", &[]),
-        ("render", &["--results", results]),
-    ];
-    for (command, rest) in runs {
-        let mut args = vec![command];
-        args.extend(rest);
-        args.extend(inputs);
-        let (code, stdout, stderr) = run_basefit(&args);
-        assert_eq!(code, 2, "{command} {rest:?}: {stderr}");
-        assert!(stdout.is_empty(), "{command} {rest:?}: {stdout}");
-        assert!(
-            stderr.contains(&format!(
-                "{registry}: {command} needs at least one version record: of 2 read, 2 were left out (`basefit check` lists why)"
-            )),
-            "{command} {rest:?}: {stderr}"
-        );
-    }
+    assert_every_planning_command_refuses(&inputs, ["fernwood", "deb-3.2"], results, |command| {
+        format!(
+            "{registry}: {command} needs at least one version record: of 2 read, 2 were left out (`basefit check` lists why)"
+        )
+    });
     // `check` lists the problems rather than refusing the registry.
     let mut args = vec!["check"];
     args.extend(inputs);
@@ -758,29 +766,16 @@ fn every_command_that_plans_refuses_to_run_without_a_registry() {
         "--priorities",
         "demo-data/priorities.yaml",
     ];
-    let runs: [(&str, &[&str]); 7] = [
-        ("plan", &[]),
-        ("imageplan", &[]),
-        ("syslibs", &[]),
-        ("explain", &["tidewater-http", "deb-3.2"]),
-        ("review", &["--results", results]),
-        ("render", &[]),
-        ("render", &["--results", results]),
-    ];
-    for (command, rest) in runs {
-        let mut args = vec![command];
-        args.extend(rest);
-        args.extend(inputs);
-        let (code, stdout, stderr) = run_basefit(&args);
-        assert_eq!(code, 2, "{command} {rest:?}: {stderr}");
-        assert!(stdout.is_empty(), "{command} {rest:?}: {stdout}");
-        assert!(
-            stderr.contains(&format!(
+    assert_every_planning_command_refuses(
+        &inputs,
+        ["tidewater-http", "deb-3.2"],
+        results,
+        |command| {
+            format!(
                 "command line: {command} needs a registry to plan from: --registry FILE or --bulk VERSIONS_CSV DEPS_CSV (neither given)"
-            )),
-            "{command} {rest:?}: {stderr}"
-        );
-    }
+            )
+        },
+    );
     let (code, stdout, stderr) = run_basefit(["check", "--images", "matrices/demo-images.yaml"]);
     assert_eq!(code, 0, "{stderr}");
     assert!(stdout.contains("no problems found"), "{stdout}");
@@ -852,25 +847,22 @@ fn results_against_a_matrix_name_a_registry_with_no_usable_release() {
     .unwrap();
     let registry = registry.to_str().unwrap();
     for command in ["review", "render"] {
-        let (code, stdout, stderr) = run_basefit([
-            command,
-            "--quiet",
-            "--matrix",
-            &matrix,
-            "--results",
-            "demo-data/results.yaml",
-            "--images",
-            "matrices/demo-images.yaml",
-            "--registry",
-            registry,
-        ]);
-        assert_eq!(code, 2, "{command}: {stderr}");
-        assert!(stdout.is_empty(), "{command}: {stdout}");
-        assert!(
-            stderr.contains(&format!(
+        assert_refused(
+            &[
+                command,
+                "--quiet",
+                "--matrix",
+                &matrix,
+                "--results",
+                "demo-data/results.yaml",
+                "--images",
+                "matrices/demo-images.yaml",
+                "--registry",
+                registry,
+            ],
+            &format!(
                 "{registry}: {command} --matrix with --results needs at least one version record from here to read recorded results against; of 1 read, 1 were left out (`basefit check` lists why)"
-            )),
-            "{command}: {stderr}"
+            ),
         );
     }
 }

@@ -48,35 +48,38 @@ fn sources_with_no_usable_row_or_an_empty_window_are_input_errors() {
     let source = dir.path().join("bad.csv");
     std::fs::write(&source, "name,rank\n,1\nnumbat,x\n").unwrap();
     let out = dir.path().join("priorities.yaml");
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .arg("fuse")
-        .arg("--source")
-        .arg(&source)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    let stderr = fuse_refused(&[
+        "--source",
+        source.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
     assert!(
         stderr.contains("bad.csv") && stderr.contains("no usable row"),
         "{stderr}"
     );
     assert!(!out.exists(), "an empty list is not written");
     // A window that ends before it starts holds no day.
+    let stderr = fuse_refused(&[
+        "--source",
+        "demo-data/sources/downloads.csv",
+        "--window",
+        "2024-12-31..2024-01-01",
+    ]);
+    assert!(stderr.contains("ends before it starts"), "{stderr}");
+}
+
+/// Runs `basefit fuse` with `args`, asserts it is refused as an input error (exit 2), and
+/// returns its stderr.
+fn fuse_refused(args: &[&str]) -> String {
     let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args([
-            "fuse",
-            "--source",
-            "demo-data/sources/downloads.csv",
-            "--window",
-            "2024-12-31..2024-01-01",
-        ])
+        .arg("fuse")
+        .args(args)
         .output()
         .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{stderr}");
-    assert!(stderr.contains("ends before it starts"), "{stderr}");
+    let stderr = String::from_utf8_lossy(&run.stderr).into_owned();
+    assert_eq!(run.status.code(), Some(2), "fuse {args:?}: {stderr}");
+    stderr
 }
 
 #[test]
@@ -84,13 +87,12 @@ fn share_sum_names_the_row_without_a_score() {
     let dir = tempfile::tempdir().unwrap();
     let source = dir.path().join("stars.csv");
     std::fs::write(&source, "rank,name,score\n1,gumleaf,420\n2,numbat,\n").unwrap();
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args(["fuse", "--method", "share-sum", "--source"])
-        .arg(&source)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    let stderr = fuse_refused(&[
+        "--method",
+        "share-sum",
+        "--source",
+        source.to_str().unwrap(),
+    ]);
     assert!(
         stderr.contains(&format!(
             "{}:3: share-sum fusion needs a score for every entry, but `numbat` has an empty `score`",
@@ -99,18 +101,12 @@ fn share_sum_names_the_row_without_a_score() {
         "{stderr}"
     );
     // A ranking without the column is refused at its header.
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args([
-            "fuse",
-            "--method",
-            "share-sum",
-            "--source",
-            "demo-data/sources/usage.csv",
-        ])
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    let stderr = fuse_refused(&[
+        "--method",
+        "share-sum",
+        "--source",
+        "demo-data/sources/usage.csv",
+    ]);
     assert!(
         stderr.contains("demo-data/sources/usage.csv:1: share-sum fusion needs a score")
             && stderr.contains("no `score` column"),
@@ -119,13 +115,12 @@ fn share_sum_names_the_row_without_a_score() {
     // Blank lines may come before the header: the error names the header's own line.
     let spaced = dir.path().join("spaced.csv");
     std::fs::write(&spaced, "\n\nrank,name\n1,gumleaf\n").unwrap();
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args(["fuse", "--method", "share-sum", "--source"])
-        .arg(&spaced)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(2), "{stderr}");
+    let stderr = fuse_refused(&[
+        "--method",
+        "share-sum",
+        "--source",
+        spaced.to_str().unwrap(),
+    ]);
     assert!(
         stderr.contains(&format!(
             "{}:3: share-sum fusion needs a score",

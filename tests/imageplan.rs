@@ -350,14 +350,19 @@ fn svg_escapes_its_text() {
     assert_eq!(svg.matches("<circle class=\"point\"").count(), 1);
 }
 
-#[test]
-fn command_writes_yaml_and_svg() {
-    let dir = tempfile::tempdir().unwrap();
-    let path = |n: &str| dir.path().join(n);
-    std::fs::write(path("r.yaml"), PRE_REGISTRY).unwrap();
+/// The `imageplan` command with the command line's defaults (every image at its own runtime,
+/// target 0.95, table output) on `registry`, `ONE_IMAGE` and `priorities` written into `dir`,
+/// writing its files into `dir/out`.
+fn imageplan_command(
+    dir: &std::path::Path,
+    registry: &str,
+    priorities: &str,
+) -> basefit::commands::ImageplanCommand {
+    let path = |n: &str| dir.join(n);
+    std::fs::write(path("r.yaml"), registry).unwrap();
     std::fs::write(path("i.yaml"), ONE_IMAGE).unwrap();
-    std::fs::write(path("p.yaml"), PRE_PRIORITIES).unwrap();
-    let o = basefit::commands::ImageplanCommand {
+    std::fs::write(path("p.yaml"), priorities).unwrap();
+    basefit::commands::ImageplanCommand {
         inputs: basefit::load::InputPaths {
             registry: vec![path("r.yaml")],
             images: Some(path("i.yaml")),
@@ -366,11 +371,22 @@ fn command_writes_yaml_and_svg() {
         },
         strict: false,
         plan: PlanOptions::default(),
-        images: vec!["deb".to_string()],
-        runtimes: vec![v("3.0.5"), v("3.1.2")],
+        images: Vec::new(),
+        runtimes: Vec::new(),
         target: 0.95,
         out: Some(path("out")),
         format: basefit::report::Format::Table,
+    }
+}
+
+#[test]
+fn command_writes_yaml_and_svg() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |n: &str| dir.path().join(n);
+    let o = basefit::commands::ImageplanCommand {
+        images: vec!["deb".to_string()],
+        runtimes: vec![v("3.0.5"), v("3.1.2")],
+        ..imageplan_command(dir.path(), PRE_REGISTRY, PRE_PRIORITIES)
     };
     let out = basefit::commands::imageplan(&o).unwrap();
     let yaml = std::fs::read_to_string(path("out/imageplan.yaml")).unwrap();
@@ -450,28 +466,14 @@ fn coverage_counts_its_cells_into_the_progress_bar() {
 fn a_runtime_where_nothing_resolves_prints_zero_not_negative_zero() {
     let dir = tempfile::tempdir().unwrap();
     let path = |n: &str| dir.path().join(n);
-    std::fs::write(
-        path("r.yaml"),
-        "packages:\n- name: anchor\n  versions:\n  - {version: 1.0.0, runtime: '>=9'}\n",
-    )
-    .unwrap();
-    std::fs::write(path("i.yaml"), ONE_IMAGE).unwrap();
-    std::fs::write(path("p.yaml"), "priorities:\n- {name: anchor, weight: 2}\n").unwrap();
     let o = basefit::commands::ImageplanCommand {
-        inputs: basefit::load::InputPaths {
-            registry: vec![path("r.yaml")],
-            images: Some(path("i.yaml")),
-            priorities: Some(path("p.yaml")),
-            ..Default::default()
-        },
-        strict: false,
-        plan: PlanOptions::default(),
-        images: Vec::new(),
-        runtimes: Vec::new(),
         // `--target=-0` is zero too.
         target: -0.0,
-        out: Some(path("out")),
-        format: basefit::report::Format::Table,
+        ..imageplan_command(
+            dir.path(),
+            "packages:\n- name: anchor\n  versions:\n  - {version: 1.0.0, runtime: '>=9'}\n",
+            "priorities:\n- {name: anchor, weight: 2}\n",
+        )
     };
     let text = basefit::commands::imageplan(&o).unwrap().stdout;
     assert!(text.contains("3.1.0    0.0%"), "{text}");
