@@ -739,21 +739,12 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
     let target = o.target + 0.0;
     let mut selected = Vec::new();
     for id in &o.images {
-        match inputs.images.get(id) {
-            Some(img)
-                if !selected
-                    .iter()
-                    .any(|s: &crate::model::Image| s.id == img.id) =>
-            {
-                selected.push(img.clone())
-            }
-            Some(_) => {}
-            None => {
-                return Err(BadInput::file(
-                    "command line",
-                    format!("--image {id}: no such image in --images"),
-                ));
-            }
+        let img = inputs.image_from_command_line(id, &format!("--image {id}"))?;
+        if !selected
+            .iter()
+            .any(|s: &crate::model::Image| s.id == img.id)
+        {
+            selected.push(img.clone());
         }
     }
     if o.images.is_empty() {

@@ -499,6 +499,15 @@ impl Ledger {
         groups
     }
 
+    /// Why the image `id` was left out, when an images file declared it and it could not be
+    /// built: the problem names the image by id and says where and why. Duplicate ids are not
+    /// asked about: the first of them is kept.
+    pub fn left_out_image(&self, id: &str) -> Option<&Problem> {
+        self.problems
+            .iter()
+            .find(|p| p.kind == ProblemKind::BadImage && p.subject == id)
+    }
+
     /// Record kinds whose counts do not add up; empty when nothing was lost.
     pub fn unbalanced(&self) -> Vec<RecordKind> {
         self.tallies
