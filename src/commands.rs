@@ -59,11 +59,18 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
             .map(|(k, v)| format!("{} {}", v.len(), k.label()))
             .collect();
         let first = &inputs.ledger.problems[0];
+        // The place named may be a stand-in: say so rather than pass it off as the problem's own.
+        let unplaced: String = inputs
+            .ledger
+            .unplaced
+            .iter()
+            .map(|u| format!("; {}", u.sentence()))
+            .collect();
         return Err(BadInput::at(
             first.origin.file.clone(),
             first.origin.line,
             format!(
-                "--strict: {}: {} (in all: {})",
+                "--strict: {}: {} (in all: {}){unplaced}",
                 first.subject,
                 first.detail,
                 parts.join(", ")
