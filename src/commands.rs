@@ -59,11 +59,18 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
             .map(|(k, v)| format!("{} {}", v.len(), k.label()))
             .collect();
         let first = &inputs.ledger.problems[0];
+        // The place named may be a stand-in: say so rather than pass it off as the problem's own.
+        let unplaced: String = inputs
+            .ledger
+            .unplaced
+            .iter()
+            .map(|u| format!("; {}", u.sentence()))
+            .collect();
         return Err(BadInput::at(
             first.origin.file.clone(),
             first.origin.line,
             format!(
-                "--strict: {}: {} (in all: {})",
+                "--strict: {}: {} (in all: {}){unplaced}",
                 first.subject,
                 first.detail,
                 parts.join(", ")
@@ -177,23 +184,43 @@ fn registry_files(paths: &InputPaths) -> Vec<String> {
 }
 
 /// When registry files were given but hold no usable release: the files, what came to
-/// nothing (no package at all, or packages whose every version record was left out) and the
-/// counts of that kind of record. `None` when a release is usable or no registry was given.
+/// nothing (no package at all, or packages whose every version record was left out) and why,
+/// for a message that goes on "needs at least one {noun}: ". `None` when a release is usable
+/// or no registry was given.
 fn registry_left_nothing(
     inputs: &Inputs,
     paths: &InputPaths,
-) -> Option<(String, &'static str, crate::load::diag::Tally)> {
+) -> Option<(String, &'static str, String)> {
     use crate::load::diag::RecordKind;
     let files = registry_files(paths);
     if files.is_empty() || inputs.registry.release_count() > 0 {
         return None;
     }
-    let (noun, kind) = if inputs.registry.packages.is_empty() {
-        ("package", RecordKind::Package)
-    } else {
-        ("version record", RecordKind::Version)
+    let packages = inputs.registry.packages.len();
+    let (noun, kind) = match packages {
+        0 => ("package", RecordKind::Package),
+        _ => ("version record", RecordKind::Version),
     };
-    Some((files.join(", "), noun, inputs.ledger.tally(kind)))
+    let tally = inputs.ledger.tally(kind);
+    // "Of 0 read, 0 were left out" would send the user to `check` for a list that is empty:
+    // when nothing of the kind was read, the file simply has none.
+    let why = match (tally.read, packages) {
+        (0, 0) => format!("{} none", declare(files.len())),
+        (0, n) => format!("{} {n} packages but no versions", declare(files.len())),
+        (read, _) => format!(
+            "of {read} read, {} were left out (`basefit check` lists why)",
+            tally.left_out
+        ),
+    };
+    Some((files.join(", "), noun, why))
+}
+
+/// "the file declares" or "the files declare", for `files` registry files.
+fn declare(files: usize) -> &'static str {
+    match files {
+        1 => "the file declares",
+        _ => "the files declare",
+    }
 }
 
 /// Refuses a run that would plan without a registry, or from one that was given but has no
@@ -211,12 +238,9 @@ fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Resul
     }
     match registry_left_nothing(inputs, paths) {
         None => Ok(()),
-        Some((files, noun, tally)) => Err(BadInput::file(
+        Some((files, noun, why)) => Err(BadInput::file(
             files,
-            format!(
-                "{command} needs at least one {noun}: of {} read, {} were left out (`basefit check` lists why)",
-                tally.read, tally.left_out
-            ),
+            format!("{command} needs at least one {noun}: {why}"),
         )),
     }
 }
@@ -256,23 +280,17 @@ fn require_results_context(
             (
                 p.display().to_string(),
                 "image",
-                "none was usable".to_string(),
+                "none was usable (`basefit check` lists why)".to_string(),
             )
         })
     } else {
-        registry_left_nothing(inputs, paths).map(|(files, noun, tally)| {
-            let why = match tally.read {
-                0 => "none was usable".to_string(),
-                read => format!("of {read} read, {} were left out", tally.left_out),
-            };
-            (files, noun, why)
-        })
+        registry_left_nothing(inputs, paths)
     };
     if let Some((file, noun, why)) = given_but_empty {
         return Err(BadInput::file(
             file,
             format!(
-                "{command} --matrix with --results needs at least one {noun} from here to read recorded results against; {why} (`basefit check` lists why)"
+                "{command} --matrix with --results needs at least one {noun} from here to read recorded results against; {why}"
             ),
         ));
     }
@@ -739,21 +757,12 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
     let target = o.target + 0.0;
     let mut selected = Vec::new();
     for id in &o.images {
-        match inputs.images.get(id) {
-            Some(img)
-                if !selected
-                    .iter()
-                    .any(|s: &crate::model::Image| s.id == img.id) =>
-            {
-                selected.push(img.clone())
-            }
-            Some(_) => {}
-            None => {
-                return Err(BadInput::file(
-                    "command line",
-                    format!("--image {id}: no such image in --images"),
-                ));
-            }
+        let img = inputs.image_from_command_line(id, &format!("--image {id}"))?;
+        if !selected
+            .iter()
+            .any(|s: &crate::model::Image| s.id == img.id)
+        {
+            selected.push(img.clone());
         }
     }
     if o.images.is_empty() {

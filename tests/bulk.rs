@@ -496,7 +496,9 @@ fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
     let edited = DEPENDENCY_PROBLEMS_DEPS.replacen(",pkg-gone,*,", ",pkg-b,*,", 1);
     let cut = edited.lines().take(9).collect::<Vec<_>>().join("\n") + "\n";
     let unusable = b"package,version\n".as_slice();
-    let places = |deps: &[&[u8]]| {
+    // Each problem left at its version's row is counted once in `unplaced`, with why: a
+    // report must not pass that row off as the problem's own.
+    let places = |deps: &[&[u8]], why: Option<&str>| {
         let (loaded, _) = load_changing(DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(), deps);
         let (_, mut ledger) = loaded.unwrap();
         ledger.place_deferred();
@@ -507,10 +509,24 @@ fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
             .map(|p| format!("{}:{} {}", p.origin.file, p.origin.line, p.subject))
             .collect();
         places.sort();
+        let at_versions = places
+            .iter()
+            .filter(|p| p.starts_with("versions.csv"))
+            .count();
+        match why {
+            None => assert!(ledger.unplaced.is_empty(), "{:?}", ledger.unplaced),
+            Some(why) => {
+                assert_eq!(ledger.unplaced.len(), 1, "{:?}", ledger.unplaced);
+                let u = &ledger.unplaced[0];
+                assert_eq!((u.file.as_str(), u.problems), ("deps.csv", at_versions));
+                assert!(u.reason.contains(why), "{}", u.reason);
+            }
+        }
         places
     };
+    let changed = "it changed since it was read";
     assert_eq!(
-        places(&[first]),
+        places(&[first], None),
         [
             "deps.csv:11 pkg-a@1.1.0",
             "deps.csv:12 pkg-b@2.1.0",
@@ -524,10 +540,14 @@ fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
         "versions.csv:3 pkg-a@1.1.0",
         "versions.csv:5 pkg-b@2.1.0",
     ];
-    assert_eq!(places(&[first, header_only]), at_versions);
-    assert_eq!(places(&[first, unusable]), at_versions);
+    assert_eq!(places(&[first, header_only], Some(changed)), at_versions);
+    // The header no longer has the columns: the file cannot be read as one at all.
     assert_eq!(
-        places(&[first, cut.as_bytes()]),
+        places(&[first, unusable], Some("`dependency`")),
+        at_versions
+    );
+    assert_eq!(
+        places(&[first, cut.as_bytes()], Some(changed)),
         [
             "deps.csv:9 pkg-a@1.1.0",
             "versions.csv:3 pkg-a@1.1.0",
@@ -929,4 +949,68 @@ fn row_order_does_not_change_the_registry() {
         v
     };
     assert_eq!(without_lines(&shuffled_ledger), without_lines(&ledger));
+}
+
+/// A dependencies file that is a pipe can be read once: `check` and the error of `--strict`
+/// say that its dependency problems are shown at their version's row, and why, instead of
+/// passing that row off as theirs (and the second open does not wait for a writer).
+#[cfg(unix)]
+#[test]
+fn dependency_problems_from_a_pipe_say_they_are_not_placed() {
+    use basefit::commands::{CheckOptions, check, load};
+    use basefit::load::InputPaths;
+    use basefit::report::Format;
+    let dir = tempfile::tempdir().unwrap();
+    let versions = dir.path().join("versions.csv");
+    let deps = dir.path().join("deps.fifo");
+    std::fs::write(&versions, DEPENDENCY_PROBLEMS_VERSIONS).unwrap();
+    let made = std::process::Command::new("mkfifo").arg(&deps).status();
+    if !made.is_ok_and(|s| s.success()) {
+        eprintln!("skipped: mkfifo is not available");
+        return;
+    }
+    // One writer per load: the pipe gives its rows to the first open only.
+    let feed = || {
+        let deps = deps.clone();
+        std::thread::spawn(move || std::fs::write(deps, DEPENDENCY_PROBLEMS_DEPS).unwrap())
+    };
+    let paths = InputPaths {
+        bulk: Some((versions.clone(), deps.clone())),
+        ..Default::default()
+    };
+    let sentence = format!(
+        "4 problems are shown at their version's row, not their dependency's, because {} could not be read again: it is not a regular file",
+        deps.display()
+    );
+    let run = |format| {
+        let writer = feed();
+        let out = check(&CheckOptions {
+            inputs: paths.clone(),
+            strict: false,
+            format,
+        })
+        .unwrap();
+        writer.join().unwrap();
+        out.stdout
+    };
+    let text = run(Format::Table);
+    assert_eq!(text.matches(&sentence).count(), 1, "{text}");
+    assert!(text.contains("versions.csv:3  pkg-a@1.1.0"), "{text}");
+    let json: serde_json::Value = serde_json::from_str(&run(Format::Json)).unwrap();
+    let unplaced = &json["unplaced"];
+    assert_eq!(unplaced.as_array().map(Vec::len), Some(1), "{json}");
+    assert_eq!(unplaced[0]["problems"], 4);
+    assert_eq!(unplaced[0]["file"], deps.display().to_string());
+    assert!(
+        unplaced[0]["reason"]
+            .as_str()
+            .is_some_and(|r| r.contains("not a regular file")),
+        "{json}"
+    );
+    let writer = feed();
+    let Err(err) = load(&paths, true) else {
+        panic!("--strict accepted the problems");
+    };
+    writer.join().unwrap();
+    assert!(err.to_string().contains(&sentence), "{err}");
 }

@@ -302,3 +302,116 @@ fn removing_the_compiler_package_drops_an_inherited_toolchain() {
     );
     assert!(!stdout.contains("el-bare: inherits"), "{stdout}");
 }
+
+/// An image id the command line names that the images file declares but left out is named as
+/// left out, at its place in that file and with the reason, not as an unknown id; an id the
+/// file never declares is still unknown.
+#[test]
+fn a_left_out_image_named_on_the_command_line_is_reported_as_left_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |name: &str| dir.path().join(name).to_str().unwrap().to_string();
+    std::fs::write(
+        path("r.yaml"),
+        "packages:\n- name: a\n  versions:\n  - version: 1.0.0\n",
+    )
+    .unwrap();
+    std::fs::write(
+        path("i.yaml"),
+        "images:\n\
+         - {id: img, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64}\n\
+         - {id: bad, runtime: nightly, family: debian, platform: linux/glibc/x86_64}\n",
+    )
+    .unwrap();
+    std::fs::write(path("p.yaml"), "priorities:\n- a\n").unwrap();
+    let (r, i, p) = (path("r.yaml"), path("i.yaml"), path("p.yaml"));
+    let inputs = ["--registry", &r, "--images", &i, "--priorities", &p];
+    let left_out = format!("{i}:3: ");
+    for (command, id_args) in [
+        (vec!["explain", "a", "bad"], vec![]),
+        (vec!["imageplan"], vec!["--image", "bad"]),
+    ] {
+        let mut args = inputs.to_vec();
+        args.extend(&id_args);
+        let (code, _, stderr) = run(&command, &args);
+        assert_eq!(code, 2, "{command:?}: {stderr}");
+        assert!(stderr.contains(&left_out), "{command:?}: {stderr}");
+        assert!(
+            stderr.contains(
+                "image `bad` is declared in this file but was left out: runtime `nightly`"
+            ),
+            "{command:?}: {stderr}"
+        );
+        assert!(!stderr.contains("panicked"), "{stderr}");
+    }
+    for (command, id_args) in [
+        (vec!["explain", "a", "nope"], vec![]),
+        (vec!["imageplan"], vec!["--image", "nope"]),
+    ] {
+        let mut args = inputs.to_vec();
+        args.extend(&id_args);
+        let (code, _, stderr) = run(&command, &args);
+        assert_eq!(code, 2, "{command:?}: {stderr}");
+        assert!(
+            stderr.contains("command line: ")
+                && stderr.contains("no image `nope` in --images; declared: img\n"),
+            "{command:?}: {stderr}"
+        );
+    }
+}
+
+/// A registry that declares packages but no version at all is refused for what it is: "of 0
+/// read, 0 were left out" would send the user to `check` for a list of nothing. Records read
+/// and left out keep their counts; a bulk versions file with only its header declares nothing.
+#[test]
+fn a_registry_without_versions_is_refused_plainly() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = |name: &str| dir.path().join(name).to_str().unwrap().to_string();
+    let write = |name: &str, text: &str| std::fs::write(path(name), text).unwrap();
+    write(
+        "i.yaml",
+        "images:\n- {id: img, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64}\n",
+    );
+    write("p.yaml", "priorities:\n- a\n");
+    write(
+        "bare.yaml",
+        "packages:\n- name: a\n  versions: []\n- name: b\n",
+    );
+    write("versions.csv", "package,version\n");
+    write("bad-versions.csv", "package,version\na,not-a-version\n");
+    write("deps.csv", "package,version,dependency,req\n");
+    let (i, p) = (path("i.yaml"), path("p.yaml"));
+    let cases = [
+        (
+            vec!["--registry".to_string(), path("bare.yaml")],
+            format!(
+                "{}: plan needs at least one version record: the file declares 2 packages but no versions\n",
+                path("bare.yaml")
+            ),
+        ),
+        (
+            vec!["--bulk".to_string(), path("versions.csv"), path("deps.csv")],
+            format!(
+                "{}: plan needs at least one package: the file declares none\n",
+                path("versions.csv")
+            ),
+        ),
+        (
+            vec![
+                "--bulk".to_string(),
+                path("bad-versions.csv"),
+                path("deps.csv"),
+            ],
+            format!(
+                "{}: plan needs at least one version record: of 1 read, 1 were left out (`basefit check` lists why)\n",
+                path("bad-versions.csv")
+            ),
+        ),
+    ];
+    for (registry, want) in cases {
+        let mut args: Vec<&str> = registry.iter().map(String::as_str).collect();
+        args.extend(["--images", &i, "--priorities", &p]);
+        let (code, _, stderr) = run(&["plan"], &args);
+        assert_eq!(code, 2, "{stderr}");
+        assert!(stderr.ends_with(&want), "{stderr}");
+    }
+}

@@ -15,6 +15,7 @@
 //! dependencies file a second time to do it, so a load whose problems are only counted reads
 //! it once.
 
+use super::diag;
 use super::diag::{At, BadInput, Ledger, Origin, Problem, ProblemKind, RecordKind, SchemaErrors};
 use super::registry::{BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms};
 use super::table::{RowRef, Table};
@@ -129,7 +130,16 @@ pub fn read_bulk_showing(
     // there is reported at once.
     let deps_table = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
     let path = deps.to_path_buf();
+    // A pipe read once is empty the second time, and a named one blocks the second open until
+    // someone writes to it again: only a regular file is opened again.
+    let regular = std::fs::metadata(deps).is_ok_and(|m| m.is_file());
     let reopen: Arc<Reopen> = Arc::new(move |progress: Option<&indicatif::ProgressBar>| {
+        if !regular {
+            return Err(BadInput::file(
+                path.display().to_string(),
+                "it is not a regular file (a pipe, say), so it cannot be opened again",
+            ));
+        }
         if let Some(bar) = progress {
             super::start_bar(
                 bar,
@@ -191,13 +201,14 @@ fn read_tables(
 ) -> Result<(Registry, Ledger), BadInput> {
     let mut load = Load::default();
     load.read_versions(versions)?;
+    let deps_file = deps.file.clone();
     let attached = load.read_dependencies(deps)?;
     Ok(super::while_indexing(progress, || {
         let (registry, mut ledger, unplaced) = load.commit(attached).finish_unplaced();
         // Most dumps have no such problem, and a load that has some keeps only what it takes
         // to place them: the second read is for those who show the places.
         if !unplaced.is_empty() {
-            let deferred = DeferredRows::new(&registry, &ledger, &unplaced, reopen_deps);
+            let deferred = DeferredRows::new(&registry, &ledger, &unplaced, deps_file, reopen_deps);
             ledger.defer(deferred);
         }
         (registry, ledger)
@@ -960,6 +971,8 @@ type Reopen = dyn Fn(Option<&indicatif::ProgressBar>) -> Result<Table, BadInput>
 /// [`Ledger::place_deferred`]; a few strings per problem, nothing per dependency.
 #[derive(Clone)]
 pub(crate) struct DeferredRows {
+    /// The dependencies file, as messages name it.
+    file: String,
     reopen: Arc<Reopen>,
     problems: Vec<DeferredProblem>,
 }
@@ -997,6 +1010,7 @@ impl DeferredRows {
         registry: &Registry,
         ledger: &Ledger,
         unplaced: &[Unplaced],
+        file: String,
         reopen: Arc<Reopen>,
     ) -> DeferredRows {
         let problems = unplaced
@@ -1022,7 +1036,11 @@ impl DeferredRows {
                 })
             })
             .collect();
-        DeferredRows { reopen, problems }
+        DeferredRows {
+            file,
+            reopen,
+            problems,
+        }
     }
 
     /// How many problems wait here.
@@ -1040,12 +1058,12 @@ impl DeferredRows {
     /// other records with the text are duplicates, left out or without rows). A row is used
     /// only when it still names the same dependency, requirement and kind; if the file
     /// changed since the first read, or cannot be read again, the problems not placed stay
-    /// at the version's row.
+    /// at the version's row, and the second value counts them and says why.
     pub(crate) fn place(
         &self,
         problems: &mut [Problem],
         progress: Option<&indicatif::ProgressBar>,
-    ) -> usize {
+    ) -> (usize, Option<diag::Unplaced>) {
         // Each deferred problem is the next one of equal value: equal problems (two rows of
         // one version naming the same unknown package) are interchangeable until placed.
         let mut equal: FxHashMap<&Problem, Vec<usize>> = FxHashMap::default();
@@ -1059,10 +1077,17 @@ impl DeferredRows {
             .collect();
         let mut left = targets.iter().flatten().count();
         if left == 0 {
-            return 0;
+            return (0, None);
         }
-        let Ok(table) = (self.reopen)(progress) else {
-            return 0;
+        let to_place = left;
+        let unplaced = |problems: usize, reason: String| diag::Unplaced {
+            file: self.file.clone(),
+            problems,
+            reason,
+        };
+        let table = match (self.reopen)(progress) {
+            Ok(table) => table,
+            Err(e) => return (0, Some(unplaced(to_place, e.message))),
         };
         let cols = DepCols::of(&table);
         let file = table.file.clone();
@@ -1087,12 +1112,15 @@ impl DeferredRows {
             w.problems.sort_unstable_by_key(|p| p.0);
         }
         let mut moved = 0;
-        // A read error here (the file changed, or cannot be read now): what is not placed
-        // stays at its version's row.
-        let _ = table.for_each_batch(|batch| {
+        let mut malformed = None;
+        let read = table.for_each_batch(|batch| {
             for row in batch.rows() {
-                let Ok(cells) = dep_cells(&file, &cols, row) else {
-                    return ControlFlow::Break(());
+                let cells = match dep_cells(&file, &cols, row) {
+                    Ok(cells) => cells,
+                    Err(e) => {
+                        malformed = Some(e);
+                        return ControlFlow::Break(());
+                    }
                 };
                 let Some(&at) = by_key
                     .get(cells.package)
@@ -1124,7 +1152,21 @@ impl DeferredRows {
             }
             ControlFlow::Continue(())
         });
-        moved
+        if moved == to_place {
+            return (moved, None);
+        }
+        // Rows the first read found are missing, say something else, or no longer parse.
+        let reason = match read.err().or(malformed) {
+            Some(BadInput {
+                line: Some(line),
+                message,
+                ..
+            }) => format!("it changed since it was read (line {line}: {message})"),
+            Some(e) => format!("it changed since it was read ({})", e.message),
+            None => "it changed since it was read (rows it had are gone or say something else)"
+                .to_string(),
+        };
+        (moved, Some(unplaced(to_place - moved, reason)))
     }
 }
 

@@ -327,6 +327,30 @@ pub struct Ledger {
     /// of record each absent input would have checked. Without it a report with no
     /// unknown-package problem would pass for one whose names were verified.
     pub skipped: BTreeMap<Reference, BTreeSet<RecordKind>>,
+    /// Problems [`Ledger::place_deferred`] had to leave at their stand-in place. Without it a
+    /// report would pass them off as being at their own place.
+    pub unplaced: Vec<Unplaced>,
+}
+
+/// Problems left at a stand-in place (a bulk dependency problem at its version's row) because
+/// the file that holds their own place could not be read again.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Unplaced {
+    /// The file that could not be read again.
+    pub file: String,
+    pub problems: usize,
+    /// Why: it cannot be reopened, or it changed since it was read.
+    pub reason: String,
+}
+
+impl Unplaced {
+    /// The sentence reports show, once per file.
+    pub fn sentence(&self) -> String {
+        format!(
+            "{} problems are shown at their version's row, not their dependency's, because {} could not be read again: {}",
+            self.problems, self.file, self.reason
+        )
+    }
 }
 
 impl Ledger {
@@ -422,6 +446,7 @@ impl Ledger {
         }
         self.problems.extend(other.problems);
         self.deferred.extend(other.deferred);
+        self.unplaced.extend(other.unplaced);
         for (reference, kinds) in other.skipped {
             self.skipped.entry(reference).or_default().extend(kinds);
         }
@@ -446,7 +471,8 @@ impl Ledger {
     /// version's row in the versions file; placed, their dependency's row in the
     /// dependencies file, which this reads a second time ([`crate::load::read_bulk`]). A
     /// problem whose row cannot be found (the file changed since the load, or cannot be read
-    /// now) keeps its version's row. Problems keep their order in the list (sort again if
+    /// now, as a pipe cannot) keeps its version's row, and [`Ledger::unplaced`] says how many
+    /// did and why. Problems keep their order in the list (sort again if
     /// the order by place matters: [`Ledger::sort`], or [`crate::load::Inputs::place_deferred`],
     /// which does both), and are found by value, so the ledger may be sorted or merged first.
     /// Only the first call reads anything.
@@ -484,10 +510,13 @@ impl Ledger {
         progress: Option<&indicatif::ProgressBar>,
     ) -> usize {
         let deferred = std::mem::take(&mut self.deferred);
-        deferred
-            .iter()
-            .map(|rows| rows.place(&mut self.problems, progress))
-            .sum()
+        let mut moved = 0;
+        for rows in &deferred {
+            let (placed, unplaced) = rows.place(&mut self.problems, progress);
+            moved += placed;
+            self.unplaced.extend(unplaced);
+        }
+        moved
     }
 
     /// Problems grouped by kind, in a fixed order, each group in input order.
@@ -497,6 +526,15 @@ impl Ledger {
             groups.entry(p.kind).or_default().push(p);
         }
         groups
+    }
+
+    /// Why the image `id` was left out, when an images file declared it and it could not be
+    /// built: the problem names the image by id and says where and why. Duplicate ids are not
+    /// asked about: the first of them is kept.
+    pub fn left_out_image(&self, id: &str) -> Option<&Problem> {
+        self.problems
+            .iter()
+            .find(|p| p.kind == ProblemKind::BadImage && p.subject == id)
     }
 
     /// Record kinds whose counts do not add up; empty when nothing was lost.

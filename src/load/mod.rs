@@ -88,7 +88,7 @@ pub fn read_registry(paths: &[&Path]) -> Result<(Registry, Ledger), BadInput> {
     Ok(builder.finish())
 }
 
-use crate::model::{ImageSet, PriorityList, RecordedResult};
+use crate::model::{Image, ImageSet, PriorityList, RecordedResult};
 use crate::native::Catalog;
 use std::path::PathBuf;
 
@@ -132,6 +132,33 @@ pub struct Inputs {
 }
 
 impl Inputs {
+    /// The image the command line names as `arg` (`--image deb`). An image that was declared
+    /// but left out is named at its problem's place with the reason: reported as unknown it
+    /// would send the user looking for a typo in an id the file does have.
+    pub fn image_from_command_line(&self, id: &str, arg: &str) -> Result<&Image, BadInput> {
+        if let Some(image) = self.images.get(id) {
+            return Ok(image);
+        }
+        if let Some(p) = self.ledger.left_out_image(id) {
+            return Err(BadInput::at(
+                p.origin.file.clone(),
+                p.origin.line,
+                format!(
+                    "{arg}: image `{id}` is declared in this file but was left out: {}",
+                    p.detail
+                ),
+            ));
+        }
+        let known: Vec<&str> = self.images.images.iter().map(|i| i.id.as_str()).collect();
+        Err(BadInput::file(
+            "command line",
+            format!(
+                "{arg}: no image `{id}` in --images; declared: {}",
+                known.join(", ")
+            ),
+        ))
+    }
+
     /// Moves every problem the load reported at a stand-in place to its own
     /// ([`Ledger::place_deferred`]) and keeps the problems in order ([`Ledger::sort`]).
     /// `progress`, if given, shows the read and is cleared after it. Call it before showing

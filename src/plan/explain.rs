@@ -128,13 +128,8 @@ pub fn explain(
     image_id: &str,
     options: &PlanOptions,
 ) -> Result<Explanation, BadInput> {
-    let image = inputs.images.get(image_id).ok_or_else(|| {
-        let known: Vec<&str> = inputs.images.images.iter().map(|i| i.id.as_str()).collect();
-        BadInput::file(
-            "command line",
-            format!("no image `{image_id}`; declared: {}", known.join(", ")),
-        )
-    })?;
+    let image =
+        inputs.image_from_command_line(image_id, &format!("explain {package} {image_id}"))?;
     let entry = inputs
         .priorities
         .entries

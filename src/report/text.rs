@@ -1,7 +1,7 @@
 //! Readable text reports.
 
 use crate::load::Ledger;
-use crate::load::diag::{RecordKind, Reference, Tally};
+use crate::load::diag::{RecordKind, Reference, Tally, Unplaced};
 use crate::plan::blockers::SharedBlocker;
 use crate::plan::explain::{Explanation, NotAdmitted, ReleaseHint, RuntimeHint, Trial};
 use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
@@ -50,6 +50,8 @@ pub struct CheckReport<'a> {
     pub records: Vec<(&'static str, &'a Tally)>,
     /// Cross-checks not made for want of an input, so `clean` is not read as names verified.
     pub skipped_checks: Vec<SkippedCheck>,
+    /// Problems shown at a stand-in place, so their `origin` is not read as their own.
+    pub unplaced: &'a [Unplaced],
     pub problems: Vec<ProblemGroup<'a>>,
 }
 
@@ -89,6 +91,7 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
         clean: ledger.is_clean(),
         records: ledger.tallies.iter().map(|(k, t)| (k.label(), t)).collect(),
         skipped_checks: skipped_checks(ledger),
+        unplaced: &ledger.unplaced,
         problems: ledger
             .by_kind()
             .into_iter()
@@ -135,6 +138,12 @@ pub fn check_text(ledger: &Ledger) -> String {
                 kebab(s.missing),
                 s.flags
             );
+        }
+    }
+    if !ledger.unplaced.is_empty() {
+        out.push_str("\nnot at their own place:\n");
+        for u in &ledger.unplaced {
+            let _ = writeln!(out, "  {}", u.sentence());
         }
     }
     let groups = ledger.by_kind();
