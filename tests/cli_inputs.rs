@@ -1247,3 +1247,54 @@ fn review_without_a_matrix_needs_images() {
         "{stderr}"
     );
 }
+
+/// A recorded result on an image the images file declares but left out points at why it was
+/// left out, rather than calling the image undeclared; one never declared still reads so.
+#[test]
+fn a_result_on_a_left_out_image_says_why_the_image_was_left_out() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: odd\n",
+            "    runtime: nightly\n",
+            "    family: debian\n",
+            "    platform: linux/glibc/x86_64\n",
+        )
+        .as_bytes(),
+    );
+    let results = write(
+        d.path(),
+        "results.yaml",
+        concat!(
+            "results:\n",
+            "  - {package: fernwood, image: odd, outcome: installed}\n",
+            "  - {package: fernwood, image: nowhere, outcome: installed}\n",
+        )
+        .as_bytes(),
+    );
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--images".as_ref(),
+        img.as_os_str(),
+        "--results".as_ref(),
+        results.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        format!(
+            "results.yaml:2  fernwood on odd: image `odd` was left out ({}:4: runtime `nightly`: does not start with a number)",
+            img.display()
+        ),
+        "results.yaml:3  fernwood on nowhere: image `nowhere` is not declared".to_string(),
+    ] {
+        assert!(stdout.contains(&want), "wanted {want} in {stdout}");
+    }
+    assert_eq!(record_counts(&stdout, "recorded results"), ["2", "0", "2"]);
+}

@@ -277,7 +277,7 @@ impl ProblemKind {
             }
             ProblemKind::DuplicateEntry => "duplicate ids or names (later record left out)",
             ProblemKind::UnknownPackage => "entries naming packages not in the registry",
-            ProblemKind::UnknownImage => "results naming images not declared",
+            ProblemKind::UnknownImage => "results naming images not declared or left out",
             ProblemKind::MissingLog => "log files that cannot be read (result kept without log)",
             ProblemKind::BadValue => "records with an unusable value (left out)",
             ProblemKind::OutsideWindow => "source-list rows outside the time window (left out)",

@@ -281,12 +281,20 @@ fn assemble(
             .images
             .is_some_and(|images| images.get(&image.value).is_none())
         {
+            // A declared image that was left out is not unknown: point at why it was.
+            let detail = match ledger.left_out_image(&image.value) {
+                Some(p) => format!(
+                    "image `{}` was left out ({}: {})",
+                    image.value, p.origin, p.detail
+                ),
+                None => format!("image `{}` is not declared", image.value),
+            };
             ledger.leave_out(
                 RecordKind::Result,
                 ProblemKind::UnknownImage,
                 at(image.line),
                 subject,
-                format!("image `{}` is not declared", image.value),
+                detail,
             );
             continue;
         }
