@@ -8,6 +8,7 @@ use super::priorities::has_extension;
 use super::table::Table;
 use super::yaml::{self, Ctx};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 const FIELDS: &[&str] = &["package", "image", "outcome", "version", "log", "log_file"];
@@ -249,6 +250,18 @@ fn assemble(
     progress: Option<&indicatif::ProgressBar>,
 ) -> Vec<RecordedResult> {
     let mut out = Vec::new();
+    // Gathered once: looking each result's image up in the growing problem list would take
+    // time in the square of the results on images that are not there.
+    let mut left_out_images: HashMap<String, String> = HashMap::new();
+    for p in ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == ProblemKind::BadImage)
+    {
+        left_out_images
+            .entry(p.subject.clone())
+            .or_insert_with(|| format!("{}: {}", p.origin, p.detail));
+    }
     for r in raw {
         if let Some(bar) = progress {
             bar.inc(1);
@@ -282,11 +295,8 @@ fn assemble(
             .is_some_and(|images| images.get(&image.value).is_none())
         {
             // A declared image that was left out is not unknown: point at why it was.
-            let detail = match ledger.left_out_image(&image.value) {
-                Some(p) => format!(
-                    "image `{}` was left out ({}: {})",
-                    image.value, p.origin, p.detail
-                ),
+            let detail = match left_out_images.get(&image.value) {
+                Some(why) => format!("image `{}` was left out ({why})", image.value),
                 None => format!("image `{}` is not declared", image.value),
             };
             ledger.leave_out(
