@@ -2,6 +2,7 @@
 //! the rest of the file is usable), a message naming the file and line, and never a panic.
 
 mod common;
+use common::write;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -13,12 +14,6 @@ const GOOD_REGISTRY: &str =
 
 fn dir() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
-}
-
-fn write(dir: &Path, name: &str, content: &[u8]) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, content).unwrap();
-    p
 }
 
 /// The counts on the row for `kind` ("version records", "image records", ...) of the table
@@ -601,22 +596,22 @@ fn nul_byte_in_any_yaml_input_is_refused_with_its_line() {
 fn byte_order_mark_starts_yaml_and_json_lines_inputs() {
     let d = dir();
     let bom = |text: &str| [b"\xef\xbb\xbf".as_slice(), text.as_bytes()].concat();
-    let reg = write(d.path(), "bom-registry.yaml", &bom(GOOD_REGISTRY));
-    let img = write(d.path(), "bom-images.yaml", &bom(GOOD_IMAGES));
+    let reg = write(d.path(), "bom-registry.yaml", bom(GOOD_REGISTRY));
+    let img = write(d.path(), "bom-images.yaml", bom(GOOD_IMAGES));
     let pri = write(
         d.path(),
         "bom-priorities.yaml",
-        &bom("priorities: [fernwood]\n"),
+        bom("priorities: [fernwood]\n"),
     );
     let res_yaml = write(
         d.path(),
         "bom-results.yaml",
-        &bom("results:\n  - {package: fernwood, image: plain, outcome: installed}\n"),
+        bom("results:\n  - {package: fernwood, image: plain, outcome: installed}\n"),
     );
     let res_jsonl = write(
         d.path(),
         "bom-results.jsonl",
-        &bom("{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\"}\n"),
+        bom("{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\"}\n"),
     );
     for results in [&res_yaml, &res_jsonl] {
         let (code, stdout, stderr) = check_with(

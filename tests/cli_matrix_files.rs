@@ -104,8 +104,7 @@ fn review_against_a_matrix_needs_the_inputs_it_reads_results_against() {
 #[test]
 fn a_review_that_can_compare_nothing_is_an_input_error() {
     let dir = tempfile::tempdir().unwrap();
-    let empty = dir.path().join("empty-results.yaml");
-    std::fs::write(&empty, "results: []\n").unwrap();
+    let empty = common::write(dir.path(), "empty-results.yaml", "results: []\n");
     let (code, _, stderr) = run_on_demo("review", &["--results", empty.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
     assert!(
@@ -134,8 +133,11 @@ fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
         serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
     let cells = m["cells"].as_array_mut().unwrap();
     cells.swap(0, 1);
-    let swapped = dir.path().join("swapped.json");
-    std::fs::write(&swapped, serde_json::to_string(&m).unwrap()).unwrap();
+    let swapped = common::write(
+        dir.path(),
+        "swapped.json",
+        serde_json::to_string(&m).unwrap(),
+    );
     for args in [
         vec!["render", "--quiet", "--format", "csv", "--matrix"],
         vec!["diff", &matrix],
@@ -212,8 +214,7 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
         );
     }
     // The same for a YAML matrix, whose parser words its positions alike.
-    let yaml = dir.path().join("broken.yaml");
-    std::fs::write(&yaml, "packages: []\n  cells: []\n").unwrap();
+    let yaml = common::write(dir.path(), "broken.yaml", "packages: []\n  cells: []\n");
     let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", yaml.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
     assert!(
@@ -226,8 +227,7 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
     let yaml_matrix = matrix.replace("matrix.json", "matrix.yaml");
     let text = std::fs::read_to_string(&yaml_matrix).unwrap();
     let kept = &text[..text.find("\n  runtime:").unwrap() + 6];
-    let cut = dir.path().join("cut.yaml");
-    std::fs::write(&cut, kept).unwrap();
+    let cut = common::write(dir.path(), "cut.yaml", kept);
     let last = kept.lines().count();
     let (code, _, stderr) = run_basefit(["render", "--quiet", "--matrix", cut.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
@@ -477,14 +477,16 @@ fn a_plan_left_with_no_image_names_the_images_file() {
 #[test]
 fn commands_that_plan_a_matrix_need_images_and_priorities() {
     let dir = tempfile::tempdir().unwrap();
-    let images = dir.path().join("images.yaml");
-    std::fs::write(
-        &images,
+    let images = common::write(
+        dir.path(),
+        "images.yaml",
         "images:\n- {id: odd, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
-    )
-    .unwrap();
-    let priorities = dir.path().join("priorities.yaml");
-    std::fs::write(&priorities, "priorities:\n- {name: fernwood, weight: -1}\n").unwrap();
+    );
+    let priorities = common::write(
+        dir.path(),
+        "priorities.yaml",
+        "priorities:\n- {name: fernwood, weight: -1}\n",
+    );
     let (images, priorities) = (images.to_str().unwrap(), priorities.to_str().unwrap());
     let registry = ["--registry", "demo-data/registry.yaml"];
     let demo_images = ["--images", "matrices/demo-images.yaml"];
@@ -542,12 +544,11 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
 #[test]
 fn explain_names_the_images_it_was_not_given() {
     let dir = tempfile::tempdir().unwrap();
-    let images = dir.path().join("images.yaml");
-    std::fs::write(
-        &images,
+    let images = common::write(
+        dir.path(),
+        "images.yaml",
         "images:\n- {id: deb-3.2, runtime: soon, family: debian, platform: linux/glibc/x86_64}\n",
-    )
-    .unwrap();
+    );
     let images = images.to_str().unwrap();
     let explain = ["explain", "saltbush", "deb-3.2", "--quiet"];
     let registry = ["--registry", "demo-data/registry.yaml"];
@@ -655,8 +656,7 @@ fn render_against_a_matrix_needs_the_inputs_it_reads_results_against() {
     assert_eq!(code, 0, "{stderr}");
 
     // Given, but with nothing in it: the file is what to fix, not the command line.
-    let broken = dir.path().join("empty.yaml");
-    std::fs::write(&broken, "packages: []\n").unwrap();
+    let broken = common::write(dir.path(), "empty.yaml", "packages: []\n");
     for command in ["render", "review"] {
         let (code, _, stderr) = run_basefit([
             command,
@@ -688,18 +688,16 @@ fn render_against_a_matrix_needs_the_inputs_it_reads_results_against() {
 #[test]
 fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = dir.path().join("registry.yaml");
-    std::fs::write(
-        &registry,
+    let registry = common::write(
+        dir.path(),
+        "registry.yaml",
         "packages:\n  - name: fernwood\n    versions:\n      - {version: nightly}\n      - {version: latest}\n",
-    )
-    .unwrap();
-    let results = dir.path().join("results.yaml");
-    std::fs::write(
-        &results,
+    );
+    let results = common::write(
+        dir.path(),
+        "results.yaml",
         "results:\n  - {package: fernwood, image: deb-3.2, outcome: installed}\n",
-    )
-    .unwrap();
+    );
     let (registry, results) = (registry.to_str().unwrap(), results.to_str().unwrap());
     let inputs = [
         "--quiet",
@@ -729,10 +727,16 @@ fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() 
     }
 
     // The bulk pair is named by its versions file.
-    let versions = dir.path().join("versions.csv");
-    std::fs::write(&versions, "package,version\nfernwood,nightly\n").unwrap();
-    let deps = dir.path().join("dependencies.csv");
-    std::fs::write(&deps, "package,version,dependency\n").unwrap();
+    let versions = common::write(
+        dir.path(),
+        "versions.csv",
+        "package,version\nfernwood,nightly\n",
+    );
+    let deps = common::write(
+        dir.path(),
+        "dependencies.csv",
+        "package,version,dependency\n",
+    );
     let (versions, deps) = (versions.to_str().unwrap(), deps.to_str().unwrap());
     let mut args = vec!["plan", "--bulk", versions, deps];
     args.extend(&inputs[3..]);
@@ -752,12 +756,11 @@ fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() 
 #[test]
 fn every_command_that_plans_refuses_to_run_without_a_registry() {
     let dir = tempfile::tempdir().unwrap();
-    let results = dir.path().join("results.yaml");
-    std::fs::write(
-        &results,
+    let results = common::write(
+        dir.path(),
+        "results.yaml",
         "results:\n  - {package: tidewater-http, image: deb-3.2, outcome: installed}\n",
-    )
-    .unwrap();
+    );
     let results = results.to_str().unwrap();
     let inputs = [
         "--quiet",
@@ -839,12 +842,11 @@ fn messages_spell_the_registry_flags_one_way() {
 fn results_against_a_matrix_name_a_registry_with_no_usable_release() {
     let dir = tempfile::tempdir().unwrap();
     let matrix = plan_into(dir.path(), None);
-    let registry = dir.path().join("registry.yaml");
-    std::fs::write(
-        &registry,
+    let registry = common::write(
+        dir.path(),
+        "registry.yaml",
         "packages:\n  - name: fernwood\n    versions:\n      - {version: nightly}\n",
-    )
-    .unwrap();
+    );
     let registry = registry.to_str().unwrap();
     for command in ["review", "render"] {
         assert_refused(
@@ -870,12 +872,11 @@ fn results_against_a_matrix_name_a_registry_with_no_usable_release() {
 #[test]
 fn render_refuses_results_it_cannot_compare_and_notes_left_out_ones() {
     let dir = tempfile::tempdir().unwrap();
-    let none = dir.path().join("none.yaml");
-    std::fs::write(
-        &none,
+    let none = common::write(
+        dir.path(),
+        "none.yaml",
         "results:\n  - {package: nosuch, image: deb-3.2, outcome: installed}\n",
-    )
-    .unwrap();
+    );
     let (code, stdout, stderr) = run_on_demo("render", &["--results", none.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
     assert!(stdout.is_empty(), "{stdout}");
@@ -884,12 +885,11 @@ fn render_refuses_results_it_cannot_compare_and_notes_left_out_ones() {
         "{stderr}"
     );
     // One bad row among good ones: rendered, with the note every command gives on stderr.
-    let some = dir.path().join("some.csv");
-    std::fs::write(
-        &some,
+    let some = common::write(
+        dir.path(),
+        "some.csv",
         "package,image,outcome\ngumleaf,deb-2.8,installed\ngumleaf,deb-2.8,instaled\n",
-    )
-    .unwrap();
+    );
     let (code, stdout, stderr) = run_on_demo("render", &["--results", some.to_str().unwrap()]);
     assert_eq!(code, 0, "{stderr}");
     assert!(
@@ -923,15 +923,10 @@ fn the_data_quality_note_goes_to_stderr() {
 #[test]
 fn a_surprise_install_after_a_failed_retry_fails_the_review() {
     let dir = tempfile::tempdir().unwrap();
-    let results = dir.path().join("retries.yaml");
-    std::fs::write(
-        &results,
-        "results:
+    let results = common::write(dir.path(), "retries.yaml", "results:
   - {package: spadefoot-compat, image: deb-3.2, outcome: failed, log: \"error: download failed: Connection reset by peer\"}
   - {package: spadefoot-compat, image: deb-3.2, outcome: installed, version: \"0.5.1\"}
-",
-    )
-    .unwrap();
+");
     let results = results.to_str().unwrap();
     let (code, stdout, stderr) = run_on_demo("review", &["--results", results]);
     assert_eq!(code, 1, "{stderr}");
@@ -947,12 +942,11 @@ fn results_outside_a_matrix_read_from_a_file_are_not_passed_over_in_silence() {
     // finds the recorded failure a surprise; a review of a matrix file cannot, and says so.
     let dir = tempfile::tempdir().unwrap();
     let matrix = plan_into(&dir.path().join("plan"), None);
-    let results = dir.path().join("results.yaml");
-    std::fs::write(
-        &results,
+    let results = common::write(
+        dir.path(),
+        "results.yaml",
         "results:\n  - {package: mudflat, image: deb-3.2, outcome: failed}\n  - {package: gumleaf, image: deb-3.2, outcome: installed, version: \"2.1.1\"}\n",
-    )
-    .unwrap();
+    );
     let results = results.to_str().unwrap();
     let (fresh, _, _) = run_on_demo("review", &["--results", results]);
     assert_eq!(
@@ -985,8 +979,7 @@ fn a_package_with_two_rows_is_refused_by_readers_and_by_merge() {
     let cells: Vec<serde_json::Value> = m["cells"].as_array().unwrap()[..n].to_vec();
     m["packages"].as_array_mut().unwrap().push(row);
     m["cells"].as_array_mut().unwrap().extend(cells);
-    let twice = dir.path().join("twice.json");
-    std::fs::write(&twice, serde_json::to_string(&m).unwrap()).unwrap();
+    let twice = common::write(dir.path(), "twice.json", serde_json::to_string(&m).unwrap());
     // `diff` looks cells up by name: it called this matrix equal to the one without the copy.
     let (code, _, stderr) = run_basefit(["diff", &matrix, twice.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");

@@ -64,3 +64,11 @@ where
         stderr,
     )
 }
+
+/// Writes `content` to `name` in `dir` and returns the file's path.
+#[allow(dead_code)] // Not every test file that shares this module writes inputs.
+pub fn write(dir: &std::path::Path, name: &str, content: impl AsRef<[u8]>) -> std::path::PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, content).unwrap();
+    path
+}
