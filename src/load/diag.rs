@@ -532,9 +532,20 @@ impl Ledger {
     /// built: the problem names the image by id and says where and why. Duplicate ids are not
     /// asked about: the first of them is kept.
     pub fn left_out_image(&self, id: &str) -> Option<&Problem> {
-        self.problems
+        self.left_out_images().remove(id)
+    }
+
+    /// [`Ledger::left_out_image`] for every image at once, for callers that ask about many.
+    pub fn left_out_images(&self) -> BTreeMap<&str, &Problem> {
+        let mut out = BTreeMap::new();
+        for p in self
+            .problems
             .iter()
-            .find(|p| p.kind == ProblemKind::BadImage && p.subject == id)
+            .filter(|p| p.kind == ProblemKind::BadImage)
+        {
+            out.entry(p.subject.as_str()).or_insert(p);
+        }
+        out
     }
 
     /// Record kinds whose counts do not add up; empty when nothing was lost.

@@ -252,16 +252,11 @@ fn assemble(
     let mut out = Vec::new();
     // Gathered once: looking each result's image up in the growing problem list would take
     // time in the square of the results on images that are not there.
-    let mut left_out_images: HashMap<String, String> = HashMap::new();
-    for p in ledger
-        .problems
-        .iter()
-        .filter(|p| p.kind == ProblemKind::BadImage)
-    {
-        left_out_images
-            .entry(p.subject.clone())
-            .or_insert_with(|| format!("{}: {}", p.origin, p.detail));
-    }
+    let left_out_images: HashMap<String, String> = ledger
+        .left_out_images()
+        .into_iter()
+        .map(|(id, p)| (id.to_string(), format!("{}: {}", p.origin, p.detail)))
+        .collect();
     for r in raw {
         if let Some(bar) = progress {
             bar.inc(1);
