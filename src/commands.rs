@@ -64,6 +64,7 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
             .ledger
             .unplaced
             .iter()
+            .filter(|u| u.holds(first))
             .map(|u| format!("; {}", u.sentence()))
             .collect();
         return Err(BadInput::at(

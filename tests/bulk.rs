@@ -1007,10 +1007,31 @@ fn dependency_problems_from_a_pipe_say_they_are_not_placed() {
             .is_some_and(|r| r.contains("not a regular file")),
         "{json}"
     );
+    // --strict names one problem: the sentence comes with it only when that problem is one
+    // left at its version's row. Here the first is the note on `v1.1` at the same row.
     let writer = feed();
     let Err(err) = load(&paths, true) else {
         panic!("--strict accepted the problems");
     };
     writer.join().unwrap();
-    assert!(err.to_string().contains(&sentence), "{err}");
+    let err = err.to_string();
+    assert!(err.contains("v1.1"), "{err}");
+    assert!(!err.contains("could not be read again"), "{err}");
+    // Written strictly, the version has no note, and the first problem is a dependency's.
+    std::fs::write(
+        &versions,
+        DEPENDENCY_PROBLEMS_VERSIONS.replace("v1.1", "1.1.0"),
+    )
+    .unwrap();
+    let writer = std::thread::spawn({
+        let deps = deps.clone();
+        move || std::fs::write(deps, DEPENDENCY_PROBLEMS_DEPS.replace("v1.1", "1.1.0")).unwrap()
+    });
+    let Err(err) = load(&paths, true) else {
+        panic!("--strict accepted the problems");
+    };
+    writer.join().unwrap();
+    let err = err.to_string();
+    assert!(err.contains("pkg-a@1.1.0"), "{err}");
+    assert!(err.contains(&sentence), "{err}");
 }

@@ -23,7 +23,7 @@ use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId, Requirement,
 };
 use hashbrown::HashTable;
-use rustc_hash::{FxHashMap, FxHasher};
+use rustc_hash::{FxHashMap, FxHashSet, FxHasher};
 use std::hash::Hasher;
 use std::io::Read;
 use std::ops::ControlFlow;
@@ -1080,14 +1080,29 @@ impl DeferredRows {
             return (0, None);
         }
         let to_place = left;
-        let unplaced = |problems: usize, reason: String| diag::Unplaced {
-            file: self.file.clone(),
-            problems,
-            reason,
+        let unplaced = |problems: &[Problem], placed: &FxHashSet<usize>, reason: String| {
+            let left: Vec<Problem> = targets
+                .iter()
+                .flatten()
+                .filter(|i| !placed.contains(i))
+                .filter_map(|&i| problems.get(i))
+                .cloned()
+                .collect();
+            diag::Unplaced {
+                file: self.file.clone(),
+                problems: left.len(),
+                reason,
+                left,
+            }
         };
         let table = match (self.reopen)(progress) {
             Ok(table) => table,
-            Err(e) => return (0, Some(unplaced(to_place, e.message))),
+            Err(e) => {
+                return (
+                    0,
+                    Some(unplaced(problems, &FxHashSet::default(), e.message)),
+                );
+            }
         };
         let cols = DepCols::of(&table);
         let file = table.file.clone();
@@ -1111,7 +1126,7 @@ impl DeferredRows {
         for w in &mut wanted {
             w.problems.sort_unstable_by_key(|p| p.0);
         }
-        let mut moved = 0;
+        let mut placed = FxHashSet::default();
         let mut malformed = None;
         let read = table.for_each_batch(|batch| {
             for row in batch.rows() {
@@ -1144,7 +1159,7 @@ impl DeferredRows {
                         file: file.clone(),
                         line: row.line,
                     };
-                    moved += 1;
+                    placed.insert(problem);
                 }
                 if left == 0 {
                     return ControlFlow::Break(());
@@ -1152,6 +1167,7 @@ impl DeferredRows {
             }
             ControlFlow::Continue(())
         });
+        let moved = placed.len();
         if moved == to_place {
             return (moved, None);
         }
@@ -1166,7 +1182,7 @@ impl DeferredRows {
             None => "it changed since it was read (rows it had are gone or say something else)"
                 .to_string(),
         };
-        (moved, Some(unplaced(to_place - moved, reason)))
+        (moved, Some(unplaced(problems, &placed, reason)))
     }
 }
 

@@ -341,6 +341,10 @@ pub struct Unplaced {
     pub problems: usize,
     /// Why: it cannot be reopened, or it changed since it was read.
     pub reason: String,
+    /// The problems themselves, as they stand in the ledger, so that a report naming one
+    /// problem adds the sentence only when that problem is one of them.
+    #[serde(skip)]
+    pub left: Vec<Problem>,
 }
 
 impl Unplaced {
@@ -350,6 +354,11 @@ impl Unplaced {
             "{} problems are shown at their version's row, not their dependency's, because {} could not be read again: {}",
             self.problems, self.file, self.reason
         )
+    }
+
+    /// Whether `problem` is one of those left at its stand-in place.
+    pub fn holds(&self, problem: &Problem) -> bool {
+        self.left.contains(problem)
     }
 }
 
