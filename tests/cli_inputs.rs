@@ -1174,6 +1174,10 @@ fn check_skips_cross_checks_against_inputs_not_given() {
             stdout.contains("no problems found in what could be checked"),
             "{stdout}"
         );
+        // Rows of zeros would read as a registry read that held nothing.
+        for absent in ["package records", "version records", "dependency records"] {
+            assert!(!stdout.contains(absent), "{absent} in {stdout}");
+        }
     }
     let mut args = p.to_vec();
     args.extend([OsStr::new("--format"), OsStr::new("json")]);
@@ -1181,6 +1185,13 @@ fn check_skips_cross_checks_against_inputs_not_given() {
     assert_eq!(code, 0, "{stderr}");
     let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
     assert_eq!(v["clean"], true);
+    assert_eq!(
+        v["records"],
+        serde_json::json!([
+            ["priority entries", {"read": 2, "used": 2, "left_out": 0}],
+            ["recorded results", {"read": 2, "used": 2, "left_out": 0}],
+        ])
+    );
     assert_eq!(
         v["skipped_checks"],
         serde_json::json!([

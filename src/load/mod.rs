@@ -236,6 +236,17 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         }
         None => while_indexing(yaml_bar, || builder.finish()),
     };
+    if !paths.registry_given() {
+        // An empty registry still counts its kinds of record; with none given, rows of zeros
+        // would read as a registry that was read and held nothing.
+        for kind in [
+            diag::RecordKind::Package,
+            diag::RecordKind::Version,
+            diag::RecordKind::Dependency,
+        ] {
+            ledger.tallies.remove(&kind);
+        }
+    }
     let images = match &paths.images {
         Some(p) => read_images(p, &mut ledger)?,
         None => ImageSet::default(),
