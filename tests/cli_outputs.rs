@@ -165,6 +165,35 @@ fn a_matrix_planned_without_native_checks_says_so_wherever_it_is_shown() {
         );
     }
 
+    // `diff` says which side skipped native checks before listing cells that turn from a
+    // native failure into installs, in text and in JSON.
+    let full = plan_into(&dir.path().join("with"), &[]);
+    let json_path = json.to_str().unwrap();
+    for (before, after, side) in [
+        (full.as_str(), json_path, "AFTER was"),
+        (json_path, full.as_str(), "BEFORE was"),
+        (json_path, json_path, "both were"),
+    ] {
+        let (code, stdout, stderr) = run(&["diff"], &[before, after]);
+        assert!(code < 2, "{stderr}");
+        let first = stdout.lines().next().unwrap_or_default();
+        assert!(
+            first.starts_with(&format!("{side} planned with --no-native"))
+                && first.contains(NOT_CHECKED),
+            "{stdout}"
+        );
+        let (_, json_out, _) = run(&["diff"], &[before, after, "--format", "json"]);
+        let v: serde_json::Value = serde_json::from_str(&json_out).unwrap();
+        let flags = &v["native_skipped"];
+        assert_eq!(
+            (flags["before"] == true, flags["after"] == true),
+            (before == json_path, after == json_path),
+            "{json_out}"
+        );
+    }
+    let (_, agree, _) = run(&["diff"], &[&full, &full]);
+    assert_eq!(agree, "the matrices agree\n");
+
     // A matrix written before the field existed reads as one planned with native checks, and
     // so does a full plan: neither carries the warning.
     let old = dir.path().join("old.json");

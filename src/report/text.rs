@@ -688,6 +688,25 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
 /// A matrix diff for people.
 pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
     let mut out = String::new();
+    let skipped = d.native_skipped;
+    let side = match (skipped.before, skipped.after) {
+        (false, false) => None,
+        (true, false) => Some("BEFORE was"),
+        (false, true) => Some("AFTER was"),
+        (true, true) => Some("both were"),
+    };
+    if let Some(side) = side {
+        let _ = writeln!(
+            out,
+            "{side} planned with --no-native: an installs verdict there means only that the version requirements resolve, since native needs were not checked"
+        );
+        if skipped.before != skipped.after {
+            out.push_str(
+                "cells changing between installs and a native failure may reflect that, not a change in the inputs\n",
+            );
+        }
+        out.push('\n');
+    }
     if d.changes.is_empty() {
         out.push_str("the matrices agree\n");
         return out;

@@ -37,8 +37,18 @@ pub struct CellChange {
     pub after: Option<CellBrief>,
 }
 
+/// Whether each side was planned with `--no-native` ([`Matrix::native_skipped`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub struct NativeSkipped {
+    pub before: bool,
+    pub after: bool,
+}
+
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct MatrixDiff {
+    /// Without it a cell turning from a native failure into `installs` would read as a fix,
+    /// when the side that installs never looked at system libraries.
+    pub native_skipped: NativeSkipped,
     pub changes: Vec<CellChange>,
     /// Unified diff of the two renderings; empty when they are equal.
     pub unified: String,
@@ -85,5 +95,12 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
             .header("before", "after")
             .to_string()
     };
-    MatrixDiff { changes, unified }
+    MatrixDiff {
+        native_skipped: NativeSkipped {
+            before: before.native_skipped,
+            after: after.native_skipped,
+        },
+        changes,
+        unified,
+    }
 }
