@@ -742,6 +742,42 @@ fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
     }
 }
 
+/// A CSV file of blank lines has no header, and one whose header cells are all empty has a
+/// header with no names: neither is "empty at line 1", which points at a line that holds
+/// nothing to fix when the blank lines or the empty header come later.
+#[test]
+fn csv_without_column_names_says_why_and_names_the_header_line() {
+    let d = dir();
+    for (flag, name) in [("--priorities", "p.csv"), ("--results", "r.csv")] {
+        for blank in ["\n\n\n", "\r\n\r\n", " \n\t\n"] {
+            let path = write(d.path(), name, blank.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+            assert_eq!(code, 2, "{flag} {blank:?}: stdout {stdout} stderr {stderr}");
+            let want = format!(
+                "{}: the file holds no header, only blank lines; expected a header line",
+                path.display()
+            );
+            assert!(
+                stderr.contains(&want),
+                "{blank:?}: wanted {want} in {stderr}"
+            );
+        }
+        for (text, line) in [(",,\n", 1), ("\n\n,,\n", 3), ("\r\n , \r\nx,y\r\n", 2)] {
+            let path = write(d.path(), name, text.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+            assert_eq!(code, 2, "{flag} {text:?}: stdout {stdout} stderr {stderr}");
+            let want = format!(
+                "{}:{line}: the header has no column names, only empty cells; expected a header line",
+                path.display()
+            );
+            assert!(
+                stderr.contains(&want),
+                "{text:?}: wanted {want} in {stderr}"
+            );
+        }
+    }
+}
+
 /// Weights are each finite but their total must be too: every share of the weight is taken
 /// of the total, and past the largest f64 the shares are not numbers.
 #[test]
