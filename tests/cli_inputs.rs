@@ -778,6 +778,30 @@ fn csv_without_column_names_says_why_and_names_the_header_line() {
     }
 }
 
+/// A priorities CSV with a header and no row is refused at the header's line, as every
+/// other problem with a CSV's header is; blank lines around the header do not move it.
+#[test]
+fn priorities_csv_with_no_rows_is_refused_at_its_header() {
+    let d = dir();
+    for (text, line) in [
+        ("name,weight\n", 1),
+        ("\n\nname,weight\n\n\n", 3),
+        ("\r\nname\r\n\r\n", 2),
+    ] {
+        let path = write(d.path(), "p.csv", text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{text:?}: stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{}:{line}: no priority entries after the header",
+            path.display()
+        );
+        assert!(
+            stderr.contains(&want),
+            "{text:?}: wanted {want} in {stderr}"
+        );
+    }
+}
+
 /// Weights are each finite but their total must be too: every share of the weight is taken
 /// of the total, and past the largest f64 the shares are not numbers.
 #[test]
