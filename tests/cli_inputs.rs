@@ -802,6 +802,60 @@ fn priorities_csv_with_no_rows_is_refused_at_its_header() {
     }
 }
 
+/// A results file with no result in it, in any format, is refused by every command that reads
+/// results, naming the file and where the results should have started: a user who gave one
+/// expects results to be compared, and `check` used to pass a CSV of a header alone.
+#[test]
+fn results_files_with_no_result_are_refused_by_every_command() {
+    let d = dir();
+    let cases = [
+        (
+            "r.csv",
+            "package,image,outcome\n",
+            ":1: no recorded install results after the header",
+        ),
+        (
+            "r.csv",
+            "\n\npackage,image,outcome\n\n",
+            ":3: no recorded install results after the header",
+        ),
+        (
+            "r.yaml",
+            "results: []\n",
+            ":1: results file: `results` is missing or empty; expected a list of recorded install results",
+        ),
+        (
+            "r.yaml",
+            "# none yet\nresults:\n",
+            ":2: results file: `results` is missing or empty",
+        ),
+        (
+            "r.jsonl",
+            "",
+            ": the file is empty; expected one JSON object per line",
+        ),
+    ];
+    for (name, text, want) in cases {
+        let path = write(d.path(), name, text.as_bytes());
+        let want = format!("{}{want}", path.display());
+        for command in [&["check"][..], &["review"], &["render", "--format", "csv"]] {
+            let mut args: Vec<&str> = command.to_vec();
+            args.extend(common::DEMO);
+            args.extend(["--results", path.to_str().unwrap()]);
+            let (code, stdout, stderr) = common::run_basefit(&args);
+            assert_eq!(
+                code, 2,
+                "{command:?} {text:?}: stdout {stdout} stderr {stderr}"
+            );
+            assert!(stdout.is_empty(), "{command:?} {text:?}: {stdout}");
+            assert!(
+                stderr.contains(&want),
+                "{command:?} {text:?}: wanted {want} in {stderr}"
+            );
+        }
+    }
+}
+
 /// Weights are each finite but their total must be too: every share of the weight is taken
 /// of the total, and past the largest f64 the shares are not numbers.
 #[test]
