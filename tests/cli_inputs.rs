@@ -742,6 +742,120 @@ fn blank_csv_lines_are_skipped_with_any_line_ending_and_width() {
     }
 }
 
+/// A CSV file of blank lines has no header, and one whose header cells are all empty has a
+/// header with no names: neither is "empty at line 1", which points at a line that holds
+/// nothing to fix when the blank lines or the empty header come later.
+#[test]
+fn csv_without_column_names_says_why_and_names_the_header_line() {
+    let d = dir();
+    for (flag, name) in [("--priorities", "p.csv"), ("--results", "r.csv")] {
+        for blank in ["\n\n\n", "\r\n\r\n", " \n\t\n"] {
+            let path = write(d.path(), name, blank.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+            assert_eq!(code, 2, "{flag} {blank:?}: stdout {stdout} stderr {stderr}");
+            let want = format!(
+                "{}: the file holds no header, only blank lines; expected a header line",
+                path.display()
+            );
+            assert!(
+                stderr.contains(&want),
+                "{blank:?}: wanted {want} in {stderr}"
+            );
+        }
+        for (text, line) in [(",,\n", 1), ("\n\n,,\n", 3), ("\r\n , \r\nx,y\r\n", 2)] {
+            let path = write(d.path(), name, text.as_bytes());
+            let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+            assert_eq!(code, 2, "{flag} {text:?}: stdout {stdout} stderr {stderr}");
+            let want = format!(
+                "{}:{line}: the header has no column names, only empty cells; expected a header line",
+                path.display()
+            );
+            assert!(
+                stderr.contains(&want),
+                "{text:?}: wanted {want} in {stderr}"
+            );
+        }
+    }
+}
+
+/// A priorities CSV with a header and no row is refused at the header's line, as every
+/// other problem with a CSV's header is; blank lines around the header do not move it.
+#[test]
+fn priorities_csv_with_no_rows_is_refused_at_its_header() {
+    let d = dir();
+    for (text, line) in [
+        ("name,weight\n", 1),
+        ("\n\nname,weight\n\n\n", 3),
+        ("\r\nname\r\n\r\n", 2),
+    ] {
+        let path = write(d.path(), "p.csv", text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
+        assert_eq!(code, 2, "{text:?}: stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{}:{line}: no priority entries after the header",
+            path.display()
+        );
+        assert!(
+            stderr.contains(&want),
+            "{text:?}: wanted {want} in {stderr}"
+        );
+    }
+}
+
+/// A results file with no result in it, in any format, is refused by every command that reads
+/// results, naming the file and where the results should have started: a user who gave one
+/// expects results to be compared, and `check` used to pass a CSV of a header alone.
+#[test]
+fn results_files_with_no_result_are_refused_by_every_command() {
+    let d = dir();
+    let cases = [
+        (
+            "r.csv",
+            "package,image,outcome\n",
+            ":1: no recorded install results after the header",
+        ),
+        (
+            "r.csv",
+            "\n\npackage,image,outcome\n\n",
+            ":3: no recorded install results after the header",
+        ),
+        (
+            "r.yaml",
+            "results: []\n",
+            ":1: results file: `results` is missing or empty; expected a list of recorded install results",
+        ),
+        (
+            "r.yaml",
+            "# none yet\nresults:\n",
+            ":2: results file: `results` is missing or empty",
+        ),
+        (
+            "r.jsonl",
+            "",
+            ": the file is empty; expected one JSON object per line",
+        ),
+    ];
+    for (name, text, want) in cases {
+        let path = write(d.path(), name, text.as_bytes());
+        let want = format!("{}{want}", path.display());
+        for command in [&["check"][..], &["review"], &["render", "--format", "csv"]] {
+            let mut args: Vec<&str> = command.to_vec();
+            args.extend(common::DEMO);
+            args.extend(["--results", path.to_str().unwrap()]);
+            let (code, stdout, stderr) = common::run_basefit(&args);
+            assert_eq!(
+                code, 2,
+                "{command:?} {text:?}: stdout {stdout} stderr {stderr}"
+            );
+            assert!(stdout.is_empty(), "{command:?} {text:?}: {stdout}");
+            assert!(
+                stderr.contains(&want),
+                "{command:?} {text:?}: wanted {want} in {stderr}"
+            );
+        }
+    }
+}
+
 /// Weights are each finite but their total must be too: every share of the weight is taken
 /// of the total, and past the largest f64 the shares are not numbers.
 #[test]

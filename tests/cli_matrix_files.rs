@@ -108,7 +108,7 @@ fn a_review_that_can_compare_nothing_is_an_input_error() {
     let (code, _, stderr) = run_on_demo("review", &["--results", empty.to_str().unwrap()]);
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("empty-results.yaml") && stderr.contains("no recorded install result"),
+        stderr.contains("empty-results.yaml:1: results file: `results` is missing or empty"),
         "{stderr}"
     );
     // Results recorded on images the images file does not declare: all are left out.

@@ -129,3 +129,24 @@ fn share_sum_names_the_row_without_a_score() {
         "{stderr}"
     );
 }
+
+/// A source with a header and no row is refused at the header's line, blank lines around it
+/// or not, as the other problems with a source's header are.
+#[test]
+fn a_source_with_no_rows_is_refused_at_its_header() {
+    let dir = tempfile::tempdir().unwrap();
+    for (text, line) in [
+        ("name,score\n", 1),
+        ("\n\nrank,name\n\n", 3),
+        ("\r\nname,score\r\n\r\n", 2),
+    ] {
+        let source = dir.path().join("headed.csv");
+        std::fs::write(&source, text).unwrap();
+        let stderr = fuse_refused(&["--source", source.to_str().unwrap()]);
+        let want = format!("{}:{line}: no entries after the header", source.display());
+        assert!(
+            stderr.contains(&want),
+            "{text:?}: wanted {want} in {stderr}"
+        );
+    }
+}

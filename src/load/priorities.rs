@@ -146,8 +146,9 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
     }
     errors.finish()?;
     if out.is_empty() {
-        return Err(BadInput::file(
+        return Err(BadInput::at(
             &table.file,
+            table.header_line,
             "no priority entries after the header",
         ));
     }

@@ -80,6 +80,15 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {
     let ctx = Ctx { file };
     let top = ctx.map(&doc, "results file", &["results"])?;
     let items = top.seq("results")?;
+    // A results file is given to have results compared: one with none is a mistake (the
+    // wrong file, or an export that failed), and refused as JSON lines and CSV ones are.
+    if items.is_empty() {
+        return Err(ctx.err(
+            &doc,
+            "results file: `results` is missing or empty; expected a list of recorded install \
+             results",
+        ));
+    }
     yaml::collect_errors(items, |node| {
         let m = ctx.map(node, "result", FIELDS)?;
         let owned = |text: At<&str>| At::new(text.value.to_owned(), text.line);
@@ -125,7 +134,15 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
             log_file: at(5),
         });
     }
-    errors.finish().map(|_| out)
+    errors.finish()?;
+    if out.is_empty() {
+        return Err(BadInput::at(
+            &table.file,
+            table.header_line,
+            "no recorded install results after the header",
+        ));
+    }
+    Ok(out)
 }
 
 fn read_json_lines(file: &str, text: &str) -> Result<Vec<RawResult>, BadInput> {

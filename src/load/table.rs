@@ -309,14 +309,28 @@ impl Table {
             .iter()
             .map(|h| h.trim().to_string())
             .collect::<Vec<_>>();
+        // Three ways to have no column names, each told apart: pointing at line 1 of a file
+        // of blank lines, or of a header of empty cells further down, sends the reader to a
+        // line that holds nothing to fix.
+        let expected = format!("expected a header line with columns {}", required.join(","));
+        if header_record.is_empty() {
+            // The csv crate skips blank LF lines without handing them over, so whether the
+            // file had lines at all is told by the bytes read.
+            return Err(if table.reader.get_ref().delivered > 0 {
+                // No line is named: every line is blank and none is the one to fix.
+                BadInput::file(
+                    file,
+                    format!("the file holds no header, only blank lines; {expected}"),
+                )
+            } else {
+                BadInput::at(file, 1, format!("the file is empty; {expected}"))
+            });
+        }
         if headers.iter().all(|h| h.is_empty()) {
             return Err(BadInput::at(
                 file,
-                1,
-                format!(
-                    "the file is empty; expected a header line with columns {}",
-                    required.join(",")
-                ),
+                header_line,
+                format!("the header has no column names, only empty cells; {expected}"),
             ));
         }
         for h in &headers {
@@ -661,9 +675,31 @@ mod tests {
         let (line, message) = header_error("\n\"a,b\nx,1\n");
         assert_eq!(line, Some(2));
         assert!(message.contains("never closed"), "{message}");
-        let (line, message) = header_error("\n\r\n\n");
-        assert_eq!(line, Some(1));
-        assert!(message.contains("the file is empty"), "{message}");
+        // A file of blank lines has no line worth naming; an empty one is empty at line 1.
+        for text in ["\n", "\n\r\n\n", " \n\t\r\n"] {
+            let (line, message) = header_error(text);
+            assert_eq!(line, None, "{text:?}");
+            assert!(
+                message.starts_with("the file holds no header, only blank lines; expected"),
+                "{text:?}: {message}"
+            );
+        }
+        assert_eq!(
+            header_error(""),
+            (
+                Some(1),
+                "the file is empty; expected a header line with columns a".to_string()
+            )
+        );
+        // A header of empty cells is a header: its own line is named.
+        for (text, want) in [(",", 1), ("\n\n,,\nx,1\n", 3), ("\r\n , \r\n", 2)] {
+            let (line, message) = header_error(text);
+            assert_eq!(line, Some(want), "{text:?}");
+            assert!(
+                message.starts_with("the header has no column names, only empty cells;"),
+                "{text:?}: {message}"
+            );
+        }
         // A header after blank lines still gives its rows their own lines.
         assert_eq!(lines("\r\n\na,b\nx,1\n"), rows(&[(4, "x")]));
     }

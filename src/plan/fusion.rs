@@ -448,7 +448,11 @@ fn read_table(
         }
     }
     if rows_read == 0 {
-        return Err(BadInput::file(&file, "no entries after the header"));
+        return Err(BadInput::at(
+            &file,
+            table.header_line,
+            "no entries after the header",
+        ));
     }
     ledger.merge(local);
     let mut list = if ranked {
@@ -1345,7 +1349,7 @@ mod tests {
              `date` column"
         );
         let err = read_source_str("s.csv", "name,score\n", None, &mut ledger).unwrap_err();
-        assert_eq!(err.to_string(), "s.csv: no entries after the header");
+        assert_eq!(err.to_string(), "s.csv:1: no entries after the header");
         // A row with the wrong number of fields makes the file unusable, naming its line,
         // and the rows counted before it are not left in the ledger.
         let err =
