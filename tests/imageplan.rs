@@ -394,6 +394,13 @@ fn command_writes_yaml_and_svg() {
     assert!(yaml.contains("preinstall:") && yaml.contains("coverage:"));
     assert_eq!(svg.matches("<circle class=\"point\"").count(), 2);
     assert!(out.stdout.contains("left out legacy"), "{}", out.stdout);
+    // The manifest lists dependencies too (lib, helper): the count says so.
+    assert!(
+        out.stdout
+            .contains(": 3 of 4 priority entries kept, 1 left out; 5 packages to install"),
+        "{}",
+        out.stdout
+    );
     let again = basefit::commands::imageplan(&o).unwrap();
     assert_eq!(out.stdout, again.stdout, "deterministic output");
 

@@ -207,12 +207,16 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "Pre-install set of {} (runtime {}, {}): {} kept, {} left out",
+        // The manifest also lists the entries' dependencies: counting entries alone beside
+        // it read as rows gone missing.
+        "Pre-install set of {} (runtime {}, {}): {} of {} priority entries kept, {} left out; {} packages to install with their dependencies",
         p.image,
         p.runtime,
         p.platform,
         p.kept.len(),
-        p.left_out.len()
+        p.kept.len() + p.left_out.len(),
+        p.left_out.len(),
+        p.manifest.len()
     );
     let mut rows = vec![vec![
         "package".to_string(),
