@@ -283,7 +283,7 @@ struct ImageplanArgs {
     #[arg(long = "image", value_name = "ID")]
     image: Vec<String>,
     /// Candidate runtime versions for coverage, comma-separated (default: the images' runtimes).
-    #[arg(long, value_delimiter = ',', value_name = "VERSIONS")]
+    #[arg(long, value_delimiter = ',', value_name = "VERSIONS", value_parser = basefit::load::lenient::runtime_arg)]
     runtimes: Vec<semver::Version>,
     /// Share of priority weight a runtime must resolve, between 0 and 1.
     #[arg(long, default_value_t = 0.95)]

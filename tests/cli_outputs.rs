@@ -444,3 +444,32 @@ fn a_registry_without_versions_is_refused_plainly() {
         assert!(stderr.ends_with(&want), "{stderr}");
     }
 }
+
+/// `--runtimes` reads a runtime as leniently as an images file does (`3.1` is 3.1.0), and a
+/// runtime differing from another only in build metadata gets no row of its own: it admits
+/// exactly the same releases (Semantic Versioning 2.0.0, section 10: build metadata does not
+/// count in precedence).
+#[test]
+fn imageplan_runtimes_read_as_images_do_and_repeat_no_precedence() {
+    let mut args = DEMO.to_vec();
+    args.extend(["--image", "deb-2.4", "--runtimes", "3.1,3.1.2+x,v2.8,3.1.2"]);
+    let (code, stdout, stderr) = run(&["imageplan"], &args);
+    assert!(code < 2, "{stderr}");
+    let rows: Vec<&str> = stdout
+        .lines()
+        .skip_while(|l| !l.starts_with("runtime "))
+        .skip(2)
+        .take_while(|l| !l.is_empty() && !l.starts_with("oldest"))
+        .map(|l| l.split_whitespace().next().unwrap_or_default())
+        .collect();
+    assert_eq!(rows, ["2.8.0", "3.1.0", "3.1.2"], "{stdout}");
+
+    let mut args = DEMO.to_vec();
+    args.extend(["--image", "deb-2.4", "--runtimes", "3.1,newest"]);
+    let (code, _, stderr) = run(&["imageplan"], &args);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("'newest'") && stderr.contains("expected a runtime version"),
+        "{stderr}"
+    );
+}

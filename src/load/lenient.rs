@@ -22,6 +22,23 @@ impl VersionRead {
     }
 }
 
+/// Reads a runtime version given on the command line, as leniently as an image's `runtime`
+/// (`3.1` is 3.1.0), so a value the images file accepts is not refused when typed.
+///
+/// ```
+/// use basefit::load::lenient::runtime_arg;
+/// assert_eq!(runtime_arg("3.1"), Ok(semver::Version::new(3, 1, 0)));
+/// assert!(runtime_arg("newest").is_err());
+/// ```
+pub fn runtime_arg(raw: &str) -> Result<Version, String> {
+    match read_version(raw) {
+        VersionRead::Strict(v) | VersionRead::Normalised(v, _) => Ok(v),
+        VersionRead::Refused(why) => {
+            Err(format!("{why}; expected a runtime version such as 3.1.2"))
+        }
+    }
+}
+
 /// Reads a version string leniently.
 ///
 /// Accepted beyond strict semver: a leading `v`, surrounding white space, missing minor or

@@ -53,9 +53,25 @@ pub fn declared_runtimes(inputs: &Inputs) -> Vec<Version> {
         .iter()
         .map(|i| i.runtime.clone())
         .collect();
-    v.sort();
-    v.dedup();
+    distinct_runtimes(&mut v);
     v
+}
+
+/// Sorts `runtimes` oldest first and keeps one of each precedence: build metadata does not
+/// count in precedence (Semantic Versioning 2.0.0, section 10), so `3.1.2+x` admits exactly
+/// what `3.1.2` admits and would only repeat its row. The one kept has the least metadata.
+///
+/// ```
+/// let mut v: Vec<semver::Version> = ["3.1.2+x", "2.8.1", "3.1.2"]
+///     .iter()
+///     .map(|s| s.parse().unwrap())
+///     .collect();
+/// basefit::plan::coverage::distinct_runtimes(&mut v);
+/// assert_eq!(v, [semver::Version::new(2, 8, 1), semver::Version::new(3, 1, 2)]);
+/// ```
+pub fn distinct_runtimes(runtimes: &mut Vec<Version>) {
+    runtimes.sort();
+    runtimes.dedup_by(|later, first| later.cmp_precedence(first).is_eq());
 }
 
 /// The default base images: the first image of each (family, platform) among `images`, in
@@ -85,8 +101,7 @@ pub fn coverage(
     sets: &SetCache,
 ) -> Coverage {
     let mut runtimes = runtimes.to_vec();
-    runtimes.sort();
-    runtimes.dedup();
+    distinct_runtimes(&mut runtimes);
     let images: Vec<Image> = runtimes
         .iter()
         .map(|r| Image {
