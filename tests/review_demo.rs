@@ -324,3 +324,63 @@ fn no_advice_to_add_a_package_the_image_already_declares() {
         "{s}"
     );
 }
+
+#[test]
+fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
+    let dir = tempfile::tempdir().unwrap();
+    let plan_dir = dir.path().join("plan");
+    let (code, _, err) = common::run_basefit(["plan"].into_iter().chain(common::DEMO).chain([
+        "--quiet",
+        "--out",
+        plan_dir.to_str().unwrap(),
+    ]));
+    assert_eq!(code, 0, "{err}");
+    let matrix = plan_dir.join("matrix.json");
+    let demo_images = std::fs::read_to_string("matrices/demo-images.yaml").unwrap();
+    // deb-2.4 moved to another runtime (matrices/demo-images.yaml declares it at 2.4.9, on
+    // line 21 of the file), and el9-3.2, the last image, removed.
+    let changed = common::write(
+        dir.path(),
+        "changed.yaml",
+        demo_images.replacen("runtime: 2.4.9", "runtime: 2.6.0", 1),
+    );
+    let cut = demo_images.find("  - id: el9-3.2").unwrap();
+    let removed = common::write(dir.path(), "removed.yaml", &demo_images[..cut]);
+    let run = |command: &str, images: &std::path::Path| {
+        common::run_basefit([
+            command,
+            "--registry",
+            "demo-data/registry.yaml",
+            "--images",
+            images.to_str().unwrap(),
+            "--matrix",
+            matrix.to_str().unwrap(),
+            "--results",
+            "demo-data/results.yaml",
+            "--format",
+            "json",
+        ])
+    };
+    for command in ["review", "render"] {
+        let (code, _, err) = run(command, &changed);
+        assert_eq!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(&format!("{}:21: image deb-2.4", changed.display()))
+                && err.contains("runtime 2.6.0 here, 2.4.9 in the matrix")
+                && err.contains("planned from other images"),
+            "{command}: {err}"
+        );
+        let (code, _, err) = run(command, &removed);
+        assert_eq!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(&format!(
+                "{}: declares no usable image el9-3.2",
+                removed.display()
+            )) && err.contains("planned from other images"),
+            "{command}: {err}"
+        );
+        // The images the matrix was planned from are accepted.
+        let (code, _, err) = run(command, std::path::Path::new("matrices/demo-images.yaml"));
+        assert_ne!(code, 2, "{command}: {err}");
+    }
+}
