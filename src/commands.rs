@@ -1015,6 +1015,11 @@ pub struct FuseCommand {
 
 /// `fuse`: one priority list (basefit's YAML format) from several ranked or scored lists.
 pub fn fuse(o: &FuseCommand) -> Result<Output> {
+    crate::load::diag::refuse_repeated(
+        &o.sources,
+        "--source",
+        "the same list would be fused with itself, counting its ranks twice",
+    )?;
     let mut ledger = crate::load::Ledger::default();
     let mut lists = Vec::new();
     for p in &o.sources {
