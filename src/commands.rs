@@ -306,6 +306,71 @@ fn require_results_context(
     Ok(())
 }
 
+/// Reads the matrix at `path` for recorded results to be set against, refusing inputs that
+/// cannot be: without the images and registry it was planned from (see
+/// [`require_results_context`]), or with images that contradict its record of them.
+fn read_matrix_for_results(
+    path: &std::path::Path,
+    inputs: &Inputs,
+    paths: &InputPaths,
+    command: &str,
+) -> Result<Matrix, BadInput> {
+    require_results_context(inputs, paths, command)?;
+    let matrix = read_matrix(path)?;
+    require_planned_images(&matrix, path, inputs, paths)?;
+    Ok(matrix)
+}
+
+/// Refuses an images file that does not declare every image of a matrix read from a file as
+/// the matrix records it. Results are judged against the images given (their runtime and
+/// platform decide which releases they admit, their packages what to add), so a changed
+/// image yields advice about an image other than the one predicted, and a missing one drops
+/// its results as outside the matrix although the matrix has their cells.
+fn require_planned_images(
+    matrix: &Matrix,
+    matrix_path: &std::path::Path,
+    inputs: &Inputs,
+    paths: &InputPaths,
+) -> Result<(), BadInput> {
+    let images_file = paths
+        .images
+        .as_ref()
+        .map(|p| p.display().to_string())
+        .unwrap_or_else(|| "command line".into());
+    let planned_from = format!(
+        "the matrix {} was planned from other images: give the --images file it was planned from, or plan again",
+        matrix_path.display()
+    );
+    let errors = matrix
+        .images
+        .iter()
+        .filter_map(|planned| match inputs.images.get(&planned.id) {
+            None => Some(BadInput::file(
+                &images_file,
+                format!(
+                    "declares no usable image {}, which the matrix has: {planned_from}",
+                    planned.id
+                ),
+            )),
+            Some(image) => {
+                let differences = planned.differences(&plan::matrix::ImageColumn::of(image));
+                (!differences.is_empty()).then(|| {
+                    BadInput::at(
+                        &image.origin.file,
+                        image.origin.line,
+                        format!(
+                            "image {} differs from the matrix's record of it ({}): {planned_from}",
+                            planned.id,
+                            differences.join("; ")
+                        ),
+                    )
+                })
+            }
+        })
+        .collect();
+    BadInput::combine(errors).map_or(Ok(()), Err)
+}
+
 /// A note for stderr when results set against a matrix read from a file name cells it does
 /// not have: planned afresh, their packages would have been planned too and compared, so a
 /// gate on the file's review could pass where a fresh one fails.
@@ -634,10 +699,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         .into());
     }
     let matrix = match &o.matrix {
-        Some(p) => {
-            require_results_context(&inputs, &o.inputs, "review")?;
-            read_matrix(p)?
-        }
+        Some(p) => read_matrix_for_results(p, &inputs, &o.inputs, "review")?,
         None => {
             // Results are read against the images only when images are given, so without
             // them every result would end up outside an empty matrix.
@@ -889,12 +951,10 @@ pub struct RenderCommand {
 pub fn render(o: &RenderCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     let mut matrix = match &o.matrix {
-        Some(p) => {
-            if !o.inputs.results.is_empty() {
-                require_results_context(&inputs, &o.inputs, "render")?;
-            }
-            read_matrix(p)?
+        Some(p) if !o.inputs.results.is_empty() => {
+            read_matrix_for_results(p, &inputs, &o.inputs, "render")?
         }
+        Some(p) => read_matrix(p)?,
         None => {
             require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
             plan::plan(&inputs, &o.plan)
@@ -955,6 +1015,11 @@ pub struct FuseCommand {
 
 /// `fuse`: one priority list (basefit's YAML format) from several ranked or scored lists.
 pub fn fuse(o: &FuseCommand) -> Result<Output> {
+    crate::load::diag::refuse_repeated(
+        &o.sources,
+        "--source",
+        "the same list would be fused with itself, counting its ranks twice",
+    )?;
     let mut ledger = crate::load::Ledger::default();
     let mut lists = Vec::new();
     for p in &o.sources {

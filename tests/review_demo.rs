@@ -193,14 +193,117 @@ fn a_surprise_install_suggestion_follows_the_predicted_cause() {
         s.contains("declaration of deb-3.2-slim is out of date") && s.contains("toolchain"),
         "{s}"
     );
-    // A runtime cause was read from the package metadata.
+    // A runtime cause was read from the package metadata: the version installed is in the
+    // snapshot, and its runtime requirement is what the install proved wrong.
     let s = cell(&review, "spadefoot-compat", "deb-3.2")
         .suggestion
         .as_deref()
         .unwrap();
     assert!(
-        s.contains("runtime requirement and builds of spadefoot-compat"),
+        s.contains("0.5.1 is in the snapshot but declares runtime >=2.4, <3.0, which deb-3.2's runtime 3.2.0 does not meet"),
         "{s}"
+    );
+}
+
+/// The suggestion of the one cell of `package` on `image` in the review of `results`.
+fn suggestion_for(results: &str, package: &str, image: &str) -> (Verdict, String) {
+    let review = review_of(results);
+    let c = cell(&review, package, image);
+    (c.verdict, c.suggestion.clone().unwrap_or_default())
+}
+
+#[test]
+fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
+    // demo-data/registry.yaml: wattle-core 2.2.1 declares runtime >=3.1 and deb-2.4 runs
+    // 2.4.9 (matrices/demo-images.yaml), so the drift proves one of the two wrong; the
+    // snapshot holds 2.2.1 and is not the one to blame.
+    let (verdict, s) = suggestion_for(
+        "results:\n  - {package: wattle-core, image: deb-2.4, outcome: installed, version: \"2.2.1\"}\n",
+        "wattle-core",
+        "deb-2.4",
+    );
+    assert_eq!(verdict, Verdict::Drift);
+    assert!(
+        s.contains("2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet: the requirement or the image declaration is wrong")
+            && !s.contains("older"),
+        "{s}"
+    );
+    // spadefoot-compat has no 9.0.0: only a version the snapshot lacks points at its age.
+    let (verdict, s) = suggestion_for(
+        "results:\n  - {package: spadefoot-compat, image: deb-3.2, outcome: installed, version: \"9.0.0\"}\n",
+        "spadefoot-compat",
+        "deb-3.2",
+    );
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("9.0.0 is not in the registry snapshot, which may be older")
+            && !s.contains("stricter than reality"),
+        "{s}"
+    );
+    // tuart-vec 0.6.1 has no source build and a prebuilt build for linux/glibc/x86_64 only.
+    let (verdict, s) = suggestion_for(
+        "results:\n  - {package: tuart-vec, image: deb-3.2-arm64, outcome: installed, version: \"0.6.1\"}\n",
+        "tuart-vec",
+        "deb-3.2-arm64",
+    );
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("0.6.1 is in the snapshot but has neither a source build nor a prebuilt build for linux/glibc/aarch64"),
+        "{s}"
+    );
+    // currawong 1.6.0 is yanked; 1.5.4 is predicted.
+    let (verdict, s) = suggestion_for(
+        "results:\n  - {package: currawong, image: deb-2.4, outcome: installed, version: \"1.6.0\"}\n",
+        "currawong",
+        "deb-2.4",
+    );
+    assert_eq!(verdict, Verdict::Drift);
+    assert!(
+        s.contains("1.6.0 is in the snapshot but yanked") && !s.contains("older"),
+        "{s}"
+    );
+    // mangrove-report 1.1.0 suits deb-2.4 (no runtime requirement, a source build): what the
+    // plan refused lies in its dependencies.
+    let (verdict, s) = suggestion_for(
+        "results:\n  - {package: mangrove-report, image: deb-2.4, outcome: installed, version: \"1.1.0\"}\n",
+        "mangrove-report",
+        "deb-2.4",
+    );
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("1.1.0 is in the snapshot and suits deb-2.4")
+            && s.contains("basefit explain mangrove-report deb-2.4"),
+        "{s}"
+    );
+}
+
+#[test]
+fn rendered_and_json_reviews_carry_the_same_advice() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = common::write(
+        dir.path(),
+        "r.yaml",
+        "results:\n  - {package: wattle-core, image: deb-2.4, outcome: installed, version: \"2.2.1\"}\n",
+    );
+    let want = "2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet";
+    let (code, out, err) = common::run_basefit(["review"].into_iter().chain(common::DEMO).chain([
+        "--format",
+        "json",
+        "--results",
+        results.to_str().unwrap(),
+    ]));
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains(want), "{out}");
+    let (code, out, err) = common::run_basefit(["render"].into_iter().chain(common::DEMO).chain([
+        "--format",
+        "json",
+        "--results",
+        results.to_str().unwrap(),
+    ]));
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        out.contains(want) && !out.contains("snapshot may be older"),
+        "{out}"
     );
 }
 
@@ -220,4 +323,64 @@ fn no_advice_to_add_a_package_the_image_already_declares() {
         !s.contains("add libxml2-dev to deb-3.2") && s.contains("deb-3.2 declares libxml2-dev"),
         "{s}"
     );
+}
+
+#[test]
+fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
+    let dir = tempfile::tempdir().unwrap();
+    let plan_dir = dir.path().join("plan");
+    let (code, _, err) = common::run_basefit(["plan"].into_iter().chain(common::DEMO).chain([
+        "--quiet",
+        "--out",
+        plan_dir.to_str().unwrap(),
+    ]));
+    assert_eq!(code, 0, "{err}");
+    let matrix = plan_dir.join("matrix.json");
+    let demo_images = std::fs::read_to_string("matrices/demo-images.yaml").unwrap();
+    // deb-2.4 moved to another runtime (matrices/demo-images.yaml declares it at 2.4.9, on
+    // line 21 of the file), and el9-3.2, the last image, removed.
+    let changed = common::write(
+        dir.path(),
+        "changed.yaml",
+        demo_images.replacen("runtime: 2.4.9", "runtime: 2.6.0", 1),
+    );
+    let cut = demo_images.find("  - id: el9-3.2").unwrap();
+    let removed = common::write(dir.path(), "removed.yaml", &demo_images[..cut]);
+    let run = |command: &str, images: &std::path::Path| {
+        common::run_basefit([
+            command,
+            "--registry",
+            "demo-data/registry.yaml",
+            "--images",
+            images.to_str().unwrap(),
+            "--matrix",
+            matrix.to_str().unwrap(),
+            "--results",
+            "demo-data/results.yaml",
+            "--format",
+            "json",
+        ])
+    };
+    for command in ["review", "render"] {
+        let (code, _, err) = run(command, &changed);
+        assert_eq!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(&format!("{}:21: image deb-2.4", changed.display()))
+                && err.contains("runtime 2.6.0 here, 2.4.9 in the matrix")
+                && err.contains("planned from other images"),
+            "{command}: {err}"
+        );
+        let (code, _, err) = run(command, &removed);
+        assert_eq!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(&format!(
+                "{}: declares no usable image el9-3.2",
+                removed.display()
+            )) && err.contains("planned from other images"),
+            "{command}: {err}"
+        );
+        // The images the matrix was planned from are accepted.
+        let (code, _, err) = run(command, std::path::Path::new("matrices/demo-images.yaml"));
+        assert_ne!(code, 2, "{command}: {err}");
+    }
 }

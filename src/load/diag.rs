@@ -5,7 +5,7 @@ use super::bulk::DeferredRows;
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 /// An input that cannot be used at all. The command exits with code 2.
 ///
@@ -97,6 +97,42 @@ impl fmt::Display for BadInput {
 }
 
 impl std::error::Error for BadInput {}
+
+/// Refuses a file given more than once to a repeatable flag: read twice, its records would
+/// count twice (for results, every one a retry of itself) with nothing to show for it.
+/// Paths are compared as the file system resolves them, so `./r.yaml` and `r.yaml` are one
+/// file; a path that does not resolve is compared as written and left to its reader to report.
+///
+/// ```
+/// use basefit::load::diag::refuse_repeated;
+/// use std::path::PathBuf;
+/// let dir = std::env::temp_dir();
+/// let a = dir.join("basefit-doc-repeated.csv");
+/// std::fs::write(&a, "x").unwrap();
+/// let same = dir.join(".").join("basefit-doc-repeated.csv");
+/// let e = refuse_repeated(&[a.clone(), same.clone()], "--source", "read twice").unwrap_err();
+/// assert_eq!(e.file, same.display().to_string());
+/// assert!(refuse_repeated(&[a], "--source", "read twice").is_ok());
+/// ```
+pub fn refuse_repeated(paths: &[PathBuf], flag: &str, why: &str) -> Result<(), BadInput> {
+    let mut seen: Vec<(PathBuf, &PathBuf)> = Vec::new();
+    for path in paths {
+        let resolved = std::fs::canonicalize(path).unwrap_or_else(|_| path.clone());
+        if let Some((_, first)) = seen.iter().find(|(r, _)| *r == resolved) {
+            let also = if *first == path {
+                String::new()
+            } else {
+                format!(" (first as {})", first.display())
+            };
+            return Err(BadInput::file(
+                path.display().to_string(),
+                format!("given twice as {flag}{also}: {why}; give each file once"),
+            ));
+        }
+        seen.push((resolved, path));
+    }
+    Ok(())
+}
 
 /// Reads a whole input file as UTF-8 text, naming the file in the error.
 pub fn read_text(path: &Path) -> Result<String, BadInput> {

@@ -211,6 +211,11 @@ pub fn load_inputs(paths: &InputPaths) -> Result<Inputs, BadInput> {
 }
 
 fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
+    diag::refuse_repeated(
+        &paths.results,
+        "--results",
+        "its results would be counted twice, each one a retry of itself",
+    )?;
     let mut builder = RegistryBuilder::new();
     let yaml_bar = paths
         .progress

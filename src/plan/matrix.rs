@@ -154,6 +154,56 @@ pub struct ImageColumn {
     pub toolchain: bool,
 }
 
+impl ImageColumn {
+    /// The column a matrix records for `image`.
+    pub fn of(image: &Image) -> ImageColumn {
+        ImageColumn {
+            id: image.id.clone(),
+            runtime: image.runtime.to_string(),
+            family: image.family.to_string(),
+            platform: image.platform.to_string(),
+            toolchain: image.toolchain,
+        }
+    }
+
+    /// What `image` declares differently from this recorded column, one `field: X here, Y in
+    /// the matrix` part per field; empty when it is the image the column was planned from, as
+    /// far as a column records it.
+    ///
+    /// ```
+    /// use basefit::plan::matrix::ImageColumn;
+    /// let planned = ImageColumn {
+    ///     id: "deb-2.4".into(),
+    ///     runtime: "2.4.9".into(),
+    ///     family: "debian".into(),
+    ///     platform: "linux/glibc/x86_64".into(),
+    ///     toolchain: true,
+    /// };
+    /// let now = ImageColumn { runtime: "2.6.0".into(), ..planned.clone() };
+    /// assert_eq!(planned.differences(&now), ["runtime 2.6.0 here, 2.4.9 in the matrix"]);
+    /// assert!(planned.differences(&planned).is_empty());
+    /// ```
+    pub fn differences(&self, image: &ImageColumn) -> Vec<String> {
+        let mut out = Vec::new();
+        for (field, here, planned) in [
+            ("runtime", &image.runtime, &self.runtime),
+            ("family", &image.family, &self.family),
+            ("platform", &image.platform, &self.platform),
+        ] {
+            if here != planned {
+                out.push(format!("{field} {here} here, {planned} in the matrix"));
+            }
+        }
+        if image.toolchain != self.toolchain {
+            out.push(format!(
+                "toolchain {} here, {} in the matrix",
+                image.toolchain, self.toolchain
+            ));
+        }
+        out
+    }
+}
+
 /// A priority entry as the matrix shows it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PackageRow {
@@ -513,18 +563,7 @@ pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
 }
 
 pub fn image_columns(inputs: &Inputs) -> Vec<ImageColumn> {
-    inputs
-        .images
-        .images
-        .iter()
-        .map(|i| ImageColumn {
-            id: i.id.clone(),
-            runtime: i.runtime.to_string(),
-            family: i.family.to_string(),
-            platform: i.platform.to_string(),
-            toolchain: i.toolchain,
-        })
-        .collect()
+    inputs.images.images.iter().map(ImageColumn::of).collect()
 }
 
 pub fn package_rows(inputs: &Inputs) -> Vec<PackageRow> {

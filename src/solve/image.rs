@@ -143,17 +143,11 @@ impl<'r> ImageView<'r> {
 
     /// A release's admission leaving its yank flag aside.
     fn fit(&self, r: &crate::model::Release) -> Admission {
-        if let Some(req) = r.runtime {
-            let v = self.runtime_verdict(req);
-            if v != Admission::Admissible {
-                return v;
-            }
-        }
-        if r.build.source || self.prebuilt_here(&r.build.prebuilt) {
-            Admission::Admissible
-        } else {
-            Admission::NoBuild
-        }
+        fit_with(
+            r,
+            |req| self.runtime_verdict(req),
+            |p| self.prebuilt_here(p),
+        )
     }
 
     /// The requirement sets the solver is given for the runtime dependencies of release
@@ -194,6 +188,47 @@ impl<'r> ImageView<'r> {
             BuildKind::Source
         }
     }
+}
+
+/// A release's admission leaving its yank flag aside, given how to judge a runtime
+/// requirement and a list of prebuilt platforms: the solver's view caches both, a one-off
+/// question ([`release_fit`]) does not.
+fn fit_with(
+    r: &crate::model::Release,
+    runtime: impl Fn(ReqId) -> Admission,
+    prebuilt_here: impl Fn(&[crate::model::PlatformId]) -> bool,
+) -> Admission {
+    if let Some(req) = r.runtime {
+        let v = runtime(req);
+        if v != Admission::Admissible {
+            return v;
+        }
+    }
+    if r.build.source || prebuilt_here(&r.build.prebuilt) {
+        Admission::Admissible
+    } else {
+        Admission::NoBuild
+    }
+}
+
+/// Whether `release` suits `image`'s runtime and platform, yank flag aside, judged as the
+/// solver judges it but without building an [`ImageView`] (whose tables are sized by the
+/// whole registry) for one release.
+pub fn release_fit(
+    registry: &Registry,
+    image: &Image,
+    release: &crate::model::Release,
+) -> Admission {
+    let platform = registry
+        .platforms
+        .iter()
+        .position(|p| *p == image.platform)
+        .map(|i| crate::model::PlatformId(i as u16));
+    fit_with(
+        release,
+        |req| runtime_verdict(registry.requirement(req), &image.runtime),
+        |prebuilt| platform.is_some_and(|p| prebuilt.contains(&p)),
+    )
 }
 
 /// Whether `runtime` meets `req`, and if not, in which direction it misses.

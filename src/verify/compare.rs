@@ -4,7 +4,7 @@ use super::logs::{self, LogCause};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
 use crate::native::Catalog;
 use crate::plan::matrix::{Matrix, Outcome, RecordedCheck};
-use crate::solve::Cause;
+use crate::solve::{Admission, Cause};
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -200,11 +200,117 @@ fn suggest(
     }
 }
 
-/// The next step when a cell predicted to fail installed, by what the prediction blamed: a
-/// native cause was read from the image declaration, so that declaration is what is out of
-/// date; any other cause was read from the package metadata.
-fn surprise_install_step(cell: &crate::plan::matrix::Cell, images: &ImageSet) -> String {
+/// What the registry snapshot holds of the release an install recorded, judged on the image
+/// it was recorded on. Advice about a version the install took must start here: a version the
+/// snapshot lacks points at the snapshot, one it holds but refuses on the image points at that
+/// refusal, and only one it holds and admits leaves the plan's other inputs to blame.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Standing {
+    /// No version recorded, or the image is not declared: nothing could be looked up.
+    Unknown,
+    /// The snapshot has no release of that version; `package_known` is false when it does not
+    /// have the package at all.
+    NotInSnapshot { package_known: bool },
+    /// In the snapshot but refused on the image: the sentence saying why, and what is wrong.
+    Refused(String),
+    /// In the snapshot and admitted on the image (runtime, platform, not yanked).
+    Admitted,
+}
+
+/// The [`Standing`] of `version` of `package` on image `image_id`.
+pub fn standing(
+    registry: &Registry,
+    images: &ImageSet,
+    package: &str,
+    image_id: &str,
+    version: Option<&semver::Version>,
+) -> Standing {
+    let Some(version) = version else {
+        return Standing::Unknown;
+    };
+    let Some(id) = registry
+        .id(package)
+        .filter(|id| registry.package(*id).declared)
+    else {
+        return Standing::NotInSnapshot {
+            package_known: false,
+        };
+    };
+    let Some(index) = registry.find_release(id, version) else {
+        return Standing::NotInSnapshot {
+            package_known: true,
+        };
+    };
+    let Some(image) = images.get(image_id) else {
+        return Standing::Unknown;
+    };
+    let release = &registry.package(id).releases[index];
+    // The runtime and platform are judged before the yank flag: an install that took a
+    // release the image refuses proves that refusal wrong, which matters more than a yank.
+    let reason = match crate::solve::image::release_fit(registry, image, release) {
+        Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime => format!(
+            "{version} is in the snapshot but declares runtime {}, which {image_id}'s runtime {} does not meet: the requirement or the image declaration is wrong",
+            release
+                .runtime
+                .map(|r| registry.requirement(r).to_string())
+                .unwrap_or_default(),
+            image.runtime
+        ),
+        Admission::NoBuild => format!(
+            "{version} is in the snapshot but has neither a source build nor a prebuilt build for {}, the platform of {image_id}: its builds in the metadata or the image declaration are wrong",
+            image.platform
+        ),
+        Admission::Admissible | Admission::Yanked if release.yanked => format!(
+            "{version} is in the snapshot but yanked: a lock file or a pin chose it, or the registry the install used had not yanked it yet"
+        ),
+        Admission::Admissible | Admission::Yanked => return Standing::Admitted,
+    };
+    Standing::Refused(reason)
+}
+
+impl Standing {
+    /// The sentence for a version the snapshot lacks or refuses; `None` when it holds and
+    /// admits it, or nothing could be looked up.
+    fn explains(&self, package: &str, version: &str, newer: bool) -> Option<String> {
+        match self {
+            Standing::NotInSnapshot { package_known } => {
+                let what = if *package_known { version } else { package };
+                Some(if newer || !package_known {
+                    format!(
+                        "{what} is not in the registry snapshot, which may be older than the registry the install used: plan again from a newer snapshot before changing the metadata or the image"
+                    )
+                } else {
+                    format!(
+                        "{what} is not in the registry snapshot: the install used a registry the snapshot does not reflect (a mirror, a private index, or a release since deleted)"
+                    )
+                })
+            }
+            Standing::Refused(reason) => Some(reason.clone()),
+            Standing::Unknown | Standing::Admitted => None,
+        }
+    }
+}
+
+/// The next step when a cell predicted to fail installed. A version the snapshot lacks or
+/// refuses on the image says what is wrong by itself; otherwise the step follows what the
+/// prediction blamed: a native cause was read from the image declaration, so that declaration
+/// is what is out of date; any other cause was read from the package metadata.
+fn surprise_install_step(
+    cell: &crate::plan::matrix::Cell,
+    images: &ImageSet,
+    standing: &Standing,
+    installed: Option<&str>,
+) -> String {
     let image = &cell.image;
+    // A surprise install newer than the prediction points at the snapshot when the snapshot
+    // lacks it; without a predicted version (a failure) a missing one is as likely newer.
+    let newer = match (installed, cell.root_version.as_deref()) {
+        (Some(i), Some(p)) => order(i, p) != Some(std::cmp::Ordering::Less),
+        _ => true,
+    };
+    if let Some(why) = standing.explains(&cell.package, installed.unwrap_or("?"), newer) {
+        return why;
+    }
     match cell.cause {
         Some(Cause::MissingSystemLibrary) => {
             let declared = images.get(image);
@@ -229,6 +335,11 @@ fn surprise_install_step(cell: &crate::plan::matrix::Cell, images: &ImageSet) ->
         Some(Cause::MissingToolchain) => format!(
             "the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
         ),
+        _ if *standing == Standing::Admitted => format!(
+            "{} is in the snapshot and suits {image}, so what the plan refused lies in its dependencies or the priority entry's requirement: `basefit explain {} {image}` names the requirement that is stricter than reality",
+            installed.unwrap_or("?"),
+            cell.package
+        ),
         _ => format!(
             "the metadata is stricter than reality; check the runtime requirement and builds of {}",
             cell.package
@@ -236,22 +347,43 @@ fn surprise_install_step(cell: &crate::plan::matrix::Cell, images: &ImageSet) ->
     }
 }
 
-/// The next step when an install took another version than predicted, by which way it went:
-/// a newer one means the snapshot lags the registry the install used; an older one means
-/// something held the install back (a lock file, a pin, or a mirror behind the snapshot).
-fn drift_step(installed: &str, predicted: &str) -> String {
-    let order = semver::Version::parse(installed)
+/// Semantic Versioning precedence of two version texts; `None` when either is no version or
+/// they differ only in build metadata.
+fn order(a: &str, b: &str) -> Option<std::cmp::Ordering> {
+    semver::Version::parse(a)
         .ok()
-        .zip(semver::Version::parse(predicted).ok())
-        .map(|(i, p)| i.cmp_precedence(&p));
-    let why = match order {
-        Some(std::cmp::Ordering::Greater) => {
-            "the registry snapshot may be older than the registry the install used"
-        }
-        Some(std::cmp::Ordering::Less) => {
-            "something held the install back: a lock file, a pin, or a registry mirror behind the snapshot"
-        }
-        _ => "the snapshot and the install disagree on the version",
+        .zip(semver::Version::parse(b).ok())
+        .map(|(a, b)| a.cmp_precedence(&b))
+        .filter(|o| o.is_ne())
+}
+
+/// The next step when an install took another version than predicted. A version the snapshot
+/// lacks or refuses on the image says what is wrong by itself. One it holds and admits goes by
+/// which way it went: an older one means something held the install back (a lock file, a pin,
+/// or a mirror behind the snapshot); a newer one was ruled out by something else the plan read.
+fn drift_step(
+    installed: &str,
+    predicted: &str,
+    standing: &Standing,
+    package: &str,
+    image: &str,
+) -> String {
+    let order = order(installed, predicted);
+    let newer = order == Some(std::cmp::Ordering::Greater);
+    let why = match standing.explains(package, installed, newer) {
+        Some(why) => why,
+        None => match order {
+            Some(std::cmp::Ordering::Greater) if *standing == Standing::Admitted => format!(
+                "{installed} is in the snapshot and suits {image}, yet the plan did not pick it: its dependencies, the pre-release rule or the priority entry's requirement ruled it out (`basefit explain {package} {image}`), so the install resolved them differently"
+            ),
+            Some(std::cmp::Ordering::Greater) => {
+                "the registry snapshot may be older than the registry the install used".into()
+            }
+            Some(std::cmp::Ordering::Less) => {
+                "something held the install back: a lock file, a pin, or a registry mirror behind the snapshot".into()
+            }
+            _ => "the snapshot and the install disagree on the version".into(),
+        },
     };
     format!("installed {installed} where {predicted} was predicted: {why}")
 }
@@ -304,11 +436,12 @@ pub fn compare(
             .map(logs::classify)
             .unwrap_or_default();
         let primary = logs::primary(&findings).cloned();
-        let installed_version = records
+        let installed = records
             .iter()
             .rev()
             .find(|r| r.outcome == RecordedOutcome::Installed)
-            .and_then(|r| r.version.as_ref().map(|v| v.to_string()));
+            .and_then(|r| r.version.as_ref());
+        let installed_version = installed.map(|v| v.to_string());
         let any_installed = attempts.contains(&RecordedOutcome::Installed);
         let any_failed = attempts.contains(&RecordedOutcome::Failed);
         let declared = cell.native_needs.iter().any(|n| {
@@ -342,6 +475,7 @@ pub fn compare(
             Verdict::AgreedInstall
         };
         let log_cause = primary.as_ref().map(|p| p.cause.clone());
+        let standing = || standing(registry, images, &cell.package, &cell.image, installed);
         let suggestion = match verdict {
             Verdict::SurpriseInstall => {
                 let failed = attempts
@@ -357,12 +491,15 @@ pub fn compare(
                     "predicted {} ({}), but it installed{retries}: {}",
                     cell.outcome.as_str(),
                     cell.cause.map(|c| c.as_str()).unwrap_or("no cause"),
-                    surprise_install_step(cell, images)
+                    surprise_install_step(cell, images, &standing(), installed_version.as_deref())
                 ))
             }
             Verdict::Drift => Some(drift_step(
                 installed_version.as_deref().unwrap_or("?"),
                 cell.root_version.as_deref().unwrap_or("?"),
+                &standing(),
+                &cell.package,
+                &cell.image,
             )),
             _ => log_cause.as_ref().and_then(|c| {
                 suggest(
@@ -488,18 +625,31 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
 
 #[cfg(test)]
 mod tests {
-    use super::drift_step;
+    use super::{Standing, drift_step};
 
     #[test]
     fn drift_advice_follows_the_direction_of_the_version() {
+        let drift = |installed, predicted, standing: &Standing| {
+            drift_step(installed, predicted, standing, "gumleaf", "deb-2.8")
+        };
+        let held = Standing::Admitted;
         // Precedence by Semantic Versioning 2.0.0, section 11: 2.0.0-rc.1 < 2.0.0.
-        assert!(drift_step("1.2.0", "1.4.2").contains("held the install back"));
-        assert!(drift_step("2.0.0-rc.1", "2.0.0").contains("held the install back"));
-        assert!(drift_step("1.5.0", "1.4.2").contains("snapshot may be older"));
+        assert!(drift("1.2.0", "1.4.2", &held).contains("held the install back"));
+        assert!(drift("2.0.0-rc.1", "2.0.0", &held).contains("held the install back"));
+        let absent = Standing::NotInSnapshot {
+            package_known: true,
+        };
+        assert!(drift("1.5.0", "1.4.2", &absent).contains("snapshot, which may be older"));
+        // A newer version the snapshot holds and admits says nothing of the snapshot's age.
+        let step = drift("1.5.0", "1.4.2", &held);
+        assert!(
+            !step.contains("older") && step.contains("did not pick it"),
+            "{step}"
+        );
         // Build metadata does not order versions (section 10), and text that is no version
         // gives no direction.
         for (installed, predicted) in [("1.4.2+b", "1.4.2+a"), ("nightly", "1.4.2")] {
-            let step = drift_step(installed, predicted);
+            let step = drift(installed, predicted, &held);
             assert!(step.contains("disagree"), "{step}");
         }
     }
