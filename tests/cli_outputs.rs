@@ -415,3 +415,89 @@ fn a_registry_without_versions_is_refused_plainly() {
         assert!(stderr.ends_with(&want), "{stderr}");
     }
 }
+
+/// The demo registry and images with a priority list of two entries written into `dir`:
+/// gumleaf (installs everywhere) with weight `installs`, gidgee-auth (in no registry, fails
+/// everywhere) with weight `fails`.
+fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
+    let list = common::write(
+        dir,
+        "p.yaml",
+        format!(
+            "priorities:\n  - {{name: gumleaf, weight: {installs}}}\n  - {{name: gidgee-auth, weight: {fails}}}\n"
+        ),
+    );
+    [
+        "--registry",
+        "demo-data/registry.yaml",
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        list.to_str().unwrap(),
+    ]
+    .map(str::to_string)
+    .to_vec()
+}
+
+/// Runs `command` on `inputs` with `extra`, expecting exit 0 or 1; returns stdout.
+fn stdout_of(command: &[&str], inputs: &[String], extra: &[&str]) -> String {
+    let mut args: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    args.extend(extra);
+    let (code, stdout, stderr) = run(command, &args);
+    assert!(code == 0 || code == 1, "{stderr}");
+    stdout
+}
+
+/// One failing entry among heavy ones (or one resolving among heavy failures) never shows
+/// as 100% (or 0%) in any rendering: text, Markdown, HTML, the coverage table and its chart.
+#[test]
+fn a_share_strictly_inside_never_prints_as_all_or_nothing() {
+    for (installs, fails, text, whole) in [(2000, 1, "99.9%", "99%"), (1, 2000, "0.1%", "1%")] {
+        let dir = tempfile::tempdir().unwrap();
+        let inputs = two_entry_demo(dir.path(), installs, fails);
+        let plan = stdout_of(&["plan"], &inputs, &[]);
+        let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+        assert!(row.ends_with(&format!(" {text}")), "{row}");
+
+        let out = dir.path().join("out");
+        stdout_of(&["render"], &inputs, &["--out", out.to_str().unwrap()]);
+        let md = std::fs::read_to_string(out.join("matrix.md")).unwrap();
+        let md_row = md.lines().find(|l| l.starts_with("| deb-2.4 |")).unwrap();
+        assert!(md_row.ends_with(&format!("| {whole} |")), "{md_row}");
+        let html = std::fs::read_to_string(out.join("matrix.html")).unwrap();
+        assert_eq!(
+            html.matches(&format!("<span class=\"foot-share\">{whole}</span>"))
+                .count(),
+            10,
+            "every image's footer"
+        );
+        assert_eq!(
+            html.matches(&format!("<strong>{whole}</strong> of priority weight"))
+                .count(),
+            10
+        );
+
+        let chart = dir.path().join("chart");
+        let coverage = stdout_of(
+            &["imageplan"],
+            &inputs,
+            &[
+                "--image",
+                "deb-2.4",
+                "--target",
+                "1",
+                "--out",
+                chart.to_str().unwrap(),
+            ],
+        );
+        assert!(coverage.contains("target 100.0%\n"), "{coverage}");
+        let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+        assert!(row.contains(&format!(" {text} ")), "{row}");
+        assert!(coverage.contains("no candidate runtime reaches the target"));
+        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+        assert!(
+            svg.contains(&format!("<title>2.4.9: {text}</title>")),
+            "{svg}"
+        );
+    }
+}

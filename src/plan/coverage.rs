@@ -270,10 +270,10 @@ pub fn coverage_svg(c: &Coverage) -> String {
         );
         let _ = writeln!(
             s,
-            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\">{}%</text>",
+            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\">{}</text>",
             L - 6.0,
             yy + 4.0,
-            k * 25
+            percent(share, 0)
         );
     }
     let _ = writeln!(

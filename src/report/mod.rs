@@ -39,11 +39,25 @@ pub enum MatrixFormat {
 /// every share any command prints goes through here. Zero prints as `0.0%`, never `-0.0%`:
 /// a sum of no f64 values is negative zero (`Iterator::sum` starts there), and a share that
 /// rounds to zero from below is none either.
+///
+/// A share strictly between 0 and 1 never prints as 0% or 100%: it takes the nearest value
+/// the places can show inside (99.9% or 0.1% at one place, 99% or 1% at none). Rounded to
+/// 100%, one failing entry among heavy ones reads as an image where everything installs
+/// (common practice, no source).
 pub fn percent(share: f64, decimals: usize) -> String {
     if !share.is_finite() {
         return "n/a".to_string();
     }
-    let text = format!("{:.*}", decimals, share * 100.0);
+    let mut text = format!("{:.*}", decimals, share * 100.0);
+    if share > 0.0 && share < 1.0 {
+        let step = 0.1f64.powi(decimals as i32);
+        let shown: f64 = text.parse().unwrap_or(share * 100.0);
+        if shown >= 100.0 {
+            text = format!("{:.*}", decimals, 100.0 - step);
+        } else if shown <= 0.0 {
+            text = format!("{:.*}", decimals, step);
+        }
+    }
     match text.strip_prefix('-') {
         Some(digits) if digits.bytes().all(|b| b == b'0' || b == b'.') => format!("{digits}%"),
         _ => format!("{text}%"),
@@ -173,5 +187,21 @@ mod tests {
         assert_eq!(percent(0.125, 1), "12.5%");
         assert_eq!(percent(1.0, 0), "100%");
         assert_eq!(percent(f64::NAN, 1), "n/a");
+    }
+
+    #[test]
+    fn shares_strictly_inside_never_print_as_all_or_nothing() {
+        // 2000 of 2001: one failing entry must not vanish into a rounded 100%.
+        assert_eq!(percent(2000.0 / 2001.0, 1), "99.9%");
+        assert_eq!(percent(2000.0 / 2001.0, 0), "99%");
+        assert_eq!(percent(1.0 / 2001.0, 1), "0.1%");
+        assert_eq!(percent(1.0 / 2001.0, 0), "1%");
+        assert_eq!(percent(0.9999999, 3), "99.999%");
+        assert_eq!(percent(1e-300, 2), "0.01%");
+        // Ends and shares that round inside stay as they are.
+        assert_eq!(percent(1.0, 1), "100.0%");
+        assert_eq!(percent(0.0, 0), "0%");
+        assert_eq!(percent(0.996, 1), "99.6%");
+        assert_eq!(percent(0.004, 1), "0.4%");
     }
 }
