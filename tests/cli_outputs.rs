@@ -501,3 +501,37 @@ fn a_share_strictly_inside_never_prints_as_all_or_nothing() {
         );
     }
 }
+
+/// A target that needs two places prints with them, and a coverage below it never prints as
+/// the target: 97.5% beside "target 97.5%" and "no runtime reaches the target" reads as a
+/// contradiction, and 97.53% beside 97.53% would too.
+#[test]
+fn a_coverage_below_the_target_never_prints_as_the_target() {
+    for (installs, fails, shown) in [(3900, 100, "97.50%"), (97529, 2471, "97.529%")] {
+        let dir = tempfile::tempdir().unwrap();
+        let inputs = two_entry_demo(dir.path(), installs, fails);
+        let chart = dir.path().join("chart");
+        let coverage = stdout_of(
+            &["imageplan"],
+            &inputs,
+            &[
+                "--image",
+                "deb-2.4",
+                "--target",
+                "0.9753",
+                "--out",
+                chart.to_str().unwrap(),
+            ],
+        );
+        assert!(coverage.contains("target 97.53%\n"), "{coverage}");
+        let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+        assert!(row.contains(&format!(" {shown} ")), "{row}");
+        assert!(coverage.contains("no candidate runtime reaches the target"));
+        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+        assert!(svg.contains(">target 97.53%</text>"), "{svg}");
+        assert!(
+            svg.contains(&format!("<title>2.4.9: {shown}</title>")),
+            "{svg}"
+        );
+    }
+}

@@ -4,7 +4,7 @@
 use super::matrix::{PlanOptions, plan_cell};
 use crate::load::Inputs;
 use crate::model::Image;
-use crate::report::percent;
+use crate::report::{percent, percent_beside, target_decimals};
 use crate::solve::{ImageView, SetCache};
 use rayon::prelude::*;
 use semver::Version;
@@ -162,11 +162,9 @@ pub fn coverage(
             }
         })
         .collect();
-    // A small tolerance so a share that is exactly the target in decimal is not missed by
-    // floating-point rounding of the weight sum.
     let oldest_reaching_target = points
         .iter()
-        .find(|p| p.share + 1e-9 >= target)
+        .find(|p| reaches(p.share, target))
         .map(|p| p.runtime.clone());
     Coverage {
         base_image: base.id.clone(),
@@ -179,6 +177,18 @@ pub fn coverage(
     }
 }
 
+/// Whether `share` counts as reaching `target`. A small tolerance, so a share that is exactly
+/// the target in decimal is not missed by floating-point rounding of the weight sum.
+pub fn reaches(share: f64, target: f64) -> bool {
+    share + 1e-9 >= target
+}
+
+/// A coverage as printed beside its target: with the places the target needs, and never
+/// looking equal to a target it misses.
+fn shown(share: f64, target: f64) -> String {
+    percent_beside(share, target, !reaches(share, target))
+}
+
 /// A readable table of coverage per runtime, with drop-outs and come-ins per step.
 pub fn coverage_text(c: &Coverage) -> String {
     let mut s = String::new();
@@ -188,7 +198,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         c.base_image,
         c.family,
         c.platform,
-        percent(c.target, 1)
+        percent(c.target, target_decimals(c.target))
     );
     let mut rows = vec![vec![
         "runtime".to_string(),
@@ -204,7 +214,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         };
         rows.push(vec![
             p.runtime.clone(),
-            percent(p.share, 1),
+            shown(p.share, c.target),
             list(step.map(|s| &s.drop_out)),
             list(step.map(|s| &s.come_in)),
         ]);
@@ -299,7 +309,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
         "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {}</text>",
         L + pw,
         ty - 4.0,
-        percent(c.target, 1)
+        percent(c.target, target_decimals(c.target))
     );
     if n > 1 {
         let pts: Vec<String> = c
@@ -321,7 +331,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
             x(i),
             y(p.share),
             crate::report::html::escape_html(&p.runtime),
-            percent(p.share, 1)
+            shown(p.share, c.target)
         );
         let _ = writeln!(
             s,
