@@ -420,13 +420,17 @@ fn a_registry_without_versions_is_refused_plainly() {
 /// gumleaf (installs everywhere) with weight `installs`, gidgee-auth (in no registry, fails
 /// everywhere) with weight `fails`.
 fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
-    let list = common::write(
+    demo_with_list(
         dir,
-        "p.yaml",
-        format!(
+        &format!(
             "priorities:\n  - {{name: gumleaf, weight: {installs}}}\n  - {{name: gidgee-auth, weight: {fails}}}\n"
         ),
-    );
+    )
+}
+
+/// The demo registry and images with the priority list `yaml` written into `dir`.
+fn demo_with_list(dir: &Path, yaml: &str) -> Vec<String> {
+    let list = common::write(dir, "p.yaml", yaml);
     [
         "--registry",
         "demo-data/registry.yaml",
@@ -534,4 +538,94 @@ fn a_coverage_below_the_target_never_prints_as_the_target() {
             "{svg}"
         );
     }
+}
+
+/// A priority list whose every weight is zero (`fuse --method share-sum` writes one when every
+/// source scores zero) has no share of weight: every rendering says n/a (JSON null) rather
+/// than 0% resolving, `imageplan` says why it has no coverage instead of that the target was
+/// missed, and `check` notes the list without refusing it.
+#[test]
+fn an_all_zero_weight_list_has_no_share_anywhere() {
+    let dir = tempfile::tempdir().unwrap();
+    // dunecart-deploy fails everywhere through a dependency, so it has a shared blocker.
+    let inputs = demo_with_list(
+        dir.path(),
+        "priorities:\n  - {name: gumleaf, weight: 0}\n  - {name: dunecart-deploy, weight: 0}\n",
+    );
+    let list = inputs[5].clone();
+
+    let plan = stdout_of(&["plan"], &inputs, &[]);
+    let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+    assert!(row.ends_with(" n/a"), "{row}");
+    assert!(
+        plan.contains("deb-2.4: cloudpeg-sdk blocks 1 of the 2 entries (n/a of the weight)"),
+        "{plan}"
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&stdout_of(&["plan"], &inputs, &["--format", "json"])).unwrap();
+    let images = json["summary"]["images"].as_array().unwrap();
+    assert_eq!(images.len(), 10);
+    assert!(images.iter().all(|i| i["weight_share"].is_null()), "{json}");
+    let blockers = json["shared_blockers"].as_array().unwrap();
+    assert!(!blockers.is_empty());
+    assert!(
+        blockers.iter().all(|b| b["blocked_share"].is_null()),
+        "{json}"
+    );
+
+    let out = dir.path().join("out");
+    stdout_of(&["render"], &inputs, &["--out", out.to_str().unwrap()]);
+    let md = std::fs::read_to_string(out.join("matrix.md")).unwrap();
+    let md_row = md.lines().find(|l| l.starts_with("| deb-2.4 |")).unwrap();
+    assert!(md_row.ends_with("| n/a |"), "{md_row}");
+    let html = std::fs::read_to_string(out.join("matrix.html")).unwrap();
+    assert_eq!(
+        html.matches("<span class=\"foot-share\">n/a</span>")
+            .count(),
+        10
+    );
+
+    let chart = dir.path().join("chart");
+    let coverage = stdout_of(
+        &["imageplan"],
+        &inputs,
+        &["--image", "deb-2.4", "--out", chart.to_str().unwrap()],
+    );
+    let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+    assert!(row.contains(" n/a "), "{row}");
+    assert!(
+        coverage.contains("coverage by weight cannot be computed: every priority weight is zero\n"),
+        "{coverage}"
+    );
+    assert!(!coverage.contains("reaches the target"), "{coverage}");
+    let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+    assert!(
+        !svg.contains("<circle"),
+        "no point stands for an undefined share"
+    );
+    assert!(svg.contains("every priority weight is zero"), "{svg}");
+    let json: serde_json::Value = serde_json::from_str(&stdout_of(
+        &["imageplan"],
+        &inputs,
+        &["--image", "deb-2.4", "--format", "json"],
+    ))
+    .unwrap();
+    let points = json["coverage"][0]["points"].as_array().unwrap();
+    assert!(!points.is_empty());
+    assert!(points.iter().all(|p| p["share"].is_null()), "{json}");
+
+    let check = stdout_of(&["check"], &inputs, &[]);
+    assert!(
+        check.contains(&format!(
+            "(all-weights-zero): 1\n  {list}:2  priorities: all 2 entries have weight 0"
+        )),
+        "{check}"
+    );
+    // One weight above zero is enough for every share to be defined.
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = two_entry_demo(dir.path(), 0, 1);
+    assert!(!stdout_of(&["check"], &inputs, &[]).contains("all-weights-zero"));
+    let plan = stdout_of(&["plan"], &inputs, &[]);
+    let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+    assert!(row.ends_with(" 0.0%"), "{row}");
 }

@@ -64,6 +64,12 @@ pub fn percent(share: f64, decimals: usize) -> String {
     }
 }
 
+/// A share that may be undefined (`None`: a share of zero total weight, a rate over no
+/// cells) as [`percent`] prints it, or `n/a`.
+pub fn percent_or_na(share: Option<f64>, decimals: usize) -> String {
+    share.map_or_else(|| "n/a".to_string(), |s| percent(s, decimals))
+}
+
 /// How many places a target share needs to print as itself (`--target 0.9753` is 97.53%, not
 /// 97.5%): at least one, at most nine, where a nearer value is past anything a user types.
 pub fn target_decimals(target: f64) -> usize {
