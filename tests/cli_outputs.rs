@@ -473,3 +473,217 @@ fn imageplan_runtimes_read_as_images_do_and_repeat_no_precedence() {
         "{stderr}"
     );
 }
+
+/// The demo registry and images with a priority list of two entries written into `dir`:
+/// gumleaf (installs everywhere) with weight `installs`, gidgee-auth (in no registry, fails
+/// everywhere) with weight `fails`.
+fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
+    demo_with_list(
+        dir,
+        &format!(
+            "priorities:\n  - {{name: gumleaf, weight: {installs}}}\n  - {{name: gidgee-auth, weight: {fails}}}\n"
+        ),
+    )
+}
+
+/// The demo registry and images with the priority list `yaml` written into `dir`.
+fn demo_with_list(dir: &Path, yaml: &str) -> Vec<String> {
+    let list = common::write(dir, "p.yaml", yaml);
+    [
+        "--registry",
+        "demo-data/registry.yaml",
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        list.to_str().unwrap(),
+    ]
+    .map(str::to_string)
+    .to_vec()
+}
+
+/// Runs `command` on `inputs` with `extra`, expecting exit 0 or 1; returns stdout.
+fn stdout_of(command: &[&str], inputs: &[String], extra: &[&str]) -> String {
+    let mut args: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    args.extend(extra);
+    let (code, stdout, stderr) = run(command, &args);
+    assert!(code == 0 || code == 1, "{stderr}");
+    stdout
+}
+
+/// One failing entry among heavy ones (or one resolving among heavy failures) never shows
+/// as 100% (or 0%) in any rendering: text, Markdown, HTML, the coverage table and its chart.
+#[test]
+fn a_share_strictly_inside_never_prints_as_all_or_nothing() {
+    for (installs, fails, text, whole) in [(2000, 1, "99.9%", "99%"), (1, 2000, "0.1%", "1%")] {
+        let dir = tempfile::tempdir().unwrap();
+        let inputs = two_entry_demo(dir.path(), installs, fails);
+        let plan = stdout_of(&["plan"], &inputs, &[]);
+        let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+        assert!(row.ends_with(&format!(" {text}")), "{row}");
+
+        let out = dir.path().join("out");
+        stdout_of(&["render"], &inputs, &["--out", out.to_str().unwrap()]);
+        let md = std::fs::read_to_string(out.join("matrix.md")).unwrap();
+        let md_row = md.lines().find(|l| l.starts_with("| deb-2.4 |")).unwrap();
+        assert!(md_row.ends_with(&format!("| {whole} |")), "{md_row}");
+        let html = std::fs::read_to_string(out.join("matrix.html")).unwrap();
+        assert_eq!(
+            html.matches(&format!("<span class=\"foot-share\">{whole}</span>"))
+                .count(),
+            10,
+            "every image's footer"
+        );
+        assert_eq!(
+            html.matches(&format!("<strong>{whole}</strong> of priority weight"))
+                .count(),
+            10
+        );
+
+        let chart = dir.path().join("chart");
+        let coverage = stdout_of(
+            &["imageplan"],
+            &inputs,
+            &[
+                "--image",
+                "deb-2.4",
+                "--target",
+                "1",
+                "--out",
+                chart.to_str().unwrap(),
+            ],
+        );
+        assert!(coverage.contains("target 100.0%\n"), "{coverage}");
+        let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+        assert!(row.contains(&format!(" {text} ")), "{row}");
+        assert!(coverage.contains("no candidate runtime reaches the target"));
+        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+        assert!(
+            svg.contains(&format!("<title>2.4.9: {text}</title>")),
+            "{svg}"
+        );
+    }
+}
+
+/// A target that needs two places prints with them, and a coverage below it never prints as
+/// the target: 97.5% beside "target 97.5%" and "no runtime reaches the target" reads as a
+/// contradiction, and 97.53% beside 97.53% would too.
+#[test]
+fn a_coverage_below_the_target_never_prints_as_the_target() {
+    for (installs, fails, shown) in [(3900, 100, "97.50%"), (97529, 2471, "97.529%")] {
+        let dir = tempfile::tempdir().unwrap();
+        let inputs = two_entry_demo(dir.path(), installs, fails);
+        let chart = dir.path().join("chart");
+        let coverage = stdout_of(
+            &["imageplan"],
+            &inputs,
+            &[
+                "--image",
+                "deb-2.4",
+                "--target",
+                "0.9753",
+                "--out",
+                chart.to_str().unwrap(),
+            ],
+        );
+        assert!(coverage.contains("target 97.53%\n"), "{coverage}");
+        let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+        assert!(row.contains(&format!(" {shown} ")), "{row}");
+        assert!(coverage.contains("no candidate runtime reaches the target"));
+        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+        assert!(svg.contains(">target 97.53%</text>"), "{svg}");
+        assert!(
+            svg.contains(&format!("<title>2.4.9: {shown}</title>")),
+            "{svg}"
+        );
+    }
+}
+
+/// A priority list whose every weight is zero (`fuse --method share-sum` writes one when every
+/// source scores zero) has no share of weight: every rendering says n/a (JSON null) rather
+/// than 0% resolving, `imageplan` says why it has no coverage instead of that the target was
+/// missed, and `check` notes the list without refusing it.
+#[test]
+fn an_all_zero_weight_list_has_no_share_anywhere() {
+    let dir = tempfile::tempdir().unwrap();
+    // dunecart-deploy fails everywhere through a dependency, so it has a shared blocker.
+    let inputs = demo_with_list(
+        dir.path(),
+        "priorities:\n  - {name: gumleaf, weight: 0}\n  - {name: dunecart-deploy, weight: 0}\n",
+    );
+    let list = inputs[5].clone();
+
+    let plan = stdout_of(&["plan"], &inputs, &[]);
+    let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+    assert!(row.ends_with(" n/a"), "{row}");
+    assert!(
+        plan.contains("deb-2.4: cloudpeg-sdk blocks 1 of the 2 entries (n/a of the weight)"),
+        "{plan}"
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&stdout_of(&["plan"], &inputs, &["--format", "json"])).unwrap();
+    let images = json["summary"]["images"].as_array().unwrap();
+    assert_eq!(images.len(), 10);
+    assert!(images.iter().all(|i| i["weight_share"].is_null()), "{json}");
+    let blockers = json["shared_blockers"].as_array().unwrap();
+    assert!(!blockers.is_empty());
+    assert!(
+        blockers.iter().all(|b| b["blocked_share"].is_null()),
+        "{json}"
+    );
+
+    let out = dir.path().join("out");
+    stdout_of(&["render"], &inputs, &["--out", out.to_str().unwrap()]);
+    let md = std::fs::read_to_string(out.join("matrix.md")).unwrap();
+    let md_row = md.lines().find(|l| l.starts_with("| deb-2.4 |")).unwrap();
+    assert!(md_row.ends_with("| n/a |"), "{md_row}");
+    let html = std::fs::read_to_string(out.join("matrix.html")).unwrap();
+    assert_eq!(
+        html.matches("<span class=\"foot-share\">n/a</span>")
+            .count(),
+        10
+    );
+
+    let chart = dir.path().join("chart");
+    let coverage = stdout_of(
+        &["imageplan"],
+        &inputs,
+        &["--image", "deb-2.4", "--out", chart.to_str().unwrap()],
+    );
+    let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+    assert!(row.contains(" n/a "), "{row}");
+    assert!(
+        coverage.contains("coverage by weight cannot be computed: every priority weight is zero\n"),
+        "{coverage}"
+    );
+    assert!(!coverage.contains("reaches the target"), "{coverage}");
+    let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+    assert!(
+        !svg.contains("<circle"),
+        "no point stands for an undefined share"
+    );
+    assert!(svg.contains("every priority weight is zero"), "{svg}");
+    let json: serde_json::Value = serde_json::from_str(&stdout_of(
+        &["imageplan"],
+        &inputs,
+        &["--image", "deb-2.4", "--format", "json"],
+    ))
+    .unwrap();
+    let points = json["coverage"][0]["points"].as_array().unwrap();
+    assert!(!points.is_empty());
+    assert!(points.iter().all(|p| p["share"].is_null()), "{json}");
+
+    let check = stdout_of(&["check"], &inputs, &[]);
+    assert!(
+        check.contains(&format!(
+            "(all-weights-zero): 1\n  {list}:2  priorities: all 2 entries have weight 0"
+        )),
+        "{check}"
+    );
+    // One weight above zero is enough for every share to be defined.
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = two_entry_demo(dir.path(), 0, 1);
+    assert!(!stdout_of(&["check"], &inputs, &[]).contains("all-weights-zero"));
+    let plan = stdout_of(&["plan"], &inputs, &[]);
+    let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+    assert!(row.ends_with(" 0.0%"), "{row}");
+}

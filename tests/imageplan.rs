@@ -76,13 +76,20 @@ fn coverage_of(target: f64) -> Coverage {
 #[test]
 fn coverage_shares_are_priority_weighted() {
     let c = coverage_of(0.85);
-    let got: Vec<(&str, f64)> = c
+    let got: Vec<(&str, Option<f64>)> = c
         .points
         .iter()
         .map(|p| (p.runtime.as_str(), p.share))
         .collect();
     // 3.0: anchor+dune = 6/10; 3.1: anchor+brine+dune = 8/10; 3.2: anchor+brine+coral = 9/10.
-    assert_eq!(got, vec![("3.0.0", 0.6), ("3.1.0", 0.8), ("3.2.0", 0.9)]);
+    assert_eq!(
+        got,
+        vec![
+            ("3.0.0", Some(0.6)),
+            ("3.1.0", Some(0.8)),
+            ("3.2.0", Some(0.9))
+        ]
+    );
     assert_eq!(c.points[1].resolves, vec!["anchor", "brine", "dune"]);
 }
 
@@ -335,7 +342,7 @@ fn svg_escapes_its_text() {
         target: 0.5,
         points: vec![CoveragePoint {
             runtime: "3.0.0</text><script>".to_string(),
-            share: 0.25,
+            share: Some(0.25),
             resolves: Vec::new(),
         }],
         oldest_reaching_target: None,

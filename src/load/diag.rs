@@ -285,6 +285,8 @@ pub enum ProblemKind {
     /// A dependency record (bulk format) naming a package version that has no version
     /// record; left out.
     OrphanDependency,
+    /// A priority list whose every weight is zero: shares of weight are undefined; used.
+    AllWeightsZero,
 }
 
 impl ProblemKind {
@@ -319,6 +321,9 @@ impl ProblemKind {
             ProblemKind::OutsideWindow => "source-list rows outside the time window (left out)",
             ProblemKind::OrphanDependency => {
                 "dependency records naming a version without a version record (left out)"
+            }
+            ProblemKind::AllWeightsZero => {
+                "priority lists whose weights are all zero (shares of weight not computed)"
             }
         }
     }

@@ -238,5 +238,22 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
             origin,
         });
     }
+    // Every share of the weight divides by the total, so with all weights zero no share can
+    // be computed; the list still plans, so this is a note rather than a refusal
+    // (`fuse --method share-sum` writes such a list when every source scores zero).
+    if let Some(first) = entries.first()
+        && total == 0.0
+    {
+        ledger.note(
+            ProblemKind::AllWeightsZero,
+            first.origin.clone(),
+            "priorities",
+            format!(
+                "all {} entries have weight 0: no share of priority weight can be computed \
+                 (shown as n/a)",
+                entries.len()
+            ),
+        );
+    }
     Ok(PriorityList { entries })
 }

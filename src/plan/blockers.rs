@@ -18,8 +18,8 @@ pub struct SharedBlocker {
     /// Priority entries that fail through it, in priority order.
     pub blocks: Vec<String>,
     pub blocked_weight: f64,
-    /// Share of the list's total weight.
-    pub blocked_share: f64,
+    /// Share of the list's total weight; `None` (JSON `null`) when every weight is zero.
+    pub blocked_share: Option<f64>,
 }
 
 /// Per image, the `top` packages that block the most priority weight.
@@ -94,11 +94,7 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
                 reasons: reasons.get(name).map(by_weight).unwrap_or_default(),
                 blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
                 blocked_weight,
-                blocked_share: if total > 0.0 {
-                    blocked_weight / total
-                } else {
-                    0.0
-                },
+                blocked_share: super::matrix::weight_share(blocked_weight, total),
             });
         }
         ranked.sort_by(|a, b| {

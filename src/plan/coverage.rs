@@ -4,7 +4,7 @@
 use super::matrix::{PlanOptions, plan_cell};
 use crate::load::Inputs;
 use crate::model::Image;
-use crate::report::percent;
+use crate::report::{percent, percent_beside, target_decimals};
 use crate::solve::{ImageView, SetCache};
 use rayon::prelude::*;
 use semver::Version;
@@ -15,8 +15,9 @@ use std::fmt::Write;
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CoveragePoint {
     pub runtime: String,
-    /// Priority-weighted share of entries that resolve, in `[0, 1]`.
-    pub share: f64,
+    /// Priority-weighted share of entries that resolve, in `[0, 1]`; `None` (JSON `null`)
+    /// when every priority weight is zero.
+    pub share: Option<f64>,
     /// Entries that resolve here, in priority order.
     pub resolves: Vec<String>,
 }
@@ -146,8 +147,7 @@ pub fn coverage(
                 .fold(0.0, |sum, (e, _)| sum + e.weight);
             CoveragePoint {
                 runtime: v.to_string(),
-                // An all-zero weight list covers nothing rather than dividing by zero.
-                share: if total > 0.0 { weight / total } else { 0.0 },
+                share: super::matrix::weight_share(weight, total),
                 resolves: entries
                     .iter()
                     .zip(row)
@@ -177,11 +177,9 @@ pub fn coverage(
             }
         })
         .collect();
-    // A small tolerance so a share that is exactly the target in decimal is not missed by
-    // floating-point rounding of the weight sum.
     let oldest_reaching_target = points
         .iter()
-        .find(|p| p.share + 1e-9 >= target)
+        .find(|p| p.share.is_some_and(|share| reaches(share, target)))
         .map(|p| p.runtime.clone());
     Coverage {
         base_image: base.id.clone(),
@@ -194,6 +192,31 @@ pub fn coverage(
     }
 }
 
+/// Whether `share` counts as reaching `target`. A small tolerance, so a share that is exactly
+/// the target in decimal is not missed by floating-point rounding of the weight sum.
+pub fn reaches(share: f64, target: f64) -> bool {
+    share + 1e-9 >= target
+}
+
+/// A coverage as printed beside its target: with the places the target needs, and never
+/// looking equal to a target it misses.
+fn shown(share: Option<f64>, target: f64) -> String {
+    match share {
+        Some(share) => percent_beside(share, target, !reaches(share, target)),
+        None => "n/a".to_string(),
+    }
+}
+
+/// Whether no coverage of `c` can be computed: every priority weight is zero. Saying that no
+/// runtime reaches the target would send the reader to look for a better runtime.
+fn undefined(c: &Coverage) -> bool {
+    // One total divides every point, so the points are all defined or none is.
+    c.points.iter().any(|p| p.share.is_none())
+}
+
+/// Why [`undefined`] coverage has no numbers, as the text and the chart say it.
+const UNDEFINED: &str = "coverage by weight cannot be computed: every priority weight is zero";
+
 /// A readable table of coverage per runtime, with drop-outs and come-ins per step.
 pub fn coverage_text(c: &Coverage) -> String {
     let mut s = String::new();
@@ -203,7 +226,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         c.base_image,
         c.family,
         c.platform,
-        percent(c.target, 1)
+        percent(c.target, target_decimals(c.target))
     );
     let mut rows = vec![vec![
         "runtime".to_string(),
@@ -219,7 +242,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         };
         rows.push(vec![
             p.runtime.clone(),
-            percent(p.share, 1),
+            shown(p.share, c.target),
             list(step.map(|s| &s.drop_out)),
             list(step.map(|s| &s.come_in)),
         ]);
@@ -228,6 +251,9 @@ pub fn coverage_text(c: &Coverage) -> String {
     match &c.oldest_reaching_target {
         Some(v) => {
             let _ = writeln!(s, "oldest runtime reaching the target: {v}");
+        }
+        None if undefined(c) => {
+            let _ = writeln!(s, "{UNDEFINED}");
         }
         None => s.push_str("no candidate runtime reaches the target\n"),
     }
@@ -285,10 +311,10 @@ pub fn coverage_svg(c: &Coverage) -> String {
         );
         let _ = writeln!(
             s,
-            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\">{}%</text>",
+            "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\">{}</text>",
             L - 6.0,
             yy + 4.0,
-            k * 25
+            percent(share, 0)
         );
     }
     let _ = writeln!(
@@ -314,14 +340,26 @@ pub fn coverage_svg(c: &Coverage) -> String {
         "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {}</text>",
         L + pw,
         ty - 4.0,
-        percent(c.target, 1)
+        percent(c.target, target_decimals(c.target))
     );
-    if n > 1 {
-        let pts: Vec<String> = c
-            .points
+    if undefined(c) {
+        let _ = writeln!(
+            s,
+            "<text class=\"undefined\" x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">{UNDEFINED}</text>",
+            L + pw / 2.0,
+            T + ph / 2.0
+        );
+    }
+    let defined: Vec<(usize, f64)> = c
+        .points
+        .iter()
+        .enumerate()
+        .filter_map(|(i, p)| Some((i, p.share?)))
+        .collect();
+    if defined.len() > 1 {
+        let pts: Vec<String> = defined
             .iter()
-            .enumerate()
-            .map(|(i, p)| format!("{:.1},{:.1}", x(i), y(p.share)))
+            .map(|&(i, share)| format!("{:.1},{:.1}", x(i), y(share)))
             .collect();
         let _ = writeln!(
             s,
@@ -329,15 +367,17 @@ pub fn coverage_svg(c: &Coverage) -> String {
             pts.join(" ")
         );
     }
-    for (i, p) in c.points.iter().enumerate() {
+    for &(i, share) in &defined {
         let _ = writeln!(
             s,
             "<circle class=\"point\" cx=\"{:.1}\" cy=\"{:.1}\" r=\"4\" fill=\"#0072B2\"><title>{}: {}</title></circle>",
             x(i),
-            y(p.share),
-            crate::report::html::escape_html(&p.runtime),
-            percent(p.share, 1)
+            y(share),
+            crate::report::html::escape_html(&c.points[i].runtime),
+            shown(Some(share), c.target)
         );
+    }
+    for (i, p) in c.points.iter().enumerate() {
         let _ = writeln!(
             s,
             "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">{}</text>",

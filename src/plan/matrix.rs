@@ -604,8 +604,9 @@ pub struct ImageCounts {
     pub at_risk: usize,
     pub fails: usize,
     pub undecided: usize,
-    /// Share of the priority weight that resolves (cleanly or at risk).
-    pub weight_share: f64,
+    /// Share of the priority weight that resolves (cleanly or at risk); `None` (JSON `null`)
+    /// when every weight is zero.
+    pub weight_share: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -616,10 +617,18 @@ pub struct PackageCounts {
     pub images: usize,
 }
 
+/// `part` as a share of `total` priority weight, or `None` when the total is zero (every
+/// weight zero, which a list may declare): a share of nothing is undefined, and printing it
+/// as 0% would say that nothing resolves. Every share of priority weight is divided here.
+pub fn weight_share(part: f64, total: f64) -> Option<f64> {
+    (total > 0.0).then(|| part / total)
+}
+
 /// Summarises a full matrix.
 pub fn summarise(m: &Matrix) -> Summary {
     let total_weight: f64 = m.packages.iter().map(|p| p.weight).sum();
     let n = m.images.len();
+    let mut resolving = vec![0.0; n];
     let mut images: Vec<ImageCounts> = m
         .images
         .iter()
@@ -629,7 +638,7 @@ pub fn summarise(m: &Matrix) -> Summary {
             at_risk: 0,
             fails: 0,
             undecided: 0,
-            weight_share: 0.0,
+            weight_share: None,
         })
         .collect();
     let mut packages = Vec::new();
@@ -656,7 +665,7 @@ pub fn summarise(m: &Matrix) -> Summary {
                 Outcome::Undecided => ic.undecided += 1,
             }
             if cell.outcome.resolves() {
-                ic.weight_share += row.weight;
+                resolving[c] += row.weight;
             }
             if let Some(cause) = cell.cause {
                 *causes.entry(cause.as_str().to_string()).or_default() += 1;
@@ -664,12 +673,8 @@ pub fn summarise(m: &Matrix) -> Summary {
         }
         packages.push(pc);
     }
-    for ic in &mut images {
-        ic.weight_share = if total_weight > 0.0 {
-            ic.weight_share / total_weight
-        } else {
-            0.0
-        };
+    for (ic, part) in images.iter_mut().zip(resolving) {
+        ic.weight_share = weight_share(part, total_weight);
     }
     Summary {
         native_skipped: m.native_skipped,

@@ -248,7 +248,7 @@ pub fn html(m: &Matrix) -> String {
             escape_html(&img.family),
             k.installs + k.at_risk,
             m.packages.len(),
-            k.weight_share.map_or("n/a".to_string(), layout::percent),
+            layout::percent(k.weight_share),
         );
     }
     out.push_str("</tr>\n</tfoot>\n<tbody>\n");
@@ -510,7 +510,7 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
                 let _ = write!(
                     out,
                     "<strong>{}</strong> of priority weight resolves ({resolving} of {rows} packages)",
-                    layout::percent(share),
+                    layout::percent(Some(share)),
                 );
             }
             None => {

@@ -142,8 +142,8 @@ pub(crate) struct ColumnCounts {
     pub surprises: usize,
     pub unsettled: usize,
     pub agreed: usize,
-    /// Share of the priority weight that resolves (cleanly or at risk); `None` when the
-    /// weights do not add up to a positive number.
+    /// Share of the priority weight that resolves (cleanly or at risk); `None` when every
+    /// weight is zero.
     pub weight_share: Option<f64>,
 }
 
@@ -196,7 +196,7 @@ pub(crate) fn column_counts(m: &Matrix, grid: &[Vec<Option<(usize, &Cell)>>]) ->
                     resolving += w;
                 }
             }
-            k.weight_share = (total > 0.0).then(|| resolving / total);
+            k.weight_share = crate::plan::matrix::weight_share(resolving, total);
             k
         })
         .collect()
@@ -260,9 +260,9 @@ fn is_bidi_control(ch: char) -> bool {
     matches!(ch, '\u{200E}' | '\u{200F}' | '\u{061C}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}')
 }
 
-/// A share as a whole percentage, the same on every machine.
-pub(crate) fn percent(share: f64) -> String {
-    super::percent(share.clamp(0.0, 1.0), 0)
+/// A share as a whole percentage, the same on every machine; `n/a` when undefined.
+pub(crate) fn percent(share: Option<f64>) -> String {
+    super::percent_or_na(share.map(|s| s.clamp(0.0, 1.0)), 0)
 }
 
 #[cfg(test)]

@@ -195,7 +195,7 @@ pub fn markdown(m: &Matrix) -> String {
             k.at_risk,
             k.fails,
             k.undecided,
-            k.weight_share.map_or("n/a".to_string(), layout::percent),
+            layout::percent(k.weight_share),
         );
     }
     let recorded: usize = counts.iter().map(|k| k.recorded()).sum();

@@ -39,15 +39,71 @@ pub enum MatrixFormat {
 /// every share any command prints goes through here. Zero prints as `0.0%`, never `-0.0%`:
 /// a sum of no f64 values is negative zero (`Iterator::sum` starts there), and a share that
 /// rounds to zero from below is none either.
+///
+/// A share strictly between 0 and 1 never prints as 0% or 100%: it takes the nearest value
+/// the places can show inside (99.9% or 0.1% at one place, 99% or 1% at none). Rounded to
+/// 100%, one failing entry among heavy ones reads as an image where everything installs
+/// (common practice, no source).
 pub fn percent(share: f64, decimals: usize) -> String {
     if !share.is_finite() {
         return "n/a".to_string();
     }
-    let text = format!("{:.*}", decimals, share * 100.0);
+    let mut text = format!("{:.*}", decimals, share * 100.0);
+    if share > 0.0 && share < 1.0 {
+        let step = 0.1f64.powi(decimals as i32);
+        let shown: f64 = text.parse().unwrap_or(share * 100.0);
+        if shown >= 100.0 {
+            text = format!("{:.*}", decimals, 100.0 - step);
+        } else if shown <= 0.0 {
+            text = format!("{:.*}", decimals, step);
+        }
+    }
     match text.strip_prefix('-') {
         Some(digits) if digits.bytes().all(|b| b == b'0' || b == b'.') => format!("{digits}%"),
         _ => format!("{text}%"),
     }
+}
+
+/// A share that may be undefined (`None`: a share of zero total weight, a rate over no
+/// cells) as [`percent`] prints it, or `n/a`.
+pub fn percent_or_na(share: Option<f64>, decimals: usize) -> String {
+    share.map_or_else(|| "n/a".to_string(), |s| percent(s, decimals))
+}
+
+/// How many places a target share needs to print as itself (`--target 0.9753` is 97.53%, not
+/// 97.5%): at least one, at most nine, where a nearer value is past anything a user types.
+pub fn target_decimals(target: f64) -> usize {
+    (1..=9)
+        .find(|&d| {
+            let shown: f64 = format!("{:.*}", d, target * 100.0)
+                .parse()
+                .unwrap_or(f64::NAN);
+            (shown / 100.0 - target).abs() <= 1e-12
+        })
+        .unwrap_or(9)
+}
+
+/// A share printed beside the target it is measured against, with the target's places: one
+/// that `misses` the target never prints as the target or above it, so a row cannot read as
+/// meeting a target the report says no row meets. It takes more places until it prints below
+/// (97.529% beside a target of 97.53%).
+pub fn percent_beside(share: f64, target: f64, misses: bool) -> String {
+    let places = target_decimals(target);
+    if !misses || !share.is_finite() {
+        return percent(share, places);
+    }
+    let goal = percent(target, places);
+    let number = |text: &str| {
+        text.trim_end_matches('%')
+            .parse::<f64>()
+            .unwrap_or(f64::NAN)
+    };
+    // A miss lies more than the reaching tolerance (1e-9 of the share, 1e-7 percentage
+    // points) below the target, so twelve places always tell them apart.
+    (places..=12)
+        .map(|d| percent(share, d))
+        .find(|shown| number(shown) < number(&goal))
+        .unwrap_or_else(|| percent(share, 12))
 }
 
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an
@@ -173,5 +229,41 @@ mod tests {
         assert_eq!(percent(0.125, 1), "12.5%");
         assert_eq!(percent(1.0, 0), "100%");
         assert_eq!(percent(f64::NAN, 1), "n/a");
+    }
+
+    #[test]
+    fn shares_strictly_inside_never_print_as_all_or_nothing() {
+        // 2000 of 2001: one failing entry must not vanish into a rounded 100%.
+        assert_eq!(percent(2000.0 / 2001.0, 1), "99.9%");
+        assert_eq!(percent(2000.0 / 2001.0, 0), "99%");
+        assert_eq!(percent(1.0 / 2001.0, 1), "0.1%");
+        assert_eq!(percent(1.0 / 2001.0, 0), "1%");
+        assert_eq!(percent(0.9999999, 3), "99.999%");
+        assert_eq!(percent(1e-300, 2), "0.01%");
+        // Ends and shares that round inside stay as they are.
+        assert_eq!(percent(1.0, 1), "100.0%");
+        assert_eq!(percent(0.0, 0), "0%");
+        assert_eq!(percent(0.996, 1), "99.6%");
+        assert_eq!(percent(0.004, 1), "0.4%");
+    }
+
+    #[test]
+    fn a_target_prints_as_itself_and_a_miss_prints_below_it() {
+        assert_eq!(target_decimals(0.95), 1);
+        assert_eq!(target_decimals(1.0), 1);
+        assert_eq!(target_decimals(0.0), 1);
+        assert_eq!(target_decimals(0.9753), 2);
+        assert_eq!(target_decimals(0.123456), 4);
+        assert_eq!(percent(0.9753, target_decimals(0.9753)), "97.53%");
+        // Below the target at its places, rounding up to it, and far below.
+        assert_eq!(percent_beside(0.975, 0.9753, true), "97.50%");
+        assert_eq!(percent_beside(0.97529, 0.9753, true), "97.529%");
+        assert_eq!(percent_beside(0.9752999, 0.9753, true), "97.52999%");
+        assert_eq!(percent_beside(0.5, 0.9753, true), "50.00%");
+        // A share that reaches the target keeps the target's places.
+        assert_eq!(percent_beside(0.9753, 0.9753, false), "97.53%");
+        assert_eq!(percent_beside(1.0, 0.95, false), "100.0%");
+        // Below a target of 100%, the clamp already keeps a miss under it.
+        assert_eq!(percent_beside(2000.0 / 2001.0, 1.0, true), "99.9%");
     }
 }

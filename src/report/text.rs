@@ -205,7 +205,7 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
             i.at_risk.to_string(),
             i.fails.to_string(),
             i.undecided.to_string(),
-            super::percent(i.weight_share, 1),
+            super::percent_or_na(i.weight_share, 1),
         ]);
     }
     out.push_str(&table(&rows));
@@ -244,7 +244,7 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
                 b.package,
                 b.blocks.len(),
                 n_entries,
-                super::percent(b.blocked_share, 1),
+                super::percent_or_na(b.blocked_share, 1),
                 shown_reasons(&b.reasons)
             );
         }
@@ -582,7 +582,7 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         "installs or at-risk    {:<7} {}",
         c.missed_failures, c.true_installs
     );
-    let pct = |v: Option<f64>| v.map_or_else(|| "n/a".into(), |v| super::percent(v, 1));
+    let pct = |v: Option<f64>| super::percent_or_na(v, 1);
     let _ = writeln!(
         out,
         "failure predictions: precision {}, recall {}",
