@@ -277,6 +277,56 @@ fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
     );
 }
 
+/// A recorded result for a package the registry snapshot lacks is compared, not left out:
+/// its cell is predicted missing-from-registry, and an install there is the plainest sign
+/// of a snapshot older than the registry the install used. `check` still notes the name.
+#[test]
+fn a_result_for_a_package_the_snapshot_lacks_is_compared() {
+    // demo-data/priorities.yaml lists gidgee-auth, which demo-data/registry.yaml lacks.
+    let results = "results:\n  - {package: gidgee-auth, image: deb-2.4, outcome: installed, version: \"1.0.0\"}\n  - {package: gidgee-auth, image: deb-2.8, outcome: failed}\n  - {package: ghost, image: deb-3.2, outcome: installed}\n";
+    let (verdict, s) = suggestion_for(results, "gidgee-auth", "deb-2.4");
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("gidgee-auth is not in the registry snapshot, which may be older"),
+        "{s}"
+    );
+    let (verdict, _) = suggestion_for(results, "gidgee-auth", "deb-2.8");
+    assert_eq!(verdict, Verdict::AgreedFailure);
+
+    // Through the binary: ghost, in no priority list either, is planned as review plans every
+    // recorded package, and counted as used by check beside its note.
+    let dir = tempfile::tempdir().unwrap();
+    let path = common::write(dir.path(), "r.yaml", results.as_bytes());
+    let path = path.to_str().unwrap();
+    let mut args = vec!["review"];
+    args.extend(common::DEMO);
+    args.extend(["--results", path, "--quiet", "--max-surprises", "9"]);
+    let (code, stdout, stderr) = common::run_basefit(&args);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stdout.contains("ghost on deb-3.2: surprise-install (predicted fails, missing-from-registry; recorded installed)"),
+        "{stdout}"
+    );
+    let mut args = vec!["check"];
+    args.extend(common::DEMO);
+    args.extend(["--results", path, "--format", "json"]);
+    let (_, stdout, stderr) = common::run_basefit(&args);
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap_or_else(|_| panic!("{stderr}"));
+    let results = v["records"]
+        .as_array()
+        .and_then(|rows| rows.iter().find(|r| r[0] == "recorded results"))
+        .map(|r| r[1].clone());
+    assert_eq!(
+        results,
+        Some(serde_json::json!({"read": 3, "used": 3, "left_out": 0})),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("package `ghost` is not in the registry"),
+        "{stdout}"
+    );
+}
+
 #[test]
 fn rendered_and_json_reviews_carry_the_same_advice() {
     let dir = tempfile::tempdir().unwrap();

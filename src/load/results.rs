@@ -325,14 +325,14 @@ fn assemble(
                 .id(&package.value)
                 .is_none_or(|id| !registry.package(id).declared)
         }) {
-            ledger.leave_out(
-                RecordKind::Result,
+            // Kept: its cell is predicted missing-from-registry, and a recorded install there
+            // says the snapshot is older than the registry the install used.
+            ledger.note(
                 ProblemKind::UnknownPackage,
                 at(package.line),
-                subject,
+                subject.clone(),
                 format!("package `{}` is not in the registry", package.value),
             );
-            continue;
         }
         let version = match &r.version {
             None => None,
