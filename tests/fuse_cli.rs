@@ -150,3 +150,27 @@ fn a_source_with_no_rows_is_refused_at_its_header() {
         );
     }
 }
+
+/// A source row left out (no name) is listed on stderr and the run exits 1, as README's exit
+/// codes say: the list was written, but not from every row given.
+#[test]
+fn a_row_left_out_is_listed_and_exits_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let source = dir.path().join("gappy.csv");
+    std::fs::write(&source, "name,rank\nnumbat,1\n,2\nquokka,3\n").unwrap();
+    let out = dir.path().join("priorities.yaml");
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["fuse", "--source"])
+        .arg(&source)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(1), "{stderr}");
+    assert!(stderr.contains("gappy.csv:3"), "{stderr}");
+    let mut ledger = Ledger::default();
+    let list = read_priorities(&out, &mut ledger).unwrap();
+    let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
+    assert_eq!(names, ["numbat", "quokka"]);
+}
