@@ -161,6 +161,15 @@ fn explain_hints_agree_with_the_plan() {
         ),
         "{text}"
     );
+    // pixelmoss's entry asks for ^4 (demo-data/priorities.yaml); the release hint also tries
+    // 3.2.0, and a failing try of it is named as outside what the entry asks for.
+    let e = explain(&inputs, "pixelmoss", "alpine-2.6", &options).unwrap();
+    let text = explain_text(&e);
+    assert_eq!(e.release_hint.as_ref().unwrap().not_asked_for, ["3.2.0"]);
+    assert!(
+        text.contains("the entry as written does not ask for 3.2.0 (its requirement or pre-release setting rules it out)"),
+        "{text}"
+    );
     // saltbush on deb-2.4 (STORIES.md, story b): every release needs wattle-core 2.x, which
     // needs runtime 3.1 or newer.
     let e = explain(&inputs, "saltbush", "deb-2.4", &options).unwrap();

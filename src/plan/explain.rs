@@ -102,6 +102,11 @@ pub struct ReleaseHint {
     /// not.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub not_admitted: Option<NotAdmitted>,
+    /// The releases tried that the entry as written does not ask for (outside its requirement,
+    /// or a pre-release it does not allow), in trial order: a failing try among them says
+    /// nothing about what the entry itself would install.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub not_asked_for: Vec<String>,
 }
 
 /// Why the entry as written does not ask for a release the hint found.
@@ -219,6 +224,7 @@ fn release_hint(
         trials: Vec::new(),
         untried: 0,
         not_admitted: None,
+        not_asked_for: Vec::new(),
     };
     let Some(root) = registry.id(&entry.name) else {
         return hint;
@@ -228,8 +234,14 @@ fn release_hint(
         .rev()
         .filter(|&i| !releases[i].yanked)
         .collect();
+    let any = crate::model::Requirement::any();
+    let req = entry.req.as_ref().unwrap_or(&any);
+    let asked_for = root_set(registry, root, req, entry.prerelease);
     let mut found = None;
     for &i in candidates.iter().take(OLDER_RELEASES_TRIED) {
+        if !asked_for.contains(&(i as u32)) {
+            hint.not_asked_for.push(releases[i].version.to_string());
+        }
         // Pinned by index: a requirement such as `=2.3.0+2` also admits 2.3.0+1 (matching
         // ignores build metadata), so the hint could name a release that does not resolve.
         let trial = Trial::of(
@@ -245,13 +257,9 @@ fn release_hint(
     }
     hint.untried = candidates.len() - hint.trials.len();
     if let Some(i) = found {
-        let any = crate::model::Requirement::any();
-        let req = entry.req.as_ref().unwrap_or(&any);
-        let admits =
-            |prerelease: bool| root_set(registry, root, req, prerelease).contains(&(i as u32));
-        hint.not_admitted = if admits(entry.prerelease) {
+        hint.not_admitted = if asked_for.contains(&(i as u32)) {
             None
-        } else if admits(true) {
+        } else if root_set(registry, root, req, true).contains(&(i as u32)) {
             Some(NotAdmitted::Prerelease)
         } else {
             Some(NotAdmitted::Requirement(req.text.clone()))

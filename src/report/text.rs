@@ -529,6 +529,13 @@ fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
     } else {
         "install"
     };
+    if !h.not_asked_for.is_empty() {
+        out.push(format!(
+            "the entry as written does not ask for {} (its requirement or pre-release setting rules {} out)",
+            h.not_asked_for.join(", "),
+            if h.not_asked_for.len() == 1 { "it" } else { "them" }
+        ));
+    }
     out.push(match (undecided.is_empty(), only) {
         (true, true) => format!("its only release does not {verb} on this image"),
         (true, false) => format!("none of {scope} {verb}s on this image"),
