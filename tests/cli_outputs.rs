@@ -478,8 +478,9 @@ fn imageplan_runtimes_read_as_images_do_and_repeat_no_precedence() {
 /// gumleaf (installs everywhere) with weight `installs`, gidgee-auth (in no registry, fails
 /// everywhere) with weight `fails`.
 fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
-    demo_with_list(
+    common::demo_replacing(
         dir,
+        "--priorities",
         &format!(
             "priorities:\n  - {{name: gumleaf, weight: {installs}}}\n  - {{name: gidgee-auth, weight: {fails}}}\n"
         ),
@@ -487,18 +488,25 @@ fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
 }
 
 /// The demo registry and images with the priority list `yaml` written into `dir`.
-fn demo_with_list(dir: &Path, yaml: &str) -> Vec<String> {
-    let list = common::write(dir, "p.yaml", yaml);
-    [
-        "--registry",
-        "demo-data/registry.yaml",
-        "--images",
-        "matrices/demo-images.yaml",
-        "--priorities",
-        list.to_str().unwrap(),
-    ]
-    .map(str::to_string)
-    .to_vec()
+
+/// `imageplan` of deb-2.4 on `inputs` at `target`, its chart written under `dir`: the table
+/// it prints and the chart.
+fn coverage_of_deb_2_4(dir: &Path, inputs: &[String], target: &str) -> (String, String) {
+    let chart = dir.join("chart");
+    let table = stdout_of(
+        &["imageplan"],
+        inputs,
+        &[
+            "--image",
+            "deb-2.4",
+            "--target",
+            target,
+            "--out",
+            chart.to_str().unwrap(),
+        ],
+    );
+    let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
+    (table, svg)
 }
 
 /// Runs `command` on `inputs` with `extra`, expecting exit 0 or 1; returns stdout.
@@ -539,24 +547,11 @@ fn a_share_strictly_inside_never_prints_as_all_or_nothing() {
             10
         );
 
-        let chart = dir.path().join("chart");
-        let coverage = stdout_of(
-            &["imageplan"],
-            &inputs,
-            &[
-                "--image",
-                "deb-2.4",
-                "--target",
-                "1",
-                "--out",
-                chart.to_str().unwrap(),
-            ],
-        );
+        let (coverage, svg) = coverage_of_deb_2_4(dir.path(), &inputs, "1");
         assert!(coverage.contains("target 100.0%\n"), "{coverage}");
         let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
         assert!(row.contains(&format!(" {text} ")), "{row}");
         assert!(coverage.contains("no candidate runtime reaches the target"));
-        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
         assert!(
             svg.contains(&format!("<title>2.4.9: {text}</title>")),
             "{svg}"
@@ -572,24 +567,11 @@ fn a_coverage_below_the_target_never_prints_as_the_target() {
     for (installs, fails, shown) in [(3900, 100, "97.50%"), (97529, 2471, "97.529%")] {
         let dir = tempfile::tempdir().unwrap();
         let inputs = two_entry_demo(dir.path(), installs, fails);
-        let chart = dir.path().join("chart");
-        let coverage = stdout_of(
-            &["imageplan"],
-            &inputs,
-            &[
-                "--image",
-                "deb-2.4",
-                "--target",
-                "0.9753",
-                "--out",
-                chart.to_str().unwrap(),
-            ],
-        );
+        let (coverage, svg) = coverage_of_deb_2_4(dir.path(), &inputs, "0.9753");
         assert!(coverage.contains("target 97.53%\n"), "{coverage}");
         let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
         assert!(row.contains(&format!(" {shown} ")), "{row}");
         assert!(coverage.contains("no candidate runtime reaches the target"));
-        let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
         assert!(svg.contains(">target 97.53%</text>"), "{svg}");
         assert!(
             svg.contains(&format!("<title>2.4.9: {shown}</title>")),
@@ -606,8 +588,9 @@ fn a_coverage_below_the_target_never_prints_as_the_target() {
 fn an_all_zero_weight_list_has_no_share_anywhere() {
     let dir = tempfile::tempdir().unwrap();
     // dunecart-deploy fails everywhere through a dependency, so it has a shared blocker.
-    let inputs = demo_with_list(
+    let inputs = common::demo_replacing(
         dir.path(),
+        "--priorities",
         "priorities:\n  - {name: gumleaf, weight: 0}\n  - {name: dunecart-deploy, weight: 0}\n",
     );
     let list = inputs[5].clone();

@@ -30,18 +30,22 @@ pub const DEMO: [&str; 6] = [
 /// `images_yaml` instead of the demo's images, as command-line flags.
 #[allow(dead_code)] // Not every test file that shares this module runs the demo.
 pub fn demo_on_images(dir: &std::path::Path, images_yaml: &str) -> Vec<String> {
-    let images = dir.join("images.yaml");
-    std::fs::write(&images, images_yaml).unwrap();
-    [
-        "--registry",
-        "demo-data/registry.yaml",
-        "--priorities",
-        "demo-data/priorities.yaml",
-        "--images",
-        images.to_str().unwrap(),
-    ]
-    .map(str::to_string)
-    .to_vec()
+    demo_replacing(dir, "--images", images_yaml)
+}
+
+/// The demo's input flags with the file of `flag` (`--images`, `--priorities`) replaced by
+/// one holding `yaml`, written into `dir`.
+#[allow(dead_code)] // Not every test file that shares this module runs the demo.
+pub fn demo_replacing(dir: &std::path::Path, flag: &str, yaml: &str) -> Vec<String> {
+    let name = format!("{}.yaml", flag.trim_start_matches('-'));
+    let path = write(dir, &name, yaml);
+    let mut flags: Vec<String> = DEMO.map(str::to_string).to_vec();
+    let at = flags
+        .iter()
+        .position(|f| f == flag)
+        .unwrap_or_else(|| panic!("the demo gives no {flag}"));
+    flags[at + 1] = path.to_str().unwrap().to_string();
+    flags
 }
 
 /// Runs the built `basefit` with `args`; returns (exit code, stdout, stderr). A panic fails
