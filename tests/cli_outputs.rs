@@ -487,8 +487,6 @@ fn two_entry_demo(dir: &Path, installs: u32, fails: u32) -> Vec<String> {
     )
 }
 
-/// The demo registry and images with the priority list `yaml` written into `dir`.
-
 /// `imageplan` of deb-2.4 on `inputs` at `target`, its chart written under `dir`: the table
 /// it prints and the chart.
 fn coverage_of_deb_2_4(dir: &Path, inputs: &[String], target: &str) -> (String, String) {
