@@ -624,12 +624,7 @@ fn an_all_zero_weight_list_has_no_share_anywhere() {
         10
     );
 
-    let chart = dir.path().join("chart");
-    let coverage = stdout_of(
-        &["imageplan"],
-        &inputs,
-        &["--image", "deb-2.4", "--out", chart.to_str().unwrap()],
-    );
+    let (coverage, svg) = coverage_of_deb_2_4(dir.path(), &inputs, "0.95");
     let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
     assert!(row.contains(" n/a "), "{row}");
     assert!(
@@ -637,7 +632,6 @@ fn an_all_zero_weight_list_has_no_share_anywhere() {
         "{coverage}"
     );
     assert!(!coverage.contains("reaches the target"), "{coverage}");
-    let svg = std::fs::read_to_string(chart.join("coverage.svg")).unwrap();
     assert!(
         !svg.contains("<circle"),
         "no point stands for an undefined share"
