@@ -214,67 +214,75 @@ fn suggestion_for(results: &str, package: &str, image: &str) -> (Verdict, String
 
 #[test]
 fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
-    // demo-data/registry.yaml: wattle-core 2.2.1 declares runtime >=3.1 and deb-2.4 runs
-    // 2.4.9 (matrices/demo-images.yaml), so the drift proves one of the two wrong; the
-    // snapshot holds 2.2.1 and is not the one to blame.
-    let (verdict, s) = suggestion_for(
-        "results:\n  - {package: wattle-core, image: deb-2.4, outcome: installed, version: \"2.2.1\"}\n",
-        "wattle-core",
-        "deb-2.4",
-    );
-    assert_eq!(verdict, Verdict::Drift);
-    assert!(
-        s.contains("2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet: the requirement or the image declaration is wrong")
-            && !s.contains("older"),
-        "{s}"
-    );
-    // spadefoot-compat has no 9.0.0: only a version the snapshot lacks points at its age.
-    let (verdict, s) = suggestion_for(
-        "results:\n  - {package: spadefoot-compat, image: deb-3.2, outcome: installed, version: \"9.0.0\"}\n",
-        "spadefoot-compat",
-        "deb-3.2",
-    );
-    assert_eq!(verdict, Verdict::SurpriseInstall);
-    assert!(
-        s.contains("9.0.0 is not in the registry snapshot, which may be older")
-            && !s.contains("stricter than reality"),
-        "{s}"
-    );
-    // tuart-vec 0.6.1 has no source build and a prebuilt build for linux/glibc/x86_64 only.
-    let (verdict, s) = suggestion_for(
-        "results:\n  - {package: tuart-vec, image: deb-3.2-arm64, outcome: installed, version: \"0.6.1\"}\n",
-        "tuart-vec",
-        "deb-3.2-arm64",
-    );
-    assert_eq!(verdict, Verdict::SurpriseInstall);
-    assert!(
-        s.contains("0.6.1 is in the snapshot but has neither a source build nor a prebuilt build for linux/glibc/aarch64"),
-        "{s}"
-    );
-    // currawong 1.6.0 is yanked; 1.5.4 is predicted.
-    let (verdict, s) = suggestion_for(
-        "results:\n  - {package: currawong, image: deb-2.4, outcome: installed, version: \"1.6.0\"}\n",
-        "currawong",
-        "deb-2.4",
-    );
-    assert_eq!(verdict, Verdict::Drift);
-    assert!(
-        s.contains("1.6.0 is in the snapshot but yanked") && !s.contains("older"),
-        "{s}"
-    );
-    // mangrove-report 1.1.0 suits deb-2.4 (no runtime requirement, a source build): what the
-    // plan refused lies in its dependencies.
-    let (verdict, s) = suggestion_for(
-        "results:\n  - {package: mangrove-report, image: deb-2.4, outcome: installed, version: \"1.1.0\"}\n",
-        "mangrove-report",
-        "deb-2.4",
-    );
-    assert_eq!(verdict, Verdict::SurpriseInstall);
-    assert!(
-        s.contains("1.1.0 is in the snapshot and suits deb-2.4")
-            && s.contains("basefit explain mangrove-report deb-2.4"),
-        "{s}"
-    );
+    // (package, image, installed version, verdict, wanted in the advice, not wanted there)
+    let cases = [
+        // demo-data/registry.yaml: wattle-core 2.2.1 declares runtime >=3.1 and deb-2.4 runs
+        // 2.4.9 (matrices/demo-images.yaml), so the drift proves one of the two wrong; the
+        // snapshot holds 2.2.1 and is not the one to blame.
+        (
+            "wattle-core",
+            "deb-2.4",
+            "2.2.1",
+            Verdict::Drift,
+            vec![
+                "2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet: the requirement or the image declaration is wrong",
+            ],
+            "older",
+        ),
+        // spadefoot-compat has no 9.0.0: only a version the snapshot lacks points at its age.
+        (
+            "spadefoot-compat",
+            "deb-3.2",
+            "9.0.0",
+            Verdict::SurpriseInstall,
+            vec!["9.0.0 is not in the registry snapshot, which may be older"],
+            "stricter than reality",
+        ),
+        // tuart-vec 0.6.1 has no source build and a prebuilt build for linux/glibc/x86_64 only.
+        (
+            "tuart-vec",
+            "deb-3.2-arm64",
+            "0.6.1",
+            Verdict::SurpriseInstall,
+            vec![
+                "0.6.1 is in the snapshot but has neither a source build nor a prebuilt build for linux/glibc/aarch64",
+            ],
+            "older",
+        ),
+        // currawong 1.6.0 is yanked; 1.5.4 is predicted.
+        (
+            "currawong",
+            "deb-2.4",
+            "1.6.0",
+            Verdict::Drift,
+            vec!["1.6.0 is in the snapshot but yanked"],
+            "older",
+        ),
+        // mangrove-report 1.1.0 suits deb-2.4 (no runtime requirement, a source build): what
+        // the plan refused lies in its dependencies.
+        (
+            "mangrove-report",
+            "deb-2.4",
+            "1.1.0",
+            Verdict::SurpriseInstall,
+            vec![
+                "1.1.0 is in the snapshot and suits deb-2.4",
+                "basefit explain mangrove-report deb-2.4",
+            ],
+            "older",
+        ),
+    ];
+    for (package, image, version, verdict, wanted, unwanted) in cases {
+        let results = format!(
+            "results:\n  - {{package: {package}, image: {image}, outcome: installed, version: \"{version}\"}}\n"
+        );
+        let (got, s) = suggestion_for(&results, package, image);
+        assert_eq!(got, verdict, "{package} on {image}: {s}");
+        for w in wanted {
+            assert!(s.contains(w), "wanted {w} in {s}");
+        }
+        assert!(!s.contains(unwanted), "{unwanted} in {s}");
+    }
 }
 
 /// A recorded result for a package the registry snapshot lacks is compared, not left out:
