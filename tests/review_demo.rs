@@ -344,25 +344,20 @@ fn rendered_and_json_reviews_carry_the_same_advice() {
         "results:\n  - {package: wattle-core, image: deb-2.4, outcome: installed, version: \"2.2.1\"}\n",
     );
     let want = "2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet";
-    let (code, out, err) = common::run_basefit(["review"].into_iter().chain(common::DEMO).chain([
-        "--format",
-        "json",
-        "--results",
-        results.to_str().unwrap(),
-    ]));
-    assert_eq!(code, 0, "{err}");
-    assert!(out.contains(want), "{out}");
-    let (code, out, err) = common::run_basefit(["render"].into_iter().chain(common::DEMO).chain([
-        "--format",
-        "json",
-        "--results",
-        results.to_str().unwrap(),
-    ]));
-    assert_eq!(code, 0, "{err}");
-    assert!(
-        out.contains(want) && !out.contains("snapshot may be older"),
-        "{out}"
-    );
+    for command in ["review", "render"] {
+        let (code, out, err) =
+            common::run_basefit([command].into_iter().chain(common::DEMO).chain([
+                "--format",
+                "json",
+                "--results",
+                results.to_str().unwrap(),
+            ]));
+        assert_eq!(code, 0, "{command}: {err}");
+        assert!(
+            out.contains(want) && !out.contains("snapshot may be older"),
+            "{command}: {out}"
+        );
+    }
 }
 
 #[test]
