@@ -84,3 +84,45 @@ fn the_same_fuse_source_twice_is_refused() {
     let (code, err) = run_in(dir.path(), &args(&["downloads.csv", &usage]));
     assert_ne!(code, 2, "{err}");
 }
+
+/// A hard link and a symbolic link share no spelling with the file they name, yet read it:
+/// both are refused as the file given twice. A path that does not open is left to the reader,
+/// which says it cannot read it, rather than called a repeat.
+#[cfg(unix)]
+#[test]
+fn links_to_one_results_file_are_that_file() {
+    let (dir, _) = copy_into_temp("demo-data/results.yaml", "r.yaml");
+    std::fs::hard_link(dir.path().join("r.yaml"), dir.path().join("hard.yaml")).unwrap();
+    std::os::unix::fs::symlink("r.yaml", dir.path().join("soft.yaml")).unwrap();
+    let check = |a: &str, b: &str| {
+        let mut args = vec!["check".to_string()];
+        args.extend(
+            [
+                "--registry",
+                &absolute("demo-data/registry.yaml"),
+                "--results",
+                a,
+                "--results",
+                b,
+            ]
+            .map(String::from),
+        );
+        run_in(dir.path(), &args)
+    };
+    for link in ["hard.yaml", "soft.yaml"] {
+        let (code, err) = check("r.yaml", link);
+        assert_eq!(code, 2, "{link}: {err}");
+        assert!(
+            err.contains(&format!(
+                "{link}: given twice as --results (first as r.yaml)"
+            )),
+            "{link}: {err}"
+        );
+    }
+    let (code, err) = check("gone.yaml", "gone.yaml");
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        !err.contains("given twice") && err.contains("gone.yaml"),
+        "{err}"
+    );
+}

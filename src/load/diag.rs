@@ -100,8 +100,9 @@ impl std::error::Error for BadInput {}
 
 /// Refuses a file given more than once to a repeatable flag: read twice, its records would
 /// count twice (for results, every one a retry of itself) with nothing to show for it.
-/// Paths are compared as the file system resolves them, so `./r.yaml` and `r.yaml` are one
-/// file; a path that does not resolve is compared as written and left to its reader to report.
+/// Files are compared as the file system knows them, so `./r.yaml`, `r.yaml`, a symbolic link
+/// to it and (on Unix) a hard link are one file; a path that does not open is left to its
+/// reader to report.
 ///
 /// ```
 /// use basefit::load::diag::refuse_repeated;
@@ -115,9 +116,11 @@ impl std::error::Error for BadInput {}
 /// assert!(refuse_repeated(&[a], "--source", "read twice").is_ok());
 /// ```
 pub fn refuse_repeated(paths: &[PathBuf], flag: &str, why: &str) -> Result<(), BadInput> {
-    let mut seen: Vec<(PathBuf, &PathBuf)> = Vec::new();
+    let mut seen: Vec<(FileIdentity, &PathBuf)> = Vec::new();
     for path in paths {
-        let resolved = std::fs::canonicalize(path).unwrap_or_else(|_| path.clone());
+        let Some(resolved) = FileIdentity::of(path) else {
+            continue;
+        };
         if let Some((_, first)) = seen.iter().find(|(r, _)| *r == resolved) {
             let also = if *first == path {
                 String::new()
@@ -132,6 +135,31 @@ pub fn refuse_repeated(paths: &[PathBuf], flag: &str, why: &str) -> Result<(), B
         seen.push((resolved, path));
     }
     Ok(())
+}
+
+/// What makes two paths one file: a device and inode where the platform has them (hard
+/// links share them and have no path in common), else the resolved path.
+#[derive(PartialEq, Eq)]
+enum FileIdentity {
+    #[cfg(unix)]
+    Inode(u64, u64),
+    #[cfg(not(unix))]
+    Path(PathBuf),
+}
+
+impl FileIdentity {
+    fn of(path: &Path) -> Option<FileIdentity> {
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::MetadataExt;
+            let meta = std::fs::metadata(path).ok()?;
+            Some(FileIdentity::Inode(meta.dev(), meta.ino()))
+        }
+        #[cfg(not(unix))]
+        {
+            std::fs::canonicalize(path).ok().map(FileIdentity::Path)
+        }
+    }
 }
 
 /// Reads a whole input file as UTF-8 text, naming the file in the error.
