@@ -271,6 +271,24 @@ fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
             ],
             "older",
         ),
+        // Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10):
+        // 1.4.2+b is the snapshot's gumleaf 1.4.2, and 2.2.1+x its wattle-core 2.2.1.
+        (
+            "gumleaf",
+            "deb-2.8",
+            "1.4.2+b",
+            Verdict::Drift,
+            vec!["1.4.2+b and 1.4.2 differ only in build metadata"],
+            "not in the registry snapshot",
+        ),
+        (
+            "wattle-core",
+            "deb-2.4",
+            "2.2.1+x",
+            Verdict::Drift,
+            vec!["2.2.1+x (the snapshot's 2.2.1) is in the snapshot but declares runtime >=3.1"],
+            "not in the registry snapshot",
+        ),
     ];
     for (package, image, version, verdict, wanted, unwanted) in cases {
         let results = format!(

@@ -354,4 +354,19 @@ impl Registry {
             .binary_search_by(|r| r.version.cmp(version))
             .ok()
     }
+
+    /// [`Registry::find_release`], or else the first release of the same precedence: build
+    /// metadata does not count in precedence (Semantic Versioning 2.0.0, section 10), so an
+    /// install recording `1.4.2+b` took the release the snapshot lists as `1.4.2`, built
+    /// otherwise. Releases are sorted by version, so those of one precedence stand together.
+    pub fn find_release_by_precedence(&self, id: PackageId, version: &Version) -> Option<usize> {
+        self.find_release(id, version).or_else(|| {
+            let releases = &self.package(id).releases;
+            let at = releases.partition_point(|r| r.version.cmp_precedence(version).is_lt());
+            releases
+                .get(at)
+                .filter(|r| r.version.cmp_precedence(version).is_eq())
+                .map(|_| at)
+        })
+    }
 }

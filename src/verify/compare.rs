@@ -236,7 +236,7 @@ pub fn standing(
             package_known: false,
         };
     };
-    let Some(index) = registry.find_release(id, version) else {
+    let Some(index) = registry.find_release_by_precedence(id, version) else {
         return Standing::NotInSnapshot {
             package_known: true,
         };
@@ -245,6 +245,11 @@ pub fn standing(
         return Standing::Unknown;
     };
     let release = &registry.package(id).releases[index];
+    // Found by precedence alone: say which release of the snapshot the sentence is about.
+    let version = match release.version == *version {
+        true => version.to_string(),
+        false => format!("{version} (the snapshot's {})", release.version),
+    };
     // The runtime and platform are judged before the yank flag: an install that took a
     // release the image refuses proves that refusal wrong, which matters more than a yank.
     let reason = match crate::solve::image::release_fit(registry, image, release) {
@@ -382,6 +387,9 @@ fn drift_step(
             Some(std::cmp::Ordering::Less) => {
                 "something held the install back: a lock file, a pin, or a registry mirror behind the snapshot".into()
             }
+            None if *standing == Standing::Admitted => format!(
+                "{installed} and {predicted} differ only in build metadata, which does not count in precedence (Semantic Versioning 2.0.0, section 10): the same release, built otherwise; check which build the registry served"
+            ),
             _ => "the snapshot and the install disagree on the version".into(),
         },
     };
