@@ -417,6 +417,24 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
     );
     let cut = demo_images.find("  - id: el9-3.2").unwrap();
     let removed = common::write(dir.path(), "removed.yaml", &demo_images[..cut]);
+    // deb-3.2-slim keeps libpq-dev (the last of its `remove:` list): native outcomes were
+    // judged without it.
+    let repacked = common::write(
+        dir.path(),
+        "repacked.yaml",
+        demo_images.replacen(
+            "      - libpq-dev\n\n  # Same packages",
+            "\n  # Same packages",
+            1,
+        ),
+    );
+    // Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10):
+    // 2.4.9+deb1 admits what 2.4.9 admits, so the matrix still stands.
+    let rebuilt = common::write(
+        dir.path(),
+        "rebuilt.yaml",
+        demo_images.replacen("runtime: 2.4.9", "runtime: 2.4.9+deb1", 1),
+    );
     let run = |command: &str, images: &std::path::Path| {
         common::run_basefit([
             command,
@@ -450,8 +468,17 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
             )) && err.contains("planned from other images"),
             "{command}: {err}"
         );
-        // The images the matrix was planned from are accepted.
-        let (code, _, err) = run(command, std::path::Path::new("matrices/demo-images.yaml"));
-        assert_ne!(code, 2, "{command}: {err}");
+        let (code, _, err) = run(command, &repacked);
+        assert_eq!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains("image deb-3.2-slim differs from the matrix's record of it (system packages: libpq-dev added here)"),
+            "{command}: {err}"
+        );
+        // The images the matrix was planned from are accepted, and so is a runtime that
+        // differs only in build metadata.
+        for images in [std::path::Path::new("matrices/demo-images.yaml"), &rebuilt] {
+            let (code, _, err) = run(command, images);
+            assert_ne!(code, 2, "{command} {}: {err}", images.display());
+        }
     }
 }

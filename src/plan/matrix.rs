@@ -152,6 +152,11 @@ pub struct ImageColumn {
     pub family: String,
     pub platform: String,
     pub toolchain: bool,
+    /// The system packages the image declares, sorted: native outcomes were judged against
+    /// them, so `review --matrix` can tell an images file edited since the plan. Absent in
+    /// matrices written before the field existed, which are then not checked for it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub packages: Option<Vec<String>>,
 }
 
 impl ImageColumn {
@@ -163,6 +168,7 @@ impl ImageColumn {
             family: image.family.to_string(),
             platform: image.platform.to_string(),
             toolchain: image.toolchain,
+            packages: Some(image.system_packages.iter().cloned().collect()),
         }
     }
 
@@ -178,15 +184,31 @@ impl ImageColumn {
     ///     family: "debian".into(),
     ///     platform: "linux/glibc/x86_64".into(),
     ///     toolchain: true,
+    ///     packages: Some(vec!["libpq5".into()]),
     /// };
     /// let now = ImageColumn { runtime: "2.6.0".into(), ..planned.clone() };
     /// assert_eq!(planned.differences(&now), ["runtime 2.6.0 here, 2.4.9 in the matrix"]);
     /// assert!(planned.differences(&planned).is_empty());
+    /// // Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10).
+    /// let rebuilt = ImageColumn { runtime: "2.4.9+deb1".into(), ..planned.clone() };
+    /// assert!(planned.differences(&rebuilt).is_empty());
+    /// let more = ImageColumn { packages: Some(vec!["libpq-dev".into(), "libpq5".into()]), ..planned.clone() };
+    /// assert_eq!(planned.differences(&more), ["system packages: libpq-dev added here"]);
     /// ```
     pub fn differences(&self, image: &ImageColumn) -> Vec<String> {
         let mut out = Vec::new();
+        // Runtimes of one precedence admit the same releases: those plan alike.
+        let same_precedence = semver::Version::parse(&image.runtime)
+            .ok()
+            .zip(semver::Version::parse(&self.runtime).ok())
+            .is_some_and(|(a, b)| a.cmp_precedence(&b).is_eq());
+        if !same_precedence && image.runtime != self.runtime {
+            out.push(format!(
+                "runtime {} here, {} in the matrix",
+                image.runtime, self.runtime
+            ));
+        }
         for (field, here, planned) in [
-            ("runtime", &image.runtime, &self.runtime),
             ("family", &image.family, &self.family),
             ("platform", &image.platform, &self.platform),
         ] {
@@ -199,6 +221,25 @@ impl ImageColumn {
                 "toolchain {} here, {} in the matrix",
                 image.toolchain, self.toolchain
             ));
+        }
+        if let (Some(here), Some(planned)) = (&image.packages, &self.packages) {
+            let not_in = |list: &[String], other: &[String]| -> Vec<String> {
+                list.iter()
+                    .filter(|p| !other.contains(p))
+                    .cloned()
+                    .collect()
+            };
+            let (added, removed) = (not_in(here, planned), not_in(planned, here));
+            let mut parts = Vec::new();
+            if !added.is_empty() {
+                parts.push(format!("{} added here", added.join(" ")));
+            }
+            if !removed.is_empty() {
+                parts.push(format!("{} removed here", removed.join(" ")));
+            }
+            if !parts.is_empty() {
+                out.push(format!("system packages: {}", parts.join(", ")));
+            }
         }
         out
     }
@@ -297,6 +338,7 @@ impl Matrix {
     ///     family: "debian".into(),
     ///     platform: "linux/glibc/x86_64".into(),
     ///     toolchain: true,
+    ///     packages: None,
     /// });
     /// // One row and one column, but no cell for them.
     /// assert!(m.check_layout().unwrap_err().contains("0 cells for 1 package rows"));
