@@ -4,7 +4,7 @@
 use super::matrix::{PlanOptions, plan_cell};
 use crate::load::Inputs;
 use crate::model::Image;
-use crate::report::{percent, percent_beside, target_decimals};
+use crate::report::{percent, percent_beside, target_percent};
 use crate::solve::{ImageView, SetCache};
 use rayon::prelude::*;
 use semver::Version;
@@ -226,7 +226,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         c.base_image,
         c.family,
         c.platform,
-        percent(c.target, target_decimals(c.target))
+        target_percent(c.target)
     );
     let mut rows = vec![vec![
         "runtime".to_string(),
@@ -340,7 +340,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
         "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"end\" fill=\"#D55E00\">target {}</text>",
         L + pw,
         ty - 4.0,
-        percent(c.target, target_decimals(c.target))
+        target_percent(c.target)
     );
     if undefined(c) {
         let _ = writeln!(

@@ -58,6 +58,21 @@ pub fn percent(share: f64, decimals: usize) -> String {
             text = format!("{:.*}", decimals, step);
         }
     }
+    unsigned(text)
+}
+
+/// A threshold the user gave (`imageplan --target`) as a percentage with the places it needs
+/// ([`target_decimals`]). Not a share of anything, so none of [`percent`]'s pull inside:
+/// `--target 1` is 100%.
+pub fn target_percent(target: f64) -> String {
+    if !target.is_finite() {
+        return "n/a".to_string();
+    }
+    unsigned(format!("{:.*}", target_decimals(target), target * 100.0))
+}
+
+/// `text` with a `%`, and without the sign of a negative zero.
+fn unsigned(text: String) -> String {
     match text.strip_prefix('-') {
         Some(digits) if digits.bytes().all(|b| b == b'0' || b == b'.') => format!("{digits}%"),
         _ => format!("{text}%"),
@@ -89,10 +104,19 @@ pub fn target_decimals(target: f64) -> usize {
 /// (97.529% beside a target of 97.53%).
 pub fn percent_beside(share: f64, target: f64, misses: bool) -> String {
     let places = target_decimals(target);
-    if !misses || !share.is_finite() {
+    let goal = target_percent(target);
+    if !share.is_finite() {
         return percent(share, places);
     }
-    let goal = percent(target, places);
+    if !misses {
+        // Within the reaching tolerance below the target, it reached it: printing it below
+        // (99.9% beside a target of 100%) would contradict the verdict.
+        return if share < target {
+            goal
+        } else {
+            percent(share, places)
+        };
+    }
     let number = |text: &str| {
         text.trim_end_matches('%')
             .parse::<f64>()
@@ -265,5 +289,14 @@ mod tests {
         assert_eq!(percent_beside(1.0, 0.95, false), "100.0%");
         // Below a target of 100%, the clamp already keeps a miss under it.
         assert_eq!(percent_beside(2000.0 / 2001.0, 1.0, true), "99.9%");
+        // A target is no share: nothing pulls it inside, at either end.
+        assert_eq!(target_percent(1.0), "100.0%");
+        assert_eq!(target_percent(0.9999999999999), "100.0%");
+        assert_eq!(target_percent(1e-12), "0.0%");
+        assert_eq!(target_percent(0.9753), "97.53%");
+        // Reaching by the tolerance of `coverage::reaches`, a share prints as the target,
+        // not below it.
+        assert_eq!(percent_beside(1.0 - 1e-10, 1.0, false), "100.0%");
+        assert_eq!(percent_beside(0.9999, 0.9999999999999, true), "99.9%");
     }
 }
