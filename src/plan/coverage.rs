@@ -60,7 +60,8 @@ pub fn declared_runtimes(inputs: &Inputs) -> Vec<Version> {
 
 /// Sorts `runtimes` oldest first and keeps one of each precedence: build metadata does not
 /// count in precedence (Semantic Versioning 2.0.0, section 10), so `3.1.2+x` admits exactly
-/// what `3.1.2` admits and would only repeat its row. The one kept has the least metadata.
+/// what `3.1.2` admits and would only repeat its row. The one kept sorts first (a bare
+/// version before any with metadata).
 ///
 /// ```
 /// let mut v: Vec<semver::Version> = ["3.1.2+x", "2.8.1", "3.1.2"]

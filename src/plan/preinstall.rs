@@ -95,8 +95,14 @@ pub fn preinstall(
             });
             continue;
         }
-        // plan_cell resolved it, so the package is declared in the registry.
+        // plan_cell resolved it, so the package is declared in the registry; were it not,
+        // the entry is still accounted for.
         let Some(id) = registry.id(&entry.name) else {
+            left_out.push(LeftOut {
+                name: entry.name.clone(),
+                reason: "not in the registry".to_string(),
+                conflicts_with: Vec::new(),
+            });
             continue;
         };
         let any = Requirement::any();
@@ -187,9 +193,16 @@ pub fn preinstall(
             });
         }
     } else {
-        // Every kept set was shown to solve when its last member was added; only a budget
-        // change could get here, and then nothing is promised.
-        kept_rows.clear();
+        // Every kept set was shown to solve when its last member was added, and solving is
+        // deterministic, so this is not expected; if it happens, nothing is promised and
+        // every entry is still accounted for.
+        for k in kept_rows.drain(..) {
+            left_out.push(LeftOut {
+                name: k.name,
+                reason: "the joint solve of the kept set did not complete".to_string(),
+                conflicts_with: Vec::new(),
+            });
+        }
     }
     Preinstall {
         image: image.id.clone(),

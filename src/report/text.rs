@@ -707,7 +707,7 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
             out,
             "{side} planned with --no-native: an installs verdict there means only that the version requirements resolve, since native needs were not checked"
         );
-        if skipped.before != skipped.after {
+        if skipped.before != skipped.after && !d.changes.is_empty() {
             out.push_str(
                 "cells changing between installs and a native failure may reflect that, not a change in the inputs\n",
             );
