@@ -164,6 +164,21 @@ fn retries_do_not_hide_an_install_predicted_to_fail() {
     );
 }
 
+/// Retries that took different versions show the drift whatever their order: the demo
+/// predicts gumleaf 1.4.2 on deb-2.8, and an attempt that took 1.2.0 is a drift whether it
+/// came first or last.
+#[test]
+fn retries_do_not_hide_a_drift() {
+    for (first, second) in [("1.2.0", "1.4.2"), ("1.4.2", "1.2.0")] {
+        let review = review_of(&format!(
+            "results:\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{first}\"}}\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{second}\"}}\n"
+        ));
+        let c = cell(&review, "gumleaf", "deb-2.8");
+        assert_eq!(c.verdict, Verdict::Drift, "{first} then {second}");
+        assert_eq!(c.installed_version.as_deref(), Some("1.2.0"));
+    }
+}
+
 #[test]
 fn a_surprise_install_suggestion_follows_the_predicted_cause() {
     let review = review_of(

@@ -452,11 +452,19 @@ pub fn compare(
             .map(logs::classify)
             .unwrap_or_default();
         let primary = logs::primary(&findings).cloned();
-        let installed = records
+        // The version an install took; when retries took several, the last one other than
+        // the prediction, so a drift shows whatever the order of the attempts.
+        let taken: Vec<&semver::Version> = records
+            .iter()
+            .filter(|r| r.outcome == RecordedOutcome::Installed)
+            .filter_map(|r| r.version.as_ref())
+            .collect();
+        let installed = taken
             .iter()
             .rev()
-            .find(|r| r.outcome == RecordedOutcome::Installed)
-            .and_then(|r| r.version.as_ref());
+            .find(|v| Some(v.to_string()) != cell.root_version)
+            .or(taken.last())
+            .copied();
         let installed_version = installed.map(|v| v.to_string());
         let any_installed = attempts.contains(&RecordedOutcome::Installed);
         let any_failed = attempts.contains(&RecordedOutcome::Failed);
