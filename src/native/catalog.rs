@@ -7,6 +7,7 @@
 use crate::load::diag::{BadInput, read_text};
 use crate::load::yaml::{self, Ctx, Node};
 use crate::model::OsFamily;
+use crate::solve::image::BuildKind;
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::Path;
@@ -152,11 +153,27 @@ impl Catalog {
         self.libraries.iter().find(|l| l.id == id)
     }
 
-    /// Whether the catalog names system packages for library `id` on `family`: without them
-    /// no advice can say what to add, and a cell needing it stays at risk whatever is added.
-    pub fn knows(&self, id: &str, family: OsFamily) -> bool {
-        self.get(id)
-            .is_some_and(|l| l.families.contains_key(&family))
+    /// The system package that provides library `id` on `family` for a release built as
+    /// `build`: the development package to build from source, the runtime package to run a
+    /// prebuilt build. `None` when the catalog names none.
+    pub fn package_for(&self, id: &str, family: OsFamily, build: BuildKind) -> Option<&str> {
+        let fam = self.get(id)?.families.get(&family)?;
+        match build {
+            BuildKind::Source => fam.dev.as_deref(),
+            BuildKind::Prebuilt => fam.runtime.as_deref(),
+        }
+    }
+
+    /// Whether the catalog names the system packages library `id` needs on `family` for a
+    /// release built as `build` (either way when that is not recorded): without them no
+    /// advice can say what to add, and a cell needing it stays at risk whatever is added.
+    pub fn knows(&self, id: &str, family: OsFamily, build: Option<BuildKind>) -> bool {
+        match build {
+            Some(build) => self.package_for(id, family, build).is_some(),
+            None => [BuildKind::Source, BuildKind::Prebuilt]
+                .into_iter()
+                .all(|b| self.package_for(id, family, b).is_some()),
+        }
     }
 
     /// A library by id or alias.
@@ -265,11 +282,35 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                     ));
                 }
             };
+            let package = |field: &str| -> Result<Option<String>, BadInput> {
+                let Some(node) = fm.get(field) else {
+                    return Ok(None);
+                };
+                let name = ctx.str(node, &format!("family `{field}`"))?;
+                if !is_package_name(name) {
+                    return Err(ctx.err(
+                        node,
+                        format!(
+                            "library `{id}`, family {family}: `{field}` package `{name}` is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit"
+                        ),
+                    ));
+                }
+                Ok(Some(name.to_string()))
+            };
+            let (dev, runtime) = (package("dev")?, package("runtime")?);
+            if dev.is_none() && runtime.is_none() {
+                return Err(ctx.err(
+                    v,
+                    format!(
+                        "library `{id}`, family {family}: names no package; give `dev`, `runtime` or both, or leave the family out"
+                    ),
+                ));
+            }
             families.insert(
                 family,
                 FamilyPackages {
-                    dev: fm.opt_str("dev")?.map(str::to_owned),
-                    runtime: fm.opt_str("runtime")?.map(str::to_owned),
+                    dev,
+                    runtime,
                     source,
                 },
             );
@@ -287,4 +328,17 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
             families,
         },
     ))
+}
+
+/// Whether `name` can be a system package name on every family basefit writes commands for.
+/// The names go into shell commands as they are, so anything beyond these characters (a
+/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Debian's rule
+/// (Debian Policy Manual, section 5.6.1, cited from memory: lower-case letters, digits, `+ - .`, starting with a
+/// letter or digit) is the strictest of the three; upper case and `_` are allowed for RPM
+/// names (common practice, no source).
+fn is_package_name(name: &str) -> bool {
+    name.starts_with(|c: char| c.is_ascii_alphanumeric())
+        && name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
 }

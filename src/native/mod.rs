@@ -254,8 +254,13 @@ pub fn assess(
                             BuildKind::Source => fam.dev.as_ref(),
                             BuildKind::Prebuilt => fam.runtime.as_ref(),
                         };
-                        if let Some(p) = wanted {
-                            add_missing(p, confidence, &mut missing);
+                        match wanted {
+                            Some(p) => add_missing(p, confidence, &mut missing),
+                            // The family is listed without the package this build needs: no
+                            // addition can be named, so the need stays unmet.
+                            None => {
+                                unknown.insert(id.clone());
+                            }
                         }
                     }
                     None => {

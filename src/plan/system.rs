@@ -198,7 +198,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .filter(|nd| {
                     nd.library
                         .as_deref()
-                        .is_some_and(|id| !inputs.catalog.knows(id, image.family))
+                        .is_some_and(|id| !inputs.catalog.knows(id, image.family, nd.build))
                 })
                 .map(|nd| nd.confidence)
                 .max();
