@@ -190,3 +190,35 @@ fn a_source_build_needs_the_development_package_the_catalog_names() {
         "{stdout}"
     );
 }
+
+/// A header two libraries claim would be looked up as one of them only, silently: a new
+/// library claiming a shipped one's header is refused, naming both; replacing the shipped
+/// entry by its id is the way to change it.
+#[test]
+fn a_header_two_libraries_claim_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers: [zlib.h]\n    families:\n      debian: {dev: my-zlib-dev}\n",
+    )
+    .unwrap();
+    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    assert!(
+        e.contains("site.yaml:4:")
+            && e.contains("library `my-zlib`: header `zlib.h` is also library `zlib`'s"),
+        "{e}"
+    );
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: zlib\n    headers: [zlib.h]\n    families:\n      debian: {dev: my-zlib-dev}\n",
+    )
+    .unwrap();
+    let c = Catalog::with_override(&path).unwrap();
+    assert_eq!(
+        c.by_header("zlib.h").unwrap().families[&OsFamily::Debian]
+            .dev
+            .as_deref(),
+        Some("my-zlib-dev")
+    );
+}

@@ -110,6 +110,7 @@ impl Catalog {
         self.native_helpers.extend(top.str_list("native_helpers")?);
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
         let mut seen = BTreeSet::new();
+        let mut lines = Vec::new();
         for (line, lib) in libraries {
             if !seen.insert(lib.id.clone()) {
                 return Err(BadInput::at(
@@ -118,13 +119,55 @@ impl Catalog {
                     format!("library `{}` is listed twice", lib.id),
                 ));
             }
+            lines.push((line, lib.id.clone()));
             match self.libraries.iter_mut().find(|l| l.id == lib.id) {
                 Some(existing) => *existing = lib,
                 None => self.libraries.push(lib),
             }
         }
+        // A header, link name, pkg-config module or name that two libraries claim would be
+        // looked up as one of them only, the other never found: refused, naming both.
+        for (line, id) in lines {
+            if let Some(clash) = self.claimed_elsewhere(&id) {
+                return Err(BadInput::at(file, line, clash));
+            }
+        }
         self.reindex();
         Ok(())
+    }
+
+    /// What library `id` claims that another library of the catalog claims too, as a
+    /// sentence.
+    fn claimed_elsewhere(&self, id: &str) -> Option<String> {
+        let lib = self.get(id)?;
+        let words = |l: &Library| -> Vec<String> {
+            std::iter::once(&l.id)
+                .chain(&l.aliases)
+                .map(|w| w.to_lowercase())
+                .collect()
+        };
+        let claims = |l: &Library| -> Vec<(&'static str, String)> {
+            let mut out: Vec<(&'static str, String)> = Vec::new();
+            out.extend(l.headers.iter().map(|h| ("header", h.clone())));
+            out.extend(l.link.iter().map(|k| ("link name", k.clone())));
+            out.extend(
+                l.pkg_config
+                    .iter()
+                    .map(|p| ("pkg-config module", p.clone())),
+            );
+            out.extend(words(l).into_iter().map(|w| ("name or alias", w)));
+            out
+        };
+        let mine = claims(lib);
+        self.libraries.iter().filter(|o| o.id != id).find_map(|other| {
+            let theirs = claims(other);
+            mine.iter().find(|c| theirs.contains(c)).map(|(what, value)| {
+                format!(
+                    "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
+                    other.id
+                )
+            })
+        })
     }
 
     fn reindex(&mut self) {
