@@ -1035,3 +1035,30 @@ fn dependency_problems_from_a_pipe_say_they_are_not_placed() {
     assert!(err.contains("pkg-a@1.1.0"), "{err}");
     assert!(err.contains(&sentence), "{err}");
 }
+
+/// The generator lowers sizes its shape cannot hold rather than refuse them; it says so on
+/// stderr, so a benchmark is not read as run at the size asked for.
+#[test]
+fn the_generator_says_when_it_writes_less_than_asked() {
+    let dir = tempfile::tempdir().unwrap();
+    let run = |args: &[&str]| {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_basefit-synth"))
+            .args(args)
+            .arg("--out")
+            .arg(dir.path())
+            .output()
+            .unwrap();
+        assert!(out.status.success());
+        String::from_utf8_lossy(&out.stderr).into_owned()
+    };
+    let stderr = run(&["--packages", "10", "--versions", "5", "--edges", "100000"]);
+    assert!(
+        stderr.contains("note: 5 packages written of 10 asked for")
+            && stderr.contains("dependencies written of 100000 asked for"),
+        "{stderr}"
+    );
+    assert_eq!(
+        run(&["--packages", "10", "--versions", "50", "--edges", "20"]),
+        ""
+    );
+}

@@ -76,6 +76,26 @@ fn main() -> ExitCode {
                 s.dependencies,
                 s.unreadable_dependencies
             );
+            // Sizes the shape cannot hold are lowered, not refused: say so, so a benchmark
+            // is not read as run at the size asked for.
+            for (what, asked, written, why) in [
+                (
+                    "packages",
+                    args.packages as u64,
+                    s.packages,
+                    "a package has at least one version",
+                ),
+                (
+                    "dependencies",
+                    args.edges as u64,
+                    s.dependencies,
+                    "a version depends on each other package at most once",
+                ),
+            ] {
+                if written < asked {
+                    eprintln!("note: {written} {what} written of {asked} asked for: {why}");
+                }
+            }
             ExitCode::SUCCESS
         }
         Err(e) => {
