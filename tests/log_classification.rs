@@ -4,7 +4,7 @@
 //! printed; the wording is then the tool's own, not our memory of it. A missing tool skips its
 //! test with a message. Lines written from memory are marked so.
 
-use basefit::verify::logs::{LogCause, LogFinding, classify, primary};
+use basefit::verify::logs::{LogCause, LogFinding, SCAN_TAIL_BYTES, classify, primary};
 use std::io::ErrorKind;
 use std::net::TcpListener;
 use std::path::Path;
@@ -623,4 +623,19 @@ fn fifty_megabyte_log() {
     let long = "137 Killed signal 9 ".repeat(50 * 1024 * 1024 / 20);
     let _ = classify(&long);
     let _ = classify(&"\r".repeat(50 * 1024 * 1024));
+}
+
+#[test]
+fn a_last_line_longer_than_the_window_is_still_read() {
+    // source: from memory, a progress bar that redraws with carriage returns and never ends
+    // its line, then the gcc wording of gcc_missing_header on the same physical line
+    let mut log = String::from("Killed\n");
+    while log.len() <= SCAN_TAIL_BYTES + 1024 {
+        log.push_str("Downloading foo-1.0.tar.gz  42%\r");
+    }
+    log.push_str("foo.c:1:10: fatal error: zlib.h: No such file or directory");
+    let findings = classify(&log);
+    // The Killed line lies before the window; the error at the end of line 2 is read.
+    assert_eq!(causes(&findings), [&header("zlib.h")]);
+    assert_eq!(findings[0].line, 2);
 }
