@@ -497,3 +497,60 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
         }
     }
 }
+
+/// `review` of the results file `name` holding `yaml` in `dir`, in `format`: (exit code, stdout).
+fn review_file(dir: &std::path::Path, name: &str, yaml: &str, format: &str) -> (i32, String) {
+    let results = common::write(dir, name, yaml);
+    let (code, out, err) = common::run_basefit(["review"].into_iter().chain(common::DEMO).chain([
+        "--format",
+        format,
+        "--results",
+        results.to_str().unwrap(),
+    ]));
+    assert!(code == 0 || code == 1, "{err}");
+    (code, out)
+}
+
+#[test]
+fn a_runtime_refusal_is_acted_on_and_every_finding_is_kept() {
+    // spadefoot-compat is predicted runtime-too-old on deb-3.2 (demo-data/STORIES.md). The log
+    // shows an autoconf probe's missing header (GNU gcc wording, as in
+    // tests/log_classification.rs) before the tool-neutral refusal line of README, "Recorded
+    // install results": the refusal is the cause, the probe stays listed.
+    let yaml = r#"results:
+  - package: spadefoot-compat
+    image: deb-3.2
+    outcome: failed
+    log: "conftest.c:1:10: fatal error: zlib.h: No such file or directory\nerror: runtime refused: requires >=2.4, <3.0, found 3.2.0"
+"#;
+    let review = review_of(yaml);
+    let c = cell(&review, "spadefoot-compat", "deb-3.2");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    assert_eq!(
+        c.log_cause.as_ref().map(|l| l.label()),
+        Some("runtime-refused")
+    );
+    assert_eq!(c.cause_agrees, Some(true));
+    let labels: Vec<_> = c.findings.iter().map(|f| f.cause.label()).collect();
+    assert_eq!(labels, ["missing-header", "runtime-refused"]);
+    let dir = tempfile::tempdir().unwrap();
+    let (_, json) = review_file(dir.path(), "r.yaml", yaml, "json");
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let cell = json["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == "spadefoot-compat")
+        .unwrap();
+    assert_eq!(cell["findings"][0]["cause"], "missing-header");
+    assert_eq!(cell["findings"][0]["header"], "zlib.h");
+    assert_eq!(cell["findings"][0]["line"], 1);
+    assert_eq!(cell["findings"][1]["cause"], "runtime-refused");
+    let (_, text) = review_file(dir.path(), "r.yaml", yaml, "table");
+    assert!(
+        text.contains("log (")
+            && text.contains("): error: runtime refused")
+            && text.contains("also in the log: missing header zlib.h (line 1)"),
+        "{text}"
+    );
+}

@@ -676,6 +676,16 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
     if let (Some(e), Some(at)) = (&c.evidence, &c.evidence_at) {
         let _ = writeln!(out, "      log ({at}): {e}");
     }
+    // The other causes the log shows, so none is hidden behind the one acted on.
+    let others: Vec<String> = c
+        .findings
+        .iter()
+        .filter(|f| Some(&f.cause) != c.log_cause.as_ref())
+        .map(|f| format!("{} (line {})", f.cause, f.line))
+        .collect();
+    if !others.is_empty() {
+        let _ = writeln!(out, "      also in the log: {}", others.join("; "));
+    }
     if let Some(agree) = c.cause_agrees {
         let _ = writeln!(
             out,

@@ -1,6 +1,6 @@
 //! Comparing a predicted matrix with recorded install results, cell by cell.
 
-use super::logs::{self, LogCause};
+use super::logs::{self, LogCause, LogFinding};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
 use crate::native::Catalog;
 use crate::plan::matrix::{Matrix, Outcome, RecordedCheck};
@@ -65,6 +65,10 @@ pub struct CellReview {
     /// The log line that shows it.
     pub evidence: Option<String>,
     pub evidence_at: Option<String>,
+    /// Every cause that log shows, in log order, `log_cause` among them: a log may show several
+    /// (a probe's missing header before the refusal that ended the install), and a reader
+    /// deciding what to fix must see them all.
+    pub findings: Vec<LogFinding>,
     /// For failures: whether the recorded cause matches the predicted cause class.
     pub cause_agrees: Option<bool>,
     pub suggestion: Option<String>,
@@ -561,6 +565,7 @@ pub fn compare(
                 )
             }),
             log_cause,
+            findings,
             suggestion,
         });
         let _ = last;

@@ -56,8 +56,9 @@
 //! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
 //! failure at the end), from the first whole line in them, or when they hold no line end from
 //! the first whole `\r` segment ([`first_whole_segment`]); line numbers still count from the
-//! start of the whole log. A bare carriage return splits a line into segments that share its number, because progress bars redraw a line
-//! with `\r` and the error often lands on the same physical line; this also makes CRLF harmless.
+//! start of the whole log. A bare carriage return splits a line into segments that share its
+//! number, because progress bars redraw a line with `\r` and the error often lands on the same
+//! physical line; this also makes CRLF harmless.
 //! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
 //! ANSI escape sequences and other control characters are removed first. Each segment yields at
 //! most one cause: the most specific that matches.
@@ -132,15 +133,18 @@ impl LogCause {
         }
     }
 
-    /// Lower is more specific. A missing header names what to install; a kill or a timeout is
-    /// often only the consequence of something printed earlier.
+    /// Lower is acted on first. A runtime refusal comes first: recorders write that line only
+    /// when the installer stopped for the runtime, while a missing header or library is often a
+    /// configure probe failing by design on the way to the real error. Among the rest, a
+    /// missing header names what to install; a kill or a timeout is often only the consequence
+    /// of something printed earlier.
     fn rank(&self) -> u8 {
         match self {
+            LogCause::RuntimeRefused { .. } => 0,
             LogCause::MissingHeader { .. }
             | LogCause::MissingLibrary { .. }
-            | LogCause::MissingPkgConfig { .. } => 0,
-            LogCause::NoCompiler { .. } | LogCause::NoMake => 1,
-            LogCause::RuntimeRefused { .. } => 2,
+            | LogCause::MissingPkgConfig { .. } => 1,
+            LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
             LogCause::OutOfMemory | LogCause::Killed => 3,
             LogCause::Network | LogCause::Timeout => 4,
             LogCause::Unknown => 5,
@@ -173,7 +177,9 @@ impl fmt::Display for LogCause {
 /// One recognised cause and where the log shows it.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct LogFinding {
-    /// What the line says went wrong.
+    /// What the line says went wrong. Flattened, so a finding serialises as its cause's
+    /// fields (`cause`, and `header` or the like) beside `line` and `evidence`.
+    #[serde(flatten)]
     pub cause: LogCause,
     /// 1-based line number in the whole log.
     pub line: usize,
@@ -187,8 +193,8 @@ pub fn classify(log: &str) -> Vec<LogFinding> {
     classify_tail(log, SCAN_TAIL_BYTES)
 }
 
-/// The finding verification should act on: the most specific kind, and the earliest of those,
-/// since later errors are often fallout from the first.
+/// The finding verification should act on: a runtime refusal, else the most specific kind, and
+/// the earliest of those, since later errors are often fallout from the first.
 pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
     findings.iter().min_by_key(|f| f.cause.rank())
 }
