@@ -175,5 +175,8 @@ pub struct RecordedResult {
     pub version: Option<Version>,
     /// The install log, read from the record or from its log file.
     pub log: Option<String>,
+    /// Bytes at the start of the log file that were not read: only its tail is, so line
+    /// numbers in `log` count from the first line read.
+    pub log_skipped: u64,
     pub origin: Origin,
 }

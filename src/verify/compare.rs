@@ -556,13 +556,18 @@ pub fn compare(
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
             evidence_at: primary.as_ref().map(|p| {
-                format!(
-                    "{} line {}",
-                    last_failed
-                        .map(|r| r.origin.to_string())
-                        .unwrap_or_default(),
-                    p.line
-                )
+                let origin = last_failed
+                    .map(|r| r.origin.to_string())
+                    .unwrap_or_default();
+                // Only a log file's tail is read, so its line numbers cannot count from the
+                // file's start; say where they do count from.
+                match last_failed.map_or(0, |r| r.log_skipped) {
+                    0 => format!("{origin} line {}", p.line),
+                    skipped => format!(
+                        "{origin} line {} of the part read, which skips the log file's first {skipped} bytes",
+                        p.line
+                    ),
+                }
             }),
             log_cause,
             findings,

@@ -56,7 +56,8 @@
 //! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
 //! failure at the end), from the first whole line in them, or when they hold no line end from
 //! the first whole `\r` segment ([`first_whole_segment`]); line numbers still count from the
-//! start of the whole log. A bare carriage return splits a line into segments that share its
+//! start of the text given (the results reader passes only a log file's tail, cut the same way,
+//! and the review says how much of the file it skipped). A bare carriage return splits a line into segments that share its
 //! number, because progress bars redraw a line with `\r` and the error often lands on the same
 //! physical line; this also makes CRLF harmless.
 //! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
