@@ -748,3 +748,50 @@ fn only_the_tail_of_a_big_log_is_read() {
     );
     assert!(at.ends_with(&want), "{at}");
 }
+
+#[test]
+fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("adir")).unwrap();
+    let mut yaml = failed_with_logs(["missing.log", "adir", "../outside.log"]);
+    // A failure recorded with no log at all is not one whose log showed nothing known either.
+    yaml.push_str("  - {package: tidewater-http, image: deb-2.4, outcome: failed}\n");
+    let (_, text) = review_file(dir.path(), "results.yaml", &yaml, "table");
+    assert!(!text.contains("cause not recognised"), "{text}");
+    assert!(
+        text.contains("failed, log could not be read:")
+            && text.contains("failed, no log recorded:"),
+        "{text}"
+    );
+    for (line, why) in [
+        (2, "No such file"),
+        (3, "a directory, not a regular file"),
+        (4, "the log must lie under the results file's folder"),
+    ] {
+        assert!(
+            text.lines().any(|l| l.contains("log could not be read: ")
+                && l.contains(&format!("results.yaml:{line}: log file "))
+                && l.contains(why)),
+            "line {line}: {text}"
+        );
+    }
+    let (_, json) = review_file(dir.path(), "results.yaml", &yaml, "json");
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let unread = |package: &str| {
+        json["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["package"] == package)
+            .unwrap()["log_unread"]
+            .clone()
+    };
+    let why = unread("burrow-lite");
+    assert!(
+        why.as_str()
+            .is_some_and(|w| w.contains("results.yaml:3: log file ")
+                && w.contains("a directory, not a regular file")),
+        "{why}"
+    );
+    assert_eq!(unread("tidewater-http"), serde_json::Value::Null);
+}

@@ -353,6 +353,7 @@ fn assemble(
             },
         };
         let mut log = r.log;
+        let mut log_unread = None;
         let mut log_skipped = 0;
         if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
@@ -364,12 +365,16 @@ fn assemble(
                         None => tail.text,
                     });
                 }
-                Err(why) => ledger.note(
-                    ProblemKind::MissingLog,
-                    at(*line),
-                    subject.clone(),
-                    format!("log file {}: {why}", full.display()),
-                ),
+                Err(why) => {
+                    let detail = format!("log file {}: {why}", full.display());
+                    ledger.note(
+                        ProblemKind::MissingLog,
+                        at(*line),
+                        subject.clone(),
+                        detail.clone(),
+                    );
+                    log_unread = Some(format!("{}: {detail}", at(*line)));
+                }
             }
         }
         ledger.used(RecordKind::Result);
@@ -379,6 +384,7 @@ fn assemble(
             outcome,
             version,
             log,
+            log_unread,
             log_skipped,
             origin,
         });

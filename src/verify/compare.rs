@@ -69,6 +69,11 @@ pub struct CellReview {
     /// (a probe's missing header before the refusal that ended the install), and a reader
     /// deciding what to fix must see them all.
     pub findings: Vec<LogFinding>,
+    /// Why that attempt's log file could not be read, naming the record's line: without it the
+    /// cell's cause is unknown for want of a log, not because the log showed nothing known.
+    pub log_unread: Option<String>,
+    /// Whether that attempt recorded a log at all (inline or a file, read or not).
+    pub log_recorded: bool,
     /// For failures: whether the recorded cause matches the predicted cause class.
     pub cause_agrees: Option<bool>,
     pub suggestion: Option<String>,
@@ -571,6 +576,8 @@ pub fn compare(
             }),
             log_cause,
             findings,
+            log_unread: last_failed.and_then(|r| r.log_unread.clone()),
+            log_recorded: last_failed.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
             suggestion,
         });
         let _ = last;
@@ -651,6 +658,11 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 .suggestion
                 .clone()
                 .or_else(|| c.evidence.clone())
+                .or_else(|| {
+                    c.log_unread
+                        .as_ref()
+                        .map(|why| format!("the log could not be read: {why}"))
+                })
                 .unwrap_or_default(),
             attempts: c.attempts.len(),
         });
