@@ -4,7 +4,7 @@
 //! printed; the wording is then the tool's own, not our memory of it. A missing tool skips its
 //! test with a message. Lines written from memory are marked so.
 
-use basefit::verify::logs::{LogCause, LogFinding, classify, primary};
+use basefit::verify::logs::{LogCause, LogFinding, SCAN_TAIL_BYTES, classify, primary};
 use std::io::ErrorKind;
 use std::net::TcpListener;
 use std::path::Path;
@@ -555,6 +555,14 @@ sh: 1: cc: not found
 runtime refused: requires >=2, found 1.4
 ";
     let findings = classify(log);
+    assert_eq!(
+        primary(&findings).unwrap().cause,
+        LogCause::RuntimeRefused {
+            required: ">=2".into(),
+            found: "1.4".into()
+        }
+    );
+    let findings = classify(&log.replace("runtime refused", "runtime"));
     assert_eq!(primary(&findings).unwrap().cause, compiler("cc"));
     let log =
         "/usr/bin/ld: cannot find -lz\nfoo.c:1:10: fatal error: x.h: No such file or directory\n";
@@ -623,4 +631,50 @@ fn fifty_megabyte_log() {
     let long = "137 Killed signal 9 ".repeat(50 * 1024 * 1024 / 20);
     let _ = classify(&long);
     let _ = classify(&"\r".repeat(50 * 1024 * 1024));
+}
+
+#[test]
+fn a_runtime_refusal_outranks_a_configure_probe() {
+    // source: GNU gcc wording (see gcc_missing_header) as an autoconf probe prints it, and the
+    // tool-neutral refusal line of README, "Recorded install results"
+    let log = "\
+checking for zlib.h... no
+conftest.c:1:10: fatal error: zlib.h: No such file or directory
+compilation terminated.
+error: runtime refused: requires >=3.8, <4, found 3.7.2
+";
+    let findings = classify(log);
+    let refusal = LogCause::RuntimeRefused {
+        required: ">=3.8, <4".into(),
+        found: "3.7.2".into(),
+    };
+    assert_eq!(causes(&findings), [&header("zlib.h"), &refusal]);
+    let first = primary(&findings).unwrap();
+    assert_eq!((&first.cause, first.line), (&refusal, 4));
+    // A finding serialises as its cause's fields beside its line and evidence.
+    let json = serde_json::to_value(&findings[0]).unwrap();
+    assert_eq!(
+        json,
+        serde_json::json!({
+            "cause": "missing-header",
+            "header": "zlib.h",
+            "line": 2,
+            "evidence": "conftest.c:1:10: fatal error: zlib.h: No such file or directory"
+        })
+    );
+}
+
+#[test]
+fn a_last_line_longer_than_the_window_is_still_read() {
+    // source: from memory, a progress bar that redraws with carriage returns and never ends
+    // its line, then the gcc wording of gcc_missing_header on the same physical line
+    let mut log = String::from("Killed\n");
+    while log.len() <= SCAN_TAIL_BYTES + 1024 {
+        log.push_str("Downloading foo-1.0.tar.gz  42%\r");
+    }
+    log.push_str("foo.c:1:10: fatal error: zlib.h: No such file or directory");
+    let findings = classify(&log);
+    // The Killed line lies before the window; the error at the end of line 2 is read.
+    assert_eq!(causes(&findings), [&header("zlib.h")]);
+    assert_eq!(findings[0].line, 2);
 }

@@ -99,6 +99,11 @@ fn review_of(results: &str) -> basefit::verify::Review {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("results.yaml");
     std::fs::write(&path, results).unwrap();
+    review_at(path)
+}
+
+/// The review of the results file at `path` against the demo's plan.
+fn review_at(path: std::path::PathBuf) -> basefit::verify::Review {
     let inputs = load_inputs(&InputPaths {
         registry: vec!["demo-data/registry.yaml".into()],
         images: Some("matrices/demo-images.yaml".into()),
@@ -496,4 +501,297 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
             assert_ne!(code, 2, "{command} {}: {err}", images.display());
         }
     }
+}
+
+/// `review` of the results file `name` holding `yaml` in `dir`, in `format`: (exit code, stdout).
+fn review_file(dir: &std::path::Path, name: &str, yaml: &str, format: &str) -> (i32, String) {
+    let results = common::write(dir, name, yaml);
+    let (code, out, err) = common::run_basefit(["review"].into_iter().chain(common::DEMO).chain([
+        "--format",
+        format,
+        "--results",
+        results.to_str().unwrap(),
+    ]));
+    assert!(code == 0 || code == 1, "{err}");
+    (code, out)
+}
+
+#[test]
+fn a_runtime_refusal_is_acted_on_and_every_finding_is_kept() {
+    // spadefoot-compat is predicted runtime-too-old on deb-3.2 (demo-data/STORIES.md). The log
+    // shows an autoconf probe's missing header (GNU gcc wording, as in
+    // tests/log_classification.rs) before the tool-neutral refusal line of README, "Recorded
+    // install results": the refusal is the cause, the probe stays listed.
+    let yaml = r#"results:
+  - package: spadefoot-compat
+    image: deb-3.2
+    outcome: failed
+    log: "conftest.c:1:10: fatal error: zlib.h: No such file or directory\nerror: runtime refused: requires >=2.4, <3.0, found 3.2.0"
+"#;
+    let review = review_of(yaml);
+    let c = cell(&review, "spadefoot-compat", "deb-3.2");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    assert_eq!(
+        c.log_cause.as_ref().map(|l| l.label()),
+        Some("runtime-refused")
+    );
+    assert_eq!(c.cause_agrees, Some(true));
+    let labels: Vec<_> = c.findings.iter().map(|f| f.cause.label()).collect();
+    assert_eq!(labels, ["missing-header", "runtime-refused"]);
+    let dir = tempfile::tempdir().unwrap();
+    let (_, json) = review_file(dir.path(), "r.yaml", yaml, "json");
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let cell = json["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == "spadefoot-compat")
+        .unwrap();
+    assert_eq!(cell["findings"][0]["cause"], "missing-header");
+    assert_eq!(cell["findings"][0]["header"], "zlib.h");
+    assert_eq!(cell["findings"][0]["line"], 1);
+    assert_eq!(cell["findings"][1]["cause"], "runtime-refused");
+    let (_, text) = review_file(dir.path(), "r.yaml", yaml, "table");
+    assert!(
+        text.contains("log (")
+            && text.contains("): error: runtime refused")
+            && text.contains("also in the log: missing header zlib.h (line 1)"),
+        "{text}"
+    );
+}
+
+/// The largest single allocation made in this test binary: a log read whole shows up as one
+/// allocation of its size, whatever else runs beside it.
+struct Largest;
+
+static LARGEST: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+unsafe impl std::alloc::GlobalAlloc for Largest {
+    unsafe fn alloc(&self, layout: std::alloc::Layout) -> *mut u8 {
+        LARGEST.fetch_max(layout.size(), std::sync::atomic::Ordering::Relaxed);
+        unsafe { std::alloc::System.alloc(layout) }
+    }
+    unsafe fn alloc_zeroed(&self, layout: std::alloc::Layout) -> *mut u8 {
+        LARGEST.fetch_max(layout.size(), std::sync::atomic::Ordering::Relaxed);
+        unsafe { std::alloc::System.alloc_zeroed(layout) }
+    }
+    unsafe fn realloc(&self, ptr: *mut u8, layout: std::alloc::Layout, size: usize) -> *mut u8 {
+        LARGEST.fetch_max(size, std::sync::atomic::Ordering::Relaxed);
+        unsafe { std::alloc::System.realloc(ptr, layout, size) }
+    }
+    unsafe fn dealloc(&self, ptr: *mut u8, layout: std::alloc::Layout) {
+        unsafe { std::alloc::System.dealloc(ptr, layout) }
+    }
+}
+
+#[global_allocator]
+static ALLOCATOR: Largest = Largest;
+
+/// Three cells the demo predicts to install on deb-2.4, each failed with the log file given.
+fn failed_with_logs(logs: [&str; 3]) -> String {
+    let mut yaml = String::from("results:\n");
+    for (package, log) in ["thornbill-xml", "burrow-lite", "gumleaf"].iter().zip(logs) {
+        yaml.push_str(&format!(
+            "  - {{package: {package}, image: deb-2.4, outcome: failed, log_file: '{log}'}}\n"
+        ));
+    }
+    yaml
+}
+
+#[test]
+fn a_log_file_outside_the_results_folder_is_not_read() {
+    // Results may come from CI jobs that ran untrusted package code: a record must not make
+    // the review print lines of other files. The line below would be classified no-compiler.
+    let dir = tempfile::tempdir().unwrap();
+    let secret = "configure: error: C compiler cannot create executables\n";
+    let outside = common::write(dir.path(), "outside.log", secret);
+    let results_dir = dir.path().join("r");
+    std::fs::create_dir(&results_dir).unwrap();
+    // A link inside the folder that leads out of it: followed, it lands outside.
+    let link = if cfg!(unix) {
+        "link.log"
+    } else {
+        "../outside.log"
+    };
+    #[cfg(unix)]
+    std::os::unix::fs::symlink(&outside, results_dir.join(link)).unwrap();
+    let yaml = failed_with_logs(["../outside.log", outside.to_str().unwrap(), link]);
+    for format in ["table", "json"] {
+        let (_, out) = review_file(&results_dir, "results.yaml", &yaml, format);
+        // Each result is kept and compared, without a log.
+        assert!(
+            !out.contains("C compiler") && !out.contains("no-compiler"),
+            "{format}: {out}"
+        );
+        assert_eq!(
+            out.matches("surprise-failure").count(),
+            1 + 3,
+            "{format}: {out}"
+        );
+    }
+    let results = results_dir.join("results.yaml");
+    let (code, out, err) = common::run_basefit(
+        ["check"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain(["--results", results.to_str().unwrap()]),
+    );
+    assert_eq!(code, 1, "{err}");
+    for (line, package) in [(2, "thornbill-xml"), (3, "burrow-lite"), (4, "gumleaf")] {
+        let at = format!("results.yaml:{line}  {package} on deb-2.4: log file ");
+        let problem = out
+            .lines()
+            .find(|l| l.contains(&at))
+            .unwrap_or_else(|| panic!("{at}: {out}"));
+        assert!(
+            problem.contains("the log must lie under the results file's folder"),
+            "{problem}"
+        );
+    }
+}
+
+/// Runs the binary with `args`, failing the test if it has not ended after 60 seconds.
+fn run_with_deadline(args: &[&str]) -> (i32, String) {
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(args)
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs(60);
+    loop {
+        if let Some(status) = child.try_wait().unwrap() {
+            let mut out = String::new();
+            std::io::Read::read_to_string(child.stdout.as_mut().unwrap(), &mut out).unwrap();
+            return (status.code().unwrap_or(-1), out);
+        }
+        if std::time::Instant::now() > deadline {
+            let _ = child.kill();
+            let _ = child.wait();
+            panic!("basefit {args:?} did not finish within 60 s");
+        }
+        std::thread::sleep(std::time::Duration::from_millis(50));
+    }
+}
+
+#[test]
+fn only_regular_log_files_are_read() {
+    let dir = tempfile::tempdir().unwrap();
+    // A FIFO nobody writes to: opening it for reading would wait for a writer for ever.
+    let fifo = std::process::Command::new("mkfifo")
+        .arg(dir.path().join("fifo.log"))
+        .status()
+        .is_ok_and(|s| s.success());
+    if !fifo {
+        eprintln!("skipped the FIFO case: mkfifo failed");
+    }
+    std::fs::create_dir(dir.path().join("adir")).unwrap();
+    let results = common::write(
+        dir.path(),
+        "results.yaml",
+        failed_with_logs(["fifo.log", "adir", "fifo.log"]),
+    );
+    let mut args = vec!["check"];
+    args.extend(common::DEMO);
+    args.extend(["--results", results.to_str().unwrap()]);
+    let (code, out) = run_with_deadline(&args);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        !fifo
+            || out.contains("results.yaml:2  thornbill-xml on deb-2.4: log file")
+                && out
+                    .contains("fifo.log: a FIFO, not a regular file; only regular files are read"),
+        "{out}"
+    );
+    assert!(
+        out.contains("results.yaml:3  burrow-lite on deb-2.4: log file")
+            && out.contains("adir: a directory, not a regular file"),
+        "{out}"
+    );
+}
+
+#[test]
+fn only_the_tail_of_a_big_log_is_read() {
+    let dir = tempfile::tempdir().unwrap();
+    // A sparse 256 MiB log of NUL bytes, then the failure (GNU gcc wording, as in
+    // tests/log_classification.rs) on its last line.
+    let big = dir.path().join("big.log");
+    let zeros = 256u64 << 20;
+    {
+        use std::io::Write;
+        let mut file = std::fs::File::create(&big).unwrap();
+        file.set_len(zeros).unwrap();
+        std::io::Seek::seek(&mut file, std::io::SeekFrom::End(0)).unwrap();
+        file.write_all(b"\nx.c:1:10: fatal error: zlib.h: No such file or directory\n")
+            .unwrap();
+    }
+    // The big log is read from its tail, never whole; its lines count from the first line
+    // read, and the review says where that is.
+    let alone = common::write(
+        dir.path(),
+        "big.yaml",
+        "results:\n  - {package: gumleaf, image: deb-2.4, outcome: failed, log_file: big.log}\n",
+    );
+    LARGEST.store(0, std::sync::atomic::Ordering::Relaxed);
+    let review = review_at(alone);
+    let largest = LARGEST.load(std::sync::atomic::Ordering::Relaxed);
+    assert!(largest < 64 << 20, "an allocation of {largest} bytes");
+    let c = cell(&review, "gumleaf", "deb-2.4");
+    assert_eq!(
+        c.log_cause.as_ref().map(|l| l.label()),
+        Some("missing-header")
+    );
+    let at = c.evidence_at.as_deref().unwrap();
+    let want = format!(
+        "big.yaml:2 line 1 of the part read, which skips the log file's first {} bytes",
+        zeros + 1
+    );
+    assert!(at.ends_with(&want), "{at}");
+}
+
+#[test]
+fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("adir")).unwrap();
+    let mut yaml = failed_with_logs(["missing.log", "adir", "../outside.log"]);
+    // A failure recorded with no log at all is not one whose log showed nothing known either.
+    yaml.push_str("  - {package: tidewater-http, image: deb-2.4, outcome: failed}\n");
+    let (_, text) = review_file(dir.path(), "results.yaml", &yaml, "table");
+    assert!(!text.contains("cause not recognised"), "{text}");
+    assert!(
+        text.contains("failed, log could not be read:")
+            && text.contains("failed, no log recorded:"),
+        "{text}"
+    );
+    for (line, why) in [
+        (2, "No such file"),
+        (3, "a directory, not a regular file"),
+        (4, "the log must lie under the results file's folder"),
+    ] {
+        assert!(
+            text.lines().any(|l| l.contains("log could not be read: ")
+                && l.contains(&format!("results.yaml:{line}: log file "))
+                && l.contains(why)),
+            "line {line}: {text}"
+        );
+    }
+    let (_, json) = review_file(dir.path(), "results.yaml", &yaml, "json");
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let unread = |package: &str| {
+        json["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["package"] == package)
+            .unwrap()["log_unread"]
+            .clone()
+    };
+    let why = unread("burrow-lite");
+    assert!(
+        why.as_str()
+            .is_some_and(|w| w.contains("results.yaml:3: log file ")
+                && w.contains("a directory, not a regular file")),
+        "{why}"
+    );
+    assert_eq!(unread("tidewater-http"), serde_json::Value::Null);
 }

@@ -8,8 +8,10 @@ use super::priorities::has_extension;
 use super::table::Table;
 use super::yaml::{self, Ctx};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
+use crate::verify::logs::{SCAN_TAIL_BYTES, first_whole_segment};
 use std::collections::HashMap;
-use std::path::{Path, PathBuf};
+use std::io::{Read, Seek, SeekFrom};
+use std::path::{Component, Path, PathBuf};
 
 const FIELDS: &[&str] = &["package", "image", "outcome", "version", "log", "log_file"];
 const REQUIRED: &[&str] = &["package", "image", "outcome"];
@@ -351,22 +353,28 @@ fn assemble(
             },
         };
         let mut log = r.log;
+        let mut log_unread = None;
+        let mut log_skipped = 0;
         if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
-            match std::fs::read(&full) {
-                Ok(bytes) => {
-                    let text = String::from_utf8_lossy(&bytes).into_owned();
+            match read_log_file(base, path, &full) {
+                Ok(tail) => {
+                    log_skipped = tail.skipped;
                     log = Some(match log {
-                        Some(inline) => format!("{inline}\n{text}"),
-                        None => text,
+                        Some(inline) => format!("{inline}\n{}", tail.text),
+                        None => tail.text,
                     });
                 }
-                Err(e) => ledger.note(
-                    ProblemKind::MissingLog,
-                    at(*line),
-                    subject.clone(),
-                    format!("log file {}: {e}", full.display()),
-                ),
+                Err(why) => {
+                    let detail = format!("log file {}: {why}", full.display());
+                    ledger.note(
+                        ProblemKind::MissingLog,
+                        at(*line),
+                        subject.clone(),
+                        detail.clone(),
+                    );
+                    log_unread = Some(format!("{}: {detail}", at(*line)));
+                }
             }
         }
         ledger.used(RecordKind::Result);
@@ -376,8 +384,108 @@ fn assemble(
             outcome,
             version,
             log,
+            log_unread,
+            log_skipped,
             origin,
         });
     }
     out
+}
+
+/// The part of a log file that was read.
+struct LogTail {
+    text: String,
+    /// Bytes before `text` that were not read.
+    skipped: u64,
+}
+
+/// Reads the log file `written` (as the record gives it; `full` is it joined to `base`, the
+/// results file's folder), or says why not. Results files may come from CI jobs that ran
+/// untrusted package code, so the path must stay under that folder, symbolic links followed
+/// (otherwise a record could have the review print lines of any file the reviewer can read),
+/// and only regular files are opened (a FIFO would block the run, a device never end). Only the
+/// last [`SCAN_TAIL_BYTES`] are read, since the classifier looks at no more; they start at
+/// their first whole line or segment, as the classifier's own window does.
+fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, String> {
+    const UNDER: &str = "the log must lie under the results file's folder";
+    let path = Path::new(written);
+    // Checked on the text before the file system is asked anything about such a path.
+    let mut depth = 0usize;
+    for part in path.components() {
+        match part {
+            Component::Prefix(_) | Component::RootDir => {
+                return Err(format!("an absolute path is not read; {UNDER}"));
+            }
+            Component::ParentDir if depth == 0 => {
+                return Err(format!("leads out of the results file's folder; {UNDER}"));
+            }
+            Component::ParentDir => depth -= 1,
+            Component::Normal(_) => depth += 1,
+            Component::CurDir => {}
+        }
+    }
+    let folder = if base.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        base
+    };
+    let folder = std::fs::canonicalize(folder)
+        .map_err(|e| format!("the results file's folder cannot be resolved: {e}"))?;
+    let real = std::fs::canonicalize(full).map_err(|e| e.to_string())?;
+    if !real.starts_with(&folder) {
+        return Err(format!(
+            "a symbolic link leads out of the results file's folder; {UNDER}"
+        ));
+    }
+    let kind = std::fs::metadata(&real)
+        .map_err(|e| e.to_string())?
+        .file_type();
+    if !kind.is_file() {
+        return Err(format!(
+            "{}, not a regular file; only regular files are read",
+            file_kind(kind)
+        ));
+    }
+    let mut file = std::fs::File::open(&real).map_err(|e| e.to_string())?;
+    let len = file.metadata().map_err(|e| e.to_string())?.len();
+    let window = SCAN_TAIL_BYTES as u64;
+    let mut skipped = len.saturating_sub(window);
+    file.seek(SeekFrom::Start(skipped))
+        .map_err(|e| e.to_string())?;
+    let mut bytes = Vec::new();
+    // Bounded: a file that grows while it is read must not be read without end.
+    file.take(window)
+        .read_to_end(&mut bytes)
+        .map_err(|e| e.to_string())?;
+    if skipped > 0 {
+        let start = first_whole_segment(&bytes);
+        bytes.drain(..start);
+        skipped += start as u64;
+    }
+    Ok(LogTail {
+        text: String::from_utf8_lossy(&bytes).into_owned(),
+        skipped,
+    })
+}
+
+/// What a file that is not a regular file is, for the message refusing it.
+fn file_kind(kind: std::fs::FileType) -> &'static str {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if kind.is_fifo() {
+            return "a FIFO";
+        }
+        if kind.is_char_device() || kind.is_block_device() {
+            return "a device";
+        }
+        if kind.is_socket() {
+            return "a socket";
+        }
+    }
+    if kind.is_dir() {
+        "a directory"
+    } else {
+        "a special file"
+    }
 }

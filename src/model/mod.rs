@@ -175,5 +175,11 @@ pub struct RecordedResult {
     pub version: Option<Version>,
     /// The install log, read from the record or from its log file.
     pub log: Option<String>,
+    /// Why the record's log file was not read, when it was not (the problem is in the ledger
+    /// too): the review must not present a log it never saw as one without a known cause.
+    pub log_unread: Option<String>,
+    /// Bytes at the start of the log file that were not read: only its tail is, so line
+    /// numbers in `log` count from the first line read.
+    pub log_skipped: u64,
     pub origin: Origin,
 }

@@ -602,6 +602,8 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         let key = match (&cell.log_cause, cell.verdict) {
             (_, Verdict::SurpriseInstall) => "installed although predicted to fail".to_string(),
             (Some(lc), _) => lc.label().to_string(),
+            (None, _) if cell.log_unread.is_some() => "failed, log could not be read".to_string(),
+            (None, _) if !cell.log_recorded => "failed, no log recorded".to_string(),
             (None, _) => "failed, cause not recognised in the log".to_string(),
         };
         groups.entry(key).or_default().push(cell);
@@ -675,6 +677,19 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
     );
     if let (Some(e), Some(at)) = (&c.evidence, &c.evidence_at) {
         let _ = writeln!(out, "      log ({at}): {e}");
+    }
+    if let Some(why) = &c.log_unread {
+        let _ = writeln!(out, "      log could not be read: {why}");
+    }
+    // The other causes the log shows, so none is hidden behind the one acted on.
+    let others: Vec<String> = c
+        .findings
+        .iter()
+        .filter(|f| Some(&f.cause) != c.log_cause.as_ref())
+        .map(|f| format!("{} (line {})", f.cause, f.line))
+        .collect();
+    if !others.is_empty() {
+        let _ = writeln!(out, "      also in the log: {}", others.join("; "));
     }
     if let Some(agree) = c.cause_agrees {
         let _ = writeln!(

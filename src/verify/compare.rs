@@ -1,6 +1,6 @@
 //! Comparing a predicted matrix with recorded install results, cell by cell.
 
-use super::logs::{self, LogCause};
+use super::logs::{self, LogCause, LogFinding};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
 use crate::native::Catalog;
 use crate::plan::matrix::{Matrix, Outcome, RecordedCheck};
@@ -65,6 +65,15 @@ pub struct CellReview {
     /// The log line that shows it.
     pub evidence: Option<String>,
     pub evidence_at: Option<String>,
+    /// Every cause that log shows, in log order, `log_cause` among them: a log may show several
+    /// (a probe's missing header before the refusal that ended the install), and a reader
+    /// deciding what to fix must see them all.
+    pub findings: Vec<LogFinding>,
+    /// Why that attempt's log file could not be read, naming the record's line: without it the
+    /// cell's cause is unknown for want of a log, not because the log showed nothing known.
+    pub log_unread: Option<String>,
+    /// Whether that attempt recorded a log at all (inline or a file, read or not).
+    pub log_recorded: bool,
     /// For failures: whether the recorded cause matches the predicted cause class.
     pub cause_agrees: Option<bool>,
     pub suggestion: Option<String>,
@@ -552,15 +561,23 @@ pub fn compare(
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
             evidence_at: primary.as_ref().map(|p| {
-                format!(
-                    "{} line {}",
-                    last_failed
-                        .map(|r| r.origin.to_string())
-                        .unwrap_or_default(),
-                    p.line
-                )
+                let origin = last_failed
+                    .map(|r| r.origin.to_string())
+                    .unwrap_or_default();
+                // Only a log file's tail is read, so its line numbers cannot count from the
+                // file's start; say where they do count from.
+                match last_failed.map_or(0, |r| r.log_skipped) {
+                    0 => format!("{origin} line {}", p.line),
+                    skipped => format!(
+                        "{origin} line {} of the part read, which skips the log file's first {skipped} bytes",
+                        p.line
+                    ),
+                }
             }),
             log_cause,
+            findings,
+            log_unread: last_failed.and_then(|r| r.log_unread.clone()),
+            log_recorded: last_failed.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
             suggestion,
         });
         let _ = last;
@@ -641,6 +658,11 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 .suggestion
                 .clone()
                 .or_else(|| c.evidence.clone())
+                .or_else(|| {
+                    c.log_unread
+                        .as_ref()
+                        .map(|why| format!("the log could not be read: {why}"))
+                })
                 .unwrap_or_default(),
             attempts: c.attempts.len(),
         });

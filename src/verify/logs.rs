@@ -54,9 +54,12 @@
 //! # Limits
 //!
 //! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
-//! failure at the end); line numbers still count from the start of the whole log. A bare carriage
-//! return splits a line into segments that share its number, because progress bars redraw a line
-//! with `\r` and the error often lands on the same physical line; this also makes CRLF harmless.
+//! failure at the end), from the first whole line in them, or when they hold no line end from
+//! the first whole `\r` segment ([`first_whole_segment`]); line numbers still count from the
+//! start of the text given (the results reader passes only a log file's tail, cut the same way,
+//! and the review says how much of the file it skipped). A bare carriage return splits a line into segments that share its
+//! number, because progress bars redraw a line with `\r` and the error often lands on the same
+//! physical line; this also makes CRLF harmless.
 //! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
 //! ANSI escape sequences and other control characters are removed first. Each segment yields at
 //! most one cause: the most specific that matches.
@@ -131,15 +134,18 @@ impl LogCause {
         }
     }
 
-    /// Lower is more specific. A missing header names what to install; a kill or a timeout is
-    /// often only the consequence of something printed earlier.
+    /// Lower is acted on first. A runtime refusal comes first: recorders write that line only
+    /// when the installer stopped for the runtime, while a missing header or library is often a
+    /// configure probe failing by design on the way to the real error. Among the rest, a
+    /// missing header names what to install; a kill or a timeout is often only the consequence
+    /// of something printed earlier.
     fn rank(&self) -> u8 {
         match self {
+            LogCause::RuntimeRefused { .. } => 0,
             LogCause::MissingHeader { .. }
             | LogCause::MissingLibrary { .. }
-            | LogCause::MissingPkgConfig { .. } => 0,
-            LogCause::NoCompiler { .. } | LogCause::NoMake => 1,
-            LogCause::RuntimeRefused { .. } => 2,
+            | LogCause::MissingPkgConfig { .. } => 1,
+            LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
             LogCause::OutOfMemory | LogCause::Killed => 3,
             LogCause::Network | LogCause::Timeout => 4,
             LogCause::Unknown => 5,
@@ -172,7 +178,9 @@ impl fmt::Display for LogCause {
 /// One recognised cause and where the log shows it.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct LogFinding {
-    /// What the line says went wrong.
+    /// What the line says went wrong. Flattened, so a finding serialises as its cause's
+    /// fields (`cause`, and `header` or the like) beside `line` and `evidence`.
+    #[serde(flatten)]
     pub cause: LogCause,
     /// 1-based line number in the whole log.
     pub line: usize,
@@ -186,8 +194,8 @@ pub fn classify(log: &str) -> Vec<LogFinding> {
     classify_tail(log, SCAN_TAIL_BYTES)
 }
 
-/// The finding verification should act on: the most specific kind, and the earliest of those,
-/// since later errors are often fallout from the first.
+/// The finding verification should act on: a runtime refusal, else the most specific kind, and
+/// the earliest of those, since later errors are often fallout from the first.
 pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
     findings.iter().min_by_key(|f| f.cause.rank())
 }
@@ -235,21 +243,35 @@ fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
     findings
 }
 
-/// Where reading starts: `limit` bytes before the end, moved forward to the next line start so
-/// the first line read is whole.
+/// Where reading starts: `limit` bytes before the end, moved forward to the first whole segment
+/// ([`first_whole_segment`]).
 fn window_start(log: &str, limit: usize) -> usize {
     if log.len() <= limit {
         return 0;
     }
     let at = log.len() - limit;
-    let bytes = log.as_bytes();
-    if bytes[at - 1] == b'\n' {
+    if log.as_bytes()[at - 1] == b'\n' {
         return at;
     }
-    match bytes[at..].iter().position(|&b| b == b'\n') {
-        Some(i) => at + i + 1,
-        None => log.len(),
+    at + first_whole_segment(&log.as_bytes()[at..])
+}
+
+/// Where the first whole segment of `piece` starts, `piece` being the end of a longer log cut
+/// at an arbitrary byte: after its first line end, else after its first carriage return, else
+/// at its first character. A window that holds no line end is still read: progress bars write
+/// one endless line of `\r`-separated segments, and the error often lands at its very end.
+pub fn first_whole_segment(piece: &[u8]) -> usize {
+    if let Some(i) = memchr::memchr(b'\n', piece) {
+        return i + 1;
     }
+    if let Some(i) = memchr::memchr(b'\r', piece) {
+        return i + 1;
+    }
+    // A cut through one huge segment: skip the rest of a character split by the cut.
+    piece
+        .iter()
+        .position(|&b| b & 0xc0 != 0x80)
+        .unwrap_or(piece.len())
 }
 
 /// The longest prefix of `s` of at most `max` bytes that ends on a character boundary.
@@ -912,8 +934,23 @@ mod tests {
         let found = classify_tail(log, "Connection refused\n".len());
         assert_eq!(found.len(), 1);
         assert_eq!(found[0].line, 4);
-        // A window inside the last, unterminated line reads nothing rather than half a line.
-        assert!(classify_tail("Killed\nConnection refused", 5).is_empty());
+        // A window inside the last, unterminated line still reads it: from its first whole
+        // `\r` segment, else from where the cut fell.
+        let log = "Killed\nDownloading 10%\rDownloading 20%\rConnection timed out";
+        let found = classify_tail(log, "0%\rDownloading 20%\rConnection timed out".len());
+        assert_eq!(found.len(), 1, "{found:?}");
+        assert_eq!(
+            (found[0].line, &found[0].evidence[..]),
+            (2, "Connection timed out")
+        );
+        let found = classify_tail("Killed\nConnection timed out", "timed out".len());
+        assert_eq!(found.len(), 1, "{found:?}");
+        assert_eq!((&found[0].cause, found[0].line), (&LogCause::Timeout, 2));
+        // A cut inside a character skips the rest of it.
+        assert_eq!(
+            first_whole_segment("é timed out".as_bytes()[1..].as_ref()),
+            1
+        );
     }
 
     #[test]
