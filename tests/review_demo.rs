@@ -743,10 +743,60 @@ fn only_the_tail_of_a_big_log_is_read() {
     );
     let at = c.evidence_at.as_deref().unwrap();
     let want = format!(
-        "big.yaml:2 line 1 of the part read, which skips the log file's first {} bytes",
+        "big.yaml:2 line 1 of the part of the log file read, which skips its first {} bytes",
         zeros + 1
     );
     assert!(at.ends_with(&want), "{at}");
+}
+
+/// A 16 MiB window cut exactly at the start of a line keeps that line (the byte before the
+/// cut ends a line), and a record's own `log` text before its log file does not shift the
+/// file's line numbers; a tail that shows nothing known still says what was skipped.
+#[test]
+fn the_tail_cut_keeps_a_whole_line_and_places_lines_by_their_source() {
+    let dir = tempfile::tempdir().unwrap();
+    let window = basefit::verify::logs::SCAN_TAIL_BYTES as u64;
+    let failure = b"x.c:1:10: fatal error: zlib.h: No such file or directory\n";
+    let filler = window as usize - failure.len();
+    let mut log = b"x\n".to_vec();
+    log.extend_from_slice(failure);
+    log.extend(std::iter::repeat_n(b'.', filler - 1));
+    log.push(b'\n');
+    // Two bytes before the window: the failure's line starts exactly at the cut.
+    assert_eq!(log.len() as u64, window + 2);
+    common::write(dir.path(), "cut.log", &log);
+    let yaml = common::write(
+        dir.path(),
+        "cut.yaml",
+        "results:\n  - {package: gumleaf, image: deb-2.4, outcome: failed, log_file: cut.log, log: \"first inline line\\nsecond inline line\"}\n",
+    );
+    let review = review_at(yaml);
+    let c = cell(&review, "gumleaf", "deb-2.4");
+    assert_eq!(
+        c.log_cause.as_ref().map(|l| l.label()),
+        Some("missing-header")
+    );
+    let at = c.evidence_at.as_deref().unwrap();
+    assert!(
+        at.ends_with(
+            "cut.yaml:2 line 1 of the part of the log file read, which skips its first 2 bytes"
+        ),
+        "{at}"
+    );
+    // Nothing known in the tail: the skip is still told.
+    common::write(dir.path(), "dots.log", vec![b'.'; window as usize + 10]);
+    let yaml = common::write(
+        dir.path(),
+        "dots.yaml",
+        "results:\n  - {package: gumleaf, image: deb-2.4, outcome: failed, log_file: dots.log}\n",
+    );
+    let review = review_at(yaml);
+    let c = cell(&review, "gumleaf", "deb-2.4");
+    assert!(
+        c.evidence.is_none() && c.log_skipped >= 10,
+        "{}",
+        c.log_skipped
+    );
 }
 
 #[test]

@@ -355,13 +355,17 @@ fn assemble(
         let mut log = r.log;
         let mut log_unread = None;
         let mut log_skipped = 0;
+        let mut log_inline_lines = 0;
         if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
             match read_log_file(base, path, &full) {
                 Ok(tail) => {
                     log_skipped = tail.skipped;
                     log = Some(match log {
-                        Some(inline) => format!("{inline}\n{}", tail.text),
+                        Some(inline) => {
+                            log_inline_lines = inline.matches('\n').count() + 1;
+                            format!("{inline}\n{}", tail.text)
+                        }
                         None => tail.text,
                     });
                 }
@@ -386,6 +390,7 @@ fn assemble(
             log,
             log_unread,
             log_skipped,
+            log_inline_lines,
             origin,
         });
     }
@@ -450,17 +455,23 @@ fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, Str
     let len = file.metadata().map_err(|e| e.to_string())?.len();
     let window = SCAN_TAIL_BYTES as u64;
     let mut skipped = len.saturating_sub(window);
-    file.seek(SeekFrom::Start(skipped))
+    // One byte before the window too: when it ends a line, the window starts a whole one.
+    let before = skipped.min(1);
+    file.seek(SeekFrom::Start(skipped - before))
         .map_err(|e| e.to_string())?;
     let mut bytes = Vec::new();
     // Bounded: a file that grows while it is read must not be read without end.
-    file.take(window)
+    file.take(window + before)
         .read_to_end(&mut bytes)
         .map_err(|e| e.to_string())?;
-    if skipped > 0 {
-        let start = first_whole_segment(&bytes);
-        bytes.drain(..start);
-        skipped += start as u64;
+    if before == 1 {
+        let line_ends_before = bytes.first() == Some(&b'\n');
+        bytes.remove(0);
+        if !line_ends_before {
+            let start = first_whole_segment(&bytes);
+            bytes.drain(..start);
+            skipped += start as u64;
+        }
     }
     Ok(LogTail {
         text: String::from_utf8_lossy(&bytes).into_owned(),

@@ -181,5 +181,8 @@ pub struct RecordedResult {
     /// Bytes at the start of the log file that were not read: only its tail is, so line
     /// numbers in `log` count from the first line read.
     pub log_skipped: u64,
+    /// Lines of the record's own `log` text that come before the log file's in `log` (0 when
+    /// no log file was read): line numbers past them are the file's.
+    pub log_inline_lines: usize,
     pub origin: Origin,
 }

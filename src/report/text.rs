@@ -686,10 +686,21 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
         .findings
         .iter()
         .filter(|f| Some(&f.cause) != c.log_cause.as_ref())
-        .map(|f| format!("{} (line {})", f.cause, f.line))
+        .map(|f| {
+            let place =
+                crate::verify::compare::log_line_place(c.log_inline_lines, c.log_skipped, f.line);
+            format!("{} ({place})", f.cause)
+        })
         .collect();
     if !others.is_empty() {
         let _ = writeln!(out, "      also in the log: {}", others.join("; "));
+    }
+    if c.evidence.is_none() && c.log_skipped > 0 {
+        let _ = writeln!(
+            out,
+            "      only the log file's tail was read: its first {} bytes were skipped",
+            c.log_skipped
+        );
     }
     if let Some(agree) = c.cause_agrees {
         let _ = writeln!(

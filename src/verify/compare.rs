@@ -74,9 +74,37 @@ pub struct CellReview {
     pub log_unread: Option<String>,
     /// Whether that attempt recorded a log at all (inline or a file, read or not).
     pub log_recorded: bool,
+    /// Bytes at the start of that attempt's log file that were not read (only the tail is):
+    /// a cause found nowhere was looked for there only.
+    #[serde(skip_serializing_if = "is_zero")]
+    pub log_skipped: u64,
+    /// Lines of that attempt's own `log` text before its log file's (see
+    /// [`log_line_place`]), for placing `findings` lines.
+    #[serde(skip)]
+    pub log_inline_lines: usize,
     /// For failures: whether the recorded cause matches the predicted cause class.
     pub cause_agrees: Option<bool>,
     pub suggestion: Option<String>,
+}
+
+fn is_zero(n: &u64) -> bool {
+    *n == 0
+}
+
+/// Where line `line` of a record's `log` is, in words: the record's own `log` text comes
+/// first, then the log file's part that was read, whose lines count from the first line read
+/// when only its tail was (so a number is never passed off as a line of the whole file).
+pub fn log_line_place(inline_lines: usize, skipped: u64, line: usize) -> String {
+    if inline_lines > 0 && line <= inline_lines {
+        return format!("line {line} of the record's `log` text");
+    }
+    let line = line - inline_lines;
+    match skipped {
+        0 => format!("line {line}"),
+        skipped => format!(
+            "line {line} of the part of the log file read, which skips its first {skipped} bytes"
+        ),
+    }
 }
 
 /// Counts of predicted against recorded, flaky and undecided cells left aside.
@@ -560,20 +588,15 @@ pub fn compare(
                 _ => None,
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
-            evidence_at: primary.as_ref().map(|p| {
-                let origin = last_failed
-                    .map(|r| r.origin.to_string())
-                    .unwrap_or_default();
-                // Only a log file's tail is read, so its line numbers cannot count from the
-                // file's start; say where they do count from.
-                match last_failed.map_or(0, |r| r.log_skipped) {
-                    0 => format!("{origin} line {}", p.line),
-                    skipped => format!(
-                        "{origin} line {} of the part read, which skips the log file's first {skipped} bytes",
-                        p.line
-                    ),
-                }
+            evidence_at: primary.as_ref().zip(last_failed).map(|(p, r)| {
+                format!(
+                    "{} {}",
+                    r.origin,
+                    log_line_place(r.log_inline_lines, r.log_skipped, p.line)
+                )
             }),
+            log_skipped: last_failed.map_or(0, |r| r.log_skipped),
+            log_inline_lines: last_failed.map_or(0, |r| r.log_inline_lines),
             log_cause,
             findings,
             log_unread: last_failed.and_then(|r| r.log_unread.clone()),

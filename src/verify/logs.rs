@@ -182,7 +182,9 @@ pub struct LogFinding {
     /// fields (`cause`, and `header` or the like) beside `line` and `evidence`.
     #[serde(flatten)]
     pub cause: LogCause,
-    /// 1-based line number in the whole log.
+    /// 1-based line number in the log as classified: a record's own `log` text, then the
+    /// part of its log file that was read ([`crate::verify::compare::log_line_place`] says
+    /// which).
     pub line: usize,
     /// The line as shown, without escape codes, trimmed and cut to [`EVIDENCE_CHARS`].
     pub evidence: String,
