@@ -174,7 +174,13 @@ fn retries_do_not_hide_an_install_predicted_to_fail() {
 /// came first or last.
 #[test]
 fn retries_do_not_hide_a_drift() {
-    for (first, second) in [("1.2.0", "1.4.2"), ("1.4.2", "1.2.0")] {
+    for (first, second) in [
+        ("1.2.0", "1.4.2"),
+        ("1.4.2", "1.2.0"),
+        // Another build of the predicted release does not hide another release either.
+        ("1.2.0", "1.4.2+b7"),
+        ("1.4.2+b7", "1.2.0"),
+    ] {
         let review = review_of(&format!(
             "results:\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{first}\"}}\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{second}\"}}\n"
         ));

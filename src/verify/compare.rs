@@ -496,10 +496,26 @@ pub fn compare(
             .filter(|r| r.outcome == RecordedOutcome::Installed)
             .filter_map(|r| r.version.as_ref())
             .collect();
+        // Another precedence first (another release), then only other build metadata.
+        let predicted = cell
+            .root_version
+            .as_deref()
+            .and_then(|v| semver::Version::parse(v).ok());
+        let other_release = |v: &&&semver::Version| {
+            predicted
+                .as_ref()
+                .is_none_or(|p| v.cmp_precedence(p).is_ne())
+        };
         let installed = taken
             .iter()
             .rev()
-            .find(|v| Some(v.to_string()) != cell.root_version)
+            .find(other_release)
+            .or_else(|| {
+                taken
+                    .iter()
+                    .rev()
+                    .find(|v| Some(v.to_string()) != cell.root_version)
+            })
             .or(taken.last())
             .copied();
         let installed_version = installed.map(|v| v.to_string());
