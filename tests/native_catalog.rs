@@ -186,7 +186,9 @@ fn a_source_build_needs_the_development_package_the_catalog_names() {
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(
         stdout.starts_with("d on a1: at-risk (1.0.0)")
-            && stdout.contains("needs libraries the catalog does not know: quokka-codec"),
+            && stdout.contains(
+                "needs libraries the catalog has no package for on this image: quokka-codec"
+            ),
         "{stdout}"
     );
 }
@@ -207,6 +209,17 @@ fn a_header_two_libraries_claim_is_refused() {
     assert!(
         e.contains("site.yaml:4:")
             && e.contains("library `my-zlib`: header `zlib.h` is also library `zlib`'s"),
+        "{e}"
+    );
+    // Names and aliases are looked up in lower case; the message shows them as written.
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: my-z\n    aliases: [LibZ]\n    families:\n      debian: {dev: my-z-dev}\n",
+    )
+    .unwrap();
+    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    assert!(
+        e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
         "{e}"
     );
     std::fs::write(

@@ -140,28 +140,30 @@ impl Catalog {
     /// sentence.
     fn claimed_elsewhere(&self, id: &str) -> Option<String> {
         let lib = self.get(id)?;
-        let words = |l: &Library| -> Vec<String> {
-            std::iter::once(&l.id)
-                .chain(&l.aliases)
-                .map(|w| w.to_lowercase())
-                .collect()
-        };
-        let claims = |l: &Library| -> Vec<(&'static str, String)> {
-            let mut out: Vec<(&'static str, String)> = Vec::new();
-            out.extend(l.headers.iter().map(|h| ("header", h.clone())));
-            out.extend(l.link.iter().map(|k| ("link name", k.clone())));
+        // (what, the key looked up, as written): names and aliases are looked up in lower case.
+        let claims = |l: &Library| -> Vec<(&'static str, String, String)> {
+            let mut out: Vec<(&'static str, String, String)> = Vec::new();
+            out.extend(l.headers.iter().map(|h| ("header", h.clone(), h.clone())));
+            out.extend(l.link.iter().map(|k| ("link name", k.clone(), k.clone())));
             out.extend(
                 l.pkg_config
                     .iter()
-                    .map(|p| ("pkg-config module", p.clone())),
+                    .map(|p| ("pkg-config module", p.clone(), p.clone())),
             );
-            out.extend(words(l).into_iter().map(|w| ("name or alias", w)));
+            out.extend(
+                std::iter::once(&l.id)
+                    .chain(&l.aliases)
+                    .map(|w| ("name or alias", w.to_lowercase(), w.clone())),
+            );
             out
         };
         let mine = claims(lib);
         self.libraries.iter().filter(|o| o.id != id).find_map(|other| {
             let theirs = claims(other);
-            mine.iter().find(|c| theirs.contains(c)).map(|(what, value)| {
+            let taken = |(what, key, _): &&(&str, String, String)| {
+                theirs.iter().any(|(w, k, _)| w == what && k == key)
+            };
+            mine.iter().find(taken).map(|(what, _, value)| {
                 format!(
                     "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
                     other.id

@@ -580,7 +580,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         }
         if !a.unknown_libraries.is_empty() {
             why.push(format!(
-                "needs libraries the catalog does not know: {}",
+                "needs libraries the catalog has no package for on this image: {}",
                 a.unknown_libraries.join(", ")
             ));
         }
