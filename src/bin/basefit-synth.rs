@@ -89,7 +89,7 @@ fn main() -> ExitCode {
                     "dependencies",
                     args.edges as u64,
                     s.dependencies,
-                    "a version depends on each other package at most once",
+                    "no more fit the shape it generates (a version depends on another package at most once, and not on every package)",
                 ),
             ] {
                 if written < asked {

@@ -422,7 +422,9 @@ fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, Str
                 return Err(format!("an absolute path is not read; {UNDER}"));
             }
             Component::ParentDir if depth == 0 => {
-                return Err(format!("leads out of the results file's folder; {UNDER}"));
+                return Err(format!(
+                    "goes up through `..` above the results file's folder; {UNDER}"
+                ));
             }
             Component::ParentDir => depth -= 1,
             Component::Normal(_) => depth += 1,
