@@ -371,6 +371,23 @@ fn require_planned_images(
     BadInput::combine(errors).map_or(Ok(()), Err)
 }
 
+/// A note for stderr when a matrix read from a file records no system packages for some
+/// image (written before it did): those were not checked against the images file, and a
+/// clean run would otherwise read as if they had been.
+fn packages_unchecked_note(matrix: &Matrix, path: &std::path::Path, out: &mut Output) {
+    let unchecked = matrix
+        .images
+        .iter()
+        .filter(|i| i.packages.is_none())
+        .count();
+    if unchecked > 0 {
+        out.stderr.push(format!(
+            "note: {} records no system packages for {unchecked} of its images (written by an older basefit): the images file's packages were not checked against it; plan again to check them",
+            path.display()
+        ));
+    }
+}
+
 /// A note for stderr when results set against a matrix read from a file name cells it does
 /// not have: planned afresh, their packages would have been planned too and compared, so a
 /// gate on the file's review could pass where a fresh one fails.
@@ -742,6 +759,9 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         "without --matrix their packages are planned and compared too",
         &mut out,
     );
+    if let Some(path) = &o.matrix {
+        packages_unchecked_note(&matrix, path, &mut out);
+    }
     Ok(out)
 }
 
@@ -971,6 +991,9 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             "the support matrix shows the priority list's packages only (`review` compares them all)",
             &mut out,
         );
+        if let Some(path) = &o.matrix {
+            packages_unchecked_note(&matrix, path, &mut out);
+        }
     }
     data_quality_note(&inputs, &mut out);
     match &o.out {

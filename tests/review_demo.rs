@@ -476,6 +476,36 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
             "json",
         ])
     };
+    // A matrix written before images recorded their packages is still read, with a note
+    // that the packages went unchecked.
+    let mut old: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    for image in old["images"].as_array_mut().unwrap() {
+        image.as_object_mut().unwrap().remove("packages");
+    }
+    let old_matrix = common::write(dir.path(), "old.json", old.to_string());
+    for command in ["review", "render"] {
+        let (code, _, err) = common::run_basefit([
+            command,
+            "--registry",
+            "demo-data/registry.yaml",
+            "--images",
+            repacked.to_str().unwrap(),
+            "--matrix",
+            old_matrix.to_str().unwrap(),
+            "--results",
+            "demo-data/results.yaml",
+            "--format",
+            "json",
+        ]);
+        assert_ne!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(
+                "records no system packages for 10 of its images (written by an older basefit)"
+            ),
+            "{command}: {err}"
+        );
+    }
     for command in ["review", "render"] {
         let (code, _, err) = run(command, &changed);
         assert_eq!(code, 2, "{command}: {err}");
@@ -505,6 +535,7 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
         for images in [std::path::Path::new("matrices/demo-images.yaml"), &rebuilt] {
             let (code, _, err) = run(command, images);
             assert_ne!(code, 2, "{command} {}: {err}", images.display());
+            assert!(!err.contains("records no system packages"), "{err}");
         }
     }
 }
