@@ -461,7 +461,7 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
         "rebuilt.yaml",
         demo_images.replacen("runtime: 2.4.9", "runtime: 2.4.9+deb1", 1),
     );
-    let run = |command: &str, images: &std::path::Path| {
+    let run_on = |command: &str, images: &std::path::Path, matrix: &std::path::Path| {
         common::run_basefit([
             command,
             "--registry",
@@ -476,6 +476,7 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
             "json",
         ])
     };
+    let run = |command: &str, images: &std::path::Path| run_on(command, images, &matrix);
     // A matrix written before images recorded their packages is still read, with a note
     // that the packages went unchecked.
     let mut old: serde_json::Value =
@@ -485,19 +486,7 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
     }
     let old_matrix = common::write(dir.path(), "old.json", old.to_string());
     for command in ["review", "render"] {
-        let (code, _, err) = common::run_basefit([
-            command,
-            "--registry",
-            "demo-data/registry.yaml",
-            "--images",
-            repacked.to_str().unwrap(),
-            "--matrix",
-            old_matrix.to_str().unwrap(),
-            "--results",
-            "demo-data/results.yaml",
-            "--format",
-            "json",
-        ]);
+        let (code, _, err) = run_on(command, &repacked, &old_matrix);
         assert_ne!(code, 2, "{command}: {err}");
         assert!(
             err.contains(
