@@ -288,7 +288,8 @@ struct ImageplanArgs {
     /// Share of priority weight a runtime must resolve, between 0 and 1.
     #[arg(long, default_value_t = 0.95)]
     target: f64,
-    /// Folder to write imageplan.yaml and coverage.svg into.
+    /// Folder to write imageplan.yaml and coverage.svg into (coverage-ID.svg for each further
+    /// base image).
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
     #[arg(long, value_enum, default_value = "table")]

@@ -383,3 +383,25 @@ fn priority_csv_flags_read_as_the_bulk_csv_flags_do() {
         "{text}"
     );
 }
+
+/// All four demo inputs loaded together (as `check` and every planning command load them):
+/// the registry's nine planted problems, and gidgee-auth, the priority entry the registry
+/// lacks (demo-data/STORIES.md, "Ledger expected when loading"); nothing else.
+#[test]
+fn all_demo_inputs_together_give_the_ten_problems_stories_lists() {
+    let d = root().join("demo-data");
+    let inputs = basefit::load::load_inputs(&basefit::load::InputPaths {
+        registry: vec![d.join("registry.yaml")],
+        images: Some(root().join("matrices/demo-images.yaml")),
+        priorities: Some(d.join("priorities.yaml")),
+        results: vec![d.join("results.yaml")],
+        ..Default::default()
+    })
+    .unwrap();
+    let ledger = &inputs.ledger;
+    assert_eq!(ledger.problems.len(), 10, "{:?}", ledger.problems);
+    assert_eq!(
+        subjects(ledger, ProblemKind::UnknownPackage),
+        ["gidgee-auth"]
+    );
+}
