@@ -41,6 +41,26 @@ fn check(registry: &Path, images: &Path) -> (i32, String, String) {
     (code, stderr, stdout)
 }
 
+/// `check` on `registry` and `images`: asserts it found problems (exit 1), that its report
+/// holds each of `wants`, and, when given, the (read, used, left out) counts of one kind of
+/// record; returns the report.
+fn assert_check_finds(
+    registry: &Path,
+    images: &Path,
+    wants: &[&str],
+    counts: Option<(&str, [&str; 3])>,
+) -> String {
+    let (code, stderr, stdout) = check(registry, images);
+    assert_eq!(code, 1, "problems found gives exit 1; stderr: {stderr}");
+    for want in wants {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    if let Some((kind, want)) = counts {
+        assert_eq!(record_counts(&stdout, kind), want, "{kind}: {stdout}");
+    }
+    stdout
+}
+
 fn assert_bad(registry_text: &[u8], want_line: Option<usize>, want_words: &[&str]) {
     let d = dir();
     let reg = write(d.path(), "registry.yaml", registry_text);
@@ -127,15 +147,12 @@ fn unreadable_version_is_reported_and_the_rest_used() {
         b"packages:\n  - name: fernwood\n    versions:\n      - {version: 1.0.0}\n      - {version: nightly-build}\n",
     );
     let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
-    let (code, stderr, stdout) = check(&reg, &img);
-    assert_eq!(code, 1, "problems found gives exit 1; stderr: {stderr}");
-    assert!(stdout.contains("registry.yaml:5"), "{stdout}");
-    assert!(stdout.contains("fernwood@nightly-build"), "{stdout}");
     // version records: 2 read, 1 used, 1 left out.
-    assert_eq!(
-        record_counts(&stdout, "version records"),
-        ["2", "1", "1"],
-        "{stdout}"
+    assert_check_finds(
+        &reg,
+        &img,
+        &["registry.yaml:5", "fernwood@nightly-build"],
+        Some(("version records", ["2", "1", "1"])),
     );
 }
 
@@ -223,20 +240,16 @@ fn unknown_image_family_leaves_out_only_that_image() {
         )
         .as_bytes(),
     );
-    let (code, stderr, stdout) = check(&reg, &img);
-    assert_eq!(code, 1, "stderr: {stderr}");
-    for want in [
-        "images.yaml:6  odd: family `gentoo`: expected debian, alpine or rhel",
-        "images.yaml:8  heir: its base `odd` cannot be built: family `gentoo`: expected debian, alpine or rhel",
-        "images.yaml:10  fixed: its base `odd` cannot be built: family `gentoo`",
-        "images that cannot be built (left out) (bad-image): 3",
-    ] {
-        assert!(stdout.contains(want), "wanted {want} in {stdout}");
-    }
-    assert_eq!(
-        record_counts(&stdout, "image records"),
-        ["4", "1", "3"],
-        "{stdout}"
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "images.yaml:6  odd: family `gentoo`: expected debian, alpine or rhel",
+            "images.yaml:8  heir: its base `odd` cannot be built: family `gentoo`: expected debian, alpine or rhel",
+            "images.yaml:10  fixed: its base `odd` cannot be built: family `gentoo`",
+            "images that cannot be built (left out) (bad-image): 3",
+        ],
+        Some(("image records", ["4", "1", "3"])),
     );
 }
 
@@ -979,15 +992,16 @@ fn version_record_field_problems_name_the_line_of_the_value() {
         .as_bytes(),
     );
     let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
-    let (code, stderr, stdout) = check(&reg, &img);
-    assert_eq!(code, 1, "stderr: {stderr}");
-    for want in [
-        "registry.yaml:6  fernwood@1.0.0: `someday` is not a date",
-        "registry.yaml:9  fernwood@1.1.0: runtime requirement",
-        "registry.yaml:11  fernwood@v2.0: read as 2.0.0",
-    ] {
-        assert!(stdout.contains(want), "wanted {want} in {stdout}");
-    }
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "registry.yaml:6  fernwood@1.0.0: `someday` is not a date",
+            "registry.yaml:9  fernwood@1.1.0: runtime requirement",
+            "registry.yaml:11  fernwood@v2.0: read as 2.0.0",
+        ],
+        None,
+    );
 }
 
 /// A prebuilt platform that cannot be read leaves out its version alone, named at the line of
@@ -1013,22 +1027,14 @@ fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
         .as_bytes(),
     );
     let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
-    let (code, stderr, stdout) = check(&reg, &img);
-    assert_eq!(code, 1, "stderr: {stderr}");
-    assert!(
-        stdout.contains(
-            "registry.yaml:9  fernwood@1.1.0: prebuilt platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64"
-        ),
-        "{stdout}"
-    );
-    assert!(
-        stdout.contains("records with an unusable value (left out) (bad-value): 1"),
-        "{stdout}"
-    );
-    assert_eq!(
-        record_counts(&stdout, "version records"),
-        ["2", "1", "1"],
-        "{stdout}"
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "registry.yaml:9  fernwood@1.1.0: prebuilt platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
+            "records with an unusable value (left out) (bad-value): 1",
+        ],
+        Some(("version records", ["2", "1", "1"])),
     );
 }
 
@@ -1057,19 +1063,15 @@ fn unreadable_image_platform_leaves_out_only_that_image() {
         )
         .as_bytes(),
     );
-    let (code, stderr, stdout) = check(&reg, &img);
-    assert_eq!(code, 1, "stderr: {stderr}");
-    for want in [
-        "images.yaml:6  odd: platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
-        "images.yaml:8  heir: its base `odd` cannot be built: platform `linux-x86_64`: expected a platform as os/libc/arch",
-        "images that cannot be built (left out) (bad-image): 2",
-    ] {
-        assert!(stdout.contains(want), "wanted {want} in {stdout}");
-    }
-    assert_eq!(
-        record_counts(&stdout, "image records"),
-        ["4", "2", "2"],
-        "{stdout}"
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "images.yaml:6  odd: platform `linux-x86_64`: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
+            "images.yaml:8  heir: its base `odd` cannot be built: platform `linux-x86_64`: expected a platform as os/libc/arch",
+            "images that cannot be built (left out) (bad-image): 2",
+        ],
+        Some(("image records", ["4", "2", "2"])),
     );
     // The images that are left are planned.
     let (code, stdout, stderr) = common::run_basefit([
