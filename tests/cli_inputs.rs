@@ -776,19 +776,34 @@ fn csv_without_column_names_says_why_and_names_the_header_line() {
             );
         }
         for (text, line) in [(",,\n", 1), ("\n\n,,\n", 3), ("\r\n , \r\nx,y\r\n", 2)] {
-            let path = write(d.path(), name, text.as_bytes());
-            let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
-            assert_eq!(code, 2, "{flag} {text:?}: stdout {stdout} stderr {stderr}");
-            let want = format!(
-                "{}:{line}: the header has no column names, only empty cells; expected a header line",
-                path.display()
-            );
-            assert!(
-                stderr.contains(&want),
-                "{text:?}: wanted {want} in {stderr}"
+            assert_refused_at_line(
+                d.path(),
+                (flag, name),
+                text,
+                line,
+                "the header has no column names, only empty cells; expected a header line",
             );
         }
     }
+}
+
+/// Writes `text` as the file `name` given to `flag`, and asserts `check` refuses it (exit 2)
+/// with `message` at `line` of that file.
+fn assert_refused_at_line(
+    dir: &Path,
+    (flag, name): (&str, &str),
+    text: &str,
+    line: usize,
+    message: &str,
+) {
+    let path = write(dir, name, text.as_bytes());
+    let (code, stdout, stderr) = check_with(dir, &[(flag, &path)]);
+    assert_eq!(code, 2, "{flag} {text:?}: stdout {stdout} stderr {stderr}");
+    let want = format!("{}:{line}: {message}", path.display());
+    assert!(
+        stderr.contains(&want),
+        "{text:?}: wanted {want} in {stderr}"
+    );
 }
 
 /// A priorities CSV with a header and no row is refused at the header's line, as every
@@ -801,16 +816,12 @@ fn priorities_csv_with_no_rows_is_refused_at_its_header() {
         ("\n\nname,weight\n\n\n", 3),
         ("\r\nname\r\n\r\n", 2),
     ] {
-        let path = write(d.path(), "p.csv", text.as_bytes());
-        let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &path)]);
-        assert_eq!(code, 2, "{text:?}: stdout {stdout} stderr {stderr}");
-        let want = format!(
-            "{}:{line}: no priority entries after the header",
-            path.display()
-        );
-        assert!(
-            stderr.contains(&want),
-            "{text:?}: wanted {want} in {stderr}"
+        assert_refused_at_line(
+            d.path(),
+            ("--priorities", "p.csv"),
+            text,
+            line,
+            "no priority entries after the header",
         );
     }
 }
