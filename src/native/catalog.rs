@@ -9,7 +9,7 @@ use crate::load::yaml::{self, Ctx, Node};
 use crate::model::OsFamily;
 use crate::solve::image::BuildKind;
 use serde::Serialize;
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::Path;
 
 const BUILTIN: &str = include_str!("catalog.yaml");
@@ -74,6 +74,25 @@ pub struct Catalog {
     by_word: BTreeMap<String, usize>,
 }
 
+/// What a library claims for lookups, as (what, the key looked up, as written): names and
+/// aliases are looked up in lower case.
+fn claims(l: &Library) -> Vec<(&'static str, String, String)> {
+    let mut out: Vec<(&'static str, String, String)> = Vec::new();
+    out.extend(l.headers.iter().map(|h| ("header", h.clone(), h.clone())));
+    out.extend(l.link.iter().map(|k| ("link name", k.clone(), k.clone())));
+    out.extend(
+        l.pkg_config
+            .iter()
+            .map(|p| ("pkg-config module", p.clone(), p.clone())),
+    );
+    out.extend(
+        std::iter::once(&l.id)
+            .chain(&l.aliases)
+            .map(|w| ("name or alias", w.to_lowercase(), w.clone())),
+    );
+    out
+}
+
 impl Catalog {
     /// The catalog shipped with basefit.
     ///
@@ -126,50 +145,37 @@ impl Catalog {
             }
         }
         // A header, link name, pkg-config module or name that two libraries claim would be
-        // looked up as one of them only, the other never found: refused, naming both.
+        // looked up as one of them only, the other never found: refused, naming both. One
+        // pass over every claim, since the shipped catalog goes through here on every run.
+        let mut owners: HashMap<(&str, String), Vec<usize>> = HashMap::new();
+        for (i, lib) in self.libraries.iter().enumerate() {
+            for (what, key, _) in claims(lib) {
+                let owners = owners.entry((what, key)).or_default();
+                if !owners.contains(&i) {
+                    owners.push(i);
+                }
+            }
+        }
         for (line, id) in lines {
-            if let Some(clash) = self.claimed_elsewhere(&id) {
-                return Err(BadInput::at(file, line, clash));
+            let Some(mine) = self.libraries.iter().position(|l| l.id == id) else {
+                continue;
+            };
+            for (what, key, value) in claims(&self.libraries[mine]) {
+                let other = owners[&(what, key)].iter().find(|&&o| o != mine);
+                if let Some(&other) = other {
+                    return Err(BadInput::at(
+                        file,
+                        line,
+                        format!(
+                            "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
+                            self.libraries[other].id
+                        ),
+                    ));
+                }
             }
         }
         self.reindex();
         Ok(())
-    }
-
-    /// What library `id` claims that another library of the catalog claims too, as a
-    /// sentence.
-    fn claimed_elsewhere(&self, id: &str) -> Option<String> {
-        let lib = self.get(id)?;
-        // (what, the key looked up, as written): names and aliases are looked up in lower case.
-        let claims = |l: &Library| -> Vec<(&'static str, String, String)> {
-            let mut out: Vec<(&'static str, String, String)> = Vec::new();
-            out.extend(l.headers.iter().map(|h| ("header", h.clone(), h.clone())));
-            out.extend(l.link.iter().map(|k| ("link name", k.clone(), k.clone())));
-            out.extend(
-                l.pkg_config
-                    .iter()
-                    .map(|p| ("pkg-config module", p.clone(), p.clone())),
-            );
-            out.extend(
-                std::iter::once(&l.id)
-                    .chain(&l.aliases)
-                    .map(|w| ("name or alias", w.to_lowercase(), w.clone())),
-            );
-            out
-        };
-        let mine = claims(lib);
-        self.libraries.iter().filter(|o| o.id != id).find_map(|other| {
-            let theirs = claims(other);
-            let taken = |(what, key, _): &&(&str, String, String)| {
-                theirs.iter().any(|(w, k, _)| w == what && k == key)
-            };
-            mine.iter().find(taken).map(|(what, _, value)| {
-                format!(
-                    "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
-                    other.id
-                )
-            })
-        })
     }
 
     fn reindex(&mut self) {
