@@ -453,8 +453,7 @@ fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, Str
             file_kind(kind)
         ));
     }
-    let mut file = std::fs::File::open(&real).map_err(|e| e.to_string())?;
-    let len = file.metadata().map_err(|e| e.to_string())?.len();
+    let (mut file, len) = open_regular(&real)?;
     let window = SCAN_TAIL_BYTES as u64;
     let mut skipped = len.saturating_sub(window);
     // One byte before the window too: when it ends a line, the window starts a whole one.
@@ -481,6 +480,29 @@ fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, Str
     })
 }
 
+/// Opens `path` only if what it names, once open, is a regular file; returns it and its length.
+/// The check before the open gives the plain message; this one closes the gap between check
+/// and open, where a file swapped for a FIFO would otherwise block the open until a writer
+/// came. Opening without blocking changes nothing for a regular file's reads.
+fn open_regular(path: &Path) -> Result<(std::fs::File, u64), String> {
+    let mut options = std::fs::OpenOptions::new();
+    options.read(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        options.custom_flags(libc::O_NONBLOCK);
+    }
+    let file = options.open(path).map_err(|e| e.to_string())?;
+    let meta = file.metadata().map_err(|e| e.to_string())?;
+    if !meta.file_type().is_file() {
+        return Err(format!(
+            "{}, not a regular file; only regular files are read",
+            file_kind(meta.file_type())
+        ));
+    }
+    Ok((file, meta.len()))
+}
+
 /// What a file that is not a regular file is, for the message refusing it.
 fn file_kind(kind: std::fs::FileType) -> &'static str {
     #[cfg(unix)]
@@ -500,5 +522,43 @@ fn file_kind(kind: std::fs::FileType) -> &'static str {
         "a directory"
     } else {
         "a special file"
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The open itself must refuse a FIFO without waiting for a writer, since the path may
+    /// have been swapped for one after the type check in `read_log_file`.
+    #[cfg(unix)]
+    #[test]
+    fn opening_a_fifo_neither_blocks_nor_reads_it() {
+        let dir = tempfile::tempdir().unwrap();
+        let fifo = dir.path().join("swapped.log");
+        let made = std::process::Command::new("mkfifo").arg(&fifo).status();
+        if !made.is_ok_and(|s| s.success()) {
+            eprintln!("skipped: mkfifo failed");
+            return;
+        }
+        let (tx, rx) = std::sync::mpsc::channel();
+        std::thread::spawn(move || {
+            let _ = tx.send(open_regular(&fifo).map(|(_, len)| len));
+        });
+        // A blocked open never answers; the thread is left behind when the test ends.
+        let answer = rx
+            .recv_timeout(std::time::Duration::from_secs(10))
+            .expect("opening the FIFO blocked");
+        let why = answer.expect_err("a FIFO was opened as a log");
+        assert!(why.starts_with("a FIFO, not a regular file"), "{why}");
+    }
+
+    #[test]
+    fn opening_a_regular_file_gives_its_length() {
+        let dir = tempfile::tempdir().unwrap();
+        let log = dir.path().join("install.log");
+        std::fs::write(&log, "line one\nline two\n").unwrap();
+        let (_, len) = open_regular(&log).unwrap();
+        assert_eq!(len, 18);
     }
 }
