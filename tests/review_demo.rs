@@ -835,7 +835,7 @@ fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
     let (_, text) = review_file(dir.path(), "results.yaml", &yaml, "table");
     assert!(!text.contains("cause not recognised"), "{text}");
     assert!(
-        text.contains("failed, log could not be read:")
+        text.contains("failed, log file could not be read:")
             && text.contains("failed, no log recorded:"),
         "{text}"
     );
@@ -845,9 +845,10 @@ fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
         (4, "the log must lie under the results file's folder"),
     ] {
         assert!(
-            text.lines().any(|l| l.contains("log could not be read: ")
-                && l.contains(&format!("results.yaml:{line}: log file "))
-                && l.contains(why)),
+            text.lines()
+                .any(|l| l.contains("log file could not be read: ")
+                    && l.contains(&format!("results.yaml:{line}: log file "))
+                    && l.contains(why)),
             "line {line}: {text}"
         );
     }
@@ -870,4 +871,43 @@ fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
         "{why}"
     );
     assert_eq!(unread("tidewater-http"), serde_json::Value::Null);
+}
+
+#[test]
+fn a_record_whose_log_file_is_unread_still_has_its_own_log_text_read() {
+    let dir = tempfile::tempdir().unwrap();
+    let yaml = "results:\n\
+        \x20 - {package: currawong, image: deb-2.4, outcome: failed, log: 'step 1 done', log_file: gone.log}\n\
+        \x20 - {package: pixelmoss, image: deb-2.4, outcome: failed, log: \"x\\nmoss.c:1:10: fatal error: moss.h: No such file or directory\", log_file: gone.log}\n\
+        \x20 - {package: gumleaf, image: deb-2.4, outcome: failed, log_file: gone.log}\n";
+    let (_, text) = review_file(dir.path(), "results.yaml", yaml, "table");
+    // Nothing known in the text that was read, and the file was not: both said, apart from a
+    // record with no text of its own.
+    assert!(
+        text.contains(
+            "failed, log file could not be read, no known cause in the record's `log` text:"
+        ) && text.contains("failed, log file could not be read:"),
+        "{text}"
+    );
+    let json = review_file(dir.path(), "results.yaml", yaml, "json").1;
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let pixelmoss = json["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == "pixelmoss")
+        .unwrap();
+    // The cause its own text shows is found, at that text's own line.
+    assert_eq!(
+        pixelmoss["log_cause"]["cause"], "missing-header",
+        "{pixelmoss}"
+    );
+    assert!(
+        pixelmoss["evidence_at"]
+            .as_str()
+            .unwrap()
+            .ends_with("line 2 of the record's `log` text"),
+        "{pixelmoss}"
+    );
+    assert!(pixelmoss["log_unread"].is_string(), "{pixelmoss}");
 }

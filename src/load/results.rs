@@ -370,6 +370,10 @@ fn assemble(
                     });
                 }
                 Err(why) => {
+                    // The record's own text is still read, and its lines are its own.
+                    if let Some(inline) = &log {
+                        log_inline_lines = inline.matches('\n').count() + 1;
+                    }
                     let detail = format!("log file {}: {why}", full.display());
                     ledger.note(
                         ProblemKind::MissingLog,

@@ -602,7 +602,13 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         let key = match (&cell.log_cause, cell.verdict) {
             (_, Verdict::SurpriseInstall) => "installed although predicted to fail".to_string(),
             (Some(lc), _) => lc.label().to_string(),
-            (None, _) if cell.log_unread.is_some() => "failed, log could not be read".to_string(),
+            (None, _) if cell.log_unread.is_some() && cell.log_inline_lines > 0 => {
+                "failed, log file could not be read, no known cause in the record's `log` text"
+                    .to_string()
+            }
+            (None, _) if cell.log_unread.is_some() => {
+                "failed, log file could not be read".to_string()
+            }
             (None, _) if !cell.log_recorded => "failed, no log recorded".to_string(),
             (None, _) => "failed, cause not recognised in the log".to_string(),
         };
@@ -679,7 +685,7 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
         let _ = writeln!(out, "      log ({at}): {e}");
     }
     if let Some(why) = &c.log_unread {
-        let _ = writeln!(out, "      log could not be read: {why}");
+        let _ = writeln!(out, "      log file could not be read: {why}");
     }
     // The other causes the log shows, so none is hidden behind the one acted on.
     let others: Vec<String> = c

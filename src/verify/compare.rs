@@ -700,7 +700,7 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 .or_else(|| {
                     c.log_unread
                         .as_ref()
-                        .map(|why| format!("the log could not be read: {why}"))
+                        .map(|why| format!("the log file could not be read: {why}"))
                 })
                 .unwrap_or_default(),
             attempts: c.attempts.len(),
