@@ -662,3 +662,65 @@ fn an_all_zero_weight_list_has_no_share_anywhere() {
     let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
     assert!(row.ends_with(" 0.0%"), "{row}");
 }
+
+/// One light entry failing beside a very heavy one that resolves: the division rounds to
+/// exactly 1, yet the image is not one where everything installs, so no rendering may say
+/// 100% (the README's promise for shares strictly between 0 and 1).
+#[test]
+fn a_failing_light_entry_beside_a_huge_one_never_reads_as_everything() {
+    let dir = tempfile::tempdir().unwrap();
+    // saltbush fails on deb-2.4 (it needs a newer runtime); tidewater-http installs there.
+    let inputs = common::demo_replacing(
+        dir.path(),
+        "--priorities",
+        "priorities:\n  - {name: tidewater-http, weight: 1e17}\n  - {name: saltbush, weight: 1}\n",
+    );
+    let plan = stdout_of(&["plan"], &inputs, &[]);
+    let row = plan.lines().find(|l| l.starts_with("deb-2.4 ")).unwrap();
+    assert!(row.ends_with(" 99.9%"), "{row}");
+    let row = plan.lines().find(|l| l.starts_with("deb-3.2 ")).unwrap();
+    assert!(row.ends_with(" 100.0%"), "{row}");
+    let json: serde_json::Value =
+        serde_json::from_str(&stdout_of(&["plan"], &inputs, &["--format", "json"])).unwrap();
+    let deb_2_4 = &json["summary"]["images"][0];
+    assert_eq!(deb_2_4["image"], "deb-2.4");
+    assert!(deb_2_4["weight_share"].as_f64().unwrap() < 1.0, "{deb_2_4}");
+    let blocked = json["shared_blockers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|b| b["image"] == "deb-2.4")
+        .unwrap();
+    assert!(
+        blocked["blocked_share"].as_f64().unwrap() > 0.0,
+        "{blocked}"
+    );
+
+    let out = dir.path().join("out");
+    stdout_of(&["render"], &inputs, &["--out", out.to_str().unwrap()]);
+    let md = std::fs::read_to_string(out.join("matrix.md")).unwrap();
+    let md_row = md.lines().find(|l| l.starts_with("| deb-2.4 |")).unwrap();
+    assert!(md_row.ends_with("| 99% |"), "{md_row}");
+
+    let (coverage, _) = coverage_of_deb_2_4(dir.path(), &inputs, "1.0");
+    assert!(
+        coverage.contains("oldest runtime reaching the target: 3.1.2\n"),
+        "{coverage}"
+    );
+    let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+    assert!(row.contains(" 99.9% "), "{row}");
+
+    // 94.99999999% is no 95%, however close: the verdict and the printed share both miss.
+    let inputs = common::demo_replacing(
+        dir.path(),
+        "--priorities",
+        "priorities:\n  - {name: tidewater-http, weight: 9499999999}\n  - {name: saltbush, weight: 500000001}\n",
+    );
+    let (coverage, _) = coverage_of_deb_2_4(dir.path(), &inputs, "0.95");
+    assert!(
+        coverage.contains("oldest runtime reaching the target: 3.1.2\n"),
+        "{coverage}"
+    );
+    let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
+    assert!(row.contains(" 94.99999999% "), "{row}");
+}

@@ -343,6 +343,7 @@ fn svg_escapes_its_text() {
         points: vec![CoveragePoint {
             runtime: "3.0.0</text><script>".to_string(),
             share: Some(0.25),
+            short_share: Some(0.75),
             resolves: Vec::new(),
         }],
         oldest_reaching_target: None,

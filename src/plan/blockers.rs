@@ -29,7 +29,6 @@ pub struct SharedBlocker {
 /// passes its own blockers on, so a low-level package is credited with everything that fails
 /// through it, directly or not.
 pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
-    let total: f64 = m.packages.iter().map(|p| p.weight).sum();
     let weight: BTreeMap<&str, (usize, f64)> = m
         .packages
         .iter()
@@ -88,13 +87,22 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
             }
             blocked.sort_by_key(|b| b.0);
             let blocked_weight: f64 = blocked.iter().map(|b| b.2).sum();
+            // Summed, not `total - blocked_weight`, which can round a small remainder to zero.
+            let blocked_names: std::collections::BTreeSet<&str> =
+                blocked.iter().map(|b| b.1).collect();
+            let rest: f64 = m
+                .packages
+                .iter()
+                .filter(|p| !blocked_names.contains(p.name.as_str()))
+                .map(|p| p.weight)
+                .sum();
             ranked.push(SharedBlocker {
                 image: image.id.clone(),
                 package: name.to_string(),
                 reasons: reasons.get(name).map(by_weight).unwrap_or_default(),
                 blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
                 blocked_weight,
-                blocked_share: super::matrix::weight_share(blocked_weight, total),
+                blocked_share: super::matrix::weight_share(blocked_weight, rest),
             });
         }
         ranked.sort_by(|a, b| {

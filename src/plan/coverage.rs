@@ -18,6 +18,10 @@ pub struct CoveragePoint {
     /// Priority-weighted share of entries that resolve, in `[0, 1]`; `None` (JSON `null`)
     /// when every priority weight is zero.
     pub share: Option<f64>,
+    /// The share that does not resolve, divided from its own weight: `1 - share` would lose
+    /// a small remainder to rounding, and [`reaches`] must see it.
+    #[serde(skip)]
+    pub short_share: Option<f64>,
     /// Entries that resolve here, in priority order.
     pub resolves: Vec<String>,
 }
@@ -133,7 +137,6 @@ pub fn coverage(
             resolves
         })
         .collect();
-    let total: f64 = entries.iter().map(|e| e.weight).sum();
     let points: Vec<CoveragePoint> = runtimes
         .iter()
         .enumerate()
@@ -141,14 +144,18 @@ pub fn coverage(
             let row = &resolved[r * n..(r + 1) * n];
             // A fold from zero, not `sum`: a sum of nothing is negative zero, which the
             // YAML and JSON documents would print as `-0.0` when nothing resolves.
-            let weight = entries
-                .iter()
-                .zip(row)
-                .filter(|(_, ok)| **ok)
-                .fold(0.0, |sum, (e, _)| sum + e.weight);
+            let (weight, rest) =
+                entries
+                    .iter()
+                    .zip(row)
+                    .fold((0.0, 0.0), |(weight, rest), (e, ok)| match ok {
+                        true => (weight + e.weight, rest),
+                        false => (weight, rest + e.weight),
+                    });
             CoveragePoint {
                 runtime: v.to_string(),
-                share: super::matrix::weight_share(weight, total),
+                share: super::matrix::weight_share(weight, rest),
+                short_share: super::matrix::weight_share(rest, weight),
                 resolves: entries
                     .iter()
                     .zip(row)
@@ -180,7 +187,7 @@ pub fn coverage(
         .collect();
     let oldest_reaching_target = points
         .iter()
-        .find(|p| p.share.is_some_and(|share| reaches(share, target)))
+        .find(|p| p.short_share.is_some_and(|short| reaches(short, target)))
         .map(|p| p.runtime.clone());
     Coverage {
         base_image: base.id.clone(),
@@ -193,18 +200,29 @@ pub fn coverage(
     }
 }
 
-/// Whether `share` counts as reaching `target`. A small tolerance, so a share that is exactly
-/// the target in decimal is not missed by floating-point rounding of the weight sum.
-pub fn reaches(share: f64, target: f64) -> bool {
-    share + 1e-9 >= target
+/// Whether a coverage whose unresolved share is `short` reaches `target`: whether `short` is
+/// at most `1 - target`, give or take a relative 1e-12 of it, so a share that is exactly the
+/// target in decimal is not missed by floating-point rounding of the weight sums. Judged on
+/// the unresolved side, so a target of 100% is reached only when nothing with weight fails,
+/// however heavy the rest.
+///
+/// ```
+/// use basefit::plan::coverage::reaches;
+/// assert!(reaches(5.0 / 100.0, 0.95)); // 95 of 100 in decimal: exactly the target
+/// assert!(!reaches(500000001.0 / 1e10, 0.95)); // 94.99999999%
+/// assert!(!reaches(1.0 / (1e17 + 1.0), 1.0));
+/// assert!(reaches(0.0, 1.0));
+/// ```
+pub fn reaches(short: f64, target: f64) -> bool {
+    short <= (1.0 - target) * (1.0 + 1e-12)
 }
 
 /// A coverage as printed beside its target: with the places the target needs, and never
 /// looking equal to a target it misses.
-fn shown(share: Option<f64>, target: f64) -> String {
-    match share {
-        Some(share) => percent_beside(share, target, !reaches(share, target)),
-        None => "n/a".to_string(),
+fn shown(point: &CoveragePoint, target: f64) -> String {
+    match (point.share, point.short_share) {
+        (Some(share), Some(short)) => percent_beside(share, target, !reaches(short, target)),
+        _ => "n/a".to_string(),
     }
 }
 
@@ -243,7 +261,7 @@ pub fn coverage_text(c: &Coverage) -> String {
         };
         rows.push(vec![
             p.runtime.clone(),
-            shown(p.share, c.target),
+            shown(p, c.target),
             list(step.map(|s| &s.drop_out)),
             list(step.map(|s| &s.come_in)),
         ]);
@@ -375,7 +393,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
             x(i),
             y(share),
             crate::report::html::escape_html(&c.points[i].runtime),
-            shown(Some(share), c.target)
+            shown(&c.points[i], c.target)
         );
     }
     for (i, p) in c.points.iter().enumerate() {

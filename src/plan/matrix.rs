@@ -385,6 +385,16 @@ impl Matrix {
                 row.weight
             ));
         }
+        // As the priority list's loader demands: no share of an infinite total means anything.
+        if !self
+            .packages
+            .iter()
+            .map(|p| p.weight)
+            .sum::<f64>()
+            .is_finite()
+        {
+            return Err("the package rows' weights add up to more than a number can hold".into());
+        }
         self.check_names()
     }
 
@@ -659,18 +669,40 @@ pub struct PackageCounts {
     pub images: usize,
 }
 
-/// `part` as a share of `total` priority weight, or `None` when the total is zero (every
+/// `part` as a share of the priority weight `part + rest`, or `None` when that is zero (every
 /// weight zero, which a list may declare): a share of nothing is undefined, and printing it
 /// as 0% would say that nothing resolves. Every share of priority weight is divided here.
-pub fn weight_share(part: f64, total: f64) -> Option<f64> {
-    (total > 0.0).then(|| part / total)
+///
+/// Weight on both sides gives a share strictly between 0 and 1 even where the division
+/// rounds to an end (a weight of 1 failing beside 1e17 resolving): 100% would read as an
+/// image on which everything installs.
+///
+/// ```
+/// use basefit::plan::matrix::weight_share;
+/// assert_eq!(weight_share(3.0, 1.0), Some(0.75));
+/// assert!(weight_share(1e17, 1.0).unwrap() < 1.0);
+/// assert!(weight_share(1.0, 1e300).unwrap() > 0.0);
+/// assert_eq!(weight_share(0.0, 0.0), None);
+/// ```
+pub fn weight_share(part: f64, rest: f64) -> Option<f64> {
+    let total = part + rest;
+    (total > 0.0).then(|| {
+        let share = part / total;
+        if rest > 0.0 && share >= 1.0 {
+            1.0f64.next_down()
+        } else if part > 0.0 && share <= 0.0 {
+            f64::MIN_POSITIVE
+        } else {
+            share
+        }
+    })
 }
 
 /// Summarises a full matrix.
 pub fn summarise(m: &Matrix) -> Summary {
-    let total_weight: f64 = m.packages.iter().map(|p| p.weight).sum();
     let n = m.images.len();
     let mut resolving = vec![0.0; n];
+    let mut not_resolving = vec![0.0; n];
     let mut images: Vec<ImageCounts> = m
         .images
         .iter()
@@ -708,6 +740,8 @@ pub fn summarise(m: &Matrix) -> Summary {
             }
             if cell.outcome.resolves() {
                 resolving[c] += row.weight;
+            } else {
+                not_resolving[c] += row.weight;
             }
             if let Some(cause) = cell.cause {
                 *causes.entry(cause.as_str().to_string()).or_default() += 1;
@@ -715,8 +749,8 @@ pub fn summarise(m: &Matrix) -> Summary {
         }
         packages.push(pc);
     }
-    for (ic, part) in images.iter_mut().zip(resolving) {
-        ic.weight_share = weight_share(part, total_weight);
+    for ((ic, part), rest) in images.iter_mut().zip(resolving).zip(not_resolving) {
+        ic.weight_share = weight_share(part, rest);
     }
     Summary {
         native_skipped: m.native_skipped,

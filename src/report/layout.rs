@@ -164,19 +164,16 @@ impl ColumnCounts {
 
 /// Per-image counts over a grid from [`grid`].
 pub(crate) fn column_counts(m: &Matrix, grid: &[Vec<Option<(usize, &Cell)>>]) -> Vec<ColumnCounts> {
-    let total: f64 = m
-        .packages
-        .iter()
-        .map(|p| p.weight)
-        .filter(|w| w.is_finite() && *w > 0.0)
-        .sum();
     (0..m.images.len())
         .map(|c| {
             let mut k = ColumnCounts::default();
-            let mut resolving = 0.0;
+            let (mut resolving, mut rest) = (0.0, 0.0);
             for (r, row) in grid.iter().enumerate() {
+                let w = m.packages.get(r).map_or(0.0, |p| p.weight);
+                let w = if w.is_finite() && w > 0.0 { w } else { 0.0 };
                 let Some((_, cell)) = row.get(c).copied().flatten() else {
                     k.missing += 1;
+                    rest += w;
                     continue;
                 };
                 match cell.outcome {
@@ -191,12 +188,13 @@ pub(crate) fn column_counts(m: &Matrix, grid: &[Vec<Option<(usize, &Cell)>>]) ->
                     Some(Mark::Unsettled) => k.unsettled += 1,
                     None => {}
                 }
-                let w = m.packages.get(r).map_or(0.0, |p| p.weight);
-                if cell.outcome.resolves() && w.is_finite() && w > 0.0 {
+                if cell.outcome.resolves() {
                     resolving += w;
+                } else {
+                    rest += w;
                 }
             }
-            k.weight_share = crate::plan::matrix::weight_share(resolving, total);
+            k.weight_share = crate::plan::matrix::weight_share(resolving, rest);
             k
         })
         .collect()

@@ -122,12 +122,13 @@ pub fn percent_beside(share: f64, target: f64, misses: bool) -> String {
             .parse::<f64>()
             .unwrap_or(f64::NAN)
     };
-    // A miss lies more than the reaching tolerance (1e-9 of the share, 1e-7 percentage
-    // points) below the target, so twelve places always tell them apart.
-    (places..=12)
+    // A miss lies more than the reaching tolerance below the target (1e-12 of the share
+    // that may fail; at a target of 100%, the clamp of `percent` already prints it below),
+    // so a share's seventeen significant places tell them apart.
+    (places..=17)
         .map(|d| percent(share, d))
         .find(|shown| number(shown) < number(&goal))
-        .unwrap_or_else(|| percent(share, 12))
+        .unwrap_or_else(|| percent(share, 17))
 }
 
 /// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so an
@@ -296,7 +297,7 @@ mod tests {
         assert_eq!(target_percent(0.9753), "97.53%");
         // Reaching by the tolerance of `coverage::reaches`, a share prints as the target,
         // not below it.
-        assert_eq!(percent_beside(1.0 - 1e-10, 1.0, false), "100.0%");
+        assert_eq!(percent_beside(0.95 - 1e-16, 0.95, false), "95.0%");
         assert_eq!(percent_beside(0.9999, 0.9999999999999, true), "99.9%");
     }
 }
