@@ -37,7 +37,7 @@ impl Output {
         Output {
             stdout: match format {
                 Format::Json => report::to_json(value),
-                Format::Table => text(value),
+                Format::Table => report::visible(&text(value)).into_owned(),
             },
             stderr: Vec::new(),
             exit: if found { exit::FOUND } else { exit::OK },
@@ -496,7 +496,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Format::Json => {
             report::to_json(&serde_json::json!({ "summary": summary, "shared_blockers": shared }))
         }
-        Format::Table => text::plan_text(&summary, &shared),
+        Format::Table => report::visible(&text::plan_text(&summary, &shared)).into_owned(),
     };
     data_quality_note(&inputs, &mut out);
     Ok(out)
@@ -617,10 +617,12 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
 }
 
 fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
-    read_json(
+    let mut m: Matrix = read_json(
         path,
         "basefit matrix in JSON (merge reads the matrix.json that `plan --shard` wrote)",
-    )
+    )?;
+    m.notice = plan::matrix::NOTICE.to_string();
+    Ok(m)
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.
@@ -691,7 +693,12 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
         err
     })?;
     m.check_layout().map_err(|e| BadInput::file(&file, e))?;
-    Ok(m)
+    // Every rendering carries this basefit's warning, whatever a file says in its place: an
+    // edited or emptied notice must not leave JSON and YAML without one.
+    Ok(Matrix {
+        notice: plan::matrix::NOTICE.to_string(),
+        ..m
+    })
 }
 
 pub struct ReviewCommand {
@@ -771,7 +778,8 @@ pub struct DiffCommand {
     pub format: Format,
 }
 
-/// `diff`: what changed between two matrices. Exit 1 when anything did.
+/// `diff`: what changed between two matrices. Exit 1 when anything did, a cell or only what
+/// the renderings show besides.
 pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
@@ -780,7 +788,7 @@ pub fn diff(o: &DiffCommand) -> Result<Output> {
         o.format,
         &d,
         text::diff_text,
-        !d.changes.is_empty(),
+        !d.changes.is_empty() || !d.unified.is_empty(),
     ))
 }
 
@@ -937,7 +945,7 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
         s.push_str(&plan::preinstall::preinstall_text(pre));
         s.push('\n');
     }
-    out.stdout = s;
+    out.stdout = report::visible(&s).into_owned();
     Ok(out)
 }
 

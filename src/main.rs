@@ -479,7 +479,7 @@ fn main() -> ExitCode {
     match result {
         Ok(out) => {
             for line in &out.stderr {
-                eprintln!("{line}");
+                eprintln!("{}", basefit::report::visible(line));
             }
             let mut stdout = std::io::stdout().lock();
             // A closed pipe (e.g. `| head`) ends the run quietly.
@@ -495,10 +495,12 @@ fn main() -> ExitCode {
             ExitCode::from(out.exit)
         }
         Err(e) => {
-            match e.downcast_ref::<BadInput>() {
-                Some(bad) => eprintln!("basefit: {bad}"),
-                None => eprintln!("basefit: {e:#}"),
-            }
+            // Messages quote input files, which may hold anything.
+            let message = match e.downcast_ref::<BadInput>() {
+                Some(bad) => bad.to_string(),
+                None => format!("{e:#}"),
+            };
+            eprintln!("basefit: {}", basefit::report::visible(&message));
             ExitCode::from(exit::BAD_INPUT)
         }
     }

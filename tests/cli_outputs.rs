@@ -192,7 +192,7 @@ fn a_matrix_planned_without_native_checks_says_so_wherever_it_is_shown() {
         );
     }
     let (_, agree, _) = run(&["diff"], &[&full, &full]);
-    assert_eq!(agree, "the matrices agree\n");
+    assert!(agree.starts_with("the matrices agree\n"), "{agree}");
 
     // A matrix written before the field existed reads as one planned with native checks, and
     // so does a full plan: neither carries the warning.
@@ -723,4 +723,148 @@ fn a_failing_light_entry_beside_a_huge_one_never_reads_as_everything() {
     );
     let row = coverage.lines().find(|l| l.starts_with("2.4.9 ")).unwrap();
     assert!(row.contains(" 94.99999999% "), "{row}");
+}
+
+/// The demo's matrix.json planned into `dir`, parsed, and a writer for edited copies.
+fn demo_matrix(dir: &Path) -> (String, serde_json::Value) {
+    let path = plan_into(dir, &[]);
+    let json = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    (path, json)
+}
+
+fn write_json(dir: &Path, name: &str, value: &serde_json::Value) -> String {
+    let path = common::write(dir, name, serde_json::to_string_pretty(value).unwrap());
+    path.to_str().unwrap().to_string()
+}
+
+const NOTICE: &str =
+    "Predicted from declared metadata only: confirm with real installs before shipping an image.";
+
+/// A matrix whose cells all agree but whose image now has another runtime is not "the same":
+/// the support matrix a reader publishes changes, so `diff` shows the renderings' diff,
+/// exits 1, and, like every human-readable report, ends with the notice.
+#[test]
+fn diff_shows_a_changed_rendering_even_when_no_cell_moved() {
+    let dir = tempfile::tempdir().unwrap();
+    let (before, mut m) = demo_matrix(dir.path());
+    assert_eq!(m["images"][0]["runtime"], "2.4.9");
+    m["images"][0]["runtime"] = "2.4.10".into();
+    let after = write_json(dir.path(), "after.json", &m);
+    let (code, out, err) = run(&["diff"], &[&before, &after]);
+    assert_eq!(code, 1, "{out}{err}");
+    assert!(
+        out.starts_with("no cell's outcome, cause or version changed, but the renderings differ"),
+        "{out}"
+    );
+    assert!(
+        out.lines()
+            .any(|l| l.starts_with('+') && l.contains("2.4.10")),
+        "{out}"
+    );
+    assert!(
+        out.trim_end().ends_with(NOTICE.trim_end_matches('.')) || out.contains(NOTICE),
+        "{out}"
+    );
+    let (code, out, _) = run(&["diff"], &[&before, &before]);
+    assert_eq!(code, 0);
+    assert!(
+        out.starts_with("the matrices agree\n") && out.contains(NOTICE),
+        "{out}"
+    );
+}
+
+/// Names come from registries nobody vetted: an escape sequence in one must reach the
+/// terminal as visible text, not clear the screen or hide the lines after it.
+#[test]
+fn control_characters_in_names_print_as_escapes_in_text_reports() {
+    let dir = tempfile::tempdir().unwrap();
+    let (before, mut m) = demo_matrix(dir.path());
+    let evil = "wattle\u{1b}[8m-core\u{202e}x";
+    m["packages"][1]["name"] = evil.into();
+    for cell in m["cells"].as_array_mut().unwrap() {
+        if cell["package"] == "wattle-core" {
+            cell["package"] = evil.into();
+        }
+    }
+    let after = write_json(dir.path(), "after.json", &m);
+    let (code, out, _) = run(&["diff"], &[&before, &after]);
+    assert_eq!(code, 1);
+    assert!(
+        !out.contains('\u{1b}') && !out.contains('\u{202e}'),
+        "{out:?}"
+    );
+    assert!(
+        out.contains("wattle\\u{1b}[8m-core\\u{202e}x on deb-2.4"),
+        "{out}"
+    );
+    // JSON keeps the name exactly, escaped as JSON escapes it.
+    let (_, json, _) = run(&["diff"], &[&before, &after, "--format", "json"]);
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert!(
+        json["changes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|c| c["package"] == evil),
+        "{json}"
+    );
+}
+
+/// A matrix file with its notice edited away still renders with basefit's notice, in JSON
+/// and YAML as in Markdown and HTML.
+#[test]
+fn render_of_a_matrix_file_always_carries_the_notice() {
+    let dir = tempfile::tempdir().unwrap();
+    let (_, mut m) = demo_matrix(dir.path());
+    m["notice"] = "".into();
+    let edited = write_json(dir.path(), "edited.json", &m);
+    for format in ["json", "yaml", "markdown"] {
+        let (code, out, err) = run(&["render"], &["--matrix", &edited, "--format", format]);
+        assert_eq!(code, 0, "{err}");
+        assert!(out.contains(NOTICE), "{format}: {out}");
+    }
+}
+
+/// saltbush on deb-2.4 is predicted to fail for its runtime; a recorded failure whose log
+/// shows a missing header failed for another reason, which `review` says. The rendered
+/// matrix must not count it as an agreement: a reader would take the predicted cause as the
+/// one to fix.
+#[test]
+fn a_failure_for_another_cause_is_not_rendered_as_agreement() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = common::write(
+        dir.path(),
+        "results.yaml",
+        "results:\n  - {package: saltbush, image: deb-2.4, outcome: failed, \
+         log: 'salt.c:1:10: fatal error: zlib.h: No such file or directory'}\n",
+    );
+    let mut args = DEMO.to_vec();
+    args.extend(["--results", results.to_str().unwrap()]);
+    let (_, review, _) = run(&["review"], &args);
+    assert!(review.contains("differs from the prediction"), "{review}");
+    let (code, json, err) = run(&["render"], &[&args[..], &["--format", "json"]].concat());
+    assert_eq!(code, 0, "{err}");
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let cell = json["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == "saltbush" && c["image"] == "deb-2.4")
+        .unwrap();
+    assert_eq!(cell["recorded"]["verdict"], "agreed-failure", "{cell}");
+    assert_eq!(cell["recorded"]["cause_agrees"], false, "{cell}");
+    assert!(
+        cell["recorded"]["detail"]
+            .as_str()
+            .unwrap()
+            .starts_with("failed for another cause than predicted: "),
+        "{cell}"
+    );
+    let (_, md, _) = run(&["render"], &args);
+    assert!(
+        md.contains(
+            "Recorded installs cover 1 cells: 0 agree, 0 contradict the prediction, 1 neither"
+        ),
+        "{md}"
+    );
 }

@@ -114,6 +114,7 @@ fn hostile() -> Matrix {
                     version: Some("9.9<9>".into()),
                     detail: format!("log said </script>{XSS}\n\"done\", ok"),
                     attempts: 2,
+                    cause_agrees: None,
                 });
             }
             cells.push(cell);

@@ -136,6 +136,11 @@ pub struct RecordedCheck {
     pub detail: String,
     /// Number of recorded attempts.
     pub attempts: usize,
+    /// For a predicted failure that failed: whether the log's cause matches the predicted
+    /// one. A failure for another cause is no agreement: the fix the prediction points at
+    /// would not make the package install.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cause_agrees: Option<bool>,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]

@@ -526,7 +526,10 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
             for (n, what) in [
                 (k.agreed, "agree"),
                 (k.surprises, "contradict the prediction"),
-                (k.unsettled, "flaky or drifted"),
+                (
+                    k.unsettled,
+                    "neither (flaky, another version or cause, undecided)",
+                ),
             ] {
                 if n > 0 {
                     parts.push(format!("{n} {what}"));

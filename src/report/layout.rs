@@ -48,8 +48,9 @@ pub enum Mark {
     Agreed,
     /// The recorded result contradicts the prediction.
     Surprise,
-    /// Neither agreement nor contradiction: flaky retries, version drift, or a verdict this
-    /// version of basefit does not know.
+    /// Neither agreement nor contradiction: flaky retries, version drift, a failure for
+    /// another cause than predicted, an undecided prediction, or a verdict this version of
+    /// basefit does not know.
     Unsettled,
 }
 
@@ -63,6 +64,7 @@ impl Mark {
         } else if (verdict.starts_with("agreed")
             || verdict == crate::verify::Verdict::RiskConfirmed.as_str())
             && check.recorded.trim() != "flaky"
+            && check.cause_agrees != Some(false)
         {
             Mark::Agreed
         } else {
@@ -84,7 +86,9 @@ impl Mark {
         match self {
             Mark::Agreed => "recorded installs agree with the prediction",
             Mark::Surprise => "recorded installs contradict the prediction",
-            Mark::Unsettled => "recorded installs are flaky or drifted from the prediction",
+            Mark::Unsettled => {
+                "recorded installs neither agree nor contradict: flaky, another version or failure cause than predicted, or an undecided prediction"
+            }
         }
     }
 }
@@ -254,6 +258,43 @@ pub(crate) fn one_line(s: &str) -> String {
     out
 }
 
+/// Text for a terminal with every control character but the line break, and every
+/// bidirectional formatting character, written out as an escape. Registry names, summaries
+/// and log lines come from outside: raw, an escape sequence in one could clear the screen or
+/// hide the lines after it, a tab make two names look alike, and a right-to-left override
+/// make a name read backwards.
+///
+/// ```
+/// use basefit::report::visible;
+/// assert_eq!(visible("a\tb\n"), "a\\tb\n");
+/// assert_eq!(visible("x\u{1b}[2Jy"), "x\\u{1b}[2Jy");
+/// assert_eq!(visible("rtl\u{202e}gnp"), "rtl\\u{202e}gnp");
+/// assert_eq!(visible("plain text"), "plain text");
+/// ```
+pub fn visible(s: &str) -> std::borrow::Cow<'_, str> {
+    let hidden = |ch: char| {
+        (ch.is_control() && ch != '\n')
+            || is_bidi_control(ch)
+            || matches!(ch, '\u{2028}' | '\u{2029}')
+    };
+    if !s.chars().any(hidden) {
+        return std::borrow::Cow::Borrowed(s);
+    }
+    let mut out = String::with_capacity(s.len() + 8);
+    for ch in s.chars() {
+        match ch {
+            '\t' => out.push_str("\\t"),
+            '\r' => out.push_str("\\r"),
+            ch if hidden(ch) => {
+                let _ =
+                    std::fmt::Write::write_fmt(&mut out, format_args!("\\u{{{:x}}}", ch as u32));
+            }
+            ch => out.push(ch),
+        }
+    }
+    std::borrow::Cow::Owned(out)
+}
+
 fn is_bidi_control(ch: char) -> bool {
     matches!(ch, '\u{200E}' | '\u{200F}' | '\u{061C}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}')
 }
@@ -282,6 +323,7 @@ mod tests {
             version: None,
             detail: String::new(),
             attempts: 1,
+            cause_agrees: None,
         };
         assert_eq!(
             Mark::of(&check("installed", "agreed-install")),
@@ -294,5 +336,17 @@ mod tests {
         assert_eq!(Mark::of(&check("installed", "drift")), Mark::Unsettled);
         assert_eq!(Mark::of(&check("flaky", "agreed-install")), Mark::Unsettled);
         assert_eq!(Mark::of(&check("installed", "")), Mark::Unsettled);
+        assert_eq!(Mark::of(&check("failed", "undecided")), Mark::Unsettled);
+        // Failing as predicted but for another cause: the predicted fix would not help.
+        let other_cause = RecordedCheck {
+            cause_agrees: Some(false),
+            ..check("failed", "agreed-failure")
+        };
+        assert_eq!(Mark::of(&other_cause), Mark::Unsettled);
+        let same_cause = RecordedCheck {
+            cause_agrees: Some(true),
+            ..check("failed", "agreed-failure")
+        };
+        assert_eq!(Mark::of(&same_cause), Mark::Agreed);
     }
 }

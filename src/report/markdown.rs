@@ -205,7 +205,8 @@ pub fn markdown(m: &Matrix) -> String {
         let _ = writeln!(
             out,
             "\nRecorded installs cover {recorded} cells: {} agree, {surprises} contradict the \
-             prediction, {unsettled} are flaky or drifted.",
+             prediction, {unsettled} neither (flaky, another version or failure cause, or an \
+             undecided prediction).",
             recorded - surprises - unsettled
         );
     }

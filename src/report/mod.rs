@@ -9,6 +9,7 @@ pub mod text;
 
 pub use csv::csv;
 pub use html::html;
+pub use layout::visible;
 pub use markdown::markdown;
 
 use anyhow::{Context, Result};

@@ -10,9 +10,14 @@ use std::fmt::Write;
 
 /// Lays out rows as aligned columns; the first row is the header.
 pub fn table(rows: &[Vec<String>]) -> String {
+    // Escaped before measuring, so a row with an escaped name still lines up.
+    let rows: Vec<Vec<std::borrow::Cow<'_, str>>> = rows
+        .iter()
+        .map(|r| r.iter().map(|c| super::visible(c)).collect())
+        .collect();
     let cols = rows.iter().map(|r| r.len()).max().unwrap_or(0);
     let mut widths = vec![0usize; cols];
-    for r in rows {
+    for r in &rows {
         for (i, c) in r.iter().enumerate() {
             widths[i] = widths[i].max(c.chars().count());
         }
@@ -747,7 +752,17 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
         out.push('\n');
     }
     if d.changes.is_empty() {
-        out.push_str("the matrices agree\n");
+        if d.unified.is_empty() {
+            out.push_str("the matrices agree\n");
+        } else {
+            // A new runtime, weight or explanation changes what the support matrix says
+            // even where no cell's outcome moved.
+            out.push_str(
+                "no cell's outcome, cause or version changed, but the renderings differ (images, weights, explanations or notes):\n\n",
+            );
+            out.push_str(&d.unified);
+        }
+        let _ = writeln!(out, "\n{NOTICE}");
         return out;
     }
     let _ = writeln!(out, "{} cells changed", d.changes.len());
@@ -776,6 +791,7 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
     }
     out.push('\n');
     out.push_str(&d.unified);
+    let _ = writeln!(out, "\n{NOTICE}");
     out
 }
 

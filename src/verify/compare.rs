@@ -697,6 +697,10 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 .suggestion
                 .clone()
                 .or_else(|| c.evidence.clone())
+                .map(|d| match c.cause_agrees {
+                    Some(false) => format!("failed for another cause than predicted: {d}"),
+                    _ => d,
+                })
                 .or_else(|| {
                     c.log_unread
                         .as_ref()
@@ -704,6 +708,7 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
                 })
                 .unwrap_or_default(),
             attempts: c.attempts.len(),
+            cause_agrees: c.cause_agrees,
         });
     }
 }
