@@ -134,7 +134,7 @@ fn unmatched_requirement_on_a_published_package_is_not_missing() {
     assert_eq!(own.cause, Some(Cause::DependencyConflict));
     assert_eq!(
         own.explanation[0],
-        "the entry asks for bittern (a requirement no published version meets)"
+        "the entry asks for bittern (no release the entry may take)"
     );
 
     let ghost = cell("r-ghost");
@@ -767,4 +767,34 @@ fn a_refused_release_over_a_closed_dependency_cycle_outranks_a_missing_name() {
         .unwrap()
         .cell;
     assert_eq!(cell.cause, Some(Cause::RuntimeTooOld), "{cell:#?}");
+}
+
+/// Yanked releases are never tried as pins, so a package with one other release must not
+/// be said to have only that one: a reader would not look at the yanked ones.
+#[test]
+fn the_release_hint_does_not_call_a_release_beside_yanked_ones_the_only_one() {
+    let registry = r#"packages:
+  - name: quokka
+    versions:
+      - {version: "0.9.0", runtime: ">=9"}
+      - {version: "1.0.0", runtime: ">=1", yanked: true}
+  - name: numbat
+    versions:
+      - {version: "0.9.0", runtime: ">=9"}
+"#;
+    let inputs = inputs(registry, "priorities: [quokka, numbat]\n");
+    let options = PlanOptions::default();
+    let text = |name: &str| {
+        basefit::report::text::explain_text(&explain(&inputs, name, "deb", &options).unwrap())
+    };
+    let quokka = text("quokka");
+    assert!(
+        quokka.contains("its only release that is not yanked does not resolve on this image"),
+        "{quokka}"
+    );
+    let numbat = text("numbat");
+    assert!(
+        numbat.contains("its only release does not resolve on this image"),
+        "{numbat}"
+    );
 }

@@ -98,6 +98,10 @@ pub struct ReleaseHint {
     pub trials: Vec<Trial>,
     /// Releases (yanked ones aside) older than the oldest one tried, left untried.
     pub untried: usize,
+    /// Yanked releases, never tried: with them, a package's one other release is not its
+    /// only release.
+    #[serde(skip_serializing_if = "is_zero")]
+    pub yanked: usize,
     /// When the last trial resolves and the entry as written does not admit that release: why
     /// not.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -117,6 +121,10 @@ pub enum NotAdmitted {
     Prerelease,
     /// Outside the entry's requirement (its text).
     Requirement(String),
+}
+
+fn is_zero(n: &usize) -> bool {
+    *n == 0
 }
 
 impl ReleaseHint {
@@ -223,6 +231,7 @@ fn release_hint(
     let mut hint = ReleaseHint {
         trials: Vec::new(),
         untried: 0,
+        yanked: 0,
         not_admitted: None,
         not_asked_for: Vec::new(),
     };
@@ -256,6 +265,7 @@ fn release_hint(
         }
     }
     hint.untried = candidates.len() - hint.trials.len();
+    hint.yanked = releases.len() - candidates.len();
     if let Some(i) = found {
         hint.not_admitted = if asked_for.contains(&(i as u32)) {
             None

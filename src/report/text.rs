@@ -542,8 +542,14 @@ fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
         ));
     }
     out.push(match (undecided.is_empty(), only) {
+        (true, true) if h.yanked > 0 => {
+            format!("its only release that is not yanked does not {verb} on this image")
+        }
         (true, true) => format!("its only release does not {verb} on this image"),
         (true, false) => format!("none of {scope} {verb}s on this image"),
+        (false, true) if h.yanked > 0 => {
+            "whether its only release that is not yanked resolves on this image is unknown".into()
+        }
         (false, true) => "whether its only release resolves on this image is unknown".into(),
         (false, false) => format!("whether any of {scope} resolves on this image is unknown"),
     });

@@ -525,7 +525,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
                         // package without releases: the next line names what is missing.
                         let releases = registry.package(*b).releases.len();
                         let root_desc = if indices(sb, releases).next().is_none() && releases > 0 {
-                            "a requirement no published version meets".to_string()
+                            "no release the entry may take".to_string()
                         } else {
                             describe(registry, *b, sb)
                         };
