@@ -223,6 +223,17 @@ pub(crate) fn cell_symbol(cell: &Cell) -> String {
 }
 
 /// The escaped text of a note, without the package and image names that head it.
+/// Whether `text` names `word` on its own, not inside a longer name or id (`libpq-dev`
+/// inside `libpq-dev-extra`, or in an image id that a cut reason still shows).
+fn names_word(text: &str, word: &str) -> bool {
+    let part_of_name = |c: char| c.is_alphanumeric() || matches!(c, '-' | '+' | '_');
+    text.match_indices(word).any(|(at, _)| {
+        let before = text[..at].chars().next_back();
+        let after = text[at + word.len()..].chars().next();
+        !before.is_some_and(part_of_name) && !after.is_some_and(part_of_name)
+    })
+}
+
 fn note_text(cell: &Cell) -> String {
     let mut text = format!(
         "{} {}",
@@ -240,7 +251,7 @@ fn note_text(cell: &Cell) -> String {
         .missing_system_packages
         .iter()
         .map(String::as_str)
-        .filter(|p| !reason.contains(p))
+        .filter(|p| !names_word(&reason, p))
         .collect();
     if !unnamed.is_empty() {
         let _ = write!(
@@ -272,6 +283,15 @@ fn note_text(cell: &Cell) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_system_package_counts_as_named_only_as_a_whole_name() {
+        assert!(names_word("needs libpq-dev.", "libpq-dev"));
+        assert!(names_word("add libpq-dev libxml2-dev", "libxml2-dev"));
+        assert!(!names_word("on image libpq-dev-builder", "libpq-dev"));
+        assert!(!names_word("needs xlibpq-dev", "libpq-dev"));
+        assert!(!names_word("", "libpq-dev"));
+    }
 
     #[test]
     fn escaping_keeps_table_structure_and_html_out() {
