@@ -1431,3 +1431,58 @@ fn a_result_on_a_left_out_image_says_why_the_image_was_left_out() {
     }
     assert_eq!(record_counts(&stdout, "recorded results"), ["2", "0", "2"]);
 }
+
+/// A device never ends (`/dev/zero` would be read until memory runs out), so every input flag
+/// refuses one up front, named as given, also behind a symbolic link with a harmless name.
+/// `/dev/null` stands in for it here: it ends at once, so a reader that took it would fail on
+/// an empty file instead of hanging the test.
+#[cfg(unix)]
+#[test]
+fn a_device_given_as_any_input_is_refused_up_front() {
+    let d = dir();
+    let link = d.path().join("z.csv");
+    std::os::unix::fs::symlink("/dev/null", &link).unwrap();
+    let null = Path::new("/dev/null");
+    let cases: [(&str, &[&Path]); 7] = [
+        ("--registry", &[null]),
+        ("--priorities", &[&link]),
+        ("--images", &[null]),
+        ("--results", &[null]),
+        ("--catalog", &[null]),
+        ("--bulk", &[null, &link]),
+        ("--bulk", &[&link, null]),
+    ];
+    for (flag, files) in cases {
+        let mut args: Vec<&std::ffi::OsStr> = vec!["check".as_ref(), flag.as_ref()];
+        args.extend(files.iter().map(|f| f.as_os_str()));
+        let (code, stdout, stderr) = common::run_basefit(args);
+        assert_eq!(code, 2, "{flag}: stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{}: a device, not a regular file; expected a file",
+            files[0].display()
+        );
+        assert!(stderr.contains(&want), "{flag}: {stderr}");
+    }
+}
+
+/// Process substitution (`--priorities <(query)`) hands the command a pipe: refusing what is
+/// not a regular file must not refuse that.
+#[cfg(unix)]
+#[test]
+fn a_fifo_given_as_an_input_is_read() {
+    let d = dir();
+    let fifo = d.path().join("priorities.yaml");
+    let made = Command::new("mkfifo").arg(&fifo).status();
+    if !made.is_ok_and(|s| s.success()) {
+        eprintln!("skipped: mkfifo is not available");
+        return;
+    }
+    let writer = {
+        let fifo = fifo.clone();
+        std::thread::spawn(move || std::fs::write(fifo, "priorities:\n  - fernwood\n").unwrap())
+    };
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &fifo)]);
+    writer.join().unwrap();
+    assert_eq!(code, 0, "stdout {stdout} stderr {stderr}");
+    assert_eq!(record_counts(&stdout, "priority entries"), ["1", "1", "0"]);
+}

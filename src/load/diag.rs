@@ -162,9 +162,80 @@ impl FileIdentity {
     }
 }
 
+/// What a file that is not a regular file is, for the message refusing it.
+pub fn file_kind(kind: std::fs::FileType) -> &'static str {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if kind.is_fifo() {
+            return "a FIFO";
+        }
+        if kind.is_char_device() || kind.is_block_device() {
+            return "a device";
+        }
+        if kind.is_socket() {
+            return "a socket";
+        }
+    }
+    if kind.is_dir() {
+        "a directory"
+    } else {
+        "a special file"
+    }
+}
+
+/// Whether an input of this kind can be read to an end. A device such as `/dev/zero` never
+/// ends (the run would read until memory runs out) and a socket is no file; a FIFO is read,
+/// since `--priorities <(query)` hands the command a pipe.
+fn readable_kind(kind: std::fs::FileType) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if kind.is_fifo() {
+            return true;
+        }
+    }
+    kind.is_file()
+}
+
+fn refuse_kind(path: &Path, kind: std::fs::FileType) -> Result<(), BadInput> {
+    if readable_kind(kind) {
+        return Ok(());
+    }
+    Err(BadInput::file(
+        path.display().to_string(),
+        format!(
+            "{}, not a regular file; expected a file (or a pipe)",
+            file_kind(kind)
+        ),
+    ))
+}
+
+/// Opens an input file, refusing up front what cannot be read to an end (see
+/// [`readable_kind`]). The kind is checked before the open, since opening some devices acts
+/// on them, and again on the open file, which may not be the one checked.
+///
+/// ```
+/// # #[cfg(unix)] {
+/// let e = basefit::load::diag::open_input(std::path::Path::new("/dev/zero")).unwrap_err();
+/// assert_eq!(e.to_string(), "/dev/zero: a device, not a regular file; expected a file (or a pipe)");
+/// # }
+/// ```
+pub fn open_input(path: &Path) -> Result<std::fs::File, BadInput> {
+    let cannot =
+        |e: std::io::Error| BadInput::file(path.display().to_string(), format!("cannot read: {e}"));
+    refuse_kind(path, std::fs::metadata(path).map_err(cannot)?.file_type())?;
+    let file = std::fs::File::open(path).map_err(cannot)?;
+    refuse_kind(path, file.metadata().map_err(cannot)?.file_type())?;
+    Ok(file)
+}
+
 /// Reads a whole input file as UTF-8 text, naming the file in the error.
 pub fn read_text(path: &Path) -> Result<String, BadInput> {
-    let bytes = std::fs::read(path)
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    open_input(path)?
+        .read_to_end(&mut bytes)
         .map_err(|e| BadInput::file(path.display().to_string(), format!("cannot read: {e}")))?;
     String::from_utf8(bytes).map_err(|e| {
         let upto = &e.as_bytes()[..e.utf8_error().valid_up_to()];

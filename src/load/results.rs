@@ -1,7 +1,8 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
 use super::diag::{
-    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors, read_text,
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors, file_kind,
+    read_text,
 };
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
@@ -505,28 +506,6 @@ fn open_regular(path: &Path) -> Result<(std::fs::File, u64), String> {
         ));
     }
     Ok((file, meta.len()))
-}
-
-/// What a file that is not a regular file is, for the message refusing it.
-fn file_kind(kind: std::fs::FileType) -> &'static str {
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::FileTypeExt;
-        if kind.is_fifo() {
-            return "a FIFO";
-        }
-        if kind.is_char_device() || kind.is_block_device() {
-            return "a device";
-        }
-        if kind.is_socket() {
-            return "a socket";
-        }
-    }
-    if kind.is_dir() {
-        "a directory"
-    } else {
-        "a special file"
-    }
 }
 
 #[cfg(test)]
