@@ -1486,3 +1486,29 @@ fn a_fifo_given_as_an_input_is_read() {
     assert_eq!(code, 0, "stdout {stdout} stderr {stderr}");
     assert_eq!(record_counts(&stdout, "priority entries"), ["1", "1", "0"]);
 }
+
+/// An extending image inherits only what it does not give (README, "Runtime images"): a
+/// `packages` list it gives replaces its base's, and `add` appends to them. `packages` used
+/// to be merged with the base's, as if it were `add`.
+#[test]
+fn an_extending_image_s_packages_replace_its_base_s() {
+    let text = concat!(
+        "images:\n",
+        "  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential, zlib1g, libssl3]}\n",
+        "  - {id: own, extends: full, packages: [zlib1g, ca-certificates]}\n",
+        "  - {id: both, extends: full, packages: [zlib1g], add: [curl], remove: [zlib1g]}\n",
+        "  - {id: more, extends: full, add: [curl]}\n",
+        "  - {id: none, extends: full, packages: []}\n",
+    );
+    let mut ledger = basefit::Ledger::default();
+    let images = basefit::load::images::read_images_str("images.yaml", text, &mut ledger).unwrap();
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+    let packages = |id: &str| -> Vec<&str> {
+        let image = images.get(id).unwrap();
+        image.system_packages.iter().map(String::as_str).collect()
+    };
+    assert_eq!(packages("own"), ["ca-certificates", "zlib1g"]);
+    assert_eq!(packages("both"), ["curl"]);
+    assert_eq!(packages("more"), ["build-essential", "curl", "libssl3", "zlib1g"]);
+    assert!(packages("none").is_empty());
+}

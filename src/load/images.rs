@@ -33,6 +33,9 @@ struct Declared {
     /// unreadable runtime does.
     platform: Option<At<String>>,
     toolchain: Option<At<bool>>,
+    /// `packages` as written: given, it replaces the base's list (an extending image inherits
+    /// only what it does not give); `add` is what extends the base's.
+    packages: Option<Vec<String>>,
     add: Vec<String>,
     remove: Vec<At<String>>,
 }
@@ -353,8 +356,10 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
             .map(|b| b.platform.clone())
             .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?,
     };
-    let mut packages: BTreeSet<String> =
-        base.map(|b| b.system_packages.clone()).unwrap_or_default();
+    let mut packages: BTreeSet<String> = match &d.packages {
+        Some(given) => given.iter().cloned().collect(),
+        None => base.map(|b| b.system_packages.clone()).unwrap_or_default(),
+    };
     packages.extend(d.add.iter().cloned());
     for r in &d.remove {
         if !packages.remove(&r.value) {
@@ -405,8 +410,10 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
             m.required(key)?;
         }
     }
-    let mut add = m.str_list("packages")?;
-    add.extend(m.str_list("add")?);
+    let packages = match m.get("packages") {
+        Some(_) => Some(m.str_list("packages")?),
+        None => None,
+    };
     Ok(Declared {
         id,
         line: m.line(),
@@ -415,7 +422,8 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         family: m.opt_str_at("family")?.map(owned),
         platform: m.opt_str_at("platform")?.map(owned),
         toolchain: m.opt_bool_at("toolchain")?,
-        add,
+        packages,
+        add: m.str_list("add")?,
         remove: m.str_list_at("remove")?,
     })
 }
