@@ -1512,3 +1512,39 @@ fn an_extending_image_s_packages_replace_its_base_s() {
     assert_eq!(packages("more"), ["build-essential", "curl", "libssl3", "zlib1g"]);
     assert!(packages("none").is_empty());
 }
+
+/// An image lacking `runtime`, `family` or `platform` with no base to inherit it from is left
+/// out and listed by `check` as `bad-image` at its line, the rest of the file used (README,
+/// "Runtime images"); it used to make the whole images file unusable.
+#[test]
+fn an_image_lacking_a_required_field_leaves_out_only_that_image() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - {id: no-runtime, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: no-family\n",
+            "    runtime: 3.0.0\n",
+            "    platform: linux/glibc/x86_64\n",
+            "  - {id: no-platform, runtime: 3.0.0, family: debian}\n",
+            "  - {id: heir, extends: no-family}\n",
+        )
+        .as_bytes(),
+    );
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "images.yaml:3  no-runtime: missing `runtime` (and no base to inherit it from)",
+            "images.yaml:4  no-family: missing `family` (and no base to inherit it from)",
+            "images.yaml:7  no-platform: missing `platform` (and no base to inherit it from)",
+            "images.yaml:8  heir: its base `no-family` cannot be built: missing `family`",
+            "images that cannot be built (left out) (bad-image): 4",
+        ],
+        Some(("image records", ["5", "1", "4"])),
+    );
+}

@@ -404,12 +404,9 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         return Err(BadInput::at(ctx.file, id.line, "image: `id` is empty"));
     }
     let id = id.value.trim().to_string();
+    // A missing `runtime`, `family` or `platform` is checked once bases are applied (see
+    // `build`): like an unreadable one, it is that image's problem, not the whole file's.
     let extends = m.opt_str_at("extends")?.map(owned);
-    if extends.is_none() {
-        for key in ["runtime", "family", "platform"] {
-            m.required(key)?;
-        }
-    }
     let packages = match m.get("packages") {
         Some(_) => Some(m.str_list("packages")?),
         None => None,
