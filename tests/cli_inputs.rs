@@ -1509,7 +1509,10 @@ fn an_extending_image_s_packages_replace_its_base_s() {
     };
     assert_eq!(packages("own"), ["ca-certificates", "zlib1g"]);
     assert_eq!(packages("both"), ["curl"]);
-    assert_eq!(packages("more"), ["build-essential", "curl", "libssl3", "zlib1g"]);
+    assert_eq!(
+        packages("more"),
+        ["build-essential", "curl", "libssl3", "zlib1g"]
+    );
     assert!(packages("none").is_empty());
 }
 

@@ -17,7 +17,9 @@
 
 use super::diag;
 use super::diag::{At, BadInput, Ledger, Origin, Problem, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms};
+use super::registry::{
+    BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms, unreadable_platform,
+};
 use super::table::{RowRef, Table};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId, Requirement,
@@ -574,11 +576,11 @@ impl Load {
         let files = row.text(cols.native_files);
         let summary = row.text(cols.summary);
         let native_helper = row.flag(file, cols.native_helper, "native_helper")?;
-        let (prebuilt, unreadable_platform) = match prebuilt_text {
+        let (prebuilt, bad_value) = match prebuilt_text {
             None => (Box::default(), None),
             Some(text) => match self.platforms(text, line) {
                 Ok(ids) => (ids, None),
-                Err(why) => (Box::default(), Some(why)),
+                Err(why) => (Box::default(), Some(unreadable_platform(why))),
             },
         };
         // No build columns filled means nothing is said about builds: source only, as a YAML
@@ -607,7 +609,7 @@ impl Load {
             released: released.map(|t| At::new(t, line)),
             runtime: runtime.map(|t| At::new(t, line)),
             build: Build { source, prebuilt },
-            unreadable_platform,
+            bad_value,
             native,
             yanked,
         };

@@ -86,7 +86,7 @@ pub struct RawRelease<'a> {
     pub deps: Vec<RawDep<'a>>,
     pub source_build: bool,
     /// Platforms with a prebuilt build, as written: one that cannot be read leaves the
-    /// version out (see [`VersionFields::unreadable_platform`]).
+    /// version out (see [`VersionFields::bad_value`]).
     pub prebuilt: Vec<At<&'a str>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
@@ -112,10 +112,11 @@ pub struct VersionFields<'a> {
     /// Requirement on the runtime version, as written.
     pub runtime: Option<At<&'a str>>,
     pub build: Build,
-    /// The first `prebuilt` platform that cannot be read, as why (from [`Platform::parse`])
-    /// at its line; `build` then lists none. It leaves the version out, as an unreadable
-    /// runtime requirement does: the rest of the file is still usable.
-    pub unreadable_platform: Option<At<String>>,
+    /// The first value that cannot be used (a `prebuilt` platform that cannot be read, an
+    /// empty native library name), as the problem's detail at its line; `build` then lists no
+    /// platform. It leaves the version out as a `bad-value`, as an unreadable runtime
+    /// requirement leaves it out: the rest of the file is still usable.
+    pub bad_value: Option<At<String>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
 }
@@ -130,6 +131,12 @@ pub fn read_platforms<'t>(
         .into_iter()
         .map(|p| Platform::parse(p.value).map_err(|why| At::new(why, p.line)))
         .collect()
+}
+
+/// The problem's detail for a `prebuilt` platform that cannot be read, from
+/// [`read_platforms`]'s why, for [`VersionFields::bad_value`].
+pub fn unreadable_platform(why: At<String>) -> At<String> {
+    At::new(format!("prebuilt platform {}", why.value), why.line)
 }
 
 /// A version record whose own fields passed their checks, waiting for its dependencies.
@@ -224,9 +231,23 @@ impl RegistryBuilder {
         line: usize,
         raw: RawRelease<'_>,
     ) {
+        self.add_release_unless(package, file, line, raw, None);
+    }
+
+    /// [`RegistryBuilder::add_release`] for a record in which the reader found a value it
+    /// cannot use: `bad_value`, when given, is the problem's detail at that value's line, and
+    /// leaves the version out (see [`VersionFields::bad_value`]) after its other checks.
+    pub fn add_release_unless(
+        &mut self,
+        package: PackageId,
+        file: &str,
+        line: usize,
+        raw: RawRelease<'_>,
+        bad_value: Option<At<String>>,
+    ) {
         let dep_count = raw.deps.len() as u64;
         self.ledger.read_many(RecordKind::Dependency, dep_count);
-        let (prebuilt, unreadable_platform) = match read_platforms(raw.prebuilt) {
+        let (prebuilt, bad_platform) = match read_platforms(raw.prebuilt) {
             Ok(platforms) => (
                 platforms
                     .into_iter()
@@ -234,7 +255,7 @@ impl RegistryBuilder {
                     .collect(),
                 None,
             ),
-            Err(why) => (Box::default(), Some(why)),
+            Err(why) => (Box::default(), Some(unreadable_platform(why))),
         };
         let fields = VersionFields {
             version: raw.version,
@@ -244,7 +265,7 @@ impl RegistryBuilder {
                 source: raw.source_build,
                 prebuilt,
             },
-            unreadable_platform,
+            bad_value: bad_platform.or(bad_value),
             native: raw.native,
             yanked: raw.yanked,
         };
@@ -362,13 +383,13 @@ impl RegistryBuilder {
                 }
             },
         };
-        if let Some(At { value: why, line }) = fields.unreadable_platform {
+        if let Some(At { value: why, line }) = fields.bad_value {
             self.ledger.leave_out(
                 RecordKind::Version,
                 ProblemKind::BadValue,
                 origin(line),
                 subject(&self.registry),
-                format!("prebuilt platform {why}"),
+                why,
             );
             return None;
         }
@@ -689,8 +710,8 @@ fn read_yaml_text(
     })?;
     for pkg in parsed {
         let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
-        for (line, raw) in pkg.releases {
-            builder.add_release(id, file, line, raw);
+        for (line, raw, bad_value) in pkg.releases {
+            builder.add_release_unless(id, file, line, raw, bad_value);
         }
     }
     // Freeing a registry-sized tree takes a noticeable while; the bar fills after it.
@@ -706,7 +727,7 @@ struct ParsedPackage<'a> {
     name: &'a str,
     summary: Option<&'a str>,
     native_helper: bool,
-    releases: Vec<(usize, RawRelease<'a>)>,
+    releases: Vec<(usize, RawRelease<'a>, Option<At<String>>)>,
 }
 
 fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, BadInput> {
@@ -723,7 +744,10 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
     let releases = m
         .seq("versions")?
         .iter()
-        .map(|v| Ok((v.line, parse_release(ctx, v)?)))
+        .map(|v| {
+            let (raw, bad_value) = parse_release(ctx, v)?;
+            Ok((v.line, raw, bad_value))
+        })
         .collect::<Result<Vec<_>, BadInput>>()?;
     Ok(ParsedPackage {
         line: m.line(),
@@ -734,7 +758,12 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
     })
 }
 
-fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, BadInput> {
+/// A version record as written, with the first value in it that cannot be used (see
+/// [`RegistryBuilder::add_release_unless`]).
+fn parse_release<'a>(
+    ctx: Ctx<'_>,
+    node: &'a Node,
+) -> Result<(RawRelease<'a>, Option<At<String>>), BadInput> {
     let m = ctx.map(node, "version record", VERSION_FIELDS)?;
     let version = m.required_str_at("version")?;
     let mut deps = Vec::new();
@@ -772,17 +801,34 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
             (source, platforms)
         }
     };
+    let mut bad_value = None;
     let native = match m.get("native") {
         None => None,
         Some(n) => {
             let nm = ctx.map(n, "native", NATIVE_FIELDS)?;
+            let libraries = nm.str_list_at("libraries")?;
+            // A blank name would make cells at risk for a library nobody can name. The bulk
+            // format drops empty items between separators, but a YAML list item is written
+            // on purpose: one left empty is a mistake in the record.
+            bad_value = libraries
+                .iter()
+                .find(|l| l.value.trim().is_empty())
+                .map(|l| {
+                    At::new(
+                        format!(
+                            "native library name `{}` is empty; expected a catalog id or a library name",
+                            l.value
+                        ),
+                        l.line,
+                    )
+                });
             Some(NativeHints {
-                libraries: nm.str_list("libraries")?,
+                libraries: libraries.into_iter().map(|l| l.value).collect(),
                 files: nm.str_list("files")?,
             })
         }
     };
-    Ok(RawRelease {
+    let release = RawRelease {
         version,
         released: m.opt_str_at("released")?,
         runtime: m.opt_str_at("runtime")?,
@@ -791,5 +837,6 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
         prebuilt,
         native,
         yanked: m.opt_bool("yanked")?.unwrap_or(false),
-    })
+    };
+    Ok((release, bad_value))
 }
