@@ -1551,3 +1551,139 @@ fn an_image_lacking_a_required_field_leaves_out_only_that_image() {
         Some(("image records", ["5", "1", "4"])),
     );
 }
+
+/// Names are taken as written and printed by every report: one with white space at an end
+/// never matches a priority entry (those are trimmed), and a tab, ESC or bidirectional
+/// control passes for another name or rewrites the terminal. Each is a `bad-value` at its
+/// line, shown escaped, and its record is left out (the package, or the release whose
+/// dependency names one), in YAML and in the bulk CSV pair.
+#[test]
+fn registry_names_that_are_no_names_leave_their_record_out() {
+    let d = dir();
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - {version: 1.0.0}\n",
+            "      - version: 1.1.0\n",
+            "        depends:\n",
+            "          - {name: fernwood}\n",
+            "          - {name: \"evil\\e[2J\"}\n",
+            "  - name: \"b \"\n",
+            "    versions: [{version: 1.0.0, depends: [{name: fernwood}]}]\n",
+            "  - {name: \"good\\tpkg\", versions: [{version: 1.0.0}]}\n",
+        )
+        .as_bytes(),
+    );
+    let stdout = assert_check_finds(
+        &reg,
+        &img,
+        &[
+            r#"registry.yaml:8  fernwood@1.1.0: dependency name "evil\u{1b}[2J" holds a control character"#,
+            r#"registry.yaml:9  "b ": package name "b " begins or ends with white space"#,
+            r#"registry.yaml:11  "good\tpkg": package name "good\tpkg" holds white space other than at its ends"#,
+        ],
+        Some(("package records", ["3", "1", "2"])),
+    );
+    assert_eq!(record_counts(&stdout, "version records"), ["4", "1", "3"]);
+    assert_eq!(
+        record_counts(&stdout, "dependency records"),
+        ["3", "0", "3"]
+    );
+    assert!(
+        !stdout.contains('\u{1b}') && !stdout.contains('\t'),
+        "{stdout:?}"
+    );
+
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        "package,version\nfernwood,1.0.0\nfernwood,1.1.0\ngood\tpkg,1.0.0\ngood\tpkg,2.0.0\n",
+    );
+    let deps = write(
+        d.path(),
+        "deps.csv",
+        "package,version,dependency\nfernwood,1.1.0,fernwood\nfernwood,1.1.0,abc\u{202e}fed\ngood\tpkg,2.0.0,fernwood\nfernwood,1.0.0,abc\u{202e}fed\n",
+    );
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        versions.as_os_str(),
+        deps.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        r#"deps.csv:3  fernwood@1.1.0: dependency name "abc\u{202e}fed" holds a bidirectional text control"#,
+        r#"deps.csv:5  fernwood@1.0.0: dependency name "abc\u{202e}fed" holds a bidirectional text control"#,
+        r#"versions.csv:4  "good\tpkg": package name "good\tpkg" holds white space other than at its ends"#,
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    assert_eq!(record_counts(&stdout, "package records"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "version records"), ["4", "0", "4"]);
+    assert_eq!(
+        record_counts(&stdout, "dependency records"),
+        ["4", "0", "4"]
+    );
+    assert!(
+        !stdout.contains('\u{202e}') && !stdout.contains('\t'),
+        "{stdout:?}"
+    );
+}
+
+/// The same names in the other inputs: a recorded result's package or image, a priority
+/// entry (after the trimming priority names get) and an image id are `bad-value` (an image,
+/// `bad-image`) at their line, shown escaped, their record left out.
+#[test]
+fn names_that_are_no_names_leave_out_results_priorities_and_images() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        format!(
+            "{GOOD_IMAGES}  - {{id: \"deb\\u2066\", runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}}\n"
+        ),
+    );
+    let pri = write(
+        d.path(),
+        "priorities.yaml",
+        "priorities:\n  - fernwood\n  - \" fern\\twood \"\n",
+    );
+    let res = write(
+        d.path(),
+        "results.yaml",
+        concat!(
+            "results:\n",
+            "  - {package: fernwood, image: plain, outcome: installed}\n",
+            "  - {package: \"fern\\x1bwood\", image: plain, outcome: installed}\n",
+            "  - {package: fernwood, image: \"plain\\n\", outcome: failed}\n",
+        ),
+    );
+    let (code, stdout, stderr) = check_with(
+        d.path(),
+        &[
+            ("--registry", &reg),
+            ("--images", &img),
+            ("--priorities", &pri),
+            ("--results", &res),
+        ],
+    );
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        r#"images.yaml:3  "deb\u{2066}": image id "deb\u{2066}" holds a bidirectional text control"#,
+        r#"priorities.yaml:3  "fern\twood": package name "fern\twood" holds white space other than at its ends"#,
+        r#"results.yaml:3  "fern\u{1b}wood" on "plain": package name "fern\u{1b}wood" holds a control character"#,
+        r#"results.yaml:4  "fernwood" on "plain\n": image id "plain\n" begins or ends with white space"#,
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    assert_eq!(record_counts(&stdout, "image records"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "priority entries"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "recorded results"), ["3", "1", "2"]);
+    assert!(!stdout.contains(['\u{1b}', '\u{2066}', '\t']), "{stdout:?}");
+}

@@ -248,6 +248,96 @@ pub fn read_text(path: &Path) -> Result<String, BadInput> {
     })
 }
 
+/// Why `name` cannot name a package or an image, or `None` when it can.
+///
+/// Names are matched as written, and every report prints them: a name with white space at
+/// either end never matches the trimmed name a priority list gives, and a tab, a line break,
+/// another control character (ESC starts terminal escape sequences) or a bidirectional
+/// text control (U+061C, U+200E, U+200F, U+202A to U+202E, U+2066 to U+2069: the Unicode
+/// Bidi_Control characters, which reorder the text shown around them) would let a name pass
+/// for another one in a report, or rewrite the terminal it is printed on. No package index
+/// allows any of these in a name. Every reader of package names and image ids asks here, so
+/// all formats accept the same names; the record holding such a name is left out and
+/// reported at its line (show the name with [`shown_name`]).
+///
+/// ```
+/// use basefit::load::diag::name_problem;
+/// assert_eq!(name_problem("quill-xml"), None);
+/// assert_eq!(name_problem("b "), Some("begins or ends with white space"));
+/// assert_eq!(name_problem("good\tpkg"), Some("holds white space other than at its ends"));
+/// assert_eq!(name_problem("red\u{1b}[31m"), Some("holds a control character"));
+/// assert_eq!(name_problem("abc\u{202e}fed"), Some("holds a bidirectional text control"));
+/// assert_eq!(name_problem(""), Some("is empty"));
+/// ```
+pub fn name_problem(name: &str) -> Option<&'static str> {
+    if name.is_empty() {
+        return Some("is empty");
+    }
+    // Most names are plain ASCII: one pass over the bytes settles them.
+    if name.bytes().all(|b| b.is_ascii_graphic()) {
+        return None;
+    }
+    if name.starts_with(char::is_whitespace) || name.ends_with(char::is_whitespace) {
+        return Some("begins or ends with white space");
+    }
+    for c in name.chars() {
+        if is_bidi_control(c) {
+            return Some("holds a bidirectional text control");
+        }
+        if c.is_whitespace() {
+            return Some("holds white space other than at its ends");
+        }
+        if c.is_control() {
+            return Some("holds a control character");
+        }
+    }
+    None
+}
+
+fn is_bidi_control(c: char) -> bool {
+    matches!(c, '\u{061c}' | '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+}
+
+/// `name` as a report may print it whatever it holds: quoted, with every character
+/// [`name_problem`] objects to written as an escape (`\t`, `\u{1b}`), so the problem that
+/// reports a bad name neither hides nor performs what is wrong with it.
+///
+/// ```
+/// use basefit::load::diag::shown_name;
+/// assert_eq!(shown_name("good\tpkg"), r#""good\tpkg""#);
+/// assert_eq!(shown_name("x\u{1b}[2J"), r#""x\u{1b}[2J""#);
+/// assert_eq!(shown_name("b "), r#""b ""#);
+/// ```
+pub fn shown_name(name: &str) -> String {
+    let mut out = String::with_capacity(name.len() + 2);
+    out.push('"');
+    for c in name.chars() {
+        match c {
+            '\t' => out.push_str("\\t"),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            ' ' => out.push(' '),
+            c if c.is_control() || c.is_whitespace() || is_bidi_control(c) => {
+                out.push_str(&format!("\\u{{{:x}}}", c as u32));
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// The problem's detail for a name [`name_problem`] refuses: `what` says whose name it is
+/// ("package name", "dependency name", "image id").
+pub fn bad_name_detail(what: &str, name: &str, why: &str) -> String {
+    format!(
+        "{what} {} {why}; expected a name without white space or control characters",
+        shown_name(name)
+    )
+}
+
 /// Where a record came from: file and 1-based line.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 pub struct Origin {

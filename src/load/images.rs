@@ -1,6 +1,9 @@
 //! Runtime images in YAML. An image may extend another and add or remove system packages.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, bad_name_detail, name_problem,
+    read_text, shown_name,
+};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{Image, ImageSet, OsFamily, Platform};
@@ -24,6 +27,8 @@ const IMAGE_FIELDS: &[&str] = &[
 /// bases are applied keep their lines, so a problem with one names it.
 struct Declared {
     id: String,
+    /// The line `id` is written on.
+    id_line: usize,
     line: usize,
     extends: Option<At<String>>,
     runtime: Option<At<String>>,
@@ -82,6 +87,18 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
     let mut unique: Vec<&Declared> = Vec::new();
     for d in &declared {
         ledger.read(RecordKind::Image);
+        // Left out as an image that cannot be built, so a result naming it says it was left
+        // out and why; an image extending it finds no base.
+        if let Some(why) = name_problem(&d.id) {
+            ledger.leave_out(
+                RecordKind::Image,
+                ProblemKind::BadImage,
+                origin(d.id_line),
+                shown_name(&d.id),
+                bad_name_detail("image id", &d.id, why),
+            );
+            continue;
+        }
         if let Some(&first) = by_id.get(d.id.as_str()) {
             ledger.leave_out(
                 RecordKind::Image,
@@ -190,10 +207,12 @@ fn resolve(
                 .copied()
                 .map(Some)
                 .ok_or_else(|| {
-                    At::new(
-                        format!("extends `{}`, which is not declared", b.value),
-                        b.line,
-                    )
+                    // A base named by no name is shown escaped, as its id would be.
+                    let base = match name_problem(&b.value) {
+                        None => format!("`{}`", b.value),
+                        Some(_) => shown_name(&b.value),
+                    };
+                    At::new(format!("extends {base}, which is not declared"), b.line)
                 }),
         };
         match step {
@@ -403,6 +422,7 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
     if id.value.trim().is_empty() {
         return Err(BadInput::at(ctx.file, id.line, "image: `id` is empty"));
     }
+    let id_line = id.line;
     let id = id.value.trim().to_string();
     // A missing `runtime`, `family` or `platform` is checked once bases are applied (see
     // `build`): like an unreadable one, it is that image's problem, not the whole file's.
@@ -413,6 +433,7 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
     };
     Ok(Declared {
         id,
+        id_line,
         line: m.line(),
         extends,
         runtime: m.opt_str_at("runtime")?.map(owned),

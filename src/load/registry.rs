@@ -1,6 +1,9 @@
 //! The registry snapshot in YAML, and the assembly step shared with the bulk CSV reader.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, bad_name_detail, name_problem,
+    read_text, shown_name,
+};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
@@ -154,16 +157,38 @@ impl StagedRelease {
     }
 }
 
-/// The first dependency of a staged version whose requirement cannot be read; it leaves the
-/// whole version out, as in every format.
+/// The first dependency of a staged version that cannot be used (its requirement cannot be
+/// read, or its name is no name); it leaves the whole version out, as in every format.
 pub struct BadDependency<'a> {
-    /// Where the dependency record is.
+    /// Where the dependency's value at fault is.
     pub file: &'a str,
     pub line: usize,
-    /// The package depended on.
-    pub name: &'a str,
-    /// Why its requirement cannot be read.
-    pub why: String,
+    /// `unreadable-requirement` or `bad-value`.
+    pub kind: ProblemKind,
+    /// The problem's detail.
+    pub detail: String,
+}
+
+impl<'a> BadDependency<'a> {
+    /// A dependency on `name` whose requirement cannot be read, for `why`.
+    pub fn requirement(file: &'a str, line: usize, name: &str, why: &str) -> Self {
+        BadDependency {
+            file,
+            line,
+            kind: ProblemKind::UnreadableRequirement,
+            detail: format!("requirement on {name}: {why}"),
+        }
+    }
+
+    /// A dependency whose name [`name_problem`] refuses, for `why`.
+    pub fn name(file: &'a str, line: usize, name: &str, why: &str) -> Self {
+        BadDependency {
+            file,
+            line,
+            kind: ProblemKind::BadValue,
+            detail: bad_name_detail("dependency name", name, why),
+        }
+    }
 }
 
 impl Default for RegistryBuilder {
@@ -277,6 +302,12 @@ impl RegistryBuilder {
         let mut deps = Vec::with_capacity(raw.deps.len());
         let mut bad = None;
         for d in &raw.deps {
+            // Checked before interning, so a name no report should print never enters the
+            // registry.
+            if let Some(why) = name_problem(d.name.value) {
+                bad = Some(BadDependency::name(file, d.name.line, d.name.value, why));
+                break;
+            }
             match self.registry.intern_requirement(d.req.value) {
                 Ok(req) => deps.push(Dep {
                     package: self.registry.intern_package(d.name.value),
@@ -284,12 +315,12 @@ impl RegistryBuilder {
                     kind: d.kind,
                 }),
                 Err(why) => {
-                    bad = Some(BadDependency {
+                    bad = Some(BadDependency::requirement(
                         file,
-                        line: d.req.line,
-                        name: d.name.value,
-                        why,
-                    });
+                        d.req.line,
+                        d.name.value,
+                        &why,
+                    ));
                     break;
                 }
             }
@@ -432,7 +463,7 @@ impl RegistryBuilder {
         self.registry.package_mut(package).releases.push(release);
     }
 
-    /// Records `package`@`version` as left out for its first unreadable requirement, with its
+    /// Records `package`@`version` as left out for its first unusable dependency, with its
     /// `dep_count` dependency records. The caller drops the release itself.
     pub fn leave_out_for_dependency(
         &mut self,
@@ -444,16 +475,47 @@ impl RegistryBuilder {
         let subject = format!("{}@{version}", self.registry.name(package));
         self.ledger.leave_out(
             RecordKind::Version,
-            ProblemKind::UnreadableRequirement,
+            bad.kind,
             Origin {
                 file: bad.file.to_string(),
                 line: bad.line,
             },
             subject,
-            format!("requirement on {}: {}", bad.name, bad.why),
+            bad.detail,
         );
         self.ledger
             .left_out_with_owner(RecordKind::Dependency, dep_count);
+    }
+
+    /// Leaves out a package record whose name [`name_problem`] refuses (for `why`), with its
+    /// version and dependency records: the name matches nothing a priority list or result
+    /// names, and would go into every report that names the package.
+    fn leave_out_package(
+        &mut self,
+        file: &str,
+        name: At<&str>,
+        why: &str,
+        releases: &[(usize, RawRelease<'_>, Option<At<String>>)],
+    ) {
+        self.ledger.read(RecordKind::Package);
+        self.ledger.leave_out(
+            RecordKind::Package,
+            ProblemKind::BadValue,
+            Origin {
+                file: file.to_string(),
+                line: name.line,
+            },
+            shown_name(name.value),
+            bad_name_detail("package name", name.value, why),
+        );
+        let deps: usize = releases.iter().map(|(_, r, _)| r.deps.len()).sum();
+        for (kind, count) in [
+            (RecordKind::Version, releases.len()),
+            (RecordKind::Dependency, deps),
+        ] {
+            self.ledger.read_many(kind, count as u64);
+            self.ledger.left_out_with_owner(kind, count as u64);
+        }
     }
 
     /// Sorts releases, drops duplicate versions, counts what is used and runs the
@@ -709,7 +771,17 @@ fn read_yaml_text(
         parse_package(ctx, node)
     })?;
     for pkg in parsed {
-        let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
+        if let Some(why) = name_problem(pkg.name.value) {
+            builder.leave_out_package(file, pkg.name, why, &pkg.releases);
+            continue;
+        }
+        let id = builder.declare_package(
+            file,
+            pkg.line,
+            pkg.name.value,
+            pkg.summary,
+            pkg.native_helper,
+        );
         for (line, raw, bad_value) in pkg.releases {
             builder.add_release_unless(id, file, line, raw, bad_value);
         }
@@ -724,7 +796,7 @@ fn read_yaml_text(
 
 struct ParsedPackage<'a> {
     line: usize,
-    name: &'a str,
+    name: At<&'a str>,
     summary: Option<&'a str>,
     native_helper: bool,
     releases: Vec<(usize, RawRelease<'a>, Option<At<String>>)>,
@@ -740,7 +812,6 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
             "package: `name` is empty",
         ));
     }
-    let name = name.value;
     let releases = m
         .seq("versions")?
         .iter()

@@ -1,8 +1,8 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
 use super::diag::{
-    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors, file_kind,
-    read_text,
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors,
+    bad_name_detail, file_kind, name_problem, read_text, shown_name,
 };
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
@@ -291,6 +291,23 @@ fn assemble(
             line,
         };
         let (package, image) = (r.package, r.image);
+        let bad_name = [("package name", &package), ("image id", &image)]
+            .into_iter()
+            .find_map(|(what, name)| name_problem(&name.value).map(|why| (what, name, why)));
+        if let Some((what, name, why)) = bad_name {
+            ledger.leave_out(
+                RecordKind::Result,
+                ProblemKind::BadValue,
+                at(name.line),
+                format!(
+                    "{} on {}",
+                    shown_name(&package.value),
+                    shown_name(&image.value)
+                ),
+                bad_name_detail(what, &name.value, why),
+            );
+            continue;
+        }
         let subject = format!("{} on {}", package.value, image.value);
         let Some(outcome) = RecordedOutcome::parse(&r.outcome.value) else {
             ledger.leave_out(
