@@ -1687,3 +1687,33 @@ fn names_that_are_no_names_leave_out_results_priorities_and_images() {
     assert_eq!(record_counts(&stdout, "recorded results"), ["3", "1", "2"]);
     assert!(!stdout.contains(['\u{1b}', '\u{2066}', '\t']), "{stdout:?}");
 }
+
+/// A registry file given twice, however spelled, would have every version reported as a
+/// duplicate of itself: refused as `--results` refuses a repeated file, and so is one file
+/// given as both halves of `--bulk`.
+#[test]
+fn a_registry_file_given_twice_is_refused() {
+    let d = dir();
+    let reg = write(d.path(), "r.yaml", GOOD_REGISTRY.as_bytes());
+    let again = d.path().join(".").join("r.yaml");
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--registry".as_ref(),
+        again.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "stdout {stdout} stderr {stderr}");
+    let want = format!("{}: given twice as --registry", again.display());
+    assert!(stderr.contains(&want), "{stderr}");
+
+    let csv = write(d.path(), "both.csv", "package,version,dependency\n");
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        csv.as_os_str(),
+        csv.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "stdout {stdout} stderr {stderr}");
+    assert!(stderr.contains("given twice as --bulk"), "{stderr}");
+}
