@@ -1718,3 +1718,59 @@ fn a_registry_file_given_twice_is_refused() {
     assert_eq!(code, 2, "stdout {stdout} stderr {stderr}");
     assert!(stderr.contains("given twice as --bulk"), "{stderr}");
 }
+
+/// A matrix given to `review --matrix` may have been edited by hand: a cell's version that is
+/// no semver version (it would be reported as a drift to `banana`) and a field basefit does
+/// not write are refused, naming the file and the cell, exit 2.
+#[test]
+fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
+    let d = dir();
+    let out = d.path().join("out");
+    let mut args: Vec<String> = ["plan", "--quiet", "--out"].map(String::from).to_vec();
+    args.push(out.display().to_string());
+    args.extend(common::DEMO.map(String::from));
+    let (code, _, stderr) = common::run_basefit(&args);
+    assert!(code == 0 || code == 1, "{stderr}");
+    let planned = std::fs::read_to_string(out.join("matrix.json")).unwrap();
+    let review = |name: &str, edit: &dyn Fn(&mut serde_json::Value)| {
+        let mut matrix: serde_json::Value = serde_json::from_str(&planned).unwrap();
+        edit(&mut matrix);
+        let path = write(d.path(), name, matrix.to_string());
+        let mut args: Vec<String> = ["review", "--matrix"].map(String::from).to_vec();
+        args.push(path.display().to_string());
+        args.extend(common::DEMO.map(String::from));
+        args.extend(["--results", "demo-data/results.yaml"].map(String::from));
+        common::run_basefit(&args)
+    };
+    let cell = |m: &serde_json::Value, key: &str| {
+        let cells = m["cells"].as_array().unwrap();
+        cells.iter().position(|c| !c[key].is_null()).unwrap()
+    };
+    let (code, _, stderr) = review("banana.json", &|m| {
+        let i = cell(m, "root_version");
+        m["cells"][i]["root_version"] = "banana".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("banana.json: cell ")
+            && stderr.contains("root_version `banana` is not a semver version"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = review("closure.json", &|m| {
+        let i = cell(m, "closure");
+        m["cells"][i]["closure"][0]["version"] = "1.x".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("closure.json: cell ") && stderr.contains("`1.x` is not a semver version"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = review("extra.json", &|m| {
+        m["notes"] = "hand-edited".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("extra.json:") && stderr.contains("unknown field `notes`"),
+        "{stderr}"
+    );
+}
