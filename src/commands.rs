@@ -617,10 +617,15 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
 }
 
 fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
-    read_json(
+    let shard: Matrix = read_json(
         path,
         "basefit matrix in JSON (merge reads the matrix.json that `plan --shard` wrote)",
-    )
+    )?;
+    // Checked here, as `read_matrix` checks a whole matrix: the merged one must read back.
+    shard
+        .check_versions()
+        .map_err(|e| BadInput::file(path.display().to_string(), e))?;
+    Ok(shard)
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.

@@ -1443,7 +1443,11 @@ fn a_device_given_as_any_input_is_refused_up_front() {
     let link = d.path().join("z.csv");
     std::os::unix::fs::symlink("/dev/null", &link).unwrap();
     let null = Path::new("/dev/null");
-    let versions = write(d.path(), "versions.csv", "package,version\nfernwood,1.0.0\n");
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        "package,version\nfernwood,1.0.0\n",
+    );
     let cases: [(&str, &[&Path]); 7] = [
         ("--registry", &[null]),
         ("--priorities", &[&link]),
