@@ -617,12 +617,16 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
 }
 
 fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
-    let mut m: Matrix = read_json(
+    let mut shard: Matrix = read_json(
         path,
         "basefit matrix in JSON (merge reads the matrix.json that `plan --shard` wrote)",
     )?;
-    m.notice = plan::matrix::NOTICE.to_string();
-    Ok(m)
+    // Checked here, as `read_matrix` checks a whole matrix: the merged one must read back.
+    shard
+        .check_versions()
+        .map_err(|e| BadInput::file(path.display().to_string(), e))?;
+    shard.notice = plan::matrix::NOTICE.to_string();
+    Ok(shard)
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.

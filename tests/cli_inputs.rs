@@ -1431,3 +1431,350 @@ fn a_result_on_a_left_out_image_says_why_the_image_was_left_out() {
     }
     assert_eq!(record_counts(&stdout, "recorded results"), ["2", "0", "2"]);
 }
+
+/// A device never ends (`/dev/zero` would be read until memory runs out), so every input flag
+/// refuses one up front, named as given, also behind a symbolic link with a harmless name.
+/// `/dev/null` stands in for it here: it ends at once, so a reader that took it would fail on
+/// an empty file instead of hanging the test.
+#[cfg(unix)]
+#[test]
+fn a_device_given_as_any_input_is_refused_up_front() {
+    let d = dir();
+    let link = d.path().join("z.csv");
+    std::os::unix::fs::symlink("/dev/null", &link).unwrap();
+    let null = Path::new("/dev/null");
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        "package,version\nfernwood,1.0.0\n",
+    );
+    let cases: [(&str, &[&Path]); 7] = [
+        ("--registry", &[null]),
+        ("--priorities", &[&link]),
+        ("--images", &[null]),
+        ("--results", &[null]),
+        ("--catalog", &[null]),
+        ("--bulk", &[null, &versions]),
+        ("--bulk", &[&link, &versions]),
+    ];
+    for (flag, files) in cases {
+        let mut args: Vec<&std::ffi::OsStr> = vec!["check".as_ref(), flag.as_ref()];
+        args.extend(files.iter().map(|f| f.as_os_str()));
+        let (code, stdout, stderr) = common::run_basefit(args);
+        assert_eq!(code, 2, "{flag}: stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{}: a device, not a regular file; expected a file",
+            files[0].display()
+        );
+        assert!(stderr.contains(&want), "{flag}: {stderr}");
+    }
+}
+
+/// Process substitution (`--priorities <(query)`) hands the command a pipe: refusing what is
+/// not a regular file must not refuse that.
+#[cfg(unix)]
+#[test]
+fn a_fifo_given_as_an_input_is_read() {
+    let d = dir();
+    let fifo = d.path().join("priorities.yaml");
+    let made = Command::new("mkfifo").arg(&fifo).status();
+    if !made.is_ok_and(|s| s.success()) {
+        eprintln!("skipped: mkfifo is not available");
+        return;
+    }
+    let writer = {
+        let fifo = fifo.clone();
+        std::thread::spawn(move || std::fs::write(fifo, "priorities:\n  - fernwood\n").unwrap())
+    };
+    let (code, stdout, stderr) = check_with(d.path(), &[("--priorities", &fifo)]);
+    writer.join().unwrap();
+    assert_eq!(code, 0, "stdout {stdout} stderr {stderr}");
+    assert_eq!(record_counts(&stdout, "priority entries"), ["1", "1", "0"]);
+}
+
+/// An extending image inherits only what it does not give (README, "Runtime images"): a
+/// `packages` list it gives replaces its base's, and `add` appends to them. `packages` used
+/// to be merged with the base's, as if it were `add`.
+#[test]
+fn an_extending_image_s_packages_replace_its_base_s() {
+    let text = concat!(
+        "images:\n",
+        "  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential, zlib1g, libssl3]}\n",
+        "  - {id: own, extends: full, packages: [zlib1g, ca-certificates]}\n",
+        "  - {id: both, extends: full, packages: [zlib1g], add: [curl], remove: [zlib1g]}\n",
+        "  - {id: more, extends: full, add: [curl]}\n",
+        "  - {id: none, extends: full, packages: []}\n",
+    );
+    let mut ledger = basefit::Ledger::default();
+    let images = basefit::load::images::read_images_str("images.yaml", text, &mut ledger).unwrap();
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+    let packages = |id: &str| -> Vec<&str> {
+        let image = images.get(id).unwrap();
+        image.system_packages.iter().map(String::as_str).collect()
+    };
+    assert_eq!(packages("own"), ["ca-certificates", "zlib1g"]);
+    assert_eq!(packages("both"), ["curl"]);
+    assert_eq!(
+        packages("more"),
+        ["build-essential", "curl", "libssl3", "zlib1g"]
+    );
+    assert!(packages("none").is_empty());
+}
+
+/// An image lacking `runtime`, `family` or `platform` with no base to inherit it from is left
+/// out and listed by `check` as `bad-image` at its line, the rest of the file used (README,
+/// "Runtime images"); it used to make the whole images file unusable.
+#[test]
+fn an_image_lacking_a_required_field_leaves_out_only_that_image() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - {id: no-runtime, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: no-family\n",
+            "    runtime: 3.0.0\n",
+            "    platform: linux/glibc/x86_64\n",
+            "  - {id: no-platform, runtime: 3.0.0, family: debian}\n",
+            "  - {id: heir, extends: no-family}\n",
+        )
+        .as_bytes(),
+    );
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "images.yaml:3  no-runtime: missing `runtime` (and no base to inherit it from)",
+            "images.yaml:4  no-family: missing `family` (and no base to inherit it from)",
+            "images.yaml:7  no-platform: missing `platform` (and no base to inherit it from)",
+            "images.yaml:8  heir: its base `no-family` cannot be built: missing `family`",
+            "images that cannot be built (left out) (bad-image): 4",
+        ],
+        Some(("image records", ["5", "1", "4"])),
+    );
+}
+
+/// Names are taken as written and printed by every report: one with white space at an end
+/// never matches a priority entry (those are trimmed), and a tab, ESC or bidirectional
+/// control passes for another name or rewrites the terminal. Each is a `bad-value` at its
+/// line, shown escaped, and its record is left out (the package, or the release whose
+/// dependency names one), in YAML and in the bulk CSV pair.
+#[test]
+fn registry_names_that_are_no_names_leave_their_record_out() {
+    let d = dir();
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - {version: 1.0.0}\n",
+            "      - version: 1.1.0\n",
+            "        depends:\n",
+            "          - {name: fernwood}\n",
+            "          - {name: \"evil\\e[2J\"}\n",
+            "  - name: \"b \"\n",
+            "    versions: [{version: 1.0.0, depends: [{name: fernwood}]}]\n",
+            "  - {name: \"good\\tpkg\", versions: [{version: 1.0.0}]}\n",
+        )
+        .as_bytes(),
+    );
+    let stdout = assert_check_finds(
+        &reg,
+        &img,
+        &[
+            r#"registry.yaml:8  fernwood@1.1.0: dependency name "evil\u{1b}[2J" holds a control character"#,
+            r#"registry.yaml:9  "b ": package name "b " begins or ends with white space"#,
+            r#"registry.yaml:11  "good\tpkg": package name "good\tpkg" holds white space other than at its ends"#,
+        ],
+        Some(("package records", ["3", "1", "2"])),
+    );
+    assert_eq!(record_counts(&stdout, "version records"), ["4", "1", "3"]);
+    assert_eq!(
+        record_counts(&stdout, "dependency records"),
+        ["3", "0", "3"]
+    );
+    assert!(
+        !stdout.contains('\u{1b}') && !stdout.contains('\t'),
+        "{stdout:?}"
+    );
+
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        "package,version\nfernwood,1.0.0\nfernwood,1.1.0\ngood\tpkg,1.0.0\ngood\tpkg,2.0.0\n",
+    );
+    let deps = write(
+        d.path(),
+        "deps.csv",
+        "package,version,dependency\nfernwood,1.1.0,fernwood\nfernwood,1.1.0,abc\u{202e}fed\ngood\tpkg,2.0.0,fernwood\nfernwood,1.0.0,abc\u{202e}fed\n",
+    );
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        versions.as_os_str(),
+        deps.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        r#"deps.csv:3  fernwood@1.1.0: dependency name "abc\u{202e}fed" holds a bidirectional text control"#,
+        r#"deps.csv:5  fernwood@1.0.0: dependency name "abc\u{202e}fed" holds a bidirectional text control"#,
+        r#"versions.csv:4  "good\tpkg": package name "good\tpkg" holds white space other than at its ends"#,
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    assert_eq!(record_counts(&stdout, "package records"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "version records"), ["4", "0", "4"]);
+    assert_eq!(
+        record_counts(&stdout, "dependency records"),
+        ["4", "0", "4"]
+    );
+    assert!(
+        !stdout.contains('\u{202e}') && !stdout.contains('\t'),
+        "{stdout:?}"
+    );
+}
+
+/// The same names in the other inputs: a recorded result's package or image, a priority
+/// entry (after the trimming priority names get) and an image id are `bad-value` (an image,
+/// `bad-image`) at their line, shown escaped, their record left out.
+#[test]
+fn names_that_are_no_names_leave_out_results_priorities_and_images() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        format!(
+            "{GOOD_IMAGES}  - {{id: \"deb\\u2066\", runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}}\n"
+        ),
+    );
+    let pri = write(
+        d.path(),
+        "priorities.yaml",
+        "priorities:\n  - fernwood\n  - \" fern\\twood \"\n",
+    );
+    let res = write(
+        d.path(),
+        "results.yaml",
+        concat!(
+            "results:\n",
+            "  - {package: fernwood, image: plain, outcome: installed}\n",
+            "  - {package: \"fern\\x1bwood\", image: plain, outcome: installed}\n",
+            "  - {package: fernwood, image: \"plain\\n\", outcome: failed}\n",
+        ),
+    );
+    let (code, stdout, stderr) = check_with(
+        d.path(),
+        &[
+            ("--registry", &reg),
+            ("--images", &img),
+            ("--priorities", &pri),
+            ("--results", &res),
+        ],
+    );
+    assert_eq!(code, 1, "{stderr}");
+    for want in [
+        r#"images.yaml:3  "deb\u{2066}": image id "deb\u{2066}" holds a bidirectional text control"#,
+        r#"priorities.yaml:3  "fern\twood": package name "fern\twood" holds white space other than at its ends"#,
+        r#"results.yaml:3  "fern\u{1b}wood" on "plain": package name "fern\u{1b}wood" holds a control character"#,
+        r#"results.yaml:4  "fernwood" on "plain\n": image id "plain\n" begins or ends with white space"#,
+    ] {
+        assert!(stdout.contains(want), "wanted {want} in {stdout}");
+    }
+    assert_eq!(record_counts(&stdout, "image records"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "priority entries"), ["2", "1", "1"]);
+    assert_eq!(record_counts(&stdout, "recorded results"), ["3", "1", "2"]);
+    assert!(!stdout.contains(['\u{1b}', '\u{2066}', '\t']), "{stdout:?}");
+}
+
+/// A registry file given twice, however spelled, would have every version reported as a
+/// duplicate of itself: refused as `--results` refuses a repeated file, and so is one file
+/// given as both halves of `--bulk`.
+#[test]
+fn a_registry_file_given_twice_is_refused() {
+    let d = dir();
+    let reg = write(d.path(), "r.yaml", GOOD_REGISTRY.as_bytes());
+    let again = d.path().join(".").join("r.yaml");
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--registry".as_ref(),
+        again.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "stdout {stdout} stderr {stderr}");
+    let want = format!("{}: given twice as --registry", again.display());
+    assert!(stderr.contains(&want), "{stderr}");
+
+    let csv = write(d.path(), "both.csv", "package,version,dependency\n");
+    let (code, stdout, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--bulk".as_ref(),
+        csv.as_os_str(),
+        csv.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "stdout {stdout} stderr {stderr}");
+    assert!(stderr.contains("given twice as --bulk"), "{stderr}");
+}
+
+/// A matrix given to `review --matrix` may have been edited by hand: a cell's version that is
+/// no semver version (it would be reported as a drift to `banana`) and a field basefit does
+/// not write are refused, naming the file and the cell, exit 2.
+#[test]
+fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
+    let d = dir();
+    let out = d.path().join("out");
+    let mut args: Vec<String> = ["plan", "--quiet", "--out"].map(String::from).to_vec();
+    args.push(out.display().to_string());
+    args.extend(common::DEMO.map(String::from));
+    let (code, _, stderr) = common::run_basefit(&args);
+    assert!(code == 0 || code == 1, "{stderr}");
+    let planned = std::fs::read_to_string(out.join("matrix.json")).unwrap();
+    let review = |name: &str, edit: &dyn Fn(&mut serde_json::Value)| {
+        let mut matrix: serde_json::Value = serde_json::from_str(&planned).unwrap();
+        edit(&mut matrix);
+        let path = write(d.path(), name, matrix.to_string());
+        let mut args: Vec<String> = ["review", "--matrix"].map(String::from).to_vec();
+        args.push(path.display().to_string());
+        args.extend(common::DEMO.map(String::from));
+        args.extend(["--results", "demo-data/results.yaml"].map(String::from));
+        common::run_basefit(&args)
+    };
+    let cell = |m: &serde_json::Value, key: &str| {
+        let cells = m["cells"].as_array().unwrap();
+        cells.iter().position(|c| !c[key].is_null()).unwrap()
+    };
+    let (code, _, stderr) = review("banana.json", &|m| {
+        let i = cell(m, "root_version");
+        m["cells"][i]["root_version"] = "banana".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("banana.json: cell ")
+            && stderr.contains("root_version `banana` is not a semver version"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = review("closure.json", &|m| {
+        let i = cell(m, "closure");
+        m["cells"][i]["closure"][0]["version"] = "1.x".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("closure.json: cell ") && stderr.contains("`1.x` is not a semver version"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = review("extra.json", &|m| {
+        m["notes"] = "hand-edited".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("extra.json:") && stderr.contains("unknown field `notes`"),
+        "{stderr}"
+    );
+}

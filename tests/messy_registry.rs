@@ -198,3 +198,60 @@ fn dependency_problems_name_the_line_of_the_value() {
     // The dependency without a requirement is satisfiable and reported nowhere.
     assert_eq!(ledger.problems.len(), 3, "{found:?}");
 }
+
+/// An empty native library name would make cells at risk for a library nobody can name: the
+/// version is left out as a bad value at the line of the name, the rest of the package used.
+#[test]
+fn an_empty_native_library_name_leaves_out_its_version() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "r.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: wren\n",
+            "    versions:\n",
+            "      - {version: \"1.0.0\", native: {libraries: [zlib]}}\n",
+            "      - version: \"1.1.0\"\n",
+            "        native:\n",
+            "          libraries:\n",
+            "            - zlib\n",
+            "            - \"\"\n",
+            "      - {version: \"1.2.0\", native: {libraries: [\" \"]}}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let bad: Vec<(usize, &str, &str)> = ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == ProblemKind::BadValue)
+        .map(|p| (p.origin.line, p.subject.as_str(), p.detail.as_str()))
+        .collect();
+    assert_eq!(
+        bad,
+        [
+            (
+                9,
+                "wren@1.1.0",
+                "native library name `` is empty; expected a catalog id or a library name"
+            ),
+            (
+                10,
+                "wren@1.2.0",
+                "native library name ` ` is empty; expected a catalog id or a library name"
+            ),
+        ]
+    );
+    let wren = registry.id("wren").unwrap();
+    let versions: Vec<String> = registry
+        .package(wren)
+        .releases
+        .iter()
+        .map(|r| r.version.to_string())
+        .collect();
+    assert_eq!(versions, ["1.0.0"]);
+}

@@ -114,6 +114,24 @@ fn malformed_catalog_gives_a_clear_error() {
     );
 }
 
+/// A family given twice in one library's `families` would keep only the later packages
+/// without a word: refused at the second key's line, as every other repeated key is.
+#[test]
+fn a_family_given_twice_in_one_library_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: libfoo\n    families:\n      debian: {dev: libfoo-dev}\n      alpine: {dev: foo-dev}\n      debian: {dev: libother-dev}\n",
+    )
+    .unwrap();
+    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    assert!(
+        e.contains("site.yaml:6:") && e.contains("family `debian` given twice"),
+        "{e}"
+    );
+}
+
 /// Catalog package names go into install commands as they are, so a name that is no package
 /// name (a space, a `;`, a leading `-` read as an option, nothing at all) is refused at its
 /// line; so is a family that names no package, which would count as known and advise nothing.

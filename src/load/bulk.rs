@@ -16,8 +16,13 @@
 //! it once.
 
 use super::diag;
-use super::diag::{At, BadInput, Ledger, Origin, Problem, ProblemKind, RecordKind, SchemaErrors};
-use super::registry::{BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms};
+use super::diag::{
+    At, BadInput, Ledger, Origin, Problem, ProblemKind, RecordKind, SchemaErrors, bad_name_detail,
+    name_problem, shown_name,
+};
+use super::registry::{
+    BadDependency, RegistryBuilder, Unplaced, VersionFields, read_platforms, unreadable_platform,
+};
 use super::table::{RowRef, Table};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, PlatformId, Registry, ReqId, Requirement,
@@ -469,8 +474,9 @@ struct Attached {
     owners: Vec<u32>,
     /// Dependency rows per staged version, readable or not.
     counts: Vec<u32>,
-    /// The first dependency with an unreadable requirement, per staged version.
-    bad: FxHashMap<u32, (usize, Box<str>, String)>,
+    /// The first unusable dependency (unreadable requirement, or a name that is no name)
+    /// per staged version: its line, the problem's kind and detail.
+    bad: FxHashMap<u32, (usize, ProblemKind, String)>,
     file: String,
 }
 
@@ -491,6 +497,8 @@ struct Load {
     helper_given: Vec<bool>,
     /// Parsed `prebuilt` cells: dumps repeat the same few lists millions of times.
     platform_lists: FxHashMap<Box<str>, Box<[PlatformId]>>,
+    /// Package names [`name_problem`] refused: their rows are left out, and reported once.
+    bad_packages: FxHashSet<Box<str>>,
 }
 
 impl Load {
@@ -522,7 +530,7 @@ impl Load {
         let _ = self.index.arena.try_reserve(rows.saturating_mul(8));
         let mut errors = SchemaErrors::new();
         // Rows of one package are usually adjacent: the last name saves a lookup per row.
-        let mut last: Option<(String, PackageId)> = None;
+        let mut last: Option<(String, Option<PackageId>)> = None;
         let read = table.for_each_batch(|batch| {
             for row in batch.rows() {
                 if let Err(e) = self.version_row(&file, &cols, row, &mut last) {
@@ -557,7 +565,7 @@ impl Load {
         file: &str,
         cols: &VersionCols,
         row: RowRef<'_>,
-        last: &mut Option<(String, PackageId)>,
+        last: &mut Option<(String, Option<PackageId>)>,
     ) -> Result<(), BadInput> {
         let line = row.line;
         let name = row
@@ -574,11 +582,11 @@ impl Load {
         let files = row.text(cols.native_files);
         let summary = row.text(cols.summary);
         let native_helper = row.flag(file, cols.native_helper, "native_helper")?;
-        let (prebuilt, unreadable_platform) = match prebuilt_text {
+        let (prebuilt, bad_value) = match prebuilt_text {
             None => (Box::default(), None),
             Some(text) => match self.platforms(text, line) {
                 Ok(ids) => (ids, None),
-                Err(why) => (Box::default(), Some(why)),
+                Err(why) => (Box::default(), Some(unreadable_platform(why))),
             },
         };
         // No build columns filled means nothing is said about builds: source only, as a YAML
@@ -600,6 +608,13 @@ impl Load {
                 id
             }
         };
+        let Some(package) = package else {
+            // Its package was left out for its name (reported once, at its first row).
+            let ledger = &mut self.builder.ledger;
+            ledger.read(RecordKind::Version);
+            ledger.left_out_with_owner(RecordKind::Version, 1);
+            return Ok(());
+        };
         self.package_fields(package, summary, native_helper);
         // Problems in the bulk format name the row (its first line) for each of its values.
         let fields = VersionFields {
@@ -607,7 +622,7 @@ impl Load {
             released: released.map(|t| At::new(t, line)),
             runtime: runtime.map(|t| At::new(t, line)),
             build: Build { source, prebuilt },
-            unreadable_platform,
+            bad_value,
             native,
             yanked,
         };
@@ -644,7 +659,8 @@ impl Load {
         Ok(())
     }
 
-    /// The package a row belongs to, declared at its first row.
+    /// The package a row belongs to, declared at its first row; `None` when its name is no
+    /// name ([`name_problem`]): the package is then left out, reported at its first row.
     fn package(
         &mut self,
         file: &str,
@@ -652,11 +668,30 @@ impl Load {
         name: &str,
         summary: Option<&str>,
         native_helper: Option<bool>,
-    ) -> PackageId {
+    ) -> Option<PackageId> {
         if let Some(id) = self.builder.registry.id(name)
             && self.builder.registry.package(id).declared
         {
-            return id;
+            return Some(id);
+        }
+        if self.bad_packages.contains(name) {
+            return None;
+        }
+        if let Some(why) = name_problem(name) {
+            self.bad_packages.insert(name.into());
+            let ledger = &mut self.builder.ledger;
+            ledger.read(RecordKind::Package);
+            ledger.leave_out(
+                RecordKind::Package,
+                ProblemKind::BadValue,
+                Origin {
+                    file: file.to_string(),
+                    line,
+                },
+                shown_name(name),
+                bad_name_detail("package name", name, why),
+            );
+            return None;
         }
         let id =
             self.builder
@@ -666,7 +701,7 @@ impl Load {
             self.helper_given.resize(index + 1, false);
         }
         self.helper_given[index] = native_helper.is_some();
-        id
+        Some(id)
     }
 
     /// Package-level cells repeat on every row of a package: the first non-empty value of
@@ -789,6 +824,11 @@ impl Load {
             slot
         };
         let s = match slot {
+            // The version's rows were left out with their package, for its name.
+            None if self.bad_packages.contains(package) => {
+                pass.with_owner += 1;
+                return;
+            }
             None => return self.orphan(&pass.attached.file, line, package, version),
             Some(Slot::LeftOut) => {
                 pass.with_owner += 1;
@@ -816,7 +856,8 @@ impl Load {
             None => match registry.intern_requirement(req) {
                 Ok(r) => r,
                 Err(why) => {
-                    pass.attached.bad.insert(s, (line, dependency.into(), why));
+                    let bad = BadDependency::requirement("", line, dependency, &why);
+                    pass.attached.bad.insert(s, (line, bad.kind, bad.detail));
                     return;
                 }
             },
@@ -831,7 +872,17 @@ impl Load {
             None => match pass.seen.iter().find(|(n, _)| n == dependency) {
                 Some((_, p)) => *p,
                 None => {
-                    let p = registry.intern_package(dependency);
+                    let interned = registry.intern_package_checked(dependency, |name| {
+                        name_problem(name).map_or(Ok(()), Err)
+                    });
+                    let p = match interned {
+                        Ok(p) => p,
+                        Err(why) => {
+                            let bad = BadDependency::name("", line, dependency, why);
+                            pass.attached.bad.insert(s, (line, bad.kind, bad.detail));
+                            return;
+                        }
+                    };
                     // Bounded, so a package with hundreds of dependencies does not make
                     // every miss a long scan.
                     if pass.seen.len() < SEEN_LIMIT {
@@ -922,7 +973,7 @@ impl Load {
                         &mut builder.registry.package_mut(package).releases[place as usize];
                     release.deps = grouped[starts[i]..starts[i + 1]].into();
                 }
-                Some((line, name, why)) => {
+                Some((line, kind, detail)) => {
                     // Cloned: the builder is borrowed mutably to record the problem.
                     let version = builder.registry.package(package).releases[place as usize]
                         .version
@@ -930,8 +981,8 @@ impl Load {
                     let bad_dep = BadDependency {
                         file: &file,
                         line: *line,
-                        name,
-                        why: why.clone(),
+                        kind: *kind,
+                        detail: detail.clone(),
                     };
                     builder.leave_out_for_dependency(
                         package,

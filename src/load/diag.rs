@@ -162,9 +162,80 @@ impl FileIdentity {
     }
 }
 
+/// What a file that is not a regular file is, for the message refusing it.
+pub fn file_kind(kind: std::fs::FileType) -> &'static str {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if kind.is_fifo() {
+            return "a FIFO";
+        }
+        if kind.is_char_device() || kind.is_block_device() {
+            return "a device";
+        }
+        if kind.is_socket() {
+            return "a socket";
+        }
+    }
+    if kind.is_dir() {
+        "a directory"
+    } else {
+        "a special file"
+    }
+}
+
+/// Whether an input of this kind can be read to an end. A device such as `/dev/zero` never
+/// ends (the run would read until memory runs out) and a socket is no file; a FIFO is read,
+/// since `--priorities <(query)` hands the command a pipe.
+fn readable_kind(kind: std::fs::FileType) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if kind.is_fifo() {
+            return true;
+        }
+    }
+    kind.is_file()
+}
+
+fn refuse_kind(path: &Path, kind: std::fs::FileType) -> Result<(), BadInput> {
+    if readable_kind(kind) {
+        return Ok(());
+    }
+    Err(BadInput::file(
+        path.display().to_string(),
+        format!(
+            "{}, not a regular file; expected a file (or a pipe)",
+            file_kind(kind)
+        ),
+    ))
+}
+
+/// Opens an input file, refusing up front what cannot be read to an end (see
+/// [`readable_kind`]). The kind is checked before the open, since opening some devices acts
+/// on them, and again on the open file, which may not be the one checked.
+///
+/// ```
+/// # #[cfg(unix)] {
+/// let e = basefit::load::diag::open_input(std::path::Path::new("/dev/zero")).unwrap_err();
+/// assert_eq!(e.to_string(), "/dev/zero: a device, not a regular file; expected a file (or a pipe)");
+/// # }
+/// ```
+pub fn open_input(path: &Path) -> Result<std::fs::File, BadInput> {
+    let cannot =
+        |e: std::io::Error| BadInput::file(path.display().to_string(), format!("cannot read: {e}"));
+    refuse_kind(path, std::fs::metadata(path).map_err(cannot)?.file_type())?;
+    let file = std::fs::File::open(path).map_err(cannot)?;
+    refuse_kind(path, file.metadata().map_err(cannot)?.file_type())?;
+    Ok(file)
+}
+
 /// Reads a whole input file as UTF-8 text, naming the file in the error.
 pub fn read_text(path: &Path) -> Result<String, BadInput> {
-    let bytes = std::fs::read(path)
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    open_input(path)?
+        .read_to_end(&mut bytes)
         .map_err(|e| BadInput::file(path.display().to_string(), format!("cannot read: {e}")))?;
     String::from_utf8(bytes).map_err(|e| {
         let upto = &e.as_bytes()[..e.utf8_error().valid_up_to()];
@@ -175,6 +246,96 @@ pub fn read_text(path: &Path) -> Result<String, BadInput> {
             "not UTF-8 text (binary data?)",
         )
     })
+}
+
+/// Why `name` cannot name a package or an image, or `None` when it can.
+///
+/// Names are matched as written, and every report prints them: a name with white space at
+/// either end never matches the trimmed name a priority list gives, and a tab, a line break,
+/// another control character (ESC starts terminal escape sequences) or a bidirectional
+/// text control (U+061C, U+200E, U+200F, U+202A to U+202E, U+2066 to U+2069: the Unicode
+/// Bidi_Control characters, which reorder the text shown around them) would let a name pass
+/// for another one in a report, or rewrite the terminal it is printed on. No package index
+/// allows any of these in a name. Every reader of package names and image ids asks here, so
+/// all formats accept the same names; the record holding such a name is left out and
+/// reported at its line (show the name with [`shown_name`]).
+///
+/// ```
+/// use basefit::load::diag::name_problem;
+/// assert_eq!(name_problem("quill-xml"), None);
+/// assert_eq!(name_problem("b "), Some("begins or ends with white space"));
+/// assert_eq!(name_problem("good\tpkg"), Some("holds white space other than at its ends"));
+/// assert_eq!(name_problem("red\u{1b}[31m"), Some("holds a control character"));
+/// assert_eq!(name_problem("abc\u{202e}fed"), Some("holds a bidirectional text control"));
+/// assert_eq!(name_problem(""), Some("is empty"));
+/// ```
+pub fn name_problem(name: &str) -> Option<&'static str> {
+    if name.is_empty() {
+        return Some("is empty");
+    }
+    // Most names are plain ASCII: one pass over the bytes settles them.
+    if name.bytes().all(|b| b.is_ascii_graphic()) {
+        return None;
+    }
+    if name.starts_with(char::is_whitespace) || name.ends_with(char::is_whitespace) {
+        return Some("begins or ends with white space");
+    }
+    for c in name.chars() {
+        if is_bidi_control(c) {
+            return Some("holds a bidirectional text control");
+        }
+        if c.is_whitespace() {
+            return Some("holds white space other than at its ends");
+        }
+        if c.is_control() {
+            return Some("holds a control character");
+        }
+    }
+    None
+}
+
+fn is_bidi_control(c: char) -> bool {
+    matches!(c, '\u{061c}' | '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+}
+
+/// `name` as a report may print it whatever it holds: quoted, with every character
+/// [`name_problem`] objects to written as an escape (`\t`, `\u{1b}`), so the problem that
+/// reports a bad name neither hides nor performs what is wrong with it.
+///
+/// ```
+/// use basefit::load::diag::shown_name;
+/// assert_eq!(shown_name("good\tpkg"), r#""good\tpkg""#);
+/// assert_eq!(shown_name("x\u{1b}[2J"), r#""x\u{1b}[2J""#);
+/// assert_eq!(shown_name("b "), r#""b ""#);
+/// ```
+pub fn shown_name(name: &str) -> String {
+    let mut out = String::with_capacity(name.len() + 2);
+    out.push('"');
+    for c in name.chars() {
+        match c {
+            '\t' => out.push_str("\\t"),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            ' ' => out.push(' '),
+            c if c.is_control() || c.is_whitespace() || is_bidi_control(c) => {
+                out.push_str(&format!("\\u{{{:x}}}", c as u32));
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// The problem's detail for a name [`name_problem`] refuses: `what` says whose name it is
+/// ("package name", "dependency name", "image id").
+pub fn bad_name_detail(what: &str, name: &str, why: &str) -> String {
+    format!(
+        "{what} {} {why}; expected a name without white space or control characters",
+        shown_name(name)
+    )
 }
 
 /// Where a record came from: file and 1-based line.

@@ -1,6 +1,9 @@
 //! Runtime images in YAML. An image may extend another and add or remove system packages.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, bad_name_detail, name_problem,
+    read_text, shown_name,
+};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{Image, ImageSet, OsFamily, Platform};
@@ -24,6 +27,8 @@ const IMAGE_FIELDS: &[&str] = &[
 /// bases are applied keep their lines, so a problem with one names it.
 struct Declared {
     id: String,
+    /// The line `id` is written on.
+    id_line: usize,
     line: usize,
     extends: Option<At<String>>,
     runtime: Option<At<String>>,
@@ -33,6 +38,9 @@ struct Declared {
     /// unreadable runtime does.
     platform: Option<At<String>>,
     toolchain: Option<At<bool>>,
+    /// `packages` as written: given, it replaces the base's list (an extending image inherits
+    /// only what it does not give); `add` is what extends the base's.
+    packages: Option<Vec<String>>,
     add: Vec<String>,
     remove: Vec<At<String>>,
 }
@@ -79,6 +87,18 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
     let mut unique: Vec<&Declared> = Vec::new();
     for d in &declared {
         ledger.read(RecordKind::Image);
+        // Left out as an image that cannot be built, so a result naming it says it was left
+        // out and why; an image extending it finds no base.
+        if let Some(why) = name_problem(&d.id) {
+            ledger.leave_out(
+                RecordKind::Image,
+                ProblemKind::BadImage,
+                origin(d.id_line),
+                shown_name(&d.id),
+                bad_name_detail("image id", &d.id, why),
+            );
+            continue;
+        }
         if let Some(&first) = by_id.get(d.id.as_str()) {
             ledger.leave_out(
                 RecordKind::Image,
@@ -187,10 +207,12 @@ fn resolve(
                 .copied()
                 .map(Some)
                 .ok_or_else(|| {
-                    At::new(
-                        format!("extends `{}`, which is not declared", b.value),
-                        b.line,
-                    )
+                    // A base named by no name is shown escaped, as its id would be.
+                    let base = match name_problem(&b.value) {
+                        None => format!("`{}`", b.value),
+                        Some(_) => shown_name(&b.value),
+                    };
+                    At::new(format!("extends {base}, which is not declared"), b.line)
                 }),
         };
         match step {
@@ -353,8 +375,10 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
             .map(|b| b.platform.clone())
             .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?,
     };
-    let mut packages: BTreeSet<String> =
-        base.map(|b| b.system_packages.clone()).unwrap_or_default();
+    let mut packages: BTreeSet<String> = match &d.packages {
+        Some(given) => given.iter().cloned().collect(),
+        None => base.map(|b| b.system_packages.clone()).unwrap_or_default(),
+    };
     packages.extend(d.add.iter().cloned());
     for r in &d.remove {
         if !packages.remove(&r.value) {
@@ -398,24 +422,26 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
     if id.value.trim().is_empty() {
         return Err(BadInput::at(ctx.file, id.line, "image: `id` is empty"));
     }
+    let id_line = id.line;
     let id = id.value.trim().to_string();
+    // A missing `runtime`, `family` or `platform` is checked once bases are applied (see
+    // `build`): like an unreadable one, it is that image's problem, not the whole file's.
     let extends = m.opt_str_at("extends")?.map(owned);
-    if extends.is_none() {
-        for key in ["runtime", "family", "platform"] {
-            m.required(key)?;
-        }
-    }
-    let mut add = m.str_list("packages")?;
-    add.extend(m.str_list("add")?);
+    let packages = match m.get("packages") {
+        Some(_) => Some(m.str_list("packages")?),
+        None => None,
+    };
     Ok(Declared {
         id,
+        id_line,
         line: m.line(),
         extends,
         runtime: m.opt_str_at("runtime")?.map(owned),
         family: m.opt_str_at("family")?.map(owned),
         platform: m.opt_str_at("platform")?.map(owned),
         toolchain: m.opt_bool_at("toolchain")?,
-        add,
+        packages,
+        add: m.str_list("add")?,
         remove: m.str_list_at("remove")?,
     })
 }

@@ -216,6 +216,18 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         "--results",
         "its results would be counted twice, each one a retry of itself",
     )?;
+    diag::refuse_repeated(
+        &paths.registry,
+        "--registry",
+        "its versions would be read twice, each one reported a duplicate of itself",
+    )?;
+    if let Some((versions, deps)) = &paths.bulk {
+        diag::refuse_repeated(
+            &[versions.clone(), deps.clone()],
+            "--bulk",
+            "one file cannot be both the versions and the dependencies file",
+        )?;
+    }
     let mut builder = RegistryBuilder::new();
     let yaml_bar = paths
         .progress

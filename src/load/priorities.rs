@@ -1,6 +1,9 @@
 //! Priority lists, in YAML or CSV.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, SchemaErrors, bad_name_detail,
+    name_problem, read_text, shown_name,
+};
 use super::table::Table;
 use super::yaml::{self, Ctx, Value};
 use crate::model::{Priority, PriorityList, Requirement};
@@ -17,6 +20,8 @@ struct RawEntry {
     line: usize,
     rank: Option<f64>,
     name: String,
+    /// The line `name` is written on.
+    name_line: usize,
     weight: Option<At<f64>>,
     req: Option<At<String>>,
     prerelease: bool,
@@ -62,6 +67,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
                 line: node.line,
                 rank: None,
                 name: entry_name(file, node.line, name)?,
+                name_line: node.line,
                 weight: None,
                 req: None,
                 prerelease: false,
@@ -73,6 +79,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
             line: m.line(),
             rank: None,
             name: entry_name(file, name.line, name.value)?,
+            name_line: name.line,
             weight: m.opt_number_at("weight")?,
             req: m
                 .opt_str_at("req")?
@@ -137,6 +144,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
                 line: row.line,
                 rank: number(c_rank, "rank")?,
                 name,
+                name_line: row.line,
                 weight: number(c_weight, "weight")?.map(|w| At::new(w, row.line)),
                 req: row.get(c_req).map(|r| At::new(r.to_owned(), row.line)),
                 prerelease,
@@ -173,6 +181,19 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
             file: file.to_string(),
             line: e.line,
         };
+        if let Some(why) = name_problem(&e.name) {
+            ledger.leave_out(
+                RecordKind::Priority,
+                ProblemKind::BadValue,
+                Origin {
+                    file: file.to_string(),
+                    line: e.name_line,
+                },
+                shown_name(&e.name),
+                bad_name_detail("package name", &e.name, why),
+            );
+            continue;
+        }
         if let Some(first) = seen.get(&e.name) {
             ledger.leave_out(
                 RecordKind::Priority,

@@ -1,6 +1,9 @@
 //! The registry snapshot in YAML, and the assembly step shared with the bulk CSV reader.
 
-use super::diag::{At, BadInput, Ledger, Origin, ProblemKind, RecordKind, read_text};
+use super::diag::{
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, bad_name_detail, name_problem,
+    read_text, shown_name,
+};
 use super::lenient::{VersionRead, read_version};
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
@@ -86,7 +89,7 @@ pub struct RawRelease<'a> {
     pub deps: Vec<RawDep<'a>>,
     pub source_build: bool,
     /// Platforms with a prebuilt build, as written: one that cannot be read leaves the
-    /// version out (see [`VersionFields::unreadable_platform`]).
+    /// version out (see [`VersionFields::bad_value`]).
     pub prebuilt: Vec<At<&'a str>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
@@ -112,10 +115,11 @@ pub struct VersionFields<'a> {
     /// Requirement on the runtime version, as written.
     pub runtime: Option<At<&'a str>>,
     pub build: Build,
-    /// The first `prebuilt` platform that cannot be read, as why (from [`Platform::parse`])
-    /// at its line; `build` then lists none. It leaves the version out, as an unreadable
-    /// runtime requirement does: the rest of the file is still usable.
-    pub unreadable_platform: Option<At<String>>,
+    /// The first value that cannot be used (a `prebuilt` platform that cannot be read, an
+    /// empty native library name), as the problem's detail at its line; `build` then lists no
+    /// platform. It leaves the version out as a `bad-value`, as an unreadable runtime
+    /// requirement leaves it out: the rest of the file is still usable.
+    pub bad_value: Option<At<String>>,
     pub native: Option<NativeHints>,
     pub yanked: bool,
 }
@@ -130,6 +134,12 @@ pub fn read_platforms<'t>(
         .into_iter()
         .map(|p| Platform::parse(p.value).map_err(|why| At::new(why, p.line)))
         .collect()
+}
+
+/// The problem's detail for a `prebuilt` platform that cannot be read, from
+/// [`read_platforms`]'s why, for [`VersionFields::bad_value`].
+pub fn unreadable_platform(why: At<String>) -> At<String> {
+    At::new(format!("prebuilt platform {}", why.value), why.line)
 }
 
 /// A version record whose own fields passed their checks, waiting for its dependencies.
@@ -147,16 +157,38 @@ impl StagedRelease {
     }
 }
 
-/// The first dependency of a staged version whose requirement cannot be read; it leaves the
-/// whole version out, as in every format.
+/// The first dependency of a staged version that cannot be used (its requirement cannot be
+/// read, or its name is no name); it leaves the whole version out, as in every format.
 pub struct BadDependency<'a> {
-    /// Where the dependency record is.
+    /// Where the dependency's value at fault is.
     pub file: &'a str,
     pub line: usize,
-    /// The package depended on.
-    pub name: &'a str,
-    /// Why its requirement cannot be read.
-    pub why: String,
+    /// `unreadable-requirement` or `bad-value`.
+    pub kind: ProblemKind,
+    /// The problem's detail.
+    pub detail: String,
+}
+
+impl<'a> BadDependency<'a> {
+    /// A dependency on `name` whose requirement cannot be read, for `why`.
+    pub fn requirement(file: &'a str, line: usize, name: &str, why: &str) -> Self {
+        BadDependency {
+            file,
+            line,
+            kind: ProblemKind::UnreadableRequirement,
+            detail: format!("requirement on {name}: {why}"),
+        }
+    }
+
+    /// A dependency whose name [`name_problem`] refuses, for `why`.
+    pub fn name(file: &'a str, line: usize, name: &str, why: &str) -> Self {
+        BadDependency {
+            file,
+            line,
+            kind: ProblemKind::BadValue,
+            detail: bad_name_detail("dependency name", name, why),
+        }
+    }
 }
 
 impl Default for RegistryBuilder {
@@ -224,9 +256,23 @@ impl RegistryBuilder {
         line: usize,
         raw: RawRelease<'_>,
     ) {
+        self.add_release_unless(package, file, line, raw, None);
+    }
+
+    /// [`RegistryBuilder::add_release`] for a record in which the reader found a value it
+    /// cannot use: `bad_value`, when given, is the problem's detail at that value's line, and
+    /// leaves the version out (see [`VersionFields::bad_value`]) after its other checks.
+    pub fn add_release_unless(
+        &mut self,
+        package: PackageId,
+        file: &str,
+        line: usize,
+        raw: RawRelease<'_>,
+        bad_value: Option<At<String>>,
+    ) {
         let dep_count = raw.deps.len() as u64;
         self.ledger.read_many(RecordKind::Dependency, dep_count);
-        let (prebuilt, unreadable_platform) = match read_platforms(raw.prebuilt) {
+        let (prebuilt, bad_platform) = match read_platforms(raw.prebuilt) {
             Ok(platforms) => (
                 platforms
                     .into_iter()
@@ -234,7 +280,7 @@ impl RegistryBuilder {
                     .collect(),
                 None,
             ),
-            Err(why) => (Box::default(), Some(why)),
+            Err(why) => (Box::default(), Some(unreadable_platform(why))),
         };
         let fields = VersionFields {
             version: raw.version,
@@ -244,7 +290,7 @@ impl RegistryBuilder {
                 source: raw.source_build,
                 prebuilt,
             },
-            unreadable_platform,
+            bad_value: bad_platform.or(bad_value),
             native: raw.native,
             yanked: raw.yanked,
         };
@@ -256,6 +302,12 @@ impl RegistryBuilder {
         let mut deps = Vec::with_capacity(raw.deps.len());
         let mut bad = None;
         for d in &raw.deps {
+            // Checked before interning, so a name no report should print never enters the
+            // registry.
+            if let Some(why) = name_problem(d.name.value) {
+                bad = Some(BadDependency::name(file, d.name.line, d.name.value, why));
+                break;
+            }
             match self.registry.intern_requirement(d.req.value) {
                 Ok(req) => deps.push(Dep {
                     package: self.registry.intern_package(d.name.value),
@@ -263,12 +315,12 @@ impl RegistryBuilder {
                     kind: d.kind,
                 }),
                 Err(why) => {
-                    bad = Some(BadDependency {
+                    bad = Some(BadDependency::requirement(
                         file,
-                        line: d.req.line,
-                        name: d.name.value,
-                        why,
-                    });
+                        d.req.line,
+                        d.name.value,
+                        &why,
+                    ));
                     break;
                 }
             }
@@ -362,13 +414,13 @@ impl RegistryBuilder {
                 }
             },
         };
-        if let Some(At { value: why, line }) = fields.unreadable_platform {
+        if let Some(At { value: why, line }) = fields.bad_value {
             self.ledger.leave_out(
                 RecordKind::Version,
                 ProblemKind::BadValue,
                 origin(line),
                 subject(&self.registry),
-                format!("prebuilt platform {why}"),
+                why,
             );
             return None;
         }
@@ -411,7 +463,7 @@ impl RegistryBuilder {
         self.registry.package_mut(package).releases.push(release);
     }
 
-    /// Records `package`@`version` as left out for its first unreadable requirement, with its
+    /// Records `package`@`version` as left out for its first unusable dependency, with its
     /// `dep_count` dependency records. The caller drops the release itself.
     pub fn leave_out_for_dependency(
         &mut self,
@@ -423,16 +475,47 @@ impl RegistryBuilder {
         let subject = format!("{}@{version}", self.registry.name(package));
         self.ledger.leave_out(
             RecordKind::Version,
-            ProblemKind::UnreadableRequirement,
+            bad.kind,
             Origin {
                 file: bad.file.to_string(),
                 line: bad.line,
             },
             subject,
-            format!("requirement on {}: {}", bad.name, bad.why),
+            bad.detail,
         );
         self.ledger
             .left_out_with_owner(RecordKind::Dependency, dep_count);
+    }
+
+    /// Leaves out a package record whose name [`name_problem`] refuses (for `why`), with its
+    /// version and dependency records: the name matches nothing a priority list or result
+    /// names, and would go into every report that names the package.
+    fn leave_out_package(
+        &mut self,
+        file: &str,
+        name: At<&str>,
+        why: &str,
+        releases: &[(usize, RawRelease<'_>, Option<At<String>>)],
+    ) {
+        self.ledger.read(RecordKind::Package);
+        self.ledger.leave_out(
+            RecordKind::Package,
+            ProblemKind::BadValue,
+            Origin {
+                file: file.to_string(),
+                line: name.line,
+            },
+            shown_name(name.value),
+            bad_name_detail("package name", name.value, why),
+        );
+        let deps: usize = releases.iter().map(|(_, r, _)| r.deps.len()).sum();
+        for (kind, count) in [
+            (RecordKind::Version, releases.len()),
+            (RecordKind::Dependency, deps),
+        ] {
+            self.ledger.read_many(kind, count as u64);
+            self.ledger.left_out_with_owner(kind, count as u64);
+        }
     }
 
     /// Sorts releases, drops duplicate versions, counts what is used and runs the
@@ -688,9 +771,19 @@ fn read_yaml_text(
         parse_package(ctx, node)
     })?;
     for pkg in parsed {
-        let id = builder.declare_package(file, pkg.line, pkg.name, pkg.summary, pkg.native_helper);
-        for (line, raw) in pkg.releases {
-            builder.add_release(id, file, line, raw);
+        if let Some(why) = name_problem(pkg.name.value) {
+            builder.leave_out_package(file, pkg.name, why, &pkg.releases);
+            continue;
+        }
+        let id = builder.declare_package(
+            file,
+            pkg.line,
+            pkg.name.value,
+            pkg.summary,
+            pkg.native_helper,
+        );
+        for (line, raw, bad_value) in pkg.releases {
+            builder.add_release_unless(id, file, line, raw, bad_value);
         }
     }
     // Freeing a registry-sized tree takes a noticeable while; the bar fills after it.
@@ -703,10 +796,10 @@ fn read_yaml_text(
 
 struct ParsedPackage<'a> {
     line: usize,
-    name: &'a str,
+    name: At<&'a str>,
     summary: Option<&'a str>,
     native_helper: bool,
-    releases: Vec<(usize, RawRelease<'a>)>,
+    releases: Vec<(usize, RawRelease<'a>, Option<At<String>>)>,
 }
 
 fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, BadInput> {
@@ -719,11 +812,13 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
             "package: `name` is empty",
         ));
     }
-    let name = name.value;
     let releases = m
         .seq("versions")?
         .iter()
-        .map(|v| Ok((v.line, parse_release(ctx, v)?)))
+        .map(|v| {
+            let (raw, bad_value) = parse_release(ctx, v)?;
+            Ok((v.line, raw, bad_value))
+        })
         .collect::<Result<Vec<_>, BadInput>>()?;
     Ok(ParsedPackage {
         line: m.line(),
@@ -734,7 +829,12 @@ fn parse_package<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<ParsedPackage<'a>, 
     })
 }
 
-fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, BadInput> {
+/// A version record as written, with the first value in it that cannot be used (see
+/// [`RegistryBuilder::add_release_unless`]).
+fn parse_release<'a>(
+    ctx: Ctx<'_>,
+    node: &'a Node,
+) -> Result<(RawRelease<'a>, Option<At<String>>), BadInput> {
     let m = ctx.map(node, "version record", VERSION_FIELDS)?;
     let version = m.required_str_at("version")?;
     let mut deps = Vec::new();
@@ -772,17 +872,34 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
             (source, platforms)
         }
     };
+    let mut bad_value = None;
     let native = match m.get("native") {
         None => None,
         Some(n) => {
             let nm = ctx.map(n, "native", NATIVE_FIELDS)?;
+            let libraries = nm.str_list_at("libraries")?;
+            // A blank name would make cells at risk for a library nobody can name. The bulk
+            // format drops empty items between separators, but a YAML list item is written
+            // on purpose: one left empty is a mistake in the record.
+            bad_value = libraries
+                .iter()
+                .find(|l| l.value.trim().is_empty())
+                .map(|l| {
+                    At::new(
+                        format!(
+                            "native library name `{}` is empty; expected a catalog id or a library name",
+                            l.value
+                        ),
+                        l.line,
+                    )
+                });
             Some(NativeHints {
-                libraries: nm.str_list("libraries")?,
+                libraries: libraries.into_iter().map(|l| l.value).collect(),
                 files: nm.str_list("files")?,
             })
         }
     };
-    Ok(RawRelease {
+    let release = RawRelease {
         version,
         released: m.opt_str_at("released")?,
         runtime: m.opt_str_at("runtime")?,
@@ -791,5 +908,6 @@ fn parse_release<'a>(ctx: Ctx<'_>, node: &'a Node) -> Result<RawRelease<'a>, Bad
         prebuilt,
         native,
         yanked: m.opt_bool("yanked")?.unwrap_or(false),
-    })
+    };
+    Ok((release, bad_value))
 }

@@ -1,7 +1,8 @@
 //! Recorded install results, in YAML, CSV or JSON lines.
 
 use super::diag::{
-    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors, read_text,
+    At, BadInput, Ledger, Origin, ProblemKind, RecordKind, Reference, SchemaErrors,
+    bad_name_detail, file_kind, name_problem, read_text, shown_name,
 };
 use super::lenient::{VersionRead, read_version};
 use super::priorities::has_extension;
@@ -290,6 +291,23 @@ fn assemble(
             line,
         };
         let (package, image) = (r.package, r.image);
+        let bad_name = [("package name", &package), ("image id", &image)]
+            .into_iter()
+            .find_map(|(what, name)| name_problem(&name.value).map(|why| (what, name, why)));
+        if let Some((what, name, why)) = bad_name {
+            ledger.leave_out(
+                RecordKind::Result,
+                ProblemKind::BadValue,
+                at(name.line),
+                format!(
+                    "{} on {}",
+                    shown_name(&package.value),
+                    shown_name(&image.value)
+                ),
+                bad_name_detail(what, &name.value, why),
+            );
+            continue;
+        }
         let subject = format!("{} on {}", package.value, image.value);
         let Some(outcome) = RecordedOutcome::parse(&r.outcome.value) else {
             ledger.leave_out(
@@ -505,28 +523,6 @@ fn open_regular(path: &Path) -> Result<(std::fs::File, u64), String> {
         ));
     }
     Ok((file, meta.len()))
-}
-
-/// What a file that is not a regular file is, for the message refusing it.
-fn file_kind(kind: std::fs::FileType) -> &'static str {
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::FileTypeExt;
-        if kind.is_fifo() {
-            return "a FIFO";
-        }
-        if kind.is_char_device() || kind.is_block_device() {
-            return "a device";
-        }
-        if kind.is_socket() {
-            return "a socket";
-        }
-    }
-    if kind.is_dir() {
-        "a directory"
-    } else {
-        "a special file"
-    }
 }
 
 #[cfg(test)]

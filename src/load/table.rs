@@ -285,8 +285,7 @@ impl Table {
         progress: Option<&indicatif::ProgressBar>,
     ) -> Result<Table, BadInput> {
         let file = path.display().to_string();
-        let handle = std::fs::File::open(path)
-            .map_err(|e| BadInput::file(&file, format!("cannot read: {e}")))?;
+        let handle = super::diag::open_input(path)?;
         let byte_len = handle.metadata().ok().map(|m| m.len());
         let input: Box<dyn std::io::Read + Send> = match progress {
             Some(bar) => Box::new(bar.wrap_read(handle)),

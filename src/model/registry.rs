@@ -316,6 +316,22 @@ impl Registry {
         id
     }
 
+    /// [`Registry::intern_package`] for a name that may be unusable: `check` runs once, on a
+    /// name the registry does not hold yet, and a name it refuses is not added (its error is
+    /// returned). Readers of millions of rows check each distinct name once this way, with
+    /// no lookup beyond the one interning takes.
+    pub fn intern_package_checked<E>(
+        &mut self,
+        name: &str,
+        check: impl FnOnce(&str) -> Result<(), E>,
+    ) -> Result<PackageId, E> {
+        if let Some(id) = self.names.get(name) {
+            return Ok(*id);
+        }
+        check(name)?;
+        Ok(self.intern_package(name))
+    }
+
     /// The id of requirement `text`, parsing it on first sight. Texts that parse to the same
     /// normalised text (`^1` and ` ^1 `, `` and `*`) share one id, so comparing ids agrees
     /// with comparing the texts a requirement prints as (which re-plan fingerprints hash).

@@ -322,6 +322,14 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                     ),
                 )
             })?;
+            // Checked on the family read, not the key's text, so two spellings of one family
+            // are caught too: otherwise the later would replace the earlier without a word.
+            if families.contains_key(&family) {
+                return Err(ctx.err(
+                    k,
+                    format!("library `{id}`: `families`: family `{name}` given twice"),
+                ));
+            }
             let fm = ctx.map(v, "family packages", FAMILY_FIELDS)?;
             let source = match fm.opt_str("source")? {
                 None | Some("memory") => FactSource::Memory,

@@ -22,7 +22,9 @@
 //! # Ok::<(), Box<dyn std::error::Error>>(())
 //! ```
 
-use crate::load::diag::{BadInput, Ledger, Origin, ProblemKind, RecordKind};
+use crate::load::diag::{
+    BadInput, Ledger, Origin, ProblemKind, RecordKind, bad_name_detail, name_problem, shown_name,
+};
 use crate::load::table::{Row, Table};
 use crate::model::ReleaseDate;
 use std::collections::{BTreeMap, HashMap};
@@ -399,7 +401,11 @@ fn read_table(
             file: file.clone(),
             line: row.line,
         };
-        let subject = row.get(cols.name).unwrap_or("(no name)").to_string();
+        let subject = match row.get(cols.name) {
+            None => "(no name)".to_string(),
+            Some(name) if name_problem(name).is_some() => shown_name(name),
+            Some(name) => name.to_string(),
+        };
         let checked = check_row(&row, &cols, window, ranked).and_then(|good| {
             if ranked {
                 if let Some(first) = first_line.get(&good.name) {
@@ -468,6 +474,13 @@ fn check_row(row: &Row, cols: &Columns, window: Option<Window>, ranked: bool) ->
     let name = row
         .get(cols.name)
         .ok_or((ProblemKind::BadValue, "`name` is empty".to_string()))?;
+    // Refused here as the priority reader refuses it, so a fused list reads back whole.
+    if let Some(why) = name_problem(name) {
+        return Err((
+            ProblemKind::BadValue,
+            bad_name_detail("package name", name, why),
+        ));
+    }
     if let Some(w) = window {
         let cell = row.get(cols.date).ok_or((
             ProblemKind::BadValue,
@@ -1422,12 +1435,36 @@ mod tests {
         let back = read_priorities_str("fused.yaml", &yaml, &mut ledger).unwrap();
         let names: Vec<&str> = back.entries.iter().map(|e| e.name.as_str()).collect();
         // The priority readers trim names (CSV source lists never hold padded ones), so only
-        // ` padded ` comes back other than written.
+        // ` padded ` comes back other than written; names that hold white space or control
+        // characters come back as problems, not entries (`load::diag::name_problem`).
         let trimmed: Vec<&str> = order(&fused).into_iter().map(str::trim).collect();
-        assert_eq!(names, trimmed);
+        let (kept, refused): (Vec<&str>, Vec<&str>) = trimmed
+            .iter()
+            .partition(|n| crate::load::diag::name_problem(n).is_none());
+        assert_eq!(names, kept);
         let weights: Vec<f64> = back.entries.iter().map(|e| e.weight).collect();
-        assert_eq!(weights, priority_weights(&fused, Method::Borda));
-        assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+        let all = priority_weights(&fused, Method::Borda);
+        let kept_weights: Vec<f64> = trimmed
+            .iter()
+            .zip(all)
+            .filter(|(n, _)| crate::load::diag::name_problem(n).is_none())
+            .map(|(_, w)| w)
+            .collect();
+        assert_eq!(weights, kept_weights);
+        assert_eq!(
+            ledger.problems.len(),
+            refused.len(),
+            "{:?}",
+            ledger.problems
+        );
+        assert!(
+            ledger
+                .problems
+                .iter()
+                .all(|p| p.kind == crate::load::diag::ProblemKind::BadValue),
+            "{:?}",
+            ledger.problems
+        );
         // Same input, same bytes.
         assert_eq!(
             to_priority_yaml(&fused, Method::Borda, Missing::WorstPlusOne, &lists),

@@ -49,6 +49,7 @@ impl Outcome {
 
 /// One package of a resolved closure.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Pinned {
     pub name: String,
     pub version: String,
@@ -71,6 +72,7 @@ pub struct NeedRow {
 
 /// One (package, image) prediction.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Cell {
     pub package: String,
     pub image: String,
@@ -278,8 +280,10 @@ an installs verdict means only that the version requirements resolve; a system l
 toolchain the image lacks is not caught.";
 
 /// The predicted support matrix: rows in priority order, columns in declared image order,
-/// cells row by row.
+/// cells row by row. Unknown fields are refused: a matrix may be edited by hand, and a
+/// misspelt field would otherwise be dropped without a word.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Matrix {
     pub notice: String,
     /// Planned with `--no-native`: outcomes come from version solving alone, so a system
@@ -359,6 +363,7 @@ impl Matrix {
             ));
         }
         self.check_rows()?;
+        self.check_versions()?;
         for (i, cell) in self.cells.iter().enumerate() {
             let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
             if cell.package != *package || cell.image != *image {
@@ -368,6 +373,30 @@ impl Matrix {
                     cell.package,
                     cell.image
                 ));
+            }
+        }
+        Ok(())
+    }
+
+    /// Whether every version a cell names (`root_version`, and each closure package's) is a
+    /// semver version, as `plan` writes them. A review compares installed versions with
+    /// them, so a hand-edited `banana` would be reported as a drift to `banana`.
+    pub fn check_versions(&self) -> Result<(), String> {
+        for (i, cell) in self.cells.iter().enumerate() {
+            let root = cell.root_version.iter().map(|v| ("root_version", "", v));
+            let closure = cell
+                .closure
+                .iter()
+                .map(|p| ("the closure's version of ", p.name.as_str(), &p.version));
+            for (what, name, version) in root.chain(closure) {
+                if let Err(e) = semver::Version::parse(version) {
+                    return Err(format!(
+                        "cell {} ({} on {}): {what}{name} `{version}` is not a semver version ({e})",
+                        i + 1,
+                        cell.package,
+                        cell.image
+                    ));
+                }
             }
         }
         Ok(())
