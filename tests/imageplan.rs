@@ -3,6 +3,8 @@
 //! Every registry here is hand-built for the test (no outside source); weights are chosen so
 //! the expected shares are exact binary fractions of ten.
 
+mod common;
+
 use basefit::load::images::read_images_str;
 use basefit::load::priorities::read_priorities_str;
 use basefit::load::registry::read_yaml_str;
@@ -344,9 +346,14 @@ fn svg_escapes_its_text() {
             runtime: "3.0.0</text><script>".to_string(),
             share: Some(0.25),
             short_share: Some(0.75),
+            failing_share: Some(0.75),
             resolves: Vec::new(),
+            undecided: 0,
+            undecided_entries: Vec::new(),
+            reaches_target: Some(false),
         }],
         oldest_reaching_target: None,
+        target_unknown_at: Vec::new(),
         steps: Vec::new(),
     };
     let svg = coverage_svg(&c);
@@ -515,4 +522,141 @@ fn a_runtime_where_nothing_resolves_prints_zero_not_negative_zero() {
             "{name}: {doc}"
         );
     }
+}
+
+/// `COVERAGE_REGISTRY` plus `deep`, which suits runtimes below 3.2 and sits on a chain of ten
+/// dependencies: more solver steps than `DEEP_BUDGET` allows, while every other entry (and
+/// `deep` at 3.2, refused at its root) is decided within it.
+fn deep_coverage(target: f64) -> Coverage {
+    let mut registry = COVERAGE_REGISTRY.to_string();
+    registry.push_str(
+        "- name: deep\n  versions:\n  - {version: 1.0.0, runtime: '<3.2', depends: [{name: link1, req: '*'}]}\n",
+    );
+    for i in 1..=10 {
+        let dep = match i {
+            10 => String::new(),
+            _ => format!(", depends: [{{name: link{}, req: '*'}}]", i + 1),
+        };
+        registry.push_str(&format!(
+            "- name: link{i}\n  versions:\n  - {{version: 1.0.0{dep}}}\n"
+        ));
+    }
+    let priorities = format!("{COVERAGE_PRIORITIES}- {{name: deep, weight: 1}}\n");
+    let inp = inputs(&registry, ONE_IMAGE, &priorities);
+    let options = PlanOptions {
+        budget: DEEP_BUDGET,
+        ..PlanOptions::default()
+    };
+    let runtimes = [v("3.0.0"), v("3.1.0"), v("3.2.0")];
+    coverage(
+        &inp,
+        &inp.images.images[0],
+        &runtimes,
+        target,
+        &options,
+        &SetCache::default(),
+    )
+}
+
+const DEEP_BUDGET: u64 = 4;
+
+/// An entry the solver gave up on is neither resolving nor failing: the coverage counts it,
+/// the target verdict it could change is left open rather than stated, and it is listed as
+/// unknown in the steps instead of as a drop-out or come-in (or as nothing).
+#[test]
+fn undecided_entries_leave_verdicts_and_steps_open() {
+    // Weights of 11: 3.0 resolves 6 (deep open), 3.1 resolves 8 (deep open), 3.2 resolves 9.
+    let c = deep_coverage(0.8);
+    let undecided: Vec<(usize, &[String])> = c
+        .points
+        .iter()
+        .map(|p| (p.undecided, p.undecided_entries.as_slice()))
+        .collect();
+    let deep = vec!["deep".to_string()];
+    assert_eq!(
+        undecided,
+        [(1, deep.as_slice()), (1, deep.as_slice()), (0, &[][..])]
+    );
+    // 3.0: at most 7/11 even if deep resolves; 3.1: 8/11 or 9/11 straddles 80%; 3.2: 9/11.
+    let verdicts: Vec<Option<bool>> = c.points.iter().map(|p| p.reaches_target).collect();
+    assert_eq!(verdicts, [Some(false), None, Some(true)]);
+    assert_eq!(c.oldest_reaching_target, None, "3.1.0 may reach it too");
+    assert_eq!(c.target_unknown_at, ["3.1.0"]);
+    assert_eq!(c.steps[0].drop_out, ["brine"]);
+    assert_eq!(c.steps[1].come_in, ["dune"]);
+    assert!(c.steps.iter().all(|s| s.unknown == deep), "{:?}", c.steps);
+
+    let text = basefit::plan::coverage::coverage_text(&c);
+    assert!(
+        text.contains("oldest runtime reaching the target: unknown; 3.2.0 reaches it, but undecided cells leave 3.1.0 open; raise --budget"),
+        "{text}"
+    );
+    assert!(text.contains("3.1.0    >=72.7%   1 "), "{text}");
+    assert!(text.contains("  undecided at 3.0.0: deep\n"), "{text}");
+    let svg = coverage_svg(&c);
+    check_balanced(&svg);
+    assert!(svg.contains("<title>3.1.0: &gt;=72.7%</title>"), "{svg}");
+    assert!(svg.contains("points are lower bounds"), "{svg}");
+
+    // Where even an undecided entry resolving could not reach the target, the miss is a fact.
+    let c = deep_coverage(0.9);
+    assert_eq!(c.target_unknown_at, Vec::<String>::new());
+    let text = basefit::plan::coverage::coverage_text(&c);
+    assert!(
+        text.contains("no candidate runtime reaches the target"),
+        "{text}"
+    );
+    // And where the oldest runtime reaches the target whatever is undecided, it is named.
+    let c = deep_coverage(0.5);
+    assert_eq!(c.oldest_reaching_target.as_deref(), Some("3.0.0"));
+}
+
+/// The demo at a budget of 6 leaves 8 entries undecided on deb-2.4 (as `plan --budget 6`
+/// counts them): `imageplan` counts them per runtime, does not claim that no runtime reaches
+/// the target, and lists no undecided entry as a drop-out (brolga-cli and mulga-schema are
+/// undecided at 3.0.5 and resolve at 3.1.2).
+#[test]
+fn imageplan_counts_undecided_cells_instead_of_calling_them_failures() {
+    let mut args: Vec<&str> = vec![
+        "imageplan",
+        "--quiet",
+        "--image",
+        "deb-2.4",
+        "--budget",
+        "6",
+    ];
+    args.extend(common::DEMO);
+    let (code, text, stderr) = common::run_basefit(&args);
+    assert!(code < 2, "{stderr}");
+    assert!(!text.contains("no candidate runtime reaches"), "{text}");
+    assert!(
+        text.contains(
+            "whether any candidate runtime reaches the target is unknown: undecided cells leave 2.4.9, 2.6.3, 2.8.1, 3.0.5, 3.1.2, 3.2.0 open; raise --budget"
+        ),
+        "{text}"
+    );
+    let row = text.lines().find(|l| l.starts_with("3.0.5 ")).unwrap();
+    assert!(row.contains(" 8 "), "{row}");
+    assert!(
+        !row.contains("brolga-cli") && !row.contains("mulga-schema"),
+        "{row}"
+    );
+
+    args.extend(["--format", "json"]);
+    let (_, json, _) = common::run_basefit(&args);
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let c = &json["coverage"][0];
+    assert_eq!(c["points"][0]["undecided"], 8);
+    assert!(c["points"][0]["reaches_target"].is_null());
+    assert!(c["oldest_reaching_target"].is_null());
+    assert_eq!(c["target_unknown_at"].as_array().unwrap().len(), 6);
+    let step = &c["steps"][3];
+    assert_eq!(step["older"], "3.0.5");
+    assert!(
+        step["unknown"]
+            .as_array()
+            .unwrap()
+            .contains(&serde_json::json!("brolga-cli")),
+        "{step}"
+    );
 }
