@@ -10,6 +10,7 @@ use basefit::load::priorities::read_priorities_str;
 use basefit::load::registry::read_yaml_str;
 use basefit::load::{Inputs, RegistryBuilder};
 use basefit::model::DepKind;
+use basefit::native::Confidence;
 use basefit::plan::PlanOptions;
 use basefit::plan::coverage::{Coverage, CoveragePoint, coverage, coverage_svg};
 use basefit::plan::preinstall::preinstall;
@@ -461,6 +462,98 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
     let brace = p.manifest.iter().find(|m| m.name == "brace").unwrap();
     assert_eq!(brace.version, "2.0.0");
     assert_eq!(p.missing_system_packages, ["libxml2-dev"]);
+    // A likely need does not fail the set; the closing line says who needs what, how surely.
+    assert_eq!(p.system_needs.len(), 1);
+    assert_eq!(p.system_needs[0].confidence, Confidence::Likely);
+    let by: Vec<(&str, &str)> = p.system_needs[0]
+        .needed_by
+        .iter()
+        .map(|m| (m.name.as_str(), m.version.as_str()))
+        .collect();
+    assert_eq!(by, [("brace", "2.0.0")]);
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(
+            "the manifest needs system packages the image lacks: libxml2-dev (likely, for brace 2.0.0)\n"
+        ),
+        "{text}"
+    );
+}
+
+/// `s` and `t` in two major versions; `A` and `C` hold both at 1, so `B` (s ^2) conflicts,
+/// `D` falls back to 0.9.0 (t ^1), and so would `E`, whose 0.5.0 declares libxml2. Alone, `E`
+/// takes 1.0.0 and installs, so only the native check of the joint pick can leave it out.
+const JOINT_NATIVE_REGISTRY: &str = r#"packages:
+  - {name: s, versions: [{version: "1.0.0"}, {version: "2.0.0"}]}
+  - {name: t, versions: [{version: "1.0.0"}, {version: "2.0.0"}]}
+  - {name: A, versions: [{version: "1.0.0", depends: [{name: s, req: "^1"}]}]}
+  - {name: C, versions: [{version: "1.0.0", depends: [{name: s, req: "^1"}, {name: t, req: "^1"}]}]}
+  - {name: B, versions: [{version: "1.0.0", depends: [{name: s, req: "^2"}]}]}
+  - {name: D, versions: [{version: "1.0.0", depends: [{name: t, req: "^2"}]}, {version: "0.9.0", depends: [{name: t, req: "^1"}]}]}
+  - name: E
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^2"}]}
+      - {version: "0.5.0", depends: [{name: t, req: "^1"}], native: {libraries: [libxml2]}}
+  - name: F
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^1"}]}
+"#;
+
+const JOINT_NATIVE_IMAGE: &str = "images:\n- {id: i, runtime: 1.0.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential]}\n";
+
+fn joint_native_preinstall(priorities: &str) -> basefit::plan::preinstall::Preinstall {
+    let mut inp = inputs(JOINT_NATIVE_REGISTRY, JOINT_NATIVE_IMAGE, priorities);
+    inp.catalog = basefit::native::Catalog::builtin();
+    preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    )
+}
+
+/// A kept entry whose jointly chosen release certainly fails natively is left out, naming
+/// the release and what it lacks, and the manifest needs no system package then.
+#[test]
+fn an_entry_whose_joint_release_certainly_fails_natively_is_left_out() {
+    let p = joint_native_preinstall(
+        "priorities:\n- {name: A, weight: 5}\n- {name: C, weight: 4}\n- {name: B, weight: 3}\n- {name: D, weight: 2}\n- {name: E, weight: 1}\n",
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["A", "C", "D"]);
+    assert!(p.manifest.iter().all(|m| m.name != "E"), "{:?}", p.manifest);
+    let e = p.left_out.iter().find(|l| l.name == "E").unwrap();
+    assert_eq!(
+        e.reason,
+        "with the kept packages the joint solve picks E 0.5.0 (missing-system-library: add libxml2-dev), which certainly fails natively on i"
+    );
+    assert!(p.missing_system_packages.is_empty());
+    assert!(p.system_needs.is_empty());
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(": 3 of 5 priority entries kept, 2 left out"),
+        "{text}"
+    );
+    assert!(!text.contains("the manifest needs"), "{text}");
+}
+
+/// An entry whose addition moves a kept entry to a release that certainly fails natively is
+/// left out too, naming the kept entry it would move: `F` (t ^1) alone installs, but with it
+/// `E` must take 0.5.0.
+#[test]
+fn an_entry_that_moves_a_kept_one_onto_a_native_failure_is_left_out() {
+    let p = joint_native_preinstall("priorities:\n- E\n- F\n");
+    let kept: Vec<(&str, &str)> = p
+        .kept
+        .iter()
+        .map(|k| (k.name.as_str(), k.version.as_str()))
+        .collect();
+    assert_eq!(kept, [("E", "1.0.0")]);
+    assert_eq!(p.left_out.len(), 1);
+    assert_eq!(
+        p.left_out[0].reason,
+        "with it the joint solve moves kept packages to versions that certainly fail natively on i: E 0.5.0 (missing-system-library: add libxml2-dev)"
+    );
 }
 
 /// Coverage counts every cell it solves into the progress bar, once: three distinct runtimes
