@@ -753,3 +753,32 @@ fn imageplan_counts_undecided_cells_instead_of_calling_them_failures() {
         "{step}"
     );
 }
+
+/// The table's headers say which way a row compares with its neighbour: on the 3.0.0 row,
+/// brine (which needs 3.1) is one that upgrading to 3.1.0 gains, and on the 3.1.0 row dune
+/// (below 3.2 only) one that upgrading to 3.2.0 loses. Bare "drop out (vs next newer)" was
+/// read the other way round by a reader planning an upgrade.
+#[test]
+fn coverage_table_headers_say_which_way_a_row_compares() {
+    let text = basefit::plan::coverage::coverage_text(&coverage_of(0.95));
+    let header = text.lines().nth(1).unwrap();
+    let columns: Vec<&str> = header
+        .split("  ")
+        .map(str::trim)
+        .filter(|c| !c.is_empty())
+        .collect();
+    assert_eq!(
+        columns,
+        [
+            "runtime",
+            "coverage",
+            "undecided",
+            "drop out here (resolve at next newer)",
+            "come in here (fail at next newer)"
+        ],
+        "{text}"
+    );
+    let row = |v: &str| text.lines().find(|l| l.starts_with(v)).unwrap().to_string();
+    assert!(row("3.0.0 ").contains(" brine "), "{text}");
+    assert!(row("3.1.0 ").ends_with(" dune"), "{text}");
+}

@@ -304,7 +304,10 @@ fn undefined(c: &Coverage) -> bool {
 /// Why [`undefined`] coverage has no numbers, as the text and the chart say it.
 const UNDEFINED: &str = "coverage by weight cannot be computed: every priority weight is zero";
 
-/// A readable table of coverage per runtime, with drop-outs and come-ins per step.
+/// A readable table of coverage per runtime, with drop-outs and come-ins per step. Each row
+/// compares its runtime with the next newer one, and the headers say in which direction: an
+/// upgrade-minded reader took a bare "drop out (vs next newer)" for what upgrading loses,
+/// which is the opposite.
 pub fn coverage_text(c: &Coverage) -> String {
     let mut s = String::new();
     let _ = writeln!(
@@ -319,8 +322,8 @@ pub fn coverage_text(c: &Coverage) -> String {
         "runtime".to_string(),
         "coverage".to_string(),
         "undecided".to_string(),
-        "drop out (vs next newer)".to_string(),
-        "come in (vs next newer)".to_string(),
+        "drop out here (resolve at next newer)".to_string(),
+        "come in here (fail at next newer)".to_string(),
     ]];
     for (i, p) in c.points.iter().enumerate() {
         let step = c.steps.get(i);
