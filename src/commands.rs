@@ -1057,12 +1057,45 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
     )?;
     let mut ledger = crate::load::Ledger::default();
     let mut lists = Vec::new();
+    // Sources left with no row, each with why: they take no part in the fusion.
+    let mut emptied: Vec<(String, String)> = Vec::new();
     for p in &o.sources {
-        lists.push(plan::fusion::read_source_csv_within(
-            p,
-            o.window,
-            &mut ledger,
-        )?);
+        let before = ledger.problems.len();
+        let list = plan::fusion::read_source_csv_within(p, o.window, &mut ledger)?;
+        if list.is_empty() {
+            let outside = ledger.problems[before..]
+                .iter()
+                .filter(|p| p.kind == crate::load::diag::ProblemKind::OutsideWindow)
+                .count();
+            let why = match o.window {
+                Some(w) if outside > 0 => {
+                    format!("no usable row inside --window {}..{}", w.from, w.to)
+                }
+                _ => "no usable row".to_string(),
+            };
+            emptied.push((list.file().to_string(), why));
+        }
+        lists.push(list);
+    }
+    if lists.iter().all(|l| l.is_empty()) {
+        // Nothing is left to fuse; an empty list is no priority list (the priority reader
+        // refuses one), and writing it would pass the problems off as a result.
+        let files: Vec<String> = emptied.iter().map(|(f, _)| f.clone()).collect();
+        let whys: Vec<String> = emptied.iter().map(|(f, w)| format!("{f}: {w}")).collect();
+        let first = ledger
+            .problems
+            .first()
+            .map(|p| format!(": first, {}: {}: {}", p.origin, p.subject, p.detail))
+            .unwrap_or_default();
+        return Err(BadInput::file(
+            files.join(", "),
+            format!(
+                "no source has a row to fuse ({}; {} problems noted){first}",
+                whys.join("; "),
+                ledger.problems.len()
+            ),
+        )
+        .into());
     }
     let fused = plan::fusion::fuse(&lists, o.method, o.missing).map_err(|e| match &e {
         plan::fusion::FuseError::NotScored {
@@ -1073,29 +1106,17 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
         plan::fusion::FuseError::NotScored { file, .. } => BadInput::file(file, e.message()),
         plan::fusion::FuseError::BadConstant { .. } => BadInput::file("command line", e.message()),
     })?;
-    if fused.is_empty() {
-        // An empty list is no priority list (the priority reader refuses one), and writing
-        // it would pass the problems off as a result.
-        let files: Vec<String> = o.sources.iter().map(|p| p.display().to_string()).collect();
-        let first = ledger
-            .problems
-            .first()
-            .map(|p| format!(": first, {}: {}: {}", p.origin, p.subject, p.detail))
-            .unwrap_or_default();
-        return Err(BadInput::file(
-            files.join(", "),
-            format!(
-                "no usable row in any source, so there is nothing to fuse ({} problems noted){first}",
-                ledger.problems.len()
-            ),
-        )
-        .into());
-    }
-    let yaml = plan::fusion::to_priority_yaml(&fused, o.method, o.missing, &lists);
+    let yaml =
+        plan::fusion::to_priority_yaml_leaving_out(&fused, o.method, o.missing, &lists, &emptied);
     let mut out = Output::default();
     for p in &ledger.problems {
         out.stderr
             .push(format!("{}: {}: {}", p.origin, p.subject, p.detail));
+    }
+    for (file, why) in &emptied {
+        out.stderr.push(format!(
+            "warning: {file}: {why}, so this source is left out of the fusion (it would count every name as absent from it and change every weight)"
+        ));
     }
     match &o.out {
         Some(path) => {
@@ -1108,7 +1129,9 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
         }
         None => out.stdout = yaml,
     }
-    out.exit = if ledger.is_clean() {
+    // An emptied source had rows (a file with none is refused), each left out and noted, so
+    // the ledger is not clean then either; the test keeps the exit honest if that changes.
+    out.exit = if ledger.is_clean() && emptied.is_empty() {
         exit::OK
     } else {
         exit::FOUND

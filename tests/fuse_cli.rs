@@ -174,3 +174,87 @@ fn a_row_left_out_is_listed_and_exits_one() {
     let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
     assert_eq!(names, ["numbat", "quokka"]);
 }
+
+/// A source that `--window` leaves with no row takes no part in the fusion. Under
+/// worst-plus-one it used to give every name an absent rank of 1 (its length plus one), which
+/// left the order alone but changed every weight (rank-sum totals 2, 3, 4 instead of 1, 2, 3)
+/// while the header counted it as fused. Now a warning names it, the header counts it apart,
+/// and the run exits 1 (source rows were left out); when every source is emptied there is
+/// nothing to fuse, and the run is refused naming the files.
+#[test]
+fn a_source_the_window_empties_takes_no_part() {
+    let dir = tempfile::tempdir().unwrap();
+    let october = dir.path().join("october.csv");
+    std::fs::write(
+        &october,
+        "name,score,date\nweb,900,2026-10-01\ndb,500,2026-10-02\nlog,20,2026-10-03\n",
+    )
+    .unwrap();
+    let september = dir.path().join("september.csv");
+    std::fs::write(
+        &september,
+        "name,score,date\nlog,900,2026-09-01\nweb,5,2026-09-02\n",
+    )
+    .unwrap();
+    let out = dir.path().join("priorities.yaml");
+    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args([
+            "fuse",
+            "--method",
+            "rank-sum",
+            "--missing",
+            "worst-plus-one",
+        ])
+        .args(["--window", "2026-10-01..2026-10-31", "--source"])
+        .arg(&october)
+        .arg("--source")
+        .arg(&september)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&run.stderr);
+    assert_eq!(run.status.code(), Some(1), "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "warning: {}: no usable row inside --window 2026-10-01..2026-10-31, so this source is left out of the fusion",
+            september.display()
+        )),
+        "{stderr}"
+    );
+    let yaml = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        yaml.starts_with(&format!(
+            "# Fused by basefit from 1 source list(s): \"{}\"\n# left out of the fusion, 1 source list(s) with no row: \"{}\" (no usable row inside --window 2026-10-01..2026-10-31)\n",
+            october.display(),
+            september.display()
+        )),
+        "{yaml}"
+    );
+    let mut ledger = Ledger::default();
+    let list = read_priorities(&out, &mut ledger).unwrap();
+    let got: Vec<(&str, f64)> = list
+        .entries
+        .iter()
+        .map(|e| (e.name.as_str(), e.weight))
+        .collect();
+    // Rank totals 1, 2, 3 from october.csv alone; weight = best total / total.
+    assert_eq!(got, [("web", 1.0), ("db", 0.5), ("log", 1.0 / 3.0)]);
+
+    let stderr = fuse_refused(&[
+        "--window",
+        "2026-11-01..2026-11-30",
+        "--source",
+        october.to_str().unwrap(),
+        "--source",
+        september.to_str().unwrap(),
+    ]);
+    assert!(
+        stderr.contains(&format!(
+            "{}, {}: no source has a row to fuse",
+            october.display(),
+            september.display()
+        )),
+        "{stderr}"
+    );
+}

@@ -3,11 +3,14 @@
 //! Every registry here is hand-built for the test (no outside source); weights are chosen so
 //! the expected shares are exact binary fractions of ten.
 
+mod common;
+
 use basefit::load::images::read_images_str;
 use basefit::load::priorities::read_priorities_str;
 use basefit::load::registry::read_yaml_str;
 use basefit::load::{Inputs, RegistryBuilder};
 use basefit::model::DepKind;
+use basefit::native::Confidence;
 use basefit::plan::PlanOptions;
 use basefit::plan::coverage::{Coverage, CoveragePoint, coverage, coverage_svg};
 use basefit::plan::preinstall::preinstall;
@@ -344,9 +347,14 @@ fn svg_escapes_its_text() {
             runtime: "3.0.0</text><script>".to_string(),
             share: Some(0.25),
             short_share: Some(0.75),
+            failing_share: Some(0.75),
             resolves: Vec::new(),
+            undecided: 0,
+            undecided_entries: Vec::new(),
+            reaches_target: Some(false),
         }],
         oldest_reaching_target: None,
+        target_unknown_at: Vec::new(),
         steps: Vec::new(),
     };
     let svg = coverage_svg(&c);
@@ -454,6 +462,98 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
     let brace = p.manifest.iter().find(|m| m.name == "brace").unwrap();
     assert_eq!(brace.version, "2.0.0");
     assert_eq!(p.missing_system_packages, ["libxml2-dev"]);
+    // A likely need does not fail the set; the closing line says who needs what, how surely.
+    assert_eq!(p.system_needs.len(), 1);
+    assert_eq!(p.system_needs[0].confidence, Confidence::Likely);
+    let by: Vec<(&str, &str)> = p.system_needs[0]
+        .needed_by
+        .iter()
+        .map(|m| (m.name.as_str(), m.version.as_str()))
+        .collect();
+    assert_eq!(by, [("brace", "2.0.0")]);
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(
+            "the manifest needs system packages the image lacks: libxml2-dev (likely, for brace 2.0.0)\n"
+        ),
+        "{text}"
+    );
+}
+
+/// `s` and `t` in two major versions; `A` and `C` hold both at 1, so `B` (s ^2) conflicts,
+/// `D` falls back to 0.9.0 (t ^1), and so would `E`, whose 0.5.0 declares libxml2. Alone, `E`
+/// takes 1.0.0 and installs, so only the native check of the joint pick can leave it out.
+const JOINT_NATIVE_REGISTRY: &str = r#"packages:
+  - {name: s, versions: [{version: "1.0.0"}, {version: "2.0.0"}]}
+  - {name: t, versions: [{version: "1.0.0"}, {version: "2.0.0"}]}
+  - {name: A, versions: [{version: "1.0.0", depends: [{name: s, req: "^1"}]}]}
+  - {name: C, versions: [{version: "1.0.0", depends: [{name: s, req: "^1"}, {name: t, req: "^1"}]}]}
+  - {name: B, versions: [{version: "1.0.0", depends: [{name: s, req: "^2"}]}]}
+  - {name: D, versions: [{version: "1.0.0", depends: [{name: t, req: "^2"}]}, {version: "0.9.0", depends: [{name: t, req: "^1"}]}]}
+  - name: E
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^2"}]}
+      - {version: "0.5.0", depends: [{name: t, req: "^1"}], native: {libraries: [libxml2]}}
+  - name: F
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^1"}]}
+"#;
+
+const JOINT_NATIVE_IMAGE: &str = "images:\n- {id: i, runtime: 1.0.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential]}\n";
+
+fn joint_native_preinstall(priorities: &str) -> basefit::plan::preinstall::Preinstall {
+    let mut inp = inputs(JOINT_NATIVE_REGISTRY, JOINT_NATIVE_IMAGE, priorities);
+    inp.catalog = basefit::native::Catalog::builtin();
+    preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    )
+}
+
+/// A kept entry whose jointly chosen release certainly fails natively is left out, naming
+/// the release and what it lacks, and the manifest needs no system package then.
+#[test]
+fn an_entry_whose_joint_release_certainly_fails_natively_is_left_out() {
+    let p = joint_native_preinstall(
+        "priorities:\n- {name: A, weight: 5}\n- {name: C, weight: 4}\n- {name: B, weight: 3}\n- {name: D, weight: 2}\n- {name: E, weight: 1}\n",
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["A", "C", "D"]);
+    assert!(p.manifest.iter().all(|m| m.name != "E"), "{:?}", p.manifest);
+    let e = p.left_out.iter().find(|l| l.name == "E").unwrap();
+    assert_eq!(
+        e.reason,
+        "with the kept packages the joint solve picks E 0.5.0 (missing-system-library: add libxml2-dev), which certainly fails natively on i"
+    );
+    assert!(p.missing_system_packages.is_empty());
+    assert!(p.system_needs.is_empty());
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(": 3 of 5 priority entries kept, 2 left out"),
+        "{text}"
+    );
+    assert!(!text.contains("the manifest needs"), "{text}");
+}
+
+/// An entry whose addition moves a kept entry to a release that certainly fails natively is
+/// left out too, naming the kept entry it would move: `F` (t ^1) alone installs, but with it
+/// `E` must take 0.5.0.
+#[test]
+fn an_entry_that_moves_a_kept_one_onto_a_native_failure_is_left_out() {
+    let p = joint_native_preinstall("priorities:\n- E\n- F\n");
+    let kept: Vec<(&str, &str)> = p
+        .kept
+        .iter()
+        .map(|k| (k.name.as_str(), k.version.as_str()))
+        .collect();
+    assert_eq!(kept, [("E", "1.0.0")]);
+    assert_eq!(p.left_out.len(), 1);
+    assert_eq!(
+        p.left_out[0].reason,
+        "with it the joint solve moves kept packages to versions that certainly fail natively on i: E 0.5.0 (missing-system-library: add libxml2-dev)"
+    );
 }
 
 /// Coverage counts every cell it solves into the progress bar, once: three distinct runtimes
@@ -515,4 +615,170 @@ fn a_runtime_where_nothing_resolves_prints_zero_not_negative_zero() {
             "{name}: {doc}"
         );
     }
+}
+
+/// `COVERAGE_REGISTRY` plus `deep`, which suits runtimes below 3.2 and sits on a chain of ten
+/// dependencies: more solver steps than `DEEP_BUDGET` allows, while every other entry (and
+/// `deep` at 3.2, refused at its root) is decided within it.
+fn deep_coverage(target: f64) -> Coverage {
+    let mut registry = COVERAGE_REGISTRY.to_string();
+    registry.push_str(
+        "- name: deep\n  versions:\n  - {version: 1.0.0, runtime: '<3.2', depends: [{name: link1, req: '*'}]}\n",
+    );
+    for i in 1..=10 {
+        let dep = match i {
+            10 => String::new(),
+            _ => format!(", depends: [{{name: link{}, req: '*'}}]", i + 1),
+        };
+        registry.push_str(&format!(
+            "- name: link{i}\n  versions:\n  - {{version: 1.0.0{dep}}}\n"
+        ));
+    }
+    let priorities = format!("{COVERAGE_PRIORITIES}- {{name: deep, weight: 1}}\n");
+    let inp = inputs(&registry, ONE_IMAGE, &priorities);
+    let options = PlanOptions {
+        budget: DEEP_BUDGET,
+        ..PlanOptions::default()
+    };
+    let runtimes = [v("3.0.0"), v("3.1.0"), v("3.2.0")];
+    coverage(
+        &inp,
+        &inp.images.images[0],
+        &runtimes,
+        target,
+        &options,
+        &SetCache::default(),
+    )
+}
+
+const DEEP_BUDGET: u64 = 4;
+
+/// An entry the solver gave up on is neither resolving nor failing: the coverage counts it,
+/// the target verdict it could change is left open rather than stated, and it is listed as
+/// unknown in the steps instead of as a drop-out or come-in (or as nothing).
+#[test]
+fn undecided_entries_leave_verdicts_and_steps_open() {
+    // Weights of 11: 3.0 resolves 6 (deep open), 3.1 resolves 8 (deep open), 3.2 resolves 9.
+    let c = deep_coverage(0.8);
+    let undecided: Vec<(usize, &[String])> = c
+        .points
+        .iter()
+        .map(|p| (p.undecided, p.undecided_entries.as_slice()))
+        .collect();
+    let deep = vec!["deep".to_string()];
+    assert_eq!(
+        undecided,
+        [(1, deep.as_slice()), (1, deep.as_slice()), (0, &[][..])]
+    );
+    // 3.0: at most 7/11 even if deep resolves; 3.1: 8/11 or 9/11 straddles 80%; 3.2: 9/11.
+    let verdicts: Vec<Option<bool>> = c.points.iter().map(|p| p.reaches_target).collect();
+    assert_eq!(verdicts, [Some(false), None, Some(true)]);
+    assert_eq!(c.oldest_reaching_target, None, "3.1.0 may reach it too");
+    assert_eq!(c.target_unknown_at, ["3.1.0"]);
+    assert_eq!(c.steps[0].drop_out, ["brine"]);
+    assert_eq!(c.steps[1].come_in, ["dune"]);
+    assert!(c.steps.iter().all(|s| s.unknown == deep), "{:?}", c.steps);
+
+    let text = basefit::plan::coverage::coverage_text(&c);
+    assert!(
+        text.contains("oldest runtime reaching the target: unknown; 3.2.0 reaches it, but undecided cells leave 3.1.0 open; raise --budget"),
+        "{text}"
+    );
+    assert!(text.contains("3.1.0    >=72.7%   1 "), "{text}");
+    assert!(text.contains("  undecided at 3.0.0: deep\n"), "{text}");
+    let svg = coverage_svg(&c);
+    check_balanced(&svg);
+    assert!(svg.contains("<title>3.1.0: &gt;=72.7%</title>"), "{svg}");
+    assert!(svg.contains("points are lower bounds"), "{svg}");
+
+    // Where even an undecided entry resolving could not reach the target, the miss is a fact.
+    let c = deep_coverage(0.9);
+    assert_eq!(c.target_unknown_at, Vec::<String>::new());
+    let text = basefit::plan::coverage::coverage_text(&c);
+    assert!(
+        text.contains("no candidate runtime reaches the target"),
+        "{text}"
+    );
+    // And where the oldest runtime reaches the target whatever is undecided, it is named.
+    let c = deep_coverage(0.5);
+    assert_eq!(c.oldest_reaching_target.as_deref(), Some("3.0.0"));
+}
+
+/// The demo at a budget of 6 leaves 8 entries undecided on deb-2.4 (as `plan --budget 6`
+/// counts them): `imageplan` counts them per runtime, does not claim that no runtime reaches
+/// the target, and lists no undecided entry as a drop-out (brolga-cli and mulga-schema are
+/// undecided at 3.0.5 and resolve at 3.1.2).
+#[test]
+fn imageplan_counts_undecided_cells_instead_of_calling_them_failures() {
+    let mut args: Vec<&str> = vec![
+        "imageplan",
+        "--quiet",
+        "--image",
+        "deb-2.4",
+        "--budget",
+        "6",
+    ];
+    args.extend(common::DEMO);
+    let (code, text, stderr) = common::run_basefit(&args);
+    assert!(code < 2, "{stderr}");
+    assert!(!text.contains("no candidate runtime reaches"), "{text}");
+    assert!(
+        text.contains(
+            "whether any candidate runtime reaches the target is unknown: undecided cells leave 2.4.9, 2.6.3, 2.8.1, 3.0.5, 3.1.2, 3.2.0 open; raise --budget"
+        ),
+        "{text}"
+    );
+    let row = text.lines().find(|l| l.starts_with("3.0.5 ")).unwrap();
+    assert!(row.contains(" 8 "), "{row}");
+    assert!(
+        !row.contains("brolga-cli") && !row.contains("mulga-schema"),
+        "{row}"
+    );
+
+    args.extend(["--format", "json"]);
+    let (_, json, _) = common::run_basefit(&args);
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let c = &json["coverage"][0];
+    assert_eq!(c["points"][0]["undecided"], 8);
+    assert!(c["points"][0]["reaches_target"].is_null());
+    assert!(c["oldest_reaching_target"].is_null());
+    assert_eq!(c["target_unknown_at"].as_array().unwrap().len(), 6);
+    let step = &c["steps"][3];
+    assert_eq!(step["older"], "3.0.5");
+    assert!(
+        step["unknown"]
+            .as_array()
+            .unwrap()
+            .contains(&serde_json::json!("brolga-cli")),
+        "{step}"
+    );
+}
+
+/// The table's headers say which way a row compares with its neighbour: on the 3.0.0 row,
+/// brine (which needs 3.1) is one that upgrading to 3.1.0 gains, and on the 3.1.0 row dune
+/// (below 3.2 only) one that upgrading to 3.2.0 loses. Bare "drop out (vs next newer)" was
+/// read the other way round by a reader planning an upgrade.
+#[test]
+fn coverage_table_headers_say_which_way_a_row_compares() {
+    let text = basefit::plan::coverage::coverage_text(&coverage_of(0.95));
+    let header = text.lines().nth(1).unwrap();
+    let columns: Vec<&str> = header
+        .split("  ")
+        .map(str::trim)
+        .filter(|c| !c.is_empty())
+        .collect();
+    assert_eq!(
+        columns,
+        [
+            "runtime",
+            "coverage",
+            "undecided",
+            "drop out here (resolve at next newer)",
+            "come in here (fail at next newer)"
+        ],
+        "{text}"
+    );
+    let row = |v: &str| text.lines().find(|l| l.starts_with(v)).unwrap().to_string();
+    assert!(row("3.0.0 ").contains(" brine "), "{text}");
+    assert!(row("3.1.0 ").ends_with(" dune"), "{text}");
 }

@@ -15,26 +15,43 @@ use std::fmt::Write;
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CoveragePoint {
     pub runtime: String,
-    /// Priority-weighted share of entries that resolve, in `[0, 1]`; `None` (JSON `null`)
-    /// when every priority weight is zero.
+    /// Priority-weighted share of entries shown to resolve, in `[0, 1]`; `None` (JSON
+    /// `null`) when every priority weight is zero. Undecided entries count as not resolving,
+    /// so with any of them this is a lower bound.
     pub share: Option<f64>,
-    /// The share that does not resolve, divided from its own weight: `1 - share` would lose
+    /// The share not shown to resolve, divided from its own weight: `1 - share` would lose
     /// a small remainder to rounding, and [`reaches`] must see it.
     #[serde(skip)]
     pub short_share: Option<f64>,
+    /// The share shown not to resolve (undecided entries left out of it): if this misses
+    /// the target, no outcome of the undecided entries can reach it.
+    #[serde(skip)]
+    pub failing_share: Option<f64>,
     /// Entries that resolve here, in priority order.
     pub resolves: Vec<String>,
+    /// How many entries are undecided here: the solver ran out of `--budget` on them.
+    pub undecided: usize,
+    /// The undecided entries, in priority order.
+    pub undecided_entries: Vec<String>,
+    /// Whether this runtime reaches the target: `None` (JSON `null`) when the undecided
+    /// entries leave it open, or when no share can be computed.
+    pub reaches_target: Option<bool>,
 }
 
-/// What changes between two neighbouring runtime versions.
+/// What changes between two neighbouring runtime versions. Named as seen from the older
+/// runtime, the row it is printed on: what drops out or comes in there compared with the
+/// newer one. Moving up to the newer runtime gains `drop_out` and loses `come_in`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct RuntimeStep {
     pub older: String,
     pub newer: String,
-    /// Resolve at the newer runtime but not at the older one.
+    /// Shown to resolve at the newer runtime and shown not to at the older one.
     pub drop_out: Vec<String>,
-    /// Resolve at the older runtime but not at the newer one.
+    /// Shown to resolve at the older runtime and shown not to at the newer one.
     pub come_in: Vec<String>,
+    /// Undecided at either runtime, so whether they drop out, come in or neither is
+    /// unknown.
+    pub unknown: Vec<String>,
 }
 
 /// Coverage of one base image over candidate runtimes, oldest first.
@@ -45,9 +62,24 @@ pub struct Coverage {
     pub platform: String,
     pub target: f64,
     pub points: Vec<CoveragePoint>,
-    /// The oldest runtime whose share reaches `target`, if any does.
+    /// The oldest runtime whose share reaches `target`, when one is shown to and every older
+    /// one is shown not to; `None` when none is, or when undecided entries leave an older
+    /// runtime open (then `target_unknown_at` names them).
     pub oldest_reaching_target: Option<String>,
+    /// Runtimes whose verdict against the target the undecided entries leave open, oldest
+    /// first, up to the first one shown to reach it: until they are decided, which runtime
+    /// is the oldest to reach the target (or whether any does) is unknown.
+    pub target_unknown_at: Vec<String>,
     pub steps: Vec<RuntimeStep>,
+}
+
+/// How one priority entry came out at one candidate runtime.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Cell {
+    Resolves,
+    Fails,
+    /// The solver ran out of budget: it may resolve or not.
+    Undecided,
 }
 
 /// The default candidate runtimes: the distinct runtimes of the declared images, oldest first.
@@ -125,70 +157,98 @@ pub fn coverage(
         // Several bases share one bar, each adding its cells.
         pb.set_length(pb.length().unwrap_or(0) + (views.len() * n) as u64);
     }
-    let resolved: Vec<bool> = (0..views.len() * n)
+    let cells: Vec<Cell> = (0..views.len() * n)
         .into_par_iter()
         .map(|i| {
-            let resolves = plan_cell(inputs, &views[i / n], &entries[i % n], options)
-                .outcome
-                .resolves();
+            let outcome = plan_cell(inputs, &views[i / n], &entries[i % n], options).outcome;
             if let Some(pb) = &options.progress {
                 pb.inc(1);
             }
-            resolves
+            match outcome {
+                o if o.resolves() => Cell::Resolves,
+                super::matrix::Outcome::Undecided => Cell::Undecided,
+                _ => Cell::Fails,
+            }
         })
         .collect();
+    let named = |row: &[Cell], want: Cell| -> Vec<String> {
+        entries
+            .iter()
+            .zip(row)
+            .filter(|(_, c)| **c == want)
+            .map(|(e, _)| e.name.clone())
+            .collect()
+    };
     let points: Vec<CoveragePoint> = runtimes
         .iter()
         .enumerate()
         .map(|(r, v)| {
-            let row = &resolved[r * n..(r + 1) * n];
+            let row = &cells[r * n..(r + 1) * n];
             // A fold from zero, not `sum`: a sum of nothing is negative zero, which the
             // YAML and JSON documents would print as `-0.0` when nothing resolves.
-            let (weight, rest) =
+            let (weight, open, failing) =
                 entries
                     .iter()
                     .zip(row)
-                    .fold((0.0, 0.0), |(weight, rest), (e, ok)| match ok {
-                        true => (weight + e.weight, rest),
-                        false => (weight, rest + e.weight),
+                    .fold((0.0, 0.0, 0.0), |(w, o, f), (e, c)| match c {
+                        Cell::Resolves => (w + e.weight, o, f),
+                        Cell::Undecided => (w, o + e.weight, f),
+                        Cell::Fails => (w, o, f + e.weight),
                     });
+            let short_share = super::matrix::weight_share(open + failing, weight);
+            let failing_share = super::matrix::weight_share(failing, weight + open);
+            let reaches_target = match (short_share, failing_share) {
+                (Some(short), _) if reaches(short, target) => Some(true),
+                (_, Some(failing)) if !reaches(failing, target) => Some(false),
+                _ => None,
+            };
+            let undecided_entries = named(row, Cell::Undecided);
             CoveragePoint {
                 runtime: v.to_string(),
-                share: super::matrix::weight_share(weight, rest),
-                short_share: super::matrix::weight_share(rest, weight),
-                resolves: entries
-                    .iter()
-                    .zip(row)
-                    .filter(|(_, ok)| **ok)
-                    .map(|(e, _)| e.name.clone())
-                    .collect(),
+                share: super::matrix::weight_share(weight, open + failing),
+                short_share,
+                failing_share,
+                resolves: named(row, Cell::Resolves),
+                undecided: undecided_entries.len(),
+                undecided_entries,
+                reaches_target,
             }
         })
         .collect();
     let steps = (1..runtimes.len())
         .map(|r| {
-            let older = &resolved[(r - 1) * n..r * n];
-            let newer = &resolved[r * n..(r + 1) * n];
-            let pick = |want_old: bool| -> Vec<String> {
+            let older = &cells[(r - 1) * n..r * n];
+            let newer = &cells[r * n..(r + 1) * n];
+            let pick = |keep: &dyn Fn(Cell, Cell) -> bool| -> Vec<String> {
                 entries
                     .iter()
                     .enumerate()
-                    .filter(|(i, _)| older[*i] == want_old && newer[*i] != want_old)
+                    .filter(|(i, _)| keep(older[*i], newer[*i]))
                     .map(|(_, e)| e.name.clone())
                     .collect()
             };
             RuntimeStep {
                 older: runtimes[r - 1].to_string(),
                 newer: runtimes[r].to_string(),
-                drop_out: pick(false),
-                come_in: pick(true),
+                drop_out: pick(&|o, n| o == Cell::Fails && n == Cell::Resolves),
+                come_in: pick(&|o, n| o == Cell::Resolves && n == Cell::Fails),
+                // Whatever the other side, an undecided side may turn out either way, and
+                // one of its two ways makes a drop-out or a come-in.
+                unknown: pick(&|o, n| o == Cell::Undecided || n == Cell::Undecided),
             }
         })
         .collect();
-    let oldest_reaching_target = points
+    // The oldest shown to reach counts only if no older runtime might reach it too.
+    let first_reaching = points.iter().position(|p| p.reaches_target == Some(true));
+    let before = &points[..first_reaching.unwrap_or(points.len())];
+    let target_unknown_at: Vec<String> = before
         .iter()
-        .find(|p| p.short_share.is_some_and(|short| reaches(short, target)))
-        .map(|p| p.runtime.clone());
+        .filter(|p| p.share.is_some() && p.reaches_target.is_none())
+        .map(|p| p.runtime.clone())
+        .collect();
+    let oldest_reaching_target = first_reaching
+        .filter(|_| target_unknown_at.is_empty())
+        .map(|i| points[i].runtime.clone());
     Coverage {
         base_image: base.id.clone(),
         family: base.family.to_string(),
@@ -196,6 +256,7 @@ pub fn coverage(
         target,
         points,
         oldest_reaching_target,
+        target_unknown_at,
         steps,
     }
 }
@@ -218,10 +279,17 @@ pub fn reaches(short: f64, target: f64) -> bool {
 }
 
 /// A coverage as printed beside its target: with the places the target needs, and never
-/// looking equal to a target it misses.
+/// looking equal to a target it misses. With undecided entries it is a lower bound, and says
+/// so: printed bare it would read as the coverage.
 fn shown(point: &CoveragePoint, target: f64) -> String {
     match (point.share, point.short_share) {
-        (Some(share), Some(short)) => percent_beside(share, target, !reaches(short, target)),
+        (Some(share), Some(short)) => {
+            let text = percent_beside(share, target, !reaches(short, target));
+            match point.undecided {
+                0 => text,
+                _ => format!(">={text}"),
+            }
+        }
         _ => "n/a".to_string(),
     }
 }
@@ -236,7 +304,10 @@ fn undefined(c: &Coverage) -> bool {
 /// Why [`undefined`] coverage has no numbers, as the text and the chart say it.
 const UNDEFINED: &str = "coverage by weight cannot be computed: every priority weight is zero";
 
-/// A readable table of coverage per runtime, with drop-outs and come-ins per step.
+/// A readable table of coverage per runtime, with drop-outs and come-ins per step. Each row
+/// compares its runtime with the next newer one, and the headers say in which direction: an
+/// upgrade-minded reader took a bare "drop out (vs next newer)" for what upgrading loses,
+/// which is the opposite.
 pub fn coverage_text(c: &Coverage) -> String {
     let mut s = String::new();
     let _ = writeln!(
@@ -250,8 +321,9 @@ pub fn coverage_text(c: &Coverage) -> String {
     let mut rows = vec![vec![
         "runtime".to_string(),
         "coverage".to_string(),
-        "drop out (vs next newer)".to_string(),
-        "come in (vs next newer)".to_string(),
+        "undecided".to_string(),
+        "drop out here (resolve at next newer)".to_string(),
+        "come in here (fail at next newer)".to_string(),
     ]];
     for (i, p) in c.points.iter().enumerate() {
         let step = c.steps.get(i);
@@ -262,17 +334,51 @@ pub fn coverage_text(c: &Coverage) -> String {
         rows.push(vec![
             p.runtime.clone(),
             shown(p, c.target),
+            p.undecided.to_string(),
             list(step.map(|s| &s.drop_out)),
             list(step.map(|s| &s.come_in)),
         ]);
     }
     s.push_str(&crate::report::text::table(&rows));
+    let undecided: usize = c.points.iter().map(|p| p.undecided).sum();
+    if undecided > 0 {
+        let _ = writeln!(
+            s,
+            "the solver ran out of --budget on {undecided} cells: they count as not resolving (coverage marked >= is a lower bound), and whether they drop out or come in is unknown, so neither column lists them; raise --budget"
+        );
+        for p in c.points.iter().filter(|p| p.undecided > 0) {
+            let _ = writeln!(
+                s,
+                "  undecided at {}: {}",
+                p.runtime,
+                p.undecided_entries.join(" ")
+            );
+        }
+    }
+    let open = c.target_unknown_at.join(", ");
     match &c.oldest_reaching_target {
         Some(v) => {
             let _ = writeln!(s, "oldest runtime reaching the target: {v}");
         }
         None if undefined(c) => {
             let _ = writeln!(s, "{UNDEFINED}");
+        }
+        None if !c.target_unknown_at.is_empty() => {
+            match c.points.iter().find(|p| p.reaches_target == Some(true)) {
+                Some(p) => {
+                    let _ = writeln!(
+                        s,
+                        "oldest runtime reaching the target: unknown; {} reaches it, but undecided cells leave {open} open; raise --budget",
+                        p.runtime
+                    );
+                }
+                None => {
+                    let _ = writeln!(
+                        s,
+                        "whether any candidate runtime reaches the target is unknown: undecided cells leave {open} open; raise --budget"
+                    );
+                }
+            }
         }
         None => s.push_str("no candidate runtime reaches the target\n"),
     }
@@ -361,6 +467,17 @@ pub fn coverage_svg(c: &Coverage) -> String {
         ty - 4.0,
         target_percent(c.target)
     );
+    let undecided: usize = c.points.iter().map(|p| p.undecided).sum();
+    if undecided > 0 {
+        // A point drawn at its lower bound reads as the coverage; the chart carries no table
+        // to say otherwise.
+        let _ = writeln!(
+            s,
+            "<text class=\"undecided\" x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\" fill=\"#D55E00\">{undecided} cells undecided (out of --budget): points are lower bounds</text>",
+            W / 2.0,
+            T - 6.0
+        );
+    }
     if undefined(c) {
         let _ = writeln!(
             s,
@@ -393,7 +510,7 @@ pub fn coverage_svg(c: &Coverage) -> String {
             x(i),
             y(share),
             crate::report::html::escape_html(&c.points[i].runtime),
-            shown(&c.points[i], c.target)
+            crate::report::html::escape_html(&shown(&c.points[i], c.target))
         );
     }
     for (i, p) in c.points.iter().enumerate() {

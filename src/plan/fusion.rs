@@ -676,8 +676,10 @@ impl std::error::Error for FuseError {}
 
 /// Fuses `lists` into one list, best first.
 ///
-/// The result holds every name of every list exactly once. Scores do not depend on the order
-/// of `lists`: each package's per-list terms are summed smallest first, so the same terms give
+/// The result holds every name of every list exactly once. A list with no entries (every row
+/// left out, or outside a `--window`) takes no part: it has nothing to say about any name,
+/// yet under [`Missing::WorstPlusOne`] it would give each an absent rank and shift every
+/// weight. Scores do not depend on the order of `lists`: each package's per-list terms are summed smallest first, so the same terms give
 /// the same bits whichever list they came from. Equal scores are ordered by name (byte order).
 ///
 /// ```
@@ -713,14 +715,15 @@ pub fn fuse(
             detail: unscored.detail,
         });
     }
+    let lists: Vec<&SourceList> = lists.iter().filter(|l| !l.is_empty()).collect();
     let mut terms: BTreeMap<&str, (Vec<f64>, usize)> = BTreeMap::new();
-    for list in lists {
+    for list in &lists {
         for e in &list.entries {
             terms.entry(e.name.as_str()).or_default();
         }
     }
     let n = terms.len() as f64;
-    for list in lists {
+    for list in &lists {
         let position: HashMap<&str, usize> = list
             .entries
             .iter()
@@ -864,15 +867,59 @@ pub fn to_priority_yaml(
     missing: Missing,
     lists: &[SourceList],
 ) -> String {
+    to_priority_yaml_leaving_out(fused, method, missing, lists, &[])
+}
+
+/// [`to_priority_yaml`] for a fusion that left out the sources `left_out` (file names, each
+/// with why, such as `no row inside --window 2024-01-01..2024-01-31`): the header counts and
+/// names them apart from the lists fused, so the file does not claim sources that took no
+/// part. Lists in `lists` with no entries count as left out too, since [`fuse`] skips them.
+///
+/// ```
+/// use basefit::plan::fusion::{fuse, to_priority_yaml_leaving_out, Method, Missing, SourceList};
+/// let lists = [SourceList::ranked("top.csv", ["web", "db"])?];
+/// let fused = fuse(&lists, Method::RankSum, Missing::WorstPlusOne)?;
+/// let left_out = [("old.csv".to_string(), "no usable row".to_string())];
+/// let yaml = to_priority_yaml_leaving_out(&fused, Method::RankSum, Missing::WorstPlusOne, &lists, &left_out);
+/// assert!(yaml.starts_with("# Fused by basefit from 1 source list(s): \"top.csv\"\n# left out of the fusion, 1 source list(s) with no row: \"old.csv\" (no usable row)\n"));
+/// # Ok::<(), Box<dyn std::error::Error>>(())
+/// ```
+pub fn to_priority_yaml_leaving_out(
+    fused: &[Fused],
+    method: Method,
+    missing: Missing,
+    lists: &[SourceList],
+    left_out: &[(String, String)],
+) -> String {
     let mut out = String::new();
-    let sources: Vec<String> = lists.iter().map(|l| yaml_quote(&l.file)).collect();
+    let used: Vec<&SourceList> = lists.iter().filter(|l| !l.is_empty()).collect();
+    let mut skipped: Vec<String> = left_out
+        .iter()
+        .map(|(file, why)| format!("{} ({why})", yaml_quote(file)))
+        .collect();
+    skipped.extend(
+        lists
+            .iter()
+            .filter(|l| l.is_empty() && !left_out.iter().any(|(f, _)| *f == l.file))
+            .map(|l| format!("{} (no row)", yaml_quote(&l.file))),
+    );
+    let sources: Vec<String> = used.iter().map(|l| yaml_quote(&l.file)).collect();
     // `write!` into a String cannot fail; the results are ignored for that reason.
     let _ = writeln!(
         out,
         "# Fused by basefit from {} source list(s): {}",
-        lists.len(),
+        used.len(),
         sources.join(", ")
     );
+    if !skipped.is_empty() {
+        // A comment line ends at a line break; yaml_quote escapes any in a file name.
+        let _ = writeln!(
+            out,
+            "# left out of the fusion, {} source list(s) with no row: {}",
+            skipped.len(),
+            skipped.join(", ")
+        );
+    }
     let _ = writeln!(
         out,
         "# method: {}; missing entries: {}; weight 1.0 is the best package",
@@ -1470,6 +1517,25 @@ mod tests {
             to_priority_yaml(&fused, Method::Borda, Missing::WorstPlusOne, &lists),
             yaml
         );
+    }
+
+    /// A list with no entries says nothing about any name: fused with it, every method gives
+    /// the same scores as without it, absent ranks included.
+    #[test]
+    fn an_empty_list_takes_no_part() {
+        let a = ranked("a", &["x", "y", "z"]);
+        let empty = SourceList::ranked("e", Vec::<&str>::new()).unwrap();
+        for method in [
+            Method::RankSum,
+            Method::Borda,
+            Method::Reciprocal { k: 60.0 },
+        ] {
+            for missing in [Missing::WorstPlusOne, Missing::Exclude] {
+                let alone = fuse(std::slice::from_ref(&a), method, missing).unwrap();
+                let with = fuse(&[a.clone(), empty.clone()], method, missing).unwrap();
+                assert_eq!(with, alone, "{method:?} {missing:?}");
+            }
+        }
     }
 
     #[test]

@@ -3,9 +3,11 @@
 
 use super::matrix::{Outcome, Pinned, PlanOptions, plan_cell};
 use crate::load::Inputs;
-use crate::model::{Image, PackageId, Requirement};
-use crate::solve::{self, CellSolve, ImageView, IndexSet, SetCache, Solved, sets};
+use crate::model::{DepKind, Image, PackageId, Requirement};
+use crate::native::{Assessment, Confidence};
+use crate::solve::{self, Cause, CellSolve, ImageView, IndexSet, Pin, SetCache, Solved, sets};
 use serde::Serialize;
+use std::collections::{BTreeMap, HashMap};
 use std::fmt::Write;
 
 /// A kept priority entry and the version the joint solution installs.
@@ -40,6 +42,19 @@ pub struct Preinstall {
     /// System packages the image lacks for the joint closure (the native step on the final
     /// solution, which may pick other versions than each package alone).
     pub missing_system_packages: Vec<String>,
+    /// The same system packages, each with the manifest packages that need it and the
+    /// strongest confidence among them.
+    pub system_needs: Vec<SystemNeed>,
+}
+
+/// A system package the image lacks for the manifest, and who needs it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SystemNeed {
+    pub package: String,
+    /// The strongest confidence of the needs that ask for it.
+    pub confidence: Confidence,
+    /// Manifest packages whose own release asks for it, in name order.
+    pub needed_by: Vec<Pinned>,
 }
 
 struct Root {
@@ -53,13 +68,129 @@ fn joint(view: &ImageView<'_>, roots: &[&Root], budget: u64) -> CellSolve {
     solve::solve_joint(view, &r, budget)
 }
 
+/// Why a closure certainly fails natively on the image, by the rule `plan` applies to a
+/// cell's native step: a certain need of a C toolchain the image lacks, else of a system
+/// package it lacks. The cause and the packages to add; `None` when the closure may install.
+fn certain_native_failure(a: &Assessment) -> Option<(Cause, Vec<String>)> {
+    if a.toolchain_missing == Some(Confidence::Certain) {
+        return Some((Cause::MissingToolchain, a.packages_to_add()));
+    }
+    let certain: Vec<String> = a
+        .missing
+        .iter()
+        .filter(|(_, c)| *c == Confidence::Certain)
+        .map(|(p, _)| p.clone())
+        .collect();
+    (!certain.is_empty()).then_some((Cause::MissingSystemLibrary, certain))
+}
+
+/// The packages of `closure` that `root` installs: its release there and everything its
+/// runtime dependencies reach within the closure.
+fn reached_from(inputs: &Inputs, closure: &[Pin], root: PackageId) -> Vec<Pin> {
+    let registry = &inputs.registry;
+    let at: HashMap<PackageId, usize> = closure
+        .iter()
+        .enumerate()
+        .map(|(i, p)| (p.package, i))
+        .collect();
+    let mut seen = vec![false; closure.len()];
+    let mut stack: Vec<usize> = at.get(&root).copied().into_iter().collect();
+    let mut out = Vec::new();
+    while let Some(i) = stack.pop() {
+        if std::mem::replace(&mut seen[i], true) {
+            continue;
+        }
+        let pin = closure[i];
+        out.push(pin);
+        let release = &registry.package(pin.package).releases[pin.index as usize];
+        for d in release.deps.iter().filter(|d| d.kind == DepKind::Runtime) {
+            stack.extend(at.get(&d.package).copied());
+        }
+    }
+    out
+}
+
+/// The version `pin` names, for messages.
+fn version_of(inputs: &Inputs, pin: &Pin) -> String {
+    inputs.registry.package(pin.package).releases[pin.index as usize]
+        .version
+        .to_string()
+}
+
+/// Native checks of single releases, each made once: a closure certainly fails natively
+/// exactly when one of its releases does, since a need's confidence is its own release's.
+struct NativeChecks<'a> {
+    inputs: &'a Inputs,
+    image: &'a Image,
+    fails: BTreeMap<Pin, bool>,
+}
+
+impl NativeChecks<'_> {
+    fn assess(&self, pins: &[Pin]) -> Assessment {
+        crate::native::assess(
+            &self.inputs.registry,
+            &self.inputs.catalog,
+            self.image,
+            pins,
+        )
+    }
+
+    fn certainly_fails(&mut self, pin: Pin) -> bool {
+        if let Some(f) = self.fails.get(&pin) {
+            return *f;
+        }
+        let f = certain_native_failure(&self.assess(&[pin])).is_some();
+        self.fails.insert(pin, f);
+        f
+    }
+
+    /// Why the joint solution `closure` of `roots` cannot be kept because some root's part
+    /// of it certainly fails natively; `None` when no release of it does. The last root is
+    /// the candidate: its own part is named first, else the kept roots its addition moved.
+    fn joint_failure(&mut self, closure: &[Pin], roots: &[&Root]) -> Option<String> {
+        if !closure.iter().any(|p| self.certainly_fails(*p)) {
+            return None;
+        }
+        let (candidate, kept) = roots.split_last()?;
+        // "E 0.5.0 (missing-system-library: add libxml2-dev)" for a root whose part fails.
+        let why = |checks: &mut Self, root: &Root| -> Option<String> {
+            let part = reached_from(checks.inputs, closure, root.id);
+            let (cause, add) = certain_native_failure(&checks.assess(&part))?;
+            let version = part
+                .iter()
+                .find(|p| p.package == root.id)
+                .map(|p| version_of(checks.inputs, p))
+                .unwrap_or_default();
+            let add = match add.is_empty() {
+                true => String::new(),
+                false => format!(": add {}", add.join(" ")),
+            };
+            Some(format!("{} {version} ({}{add})", root.name, cause.as_str()))
+        };
+        if let Some(own) = why(self, candidate) {
+            return Some(format!(
+                "with the kept packages the joint solve picks {own}, which certainly fails natively on {}",
+                self.image.id
+            ));
+        }
+        let moved: Vec<String> = kept.iter().filter_map(|r| why(self, r)).collect();
+        Some(format!(
+            "with it the joint solve moves kept packages to versions that certainly fail natively on {}: {}",
+            self.image.id,
+            moved.join(", ")
+        ))
+    }
+}
+
 /// Builds the pre-install set of `image`.
 ///
 /// Each entry, in priority order, is first planned alone (native step included when
 /// `options.native` is set): one that does not resolve alone, or needs system packages the
 /// image certainly lacks, is left out with that reason. Otherwise it is kept when the kept
-/// packages plus it still have a joint solution. When they do not, the conflict is named by
-/// deletion: starting from all kept packages, each is dropped (lowest priority first) if the
+/// packages plus it still have a joint solution and, with the native step, no kept entry's
+/// part of that solution certainly fails natively (the joint solve may pick an older release
+/// of it, or move a kept entry to one, that fails where the release chosen alone did not).
+/// When they have no joint solution, the conflict is named by deletion: starting from all kept packages, each is dropped (lowest priority first) if the
 /// rest plus the candidate still fail, which leaves a minimal conflicting subset that favours
 /// the highest-priority packages. A joint solve that runs out of budget counts as "not shown
 /// to fail", so it never names a package without evidence.
@@ -73,6 +204,11 @@ pub fn preinstall(
     let view = ImageView::new(registry, image, sets_cache);
     let mut kept: Vec<Root> = Vec::new();
     let mut left_out = Vec::new();
+    let mut checks = NativeChecks {
+        inputs,
+        image,
+        fails: BTreeMap::new(),
+    };
     for entry in &inputs.priorities.entries {
         let cell = plan_cell(inputs, &view, entry, options);
         if !cell.outcome.resolves() {
@@ -120,7 +256,20 @@ pub fn preinstall(
         with.push(&candidate);
         let solved = joint(&view, &with, options.budget);
         match solved.solved {
-            Solved::Installs { .. } => kept.push(candidate),
+            Solved::Installs { closure, .. } => {
+                match options
+                    .native
+                    .then(|| checks.joint_failure(&closure, &with))
+                    .flatten()
+                {
+                    Some(reason) => left_out.push(LeftOut {
+                        name: entry.name.clone(),
+                        reason,
+                        conflicts_with: Vec::new(),
+                    }),
+                    None => kept.push(candidate),
+                }
+            }
             Solved::Undecided { steps } => left_out.push(LeftOut {
                 name: entry.name.clone(),
                 reason: format!(
@@ -163,6 +312,7 @@ pub fn preinstall(
     let final_solve = joint(&view, &all, options.budget);
     let mut manifest = Vec::new();
     let mut missing_system_packages = Vec::new();
+    let mut system_needs = Vec::new();
     let mut kept_rows: Vec<Kept> = kept
         .iter()
         .map(|r| Kept {
@@ -172,8 +322,8 @@ pub fn preinstall(
         .collect();
     if let Solved::Installs { closure, .. } = &final_solve.solved {
         if options.native {
-            missing_system_packages =
-                crate::native::assess(registry, &inputs.catalog, image, closure).packages_to_add();
+            missing_system_packages = checks.assess(closure).packages_to_add();
+            system_needs = needs_by_package(&checks, closure);
         }
         for p in closure {
             let version = registry.package(p.package).releases[p.index as usize]
@@ -212,7 +362,35 @@ pub fn preinstall(
         manifest,
         left_out,
         missing_system_packages,
+        system_needs,
     }
+}
+
+/// Which releases of `closure` need which system packages the image lacks: each release
+/// assessed alone, since a package name alone does not say who asked for it.
+fn needs_by_package(checks: &NativeChecks<'_>, closure: &[Pin]) -> Vec<SystemNeed> {
+    let registry = &checks.inputs.registry;
+    let mut by: BTreeMap<String, SystemNeed> = BTreeMap::new();
+    for pin in closure {
+        for (package, confidence) in checks.assess(&[*pin]).missing {
+            let need = by.entry(package.clone()).or_insert(SystemNeed {
+                package,
+                confidence,
+                needed_by: Vec::new(),
+            });
+            need.confidence = need.confidence.max(confidence);
+            need.needed_by.push(Pinned {
+                name: registry.name(pin.package).to_string(),
+                version: version_of(checks.inputs, pin),
+                build: pin.build,
+            });
+        }
+    }
+    let mut out: Vec<SystemNeed> = by.into_values().collect();
+    for need in &mut out {
+        need.needed_by.sort_by(|a, b| a.name.cmp(&b.name));
+    }
+    out
 }
 
 /// A readable report of one pre-install plan.
@@ -251,12 +429,37 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     for l in &p.left_out {
         let _ = writeln!(s, "left out {}: {}", l.name, l.reason);
     }
-    if !p.missing_system_packages.is_empty() {
+    if !p.system_needs.is_empty() {
+        let needs: Vec<String> = p
+            .system_needs
+            .iter()
+            .map(|n| {
+                let by: Vec<String> = n
+                    .needed_by
+                    .iter()
+                    .map(|m| format!("{} {}", m.name, m.version))
+                    .collect();
+                format!(
+                    "{} ({}, for {})",
+                    n.package,
+                    confidence_word(n.confidence),
+                    by.join(", ")
+                )
+            })
+            .collect();
         let _ = writeln!(
             s,
             "the manifest needs system packages the image lacks: {}",
-            p.missing_system_packages.join(" ")
+            needs.join("; ")
         );
     }
     s
+}
+
+fn confidence_word(c: Confidence) -> &'static str {
+    match c {
+        Confidence::Certain => "certain",
+        Confidence::Likely => "likely",
+        Confidence::Possible => "possible",
+    }
 }
