@@ -198,8 +198,8 @@ pub fn coverage(
             let short_share = super::matrix::weight_share(open + failing, weight);
             let failing_share = super::matrix::weight_share(failing, weight + open);
             let reaches_target = match (short_share, failing_share) {
-                (Some(short), _) if reaches(short, target) => Some(true),
-                (_, Some(failing)) if !reaches(failing, target) => Some(false),
+                (Some(short), _) if reaches(short, target, entries.len()) => Some(true),
+                (_, Some(failing)) if !reaches(failing, target, entries.len()) => Some(false),
                 _ => None,
             };
             let undecided_entries = named(row, Cell::Undecided);
@@ -261,21 +261,27 @@ pub fn coverage(
     }
 }
 
-/// Whether a coverage whose unresolved share is `short` reaches `target`: whether `short` is
-/// at most `1 - target`, give or take a relative 1e-12 of it, so a share that is exactly the
-/// target in decimal is not missed by floating-point rounding of the weight sums. Judged on
-/// the unresolved side, so a target of 100% is reached only when nothing with weight fails,
-/// however heavy the rest.
+/// Whether a coverage whose unresolved share is `short`, summed from `entries` weights,
+/// reaches `target`. Judged on the unresolved side, so a target of 100% is reached only when
+/// nothing with weight fails, however heavy the rest. Below 100%, `short` may exceed
+/// `1 - target` by the rounding that the target's own binary form and the sums of `entries`
+/// weights can make (a few units in the last place per weight summed), so a share that is
+/// exactly the target in decimal is not missed; no more, so a real miss is never taken for
+/// a hit.
 ///
 /// ```
 /// use basefit::plan::coverage::reaches;
-/// assert!(reaches(5.0 / 100.0, 0.95)); // 95 of 100 in decimal: exactly the target
-/// assert!(!reaches(500000001.0 / 1e10, 0.95)); // 94.99999999%
-/// assert!(!reaches(1.0 / (1e17 + 1.0), 1.0));
-/// assert!(reaches(0.0, 1.0));
+/// assert!(reaches(5.0 / 100.0, 0.95, 2)); // 95 of 100 in decimal: exactly the target
+/// assert!(reaches(1.0 / 100000.0, 0.99999, 2)); // 0.99999 is a little above it in binary
+/// assert!(!reaches(500000001.0 / 1e10, 0.95, 2)); // 94.99999999%
+/// assert!(!reaches(1.0 / (1e17 + 1.0), 1.0, 2));
+/// assert!(reaches(0.0, 1.0, 2));
 /// ```
-pub fn reaches(short: f64, target: f64) -> bool {
-    short <= (1.0 - target) * (1.0 + 1e-12)
+pub fn reaches(short: f64, target: f64, entries: usize) -> bool {
+    if target >= 1.0 {
+        return short <= 0.0;
+    }
+    short <= (1.0 - target) + 4.0 * (entries as f64 + 2.0) * f64::EPSILON
 }
 
 /// A coverage as printed beside its target: with the places the target needs, and never
@@ -283,8 +289,8 @@ pub fn reaches(short: f64, target: f64) -> bool {
 /// so: printed bare it would read as the coverage.
 fn shown(point: &CoveragePoint, target: f64) -> String {
     match (point.share, point.short_share) {
-        (Some(share), Some(short)) => {
-            let text = percent_beside(share, target, !reaches(short, target));
+        (Some(share), Some(_)) => {
+            let text = percent_beside(share, target, point.reaches_target != Some(true));
             match point.undecided {
                 0 => text,
                 _ => format!(">={text}"),
@@ -536,4 +542,47 @@ pub fn coverage_svg(c: &Coverage) -> String {
     );
     s.push_str("</svg>\n");
     s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::reaches;
+    use crate::plan::matrix::weight_share;
+
+    /// Lists built to meet a target exactly in decimal (every n-th entry failing, equal
+    /// weights) must reach it, summed in order as `coverage` sums them, and one more failing
+    /// entry must miss it, for long lists and targets near 100% alike.
+    #[test]
+    fn exact_targets_are_reached_and_one_entry_more_misses() {
+        for (weight, entries, failing_every, target) in [
+            (0.3, 62_240, 20, 0.95),
+            (0.3, 55_600, 100, 0.99),
+            (0.35, 78_460, 20, 0.95),
+            (1.0, 100_000, 100_000, 0.99999),
+            (0.1, 10_000_000, 10_000_000, 0.9999999),
+            (1.0, 10, 10, 0.9),
+            (7.0, 1000, 1000, 0.999),
+        ] {
+            let fails = |extra: usize| {
+                let (mut resolved, mut short) = (0.0f64, 0.0f64);
+                for i in 0..entries {
+                    if i % failing_every == 0 || i < extra {
+                        short += weight;
+                    } else {
+                        resolved += weight;
+                    }
+                }
+                weight_share(short, resolved).unwrap()
+            };
+            assert!(
+                reaches(fails(0), target, entries),
+                "{entries} x {weight}, 1 in {failing_every} failing, target {target}"
+            );
+            // A second failing entry (index 1 is never a multiple of `failing_every` > 1).
+            assert!(
+                !reaches(fails(2), target, entries),
+                "{entries} x {weight}, one more failing, target {target}"
+            );
+        }
+    }
 }
