@@ -788,12 +788,7 @@ pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
     let d = crate::verify::diff::diff(&a, &b, report::markdown);
-    Ok(Output::report(
-        o.format,
-        &d,
-        text::diff_text,
-        !d.changes.is_empty() || !d.unified.is_empty(),
-    ))
+    Ok(Output::report(o.format, &d, text::diff_text, d.any()))
 }
 
 pub struct SystemCommand {

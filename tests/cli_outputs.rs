@@ -771,6 +771,21 @@ fn diff_shows_a_changed_rendering_even_when_no_cell_moved() {
         out.starts_with("the matrices agree\n") && out.contains(NOTICE),
         "{out}"
     );
+    // The YAML twin of a matrix is the same matrix.
+    let yaml = before.replace("matrix.json", "matrix.yaml");
+    let (code, out, _) = run(&["diff"], &[&before, &yaml]);
+    assert_eq!(code, 0, "{out}");
+
+    // A summary shows in no cell brief and in no Markdown table, yet the files differ.
+    let (_, mut m) = demo_matrix(dir.path());
+    m["packages"][0]["summary"] = "edited".into();
+    let after = write_json(dir.path(), "summary.json", &m);
+    let (code, out, _) = run(&["diff"], &[&before, &after]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.starts_with("no cell's outcome, cause or version changed and the Markdown renderings are equal, but the matrices differ"),
+        "{out}"
+    );
 }
 
 /// Names come from registries nobody vetted: an escape sequence in one must reach the

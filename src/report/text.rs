@@ -758,8 +758,12 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
         out.push('\n');
     }
     if d.changes.is_empty() {
-        if d.unified.is_empty() {
+        if !d.any() {
             out.push_str("the matrices agree\n");
+        } else if d.unified.is_empty() {
+            out.push_str(
+                "no cell's outcome, cause or version changed and the Markdown renderings are equal, but the matrices differ (a closure's versions, a summary, an image's packages, or a weight below the rounding shown)\n",
+            );
         } else {
             // A new runtime, weight or explanation changes what the support matrix says
             // even where no cell's outcome moved.

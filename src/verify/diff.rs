@@ -52,6 +52,17 @@ pub struct MatrixDiff {
     pub changes: Vec<CellChange>,
     /// Unified diff of the two renderings; empty when they are equal.
     pub unified: String,
+    /// Whether the matrices differ at all, their notices aside: a closure's version, a
+    /// summary, an image's packages or a weight below the rounding shown change neither a
+    /// cell's brief nor the rendering, yet the files are not the same.
+    pub differ: bool,
+}
+
+impl MatrixDiff {
+    /// Whether anything differs, for the exit code.
+    pub fn any(&self) -> bool {
+        self.differ || !self.changes.is_empty() || !self.unified.is_empty()
+    }
 }
 
 /// Cells of `before` and `after` that differ, in `after`'s order (then cells only in
@@ -102,5 +113,9 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
         },
         changes,
         unified,
+        differ: Matrix {
+            notice: after.notice.clone(),
+            ..before.clone()
+        } != *after,
     }
 }
