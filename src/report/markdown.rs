@@ -229,8 +229,14 @@ fn names_word(text: &str, word: &str) -> bool {
     let part_of_name = |c: char| c.is_alphanumeric() || matches!(c, '-' | '+' | '_');
     text.match_indices(word).any(|(at, _)| {
         let before = text[..at].chars().next_back();
-        let after = text[at + word.len()..].chars().next();
-        !before.is_some_and(part_of_name) && !after.is_some_and(part_of_name)
+        let mut after = text[at + word.len()..].chars();
+        // A dot goes on a name (`python3.11-dev`) when more of the name follows it; at a
+        // sentence's end it does not.
+        let continues = match after.next() {
+            Some('.') => after.next().is_some_and(part_of_name),
+            next => next.is_some_and(part_of_name),
+        };
+        !before.is_some_and(|c| part_of_name(c) || c == '.') && !continues
     })
 }
 
@@ -291,6 +297,9 @@ mod tests {
         assert!(!names_word("on image libpq-dev-builder", "libpq-dev"));
         assert!(!names_word("needs xlibpq-dev", "libpq-dev"));
         assert!(!names_word("", "libpq-dev"));
+        assert!(!names_word("needs python3.11-dev", "python3"));
+        assert!(!names_word("needs lib.python3", "python3"));
+        assert!(names_word("needs python3. Then", "python3"));
     }
 
     #[test]
