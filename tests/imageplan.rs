@@ -782,3 +782,33 @@ fn coverage_table_headers_say_which_way_a_row_compares() {
     assert!(row("3.0.0 ").contains(" brine "), "{text}");
     assert!(row("3.1.0 ").ends_with(" dune"), "{text}");
 }
+
+/// The release that fails may lie below the entry: `cand` alone installs (the solve takes
+/// `lib` 2.0.0), but beside `kept` (y ^1) the joint solve must take `lib` 1.0.0, which needs
+/// libxml2. The reason names that release, not only the entry, which `explain` shows
+/// installing.
+#[test]
+fn a_joint_failure_below_the_entry_names_the_release_that_fails() {
+    let registry = "packages:
+  - {name: y, versions: [{version: 1.0.0}, {version: 2.0.0}]}
+  - name: lib
+    versions:
+      - {version: 1.0.0, native: {libraries: [libxml2]}}
+      - {version: 2.0.0, depends: [{name: y, req: '^2'}]}
+  - {name: kept, versions: [{version: 1.0.0, depends: [{name: y, req: '^1'}]}]}
+  - {name: cand, versions: [{version: 1.0.0, depends: [{name: lib, req: '*'}, {name: y, req: '*'}]}]}
+";
+    let mut inp = inputs(registry, JOINT_NATIVE_IMAGE, "priorities: [kept, cand]\n");
+    inp.catalog = basefit::native::Catalog::builtin();
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    assert_eq!(p.left_out.len(), 1, "{:?}", p.left_out);
+    assert_eq!(
+        p.left_out[0].reason,
+        "with the kept packages the joint solve picks cand 1.0.0 with lib 1.0.0 (missing-system-library: add libxml2-dev), which certainly fails natively on i"
+    );
+}

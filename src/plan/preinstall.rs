@@ -152,20 +152,45 @@ impl NativeChecks<'_> {
             return None;
         }
         let (candidate, kept) = roots.split_last()?;
-        // "E 0.5.0 (missing-system-library: add libxml2-dev)" for a root whose part fails.
+        // "E 0.5.0 (missing-system-library: add libxml2-dev)" for a root whose own release
+        // fails; "cand 1.0.0 with lib 1.0.0 (...)" when a release it reaches does, since the
+        // root alone may well install and only the release the joint solve moved to fails.
         let why = |checks: &mut Self, root: &Root| -> Option<String> {
             let part = reached_from(checks.inputs, closure, root.id);
             let (cause, add) = certain_native_failure(&checks.assess(&part))?;
-            let version = part
-                .iter()
-                .find(|p| p.package == root.id)
+            let own = part.iter().find(|p| p.package == root.id);
+            let version = own
                 .map(|p| version_of(checks.inputs, p))
                 .unwrap_or_default();
+            let inputs = checks.inputs;
+            let failing: Vec<String> = part
+                .iter()
+                .filter(|p| Some(*p) != own && checks.certainly_fails(**p))
+                .map(|p| {
+                    format!(
+                        "{} {}",
+                        inputs.registry.name(p.package),
+                        version_of(inputs, p)
+                    )
+                })
+                .collect();
+            let through = match (
+                own.is_some_and(|p| checks.certainly_fails(*p)),
+                failing.is_empty(),
+            ) {
+                (_, true) => String::new(),
+                (true, false) => format!(" and {}", failing.join(", ")),
+                (false, false) => format!(" with {}", failing.join(", ")),
+            };
             let add = match add.is_empty() {
                 true => String::new(),
                 false => format!(": add {}", add.join(" ")),
             };
-            Some(format!("{} {version} ({}{add})", root.name, cause.as_str()))
+            Some(format!(
+                "{} {version}{through} ({}{add})",
+                root.name,
+                cause.as_str()
+            ))
         };
         if let Some(own) = why(self, candidate) {
             return Some(format!(
