@@ -1778,3 +1778,31 @@ fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
         "{stderr}"
     );
 }
+
+/// An image built on one left out for its id reads as built on a base that cannot be built,
+/// as with every other left-out base, not as extending an undeclared one.
+#[test]
+fn an_image_on_a_base_left_out_for_its_id_names_why() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: \"bad id\", runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - {id: kid, extends: \"bad id\"}\n",
+            "  - {id: ok, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}\n",
+        )
+        .as_bytes(),
+    );
+    let report = assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "images.yaml:3  kid: its base \"bad id\" cannot be built: image id \"bad id\" holds white space",
+        ],
+        Some(("image records", ["3", "1", "2"])),
+    );
+    assert!(!report.contains("not declared"), "{report}");
+}

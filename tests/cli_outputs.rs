@@ -883,3 +883,29 @@ fn a_failure_for_another_cause_is_not_rendered_as_agreement() {
         "{md}"
     );
 }
+
+/// A `packages` list on an extending image replaces its base's: one without the compiler
+/// package drops the compiler as `remove` does, and the inherited `toolchain: true` goes
+/// with it, noted the same way. Two ways to write the same slim image plan the same.
+#[test]
+fn a_packages_list_without_the_compiler_drops_an_inherited_toolchain() {
+    let dir = tempfile::tempdir().unwrap();
+    let images = "images:\n  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential, libpq-dev]}\n  - {id: by-list, extends: full, packages: [ca-certificates]}\n  - {id: by-remove, extends: full, remove: [build-essential, libpq-dev], add: [ca-certificates]}\n  - {id: keeps-it, extends: full, packages: [build-essential]}\n";
+    let args = demo_on_images(dir.path(), images);
+    let args: Vec<&str> = args.iter().map(String::as_str).collect();
+    for image in ["by-list", "by-remove"] {
+        let (code, stdout, _) = run(&["explain", "burrowdb", image], &args);
+        assert_eq!(code, 1, "{image}: {stdout}");
+        assert!(stdout.contains("has no C toolchain"), "{image}: {stdout}");
+    }
+    let (code, stdout, _) = run(&["explain", "burrowdb", "keeps-it"], &args);
+    assert!(!stdout.contains("no C toolchain"), "{code}: {stdout}");
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(
+        stdout.contains(
+            "by-list: inherits toolchain: true from `full` but gives a `packages` list without build-essential; planned without a C toolchain"
+        ),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("keeps-it: inherits"), "{stdout}");
+}

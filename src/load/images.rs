@@ -134,16 +134,17 @@ pub fn read_images_str(file: &str, text: &str, ledger: &mut Ledger) -> Result<Im
             Ok(image) => {
                 // A written `true` up the chain is inherited only while every base between
                 // kept it: one that removed the compiler itself passes on no toolchain.
-                let base_has_toolchain = unique[i]
+                let base = unique[i]
                     .extends
                     .as_ref()
                     .and_then(|b| by_id.get(b.value.as_str()))
                     .and_then(|&j| resolved[j].as_ref())
-                    .is_some_and(|b| b.as_ref().is_ok_and(|b| b.toolchain));
+                    .and_then(|b| b.as_ref().ok());
+                let base_has_toolchain = base.is_some_and(|b| b.toolchain);
                 let inherits_true =
                     base_has_toolchain && inherited_flag(i, &unique, &by_id) == Some(true);
                 if let Some(At { value: why, line }) =
-                    toolchain_contradiction(unique[i], inherits_true, &image)
+                    toolchain_contradiction(unique[i], inherits_true, &image, base)
                 {
                     ledger.note(
                         ProblemKind::ToolchainContradiction,
@@ -207,12 +208,17 @@ fn resolve(
                 .copied()
                 .map(Some)
                 .ok_or_else(|| {
-                    // A base named by no name is shown escaped, as its id would be.
-                    let base = match name_problem(&b.value) {
-                        None => format!("`{}`", b.value),
-                        Some(_) => shown_name(&b.value),
+                    // A base named by no name is shown escaped, as its id would be; an image
+                    // declared with that id was left out for it, so it is no missing base.
+                    let message = match name_problem(&b.value) {
+                        None => format!("extends `{}`, which is not declared", b.value),
+                        Some(why) => format!(
+                            "its base {} cannot be built: {}",
+                            shown_name(&b.value),
+                            bad_name_detail("image id", &b.value, why)
+                        ),
                     };
-                    At::new(format!("extends {base}, which is not declared"), b.line)
+                    At::new(message, b.line)
                 }),
         };
         match step {
@@ -251,15 +257,27 @@ fn resolve(
     result
 }
 
-/// The toolchain packages of its family that image `d` removes. A slim image made by
-/// removing the compiler from its base has no compiler, so the base's `toolchain: true` no
-/// longer speaks for it; only its own flag can say it has one by other means.
-fn removed_toolchain(d: &Declared, family: OsFamily) -> Vec<&At<String>> {
+/// The toolchain packages of its family that image `d` drops from its base's packages: by
+/// `remove`, or by giving a `packages` list without them (at the record's line). A slim
+/// image made either way has no compiler, so the base's `toolchain: true` no longer speaks
+/// for it; only its own flag can say it has one by other means.
+fn removed_toolchain(d: &Declared, family: OsFamily, base: Option<&Image>) -> Vec<At<String>> {
     let toolchain_packages = crate::native::toolchain_packages(family);
-    d.remove
+    let mut dropped: Vec<At<String>> = d
+        .remove
         .iter()
         .filter(|r| toolchain_packages.contains(&r.value.as_str()))
-        .collect()
+        .cloned()
+        .collect();
+    if let (Some(given), Some(base)) = (&d.packages, base) {
+        for &p in toolchain_packages {
+            let kept = given.iter().chain(&d.add).any(|g| g == p);
+            if base.system_packages.contains(p) && !kept {
+                dropped.push(At::new(p.to_string(), d.line));
+            }
+        }
+    }
+    dropped
 }
 
 /// The `toolchain` flag image `i` would inherit: the nearest one its bases write. A base that
@@ -280,7 +298,12 @@ fn inherited_flag(i: usize, declared: &[&Declared], by_id: &HashMap<&str, usize>
 /// Why `image`'s toolchain differs from what its file says, if it does (see `build`), at the
 /// line that says otherwise: the packages win over `toolchain: false`, and a removal wins
 /// over an inherited `true`. Both are worth a note, since the file reads otherwise.
-fn toolchain_contradiction(d: &Declared, inherits_true: bool, image: &Image) -> Option<At<String>> {
+fn toolchain_contradiction(
+    d: &Declared,
+    inherits_true: bool,
+    image: &Image,
+    base: Option<&Image>,
+) -> Option<At<String>> {
     if let Some(At { value: false, line }) = d.toolchain
         && image.toolchain
     {
@@ -292,14 +315,18 @@ fn toolchain_contradiction(d: &Declared, inherits_true: bool, image: &Image) -> 
             line,
         ));
     }
-    let removed = removed_toolchain(d, image.family);
+    let removed = removed_toolchain(d, image.family, base);
     let first = removed.first()?;
     (d.toolchain.is_none() && inherits_true && !image.toolchain).then(|| {
         let names: Vec<&str> = removed.iter().map(|r| r.value.as_str()).collect();
         At::new(
             format!(
-                "inherits toolchain: true from `{}` but removes {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
+                "inherits toolchain: true from `{}` but {} {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
                 d.extends.as_ref().map(|e| e.value.as_str()).unwrap_or_default(),
+                match d.remove.iter().any(|r| r.value == first.value) {
+                    true => "removes",
+                    false => "gives a `packages` list without",
+                },
                 names.join(" and ")
             ),
             first.line,
@@ -398,7 +425,7 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
         .map(|t| t.value)
         .or(base
             .map(|b| b.toolchain)
-            .filter(|_| removed_toolchain(d, family).is_empty()))
+            .filter(|_| removed_toolchain(d, family, base).is_empty()))
         .unwrap_or(false)
         || carries_toolchain;
     Ok(Image {
