@@ -2,6 +2,7 @@
 //! records read, used and reported ([`Ledger`]).
 
 use super::bulk::DeferredRows;
+use crate::model::{is_bidi_control, is_invisible_format};
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
@@ -267,6 +268,7 @@ pub fn read_text(path: &Path) -> Result<String, BadInput> {
 /// assert_eq!(name_problem("good\tpkg"), Some("holds white space other than at its ends"));
 /// assert_eq!(name_problem("red\u{1b}[31m"), Some("holds a control character"));
 /// assert_eq!(name_problem("abc\u{202e}fed"), Some("holds a bidirectional text control"));
+/// assert_eq!(name_problem("zw\u{200b}sp"), Some("holds an invisible formatting character"));
 /// assert_eq!(name_problem(""), Some("is empty"));
 /// ```
 pub fn name_problem(name: &str) -> Option<&'static str> {
@@ -284,6 +286,9 @@ pub fn name_problem(name: &str) -> Option<&'static str> {
         if is_bidi_control(c) {
             return Some("holds a bidirectional text control");
         }
+        if is_invisible_format(c) {
+            return Some("holds an invisible formatting character");
+        }
         if c.is_whitespace() {
             return Some("holds white space other than at its ends");
         }
@@ -292,10 +297,6 @@ pub fn name_problem(name: &str) -> Option<&'static str> {
         }
     }
     None
-}
-
-fn is_bidi_control(c: char) -> bool {
-    matches!(c, '\u{061c}' | '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
 }
 
 /// `name` as a report may print it whatever it holds: quoted, with every character
@@ -319,7 +320,7 @@ pub fn shown_name(name: &str) -> String {
             '"' => out.push_str("\\\""),
             '\\' => out.push_str("\\\\"),
             ' ' => out.push(' '),
-            c if c.is_control() || c.is_whitespace() || is_bidi_control(c) => {
+            c if c.is_control() || c.is_whitespace() || is_invisible_format(c) => {
                 out.push_str(&format!("\\u{{{:x}}}", c as u32));
             }
             c => out.push(c),

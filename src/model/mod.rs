@@ -23,6 +23,34 @@ use std::fmt;
 
 use crate::load::diag::Origin;
 
+/// Whether `c` is a bidirectional text control: printed raw it reorders the text after it, so
+/// a name can read backwards.
+pub fn is_bidi_control(c: char) -> bool {
+    matches!(c, '\u{061c}' | '\u{200e}' | '\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+}
+
+/// Whether `c` is an invisible formatting character (Unicode general category Cf: the soft
+/// hyphen, zero-width space and joiners, the word joiner, the byte-order mark, tag
+/// characters, bidirectional controls among them): it shows nothing, so two names that
+/// differ only by one look alike. The list is Unicode 15's, which `tests/names.rs` checks
+/// against Python's `unicodedata` on this machine.
+///
+/// ```
+/// use basefit::model::is_invisible_format;
+/// assert!(is_invisible_format('\u{200b}')); // zero-width space
+/// assert!(is_invisible_format('\u{feff}')); // byte-order mark
+/// assert!(!is_invisible_format('a') && !is_invisible_format('\t'));
+/// ```
+pub fn is_invisible_format(c: char) -> bool {
+    matches!(c,
+        '\u{ad}' | '\u{600}'..='\u{605}' | '\u{61c}' | '\u{6dd}' | '\u{70f}'
+        | '\u{890}'..='\u{891}' | '\u{8e2}' | '\u{180e}' | '\u{200b}'..='\u{200f}'
+        | '\u{202a}'..='\u{202e}' | '\u{2060}'..='\u{2064}' | '\u{2066}'..='\u{206f}'
+        | '\u{feff}' | '\u{fff9}'..='\u{fffb}' | '\u{110bd}' | '\u{110cd}'
+        | '\u{13430}'..='\u{1343f}' | '\u{1bca0}'..='\u{1bca3}' | '\u{1d173}'..='\u{1d17a}'
+        | '\u{e0001}' | '\u{e0020}'..='\u{e007f}')
+}
+
 /// The OS families basefit knows system-package names for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "lowercase")]

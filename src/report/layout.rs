@@ -233,7 +233,8 @@ pub(crate) fn reason(cell: &Cell) -> String {
 }
 
 /// Folds line breaks and other control characters into single spaces, and replaces
-/// bidirectional formatting characters, which could make a row read as something it is not.
+/// invisible formatting characters (bidirectional controls among them), which could make a
+/// row read as something it is not.
 pub(crate) fn one_line(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     let mut space = false;
@@ -246,7 +247,7 @@ pub(crate) fn one_line(s: &str) -> String {
             continue;
         }
         space = false;
-        if is_bidi_control(ch) {
+        if is_invisible_format(ch) {
             out.push('\u{FFFD}');
         } else {
             out.push(ch);
@@ -258,11 +259,12 @@ pub(crate) fn one_line(s: &str) -> String {
     out
 }
 
-/// Text for a terminal with every control character but the line break, and every
-/// bidirectional formatting character, written out as an escape. Registry names, summaries
-/// and log lines come from outside: raw, an escape sequence in one could clear the screen or
-/// hide the lines after it, a tab make two names look alike, and a right-to-left override
-/// make a name read backwards.
+/// Text for a terminal with every control character but the line break, and every invisible
+/// formatting character ([`crate::model::is_invisible_format`]), written out as an escape.
+/// Registry summaries and log lines come from outside (names with such characters are left
+/// out at load): raw, an escape sequence in one could clear the screen or hide the lines
+/// after it, a zero-width space make two words look alike, and a right-to-left override
+/// make text read backwards.
 ///
 /// ```
 /// use basefit::report::visible;
@@ -274,7 +276,7 @@ pub(crate) fn one_line(s: &str) -> String {
 pub fn visible(s: &str) -> std::borrow::Cow<'_, str> {
     let hidden = |ch: char| {
         (ch.is_control() && ch != '\n')
-            || is_bidi_control(ch)
+            || is_invisible_format(ch)
             || matches!(ch, '\u{2028}' | '\u{2029}')
     };
     if !s.chars().any(hidden) {
@@ -295,9 +297,7 @@ pub fn visible(s: &str) -> std::borrow::Cow<'_, str> {
     std::borrow::Cow::Owned(out)
 }
 
-fn is_bidi_control(ch: char) -> bool {
-    matches!(ch, '\u{200E}' | '\u{200F}' | '\u{061C}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}')
-}
+use crate::model::is_invisible_format;
 
 /// A share as a whole percentage, the same on every machine; `n/a` when undefined.
 pub(crate) fn percent(share: Option<f64>) -> String {
