@@ -1778,3 +1778,44 @@ fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
         "{stderr}"
     );
 }
+
+/// An empty `log_file` used to be reported as `log file : No such file or directory` (or as
+/// the results file's folder not being a regular file): the file system's answer about an
+/// empty path, which does not say the field is empty. Kept, like any unreadable log, as a
+/// `missing-log` at its line.
+#[test]
+fn an_empty_log_file_is_reported_as_empty() {
+    let d = dir();
+    let yaml = write(
+        d.path(),
+        "r.yaml",
+        concat!(
+            "results:\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: failed\n",
+            "    log_file: \"\"\n",
+        )
+        .as_bytes(),
+    );
+    let jsonl = write(
+        d.path(),
+        "r.jsonl",
+        b"{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\",\"log_file\":\"\"}\n",
+    );
+    for (path, line) in [(&yaml, "r.yaml:5"), (&jsonl, "r.jsonl:1")] {
+        let (code, stdout, stderr) = check_with(d.path(), &[("--results", path)]);
+        assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{line}  fernwood on plain: `log_file` is empty; expected the path of a log file \
+             under the results file's folder"
+        );
+        assert!(stdout.contains(&want), "wanted {want} in {stdout}");
+        assert!(!stdout.contains("No such file"), "{stdout}");
+        assert_eq!(
+            record_counts(&stdout, "recorded results"),
+            ["1", "1", "0"],
+            "{stdout}"
+        );
+    }
+}
