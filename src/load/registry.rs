@@ -5,6 +5,7 @@ use super::diag::{
     read_text, shown_name,
 };
 use super::lenient::{VersionRead, read_version};
+use crate::solve::image::admits_some_runtime;
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate, ReqId,
@@ -50,6 +51,9 @@ pub struct RegistryBuilder {
     /// Versions read from the bulk format have none: [`RegistryBuilder::finish_unplaced`]
     /// lists their problems for the bulk reader to place on request.
     dep_lines: FxHashMap<ReleaseKey, Box<[DepLines]>>,
+    /// Per requirement id, whether some runtime version meets it, once asked: a bulk dump
+    /// repeats a few runtime requirements over millions of versions.
+    admits_runtime: Vec<Option<bool>>,
 }
 
 /// A problem about a dependency that the registry-wide checks could only report at its
@@ -203,6 +207,7 @@ impl RegistryBuilder {
             registry: Registry::new(),
             ledger: Ledger::default(),
             dep_lines: FxHashMap::default(),
+            admits_runtime: Vec::new(),
         }
     }
 
@@ -401,7 +406,30 @@ impl RegistryBuilder {
         let runtime = match fields.runtime {
             None => None,
             Some(At { value: text, line }) => match self.registry.intern_requirement(text) {
-                Ok(id) => Some(id),
+                Ok(id) => {
+                    // Kept: it is what the registry says. But every cell would blame the
+                    // image's runtime for it, which no image can change.
+                    let slot = id.0 as usize;
+                    if self.admits_runtime.len() <= slot {
+                        self.admits_runtime.resize(slot + 1, None);
+                    }
+                    let req = self.registry.requirement(id);
+                    let admits =
+                        *self.admits_runtime[slot].get_or_insert_with(|| admits_some_runtime(req));
+                    if !admits {
+                        let detail = format!(
+                            "runtime requirement `{req}` admits no runtime version, so no image \
+                             can install this release"
+                        );
+                        self.ledger.note(
+                            ProblemKind::UnsatisfiableRuntime,
+                            origin(line),
+                            subject(&self.registry),
+                            detail,
+                        );
+                    }
+                    Some(id)
+                }
                 Err(why) => {
                     self.ledger.leave_out(
                         RecordKind::Version,
