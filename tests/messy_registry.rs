@@ -308,9 +308,16 @@ fn runtime_requirements_no_runtime_meets_are_noted_and_kept() {
             (file.to_string(), lines[1], "heron@2.0.0".to_string(), false),
         ]
     };
-    assert_eq!(noted(&ledger), want("rt.yaml", [5, 7]), "{:?}", ledger.problems);
+    assert_eq!(
+        noted(&ledger),
+        want("rt.yaml", [5, 7]),
+        "{:?}",
+        ledger.problems
+    );
     assert!(
-        ledger.problems[0].detail.contains("`<0.0.0` admits no runtime version"),
+        ledger.problems[0]
+            .detail
+            .contains("`<0.0.0` admits no runtime version"),
         "{:?}",
         ledger.problems
     );
@@ -333,6 +340,11 @@ fn runtime_requirements_no_runtime_meets_are_noted_and_kept() {
     .unwrap();
     std::fs::write(&d, "package,version,dependency\n").unwrap();
     let (registry, ledger) = read_bulk(&v, &d).unwrap();
-    assert_eq!(noted(&ledger), want("v.csv", [2, 3]), "{:?}", ledger.problems);
+    assert_eq!(
+        noted(&ledger),
+        want("v.csv", [2, 3]),
+        "{:?}",
+        ledger.problems
+    );
     assert_eq!(registry.packages[0].releases.len(), 4);
 }

@@ -5,11 +5,11 @@ use super::diag::{
     read_text, shown_name,
 };
 use super::lenient::{VersionRead, read_version};
-use crate::solve::image::admits_some_runtime;
 use super::yaml::{self, Ctx, Node};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate, ReqId,
 };
+use crate::solve::image::admits_some_runtime;
 use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 use std::path::Path;
@@ -376,11 +376,12 @@ impl RegistryBuilder {
                 (v, Some(written.value.into()))
             }
             VersionRead::Refused(why) => {
-                self.ledger.leave_out(
-                    RecordKind::Version,
+                let subject = format!("{}@{}", self.registry.name(package), written.value);
+                self.leave_out_release(
+                    package,
                     ProblemKind::UnreadableVersion,
                     origin(written.line),
-                    format!("{}@{}", self.registry.name(package), written.value),
+                    subject,
                     why,
                 );
                 return None;
@@ -431,11 +432,12 @@ impl RegistryBuilder {
                     Some(id)
                 }
                 Err(why) => {
-                    self.ledger.leave_out(
-                        RecordKind::Version,
+                    let subject = subject(&self.registry);
+                    self.leave_out_release(
+                        package,
                         ProblemKind::UnreadableRequirement,
                         origin(line),
-                        subject(&self.registry),
+                        subject,
                         format!("runtime requirement {why}"),
                     );
                     return None;
@@ -443,13 +445,8 @@ impl RegistryBuilder {
             },
         };
         if let Some(At { value: why, line }) = fields.bad_value {
-            self.ledger.leave_out(
-                RecordKind::Version,
-                ProblemKind::BadValue,
-                origin(line),
-                subject(&self.registry),
-                why,
-            );
+            let subject = subject(&self.registry);
+            self.leave_out_release(package, ProblemKind::BadValue, origin(line), subject, why);
             return None;
         }
         Some(StagedRelease {
@@ -501,18 +498,28 @@ impl RegistryBuilder {
         bad: BadDependency<'_>,
     ) {
         let subject = format!("{}@{version}", self.registry.name(package));
-        self.ledger.leave_out(
-            RecordKind::Version,
-            bad.kind,
-            Origin {
-                file: bad.file.to_string(),
-                line: bad.line,
-            },
-            subject,
-            bad.detail,
-        );
+        let origin = Origin {
+            file: bad.file.to_string(),
+            line: bad.line,
+        };
+        self.leave_out_release(package, bad.kind, origin, subject, bad.detail);
         self.ledger
             .left_out_with_owner(RecordKind::Dependency, dep_count);
+    }
+
+    /// Leaves a version record of `package` out for `kind`, and counts it on the package.
+    fn leave_out_release(
+        &mut self,
+        package: PackageId,
+        kind: ProblemKind,
+        origin: Origin,
+        subject: String,
+        detail: impl Into<String>,
+    ) {
+        self.ledger
+            .leave_out(RecordKind::Version, kind, origin, subject, detail);
+        let pkg = self.registry.package_mut(package);
+        pkg.left_out_releases = pkg.left_out_releases.saturating_add(1);
     }
 
     /// Leaves out a package record whose name [`name_problem`] refuses (for `why`), with its
@@ -574,6 +581,7 @@ impl RegistryBuilder {
                     match kept.last() {
                         Some(prev) if prev.version == r.version => {
                             deps_dropped += r.deps.len() as u64;
+                            pkg.left_out_releases = pkg.left_out_releases.saturating_add(1);
                             ledger.leave_out(
                                 RecordKind::Version,
                                 ProblemKind::DuplicateVersion,
