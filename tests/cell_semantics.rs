@@ -853,3 +853,35 @@ fn a_package_whose_versions_were_all_left_out_has_no_usable_version() {
     let bunting = registry.id("bunting").unwrap();
     assert_eq!(registry.package(bunting).left_out_releases, 1);
 }
+
+/// The count of left-out records is in the explanation, so a re-plan must not reuse a cell
+/// whose explanation names it once the count changed: the warm cache equals the cold one.
+#[test]
+fn a_replan_notices_a_changed_count_of_left_out_records() {
+    use basefit::plan::replan::replan;
+    use basefit::report::to_json;
+    let before = r#"packages:
+  - name: avocet
+    versions: [{version: "1.0.0", depends: [{name: bunting, req: "^1"}]}]
+  - name: bunting
+    versions: [{version: banana}]
+"#;
+    let after = r#"packages:
+  - name: avocet
+    versions: [{version: "1.0.0", depends: [{name: bunting, req: "^1"}]}]
+  - name: bunting
+    versions: [{version: banana}, {version: cherry}]
+"#;
+    let priorities = "priorities: [avocet, bunting]\n";
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&inputs(before, priorities), &options, None, None);
+    let after = inputs(after, priorities);
+    let (warm, _) = replan(&after, &options, Some(cache), None);
+    let (cold, _) = replan(&after, &options, None, None);
+    let (warm, cold) = (to_json(&warm.matrix), to_json(&cold.matrix));
+    assert!(
+        cold.contains("its 2 version records were left out"),
+        "{cold}"
+    );
+    assert!(warm == cold, "warm:\n{warm}\ncold:\n{cold}");
+}
