@@ -798,3 +798,90 @@ fn the_release_hint_does_not_call_a_release_beside_yanked_ones_the_only_one() {
         "{numbat}"
     );
 }
+
+/// A package whose every version record was left out (here `version: banana`) was explained
+/// as having "no published version matching the requirement", though the snapshot did
+/// publish one: it could not be read. Both as the entry and as a dependency the cell now says
+/// so and points at `check`; the cause stays dependency-conflict (no other fits better: the
+/// name is in the registry, and nothing about the image is at fault). The YAML and bulk
+/// loaders count the records alike.
+#[test]
+fn a_package_whose_versions_were_all_left_out_has_no_usable_version() {
+    let registry = r#"packages:
+  - name: avocet
+    versions: [{version: "1.0.0", depends: [{name: bunting, req: "^1"}]}]
+  - name: bunting
+    versions: [{version: banana}, {version: "1.0.0", runtime: "oops"}]
+"#;
+    let inputs = inputs(registry, "priorities: [avocet, bunting]\n");
+    let options = PlanOptions::default();
+    let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
+    let why = "has no usable version: its 2 version records were left out as unusable (see \
+               `basefit check`)";
+
+    let avocet = cell("avocet");
+    assert_eq!(avocet.cause, Some(Cause::DependencyConflict));
+    assert!(
+        avocet.explanation.contains(&format!("bunting {why}")),
+        "{:?}",
+        avocet.explanation
+    );
+    let reasons: Vec<&str> = avocet.blockers.iter().map(|b| b.reason.as_str()).collect();
+    assert_eq!(reasons, [format!("bunting (wanted ^1) {why}")]);
+
+    let bunting = cell("bunting");
+    assert_eq!(bunting.cause, Some(Cause::DependencyConflict));
+    assert_eq!(
+        bunting.explanation,
+        [
+            "the entry asks for bunting (no usable version)".to_string(),
+            format!("bunting {why}"),
+            "so bunting cannot be installed on deb".to_string(),
+        ]
+    );
+
+    // The same dump in the bulk format: one unreadable version row.
+    let dir = tempfile::tempdir().unwrap();
+    let (v, d) = (dir.path().join("v.csv"), dir.path().join("d.csv"));
+    std::fs::write(&v, "package,version\navocet,1.0.0\nbunting,banana\n").unwrap();
+    std::fs::write(
+        &d,
+        "package,version,dependency,req\navocet,1.0.0,bunting,^1\n",
+    )
+    .unwrap();
+    let (registry, _) = basefit::load::bulk::read_bulk(&v, &d).unwrap();
+    let bunting = registry.id("bunting").unwrap();
+    assert_eq!(registry.package(bunting).left_out_releases, 1);
+}
+
+/// The count of left-out records is in the explanation, so a re-plan must not reuse a cell
+/// whose explanation names it once the count changed: the warm cache equals the cold one.
+#[test]
+fn a_replan_notices_a_changed_count_of_left_out_records() {
+    use basefit::plan::replan::replan;
+    use basefit::report::to_json;
+    let before = r#"packages:
+  - name: avocet
+    versions: [{version: "1.0.0", depends: [{name: bunting, req: "^1"}]}]
+  - name: bunting
+    versions: [{version: banana}]
+"#;
+    let after = r#"packages:
+  - name: avocet
+    versions: [{version: "1.0.0", depends: [{name: bunting, req: "^1"}]}]
+  - name: bunting
+    versions: [{version: banana}, {version: cherry}]
+"#;
+    let priorities = "priorities: [avocet, bunting]\n";
+    let options = PlanOptions::default();
+    let (cache, _) = replan(&inputs(before, priorities), &options, None, None);
+    let after = inputs(after, priorities);
+    let (warm, _) = replan(&after, &options, Some(cache), None);
+    let (cold, _) = replan(&after, &options, None, None);
+    let (warm, cold) = (to_json(&warm.matrix), to_json(&cold.matrix));
+    assert!(
+        cold.contains("its 2 version records were left out"),
+        "{cold}"
+    );
+    assert!(warm == cold, "warm:\n{warm}\ncold:\n{cold}");
+}

@@ -1806,3 +1806,103 @@ fn an_image_on_a_base_left_out_for_its_id_names_why() {
     );
     assert!(!report.contains("not declared"), "{report}");
 }
+
+/// An empty `log_file` used to be reported as `log file : No such file or directory` (or as
+/// the results file's folder not being a regular file): the file system's answer about an
+/// empty path, which does not say the field is empty. Kept, like any unreadable log, as a
+/// `missing-log` at its line.
+#[test]
+fn an_empty_log_file_is_reported_as_empty() {
+    let d = dir();
+    let yaml = write(
+        d.path(),
+        "r.yaml",
+        concat!(
+            "results:\n",
+            "  - package: fernwood\n",
+            "    image: plain\n",
+            "    outcome: failed\n",
+            "    log_file: \"\"\n",
+        )
+        .as_bytes(),
+    );
+    let jsonl = write(
+        d.path(),
+        "r.jsonl",
+        b"{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\",\"log_file\":\"\"}\n",
+    );
+    for (path, line) in [(&yaml, "r.yaml:5"), (&jsonl, "r.jsonl:1")] {
+        let (code, stdout, stderr) = check_with(d.path(), &[("--results", path)]);
+        assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
+        let want = format!(
+            "{line}  fernwood on plain: `log_file` is empty; expected the path of a log file \
+             under the results file's folder"
+        );
+        assert!(stdout.contains(&want), "wanted {want} in {stdout}");
+        assert!(!stdout.contains("No such file"), "{stdout}");
+        assert_eq!(
+            record_counts(&stdout, "recorded results"),
+            ["1", "1", "0"],
+            "{stdout}"
+        );
+    }
+}
+
+/// A quoted number or boolean is text to YAML, and a plain `<<` is a merge key yaml-rust2
+/// does not apply. The messages used to be "found a scalar" and "unknown field `<<`", neither
+/// of which says what to change; they now name the quoted text and what to write instead.
+#[test]
+fn quoted_values_and_merge_keys_say_what_to_write() {
+    let d = dir();
+    let cases: [(&str, &str, &str, &str); 5] = [
+        (
+            "--priorities",
+            "p.yaml",
+            "priorities:\n  - name: fernwood\n    weight: \"5\"\n",
+            "p.yaml:3: priority entry `weight`: expected a number, found the quoted text \
+             `\"5\"`; remove the quotes to write a number",
+        ),
+        (
+            "--priorities",
+            "p-text.yaml",
+            "priorities:\n  - {name: fernwood, weight: \"heavy\"}\n",
+            "p-text.yaml:2: priority entry `weight`: expected a number, found the quoted text \
+             `\"heavy\"`",
+        ),
+        (
+            "--registry",
+            "reg.yaml",
+            "packages:\n  - name: fernwood\n    versions:\n      - version: 1.0.0\n        yanked: \"true\"\n",
+            "reg.yaml:5: version record `yanked`: expected true or false, found the quoted \
+             text `\"true\"`; remove the quotes to write true or false",
+        ),
+        (
+            "--images",
+            "img.yaml",
+            concat!(
+                "images:\n",
+                "  - &base {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+                "  - <<: *base\n",
+                "    id: plain-2\n",
+            ),
+            "img.yaml:3: image: YAML merge keys (`<<: *anchor`) are not supported; write the \
+             fields out",
+        ),
+        (
+            // Quoted, `<<` is an ordinary (unknown) key, not a merge key.
+            "--images",
+            "img-quoted.yaml",
+            concat!(
+                "images:\n",
+                "  - {\"<<\": x, id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            ),
+            "img-quoted.yaml:2: image: unknown field `<<`",
+        ),
+    ];
+    for (flag, name, text, want) in cases {
+        let path = write(d.path(), name, text.as_bytes());
+        let (code, stdout, stderr) = check_with(d.path(), &[(flag, &path)]);
+        assert_eq!(code, 2, "{name}: stdout {stdout} stderr {stderr}");
+        assert!(stderr.contains(want), "{name}: wanted {want} in {stderr}");
+    }
+}

@@ -255,3 +255,96 @@ fn an_empty_native_library_name_leaves_out_its_version() {
         .collect();
     assert_eq!(versions, ["1.0.0"]);
 }
+
+/// A runtime requirement no runtime version meets (`<0.0.0`, `>=5, <4`) used to be taken
+/// without a word, and every cell of the release then blamed the image's runtime ("needs a
+/// newer runtime"), which no image can fix. It is noted at the requirement's line
+/// (`unsatisfiable-runtime`) and the release kept, as the registry publishes it; the YAML and
+/// the bulk CSV loaders report it alike. A requirement with one alternative some runtime
+/// meets is not reported.
+#[test]
+fn runtime_requirements_no_runtime_meets_are_noted_and_kept() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::bulk::read_bulk;
+    use basefit::load::diag::Ledger;
+    use basefit::load::registry::read_yaml_str;
+    fn noted(ledger: &Ledger) -> Vec<(String, usize, String, bool)> {
+        ledger
+            .problems
+            .iter()
+            .filter(|p| p.kind == ProblemKind::UnsatisfiableRuntime)
+            .map(|p| {
+                let file = Path::new(&p.origin.file).file_name().unwrap();
+                (
+                    file.to_string_lossy().into_owned(),
+                    p.origin.line,
+                    p.subject.clone(),
+                    p.left_out,
+                )
+            })
+            .collect()
+    }
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "rt.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: heron\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        runtime: \"<0.0.0\"\n",
+            "      - version: 2.0.0\n",
+            "        runtime: \">=5, <4\"\n",
+            "      - {version: 3.0.0, runtime: \">=5, <4 || >=1\"}\n",
+            "      - {version: 4.0.0, runtime: \">3.1\"}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    let want = |file: &str, lines: [usize; 2]| {
+        vec![
+            (file.to_string(), lines[0], "heron@1.0.0".to_string(), false),
+            (file.to_string(), lines[1], "heron@2.0.0".to_string(), false),
+        ]
+    };
+    assert_eq!(
+        noted(&ledger),
+        want("rt.yaml", [5, 7]),
+        "{:?}",
+        ledger.problems
+    );
+    assert!(
+        ledger.problems[0]
+            .detail
+            .contains("`<0.0.0` admits no runtime version"),
+        "{:?}",
+        ledger.problems
+    );
+    assert_eq!(registry.packages[0].releases.len(), 4);
+    let versions = ledger.tally(RecordKind::Version);
+    assert_eq!((versions.read, versions.used, versions.left_out), (4, 4, 0));
+
+    let dir = tempfile::tempdir().unwrap();
+    let (v, d) = (dir.path().join("v.csv"), dir.path().join("d.csv"));
+    std::fs::write(
+        &v,
+        concat!(
+            "package,version,runtime\n",
+            "heron,1.0.0,<0.0.0\n",
+            "heron,2.0.0,\">=5, <4\"\n",
+            "heron,3.0.0,\">=5, <4 || >=1\"\n",
+            "heron,4.0.0,>3.1\n",
+        ),
+    )
+    .unwrap();
+    std::fs::write(&d, "package,version,dependency\n").unwrap();
+    let (registry, ledger) = read_bulk(&v, &d).unwrap();
+    assert_eq!(
+        noted(&ledger),
+        want("v.csv", [2, 3]),
+        "{:?}",
+        ledger.problems
+    );
+    assert_eq!(registry.packages[0].releases.len(), 4);
+}

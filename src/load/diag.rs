@@ -446,6 +446,9 @@ pub enum ProblemKind {
     SamePrecedence,
     /// A dependency requirement that no published version of the target satisfies.
     UnsatisfiableRequirement,
+    /// A release whose runtime requirement no runtime version meets (`<0.0.0`, `>=5, <4`); kept,
+    /// as the registry publishes it, though no image can install it.
+    UnsatisfiableRuntime,
     /// A package all of whose versions are yanked.
     NoInstallableVersion,
     /// A package with no version records at all.
@@ -494,6 +497,9 @@ impl ProblemKind {
             }
             ProblemKind::UnsatisfiableRequirement => {
                 "dependency requirements no published version satisfies"
+            }
+            ProblemKind::UnsatisfiableRuntime => {
+                "runtime requirements no runtime version meets (release kept; no image can install it)"
             }
             ProblemKind::NoInstallableVersion => {
                 "packages with no installable version (all yanked)"

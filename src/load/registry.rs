@@ -9,6 +9,7 @@ use super::yaml::{self, Ctx, Node};
 use crate::model::{
     Build, Dep, DepKind, NativeHints, PackageId, Platform, Registry, Release, ReleaseDate, ReqId,
 };
+use crate::solve::image::admits_some_runtime;
 use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 use std::path::Path;
@@ -50,6 +51,9 @@ pub struct RegistryBuilder {
     /// Versions read from the bulk format have none: [`RegistryBuilder::finish_unplaced`]
     /// lists their problems for the bulk reader to place on request.
     dep_lines: FxHashMap<ReleaseKey, Box<[DepLines]>>,
+    /// Per requirement id, whether some runtime version meets it, once asked: a bulk dump
+    /// repeats a few runtime requirements over millions of versions.
+    admits_runtime: Vec<Option<bool>>,
 }
 
 /// A problem about a dependency that the registry-wide checks could only report at its
@@ -203,6 +207,7 @@ impl RegistryBuilder {
             registry: Registry::new(),
             ledger: Ledger::default(),
             dep_lines: FxHashMap::default(),
+            admits_runtime: Vec::new(),
         }
     }
 
@@ -371,11 +376,12 @@ impl RegistryBuilder {
                 (v, Some(written.value.into()))
             }
             VersionRead::Refused(why) => {
-                self.ledger.leave_out(
-                    RecordKind::Version,
+                let subject = format!("{}@{}", self.registry.name(package), written.value);
+                self.leave_out_release(
+                    package,
                     ProblemKind::UnreadableVersion,
                     origin(written.line),
-                    format!("{}@{}", self.registry.name(package), written.value),
+                    subject,
                     why,
                 );
                 return None;
@@ -401,13 +407,37 @@ impl RegistryBuilder {
         let runtime = match fields.runtime {
             None => None,
             Some(At { value: text, line }) => match self.registry.intern_requirement(text) {
-                Ok(id) => Some(id),
+                Ok(id) => {
+                    // Kept: it is what the registry says. But every cell would blame the
+                    // image's runtime for it, which no image can change.
+                    let slot = id.0 as usize;
+                    if self.admits_runtime.len() <= slot {
+                        self.admits_runtime.resize(slot + 1, None);
+                    }
+                    let req = self.registry.requirement(id);
+                    let admits =
+                        *self.admits_runtime[slot].get_or_insert_with(|| admits_some_runtime(req));
+                    if !admits {
+                        let detail = format!(
+                            "runtime requirement `{req}` admits no runtime version, so no image \
+                             can install this release"
+                        );
+                        self.ledger.note(
+                            ProblemKind::UnsatisfiableRuntime,
+                            origin(line),
+                            subject(&self.registry),
+                            detail,
+                        );
+                    }
+                    Some(id)
+                }
                 Err(why) => {
-                    self.ledger.leave_out(
-                        RecordKind::Version,
+                    let subject = subject(&self.registry);
+                    self.leave_out_release(
+                        package,
                         ProblemKind::UnreadableRequirement,
                         origin(line),
-                        subject(&self.registry),
+                        subject,
                         format!("runtime requirement {why}"),
                     );
                     return None;
@@ -415,13 +445,8 @@ impl RegistryBuilder {
             },
         };
         if let Some(At { value: why, line }) = fields.bad_value {
-            self.ledger.leave_out(
-                RecordKind::Version,
-                ProblemKind::BadValue,
-                origin(line),
-                subject(&self.registry),
-                why,
-            );
+            let subject = subject(&self.registry);
+            self.leave_out_release(package, ProblemKind::BadValue, origin(line), subject, why);
             return None;
         }
         Some(StagedRelease {
@@ -473,18 +498,28 @@ impl RegistryBuilder {
         bad: BadDependency<'_>,
     ) {
         let subject = format!("{}@{version}", self.registry.name(package));
-        self.ledger.leave_out(
-            RecordKind::Version,
-            bad.kind,
-            Origin {
-                file: bad.file.to_string(),
-                line: bad.line,
-            },
-            subject,
-            bad.detail,
-        );
+        let origin = Origin {
+            file: bad.file.to_string(),
+            line: bad.line,
+        };
+        self.leave_out_release(package, bad.kind, origin, subject, bad.detail);
         self.ledger
             .left_out_with_owner(RecordKind::Dependency, dep_count);
+    }
+
+    /// Leaves a version record of `package` out for `kind`, and counts it on the package.
+    fn leave_out_release(
+        &mut self,
+        package: PackageId,
+        kind: ProblemKind,
+        origin: Origin,
+        subject: String,
+        detail: impl Into<String>,
+    ) {
+        self.ledger
+            .leave_out(RecordKind::Version, kind, origin, subject, detail);
+        let pkg = self.registry.package_mut(package);
+        pkg.left_out_releases = pkg.left_out_releases.saturating_add(1);
     }
 
     /// Leaves out a package record whose name [`name_problem`] refuses (for `why`), with its
@@ -546,6 +581,7 @@ impl RegistryBuilder {
                     match kept.last() {
                         Some(prev) if prev.version == r.version => {
                             deps_dropped += r.deps.len() as u64;
+                            pkg.left_out_releases = pkg.left_out_releases.saturating_add(1);
                             ledger.leave_out(
                                 RecordKind::Version,
                                 ProblemKind::DuplicateVersion,

@@ -392,7 +392,13 @@ fn assemble(
                     if let Some(inline) = &log {
                         log_inline_lines = inline.matches('\n').count() + 1;
                     }
-                    let detail = format!("log file {}: {why}", full.display());
+                    // An empty path would name the folder itself (or nothing), and the
+                    // file system's answer about that would not say what is wrong.
+                    let detail = if path.is_empty() {
+                        why
+                    } else {
+                        format!("log file {}: {why}", full.display())
+                    };
                     ledger.note(
                         ProblemKind::MissingLog,
                         at(*line),
@@ -435,6 +441,13 @@ struct LogTail {
 /// their first whole line or segment, as the classifier's own window does.
 fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, String> {
     const UNDER: &str = "the log must lie under the results file's folder";
+    if written.is_empty() {
+        return Err(
+            "`log_file` is empty; expected the path of a log file under the results file's \
+             folder"
+                .to_string(),
+        );
+    }
     let path = Path::new(written);
     // Checked on the text before the file system is asked anything about such a path.
     let mut depth = 0usize;

@@ -294,11 +294,16 @@ impl<'a> Ctx<'a> {
 
     pub fn bool(&self, node: &Node, what: &str) -> Result<bool, BadInput> {
         match &node.value {
-            Value::Scalar(s, false) => match s.as_str() {
-                "true" | "True" | "TRUE" | "yes" => Ok(true),
-                "false" | "False" | "FALSE" | "no" => Ok(false),
-                _ => Err(self.err(node, format!("{what}: expected true or false, found `{s}`"))),
-            },
+            Value::Scalar(s, false) => plain_bool(s).ok_or_else(|| {
+                self.err(node, format!("{what}: expected true or false, found `{s}`"))
+            }),
+            Value::Scalar(s, true) => Err(self.err(
+                node,
+                format!(
+                    "{what}: expected true or false, found {}",
+                    quoted_found(s, plain_bool(s).is_some(), "true or false")
+                ),
+            )),
             _ => Err(self.err(
                 node,
                 format!("{what}: expected true or false, found {}", node.type_name()),
@@ -313,6 +318,16 @@ impl<'a> Ctx<'a> {
                 .ok()
                 .filter(|v| v.is_finite())
                 .ok_or_else(|| self.err(node, format!("{what}: expected a number, found `{s}`"))),
+            Value::Scalar(s, true) => {
+                let number = s.trim().parse::<f64>().is_ok_and(f64::is_finite);
+                Err(self.err(
+                    node,
+                    format!(
+                        "{what}: expected a number, found {}",
+                        quoted_found(s, number, "a number")
+                    ),
+                ))
+            }
             _ => Err(self.err(
                 node,
                 format!("{what}: expected a number, found {}", node.type_name()),
@@ -370,6 +385,18 @@ impl<'a> Ctx<'a> {
                         Value::Scalar(s, _) => s.as_str(),
                         _ => return Err(self.err(k, format!("{what}: keys must be text"))),
                     };
+                    // A plain `<<` is YAML 1.1's merge key; yaml-rust2 reads it as an
+                    // ordinary key, so "unknown field `<<`" would send the writer looking for
+                    // a field of that name.
+                    if matches!(&k.value, Value::Scalar(s, false) if s == "<<") {
+                        return Err(self.err(
+                            k,
+                            format!(
+                                "{what}: YAML merge keys (`<<: *anchor`) are not supported; \
+                                 write the fields out"
+                            ),
+                        ));
+                    }
                     if !known.contains(&key) {
                         let hint = closest(key, known)
                             .map(|c| format!("; did you mean `{c}`?"))
@@ -393,6 +420,26 @@ impl<'a> Ctx<'a> {
                 format!("{what}: expected a mapping, found {}", node.type_name()),
             )),
         }
+    }
+}
+
+/// The booleans an unquoted scalar may spell.
+fn plain_bool(text: &str) -> Option<bool> {
+    match text {
+        "true" | "True" | "TRUE" | "yes" => Some(true),
+        "false" | "False" | "FALSE" | "no" => Some(false),
+        _ => None,
+    }
+}
+
+/// How a quoted scalar found where a number or a boolean was expected is named. Quoting
+/// makes any scalar text, so `"5"` is not the number 5; the writer most likely meant the
+/// value itself, and "found a scalar" would not say what to change.
+fn quoted_found(text: &str, meant: bool, expected: &str) -> String {
+    if meant {
+        format!("the quoted text `{text:?}`; remove the quotes to write {expected}")
+    } else {
+        format!("the quoted text `{text:?}`")
     }
 }
 

@@ -213,6 +213,10 @@ pub struct Package {
     pub releases: Vec<Release>,
     /// False for names that only appear as dependencies.
     pub declared: bool,
+    /// Version records of this package the loader left out (unreadable, unusable or
+    /// repeated). A package without releases whose snapshot did publish some is explained
+    /// as having none usable, not none published.
+    pub left_out_releases: u32,
     /// Index into [`Registry::files`] and line of the package record.
     pub file: u16,
     pub line: u32,
@@ -309,6 +313,7 @@ impl Registry {
             native_helper: false,
             releases: Vec::new(),
             declared: false,
+            left_out_releases: 0,
             file: 0,
             line: 0,
         });

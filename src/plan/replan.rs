@@ -10,7 +10,8 @@
 //! releases up to the newest one that suits the image count as candidates for priorities).
 //! A re-plan rechecks exactly those. A yank, a new runtime requirement or a changed
 //! dependency list of a release the solve never weighed leaves the cell valid. What the
-//! cell's output reads of a package besides (its versions, summary and flags, the native
+//! cell's output reads of a package besides (its versions, summary and flags, the number of
+//! version records left out of a package left without releases, the native
 //! hints of picked releases) is fingerprinted, and a failure's explanation, which reads
 //! refusal reasons and the requirements of releases never picked, keeps the packages it
 //! names, and those its choice of cause walks (the dependencies of root releases the image
@@ -54,7 +55,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 17;
+pub const CACHE_FORMAT: u32 = 18;
 
 /// What precedes the seal at the end of a cache file ([`PlanCache::to_sealed_json`]).
 const SEAL_KEY: &str = ",\"seal\":\"";
@@ -108,7 +109,8 @@ impl fmt::Write for Fnv {
 struct Prints {
     /// Everything that can change a solve, its explanation or its native assessment.
     whole: u64,
-    /// What a cell reads of the package itself: its name, summary and flags.
+    /// What a cell reads of the package itself: its name, summary and flags, and, for a
+    /// package left without releases, how many of its version records were left out.
     own: u64,
     /// Its list of versions, which gives release indices their meaning.
     versions: u64,
@@ -126,7 +128,14 @@ impl Prints {
             .flag(p.declared)
             .str(p.summary.as_deref().unwrap_or(""))
             .flag(p.summary.is_some())
-            .flag(p.native_helper);
+            .flag(p.native_helper)
+            // Only a package without releases has the count in a failure's explanation; a
+            // record newly left out beside usable releases must not send cells to the solver.
+            .number(if p.releases.is_empty() {
+                u64::from(p.left_out_releases)
+            } else {
+                0
+            });
         let releases: Box<[u64]> = p
             .releases
             .iter()

@@ -295,6 +295,14 @@ pub(crate) fn unusable(
                 "has only yanked or pre-release versions".into(),
             );
         }
+        // The snapshot did publish versions, but none could be read: "no published version"
+        // would send the reader to the registry rather than to `check`'s list of them.
+        if releases.is_empty() && pkg.left_out_releases > 0 {
+            return (
+                Cause::DependencyConflict,
+                no_usable_version(pkg.left_out_releases),
+            );
+        }
         // The package is there; the requirement is what nothing meets. "missing" would send
         // the reader to look for a name that exists.
         return (
@@ -345,6 +353,19 @@ pub(crate) fn unusable(
     (
         cause_of_refusals(&tally),
         format!("{}: {}", describe(registry, package, set), parts.join(", ")),
+    )
+}
+
+/// Why a package whose every one of `left_out` version records was left out has no version.
+fn no_usable_version(left_out: u32) -> String {
+    let (records, were) = if left_out == 1 {
+        ("record", "was")
+    } else {
+        ("records", "were")
+    };
+    format!(
+        "has no usable version: its {left_out} version {records} {were} left out as unusable \
+         (see `basefit check`)"
     )
 }
 
@@ -526,6 +547,9 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
                         let releases = registry.package(*b).releases.len();
                         let root_desc = if indices(sb, releases).next().is_none() && releases > 0 {
                             "no release the entry may take".to_string()
+                        } else if releases == 0 && registry.package(*b).left_out_releases > 0 {
+                            // Published, but unusable: the next line says why.
+                            "no usable version".to_string()
                         } else {
                             describe(registry, *b, sb)
                         };

@@ -413,6 +413,23 @@ fn next_major(major: u64) -> Lower {
         .map_or(Lower::Beyond, |m| Lower::From(Version::new(m, 0, 0)))
 }
 
+/// Whether some runtime version meets `req`. A release whose requirement none meets fails on
+/// every image, each verdict naming a runtime direction no image can follow, so the registry
+/// loaders report it (see [`crate::load::diag::ProblemKind::UnsatisfiableRuntime`]).
+///
+/// ```
+/// use basefit::model::Requirement;
+/// use basefit::solve::image::admits_some_runtime;
+/// let admits = |r: &str| admits_some_runtime(&Requirement::parse(r).unwrap());
+/// assert!(admits(">=3.1, <4"));
+/// assert!(admits("<0.0.0 || >=2"));
+/// assert!(!admits("<0.0.0"));
+/// assert!(!admits(">=5, <4"));
+/// ```
+pub fn admits_some_runtime(req: &Requirement) -> bool {
+    req.alternatives.iter().any(satisfiable)
+}
+
 /// Whether some runtime meets `alt`: the least version its lower bounds allow does, since
 /// what an alternative admits is one stretch of versions.
 fn satisfiable(alt: &VersionReq) -> bool {
