@@ -909,3 +909,45 @@ fn a_packages_list_without_the_compiler_drops_an_inherited_toolchain() {
     );
     assert!(!stdout.contains("keeps-it: inherits"), "{stdout}");
 }
+
+/// Where the solver gave up, nothing is known of what a cell lacks: `syslibs` and the
+/// pre-install set say so rather than "nothing missing" or "does not install alone".
+#[test]
+fn undecided_cells_are_not_reported_as_lacking_nothing_or_failing() {
+    let mut args = DEMO.to_vec();
+    args.extend(["--budget", "6"]);
+    let (_, syslibs, err) = run(&["syslibs"], &args);
+    let line = syslibs
+        .lines()
+        .find(|l| l.starts_with("  deb-2.4: ") && l.contains("undecided"))
+        .unwrap_or_else(|| panic!("{syslibs}{err}"));
+    assert!(
+        line.contains("so what they lack is unknown; raise --budget: "),
+        "{line}"
+    );
+    assert!(
+        syslibs.contains("  deb-2.4: nothing missing among the decided cells\n"),
+        "{syslibs}"
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&run(&["syslibs"], &[&args[..], &["--format", "json"]].concat()).1)
+            .unwrap();
+    assert!(
+        !json["images"][0]["undecided"]
+            .as_array()
+            .unwrap()
+            .is_empty(),
+        "{json}"
+    );
+
+    args.extend(["--image", "deb-2.4"]);
+    let (_, imageplan, _) = run(&["imageplan"], &args);
+    assert!(
+        imageplan.contains("undecided alone: the solver ran out of budget"),
+        "{imageplan}"
+    );
+    assert!(
+        !imageplan.contains("does not install alone (budget"),
+        "{imageplan}"
+    );
+}

@@ -236,19 +236,22 @@ pub fn preinstall(
     };
     for entry in &inputs.priorities.entries {
         let cell = plan_cell(inputs, &view, entry, options);
+        if cell.outcome == Outcome::Undecided {
+            // Not shown to fail: left out only because nothing can be said of it yet.
+            left_out.push(LeftOut {
+                name: entry.name.clone(),
+                reason: "undecided alone: the solver ran out of budget before an answer, so whether it installs is unknown (raise --budget)".to_string(),
+                conflicts_with: Vec::new(),
+            });
+            continue;
+        }
         if !cell.outcome.resolves() {
             let why = if cell.explanation.is_empty() {
                 "does not resolve".to_string()
             } else {
                 cell.explanation.join("; ")
             };
-            let cause = cell
-                .cause
-                .map(|c| c.as_str())
-                .unwrap_or(match cell.outcome {
-                    Outcome::Undecided => "budget-exhausted",
-                    _ => "fails",
-                });
+            let cause = cell.cause.map(|c| c.as_str()).unwrap_or("fails");
             left_out.push(LeftOut {
                 name: entry.name.clone(),
                 reason: format!("does not install alone ({cause}): {why}"),

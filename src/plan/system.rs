@@ -76,6 +76,10 @@ pub struct ImageNeeds {
     /// stays unconfirmed, so they may still be at risk after every addition.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub at_risk_after_advice: Vec<String>,
+    /// Priority packages whose cell here the solver gave up on: what they lack is unknown,
+    /// so "nothing missing" would claim more than was found.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub undecided: Vec<String>,
     pub command: Option<String>,
 }
 
@@ -149,10 +153,15 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut blocked = Vec::new();
         let mut beyond_advice = Vec::new();
         let mut at_risk_after_advice = Vec::new();
+        let mut undecided = Vec::new();
         // Beside `blocked`: the priority package of each of its items.
         let mut blocked_names: Vec<String> = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
             let cell = &matrix.cells[r * n + col];
+            if cell.outcome == Outcome::Undecided {
+                undecided.push(row.name.clone());
+                continue;
+            }
             if !matches!(cell.outcome, Outcome::Fails | Outcome::AtRisk) {
                 continue;
             }
@@ -281,6 +290,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                 .collect(),
             beyond_advice,
             at_risk_after_advice,
+            undecided,
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
             missing,
         });

@@ -832,8 +832,21 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         "\nmissing system packages per image (weight = priority weight of the cells that lack it and that additions can unblock):\n",
     );
     for i in &r.images {
+        if !i.undecided.is_empty() {
+            let _ = writeln!(
+                out,
+                "  {}: {} undecided (the solver ran out of budget), so what they lack is unknown; raise --budget: {}",
+                i.image,
+                i.undecided.len(),
+                i.undecided.join(", ")
+            );
+        }
         if i.missing.is_empty() {
-            let _ = writeln!(out, "  {}: nothing missing", i.image);
+            let among = match i.undecided.is_empty() {
+                true => "",
+                false => " among the decided cells",
+            };
+            let _ = writeln!(out, "  {}: nothing missing{among}", i.image);
             // A cell at risk for a library no package provides lacks nothing, yet no
             // addition helps it: say so even here.
             if i.beyond_advice.is_empty() {
