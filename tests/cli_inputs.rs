@@ -1906,3 +1906,35 @@ fn quoted_values_and_merge_keys_say_what_to_write() {
         assert!(stderr.contains(want), "{name}: wanted {want} in {stderr}");
     }
 }
+
+/// A requirement on a package whose every version record was left out is not one "no
+/// published version satisfies": the versions were published and could not be read, and
+/// the fix is in those records, not in the requirement.
+#[test]
+fn a_requirement_on_a_package_with_no_readable_version_says_so() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: a\n",
+            "    versions:\n",
+            "      - {version: 1.0.0, depends: [{name: b, req: '^1'}]}\n",
+            "  - name: b\n",
+            "    versions:\n",
+            "      - {version: banana}\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let report = assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "registry.yaml:4  a@1.0.0: requires b ^1, but every version record of b was left out (1; see its problems)",
+        ],
+        Some(("version records", ["2", "1", "1"])),
+    );
+    assert!(!report.contains("which no published version"), "{report}");
+}

@@ -699,10 +699,18 @@ fn registry_checks(
                         |l| l.name,
                     )
                 } else if satisfiable.get(&(d.package, d.req)) == Some(&false) {
+                    // The versions were published; none could be read, which is another fix.
+                    let why = match (target.releases.is_empty(), target.left_out_releases) {
+                        (true, n) if n > 0 => format!(
+                            "but every version record of {} was left out ({n}; see its problems)",
+                            target.name
+                        ),
+                        _ => "which no published version satisfies".to_string(),
+                    };
                     (
                         ProblemKind::UnsatisfiableRequirement,
                         format!(
-                            "requires {} {}, which no published version satisfies",
+                            "requires {} {}, {why}",
                             target.name,
                             registry.requirement(d.req)
                         ),
