@@ -92,9 +92,31 @@ fn edit(registry: &mut Registry, id: PackageId, rng: &mut Rng) -> &'static str {
         .intern_requirement(["*", "^1", "<1", ">=2"][rng.below(4)])
         .unwrap();
     let other = PackageId(rng.below(registry.packages.len()) as u32);
+    if rng.below(12) == 0 {
+        // Every record of a package became unreadable, or one more did of a package that
+        // has none left: its explanation counts the records left out.
+        let emptied = registry
+            .packages
+            .iter()
+            .position(|q| q.declared && q.releases.is_empty() && q.left_out_releases > 0);
+        if let Some(q) = emptied.filter(|_| rng.below(2) == 0) {
+            registry.packages[q].left_out_releases += 1;
+            return "one more version record left out";
+        }
+        let p = registry.package_mut(id);
+        p.left_out_releases += p.releases.len() as u32;
+        p.releases.clear();
+        return "every version record left out";
+    }
     let p = registry.package_mut(id);
     let n = p.releases.len();
     if n == 0 {
+        // What an explanation of a package without releases says of it: its summary, and
+        // how many of its version records were left out.
+        if rng.below(2) == 0 {
+            p.left_out_releases += 1;
+            return "version records left out";
+        }
         p.summary = Some("now with a summary".into());
         return "summary";
     }
