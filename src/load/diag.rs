@@ -253,10 +253,10 @@ pub fn read_text(path: &Path) -> Result<String, BadInput> {
 ///
 /// Names are matched as written, and every report prints them: a name with white space at
 /// either end never matches the trimmed name a priority list gives, and a tab, a line break,
-/// another control character (ESC starts terminal escape sequences) or a bidirectional
-/// text control (U+061C, U+200E, U+200F, U+202A to U+202E, U+2066 to U+2069: the Unicode
-/// Bidi_Control characters, which reorder the text shown around them) would let a name pass
-/// for another one in a report, or rewrite the terminal it is printed on. No package index
+/// another control character (ESC starts terminal escape sequences) or an invisible
+/// formatting character ([`is_invisible_format`]: bidirectional controls, which reorder the
+/// text shown around them, zero-width spaces, the soft hyphen) would let a name pass for
+/// another one in a report, or rewrite the terminal it is printed on. No package index
 /// allows any of these in a name. Every reader of package names and image ids asks here, so
 /// all formats accept the same names; the record holding such a name is left out and
 /// reported at its line (show the name with [`shown_name`]).

@@ -679,8 +679,9 @@ impl std::error::Error for FuseError {}
 /// The result holds every name of every list exactly once. A list with no entries (every row
 /// left out, or outside a `--window`) takes no part: it has nothing to say about any name,
 /// yet under [`Missing::WorstPlusOne`] it would give each an absent rank and shift every
-/// weight. Scores do not depend on the order of `lists`: each package's per-list terms are summed smallest first, so the same terms give
-/// the same bits whichever list they came from. Equal scores are ordered by name (byte order).
+/// weight. Scores do not depend on the order of `lists`: each package's per-list terms are
+/// summed smallest first, so the same terms give the same bits whichever list they came from.
+/// Equal scores are ordered by name (byte order).
 ///
 /// ```
 /// use basefit::plan::fusion::{fuse, Method, Missing, SourceList};

@@ -215,9 +215,10 @@ impl NativeChecks<'_> {
 /// packages plus it still have a joint solution and, with the native step, no kept entry's
 /// part of that solution certainly fails natively (the joint solve may pick an older release
 /// of it, or move a kept entry to one, that fails where the release chosen alone did not).
-/// When they have no joint solution, the conflict is named by deletion: starting from all kept packages, each is dropped (lowest priority first) if the
-/// rest plus the candidate still fail, which leaves a minimal conflicting subset that favours
-/// the highest-priority packages. A joint solve that runs out of budget counts as "not shown
+/// When they have no joint solution, the conflict is named by deletion: starting from all
+/// kept packages, each is dropped (lowest priority first) if the rest plus the candidate
+/// still fail, which leaves a minimal conflicting subset that favours the highest-priority
+/// packages. A joint solve that runs out of budget counts as "not shown
 /// to fail", so it never names a package without evidence.
 pub fn preinstall(
     inputs: &Inputs,
