@@ -885,3 +885,33 @@ fn a_replan_notices_a_changed_count_of_left_out_records() {
     );
     assert!(warm == cold, "warm:\n{warm}\ncold:\n{cold}");
 }
+
+/// A runtime requirement no version meets is no matter of the image's age: the explanation
+/// says no image can install the release, not that it needs a newer runtime.
+#[test]
+fn a_runtime_requirement_no_version_meets_blames_no_image() {
+    let registry = r#"packages:
+  - name: zamia
+    versions:
+      - {version: "1.0.0", runtime: ">=5, <4"}
+  - name: wombat
+    versions:
+      - {version: "1.0.0", runtime: ">=5"}
+"#;
+    let inputs = inputs(registry, "priorities: [zamia, wombat]\n");
+    let options = PlanOptions::default();
+    let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
+    let zamia = cell("zamia").explanation.join("\n");
+    assert!(
+        zamia.contains(
+            "1 version needs a runtime no version can be (>=5, <4): no image can install it"
+        ),
+        "{zamia}"
+    );
+    assert!(!zamia.contains("newer runtime"), "{zamia}");
+    let wombat = cell("wombat").explanation.join("\n");
+    assert!(
+        wombat.contains("1 version needs a newer runtime (>=5; the image has 3.1.5)"),
+        "{wombat}"
+    );
+}

@@ -336,10 +336,24 @@ pub(crate) fn unusable(
                     "an older"
                 };
                 let need = if n == 1 { "needs" } else { "need" };
-                format!(
-                    "{n} {versions} {need} {dir} runtime ({shown}; the image has {})",
-                    image.runtime
-                )
+                // A requirement no runtime meets is no matter of this image's age: pointing
+                // at a newer or older one would send the reader to build images in vain.
+                let impossible = idx.iter().all(|&i| {
+                    releases[i as usize].runtime.is_some_and(|r| {
+                        !super::image::admits_some_runtime(registry.requirement(r))
+                    })
+                });
+                if impossible {
+                    format!(
+                        "{n} {versions} {need} a runtime no version can be ({shown}): no image can install {}",
+                        if n == 1 { "it" } else { "them" }
+                    )
+                } else {
+                    format!(
+                        "{n} {versions} {need} {dir} runtime ({shown}; the image has {})",
+                        image.runtime
+                    )
+                }
             }
             Admission::Yanked => format!("{n} {versions} yanked"),
             Admission::NoBuild => format!(
