@@ -890,10 +890,12 @@ fn a_failure_for_another_cause_is_not_rendered_as_agreement() {
 #[test]
 fn a_packages_list_without_the_compiler_drops_an_inherited_toolchain() {
     let dir = tempfile::tempdir().unwrap();
-    let images = "images:\n  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential, libpq-dev]}\n  - {id: by-list, extends: full, packages: [ca-certificates]}\n  - {id: by-remove, extends: full, remove: [build-essential, libpq-dev], add: [ca-certificates]}\n  - {id: keeps-it, extends: full, packages: [build-essential]}\n";
+    let images = "images:\n  - {id: full, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential, libpq-dev]}\n  - {id: by-list, extends: full, packages: [ca-certificates]}\n  - {id: by-remove, extends: full, remove: [build-essential, libpq-dev], add: [ca-certificates]}\n  - {id: keeps-it, extends: full, packages: [build-essential]}\n  - {id: other-family, extends: full, family: alpine, platform: linux/musl/x86_64, packages: [zlib-dev]}\n";
     let args = demo_on_images(dir.path(), images);
     let args: Vec<&str> = args.iter().map(String::as_str).collect();
-    for image in ["by-list", "by-remove"] {
+    // The base's compiler is its own family's: an image of another family that lists none
+    // of its packages keeps no compiler either.
+    for image in ["by-list", "by-remove", "other-family"] {
         let (code, stdout, _) = run(&["explain", "burrowdb", image], &args);
         assert_eq!(code, 1, "{image}: {stdout}");
         assert!(stdout.contains("has no C toolchain"), "{image}: {stdout}");

@@ -208,8 +208,8 @@ fn resolve(
                 .copied()
                 .map(Some)
                 .ok_or_else(|| {
-                    // A base named by no name is shown escaped, as its id would be; an image
-                    // declared with that id was left out for it, so it is no missing base.
+                    // A base named by no name is shown escaped, as its id would be; no image
+                    // of that id is planned, whether one was declared (and left out) or not.
                     let message = match name_problem(&b.value) {
                         None => format!("extends `{}`, which is not declared", b.value),
                         Some(why) => format!(
@@ -262,7 +262,8 @@ fn resolve(
 /// image made either way has no compiler, so the base's `toolchain: true` no longer speaks
 /// for it; only its own flag can say it has one by other means.
 fn removed_toolchain(d: &Declared, family: OsFamily, base: Option<&Image>) -> Vec<At<String>> {
-    let toolchain_packages = crate::native::toolchain_packages(family);
+    // The compiler the base has is its own family's, whichever family this image declares.
+    let toolchain_packages = crate::native::toolchain_packages(base.map_or(family, |b| b.family));
     let mut dropped: Vec<At<String>> = d
         .remove
         .iter()
