@@ -504,7 +504,7 @@ impl ProblemKind {
             ProblemKind::NoInstallableVersion => {
                 "packages with no installable version (all yanked)"
             }
-            ProblemKind::NoVersions => "packages without any version record",
+            ProblemKind::NoVersions => "packages without any usable version record",
             ProblemKind::BadImage => "images that cannot be built (left out)",
             ProblemKind::ToolchainContradiction => {
                 "images whose toolchain flag, written or inherited, their packages contradict (the packages win)"

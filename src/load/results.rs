@@ -441,7 +441,7 @@ struct LogTail {
 /// their first whole line or segment, as the classifier's own window does.
 fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, String> {
     const UNDER: &str = "the log must lie under the results file's folder";
-    if written.is_empty() {
+    if written.trim().is_empty() {
         return Err(
             "`log_file` is empty; expected the path of a log file under the results file's \
              folder"
