@@ -1831,7 +1831,17 @@ fn an_empty_log_file_is_reported_as_empty() {
         "r.jsonl",
         b"{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\",\"log_file\":\"\"}\n",
     );
-    for (path, line) in [(&yaml, "r.yaml:5"), (&jsonl, "r.jsonl:1")] {
+    // White space alone names no file either.
+    let blank = write(
+        d.path(),
+        "b.jsonl",
+        b"{\"package\":\"fernwood\",\"image\":\"plain\",\"outcome\":\"failed\",\"log_file\":\"  \"}\n",
+    );
+    for (path, line) in [
+        (&yaml, "r.yaml:5"),
+        (&jsonl, "r.jsonl:1"),
+        (&blank, "b.jsonl:1"),
+    ] {
         let (code, stdout, stderr) = check_with(d.path(), &[("--results", path)]);
         assert_eq!(code, 1, "stdout {stdout} stderr {stderr}");
         let want = format!(
