@@ -394,7 +394,7 @@ fn assemble(
                     }
                     // An empty path would name the folder itself (or nothing), and the
                     // file system's answer about that would not say what is wrong.
-                    let detail = if path.is_empty() {
+                    let detail = if path.trim().is_empty() {
                         why
                     } else {
                         format!("log file {}: {why}", full.display())
