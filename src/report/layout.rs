@@ -233,8 +233,9 @@ pub(crate) fn reason(cell: &Cell) -> String {
 }
 
 /// Folds line breaks and other control characters into single spaces, and replaces
-/// invisible formatting characters (bidirectional controls among them), which could make a
-/// row read as something it is not.
+/// bidirectional controls, which could make a row read as something it is not. Other
+/// invisible formatting characters stay: names holding them are left out at load, and in a
+/// summary a zero-width joiner is part of an emoji.
 pub(crate) fn one_line(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     let mut space = false;
@@ -247,7 +248,7 @@ pub(crate) fn one_line(s: &str) -> String {
             continue;
         }
         space = false;
-        if is_invisible_format(ch) {
+        if is_bidi_control(ch) {
             out.push('\u{FFFD}');
         } else {
             out.push(ch);
@@ -259,12 +260,12 @@ pub(crate) fn one_line(s: &str) -> String {
     out
 }
 
-/// Text for a terminal with every control character but the line break, and every invisible
-/// formatting character ([`crate::model::is_invisible_format`]), written out as an escape.
-/// Registry summaries and log lines come from outside (names with such characters are left
-/// out at load): raw, an escape sequence in one could clear the screen or hide the lines
-/// after it, a zero-width space make two words look alike, and a right-to-left override
-/// make text read backwards.
+/// Text for a terminal with every control character but the line break, and every
+/// bidirectional control, written out as an escape. Registry summaries and log lines come
+/// from outside: raw, an escape sequence in one could clear the screen or hide the lines
+/// after it, and a right-to-left override make text read backwards. Other invisible
+/// formatting characters are left as they are (a zero-width joiner joins an emoji); names
+/// holding them are left out at load ([`crate::model::is_invisible_format`]).
 ///
 /// ```
 /// use basefit::report::visible;
@@ -276,7 +277,7 @@ pub(crate) fn one_line(s: &str) -> String {
 pub fn visible(s: &str) -> std::borrow::Cow<'_, str> {
     let hidden = |ch: char| {
         (ch.is_control() && ch != '\n')
-            || is_invisible_format(ch)
+            || is_bidi_control(ch)
             || matches!(ch, '\u{2028}' | '\u{2029}')
     };
     if !s.chars().any(hidden) {
@@ -297,7 +298,7 @@ pub fn visible(s: &str) -> std::borrow::Cow<'_, str> {
     std::borrow::Cow::Owned(out)
 }
 
-use crate::model::is_invisible_format;
+use crate::model::is_bidi_control;
 
 /// A share as a whole percentage, the same on every machine; `n/a` when undefined.
 pub(crate) fn percent(share: Option<f64>) -> String {
@@ -313,6 +314,10 @@ mod tests {
         assert_eq!(one_line("a\r\nb\tc\n"), "a b c");
         assert_eq!(one_line("\nx"), "x");
         assert_eq!(one_line("ab\u{202E}cd"), "ab\u{FFFD}cd");
+        // A zero-width joiner in a summary is part of an emoji, not a trick.
+        let coder = "tools for \u{1F469}\u{200D}\u{1F4BB}";
+        assert_eq!(one_line(coder), coder);
+        assert_eq!(visible(coder), coder);
     }
 
     #[test]
