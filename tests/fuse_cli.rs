@@ -1,27 +1,25 @@
 //! `fuse` writes a priority list that basefit's own priority reader accepts, in fused order.
 
+mod common;
+
 use basefit::load::{Ledger, read_priorities};
-use std::process::Command;
+use std::ffi::OsStr;
 
 #[test]
 fn fused_list_reads_back_as_a_priority_list() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("priorities.yaml");
-    let status = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args([
-            "fuse",
-            "--source",
-            "demo-data/sources/downloads.csv",
-            "--source",
-            "demo-data/sources/usage.csv",
-            "--method",
-            "rank-sum",
-            "--out",
-        ])
-        .arg(&out)
-        .status()
-        .unwrap();
-    assert_eq!(status.code(), Some(0));
+    let (code, _) = fuse(&[
+        OsStr::new("--source"),
+        OsStr::new("demo-data/sources/downloads.csv"),
+        OsStr::new("--source"),
+        OsStr::new("demo-data/sources/usage.csv"),
+        OsStr::new("--method"),
+        OsStr::new("rank-sum"),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(code, 0);
     let mut ledger = Ledger::default();
     let list = read_priorities(&out, &mut ledger).unwrap();
     assert!(ledger.is_clean(), "{:?}", ledger.problems);
@@ -69,16 +67,18 @@ fn sources_with_no_usable_row_or_an_empty_window_are_input_errors() {
     assert!(stderr.contains("ends before it starts"), "{stderr}");
 }
 
+/// Runs `basefit fuse` with `args`; returns its exit code and stderr.
+fn fuse<S: AsRef<OsStr>>(args: &[S]) -> (i32, String) {
+    let all = std::iter::once(OsStr::new("fuse")).chain(args.iter().map(AsRef::as_ref));
+    let (code, _, stderr) = common::run_basefit(all);
+    (code, stderr)
+}
+
 /// Runs `basefit fuse` with `args`, asserts it is refused as an input error (exit 2), and
 /// returns its stderr.
 fn fuse_refused(args: &[&str]) -> String {
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .arg("fuse")
-        .args(args)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr).into_owned();
-    assert_eq!(run.status.code(), Some(2), "fuse {args:?}: {stderr}");
+    let (code, stderr) = fuse(args);
+    assert_eq!(code, 2, "fuse {args:?}: {stderr}");
     stderr
 }
 
@@ -159,15 +159,13 @@ fn a_row_left_out_is_listed_and_exits_one() {
     let source = dir.path().join("gappy.csv");
     std::fs::write(&source, "name,rank\nnumbat,1\n,2\nquokka,3\n").unwrap();
     let out = dir.path().join("priorities.yaml");
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args(["fuse", "--source"])
-        .arg(&source)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(1), "{stderr}");
+    let (code, stderr) = fuse(&[
+        OsStr::new("--source"),
+        source.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
     assert!(stderr.contains("gappy.csv:3"), "{stderr}");
     let mut ledger = Ledger::default();
     let list = read_priorities(&out, &mut ledger).unwrap();
@@ -197,24 +195,21 @@ fn a_source_the_window_empties_takes_no_part() {
     )
     .unwrap();
     let out = dir.path().join("priorities.yaml");
-    let run = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args([
-            "fuse",
-            "--method",
-            "rank-sum",
-            "--missing",
-            "worst-plus-one",
-        ])
-        .args(["--window", "2026-10-01..2026-10-31", "--source"])
-        .arg(&october)
-        .arg("--source")
-        .arg(&september)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    let stderr = String::from_utf8_lossy(&run.stderr);
-    assert_eq!(run.status.code(), Some(1), "{stderr}");
+    let (code, stderr) = fuse(&[
+        OsStr::new("--method"),
+        OsStr::new("rank-sum"),
+        OsStr::new("--missing"),
+        OsStr::new("worst-plus-one"),
+        OsStr::new("--window"),
+        OsStr::new("2026-10-01..2026-10-31"),
+        OsStr::new("--source"),
+        october.as_os_str(),
+        OsStr::new("--source"),
+        september.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
     assert!(
         stderr.contains(&format!(
             "warning: {}: no usable row inside --window 2026-10-01..2026-10-31, so this source is left out of the fusion",
