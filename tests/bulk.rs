@@ -1062,3 +1062,32 @@ fn the_generator_says_when_it_writes_less_than_asked() {
         ""
     );
 }
+
+/// A version row given twice, whose dependency rows (which attach to the first) leave it out:
+/// the twin must not stand in for it with no dependencies at all.
+#[test]
+fn twin_of_a_version_left_out_for_a_dependency_is_a_duplicate() {
+    let versions = "package,version\npkg-a,1.0.0\npkg-a,1.0.0\npkg-b,1.0.0\n";
+    let deps = "package,version,dependency,req\npkg-a,1.0.0,pkg-b,>>>1\n";
+    let (registry, ledger) = load(versions, deps).unwrap();
+    let a = registry.id("pkg-a").unwrap();
+    assert!(registry.package(a).releases.is_empty(), "the twin was kept");
+    let dups = find(&ledger, ProblemKind::DuplicateVersion);
+    assert_eq!(dups.len(), 1, "{:?}", ledger.problems);
+    assert_eq!(dups[0].origin.line, 3);
+    assert!(dups[0].detail.contains("line 2"), "{}", dups[0].detail);
+    assert_eq!(find(&ledger, ProblemKind::UnreadableRequirement).len(), 1);
+    assert_eq!(tally(&ledger, RecordKind::Version), (3, 1, 2));
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+
+    // With a readable requirement the twin is the duplicate and the first keeps its row.
+    let deps = "package,version,dependency,req\npkg-a,1.0.0,pkg-b,>=1\n";
+    let (registry, ledger) = load(versions, deps).unwrap();
+    let releases = &registry.package(registry.id("pkg-a").unwrap()).releases;
+    assert_eq!(releases.len(), 1);
+    assert_eq!((releases[0].line, releases[0].deps.len()), (2, 1));
+    assert_eq!(
+        find(&ledger, ProblemKind::DuplicateVersion)[0].origin.line,
+        3
+    );
+}

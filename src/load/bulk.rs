@@ -935,6 +935,8 @@ impl Load {
         let Load {
             mut builder,
             staged,
+            staged_keys,
+            index,
             ..
         } = self;
         let Attached {
@@ -967,6 +969,28 @@ impl Load {
         // stay right until then.
         let mut dropped: Vec<(PackageId, u32)> = Vec::new();
         for (i, &(package, place)) in staged.iter().enumerate() {
+            // A later row with the same text got none of the dependency rows (they attach to
+            // the first), so keeping it when the first is left out for one of them would keep
+            // the version with its dependencies silently gone.
+            let twin_of = match staged_keys.get(i) {
+                Some(key) if !key.canonical => {
+                    match std::str::from_utf8(index.text(key.start, key.len))
+                        .ok()
+                        .and_then(|text| index.get(package, text))
+                    {
+                        Some(Slot::Staged(first)) if bad.contains_key(&first) => {
+                            Some(staged[first as usize])
+                        }
+                        _ => None,
+                    }
+                }
+                _ => None,
+            };
+            if let Some((_, first_place)) = twin_of {
+                builder.leave_out_twin_of_dropped(package, place, first_place);
+                dropped.push((package, place));
+                continue;
+            }
             match bad.get(&(i as u32)) {
                 None => {
                     let release =

@@ -507,6 +507,37 @@ impl RegistryBuilder {
             .left_out_with_owner(RecordKind::Dependency, dep_count);
     }
 
+    /// Leaves out the release at `place` of `package` as a duplicate of the one at
+    /// `first_place`, which is itself left out for one of its dependencies (bulk rows attach
+    /// dependencies to the first row with a version's text, never to its twin).
+    pub(crate) fn leave_out_twin_of_dropped(
+        &mut self,
+        package: PackageId,
+        place: u32,
+        first_place: u32,
+    ) {
+        let pkg = self.registry.package(package);
+        let (Some(twin), Some(first)) = (
+            pkg.releases.get(place as usize),
+            pkg.releases.get(first_place as usize),
+        ) else {
+            return;
+        };
+        let origin = origin_of(&self.registry.files, twin.file, twin.line);
+        let subject = format!("{}@{}", pkg.name, twin.version);
+        let detail = format!(
+            "same version as the record at line {}, which is left out for a dependency",
+            first.line
+        );
+        self.leave_out_release(
+            package,
+            ProblemKind::DuplicateVersion,
+            origin,
+            subject,
+            detail,
+        );
+    }
+
     /// Leaves a version record of `package` out for `kind`, and counts it on the package.
     fn leave_out_release(
         &mut self,
