@@ -357,7 +357,17 @@ fn assemble(
         let version = match &r.version {
             None => None,
             Some(written) => match read_version(&written.value) {
-                VersionRead::Strict(v) | VersionRead::Normalised(v, _) => Some(v),
+                VersionRead::Strict(v) => Some(v),
+                VersionRead::Normalised(v, how) => {
+                    // As for registry versions: the report says what the cell compares.
+                    ledger.note(
+                        ProblemKind::NormalisedVersion,
+                        at(written.line),
+                        subject.clone(),
+                        format!("installed version `{}` read as {v} ({how})", written.value),
+                    );
+                    Some(v)
+                }
                 VersionRead::Refused(why) => {
                     ledger.leave_out(
                         RecordKind::Result,
@@ -564,6 +574,38 @@ mod tests {
             .expect("opening the FIFO blocked");
         let why = answer.expect_err("a FIFO was opened as a log");
         assert!(why.starts_with("a FIFO, not a regular file"), "{why}");
+    }
+
+    /// A recorded version that is not strict semver is compared as its normalised form, and
+    /// the report says so, as it does for registry versions.
+    #[test]
+    fn a_normalised_installed_version_is_noted() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("results.yaml");
+        std::fs::write(
+            &path,
+            "results:\n  - {package: a, image: i, outcome: installed, version: \"1.2\"}\n",
+        )
+        .unwrap();
+        let mut ledger = Ledger::default();
+        let known = Known {
+            registry: None,
+            images: None,
+        };
+        let results = read_results(&path, &known, &mut ledger).unwrap();
+        assert_eq!(results[0].version, Some(semver::Version::new(1, 2, 0)));
+        let notes: Vec<_> = ledger
+            .problems
+            .iter()
+            .filter(|p| p.kind == ProblemKind::NormalisedVersion)
+            .collect();
+        assert_eq!(notes.len(), 1, "{:?}", ledger.problems);
+        assert_eq!(notes[0].origin.line, 2);
+        assert!(
+            notes[0].detail.contains("read as 1.2.0"),
+            "{}",
+            notes[0].detail
+        );
     }
 
     #[test]
