@@ -407,7 +407,19 @@ fn review_results(
     inputs: &Inputs,
     paths: &InputPaths,
 ) -> Result<crate::verify::Review, BadInput> {
-    let review = crate::verify::compare_inputs(matrix, inputs);
+    let mut review = crate::verify::compare_inputs(matrix, inputs);
+    let files: Vec<String> = paths
+        .results
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect();
+    review.results_left_out = inputs
+        .ledger
+        .problems
+        .iter()
+        .filter(|p| p.left_out && files.contains(&p.origin.file))
+        .map(|p| format!("{}: {}: {}", p.origin, p.subject, p.detail))
+        .collect();
     if review.cells.is_empty() {
         let tally = inputs.ledger.tally(crate::load::diag::RecordKind::Result);
         return Err(BadInput::file(
@@ -758,11 +770,12 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     };
     let review = review_results(&matrix, &inputs, &o.inputs)?;
     let surprises = review.surprises();
+    // A result left out could have been a surprise: the gate cannot pass without it.
     let mut out = Output::report(
         o.format,
         &review,
         text::review_text,
-        surprises > o.max_surprises,
+        surprises > o.max_surprises || !review.results_left_out.is_empty(),
     );
     data_quality_note(&inputs, &mut out);
     outside_matrix_note(

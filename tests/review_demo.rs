@@ -911,3 +911,129 @@ fn a_record_whose_log_file_is_unread_still_has_its_own_log_text_read() {
     );
     assert!(pixelmoss["log_unread"].is_string(), "{pixelmoss}");
 }
+
+/// Real gcc wording (gcc on this machine prints it for a missing `#include`), and the demo's
+/// own network failure line (demo-data/logs).
+const HEADER_MISSING: &str =
+    "src/ext/parse.c:3:10: fatal error: libxml/parser.h: No such file or directory";
+const CONNECTION_RESET: &str = "error: download failed: Connection reset by peer (os error 104)";
+
+#[test]
+fn a_retry_that_hit_the_network_does_not_hide_a_real_cause() {
+    // thornbill-xml on alpine-2.6 is predicted to install (demo-data/STORIES.md). The first
+    // attempt misses a header, the retry fails on the network: the cell is a surprise with
+    // the header named, whichever attempt comes last.
+    for (first, second) in [
+        (HEADER_MISSING, CONNECTION_RESET),
+        (CONNECTION_RESET, HEADER_MISSING),
+    ] {
+        let review = review_of(&format!(
+            "results:
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"{first}\"}}
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"{second}\"}}
+"
+        ));
+        let c = cell(&review, "thornbill-xml", "alpine-2.6");
+        assert_eq!(c.verdict, Verdict::SurpriseFailure, "{c:?}");
+        assert_eq!(c.log_cause.as_ref().unwrap().label(), "missing-header");
+        assert!(c.evidence.as_deref().unwrap().contains("libxml/parser.h"));
+    }
+    // Only the network on every attempt: a failure of the moment, retried before acting.
+    let review = review_of(&format!(
+        "results:
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"{CONNECTION_RESET}\"}}
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"{CONNECTION_RESET}\"}}
+"
+    ));
+    assert_eq!(
+        cell(&review, "thornbill-xml", "alpine-2.6").verdict,
+        Verdict::Flaky
+    );
+    // A failure whose log shows nothing known is not made transient by a retry's network
+    // trouble either.
+    let review = review_of(&format!(
+        "results:
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"it broke\"}}
+  - {{package: thornbill-xml, image: alpine-2.6, outcome: failed, log: \"{CONNECTION_RESET}\"}}
+"
+    ));
+    let c = cell(&review, "thornbill-xml", "alpine-2.6");
+    assert_eq!(c.verdict, Verdict::SurpriseFailure);
+    assert_eq!(c.log_cause, None);
+}
+
+#[test]
+fn a_failure_of_the_moment_confirms_no_predicted_failure() {
+    // saltbush on deb-2.8 is predicted to fail for its runtime (demo-data/STORIES.md).
+    let review = review_of(&format!(
+        "results:
+  - {{package: saltbush, image: deb-2.8, outcome: failed, log: \"{CONNECTION_RESET}\"}}
+"
+    ));
+    let c = cell(&review, "saltbush", "deb-2.8");
+    assert_eq!(c.predicted.as_str(), "fails");
+    assert_eq!(c.verdict, Verdict::Flaky);
+    // Left aside in the counts, as retries that disagree are.
+    let k = &review.confusion;
+    assert_eq!((k.true_failures, k.false_failures), (0, 0));
+    // Killed (the shell's own wording) is no transient cause, but confirms no predicted one.
+    let review = review_of(
+        "results:
+  - {package: saltbush, image: deb-2.8, outcome: failed, log: \"Killed\"}
+",
+    );
+    let c = cell(&review, "saltbush", "deb-2.8");
+    assert_eq!(c.log_cause.as_ref().unwrap().label(), "killed");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    assert_eq!(c.cause_agrees, Some(false));
+}
+
+#[test]
+fn no_advice_to_add_a_toolchain_the_image_declares() {
+    // deb-3.1 declares a toolchain (matrices/demo-images.yaml); dash prints `cc: not found`
+    // when no compiler is on its PATH (dash on this machine).
+    let review = review_of(
+        "results:
+  - {package: thornbill-xml, image: deb-3.1, outcome: failed, log: \"/bin/sh: 1: cc: not found\"}
+  - {package: thornbill-xml, image: deb-3.2-slim, outcome: failed, log: \"/bin/sh: 1: cc: not found\"}
+",
+    );
+    let declared = cell(&review, "thornbill-xml", "deb-3.1")
+        .suggestion
+        .as_deref()
+        .unwrap();
+    assert!(
+        declared.contains("deb-3.1 declares a C toolchain, yet the build found no cc")
+            && !declared.contains("lacks"),
+        "{declared}"
+    );
+    let slim = cell(&review, "thornbill-xml", "deb-3.2-slim")
+        .suggestion
+        .as_deref()
+        .unwrap();
+    assert!(
+        slim.contains("deb-3.2-slim lacks a C toolchain: add"),
+        "{slim}"
+    );
+}
+
+#[test]
+fn results_left_out_fail_the_gate_and_are_listed() {
+    let dir = tempfile::tempdir().unwrap();
+    let yaml = "results:
+  - {package: gumleaf, image: deb-2.8, outcome: installed}
+  - {package: gumleaf, image: deb-2.4, outcome: FAILED}
+";
+    let (code, out) = review_file(dir.path(), "r.yaml", yaml, "table");
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("no surprises"), "{out}");
+    assert!(
+        out.contains("1 recorded results were left out and not compared")
+            && out.contains("r.yaml:3: gumleaf on deb-2.4: outcome `FAILED`"),
+        "{out}"
+    );
+    let (code, out) = review_file(dir.path(), "r.yaml", yaml, "json");
+    assert_eq!(code, 1);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["results_left_out"].as_array().unwrap().len(), 1);
+}

@@ -666,6 +666,16 @@ pub fn review_text(r: &crate::verify::Review) -> String {
     for o in &r.outside_matrix {
         let _ = writeln!(out, "not compared: {o}");
     }
+    if !r.results_left_out.is_empty() {
+        let _ = writeln!(
+            out,
+            "\n{} recorded results were left out and not compared; any of them may be a surprise, so this review is incomplete (exit 1):",
+            r.results_left_out.len()
+        );
+        for line in &r.results_left_out {
+            let _ = writeln!(out, "  {line}");
+        }
+    }
     let _ = writeln!(out, "\n{NOTICE}");
     out
 }

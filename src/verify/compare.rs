@@ -60,7 +60,9 @@ pub struct CellReview {
     /// Recorded outcomes of every attempt, in file order.
     pub attempts: Vec<RecordedOutcome>,
     pub installed_version: Option<String>,
-    /// The classified cause of the last failed attempt's log.
+    /// The classified cause of the deciding failed attempt's log: the attempt whose log shows
+    /// the most specific cause, a failure of the moment (network, timeout) counting least, and
+    /// the last one among equals. The fields below about "that attempt" are about it.
     pub log_cause: Option<LogCause>,
     /// The log line that shows it.
     pub evidence: Option<String>,
@@ -132,6 +134,10 @@ pub struct Review {
     pub confusion: Confusion,
     /// Results naming a cell the matrix does not have.
     pub outside_matrix: Vec<String>,
+    /// Result records left out at loading (an unreadable outcome, an unknown image, ...),
+    /// each as `file:line: subject: why`. Filled in by the caller that has the ledger; any of
+    /// them could have been a surprise, so a review with one is not a clean review.
+    pub results_left_out: Vec<String>,
 }
 
 impl Review {
@@ -152,9 +158,38 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
         | LogCause::MissingPkgConfig { .. } => &[Cause::MissingSystemLibrary],
         LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
         LogCause::RuntimeRefused { .. } => &[Cause::RuntimeTooOld, Cause::RuntimeTooNew],
+        // A build that ran out of memory or was killed stopped before any predicted cause
+        // could show: it confirms none of them.
+        LogCause::OutOfMemory | LogCause::Killed => &[],
         _ => return None,
     };
     Some(expected.contains(&predicted))
+}
+
+/// The failed attempt whose log a cell's review acts on, with that log's findings: the one
+/// showing the most specific cause, the last among equals. A failure of the moment (network,
+/// timeout) counts for least, below a log that shows nothing known: a retry that hit the
+/// network must not hide an earlier attempt's missing header, nor make a failure of unknown
+/// cause look transient.
+fn deciding_attempt<'r>(
+    records: &[&'r RecordedResult],
+) -> (Option<&'r RecordedResult>, Vec<LogFinding>) {
+    let mut best: Option<((u8, u8), &'r RecordedResult, Vec<LogFinding>)> = None;
+    for r in records
+        .iter()
+        .filter(|r| r.outcome == RecordedOutcome::Failed)
+    {
+        let findings = r.log.as_deref().map(logs::classify).unwrap_or_default();
+        let key = match logs::primary(&findings) {
+            Some(f) if f.cause.likely_flaky() => (2, f.cause.rank()),
+            Some(f) => (0, f.cause.rank()),
+            None => (1, 0),
+        };
+        if best.as_ref().is_none_or(|(k, ..)| key <= *k) {
+            best = Some((key, r, findings));
+        }
+    }
+    best.map_or((None, Vec::new()), |(_, r, f)| (Some(r), f))
 }
 
 /// The catalog library a log cause names, if any.
@@ -220,6 +255,15 @@ fn suggest(
             }
             Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
         }
+        // As for headers above: advice to add what the image declares would go in a circle.
+        LogCause::NoCompiler { .. } | LogCause::NoMake if image.toolchain => Some(format!(
+            "{image_id} declares a C toolchain, yet the build found no {}: check that the real image installs {} (its declaration may be out of date) and that the build's PATH reaches it",
+            match cause {
+                LogCause::NoCompiler { tool } => tool.as_str(),
+                _ => "make",
+            },
+            crate::native::toolchain_packages(image.family).join(" ")
+        )),
         LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
             "{image_id} lacks a C toolchain: add {}",
             crate::native::toolchain_packages(image.family).join(" ")
@@ -480,14 +524,7 @@ pub fn compare(
         let cell = &matrix.cells[row * matrix.images.len() + col];
         let attempts: Vec<RecordedOutcome> = records.iter().map(|r| r.outcome).collect();
         let last = records.last().expect("a cell has at least one record");
-        let last_failed = records
-            .iter()
-            .rev()
-            .find(|r| r.outcome == RecordedOutcome::Failed);
-        let findings = last_failed
-            .and_then(|r| r.log.as_deref())
-            .map(logs::classify)
-            .unwrap_or_default();
+        let (deciding, findings) = deciding_attempt(&records);
         let primary = logs::primary(&findings).cloned();
         // The version an install took; when retries took several, the last one other than
         // the prediction, so a drift shows whatever the order of the attempts.
@@ -534,10 +571,9 @@ pub fn compare(
             Verdict::Undecided
         } else if any_installed && cell.outcome == Outcome::Fails {
             Verdict::SurpriseInstall
-        } else if (any_installed && any_failed)
-            || (any_failed
-                && primary.as_ref().is_some_and(|p| p.cause.likely_flaky())
-                && cell.outcome.resolves())
+        } else if any_failed
+            // Whatever was predicted: a failure of the moment confirms no prediction either.
+            && (any_installed || primary.as_ref().is_some_and(|p| p.cause.likely_flaky()))
         {
             Verdict::Flaky
         } else if any_failed {
@@ -604,19 +640,19 @@ pub fn compare(
                 _ => None,
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
-            evidence_at: primary.as_ref().zip(last_failed).map(|(p, r)| {
+            evidence_at: primary.as_ref().zip(deciding).map(|(p, r)| {
                 format!(
                     "{} {}",
                     r.origin,
                     log_line_place(r.log_inline_lines, r.log_skipped, p.line)
                 )
             }),
-            log_skipped: last_failed.map_or(0, |r| r.log_skipped),
-            log_inline_lines: last_failed.map_or(0, |r| r.log_inline_lines),
+            log_skipped: deciding.map_or(0, |r| r.log_skipped),
+            log_inline_lines: deciding.map_or(0, |r| r.log_inline_lines),
             log_cause,
             findings,
-            log_unread: last_failed.and_then(|r| r.log_unread.clone()),
-            log_recorded: last_failed.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
+            log_unread: deciding.and_then(|r| r.log_unread.clone()),
+            log_recorded: deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
             suggestion,
         });
         let _ = last;
@@ -647,6 +683,7 @@ pub fn compare(
         counts,
         confusion,
         outside_matrix: outside,
+        results_left_out: Vec::new(),
     }
 }
 

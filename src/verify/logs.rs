@@ -139,7 +139,7 @@ impl LogCause {
     /// configure probe failing by design on the way to the real error. Among the rest, a
     /// missing header names what to install; a kill or a timeout is often only the consequence
     /// of something printed earlier.
-    fn rank(&self) -> u8 {
+    pub(crate) fn rank(&self) -> u8 {
         match self {
             LogCause::RuntimeRefused { .. } => 0,
             LogCause::MissingHeader { .. }
