@@ -682,11 +682,13 @@ pub fn explain(o: &ExplainCommand) -> Result<Output> {
     ))
 }
 
-/// Reads a matrix written by `plan` (JSON, or YAML by extension).
+/// Reads a matrix written by `plan` (YAML when its name ends in `.yaml` or `.yml`, in any
+/// case, as priority lists and results choose their reader; JSON otherwise).
 pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
+    use crate::load::priorities::has_extension;
     let file = path.display().to_string();
     let text = crate::load::diag::read_text(path)?;
-    let yaml = path.extension().is_some_and(|e| e == "yaml" || e == "yml");
+    let yaml = has_extension(path, "yaml") || has_extension(path, "yml");
     // The line goes into the error's own field, so the message reads `file:line:` as every
     // other input error does, not `file: ... line N` inside the text.
     let parsed: Result<Matrix, (usize, usize, String)> = if yaml {

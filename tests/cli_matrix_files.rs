@@ -1003,3 +1003,18 @@ fn a_package_with_two_rows_is_refused_by_readers_and_by_merge() {
         "{stderr}"
     );
 }
+
+#[test]
+fn a_matrix_file_extension_is_read_in_any_case() {
+    // Priority lists and results choose their reader by extension in any case; a matrix
+    // saved as `.YAML` (or `.Yml`) is YAML too, not JSON that fails at line 1.
+    let dir = tempfile::tempdir().unwrap();
+    let json = plan_into(dir.path(), None);
+    let text = std::fs::read_to_string(json.replace("matrix.json", "matrix.yaml")).unwrap();
+    for name in ["MATRIX.YAML", "matrix.Yml"] {
+        let upper = common::write(dir.path(), name, &text);
+        let (code, stdout, stderr) = run_basefit(["diff", &json, upper.to_str().unwrap()]);
+        assert_eq!(code, 0, "{name}: {stderr}");
+        assert!(stdout.contains("the matrices agree"), "{name}: {stdout}");
+    }
+}
