@@ -152,6 +152,10 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
         | LogCause::MissingPkgConfig { .. } => &[Cause::MissingSystemLibrary],
         LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
         LogCause::RuntimeRefused { .. } => &[Cause::RuntimeTooOld, Cause::RuntimeTooNew],
+        // A compiler error naming no missing header may still stem from a missing library
+        // (a wrong version installed, a header found elsewhere); it confirms no other cause.
+        LogCause::BuildError if predicted == Cause::MissingSystemLibrary => return None,
+        LogCause::BuildError => return Some(false),
         _ => return None,
     };
     Some(expected.contains(&predicted))
@@ -227,6 +231,9 @@ fn suggest(
         LogCause::RuntimeRefused { required, found } => Some(format!(
             "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
         )),
+        LogCause::BuildError => Some(
+            "the build failed with a compiler error that names no missing system package: read the log line; no change to the image is known to fix it".into(),
+        ),
         LogCause::Network | LogCause::Timeout => {
             Some("likely transient: retry before acting".into())
         }

@@ -27,6 +27,15 @@
 //!   program corresponding to "Unix Makefiles"`). Compiler names may carry a directory, a target
 //!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`).
 //! - [`LogCause::RuntimeRefused`]: the form defined below.
+//! - [`LogCause::BuildError`]: any other GCC or Clang error at a source location,
+//!   `FILE:LINE[:COL]: error: MESSAGE` or `FILE:LINE[:COL]: fatal error: MESSAGE` (gcc `x.c:3:12:
+//!   error: 'y' undeclared (first use in this function)`). The missing-header messages above are
+//!   such lines too and stay missing headers. Such a line is the compiler's verdict on the
+//!   source, so the identifiers it quotes are not read as other causes (`'ECONNREFUSED'
+//!   undeclared` is no network failure). Errors in autoconf's probe files (`conftest.c` and the
+//!   like) are not findings: configure compiles them expecting many to fail. The linker's
+//!   `undefined reference` lines and `collect2: error: ld returned 1 exit status` carry no
+//!   source location and are not recognised.
 //! - [`LogCause::OutOfMemory`]: `out of memory` (including `cc1: out of memory allocating`),
 //!   `Cannot allocate memory`, `virtual memory exhausted`, `std::bad_alloc`, OOM-killer notes.
 //! - [`LogCause::Killed`]: the shell's `Killed` job report, gcc's `Killed signal terminated
@@ -96,6 +105,9 @@ pub enum LogCause {
     NoMake,
     /// The installer refused the runtime version; see the module docs for the line format.
     RuntimeRefused { required: String, found: String },
+    /// The compiler rejected the source for a reason that names no missing header: a GCC or
+    /// Clang `FILE:LINE[:COL]: error:` line. Only the log line says what is wrong.
+    BuildError,
     /// The network failed (connection, DNS, TLS, gateway).
     Network,
     /// Something gave up waiting.
@@ -126,6 +138,7 @@ impl LogCause {
             LogCause::NoCompiler { .. } => "no-compiler",
             LogCause::NoMake => "no-make",
             LogCause::RuntimeRefused { .. } => "runtime-refused",
+            LogCause::BuildError => "build-error",
             LogCause::Network => "network",
             LogCause::Timeout => "timeout",
             LogCause::OutOfMemory => "out-of-memory",
@@ -138,7 +151,10 @@ impl LogCause {
     /// when the installer stopped for the runtime, while a missing header or library is often a
     /// configure probe failing by design on the way to the real error. Among the rest, a
     /// missing header names what to install; a kill or a timeout is often only the consequence
-    /// of something printed earlier.
+    /// of something printed earlier. A compiler error comes after the causes that name what
+    /// to install (it is often their fallout) and before kills, memory and the network: a
+    /// download retried early in a log does not make the compiler's rejection of the source
+    /// transient.
     fn rank(&self) -> u8 {
         match self {
             LogCause::RuntimeRefused { .. } => 0,
@@ -146,9 +162,10 @@ impl LogCause {
             | LogCause::MissingLibrary { .. }
             | LogCause::MissingPkgConfig { .. } => 1,
             LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
-            LogCause::OutOfMemory | LogCause::Killed => 3,
-            LogCause::Network | LogCause::Timeout => 4,
-            LogCause::Unknown => 5,
+            LogCause::BuildError => 3,
+            LogCause::OutOfMemory | LogCause::Killed => 4,
+            LogCause::Network | LogCause::Timeout => 5,
+            LogCause::Unknown => 6,
         }
     }
 }
@@ -166,6 +183,7 @@ impl fmt::Display for LogCause {
             LogCause::RuntimeRefused { required, found } => {
                 write!(f, "runtime refused: requires {required}, found {found}")
             }
+            LogCause::BuildError => f.write_str("compiler error"),
             LogCause::Network => f.write_str("network failure"),
             LogCause::Timeout => f.write_str("timed out"),
             LogCause::OutOfMemory => f.write_str("out of memory"),
@@ -361,8 +379,9 @@ fn evidence(text: &str) -> String {
 /// Most of a big log is chatter that contains none of them, and testing these few with
 /// prebuilt searchers costs far less than running every matcher; a new matcher must add its
 /// word here (the unit tests check the phrase lists).
-const ANCHORS: [&str; 26] = [
+const ANCHORS: [&str; 27] = [
     "found",
+    "error: ",
     "find",
     "no such file",
     "include file",
@@ -442,6 +461,10 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
             found: found.to_owned(),
         });
     }
+    // Before memory, kills and the network: words quoted from the source are not theirs.
+    if compiler_error(text) {
+        return Some(LogCause::BuildError);
+    }
     if OOM_PHRASES.iter().any(|p| lower.contains(p)) {
         return Some(LogCause::OutOfMemory);
     }
@@ -508,6 +531,47 @@ fn ends_with_location(prefix: &str) -> bool {
         Some(p) => !p.is_empty(),
         None => false,
     }
+}
+
+/// Whether `t` is a GCC or Clang error at a source location: `FILE:LINE[:COL]: error: MESSAGE`
+/// or `... fatal error: MESSAGE`, with a message, in a file that is not an autoconf probe.
+fn compiler_error(t: &str) -> bool {
+    t.match_indices("error: ").any(|(p, m)| {
+        let before = &t[..p];
+        let before = before.strip_suffix("fatal ").unwrap_or(before);
+        !t[p + m.len()..].trim().is_empty()
+            && ends_with_location(before)
+            && !is_configure_probe(location_file(before))
+    })
+}
+
+/// The file of the location that ends `prefix` (see [`ends_with_location`]): its last word
+/// without `:LINE:` or `:LINE:COL:`.
+fn location_file(prefix: &str) -> &str {
+    let word = prefix
+        .trim_end()
+        .rsplit(char::is_whitespace)
+        .next()
+        .unwrap_or("");
+    let mut file = word.strip_suffix(':').unwrap_or(word);
+    for _ in 0..2 {
+        match file.rsplit_once(':') {
+            Some((head, n)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+                file = head;
+            }
+            _ => break,
+        }
+    }
+    file
+}
+
+/// Whether `file` is one of autoconf's probe sources. Common practice, no source: from memory,
+/// autoconf writes each test program to `conftest.c` (`conftest.cpp` and the like for other
+/// languages) and expects many of them not to compile; `config.log`, often printed when
+/// configure fails, shows their errors.
+fn is_configure_probe(file: &str) -> bool {
+    let base = file.rsplit(['/', '\\']).next().unwrap_or(file);
+    base.split('.').next() == Some("conftest") && base.contains('.')
 }
 
 /// A header path or similar name, unless it carries quoting that shows we cut in the wrong place.
@@ -825,6 +889,40 @@ mod tests {
         assert!(!ends_with_location("gcc: "));
         assert!(!ends_with_location(""));
         assert!(!ends_with_location("12:34: "));
+    }
+
+    #[test]
+    fn compiler_errors_need_a_location_and_a_message() {
+        // source: from memory, clang's wording for an undeclared identifier
+        assert!(compiler_error(
+            "x.c:3:12: error: use of undeclared identifier 'y'"
+        ));
+        assert!(compiler_error(
+            r"C:\src\a.c:1: fatal error: too many errors"
+        ));
+        assert!(!compiler_error("x.c:3:12: error: "));
+        assert!(!compiler_error(
+            "collect2: error: ld returned 1 exit status"
+        ));
+        assert!(!compiler_error("error: command 'cc' exited with status 1"));
+        assert!(!compiler_error("x.c:3:12: warning: unused variable 'x'"));
+        assert!(may_match("x.c:3:12: error: 'y' undeclared"));
+        assert_eq!(location_file("  src/x.c:3:12: "), "src/x.c");
+        assert_eq!(location_file("x.c:3: "), "x.c");
+        assert_eq!(location_file(r"C:\src\a.c:1:10: "), r"C:\src\a.c");
+    }
+
+    #[test]
+    fn configure_probe_files() {
+        for file in ["conftest.c", "conftest.cpp", "build/conftest.cc"] {
+            assert!(is_configure_probe(file), "{file}");
+        }
+        for file in ["conftest", "conftests.c", "myconftest.c", "src/x.c"] {
+            assert!(!is_configure_probe(file), "{file}");
+        }
+        assert!(!compiler_error(
+            "conftest.c:12:3: error: 'strlcpy' undeclared (first use in this function)"
+        ));
     }
 
     #[test]
