@@ -833,3 +833,37 @@ fn compiler_errors_outrank_kills_but_not_what_names_a_package() {
     );
     assert!(classify("cc1: fatal error: nosuch.c: No such file or directory\n").is_empty());
 }
+
+#[test]
+fn autoconf_preprocessor_probe_is_no_finding() {
+    // Named as configure names it, and otherwise: the header alone marks the probe.
+    for file in ["conftest.c", "probe.c"] {
+        let dir = source_file(file, "#include <ac_nonexistent.h>\n");
+        let Some(out) = run("gcc", &["-E", file], dir.path()) else {
+            return skip(
+                "autoconf_preprocessor_probe_is_no_finding",
+                "gcc is not installed",
+            );
+        };
+        assert!(!out.status.success());
+        let probe = stderr(&out);
+        // source: GNU gcc on this machine preprocessing autoconf's probe, `conftest.c:1:10:
+        // fatal error: ac_nonexistent.h: No such file or directory`, as configure prints it in
+        // config.log; then freedesktop pkg-config's wording (from memory, as in
+        // sample_lines_for_each_cause) for the check that really failed
+        assert!(probe.contains("fatal error: ac_nonexistent.h"), "{probe}");
+        assert!(classify(&probe).is_empty(), "{probe}");
+        let log = format!(
+            "checking how to run the C preprocessor... gcc -E\nconfigure:4321: gcc -E  {file}\n{probe}configure:4321: $? = 1\nconfigure: error: Package requirements (libfoo >= 1.2) were not met:\n\nNo package 'libfoo' found\n"
+        );
+        let findings = classify(&log);
+        let libfoo = LogCause::MissingPkgConfig {
+            module: "libfoo".into(),
+        };
+        assert_eq!(causes(&findings), [&libfoo], "{log}");
+        assert_eq!(primary(&findings).unwrap().cause, libfoo);
+    }
+    // source: from memory, clang's wording for the same probe
+    let clang = "conftest.c:11:10: fatal error: 'ac_nonexistent.h' file not found\n";
+    assert!(classify(clang).is_empty());
+}

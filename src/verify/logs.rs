@@ -12,7 +12,7 @@
 //!
 //! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
 //!   directory`, clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
-//!   file: 'foo.h'`.
+//!   file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
 //! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
 //!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
 //!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
@@ -422,6 +422,10 @@ fn may_match(lower: &str) -> bool {
 /// byte offsets agree between the two.
 fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     if let Some(header) = missing_header(text) {
+        // A probe that must fail says nothing about the image, nor is it a compiler error.
+        if header == AUTOCONF_PROBE_HEADER {
+            return None;
+        }
         return Some(LogCause::MissingHeader {
             header: header.to_owned(),
         });
@@ -480,6 +484,12 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     }
     None
 }
+
+/// The header autoconf includes to check that the preprocessor fails on a missing one. Common
+/// practice, no source: from memory, autoconf's preprocessor check (AC_PROG_CPP) preprocesses
+/// `#include <ac_nonexistent.h>` and expects it to fail, so its error, printed with
+/// `config.log`, is no missing header.
+const AUTOCONF_PROBE_HEADER: &str = "ac_nonexistent.h";
 
 fn missing_header(t: &str) -> Option<&str> {
     // gcc. The location prefix tells a header apart from a missing source file, which gcc
