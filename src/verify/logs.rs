@@ -62,11 +62,15 @@
 //!
 //! # Limits
 //!
-//! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
-//! failure at the end), from the first whole line in them, or when they hold no line end from
-//! the first whole `\r` segment ([`first_whole_segment`]); line numbers still count from the
-//! start of the text given (the results reader passes only a log file's tail, cut the same way,
-//! and the review says how much of the file it skipped). A bare carriage return splits a line into segments that share its
+//! [`classify`] reads all of the text it is given; bounding it is the caller's part. Log files
+//! can be very large, so the results reader passes only the last [`SCAN_TAIL_BYTES`] of one
+//! (installers print the failure at the end), from the first whole line in them, or when they
+//! hold no line end from the first whole `\r` segment ([`first_whole_segment`]), and the review
+//! says how much of the file it skipped. A record's own `log` text, already read whole with its
+//! results file, comes before that part and is never cut: the text classified is the record's
+//! text, then the file's part, and line numbers count from its start
+//! ([`crate::verify::compare::log_line_place`] says which of the two a line is in). A bare
+//! carriage return splits a line into segments that share its
 //! number, because progress bars redraw a line with `\r` and the error often lands on the same
 //! physical line; this also makes CRLF harmless.
 //! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
@@ -79,7 +83,7 @@ use std::collections::HashSet;
 use std::fmt;
 use std::sync::LazyLock;
 
-/// How much of the end of a log [`classify`] reads.
+/// How much of the end of a log file the results reader passes to [`classify`].
 pub const SCAN_TAIL_BYTES: usize = 16 << 20;
 
 /// The longest [`LogFinding::evidence`] in characters, before the closing ellipsis.
@@ -209,34 +213,16 @@ pub struct LogFinding {
 }
 
 /// Every cause the log shows, in log order. A cause seen again (same kind and same name) is
-/// reported only at its first line, so a header missing from ten files is one finding.
+/// reported only at its first line, so a header missing from ten files is one finding. All of
+/// `log` is read, line 1 being its first: a caller holding a huge log passes its tail (see the
+/// module docs, "Limits").
 pub fn classify(log: &str) -> Vec<LogFinding> {
-    classify_tail(log, SCAN_TAIL_BYTES)
-}
-
-/// The finding verification should act on: a runtime refusal, else the most specific kind, and
-/// the earliest of those, since later errors are often fallout from the first.
-pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
-    findings.iter().min_by_key(|f| f.cause.rank())
-}
-
-/// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
-pub fn primary_cause(log: &str) -> LogCause {
-    primary(&classify(log)).map_or(LogCause::Unknown, |f| f.cause.clone())
-}
-
-fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
-    let start = window_start(log, limit);
-    let first_line = 1 + log.as_bytes()[..start]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count();
     let mut seen = HashSet::new();
     let mut findings = Vec::new();
     // Reused across lines: a big log has millions of them.
     let mut clean = String::new();
     let mut lower = String::new();
-    for (i, line) in log[start..].split('\n').enumerate() {
+    for (i, line) in log.split('\n').enumerate() {
         for segment in line.split('\r') {
             strip_controls(prefix(segment, SEGMENT_BYTES), &mut clean);
             let text = clean.trim();
@@ -254,7 +240,7 @@ fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
             {
                 findings.push(LogFinding {
                     cause,
-                    line: first_line + i,
+                    line: i + 1,
                     evidence: evidence(text),
                 });
             }
@@ -263,17 +249,15 @@ fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
     findings
 }
 
-/// Where reading starts: `limit` bytes before the end, moved forward to the first whole segment
-/// ([`first_whole_segment`]).
-fn window_start(log: &str, limit: usize) -> usize {
-    if log.len() <= limit {
-        return 0;
-    }
-    let at = log.len() - limit;
-    if log.as_bytes()[at - 1] == b'\n' {
-        return at;
-    }
-    at + first_whole_segment(&log.as_bytes()[at..])
+/// The finding verification should act on: a runtime refusal, else the most specific kind, and
+/// the earliest of those, since later errors are often fallout from the first.
+pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
+    findings.iter().min_by_key(|f| f.cause.rank())
+}
+
+/// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
+pub fn primary_cause(log: &str) -> LogCause {
+    primary(&classify(log)).map_or(LogCause::Unknown, |f| f.cause.clone())
 }
 
 /// Where the first whole segment of `piece` starts, `piece` being the end of a longer log cut
@@ -1033,33 +1017,26 @@ mod tests {
     }
 
     #[test]
-    fn tail_window_keeps_whole_log_line_numbers() {
-        let log = "Killed\nfiller line\nmore filler\nConnection refused\n";
-        // A window that starts mid-line skips to the next line start.
-        let found = classify_tail(log, 25);
-        assert_eq!(found.len(), 1);
-        assert_eq!(found[0].cause, LogCause::Network);
-        assert_eq!(found[0].line, 4);
-        // A window that starts exactly at a line start keeps that line.
-        let found = classify_tail(log, "Connection refused\n".len());
-        assert_eq!(found.len(), 1);
-        assert_eq!(found[0].line, 4);
-        // A window inside the last, unterminated line still reads it: from its first whole
-        // `\r` segment, else from where the cut fell.
-        let log = "Killed\nDownloading 10%\rDownloading 20%\rConnection timed out";
-        let found = classify_tail(log, "0%\rDownloading 20%\rConnection timed out".len());
-        assert_eq!(found.len(), 1, "{found:?}");
-        assert_eq!(
-            (found[0].line, &found[0].evidence[..]),
-            (2, "Connection timed out")
-        );
-        let found = classify_tail("Killed\nConnection timed out", "timed out".len());
-        assert_eq!(found.len(), 1, "{found:?}");
-        assert_eq!((&found[0].cause, found[0].line), (&LogCause::Timeout, 2));
+    fn first_whole_segments_of_a_cut_piece() {
+        // After the first line end, else the first carriage return, else the first character.
+        assert_eq!(first_whole_segment(b"ler\nmore\n"), 4);
+        assert_eq!(first_whole_segment(b"0%\rDownloading 20%\rtimed out"), 3);
+        assert_eq!(first_whole_segment(b"timed out"), 0);
         // A cut inside a character skips the rest of it.
         assert_eq!(
             first_whole_segment("é timed out".as_bytes()[1..].as_ref()),
             1
+        );
+    }
+
+    #[test]
+    fn all_of_the_text_given_is_read() {
+        // Nothing before the end of a long text is skipped: bounding it is the caller's part.
+        let log = format!("Killed\n{}Connection refused\n", ".\n".repeat(1 << 20));
+        let found = classify(&log);
+        assert_eq!(
+            found.iter().map(|f| (&f.cause, f.line)).collect::<Vec<_>>(),
+            [(&LogCause::Killed, 1), (&LogCause::Network, (1 << 20) + 2)]
         );
     }
 
