@@ -664,6 +664,26 @@ error: runtime refused: requires >=3.8, <4, found 3.7.2
     );
 }
 
+/// Reads a results file naming `log` as the log file of one failure, the way `review` does.
+fn read_one_log_file(log: &str) -> basefit::model::RecordedResult {
+    use basefit::load::diag::Ledger;
+    use basefit::load::results::{Known, read_results};
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("install.log"), log).unwrap();
+    let path = dir.path().join("results.yaml");
+    std::fs::write(
+        &path,
+        "results:\n  - {package: a, image: i, outcome: failed, log_file: install.log}\n",
+    )
+    .unwrap();
+    let known = Known {
+        registry: None,
+        images: None,
+    };
+    let mut results = read_results(&path, &known, &mut Ledger::default()).unwrap();
+    results.remove(0)
+}
+
 #[test]
 fn a_last_line_longer_than_the_window_is_still_read() {
     // source: from memory, a progress bar that redraws with carriage returns and never ends
@@ -673,8 +693,200 @@ fn a_last_line_longer_than_the_window_is_still_read() {
         log.push_str("Downloading foo-1.0.tar.gz  42%\r");
     }
     log.push_str("foo.c:1:10: fatal error: zlib.h: No such file or directory");
-    let findings = classify(&log);
-    // The Killed line lies before the window; the error at the end of line 2 is read.
+    let record = read_one_log_file(&log);
+    assert!(record.log_skipped > 1024, "{}", record.log_skipped);
+    let findings = classify(record.log.as_deref().unwrap());
+    // The Killed line lies before the window; the error at the end of line 2 is read, on the
+    // first line of the part read.
     assert_eq!(causes(&findings), [&header("zlib.h")]);
-    assert_eq!(findings[0].line, 2);
+    assert_eq!(findings[0].line, 1);
+}
+
+/// A source file in a fresh directory.
+fn source_file(name: &str, text: &str) -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join(name), text).unwrap();
+    dir
+}
+
+/// gcc's output for a C file using an undeclared identifier.
+fn gcc_undeclared_identifier() -> Option<String> {
+    let dir = source_file(
+        "u.c",
+        "int f(int);\nint main(void) { int x = 1; return y + f(x); }\n",
+    );
+    let out = run("gcc", &["-c", "u.c", "-o", "u.o"], dir.path())?;
+    assert!(!out.status.success());
+    Some(stderr(&out))
+}
+
+const BUILD_ERROR: LogCause = LogCause::BuildError;
+
+#[test]
+fn gcc_and_gxx_compiler_errors() {
+    let Some(log) = gcc_undeclared_identifier() else {
+        return skip("gcc_and_gxx_compiler_errors", "gcc is not installed");
+    };
+    let findings = classify(&log);
+    // source: GNU gcc on this machine, `u.c:2:36: error: 'y' undeclared (first use in this
+    // function)` after an `In function` line, with its source excerpt and note
+    assert_eq!(causes(&findings), [&BUILD_ERROR], "{log}");
+    assert_eq!(findings[0].line, 2, "{log}");
+    assert!(findings[0].evidence.starts_with("u.c:2:"), "{log}");
+    assert!(
+        findings[0].evidence.contains("error: 'y' undeclared"),
+        "{log}"
+    );
+    assert_eq!(BUILD_ERROR.label(), "build-error");
+    assert!(!BUILD_ERROR.likely_flaky());
+
+    let dir = source_file(
+        "t.cpp",
+        "#include <string>\nint main() { int x = std::string(\"a\"); return x; }\n",
+    );
+    let Some(out) = run("g++", &["-c", "t.cpp", "-o", "t.o"], dir.path()) else {
+        return skip("gcc_and_gxx_compiler_errors", "g++ is not installed");
+    };
+    assert!(!out.status.success());
+    let log = stderr(&out);
+    let findings = classify(&log);
+    // source: GNU g++ on this machine, a type error (`cannot convert 'std::string' ... to
+    // 'int'`) at t.cpp:2
+    assert_eq!(causes(&findings), [&BUILD_ERROR], "{log}");
+    assert!(findings[0].evidence.starts_with("t.cpp:2:"), "{log}");
+}
+
+#[test]
+fn a_compiler_error_quoting_a_network_word_is_a_build_error() {
+    let dir = source_file("e.c", "int main(void) { return ECONNREFUSED; }\n");
+    let Some(out) = run("gcc", &["-c", "e.c", "-o", "e.o"], dir.path()) else {
+        return skip(
+            "a_compiler_error_quoting_a_network_word_is_a_build_error",
+            "gcc is not installed",
+        );
+    };
+    let log = stderr(&out);
+    let findings = classify(&log);
+    // source: GNU gcc on this machine, `e.c:1:25: error: 'ECONNREFUSED' undeclared`. Its
+    // source excerpt below it still reads as network trouble, but never ahead of the error.
+    let error = findings
+        .iter()
+        .find(|f| f.evidence.contains("error: 'ECONNREFUSED'"))
+        .unwrap_or_else(|| panic!("{findings:?} from {log}"));
+    assert_eq!(error.cause, BUILD_ERROR, "{log}");
+    assert_eq!(primary(&findings).unwrap().cause, BUILD_ERROR, "{log}");
+}
+
+#[test]
+fn undefined_references_stay_unrecognised() {
+    let dir = source_file("l.c", "int foo(void);\nint main(void) { return foo(); }\n");
+    let Some(out) = run("gcc", &["l.c", "-o", "l"], dir.path()) else {
+        return skip(
+            "undefined_references_stay_unrecognised",
+            "gcc is not installed",
+        );
+    };
+    assert!(!out.status.success());
+    let log = stderr(&out);
+    // source: GNU ld (binutils) via gcc on this machine: `l.c:(.text+0x..): undefined
+    // reference to `foo'` and `collect2: error: ld returned 1 exit status`. Neither is a
+    // compiler error at a source location, and neither names a missing package.
+    assert!(log.contains("undefined reference"), "{log}");
+    assert_eq!(causes(&classify(&log)), Vec::<&LogCause>::new(), "{log}");
+}
+
+/// The head of a pip build log whose first download attempt was refused and retried.
+// source: from memory, pip's retry warning (as in several_causes_primary_is_the_specific_one)
+const PIP_RETRIED: &str = "\
+Collecting tidewater-http
+WARNING: Retrying (Retry(total=4, connect=None, read=None, redirect=None, status=None)) after connection broken by 'NewConnectionError('<pip._vendor.urllib3.connection.HTTPSConnection object at 0x7f>: Failed to establish a new connection: [Errno 111] Connection refused')': /simple/tidewater-http/
+Downloading tidewater-http-2.9.4.tar.gz (40 kB)
+";
+
+#[test]
+fn a_compiler_error_after_a_retried_download_is_the_cause() {
+    let Some(gcc) = gcc_undeclared_identifier() else {
+        return skip(
+            "a_compiler_error_after_a_retried_download_is_the_cause",
+            "gcc is not installed",
+        );
+    };
+    // source: GNU gcc on this machine (see gcc_and_gxx_compiler_errors) after the pip lines
+    let log = format!(
+        "{PIP_RETRIED}Building tidewater-http 2.9.4 from source\n{gcc}error: building tidewater-http 2.9.4 failed: command 'cc' exited with status 1\n"
+    );
+    let findings = classify(&log);
+    assert_eq!(
+        causes(&findings),
+        [&LogCause::Network, &BUILD_ERROR],
+        "{log}"
+    );
+    let first = primary(&findings).unwrap();
+    assert_eq!((&first.cause, first.line), (&BUILD_ERROR, 6), "{log}");
+    assert!(!first.cause.likely_flaky());
+
+    // The same download retried, then given up: nothing but the network is shown.
+    let log = format!(
+        "{PIP_RETRIED}ERROR: Connection broken: Connection refused, giving up on tidewater-http\n"
+    );
+    let findings = classify(&log);
+    assert_eq!(causes(&findings), [&LogCause::Network], "{log}");
+    assert!(primary(&findings).unwrap().cause.likely_flaky());
+}
+
+#[test]
+fn compiler_errors_outrank_kills_but_not_what_names_a_package() {
+    // source: GNU gcc wording (see gcc_and_gxx_compiler_errors and gcc_missing_header), GNU ld
+    // (gcc_missing_library), the shell's Killed report (bash_reports_a_killed_job)
+    let error = "x.c:3:12: error: 'y' undeclared (first use in this function)\n";
+    let log = format!("Killed\n{error}");
+    assert_eq!(primary(&classify(&log)).unwrap().cause, BUILD_ERROR);
+    let log = format!("{error}/usr/bin/ld: cannot find -lz: No such file or directory\n");
+    assert_eq!(primary(&classify(&log)).unwrap().cause, library("z"));
+    let log = format!("{error}x.c:1:10: fatal error: zlib.h: No such file or directory\n");
+    assert_eq!(primary(&classify(&log)).unwrap().cause, header("zlib.h"));
+    // A fatal error that is no missing header is a compiler error; one without a source
+    // location (gcc's driver about its own input) is not.
+    // source: from memory, gcc's wording for an unreadable header and a missing input file
+    assert_eq!(
+        causes(&classify(
+            "x.c:1:10: fatal error: secret.h: Permission denied\n"
+        )),
+        [&BUILD_ERROR]
+    );
+    assert!(classify("cc1: fatal error: nosuch.c: No such file or directory\n").is_empty());
+}
+
+#[test]
+fn autoconf_preprocessor_probe_is_no_finding() {
+    // Named as configure names it, and otherwise: the header alone marks the probe.
+    for file in ["conftest.c", "probe.c"] {
+        let dir = source_file(file, "#include <ac_nonexistent.h>\n");
+        let Some(out) = run("gcc", &["-E", file], dir.path()) else {
+            return skip(
+                "autoconf_preprocessor_probe_is_no_finding",
+                "gcc is not installed",
+            );
+        };
+        assert!(!out.status.success());
+        let probe = stderr(&out);
+        // source: GNU gcc on this machine preprocessing autoconf's probe, `conftest.c:1:10:
+        // fatal error: ac_nonexistent.h: No such file or directory`, as configure prints it in
+        // config.log; then freedesktop pkg-config's wording (from memory, as in
+        // sample_lines_for_each_cause) for the check that really failed
+        assert!(probe.contains("fatal error: ac_nonexistent.h"), "{probe}");
+        assert!(classify(&probe).is_empty(), "{probe}");
+        let log = format!(
+            "checking how to run the C preprocessor... gcc -E\nconfigure:4321: gcc -E  {file}\n{probe}configure:4321: $? = 1\nconfigure: error: Package requirements (libfoo >= 1.2) were not met:\n\nNo package 'libfoo' found\n"
+        );
+        let findings = classify(&log);
+        let libfoo = LogCause::MissingPkgConfig {
+            module: "libfoo".into(),
+        };
+        assert_eq!(causes(&findings), [&libfoo], "{log}");
+        assert_eq!(primary(&findings).unwrap().cause, libfoo);
+    }
+    // source: from memory, clang's wording for the same probe
+    let clang = "conftest.c:11:10: fatal error: 'ac_nonexistent.h' file not found\n";
+    assert!(classify(clang).is_empty());
 }

@@ -124,3 +124,82 @@ fn real_tool_failures_map_to_the_package_that_ships_the_file() {
         "every library's development files are installed; nothing could be provoked"
     );
 }
+
+/// A compiler error that names no missing file maps to no catalog library, and the review
+/// treats it as a definite failure: not flaky for an earlier retried download, confirming no
+/// predicted cause but a missing system library (which it leaves undecided), and with advice
+/// to read the log line rather than to change the image.
+#[test]
+fn a_compiler_error_is_a_definite_failure_no_package_fixes() {
+    use basefit::load::{InputPaths, load_inputs};
+    use basefit::plan::{PlanOptions, plan};
+    use basefit::verify::Verdict;
+
+    let dir = tempfile::tempdir().unwrap();
+    let src = dir.path().join("u.c");
+    std::fs::write(&src, "int main(void) { return y; }\n").unwrap();
+    // source: GNU gcc on this machine, `u.c:1:25: error: 'y' undeclared ...`
+    let Some(gcc) = run(Command::new("gcc")
+        .arg("-c")
+        .arg(&src)
+        .arg("-o")
+        .arg(dir.path().join("u.o")))
+    else {
+        eprintln!("skipped: gcc is not installed (apt-get install -y gcc)");
+        return;
+    };
+    let findings = classify(&gcc);
+    let p = primary(&findings).unwrap_or_else(|| panic!("nothing classified in {gcc}"));
+    assert_eq!(p.cause, LogCause::BuildError, "{gcc}");
+    assert!(library_of(&Catalog::builtin(), &p.cause).is_none());
+
+    // source: from memory, pip's retry warning before the download that then succeeded
+    let log = format!(
+        "WARNING: Retrying (Retry(total=4)) after connection broken by 'NewConnectionError(\"[Errno 111] Connection refused\")': /simple/x/\n{gcc}"
+    );
+    std::fs::write(dir.path().join("build.log"), log).unwrap();
+    // Cells as demo-data/STORIES.md predicts them: tidewater-http installs on el9-3.0,
+    // saltbush fails on deb-2.8 (runtime-too-old), pixelmoss on alpine-2.6
+    // (missing-system-library).
+    let results = dir.path().join("results.yaml");
+    std::fs::write(
+        &results,
+        "results:\n\
+         \x20 - {package: tidewater-http, image: el9-3.0, outcome: failed, log_file: build.log}\n\
+         \x20 - {package: saltbush, image: deb-2.8, outcome: failed, log_file: build.log}\n\
+         \x20 - {package: pixelmoss, image: alpine-2.6, outcome: failed, log_file: build.log}\n",
+    )
+    .unwrap();
+    let inputs = load_inputs(&InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        results: vec![results],
+        ..Default::default()
+    })
+    .unwrap();
+    let matrix = plan(&inputs, &PlanOptions::default());
+    let review = basefit::verify::compare_inputs(&matrix, &inputs);
+    let cell = |package: &str| {
+        review
+            .cells
+            .iter()
+            .find(|c| c.package == package)
+            .unwrap_or_else(|| panic!("{package} not reviewed"))
+    };
+    let surprise = cell("tidewater-http");
+    assert_eq!(surprise.verdict, Verdict::SurpriseFailure);
+    assert_eq!(surprise.log_cause, Some(LogCause::BuildError));
+    let advice = surprise.suggestion.as_deref().unwrap();
+    assert!(
+        advice.contains("compiler error") && advice.contains("read the log line"),
+        "{advice}"
+    );
+    assert!(!advice.contains("retry"), "{advice}");
+    let runtime = cell("saltbush");
+    assert_eq!(runtime.verdict, Verdict::AgreedFailure);
+    assert_eq!(runtime.cause_agrees, Some(false));
+    let library = cell("pixelmoss");
+    assert_eq!(library.verdict, Verdict::AgreedFailure);
+    assert_eq!(library.cause_agrees, None);
+}

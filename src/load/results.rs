@@ -386,7 +386,10 @@ fn assemble(
         let mut log_inline_lines = 0;
         if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
-            match read_log_file(base, path, &full) {
+            match read_log_file(base, path, &full, SCAN_TAIL_BYTES as u64) {
+                // The record's own text is joined whole before the file's part, which is
+                // already cut to the classifier's window: the classifier reads all it is
+                // given, so neither part cuts the other.
                 Ok(tail) => {
                     log_skipped = tail.skipped;
                     log = Some(match log {
@@ -447,9 +450,10 @@ struct LogTail {
 /// untrusted package code, so the path must stay under that folder, symbolic links followed
 /// (otherwise a record could have the review print lines of any file the reviewer can read),
 /// and only regular files are opened (a FIFO would block the run, a device never end). Only the
-/// last [`SCAN_TAIL_BYTES`] are read, since the classifier looks at no more; they start at
-/// their first whole line or segment, as the classifier's own window does.
-fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, String> {
+/// last `window` bytes are read ([`SCAN_TAIL_BYTES`] outside tests), from their first whole
+/// line, or when they hold no line end from their first whole segment
+/// ([`first_whole_segment`]).
+fn read_log_file(base: &Path, written: &str, full: &Path, window: u64) -> Result<LogTail, String> {
     const UNDER: &str = "the log must lie under the results file's folder";
     if written.trim().is_empty() {
         return Err(
@@ -499,7 +503,6 @@ fn read_log_file(base: &Path, written: &str, full: &Path) -> Result<LogTail, Str
         ));
     }
     let (mut file, len) = open_regular(&real)?;
-    let window = SCAN_TAIL_BYTES as u64;
     let mut skipped = len.saturating_sub(window);
     // One byte before the window too: when it ends a line, the window starts a whole one.
     let before = skipped.min(1);
@@ -605,6 +608,101 @@ mod tests {
             notes[0].detail.contains("read as 1.2.0"),
             "{}",
             notes[0].detail
+        );
+    }
+
+    /// The part of a log file holding `text` that [`read_log_file`] reads with `window`, and
+    /// the bytes it skips.
+    fn tail_of(text: &[u8], window: u64) -> (String, u64) {
+        let dir = tempfile::tempdir().unwrap();
+        std::fs::write(dir.path().join("x.log"), text).unwrap();
+        let tail = read_log_file(dir.path(), "x.log", &dir.path().join("x.log"), window).unwrap();
+        (tail.text, tail.skipped)
+    }
+
+    #[test]
+    fn the_window_starts_at_a_whole_line_or_segment() {
+        let log = b"Killed\nfiller line\nmore filler\nConnection refused\n";
+        // A window that starts mid-line skips to the next line start.
+        assert_eq!(tail_of(log, 25), ("Connection refused\n".into(), 31));
+        // A window that starts exactly at a line start keeps that line.
+        let at = "Connection refused\n".len() as u64;
+        assert_eq!(tail_of(log, at), ("Connection refused\n".into(), 31));
+        assert_eq!(tail_of(log, 1000), (String::from_utf8_lossy(log).into(), 0));
+        // A window inside the last, unterminated line still reads it: from its first whole
+        // `\r` segment, else from where the cut fell.
+        let log = b"Killed\nDownloading 10%\rDownloading 20%\rConnection timed out";
+        let window = "0%\rDownloading 20%\rConnection timed out".len() as u64;
+        let (text, skipped) = tail_of(log, window);
+        assert_eq!(text, "Downloading 20%\rConnection timed out");
+        assert_eq!(skipped as usize, log.len() - text.len());
+        assert_eq!(
+            tail_of(b"Killed\nConnection timed out", 9),
+            ("timed out".into(), 18)
+        );
+        // A cut inside a character skips the rest of it.
+        assert_eq!(
+            tail_of("Killed\né timed out".as_bytes(), 11),
+            (" timed out".into(), 9)
+        );
+    }
+
+    /// A record's own `log` text is classified whole beside a log file whose part read fills
+    /// the window: it once went through the window again with that part and was cut off.
+    #[test]
+    fn a_record_s_own_log_text_is_read_beside_a_full_window() {
+        let dir = tempfile::tempdir().unwrap();
+        let filler = "compiling module 12345 of 99999: ok\n";
+        let mut log = String::with_capacity(SCAN_TAIL_BYTES + 200);
+        while log.len() < SCAN_TAIL_BYTES {
+            log.push_str(filler);
+        }
+        // source: GNU gcc wording, as in tests/log_classification.rs
+        let failure = "x.c:1:10: fatal error: zlib.h: No such file or directory\n";
+        log.push_str(failure);
+        std::fs::write(dir.path().join("huge.log"), &log).unwrap();
+        let path = dir.path().join("results.yaml");
+        // source: the runtime-refused form of the classifier's module docs
+        std::fs::write(
+            &path,
+            "results:\n  - package: a\n    image: i\n    outcome: failed\n    log: \"error: runtime refused: requires >=3.3, found 3.2.0\\nsecond line\"\n    log_file: huge.log\n",
+        )
+        .unwrap();
+        let known = Known {
+            registry: None,
+            images: None,
+        };
+        let results = read_results(&path, &known, &mut Ledger::default()).unwrap();
+        let r = &results[0];
+        assert_eq!(r.log_inline_lines, 2);
+        assert!(r.log_skipped > 0);
+        let findings = crate::verify::logs::classify(r.log.as_deref().unwrap());
+        let lines: Vec<(&str, usize)> =
+            findings.iter().map(|f| (f.cause.label(), f.line)).collect();
+        // Filler lines in the part read, before the failure's.
+        let read_lines = (log.len() - r.log_skipped as usize - failure.len()) / filler.len();
+        assert_eq!(
+            lines,
+            [
+                ("runtime-refused", 1),
+                ("missing-header", 2 + read_lines + 1)
+            ]
+        );
+        assert_eq!(
+            crate::verify::compare::log_line_place(r.log_inline_lines, r.log_skipped, 1),
+            "line 1 of the record's `log` text"
+        );
+        assert_eq!(
+            crate::verify::compare::log_line_place(
+                r.log_inline_lines,
+                r.log_skipped,
+                findings[1].line
+            ),
+            format!(
+                "line {} of the part of the log file read, which skips its first {} bytes",
+                read_lines + 1,
+                r.log_skipped
+            )
         );
     }
 

@@ -161,6 +161,10 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
         // A build that ran out of memory or was killed stopped before any predicted cause
         // could show: it confirms none of them.
         LogCause::OutOfMemory | LogCause::Killed => &[],
+        // A compiler error naming no missing header may still stem from a missing library
+        // (a wrong version installed, a header found elsewhere); it confirms no other cause.
+        LogCause::BuildError if predicted == Cause::MissingSystemLibrary => return None,
+        LogCause::BuildError => return Some(false),
         _ => return None,
     };
     Some(expected.contains(&predicted))
@@ -271,6 +275,9 @@ fn suggest(
         LogCause::RuntimeRefused { required, found } => Some(format!(
             "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
         )),
+        LogCause::BuildError => Some(
+            "the build failed with a compiler error that names no missing system package: read the log line; no change to the image is known to fix it".into(),
+        ),
         LogCause::Network | LogCause::Timeout => {
             Some("likely transient: retry before acting".into())
         }

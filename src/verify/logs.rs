@@ -12,7 +12,7 @@
 //!
 //! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
 //!   directory`, clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
-//!   file: 'foo.h'`.
+//!   file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
 //! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
 //!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
 //!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
@@ -27,6 +27,15 @@
 //!   program corresponding to "Unix Makefiles"`). Compiler names may carry a directory, a target
 //!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`).
 //! - [`LogCause::RuntimeRefused`]: the form defined below.
+//! - [`LogCause::BuildError`]: any other GCC or Clang error at a source location,
+//!   `FILE:LINE[:COL]: error: MESSAGE` or `FILE:LINE[:COL]: fatal error: MESSAGE` (gcc `x.c:3:12:
+//!   error: 'y' undeclared (first use in this function)`). The missing-header messages above are
+//!   such lines too and stay missing headers. Such a line is the compiler's verdict on the
+//!   source, so the identifiers it quotes are not read as other causes (`'ECONNREFUSED'
+//!   undeclared` is no network failure). Errors in autoconf's probe files (`conftest.c` and the
+//!   like) are not findings: configure compiles them expecting many to fail. The linker's
+//!   `undefined reference` lines and `collect2: error: ld returned 1 exit status` carry no
+//!   source location and are not recognised.
 //! - [`LogCause::OutOfMemory`]: `out of memory` (including `cc1: out of memory allocating`),
 //!   `Cannot allocate memory`, `virtual memory exhausted`, `std::bad_alloc`, OOM-killer notes.
 //! - [`LogCause::Killed`]: the shell's `Killed` job report, gcc's `Killed signal terminated
@@ -53,11 +62,15 @@
 //!
 //! # Limits
 //!
-//! Logs can be very large, so only the last [`SCAN_TAIL_BYTES`] are read (installers print the
-//! failure at the end), from the first whole line in them, or when they hold no line end from
-//! the first whole `\r` segment ([`first_whole_segment`]); line numbers still count from the
-//! start of the text given (the results reader passes only a log file's tail, cut the same way,
-//! and the review says how much of the file it skipped). A bare carriage return splits a line into segments that share its
+//! [`classify`] reads all of the text it is given; bounding it is the caller's part. Log files
+//! can be very large, so the results reader passes only the last [`SCAN_TAIL_BYTES`] of one
+//! (installers print the failure at the end), from the first whole line in them, or when they
+//! hold no line end from the first whole `\r` segment ([`first_whole_segment`]), and the review
+//! says how much of the file it skipped. A record's own `log` text, already read whole with its
+//! results file, comes before that part and is never cut: the text classified is the record's
+//! text, then the file's part, and line numbers count from its start
+//! ([`crate::verify::compare::log_line_place`] says which of the two a line is in). A bare
+//! carriage return splits a line into segments that share its
 //! number, because progress bars redraw a line with `\r` and the error often lands on the same
 //! physical line; this also makes CRLF harmless.
 //! Only the first 16 KiB of a segment are examined, since tools print their errors on short lines.
@@ -70,7 +83,7 @@ use std::collections::HashSet;
 use std::fmt;
 use std::sync::LazyLock;
 
-/// How much of the end of a log [`classify`] reads.
+/// How much of the end of a log file the results reader passes to [`classify`].
 pub const SCAN_TAIL_BYTES: usize = 16 << 20;
 
 /// The longest [`LogFinding::evidence`] in characters, before the closing ellipsis.
@@ -96,6 +109,9 @@ pub enum LogCause {
     NoMake,
     /// The installer refused the runtime version; see the module docs for the line format.
     RuntimeRefused { required: String, found: String },
+    /// The compiler rejected the source for a reason that names no missing header: a GCC or
+    /// Clang `FILE:LINE[:COL]: error:` line. Only the log line says what is wrong.
+    BuildError,
     /// The network failed (connection, DNS, TLS, gateway).
     Network,
     /// Something gave up waiting.
@@ -126,6 +142,7 @@ impl LogCause {
             LogCause::NoCompiler { .. } => "no-compiler",
             LogCause::NoMake => "no-make",
             LogCause::RuntimeRefused { .. } => "runtime-refused",
+            LogCause::BuildError => "build-error",
             LogCause::Network => "network",
             LogCause::Timeout => "timeout",
             LogCause::OutOfMemory => "out-of-memory",
@@ -138,7 +155,10 @@ impl LogCause {
     /// when the installer stopped for the runtime, while a missing header or library is often a
     /// configure probe failing by design on the way to the real error. Among the rest, a
     /// missing header names what to install; a kill or a timeout is often only the consequence
-    /// of something printed earlier.
+    /// of something printed earlier. A compiler error comes after the causes that name what
+    /// to install (it is often their fallout) and before kills, memory and the network: a
+    /// download retried early in a log does not make the compiler's rejection of the source
+    /// transient.
     pub(crate) fn rank(&self) -> u8 {
         match self {
             LogCause::RuntimeRefused { .. } => 0,
@@ -146,9 +166,10 @@ impl LogCause {
             | LogCause::MissingLibrary { .. }
             | LogCause::MissingPkgConfig { .. } => 1,
             LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
-            LogCause::OutOfMemory | LogCause::Killed => 3,
-            LogCause::Network | LogCause::Timeout => 4,
-            LogCause::Unknown => 5,
+            LogCause::BuildError => 3,
+            LogCause::OutOfMemory | LogCause::Killed => 4,
+            LogCause::Network | LogCause::Timeout => 5,
+            LogCause::Unknown => 6,
         }
     }
 }
@@ -166,6 +187,7 @@ impl fmt::Display for LogCause {
             LogCause::RuntimeRefused { required, found } => {
                 write!(f, "runtime refused: requires {required}, found {found}")
             }
+            LogCause::BuildError => f.write_str("compiler error"),
             LogCause::Network => f.write_str("network failure"),
             LogCause::Timeout => f.write_str("timed out"),
             LogCause::OutOfMemory => f.write_str("out of memory"),
@@ -191,34 +213,16 @@ pub struct LogFinding {
 }
 
 /// Every cause the log shows, in log order. A cause seen again (same kind and same name) is
-/// reported only at its first line, so a header missing from ten files is one finding.
+/// reported only at its first line, so a header missing from ten files is one finding. All of
+/// `log` is read, line 1 being its first: a caller holding a huge log passes its tail (see the
+/// module docs, "Limits").
 pub fn classify(log: &str) -> Vec<LogFinding> {
-    classify_tail(log, SCAN_TAIL_BYTES)
-}
-
-/// The finding verification should act on: a runtime refusal, else the most specific kind, and
-/// the earliest of those, since later errors are often fallout from the first.
-pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
-    findings.iter().min_by_key(|f| f.cause.rank())
-}
-
-/// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
-pub fn primary_cause(log: &str) -> LogCause {
-    primary(&classify(log)).map_or(LogCause::Unknown, |f| f.cause.clone())
-}
-
-fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
-    let start = window_start(log, limit);
-    let first_line = 1 + log.as_bytes()[..start]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count();
     let mut seen = HashSet::new();
     let mut findings = Vec::new();
     // Reused across lines: a big log has millions of them.
     let mut clean = String::new();
     let mut lower = String::new();
-    for (i, line) in log[start..].split('\n').enumerate() {
+    for (i, line) in log.split('\n').enumerate() {
         for segment in line.split('\r') {
             strip_controls(prefix(segment, SEGMENT_BYTES), &mut clean);
             let text = clean.trim();
@@ -236,7 +240,7 @@ fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
             {
                 findings.push(LogFinding {
                     cause,
-                    line: first_line + i,
+                    line: i + 1,
                     evidence: evidence(text),
                 });
             }
@@ -245,17 +249,15 @@ fn classify_tail(log: &str, limit: usize) -> Vec<LogFinding> {
     findings
 }
 
-/// Where reading starts: `limit` bytes before the end, moved forward to the first whole segment
-/// ([`first_whole_segment`]).
-fn window_start(log: &str, limit: usize) -> usize {
-    if log.len() <= limit {
-        return 0;
-    }
-    let at = log.len() - limit;
-    if log.as_bytes()[at - 1] == b'\n' {
-        return at;
-    }
-    at + first_whole_segment(&log.as_bytes()[at..])
+/// The finding verification should act on: a runtime refusal, else the most specific kind, and
+/// the earliest of those, since later errors are often fallout from the first.
+pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
+    findings.iter().min_by_key(|f| f.cause.rank())
+}
+
+/// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
+pub fn primary_cause(log: &str) -> LogCause {
+    primary(&classify(log)).map_or(LogCause::Unknown, |f| f.cause.clone())
 }
 
 /// Where the first whole segment of `piece` starts, `piece` being the end of a longer log cut
@@ -361,8 +363,9 @@ fn evidence(text: &str) -> String {
 /// Most of a big log is chatter that contains none of them, and testing these few with
 /// prebuilt searchers costs far less than running every matcher; a new matcher must add its
 /// word here (the unit tests check the phrase lists).
-const ANCHORS: [&str; 26] = [
+const ANCHORS: [&str; 27] = [
     "found",
+    "error: ",
     "find",
     "no such file",
     "include file",
@@ -403,6 +406,10 @@ fn may_match(lower: &str) -> bool {
 /// byte offsets agree between the two.
 fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     if let Some(header) = missing_header(text) {
+        // A probe that must fail says nothing about the image, nor is it a compiler error.
+        if header == AUTOCONF_PROBE_HEADER {
+            return None;
+        }
         return Some(LogCause::MissingHeader {
             header: header.to_owned(),
         });
@@ -442,6 +449,10 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
             found: found.to_owned(),
         });
     }
+    // Before memory, kills and the network: words quoted from the source are not theirs.
+    if compiler_error(text) {
+        return Some(LogCause::BuildError);
+    }
     if OOM_PHRASES.iter().any(|p| lower.contains(p)) {
         return Some(LogCause::OutOfMemory);
     }
@@ -457,6 +468,12 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     }
     None
 }
+
+/// The header autoconf includes to check that the preprocessor fails on a missing one. Common
+/// practice, no source: from memory, autoconf's preprocessor check (AC_PROG_CPP) preprocesses
+/// `#include <ac_nonexistent.h>` and expects it to fail, so its error, printed with
+/// `config.log`, is no missing header.
+const AUTOCONF_PROBE_HEADER: &str = "ac_nonexistent.h";
 
 fn missing_header(t: &str) -> Option<&str> {
     // gcc. The location prefix tells a header apart from a missing source file, which gcc
@@ -508,6 +525,47 @@ fn ends_with_location(prefix: &str) -> bool {
         Some(p) => !p.is_empty(),
         None => false,
     }
+}
+
+/// Whether `t` is a GCC or Clang error at a source location: `FILE:LINE[:COL]: error: MESSAGE`
+/// or `... fatal error: MESSAGE`, with a message, in a file that is not an autoconf probe.
+fn compiler_error(t: &str) -> bool {
+    t.match_indices("error: ").any(|(p, m)| {
+        let before = &t[..p];
+        let before = before.strip_suffix("fatal ").unwrap_or(before);
+        !t[p + m.len()..].trim().is_empty()
+            && ends_with_location(before)
+            && !is_configure_probe(location_file(before))
+    })
+}
+
+/// The file of the location that ends `prefix` (see [`ends_with_location`]): its last word
+/// without `:LINE:` or `:LINE:COL:`.
+fn location_file(prefix: &str) -> &str {
+    let word = prefix
+        .trim_end()
+        .rsplit(char::is_whitespace)
+        .next()
+        .unwrap_or("");
+    let mut file = word.strip_suffix(':').unwrap_or(word);
+    for _ in 0..2 {
+        match file.rsplit_once(':') {
+            Some((head, n)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+                file = head;
+            }
+            _ => break,
+        }
+    }
+    file
+}
+
+/// Whether `file` is one of autoconf's probe sources. Common practice, no source: from memory,
+/// autoconf writes each test program to `conftest.c` (`conftest.cpp` and the like for other
+/// languages) and expects many of them not to compile; `config.log`, often printed when
+/// configure fails, shows their errors.
+fn is_configure_probe(file: &str) -> bool {
+    let base = file.rsplit(['/', '\\']).next().unwrap_or(file);
+    base.split('.').next() == Some("conftest") && base.contains('.')
 }
 
 /// A header path or similar name, unless it carries quoting that shows we cut in the wrong place.
@@ -828,6 +886,40 @@ mod tests {
     }
 
     #[test]
+    fn compiler_errors_need_a_location_and_a_message() {
+        // source: from memory, clang's wording for an undeclared identifier
+        assert!(compiler_error(
+            "x.c:3:12: error: use of undeclared identifier 'y'"
+        ));
+        assert!(compiler_error(
+            r"C:\src\a.c:1: fatal error: too many errors"
+        ));
+        assert!(!compiler_error("x.c:3:12: error: "));
+        assert!(!compiler_error(
+            "collect2: error: ld returned 1 exit status"
+        ));
+        assert!(!compiler_error("error: command 'cc' exited with status 1"));
+        assert!(!compiler_error("x.c:3:12: warning: unused variable 'x'"));
+        assert!(may_match("x.c:3:12: error: 'y' undeclared"));
+        assert_eq!(location_file("  src/x.c:3:12: "), "src/x.c");
+        assert_eq!(location_file("x.c:3: "), "x.c");
+        assert_eq!(location_file(r"C:\src\a.c:1:10: "), r"C:\src\a.c");
+    }
+
+    #[test]
+    fn configure_probe_files() {
+        for file in ["conftest.c", "conftest.cpp", "build/conftest.cc"] {
+            assert!(is_configure_probe(file), "{file}");
+        }
+        for file in ["conftest", "conftests.c", "myconftest.c", "src/x.c"] {
+            assert!(!is_configure_probe(file), "{file}");
+        }
+        assert!(!compiler_error(
+            "conftest.c:12:3: error: 'strlcpy' undeclared (first use in this function)"
+        ));
+    }
+
+    #[test]
     fn compiler_names_with_prefix_path_and_version() {
         for name in [
             "cc",
@@ -925,33 +1017,26 @@ mod tests {
     }
 
     #[test]
-    fn tail_window_keeps_whole_log_line_numbers() {
-        let log = "Killed\nfiller line\nmore filler\nConnection refused\n";
-        // A window that starts mid-line skips to the next line start.
-        let found = classify_tail(log, 25);
-        assert_eq!(found.len(), 1);
-        assert_eq!(found[0].cause, LogCause::Network);
-        assert_eq!(found[0].line, 4);
-        // A window that starts exactly at a line start keeps that line.
-        let found = classify_tail(log, "Connection refused\n".len());
-        assert_eq!(found.len(), 1);
-        assert_eq!(found[0].line, 4);
-        // A window inside the last, unterminated line still reads it: from its first whole
-        // `\r` segment, else from where the cut fell.
-        let log = "Killed\nDownloading 10%\rDownloading 20%\rConnection timed out";
-        let found = classify_tail(log, "0%\rDownloading 20%\rConnection timed out".len());
-        assert_eq!(found.len(), 1, "{found:?}");
-        assert_eq!(
-            (found[0].line, &found[0].evidence[..]),
-            (2, "Connection timed out")
-        );
-        let found = classify_tail("Killed\nConnection timed out", "timed out".len());
-        assert_eq!(found.len(), 1, "{found:?}");
-        assert_eq!((&found[0].cause, found[0].line), (&LogCause::Timeout, 2));
+    fn first_whole_segments_of_a_cut_piece() {
+        // After the first line end, else the first carriage return, else the first character.
+        assert_eq!(first_whole_segment(b"ler\nmore\n"), 4);
+        assert_eq!(first_whole_segment(b"0%\rDownloading 20%\rtimed out"), 3);
+        assert_eq!(first_whole_segment(b"timed out"), 0);
         // A cut inside a character skips the rest of it.
         assert_eq!(
             first_whole_segment("é timed out".as_bytes()[1..].as_ref()),
             1
+        );
+    }
+
+    #[test]
+    fn all_of_the_text_given_is_read() {
+        // Nothing before the end of a long text is skipped: bounding it is the caller's part.
+        let log = format!("Killed\n{}Connection refused\n", ".\n".repeat(1 << 20));
+        let found = classify(&log);
+        assert_eq!(
+            found.iter().map(|f| (&f.cause, f.line)).collect::<Vec<_>>(),
+            [(&LogCause::Killed, 1), (&LogCause::Network, (1 << 20) + 2)]
         );
     }
 
