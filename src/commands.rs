@@ -471,6 +471,27 @@ pub struct PlanCommand {
 
 /// `plan`: the predicted matrix, written as YAML and JSON, and its summary.
 pub fn plan(o: &PlanCommand) -> Result<Output> {
+    // Checked before the inputs load: a registry-sized run would otherwise be thrown away.
+    if o.shard.is_some() && o.out.is_none() {
+        return Err(BadInput::file(
+            "command line",
+            "--shard needs --out DIR: a shard's matrix is only of use written down for `basefit merge`",
+        )
+        .into());
+    }
+    if let (Some(cache), Some(dir)) = (&o.cache, &o.out) {
+        for name in MATRIX_FILES {
+            if crate::load::diag::same_file(cache, &dir.join(name)) {
+                return Err(BadInput::file(
+                    cache.display().to_string(),
+                    format!(
+                        "--cache names the {name} that --out writes; give the cache a file of its own"
+                    ),
+                )
+                .into());
+            }
+        }
+    }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
     let mut out = Output::default();
@@ -484,6 +505,12 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         write_matrix(matrix, dir, &mut out)?;
     }
     if let Some(p) = &o.cache {
+        if stats.previous_set_aside {
+            out.stderr.push(format!(
+                "plan cache {} was written by another version of basefit, or with another --budget, --no-native or catalog; planning from scratch",
+                p.display()
+            ));
+        }
         report::write_atomic(p, cache.to_sealed_json().as_bytes())?;
         out.stderr.push(format!(
             "plan cache {}: {} cells reused, {} solved",
@@ -493,13 +520,21 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         ));
     }
     if let Some(s) = o.shard {
-        out.stdout = format!(
-            "shard {}/{}: {} of {} cells planned; merge the shards with `basefit merge`\n",
-            s.index,
-            s.count,
+        let (cells, total) = (
             matrix.cells.len(),
-            matrix.packages.len() * matrix.images.len()
+            matrix.packages.len() * matrix.images.len(),
         );
+        out.stdout = match o.format {
+            Format::Json => report::to_json(&serde_json::json!({
+                "shard": { "index": s.index, "count": s.count },
+                "cells": cells,
+                "total": total,
+            })),
+            Format::Table => format!(
+                "shard {}/{}: {cells} of {total} cells planned; merge the shards with `basefit merge`\n",
+                s.index, s.count
+            ),
+        };
         return Ok(out);
     }
     let summary = plan::summarise(matrix);
@@ -523,6 +558,7 @@ fn read_cache(
     #[derive(serde::Deserialize)]
     struct Header {
         format: Option<u32>,
+        global: Option<u64>,
     }
     let what = "basefit plan cache (delete it to plan from scratch)";
     let text = crate::load::diag::read_text(path)?;
@@ -549,19 +585,27 @@ fn read_cache(
         return whole.map(Some);
     }
     let header: Header = parse_json(path, &text, what)?;
-    match header.format {
+    match header {
         // This version's cache that does not read: damaged, reported where it breaks.
-        Some(plan::replan::CACHE_FORMAT) => return whole.map(Some),
-        // Every cache basefit ever wrote says its format. JSON without one is some other
-        // file given as --cache by mistake (a matrix.json, say), which planning from scratch
-        // would overwrite.
-        None => {
+        Header {
+            format: Some(plan::replan::CACHE_FORMAT),
+            ..
+        } => return whole.map(Some),
+        // Every cache basefit ever wrote is one object with a `format` and a `global`
+        // fingerprint. Anything else is some other file given as --cache by mistake (a
+        // matrix.json, a settings file), which planning from scratch would overwrite.
+        Header {
+            format: Some(_),
+            global: Some(_),
+        } if text.trim_start().starts_with('{') => {}
+        _ => {
             return Err(BadInput::file(
                 path.display().to_string(),
-                format!("not a {what}: it has no `format` field, which every cache carries"),
+                format!(
+                    "not a {what}: it is no JSON object with the `format` and `global` fields every cache carries"
+                ),
             ));
         }
-        Some(_) => {}
     }
     out.stderr.push(format!(
         "plan cache {} was written by another version of basefit; planning from scratch",
@@ -584,11 +628,16 @@ fn parse_json<T: serde::de::DeserializeOwned>(
     what: &str,
 ) -> Result<T, BadInput> {
     serde_json::from_str(text).map_err(|e| {
+        // basefit writes caches on one line: without the column a line says nothing there.
+        let column = match e.column() {
+            0 => String::new(),
+            c => format!(" (column {c})"),
+        };
         BadInput::parsed(
             path.display().to_string(),
             e.line(),
             e.column(),
-            &format!("not a {what}: {e}"),
+            &format!("not a {what}: {e}{column}"),
         )
     })
 }
@@ -642,9 +691,11 @@ fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.
+/// The files `plan --out` and `merge --out` write into their folder.
+const MATRIX_FILES: [&str; 2] = ["matrix.yaml", "matrix.json"];
+
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
-    let yaml = dir.join("matrix.yaml");
-    let json = dir.join("matrix.json");
+    let [yaml, json] = MATRIX_FILES.map(|name| dir.join(name));
     report::write_all_atomic(&[
         (yaml.clone(), report::to_yaml(matrix).into_bytes()),
         (json.clone(), report::to_json(matrix).into_bytes()),

@@ -13,20 +13,24 @@ fn root() -> PathBuf {
 /// Runs `basefit plan` on the demo inputs with `cache`, writing into `out`; returns (exit
 /// code, stdout, stderr).
 fn plan(cache: &Path, out: &Path) -> (i32, String, String) {
+    plan_with(cache, out, &[])
+}
+
+/// [`plan`] with more arguments.
+fn plan_with(cache: &Path, out: &Path, more: &[&str]) -> (i32, String, String) {
     let r = root();
-    common::run_basefit([
-        "plan".as_ref(),
-        "--registry".as_ref(),
-        r.join("demo-data/registry.yaml").as_os_str(),
-        "--images".as_ref(),
-        r.join("matrices/demo-images.yaml").as_os_str(),
-        "--priorities".as_ref(),
-        r.join("demo-data/priorities.yaml").as_os_str(),
-        "--cache".as_ref(),
-        cache.as_os_str(),
-        "--out".as_ref(),
-        out.as_os_str(),
-    ])
+    let mut args: Vec<std::ffi::OsString> = vec!["plan".into()];
+    for (flag, file) in [
+        ("--registry", "demo-data/registry.yaml"),
+        ("--images", "matrices/demo-images.yaml"),
+        ("--priorities", "demo-data/priorities.yaml"),
+    ] {
+        args.push(flag.into());
+        args.push(r.join(file).into());
+    }
+    args.extend(["--cache".into(), cache.into(), "--out".into(), out.into()]);
+    args.extend(more.iter().map(|a| a.into()));
+    common::run_basefit(args)
 }
 
 fn read(path: PathBuf) -> Vec<u8> {
@@ -74,7 +78,8 @@ fn a_warm_run_writes_the_files_a_cold_run_writes() {
 fn a_cache_another_version_wrote_is_replanned_and_replaced() {
     let d = tempfile::tempdir().unwrap();
     let cache = d.path().join("plan.cache");
-    std::fs::write(&cache, "{\"format\": 0, \"anything\": [1, 2, 3]}\n").unwrap();
+    // Every cache carried a format and a global fingerprint from the first one on.
+    std::fs::write(&cache, "{\"format\": 0, \"global\": 7, \"cells\": []}\n").unwrap();
     let (code, _, stderr) = plan(&cache, &d.path().join("first"));
     assert_eq!(code, 0, "{stderr}");
     assert!(
@@ -101,7 +106,7 @@ fn a_json_file_that_is_no_cache_is_refused_and_left_alone() {
     assert_eq!(code, 2, "{stderr}");
     assert!(
         stderr.contains("matrix.json: not a basefit plan cache")
-            && stderr.contains("no `format` field"),
+            && stderr.contains("no JSON object with the `format` and `global` fields"),
         "{stderr}"
     );
     assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
@@ -184,4 +189,125 @@ fn a_cache_edited_where_its_structure_stays_sound_is_an_input_error() {
         "{stderr}"
     );
     assert_eq!(std::fs::read_to_string(&cache).unwrap(), edited);
+}
+
+/// JSON that has a `format` number but is no cache (a settings file, an array) is not taken
+/// for an older cache and replaced.
+#[test]
+fn json_with_a_format_number_that_is_no_cache_is_left_alone() {
+    for text in [
+        "{\"format\": 2, \"name\": \"my settings\"}\n",
+        "[18]\n",
+        "[18, 5]\n",
+    ] {
+        let d = tempfile::tempdir().unwrap();
+        let cache = d.path().join("settings.json");
+        std::fs::write(&cache, text).unwrap();
+        let (code, _, stderr) = plan(&cache, &d.path().join("out"));
+        assert_eq!(code, 2, "{text}: {stderr}");
+        assert!(stderr.contains("not a basefit plan cache"), "{stderr}");
+        assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
+    }
+}
+
+/// A cache written with other options is set aside whole, and the run says so.
+#[test]
+fn a_cache_planned_with_other_options_is_set_aside_with_a_note() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, _, stderr) = plan_with(&cache, &d.path().join("a"), &["--budget", "500"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(!stderr.contains("planning from scratch"), "{stderr}");
+    let (code, _, stderr) = plan(&cache, &d.path().join("b"));
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("or with another --budget, --no-native or catalog; planning from scratch"),
+        "{stderr}"
+    );
+    assert_eq!(counts(&stderr).0, 0);
+}
+
+/// The cache is written on one line: a parse error names the column too.
+#[test]
+fn a_damaged_one_line_cache_names_the_column() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, _, stderr) = plan(&cache, &d.path().join("a"));
+    assert_eq!(code, 0, "{stderr}");
+    let text = std::fs::read_to_string(&cache).unwrap();
+    assert_eq!(text.lines().count(), 1);
+    let at = text.len() / 2 + text[text.len() / 2..].find(',').unwrap();
+    let damaged = format!("{};{}", &text[..at], &text[at + 1..]);
+    std::fs::write(&cache, &damaged).unwrap();
+    let (code, _, stderr) = plan(&cache, &d.path().join("b"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("plan.cache:1: ") && stderr.contains(&format!("(column {})", at + 1)),
+        "wanted column {} in {stderr}",
+        at + 1
+    );
+}
+
+/// `--cache` naming a file `--out` writes would leave the cache where the matrix should be.
+#[test]
+fn a_cache_that_is_one_of_the_out_files_is_refused() {
+    let d = tempfile::tempdir().unwrap();
+    let out = d.path().join("out");
+    for cache in [
+        out.join("matrix.json"),
+        out.join(".").join("matrix.yaml"),
+        // Before the folder exists, as written on the command line.
+        d.path().join("new").join("matrix.json"),
+    ] {
+        let dir = if cache.starts_with(&out) {
+            out.clone()
+        } else {
+            d.path().join("new")
+        };
+        std::fs::create_dir_all(&out).unwrap();
+        let (code, _, stderr) = plan(&cache, &dir);
+        assert_eq!(code, 2, "{}: {stderr}", cache.display());
+        assert!(
+            stderr.contains("--cache names the matrix.") && stderr.contains("that --out writes"),
+            "{stderr}"
+        );
+        assert!(!cache.exists());
+    }
+}
+
+#[test]
+fn a_shard_needs_out_and_reports_in_json_when_asked() {
+    let d = tempfile::tempdir().unwrap();
+    let r = root();
+    let inputs = [
+        "--registry".to_string(),
+        r.join("demo-data/registry.yaml").display().to_string(),
+        "--images".to_string(),
+        r.join("matrices/demo-images.yaml").display().to_string(),
+        "--priorities".to_string(),
+        r.join("demo-data/priorities.yaml").display().to_string(),
+    ];
+    let (code, stdout, stderr) = common::run_basefit(
+        ["plan", "--shard", "1/2"]
+            .iter()
+            .map(|s| s.to_string())
+            .chain(inputs.clone()),
+    );
+    assert_eq!(code, 2, "{stdout}{stderr}");
+    assert!(stderr.contains("--shard needs --out DIR"), "{stderr}");
+    let out = d.path().join("s1");
+    let (code, stdout, stderr) = common::run_basefit(
+        ["plan", "--shard", "1/2", "--format", "json", "--out"]
+            .iter()
+            .map(|s| s.to_string())
+            .chain([out.display().to_string()])
+            .chain(inputs),
+    );
+    assert_eq!(code, 0, "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(v["shard"]["index"], 1);
+    assert_eq!(v["shard"]["count"], 2);
+    // The demo plans 33 entries on 10 images; shard 1/2 holds the even cells.
+    assert_eq!(v["total"], 330);
+    assert_eq!(v["cells"], 165);
 }

@@ -251,6 +251,13 @@ fn flip_observed(inputs: &mut Inputs, cache: &PlanCache, rng: &mut Rng) -> &'sta
             }
         }
     }
+    // An earlier edit of the same round may have removed the release (or all of them).
+    let registry = &inputs.registry;
+    seen.retain(|&(name, index, _)| {
+        registry
+            .id(name)
+            .is_some_and(|id| (index as usize) < registry.package(id).releases.len())
+    });
     if seen.is_empty() {
         return "nothing observed";
     }

@@ -138,6 +138,34 @@ pub fn refuse_repeated(paths: &[PathBuf], flag: &str, why: &str) -> Result<(), B
     Ok(())
 }
 
+/// Whether two paths name one file as the file system knows them (see [`refuse_repeated`]);
+/// a path that does not exist yet names the entry its folder would hold, so an output file
+/// about to be written can be told apart from an input before anything is written.
+///
+/// ```
+/// use basefit::load::diag::same_file;
+/// let dir = std::env::temp_dir();
+/// let a = dir.join("basefit-doc-not-written-yet.json");
+/// assert!(same_file(&a, &dir.join(".").join("basefit-doc-not-written-yet.json")));
+/// assert!(!same_file(&a, &dir.join("basefit-doc-other.json")));
+/// ```
+pub fn same_file(a: &Path, b: &Path) -> bool {
+    if let (Some(x), Some(y)) = (FileIdentity::of(a), FileIdentity::of(b)) {
+        return x == y;
+    }
+    let place = |p: &Path| {
+        let folder = match p.parent() {
+            Some(d) if !d.as_os_str().is_empty() => d,
+            _ => Path::new("."),
+        };
+        Some((FileIdentity::of(folder)?, p.file_name()?.to_owned()))
+    };
+    match (place(a), place(b)) {
+        (Some(x), Some(y)) => x == y,
+        _ => a == b,
+    }
+}
+
 /// What makes two paths one file: a device and inode where the platform has them (hard
 /// links share them and have no path in common), else the resolved path.
 #[derive(PartialEq, Eq)]

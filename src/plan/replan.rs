@@ -596,6 +596,9 @@ pub struct ReplanStats {
     /// The cells solved, by index (entry times image count plus image), ascending: lets a
     /// benchmark tell the time spent solving from the time spent on everything else.
     pub solved_cells: Vec<usize>,
+    /// Whether a previous cache was given but set aside whole: written by another version of
+    /// basefit, or with other options or another catalog, so none of its cells can be judged.
+    pub previous_set_aside: bool,
 }
 
 /// Where a package of the previous cache stands in the current registry.
@@ -1143,12 +1146,14 @@ pub fn replan(
 ) -> (PlanCache, ReplanStats) {
     let registry = &inputs.registry;
     let global = global_fingerprint(inputs, options);
+    let given = previous.is_some();
     let previous = previous.filter(|p| {
         p.format == CACHE_FORMAT
             && p.global == global
             && p.bases.len() == p.matrix.cells.len()
             && p.packages.windows(2).all(|w| w[0].name < w[1].name)
     });
+    let previous_set_aside = given && previous.is_none();
     let (old_packages, old_bases, old_cells) = match previous {
         Some(p) => (p.packages, p.bases, p.matrix.cells),
         None => Default::default(),
@@ -1268,6 +1273,7 @@ pub fn replan(
         reused: results.len() - solved_cells.len(),
         solved: solved_cells.len(),
         solved_cells,
+        previous_set_aside,
     };
     for (k, marked) in consulted_before.iter().enumerate() {
         if marked.load(Ordering::Relaxed)
@@ -1585,10 +1591,9 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         return Err(fail(
             seen.get(&index).copied(),
             format!(
-                "shard {index}/{count} lacks its cell for {} on {} (cell {} of {total} of the whole matrix)",
+                "shard {index}/{count} lacks its cell for {} on {} (cell {i} of the whole matrix's {total}, counting from 0)",
                 first.packages[i / n].name,
                 first.images[i % n].id,
-                i + 1
             ),
         ));
     }
