@@ -226,7 +226,7 @@ pub fn classify(log: &str) -> Vec<LogFinding> {
         for segment in line.split('\r') {
             strip_controls(prefix(segment, SEGMENT_BYTES), &mut clean);
             let text = clean.trim();
-            if text.is_empty() {
+            if text.is_empty() || quotes_source(text) {
                 continue;
             }
             lower.clear();
@@ -247,6 +247,15 @@ pub fn classify(log: &str) -> Vec<LogFinding> {
         }
     }
     findings
+}
+
+/// Whether `text` (trimmed) is a line where GCC or Clang quote the source under a diagnostic,
+/// `2 |   return ECONNREFUSED;`, or mark it, `|          ^~~~`: its words are the program's, not
+/// a report of what went wrong (gcc on this machine prints both forms).
+fn quotes_source(text: &str) -> bool {
+    let digits = text.bytes().take_while(u8::is_ascii_digit).count();
+    let rest = text[digits..].trim_start_matches(' ');
+    rest.starts_with('|') && (digits > 0 || text.starts_with('|'))
 }
 
 /// The finding verification should act on: a runtime refusal, else the most specific kind, and
