@@ -915,3 +915,64 @@ fn a_runtime_requirement_no_version_meets_blames_no_image() {
         "{wombat}"
     );
 }
+
+/// Two dependencies a release cannot meet on the image: whichever the solver meets first (the
+/// order they are listed in decides that), both are named, and the cause follows README's
+/// ranking (a runtime too old before one too new, before no build, before yanked releases;
+/// a missing name before all of them), not the listing order.
+#[test]
+fn several_unmet_dependencies_give_one_cause_whatever_their_order() {
+    let registry = r#"packages:
+  - name: wantsold
+    versions: [{version: "1.0.0", runtime: "<1"}]
+  - name: wantsnew
+    versions: [{version: "1.0.0", runtime: ">=9"}]
+  - name: muslonly
+    versions: [{version: "1.0.0", builds: {prebuilt: [linux/musl/x86_64]}}]
+  - name: pulled
+    versions: [{version: "1.0.0", yanked: true}]
+  - name: pair-a
+    versions: [{version: "1.0.0", depends: [{name: wantsold}, {name: wantsnew}]}]
+  - name: pair-b
+    versions: [{version: "1.0.0", depends: [{name: wantsnew}, {name: wantsold}]}]
+  - name: trio-a
+    versions: [{version: "1.0.0", depends: [{name: pulled}, {name: muslonly}, {name: wantsnew}]}]
+  - name: trio-b
+    versions: [{version: "1.0.0", depends: [{name: wantsnew}, {name: muslonly}, {name: pulled}]}]
+  - name: ghost-a
+    versions: [{version: "1.0.0", depends: [{name: wantsold}, {name: nonesuch}]}]
+  - name: ghost-b
+    versions: [{version: "1.0.0", depends: [{name: nonesuch}, {name: wantsold}]}]
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities: [pair-a, pair-b, trio-a, trio-b, ghost-a, ghost-b]\n",
+    );
+    let options = PlanOptions::default();
+    let blockers = |name: &str| {
+        let cell = explain(&inputs, name, "deb", &options).unwrap().cell;
+        let mut b: Vec<String> = cell.blockers.iter().map(|b| b.package.clone()).collect();
+        b.sort();
+        (cell.cause, b)
+    };
+    for name in ["pair-a", "pair-b"] {
+        assert_eq!(
+            blockers(name),
+            (
+                Some(Cause::RuntimeTooOld),
+                vec!["wantsnew".to_string(), "wantsold".to_string()]
+            ),
+            "{name}"
+        );
+    }
+    for name in ["trio-a", "trio-b"] {
+        let (cause, b) = blockers(name);
+        assert_eq!(cause, Some(Cause::RuntimeTooOld), "{name}");
+        assert_eq!(b, ["muslonly", "pulled", "wantsnew"], "{name}");
+    }
+    for name in ["ghost-a", "ghost-b"] {
+        let (cause, b) = blockers(name);
+        assert_eq!(cause, Some(Cause::MissingFromRegistry), "{name}");
+        assert!(b.contains(&"nonesuch".to_string()), "{name}: {b:?}");
+    }
+}

@@ -458,6 +458,75 @@ fn named(facts: &Facts) -> Vec<PackageId> {
     out
 }
 
+/// How many releases of a dependent [`unusable_siblings`] looks at: a fact about more of them
+/// is about a long run of versions, where each release's own dependencies rarely all fail.
+const SIBLING_RELEASES: usize = 64;
+
+/// A dependency of some releases of a package that none of them can meet on the image: its
+/// name, what the cause is, the requirement text and the phrase saying why.
+struct Sibling {
+    package: PackageId,
+    cause: Cause,
+    req: String,
+    phrase: String,
+}
+
+/// The dependencies, other than those in `known`, that every release of `dependent` in `set`
+/// has and cannot meet on the image: a name the registry lacks, or a requirement none of whose
+/// releases the image admits. Each fails those releases as surely as the dependency the
+/// solver happened to meet first, which depends on the order the dependencies are listed in;
+/// naming them too keeps the cause and the blockers from depending on that order.
+fn unusable_siblings(
+    view: &ImageView<'_>,
+    dependent: PackageId,
+    set: &IndexSet,
+    known: &[PackageId],
+) -> Vec<Sibling> {
+    let registry = view.registry;
+    let releases = &registry.package(dependent).releases;
+    let mut chosen: Vec<u32> = Vec::new();
+    for i in indices(set, releases.len()) {
+        if chosen.len() == SIBLING_RELEASES {
+            return Vec::new();
+        }
+        chosen.push(i);
+    }
+    let Some((&first, rest)) = chosen.split_first() else {
+        return Vec::new();
+    };
+    let unmet = |index: u32, target: PackageId| {
+        view.dependency_sets_on(dependent, index, move |p| p == target)
+            .find(|(p, dep_set)| {
+                !registry.package(*p).declared
+                    || !indices(dep_set, registry.package(*p).releases.len())
+                        .any(|k| view.admissions(*p)[k as usize] == Admission::Admissible)
+            })
+            .map(|(_, dep_set)| dep_set)
+    };
+    let mut out: Vec<Sibling> = Vec::new();
+    for dep in releases[first as usize].runtime_deps() {
+        let target = dep.package;
+        if known.contains(&target) || out.iter().any(|s| s.package == target) {
+            continue;
+        }
+        let Some(dep_set) = unmet(first, target) else {
+            continue;
+        };
+        if !rest.iter().all(|&i| unmet(i, target).is_some()) {
+            continue;
+        }
+        let (cause, phrase) = unusable(view, target, &dep_set);
+        out.push(Sibling {
+            package: target,
+            cause,
+            req: requirement_text(view, dependent, set, target, &dep_set),
+            phrase,
+        });
+    }
+    out.sort_by(|a, b| registry.name(a.package).cmp(registry.name(b.package)));
+    out
+}
+
 /// Explains a failed solve of `root` on the view's image. Also returns every package the
 /// explanation read beyond what the solver was answered (sorted, unique): a re-plan keeps the
 /// failure only while they are unchanged. Those are the packages its facts name and, when a
@@ -468,6 +537,26 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
     let mut facts = Facts::default();
     collect(tree, &mut facts);
     let mut examined = named(&facts);
+    // Per dependent named in a dependency fact (the first fact about it), the other
+    // dependencies its releases there cannot meet.
+    let mut siblings: BTreeMap<PackageId, Vec<Sibling>> = BTreeMap::new();
+    for f in &facts.order {
+        if let Fact::Depends(Node::Package(a), sa, ..) = f
+            && !siblings.contains_key(a)
+        {
+            let known: Vec<PackageId> = facts
+                .order
+                .iter()
+                .filter_map(|g| match g {
+                    Fact::Depends(Node::Package(x), _, b, _) if x == a => Some(*b),
+                    _ => None,
+                })
+                .collect();
+            let found = unusable_siblings(view, *a, sa, &known);
+            examined.extend(found.iter().map(|s| s.package));
+            siblings.insert(*a, found);
+        }
+    }
     // Walked wherever a missing name is among the facts, which covers every failure whose
     // cause can be a missing name: reading more only costs a re-plan a solve.
     let refusals_lifted = match facts.no_versions.get(&root) {
@@ -586,6 +675,33 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
                             registry.name(*ap),
                             describe(registry, *ap, sa)
                         ));
+                        for sib in siblings.get_mut(ap).map(std::mem::take).unwrap_or_default() {
+                            let name = registry.name(sib.package);
+                            let unmet = if registry.package(sib.package).declared {
+                                format!("no version of {name} can be used here: {}", sib.phrase)
+                            } else {
+                                format!("{name} {}", sib.phrase)
+                            };
+                            lines.push(format!(
+                                "{} {} also depends on {name} {}; {unmet}",
+                                registry.name(*ap),
+                                describe(registry, *ap, sa),
+                                sib.req,
+                            ));
+                            leaf_causes.push((sib.package, sib.cause));
+                            let why = if sib.cause == Cause::DependencyConflict {
+                                sib.phrase.as_str()
+                            } else {
+                                sib.cause.label()
+                            };
+                            blockers.push((
+                                Blocker {
+                                    package: sib.package,
+                                    reason: format!("{name} (wanted {}) {why}", sib.req),
+                                },
+                                sib.cause,
+                            ));
+                        }
                         if let Some((cause, phrase)) =
                             empty_requirement(*b, sb, &mut lines, &mut leaf_causes)
                         {
