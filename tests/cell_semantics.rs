@@ -976,3 +976,49 @@ fn several_unmet_dependencies_give_one_cause_whatever_their_order() {
         assert!(b.contains(&"nonesuch".to_string()), "{name}: {b:?}");
     }
 }
+
+/// A runtime requirement no runtime meets (`>=5, <4`: no version is both) is told apart from
+/// releases that need a newer or older runtime, and does not choose the cause's direction; nor
+/// does another image lift it.
+#[test]
+fn a_runtime_no_version_can_be_is_told_apart() {
+    let registry = r#"packages:
+  - name: never-or-newer
+    versions:
+      - {version: "1.0.0", runtime: ">=5, <4"}
+      - {version: "0.9.0", runtime: ">=9"}
+  - name: never-or-older
+    versions:
+      - {version: "1.0.0", runtime: ">=5, <4"}
+      - {version: "0.9.0", runtime: "<1"}
+  - name: never-or-ghost
+    versions:
+      - {version: "1.0.0", runtime: ">=5, <4"}
+      - {version: "0.9.0", depends: [{name: nonesuch}]}
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities: [never-or-newer, never-or-older, never-or-ghost]\n",
+    );
+    let options = PlanOptions::default();
+    let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
+    let newer = cell("never-or-newer");
+    assert_eq!(newer.cause, Some(Cause::RuntimeTooOld));
+    let line = newer
+        .explanation
+        .iter()
+        .find(|l| l.starts_with("no version of never-or-newer"))
+        .unwrap();
+    assert!(
+        line.contains("1 version needs a runtime no version can be (>=5, <4)")
+            && line.contains("1 version needs a newer runtime (>=9;"),
+        "{line}"
+    );
+    // Only the release needing an older runtime could ever install: that is the direction.
+    assert_eq!(cell("never-or-older").cause, Some(Cause::RuntimeTooNew));
+    // No image admits `>=5, <4`, so the missing name is what stops the package everywhere.
+    assert_eq!(
+        cell("never-or-ghost").cause,
+        Some(Cause::MissingFromRegistry)
+    );
+}

@@ -148,6 +148,12 @@ fn refusals_another_image_lifts(
             Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime | Admission::NoBuild
         )
     });
+    // No image has a runtime a requirement like `>=5, <4` admits.
+    let releases = &view.registry.package(root).releases;
+    for idx in tally.values_mut() {
+        idx.retain(|&i| !runtime_unmeetable(view.registry, &releases[i as usize]));
+    }
+    tally.retain(|_, idx| !idx.is_empty());
     let starts: Vec<(PackageId, u32)> = tally.values().flatten().map(|&i| (root, i)).collect();
     let (answers, mut read) = supplied(view, &starts);
     let ok: std::collections::BTreeSet<u32> = starts
@@ -310,50 +316,65 @@ pub(crate) fn unusable(
             "has no published version matching the requirement".into(),
         );
     }
-    let tally = refusals(view, package, set);
+    let mut tally = refusals(view, package, set);
+    // A requirement no runtime meets is no matter of this image's age: grouped with the
+    // releases that need a newer or older runtime it would send the reader to build images in
+    // vain, and it would choose the direction of the cause. Such releases are told apart,
+    // and set the cause only when nothing else is refused.
+    let mut impossible: Vec<u32> = Vec::new();
+    for (reason, idx) in tally.iter_mut() {
+        if matches!(
+            reason,
+            Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime
+        ) {
+            idx.retain(|&i| {
+                let no_runtime = runtime_unmeetable(registry, &releases[i as usize]);
+                if no_runtime {
+                    impossible.push(i);
+                }
+                !no_runtime
+            });
+        }
+    }
+    let cause = if tally.values().all(Vec::is_empty) {
+        cause_of_refusals(&refusals(view, package, set))
+    } else {
+        tally.retain(|_, idx| !idx.is_empty());
+        cause_of_refusals(&tally)
+    };
+    tally.retain(|_, idx| !idx.is_empty());
     let image = view.image;
     let mut parts = Vec::new();
+    if !impossible.is_empty() {
+        impossible.sort_unstable();
+        let n = impossible.len();
+        let (versions, need) = if n == 1 {
+            ("version", "needs")
+        } else {
+            ("versions", "need")
+        };
+        let shown = runtime_requirements(registry, releases, &impossible);
+        parts.push(format!(
+            "{n} {versions} {need} a runtime no version can be ({shown}): no image can install {}",
+            if n == 1 { "it" } else { "them" }
+        ));
+    }
     for (reason, idx) in &tally {
         let n = idx.len();
         let versions = if n == 1 { "version" } else { "versions" };
         let phrase = match reason {
             Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime => {
-                let mut reqs: Vec<String> = idx
-                    .iter()
-                    .filter_map(|&i| releases[i as usize].runtime)
-                    .map(|r| registry.requirement(r).text.clone())
-                    .collect();
-                reqs.sort();
-                reqs.dedup();
-                let shown = if reqs.len() > 3 {
-                    format!("{} and {} more", reqs[..3].join("; "), reqs.len() - 3)
-                } else {
-                    reqs.join("; ")
-                };
+                let shown = runtime_requirements(registry, releases, idx);
                 let dir = if *reason == Admission::NeedsNewerRuntime {
                     "a newer"
                 } else {
                     "an older"
                 };
                 let need = if n == 1 { "needs" } else { "need" };
-                // A requirement no runtime meets is no matter of this image's age: pointing
-                // at a newer or older one would send the reader to build images in vain.
-                let impossible = idx.iter().all(|&i| {
-                    releases[i as usize].runtime.is_some_and(|r| {
-                        !super::image::admits_some_runtime(registry.requirement(r))
-                    })
-                });
-                if impossible {
-                    format!(
-                        "{n} {versions} {need} a runtime no version can be ({shown}): no image can install {}",
-                        if n == 1 { "it" } else { "them" }
-                    )
-                } else {
-                    format!(
-                        "{n} {versions} {need} {dir} runtime ({shown}; the image has {})",
-                        image.runtime
-                    )
-                }
+                format!(
+                    "{n} {versions} {need} {dir} runtime ({shown}; the image has {})",
+                    image.runtime
+                )
             }
             Admission::Yanked => format!("{n} {versions} yanked"),
             Admission::NoBuild => format!(
@@ -365,9 +386,37 @@ pub(crate) fn unusable(
         parts.push(phrase);
     }
     (
-        cause_of_refusals(&tally),
+        cause,
         format!("{}: {}", describe(registry, package, set), parts.join(", ")),
     )
+}
+
+/// Whether `release` has a runtime requirement no runtime version meets (`<0.0.0`,
+/// `>=5, <4`): no image can install it, whatever its runtime.
+fn runtime_unmeetable(registry: &crate::model::Registry, release: &crate::model::Release) -> bool {
+    release
+        .runtime
+        .is_some_and(|r| !super::image::admits_some_runtime(registry.requirement(r)))
+}
+
+/// The distinct runtime requirements of `releases` at `idx`, sorted, at most three shown.
+fn runtime_requirements(
+    registry: &crate::model::Registry,
+    releases: &[crate::model::Release],
+    idx: &[u32],
+) -> String {
+    let mut reqs: Vec<String> = idx
+        .iter()
+        .filter_map(|&i| releases[i as usize].runtime)
+        .map(|r| registry.requirement(r).text.clone())
+        .collect();
+    reqs.sort();
+    reqs.dedup();
+    if reqs.len() > 3 {
+        format!("{} and {} more", reqs[..3].join("; "), reqs.len() - 3)
+    } else {
+        reqs.join("; ")
+    }
 }
 
 /// Why a package whose every one of `left_out` version records was left out has no version.
