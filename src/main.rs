@@ -115,8 +115,9 @@ impl InputArgs {
 
 #[derive(Args)]
 struct SolveArgs {
-    /// Solver steps per cell before it is reported undecided.
-    #[arg(long, default_value_t = basefit::solve::DEFAULT_BUDGET)]
+    /// Solver steps per cell before it is reported undecided (at least 1).
+    #[arg(long, default_value_t = basefit::solve::DEFAULT_BUDGET,
+          value_parser = clap::value_parser!(u64).range(1..))]
     budget: u64,
     /// Skip the native-library step (predictions from version solving only).
     #[arg(long)]

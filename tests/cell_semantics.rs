@@ -1022,3 +1022,34 @@ fn a_runtime_no_version_can_be_is_told_apart() {
         Some(Cause::MissingFromRegistry)
     );
 }
+
+/// Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10), so an
+/// image runtime `3.1.5+distro.4` is tried once with `3.1.5`, as the cell's own runtime.
+#[test]
+fn the_runtime_hint_tries_each_precedence_once() {
+    let images = "images:
+  - {id: plain, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+  - {id: distro, runtime: 3.1.5+distro.4, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+  - {id: new, runtime: 4.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}
+";
+    let registry =
+        "packages:\n  - name: lyrebird\n    versions: [{version: \"1.0.0\", runtime: \">=4\"}]\n";
+    let inputs = inputs_on(images, registry, "priorities: [lyrebird]\n");
+    for image in ["plain", "distro"] {
+        let e = explain(&inputs, "lyrebird", image, &PlanOptions::default()).unwrap();
+        let tried: Vec<&str> = e
+            .runtime_hint
+            .as_ref()
+            .unwrap()
+            .trials
+            .iter()
+            .map(|t| t.version.as_str())
+            .collect();
+        let own = if image == "plain" {
+            "3.1.5"
+        } else {
+            "3.1.5+distro.4"
+        };
+        assert_eq!(tried, [own, "4.1.0"], "{image}");
+    }
+}

@@ -1948,3 +1948,15 @@ fn a_requirement_on_a_package_with_no_readable_version_says_so() {
     );
     assert!(!report.contains("which no published version"), "{report}");
 }
+
+/// A budget of no steps would report every cell undecided: a usage error, not a plan.
+#[test]
+fn a_budget_of_zero_is_a_usage_error() {
+    let (code, _, stderr) = common::run_basefit(
+        ["plan", "--budget", "0"]
+            .into_iter()
+            .chain(common::DEMO.iter().copied()),
+    );
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("--budget"), "{stderr}");
+}

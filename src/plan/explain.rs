@@ -191,19 +191,13 @@ fn runtime_hint(
     sets: &SetCache,
     options: &PlanOptions,
 ) -> RuntimeHint {
-    let mut runtimes: Vec<semver::Version> = inputs
-        .images
-        .images
-        .iter()
-        .map(|i| i.runtime.clone())
-        .collect();
-    runtimes.sort();
-    runtimes.dedup();
+    // One per precedence: `3.2.0+distro.4` admits what `3.2.0` admits.
+    let runtimes = crate::plan::coverage::declared_runtimes(inputs);
     let mut trials = Vec::new();
     for rt in runtimes {
-        let trial = if rt == image.runtime {
+        let trial = if rt.cmp_precedence(&image.runtime).is_eq() {
             // The cell itself: the hint must not contradict it.
-            Trial::of(rt.to_string(), cell)
+            Trial::of(image.runtime.to_string(), cell)
         } else {
             let mut trial = image.clone();
             trial.runtime = rt.clone();
