@@ -1142,3 +1142,43 @@ fn stray_or_unordered_basis_lists_are_not_carried_over() {
         assert!(cache_json(&warm) == cold);
     }
 }
+
+/// A failing cell's explanation names every dependency its release cannot meet, also those
+/// the solver never reached: one that becomes unusable, or usable again, must send the cell
+/// back to the solver, or the kept explanation would differ from a cold plan's.
+#[test]
+fn a_dependency_turning_unusable_beside_the_one_met_first_is_noticed() {
+    let registry = |second: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: first, req: '*'}}, {{name: second, req: '*'}}]}}
+  - {{version: 0.9.0, depends: [{{name: first, req: '*'}}, {{name: second, req: '*'}}]}}
+- name: first
+  versions: [{{version: 1.0.0, runtime: '>=9'}}, {{version: 1.1.0, runtime: '>=9'}}]
+{second}"
+        )
+    };
+    let usable = "- name: second\n  versions: [{version: 1.0.0}, {version: 2.0.0}]\n";
+    let too_new = "- name: second\n  versions: [{version: 1.0.0, runtime: '>=8'}, {version: 2.0.0, runtime: '>=8'}]\n";
+    let yanked = "- name: second\n  versions: [{version: 1.0.0, yanked: true}, {version: 2.0.0, yanked: true}]\n";
+    let missing = "";
+    for (before, after) in [
+        (usable, too_new),
+        (too_new, usable),
+        (usable, yanked),
+        (yanked, usable),
+        (usable, missing),
+        (missing, usable),
+    ] {
+        let (warm, _, cold) = warm_and_cold(
+            &registry(before),
+            &registry(after),
+            &["app"],
+            &PlanOptions::default(),
+        );
+        let (warm, cold) = (to_json(&warm.matrix), to_json(&cold.matrix));
+        assert!(warm == cold, "{before} -> {after}:\n{warm}\n{cold}");
+    }
+}

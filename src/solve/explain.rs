@@ -2,7 +2,7 @@
 
 use super::Cause;
 use super::image::{Admission, ImageView};
-use super::provider::Node;
+use super::provider::{Node, Observed, pick};
 use super::sets::{IndexSet, describe, indices};
 use crate::model::PackageId;
 use pubgrub::{DerivationTree, External};
@@ -525,11 +525,18 @@ struct Sibling {
 /// releases the image admits. Each fails those releases as surely as the dependency the
 /// solver happened to meet first, which depends on the order the dependencies are listed in;
 /// naming them too keeps the cause and the blockers from depending on that order.
+///
+/// What it reads goes where a re-plan checks it: whether a requirement can be met is asked as
+/// the solver asks it ([`pick`], recorded in `record` with the releases whose dependencies
+/// were read), and each dependency named as unmet is pushed onto `read`, to be kept whole as
+/// every package an explanation names.
 fn unusable_siblings(
     view: &ImageView<'_>,
     dependent: PackageId,
     set: &IndexSet,
     known: &[PackageId],
+    read: &mut Vec<PackageId>,
+    record: &mut Observed,
 ) -> Vec<Sibling> {
     let registry = view.registry;
     let releases = &registry.package(dependent).releases;
@@ -540,30 +547,46 @@ fn unusable_siblings(
         }
         chosen.push(i);
     }
-    let Some((&first, rest)) = chosen.split_first() else {
+    let Some(&first) = chosen.first() else {
         return Vec::new();
     };
-    let unmet = |index: u32, target: PackageId| {
-        view.dependency_sets_on(dependent, index, move |p| p == target)
-            .find(|(p, dep_set)| {
-                !registry.package(*p).declared
-                    || !indices(dep_set, registry.package(*p).releases.len())
-                        .any(|k| view.admissions(*p)[k as usize] == Admission::Admissible)
-            })
-            .map(|(_, dep_set)| dep_set)
-    };
     let mut out: Vec<Sibling> = Vec::new();
-    for dep in releases[first as usize].runtime_deps() {
+    'targets: for dep in releases[first as usize].runtime_deps() {
         let target = dep.package;
         if known.contains(&target) || out.iter().any(|s| s.package == target) {
             continue;
         }
-        let Some(dep_set) = unmet(first, target) else {
-            continue;
-        };
-        if !rest.iter().all(|&i| unmet(i, target).is_some()) {
+        // A release without the dependency is not failed by it: decided by the dependent's
+        // own releases, which the explanation keeps whole, before anything else is read.
+        if !chosen.iter().all(|&i| {
+            releases[i as usize]
+                .runtime_deps()
+                .any(|d| d.package == target)
+        }) {
             continue;
         }
+        let mut first_set = None;
+        for &i in &chosen {
+            record.fetched.push((dependent, i));
+            record.packages.push(target);
+            let mut unmet = None;
+            for (p, dep_set) in view.dependency_sets_on(dependent, i, move |p| p == target) {
+                if pick(view, p, &dep_set, record).is_none() {
+                    unmet = Some(dep_set);
+                    break;
+                }
+            }
+            match unmet {
+                Some(dep_set) => {
+                    first_set.get_or_insert(dep_set);
+                }
+                None => continue 'targets,
+            }
+        }
+        let Some(dep_set) = first_set else {
+            continue;
+        };
+        read.push(target);
         let (cause, phrase) = unusable(view, target, &dep_set);
         out.push(Sibling {
             package: target,
@@ -578,10 +601,18 @@ fn unusable_siblings(
 
 /// Explains a failed solve of `root` on the view's image. Also returns every package the
 /// explanation read beyond what the solver was answered (sorted, unique): a re-plan keeps the
-/// failure only while they are unchanged. Those are the packages its facts name and, when a
-/// fact names a package missing from the registry, those below the root's releases the image
-/// refuses, which decide whether another image would lift the failure (the choice of cause).
-pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, Vec<PackageId>) {
+/// failure only while they are unchanged. Those are the packages its facts name, the
+/// dependencies it names as unmet beside them, and, when a fact names a package missing from
+/// the registry, those below the root's releases the image refuses, which decide whether
+/// another image would lift the failure (the choice of cause). Whether other dependencies can
+/// be met it asks as the solver asks, recorded in `record` (the solve's [`Observed`]; call
+/// [`Observed::finish`] again after).
+pub fn explain(
+    view: &ImageView<'_>,
+    root: PackageId,
+    tree: &Tree,
+    record: &mut Observed,
+) -> (Failure, Vec<PackageId>) {
     let registry = view.registry;
     let mut facts = Facts::default();
     collect(tree, &mut facts);
@@ -601,8 +632,7 @@ pub fn explain(view: &ImageView<'_>, root: PackageId, tree: &Tree) -> (Failure, 
                     _ => None,
                 })
                 .collect();
-            let found = unusable_siblings(view, *a, sa, &known);
-            examined.extend(found.iter().map(|s| s.package));
+            let found = unusable_siblings(view, *a, sa, &known, &mut examined, record);
             siblings.insert(*a, found);
         }
     }

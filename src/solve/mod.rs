@@ -244,8 +244,9 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
         Err(PubGrubError::NoSolution(err)) => {
             // Not collapsed: pubgrub's collapse drops the "no versions" facts that name the
             // cause; the explainer merges them per package itself.
-            let (failure, examined) = explain::explain(view, root_id, &err);
+            let (failure, examined) = explain::explain(view, root_id, &err, &mut observed);
             observed.explained = examined;
+            observed.finish();
             explain::dismantle(err);
             Solved::Fails(failure)
         }

@@ -103,8 +103,49 @@ pub struct Observed {
     pub splits: Vec<(PackageId, u32)>,
 }
 
+/// The newest admissible release of `package` in `range`, recording in `observed` what the
+/// walk down to it read: the stretches of the range, the admission of each release that suits
+/// the image, and the releases that do not (whose yank flag did not matter). The solver picks
+/// so; an explanation that asks whether a requirement can be met asks so too, so that a
+/// re-plan checks its question as it checks the solver's.
+pub(crate) fn pick(
+    view: &ImageView<'_>,
+    package: PackageId,
+    range: &IndexSet,
+    observed: &mut Observed,
+) -> Option<u32> {
+    let admissions = view.admissions(package);
+    // A run of the range from `a` to `b` (either end open or closed) holds the stretch
+    // after each release from `a` up to but not including `b`.
+    observed.covered.extend(range.iter().filter_map(|(lo, hi)| {
+        let from = match lo {
+            Bound::Included(v) | Bound::Excluded(v) => *v,
+            Bound::Unbounded => 0,
+        };
+        let to = match hi {
+            Bound::Included(v) | Bound::Excluded(v) => (*v).min(admissions.len() as u32),
+            Bound::Unbounded => admissions.len() as u32,
+        };
+        (from < to).then_some((package, from, to))
+    }));
+    for i in indices_newest_first(range, admissions.len()) {
+        if !view.fits(package, i) {
+            observed.unfit.push((package, i));
+            continue;
+        }
+        let admissible = admissions[i as usize] == Admission::Admissible;
+        observed.admissions.push((package, i, admissible));
+        if admissible {
+            return Some(i);
+        }
+    }
+    None
+}
+
 impl Observed {
-    fn finish(&mut self) {
+    /// Sorts every list and drops repeats; merges the covered runs. Again after more was
+    /// recorded, it gives what one call after all of it gives.
+    pub(crate) fn finish(&mut self) {
         self.packages.sort_unstable();
         self.packages.dedup();
         self.admissions.sort_unstable();
@@ -190,37 +231,8 @@ impl<'v, 'r> CellProvider<'v, 'r> {
         }
     }
 
-    /// The newest admissible release of `package` in `range`, recording what the walk down
-    /// to it read: the stretches of the range, the admission of each release that suits the
-    /// image, and the releases that do not (whose yank flag did not matter).
     fn pick(&self, package: PackageId, range: &IndexSet) -> Option<u32> {
-        let admissions = self.view.admissions(package);
-        let mut observed = self.observed.borrow_mut();
-        // A run of the range from `a` to `b` (either end open or closed) holds the stretch
-        // after each release from `a` up to but not including `b`.
-        observed.covered.extend(range.iter().filter_map(|(lo, hi)| {
-            let from = match lo {
-                Bound::Included(v) | Bound::Excluded(v) => *v,
-                Bound::Unbounded => 0,
-            };
-            let to = match hi {
-                Bound::Included(v) | Bound::Excluded(v) => (*v).min(admissions.len() as u32),
-                Bound::Unbounded => admissions.len() as u32,
-            };
-            (from < to).then_some((package, from, to))
-        }));
-        for i in indices_newest_first(range, admissions.len()) {
-            if !self.view.fits(package, i) {
-                observed.unfit.push((package, i));
-                continue;
-            }
-            let admissible = admissions[i as usize] == Admission::Admissible;
-            observed.admissions.push((package, i, admissible));
-            if admissible {
-                return Some(i);
-            }
-        }
-        None
+        pick(self.view, package, range, &mut self.observed.borrow_mut())
     }
 
     /// What the solve observed, sorted and unique.
