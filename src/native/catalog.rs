@@ -267,12 +267,19 @@ impl Catalog {
     }
 }
 
-/// The packages that give an image of `family` a C toolchain (common practice, no source).
+/// The packages that give an image of `family` a C and C++ toolchain (which packages to name
+/// is common practice, no source). Native sources include C++ (`.cpp`, `.cc`, `.cxx`) and the
+/// catalog has C++ libraries (protobuf, gmpxx), so a toolchain must compile C++ too:
+/// - debian: `build-essential` depends on gcc, g++, make, libc6-dev and dpkg-dev
+///   (`apt-cache depends build-essential` on Debian 12, checked on this project's machine);
+/// - alpine: `build-base` pulls in gcc, g++, make and musl-dev (from memory);
+/// - rhel: no such meta-package is installed by default, and g++ is the separate package
+///   `gcc-c++` (from memory), so all three are named.
 pub fn toolchain_packages(family: OsFamily) -> &'static [&'static str] {
     match family {
         OsFamily::Debian => &["build-essential"],
         OsFamily::Alpine => &["build-base"],
-        OsFamily::Rhel => &["gcc", "make"],
+        OsFamily::Rhel => &["gcc", "gcc-c++", "make"],
     }
 }
 

@@ -1,0 +1,120 @@
+//! Native needs against images, through the binary: what counts as a toolchain, how a declared
+//! library name is looked up, what an image's development packages imply, and what `syslibs`
+//! and `check` say about a library the catalog does not know.
+
+mod common;
+
+use common::{run_basefit, write};
+use std::path::Path;
+
+/// Writes a registry, images and priorities into `dir`; returns the input flags.
+fn inputs(dir: &Path, registry: &str, images: &str, priorities: &[&str]) -> Vec<String> {
+    let priorities = format!(
+        "priorities:\n{}",
+        priorities
+            .iter()
+            .map(|p| format!("  - {p}\n"))
+            .collect::<String>()
+    );
+    let flags = [
+        ("--registry", write(dir, "registry.yaml", registry)),
+        ("--images", write(dir, "images.yaml", images)),
+        ("--priorities", write(dir, "priorities.yaml", priorities)),
+    ];
+    flags
+        .into_iter()
+        .flat_map(|(f, p)| [f.to_string(), p.to_str().unwrap().to_string()])
+        .collect()
+}
+
+/// Runs `command` quietly on `args`; returns (exit code, stdout, stderr).
+fn run(command: &[&str], args: &[String]) -> (i32, String, String) {
+    let mut all: Vec<String> = command.iter().map(|c| c.to_string()).collect();
+    all.push("--quiet".into());
+    all.extend(args.iter().cloned());
+    run_basefit(&all)
+}
+
+/// One package with one source-built release shipping `files` and declaring `libraries`.
+fn package(name: &str, libraries: &str, files: &str) -> String {
+    format!(
+        "  - name: {name}\n    versions:\n      - version: \"1.0.0\"\n        native:\n          libraries: [{libraries}]\n          files: [{files}]\n"
+    )
+}
+
+/// A release that has only a prebuilt build for linux/glibc/x86_64, declaring `libraries`.
+fn prebuilt(name: &str, libraries: &str) -> String {
+    format!(
+        "  - name: {name}\n    versions:\n      - version: \"1.0.0\"\n        builds:\n          prebuilt: [linux/glibc/x86_64]\n        native:\n          libraries: [{libraries}]\n"
+    )
+}
+
+fn image(id: &str, family: &str, extra: &str) -> String {
+    let platform = match family {
+        "alpine" => "linux/musl/x86_64",
+        _ => "linux/glibc/x86_64",
+    };
+    format!(
+        "  - id: {id}\n    runtime: 3.2.0\n    family: {family}\n    platform: {platform}\n{extra}"
+    )
+}
+
+/// C++ sources and C++ libraries need g++: on RHEL that is `gcc-c++`, a package apart from
+/// `gcc`, so `gcc` and `make` alone are no toolchain, and the advice names `gcc-c++` too.
+#[test]
+fn a_rhel_toolchain_includes_the_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("cpp-proto", "protobuf", "src/ext/codec.cc"),
+        package("cpp-ext", "", "src/ext/hash.cpp"),
+    );
+    let images = format!(
+        "images:\n{}{}{}{}",
+        image("el-c", "rhel", "    packages: [gcc, make, protobuf-devel]\n"),
+        image(
+            "el-cxx",
+            "rhel",
+            "    packages: [gcc, gcc-c++, make, protobuf-devel]\n"
+        ),
+        image(
+            "el-flagged",
+            "rhel",
+            "    toolchain: true\n    packages: [gcc, gcc-c++, make, protobuf-devel]\n"
+        ),
+        "  - id: el-dropped\n    extends: el-flagged\n    remove: [gcc-c++]\n",
+    );
+    let args = inputs(dir.path(), &registry, &images, &["cpp-proto", "cpp-ext"]);
+
+    let (code, stdout, _) = run(&["explain", "cpp-proto", "el-c"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("missing-toolchain"), "{stdout}");
+    assert!(
+        stdout.contains("has no C toolchain; add: gcc-c++"),
+        "{stdout}"
+    );
+    let (code, stdout, _) = run(&["explain", "cpp-ext", "el-c"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("at-risk"), "{stdout}");
+    for (package, img) in [("cpp-proto", "el-cxx"), ("cpp-ext", "el-cxx")] {
+        let (code, stdout, stderr) = run(&["explain", package, img], &args);
+        assert_eq!(code, 0, "{package} on {img}: {stdout}{stderr}");
+        assert!(stdout.contains("installs"), "{stdout}");
+    }
+    let (code, stdout, _) = run(&["syslibs"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("dnf install -y gcc-c++"), "{stdout}");
+
+    // Removing the C++ compiler from a base that says it has a toolchain drops it, as
+    // removing build-essential does on debian.
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(
+        stdout.contains(
+            "el-dropped: inherits toolchain: true from `el-flagged` but removes gcc-c++"
+        ),
+        "{stdout}"
+    );
+    let (code, stdout, _) = run(&["explain", "cpp-proto", "el-dropped"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("missing-toolchain"), "{stdout}");
+}
