@@ -71,7 +71,11 @@ fn a_rhel_toolchain_includes_the_cxx_compiler() {
     );
     let images = format!(
         "images:\n{}{}{}{}",
-        image("el-c", "rhel", "    packages: [gcc, make, protobuf-devel]\n"),
+        image(
+            "el-c",
+            "rhel",
+            "    packages: [gcc, make, protobuf-devel]\n"
+        ),
         image(
             "el-cxx",
             "rhel",
@@ -109,12 +113,109 @@ fn a_rhel_toolchain_includes_the_cxx_compiler() {
     // removing build-essential does on debian.
     let (_, stdout, _) = run(&["check"], &args);
     assert!(
-        stdout.contains(
-            "el-dropped: inherits toolchain: true from `el-flagged` but removes gcc-c++"
-        ),
+        stdout
+            .contains("el-dropped: inherits toolchain: true from `el-flagged` but removes gcc-c++"),
         "{stdout}"
     );
     let (code, stdout, _) = run(&["explain", "cpp-proto", "el-dropped"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("missing-toolchain"), "{stdout}");
+}
+
+/// A declared library may be written as the catalog's id or alias, or as a pkg-config module
+/// or link name: all four find the catalog entry, so the image is told what to add.
+#[test]
+fn a_declared_library_is_found_by_pkg_config_module_and_link_name() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}{}",
+        package("by-module", "libxml-2.0", "src/ext/a.c"),
+        package("by-link-z", "z", "src/ext/b.c"),
+        package("by-link-pq", "pq", "src/ext/c.c"),
+        package("by-link-ssl", "ssl", "src/ext/d.c"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image("d", "debian", "    packages: [build-essential]\n")
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["by-module", "by-link-z", "by-link-pq", "by-link-ssl"],
+    );
+    for (package, dev) in [
+        ("by-module", "libxml2-dev"),
+        ("by-link-z", "zlib1g-dev"),
+        ("by-link-pq", "libpq-dev"),
+        ("by-link-ssl", "libssl-dev"),
+    ] {
+        let (code, stdout, _) = run(&["explain", package, "d"], &args);
+        assert_eq!(code, 1, "{stdout}");
+        assert!(
+            stdout.contains("missing-system-library"),
+            "{package}: {stdout}"
+        );
+        assert!(
+            stdout.contains(&format!("add: {dev}")),
+            "{package}: {stdout}"
+        );
+    }
+    let (code, stdout, _) = run(&["syslibs"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        !stdout.contains("still at risk whatever is added"),
+        "{stdout}"
+    );
+    // Every name is known: nothing for check to say about them.
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(!stdout.contains("unknown-library"), "{stdout}");
+}
+
+/// A declared library the catalog does not know at all must not read better than one it
+/// knows: `check` notes it at the release's record, and `syslibs` names it and exits 1
+/// rather than saying "nothing missing".
+#[test]
+fn a_declared_library_the_catalog_does_not_know_is_reported() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("pg-bind", "postgresql-client-lib", "src/ext/pg.c")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("d", "debian", "    packages: [build-essential]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["pg-bind"]);
+
+    let (code, stdout, _) = run(&["check"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("(unknown-library): 1"), "{stdout}");
+    assert!(
+        stdout.contains(
+            "registry.yaml:4  pg-bind@1.0.0: declares native library `postgresql-client-lib`, which the catalog knows by no id"
+        ),
+        "{stdout}"
+    );
+
+    let (code, stdout, _) = run(&["syslibs"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(!stdout.contains("nothing missing"), "{stdout}");
+    assert!(
+        stdout.contains("no debian package known for (check the image by hand, or give them with --catalog): postgresql-client-lib [certain] (pg-bind)"),
+        "{stdout}"
+    );
+    let (code, json, _) = run(&["syslibs", "--format", "json"], &args);
+    assert_eq!(code, 1, "{json}");
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let unmapped = &v["images"][0]["unmapped_libraries"][0];
+    assert_eq!(unmapped["library"], "postgresql-client-lib", "{json}");
+    assert_eq!(unmapped["strongest"], "certain", "{json}");
+    assert_eq!(unmapped["needed_by"][0], "pg-bind", "{json}");
+
+    // The cell itself stays at risk, naming the library.
+    let (code, stdout, _) = run(&["explain", "pg-bind", "d"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("at-risk"), "{stdout}");
+    assert!(stdout.contains("postgresql-client-lib"), "{stdout}");
 }

@@ -408,3 +408,16 @@ fn is_package_name(name: &str) -> bool {
             .chars()
             .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
 }
+
+// Lookups of declared library names, kept apart from the block above.
+impl Catalog {
+    /// The library a release's declared name stands for: by id or alias first, then by
+    /// pkg-config module (`libxml-2.0`), then by link name (`z`, `pq`, `ssl`), the other two
+    /// ways metadata commonly spells a system library. Ids and aliases win, since they are
+    /// what the catalog means by a name; link names, the shortest, come last.
+    pub fn by_declared_name(&self, name: &str) -> Option<&Library> {
+        self.by_name(name)
+            .or_else(|| self.by_pkg_config(name))
+            .or_else(|| self.by_link(name))
+    }
+}

@@ -65,7 +65,7 @@ pub fn release_evidence(
     if let Some(hints) = &release.native {
         for lib in &hints.libraries {
             let id = catalog
-                .by_name(lib)
+                .by_declared_name(lib)
                 .map(|l| l.id.clone())
                 .unwrap_or_else(|| lib.clone());
             out.push(Evidence {
