@@ -219,3 +219,34 @@ fn a_declared_library_the_catalog_does_not_know_is_reported() {
     assert!(stdout.contains("at-risk"), "{stdout}");
     assert!(stdout.contains("postgresql-client-lib"), "{stdout}");
 }
+
+/// A development package depends on its library's runtime package (`apt-cache depends
+/// libxml2-dev`: Depends libxml2, on Debian 12; alpine and rhel from memory), so an image that
+/// declares the one has the other: a prebuilt build needing only the runtime package installs.
+#[test]
+fn a_declared_dev_package_brings_its_runtime_package() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!("packages:\n{}", prebuilt("prebuilt-xml", "libxml2"));
+    let images = format!(
+        "images:\n{}{}{}{}",
+        image("deb-dev", "debian", "    packages: [libxml2-dev]\n"),
+        image("deb-none", "debian", "    packages: [zlib1g-dev]\n"),
+        image("el-dev", "rhel", "    packages: [libxml2-devel]\n"),
+        image("alp-dev", "alpine", "    packages: [libxml2-dev]\n"),
+    );
+    let images = images.replace(
+        "  - id: alp-dev\n    runtime: 3.2.0\n    family: alpine\n    platform: linux/musl/x86_64\n",
+        // The prebuilt build is for glibc; an alpine image here is made glibc to reach it.
+        "  - id: alp-dev\n    runtime: 3.2.0\n    family: alpine\n    platform: linux/glibc/x86_64\n",
+    );
+    let args = inputs(dir.path(), &registry, &images, &["prebuilt-xml"]);
+    for img in ["deb-dev", "el-dev", "alp-dev"] {
+        let (code, stdout, stderr) = run(&["explain", "prebuilt-xml", img], &args);
+        assert_eq!(code, 0, "{img}: {stdout}{stderr}");
+        assert!(stdout.contains("installs"), "{img}: {stdout}");
+    }
+    // Another library's dev package brings nothing for this one.
+    let (code, stdout, _) = run(&["explain", "prebuilt-xml", "deb-none"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("add: libxml2"), "{stdout}");
+}
