@@ -250,3 +250,41 @@ fn a_declared_dev_package_brings_its_runtime_package() {
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("add: libxml2"), "{stdout}");
 }
+
+/// Debian library package names carry sonames, which change between releases: `syslibs` says
+/// which release the catalog's names are for, in text and JSON, and `imageplan` carries it too.
+#[test]
+fn syslibs_names_the_debian_release_of_the_catalog() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("xml-bind", "libxml2", "src/ext/x.c")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("d", "debian", "    packages: [build-essential]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["xml-bind"]);
+    let (code, stdout, _) = run(&["syslibs"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("debian package names are those of Debian 12 (bookworm)"),
+        "{stdout}"
+    );
+    let (_, json, _) = run(&["syslibs", "--format", "json"], &args);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["debian_release"], "12 (bookworm)", "{json}");
+    let (_, json, stderr) = run(&["imageplan", "--format", "json"], &args);
+    let v: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
+    assert_eq!(v["system"]["debian_release"], "12 (bookworm)", "{json}");
+
+    // With no debian image the line would only distract.
+    let images = format!(
+        "images:\n{}",
+        image("a", "alpine", "    packages: [build-base]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["xml-bind"]);
+    let (_, stdout, _) = run(&["syslibs"], &args);
+    assert!(!stdout.contains("debian package names"), "{stdout}");
+}

@@ -116,6 +116,10 @@ pub struct FamilyCommand {
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SystemReport {
+    /// The Debian release the catalog's debian package names were checked against: library
+    /// package names carry sonames, which change between releases, so a reader on another
+    /// release should check them.
+    pub debian_release: String,
     pub packages: Vec<PackageEvidence>,
     pub images: Vec<ImageNeeds>,
     pub families: Vec<FamilyCommand>,
@@ -347,6 +351,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         })
         .collect();
     SystemReport {
+        debian_release: inputs.catalog.debian_release.clone(),
         packages,
         images,
         families,

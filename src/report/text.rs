@@ -841,6 +841,16 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
     out.push_str(
         "\nmissing system packages per image (weight = priority weight of the cells that lack it and that additions can unblock):\n",
     );
+    if r.images
+        .iter()
+        .any(|i| i.family == crate::model::OsFamily::Debian)
+    {
+        let _ = writeln!(
+            out,
+            "  (debian package names are those of Debian {}, the release the catalog was checked against: on another release check them, since library package names carry sonames that change)",
+            r.debian_release
+        );
+    }
     for i in &r.images {
         if !i.undecided.is_empty() {
             let _ = writeln!(
