@@ -865,13 +865,14 @@ pub struct SystemCommand {
 }
 
 /// `syslibs`: native evidence per package, missing system packages per image with the weight
-/// they unblock, and one install command per OS family. Exit 1 when anything is missing.
+/// they unblock, and one install command per OS family. Exit 1 when anything is missing, or
+/// when a needed library maps to no system package (what the image lacks is then unknown).
 pub fn system(o: &SystemCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("syslibs"))?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
-    let any_missing = r.images.iter().any(|i| !i.missing.is_empty());
+    let any_missing = r.images.iter().any(|i| i.lacks_anything());
     Ok(Output::report(o.format, &r, text::system_text, any_missing))
 }
 

@@ -464,6 +464,9 @@ pub enum ProblemKind {
     UnreadableDate,
     /// A dependency on a name the registry does not have; used (it cannot be satisfied).
     UnknownDependency,
+    /// A declared native library that the catalog does not know by id, alias, pkg-config
+    /// module or link name; used, but no system package can be named for it.
+    UnknownLibrary,
     /// A second record for the same package and version; the later one is left out.
     DuplicateVersion,
     /// A second record for the same package name; its versions are merged into the first.
@@ -518,6 +521,9 @@ impl ProblemKind {
             ProblemKind::UnreadableRequirement => "unreadable requirements (version left out)",
             ProblemKind::UnreadableDate => "unreadable release dates (date ignored)",
             ProblemKind::UnknownDependency => "dependencies on names not in the registry",
+            ProblemKind::UnknownLibrary => {
+                "declared native libraries the catalog does not know (no system package can be named)"
+            }
             ProblemKind::DuplicateVersion => "duplicate versions (later record left out)",
             ProblemKind::DuplicatePackage => "duplicate package records (versions merged)",
             ProblemKind::SamePrecedence => {

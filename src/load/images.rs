@@ -311,7 +311,7 @@ fn toolchain_contradiction(
         return Some(At::new(
             format!(
                 "says toolchain: false but carries {}; planned as having a C toolchain",
-                crate::native::toolchain_packages(image.family).join(" and ")
+                and_list(crate::native::toolchain_packages(image.family))
             ),
             line,
         ));
@@ -328,11 +328,20 @@ fn toolchain_contradiction(
                     true => "removes",
                     false => "gives a `packages` list without",
                 },
-                names.join(" and ")
+                and_list(&names)
             ),
             first.line,
         )
     })
+}
+
+/// `a`, `a and b`, `a, b and c`.
+fn and_list(names: &[&str]) -> String {
+    match names {
+        [] => String::new(),
+        [one] => one.to_string(),
+        [init @ .., last] => format!("{} and {last}", init.join(", ")),
+    }
 }
 
 /// What an image's failure comes down to, without the bases it passed through.

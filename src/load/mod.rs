@@ -326,6 +326,7 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         Some(p) => Catalog::with_override(p)?,
         None => Catalog::builtin(),
     };
+    note_unknown_libraries(&registry, &catalog, &mut ledger);
     ledger.sort();
     Ok(Inputs {
         registry,
@@ -335,4 +336,44 @@ fn load_all(paths: &InputPaths) -> Result<Inputs, BadInput> {
         catalog,
         ledger,
     })
+}
+
+/// Notes each release that declares a native library the catalog does not know by any of its
+/// names: the cells needing it stay at risk whatever an image adds, and without a note `check`
+/// would say nothing of it. Noted at the release's record, once per name.
+fn note_unknown_libraries(registry: &Registry, catalog: &Catalog, ledger: &mut Ledger) {
+    for id in registry.ids() {
+        let pkg = registry.package(id);
+        for release in &pkg.releases {
+            let Some(native) = &release.native else {
+                continue;
+            };
+            let mut seen: Vec<&str> = Vec::new();
+            for lib in &native.libraries {
+                // An empty name is reported where it is read (`bad-value`).
+                if lib.trim().is_empty()
+                    || seen.contains(&lib.as_str())
+                    || catalog.by_declared_name(lib).is_some()
+                {
+                    continue;
+                }
+                seen.push(lib);
+                ledger.note(
+                    diag::ProblemKind::UnknownLibrary,
+                    diag::Origin {
+                        file: registry
+                            .files
+                            .get(release.file as usize)
+                            .cloned()
+                            .unwrap_or_default(),
+                        line: release.line as usize,
+                    },
+                    format!("{}@{}", pkg.name, release.version),
+                    format!(
+                        "declares native library `{lib}`, which the catalog knows by no id, alias, pkg-config module or link name: no image is told what to add for it, and its cells stay at risk (give the library with --catalog)"
+                    ),
+                );
+            }
+        }
+    }
 }

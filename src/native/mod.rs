@@ -65,7 +65,7 @@ pub fn release_evidence(
     if let Some(hints) = &release.native {
         for lib in &hints.libraries {
             let id = catalog
-                .by_name(lib)
+                .by_declared_name(lib)
                 .map(|l| l.id.clone())
                 .unwrap_or_else(|| lib.clone());
             out.push(Evidence {
@@ -199,7 +199,8 @@ impl Assessment {
 /// Assesses a resolved closure on `image`. Native need is transitive: every package of the
 /// closure contributes its own evidence, and each need says through which package it comes.
 /// A release installed from a prebuilt build for the image's platform needs no compiler and
-/// no development package, only the library's runtime package.
+/// no development package, only the library's runtime package, which an image declaring the
+/// development package has too (see [`Catalog::image_has`]).
 pub fn assess(
     registry: &Registry,
     catalog: &Catalog,
@@ -211,7 +212,7 @@ pub fn assess(
     let mut unknown: BTreeSet<String> = BTreeSet::new();
     let add_missing =
         |pkg: &str, c: Confidence, missing: &mut std::collections::BTreeMap<String, Confidence>| {
-            if !image.system_packages.contains(pkg) {
+            if !catalog.image_has(image.family, &image.system_packages, pkg) {
                 let e = missing.entry(pkg.to_string()).or_insert(c);
                 *e = (*e).max(c);
             }

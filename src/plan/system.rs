@@ -55,6 +55,18 @@ pub struct AdviceLine {
     pub unblocks: Vec<String>,
 }
 
+/// A library some priority cell on an image needs that the catalog names no system package
+/// for on the image's family (or knows not at all): nothing can be advised for it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct UnmappedLibrary {
+    /// The catalog id, or the name as declared when the catalog does not know it.
+    pub library: String,
+    /// The strongest need of it over the cells that have one.
+    pub strongest: Confidence,
+    /// The priority packages whose cell needs it, in priority order.
+    pub needed_by: Vec<String>,
+}
+
 /// What one image lacks for the priority cells that need system packages, and the advice.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ImageNeeds {
@@ -80,7 +92,19 @@ pub struct ImageNeeds {
     /// so "nothing missing" would claim more than was found.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub undecided: Vec<String>,
+    /// The libraries behind `beyond_advice` and `at_risk_after_advice`: needed, but mapped to
+    /// no system package of this family, so what the image lacks for them is unknown.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub unmapped_libraries: Vec<UnmappedLibrary>,
     pub command: Option<String>,
+}
+
+impl ImageNeeds {
+    /// Whether the report finds anything wrong with the image: a package to add, or a needed
+    /// library it cannot map to one (which no addition is known to fix).
+    pub fn lacks_anything(&self) -> bool {
+        !self.missing.is_empty() || !self.unmapped_libraries.is_empty()
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -92,6 +116,10 @@ pub struct FamilyCommand {
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SystemReport {
+    /// The Debian release the catalog's debian package names were checked against: library
+    /// package names carry sonames, which change between releases, so a reader on another
+    /// release should check them.
+    pub debian_release: String,
     pub packages: Vec<PackageEvidence>,
     pub images: Vec<ImageNeeds>,
     pub families: Vec<FamilyCommand>,
@@ -154,6 +182,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         let mut beyond_advice = Vec::new();
         let mut at_risk_after_advice = Vec::new();
         let mut undecided = Vec::new();
+        let mut unmapped: BTreeMap<String, UnmappedLibrary> = BTreeMap::new();
         // Beside `blocked`: the priority package of each of its items.
         let mut blocked_names: Vec<String> = Vec::new();
         for (r, row) in matrix.packages.iter().enumerate() {
@@ -201,16 +230,29 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                     .max()
                     .unwrap_or(cell_strongest)
             };
-            let unknown = cell
+            let unknown_needs: Vec<(&str, Confidence)> = cell
                 .native_needs
                 .iter()
-                .filter(|nd| {
-                    nd.library
-                        .as_deref()
-                        .is_some_and(|id| !inputs.catalog.knows(id, image.family, nd.build))
+                .filter_map(|nd| {
+                    let id = nd.library.as_deref()?;
+                    (!inputs.catalog.knows(id, image.family, nd.build))
+                        .then_some((id, nd.confidence))
                 })
-                .map(|nd| nd.confidence)
-                .max();
+                .collect();
+            for &(id, confidence) in &unknown_needs {
+                let u = unmapped
+                    .entry(id.to_string())
+                    .or_insert_with(|| UnmappedLibrary {
+                        library: id.to_string(),
+                        strongest: confidence,
+                        needed_by: Vec::new(),
+                    });
+                u.strongest = u.strongest.max(confidence);
+                if !u.needed_by.contains(&row.name) {
+                    u.needed_by.push(row.name.clone());
+                }
+            }
+            let unknown = unknown_needs.iter().map(|&(_, c)| c).max();
             // A `possible` need rests on one word of a name or summary, the weakest evidence
             // there is, and the advice already counts cells whose only missing packages come
             // from such words. Letting an unnameable `possible` need veto the cell would drop
@@ -291,6 +333,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             beyond_advice,
             at_risk_after_advice,
             undecided,
+            unmapped_libraries: unmapped.into_values().collect(),
             command: (!names.is_empty()).then(|| native::install_command(image.family, &names)),
             missing,
         });
@@ -308,6 +351,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
         })
         .collect();
     SystemReport {
+        debian_release: inputs.catalog.debian_release.clone(),
         packages,
         images,
         families,

@@ -841,6 +841,16 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
     out.push_str(
         "\nmissing system packages per image (weight = priority weight of the cells that lack it and that additions can unblock):\n",
     );
+    if r.images
+        .iter()
+        .any(|i| i.family == crate::model::OsFamily::Debian)
+    {
+        let _ = writeln!(
+            out,
+            "  (debian package names are those of Debian {}, the release the catalog was checked against: on another release check them, since library package names carry sonames that change)",
+            r.debian_release
+        );
+    }
     for i in &r.images {
         if !i.undecided.is_empty() {
             let _ = writeln!(
@@ -851,17 +861,21 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
                 i.undecided.join(", ")
             );
         }
-        if i.missing.is_empty() {
-            let among = match i.undecided.is_empty() {
-                true => "",
-                false => " among the decided cells",
-            };
+        let among = match i.undecided.is_empty() {
+            true => "",
+            false => " among the decided cells",
+        };
+        if !i.lacks_anything() {
             let _ = writeln!(out, "  {}: nothing missing{among}", i.image);
-            // A cell at risk for a library no package provides lacks nothing, yet no
-            // addition helps it: say so even here.
-            if i.beyond_advice.is_empty() {
-                continue;
-            }
+            continue;
+        } else if i.missing.is_empty() {
+            // A cell at risk for a library no package provides lacks no package, yet no
+            // addition helps it: "nothing missing" would pass it off as fine.
+            let _ = writeln!(
+                out,
+                "  {} ({}): no package to add that the catalog can name{among}, but needed libraries are unmapped:",
+                i.image, i.family
+            );
         } else {
             let _ = writeln!(out, "  {} ({}):", i.image, i.family);
         }
@@ -934,6 +948,26 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             if !cells.is_empty() {
                 let _ = writeln!(out, "    {why}: {}", cells.join(", "));
             }
+        }
+        if !i.unmapped_libraries.is_empty() {
+            let libs: Vec<String> = i
+                .unmapped_libraries
+                .iter()
+                .map(|u| {
+                    format!(
+                        "{} [{}] ({})",
+                        u.library,
+                        kebab(u.strongest),
+                        u.needed_by.join(", ")
+                    )
+                })
+                .collect();
+            let _ = writeln!(
+                out,
+                "    no {} package known for (check the image by hand, or give them with --catalog): {}",
+                i.family,
+                libs.join("; ")
+            );
         }
         if let Some(c) = &i.command {
             let _ = writeln!(out, "    {c}");
