@@ -27,6 +27,8 @@ fn debian_entries_agree_with_the_archive_extract() {
             "header" => catalog.by_header(name),
             "pkgconfig" => catalog.by_pkg_config(name),
             "link" => catalog.by_link(name),
+            // Runtime packages: debian_runtime_lists_cover_every_link_name.
+            "runtime" => continue,
             other => panic!("unknown kind {other}"),
         }
         .unwrap_or_else(|| {
@@ -63,6 +65,139 @@ fn debian_entries_agree_with_the_archive_extract() {
                 lib.id
             );
         }
+    }
+}
+
+/// A prebuilt build linked against a library needs, at run time, every shared object the
+/// library's link names stand for, and Debian often ships those in several packages (pango's
+/// `libpangocairo-1.0.so.0` is in `libpangocairo-1.0-0`, not `libpango-1.0-0`; nettle's
+/// `libhogweed.so.6` in `libhogweed6`). So each verified Debian `runtime` list must name, for
+/// every link name of its library, the package that ships the shared object the dev package's
+/// `lib<name>.so` resolves to, and nothing else.
+#[test]
+fn debian_runtime_lists_cover_every_link_name() {
+    // Source: Debian's package archive, Debian 12 (bookworm), the release the catalog targets
+    // (`debian_release`): the `runtime` rows of the extract, from `dpkg -c` of the runtime
+    // packages, written by tests/data/debian-archive/make-extract.sh (see its README).
+    let extract = std::fs::read_to_string("tests/data/debian-archive/extract.tsv").unwrap();
+    let mut shipped: std::collections::BTreeMap<&str, Vec<&str>> = Default::default();
+    for line in extract.lines().skip(1) {
+        let cols: Vec<&str> = line.split('\t').collect();
+        if let ["runtime", link, package] = cols[..] {
+            shipped.entry(link).or_default().push(package);
+        }
+    }
+    let catalog = Catalog::builtin();
+    assert!(catalog.debian_release.contains("bookworm"));
+    let mut checked = 0;
+    for lib in &catalog.libraries {
+        let deb = &lib.families[&OsFamily::Debian];
+        if deb.source != FactSource::Verified {
+            continue;
+        }
+        let mut needed = std::collections::BTreeSet::new();
+        for link in &lib.link {
+            let packages = shipped
+                .get(link.as_str())
+                .unwrap_or_else(|| panic!("{}: link {link} has no runtime row", lib.id));
+            for p in packages {
+                assert!(
+                    deb.runtime.iter().any(|r| r == p),
+                    "{}: lib{link}.so resolves to a file in {p}, which runtime {:?} leaves out",
+                    lib.id,
+                    deb.runtime
+                );
+                needed.insert(*p);
+                checked += 1;
+            }
+        }
+        for r in &deb.runtime {
+            assert!(
+                needed.contains(r.as_str()),
+                "{}: runtime package {r} ships none of the link names {:?}",
+                lib.id,
+                lib.link
+            );
+        }
+    }
+    assert!(checked > 90, "only {checked} link names");
+}
+
+/// A prebuilt build of a library whose shared objects Debian ships in several packages is
+/// predicted to install only where all of them are: an image with `libpango-1.0-0` alone
+/// lacks `libpangocairo-1.0.so.0`, and the dynamic loader would refuse the build there.
+#[test]
+fn a_prebuilt_build_needs_every_runtime_package_of_its_library() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path
+    };
+    let registry = write(
+        "r.yaml",
+        "packages:\n  - name: d\n    versions:\n      - {version: 1.0.0, builds: {source: false, prebuilt: [linux/glibc/x86_64]}, native: {libraries: [pangocairo]}}\n",
+    );
+    let images = write(
+        "i.yaml",
+        "images:\n  - {id: one, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [libpango-1.0-0]}\n  - {id: all, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [libpango-1.0-0, libpangocairo-1.0-0, libpangoft2-1.0-0]}\n",
+    );
+    let priorities = write("p.yaml", "priorities: [d]\n");
+    let explain = |image: &str| {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+            .args(["explain", "d", image, "--quiet", "--registry"])
+            .arg(&registry)
+            .arg("--images")
+            .arg(&images)
+            .arg("--priorities")
+            .arg(&priorities)
+            .output()
+            .unwrap();
+        String::from_utf8_lossy(&out.stdout).into_owned()
+    };
+    let one = explain("one");
+    assert!(
+        one.starts_with("d on one: fails (1.0.0), missing-system-library")
+            && one.contains("missing system packages: libpangocairo-1.0-0 libpangoft2-1.0-0"),
+        "{one}"
+    );
+    let all = explain("all");
+    assert!(all.starts_with("d on all: installs (1.0.0)"), "{all}");
+}
+
+/// `runtime` takes one package or a list; a list names each package at its own line when it
+/// is wrong, and an empty list or a package listed twice is refused.
+#[test]
+fn a_runtime_list_is_read_and_checked() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: quokka-codec\n    families:\n      debian: {dev: libquokka-dev, runtime: [libquokka1, libquokka-extra1]}\n      alpine: {runtime: quokka-libs}\n",
+    )
+    .unwrap();
+    let c = Catalog::with_override(&path).unwrap();
+    let lib = c.get("quokka-codec").unwrap();
+    assert_eq!(
+        lib.families[&OsFamily::Debian].runtime,
+        ["libquokka1", "libquokka-extra1"]
+    );
+    assert_eq!(lib.families[&OsFamily::Alpine].runtime, ["quokka-libs"]);
+    for (runtime, want) in [
+        ("[libquokka1,\n          \"bad name\"]", "site.yaml:5:"),
+        ("[]", "site.yaml:4:"),
+        ("[libquokka1, libquokka1]", "site.yaml:4:"),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: quokka-codec\n    families:\n      debian: {{dev: libquokka-dev, runtime: {runtime}}}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains(want) && e.contains("`runtime`"),
+            "{runtime}: {e}"
+        );
     }
 }
 

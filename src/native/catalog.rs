@@ -40,9 +40,23 @@ pub enum FactSource {
 pub struct FamilyPackages {
     /// Headers, link symlinks and pkg-config files: needed to build against the library.
     pub dev: Option<String>,
-    /// The shared library itself: needed to run a prebuilt build linked against it.
-    pub runtime: Option<String>,
+    /// The shared libraries themselves: needed to run a prebuilt build linked against the
+    /// library. Several when the library's shared objects ship in several packages (Debian's
+    /// pango: `libpango-1.0-0`, `libpangocairo-1.0-0`, `libpangoft2-1.0-0`); a prebuilt build
+    /// needs all of them. Empty when the catalog names none.
+    pub runtime: Vec<String>,
     pub source: FactSource,
+}
+
+impl FamilyPackages {
+    /// The packages a release built as `build` needs, all of them: the development package
+    /// to build from source, the runtime packages to run a prebuilt build.
+    pub fn packages(&self, build: BuildKind) -> Vec<&str> {
+        match build {
+            BuildKind::Source => self.dev.iter().map(String::as_str).collect(),
+            BuildKind::Prebuilt => self.runtime.iter().map(String::as_str).collect(),
+        }
+    }
 }
 
 /// One system library.
@@ -204,15 +218,14 @@ impl Catalog {
         self.libraries.iter().find(|l| l.id == id)
     }
 
-    /// The system package that provides library `id` on `family` for a release built as
-    /// `build`: the development package to build from source, the runtime package to run a
-    /// prebuilt build. `None` when the catalog names none.
-    pub fn package_for(&self, id: &str, family: OsFamily, build: BuildKind) -> Option<&str> {
-        let fam = self.get(id)?.families.get(&family)?;
-        match build {
-            BuildKind::Source => fam.dev.as_deref(),
-            BuildKind::Prebuilt => fam.runtime.as_deref(),
-        }
+    /// The system packages that provide library `id` on `family` for a release built as
+    /// `build`, all of them needed: the development package to build from source, the runtime
+    /// packages to run a prebuilt build. Empty when the catalog names none.
+    pub fn packages_for(&self, id: &str, family: OsFamily, build: BuildKind) -> Vec<&str> {
+        let Some(fam) = self.get(id).and_then(|l| l.families.get(&family)) else {
+            return Vec::new();
+        };
+        fam.packages(build)
     }
 
     /// Whether the catalog names the system packages library `id` needs on `family` for a
@@ -220,10 +233,10 @@ impl Catalog {
     /// advice can say what to add, and a cell needing it stays at risk whatever is added.
     pub fn knows(&self, id: &str, family: OsFamily, build: Option<BuildKind>) -> bool {
         match build {
-            Some(build) => self.package_for(id, family, build).is_some(),
+            Some(build) => !self.packages_for(id, family, build).is_empty(),
             None => [BuildKind::Source, BuildKind::Prebuilt]
                 .into_iter()
-                .all(|b| self.package_for(id, family, b).is_some()),
+                .all(|b| !self.packages_for(id, family, b).is_empty()),
         }
     }
 
@@ -356,8 +369,44 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                 }
                 Ok(Some(name.to_string()))
             };
-            let (dev, runtime) = (package("dev")?, package("runtime")?);
-            if dev.is_none() && runtime.is_none() {
+            let dev = package("dev")?;
+            // One package or a list of them: a library whose shared objects ship in several
+            // packages needs all of them at run time.
+            let mut runtime: Vec<String> = Vec::new();
+            if let Some(node) = fm.get("runtime") {
+                for item in ctx.str_list_at(Some(node), "family `runtime`")? {
+                    if !is_package_name(&item.value) {
+                        return Err(BadInput::at(
+                            ctx.file,
+                            item.line,
+                            format!(
+                                "library `{id}`, family {family}: `runtime` package `{}` is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit",
+                                item.value
+                            ),
+                        ));
+                    }
+                    if runtime.contains(&item.value) {
+                        return Err(BadInput::at(
+                            ctx.file,
+                            item.line,
+                            format!(
+                                "library `{id}`, family {family}: `runtime` package `{}` is listed twice",
+                                item.value
+                            ),
+                        ));
+                    }
+                    runtime.push(item.value);
+                }
+                if runtime.is_empty() {
+                    return Err(ctx.err(
+                        node,
+                        format!(
+                            "library `{id}`, family {family}: `runtime` names no package; give a package or a list of them, or leave `runtime` out"
+                        ),
+                    ));
+                }
+            }
+            if dev.is_none() && runtime.is_empty() {
                 return Err(ctx.err(
                     v,
                     format!(
