@@ -302,6 +302,54 @@ fn catalog_package_names_are_package_names() {
     }
 }
 
+/// Debian package names are lower case: "Package names (both source and binary ...) must
+/// consist only of lower case letters (a-z), digits (0-9), plus (+) and minus (-) signs, and
+/// periods (.). They must be at least two characters long and must start with an
+/// alphanumeric character." (Debian Policy Manual, section 5.6.1 "Source"; section 5.6.7
+/// "Package" applies it to binary packages.) apt would find no `LibFoo-Dev`, so a Debian name
+/// outside that rule is refused at its line; RPM names may have upper case
+/// (`ImageMagick-devel`).
+#[test]
+fn debian_package_names_follow_debian_policy() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    for (family, want) in [
+        (
+            "debian: {dev: LibFoo-Dev, runtime: libfoo1}",
+            "`dev` package `LibFoo-Dev` is not a Debian package name (`libfoo-dev`?); Debian Policy 5.6.1",
+        ),
+        (
+            "debian: {dev: libfoo-dev, runtime: [libfoo1, Libfoo-extra1]}",
+            "`runtime` package `Libfoo-extra1` is not a Debian package name (`libfoo-extra1`?)",
+        ),
+        (
+            "debian: {dev: libfoo_dev}",
+            "`dev` package `libfoo_dev` is not a Debian package name; Debian Policy 5.6.1",
+        ),
+        (
+            "debian: {runtime: f}",
+            "`runtime` package `f` is not a Debian package name",
+        ),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: libfoo\n    families:\n      {family}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains("site.yaml:4:") && e.contains(want),
+            "{family}: {e}"
+        );
+    }
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: libfoo\n    families:\n      rhel: {dev: ImageMagick-devel, runtime: ImageMagick-libs}\n      alpine: {dev: foo_dev}\n",
+    )
+    .unwrap();
+    Catalog::with_override(&path).unwrap();
+}
+
 /// A family that names only the runtime package leaves a source build's need unmet: with the
 /// toolchain present the cell stays at risk, not "installs" as if nothing were missing.
 #[test]

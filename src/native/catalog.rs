@@ -354,37 +354,46 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                     ));
                 }
             };
-            let package = |field: &str| -> Result<Option<String>, BadInput> {
-                let Some(node) = fm.get(field) else {
-                    return Ok(None);
+            let check = |field: &str, name: &str, line: usize| -> Result<(), BadInput> {
+                let problem = if !is_package_name(name) {
+                    Some("is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit".to_string())
+                } else if family == OsFamily::Debian && !is_debian_package_name(name) {
+                    let hint = if is_debian_package_name(&name.to_lowercase()) {
+                        format!(" (`{}`?)", name.to_lowercase())
+                    } else {
+                        String::new()
+                    };
+                    Some(format!(
+                        "is not a Debian package name{hint}; Debian Policy 5.6.1 allows only lower-case letters, digits and `+ - .`, at least two characters, starting with a letter or digit"
+                    ))
+                } else {
+                    None
                 };
-                let name = ctx.str(node, &format!("family `{field}`"))?;
-                if !is_package_name(name) {
-                    return Err(ctx.err(
-                        node,
+                match problem {
+                    Some(problem) => Err(BadInput::at(
+                        ctx.file,
+                        line,
                         format!(
-                            "library `{id}`, family {family}: `{field}` package `{name}` is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit"
+                            "library `{id}`, family {family}: `{field}` package `{name}` {problem}"
                         ),
-                    ));
+                    )),
+                    None => Ok(()),
                 }
-                Ok(Some(name.to_string()))
             };
-            let dev = package("dev")?;
+            let dev = match fm.get("dev") {
+                None => None,
+                Some(node) => {
+                    let name = ctx.str(node, "family `dev`")?;
+                    check("dev", name, node.line)?;
+                    Some(name.to_string())
+                }
+            };
             // One package or a list of them: a library whose shared objects ship in several
             // packages needs all of them at run time.
             let mut runtime: Vec<String> = Vec::new();
             if let Some(node) = fm.get("runtime") {
                 for item in ctx.str_list_at(Some(node), "family `runtime`")? {
-                    if !is_package_name(&item.value) {
-                        return Err(BadInput::at(
-                            ctx.file,
-                            item.line,
-                            format!(
-                                "library `{id}`, family {family}: `runtime` package `{}` is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit",
-                                item.value
-                            ),
-                        ));
-                    }
+                    check("runtime", &item.value, item.line)?;
                     if runtime.contains(&item.value) {
                         return Err(BadInput::at(
                             ctx.file,
@@ -440,13 +449,25 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
 
 /// Whether `name` can be a system package name on every family basefit writes commands for.
 /// The names go into shell commands as they are, so anything beyond these characters (a
-/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Debian's rule
-/// (Debian Policy Manual, section 5.6.1, cited from memory: lower-case letters, digits, `+ - .`, starting with a
-/// letter or digit) is the strictest of the three; upper case and `_` are allowed for RPM
-/// names (common practice, no source).
+/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
+/// `_` are allowed for RPM and Alpine names (common practice, no source); Debian names are
+/// held to Debian's stricter rule by [`is_debian_package_name`].
 fn is_package_name(name: &str) -> bool {
     name.starts_with(|c: char| c.is_ascii_alphanumeric())
         && name
             .chars()
             .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
+}
+
+/// Whether `name` can be a Debian package name. Debian Policy Manual, section 5.6.1
+/// ("Source"), which section 5.6.7 ("Package") applies to binary package names too: package
+/// names must consist only of lower case letters (a-z), digits (0-9), plus (+) and minus (-)
+/// signs, and periods (.); they must be at least two characters long and must start with an
+/// alphanumeric character. apt finds no package by any other name.
+fn is_debian_package_name(name: &str) -> bool {
+    name.len() >= 2
+        && name.starts_with(|c: char| c.is_ascii_lowercase() || c.is_ascii_digit())
+        && name
+            .chars()
+            .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || "+-.".contains(c))
 }
