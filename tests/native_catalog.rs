@@ -350,6 +350,44 @@ fn debian_package_names_follow_debian_policy() {
     Catalog::with_override(&path).unwrap();
 }
 
+/// Aliases are matched against the words of package names and summaries: an empty one, or one
+/// with no letter (`1`, `2.0`, which would take a version number for the library), is refused
+/// at its line, and so is an empty header, link name or pkg-config module (an empty header is
+/// a suffix of every path).
+#[test]
+fn empty_and_numeric_aliases_and_empty_lookup_keys_are_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    for (field, want) in [
+        ("aliases: [quokka, \"\"]", "alias `` has no letter"),
+        ("aliases: [1, 2]", "alias `1` has no letter"),
+        ("aliases: [\"2.0\"]", "alias `2.0` has no letter"),
+        ("aliases: \" \"", "alias ` ` has no letter"),
+        ("headers: [quokka.h, \"\"]", "`headers` has an empty entry"),
+        ("link: [\"  \"]", "`link` has an empty entry"),
+        ("pkg_config: [\"\"]", "`pkg_config` has an empty entry"),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: quokka-codec\n    {field}\n    families:\n      debian: {{dev: libquokka-dev}}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains("site.yaml:3:") && e.contains(want),
+            "{field}: {e}"
+        );
+    }
+    // A name with digits and letters is a name.
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: quokka-codec\n    aliases: [quokka2, libquokka-1.0]\n",
+    )
+    .unwrap();
+    let c = Catalog::with_override(&path).unwrap();
+    assert_eq!(c.by_word("quokka2").unwrap().id, "quokka-codec");
+}
+
 /// A family that names only the runtime package leaves a source build's need unmet: with the
 /// toolchain present the cell stays at risk, not "installs" as if nothing were missing.
 #[test]

@@ -313,6 +313,40 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
     if id.is_empty() {
         return Err(ctx.err(node, "library: `id` is empty"));
     }
+    // Headers, link names, pkg-config modules and aliases are lookup keys: an empty one would
+    // match what it should not (an empty header is a suffix of every path), so it is refused
+    // at its line.
+    let list = |field: &str| -> Result<Vec<String>, BadInput> {
+        let items = m.str_list_at(field)?;
+        for item in &items {
+            if item.value.trim().is_empty() {
+                return Err(BadInput::at(
+                    ctx.file,
+                    item.line,
+                    format!("library `{id}`: `{field}` has an empty entry"),
+                ));
+            }
+        }
+        Ok(items.into_iter().map(|item| item.value).collect())
+    };
+    let headers = list("headers")?;
+    let link = list("link")?;
+    let pkg_config = list("pkg_config")?;
+    // An alias is looked up as a word of a package's name or summary: one without a letter
+    // (`1`, `2.0`) would take a version number there for the library.
+    for alias in m.str_list_at("aliases")? {
+        if !alias.value.chars().any(|c| c.is_alphabetic()) {
+            return Err(BadInput::at(
+                ctx.file,
+                alias.line,
+                format!(
+                    "library `{id}`: alias `{}` has no letter; an alias is matched against the words of package names and summaries, where an empty or numeric word names no library",
+                    alias.value
+                ),
+            ));
+        }
+    }
+    let aliases = list("aliases")?;
     let mut families = BTreeMap::new();
     if let Some(f) = m.get("families") {
         let Some(pairs) = (match &f.value {
@@ -438,10 +472,10 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
         Library {
             id,
             summary: m.opt_str("summary")?.unwrap_or_default().to_string(),
-            aliases: m.str_list("aliases")?,
-            headers: m.str_list("headers")?,
-            link: m.str_list("link")?,
-            pkg_config: m.str_list("pkg_config")?,
+            aliases,
+            headers,
+            link,
+            pkg_config,
             families,
         },
     ))
