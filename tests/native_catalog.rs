@@ -433,20 +433,21 @@ fn a_source_build_needs_the_development_package_the_catalog_names() {
 }
 
 /// A header two libraries claim would be looked up as one of them only, silently: a new
-/// library claiming a shipped one's header is refused, naming both; replacing the shipped
-/// entry by its id is the way to change it.
+/// library claiming a shipped one's header is refused, naming both, at the line of the
+/// clashing value (as every problem with one field's value is), not the entry's; replacing
+/// the shipped entry by its id is the way to change it.
 #[test]
 fn a_header_two_libraries_claim_is_refused() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("site.yaml");
     std::fs::write(
         &path,
-        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers: [zlib.h]\n    families:\n      debian: {dev: my-zlib-dev}\n",
+        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers:\n      - my-zlib.h\n      - zlib.h\n    families:\n      debian: {dev: my-zlib-dev}\n",
     )
     .unwrap();
     let e = Catalog::with_override(&path).unwrap_err().to_string();
     assert!(
-        e.contains("site.yaml:4:")
+        e.contains("site.yaml:7:")
             && e.contains("library `my-zlib`: header `zlib.h` is also library `zlib`'s"),
         "{e}"
     );
@@ -458,7 +459,20 @@ fn a_header_two_libraries_claim_is_refused() {
     .unwrap();
     let e = Catalog::with_override(&path).unwrap_err().to_string();
     assert!(
-        e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
+        e.contains("site.yaml:3:")
+            && e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
+        "{e}"
+    );
+    // An id is a name too: its clash is at the `id` line, which is also the entry's.
+    std::fs::write(
+        &path,
+        "libraries:\n  - summary: another zlib\n    id: libz\n    families:\n      debian: {dev: my-z-dev}\n",
+    )
+    .unwrap();
+    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    assert!(
+        e.contains("site.yaml:3:")
+            && e.contains("library `libz`: name or alias `libz` is also library `zlib`'s"),
         "{e}"
     );
     std::fs::write(

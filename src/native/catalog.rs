@@ -144,7 +144,7 @@ impl Catalog {
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
         let mut seen = BTreeSet::new();
         let mut lines = Vec::new();
-        for (line, lib) in libraries {
+        for (line, lib, claim_lines) in libraries {
             if !seen.insert(lib.id.clone()) {
                 return Err(BadInput::at(
                     file,
@@ -152,7 +152,7 @@ impl Catalog {
                     format!("library `{}` is listed twice", lib.id),
                 ));
             }
-            lines.push((line, lib.id.clone()));
+            lines.push((line, lib.id.clone(), claim_lines));
             match self.libraries.iter_mut().find(|l| l.id == lib.id) {
                 Some(existing) => *existing = lib,
                 None => self.libraries.push(lib),
@@ -170,16 +170,19 @@ impl Catalog {
                 }
             }
         }
-        for (line, id) in lines {
+        for (line_of_entry, id, claim_lines) in lines {
             let Some(mine) = self.libraries.iter().position(|l| l.id == id) else {
                 continue;
             };
             for (what, key, value) in claims(&self.libraries[mine]) {
                 let other = owners[&(what, key)].iter().find(|&&o| o != mine);
                 if let Some(&other) = other {
+                    // The line of the clashing value, as for every other field's value; the
+                    // entry's line only if the value's is unknown.
+                    let line = claim_lines.get(&(what, value.clone())).copied();
                     return Err(BadInput::at(
                         file,
-                        line,
+                        line.unwrap_or(line_of_entry),
                         format!(
                             "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
                             self.libraries[other].id
@@ -307,16 +310,24 @@ pub fn install_command(family: OsFamily, packages: &[String]) -> String {
     }
 }
 
-fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput> {
+/// The line of each value a library claims for lookups, keyed as [`claims`] names them
+/// (what, value as written): a clash is reported at the value's own line.
+type ClaimLines = HashMap<(&'static str, String), usize>;
+
+fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLines), BadInput> {
     let m = ctx.map(node, "library", LIBRARY_FIELDS)?;
     let id = m.required_str("id")?.trim().to_string();
     if id.is_empty() {
         return Err(ctx.err(node, "library: `id` is empty"));
     }
+    let mut claim_lines = ClaimLines::new();
+    if let Some(n) = m.get("id") {
+        claim_lines.insert(("name or alias", id.clone()), n.line);
+    }
     // Headers, link names, pkg-config modules and aliases are lookup keys: an empty one would
     // match what it should not (an empty header is a suffix of every path), so it is refused
     // at its line.
-    let list = |field: &str| -> Result<Vec<String>, BadInput> {
+    let mut list = |field: &str, what: &'static str| -> Result<Vec<String>, BadInput> {
         let items = m.str_list_at(field)?;
         for item in &items {
             if item.value.trim().is_empty() {
@@ -326,12 +337,15 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                     format!("library `{id}`: `{field}` has an empty entry"),
                 ));
             }
+            claim_lines
+                .entry((what, item.value.clone()))
+                .or_insert(item.line);
         }
         Ok(items.into_iter().map(|item| item.value).collect())
     };
-    let headers = list("headers")?;
-    let link = list("link")?;
-    let pkg_config = list("pkg_config")?;
+    let headers = list("headers", "header")?;
+    let link = list("link", "link name")?;
+    let pkg_config = list("pkg_config", "pkg-config module")?;
     // An alias is looked up as a word of a package's name or summary: one without a letter
     // (`1`, `2.0`) would take a version number there for the library.
     for alias in m.str_list_at("aliases")? {
@@ -346,7 +360,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
             ));
         }
     }
-    let aliases = list("aliases")?;
+    let aliases = list("aliases", "name or alias")?;
     let mut families = BTreeMap::new();
     if let Some(f) = m.get("families") {
         let Some(pairs) = (match &f.value {
@@ -478,6 +492,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
             pkg_config,
             families,
         },
+        claim_lines,
     ))
 }
 
