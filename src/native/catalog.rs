@@ -496,18 +496,6 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
     ))
 }
 
-/// Whether `name` can be a system package name on every family basefit writes commands for.
-/// The names go into shell commands as they are, so anything beyond these characters (a
-/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
-/// `_` are allowed for RPM and Alpine names (common practice, no source); Debian names are
-/// held to Debian's stricter rule by [`is_debian_package_name`].
-fn is_package_name(name: &str) -> bool {
-    name.starts_with(|c: char| c.is_ascii_alphanumeric())
-        && name
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
-}
-
 /// Whether `name` can be a Debian package name. Debian Policy Manual, section 5.6.1
 /// ("Source"), which section 5.6.7 ("Package") applies to binary package names too: package
 /// names must consist only of lower case letters (a-z), digits (0-9), plus (+) and minus (-)
@@ -519,4 +507,16 @@ fn is_debian_package_name(name: &str) -> bool {
         && name
             .chars()
             .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || "+-.".contains(c))
+}
+
+/// Whether `name` can be a system package name on every family basefit writes commands for.
+/// The names go into shell commands as they are, so anything beyond these characters (a
+/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
+/// `_` are allowed for RPM and Alpine names (common practice, no source); Debian names are
+/// held to Debian's stricter rule by [`is_debian_package_name`].
+fn is_package_name(name: &str) -> bool {
+    name.starts_with(|c: char| c.is_ascii_alphanumeric())
+        && name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
 }
