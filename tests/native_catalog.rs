@@ -27,6 +27,8 @@ fn debian_entries_agree_with_the_archive_extract() {
             "header" => catalog.by_header(name),
             "pkgconfig" => catalog.by_pkg_config(name),
             "link" => catalog.by_link(name),
+            // Runtime packages: debian_runtime_lists_cover_every_link_name.
+            "runtime" => continue,
             other => panic!("unknown kind {other}"),
         }
         .unwrap_or_else(|| {
@@ -63,6 +65,139 @@ fn debian_entries_agree_with_the_archive_extract() {
                 lib.id
             );
         }
+    }
+}
+
+/// A prebuilt build linked against a library needs, at run time, every shared object the
+/// library's link names stand for, and Debian often ships those in several packages (pango's
+/// `libpangocairo-1.0.so.0` is in `libpangocairo-1.0-0`, not `libpango-1.0-0`; nettle's
+/// `libhogweed.so.6` in `libhogweed6`). So each verified Debian `runtime` list must name, for
+/// every link name of its library, the package that ships the shared object the dev package's
+/// `lib<name>.so` resolves to, and nothing else.
+#[test]
+fn debian_runtime_lists_cover_every_link_name() {
+    // Source: Debian's package archive, Debian 12 (bookworm), the release the catalog targets
+    // (`debian_release`): the `runtime` rows of the extract, from `dpkg -c` of the runtime
+    // packages, written by tests/data/debian-archive/make-extract.sh (see its README).
+    let extract = std::fs::read_to_string("tests/data/debian-archive/extract.tsv").unwrap();
+    let mut shipped: std::collections::BTreeMap<&str, Vec<&str>> = Default::default();
+    for line in extract.lines().skip(1) {
+        let cols: Vec<&str> = line.split('\t').collect();
+        if let ["runtime", link, package] = cols[..] {
+            shipped.entry(link).or_default().push(package);
+        }
+    }
+    let catalog = Catalog::builtin();
+    assert!(catalog.debian_release.contains("bookworm"));
+    let mut checked = 0;
+    for lib in &catalog.libraries {
+        let deb = &lib.families[&OsFamily::Debian];
+        if deb.source != FactSource::Verified {
+            continue;
+        }
+        let mut needed = std::collections::BTreeSet::new();
+        for link in &lib.link {
+            let packages = shipped
+                .get(link.as_str())
+                .unwrap_or_else(|| panic!("{}: link {link} has no runtime row", lib.id));
+            for p in packages {
+                assert!(
+                    deb.runtime.iter().any(|r| r == p),
+                    "{}: lib{link}.so resolves to a file in {p}, which runtime {:?} leaves out",
+                    lib.id,
+                    deb.runtime
+                );
+                needed.insert(*p);
+                checked += 1;
+            }
+        }
+        for r in &deb.runtime {
+            assert!(
+                needed.contains(r.as_str()),
+                "{}: runtime package {r} ships none of the link names {:?}",
+                lib.id,
+                lib.link
+            );
+        }
+    }
+    assert!(checked > 90, "only {checked} link names");
+}
+
+/// A prebuilt build of a library whose shared objects Debian ships in several packages is
+/// predicted to install only where all of them are: an image with `libpango-1.0-0` alone
+/// lacks `libpangocairo-1.0.so.0`, and the dynamic loader would refuse the build there.
+#[test]
+fn a_prebuilt_build_needs_every_runtime_package_of_its_library() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path
+    };
+    let registry = write(
+        "r.yaml",
+        "packages:\n  - name: d\n    versions:\n      - {version: 1.0.0, builds: {source: false, prebuilt: [linux/glibc/x86_64]}, native: {libraries: [pangocairo]}}\n",
+    );
+    let images = write(
+        "i.yaml",
+        "images:\n  - {id: one, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [libpango-1.0-0]}\n  - {id: all, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [libpango-1.0-0, libpangocairo-1.0-0, libpangoft2-1.0-0]}\n",
+    );
+    let priorities = write("p.yaml", "priorities: [d]\n");
+    let explain = |image: &str| {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_basefit"))
+            .args(["explain", "d", image, "--quiet", "--registry"])
+            .arg(&registry)
+            .arg("--images")
+            .arg(&images)
+            .arg("--priorities")
+            .arg(&priorities)
+            .output()
+            .unwrap();
+        String::from_utf8_lossy(&out.stdout).into_owned()
+    };
+    let one = explain("one");
+    assert!(
+        one.starts_with("d on one: fails (1.0.0), missing-system-library")
+            && one.contains("missing system packages: libpangocairo-1.0-0 libpangoft2-1.0-0"),
+        "{one}"
+    );
+    let all = explain("all");
+    assert!(all.starts_with("d on all: installs (1.0.0)"), "{all}");
+}
+
+/// `runtime` takes one package or a list; a list names each package at its own line when it
+/// is wrong, and an empty list or a package listed twice is refused.
+#[test]
+fn a_runtime_list_is_read_and_checked() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: quokka-codec\n    families:\n      debian: {dev: libquokka-dev, runtime: [libquokka1, libquokka-extra1]}\n      alpine: {runtime: quokka-libs}\n",
+    )
+    .unwrap();
+    let c = Catalog::with_override(&path).unwrap();
+    let lib = c.get("quokka-codec").unwrap();
+    assert_eq!(
+        lib.families[&OsFamily::Debian].runtime,
+        ["libquokka1", "libquokka-extra1"]
+    );
+    assert_eq!(lib.families[&OsFamily::Alpine].runtime, ["quokka-libs"]);
+    for (runtime, want) in [
+        ("[libquokka1,\n          \"bad name\"]", "site.yaml:5:"),
+        ("[]", "site.yaml:4:"),
+        ("[libquokka1, libquokka1]", "site.yaml:4:"),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: quokka-codec\n    families:\n      debian: {{dev: libquokka-dev, runtime: {runtime}}}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains(want) && e.contains("`runtime`"),
+            "{runtime}: {e}"
+        );
     }
 }
 
@@ -167,6 +302,92 @@ fn catalog_package_names_are_package_names() {
     }
 }
 
+/// Debian package names are lower case: "Package names (both source and binary ...) must
+/// consist only of lower case letters (a-z), digits (0-9), plus (+) and minus (-) signs, and
+/// periods (.). They must be at least two characters long and must start with an
+/// alphanumeric character." (Debian Policy Manual, section 5.6.1 "Source"; section 5.6.7
+/// "Package" applies it to binary packages.) apt would find no `LibFoo-Dev`, so a Debian name
+/// outside that rule is refused at its line; RPM names may have upper case
+/// (`ImageMagick-devel`).
+#[test]
+fn debian_package_names_follow_debian_policy() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    for (family, want) in [
+        (
+            "debian: {dev: LibFoo-Dev, runtime: libfoo1}",
+            "`dev` package `LibFoo-Dev` is not a Debian package name (`libfoo-dev`?); Debian Policy 5.6.1",
+        ),
+        (
+            "debian: {dev: libfoo-dev, runtime: [libfoo1, Libfoo-extra1]}",
+            "`runtime` package `Libfoo-extra1` is not a Debian package name (`libfoo-extra1`?)",
+        ),
+        (
+            "debian: {dev: libfoo_dev}",
+            "`dev` package `libfoo_dev` is not a Debian package name; Debian Policy 5.6.1",
+        ),
+        (
+            "debian: {runtime: f}",
+            "`runtime` package `f` is not a Debian package name",
+        ),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: libfoo\n    families:\n      {family}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains("site.yaml:4:") && e.contains(want),
+            "{family}: {e}"
+        );
+    }
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: libfoo\n    families:\n      rhel: {dev: ImageMagick-devel, runtime: ImageMagick-libs}\n      alpine: {dev: foo_dev}\n",
+    )
+    .unwrap();
+    Catalog::with_override(&path).unwrap();
+}
+
+/// Aliases are matched against the words of package names and summaries: an empty one, or one
+/// with no letter (`1`, `2.0`, which would take a version number for the library), is refused
+/// at its line, and so is an empty header, link name or pkg-config module (an empty header is
+/// a suffix of every path).
+#[test]
+fn empty_and_numeric_aliases_and_empty_lookup_keys_are_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    for (field, want) in [
+        ("aliases: [quokka, \"\"]", "alias `` has no letter"),
+        ("aliases: [1, 2]", "alias `1` has no letter"),
+        ("aliases: [\"2.0\"]", "alias `2.0` has no letter"),
+        ("aliases: \" \"", "alias ` ` has no letter"),
+        ("headers: [quokka.h, \"\"]", "`headers` has an empty entry"),
+        ("link: [\"  \"]", "`link` has an empty entry"),
+        ("pkg_config: [\"\"]", "`pkg_config` has an empty entry"),
+    ] {
+        std::fs::write(
+            &path,
+            format!("libraries:\n  - id: quokka-codec\n    {field}\n    families:\n      debian: {{dev: libquokka-dev}}\n"),
+        )
+        .unwrap();
+        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        assert!(
+            e.contains("site.yaml:3:") && e.contains(want),
+            "{field}: {e}"
+        );
+    }
+    // A name with digits and letters is a name.
+    std::fs::write(
+        &path,
+        "libraries:\n  - id: quokka-codec\n    aliases: [quokka2, libquokka-1.0]\n",
+    )
+    .unwrap();
+    let c = Catalog::with_override(&path).unwrap();
+    assert_eq!(c.by_word("quokka2").unwrap().id, "quokka-codec");
+}
+
 /// A family that names only the runtime package leaves a source build's need unmet: with the
 /// toolchain present the cell stays at risk, not "installs" as if nothing were missing.
 #[test]
@@ -212,20 +433,21 @@ fn a_source_build_needs_the_development_package_the_catalog_names() {
 }
 
 /// A header two libraries claim would be looked up as one of them only, silently: a new
-/// library claiming a shipped one's header is refused, naming both; replacing the shipped
-/// entry by its id is the way to change it.
+/// library claiming a shipped one's header is refused, naming both, at the line of the
+/// clashing value (as every problem with one field's value is), not the entry's; replacing
+/// the shipped entry by its id is the way to change it.
 #[test]
 fn a_header_two_libraries_claim_is_refused() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("site.yaml");
     std::fs::write(
         &path,
-        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers: [zlib.h]\n    families:\n      debian: {dev: my-zlib-dev}\n",
+        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers:\n      - my-zlib.h\n      - zlib.h\n    families:\n      debian: {dev: my-zlib-dev}\n",
     )
     .unwrap();
     let e = Catalog::with_override(&path).unwrap_err().to_string();
     assert!(
-        e.contains("site.yaml:4:")
+        e.contains("site.yaml:7:")
             && e.contains("library `my-zlib`: header `zlib.h` is also library `zlib`'s"),
         "{e}"
     );
@@ -237,7 +459,20 @@ fn a_header_two_libraries_claim_is_refused() {
     .unwrap();
     let e = Catalog::with_override(&path).unwrap_err().to_string();
     assert!(
-        e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
+        e.contains("site.yaml:3:")
+            && e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
+        "{e}"
+    );
+    // An id is a name too: its clash is at the `id` line, which is also the entry's.
+    std::fs::write(
+        &path,
+        "libraries:\n  - summary: another zlib\n    id: libz\n    families:\n      debian: {dev: my-z-dev}\n",
+    )
+    .unwrap();
+    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    assert!(
+        e.contains("site.yaml:3:")
+            && e.contains("library `libz`: name or alias `libz` is also library `zlib`'s"),
         "{e}"
     );
     std::fs::write(

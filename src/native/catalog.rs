@@ -40,9 +40,23 @@ pub enum FactSource {
 pub struct FamilyPackages {
     /// Headers, link symlinks and pkg-config files: needed to build against the library.
     pub dev: Option<String>,
-    /// The shared library itself: needed to run a prebuilt build linked against it.
-    pub runtime: Option<String>,
+    /// The shared libraries themselves: needed to run a prebuilt build linked against the
+    /// library. Several when the library's shared objects ship in several packages (Debian's
+    /// pango: `libpango-1.0-0`, `libpangocairo-1.0-0`, `libpangoft2-1.0-0`); a prebuilt build
+    /// needs all of them. Empty when the catalog names none.
+    pub runtime: Vec<String>,
     pub source: FactSource,
+}
+
+impl FamilyPackages {
+    /// The packages a release built as `build` needs, all of them: the development package
+    /// to build from source, the runtime packages to run a prebuilt build.
+    pub fn packages(&self, build: BuildKind) -> Vec<&str> {
+        match build {
+            BuildKind::Source => self.dev.iter().map(String::as_str).collect(),
+            BuildKind::Prebuilt => self.runtime.iter().map(String::as_str).collect(),
+        }
+    }
 }
 
 /// One system library.
@@ -130,7 +144,7 @@ impl Catalog {
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
         let mut seen = BTreeSet::new();
         let mut lines = Vec::new();
-        for (line, lib) in libraries {
+        for (line, lib, claim_lines) in libraries {
             if !seen.insert(lib.id.clone()) {
                 return Err(BadInput::at(
                     file,
@@ -138,7 +152,7 @@ impl Catalog {
                     format!("library `{}` is listed twice", lib.id),
                 ));
             }
-            lines.push((line, lib.id.clone()));
+            lines.push((line, lib.id.clone(), claim_lines));
             match self.libraries.iter_mut().find(|l| l.id == lib.id) {
                 Some(existing) => *existing = lib,
                 None => self.libraries.push(lib),
@@ -156,16 +170,19 @@ impl Catalog {
                 }
             }
         }
-        for (line, id) in lines {
+        for (line_of_entry, id, claim_lines) in lines {
             let Some(mine) = self.libraries.iter().position(|l| l.id == id) else {
                 continue;
             };
             for (what, key, value) in claims(&self.libraries[mine]) {
                 let other = owners[&(what, key)].iter().find(|&&o| o != mine);
                 if let Some(&other) = other {
+                    // The line of the clashing value, as for every other field's value; the
+                    // entry's line only if the value's is unknown.
+                    let line = claim_lines.get(&(what, value.clone())).copied();
                     return Err(BadInput::at(
                         file,
-                        line,
+                        line.unwrap_or(line_of_entry),
                         format!(
                             "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
                             self.libraries[other].id
@@ -204,15 +221,14 @@ impl Catalog {
         self.libraries.iter().find(|l| l.id == id)
     }
 
-    /// The system package that provides library `id` on `family` for a release built as
-    /// `build`: the development package to build from source, the runtime package to run a
-    /// prebuilt build. `None` when the catalog names none.
-    pub fn package_for(&self, id: &str, family: OsFamily, build: BuildKind) -> Option<&str> {
-        let fam = self.get(id)?.families.get(&family)?;
-        match build {
-            BuildKind::Source => fam.dev.as_deref(),
-            BuildKind::Prebuilt => fam.runtime.as_deref(),
-        }
+    /// The system packages that provide library `id` on `family` for a release built as
+    /// `build`, all of them needed: the development package to build from source, the runtime
+    /// packages to run a prebuilt build. Empty when the catalog names none.
+    pub fn packages_for(&self, id: &str, family: OsFamily, build: BuildKind) -> Vec<&str> {
+        let Some(fam) = self.get(id).and_then(|l| l.families.get(&family)) else {
+            return Vec::new();
+        };
+        fam.packages(build)
     }
 
     /// Whether the catalog names the system packages library `id` needs on `family` for a
@@ -220,10 +236,10 @@ impl Catalog {
     /// advice can say what to add, and a cell needing it stays at risk whatever is added.
     pub fn knows(&self, id: &str, family: OsFamily, build: Option<BuildKind>) -> bool {
         match build {
-            Some(build) => self.package_for(id, family, build).is_some(),
+            Some(build) => !self.packages_for(id, family, build).is_empty(),
             None => [BuildKind::Source, BuildKind::Prebuilt]
                 .into_iter()
-                .all(|b| self.package_for(id, family, b).is_some()),
+                .all(|b| !self.packages_for(id, family, b).is_empty()),
         }
     }
 
@@ -301,12 +317,57 @@ pub fn install_command(family: OsFamily, packages: &[String]) -> String {
     }
 }
 
-fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput> {
+/// The line of each value a library claims for lookups, keyed as [`claims`] names them
+/// (what, value as written): a clash is reported at the value's own line.
+type ClaimLines = HashMap<(&'static str, String), usize>;
+
+fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLines), BadInput> {
     let m = ctx.map(node, "library", LIBRARY_FIELDS)?;
     let id = m.required_str("id")?.trim().to_string();
     if id.is_empty() {
         return Err(ctx.err(node, "library: `id` is empty"));
     }
+    let mut claim_lines = ClaimLines::new();
+    if let Some(n) = m.get("id") {
+        claim_lines.insert(("name or alias", id.clone()), n.line);
+    }
+    // Headers, link names, pkg-config modules and aliases are lookup keys: an empty one would
+    // match what it should not (an empty header is a suffix of every path), so it is refused
+    // at its line.
+    let mut list = |field: &str, what: &'static str| -> Result<Vec<String>, BadInput> {
+        let items = m.str_list_at(field)?;
+        for item in &items {
+            if item.value.trim().is_empty() {
+                return Err(BadInput::at(
+                    ctx.file,
+                    item.line,
+                    format!("library `{id}`: `{field}` has an empty entry"),
+                ));
+            }
+            claim_lines
+                .entry((what, item.value.clone()))
+                .or_insert(item.line);
+        }
+        Ok(items.into_iter().map(|item| item.value).collect())
+    };
+    let headers = list("headers", "header")?;
+    let link = list("link", "link name")?;
+    let pkg_config = list("pkg_config", "pkg-config module")?;
+    // An alias is looked up as a word of a package's name or summary: one without a letter
+    // (`1`, `2.0`) would take a version number there for the library.
+    for alias in m.str_list_at("aliases")? {
+        if !alias.value.chars().any(|c| c.is_alphabetic()) {
+            return Err(BadInput::at(
+                ctx.file,
+                alias.line,
+                format!(
+                    "library `{id}`: alias `{}` has no letter; an alias is matched against the words of package names and summaries, where an empty or numeric word names no library",
+                    alias.value
+                ),
+            ));
+        }
+    }
+    let aliases = list("aliases", "name or alias")?;
     let mut families = BTreeMap::new();
     if let Some(f) = m.get("families") {
         let Some(pairs) = (match &f.value {
@@ -348,23 +409,68 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
                     ));
                 }
             };
-            let package = |field: &str| -> Result<Option<String>, BadInput> {
-                let Some(node) = fm.get(field) else {
-                    return Ok(None);
+            let check = |field: &str, name: &str, line: usize| -> Result<(), BadInput> {
+                let problem = if !is_package_name(name) {
+                    Some("is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit".to_string())
+                } else if family == OsFamily::Debian && !is_debian_package_name(name) {
+                    let hint = if is_debian_package_name(&name.to_lowercase()) {
+                        format!(" (`{}`?)", name.to_lowercase())
+                    } else {
+                        String::new()
+                    };
+                    Some(format!(
+                        "is not a Debian package name{hint}; Debian Policy 5.6.1 allows only lower-case letters, digits and `+ - .`, at least two characters, starting with a letter or digit"
+                    ))
+                } else {
+                    None
                 };
-                let name = ctx.str(node, &format!("family `{field}`"))?;
-                if !is_package_name(name) {
+                match problem {
+                    Some(problem) => Err(BadInput::at(
+                        ctx.file,
+                        line,
+                        format!(
+                            "library `{id}`, family {family}: `{field}` package `{name}` {problem}"
+                        ),
+                    )),
+                    None => Ok(()),
+                }
+            };
+            let dev = match fm.get("dev") {
+                None => None,
+                Some(node) => {
+                    let name = ctx.str(node, "family `dev`")?;
+                    check("dev", name, node.line)?;
+                    Some(name.to_string())
+                }
+            };
+            // One package or a list of them: a library whose shared objects ship in several
+            // packages needs all of them at run time.
+            let mut runtime: Vec<String> = Vec::new();
+            if let Some(node) = fm.get("runtime") {
+                for item in ctx.str_list_at(Some(node), "family `runtime`")? {
+                    check("runtime", &item.value, item.line)?;
+                    if runtime.contains(&item.value) {
+                        return Err(BadInput::at(
+                            ctx.file,
+                            item.line,
+                            format!(
+                                "library `{id}`, family {family}: `runtime` package `{}` is listed twice",
+                                item.value
+                            ),
+                        ));
+                    }
+                    runtime.push(item.value);
+                }
+                if runtime.is_empty() {
                     return Err(ctx.err(
                         node,
                         format!(
-                            "library `{id}`, family {family}: `{field}` package `{name}` is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit"
+                            "library `{id}`, family {family}: `runtime` names no package; give a package or a list of them, or leave `runtime` out"
                         ),
                     ));
                 }
-                Ok(Some(name.to_string()))
-            };
-            let (dev, runtime) = (package("dev")?, package("runtime")?);
-            if dev.is_none() && runtime.is_none() {
+            }
+            if dev.is_none() && runtime.is_empty() {
                 return Err(ctx.err(
                     v,
                     format!(
@@ -387,21 +493,34 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library), BadInput
         Library {
             id,
             summary: m.opt_str("summary")?.unwrap_or_default().to_string(),
-            aliases: m.str_list("aliases")?,
-            headers: m.str_list("headers")?,
-            link: m.str_list("link")?,
-            pkg_config: m.str_list("pkg_config")?,
+            aliases,
+            headers,
+            link,
+            pkg_config,
             families,
         },
+        claim_lines,
     ))
+}
+
+/// Whether `name` can be a Debian package name. Debian Policy Manual, section 5.6.1
+/// ("Source"), which section 5.6.7 ("Package") applies to binary package names too: package
+/// names must consist only of lower case letters (a-z), digits (0-9), plus (+) and minus (-)
+/// signs, and periods (.); they must be at least two characters long and must start with an
+/// alphanumeric character. apt finds no package by any other name.
+fn is_debian_package_name(name: &str) -> bool {
+    name.len() >= 2
+        && name.starts_with(|c: char| c.is_ascii_lowercase() || c.is_ascii_digit())
+        && name
+            .chars()
+            .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || "+-.".contains(c))
 }
 
 /// Whether `name` can be a system package name on every family basefit writes commands for.
 /// The names go into shell commands as they are, so anything beyond these characters (a
-/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Debian's rule
-/// (Debian Policy Manual, section 5.6.1, cited from memory: lower-case letters, digits, `+ - .`, starting with a
-/// letter or digit) is the strictest of the three; upper case and `_` are allowed for RPM
-/// names (common practice, no source).
+/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
+/// `_` are allowed for RPM and Alpine names (common practice, no source); Debian names are
+/// held to Debian's stricter rule by [`is_debian_package_name`].
 fn is_package_name(name: &str) -> bool {
     name.starts_with(|c: char| c.is_ascii_alphanumeric())
         && name
@@ -425,9 +544,10 @@ impl Catalog {
 // What an image's declared packages imply, kept apart from the blocks above.
 impl Catalog {
     /// Whether an image of `family` declaring `packages` has system package `package`: when
-    /// it declares it, or when it declares the development package of a library whose
-    /// runtime package it is, since a development package depends on its library's runtime
-    /// package. On debian every dev/runtime pair of the shipped catalog was checked so with
+    /// it declares it, or when it declares the development package of a library one of
+    /// whose runtime packages it is, since a development package depends on its library's
+    /// runtime packages (for the lists of several, `apt-cache depends` on Debian 12 shows
+    /// libpango1.0-dev, libkrb5-dev, nettle-dev and libfftw3-dev depending on every one). On debian every dev/runtime pair of the shipped catalog was checked so with
     /// `apt-cache depends --recurse` on Debian 12 (66 of 68 directly; libkrb5-dev and
     /// libmariadb-dev-compat through another -dev package); on alpine (`-dev`) and rhel
     /// (`-devel`) it is so from memory. Virtual and alternative names (`libcurl-dev`,
@@ -436,7 +556,7 @@ impl Catalog {
         packages.contains(package)
             || self.libraries.iter().any(|l| {
                 l.families.get(&family).is_some_and(|f| {
-                    f.runtime.as_deref() == Some(package)
+                    f.runtime.iter().any(|r| r == package)
                         && f.dev.as_ref().is_some_and(|d| packages.contains(d))
                 })
             })

@@ -251,17 +251,16 @@ pub fn assess(
             if let Some(id) = &library {
                 match catalog.get(id).and_then(|l| l.families.get(&image.family)) {
                     Some(fam) => {
-                        let wanted = match pin.build {
-                            BuildKind::Source => fam.dev.as_ref(),
-                            BuildKind::Prebuilt => fam.runtime.as_ref(),
-                        };
-                        match wanted {
-                            Some(p) => add_missing(p, confidence, &mut missing),
-                            // The family is listed without the package this build needs: no
-                            // addition can be named, so the need stays unmet.
-                            None => {
-                                unknown.insert(id.clone());
-                            }
+                        // Every package the build needs: a prebuilt build needs each runtime
+                        // package the library's shared objects ship in.
+                        let wanted = fam.packages(pin.build);
+                        for p in &wanted {
+                            add_missing(p, confidence, &mut missing);
+                        }
+                        // The family is listed without the package this build needs: no
+                        // addition can be named, so the need stays unmet.
+                        if wanted.is_empty() {
+                            unknown.insert(id.clone());
                         }
                     }
                     None => {

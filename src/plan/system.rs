@@ -223,7 +223,7 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
                             .and_then(|l| l.families.get(&image.family))
                             .is_some_and(|f| {
                                 (source && f.dev.as_deref() == Some(p))
-                                    || (prebuilt && f.runtime.as_deref() == Some(p))
+                                    || (prebuilt && f.runtime.iter().any(|r| r == p))
                             })
                     })
                     .map(|nd| nd.confidence)
