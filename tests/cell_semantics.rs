@@ -995,10 +995,18 @@ fn a_runtime_no_version_can_be_is_told_apart() {
     versions:
       - {version: "1.0.0", runtime: ">=5, <4"}
       - {version: "0.9.0", depends: [{name: nonesuch}]}
+  - name: never
+    versions: [{version: "1.0.0", runtime: ">=5, <4"}]
+  - name: needs-never
+    versions: [{version: "1.0.0", depends: [{name: never}]}]
+  - name: needs-never-too
+    versions: [{version: "1.0.0", depends: [{name: wants-new}, {name: never}]}]
+  - name: wants-new
+    versions: [{version: "1.0.0", runtime: ">=9"}]
 "#;
     let inputs = inputs(
         registry,
-        "priorities: [never-or-newer, never-or-older, never-or-ghost]\n",
+        "priorities: [never-or-newer, never-or-older, never-or-ghost, needs-never, needs-never-too]\n",
     );
     let options = PlanOptions::default();
     let cell = |name: &str| explain(&inputs, name, "deb", &options).unwrap().cell;
@@ -1021,6 +1029,16 @@ fn a_runtime_no_version_can_be_is_told_apart() {
         cell("never-or-ghost").cause,
         Some(Cause::MissingFromRegistry)
     );
+    // As a blocker, met first or beside another, it is not said to need a newer runtime.
+    for name in ["needs-never", "needs-never-too"] {
+        let blockers = cell(name).blockers;
+        let never = blockers.iter().find(|b| b.package == "never").unwrap();
+        assert!(
+            never.reason.ends_with("needs a runtime no version can be"),
+            "{name}: {}",
+            never.reason
+        );
+    }
 }
 
 /// Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10), so an

@@ -391,6 +391,27 @@ pub(crate) fn unusable(
     )
 }
 
+/// The cause's label for a blocker whose releases in `set` are all refused, unless each has
+/// a runtime requirement no runtime meets: the cause keeps a direction then, and "needs a
+/// newer runtime" would send the reader to build an image no runtime can make.
+fn refusal_label(
+    registry: &crate::model::Registry,
+    package: PackageId,
+    set: &IndexSet,
+    cause: Cause,
+) -> &'static str {
+    let pkg = registry.package(package);
+    let mut releases = indices(set, pkg.releases.len()).peekable();
+    let never = pkg.declared
+        && releases.peek().is_some()
+        && releases.all(|i| runtime_unmeetable(registry, &pkg.releases[i as usize]));
+    if never {
+        "needs a runtime no version can be"
+    } else {
+        cause.label()
+    }
+}
+
 /// Whether `release` has a runtime requirement no runtime version meets (`<0.0.0`,
 /// `>=5, <4`): no image can install it, whatever its runtime.
 fn runtime_unmeetable(registry: &crate::model::Registry, release: &crate::model::Release) -> bool {
@@ -515,6 +536,8 @@ const SIBLING_RELEASES: usize = 64;
 /// name, what the cause is, the requirement text and the phrase saying why.
 struct Sibling {
     package: PackageId,
+    /// The releases its requirement admits (of the first release that has it).
+    set: IndexSet,
     cause: Cause,
     req: String,
     phrase: String,
@@ -593,6 +616,7 @@ fn unusable_siblings(
             cause,
             req: requirement_text(view, dependent, set, target, &dep_set),
             phrase,
+            set: dep_set,
         });
     }
     out.sort_by(|a, b| registry.name(a.package).cmp(registry.name(b.package)));
@@ -700,12 +724,13 @@ pub fn explain(
                 if *p != root {
                     // Naming the versions matters when others suit the image: a package that
                     // installs as an entry can still block entries that need its newer line.
-                    let all = indices(set, registry.package(*p).releases.len()).count()
-                        == registry.package(*p).releases.len();
+                    let releases = &registry.package(*p).releases;
+                    let all = indices(set, releases.len()).count() == releases.len();
+                    let why = refusal_label(registry, *p, set, cause);
                     let reason = if registry.package(*p).declared && !all {
-                        format!("{name} {} {}", describe(registry, *p, set), cause.label())
+                        format!("{name} {} {why}", describe(registry, *p, set))
                     } else {
-                        format!("{name} {}", cause.label())
+                        format!("{name} {why}")
                     };
                     blockers.push((
                         Blocker {
@@ -771,7 +796,7 @@ pub fn explain(
                             let why = if sib.cause == Cause::DependencyConflict {
                                 sib.phrase.as_str()
                             } else {
-                                sib.cause.label()
+                                refusal_label(registry, sib.package, &sib.set, sib.cause)
                             };
                             blockers.push((
                                 Blocker {
