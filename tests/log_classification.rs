@@ -895,3 +895,28 @@ fn autoconf_preprocessor_probe_is_no_finding() {
     let clang = "conftest.c:11:10: fatal error: 'ac_nonexistent.h' file not found\n";
     assert!(classify(clang).is_empty());
 }
+
+#[test]
+fn compiler_warnings_and_notes_quoting_network_words_are_no_findings() {
+    let dir = source_file(
+        "w.c",
+        "#include <errno.h>\n#define ECONNREFUSED 1111\nint missing_fn(void);\nint main(void) { return missing_fn() + ECONNREFUSED; }\n",
+    );
+    let Some(out) = run("gcc", &["w.c", "-o", "w"], dir.path()) else {
+        return skip(
+            "compiler_warnings_and_notes_quoting_network_words_are_no_findings",
+            "gcc is not installed",
+        );
+    };
+    assert!(!out.status.success());
+    let log = stderr(&out);
+    // source: GNU gcc on this machine: `w.c:2: warning: "ECONNREFUSED" redefined`, a note
+    // at errno.h's `#define ECONNREFUSED 111 /* Connection refused */` quoting it, then ld's
+    // undefined reference. The quoted words are the program's, not a failed connection.
+    assert!(log.contains("warning: \"ECONNREFUSED\" redefined"), "{log}");
+    let findings = classify(&log);
+    assert!(
+        findings.iter().all(|f| f.cause != LogCause::Network),
+        "{findings:?} from {log}"
+    );
+}

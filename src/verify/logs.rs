@@ -414,6 +414,9 @@ fn may_match(lower: &str) -> bool {
 /// The most specific cause in one cleaned segment. `lower` is `text` with ASCII lowercased, so
 /// byte offsets agree between the two.
 fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
+    if compiler_remark(text, &["warning: ", "note: "]) {
+        return None;
+    }
     if let Some(header) = missing_header(text) {
         // A probe that must fail says nothing about the image, nor is it a compiler error.
         if header == AUTOCONF_PROBE_HEADER {
@@ -490,7 +493,7 @@ fn missing_header(t: &str) -> Option<&str> {
     if let Some(p) = t.find("fatal error: ") {
         let rest = &t[p + "fatal error: ".len()..];
         if let Some(q) = rest.find(": No such file or directory")
-            && ends_with_location(&t[..p])
+            && location_file(&t[..p]).is_some()
             && let Some(name) = plausible_name(&rest[..q])
         {
             return Some(name);
@@ -514,26 +517,36 @@ fn missing_header(t: &str) -> Option<&str> {
     None
 }
 
-/// Whether the last word of `prefix` is a compiler location: `file:line:` or `file:line:col:`.
-fn ends_with_location(prefix: &str) -> bool {
+/// The file of the compiler location that is the last word of `prefix`, `file:line:` or
+/// `file:line:col:`, without its numbers; `None` when that word is no such location.
+fn location_file(prefix: &str) -> Option<&str> {
     let word = prefix
         .trim_end()
         .rsplit(char::is_whitespace)
         .next()
         .unwrap_or("");
-    let Some(word) = word.strip_suffix(':') else {
-        return false;
-    };
     let is_number = |s: &str| !s.is_empty() && s.bytes().all(|b| b.is_ascii_digit());
-    let mut parts = word.rsplit(':');
-    if !parts.next().is_some_and(is_number) {
-        return false;
+    let (rest, line) = word.strip_suffix(':')?.rsplit_once(':')?;
+    if !is_number(line) {
+        return None;
     }
-    match parts.next() {
-        Some(p) if is_number(p) => parts.next().is_some_and(|f| !f.is_empty()),
-        Some(p) => !p.is_empty(),
-        None => false,
-    }
+    let file = match rest.rsplit_once(':') {
+        Some((file, column)) if is_number(column) => file,
+        // `12:34:` is a time or a line and column, with no file.
+        _ if is_number(rest) => return None,
+        _ => rest,
+    };
+    (!file.is_empty()).then_some(file)
+}
+
+/// Whether `t` is a GCC or Clang diagnostic at a source location of one of `kinds`
+/// (`"warning: "`, `"note: "`): the words it quotes are the program's, not a report of what
+/// went wrong (gcc's `w.c:2: warning: "ECONNREFUSED" redefined` is no network failure).
+fn compiler_remark(t: &str, kinds: &[&str]) -> bool {
+    kinds.iter().any(|kind| {
+        t.match_indices(kind)
+            .any(|(p, _)| location_file(&t[..p]).is_some())
+    })
 }
 
 /// Whether `t` is a GCC or Clang error at a source location: `FILE:LINE[:COL]: error: MESSAGE`
@@ -543,29 +556,8 @@ fn compiler_error(t: &str) -> bool {
         let before = &t[..p];
         let before = before.strip_suffix("fatal ").unwrap_or(before);
         !t[p + m.len()..].trim().is_empty()
-            && ends_with_location(before)
-            && !is_configure_probe(location_file(before))
+            && location_file(before).is_some_and(|file| !is_configure_probe(file))
     })
-}
-
-/// The file of the location that ends `prefix` (see [`ends_with_location`]): its last word
-/// without `:LINE:` or `:LINE:COL:`.
-fn location_file(prefix: &str) -> &str {
-    let word = prefix
-        .trim_end()
-        .rsplit(char::is_whitespace)
-        .next()
-        .unwrap_or("");
-    let mut file = word.strip_suffix(':').unwrap_or(word);
-    for _ in 0..2 {
-        match file.rsplit_once(':') {
-            Some((head, n)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
-                file = head;
-            }
-            _ => break,
-        }
-    }
-    file
 }
 
 /// Whether `file` is one of autoconf's probe sources. Common practice, no source: from memory,
@@ -885,13 +877,13 @@ mod tests {
 
     #[test]
     fn location_prefixes() {
-        assert!(ends_with_location("a.c:1:10: "));
-        assert!(ends_with_location("  src/x.c:3: "));
-        assert!(ends_with_location(r"C:\src\a.c:1:10: "));
-        assert!(!ends_with_location("cc1: "));
-        assert!(!ends_with_location("gcc: "));
-        assert!(!ends_with_location(""));
-        assert!(!ends_with_location("12:34: "));
+        assert!(location_file("a.c:1:10: ").is_some());
+        assert!(location_file("  src/x.c:3: ").is_some());
+        assert!(location_file(r"C:\src\a.c:1:10: ").is_some());
+        assert!(location_file("cc1: ").is_none());
+        assert!(location_file("gcc: ").is_none());
+        assert!(location_file("").is_none());
+        assert!(location_file("12:34: ").is_none());
     }
 
     #[test]
@@ -910,9 +902,9 @@ mod tests {
         assert!(!compiler_error("error: command 'cc' exited with status 1"));
         assert!(!compiler_error("x.c:3:12: warning: unused variable 'x'"));
         assert!(may_match("x.c:3:12: error: 'y' undeclared"));
-        assert_eq!(location_file("  src/x.c:3:12: "), "src/x.c");
-        assert_eq!(location_file("x.c:3: "), "x.c");
-        assert_eq!(location_file(r"C:\src\a.c:1:10: "), r"C:\src\a.c");
+        assert_eq!(location_file("  src/x.c:3:12: "), Some("src/x.c"));
+        assert_eq!(location_file("x.c:3: "), Some("x.c"));
+        assert_eq!(location_file(r"C:\src\a.c:1:10: "), Some(r"C:\src\a.c"));
     }
 
     #[test]
