@@ -148,6 +148,11 @@ pub fn refuse_repeated(paths: &[PathBuf], flag: &str, why: &str) -> Result<(), B
 /// let a = dir.join("basefit-doc-not-written-yet.json");
 /// assert!(same_file(&a, &dir.join(".").join("basefit-doc-not-written-yet.json")));
 /// assert!(!same_file(&a, &dir.join("basefit-doc-other.json")));
+/// // A folder not made yet, spelled from here two ways.
+/// use std::path::Path;
+/// let later = Path::new("basefit-doc-no-such-folder/m.json");
+/// assert!(same_file(later, Path::new("./basefit-doc-no-such-folder/m.json")));
+/// assert!(!same_file(later, Path::new("basefit-doc-no-such-folder/n.json")));
 /// ```
 pub fn same_file(a: &Path, b: &Path) -> bool {
     if let (Some(x), Some(y)) = (FileIdentity::of(a), FileIdentity::of(b)) {
@@ -162,7 +167,11 @@ pub fn same_file(a: &Path, b: &Path) -> bool {
     };
     match (place(a), place(b)) {
         (Some(x), Some(y)) => x == y,
-        _ => a == b,
+        // A folder not made yet: the spellings, made absolute (`./out` is `out`).
+        _ => match (std::path::absolute(a), std::path::absolute(b)) {
+            (Ok(x), Ok(y)) => x == y,
+            _ => a == b,
+        },
     }
 }
 
