@@ -391,6 +391,49 @@ pub(crate) fn unusable(
     )
 }
 
+/// Whether some release of `package` in `set` is admissible, recording in `record`, when so,
+/// what shows it: nothing when the solver already found a release in the set admissible (its
+/// record stands, and a re-plan rewrites it alone when a look-alike takes that release's
+/// place), else the walk up from the oldest release to the first admissible one. Oldest
+/// first, so that neither a release published since nor a yank of the newest changes what a
+/// cold solve records, and a re-plan keeps the cell through both; a release below the first
+/// admissible one that becomes admissible is in the walk. When none is admissible nothing is
+/// recorded: the caller asks again as the solver asks.
+fn met_oldest_first(
+    view: &ImageView<'_>,
+    package: PackageId,
+    set: &IndexSet,
+    record: &mut Observed,
+) -> bool {
+    let admissions = view.admissions(package);
+    let seen = record
+        .admissions
+        .iter()
+        .any(|&(p, k, ok)| p == package && ok && set.contains(&k));
+    if seen {
+        return true;
+    }
+    let mut walk = Vec::new();
+    for i in indices(set, admissions.len()) {
+        if !view.fits(package, i) {
+            walk.push((i, None));
+            continue;
+        }
+        let admissible = admissions[i as usize] == Admission::Admissible;
+        walk.push((i, Some(admissible)));
+        if admissible {
+            for (k, admission) in walk {
+                match admission {
+                    None => record.unfit.push((package, k)),
+                    Some(ok) => record.admissions.push((package, k, ok)),
+                }
+            }
+            return true;
+        }
+    }
+    false
+}
+
 /// The cause's label for a blocker whose releases in `set` are all refused, unless each has
 /// a runtime requirement no runtime meets: the cause keeps a direction then, and "needs a
 /// newer runtime" would send the reader to build an image no runtime can make.
@@ -594,7 +637,10 @@ fn unusable_siblings(
             record.packages.push(target);
             let mut unmet = None;
             for (p, dep_set) in view.dependency_sets_on(dependent, i, move |p| p == target) {
-                if pick(view, p, &dep_set, record).is_none() {
+                if !met_oldest_first(view, p, &dep_set, record) {
+                    // Asked as the solver asks, stretches included: a release published
+                    // later inside the set may meet it, and a re-plan must then solve again.
+                    pick(view, p, &dep_set, record);
                     unmet = Some(dep_set);
                     break;
                 }
