@@ -690,10 +690,10 @@ fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
     Ok(shard)
 }
 
-/// Writes `matrix.yaml` and `matrix.json` into `dir`.
 /// The files `plan --out` and `merge --out` write into their folder.
 const MATRIX_FILES: [&str; 2] = ["matrix.yaml", "matrix.json"];
 
+/// Writes `matrix.yaml` and `matrix.json` into `dir`.
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
     let [yaml, json] = MATRIX_FILES.map(|name| dir.join(name));
     report::write_all_atomic(&[

@@ -336,13 +336,12 @@ pub(crate) fn unusable(
             });
         }
     }
-    let cause = if tally.values().all(Vec::is_empty) {
+    tally.retain(|_, idx| !idx.is_empty());
+    let cause = if tally.is_empty() {
         cause_of_refusals(&refusals(view, package, set))
     } else {
-        tally.retain(|_, idx| !idx.is_empty());
         cause_of_refusals(&tally)
     };
-    tally.retain(|_, idx| !idx.is_empty());
     let image = view.image;
     let mut parts = Vec::new();
     if !impossible.is_empty() {

@@ -530,7 +530,6 @@ pub fn compare(
     for ((row, col), records) in by_cell {
         let cell = &matrix.cells[row * matrix.images.len() + col];
         let attempts: Vec<RecordedOutcome> = records.iter().map(|r| r.outcome).collect();
-        let last = records.last().expect("a cell has at least one record");
         let (deciding, findings) = deciding_attempt(&records);
         let primary = logs::primary(&findings).cloned();
         // The version an install took; when retries took several, the last one other than
@@ -662,7 +661,6 @@ pub fn compare(
             log_recorded: deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
             suggestion,
         });
-        let _ = last;
     }
     let mut counts: BTreeMap<String, usize> = BTreeMap::new();
     let mut confusion = Confusion::default();
