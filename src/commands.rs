@@ -499,6 +499,21 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Some(p) if p.exists() => read_cache(p, &mut out)?,
         _ => None,
     };
+    if let (Some(p), Some(cached)) = (&o.cache, &previous)
+        && cached.matrix.shard != o.shard
+    {
+        let run = |shard: Option<plan::replan::Shard>| {
+            shard.map_or("the whole plan".to_string(), |s| {
+                format!("shard {}/{}", s.index, s.count)
+            })
+        };
+        out.stderr.push(format!(
+            "note: plan cache {} holds the cells of {}, this run plans {}: only cells both hold can be reused, and the cache is replaced; give each shard its own cache file",
+            p.display(),
+            run(cached.matrix.shard),
+            run(o.shard)
+        ));
+    }
     let (cache, stats) = plan::replan::replan(&inputs, &o.plan, previous, o.shard);
     let matrix = &cache.matrix;
     if let Some(dir) = &o.out {

@@ -311,3 +311,26 @@ fn a_shard_needs_out_and_reports_in_json_when_asked() {
     assert_eq!(v["total"], 330);
     assert_eq!(v["cells"], 165);
 }
+
+/// One shard's cache given to another shard: nothing of it can be reused, and the run says so
+/// rather than silently replacing it.
+#[test]
+fn a_cache_of_another_shard_is_named_in_a_note() {
+    let d = tempfile::tempdir().unwrap();
+    let cache = d.path().join("plan.cache");
+    let (code, _, stderr) = plan_with(&cache, &d.path().join("s1"), &["--shard", "1/2"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(!stderr.contains("holds the cells of"), "{stderr}");
+    let (code, _, stderr) = plan_with(&cache, &d.path().join("s2"), &["--shard", "2/2"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("holds the cells of shard 1/2, this run plans shard 2/2"),
+        "{stderr}"
+    );
+    assert_eq!(counts(&stderr).0, 0);
+    // The same shard again reuses everything, without the note.
+    let (code, _, stderr) = plan_with(&cache, &d.path().join("s2b"), &["--shard", "2/2"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(!stderr.contains("holds the cells of"), "{stderr}");
+    assert_eq!(counts(&stderr).1, 0);
+}
