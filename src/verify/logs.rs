@@ -253,9 +253,27 @@ pub fn classify(log: &str) -> Vec<LogFinding> {
 /// `2 |   return ECONNREFUSED;`, or mark it, `|          ^~~~`: its words are the program's, not
 /// a report of what went wrong (gcc on this machine prints both forms).
 fn quotes_source(text: &str) -> bool {
+    let text = without_timestamp(text);
     let digits = text.bytes().take_while(u8::is_ascii_digit).count();
     let rest = text[digits..].trim_start_matches(' ');
     rest.starts_with('|') && (digits > 0 || text.starts_with('|'))
+}
+
+/// `text` without a leading time stamp, as CI systems put before every log line
+/// (`2026-12-05T09:00:00.123Z`, `[12:00:01]`; common practice, no source): the first word
+/// when it holds a `:` and only digits, `-`, `:`, `.`, `T`, `Z` and brackets, with a digit
+/// first (after a bracket).
+fn without_timestamp(text: &str) -> &str {
+    let Some((first, rest)) = text.split_once(char::is_whitespace) else {
+        return text;
+    };
+    let bare = first.trim_start_matches('[').trim_end_matches(']');
+    let stamp = bare.starts_with(|c: char| c.is_ascii_digit())
+        && bare.contains(':')
+        && bare
+            .chars()
+            .all(|c| c.is_ascii_digit() || matches!(c, '-' | ':' | '.' | 'T' | 'Z' | '+'));
+    if stamp { rest.trim_start() } else { text }
 }
 
 /// The finding verification should act on: a runtime refusal, else the most specific kind, and
@@ -884,6 +902,23 @@ mod tests {
         assert!(location_file("gcc: ").is_none());
         assert!(location_file("").is_none());
         assert!(location_file("12:34: ").is_none());
+    }
+
+    #[test]
+    fn quoted_source_is_seen_behind_a_time_stamp() {
+        assert!(quotes_source("2 |   return ECONNREFUSED;"));
+        assert!(quotes_source("|          ^~~~"));
+        assert!(quotes_source(
+            "2026-12-05T09:00:00.1234567Z     2 |   return ECONNREFUSED;"
+        ));
+        assert!(quotes_source("[12:00:01]       |          ^~~~"));
+        assert!(!quotes_source(
+            "2026-12-05T09:00:00Z curl: (7) Connection refused"
+        ));
+        assert!(!quotes_source("a | b"));
+        // A location is no time stamp: `x.c:2:` keeps the line whole.
+        assert_eq!(without_timestamp("x.c:2: warning: w"), "x.c:2: warning: w");
+        assert_eq!(without_timestamp("12:00:01 | x"), "| x");
     }
 
     #[test]
