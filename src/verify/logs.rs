@@ -554,7 +554,8 @@ fn location_file(prefix: &str) -> Option<&str> {
         _ if is_number(rest) => return None,
         _ => rest,
     };
-    (!file.is_empty()).then_some(file)
+    // `10:00:01:` is a time of day, not line 0 of a file named `10`.
+    (!file.is_empty() && !is_number(file)).then_some(file)
 }
 
 /// Whether `t` is a GCC or Clang diagnostic at a source location of one of `kinds`
@@ -902,6 +903,22 @@ mod tests {
         assert!(location_file("gcc: ").is_none());
         assert!(location_file("").is_none());
         assert!(location_file("12:34: ").is_none());
+    }
+
+    #[test]
+    fn a_time_of_day_is_no_location() {
+        assert_eq!(location_file("10:00:01: "), None);
+        assert!(!compiler_error(
+            "10:00:01: error: Could not resolve host: index"
+        ));
+        assert_eq!(
+            match_segment(
+                "10:00:01: error: Could not resolve host: index",
+                "10:00:01: error: could not resolve host: index"
+            ),
+            Some(LogCause::Network)
+        );
+        assert_eq!(location_file("src/10.c:3:4: "), Some("src/10.c"));
     }
 
     #[test]
