@@ -398,16 +398,26 @@ pub(crate) fn unusable(
 /// cold solve records, and a re-plan keeps the cell through both; a release below the first
 /// admissible one that becomes admissible is in the walk. When none is admissible nothing is
 /// recorded: the caller asks again as the solver asks.
+///
+/// The first `sorted` records of `record.admissions` are the solver's, sorted (the solve's
+/// [`Observed::finish`]): they are searched by package rather than scanned, since a long
+/// failing chain asks this thousands of times.
 fn met_oldest_first(
     view: &ImageView<'_>,
     package: PackageId,
     set: &IndexSet,
     record: &mut Observed,
+    sorted: usize,
 ) -> bool {
     let admissions = view.admissions(package);
-    let seen = record
+    let (solver, since) = record
         .admissions
+        .split_at(sorted.min(record.admissions.len()));
+    let from = solver.partition_point(|r| r.0 < package);
+    let to = solver.partition_point(|r| r.0 <= package);
+    let seen = solver[from..to]
         .iter()
+        .chain(since)
         .any(|&(p, k, ok)| p == package && ok && set.contains(&k));
     if seen {
         return true;
@@ -602,6 +612,7 @@ fn unusable_siblings(
     known: &[PackageId],
     read: &mut Vec<PackageId>,
     record: &mut Observed,
+    sorted: usize,
 ) -> Vec<Sibling> {
     let registry = view.registry;
     let releases = &registry.package(dependent).releases;
@@ -636,7 +647,7 @@ fn unusable_siblings(
             record.packages.push(target);
             let mut unmet = None;
             for (p, dep_set) in view.dependency_sets_on(dependent, i, move |p| p == target) {
-                if !met_oldest_first(view, p, &dep_set, record) {
+                if !met_oldest_first(view, p, &dep_set, record, sorted) {
                     // Asked as the solver asks, stretches included: a release published
                     // later inside the set may meet it, and a re-plan must then solve again.
                     pick(view, p, &dep_set, record);
@@ -688,20 +699,21 @@ pub fn explain(
     let mut examined = named(&facts);
     // Per dependent named in a dependency fact (the first fact about it), the other
     // dependencies its releases there cannot meet.
+    // Per dependent, every package the facts say it depends on, gathered in one pass: a
+    // chain of dependencies states thousands of facts, and a scan per dependent was quadratic.
+    let mut known: BTreeMap<PackageId, Vec<PackageId>> = BTreeMap::new();
+    for f in &facts.order {
+        if let Fact::Depends(Node::Package(a), _, b, _) = f {
+            known.entry(*a).or_default().push(*b);
+        }
+    }
     let mut siblings: BTreeMap<PackageId, Vec<Sibling>> = BTreeMap::new();
+    let sorted = record.admissions.len();
     for f in &facts.order {
         if let Fact::Depends(Node::Package(a), sa, ..) = f
             && !siblings.contains_key(a)
         {
-            let known: Vec<PackageId> = facts
-                .order
-                .iter()
-                .filter_map(|g| match g {
-                    Fact::Depends(Node::Package(x), _, b, _) if x == a => Some(*b),
-                    _ => None,
-                })
-                .collect();
-            let found = unusable_siblings(view, *a, sa, &known, &mut examined, record);
+            let found = unusable_siblings(view, *a, sa, &known[a], &mut examined, record, sorted);
             siblings.insert(*a, found);
         }
     }
