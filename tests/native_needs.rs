@@ -288,3 +288,81 @@ fn syslibs_names_the_debian_release_of_the_catalog() {
     let (_, stdout, _) = run(&["syslibs"], &args);
     assert!(!stdout.contains("debian package names"), "{stdout}");
 }
+
+/// Fortran sources build only with a Fortran compiler, which no C toolchain package brings
+/// (`apt-cache depends build-essential` on Debian 12 lists no gfortran; `apt-cache depends
+/// gfortran-12` leads to libgfortran5): an image with `build-essential` alone is told to add
+/// `gfortran`, and a review of a log whose shell could not find gfortran advises the same,
+/// not a C toolchain the image already has.
+#[test]
+fn fortran_sources_need_a_fortran_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("lattice-solve", "", "src/ext/solve.f90, src/ext/glue.c"),
+        package("lattice-c", "", "src/ext/glue.c"),
+    );
+    let images = format!(
+        "images:\n{}{}{}",
+        image("d", "debian", "    packages: [build-essential]\n"),
+        image(
+            "d-fortran",
+            "debian",
+            "    packages: [build-essential, gfortran]\n"
+        ),
+        image("el", "rhel", "    packages: [gcc, gcc-c++, make]\n"),
+    );
+    let mut args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["lattice-solve", "lattice-c"],
+    );
+
+    let (code, stdout, _) = run(&["explain", "lattice-solve", "d"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("ships Fortran source src/ext/solve.f90"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("missing system packages: gfortran\n"),
+        "{stdout}"
+    );
+    let (code, stdout, _) = run(&["explain", "lattice-solve", "el"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("missing system packages: gcc-gfortran\n"),
+        "{stdout}"
+    );
+    for (package, img) in [("lattice-solve", "d-fortran"), ("lattice-c", "d")] {
+        let (code, stdout, stderr) = run(&["explain", package, img], &args);
+        assert_eq!(code, 0, "{package} on {img}: {stdout}{stderr}");
+    }
+
+    // The shell's own words when gfortran is not installed (bash on this machine, which has
+    // no gfortran); the test makes them when it can, and otherwise uses bash's wording.
+    let shell = std::process::Command::new("bash")
+        .args(["-c", "gfortran -c src/ext/solve.f90"])
+        .env("PATH", "/nonexistent")
+        .output()
+        .ok()
+        .map(|o| String::from_utf8_lossy(&o.stderr).trim().to_string())
+        .filter(|s| s.contains("gfortran"))
+        .unwrap_or_else(|| "bash: line 1: gfortran: command not found".into());
+    let results = format!(
+        "results:\n  - package: lattice-solve\n    image: d\n    outcome: failed\n    log: {:?}\n",
+        shell
+    );
+    args.extend([
+        "--results".to_string(),
+        write(dir.path(), "results.yaml", results)
+            .to_str()
+            .unwrap()
+            .to_string(),
+    ]);
+    let (_, stdout, stderr) = run(&["review"], &args);
+    assert!(stdout.contains("add gfortran to d"), "{stdout}{stderr}");
+    assert!(!stdout.contains("C toolchain"), "{stdout}");
+    assert!(!stdout.contains("SURPRISE"), "{stdout}");
+}

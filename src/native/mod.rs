@@ -40,6 +40,15 @@ pub struct Evidence {
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
     ".c", ".cc", ".cpp", ".cxx", ".h", ".hh", ".hpp", ".m", ".s", ".S",
 ];
+/// Fortran source endings, fixed and free form, the upper-case ones preprocessed (the suffixes
+/// gfortran compiles as Fortran; from memory). Such a source builds only with a Fortran
+/// compiler, which no C toolchain package brings.
+const FORTRAN_SOURCE_ENDINGS: &[&str] = &[
+    ".f", ".for", ".ftn", ".f77", ".f90", ".f95", ".f03", ".f08", ".F", ".FOR", ".F77", ".F90",
+    ".F95", ".F03", ".F08",
+];
+/// The catalog entry a Fortran source needs: the compiler, and the runtime a build links.
+pub const FORTRAN_LIBRARY: &str = "gfortran";
 const NATIVE_BUILD_FILES: &[&str] = &[
     "Makefile",
     "makefile",
@@ -76,8 +85,12 @@ pub fn release_evidence(
         }
         let mut native_files = 0usize;
         let mut first_native: Option<&str> = None;
+        let mut fortran: Vec<&str> = Vec::new();
         for f in &hints.files {
             let base = f.rsplit('/').next().unwrap_or(f);
+            if FORTRAN_SOURCE_ENDINGS.iter().any(|e| base.ends_with(e)) {
+                fortran.push(f);
+            }
             if NATIVE_SOURCE_ENDINGS.iter().any(|e| base.ends_with(e))
                 || NATIVE_BUILD_FILES.contains(&base)
             {
@@ -106,6 +119,20 @@ pub fn release_evidence(
                     });
                 }
             }
+        }
+        if let Some(first) = fortran.first() {
+            let id = catalog
+                .by_declared_name(FORTRAN_LIBRARY)
+                .map_or_else(|| FORTRAN_LIBRARY.to_string(), |l| l.id.clone());
+            let more = match fortran.len() {
+                1 => String::new(),
+                n => format!(" and {} more", n - 1),
+            };
+            out.push(Evidence {
+                confidence: Confidence::Likely,
+                library: Some(id),
+                detail: format!("ships Fortran source {first}{more}"),
+            });
         }
         if let Some(first) = first_native {
             let more = if native_files > 1 {

@@ -156,6 +156,11 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
         LogCause::MissingHeader { .. }
         | LogCause::MissingLibrary { .. }
         | LogCause::MissingPkgConfig { .. } => &[Cause::MissingSystemLibrary],
+        // A Fortran compiler is a catalog entry (the plan names its package as a library
+        // need), and an image lacking it may lack the C toolchain as well.
+        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
+            &[Cause::MissingSystemLibrary, Cause::MissingToolchain]
+        }
         LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
         LogCause::RuntimeRefused { .. } => &[Cause::RuntimeTooOld, Cause::RuntimeTooNew],
         // A build that ran out of memory or was killed stopped before any predicted cause
@@ -205,6 +210,9 @@ pub fn library_of<'c>(
         LogCause::MissingHeader { header } => catalog.by_header(header),
         LogCause::MissingLibrary { link } => catalog.by_link(link),
         LogCause::MissingPkgConfig { module } => catalog.by_pkg_config(module),
+        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
+            catalog.by_declared_name(crate::native::FORTRAN_LIBRARY)
+        }
         _ => None,
     }
 }
@@ -220,45 +228,49 @@ fn suggest(
     declared_in_closure: bool,
 ) -> Option<String> {
     let image = images.get(image_id)?;
+    // Advice naming the system package that provides what the log misses.
+    let add_package = || -> Option<String> {
+        let what = match cause {
+            LogCause::MissingHeader { header } => format!("header {header}"),
+            LogCause::MissingLibrary { link } => format!("library -l{link}"),
+            LogCause::MissingPkgConfig { module } => format!("pkg-config module {module}"),
+            LogCause::NoCompiler { tool } => format!("Fortran compiler {tool}"),
+            _ => String::new(),
+        };
+        let Some(lib) = library_of(catalog, cause) else {
+            return Some(format!(
+                "the log misses {what}, which the catalog does not know: add it to a catalog file"
+            ));
+        };
+        let dev = lib
+            .families
+            .get(&image.family)
+            .and_then(|f| f.dev.clone())
+            .unwrap_or_else(|| format!("the {} development package", lib.id));
+        let hint = if declared_in_closure {
+            String::new()
+        } else {
+            let known = registry.id(package).is_some();
+            let who = if known { package } else { "the package" };
+            format!(
+                "undeclared native dependency on {}: add a hint for {who}; ",
+                lib.id
+            )
+        };
+        // Advice to add what the image already declares would send the reader in a
+        // circle: then the declaration is what is wrong, or the build looks elsewhere.
+        if image.system_packages.contains(&dev) {
+            return Some(format!(
+                "{hint}{image_id} declares {dev}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
+            ));
+        }
+        Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
+    };
     match cause {
         LogCause::MissingHeader { .. }
         | LogCause::MissingLibrary { .. }
-        | LogCause::MissingPkgConfig { .. } => {
-            let what = match cause {
-                LogCause::MissingHeader { header } => format!("header {header}"),
-                LogCause::MissingLibrary { link } => format!("library -l{link}"),
-                LogCause::MissingPkgConfig { module } => format!("pkg-config module {module}"),
-                _ => String::new(),
-            };
-            let Some(lib) = library_of(catalog, cause) else {
-                return Some(format!(
-                    "the log misses {what}, which the catalog does not know: add it to a catalog file"
-                ));
-            };
-            let dev = lib
-                .families
-                .get(&image.family)
-                .and_then(|f| f.dev.clone())
-                .unwrap_or_else(|| format!("the {} development package", lib.id));
-            let hint = if declared_in_closure {
-                String::new()
-            } else {
-                let known = registry.id(package).is_some();
-                let who = if known { package } else { "the package" };
-                format!(
-                    "undeclared native dependency on {}: add a hint for {who}; ",
-                    lib.id
-                )
-            };
-            // Advice to add what the image already declares would send the reader in a
-            // circle: then the declaration is what is wrong, or the build looks elsewhere.
-            if image.system_packages.contains(&dev) {
-                return Some(format!(
-                    "{hint}{image_id} declares {dev}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
-                ));
-            }
-            Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
-        }
+        | LogCause::MissingPkgConfig { .. } => add_package(),
+        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => add_package(),
         // As for headers above: advice to add what the image declares would go in a circle.
         LogCause::NoCompiler { .. } | LogCause::NoMake if image.toolchain => Some(format!(
             "{image_id} declares a C toolchain, yet the build found no {}: check that the real image installs {} (its declaration may be out of date) and that the build's PATH reaches it",

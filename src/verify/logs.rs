@@ -722,6 +722,19 @@ const COMPILERS: [&str; 8] = [
     "cc", "c++", "gcc", "g++", "clang", "clang++", "cpp", "gfortran",
 ];
 
+/// Whether a compiler a log could not find is a Fortran one (`gfortran`, `gfortran-12`,
+/// `x86_64-linux-gnu-gfortran`): no C toolchain package brings it.
+///
+/// ```
+/// use basefit::verify::logs::is_fortran_compiler;
+/// assert!(is_fortran_compiler("/usr/bin/x86_64-linux-gnu-gfortran-12"));
+/// assert!(!is_fortran_compiler("gcc"));
+/// ```
+pub fn is_fortran_compiler(tool: &str) -> bool {
+    let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
+    without_version(base).ends_with("gfortran")
+}
+
 fn program_kind(name: &str) -> Option<Program> {
     let base = name.rsplit(['/', '\\']).next().unwrap_or(name);
     let base = without_version(base);
