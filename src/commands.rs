@@ -883,6 +883,15 @@ pub struct SystemCommand {
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing, or
 /// when a needed library maps to no system package (what the image lacks is then unknown).
 pub fn system(o: &SystemCommand) -> Result<Output> {
+    // Every figure of this report comes from the native step: without it each image would
+    // read "nothing missing", and a CI gate on the exit code would pass.
+    if !o.plan.native {
+        return Err(BadInput::file(
+            "command line",
+            "syslibs reports native needs, which --no-native skips: drop --no-native",
+        )
+        .into());
+    }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("syslibs"))?;
     let matrix = plan::plan(&inputs, &o.plan);
@@ -910,9 +919,13 @@ pub struct ImageplanCommand {
 #[derive(Debug, serde::Serialize)]
 pub struct ImagePlan {
     pub notice: String,
+    /// Planned with `--no-native`: coverage and pre-install sets come from version solving
+    /// alone, and there is no system-package section (it would say nothing is missing).
+    pub native_skipped: bool,
     pub target: f64,
     pub coverage: Vec<plan::coverage::Coverage>,
-    pub system: plan::system::SystemReport,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub system: Option<plan::system::SystemReport>,
     pub preinstall: Vec<plan::preinstall::Preinstall>,
 }
 
@@ -962,14 +975,17 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
         },
         ..inputs.clone()
     };
-    let matrix = plan::plan(&narrowed, &o.plan);
-    let system = plan::system::system_report(&narrowed, &matrix);
+    let system = o.plan.native.then(|| {
+        let matrix = plan::plan(&narrowed, &o.plan);
+        plan::system::system_report(&narrowed, &matrix)
+    });
     let preinstall = selected
         .iter()
         .map(|img| plan::preinstall::preinstall(inputs, img, &o.plan, &sets))
         .collect();
     Ok(ImagePlan {
-        notice: plan::matrix::NOTICE.to_string(),
+        notice: plan::matrix::notice(!o.plan.native),
+        native_skipped: !o.plan.native,
         target,
         coverage,
         system,
@@ -1016,11 +1032,22 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     }
     // The system report's text already ends with the notice, so it is not repeated here.
     let mut s = String::new();
+    if p.native_skipped {
+        s.push_str(plan::matrix::NATIVE_SKIPPED_NOTICE);
+        s.push_str("\n\n");
+    }
     for c in &p.coverage {
         s.push_str(&plan::coverage::coverage_text(c));
         s.push('\n');
     }
-    s.push_str(&text::system_text(&p.system));
+    match &p.system {
+        Some(system) => s.push_str(&text::system_text(system)),
+        None => {
+            s.push_str("system packages per image: not checked (--no-native)\n\n");
+            s.push_str(plan::matrix::NOTICE);
+            s.push('\n');
+        }
+    }
     s.push('\n');
     for pre in &p.preinstall {
         s.push_str(&plan::preinstall::preinstall_text(pre));

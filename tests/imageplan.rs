@@ -356,6 +356,7 @@ fn svg_escapes_its_text() {
         oldest_reaching_target: None,
         target_unknown_at: Vec::new(),
         steps: Vec::new(),
+        native_skipped: false,
     };
     let svg = coverage_svg(&c);
     check_balanced(&svg);
@@ -810,5 +811,118 @@ fn a_joint_failure_below_the_entry_names_the_release_that_fails() {
     assert_eq!(
         p.left_out[0].reason,
         "with the kept packages the joint solve picks cand 1.0.0 with lib 1.0.0 (missing-system-library: add libxml2-dev), which certainly fails natively on i"
+    );
+}
+
+/// `--no-native` plans from version solving alone. Every output that could be read as "this
+/// image is fine" says so: `imageplan`'s text, JSON, YAML and charts carry the warning and
+/// leave out the system-package section (which would read "nothing missing"), `explain` says
+/// it on its verdict line and in its notice, and `syslibs`, which would have nothing to
+/// report, refuses the flag. Coverage charts carry the notice in any case: they are pasted
+/// into documentation on their own.
+#[test]
+fn no_native_outputs_say_native_needs_were_not_checked() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out");
+    let mut args: Vec<String> = vec![
+        "imageplan".into(),
+        "--quiet".into(),
+        "--image".into(),
+        "deb-3.2-slim".into(),
+    ];
+    args.extend(common::DEMO.iter().map(|a| a.to_string()));
+    let (code, text, stderr) = common::run_basefit(&args);
+    assert!(code <= 1, "{stderr}");
+    assert!(
+        text.contains("deb-3.2-slim: lacks") || text.contains("build-essential"),
+        "{text}"
+    );
+    let svg_checked = {
+        let mut a = args.clone();
+        a.extend(["--out".to_string(), out.to_str().unwrap().to_string()]);
+        common::run_basefit(&a);
+        std::fs::read_to_string(out.join("coverage.svg")).unwrap()
+    };
+    assert!(
+        svg_checked.contains("Predicted from declared metadata only"),
+        "{svg_checked}"
+    );
+    assert!(!svg_checked.contains("--no-native"), "{svg_checked}");
+    check_balanced(&svg_checked);
+
+    args.push("--no-native".into());
+    let (code, text, stderr) = common::run_basefit(&args);
+    assert!(code <= 1, "{stderr}");
+    assert!(
+        text.starts_with(basefit::plan::matrix::NATIVE_SKIPPED_NOTICE),
+        "{text}"
+    );
+    assert!(
+        text.contains("system packages per image: not checked (--no-native)"),
+        "{text}"
+    );
+    assert!(!text.contains("nothing missing"), "{text}");
+    let mut json_args = args.clone();
+    json_args.extend(["--format".to_string(), "json".to_string()]);
+    let (_, json, _) = common::run_basefit(&json_args);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["native_skipped"], true, "{json}");
+    assert!(v.get("system").is_none(), "{json}");
+    assert_eq!(v["coverage"][0]["native_skipped"], true, "{json}");
+    assert!(
+        v["notice"].as_str().unwrap().contains("--no-native"),
+        "{json}"
+    );
+    args.extend(["--out".to_string(), out.to_str().unwrap().to_string()]);
+    common::run_basefit(&args);
+    let yaml = std::fs::read_to_string(out.join("imageplan.yaml")).unwrap();
+    assert!(yaml.contains("native_skipped: true"), "{yaml}");
+    let svg = std::fs::read_to_string(out.join("coverage.svg")).unwrap();
+    check_balanced(&svg);
+    assert!(svg.contains("Planned with --no-native, so"), "{svg}");
+
+    // explain: the verdict line itself, and the notice in text and JSON.
+    let explain = |extra: &[&str]| {
+        let mut a: Vec<String> = ["explain", "quill-xml", "deb-3.2-slim", "--quiet"]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        a.extend(common::DEMO.iter().map(|a| a.to_string()));
+        a.extend(extra.iter().map(|s| s.to_string()));
+        common::run_basefit(&a)
+    };
+    let (code, text, _) = explain(&[]);
+    assert_eq!(code, 1, "{text}");
+    let (code, text, _) = explain(&["--no-native"]);
+    assert_eq!(code, 0, "{text}");
+    assert!(
+        text.starts_with(
+            "quill-xml on deb-3.2-slim: installs (2.0.1) (version solving only: --no-native)"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains(basefit::plan::matrix::NATIVE_SKIPPED_NOTICE),
+        "{text}"
+    );
+    let (_, json, _) = explain(&["--no-native", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(v["native_skipped"], true, "{json}");
+    assert!(
+        v["notice"]
+            .as_str()
+            .unwrap()
+            .starts_with("Predicted from declared metadata only"),
+        "{json}"
+    );
+
+    // syslibs has nothing to report without the native step.
+    let mut a: Vec<String> = vec!["syslibs".into(), "--no-native".into()];
+    a.extend(common::DEMO.iter().map(|a| a.to_string()));
+    let (code, _, stderr) = common::run_basefit(&a);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("syslibs reports native needs, which --no-native skips"),
+        "{stderr}"
     );
 }

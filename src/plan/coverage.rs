@@ -71,6 +71,10 @@ pub struct Coverage {
     /// is the oldest to reach the target (or whether any does) is unknown.
     pub target_unknown_at: Vec<String>,
     pub steps: Vec<RuntimeStep>,
+    /// Planned with `--no-native`: shares count entries whose versions resolve, with no look
+    /// at the system libraries or toolchain the base image lacks, so they can only be higher
+    /// than the checked ones.
+    pub native_skipped: bool,
 }
 
 /// How one priority entry came out at one candidate runtime.
@@ -258,6 +262,7 @@ pub fn coverage(
         oldest_reaching_target,
         target_unknown_at,
         steps,
+        native_skipped: !options.native,
     }
 }
 
@@ -324,6 +329,12 @@ pub fn coverage_text(c: &Coverage) -> String {
         c.platform,
         target_percent(c.target)
     );
+    if c.native_skipped {
+        let _ = writeln!(
+            s,
+            "version solving only (--no-native): shares leave out what the base image lacks in system libraries and toolchain"
+        );
+    }
     let mut rows = vec![vec![
         "runtime".to_string(),
         "coverage".to_string(),
@@ -397,13 +408,18 @@ pub fn coverage_text(c: &Coverage) -> String {
 /// nothing is fetched.
 pub fn coverage_svg(c: &Coverage) -> String {
     const W: f64 = 640.0;
-    const H: f64 = 360.0;
+    // A chart is what gets pasted into documentation on its own, so it carries the notice
+    // every rendering does, under the axis title.
+    const NOTICE_LINE: f64 = 13.0;
+    let notice = notice_lines(c.native_skipped);
+    let chart_h = 360.0;
+    let height = chart_h + NOTICE_LINE * notice.len() as f64 + 6.0;
     const L: f64 = 60.0;
     const R: f64 = 20.0;
     const T: f64 = 40.0;
     const B: f64 = 60.0;
     let pw = W - L - R;
-    let ph = H - T - B;
+    let ph = chart_h - T - B;
     let n = c.points.len();
     // Runtimes are categories spaced evenly: version numbers have no meaningful distance.
     let x = |i: usize| {
@@ -417,14 +433,17 @@ pub fn coverage_svg(c: &Coverage) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{W}\" height=\"{H}\" viewBox=\"0 0 {W} {H}\" font-family=\"sans-serif\" font-size=\"12\">"
+        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{W}\" height=\"{height}\" viewBox=\"0 0 {W} {height}\" font-family=\"sans-serif\" font-size=\"12\">"
     );
     let _ = writeln!(
         s,
         "<title>Runtime coverage of {}</title>",
         crate::report::html::escape_html(&c.base_image)
     );
-    let _ = writeln!(s, "<rect width=\"{W}\" height=\"{H}\" fill=\"#ffffff\"/>");
+    let _ = writeln!(
+        s,
+        "<rect width=\"{W}\" height=\"{height}\" fill=\"#ffffff\"/>"
+    );
     let _ = writeln!(
         s,
         "<text x=\"{}\" y=\"20\" text-anchor=\"middle\" font-size=\"14\">Coverage of {} ({}) by runtime</text>",
@@ -532,8 +551,17 @@ pub fn coverage_svg(c: &Coverage) -> String {
         s,
         "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\">runtime version</text>",
         L + pw / 2.0,
-        H - 15.0
+        chart_h - 15.0
     );
+    for (i, line) in notice.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "<text class=\"notice\" x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\" font-size=\"10\">{}</text>",
+            W / 2.0,
+            chart_h + NOTICE_LINE * (i as f64 + 0.5),
+            crate::report::html::escape_html(line)
+        );
+    }
     let _ = writeln!(
         s,
         "<text x=\"15\" y=\"{:.1}\" text-anchor=\"middle\" transform=\"rotate(-90 15 {:.1})\">priority weight that resolves</text>",
@@ -542,6 +570,28 @@ pub fn coverage_svg(c: &Coverage) -> String {
     );
     s.push_str("</svg>\n");
     s
+}
+
+/// The notice every rendering carries (and the `--no-native` one when it applies), in lines
+/// short enough for the chart's width at its notice font size.
+fn notice_lines(native_skipped: bool) -> Vec<String> {
+    const MAX: usize = 105;
+    let mut text = super::matrix::NOTICE.to_string();
+    if native_skipped {
+        text.push(' ');
+        text.push_str(super::matrix::NATIVE_SKIPPED_NOTICE);
+    }
+    let mut lines: Vec<String> = Vec::new();
+    for word in text.split(' ') {
+        match lines.last_mut() {
+            Some(line) if line.chars().count() + 1 + word.chars().count() <= MAX => {
+                line.push(' ');
+                line.push_str(word);
+            }
+            _ => lines.push(word.to_string()),
+        }
+    }
+    lines
 }
 
 #[cfg(test)]

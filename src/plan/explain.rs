@@ -26,6 +26,10 @@ pub struct TreeLine {
 /// Everything `explain` prints for one cell.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Explanation {
+    /// [`super::matrix::notice`]: predictions are not install results, and under
+    /// `--no-native` an installing cell promises nothing about system libraries.
+    pub notice: String,
+    pub native_skipped: bool,
     pub cell: Cell,
     pub tree: Vec<TreeLine>,
     /// The entry tried on this image at the declared images' runtimes (when the cell does not
@@ -176,6 +180,8 @@ pub fn explain(
         )
     };
     Ok(Explanation {
+        notice: super::matrix::notice(!options.native),
+        native_skipped: !options.native,
         cell,
         tree,
         runtime_hint,

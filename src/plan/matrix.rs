@@ -279,6 +279,22 @@ pub const NATIVE_SKIPPED_NOTICE: &str = "Planned with --no-native, so native nee
 an installs verdict means only that the version requirements resolve; a system library or C \
 toolchain the image lacks is not caught.";
 
+/// The notice a rendering carries: [`NOTICE`], followed by [`NATIVE_SKIPPED_NOTICE`] when
+/// native needs were not checked.
+///
+/// ```
+/// use basefit::plan::matrix::{NOTICE, notice};
+/// assert_eq!(notice(false), NOTICE);
+/// assert!(notice(true).ends_with("is not caught."));
+/// ```
+pub fn notice(native_skipped: bool) -> String {
+    if native_skipped {
+        format!("{NOTICE} {NATIVE_SKIPPED_NOTICE}")
+    } else {
+        NOTICE.to_string()
+    }
+}
+
 /// The predicted support matrix: rows in priority order, columns in declared image order,
 /// cells row by row. Unknown fields are refused: a matrix may be edited by hand, and a
 /// misspelt field would otherwise be dropped without a word.

@@ -11,7 +11,7 @@
 //! `--no-native` adds that warning to the notice.
 
 use super::layout::grid;
-use crate::plan::matrix::{Matrix, NATIVE_SKIPPED_NOTICE, NOTICE};
+use crate::plan::matrix::Matrix;
 use std::borrow::Cow;
 
 /// The header record, in column order.
@@ -43,14 +43,8 @@ pub fn csv(m: &Matrix) -> String {
     // Writing into a Vec cannot fail on I/O, and every record has the header's length, so an
     // error here would be a bug; it still must not abort the caller, hence the fallbacks.
     let _ = w.write_record(COLUMNS);
-    let (native_checked, notice) = if m.native_skipped {
-        (
-            "false",
-            Cow::Owned(format!("{NOTICE} {NATIVE_SKIPPED_NOTICE}")),
-        )
-    } else {
-        ("true", Cow::Borrowed(NOTICE))
-    };
+    let native_checked = if m.native_skipped { "false" } else { "true" };
+    let notice = crate::plan::matrix::notice(m.native_skipped);
     for (row, slots) in m.packages.iter().zip(grid(m)) {
         for (img, slot) in m.images.iter().zip(slots) {
             let Some((_, cell)) = slot else { continue };

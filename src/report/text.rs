@@ -272,6 +272,9 @@ pub fn explain_text(e: &Explanation) -> String {
     if let Some(cause) = c.cause {
         let _ = write!(out, ", {}", cause.as_str());
     }
+    if e.native_skipped {
+        out.push_str(" (version solving only: --no-native)");
+    }
     out.push('\n');
     if !e.tree.is_empty() {
         out.push_str("\nresolved closure:\n");
@@ -349,7 +352,7 @@ pub fn explain_text(e: &Explanation) -> String {
             let _ = writeln!(out, "  {l}");
         }
     }
-    let _ = writeln!(out, "\n{NOTICE}");
+    let _ = writeln!(out, "\n{}", e.notice);
     out
 }
 
