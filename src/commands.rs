@@ -1070,6 +1070,15 @@ fn sanitize(id: &str) -> String {
         .collect()
 }
 
+/// The files `render --out` writes, in the order of their bodies there.
+const RENDERED_FILES: [&str; 5] = [
+    "matrix.html",
+    "matrix.md",
+    "matrix.csv",
+    "matrix.json",
+    "matrix.yaml",
+];
+
 pub struct RenderCommand {
     pub inputs: InputPaths,
     pub strict: bool,
@@ -1085,6 +1094,22 @@ pub struct RenderCommand {
 /// `render`: the support matrix as an HTML page, a Markdown table, CSV, JSON and YAML; with
 /// recorded results, each cell also shows how its installs compare.
 pub fn render(o: &RenderCommand) -> Result<Output> {
+    // Rendering over the matrix read would replace the plan's matrix with an annotated one.
+    if let (Some(matrix), Some(dir)) = (&o.matrix, &o.out)
+        && let Some(name) = RENDERED_FILES
+            .iter()
+            .find(|name| crate::load::diag::same_file(matrix, &dir.join(name)))
+    {
+        return Err(BadInput::file(
+            "command line",
+            format!(
+                "--matrix {} is the {name} that --out {} would write: render into another folder",
+                matrix.display(),
+                dir.display()
+            ),
+        )
+        .into());
+    }
     let inputs = load(&o.inputs, o.strict)?;
     let mut matrix = match &o.matrix {
         Some(p) if !o.inputs.results.is_empty() => {
@@ -1101,7 +1126,23 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     let mut out = Output::default();
     if !o.inputs.results.is_empty() {
         let review = review_results(&matrix, &inputs, &o.inputs)?;
+        let earlier = matrix.cells.iter().filter(|c| c.recorded.is_some()).count();
+        if let (Some(path), 1..) = (&o.matrix, earlier) {
+            out.stderr.push(format!(
+                "note: {} carried recorded results for {earlier} cells from an earlier rendering; they are replaced by those of --results",
+                path.display()
+            ));
+        }
         crate::verify::annotate(&mut matrix, &review);
+        // The page counts what it shows: a result left out at loading could have been a
+        // surprise, and nothing on the page would say it was ever recorded.
+        if !review.results_left_out.is_empty() {
+            out.stderr.push(format!(
+                "note: {} recorded results were left out at loading and are not shown (`basefit check` lists why; `review` exits 1 for them):\n  {}",
+                review.results_left_out.len(),
+                review.results_left_out.join("\n  ")
+            ));
+        }
         outside_matrix_note(
             &review,
             "the support matrix shows the priority list's packages only (`review` compares them all)",
@@ -1115,12 +1156,13 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     match &o.out {
         Some(dir) => {
             let files = [
-                ("matrix.html", report::html(&matrix)),
-                ("matrix.md", report::markdown(&matrix)),
-                ("matrix.csv", report::csv(&matrix)),
-                ("matrix.json", report::to_json(&matrix)),
-                ("matrix.yaml", report::to_yaml(&matrix)),
+                report::html(&matrix),
+                report::markdown(&matrix),
+                report::csv(&matrix),
+                report::to_json(&matrix),
+                report::to_yaml(&matrix),
             ];
+            let files = RENDERED_FILES.into_iter().zip(files);
             let files: Vec<(PathBuf, Vec<u8>)> = files
                 .into_iter()
                 .map(|(name, body)| (dir.join(name), body.into_bytes()))
@@ -1159,6 +1201,35 @@ pub fn fuse(o: &FuseCommand) -> Result<Output> {
         "--source",
         "the same list would be fused with itself, counting its ranks twice",
     )?;
+    if let Some(out) = &o.out {
+        if let Some(source) = o
+            .sources
+            .iter()
+            .find(|s| crate::load::diag::same_file(s, out))
+        {
+            return Err(BadInput::file(
+                "command line",
+                format!(
+                    "--out {} is the source list {}: writing the fused list would destroy it",
+                    out.display(),
+                    source.display()
+                ),
+            )
+            .into());
+        }
+        // Priority lists are read by their extension: a YAML list under a CSV name would be
+        // refused by the `plan` it was made for.
+        if crate::load::priorities::has_extension(out, "csv") {
+            return Err(BadInput::file(
+                "command line",
+                format!(
+                    "--out {}: fuse writes a YAML priority list, which `plan --priorities` would read as CSV by its name: name it .yaml",
+                    out.display()
+                ),
+            )
+            .into());
+        }
+    }
     let mut ledger = crate::load::Ledger::default();
     let mut lists = Vec::new();
     // Sources left with no row, each with why: they take no part in the fusion.

@@ -578,8 +578,8 @@ fn a_coverage_below_the_target_never_prints_as_the_target() {
     }
 }
 
-/// A priority list whose every weight is zero (`fuse --method share-sum` writes one when every
-/// source scores zero) has no share of weight: every rendering says n/a (JSON null) rather
+/// A priority list whose every weight is zero (written by hand, or by a query scoring nothing)
+/// has no share of weight: every rendering says n/a (JSON null) rather
 /// than 0% resolving, `imageplan` says why it has no coverage instead of that the target was
 /// missed, and `check` notes the list without refusing it.
 #[test]
@@ -952,4 +952,75 @@ fn undecided_cells_are_not_reported_as_lacking_nothing_or_failing() {
         !imageplan.contains("does not install alone (budget"),
         "{imageplan}"
     );
+}
+
+/// A matrix written by an earlier `render --out` carries that rendering's recorded results.
+/// Rendered again with other results, only the new ones show (with a note that the old were
+/// replaced); rendering into the folder the matrix was read from is refused, since it would
+/// overwrite the plan's matrix; and results left out at loading are named on stderr, since
+/// the page cannot show them.
+#[test]
+fn render_shows_only_the_results_it_was_given() {
+    let dir = tempfile::tempdir().unwrap();
+    let first = dir.path().join("first");
+    let mut args = DEMO.to_vec();
+    args.extend([
+        "--results",
+        "demo-data/results.yaml",
+        "--out",
+        first.to_str().unwrap(),
+    ]);
+    let (code, _, stderr) = run(&["render"], &args);
+    assert_eq!(code, 0, "{stderr}");
+    let matrix = first.join("matrix.json");
+
+    let one = common::write(
+        dir.path(),
+        "one.yaml",
+        "results:\n  - package: tidewater-http\n    image: deb-3.2\n    outcome: installed\n    version: \"3.1.0\"\n  - package: tidewater-http\n    image: deb-3.2\n    outcome: FAILED\n",
+    );
+    let again = [
+        "--matrix",
+        matrix.to_str().unwrap(),
+        "--results",
+        one.to_str().unwrap(),
+        "--registry",
+        "demo-data/registry.yaml",
+        "--images",
+        "matrices/demo-images.yaml",
+        "--format",
+        "json",
+    ];
+    let (code, json, stderr) = run(&["render"], &again);
+    assert_eq!(code, 0, "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let recorded: Vec<&serde_json::Value> = v["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|c| !c["recorded"].is_null())
+        .collect();
+    assert_eq!(recorded.len(), 1, "{json}");
+    assert_eq!(recorded[0]["package"], "tidewater-http");
+    assert!(
+        stderr.contains("carried recorded results for 11 cells from an earlier rendering"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("1 recorded results were left out at loading and are not shown"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("one.yaml:8: tidewater-http on deb-3.2: outcome `FAILED`"),
+        "{stderr}"
+    );
+
+    let mut over = again.to_vec();
+    over.truncate(over.len() - 2);
+    over.extend(["--out", first.to_str().unwrap()]);
+    let before = std::fs::read(&matrix).unwrap();
+    let (code, _, stderr) = run(&["render"], &over);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("is the matrix.json that --out"), "{stderr}");
+    assert_eq!(std::fs::read(&matrix).unwrap(), before);
 }

@@ -253,3 +253,43 @@ fn a_source_the_window_empties_takes_no_part() {
         "{stderr}"
     );
 }
+
+/// `--out` naming a source list would replace it with the fused YAML, and an `--out` ending
+/// in `.csv` would be read back as CSV by `plan --priorities` and refused: both are refused
+/// up front, and the source is left as it was.
+#[test]
+fn out_may_name_neither_a_source_nor_a_csv_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let source = dir.path().join("stars.csv");
+    let text = "rank,name,score\n1,gumleaf,420\n2,numbat,17\n";
+    std::fs::write(&source, text).unwrap();
+    let spelled_otherwise = dir.path().join(".").join("stars.csv");
+    let stderr = fuse_refused(&[
+        "--source",
+        source.to_str().unwrap(),
+        "--out",
+        spelled_otherwise.to_str().unwrap(),
+    ]);
+    assert!(stderr.contains("is the source list"), "{stderr}");
+    assert_eq!(std::fs::read_to_string(&source).unwrap(), text);
+
+    let fused = dir.path().join("fused.CSV");
+    let stderr = fuse_refused(&[
+        "--source",
+        source.to_str().unwrap(),
+        "--out",
+        fused.to_str().unwrap(),
+    ]);
+    assert!(stderr.contains("name it .yaml"), "{stderr}");
+    assert!(!fused.exists());
+
+    let fused = dir.path().join("fused.yaml");
+    let (code, stderr) = fuse(&[
+        "--source",
+        source.to_str().unwrap(),
+        "--out",
+        fused.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(fused.exists());
+}

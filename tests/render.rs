@@ -52,6 +52,9 @@ fn hostile() -> Matrix {
             .to_string(),
         "=HYPERLINK(\"http://example.invalid\")".to_string(),
         "line\u{2028}sep\u{2029}para <!-- comment".to_string(),
+        // With the formula-looking name above: both would read `'=HYPERLINK...` if a leading
+        // quote were not doubled too.
+        "'=HYPERLINK(\"http://example.invalid\")".to_string(),
     ];
     let images = vec![
         image("img|<b>one</b>", "debian"),
@@ -110,11 +113,12 @@ fn hostile() -> Matrix {
             if (r + c) % 3 == 0 {
                 cell.recorded = Some(RecordedCheck {
                     recorded: if r % 2 == 0 { "failed" } else { "installed" }.into(),
-                    verdict: ["surprise-failure", "agreed-install", "drift"][r % 3].into(),
+                    verdict: ["surprise-failure", "agreed-failure", "drift"][r % 3].into(),
                     version: Some("9.9<9>".into()),
                     detail: format!("log said </script>{XSS}\n\"done\", ok"),
                     attempts: 2,
-                    cause_agrees: None,
+                    // An agreed failure whose log shows another cause is unsettled, not agreed.
+                    cause_agrees: [None, Some(r % 2 == 0), None][r % 3],
                 });
             }
             cells.push(cell);
@@ -337,7 +341,7 @@ fn markdown_symbols_match_the_sample_and_demo_matrices() {
 // ---------------------------------------------------------------- csv
 
 fn expected_field(s: &str) -> String {
-    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r', '\'']) {
         format!("'{s}")
     } else {
         s.to_string()
@@ -392,12 +396,21 @@ fn csv_reads_back_to_the_same_values() {
             let rec_check = cell.recorded.as_ref();
             text("recorded", rec_check.map_or("", |r| r.recorded.as_str()));
             text("verdict", rec_check.map_or("", |r| r.verdict.as_str()));
+            // The mark Markdown and HTML show beside the symbol, so counts agree across them.
+            let mark = rec_check.map_or("", |r| match basefit::report::layout::Mark::of(r) {
+                basefit::report::layout::Mark::Agreed => "agreed",
+                basefit::report::layout::Mark::Surprise => "surprise",
+                basefit::report::layout::Mark::Unsettled => "unsettled",
+            });
+            assert_eq!(get("mark"), Some(mark));
             text("explanation", &cell.explanation.join(" / "));
             assert_eq!(get("notice"), Some(NOTICE));
         }
     }
-    // The formula-looking name is the one value that changes, and only by a leading quote.
-    assert!(text.contains("'=HYPERLINK"));
+    // The formula-looking name is the one value that changes, and only by a leading quote;
+    // a name that already had one keeps apart from it.
+    assert!(text.contains("\n\"'=HYPERLINK"), "{text}");
+    assert!(text.contains("\n\"''=HYPERLINK"), "{text}");
 }
 
 // ---------------------------------------------------------------- html

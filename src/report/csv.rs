@@ -4,7 +4,8 @@
 //! Values are written as they are in the matrix (the `csv` crate quotes what needs quoting),
 //! so the file reads back to the same strings, with one exception: a text field that a
 //! spreadsheet would run as a formula (it starts with `=`, `+`, `-`, `@`, a tab or a carriage
-//! return) gets a leading `'`, which spreadsheets show as plain text. Every record carries the notice in
+//! return) gets a leading `'`, which spreadsheets show as plain text; so does one that already
+//! starts with `'`, so that removing one leading `'` from a field that has one gives the value back. Every record carries the notice in
 //! its last column: a header comment would break strict CSV readers, and a filtered or
 //! pasted selection of rows keeps the warning with it. For the same reason every record says
 //! whether native needs were checked (`native_checked`), and a matrix planned with
@@ -15,7 +16,7 @@ use crate::plan::matrix::Matrix;
 use std::borrow::Cow;
 
 /// The header record, in column order.
-pub const COLUMNS: [&str; 16] = [
+pub const COLUMNS: [&str; 17] = [
     "package",
     "rank",
     "weight",
@@ -29,6 +30,7 @@ pub const COLUMNS: [&str; 16] = [
     "missing_system_packages",
     "recorded",
     "verdict",
+    "mark",
     "explanation",
     "native_checked",
     "notice",
@@ -66,6 +68,7 @@ pub fn csv(m: &Matrix) -> String {
                 owned(defuse(&cell.missing_system_packages.join(" "))),
                 defuse(recorded),
                 defuse(verdict),
+                Cow::Borrowed(super::layout::mark_of(cell).map_or("", |m| m.as_str())),
                 owned(defuse(&cell.explanation.join(" / "))),
                 Cow::Borrowed(native_checked),
                 Cow::Borrowed(notice.as_ref()),
@@ -79,9 +82,18 @@ pub fn csv(m: &Matrix) -> String {
 }
 
 /// Makes a text field from the input inert in spreadsheets, which run a cell starting with
-/// one of these characters as a formula (CSV injection).
+/// one of these characters as a formula (CSV injection). A field that already starts with
+/// `'` gets one too, so the prefix can always be undone: `-x` and `'-x` stay apart as `'-x`
+/// and `''-x`.
+///
+/// ```
+/// use basefit::report::csv::defuse;
+/// assert_eq!(defuse("=SUM(A1)"), "'=SUM(A1)");
+/// assert_eq!(defuse("'-x"), "''-x");
+/// assert_eq!(defuse("plain"), "plain");
+/// ```
 pub fn defuse(field: &str) -> Cow<'_, str> {
-    if field.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+    if field.starts_with(['=', '+', '-', '@', '\t', '\r', '\'']) {
         Cow::Owned(format!("'{field}"))
     } else {
         Cow::Borrowed(field)

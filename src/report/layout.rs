@@ -72,6 +72,15 @@ impl Mark {
         }
     }
 
+    /// The mark's name in data outputs (the CSV's `mark` column).
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Mark::Agreed => "agreed",
+            Mark::Surprise => "surprise",
+            Mark::Unsettled => "unsettled",
+        }
+    }
+
     /// The marker appended to a cell's symbol; agreement needs none.
     pub fn symbol(self) -> &'static str {
         match self {

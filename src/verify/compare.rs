@@ -717,6 +717,11 @@ pub fn compare_inputs(matrix: &Matrix, inputs: &crate::load::Inputs) -> Review {
 
 /// Writes each cell's comparison into the matrix, for renderers.
 pub fn annotate(matrix: &mut Matrix, review: &Review) {
+    // A matrix read back from an earlier rendering carries that rendering's results: they
+    // would show beside this review's as if recorded with them.
+    for cell in &mut matrix.cells {
+        cell.recorded = None;
+    }
     let n = matrix.images.len();
     let rows: BTreeMap<String, usize> = matrix
         .packages
