@@ -1024,3 +1024,17 @@ fn render_shows_only_the_results_it_was_given() {
     assert!(stderr.contains("is the matrix.json that --out"), "{stderr}");
     assert_eq!(std::fs::read(&matrix).unwrap(), before);
 }
+
+/// A blank package name is a usage error, not a package explained as missing from the
+/// registry.
+#[test]
+fn explain_refuses_a_blank_package_name() {
+    for name in ["", "  "] {
+        let mut args = vec![name, "deb-2.4"];
+        args.extend(DEMO);
+        let (code, stdout, stderr) = run(&["explain"], &args);
+        assert_eq!(code, 2, "{stdout}{stderr}");
+        assert!(stderr.contains("the package name is empty"), "{stderr}");
+        assert!(stdout.is_empty(), "{stdout}");
+    }
+}

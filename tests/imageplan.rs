@@ -926,3 +926,45 @@ fn no_native_outputs_say_native_needs_were_not_checked() {
         "{stderr}"
     );
 }
+
+/// A kept entry needing a library the catalog names no package for lacks something nobody
+/// can name: the pre-install set says so, with who needs it and how surely, rather than
+/// reading as a manifest that needs nothing.
+#[test]
+fn a_manifest_needing_an_unmapped_library_says_so() {
+    let registry = "packages:
+- name: frobby
+  versions:
+  - {version: 1.0.0, native: {libraries: [libfrobnicate], files: [src/f.c]}}
+- name: tidy
+  versions:
+  - {version: 1.0.0}
+";
+    let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let mut inp = inputs(registry, images, "priorities:\n- frobby\n- tidy\n");
+    inp.catalog = basefit::native::Catalog::builtin();
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["frobby", "tidy"]);
+    assert!(p.system_needs.is_empty());
+    assert_eq!(p.unmapped_libraries.len(), 1, "{:?}", p.unmapped_libraries);
+    let need = &p.unmapped_libraries[0];
+    assert_eq!(need.library, "libfrobnicate");
+    assert_eq!(need.confidence, Confidence::Certain);
+    assert_eq!(need.needed_by.len(), 1);
+    assert_eq!(need.needed_by[0].name, "frobby");
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(
+            "the manifest needs libraries the catalog names no package for (check the image by hand, or give them with --catalog): libfrobnicate (certain, for frobby 1.0.0)\n"
+        ),
+        "{text}"
+    );
+    let json = serde_json::to_value(&p).unwrap();
+    assert_eq!(json["unmapped_libraries"][0]["library"], "libfrobnicate");
+}

@@ -39,6 +39,13 @@ const TABLE: &[(&str, Option<&str>, &str)] = &[
     ("^1.2.3", None, "requirement"),
     (">=1.0", None, "requirement"),
     ("*", None, "requirement"),
+    // Wildcard components (`x`, `X`, `*`) are requirement syntax: the `semver` crate's
+    // VersionReq reads `3.x` as `>=3.0.0, <4.0.0`, so no single version is meant.
+    ("3.x", None, "wildcard"),
+    ("3.1.*", None, "wildcard"),
+    ("3.X.1", None, "wildcard"),
+    // A tag that merely starts with x is a pre-release tag.
+    ("1.0.xyz", Some("1.0.0-xyz"), "`.`"),
     ("1..2", None, "after the version"),
     ("1.2.3.4.5", None, "five"),
     ("1.2.3-", None, "empty pre-release"),
@@ -145,4 +152,25 @@ fn build_metadata_does_not_affect_precedence() {
         std::cmp::Ordering::Equal
     );
     assert!(semver::VersionReq::parse("=1.2.3").unwrap().matches(&four));
+}
+
+/// Why `3.x` is refused as a version: the `semver` crate (the reference library) reads it as a
+/// requirement admitting every 3.y.z, so no single version is meant.
+#[test]
+fn a_wildcard_version_is_a_requirement_to_the_semver_crate() {
+    for (wild, inside, outside) in [("3.x", "3.7.1", "4.0.0"), ("3.1.*", "3.1.9", "3.2.0")] {
+        let req = semver::VersionReq::parse(wild).unwrap();
+        assert!(
+            req.matches(&semver::Version::parse(inside).unwrap()),
+            "{wild}"
+        );
+        assert!(
+            !req.matches(&semver::Version::parse(outside).unwrap()),
+            "{wild}"
+        );
+        assert!(
+            matches!(read_version(wild), VersionRead::Refused(_)),
+            "{wild}"
+        );
+    }
 }

@@ -106,6 +106,16 @@ pub fn read_version(raw: &str) -> VersionRead {
         break;
     }
     let rest = &body[i..];
+    // `3.x`, `3.1.*`: a wildcard component means "any", which a requirement says and no one
+    // version can; read as a pre-release tag it would silently become `3.0.0-x`.
+    if let Some(wild) = rest.strip_prefix('.')
+        && let Some(after) = wild.strip_prefix(['x', 'X', '*'])
+        && (after.is_empty() || after.starts_with(['.', '-']))
+    {
+        return VersionRead::Refused(format!(
+            "`{trimmed}` looks like a requirement (a wildcard component), not a version"
+        ));
+    }
     if numbers.len() > 4 {
         return VersionRead::Refused(format!(
             "{} numeric components; at most four are read",

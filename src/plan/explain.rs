@@ -145,6 +145,13 @@ pub fn explain(
     image_id: &str,
     options: &PlanOptions,
 ) -> Result<Explanation, BadInput> {
+    // A blank name would be explained as a package missing from the registry.
+    if package.trim().is_empty() {
+        return Err(BadInput::file(
+            "command line",
+            format!("explain {package:?} {image_id}: the package name is empty"),
+        ));
+    }
     let image =
         inputs.image_from_command_line(image_id, &format!("explain {package} {image_id}"))?;
     let entry = inputs

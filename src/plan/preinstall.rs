@@ -45,6 +45,22 @@ pub struct Preinstall {
     /// The same system packages, each with the manifest packages that need it and the
     /// strongest confidence among them.
     pub system_needs: Vec<SystemNeed>,
+    /// Libraries the manifest needs that the catalog names no system package for on the
+    /// image's family (or knows not at all): what the image lacks for them is unknown, so an
+    /// empty `system_needs` does not mean nothing is missing.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub unmapped_libraries: Vec<UnmappedNeed>,
+}
+
+/// A library the manifest needs that no system package can be named for, and who needs it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct UnmappedNeed {
+    /// The catalog id, or the name as declared when the catalog does not know it.
+    pub library: String,
+    /// The strongest confidence of the needs of it.
+    pub confidence: Confidence,
+    /// Manifest packages whose own release needs it, in name order.
+    pub needed_by: Vec<Pinned>,
 }
 
 /// A system package the image lacks for the manifest, and who needs it.
@@ -342,6 +358,7 @@ pub fn preinstall(
     let mut manifest = Vec::new();
     let mut missing_system_packages = Vec::new();
     let mut system_needs = Vec::new();
+    let mut unmapped_libraries = Vec::new();
     let mut kept_rows: Vec<Kept> = kept
         .iter()
         .map(|r| Kept {
@@ -352,7 +369,7 @@ pub fn preinstall(
     if let Solved::Installs { closure, .. } = &final_solve.solved {
         if options.native {
             missing_system_packages = checks.assess(closure).packages_to_add();
-            system_needs = needs_by_package(&checks, closure);
+            (system_needs, unmapped_libraries) = needs_by_package(&checks, closure);
         }
         for p in closure {
             let version = registry.package(p.package).releases[p.index as usize]
@@ -392,34 +409,70 @@ pub fn preinstall(
         left_out,
         missing_system_packages,
         system_needs,
+        unmapped_libraries,
     }
 }
 
-/// Which releases of `closure` need which system packages the image lacks: each release
-/// assessed alone, since a package name alone does not say who asked for it.
-fn needs_by_package(checks: &NativeChecks<'_>, closure: &[Pin]) -> Vec<SystemNeed> {
+/// Which releases of `closure` need which system packages the image lacks, and which need
+/// libraries no package can be named for: each release assessed alone, since a package
+/// name alone does not say who asked for it.
+fn needs_by_package(
+    checks: &NativeChecks<'_>,
+    closure: &[Pin],
+) -> (Vec<SystemNeed>, Vec<UnmappedNeed>) {
     let registry = &checks.inputs.registry;
-    let mut by: BTreeMap<String, SystemNeed> = BTreeMap::new();
+    // Keyed by system package or library: (strongest confidence, who needs it).
+    type Needers = BTreeMap<String, (Confidence, Vec<Pinned>)>;
+    let mut packages: Needers = BTreeMap::new();
+    let mut libraries: Needers = BTreeMap::new();
+    let note = |into: &mut Needers, key: &str, confidence: Confidence, pin: &Pin| {
+        let (strongest, by) = into
+            .entry(key.to_string())
+            .or_insert((confidence, Vec::new()));
+        *strongest = (*strongest).max(confidence);
+        by.push(Pinned {
+            name: registry.name(pin.package).to_string(),
+            version: version_of(checks.inputs, pin),
+            build: pin.build,
+        });
+    };
     for pin in closure {
-        for (package, confidence) in checks.assess(&[*pin]).missing {
-            let need = by.entry(package.clone()).or_insert(SystemNeed {
-                package,
-                confidence,
-                needed_by: Vec::new(),
-            });
-            need.confidence = need.confidence.max(confidence);
-            need.needed_by.push(Pinned {
-                name: registry.name(pin.package).to_string(),
-                version: version_of(checks.inputs, pin),
-                build: pin.build,
-            });
+        let a = checks.assess(&[*pin]);
+        for (package, confidence) in &a.missing {
+            note(&mut packages, package, *confidence, pin);
+        }
+        for library in &a.unknown_libraries {
+            let confidence = a
+                .needs
+                .iter()
+                .filter(|n| n.library.as_deref() == Some(library.as_str()))
+                .map(|n| n.confidence)
+                .max()
+                .unwrap_or(Confidence::Possible);
+            note(&mut libraries, library, confidence, pin);
         }
     }
-    let mut out: Vec<SystemNeed> = by.into_values().collect();
-    for need in &mut out {
-        need.needed_by.sort_by(|a, b| a.name.cmp(&b.name));
-    }
-    out
+    let sorted = |mut by: Vec<Pinned>| {
+        by.sort_by(|a, b| a.name.cmp(&b.name));
+        by
+    };
+    let system_needs = packages
+        .into_iter()
+        .map(|(package, (confidence, by))| SystemNeed {
+            package,
+            confidence,
+            needed_by: sorted(by),
+        })
+        .collect();
+    let unmapped = libraries
+        .into_iter()
+        .map(|(library, (confidence, by))| UnmappedNeed {
+            library,
+            confidence,
+            needed_by: sorted(by),
+        })
+        .collect();
+    (system_needs, unmapped)
 }
 
 /// A readable report of one pre-install plan.
@@ -458,27 +511,38 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     for l in &p.left_out {
         let _ = writeln!(s, "left out {}: {}", l.name, l.reason);
     }
+    let listed = |what: &str, confidence: Confidence, needed_by: &[Pinned]| {
+        let by: Vec<String> = needed_by
+            .iter()
+            .map(|m| format!("{} {}", m.name, m.version))
+            .collect();
+        format!(
+            "{what} ({}, for {})",
+            confidence_word(confidence),
+            by.join(", ")
+        )
+    };
     if !p.system_needs.is_empty() {
         let needs: Vec<String> = p
             .system_needs
             .iter()
-            .map(|n| {
-                let by: Vec<String> = n
-                    .needed_by
-                    .iter()
-                    .map(|m| format!("{} {}", m.name, m.version))
-                    .collect();
-                format!(
-                    "{} ({}, for {})",
-                    n.package,
-                    confidence_word(n.confidence),
-                    by.join(", ")
-                )
-            })
+            .map(|n| listed(&n.package, n.confidence, &n.needed_by))
             .collect();
         let _ = writeln!(
             s,
             "the manifest needs system packages the image lacks: {}",
+            needs.join("; ")
+        );
+    }
+    if !p.unmapped_libraries.is_empty() {
+        let needs: Vec<String> = p
+            .unmapped_libraries
+            .iter()
+            .map(|n| listed(&n.library, n.confidence, &n.needed_by))
+            .collect();
+        let _ = writeln!(
+            s,
+            "the manifest needs libraries the catalog names no package for (check the image by hand, or give them with --catalog): {}",
             needs.join("; ")
         );
     }
