@@ -766,6 +766,22 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
         serde_json::from_str(&text).map_err(|e| (e.line(), e.column(), e.to_string()))
     };
     let m = parsed.map_err(|(line, column, e)| {
+        // serde_yaml places a control character at line 1 with a byte offset: name its line.
+        // YAML 1.2, section 5.1: a stream holds tab, line breaks and printable characters
+        // only (of the C1 block, only U+0085).
+        let unprintable = |c: char| c.is_control() && !matches!(c, '\t' | '\n' | '\r' | '\u{85}');
+        if yaml && let Some(at) = text.find(unprintable) {
+            let line = text[..at].matches('\n').count() + 1;
+            let c = text[at..].chars().next().unwrap_or_default();
+            return BadInput::at(
+                &file,
+                line,
+                format!(
+                    "not a basefit matrix: control character U+{:04X}, which YAML allows only escaped in a double-quoted string",
+                    c as u32
+                ),
+            );
+        }
         let mut err = BadInput::parsed(&file, line, column, &format!("not a basefit matrix: {e}"));
         // The YAML parser reads a text without a final line break as if one followed, so an
         // error at its end would name a line after the last.

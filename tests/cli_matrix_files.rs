@@ -235,6 +235,17 @@ fn a_matrix_that_does_not_parse_is_refused_at_file_and_line() {
         stderr.contains(&format!("cut.yaml:{last}: not a basefit matrix: ")),
         "{stderr}"
     );
+    // A control character deep in a YAML matrix: serde_yaml words it as a byte position on
+    // line 1; the message names its own line.
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    lines[99].push('\u{13}');
+    let ctl = common::write(dir.path(), "ctl.yaml", lines.join("\n") + "\n");
+    let (code, _, stderr) = run_basefit(["diff", &matrix, ctl.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("ctl.yaml:100: not a basefit matrix: control character U+0013"),
+        "{stderr}"
+    );
 }
 
 #[test]

@@ -1038,3 +1038,50 @@ fn explain_refuses_a_blank_package_name() {
         assert!(stdout.is_empty(), "{stdout}");
     }
 }
+
+/// A line break inside an input value (a requirement, a version, a declared library or file
+/// name) cannot add lines to a report: a problem quoting the value prints it as `\n`, on one
+/// line, and a native name holding one leaves its version out as an unusable value, since it
+/// would be printed in evidence lines.
+#[test]
+fn line_breaks_in_values_cannot_forge_report_lines() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = common::write(
+        dir.path(),
+        "r.yaml",
+        "packages:\n  - name: pkg-tarn\n    versions:\n      - version: \"1.0.0\"\n        runtime: \">=2\\n  r.yaml:99  forged line\"\n      - version: \"2.0.0\"\n        native: {libraries: [\"zlib\\nforged [certain]: declares zlib\"]}\n      - version: \"3.0.0\"\n        native: {files: [\"src/a.c\\nforged\"]}\n",
+    );
+    let (code, out, stderr) = run(&["check"], &["--registry", registry.to_str().unwrap()]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(!out.contains("\n  r.yaml:99"), "{out}");
+    assert!(out.contains("`>=2\\n  r.yaml:99  forged line`"), "{out}");
+    assert!(
+        out.contains("r.yaml:6  pkg-tarn@2.0.0: native library name \"zlib\\nforged [certain]: declares zlib\" holds a control character"),
+        "{out}"
+    );
+    assert!(
+        out.contains(
+            "pkg-tarn@3.0.0: native file name \"src/a.c\\nforged\" holds a control character"
+        ),
+        "{out}"
+    );
+    assert!(!out.lines().any(|l| l.starts_with("forged")), "{out}");
+
+    let versions = common::write(
+        dir.path(),
+        "v.csv",
+        "package,version\npkg-tarn,1.0.0\npkg-fen,2.0.0\n",
+    );
+    let deps = common::write(
+        dir.path(),
+        "d.csv",
+        "package,version,dependency,req\npkg-tarn,1.0.0,pkg-fen,\"^2,\n  d.csv:9  forged\"\n",
+    );
+    let (code, out, stderr) = run(
+        &["check"],
+        &["--bulk", versions.to_str().unwrap(), deps.to_str().unwrap()],
+    );
+    assert_eq!(code, 1, "{stderr}");
+    assert!(!out.contains("\n  d.csv:9"), "{out}");
+    assert!(out.contains("`^2,\\n  d.csv:9  forged`"), "{out}");
+}

@@ -580,6 +580,18 @@ pub struct Problem {
     pub left_out: bool,
 }
 
+/// A problem's text with its line breaks written as `\n`: a problem is one line of a report,
+/// and a value quoted from the input (an unreadable requirement) could otherwise add lines
+/// that read as other problems. Other control characters are escaped where reports are
+/// printed ([`crate::report::visible`]).
+fn one_line(text: String) -> String {
+    if text.contains('\n') {
+        text.replace('\n', "\\n")
+    } else {
+        text
+    }
+}
+
 /// Counts per record kind.
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
 pub struct Tally {
@@ -701,8 +713,8 @@ impl Ledger {
         self.problems.push(Problem {
             kind,
             origin,
-            subject: subject.into(),
-            detail: detail.into(),
+            subject: one_line(subject.into()),
+            detail: one_line(detail.into()),
             left_out: false,
         });
     }
@@ -720,8 +732,8 @@ impl Ledger {
         self.problems.push(Problem {
             kind,
             origin,
-            subject: subject.into(),
-            detail: detail.into(),
+            subject: one_line(subject.into()),
+            detail: one_line(detail.into()),
             left_out: true,
         });
     }

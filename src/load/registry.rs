@@ -444,7 +444,28 @@ impl RegistryBuilder {
                 }
             },
         };
-        if let Some(At { value: why, line }) = fields.bad_value {
+        // A native library or file name is printed in evidence lines: a line break in it
+        // would forge report lines, and no library or file is named so.
+        let control = fields.native.as_ref().and_then(|n| {
+            let named = |what: &'static str, values: &'_ [String]| {
+                values
+                    .iter()
+                    .find(|v| v.chars().any(char::is_control))
+                    .map(|v| (what, v.clone()))
+            };
+            named("library", &n.libraries).or_else(|| named("file", &n.files))
+        });
+        let bad_value = fields.bad_value.or_else(|| {
+            control.map(|(what, value)| {
+                At::new(
+                    format!(
+                        "native {what} name {value:?} holds a control character; expected a name as the system writes it"
+                    ),
+                    line,
+                )
+            })
+        });
+        if let Some(At { value: why, line }) = bad_value {
             let subject = subject(&self.registry);
             self.leave_out_release(package, ProblemKind::BadValue, origin(line), subject, why);
             return None;
