@@ -796,7 +796,7 @@ pub fn read_matrix(path: &std::path::Path) -> Result<Matrix, BadInput> {
     // Every rendering carries this basefit's warning, whatever a file says in its place: an
     // edited or emptied notice must not leave JSON and YAML without one.
     Ok(Matrix {
-        notice: plan::matrix::NOTICE.to_string(),
+        notice: plan::matrix::notice(m.native_skipped),
         ..m
     })
 }

@@ -904,7 +904,7 @@ fn render_refuses_results_it_cannot_compare_and_notes_left_out_ones() {
     let (code, stdout, stderr) = run_on_demo("render", &["--results", some.to_str().unwrap()]);
     assert_eq!(code, 0, "{stderr}");
     assert!(
-        stdout.contains("Recorded installs cover 1 cells"),
+        stdout.contains("Recorded installs cover 1 cell:"),
         "{stdout}"
     );
     assert!(

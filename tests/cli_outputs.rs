@@ -139,6 +139,9 @@ fn a_matrix_planned_without_native_checks_says_so_wherever_it_is_shown() {
     let yaml = out.join("matrix.yaml");
     let text = std::fs::read_to_string(&json).unwrap();
     assert!(text.contains("\"native_skipped\": true"));
+    // The notice itself says it too, for readers that look at the notice only.
+    let v: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(v["notice"], basefit::plan::matrix::notice(true), "{text}");
     assert!(
         std::fs::read_to_string(&yaml)
             .unwrap()
@@ -878,7 +881,7 @@ fn a_failure_for_another_cause_is_not_rendered_as_agreement() {
     let (_, md, _) = run(&["render"], &args);
     assert!(
         md.contains(
-            "Recorded installs cover 1 cells: 0 agree, 0 contradict the prediction, 1 neither"
+            "Recorded installs cover 1 cell: 0 agree, 0 contradict the prediction, 1 neither"
         ),
         "{md}"
     );

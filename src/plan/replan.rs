@@ -1382,7 +1382,7 @@ pub fn replan(
         })
         .collect();
     let matrix = Matrix {
-        notice: super::matrix::NOTICE.to_string(),
+        notice: super::matrix::notice(!options.native),
         native_skipped: !options.native,
         images: image_columns(inputs),
         packages: package_rows(inputs),
@@ -1599,7 +1599,7 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
     }
     let cells: Vec<Cell> = placed.into_iter().map(|(_, c)| c.clone()).collect();
     Ok(Matrix {
-        notice: first.notice.clone(),
+        notice: super::matrix::notice(parts.iter().any(|p| p.native_skipped)),
         native_skipped: parts.iter().any(|p| p.native_skipped),
         images: first.images.clone(),
         packages: first.packages.clone(),

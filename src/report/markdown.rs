@@ -204,9 +204,10 @@ pub fn markdown(m: &Matrix) -> String {
         let unsettled: usize = counts.iter().map(|k| k.unsettled).sum();
         let _ = writeln!(
             out,
-            "\nRecorded installs cover {recorded} cells: {} agree, {surprises} contradict the \
+            "\nRecorded installs cover {recorded} {}: {} agree, {surprises} contradict the \
              prediction, {unsettled} neither (flaky, another version or failure cause, or an \
              undecided prediction).",
+            if recorded == 1 { "cell" } else { "cells" },
             recorded - surprises - unsettled
         );
     }
