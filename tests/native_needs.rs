@@ -218,6 +218,17 @@ fn a_declared_library_the_catalog_does_not_know_is_reported() {
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("at-risk"), "{stdout}");
     assert!(stdout.contains("postgresql-client-lib"), "{stdout}");
+
+    // Where the cell fails for a package that can be named, the explanation says that adding
+    // it alone would not do.
+    let images = format!("images:\n{}", image("slim", "debian", "    packages: []\n"));
+    let args = inputs(dir.path(), &registry, &images, &["pg-bind"]);
+    let (code, stdout, _) = run(&["explain", "pg-bind", "slim"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains("has no C toolchain; add: build-essential; it also needs libraries the catalog has no package for on this image: postgresql-client-lib"),
+        "{stdout}"
+    );
 }
 
 /// A development package depends on its library's runtime package (`apt-cache depends

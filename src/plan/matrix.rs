@@ -607,11 +607,20 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         .collect();
     cell.missing_system_packages = a.packages_to_add();
     let certain_missing = a.missing.iter().any(|(_, c)| *c == Confidence::Certain);
+    // Beside a failure whose packages can be named, a library that has none: adding the
+    // named packages alone would not make the cell install.
+    let unmapped = match a.unknown_libraries.is_empty() {
+        true => String::new(),
+        false => format!(
+            "; it also needs libraries the catalog has no package for on this image: {}",
+            a.unknown_libraries.join(", ")
+        ),
+    };
     if a.toolchain_missing == Some(Confidence::Certain) {
         cell.outcome = Outcome::Fails;
         cell.cause = Some(Cause::MissingToolchain);
         cell.explanation.push(format!(
-            "a declared native library must be compiled, and {} has no C toolchain{}",
+            "a declared native library must be compiled, and {} has no C toolchain{}{unmapped}",
             image.id,
             add_list(&cell.missing_system_packages)
         ));
@@ -625,7 +634,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
             .map(|(p, _)| p.as_str())
             .collect();
         cell.explanation.push(format!(
-            "a declared native library is missing on {}; add: {}",
+            "a declared native library is missing on {}; add: {}{unmapped}",
             image.id,
             certain.join(" ")
         ));
