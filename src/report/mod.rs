@@ -213,14 +213,691 @@ pub fn to_json<T: Serialize>(value: &T) -> String {
     s
 }
 
-/// YAML as serde_yaml writes it.
+/// YAML that YAML 1.1 and YAML 1.2 readers alike read back to the same values: block style
+/// as serde_yaml lays it out, but every string double-quoted and every float with a point.
+///
+/// serde_yaml writes YAML 1.2, where `no`, `on`, `1_000`, `1:20` or `2026-01-01` are plain
+/// strings; most readers downstream (PyYAML, Ruby's Psych, Go's yaml.v2) follow YAML 1.1 and
+/// read those as booleans, numbers and dates, and refuse `<<` or `=`. A package name, an image
+/// id or a summary can be any of them, and a quoted scalar is a string in every version and
+/// schema. YAML 1.1 floats also need a point and a signed exponent (`1.0e+300`, not serde_yaml's
+/// `1e300`), or PyYAML reads a string.
+///
+/// ```
+/// #[derive(serde::Serialize)]
+/// struct Row { name: String, weight: f64, toolchain: bool, tags: Vec<String> }
+/// let row = Row { name: "no".into(), weight: 1e-7, toolchain: true, tags: vec![] };
+/// assert_eq!(
+///     basefit::report::to_yaml(&row),
+///     "name: \"no\"\nweight: 1.0e-7\ntoolchain: true\ntags: []\n"
+/// );
+/// ```
 pub fn to_yaml<T: Serialize>(value: &T) -> String {
-    serde_yaml::to_string(value).expect("report values serialize")
+    let value = serde_yaml::to_value(value).expect("report values serialize");
+    let mut out = String::new();
+    yaml_node(&mut out, &value, 0, Place::Top);
+    out
+}
+
+/// Where a node starts, which decides how a block collection under it is laid out.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Place {
+    /// The document itself, at column 0.
+    Top,
+    /// After `key:` of an entry at `indent`: a mapping goes on the next lines two deeper, a
+    /// sequence at the key's own column, as serde_yaml writes them.
+    MapValue,
+    /// After `- ` (or `? `, `: ` of an explicit entry) at `indent`: a collection starts on
+    /// the same line, its other lines two deeper.
+    Item,
+}
+
+/// Writes `value` starting at the cursor (placed as `place` says) and ends with a newline.
+fn yaml_node(out: &mut String, value: &serde_yaml::Value, indent: usize, place: Place) {
+    use serde_yaml::Value;
+    match value {
+        Value::Sequence(items) if !items.is_empty() => {
+            let (at, inline) = match place {
+                Place::Top => (0, false),
+                Place::MapValue => (indent, false),
+                Place::Item => (indent + 2, true),
+            };
+            if place == Place::MapValue {
+                out.push('\n');
+            }
+            for (i, item) in items.iter().enumerate() {
+                if i > 0 || !inline {
+                    pad(out, at);
+                }
+                out.push_str("- ");
+                yaml_node(out, item, at, Place::Item);
+            }
+        }
+        Value::Mapping(map) if !map.is_empty() => {
+            let (at, inline) = match place {
+                Place::Top => (0, false),
+                Place::MapValue => (indent + 2, false),
+                Place::Item => (indent + 2, true),
+            };
+            if place == Place::MapValue {
+                out.push('\n');
+            }
+            for (i, (key, item)) in map.iter().enumerate() {
+                if i > 0 || !inline {
+                    pad(out, at);
+                }
+                let mut simple = String::new();
+                if !matches!(
+                    key,
+                    Value::Sequence(_) | Value::Mapping(_) | Value::Tagged(_)
+                ) {
+                    yaml_key(&mut simple, key);
+                }
+                // An implicit key holds at most 1024 characters (YAML 1.2 §7.4.2; libyaml and
+                // PyYAML enforce it) and no collection or tag; anything else goes out as an
+                // explicit entry (§8.2.2).
+                if simple.is_empty() || simple.chars().count() > 1024 {
+                    out.push_str("? ");
+                    yaml_node(out, key, at, Place::Item);
+                    pad(out, at);
+                    out.push_str(": ");
+                    yaml_node(out, item, at, Place::Item);
+                } else {
+                    out.push_str(&simple);
+                    out.push(':');
+                    yaml_node(out, item, at, Place::MapValue);
+                }
+            }
+        }
+        Value::Tagged(tagged) => {
+            // serde_yaml's form of an enum variant with data: `!Variant` and then its value.
+            if place == Place::MapValue {
+                out.push(' ');
+            }
+            yaml_tag(out, &tagged.tag.to_string());
+            // A node holds one tag (YAML 1.2 §6.9), so a variant inside a variant, which
+            // serde_yaml refuses to write at all, becomes the one-entry mapping serde's
+            // externally tagged form uses: readable, and no panic.
+            let nested;
+            let inner = match &tagged.value {
+                Value::Tagged(t) => {
+                    let name = t.tag.to_string();
+                    let name = name.strip_prefix('!').unwrap_or(&name).to_string();
+                    nested = Value::Mapping(
+                        [(Value::String(name), t.value.clone())]
+                            .into_iter()
+                            .collect(),
+                    );
+                    &nested
+                }
+                other => other,
+            };
+            let collection = match inner {
+                Value::Sequence(v) => !v.is_empty(),
+                Value::Mapping(m) => !m.is_empty(),
+                _ => false,
+            };
+            if !collection {
+                yaml_node(out, inner, indent, Place::MapValue);
+            } else {
+                // On the lines after the tag, as serde_yaml lays it out: at the top at column
+                // 0; after a key, as any value of that key; after a dash, two deeper than it.
+                match place {
+                    Place::Top => {
+                        out.push('\n');
+                        yaml_node(out, inner, 0, Place::Top);
+                    }
+                    Place::MapValue => yaml_node(out, inner, indent, Place::MapValue),
+                    Place::Item if matches!(inner, Value::Mapping(_)) => {
+                        yaml_node(out, inner, indent, Place::MapValue)
+                    }
+                    Place::Item => yaml_node(out, inner, indent + 2, Place::MapValue),
+                }
+            }
+        }
+        scalar => {
+            if place == Place::MapValue {
+                out.push(' ');
+            }
+            yaml_scalar(out, scalar);
+            out.push('\n');
+        }
+    }
+}
+
+fn pad(out: &mut String, indent: usize) {
+    out.extend(std::iter::repeat_n(' ', indent));
+}
+
+/// A scalar that is no collection: strings double-quoted, numbers, booleans and null as
+/// serde_yaml writes them (floats made YAML 1.1 floats).
+fn yaml_scalar(out: &mut String, value: &serde_yaml::Value) {
+    use serde_yaml::Value;
+    match value {
+        Value::String(s) => yaml_quoted(out, s),
+        Value::Number(n) => out.push_str(&yaml_number(n)),
+        Value::Bool(b) => out.push_str(if *b { "true" } else { "false" }),
+        Value::Null => out.push_str("null"),
+        // Only empty collections arrive here: a block collection cannot be empty.
+        Value::Sequence(_) => out.push_str("[]"),
+        Value::Mapping(_) => out.push_str("{}"),
+        // Callers write tagged values themselves; should one arrive, its tag quoted is
+        // readable where a panic would lose the whole report.
+        Value::Tagged(t) => yaml_quoted(out, &t.tag.to_string()),
+    }
+}
+
+/// A number as serde_yaml writes it, except a float whose form YAML 1.1 would not read as a
+/// float: its regular expression (YAML 1.1 type repository, float) wants a `.` in the
+/// mantissa and a sign in the exponent, so `1e-7` becomes `1.0e-7` and `1e300` `1.0e+300`.
+/// `.inf`, `-.inf` and `.nan` are YAML 1.1 and 1.2 floats as they are.
+fn yaml_number(n: &serde_yaml::Number) -> String {
+    // `Number`'s Display is serde_yaml's own scalar form (itoa, ryu, `.inf`, `-.inf`, `.nan`),
+    // without running an emitter per number.
+    let text = n.to_string();
+    let text = text.as_str();
+    if !n.is_f64() || text.contains(".inf") || text.contains(".nan") {
+        return text.to_string();
+    }
+    let (mantissa, exponent) = match text.find(['e', 'E']) {
+        Some(at) => (&text[..at], Some(&text[at + 1..])),
+        None => (text, None),
+    };
+    let mut fixed = mantissa.to_string();
+    if !mantissa.contains('.') {
+        fixed.push_str(".0");
+    }
+    if let Some(exponent) = exponent {
+        fixed.push('e');
+        if !exponent.starts_with(['+', '-']) {
+            fixed.push('+');
+        }
+        fixed.push_str(exponent);
+    }
+    fixed
+}
+
+/// Words that YAML 1.1 reads as booleans or null when plain (YAML 1.1 type repository, bool
+/// and null types), in any case to be safe with readers that fold case.
+const YAML11_WORDS: [&str; 10] = [
+    "y", "yes", "n", "no", "true", "false", "on", "off", "null", "~",
+];
+
+/// A mapping key: plain when it is a name no YAML version reads as anything but a string,
+/// else quoted like a value. A key that is no string (serde_yaml allows numbers, booleans and
+/// null) keeps its own scalar form.
+fn yaml_key(out: &mut String, key: &serde_yaml::Value) {
+    match key {
+        serde_yaml::Value::String(s) if plain_key(s) => out.push_str(s),
+        other => yaml_scalar(out, other),
+    }
+}
+
+fn plain_key(s: &str) -> bool {
+    let mut chars = s.chars();
+    let first_ok = chars
+        .next()
+        .is_some_and(|c| c.is_ascii_alphabetic() || c == '_');
+    first_ok
+        && chars.all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+        && !YAML11_WORDS.iter().any(|w| w.eq_ignore_ascii_case(s))
+}
+
+/// `s` as a double-quoted scalar. Raw, YAML allows only its printable set (YAML 1.2 §5.1:
+/// #x9, #xA, #xD, #x20–#x7E, #x85, #xA0–#xD7FF, #xE000–#xFFFD, #x10000–#x10FFFF); everything
+/// else takes a `\u` escape (§5.7), as do U+0085, U+2028 and U+2029, which YAML 1.1 takes for
+/// line breaks and would fold, and U+FEFF, a byte order mark to some readers. Tab, line feed
+/// and carriage return take their short escapes so the scalar stays on one line.
+fn yaml_quoted(out: &mut String, s: &str) {
+    out.reserve(s.len() + 2);
+    out.push('"');
+    for c in s.chars() {
+        match c {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\t' => out.push_str("\\t"),
+            '\r' => out.push_str("\\r"),
+            '\u{85}' | '\u{2028}' | '\u{2029}' | '\u{feff}' => push_u_escape(out, c),
+            '\u{20}'..='\u{7e}'
+            | '\u{a0}'..='\u{d7ff}'
+            | '\u{e000}'..='\u{fffd}'
+            | '\u{10000}'..='\u{10ffff}' => out.push(c),
+            // Outside the printable set every character is below U+10000 (Rust strings hold
+            // no surrogates), so four hex digits always suffice.
+            _ => push_u_escape(out, c),
+        }
+    }
+    out.push('"');
+}
+
+fn push_u_escape(out: &mut String, c: char) {
+    use std::fmt::Write as _;
+    let _ = write!(out, "\\u{:04X}", c as u32);
+}
+
+/// A tag as `!suffix`: characters a tag shorthand may not hold raw are %-escaped as UTF-8
+/// bytes (YAML 1.2 §6.8.1, ns-tag-char and ns-uri-char), which readers decode.
+fn yaml_tag(out: &mut String, tag: &str) {
+    use std::fmt::Write as _;
+    let suffix = tag.strip_prefix('!').unwrap_or(tag);
+    out.push('!');
+    for b in suffix.bytes() {
+        if b.is_ascii_alphanumeric() || matches!(b, b'-' | b'_' | b'.' | b'~') {
+            out.push(b as char);
+        } else {
+            let _ = write!(out, "%{b:02X}");
+        }
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Strings that a plain or single-quoted scalar would let some YAML reader take for
+    /// something else: YAML 1.1 booleans, null, numbers, sexagesimals, dates, merge and value
+    /// keys, indicators, quotes, edge spaces, and characters YAML 1.1 or 1.2 will not hold raw.
+    fn hostile() -> Vec<String> {
+        let mut v: Vec<String> = [
+            "no",
+            "yes",
+            "on",
+            "off",
+            "NO",
+            "Yes",
+            "y",
+            "Y",
+            "n",
+            "N",
+            "true",
+            "False",
+            "null",
+            "Null",
+            "~",
+            "",
+            "1_000",
+            "1:20",
+            "190:20:30",
+            "2026-01-01",
+            "2001-12-14t21:59:43.10-05:00",
+            "<<",
+            "=",
+            "0o17",
+            "0x1F",
+            "0b101",
+            "017",
+            ".5",
+            "+1",
+            "-0",
+            "1e3",
+            ".inf",
+            "-.Inf",
+            ".NaN",
+            "- x",
+            "#c",
+            "a #c",
+            "a: b",
+            "a:b",
+            "? k",
+            "'q'",
+            "\"q\"",
+            "it's",
+            "\\",
+            "\\n",
+            "!tag",
+            "&anchor",
+            "*alias",
+            "%YAML",
+            "@at",
+            "`tick",
+            "|",
+            ">",
+            "[a]",
+            "{a: 1}",
+            ",",
+            "---",
+            "...",
+            " lead",
+            "trail ",
+            " ",
+            "\n",
+            "a\nb",
+            "a\n\nb\n",
+            "\t",
+            "a\tb",
+            "\r",
+            "x\r\n",
+            "\0",
+            "\u{1b}",
+            "\u{7f}",
+            "\u{85}",
+            "\u{9f}",
+            "\u{a0}",
+            "\u{2028}",
+            "\u{2029}",
+            "\u{feff}",
+            "\u{fffe}",
+            "\u{ffff}",
+            "\u{d7ff}\u{e000}",
+            "naïve",
+            "日本語",
+            "🦀 emoji 👍🏽",
+            "\u{10ffff}",
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        v.push("x".repeat(10_000));
+        v.push("é\n".repeat(2_000));
+        v
+    }
+
+    #[derive(Debug, PartialEq, Serialize, serde::Deserialize)]
+    struct Hostile {
+        name: String,
+        names: Vec<String>,
+        nested: Vec<Vec<String>>,
+        by_name: std::collections::BTreeMap<String, String>,
+        rows: Vec<HostileRow>,
+        summary: Option<String>,
+        none: Option<String>,
+        weight: f64,
+        count: u64,
+        offset: i64,
+        flag: bool,
+        empty: Vec<String>,
+        empty_map: std::collections::BTreeMap<String, String>,
+    }
+
+    #[derive(Debug, PartialEq, Serialize, serde::Deserialize)]
+    struct HostileRow {
+        id: String,
+        tags: Vec<String>,
+    }
+
+    #[test]
+    fn hostile_strings_read_back_as_themselves() {
+        let words = hostile();
+        let value = Hostile {
+            name: "no".into(),
+            names: words.clone(),
+            nested: vec![words.clone(), vec![], vec!["on".into()]],
+            by_name: words.iter().map(|w| (w.clone(), w.clone())).collect(),
+            rows: words
+                .iter()
+                .map(|w| HostileRow {
+                    id: w.clone(),
+                    tags: vec![w.clone(), "off".into()],
+                })
+                .collect(),
+            summary: Some("2026-01-01".into()),
+            none: None,
+            weight: 1e-7,
+            count: u64::MAX,
+            offset: i64::MIN,
+            flag: false,
+            empty: vec![],
+            empty_map: Default::default(),
+        };
+        let text = to_yaml(&value);
+        let back: Hostile = serde_yaml::from_str(&text).unwrap();
+        assert_eq!(back, value);
+        // A YAML 1.2 reader would read the old plain scalars back too; what YAML 1.1 readers
+        // need is that no string goes out plain or single-quoted.
+        for word in &words {
+            let mut quoted = String::new();
+            yaml_quoted(&mut quoted, word);
+            assert!(
+                text.contains(&format!("\n- {quoted}\n")),
+                "{word:?} as {quoted}"
+            );
+            assert!(text.contains(&format!("- id: {quoted}\n")), "{word:?}");
+        }
+        assert!(
+            text.starts_with("name: \"no\"\nnames:\n- \"no\"\n- \"yes\"\n"),
+            "{text}"
+        );
+        assert!(text.contains("summary: \"2026-01-01\"\n"), "{text}");
+        assert!(text.contains("none: null\n"), "{text}");
+        assert!(text.ends_with("empty: []\nempty_map: {}\n"), "{text}");
+    }
+
+    #[test]
+    fn every_string_is_double_quoted_with_yaml_escapes() {
+        let words = [
+            "no", "on", "1_000", "1:20", "<<", "=", "", " a ", "'q'", "\"q\"",
+        ];
+        assert_eq!(
+            to_yaml(&words),
+            "- \"no\"\n- \"on\"\n- \"1_000\"\n- \"1:20\"\n- \"<<\"\n- \"=\"\n- \"\"\n- \" a \"\n\
+             - \"'q'\"\n- \"\\\"q\\\"\"\n"
+        );
+        let controls =
+            "\\\n\t\r\0\u{1b}\u{7f}\u{85}\u{9f}\u{a0}\u{2028}\u{2029}\u{feff}\u{fffe}\u{ffff}é🦀";
+        assert_eq!(
+            to_yaml(&controls),
+            "\"\\\\\\n\\t\\r\\u0000\\u001B\\u007F\\u0085\\u009F\u{a0}\\u2028\\u2029\\uFEFF\\uFFFE\\uFFFFé🦀\"\n"
+        );
+        let back: String = serde_yaml::from_str(&to_yaml(&controls)).unwrap();
+        assert_eq!(back, controls);
+    }
+
+    #[test]
+    fn keys_stay_plain_unless_some_reader_would_misread_them() {
+        let map: std::collections::BTreeMap<&str, u8> = [
+            ("name", 1),
+            ("closure_size", 2),
+            ("at-risk", 3),
+            ("_x", 4),
+            ("yes", 5),
+            ("On", 6),
+            ("N", 7),
+            ("NULL", 8),
+            ("<<", 9),
+            ("=", 10),
+            ("1:20", 11),
+            ("", 12),
+            ("a b", 13),
+            ("-x", 14),
+            ("é", 15),
+        ]
+        .into_iter()
+        .collect();
+        let text = to_yaml(&map);
+        for plain in ["name: 1\n", "closure_size: 2\n", "at-risk: 3\n", "_x: 4\n"] {
+            assert!(text.contains(plain), "{plain:?} in {text}");
+        }
+        for quoted in [
+            "\"yes\": 5\n",
+            "\"On\": 6\n",
+            "\"N\": 7\n",
+            "\"NULL\": 8\n",
+            "\"<<\": 9\n",
+            "\"=\": 10\n",
+            "\"1:20\": 11\n",
+            "\"\": 12\n",
+            "\"a b\": 13\n",
+            "\"-x\": 14\n",
+            "\"é\": 15\n",
+        ] {
+            assert!(text.contains(quoted), "{quoted:?} in {text}");
+        }
+        let back: std::collections::BTreeMap<String, u8> = serde_yaml::from_str(&text).unwrap();
+        assert_eq!(back.len(), map.len());
+        assert!(map.iter().all(|(k, v)| back.get(*k) == Some(v)));
+    }
+
+    #[test]
+    fn a_key_past_the_implicit_key_limit_is_written_explicitly() {
+        // 1022 characters and two quotes are the 1024 an implicit key may hold (a space makes
+        // them quoted).
+        let fits = "k ".repeat(511);
+        let long = format!("{fits}k");
+        let map: std::collections::BTreeMap<&str, &str> =
+            [(fits.as_str(), "no"), (long.as_str(), "on")].into();
+        let text = to_yaml(&map);
+        assert_eq!(
+            text,
+            format!("\"{fits}\": \"no\"\n? \"{long}\"\n: \"on\"\n")
+        );
+        let back: std::collections::BTreeMap<String, String> = serde_yaml::from_str(&text).unwrap();
+        assert_eq!(back[&fits], "no");
+        assert_eq!(back[&long], "on");
+    }
+
+    #[test]
+    fn keys_that_are_no_strings_keep_their_form() {
+        let numbers: std::collections::BTreeMap<i64, bool> = [(-2, false), (1, true)].into();
+        let text = to_yaml(&numbers);
+        assert_eq!(text, "-2: false\n1: true\n");
+        assert_eq!(
+            serde_yaml::from_str::<std::collections::BTreeMap<i64, bool>>(&text).unwrap(),
+            numbers
+        );
+        // Collections as keys (serde_yaml allows them) go out as explicit entries.
+        let mut odd = serde_yaml::Mapping::new();
+        odd.insert(
+            serde_yaml::Value::Sequence(vec!["no".into(), 1.into()]),
+            "v".into(),
+        );
+        odd.insert(serde_yaml::Value::Mapping(Default::default()), "w".into());
+        let odd = serde_yaml::Value::Mapping(odd);
+        let text = to_yaml(&odd);
+        assert_eq!(text, "? - \"no\"\n  - 1\n: \"v\"\n? {}\n: \"w\"\n");
+        assert_eq!(
+            serde_yaml::from_str::<serde_yaml::Value>(&text).unwrap(),
+            odd
+        );
+    }
+
+    #[test]
+    fn floats_are_floats_to_yaml_1_1_and_1_2_readers() {
+        let floats = [
+            1.0,
+            0.5,
+            -0.0,
+            1e300,
+            1e-7,
+            1.2345678901234568e20,
+            2.5e-300,
+            123.0,
+        ];
+        let text = to_yaml(&floats);
+        assert_eq!(
+            text,
+            "- 1.0\n- 0.5\n- -0.0\n- 1.0e+300\n- 1.0e-7\n- 1.2345678901234568e+20\n- 2.5e-300\n- 123.0\n"
+        );
+        let back: Vec<f64> = serde_yaml::from_str(&text).unwrap();
+        assert_eq!(back, floats);
+        assert!(back[2].is_sign_negative());
+        let odd = [f64::INFINITY, f64::NEG_INFINITY, f64::NAN];
+        let text = to_yaml(&odd);
+        assert_eq!(text, "- .inf\n- -.inf\n- .nan\n");
+        let back: Vec<f64> = serde_yaml::from_str(&text).unwrap();
+        assert_eq!(back[..2], odd[..2]);
+        assert!(back[2].is_nan());
+        assert_eq!(
+            to_yaml(&(u64::MAX, i64::MIN, true, ())),
+            "- 18446744073709551615\n- -9223372036854775808\n- true\n- null\n"
+        );
+    }
+
+    #[test]
+    fn the_layout_is_serde_yaml_s_where_no_string_is_written() {
+        #[derive(Serialize)]
+        enum Shape {
+            Unit,
+            One(u8),
+            Pair(u8, u8),
+            Named { a: u8, b: Vec<u8> },
+            Map(std::collections::BTreeMap<u8, Vec<u8>>),
+            List(Vec<Vec<u8>>),
+        }
+        #[derive(Serialize)]
+        struct Doc {
+            seqs: Vec<Vec<u8>>,
+            rows: Vec<std::collections::BTreeMap<u8, Vec<u8>>>,
+            shapes: Vec<Shape>,
+            one: Shape,
+            pair: Shape,
+            named: Shape,
+            map: Shape,
+            list: Shape,
+            empty: Vec<u8>,
+            empty_map: std::collections::BTreeMap<u8, u8>,
+            nothing: Option<u8>,
+            weights: Vec<f64>,
+        }
+        let map = || Shape::Map([(1, vec![2, 3]), (4, vec![])].into());
+        let list = || Shape::List(vec![vec![1], vec![]]);
+        let doc = Doc {
+            seqs: vec![vec![1, 2], vec![], vec![3]],
+            rows: vec![[(1, vec![2]), (3, vec![])].into(), Default::default()],
+            shapes: vec![
+                Shape::Unit,
+                Shape::One(1),
+                Shape::Pair(1, 2),
+                Shape::Named { a: 1, b: vec![2] },
+                map(),
+                list(),
+            ],
+            one: Shape::One(7),
+            pair: Shape::Pair(1, 2),
+            named: Shape::Named { a: 1, b: vec![] },
+            map: map(),
+            list: list(),
+            empty: vec![],
+            empty_map: Default::default(),
+            nothing: None,
+            weights: vec![0.25, 1.0, f64::INFINITY],
+        };
+        // `Shape::Unit` is the one string here; serde_yaml writes it plain.
+        let ours = to_yaml(&doc).replace("- \"Unit\"\n", "- Unit\n");
+        assert_eq!(ours, serde_yaml::to_string(&doc).unwrap());
+        for top in [Shape::Named { a: 1, b: vec![2] }, list(), Shape::One(3)] {
+            assert_eq!(to_yaml(&top), serde_yaml::to_string(&top).unwrap());
+        }
+    }
+
+    #[test]
+    fn tagged_values_read_back_and_odd_tags_are_escaped() {
+        #[derive(Debug, PartialEq, Serialize, serde::Deserialize)]
+        enum Verdict {
+            #[serde(rename = "at risk: no!")]
+            AtRisk(String),
+            Fails {
+                reason: String,
+            },
+            Many(Vec<String>),
+        }
+        let verdicts = vec![
+            Verdict::AtRisk("no".into()),
+            Verdict::Fails {
+                reason: "on".into(),
+            },
+            Verdict::Many(vec!["yes".into(), "1:20".into()]),
+        ];
+        let text = to_yaml(&verdicts);
+        assert_eq!(
+            text,
+            "- !at%20risk%3A%20no%21 \"no\"\n- !Fails\n  reason: \"on\"\n- !Many\n  - \"yes\"\n  - \"1:20\"\n"
+        );
+        assert_eq!(
+            serde_yaml::from_str::<Vec<Verdict>>(&text).unwrap(),
+            verdicts
+        );
+        // A variant inside a variant, which serde_yaml itself refuses to write, gives a
+        // document rather than a panic.
+        #[derive(Serialize)]
+        enum Outer {
+            Wrap(Verdict),
+        }
+        assert!(serde_yaml::to_string(&Outer::Wrap(Verdict::Many(vec![]))).is_err());
+        let text = to_yaml(&Outer::Wrap(Verdict::Many(vec!["no".into()])));
+        assert_eq!(text, "!Wrap\nMany:\n- \"no\"\n");
+        assert!(serde_yaml::from_str::<serde_yaml::Value>(&text).is_ok());
+    }
 
     #[test]
     fn a_set_naming_one_file_twice_writes_nothing() {
