@@ -655,3 +655,49 @@ fn markdown_snapshot_of_the_demo_data_with_symbols_checked_cell_by_cell() {
     assert_snapshot("demo-support-matrix.md", &markdown(&m));
     cross_check_symbols(&m);
 }
+
+/// GitHub's autolink extension turns bare `www.`, `scheme://`, `mailto:`, `xmpp:` and e-mail
+/// text into links: a package named like a web address must not become one in published
+/// documentation. Checked with comrak, a general-purpose GitHub-flavoured Markdown library
+/// (tables, autolinks and strikethrough on), which follows the GFM spec's
+/// extended autolinks.
+#[test]
+fn markdown_names_and_notes_never_become_links_on_github() {
+    let mut m = hostile();
+    let links = [
+        "www.evil.test",
+        "WWW.Evil.Test",
+        "https://evil.test/login",
+        "mailto:ops@evil.test",
+        "ops.team@evil.test",
+        "xmpp:ops@evil.test/x",
+    ];
+    let mut renamed = std::collections::HashMap::new();
+    for (p, new) in m.packages.iter_mut().zip(links) {
+        renamed.insert(p.name.clone(), new.to_string());
+        p.name = new.to_string();
+        p.summary = Some(format!("see http://evil.test/{new} or write to a@evil.test"));
+    }
+    for c in &mut m.cells {
+        if let Some(new) = renamed.get(&c.package) {
+            c.package = new.clone();
+            c.explanation = vec![format!("{new} needs www.evil.test; mail x@evil.test")];
+        }
+    }
+    let md = markdown(&m);
+    let mut options = comrak::Options::default();
+    options.extension.table = true;
+    options.extension.autolink = true;
+    options.extension.strikethrough = true;
+    let html = comrak::markdown_to_html(&md, &options);
+    assert!(!html.contains("<a "), "{html}");
+    // Escaping does not change what a reader sees: every name is there as written.
+    for name in links {
+        assert!(html.contains(name), "{name} in {html}");
+    }
+    // The demo page, rendered the same way, has no link either: none of its text is meant as one.
+    let demo = std::fs::read_to_string("tests/data/demo-matrix.json").unwrap();
+    let demo: basefit::plan::Matrix = serde_json::from_str(&demo).unwrap();
+    let html = comrak::markdown_to_html(&markdown(&demo), &options);
+    assert!(!html.contains("<a "), "{html}");
+}

@@ -19,32 +19,51 @@ pub const NO_CELL: &str = "–";
 /// Markdown, GitHub's extensions or MDX-based sites give a meaning inside a line is
 /// backslash-escaped, so input can neither add a column nor emphasis, links, HTML or maths.
 ///
+/// GitHub also turns bare text into links (its autolink extension: `www.`, `scheme://`,
+/// `mailto:`, `xmpp:` and e-mail addresses), so a package named `www.example.test` would be
+/// a link in published documentation: the `@`, the `:` of a scheme (one not followed by a
+/// space) and the `.` after `www` are escaped too, which the extension does not see through.
+///
 /// ```
 /// use basefit::report::markdown::escape_markdown;
 /// assert_eq!(escape_markdown("a|b<script>"), "a\\|b\\<script\\>");
+/// assert_eq!(escape_markdown("www.x.test a@b.test"), "www\\.x.test a\\@b.test");
+/// assert_eq!(escape_markdown("see: https://x.test"), "see: https\\://x.test");
 /// ```
 pub fn escape_markdown(s: &str) -> String {
     let line = one_line(s);
     let mut out = String::with_capacity(line.len() + 8);
-    for ch in line.chars() {
-        if matches!(
-            ch,
-            '\\' | '`'
-                | '*'
-                | '_'
-                | '{'
-                | '}'
-                | '['
-                | ']'
-                | '<'
-                | '>'
-                | '|'
-                | '~'
-                | '&'
-                | '$'
-                | '#'
-                | '!'
-        ) {
+    let mut chars = line.chars().peekable();
+    while let Some(ch) = chars.next() {
+        let link_start = match ch {
+            '@' => true,
+            ':' => chars.peek().is_some_and(|next| !next.is_whitespace()),
+            '.' => {
+                let b = out.as_bytes();
+                b.len() >= 3 && b[b.len() - 3..].eq_ignore_ascii_case(b"www")
+            }
+            _ => false,
+        };
+        if link_start
+            || matches!(
+                ch,
+                '\\' | '`'
+                    | '*'
+                    | '_'
+                    | '{'
+                    | '}'
+                    | '['
+                    | ']'
+                    | '<'
+                    | '>'
+                    | '|'
+                    | '~'
+                    | '&'
+                    | '$'
+                    | '#'
+                    | '!'
+            )
+        {
             out.push('\\');
         }
         out.push(ch);
