@@ -64,7 +64,11 @@ fn gib(bytes: u64) -> f64 {
 }
 
 fn data(versions: usize) -> (PathBuf, PathBuf) {
-    let dir = PathBuf::from(format!("target/bench-data/v{versions}"));
+    // The generator's version is in the name: data an earlier generator wrote is not reused.
+    let dir = PathBuf::from(format!(
+        "target/bench-data/v{versions}-g{}",
+        basefit::synth::GENERATOR_VERSION
+    ));
     let (v, d) = (dir.join("versions.csv"), dir.join("dependencies.csv"));
     let stamp = dir.join("complete");
     if !stamp.exists() {

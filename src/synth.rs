@@ -28,6 +28,10 @@ use semver::Version;
 use std::fmt::Write as _;
 use std::io::{self, Write};
 
+/// Bumped whenever the generator's output for some options changes, so that files generated
+/// by an earlier version (the benchmark's cached registry) are not taken for current ones.
+pub const GENERATOR_VERSION: u32 = 2;
+
 /// What to generate. [`SynthOptions::default`] is the full benchmark scale.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SynthOptions {
@@ -675,10 +679,18 @@ fn plan_versions(
         };
         let form = if rng.chance(opts.messy_share) {
             if rng.chance(0.125) {
-                if rng.chance(0.5) {
+                let unreadable = if rng.chance(0.5) {
                     Form::Prefixed
                 } else {
                     Form::TrailingDash
+                };
+                // A package's only version stays readable: unreadable, it would leave the
+                // package without versions and its dependents' requirements unmeetable,
+                // problems nobody meant to generate.
+                if count > 1 {
+                    unreadable
+                } else {
+                    Form::LeadingV
                 }
             } else if rc > 0 && rng.chance(0.6) {
                 Form::NoHyphen
@@ -807,7 +819,8 @@ fn generate(opts: &SynthOptions, sink: &mut dyn Sink) -> io::Result<SynthSummary
 }
 
 /// Picks `wanted` distinct dependency targets for package `i`, most from earlier packages and
-/// weighted towards popular ones, a few from anywhere (which makes the few cycles).
+/// weighted towards popular ones, a few from anywhere (which makes the few cycles; from the
+/// oldest, most depended-on packages those are development dependencies).
 fn choose_targets(
     seed: u64,
     i: usize,
@@ -859,10 +872,15 @@ fn choose_targets(
         chosen.push(j);
     }
     pool.extend(chosen.iter().map(|&j| j as u32));
+    // The oldest packages are the ones most others depend on. A runtime dependency of one of
+    // them (the oldest tenth) on a newer package would put it, and with it much of the
+    // registry, in one cycle; real popular packages depend on newer ones for their tests, if
+    // at all.
+    let hub = i < (n_pkg / 10).max(1);
     chosen
         .into_iter()
         .map(|j| {
-            let kind = if rng.chance(0.08) {
+            let kind = if rng.chance(0.08) || (hub && j > i) {
                 DepKind::Development
             } else {
                 DepKind::Runtime

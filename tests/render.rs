@@ -676,7 +676,9 @@ fn markdown_names_and_notes_never_become_links_on_github() {
     for (p, new) in m.packages.iter_mut().zip(links) {
         renamed.insert(p.name.clone(), new.to_string());
         p.name = new.to_string();
-        p.summary = Some(format!("see http://evil.test/{new} or write to a@evil.test"));
+        p.summary = Some(format!(
+            "see http://evil.test/{new} or write to a@evil.test"
+        ));
     }
     for c in &mut m.cells {
         if let Some(new) = renamed.get(&c.package) {

@@ -86,6 +86,12 @@ fn main() -> ExitCode {
                     "a package has at least one version",
                 ),
                 (
+                    "versions",
+                    args.versions as u64,
+                    s.versions,
+                    "a version belongs to a package, and none was asked for",
+                ),
+                (
                     "dependencies",
                     args.edges as u64,
                     s.dependencies,

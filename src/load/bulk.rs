@@ -731,8 +731,12 @@ impl Load {
         if let Some(ids) = self.platform_lists.get(text) {
             return Ok(ids.clone());
         }
-        let items = text.split(LIST_SEPARATOR).map(str::trim);
-        let written = items.filter(|i| !i.is_empty()).map(|i| At::new(i, line));
+        // An empty item (`a;;b`, a trailing `;`) is read, and refused, as the YAML reader
+        // refuses an empty list item: a record written with a gap is a mistake in it.
+        let written = text
+            .split(LIST_SEPARATOR)
+            .map(str::trim)
+            .map(|i| At::new(i, line));
         let mut ids = Vec::new();
         for platform in read_platforms(written)? {
             let id = self.builder.registry.intern_platform(platform);
@@ -1289,10 +1293,10 @@ fn estimated_rows(bytes: Option<u64>, min_row: u64) -> usize {
 }
 
 fn split_list(cell: Option<&str>) -> Vec<String> {
+    // Empty items are kept: the registry builder refuses them, as in the YAML path.
     cell.map(|text| {
         text.split(LIST_SEPARATOR)
             .map(str::trim)
-            .filter(|s| !s.is_empty())
             .map(str::to_owned)
             .collect()
     })

@@ -445,26 +445,28 @@ impl RegistryBuilder {
             },
         };
         // A native library or file name is printed in evidence lines: a line break in it
-        // would forge report lines, and no library or file is named so.
-        let control = fields.native.as_ref().and_then(|n| {
+        // would forge report lines, and no library or file is named so. A blank one would
+        // make cells at risk for a library nobody can name.
+        let unusable_name = fields.native.as_ref().and_then(|n| {
             let named = |what: &'static str, values: &'_ [String]| {
-                values
-                    .iter()
-                    .find(|v| v.chars().any(char::is_control))
-                    .map(|v| (what, v.clone()))
+                values.iter().find_map(|v| {
+                    let why = if v.trim().is_empty() {
+                        "is empty"
+                    } else if v.chars().any(char::is_control) {
+                        "holds a control character"
+                    } else {
+                        return None;
+                    };
+                    Some(format!(
+                        "native {what} name {v:?} {why}; expected a name as the system writes it"
+                    ))
+                })
             };
             named("library", &n.libraries).or_else(|| named("file", &n.files))
         });
-        let bad_value = fields.bad_value.or_else(|| {
-            control.map(|(what, value)| {
-                At::new(
-                    format!(
-                        "native {what} name {value:?} holds a control character; expected a name as the system writes it"
-                    ),
-                    line,
-                )
-            })
-        });
+        let bad_value = fields
+            .bad_value
+            .or_else(|| unusable_name.map(|why| At::new(why, line)));
         if let Some(At { value: why, line }) = bad_value {
             let subject = subject(&self.registry);
             self.leave_out_release(package, ProblemKind::BadValue, origin(line), subject, why);
