@@ -218,12 +218,20 @@ fn exact_bound(
         .collect();
     let all: Duration = per_cell.iter().map(|c| c.0).sum();
     let needed: Duration = differs.iter().map(|&i| per_cell[i].0).sum();
-    println!(
-        "  {} cells predict differently after the change (other than by a new release in place of the one before it); solving only those takes {:.0}% of the cold solve time, so no exact re-plan that keeps or solves whole cells can be more than {:.1}x faster here",
-        differs.len(),
-        100.0 * needed.as_secs_f64() / all.as_secs_f64(),
-        all.as_secs_f64() / needed.as_secs_f64().max(1e-9)
-    );
+    if differs.is_empty() {
+        // Nothing has to be solved again, so solving sets no bound: a ratio to zero would
+        // print as a meaningless huge number.
+        println!(
+            "  no cell predicts differently after the change (other than by a new release in place of the one before it): solving sets no bound here, only a re-plan's own costs do"
+        );
+    } else {
+        println!(
+            "  {} cells predict differently after the change (other than by a new release in place of the one before it); solving only those takes {:.0}% of the cold solve time, so no exact re-plan that keeps or solves whole cells can be more than {:.1}x faster here",
+            differs.len(),
+            100.0 * needed.as_secs_f64() / all.as_secs_f64(),
+            all.as_secs_f64() / needed.as_secs_f64().max(1e-9)
+        );
+    }
     let resolved: Duration = solved
         .iter()
         .filter_map(|&i| per_cell.get(i))

@@ -749,6 +749,27 @@ fn several_schema_errors_come_back_together() {
     assert_eq!(err.more[0].line, Some(4));
 }
 
+/// At the cap the reader stops, and the last line says so: the list is not every error.
+#[test]
+fn schema_errors_past_the_cap_are_announced() {
+    let mut versions = String::from("package,version,yanked\n");
+    for i in 0..25 {
+        versions.push_str(&format!("pkg-{i},1.0.0,maybe\n"));
+    }
+    let err = load(&versions, D_HEAD).unwrap_err();
+    assert_eq!(err.more.len(), 20, "{err}");
+    let last = err.more.last().unwrap();
+    assert_eq!(last.line, None);
+    assert!(
+        last.message
+            .contains("stopped after 20 errors; there may be more"),
+        "{err}"
+    );
+    // Under the cap, nothing is added.
+    let err = load("package,version,yanked\npkg-a,1.0.0,maybe\n", D_HEAD).unwrap_err();
+    assert!(err.more.is_empty(), "{err}");
+}
+
 #[test]
 fn binary_garbage_is_bad_input() {
     let mut bytes = b"package,version\npkg-a,1.0.0\n".to_vec();

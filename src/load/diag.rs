@@ -957,7 +957,18 @@ impl SchemaErrors {
     }
 
     /// `Ok` when nothing was recorded, else all recorded errors as one.
-    pub fn finish(self) -> Result<(), BadInput> {
+    pub fn finish(mut self) -> Result<(), BadInput> {
+        // Readers stop at the cap: say so, or the list reads as every error there is.
+        if let Some(last) = self.errors.last().filter(|_| self.full()) {
+            let file = last.file.clone();
+            self.errors.push(BadInput::file(
+                file,
+                format!(
+                    "stopped after {} errors; there may be more: fix these and run again",
+                    Self::CAP
+                ),
+            ));
+        }
         match BadInput::combine(self.errors) {
             Some(e) => Err(e),
             None => Ok(()),
