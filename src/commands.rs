@@ -1154,8 +1154,10 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         // surprise, and nothing on the page would say it was ever recorded.
         if !review.results_left_out.is_empty() {
             out.stderr.push(format!(
-                "note: {} recorded results were left out at loading and are not shown (`basefit check` lists why; `review` exits 1 for them):\n  {}",
+                "note: {} recorded {} left out at loading and {} not shown (`basefit check` lists why; `review` exits 1 for them):\n  {}",
                 review.results_left_out.len(),
+                if review.results_left_out.len() == 1 { "result was" } else { "results were" },
+                if review.results_left_out.len() == 1 { "is" } else { "are" },
                 review.results_left_out.join("\n  ")
             ));
         }

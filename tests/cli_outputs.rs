@@ -1010,7 +1010,7 @@ fn render_shows_only_the_results_it_was_given() {
         "{stderr}"
     );
     assert!(
-        stderr.contains("1 recorded results were left out at loading and are not shown"),
+        stderr.contains("1 recorded result was left out at loading and is not shown"),
         "{stderr}"
     );
     assert!(

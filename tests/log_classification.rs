@@ -442,6 +442,10 @@ fn sample_lines_for_each_cause() {
         ),
         // source: from memory, CMake
         ("No CMAKE_CXX_COMPILER could be found.", compiler("c++")),
+        (
+            "No CMAKE_Fortran_COMPILER could be found.",
+            compiler("gfortran"),
+        ),
         // source: from memory, zsh, Go's cgo and rustc
         ("zsh: command not found: clang", compiler("clang")),
         (

@@ -448,21 +448,21 @@ impl RegistryBuilder {
         // would forge report lines, and no library or file is named so. A blank one would
         // make cells at risk for a library nobody can name.
         let unusable_name = fields.native.as_ref().and_then(|n| {
-            let named = |what: &'static str, values: &'_ [String]| {
+            // Worded as the YAML reader words an empty library name.
+            let named = |what: &'static str, expected: &str, values: &'_ [String]| {
                 values.iter().find_map(|v| {
                     let why = if v.trim().is_empty() {
-                        "is empty"
+                        format!("`{v}` is empty")
                     } else if v.chars().any(char::is_control) {
-                        "holds a control character"
+                        format!("{v:?} holds a control character")
                     } else {
                         return None;
                     };
-                    Some(format!(
-                        "native {what} name {v:?} {why}; expected a name as the system writes it"
-                    ))
+                    Some(format!("native {what} name {why}; expected {expected}"))
                 })
             };
-            named("library", &n.libraries).or_else(|| named("file", &n.files))
+            named("library", "a catalog id or a library name", &n.libraries)
+                .or_else(|| named("file", "a path as the release ships it", &n.files))
         });
         let bad_value = fields
             .bad_value
@@ -976,9 +976,9 @@ fn parse_release<'a>(
         Some(n) => {
             let nm = ctx.map(n, "native", NATIVE_FIELDS)?;
             let libraries = nm.str_list_at("libraries")?;
-            // A blank name would make cells at risk for a library nobody can name. The bulk
-            // format drops empty items between separators, but a YAML list item is written
-            // on purpose: one left empty is a mistake in the record.
+            // A blank name would make cells at risk for a library nobody can name: a list
+            // item left empty is a mistake in the record. Refused here at its own line; the
+            // builder refuses it again, at the version's line, for the bulk format.
             bad_value = libraries
                 .iter()
                 .find(|l| l.value.trim().is_empty())

@@ -765,8 +765,9 @@ fn without_version(base: &str) -> &str {
 
 /// Lowercased phrases from build systems that name no program, with the tool they stand for.
 /// C++ comes first: its phrases would otherwise read as C ones in a looser list.
-const COMPILER_PHRASES: [(&str, &str); 5] = [
+const COMPILER_PHRASES: [(&str, &str); 6] = [
     ("c++ compiler cannot create executables", "c++"),
+    ("no cmake_fortran_compiler could be found", "gfortran"),
     ("c compiler cannot create executables", "cc"),
     ("no acceptable c compiler found", "cc"),
     ("no cmake_cxx_compiler could be found", "c++"),
