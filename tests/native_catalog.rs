@@ -468,3 +468,81 @@ fn a_header_two_libraries_claim_is_refused() {
         Some("my-zlib-dev")
     );
 }
+
+/// Every `also` package of a verified Debian entry stands in for its `dev` package in the
+/// archive: it depends on it, or it ships the library's link names and pkg-config modules
+/// itself (another build of the library).
+#[test]
+fn debian_also_packages_stand_in_for_the_dev_package() {
+    // Source: Debian's package archive, Debian 12 (bookworm): `apt-cache show` and `dpkg -c`
+    // of the downloaded packages, written by tests/data/debian-archive/make-alternatives.sh.
+    let rows = std::fs::read_to_string("tests/data/debian-archive/alternatives.tsv").unwrap();
+    let rows: Vec<(&str, &str, &str)> = rows
+        .lines()
+        .skip(1)
+        .map(|l| {
+            let c: Vec<&str> = l.split('\t').collect();
+            (c[0], c[1], c[2])
+        })
+        .collect();
+    let catalog = Catalog::builtin();
+    let mut checked = 0;
+    for lib in &catalog.libraries {
+        let deb = &lib.families[&OsFamily::Debian];
+        if deb.source != FactSource::Verified {
+            continue;
+        }
+        for also in &deb.also {
+            let row = rows
+                .iter()
+                .find(|(a, d, _)| a == also && Some(*d) == deb.dev.as_deref())
+                .unwrap_or_else(|| panic!("{}: also {also} has no archive row", lib.id));
+            // A package that ships the library itself must ship every link name and module.
+            if let Some(shown) = row.2.strip_prefix("ships ") {
+                for l in &lib.link {
+                    assert!(shown.contains(&format!("link:{l}")), "{}: {also}", lib.id);
+                }
+                for m in &lib.pkg_config {
+                    assert!(
+                        shown.contains(&format!("pkgconfig:{m}")),
+                        "{}: {also}",
+                        lib.id
+                    );
+                }
+            } else {
+                assert_eq!(row.2, "depends", "{}: {also}", lib.id);
+            }
+            checked += 1;
+        }
+    }
+    assert!(checked >= 4, "only {checked}");
+}
+
+/// `also` stands in for `dev`: without a `dev`, or naming `dev` itself or a package twice, it
+/// is refused at its line.
+#[test]
+fn an_also_list_needs_a_dev_package_and_distinct_names() {
+    for (family, want) in [
+        (
+            "{runtime: libquokka1, also: [libquokka-alt-dev]}",
+            "which is not given",
+        ),
+        (
+            "{dev: libquokka-dev, also: [libquokka-dev]}",
+            "is `dev` itself",
+        ),
+        (
+            "{dev: libquokka-dev, also: [libq-dev, libq-dev]}",
+            "listed twice",
+        ),
+        ("{dev: libquokka-dev, also: [Libq-Dev]}", "Debian Policy"),
+    ] {
+        let e = refused(&format!(
+            "libraries:\n  - id: quokka-codec\n    families:\n      debian: {family}\n"
+        ));
+        assert!(
+            e.contains("site.yaml:4:") && e.contains(want),
+            "{family}: {e}"
+        );
+    }
+}

@@ -377,3 +377,39 @@ fn fortran_sources_need_a_fortran_compiler() {
     assert!(!stdout.contains("C toolchain"), "{stdout}");
     assert!(!stdout.contains("SURPRISE"), "{stdout}");
 }
+
+/// Another build of a library's development package (`libcurl4-gnutls-dev` for curl) or a
+/// name that depends on it (`libjpeg-dev`) gives a source build what it needs, so an image
+/// declaring one is not told to add the catalog's own; a prebuilt build still needs the
+/// runtime package, which the GnuTLS build does not bring (it links another shared object).
+#[test]
+fn an_alternative_dev_package_meets_a_source_build() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("fetch-src", "curl", "src/ext/fetch.c"),
+        package("thumb-src", "libjpeg", "src/ext/thumb.c"),
+        prebuilt("fetch-bin", "curl"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d",
+            "debian",
+            "    packages: [build-essential, libcurl4-gnutls-dev, libjpeg-dev]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["fetch-src", "thumb-src", "fetch-bin"],
+    );
+    for package in ["fetch-src", "thumb-src"] {
+        let (code, stdout, stderr) = run(&["explain", package, "d"], &args);
+        assert_eq!(code, 0, "{package}: {stdout}{stderr}");
+    }
+    let (code, stdout, _) = run(&["explain", "fetch-bin", "d"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("add: libcurl4"), "{stdout}");
+}

@@ -23,7 +23,7 @@ const LIBRARY_FIELDS: &[&str] = &[
     "pkg_config",
     "families",
 ];
-const FAMILY_FIELDS: &[&str] = &["dev", "runtime", "source"];
+const FAMILY_FIELDS: &[&str] = &["dev", "also", "runtime", "source"];
 
 /// Where a family's package names come from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -45,6 +45,12 @@ pub struct FamilyPackages {
     /// pango: `libpango-1.0-0`, `libpangocairo-1.0-0`, `libpangoft2-1.0-0`); a prebuilt build
     /// needs all of them. Empty when the catalog names none.
     pub runtime: Vec<String>,
+    /// Other development packages that give a source build what `dev` gives (the library's
+    /// headers and link names): builds of the library against another back end (Debian's
+    /// `libcurl4-gnutls-dev` beside `libcurl4-openssl-dev`) or a transitional name that
+    /// depends on `dev` (`libjpeg-dev`). An image declaring one has the development package;
+    /// its runtime packages it may not have (the GnuTLS build links another shared object).
+    pub also: Vec<String>,
     pub source: FactSource,
 }
 
@@ -470,6 +476,32 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                     ));
                 }
             }
+            let mut also: Vec<String> = Vec::new();
+            if let Some(node) = fm.get("also") {
+                for item in ctx.str_list_at(Some(node), "family `also`")? {
+                    check("also", &item.value, item.line)?;
+                    if dev.is_none() {
+                        return Err(BadInput::at(
+                            ctx.file,
+                            item.line,
+                            format!(
+                                "library `{id}`, family {family}: `also` names packages that stand in for `dev`, which is not given"
+                            ),
+                        ));
+                    }
+                    if also.contains(&item.value) || dev.as_ref() == Some(&item.value) {
+                        return Err(BadInput::at(
+                            ctx.file,
+                            item.line,
+                            format!(
+                                "library `{id}`, family {family}: `also` package `{}` is listed twice, or is `dev` itself",
+                                item.value
+                            ),
+                        ));
+                    }
+                    also.push(item.value);
+                }
+            }
             if dev.is_none() && runtime.is_empty() {
                 return Err(ctx.err(
                     v,
@@ -483,6 +515,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                 FamilyPackages {
                     dev,
                     runtime,
+                    also,
                     source,
                 },
             );
@@ -550,14 +583,19 @@ impl Catalog {
     /// libpango1.0-dev, libkrb5-dev, nettle-dev and libfftw3-dev depending on every one). On debian every dev/runtime pair of the shipped catalog was checked so with
     /// `apt-cache depends --recurse` on Debian 12 (66 of 68 directly; libkrb5-dev and
     /// libmariadb-dev-compat through another -dev package); on alpine (`-dev`) and rhel
-    /// (`-devel`) it is so from memory. Virtual and alternative names (`libcurl-dev`,
-    /// `postgresql-devel`) are not known here.
+    /// (`-devel`) it is so from memory. A development package is also had through one of the
+    /// library's `also` packages ([`FamilyPackages::also`]), which gives a source build the
+    /// same headers and link names; the runtime packages are not, since an alternative build
+    /// may link other shared objects. Virtual names (`libcurl-dev`) are not known here: no
+    /// image installs one by that name.
     pub fn image_has(&self, family: OsFamily, packages: &BTreeSet<String>, package: &str) -> bool {
         packages.contains(package)
             || self.libraries.iter().any(|l| {
                 l.families.get(&family).is_some_and(|f| {
-                    f.runtime.iter().any(|r| r == package)
-                        && f.dev.as_ref().is_some_and(|d| packages.contains(d))
+                    let dev_declared = f.dev.as_ref().is_some_and(|d| packages.contains(d));
+                    (f.runtime.iter().any(|r| r == package) && dev_declared)
+                        || (f.dev.as_deref() == Some(package)
+                            && f.also.iter().any(|a| packages.contains(a)))
                 })
             })
     }
