@@ -37,6 +37,7 @@ impl Output {
         Output {
             stdout: match format {
                 Format::Json => report::to_json(value),
+                Format::Yaml => report::to_yaml(value),
                 Format::Table => report::visible(&text(value)).into_owned(),
             },
             stderr: Vec::new(),
@@ -539,12 +540,14 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
             matrix.cells.len(),
             matrix.packages.len() * matrix.images.len(),
         );
+        let document = serde_json::json!({
+            "shard": { "index": s.index, "count": s.count },
+            "cells": cells,
+            "total": total,
+        });
         out.stdout = match o.format {
-            Format::Json => report::to_json(&serde_json::json!({
-                "shard": { "index": s.index, "count": s.count },
-                "cells": cells,
-                "total": total,
-            })),
+            Format::Json => report::to_json(&document),
+            Format::Yaml => report::to_yaml(&document),
             Format::Table => format!(
                 "shard {}/{}: {cells} of {total} cells planned; merge the shards with `basefit merge`\n",
                 s.index, s.count
@@ -554,10 +557,10 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     }
     let summary = plan::summarise(matrix);
     let shared = blockers::shared_blockers(matrix, o.blockers);
+    let document = || serde_json::json!({ "summary": summary, "shared_blockers": shared });
     out.stdout = match o.format {
-        Format::Json => {
-            report::to_json(&serde_json::json!({ "summary": summary, "shared_blockers": shared }))
-        }
+        Format::Json => report::to_json(&document()),
+        Format::Yaml => report::to_yaml(&document()),
         Format::Table => report::visible(&text::plan_text(&summary, &shared)).into_owned(),
     };
     data_quality_note(&inputs, &mut out);
@@ -1042,9 +1045,16 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
             out.stderr.push(format!("wrote {}", path.display()));
         }
     }
-    if o.format == Format::Json {
-        out.stdout = report::to_json(&p);
-        return Ok(out);
+    match o.format {
+        Format::Json => {
+            out.stdout = report::to_json(&p);
+            return Ok(out);
+        }
+        Format::Yaml => {
+            out.stdout = report::to_yaml(&p);
+            return Ok(out);
+        }
+        Format::Table => {}
     }
     // The system report's text already ends with the notice, so it is not repeated here.
     let mut s = String::new();

@@ -53,7 +53,7 @@ fn every_command_lists_only_the_formats_it_honours() {
         v.extend(extra);
         v
     };
-    let report = ["table", "json"];
+    let report = ["table", "json", "yaml"];
     let matrix = ["markdown", "html", "csv", "json", "yaml"];
     let cases: Vec<(Vec<&str>, Vec<&str>, &[&str])> = vec![
         (
@@ -104,6 +104,17 @@ fn every_command_lists_only_the_formats_it_honours() {
                 );
             }
             seen.push((format.clone(), stdout));
+        }
+        // YAML is the JSON document's content, value for value.
+        let document = |format: &str| -> Option<serde_json::Value> {
+            let text = &seen.iter().find(|(f, _)| f == format)?.1;
+            Some(match format {
+                "json" => serde_json::from_str(text).unwrap(),
+                _ => serde_yaml::from_str(text).unwrap(),
+            })
+        };
+        if let (Some(json), Some(yaml)) = (document("json"), document("yaml")) {
+            assert_eq!(json, yaml, "{command:?}: YAML and JSON disagree");
         }
         // The formats a command used to accept and ignore are refused.
         for format in ["table", "yaml", "csv", "markdown", "html"] {

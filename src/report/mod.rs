@@ -24,6 +24,8 @@ pub enum Format {
     /// A readable table.
     Table,
     Json,
+    /// The JSON document's content as YAML (every string quoted: see [`to_yaml`]).
+    Yaml,
 }
 
 /// What `render` prints to stdout: the matrix in one of the formats it writes with `--out`.
