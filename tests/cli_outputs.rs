@@ -1099,3 +1099,27 @@ fn line_breaks_in_values_cannot_forge_report_lines() {
     assert!(!out.contains("\n  d.csv:9"), "{out}");
     assert!(out.contains("`^2,\\n  d.csv:9  forged`"), "{out}");
 }
+
+/// A failing entry with a requirement shows it as written: "no release the entry may take"
+/// alone does not say what was asked for.
+#[test]
+fn a_failing_entry_shows_its_requirement_as_written() {
+    let dir = tempfile::tempdir().unwrap();
+    let inputs = common::demo_replacing(
+        dir.path(),
+        "--priorities",
+        "priorities:\n  - {name: gumleaf, req: \">=5\"}\n  - {name: saltbush, req: \"^1.2\"}\n",
+    );
+    let args: Vec<&str> = inputs.iter().map(String::as_str).collect();
+    let (code, out, _) = run(&["explain", "gumleaf", "deb-2.4"], &args);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("the entry asks for gumleaf >=5 (no release the entry may take)"),
+        "{out}"
+    );
+    let (_, out, _) = run(&["explain", "saltbush", "deb-2.4"], &args);
+    assert!(
+        out.contains("the entry asks for saltbush ^1.2 (1.2.3)"),
+        "{out}"
+    );
+}

@@ -503,7 +503,23 @@ pub fn plan_cell(
         prerelease: entry.prerelease,
     };
     let solved = solve::solve_cell(view, &spec, options.budget);
-    cell_from_solve(inputs, view, entry, solved, options)
+    let mut cell = cell_from_solve(inputs, view, entry, solved, options);
+    // The solver knows the entry's requirement only as the releases it admits; a reader
+    // looking at "no release the entry may take" needs the requirement as written.
+    if let Some(req) = entry.req.as_ref().map(|r| r.text.trim())
+        && !req.is_empty()
+        && req != "*"
+    {
+        let asks = format!("the entry asks for {} (", entry.name);
+        if let Some(line) = cell.explanation.iter_mut().find(|l| l.starts_with(&asks)) {
+            *line = format!(
+                "the entry asks for {} {req} ({}",
+                entry.name,
+                &line[asks.len()..]
+            );
+        }
+    }
+    cell
 }
 
 /// Like [`plan_cell`] with the root pinned to exactly the release at `index` of `root`
