@@ -896,15 +896,18 @@ pub fn to_priority_yaml_leaving_out(
     let used: Vec<&SourceList> = lists.iter().filter(|l| !l.is_empty()).collect();
     let mut skipped: Vec<String> = left_out
         .iter()
-        .map(|(file, why)| format!("{} ({why})", yaml_quote(file)))
+        .map(|(file, why)| format!("{} ({why})", crate::report::yaml_string(file)))
         .collect();
     skipped.extend(
         lists
             .iter()
             .filter(|l| l.is_empty() && !left_out.iter().any(|(f, _)| *f == l.file))
-            .map(|l| format!("{} (no row)", yaml_quote(&l.file))),
+            .map(|l| format!("{} (no row)", crate::report::yaml_string(&l.file))),
     );
-    let sources: Vec<String> = used.iter().map(|l| yaml_quote(&l.file)).collect();
+    let sources: Vec<String> = used
+        .iter()
+        .map(|l| crate::report::yaml_string(&l.file))
+        .collect();
     // `write!` into a String cannot fail; the results are ignored for that reason.
     let _ = writeln!(
         out,
@@ -913,7 +916,7 @@ pub fn to_priority_yaml_leaving_out(
         sources.join(", ")
     );
     if !skipped.is_empty() {
-        // A comment line ends at a line break; yaml_quote escapes any in a file name.
+        // A comment line ends at a line break; yaml_string escapes any in a file name.
         let _ = writeln!(
             out,
             "# left out of the fusion, {} source list(s) with no row: {}",
@@ -936,50 +939,11 @@ pub fn to_priority_yaml_leaving_out(
         let _ = writeln!(
             out,
             "  - name: {}\n    weight: {:?}",
-            yaml_quote(&f.name),
+            crate::report::yaml_string(&f.name),
             w
         );
     }
     out
-}
-
-/// `s` as a YAML double-quoted scalar. Besides `"` and `\`, escapes every character outside
-/// YAML's printable set and the ones a YAML reader treats as line breaks (NEL, U+2028,
-/// U+2029), which would otherwise be folded into spaces; tab is escaped too, for legibility.
-pub fn yaml_quote(s: &str) -> String {
-    let mut out = String::with_capacity(s.len() + 2);
-    out.push('"');
-    for c in s.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
-            '\r' => out.push_str("\\r"),
-            '\t' => out.push_str("\\t"),
-            '\0' => out.push_str("\\0"),
-            '\u{85}' => out.push_str("\\N"),
-            '\u{2028}' => out.push_str("\\L"),
-            '\u{2029}' => out.push_str("\\P"),
-            c if yaml_printable(c) => out.push(c),
-            c if (c as u32) < 0x100 => {
-                let _ = write!(out, "\\x{:02X}", c as u32);
-            }
-            c if (c as u32) < 0x10000 => {
-                let _ = write!(out, "\\u{:04X}", c as u32);
-            }
-            c => {
-                let _ = write!(out, "\\U{:08X}", c as u32);
-            }
-        }
-    }
-    out.push('"');
-    out
-}
-
-/// YAML 1.2's `c-printable`, minus the byte-order mark, which a reader may drop.
-fn yaml_printable(c: char) -> bool {
-    matches!(c as u32,
-        0x20..=0x7E | 0xA0..=0xD7FF | 0xE000..=0xFEFE | 0xFF00..=0xFFFD | 0x10000..=0x10FFFF)
 }
 
 #[cfg(test)]

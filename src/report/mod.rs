@@ -450,6 +450,20 @@ fn plain_key(s: &str) -> bool {
 /// else takes a `\u` escape (§5.7), as do U+0085, U+2028 and U+2029, which YAML 1.1 takes for
 /// line breaks and would fold, and U+FEFF, a byte order mark to some readers. Tab, line feed
 /// and carriage return take their short escapes so the scalar stays on one line.
+/// `s` as a YAML double-quoted scalar that YAML 1.1 and 1.2 readers read back as written
+/// (see [`yaml_quoted`]), for YAML that basefit writes line by line.
+///
+/// ```
+/// use basefit::report::yaml_string;
+/// assert_eq!(yaml_string("no"), "\"no\"");
+/// assert_eq!(yaml_string("a\u{2028}b"), "\"a\\u2028b\"");
+/// ```
+pub fn yaml_string(s: &str) -> String {
+    let mut out = String::new();
+    yaml_quoted(&mut out, s);
+    out
+}
+
 fn yaml_quoted(out: &mut String, s: &str) {
     out.reserve(s.len() + 2);
     out.push('"');
