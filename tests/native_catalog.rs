@@ -469,11 +469,11 @@ fn a_header_two_libraries_claim_is_refused() {
     );
 }
 
-/// Every `also` package of a verified Debian entry stands in for its `dev` package in the
-/// archive: it depends on it, or it ships the library's link names and pkg-config modules
-/// itself (another build of the library).
+/// Every package a verified Debian entry lists as standing in for its `dev` package does so
+/// in the archive: one that pulls it in depends on it outright, and another build of it ships
+/// every header, link name and pkg-config module the catalog lists for the library.
 #[test]
-fn debian_also_packages_stand_in_for_the_dev_package() {
+fn debian_stand_ins_for_the_dev_package_agree_with_the_archive() {
     // Source: Debian's package archive, Debian 12 (bookworm): `apt-cache show` and `dpkg -c`
     // of the downloaded packages, written by tests/data/debian-archive/make-alternatives.sh.
     let rows = std::fs::read_to_string("tests/data/debian-archive/alternatives.tsv").unwrap();
@@ -492,25 +492,30 @@ fn debian_also_packages_stand_in_for_the_dev_package() {
         if deb.source != FactSource::Verified {
             continue;
         }
-        for also in &deb.also {
-            let row = rows
-                .iter()
-                .find(|(a, d, _)| a == also && Some(*d) == deb.dev.as_deref())
-                .unwrap_or_else(|| panic!("{}: also {also} has no archive row", lib.id));
-            // A package that ships the library itself must ship every link name and module.
-            if let Some(shown) = row.2.strip_prefix("ships ") {
-                for l in &lib.link {
-                    assert!(shown.contains(&format!("link:{l}")), "{}: {also}", lib.id);
-                }
-                for m in &lib.pkg_config {
-                    assert!(
-                        shown.contains(&format!("pkgconfig:{m}")),
-                        "{}: {also}",
-                        lib.id
-                    );
-                }
-            } else {
-                assert_eq!(row.2, "depends", "{}: {also}", lib.id);
+        let evidence = |package: &str| {
+            rows.iter()
+                .find(|(p, d, _)| *p == package && Some(*d) == deb.dev.as_deref())
+                .map(|r| r.2)
+                .unwrap_or_else(|| panic!("{}: {package} has no archive row", lib.id))
+        };
+        for package in &deb.pulled_in_by {
+            assert_eq!(evidence(package), "depends", "{}: {package}", lib.id);
+            checked += 1;
+        }
+        for package in &deb.alternatives {
+            let shown = evidence(package)
+                .strip_prefix("ships ")
+                .unwrap_or_else(|| panic!("{}: {package} ships nothing", lib.id));
+            let shown: Vec<&str> = shown.split(' ').collect();
+            let wanted = (lib.headers.iter().map(|h| format!("header:{h}")))
+                .chain(lib.link.iter().map(|l| format!("link:{l}")))
+                .chain(lib.pkg_config.iter().map(|m| format!("pkgconfig:{m}")));
+            for w in wanted {
+                assert!(
+                    shown.contains(&w.as_str()),
+                    "{}: {package} lacks {w}",
+                    lib.id
+                );
             }
             checked += 1;
         }
@@ -518,24 +523,31 @@ fn debian_also_packages_stand_in_for_the_dev_package() {
     assert!(checked >= 4, "only {checked}");
 }
 
-/// `also` stands in for `dev`: without a `dev`, or naming `dev` itself or a package twice, it
-/// is refused at its line.
+/// `alternatives` and `pulled_in_by` stand in for `dev`: without a `dev`, or naming `dev`
+/// itself or a package twice (in either list), they are refused at the line.
 #[test]
-fn an_also_list_needs_a_dev_package_and_distinct_names() {
+fn stand_ins_need_a_dev_package_and_distinct_names() {
     for (family, want) in [
         (
-            "{runtime: libquokka1, also: [libquokka-alt-dev]}",
+            "{runtime: libquokka1, alternatives: [libquokka-alt-dev]}",
             "which is not given",
         ),
         (
-            "{dev: libquokka-dev, also: [libquokka-dev]}",
+            "{dev: libquokka-dev, pulled_in_by: [libquokka-dev]}",
             "is `dev` itself",
         ),
         (
-            "{dev: libquokka-dev, also: [libq-dev, libq-dev]}",
+            "{dev: libquokka-dev, alternatives: [libq-dev, libq-dev]}",
             "listed twice",
         ),
-        ("{dev: libquokka-dev, also: [Libq-Dev]}", "Debian Policy"),
+        (
+            "{dev: libquokka-dev, alternatives: [libq-dev], pulled_in_by: [libq-dev]}",
+            "listed twice",
+        ),
+        (
+            "{dev: libquokka-dev, alternatives: [Libq-Dev]}",
+            "Debian Policy",
+        ),
     ] {
         let e = refused(&format!(
             "libraries:\n  - id: quokka-codec\n    families:\n      debian: {family}\n"

@@ -378,18 +378,21 @@ fn fortran_sources_need_a_fortran_compiler() {
     assert!(!stdout.contains("SURPRISE"), "{stdout}");
 }
 
-/// Another build of a library's development package (`libcurl4-gnutls-dev` for curl) or a
-/// name that depends on it (`libjpeg-dev`) gives a source build what it needs, so an image
-/// declaring one is not told to add the catalog's own; a prebuilt build still needs the
-/// runtime package, which the GnuTLS build does not bring (it links another shared object).
+/// Another build of a library's development package (`libcurl4-gnutls-dev` for curl) gives a
+/// source build what it needs, but not the runtime package a prebuilt build links (it links
+/// another shared object); a package that pulls the development package in (`libjpeg-dev`,
+/// which depends on `libjpeg62-turbo-dev`) brings both. `review` of a log missing curl's
+/// header on the GnuTLS image does not advise adding the OpenSSL build, which conflicts with
+/// it, but says what the image declares.
 #[test]
-fn an_alternative_dev_package_meets_a_source_build() {
+fn packages_standing_in_for_a_dev_package_meet_what_they_bring() {
     let dir = tempfile::tempdir().unwrap();
     let registry = format!(
-        "packages:\n{}{}{}",
+        "packages:\n{}{}{}{}",
         package("fetch-src", "curl", "src/ext/fetch.c"),
         package("thumb-src", "libjpeg", "src/ext/thumb.c"),
         prebuilt("fetch-bin", "curl"),
+        prebuilt("thumb-bin", "libjpeg"),
     );
     let images = format!(
         "images:\n{}",
@@ -399,17 +402,36 @@ fn an_alternative_dev_package_meets_a_source_build() {
             "    packages: [build-essential, libcurl4-gnutls-dev, libjpeg-dev]\n"
         ),
     );
-    let args = inputs(
+    let mut args = inputs(
         dir.path(),
         &registry,
         &images,
-        &["fetch-src", "thumb-src", "fetch-bin"],
+        &["fetch-src", "thumb-src", "fetch-bin", "thumb-bin"],
     );
-    for package in ["fetch-src", "thumb-src"] {
+    for package in ["fetch-src", "thumb-src", "thumb-bin"] {
         let (code, stdout, stderr) = run(&["explain", package, "d"], &args);
         assert_eq!(code, 0, "{package}: {stdout}{stderr}");
     }
     let (code, stdout, _) = run(&["explain", "fetch-bin", "d"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("add: libcurl4"), "{stdout}");
+
+    // gcc's words for a missing header (the form the log tests take from real gcc).
+    let results = "results:\n  - package: fetch-src\n    image: d\n    outcome: failed\n    log: \"src/ext/fetch.c:1:10: fatal error: curl/curl.h: No such file or directory\"\n";
+    args.extend([
+        "--results".to_string(),
+        write(dir.path(), "results.yaml", results)
+            .to_str()
+            .unwrap()
+            .to_string(),
+    ]);
+    let (_, stdout, stderr) = run(&["review"], &args);
+    assert!(
+        !stdout.contains("add libcurl4-openssl-dev"),
+        "{stdout}{stderr}"
+    );
+    assert!(
+        stdout.contains("d declares libcurl4-gnutls-dev (for libcurl4-openssl-dev)"),
+        "{stdout}{stderr}"
+    );
 }

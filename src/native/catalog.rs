@@ -23,7 +23,7 @@ const LIBRARY_FIELDS: &[&str] = &[
     "pkg_config",
     "families",
 ];
-const FAMILY_FIELDS: &[&str] = &["dev", "also", "runtime", "source"];
+const FAMILY_FIELDS: &[&str] = &["dev", "alternatives", "pulled_in_by", "runtime", "source"];
 
 /// Where a family's package names come from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -45,12 +45,14 @@ pub struct FamilyPackages {
     /// pango: `libpango-1.0-0`, `libpangocairo-1.0-0`, `libpangoft2-1.0-0`); a prebuilt build
     /// needs all of them. Empty when the catalog names none.
     pub runtime: Vec<String>,
-    /// Other development packages that give a source build what `dev` gives (the library's
-    /// headers and link names): builds of the library against another back end (Debian's
-    /// `libcurl4-gnutls-dev` beside `libcurl4-openssl-dev`) or a transitional name that
-    /// depends on `dev` (`libjpeg-dev`). An image declaring one has the development package;
-    /// its runtime packages it may not have (the GnuTLS build links another shared object).
-    pub also: Vec<String>,
+    /// Other builds of the library's development package (Debian's `libcurl4-gnutls-dev`
+    /// beside `libcurl4-openssl-dev`): they give a source build the same headers and link
+    /// names, so an image declaring one has what `dev` gives a source build, but not the
+    /// runtime packages, since they link other shared objects.
+    pub alternatives: Vec<String>,
+    /// Packages that depend on `dev` (a transitional or default name such as `libjpeg-dev`):
+    /// an image declaring one has `dev`, and through it the runtime packages.
+    pub pulled_in_by: Vec<String>,
     pub source: FactSource,
 }
 
@@ -476,32 +478,36 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                     ));
                 }
             }
-            let mut also: Vec<String> = Vec::new();
-            if let Some(node) = fm.get("also") {
-                for item in ctx.str_list_at(Some(node), "family `also`")? {
-                    check("also", &item.value, item.line)?;
-                    if dev.is_none() {
-                        return Err(BadInput::at(
-                            ctx.file,
-                            item.line,
-                            format!(
-                                "library `{id}`, family {family}: `also` names packages that stand in for `dev`, which is not given"
-                            ),
-                        ));
-                    }
-                    if also.contains(&item.value) || dev.as_ref() == Some(&item.value) {
-                        return Err(BadInput::at(
-                            ctx.file,
-                            item.line,
-                            format!(
-                                "library `{id}`, family {family}: `also` package `{}` is listed twice, or is `dev` itself",
+            // Packages that stand in for `dev`, two ways (see `FamilyPackages`); a name is
+            // refused when it repeats `dev` or one listed before, in either list.
+            let mut stand_ins: Vec<Vec<String>> = Vec::new();
+            for key in ["alternatives", "pulled_in_by"] {
+                let mut names: Vec<String> = Vec::new();
+                if let Some(node) = fm.get(key) {
+                    for item in ctx.str_list_at(Some(node), &format!("family `{key}`"))? {
+                        check(key, &item.value, item.line)?;
+                        let at = |message: String| BadInput::at(ctx.file, item.line, message);
+                        if dev.is_none() {
+                            return Err(at(format!(
+                                "library `{id}`, family {family}: `{key}` names packages that stand in for `dev`, which is not given"
+                            )));
+                        }
+                        let seen = names.contains(&item.value)
+                            || stand_ins.iter().flatten().any(|n| *n == item.value)
+                            || dev.as_ref() == Some(&item.value);
+                        if seen {
+                            return Err(at(format!(
+                                "library `{id}`, family {family}: `{key}` package `{}` is listed twice, or is `dev` itself",
                                 item.value
-                            ),
-                        ));
+                            )));
+                        }
+                        names.push(item.value);
                     }
-                    also.push(item.value);
                 }
+                stand_ins.push(names);
             }
+            let pulled_in_by = stand_ins.pop().unwrap_or_default();
+            let alternatives = stand_ins.pop().unwrap_or_default();
             if dev.is_none() && runtime.is_empty() {
                 return Err(ctx.err(
                     v,
@@ -515,7 +521,8 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                 FamilyPackages {
                     dev,
                     runtime,
-                    also,
+                    alternatives,
+                    pulled_in_by,
                     source,
                 },
             );
@@ -583,20 +590,40 @@ impl Catalog {
     /// libpango1.0-dev, libkrb5-dev, nettle-dev and libfftw3-dev depending on every one). On debian every dev/runtime pair of the shipped catalog was checked so with
     /// `apt-cache depends --recurse` on Debian 12 (66 of 68 directly; libkrb5-dev and
     /// libmariadb-dev-compat through another -dev package); on alpine (`-dev`) and rhel
-    /// (`-devel`) it is so from memory. A development package is also had through one of the
-    /// library's `also` packages ([`FamilyPackages::also`]), which gives a source build the
-    /// same headers and link names; the runtime packages are not, since an alternative build
-    /// may link other shared objects. Virtual names (`libcurl-dev`) are not known here: no
-    /// image installs one by that name.
+    /// (`-devel`) it is so from memory. A package that depends on the development package
+    /// ([`FamilyPackages::pulled_in_by`]) brings it and its runtime packages; another build of
+    /// it ([`FamilyPackages::alternatives`]) gives a source build what it gives, but not the
+    /// runtime packages, since it links other shared objects. Virtual names (`libcurl-dev`)
+    /// are not known here: no image installs one by that name.
     pub fn image_has(&self, family: OsFamily, packages: &BTreeSet<String>, package: &str) -> bool {
-        packages.contains(package)
-            || self.libraries.iter().any(|l| {
-                l.families.get(&family).is_some_and(|f| {
-                    let dev_declared = f.dev.as_ref().is_some_and(|d| packages.contains(d));
-                    (f.runtime.iter().any(|r| r == package) && dev_declared)
-                        || (f.dev.as_deref() == Some(package)
-                            && f.also.iter().any(|a| packages.contains(a)))
-                })
-            })
+        packages.contains(package) || self.stand_in(family, packages, package).is_some()
+    }
+
+    /// The package an image of `family` declaring `packages` has `package` through, when it
+    /// does not declare it itself (see [`Catalog::image_has`]).
+    pub fn stand_in<'p>(
+        &self,
+        family: OsFamily,
+        packages: &'p BTreeSet<String>,
+        package: &str,
+    ) -> Option<&'p str> {
+        fn declared<'a, 'p>(
+            packages: &'p BTreeSet<String>,
+            mut names: impl Iterator<Item = &'a String>,
+        ) -> Option<&'p str> {
+            names.find_map(|n| packages.get(n).map(String::as_str))
+        }
+        self.libraries.iter().find_map(|l| {
+            let f = l.families.get(&family)?;
+            let dev = f.dev.as_ref()?;
+            if dev == package {
+                declared(packages, f.pulled_in_by.iter().chain(&f.alternatives))
+            } else if f.runtime.iter().any(|r| r == package) {
+                // The development package, declared or pulled in, brings the runtime ones.
+                declared(packages, std::iter::once(dev).chain(&f.pulled_in_by))
+            } else {
+                None
+            }
+        })
     }
 }

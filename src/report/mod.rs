@@ -24,7 +24,7 @@ pub enum Format {
     /// A readable table.
     Table,
     Json,
-    /// The JSON document's content as YAML (every string quoted: see [`to_yaml`]).
+    /// The JSON document's content as YAML, every string quoted.
     Yaml,
 }
 

@@ -259,9 +259,16 @@ fn suggest(
         };
         // Advice to add what the image already declares would send the reader in a
         // circle: then the declaration is what is wrong, or the build looks elsewhere.
-        if image.system_packages.contains(&dev) {
+        // So would advice to add a package the image has through another one it declares
+        // (another build of it, which may even conflict with it).
+        let declared = match catalog.stand_in(image.family, &image.system_packages, &dev) {
+            _ if image.system_packages.contains(&dev) => Some(dev.clone()),
+            Some(other) => Some(format!("{other} (for {dev})")),
+            None => None,
+        };
+        if let Some(declared) = declared {
             return Some(format!(
-                "{hint}{image_id} declares {dev}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
+                "{hint}{image_id} declares {declared}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
             ));
         }
         Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
