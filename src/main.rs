@@ -119,7 +119,8 @@ struct SolveArgs {
     #[arg(long, default_value_t = basefit::solve::DEFAULT_BUDGET,
           value_parser = clap::value_parser!(u64).range(1..))]
     budget: u64,
-    /// Skip the native-library step (predictions from version solving only).
+    /// Skip the native-library step (predictions from version solving only; syslibs, which
+    /// reports that step, refuses it).
     #[arg(long)]
     no_native: bool,
     /// Worker threads (default: all cores). Output is identical at any count.

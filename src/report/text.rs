@@ -159,11 +159,16 @@ pub fn check_text(ledger: &Ledger) -> String {
         });
         return out;
     }
+    let (problems, categories) = (ledger.problems.len(), groups.len());
     let _ = writeln!(
         out,
-        "\n{} problems in {} categories",
-        ledger.problems.len(),
-        groups.len()
+        "\n{problems} {} in {categories} {}",
+        if problems == 1 { "problem" } else { "problems" },
+        if categories == 1 {
+            "category"
+        } else {
+            "categories"
+        }
     );
     for (kind, items) in groups {
         let _ = writeln!(out, "\n{} ({}): {}", kind.label(), kebab(kind), items.len());
