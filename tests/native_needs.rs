@@ -27,6 +27,13 @@ fn inputs(dir: &Path, registry: &str, images: &str, priorities: &[&str]) -> Vec<
         .collect()
 }
 
+/// `args` with a results file holding `yaml` written into `dir`.
+fn with_results(dir: &Path, mut args: Vec<String>, yaml: &str) -> Vec<String> {
+    let path = write(dir, "results.yaml", yaml);
+    args.extend(["--results".to_string(), path.to_str().unwrap().to_string()]);
+    args
+}
+
 /// Runs `command` quietly on `args`; returns (exit code, stdout, stderr).
 fn run(command: &[&str], args: &[String]) -> (i32, String, String) {
     let mut all: Vec<String> = command.iter().map(|c| c.to_string()).collect();
@@ -323,7 +330,7 @@ fn fortran_sources_need_a_fortran_compiler() {
         ),
         image("el", "rhel", "    packages: [gcc, gcc-c++, make]\n"),
     );
-    let mut args = inputs(
+    let args = inputs(
         dir.path(),
         &registry,
         &images,
@@ -365,13 +372,7 @@ fn fortran_sources_need_a_fortran_compiler() {
         "results:\n  - package: lattice-solve\n    image: d\n    outcome: failed\n    log: {:?}\n",
         shell
     );
-    args.extend([
-        "--results".to_string(),
-        write(dir.path(), "results.yaml", results)
-            .to_str()
-            .unwrap()
-            .to_string(),
-    ]);
+    let args = with_results(dir.path(), args, &results);
     let (_, stdout, stderr) = run(&["review"], &args);
     assert!(stdout.contains("add gfortran to d"), "{stdout}{stderr}");
     assert!(!stdout.contains("C toolchain"), "{stdout}");
@@ -402,7 +403,7 @@ fn packages_standing_in_for_a_dev_package_meet_what_they_bring() {
             "    packages: [build-essential, libcurl4-gnutls-dev, libjpeg-dev]\n"
         ),
     );
-    let mut args = inputs(
+    let args = inputs(
         dir.path(),
         &registry,
         &images,
@@ -418,13 +419,7 @@ fn packages_standing_in_for_a_dev_package_meet_what_they_bring() {
 
     // gcc's words for a missing header (the form the log tests take from real gcc).
     let results = "results:\n  - package: fetch-src\n    image: d\n    outcome: failed\n    log: \"src/ext/fetch.c:1:10: fatal error: curl/curl.h: No such file or directory\"\n";
-    args.extend([
-        "--results".to_string(),
-        write(dir.path(), "results.yaml", results)
-            .to_str()
-            .unwrap()
-            .to_string(),
-    ]);
+    let args = with_results(dir.path(), args, results);
     let (_, stdout, stderr) = run(&["review"], &args);
     assert!(
         !stdout.contains("add libcurl4-openssl-dev"),

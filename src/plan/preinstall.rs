@@ -522,29 +522,26 @@ pub fn preinstall_text(p: &Preinstall) -> String {
             by.join(", ")
         )
     };
-    if !p.system_needs.is_empty() {
-        let needs: Vec<String> = p
-            .system_needs
-            .iter()
-            .map(|n| listed(&n.package, n.confidence, &n.needed_by))
-            .collect();
-        let _ = writeln!(
-            s,
-            "the manifest needs system packages the image lacks: {}",
-            needs.join("; ")
-        );
-    }
-    if !p.unmapped_libraries.is_empty() {
-        let needs: Vec<String> = p
-            .unmapped_libraries
-            .iter()
-            .map(|n| listed(&n.library, n.confidence, &n.needed_by))
-            .collect();
-        let _ = writeln!(
-            s,
-            "the manifest needs libraries the catalog names no package for (check the image by hand, or give them with --catalog): {}",
-            needs.join("; ")
-        );
+    let closing = [
+        (
+            "the manifest needs system packages the image lacks",
+            p.system_needs
+                .iter()
+                .map(|n| listed(&n.package, n.confidence, &n.needed_by))
+                .collect::<Vec<_>>(),
+        ),
+        (
+            "the manifest needs libraries the catalog names no package for (check the image by hand, or give them with --catalog)",
+            p.unmapped_libraries
+                .iter()
+                .map(|n| listed(&n.library, n.confidence, &n.needed_by))
+                .collect(),
+        ),
+    ];
+    for (what, needs) in closing {
+        if !needs.is_empty() {
+            let _ = writeln!(s, "{what}: {}", needs.join("; "));
+        }
     }
     s
 }
