@@ -454,10 +454,7 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
   - {version: 1.0.0, depends: [{name: brace, req: '<3'}]}
 ";
     let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
-    let mut inp = inputs(registry, images, "priorities:\n- xylem\n- yarrow\n");
-    inp.catalog = basefit::native::Catalog::builtin();
-    let image = &inp.images.images[0];
-    let p = preinstall(&inp, image, &PlanOptions::default(), &SetCache::default());
+    let p = native_preinstall(registry, images, "priorities:\n- xylem\n- yarrow\n");
     let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
     assert_eq!(kept, ["xylem", "yarrow"]);
     let brace = p.manifest.iter().find(|m| m.name == "brace").unwrap();
@@ -503,7 +500,16 @@ const JOINT_NATIVE_REGISTRY: &str = r#"packages:
 const JOINT_NATIVE_IMAGE: &str = "images:\n- {id: i, runtime: 1.0.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential]}\n";
 
 fn joint_native_preinstall(priorities: &str) -> basefit::plan::preinstall::Preinstall {
-    let mut inp = inputs(JOINT_NATIVE_REGISTRY, JOINT_NATIVE_IMAGE, priorities);
+    native_preinstall(JOINT_NATIVE_REGISTRY, JOINT_NATIVE_IMAGE, priorities)
+}
+
+/// The pre-install set of the first image, with the shipped catalog's native checks.
+fn native_preinstall(
+    registry: &str,
+    images: &str,
+    priorities: &str,
+) -> basefit::plan::preinstall::Preinstall {
+    let mut inp = inputs(registry, images, priorities);
     inp.catalog = basefit::native::Catalog::builtin();
     preinstall(
         &inp,
@@ -799,14 +805,7 @@ fn a_joint_failure_below_the_entry_names_the_release_that_fails() {
   - {name: kept, versions: [{version: 1.0.0, depends: [{name: y, req: '^1'}]}]}
   - {name: cand, versions: [{version: 1.0.0, depends: [{name: lib, req: '*'}, {name: y, req: '*'}]}]}
 ";
-    let mut inp = inputs(registry, JOINT_NATIVE_IMAGE, "priorities: [kept, cand]\n");
-    inp.catalog = basefit::native::Catalog::builtin();
-    let p = preinstall(
-        &inp,
-        &inp.images.images[0],
-        &PlanOptions::default(),
-        &SetCache::default(),
-    );
+    let p = native_preinstall(registry, JOINT_NATIVE_IMAGE, "priorities: [kept, cand]\n");
     assert_eq!(p.left_out.len(), 1, "{:?}", p.left_out);
     assert_eq!(
         p.left_out[0].reason,
@@ -941,14 +940,7 @@ fn a_manifest_needing_an_unmapped_library_says_so() {
   - {version: 1.0.0}
 ";
     let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
-    let mut inp = inputs(registry, images, "priorities:\n- frobby\n- tidy\n");
-    inp.catalog = basefit::native::Catalog::builtin();
-    let p = preinstall(
-        &inp,
-        &inp.images.images[0],
-        &PlanOptions::default(),
-        &SetCache::default(),
-    );
+    let p = native_preinstall(registry, images, "priorities:\n- frobby\n- tidy\n");
     let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
     assert_eq!(kept, ["frobby", "tidy"]);
     assert!(p.system_needs.is_empty());

@@ -1,6 +1,8 @@
 //! The shipped system-library catalog against Debian's package archive, and user catalog
 //! files.
 
+mod common;
+
 use basefit::model::OsFamily;
 use basefit::native::Catalog;
 use basefit::native::catalog::FactSource;
@@ -137,11 +139,7 @@ fn debian_runtime_lists_cover_every_link_name() {
 #[test]
 fn a_prebuilt_build_needs_every_runtime_package_of_its_library() {
     let dir = tempfile::tempdir().unwrap();
-    let write = |name: &str, text: &str| {
-        let path = dir.path().join(name);
-        std::fs::write(&path, text).unwrap();
-        path
-    };
+    let write = |name: &str, text: &str| common::write(dir.path(), name, text);
     let registry = write(
         "r.yaml",
         "packages:\n  - name: d\n    versions:\n      - {version: 1.0.0, builds: {source: false, prebuilt: [linux/glibc/x86_64]}, native: {libraries: [pangocairo]}}\n",
@@ -382,11 +380,7 @@ fn empty_and_numeric_aliases_and_empty_lookup_keys_are_refused() {
 #[test]
 fn a_source_build_needs_the_development_package_the_catalog_names() {
     let dir = tempfile::tempdir().unwrap();
-    let write = |name: &str, text: &str| {
-        let path = dir.path().join(name);
-        std::fs::write(&path, text).unwrap();
-        path
-    };
+    let write = |name: &str, text: &str| common::write(dir.path(), name, text);
     let registry = write(
         "r.yaml",
         "packages:\n  - name: d\n    versions:\n      - {version: 1.0.0, native: {libraries: [quokka-codec]}}\n",
