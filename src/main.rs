@@ -375,7 +375,7 @@ struct FuseArgs {
     #[arg(long, value_enum, default_value = "reciprocal")]
     method: FuseMethod,
     /// The reciprocal rank fusion constant.
-    #[arg(long, default_value_t = 60.0)]
+    #[arg(long, default_value_t = 60.0, allow_negative_numbers = true)]
     k: f64,
     #[arg(long, value_enum, default_value = "worst-plus-one")]
     missing: FuseMissing,

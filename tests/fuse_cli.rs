@@ -293,3 +293,14 @@ fn out_may_name_neither_a_source_nor_a_csv_file() {
     assert_eq!(code, 0, "{stderr}");
     assert!(fused.exists());
 }
+
+#[test]
+fn a_negative_k_is_read_as_a_value_and_refused_by_its_rule() {
+    // Written `--k -1`, the value once read as an unknown flag; it is now the constant, which
+    // must be at least 0.
+    let stderr = fuse_refused(&["--source", "demo-data/sources/usage.csv", "--k", "-1"]);
+    assert!(
+        stderr.contains("constant k must be a finite number of at least 0, not -1"),
+        "{stderr}"
+    );
+}

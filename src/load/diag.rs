@@ -668,6 +668,13 @@ impl Ledger {
         self.tallies.entry(kind).or_default().used += 1;
     }
 
+    /// Takes back one record counted as used, for a reader that learns later that a record it
+    /// kept is superseded (and then leaves it out with its problem).
+    pub fn unuse(&mut self, kind: RecordKind) {
+        let tally = self.tallies.entry(kind).or_default();
+        tally.used = tally.used.saturating_sub(1);
+    }
+
     /// Counts `count` records read at once; bulk readers count millions of dependency rows,
     /// and one call per batch keeps the ledger off the hot path.
     pub fn read_many(&mut self, kind: RecordKind, count: u64) {

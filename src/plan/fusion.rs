@@ -295,8 +295,8 @@ pub fn read_source_csv(path: &Path, ledger: &mut Ledger) -> Result<SourceList, B
 ///   highest first.
 ///
 /// Every row is counted in `ledger` as a [`RecordKind::SourceEntry`], either used or left
-/// out with a problem: an empty name, a number that cannot be read or is negative, a repeated
-/// name in a ranking, an unreadable or missing date when a window is given
+/// out with a problem: an empty name, a number that cannot be read or is negative, the
+/// worse-ranked row of a name a ranking gives twice (the later one on a tie), an unreadable or missing date when a window is given
 /// ([`ProblemKind::BadValue`]), a date outside the window ([`ProblemKind::OutsideWindow`]).
 /// Without a window an unreadable date is only noted ([`ProblemKind::UnreadableDate`]), since
 /// the date is not needed. The ledger is only written when the whole file could be read, so a
@@ -384,7 +384,8 @@ fn read_table(
     let mut local = Ledger::default();
     let mut rows_read = 0usize;
     let mut ranked_rows: Vec<(String, f64, Option<f64>)> = Vec::new();
-    let mut first_line: HashMap<String, usize> = HashMap::new();
+    // Each ranked name's kept row: its line and its place in `ranked_rows`.
+    let mut kept_at: HashMap<String, (usize, usize)> = HashMap::new();
     let mut sums: BTreeMap<String, f64> = BTreeMap::new();
     // A ranking may leave scores out; share-sum then needs to say where.
     let mut unscored = match (ranked, cols.score) {
@@ -407,14 +408,29 @@ fn read_table(
             Some(name) => name.to_string(),
         };
         let checked = check_row(&row, &cols, window, ranked).and_then(|good| {
-            if ranked {
-                if let Some(first) = first_line.get(&good.name) {
+            if let (Some(rank), Some(&(line, slot))) = (good.rank, kept_at.get(&good.name)) {
+                // A name ranked twice keeps its better place (the first on a tie), and the
+                // other row is the one reported: an export that lists a package under two
+                // spellings of one query should not sink it to its worse position.
+                if rank >= ranked_rows[slot].1 {
                     return Err((
                         ProblemKind::DuplicateEntry,
-                        format!("already ranked at line {first}"),
+                        format!("ranked better or equal at line {line}"),
                     ));
                 }
-            } else {
+                local.leave_out(
+                    RecordKind::SourceEntry,
+                    ProblemKind::DuplicateEntry,
+                    Origin {
+                        file: file.clone(),
+                        line,
+                    },
+                    good.name.clone(),
+                    format!("ranked better at line {}", row.line),
+                );
+                // The earlier row was counted as used; the new one takes its place.
+                local.unuse(RecordKind::SourceEntry);
+            } else if !ranked {
                 let sum = sums.get(&good.name).copied().unwrap_or(0.0);
                 if !(sum + good.score.unwrap_or(0.0)).is_finite() {
                     return Err((
@@ -434,14 +450,21 @@ fn read_table(
                 // `check_row` gives a rank exactly when the file is a ranking.
                 match good.rank {
                     Some(rank) => {
-                        first_line.insert(good.name.clone(), row.line);
+                        let slot = match kept_at.get(&good.name) {
+                            Some(&(_, slot)) => slot,
+                            None => {
+                                ranked_rows.push((String::new(), 0.0, None));
+                                ranked_rows.len() - 1
+                            }
+                        };
+                        kept_at.insert(good.name.clone(), (row.line, slot));
                         if good.score.is_none() && unscored.is_none() {
                             unscored = Some(Unscored {
                                 line: Some(row.line),
                                 detail: format!("`{}` has an empty `score`", good.name),
                             });
                         }
-                        ranked_rows.push((good.name, rank, good.score));
+                        ranked_rows[slot] = (good.name, rank, good.score);
                     }
                     None => {
                         *sums.entry(good.name).or_insert(0.0) += good.score.unwrap_or(0.0);
@@ -1288,6 +1311,37 @@ mod tests {
             "`rank`: expected a number, found `x`"
         );
         assert_eq!(ledger.problems[2].detail, "`rank` -3 is negative");
+    }
+
+    #[test]
+    fn csv_name_ranked_twice_keeps_its_better_row() {
+        let text = "name,rank\n\
+                    web,5\n\
+                    api,2\n\
+                    web,1\n\
+                    api,2\n\
+                    cli,3\n";
+        let mut ledger = Ledger::default();
+        let list = read_source_str("top.csv", text, None, &mut ledger).unwrap();
+        let names: Vec<&str> = list.entries().iter().map(|e| e.name.as_str()).collect();
+        // web's rank 1 (line 4) beats its rank 5 (line 2); api's tie keeps line 3.
+        assert_eq!(names, ["web", "api", "cli"]);
+        let tally = &ledger.tallies[&RecordKind::SourceEntry];
+        assert_eq!((tally.read, tally.used, tally.left_out), (5, 3, 2));
+        assert!(ledger.unbalanced().is_empty());
+        ledger.sort();
+        let seen: Vec<(String, &str)> = ledger
+            .problems
+            .iter()
+            .map(|p| (p.origin.to_string(), p.detail.as_str()))
+            .collect();
+        assert_eq!(
+            seen,
+            [
+                ("top.csv:2".to_string(), "ranked better at line 4"),
+                ("top.csv:5".to_string(), "ranked better or equal at line 3"),
+            ]
+        );
     }
 
     #[test]
