@@ -749,7 +749,7 @@ fn several_schema_errors_come_back_together() {
     assert_eq!(err.more[0].line, Some(4));
 }
 
-/// At the cap the reader stops, and the last line says so: the list is not every error.
+/// Past the cap the reader stops, and the last line says so: the list is not every error.
 #[test]
 fn schema_errors_past_the_cap_are_announced() {
     let mut versions = String::from("package,version,yanked\n");
@@ -762,12 +762,19 @@ fn schema_errors_past_the_cap_are_announced() {
     assert_eq!(last.line, None);
     assert!(
         last.message
-            .contains("stopped after 20 errors; there may be more"),
+            .contains("there are more errors than these first 20"),
         "{err}"
     );
-    // Under the cap, nothing is added.
+    // Up to the cap, nothing is added: exactly 20 errors are every error there is.
     let err = load("package,version,yanked\npkg-a,1.0.0,maybe\n", D_HEAD).unwrap_err();
     assert!(err.more.is_empty(), "{err}");
+    let mut versions = String::from("package,version,yanked\n");
+    for i in 0..20 {
+        versions.push_str(&format!("pkg-{i},1.0.0,maybe\n"));
+    }
+    let err = load(&versions, D_HEAD).unwrap_err();
+    assert_eq!(err.more.len(), 19, "{err}");
+    assert_eq!(err.more.last().unwrap().line, Some(21), "{err}");
 }
 
 #[test]

@@ -928,6 +928,8 @@ fn edit_distance(a: &str, b: &str) -> usize {
 #[derive(Debug, Default)]
 pub struct SchemaErrors {
     errors: Vec<BadInput>,
+    /// An error past the cap was seen (and not kept).
+    more: bool,
 }
 
 impl SchemaErrors {
@@ -951,12 +953,15 @@ impl SchemaErrors {
     pub fn push(&mut self, e: BadInput) {
         if self.errors.len() < Self::CAP {
             self.errors.push(e);
+        } else {
+            self.more = true;
         }
     }
 
-    /// Whether the cap is reached, so a reader can stop early.
+    /// Whether an error past the cap was seen, so a reader can stop early: the note that
+    /// there are more is then true, which stopping at the cap itself could not know.
     pub fn full(&self) -> bool {
-        self.errors.len() >= Self::CAP
+        self.more
     }
 
     pub fn is_empty(&self) -> bool {
@@ -965,13 +970,13 @@ impl SchemaErrors {
 
     /// `Ok` when nothing was recorded, else all recorded errors as one.
     pub fn finish(mut self) -> Result<(), BadInput> {
-        // Readers stop at the cap: say so, or the list reads as every error there is.
-        if let Some(last) = self.errors.last().filter(|_| self.full()) {
+        // Say so past the cap, or the list reads as every error there is.
+        if let Some(last) = self.errors.last().filter(|_| self.more) {
             let file = last.file.clone();
             self.errors.push(BadInput::file(
                 file,
                 format!(
-                    "stopped after {} errors; there may be more: fix these and run again",
+                    "there are more errors than these first {}: fix these and run again",
                     Self::CAP
                 ),
             ));
