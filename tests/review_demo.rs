@@ -49,7 +49,8 @@ fn demo_review_counts() {
     assert_eq!(c.precision, Some(0.75));
     assert_eq!(c.recall, Some(0.6));
     // The undeclared libxml2 need is caught from the real gcc wording in the log and mapped
-    // through the catalog to the Alpine development package.
+    // through the catalog to the Alpine development package; the prediction had seen only a
+    // native build (shipped C sources), and the advice says so.
     let surprise = review
         .cells
         .iter()
@@ -58,7 +59,9 @@ fn demo_review_counts() {
     assert_eq!(surprise.package, "thornbill-xml");
     let s = surprise.suggestion.as_deref().unwrap();
     assert!(
-        s.contains("undeclared native dependency on libxml2") && s.contains("libxml2-dev"),
+        s.starts_with("the prediction saw a likely native build but not its library (thornbill-xml: ships src/ext/parse.c")
+            && s.contains("the log shows it needs libxml2, which no metadata declares")
+            && s.contains("libxml2-dev"),
         "{s}"
     );
     // The link failure maps to the RHEL-family package.
@@ -67,7 +70,13 @@ fn demo_review_counts() {
         .iter()
         .find(|c| c.package == "burrow-lite")
         .unwrap();
-    assert!(link.suggestion.as_deref().unwrap().contains("libpq-devel"));
+    let s = link.suggestion.as_deref().unwrap();
+    assert!(s.contains("libpq-devel"), "{s}");
+    // Its summary named libpq: the log confirms that weak sign.
+    assert!(
+        s.starts_with("the log confirms the possible need of libpq that the prediction saw (burrow-lite: name or summary mentions `libpq`)"),
+        "{s}"
+    );
 }
 
 #[test]
@@ -1036,4 +1045,22 @@ fn results_left_out_fail_the_gate_and_are_listed() {
     assert_eq!(code, 1);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     assert_eq!(v["results_left_out"].as_array().unwrap().len(), 1);
+}
+
+#[test]
+fn native_advice_says_what_the_prediction_had_seen_of_the_need() {
+    let missing_header = |package: &str| {
+        format!(
+            "results:\n  - {{package: {package}, image: alpine-2.6, outcome: failed, log: \"x.c:3:10: fatal error: libxml/parser.h: No such file or directory\"}}\n"
+        )
+    };
+    // gumleaf's metadata, files and dependencies say nothing native (demo-data/registry.yaml).
+    let (_, s) = suggestion_for(&missing_header("gumleaf"), "gumleaf", "alpine-2.6");
+    assert!(
+        s.starts_with("undeclared native dependency on libxml2: nothing in the metadata or files of gumleaf or its dependencies pointed at it"),
+        "{s}"
+    );
+    // quill-xml declares libxml2: the log teaches nothing about the metadata.
+    let (_, s) = suggestion_for(&missing_header("quill-xml"), "quill-xml", "alpine-2.6");
+    assert!(s.starts_with("add libxml2-dev to alpine-2.6"), "{s}");
 }

@@ -24,6 +24,21 @@ pub enum Confidence {
     Certain,
 }
 
+impl Confidence {
+    /// The word outputs use, as serialised.
+    ///
+    /// ```
+    /// assert_eq!(basefit::native::Confidence::Likely.as_str(), "likely");
+    /// ```
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Confidence::Certain => "certain",
+            Confidence::Likely => "likely",
+            Confidence::Possible => "possible",
+        }
+    }
+}
+
 /// One piece of evidence for a native need of one release.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Serialize)]
 pub struct Evidence {

@@ -516,11 +516,7 @@ pub fn preinstall_text(p: &Preinstall) -> String {
             .iter()
             .map(|m| format!("{} {}", m.name, m.version))
             .collect();
-        format!(
-            "{what} ({}, for {})",
-            confidence_word(confidence),
-            by.join(", ")
-        )
+        format!("{what} ({}, for {})", confidence.as_str(), by.join(", "))
     };
     let closing = [
         (
@@ -544,12 +540,4 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         }
     }
     s
-}
-
-fn confidence_word(c: Confidence) -> &'static str {
-    match c {
-        Confidence::Certain => "certain",
-        Confidence::Likely => "likely",
-        Confidence::Possible => "possible",
-    }
 }

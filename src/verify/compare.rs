@@ -2,7 +2,7 @@
 
 use super::logs::{self, LogCause, LogFinding};
 use crate::model::{ImageSet, RecordedOutcome, RecordedResult, Registry};
-use crate::native::Catalog;
+use crate::native::{Catalog, Confidence};
 use crate::plan::matrix::{Matrix, Outcome, RecordedCheck};
 use crate::solve::{Admission, Cause};
 use serde::Serialize;
@@ -225,7 +225,7 @@ fn suggest(
     package: &str,
     image_id: &str,
     cause: &LogCause,
-    declared_in_closure: bool,
+    seen_need: Option<&crate::plan::matrix::NeedRow>,
 ) -> Option<String> {
     let image = images.get(image_id)?;
     // Advice naming the system package that provides what the log misses.
@@ -247,15 +247,32 @@ fn suggest(
             .get(&image.family)
             .and_then(|f| f.dev.clone())
             .unwrap_or_else(|| format!("the {} development package", lib.id));
-        let hint = if declared_in_closure {
-            String::new()
-        } else {
-            let known = registry.id(package).is_some();
-            let who = if known { package } else { "the package" };
-            format!(
-                "undeclared native dependency on {}: add a hint for {who}; ",
+        // Whether the prediction knew of the need decides what the log teaches: nothing, that
+        // a weak sign was right, or that the metadata hides the need entirely.
+        let hint = match seen_need {
+            Some(need) if need.confidence == Confidence::Certain => String::new(),
+            Some(need) if need.library.is_none() => format!(
+                "the prediction saw a {} native build but not its library ({}: {}): the log shows it needs {}, which no metadata declares (declare it under `native.libraries`); ",
+                need.confidence.as_str(),
+                need.via,
+                need.evidence.join("; "),
                 lib.id
-            )
+            ),
+            Some(need) => format!(
+                "the log confirms the {} need of {} that the prediction saw ({}: {}), which no metadata declares: declaring it under `native.libraries` would make it certain; ",
+                need.confidence.as_str(),
+                lib.id,
+                need.via,
+                need.evidence.join("; ")
+            ),
+            None => {
+                let known = registry.id(package).is_some();
+                let who = if known { package } else { "the package" };
+                format!(
+                    "undeclared native dependency on {}: nothing in the metadata or files of {who} or its dependencies pointed at it (declare it under `native.libraries`); ",
+                    lib.id
+                )
+            }
         };
         // Advice to add what the image already declares would send the reader in a
         // circle: then the declaration is what is wrong, or the build looks elsewhere.
@@ -583,13 +600,20 @@ pub fn compare(
         let installed_version = installed.map(|v| v.to_string());
         let any_installed = attempts.contains(&RecordedOutcome::Installed);
         let any_failed = attempts.contains(&RecordedOutcome::Failed);
-        let declared = cell.native_needs.iter().any(|n| {
-            n.confidence == crate::native::Confidence::Certain
-                && primary
-                    .as_ref()
-                    .and_then(|p| library_of(catalog, &p.cause))
-                    .is_some_and(|lib| n.library.as_deref() == Some(lib.id.as_str()))
-        });
+        // The strongest need the prediction saw for the library the log misses.
+        let seen_need = primary
+            .as_ref()
+            .and_then(|p| library_of(catalog, &p.cause))
+            .and_then(|lib| {
+                let of = |library: Option<&str>| {
+                    cell.native_needs
+                        .iter()
+                        .filter(move |n| n.library.as_deref() == library)
+                        .max_by_key(|n| n.confidence)
+                };
+                // Else a native build seen without its library.
+                of(Some(lib.id.as_str())).or_else(|| of(None))
+            });
         // One recorded install disproves a predicted failure, however many attempts failed
         // around it: retries that disagree must not hide the surprise.
         let verdict = if cell.outcome == Outcome::Undecided {
@@ -647,7 +671,7 @@ pub fn compare(
                     &cell.package,
                     &cell.image,
                     c,
-                    declared,
+                    seen_need,
                 )
             }),
         };
