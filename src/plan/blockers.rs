@@ -12,7 +12,8 @@ use std::collections::BTreeMap;
 pub struct SharedBlocker {
     pub image: String,
     pub package: String,
-    /// Reasons the failing cells give for it, deduplicated, the one given by the most priority
+    /// Reasons the failing cells give for it, deduplicated (one that says the same as another of
+    /// a narrower range of its releases is folded into it), the one given by the most priority
     /// weight first (text shows only the first few).
     pub reasons: Vec<String>,
     /// Priority entries that fail through it, in priority order.
@@ -105,7 +106,10 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
             ranked.push(SharedBlocker {
                 image: image.id.clone(),
                 package: name.to_string(),
-                reasons: reasons.get(name).map(by_weight).unwrap_or_default(),
+                reasons: reasons
+                    .get(name)
+                    .map(|r| by_weight(&fold_narrower(name, r)))
+                    .unwrap_or_default(),
                 blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
                 blocked_weight,
                 blocked_share: super::matrix::weight_share(blocked_weight, rest),
@@ -123,10 +127,165 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
     out
 }
 
+/// Folds each reason into another that says the same of a wider range of the blocker's
+/// releases, with its weight. Entries asking for different ranges of one package give it
+/// reasons such as `core 2.0.0 to 2.2.1 needs a newer runtime` and `core 2.1.0 to 2.2.1 needs
+/// a newer runtime`; the second says nothing the first does not. A range is a run of
+/// consecutive releases (`solve::sets::describe`), so a run whose ends lie within another's
+/// holds only releases of it. Reasons of other shapes are kept as they are.
+fn fold_narrower<'a>(package: &str, reasons: &BTreeMap<&'a str, f64>) -> BTreeMap<&'a str, f64> {
+    let parsed: Vec<(&'a str, f64, Option<Ranged<'a>>)> = reasons
+        .iter()
+        .map(|(r, w)| (*r, *w, Ranged::read(package, r)))
+        .collect();
+    let held_by = |k: usize, j: usize| {
+        j != k
+            && matches!((&parsed[j].2, &parsed[k].2), (Some(wide), Some(narrow)) if wide.holds(narrow))
+    };
+    // Containment is an order, so every reason held by another is held by a widest one (held
+    // by none); equal ranges cannot occur, since equal texts were merged already.
+    let widest: Vec<bool> = (0..parsed.len())
+        .map(|k| !(0..parsed.len()).any(|j| held_by(k, j)))
+        .collect();
+    let mut out: BTreeMap<&'a str, f64> = BTreeMap::new();
+    for (k, (text, weight, _)) in parsed.iter().enumerate() {
+        // The first widest holder in text order, so the result does not depend on weights.
+        let into = (0..parsed.len())
+            .find(|&j| widest[j] && held_by(k, j))
+            .map_or(*text, |j| parsed[j].0);
+        *out.entry(into).or_default() += weight;
+    }
+    out
+}
+
+/// A reason of the shape `{package} {runs} {why}`, runs as `solve::sets::describe` writes
+/// them (`1.2.0`, `1.0.0 to 1.4.2, 2.0.1`).
+struct Ranged<'r> {
+    runs: Vec<(semver::Version, semver::Version)>,
+    why: &'r str,
+}
+
+impl<'r> Ranged<'r> {
+    fn read(package: &str, reason: &'r str) -> Option<Ranged<'r>> {
+        fn word<'s>(rest: &mut &'s str) -> Option<&'s str> {
+            let (w, after) = rest.split_once(' ')?;
+            *rest = after;
+            Some(w)
+        }
+        // A version, and whether a comma after it says another run follows.
+        fn version(w: &str) -> Option<(semver::Version, bool)> {
+            let (w, more) = match w.strip_suffix(',') {
+                Some(w) => (w, true),
+                None => (w, false),
+            };
+            Some((semver::Version::parse(w).ok()?, more))
+        }
+        let mut rest = reason.strip_prefix(package)?.strip_prefix(' ')?;
+        let mut runs = Vec::new();
+        loop {
+            let (low, mut more) = version(word(&mut rest)?)?;
+            let mut high = low.clone();
+            if !more && rest.starts_with("to ") {
+                word(&mut rest);
+                (high, more) = version(word(&mut rest)?)?;
+            }
+            runs.push((low, high));
+            if !more {
+                break;
+            }
+        }
+        (!rest.is_empty()).then_some(Ranged { runs, why: rest })
+    }
+
+    /// Whether every run of `narrow` lies within a run of `self`, for the same cause.
+    fn holds(&self, narrow: &Ranged<'_>) -> bool {
+        self.why == narrow.why
+            && narrow
+                .runs
+                .iter()
+                .all(|(a, b)| self.runs.iter().any(|(lo, hi)| lo <= a && b <= hi))
+    }
+}
+
 /// Reasons with the most weight first; equal weights keep the text order, so output does not
 /// depend on the order cells were read in.
 fn by_weight(reasons: &BTreeMap<&str, f64>) -> Vec<String> {
     let mut list: Vec<(&str, f64)> = reasons.iter().map(|(r, w)| (*r, *w)).collect();
     list.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(b.0)));
     list.into_iter().map(|(r, _)| r.to_string()).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::fold_narrower;
+    use std::collections::BTreeMap;
+
+    fn folded(reasons: &[(&'static str, f64)]) -> Vec<(&'static str, f64)> {
+        let map: BTreeMap<&str, f64> = reasons.iter().copied().collect();
+        fold_narrower("core", &map).into_iter().collect()
+    }
+
+    #[test]
+    fn a_reason_on_a_narrower_range_folds_into_the_wider_one() {
+        let old = "core 2.0.0 to 2.2.1 needs a newer runtime";
+        assert_eq!(
+            folded(&[
+                (old, 2.0),
+                ("core 2.1.0 to 2.2.1 needs a newer runtime", 3.0)
+            ]),
+            [(old, 5.0)]
+        );
+        // A chain folds into its widest, and a single release into a run holding it.
+        assert_eq!(
+            folded(&[
+                ("core 1.0.0 to 3.0.0 needs a newer runtime", 1.0),
+                ("core 2.0.0 to 2.5.0 needs a newer runtime", 1.0),
+                ("core 2.1.0 needs a newer runtime", 1.0),
+                (
+                    "core 2.0.0-beta.1, 2.1.0 to 2.2.0 needs a newer runtime",
+                    1.0
+                ),
+            ]),
+            [("core 1.0.0 to 3.0.0 needs a newer runtime", 4.0)]
+        );
+        // Several runs must each lie within one.
+        assert_eq!(
+            folded(&[
+                (
+                    "core 1.0.0 to 1.2.0, 2.0.0 to 2.3.0 needs a newer runtime",
+                    1.0
+                ),
+                ("core 1.1.0, 2.2.0 to 2.3.0 needs a newer runtime", 1.0),
+            ]),
+            [(
+                "core 1.0.0 to 1.2.0, 2.0.0 to 2.3.0 needs a newer runtime",
+                2.0
+            )]
+        );
+    }
+
+    #[test]
+    fn reasons_that_differ_otherwise_are_kept() {
+        let kept = [
+            // Another cause.
+            ("core 2.0.0 to 2.2.1 needs a newer runtime", 1.0),
+            ("core 2.1.0 to 2.2.1 has no build for this platform", 1.0),
+            // Overlapping, neither holding the other.
+            ("core 1.0.0 to 2.1.0 needs an older runtime", 1.0),
+            ("core 2.0.0 to 3.0.0 needs an older runtime", 1.0),
+            // Shapes that are not runs of versions.
+            ("core (wanted ^3.0) needs a newer runtime", 1.0),
+            ("conflicting requirements on core", 1.0),
+            (
+                "core 1.0.0, 1.2.0, 1.4.0, and 2 more runs needs a newer runtime",
+                1.0,
+            ),
+            ("core 1.2.0 needs a newer runtime", 1.0),
+        ];
+        let mut want = kept.to_vec();
+        want.sort_by(|a, b| a.0.cmp(b.0));
+        // Within the run of more runs' first releases, 1.2.0 is not read as held: the text
+        // after the runs is not a cause there.
+        assert_eq!(folded(&kept), want);
+    }
 }
