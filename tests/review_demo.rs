@@ -1064,3 +1064,26 @@ fn native_advice_says_what_the_prediction_had_seen_of_the_need() {
     let (_, s) = suggestion_for(&missing_header("quill-xml"), "quill-xml", "alpine-2.6");
     assert!(s.starts_with("add libxml2-dev to alpine-2.6"), "{s}");
 }
+
+#[test]
+fn an_install_of_another_release_says_nothing_about_the_images_native_packages() {
+    // quill-xml 2.0.1 is predicted to fail on alpine-3.2 for lack of libxml2-dev; 1.6.0 is in
+    // the snapshot too (demo-data/registry.yaml). An install of 2.0.1 shows the image has it;
+    // an install of 1.6.0 shows nothing of the kind.
+    let at = |version: &str| {
+        format!(
+            "results:\n  - {{package: quill-xml, image: alpine-3.2, outcome: installed, version: \"{version}\"}}\n"
+        )
+    };
+    let (verdict, s) = suggestion_for(&at("2.0.1"), "quill-xml", "alpine-3.2");
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(s.contains("the real image has libxml2-dev"), "{s}");
+    let (verdict, s) = suggestion_for(&at("1.6.0"), "quill-xml", "alpine-3.2");
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("it installed 1.6.0, not the predicted 2.0.1")
+            && s.contains("says nothing about the image's system packages")
+            && !s.contains("libxml2-dev"),
+        "{s}"
+    );
+}

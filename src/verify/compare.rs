@@ -440,7 +440,21 @@ fn surprise_install_step(
     if let Some(why) = standing.explains(&cell.package, installed.unwrap_or("?"), newer) {
         return why;
     }
+    // A native failure predicted for one release says nothing about the image when another
+    // release installed: that release's closure may need nothing native at all.
+    let other_release = match (installed, cell.root_version.as_deref()) {
+        (Some(i), Some(p)) if !same_precedence(i, p) => Some((i, p)),
+        _ => None,
+    };
     match cell.cause {
+        Some(Cause::MissingSystemLibrary | Cause::MissingToolchain)
+            if let Some((installed, predicted)) = other_release =>
+        {
+            format!(
+                "it installed {installed}, not the predicted {predicted} whose closure needs what {image} lacks, so this says nothing about the image's system packages: the installer took another release (a pin, a constraint file, or it passed over the native build); `basefit explain {} {image}` shows the releases that install without it",
+                cell.package
+            )
+        }
         Some(Cause::MissingSystemLibrary) => {
             let declared = images.get(image);
             let absent: Vec<&str> = cell
