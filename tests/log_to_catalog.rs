@@ -125,6 +125,101 @@ fn real_tool_failures_map_to_the_package_that_ships_the_file() {
     );
 }
 
+/// The `runtime` row of the archive extract for link name `link`: the Debian package holding
+/// the shared object `-l{link}` resolves to.
+fn archive_runtime(link: &str) -> Option<String> {
+    archive_package("runtime", link)
+}
+
+/// A prebuilt build fails at load time when the image lacks its runtime package. The loader's
+/// message is produced for real: glibc's dynamic loader starting a program whose shared object
+/// was removed, and CPython's `ctypes` (dlopen) asking for one that does not exist. The file
+/// names carry a version no system has (`.so.77`), so nothing installed here can satisfy them.
+/// The catalog library found from the file name must name, for Debian, the runtime package
+/// the archive extract says ships the shared object of that link name.
+#[test]
+fn a_missing_shared_object_maps_to_the_runtime_package_that_ships_it() {
+    if !have("gcc") {
+        eprintln!("skipped: gcc is not installed (apt-get install -y gcc)");
+        return;
+    }
+    let catalog = Catalog::builtin();
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    std::fs::write(d.join("l.c"), "int bf_probe(void) { return 0; }\n").unwrap();
+    std::fs::write(
+        d.join("m.c"),
+        "int bf_probe(void);\nint main(void) { return bf_probe(); }\n",
+    )
+    .unwrap();
+    let mut checked = 0;
+    for lib in &catalog.libraries {
+        let Some(link) = lib.link.first() else {
+            continue;
+        };
+        let Some(runtime) = archive_runtime(link) else {
+            continue;
+        };
+        let soname = format!("lib{link}.so.77");
+        let built = Command::new("gcc")
+            .args(["-shared", "-fPIC", &format!("-Wl,-soname,{soname}"), "-o"])
+            .arg(d.join(&soname))
+            .arg(d.join("l.c"))
+            .status()
+            .unwrap();
+        assert!(built.success());
+        let _ = std::fs::remove_file(d.join(format!("lib{link}.so")));
+        std::os::unix::fs::symlink(&soname, d.join(format!("lib{link}.so"))).unwrap();
+        let linked = Command::new("gcc")
+            .arg(d.join("m.c"))
+            .arg(format!("-L{}", d.display()))
+            .arg(format!("-l{link}"))
+            .arg("-o")
+            .arg(d.join("prog"))
+            .status()
+            .unwrap();
+        assert!(linked.success());
+        std::fs::remove_file(d.join(&soname)).unwrap();
+        let log = run(&mut Command::new(d.join("prog"))).expect("the program cannot start");
+        let findings = classify(&log);
+        let p = primary(&findings).unwrap_or_else(|| panic!("nothing classified in {log}"));
+        assert_eq!(
+            p.cause,
+            LogCause::MissingSharedObject {
+                soname: soname.clone()
+            },
+            "{log}"
+        );
+        let found = library_of(&catalog, &p.cause)
+            .unwrap_or_else(|| panic!("{soname} maps to no catalog library"));
+        assert_eq!(found.id, lib.id, "{soname}");
+        let debian = &found.families[&OsFamily::Debian].runtime;
+        assert!(
+            debian.contains(&runtime),
+            "{soname}: the catalog's Debian runtime packages {debian:?} lack {runtime}, which ships -l{link}'s shared object"
+        );
+        checked += 1;
+    }
+    eprintln!("provoked for real: {checked} missing shared objects");
+    assert!(
+        checked > 0,
+        "no catalog library has a runtime row in the extract"
+    );
+    // dlopen's message, as an extension loader reports it.
+    if have("python3") {
+        let log =
+            run(Command::new("python3").args(["-c", "import ctypes; ctypes.CDLL('libz.so.77')"]))
+                .expect("dlopen fails");
+        let findings = classify(&log);
+        let p = primary(&findings).unwrap_or_else(|| panic!("nothing classified in {log}"));
+        assert_eq!(
+            library_of(&catalog, &p.cause).map(|l| l.id.as_str()),
+            Some("zlib"),
+            "{log}"
+        );
+    }
+}
+
 /// A compiler error that names no missing file maps to no catalog library, and the review
 /// treats it as a definite failure: not flaky for an earlier retried download, confirming no
 /// predicted cause but a missing system library (which it leaves undecided), and with advice

@@ -1087,3 +1087,34 @@ fn an_install_of_another_release_says_nothing_about_the_images_native_packages()
         "{s}"
     );
 }
+
+#[test]
+fn a_loader_that_finds_no_shared_object_points_at_the_runtime_package() {
+    // tidewater-http installs prebuilt on deb-3.2-slim, which declares libssl3 (through
+    // deb-3.2, matrices/demo-images.yaml): a loader failure questions the declaration.
+    let loader = |package: &str, image: &str, soname: &str| {
+        format!(
+            "results:\n  - {{package: {package}, image: {image}, outcome: failed, log: \"quoll: error while loading shared libraries: {soname}: cannot open shared object file: No such file or directory\"}}\n"
+        )
+    };
+    let review = review_of(&loader("tidewater-http", "deb-3.2-slim", "libssl.so.3"));
+    let c = cell(&review, "tidewater-http", "deb-3.2-slim");
+    assert_eq!(c.verdict, Verdict::SurpriseFailure);
+    let s = c.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("deb-3.2-slim declares libssl3, yet the loader misses shared object libssl.so.3"),
+        "{s}"
+    );
+    // pixelmoss is predicted to fail on alpine-2.6 for lack of libpng: a loader failure on
+    // libpng16.so.16 confirms the cause and names the runtime package (catalog: alpine's
+    // `libpng`), not the development one.
+    let review = review_of(&loader("pixelmoss", "alpine-2.6", "libpng16.so.16"));
+    let c = cell(&review, "pixelmoss", "alpine-2.6");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    assert_eq!(c.cause_agrees, Some(true));
+    let s = c.suggestion.as_deref().unwrap();
+    assert!(
+        s.ends_with("add libpng to alpine-2.6 (missing shared object libpng16.so.16)"),
+        "{s}"
+    );
+}

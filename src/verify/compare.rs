@@ -155,7 +155,8 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
     let expected: &[Cause] = match log {
         LogCause::MissingHeader { .. }
         | LogCause::MissingLibrary { .. }
-        | LogCause::MissingPkgConfig { .. } => &[Cause::MissingSystemLibrary],
+        | LogCause::MissingPkgConfig { .. }
+        | LogCause::MissingSharedObject { .. } => &[Cause::MissingSystemLibrary],
         // A Fortran compiler is a catalog entry (the plan names its package as a library
         // need), and an image lacking it may lack the C toolchain as well.
         LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
@@ -210,6 +211,9 @@ pub fn library_of<'c>(
         LogCause::MissingHeader { header } => catalog.by_header(header),
         LogCause::MissingLibrary { link } => catalog.by_link(link),
         LogCause::MissingPkgConfig { module } => catalog.by_pkg_config(module),
+        LogCause::MissingSharedObject { soname } => {
+            catalog.by_link(logs::link_name_of_shared_object(soname)?)
+        }
         LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
             catalog.by_declared_name(crate::native::FORTRAN_LIBRARY)
         }
@@ -234,6 +238,7 @@ fn suggest(
             LogCause::MissingHeader { header } => format!("header {header}"),
             LogCause::MissingLibrary { link } => format!("library -l{link}"),
             LogCause::MissingPkgConfig { module } => format!("pkg-config module {module}"),
+            LogCause::MissingSharedObject { soname } => format!("shared object {soname}"),
             LogCause::NoCompiler { tool } => format!("Fortran compiler {tool}"),
             _ => String::new(),
         };
@@ -242,11 +247,18 @@ fn suggest(
                 "the log misses {what}, which the catalog does not know: add it to a catalog file"
             ));
         };
-        let dev = lib
-            .families
-            .get(&image.family)
+        let family = lib.families.get(&image.family);
+        let dev = family
             .and_then(|f| f.dev.clone())
             .unwrap_or_else(|| format!("the {} development package", lib.id));
+        // A shared object missing at load time is a runtime package's file: a prebuilt build
+        // needs only that, and the development package would bring it too but is not needed.
+        let wanted: Vec<String> = match (cause, family) {
+            (LogCause::MissingSharedObject { .. }, Some(f)) if !f.runtime.is_empty() => {
+                f.runtime.clone()
+            }
+            _ => vec![dev],
+        };
         // Whether the prediction knew of the need decides what the log teaches: nothing, that
         // a weak sign was right, or that the metadata hides the need entirely.
         let hint = match seen_need {
@@ -278,22 +290,41 @@ fn suggest(
         // circle: then the declaration is what is wrong, or the build looks elsewhere.
         // So would advice to add a package the image has through another one it declares
         // (another build of it, which may even conflict with it).
-        let declared = match catalog.stand_in(image.family, &image.system_packages, &dev) {
-            _ if image.system_packages.contains(&dev) => Some(dev.clone()),
-            Some(other) => Some(format!("{other} (for {dev})")),
-            None => None,
+        let had = |package: &String| {
+            if image.system_packages.contains(package) {
+                return Some(package.clone());
+            }
+            catalog
+                .stand_in(image.family, &image.system_packages, package)
+                .map(|other| format!("{other} (for {package})"))
         };
-        if let Some(declared) = declared {
+        let (declared, absent): (Vec<&String>, Vec<&String>) =
+            wanted.iter().partition(|p| had(p).is_some());
+        if absent.is_empty() {
+            let declared: Vec<String> = declared.into_iter().filter_map(had).collect();
+            let (who, looks) = match cause {
+                LogCause::MissingSharedObject { .. } => (
+                    "the loader",
+                    "the loader's search path (ld.so.conf, LD_LIBRARY_PATH) reaches it",
+                ),
+                _ => ("the build", "the build looks where it puts its files"),
+            };
             return Some(format!(
-                "{hint}{image_id} declares {declared}, yet the build misses {what}: check that the real image installs it (its declaration may be out of date) and that the build looks where it puts its files"
+                "{hint}{image_id} declares {}, yet {who} misses {what}: check that the real image installs it (its declaration may be out of date) and that {looks}",
+                declared.join(" ")
             ));
         }
-        Some(format!("{hint}add {dev} to {image_id} (missing {what})"))
+        let absent: Vec<&str> = absent.into_iter().map(String::as_str).collect();
+        Some(format!(
+            "{hint}add {} to {image_id} (missing {what})",
+            absent.join(" ")
+        ))
     };
     match cause {
         LogCause::MissingHeader { .. }
         | LogCause::MissingLibrary { .. }
-        | LogCause::MissingPkgConfig { .. } => add_package(),
+        | LogCause::MissingPkgConfig { .. }
+        | LogCause::MissingSharedObject { .. } => add_package(),
         LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => add_package(),
         // As for headers above: advice to add what the image declares would go in a circle.
         LogCause::NoCompiler { .. } | LogCause::NoMake if image.toolchain => Some(format!(

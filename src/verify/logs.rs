@@ -18,6 +18,12 @@
 //!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
 //! - [`LogCause::MissingPkgConfig`]: `Package foo was not found in the pkg-config search path.`,
 //!   `No package 'foo' found` and pkgconf's `Package 'foo', required by 'bar', not found`.
+//! - [`LogCause::MissingSharedObject`]: the dynamic loader or `dlopen` finding no shared object
+//!   when a program or extension starts, glibc's `error while loading shared libraries:
+//!   libfoo.so.1: cannot open shared object file: No such file or directory` (and the same
+//!   text after `ImportError:` or `OSError:`, which carry `dlerror`'s message), and musl's
+//!   `Error loading shared library libfoo.so.1: No such file or directory` (musl's wording from
+//!   memory). This is how a prebuilt build fails on an image that lacks its runtime package.
 //! - [`LogCause::NoCompiler`] and [`LogCause::NoMake`]: a shell that cannot find the program
 //!   (`gcc: command not found`, `sh: 1: cc: not found`, `command not found: cc`), setuptools
 //!   (`command 'gcc' failed: No such file or directory`, `unable to execute 'cc': No such file or
@@ -102,6 +108,8 @@ pub enum LogCause {
     MissingLibrary { link: String },
     /// pkg-config has no `.pc` file for a module.
     MissingPkgConfig { module: String },
+    /// The dynamic loader found no shared object, named by its file name (`libfoo.so.1`).
+    MissingSharedObject { soname: String },
     /// A compiler is not installed or cannot build anything. `tool` is the program the log
     /// names, or `cc` / `c++` when it only says "C compiler" / "C++ compiler".
     NoCompiler { tool: String },
@@ -139,6 +147,7 @@ impl LogCause {
             LogCause::MissingHeader { .. } => "missing-header",
             LogCause::MissingLibrary { .. } => "missing-library",
             LogCause::MissingPkgConfig { .. } => "missing-pkg-config",
+            LogCause::MissingSharedObject { .. } => "missing-shared-object",
             LogCause::NoCompiler { .. } => "no-compiler",
             LogCause::NoMake => "no-make",
             LogCause::RuntimeRefused { .. } => "runtime-refused",
@@ -164,7 +173,8 @@ impl LogCause {
             LogCause::RuntimeRefused { .. } => 0,
             LogCause::MissingHeader { .. }
             | LogCause::MissingLibrary { .. }
-            | LogCause::MissingPkgConfig { .. } => 1,
+            | LogCause::MissingPkgConfig { .. }
+            | LogCause::MissingSharedObject { .. } => 1,
             LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
             LogCause::BuildError => 3,
             LogCause::OutOfMemory | LogCause::Killed => 4,
@@ -181,6 +191,9 @@ impl fmt::Display for LogCause {
             LogCause::MissingLibrary { link } => write!(f, "missing library -l{link}"),
             LogCause::MissingPkgConfig { module } => {
                 write!(f, "missing pkg-config module {module}")
+            }
+            LogCause::MissingSharedObject { soname } => {
+                write!(f, "missing shared object {soname}")
             }
             LogCause::NoCompiler { tool } => write!(f, "no compiler ({tool})"),
             LogCause::NoMake => f.write_str("no make"),
@@ -390,8 +403,9 @@ fn evidence(text: &str) -> String {
 /// Most of a big log is chatter that contains none of them, and testing these few with
 /// prebuilt searchers costs far less than running every matcher; a new matcher must add its
 /// word here (the unit tests check the phrase lists).
-const ANCHORS: [&str; 27] = [
+const ANCHORS: [&str; 28] = [
     "found",
+    "shared ",
     "error: ",
     "find",
     "no such file",
@@ -434,6 +448,11 @@ fn may_match(lower: &str) -> bool {
 fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     if compiler_remark(text, &["warning: ", "note: "]) {
         return None;
+    }
+    if let Some(soname) = missing_shared_object(text) {
+        return Some(LogCause::MissingSharedObject {
+            soname: soname.to_owned(),
+        });
     }
     if let Some(header) = missing_header(text) {
         // A probe that must fail says nothing about the image, nor is it a compiler error.
@@ -630,6 +649,48 @@ fn link_name(rest: &str) -> Option<&str> {
             .chars()
             .all(|c| c.is_alphanumeric() || "._+-:/@".contains(c));
     ok.then_some(word)
+}
+
+/// The shared object the loader or `dlopen` could not find: the word before glibc's
+/// `: cannot open shared object file`, or after musl's `Error loading shared library `, without
+/// a directory (`dlopen` of a path names the path).
+fn missing_shared_object(t: &str) -> Option<&str> {
+    let named = if let Some(p) = t.find(": cannot open shared object file") {
+        t[..p].rsplit([' ', '\'', '"', '(']).next()?
+    } else if let Some(p) = t.find("Error loading shared library ") {
+        let rest = &t[p + "Error loading shared library ".len()..];
+        rest.split(|c: char| c == ':' || c.is_whitespace()).next()?
+    } else {
+        return None;
+    };
+    let file = named.rsplit('/').next()?;
+    let ok = file.contains(".so")
+        && file.len() <= 200
+        && file
+            .chars()
+            .all(|c| c.is_alphanumeric() || "._+-@".contains(c));
+    ok.then_some(file)
+}
+
+/// The `-l` name a shared object's file name stands for: `libssl.so.3` is linked as `-lssl`
+/// (the `lib` prefix and the `.so` suffix with its version numbers are the usual naming of
+/// shared objects on Linux; common practice, no source). `None` for other shapes.
+///
+/// ```
+/// use basefit::verify::logs::link_name_of_shared_object;
+/// assert_eq!(link_name_of_shared_object("libssl.so.3"), Some("ssl"));
+/// assert_eq!(link_name_of_shared_object("libxml2.so"), Some("xml2"));
+/// assert_eq!(link_name_of_shared_object("ld-linux.so.2"), None);
+/// ```
+pub fn link_name_of_shared_object(file: &str) -> Option<&str> {
+    let stem = file.strip_prefix("lib")?;
+    let (name, version) = stem.split_once(".so")?;
+    let version_ok = version.is_empty()
+        || (version.starts_with('.')
+            && version[1..]
+                .split('.')
+                .all(|n| !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit())));
+    (!name.is_empty() && version_ok).then_some(name)
 }
 
 fn missing_pkg_config(t: &str) -> Option<&str> {
@@ -900,6 +961,45 @@ mod tests {
         let found = causes(log);
         assert_eq!(found.len(), 1, "{log:?} gave {found:?}");
         found.into_iter().next().unwrap()
+    }
+
+    #[test]
+    fn missing_shared_objects() {
+        let so = |name: &str| LogCause::MissingSharedObject {
+            soname: name.to_string(),
+        };
+        // source: glibc's loader and CPython's ctypes on this machine (produced for real in
+        // tests/log_to_catalog.rs); dlopen of a path names the path.
+        assert_eq!(
+            one(
+                "./prog: error while loading shared libraries: libxml2.so.2: cannot open shared object file: No such file or directory"
+            ),
+            so("libxml2.so.2")
+        );
+        assert_eq!(
+            one(
+                "ImportError: /usr/lib/x86_64-linux-gnu/libpq.so.5: cannot open shared object file: No such file or directory"
+            ),
+            so("libpq.so.5")
+        );
+        // source: from memory, musl's loader.
+        assert_eq!(
+            one(
+                "Error loading shared library libcrypto.so.3: No such file or directory (needed by /usr/lib/ext.so)"
+            ),
+            so("libcrypto.so.3")
+        );
+        // Not a shared object's name: nothing to map, and not misread as a missing header.
+        assert!(
+            causes("error while loading shared libraries: cannot open shared object file")
+                .is_empty()
+        );
+        assert_eq!(
+            link_name_of_shared_object("libpng16.so.16.43.0"),
+            Some("png16")
+        );
+        assert_eq!(link_name_of_shared_object("libfoo.so.x"), None);
+        assert_eq!(link_name_of_shared_object("lib.so.1"), None);
     }
 
     #[test]
