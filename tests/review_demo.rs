@@ -1102,7 +1102,9 @@ fn a_loader_that_finds_no_shared_object_points_at_the_runtime_package() {
     assert_eq!(c.verdict, Verdict::SurpriseFailure);
     let s = c.suggestion.as_deref().unwrap();
     assert!(
-        s.contains("deb-3.2-slim declares libssl3, yet the loader misses shared object libssl.so.3"),
+        s.contains(
+            "deb-3.2-slim declares libssl3, yet the loader misses shared object libssl.so.3"
+        ),
         "{s}"
     );
     // pixelmoss is predicted to fail on alpine-2.6 for lack of libpng: a loader failure on
@@ -1116,5 +1118,53 @@ fn a_loader_that_finds_no_shared_object_points_at_the_runtime_package() {
     assert!(
         s.ends_with("add libpng to alpine-2.6 (missing shared object libpng16.so.16)"),
         "{s}"
+    );
+}
+
+#[test]
+fn a_confirmed_risk_is_checked_against_what_the_cell_was_at_risk_for() {
+    // burrow-lite is at risk on el9-3.0: it probably needs libpq-devel, which the image lacks.
+    let failed = |log: &str| {
+        format!(
+            "results:\n  - {{package: burrow-lite, image: el9-3.0, outcome: failed, log: \"{log}\"}}\n"
+        )
+    };
+    let agreement = |log: &str| {
+        let review = review_of(&failed(log));
+        let c = cell(&review, "burrow-lite", "el9-3.0");
+        assert_eq!(c.verdict, Verdict::RiskConfirmed, "{log}");
+        c.cause_agrees
+    };
+    assert_eq!(agreement("/usr/bin/ld: cannot find -lpq"), Some(true));
+    // A library the cell was not at risk for, a refusal of the runtime: another cause.
+    assert_eq!(
+        agreement("x.c:1:10: fatal error: libxml/parser.h: No such file or directory"),
+        Some(false)
+    );
+    assert_eq!(
+        agreement("runtime refused: requires >=3.2, found 3.0.1"),
+        Some(false)
+    );
+    // A compiler error names nothing to compare.
+    assert_eq!(agreement("x.c:3:12: error: 'y' undeclared"), None);
+}
+
+#[test]
+fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
+    let dir = tempfile::tempdir().unwrap();
+    let (_, text) = review_file(
+        dir.path(),
+        "results.yaml",
+        "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: failed, log: \"something odd happened\"}\n  - {package: burrow-lite, image: alpine-2.6, outcome: installed}\n",
+        "table",
+    );
+    let agreed = text
+        .split("agreed failures:")
+        .nth(1)
+        .expect("an agreed section");
+    assert!(
+        agreed.contains("burrow-lite on el9-3.0: risk-confirmed")
+            && agreed.contains("      no known cause in the log"),
+        "{text}"
     );
 }

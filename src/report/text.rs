@@ -716,6 +716,16 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
     if let Some(why) = &c.log_unread {
         let _ = writeln!(out, "      log file could not be read: {why}");
     }
+    // Surprises are grouped under this already; elsewhere silence would read as "no log".
+    let failed = c.attempts.contains(&crate::model::RecordedOutcome::Failed);
+    if failed
+        && c.log_cause.is_none()
+        && c.log_recorded
+        && c.log_unread.is_none()
+        && !c.verdict.is_surprise()
+    {
+        out.push_str("      no known cause in the log\n");
+    }
     // The other causes the log shows, so none is hidden behind the one acted on.
     let others: Vec<String> = c
         .findings

@@ -176,6 +176,43 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
     Some(expected.contains(&predicted))
 }
 
+/// Whether a log confirms the risk an at-risk cell was predicted with: the system packages it
+/// probably needs and the image lacks. A library or compiler the log misses confirms it when
+/// its packages are among those; missing something the plan found present, or failing for a
+/// runtime refusal, a kill or lack of memory, is another cause. A compiler error or a library
+/// the catalog does not know settles nothing.
+fn risk_agrees(
+    catalog: &Catalog,
+    images: &ImageSet,
+    cell: &crate::plan::matrix::Cell,
+    log: &LogCause,
+) -> Option<bool> {
+    let family = images.get(&cell.image)?.family;
+    let missing = |packages: &[&str]| {
+        packages
+            .iter()
+            .any(|p| cell.missing_system_packages.iter().any(|m| m == p))
+    };
+    match log {
+        LogCause::MissingHeader { .. }
+        | LogCause::MissingLibrary { .. }
+        | LogCause::MissingPkgConfig { .. }
+        | LogCause::MissingSharedObject { .. }
+        | LogCause::NoCompiler { .. }
+            if let Some(lib) = library_of(catalog, log) =>
+        {
+            let f = lib.families.get(&family)?;
+            let packages: Vec<&str> = f.dev.iter().chain(&f.runtime).map(String::as_str).collect();
+            Some(missing(&packages))
+        }
+        LogCause::NoCompiler { .. } | LogCause::NoMake => {
+            Some(missing(crate::native::toolchain_packages(family)))
+        }
+        LogCause::RuntimeRefused { .. } | LogCause::OutOfMemory | LogCause::Killed => Some(false),
+        _ => None,
+    }
+}
+
 /// The failed attempt whose log a cell's review acts on, with that log's findings: the one
 /// showing the most specific cause, the last among equals. A failure of the moment (network,
 /// timeout) counts for least, below a log that shows nothing known: a retry that hit the
@@ -730,7 +767,8 @@ pub fn compare(
             attempts,
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
-                (Verdict::AgreedFailure | Verdict::RiskConfirmed, Some(c)) => agrees(cell.cause, c),
+                (Verdict::AgreedFailure, Some(c)) => agrees(cell.cause, c),
+                (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
                 _ => None,
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
