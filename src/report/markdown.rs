@@ -280,17 +280,24 @@ fn note_text(cell: &Cell) -> String {
         .filter(|p| !names_word(&reason, p))
         .collect();
     if !unnamed.is_empty() {
-        let _ = write!(
-            text,
-            ". System packages to add: {}",
-            escape_markdown(&unnamed.join(" "))
-        );
+        // When the reason named some, these are not the whole list.
+        let lead = if unnamed.len() < cell.missing_system_packages.len() {
+            "Also to add"
+        } else {
+            "System packages to add"
+        };
+        let _ = write!(text, ". {lead}: {}", escape_markdown(&unnamed.join(" ")));
     }
     if let Some(rec) = &cell.recorded {
+        // Retries that disagree: say what they recorded; the verdict follows in brackets.
+        let recorded = match rec.recorded.as_str() {
+            "flaky" => "failed and installed",
+            other => other,
+        };
         let _ = write!(
             text,
             ". Recorded: {} ({}, {} attempt{})",
-            escape_markdown(&rec.recorded),
+            escape_markdown(recorded),
             escape_markdown(&rec.verdict),
             rec.attempts,
             if rec.attempts == 1 { "" } else { "s" }
@@ -320,6 +327,24 @@ mod tests {
         assert!(!names_word("needs python3.11-dev", "python3"));
         assert!(!names_word("needs lib.python3", "python3"));
         assert!(names_word("needs python3. Then", "python3"));
+    }
+
+    #[test]
+    fn packages_the_reason_left_unnamed_are_not_called_the_whole_list() {
+        let mut cell = Cell::new("plover", "deb", crate::plan::Outcome::Fails);
+        cell.explanation = vec!["needs libpng; add: libpng-dev".into()];
+        cell.missing_system_packages = vec!["gfortran".into(), "libpng-dev".into()];
+        let text = note_text(&cell);
+        assert!(
+            text.ends_with("add: libpng-dev. Also to add: gfortran"),
+            "{text}"
+        );
+        cell.explanation = vec!["needs a Fortran compiler".into()];
+        let text = note_text(&cell);
+        assert!(
+            text.ends_with(". System packages to add: gfortran libpng-dev"),
+            "{text}"
+        );
     }
 
     #[test]
