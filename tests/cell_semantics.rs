@@ -1071,3 +1071,27 @@ fn the_runtime_hint_tries_each_precedence_once() {
         assert_eq!(tried, [own, "4.1.0"], "{image}");
     }
 }
+
+/// `syslibs` shows one line per library of a release, at its strongest confidence, with every
+/// piece of evidence (a declaration and a summary mention used to give two lines).
+#[test]
+fn native_evidence_is_one_line_per_library() {
+    let registry = r#"packages:
+  - name: pngsmith
+    summary: Thumbnails through libpng
+    versions: [{version: "1.0.0", native: {libraries: [libpng]}}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - pngsmith\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let text = basefit::report::text::system_text(&report);
+    let lines: Vec<&str> = text.lines().filter(|l| l.contains("libpng [")).collect();
+    assert_eq!(
+        lines,
+        ["    libpng [certain]: declares libpng; name or summary mentions `libpng`"],
+        "{text}"
+    );
+    assert!(
+        text.starts_with("native evidence per package (the newest release chosen on any image")
+    );
+}

@@ -836,16 +836,30 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
 /// The system-package report for people.
 pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
     let mut out = String::new();
-    out.push_str("native evidence per package (chosen release):\n");
+    out.push_str(
+        "native evidence per package (the newest release chosen on any image; an image that chooses an older one may see other evidence):\n",
+    );
     if r.packages.is_empty() {
         out.push_str("  none\n");
     }
     for p in &r.packages {
         let conf = p.confidence.map(kebab).unwrap_or_default();
         let _ = writeln!(out, "  {} {} [{conf}]", p.package, p.version);
+        // One line per library, at its strongest confidence, with every piece of evidence.
+        let mut by_library: Vec<(Option<&str>, crate::native::Confidence, Vec<&str>)> = Vec::new();
         for e in &p.own {
-            let lib = e.library.as_deref().unwrap_or("(unnamed native build)");
-            let _ = writeln!(out, "    {lib} [{}]: {}", kebab(e.confidence), e.detail);
+            let lib = e.library.as_deref();
+            match by_library.iter_mut().find(|(l, _, _)| *l == lib) {
+                Some((_, c, details)) => {
+                    *c = (*c).max(e.confidence);
+                    details.push(&e.detail);
+                }
+                None => by_library.push((lib, e.confidence, vec![&e.detail])),
+            }
+        }
+        for (lib, c, details) in by_library {
+            let lib = lib.unwrap_or("(unnamed native build)");
+            let _ = writeln!(out, "    {lib} [{}]: {}", kebab(c), details.join("; "));
         }
         for (lib, c, via) in &p.through {
             let _ = writeln!(
