@@ -268,6 +268,43 @@ fn conflicting_lower_priority_package_names_its_conflict() {
     assert_eq!(l.name, "legacy");
     assert_eq!(l.conflicts_with, vec!["web"]);
     assert!(l.reason.contains("web"), "{}", l.reason);
+    assert!(
+        l.reason
+            .ends_with("; the other kept entries leave room for it"),
+        "{}",
+        l.reason
+    );
+}
+
+/// The conflict named is a smallest set, not the only one: when another kept entry conflicts
+/// too, the reason says so, since leaving out the one named would not let the entry in.
+#[test]
+fn a_conflict_shared_by_several_kept_entries_says_so() {
+    let registry = "packages:
+- name: core
+  versions: [{version: 1.0.0}, {version: 2.0.0}]
+- name: web
+  versions: [{version: 1.0.0, depends: [{name: core, req: ^2}]}]
+- name: api
+  versions: [{version: 1.0.0, depends: [{name: core, req: ^2}]}]
+- name: legacy
+  versions: [{version: 1.0.0, depends: [{name: core, req: ^1}]}]
+";
+    let inp = inputs(registry, ONE_IMAGE, "priorities: [web, api, legacy]\n");
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    let l = &p.left_out[0];
+    assert_eq!((l.name.as_str(), l.conflicts_with.len()), ("legacy", 1));
+    assert!(
+        l.reason
+            .ends_with("; other kept entries conflict with it too"),
+        "{}",
+        l.reason
+    );
 }
 
 #[test]

@@ -338,10 +338,26 @@ pub fn preinstall(
                     }
                 }
                 let names: Vec<String> = culprits.iter().map(|r| r.name.clone()).collect();
+                // The set is minimal, not the only one: say whether leaving it out would let
+                // the entry in, so nobody drops a package for nothing.
+                let others = if names.is_empty() {
+                    String::new()
+                } else {
+                    let mut rest: Vec<&Root> =
+                        kept.iter().filter(|k| !names.contains(&k.name)).collect();
+                    rest.push(&candidate);
+                    match joint(&view, &rest, options.budget).solved {
+                        Solved::Installs { .. } => {
+                            "; the other kept entries leave room for it".to_string()
+                        }
+                        Solved::Fails(_) => "; other kept entries conflict with it too".to_string(),
+                        Solved::Undecided { .. } => String::new(),
+                    }
+                };
                 left_out.push(LeftOut {
                     name: entry.name.clone(),
                     reason: format!(
-                        "cannot be installed together with {}",
+                        "cannot be installed together with {}{others}",
                         if names.is_empty() {
                             "the kept packages".to_string()
                         } else {
