@@ -950,7 +950,7 @@ pub struct ImagePlan {
 
 /// Builds the image plan for the selected images: runtime coverage per base image,
 /// system-package advice and the pre-install set of each image.
-pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePlan, BadInput> {
+pub fn build_imageplan(mut inputs: Inputs, o: &ImageplanCommand) -> Result<ImagePlan, BadInput> {
     if !(0.0..=1.0).contains(&o.target) {
         return Err(BadInput::file(
             "command line",
@@ -973,35 +973,45 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
         selected = inputs.images.images.clone();
     }
     let runtimes = if o.runtimes.is_empty() {
-        plan::coverage::declared_runtimes(inputs)
+        plan::coverage::declared_runtimes(&inputs)
     } else {
         o.runtimes.clone()
     };
+    // Every step below reads the selected images only; the system report walks all images of
+    // its inputs, so the inputs are narrowed in place (a copy would double the registry).
+    inputs.images.images = selected;
+    let inputs = &inputs;
+    let selected = &inputs.images.images;
     let sets = crate::solve::SetCache::default();
     if let Some(pb) = &o.plan.progress {
         let template = "{pos}/{len} cells at candidate runtimes, {rate}, eta {eta} {wide_bar}";
         crate::load::start_bar(pb, 0, template);
     }
-    let coverage = plan::coverage::default_bases(&selected)
+    let coverage = plan::coverage::default_bases(selected)
         .into_iter()
         .map(|base| plan::coverage::coverage(inputs, base, &runtimes, target, &o.plan, &sets))
         .collect();
-    // The system report walks every image of its inputs, so it gets inputs narrowed to the
-    // selection rather than a filtered copy of a full report.
-    let narrowed = Inputs {
-        images: crate::model::ImageSet {
-            images: selected.clone(),
-        },
-        ..inputs.clone()
-    };
     let system = o.plan.native.then(|| {
-        let matrix = plan::plan(&narrowed, &o.plan);
-        plan::system::system_report(&narrowed, &matrix)
+        let matrix = plan::plan(inputs, &o.plan);
+        plan::system::system_report(inputs, &matrix)
     });
-    let preinstall = selected
-        .iter()
-        .map(|img| plan::preinstall::preinstall(inputs, img, &o.plan, &sets))
-        .collect();
+    if let Some(pb) = &o.plan.progress {
+        let entries = (inputs.priorities.entries.len() * selected.len()) as u64;
+        let template =
+            "{pos}/{len} entries tried for pre-install sets, {rate}, eta {eta} {wide_bar}";
+        crate::load::start_bar(pb, entries, template);
+    }
+    // Images do not depend on each other; `collect` keeps their order.
+    let preinstall = {
+        use rayon::prelude::*;
+        selected
+            .par_iter()
+            .map(|img| plan::preinstall::preinstall(inputs, img, &o.plan, &sets))
+            .collect()
+    };
+    if let Some(pb) = &o.plan.progress {
+        pb.finish_and_clear();
+    }
     Ok(ImagePlan {
         notice: plan::matrix::notice(!o.plan.native),
         native_skipped: !o.plan.native,
@@ -1017,7 +1027,7 @@ pub fn build_imageplan(inputs: &Inputs, o: &ImageplanCommand) -> Result<ImagePla
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
-    let p = build_imageplan(&inputs, o)?;
+    let p = build_imageplan(inputs, o)?;
     let mut out = Output::default();
     if let Some(dir) = &o.out {
         let mut files = vec![(dir.join("imageplan.yaml"), report::to_yaml(&p).into_bytes())];

@@ -79,9 +79,44 @@ struct Root {
     set: IndexSet,
 }
 
+/// The joint solve of `roots`. `budget` is per root: a joint solve decides every root's
+/// closure, so one cell's budget would cut a set of hundreds of entries short and leave
+/// entries out for running out of steps, not for a conflict.
 fn joint(view: &ImageView<'_>, roots: &[&Root], budget: u64) -> CellSolve {
     let r: Vec<(PackageId, IndexSet)> = roots.iter().map(|r| (r.id, r.set.clone())).collect();
-    solve::solve_joint(view, &r, budget)
+    solve::solve_joint(view, &r, budget.saturating_mul(roots.len().max(1) as u64))
+}
+
+/// A smallest subset of `kept` (in priority order) that `fails` with the candidate, given that
+/// all of `kept` does, favouring the highest-priority entries: a conflict among the first
+/// entries is found before one that needs later ones. `fails` is told the subset to try.
+///
+/// Divide and conquer: when the first half (with what is already known to be needed) fails
+/// alone, nothing of the second half is needed; otherwise the part of the second half needed
+/// is found first, then the part of the first half needed beside it. This takes a number of
+/// solves about the conflict's size times the logarithm of `kept`'s, where dropping one entry
+/// at a time took one solve per kept entry, each of hundreds of roots on a large list.
+fn smallest_conflict<T: Copy>(kept: &[T], fails: &mut dyn FnMut(&[T]) -> bool) -> Vec<T> {
+    fn needed<T: Copy>(
+        known: &[T],
+        known_grew: bool,
+        among: &[T],
+        fails: &mut dyn FnMut(&[T]) -> bool,
+    ) -> Vec<T> {
+        if known_grew && fails(known) {
+            return Vec::new();
+        }
+        if among.len() <= 1 {
+            return among.to_vec();
+        }
+        let (first, second) = among.split_at(among.len() / 2);
+        let with_first = [known, first].concat();
+        let from_second = needed(&with_first, true, second, fails);
+        let with_those = [known, &from_second].concat();
+        let from_first = needed(&with_those, !from_second.is_empty(), first, fails);
+        [from_first, from_second].concat()
+    }
+    needed(&[], false, kept, fails)
 }
 
 /// Why a closure certainly fails natively on the image, by the rule `plan` applies to a
@@ -231,10 +266,10 @@ impl NativeChecks<'_> {
 /// packages plus it still have a joint solution and, with the native step, no kept entry's
 /// part of that solution certainly fails natively (the joint solve may pick an older release
 /// of it, or move a kept entry to one, that fails where the release chosen alone did not).
-/// When they have no joint solution, the conflict is named by deletion: starting from all
-/// kept packages, each is dropped (lowest priority first) if the rest plus the candidate
-/// still fail, which leaves a minimal conflicting subset that favours the highest-priority
-/// packages. A joint solve that runs out of budget counts as "not shown
+/// When they have no joint solution, the conflict named is a smallest subset of the kept
+/// packages that fails with the candidate, favouring the highest-priority packages
+/// ([`smallest_conflict`]); the reason says whether the other kept packages leave room for
+/// it. Joint solves get `options.budget` per root. A joint solve that runs out of budget counts as "not shown
 /// to fail", so it never names a package without evidence.
 pub fn preinstall(
     inputs: &Inputs,
@@ -252,6 +287,9 @@ pub fn preinstall(
         fails: BTreeMap::new(),
     };
     for entry in &inputs.priorities.entries {
+        if let Some(pb) = &options.progress {
+            pb.inc(1);
+        }
         let cell = plan_cell(inputs, &view, entry, options);
         if cell.outcome == Outcome::Undecided {
             // Not shown to fail: left out only because nothing can be said of it yet.
@@ -323,20 +361,18 @@ pub fn preinstall(
                 conflicts_with: Vec::new(),
             }),
             Solved::Fails(_) => {
-                let mut culprits: Vec<&Root> = kept.iter().collect();
-                for i in (0..culprits.len()).rev() {
-                    let mut trial: Vec<&Root> = culprits
+                let all: Vec<&Root> = kept.iter().collect();
+                let culprits = smallest_conflict(&all, &mut |some: &[&Root]| {
+                    let trial: Vec<&Root> = some
                         .iter()
-                        .enumerate()
-                        .filter(|(j, _)| *j != i)
-                        .map(|(_, r)| *r)
+                        .copied()
+                        .chain(std::iter::once(&candidate))
                         .collect();
-                    trial.push(&candidate);
-                    let s = joint(&view, &trial, options.budget);
-                    if matches!(s.solved, Solved::Fails(_)) {
-                        culprits.remove(i);
-                    }
-                }
+                    matches!(
+                        joint(&view, &trial, options.budget).solved,
+                        Solved::Fails(_)
+                    )
+                });
                 let names: Vec<String> = culprits.iter().map(|r| r.name.clone()).collect();
                 // The set is minimal, not the only one: say whether leaving it out would let
                 // the entry in, so nobody drops a package for nothing.
@@ -556,4 +592,58 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         }
     }
     s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::smallest_conflict;
+
+    /// The subset dropping one entry at a time finds, lowest priority first: the reference.
+    fn by_deletion(kept: &[u32], fails: &dyn Fn(&[u32]) -> bool) -> Vec<u32> {
+        let mut culprits = kept.to_vec();
+        for i in (0..culprits.len()).rev() {
+            let trial: Vec<u32> = culprits
+                .iter()
+                .enumerate()
+                .filter(|(j, _)| *j != i)
+                .map(|(_, r)| *r)
+                .collect();
+            if fails(&trial) {
+                culprits.remove(i);
+            }
+        }
+        culprits
+    }
+
+    #[test]
+    fn the_smallest_conflict_is_the_one_deletion_finds_in_fewer_solves() {
+        // Conflicts as families of sets: a subset fails when it holds one of them whole, which
+        // is monotone, as joint solves are (more roots, no fewer constraints).
+        let mut seed = 0x2545_f491_4f6c_dd1du64;
+        let mut next = move |n: u64| {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            seed % n
+        };
+        for _ in 0..300 {
+            let n = 1 + next(60) as u32;
+            let kept: Vec<u32> = (0..n).collect();
+            let family: Vec<Vec<u32>> = (0..1 + next(4))
+                .map(|_| (0..1 + next(4)).map(|_| next(n as u64) as u32).collect())
+                .collect();
+            let fails = |s: &[u32]| family.iter().any(|c| c.iter().all(|x| s.contains(x)));
+            let mut solves = 0;
+            let found = smallest_conflict(&kept, &mut |s: &[u32]| {
+                solves += 1;
+                fails(s)
+            });
+            assert_eq!(found, by_deletion(&kept, &fails), "{family:?}");
+            assert!(fails(&found));
+            assert!(
+                solves <= 2 * 4 * (1 + n.ilog2() as usize) + 2,
+                "{solves} solves for {n}"
+            );
+        }
+    }
 }
