@@ -1071,3 +1071,54 @@ fn the_runtime_hint_tries_each_precedence_once() {
         assert_eq!(tried, [own, "4.1.0"], "{image}");
     }
 }
+
+/// A fact about every release of a package names the package before its versions, not after:
+/// "corella any version depends on wombil ^1" read as if "any version" were part of the name,
+/// and "no version of ... can be used here: any version: 2 versions yanked" repeated what the
+/// counts say.
+#[test]
+fn facts_about_every_version_read_as_sentences() {
+    let registry = r#"packages:
+  - name: corella
+    versions:
+      - {version: "0.1.0", depends: [{name: wombil, req: "^1"}]}
+      - {version: "0.2.0", depends: [{name: wombil, req: "^1"}]}
+  - name: dunnart
+    versions:
+      - {version: "1.0.0", yanked: true}
+      - {version: "1.1.0", yanked: true}
+"#;
+    let inputs = inputs(registry, "priorities: [corella, dunnart]\n");
+    let options = PlanOptions::default();
+    let corella = explain(&inputs, "corella", "deb", &options).unwrap();
+    assert!(
+        corella
+            .cell
+            .explanation
+            .iter()
+            .any(|l| l == "every version of corella (0.1.0 to 0.2.0) depends on wombil ^1"),
+        "{:?}",
+        corella.cell.explanation
+    );
+    let dunnart = explain(&inputs, "dunnart", "deb", &options).unwrap();
+    assert!(
+        dunnart
+            .cell
+            .explanation
+            .iter()
+            .any(|l| l == "no version of dunnart can be used here: 2 versions yanked"),
+        "{:?}",
+        dunnart.cell.explanation
+    );
+    for l in corella
+        .cell
+        .explanation
+        .iter()
+        .chain(&dunnart.cell.explanation)
+    {
+        assert!(
+            !l.contains("any version depends") && !l.contains(": any version:"),
+            "{l}"
+        );
+    }
+}
