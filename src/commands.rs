@@ -887,7 +887,7 @@ pub struct DiffCommand {
 pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
-    let d = crate::verify::diff::diff(&a, &b, report::markdown);
+    let d = crate::verify::diff::diff(&a, &b, report::markdown_keyed);
     Ok(Output::report(o.format, &d, text::diff_text, d.any()))
 }
 
