@@ -746,7 +746,7 @@ pub fn explain(o: &ExplainCommand) -> Result<Output> {
     Ok(Output::report(
         o.format,
         &e,
-        text::explain_text,
+        report::explain::explain_text,
         plan::explain::needs_attention(e.cell.outcome),
     ))
 }

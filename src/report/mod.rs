@@ -2,6 +2,7 @@
 //! matrix as Markdown, CSV and a self-contained HTML page, files written atomically.
 
 pub mod csv;
+pub mod explain;
 pub mod html;
 pub mod layout;
 pub mod markdown;
