@@ -746,7 +746,7 @@ pub fn explain(o: &ExplainCommand) -> Result<Output> {
     Ok(Output::report(
         o.format,
         &e,
-        text::explain_text,
+        report::text::explain_text,
         plan::explain::needs_attention(e.cell.outcome),
     ))
 }
@@ -887,7 +887,7 @@ pub struct DiffCommand {
 pub fn diff(o: &DiffCommand) -> Result<Output> {
     let a = read_matrix(&o.before)?;
     let b = read_matrix(&o.after)?;
-    let d = crate::verify::diff::diff(&a, &b, report::markdown);
+    let d = crate::verify::diff::diff(&a, &b, report::markdown_keyed);
     Ok(Output::report(o.format, &d, text::diff_text, d.any()))
 }
 

@@ -1095,3 +1095,128 @@ fn native_evidence_is_one_line_per_library() {
         text.starts_with("native evidence per package (the newest release chosen on any image")
     );
 }
+
+/// A fact about every release of a package names the package before its versions, not after:
+/// "corella any version depends on wombil ^1" read as if "any version" were part of the name,
+/// and "no version of ... can be used here: any version: 2 versions yanked" repeated what the
+/// counts say.
+#[test]
+fn facts_about_every_version_read_as_sentences() {
+    let registry = r#"packages:
+  - name: corella
+    versions:
+      - {version: "0.1.0", depends: [{name: wombil, req: "^1"}]}
+      - {version: "0.2.0", depends: [{name: wombil, req: "^1"}]}
+  - name: dunnart
+    versions:
+      - {version: "1.0.0", yanked: true}
+      - {version: "1.1.0", yanked: true}
+"#;
+    let inputs = inputs(registry, "priorities: [corella, dunnart]\n");
+    let options = PlanOptions::default();
+    let corella = explain(&inputs, "corella", "deb", &options).unwrap();
+    assert!(
+        corella
+            .cell
+            .explanation
+            .iter()
+            .any(|l| l == "every version of corella (0.1.0 to 0.2.0) depends on wombil ^1"),
+        "{:?}",
+        corella.cell.explanation
+    );
+    let dunnart = explain(&inputs, "dunnart", "deb", &options).unwrap();
+    assert!(
+        dunnart
+            .cell
+            .explanation
+            .iter()
+            .any(|l| l == "no version of dunnart can be used here: 2 versions yanked"),
+        "{:?}",
+        dunnart.cell.explanation
+    );
+    for l in corella
+        .cell
+        .explanation
+        .iter()
+        .chain(&dunnart.cell.explanation)
+    {
+        assert!(
+            !l.contains("any version depends") && !l.contains(": any version:"),
+            "{l}"
+        );
+    }
+}
+
+/// A release whose runtime requirement has a gap (`>=1.4, <1.7 || >=2.1`) on an image inside
+/// the gap fails `runtime-too-old`, yet resolves at an older declared runtime. The lowest
+/// success alone pointed away from the upgrade the verdict asks for: the hint also tries the
+/// declared runtimes above the image's, nearest first, and names the first that resolves.
+#[test]
+fn the_runtime_hint_follows_the_cause_past_a_gap() {
+    let image = |id: &str, rt: &str| {
+        format!(
+            "  - {{id: {id}, runtime: {rt}, family: debian, platform: linux/glibc/x86_64, toolchain: true}}\n"
+        )
+    };
+    let registry = "packages:\n  - name: quokka-io\n    versions: [{version: \"1.0.0\", runtime: \">=1.4, <1.7 || >=2.1\"}]\n  - name: bilby-net\n    versions: [{version: \"1.0.0\", runtime: \">=2.1\"}]\n";
+    let all = format!(
+        "images:\n{}{}{}{}",
+        image("old", "1.6.2"),
+        image("gap", "2.0.0"),
+        image("new", "2.1.3"),
+        image("newer", "2.2.0")
+    );
+    let inputs = inputs_on(&all, registry, "priorities: [quokka-io, bilby-net]\n");
+    let e = explain(&inputs, "quokka-io", "gap", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.cause, Some(Cause::RuntimeTooOld));
+    let hint = e.runtime_hint.as_ref().unwrap();
+    assert_eq!(hint.resolves_at().unwrap().version, "1.6.2");
+    let toward = hint.toward_cause.as_ref().expect("a try toward the cause");
+    let tried: Vec<&str> = toward.trials.iter().map(|t| t.version.as_str()).collect();
+    assert_eq!(tried, ["2.1.3"]);
+    let text = basefit::report::text::explain_text(&e);
+    let lines: Vec<&str> = text.lines().map(str::trim).collect();
+    let lowest = lines
+        .iter()
+        .position(|l| *l == "lowest declared runtime at which it resolves here: 1.6.2 (installs)")
+        .expect(&text);
+    assert_eq!(
+        lines[lowest + 1],
+        "nearest newer declared runtime, as the cause points: 2.1.3 (installs)",
+        "{text}"
+    );
+    let json = serde_json::to_value(&e).unwrap();
+    assert_eq!(
+        json["runtime_hint"]["toward_cause"]["trials"][0]["version"],
+        "2.1.3"
+    );
+
+    // No newer declared runtime: the hint says so rather than staying silent.
+    let capped = format!(
+        "images:\n{}{}",
+        image("old", "1.6.2"),
+        image("gap", "2.0.0")
+    );
+    let inputs = inputs_on(&capped, registry, "priorities: [quokka-io]\n");
+    let e = explain(&inputs, "quokka-io", "gap", &PlanOptions::default()).unwrap();
+    let toward = e
+        .runtime_hint
+        .as_ref()
+        .unwrap()
+        .toward_cause
+        .as_ref()
+        .unwrap();
+    assert!(toward.trials.is_empty());
+    assert!(
+        basefit::report::text::explain_text(&e).contains(
+            "the cause points to a newer runtime, but no declared image's runtime is newer than this one"
+        )
+    );
+
+    // Where the lowest success already lies the way the cause points, nothing is added.
+    let inputs = inputs_on(&all, registry, "priorities: [bilby-net]\n");
+    let e = explain(&inputs, "bilby-net", "gap", &PlanOptions::default()).unwrap();
+    let hint = e.runtime_hint.as_ref().unwrap();
+    assert_eq!(hint.resolves_at().unwrap().version, "2.1.3");
+    assert!(hint.toward_cause.is_none());
+}

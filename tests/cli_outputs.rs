@@ -1123,3 +1123,55 @@ fn a_failing_entry_shows_its_requirement_as_written() {
         "{out}"
     );
 }
+
+/// One early cell that stops failing changes its row, its package's note and its image's
+/// counts, and nothing else: numbered notes shifted the number of every later note, and the unified diff
+/// was mostly rows whose only change was a number.
+#[test]
+fn diff_of_one_changed_cell_holds_only_that_cells_lines() {
+    let dir = tempfile::tempdir().unwrap();
+    let (before, mut m) = demo_matrix(dir.path());
+    let first_row = m["packages"].as_array().unwrap().iter().find_map(|p| {
+        let name = p["name"].as_str().unwrap();
+        m["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .position(|c| c["package"] == name && c["outcome"] != "installs")
+    });
+    let i = first_row.expect("a cell that does not install");
+    let cell = &mut m["cells"][i];
+    let (package, image) = (
+        cell["package"].as_str().unwrap().to_string(),
+        cell["image"].as_str().unwrap().to_string(),
+    );
+    cell["outcome"] = "installs".into();
+    cell["cause"] = serde_json::Value::Null;
+    // The demo has later notes whose numbers this cell's note would have shifted.
+    let notes_after = m["cells"].as_array().unwrap()[i + 1..]
+        .iter()
+        .filter(|c| c["outcome"] != "installs")
+        .count();
+    assert!(notes_after > 10, "{notes_after}");
+    let after = write_json(dir.path(), "after.json", &m);
+    let (code, out, err) = run(&["diff"], &[&before, &after]);
+    assert_eq!(code, 1, "{out}{err}");
+    assert!(out.starts_with("1 cells changed\n"), "{out}");
+    let changed: Vec<&str> = out
+        .lines()
+        .filter(|l| (l.starts_with('-') || l.starts_with('+')) && !l.starts_with("---"))
+        .filter(|l| !l.starts_with("+++"))
+        .collect();
+    let image_row = format!("| {image} |");
+    for l in &changed {
+        assert!(
+            l.contains(&format!("| {package} |"))
+                || l[1..].starts_with(&format!("- **[{package} on "))
+                || l[1..].starts_with(&image_row),
+            "{l}\n{out}"
+        );
+    }
+    // Its row before and after, its note (which, shared with other images of the row, reads
+    // as theirs after), its image's counts before and after.
+    assert!(changed.len() <= 6, "{out}");
+}

@@ -686,16 +686,18 @@ fn markdown_names_and_notes_never_become_links_on_github() {
             c.explanation = vec![format!("{new} needs www.evil.test; mail x@evil.test")];
         }
     }
-    let md = markdown(&m);
     let mut options = comrak::Options::default();
     options.extension.table = true;
     options.extension.autolink = true;
     options.extension.strikethrough = true;
-    let html = comrak::markdown_to_html(&md, &options);
-    assert!(!html.contains("<a "), "{html}");
-    // Escaping does not change what a reader sees: every name is there as written.
-    for name in links {
-        assert!(html.contains(name), "{name} in {html}");
+    // `diff`'s rendering labels notes with the names too (`[ops.team@evil.test on img]`).
+    for md in [markdown(&m), basefit::report::markdown_keyed(&m)] {
+        let html = comrak::markdown_to_html(&md, &options);
+        assert!(!html.contains("<a "), "{html}");
+        // Escaping does not change what a reader sees: every name is there as written.
+        for name in links {
+            assert!(html.contains(name), "{name} in {html}");
+        }
     }
     // The demo page, rendered the same way, has no link either: none of its text is meant as one.
     let demo = std::fs::read_to_string("tests/data/demo-matrix.json").unwrap();

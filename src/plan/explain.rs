@@ -86,6 +86,38 @@ impl Trial {
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct RuntimeHint {
     pub trials: Vec<Trial>,
+    /// When the lowest runtime at which it resolves lies the other way from the one the cause
+    /// points to (a `runtime-too-old` cell that resolves at an older runtime, as a release
+    /// with a gap in its runtime requirement can): the declared runtimes the cause points to,
+    /// nearest the image's first, up to and including the first at which it resolves. The
+    /// lowest success alone would send the reader away from the upgrade the verdict asks for.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub toward_cause: Option<TowardCause>,
+}
+
+/// The declared runtimes tried in the direction a runtime cause points to.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct TowardCause {
+    /// `newer` for `runtime-too-old`, `older` for `runtime-too-new`.
+    pub direction: Direction,
+    /// Nearest the image's runtime first; a runtime also in [`RuntimeHint::trials`] is its
+    /// trial there, not solved again.
+    pub trials: Vec<Trial>,
+}
+
+/// Which way from the image's runtime.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Direction {
+    Newer,
+    Older,
+}
+
+impl TowardCause {
+    /// The nearest runtime in the direction at which it resolves, if any was found.
+    pub fn resolves_at(&self) -> Option<&Trial> {
+        self.trials.last().filter(|t| t.resolves())
+    }
 }
 
 impl RuntimeHint {
@@ -206,9 +238,8 @@ fn runtime_hint(
 ) -> RuntimeHint {
     // One per precedence: `3.2.0+distro.4` admits what `3.2.0` admits.
     let runtimes = crate::plan::coverage::declared_runtimes(inputs);
-    let mut trials = Vec::new();
-    for rt in runtimes {
-        let trial = if rt.cmp_precedence(&image.runtime).is_eq() {
+    let try_at = |rt: &semver::Version| {
+        if rt.cmp_precedence(&image.runtime).is_eq() {
             // The cell itself: the hint must not contradict it.
             Trial::of(image.runtime.to_string(), cell)
         } else {
@@ -216,14 +247,67 @@ fn runtime_hint(
             trial.runtime = rt.clone();
             let view = ImageView::new(&inputs.registry, &trial, sets);
             Trial::of(rt.to_string(), &plan_cell(inputs, &view, entry, options))
-        };
+        }
+    };
+    let mut trials: Vec<(semver::Version, Trial)> = Vec::new();
+    for rt in &runtimes {
+        let trial = try_at(rt);
         let done = trial.resolves();
-        trials.push(trial);
+        trials.push((rt.clone(), trial));
         if done {
             break;
         }
     }
-    RuntimeHint { trials }
+    let lowest = trials
+        .last()
+        .filter(|(_, t)| t.resolves())
+        .map(|(rt, _)| rt);
+    let direction = match cell.cause {
+        Some(Cause::RuntimeTooOld) => Some(Direction::Newer),
+        Some(Cause::RuntimeTooNew) => Some(Direction::Older),
+        _ => None,
+    };
+    let wrong_way = |d: Direction| {
+        let order = lowest.map(|rt| rt.cmp_precedence(&image.runtime));
+        match d {
+            Direction::Newer => order.is_some_and(|o| o.is_lt()),
+            Direction::Older => order.is_some_and(|o| o.is_gt()),
+        }
+    };
+    let toward_cause = direction.filter(|&d| wrong_way(d)).map(|direction| {
+        let ahead: Vec<&semver::Version> = match direction {
+            Direction::Newer => runtimes
+                .iter()
+                .filter(|rt| rt.cmp_precedence(&image.runtime).is_gt())
+                .collect(),
+            Direction::Older => runtimes
+                .iter()
+                .rev()
+                .filter(|rt| rt.cmp_precedence(&image.runtime).is_lt())
+                .collect(),
+        };
+        let mut toward = Vec::new();
+        for rt in ahead {
+            let known = trials
+                .iter()
+                .find(|(tried, _)| tried.cmp_precedence(rt).is_eq())
+                .map(|(_, t)| t.clone());
+            let trial = known.unwrap_or_else(|| try_at(rt));
+            let done = trial.resolves();
+            toward.push(trial);
+            if done {
+                break;
+            }
+        }
+        TowardCause {
+            direction,
+            trials: toward,
+        }
+    });
+    RuntimeHint {
+        trials: trials.into_iter().map(|(_, t)| t).collect(),
+        toward_cause,
+    }
 }
 
 /// Older releases are judged like the cell itself, native step included, by pinning the

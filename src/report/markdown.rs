@@ -78,9 +78,32 @@ struct Note {
     text: String,
 }
 
+/// How the notes under the table are labelled.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum NoteLabels {
+    /// `[1]`, `[2]`, ... in reading order: short, for people reading one matrix.
+    Numbered,
+    /// `[saltbush on deb-2.4]`: the package and the first image the note is for, so a cell
+    /// that changes relabels no note but its own (a note shared with later images of its row
+    /// takes the next one's name, on lines that change anyway). Counting notes within a row
+    /// would still renumber the row's later notes.
+    ByCell,
+}
+
 /// Renders the matrix as Markdown. Rows keep the matrix's priority order and columns the
 /// declared image order, so re-rendering after a change diffs line by line.
 pub fn markdown(m: &Matrix) -> String {
+    render(m, NoteLabels::Numbered)
+}
+
+/// [`markdown`] with each note labelled by its cell (`[saltbush on deb-2.4]`) instead of numbered,
+/// for `diff`: with numbers, a cell that gains or loses a note renumbers every later note,
+/// and the unified diff of two renderings is mostly rows whose only change is a number.
+pub fn markdown_keyed(m: &Matrix) -> String {
+    render(m, NoteLabels::ByCell)
+}
+
+fn render(m: &Matrix, labels: NoteLabels) -> String {
     let cells = grid(m);
     let counts = layout::column_counts(m, &cells);
     let mut out = String::new();
@@ -120,6 +143,22 @@ pub fn markdown(m: &Matrix) -> String {
         }
         refs.push(row_refs);
     }
+    // A note's label from its number (1-based).
+    let label = |n: usize| match labels {
+        NoteLabels::Numbered => n.to_string(),
+        NoteLabels::ByCell => {
+            let note = notes.get(n - 1);
+            let package = note.and_then(|t| m.packages.get(t.row));
+            let image = note
+                .and_then(|t| t.images.first())
+                .and_then(|&c| m.images.get(c));
+            format!(
+                "{} on {}",
+                escape_markdown(package.map_or("", |p| p.name.as_str())),
+                escape_markdown(image.map_or("", |i| i.id.as_str()))
+            )
+        }
+    };
 
     out.push_str("| # | package |");
     for img in &m.images {
@@ -139,7 +178,7 @@ pub fn markdown(m: &Matrix) -> String {
                     out.push(' ');
                     out.push_str(&cell_symbol(cell));
                     if let Some(n) = note {
-                        let _ = write!(out, " [{n}]");
+                        let _ = write!(out, " [{}]", label(*n));
                     }
                     out.push_str(" |");
                 }
@@ -173,7 +212,10 @@ pub fn markdown(m: &Matrix) -> String {
     if any_missing {
         let _ = writeln!(out, "- {NO_CELL} not in this matrix (not planned)");
     }
-    out.push_str("- [n] see note n below\n");
+    out.push_str(match labels {
+        NoteLabels::Numbered => "- [n] see note n below\n",
+        NoteLabels::ByCell => "- [package on image] see the note of that label below\n",
+    });
 
     if !notes.is_empty() {
         out.push_str("\n**Notes**\n\n");
@@ -188,7 +230,7 @@ pub fn markdown(m: &Matrix) -> String {
             let _ = writeln!(
                 out,
                 "- **[{}]** {} on {}: {}",
-                i + 1,
+                label(i + 1),
                 escape_markdown(package),
                 images.join(", "),
                 note.text

@@ -10,7 +10,7 @@ pub mod text;
 pub use csv::csv;
 pub use html::html;
 pub use layout::visible;
-pub use markdown::markdown;
+pub use markdown::{markdown, markdown_keyed};
 
 use anyhow::{Context, Result};
 use serde::Serialize;

@@ -3,7 +3,9 @@
 use crate::load::Ledger;
 use crate::load::diag::{RecordKind, Reference, Tally, Unplaced};
 use crate::plan::blockers::SharedBlocker;
-use crate::plan::explain::{Explanation, NotAdmitted, ReleaseHint, RuntimeHint, Trial};
+use crate::plan::explain::{
+    Direction, Explanation, NotAdmitted, ReleaseHint, RuntimeHint, TowardCause, Trial,
+};
 use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
 use serde::Serialize;
 use std::fmt::Write;
@@ -419,6 +421,76 @@ fn failed_trials(trials: &[Trial]) -> [Vec<&Trial>; 3] {
 /// The runtime hint, saying only what its trials found: a runtime where the solver ran out
 /// of budget is unknown, and one where the version constraints resolve but a native need
 /// fails is not said not to resolve.
+/// What the declared runtimes in the cause's direction gave, saying only what their trials
+/// found, as the other hints do: a runtime where the solver ran out of budget is unknown, and
+/// one where the version constraints resolve but a native need fails is not said not to
+/// resolve.
+fn toward_cause_line(t: &TowardCause) -> String {
+    let (way, a_way) = match t.direction {
+        Direction::Newer => ("newer", "a newer"),
+        Direction::Older => ("older", "an older"),
+    };
+    let Some(found) = t.resolves_at() else {
+        if t.trials.is_empty() {
+            return format!(
+                "the cause points to {a_way} runtime, but no declared image's runtime is {way} than this one"
+            );
+        }
+        let noun = if t.trials.len() == 1 {
+            "runtime"
+        } else {
+            "runtimes"
+        };
+        return format!(
+            "{way} declared {noun}, as the cause points: {}",
+            failures(&t.trials)
+        );
+    };
+    let nearer = &t.trials[..t.trials.len() - 1];
+    // A nearer runtime the solver gave up on may resolve too: then this one is not known
+    // to be the nearest.
+    let nearest = if nearer.iter().any(Trial::undecided) {
+        ""
+    } else {
+        "nearest "
+    };
+    let at = if nearer.is_empty() {
+        ""
+    } else {
+        " at which it resolves"
+    };
+    let mut line = format!(
+        "{nearest}{way} declared runtime{at}, as the cause points: {} ({})",
+        found.version,
+        found.outcome.as_str()
+    );
+    if !nearer.is_empty() {
+        line.push_str(&format!("; nearer: {}", failures(nearer)));
+    }
+    line
+}
+
+/// Failed trials for a sentence, each with what is known of it.
+fn failures(trials: &[Trial]) -> String {
+    trials
+        .iter()
+        .map(|t| {
+            let what = if t.fails_natively() {
+                format!(
+                    "its version constraints resolve, but it fails: {}",
+                    t.cause.map_or("", |c| c.as_str())
+                )
+            } else if t.undecided() {
+                "the solver ran out of budget (raise --budget)".to_string()
+            } else {
+                "its version constraints do not resolve".to_string()
+            };
+            format!("{} ({what})", t.version)
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
 fn runtime_hint_lines(h: &RuntimeHint) -> Vec<String> {
     let [native, undecided, unresolved] = failed_trials(&h.trials);
     let mut out = Vec::new();
@@ -440,6 +512,9 @@ fn runtime_hint_lines(h: &RuntimeHint) -> Vec<String> {
                 "at the lower {} the solver ran out of budget, so it may resolve lower (raise --budget)",
                 runtimes(&undecided)
             ));
+        }
+        if let Some(toward) = &h.toward_cause {
+            out.push(toward_cause_line(toward));
         }
         return out;
     }

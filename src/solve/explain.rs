@@ -3,7 +3,7 @@
 use super::Cause;
 use super::image::{Admission, ImageView};
 use super::provider::{Node, Observed, pick};
-use super::sets::{IndexSet, describe, indices};
+use super::sets::{IndexSet, describe, describe_named, indices, is_every_version};
 use crate::model::PackageId;
 use pubgrub::{DerivationTree, External};
 use rustc_hash::FxHashMap;
@@ -384,10 +384,14 @@ pub(crate) fn unusable(
         };
         parts.push(phrase);
     }
-    (
-        cause,
-        format!("{}: {}", describe(registry, package, set), parts.join(", ")),
-    )
+    // Counts that cover every release already say which versions: "any version: 2 versions
+    // yanked" would only repeat them.
+    let phrase = if is_every_version(registry, package, set) {
+        parts.join(", ")
+    } else {
+        format!("{}: {}", describe(registry, package, set), parts.join(", "))
+    };
+    (cause, phrase)
 }
 
 /// Whether some release of `package` in `set` is admissible, recording in `record`, when so,
@@ -832,9 +836,8 @@ pub fn explain(
                         }
                         stated.push((*ap, *b, req.clone(), sa.clone()));
                         lines.push(format!(
-                            "{} {} depends on {target} {req}",
-                            registry.name(*ap),
-                            describe(registry, *ap, sa)
+                            "{} depends on {target} {req}",
+                            describe_named(registry, *ap, sa)
                         ));
                         for sib in siblings.get_mut(ap).map(std::mem::take).unwrap_or_default() {
                             let name = registry.name(sib.package);
@@ -844,9 +847,8 @@ pub fn explain(
                                 format!("{name} {}", sib.phrase)
                             };
                             lines.push(format!(
-                                "{} {} also depends on {name} {}; {unmet}",
-                                registry.name(*ap),
-                                describe(registry, *ap, sa),
+                                "{} also depends on {name} {}; {unmet}",
+                                describe_named(registry, *ap, sa),
                                 sib.req,
                             ));
                             leaf_causes.push((sib.package, sib.cause));

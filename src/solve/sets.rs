@@ -162,6 +162,31 @@ impl SetCache {
     }
 }
 
+/// A set of releases of `package` as the subject of a sentence, its name included:
+/// `every version of orvik-db (0.1.0 to 0.2.0)`, `orvik-db 1.0.0 to 1.4.2, 2.0.1`, or `no
+/// published version of orvik-db`. [`describe`]'s `any version` reads as a parenthesis
+/// ("asks for orvik-db (any version)") but not after a name ("orvik-db any version depends
+/// on ...").
+pub fn describe_named(registry: &Registry, package: PackageId, set: &IndexSet) -> String {
+    let name = registry.name(package);
+    let releases = &registry.package(package).releases;
+    let n = indices(set, releases.len()).count();
+    if n == 0 {
+        return format!("no published version of {name}");
+    }
+    if n == releases.len() && n > 1 {
+        return format!("every version of {name} ({})", runs(releases, set));
+    }
+    format!("{name} {}", describe(registry, package, set))
+}
+
+/// Whether `set` holds every release of `package`, and it has more than one: what
+/// [`describe`] calls `any version`.
+pub fn is_every_version(registry: &Registry, package: PackageId, set: &IndexSet) -> bool {
+    let len = registry.package(package).releases.len();
+    len > 1 && indices(set, len).count() == len
+}
+
 /// Renders a set of releases of `package` for people: `any version`, `1.2.0`, or runs such
 /// as `1.0.0 to 1.4.2, 2.0.1`.
 pub fn describe(registry: &Registry, package: PackageId, set: &IndexSet) -> String {
@@ -173,6 +198,13 @@ pub fn describe(registry: &Registry, package: PackageId, set: &IndexSet) -> Stri
     if idx.len() == releases.len() && releases.len() > 1 {
         return "any version".into();
     }
+    runs(releases, set)
+}
+
+/// The releases of `set` as runs of consecutive releases, `1.0.0 to 1.4.2, 2.0.1`, past four
+/// runs the first three and how many more.
+fn runs(releases: &[crate::model::Release], set: &IndexSet) -> String {
+    let idx: Vec<u32> = indices(set, releases.len()).collect();
     let mut runs: Vec<String> = Vec::new();
     let mut i = 0;
     while i < idx.len() {

@@ -50,7 +50,9 @@ pub struct MatrixDiff {
     /// when the side that installs never looked at system libraries.
     pub native_skipped: NativeSkipped,
     pub changes: Vec<CellChange>,
-    /// Unified diff of the two renderings; empty when they are equal.
+    /// Unified diff of the two renderings; empty when they are equal. `basefit diff` renders
+    /// with [`crate::report::markdown_keyed`], whose note labels do not shift when another
+    /// cell changes.
     pub unified: String,
     /// Whether the matrices differ at all, their notices aside: a closure's version, a
     /// summary, an image's packages or a weight below the rounding shown change neither a
