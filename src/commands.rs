@@ -837,22 +837,42 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             )?;
             // Recorded packages outside the priority list are planned too, so no result is
             // left uncompared.
-            let mut next_rank = inputs.priorities.entries.len();
-            for r in inputs.results.clone() {
-                if !inputs
-                    .priorities
-                    .entries
-                    .iter()
-                    .any(|e| e.name == r.package)
-                {
-                    next_rank += 1;
-                    inputs.priorities.entries.push(crate::model::Priority {
+            let mut rows: std::collections::HashMap<String, usize> = inputs
+                .priorities
+                .entries
+                .iter()
+                .enumerate()
+                .map(|(k, e)| (e.name.clone(), k))
+                .collect();
+            let mut added = Vec::new();
+            for r in &inputs.results {
+                if !rows.contains_key(&r.package) {
+                    let rank = inputs.priorities.entries.len() + added.len() + 1;
+                    rows.insert(r.package.clone(), rank - 1);
+                    added.push(crate::model::Priority {
                         weight: 0.0,
-                        ..crate::model::Priority::named(next_rank, &r.package, r.origin.clone())
+                        ..crate::model::Priority::named(rank, &r.package, r.origin.clone())
                     });
                 }
             }
-            plan::plan(&inputs, &o.plan)
+            inputs.priorities.entries.extend(added);
+            // Only the cells with results are read: planning the whole product would solve
+            // every recorded package on every image.
+            let columns: std::collections::HashMap<&str, usize> = inputs
+                .images
+                .images
+                .iter()
+                .enumerate()
+                .map(|(k, i)| (i.id.as_str(), k))
+                .collect();
+            let wanted: std::collections::BTreeSet<usize> = inputs
+                .results
+                .iter()
+                .filter_map(|r| {
+                    Some(rows[&r.package] * columns.len() + columns.get(r.image.as_str())?)
+                })
+                .collect();
+            plan::matrix::plan_only(&inputs, &o.plan, &wanted)
         }
     };
     let review = review_results(&matrix, &inputs, &o.inputs)?;

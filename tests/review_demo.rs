@@ -1168,3 +1168,32 @@ fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
         "{text}"
     );
 }
+
+/// `review` without `--matrix` solves only the cells with results: those cells equal a full
+/// plan's (cells are independent), and the others are marked, never passed off as predictions.
+#[test]
+fn planning_only_the_cells_with_results_gives_the_full_plans_cells() {
+    let inputs = load_inputs(&InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        ..Default::default()
+    })
+    .unwrap();
+    let full = plan(&inputs, &PlanOptions::default());
+    let wanted: std::collections::BTreeSet<usize> = (0..full.cells.len()).step_by(7).collect();
+    let only = basefit::plan::matrix::plan_only(&inputs, &PlanOptions::default(), &wanted);
+    assert_eq!(only.cells.len(), full.cells.len());
+    for (i, (a, b)) in only.cells.iter().zip(&full.cells).enumerate() {
+        let (a, b) = (
+            serde_json::to_value(a).unwrap(),
+            serde_json::to_value(b).unwrap(),
+        );
+        if wanted.contains(&i) {
+            assert_eq!(a, b, "cell {i}");
+        } else {
+            assert_eq!(a["outcome"], "undecided", "cell {i}");
+            assert_eq!(a["explanation"][0], basefit::plan::matrix::NOT_PLANNED);
+        }
+    }
+}

@@ -689,6 +689,73 @@ pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
     super::replan::replan(inputs, options, None, None).0.matrix
 }
 
+/// The explanation of a cell [`plan_only`] did not solve.
+pub const NOT_PLANNED: &str = "not planned: only the cells asked for were solved";
+
+/// Plans only the cells `wanted` names, by index (`row * images + column`, the order of
+/// [`Matrix::cells`]); the others are undecided, explained by [`NOT_PLANNED`]. For a caller
+/// that reads a few cells of a large product, such as a review of recorded results: planning
+/// every entry on every image would solve and hold cells nobody reads. Solved cells drop the
+/// record a re-plan cache keeps, which no reader of this matrix needs.
+///
+/// ```
+/// use basefit::plan::{PlanOptions, matrix::{plan_only, NOT_PLANNED}};
+/// let inputs = basefit::load::Inputs::default();
+/// let m = plan_only(&inputs, &PlanOptions::default(), &Default::default());
+/// assert!(m.cells.is_empty());
+/// ```
+pub fn plan_only(
+    inputs: &Inputs,
+    options: &PlanOptions,
+    wanted: &std::collections::BTreeSet<usize>,
+) -> Matrix {
+    use rayon::prelude::*;
+    let images = &inputs.images.images;
+    let sets = solve::SetCache::default();
+    let views: Vec<std::sync::OnceLock<ImageView<'_>>> =
+        images.iter().map(|_| std::sync::OnceLock::new()).collect();
+    if let Some(pb) = &options.progress {
+        crate::load::start_bar(
+            pb,
+            wanted.len() as u64,
+            "{pos}/{len} cells with recorded results, {rate}, eta {eta} {wide_bar}",
+        );
+    }
+    let total = inputs.priorities.entries.len() * images.len();
+    let cells: Vec<Cell> = (0..total)
+        .into_par_iter()
+        .map(|i| {
+            let entry = &inputs.priorities.entries[i / images.len()];
+            let image = &images[i % images.len()];
+            if !wanted.contains(&i) {
+                let mut cell = Cell::new(&entry.name, &image.id, Outcome::Undecided);
+                cell.explanation = vec![NOT_PLANNED.to_string()];
+                return cell;
+            }
+            if let Some(pb) = &options.progress {
+                pb.inc(1);
+            }
+            let view = views[i % images.len()]
+                .get_or_init(|| ImageView::new(&inputs.registry, image, &sets));
+            let mut cell = plan_cell(inputs, view, entry, options);
+            cell.observed = Observed::default();
+            cell
+        })
+        .collect();
+    if let Some(pb) = &options.progress {
+        pb.finish_and_clear();
+    }
+    Matrix {
+        notice: notice(!options.native),
+        native_skipped: !options.native,
+        images: image_columns(inputs),
+        packages: package_rows(inputs),
+        cells,
+        shard: None,
+        planned_from: None,
+    }
+}
+
 pub fn image_columns(inputs: &Inputs) -> Vec<ImageColumn> {
     inputs.images.images.iter().map(ImageColumn::of).collect()
 }
