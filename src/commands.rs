@@ -715,7 +715,7 @@ const MATRIX_FILES: [&str; 2] = ["matrix.yaml", "matrix.json"];
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
     let [yaml, json] = MATRIX_FILES.map(|name| dir.join(name));
     report::write_all_atomic(&[
-        (yaml.clone(), report::to_yaml(matrix).into_bytes()),
+        (yaml.clone(), report::matrix_yaml(matrix).into_bytes()),
         (json.clone(), report::to_json(matrix).into_bytes()),
     ])?;
     out.stderr
@@ -1218,7 +1218,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 report::markdown(&matrix),
                 report::csv(&matrix),
                 report::to_json(&matrix),
-                report::to_yaml(&matrix),
+                report::matrix_yaml(&matrix),
             ];
             let files = RENDERED_FILES.into_iter().zip(files);
             let files: Vec<(PathBuf, Vec<u8>)> = files
@@ -1235,7 +1235,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 MatrixFormat::Html => report::html(&matrix),
                 MatrixFormat::Csv => report::csv(&matrix),
                 MatrixFormat::Json => report::to_json(&matrix),
-                MatrixFormat::Yaml => report::to_yaml(&matrix),
+                MatrixFormat::Yaml => report::matrix_yaml(&matrix),
                 MatrixFormat::Markdown => report::markdown(&matrix),
             }
         }

@@ -215,3 +215,48 @@ fn a_yaml_1_1_reader_reads_the_imageplan_as_the_json_holds_it() {
     assert_eq!(expected["coverage"][0]["base_image"], "off");
     assert_eq!(pyyaml(&out.join("imageplan.yaml")), expected);
 }
+
+/// `matrix.yaml` is written a cell at a time (`report::matrix_yaml`) to keep large plans from
+/// holding the whole document as one tree; it must be exactly what the whole-tree writer gives,
+/// for this file's hostile names, the demo (recorded results included), an empty matrix and a
+/// shard.
+#[test]
+fn the_matrix_written_cell_by_cell_is_the_whole_tree_writers_bytes() {
+    use basefit::load::{InputPaths, load_inputs};
+    use basefit::plan::{PlanOptions, plan};
+    use basefit::report::{matrix_yaml, to_yaml};
+    let dir = tempfile::tempdir().unwrap();
+    let hostile = [
+        write(dir.path(), "r.yaml", REGISTRY),
+        write(dir.path(), "i.yaml", IMAGES),
+        write(dir.path(), "p.yaml", PRIORITIES),
+    ];
+    let demo = [
+        "demo-data/registry.yaml".into(),
+        "matrices/demo-images.yaml".into(),
+        "demo-data/priorities.yaml".into(),
+    ];
+    for [registry, images, priorities] in [hostile, demo] {
+        let inputs = load_inputs(&InputPaths {
+            registry: vec![registry],
+            images: Some(images),
+            priorities: Some(priorities),
+            results: vec!["demo-data/results.yaml".into()],
+            ..Default::default()
+        })
+        .unwrap();
+        let mut matrix = plan(&inputs, &PlanOptions::default());
+        let review = basefit::verify::compare_inputs(&matrix, &inputs);
+        basefit::verify::compare::annotate(&mut matrix, &review);
+        assert_eq!(matrix_yaml(&matrix), to_yaml(&matrix));
+        let (cache, _) = basefit::plan::replan::replan(
+            &inputs,
+            &PlanOptions::default(),
+            None,
+            basefit::plan::replan::Shard::parse("2/3").ok(),
+        );
+        assert_eq!(matrix_yaml(&cache.matrix), to_yaml(&cache.matrix));
+        matrix.cells.clear();
+        assert_eq!(matrix_yaml(&matrix), to_yaml(&matrix));
+    }
+}

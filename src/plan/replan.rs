@@ -1369,7 +1369,11 @@ pub fn replan(
         .into_iter()
         .zip(moves)
         .map(|((source, _, _), last)| match source {
-            Source::Solved(cell) => *cell,
+            // The basis holds what the solve observed now; the matrix outlives it without it.
+            Source::Solved(cell) => Cell {
+                observed: Default::default(),
+                ..*cell
+            },
             Source::Reused(k, updates) => {
                 let mut cell = if last {
                     std::mem::replace(&mut old_cells[k], Cell::new("", "", Outcome::Undecided))

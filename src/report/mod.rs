@@ -241,6 +241,55 @@ pub fn to_yaml<T: Serialize>(value: &T) -> String {
     out
 }
 
+/// [`to_yaml`] of a matrix, byte for byte, without holding the whole document as one tree:
+/// each cell becomes a tree of its own, written and dropped, which on a plan of 100,000 cells
+/// saves gigabytes.
+pub fn matrix_yaml(m: &crate::plan::Matrix) -> String {
+    let head = crate::plan::Matrix {
+        notice: m.notice.clone(),
+        native_skipped: m.native_skipped,
+        images: m.images.clone(),
+        packages: m.packages.clone(),
+        cells: Vec::new(),
+        shard: m.shard,
+        planned_from: m.planned_from.clone(),
+    };
+    yaml_with_items(&head, "cells", &m.cells)
+}
+
+/// [`to_yaml`] of `head`, a mapping whose entry `key` is an empty sequence standing for
+/// `items`, written one item at a time.
+fn yaml_with_items<H: Serialize, I: Serialize>(head: &H, key: &str, items: &[I]) -> String {
+    use serde_yaml::Value;
+    let head = serde_yaml::to_value(head).expect("report values serialize");
+    let Value::Mapping(map) = &head else {
+        unreachable!("a struct serializes as a mapping")
+    };
+    if items.is_empty() {
+        let mut out = String::new();
+        yaml_node(&mut out, &head, 0, Place::Top);
+        return out;
+    }
+    let mut out = String::new();
+    for (k, value) in map {
+        // Every key of a report struct is a short plain string: an implicit key.
+        yaml_key(&mut out, k);
+        out.push(':');
+        if k.as_str() == Some(key) {
+            // As `yaml_node` writes a non-empty sequence under a key at column 0.
+            out.push('\n');
+            for item in items {
+                let item = serde_yaml::to_value(item).expect("report values serialize");
+                out.push_str("- ");
+                yaml_node(&mut out, &item, 0, Place::Item);
+            }
+        } else {
+            yaml_node(&mut out, value, 0, Place::MapValue);
+        }
+    }
+    out
+}
+
 /// Where a node starts, which decides how a block collection under it is laid out.
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum Place {
