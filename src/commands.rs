@@ -518,7 +518,10 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     let (cache, stats) = plan::replan::replan(&inputs, &o.plan, previous, o.shard);
     let matrix = &cache.matrix;
     if let Some(dir) = &o.out {
-        write_matrix(matrix, dir, &mut out)?;
+        let bar = o.plan.progress.as_ref();
+        crate::load::spinning(bar, "writing matrix.yaml and matrix.json", || {
+            write_matrix(matrix, dir, &mut out)
+        })?;
     }
     if let Some(p) = &o.cache {
         if stats.previous_set_aside {
@@ -527,7 +530,9 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
                 p.display()
             ));
         }
-        report::write_atomic(p, cache.to_sealed_json().as_bytes())?;
+        crate::load::spinning(o.plan.progress.as_ref(), "writing the plan cache", || {
+            report::write_atomic(p, cache.to_sealed_json().as_bytes())
+        })?;
         out.stderr.push(format!(
             "plan cache {}: {} cells reused, {} solved",
             p.display(),
@@ -1213,19 +1218,22 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     data_quality_note(&inputs, &mut out);
     match &o.out {
         Some(dir) => {
-            let files = [
-                report::html(&matrix),
-                report::markdown(&matrix),
-                report::csv(&matrix),
-                report::to_json(&matrix),
-                report::matrix_yaml(&matrix),
-            ];
-            let files = RENDERED_FILES.into_iter().zip(files);
-            let files: Vec<(PathBuf, Vec<u8>)> = files
-                .into_iter()
-                .map(|(name, body)| (dir.join(name), body.into_bytes()))
-                .collect();
-            report::write_all_atomic(&files)?;
+            let write = || {
+                let files = [
+                    report::html(&matrix),
+                    report::markdown(&matrix),
+                    report::csv(&matrix),
+                    report::to_json(&matrix),
+                    report::matrix_yaml(&matrix),
+                ];
+                let files = RENDERED_FILES.into_iter().zip(files);
+                let files: Vec<(PathBuf, Vec<u8>)> = files
+                    .into_iter()
+                    .map(|(name, body)| (dir.join(name), body.into_bytes()))
+                    .collect();
+                report::write_all_atomic(&files).map(|()| files)
+            };
+            let files = crate::load::spinning(o.plan.progress.as_ref(), "rendering", write)?;
             for (path, _) in &files {
                 out.stdout.push_str(&format!("{}\n", path.display()));
             }

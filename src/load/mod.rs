@@ -79,6 +79,25 @@ pub(crate) fn while_indexing<T>(
     indexed
 }
 
+/// Runs `step`, a last step of unknown length (writing output files), with a spinner saying
+/// `what` and the time it has taken, on `bar`'s terminal, and clears it after.
+pub(crate) fn spinning<T>(
+    bar: Option<&indicatif::ProgressBar>,
+    what: &str,
+    step: impl FnOnce() -> T,
+) -> T {
+    let Some(bar) = bar else {
+        return step();
+    };
+    let what = what.replace(['{', '}'], "");
+    start_bar(bar, 0, &format!("{what} {{spinner}} {{elapsed}}"));
+    bar.enable_steady_tick(std::time::Duration::from_millis(120));
+    let done = step();
+    bar.disable_steady_tick();
+    bar.finish_and_clear();
+    done
+}
+
 /// Reads one or more registry files (YAML) into one registry.
 pub fn read_registry(paths: &[&Path]) -> Result<(Registry, Ledger), BadInput> {
     let mut builder = RegistryBuilder::new();
