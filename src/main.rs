@@ -168,6 +168,10 @@ struct PlanArgs {
     /// Plan only shard K of N (cells with index % N == K-1); merge shards with `merge`.
     #[arg(long, value_name = "K/N", value_parser = basefit::plan::replan::Shard::parse)]
     shard: Option<basefit::plan::replan::Shard>,
+    /// Leave each cell's resolved closure out of the matrix (its size is kept): on a sweep
+    /// over a whole registry the closures take most of the memory and of the files.
+    #[arg(long)]
+    no_closures: bool,
     #[arg(long, value_enum, default_value = "table")]
     format: Format,
 }
@@ -419,7 +423,10 @@ fn run_plan(a: PlanArgs) -> anyhow::Result<Output> {
         commands::plan(&commands::PlanCommand {
             inputs: a.input.paths(&[]),
             strict: a.input.strict,
-            plan: a.solve.options(a.input.quiet),
+            plan: PlanOptions {
+                closures: !a.no_closures,
+                ..a.solve.options(a.input.quiet)
+            },
             out: a.out.clone(),
             format: a.format,
             blockers: a.blockers,

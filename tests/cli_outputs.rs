@@ -1175,3 +1175,33 @@ fn diff_of_one_changed_cell_holds_only_that_cells_lines() {
     // as theirs after), its image's counts before and after.
     assert!(changed.len() <= 6, "{out}");
 }
+
+/// `plan --no-closures` writes the same matrix as `plan` but for each cell's closure, whose
+/// size stays; a sweep over a whole registry needs it to fit in memory.
+#[test]
+fn a_plan_without_closures_differs_only_in_them() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = |name: &str, extra: &[&str]| {
+        let out = dir.path().join(name);
+        let args: Vec<&str> = ["plan", "--out", out.to_str().unwrap(), "--quiet"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain(extra.iter().copied())
+            .collect();
+        let (code, _, err) = common::run_basefit(args);
+        assert_eq!(code, 0, "{err}");
+        let text = std::fs::read_to_string(out.join("matrix.json")).unwrap();
+        serde_json::from_str::<serde_json::Value>(&text).unwrap()
+    };
+    let mut full = matrix("full", &[]);
+    let bare = matrix("bare", &["--no-closures"]);
+    let mut dropped = 0;
+    for cell in full["cells"].as_array_mut().unwrap() {
+        if let Some(closure) = cell.as_object_mut().unwrap().remove("closure") {
+            assert!(!closure.as_array().unwrap().is_empty());
+            dropped += 1;
+        }
+    }
+    assert!(dropped > 100, "{dropped}");
+    assert_eq!(full, bare);
+}
