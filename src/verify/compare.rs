@@ -494,7 +494,7 @@ impl Standing {
 /// is what is out of date; any other cause was read from the package metadata.
 fn surprise_install_step(
     cell: &crate::plan::matrix::Cell,
-    images: &ImageSet,
+    (registry, images, catalog): (&Registry, &ImageSet, &Catalog),
     standing: &Standing,
     installed: Option<&str>,
 ) -> String {
@@ -508,25 +508,39 @@ fn surprise_install_step(
     if let Some(why) = standing.explains(&cell.package, installed.unwrap_or("?"), newer) {
         return why;
     }
-    // A native failure predicted for one release says nothing about the image when another
-    // release installed: that release's closure may need nothing native at all.
-    let other_release = match (installed, cell.root_version.as_deref()) {
-        (Some(i), Some(p)) if !same_precedence(i, p) => Some((i, p)),
-        _ => None,
-    };
-    match cell.cause {
-        Some(Cause::MissingSystemLibrary | Cause::MissingToolchain)
-            if let Some((installed, predicted)) = other_release =>
-        {
-            format!(
-                "it installed {installed}, not the predicted {predicted} whose closure needs what {image} lacks, so this says nothing about the image's system packages: the installer took another release (a pin, a constraint file, or it passed over the native build); `basefit explain {} {image}` shows the releases that install without it",
-                cell.package
-            )
+    // A native failure predicted for one release tells of the image through an install of
+    // another only if that release needs the same: its closure may need nothing native.
+    let mut only: Option<Vec<String>> = None;
+    if let (Some(Cause::MissingSystemLibrary | Cause::MissingToolchain), Some(i), Some(p)) =
+        (cell.cause, installed, cell.root_version.as_deref())
+        && !same_precedence(i, p)
+    {
+        let known = match other_release_needs(cell, registry, images, catalog, i) {
+            Some((toolchain, packages)) => match cell.cause {
+                Some(Cause::MissingToolchain) if toolchain => None,
+                Some(Cause::MissingSystemLibrary) if !packages.is_empty() => {
+                    only = Some(packages);
+                    None
+                }
+                _ => Some(format!("{i}'s closure needs none of it")),
+            },
+            None => Some(format!(
+                "whether {i} needs it is unknown (it does not resolve on {image} by the snapshot)"
+            )),
+        };
+        if let Some(known) = known {
+            return format!(
+                "the release that installed, {i}, is not the predicted {p} whose closure needs what {image} lacks; {known}, so this says nothing about the image's system packages: the installer took another release (a pin, a constraint file, or it passed over the native build)"
+            );
         }
+    }
+    match cell.cause {
         Some(Cause::MissingSystemLibrary) => {
             let declared = images.get(image);
-            let absent: Vec<&str> = cell
-                .missing_system_packages
+            // After an install of another release, only what that release needs too.
+            let absent: Vec<&str> = only
+                .as_ref()
+                .unwrap_or(&cell.missing_system_packages)
                 .iter()
                 .map(String::as_str)
                 .filter(|p| declared.is_none_or(|i| !i.system_packages.contains(*p)))
@@ -556,6 +570,41 @@ fn surprise_install_step(
             cell.package
         ),
     }
+}
+
+/// What of the cell's predicted lack the release `installed` of its package, solved alone on
+/// the cell's image, certainly needs too: the toolchain, and the missing system packages;
+/// `None` when that release does not resolve there or cannot be found.
+fn other_release_needs(
+    cell: &crate::plan::matrix::Cell,
+    registry: &Registry,
+    images: &ImageSet,
+    catalog: &Catalog,
+    installed: &str,
+) -> Option<(bool, Vec<String>)> {
+    let image = images.get(&cell.image)?;
+    let root = registry.id(&cell.package)?;
+    let version = semver::Version::parse(installed).ok()?;
+    let index = registry.find_release_by_precedence(root, &version)?;
+    let sets = crate::solve::SetCache::default();
+    let view = crate::solve::ImageView::new(registry, image, &sets);
+    let solved = crate::solve::solve_with_root_set(
+        &view,
+        root,
+        crate::solve::IndexSet::singleton(index as u32),
+        crate::solve::DEFAULT_BUDGET,
+    );
+    let crate::solve::Solved::Installs { closure, .. } = solved.solved else {
+        return None;
+    };
+    let a = crate::native::assess(registry, catalog, image, &closure);
+    let packages = a
+        .missing
+        .iter()
+        .filter(|(p, c)| *c == Confidence::Certain && cell.missing_system_packages.contains(p))
+        .map(|(p, _)| p.clone())
+        .collect();
+    Some((a.toolchain_missing == Some(Confidence::Certain), packages))
 }
 
 /// Semantic Versioning precedence of two version texts; `None` when either is no version or
@@ -735,7 +784,12 @@ pub fn compare(
                     "predicted {} ({}), but it installed{retries}: {}",
                     cell.outcome.as_str(),
                     cell.cause.map(|c| c.as_str()).unwrap_or("no cause"),
-                    surprise_install_step(cell, images, &standing(), installed_version.as_deref())
+                    surprise_install_step(
+                        cell,
+                        (registry, images, catalog),
+                        &standing(),
+                        installed_version.as_deref()
+                    )
                 ))
             }
             Verdict::Drift => Some(drift_step(
