@@ -1099,7 +1099,7 @@ fn an_install_of_another_release_tells_of_the_image_only_if_it_needs_the_same() 
         let results = common::write(
             dir.path(),
             "results.yaml",
-            &format!(
+            format!(
                 "results:\n  - {{package: glaze, image: alp, outcome: installed, version: \"{version}\"}}\n"
             ),
         );
