@@ -526,7 +526,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     if let Some(p) = &o.cache {
         if stats.previous_set_aside {
             out.stderr.push(format!(
-                "plan cache {} was written by another version of basefit, or with another --budget, --no-native or catalog; planning from scratch",
+                "plan cache {} was written by another version of basefit, or with another --budget, --no-native, --no-closures or catalog; planning from scratch",
                 p.display()
             ));
         }

@@ -221,9 +221,16 @@ fn a_cache_planned_with_other_options_is_set_aside_with_a_note() {
     let (code, _, stderr) = plan(&cache, &d.path().join("b"));
     assert_eq!(code, 0, "{stderr}");
     assert!(
-        stderr.contains("or with another --budget, --no-native or catalog; planning from scratch"),
+        stderr.contains(
+            "or with another --budget, --no-native, --no-closures or catalog; planning from scratch"
+        ),
         "{stderr}"
     );
+    assert_eq!(counts(&stderr).0, 0);
+    // Leaving closures out changes every cell's output: set aside too.
+    let (code, _, stderr) = plan_with(&cache, &d.path().join("c"), &["--no-closures"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stderr.contains("planning from scratch"), "{stderr}");
     assert_eq!(counts(&stderr).0, 0);
 }
 

@@ -458,12 +458,6 @@ fn read_table(
                             }
                         };
                         kept_at.insert(good.name.clone(), (row.line, slot));
-                        if good.score.is_none() && unscored.is_none() {
-                            unscored = Some(Unscored {
-                                line: Some(row.line),
-                                detail: format!("`{}` has an empty `score`", good.name),
-                            });
-                        }
                         ranked_rows[slot] = (good.name, rank, good.score);
                     }
                     None => {
@@ -484,6 +478,20 @@ fn read_table(
         ));
     }
     ledger.merge(local);
+    // The first kept row without a score, by line: a row a better-ranked one replaced is not
+    // the one share-sum would miss.
+    if unscored.is_none()
+        && let Some((line, name)) = kept_at
+            .iter()
+            .filter(|(_, (_, slot))| ranked_rows[*slot].2.is_none())
+            .map(|(name, (line, _))| (*line, name))
+            .min()
+    {
+        unscored = Some(Unscored {
+            line: Some(line),
+            detail: format!("`{name}` has an empty `score`"),
+        });
+    }
     let mut list = if ranked {
         assign_ranks(file, ranked_rows, Order::Ascending)
     } else {
@@ -1342,6 +1350,18 @@ mod tests {
                 ("top.csv:5".to_string(), "ranked better or equal at line 3"),
             ]
         );
+    }
+
+    #[test]
+    fn a_replaced_row_without_a_score_is_not_the_one_named() {
+        // web's row at line 2 has no score, but its better row at line 4 replaces it.
+        let text = "name,rank,score\nweb,5,\napi,2,3\nweb,1,4\n";
+        let mut ledger = Ledger::default();
+        let list = read_source_str("top.csv", text, None, &mut ledger).unwrap();
+        assert_eq!(list.unscored, None);
+        let text = "name,rank,score\nweb,5,\napi,2,\nweb,1,4\n";
+        let list = read_source_str("top.csv", text, None, &mut ledger).unwrap();
+        assert_eq!(list.unscored.map(|u| u.line), Some(Some(3)));
     }
 
     #[test]

@@ -87,8 +87,8 @@ fn joint(view: &ImageView<'_>, roots: &[&Root], budget: u64) -> CellSolve {
     solve::solve_joint(view, &r, budget.saturating_mul(roots.len().max(1) as u64))
 }
 
-/// A smallest subset of `kept` (in priority order) that `fails` with the candidate, given that
-/// all of `kept` does, favouring the highest-priority entries: a conflict among the first
+/// A minimal subset of `kept` (in priority order: dropping any entry of it makes it succeed)
+/// that `fails` with the candidate, given that all of `kept` does, favouring the highest-priority entries: a conflict among the first
 /// entries is found before one that needs later ones. `fails` is told the subset to try.
 ///
 /// Divide and conquer: when the first half (with what is already known to be needed) fails
@@ -96,7 +96,7 @@ fn joint(view: &ImageView<'_>, roots: &[&Root], budget: u64) -> CellSolve {
 /// is found first, then the part of the first half needed beside it. This takes a number of
 /// solves about the conflict's size times the logarithm of `kept`'s, where dropping one entry
 /// at a time took one solve per kept entry, each of hundreds of roots on a large list.
-fn smallest_conflict<T: Copy>(kept: &[T], fails: &mut dyn FnMut(&[T]) -> bool) -> Vec<T> {
+fn minimal_conflict<T: Copy>(kept: &[T], fails: &mut dyn FnMut(&[T]) -> bool) -> Vec<T> {
     fn needed<T: Copy>(
         known: &[T],
         known_grew: bool,
@@ -266,9 +266,9 @@ impl NativeChecks<'_> {
 /// packages plus it still have a joint solution and, with the native step, no kept entry's
 /// part of that solution certainly fails natively (the joint solve may pick an older release
 /// of it, or move a kept entry to one, that fails where the release chosen alone did not).
-/// When they have no joint solution, the conflict named is a smallest subset of the kept
-/// packages that fails with the candidate, favouring the highest-priority packages
-/// ([`smallest_conflict`]); the reason says whether the other kept packages leave room for
+/// When they have no joint solution, the conflict named is a minimal subset of the kept
+/// packages that fails with the candidate (not always the smallest), favouring the highest-priority packages
+/// ([`minimal_conflict`]); the reason says whether the other kept packages leave room for
 /// it. Joint solves get `options.budget` per root. A joint solve that runs out of budget counts as "not shown
 /// to fail", so it never names a package without evidence.
 pub fn preinstall(
@@ -362,7 +362,7 @@ pub fn preinstall(
             }),
             Solved::Fails(_) => {
                 let all: Vec<&Root> = kept.iter().collect();
-                let culprits = smallest_conflict(&all, &mut |some: &[&Root]| {
+                let culprits = minimal_conflict(&all, &mut |some: &[&Root]| {
                     let trial: Vec<&Root> = some
                         .iter()
                         .copied()
@@ -374,7 +374,7 @@ pub fn preinstall(
                     )
                 });
                 let names: Vec<String> = culprits.iter().map(|r| r.name.clone()).collect();
-                // The set is minimal, not the only one: say whether leaving it out would let
+                // The set is minimal, not the only one nor always the smallest: say whether leaving it out would let
                 // the entry in, so nobody drops a package for nothing.
                 let others = if names.is_empty() {
                     String::new()
@@ -596,7 +596,7 @@ pub fn preinstall_text(p: &Preinstall) -> String {
 
 #[cfg(test)]
 mod tests {
-    use super::smallest_conflict;
+    use super::minimal_conflict;
 
     /// The subset dropping one entry at a time finds, lowest priority first: the reference.
     fn by_deletion(kept: &[u32], fails: &dyn Fn(&[u32]) -> bool) -> Vec<u32> {
@@ -616,7 +616,7 @@ mod tests {
     }
 
     #[test]
-    fn the_smallest_conflict_is_the_one_deletion_finds_in_fewer_solves() {
+    fn the_minimal_conflict_is_the_one_deletion_finds_in_fewer_solves() {
         // Conflicts as families of sets: a subset fails when it holds one of them whole, which
         // is monotone, as joint solves are (more roots, no fewer constraints).
         let mut seed = 0x2545_f491_4f6c_dd1du64;
@@ -634,7 +634,7 @@ mod tests {
                 .collect();
             let fails = |s: &[u32]| family.iter().any(|c| c.iter().all(|x| s.contains(x)));
             let mut solves = 0;
-            let found = smallest_conflict(&kept, &mut |s: &[u32]| {
+            let found = minimal_conflict(&kept, &mut |s: &[u32]| {
                 solves += 1;
                 fails(s)
             });

@@ -333,7 +333,7 @@ pub fn explain_text(e: &Explanation) -> String {
             let _ = writeln!(
                 out,
                 "  {lib} [{}] via {}: {}",
-                kebab(n.confidence),
+                n.confidence.as_str(),
                 n.via,
                 n.evidence.join("; ")
             );
@@ -406,21 +406,22 @@ fn causes(trials: &[&Trial]) -> String {
 fn failed_trials(trials: &[Trial]) -> [Vec<&Trial>; 3] {
     let mut out: [Vec<&Trial>; 3] = Default::default();
     for t in trials.iter().filter(|t| !t.resolves()) {
-        let k = if t.fails_natively() {
-            0
-        } else if t.undecided() {
-            1
-        } else {
-            2
-        };
-        out[k].push(t);
+        out[failure_kind(t)].push(t);
     }
     out
 }
 
-/// The runtime hint, saying only what its trials found: a runtime where the solver ran out
-/// of budget is unknown, and one where the version constraints resolve but a native need
-/// fails is not said not to resolve.
+/// Which of [`failed_trials`]' three ways a failed trial failed, as its index there.
+fn failure_kind(t: &Trial) -> usize {
+    if t.fails_natively() {
+        0
+    } else if t.undecided() {
+        1
+    } else {
+        2
+    }
+}
+
 /// What the declared runtimes in the cause's direction gave, saying only what their trials
 /// found, as the other hints do: a runtime where the solver ran out of budget is unknown, and
 /// one where the version constraints resolve but a native need fails is not said not to
@@ -475,15 +476,13 @@ fn failures(trials: &[Trial]) -> String {
     trials
         .iter()
         .map(|t| {
-            let what = if t.fails_natively() {
-                format!(
+            let what = match failure_kind(t) {
+                0 => format!(
                     "its version constraints resolve, but it fails: {}",
                     t.cause.map_or("", |c| c.as_str())
-                )
-            } else if t.undecided() {
-                "the solver ran out of budget (raise --budget)".to_string()
-            } else {
-                "its version constraints do not resolve".to_string()
+                ),
+                1 => "the solver ran out of budget (raise --budget)".to_string(),
+                _ => "its version constraints do not resolve".to_string(),
             };
             format!("{} ({what})", t.version)
         })
@@ -491,6 +490,9 @@ fn failures(trials: &[Trial]) -> String {
         .join(", ")
 }
 
+/// The runtime hint, saying only what its trials found: a runtime where the solver ran out
+/// of budget is unknown, and one where the version constraints resolve but a native need
+/// fails is not said not to resolve.
 fn runtime_hint_lines(h: &RuntimeHint) -> Vec<String> {
     let [native, undecided, unresolved] = failed_trials(&h.trials);
     let mut out = Vec::new();
@@ -918,7 +920,7 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         out.push_str("  none\n");
     }
     for p in &r.packages {
-        let conf = p.confidence.map(kebab).unwrap_or_default();
+        let conf = p.confidence.map(|c| c.as_str()).unwrap_or_default();
         let _ = writeln!(out, "  {} {} [{conf}]", p.package, p.version);
         // One line per library, at its strongest confidence, with every piece of evidence.
         let mut by_library: Vec<(Option<&str>, crate::native::Confidence, Vec<&str>)> = Vec::new();
@@ -934,14 +936,14 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
         }
         for (lib, c, details) in by_library {
             let lib = lib.unwrap_or("(unnamed native build)");
-            let _ = writeln!(out, "    {lib} [{}]: {}", kebab(c), details.join("; "));
+            let _ = writeln!(out, "    {lib} [{}]: {}", c.as_str(), details.join("; "));
         }
         for (lib, c, via) in &p.through {
             let _ = writeln!(
                 out,
                 "    {} [{}] through {via}",
                 lib.as_deref().unwrap_or("(unnamed native build)"),
-                kebab(*c)
+                c.as_str()
             );
         }
     }
@@ -1012,7 +1014,7 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
                 out,
                 "    {} [{}] weight {:.2}{beyond}: {}",
                 m.package,
-                kebab(m.strongest),
+                m.strongest.as_str(),
                 m.weight,
                 needed_by.join(", ")
             );
@@ -1064,7 +1066,7 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
                     format!(
                         "{} [{}] ({})",
                         u.library,
-                        kebab(u.strongest),
+                        u.strongest.as_str(),
                         u.needed_by.join(", ")
                     )
                 })

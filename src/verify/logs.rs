@@ -655,11 +655,21 @@ fn link_name(rest: &str) -> Option<&str> {
 /// `: cannot open shared object file`, or after musl's `Error loading shared library `, without
 /// a directory (`dlopen` of a path names the path).
 fn missing_shared_object(t: &str) -> Option<&str> {
+    // Only a file that is not there: one the loader may not read or cannot use (`Permission
+    // denied`, `Exec format error`, `wrong ELF class`) is no missing package.
+    const ABSENT: &str = ": No such file or directory";
     let named = if let Some(p) = t.find(": cannot open shared object file") {
+        if !t[p + ": cannot open shared object file".len()..].starts_with(ABSENT) {
+            return None;
+        }
         t[..p].rsplit([' ', '\'', '"', '(']).next()?
     } else if let Some(p) = t.find("Error loading shared library ") {
         let rest = &t[p + "Error loading shared library ".len()..];
-        rest.split(|c: char| c == ':' || c.is_whitespace()).next()?
+        let name = rest.split(|c: char| c == ':' || c.is_whitespace()).next()?;
+        if !rest[name.len()..].starts_with(ABSENT) {
+            return None;
+        }
+        name
     } else {
         return None;
     };
@@ -988,6 +998,13 @@ mod tests {
                 "Error loading shared library libcrypto.so.3: No such file or directory (needed by /usr/lib/ext.so)"
             ),
             so("libcrypto.so.3")
+        );
+        // A file that is there but unusable is no missing package (glibc's and musl's wording
+        // for these from memory).
+        assert!(causes("./prog: error while loading shared libraries: libz.so.1: cannot open shared object file: Permission denied").is_empty());
+        assert!(
+            causes("Error loading shared library libz.so.1: Exec format error (needed by /x)")
+                .is_empty()
         );
         // Not a shared object's name: nothing to map, and not misread as a missing header.
         assert!(
