@@ -284,8 +284,8 @@ mod tests {
         ];
         let mut want = kept.to_vec();
         want.sort_by(|a, b| a.0.cmp(b.0));
-        // Within the run of more runs' first releases, 1.2.0 is not read as held: the text
-        // after the runs is not a cause there.
+        // The list ending in "and 2 more runs" does not read as runs, so it holds nothing:
+        // `core 1.2.0` stays apart although its first runs name 1.2.0.
         assert_eq!(folded(&kept), want);
     }
 }

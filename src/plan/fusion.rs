@@ -296,8 +296,8 @@ pub fn read_source_csv(path: &Path, ledger: &mut Ledger) -> Result<SourceList, B
 ///
 /// Every row is counted in `ledger` as a [`RecordKind::SourceEntry`], either used or left
 /// out with a problem: an empty name, a number that cannot be read or is negative, the
-/// worse-ranked row of a name a ranking gives twice (the later one on a tie), an unreadable or missing date when a window is given
-/// ([`ProblemKind::BadValue`]), a date outside the window ([`ProblemKind::OutsideWindow`]).
+/// worse-ranked row of a name a ranking gives twice (the later one on a tie), an unreadable
+/// or missing date when a window is given ([`ProblemKind::BadValue`]), a date outside the window ([`ProblemKind::OutsideWindow`]).
 /// Without a window an unreadable date is only noted ([`ProblemKind::UnreadableDate`]), since
 /// the date is not needed. The ledger is only written when the whole file could be read, so a
 /// file that fails part-way leaves no half-counted rows behind.

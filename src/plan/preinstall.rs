@@ -88,8 +88,9 @@ fn joint(view: &ImageView<'_>, roots: &[&Root], budget: u64) -> CellSolve {
 }
 
 /// A minimal subset of `kept` (in priority order: dropping any entry of it makes it succeed)
-/// that `fails` with the candidate, given that all of `kept` does, favouring the highest-priority entries: a conflict among the first
-/// entries is found before one that needs later ones. `fails` is told the subset to try.
+/// that `fails` with the candidate, given that all of `kept` does, favouring the
+/// highest-priority entries: a conflict among the first entries is found before one that
+/// needs later ones. `fails` is told the subset to try.
 ///
 /// Divide and conquer: when the first half (with what is already known to be needed) fails
 /// alone, nothing of the second half is needed; otherwise the part of the second half needed
@@ -267,10 +268,11 @@ impl NativeChecks<'_> {
 /// part of that solution certainly fails natively (the joint solve may pick an older release
 /// of it, or move a kept entry to one, that fails where the release chosen alone did not).
 /// When they have no joint solution, the conflict named is a minimal subset of the kept
-/// packages that fails with the candidate (not always the smallest), favouring the highest-priority packages
-/// ([`minimal_conflict`]); the reason says whether the other kept packages leave room for
-/// it. Joint solves get `options.budget` per root. A joint solve that runs out of budget counts as "not shown
-/// to fail", so it never names a package without evidence.
+/// packages that fails with the candidate (not always the smallest), favouring the
+/// highest-priority packages ([`minimal_conflict`]); the reason says whether the other kept
+/// packages leave room for it. Joint solves get `options.budget` per root. A joint solve that
+/// runs out of budget counts as "not shown to fail", so it never names a package without
+/// evidence.
 pub fn preinstall(
     inputs: &Inputs,
     image: &Image,
@@ -374,8 +376,8 @@ pub fn preinstall(
                     )
                 });
                 let names: Vec<String> = culprits.iter().map(|r| r.name.clone()).collect();
-                // The set is minimal, not the only one nor always the smallest: say whether leaving it out would let
-                // the entry in, so nobody drops a package for nothing.
+                // The set is minimal, not the only one nor always the smallest: say whether
+                // leaving it out would let the entry in, so nobody drops a package for nothing.
                 let others = if names.is_empty() {
                     String::new()
                 } else {
