@@ -1,18 +1,12 @@
 //! The plan of the demo data gives each demo story its written-down outcome
 //! (demo-data/expected.yaml, reasoned by hand in demo-data/STORIES.md), cell by cell.
 
-use basefit::load::{InputPaths, load_inputs};
+mod common;
+
 use basefit::plan::{PlanOptions, plan};
 
 fn demo_inputs() -> basefit::load::Inputs {
-    load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        results: vec!["demo-data/results.yaml".into()],
-        ..Default::default()
-    })
-    .unwrap()
+    common::demo_inputs(vec!["demo-data/results.yaml".into()])
 }
 
 #[test]

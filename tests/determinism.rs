@@ -1,18 +1,13 @@
 //! The same inputs give byte-identical output at any thread count.
 
-use basefit::load::{InputPaths, load_inputs};
+mod common;
+
 use basefit::plan::{PlanOptions, plan};
 use basefit::report::to_json;
 
 #[test]
 fn plan_is_byte_identical_at_one_and_many_threads() {
-    let inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        ..Default::default()
-    })
-    .unwrap();
+    let inputs = common::demo_inputs(Vec::new());
     let run = |threads: usize| {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
@@ -30,13 +25,7 @@ fn plan_is_byte_identical_at_one_and_many_threads() {
 #[test]
 fn plan_cache_and_warm_replan_are_byte_identical_at_one_and_many_threads() {
     use basefit::plan::replan::replan;
-    let mut inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        ..Default::default()
-    })
-    .unwrap();
+    let mut inputs = common::demo_inputs(Vec::new());
     let options = PlanOptions::default();
     let (first, _) = replan(&inputs, &options, None, None);
     // One yank so that the warm re-plan both reuses and solves.

@@ -6,6 +6,8 @@
 //! which package ships each file. Libraries whose development files happen to be installed
 //! here cannot fail, so they are skipped; the test says how many it could provoke.
 
+mod common;
+
 use basefit::model::OsFamily;
 use basefit::native::Catalog;
 use basefit::verify::compare::library_of;
@@ -226,7 +228,6 @@ fn a_missing_shared_object_maps_to_the_runtime_package_that_ships_it() {
 /// to read the log line rather than to change the image.
 #[test]
 fn a_compiler_error_is_a_definite_failure_no_package_fixes() {
-    use basefit::load::{InputPaths, load_inputs};
     use basefit::plan::{PlanOptions, plan};
     use basefit::verify::Verdict;
 
@@ -265,14 +266,7 @@ fn a_compiler_error_is_a_definite_failure_no_package_fixes() {
          \x20 - {package: pixelmoss, image: alpine-2.6, outcome: failed, log_file: build.log}\n",
     )
     .unwrap();
-    let inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        results: vec![results],
-        ..Default::default()
-    })
-    .unwrap();
+    let inputs = common::demo_inputs(vec![results]);
     let matrix = plan(&inputs, &PlanOptions::default());
     let review = basefit::verify::compare_inputs(&matrix, &inputs);
     let cell = |package: &str| {

@@ -1,19 +1,15 @@
 //! Incremental re-plans give exactly a cold plan's results; shards merge into exactly the
 //! bytes of a single run.
 
-use basefit::load::{InputPaths, Inputs, load_inputs};
+mod common;
+
+use basefit::load::Inputs;
 use basefit::plan::replan::{PlanCache, ReplanStats, Shard, merge_shards, replan};
 use basefit::plan::{Matrix, PlanOptions, plan};
 use basefit::report::{to_json, to_yaml};
 
 fn demo() -> Inputs {
-    load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        ..Default::default()
-    })
-    .unwrap()
+    common::demo_inputs(Vec::new())
 }
 
 #[test]

@@ -9,14 +9,7 @@ use basefit::verify::{Verdict, compare, compare_inputs};
 
 #[test]
 fn demo_review_counts() {
-    let inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        results: vec!["demo-data/results.yaml".into()],
-        ..Default::default()
-    })
-    .unwrap();
+    let inputs = common::demo_inputs(vec!["demo-data/results.yaml".into()]);
     let matrix = plan(&inputs, &PlanOptions::default());
     let review = compare(
         &matrix,
@@ -113,14 +106,7 @@ fn review_of(results: &str) -> basefit::verify::Review {
 
 /// The review of the results file at `path` against the demo's plan.
 fn review_at(path: std::path::PathBuf) -> basefit::verify::Review {
-    let inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        results: vec![path],
-        ..Default::default()
-    })
-    .unwrap();
+    let inputs = common::demo_inputs(vec![path]);
     let matrix = plan(&inputs, &PlanOptions::default());
     basefit::verify::compare_inputs(&matrix, &inputs)
 }
@@ -1209,13 +1195,7 @@ fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
 /// plan's (cells are independent), and the others are marked, never passed off as predictions.
 #[test]
 fn planning_only_the_cells_with_results_gives_the_full_plans_cells() {
-    let inputs = load_inputs(&InputPaths {
-        registry: vec!["demo-data/registry.yaml".into()],
-        images: Some("matrices/demo-images.yaml".into()),
-        priorities: Some("demo-data/priorities.yaml".into()),
-        ..Default::default()
-    })
-    .unwrap();
+    let inputs = common::demo_inputs(Vec::new());
     let full = plan(&inputs, &PlanOptions::default());
     let wanted: std::collections::BTreeSet<usize> = (0..full.cells.len()).step_by(7).collect();
     let only = basefit::plan::matrix::plan_only(&inputs, &PlanOptions::default(), &wanted);

@@ -76,3 +76,17 @@ pub fn write(dir: &std::path::Path, name: &str, content: impl AsRef<[u8]>) -> st
     std::fs::write(&path, content).unwrap();
     path
 }
+
+/// The demo scenario's inputs (registry, images, priorities) with the recorded results of
+/// `results`, loaded as the command line would.
+#[allow(dead_code)] // Not every test file that shares this module loads the demo.
+pub fn demo_inputs(results: Vec<std::path::PathBuf>) -> basefit::load::Inputs {
+    basefit::load::load_inputs(&basefit::load::InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        results,
+        ..Default::default()
+    })
+    .unwrap()
+}
