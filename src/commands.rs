@@ -1234,13 +1234,23 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 report::write_all_atomic(&files).map(|()| files)
             };
             let files = crate::load::spinning(o.plan.progress.as_ref(), "rendering", write)?;
-            for (path, _) in &files {
+            for (path, body) in &files {
                 out.stdout.push_str(&format!("{}\n", path.display()));
+                if path.extension().is_some_and(|e| e == "html") {
+                    let shown = path.display().to_string();
+                    out.stderr
+                        .extend(report::html::large_page_note(&shown, body.len()));
+                }
             }
         }
         None => {
             out.stdout = match o.format {
-                MatrixFormat::Html => report::html(&matrix),
+                MatrixFormat::Html => {
+                    let page = report::html(&matrix);
+                    out.stderr
+                        .extend(report::html::large_page_note("the page", page.len()));
+                    page
+                }
                 MatrixFormat::Csv => report::csv(&matrix),
                 MatrixFormat::Json => report::to_json(&matrix),
                 MatrixFormat::Yaml => report::matrix_yaml(&matrix),
