@@ -905,14 +905,18 @@ pub struct DiffCommand {
     pub before: PathBuf,
     pub after: PathBuf,
     pub format: Format,
+    /// Shown on a terminal only; reading and comparing large matrices takes seconds.
+    pub progress: Option<indicatif::ProgressBar>,
 }
 
 /// `diff`: what changed between two matrices. Exit 1 when anything did, a cell or only what
 /// the renderings show besides.
 pub fn diff(o: &DiffCommand) -> Result<Output> {
-    let a = read_matrix(&o.before)?;
-    let b = read_matrix(&o.after)?;
-    let d = crate::verify::diff::diff(&a, &b, report::markdown_keyed);
+    let d = crate::load::spinning(o.progress.as_ref(), "comparing the matrices", || {
+        let a = read_matrix(&o.before)?;
+        let b = read_matrix(&o.after)?;
+        anyhow::Ok(crate::verify::diff::diff(&a, &b, report::markdown_keyed))
+    })?;
     Ok(Output::report(o.format, &d, text::diff_text, d.any()))
 }
 
@@ -1268,10 +1272,18 @@ pub struct FuseCommand {
     pub window: Option<plan::fusion::Window>,
     /// File for the priority list; stdout when absent.
     pub out: Option<PathBuf>,
+    /// Shown on a terminal only; sources of millions of rows take seconds.
+    pub progress: Option<indicatif::ProgressBar>,
 }
 
 /// `fuse`: one priority list (basefit's YAML format) from several ranked or scored lists.
 pub fn fuse(o: &FuseCommand) -> Result<Output> {
+    crate::load::spinning(o.progress.as_ref(), "fusing the source lists", || {
+        fuse_lists(o)
+    })
+}
+
+fn fuse_lists(o: &FuseCommand) -> Result<Output> {
     crate::load::diag::refuse_repeated(
         &o.sources,
         "--source",

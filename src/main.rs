@@ -218,6 +218,9 @@ struct DiffArgs {
     after: PathBuf,
     #[arg(long, value_enum, default_value = "table")]
     format: Format,
+    /// No progress spinner.
+    #[arg(long)]
+    quiet: bool,
 }
 
 fn run_review(a: ReviewArgs) -> anyhow::Result<Output> {
@@ -238,6 +241,7 @@ fn run_diff(a: DiffArgs) -> anyhow::Result<Output> {
         before: a.before,
         after: a.after,
         format: a.format,
+        progress: progress_bar(a.quiet),
     })
 }
 
@@ -389,6 +393,9 @@ struct FuseArgs {
     /// File for the priority list (default: stdout).
     #[arg(long, value_name = "FILE")]
     out: Option<PathBuf>,
+    /// No progress spinner.
+    #[arg(long)]
+    quiet: bool,
 }
 
 fn run_fuse(a: FuseArgs) -> anyhow::Result<Output> {
@@ -407,6 +414,7 @@ fn run_fuse(a: FuseArgs) -> anyhow::Result<Output> {
         },
         window: a.window,
         out: a.out,
+        progress: progress_bar(a.quiet),
     })
 }
 
