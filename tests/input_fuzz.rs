@@ -1041,6 +1041,7 @@ fn fuse_sources(fixture: &Fixture, target: Target) -> Result<(), Used> {
                     missing,
                     window,
                     out: None,
+                    progress: None,
                 })
                 .map_err(refused)?;
                 let what = format!("the list fused by {} ({})", method.label(), missing.label());
