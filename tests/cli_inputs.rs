@@ -432,7 +432,7 @@ fn every_input_reading_command_takes_quiet() {
             "a bar off a terminal: {stderr}"
         );
     }
-    // Every other command that reads inputs lists the flag; those that read none do not.
+    // Every other command that reads inputs or runs long lists the flag; merge does not.
     for (command, takes_quiet) in [
         ("plan", true),
         ("explain", true),
@@ -440,9 +440,9 @@ fn every_input_reading_command_takes_quiet() {
         ("syslibs", true),
         ("imageplan", true),
         ("render", true),
-        ("diff", false),
+        ("diff", true),
         ("merge", false),
-        ("fuse", false),
+        ("fuse", true),
     ] {
         let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
             .args([command, "--help"])
