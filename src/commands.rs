@@ -1242,8 +1242,11 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
                 out.stdout.push_str(&format!("{}\n", path.display()));
                 if path.extension().is_some_and(|e| e == "html") {
                     let shown = path.display().to_string();
-                    out.stderr
-                        .extend(report::html::large_page_note(&shown, body.len()));
+                    out.stderr.extend(report::html::large_page_note(
+                        &shown,
+                        body.len(),
+                        "matrix.md or matrix.csv",
+                    ));
                 }
             }
         }
@@ -1251,8 +1254,11 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             out.stdout = match o.format {
                 MatrixFormat::Html => {
                     let page = report::html(&matrix);
-                    out.stderr
-                        .extend(report::html::large_page_note("the page", page.len()));
+                    out.stderr.extend(report::html::large_page_note(
+                        "the page",
+                        page.len(),
+                        "--format markdown or csv",
+                    ));
                     page
                 }
                 MatrixFormat::Csv => report::csv(&matrix),

@@ -1069,26 +1069,29 @@ fn an_install_of_another_release_tells_of_the_image_only_if_it_needs_the_same() 
             "{version}: {s}"
         );
     }
-    // An older release that declares nothing native shows nothing of the kind.
+    // glaze 2.0.0 installs prebuilt on musl and needs libpng's runtime package; 1.5.0 builds
+    // from source only (libpng-dev and a C toolchain); 1.0.0 needs nothing native. alp
+    // declares neither.
     let dir = tempfile::tempdir().unwrap();
     let registry = common::write(
         dir.path(),
         "r.yaml",
-        "packages:\n  - name: glaze\n    versions:\n      - {version: \"1.0.0\"}\n      - {version: \"2.0.0\", native: {libraries: [libpng]}}\n",
+        "packages:\n  - name: glaze\n    versions:\n      - {version: \"1.0.0\"}\n      - {version: \"1.5.0\", native: {libraries: [libpng]}}\n      - {version: \"2.0.0\", native: {libraries: [libpng]}, builds: {source: false, prebuilt: [linux/musl/x86_64]}}\n",
     );
     let images = common::write(
         dir.path(),
         "i.yaml",
-        "images:\n  - {id: alp, runtime: 3.0.0, family: alpine, platform: linux/musl/x86_64, toolchain: true}\n",
+        "images:\n  - {id: alp, runtime: 3.0.0, family: alpine, platform: linux/musl/x86_64, toolchain: false}\n",
     );
-    let review = |version: &str| {
-        let results = common::write(
-            dir.path(),
-            "results.yaml",
-            format!(
-                "results:\n  - {{package: glaze, image: alp, outcome: installed, version: \"{version}\"}}\n"
-            ),
-        );
+    let review = |records: &[Option<&str>]| {
+        let mut text = String::from("results:\n");
+        for version in records {
+            let version = version.map_or(String::new(), |v| format!(", version: \"{v}\""));
+            text.push_str(&format!(
+                "  - {{package: glaze, image: alp, outcome: installed{version}}}\n"
+            ));
+        }
+        let results = common::write(dir.path(), "results.yaml", text);
         let inputs = load_inputs(&InputPaths {
             registry: vec![registry.clone()],
             images: Some(images.clone()),
@@ -1099,13 +1102,36 @@ fn an_install_of_another_release_tells_of_the_image_only_if_it_needs_the_same() 
         .unwrap();
         let matrix = plan(&inputs, &PlanOptions::default());
         let r = compare_inputs(&matrix, &inputs);
+        assert_eq!(r.cells[0].verdict, Verdict::SurpriseInstall);
         r.cells[0].suggestion.clone().unwrap_or_default()
     };
-    let s = review("2.0.0");
-    assert!(s.contains("the real image has libpng-dev"), "{s}");
-    let s = review("1.0.0");
+    let s = review(&[Some("2.0.0")]);
     assert!(
-        s.contains("but it installed: the release that installed, 1.0.0, is not the predicted 2.0.0 whose closure needs what alp lacks; 1.0.0's closure needs none of it, so this says nothing about the image's system packages"),
+        s.ends_with("the real image has libpng; add it to its packages in the images file"),
+        "{s}"
+    );
+    // What the release that installed certainly needs, whatever the prediction listed.
+    let s = review(&[Some("1.5.0")]);
+    assert!(
+        s.contains("the release that installed, 1.5.0, is not the predicted 2.0.0, but it certainly needs what alp lacks too")
+            && s.ends_with("the real image has build-base libpng-dev; add them to its packages in the images file and set toolchain: true"),
+        "{s}"
+    );
+    let s = review(&[Some("1.0.0")]);
+    assert!(
+        s.contains("but it installed: the release that installed, 1.0.0, is not the predicted 2.0.0 whose closure needs what alp lacks; 1.0.0's closure certainly needs none of it, so this says nothing about the image's system packages"),
+        "{s}"
+    );
+    // Without a version the advice says what it assumes.
+    let s = review(&[None]);
+    assert!(
+        s.contains("if it installed the predicted 2.0.0 (the record gives no version; record it to be sure), the declaration of alp is out of date: the real image has libpng"),
+        "{s}"
+    );
+    // Retries that installed the predicted release too settle it as predicted.
+    let s = review(&[Some("1.0.0"), Some("2.0.0")]);
+    assert!(
+        s.contains("the real image has libpng;") && !s.contains("says nothing"),
         "{s}"
     );
 }

@@ -169,29 +169,32 @@ fn text(s: &str) -> String {
     escape_html(&one_line(s))
 }
 
-/// Renders the page. Rows keep the matrix's priority order and columns the declared image
-/// order; nothing depends on time, locale or hashing order, so the same matrix gives the
-/// same bytes.
 /// Pages above this size (64 MiB) load slowly or not at all in common browsers (common
-/// practice, no source): the page embeds every cell's detail, about 2.5 KB a cell.
+/// practice, no source): the page embeds every cell's detail, 1 to 3 KB a cell (tens of
+/// thousands of cells).
 pub const LARGE_PAGE_BYTES: usize = 64 << 20;
 
-/// A note for a page of `bytes` above [`LARGE_PAGE_BYTES`], naming `path`.
+/// A note for a page of `bytes` above [`LARGE_PAGE_BYTES`], naming `page` and what to read
+/// instead (`instead`: the other files written, or the other formats).
 ///
 /// ```
 /// use basefit::report::html::{LARGE_PAGE_BYTES, large_page_note};
-/// assert!(large_page_note("m.html", LARGE_PAGE_BYTES).is_none());
-/// assert!(large_page_note("m.html", LARGE_PAGE_BYTES + 1).unwrap().contains("m.html is 64 MiB"));
+/// assert!(large_page_note("m.html", LARGE_PAGE_BYTES, "m.md").is_none());
+/// let note = large_page_note("m.html", LARGE_PAGE_BYTES + 1, "m.md").unwrap();
+/// assert!(note.contains("m.html is 64 MiB") && note.contains("read m.md"));
 /// ```
-pub fn large_page_note(path: &str, bytes: usize) -> Option<String> {
+pub fn large_page_note(page: &str, bytes: usize, instead: &str) -> Option<String> {
     (bytes > LARGE_PAGE_BYTES).then(|| {
         format!(
-            "note: {path} is {} MiB: browsers load pages this large slowly or not at all; for a list this long read matrix.md or matrix.csv, or render a shorter priority list",
+            "note: {page} is {} MiB: browsers load pages this large slowly or not at all; for a list this long read {instead}, or render a shorter priority list",
             bytes >> 20
         )
     })
 }
 
+/// Renders the page. Rows keep the matrix's priority order and columns the declared image
+/// order; nothing depends on time, locale or hashing order, so the same matrix gives the
+/// same bytes.
 pub fn html(m: &Matrix) -> String {
     let cells = grid(m);
     let counts = layout::column_counts(m, &cells);

@@ -497,7 +497,10 @@ fn surprise_install_step(
     (registry, images, catalog): (&Registry, &ImageSet, &Catalog),
     standing: &Standing,
     installed: Option<&str>,
+    predicted_installed: bool,
 ) -> String {
+    // The review has no --budget of its own; a release it cannot settle says so.
+    let budget = crate::solve::DEFAULT_BUDGET;
     let image = &cell.image;
     // A surprise install newer than the prediction points at the snapshot when the snapshot
     // lacks it; without a predicted version (a failure) a missing one is as likely newer.
@@ -509,23 +512,29 @@ fn surprise_install_step(
         return why;
     }
     // A native failure predicted for one release tells of the image through an install of
-    // another only if that release needs the same: its closure may need nothing native.
-    let mut only: Option<Vec<String>> = None;
+    // another only by what that release itself certainly needs: its closure may need nothing
+    // native, or other packages. An install of the predicted release among the retries
+    // settles it as predicted.
+    let mut only: Option<(bool, Vec<String>)> = None;
     if let (Some(Cause::MissingSystemLibrary | Cause::MissingToolchain), Some(i), Some(p)) =
         (cell.cause, installed, cell.root_version.as_deref())
         && !same_precedence(i, p)
+        && !predicted_installed
     {
-        let known = match other_release_needs(cell, registry, images, catalog, i) {
-            Some((toolchain, packages)) => match cell.cause {
-                Some(Cause::MissingToolchain) if toolchain => None,
-                Some(Cause::MissingSystemLibrary) if !packages.is_empty() => {
-                    only = Some(packages);
-                    None
-                }
-                _ => Some(format!("{i}'s closure needs none of it")),
-            },
-            None => Some(format!(
+        let known = match other_release_needs(cell, registry, images, catalog, i, budget) {
+            OtherRelease::Needs {
+                toolchain,
+                packages,
+            } if toolchain || !packages.is_empty() => {
+                only = Some((toolchain, packages));
+                None
+            }
+            OtherRelease::Needs { .. } => Some(format!("{i}'s closure certainly needs none of it")),
+            OtherRelease::Unresolved => Some(format!(
                 "whether {i} needs it is unknown (it does not resolve on {image} by the snapshot)"
+            )),
+            OtherRelease::Undecided => Some(format!(
+                "whether {i} needs it is unknown (the solver gave up on it after the default budget's steps)"
             )),
         };
         if let Some(known) = known {
@@ -534,31 +543,55 @@ fn surprise_install_step(
             );
         }
     }
+    // Without a recorded version the install may have taken another release.
+    let unsure = match (installed, cell.root_version.as_deref(), cell.cause) {
+        (None, Some(p), Some(Cause::MissingSystemLibrary | Cause::MissingToolchain)) => format!(
+            "if it installed the predicted {p} (the record gives no version; record it to be sure), "
+        ),
+        _ => String::new(),
+    };
+    if let Some((toolchain, packages)) = only {
+        let i = installed.unwrap_or("?");
+        let p = cell.root_version.as_deref().unwrap_or("?");
+        // The toolchain's own packages are among those to add when it is missing.
+        let has = if packages.is_empty() {
+            "a C toolchain".to_string()
+        } else {
+            packages.join(" ")
+        };
+        let step = match (packages.len(), toolchain) {
+            (0, _) => "set toolchain: true on it",
+            (1, false) => "add it to its packages in the images file",
+            (_, false) => "add them to its packages in the images file",
+            (_, true) => "add them to its packages in the images file and set toolchain: true",
+        };
+        return format!(
+            "the release that installed, {i}, is not the predicted {p}, but it certainly needs what {image} lacks too, so the declaration of {image} is out of date: the real image has {has}; {step}"
+        );
+    }
     match cell.cause {
         Some(Cause::MissingSystemLibrary) => {
             let declared = images.get(image);
-            // After an install of another release, only what that release needs too.
-            let absent: Vec<&str> = only
-                .as_ref()
-                .unwrap_or(&cell.missing_system_packages)
+            let absent: Vec<&str> = cell
+                .missing_system_packages
                 .iter()
                 .map(String::as_str)
                 .filter(|p| declared.is_none_or(|i| !i.system_packages.contains(*p)))
                 .collect();
             if absent.is_empty() {
                 format!(
-                    "the declaration of {image} is out of date: it lacks a system package the real image has; update its packages in the images file"
+                    "{unsure}the declaration of {image} is out of date: it lacks a system package the real image has; update its packages in the images file"
                 )
             } else {
                 format!(
-                    "the declaration of {image} is out of date: the real image has {}; add {} to its packages in the images file",
+                    "{unsure}the declaration of {image} is out of date: the real image has {}; add {} to its packages in the images file",
                     absent.join(" "),
                     if absent.len() == 1 { "it" } else { "them" }
                 )
             }
         }
         Some(Cause::MissingToolchain) => format!(
-            "the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
+            "{unsure}the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
         ),
         _ if *standing == Standing::Admitted => format!(
             "{} is in the snapshot and suits {image}, so what the plan refused lies in its dependencies or the priority entry's requirement: `basefit explain {} {image}` names the requirement that is stricter than reality",
@@ -572,39 +605,63 @@ fn surprise_install_step(
     }
 }
 
-/// What of the cell's predicted lack the release `installed` of its package, solved alone on
-/// the cell's image, certainly needs too: the toolchain, and the missing system packages;
-/// `None` when that release does not resolve there or cannot be found.
+/// What an install of another release than predicted shows of the image.
+enum OtherRelease {
+    /// It resolves there alone: what of the image's lack its closure certainly needs (the
+    /// toolchain, system packages), which the install proves the real image has.
+    Needs {
+        toolchain: bool,
+        packages: Vec<String>,
+    },
+    /// Its version constraints do not resolve there, by the snapshot.
+    Unresolved,
+    /// The solver ran out of budget on it.
+    Undecided,
+}
+
+/// The release `installed` of the cell's package solved alone on the cell's image, as
+/// [`OtherRelease`] says; `Unresolved` when the snapshot does not hold it.
 fn other_release_needs(
     cell: &crate::plan::matrix::Cell,
     registry: &Registry,
     images: &ImageSet,
     catalog: &Catalog,
     installed: &str,
-) -> Option<(bool, Vec<String>)> {
-    let image = images.get(&cell.image)?;
-    let root = registry.id(&cell.package)?;
-    let version = semver::Version::parse(installed).ok()?;
-    let index = registry.find_release_by_precedence(root, &version)?;
+    budget: u64,
+) -> OtherRelease {
+    let found = || {
+        let image = images.get(&cell.image)?;
+        let root = registry.id(&cell.package)?;
+        let version = semver::Version::parse(installed).ok()?;
+        let index = registry.find_release_by_precedence(root, &version)?;
+        Some((image, root, index))
+    };
+    let Some((image, root, index)) = found() else {
+        return OtherRelease::Unresolved;
+    };
     let sets = crate::solve::SetCache::default();
     let view = crate::solve::ImageView::new(registry, image, &sets);
     let solved = crate::solve::solve_with_root_set(
         &view,
         root,
         crate::solve::IndexSet::singleton(index as u32),
-        crate::solve::DEFAULT_BUDGET,
+        budget,
     );
-    let crate::solve::Solved::Installs { closure, .. } = solved.solved else {
-        return None;
+    let closure = match solved.solved {
+        crate::solve::Solved::Installs { closure, .. } => closure,
+        crate::solve::Solved::Undecided { .. } => return OtherRelease::Undecided,
+        crate::solve::Solved::Fails(_) => return OtherRelease::Unresolved,
     };
     let a = crate::native::assess(registry, catalog, image, &closure);
-    let packages = a
-        .missing
-        .iter()
-        .filter(|(p, c)| *c == Confidence::Certain && cell.missing_system_packages.contains(p))
-        .map(|(p, _)| p.clone())
-        .collect();
-    Some((a.toolchain_missing == Some(Confidence::Certain), packages))
+    OtherRelease::Needs {
+        toolchain: a.toolchain_missing == Some(Confidence::Certain),
+        packages: a
+            .missing
+            .iter()
+            .filter(|(_, c)| *c == Confidence::Certain)
+            .map(|(p, _)| p.clone())
+            .collect(),
+    }
 }
 
 /// Semantic Versioning precedence of two version texts; `None` when either is no version or
@@ -729,6 +786,9 @@ pub fn compare(
             .or(taken.last())
             .copied();
         let installed_version = installed.map(|v| v.to_string());
+        let predicted_installed = predicted
+            .as_ref()
+            .is_some_and(|p| taken.iter().any(|v| v.cmp_precedence(p).is_eq()));
         let any_installed = attempts.contains(&RecordedOutcome::Installed);
         let any_failed = attempts.contains(&RecordedOutcome::Failed);
         // The strongest need the prediction saw for the library the log misses.
@@ -788,7 +848,8 @@ pub fn compare(
                         cell,
                         (registry, images, catalog),
                         &standing(),
-                        installed_version.as_deref()
+                        installed_version.as_deref(),
+                        predicted_installed
                     )
                 ))
             }
