@@ -1205,3 +1205,28 @@ fn a_plan_without_closures_differs_only_in_them() {
     assert!(dropped > 100, "{dropped}");
     assert_eq!(full, bare);
 }
+
+/// A matrix planned with `--no-closures` against one with closures: the closures are not
+/// blamed, the diff says they are not compared, and the matrices otherwise agree.
+#[test]
+fn a_diff_against_a_matrix_without_closures_says_closures_are_not_compared() {
+    let dir = tempfile::tempdir().unwrap();
+    let plan = |name: &str, extra: &[&str]| {
+        let out = dir.path().join(name);
+        let args: Vec<&str> = ["plan", "--out", out.to_str().unwrap(), "--quiet"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain(extra.iter().copied())
+            .collect();
+        assert_eq!(common::run_basefit(args).0, 0);
+        out.join("matrix.json").to_str().unwrap().to_string()
+    };
+    let (full, bare) = (plan("full", &[]), plan("bare", &["--no-closures"]));
+    let (code, out, err) = common::run_basefit(["diff", &full, &bare]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(
+        out.starts_with("AFTER was planned with --no-closures: closures are not compared")
+            && out.contains("the matrices agree"),
+        "{out}"
+    );
+}

@@ -1486,7 +1486,7 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 k,
                 0,
                 format!(
-                    "shard {}/{count} was planned from other inputs or options than part 1 (registry, images, priorities, catalog, budget or native checks differ), or by another basefit version",
+                    "shard {}/{count} was planned from other inputs or options than part 1 (registry, images, priorities, catalog, budget, native checks or closures left out differ), or by another basefit version",
                     s.index
                 ),
             ));

@@ -840,17 +840,21 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
     }
 }
 
-/// A matrix diff for people.
-pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
-    let mut out = String::new();
-    let skipped = d.native_skipped;
-    let side = match (skipped.before, skipped.after) {
+/// The subject of a sentence about the sides of a diff a flag holds for.
+fn which_sides(before: bool, after: bool) -> Option<&'static str> {
+    match (before, after) {
         (false, false) => None,
         (true, false) => Some("BEFORE was"),
         (false, true) => Some("AFTER was"),
         (true, true) => Some("both were"),
-    };
-    if let Some(side) = side {
+    }
+}
+
+/// A matrix diff for people.
+pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
+    let mut out = String::new();
+    let skipped = d.native_skipped;
+    if let Some(side) = which_sides(skipped.before, skipped.after) {
         let _ = writeln!(
             out,
             "{side} planned with --no-native: an installs verdict there means only that the version requirements resolve, since native needs were not checked"
@@ -861,6 +865,13 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
             );
         }
         out.push('\n');
+    }
+    let closures = d.closures_left_out;
+    if let Some(side) = which_sides(closures.before, closures.after) {
+        let _ = writeln!(
+            out,
+            "{side} planned with --no-closures: closures are not compared, so a change in the versions of dependencies does not show\n"
+        );
     }
     if d.changes.is_empty() {
         if !d.any() {

@@ -44,11 +44,29 @@ pub struct NativeSkipped {
     pub after: bool,
 }
 
+/// Whether each side left its cells' closures out (`plan --no-closures`): a cell with a
+/// closure size lists no closure only then.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub struct ClosuresLeftOut {
+    pub before: bool,
+    pub after: bool,
+}
+
+/// Whether `m` was planned without closures.
+fn closures_left_out(m: &Matrix) -> bool {
+    m.cells
+        .iter()
+        .any(|c| c.closure_size > 0 && c.closure.is_empty())
+}
+
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct MatrixDiff {
     /// Without it a cell turning from a native failure into `installs` would read as a fix,
     /// when the side that installs never looked at system libraries.
     pub native_skipped: NativeSkipped,
+    /// Without it a side lacking closures would read as every closure changed, and two such
+    /// sides as no dependency version changed.
+    pub closures_left_out: ClosuresLeftOut,
     pub changes: Vec<CellChange>,
     /// Unified diff of the two renderings; empty when they are equal. `basefit diff` renders
     /// with [`crate::report::markdown_keyed`], whose note labels do not shift when another
@@ -108,16 +126,35 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
             .header("before", "after")
             .to_string()
     };
+    let closures = ClosuresLeftOut {
+        before: closures_left_out(before),
+        after: closures_left_out(after),
+    };
+    // Closures compare only where both sides list them.
+    let without_closures = |m: &Matrix| {
+        let mut m = m.clone();
+        m.cells.iter_mut().for_each(|c| c.closure.clear());
+        m
+    };
+    let differ = if closures.before || closures.after {
+        Matrix {
+            notice: after.notice.clone(),
+            ..without_closures(before)
+        } != without_closures(after)
+    } else {
+        Matrix {
+            notice: after.notice.clone(),
+            ..before.clone()
+        } != *after
+    };
     MatrixDiff {
         native_skipped: NativeSkipped {
             before: before.native_skipped,
             after: after.native_skipped,
         },
+        closures_left_out: closures,
         changes,
         unified,
-        differ: Matrix {
-            notice: after.notice.clone(),
-            ..before.clone()
-        } != *after,
+        differ,
     }
 }
