@@ -1182,15 +1182,8 @@ fn diff_of_one_changed_cell_holds_only_that_cells_lines() {
 fn a_plan_without_closures_differs_only_in_them() {
     let dir = tempfile::tempdir().unwrap();
     let matrix = |name: &str, extra: &[&str]| {
-        let out = dir.path().join(name);
-        let args: Vec<&str> = ["plan", "--out", out.to_str().unwrap(), "--quiet"]
-            .into_iter()
-            .chain(common::DEMO)
-            .chain(extra.iter().copied())
-            .collect();
-        let (code, _, err) = common::run_basefit(args);
-        assert_eq!(code, 0, "{err}");
-        let text = std::fs::read_to_string(out.join("matrix.json")).unwrap();
+        let path = plan_into(&dir.path().join(name), extra);
+        let text = std::fs::read_to_string(path).unwrap();
         serde_json::from_str::<serde_json::Value>(&text).unwrap()
     };
     let mut full = matrix("full", &[]);
@@ -1211,17 +1204,8 @@ fn a_plan_without_closures_differs_only_in_them() {
 #[test]
 fn a_diff_against_a_matrix_without_closures_says_closures_are_not_compared() {
     let dir = tempfile::tempdir().unwrap();
-    let plan = |name: &str, extra: &[&str]| {
-        let out = dir.path().join(name);
-        let args: Vec<&str> = ["plan", "--out", out.to_str().unwrap(), "--quiet"]
-            .into_iter()
-            .chain(common::DEMO)
-            .chain(extra.iter().copied())
-            .collect();
-        assert_eq!(common::run_basefit(args).0, 0);
-        out.join("matrix.json").to_str().unwrap().to_string()
-    };
-    let (full, bare) = (plan("full", &[]), plan("bare", &["--no-closures"]));
+    let full = plan_into(&dir.path().join("full"), &[]);
+    let bare = plan_into(&dir.path().join("bare"), &["--no-closures"]);
     let (code, out, err) = common::run_basefit(["diff", &full, &bare]);
     assert_eq!(code, 0, "{out}{err}");
     assert!(
