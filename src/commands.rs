@@ -407,8 +407,9 @@ fn review_results(
     matrix: &Matrix,
     inputs: &Inputs,
     paths: &InputPaths,
+    budget: u64,
 ) -> Result<crate::verify::Review, BadInput> {
-    let mut review = crate::verify::compare_inputs(matrix, inputs);
+    let mut review = crate::verify::compare::compare_inputs_within(matrix, inputs, budget);
     let files: Vec<String> = paths
         .results
         .iter()
@@ -880,7 +881,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             plan::matrix::plan_only(&inputs, &o.plan, &wanted)
         }
     };
-    let review = review_results(&matrix, &inputs, &o.inputs)?;
+    let review = review_results(&matrix, &inputs, &o.inputs, o.plan.budget)?;
     let surprises = review.surprises();
     // A result left out could have been a surprise: the gate cannot pass without it.
     let mut out = Output::report(
@@ -1190,7 +1191,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     // without recorded installs.
     let mut out = Output::default();
     if !o.inputs.results.is_empty() {
-        let review = review_results(&matrix, &inputs, &o.inputs)?;
+        let review = review_results(&matrix, &inputs, &o.inputs, o.plan.budget)?;
         let earlier = matrix.cells.iter().filter(|c| c.recorded.is_some()).count();
         if let (Some(path), 1..) = (&o.matrix, earlier) {
             out.stderr.push(format!(

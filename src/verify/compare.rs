@@ -498,9 +498,8 @@ fn surprise_install_step(
     standing: &Standing,
     installed: Option<&str>,
     predicted_installed: bool,
+    budget: u64,
 ) -> String {
-    // The review has no --budget of its own; a release it cannot settle says so.
-    let budget = crate::solve::DEFAULT_BUDGET;
     let image = &cell.image;
     // A surprise install newer than the prediction points at the snapshot when the snapshot
     // lacks it; without a predicted version (a failure) a missing one is as likely newer.
@@ -534,7 +533,7 @@ fn surprise_install_step(
                 "whether {i} needs it is unknown (it does not resolve on {image} by the snapshot)"
             )),
             OtherRelease::Undecided => Some(format!(
-                "whether {i} needs it is unknown (the solver gave up on it after the default budget's steps)"
+                "whether {i} needs it is unknown (the solver ran out of budget on it; raise --budget)"
             )),
         };
         if let Some(known) = known {
@@ -717,13 +716,29 @@ fn drift_step(
 }
 
 /// Compares `matrix` with recorded `results`. Every result is either compared or listed in
-/// `outside_matrix`.
+/// `outside_matrix`. Solves the review makes itself (a release that installed where another
+/// was predicted) get the default budget; [`compare_within`] takes the plan's.
 pub fn compare(
     matrix: &Matrix,
     results: &[RecordedResult],
     registry: &Registry,
     images: &ImageSet,
     catalog: &Catalog,
+) -> Review {
+    compare_within(
+        matrix,
+        results,
+        (registry, images, catalog),
+        crate::solve::DEFAULT_BUDGET,
+    )
+}
+
+/// [`compare`] with `budget` solver steps for each solve the review makes itself.
+pub fn compare_within(
+    matrix: &Matrix,
+    results: &[RecordedResult],
+    (registry, images, catalog): (&Registry, &ImageSet, &Catalog),
+    budget: u64,
 ) -> Review {
     let mut by_cell: BTreeMap<(usize, usize), Vec<&RecordedResult>> = BTreeMap::new();
     let mut outside = Vec::new();
@@ -849,7 +864,8 @@ pub fn compare(
                         (registry, images, catalog),
                         &standing(),
                         installed_version.as_deref(),
-                        predicted_installed
+                        predicted_installed,
+                        budget
                     )
                 ))
             }
@@ -935,12 +951,16 @@ pub fn compare(
 
 /// [`compare`] with the registry, images and catalog of loaded inputs.
 pub fn compare_inputs(matrix: &Matrix, inputs: &crate::load::Inputs) -> Review {
-    compare(
+    compare_inputs_within(matrix, inputs, crate::solve::DEFAULT_BUDGET)
+}
+
+/// [`compare_inputs`] with `budget` steps for each solve the review makes itself.
+pub fn compare_inputs_within(matrix: &Matrix, inputs: &crate::load::Inputs, budget: u64) -> Review {
+    compare_within(
         matrix,
         &inputs.results,
-        &inputs.registry,
-        &inputs.images,
-        &inputs.catalog,
+        (&inputs.registry, &inputs.images, &inputs.catalog),
+        budget,
     )
 }
 
