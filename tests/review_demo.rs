@@ -1107,7 +1107,7 @@ fn an_install_of_another_release_tells_of_the_image_only_if_it_needs_the_same() 
         // "does not resolve".
         let starved = basefit::verify::compare::compare_inputs_within(&matrix, &inputs, 1);
         let unsolved = starved.cells[0].suggestion.clone().unwrap_or_default();
-        if records.iter().any(|v| *v == Some("1.5.0")) {
+        if records.contains(&Some("1.5.0")) {
             assert!(
                 unsolved.contains("whether 1.5.0 needs it is unknown (the solver ran out of budget on it; raise --budget)"),
                 "{unsolved}"
