@@ -516,7 +516,10 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
             run(o.shard)
         ));
     }
-    let (cache, stats) = plan::replan::replan(&inputs, &o.plan, previous, o.shard);
+    let (cache, stats) = match &o.cache {
+        Some(_) => plan::replan::replan(&inputs, &o.plan, previous, o.shard),
+        None => plan::replan::plan_uncached(&inputs, &o.plan, o.shard),
+    };
     let matrix = &cache.matrix;
     if let Some(dir) = &o.out {
         let bar = o.plan.progress.as_ref();

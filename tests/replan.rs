@@ -1178,3 +1178,23 @@ fn a_dependency_turning_unusable_beside_the_one_met_first_is_noticed() {
         assert!(warm == cold, "{before} -> {after}:\n{warm}\n{cold}");
     }
 }
+
+/// A plan that keeps no cache (`plan`, and `basefit plan` without `--cache`) drops each
+/// cell's solve record at once; its matrix must be the one a cache-keeping plan writes, for the
+/// whole plan and for a shard.
+#[test]
+fn a_plan_without_a_cache_gives_the_same_matrix() {
+    use basefit::plan::replan::plan_uncached;
+    let inputs = demo();
+    let options = PlanOptions::default();
+    for shard in [None, Shard::parse("2/3").ok()] {
+        let (kept, _) = replan(&inputs, &options, None, shard);
+        let (bare, stats) = plan_uncached(&inputs, &options, shard);
+        assert_eq!(
+            basefit::report::to_json(&bare.matrix),
+            basefit::report::to_json(&kept.matrix)
+        );
+        assert!(bare.bases.is_empty() && bare.packages.is_empty());
+        assert_eq!(stats.solved, kept.matrix.cells.len());
+    }
+}

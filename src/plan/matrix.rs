@@ -686,7 +686,7 @@ fn add_list(packages: &[String]) -> String {
 /// Plans every priority entry on every image. Cells are solved in parallel on the current
 /// rayon pool; the result does not depend on the number of threads.
 pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
-    super::replan::replan(inputs, options, None, None).0.matrix
+    super::replan::plan_uncached(inputs, options, None).0.matrix
 }
 
 /// The explanation of a cell [`plan_only`] did not solve.

@@ -1144,6 +1144,29 @@ pub fn replan(
     previous: Option<PlanCache>,
     shard: Option<Shard>,
 ) -> (PlanCache, ReplanStats) {
+    replan_keeping(inputs, options, previous, shard, true)
+}
+
+/// A cold plan of the cells of `shard` (all when `None`) for a run that keeps no cache: each
+/// cell's record of its solve is dropped as soon as it is solved, which on a plan of hundreds
+/// of thousands of cells is most of the memory. The returned cache holds the matrix only (no
+/// package table, no bases): it is not for writing out, and a re-plan would set it aside.
+pub fn plan_uncached(
+    inputs: &Inputs,
+    options: &PlanOptions,
+    shard: Option<Shard>,
+) -> (PlanCache, ReplanStats) {
+    replan_keeping(inputs, options, None, shard, false)
+}
+
+/// [`replan`]; without `keep_basis` the returned cache holds no package table and no bases.
+fn replan_keeping(
+    inputs: &Inputs,
+    options: &PlanOptions,
+    previous: Option<PlanCache>,
+    shard: Option<Shard>,
+    keep_basis: bool,
+) -> (PlanCache, ReplanStats) {
     let registry = &inputs.registry;
     let global = global_fingerprint(inputs, options);
     let given = previous.is_some();
@@ -1251,13 +1274,17 @@ pub fn replan(
                 }
                 return (Source::Reused(k, updates), entry_key, image_key);
             }
-            let cell = plan_cell(inputs, views[col].get(), entry, options);
-            let o = &cell.observed;
-            o.packages
-                .iter()
-                .chain(&o.explained)
-                .chain(&o.open_ended)
-                .for_each(|id| mark(*id));
+            let mut cell = plan_cell(inputs, views[col].get(), entry, options);
+            if keep_basis {
+                let o = &cell.observed;
+                o.packages
+                    .iter()
+                    .chain(&o.explained)
+                    .chain(&o.open_ended)
+                    .for_each(|id| mark(*id));
+            } else {
+                cell.observed = Default::default();
+            }
             (Source::Solved(Box::new(cell)), entry_key, image_key)
         })
         .collect();
@@ -1303,6 +1330,7 @@ pub fn replan(
         renumber.len() == ids.len() && renumber.iter().enumerate().all(|(k, &r)| r == k as u32);
     let packages: Vec<CachedPackage> = ids
         .par_iter()
+        .filter(|_| keep_basis)
         .map(|&id| {
             let p = prints.of(id);
             CachedPackage {
@@ -1343,6 +1371,7 @@ pub fn replan(
     let mut bases: Vec<CellBasis> = results
         .iter()
         .zip(&moves)
+        .filter(|_| keep_basis)
         .map(|((source, _, _), &last)| match source {
             Source::Reused(k, _) => take(&mut old_bases, *k, last),
             Source::Solved(_) => CellBasis::default(),
