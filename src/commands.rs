@@ -723,9 +723,15 @@ const MATRIX_FILES: [&str; 2] = ["matrix.yaml", "matrix.json"];
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
     let [yaml, json] = MATRIX_FILES.map(|name| dir.join(name));
-    report::write_all_atomic(&[
-        (yaml.clone(), report::matrix_yaml(matrix).into_bytes()),
-        (json.clone(), report::to_json(matrix).into_bytes()),
+    report::write_made_atomic(vec![
+        (
+            yaml.clone(),
+            Box::new(|| report::matrix_yaml(matrix).into_bytes().into()),
+        ),
+        (
+            json.clone(),
+            Box::new(|| report::to_json(matrix).into_bytes().into()),
+        ),
     ])?;
     out.stderr
         .push(format!("wrote {} and {}", yaml.display(), json.display()));
@@ -1226,29 +1232,28 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     data_quality_note(&inputs, &mut out);
     match &o.out {
         Some(dir) => {
-            let write = || {
-                let files = [
-                    report::html(&matrix),
-                    report::markdown(&matrix),
-                    report::csv(&matrix),
-                    report::to_json(&matrix),
-                    report::matrix_yaml(&matrix),
-                ];
-                let files = RENDERED_FILES.into_iter().zip(files);
-                let files: Vec<(PathBuf, Vec<u8>)> = files
-                    .into_iter()
-                    .map(|(name, body)| (dir.join(name), body.into_bytes()))
-                    .collect();
-                report::write_all_atomic(&files).map(|()| files)
-            };
-            let files = crate::load::spinning(o.plan.progress.as_ref(), "rendering", write)?;
-            for (path, body) in &files {
+            let m = &matrix;
+            let makers: [report::Made<'_>; 5] = [
+                Box::new(|| report::html(m).into_bytes().into()),
+                Box::new(|| report::markdown(m).into_bytes().into()),
+                Box::new(|| report::csv(m).into_bytes().into()),
+                Box::new(|| report::to_json(m).into_bytes().into()),
+                Box::new(|| report::matrix_yaml(m).into_bytes().into()),
+            ];
+            let paths: Vec<PathBuf> = RENDERED_FILES.iter().map(|n| dir.join(n)).collect();
+            let files = paths.iter().cloned().zip(makers).collect();
+            // Each file is made just before it is written, so the five are never in memory
+            // together.
+            let sizes = crate::load::spinning(o.plan.progress.as_ref(), "rendering", || {
+                report::write_made_atomic(files)
+            })?;
+            for (path, size) in paths.iter().zip(sizes) {
                 out.stdout.push_str(&format!("{}\n", path.display()));
                 if path.extension().is_some_and(|e| e == "html") {
                     let shown = path.display().to_string();
                     out.stderr.extend(report::html::large_page_note(
                         &shown,
-                        body.len(),
+                        size,
                         "matrix.md or matrix.csv",
                     ));
                 }

@@ -147,8 +147,28 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 /// one file named twice. A rename can still fail midway for reasons no check foresees (the
 /// disk removed, say), and then the files renamed so far stay new.
 pub fn write_all_atomic<B: AsRef<[u8]>>(files: &[(PathBuf, B)]) -> Result<()> {
+    let made: Vec<(PathBuf, Made<'_>)> = files
+        .iter()
+        .map(|(path, bytes)| {
+            let bytes = bytes.as_ref();
+            (
+                path.clone(),
+                Box::new(move || std::borrow::Cow::Borrowed(bytes)) as Made<'_>,
+            )
+        })
+        .collect();
+    write_made_atomic(made).map(|_| ())
+}
+
+/// Makes one file's bytes when it is written (borrowed when they exist already).
+pub type Made<'a> = Box<dyn FnOnce() -> std::borrow::Cow<'a, [u8]> + 'a>;
+
+/// [`write_all_atomic`] of files whose bytes are made one at a time, just before each is
+/// written and dropped after: a large matrix's YAML and JSON are never in memory together.
+/// Returns each file's size in bytes.
+pub fn write_made_atomic(files: Vec<(PathBuf, Made<'_>)>) -> Result<Vec<usize>> {
     let mut names = std::collections::HashSet::new();
-    for (path, _) in files {
+    for (path, _) in &files {
         if path.is_dir() {
             anyhow::bail!("cannot write {}: a folder has that name", path.display());
         }
@@ -156,12 +176,17 @@ pub fn write_all_atomic<B: AsRef<[u8]>>(files: &[(PathBuf, B)]) -> Result<()> {
             anyhow::bail!("cannot write {} twice in one set of files", path.display());
         }
     }
-    let mut staged: Vec<(PathBuf, &Path)> = Vec::with_capacity(files.len());
-    let staging = files.iter().try_for_each(|(path, bytes)| -> Result<()> {
-        let tmp = stage(path, bytes.as_ref())?;
-        staged.push((tmp, path));
-        Ok(())
-    });
+    let mut staged: Vec<(PathBuf, PathBuf)> = Vec::with_capacity(files.len());
+    let mut sizes = Vec::with_capacity(files.len());
+    let staging = files
+        .into_iter()
+        .try_for_each(|(path, make)| -> Result<()> {
+            let bytes = make();
+            let tmp = stage(&path, &bytes)?;
+            sizes.push(bytes.len());
+            staged.push((tmp, path));
+            Ok(())
+        });
     if let Err(e) = staging {
         for (tmp, _) in &staged {
             let _ = std::fs::remove_file(tmp);
@@ -178,7 +203,7 @@ pub fn write_all_atomic<B: AsRef<[u8]>>(files: &[(PathBuf, B)]) -> Result<()> {
     for (tmp, _) in &staged[moved..] {
         let _ = std::fs::remove_file(tmp);
     }
-    result
+    result.map(|()| sizes)
 }
 
 /// Writes `bytes` to a temporary file beside `path` and returns its name.
