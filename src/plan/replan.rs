@@ -1150,7 +1150,8 @@ pub fn replan(
 /// A cold plan of the cells of `shard` (all when `None`) for a run that keeps no cache: each
 /// cell's record of its solve is dropped as soon as it is solved, which on a plan of hundreds
 /// of thousands of cells is most of the memory. The returned cache holds the matrix only (no
-/// package table, no bases): it is not for writing out, and a re-plan would set it aside.
+/// package table, no bases): it is not for writing out (a re-plan given it would solve every
+/// cell again, and `basefit plan --cache` would refuse the file as damaged).
 pub fn plan_uncached(
     inputs: &Inputs,
     options: &PlanOptions,

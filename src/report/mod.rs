@@ -176,34 +176,30 @@ pub fn write_made_atomic(files: Vec<(PathBuf, Made<'_>)>) -> Result<Vec<usize>> 
             anyhow::bail!("cannot write {} twice in one set of files", path.display());
         }
     }
-    let mut staged: Vec<(PathBuf, PathBuf)> = Vec::with_capacity(files.len());
-    let mut sizes = Vec::with_capacity(files.len());
-    let staging = files
-        .into_iter()
-        .try_for_each(|(path, make)| -> Result<()> {
-            let bytes = make();
-            let tmp = stage(&path, &bytes)?;
-            sizes.push(bytes.len());
-            staged.push((tmp, path));
-            Ok(())
-        });
-    if let Err(e) = staging {
-        for (tmp, _) in &staged {
-            let _ = std::fs::remove_file(tmp);
+    // Temporary files not yet moved into place are removed however this function is left, a
+    // panic while making the next file included (a kill cannot be caught: then one stays).
+    struct Staged(Vec<(PathBuf, PathBuf)>, usize);
+    impl Drop for Staged {
+        fn drop(&mut self) {
+            for (tmp, _) in &self.0[self.1..] {
+                let _ = std::fs::remove_file(tmp);
+            }
         }
-        return Err(e);
     }
-    let mut moved = 0;
-    let result = staged.iter().try_for_each(|(tmp, path)| -> Result<()> {
+    let mut staged = Staged(Vec::with_capacity(files.len()), 0);
+    let mut sizes = Vec::with_capacity(files.len());
+    for (path, make) in files {
+        let bytes = make();
+        let tmp = stage(&path, &bytes)?;
+        sizes.push(bytes.len());
+        staged.0.push((tmp, path));
+    }
+    while let Some((tmp, path)) = staged.0.get(staged.1) {
         std::fs::rename(tmp, path)
             .with_context(|| format!("cannot move {} into place", path.display()))?;
-        moved += 1;
-        Ok(())
-    });
-    for (tmp, _) in &staged[moved..] {
-        let _ = std::fs::remove_file(tmp);
+        staged.1 += 1;
     }
-    result.map(|()| sizes)
+    Ok(sizes)
 }
 
 /// Writes `bytes` to a temporary file beside `path` and returns its name.
@@ -222,8 +218,9 @@ fn stage(path: &Path, bytes: &[u8]) -> Result<PathBuf> {
     let written = (|| -> Result<()> {
         let mut f = std::fs::File::create(&tmp)
             .with_context(|| format!("cannot write {}", tmp.display()))?;
-        f.write_all(bytes)?;
-        f.sync_all()?;
+        f.write_all(bytes)
+            .and_then(|()| f.sync_all())
+            .with_context(|| format!("cannot write {}", path.display()))?;
         Ok(())
     })();
     if let Err(e) = written {
@@ -1006,6 +1003,26 @@ mod tests {
             1,
             "no temporary file left"
         );
+    }
+
+    #[test]
+    fn a_panic_while_making_a_file_leaves_no_temporary_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let (first, second) = (
+            dir.path().join("matrix.yaml"),
+            dir.path().join("matrix.json"),
+        );
+        std::fs::write(&first, "old").unwrap();
+        let files: Vec<(PathBuf, Made<'_>)> = vec![
+            (first.clone(), Box::new(|| b"new".to_vec().into())),
+            (second, Box::new(|| panic!("made badly"))),
+        ];
+        let caught =
+            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| write_made_atomic(files)));
+        assert!(caught.is_err());
+        assert_eq!(std::fs::read_to_string(&first).unwrap(), "old");
+        let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+        assert_eq!(left.len(), 1, "the first file's temporary copy was removed");
     }
 
     #[test]

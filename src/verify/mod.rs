@@ -8,4 +8,6 @@ pub mod compare;
 pub mod diff;
 pub mod logs;
 
-pub use compare::{Review, Verdict, annotate, compare, compare_inputs};
+pub use compare::{
+    Review, Verdict, annotate, compare, compare_inputs, compare_inputs_within, compare_within,
+};
