@@ -73,10 +73,15 @@ pub(crate) fn while_indexing<T>(
     bar.set_style(style);
     // `{elapsed}` then counts the indexing, not the reading before it.
     bar.reset_elapsed();
+    ticking(bar, index)
+}
+
+/// Runs `step` while `bar` redraws on a timer: with nothing to count, only the timer moves it.
+fn ticking<T>(bar: &indicatif::ProgressBar, step: impl FnOnce() -> T) -> T {
     bar.enable_steady_tick(std::time::Duration::from_millis(120));
-    let indexed = index();
+    let done = step();
     bar.disable_steady_tick();
-    indexed
+    done
 }
 
 /// Runs `step`, a last step of unknown length (writing output files), with a spinner saying
@@ -91,9 +96,7 @@ pub(crate) fn spinning<T>(
     };
     let what = what.replace(['{', '}'], "");
     start_bar(bar, 0, &format!("{what} {{spinner}} {{elapsed}}"));
-    bar.enable_steady_tick(std::time::Duration::from_millis(120));
-    let done = step();
-    bar.disable_steady_tick();
+    let done = ticking(bar, step);
     bar.finish_and_clear();
     done
 }

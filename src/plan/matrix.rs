@@ -689,6 +689,39 @@ pub fn plan(inputs: &Inputs, options: &PlanOptions) -> Matrix {
     super::replan::plan_uncached(inputs, options, None).0.matrix
 }
 
+/// An image's solver context, built only when some cell needs it: a re-plan that finds
+/// nothing changed, or a plan of a few cells, builds few.
+pub(crate) struct LazyView<'r> {
+    pub(crate) registry: &'r crate::model::Registry,
+    image: &'r Image,
+    sets: &'r solve::SetCache,
+    view: std::sync::OnceLock<ImageView<'r>>,
+}
+
+impl<'r> LazyView<'r> {
+    /// One lazy view per image, in order.
+    pub(crate) fn per_image(
+        registry: &'r crate::model::Registry,
+        images: &'r [Image],
+        sets: &'r solve::SetCache,
+    ) -> Vec<LazyView<'r>> {
+        images
+            .iter()
+            .map(|image| LazyView {
+                registry,
+                image,
+                sets,
+                view: std::sync::OnceLock::new(),
+            })
+            .collect()
+    }
+
+    pub(crate) fn get(&self) -> &ImageView<'r> {
+        self.view
+            .get_or_init(|| ImageView::new(self.registry, self.image, self.sets))
+    }
+}
+
 /// The explanation of a cell [`plan_only`] did not solve.
 pub const NOT_PLANNED: &str = "not planned: only the cells asked for were solved";
 
@@ -712,8 +745,7 @@ pub fn plan_only(
     use rayon::prelude::*;
     let images = &inputs.images.images;
     let sets = solve::SetCache::default();
-    let views: Vec<std::sync::OnceLock<ImageView<'_>>> =
-        images.iter().map(|_| std::sync::OnceLock::new()).collect();
+    let views = LazyView::per_image(&inputs.registry, images, &sets);
     if let Some(pb) = &options.progress {
         crate::load::start_bar(
             pb,
@@ -735,9 +767,7 @@ pub fn plan_only(
             if let Some(pb) = &options.progress {
                 pb.inc(1);
             }
-            let view = views[i % images.len()]
-                .get_or_init(|| ImageView::new(&inputs.registry, image, &sets));
-            let mut cell = plan_cell(inputs, view, entry, options);
+            let mut cell = plan_cell(inputs, views[i % images.len()].get(), entry, options);
             cell.observed = Observed::default();
             cell
         })

@@ -42,7 +42,9 @@
 //! Shards split the cells of a plan by index (`index % count`), so every shard gets a mix of
 //! rows; [`merge_shards`] puts them back in order, giving exactly the matrix one run gives.
 
-use super::matrix::{Cell, Matrix, Outcome, PlanOptions, image_columns, package_rows, plan_cell};
+use super::matrix::{
+    Cell, LazyView, Matrix, Outcome, PlanOptions, image_columns, package_rows, plan_cell,
+};
 use crate::load::Inputs;
 use crate::model::{Image, PackageId, PerPackage, Priority, Registry, Release, Requirement};
 use crate::solve::sets::{IndexSet, root_set};
@@ -733,22 +735,6 @@ fn runs(basis: &CellBasis) -> impl Iterator<Item = Option<Found<'_>>> {
     damaged.into_iter().chain(found)
 }
 
-/// An image's solver context, built only when some cell needs it: a re-plan that finds
-/// nothing changed never does.
-struct LazyView<'r> {
-    registry: &'r Registry,
-    image: &'r Image,
-    sets: &'r SetCache,
-    view: OnceLock<ImageView<'r>>,
-}
-
-impl<'r> LazyView<'r> {
-    fn get(&self) -> &ImageView<'r> {
-        self.view
-            .get_or_init(|| ImageView::new(self.registry, self.image, self.sets))
-    }
-}
-
 /// What a reused basis gains for one package (by old table index) so that it reads exactly as
 /// a cold solve's would: releases published since that a pick would pass over for not suiting
 /// the image, and the package's candidate ceiling now.
@@ -1207,17 +1193,7 @@ fn replan_keeping(
         .map(|p| Standing::of(registry, &prints, p))
         .collect();
     let sets = SetCache::default();
-    let views: Vec<LazyView<'_>> = inputs
-        .images
-        .images
-        .iter()
-        .map(|image| LazyView {
-            registry,
-            image,
-            sets: &sets,
-            view: OnceLock::new(),
-        })
-        .collect();
+    let views = LazyView::per_image(registry, &inputs.images.images, &sets);
     let image_keys: Vec<u64> = inputs.images.images.iter().map(image_fingerprint).collect();
     let n_images = views.len();
     let total = inputs.priorities.entries.len() * n_images;
