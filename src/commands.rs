@@ -726,11 +726,11 @@ pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) ->
     report::write_made_atomic(vec![
         (
             yaml.clone(),
-            Box::new(|| report::matrix_yaml(matrix).into_bytes().into()),
+            Box::new(|w: &mut dyn std::io::Write| report::write_matrix_yaml(matrix, w)),
         ),
         (
             json.clone(),
-            Box::new(|| report::to_json(matrix).into_bytes().into()),
+            Box::new(|w: &mut dyn std::io::Write| report::write_json(matrix, w)),
         ),
     ])?;
     out.stderr
@@ -1234,11 +1234,11 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         Some(dir) => {
             let m = &matrix;
             let makers: [report::Made<'_>; 5] = [
-                Box::new(|| report::html(m).into_bytes().into()),
-                Box::new(|| report::markdown(m).into_bytes().into()),
-                Box::new(|| report::csv(m).into_bytes().into()),
-                Box::new(|| report::to_json(m).into_bytes().into()),
-                Box::new(|| report::matrix_yaml(m).into_bytes().into()),
+                report::made_text(|| report::html(m)),
+                report::made_text(|| report::markdown(m)),
+                report::made_text(|| report::csv(m)),
+                Box::new(|w: &mut dyn std::io::Write| report::write_json(m, w)),
+                Box::new(|w: &mut dyn std::io::Write| report::write_matrix_yaml(m, w)),
             ];
             let paths: Vec<PathBuf> = RENDERED_FILES.iter().map(|n| dir.join(n)).collect();
             let files = paths.iter().cloned().zip(makers).collect();

@@ -153,19 +153,25 @@ pub fn write_all_atomic<B: AsRef<[u8]>>(files: &[(PathBuf, B)]) -> Result<()> {
             let bytes = bytes.as_ref();
             (
                 path.clone(),
-                Box::new(move || std::borrow::Cow::Borrowed(bytes)) as Made<'_>,
+                Box::new(move |w: &mut dyn Write| w.write_all(bytes)) as Made<'_>,
             )
         })
         .collect();
     write_made_atomic(made).map(|_| ())
 }
 
-/// Makes one file's bytes when it is written (borrowed when they exist already).
-pub type Made<'a> = Box<dyn FnOnce() -> std::borrow::Cow<'a, [u8]> + 'a>;
+/// Writes one file's bytes into the writer it is given, when the file is written: a large
+/// file is streamed to disk instead of being held whole in memory first.
+pub type Made<'a> = Box<dyn FnOnce(&mut dyn Write) -> std::io::Result<()> + 'a>;
 
-/// [`write_all_atomic`] of files whose bytes are made one at a time, just before each is
-/// written and dropped after: a large matrix's YAML and JSON are never in memory together.
-/// Returns each file's size in bytes.
+/// A [`Made`] of a text made whole (for outputs that are not large enough to stream).
+pub fn made_text<'a>(make: impl FnOnce() -> String + 'a) -> Made<'a> {
+    Box::new(move |w: &mut dyn Write| w.write_all(make().as_bytes()))
+}
+
+/// [`write_all_atomic`] of files whose bytes are made one at a time as each is written: a
+/// large matrix's YAML and JSON are never in memory together, nor, when their [`Made`]
+/// streams, whole. Returns each file's size in bytes.
 pub fn write_made_atomic(files: Vec<(PathBuf, Made<'_>)>) -> Result<Vec<usize>> {
     let mut names = std::collections::HashSet::new();
     for (path, _) in &files {
@@ -189,9 +195,8 @@ pub fn write_made_atomic(files: Vec<(PathBuf, Made<'_>)>) -> Result<Vec<usize>> 
     let mut staged = Staged(Vec::with_capacity(files.len()), 0);
     let mut sizes = Vec::with_capacity(files.len());
     for (path, make) in files {
-        let bytes = make();
-        let tmp = stage(&path, &bytes)?;
-        sizes.push(bytes.len());
+        let (tmp, size) = stage(&path, make)?;
+        sizes.push(size);
         staged.0.push((tmp, path));
     }
     while let Some((tmp, path)) = staged.0.get(staged.1) {
@@ -202,8 +207,10 @@ pub fn write_made_atomic(files: Vec<(PathBuf, Made<'_>)>) -> Result<Vec<usize>> 
     Ok(sizes)
 }
 
-/// Writes `bytes` to a temporary file beside `path` and returns its name.
-fn stage(path: &Path, bytes: &[u8]) -> Result<PathBuf> {
+/// Writes what `make` writes to a temporary file beside `path`, buffered, and returns its name
+/// and size. The temporary file is removed however this is left short of the end, a panic
+/// inside `make` included.
+fn stage(path: &Path, make: Made<'_>) -> Result<(PathBuf, usize)> {
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
@@ -215,26 +222,58 @@ fn stage(path: &Path, bytes: &[u8]) -> Result<PathBuf> {
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    let written = (|| -> Result<()> {
-        let mut f = std::fs::File::create(&tmp)
-            .with_context(|| format!("cannot write {}", tmp.display()))?;
-        f.write_all(bytes)
-            .and_then(|()| f.sync_all())
-            .with_context(|| format!("cannot write {}", path.display()))?;
-        Ok(())
-    })();
-    if let Err(e) = written {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(e);
+    struct Unfinished<'p>(Option<&'p Path>);
+    impl Drop for Unfinished<'_> {
+        fn drop(&mut self) {
+            if let Some(tmp) = self.0 {
+                let _ = std::fs::remove_file(tmp);
+            }
+        }
     }
-    Ok(tmp)
+    let file =
+        std::fs::File::create(&tmp).with_context(|| format!("cannot write {}", tmp.display()))?;
+    let mut unfinished = Unfinished(Some(&tmp));
+    let mut counted = Counted {
+        inner: std::io::BufWriter::with_capacity(1 << 20, file),
+        bytes: 0,
+    };
+    make(&mut counted)
+        .and_then(|()| counted.inner.flush())
+        .and_then(|()| counted.inner.get_ref().sync_all())
+        .with_context(|| format!("cannot write {}", path.display()))?;
+    unfinished.0 = None;
+    drop(unfinished);
+    Ok((tmp, counted.bytes))
+}
+
+/// A writer that counts the bytes it passes on.
+struct Counted<W> {
+    inner: W,
+    bytes: usize,
+}
+
+impl<W: Write> Write for Counted<W> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let n = self.inner.write(buf)?;
+        self.bytes += n;
+        Ok(n)
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush()
+    }
 }
 
 /// Pretty JSON with a trailing newline.
 pub fn to_json<T: Serialize>(value: &T) -> String {
-    let mut s = serde_json::to_string_pretty(value).expect("report values serialize");
-    s.push('\n');
-    s
+    let mut out = Vec::new();
+    write_json(value, &mut out).expect("report values serialize");
+    String::from_utf8(out).expect("JSON is UTF-8")
+}
+
+/// [`to_json`] streamed into `w`, so a large matrix is never held as one string.
+pub fn write_json<T: Serialize>(value: &T, w: &mut dyn Write) -> std::io::Result<()> {
+    serde_json::to_writer_pretty(&mut *w, value)?;
+    w.write_all(b"\n")
 }
 
 /// YAML that YAML 1.1 and YAML 1.2 readers alike read back to the same values: block style
@@ -267,6 +306,13 @@ pub fn to_yaml<T: Serialize>(value: &T) -> String {
 /// each cell becomes a tree of its own, written and dropped, which on a plan of 100,000 cells
 /// saves gigabytes.
 pub fn matrix_yaml(m: &crate::plan::Matrix) -> String {
+    let mut out = Vec::new();
+    write_matrix_yaml(m, &mut out).expect("writing to memory does not fail");
+    String::from_utf8(out).expect("YAML is UTF-8")
+}
+
+/// [`matrix_yaml`] streamed into `w`: only one cell's text is in memory at a time.
+pub fn write_matrix_yaml(m: &crate::plan::Matrix, w: &mut dyn Write) -> std::io::Result<()> {
     let head = crate::plan::Matrix {
         notice: m.notice.clone(),
         native_skipped: m.native_skipped,
@@ -276,23 +322,27 @@ pub fn matrix_yaml(m: &crate::plan::Matrix) -> String {
         shard: m.shard,
         planned_from: m.planned_from.clone(),
     };
-    yaml_with_items(&head, "cells", &m.cells)
+    yaml_with_items(&head, "cells", &m.cells, w)
 }
 
 /// [`to_yaml`] of `head`, a mapping whose entry `key` is an empty sequence standing for
-/// `items`, written one item at a time.
-fn yaml_with_items<H: Serialize, I: Serialize>(head: &H, key: &str, items: &[I]) -> String {
+/// `items`, written into `w` one item at a time.
+fn yaml_with_items<H: Serialize, I: Serialize>(
+    head: &H,
+    key: &str,
+    items: &[I],
+    w: &mut dyn Write,
+) -> std::io::Result<()> {
     use serde_yaml::Value;
     let head = serde_yaml::to_value(head).expect("report values serialize");
     let Value::Mapping(map) = &head else {
         unreachable!("a struct serializes as a mapping")
     };
-    if items.is_empty() {
-        let mut out = String::new();
-        yaml_node(&mut out, &head, 0, Place::Top);
-        return out;
-    }
     let mut out = String::new();
+    if items.is_empty() {
+        yaml_node(&mut out, &head, 0, Place::Top);
+        return w.write_all(out.as_bytes());
+    }
     for (k, value) in map {
         // Every key of a report struct is a short plain string: an implicit key.
         yaml_key(&mut out, k);
@@ -304,12 +354,14 @@ fn yaml_with_items<H: Serialize, I: Serialize>(head: &H, key: &str, items: &[I])
                 let item = serde_yaml::to_value(item).expect("report values serialize");
                 out.push_str("- ");
                 yaml_node(&mut out, &item, 0, Place::Item);
+                w.write_all(out.as_bytes())?;
+                out.clear();
             }
         } else {
             yaml_node(&mut out, value, 0, Place::MapValue);
         }
     }
-    out
+    w.write_all(out.as_bytes())
 }
 
 /// Where a node starts, which decides how a block collection under it is laid out.
@@ -1006,6 +1058,54 @@ mod tests {
     }
 
     #[test]
+    fn a_streamed_file_that_fails_midway_leaves_the_old_set_and_no_temporary_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let (first, second) = (dir.path().join("a.yaml"), dir.path().join("a.json"));
+        std::fs::write(&first, "old").unwrap();
+        let files: Vec<(PathBuf, Made<'_>)> = vec![
+            (first.clone(), made_text(|| "new".to_string())),
+            (
+                second.clone(),
+                Box::new(|w: &mut dyn Write| {
+                    w.write_all(&[b'x'; 3 << 20])?;
+                    Err(std::io::Error::other("disk full"))
+                }),
+            ),
+        ];
+        let err = write_made_atomic(files).unwrap_err();
+        assert!(format!("{err:#}").contains("a.json"), "{err:#}");
+        assert!(format!("{err:#}").contains("disk full"), "{err:#}");
+        assert_eq!(std::fs::read_to_string(&first).unwrap(), "old");
+        assert!(!second.exists());
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn streamed_sizes_are_the_sizes_on_disk() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("big.txt");
+        let files: Vec<(PathBuf, Made<'_>)> = vec![(
+            path.clone(),
+            Box::new(|w: &mut dyn Write| {
+                for i in 0..200_000 {
+                    writeln!(w, "line {i}")?;
+                }
+                Ok(())
+            }),
+        )];
+        let sizes = write_made_atomic(files).unwrap();
+        assert_eq!(
+            sizes,
+            vec![std::fs::metadata(&path).unwrap().len() as usize]
+        );
+        assert!(
+            std::fs::read_to_string(&path)
+                .unwrap()
+                .ends_with("line 199999\n")
+        );
+    }
+
+    #[test]
     fn a_panic_while_making_a_file_leaves_no_temporary_file() {
         let dir = tempfile::tempdir().unwrap();
         let (first, second) = (
@@ -1014,8 +1114,14 @@ mod tests {
         );
         std::fs::write(&first, "old").unwrap();
         let files: Vec<(PathBuf, Made<'_>)> = vec![
-            (first.clone(), Box::new(|| b"new".to_vec().into())),
-            (second, Box::new(|| panic!("made badly"))),
+            (first.clone(), made_text(|| "new".to_string())),
+            (
+                second,
+                Box::new(|w: &mut dyn Write| {
+                    w.write_all(b"half of it")?;
+                    panic!("made badly")
+                }),
+            ),
         ];
         let caught =
             std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| write_made_atomic(files)));
