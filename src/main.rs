@@ -382,9 +382,9 @@ struct FuseArgs {
     sources: Vec<PathBuf>,
     #[arg(long, value_enum, default_value = "reciprocal")]
     method: FuseMethod,
-    /// The reciprocal rank fusion constant.
-    #[arg(long, default_value_t = 60.0, allow_negative_numbers = true)]
-    k: f64,
+    /// The reciprocal rank fusion constant (default 60); only `--method reciprocal` has one.
+    #[arg(long, allow_negative_numbers = true)]
+    k: Option<f64>,
     #[arg(long, value_enum, default_value = "worst-plus-one")]
     missing: FuseMissing,
     /// Only rows dated within FROM..TO (YYYY-MM-DD..YYYY-MM-DD, both included).
@@ -400,12 +400,27 @@ struct FuseArgs {
 
 fn run_fuse(a: FuseArgs) -> anyhow::Result<Output> {
     use basefit::plan::fusion::{Method, Missing};
+    if a.k.is_some() && !matches!(a.method, FuseMethod::Reciprocal) {
+        // A constant the method has no use for would otherwise be dropped without a word.
+        use clap::CommandFactory;
+        let mut cli = Cli::command();
+        cli.build();
+        cli.find_subcommand_mut("fuse")
+            .expect("fuse is a subcommand")
+            .error(
+                clap::error::ErrorKind::ArgumentConflict,
+                "--k is the constant of --method reciprocal; the method chosen has none",
+            )
+            .exit();
+    }
     commands::fuse(&commands::FuseCommand {
         sources: a.sources,
         method: match a.method {
             FuseMethod::RankSum => Method::RankSum,
             FuseMethod::Borda => Method::Borda,
-            FuseMethod::Reciprocal => Method::Reciprocal { k: a.k },
+            FuseMethod::Reciprocal => Method::Reciprocal {
+                k: a.k.unwrap_or(60.0),
+            },
             FuseMethod::ShareSum => Method::ShareSum,
         },
         missing: match a.missing {

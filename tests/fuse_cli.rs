@@ -304,3 +304,23 @@ fn a_negative_k_is_read_as_a_value_and_refused_by_its_rule() {
         "{stderr}"
     );
 }
+
+#[test]
+fn a_constant_given_to_a_method_without_one_is_refused() {
+    // `--k` once went unused under any method but reciprocal, so a user comparing methods at
+    // several constants got the same list each time without a word.
+    for method in ["borda", "rank-sum", "share-sum"] {
+        let stderr = fuse_refused(&[
+            "--source",
+            "demo-data/sources/usage.csv",
+            "--method",
+            method,
+            "--k",
+            "10",
+        ]);
+        assert!(
+            stderr.contains("--k is the constant of --method reciprocal"),
+            "{method}: {stderr}"
+        );
+    }
+}
