@@ -749,6 +749,54 @@ fn several_schema_errors_come_back_together() {
     assert_eq!(err.more[0].line, Some(4));
 }
 
+/// Errors in the versions file once hid the dependencies file's until the next run, and a
+/// bad header in one hid the other's; a combination of combinations lost all but the first
+/// error of each.
+#[test]
+fn schema_errors_of_both_files_come_back_together() {
+    let versions = "package,version,yanked\npkg-a,1.0.0,maybe\npkg-a,1.1.0,\npkg-b,1.0.0,often\n";
+    let deps = "package,version,dependency\npkg-a,1.0.0,\n,1.1.0,pkg-b\npkg-a,1.1.0,pkg-b\n";
+    let err = load(versions, deps).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "versions.csv:2: `yanked`: expected true or false, found `maybe`\n\
+         versions.csv:4: `yanked`: expected true or false, found `often`\n\
+         deps.csv:2: `dependency` is empty\n\
+         deps.csv:3: `package` is empty"
+    );
+    let err = load("pkg,version\n", "package,dep\n").unwrap_err();
+    let lines: Vec<String> = err.to_string().lines().map(String::from).collect();
+    assert_eq!(lines.len(), 2, "{err}");
+    assert!(
+        lines[0].starts_with("versions.csv:1: unknown column `pkg`"),
+        "{err}"
+    );
+    assert!(
+        lines[1].starts_with("deps.csv:1: unknown column `dep`"),
+        "{err}"
+    );
+    // A row with the wrong number of fields once stopped the reading: the rows after it, in
+    // line order with the other errors, and the other file's, are now reported too.
+    let misshapen_versions =
+        "package,version,yanked\npkg-a,1.0.0,true,x\npkg-a,1.1.0,maybe\npkg-b\n";
+    let misshapen_deps = "package,version,dependency\npkg-a,1.0.0\npkg-a,1.0.0,\n";
+    let err = load(misshapen_versions, misshapen_deps).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "versions.csv:2: expected 3 fields as in the header, found 4\n\
+         versions.csv:3: `yanked`: expected true or false, found `maybe`\n\
+         versions.csv:4: expected 3 fields as in the header, found 1\n\
+         deps.csv:2: expected 3 fields as in the header, found 2\n\
+         deps.csv:3: `dependency` is empty"
+    );
+    // A good versions file with a bad dependencies file: as before, the latter's errors.
+    let err = load("package,version\npkg-a,1.0.0\n", deps).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "deps.csv:2: `dependency` is empty\ndeps.csv:3: `package` is empty"
+    );
+}
+
 /// Past the cap the reader stops, and the last line says so: the list is not every error.
 #[test]
 fn schema_errors_past_the_cap_are_announced() {

@@ -129,11 +129,12 @@ pub fn read_bulk_showing(
             "registry {bytes}/{total_bytes} read, eta {eta} {wide_bar}",
         );
     }
-    let versions_table =
-        Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress)?;
-    // The dependency header is checked before the (long) versions pass, so a wrong column
-    // there is reported at once.
-    let deps_table = Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress)?;
+    // Both headers are checked before the (long) versions pass, so a wrong column in either
+    // is reported at once, together.
+    let (versions_table, deps_table) = both(
+        Table::open_showing(versions, VERSION_COLUMNS, VERSION_REQUIRED, progress),
+        Table::open_showing(deps, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED, progress),
+    )?;
     let path = deps.to_path_buf();
     // A pipe read once is empty the second time, and a named one blocks the second open until
     // someone writes to it again: only a regular file is opened again.
@@ -194,8 +195,23 @@ pub fn read_bulk_from(
         let input = deps().map_err(|e| BadInput::file(&name, format!("cannot read: {e}")))?;
         Table::from_reader(&name, input, DEPENDENCY_COLUMNS, DEPENDENCY_REQUIRED)
     });
-    let versions = Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED)?;
-    read_tables(versions, open(None)?, open, None)
+    let (versions, deps) = both(
+        Table::from_reader(versions_name, versions, VERSION_COLUMNS, VERSION_REQUIRED),
+        open(None),
+    )?;
+    read_tables(versions, deps, open, None)
+}
+
+/// Both values, or the errors of either or both as one: a user fixing a dump sees the
+/// problems of both files in one run.
+fn both<A, B>(a: Result<A, BadInput>, b: Result<B, BadInput>) -> Result<(A, B), BadInput> {
+    match (a, b) {
+        (Ok(a), Ok(b)) => Ok((a, b)),
+        (a, b) => Err(
+            BadInput::combine(a.err().into_iter().chain(b.err()).collect())
+                .expect("one of them failed"),
+        ),
+    }
 }
 
 fn read_tables(
@@ -205,7 +221,15 @@ fn read_tables(
     progress: Option<&indicatif::ProgressBar>,
 ) -> Result<(Registry, Ledger), BadInput> {
     let mut load = Load::default();
-    load.read_versions(versions)?;
+    if let Err(versions_errors) = load.read_versions(versions) {
+        // The dependencies cannot be attached to a registry that did not load, but their own
+        // schema errors can still be shown beside the versions file's.
+        return Err(both(
+            Err::<(), _>(versions_errors),
+            each_dependency(deps, |_, _| {}),
+        )
+        .expect_err("the versions file failed"));
+    }
     let deps_file = deps.file.clone();
     let attached = load.read_dependencies(deps)?;
     Ok(super::while_indexing(progress, || {
@@ -218,6 +242,39 @@ fn read_tables(
         }
         (registry, ledger)
     }))
+}
+
+/// Hands each row of a dependencies file to `use_row` until a schema error is met, and
+/// collects the schema errors of the rest (an input with one is unusable already).
+fn each_dependency(
+    table: Table,
+    mut use_row: impl FnMut(usize, DepCells<'_>),
+) -> Result<(), BadInput> {
+    let cols = DepCols::of(&table);
+    let file = table.file.clone();
+    let mut errors = SchemaErrors::new();
+    let read = table.for_each_batch(|batch| {
+        for row in batch.rows() {
+            let cells = row
+                .map_err(BadInput::clone)
+                .and_then(|row| dep_cells(&file, &cols, row).map(|cells| (row.line, cells)));
+            match cells {
+                Ok((line, cells)) if errors.is_empty() => use_row(line, cells),
+                Ok(_) => {}
+                Err(e) => {
+                    errors.push(e);
+                    if errors.full() {
+                        return ControlFlow::Break(());
+                    }
+                }
+            }
+        }
+        ControlFlow::Continue(())
+    });
+    if let Err(e) = read {
+        errors.push(e);
+    }
+    errors.finish()
 }
 
 /// Where the dependencies of a (package, version text) go.
@@ -533,7 +590,10 @@ impl Load {
         let mut last: Option<(String, Option<PackageId>)> = None;
         let read = table.for_each_batch(|batch| {
             for row in batch.rows() {
-                if let Err(e) = self.version_row(&file, &cols, row, &mut last) {
+                let used = row
+                    .map_err(BadInput::clone)
+                    .and_then(|row| self.version_row(&file, &cols, row, &mut last));
+                if let Err(e) = used {
                     errors.push(e);
                     if errors.full() {
                         return ControlFlow::Break(());
@@ -750,7 +810,6 @@ impl Load {
     }
 
     fn read_dependencies(&mut self, table: Table) -> Result<Attached, BadInput> {
-        let cols = DepCols::of(&table);
         let file = table.file.clone();
         let mut pass = DepPass {
             attached: Attached {
@@ -773,27 +832,7 @@ impl Load {
         let rows = estimated_rows(table.byte_len, 16);
         let _ = pass.attached.deps.try_reserve(rows);
         let _ = pass.attached.owners.try_reserve(rows);
-        let mut errors = SchemaErrors::new();
-        let read = table.for_each_batch(|batch| {
-            for row in batch.rows() {
-                match dep_cells(&file, &cols, row) {
-                    Ok(cells) if errors.is_empty() => self.dep_row(&mut pass, row.line, cells),
-                    // The input is unusable already; only further schema errors matter.
-                    Ok(_) => {}
-                    Err(e) => {
-                        errors.push(e);
-                        if errors.full() {
-                            return ControlFlow::Break(());
-                        }
-                    }
-                }
-            }
-            ControlFlow::Continue(())
-        });
-        if let Err(e) = read {
-            errors.push(e);
-        }
-        errors.finish()?;
+        each_dependency(table, |line, cells| self.dep_row(&mut pass, line, cells))?;
         let ledger = &mut self.builder.ledger;
         ledger.read_many(RecordKind::Dependency, pass.rows);
         ledger.left_out_with_owner(RecordKind::Dependency, pass.with_owner);
@@ -1209,7 +1248,10 @@ impl DeferredRows {
         let mut malformed = None;
         let read = table.for_each_batch(|batch| {
             for row in batch.rows() {
-                let cells = match dep_cells(&file, &cols, row) {
+                let (line, cells) = match row
+                    .map_err(BadInput::clone)
+                    .and_then(|row| dep_cells(&file, &cols, row).map(|cells| (row.line, cells)))
+                {
                     Ok(cells) => cells,
                     Err(e) => {
                         malformed = Some(e);
@@ -1236,7 +1278,7 @@ impl DeferredRows {
                 {
                     p.origin = Origin {
                         file: file.clone(),
-                        line: row.line,
+                        line,
                     };
                     placed.insert(problem);
                 }

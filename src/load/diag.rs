@@ -74,7 +74,12 @@ impl BadInput {
             return None;
         }
         let mut first = errors.remove(0);
-        first.more.extend(errors);
+        // Flat: an error that is itself a combination brings each of its own along.
+        for mut e in errors {
+            let more = std::mem::take(&mut e.more);
+            first.more.push(e);
+            first.more.extend(more);
+        }
         Some(first)
     }
 

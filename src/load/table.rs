@@ -130,6 +130,16 @@ pub struct RowBuf {
     pub record: csv::StringRecord,
 }
 
+/// A record as [`Table::next_shaped`] reads it.
+enum Shaped {
+    Row,
+    /// A blank line, which is skipped.
+    Blank,
+    /// Another number of fields than the header.
+    Misshapen(BadInput),
+    End,
+}
+
 /// Rows read ahead by [`Table::for_each_batch`], their cells packed end to end in one
 /// buffer: the thread that works on them then reads memory in order, rather than chasing
 /// each row's own buffers that another thread wrote.
@@ -140,6 +150,9 @@ pub struct Batch {
     ends: Vec<usize>,
     lines: Vec<usize>,
     width: usize,
+    /// Rows with another number of fields than the header, each with the number of good
+    /// rows before it in this batch, so they come out in file order.
+    misshapen: Vec<(usize, BadInput)>,
 }
 
 impl Batch {
@@ -147,6 +160,7 @@ impl Batch {
         self.text.clear();
         self.ends.clear();
         self.lines.clear();
+        self.misshapen.clear();
     }
 
     fn push(&mut self, row: &RowBuf) {
@@ -157,24 +171,34 @@ impl Batch {
         self.lines.push(row.line);
     }
 
+    /// Rows and misshapen rows.
     pub fn len(&self) -> usize {
-        self.lines.len()
+        self.lines.len() + self.misshapen.len()
     }
 
     pub fn is_empty(&self) -> bool {
-        self.lines.is_empty()
+        self.len() == 0
     }
 
-    /// The rows in file order.
-    pub fn rows(&self) -> impl Iterator<Item = RowRef<'_>> {
-        self.lines.iter().enumerate().map(|(i, &line)| RowRef {
-            line,
-            text: &self.text,
-            ends: &self.ends[i * self.width..(i + 1) * self.width],
-            start: match i {
-                0 => 0,
-                _ => self.ends[i * self.width - 1],
-            },
+    /// The rows in file order; a row with another number of fields than the header comes as
+    /// its error, so reading goes on past it and every such row is reported.
+    pub fn rows(&self) -> impl Iterator<Item = Result<RowRef<'_>, &BadInput>> {
+        let mut misshapen = self.misshapen.iter().peekable();
+        let mut good = 0..self.lines.len();
+        std::iter::from_fn(move || {
+            if let Some((_, e)) = misshapen.next_if(|(before, _)| *before == good.start) {
+                return Some(Err(e));
+            }
+            let i = good.next()?;
+            Some(Ok(RowRef {
+                line: self.lines[i],
+                text: &self.text,
+                ends: &self.ends[i * self.width..(i + 1) * self.width],
+                start: match i {
+                    0 => 0,
+                    _ => self.ends[i * self.width - 1],
+                },
+            }))
         })
     }
 }
@@ -190,7 +214,7 @@ impl Batch {
 /// let (name, flag) = (table.column("name"), table.column("flag"));
 /// table
 ///     .for_each_batch(|batch| {
-///         let row = batch.rows().next().unwrap();
+///         let row = batch.rows().next().unwrap().unwrap();
 ///         assert_eq!(row.line, 2);
 ///         assert_eq!(row.text(name), Some("pkg-a"));
 ///         assert_eq!(row.flag("t.csv", flag, "flag").unwrap(), Some(true));
@@ -416,20 +440,33 @@ impl Table {
     /// Reads the next row into `row`; `false` at the end of the file.
     pub fn next_into(&mut self, row: &mut RowBuf) -> Result<bool, BadInput> {
         loop {
-            match self.reader.read_record(&mut row.record) {
-                Ok(false) => return Ok(false),
-                Ok(true) => {
-                    let unclosed = self.ends_in_open_quote(&row.record);
-                    row.line = self.first_line(&row.record, unclosed);
-                    if unclosed {
-                        return Err(unclosed_quote(&self.file, row.line));
-                    }
-                    if !self.check_width(&row.record, row.line)? {
-                        return Ok(true);
-                    }
-                }
-                Err(e) => return Err(csv_error(&self.file, e)),
+            match self.next_shaped(row)? {
+                Shaped::End => return Ok(false),
+                Shaped::Row => return Ok(true),
+                Shaped::Blank => {}
+                Shaped::Misshapen(e) => return Err(e),
             }
+        }
+    }
+
+    /// The next record, told apart by its shape; an error here is one reading cannot go on
+    /// past (text that is no CSV, an unclosed quote).
+    fn next_shaped(&mut self, row: &mut RowBuf) -> Result<Shaped, BadInput> {
+        match self.reader.read_record(&mut row.record) {
+            Ok(false) => Ok(Shaped::End),
+            Ok(true) => {
+                let unclosed = self.ends_in_open_quote(&row.record);
+                row.line = self.first_line(&row.record, unclosed);
+                if unclosed {
+                    return Err(unclosed_quote(&self.file, row.line));
+                }
+                Ok(match self.check_width(&row.record, row.line) {
+                    Ok(true) => Shaped::Blank,
+                    Ok(false) => Shaped::Row,
+                    Err(e) => Shaped::Misshapen(e),
+                })
+            }
+            Err(e) => Err(csv_error(&self.file, e)),
         }
     }
 
@@ -493,22 +530,32 @@ impl Table {
 
     /// Reads every row on a second thread and hands them to `each` in batches, in file order,
     /// so parsing overlaps with the caller's work on the rows. `each` may stop early with
-    /// `ControlFlow::Break`. A CSV error ends the reading after the rows before it were
-    /// handed over, as reading row by row would.
+    /// `ControlFlow::Break`. A row with another number of fields than the header comes in its
+    /// batch as an error, and reading goes on; any other CSV error ends the reading after the
+    /// rows before it were handed over, as reading row by row would.
     ///
     /// ```
     /// use basefit::load::table::Table;
     /// use std::ops::ControlFlow;
-    /// let text = "name\na\nb\nc\n";
-    /// let table = Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name"], &["name"]).unwrap();
+    /// let text = "name,kind\na,x\nb\nc,y\nd,z,w\n";
+    /// let table =
+    ///     Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name", "kind"], &["name"]).unwrap();
     /// let mut lines = Vec::new();
     /// table
     ///     .for_each_batch(|batch| {
-    ///         lines.extend(batch.rows().map(|r| r.line));
+    ///         lines.extend(batch.rows().map(|r| r.map(|r| r.line).map_err(|e| e.to_string())));
     ///         ControlFlow::Continue(())
     ///     })
     ///     .unwrap();
-    /// assert_eq!(lines, [2, 3, 4]);
+    /// assert_eq!(
+    ///     lines,
+    ///     [
+    ///         Ok(2),
+    ///         Err("t.csv:3: expected 2 fields as in the header, found 1".to_string()),
+    ///         Ok(4),
+    ///         Err("t.csv:5: expected 2 fields as in the header, found 3".to_string()),
+    ///     ]
+    /// );
     /// ```
     pub fn for_each_batch(
         mut self,
@@ -530,10 +577,18 @@ impl Table {
                     batch.width = width;
                     let mut outcome = Ok(true);
                     while batch.len() < BATCH {
-                        match self.next_into(&mut row) {
-                            Ok(true) => batch.push(&row),
-                            other => {
-                                outcome = other;
+                        match self.next_shaped(&mut row) {
+                            Ok(Shaped::Row) => batch.push(&row),
+                            Ok(Shaped::Blank) => {}
+                            Ok(Shaped::Misshapen(e)) => {
+                                batch.misshapen.push((batch.lines.len(), e));
+                            }
+                            Ok(Shaped::End) => {
+                                outcome = Ok(false);
+                                break;
+                            }
+                            Err(e) => {
+                                outcome = Err(e);
                                 break;
                             }
                         }
