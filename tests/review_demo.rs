@@ -324,6 +324,36 @@ fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
     }
 }
 
+/// A surprise install without a recorded version once read "the metadata is stricter than
+/// reality; check the runtime requirement and builds of X" whatever the plan had refused on:
+/// a dependency's runtime (saltbush: wattle-core needs a newer runtime, demo-data/STORIES.md),
+/// a dependency the snapshot lacks (dunecart-deploy: cloudpeg-sdk), or a package the snapshot
+/// does not have at all (gidgee-auth), which has no metadata to check.
+#[test]
+fn a_surprise_install_without_a_version_points_where_the_plan_refused() {
+    let results = "results:
+  - {package: saltbush, image: deb-2.4, outcome: installed}
+  - {package: dunecart-deploy, image: deb-2.4, outcome: installed}
+  - {package: gidgee-auth, image: deb-2.4, outcome: installed}
+";
+    for package in ["saltbush", "dunecart-deploy"] {
+        let (verdict, s) = suggestion_for(results, package, "deb-2.4");
+        assert_eq!(verdict, Verdict::SurpriseInstall);
+        assert!(
+            s.contains("the record gives no version")
+                && s.contains(&format!("`basefit explain {package} deb-2.4`"))
+                && !s.contains("runtime requirement and builds"),
+            "{s}"
+        );
+    }
+    let (verdict, s) = suggestion_for(results, "gidgee-auth", "deb-2.4");
+    assert_eq!(verdict, Verdict::SurpriseInstall);
+    assert!(
+        s.contains("gidgee-auth is not in the registry snapshot, which may be older"),
+        "{s}"
+    );
+}
+
 /// A recorded result for a package the registry snapshot lacks is compared, not left out:
 /// its cell is predicted missing-from-registry, and an install there is the plainest sign
 /// of a snapshot older than the registry the install used. `check` still notes the name.

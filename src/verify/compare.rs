@@ -398,7 +398,8 @@ fn suggest(
 /// refusal, and only one it holds and admits leaves the plan's other inputs to blame.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Standing {
-    /// No version recorded, or the image is not declared: nothing could be looked up.
+    /// No version recorded (for a package the snapshot has), or the image is not declared:
+    /// nothing could be looked up.
     Unknown,
     /// The snapshot has no release of that version; `package_known` is false when it does not
     /// have the package at all.
@@ -417,9 +418,7 @@ pub fn standing(
     image_id: &str,
     version: Option<&semver::Version>,
 ) -> Standing {
-    let Some(version) = version else {
-        return Standing::Unknown;
-    };
+    // A package the snapshot lacks is stale whatever version installed.
     let Some(id) = registry
         .id(package)
         .filter(|id| registry.package(*id).declared)
@@ -427,6 +426,9 @@ pub fn standing(
         return Standing::NotInSnapshot {
             package_known: false,
         };
+    };
+    let Some(version) = version else {
+        return Standing::Unknown;
     };
     let Some(index) = registry.find_release_by_precedence(id, version) else {
         return Standing::NotInSnapshot {
@@ -597,10 +599,17 @@ fn surprise_install_step(
             installed.unwrap_or("?"),
             cell.package
         ),
-        _ => format!(
-            "the metadata is stricter than reality; check the runtime requirement and builds of {}",
-            cell.package
-        ),
+        // Which release installed is unknown, so neither the root's own metadata nor its
+        // dependencies can be blamed from here: the explanation lists what the plan refused on.
+        _ => match installed {
+            None => format!(
+                "the record gives no version, so which release installed is unknown (record it to tell more): `basefit explain {} {image}` names the requirements the plan refused on, one of which is stricter than reality or was read from a snapshot older than the registry the install used",
+                cell.package
+            ),
+            Some(i) => format!(
+                "{image} is not among the images given, so whether {i} suits it is unknown: the metadata is stricter than reality or the image declaration is wrong; plan with {image} declared to tell which"
+            ),
+        },
     }
 }
 
