@@ -939,7 +939,8 @@ pub struct SystemCommand {
 
 /// `syslibs`: native evidence per package, missing system packages per image with the weight
 /// they unblock, and one install command per OS family. Exit 1 when anything is missing, or
-/// when a needed library maps to no system package (what the image lacks is then unknown).
+/// when what an image lacks is unknown: a needed library maps to no system package, or the
+/// solver ran out of budget on a cell.
 pub fn system(o: &SystemCommand) -> Result<Output> {
     // Every figure of this report comes from the native step: without it each image would
     // read "nothing missing", and a CI gate on the exit code would pass.
@@ -954,7 +955,12 @@ pub fn system(o: &SystemCommand) -> Result<Output> {
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("syslibs"))?;
     let matrix = plan::plan(&inputs, &o.plan);
     let r = plan::system::system_report(&inputs, &matrix);
-    let any_missing = r.images.iter().any(|i| i.lacks_anything());
+    // Undecided cells leave what the image lacks unknown, as an unmapped library does: a
+    // gate must not pass the image.
+    let any_missing = r
+        .images
+        .iter()
+        .any(|i| i.lacks_anything() || !i.undecided.is_empty());
     Ok(Output::report(o.format, &r, text::system_text, any_missing))
 }
 

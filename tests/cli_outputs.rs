@@ -956,6 +956,32 @@ fn undecided_cells_are_not_reported_as_lacking_nothing_or_failing() {
         "{json}"
     );
 
+    // An image whose decided cells lack nothing but whose undecided ones are unknown is not
+    // passed by a gate on the exit code (it once exited 0): deb-2.4 alone, whose decided
+    // cells lack nothing in the demo.
+    let dir = tempfile::tempdir().unwrap();
+    let demo_images = std::fs::read_to_string("matrices/demo-images.yaml").unwrap();
+    let deb24 = demo_images
+        .split("\n  - id: ")
+        .find(|block| block.starts_with("deb-2.4\n"))
+        .expect("deb-2.4 in the demo images");
+    let deb24 = format!("images:\n  - id: {}\n", deb24.trim_end());
+    let only = demo_on_images(dir.path(), &deb24);
+    let only: Vec<&str> = only.iter().map(String::as_str).collect();
+    let (code, syslibs, err) = run(&["syslibs", "--budget", "6"], &only);
+    assert!(
+        syslibs.contains("  deb-2.4: nothing missing among the decided cells\n")
+            && syslibs.contains("undecided"),
+        "{syslibs}{err}"
+    );
+    assert_eq!(code, 1, "{syslibs}");
+    let (code, syslibs, _) = run(&["syslibs"], &only);
+    assert!(
+        syslibs.contains("  deb-2.4: nothing missing\n"),
+        "{syslibs}"
+    );
+    assert_eq!(code, 0, "the same image with every cell decided passes");
+
     args.extend(["--image", "deb-2.4"]);
     let (_, imageplan, _) = run(&["imageplan"], &args);
     assert!(
