@@ -672,13 +672,18 @@ fn parse_json<T: serde::de::DeserializeOwned>(
 pub struct MergeCommand {
     pub shards: Vec<PathBuf>,
     pub out: PathBuf,
+    /// Spinners while the shards are read and the merged files written (a registry-wide
+    /// sweep's shards hold gigabytes).
+    pub progress: Option<indicatif::ProgressBar>,
 }
 
 /// `merge`: shard matrices into the matrix one run gives.
 pub fn merge(o: &MergeCommand) -> Result<Output> {
+    let bar = o.progress.as_ref();
     let mut parts = Vec::new();
-    for p in &o.shards {
-        parts.push(read_shard(p)?);
+    for (k, p) in o.shards.iter().enumerate() {
+        let what = format!("reading shard {} of {}", k + 1, o.shards.len());
+        parts.push(crate::load::spinning(bar, &what, || read_shard(p))?);
     }
     let merged = plan::replan::merge_shards(parts).map_err(|e| {
         let file = match e.part.and_then(|k| o.shards.get(k)) {
@@ -695,7 +700,9 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
         BadInput::file(file, message)
     })?;
     let mut out = Output::default();
-    write_matrix(&merged, &o.out, &mut out)?;
+    crate::load::spinning(bar, "writing matrix.yaml and matrix.json", || {
+        write_matrix(&merged, &o.out, &mut out)
+    })?;
     out.stdout = format!(
         "{} cells from {} shards\n",
         merged.cells.len(),

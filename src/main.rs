@@ -274,12 +274,16 @@ struct MergeArgs {
     /// Folder for the merged matrix.yaml and matrix.json.
     #[arg(long, value_name = "DIR")]
     out: PathBuf,
+    /// No progress spinner.
+    #[arg(long)]
+    quiet: bool,
 }
 
 fn run_merge(a: MergeArgs) -> anyhow::Result<Output> {
     commands::merge(&commands::MergeCommand {
         shards: a.shards,
         out: a.out,
+        progress: progress_bar(a.quiet),
     })
 }
 

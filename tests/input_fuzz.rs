@@ -1084,6 +1084,7 @@ fn merge_shards(fixture: &Fixture) -> Result<(), Used> {
     basefit::commands::merge(&basefit::commands::MergeCommand {
         shards: shards.clone(),
         out: out.clone(),
+        progress: None,
     })
     .map_err(refused)?;
     #[derive(serde::Deserialize)]
