@@ -133,6 +133,7 @@ fn images() -> ImageSet {
                     arch: arch.into(),
                 },
                 toolchain,
+                cxx: toolchain,
                 system_packages: ["zlib1g-dev", "libssl-dev", "zlib-dev", "openssl-dev"]
                     .iter()
                     .map(|s| s.to_string())

@@ -262,6 +262,17 @@ fn shells_without_compiler_or_make() {
             "{shell}: {log}"
         );
 
+        let out = run_with_path(shell, &["-c", "g++ -c x.cpp"], dir.path(), Some(empty)).unwrap();
+        let log = stderr(&out);
+        // source: the shell at this path on this machine, failing to find g++; a C++ compiler,
+        // which a C-only image is told to add
+        assert_eq!(
+            causes(&classify(&log)),
+            [&compiler("g++")],
+            "{shell}: {log}"
+        );
+        assert!(basefit::verify::logs::is_cxx_compiler("g++"));
+
         let out = run_with_path(shell, &["-c", "make all"], dir.path(), Some(empty)).unwrap();
         let log = stderr(&out);
         // source: the shell at this path on this machine, failing to find make

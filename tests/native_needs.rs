@@ -66,48 +66,82 @@ fn image(id: &str, family: &str, extra: &str) -> String {
     )
 }
 
-/// C++ sources and C++ libraries need g++: on RHEL that is `gcc-c++`, a package apart from
-/// `gcc`, so `gcc` and `make` alone are no toolchain, and the advice names `gcc-c++` too.
+/// C++ sources need g++: on RHEL that is `gcc-c++`, a package apart from `gcc`, so `gcc` and
+/// `make` alone are a C compiler only, and the advice names `gcc-c++`. C sources build there;
+/// a build whose sources show no language may be C++.
 #[test]
 fn a_rhel_toolchain_includes_the_cxx_compiler() {
     let dir = tempfile::tempdir().unwrap();
     let registry = format!(
-        "packages:\n{}{}",
+        "packages:\n{}{}{}{}{}",
         package("cpp-proto", "protobuf", "src/ext/codec.cc"),
         package("cpp-ext", "", "src/ext/hash.cpp"),
+        package("c-proto", "protobuf-c", "src/ext/codec.c, src/ext/codec.h"),
+        package("unsaid-proto", "protobuf-c", ""),
+        package("header-proto", "protobuf-c", "include/codec.h, Makefile"),
     );
     let images = format!(
         "images:\n{}{}{}{}",
         image(
             "el-c",
             "rhel",
-            "    packages: [gcc, make, protobuf-devel]\n"
+            "    packages: [gcc, make, protobuf-devel, protobuf-c-devel]\n"
         ),
         image(
             "el-cxx",
             "rhel",
-            "    packages: [gcc, gcc-c++, make, protobuf-devel]\n"
+            "    packages: [gcc, gcc-c++, make, protobuf-devel, protobuf-c-devel]\n"
         ),
         image(
             "el-flagged",
             "rhel",
-            "    toolchain: true\n    packages: [gcc, gcc-c++, make, protobuf-devel]\n"
+            "    toolchain: true\n    packages: [gcc, gcc-c++, make, protobuf-devel, protobuf-c-devel]\n"
         ),
         "  - id: el-dropped\n    extends: el-flagged\n    remove: [gcc-c++]\n",
     );
-    let args = inputs(dir.path(), &registry, &images, &["cpp-proto", "cpp-ext"]);
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &[
+            "cpp-proto",
+            "cpp-ext",
+            "c-proto",
+            "unsaid-proto",
+            "header-proto",
+        ],
+    );
 
+    // A declared library built from a shipped C++ source: as certain as the declaration.
     let (code, stdout, _) = run(&["explain", "cpp-proto", "el-c"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("missing-toolchain"), "{stdout}");
     assert!(
-        stdout.contains("has no C toolchain; add: gcc-c++"),
+        stdout.contains("has a C compiler but no C++ compiler; add: gcc-c++"),
         "{stdout}"
     );
+    // A C++ source without a declaration: as likely as the native build itself.
     let (code, stdout, _) = run(&["explain", "cpp-ext", "el-c"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("at-risk"), "{stdout}");
-    for (package, img) in [("cpp-proto", "el-cxx"), ("cpp-ext", "el-cxx")] {
+    assert!(stdout.contains("probably needs: gcc-c++"), "{stdout}");
+    // C sources build with the C compiler the image has.
+    let (code, stdout, stderr) = run(&["explain", "c-proto", "el-c"], &args);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    assert!(stdout.contains("installs"), "{stdout}");
+    // No shipped source shows the language (a `.h` header is C's and C++'s alike, a build
+    // file neither's): C++ stays possible, so the cell is at risk.
+    for package in ["unsaid-proto", "header-proto"] {
+        let (code, stdout, _) = run(&["explain", package, "el-c"], &args);
+        assert_eq!(code, 1, "{stdout}");
+        assert!(stdout.contains("at-risk"), "{stdout}");
+        assert!(stdout.contains("probably needs: gcc-c++"), "{stdout}");
+    }
+    for (package, img) in [
+        ("cpp-proto", "el-cxx"),
+        ("cpp-ext", "el-cxx"),
+        ("unsaid-proto", "el-cxx"),
+    ] {
         let (code, stdout, stderr) = run(&["explain", package, img], &args);
         assert_eq!(code, 0, "{package} on {img}: {stdout}{stderr}");
         assert!(stdout.contains("installs"), "{stdout}");
@@ -429,4 +463,196 @@ fn packages_standing_in_for_a_dev_package_meet_what_they_bring() {
         stdout.contains("d declares libcurl4-gnutls-dev (for libcurl4-openssl-dev)"),
         "{stdout}{stderr}"
     );
+}
+
+/// An image with its family's C compiler packages but not the C++ compiler builds C sources,
+/// is told to add the C++ compiler for C++ sources, and is shown as C-only; `toolchain: false`
+/// beside those packages is noted, as beside the whole toolchain. The shell's own words when
+/// g++ is not installed lead `review` to the same package.
+#[test]
+fn an_image_with_a_c_compiler_only_builds_c_and_is_told_to_add_the_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("zip-c", "zlib", "src/ext/inflate.c"),
+        package("zip-cxx", "zlib", "src/ext/inflate.cpp"),
+    );
+    let images = format!(
+        "images:\n{}{}{}{}",
+        image(
+            "d-c",
+            "debian",
+            "    toolchain: false\n    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+        image(
+            "d-cxx",
+            "debian",
+            "    packages: [gcc, g++, make, libc6-dev, zlib1g-dev]\n"
+        ),
+        image(
+            "a-c",
+            "alpine",
+            "    packages: [gcc, make, musl-dev, zlib-dev]\n"
+        ),
+        image("d-none", "debian", "    packages: [gcc, zlib1g-dev]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["zip-c", "zip-cxx"]);
+    for (package, img, code, says) in [
+        ("zip-c", "d-c", 0, "installs"),
+        ("zip-c", "a-c", 0, "installs"),
+        ("zip-c", "d-cxx", 0, "installs"),
+        ("zip-cxx", "d-cxx", 0, "installs"),
+        (
+            "zip-cxx",
+            "d-c",
+            1,
+            "has a C compiler but no C++ compiler; add: g++",
+        ),
+        (
+            "zip-cxx",
+            "a-c",
+            1,
+            "has a C compiler but no C++ compiler; add: g++",
+        ),
+        // gcc alone (no make, no C library headers) is no toolchain at all.
+        (
+            "zip-c",
+            "d-none",
+            1,
+            "has no C toolchain; add: build-essential",
+        ),
+    ] {
+        let (got, stdout, stderr) = run(&["explain", package, img], &args);
+        assert_eq!(got, code, "{package} on {img}: {stdout}{stderr}");
+        assert!(stdout.contains(says), "{package} on {img}: {stdout}");
+    }
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(
+        stdout.contains(
+            "d-c: says toolchain: false but carries gcc, make and libc6-dev; planned as having a C compiler only (no C++ compiler)"
+        ),
+        "{stdout}"
+    );
+    let (_, stdout, _) = run(&["syslibs"], &args);
+    assert!(
+        stdout.contains("apt-get install -y --no-install-recommends g++"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("apk add --no-cache g++"), "{stdout}");
+    let out = tempfile::tempdir().unwrap();
+    let out_dir = out.path().to_str().unwrap().to_string();
+    let (code, _, stderr) = run(&["render", "--out", &out_dir], &args);
+    assert_eq!(code, 0, "{stderr}");
+    let markdown = std::fs::read_to_string(out.path().join("matrix.md")).unwrap();
+    assert!(
+        markdown.contains("| d-c | 3.2.0 | debian | linux/glibc/x86\\_64 | C only |"),
+        "{markdown}"
+    );
+    assert!(
+        markdown.contains("| d-cxx | 3.2.0 | debian | linux/glibc/x86\\_64 | yes |"),
+        "{markdown}"
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.path().join("matrix.json")).unwrap())
+            .unwrap();
+    assert_eq!(json["images"][0]["toolchain"], true, "{json}");
+    assert_eq!(json["images"][0]["cxx"], false, "{json}");
+
+    // bash on this machine when g++ is not on the PATH; bash's wording if bash is absent.
+    let shell = std::process::Command::new("bash")
+        .args(["-c", "g++ -c src/ext/inflate.cpp"])
+        .env("PATH", "/nonexistent")
+        .output()
+        .ok()
+        .map(|o| String::from_utf8_lossy(&o.stderr).trim().to_string())
+        .filter(|s| s.contains("g++"))
+        .unwrap_or_else(|| "bash: line 1: g++: command not found".into());
+    let results = format!(
+        "results:\n  - package: zip-cxx\n    image: d-c\n    outcome: failed\n    log: {shell:?}\n"
+    );
+    let args = with_results(dir.path(), args, &results);
+    let (_, stdout, stderr) = run(&["review"], &args);
+    assert!(
+        stdout.contains(
+            "d-c has a C compiler only, and the build needs a C++ compiler (g++): add g++"
+        ),
+        "{stdout}{stderr}"
+    );
+    assert!(stdout.contains("agreed-failure"), "{stdout}");
+
+    // An install there says the real image has the C++ compiler: the package, not the flag.
+    let args = inputs(dir.path(), &registry, &images, &["zip-c", "zip-cxx"]);
+    let args = with_results(
+        dir.path(),
+        args,
+        "results:\n  - {package: zip-cxx, image: d-c, outcome: installed, version: \"1.0.0\"}\n",
+    );
+    let (_, stdout, stderr) = run(&["review"], &args);
+    assert!(
+        stdout.contains(
+            "the declaration of d-c is out of date: the real image has a C++ compiler; add g++ to its packages in the images file"
+        ),
+        "{stdout}{stderr}"
+    );
+}
+
+/// The packages named for a C-only Debian image and the one that adds C++ are what Debian's
+/// `build-essential` depends on, and the C++ compiler proper (`cc1plus`) ships in the package
+/// `g++` depends on. Source: Debian's archive through `apt-cache depends` and `dpkg -S` on
+/// this machine (Debian 12); skipped with a message where apt or dpkg cannot say.
+#[test]
+fn debian_compiler_packages_match_build_essential() {
+    use basefit::model::OsFamily;
+    use basefit::native::{c_toolchain_packages, cxx_compiler_package};
+    let depends = |package: &str| -> Option<Vec<String>> {
+        let out = std::process::Command::new("apt-cache")
+            .args(["depends", package])
+            .output()
+            .ok()?;
+        let text = String::from_utf8_lossy(&out.stdout).into_owned();
+        let deps: Vec<String> = text
+            .lines()
+            .filter_map(|l| l.trim().trim_start_matches('|').strip_prefix("Depends: "))
+            .map(|d| d.trim().to_string())
+            .collect();
+        (out.status.success() && !deps.is_empty()).then_some(deps)
+    };
+    let Some(essential) = depends("build-essential") else {
+        eprintln!(
+            "skipped debian_compiler_packages_match_build_essential: apt-cache knows no build-essential here"
+        );
+        return;
+    };
+    for p in c_toolchain_packages(OsFamily::Debian)
+        .iter()
+        .chain([&cxx_compiler_package(OsFamily::Debian)])
+    {
+        assert!(essential.iter().any(|d| d == p), "{p} not in {essential:?}");
+    }
+    assert!(
+        !c_toolchain_packages(OsFamily::Debian).contains(&cxx_compiler_package(OsFamily::Debian))
+    );
+    // The C++ compiler proper, where the installed gcc would run it from.
+    let cc1plus = std::process::Command::new("gcc")
+        .arg("-print-prog-name=cc1plus")
+        .output()
+        .ok()
+        .map(|o| String::from_utf8_lossy(&o.stdout).trim().to_string())
+        .filter(|p| p.starts_with('/'));
+    let owner = cc1plus.and_then(|path| {
+        let out = std::process::Command::new("dpkg")
+            .args(["-S", &path])
+            .output()
+            .ok()?;
+        let text = String::from_utf8_lossy(&out.stdout).into_owned();
+        out.status
+            .success()
+            .then(|| text.split(':').next().unwrap_or("").trim().to_string())
+    });
+    match (owner, depends(cxx_compiler_package(OsFamily::Debian))) {
+        (Some(owner), Some(gxx)) => assert!(gxx.contains(&owner), "{owner} not in {gxx:?}"),
+        _ => eprintln!(
+            "skipped the cc1plus half of debian_compiler_packages_match_build_essential: no installed g++ to ask dpkg about"
+        ),
+    }
 }

@@ -34,6 +34,7 @@ fn image(id: &str, family: &str) -> ImageColumn {
         family: family.into(),
         platform: "linux/glibc/x86_64".into(),
         toolchain: true,
+        cxx: None,
         packages: None,
     }
 }

@@ -257,21 +257,22 @@ fn resolve(
     result
 }
 
-/// The toolchain packages of its family that image `d` drops from its base's packages: by
-/// `remove`, or by giving a `packages` list without them (at the record's line). A slim
-/// image made either way has no compiler, so the base's `toolchain: true` no longer speaks
-/// for it; only its own flag can say it has one by other means.
+/// The compiler packages of its family (the whole toolchain, the C compiler's, the C++
+/// compiler's) that image `d` drops from its base's packages: by `remove`, or by giving a
+/// `packages` list without them (at the record's line). A slim image made either way may have
+/// lost a compiler, so the base's `toolchain: true` no longer speaks for it: its packages say
+/// what it has, unless its own flag says it has a toolchain by other means.
 fn removed_toolchain(d: &Declared, family: OsFamily, base: Option<&Image>) -> Vec<At<String>> {
     // The compiler the base has is its own family's, whichever family this image declares.
-    let toolchain_packages = crate::native::toolchain_packages(base.map_or(family, |b| b.family));
+    let compiler_packages = crate::native::compiler_packages(base.map_or(family, |b| b.family));
     let mut dropped: Vec<At<String>> = d
         .remove
         .iter()
-        .filter(|r| toolchain_packages.contains(&r.value.as_str()))
+        .filter(|r| compiler_packages.contains(&r.value.as_str()))
         .cloned()
         .collect();
     if let (Some(given), Some(base)) = (&d.packages, base) {
-        for &p in toolchain_packages {
+        for &p in &compiler_packages {
             let kept = given.iter().chain(&d.add).any(|g| g == p);
             if base.system_packages.contains(p) && !kept {
                 dropped.push(At::new(p.to_string(), d.line));
@@ -308,31 +309,48 @@ fn toolchain_contradiction(
     if let Some(At { value: false, line }) = d.toolchain
         && image.toolchain
     {
+        let carried: Vec<&str> = crate::native::compiler_packages(image.family)
+            .into_iter()
+            .filter(|p| image.system_packages.contains(*p))
+            .collect();
         return Some(At::new(
             format!(
-                "says toolchain: false but carries {}; planned as having a C toolchain",
-                and_list(crate::native::toolchain_packages(image.family))
+                "says toolchain: false but carries {}; planned as having {}",
+                and_list(&carried),
+                compilers_planned(image)
             ),
             line,
         ));
     }
     let removed = removed_toolchain(d, image.family, base);
     let first = removed.first()?;
-    (d.toolchain.is_none() && inherits_true && !image.toolchain).then(|| {
+    (d.toolchain.is_none() && inherits_true && !(image.toolchain && image.cxx)).then(|| {
         let names: Vec<&str> = removed.iter().map(|r| r.value.as_str()).collect();
         At::new(
             format!(
-                "inherits toolchain: true from `{}` but {} {}; planned without a C toolchain (say toolchain: true if it has one by other means)",
+                "inherits toolchain: true from `{}` but {} {}; planned {} (say toolchain: true if it has one by other means)",
                 d.extends.as_ref().map(|e| e.value.as_str()).unwrap_or_default(),
                 match d.remove.iter().any(|r| r.value == first.value) {
                     true => "removes",
                     false => "gives a `packages` list without",
                 },
-                and_list(&names)
+                and_list(&names),
+                match image.toolchain {
+                    true => "with a C compiler only",
+                    false => "without a C toolchain",
+                }
             ),
             first.line,
         )
     })
+}
+
+/// What an image that can compile is planned with, as the notes say it.
+fn compilers_planned(image: &Image) -> &'static str {
+    match image.cxx {
+        true => "a C and C++ toolchain",
+        false => "a C compiler only (no C++ compiler)",
+    }
 }
 
 /// `a`, `a and b`, `a, b and c`.
@@ -425,25 +443,24 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
             ));
         }
     }
-    // An image whose packages include its family's toolchain packages can compile, whatever
+    // An image whose packages include its family's compiler packages can compile, whatever
     // its flag says: `syslibs` advises adding exactly those packages, and an image that took
-    // the advice must not go on failing for want of a toolchain.
-    let toolchain_packages = crate::native::toolchain_packages(family);
-    let carries_toolchain = toolchain_packages.iter().all(|p| packages.contains(*p));
-    let toolchain = d
-        .toolchain
-        .map(|t| t.value)
-        .or(base
-            .map(|b| b.toolchain)
-            .filter(|_| removed_toolchain(d, family, base).is_empty()))
-        .unwrap_or(false)
-        || carries_toolchain;
+    // the advice must not go on failing for want of a toolchain. The flag gives both C and
+    // C++; packages give what they hold (C alone without the C++ compiler package).
+    let (carries_c, carries_cxx) = crate::native::compilers_carried(family, &packages);
+    let (flag_c, flag_cxx) = match d.toolchain {
+        Some(t) => (t.value, t.value),
+        None => base
+            .filter(|_| removed_toolchain(d, family, base).is_empty())
+            .map_or((false, false), |b| (b.toolchain, b.cxx)),
+    };
     Ok(Image {
         id: d.id.clone(),
         runtime,
         family,
         platform,
-        toolchain,
+        toolchain: flag_c || carries_c,
+        cxx: flag_cxx || carries_cxx,
         system_packages: packages,
         extends: d.extends.as_ref().map(|e| e.value.clone()),
         origin: Origin {

@@ -104,7 +104,12 @@ pub struct Image {
     pub runtime: Version,
     pub family: OsFamily,
     pub platform: Platform,
+    /// It can compile C: `toolchain: true` (written or inherited), or it carries its family's
+    /// C compiler packages.
     pub toolchain: bool,
+    /// It can compile C++ too: `toolchain: true`, or it carries the C++ compiler package
+    /// beside the C ones. An image with `toolchain` and without `cxx` builds C sources only.
+    pub cxx: bool,
     /// Installed system packages (names as the OS family spells them).
     pub system_packages: BTreeSet<String>,
     pub extends: Option<String>,

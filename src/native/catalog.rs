@@ -307,6 +307,74 @@ pub fn toolchain_packages(family: OsFamily) -> &'static [&'static str] {
     }
 }
 
+/// The packages that give an image of `family` a C compiler without a C++ one: the compiler,
+/// `make`, and on debian and alpine the C library's development files (common practice, no
+/// source). On debian these are among what `build-essential` depends on (`apt-cache depends
+/// build-essential` on Debian 12); alpine's and rhel's are from memory.
+pub fn c_toolchain_packages(family: OsFamily) -> &'static [&'static str] {
+    match family {
+        OsFamily::Debian => &["gcc", "make", "libc6-dev"],
+        OsFamily::Alpine => &["gcc", "make", "musl-dev"],
+        OsFamily::Rhel => &["gcc", "make"],
+    }
+}
+
+/// The package that adds the C++ compiler to a C toolchain of `family`: `g++` on debian
+/// (`build-essential` depends on it) and alpine (from memory), `gcc-c++` on rhel (from
+/// memory).
+pub fn cxx_compiler_package(family: OsFamily) -> &'static str {
+    match family {
+        OsFamily::Debian | OsFamily::Alpine => "g++",
+        OsFamily::Rhel => "gcc-c++",
+    }
+}
+
+/// Which compilers a set of system packages of `family` gives: (C, C++). The whole toolchain
+/// ([`toolchain_packages`]) gives both; the C packages ([`c_toolchain_packages`]) give C, and
+/// with the C++ compiler package C++ too.
+///
+/// ```
+/// use basefit::model::OsFamily;
+/// use basefit::native::catalog::compilers_carried;
+/// let has = |names: &[&str]| names.iter().map(|n| n.to_string()).collect();
+/// assert_eq!(compilers_carried(OsFamily::Rhel, &has(&["gcc", "make"])), (true, false));
+/// assert_eq!(compilers_carried(OsFamily::Rhel, &has(&["gcc", "gcc-c++", "make"])), (true, true));
+/// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["build-essential"])), (true, true));
+/// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["gcc", "g++"])), (false, false));
+/// ```
+pub fn compilers_carried(
+    family: OsFamily,
+    packages: &std::collections::BTreeSet<String>,
+) -> (bool, bool) {
+    if toolchain_packages(family)
+        .iter()
+        .all(|p| packages.contains(*p))
+    {
+        return (true, true);
+    }
+    let c = c_toolchain_packages(family)
+        .iter()
+        .all(|p| packages.contains(*p));
+    (c, c && packages.contains(cxx_compiler_package(family)))
+}
+
+/// Every package of `family` that [`compilers_carried`] reads, once each: an image that
+/// drops one of them from its base may have lost a compiler.
+pub fn compiler_packages(family: OsFamily) -> Vec<&'static str> {
+    let mut all: Vec<&'static str> = Vec::new();
+    for p in toolchain_packages(family)
+        .iter()
+        .chain(c_toolchain_packages(family))
+        .copied()
+        .chain([cxx_compiler_package(family)])
+    {
+        if !all.contains(&p) {
+            all.push(p);
+        }
+    }
+    all
+}
+
 /// The one-line command that adds `packages` on `family` (common practice, no source).
 ///
 /// ```

@@ -3,7 +3,10 @@
 
 pub mod catalog;
 
-pub use catalog::{Catalog, Library, install_command, toolchain_packages};
+pub use catalog::{
+    Catalog, Library, c_toolchain_packages, compiler_packages, compilers_carried,
+    cxx_compiler_package, install_command, toolchain_packages,
+};
 
 use crate::model::{Image, PackageId, Registry};
 use crate::solve::{BuildKind, Pin};
@@ -53,8 +56,12 @@ pub struct Evidence {
 /// File name endings that mean compiled native code or a native build (common practice, no
 /// source).
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
-    ".c", ".cc", ".cpp", ".cxx", ".h", ".hh", ".hpp", ".m", ".s", ".S",
+    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".s", ".S",
 ];
+/// C++ source and header endings (common practice, no source; `.C` is left out, since on a
+/// file system that ignores case it is a C file's name). A source build shipping one needs a
+/// C++ compiler, which a C toolchain alone does not have.
+const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx"];
 /// Fortran source endings, fixed and free form, the upper-case ones preprocessed (the suffixes
 /// gfortran compiles as Fortran; from memory). Such a source builds only with a Fortran
 /// compiler, which no C toolchain package brings.
@@ -200,6 +207,31 @@ pub fn release_evidence(
     out
 }
 
+/// How sure it is that the source build of `pin`, a native build of confidence `native`,
+/// compiles C++: as sure as the native build when it ships a C++ source; not at all when its
+/// shipped sources are all of other languages; only possibly when no source shows which
+/// language it builds (a declared library alone, a build file), since many bindings are C++.
+fn cxx_need(registry: &Registry, pin: &Pin, native: Confidence) -> Option<Confidence> {
+    let release = &registry.package(pin.package).releases[pin.index as usize];
+    let files = release.native.as_ref().map_or(&[][..], |n| &n.files[..]);
+    let base = |f: &str| f.rsplit('/').next().unwrap_or(f).to_string();
+    if files
+        .iter()
+        .any(|f| CXX_SOURCE_ENDINGS.iter().any(|e| base(f).ends_with(e)))
+    {
+        return Some(native);
+    }
+    // A `.h` header is C's and C++'s alike: it tells no language.
+    let sources_known = files.iter().any(|f| {
+        let b = base(f);
+        NATIVE_SOURCE_ENDINGS
+            .iter()
+            .chain(FORTRAN_SOURCE_ENDINGS)
+            .any(|e| *e != ".h" && b.ends_with(e))
+    });
+    (!sources_known).then_some(Confidence::Possible)
+}
+
 /// A native need of a resolved closure, and the package it comes through.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
 pub struct Need {
@@ -217,6 +249,9 @@ pub struct Assessment {
     pub needs: Vec<Need>,
     /// Strongest confidence among source builds that need a C toolchain, when the image lacks one.
     pub toolchain_missing: Option<Confidence>,
+    /// Strongest confidence among source builds that need a C++ compiler, when the image has a
+    /// C compiler only (see [`cxx_need`]).
+    pub cxx_missing: Option<Confidence>,
     /// System packages to add, each with the strongest confidence that asks for it.
     pub missing: Vec<(String, Confidence)>,
     /// Libraries needed but not in the catalog, so no package can be named for them.
@@ -230,6 +265,7 @@ impl Assessment {
             .iter()
             .map(|(_, c)| *c)
             .chain(self.toolchain_missing)
+            .chain(self.cxx_missing)
             .max()
     }
 
@@ -283,6 +319,14 @@ pub fn assess(
             .map(|(_, c, _)| *c)
             .max();
         libs.retain(|(l, c, _)| l.is_some() || strongest_named.is_none_or(|s| s < *c));
+        if pin.build == BuildKind::Source
+            && image.toolchain
+            && !image.cxx
+            && let Some(native) = libs.iter().map(|(_, c, _)| *c).max()
+            && let Some(c) = cxx_need(registry, pin, native)
+        {
+            a.cxx_missing = Some(a.cxx_missing.map_or(c, |m| m.max(c)));
+        }
         for (library, confidence, details) in libs {
             if pin.build == BuildKind::Source && !image.toolchain {
                 a.toolchain_missing = Some(
@@ -323,6 +367,9 @@ pub fn assess(
         for p in toolchain_packages(image.family) {
             add_missing(p, c, &mut missing);
         }
+    }
+    if let Some(c) = a.cxx_missing {
+        add_missing(cxx_compiler_package(image.family), c, &mut missing);
     }
     a.missing = missing.into_iter().collect();
     a.unknown_libraries = unknown.into_iter().collect();

@@ -91,6 +91,10 @@ pub struct Cell {
     /// System packages the image would have to add for this cell.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub missing_system_packages: Vec<String>,
+    /// On an image with a C compiler only: how sure it is that a source build of the closure
+    /// compiles C++ (its C++ compiler package is then among `missing_system_packages`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cxx_missing: Option<crate::native::Confidence>,
     /// Packages whose state makes this cell fail, with a short reason.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub blockers: Vec<BlockerRow>,
@@ -117,6 +121,7 @@ impl Cell {
             explanation: Vec::new(),
             native_needs: Vec::new(),
             missing_system_packages: Vec::new(),
+            cxx_missing: None,
             blockers: Vec::new(),
             recorded: None,
             observed: Observed::default(),
@@ -158,7 +163,12 @@ pub struct ImageColumn {
     pub runtime: String,
     pub family: String,
     pub platform: String,
+    /// It can compile C (see [`Image::toolchain`]).
     pub toolchain: bool,
+    /// It can compile C++ too (see [`Image::cxx`]). Absent in matrices written before the
+    /// field existed, which are then not checked for it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cxx: Option<bool>,
     /// The system packages the image declares, sorted: native outcomes were judged against
     /// them, so `review --matrix` can tell an images file edited since the plan. Absent in
     /// matrices written before the field existed, which are then not checked for it.
@@ -175,6 +185,7 @@ impl ImageColumn {
             family: image.family.to_string(),
             platform: image.platform.to_string(),
             toolchain: image.toolchain,
+            cxx: Some(image.cxx),
             packages: Some(image.system_packages.iter().cloned().collect()),
         }
     }
@@ -191,6 +202,7 @@ impl ImageColumn {
     ///     family: "debian".into(),
     ///     platform: "linux/glibc/x86_64".into(),
     ///     toolchain: true,
+    ///     cxx: Some(true),
     ///     packages: Some(vec!["libpq5".into()]),
     /// };
     /// let now = ImageColumn { runtime: "2.6.0".into(), ..planned.clone() };
@@ -228,6 +240,11 @@ impl ImageColumn {
                 "toolchain {} here, {} in the matrix",
                 image.toolchain, self.toolchain
             ));
+        }
+        if let (Some(here), Some(planned)) = (image.cxx, self.cxx)
+            && here != planned
+        {
+            out.push(format!("C++ compiler {here} here, {planned} in the matrix"));
         }
         if let (Some(here), Some(planned)) = (&image.packages, &self.packages) {
             let not_in = |list: &[String], other: &[String]| -> Vec<String> {
@@ -363,6 +380,7 @@ impl Matrix {
     ///     family: "debian".into(),
     ///     platform: "linux/glibc/x86_64".into(),
     ///     toolchain: true,
+    ///     cxx: None,
     ///     packages: None,
     /// });
     /// // One row and one column, but no cell for them.
@@ -622,6 +640,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         })
         .collect();
     cell.missing_system_packages = a.packages_to_add();
+    cell.cxx_missing = a.cxx_missing;
     let certain_missing = a.missing.iter().any(|(_, c)| *c == Confidence::Certain);
     // Beside a failure whose packages can be named, a library that has none: adding the
     // named packages alone would not make the cell install.
@@ -637,6 +656,14 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
         cell.cause = Some(Cause::MissingToolchain);
         cell.explanation.push(format!(
             "a declared native library must be compiled, and {} has no C toolchain{}{unmapped}",
+            image.id,
+            add_list(&cell.missing_system_packages)
+        ));
+    } else if a.cxx_missing == Some(Confidence::Certain) {
+        cell.outcome = Outcome::Fails;
+        cell.cause = Some(Cause::MissingToolchain);
+        cell.explanation.push(format!(
+            "a declared native library must be compiled from C++ sources, and {} has a C compiler but no C++ compiler{}{unmapped}",
             image.id,
             add_list(&cell.missing_system_packages)
         ));

@@ -121,10 +121,12 @@ fn minimal_conflict<T: Copy>(kept: &[T], fails: &mut dyn FnMut(&[T]) -> bool) ->
 }
 
 /// Why a closure certainly fails natively on the image, by the rule `plan` applies to a
-/// cell's native step: a certain need of a C toolchain the image lacks, else of a system
+/// cell's native step: a certain need of a C (or C++) compiler the image lacks, else of a system
 /// package it lacks. The cause and the packages to add; `None` when the closure may install.
 fn certain_native_failure(a: &Assessment) -> Option<(Cause, Vec<String>)> {
-    if a.toolchain_missing == Some(Confidence::Certain) {
+    if a.toolchain_missing == Some(Confidence::Certain)
+        || a.cxx_missing == Some(Confidence::Certain)
+    {
         return Some((Cause::MissingToolchain, a.packages_to_add()));
     }
     let certain: Vec<String> = a

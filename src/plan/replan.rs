@@ -57,7 +57,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 23;
+pub const CACHE_FORMAT: u32 = 24;
 
 /// What precedes the seal at the end of a cache file ([`PlanCache::to_sealed_json`]).
 const SEAL_KEY: &str = ",\"seal\":\"";
@@ -230,7 +230,8 @@ fn image_fingerprint(image: &Image) -> u64 {
         .shown(&image.runtime)
         .str(image.family.as_str())
         .shown(&image.platform)
-        .flag(image.toolchain);
+        .flag(image.toolchain)
+        .flag(image.cxx);
     for p in &image.system_packages {
         h.str(p);
     }

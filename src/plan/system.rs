@@ -209,6 +209,12 @@ pub fn system_report(inputs: &Inputs, matrix: &Matrix) -> SystemReport {
             // keeps the cell's strongest.
             let toolchain = native::toolchain_packages(image.family);
             let strongest_for = |p: &str| {
+                // The C++ compiler a C-only image lacks is as sure as the C++ sources seen.
+                if let Some(c) = cell.cxx_missing
+                    && p == native::cxx_compiler_package(image.family)
+                {
+                    return c;
+                }
                 cell.native_needs
                     .iter()
                     .filter(|nd| {

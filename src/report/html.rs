@@ -490,10 +490,10 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
             text(&img.family),
             text(&img.runtime),
             text(&img.platform),
-            if img.toolchain {
-                "C toolchain"
-            } else {
-                "no C toolchain"
+            match (img.toolchain, img.cxx) {
+                (true, Some(false)) => "C compiler only",
+                (true, _) => "C toolchain",
+                (false, _) => "no C toolchain",
             },
         );
         for o in Outcome::ALL {

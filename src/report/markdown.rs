@@ -251,7 +251,11 @@ fn render(m: &Matrix, labels: NoteLabels) -> String {
             escape_markdown(&img.runtime),
             escape_markdown(&img.family),
             escape_markdown(&img.platform),
-            if img.toolchain { "yes" } else { "no" },
+            match (img.toolchain, img.cxx) {
+                (true, Some(false)) => "C only",
+                (true, _) => "yes",
+                (false, _) => "no",
+            },
             k.installs,
             k.at_risk,
             k.fails,

@@ -47,7 +47,8 @@ pub enum Cause {
     BudgetExhausted,
     /// Set by the native-library step: a needed development package is not on the image.
     MissingSystemLibrary,
-    /// Set by the native-library step: a source build needs a C toolchain the image lacks.
+    /// Set by the native-library step: a source build needs a C toolchain, or on an image with
+    /// a C compiler only a C++ compiler, that the image lacks.
     MissingToolchain,
 }
 
@@ -94,7 +95,7 @@ impl Cause {
             Cause::OnlyYankedOrPrerelease => "has only yanked or pre-release versions",
             Cause::BudgetExhausted => "was not decided within the solver budget",
             Cause::MissingSystemLibrary => "needs a system library the image lacks",
-            Cause::MissingToolchain => "needs a C toolchain the image lacks",
+            Cause::MissingToolchain => "needs a C or C++ compiler the image lacks",
         }
     }
 }

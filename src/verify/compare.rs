@@ -206,7 +206,7 @@ fn risk_agrees(
             Some(missing(&packages))
         }
         LogCause::NoCompiler { .. } | LogCause::NoMake => {
-            Some(missing(crate::native::toolchain_packages(family)))
+            Some(missing(&crate::native::compiler_packages(family)))
         }
         LogCause::RuntimeRefused { .. } | LogCause::OutOfMemory | LogCause::Killed => Some(false),
         _ => None,
@@ -363,6 +363,14 @@ fn suggest(
         | LogCause::MissingPkgConfig { .. }
         | LogCause::MissingSharedObject { .. } => add_package(),
         LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => add_package(),
+        LogCause::NoCompiler { tool }
+            if logs::is_cxx_compiler(tool) && image.toolchain && !image.cxx =>
+        {
+            Some(format!(
+                "{image_id} has a C compiler only, and the build needs a C++ compiler ({tool}): add {}",
+                crate::native::cxx_compiler_package(image.family)
+            ))
+        }
         // As for headers above: advice to add what the image declares would go in a circle.
         LogCause::NoCompiler { .. } | LogCause::NoMake if image.toolchain => Some(format!(
             "{image_id} declares a C toolchain, yet the build found no {}: check that the real image installs {} (its declaration may be out of date) and that the build's PATH reaches it",
@@ -370,7 +378,11 @@ fn suggest(
                 LogCause::NoCompiler { tool } => tool.as_str(),
                 _ => "make",
             },
-            crate::native::toolchain_packages(image.family).join(" ")
+            match image.cxx {
+                true => crate::native::toolchain_packages(image.family),
+                false => crate::native::c_toolchain_packages(image.family),
+            }
+            .join(" ")
         )),
         LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
             "{image_id} lacks a C toolchain: add {}",
@@ -591,9 +603,16 @@ fn surprise_install_step(
                 )
             }
         }
-        Some(Cause::MissingToolchain) => format!(
-            "{unsure}the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
-        ),
+        Some(Cause::MissingToolchain) => match images.get(image) {
+            // A C-only image failed for want of C++ alone.
+            Some(i) if i.toolchain && !i.cxx => format!(
+                "{unsure}the declaration of {image} is out of date: the real image has a C++ compiler; add {} to its packages in the images file",
+                crate::native::cxx_compiler_package(i.family)
+            ),
+            _ => format!(
+                "{unsure}the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
+            ),
+        },
         _ if *standing == Standing::Admitted => format!(
             "{} is in the snapshot and suits {image}, so what the plan refused lies in its dependencies or the priority entry's requirement: `basefit explain {} {image}` names the requirement that is stricter than reality",
             installed.unwrap_or("?"),

@@ -801,6 +801,21 @@ const COMPILERS: [&str; 8] = [
 /// assert!(is_fortran_compiler("/usr/bin/x86_64-linux-gnu-gfortran-12"));
 /// assert!(!is_fortran_compiler("gcc"));
 /// ```
+/// Whether a compiler named in a log is a C++ compiler: `c++`, `g++`, `clang++`, a versioned
+/// or target-prefixed one (`x86_64-linux-gnu-g++-12`), or the `c++` a message names when it
+/// says only "C++ compiler".
+///
+/// ```
+/// use basefit::verify::logs::is_cxx_compiler;
+/// assert!(is_cxx_compiler("/usr/bin/x86_64-linux-gnu-g++-12"));
+/// assert!(is_cxx_compiler("c++"));
+/// assert!(!is_cxx_compiler("gcc"));
+/// ```
+pub fn is_cxx_compiler(tool: &str) -> bool {
+    let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
+    without_version(base).ends_with("++")
+}
+
 pub fn is_fortran_compiler(tool: &str) -> bool {
     let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
     without_version(base).ends_with("gfortran")
