@@ -827,6 +827,70 @@ fn priorities_csv_with_no_rows_is_refused_at_its_header() {
     }
 }
 
+/// A row with the wrong number of fields in a priority or results CSV once ended the reading
+/// and hid the errors found before it: every such row and every other schema error come back
+/// together, in line order.
+#[test]
+fn csv_rows_of_the_wrong_width_are_reported_with_the_other_errors() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let priorities = write(
+        d.path(),
+        "p.csv",
+        b"name,weight\nfernwood,heavy\nfernwood,1,2\nfernwood\n",
+    );
+    let results = write(
+        d.path(),
+        "r.csv",
+        b"package,image,outcome\n,plain,installed\nfernwood,plain\nfernwood,plain,installed\n",
+    );
+    let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["check", "--registry"])
+        .arg(&reg)
+        .arg("--images")
+        .arg(&img)
+        .arg("--priorities")
+        .arg(&priorities)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    let lines: Vec<&str> = stderr.lines().collect();
+    assert_eq!(lines.len(), 3, "{stderr}");
+    assert!(
+        lines[0].contains("p.csv:2: `weight`: expected a number, found `heavy`"),
+        "{stderr}"
+    );
+    assert!(
+        lines[1].contains("p.csv:3: expected 2 fields as in the header, found 3"),
+        "{stderr}"
+    );
+    assert!(
+        lines[2].contains("p.csv:4: `weight`") || lines[2].contains("p.csv:4: expected 2 fields"),
+        "{stderr}"
+    );
+    let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["check", "--registry"])
+        .arg(&reg)
+        .arg("--images")
+        .arg(&img)
+        .arg("--results")
+        .arg(&results)
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("r.csv:2: result: empty required column(s) package"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("r.csv:3: expected 3 fields as in the header, found 2"),
+        "{stderr}"
+    );
+}
+
 /// A results file with no result in it, in any format, is refused by every command that reads
 /// results, naming the file and where the results should have started: a user who gave one
 /// expects results to be compared, and `check` used to pass a CSV of a header alone.

@@ -109,7 +109,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
     );
     let mut out = Vec::new();
     let mut errors = SchemaErrors::new();
-    while let Some(row) = table.next_row()? {
+    while let Some(row) = table.next_row_collecting(&mut errors) {
         let number = |col: Option<usize>, what: &str| -> Result<Option<f64>, BadInput> {
             match row.get(col) {
                 None => Ok(None),

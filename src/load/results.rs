@@ -112,7 +112,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawResult>, BadInput> {
     let cols: Vec<Option<usize>> = FIELDS.iter().map(|f| table.column(f)).collect();
     let mut out = Vec::new();
     let mut errors = SchemaErrors::new();
-    while let Some(row) = table.next_row()? {
+    while let Some(row) = table.next_row_collecting(&mut errors) {
         let get = |i: usize| row.get(cols[i]).map(str::to_owned);
         let at = |i: usize| get(i).map(|text| At::new(text, row.line));
         let missing: Vec<&str> = (0..3)

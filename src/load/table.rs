@@ -616,6 +616,49 @@ impl Table {
         })
     }
 
+    /// The next row with the header's number of fields, or `None` at the end of the file. A
+    /// row with another number goes to `errors` and reading goes on; an error reading cannot
+    /// go on past (text that is not CSV or UTF-8) goes there too and ends the rows.
+    ///
+    /// ```
+    /// use basefit::load::{diag::SchemaErrors, table::Table};
+    /// let text = "name,weight\na,1\nb\nc,2,x\nd,3\n";
+    /// let mut table =
+    ///     Table::from_reader("t.csv", Box::new(text.as_bytes()), &["name", "weight"], &["name"]).unwrap();
+    /// let mut errors = SchemaErrors::new();
+    /// let mut lines = Vec::new();
+    /// while let Some(row) = table.next_row_collecting(&mut errors) {
+    ///     lines.push(row.line);
+    /// }
+    /// assert_eq!(lines, [2, 5]);
+    /// let err = errors.finish().unwrap_err().to_string();
+    /// assert_eq!(
+    ///     err,
+    ///     "t.csv:3: expected 2 fields as in the header, found 1\n\
+    ///      t.csv:4: expected 2 fields as in the header, found 3"
+    /// );
+    /// ```
+    pub fn next_row_collecting(&mut self, errors: &mut super::diag::SchemaErrors) -> Option<Row> {
+        let mut row = RowBuf::default();
+        loop {
+            match self.next_shaped(&mut row) {
+                Ok(Shaped::Row) => {
+                    return Some(Row {
+                        line: row.line,
+                        record: row.record,
+                    });
+                }
+                Ok(Shaped::Blank) => {}
+                Ok(Shaped::Misshapen(e)) => errors.push(e),
+                Ok(Shaped::End) => return None,
+                Err(e) => {
+                    errors.push(e);
+                    return None;
+                }
+            }
+        }
+    }
+
     /// The next row, or `None` at the end of the file.
     pub fn next_row(&mut self) -> Result<Option<Row>, BadInput> {
         let mut row = RowBuf::default();
