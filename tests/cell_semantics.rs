@@ -1220,3 +1220,82 @@ fn the_runtime_hint_follows_the_cause_past_a_gap() {
     assert_eq!(hint.resolves_at().unwrap().version, "2.1.3");
     assert!(hint.toward_cause.is_none());
 }
+
+/// A package whose releases miss the image's runtime in both directions: the newest release
+/// decides the direction, since that is the one a newer runtime would reach (README, "What the
+/// outcomes mean"). The order of the two checks once went untested.
+#[test]
+fn releases_that_miss_the_runtime_both_ways_name_the_newest_ones_direction() {
+    let registry = "packages:\n  - name: kite\n    versions:\n      - {version: \"1.0.0\", runtime: \"<3\"}\n      - {version: \"2.0.0\", runtime: \">=4\"}\n";
+    let inputs = inputs(registry, "priorities:\n  - {name: kite}\n");
+    let e = explain(&inputs, "kite", "deb", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.cause, Some(Cause::RuntimeTooOld), "{:?}", e.cell);
+}
+
+/// An unnamed native build (shipped sources) beside a named library need of the same
+/// confidence is that need, not a second one: one need row, not two.
+#[test]
+fn a_native_build_that_names_its_library_is_one_need() {
+    let registry = "packages:\n  - name: pbind\n    versions:\n      - version: \"1.0.0\"\n        native:\n          files: [include/libxml/parser.h, src/ext/x.c]\n";
+    let inputs = inputs(registry, "priorities:\n  - {name: pbind}\n");
+    let e = explain(&inputs, "pbind", "deb", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.native_needs.len(), 1, "{:?}", e.cell.native_needs);
+    assert_eq!(e.cell.native_needs[0].library.as_deref(), Some("libxml2"));
+}
+
+/// A system package asked for by a weak need of one closure package (a summary's word) and a
+/// certain need of another (a declaration) is certainly missing: the strongest confidence
+/// counts, whichever package comes first, so the cell fails rather than being at risk.
+#[test]
+fn a_missing_package_counts_at_its_strongest_need() {
+    let registry = "packages:\n  - name: aaa-tools\n    summary: helpers around libxml2\n    versions:\n      - version: \"1.0.0\"\n        depends:\n          - {name: zz-bind, req: \"^1\"}\n  - name: zz-bind\n    versions:\n      - version: \"1.0.0\"\n        native:\n          libraries: [libxml2]\n";
+    let inputs = inputs(registry, "priorities:\n  - {name: aaa-tools}\n");
+    let e = explain(&inputs, "aaa-tools", "deb", &PlanOptions::default()).unwrap();
+    assert_eq!(
+        e.cell.cause,
+        Some(Cause::MissingSystemLibrary),
+        "{:?}",
+        e.cell
+    );
+    assert_eq!(e.cell.outcome, basefit::plan::Outcome::Fails);
+}
+
+/// A failing priority entry that is also another entry's blocker does not block itself: its
+/// weight is what it keeps from other entries. Of two blockers of equal weight, the one that
+/// blocks more entries comes first, so a list cut to one shows it.
+#[test]
+fn shared_blockers_count_other_entries_and_break_ties_by_entries_blocked() {
+    use basefit::plan::blockers::shared_blockers;
+    let registry = "packages:\n  - name: core\n    versions:\n      - {version: \"1.0.0\", runtime: \">=4\"}\n  - name: app\n    versions:\n      - version: \"1.0.0\"\n        depends:\n          - {name: core, req: \"^1\"}\n";
+    let loaded = inputs(registry, "priorities:\n  - {name: app}\n  - {name: core}\n");
+    let matrix = basefit::plan::matrix::plan(&loaded, &PlanOptions::default());
+    let blockers = shared_blockers(&matrix, 5);
+    let core = blockers.iter().find(|b| b.package == "core").unwrap();
+    assert_eq!(core.blocks, ["app"], "{blockers:?}");
+
+    let registry = "packages:
+  - name: xcore
+    versions:
+      - {version: \"1.0.0\", runtime: \">=4\"}
+  - name: ycore
+    versions:
+      - {version: \"1.0.0\", runtime: \">=4\"}
+  - name: a
+    versions:
+      - {version: \"1.0.0\", depends: [{name: xcore, req: \"^1\"}]}
+  - name: b
+    versions:
+      - {version: \"1.0.0\", depends: [{name: ycore, req: \"^1\"}]}
+  - name: c
+    versions:
+      - {version: \"1.0.0\", depends: [{name: ycore, req: \"^1\"}]}
+";
+    let loaded = inputs(
+        registry,
+        "priorities:\n  - {name: a, weight: 2}\n  - {name: b, weight: 1}\n  - {name: c, weight: 1}\n",
+    );
+    let matrix = basefit::plan::matrix::plan(&loaded, &PlanOptions::default());
+    let top = shared_blockers(&matrix, 1);
+    assert_eq!(top.len(), 1, "{top:?}");
+    assert_eq!(top[0].package, "ycore", "{top:?}");
+}

@@ -348,3 +348,20 @@ fn runtime_requirements_no_runtime_meets_are_noted_and_kept() {
     );
     assert_eq!(registry.packages[0].releases.len(), 4);
 }
+
+/// A duplicate version record is left out with its dependencies, and those count as left out
+/// too: the dependency tally balances (read = used + left out).
+#[test]
+fn the_dependencies_of_a_duplicate_version_are_counted_as_left_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("r.yaml");
+    std::fs::write(
+        &path,
+        "packages:\n  - name: base\n    versions:\n      - {version: \"1.0.0\"}\n  - name: dup\n    versions:\n      - version: \"1.0.0\"\n        depends:\n          - {name: base, req: \"^1\"}\n      - version: \"1.0.0\"\n        depends:\n          - {name: base, req: \"^1\"}\n          - {name: base, req: \">=1\"}\n",
+    )
+    .unwrap();
+    let (_, ledger) = read_registry(&[path.as_path()]).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let d = &ledger.tallies[&RecordKind::Dependency];
+    assert_eq!((d.read, d.used, d.left_out), (3, 1, 2), "{d:?}");
+}

@@ -449,12 +449,13 @@ const PAGE_TAGS: &[&str] = &[
 ];
 
 /// With `BASEFIT_RENDER_OUT=DIR`, writes the hostile matrix in every format, for the browser
-/// check (`tests/browser/run.sh DIR/hostile.html DIR`) and for a look by eye.
+/// check (`tests/browser/run.sh DIR/hostile.html DIR`) and for a look by eye. A tool, not a
+/// check, so it runs only when asked: `cargo test --test render -- --ignored`.
 #[test]
+#[ignore = "a tool: writes the hostile pages into BASEFIT_RENDER_OUT"]
 fn write_hostile_pages_when_asked() {
-    let Some(dir) = std::env::var_os("BASEFIT_RENDER_OUT") else {
-        return;
-    };
+    let dir = std::env::var_os("BASEFIT_RENDER_OUT")
+        .expect("BASEFIT_RENDER_OUT=DIR names where to write");
     let dir = Path::new(&dir);
     let m = hostile();
     basefit::report::write_atomic(&dir.join("hostile.html"), html(&m).as_bytes()).unwrap();

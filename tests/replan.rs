@@ -584,6 +584,27 @@ fn an_admissible_release_inside_a_requirement_but_outside_every_range_asked_keep
     }
 }
 
+/// The root's newest release was yanked, so the solve refused it and picked 1.0.0; un-yanked,
+/// a cold plan picks 2.0.0. The re-plan must notice the refused release is admissible now
+/// (the random re-plan test's edits missed this check when it was removed).
+#[test]
+fn a_refused_root_release_that_becomes_admissible_is_solved_again() {
+    let registry = |yanked: bool| {
+        format!(
+            "packages:\n- name: gull\n  versions:\n  - {{version: 1.0.0}}\n  - {{version: 2.0.0, yanked: {yanked}}}\n"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(true),
+        &registry(false),
+        &["gull"],
+        &PlanOptions::default(),
+    );
+    assert_eq!(cold.matrix.cells[0].root_version.as_deref(), Some("2.0.0"));
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+    assert_eq!(stats.solved, 1);
+}
+
 #[test]
 fn a_yanked_release_that_stops_suiting_the_image_is_recorded_as_a_cold_solve_would() {
     // app needs lib `*`. lib 3.0.0 and 2.0.0 are yanked but suit the image, so picking a

@@ -1279,3 +1279,64 @@ fn planning_only_the_cells_with_results_gives_the_full_plans_cells() {
         }
     }
 }
+
+/// Of failed attempts whose logs show causes of the same rank, the last decides the review
+/// (README, "Recorded install results"): a retry shows the image as it is now.
+#[test]
+fn the_last_of_equally_specific_failed_attempts_decides() {
+    let review = review_of(
+        "results:
+  - package: pixelmoss
+    image: alpine-2.6
+    outcome: failed
+    log: \"pixelmoss: error while loading shared libraries: libpng16.so.16: cannot open shared object file: No such file or directory\"
+  - package: pixelmoss
+    image: alpine-2.6
+    outcome: failed
+    log: \"src/ext/x.c:1:10: fatal error: zlib.h: No such file or directory\"
+",
+    );
+    let c = cell(&review, "pixelmoss", "alpine-2.6");
+    let cause = c
+        .log_cause
+        .as_ref()
+        .map(|l| l.to_string())
+        .unwrap_or_default();
+    assert!(cause.contains("zlib.h"), "{cause}: {c:?}");
+}
+
+/// A prebuilt release at risk for a library whose runtime package the image lacks, failing in
+/// the loader on that library's shared object: the risk is confirmed, and the log agrees with
+/// it through the runtime package (a prebuilt build needs no development package).
+#[test]
+fn a_loader_failure_confirms_a_prebuilt_releases_risk_through_its_runtime_package() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path
+    };
+    let inputs = load_inputs(&InputPaths {
+        registry: vec![write(
+            "r.yaml",
+            "packages:\n  - name: pxml\n    versions:\n      - version: \"1.0.0\"\n        builds: {source: false, prebuilt: [linux/glibc/x86_64]}\n        native: {files: [include/libxml/parser.h]}\n",
+        )],
+        images: Some(write(
+            "i.yaml",
+            "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n",
+        )),
+        priorities: Some(write("p.yaml", "priorities:\n  - {name: pxml}\n")),
+        results: vec![write(
+            "res.yaml",
+            "results:\n  - package: pxml\n    image: deb\n    outcome: failed\n    log: \"quoll: error while loading shared libraries: libxml2.so.2: cannot open shared object file: No such file or directory\"\n",
+        )],
+        ..Default::default()
+    })
+    .unwrap();
+    let matrix = plan(&inputs, &PlanOptions::default());
+    assert_eq!(matrix.cells[0].missing_system_packages, ["libxml2"]);
+    let review = compare_inputs(&matrix, &inputs);
+    let c = cell(&review, "pxml", "deb");
+    assert_eq!(c.verdict, Verdict::RiskConfirmed, "{c:?}");
+    assert_eq!(c.cause_agrees, Some(true), "{c:?}");
+}
