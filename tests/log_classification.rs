@@ -287,6 +287,62 @@ fn shells_without_compiler_or_make() {
     }
 }
 
+/// The gcc driver compiling a C++ (or C) source whose compiler proper is not installed, as on
+/// an image with gcc and no g++: made for real by hiding gcc's compiler directory in a private
+/// mount namespace (`unshare -m`, needs root), in the C locale and in a UTF-8 one, whose
+/// typographic quotes differ.
+#[test]
+fn gcc_without_its_compiler_proper() {
+    let Some(dir_of) = run("gcc", &["-print-prog-name=cc1plus"], Path::new("."))
+        .map(|o| String::from_utf8_lossy(&o.stdout).trim().to_string())
+        .filter(|p| p.starts_with('/'))
+        .and_then(|p| Path::new(&p).parent().map(|d| d.display().to_string()))
+    else {
+        return skip(
+            "gcc_without_its_compiler_proper",
+            "gcc with cc1plus is not installed",
+        );
+    };
+    let work = tempfile::tempdir().unwrap();
+    let empty = work.path().join("empty");
+    std::fs::create_dir(&empty).unwrap();
+    std::fs::write(work.path().join("x.cpp"), "int main() { return 0; }\n").unwrap();
+    std::fs::write(work.path().join("x.c"), "int main(void) { return 0; }\n").unwrap();
+    for (source, tool) in [("x.cpp", "cc1plus"), ("x.c", "cc")] {
+        for locale in ["C", "C.UTF-8"] {
+            let script = format!(
+                "mount --bind {} {dir_of} && gcc -c {source}",
+                empty.display()
+            );
+            let Ok(out) = Command::new("unshare")
+                .args(["-m", "sh", "-c", &script])
+                .current_dir(work.path())
+                .env("LC_ALL", locale)
+                .output()
+            else {
+                return skip(
+                    "gcc_without_its_compiler_proper",
+                    "unshare is not installed",
+                );
+            };
+            let log = stderr(&out);
+            if !log.contains("cannot execute") {
+                return skip(
+                    "gcc_without_its_compiler_proper",
+                    &format!("no private mount namespace here: {log}"),
+                );
+            }
+            // source: gcc on this machine with its compiler directory hidden
+            assert_eq!(
+                causes(&classify(&log)),
+                [&compiler(tool)],
+                "{locale}: {log}"
+            );
+        }
+    }
+    assert!(basefit::verify::logs::is_cxx_compiler("cc1plus"));
+}
+
 #[test]
 fn bash_reports_a_killed_job() {
     let dir = tempfile::tempdir().unwrap();

@@ -150,14 +150,17 @@ fn a_rhel_toolchain_includes_the_cxx_compiler() {
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("dnf install -y gcc-c++"), "{stdout}");
 
-    // Removing the C++ compiler from a base that says it has a toolchain drops it, as
-    // removing build-essential does on debian.
+    // Removing the C++ compiler from a base that says it has a toolchain drops the C++
+    // compiler and keeps the C one.
     let (_, stdout, _) = run(&["check"], &args);
     assert!(
-        stdout
-            .contains("el-dropped: inherits toolchain: true from `el-flagged` but removes gcc-c++"),
+        stdout.contains(
+            "el-dropped: inherits toolchain: true from `el-flagged` but removes gcc-c++; planned with a C compiler only"
+        ),
         "{stdout}"
     );
+    let (code, stdout, stderr) = run(&["explain", "c-proto", "el-dropped"], &args);
+    assert_eq!(code, 0, "{stdout}{stderr}");
     let (code, stdout, _) = run(&["explain", "cpp-proto", "el-dropped"], &args);
     assert_eq!(code, 1, "{stdout}");
     assert!(stdout.contains("missing-toolchain"), "{stdout}");
@@ -597,16 +600,18 @@ fn an_image_with_a_c_compiler_only_builds_c_and_is_told_to_add_the_cxx_compiler(
 }
 
 /// The packages named for a C-only Debian image and the one that adds C++ are what Debian's
-/// `build-essential` depends on, and the C++ compiler proper (`cc1plus`) ships in the package
-/// `g++` depends on. Source: Debian's archive through `apt-cache depends` and `dpkg -S` on
+/// `build-essential` depends on, the C++ compiler package brings the C packages said to come
+/// with it, and the C++ compiler proper (`cc1plus`) ships in the package `g++` depends on. Source: Debian's archive through `apt-cache depends` and `dpkg -S` on
 /// this machine (Debian 12); skipped with a message where apt or dpkg cannot say.
 #[test]
 fn debian_compiler_packages_match_build_essential() {
     use basefit::model::OsFamily;
     use basefit::native::{c_toolchain_packages, cxx_compiler_package};
-    let depends = |package: &str| -> Option<Vec<String>> {
+    // The direct dependencies of all `packages` together (one apt-cache run for them all).
+    let depends_all = |packages: &[String]| -> Option<Vec<String>> {
         let out = std::process::Command::new("apt-cache")
-            .args(["depends", package])
+            .arg("depends")
+            .args(packages)
             .output()
             .ok()?;
         let text = String::from_utf8_lossy(&out.stdout).into_owned();
@@ -617,6 +622,7 @@ fn debian_compiler_packages_match_build_essential() {
             .collect();
         (out.status.success() && !deps.is_empty()).then_some(deps)
     };
+    let depends = |package: &str| depends_all(&[package.to_string()]);
     let Some(essential) = depends("build-essential") else {
         eprintln!(
             "skipped debian_compiler_packages_match_build_essential: apt-cache knows no build-essential here"
@@ -632,6 +638,30 @@ fn debian_compiler_packages_match_build_essential() {
     assert!(
         !c_toolchain_packages(OsFamily::Debian).contains(&cxx_compiler_package(OsFamily::Debian))
     );
+    // What the C++ compiler package brings with it: reached through its dependencies
+    // (g++ -> gcc, g++ -> g++-12 -> libstdc++-12-dev -> libc6-dev on Debian 12).
+    let mut reached: Vec<String> = vec![cxx_compiler_package(OsFamily::Debian).to_string()];
+    let mut frontier = reached.clone();
+    let brings = basefit::native::cxx_compiler_brings(OsFamily::Debian);
+    for _ in 0..3 {
+        if brings.iter().all(|p| reached.iter().any(|r| r == p)) {
+            break;
+        }
+        let mut next = Vec::new();
+        for d in depends_all(&frontier).unwrap_or_default() {
+            if !d.starts_with('<') && !reached.contains(&d) {
+                reached.push(d.clone());
+                next.push(d);
+            }
+        }
+        frontier = next;
+    }
+    for p in basefit::native::cxx_compiler_brings(OsFamily::Debian) {
+        assert!(
+            reached.iter().any(|r| r == p),
+            "{p} not reached from g++: {reached:?}"
+        );
+    }
     // The C++ compiler proper, where the installed gcc would run it from.
     let cc1plus = std::process::Command::new("gcc")
         .arg("-print-prog-name=cc1plus")
@@ -655,4 +685,106 @@ fn debian_compiler_packages_match_build_essential() {
             "skipped the cc1plus half of debian_compiler_packages_match_build_essential: no installed g++ to ask dpkg about"
         ),
     }
+}
+
+/// What an image carries of its compilers, through `extends`, by packages the C++ compiler
+/// brings with it, and for builds whose build system wants C++ whatever their sources.
+#[test]
+fn compilers_follow_packages_bases_and_build_systems() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("zip-c", "zlib", "src/ext/inflate.c"),
+        package("zip-cxx", "zlib", "src/ext/inflate.cpp"),
+        // CMake's `project()` enables C++ unless told otherwise: C sources alone do not settle
+        // it.
+        package("zip-cmake", "zlib", "CMakeLists.txt, src/ext/inflate.c"),
+    );
+    let images = format!(
+        "images:\n{}{}{}{}",
+        // A base that says it has a toolchain without listing every compiler package.
+        image(
+            "base",
+            "debian",
+            "    toolchain: true\n    packages: [g++, zlib1g-dev]\n"
+        ),
+        "  - id: no-gxx\n    extends: base\n    remove: [g++]\n",
+        // g++ brings gcc and libc6-dev (apt-cache depends g++, g++-12, libstdc++-12-dev).
+        image(
+            "gxx-make",
+            "debian",
+            "    packages: [g++, make, zlib1g-dev]\n"
+        ),
+        image(
+            "c-only",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["zip-c", "zip-cxx", "zip-cmake"],
+    );
+    for (package, img, code, says) in [
+        ("zip-c", "no-gxx", 0, "installs"),
+        (
+            "zip-cxx",
+            "no-gxx",
+            1,
+            "has a C compiler but no C++ compiler; add: g++",
+        ),
+        ("zip-cxx", "gxx-make", 0, "installs"),
+        ("zip-cmake", "c-only", 1, "probably needs: g++"),
+        ("zip-cmake", "gxx-make", 0, "installs"),
+    ] {
+        let (got, stdout, stderr) = run(&["explain", package, img], &args);
+        assert_eq!(got, code, "{package} on {img}: {stdout}{stderr}");
+        assert!(stdout.contains(says), "{package} on {img}: {stdout}");
+    }
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(
+        stdout.contains(
+            "no-gxx: inherits toolchain: true from `base` but removes g++; planned with a C compiler only"
+        ),
+        "{stdout}"
+    );
+
+    // review: on a C-only image at risk for C++ alone, a log missing make or the C compiler
+    // shows another cause than the risk; a missing C++ compiler (the shell's words, or the gcc
+    // driver's without cc1plus, as gcc prints it in the C locale) confirms it.
+    let results = "results:
+  - {package: zip-cmake, image: c-only, outcome: failed, version: \"1.0.0\", log: \"/bin/sh: 1: make: not found\"}
+  - {package: zip-cmake, image: gxx-make, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
+";
+    let args_r = with_results(dir.path(), args.clone(), results);
+    let (_, json, stderr) = run(&["review", "--format", "json"], &args_r);
+    let v: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
+    let cell = |image: &str| {
+        v["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["package"] == "zip-cmake" && c["image"] == image)
+            .unwrap_or_else(|| panic!("{image}: {json}"))
+            .clone()
+    };
+    assert_eq!(cell("c-only")["verdict"], "risk-confirmed", "{json}");
+    assert_eq!(cell("c-only")["cause_agrees"], false, "{json}");
+    let full = cell("gxx-make");
+    assert_eq!(full["log_cause"]["tool"], "cc1plus", "{full}");
+    let results = "results:
+  - {package: zip-cmake, image: c-only, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
+";
+    let args_r = with_results(dir.path(), args, results);
+    let (_, stdout, _) = run(&["review"], &args_r);
+    assert!(stdout.contains("cause agrees"), "{stdout}");
+    assert!(
+        stdout.contains(
+            "c-only has a C compiler only, and the build needs a C++ compiler (cc1plus): add g++"
+        ),
+        "{stdout}"
+    );
 }

@@ -150,8 +150,16 @@ fn a_changed_image_or_option_invalidates_its_cells() {
         budget: 7,
         ..PlanOptions::default()
     };
-    let (_, stats) = replan(&inputs, &other, Some(cache), None);
+    let (_, stats) = replan(&inputs, &other, Some(cache.clone()), None);
     assert_eq!(stats.reused, 0);
+
+    // The C++ compiler alone (an image gaining or losing it while its packages and C
+    // compiler stay) changes what its source builds need: its column is solved again.
+    let mut cxx_changed = inputs.clone();
+    let (cache, _) = replan(&cxx_changed, &options, None, None);
+    cxx_changed.images.images[0].cxx = !cxx_changed.images.images[0].cxx;
+    let (_, stats) = replan(&cxx_changed, &options, Some(cache), None);
+    assert_eq!(stats.solved_cells, column);
 }
 
 /// A small registry (`app` depends on `lib ^1`) planned on one image, then re-planned after

@@ -448,11 +448,20 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
     // the advice must not go on failing for want of a toolchain. The flag gives both C and
     // C++; packages give what they hold (C alone without the C++ compiler package).
     let (carries_c, carries_cxx) = crate::native::compilers_carried(family, &packages);
-    let (flag_c, flag_cxx) = match d.toolchain {
-        Some(t) => (t.value, t.value),
-        None => base
-            .filter(|_| removed_toolchain(d, family, base).is_empty())
-            .map_or((false, false), |b| (b.toolchain, b.cxx)),
+    // Dropping the C++ compiler alone leaves the inherited C compiler; dropping any other
+    // compiler package leaves what the packages say.
+    let (flag_c, flag_cxx) = match (d.toolchain, base) {
+        (Some(t), _) => (t.value, t.value),
+        (None, None) => (false, false),
+        (None, Some(b)) => {
+            let removed = removed_toolchain(d, family, base);
+            let cxx_package = crate::native::cxx_compiler_package(b.family);
+            match removed.iter().all(|r| r.value == cxx_package) {
+                true if removed.is_empty() => (b.toolchain, b.cxx),
+                true => (b.toolchain, false),
+                false => (false, false),
+            }
+        }
     };
     Ok(Image {
         id: d.id.clone(),

@@ -340,6 +340,9 @@ pub fn cxx_compiler_package(family: OsFamily) -> &'static str {
 /// assert_eq!(compilers_carried(OsFamily::Rhel, &has(&["gcc", "make"])), (true, false));
 /// assert_eq!(compilers_carried(OsFamily::Rhel, &has(&["gcc", "gcc-c++", "make"])), (true, true));
 /// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["build-essential"])), (true, true));
+/// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["gcc", "make"])), (false, false));
+/// // g++ brings gcc and libc6-dev with it; make it does not.
+/// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["g++", "make"])), (true, true));
 /// assert_eq!(compilers_carried(OsFamily::Debian, &has(&["gcc", "g++"])), (false, false));
 /// ```
 pub fn compilers_carried(
@@ -352,10 +355,23 @@ pub fn compilers_carried(
     {
         return (true, true);
     }
-    let c = c_toolchain_packages(family)
-        .iter()
-        .all(|p| packages.contains(*p));
-    (c, c && packages.contains(cxx_compiler_package(family)))
+    let cxx = packages.contains(cxx_compiler_package(family));
+    let has = |p: &str| packages.contains(p) || (cxx && cxx_compiler_brings(family).contains(&p));
+    let c = c_toolchain_packages(family).iter().all(|p| has(p));
+    (c, c && cxx)
+}
+
+/// The C toolchain packages the C++ compiler package depends on, so an image listing it has
+/// them installed: on debian `g++` depends on `gcc`, and through `g++-12` and
+/// `libstdc++-12-dev` on `libc6-dev` (`apt-cache depends` on Debian 12, checked on this
+/// project's machine); alpine's `g++` on `gcc` and `musl-dev`, rhel's `gcc-c++` on `gcc` (from
+/// memory).
+pub fn cxx_compiler_brings(family: OsFamily) -> &'static [&'static str] {
+    match family {
+        OsFamily::Debian => &["gcc", "libc6-dev"],
+        OsFamily::Alpine => &["gcc", "musl-dev"],
+        OsFamily::Rhel => &["gcc"],
+    }
 }
 
 /// Every package of `family` that [`compilers_carried`] reads, once each: an image that

@@ -5,7 +5,7 @@ pub mod catalog;
 
 pub use catalog::{
     Catalog, Library, c_toolchain_packages, compiler_packages, compilers_carried,
-    cxx_compiler_package, install_command, toolchain_packages,
+    cxx_compiler_brings, cxx_compiler_package, install_command, toolchain_packages,
 };
 
 use crate::model::{Image, PackageId, Registry};
@@ -56,12 +56,12 @@ pub struct Evidence {
 /// File name endings that mean compiled native code or a native build (common practice, no
 /// source).
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
-    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".s", ".S",
+    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".mm", ".s", ".S",
 ];
-/// C++ source and header endings (common practice, no source; `.C` is left out, since on a
-/// file system that ignores case it is a C file's name). A source build shipping one needs a
-/// C++ compiler, which a C toolchain alone does not have.
-const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx"];
+/// C++ source and header endings, Objective-C++ (`.mm`) included (common practice, no source;
+/// `.C` is left out, since on a file system that ignores case it is a C file's name). A source
+/// build shipping one needs a C++ compiler, which a C toolchain alone does not have.
+const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx", ".mm"];
 /// Fortran source endings, fixed and free form, the upper-case ones preprocessed (the suffixes
 /// gfortran compiles as Fortran; from memory). Such a source builds only with a Fortran
 /// compiler, which no C toolchain package brings.
@@ -220,6 +220,15 @@ fn cxx_need(registry: &Registry, pin: &Pin, native: Confidence) -> Option<Confid
         .any(|f| CXX_SOURCE_ENDINGS.iter().any(|e| base(f).ends_with(e)))
     {
         return Some(native);
+    }
+    // CMake's `project()` enables C and C++ unless its `LANGUAGES` says otherwise, and fails
+    // without a C++ compiler; node-gyp builds link with the C++ compiler (both from memory).
+    // Whatever the sources, such a build likely needs C++.
+    if files
+        .iter()
+        .any(|f| matches!(base(f).as_str(), "CMakeLists.txt" | "binding.gyp"))
+    {
+        return Some(native.min(Confidence::Likely));
     }
     // A `.h` header is C's and C++'s alike: it tells no language.
     let sources_known = files.iter().any(|f| {

@@ -213,6 +213,12 @@ impl ImageColumn {
     /// assert!(planned.differences(&rebuilt).is_empty());
     /// let more = ImageColumn { packages: Some(vec!["libpq-dev".into(), "libpq5".into()]), ..planned.clone() };
     /// assert_eq!(planned.differences(&more), ["system packages: libpq-dev added here"]);
+    /// let c_only = ImageColumn { cxx: Some(false), ..planned.clone() };
+    /// assert_eq!(planned.differences(&c_only), ["C++ compiler false here, true in the matrix"]);
+    /// // A matrix from before the field planned every toolchain as compiling C++ too.
+    /// let older = ImageColumn { cxx: None, ..planned.clone() };
+    /// assert_eq!(older.differences(&c_only).len(), 1);
+    /// assert!(older.differences(&planned).is_empty());
     /// ```
     pub fn differences(&self, image: &ImageColumn) -> Vec<String> {
         let mut out = Vec::new();
@@ -241,10 +247,16 @@ impl ImageColumn {
                 image.toolchain, self.toolchain
             ));
         }
-        if let (Some(here), Some(planned)) = (image.cxx, self.cxx)
-            && here != planned
-        {
-            out.push(format!("C++ compiler {here} here, {planned} in the matrix"));
+        match (image.cxx, self.cxx) {
+            (Some(here), Some(planned)) if here != planned => {
+                out.push(format!("C++ compiler {here} here, {planned} in the matrix"));
+            }
+            // A matrix written before basefit told C from C++ planned every image with a
+            // toolchain as compiling both.
+            (Some(false), None) if image.toolchain && self.toolchain => out.push(
+                "a C compiler only here; the matrix, written before basefit told C from C++, planned it with a C++ compiler too".to_string(),
+            ),
+            _ => {}
         }
         if let (Some(here), Some(planned)) = (&image.packages, &self.packages) {
             let not_in = |list: &[String], other: &[String]| -> Vec<String> {

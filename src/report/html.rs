@@ -143,7 +143,7 @@ fn short_cause(cause: Cause) -> &'static str {
         Cause::OnlyYankedOrPrerelease => "yanked / pre",
         Cause::BudgetExhausted => "budget",
         Cause::MissingSystemLibrary => "system library",
-        Cause::MissingToolchain => "no toolchain",
+        Cause::MissingToolchain => "no compiler",
     }
 }
 

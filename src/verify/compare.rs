@@ -205,9 +205,21 @@ fn risk_agrees(
             let packages: Vec<&str> = f.dev.iter().chain(&f.runtime).map(String::as_str).collect();
             Some(missing(&packages))
         }
-        LogCause::NoCompiler { .. } | LogCause::NoMake => {
-            Some(missing(&crate::native::compiler_packages(family)))
-        }
+        // A missing C++ compiler agrees with a risk for the C++ compiler package or for a whole
+        // toolchain; a missing C compiler or make only with the latter, since a C-only image
+        // at risk for C++ alone says it has them.
+        LogCause::NoCompiler { tool } if logs::is_cxx_compiler(tool) => Some(missing(
+            &[crate::native::cxx_compiler_package(family)]
+                .into_iter()
+                .chain(crate::native::toolchain_packages(family).iter().copied())
+                .collect::<Vec<_>>(),
+        )),
+        LogCause::NoCompiler { .. } | LogCause::NoMake => Some(missing(
+            &crate::native::compiler_packages(family)
+                .into_iter()
+                .filter(|p| *p != crate::native::cxx_compiler_package(family))
+                .collect::<Vec<_>>(),
+        )),
         LogCause::RuntimeRefused { .. } | LogCause::OutOfMemory | LogCause::Killed => Some(false),
         _ => None,
     }

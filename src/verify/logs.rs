@@ -793,6 +793,24 @@ const COMPILERS: [&str; 8] = [
     "cc", "c++", "gcc", "g++", "clang", "clang++", "cpp", "gfortran",
 ];
 
+/// Whether a compiler named in a log is a C++ compiler: `c++`, `g++`, `clang++`, a versioned
+/// or target-prefixed one (`x86_64-linux-gnu-g++-12`), the `c++` a message names when it
+/// says only "C++ compiler", or `cc1plus`, the C++ compiler proper that the `gcc` driver runs
+/// for a C++ source and that only the C++ compiler package ships.
+///
+/// ```
+/// use basefit::verify::logs::is_cxx_compiler;
+/// assert!(is_cxx_compiler("/usr/bin/x86_64-linux-gnu-g++-12"));
+/// assert!(is_cxx_compiler("c++"));
+/// assert!(is_cxx_compiler("cc1plus"));
+/// assert!(!is_cxx_compiler("gcc"));
+/// ```
+pub fn is_cxx_compiler(tool: &str) -> bool {
+    let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
+    let base = without_version(base);
+    base.ends_with("++") || base == "cc1plus"
+}
+
 /// Whether a compiler a log could not find is a Fortran one (`gfortran`, `gfortran-12`,
 /// `x86_64-linux-gnu-gfortran`): no C toolchain package brings it.
 ///
@@ -801,21 +819,6 @@ const COMPILERS: [&str; 8] = [
 /// assert!(is_fortran_compiler("/usr/bin/x86_64-linux-gnu-gfortran-12"));
 /// assert!(!is_fortran_compiler("gcc"));
 /// ```
-/// Whether a compiler named in a log is a C++ compiler: `c++`, `g++`, `clang++`, a versioned
-/// or target-prefixed one (`x86_64-linux-gnu-g++-12`), or the `c++` a message names when it
-/// says only "C++ compiler".
-///
-/// ```
-/// use basefit::verify::logs::is_cxx_compiler;
-/// assert!(is_cxx_compiler("/usr/bin/x86_64-linux-gnu-g++-12"));
-/// assert!(is_cxx_compiler("c++"));
-/// assert!(!is_cxx_compiler("gcc"));
-/// ```
-pub fn is_cxx_compiler(tool: &str) -> bool {
-    let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
-    without_version(base).ends_with("++")
-}
-
 pub fn is_fortran_compiler(tool: &str) -> bool {
     let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
     without_version(base).ends_with("gfortran")
@@ -865,6 +868,25 @@ fn compiler_phrase(lower: &str) -> Option<&'static str> {
         .iter()
         .find(|(phrase, _)| lower.contains(phrase))
         .map(|&(_, tool)| tool)
+        .or_else(|| missing_compiler_proper(lower))
+}
+
+/// The gcc driver given a source whose compiler proper is not installed: `gcc: fatal error:
+/// cannot execute 'cc1plus': execvp: No such file or directory` for a C++ source on an image
+/// without g++ (`cc1plus` ships in g++-12 on Debian 12: `dpkg -S` on this project's machine),
+/// likewise Fortran's `f951` and C's `cc1`. The quotes are typographic in a UTF-8 locale.
+fn missing_compiler_proper(lower: &str) -> Option<&'static str> {
+    let rest = &lower[lower.find("cannot execute ")? + "cannot execute ".len()..];
+    let name = rest
+        .trim_start_matches(['\'', '\u{2018}', '`'])
+        .split(['\'', '\u{2019}', '`', ':'])
+        .next()?;
+    match name {
+        "cc1plus" => Some("cc1plus"),
+        "f951" => Some("gfortran"),
+        "cc1" => Some("cc"),
+        _ => None,
+    }
 }
 
 const MAKE_PHRASES: [&str; 2] = [

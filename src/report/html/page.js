@@ -168,7 +168,7 @@
     fact('Priority', row.rank !== undefined ? `rank ${row.rank}, weight ${row.weight}` : '');
     fact('Summary', row.summary || '');
     fact('Image', [image.id, `runtime ${image.runtime}`, image.family, image.platform].filter(Boolean).join(' · '));
-    fact('C toolchain', image.toolchain ? 'yes' : 'no');
+    fact('C toolchain', image.toolchain ? (image.cxx === false ? 'C only (no C++)' : 'yes') : 'no');
     parts.push(facts);
 
     if (cell.closure && cell.closure.length) {
