@@ -49,6 +49,15 @@ fn package(name: &str, libraries: &str, files: &str) -> String {
     )
 }
 
+/// `explain PACKAGE IMAGE` for each case exits with the code given and prints the text given.
+fn expect_explained(args: &[String], cases: &[(&str, &str, i32, &str)]) {
+    for &(package, img, code, says) in cases {
+        let (got, stdout, stderr) = run(&["explain", package, img], args);
+        assert_eq!(got, code, "{package} on {img}: {stdout}{stderr}");
+        assert!(stdout.contains(says), "{package} on {img}: {stdout}");
+    }
+}
+
 /// A release that has only a prebuilt build for linux/glibc/x86_64, declaring `libraries`.
 fn prebuilt(name: &str, libraries: &str) -> String {
     format!(
@@ -500,35 +509,34 @@ fn an_image_with_a_c_compiler_only_builds_c_and_is_told_to_add_the_cxx_compiler(
         image("d-none", "debian", "    packages: [gcc, zlib1g-dev]\n"),
     );
     let args = inputs(dir.path(), &registry, &images, &["zip-c", "zip-cxx"]);
-    for (package, img, code, says) in [
-        ("zip-c", "d-c", 0, "installs"),
-        ("zip-c", "a-c", 0, "installs"),
-        ("zip-c", "d-cxx", 0, "installs"),
-        ("zip-cxx", "d-cxx", 0, "installs"),
-        (
-            "zip-cxx",
-            "d-c",
-            1,
-            "has a C compiler but no C++ compiler; add: g++",
-        ),
-        (
-            "zip-cxx",
-            "a-c",
-            1,
-            "has a C compiler but no C++ compiler; add: g++",
-        ),
-        // gcc alone (no make, no C library headers) is no toolchain at all.
-        (
-            "zip-c",
-            "d-none",
-            1,
-            "has no C toolchain; add: build-essential",
-        ),
-    ] {
-        let (got, stdout, stderr) = run(&["explain", package, img], &args);
-        assert_eq!(got, code, "{package} on {img}: {stdout}{stderr}");
-        assert!(stdout.contains(says), "{package} on {img}: {stdout}");
-    }
+    expect_explained(
+        &args,
+        &[
+            ("zip-c", "d-c", 0, "installs"),
+            ("zip-c", "a-c", 0, "installs"),
+            ("zip-c", "d-cxx", 0, "installs"),
+            ("zip-cxx", "d-cxx", 0, "installs"),
+            (
+                "zip-cxx",
+                "d-c",
+                1,
+                "has a C compiler but no C++ compiler; add: g++",
+            ),
+            (
+                "zip-cxx",
+                "a-c",
+                1,
+                "has a C compiler but no C++ compiler; add: g++",
+            ),
+            // gcc alone (no make, no C library headers) is no toolchain at all.
+            (
+                "zip-c",
+                "d-none",
+                1,
+                "has no C toolchain; add: build-essential",
+            ),
+        ],
+    );
     let (_, stdout, _) = run(&["check"], &args);
     assert!(
         stdout.contains(
@@ -601,8 +609,9 @@ fn an_image_with_a_c_compiler_only_builds_c_and_is_told_to_add_the_cxx_compiler(
 
 /// The packages named for a C-only Debian image and the one that adds C++ are what Debian's
 /// `build-essential` depends on, the C++ compiler package brings the C packages said to come
-/// with it, and the C++ compiler proper (`cc1plus`) ships in the package `g++` depends on. Source: Debian's archive through `apt-cache depends` and `dpkg -S` on
-/// this machine (Debian 12); skipped with a message where apt or dpkg cannot say.
+/// with it, and the C++ compiler proper (`cc1plus`) ships in the package `g++` depends on.
+/// Source: Debian's archive through `apt-cache depends` and `dpkg -S` on this machine (Debian
+/// 12); skipped with a message where apt or dpkg cannot say.
 #[test]
 fn debian_compiler_packages_match_build_essential() {
     use basefit::model::OsFamily;
@@ -727,22 +736,21 @@ fn compilers_follow_packages_bases_and_build_systems() {
         &images,
         &["zip-c", "zip-cxx", "zip-cmake"],
     );
-    for (package, img, code, says) in [
-        ("zip-c", "no-gxx", 0, "installs"),
-        (
-            "zip-cxx",
-            "no-gxx",
-            1,
-            "has a C compiler but no C++ compiler; add: g++",
-        ),
-        ("zip-cxx", "gxx-make", 0, "installs"),
-        ("zip-cmake", "c-only", 1, "probably needs: g++"),
-        ("zip-cmake", "gxx-make", 0, "installs"),
-    ] {
-        let (got, stdout, stderr) = run(&["explain", package, img], &args);
-        assert_eq!(got, code, "{package} on {img}: {stdout}{stderr}");
-        assert!(stdout.contains(says), "{package} on {img}: {stdout}");
-    }
+    expect_explained(
+        &args,
+        &[
+            ("zip-c", "no-gxx", 0, "installs"),
+            (
+                "zip-cxx",
+                "no-gxx",
+                1,
+                "has a C compiler but no C++ compiler; add: g++",
+            ),
+            ("zip-cxx", "gxx-make", 0, "installs"),
+            ("zip-cmake", "c-only", 1, "probably needs: g++"),
+            ("zip-cmake", "gxx-make", 0, "installs"),
+        ],
+    );
     let (_, stdout, _) = run(&["check"], &args);
     assert!(
         stdout.contains(

@@ -252,20 +252,33 @@ fn each_dependency(
 ) -> Result<(), BadInput> {
     let cols = DepCols::of(&table);
     let file = table.file.clone();
+    each_row(table, |row, clean| {
+        let cells = dep_cells(&file, &cols, row)?;
+        if clean {
+            use_row(row.line, cells);
+        }
+        Ok(())
+    })
+}
+
+/// Hands each well-formed row of `table` to `use_row`, with whether no schema error was met
+/// before it, and collects the schema errors it returns and those of misshapen rows, up to
+/// [`SchemaErrors::CAP`] (past it the reading stops).
+fn each_row(
+    table: Table,
+    mut use_row: impl FnMut(RowRef<'_>, bool) -> Result<(), BadInput>,
+) -> Result<(), BadInput> {
     let mut errors = SchemaErrors::new();
     let read = table.for_each_batch(|batch| {
         for row in batch.rows() {
-            let cells = row
+            let clean = errors.is_empty();
+            if let Err(e) = row
                 .map_err(BadInput::clone)
-                .and_then(|row| dep_cells(&file, &cols, row).map(|cells| (row.line, cells)));
-            match cells {
-                Ok((line, cells)) if errors.is_empty() => use_row(line, cells),
-                Ok(_) => {}
-                Err(e) => {
-                    errors.push(e);
-                    if errors.full() {
-                        return ControlFlow::Break(());
-                    }
+                .and_then(|row| use_row(row, clean))
+            {
+                errors.push(e);
+                if errors.full() {
+                    return ControlFlow::Break(());
                 }
             }
         }
@@ -585,28 +598,13 @@ impl Load {
             key_hash(k.package, text_at(arena, k.start, k.len))
         });
         let _ = self.index.arena.try_reserve(rows.saturating_mul(8));
-        let mut errors = SchemaErrors::new();
         // Rows of one package are usually adjacent: the last name saves a lookup per row.
         let mut last: Option<(String, Option<PackageId>)> = None;
-        let read = table.for_each_batch(|batch| {
-            for row in batch.rows() {
-                let used = row
-                    .map_err(BadInput::clone)
-                    .and_then(|row| self.version_row(&file, &cols, row, &mut last));
-                if let Err(e) = used {
-                    errors.push(e);
-                    if errors.full() {
-                        return ControlFlow::Break(());
-                    }
-                }
-            }
-            ControlFlow::Continue(())
+        let read = each_row(table, |row, _| {
+            self.version_row(&file, &cols, row, &mut last)
         });
-        if let Err(e) = read {
-            errors.push(e);
-        }
         self.end_run();
-        errors.finish()
+        read
     }
 
     /// Moves the releases of the current run into their package's list.

@@ -663,19 +663,19 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
             a.unknown_libraries.join(", ")
         ),
     };
-    if a.toolchain_missing == Some(Confidence::Certain) {
+    // What a certain toolchain failure lacks: any compiler, or on a C-only image the C++ one.
+    let lacks = match (a.toolchain_missing, a.cxx_missing) {
+        (Some(Confidence::Certain), _) => Some(("", "has no C toolchain")),
+        (_, Some(Confidence::Certain)) => {
+            Some((" from C++ sources", "has a C compiler but no C++ compiler"))
+        }
+        _ => None,
+    };
+    if let Some((from, has)) = lacks {
         cell.outcome = Outcome::Fails;
         cell.cause = Some(Cause::MissingToolchain);
         cell.explanation.push(format!(
-            "a declared native library must be compiled, and {} has no C toolchain{}{unmapped}",
-            image.id,
-            add_list(&cell.missing_system_packages)
-        ));
-    } else if a.cxx_missing == Some(Confidence::Certain) {
-        cell.outcome = Outcome::Fails;
-        cell.cause = Some(Cause::MissingToolchain);
-        cell.explanation.push(format!(
-            "a declared native library must be compiled from C++ sources, and {} has a C compiler but no C++ compiler{}{unmapped}",
+            "a declared native library must be compiled{from}, and {} {has}{}{unmapped}",
             image.id,
             add_list(&cell.missing_system_packages)
         ));
