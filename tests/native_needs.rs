@@ -702,12 +702,14 @@ fn debian_compiler_packages_match_build_essential() {
 fn compilers_follow_packages_bases_and_build_systems() {
     let dir = tempfile::tempdir().unwrap();
     let registry = format!(
-        "packages:\n{}{}{}",
+        "packages:\n{}{}{}{}",
         package("zip-c", "zlib", "src/ext/inflate.c"),
         package("zip-cxx", "zlib", "src/ext/inflate.cpp"),
         // CMake's `project()` enables C++ unless told otherwise: C sources alone do not settle
         // it.
         package("zip-cmake", "zlib", "CMakeLists.txt, src/ext/inflate.c"),
+        // protobuf's interface is C++ only (the catalog's `cxx: true`): declared, it is certain.
+        package("proto-bind", "protobuf", ""),
     );
     let images = format!(
         "images:\n{}{}{}{}",
@@ -734,7 +736,7 @@ fn compilers_follow_packages_bases_and_build_systems() {
         dir.path(),
         &registry,
         &images,
-        &["zip-c", "zip-cxx", "zip-cmake"],
+        &["zip-c", "zip-cxx", "zip-cmake", "proto-bind"],
     );
     expect_explained(
         &args,
@@ -749,6 +751,12 @@ fn compilers_follow_packages_bases_and_build_systems() {
             ("zip-cxx", "gxx-make", 0, "installs"),
             ("zip-cmake", "c-only", 1, "probably needs: g++"),
             ("zip-cmake", "gxx-make", 0, "installs"),
+            (
+                "proto-bind",
+                "c-only",
+                1,
+                "has a C compiler but no C++ compiler; add: g++",
+            ),
         ],
     );
     let (_, stdout, _) = run(&["check"], &args);

@@ -21,6 +21,7 @@ const LIBRARY_FIELDS: &[&str] = &[
     "headers",
     "link",
     "pkg_config",
+    "cxx",
     "families",
 ];
 const FAMILY_FIELDS: &[&str] = &["dev", "alternatives", "pulled_in_by", "runtime", "source"];
@@ -76,6 +77,8 @@ pub struct Library {
     pub headers: Vec<String>,
     pub link: Vec<String>,
     pub pkg_config: Vec<String>,
+    /// Its interface is C++ only (`cxx: true`): a source build against it compiles C++.
+    pub cxx: bool,
     pub families: BTreeMap<OsFamily, FamilyPackages>,
 }
 
@@ -621,6 +624,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             headers,
             link,
             pkg_config,
+            cxx: m.opt_bool_at("cxx")?.is_some_and(|c| c.value),
             families,
         },
         claim_lines,

@@ -207,11 +207,28 @@ pub fn release_evidence(
     out
 }
 
-/// How sure it is that the source build of `pin`, a native build of confidence `native`,
-/// compiles C++: as sure as the native build when it ships a C++ source; not at all when its
+/// How sure it is that the source build of `pin`, a native build of confidence `native` with
+/// the library needs `libs`, compiles C++: as sure as the native build when it ships a C++
+/// source, as sure as the need of a library whose interface is C++ only; not at all when its
 /// shipped sources are all of other languages; only possibly when no source shows which
 /// language it builds (a declared library alone, a build file), since many bindings are C++.
-fn cxx_need(registry: &Registry, pin: &Pin, native: Confidence) -> Option<Confidence> {
+fn cxx_need(
+    registry: &Registry,
+    catalog: &Catalog,
+    pin: &Pin,
+    libs: &[(Option<String>, Confidence, Vec<String>)],
+    native: Confidence,
+) -> Option<Confidence> {
+    // A library whose interface is C++ only: as sure as the need of it.
+    let cxx_library = libs
+        .iter()
+        .filter(|(l, _, _)| {
+            l.as_deref()
+                .and_then(|id| catalog.get(id))
+                .is_some_and(|l| l.cxx)
+        })
+        .map(|(_, c, _)| *c)
+        .max();
     let release = &registry.package(pin.package).releases[pin.index as usize];
     let files = release.native.as_ref().map_or(&[][..], |n| &n.files[..]);
     let base = |f: &str| f.rsplit('/').next().unwrap_or(f).to_string();
@@ -220,6 +237,9 @@ fn cxx_need(registry: &Registry, pin: &Pin, native: Confidence) -> Option<Confid
         .any(|f| CXX_SOURCE_ENDINGS.iter().any(|e| base(f).ends_with(e)))
     {
         return Some(native);
+    }
+    if cxx_library.is_some() {
+        return cxx_library;
     }
     // CMake's `project()` enables C and C++ unless its `LANGUAGES` says otherwise, and fails
     // without a C++ compiler; node-gyp builds link with the C++ compiler (both from memory).
@@ -332,7 +352,7 @@ pub fn assess(
             && image.toolchain
             && !image.cxx
             && let Some(native) = libs.iter().map(|(_, c, _)| *c).max()
-            && let Some(c) = cxx_need(registry, pin, native)
+            && let Some(c) = cxx_need(registry, catalog, pin, &libs, native)
         {
             a.cxx_missing = Some(a.cxx_missing.map_or(c, |m| m.max(c)));
         }
