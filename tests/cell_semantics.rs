@@ -1299,3 +1299,83 @@ fn shared_blockers_count_other_entries_and_break_ties_by_entries_blocked() {
     assert_eq!(top.len(), 1, "{top:?}");
     assert_eq!(top[0].package, "ycore", "{top:?}");
 }
+
+/// A need whose build kind a matrix does not record (one written before the field) is mapped
+/// only when the catalog names packages for both builds: a library with a development package
+/// alone stays unmapped, so `syslibs --matrix` does not promise what no package gives.
+#[test]
+fn a_need_without_a_build_kind_is_mapped_only_for_both_builds() {
+    let catalog = r#"libraries:
+  - id: quasar
+    summary: invented library with a development package only
+    aliases: [quasar]
+    headers: [quasar.h]
+    families:
+      debian: {dev: libquasar-dev, source: memory}
+"#;
+    let registry = "packages:\n  - name: parser\n    versions: [{version: \"1.0.0\", native: {libraries: [quasar]}}]\n";
+    let mut loaded = inputs(registry, "priorities:\n  - parser\n");
+    loaded.catalog.apply("test catalog", catalog).unwrap();
+    let mut matrix = basefit::plan::plan(&loaded, &PlanOptions::default());
+    assert!(!matrix.cells[0].native_needs.is_empty());
+    for n in &mut matrix.cells[0].native_needs {
+        n.build = None;
+    }
+    let report = basefit::plan::system::system_report(&loaded, &matrix);
+    let libs: Vec<&str> = report.images[0]
+        .unmapped_libraries
+        .iter()
+        .map(|u| u.library.as_str())
+        .collect();
+    assert_eq!(libs, ["quasar"], "{:#?}", report.images[0]);
+}
+
+/// The C++ compiler a C-only image lacks is as sure as the C++ sources seen (likely: a
+/// dependency ships a `.cpp` file), not the cell's strongest need (certain, of zlib).
+#[test]
+fn the_cxx_compiler_is_advised_as_surely_as_the_cxx_sources_show() {
+    let registry = r#"packages:
+  - name: app
+    versions:
+      - version: "1.0.0"
+        depends: [{name: cppdep, req: "*"}]
+        native: {libraries: [zlib], files: [src/ext/wrap.c]}
+  - name: cppdep
+    versions: [{version: "1.0.0", native: {files: [src/ext/hash.cpp]}}]
+"#;
+    let images = "images:\n  - {id: c-only, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, packages: [gcc, make, libc6-dev]}\n";
+    let loaded = inputs_on(images, registry, "priorities:\n  - app\n");
+    let matrix = basefit::plan::plan(&loaded, &PlanOptions::default());
+    let cell = &matrix.cells[0];
+    assert_eq!(
+        cell.cxx_missing,
+        Some(basefit::native::Confidence::Likely),
+        "{cell:#?}"
+    );
+    let report = basefit::plan::system::system_report(&loaded, &matrix);
+    let gxx = report.images[0]
+        .missing
+        .iter()
+        .find(|m| m.package == "g++")
+        .unwrap_or_else(|| panic!("{:#?}", report.images[0]));
+    assert_eq!(gxx.strongest, basefit::native::Confidence::Likely);
+}
+
+/// `syslibs`' evidence per package is that of the newest release any image chose.
+#[test]
+fn package_evidence_is_for_the_newest_release_chosen() {
+    let registry = r#"packages:
+  - name: parser
+    versions:
+      - {version: "1.0.0", native: {libraries: [libxml2]}}
+      - {version: "2.0.0", runtime: ">=3.2", native: {libraries: [libxml2]}}
+"#;
+    let images = "images:\n\
+  - {id: old, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n\
+  - {id: new, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let loaded = inputs_on(images, registry, "priorities:\n  - parser\n");
+    let matrix = basefit::plan::plan(&loaded, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&loaded, &matrix);
+    assert_eq!(report.packages.len(), 1);
+    assert_eq!(report.packages[0].version, "2.0.0");
+}

@@ -2012,3 +2012,69 @@ fn a_budget_of_zero_is_a_usage_error() {
     assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains("--budget"), "{stderr}");
 }
+
+/// A result naming a package that appears only as a dependency (never declared) is noted as
+/// not in the registry, as a name the registry never mentions is.
+#[test]
+fn a_result_for_an_undeclared_dependency_name_is_noted() {
+    use basefit::load::diag::{Ledger, ProblemKind};
+    let d = dir();
+    let registry = write(
+        d.path(),
+        "r.yaml",
+        b"packages:\n  - name: app\n    versions: [{version: \"1.0.0\", depends: [{name: ghost, req: \"*\"}]}]\n",
+    );
+    let images = write(d.path(), "i.yaml", GOOD_IMAGES.as_bytes());
+    let results = write(
+        d.path(),
+        "res.yaml",
+        b"results:\n  - {package: ghost, image: plain, outcome: installed}\n",
+    );
+    let inputs = basefit::load::load_inputs(&basefit::load::InputPaths {
+        registry: vec![registry],
+        images: Some(images),
+        ..Default::default()
+    })
+    .unwrap();
+    let mut ledger = Ledger::default();
+    let known = basefit::load::results::Known {
+        registry: Some(&inputs.registry),
+        images: Some(&inputs.images),
+    };
+    let read = basefit::load::results::read_results(&results, &known, &mut ledger).unwrap();
+    assert_eq!(read.len(), 1);
+    assert!(
+        ledger
+            .problems
+            .iter()
+            .any(|p| p.kind == ProblemKind::UnknownPackage && p.subject == "ghost on plain"),
+        "{:#?}",
+        ledger.problems
+    );
+}
+
+/// A priority entry left out (a negative weight) does not make a later, valid entry of the
+/// same name a duplicate; and CSV rows without a rank come after the ranked ones.
+#[test]
+fn left_out_and_unranked_priority_entries_keep_their_place() {
+    use basefit::load::diag::Ledger;
+    let mut ledger = Ledger::default();
+    let list = basefit::load::priorities::read_priorities_str(
+        "p.yaml",
+        "priorities:\n  - {name: alpha, weight: -1}\n  - {name: alpha, weight: 2}\n",
+        &mut ledger,
+    )
+    .unwrap();
+    let got: Vec<(&str, f64)> = list
+        .entries
+        .iter()
+        .map(|e| (e.name.as_str(), e.weight))
+        .collect();
+    assert_eq!(got, [("alpha", 2.0)], "{:#?}", ledger.problems);
+
+    let d = dir();
+    let path = write(d.path(), "p.csv", b"rank,name\n,beta\n1,alpha\n");
+    let list = basefit::load::priorities::read_priorities(&path, &mut Ledger::default()).unwrap();
+    let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
+    assert_eq!(names, ["alpha", "beta"]);
+}

@@ -997,3 +997,66 @@ fn a_manifest_needing_an_unmapped_library_says_so() {
     let json = serde_json::to_value(&p).unwrap();
     assert_eq!(json["unmapped_libraries"][0]["library"], "libfrobnicate");
 }
+
+/// A system need of the manifest carries the strongest confidence of the entries that need
+/// it (a shipped header: likely), not the first one's (a summary's word: possible).
+#[test]
+fn a_manifest_need_is_as_strong_as_its_strongest_needer() {
+    let registry = r#"packages:
+  - name: aa-mention
+    summary: helper for zlib streams
+    versions: [{version: "1.0.0"}]
+  - name: zz-header
+    versions: [{version: "1.0.0", native: {files: [include/zlib.h]}}]
+"#;
+    let images = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let p = native_preinstall(
+        registry,
+        images,
+        "priorities:\n  - aa-mention\n  - zz-header\n",
+    );
+    let need = p
+        .system_needs
+        .iter()
+        .find(|n| n.package == "zlib1g-dev")
+        .unwrap_or_else(|| panic!("{p:#?}"));
+    assert_eq!(need.needed_by.len(), 2, "{p:#?}");
+    assert_eq!(need.confidence, Confidence::Likely, "{p:#?}");
+}
+
+/// A joint solve that moves a kept entry onto a release that certainly needs the C++ compiler
+/// a C-only image lacks leaves the candidate out as a toolchain failure.
+#[test]
+fn a_joint_move_onto_a_certain_cxx_need_leaves_the_candidate_out() {
+    let registry = r#"packages:
+  - name: anchor
+    versions:
+      - {version: "1.0.0", native: {libraries: [protobuf], files: [src/ext/codec.cc]}}
+      - {version: "2.0.0", depends: [{name: xlib, req: "^2"}]}
+  - name: cand
+    versions: [{version: "1.0.0", depends: [{name: xlib, req: "^1"}]}]
+  - name: xlib
+    versions: [{version: "1.0.0"}, {version: "2.0.0"}]
+"#;
+    let images = "images:\n  - {id: c-only, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, packages: [gcc, make, libc6-dev, libprotobuf-dev, libprotobuf32, libprotobuf-lite32]}\n";
+    let p = native_preinstall(registry, images, "priorities:\n  - anchor\n  - cand\n");
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["anchor"], "{p:#?}");
+    assert_eq!(p.left_out.len(), 1, "{p:#?}");
+    assert!(p.left_out[0].reason.contains("missing-toolchain"), "{p:#?}");
+}
+
+/// Default coverage bases: one per family and platform, so a Debian and a RHEL image on the
+/// same platform are both bases.
+#[test]
+fn default_bases_tell_families_apart_on_one_platform() {
+    let text = "images:\n\
+  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64}\n\
+  - {id: el, runtime: 3.1.5, family: rhel, platform: linux/glibc/x86_64}\n";
+    let set = read_images_str("i.yaml", text, &mut basefit::load::diag::Ledger::default()).unwrap();
+    let bases: Vec<&str> = basefit::plan::coverage::default_bases(&set.images)
+        .iter()
+        .map(|i| i.id.as_str())
+        .collect();
+    assert_eq!(bases, ["deb", "el"]);
+}

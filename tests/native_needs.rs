@@ -804,3 +804,28 @@ fn compilers_follow_packages_bases_and_build_systems() {
         "{stdout}"
     );
 }
+
+/// A `packages` list that leaves out the base's g++ but puts it back with `add` has dropped no
+/// compiler: the inherited C and C++ toolchain stays.
+#[test]
+fn add_keeps_a_compiler_package_a_packages_list_leaves_out() {
+    use basefit::load::diag::Ledger;
+    use basefit::load::images::read_images_str;
+    let text = "images:\n\
+  - {id: base, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [g++]}\n\
+  - {id: child, extends: base, packages: [curl], add: [g++]}\n\
+  - {id: quiet, extends: base, toolchain: false, remove: [g++]}\n";
+    let mut ledger = Ledger::default();
+    let set = read_images_str("i.yaml", text, &mut ledger).unwrap();
+    let child = set.images.iter().find(|i| i.id == "child").unwrap();
+    assert!(child.system_packages.contains("g++"));
+    assert_eq!((child.toolchain, child.cxx), (true, true));
+    // Its own `toolchain: false` speaks for it: no note that it inherits `true`.
+    let quiet = set.images.iter().find(|i| i.id == "quiet").unwrap();
+    assert_eq!((quiet.toolchain, quiet.cxx), (false, false));
+    assert!(
+        ledger.problems.iter().all(|p| p.subject != "quiet"),
+        "{:#?}",
+        ledger.problems
+    );
+}

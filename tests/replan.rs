@@ -1227,3 +1227,22 @@ fn a_plan_without_a_cache_gives_the_same_matrix() {
         assert_eq!(stats.solved, kept.matrix.cells.len());
     }
 }
+
+/// A release published inside `^1` that does not suit the image (it needs a newer runtime)
+/// is passed over, so the cell is reused, not solved again, and reads as a cold plan's.
+#[test]
+fn a_new_release_at_the_ceiling_that_does_not_suit_keeps_the_cell() {
+    let registry = |extra: &str| {
+        format!(
+            "packages:\n- name: app\n  versions:\n  - version: 1.0.0\n    depends: [{{name: lib, req: '^1'}}]\n- name: lib\n  versions:\n  - {{version: 1.0.0}}\n{extra}"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(""),
+        &registry("  - {version: 1.1.0, runtime: '>=4'}\n"),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    assert_eq!((stats.reused, stats.solved), (1, 0), "{stats:?}");
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+}

@@ -213,6 +213,11 @@ impl ImageColumn {
     /// assert!(planned.differences(&rebuilt).is_empty());
     /// let more = ImageColumn { packages: Some(vec!["libpq-dev".into(), "libpq5".into()]), ..planned.clone() };
     /// assert_eq!(planned.differences(&more), ["system packages: libpq-dev added here"]);
+    /// let swapped = ImageColumn { packages: Some(vec!["libpq-dev".into()]), ..planned.clone() };
+    /// assert_eq!(
+    ///     planned.differences(&swapped),
+    ///     ["system packages: libpq-dev added here, libpq5 removed here"]
+    /// );
     /// let c_only = ImageColumn { cxx: Some(false), ..planned.clone() };
     /// assert_eq!(planned.differences(&c_only), ["C++ compiler false here, true in the matrix"]);
     /// // A matrix from before the field planned every toolchain as compiling C++ too.

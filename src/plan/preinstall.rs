@@ -602,6 +602,26 @@ pub fn preinstall_text(p: &Preinstall) -> String {
 mod tests {
     use super::minimal_conflict;
 
+    /// What is already known is not solved again: a lone kept entry is the conflict without a
+    /// solve, and halving eight entries to the first takes three solves.
+    #[test]
+    fn no_solve_repeats_a_known_answer() {
+        let mut solves = 0;
+        let found = minimal_conflict(&[7u32], &mut |s: &[u32]| {
+            solves += 1;
+            s.contains(&7)
+        });
+        assert_eq!((found, solves), (vec![7], 0));
+        let mut solves = 0;
+        let kept: Vec<u32> = (0..8).collect();
+        let found = minimal_conflict(&kept, &mut |s: &[u32]| {
+            solves += 1;
+            s.contains(&0)
+        });
+        assert_eq!(found, vec![0]);
+        assert_eq!(solves, 3, "solves");
+    }
+
     /// The subset dropping one entry at a time finds, lowest priority first: the reference.
     fn by_deletion(kept: &[u32], fails: &dyn Fn(&[u32]) -> bool) -> Vec<u32> {
         let mut culprits = kept.to_vec();

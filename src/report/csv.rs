@@ -91,6 +91,9 @@ pub fn csv(m: &Matrix) -> String {
 /// assert_eq!(defuse("=SUM(A1)"), "'=SUM(A1)");
 /// assert_eq!(defuse("'-x"), "''-x");
 /// assert_eq!(defuse("plain"), "plain");
+/// // A leading tab or carriage return: spreadsheets skip it and read the formula after it.
+/// assert_eq!(defuse("\t=1+1"), "'\t=1+1");
+/// assert_eq!(defuse("\r=1+1"), "'\r=1+1");
 /// ```
 pub fn defuse(field: &str) -> Cow<'_, str> {
     if field.starts_with(['=', '+', '-', '@', '\t', '\r', '\'']) {
