@@ -1,5 +1,7 @@
 //! What `diff` counts as a changed cell, on small plans of a fictional runtime's packages.
 
+mod common;
+
 use basefit::load::{InputPaths, load_inputs};
 use basefit::plan::PlanOptions;
 use basefit::plan::matrix::{Matrix, RecordedCheck};
@@ -8,11 +10,7 @@ use basefit::verify::diff::diff;
 /// A plan of `alpha` and `beta` (one release each) on one image, for the entries `priorities`.
 fn planned(priorities: &str) -> Matrix {
     let dir = tempfile::tempdir().unwrap();
-    let write = |name: &str, text: &str| {
-        let path = dir.path().join(name);
-        std::fs::write(&path, text).unwrap();
-        path
-    };
+    let write = |name: &str, text: &str| common::write(dir.path(), name, text);
     let inputs = load_inputs(&InputPaths {
         registry: vec![write(
             "r.yaml",

@@ -1311,11 +1311,7 @@ fn the_last_of_equally_specific_failed_attempts_decides() {
 #[test]
 fn a_loader_failure_confirms_a_prebuilt_releases_risk_through_its_runtime_package() {
     let dir = tempfile::tempdir().unwrap();
-    let write = |name: &str, text: &str| {
-        let path = dir.path().join(name);
-        std::fs::write(&path, text).unwrap();
-        path
-    };
+    let write = |name: &str, text: &str| common::write(dir.path(), name, text);
     let inputs = load_inputs(&InputPaths {
         registry: vec![write(
             "r.yaml",
