@@ -829,3 +829,76 @@ fn add_keeps_a_compiler_package_a_packages_list_leaves_out() {
         ledger.problems
     );
 }
+
+/// What an install or a failure on an image without the C++ compiler tells: an install of a
+/// C build on an image declared with no compiler shows a C compiler, not the C++ one that
+/// `toolchain: true` or build-essential would claim; on a C-only image, a missing C compiler
+/// or make is another cause than the C++ compiler the plan found missing, and a missing C++
+/// compiler confirms a failure whose missing packages include it.
+#[test]
+fn installs_and_failures_tell_c_from_cxx() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("zip-c", "zlib", "src/ext/inflate.c"),
+        package("zip-cxx", "zlib", "src/ext/inflate.cpp"),
+        // libpq is declared (certain, and missing), C++ only likely (a CMake build).
+        package("pq-cxx", "libpq", "CMakeLists.txt, src/ext/query.c"),
+    );
+    let images = format!(
+        "images:\n{}{}",
+        image("bare", "debian", "    packages: [zlib1g-dev]\n"),
+        image(
+            "c-only",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["zip-c", "zip-cxx", "pq-cxx"],
+    );
+    let results = "results:
+  - {package: zip-c, image: bare, outcome: installed, version: \"1.0.0\"}
+  - {package: zip-cxx, image: bare, outcome: installed, version: \"1.0.0\"}
+  - {package: zip-cxx, image: c-only, outcome: failed, version: \"1.0.0\", log: \"/bin/sh: 1: make: not found\"}
+  - {package: pq-cxx, image: c-only, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
+";
+    let args = with_results(dir.path(), args, results);
+    let (_, json, stderr) = run(&["review", "--format", "json"], &args);
+    let v: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
+    let cell = |package: &str, image: &str| {
+        v["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["package"] == package && c["image"] == image)
+            .unwrap_or_else(|| panic!("{package} on {image}: {json}"))
+            .clone()
+    };
+    let s = cell("zip-c", "bare")["suggestion"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    assert!(
+        s.ends_with("the real image has gcc libc6-dev make, a C compiler among them; add them to its packages in the images file (not toolchain: true, which says it compiles C++ too)"),
+        "{s}"
+    );
+    let s = cell("zip-cxx", "bare")["suggestion"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    assert!(
+        s.ends_with("the real image has a C and C++ toolchain; set toolchain: true on it"),
+        "{s}"
+    );
+    let c = cell("zip-cxx", "c-only");
+    assert_eq!(c["verdict"], "agreed-failure", "{c}");
+    assert_eq!(c["cause_agrees"], false, "{c}");
+    let c = cell("pq-cxx", "c-only");
+    assert_eq!(c["predicted_cause"], "missing-system-library", "{c}");
+    assert_eq!(c["cause_agrees"], true, "{c}");
+}

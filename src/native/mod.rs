@@ -56,12 +56,13 @@ pub struct Evidence {
 /// File name endings that mean compiled native code or a native build (common practice, no
 /// source).
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
-    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".mm", ".s", ".S",
+    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".s", ".S",
 ];
-/// C++ source and header endings, Objective-C++ (`.mm`) included (common practice, no source;
-/// `.C` is left out, since on a file system that ignores case it is a C file's name). A source
+/// C++ source and header endings (common practice, no source; `.C` is left out, since on a
+/// file system that ignores case it is a C file's name, and Objective-C++'s `.mm` too: it
+/// needs an Objective-C++ compiler, which the C++ compiler package does not bring). A source
 /// build shipping one needs a C++ compiler, which a C toolchain alone does not have.
-const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx", ".mm"];
+const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx"];
 /// Fortran source endings, fixed and free form, the upper-case ones preprocessed (the suffixes
 /// gfortran compiles as Fortran; from memory). Such a source builds only with a Fortran
 /// compiler, which no C toolchain package brings.

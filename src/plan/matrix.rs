@@ -671,9 +671,7 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
     // What a certain toolchain failure lacks: any compiler, or on a C-only image the C++ one.
     let lacks = match (a.toolchain_missing, a.cxx_missing) {
         (Some(Confidence::Certain), _) => Some(("", "has no C toolchain")),
-        (_, Some(Confidence::Certain)) => {
-            Some((" from C++ sources", "has a C compiler but no C++ compiler"))
-        }
+        (_, Some(Confidence::Certain)) => Some((" as C++", "has a C compiler but no C++ compiler")),
         _ => None,
     };
     if let Some((from, has)) = lacks {

@@ -176,6 +176,20 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
     Some(expected.contains(&predicted))
 }
 
+/// On an image with a C compiler only, for a cell that needs the C++ compiler: a missing
+/// C++ compiler confirms the prediction whatever cause it named (the C++ compiler is among
+/// the packages it lacks), and a missing C compiler or `make`, which the image has, is another
+/// cause. `None` for any other cell or log, which [`agrees`] judges.
+fn c_only_agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<Option<bool>> {
+    cell.cxx_missing?;
+    match log {
+        LogCause::NoCompiler { tool } if logs::is_cxx_compiler(tool) => Some(Some(true)),
+        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => None,
+        LogCause::NoCompiler { .. } | LogCause::NoMake => Some(Some(false)),
+        _ => None,
+    }
+}
+
 /// Whether a log confirms the risk an at-risk cell was predicted with: the system packages it
 /// probably needs and the image lacks. A library or compiler the log misses confirms it when
 /// its packages are among those; missing something the plan found present, or failing for a
@@ -588,6 +602,7 @@ fn surprise_install_step(
             (0, _) => "set toolchain: true on it",
             (1, false) => "add it to its packages in the images file",
             (_, false) => "add them to its packages in the images file",
+            (1, true) => "add it to its packages in the images file and set toolchain: true",
             (_, true) => "add them to its packages in the images file and set toolchain: true",
         };
         return format!(
@@ -621,9 +636,25 @@ fn surprise_install_step(
                 "{unsure}the declaration of {image} is out of date: the real image has a C++ compiler; add {} to its packages in the images file",
                 crate::native::cxx_compiler_package(i.family)
             ),
-            _ => format!(
-                "{unsure}the declaration of {image} is out of date: the real image has a C toolchain; set toolchain: true on it"
-            ),
+            // What the predicted release's closure shows of the real image: a C compiler only,
+            // unless it certainly compiles C++.
+            _ => match cell
+                .root_version
+                .as_deref()
+                .map(|p| other_release_needs(cell, registry, images, catalog, p, budget))
+            {
+                Some(OtherRelease::Needs {
+                    toolchain: false,
+                    packages,
+                }) if !packages.is_empty() => format!(
+                    "{unsure}the declaration of {image} is out of date: the real image has {}, a C compiler among them; add {} to its packages in the images file (not toolchain: true, which says it compiles C++ too)",
+                    packages.join(" "),
+                    if packages.len() == 1 { "it" } else { "them" }
+                ),
+                _ => format!(
+                    "{unsure}the declaration of {image} is out of date: the real image has a C and C++ toolchain; set toolchain: true on it"
+                ),
+            },
         },
         _ if *standing == Standing::Admitted => format!(
             "{} is in the snapshot and suits {image}, so what the plan refused lies in its dependencies or the priority entry's requirement: `basefit explain {} {image}` names the requirement that is stricter than reality",
@@ -692,14 +723,39 @@ fn other_release_needs(
         crate::solve::Solved::Fails(_) => return OtherRelease::Unresolved,
     };
     let a = crate::native::assess(registry, catalog, image, &closure);
+    let mut packages: Vec<String> = a
+        .missing
+        .iter()
+        .filter(|(_, c)| *c == Confidence::Certain)
+        .map(|(p, _)| p.clone())
+        .collect();
+    let mut toolchain = a.toolchain_missing == Some(Confidence::Certain);
+    // An install proves a C++ compiler only when the closure certainly compiles C++: judged
+    // as on the image with a C compiler only. Otherwise it proves the C compiler, whose
+    // packages say so without the flag (which means C++ too).
+    if toolchain {
+        let c_only = crate::model::Image {
+            toolchain: true,
+            cxx: false,
+            ..image.clone()
+        };
+        let cxx = crate::native::assess(registry, catalog, &c_only, &closure).cxx_missing
+            == Some(Confidence::Certain);
+        if !cxx {
+            let whole = crate::native::toolchain_packages(image.family);
+            packages.retain(|p| !whole.contains(&p.as_str()));
+            for p in crate::native::c_toolchain_packages(image.family) {
+                if !image.system_packages.contains(*p) && !packages.iter().any(|q| q == p) {
+                    packages.push(p.to_string());
+                }
+            }
+            packages.sort();
+            toolchain = false;
+        }
+    }
     OtherRelease::Needs {
-        toolchain: a.toolchain_missing == Some(Confidence::Certain),
-        packages: a
-            .missing
-            .iter()
-            .filter(|(_, c)| *c == Confidence::Certain)
-            .map(|(p, _)| p.clone())
-            .collect(),
+        toolchain,
+        packages,
     }
 }
 
@@ -938,7 +994,9 @@ pub fn compare_within(
             attempts,
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
-                (Verdict::AgreedFailure, Some(c)) => agrees(cell.cause, c),
+                (Verdict::AgreedFailure, Some(c)) => {
+                    c_only_agrees(cell, c).unwrap_or_else(|| agrees(cell.cause, c))
+                }
                 (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
                 _ => None,
             },
