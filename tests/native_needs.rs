@@ -58,6 +58,22 @@ fn expect_explained(args: &[String], cases: &[(&str, &str, i32, &str)]) {
     }
 }
 
+/// `review --format json` on `args`: a lookup of a reviewed cell by package and image.
+fn reviewed_cells(args: &[String]) -> impl Fn(&str, &str) -> serde_json::Value {
+    let (_, json, stderr) = run(&["review", "--format", "json"], args);
+    let v: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
+    move |package: &str, image: &str| {
+        v["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["package"] == package && c["image"] == image)
+            .unwrap_or_else(|| panic!("{package} on {image}: {v}"))
+            .clone()
+    }
+}
+
 /// A release that has only a prebuilt build for linux/glibc/x86_64, declaring `libraries`.
 fn prebuilt(name: &str, libraries: &str) -> String {
     format!(
@@ -775,21 +791,11 @@ fn compilers_follow_packages_bases_and_build_systems() {
   - {package: zip-cmake, image: gxx-make, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
 ";
     let args_r = with_results(dir.path(), args.clone(), results);
-    let (_, json, stderr) = run(&["review", "--format", "json"], &args_r);
-    let v: serde_json::Value =
-        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
-    let cell = |image: &str| {
-        v["cells"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .find(|c| c["package"] == "zip-cmake" && c["image"] == image)
-            .unwrap_or_else(|| panic!("{image}: {json}"))
-            .clone()
-    };
-    assert_eq!(cell("c-only")["verdict"], "risk-confirmed", "{json}");
-    assert_eq!(cell("c-only")["cause_agrees"], false, "{json}");
-    let full = cell("gxx-make");
+    let cell = reviewed_cells(&args_r);
+    let c = cell("zip-cmake", "c-only");
+    assert_eq!(c["verdict"], "risk-confirmed", "{c}");
+    assert_eq!(c["cause_agrees"], false, "{c}");
+    let full = cell("zip-cmake", "gxx-make");
     assert_eq!(full["log_cause"]["tool"], "cc1plus", "{full}");
     let results = "results:
   - {package: zip-cmake, image: c-only, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
@@ -867,18 +873,7 @@ fn installs_and_failures_tell_c_from_cxx() {
   - {package: pq-cxx, image: c-only, outcome: failed, version: \"1.0.0\", log: \"gcc: fatal error: cannot execute 'cc1plus': execvp: No such file or directory\"}
 ";
     let args = with_results(dir.path(), args, results);
-    let (_, json, stderr) = run(&["review", "--format", "json"], &args);
-    let v: serde_json::Value =
-        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"));
-    let cell = |package: &str, image: &str| {
-        v["cells"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .find(|c| c["package"] == package && c["image"] == image)
-            .unwrap_or_else(|| panic!("{package} on {image}: {json}"))
-            .clone()
-    };
+    let cell = reviewed_cells(&args);
     let s = cell("zip-c", "bare")["suggestion"]
         .as_str()
         .unwrap()
