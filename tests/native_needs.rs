@@ -826,6 +826,21 @@ fn add_keeps_a_compiler_package_a_packages_list_leaves_out() {
     let child = set.images.iter().find(|i| i.id == "child").unwrap();
     assert!(child.system_packages.contains("g++"));
     assert_eq!((child.toolchain, child.cxx), (true, true));
+    // `toolchain: true` beside packages that give C only is noted: the flag, which means C++
+    // too, wins.
+    let text = "images:\n  - {id: flagged, runtime: 3.1.5, family: rhel, platform: linux/glibc/x86_64, toolchain: true, packages: [gcc, make]}\n";
+    let mut flagged_ledger = Ledger::default();
+    let flagged = read_images_str("i.yaml", text, &mut flagged_ledger).unwrap();
+    assert_eq!(
+        (flagged.images[0].toolchain, flagged.images[0].cxx),
+        (true, true)
+    );
+    assert!(
+        flagged_ledger.problems.iter().any(|p| p.subject == "flagged"
+            && p.detail.contains("says toolchain: true, which means a C++ compiler too, but its compiler packages (gcc and make) give C only, without gcc-c++")),
+        "{:#?}",
+        flagged_ledger.problems
+    );
     // Its own `toolchain: false` speaks for it: no note that it inherits `true`.
     let quiet = set.images.iter().find(|i| i.id == "quiet").unwrap();
     assert_eq!((quiet.toolchain, quiet.cxx), (false, false));

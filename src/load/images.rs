@@ -306,13 +306,28 @@ fn toolchain_contradiction(
     image: &Image,
     base: Option<&Image>,
 ) -> Option<At<String>> {
+    let carried: Vec<&str> = crate::native::compiler_packages(image.family)
+        .into_iter()
+        .filter(|p| image.system_packages.contains(*p))
+        .collect();
+    // The flag says C++ too, while the packages give a C compiler alone: an images file
+    // written before basefit told C from C++ may say so of a C-only image, which would then
+    // be planned to build C++.
+    if let Some(At { value: true, line }) = d.toolchain
+        && crate::native::compilers_carried(image.family, &image.system_packages) == (true, false)
+    {
+        return Some(At::new(
+            format!(
+                "says toolchain: true, which means a C++ compiler too, but its compiler packages ({}) give C only, without {}; planned with C++ by the flag (drop the flag if the image has no C++ compiler)",
+                and_list(&carried),
+                crate::native::cxx_compiler_package(image.family)
+            ),
+            line,
+        ));
+    }
     if let Some(At { value: false, line }) = d.toolchain
         && image.toolchain
     {
-        let carried: Vec<&str> = crate::native::compiler_packages(image.family)
-            .into_iter()
-            .filter(|p| image.system_packages.contains(*p))
-            .collect();
         return Some(At::new(
             format!(
                 "says toolchain: false but carries {}; planned as having {}",
