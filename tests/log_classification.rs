@@ -343,6 +343,26 @@ fn gcc_without_its_compiler_proper() {
     assert!(basefit::verify::logs::is_cxx_compiler("cc1plus"));
 }
 
+/// GNU make runs a recipe of one simple command without a shell, so a missing compiler is
+/// make's own message: made for real with the C++ compiler off the PATH.
+#[test]
+fn make_without_the_recipes_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("Makefile"), "all:\n\tg++ -c x.cpp\n").unwrap();
+    std::fs::write(dir.path().join("x.cpp"), "int main() { return 0; }\n").unwrap();
+    let empty = dir.path().join("empty-bin");
+    std::fs::create_dir(&empty).unwrap();
+    let Some(out) = run_with_path("/usr/bin/make", &[], dir.path(), empty.to_str()) else {
+        return skip(
+            "make_without_the_recipes_compiler",
+            "/usr/bin/make is missing",
+        );
+    };
+    let log = stderr(&out);
+    // source: GNU make on this machine, failing to find g++
+    assert_eq!(causes(&classify(&log)), [&compiler("g++")], "{log}");
+}
+
 #[test]
 fn bash_reports_a_killed_job() {
     let dir = tempfile::tempdir().unwrap();

@@ -740,6 +740,17 @@ fn missing_program(t: &str) -> Option<&str> {
             return quoted_or_word(rest.rsplit(": ").next().unwrap_or(rest));
         }
     }
+    // GNU make running a recipe without a shell: `make: g++: No such file or directory`
+    // (make 4.3, made for real on this project's machine), `make[2]: g++: Command not found`
+    // (older makes, from memory).
+    if let Some((tool, rest)) = t.split_once(": ")
+        && matches!(tool.split('[').next().unwrap_or(tool), "make" | "gmake")
+        && let Some(program) = rest
+            .strip_suffix(": No such file or directory")
+            .or_else(|| rest.strip_suffix(": Command not found"))
+    {
+        return quoted_or_word(program);
+    }
     // zsh.
     if let Some(p) = t.find("command not found: ") {
         return quoted_or_word(&t[p + "command not found: ".len()..]);
