@@ -263,6 +263,16 @@ impl<W: Write> Write for Counted<W> {
     }
 }
 
+/// The pronoun for `n` things named just before: `it` for one, `them` otherwise.
+///
+/// ```
+/// assert_eq!(basefit::report::it_or_them(1), "it");
+/// assert_eq!(basefit::report::it_or_them(3), "them");
+/// ```
+pub fn it_or_them(n: usize) -> &'static str {
+    if n == 1 { "it" } else { "them" }
+}
+
 /// Pretty JSON with a trailing newline.
 pub fn to_json<T: Serialize>(value: &T) -> String {
     let mut out = Vec::new();

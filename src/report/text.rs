@@ -623,7 +623,7 @@ fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
         out.push(format!(
             "the entry as written does not ask for {} (its requirement or pre-release setting rules {} out)",
             h.not_asked_for.join(", "),
-            if h.not_asked_for.len() == 1 { "it" } else { "them" }
+            super::it_or_them(h.not_asked_for.len())
         ));
     }
     out.push(match (undecided.is_empty(), only) {

@@ -355,7 +355,7 @@ pub(crate) fn unusable(
         let shown = runtime_requirements(registry, releases, &impossible);
         parts.push(format!(
             "{n} {versions} {need} a runtime no version can be ({shown}): no image can install {}",
-            if n == 1 { "it" } else { "them" }
+            crate::report::it_or_them(n)
         ));
     }
     for (reason, idx) in &tally {

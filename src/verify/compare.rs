@@ -149,10 +149,25 @@ impl Review {
     }
 }
 
-/// Which predicted cause classes a log cause confirms.
-fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
-    let predicted = predicted?;
+/// Whether a log cause confirms the cause `cell` was predicted to fail with.
+fn agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
+    let predicted = cell.cause?;
     let expected: &[Cause] = match log {
+        // On an image with a C compiler only, for a cell that needs the C++ compiler: a
+        // missing C++ compiler confirms the prediction whatever cause it named (the C++
+        // compiler is among the packages it lacks), and a missing C compiler or `make`, which
+        // the image has, is another cause.
+        LogCause::NoCompiler { tool }
+            if cell.cxx_missing.is_some() && logs::is_cxx_compiler(tool) =>
+        {
+            return Some(true);
+        }
+        LogCause::NoCompiler { tool }
+            if cell.cxx_missing.is_some() && !logs::is_fortran_compiler(tool) =>
+        {
+            return Some(false);
+        }
+        LogCause::NoMake if cell.cxx_missing.is_some() => return Some(false),
         LogCause::MissingHeader { .. }
         | LogCause::MissingLibrary { .. }
         | LogCause::MissingPkgConfig { .. }
@@ -174,20 +189,6 @@ fn agrees(predicted: Option<Cause>, log: &LogCause) -> Option<bool> {
         _ => return None,
     };
     Some(expected.contains(&predicted))
-}
-
-/// On an image with a C compiler only, for a cell that needs the C++ compiler: a missing
-/// C++ compiler confirms the prediction whatever cause it named (the C++ compiler is among
-/// the packages it lacks), and a missing C compiler or `make`, which the image has, is another
-/// cause. `None` for any other cell or log, which [`agrees`] judges.
-fn c_only_agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<Option<bool>> {
-    cell.cxx_missing?;
-    match log {
-        LogCause::NoCompiler { tool } if logs::is_cxx_compiler(tool) => Some(Some(true)),
-        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => None,
-        LogCause::NoCompiler { .. } | LogCause::NoMake => Some(Some(false)),
-        _ => None,
-    }
 }
 
 /// Whether a log confirms the risk an at-risk cell was predicted with: the system packages it
@@ -598,12 +599,17 @@ fn surprise_install_step(
         } else {
             packages.join(" ")
         };
-        let step = match (packages.len(), toolchain) {
-            (0, _) => "set toolchain: true on it",
-            (1, false) => "add it to its packages in the images file",
-            (_, false) => "add them to its packages in the images file",
-            (1, true) => "add it to its packages in the images file and set toolchain: true",
-            (_, true) => "add them to its packages in the images file and set toolchain: true",
+        let step = match packages.len() {
+            0 => "set toolchain: true on it".to_string(),
+            n => format!(
+                "add {} to its packages in the images file{}",
+                crate::report::it_or_them(n),
+                if toolchain {
+                    " and set toolchain: true"
+                } else {
+                    ""
+                }
+            ),
         };
         return format!(
             "the release that installed, {i}, is not the predicted {p}, but it certainly needs what {image} lacks too, so the declaration of {image} is out of date: the real image has {has}; {step}"
@@ -626,7 +632,7 @@ fn surprise_install_step(
                 format!(
                     "{unsure}the declaration of {image} is out of date: the real image has {}; add {} to its packages in the images file",
                     absent.join(" "),
-                    if absent.len() == 1 { "it" } else { "them" }
+                    crate::report::it_or_them(absent.len())
                 )
             }
         }
@@ -649,7 +655,7 @@ fn surprise_install_step(
                 }) if !packages.is_empty() => format!(
                     "{unsure}the declaration of {image} is out of date: the real image has {}, a C compiler among them; add {} to its packages in the images file (not toolchain: true, which says it compiles C++ too)",
                     packages.join(" "),
-                    if packages.len() == 1 { "it" } else { "them" }
+                    crate::report::it_or_them(packages.len())
                 ),
                 _ => format!(
                     "{unsure}the declaration of {image} is out of date: the real image has a C and C++ toolchain; set toolchain: true on it"
@@ -994,9 +1000,7 @@ pub fn compare_within(
             attempts,
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
-                (Verdict::AgreedFailure, Some(c)) => {
-                    c_only_agrees(cell, c).unwrap_or_else(|| agrees(cell.cause, c))
-                }
+                (Verdict::AgreedFailure, Some(c)) => agrees(cell, c),
                 (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
                 _ => None,
             },
