@@ -533,6 +533,11 @@ fn sample_lines_for_each_cause() {
             "No CMAKE_Fortran_COMPILER could be found.",
             compiler("gfortran"),
         ),
+        ("No CMAKE_OBJC_COMPILER could be found.", compiler("cc1obj")),
+        (
+            "No CMAKE_OBJCXX_COMPILER could be found.",
+            compiler("cc1objplus"),
+        ),
         // source: from memory, zsh, Go's cgo and rustc
         ("zsh: command not found: clang", compiler("clang")),
         (

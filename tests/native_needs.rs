@@ -912,3 +912,160 @@ fn installs_and_failures_tell_c_from_cxx() {
     assert_eq!(c["predicted_cause"], "missing-system-library", "{c}");
     assert_eq!(c["cause_agrees"], true, "{c}");
 }
+
+/// Objective-C (`.m`) and Objective-C++ (`.mm`) sources build only with compilers that no C or
+/// C++ toolchain package brings: the gcc driver runs `cc1obj` and `cc1objplus` for them, and
+/// on this project's machine, which has gcc and g++ but not gobjc, `gcc -c x.m` fails for
+/// want of `cc1obj` (the test makes those messages for real when gcc lacks them, and skips
+/// that part with a message otherwise). Before basefit knew them, an image with
+/// `build-essential` was predicted to build both. Debian's package names are checked with
+/// `apt-cache depends` where apt knows them (Debian's archive: gobjc -> gobjc-12 ->
+/// libobjc-12-dev -> libobjc4; gobjc++-12 -> gobjc-12 and g++-12); rhel's are from memory.
+#[test]
+fn objective_c_sources_need_the_objective_c_compilers() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package(
+            "glyph-view",
+            "",
+            "src/ext/view.m, src/ext/draw.m, src/ext/glue.c"
+        ),
+        package("glyph-bridge", "", "src/ext/bridge.mm"),
+    );
+    let images = format!(
+        "images:\n{}{}{}{}",
+        image("d", "debian", "    packages: [build-essential]\n"),
+        image(
+            "d-objc",
+            "debian",
+            "    packages: [build-essential, gobjc, gobjc++]\n"
+        ),
+        image("el", "rhel", "    packages: [gcc, gcc-c++, make]\n"),
+        image("al", "alpine", "    packages: [build-base]\n"),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["glyph-view", "glyph-bridge"],
+    );
+    expect_explained(
+        &args,
+        &[
+            (
+                "glyph-view",
+                "d",
+                1,
+                "ships Objective-C source src/ext/view.m and 1 more",
+            ),
+            ("glyph-view", "d", 1, "missing system packages: gobjc\n"),
+            (
+                "glyph-bridge",
+                "d",
+                1,
+                "ships Objective-C++ source src/ext/bridge.mm",
+            ),
+            ("glyph-bridge", "d", 1, "missing system packages: gobjc++\n"),
+            ("glyph-view", "el", 1, "missing system packages: gcc-objc\n"),
+            (
+                "glyph-bridge",
+                "el",
+                1,
+                "missing system packages: gcc-objc++\n",
+            ),
+            ("glyph-view", "d-objc", 0, ""),
+            ("glyph-bridge", "d-objc", 0, ""),
+        ],
+    );
+    // No Alpine package for Objective-C++ is known: the cell is not called installing.
+    let (code, stdout, _) = run(&["explain", "glyph-bridge", "al"], &args);
+    assert_ne!(code, 0, "{stdout}");
+    assert!(stdout.contains("gobjc++"), "{stdout}");
+
+    // The gcc driver's own words, in this machine's locale, for each source.
+    let src = dir.path().join("src");
+    std::fs::create_dir_all(&src).unwrap();
+    let mut logs: Vec<(&str, String)> = Vec::new();
+    for (package, file, proper) in [
+        ("glyph-view", "view.m", "cc1obj"),
+        ("glyph-bridge", "bridge.mm", "cc1objplus"),
+    ] {
+        std::fs::write(src.join(file), "int main(void) { return 0; }\n").unwrap();
+        let out = std::process::Command::new("gcc")
+            .args(["-c", file])
+            .current_dir(&src)
+            .output();
+        match out {
+            Ok(o) if !o.status.success() => {
+                let text = String::from_utf8_lossy(&o.stderr).trim().to_string();
+                assert!(text.contains(proper), "gcc -c {file}: {text}");
+                logs.push((package, text));
+            }
+            _ => eprintln!("skipped gcc -c {file}: gcc is missing or has {proper} here"),
+        }
+    }
+    if !logs.is_empty() {
+        let results: String = logs
+            .iter()
+            .map(|(package, log)| {
+                format!(
+                    "  - package: {package}\n    image: d\n    outcome: failed\n    log: {log:?}\n"
+                )
+            })
+            .collect();
+        let args = with_results(dir.path(), args.clone(), &format!("results:\n{results}"));
+        let (_, stdout, stderr) = run(&["review"], &args);
+        for (package, _) in &logs {
+            let add = if *package == "glyph-view" {
+                "add gobjc to d (missing Objective-C compiler cc1obj)"
+            } else {
+                "add gobjc++ to d (missing Objective-C++ compiler cc1objplus)"
+            };
+            assert!(stdout.contains(add), "{stdout}{stderr}");
+        }
+        assert!(!stdout.contains("C toolchain"), "{stdout}");
+        assert!(!stdout.contains("SURPRISE"), "{stdout}");
+        let cell = reviewed_cells(&args);
+        // Shipped sources make the need likely, not certain: the log confirms the risk.
+        for (package, _) in &logs {
+            let c = cell(package, "d");
+            assert_eq!(c["verdict"], "risk-confirmed", "{c}");
+        }
+    }
+
+    // Debian's chain, where apt knows it.
+    let depends = |package: &str| -> Option<String> {
+        let out = std::process::Command::new("apt-cache")
+            .args(["depends", package])
+            .output()
+            .ok()?;
+        let text = String::from_utf8_lossy(&out.stdout).to_string();
+        (out.status.success() && text.contains("Depends:")).then_some(text)
+    };
+    match depends("gobjc") {
+        None => eprintln!("skipped the Debian chain: apt-cache knows no gobjc here"),
+        Some(gobjc) => {
+            let versioned = gobjc
+                .lines()
+                .filter_map(|l| l.trim().strip_prefix("Depends: "))
+                .find(|d| d.starts_with("gobjc-"))
+                .unwrap_or_else(|| panic!("gobjc depends on no gobjc-N: {gobjc}"))
+                .to_string();
+            let compiler = depends(&versioned).unwrap();
+            let dev = compiler
+                .lines()
+                .filter_map(|l| l.trim().strip_prefix("Depends: "))
+                .find(|d| d.starts_with("libobjc-"))
+                .unwrap_or_else(|| panic!("{versioned} depends on no libobjc-N-dev: {compiler}"))
+                .to_string();
+            assert!(
+                depends(&dev).unwrap().contains("Depends: libobjc4"),
+                "{dev}"
+            );
+            let plus = depends(&format!("gobjc++-{}", &versioned["gobjc-".len()..])).unwrap();
+            assert!(plus.contains(&format!("Depends: {versioned}")), "{plus}");
+            assert!(plus.contains("Depends: g++-"), "{plus}");
+        }
+    }
+}

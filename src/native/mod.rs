@@ -56,22 +56,85 @@ pub struct Evidence {
 /// File name endings that mean compiled native code or a native build (common practice, no
 /// source).
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
-    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".s", ".S",
+    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".mm", ".s", ".S",
 ];
 /// C++ source and header endings (common practice, no source; `.C` is left out, since on a
 /// file system that ignores case it is a C file's name, and Objective-C++'s `.mm` too: it
 /// needs an Objective-C++ compiler, which the C++ compiler package does not bring). A source
 /// build shipping one needs a C++ compiler, which a C toolchain alone does not have.
 const CXX_SOURCE_ENDINGS: &[&str] = &[".cc", ".cpp", ".cxx", ".c++", ".hh", ".hpp", ".hxx"];
-/// Fortran source endings, fixed and free form, the upper-case ones preprocessed (the suffixes
-/// gfortran compiles as Fortran; from memory). Such a source builds only with a Fortran
-/// compiler, which no C toolchain package brings.
-const FORTRAN_SOURCE_ENDINGS: &[&str] = &[
-    ".f", ".for", ".ftn", ".f77", ".f90", ".f95", ".f03", ".f08", ".F", ".FOR", ".F77", ".F90",
-    ".F95", ".F03", ".F08",
+/// A compiler that no C toolchain package brings, kept in the catalog as a library: a source
+/// build shipping a source of its language needs its package as it needs a library's.
+#[derive(Debug)]
+pub struct CatalogCompiler {
+    /// The language, as explanations name it.
+    pub language: &'static str,
+    /// The catalog entry: the compiler's package, and the runtime a build links.
+    pub library: &'static str,
+    /// Source file endings of the language.
+    pub endings: &'static [&'static str],
+    /// The program a build runs for it, when it has one of its own (a shell's "not found").
+    pub driver: Option<&'static str>,
+    /// The compiler proper the gcc driver runs for such a source: `gcc: fatal error: cannot
+    /// execute 'cc1obj'` names it when the package is not installed.
+    pub proper: &'static str,
+}
+
+/// The compilers the catalog holds as libraries.
+///
+/// - Fortran: the suffixes gfortran compiles as Fortran, fixed and free form, the upper-case
+///   ones preprocessed (from memory); its compiler proper is `f951`.
+/// - Objective-C (`.m`) and Objective-C++ (`.mm`): the gcc driver runs `cc1obj` and
+///   `cc1objplus` for them (made for real on this project's machine, which has neither:
+///   `gcc -c x.m` says "cannot execute 'cc1obj'"), which ship in `gobjc` and `gobjc++` on
+///   Debian, not in `gcc` or `g++`.
+///
+/// ```
+/// use basefit::native::{CATALOG_COMPILERS, compiler_of_source};
+/// assert_eq!(compiler_of_source("src/ext/view.m").unwrap().library, "gobjc");
+/// assert_eq!(compiler_of_source("src/ext/solve.F90").unwrap().language, "Fortran");
+/// assert!(compiler_of_source("src/ext/glue.c").is_none());
+/// assert_eq!(CATALOG_COMPILERS.len(), 3);
+/// ```
+pub const CATALOG_COMPILERS: &[CatalogCompiler] = &[
+    CatalogCompiler {
+        language: "Fortran",
+        library: "gfortran",
+        endings: &[
+            ".f", ".for", ".ftn", ".f77", ".f90", ".f95", ".f03", ".f08", ".F", ".FOR", ".F77",
+            ".F90", ".F95", ".F03", ".F08",
+        ],
+        driver: Some("gfortran"),
+        proper: "f951",
+    },
+    CatalogCompiler {
+        language: "Objective-C",
+        library: "gobjc",
+        endings: &[".m"],
+        driver: None,
+        proper: "cc1obj",
+    },
+    CatalogCompiler {
+        language: "Objective-C++",
+        library: "gobjc++",
+        endings: &[".mm"],
+        driver: None,
+        proper: "cc1objplus",
+    },
 ];
-/// The catalog entry a Fortran source needs: the compiler, and the runtime a build links.
-pub const FORTRAN_LIBRARY: &str = "gfortran";
+
+/// The catalog compiler a source file (a path) needs, if its language has one.
+pub fn compiler_of_source(path: &str) -> Option<&'static CatalogCompiler> {
+    compiler_slot(path).map(|i| &CATALOG_COMPILERS[i])
+}
+
+fn compiler_slot(path: &str) -> Option<usize> {
+    let base = path.rsplit('/').next().unwrap_or(path);
+    CATALOG_COMPILERS
+        .iter()
+        .position(|c| c.endings.iter().any(|e| base.ends_with(e)))
+}
+
 const NATIVE_BUILD_FILES: &[&str] = &[
     "Makefile",
     "makefile",
@@ -108,11 +171,13 @@ pub fn release_evidence(
         }
         let mut native_files = 0usize;
         let mut first_native: Option<&str> = None;
-        let mut fortran: Vec<&str> = Vec::new();
+        // Per catalog compiler, in table order: its first source and how many there are.
+        let mut compiled: Vec<Option<(&str, usize)>> = vec![None; CATALOG_COMPILERS.len()];
         for f in &hints.files {
             let base = f.rsplit('/').next().unwrap_or(f);
-            if FORTRAN_SOURCE_ENDINGS.iter().any(|e| base.ends_with(e)) {
-                fortran.push(f);
+            if let Some(slot) = compiler_slot(f) {
+                let seen = compiled[slot].get_or_insert((f, 0));
+                seen.1 += 1;
             }
             if NATIVE_SOURCE_ENDINGS.iter().any(|e| base.ends_with(e))
                 || NATIVE_BUILD_FILES.contains(&base)
@@ -143,18 +208,22 @@ pub fn release_evidence(
                 }
             }
         }
-        if let Some(first) = fortran.first() {
+        for (compiler, (first, count)) in CATALOG_COMPILERS
+            .iter()
+            .zip(&compiled)
+            .filter_map(|(c, seen)| Some((c, (*seen)?)))
+        {
             let id = catalog
-                .by_declared_name(FORTRAN_LIBRARY)
-                .map_or_else(|| FORTRAN_LIBRARY.to_string(), |l| l.id.clone());
-            let more = match fortran.len() {
+                .by_declared_name(compiler.library)
+                .map_or_else(|| compiler.library.to_string(), |l| l.id.clone());
+            let more = match count {
                 1 => String::new(),
                 n => format!(" and {} more", n - 1),
             };
             out.push(Evidence {
                 confidence: Confidence::Likely,
                 library: Some(id),
-                detail: format!("ships Fortran source {first}{more}"),
+                detail: format!("ships {} source {first}{more}", compiler.language),
             });
         }
         if let Some(first) = first_native {
@@ -254,10 +323,10 @@ fn cxx_need(
     // A `.h` header is C's and C++'s alike: it tells no language.
     let sources_known = files.iter().any(|f| {
         let b = base(f);
-        NATIVE_SOURCE_ENDINGS
-            .iter()
-            .chain(FORTRAN_SOURCE_ENDINGS)
-            .any(|e| *e != ".h" && b.ends_with(e))
+        compiler_of_source(&b).is_some()
+            || NATIVE_SOURCE_ENDINGS
+                .iter()
+                .any(|e| *e != ".h" && b.ends_with(e))
     });
     (!sources_known).then_some(Confidence::Possible)
 }

@@ -163,7 +163,7 @@ fn agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
             return Some(true);
         }
         LogCause::NoCompiler { tool }
-            if cell.cxx_missing.is_some() && !logs::is_fortran_compiler(tool) =>
+            if cell.cxx_missing.is_some() && logs::catalog_compiler(tool).is_none() =>
         {
             return Some(false);
         }
@@ -172,9 +172,9 @@ fn agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
         | LogCause::MissingLibrary { .. }
         | LogCause::MissingPkgConfig { .. }
         | LogCause::MissingSharedObject { .. } => &[Cause::MissingSystemLibrary],
-        // A Fortran compiler is a catalog entry (the plan names its package as a library
-        // need), and an image lacking it may lack the C toolchain as well.
-        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
+        // A Fortran or Objective-C compiler is a catalog entry (the plan names its package as
+        // a library need), and an image lacking it may lack the C toolchain as well.
+        LogCause::NoCompiler { tool } if logs::catalog_compiler(tool).is_some() => {
             &[Cause::MissingSystemLibrary, Cause::MissingToolchain]
         }
         LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
@@ -278,8 +278,8 @@ pub fn library_of<'c>(
         LogCause::MissingSharedObject { soname } => {
             catalog.by_link(logs::link_name_of_shared_object(soname)?)
         }
-        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => {
-            catalog.by_declared_name(crate::native::FORTRAN_LIBRARY)
+        LogCause::NoCompiler { tool } => {
+            catalog.by_declared_name(logs::catalog_compiler(tool)?.library)
         }
         _ => None,
     }
@@ -303,7 +303,10 @@ fn suggest(
             LogCause::MissingLibrary { link } => format!("library -l{link}"),
             LogCause::MissingPkgConfig { module } => format!("pkg-config module {module}"),
             LogCause::MissingSharedObject { soname } => format!("shared object {soname}"),
-            LogCause::NoCompiler { tool } => format!("Fortran compiler {tool}"),
+            LogCause::NoCompiler { tool } => match logs::catalog_compiler(tool) {
+                Some(c) => format!("{} compiler {tool}", c.language),
+                None => format!("compiler {tool}"),
+            },
             _ => String::new(),
         };
         let Some(lib) = library_of(catalog, cause) else {
@@ -389,7 +392,7 @@ fn suggest(
         | LogCause::MissingLibrary { .. }
         | LogCause::MissingPkgConfig { .. }
         | LogCause::MissingSharedObject { .. } => add_package(),
-        LogCause::NoCompiler { tool } if logs::is_fortran_compiler(tool) => add_package(),
+        LogCause::NoCompiler { tool } if logs::catalog_compiler(tool).is_some() => add_package(),
         LogCause::NoCompiler { tool }
             if logs::is_cxx_compiler(tool) && image.toolchain && !image.cxx =>
         {

@@ -822,17 +822,22 @@ pub fn is_cxx_compiler(tool: &str) -> bool {
     base.ends_with("++") || base == "cc1plus"
 }
 
-/// Whether a compiler a log could not find is a Fortran one (`gfortran`, `gfortran-12`,
-/// `x86_64-linux-gnu-gfortran`): no C toolchain package brings it.
+/// The compiler of the catalog (see [`crate::native::CATALOG_COMPILERS`]) a log could not find,
+/// by its own program (`gfortran`, `gfortran-12`, `x86_64-linux-gnu-gfortran`) or by the
+/// compiler proper the gcc driver could not run (`cc1obj`): no C toolchain package brings it.
 ///
 /// ```
-/// use basefit::verify::logs::is_fortran_compiler;
-/// assert!(is_fortran_compiler("/usr/bin/x86_64-linux-gnu-gfortran-12"));
-/// assert!(!is_fortran_compiler("gcc"));
+/// use basefit::verify::logs::catalog_compiler;
+/// assert_eq!(catalog_compiler("/usr/bin/x86_64-linux-gnu-gfortran-12").unwrap().library, "gfortran");
+/// assert_eq!(catalog_compiler("cc1objplus").unwrap().language, "Objective-C++");
+/// assert!(catalog_compiler("gcc").is_none());
 /// ```
-pub fn is_fortran_compiler(tool: &str) -> bool {
+pub fn catalog_compiler(tool: &str) -> Option<&'static crate::native::CatalogCompiler> {
     let base = tool.rsplit(['/', '\\']).next().unwrap_or(tool);
-    without_version(base).ends_with("gfortran")
+    let base = without_version(base);
+    crate::native::CATALOG_COMPILERS
+        .iter()
+        .find(|c| c.driver.is_some_and(|d| base.ends_with(d)) || base == c.proper)
 }
 
 fn program_kind(name: &str) -> Option<Program> {
@@ -865,9 +870,12 @@ fn without_version(base: &str) -> &str {
 
 /// Lowercased phrases from build systems that name no program, with the tool they stand for.
 /// C++ comes first: its phrases would otherwise read as C ones in a looser list.
-const COMPILER_PHRASES: [(&str, &str); 6] = [
+/// CMake's Objective-C phrases are from memory.
+const COMPILER_PHRASES: [(&str, &str); 8] = [
     ("c++ compiler cannot create executables", "c++"),
     ("no cmake_fortran_compiler could be found", "gfortran"),
+    ("no cmake_objc_compiler could be found", "cc1obj"),
+    ("no cmake_objcxx_compiler could be found", "cc1objplus"),
     ("c compiler cannot create executables", "cc"),
     ("no acceptable c compiler found", "cc"),
     ("no cmake_cxx_compiler could be found", "c++"),
@@ -894,9 +902,11 @@ fn missing_compiler_proper(lower: &str) -> Option<&'static str> {
         .next()?;
     match name {
         "cc1plus" => Some("cc1plus"),
-        "f951" => Some("gfortran"),
         "cc1" => Some("cc"),
-        _ => None,
+        _ => crate::native::CATALOG_COMPILERS
+            .iter()
+            .find(|c| c.proper == name)
+            .map(|c| c.driver.unwrap_or(c.proper)),
     }
 }
 
