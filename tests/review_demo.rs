@@ -239,12 +239,13 @@ fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
     let cases = [
         // demo-data/registry.yaml: wattle-core 2.2.1 declares runtime >=3.1 and deb-2.4 runs
         // 2.4.9 (matrices/demo-images.yaml), so the drift proves one of the two wrong; the
-        // snapshot holds 2.2.1 and is not the one to blame.
+        // snapshot holds 2.2.1 and is not the one to blame. It counts as a surprise, not a
+        // drift: every other prediction for the image may be wrong with it.
         (
             "wattle-core",
             "deb-2.4",
             "2.2.1",
-            Verdict::Drift,
+            Verdict::SurpriseVersion,
             vec![
                 "2.2.1 is in the snapshot but declares runtime >=3.1, which deb-2.4's runtime 2.4.9 does not meet: the requirement or the image declaration is wrong",
             ],
@@ -306,7 +307,9 @@ fn advice_on_an_installed_version_reads_what_the_snapshot_holds_of_it() {
             "wattle-core",
             "deb-2.4",
             "2.2.1+x",
-            Verdict::Drift,
+            // A release the image's runtime refuses installed: the requirement or the image
+            // declaration is wrong, a surprise that a gate must not pass as a drift.
+            Verdict::SurpriseVersion,
             vec!["2.2.1+x (the snapshot's 2.2.1) is in the snapshot but declares runtime >=3.1"],
             "not in the registry snapshot",
         ),
@@ -421,7 +424,8 @@ fn rendered_and_json_reviews_carry_the_same_advice() {
                 "--results",
                 results.to_str().unwrap(),
             ]));
-        assert_eq!(code, 0, "{command}: {err}");
+        // `review` exits 1 on the surprise (above `--max-surprises`, default 0).
+        assert_eq!(code, i32::from(command == "review"), "{command}: {err}");
         assert!(
             out.contains(want) && !out.contains("snapshot may be older"),
             "{command}: {out}"
@@ -1337,4 +1341,67 @@ fn a_loader_failure_confirms_a_prebuilt_releases_risk_through_its_runtime_packag
     let c = cell(&review, "pxml", "deb");
     assert_eq!(c.verdict, Verdict::RiskConfirmed, "{c:?}");
     assert_eq!(c.cause_agrees, Some(true), "{c:?}");
+}
+
+/// An install of a release the image cannot take, where another release was predicted to
+/// install, proves the metadata or the image declaration wrong, whether the image's runtime
+/// or its platform refuses it: a surprise that makes `review` exit 1, not a drift a gate lets
+/// through (found by an end-to-end review, where the same evidence on a cell predicted to
+/// fail was a surprise). A yanked release installed stays a drift: a pin can choose it.
+#[test]
+fn an_install_of_a_release_the_image_refuses_is_a_surprise() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = common::write(
+        dir.path(),
+        "registry.yaml",
+        "packages:
+  - name: cindergate
+    versions:
+      - {version: \"1.0.0\"}
+      - {version: \"1.1.0\", builds: {source: false, prebuilt: [linux/musl/x86_64]}}
+      - {version: \"1.2.0\", runtime: \">=3.0\"}
+      - {version: \"1.3.0\", yanked: true}
+",
+    );
+    let images = common::write(
+        dir.path(),
+        "images.yaml",
+        "images:
+  - {id: g2, runtime: 2.0.0, family: debian, platform: linux/glibc/x86_64}
+",
+    );
+    let priorities = common::write(
+        dir.path(),
+        "priorities.yaml",
+        "priorities:\n  - cindergate\n",
+    );
+    for (version, verdict, code) in [
+        ("1.1.0", "surprise-version", 1),
+        ("1.2.0", "surprise-version", 1),
+        ("1.3.0", "drift", 0),
+    ] {
+        let results = common::write(
+            dir.path(),
+            "results.yaml",
+            format!(
+                "results:\n  - {{package: cindergate, image: g2, outcome: installed, version: \"{version}\"}}\n"
+            ),
+        );
+        let (got, out, err) = common::run_basefit([
+            "review",
+            "--registry",
+            registry.to_str().unwrap(),
+            "--images",
+            images.to_str().unwrap(),
+            "--priorities",
+            priorities.to_str().unwrap(),
+            "--results",
+            results.to_str().unwrap(),
+        ]);
+        assert_eq!(got, code, "{version}: {out}{err}");
+        assert!(
+            out.contains(&format!("cindergate on g2: {verdict} (predicted installs")),
+            "{version}: {out}"
+        );
+    }
 }

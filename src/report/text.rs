@@ -697,6 +697,9 @@ pub fn review_text(r: &crate::verify::Review) -> String {
     for cell in r.cells.iter().filter(|c| c.verdict.is_surprise()) {
         let key = match (&cell.log_cause, cell.verdict) {
             (_, Verdict::SurpriseInstall) => "installed although predicted to fail".to_string(),
+            (_, Verdict::SurpriseVersion) => {
+                "installed a release the image cannot take, by the snapshot".to_string()
+            }
             (Some(lc), _) => lc.label().to_string(),
             (None, _) if cell.log_unread.is_some() && cell.log_inline_lines > 0 => {
                 "failed, log file could not be read, no known cause in the record's `log` text"

@@ -23,6 +23,11 @@ pub enum Verdict {
     SurpriseInstall,
     /// Installed, but not the version predicted.
     Drift,
+    /// Installed a release the snapshot says the image cannot take (its runtime requirement,
+    /// or no build for the image's platform) where another was predicted to install: the
+    /// metadata or the image declaration is wrong, and with it perhaps every prediction for
+    /// the image, so it counts as a surprise, not as a drift.
+    SurpriseVersion,
     /// Attempts disagree, or the failure looks transient (network, timeout).
     Flaky,
     /// The prediction was undecided (solver budget), so nothing can be compared.
@@ -38,13 +43,17 @@ impl Verdict {
             Verdict::SurpriseFailure => "surprise-failure",
             Verdict::SurpriseInstall => "surprise-install",
             Verdict::Drift => "drift",
+            Verdict::SurpriseVersion => "surprise-version",
             Verdict::Flaky => "flaky",
             Verdict::Undecided => "undecided",
         }
     }
 
     pub fn is_surprise(self) -> bool {
-        matches!(self, Verdict::SurpriseFailure | Verdict::SurpriseInstall)
+        matches!(
+            self,
+            Verdict::SurpriseFailure | Verdict::SurpriseInstall | Verdict::SurpriseVersion
+        )
     }
 }
 
@@ -446,8 +455,9 @@ pub enum Standing {
     /// The snapshot has no release of that version; `package_known` is false when it does not
     /// have the package at all.
     NotInSnapshot { package_known: bool },
-    /// In the snapshot but refused on the image: the sentence saying why, and what is wrong.
-    Refused(String),
+    /// In the snapshot but refused on the image: the sentence saying why, and what is wrong;
+    /// `by_image` when the image's runtime or platform refuses it, not a yank.
+    Refused { why: String, by_image: bool },
     /// In the snapshot and admitted on the image (runtime, platform, not yanked).
     Admitted,
 }
@@ -488,7 +498,12 @@ pub fn standing(
     };
     // The runtime and platform are judged before the yank flag: an install that took a
     // release the image refuses proves that refusal wrong, which matters more than a yank.
-    let reason = match crate::solve::image::release_fit(registry, image, release) {
+    let fit = crate::solve::image::release_fit(registry, image, release);
+    let by_image = matches!(
+        fit,
+        Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime | Admission::NoBuild
+    );
+    let why = match fit {
         Admission::NeedsNewerRuntime | Admission::NeedsOlderRuntime => format!(
             "{version} is in the snapshot but declares runtime {}, which {image_id}'s runtime {} does not meet: the requirement or the image declaration is wrong",
             release
@@ -506,7 +521,7 @@ pub fn standing(
         ),
         Admission::Admissible | Admission::Yanked => return Standing::Admitted,
     };
-    Standing::Refused(reason)
+    Standing::Refused { why, by_image }
 }
 
 impl Standing {
@@ -526,7 +541,7 @@ impl Standing {
                     )
                 })
             }
-            Standing::Refused(reason) => Some(reason.clone()),
+            Standing::Refused { why, .. } => Some(why.clone()),
             Standing::Unknown | Standing::Admitted => None,
         }
     }
@@ -943,7 +958,10 @@ pub fn compare_within(
                 _ => Verdict::SurpriseFailure,
             }
         } else if installed_version.is_some() && installed_version != cell.root_version {
-            Verdict::Drift
+            match standing(registry, images, &cell.package, &cell.image, installed) {
+                Standing::Refused { by_image: true, .. } => Verdict::SurpriseVersion,
+                _ => Verdict::Drift,
+            }
         } else {
             Verdict::AgreedInstall
         };
@@ -974,7 +992,7 @@ pub fn compare_within(
                     )
                 ))
             }
-            Verdict::Drift => Some(drift_step(
+            Verdict::Drift | Verdict::SurpriseVersion => Some(drift_step(
                 installed_version.as_deref().unwrap_or("?"),
                 cell.root_version.as_deref().unwrap_or("?"),
                 &standing(),
