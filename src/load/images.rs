@@ -505,10 +505,39 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
     // A missing `runtime`, `family` or `platform` is checked once bases are applied (see
     // `build`): like an unreadable one, it is that image's problem, not the whole file's.
     let extends = m.opt_str_at("extends")?.map(owned);
+    // A name that is no system package name is most often a list written as one text
+    // (`packages: gcc, make`), which would be read as one package the image lacks.
+    let names = |key: &str| -> Result<Vec<At<String>>, BadInput> {
+        let items = m.str_list_at(key)?;
+        for item in &items {
+            // Debian's multiarch form `name:arch` names a package too (common practice).
+            let valid = match item.value.split_once(':') {
+                Some((name, arch)) => {
+                    crate::model::is_system_package_name(name)
+                        && crate::model::is_system_package_name(arch)
+                }
+                None => crate::model::is_system_package_name(&item.value),
+            };
+            if !valid {
+                return Err(BadInput::at(
+                    ctx.file,
+                    item.line,
+                    format!(
+                        "image `{id}`: `{key}`: `{}` is not a system package name (letters, digits, `+`, `.`, `-`, `_`, starting with a letter or digit, and an optional `:arch`); several are written as a list, `[a, b]`",
+                        item.value
+                    ),
+                ));
+            }
+        }
+        Ok(items)
+    };
+    let values = |items: Vec<At<String>>| items.into_iter().map(|i| i.value).collect();
     let packages = match m.get("packages") {
-        Some(_) => Some(m.str_list("packages")?),
+        Some(_) => Some(values(names("packages")?)),
         None => None,
     };
+    let add = values(names("add")?);
+    let remove = names("remove")?;
     Ok(Declared {
         id,
         id_line,
@@ -519,8 +548,8 @@ fn parse_image(ctx: Ctx<'_>, node: &Node) -> Result<Declared, BadInput> {
         platform: m.opt_str_at("platform")?.map(owned),
         toolchain: m.opt_bool_at("toolchain")?,
         packages,
-        add: m.str_list("add")?,
-        remove: m.str_list_at("remove")?,
+        add,
+        remove,
     })
 }
 
@@ -596,6 +625,39 @@ mod tests {
             "{:?}",
             ledger.problems
         );
+    }
+
+    /// A list written as one text (`packages: gcc, make`) once read as one package the image
+    /// lacks, so every native prediction for it went wrong and `check` said nothing (found by
+    /// an end-to-end review). A text that is no system package name is refused at its line,
+    /// in `packages`, `add` and `remove` alike; a single name stays a list of one.
+    #[test]
+    fn a_package_list_written_as_one_text_is_refused() {
+        let head = "images:\n  - id: i\n    runtime: 2.0.0\n    family: debian\n    platform: linux/glibc/x86_64\n";
+        for (field, value) in [
+            ("packages", "build-essential, zlib1g-dev"),
+            ("packages", "zlib1g-dev libyaml-dev"),
+            ("add", "\"gcc;rm\""),
+            ("remove", "[make, \"-y\"]"),
+        ] {
+            let text = format!("{head}    {field}: {value}\n");
+            let mut ledger = Ledger::default();
+            let err = read_images_str("img.yaml", &text, &mut ledger).unwrap_err();
+            let shown = err.to_string();
+            assert!(
+                shown.starts_with("img.yaml:6: image `i`: `")
+                    && shown.contains("is not a system package name"),
+                "{field}: {value}: {shown}"
+            );
+        }
+        let text =
+            format!("{head}    packages: zlib1g-dev\n    add: [gcc-c++, libfoo_2.0, libc6:i386]\n");
+        let mut ledger = Ledger::default();
+        let images = read_images_str("img.yaml", &text, &mut ledger).unwrap();
+        let image = images.get("i").unwrap();
+        for p in ["zlib1g-dev", "gcc-c++", "libfoo_2.0", "libc6:i386"] {
+            assert!(image.system_packages.contains(p), "{p}: {image:?}");
+        }
     }
 
     /// A runtime read leniently is noted at the line it is written on, as a registry version

@@ -51,6 +51,25 @@ pub fn is_invisible_format(c: char) -> bool {
         | '\u{e0001}' | '\u{e0020}'..='\u{e007f}')
 }
 
+/// Whether `name` can be a system package name on every family basefit writes commands for.
+/// The names go into shell commands as they are, so anything beyond these characters (a
+/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
+/// `_` are allowed for RPM and Alpine names (common practice, no source); the catalog holds
+/// Debian names to Debian's stricter rule.
+///
+/// ```
+/// use basefit::model::is_system_package_name;
+/// assert!(is_system_package_name("gcc-c++"));
+/// assert!(!is_system_package_name("build-essential, zlib1g-dev"));
+/// assert!(!is_system_package_name("-y"));
+/// ```
+pub fn is_system_package_name(name: &str) -> bool {
+    name.starts_with(|c: char| c.is_ascii_alphanumeric())
+        && name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
+}
+
 /// The OS families basefit knows system-package names for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "lowercase")]

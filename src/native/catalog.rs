@@ -505,7 +505,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                 }
             };
             let check = |field: &str, name: &str, line: usize| -> Result<(), BadInput> {
-                let problem = if !is_package_name(name) {
+                let problem = if !crate::model::is_system_package_name(name) {
                     Some("is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit".to_string())
                 } else if family == OsFamily::Debian && !is_debian_package_name(name) {
                     let hint = if is_debian_package_name(&name.to_lowercase()) {
@@ -642,18 +642,6 @@ fn is_debian_package_name(name: &str) -> bool {
         && name
             .chars()
             .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || "+-.".contains(c))
-}
-
-/// Whether `name` can be a system package name on every family basefit writes commands for.
-/// The names go into shell commands as they are, so anything beyond these characters (a
-/// space, `;`, a leading `-` read as an option) is refused rather than quoted. Upper case and
-/// `_` are allowed for RPM and Alpine names (common practice, no source); Debian names are
-/// held to Debian's stricter rule by [`is_debian_package_name`].
-fn is_package_name(name: &str) -> bool {
-    name.starts_with(|c: char| c.is_ascii_alphanumeric())
-        && name
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || "+.-_".contains(c))
 }
 
 // Lookups of declared library names, kept apart from the block above.
