@@ -167,8 +167,10 @@ fn require_matrix_inputs(
         return Err(BadInput::file(
             path.display().to_string(),
             format!(
-                "{command} needs at least one {noun}: of {} read, {} were left out (`basefit check` lists why)",
-                tally.read, tally.left_out
+                "{command} needs at least one {noun}: of {} read, {} {} left out (`basefit check` lists why)",
+                tally.read,
+                tally.left_out,
+                crate::report::one_or_many(tally.left_out, "was", "were")
             ),
         ));
     }
@@ -210,8 +212,9 @@ fn registry_left_nothing(
         (0, 0) => format!("{} none", declare(files.len())),
         (0, n) => format!("{} {n} packages but no versions", declare(files.len())),
         (read, _) => format!(
-            "of {read} read, {} were left out (`basefit check` lists why)",
-            tally.left_out
+            "of {read} read, {} {} left out (`basefit check` lists why)",
+            tally.left_out,
+            crate::report::one_or_many(tally.left_out, "was", "were")
         ),
     };
     Some((files.join(", "), noun, why))
@@ -427,10 +430,16 @@ fn review_results(
         return Err(BadInput::file(
             results_files(paths),
             format!(
-                "no recorded result could be compared with the predictions: of {} read, {} were left out (`basefit check` lists why) and {} name cells the matrix does not have",
+                "no recorded result could be compared with the predictions: of {} read, {} {} left out (`basefit check` lists why) and {} {} the matrix does not have",
                 tally.read,
                 tally.left_out,
-                review.outside_matrix.len()
+                crate::report::one_or_many(tally.left_out, "was", "were"),
+                review.outside_matrix.len(),
+                crate::report::one_or_many(
+                    review.outside_matrix.len(),
+                    "names a cell",
+                    "name cells"
+                )
             ),
         ));
     }

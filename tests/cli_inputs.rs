@@ -1174,7 +1174,7 @@ fn unreadable_image_platform_leaves_out_only_that_image() {
     ]);
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("lone.yaml: plan needs at least one image: of 1 read, 1 were left out"),
+        stderr.contains("lone.yaml: plan needs at least one image: of 1 read, 1 was left out"),
         "{stderr}"
     );
 }

@@ -475,7 +475,7 @@ fn a_plan_left_with_no_image_names_the_images_file() {
     );
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("images.yaml: plan needs at least one image: of 1 read, 1 were left out"),
+        stderr.contains("images.yaml: plan needs at least one image: of 1 read, 1 was left out"),
         "{stderr}"
     );
 }
@@ -526,7 +526,7 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
                 ]
                 .concat(),
                 format!(
-                    "{images}: {command} needs at least one image: of 1 read, 1 were left out (`basefit check` lists why)"
+                    "{images}: {command} needs at least one image: of 1 read, 1 was left out (`basefit check` lists why)"
                 ),
             ),
             (
@@ -537,7 +537,7 @@ fn commands_that_plan_a_matrix_need_images_and_priorities() {
                 ]
                 .concat(),
                 format!(
-                    "{priorities}: {command} needs at least one priority entry: of 1 read, 1 were left out (`basefit check` lists why)"
+                    "{priorities}: {command} needs at least one priority entry: of 1 read, 1 was left out (`basefit check` lists why)"
                 ),
             ),
         ];
@@ -572,7 +572,7 @@ fn explain_names_the_images_it_was_not_given() {
         (
             [&explain[..], &registry[..], &["--images", images][..]].concat(),
             format!(
-                "{images}: explain needs at least one image: of 1 read, 1 were left out (`basefit check` lists why)"
+                "{images}: explain needs at least one image: of 1 read, 1 was left out (`basefit check` lists why)"
             ),
         ),
     ];
@@ -755,7 +755,7 @@ fn a_registry_with_no_usable_release_is_named_by_every_command_that_needs_one() 
     assert_eq!(code, 2, "{stderr}");
     assert!(
         stderr.contains(&format!(
-            "{versions}: plan needs at least one version record: of 1 read, 1 were left out"
+            "{versions}: plan needs at least one version record: of 1 read, 1 was left out"
         )),
         "{stderr}"
     );
@@ -874,7 +874,7 @@ fn results_against_a_matrix_name_a_registry_with_no_usable_release() {
                 registry,
             ],
             &format!(
-                "{registry}: {command} --matrix with --results needs at least one version record from here to read recorded results against; of 1 read, 1 were left out (`basefit check` lists why)"
+                "{registry}: {command} --matrix with --results needs at least one version record from here to read recorded results against; of 1 read, 1 was left out (`basefit check` lists why)"
             ),
         );
     }

@@ -270,7 +270,18 @@ impl<W: Write> Write for Counted<W> {
 /// assert_eq!(basefit::report::it_or_them(3), "them");
 /// ```
 pub fn it_or_them(n: usize) -> &'static str {
-    if n == 1 { "it" } else { "them" }
+    one_or_many(n, "it", "them")
+}
+
+/// `one` for one thing, `many` for any other count: "1 cell was", "0 cells were".
+///
+/// ```
+/// use basefit::report::one_or_many;
+/// assert_eq!(format!("1 {}", one_or_many(1, "cell was", "cells were")), "1 cell was");
+/// assert_eq!(format!("0 {}", one_or_many(0, "cell was", "cells were")), "0 cells were");
+/// ```
+pub fn one_or_many<'a, N: PartialEq + From<u8>>(n: N, one: &'a str, many: &'a str) -> &'a str {
+    if n == N::from(1) { one } else { many }
 }
 
 /// Pretty JSON with a trailing newline.

@@ -288,13 +288,7 @@ pub fn explain_text(e: &Explanation) -> String {
         let builds: std::collections::HashMap<&str, String> = c
             .closure
             .iter()
-            .map(|p| {
-                let label = serde_json::to_value(p.build)
-                    .ok()
-                    .and_then(|v| v.as_str().map(str::to_owned))
-                    .unwrap_or_default();
-                (p.name.as_str(), format!(" [{label}]"))
-            })
+            .map(|p| (p.name.as_str(), format!(" [{}]", p.build.as_str())))
             .collect();
         for line in &e.tree {
             // Indentation stops growing at a depth no reader follows by eye; deeper lines say
@@ -669,7 +663,12 @@ pub fn grid(m: &crate::plan::Matrix) -> String {
 pub fn review_text(r: &crate::verify::Review) -> String {
     use crate::verify::Verdict;
     let mut out = String::new();
-    let _ = writeln!(out, "{} cells with recorded results", r.cells.len());
+    let n = r.cells.len();
+    let _ = writeln!(
+        out,
+        "{n} {} with recorded results",
+        super::one_or_many(n, "cell", "cells")
+    );
     for (k, n) in &r.counts {
         let _ = writeln!(out, "  {k}: {n}");
     }
@@ -757,8 +756,9 @@ pub fn review_text(r: &crate::verify::Review) -> String {
     if !r.results_left_out.is_empty() {
         let _ = writeln!(
             out,
-            "\n{} recorded results were left out and not compared; any of them may be a surprise, so this review is incomplete (exit 1):",
-            r.results_left_out.len()
+            "\n{} recorded {} left out and not compared; any of them may be a surprise, so this review is incomplete (exit 1):",
+            r.results_left_out.len(),
+            super::one_or_many(r.results_left_out.len(), "result was", "results were")
         );
         for line in &r.results_left_out {
             let _ = writeln!(out, "  {line}");
@@ -881,20 +881,25 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
             out.push_str("the matrices agree\n");
         } else if d.unified.is_empty() {
             out.push_str(
-                "no cell's outcome, cause or version changed and the Markdown renderings are equal, but the matrices differ (a closure's versions, a summary, an image's packages, or a weight below the rounding shown)\n",
+                "no cell's outcome, cause, version or dependencies changed and the Markdown renderings are equal, but the matrices differ (a summary, an image's packages, a closure's order or size where a side lists no closures, or a weight below the rounding shown)\n",
             );
         } else {
             // A new runtime, weight or explanation changes what the support matrix says
             // even where no cell's outcome moved.
             out.push_str(
-                "no cell's outcome, cause or version changed, but the renderings differ (images, weights, explanations or notes):\n\n",
+                "no cell's outcome, cause, version or dependencies changed, but the renderings differ (images, weights, explanations or notes):\n\n",
             );
             out.push_str(&d.unified);
         }
         let _ = writeln!(out, "\n{NOTICE}");
         return out;
     }
-    let _ = writeln!(out, "{} cells changed", d.changes.len());
+    let n = d.changes.len();
+    let _ = writeln!(
+        out,
+        "{n} {} changed",
+        super::one_or_many(n, "cell", "cells")
+    );
     let brief = |b: &Option<crate::verify::diff::CellBrief>| match b {
         None => "(absent)".to_string(),
         Some(b) => {
@@ -908,18 +913,41 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
             s
         }
     };
+    let pinned = |p: &Option<crate::plan::matrix::Pinned>,
+                  other: &Option<crate::plan::matrix::Pinned>| match p {
+        None => "(absent)".to_string(),
+        // The build is named only where it is what changed.
+        Some(p) if other.as_ref().is_some_and(|o| o.version == p.version) => {
+            format!("{} ({})", p.version, p.build.as_str())
+        }
+        Some(p) => p.version.clone(),
+    };
     for c in &d.changes {
-        let _ = writeln!(
-            out,
-            "  {} on {}: {} -> {}",
-            c.package,
-            c.image,
-            brief(&c.before),
-            brief(&c.after)
-        );
+        let (before, after) = (brief(&c.before), brief(&c.after));
+        let _ = match before == after {
+            true => writeln!(out, "  {} on {}: {after}", c.package, c.image),
+            false => writeln!(out, "  {} on {}: {before} -> {after}", c.package, c.image),
+        };
+        if !c.dependencies.is_empty() {
+            let moved: Vec<String> = c
+                .dependencies
+                .iter()
+                .map(|d| {
+                    format!(
+                        "{} {} -> {}",
+                        d.name,
+                        pinned(&d.before, &d.after),
+                        pinned(&d.after, &d.before)
+                    )
+                })
+                .collect();
+            let _ = writeln!(out, "    dependencies: {}", moved.join(", "));
+        }
     }
-    out.push('\n');
-    out.push_str(&d.unified);
+    if !d.unified.is_empty() {
+        out.push('\n');
+        out.push_str(&d.unified);
+    }
     let _ = writeln!(out, "\n{NOTICE}");
     out
 }

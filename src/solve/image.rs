@@ -31,6 +31,16 @@ pub enum BuildKind {
     Source,
 }
 
+impl BuildKind {
+    /// The name outputs give it, as serialized.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            BuildKind::Prebuilt => "prebuilt",
+            BuildKind::Source => "source",
+        }
+    }
+}
+
 /// Per-image solver context: the registry, the image, and lazily computed admissibility.
 pub struct ImageView<'r> {
     pub registry: &'r Registry,

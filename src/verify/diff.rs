@@ -1,6 +1,6 @@
 //! Comparing two matrices: structured cell changes and a unified diff of their renderings.
 
-use crate::plan::matrix::{Cell, Matrix, Outcome};
+use crate::plan::matrix::{Cell, Matrix, Outcome, Pinned};
 use crate::solve::Cause;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -35,6 +35,50 @@ pub struct CellChange {
     pub image: String,
     pub before: Option<CellBrief>,
     pub after: Option<CellBrief>,
+    /// The dependencies of the closure whose version or build changed, by name, when both
+    /// sides list the cell's closure: a new snapshot often moves a cell's dependencies while
+    /// its own version stays, and what gets installed changes with them.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub dependencies: Vec<DependencyChange>,
+}
+
+/// A closure package of one cell whose version or build differs; `None` on the side whose
+/// closure lacks it.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct DependencyChange {
+    pub name: String,
+    pub before: Option<Pinned>,
+    pub after: Option<Pinned>,
+}
+
+/// The changed dependencies between two closures of the cell of `root`, by name.
+fn dependency_changes(root: &str, before: &[Pinned], after: &[Pinned]) -> Vec<DependencyChange> {
+    let side = |closure: &[Pinned]| -> BTreeMap<String, Pinned> {
+        closure
+            .iter()
+            .filter(|p| p.name != root)
+            .map(|p| (p.name.clone(), p.clone()))
+            .collect()
+    };
+    let (mut old, new) = (side(before), side(after));
+    let mut out: Vec<DependencyChange> = Vec::new();
+    for (name, a) in new {
+        let b = old.remove(&name);
+        if b.as_ref() != Some(&a) {
+            out.push(DependencyChange {
+                name,
+                before: b,
+                after: Some(a),
+            });
+        }
+    }
+    out.extend(old.into_iter().map(|(name, b)| DependencyChange {
+        name,
+        before: Some(b),
+        after: None,
+    }));
+    out.sort_by(|x, y| x.name.cmp(&y.name));
+    out
 }
 
 /// Whether each side was planned with `--no-native` ([`Matrix::native_skipped`]).
@@ -88,20 +132,33 @@ impl MatrixDiff {
 /// Cells of `before` and `after` that differ, in `after`'s order (then cells only in
 /// `before`), and a unified diff of `render` applied to each.
 pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String) -> MatrixDiff {
+    let closures = ClosuresLeftOut {
+        before: closures_left_out(before),
+        after: closures_left_out(after),
+    };
     let key = |c: &Cell| (c.package.clone(), c.image.clone());
     let old: BTreeMap<(String, String), &Cell> = before.cells.iter().map(|c| (key(c), c)).collect();
     let mut seen = std::collections::BTreeSet::new();
     let mut changes = Vec::new();
     for c in &after.cells {
         let k = key(c);
-        let b = old.get(&k).map(|c| CellBrief::of(c));
+        let was = old.get(&k);
+        let b = was.map(|c| CellBrief::of(c));
         let a = Some(CellBrief::of(c));
-        if b != a {
+        // Closures compare only where both sides list them.
+        let dependencies = match was {
+            Some(was) if !closures.before && !closures.after => {
+                dependency_changes(&c.package, &was.closure, &c.closure)
+            }
+            _ => Vec::new(),
+        };
+        if b != a || !dependencies.is_empty() {
             changes.push(CellChange {
                 package: c.package.clone(),
                 image: c.image.clone(),
                 before: b,
                 after: a,
+                dependencies,
             });
         }
         seen.insert(k);
@@ -113,6 +170,7 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
                 image: c.image.clone(),
                 before: Some(CellBrief::of(c)),
                 after: None,
+                dependencies: Vec::new(),
             });
         }
     }
@@ -126,11 +184,6 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
             .header("before", "after")
             .to_string()
     };
-    let closures = ClosuresLeftOut {
-        before: closures_left_out(before),
-        after: closures_left_out(after),
-    };
-    // Closures compare only where both sides list them.
     let without_closures = |m: &Matrix| {
         let mut m = m.clone();
         m.cells.iter_mut().for_each(|c| c.closure.clear());
