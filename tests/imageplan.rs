@@ -513,6 +513,83 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
         ),
         "{text}"
     );
+    // The row itself says so, and only that row: a manifest copied into an image build
+    // must not read as packages that all install (found by an end-to-end review).
+    assert!(
+        text.contains("1 of them needs what the image lacks (last column): add that first, or it may fail to install\n"),
+        "{text}"
+    );
+    let row = |name: &str| {
+        text.lines()
+            .find(|l| l.starts_with(&format!("{name} ")))
+            .unwrap_or_else(|| panic!("{name}: {text}"))
+            .trim_end()
+            .to_string()
+    };
+    assert!(
+        row("brace").starts_with("brace    2.0.0    source  ")
+            && row("brace").ends_with("libxml2-dev (likely)"),
+        "{text}"
+    );
+    assert!(row("xylem").ends_with("source"), "{text}");
+    assert_eq!(p.at_risk.len(), 1);
+    assert_eq!(
+        (p.at_risk[0].name.as_str(), p.at_risk[0].version.as_str()),
+        ("brace", "2.0.0")
+    );
+    let json = serde_json::to_value(&p).unwrap();
+    assert_eq!(
+        json["at_risk"][0]["system_packages"][0],
+        serde_json::json!({"name": "libxml2-dev", "confidence": "likely"}),
+        "{json}"
+    );
+}
+
+/// On an image without a compiler, each source build that ships C files says on its row that
+/// it likely needs the toolchain, with its own confidence: one whose only evidence is a
+/// possible one (its summary names a library) says possible, though another row's need of the
+/// same package is likely.
+#[test]
+fn manifest_rows_say_what_each_needs_with_its_own_confidence() {
+    let registry = "packages:
+- name: cobble
+  versions:
+  - {version: 0.1.0, native: {files: [src/ext/fast.c]}}
+- name: pondly
+  summary: bindings for libpq
+  versions:
+  - {version: 0.2.0}
+- name: plain
+  versions:
+  - {version: 1.0.0}
+";
+    let images = "images:\n- {id: slim, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: false}\n";
+    let p = native_preinstall(
+        registry,
+        images,
+        "priorities:\n- cobble\n- pondly\n- plain\n",
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["cobble", "pondly", "plain"]);
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains("2 of them need what the image lacks"),
+        "{text}"
+    );
+    let row = |name: &str| {
+        text.lines()
+            .find(|l| l.starts_with(&format!("{name} ")))
+            .unwrap_or_else(|| panic!("{name}: {text}"))
+            .trim_end()
+            .to_string()
+    };
+    assert!(row("cobble").contains("build-essential (likely)"), "{text}");
+    assert!(
+        row("pondly").contains("build-essential (possible)")
+            && row("pondly").contains("libpq-dev (possible)"),
+        "{text}"
+    );
+    assert!(row("plain").ends_with("source"), "{text}");
 }
 
 /// `s` and `t` in two major versions; `A` and `C` hold both at 1, so `B` (s ^2) conflicts,

@@ -50,6 +50,46 @@ pub struct Preinstall {
     /// empty `system_needs` does not mean nothing is missing.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub unmapped_libraries: Vec<UnmappedNeed>,
+    /// The manifest rows that need something the image lacks, each with what and how surely
+    /// its own release needs it: such a row is at risk of failing to install as the image
+    /// stands, though the solve kept it, so copying the manifest into an image build as it
+    /// is may fail there. In manifest order.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub at_risk: Vec<RowNeeds>,
+}
+
+/// What one manifest row needs that the image lacks: system packages and libraries the
+/// catalog names no package for, each with the confidence of its own release's need.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RowNeeds {
+    pub name: String,
+    pub version: String,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub system_packages: Vec<Lack>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub unmapped_libraries: Vec<Lack>,
+}
+
+/// A system package or library a manifest row needs, and how surely.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Lack {
+    pub name: String,
+    pub confidence: Confidence,
+}
+
+impl RowNeeds {
+    /// `build-essential (likely), libfoo (possible, no package known)`.
+    fn describe(&self) -> String {
+        let packages = self
+            .system_packages
+            .iter()
+            .map(|l| format!("{} ({})", l.name, l.confidence.as_str()));
+        let libraries = self
+            .unmapped_libraries
+            .iter()
+            .map(|l| format!("{} ({}, no package known)", l.name, l.confidence.as_str()));
+        packages.chain(libraries).collect::<Vec<_>>().join(", ")
+    }
 }
 
 /// A library the manifest needs that no system package can be named for, and who needs it.
@@ -415,6 +455,7 @@ pub fn preinstall(
     let mut missing_system_packages = Vec::new();
     let mut system_needs = Vec::new();
     let mut unmapped_libraries = Vec::new();
+    let mut at_risk = Vec::new();
     let mut kept_rows: Vec<Kept> = kept
         .iter()
         .map(|r| Kept {
@@ -425,7 +466,7 @@ pub fn preinstall(
     if let Solved::Installs { closure, .. } = &final_solve.solved {
         if options.native {
             missing_system_packages = checks.assess(closure).packages_to_add();
-            (system_needs, unmapped_libraries) = needs_by_package(&checks, closure);
+            (system_needs, unmapped_libraries, at_risk) = needs_by_package(&checks, closure);
         }
         for p in closure {
             let version = registry.package(p.package).releases[p.index as usize]
@@ -466,6 +507,7 @@ pub fn preinstall(
         missing_system_packages,
         system_needs,
         unmapped_libraries,
+        at_risk,
     }
 }
 
@@ -475,7 +517,7 @@ pub fn preinstall(
 fn needs_by_package(
     checks: &NativeChecks<'_>,
     closure: &[Pin],
-) -> (Vec<SystemNeed>, Vec<UnmappedNeed>) {
+) -> (Vec<SystemNeed>, Vec<UnmappedNeed>, Vec<RowNeeds>) {
     let registry = &checks.inputs.registry;
     // Keyed by system package or library: (strongest confidence, who needs it).
     type Needers = BTreeMap<String, (Confidence, Vec<Pinned>)>;
@@ -492,10 +534,21 @@ fn needs_by_package(
             build: pin.build,
         });
     };
+    let mut rows: Vec<RowNeeds> = Vec::new();
     for pin in closure {
         let a = checks.assess(&[*pin]);
+        let mut row = RowNeeds {
+            name: registry.name(pin.package).to_string(),
+            version: version_of(checks.inputs, pin),
+            system_packages: Vec::new(),
+            unmapped_libraries: Vec::new(),
+        };
         for (package, confidence) in &a.missing {
             note(&mut packages, package, *confidence, pin);
+            row.system_packages.push(Lack {
+                name: package.clone(),
+                confidence: *confidence,
+            });
         }
         for library in &a.unknown_libraries {
             let confidence = a
@@ -506,6 +559,13 @@ fn needs_by_package(
                 .max()
                 .unwrap_or(Confidence::Possible);
             note(&mut libraries, library, confidence, pin);
+            row.unmapped_libraries.push(Lack {
+                name: library.clone(),
+                confidence,
+            });
+        }
+        if !row.system_packages.is_empty() || !row.unmapped_libraries.is_empty() {
+            rows.push(row);
         }
     }
     let sorted = |mut by: Vec<Pinned>| {
@@ -528,7 +588,7 @@ fn needs_by_package(
             needed_by: sorted(by),
         })
         .collect();
-    (system_needs, unmapped)
+    (system_needs, unmapped, rows)
 }
 
 /// A readable report of one pre-install plan.
@@ -547,17 +607,46 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         p.left_out.len(),
         p.manifest.len()
     );
-    let mut rows = vec![vec![
+    // Kept rows that need what the image lacks would fail an image build that copies the
+    // manifest as it is: each says so on its own row.
+    if !p.at_risk.is_empty() {
+        let _ = writeln!(
+            s,
+            "{} of them {} what the image lacks (last column): add that first, or {} may fail to install",
+            p.at_risk.len(),
+            crate::report::one_or_many(p.at_risk.len(), "needs", "need"),
+            crate::report::one_or_many(p.at_risk.len(), "it", "they")
+        );
+    }
+    let lacks: HashMap<(&str, &str), String> = p
+        .at_risk
+        .iter()
+        .map(|r| ((r.name.as_str(), r.version.as_str()), r.describe()))
+        .collect();
+    let mut header = vec![
         "package".to_string(),
         "version".to_string(),
         "build".to_string(),
-    ]];
+    ];
+    if !lacks.is_empty() {
+        header.push("needs, the image lacks".to_string());
+    }
+    let mut rows = vec![header];
     for m in &p.manifest {
-        rows.push(vec![
+        let mut row = vec![
             m.name.clone(),
             m.version.clone(),
-            format!("{:?}", m.build).to_lowercase(),
-        ]);
+            m.build.as_str().to_string(),
+        ];
+        if !lacks.is_empty() {
+            row.push(
+                lacks
+                    .get(&(m.name.as_str(), m.version.as_str()))
+                    .cloned()
+                    .unwrap_or_default(),
+            );
+        }
+        rows.push(row);
     }
     if p.manifest.is_empty() {
         s.push_str("manifest: (empty)\n");
