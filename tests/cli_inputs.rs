@@ -2078,3 +2078,123 @@ fn left_out_and_unranked_priority_entries_keep_their_place() {
     let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
     assert_eq!(names, ["alpha", "beta"]);
 }
+
+/// `check` on a priorities file beside a good registry and images: (exit code, stdout, stderr).
+fn check_priorities(dir: &Path, priorities: &str) -> (i32, String, String) {
+    let registry = write(dir, "registry.yaml", GOOD_REGISTRY);
+    let images = write(dir, "images.yaml", GOOD_IMAGES);
+    let priorities = write(dir, "priorities.yaml", priorities);
+    common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        registry.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+        "--priorities".as_ref(),
+        priorities.as_os_str(),
+    ])
+}
+
+/// Loader behaviours a mutation review found unguarded (each probe gave other output with
+/// the mutant): a second YAML document, non-finite weights, lone-CR line numbers, the line
+/// of a bad name in a block entry, an empty priority list.
+#[test]
+fn loader_edges_are_refused_or_placed_at_their_line() {
+    let d = dir();
+    // A second document would otherwise drop its records without a word.
+    let (code, _, stderr) = check_priorities(
+        d.path(),
+        "priorities:\n  - {name: fernwood, weight: 2}\n---\npriorities:\n  - {name: beta, weight: 3}\n",
+    );
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("priorities.yaml:4: more than one YAML document; expected exactly one"),
+        "{stderr}"
+    );
+    // YAML 1.2 reads these as floats that are no numbers a weight can be.
+    for weight in ["nan", ".nan", ".inf", "-.inf", ".NaN"] {
+        let (code, _, stderr) = check_priorities(
+            d.path(),
+            &format!(
+                "priorities:\n  - {{name: fernwood, weight: 1}}\n  - {{name: fernwood2, weight: {weight}}}\n"
+            ),
+        );
+        assert_eq!(code, 2, "{weight}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "priorities.yaml:3: priority entry `weight`: expected a number, found `{weight}`"
+            )),
+            "{weight}: {stderr}"
+        );
+    }
+    // Classic Mac line ends: the error is on the third line, not the first.
+    let (code, _, stderr) = check_priorities(
+        d.path(),
+        "priorities:\r  - {name: fernwood, weight: 1}\r  - {name: beta, weight: x}\r",
+    );
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("priorities.yaml:3: priority entry `weight`: expected a number"),
+        "{stderr}"
+    );
+    // A bad name in a block entry is placed at its own line, not the entry's first.
+    let (code, stdout, stderr) = check_priorities(
+        d.path(),
+        "priorities:\n  - weight: 2\n    name: \"bad name\"\n  - {name: fernwood, weight: 1}\n",
+    );
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout
+            .lines()
+            .any(|l| l.contains("priorities.yaml:3") && l.contains("\"bad name\"")),
+        "{stdout}"
+    );
+    // No entry at all is a whole-file error, however it is written.
+    for empty in ["priorities: []\n", "priorities:\n", "{}\n"] {
+        let (code, _, stderr) = check_priorities(d.path(), empty);
+        assert_eq!(code, 2, "{empty:?}: {stderr}");
+        assert!(
+            stderr.contains("priorities.yaml:1: priority list: `priorities` is missing or empty"),
+            "{empty:?}: {stderr}"
+        );
+    }
+}
+
+/// An image id given twice names the line of the first declaration; a quoted id with white
+/// space around it is read trimmed, and another image extends it by the trimmed name (from a
+/// mutation review: neither was guarded).
+#[test]
+fn image_ids_are_trimmed_and_duplicates_name_the_first_line() {
+    let d = dir();
+    let registry = write(d.path(), "registry.yaml", GOOD_REGISTRY);
+    let images = write(
+        d.path(),
+        "images.yaml",
+        "images:\n  - id: deb-3.0\n    runtime: 3.0.0\n    family: debian\n    platform: linux/glibc/x86_64\n  - id: deb-3.0\n    runtime: 3.1.0\n    family: debian\n    platform: linux/glibc/x86_64\n",
+    );
+    let stdout = assert_check_finds(
+        &registry,
+        &images,
+        &[],
+        Some(("image records", ["2", "1", "1"])),
+    );
+    assert!(
+        stdout
+            .lines()
+            .any(|l| l.contains("images.yaml:6")
+                && l.contains("image id already declared at line 2")),
+        "{stdout}"
+    );
+    let images = write(
+        d.path(),
+        "images.yaml",
+        "images:\n  - id: \" deb-3.0 \"\n    runtime: 3.0.0\n    family: debian\n    platform: linux/glibc/x86_64\n  - id: deb-child\n    extends: deb-3.0\n",
+    );
+    let (code, stderr, stdout) = check(&registry, &images);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    assert_eq!(
+        record_counts(&stdout, "image records"),
+        ["2", "2", "0"],
+        "{stdout}"
+    );
+}

@@ -1069,3 +1069,25 @@ fn objective_c_sources_need_the_objective_c_compilers() {
         }
     }
 }
+
+/// An image that extends a base with a C compiler only, giving no flag and no packages of its
+/// own, has a C compiler only too: a C++ build is at risk on it as on its base (from a
+/// mutation review, where passing the base's toolchain flag on for C++ as well survived).
+#[test]
+fn an_image_extending_a_c_only_base_stays_c_only() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("hashcraft", "", "src/ext/hash.cpp")
+    );
+    let images = format!(
+        "images:\n{}  - id: el-child\n    extends: el-c\n",
+        image("el-c", "rhel", "    packages: [gcc, make]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["hashcraft"]);
+    for img in ["el-c", "el-child"] {
+        let (code, stdout, stderr) = run(&["explain", "hashcraft", img], &args);
+        assert_eq!(code, 1, "{img}: {stdout}{stderr}");
+        assert!(stdout.contains("gcc-c++"), "{img}: {stdout}");
+    }
+}
