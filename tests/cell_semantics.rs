@@ -3,6 +3,8 @@
 //! package matches none of its versions, and which cause a cell reads when its releases fail in
 //! different ways. A fictional runtime with invented package names.
 
+mod common;
+
 use basefit::load::{InputPaths, Inputs, load_inputs};
 use basefit::plan::PlanOptions;
 use basefit::plan::explain::explain;
@@ -1298,6 +1300,59 @@ fn shared_blockers_count_other_entries_and_break_ties_by_entries_blocked() {
     let top = shared_blockers(&matrix, 1);
     assert_eq!(top.len(), 1, "{top:?}");
     assert_eq!(top[0].package, "ycore", "{top:?}");
+}
+
+/// Shared blockers come heaviest first, and each lists the entries it blocks in priority
+/// order, also one it reaches only through another failing entry (`aa` -> `dd` -> `core`);
+/// from a mutation review, where sorting lightest first and dropping the order of `blocks`
+/// both survived. On the demo, deb-2.4's first blocker is wattle-core (demo-data/STORIES.md,
+/// story (b)).
+#[test]
+fn shared_blockers_come_heaviest_first_and_list_entries_in_priority_order() {
+    use basefit::plan::blockers::shared_blockers;
+    let registry = "packages:
+  - name: core
+    versions:
+      - {version: \"1.0.0\", runtime: \">=9.0\"}
+  - name: aa
+    versions:
+      - {version: \"1.0.0\", depends: [{name: dd, req: \"^2\"}]}
+  - name: bb
+    versions:
+      - {version: \"1.0.0\", depends: [{name: core, req: \"^1\"}]}
+  - name: cc
+    versions:
+      - {version: \"1.0.0\", depends: [{name: core, req: \"^1\"}]}
+  - name: dd
+    versions:
+      - {version: \"1.0.0\", depends: [{name: core, req: \"^1\"}]}
+";
+    let loaded = inputs(registry, "priorities:\n  - aa\n  - bb\n  - cc\n  - dd\n");
+    let matrix = basefit::plan::matrix::plan(&loaded, &PlanOptions::default());
+    let blockers = shared_blockers(&matrix, 5);
+    let core = blockers.iter().find(|b| b.package == "core").unwrap();
+    assert_eq!(core.blocks, ["aa", "bb", "cc", "dd"], "{blockers:?}");
+
+    let demo = common::demo_inputs(Vec::new());
+    let matrix = basefit::plan::matrix::plan(&demo, &PlanOptions::default());
+    let blockers = shared_blockers(&matrix, 3);
+    let on = |image: &str| -> Vec<(&str, f64)> {
+        blockers
+            .iter()
+            .filter(|b| b.image == image)
+            .map(|b| (b.package.as_str(), b.blocked_weight))
+            .collect()
+    };
+    let deb24 = on("deb-2.4");
+    assert_eq!(deb24.first().map(|b| b.0), Some("wattle-core"), "{deb24:?}");
+    for image in matrix.images.iter().map(|i| i.id.as_str()) {
+        let weights: Vec<f64> = on(image).iter().map(|b| b.1).collect();
+        assert!(
+            weights.windows(2).all(|w| w[0] >= w[1]),
+            "{image}: {:?}",
+            on(image)
+        );
+    }
 }
 
 /// A need whose build kind a matrix does not record (one written before the field) is mapped

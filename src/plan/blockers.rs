@@ -264,6 +264,25 @@ mod tests {
         );
     }
 
+    /// A narrower range that starts or ends at the same release as the wider one folds into
+    /// it too (from a mutation review: only strictly wider low ends were tested).
+    #[test]
+    fn a_narrower_range_sharing_an_end_folds() {
+        let wide = "core 2.0.0 to 2.2.1 needs a newer runtime";
+        for narrow in [
+            "core 2.0.0 to 2.1.0 needs a newer runtime",
+            "core 2.1.0 to 2.2.1 needs a newer runtime",
+            "core 2.0.0 needs a newer runtime",
+            "core 2.2.1 needs a newer runtime",
+        ] {
+            assert_eq!(
+                folded(&[(wide, 1.0), (narrow, 1.0)]),
+                [(wide, 2.0)],
+                "{narrow}"
+            );
+        }
+    }
+
     #[test]
     fn reasons_that_differ_otherwise_are_kept() {
         let kept = [
