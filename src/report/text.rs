@@ -246,7 +246,11 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
         out.push('\n');
     }
     if !blockers.is_empty() {
-        out.push_str("\nshared blockers (what blocks the most priority weight per image):\n");
+        // Only registry packages are ranked here: a missing compiler or library blocks weight
+        // too, and reading this list as all that blocks an image would hide it.
+        out.push_str(
+            "\nshared blockers (the registry packages that block the most priority weight per image; for system packages an image lacks, see `basefit syslibs`):\n",
+        );
         let n_entries = summary.packages.len();
         for b in blockers {
             let _ = writeln!(
