@@ -1406,3 +1406,36 @@ fn an_install_of_a_release_the_image_refuses_is_a_surprise() {
         );
     }
 }
+
+/// A runtime refusal in the log of a cell predicted to fail for its runtime confirms the
+/// metadata: the advice is to run the package on another runtime, not to suspect the
+/// requirement, which the agreement shows is right (an end-to-end review found the advice
+/// contradicting the agreement). Where an install was predicted, the metadata is what the
+/// refusal puts in doubt. saltbush needs wattle-core 2.x, which needs runtime >=3.1, so it
+/// fails on deb-2.4 (demo-data/STORIES.md, story (b)); tidewater-http installs there.
+#[test]
+fn a_runtime_refusal_that_agrees_points_at_the_image_not_the_metadata() {
+    let review = review_of(
+        "results:
+  - {package: saltbush, image: deb-2.4, outcome: failed, log: \"runtime refused: requires >=3.1, found 2.4.9\"}
+  - {package: tidewater-http, image: deb-2.4, outcome: failed, log: \"runtime refused: requires >=2.6, found 2.4.9\"}
+",
+    );
+    let agreed = cell(&review, "saltbush", "deb-2.4");
+    assert_eq!(agreed.verdict, Verdict::AgreedFailure);
+    assert_eq!(agreed.cause_agrees, Some(true));
+    let s = agreed.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("as the metadata said")
+            && s.contains("`basefit explain saltbush deb-2.4`")
+            && !s.contains("may be missing or wrong"),
+        "{s}"
+    );
+    let surprise = cell(&review, "tidewater-http", "deb-2.4");
+    assert_eq!(surprise.verdict, Verdict::SurpriseFailure);
+    let s = surprise.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("the runtime requirement in the metadata may be missing or wrong"),
+        "{s}"
+    );
+}

@@ -299,11 +299,11 @@ fn suggest(
     registry: &Registry,
     images: &ImageSet,
     catalog: &Catalog,
-    package: &str,
-    image_id: &str,
+    cell: &crate::plan::matrix::Cell,
     cause: &LogCause,
     seen_need: Option<&crate::plan::matrix::NeedRow>,
 ) -> Option<String> {
+    let (package, image_id) = (cell.package.as_str(), cell.image.as_str());
     let image = images.get(image_id)?;
     // Advice naming the system package that provides what the log misses.
     let add_package = || -> Option<String> {
@@ -427,6 +427,15 @@ fn suggest(
             "{image_id} lacks a C toolchain: add {}",
             crate::native::toolchain_packages(image.family).join(" ")
         )),
+        // Predicted so from the metadata: the log confirms it, and what to change is the
+        // image's runtime, not the requirement.
+        LogCause::RuntimeRefused { required, found }
+            if matches!(cell.cause, Some(Cause::RuntimeTooOld | Cause::RuntimeTooNew)) =>
+        {
+            Some(format!(
+                "the installer refused runtime {found} (requires {required}), as the metadata said: {package} needs an image with another runtime (`basefit explain {package} {image_id}` names the nearest declared one)"
+            ))
+        }
         LogCause::RuntimeRefused { required, found } => Some(format!(
             "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
         )),
@@ -999,17 +1008,9 @@ pub fn compare_within(
                 &cell.package,
                 &cell.image,
             )),
-            _ => log_cause.as_ref().and_then(|c| {
-                suggest(
-                    registry,
-                    images,
-                    catalog,
-                    &cell.package,
-                    &cell.image,
-                    c,
-                    seen_need,
-                )
-            }),
+            _ => log_cause
+                .as_ref()
+                .and_then(|c| suggest(registry, images, catalog, cell, c, seen_need)),
         };
         cells.push(CellReview {
             package: cell.package.clone(),
