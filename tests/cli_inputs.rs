@@ -2198,3 +2198,48 @@ fn image_ids_are_trimmed_and_duplicates_name_the_first_line() {
         "{stdout}"
     );
 }
+
+/// A flag reads YAML 1.1's boolean words as well as `true`/`false`, in each of their three
+/// cases, and a word that is none of them is refused naming what is read: `yes` was read but
+/// `on` refused (from an end-to-end review).
+#[test]
+fn flags_read_the_yaml_1_1_boolean_words() {
+    let d = dir();
+    let registry = write(d.path(), "registry.yaml", GOOD_REGISTRY);
+    for (word, toolchain) in [
+        ("on", true),
+        ("On", true),
+        ("Y", true),
+        ("YES", true),
+        ("off", false),
+        ("OFF", false),
+        ("n", false),
+        ("No", false),
+    ] {
+        let images = write(
+            d.path(),
+            "images.yaml",
+            format!(
+                "images:\n  - {{id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, toolchain: {word}}}\n"
+            ),
+        );
+        let inputs = basefit::load::load_inputs(&basefit::load::InputPaths {
+            registry: vec![registry.clone()],
+            images: Some(images),
+            ..Default::default()
+        })
+        .unwrap_or_else(|e| panic!("{word}: {e}"));
+        assert_eq!(inputs.images.images[0].toolchain, toolchain, "{word}");
+    }
+    let images = write(
+        d.path(),
+        "images.yaml",
+        "images:\n  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, toolchain: oN}\n",
+    );
+    let (code, stderr, _) = check(&registry, &images);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("images.yaml:2: image `toolchain`: expected true or false (or yes/no, on/off), found `oN`"),
+        "{stderr}"
+    );
+}

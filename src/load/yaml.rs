@@ -295,7 +295,10 @@ impl<'a> Ctx<'a> {
     pub fn bool(&self, node: &Node, what: &str) -> Result<bool, BadInput> {
         match &node.value {
             Value::Scalar(s, false) => plain_bool(s).ok_or_else(|| {
-                self.err(node, format!("{what}: expected true or false, found `{s}`"))
+                self.err(
+                    node,
+                    format!("{what}: expected true or false (or yes/no, on/off), found `{s}`"),
+                )
             }),
             Value::Scalar(s, true) => Err(self.err(
                 node,
@@ -423,12 +426,23 @@ impl<'a> Ctx<'a> {
     }
 }
 
-/// The booleans an unquoted scalar may spell.
+/// The booleans an unquoted scalar may spell: YAML 1.2's `true`/`false` in its three cases,
+/// and the words YAML 1.1's boolean type also reads (`y`, `yes`, `on` and their negations, in
+/// the same three cases; from memory of YAML 1.1's type repository). Many files are written
+/// for 1.1 readers, and a flag field has no other reading of them; accepting `yes` but not
+/// `on` read as arbitrary.
 fn plain_bool(text: &str) -> Option<bool> {
-    match text {
-        "true" | "True" | "TRUE" | "yes" => Some(true),
-        "false" | "False" | "FALSE" | "no" => Some(false),
-        _ => None,
+    let cased = |word: &str| {
+        let mut title = word[..1].to_ascii_uppercase();
+        title.push_str(&word[1..]);
+        text == word || text == title || text == word.to_ascii_uppercase()
+    };
+    if ["true", "y", "yes", "on"].into_iter().any(cased) {
+        Some(true)
+    } else if ["false", "n", "no", "off"].into_iter().any(cased) {
+        Some(false)
+    } else {
+        None
     }
 }
 
