@@ -2243,3 +2243,42 @@ fn flags_read_the_yaml_1_1_boolean_words() {
         "{stderr}"
     );
 }
+
+/// A requirement given as empty text reads as any version, as an absent one does, but `check`
+/// lists it at its line: an export that lost the value reads the same, and the release would
+/// go onto every image without a word (from an end-to-end review).
+#[test]
+fn an_empty_requirement_is_read_as_any_and_listed() {
+    let d = dir();
+    let registry = write(
+        d.path(),
+        "registry.yaml",
+        "packages:
+  - name: hugev
+    versions:
+      - {version: \"1.0.1\", runtime: \"\"}
+      - {version: \"1.0.3\", runtime: \"   \"}
+      - {version: \"1.0.4\", runtime: \">=9\"}
+  - name: dep2
+    versions:
+      - {version: \"1.0.0\", depends: [{name: hugev, req: \"\"}, {name: hugev2}]}
+  - name: hugev2
+    versions:
+      - {version: \"1.0.0\"}
+",
+    );
+    let images = write(d.path(), "images.yaml", GOOD_IMAGES);
+    let stdout = assert_check_finds(
+        &registry,
+        &images,
+        &[
+            "(empty-requirement): 3",
+            "registry.yaml:4  hugev@1.0.1: runtime requirement is empty: read as any runtime",
+            "registry.yaml:5  hugev@1.0.3: runtime requirement is empty",
+            "registry.yaml:9  dep2@1.0.0: requirement on hugev is empty: read as any version",
+        ],
+        Some(("version records", ["5", "5", "0"])),
+    );
+    // An absent requirement is no problem.
+    assert!(!stdout.contains("hugev2 is empty"), "{stdout}");
+}

@@ -474,6 +474,10 @@ pub enum ProblemKind {
     UnreadableVersion,
     /// A requirement string that cannot be read; the version carrying it is left out.
     UnreadableRequirement,
+    /// A requirement given explicitly as empty text (`runtime: ""`, `req: ""`): read as any
+    /// version, as an absent one is, but noted, since an export that lost the value reads the
+    /// same and would let the release onto every image.
+    EmptyRequirement,
     /// A release date that cannot be read; the version is used without a date.
     UnreadableDate,
     /// A dependency on a name the registry does not have; used (it cannot be satisfied).
@@ -534,6 +538,9 @@ impl ProblemKind {
             ProblemKind::UnreadableVersion => "unreadable versions (left out)",
             ProblemKind::UnreadableRequirement => "unreadable requirements (version left out)",
             ProblemKind::UnreadableDate => "unreadable release dates (date ignored)",
+            ProblemKind::EmptyRequirement => {
+                "requirements given as empty text (read as any version)"
+            }
             ProblemKind::UnknownDependency => "dependencies on names not in the registry",
             ProblemKind::UnknownLibrary => {
                 "declared native libraries the catalog does not know (no system package can be named)"

@@ -313,6 +313,21 @@ impl RegistryBuilder {
                 bad = Some(BadDependency::name(file, d.name.line, d.name.value, why));
                 break;
             }
+            if d.req.value.trim().is_empty() {
+                let version = &staged.release.version;
+                self.ledger.note(
+                    ProblemKind::EmptyRequirement,
+                    Origin {
+                        file: file.to_string(),
+                        line: d.req.line,
+                    },
+                    format!("{}@{version}", self.registry.name(package)),
+                    format!(
+                        "requirement on {} is empty: read as any version",
+                        d.name.value
+                    ),
+                );
+            }
             match self.registry.intern_requirement(d.req.value) {
                 Ok(req) => deps.push(Dep {
                     package: self.registry.intern_package(d.name.value),
@@ -404,6 +419,16 @@ impl RegistryBuilder {
                 date
             }
         };
+        if let Some(At { value: text, line }) = fields.runtime
+            && text.trim().is_empty()
+        {
+            self.ledger.note(
+                ProblemKind::EmptyRequirement,
+                origin(line),
+                subject(&self.registry),
+                "runtime requirement is empty: read as any runtime",
+            );
+        }
         let runtime = match fields.runtime {
             None => None,
             Some(At { value: text, line }) => match self.registry.intern_requirement(text) {
