@@ -639,30 +639,6 @@ fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
     out
 }
 
-/// A plain-text grid of a matrix: one line per package, one short code per image.
-pub fn grid(m: &crate::plan::Matrix) -> String {
-    let mut rows = vec![
-        std::iter::once("package".to_string())
-            .chain(m.images.iter().map(|i| i.id.clone()))
-            .collect::<Vec<_>>(),
-    ];
-    for (r, p) in m.packages.iter().enumerate() {
-        let mut row = vec![p.name.clone()];
-        for c in m.row(r) {
-            let mut code = c.outcome.as_str().to_string();
-            if let Some(v) = &c.root_version {
-                code = format!("{code} {v}");
-            }
-            if let Some(cause) = c.cause {
-                code = format!("{code} ({})", cause.as_str());
-            }
-            row.push(code);
-        }
-        rows.push(row);
-    }
-    table(&rows)
-}
-
 /// The review for people: summary, then surprises by probable cause, then agreed failures.
 pub fn review_text(r: &crate::verify::Review) -> String {
     use crate::verify::Verdict;
