@@ -1244,6 +1244,33 @@ fn a_confirmed_risk_is_checked_against_what_the_cell_was_at_risk_for() {
     assert_eq!(agreement("x.c:3:12: error: 'y' undeclared"), None);
 }
 
+/// A risk that came true counts with the installs in the confusion matrix, so it lowers the
+/// recall; the review says how many at-risk cells failed and installed, in text and JSON (an
+/// end-to-end review found the recall unreadable without it). On the demo results, burrow-lite
+/// is at risk on el9-3.0 and failed there.
+#[test]
+fn the_review_counts_at_risk_cells_apart() {
+    let review = review_of(&std::fs::read_to_string("demo-data/results.yaml").unwrap());
+    assert_eq!(
+        (
+            review.confusion.at_risk_failed,
+            review.confusion.at_risk_installed
+        ),
+        (1, 0)
+    );
+    let dir = tempfile::tempdir().unwrap();
+    let (_, text) = review_file(
+        dir.path(),
+        "results.yaml",
+        &std::fs::read_to_string("demo-data/results.yaml").unwrap(),
+        "table",
+    );
+    assert!(
+        text.contains("failure predictions: precision 75.0%, recall 60.0%\nat-risk predictions (counted with the installs above): 1 failed, 0 installed\n"),
+        "{text}"
+    );
+}
+
 #[test]
 fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
     let dir = tempfile::tempdir().unwrap();

@@ -671,6 +671,15 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         pct(c.precision),
         pct(c.recall)
     );
+    // At-risk cells sit with the installs above, so a risk that came true lowers the recall:
+    // say how many there are, or the recall reads as warnings the plan never gave.
+    if c.at_risk_failed + c.at_risk_installed > 0 {
+        let _ = writeln!(
+            out,
+            "at-risk predictions (counted with the installs above): {} failed, {} installed",
+            c.at_risk_failed, c.at_risk_installed
+        );
+    }
     let mut groups: std::collections::BTreeMap<String, Vec<&crate::verify::compare::CellReview>> =
         Default::default();
     for cell in r.cells.iter().filter(|c| c.verdict.is_surprise()) {

@@ -133,6 +133,11 @@ pub struct Confusion {
     pub precision: Option<f64>,
     /// Of the recorded failures, the share predicted; `None` without recorded failures.
     pub recall: Option<f64>,
+    /// Cells predicted at risk, counted with the installs above, that failed: a risk the
+    /// recall counts as missed, though the prediction warned of it.
+    pub at_risk_failed: usize,
+    /// Cells predicted at risk that installed.
+    pub at_risk_installed: usize,
 }
 
 /// The review of a set of recorded results.
@@ -1050,6 +1055,14 @@ pub fn compare_within(
         // Attempts that disagree are left aside as flaky, except where an install disproves a
         // predicted failure: that cell counts as installed.
         let failed = !c.attempts.contains(&RecordedOutcome::Installed);
+        if !matches!(c.verdict, Verdict::Flaky | Verdict::Undecided)
+            && c.predicted == Outcome::AtRisk
+        {
+            match failed {
+                true => confusion.at_risk_failed += 1,
+                false => confusion.at_risk_installed += 1,
+            }
+        }
         match (c.verdict, c.predicted == Outcome::Fails, failed) {
             (Verdict::Flaky | Verdict::Undecided, _, _) => {}
             (_, true, true) => confusion.true_failures += 1,
