@@ -427,10 +427,24 @@ fn review_results(
         .collect();
     if review.cells.is_empty() {
         let tally = inputs.ledger.tally(crate::load::diag::RecordKind::Result);
+        // The reasons are known: the first few go in the message itself.
+        const SHOWN: usize = 3;
+        let reasons: Vec<&String> = review
+            .results_left_out
+            .iter()
+            .chain(&review.outside_matrix)
+            .take(SHOWN)
+            .collect();
+        let more =
+            (review.results_left_out.len() + review.outside_matrix.len()).saturating_sub(SHOWN);
+        let mut why: String = reasons.iter().map(|r| format!("\n  {r}")).collect();
+        if more > 0 {
+            why.push_str(&format!("\n  and {more} more (`basefit check` lists them)"));
+        }
         return Err(BadInput::file(
             results_files(paths),
             format!(
-                "no recorded result could be compared with the predictions: of {} read, {} {} left out (`basefit check` lists why) and {} {} the matrix does not have",
+                "no recorded result could be compared with the predictions: of {} read, {} {} left out and {} {} the matrix does not have:{why}",
                 tally.read,
                 tally.left_out,
                 crate::report::one_or_many(tally.left_out, "was", "were"),
@@ -702,7 +716,12 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
                 n => format!("the {n} shard files given"),
             },
         };
+        let this = e.part.and_then(|k| o.shards.get(k));
         let message = match e.other.and_then(|k| Some((k, o.shards.get(k)?))) {
+            // Naming the same path again would read as two files.
+            Some((_, path)) if Some(path) == this => {
+                format!("{} (the same file, given twice)", e.message)
+            }
             Some((k, path)) => format!("{} (part {} is {})", e.message, k + 1, path.display()),
             None => e.message,
         };

@@ -260,11 +260,33 @@ fn merge_names_the_shard_file_at_fault() {
         &first,
     ]);
     assert_eq!(code, 2, "{stderr}");
+    // Once, without naming the same path again as another part (an end-to-end review found
+    // the message saying it three times).
     assert!(
-        stderr.contains(&format!("{first}: shard 1/2 is given twice")),
+        stderr.contains(&format!(
+            "{first}: shard 1/2 is given twice, as parts 1 and 2 (the same file, given twice)"
+        )),
         "{stderr}"
     );
     assert!(!dir.path().join("m").exists(), "nothing is written");
+    // Two files of the same shard: the other is named.
+    let copy = dir.path().join("copy.json");
+    std::fs::copy(&first, &copy).unwrap();
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        dir.path().join("m").to_str().unwrap(),
+        &first,
+        copy.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "{}: shard 1/2 is given twice, as parts 1 and 2 (part 1 is {first})",
+            copy.display()
+        )),
+        "{stderr}"
+    );
     // A shard's YAML matrix is the wrong file of the pair: say which one merge reads.
     let yaml = first.replace("matrix.json", "matrix.yaml");
     let (code, _, stderr) = run_basefit([

@@ -1271,6 +1271,33 @@ fn the_review_counts_at_risk_cells_apart() {
     );
 }
 
+/// When no recorded result can be compared, the error names why for each (the first few),
+/// instead of only sending the reader to `check` (from an end-to-end review).
+#[test]
+fn no_comparable_result_says_why_in_the_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = common::write(
+        dir.path(),
+        "r.yaml",
+        "results:\n  - {package: saltbush, image: nope, outcome: failed}\n",
+    );
+    for command in ["review", "render"] {
+        let (code, _, stderr) = common::run_basefit(
+            [command]
+                .into_iter()
+                .chain(common::DEMO)
+                .chain(["--results", results.to_str().unwrap()]),
+        );
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr
+                .contains("of 1 read, 1 was left out and 0 name cells the matrix does not have:\n")
+                && stderr.contains("r.yaml:2: saltbush on nope: image `nope` is not declared"),
+            "{command}: {stderr}"
+        );
+    }
+}
+
 #[test]
 fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
     let dir = tempfile::tempdir().unwrap();

@@ -1513,9 +1513,10 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 k,
                 earlier,
                 format!(
-                    "shard {}/{count} is given twice (also as part {})",
+                    "shard {}/{count} is given twice, as parts {} and {}",
                     s.index,
-                    earlier + 1
+                    earlier + 1,
+                    k + 1
                 ),
             ));
         }
