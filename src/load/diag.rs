@@ -472,7 +472,8 @@ pub enum ProblemKind {
     NormalisedVersion,
     /// A version string that cannot be read; the version is left out.
     UnreadableVersion,
-    /// A requirement string that cannot be read; the version carrying it is left out.
+    /// A requirement string that cannot be read; the version or priority entry carrying it is
+    /// left out.
     UnreadableRequirement,
     /// A requirement given explicitly as empty text (`runtime: ""`, `req: ""`): read as any
     /// version, as an absent one is, but noted, since an export that lost the value reads the
@@ -536,7 +537,9 @@ impl ProblemKind {
         match self {
             ProblemKind::NormalisedVersion => "versions normalised to semver",
             ProblemKind::UnreadableVersion => "unreadable versions (left out)",
-            ProblemKind::UnreadableRequirement => "unreadable requirements (version left out)",
+            ProblemKind::UnreadableRequirement => {
+                "unreadable requirements (the version or priority entry carrying one left out)"
+            }
             ProblemKind::UnreadableDate => "unreadable release dates (date ignored)",
             ProblemKind::EmptyRequirement => {
                 "requirements given as empty text (read as any version)"
