@@ -1271,6 +1271,54 @@ fn the_review_counts_at_risk_cells_apart() {
     );
 }
 
+/// The CSV carries the recorded version and the review's one line for each cell with results:
+/// a drifted row once said only `installed,drift`, not which version went in (from an
+/// end-to-end review). The demo's gumleaf on deb-2.8 installed 1.2.0 from a lock file where
+/// 1.4.2 was predicted (demo-data/results.yaml).
+#[test]
+fn the_csv_carries_the_recorded_version_and_detail() {
+    let (code, csv, stderr) =
+        common::run_basefit(["render"].into_iter().chain(common::DEMO).chain([
+            "--results",
+            "demo-data/results.yaml",
+            "--format",
+            "csv",
+        ]));
+    assert_eq!(code, 0, "{stderr}");
+    let mut reader = csv::Reader::from_reader(csv.as_bytes());
+    let header = reader.headers().unwrap().clone();
+    let column = |name: &str| {
+        header
+            .iter()
+            .position(|h| h == name)
+            .unwrap_or_else(|| panic!("{name}: {header:?}"))
+    };
+    let (package, image, verdict, version, detail) = (
+        column("package"),
+        column("image"),
+        column("verdict"),
+        column("recorded_version"),
+        column("recorded_detail"),
+    );
+    let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
+    let drift = rows
+        .iter()
+        .find(|r| &r[verdict] == "drift")
+        .unwrap_or_else(|| panic!("{csv}"));
+    assert_eq!((&drift[package], &drift[image]), ("gumleaf", "deb-2.8"));
+    assert_eq!(&drift[version], "1.2.0");
+    assert!(
+        drift[detail].starts_with("installed 1.2.0 where 1.4.2 was predicted"),
+        "{:?}",
+        drift
+    );
+    // Rows without results leave both empty.
+    assert!(
+        rows.iter()
+            .any(|r| r[verdict].is_empty() && r[version].is_empty() && r[detail].is_empty())
+    );
+}
+
 /// When no recorded result can be compared, the error names why for each (the first few),
 /// instead of only sending the reader to `check` (from an end-to-end review).
 #[test]

@@ -16,7 +16,7 @@ use crate::plan::matrix::Matrix;
 use std::borrow::Cow;
 
 /// The header record, in column order.
-pub const COLUMNS: [&str; 17] = [
+pub const COLUMNS: [&str; 19] = [
     "package",
     "rank",
     "weight",
@@ -31,6 +31,8 @@ pub const COLUMNS: [&str; 17] = [
     "recorded",
     "verdict",
     "mark",
+    "recorded_version",
+    "recorded_detail",
     "explanation",
     "native_checked",
     "notice",
@@ -50,10 +52,15 @@ pub fn csv(m: &Matrix) -> String {
     for (row, slots) in m.packages.iter().zip(grid(m)) {
         for (img, slot) in m.images.iter().zip(slots) {
             let Some((_, cell)) = slot else { continue };
-            let (recorded, verdict) = cell
-                .recorded
-                .as_ref()
-                .map_or(("", ""), |r| (r.recorded.as_str(), r.verdict.as_str()));
+            let (recorded, verdict, version, detail) =
+                cell.recorded.as_ref().map_or(("", "", "", ""), |r| {
+                    (
+                        r.recorded.as_str(),
+                        r.verdict.as_str(),
+                        r.version.as_deref().unwrap_or(""),
+                        r.detail.as_str(),
+                    )
+                });
             let record: [Cow<'_, str>; COLUMNS.len()] = [
                 defuse(&row.name),
                 Cow::Owned(row.rank.to_string()),
@@ -69,6 +76,10 @@ pub fn csv(m: &Matrix) -> String {
                 defuse(recorded),
                 defuse(verdict),
                 Cow::Borrowed(super::layout::mark_of(cell).map_or("", |m| m.as_str())),
+                // What a drift installed, and why: without them a drifted row says nothing
+                // of which version went in.
+                defuse(version),
+                defuse(detail),
                 owned(defuse(&cell.explanation.join(" / "))),
                 Cow::Borrowed(native_checked),
                 Cow::Borrowed(notice.as_ref()),
