@@ -519,13 +519,7 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
         text.contains("1 of them needs what the image lacks (last column): add that first, or it may fail to install\n"),
         "{text}"
     );
-    let row = |name: &str| {
-        text.lines()
-            .find(|l| l.starts_with(&format!("{name} ")))
-            .unwrap_or_else(|| panic!("{name}: {text}"))
-            .trim_end()
-            .to_string()
-    };
+    let row = |name: &str| manifest_row(&text, name);
     assert!(
         row("brace").starts_with("brace    2.0.0    source  ")
             && row("brace").ends_with("libxml2-dev (likely)"),
@@ -543,6 +537,15 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
         serde_json::json!({"name": "libxml2-dev", "confidence": "likely"}),
         "{json}"
     );
+}
+
+/// The manifest table's row of `name` in a pre-install text, trailing blanks trimmed.
+fn manifest_row(text: &str, name: &str) -> String {
+    text.lines()
+        .find(|l| l.starts_with(&format!("{name} ")))
+        .unwrap_or_else(|| panic!("{name}: {text}"))
+        .trim_end()
+        .to_string()
 }
 
 /// On an image without a compiler, each source build that ships C files says on its row that
@@ -576,13 +579,7 @@ fn manifest_rows_say_what_each_needs_with_its_own_confidence() {
         text.contains("2 of them need what the image lacks"),
         "{text}"
     );
-    let row = |name: &str| {
-        text.lines()
-            .find(|l| l.starts_with(&format!("{name} ")))
-            .unwrap_or_else(|| panic!("{name}: {text}"))
-            .trim_end()
-            .to_string()
-    };
+    let row = |name: &str| manifest_row(&text, name);
     assert!(row("cobble").contains("build-essential (likely)"), "{text}");
     assert!(
         row("pondly").contains("build-essential (possible)")
