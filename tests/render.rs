@@ -707,3 +707,366 @@ fn markdown_names_and_notes_never_become_links_on_github() {
     let html = comrak::markdown_to_html(&markdown(&demo), &options);
     assert!(!html.contains("<a "), "{html}");
 }
+
+// ---------------------------------------------------------------- redundant encodings
+
+/// The opening tags (up to `>`) of every element starting with `tag_start`.
+fn tags<'p>(page: &'p str, tag_start: &str) -> Vec<&'p str> {
+    page.match_indices(tag_start)
+        .map(|(at, _)| &page[at..at + page[at..].find('>').expect("a closed tag")])
+        .collect()
+}
+
+/// The unescaped value of `attr` in one opening tag.
+fn attr(tag: &str, attr: &str) -> Option<String> {
+    let needle = format!(" {attr}=\"");
+    let start = tag.find(&needle)? + needle.len();
+    let len = tag[start..].find('"')?;
+    Some(unescape_html(&tag[start..start + len]))
+}
+
+/// The text between `open` (which must occur in `within`) and the next `close`.
+fn between<'p>(within: &'p str, open: &str, close: &str) -> &'p str {
+    let start = within
+        .find(open)
+        .unwrap_or_else(|| panic!("no {open} in {within}"))
+        + open.len();
+    let len = within[start..].find(close).expect("a closing part");
+    &within[start..start + len]
+}
+
+/// Reads every grid cell of `m`'s page back and checks that each other place the page states
+/// the same fact agrees with it: a cell's colour class with its `data-outcome`, its
+/// aria-label with the outcome (no version on a cell that does not resolve), and per image
+/// the footer's "N of M" count, the bar's segments, the images section's "(N of M packages)"
+/// and "K not planned", and its recorded-install counts. These are redundant encodings of one
+/// fact that no snapshot covers; a mutation review found each could drift alone (a failing
+/// cell painted as installing, a footer leaving out at-risk cells, a one-cell segment missing
+/// from the bar, surprises counted as unsettled) and a reader would then trust the wrong one.
+/// Returns the per-image outcome counts read off the grid, for callers to check the input
+/// exercised what they meant.
+fn cross_check_html(m: &Matrix) -> Vec<std::collections::BTreeMap<String, usize>> {
+    use std::collections::BTreeMap;
+    let page = html(m);
+    let rows = m.packages.len();
+    let mut outcomes: Vec<BTreeMap<String, usize>> = vec![BTreeMap::new(); m.images.len()];
+    let mut marks: Vec<BTreeMap<String, usize>> = vec![BTreeMap::new(); m.images.len()];
+    let column = |id: &str| m.images.iter().position(|i| i.id == id).expect("an image");
+    let cells = tags(&page, "<td class=\"cell ");
+    assert_eq!(cells.len(), rows * m.images.len());
+    for tag in cells {
+        let package = attr(tag, "data-package").unwrap();
+        let image = attr(tag, "data-image").unwrap();
+        let outcome = attr(tag, "data-outcome").unwrap();
+        let class = attr(tag, "class").unwrap();
+        let label = attr(tag, "aria-label").unwrap();
+        assert_eq!(class, format!("cell o-{outcome}"), "{tag}");
+        let c = column(&image);
+        *outcomes[c].entry(outcome.clone()).or_default() += 1;
+        if let Some(mark) = attr(tag, "data-mark") {
+            *marks[c].entry(mark).or_default() += 1;
+        }
+        let head = format!("{package} on {image}: ");
+        let said = label
+            .strip_prefix(&head)
+            .unwrap_or_else(|| panic!("{label}"));
+        // Looked up by name: `Matrix::cell` is positional, so wrong on a partial matrix.
+        let Some(cell) = m
+            .cells
+            .iter()
+            .find(|c| c.package == package && c.image == image)
+        else {
+            assert_eq!(outcome, "missing");
+            assert_eq!(said, "not in this matrix");
+            continue;
+        };
+        assert_eq!(outcome, cell.outcome.as_str());
+        let rest = said
+            .strip_prefix(layout_label(cell.outcome))
+            .unwrap_or_else(|| panic!("{label}"));
+        match (cell.outcome.resolves(), cell.root_version.as_deref()) {
+            (true, Some(v)) => assert!(rest.starts_with(&format!(" {v}")), "{label}"),
+            // A version after "fails" or "undecided" reads as the version that was tried and
+            // resolved; only a cause (", ...") or a mark ("; ...") may follow.
+            _ => assert!(
+                rest.is_empty() || rest.starts_with(", ") || rest.starts_with("; "),
+                "{label}"
+            ),
+        }
+    }
+
+    let feet = tags(&page, "<td class=\"foot\"");
+    assert_eq!(feet.len(), m.images.len());
+    let items: Vec<&str> = page
+        .split("<li class=\"image-summary\"")
+        .skip(1)
+        .map(|s| &s[..s.find("</li>").expect("a closed item")])
+        .collect();
+    assert_eq!(items.len(), m.images.len());
+    for (c, img) in m.images.iter().enumerate() {
+        let n = |o: &str| outcomes[c].get(o).copied().unwrap_or(0);
+        let resolving = n("installs") + n("at-risk");
+        let missing = n("missing");
+
+        let foot = feet[c];
+        assert_eq!(attr(foot, "data-image").as_deref(), Some(img.id.as_str()));
+        let after = &page[page.find(foot).unwrap()..];
+        assert!(
+            after.contains(&format!(
+                "<strong>{resolving}</strong> of {rows}<span class=\"foot-share\">"
+            )),
+            "footer of {}: {}",
+            img.id,
+            &after[..after.find("</td>").unwrap()]
+        );
+
+        let item = items[c];
+        assert!(
+            item.starts_with(&format!(" data-image=\"{}\"", img.id)),
+            "{item}"
+        );
+        let bar = between(item, "<div class=\"bar\" aria-hidden=\"true\">", "</div>");
+        let segments: Vec<(String, usize)> = tags(bar, "<span class=\"seg ")
+            .into_iter()
+            .map(|t| {
+                let grow = attr(t, "style").unwrap();
+                let grow = grow.strip_prefix("flex-grow:").unwrap().parse().unwrap();
+                (attr(t, "class").unwrap(), grow)
+            })
+            .collect();
+        let want: Vec<(String, usize)> = ["installs", "at-risk", "fails", "undecided", "missing"]
+            .into_iter()
+            .filter(|o| n(o) > 0)
+            .map(|o| (format!("seg o-{o}"), n(o)))
+            .collect();
+        assert_eq!(segments, want, "bar of {}", img.id);
+        assert_eq!(segments.iter().map(|s| s.1).sum::<usize>(), rows);
+
+        let share = between(item, "<p class=\"image-share\">", "</p>");
+        let planned = if missing > 0 {
+            format!("; {missing} not planned")
+        } else {
+            String::new()
+        };
+        assert!(
+            share.ends_with(&format!("({resolving} of {rows} packages){planned}"))
+                || share == format!("{resolving} of {rows} packages resolve{planned}"),
+            "share of {}: {share}",
+            img.id
+        );
+
+        let k = |mark: &str| marks[c].get(mark).copied().unwrap_or(0);
+        let recorded: Vec<String> = [
+            (k("agreed"), "agree"),
+            (k("surprise"), "contradict the prediction"),
+            (
+                k("unsettled"),
+                "neither (flaky, another version or cause, undecided)",
+            ),
+        ]
+        .into_iter()
+        .filter(|(n, _)| *n > 0)
+        .map(|(n, what)| format!("{n} {what}"))
+        .collect();
+        if recorded.is_empty() {
+            assert!(!item.contains("image-recorded"), "{item}");
+        } else {
+            assert_eq!(
+                between(item, "<p class=\"image-recorded\">", "</p>"),
+                format!("Recorded installs: {}", recorded.join(", ")),
+                "recorded on {}",
+                img.id
+            );
+        }
+    }
+    outcomes
+}
+
+fn layout_label(o: Outcome) -> &'static str {
+    basefit::report::layout::outcome_label(o)
+}
+
+/// See [`cross_check_html`]. On the demo scenario with its recorded results, which has what
+/// makes each check bite: an image with exactly one at-risk cell, failing cells that carry
+/// the version they were pinned to, and recorded surprises, agreements and unsettled cells.
+#[test]
+fn html_cells_footers_bars_and_image_summaries_agree_on_the_demo() {
+    let m = demo_data_matrix();
+    let counts = cross_check_html(&m);
+    assert!(
+        counts.iter().any(|k| k.get("at-risk") == Some(&1)),
+        "{counts:?}"
+    );
+    assert!(
+        m.cells
+            .iter()
+            .any(|c| !c.outcome.resolves() && c.root_version.is_some())
+    );
+    let marks: Vec<Mark> = m
+        .cells
+        .iter()
+        .filter_map(|c| c.recorded.as_ref().map(Mark::of))
+        .collect();
+    for want in [Mark::Agreed, Mark::Surprise, Mark::Unsettled] {
+        assert!(marks.contains(&want), "no {want:?} in the demo");
+    }
+    // The demo's one surprise install, read exactly: a swap of counters would not show in
+    // totals alone.
+    let page = html(&m);
+    let alpine = between(
+        &page,
+        "<li class=\"image-summary\" data-image=\"alpine-3.2\"",
+        "</li>",
+    );
+    assert!(
+        alpine.contains(
+            "<p class=\"image-recorded\">Recorded installs: 1 contradict the prediction</p>"
+        ),
+        "{alpine}"
+    );
+}
+
+/// A matrix with a cell missing (a shard, or `plan` cut short) shows the gap everywhere it
+/// counts cells: the grid has an `o-missing` cell, the bar a missing segment, and the images
+/// section says "1 not planned" (from a mutation review: without it the image's counts read as
+/// the whole column). The Markdown legend explains the `–` its table then shows, and a
+/// complete matrix's legend does not list it.
+#[test]
+fn a_cell_missing_from_the_matrix_is_counted_and_explained() {
+    let full = load("demo-matrix.json");
+    let mut partial = full.clone();
+    let gone = partial.cells.remove(0);
+    let first = &partial.images[0].id;
+    assert_eq!(&gone.image, first);
+    let counts = cross_check_html(&partial);
+    assert_eq!(counts[0].get("missing"), Some(&1));
+    let page = html(&partial);
+    let item = between(
+        &page,
+        &format!("<li class=\"image-summary\" data-image=\"{first}\""),
+        "</li>",
+    );
+    assert!(item.contains("; 1 not planned</p>"), "{item}");
+
+    let legend = format!("- {NO_CELL} not in this matrix (not planned)");
+    let md = markdown(&partial);
+    assert!(md.contains(&format!(" {NO_CELL} |")), "{md}");
+    assert!(md.contains(&legend), "{md}");
+    assert!(!markdown(&full).contains(&legend));
+    cross_check_html(&full);
+}
+
+/// An image with a C compiler but no C++ compiler reads as such in HTML ("C compiler only")
+/// and Markdown ("C only"), apart from a full toolchain and none: from a mutation review, where
+/// a C-only image was described as having the full toolchain, so a reader would expect C++
+/// extensions to build on it.
+#[test]
+fn a_c_only_image_is_not_described_as_a_full_toolchain() {
+    let mut m = load("demo-matrix.json");
+    assert!(m.images.len() >= 3);
+    m.images[0].toolchain = true;
+    m.images[0].cxx = Some(false);
+    m.images[1].toolchain = true;
+    m.images[1].cxx = None;
+    m.images[2].toolchain = false;
+    m.images[2].cxx = None;
+    let page = html(&m);
+    let metas: Vec<&str> = page
+        .split("<div class=\"image-meta\">")
+        .skip(1)
+        .map(|s| &s[..s.find("</div>").unwrap()])
+        .collect();
+    assert!(metas[0].ends_with(" · C compiler only"), "{}", metas[0]);
+    assert!(metas[1].ends_with(" · C toolchain"), "{}", metas[1]);
+    assert!(metas[2].ends_with(" · no C toolchain"), "{}", metas[2]);
+
+    let md = markdown(&m);
+    let images = tables(&md).pop().expect("the images table");
+    let toolchain: Vec<String> = images[2..5]
+        .iter()
+        .map(|row| split_row(row)[5].trim().to_string())
+        .collect();
+    assert_eq!(toolchain, ["C only", "yes", "no"], "{md}");
+}
+
+/// `diff` labels a note by its package and the first image it is for, as documented: a
+/// mutation review found the last image would pass every test. The label must name the first
+/// image in column order, or a reader looks for the note under the wrong column.
+#[test]
+fn keyed_note_labels_name_the_first_image_of_a_shared_note() {
+    let m = load("demo-matrix.json");
+    let md = basefit::report::markdown_keyed(&m);
+    // Every note line starts with its label and then lists its images in column order: the
+    // label's image is the first listed.
+    let notes: Vec<&str> = md.lines().filter(|l| l.starts_with("- **[")).collect();
+    let mut shared = 0;
+    for line in &notes {
+        let label = between(line, "- **[", "]** ");
+        let body = &line[line.find("]** ").unwrap() + 4..];
+        let (who, _) = body.split_once(": ").unwrap();
+        let (package, images) = who.split_once(" on ").unwrap();
+        let first = images.split(", ").next().unwrap();
+        assert_eq!(label, format!("{package} on {first}"), "{line}");
+        shared += usize::from(images.contains(", "));
+    }
+    assert!(shared > 0, "no note is shared by several images:\n{md}");
+    assert!(
+        md.contains("- **[diamond on debian-3.1]** diamond on debian-3.1, debian-3.1-slim,"),
+        "{md}"
+    );
+}
+
+/// Every character a spreadsheet reads as the start of a formula (`=`, `+`, `-`, `@`) or skips
+/// before one (tab, carriage return), and a leading quote, is defused with a leading `'` in
+/// every CSV text field: from a mutation review, where a runtime written `-2+3` went out
+/// unquoted and a spreadsheet would evaluate it.
+#[test]
+fn csv_defuses_every_formula_prefix_in_image_fields() {
+    let prefixes = ['=', '+', '-', '@', '\t', '\r', '\''];
+    let images: Vec<ImageColumn> = prefixes
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let mut img = image(&format!("img{i}"), &format!("{p}fam"));
+            img.runtime = format!("{p}2+3");
+            img
+        })
+        .collect();
+    let cells = images
+        .iter()
+        .map(|img| cell("kiwi-pkg", &img.id, Outcome::Installs))
+        .collect();
+    let m = Matrix {
+        shard: None,
+        planned_from: None,
+        notice: String::new(),
+        native_skipped: false,
+        packages: vec![PackageRow {
+            rank: 1,
+            name: "kiwi-pkg".into(),
+            weight: 1.0,
+            summary: None,
+        }],
+        images: images.clone(),
+        cells,
+    };
+    let text = csv(&m);
+    let mut reader = ::csv::Reader::from_reader(text.as_bytes());
+    let col = |name: &str| COLUMNS.iter().position(|c| *c == name).unwrap();
+    let records: Vec<::csv::StringRecord> =
+        reader.records().collect::<Result<_, _>>().expect("records");
+    assert_eq!(records.len(), prefixes.len());
+    for (rec, img) in records.iter().zip(&images) {
+        assert_eq!(
+            rec.get(col("runtime")),
+            Some(format!("'{}", img.runtime).as_str())
+        );
+        assert_eq!(
+            rec.get(col("family")),
+            Some(format!("'{}", img.family).as_str())
+        );
+    }
+    assert_eq!(basefit::report::csv::defuse("-2+3"), "'-2+3");
+    assert_eq!(basefit::report::csv::defuse("+1"), "'+1");
+    assert_eq!(basefit::report::csv::defuse("@SUM(A1)"), "'@SUM(A1)");
+}
