@@ -1434,3 +1434,189 @@ fn package_evidence_is_for_the_newest_release_chosen() {
     assert_eq!(report.packages.len(), 1);
     assert_eq!(report.packages[0].version, "2.0.0");
 }
+
+/// A trial of a hand-built hint.
+fn trial(
+    version: &str,
+    outcome: basefit::plan::matrix::Outcome,
+    cause: Option<Cause>,
+) -> basefit::plan::explain::Trial {
+    basefit::plan::explain::Trial {
+        version: version.into(),
+        outcome,
+        cause,
+    }
+}
+
+/// The hint lines `explain` prints for a failing cell with these hints.
+fn hint_lines(
+    runtime_hint: Option<basefit::plan::explain::RuntimeHint>,
+    release_hint: Option<basefit::plan::explain::ReleaseHint>,
+) -> Vec<String> {
+    use basefit::plan::matrix::{Cell, Outcome};
+    let e = basefit::plan::explain::Explanation {
+        notice: "notice".into(),
+        native_skipped: false,
+        cell: Cell::new("wombat-io", "deb", Outcome::Fails),
+        tree: Vec::new(),
+        runtime_hint,
+        release_hint,
+    };
+    let text = basefit::report::text::explain_text(&e);
+    let hints = text
+        .split("\nhints:\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("{text}"));
+    hints
+        .lines()
+        .take_while(|l| !l.is_empty())
+        .map(|l| l.trim().to_string())
+        .collect()
+}
+
+/// Every runtime the hint tried is named in exactly one hint line, whatever mix of native
+/// failures, unresolved constraints and budget exhaustion they show: from a mutation review,
+/// where with a native failure at one runtime the line on the runtimes whose constraints do not
+/// resolve could be dropped, leaving the reader unable to tell what happened there.
+#[test]
+fn the_runtime_hint_names_every_runtime_it_tried_once() {
+    use basefit::plan::explain::RuntimeHint;
+    use basefit::plan::matrix::Outcome::{Fails, Undecided};
+    let too_old = || Some(Cause::RuntimeTooOld);
+    let lib = || Some(Cause::MissingSystemLibrary);
+    let budget = || Some(Cause::BudgetExhausted);
+    let hint = |trials| {
+        Some(RuntimeHint {
+            trials,
+            toward_cause: None,
+        })
+    };
+    assert_eq!(
+        hint_lines(
+            hint(vec![
+                trial("2.0.0", Fails, too_old()),
+                trial("3.0.0", Fails, lib())
+            ]),
+            None
+        ),
+        [
+            "at runtime 3.0.0 its version constraints resolve, but it fails: missing-system-library",
+            "at runtime 2.0.0 its version constraints do not resolve",
+            "no declared image's runtime makes it install here",
+        ]
+    );
+    let mixes = [
+        vec![
+            trial("2.0.0", Fails, too_old()),
+            trial("2.5.0", Fails, too_old()),
+            trial("3.0.0", Fails, lib()),
+        ],
+        vec![
+            trial("2.0.0", Fails, too_old()),
+            trial("3.0.0", Undecided, budget()),
+        ],
+        vec![
+            trial("2.0.0", Fails, lib()),
+            trial("3.0.0", Undecided, budget()),
+        ],
+        vec![
+            trial("2.0.0", Fails, too_old()),
+            trial("2.5.0", Fails, lib()),
+            trial("3.0.0", Undecided, budget()),
+        ],
+        vec![
+            trial("2.0.0", Fails, too_old()),
+            trial("3.0.0", Fails, too_old()),
+        ],
+        vec![trial("2.0.0", Fails, lib()), trial("3.0.0", Fails, lib())],
+    ];
+    for trials in mixes {
+        let versions: Vec<String> = trials.iter().map(|t| t.version.clone()).collect();
+        let lines = hint_lines(hint(trials), None);
+        for v in &versions {
+            let naming = lines.iter().filter(|l| l.contains(v.as_str())).count();
+            assert_eq!(naming, 1, "{v} in {lines:#?}");
+        }
+    }
+}
+
+/// Runtimes for a sentence: six are listed in full, a seventh is counted as "and 1 more". From
+/// a mutation review: at exactly six an "and 0 more" was appended unnoticed.
+#[test]
+fn the_runtime_list_counts_what_it_leaves_out() {
+    use basefit::plan::explain::RuntimeHint;
+    use basefit::plan::matrix::Outcome::Fails;
+    let unresolved = |n: usize| {
+        Some(RuntimeHint {
+            trials: (1..=n)
+                .map(|i| trial(&format!("{i}.0.0"), Fails, Some(Cause::RuntimeTooOld)))
+                .collect(),
+            toward_cause: None,
+        })
+    };
+    assert_eq!(
+        hint_lines(unresolved(6), None),
+        [
+            "it resolves at none of the declared images' runtimes (1.0.0, 2.0.0, 3.0.0, 4.0.0, 5.0.0, 6.0.0)"
+        ]
+    );
+    assert_eq!(
+        hint_lines(unresolved(7), None),
+        [
+            "it resolves at none of the declared images' runtimes (1.0.0, 2.0.0, 3.0.0, 4.0.0, 5.0.0, 6.0.0, and 1 more)"
+        ]
+    );
+}
+
+/// Toward the cause, a runtime is called the "nearest" one at which the cell resolves only when
+/// no nearer runtime was left undecided by the budget: the solver may have found one there.
+/// From a mutation review, where "nearest" was claimed regardless and so stated a certainty
+/// the solver did not have.
+#[test]
+fn a_runtime_past_an_undecided_one_is_not_called_the_nearest() {
+    use basefit::plan::explain::{Direction, RuntimeHint, TowardCause};
+    use basefit::plan::matrix::Outcome::{Fails, Installs, Undecided};
+    let with_nearer = |nearer| {
+        Some(RuntimeHint {
+            trials: vec![trial("1.6.0", Installs, None)],
+            toward_cause: Some(TowardCause {
+                direction: Direction::Newer,
+                trials: vec![nearer, trial("3.2.0", Installs, None)],
+            }),
+        })
+    };
+    let lines = hint_lines(
+        with_nearer(trial("3.1.0", Undecided, Some(Cause::BudgetExhausted))),
+        None,
+    );
+    assert_eq!(
+        lines[1],
+        "newer declared runtime at which it resolves, as the cause points: 3.2.0 (installs); nearer: 3.1.0 (the solver ran out of budget (raise --budget))"
+    );
+    let lines = hint_lines(
+        with_nearer(trial("3.1.0", Fails, Some(Cause::RuntimeTooOld))),
+        None,
+    );
+    assert_eq!(
+        lines[1],
+        "nearest newer declared runtime at which it resolves, as the cause points: 3.2.0 (installs); nearer: 3.1.0 (its version constraints do not resolve)"
+    );
+}
+
+/// A release that lists the same dependency twice shows it once in `explain`'s closure tree:
+/// from a mutation review, where without de-duplication the second edge showed as a repeated
+/// `(shown above)` line, reading as a second path to it.
+#[test]
+fn a_dependency_declared_twice_is_one_line_of_the_tree() {
+    let registry = "packages:\n  - name: dupe\n    versions:\n      - {version: \"1.0.0\", depends: [{name: leaf, req: \"^1\"}, {name: leaf, req: \"^1\"}]}\n  - name: leaf\n    versions: [{version: \"1.0.0\"}]\n";
+    let inputs = inputs(registry, "priorities: [dupe]\n");
+    let e = explain(&inputs, "dupe", "deb", &PlanOptions::default()).unwrap();
+    let tree: Vec<(usize, &str, bool)> = e
+        .tree
+        .iter()
+        .map(|l| (l.depth, l.name.as_str(), l.repeated))
+        .collect();
+    assert_eq!(tree, [(0, "dupe", false), (1, "leaf", false)]);
+    let text = basefit::report::text::explain_text(&e);
+    assert!(!text.contains("(shown above)"), "{text}");
+}

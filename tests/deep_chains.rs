@@ -202,3 +202,37 @@ fn the_cause_check_walks_a_deep_chain_below_a_refused_release() {
         assert_eq!(e.cell.cause.map(|c| c.as_str()), Some(cause), "{tail:?}");
     }
 }
+
+/// The closure tree indents up to depth 30 and says the depth of deeper lines instead: a line
+/// at depth 30 is indented and unlabelled, one at 31 carries `(depth 31)` at the same indent.
+/// From a mutation review: only chains far past the cap were tested, so an off-by-one at the
+/// cap went unnoticed and mislabelled the last indented line.
+#[test]
+fn the_tree_indent_stops_exactly_at_its_cap() {
+    use basefit::plan::explain::{Explanation, TreeLine};
+    use basefit::plan::matrix::{Cell, Outcome};
+    let line = |depth: usize, name: &str| TreeLine {
+        depth,
+        name: name.into(),
+        version: "1.0.0".into(),
+        requirement: None,
+        repeated: false,
+    };
+    let e = Explanation {
+        notice: "notice".into(),
+        native_skipped: false,
+        cell: Cell::new("root", "img", Outcome::Installs),
+        tree: vec![line(29, "shallow"), line(30, "capped"), line(31, "deep")],
+        runtime_hint: None,
+        release_hint: None,
+    };
+    let text = basefit::report::text::explain_text(&e);
+    let spaces = |n: usize| " ".repeat(n);
+    for want in [
+        format!("\n{}shallow 1.0.0\n", spaces(60)),
+        format!("\n{}capped 1.0.0\n", spaces(62)),
+        format!("\n{}(depth 31) deep 1.0.0\n", spaces(62)),
+    ] {
+        assert!(text.contains(&want), "{want:?} in {text}");
+    }
+}

@@ -173,3 +173,77 @@ fn explain_hints_agree_with_the_plan() {
         "{text}"
     );
 }
+
+/// The hint lines of `explain` for `package` on `image` in the demo.
+fn demo_hints(package: &str, image: &str) -> Vec<String> {
+    let e =
+        basefit::plan::explain::explain(&demo_inputs(), package, image, &PlanOptions::default())
+            .unwrap();
+    let text = basefit::report::text::explain_text(&e);
+    let hints = text
+        .split("\nhints:\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("{text}"));
+    hints
+        .lines()
+        .take_while(|l| !l.is_empty())
+        .map(|l| l.trim().to_string())
+        .collect()
+}
+
+/// burrowdb on el9-3.0 fails for one cause at every runtime and every release tried: the hints
+/// name the cause once, not once per trial. From a mutation review, where dropping the
+/// de-duplication repeated `missing-system-library` six times, which reads like six different
+/// problems. The demo's six runtimes are listed in full, with no "and 0 more".
+#[test]
+fn explain_hints_name_a_shared_cause_once() {
+    assert_eq!(
+        demo_hints("burrowdb", "el9-3.0"),
+        [
+            "at runtimes 2.4.9, 2.6.3, 2.8.1, 3.0.5, 3.1.2, 3.2.0 its version constraints resolve, but it fails: missing-system-library",
+            "no declared image's runtime makes it install here",
+            "pinned to 1.5.2, 1.4.0, its version constraints resolve, but it fails: missing-system-library",
+            "none of its releases installs on this image",
+        ]
+    );
+    assert_eq!(
+        demo_hints("nosuchpkg", "deb-2.4"),
+        [
+            "it resolves at none of the declared images' runtimes (2.4.9, 2.6.3, 2.8.1, 3.0.5, 3.1.2, 3.2.0)",
+            "it has no release to try on this image",
+        ]
+    );
+}
+
+/// `explain`'s closure tree lists each package's dependencies by name, each followed by its own
+/// subtree: from a mutation review, where reversing the order passed every test. mopoke-docs on
+/// deb-3.2 has three direct dependencies and one nested one.
+#[test]
+fn explain_tree_lists_dependencies_by_name_with_their_subtrees() {
+    let e = basefit::plan::explain::explain(
+        &demo_inputs(),
+        "mopoke-docs",
+        "deb-3.2",
+        &PlanOptions::default(),
+    )
+    .unwrap();
+    let text = basefit::report::text::explain_text(&e);
+    let tree: Vec<&str> = text
+        .split("\nresolved closure:\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("{text}"))
+        .lines()
+        .take_while(|l| !l.is_empty())
+        .collect();
+    assert_eq!(
+        tree,
+        [
+            "  mopoke-docs 1.0.0 [source]",
+            "    pixelmoss 4.1.2 [prebuilt] (wants ^4.1)",
+            "    quandong-templates 1.3.1 [source] (wants ^1.2)",
+            "      rivergum-time 2.1.0 [source] (wants >=1.4)",
+            "    quill-xml 2.0.1 [source] (wants ^2.0)",
+        ],
+        "{text}"
+    );
+}

@@ -184,3 +184,40 @@ fn explain_hints_on_an_undecided_cell_say_they_do_not_know() {
     assert_eq!(e.cell.outcome, Outcome::Installs);
     assert!(e.runtime_hint.is_none() && e.release_hint.is_none());
 }
+
+/// When the budget leaves the lower runtimes undecided and a higher one resolves, the runtime
+/// hint says the cell may resolve lower: "lowest declared runtime ... 3.1.2" alone would read
+/// as certain. From a mutation review, where dropping that caveat passed every test. The
+/// demo's saltbush on deb-2.4 with a budget of 8 steps.
+#[test]
+fn a_resolving_runtime_above_undecided_ones_keeps_its_caveat() {
+    use basefit::load::{InputPaths, load_inputs};
+    use basefit::plan::PlanOptions;
+    use basefit::plan::explain::explain;
+    use basefit::plan::matrix::Outcome;
+    use basefit::report::text::explain_text;
+    let inputs = load_inputs(&InputPaths {
+        registry: vec!["demo-data/registry.yaml".into()],
+        images: Some("matrices/demo-images.yaml".into()),
+        priorities: Some("demo-data/priorities.yaml".into()),
+        ..Default::default()
+    })
+    .unwrap();
+    let tight = PlanOptions {
+        budget: 8,
+        ..PlanOptions::default()
+    };
+    let e = explain(&inputs, "saltbush", "deb-2.4", &tight).unwrap();
+    assert_eq!(e.cell.outcome, Outcome::Undecided);
+    let text = explain_text(&e);
+    let lines: Vec<&str> = text.lines().map(str::trim).collect();
+    let lowest = lines
+        .iter()
+        .position(|l| *l == "lowest declared runtime at which it resolves here: 3.1.2 (installs)")
+        .unwrap_or_else(|| panic!("{text}"));
+    assert_eq!(
+        lines[lowest + 1],
+        "at the lower runtimes 2.4.9, 2.6.3, 2.8.1, 3.0.5 the solver ran out of budget, so it may resolve lower (raise --budget)",
+        "{text}"
+    );
+}
