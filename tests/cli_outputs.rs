@@ -1330,3 +1330,66 @@ fn a_diff_against_a_matrix_without_closures_says_closures_are_not_compared() {
         "{out}"
     );
 }
+
+/// `check` lists up to five examples of each kind of problem and counts the rest: the demo's
+/// five normalised versions are listed with no "and 0 more" line, and a sixth is counted as
+/// "and 1 more". From a mutation review, where the cap was off by one at exactly five.
+#[test]
+fn check_counts_only_the_problems_it_leaves_out() {
+    let (_, demo, stderr) = run(&["check"], &DEMO);
+    let kind = demo
+        .split("(normalised-version): 5\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("five normalised versions in the demo: {demo}{stderr}"));
+    let listed: Vec<&str> = kind.lines().take_while(|l| l.starts_with("  ")).collect();
+    assert_eq!(listed.len(), 5, "{demo}");
+    assert!(!demo.contains("more (see --format json)"), "{demo}");
+
+    let dir = tempfile::tempdir().unwrap();
+    let versions: Vec<String> = (1..=6)
+        .map(|i| format!("{{version: \"v{i}.0\"}}"))
+        .collect();
+    let registry = common::write(
+        dir.path(),
+        "registry.yaml",
+        format!(
+            "packages:\n  - name: numbat-cli\n    versions: [{}]\n",
+            versions.join(", ")
+        ),
+    );
+    let mut args = DEMO.to_vec();
+    args[1] = registry.to_str().unwrap();
+    let (_, six, stderr) = run(&["check"], &args);
+    let kind = six
+        .split("(normalised-version): 6\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("six normalised versions: {six}{stderr}"));
+    let listed: Vec<&str> = kind.lines().take_while(|l| l.starts_with("  ")).collect();
+    assert_eq!(listed.len(), 6, "{six}");
+    assert_eq!(listed[5], "  ... and 1 more (see --format json)", "{six}");
+}
+
+/// `diff` warns that cells moving between installs and a native failure may come from
+/// `--no-native` exactly when one side was planned with it and the other not, and cells
+/// changed; two matrices both planned with `--no-native` get the flag's note but not that
+/// warning. From a mutation review, where the condition could be inverted unnoticed.
+#[test]
+fn diff_warns_of_a_no_native_side_only_when_the_sides_differ_in_it() {
+    const MAY_REFLECT: &str = "cells changing between installs and a native failure may reflect that, not a change in the inputs";
+    let dir = tempfile::tempdir().unwrap();
+    let native = plan_into(&dir.path().join("native"), &[]);
+    let skipped = plan_into(&dir.path().join("skipped"), &["--no-native"]);
+    let tight = plan_into(&dir.path().join("tight"), &["--no-native", "--budget", "8"]);
+
+    let (code, out, stderr) = run(&["diff"], &[&native, &skipped]);
+    assert_eq!(code, 1, "{stderr}");
+    assert_eq!(out.lines().nth(1), Some(MAY_REFLECT), "{out}");
+
+    let (code, out, stderr) = run(&["diff"], &[&skipped, &tight]);
+    assert_eq!(code, 1, "cells changed with the budget: {out}{stderr}");
+    assert!(
+        out.starts_with("both were planned with --no-native"),
+        "{out}"
+    );
+    assert!(!out.contains(MAY_REFLECT), "{out}");
+}

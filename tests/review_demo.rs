@@ -1541,3 +1541,75 @@ fn a_runtime_refusal_that_agrees_points_at_the_image_not_the_metadata() {
         "{s}"
     );
 }
+
+/// The review text's confusion matrix puts each count in its place: predicted failures that
+/// failed (3) and that installed (1) on the `fails` row, missed failures (2) and true installs
+/// (4) below, as the JSON's `confusion` fields count them. From a mutation review, where the
+/// first row's two numbers could swap unnoticed: the table would then report the false alarms
+/// as confirmed failures.
+#[test]
+fn the_review_texts_confusion_matrix_has_each_count_in_its_place() {
+    let inputs = common::demo_inputs(vec!["demo-data/results.yaml".into()]);
+    let matrix = plan(&inputs, &PlanOptions::default());
+    let review = compare_inputs(&matrix, &inputs);
+    let c = &review.confusion;
+    assert_ne!(c.true_failures, c.false_failures);
+    assert_ne!(c.missed_failures, c.true_installs);
+    let text = basefit::report::text::review_text(&review);
+    let table: Vec<Vec<String>> = text
+        .lines()
+        .skip_while(|l| !l.starts_with("predicted \\ recorded"))
+        .skip(1)
+        .take(2)
+        .map(|l| {
+            l.split("  ")
+                .map(str::trim)
+                .filter(|s| !s.is_empty())
+                .map(str::to_string)
+                .collect()
+        })
+        .collect();
+    let row = |label: &str, failed: usize, installed: usize| {
+        vec![label.to_string(), failed.to_string(), installed.to_string()]
+    };
+    assert_eq!(
+        table,
+        [
+            row("fails", c.true_failures, c.false_failures),
+            row("installs or at-risk", c.missed_failures, c.true_installs),
+        ],
+        "{text}"
+    );
+    assert!(
+        text.contains("\nfails                  3       1\n"),
+        "{text}"
+    );
+    assert!(
+        text.contains("\ninstalls or at-risk    2       4\n"),
+        "{text}"
+    );
+}
+
+/// A surprise failure whose log shows no known cause is listed under the heading that already
+/// says so, without a "no known cause in the log" line of its own: from a mutation review,
+/// where the line was repeated under surprises too. Agreed failures, which have no such heading,
+/// keep it (`an_agreed_failure_says_when_its_log_shows_no_known_cause`).
+#[test]
+fn a_surprise_failure_with_an_unrecognised_log_is_not_told_twice() {
+    let dir = tempfile::tempdir().unwrap();
+    let (_, text) = review_file(
+        dir.path(),
+        "results.yaml",
+        "results:\n  - {package: tidewater-http, image: deb-3.2, outcome: failed, log: \"something odd happened\"}\n",
+        "table",
+    );
+    let section = text
+        .split("failed, cause not recognised in the log:")
+        .nth(1)
+        .unwrap_or_else(|| panic!("no unrecognised-cause group in {text}"));
+    assert!(
+        section.contains("tidewater-http on deb-3.2: surprise-failure"),
+        "{text}"
+    );
+    assert!(!text.contains("no known cause in the log"), "{text}");
+}
