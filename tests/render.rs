@@ -954,6 +954,13 @@ fn a_cell_missing_from_the_matrix_is_counted_and_explained() {
     assert!(md.contains(&legend), "{md}");
     assert!(!markdown(&full).contains(&legend));
     cross_check_html(&full);
+    // A partial matrix's cells are found by name, not by a position another cell now holds.
+    for c in &partial.cells {
+        let found = partial.cell(&c.package, &c.image).unwrap();
+        assert_eq!((&found.package, &found.image), (&c.package, &c.image));
+    }
+    assert!(partial.cell(&gone.package, &gone.image).is_none());
+    assert!(partial.row(partial.packages.len() - 1).is_empty());
 }
 
 /// An image with a C compiler but no C++ compiler reads as such in HTML ("C compiler only")

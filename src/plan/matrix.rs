@@ -354,15 +354,28 @@ pub struct Matrix {
 }
 
 impl Matrix {
+    /// The cell of `package` on `image`. A whole matrix holds it at its position; a shard's
+    /// holds only some cells, so there it is looked up by name (by position it was another
+    /// cell, found by a test of a partial matrix).
     pub fn cell(&self, package: &str, image: &str) -> Option<&Cell> {
         let row = self.packages.iter().position(|p| p.name == package)?;
         let col = self.images.iter().position(|i| i.id == image)?;
-        self.cells.get(row * self.images.len() + col)
+        match self.cells.get(row * self.images.len() + col) {
+            Some(c) if c.package == package && c.image == image => Some(c),
+            _ => self
+                .cells
+                .iter()
+                .find(|c| c.package == package && c.image == image),
+        }
     }
 
+    /// The cells of row `index` of a whole matrix ([`Matrix::check_layout`]); empty where the
+    /// matrix does not hold the whole row.
     pub fn row(&self, index: usize) -> &[Cell] {
         let n = self.images.len();
-        &self.cells[index * n..(index + 1) * n]
+        self.cells
+            .get(index.saturating_mul(n)..index.saturating_add(1).saturating_mul(n))
+            .unwrap_or(&[])
     }
 
     /// Whether this is a whole matrix laid out as `plan` writes it: one cell per package row
