@@ -322,7 +322,38 @@ fn read_matrix_for_results(
     require_results_context(inputs, paths, command)?;
     let matrix = read_matrix(path)?;
     require_planned_images(&matrix, path, inputs, paths)?;
+    require_planned_registry(&matrix, path, inputs, paths)?;
     Ok(matrix)
+}
+
+/// Refuses a registry other than the snapshot a matrix read from a file was planned from
+/// (when the matrix records it): recorded versions would be looked up, and surprise installs
+/// solved, in releases the predictions never saw, so advice would point at the wrong thing.
+fn require_planned_registry(
+    matrix: &Matrix,
+    matrix_path: &std::path::Path,
+    inputs: &Inputs,
+    paths: &InputPaths,
+) -> Result<(), BadInput> {
+    let Some(planned) = &matrix.registry_fingerprint else {
+        return Ok(());
+    };
+    let given = plan::replan::registry_fingerprint(&inputs.registry);
+    if *planned == given {
+        return Ok(());
+    }
+    Err(BadInput::file(
+        registry_files(paths).join(", "),
+        format!(
+            "is not the registry snapshot the matrix {} was planned from (fingerprint {given}, the matrix records {planned}): give the registry it was planned from, or plan again",
+            matrix_path.display()
+        ),
+    ))
+}
+
+/// Records the registry `matrix` was planned from, for a later `--matrix` read to check.
+fn stamp_registry(matrix: &mut Matrix, inputs: &Inputs) {
+    matrix.registry_fingerprint = Some(plan::replan::registry_fingerprint(&inputs.registry));
 }
 
 /// Refuses an images file that does not declare every image of a matrix read from a file as
@@ -539,10 +570,11 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
             run(o.shard)
         ));
     }
-    let (cache, stats) = match &o.cache {
+    let (mut cache, stats) = match &o.cache {
         Some(_) => plan::replan::replan(&inputs, &o.plan, previous, o.shard),
         None => plan::replan::plan_uncached(&inputs, &o.plan, o.shard),
     };
+    stamp_registry(&mut cache.matrix, &inputs);
     let matrix = &cache.matrix;
     if let Some(dir) = &o.out {
         let bar = o.plan.progress.as_ref();
@@ -1234,7 +1266,9 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         Some(p) => read_matrix(p)?,
         None => {
             require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
-            plan::plan(&inputs, &o.plan)
+            let mut matrix = plan::plan(&inputs, &o.plan);
+            stamp_registry(&mut matrix, &inputs);
+            matrix
         }
     };
     // Results given but none usable are refused as in `review`, not rendered as a matrix

@@ -1051,3 +1051,92 @@ fn a_matrix_file_extension_is_read_in_any_case() {
         assert!(stdout.contains("the matrices agree"), "{name}: {stdout}");
     }
 }
+
+/// A matrix records the registry snapshot it was planned from; `review` and `render` given it
+/// with recorded results refuse another snapshot, whose releases the predictions never saw
+/// (an end-to-end review found a drift explained from an un-yanked release the plan had not
+/// seen). The same snapshot in another file order is the same snapshot, a matrix without the
+/// record is not checked, and `diff` does not count a snapshot change that moves no cell.
+#[test]
+fn a_matrix_read_with_results_must_come_from_the_registry_given() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("p"), None);
+    let demo = std::fs::read_to_string("demo-data/registry.yaml").unwrap();
+    // A package nobody depends on: no cell moves, but the snapshot is another one.
+    let grown = dir.path().join("grown.yaml");
+    std::fs::write(
+        &grown,
+        format!("{demo}  - name: lonely-leaf\n    versions:\n      - {{version: \"1.0.0\"}}\n"),
+    )
+    .unwrap();
+    let with = |registry: &str, matrix: &str, command: &str| {
+        run_basefit([
+            command,
+            "--quiet",
+            "--matrix",
+            matrix,
+            "--results",
+            "demo-data/results.yaml",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--registry",
+            registry,
+        ])
+    };
+    for command in ["review", "render"] {
+        let (code, _, stderr) = with(grown.to_str().unwrap(), &matrix, command);
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "grown.yaml: is not the registry snapshot the matrix {matrix} was planned from"
+            )),
+            "{command}: {stderr}"
+        );
+        let (code, _, stderr) = with("demo-data/registry.yaml", &matrix, command);
+        assert_ne!(code, 2, "{command}: {stderr}");
+    }
+    // The demo's packages in reverse order: the same snapshot.
+    let value: serde_yaml::Value = serde_yaml::from_str(&demo).unwrap();
+    let mut packages = value["packages"].as_sequence().unwrap().clone();
+    packages.reverse();
+    let reversed = dir.path().join("reversed.yaml");
+    std::fs::write(
+        &reversed,
+        serde_yaml::to_string(&serde_yaml::Mapping::from_iter([(
+            "packages".into(),
+            serde_yaml::Value::Sequence(packages),
+        )]))
+        .unwrap(),
+    )
+    .unwrap();
+    let (code, _, stderr) = with(reversed.to_str().unwrap(), &matrix, "review");
+    assert_ne!(code, 2, "{stderr}");
+    // Without the record (a matrix from before it), nothing is checked.
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    assert!(m["registry_fingerprint"].is_string(), "{m}");
+    m.as_object_mut().unwrap().remove("registry_fingerprint");
+    let old = dir.path().join("old.json");
+    std::fs::write(&old, serde_json::to_string(&m).unwrap()).unwrap();
+    let (code, _, stderr) = with(grown.to_str().unwrap(), old.to_str().unwrap(), "review");
+    assert_ne!(code, 2, "{stderr}");
+    // diff: the support matrix is the same.
+    let out = dir.path().join("g");
+    let (code, _, stderr) = run_basefit([
+        "plan",
+        "--quiet",
+        "--registry",
+        grown.to_str().unwrap(),
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        "demo-data/priorities.yaml",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let after = out.join("matrix.json");
+    let (code, stdout, _) = run_basefit(["diff", &matrix, after.to_str().unwrap()]);
+    assert_eq!(code, 0, "{stdout}");
+    assert!(stdout.starts_with("the matrices agree\n"), "{stdout}");
+}

@@ -128,6 +128,7 @@ fn hostile() -> Matrix {
     Matrix {
         shard: None,
         planned_from: None,
+        registry_fingerprint: None,
         notice: "<b>not the notice</b>".into(),
         native_skipped: false,
         images,
@@ -601,6 +602,7 @@ fn partial_and_odd_matrices_render_without_panicking() {
         cells: Vec::new(),
         shard: None,
         planned_from: None,
+        registry_fingerprint: None,
     };
     let no_images = Matrix {
         images: Vec::new(),
@@ -1046,6 +1048,7 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
     let m = Matrix {
         shard: None,
         planned_from: None,
+        registry_fingerprint: None,
         notice: String::new(),
         native_skipped: false,
         packages: vec![PackageRow {

@@ -351,6 +351,14 @@ pub struct Matrix {
     /// priorities, catalog, options, basefit version), so that only shards of one plan merge.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub planned_from: Option<String>,
+    /// A fingerprint of the registry snapshot the matrix was planned from (every package's
+    /// releases, requirements, builds, flags and native hints; not the order of the files),
+    /// written by the `plan`, `merge` and `render` commands: `review` and `render` given the
+    /// matrix and recorded results refuse another registry, whose releases would be read
+    /// against predictions it did not make. Absent in matrices written before it, which are
+    /// not checked.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub registry_fingerprint: Option<String>,
 }
 
 impl Matrix {
@@ -396,6 +404,7 @@ impl Matrix {
     ///     cells: Vec::new(),
     ///     shard: None,
     ///     planned_from: None,
+    ///     registry_fingerprint: None,
     /// };
     /// assert!(m.check_layout().is_ok());
     /// m.packages.push(basefit::plan::matrix::PackageRow {
@@ -838,6 +847,7 @@ pub fn plan_only(
         cells,
         shard: None,
         planned_from: None,
+        registry_fingerprint: None,
     }
 }
 

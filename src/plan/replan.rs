@@ -256,15 +256,9 @@ fn entry_fingerprint(entry: &Priority) -> u64 {
 /// computed from. Package prints are summed, so the order the registry was read in does not
 /// matter; each is scrambled first so that sums of similar prints do not collide.
 fn planned_from(inputs: &Inputs, options: &PlanOptions) -> String {
-    let registry = &inputs.registry;
-    let ids: Vec<PackageId> = registry.ids().collect();
-    let packages = ids
-        .par_iter()
-        .map(|&id| scramble(Prints::of(registry, id).whole))
-        .reduce(|| 0, u64::wrapping_add);
     let mut h = Fnv::new();
     h.number(global_fingerprint(inputs, options))
-        .number(packages);
+        .number(packages_print(&inputs.registry));
     for image in &inputs.images.images {
         h.number(image_fingerprint(image));
     }
@@ -272,6 +266,21 @@ fn planned_from(inputs: &Inputs, options: &PlanOptions) -> String {
         h.number(entry_fingerprint(entry));
     }
     format!("{:016x}", h.0)
+}
+
+/// Every package's print, summed: the registry's content, whatever order it was read in.
+fn packages_print(registry: &crate::model::Registry) -> u64 {
+    let ids: Vec<PackageId> = registry.ids().collect();
+    ids.par_iter()
+        .map(|&id| scramble(Prints::of(registry, id).whole))
+        .reduce(|| 0, u64::wrapping_add)
+}
+
+/// The fingerprint of a registry snapshot that a matrix records
+/// ([`crate::plan::Matrix::registry_fingerprint`]): equal for snapshots that hold the same
+/// packages and releases, whatever their files' order.
+pub fn registry_fingerprint(registry: &crate::model::Registry) -> String {
+    format!("{:016x}", packages_print(registry))
 }
 
 /// The splitmix64 finaliser: spreads every input bit over the whole word.
@@ -1400,6 +1409,8 @@ fn replan_keeping(
         cells,
         shard,
         planned_from: shard.map(|_| planned_from(inputs, options)),
+        // Left to the command that writes the matrix: a re-plan's fixed cost would double.
+        registry_fingerprint: None,
     };
     (
         PlanCache {
@@ -1618,6 +1629,8 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         cells,
         shard: None,
         planned_from: None,
+        // Equal on every part: their `planned_from`, which covers the registry, agree.
+        registry_fingerprint: first.registry_fingerprint.clone(),
     })
 }
 

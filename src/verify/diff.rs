@@ -116,7 +116,8 @@ pub struct MatrixDiff {
     /// with [`crate::report::markdown_keyed`], whose note labels do not shift when another
     /// cell changes.
     pub unified: String,
-    /// Whether the matrices differ at all, their notices aside: a closure's version, a
+    /// Whether the matrices differ at all, their notices and registry fingerprints aside (a
+    /// new snapshot that changes no prediction leaves the support matrix as it was): a
     /// summary, an image's packages or a weight below the rounding shown change neither a
     /// cell's brief nor the rendering, yet the files are not the same.
     pub differ: bool,
@@ -192,11 +193,13 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
     let differ = if closures.before || closures.after {
         Matrix {
             notice: after.notice.clone(),
+            registry_fingerprint: after.registry_fingerprint.clone(),
             ..without_closures(before)
         } != without_closures(after)
     } else {
         Matrix {
             notice: after.notice.clone(),
+            registry_fingerprint: after.registry_fingerprint.clone(),
             ..before.clone()
         } != *after
     };
