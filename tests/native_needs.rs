@@ -913,6 +913,45 @@ fn installs_and_failures_tell_c_from_cxx() {
     assert_eq!(c["cause_agrees"], true, "{c}");
 }
 
+/// GMP's C++ interface (`gmpxx.h`, `-lgmpxx`) compiles C++, though the same development
+/// package ships it beside the C one: a build declaring it is told to add g++ on an image with
+/// a C compiler only, and one declaring plain GMP is not. Before, both were one catalog entry
+/// without the C++ mark, and the C++ build was predicted to install there. Debian 12 ships
+/// `gmpxx.h` in libgmp-dev and `libgmpxx.so.4` in libgmpxx4ldbl (the archive extract under
+/// tests/data/debian-archive, which `tests/native_catalog.rs` checks the entries against).
+#[test]
+fn gmp_s_cxx_interface_needs_the_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("bigfrac", "gmpxx", ""),
+        package("bigint-c", "gmp", "src/ext/big.c"),
+        package("bigfrac-link", "libgmpxx", "src/ext/frac.c"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, libgmp-dev]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["bigfrac", "bigint-c", "bigfrac-link"],
+    );
+    expect_explained(
+        &args,
+        &[
+            ("bigfrac", "d-c", 1, "g++"),
+            ("bigfrac-link", "d-c", 1, "g++"),
+            ("bigint-c", "d-c", 0, ""),
+        ],
+    );
+}
+
 /// Objective-C (`.m`) and Objective-C++ (`.mm`) sources build only with compilers that no C or
 /// C++ toolchain package brings: the gcc driver runs `cc1obj` and `cc1objplus` for them, and
 /// on this project's machine, which has gcc and g++ but not gobjc, `gcc -c x.m` fails for
