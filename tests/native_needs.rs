@@ -538,6 +538,13 @@ fn an_image_with_a_c_compiler_only_builds_c_and_is_told_to_add_the_cxx_compiler(
                 1,
                 "has a C compiler but no C++ compiler; add: g++",
             ),
+            // The explanation names the package that compiles C++ and what shows it.
+            (
+                "zip-cxx",
+                "d-c",
+                1,
+                "a build in the closure compiles C++ (zip-cxx: ships src/ext/inflate.cpp, a C++ source), and d-c has",
+            ),
             (
                 "zip-cxx",
                 "a-c",
@@ -1129,4 +1136,29 @@ fn an_image_extending_a_c_only_base_stays_c_only() {
         assert_eq!(code, 1, "{img}: {stdout}{stderr}");
         assert!(stdout.contains("gcc-c++"), "{img}: {stdout}");
     }
+}
+
+/// An at-risk cell that may need the C++ compiler says which closure package and why, so the
+/// reader need not search the closure: a dependency shipping a `CMakeLists.txt` (whose build
+/// likely enables C++) below an entry that ships nothing native.
+#[test]
+fn a_cxx_need_names_the_package_that_has_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n  - name: meshview\n    versions:\n      - version: \"1.0.0\"\n        depends: [{{name: meshcore}}]\n{}",
+        package("meshcore", "", "CMakeLists.txt, src/mesh.c"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image("d-c", "debian", "    packages: [gcc, make, libc6-dev]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["meshview"]);
+    let (code, stdout, _) = run(&["explain", "meshview", "d-c"], &args);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(
+        stdout.contains(
+            "probably needs: g++; the C++ compiler for meshcore: ships CMakeLists.txt, whose build enables C++"
+        ),
+        "{stdout}"
+    );
 }

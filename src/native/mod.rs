@@ -278,47 +278,49 @@ pub fn release_evidence(
 }
 
 /// How sure it is that the source build of `pin`, a native build of confidence `native` with
-/// the library needs `libs`, compiles C++: as sure as the native build when it ships a C++
-/// source, as sure as the need of a library whose interface is C++ only; not at all when its
-/// shipped sources are all of other languages; only possibly when no source shows which
-/// language it builds (a declared library alone, a build file), since many bindings are C++.
+/// the library needs `libs`, compiles C++, and what shows it: as sure as the native build when
+/// it ships a C++ source, as sure as the need of a library whose interface is C++ only; not at
+/// all when its shipped sources are all of other languages; only possibly when no source shows
+/// which language it builds (a declared library alone, a build file), since many bindings are
+/// C++.
 fn cxx_need(
     registry: &Registry,
     catalog: &Catalog,
     pin: &Pin,
     libs: &[(Option<String>, Confidence, Vec<String>)],
     native: Confidence,
-) -> Option<Confidence> {
+) -> Option<(Confidence, String)> {
     // A library whose interface is C++ only: as sure as the need of it.
     let cxx_library = libs
         .iter()
-        .filter(|(l, _, _)| {
-            l.as_deref()
-                .and_then(|id| catalog.get(id))
-                .is_some_and(|l| l.cxx)
+        .filter_map(|(l, c, _)| {
+            let id = l.as_deref()?;
+            catalog.get(id).is_some_and(|l| l.cxx).then_some((*c, id))
         })
-        .map(|(_, c, _)| *c)
         .max();
     let release = &registry.package(pin.package).releases[pin.index as usize];
     let files = release.native.as_ref().map_or(&[][..], |n| &n.files[..]);
     let base = |f: &str| f.rsplit('/').next().unwrap_or(f).to_string();
-    if files
+    if let Some(f) = files
         .iter()
-        .any(|f| CXX_SOURCE_ENDINGS.iter().any(|e| base(f).ends_with(e)))
+        .find(|f| CXX_SOURCE_ENDINGS.iter().any(|e| base(f).ends_with(e)))
     {
-        return Some(native);
+        return Some((native, format!("ships {f}, a C++ source")));
     }
-    if cxx_library.is_some() {
-        return cxx_library;
+    if let Some((c, id)) = cxx_library {
+        return Some((c, format!("needs {id}, whose interface is C++")));
     }
     // CMake's `project()` enables C and C++ unless its `LANGUAGES` says otherwise, and fails
     // without a C++ compiler; node-gyp builds link with the C++ compiler (both from memory).
     // Whatever the sources, such a build likely needs C++.
-    if files
+    if let Some(f) = files
         .iter()
-        .any(|f| matches!(base(f).as_str(), "CMakeLists.txt" | "binding.gyp"))
+        .find(|f| matches!(base(f).as_str(), "CMakeLists.txt" | "binding.gyp"))
     {
-        return Some(native.min(Confidence::Likely));
+        return Some((
+            native.min(Confidence::Likely),
+            format!("ships {f}, whose build enables C++"),
+        ));
     }
     // A `.h` header is C's and C++'s alike: it tells no language.
     let sources_known = files.iter().any(|f| {
@@ -328,7 +330,12 @@ fn cxx_need(
                 .iter()
                 .any(|e| *e != ".h" && b.ends_with(e))
     });
-    (!sources_known).then_some(Confidence::Possible)
+    (!sources_known).then(|| {
+        (
+            Confidence::Possible,
+            "shows no source, so its language is unknown".to_string(),
+        )
+    })
 }
 
 /// A native need of a resolved closure, and the package it comes through.
@@ -351,6 +358,9 @@ pub struct Assessment {
     /// Strongest confidence among source builds that need a C++ compiler, when the image has a
     /// C compiler only (see [`cxx_need`]).
     pub cxx_missing: Option<Confidence>,
+    /// The closure packages whose source builds need that C++ compiler, each with what shows
+    /// it, strongest first: `hashcore: ships src/ext/hash.cpp, a C++ source`.
+    pub cxx_because: Vec<(Confidence, String)>,
     /// System packages to add, each with the strongest confidence that asks for it.
     pub missing: Vec<(String, Confidence)>,
     /// Libraries needed but not in the catalog, so no package can be named for them.
@@ -422,9 +432,10 @@ pub fn assess(
             && image.toolchain
             && !image.cxx
             && let Some(native) = libs.iter().map(|(_, c, _)| *c).max()
-            && let Some(c) = cxx_need(registry, catalog, pin, &libs, native)
+            && let Some((c, why)) = cxx_need(registry, catalog, pin, &libs, native)
         {
             a.cxx_missing = Some(a.cxx_missing.map_or(c, |m| m.max(c)));
+            a.cxx_because.push((c, format!("{via}: {why}")));
         }
         for (library, confidence, details) in libs {
             if pin.build == BuildKind::Source && !image.toolchain {
@@ -470,6 +481,9 @@ pub fn assess(
     if let Some(c) = a.cxx_missing {
         add_missing(cxx_compiler_package(image.family), c, &mut missing);
     }
+    // Strongest first, then by package: the explanation names the first.
+    a.cxx_because
+        .sort_by(|x, y| y.0.cmp(&x.0).then_with(|| x.1.cmp(&y.1)));
     a.missing = missing.into_iter().collect();
     a.unknown_libraries = unknown.into_iter().collect();
     a

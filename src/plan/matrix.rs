@@ -690,17 +690,30 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
             a.unknown_libraries.join(", ")
         ),
     };
+    // Which closure package needs the C++ compiler, and why: "needs g++" alone leaves the
+    // reader to search the closure for it.
+    let cxx_because = match a.cxx_because.as_slice() {
+        [] => String::new(),
+        [(_, one)] => one.clone(),
+        [(_, first), rest @ ..] => format!("{first}; and {} more", rest.len()),
+    };
     // What a certain toolchain failure lacks: any compiler, or on a C-only image the C++ one.
     let lacks = match (a.toolchain_missing, a.cxx_missing) {
-        (Some(Confidence::Certain), _) => Some(("", "has no C toolchain")),
-        (_, Some(Confidence::Certain)) => Some((" as C++", "has a C compiler but no C++ compiler")),
+        (Some(Confidence::Certain), _) => Some((
+            "a declared native library must be compiled".to_string(),
+            "has no C toolchain",
+        )),
+        (_, Some(Confidence::Certain)) => Some((
+            format!("a build in the closure compiles C++ ({cxx_because})"),
+            "has a C compiler but no C++ compiler",
+        )),
         _ => None,
     };
-    if let Some((from, has)) = lacks {
+    if let Some((what, has)) = lacks {
         cell.outcome = Outcome::Fails;
         cell.cause = Some(Cause::MissingToolchain);
         cell.explanation.push(format!(
-            "a declared native library must be compiled{from}, and {} {has}{}{unmapped}",
+            "{what}, and {} {has}{}{unmapped}",
             image.id,
             add_list(&cell.missing_system_packages)
         ));
@@ -726,6 +739,9 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
                 true => "probably needs a C toolchain".to_string(),
                 false => format!("probably needs: {}", cell.missing_system_packages.join(" ")),
             });
+            if a.cxx_missing.is_some() {
+                why.push(format!("the C++ compiler for {cxx_because}"));
+            }
         }
         if !a.unknown_libraries.is_empty() {
             why.push(format!(
