@@ -1613,3 +1613,30 @@ fn a_surprise_failure_with_an_unrecognised_log_is_not_told_twice() {
     );
     assert!(!text.contains("no known cause in the log"), "{text}");
 }
+
+/// A runtime refusal that found another runtime than the image declares does not agree with
+/// the prediction, whatever its requirement: the image is not what the plan assumed, so the
+/// advice is to correct its declaration, not to move the package to another runtime (from a
+/// review of the advice above, where a log finding 3.2.0 on an image declared 2.4.9 read as
+/// "cause agrees"). The runtime is read as leniently as an image's (`2.4.9` and `2.4.9.0`
+/// name the same one).
+#[test]
+fn a_runtime_refusal_on_an_undeclared_runtime_does_not_agree() {
+    let review = review_of(
+        "results:
+  - {package: saltbush, image: deb-2.4, outcome: failed, log: \"runtime refused: requires >=4.0, found 3.2.0\"}
+  - {package: saltbush, image: deb-2.8, outcome: failed, log: \"runtime refused: requires >=3.1, found 2.8.1.0\"}
+",
+    );
+    let moved = cell(&review, "saltbush", "deb-2.4");
+    assert_eq!(moved.verdict, Verdict::AgreedFailure);
+    assert_eq!(moved.cause_agrees, Some(false));
+    let s = moved.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("but deb-2.4 declares runtime 2.4.9: the image declaration is out of date")
+            && !s.contains("as the metadata said"),
+        "{s}"
+    );
+    let same = cell(&review, "saltbush", "deb-2.8");
+    assert_eq!(same.cause_agrees, Some(true), "{same:?}");
+}

@@ -163,9 +163,32 @@ impl Review {
     }
 }
 
+/// The runtime a log's refusal found, when it is not the one the cell's image declares: the
+/// install ran on another runtime than the plan assumed, so the image declaration is out of
+/// date (or the install ran elsewhere), whatever else the refusal says.
+fn undeclared_runtime<'a>(
+    images: &'a ImageSet,
+    cell: &crate::plan::matrix::Cell,
+    log: &'a LogCause,
+) -> Option<(&'a str, &'a semver::Version)> {
+    let LogCause::RuntimeRefused { found, .. } = log else {
+        return None;
+    };
+    let image = images.get(&cell.image)?;
+    let read = crate::load::lenient::read_version(found);
+    read.version()?
+        .cmp_precedence(&image.runtime)
+        .is_ne()
+        .then_some((found.as_str(), &image.runtime))
+}
+
 /// Whether a log cause confirms the cause `cell` was predicted to fail with.
-fn agrees(cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
+fn agrees(images: &ImageSet, cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
     let predicted = cell.cause?;
+    // A refusal of a runtime the image does not declare shows the image is not as planned.
+    if undeclared_runtime(images, cell, log).is_some() {
+        return Some(false);
+    }
     let expected: &[Cause] = match log {
         // On an image with a C compiler only, for a cell that needs the C++ compiler: a
         // missing C++ compiler confirms the prediction whatever cause it named (the C++
@@ -432,6 +455,13 @@ fn suggest(
             "{image_id} lacks a C toolchain: add {}",
             crate::native::toolchain_packages(image.family).join(" ")
         )),
+        LogCause::RuntimeRefused { required, .. }
+            if let Some((found, declared)) = undeclared_runtime(images, cell, cause) =>
+        {
+            Some(format!(
+                "the installer refused runtime {found} (requires {required}), but {image_id} declares runtime {declared}: the image declaration is out of date, or the install ran on another image; correct it and plan again before judging the metadata"
+            ))
+        }
         // Predicted so from the metadata: the log confirms it, and what to change is the
         // image's runtime, not the requirement.
         LogCause::RuntimeRefused { required, found }
@@ -1027,7 +1057,7 @@ pub fn compare_within(
             attempts,
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
-                (Verdict::AgreedFailure, Some(c)) => agrees(cell, c),
+                (Verdict::AgreedFailure, Some(c)) => agrees(images, cell, c),
                 (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
                 _ => None,
             },
