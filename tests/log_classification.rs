@@ -534,6 +534,16 @@ fn sample_lines_for_each_cause() {
             compiler("gfortran"),
         ),
         ("No CMAKE_OBJC_COMPILER could be found.", compiler("cc1obj")),
+        // source: gcc 12 on this project's machine, which has no gobjc: `gcc -c x.m` and
+        // `gcc -c x.mm` in a UTF-8 locale (typographic quotes) and in the C locale.
+        (
+            "gcc: fatal error: cannot execute \u{2018}cc1obj\u{2019}: execvp: No such file or directory",
+            compiler("cc1obj"),
+        ),
+        (
+            "gcc: fatal error: cannot execute 'cc1objplus': execvp: No such file or directory",
+            compiler("cc1objplus"),
+        ),
         (
             "No CMAKE_OBJCXX_COMPILER could be found.",
             compiler("cc1objplus"),

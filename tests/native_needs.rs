@@ -1162,3 +1162,66 @@ fn a_cxx_need_names_the_package_that_has_it() {
         "{stdout}"
     );
 }
+
+/// gcc reads `.M` as Objective-C++ and `.mi`/`.mii` as preprocessed Objective-C and C++
+/// (`gcc -c x.M` on this project's machine names `cc1objplus`, `x.mi` names `cc1obj`): such a
+/// release is a native build needing those compilers, where `.M` once gave no evidence at all
+/// and was predicted to install on an image without a compiler. A release whose only native
+/// files are `.m` ones may be shipping MATLAB or Octave scripts: its Objective-C need is only
+/// possible (both from a review of this session's changes).
+#[test]
+fn objective_c_endings_and_lone_m_files() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("numbat-upper", "", "src/ext/view.M"),
+        package("numbat-pre", "", "src/ext/view.mi"),
+        package("bandicoot-plot", "", "lib/plot.ql, examples/octave/plot.m"),
+    );
+    let images = format!(
+        "images:\n{}{}",
+        image(
+            "slim",
+            "debian",
+            "    toolchain: false\n    packages: [ca-certificates]\n"
+        ),
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["numbat-upper", "numbat-pre", "bandicoot-plot"],
+    );
+    expect_explained(
+        &args,
+        &[
+            ("numbat-upper", "slim", 1, "build-essential"),
+            ("numbat-upper", "full", 1, "probably needs: gobjc++"),
+            ("numbat-pre", "full", 1, "probably needs: gobjc"),
+            (
+                "bandicoot-plot",
+                "full",
+                1,
+                "gobjc [possible] via bandicoot-plot: ships Objective-C source examples/octave/plot.m",
+            ),
+        ],
+    );
+    // The real gcc driver agrees on which compiler proper each ending needs.
+    let src = dir.path().join("src");
+    std::fs::create_dir_all(&src).unwrap();
+    for (file, proper) in [("y.M", "cc1objplus"), ("w.mi", "cc1obj")] {
+        std::fs::write(src.join(file), "int main(void) { return 0; }\n").unwrap();
+        match std::process::Command::new("gcc")
+            .args(["-c", file])
+            .current_dir(&src)
+            .output()
+        {
+            Ok(o) if !o.status.success() => {
+                let text = String::from_utf8_lossy(&o.stderr).to_string();
+                assert!(text.contains(proper), "gcc -c {file}: {text}");
+            }
+            _ => eprintln!("skipped gcc -c {file}: gcc is missing or has {proper} here"),
+        }
+    }
+}

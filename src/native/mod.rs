@@ -56,7 +56,8 @@ pub struct Evidence {
 /// File name endings that mean compiled native code or a native build (common practice, no
 /// source).
 const NATIVE_SOURCE_ENDINGS: &[&str] = &[
-    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".m", ".mm", ".s", ".S",
+    ".c", ".cc", ".cpp", ".cxx", ".c++", ".h", ".hh", ".hpp", ".hxx", ".mm", ".M", ".mi", ".mii",
+    ".s", ".S",
 ];
 /// C++ source and header endings (common practice, no source; `.C` is left out, since on a
 /// file system that ignores case it is a C file's name, and Objective-C++'s `.mm` too: it
@@ -78,16 +79,22 @@ pub struct CatalogCompiler {
     /// The compiler proper the gcc driver runs for such a source: `gcc: fatal error: cannot
     /// execute 'cc1obj'` names it when the package is not installed.
     pub proper: &'static str,
+    /// How surely its sources alone show a native build: `.m` is also the ending of MATLAB
+    /// and Octave scripts (common practice, no source), so a release whose only native files
+    /// are `.m` ones possibly builds Objective-C; beside other native sources or build files,
+    /// likely.
+    pub alone: Confidence,
 }
 
 /// The compilers the catalog holds as libraries.
 ///
 /// - Fortran: the suffixes gfortran compiles as Fortran, fixed and free form, the upper-case
 ///   ones preprocessed (from memory); its compiler proper is `f951`.
-/// - Objective-C (`.m`) and Objective-C++ (`.mm`): the gcc driver runs `cc1obj` and
-///   `cc1objplus` for them (made for real on this project's machine, which has neither:
-///   `gcc -c x.m` says "cannot execute 'cc1obj'"), which ship in `gobjc` and `gobjc++` on
-///   Debian, not in `gcc` or `g++`.
+/// - Objective-C (`.m`, preprocessed `.mi`) and Objective-C++ (`.mm`, `.M`, preprocessed
+///   `.mii`): the gcc driver runs `cc1obj` and `cc1objplus` for them (made for real on this
+///   project's machine, which has neither: `gcc -c x.m` says "cannot execute 'cc1obj'", and
+///   `x.M` names `cc1objplus`), which ship in `gobjc` and `gobjc++` on Debian, not in `gcc` or
+///   `g++`.
 ///
 /// ```
 /// use basefit::native::{CATALOG_COMPILERS, compiler_of_source};
@@ -106,20 +113,23 @@ pub const CATALOG_COMPILERS: &[CatalogCompiler] = &[
         ],
         driver: Some("gfortran"),
         proper: "f951",
+        alone: Confidence::Likely,
     },
     CatalogCompiler {
         language: "Objective-C",
         library: "gobjc",
-        endings: &[".m"],
+        endings: &[".m", ".mi"],
         driver: None,
         proper: "cc1obj",
+        alone: Confidence::Possible,
     },
     CatalogCompiler {
         language: "Objective-C++",
         library: "gobjc++",
-        endings: &[".mm"],
+        endings: &[".mm", ".M", ".mii"],
         driver: None,
         proper: "cc1objplus",
+        alone: Confidence::Likely,
     },
 ];
 
@@ -220,8 +230,13 @@ pub fn release_evidence(
                 1 => String::new(),
                 n => format!(" and {} more", n - 1),
             };
+            // Other native files beside it make the build, and so the language, likely.
+            let confidence = match native_files {
+                0 => compiler.alone,
+                _ => Confidence::Likely,
+            };
             out.push(Evidence {
-                confidence: Confidence::Likely,
+                confidence,
                 library: Some(id),
                 detail: format!("ships {} source {first}{more}", compiler.language),
             });
