@@ -1640,3 +1640,64 @@ fn a_runtime_refusal_on_an_undeclared_runtime_does_not_agree() {
     let same = cell(&review, "saltbush", "deb-2.8");
     assert_eq!(same.cause_agrees, Some(true), "{same:?}");
 }
+
+/// A `surprise-version` is not hidden by another attempt that failed for a passing reason
+/// (an install that the image's runtime refuses proves the model wrong whatever the retries
+/// did), and an install recorded without build metadata of a release predicted with it is
+/// that release, not a refused twin with the same precedence (Semantic Versioning 2.0.0,
+/// section 10). Both from a review of this session's changes.
+#[test]
+fn surprise_version_survives_retries_and_ignores_build_metadata_twins() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = common::write(
+        dir.path(),
+        "registry.yaml",
+        "packages:
+  - name: kowari
+    versions:
+      - {version: \"1.0.0\", runtime: \">=2.0\"}
+      - {version: \"2.0.0\", runtime: \">=3.0\"}
+  - name: quokka
+    versions:
+      - {version: \"1.0.0+a\", runtime: \">=9.0\"}
+      - {version: \"1.0.0+b\", runtime: \">=2.0\"}
+",
+    );
+    let images = common::write(
+        dir.path(),
+        "images.yaml",
+        "images:\n  - {id: deb, runtime: 2.5.0, family: debian, platform: linux/glibc/x86_64}\n",
+    );
+    let priorities = common::write(
+        dir.path(),
+        "priorities.yaml",
+        "priorities:\n  - kowari\n  - quokka\n",
+    );
+    let review = |results: &str| {
+        let results = common::write(dir.path(), "results.yaml", results);
+        common::run_basefit([
+            "review",
+            "--registry",
+            registry.to_str().unwrap(),
+            "--images",
+            images.to_str().unwrap(),
+            "--priorities",
+            priorities.to_str().unwrap(),
+            "--results",
+            results.to_str().unwrap(),
+        ])
+    };
+    let (code, out, err) = review(
+        "results:
+  - {package: kowari, image: deb, outcome: failed, log: \"error: connection timed out\"}
+  - {package: kowari, image: deb, outcome: installed, version: \"2.0.0\"}
+",
+    );
+    assert_eq!(code, 1, "{out}{err}");
+    assert!(out.contains("kowari on deb: surprise-version"), "{out}");
+    let (code, out, err) = review(
+        "results:\n  - {package: quokka, image: deb, outcome: installed, version: \"1.0.0\"}\n",
+    );
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(!out.contains("surprise-version"), "{out}");
+}

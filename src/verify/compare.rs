@@ -986,10 +986,25 @@ pub fn compare_within(
             });
         // One recorded install disproves a predicted failure, however many attempts failed
         // around it: retries that disagree must not hide the surprise.
+        // An install of another release than predicted (not a build-metadata twin of it,
+        // which is the same release) that the image's runtime or platform refuses proves the
+        // metadata or the image declaration wrong, whatever other attempts did.
+        let refused_install = cell.outcome != Outcome::Fails
+            && installed.is_some_and(|v| {
+                predicted
+                    .as_ref()
+                    .is_none_or(|p| v.cmp_precedence(p).is_ne())
+            })
+            && matches!(
+                standing(registry, images, &cell.package, &cell.image, installed),
+                Standing::Refused { by_image: true, .. }
+            );
         let verdict = if cell.outcome == Outcome::Undecided {
             Verdict::Undecided
         } else if any_installed && cell.outcome == Outcome::Fails {
             Verdict::SurpriseInstall
+        } else if refused_install {
+            Verdict::SurpriseVersion
         } else if any_failed
             // Whatever was predicted: a failure of the moment confirms no prediction either.
             && (any_installed || primary.as_ref().is_some_and(|p| p.cause.likely_flaky()))
@@ -1002,10 +1017,7 @@ pub fn compare_within(
                 _ => Verdict::SurpriseFailure,
             }
         } else if installed_version.is_some() && installed_version != cell.root_version {
-            match standing(registry, images, &cell.package, &cell.image, installed) {
-                Standing::Refused { by_image: true, .. } => Verdict::SurpriseVersion,
-                _ => Verdict::Drift,
-            }
+            Verdict::Drift
         } else {
             Verdict::AgreedInstall
         };
