@@ -1225,3 +1225,56 @@ fn objective_c_endings_and_lone_m_files() {
         }
     }
 }
+
+/// Debian's multiarch form of the image's own architecture names the same package:
+/// `libxml2-dev:amd64` and `gcc:amd64` on an x86_64 image meet the needs `libxml2-dev` and
+/// `gcc` meet (they once met none, and the image was told to add what it had); another
+/// architecture's package (`libxml2-dev:i386`) is another package; and `:arch` on a family
+/// that has no such form leaves the image out (from a review of this session's changes).
+#[test]
+fn multiarch_names_of_the_image_s_architecture_count() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("dingo-xml", "libxml2", "src/ext/a.c")
+    );
+    let images = format!(
+        "images:\n{}{}{}{}",
+        image(
+            "deb",
+            "debian",
+            "    packages: [build-essential, \"libxml2-dev:amd64\"]\n"
+        ),
+        image(
+            "deb-tc",
+            "debian",
+            "    packages: [\"gcc:amd64\", \"g++:amd64\", \"make:any\", \"libc6-dev:amd64\", libxml2-dev]\n"
+        ),
+        image(
+            "deb-foreign",
+            "debian",
+            "    packages: [build-essential, \"libxml2-dev:i386\"]\n"
+        ),
+        image(
+            "alp",
+            "alpine",
+            "    packages: [build-base, \"libxml2-dev:x86_64\"]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["dingo-xml"]);
+    expect_explained(
+        &args,
+        &[
+            ("dingo-xml", "deb", 0, "installs"),
+            ("dingo-xml", "deb-tc", 0, "installs"),
+            ("dingo-xml", "deb-foreign", 1, "add: libxml2-dev"),
+        ],
+    );
+    let (_, stdout, _) = run(&["check"], &args);
+    assert!(
+        stdout.contains(
+            "alp: package `libxml2-dev:x86_64`: `:arch` qualifies Debian package names only"
+        ),
+        "{stdout}"
+    );
+}

@@ -402,6 +402,47 @@ fn shortened_path(names: &[&str]) -> String {
 }
 
 /// Image `d` on top of its base (already built), or on its own when it extends nothing.
+/// Debian's architecture name for a platform's (common practice, from memory); `None` for one
+/// this list does not know.
+fn debian_arch(arch: &str) -> Option<&'static str> {
+    Some(match arch {
+        "x86_64" | "amd64" => "amd64",
+        "aarch64" | "arm64" => "arm64",
+        "i386" | "i686" => "i386",
+        "armv7" | "armhf" => "armhf",
+        "ppc64le" | "ppc64el" => "ppc64el",
+        "s390x" => "s390x",
+        "riscv64" => "riscv64",
+        _ => return None,
+    })
+}
+
+/// A declared system package as needs are matched against it. Debian's multiarch form
+/// `name:arch` of the image's own architecture (or `:any`) is the package `name`, so that
+/// `libxml2-dev:amd64` gives an amd64 image what `libxml2-dev` does; of another architecture
+/// it is another package, kept as written, which meets no need. Other families have no such
+/// form (RPM writes `name.arch`), so a `:` there is refused.
+fn native_package_name(
+    name: &str,
+    family: OsFamily,
+    platform: &Platform,
+) -> Result<String, String> {
+    let Some((bare, arch)) = name.split_once(':') else {
+        return Ok(name.to_string());
+    };
+    if family != OsFamily::Debian {
+        return Err(format!(
+            "package `{name}`: `:arch` qualifies Debian package names only, and this image's family is {}",
+            family.as_str()
+        ));
+    }
+    let own = debian_arch(&platform.arch);
+    Ok(match arch == "any" || Some(arch) == own {
+        true => bare.to_string(),
+        false => name.to_string(),
+    })
+}
+
 fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusal> {
     let missing = |what: &str| At::new(what.to_string(), d.line);
     let runtime_text = d
@@ -445,13 +486,21 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
             .map(|b| b.platform.clone())
             .ok_or_else(|| missing("missing `platform` (and no base to inherit it from)"))?,
     };
+    let native_name = |name: &String| native_package_name(name, family, &platform);
     let mut packages: BTreeSet<String> = match &d.packages {
-        Some(given) => given.iter().cloned().collect(),
+        Some(given) => given
+            .iter()
+            .map(native_name)
+            .collect::<Result<_, _>>()
+            .map_err(|why| At::new(why, d.line))?,
         None => base.map(|b| b.system_packages.clone()).unwrap_or_default(),
     };
-    packages.extend(d.add.iter().cloned());
+    for a in &d.add {
+        packages.insert(native_name(a).map_err(|why| At::new(why, d.line))?);
+    }
     for r in &d.remove {
-        if !packages.remove(&r.value) {
+        let name = native_name(&r.value).map_err(|why| At::new(why, r.line))?;
+        if !packages.remove(&name) {
             return Err(At::new(
                 format!("removes `{}`, which it does not have", r.value),
                 r.line,
