@@ -2281,4 +2281,12 @@ fn an_empty_requirement_is_read_as_any_and_listed() {
     );
     // An absent requirement is no problem.
     assert!(!stdout.contains("hugev2 is empty"), "{stdout}");
+    // A priority entry's empty requirement is listed the same way.
+    let (code, stdout, stderr) =
+        check_priorities(d.path(), "priorities:\n  - {name: fernwood, req: \"\"}\n");
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stdout.contains("priorities.yaml:2  fernwood: requirement is empty: read as any version"),
+        "{stdout}"
+    );
 }

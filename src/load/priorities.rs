@@ -218,6 +218,14 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
             );
             continue;
         }
+        if let Some(r) = e.req.as_ref().filter(|r| r.value.trim().is_empty()) {
+            ledger.note(
+                ProblemKind::EmptyRequirement,
+                at(r.line),
+                &e.name,
+                "requirement is empty: read as any version",
+            );
+        }
         let req = match &e.req {
             None => None,
             Some(r) => match Requirement::parse(&r.value) {
