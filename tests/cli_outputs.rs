@@ -878,6 +878,52 @@ fn diff_names_cells_whose_dependencies_moved() {
         "{change}"
     );
 
+    // The entry's own build changing is a change, named as such; a cell that stops
+    // resolving lists no dependencies gone with it.
+    let mut rebuilt = m.clone();
+    let root = cells[b]["closure"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .position(|p| p["name"] == cells[b]["package"])
+        .unwrap();
+    let was = cells[b]["closure"][root]["build"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    let other = if was == "source" {
+        "prebuilt"
+    } else {
+        "source"
+    };
+    rebuilt["cells"][b]["closure"][root]["build"] = other.into();
+    rebuilt["cells"][a]["outcome"] = "fails".into();
+    rebuilt["cells"][a]["cause"] = "runtime-too-old".into();
+    rebuilt["cells"][a]["closure"] = serde_json::json!([]);
+    rebuilt["cells"][a]["closure_size"] = 0.into();
+    rebuilt["cells"][a]
+        .as_object_mut()
+        .unwrap()
+        .remove("root_version");
+    let after = write_json(dir.path(), "rebuilt.json", &rebuilt);
+    let (_, out, _) = run(&["diff"], &[&before, &after]);
+    let (pb, ib, vb) = (
+        cells[b]["package"].as_str().unwrap(),
+        cells[b]["image"].as_str().unwrap(),
+        cells[b]["root_version"].as_str().unwrap(),
+    );
+    assert!(
+        out.contains(&format!(
+            "  {pb} on {ib}: installs {vb} [{was}] -> installs {vb} [{other}]\n"
+        )),
+        "{out}"
+    );
+    assert!(
+        out.contains(&format!("  {pa} on {ia}: installs "))
+            && !out.contains(&format!("{dep_a} {old_a} -> (absent)")),
+        "{out}"
+    );
+
     // Without closures on one side, dependencies are not compared.
     let mut bare = moved.clone();
     for cell in bare["cells"].as_array_mut().unwrap() {

@@ -912,7 +912,16 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
         Some(p) => p.version.clone(),
     };
     for c in &d.changes {
-        let (before, after) = (brief(&c.before), brief(&c.after));
+        let (mut before, mut after) = (brief(&c.before), brief(&c.after));
+        // The entry's own build is named only where it is what changed.
+        let build = |b: &Option<crate::verify::diff::CellBrief>| b.as_ref().and_then(|b| b.build);
+        if before == after && build(&c.before) != build(&c.after) {
+            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
+                if let Some(b) = build(side) {
+                    text.push_str(&format!(" [{}]", b.as_str()));
+                }
+            }
+        }
         let _ = match before == after {
             true => writeln!(out, "  {} on {}: {after}", c.package, c.image),
             false => writeln!(out, "  {} on {}: {before} -> {after}", c.package, c.image),

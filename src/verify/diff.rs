@@ -11,17 +11,26 @@ pub struct CellBrief {
     pub outcome: Outcome,
     pub cause: Option<Cause>,
     pub version: Option<String>,
+    /// How the entry's own release gets onto the image, when the matrix lists the closure.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub build: Option<crate::solve::image::BuildKind>,
     pub missing_system_packages: Vec<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub recorded: Option<String>,
 }
 
 impl CellBrief {
-    fn of(c: &Cell) -> CellBrief {
+    /// `builds`: whether both sides list closures, so that the entry's build can be known.
+    fn of(c: &Cell, builds: bool) -> CellBrief {
         CellBrief {
             outcome: c.outcome,
             cause: c.cause,
             version: c.root_version.clone(),
+            build: c
+                .closure
+                .iter()
+                .find(|p| p.name == c.package && builds)
+                .map(|p| p.build),
             missing_system_packages: c.missing_system_packages.clone(),
             recorded: c.recorded.as_ref().map(|r| r.recorded.clone()),
         }
@@ -144,11 +153,18 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
     for c in &after.cells {
         let k = key(c);
         let was = old.get(&k);
-        let b = was.map(|c| CellBrief::of(c));
-        let a = Some(CellBrief::of(c));
-        // Closures compare only where both sides list them.
+        let builds = !closures.before && !closures.after;
+        let b = was.map(|c| CellBrief::of(c, builds));
+        let a = Some(CellBrief::of(c, builds));
+        // Closures compare only where both sides list them, and only between two that
+        // resolve: a cell that stops resolving loses them all, which its outcome says.
         let dependencies = match was {
-            Some(was) if !closures.before && !closures.after => {
+            Some(was)
+                if !closures.before
+                    && !closures.after
+                    && was.outcome.resolves()
+                    && c.outcome.resolves() =>
+            {
                 dependency_changes(&c.package, &was.closure, &c.closure)
             }
             _ => Vec::new(),
@@ -169,7 +185,7 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
             changes.push(CellChange {
                 package: c.package.clone(),
                 image: c.image.clone(),
-                before: Some(CellBrief::of(c)),
+                before: Some(CellBrief::of(c, !closures.before && !closures.after)),
                 after: None,
                 dependencies: Vec::new(),
             });
