@@ -254,9 +254,10 @@ fn require_releases(inputs: &Inputs, paths: &InputPaths, command: &str) -> Resul
 /// changed, and a report should not pass for one built on clean inputs.
 fn data_quality_note(inputs: &Inputs, out: &mut Output) {
     if !inputs.ledger.is_clean() {
+        let n = inputs.ledger.problems.len();
         out.stderr.push(format!(
-            "note: {} data-quality problems in the inputs (run `basefit check` for the list)",
-            inputs.ledger.problems.len()
+            "note: {n} data-quality {} in the inputs (run `basefit check` for the list)",
+            report::one_or_many(n, "problem", "problems")
         ));
     }
 }
@@ -751,7 +752,7 @@ pub fn merge(o: &MergeCommand) -> Result<Output> {
         let this = e.part.and_then(|k| o.shards.get(k));
         let message = match e.other.and_then(|k| Some((k, o.shards.get(k)?))) {
             // Naming the same path again would read as two files.
-            Some((_, path)) if Some(path) == this => {
+            Some((_, path)) if this.is_some_and(|t| crate::load::diag::same_file(t, path)) => {
                 format!("{} (the same file, given twice)", e.message)
             }
             Some((k, path)) => format!("{} (part {} is {})", e.message, k + 1, path.display()),

@@ -2239,7 +2239,7 @@ fn flags_read_the_yaml_1_1_boolean_words() {
     let (code, stderr, _) = check(&registry, &images);
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("images.yaml:2: image `toolchain`: expected true or false (or yes/no, on/off), found `oN`"),
+        stderr.contains("images.yaml:2: image `toolchain`: expected true or false (or y/n, yes/no, on/off), found `oN`"),
         "{stderr}"
     );
 }

@@ -269,6 +269,21 @@ fn merge_names_the_shard_file_at_fault() {
         "{stderr}"
     );
     assert!(!dir.path().join("m").exists(), "nothing is written");
+    // A link to it is the same file too.
+    #[cfg(unix)]
+    {
+        let link = dir.path().join("link.json");
+        std::os::unix::fs::symlink(&first, &link).unwrap();
+        let (code, _, stderr) = run_basefit([
+            "merge",
+            "--out",
+            dir.path().join("m").to_str().unwrap(),
+            &first,
+            link.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 2, "{stderr}");
+        assert!(stderr.contains("(the same file, given twice)"), "{stderr}");
+    }
     // Two files of the same shard: the other is named.
     let copy = dir.path().join("copy.json");
     std::fs::copy(&first, &copy).unwrap();

@@ -963,6 +963,9 @@ fn a_cell_missing_from_the_matrix_is_counted_and_explained() {
     }
     assert!(partial.cell(&gone.package, &gone.image).is_none());
     assert!(partial.row(partial.packages.len() - 1).is_empty());
+    // The first row lost a cell: its place now holds the next row's first cell.
+    assert!(partial.row(0).is_empty());
+    assert_eq!(full.row(0).len(), full.images.len());
 }
 
 /// An image with a C compiler but no C++ compiler reads as such in HTML ("C compiler only")

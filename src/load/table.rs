@@ -230,20 +230,22 @@ pub struct RowRef<'b> {
     start: usize,
 }
 
-/// Reads a true/false cell. CSV exports spell booleans many ways; the YAML spellings are
-/// accepted, and `1`/`0` and `t`/`f` as SQL exports write them.
+/// Reads a true/false cell. CSV exports spell booleans many ways; the words a YAML flag
+/// reads are accepted ([`crate::load::yaml::plain_bool`]), and `1`/`0` and `t`/`f` as SQL
+/// exports write them.
 ///
 /// ```
 /// use basefit::load::table::parse_flag;
 /// assert_eq!(parse_flag("t"), Some(true));
 /// assert_eq!(parse_flag("FALSE"), Some(false));
+/// assert_eq!(parse_flag("On"), Some(true));
 /// assert_eq!(parse_flag("maybe"), None);
 /// ```
 pub fn parse_flag(text: &str) -> Option<bool> {
     match text {
-        "true" | "True" | "TRUE" | "yes" | "1" | "t" => Some(true),
-        "false" | "False" | "FALSE" | "no" | "0" | "f" => Some(false),
-        _ => None,
+        "1" | "t" => Some(true),
+        "0" | "f" => Some(false),
+        _ => crate::load::yaml::plain_bool(text),
     }
 }
 

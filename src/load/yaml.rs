@@ -297,7 +297,7 @@ impl<'a> Ctx<'a> {
             Value::Scalar(s, false) => plain_bool(s).ok_or_else(|| {
                 self.err(
                     node,
-                    format!("{what}: expected true or false (or yes/no, on/off), found `{s}`"),
+                    format!("{what}: expected true or false (or y/n, yes/no, on/off), found `{s}`"),
                 )
             }),
             Value::Scalar(s, true) => Err(self.err(
@@ -431,7 +431,13 @@ impl<'a> Ctx<'a> {
 /// the same three cases; from memory of YAML 1.1's type repository). Many files are written
 /// for 1.1 readers, and a flag field has no other reading of them; accepting `yes` but not
 /// `on` read as arbitrary.
-fn plain_bool(text: &str) -> Option<bool> {
+///
+/// ```
+/// use basefit::load::yaml::plain_bool;
+/// assert_eq!(plain_bool("Off"), Some(false));
+/// assert_eq!(plain_bool("oN"), None);
+/// ```
+pub fn plain_bool(text: &str) -> Option<bool> {
     let cased = |word: &str| {
         let mut title = word[..1].to_ascii_uppercase();
         title.push_str(&word[1..]);

@@ -378,12 +378,21 @@ impl Matrix {
     }
 
     /// The cells of row `index` of a whole matrix ([`Matrix::check_layout`]); empty where the
-    /// matrix does not hold the whole row.
+    /// matrix does not hold the whole row at its place (a shard's, or one with cells missing,
+    /// where the place may hold another row's cells).
     pub fn row(&self, index: usize) -> &[Cell] {
         let n = self.images.len();
-        self.cells
+        let Some(package) = self.packages.get(index) else {
+            return &[];
+        };
+        let cells = self
+            .cells
             .get(index.saturating_mul(n)..index.saturating_add(1).saturating_mul(n))
-            .unwrap_or(&[])
+            .unwrap_or(&[]);
+        match cells.iter().all(|c| c.package == package.name) {
+            true => cells,
+            false => &[],
+        }
     }
 
     /// Whether this is a whole matrix laid out as `plan` writes it: one cell per package row
