@@ -1278,3 +1278,29 @@ fn multiarch_names_of_the_image_s_architecture_count() {
         "{stdout}"
     );
 }
+
+/// A risk for a library the catalog names no package for on the image's family is confirmed
+/// by a log missing that library: Objective-C++ on alpine, for which no package is known,
+/// and CMake's missing Objective-C++ compiler (from a review of this session's changes,
+/// where the cause was left unsettled).
+#[test]
+fn a_risk_for_an_unmapped_library_is_confirmed_by_its_log() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("numbat-objcpp", "", "src/ext/view.mm")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("alp", "alpine", "    packages: [build-base]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let args = with_results(
+        dir.path(),
+        args,
+        "results:\n  - {package: numbat-objcpp, image: alp, outcome: failed, log: \"No CMAKE_OBJCXX_COMPILER could be found.\"}\n",
+    );
+    let cell = reviewed_cells(&args)("numbat-objcpp", "alp");
+    assert_eq!(cell["verdict"], "risk-confirmed", "{cell}");
+    assert_eq!(cell["cause_agrees"], true, "{cell}");
+}

@@ -253,7 +253,15 @@ fn risk_agrees(
         | LogCause::NoCompiler { .. }
             if let Some(lib) = library_of(catalog, log) =>
         {
-            let f = lib.families.get(&family)?;
+            // A library the catalog names no package for on the family: the cell was at risk
+            // for the library itself, if it needed it.
+            let Some(f) = lib.families.get(&family) else {
+                return Some(
+                    cell.native_needs
+                        .iter()
+                        .any(|n| n.library.as_deref() == Some(lib.id.as_str())),
+                );
+            };
             let packages: Vec<&str> = f.dev.iter().chain(&f.runtime).map(String::as_str).collect();
             Some(missing(&packages))
         }
