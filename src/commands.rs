@@ -374,7 +374,7 @@ fn require_planned_images(
         .map(|p| p.display().to_string())
         .unwrap_or_else(|| "command line".into());
     let planned_from = format!(
-        "the matrix {} was planned from other images: give the --images file it was planned from, or plan again",
+        "the matrix {} was planned from other images, or by an older basefit that read them otherwise: give the --images file it was planned from, or plan again",
         matrix_path.display()
     );
     let errors = matrix
