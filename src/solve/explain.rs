@@ -962,7 +962,13 @@ pub fn explain(
             registry.name(p)
         ));
         if p != root {
-            let reason = format!("conflicting requirements on {}", registry.name(p));
+            // Who asks for the versions that do not overlap: the blocked package itself may
+            // be sound, and a reader of the blockers would otherwise suspect it.
+            let reason = format!(
+                "conflicting requirements on {} (from {})",
+                registry.name(p),
+                by.join(" and ")
+            );
             blockers.push((Blocker { package: p, reason }, Cause::DependencyConflict));
         }
     }
