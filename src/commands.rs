@@ -429,9 +429,11 @@ fn packages_unchecked_note(matrix: &Matrix, path: &std::path::Path, out: &mut Ou
 /// gate on the file's review could pass where a fresh one fails.
 fn outside_matrix_note(review: &crate::verify::Review, remedy: &str, out: &mut Output) {
     if !review.outside_matrix.is_empty() {
+        let n = review.outside_matrix.len();
         out.stderr.push(format!(
-            "note: {} recorded results name cells the matrix does not have and were not compared; {remedy}",
-            review.outside_matrix.len()
+            "note: {n} recorded {} the matrix does not have and {} not compared; {remedy}",
+            report::one_or_many(n, "result names a cell", "results name cells"),
+            report::one_or_many(n, "was", "were"),
         ));
     }
 }
@@ -960,19 +962,36 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     };
     let review = review_results(&matrix, &inputs, &o.inputs, o.plan.budget)?;
     let surprises = review.surprises();
-    // A result left out could have been a surprise: the gate cannot pass without it.
+    let undecided = review
+        .cells
+        .iter()
+        .filter(|c| c.verdict == crate::verify::Verdict::Undecided)
+        .count();
+    // A result left out, set against no cell, or set against a cell the solver gave up on
+    // could have been a surprise: the gate cannot pass without it.
     let mut out = Output::report(
         o.format,
         &review,
         text::review_text,
-        surprises > o.max_surprises || !review.results_left_out.is_empty(),
+        surprises > o.max_surprises
+            || !review.results_left_out.is_empty()
+            || !review.outside_matrix.is_empty()
+            || undecided > 0,
     );
     data_quality_note(&inputs, &mut out);
     outside_matrix_note(
         &review,
-        "without --matrix their packages are planned and compared too",
+        "any could have been a surprise, so the review exits 1; plan the matrix with those packages and images, or review without --matrix, which plans them",
         &mut out,
     );
+    if undecided > 0 {
+        out.stderr.push(format!(
+            "note: {undecided} {} with recorded results {} undecided (the solver ran out of --budget), so {} not compared and the review exits 1; raise --budget",
+            report::one_or_many(undecided, "cell", "cells"),
+            report::one_or_many(undecided, "was", "were"),
+            report::one_or_many(undecided, "it was", "they were"),
+        ));
+    }
     if let Some(path) = &o.matrix {
         packages_unchecked_note(&matrix, path, &mut out);
     }

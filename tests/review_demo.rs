@@ -1701,3 +1701,28 @@ fn surprise_version_survives_retries_and_ignores_build_metadata_twins() {
     assert_eq!(code, 0, "{out}{err}");
     assert!(!out.contains("surprise-version"), "{out}");
 }
+
+/// A recorded result on a cell the solver gave up on is not compared, so it could have been a
+/// surprise: the review exits 1 and says why, as `syslibs` does for undecided cells (an
+/// end-to-end review of the gate found it passing with exit 0).
+#[test]
+fn results_on_undecided_cells_do_not_pass_the_gate() {
+    let (code, _, stderr) = common::run_basefit(
+        ["review", "--budget", "3"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain([
+                "--results",
+                "demo-data/results.yaml",
+                "--max-surprises",
+                "99",
+            ]),
+    );
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stderr.contains("with recorded results were undecided (the solver ran out of --budget)")
+            || stderr
+                .contains("with recorded results was undecided (the solver ran out of --budget)"),
+        "{stderr}"
+    );
+}
