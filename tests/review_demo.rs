@@ -1236,12 +1236,42 @@ fn a_confirmed_risk_is_checked_against_what_the_cell_was_at_risk_for() {
         agreement("x.c:1:10: fatal error: libxml/parser.h: No such file or directory"),
         Some(false)
     );
-    assert_eq!(
-        agreement("runtime refused: requires >=3.2, found 3.0.1"),
-        Some(false)
-    );
     // A compiler error names nothing to compare.
     assert_eq!(agreement("x.c:3:12: error: 'y' undeclared"), None);
+    // A refusal of the runtime contradicts the resolution an at-risk cell stands on: a
+    // surprise, as on a cell predicted to install, not a confirmed risk that passes the gate
+    // (from an end-to-end review of the gate).
+    let review = review_of(&failed("runtime refused: requires >=3.2, found 3.0.1"));
+    let c = cell(&review, "burrow-lite", "el9-3.0");
+    assert_eq!(c.verdict, Verdict::SurpriseFailure);
+}
+
+/// A predicted missing library confirmed by a log missing another library the catalog knows,
+/// one the prediction saw no need of, is another cause: "cause agrees" beside "nothing in the
+/// metadata pointed at it" contradicted itself, and the published matrix called the
+/// prediction confirmed (from an end-to-end review of the gate). quill-xml fails on
+/// alpine-2.6 for want of libxml2-dev (the demo plan; demo-data/STORIES.md).
+#[test]
+fn a_log_missing_another_library_does_not_agree() {
+    let results = |log: &str| {
+        format!(
+            "results:\n  - {{package: quill-xml, image: alpine-2.6, outcome: failed, log: \"{log}\"}}\n"
+        )
+    };
+    let agreement = |log: &str| {
+        let review = review_of(&results(log));
+        let c = cell(&review, "quill-xml", "alpine-2.6");
+        assert_eq!(c.verdict, Verdict::AgreedFailure, "{log}");
+        c.cause_agrees
+    };
+    assert_eq!(
+        agreement("src/ext/parse.c:3:10: fatal error: libxml/parser.h: No such file or directory"),
+        Some(true)
+    );
+    assert_eq!(
+        agreement("src/ext/parse.c:2:10: fatal error: zstd.h: No such file or directory"),
+        Some(false)
+    );
 }
 
 /// A risk that came true counts with the installs in the confusion matrix, so it lowers the

@@ -183,10 +183,25 @@ fn undeclared_runtime<'a>(
 }
 
 /// Whether a log cause confirms the cause `cell` was predicted to fail with.
-fn agrees(images: &ImageSet, cell: &crate::plan::matrix::Cell, log: &LogCause) -> Option<bool> {
+fn agrees(
+    (catalog, images): (&Catalog, &ImageSet),
+    cell: &crate::plan::matrix::Cell,
+    log: &LogCause,
+) -> Option<bool> {
     let predicted = cell.cause?;
     // A refusal of a runtime the image does not declare shows the image is not as planned.
     if undeclared_runtime(images, cell, log).is_some() {
+        return Some(false);
+    }
+    // A library the catalog knows that the prediction saw no need of is another cause than
+    // the missing library predicted, though of the same kind.
+    if predicted == Cause::MissingSystemLibrary
+        && let Some(lib) = library_of(catalog, log)
+        && !cell
+            .native_needs
+            .iter()
+            .any(|n| n.library.as_deref() == Some(lib.id.as_str()))
+    {
         return Some(false);
     }
     let expected: &[Cause] = match log {
@@ -1019,9 +1034,15 @@ pub fn compare_within(
         {
             Verdict::Flaky
         } else if any_failed {
+            // An at-risk cell resolves: only a native need was in doubt. A refusal of the
+            // runtime contradicts the resolution itself, as it would for a cell that installs.
+            let refused = matches!(
+                primary.as_ref().map(|p| &p.cause),
+                Some(LogCause::RuntimeRefused { .. })
+            );
             match cell.outcome {
                 Outcome::Fails => Verdict::AgreedFailure,
-                Outcome::AtRisk => Verdict::RiskConfirmed,
+                Outcome::AtRisk if !refused => Verdict::RiskConfirmed,
                 _ => Verdict::SurpriseFailure,
             }
         } else if installed_version.is_some() && installed_version != cell.root_version {
@@ -1077,7 +1098,7 @@ pub fn compare_within(
             attempts,
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
-                (Verdict::AgreedFailure, Some(c)) => agrees(images, cell, c),
+                (Verdict::AgreedFailure, Some(c)) => agrees((catalog, images), cell, c),
                 (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
                 _ => None,
             },
