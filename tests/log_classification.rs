@@ -579,6 +579,22 @@ fn sample_lines_for_each_cause() {
             LogCause::Network,
         ),
         ("npm ERR! code ECONNREFUSED", LogCause::Network),
+        // source: from memory, npm, Node, curl and package managers' wordings a review of the
+        // gate found unread (each turned a network flake into a gating surprise)
+        ("npm ERR! code ETIMEDOUT", LogCause::Network),
+        ("Error: ESOCKETTIMEDOUT", LogCause::Network),
+        ("Error: socket hang up", LogCause::Network),
+        ("curl: (28) Timeout was reached", LogCause::Network),
+        ("error: network timeout", LogCause::Network),
+        (
+            "ReadTimeoutError: Read timeout on endpoint",
+            LogCause::Network,
+        ),
+        // source: from memory, older gcc drivers' wording for a missing compiler proper
+        (
+            "gcc: error trying to exec 'cc1plus': execvp: No such file or directory",
+            compiler("cc1plus"),
+        ),
         ("HTTP error 503 Service Unavailable", LogCause::Network),
         // source: from memory, Go contexts and Python ssl
         ("error: context deadline exceeded", LogCause::Timeout),

@@ -403,7 +403,7 @@ fn evidence(text: &str) -> String {
 /// Most of a big log is chatter that contains none of them, and testing these few with
 /// prebuilt searchers costs far less than running every matcher; a new matcher must add its
 /// word here (the unit tests check the phrase lists).
-const ANCHORS: [&str; 28] = [
+const ANCHORS: [&str; 30] = [
     "found",
     "shared ",
     "error: ",
@@ -432,6 +432,8 @@ const ANCHORS: [&str; 28] = [
     "timed out",
     "deadline",
     "timeout",
+    "timedout",
+    "hang up",
 ];
 
 static ANCHOR_FINDERS: LazyLock<Vec<Finder<'static>>> =
@@ -895,7 +897,10 @@ fn compiler_phrase(lower: &str) -> Option<&'static str> {
 /// without g++ (`cc1plus` ships in g++-12 on Debian 12: `dpkg -S` on this project's machine),
 /// likewise Fortran's `f951` and C's `cc1`. The quotes are typographic in a UTF-8 locale.
 fn missing_compiler_proper(lower: &str) -> Option<&'static str> {
-    let rest = &lower[lower.find("cannot execute ")? + "cannot execute ".len()..];
+    // Older gcc drivers said `error trying to exec 'cc1plus': execvp: ...` (from memory).
+    let rest = ["cannot execute ", "error trying to exec "]
+        .iter()
+        .find_map(|marker| Some(&lower[lower.find(marker)? + marker.len()..]))?;
     let name = rest
         .trim_start_matches(['\'', '\u{2018}', '`'])
         .split(['\'', '\u{2019}', '`', ':'])
@@ -985,7 +990,9 @@ fn next_is_digit(s: &str, at: usize) -> bool {
     s.as_bytes().get(at).is_some_and(u8::is_ascii_digit)
 }
 
-const NETWORK_PHRASES: [&str; 22] = [
+/// Node's `ETIMEDOUT`/`ESOCKETTIMEDOUT` and `socket hang up`, curl's `(28) Timeout was
+/// reached` and package managers' `network timeout`/`read timeout` are from memory.
+const NETWORK_PHRASES: [&str; 28] = [
     "connection refused",
     "connection reset",
     "connection aborted",
@@ -1008,6 +1015,12 @@ const NETWORK_PHRASES: [&str; 22] = [
     "502 bad gateway",
     "503 service unavailable",
     "504 gateway time",
+    "etimedout",
+    "esockettimedout",
+    "socket hang up",
+    "timeout was reached",
+    "network timeout",
+    "read timeout",
 ];
 
 const TIMEOUT_PHRASES: [&str; 4] = [
