@@ -1756,3 +1756,23 @@ fn results_on_undecided_cells_do_not_pass_the_gate() {
         "{stderr}"
     );
 }
+
+/// Advice on a build that stopped for want of a compiler names the other packages the plan
+/// found missing too: with the compiler alone added, the next install fails for the library
+/// (an end-to-end review of the gate found it costing a second round trip). quill-xml on
+/// deb-3.2-slim lacks build-essential and libxml2-dev (demo-data/STORIES.md).
+#[test]
+fn missing_compiler_advice_names_the_library_the_plan_also_found_missing() {
+    let review = review_of(
+        "results:\n  - {package: quill-xml, image: deb-3.2-slim, outcome: failed, log: \"/bin/sh: 1: cc: not found\"}\n",
+    );
+    let c = cell(&review, "quill-xml", "deb-3.2-slim");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    let s = c.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains(
+            "lacks a C toolchain: add build-essential; the plan finds libxml2-dev missing too"
+        ),
+        "{s}"
+    );
+}

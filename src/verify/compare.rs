@@ -345,6 +345,26 @@ pub fn library_of<'c>(
     }
 }
 
+/// The system packages other than compilers that the prediction found the cell lacking, as
+/// a clause for advice about a missing compiler: the build stopped at the compiler, and with
+/// only that added the next install fails for the library.
+fn also_missing(cell: &crate::plan::matrix::Cell, family: crate::model::OsFamily) -> String {
+    let compilers = crate::native::compiler_packages(family);
+    let rest: Vec<&str> = cell
+        .missing_system_packages
+        .iter()
+        .map(String::as_str)
+        .filter(|p| !compilers.contains(p))
+        .collect();
+    match rest.is_empty() {
+        true => String::new(),
+        false => format!(
+            "; the plan finds {} missing too, which the build had not reached",
+            rest.join(" ")
+        ),
+    }
+}
+
 /// A concrete next step for a failed cell.
 fn suggest(
     registry: &Registry,
@@ -457,8 +477,9 @@ fn suggest(
             if logs::is_cxx_compiler(tool) && image.toolchain && !image.cxx =>
         {
             Some(format!(
-                "{image_id} has a C compiler only, and the build needs a C++ compiler ({tool}): add {}",
-                crate::native::cxx_compiler_package(image.family)
+                "{image_id} has a C compiler only, and the build needs a C++ compiler ({tool}): add {}{}",
+                crate::native::cxx_compiler_package(image.family),
+                also_missing(cell, image.family)
             ))
         }
         // As for headers above: advice to add what the image declares would go in a circle.
@@ -475,8 +496,9 @@ fn suggest(
             .join(" ")
         )),
         LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
-            "{image_id} lacks a C toolchain: add {}",
-            crate::native::toolchain_packages(image.family).join(" ")
+            "{image_id} lacks a C toolchain: add {}{}",
+            crate::native::toolchain_packages(image.family).join(" "),
+            also_missing(cell, image.family)
         )),
         LogCause::RuntimeRefused { required, .. }
             if let Some((found, declared)) = undeclared_runtime(images, cell, cause) =>
