@@ -1776,3 +1776,33 @@ fn missing_compiler_advice_names_the_library_the_plan_also_found_missing() {
         "{s}"
     );
 }
+
+/// On a cell the solver gave up on, the closure is unknown: advice on a missing library must
+/// not claim that nothing in the dependencies declares it (an end-to-end review of the gate
+/// found it asking maintainers to declare what a dependency declared). mopoke-docs reaches
+/// quill-xml, which declares libxml2 (demo-data/STORIES.md).
+#[test]
+fn advice_on_an_undecided_cell_claims_nothing_of_its_closure() {
+    let dir = tempfile::tempdir().unwrap();
+    let results = common::write(
+        dir.path(),
+        "r.yaml",
+        "results:\n  - {package: mopoke-docs, image: deb-3.2, outcome: failed, log: \"x.c:1:10: fatal error: libxml/parser.h: No such file or directory\"}\n",
+    );
+    let (_, json, stderr) = common::run_basefit(
+        ["review", "--budget", "3", "--format", "json"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain(["--results", results.to_str().unwrap()]),
+    );
+    let v: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {stderr}"));
+    let c = &v["cells"][0];
+    assert_eq!(c["verdict"], "undecided", "{c}");
+    let s = c["suggestion"].as_str().unwrap();
+    assert!(
+        s.contains("the plan did not resolve mopoke-docs here (raise --budget)")
+            && !s.contains("nothing in the metadata"),
+        "{s}"
+    );
+}

@@ -424,6 +424,13 @@ fn suggest(
                 need.via,
                 need.evidence.join("; ")
             ),
+            // The solver gave up before the closure was known: what its packages declare is
+            // unknown, and "nothing pointed at it" would send the reader to declare what a
+            // dependency may well declare already.
+            None if cell.outcome == Outcome::Undecided => format!(
+                "the plan did not resolve {package} here (raise --budget), so whether its dependencies declare {} is unknown; ",
+                lib.id
+            ),
             None => {
                 let known = registry.id(package).is_some();
                 let who = if known { package } else { "the package" };
