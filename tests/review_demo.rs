@@ -1730,6 +1730,9 @@ fn surprise_version_survives_retries_and_ignores_build_metadata_twins() {
     );
     assert_eq!(code, 0, "{out}{err}");
     assert!(!out.contains("surprise-version"), "{out}");
+    // Written without its build metadata, the predicted release is that release: agreed, not
+    // a drift shown as unsettled in the published matrix (an end-to-end review of the gate).
+    assert!(out.contains("agreed-install: 1"), "{out}");
 }
 
 /// A recorded result on a cell the solver gave up on is not compared, so it could have been a

@@ -1074,7 +1074,17 @@ pub fn compare_within(
                 Outcome::AtRisk if !refused => Verdict::RiskConfirmed,
                 _ => Verdict::SurpriseFailure,
             }
-        } else if installed_version.is_some() && installed_version != cell.root_version {
+        } else if installed_version.is_some()
+            && installed_version != cell.root_version
+            // Installers often print a version without its build metadata: the predicted
+            // release written so is that release (Semantic Versioning 2.0.0, section 10).
+            && !installed.is_some_and(|v| {
+                v.build.is_empty()
+                    && predicted
+                        .as_ref()
+                        .is_some_and(|p| v.cmp_precedence(p).is_eq())
+            })
+        {
             Verdict::Drift
         } else {
             Verdict::AgreedInstall
