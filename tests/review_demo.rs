@@ -1809,3 +1809,22 @@ fn advice_on_an_undecided_cell_claims_nothing_of_its_closure() {
         "{s}"
     );
 }
+
+/// An install of a release whose dependency the snapshot lacks shows the snapshot is older
+/// than the registry the install used: the advice says so, where it blamed a requirement
+/// "stricter than reality" that no requirement was (an end-to-end review of the gate).
+/// dunecart-deploy needs cloudpeg-sdk, which the demo snapshot lacks (demo-data/STORIES.md).
+#[test]
+fn an_install_despite_a_dependency_missing_from_the_snapshot_points_at_the_snapshot() {
+    let review = review_of(
+        "results:\n  - {package: dunecart-deploy, image: deb-2.4, outcome: installed, version: \"0.8.1\"}\n",
+    );
+    let c = cell(&review, "dunecart-deploy", "deb-2.4");
+    assert_eq!(c.verdict, Verdict::SurpriseInstall);
+    let s = c.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("the snapshot is older than the registry the install used")
+            && !s.contains("stricter than reality"),
+        "{s}"
+    );
+}

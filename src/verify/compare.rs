@@ -776,6 +776,12 @@ fn surprise_install_step(
                 ),
             },
         },
+        // A dependency the snapshot lacks was there when the install ran: the snapshot is
+        // older than the registry, and no requirement is too strict.
+        Some(Cause::MissingFromRegistry) if installed.is_some() => format!(
+            "a dependency the plan needs is not in the registry snapshot (`basefit explain {} {image}` names it), yet the install found it: the snapshot is older than the registry the install used; plan again from a newer snapshot before changing the metadata",
+            cell.package
+        ),
         _ if *standing == Standing::Admitted => format!(
             "{} is in the snapshot and suits {image}, so what the plan refused lies in its dependencies or the priority entry's requirement: `basefit explain {} {image}` names the requirement that is stricter than reality",
             installed.unwrap_or("?"),
