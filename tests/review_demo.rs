@@ -1828,3 +1828,41 @@ fn an_install_despite_a_dependency_missing_from_the_snapshot_points_at_the_snaps
         "{s}"
     );
 }
+
+/// A header missing in one of autoconf's probe files is looked at last: configure probes for
+/// optional features, and a build that failed later for the library it needs failed for that
+/// (an end-to-end review of the gate found the advice adding zstd for a build that stopped for
+/// want of libxml2). quill-xml on alpine-2.6 lacks libxml2-dev (demo-data/STORIES.md).
+#[test]
+fn a_configure_probe_s_missing_header_does_not_hide_the_real_cause() {
+    let review = review_of(
+        "results:
+  - package: quill-xml
+    image: alpine-2.6
+    outcome: failed
+    log: \"checking for zstd.h... no\\nconftest.c:3:10: fatal error: zstd.h: No such file or directory\\nchecking for libxml-2.0... no\\nPackage libxml-2.0 was not found in the pkg-config search path.\"
+",
+    );
+    let c = cell(&review, "quill-xml", "alpine-2.6");
+    assert_eq!(
+        c.log_cause.as_ref().unwrap().label(),
+        "missing-pkg-config",
+        "{c:?}"
+    );
+    assert_eq!(c.cause_agrees, Some(true));
+    let s = c.suggestion.as_deref().unwrap();
+    assert!(
+        s.contains("add libxml2-dev to alpine-2.6") && !s.contains("zstd"),
+        "{s}"
+    );
+    // Alone, the probe's header is still what the log shows.
+    let review = review_of(
+        "results:\n  - {package: quill-xml, image: alpine-2.6, outcome: failed, log: \"conftest.c:3:10: fatal error: zstd.h: No such file or directory\"}\n",
+    );
+    let c = cell(&review, "quill-xml", "alpine-2.6");
+    assert_eq!(
+        c.log_cause.as_ref().unwrap().label(),
+        "missing-header",
+        "{c:?}"
+    );
+}

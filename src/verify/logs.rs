@@ -290,9 +290,24 @@ fn without_timestamp(text: &str) -> &str {
 }
 
 /// The finding verification should act on: a runtime refusal, else the most specific kind, and
-/// the earliest of those, since later errors are often fallout from the first.
+/// the earliest of those, since later errors are often fallout from the first. A header
+/// missing in one of autoconf's probe files comes after every other finding: configure
+/// probes for optional features and expects many probes to fail, so a build that stopped
+/// for something else found later in the log stopped for that.
 pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
-    findings.iter().min_by_key(|f| f.cause.rank())
+    findings
+        .iter()
+        .min_by_key(|f| (is_probe_finding(f), f.cause.rank()))
+}
+
+/// A missing header reported from a configure probe (`conftest.c:3:10: fatal error: ...`).
+fn is_probe_finding(f: &LogFinding) -> bool {
+    matches!(f.cause, LogCause::MissingHeader { .. })
+        && f.evidence
+            .trim_start()
+            .split(':')
+            .next()
+            .is_some_and(is_configure_probe)
 }
 
 /// The cause of [`primary`] for a whole log, or [`LogCause::Unknown`] when nothing is recognised.
