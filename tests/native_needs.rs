@@ -1304,3 +1304,49 @@ fn a_risk_for_an_unmapped_library_is_confirmed_by_its_log() {
     assert_eq!(cell["verdict"], "risk-confirmed", "{cell}");
     assert_eq!(cell["cause_agrees"], true, "{cell}");
 }
+
+/// A surprise install on an image declared without (enough of) a compiler proves the real image
+/// has the libraries the release certainly needs too: the advice names them beside the
+/// compiler, or the next plan predicts the failure again for the library (an end-to-end review
+/// of the gate found `libprotobuf-dev` left out when the missing compiler was C++).
+#[test]
+fn surprise_install_advice_names_the_libraries_beside_the_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("wire-proto", "protobuf", "src/ext/wire.c")
+    );
+    let images = format!(
+        "images:\n{}{}",
+        image("d-c", "debian", "    packages: [gcc, make, libc6-dev]\n"),
+        image(
+            "bare",
+            "debian",
+            "    toolchain: false\n    packages: [ca-certificates]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["wire-proto"]);
+    let args = with_results(
+        dir.path(),
+        args,
+        "results:\n  - {package: wire-proto, image: d-c, outcome: installed, version: \"1.0.0\"}\n  - {package: wire-proto, image: bare, outcome: installed, version: \"1.0.0\"}\n",
+    );
+    let cells = reviewed_cells(&args);
+    let on_c = cells("wire-proto", "d-c");
+    assert_eq!(on_c["verdict"], "surprise-install", "{on_c}");
+    assert!(
+        on_c["suggestion"]
+            .as_str()
+            .unwrap()
+            .contains("the real image has a C++ compiler; add g++ libprotobuf-dev to its packages"),
+        "{on_c}"
+    );
+    let bare = cells("wire-proto", "bare");
+    assert!(
+        bare["suggestion"]
+            .as_str()
+            .unwrap()
+            .contains("set toolchain: true on it, and add libprotobuf-dev to its packages"),
+        "{bare}"
+    );
+}

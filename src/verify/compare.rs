@@ -750,32 +750,55 @@ fn surprise_install_step(
                 )
             }
         }
-        Some(Cause::MissingToolchain) => match images.get(image) {
-            // A C-only image failed for want of C++ alone.
-            Some(i) if i.toolchain && !i.cxx => format!(
-                "{unsure}the declaration of {image} is out of date: the real image has a C++ compiler; add {} to its packages in the images file",
-                crate::native::cxx_compiler_package(i.family)
-            ),
-            // What the predicted release's closure shows of the real image: a C compiler only,
-            // unless it certainly compiles C++.
-            _ => match cell
+        Some(Cause::MissingToolchain) => {
+            // What the predicted release's closure shows of the real image: its certain needs,
+            // the libraries among them too (with the compiler alone added, the next plan
+            // still predicts the failure for the library).
+            let needs = cell
                 .root_version
                 .as_deref()
-                .map(|p| other_release_needs(cell, registry, images, catalog, p, budget))
-            {
+                .map(|p| other_release_needs(cell, registry, images, catalog, p, budget));
+            let (whole_toolchain, packages) = match needs {
                 Some(OtherRelease::Needs {
-                    toolchain: false,
+                    toolchain,
                     packages,
-                }) if !packages.is_empty() => format!(
+                }) => (toolchain, packages),
+                _ => (true, Vec::new()),
+            };
+            let family = images.get(image).map(|i| i.family);
+            let compilers = family
+                .map(crate::native::compiler_packages)
+                .unwrap_or_default();
+            let libraries: Vec<&str> = packages
+                .iter()
+                .map(String::as_str)
+                .filter(|p| !compilers.contains(p))
+                .collect();
+            let and_libraries = match libraries.is_empty() {
+                true => String::new(),
+                false => format!(", and add {} to its packages", libraries.join(" ")),
+            };
+            match images.get(image) {
+                // A C-only image failed for want of C++ alone.
+                Some(i) if i.toolchain && !i.cxx => {
+                    let mut add = vec![crate::native::cxx_compiler_package(i.family)];
+                    add.extend(libraries.iter().copied());
+                    format!(
+                        "{unsure}the declaration of {image} is out of date: the real image has a C++ compiler; add {} to its packages in the images file",
+                        add.join(" ")
+                    )
+                }
+                // A C compiler only, unless the closure certainly compiles C++.
+                _ if !whole_toolchain && !packages.is_empty() => format!(
                     "{unsure}the declaration of {image} is out of date: the real image has {}, a C compiler among them; add {} to its packages in the images file (not toolchain: true, which says it compiles C++ too)",
                     packages.join(" "),
                     crate::report::it_or_them(packages.len())
                 ),
                 _ => format!(
-                    "{unsure}the declaration of {image} is out of date: the real image has a C and C++ toolchain; set toolchain: true on it"
+                    "{unsure}the declaration of {image} is out of date: the real image has a C and C++ toolchain; set toolchain: true on it{and_libraries}"
                 ),
-            },
-        },
+            }
+        }
         // A dependency the snapshot lacks was there when the install ran: the snapshot is
         // older than the registry, and no requirement is too strict.
         Some(Cause::MissingFromRegistry) if installed.is_some() => format!(
