@@ -193,16 +193,26 @@ fn agrees(
     if undeclared_runtime(images, cell, log).is_some() {
         return Some(false);
     }
-    // A library the catalog knows that the prediction saw no need of is another cause than
-    // the missing library predicted, though of the same kind.
-    if predicted == Cause::MissingSystemLibrary
-        && let Some(lib) = library_of(catalog, log)
-        && !cell
-            .native_needs
-            .iter()
-            .any(|n| n.library.as_deref() == Some(lib.id.as_str()))
-    {
-        return Some(false);
+    // A library (or catalog compiler) the log misses that the prediction did not find missing
+    // is another cause than the one predicted, though of the same kind: one the cell did not
+    // need, or one the image declares (the declaration is then what is wrong).
+    if let Some(lib) = library_of(catalog, log) {
+        let family = images.get(&cell.image).map(|i| i.family);
+        let predicted_missing = match family.and_then(|f| lib.families.get(&f)) {
+            Some(f) => f
+                .dev
+                .iter()
+                .chain(&f.runtime)
+                .any(|p| cell.missing_system_packages.contains(p)),
+            // No package to compare: the need itself is what the prediction can have seen.
+            None => cell
+                .native_needs
+                .iter()
+                .any(|n| n.library.as_deref() == Some(lib.id.as_str())),
+        };
+        if !predicted_missing {
+            return Some(false);
+        }
     }
     let expected: &[Cause] = match log {
         // On an image with a C compiler only, for a cell that needs the C++ compiler: a
