@@ -2199,6 +2199,47 @@ fn image_ids_are_trimmed_and_duplicates_name_the_first_line() {
     );
 }
 
+/// A bulk CSV `yanked` cell reads the YAML flag words too: `On` marks the release yanked, so
+/// the plan installs the release before it. Refused, a registry exported by a YAML-minded tool
+/// stops every command with an input error (from a mutation review, where only a doctest held
+/// the wider word list).
+#[test]
+fn a_bulk_yanked_cell_reads_on_as_true() {
+    let d = dir();
+    let versions = write(
+        d.path(),
+        "versions.csv",
+        "package,version,released,runtime,yanked\nwallaby-io,1.0.0,2024-01-01,>=2.0,\nwallaby-io,1.1.0,2024-02-01,>=2.0,On\n",
+    );
+    let deps = write(
+        d.path(),
+        "deps.csv",
+        "package,version,dependency,req,kind\n",
+    );
+    let images = write(
+        d.path(),
+        "images.yaml",
+        "images:\n  - {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential]}\n",
+    );
+    let priorities = write(d.path(), "priorities.yaml", "priorities:\n  - wallaby-io\n");
+    let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
+        .args(["explain", "wallaby-io", "deb", "--quiet", "--bulk"])
+        .args([&versions, &deps])
+        .arg("--images")
+        .arg(&images)
+        .arg("--priorities")
+        .arg(&priorities)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(0), "{stdout}{stderr}");
+    assert!(
+        stdout.contains("wallaby-io on deb: installs (1.0.0)"),
+        "{stdout}"
+    );
+}
+
 /// A flag reads YAML 1.1's boolean words as well as `true`/`false`, in each of their three
 /// cases, and a word that is none of them is refused naming what is read: `yes` was read but
 /// `on` refused (from an end-to-end review).

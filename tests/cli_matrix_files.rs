@@ -984,6 +984,48 @@ fn a_surprise_install_after_a_failed_retry_fails_the_review() {
     assert!(stdout.contains("1 contradict the prediction"), "{stdout}");
 }
 
+/// A review of a matrix file that can compare no recorded result names the records it could
+/// not use, three of them, and counts the rest exactly ("and 1 more" for four, "and 2 more" for
+/// five, nothing for three): the reasons are what the user fixes, and a count off by one
+/// hides a record (from a mutation review, where both dropping the cells outside the matrix
+/// from the reasons and an off-by-one count survived).
+#[test]
+fn a_review_comparing_nothing_names_the_cells_outside_the_matrix() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("plan"), None);
+    let names = ["kookaburra", "jabiru", "dotterel", "whimbrel", "godwit"];
+    for (n, more) in [(3, None), (4, Some("and 1 more")), (5, Some("and 2 more"))] {
+        let records: String = names[..n]
+            .iter()
+            .map(|p| format!("  - {{package: {p}, image: deb-3.2, outcome: failed}}\n"))
+            .collect();
+        let results = common::write(dir.path(), "results.yaml", format!("results:\n{records}"));
+        let (code, _, stderr) = run_on_demo(
+            "review",
+            &["--matrix", &matrix, "--results", results.to_str().unwrap()],
+        );
+        assert_eq!(code, 2, "{n}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "{n} name cells the matrix does not have:\n  {}:2: kookaburra on deb-3.2 is not in the matrix\n",
+                results.display()
+            )),
+            "{n}: {stderr}"
+        );
+        assert!(
+            stderr.contains("results.yaml:4: dotterel on deb-3.2 is not in the matrix"),
+            "{n}: {stderr}"
+        );
+        match more {
+            Some(more) => assert!(
+                stderr.contains(&format!("  {more} (`basefit check` lists them)")),
+                "{n}: {stderr}"
+            ),
+            None => assert!(!stderr.contains(" more (`basefit check`"), "{n}: {stderr}"),
+        }
+    }
+}
+
 #[test]
 fn results_outside_a_matrix_read_from_a_file_are_not_passed_over_in_silence() {
     // mudflat is in the demo registry but not its priority list: a fresh review plans it and

@@ -938,6 +938,120 @@ fn diff_names_cells_whose_dependencies_moved() {
     assert!(!out.contains("dependencies:"), "{out}");
 }
 
+/// Plans `registry` (on one Debian image with a full toolchain, wombat and koala as
+/// priorities) into `dir/name`; returns the matrix.json path.
+fn plan_registry(dir: &Path, name: &str, registry: &str) -> String {
+    let images = common::write(
+        dir,
+        "images.yaml",
+        "images:\n  - {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential]}\n",
+    );
+    let priorities = common::write(
+        dir,
+        "priorities.yaml",
+        "priorities:\n  - wombat\n  - koala\n",
+    );
+    let registry = common::write(dir, &format!("{name}.yaml"), registry);
+    let out = dir.join(name);
+    let (code, stdout, stderr) = run(
+        &["plan"],
+        &[
+            "--registry",
+            registry.to_str().unwrap(),
+            "--images",
+            images.to_str().unwrap(),
+            "--priorities",
+            priorities.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    out.join("matrix.json").to_str().unwrap().to_string()
+}
+
+/// The dependency changes `diff --format json` lists for `package` on deb.
+fn dependency_changes(before: &str, after: &str, package: &str) -> Option<serde_json::Value> {
+    let (code, json, err) = run(&["diff"], &[before, after, "--format", "json"]);
+    assert_eq!(code, 1, "{json}{err}");
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    v["changes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == package)
+        .map(|c| c["dependencies"].clone())
+}
+
+/// `diff` lists as dependency changes exactly the closure packages other than the cell's own
+/// whose version or build moved, those gone included: a root that only moves its own version
+/// lists no dependency (not itself), a dependency that is no longer installed is listed with
+/// nothing after it, and a dependency that gains a prebuilt is listed though its version
+/// stays. A dependency dropped silently, or a build change missed, hides that a cell stopped
+/// (or started) needing a compiler; listing the root as its own dependency misreads a version
+/// bump as a dependency move (from a mutation review, where all three survived).
+#[test]
+fn diff_lists_dependencies_gone_rebuilt_but_not_the_root() {
+    let dir = tempfile::tempdir().unwrap();
+    let head = "packages:
+  - name: wombat
+    versions:
+      - version: \"1.0.0\"
+        depends: [{name: dingo}, {name: galah}]
+  - name: dingo
+    versions:
+      - version: \"1.0.0\"
+";
+    let tail = "  - name: galah
+    versions:
+      - version: \"1.0.0\"
+  - name: koala
+    versions:
+      - version: \"1.0.0\"
+";
+    let before = plan_registry(dir.path(), "a", &format!("{head}{tail}"));
+    // galah leaves wombat's closure and nothing else changes.
+    let gone = plan_registry(
+        dir.path(),
+        "gone",
+        &format!("{head}{tail}").replace(", {name: galah}", ""),
+    );
+    let deps = dependency_changes(&before, &gone, "wombat").expect("wombat changed");
+    assert_eq!(deps.as_array().map(Vec::len), Some(1), "{deps}");
+    assert_eq!(deps[0]["name"], "galah", "{deps}");
+    assert_eq!(deps[0]["before"]["version"], "1.0.0", "{deps}");
+    assert!(deps[0]["after"].is_null(), "{deps}");
+    let (_, text, _) = run(&["diff"], &[&before, &gone]);
+    assert!(
+        text.contains("    dependencies: galah 1.0.0 -> (absent)\n"),
+        "{text}"
+    );
+    // dingo gains a prebuilt of the same version; koala moves its own version only.
+    let rebuilt = plan_registry(
+        dir.path(),
+        "rebuilt",
+        &format!(
+            "{head}        builds: {{source: true, prebuilt: [linux/glibc/x86_64]}}\n{tail}      - version: \"1.1.0\"\n"
+        ),
+    );
+    let deps = dependency_changes(&before, &rebuilt, "wombat").expect("wombat changed");
+    assert_eq!(deps.as_array().map(Vec::len), Some(1), "{deps}");
+    assert_eq!(deps[0]["name"], "dingo", "{deps}");
+    assert_eq!(deps[0]["before"]["build"], "source", "{deps}");
+    assert_eq!(deps[0]["after"]["build"], "prebuilt", "{deps}");
+    let koala = dependency_changes(&before, &rebuilt, "koala").expect("koala changed");
+    assert!(
+        koala.is_null() || koala.as_array().is_some_and(Vec::is_empty),
+        "{koala}"
+    );
+    let (_, text, _) = run(&["diff"], &[&before, &rebuilt]);
+    assert!(
+        text.contains("  koala on deb: installs 1.0.0 -> installs 1.1.0\n")
+            && !text.contains("dependencies: koala"),
+        "{text}"
+    );
+}
+
 /// Names come from registries nobody vetted: an escape sequence in one must reach the
 /// terminal as visible text, not clear the screen or hide the lines after it.
 #[test]

@@ -589,6 +589,38 @@ fn manifest_rows_say_what_each_needs_with_its_own_confidence() {
     assert!(row("plain").ends_with("source"), "{text}");
 }
 
+/// A manifest row whose only need the image lacks is a library the catalog maps to no package
+/// still says so, on its row and in `at_risk`: dropped, the row reads as safe to install while
+/// its build certainly needs `libwobble` (from a mutation review, where only the summary line
+/// below the table kept it).
+#[test]
+fn a_manifest_row_needing_only_an_unmapped_library_says_so() {
+    let registry = "packages:
+- name: echidna-wob
+  versions:
+  - {version: 1.0.0, native: {libraries: [libwobble], files: [src/ext/w.c]}}
+- name: platypus
+  versions:
+  - {version: 1.0.0}
+";
+    let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [build-essential]}\n";
+    let p = native_preinstall(registry, images, "priorities:\n- echidna-wob\n- platypus\n");
+    assert_eq!(p.at_risk.len(), 1, "{:?}", p.at_risk);
+    let row = &p.at_risk[0];
+    assert_eq!(row.name, "echidna-wob");
+    let unmapped: Vec<(&str, Confidence)> = row
+        .unmapped_libraries
+        .iter()
+        .map(|l| (l.name.as_str(), l.confidence))
+        .collect();
+    assert_eq!(unmapped, [("libwobble", Confidence::Certain)]);
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        manifest_row(&text, "echidna-wob").ends_with("libwobble (certain, no package known)"),
+        "{text}"
+    );
+}
+
 /// `s` and `t` in two major versions; `A` and `C` hold both at 1, so `B` (s ^2) conflicts,
 /// `D` falls back to 0.9.0 (t ^1), and so would `E`, whose 0.5.0 declares libxml2. Alone, `E`
 /// takes 1.0.0 and installs, so only the native check of the joint pick can leave it out.

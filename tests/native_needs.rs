@@ -1163,6 +1163,183 @@ fn a_cxx_need_names_the_package_that_has_it() {
     );
 }
 
+/// A cell predicted to fail for want of the C++ compiler whose log misses the Fortran compiler
+/// agrees only when the image lacks gfortran: where the image declares it, the missing
+/// gfortran is another cause (the image is not as declared), and calling it "cause agrees"
+/// would hide a wrong image declaration behind a confirmed prediction (from a mutation review,
+/// where every missing compiler on such a cell was judged another cause).
+#[test]
+fn a_missing_fortran_compiler_on_a_cxx_cell_agrees_only_where_the_image_lacks_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("bilby-num", "zlib", "src/ext/solve.cpp, src/ext/solve.f90")
+    );
+    let images = format!(
+        "images:\n{}{}",
+        image(
+            "c-fort",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev, gfortran]\n"
+        ),
+        image(
+            "c-only",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["bilby-num"]);
+    let args = with_results(
+        dir.path(),
+        args,
+        "results:
+  - {package: bilby-num, image: c-fort, outcome: failed, log: \"bash: line 1: gfortran: command not found\"}
+  - {package: bilby-num, image: c-only, outcome: failed, log: \"bash: line 1: gfortran: command not found\"}
+",
+    );
+    let cells = reviewed_cells(&args);
+    for img in ["c-fort", "c-only"] {
+        let cell = cells("bilby-num", img);
+        assert_eq!(cell["verdict"], "agreed-failure", "{cell}");
+        assert_eq!(cell["predicted_cause"], "missing-toolchain", "{cell}");
+    }
+    let declared = cells("bilby-num", "c-fort");
+    assert_eq!(declared["cause_agrees"], false, "{declared}");
+    let lacking = cells("bilby-num", "c-only");
+    assert_eq!(lacking["cause_agrees"], true, "{lacking}");
+}
+
+/// A `.m` file beside another native file (a `.c` source) is Objective-C, not a MATLAB script:
+/// its gobjc need is likely, as for any catalog compiler whose release ships more native
+/// files. Lowered to "possible", the need reads as a guess and the cell as a coin toss (from a
+/// mutation review, where only a lone `.m` file was tested).
+#[test]
+fn a_m_file_beside_a_c_source_is_a_likely_objective_c_need() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("lyrebird-view", "", "src/ext/view.m, src/ext/glue.c")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("d-c", "debian", "    packages: [gcc, make, libc6-dev]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["lyrebird-view"]);
+    let (_, stdout, stderr) = run(&["explain", "lyrebird-view", "d-c"], &args);
+    assert!(
+        stdout
+            .contains("gobjc [likely] via lyrebird-view: ships Objective-C source src/ext/view.m"),
+        "{stdout}{stderr}"
+    );
+    assert!(!stdout.contains("gobjc [possible]"), "{stdout}");
+}
+
+/// A release shipping only Fortran (or only Objective-C) sources shows its language: on a
+/// C-only image that has the compiler it needs it installs, and no C++ compiler is asked for.
+/// Read as "shows no source", it was predicted at risk with advice to add g++ it does not need
+/// (from a mutation review).
+#[test]
+fn fortran_or_objective_c_sources_alone_ask_for_no_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("bandicoot-fort", "zlib", "src/ext/solve.f90"),
+        package("bandicoot-objc", "zlib", "src/ext/view.m"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev, gfortran, gobjc]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["bandicoot-fort", "bandicoot-objc"],
+    );
+    for package in ["bandicoot-fort", "bandicoot-objc"] {
+        let (code, stdout, stderr) = run(&["explain", package, "d-c"], &args);
+        assert_eq!(code, 0, "{package}: {stdout}{stderr}");
+        assert!(
+            stdout.contains(&format!("{package} on d-c: installs (1.0.0)")),
+            "{stdout}"
+        );
+        assert!(!stdout.contains("g++"), "{package}: {stdout}");
+    }
+}
+
+/// When several closure packages may need the C++ compiler, the explanation names the
+/// strongest need first: here `zzz-cpp` ships a `.cpp` (certain) while `aaa-bind`, which sorts
+/// first by name, only shows no source (possible). Naming the weaker one explains a certain
+/// failure by a guess (from a mutation review: both sorting weakest first and naming the last
+/// need survived).
+#[test]
+fn a_cxx_explanation_names_the_strongest_need_first() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n  - name: possum-app\n    versions:\n      - version: \"1.0.0\"\n        depends: [{{name: aaa-bind}}, {{name: zzz-cpp}}]\n{}{}",
+        package("aaa-bind", "zlib", ""),
+        package("zzz-cpp", "zlib", "src/ext/x.cpp"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["possum-app"]);
+    let (code, stdout, stderr) = run(&["explain", "possum-app", "d-c"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout.contains(
+            "a build in the closure compiles C++ (zzz-cpp: ships src/ext/x.cpp, a C++ source; and 1 more)"
+        ),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("(aaa-bind:"), "{stdout}");
+}
+
+/// A release needing two libraries whose interface is C++ is judged by the stronger need:
+/// `gmpxx` declared (certain) beats protobuf seen from a header (likely), so on a C-only image
+/// it fails for want of the C++ compiler and says so by gmpxx. Taking the weaker need turns a
+/// certain failure into "at-risk" and names the guess (from a mutation review).
+#[test]
+fn the_strongest_cxx_interface_library_decides_the_cxx_need() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package(
+            "cassowary-math",
+            "gmpxx",
+            "include/google/protobuf/message.h"
+        )
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    packages: [gcc, make, libc6-dev, libgmp-dev, libgmpxx4ldbl, libprotobuf-dev]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["cassowary-math"]);
+    let (code, stdout, stderr) = run(&["explain", "cassowary-math", "d-c"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout.contains("cassowary-math on d-c: fails (1.0.0), missing-toolchain"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("(cassowary-math: needs gmpxx, whose interface is C++)"),
+        "{stdout}"
+    );
+}
+
 /// gcc reads `.M` as Objective-C++ and `.mi`/`.mii` as preprocessed Objective-C and C++
 /// (`gcc -c x.M` on this project's machine names `cc1objplus`, `x.mi` names `cc1obj`): such a
 /// release is a native build needing those compilers, where `.M` once gave no evidence at all
@@ -1276,6 +1453,66 @@ fn multiarch_names_of_the_image_s_architecture_count() {
             "alp: package `libxml2-dev:x86_64`: `:arch` qualifies Debian package names only"
         ),
         "{stdout}"
+    );
+}
+
+/// An extending image may remove a package by the multiarch name of its own architecture
+/// (`libxml2-dev:amd64`, `libxml2-dev:any`): it then lacks that package, while removing another
+/// architecture's package it never had is refused. Matching the raw `name:arch` left such a
+/// valid image out, and every prediction for it with it (from a mutation review).
+#[test]
+fn removing_a_package_by_its_multiarch_name_removes_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("dingo-xml", "libxml2", "src/ext/a.c")
+    );
+    let images = format!(
+        "images:\n{}  - id: child\n    extends: base\n    remove: [\"libxml2-dev:amd64\"]\n  - id: child-any\n    extends: base\n    remove: [\"libxml2-dev:any\"]\n  - id: child-arm\n    extends: base\n    remove: [\"libxml2-dev:arm64\"]\n",
+        image(
+            "base",
+            "debian",
+            "    packages: [build-essential, libxml2-dev]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["dingo-xml"]);
+    expect_explained(
+        &args,
+        &[
+            ("dingo-xml", "base", 0, "installs"),
+            ("dingo-xml", "child", 1, "add: libxml2-dev"),
+            ("dingo-xml", "child-any", 1, "add: libxml2-dev"),
+        ],
+    );
+    let (_, stdout, stderr) = run(&["check"], &args);
+    assert!(
+        stdout.contains("child-arm: removes `libxml2-dev:arm64`, which it does not have"),
+        "{stdout}{stderr}"
+    );
+    assert!(!stdout.contains("child: removes"), "{stdout}");
+    assert!(!stdout.contains("child-any: removes"), "{stdout}");
+}
+
+/// The `:arch` part of a package name is validated like the name: `libfoo:amd 64` (a list
+/// written as one text, or a typo) is refused with the reason, not taken as one more package
+/// the image lacks, which would silently skew every prediction for it (from a mutation review).
+#[test]
+fn a_package_with_a_malformed_arch_part_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("dingo-xml", "libxml2", "src/ext/a.c")
+    );
+    let images = format!(
+        "images:\n{}  - id: odd\n    extends: base\n    add: [\"libfoo:amd 64\"]\n",
+        image("base", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["dingo-xml"]);
+    let (code, stdout, stderr) = run(&["check"], &args);
+    assert_eq!(code, 2, "{stdout}{stderr}");
+    assert!(
+        stderr.contains("`libfoo:amd 64` is not a system package name"),
+        "{stderr}"
     );
 }
 

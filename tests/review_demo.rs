@@ -1301,6 +1301,29 @@ fn the_review_counts_at_risk_cells_apart() {
     );
 }
 
+/// A flaky at-risk cell (one attempt failed, one installed) is not counted among the at-risk
+/// predictions that failed or installed: it settled nothing, and counting it printed an
+/// at-risk line contradicting the confusion matrix above it (from a mutation review).
+#[test]
+fn a_flaky_at_risk_cell_is_not_counted_with_the_at_risk_predictions() {
+    let dir = tempfile::tempdir().unwrap();
+    let review = review_json_on(
+        dir.path(),
+        "packages:\n  - name: quokka-c\n    versions:\n      - version: \"1.0.0\"\n        native:\n          files: [src/ext/a.c]\n",
+        "images:\n  - {id: slim, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [ca-certificates]}\n",
+        "priorities:\n  - quokka-c\n",
+        "results:
+  - {package: quokka-c, image: slim, outcome: failed, log: \"error: cc: command not found\"}
+  - {package: quokka-c, image: slim, outcome: installed, version: \"1.0.0\"}
+",
+    );
+    let cell = json_cell(&review, "quokka-c");
+    assert_eq!(cell["predicted"], "at-risk", "{cell}");
+    assert_eq!(cell["verdict"], "flaky", "{cell}");
+    assert_eq!(review["confusion"]["at_risk_failed"], 0, "{review}");
+    assert_eq!(review["confusion"]["at_risk_installed"], 0, "{review}");
+}
+
 /// The CSV carries the recorded version and the review's one line for each cell with results:
 /// a drifted row once said only `installed,drift`, not which version went in (from an
 /// end-to-end review). The demo's gumleaf on deb-2.8 installed 1.2.0 from a lock file where
@@ -1669,6 +1692,92 @@ fn a_runtime_refusal_on_an_undeclared_runtime_does_not_agree() {
     );
     let same = cell(&review, "saltbush", "deb-2.8");
     assert_eq!(same.cause_agrees, Some(true), "{same:?}");
+}
+
+/// `review --format json` of `results` against the registry, images and priorities given,
+/// all written into `dir`: the parsed document.
+fn review_json_on(
+    dir: &std::path::Path,
+    registry: &str,
+    images: &str,
+    priorities: &str,
+    results: &str,
+) -> serde_json::Value {
+    let files = [
+        ("--registry", common::write(dir, "registry.yaml", registry)),
+        ("--images", common::write(dir, "images.yaml", images)),
+        (
+            "--priorities",
+            common::write(dir, "priorities.yaml", priorities),
+        ),
+        ("--results", common::write(dir, "results.yaml", results)),
+    ];
+    let mut args = vec!["review".to_string(), "--format".into(), "json".into()];
+    for (flag, path) in files {
+        args.extend([flag.to_string(), path.to_str().unwrap().to_string()]);
+    }
+    let (_, json, stderr) = common::run_basefit(&args);
+    serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"))
+}
+
+/// The reviewed cell of `package` in a `review_json_on` document.
+fn json_cell<'v>(review: &'v serde_json::Value, package: &str) -> &'v serde_json::Value {
+    review["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == package)
+        .unwrap_or_else(|| panic!("{package}: {review}"))
+}
+
+/// A runtime refusal that found a runtime *older* than the image declares is no confirmation
+/// either: the install ran on another runtime than planned, so the image declaration is out
+/// of date. Judged "cause agrees", a wrong image would be approved as confirming the metadata
+/// (from a mutation review, where only a found runtime newer than declared was tested).
+#[test]
+fn a_runtime_refusal_on_an_older_runtime_than_declared_does_not_agree() {
+    let dir = tempfile::tempdir().unwrap();
+    let review = review_json_on(
+        dir.path(),
+        "packages:\n  - name: emu-core\n    versions:\n      - {version: \"1.0.0\", runtime: \">=3.1\"}\n",
+        "images:\n  - {id: cdeb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        "priorities:\n  - emu-core\n",
+        "results:\n  - {package: emu-core, image: cdeb, outcome: failed, log: \"runtime refused: requires >=3.1, found 2.9.0\"}\n",
+    );
+    let cell = json_cell(&review, "emu-core");
+    assert_eq!(cell["verdict"], "agreed-failure", "{cell}");
+    assert_eq!(cell["predicted_cause"], "runtime-too-old", "{cell}");
+    assert_eq!(cell["cause_agrees"], false, "{cell}");
+    let s = cell["suggestion"].as_str().unwrap();
+    assert!(
+        s.contains("but cdeb declares runtime 3.0.0") && !s.contains("as the metadata said"),
+        "{s}"
+    );
+}
+
+/// An agreed runtime-too-new failure whose log shows the refusal of the declared runtime
+/// confirms the metadata: the advice says so and points at another image, rather than blaming
+/// a runtime requirement that was right (from a mutation review, where the advice held for
+/// runtime-too-old only).
+#[test]
+fn a_confirmed_runtime_too_new_failure_does_not_blame_the_metadata() {
+    let dir = tempfile::tempdir().unwrap();
+    let review = review_json_on(
+        dir.path(),
+        "packages:\n  - name: numbat-old\n    versions:\n      - {version: \"1.0.0\", runtime: \"<3.0\"}\n",
+        "images:\n  - {id: slim, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        "priorities:\n  - numbat-old\n",
+        "results:\n  - {package: numbat-old, image: slim, outcome: failed, log: \"runtime refused: requires <3.0, found 3.0.0\"}\n",
+    );
+    let cell = json_cell(&review, "numbat-old");
+    assert_eq!(cell["predicted_cause"], "runtime-too-new", "{cell}");
+    assert_eq!(cell["cause_agrees"], true, "{cell}");
+    let s = cell["suggestion"].as_str().unwrap();
+    assert!(
+        s.contains("as the metadata said: numbat-old needs an image with another runtime")
+            && !s.contains("may be missing or wrong"),
+        "{s}"
+    );
 }
 
 /// A `surprise-version` is not hidden by another attempt that failed for a passing reason
