@@ -1463,15 +1463,7 @@ fn hint_lines(
         release_hint,
     };
     let text = basefit::report::text::explain_text(&e);
-    let hints = text
-        .split("\nhints:\n")
-        .nth(1)
-        .unwrap_or_else(|| panic!("{text}"));
-    hints
-        .lines()
-        .take_while(|l| !l.is_empty())
-        .map(|l| l.trim().to_string())
-        .collect()
+    common::hint_lines(&text)
 }
 
 /// Every runtime the hint tried is named in exactly one hint line, whatever mix of native

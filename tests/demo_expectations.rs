@@ -180,15 +180,7 @@ fn demo_hints(package: &str, image: &str) -> Vec<String> {
         basefit::plan::explain::explain(&demo_inputs(), package, image, &PlanOptions::default())
             .unwrap();
     let text = basefit::report::text::explain_text(&e);
-    let hints = text
-        .split("\nhints:\n")
-        .nth(1)
-        .unwrap_or_else(|| panic!("{text}"));
-    hints
-        .lines()
-        .take_while(|l| !l.is_empty())
-        .map(|l| l.trim().to_string())
-        .collect()
+    common::hint_lines(&text)
 }
 
 /// burrowdb on el9-3.0 fails for one cause at every runtime and every release tried: the hints

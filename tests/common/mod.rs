@@ -90,3 +90,17 @@ pub fn demo_inputs(results: Vec<std::path::PathBuf>) -> basefit::load::Inputs {
     })
     .unwrap()
 }
+
+/// The lines of the `hints:` section of an `explain` text, trimmed.
+#[allow(dead_code)] // Only the test files that read explain hints use it.
+pub fn hint_lines(text: &str) -> Vec<String> {
+    let hints = text
+        .split("\nhints:\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("{text}"));
+    hints
+        .lines()
+        .take_while(|l| !l.is_empty())
+        .map(|l| l.trim().to_string())
+        .collect()
+}
