@@ -1507,53 +1507,29 @@ fn a_loader_failure_confirms_a_prebuilt_releases_risk_through_its_runtime_packag
 #[test]
 fn an_install_of_a_release_the_image_refuses_is_a_surprise() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = common::write(
-        dir.path(),
-        "registry.yaml",
-        "packages:
+    let registry = "packages:
   - name: cindergate
     versions:
       - {version: \"1.0.0\"}
       - {version: \"1.1.0\", builds: {source: false, prebuilt: [linux/musl/x86_64]}}
       - {version: \"1.2.0\", runtime: \">=3.0\"}
       - {version: \"1.3.0\", yanked: true}
-",
-    );
-    let images = common::write(
-        dir.path(),
-        "images.yaml",
-        "images:
-  - {id: g2, runtime: 2.0.0, family: debian, platform: linux/glibc/x86_64}
-",
-    );
-    let priorities = common::write(
-        dir.path(),
-        "priorities.yaml",
-        "priorities:\n  - cindergate\n",
-    );
+";
+    let images =
+        "images:\n  - {id: g2, runtime: 2.0.0, family: debian, platform: linux/glibc/x86_64}\n";
     for (version, verdict, code) in [
         ("1.1.0", "surprise-version", 1),
         ("1.2.0", "surprise-version", 1),
         ("1.3.0", "drift", 0),
     ] {
-        let results = common::write(
-            dir.path(),
-            "results.yaml",
-            format!(
-                "results:\n  - {{package: cindergate, image: g2, outcome: installed, version: \"{version}\"}}\n"
-            ),
+        let results = format!(
+            "results:\n  - {{package: cindergate, image: g2, outcome: installed, version: \"{version}\"}}\n"
         );
-        let (got, out, err) = common::run_basefit([
-            "review",
-            "--registry",
-            registry.to_str().unwrap(),
-            "--images",
-            images.to_str().unwrap(),
-            "--priorities",
-            priorities.to_str().unwrap(),
-            "--results",
-            results.to_str().unwrap(),
-        ]);
+        let (got, out, err) = review_on(
+            dir.path(),
+            [registry, images, "priorities:\n  - cindergate\n", &results],
+            &[],
+        );
         assert_eq!(got, code, "{version}: {out}{err}");
         assert!(
             out.contains(&format!("cindergate on g2: {verdict} (predicted installs")),
@@ -1694,15 +1670,13 @@ fn a_runtime_refusal_on_an_undeclared_runtime_does_not_agree() {
     assert_eq!(same.cause_agrees, Some(true), "{same:?}");
 }
 
-/// `review --format json` of `results` against the registry, images and priorities given,
-/// all written into `dir`: the parsed document.
-fn review_json_on(
+/// `review` with `extra` flags of `results` against the registry, images and priorities given,
+/// all written into `dir`: (exit code, stdout, stderr).
+fn review_on(
     dir: &std::path::Path,
-    registry: &str,
-    images: &str,
-    priorities: &str,
-    results: &str,
-) -> serde_json::Value {
+    [registry, images, priorities, results]: [&str; 4],
+    extra: &[&str],
+) -> (i32, String, String) {
     let files = [
         ("--registry", common::write(dir, "registry.yaml", registry)),
         ("--images", common::write(dir, "images.yaml", images)),
@@ -1712,11 +1686,30 @@ fn review_json_on(
         ),
         ("--results", common::write(dir, "results.yaml", results)),
     ];
-    let mut args = vec!["review".to_string(), "--format".into(), "json".into()];
+    let mut args: Vec<String> = std::iter::once("review")
+        .chain(extra.iter().copied())
+        .map(str::to_string)
+        .collect();
     for (flag, path) in files {
         args.extend([flag.to_string(), path.to_str().unwrap().to_string()]);
     }
-    let (_, json, stderr) = common::run_basefit(&args);
+    common::run_basefit(&args)
+}
+
+/// `review --format json` of `results` against the registry, images and priorities given,
+/// all written into `dir`: the parsed document.
+fn review_json_on(
+    dir: &std::path::Path,
+    registry: &str,
+    images: &str,
+    priorities: &str,
+    results: &str,
+) -> serde_json::Value {
+    let (_, json, stderr) = review_on(
+        dir,
+        [registry, images, priorities, results],
+        &["--format", "json"],
+    );
     serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {json}{stderr}"))
 }
 
@@ -1788,10 +1781,7 @@ fn a_confirmed_runtime_too_new_failure_does_not_blame_the_metadata() {
 #[test]
 fn surprise_version_survives_retries_and_ignores_build_metadata_twins() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = common::write(
-        dir.path(),
-        "registry.yaml",
-        "packages:
+    let registry = "packages:
   - name: kowari
     versions:
       - {version: \"1.0.0\", runtime: \">=2.0\"}
@@ -1800,31 +1790,18 @@ fn surprise_version_survives_retries_and_ignores_build_metadata_twins() {
     versions:
       - {version: \"1.0.0+a\", runtime: \">=9.0\"}
       - {version: \"1.0.0+b\", runtime: \">=2.0\"}
-",
-    );
-    let images = common::write(
-        dir.path(),
-        "images.yaml",
-        "images:\n  - {id: deb, runtime: 2.5.0, family: debian, platform: linux/glibc/x86_64}\n",
-    );
-    let priorities = common::write(
-        dir.path(),
-        "priorities.yaml",
-        "priorities:\n  - kowari\n  - quokka\n",
-    );
+";
     let review = |results: &str| {
-        let results = common::write(dir.path(), "results.yaml", results);
-        common::run_basefit([
-            "review",
-            "--registry",
-            registry.to_str().unwrap(),
-            "--images",
-            images.to_str().unwrap(),
-            "--priorities",
-            priorities.to_str().unwrap(),
-            "--results",
-            results.to_str().unwrap(),
-        ])
+        review_on(
+            dir.path(),
+            [
+                registry,
+                "images:\n  - {id: deb, runtime: 2.5.0, family: debian, platform: linux/glibc/x86_64}\n",
+                "priorities:\n  - kowari\n  - quokka\n",
+                results,
+            ],
+            &[],
+        )
     };
     let (code, out, err) = review(
         "results:
