@@ -438,17 +438,16 @@ impl<'a> Ctx<'a> {
 /// assert_eq!(plain_bool("oN"), None);
 /// ```
 pub fn plain_bool(text: &str) -> Option<bool> {
-    let cased = |word: &str| {
-        let mut title = word[..1].to_ascii_uppercase();
-        title.push_str(&word[1..]);
-        text == word || text == title || text == word.to_ascii_uppercase()
-    };
-    if ["true", "y", "yes", "on"].into_iter().any(cased) {
-        Some(true)
-    } else if ["false", "n", "no", "off"].into_iter().any(cased) {
-        Some(false)
-    } else {
-        None
+    // Spelled out rather than case-folded: a bulk registry reads this for every flag cell of
+    // millions of rows, and `oN` is no YAML boolean.
+    match text {
+        "true" | "True" | "TRUE" | "y" | "Y" | "yes" | "Yes" | "YES" | "on" | "On" | "ON" => {
+            Some(true)
+        }
+        "false" | "False" | "FALSE" | "n" | "N" | "no" | "No" | "NO" | "off" | "Off" | "OFF" => {
+            Some(false)
+        }
+        _ => None,
     }
 }
 
