@@ -182,6 +182,28 @@ fn undeclared_runtime<'a>(
         .then_some((found.as_str(), &image.runtime))
 }
 
+/// Whether the prediction found library `lib` (one a log misses) missing on the cell's image:
+/// one of its packages for the image's family among the cell's missing packages, or, where the
+/// catalog names none for the family, a need of the library itself.
+fn predicted_missing(
+    images: &ImageSet,
+    cell: &crate::plan::matrix::Cell,
+    lib: &crate::native::Library,
+) -> bool {
+    let family = images.get(&cell.image).map(|i| i.family);
+    match family.and_then(|f| lib.families.get(&f)) {
+        Some(f) => f
+            .dev
+            .iter()
+            .chain(&f.runtime)
+            .any(|p| cell.missing_system_packages.contains(p)),
+        None => cell
+            .native_needs
+            .iter()
+            .any(|n| n.library.as_deref() == Some(lib.id.as_str())),
+    }
+}
+
 /// Whether a log cause confirms the cause `cell` was predicted to fail with.
 fn agrees(
     (catalog, images): (&Catalog, &ImageSet),
@@ -196,23 +218,10 @@ fn agrees(
     // A library (or catalog compiler) the log misses that the prediction did not find missing
     // is another cause than the one predicted, though of the same kind: one the cell did not
     // need, or one the image declares (the declaration is then what is wrong).
-    if let Some(lib) = library_of(catalog, log) {
-        let family = images.get(&cell.image).map(|i| i.family);
-        let predicted_missing = match family.and_then(|f| lib.families.get(&f)) {
-            Some(f) => f
-                .dev
-                .iter()
-                .chain(&f.runtime)
-                .any(|p| cell.missing_system_packages.contains(p)),
-            // No package to compare: the need itself is what the prediction can have seen.
-            None => cell
-                .native_needs
-                .iter()
-                .any(|n| n.library.as_deref() == Some(lib.id.as_str())),
-        };
-        if !predicted_missing {
-            return Some(false);
-        }
+    if let Some(lib) = library_of(catalog, log)
+        && !predicted_missing(images, cell, lib)
+    {
+        return Some(false);
     }
     let expected: &[Cause] = match log {
         // On an image with a C compiler only, for a cell that needs the C++ compiler: a
@@ -278,17 +287,7 @@ fn risk_agrees(
         | LogCause::NoCompiler { .. }
             if let Some(lib) = library_of(catalog, log) =>
         {
-            // A library the catalog names no package for on the family: the cell was at risk
-            // for the library itself, if it needed it.
-            let Some(f) = lib.families.get(&family) else {
-                return Some(
-                    cell.native_needs
-                        .iter()
-                        .any(|n| n.library.as_deref() == Some(lib.id.as_str())),
-                );
-            };
-            let packages: Vec<&str> = f.dev.iter().chain(&f.runtime).map(String::as_str).collect();
-            Some(missing(&packages))
+            Some(predicted_missing(images, cell, lib))
         }
         // A missing C++ compiler agrees with a risk for the C++ compiler package or for a whole
         // toolchain; a missing C compiler or make only with the latter, since a C-only image
