@@ -1079,16 +1079,16 @@ pub fn compare_within(
         // An install of another release than predicted (not a build-metadata twin of it,
         // which is the same release) that the image's runtime or platform refuses proves the
         // metadata or the image declaration wrong, whatever other attempts did.
+        // What the snapshot holds of the installed version: read once, for the verdict and
+        // for the advice.
+        let snapshot = standing(registry, images, &cell.package, &cell.image, installed);
         let refused_install = cell.outcome != Outcome::Fails
             && installed.is_some_and(|v| {
                 predicted
                     .as_ref()
                     .is_none_or(|p| v.cmp_precedence(p).is_ne())
             })
-            && matches!(
-                standing(registry, images, &cell.package, &cell.image, installed),
-                Standing::Refused { by_image: true, .. }
-            );
+            && matches!(snapshot, Standing::Refused { by_image: true, .. });
         let verdict = if cell.outcome == Outcome::Undecided {
             Verdict::Undecided
         } else if any_installed && cell.outcome == Outcome::Fails {
@@ -1128,7 +1128,6 @@ pub fn compare_within(
             Verdict::AgreedInstall
         };
         let log_cause = primary.as_ref().map(|p| p.cause.clone());
-        let standing = || standing(registry, images, &cell.package, &cell.image, installed);
         let suggestion = match verdict {
             Verdict::SurpriseInstall => {
                 let failed = attempts
@@ -1147,7 +1146,7 @@ pub fn compare_within(
                     surprise_install_step(
                         cell,
                         (registry, images, catalog),
-                        &standing(),
+                        &snapshot,
                         installed_version.as_deref(),
                         predicted_installed,
                         budget
@@ -1157,7 +1156,7 @@ pub fn compare_within(
             Verdict::Drift | Verdict::SurpriseVersion => Some(drift_step(
                 installed_version.as_deref().unwrap_or("?"),
                 cell.root_version.as_deref().unwrap_or("?"),
-                &standing(),
+                &snapshot,
                 &cell.package,
                 &cell.image,
             )),
