@@ -1673,6 +1673,37 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
 mod tests {
     use super::*;
 
+    #[test]
+    fn fingerprints_keep_the_boundaries_between_texts() {
+        let of = |texts: &[&str]| {
+            let mut h = Fingerprinter::new();
+            for t in texts {
+                h.str(t);
+            }
+            h.0
+        };
+        // Texts fed one after another, split at each point of one string, of lengths that
+        // end inside a word, on a word's end and past it: each split prints differently.
+        let whole = "abcdefghijklmnopq";
+        let mut seen = std::collections::HashSet::new();
+        for at in 0..=whole.len() {
+            assert!(
+                seen.insert(of(&[&whole[..at], &whole[at..]])),
+                "split at {at}"
+            );
+        }
+        assert!(seen.insert(of(&[whole])));
+        assert_ne!(of(&[""]), of(&[]));
+        assert_ne!(of(&["a"]), of(&["a\0"]));
+        assert_ne!(of(&["abcdefgh"]), of(&["abcdefgh\0"]));
+        // A number and a flag are words of their own, in order.
+        let mut a = Fingerprinter::new();
+        a.number(1).flag(false);
+        let mut b = Fingerprinter::new();
+        b.number(0).flag(true);
+        assert_ne!(a.0, b.0);
+    }
+
     fn basis(packages: Vec<u32>, lengths: Vec<u32>, observed: Vec<u32>) -> CellBasis {
         CellBasis {
             packages,
