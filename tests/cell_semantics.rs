@@ -1612,3 +1612,43 @@ fn a_dependency_declared_twice_is_one_line_of_the_tree() {
     let text = basefit::report::text::explain_text(&e);
     assert!(!text.contains("(shown above)"), "{text}");
 }
+
+/// A release with no build for any platform is told apart in the explanation: "without a
+/// source build or a prebuilt build for linux/glibc/x86_64" sent the reader to another
+/// platform, where it cannot install either. A release with a prebuilt build for another
+/// platform only is still explained by this image's platform.
+#[test]
+fn a_release_with_no_build_at_all_is_not_blamed_on_the_platform() {
+    let registry = r#"packages:
+  - name: plover
+    versions:
+      - {version: 1.0.0, builds: {source: false}}
+      - {version: 1.1.0, builds: {prebuilt: [linux/musl/x86_64]}}
+  - name: dunlin
+    versions:
+      - {version: 2.0.0, builds: {source: false}}
+"#;
+    let inputs = inputs(registry, "priorities: [plover, dunlin]\n");
+    let options = PlanOptions::default();
+    let text = |name: &str| {
+        let e = explain(&inputs, name, "deb", &options).unwrap();
+        assert_eq!(e.cell.cause, Some(Cause::NoBuildForPlatform), "{name}");
+        e.cell.explanation.join("\n")
+    };
+    let plover = text("plover");
+    assert!(
+        plover.contains(
+            "1 version has no build for any platform (neither a source build nor a prebuilt one): no image can install it"
+        ),
+        "{plover}"
+    );
+    assert!(
+        plover.contains(
+            "1 version without a source build or a prebuilt build for linux/glibc/x86_64"
+        ),
+        "{plover}"
+    );
+    let dunlin = text("dunlin");
+    assert!(dunlin.contains("no build for any platform"), "{dunlin}");
+    assert!(!dunlin.contains("linux/glibc/x86_64"), "{dunlin}");
+}

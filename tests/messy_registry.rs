@@ -365,3 +365,90 @@ fn the_dependencies_of_a_duplicate_version_are_counted_as_left_out() {
     let d = &ledger.tallies[&RecordKind::Dependency];
     assert_eq!((d.read, d.used, d.left_out), (3, 1, 2), "{d:?}");
 }
+
+/// A release with neither a source build nor a prebuilt build for any platform (an export
+/// that lost its builds column reads so) used to pass `check` without a word, and each of its
+/// cells then blamed the image's platform. It is noted at its record's line
+/// (`no-build-anywhere`) and kept, as the registry publishes it, in the YAML and the bulk
+/// format alike; a release with a prebuilt build for some platform only is not noted.
+#[test]
+fn releases_with_no_build_for_any_platform_are_noted_and_kept() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::bulk::read_bulk;
+    use basefit::load::diag::Ledger;
+    use basefit::load::registry::read_yaml_str;
+    fn noted(ledger: &Ledger) -> Vec<(String, usize, String, bool)> {
+        ledger
+            .problems
+            .iter()
+            .filter(|p| p.kind == ProblemKind::NoBuildAnywhere)
+            .map(|p| {
+                let file = Path::new(&p.origin.file).file_name().unwrap();
+                (
+                    file.to_string_lossy().into_owned(),
+                    p.origin.line,
+                    p.subject.clone(),
+                    p.left_out,
+                )
+            })
+            .collect()
+    }
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "b.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: plover\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        builds: {source: false}\n",
+            "      - {version: 1.1.0, builds: {prebuilt: [linux/musl/x86_64]}}\n",
+            "      - {version: 1.2.0}\n",
+            "      - {version: 1.3.0, builds: {}}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    let kept = |line: usize, subject: &str| (String::new(), line, subject.to_string(), false);
+    let without_file = |mut v: Vec<(String, usize, String, bool)>, file: &str| {
+        for n in &mut v {
+            assert_eq!(n.0, file);
+            n.0.clear();
+        }
+        v
+    };
+    assert_eq!(
+        without_file(noted(&ledger), "b.yaml"),
+        [kept(4, "plover@1.0.0"), kept(8, "plover@1.3.0")],
+        "{:?}",
+        ledger.problems
+    );
+    assert!(ledger.problems.iter().any(|p| {
+        p.detail
+            .contains("neither a source build nor a prebuilt build for any platform")
+    }));
+    assert_eq!(registry.packages[0].releases.len(), 4);
+
+    let dir = tempfile::tempdir().unwrap();
+    let (v, d) = (dir.path().join("v.csv"), dir.path().join("d.csv"));
+    std::fs::write(
+        &v,
+        concat!(
+            "package,version,source_build,prebuilt\n",
+            "plover,1.0.0,false,\n",
+            "plover,1.1.0,false,linux/musl/x86_64\n",
+            "plover,1.2.0,true,\n",
+        ),
+    )
+    .unwrap();
+    std::fs::write(&d, "package,version,dependency\n").unwrap();
+    let (registry, ledger) = read_bulk(&v, &d).unwrap();
+    assert_eq!(
+        without_file(noted(&ledger), "v.csv"),
+        [kept(2, "plover@1.0.0")],
+        "{:?}",
+        ledger.problems
+    );
+    assert_eq!(registry.packages[0].releases.len(), 3);
+}

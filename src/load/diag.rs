@@ -499,6 +499,9 @@ pub enum ProblemKind {
     /// A release whose runtime requirement no runtime version meets (`<0.0.0`, `>=5, <4`); kept,
     /// as the registry publishes it, though no image can install it.
     UnsatisfiableRuntime,
+    /// A release with neither a source build nor a prebuilt build for any platform; kept, as
+    /// the registry publishes it, though no image can install it.
+    NoBuildAnywhere,
     /// A package all of whose versions are yanked.
     NoInstallableVersion,
     /// A package with no version records at all.
@@ -558,6 +561,9 @@ impl ProblemKind {
             }
             ProblemKind::UnsatisfiableRuntime => {
                 "runtime requirements no runtime version meets (release kept; no image can install it)"
+            }
+            ProblemKind::NoBuildAnywhere => {
+                "releases with no build for any platform (release kept; no image can install it)"
             }
             ProblemKind::NoInstallableVersion => {
                 "packages with no installable version (all yanked)"

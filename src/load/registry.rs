@@ -497,6 +497,18 @@ impl RegistryBuilder {
             self.leave_out_release(package, ProblemKind::BadValue, origin(line), subject, why);
             return None;
         }
+        // Kept, as a runtime no version meets is: it is what the registry says. But each of
+        // its cells would blame the image's platform, and an export that lost its builds
+        // column reads exactly so.
+        if !fields.build.source && fields.build.prebuilt.is_empty() {
+            self.ledger.note(
+                ProblemKind::NoBuildAnywhere,
+                origin(line),
+                subject(&self.registry),
+                "neither a source build nor a prebuilt build for any platform, so no image can \
+                 install this release",
+            );
+        }
         Some(StagedRelease {
             package,
             release: Release {

@@ -336,6 +336,19 @@ pub(crate) fn unusable(
             });
         }
     }
+    // Likewise a release with no build for any platform: "no build for linux/musl/x86_64"
+    // would send the reader to another platform in vain.
+    let mut unbuildable: Vec<u32> = Vec::new();
+    if let Some(idx) = tally.get_mut(&Admission::NoBuild) {
+        idx.retain(|&i| {
+            let build = &releases[i as usize].build;
+            let none = !build.source && build.prebuilt.is_empty();
+            if none {
+                unbuildable.push(i);
+            }
+            !none
+        });
+    }
     tally.retain(|_, idx| !idx.is_empty());
     let cause = if tally.is_empty() {
         cause_of_refusals(&refusals(view, package, set))
@@ -355,6 +368,19 @@ pub(crate) fn unusable(
         let shown = runtime_requirements(registry, releases, &impossible);
         parts.push(format!(
             "{n} {versions} {need} a runtime no version can be ({shown}): no image can install {}",
+            crate::report::it_or_them(n)
+        ));
+    }
+    if !unbuildable.is_empty() {
+        let n = unbuildable.len();
+        let (versions, have) = if n == 1 {
+            ("version", "has")
+        } else {
+            ("versions", "have")
+        };
+        parts.push(format!(
+            "{n} {versions} {have} no build for any platform (neither a source build nor a \
+             prebuilt one): no image can install {}",
             crate::report::it_or_them(n)
         ));
     }
