@@ -538,18 +538,14 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         )
         .into());
     }
-    if let (Some(cache), Some(dir)) = (&o.cache, &o.out) {
-        for name in MATRIX_FILES {
-            if crate::load::diag::same_file(cache, &dir.join(name)) {
-                return Err(BadInput::file(
-                    cache.display().to_string(),
-                    format!(
-                        "--cache names the {name} that --out writes; give the cache a file of its own"
-                    ),
-                )
-                .into());
-            }
-        }
+    if let (Some(cache), Some(dir)) = (&o.cache, &o.out)
+        && let Some((_, name)) = written_over([cache.as_path()], dir, &MATRIX_FILES)
+    {
+        return Err(BadInput::file(
+            cache.display().to_string(),
+            format!("--cache names the {name} that --out writes; give the cache a file of its own"),
+        )
+        .into());
     }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
@@ -737,6 +733,21 @@ pub struct MergeCommand {
 
 /// `merge`: shard matrices into the matrix one run gives.
 pub fn merge(o: &MergeCommand) -> Result<Output> {
+    // Writing over a shard would leave a set that no longer merges: that shard would have to
+    // be planned again.
+    if let Some((shard, name)) =
+        written_over(o.shards.iter().map(|p| p.as_path()), &o.out, &MATRIX_FILES)
+    {
+        return Err(BadInput::file(
+            "command line",
+            format!(
+                "shard {} is the {name} that --out {} would write: merge into another folder",
+                shard.display(),
+                o.out.display()
+            ),
+        )
+        .into());
+    }
     let bar = o.progress.as_ref();
     let mut parts = Vec::new();
     for (k, p) in o.shards.iter().enumerate() {
@@ -789,6 +800,21 @@ fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
 
 /// The files `plan --out` and `merge --out` write into their folder.
 const MATRIX_FILES: [&str; 2] = ["matrix.yaml", "matrix.json"];
+
+/// The first of `inputs` that is one of the files `names` a command writes into `dir`, with
+/// that file's name: reading and writing the same file would destroy the input.
+fn written_over<'a>(
+    inputs: impl IntoIterator<Item = &'a std::path::Path>,
+    dir: &std::path::Path,
+    names: &[&'static str],
+) -> Option<(&'a std::path::Path, &'static str)> {
+    inputs.into_iter().find_map(|input| {
+        let name = names
+            .iter()
+            .find(|name| crate::load::diag::same_file(input, &dir.join(name)))?;
+        Some((input, *name))
+    })
+}
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.
 pub fn write_matrix(matrix: &Matrix, dir: &std::path::Path, out: &mut Output) -> Result<()> {
@@ -1264,9 +1290,7 @@ pub struct RenderCommand {
 pub fn render(o: &RenderCommand) -> Result<Output> {
     // Rendering over the matrix read would replace the plan's matrix with an annotated one.
     if let (Some(matrix), Some(dir)) = (&o.matrix, &o.out)
-        && let Some(name) = RENDERED_FILES
-            .iter()
-            .find(|name| crate::load::diag::same_file(matrix, &dir.join(name)))
+        && let Some((_, name)) = written_over([matrix.as_path()], dir, &RENDERED_FILES)
     {
         return Err(BadInput::file(
             "command line",

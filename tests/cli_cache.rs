@@ -166,7 +166,10 @@ fn a_cache_that_reads_but_is_damaged_is_an_input_error_naming_the_cell() {
     assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains("plan.cache"), "{stderr}");
     assert!(stderr.contains("not a basefit plan cache"), "{stderr}");
-    assert!(stderr.contains(&format!("cell {} (", k + 1)), "{stderr}");
+    assert!(
+        stderr.contains(&format!("the {} cell (", basefit::report::ordinal(k + 1))),
+        "{stderr}"
+    );
     assert_eq!(std::fs::read_to_string(&cache).unwrap(), text);
 }
 

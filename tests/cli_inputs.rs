@@ -1808,7 +1808,8 @@ fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
     });
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("banana.json: cell ")
+        stderr.contains("banana.json: the ")
+            && stderr.contains(" cell (")
             && stderr.contains("root_version `banana` is not a semver version"),
         "{stderr}"
     );
@@ -1818,7 +1819,7 @@ fn a_hand_edited_matrix_with_bad_versions_or_unknown_fields_is_refused() {
     });
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains("closure.json: cell ") && stderr.contains("`1.x` is not a semver version"),
+        stderr.contains("closure.json: the ") && stderr.contains("`1.x` is not a semver version"),
         "{stderr}"
     );
     let (code, _, stderr) = review("extra.json", &|m| {

@@ -148,7 +148,7 @@ fn a_matrix_whose_cells_do_not_follow_its_rows_and_columns_is_refused() {
         assert_eq!(code, 2, "{args:?}: {stderr}");
         assert!(
             stderr.contains("swapped.json")
-                && stderr.contains("cell 1 is tidewater-http on deb-2.8"),
+                && stderr.contains("the 1st cell is tidewater-http on deb-2.8"),
             "{args:?}: {stderr}"
         );
     }
@@ -317,6 +317,52 @@ fn merge_names_the_shard_file_at_fault() {
     );
 }
 
+/// `merge --out` into a shard's own folder wrote the merged matrix over that shard's
+/// matrix.json, and the set no longer merged (an end-to-end review): it is refused before
+/// anything is read or written, as `render` refuses to write over its `--matrix`.
+#[test]
+fn merge_refuses_to_write_over_a_shard() {
+    let dir = tempfile::tempdir().unwrap();
+    let first = plan_into(&dir.path().join("s1"), Some("1/2"));
+    let second = plan_into(&dir.path().join("s2"), Some("2/2"));
+    let before = std::fs::read(&second).unwrap();
+    let out = dir.path().join("s2");
+    assert_refused(
+        &["merge", "--out", out.to_str().unwrap(), &first, &second],
+        &format!(
+            "shard {second} is the matrix.json that --out {} would write: merge into another folder",
+            out.display()
+        ),
+    );
+    assert_eq!(
+        std::fs::read(&second).unwrap(),
+        before,
+        "the shard is untouched"
+    );
+    // Spelled another way, it is the same file.
+    let dotted = dir.path().join(".").join("s2");
+    assert_refused(
+        &["merge", "--out", dotted.to_str().unwrap(), &first, &second],
+        "merge into another folder",
+    );
+    // Another folder is fine, and the shards still merge afterwards.
+    let (code, _, stderr) = run_basefit([
+        "merge",
+        "--out",
+        dir.path().join("m").to_str().unwrap(),
+        &first,
+        &second,
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+}
+
+/// How many cells the shard matrix at `path` holds.
+fn shard_cells(path: &str) -> usize {
+    let shard: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    shard["cells"].as_array().unwrap().len()
+}
+
 /// Plans the demo in two shards under `dir`, applies `edit` to the parsed shards, writes them
 /// back and merges them; returns the shard paths, the exit code and stderr.
 fn merge_edited(
@@ -352,7 +398,7 @@ fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
     });
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains(&format!("{}: cell 1 of the shard", paths[1]))
+        stderr.contains(&format!("{}: the shard's 1st cell", paths[1]))
             && stderr.contains("on deb-9.9) names a package or image the matrix does not list"),
         "{stderr}"
     );
@@ -364,18 +410,26 @@ fn merge_names_the_shard_whose_cell_is_wrong_or_missing() {
     });
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains(&format!("{}: cell ", paths[0]))
+        stderr.contains(&format!("{}: the shard's ", paths[0]))
             && stderr.contains("belongs to shard 2/2, not 1/2"),
         "{stderr}"
     );
-    // A cell given twice in one part.
+    // A cell given twice in one part: the copy's place in the file is counted from 1, and
+    // says so by its ordinal, where the whole matrix's cells are counted from 0 (an
+    // end-to-end review found "cell 31" beside "cell 6 ..., counting from 0").
     let (paths, code, stderr) = merge_edited(dir.path(), |s| {
         let copy = s[0]["cells"][3].clone();
         s[0]["cells"].as_array_mut().unwrap().push(copy);
     });
     assert_eq!(code, 2, "{stderr}");
+    // The copy is the edited file's last cell.
+    let last = shard_cells(&paths[0]);
     assert!(
-        stderr.contains(&format!("{}: cell ", paths[0])) && stderr.contains("is listed twice"),
+        stderr.contains(&format!(
+            "{}: the shard's {} cell (",
+            paths[0],
+            basefit::report::ordinal(last)
+        )) && stderr.contains("is listed twice"),
         "{stderr}"
     );
     // A cell removed: the shard it belongs to is named.

@@ -450,8 +450,8 @@ impl Matrix {
             let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
             if cell.package != *package || cell.image != *image {
                 return Err(format!(
-                    "cell {} is {} on {} where {package} on {image} belongs (cells must follow the rows and columns)",
-                    i + 1,
+                    "the {} cell is {} on {} where {package} on {image} belongs (cells must follow the rows and columns)",
+                    crate::report::ordinal(i + 1),
                     cell.package,
                     cell.image
                 ));
@@ -473,8 +473,8 @@ impl Matrix {
             for (what, name, version) in root.chain(closure) {
                 if let Err(e) = semver::Version::parse(version) {
                     return Err(format!(
-                        "cell {} ({} on {}): {what}{name} `{version}` is not a semver version ({e})",
-                        i + 1,
+                        "the {} cell ({} on {}): {what}{name} `{version}` is not a semver version ({e})",
+                        crate::report::ordinal(i + 1),
                         cell.package,
                         cell.image
                     ));

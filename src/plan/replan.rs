@@ -588,8 +588,8 @@ impl PlanCache {
         for (k, (basis, cell)) in self.bases.iter().zip(&self.matrix.cells).enumerate() {
             basis_damage(basis, &self.packages).map_err(|what| {
                 format!(
-                    "cell {} ({} on {}): {what}",
-                    k + 1,
+                    "the {} cell ({} on {}): {what}",
+                    crate::report::ordinal(k + 1),
                     cell.package,
                     cell.image
                 )
@@ -1603,8 +1603,8 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 return Err(fail(
                     Some(part),
                     format!(
-                        "cell {} of the shard ({} on {}) names a package or image the matrix does not list",
-                        j + 1,
+                        "the shard's {} cell ({} on {}) names a package or image the matrix does not list",
+                        crate::report::ordinal(j + 1),
                         c.package,
                         c.image
                     ),
@@ -1615,8 +1615,8 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 return Err(fail(
                     Some(part),
                     format!(
-                        "cell {} of the shard ({} on {}) belongs to shard {}/{count}, not {}/{count}",
-                        j + 1,
+                        "the shard's {} cell ({} on {}) belongs to shard {}/{count}, not {}/{count}",
+                        crate::report::ordinal(j + 1),
                         c.package,
                         c.image,
                         i % count + 1,
@@ -1628,8 +1628,8 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
                 return Err(fail(
                     Some(part),
                     format!(
-                        "cell {} of the shard ({} on {}) is listed twice",
-                        j + 1,
+                        "the shard's {} cell ({} on {}) is listed twice",
+                        crate::report::ordinal(j + 1),
                         c.package,
                         c.image
                     ),

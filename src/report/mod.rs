@@ -284,6 +284,29 @@ pub fn one_or_many<'a, N: PartialEq + From<u8>>(n: N, one: &'a str, many: &'a st
     if n == N::from(1) { one } else { many }
 }
 
+/// `n` as an English ordinal: `1st`, `2nd`, `3rd`, `4th`, `11th`, `12th`, `13th`, `21st`,
+/// `112th`. Messages count a file's records with it, so that "the 31st cell" cannot be read
+/// as counting from 0, as "cell 31" can (some counts in the same messages do).
+///
+/// ```
+/// use basefit::report::ordinal;
+/// let all: Vec<String> = [1, 2, 3, 4, 11, 12, 13, 21, 22, 23, 101, 111, 112, 1003]
+///     .map(ordinal)
+///     .into();
+/// assert_eq!(all, ["1st", "2nd", "3rd", "4th", "11th", "12th", "13th", "21st", "22nd", "23rd",
+///     "101st", "111th", "112th", "1003rd"]);
+/// ```
+pub fn ordinal(n: usize) -> String {
+    let suffix = match (n % 10, n % 100) {
+        (_, 11..=13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{n}{suffix}")
+}
+
 /// Pretty JSON with a trailing newline.
 pub fn to_json<T: Serialize>(value: &T) -> String {
     let mut out = Vec::new();
