@@ -539,6 +539,42 @@ fn manifest_reports_native_needs_of_the_joint_closure() {
     );
 }
 
+/// The line above the manifest says what to do about its rows at risk: add the packages
+/// named, and check the image by hand for libraries no package is known for. It said "add that
+/// first" where the only need was such a library, with nothing to add (an end-to-end review).
+#[test]
+fn the_manifest_header_asks_to_add_only_what_can_be_added() {
+    let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let header = |registry: &str, priorities: &str| {
+        let p = native_preinstall(registry, images, priorities);
+        let text = basefit::plan::preinstall::preinstall_text(&p);
+        text.lines()
+            .find(|l| l.contains(" of them need"))
+            .unwrap_or_else(|| panic!("{text}"))
+            .to_string()
+    };
+    let registry = "packages:
+- name: murk
+  versions:
+  - {version: 1.0.0, native: {libraries: [quillotine-vq]}}
+- name: fenbolt
+  versions:
+  - {version: 1.0.0, native: {files: [include/libxml/parser.h]}}
+";
+    assert_eq!(
+        header(registry, "priorities:\n- murk\n"),
+        "1 of them needs libraries no system package is known for (last column): check the image has them by hand, or it may fail to install"
+    );
+    assert_eq!(
+        header(registry, "priorities:\n- fenbolt\n"),
+        "1 of them needs what the image lacks (last column): add that first, or it may fail to install"
+    );
+    assert_eq!(
+        header(registry, "priorities:\n- murk\n- fenbolt\n"),
+        "2 of them need what the image lacks (last column): add the packages named first, and check the image by hand for the libraries no package is known for, or they may fail to install"
+    );
+}
+
 /// The manifest table's row of `name` in a pre-install text, trailing blanks trimmed.
 fn manifest_row(text: &str, name: &str) -> String {
     text.lines()

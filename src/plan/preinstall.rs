@@ -610,12 +610,24 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     // Kept rows that need what the image lacks would fail an image build that copies the
     // manifest as it is: each says so on its own row.
     if !p.at_risk.is_empty() {
+        let n = p.at_risk.len();
+        let addable = p.at_risk.iter().any(|r| !r.system_packages.is_empty());
+        let unmapped = p.at_risk.iter().any(|r| !r.unmapped_libraries.is_empty());
+        // "add that first" where nothing can be added sent readers looking for a package.
+        let what = match (addable, unmapped) {
+            (true, false) => "what the image lacks (last column): add that first",
+            (true, true) => {
+                "what the image lacks (last column): add the packages named first, and check the image by hand for the libraries no package is known for"
+            }
+            _ => {
+                "libraries no system package is known for (last column): check the image has them by hand"
+            }
+        };
         let _ = writeln!(
             s,
-            "{} of them {} what the image lacks (last column): add that first, or {} may fail to install",
-            p.at_risk.len(),
-            crate::report::one_or_many(p.at_risk.len(), "needs", "need"),
-            crate::report::one_or_many(p.at_risk.len(), "it", "they")
+            "{n} of them {} {what}, or {} may fail to install",
+            crate::report::one_or_many(n, "needs", "need"),
+            crate::report::one_or_many(n, "it", "they")
         );
     }
     let lacks: HashMap<(&str, &str), String> = p
