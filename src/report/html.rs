@@ -461,16 +461,17 @@ fn grid_cell(
         layout::outcome_symbol(cell.outcome),
         text(&short),
     );
-    if let Some(m) = mark.filter(|m| *m != Mark::Agreed) {
+    if let Some(m) = mark {
+        let title = match m {
+            Mark::Agreed => "recorded installs agree",
+            _ => m.meaning(),
+        };
         let _ = write!(
             out,
-            "<span class=\"mark mark-{}\" aria-hidden=\"true\" title=\"{}\">{}</span>",
+            "<span class=\"mark mark-{}\" aria-hidden=\"true\" title=\"{title}\">{}</span>",
             mark_name(m),
-            m.meaning(),
             m.symbol()
         );
-    } else if mark == Some(Mark::Agreed) {
-        out.push_str("<span class=\"mark mark-agreed\" aria-hidden=\"true\" title=\"recorded installs agree\">rec</span>");
     }
     out.push_str("</td>\n");
 }
@@ -619,14 +620,11 @@ fn legend(out: &mut String, native_skipped: bool) {
     }
     out.push_str("</dl>\n<p class=\"legend-marks\">Corner marks, where installs were recorded:");
     for mark in [Mark::Surprise, Mark::Unsettled, Mark::Agreed] {
-        let symbol = match mark {
-            Mark::Agreed => "rec",
-            _ => mark.symbol(),
-        };
         let _ = write!(
             out,
-            " <span class=\"legend-mark\"><span class=\"swatch swatch-mark mark-{}\" aria-hidden=\"true\">{symbol}</span>{}</span>",
+            " <span class=\"legend-mark\"><span class=\"swatch swatch-mark mark-{}\" aria-hidden=\"true\">{}</span>{}</span>",
             mark_name(mark),
+            mark.symbol(),
             mark.meaning()
         );
     }

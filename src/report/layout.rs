@@ -81,10 +81,11 @@ impl Mark {
         }
     }
 
-    /// The marker appended to a cell's symbol; agreement needs none.
+    /// The marker appended to a cell's symbol. Agreement has one too: without it, a cell
+    /// whose prediction installs confirmed reads exactly as one nobody tested.
     pub fn symbol(self) -> &'static str {
         match self {
-            Mark::Agreed => "",
+            Mark::Agreed => "rec",
             Mark::Surprise => "!",
             Mark::Unsettled => "~",
         }

@@ -201,7 +201,7 @@ fn render(m: &Matrix, labels: NoteLabels) -> String {
             layout::outcome_meaning(o, m.native_skipped)
         );
     }
-    for mark in [Mark::Surprise, Mark::Unsettled] {
+    for mark in [Mark::Surprise, Mark::Unsettled, Mark::Agreed] {
         let _ = writeln!(
             out,
             "- {} after a symbol: {}",
