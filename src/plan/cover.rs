@@ -195,7 +195,7 @@ pub struct AdviceStep {
 /// 2. Otherwise (every remaining item lacks two or more packages, or only weightless items
 ///    are one package away), add one remaining item's whole missing bundle: the bundle with
 ///    the most weight unblocked per package added, counting every item the bundle completes
-///    (ties: the bundle whose sorted names come first).
+///    (ties: the smaller bundle, then the one whose sorted names come first).
 ///
 /// Every step unblocks at least one item, so the advice ends after at most one step per item.
 /// Items with nothing missing are not blocked and appear in no step.
@@ -301,7 +301,9 @@ fn best_bundle<'a>(
 ) -> Option<Vec<&'a str>> {
     let bundles: BTreeSet<&Vec<&str>> = residual.iter().map(|(_, lacks)| lacks).collect();
     let mut best: Option<(&Vec<&str>, f64)> = None;
-    // Bundles come in name order, and strict comparison gives ties to the first.
+    // Bundles come in name order, and strict comparison gives ties to the first. A tie goes
+    // to the smaller bundle before that: on weightless items every bundle ties at zero, and
+    // the first name then took a bundle of two where one package completed an item.
     for bundle in bundles {
         if bundle.is_empty() {
             continue;
@@ -312,7 +314,9 @@ fn best_bundle<'a>(
             .map(|(i, _)| weight(*i))
             .sum();
         let per_package = gain / bundle.len() as f64;
-        if best.is_none_or(|(_, b)| per_package > b) {
+        if best.is_none_or(|(b, rate)| {
+            per_package > rate || (per_package == rate && bundle.len() < b.len())
+        }) {
             best = Some((bundle, per_package));
         }
     }
@@ -632,6 +636,52 @@ mod tests {
         assert_eq!(steps[4].cumulative, 8.0);
         assert!(steps.iter().all(|s| !s.unblocked.contains(&4)));
         assert!(advise(&[]).is_empty());
+    }
+
+    /// On weightless items (a priority list whose weights are all zero) every bundle ties at
+    /// zero per package; the smaller one goes first, so a package that completes an item on
+    /// its own is one step (an end-to-end review saw `libssl-dev zlib1g-dev` added together
+    /// where `zlib1g-dev` alone completed one item). With weights, a tie in weight per
+    /// package goes to the smaller bundle as well.
+    #[test]
+    fn bundle_ties_go_to_the_smaller_bundle() {
+        let zero = |missing: &[&str]| Blocked {
+            weight: 0.0,
+            missing: needs(missing),
+        };
+        let blocked = [
+            zero(&["libssl-dev", "zlib1g-dev"]),
+            zero(&["zlib1g-dev"]),
+            zero(&["libxml2-dev"]),
+        ];
+        assert_eq!(
+            adds(&advise(&blocked)),
+            [vec!["libxml2-dev"], vec!["zlib1g-dev"], vec!["libssl-dev"]]
+        );
+        // With weights: after {a, b} (2 per package), {c, d, e} completes three items of
+        // weight 1 and {f, g} one of weight 2, both 1 per package: the smaller bundle goes
+        // first, though {c, d, e} comes first by name.
+        let one = |missing: &[&str]| Blocked {
+            weight: 1.0,
+            missing: needs(missing),
+        };
+        let tie = [
+            Blocked {
+                weight: 4.0,
+                missing: needs(&["a", "b"]),
+            },
+            one(&["c", "d", "e"]),
+            one(&["c", "d", "e"]),
+            one(&["c", "d", "e"]),
+            Blocked {
+                weight: 2.0,
+                missing: needs(&["f", "g"]),
+            },
+        ];
+        assert_eq!(
+            adds(&advise(&tie)),
+            [vec!["a", "b"], vec!["f", "g"], vec!["c", "d", "e"]]
+        );
     }
 
     #[test]
