@@ -178,7 +178,7 @@ fn a_yaml_matrix_whose_weight_is_no_number_json_can_write_is_refused() {
         ]);
         assert_eq!(code, 2, "{weight}: {stderr}");
         assert!(
-            stderr.contains("edited.yaml: package row 2 (wattle-core): weight ")
+            stderr.contains("edited.yaml: the 2nd package row (wattle-core): weight ")
                 && stderr.contains("is not a finite number of at least 0"),
             "{weight}: {stderr}"
         );
@@ -455,7 +455,7 @@ fn merge_refuses_what_a_matrix_reader_would() {
     });
     assert_eq!(code, 2, "{stderr}");
     assert!(
-        stderr.contains(&format!("{}: package row 1 (", paths[0]))
+        stderr.contains(&format!("{}: the 1st package row (", paths[0]))
             && stderr.contains("weight -5 is not a finite number of at least 0"),
         "{stderr}"
     );

@@ -495,8 +495,8 @@ impl Matrix {
             .find(|(_, p)| !(p.weight.is_finite() && p.weight >= 0.0))
         {
             return Err(format!(
-                "package row {} ({}): weight {} is not a finite number of at least 0",
-                i + 1,
+                "the {} package row ({}): weight {} is not a finite number of at least 0",
+                crate::report::ordinal(i + 1),
                 row.name,
                 row.weight
             ));
