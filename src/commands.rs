@@ -792,7 +792,7 @@ fn read_shard(path: &std::path::Path) -> Result<Matrix, BadInput> {
     )?;
     // Checked here, as `read_matrix` checks a whole matrix: the merged one must read back.
     shard
-        .check_versions()
+        .check_cells()
         .map_err(|e| BadInput::file(path.display().to_string(), e))?;
     shard.notice = plan::matrix::NOTICE.to_string();
     Ok(shard)

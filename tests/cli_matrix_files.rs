@@ -317,6 +317,103 @@ fn merge_names_the_shard_file_at_fault() {
     );
 }
 
+/// A matrix file carries no seal, so a hand edit can make a cell contradict itself: `fails`
+/// beside the closure it installs and no cause (an end-to-end review merged, rendered and
+/// diffed one as a prediction). Every reader refuses such a cell, naming it, and each
+/// contradiction a reader can meet is told apart.
+#[test]
+fn a_cell_that_contradicts_itself_is_refused_by_every_reader() {
+    let dir = tempfile::tempdir().unwrap();
+    let (_, code, stderr) = merge_edited(dir.path(), |s| {
+        let cells = s[0]["cells"].as_array_mut().unwrap();
+        let cell = cells
+            .iter_mut()
+            .find(|c| c["outcome"] == "installs")
+            .unwrap();
+        cell["outcome"] = "fails".into();
+    });
+    assert_eq!(code, 2, "{stderr}");
+    assert!(stderr.contains("`fails` names no cause"), "{stderr}");
+
+    let whole = plan_into(&dir.path().join("whole"), None);
+    let matrix: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&whole).unwrap()).unwrap();
+    let at = |outcome: &str| {
+        matrix["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .position(|c| {
+                c["outcome"] == outcome && c["cause"].is_null() == (outcome == "installs")
+            })
+            .unwrap()
+    };
+    let (installs, fails) = (at("installs"), at("fails"));
+    type Edit<'a> = (&'a str, usize, &'a dyn Fn(&mut serde_json::Value), &'a str);
+    let edits: [Edit; 5] = [
+        (
+            "no-root.json",
+            installs,
+            &|c| c["root_version"] = serde_json::Value::Null,
+            "`installs` names no root_version",
+        ),
+        (
+            "empty.json",
+            installs,
+            &|c| {
+                c["closure_size"] = 0.into();
+                c["closure"] = serde_json::json!([]);
+            },
+            "`installs` with a closure_size of 0",
+        ),
+        (
+            "size.json",
+            installs,
+            &|c| c["closure_size"] = 99.into(),
+            "with a closure_size of 99",
+        ),
+        (
+            "no-cause.json",
+            fails,
+            &|c| c["cause"] = serde_json::Value::Null,
+            "`fails` names no cause",
+        ),
+        (
+            "conflict-root.json",
+            fails,
+            &|c| {
+                c["cause"] = "dependency-conflict".into();
+                c["root_version"] = "1.0.0".into();
+            },
+            "`fails` (dependency-conflict) names a release it installs",
+        ),
+    ];
+    for (name, i, edit, want) in edits {
+        let mut edited = matrix.clone();
+        edit(&mut edited["cells"][i]);
+        let path = dir.path().join(name);
+        std::fs::write(&path, serde_json::to_string_pretty(&edited).unwrap()).unwrap();
+        let path = path.to_str().unwrap();
+        let ordinal = basefit::report::ordinal(i + 1);
+        let cell = format!("{path}: the {ordinal} cell (");
+        // Shown beside the cell it names, and by both readers of a whole matrix.
+        assert_refused(&["diff", &whole, path], &cell);
+        assert_refused(&["diff", &whole, path], want);
+        let mut render = vec!["render", "--quiet", "--matrix", path];
+        render.extend(common::DEMO);
+        assert_refused(&render, want);
+    }
+    // A cell that fails on what the image lacks keeps the release it resolved: not refused.
+    assert!(
+        matrix["cells"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|c| { c["outcome"] == "fails" && !c["root_version"].is_null() }),
+        "the demo has a native failure, which every reader above accepted"
+    );
+}
+
 /// `merge --out` into a shard's own folder wrote the merged matrix over that shard's
 /// matrix.json, and the set no longer merged (an end-to-end review): it is refused before
 /// anything is read or written, as `render` refuses to write over its `--matrix`.

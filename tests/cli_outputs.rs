@@ -1421,8 +1421,12 @@ fn diff_of_one_changed_cell_holds_only_that_cells_lines() {
         cell["package"].as_str().unwrap().to_string(),
         cell["image"].as_str().unwrap().to_string(),
     );
+    // As a cell that installs reads: a matrix whose cell contradicts itself is refused.
     cell["outcome"] = "installs".into();
     cell["cause"] = serde_json::Value::Null;
+    cell["root_version"] = "1.0.0".into();
+    cell["closure_size"] = 1.into();
+    cell["closure"] = serde_json::json!([{"name": package, "version": "1.0.0", "build": "source"}]);
     // The demo has later notes whose numbers this cell's note would have shifted.
     let notes_after = m["cells"].as_array().unwrap()[i + 1..]
         .iter()

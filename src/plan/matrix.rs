@@ -445,7 +445,7 @@ impl Matrix {
             ));
         }
         self.check_rows()?;
-        self.check_versions()?;
+        self.check_cells()?;
         for (i, cell) in self.cells.iter().enumerate() {
             let (package, image) = (&self.packages[i / n].name, &self.images[i % n].id);
             if cell.package != *package || cell.image != *image {
@@ -460,11 +460,28 @@ impl Matrix {
         Ok(())
     }
 
-    /// Whether every version a cell names (`root_version`, and each closure package's) is a
-    /// semver version, as `plan` writes them. A review compares installed versions with
-    /// them, so a hand-edited `banana` would be reported as a drift to `banana`.
-    pub fn check_versions(&self) -> Result<(), String> {
+    /// Whether every cell reads as `plan` writes cells: each version it names (`root_version`,
+    /// and each closure package's) is a semver version, and its outcome agrees with the rest
+    /// (a cell that resolves names its release and a closure of at least one package, a
+    /// failure its cause, a listed closure has the size the cell gives, and only a cell that
+    /// resolves, or then fails on what the image lacks, names a release). A review compares
+    /// installed versions with them, so a hand-edited `banana` would be reported as a drift to
+    /// `banana`; and a matrix file carries no seal, so a hand edit that makes a cell contradict
+    /// itself (`fails` beside a closure and no cause) would be merged, rendered and diffed as
+    /// a prediction.
+    pub fn check_cells(&self) -> Result<(), String> {
         for (i, cell) in self.cells.iter().enumerate() {
+            let at = || {
+                format!(
+                    "the {} cell ({} on {})",
+                    crate::report::ordinal(i + 1),
+                    cell.package,
+                    cell.image
+                )
+            };
+            if let Some(why) = contradiction(cell) {
+                return Err(format!("{}: {why}", at()));
+            }
             let root = cell.root_version.iter().map(|v| ("root_version", "", v));
             let closure = cell
                 .closure
@@ -473,10 +490,8 @@ impl Matrix {
             for (what, name, version) in root.chain(closure) {
                 if let Err(e) = semver::Version::parse(version) {
                     return Err(format!(
-                        "the {} cell ({} on {}): {what}{name} `{version}` is not a semver version ({e})",
-                        crate::report::ordinal(i + 1),
-                        cell.package,
-                        cell.image
+                        "{}: {what}{name} `{version}` is not a semver version ({e})",
+                        at()
                     ));
                 }
             }
@@ -1019,5 +1034,40 @@ pub fn summarise(m: &Matrix) -> Summary {
         images,
         packages,
         causes,
+    }
+}
+
+/// How a cell's outcome disagrees with the rest of it, as no cell `plan` writes does.
+fn contradiction(cell: &Cell) -> Option<String> {
+    let native_failure = matches!(
+        cell.cause,
+        Some(Cause::MissingSystemLibrary | Cause::MissingToolchain)
+    );
+    let may_name_a_release =
+        cell.outcome.resolves() || (cell.outcome == Outcome::Fails && native_failure);
+    let outcome = cell.outcome.as_str();
+    if cell.outcome.resolves() && cell.root_version.is_none() {
+        Some(format!("`{outcome}` names no root_version"))
+    } else if cell.outcome.resolves() && cell.closure_size == 0 {
+        Some(format!(
+            "`{outcome}` with a closure_size of 0 (the closure holds the package itself)"
+        ))
+    } else if cell.outcome == Outcome::Fails && cell.cause.is_none() {
+        Some("`fails` names no cause".to_string())
+    } else if !cell.closure.is_empty() && cell.closure.len() != cell.closure_size {
+        Some(format!(
+            "a closure of {} packages with a closure_size of {}",
+            cell.closure.len(),
+            cell.closure_size
+        ))
+    } else if (cell.root_version.is_some() || !cell.closure.is_empty()) && !may_name_a_release {
+        Some(format!(
+            "`{outcome}`{} names a release it installs, as only a cell that resolves does (or one that then fails on what the image lacks)",
+            cell.cause
+                .map(|c| format!(" ({})", c.as_str()))
+                .unwrap_or_default()
+        ))
+    } else {
+        None
     }
 }
