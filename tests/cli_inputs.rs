@@ -2286,6 +2286,50 @@ fn flags_read_the_yaml_1_1_boolean_words() {
     );
 }
 
+/// A requirement written as a YAML null (`runtime: ~`, `req: null`, a key with no value) was
+/// read as absent, without a word, where `""` is listed: an export that lost the value
+/// writes either. Both are now listed alike, at the value's line.
+#[test]
+fn a_null_requirement_is_listed_as_an_empty_one() {
+    let d = dir();
+    let registry = write(
+        d.path(),
+        "registry.yaml",
+        "packages:
+  - name: plover
+    versions:
+      - version: 1.0.0
+        runtime: ~
+        depends:
+          - {name: dunlin, req: null}
+  - name: dunlin
+    versions:
+      - {version: 1.0.0, runtime:}
+      - {version: 1.1.0, runtime: NULL}
+",
+    );
+    let images = write(d.path(), "images.yaml", GOOD_IMAGES);
+    assert_check_finds(
+        &registry,
+        &images,
+        &[
+            "(empty-requirement): 4",
+            "registry.yaml:5  plover@1.0.0: runtime requirement is empty: read as any runtime",
+            "registry.yaml:7  plover@1.0.0: requirement on dunlin is empty: read as any version",
+            "registry.yaml:10  dunlin@1.0.0: runtime requirement is empty: read as any runtime",
+            "registry.yaml:11  dunlin@1.1.0: runtime requirement is empty: read as any runtime",
+        ],
+        Some(("version records", ["3", "3", "0"])),
+    );
+    let (code, stdout, stderr) =
+        check_priorities(d.path(), "priorities:\n  - {name: fernwood, req: ~}\n");
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stdout.contains("priorities.yaml:2  fernwood: requirement is empty: read as any version"),
+        "{stdout}"
+    );
+}
+
 /// A requirement given as empty text reads as any version, as an absent one does, but `check`
 /// lists it at its line: an export that lost the value reads the same, and the release would
 /// go onto every image without a word (from an end-to-end review).

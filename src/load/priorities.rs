@@ -82,7 +82,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
             name_line: name.line,
             weight: m.opt_number_at("weight")?,
             req: m
-                .opt_str_at("req")?
+                .opt_text_at("req")?
                 .map(|r| At::new(r.value.to_owned(), r.line)),
             prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
         })

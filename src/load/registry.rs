@@ -976,7 +976,7 @@ fn parse_release<'a>(
     for d in m.seq("depends")? {
         let dm = ctx.map(d, "dependency", DEP_FIELDS)?;
         let name = dm.required_str_at("name")?;
-        let req = dm.opt_str_at("req")?.unwrap_or(At::new("*", name.line));
+        let req = dm.opt_text_at("req")?.unwrap_or(At::new("*", name.line));
         let kind = match dm.get("kind") {
             None => DepKind::Runtime,
             Some(k) => match ctx.str(k, "dependency `kind`")? {
@@ -1037,7 +1037,7 @@ fn parse_release<'a>(
     let release = RawRelease {
         version,
         released: m.opt_str_at("released")?,
-        runtime: m.opt_str_at("runtime")?,
+        runtime: m.opt_text_at("runtime")?,
         deps,
         source_build,
         prebuilt,

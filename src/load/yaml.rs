@@ -517,6 +517,18 @@ impl<'n> MapReader<'n, '_> {
         Ok(text.zip(node).map(|(t, n)| At::new(t, n.line)))
     }
 
+    /// [`MapReader::opt_str_at`], except that a key written without a value (`runtime: ~`,
+    /// `runtime: null`, `runtime:`) reads as empty text rather than as absent: for a
+    /// requirement, whose loaders note empty text (`empty-requirement`) since an export that
+    /// lost the value reads so, and one may write a null as well as `""`.
+    pub fn opt_text_at(&self, key: &str) -> Result<Option<At<&'n str>>, BadInput> {
+        // `get` reads a null as absent.
+        match self.entries.iter().find(|(k, _)| *k == key) {
+            Some((_, node)) if node.is_null() => Ok(Some(At::new("", node.line))),
+            _ => self.opt_str_at(key),
+        }
+    }
+
     /// [`MapReader::opt_number`] with the line of the value.
     pub fn opt_number_at(&self, key: &str) -> Result<Option<At<f64>>, BadInput> {
         let node = self.get(key);
