@@ -1,6 +1,6 @@
 //! Nothing is lost on a deliberately messy registry: every record is used or reported.
 
-use basefit::load::diag::{ProblemKind, RecordKind};
+use basefit::load::diag::{Ledger, ProblemKind, RecordKind};
 use basefit::load::read_registry;
 use std::path::Path;
 
@@ -266,24 +266,8 @@ fn an_empty_native_library_name_leaves_out_its_version() {
 fn runtime_requirements_no_runtime_meets_are_noted_and_kept() {
     use basefit::load::RegistryBuilder;
     use basefit::load::bulk::read_bulk;
-    use basefit::load::diag::Ledger;
     use basefit::load::registry::read_yaml_str;
-    fn noted(ledger: &Ledger) -> Vec<(String, usize, String, bool)> {
-        ledger
-            .problems
-            .iter()
-            .filter(|p| p.kind == ProblemKind::UnsatisfiableRuntime)
-            .map(|p| {
-                let file = Path::new(&p.origin.file).file_name().unwrap();
-                (
-                    file.to_string_lossy().into_owned(),
-                    p.origin.line,
-                    p.subject.clone(),
-                    p.left_out,
-                )
-            })
-            .collect()
-    }
+    let noted = |ledger: &Ledger| noted_as(ledger, ProblemKind::UnsatisfiableRuntime);
     let mut b = RegistryBuilder::new();
     read_yaml_str(
         "rt.yaml",
@@ -375,24 +359,8 @@ fn the_dependencies_of_a_duplicate_version_are_counted_as_left_out() {
 fn releases_with_no_build_for_any_platform_are_noted_and_kept() {
     use basefit::load::RegistryBuilder;
     use basefit::load::bulk::read_bulk;
-    use basefit::load::diag::Ledger;
     use basefit::load::registry::read_yaml_str;
-    fn noted(ledger: &Ledger) -> Vec<(String, usize, String, bool)> {
-        ledger
-            .problems
-            .iter()
-            .filter(|p| p.kind == ProblemKind::NoBuildAnywhere)
-            .map(|p| {
-                let file = Path::new(&p.origin.file).file_name().unwrap();
-                (
-                    file.to_string_lossy().into_owned(),
-                    p.origin.line,
-                    p.subject.clone(),
-                    p.left_out,
-                )
-            })
-            .collect()
-    }
+    let noted = |ledger: &Ledger| noted_as(ledger, ProblemKind::NoBuildAnywhere);
     let mut b = RegistryBuilder::new();
     read_yaml_str(
         "b.yaml",
@@ -451,4 +419,22 @@ fn releases_with_no_build_for_any_platform_are_noted_and_kept() {
         ledger.problems
     );
     assert_eq!(registry.packages[0].releases.len(), 3);
+}
+
+/// The problems of `kind` in `ledger`, as (file name, line, subject, left out).
+fn noted_as(ledger: &Ledger, kind: ProblemKind) -> Vec<(String, usize, String, bool)> {
+    ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == kind)
+        .map(|p| {
+            let file = Path::new(&p.origin.file).file_name().unwrap();
+            (
+                file.to_string_lossy().into_owned(),
+                p.origin.line,
+                p.subject.clone(),
+                p.left_out,
+            )
+        })
+        .collect()
 }
