@@ -1565,9 +1565,32 @@ fn a_runtime_refusal_that_agrees_points_at_the_image_not_the_metadata() {
     let surprise = cell(&review, "tidewater-http", "deb-2.4");
     assert_eq!(surprise.verdict, Verdict::SurpriseFailure);
     let s = surprise.suggestion.as_deref().unwrap();
-    assert!(
-        s.contains("the runtime requirement in the metadata may be missing or wrong"),
-        "{s}"
+    // Predicted to install: every release chosen admits 2.4.9 by the snapshot, so a
+    // requirement refusing it is one the snapshot does not hold for them.
+    assert_eq!(
+        s,
+        "the installer refused runtime 2.4.9 (requires >=2.6), but by the snapshot every release the prediction chose admits it: the snapshot is older than the registry the install used, or the install took other releases than predicted; refresh the snapshot and plan again"
+    );
+}
+
+/// A runtime refusal on a cell predicted to install says which of two things is wrong: the
+/// snapshot (the installer saw a requirement that refuses the runtime, which no chosen release
+/// has), or basefit's reading of the requirement (the installer refused the runtime for a
+/// requirement basefit reads as admitting it; here `^2.4` does admit 2.4.9 by the semver
+/// crate's `VersionReq::matches`). The advice said "the requirement may be missing or
+/// wrong" in both cases, without comparing it with the snapshot's reading.
+#[test]
+fn a_runtime_refusal_on_an_install_tells_a_stale_snapshot_from_another_reading() {
+    let review = review_of(
+        "results:
+  - {package: tidewater-http, image: deb-2.4, outcome: failed, log: \"runtime refused: requires ^2.4, found 2.4.9\"}
+",
+    );
+    let c = cell(&review, "tidewater-http", "deb-2.4");
+    assert_eq!(c.verdict, Verdict::SurpriseFailure);
+    assert_eq!(
+        c.suggestion.as_deref().unwrap(),
+        "the installer refused runtime 2.4.9 for a requirement, `^2.4`, that basefit reads as admitting it: the installer reads runtime requirements otherwise than basefit (pre-releases, partial versions); compare its rule with basefit's before trusting this image's predictions"
     );
 }
 

@@ -532,6 +532,24 @@ fn suggest(
                 "the installer refused runtime {found} (requires {required}), as the metadata said: {package} needs an image with another runtime (`basefit explain {package} {image_id}` names the nearest declared one)"
             ))
         }
+        // Predicted to resolve: every release the solver chose admits the image's runtime by
+        // the snapshot, and the refusal found that runtime. Either the installer reads the
+        // requirement otherwise than basefit does, or it saw a requirement that no chosen
+        // release has in the snapshot.
+        LogCause::RuntimeRefused { required, found } if cell.outcome.resolves() => {
+            let admits = crate::model::Requirement::parse(required).is_ok_and(|req| {
+                crate::solve::image::runtime_verdict(&req, &image.runtime) == Admission::Admissible
+            });
+            Some(if admits {
+                format!(
+                    "the installer refused runtime {found} for a requirement, `{required}`, that basefit reads as admitting it: the installer reads runtime requirements otherwise than basefit (pre-releases, partial versions); compare its rule with basefit's before trusting this image's predictions"
+                )
+            } else {
+                format!(
+                    "the installer refused runtime {found} (requires {required}), but by the snapshot every release the prediction chose admits it: the snapshot is older than the registry the install used, or the install took other releases than predicted; refresh the snapshot and plan again"
+                )
+            })
+        }
         LogCause::RuntimeRefused { required, found } => Some(format!(
             "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
         )),
