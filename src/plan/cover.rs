@@ -712,4 +712,65 @@ mod tests {
             assert_eq!(adds(&advise(&blocked)), from_cover);
         }
     }
+
+    /// A bundle's gain counts only the items it completes, not items it merely shares a
+    /// package with: counting partial overlaps (mutation review, c8) made {a, b} look worth
+    /// 11 / 2 and put the weight-1 item's packages first. Common practice, no source: a
+    /// greedy step is scored by what it finishes.
+    #[test]
+    fn a_bundle_gains_only_the_items_it_completes() {
+        let blocked = [
+            Blocked {
+                weight: 1.0,
+                missing: needs(&["a", "b"]),
+            },
+            Blocked {
+                weight: 10.0,
+                missing: needs(&["a", "c", "d"]),
+            },
+        ];
+        let steps = advise(&blocked);
+        // By hand: no single package completes anything. {a, b} completes item 0: 1 / 2;
+        // {a, c, d} completes item 1: 10 / 3. Then b alone completes item 0.
+        assert_eq!(adds(&steps), [vec!["a", "c", "d"], vec!["b"]]);
+        let gains: Vec<f64> = steps.iter().map(|s| s.gain).collect();
+        assert_eq!(gains, [10.0, 1.0]);
+        assert_eq!(steps[0].unblocked, [1]);
+        assert_eq!(steps[1].unblocked, [0]);
+        assert_eq!(steps[1].cumulative, 11.0);
+    }
+
+    /// `advise`'s documented contract: a weight that is not a finite number of at least 0
+    /// counts as 0. Only NaN was tested; a negative weight kept as is (mutation review, c11)
+    /// gave a step a gain of -5 and a falling running total. The CLI never passes one (the
+    /// priority reader leaves out negative weights), but `advise` and `Blocked` are public.
+    #[test]
+    fn a_negative_weight_counts_as_zero() {
+        let blocked = [
+            Blocked {
+                weight: -5.0,
+                missing: needs(&["a"]),
+            },
+            Blocked {
+                weight: 1.0,
+                missing: needs(&["b"]),
+            },
+        ];
+        let steps = advise(&blocked);
+        // b gains 1; a gains nothing, so it comes last, through the bundle rule.
+        assert_eq!(adds(&steps), [vec!["b"], vec!["a"]]);
+        assert_eq!(steps[0].gain, 1.0);
+        assert_eq!(steps[1].gain, 0.0);
+        assert_eq!(steps[1].cumulative, 1.0);
+        // Every weight below zero or not finite reads the same.
+        for w in [-0.5, f64::NEG_INFINITY, f64::INFINITY] {
+            let odd = [Blocked {
+                weight: w,
+                missing: needs(&["a"]),
+            }];
+            let steps = advise(&odd);
+            assert_eq!(adds(&steps), [vec!["a"]], "{w}");
+            assert_eq!((steps[0].gain, steps[0].cumulative), (0.0, 0.0), "{w}");
+        }
+    }
 }
