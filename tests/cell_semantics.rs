@@ -1652,3 +1652,226 @@ fn a_release_with_no_build_at_all_is_not_blamed_on_the_platform() {
     assert!(dunlin.contains("no build for any platform"), "{dunlin}");
     assert!(!dunlin.contains("linux/glibc/x86_64"), "{dunlin}");
 }
+
+/// `syslibs`' evidence per package lists only packages with native evidence: one with none,
+/// of its own or through a dependency, is no row (mutation review, s3: it came out with
+/// `"confidence": null` in JSON and as a bare entry in the text).
+#[test]
+fn packages_without_native_evidence_are_not_listed() {
+    let registry = r#"packages:
+  - name: parser
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: plainly
+    versions: [{version: "1.0.0"}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - parser\n  - plainly\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let names: Vec<&str> = report.packages.iter().map(|p| p.package.as_str()).collect();
+    assert_eq!(names, ["parser"]);
+    let json = serde_json::to_value(&report).unwrap();
+    let listed: Vec<&str> = json["packages"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["package"].as_str().unwrap())
+        .collect();
+    assert_eq!(listed, ["parser"], "{json}");
+    let text = basefit::report::text::system_text(&report);
+    assert!(!text.contains("plainly"), "{text}");
+}
+
+/// The mirror image of the prebuilt half of
+/// `a_missing_package_is_as_certain_as_the_needs_that_name_it`: a source build's certain need
+/// asks for the development package and the compiler, not the runtime package, which a
+/// prebuilt dependency's mention asks for only as `possible` (mutation review, s10: the
+/// runtime package came out `certain`).
+#[test]
+fn a_runtime_package_is_as_certain_as_the_prebuilt_needs_that_name_it() {
+    let registry = r#"packages:
+  - name: possum-app
+    versions: [{version: "1.0.0", depends: [{name: possum-bin, req: "^1"}], native: {libraries: [zlib]}}]
+  - name: possum-bin
+    summary: helper for zlib streams
+    versions:
+      - version: "1.0.0"
+        builds: {source: false, prebuilt: [linux/glibc/x86_64]}
+"#;
+    let bare = "images:\n  - {id: bare, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, packages: [ca-certificates]}\n";
+    let inputs = inputs_on(bare, registry, "priorities:\n  - possum-app\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let mut rows: Vec<(&str, basefit::native::Confidence)> = report.images[0]
+        .missing
+        .iter()
+        .map(|m| (m.package.as_str(), m.strongest))
+        .collect();
+    rows.sort();
+    use basefit::native::Confidence::{Certain, Possible};
+    assert_eq!(
+        rows,
+        [
+            ("build-essential", Certain),
+            ("zlib1g", Possible),
+            ("zlib1g-dev", Certain)
+        ],
+        "{:#?}",
+        matrix.cells[0]
+    );
+}
+
+/// A library no package can be named for is listed once per image at the strongest need of
+/// any cell, with each entry that needs it named once: the first cell's `possible` mention
+/// stood for oddball's `likely` shipped header (mutation review, s11), and twofold, which
+/// needs the library itself and through twofold-core, was named twice (s12).
+#[test]
+fn an_unmapped_library_is_listed_at_its_strongest_need_naming_each_entry_once() {
+    let registry = r#"packages:
+  - name: vireo-quasar
+    versions: [{version: "1.0.0", native: {libraries: [libxml2]}}]
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2], files: [include/quasar.h]}}]
+  - name: twofold
+    versions: [{version: "1.0.0", depends: [{name: twofold-core, req: "^1"}], native: {files: [include/quasar.h]}}]
+  - name: twofold-core
+    versions: [{version: "1.0.0", native: {files: [include/quasar.h]}}]
+"#;
+    // The weaker need comes first.
+    let mut inputs = inputs(
+        registry,
+        "priorities:\n  - vireo-quasar\n  - oddball\n  - twofold\n",
+    );
+    inputs
+        .catalog
+        .apply("test catalog", ALPINE_ONLY_CATALOG)
+        .unwrap();
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let quasar_via = |package: &str| {
+        let cell = matrix.cells.iter().find(|c| c.package == package).unwrap();
+        let mut via: Vec<&str> = cell
+            .native_needs
+            .iter()
+            .filter(|n| n.library.as_deref() == Some("quasar"))
+            .map(|n| n.via.as_str())
+            .collect();
+        via.sort();
+        via
+    };
+    // The scenario: twofold's cell needs quasar twice, once through each package.
+    assert_eq!(quasar_via("twofold"), ["twofold", "twofold-core"]);
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let unmapped = &report.images[0].unmapped_libraries;
+    assert_eq!(unmapped.len(), 1, "{unmapped:#?}");
+    assert_eq!(unmapped[0].library, "quasar");
+    assert_eq!(unmapped[0].strongest, basefit::native::Confidence::Likely);
+    assert_eq!(
+        unmapped[0].needed_by,
+        ["vireo-quasar", "oddball", "twofold"]
+    );
+    let text = basefit::report::text::system_text(&report);
+    let lines: Vec<&str> = text
+        .lines()
+        .filter(|l| l.contains("package known for"))
+        .collect();
+    assert_eq!(
+        lines,
+        [
+            "    no debian package known for (check the image by hand, or give them with --catalog): quasar [likely] (vireo-quasar, oddball, twofold)"
+        ],
+        "{text}"
+    );
+}
+
+/// A missing package is as certain as its strongest need over every cell that lacks it, not
+/// the first cell's: alpha-thumbs' summary mention (`possible`) came first and stood for
+/// beta-png's declaration (mutation review, s15).
+#[test]
+fn a_missing_package_counts_at_its_strongest_need_over_cells() {
+    let registry = r#"packages:
+  - name: alpha-thumbs
+    summary: draws libpng thumbnails
+    versions: [{version: "1.0.0", native: {files: [src/ext/a.c]}}]
+  - name: beta-png
+    versions: [{version: "1.0.0", native: {libraries: [libpng]}}]
+"#;
+    let inputs = inputs(registry, "priorities:\n  - alpha-thumbs\n  - beta-png\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let rows: Vec<(&str, basefit::native::Confidence, &[String])> = report.images[0]
+        .missing
+        .iter()
+        .map(|m| (m.package.as_str(), m.strongest, m.needed_by.as_slice()))
+        .collect();
+    let both = ["alpha-thumbs".to_string(), "beta-png".to_string()];
+    assert_eq!(
+        rows,
+        [(
+            "libpng-dev",
+            basefit::native::Confidence::Certain,
+            &both[..]
+        )],
+        "{:#?}",
+        matrix.cells
+    );
+    let text = basefit::report::text::system_text(&report);
+    assert!(
+        text.contains("libpng-dev [certain] weight 2.00: alpha-thumbs, beta-png\n"),
+        "{text}"
+    );
+}
+
+/// Missing packages of equal weight come by weight beyond advice, heaviest first, before
+/// name order, and the install command follows the table (mutation review, s19: name order
+/// put libpng-dev first). Both cells here are beyond advice, so both weights are 0.
+#[test]
+fn missing_packages_of_equal_weight_come_by_weight_beyond_advice() {
+    let registry = r#"packages:
+  - name: png-odd
+    versions: [{version: "1.0.0", native: {libraries: [libpng], files: [include/quasar.h]}}]
+  - name: xml-odd
+    versions: [{version: "1.0.0", native: {libraries: [libxml2], files: [include/quasar.h]}}]
+"#;
+    let mut inputs = inputs(
+        registry,
+        "priorities:\n  - {name: png-odd, weight: 1}\n  - {name: xml-odd, weight: 4}\n",
+    );
+    inputs
+        .catalog
+        .apply("test catalog", ALPINE_ONLY_CATALOG)
+        .unwrap();
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    let deb = &report.images[0];
+    let rows: Vec<(&str, f64, f64)> = deb
+        .missing
+        .iter()
+        .map(|m| (m.package.as_str(), m.weight, m.weight_beyond_advice))
+        .collect();
+    assert_eq!(
+        rows,
+        [("libxml2-dev", 0.0, 4.0), ("libpng-dev", 0.0, 1.0)],
+        "{deb:#?}"
+    );
+    assert_eq!(deb.beyond_advice, ["png-odd", "xml-odd"]);
+    let command = deb.command.as_deref().unwrap();
+    assert!(command.ends_with(" libxml2-dev libpng-dev"), "{command}");
+}
+
+/// With nothing missing on any image, `syslibs` gives no per-family command: a family with
+/// nothing to install came out as `apt-get install -y --no-install-recommends ` with no
+/// package (mutation review, s21).
+#[test]
+fn a_family_with_nothing_missing_gets_no_command() {
+    let registry = "packages:\n  - name: plainly\n    versions: [{version: \"1.0.0\"}]\n";
+    let inputs = inputs(registry, "priorities:\n  - plainly\n");
+    let matrix = basefit::plan::plan(&inputs, &PlanOptions::default());
+    let report = basefit::plan::system::system_report(&inputs, &matrix);
+    assert!(report.families.is_empty(), "{:#?}", report.families);
+    assert!(report.images[0].missing.is_empty());
+    assert_eq!(report.images[0].command, None);
+    let json = serde_json::to_value(&report).unwrap();
+    assert_eq!(json["families"], serde_json::json!([]), "{json}");
+    let text = basefit::report::text::system_text(&report);
+    assert!(!text.contains("per OS family"), "{text}");
+    assert!(!text.contains("apt-get"), "{text}");
+}
