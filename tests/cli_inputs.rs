@@ -2376,3 +2376,41 @@ fn an_empty_requirement_is_read_as_any_and_listed() {
         "{stdout}"
     );
 }
+
+/// Every required column of a results CSV row must hold a value, `outcome` as much as
+/// `package` and `image`: an empty `outcome` cell was left out as a bad value with exit 1
+/// (mutation review, r1), where the other empty required cells make the file unusable.
+#[test]
+fn a_results_csv_row_with_an_empty_outcome_is_refused() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let res = write(
+        d.path(),
+        "results.csv",
+        b"package,image,outcome\nfernwood,plain,installed\nfernwood,plain,\nfernwood,,\n",
+    );
+    let (code, _, stderr) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        reg.as_os_str(),
+        "--images".as_ref(),
+        img.as_os_str(),
+        "--results".as_ref(),
+        res.as_os_str(),
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    let problems: Vec<&str> = stderr
+        .lines()
+        .filter(|l| l.contains("empty required column"))
+        .map(|l| &l[l.find("results.csv:").unwrap_or(0)..])
+        .collect();
+    assert_eq!(
+        problems,
+        [
+            "results.csv:3: result: empty required column(s) outcome",
+            "results.csv:4: result: empty required column(s) image, outcome",
+        ],
+        "{stderr}"
+    );
+}
