@@ -1256,3 +1256,197 @@ fn generated_dependency_cycles_are_few_and_small() {
         );
     }
 }
+
+/// docs/bulk-format.md, "Builds": when `prebuilt` is given and `source_build` is empty,
+/// `source_build` defaults to `false`; only both empty means "source only". Defaulting it to
+/// `true` would let a version with only a glibc prebuilt build from source on every other platform.
+#[test]
+fn prebuilt_alone_means_no_source_build() {
+    let versions = "package,version,source_build,prebuilt\n\
+                    pkg-kestrel,1.0.0,,linux/glibc/x86_64\n\
+                    pkg-kestrel,1.1.0,,\n\
+                    pkg-kestrel,1.2.0,true,linux/glibc/x86_64\n";
+    let (registry, ledger) = load(versions, "package,version,dependency,req\n").unwrap();
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+    let releases = &registry
+        .package(registry.id("pkg-kestrel").unwrap())
+        .releases;
+    let builds: Vec<(String, bool, usize)> = releases
+        .iter()
+        .map(|r| {
+            (
+                r.version.to_string(),
+                r.build.source,
+                r.build.prebuilt.len(),
+            )
+        })
+        .collect();
+    assert_eq!(
+        builds,
+        [
+            ("1.0.0".to_string(), false, 1),
+            ("1.1.0".to_string(), true, 0),
+            ("1.2.0".to_string(), true, 1),
+        ]
+    );
+}
+
+/// docs/bulk-format.md: a dependency row "attaches to the first [version row] that is not
+/// left out". When the first row of a version is left out (bad runtime) and a later one is
+/// usable, the dependency goes with the usable one: it is used, checked (its package is
+/// unknown) and kept on the release, not dropped with the left-out row so that the release
+/// installs without it.
+#[test]
+fn a_usable_twin_of_a_left_out_version_takes_its_dependency_rows() {
+    let versions = "package,version,runtime\n\
+                    pkg-kestrel,1.0.0,>=banana\n\
+                    pkg-kestrel,1.0.0,>=3.0\n";
+    let deps = "package,version,dependency,req\npkg-kestrel,1.0.0,pkg-ghost,^1\n";
+    let (registry, ledger) = load(versions, deps).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let releases = &registry
+        .package(registry.id("pkg-kestrel").unwrap())
+        .releases;
+    assert_eq!(releases.len(), 1);
+    assert_eq!(releases[0].line, 3);
+    let deps: Vec<String> = releases[0]
+        .deps
+        .iter()
+        .map(|d| {
+            format!(
+                "{} {}",
+                registry.name(d.package),
+                registry.requirement(d.req)
+            )
+        })
+        .collect();
+    assert_eq!(deps, ["pkg-ghost ^1"]);
+    assert_eq!(tally(&ledger, RecordKind::Version), (2, 1, 1));
+    assert_eq!(tally(&ledger, RecordKind::Dependency), (1, 1, 0));
+    let unknown: Vec<String> = find(&ledger, ProblemKind::UnknownDependency)
+        .into_iter()
+        .map(|p| format!("{}:{} {}", p.origin.file, p.origin.line, p.subject))
+        .collect();
+    assert_eq!(unknown, ["versions.csv:3 pkg-kestrel@1.0.0"]);
+}
+
+/// The dependency rows of a package refused for its name are left out with their package
+/// (one `bad-value` problem, at the version row), not reported a second time as
+/// `orphan-dependency` rows whose package the versions file "has no record of": it has.
+#[test]
+fn dependency_rows_of_a_badly_named_package_are_not_orphans() {
+    let versions = "package,version\npkg-kestrel,1.0.0\nbad name!,1.0.0\n";
+    let deps = "package,version,dependency\nbad name!,1.0.0,pkg-kestrel\n";
+    let (_, ledger) = load(versions, deps).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let problems: Vec<String> = ledger
+        .problems
+        .iter()
+        .map(|p| format!("{:?} {}:{}", p.kind, p.origin.file, p.origin.line))
+        .collect();
+    assert_eq!(problems, ["BadValue versions.csv:3"]);
+    assert_eq!(tally(&ledger, RecordKind::Dependency), (1, 0, 1));
+}
+
+/// As in YAML, reading a version's dependencies stops at its first unreadable requirement:
+/// the problem names that row and requirement, not a later bad one of the same version.
+#[test]
+fn the_first_unreadable_requirement_of_a_version_is_the_one_reported() {
+    let versions = "package,version\npkg-kestrel,1.0.0\npkg-plover,1.0.0\n";
+    let deps = "package,version,dependency,req\n\
+                pkg-kestrel,1.0.0,pkg-plover,>=banana\n\
+                pkg-kestrel,1.0.0,pkg-plover,~~2\n";
+    let (registry, ledger) = load(versions, deps).unwrap();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    let reqs = find(&ledger, ProblemKind::UnreadableRequirement);
+    assert_eq!(reqs.len(), 1, "{:?}", ledger.problems);
+    assert_eq!(
+        (reqs[0].origin.file.as_str(), reqs[0].origin.line),
+        ("deps.csv", 2)
+    );
+    assert!(reqs[0].detail.contains(">=banana"), "{}", reqs[0].detail);
+    assert!(!reqs[0].detail.contains("~~2"), "{}", reqs[0].detail);
+    assert!(
+        registry
+            .package(registry.id("pkg-kestrel").unwrap())
+            .releases
+            .is_empty()
+    );
+}
+
+/// The two wordings of `orphan-dependency`: a row naming a version the versions file lacks
+/// of a package it has, and a row naming a package it lacks altogether.
+#[test]
+fn orphan_dependency_rows_say_whether_the_package_or_the_version_is_missing() {
+    let versions = "package,version\npkg-kestrel,1.0.0\n";
+    let deps = "package,version,dependency\n\
+                pkg-kestrel,2.0.0,pkg-plover\n\
+                pkg-nopkg,1.0.0,pkg-kestrel\n";
+    let (_, ledger) = load(versions, deps).unwrap();
+    let orphans: Vec<String> = find(&ledger, ProblemKind::OrphanDependency)
+        .into_iter()
+        .map(|p| {
+            format!(
+                "{}:{} {}: {}",
+                p.origin.file, p.origin.line, p.subject, p.detail
+            )
+        })
+        .collect();
+    assert_eq!(
+        orphans,
+        [
+            "deps.csv:2 pkg-kestrel@2.0.0: the versions file has no record of `pkg-kestrel` version `2.0.0`",
+            "deps.csv:3 pkg-nopkg@1.0.0: the versions file has no record of package `pkg-nopkg`",
+        ]
+    );
+}
+
+/// A row read again that now gives another `kind` (runtime became development) no longer
+/// says what the dependency was read from: its problem stays at the version row and the
+/// ledger says the file changed, rather than being placed on a row that now says something
+/// else.
+#[test]
+fn a_dependency_row_whose_kind_changed_is_not_where_its_problem_is_placed() {
+    let edited =
+        DEPENDENCY_PROBLEMS_DEPS.replacen(",pkg-gone,*,\n", ",pkg-gone,*,development\n", 1);
+    assert_ne!(edited, DEPENDENCY_PROBLEMS_DEPS);
+    let (loaded, _) = load_changing(
+        DEPENDENCY_PROBLEMS_VERSIONS.as_bytes(),
+        &[DEPENDENCY_PROBLEMS_DEPS.as_bytes(), edited.as_bytes()],
+    );
+    let (_, mut ledger) = loaded.unwrap();
+    ledger.place_deferred();
+    assert!(ledger.unbalanced().is_empty(), "{:?}", ledger.tallies);
+    assert_eq!(ledger.unplaced.len(), 1, "{:?}", ledger.unplaced);
+    assert!(
+        ledger.unplaced[0]
+            .reason
+            .contains("it changed since it was read"),
+        "{}",
+        ledger.unplaced[0].reason
+    );
+    let places: Vec<String> = find(&ledger, ProblemKind::UnknownDependency)
+        .into_iter()
+        .map(|p| format!("{}:{} {}", p.origin.file, p.origin.line, p.subject))
+        .collect();
+    assert_eq!(
+        places,
+        ["versions.csv:3 pkg-a@1.1.0", "deps.csv:11 pkg-a@1.1.0"]
+    );
+}
+
+/// docs/bulk-format.md, "Lists": items of `native_libraries` and `native_files` are trimmed,
+/// so `libxml2; zlib` names `zlib`, which the catalog maps, not ` zlib`, which it does not.
+#[test]
+fn native_list_items_are_trimmed() {
+    let versions = "package,version,native_libraries,native_files\n\
+                    pkg-kestrel,1.0.0,libxml2; zlib ,src/a.c;  src/b.h\n";
+    let (registry, ledger) = load(versions, "package,version,dependency,req\n").unwrap();
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+    let release = &registry
+        .package(registry.id("pkg-kestrel").unwrap())
+        .releases[0];
+    let native = release.native.as_deref().unwrap();
+    assert_eq!(native.libraries, ["libxml2", "zlib"]);
+    assert_eq!(native.files, ["src/a.c", "src/b.h"]);
+}
