@@ -1202,3 +1202,115 @@ fn default_bases_tell_families_apart_on_one_platform() {
         .collect();
     assert_eq!(bases, ["deb", "el"]);
 }
+
+/// An entry that does not install alone is left out with the whole explanation of its cell,
+/// every step joined, down to the missing package: the first line alone ("the entry asks for
+/// pkg-kestrel (1.0.0)") says nothing of why.
+#[test]
+fn an_entry_failing_alone_keeps_its_whole_explanation() {
+    let registry = "packages:
+- name: pkg-kestrel
+  versions: [{version: 1.0.0, depends: [{name: pkg-ghost, req: ^1}]}]
+";
+    let inp = inputs(registry, ONE_IMAGE, "priorities: [pkg-kestrel]\n");
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    assert!(p.kept.is_empty());
+    assert_eq!(p.left_out.len(), 1);
+    assert_eq!(
+        p.left_out[0].reason,
+        "does not install alone (missing-from-registry): the entry asks for pkg-kestrel (1.0.0); pkg-kestrel 1.0.0 depends on pkg-ghost ^1; pkg-ghost is not in the registry; so pkg-kestrel cannot be installed on deb"
+    );
+}
+
+/// Joint solves get the budget once per root: two entries, each a chain of three that fits
+/// the budget alone, both fit jointly. Given one cell's budget, the joint solve would leave the
+/// second out for running out of steps, not for any conflict.
+#[test]
+fn the_joint_solve_gets_the_budget_per_root() {
+    let registry = "packages:
+- {name: pkg-kestrel, versions: [{version: 1.0.0, depends: [{name: pkg-kestrel-a, req: ^1}]}]}
+- {name: pkg-kestrel-a, versions: [{version: 1.0.0, depends: [{name: pkg-kestrel-b, req: ^1}]}]}
+- {name: pkg-kestrel-b, versions: [{version: 1.0.0}]}
+- {name: pkg-plover, versions: [{version: 1.0.0, depends: [{name: pkg-plover-a, req: ^1}]}]}
+- {name: pkg-plover-a, versions: [{version: 1.0.0, depends: [{name: pkg-plover-b, req: ^1}]}]}
+- {name: pkg-plover-b, versions: [{version: 1.0.0}]}
+";
+    let inp = inputs(
+        registry,
+        ONE_IMAGE,
+        "priorities: [pkg-kestrel, pkg-plover]\n",
+    );
+    let options = PlanOptions {
+        budget: 5,
+        ..PlanOptions::default()
+    };
+    let p = preinstall(&inp, &inp.images.images[0], &options, &SetCache::default());
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["pkg-kestrel", "pkg-plover"]);
+    assert!(p.left_out.is_empty(), "{:?}", p.left_out[0].reason);
+}
+
+/// `t` in two majors; `K` and `P` each fall back to a 0.5.0 (t ^1) that declares a library
+/// the image lacks; `S` needs t ^1, so with it the joint solve moves both kept entries; `cand`
+/// needs t ^1 too and names `K` only as a development dependency.
+const JOINT_MOVES_REGISTRY: &str = r#"packages:
+  - {name: t, versions: [{version: "1.0.0"}, {version: "2.0.0"}]}
+  - name: K
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^2"}]}
+      - {version: "0.5.0", depends: [{name: t, req: "^1"}], native: {libraries: [libxml2]}}
+  - name: P
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^2"}]}
+      - {version: "0.5.0", depends: [{name: t, req: "^1"}], native: {libraries: [libpng]}}
+  - name: S
+    versions:
+      - {version: "1.0.0", depends: [{name: t, req: "^1"}]}
+  - name: cand
+    versions:
+      - version: "1.0.0"
+        depends: [{name: t, req: "^1"}, {name: K, req: "*", kind: development}]
+"#;
+
+/// The kept entries an addition moves onto native failures are named in priority order (the
+/// order of the list the reader wrote), each with its release and what it lacks.
+#[test]
+fn kept_entries_a_candidate_moves_are_named_in_priority_order() {
+    let p = native_preinstall(
+        JOINT_MOVES_REGISTRY,
+        JOINT_NATIVE_IMAGE,
+        "priorities: [K, P, S]\n",
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["K", "P"]);
+    assert_eq!(p.left_out.len(), 1);
+    assert_eq!(
+        p.left_out[0].reason,
+        "with it the joint solve moves kept packages to versions that certainly fail natively on i: K 0.5.0 (missing-system-library: add libxml2-dev), P 0.5.0 (missing-system-library: add libpng-dev)"
+    );
+}
+
+/// A candidate's part of the joint solution is what its runtime dependencies reach: a kept
+/// entry it names only as a development dependency is not installed with it, so the failing
+/// release the joint solve moves that entry to is blamed as a moved kept package, not as
+/// something the candidate pulls in ("picks cand 1.0.0 with K 0.5.0").
+#[test]
+fn a_development_dependency_is_not_part_of_the_candidates_joint_release() {
+    let p = native_preinstall(
+        JOINT_MOVES_REGISTRY,
+        JOINT_NATIVE_IMAGE,
+        "priorities: [K, cand]\n",
+    );
+    let kept: Vec<&str> = p.kept.iter().map(|k| k.name.as_str()).collect();
+    assert_eq!(kept, ["K"]);
+    assert_eq!(p.left_out.len(), 1);
+    assert_eq!(
+        p.left_out[0].reason,
+        "with it the joint solve moves kept packages to versions that certainly fail natively on i: K 0.5.0 (missing-system-library: add libxml2-dev)"
+    );
+}
