@@ -4,18 +4,25 @@ mod common;
 
 use basefit::load::{InputPaths, load_inputs};
 use basefit::plan::PlanOptions;
+use basefit::plan::matrix::Pinned;
 use basefit::plan::matrix::{Matrix, RecordedCheck};
-use basefit::verify::diff::diff;
+use basefit::verify::diff::{CellBrief, CellChange, diff};
 
 /// A plan of `alpha` and `beta` (one release each) on one image, for the entries `priorities`.
 fn planned(priorities: &str) -> Matrix {
+    planned_from(
+        "packages:\n  - name: alpha\n    versions: [{version: \"1.0.0\"}]\n  - name: beta\n    versions: [{version: \"1.0.0\"}]\n",
+        priorities,
+        &PlanOptions::default(),
+    )
+}
+
+/// A plan of `registry` on one glibc image with a toolchain, for the entries `priorities`.
+fn planned_from(registry: &str, priorities: &str, options: &PlanOptions) -> Matrix {
     let dir = tempfile::tempdir().unwrap();
     let write = |name: &str, text: &str| common::write(dir.path(), name, text);
     let inputs = load_inputs(&InputPaths {
-        registry: vec![write(
-            "r.yaml",
-            "packages:\n  - name: alpha\n    versions: [{version: \"1.0.0\"}]\n  - name: beta\n    versions: [{version: \"1.0.0\"}]\n",
-        )],
+        registry: vec![write("r.yaml", registry)],
         images: Some(write(
             "i.yaml",
             "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n",
@@ -24,7 +31,7 @@ fn planned(priorities: &str) -> Matrix {
         ..Default::default()
     })
     .unwrap();
-    basefit::plan::plan(&inputs, &PlanOptions::default())
+    basefit::plan::plan(&inputs, options)
 }
 
 /// A cell whose recorded result changed is a changed cell.
@@ -62,4 +69,126 @@ fn a_cell_gone_from_the_newer_matrix_is_a_change() {
         .map(|c| (c.package.as_str(), c.after.is_none()))
         .collect();
     assert_eq!(gone, [("beta", true)], "{d:#?}");
+}
+
+/// `(name, before, after)` of a change's dependencies, each side `version build` or `-`.
+fn dependency_lines(change: &CellChange) -> Vec<(String, String, String)> {
+    let side = |p: &Option<Pinned>| {
+        p.as_ref().map_or("-".to_string(), |p| {
+            format!("{} {}", p.version, p.build.as_str())
+        })
+    };
+    change
+        .dependencies
+        .iter()
+        .map(|d| (d.name.clone(), side(&d.before), side(&d.after)))
+        .collect()
+}
+
+/// A cell's dependency changes list, by name, the ones gone from the closure, the ones new to
+/// it and the ones whose version or build moved (a source build turned prebuilt installs
+/// something else), and not the entry itself, whose version its brief already gives.
+#[test]
+fn a_cells_dependency_changes_are_every_moved_dependency_by_name() {
+    let before = planned_from(
+        "packages:
+  - name: kestrel
+    versions: [{version: 1.0.0, depends: [{name: zz, req: '*'}, {name: aa, req: '*'}, {name: yy, req: '*'}]}]
+  - {name: aa, versions: [{version: 1.0.0}]}
+  - {name: yy, versions: [{version: 1.0.0}]}
+  - {name: zz, versions: [{version: 1.0.0}]}
+",
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let after = planned_from(
+        "packages:
+  - name: kestrel
+    versions: [{version: 2.0.0, depends: [{name: zz, req: '*'}, {name: mm, req: '*'}, {name: yy, req: '*'}]}]
+  - {name: mm, versions: [{version: 1.0.0}]}
+  - {name: yy, versions: [{version: 1.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}]}
+  - {name: zz, versions: [{version: 2.0.0}]}
+",
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let d = diff(&before, &after, |_| String::new());
+    assert_eq!(d.changes.len(), 1, "{d:#?}");
+    let line = |name: &str, b: &str, a: &str| (name.to_string(), b.to_string(), a.to_string());
+    assert_eq!(
+        dependency_lines(&d.changes[0]),
+        [
+            line("aa", "1.0.0 source", "-"),
+            line("mm", "-", "1.0.0 source"),
+            line("yy", "1.0.0 source", "1.0.0 prebuilt"),
+            line("zz", "1.0.0 source", "2.0.0 source"),
+        ]
+    );
+    let versions = |c: &Option<CellBrief>| c.as_ref().unwrap().version.clone();
+    assert_eq!(versions(&d.changes[0].before).as_deref(), Some("1.0.0"));
+    assert_eq!(versions(&d.changes[0].after).as_deref(), Some("2.0.0"));
+}
+
+/// A cell that did not resolve before and installs now lists no dependency changes: it had
+/// no closure to compare with, and its outcome already says what changed. Listing every
+/// dependency as new would read as a snapshot that moved them.
+#[test]
+fn a_cell_that_starts_resolving_lists_no_dependency_changes() {
+    let root =
+        "  - name: kestrel\n    versions: [{version: 1.0.0, depends: [{name: ghost, req: ^1}]}]\n";
+    let before = planned_from(
+        &format!("packages:\n{root}"),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let after = planned_from(
+        &format!("packages:\n{root}  - {{name: ghost, versions: [{{version: 1.0.0}}]}}\n"),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let d = diff(&before, &after, |_| String::new());
+    assert_eq!(d.changes.len(), 1, "{d:#?}");
+    let c = &d.changes[0];
+    assert!(!c.before.as_ref().unwrap().outcome.resolves(), "{c:#?}");
+    assert!(c.after.as_ref().unwrap().outcome.resolves(), "{c:#?}");
+    assert!(c.dependencies.is_empty(), "{:?}", c.dependencies);
+}
+
+/// When one side was planned `--no-closures`, neither side's brief gives the entry's build
+/// (one side cannot know it), so the same plan with and without closures shows no changed
+/// cell rather than one whose build "appeared".
+#[test]
+fn a_side_without_closures_hides_the_build_on_both_sides() {
+    let registry = "packages:\n  - name: kestrel\n    versions: [{version: 1.0.0, depends: [{name: aa, req: '*'}]}]\n  - {name: aa, versions: [{version: 1.0.0}]}\n";
+    let without = PlanOptions {
+        closures: false,
+        ..PlanOptions::default()
+    };
+    let before = planned_from(registry, "priorities:\n  - kestrel\n", &without);
+    let after = planned_from(
+        registry,
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let d = diff(&before, &after, |_| String::new());
+    assert_eq!(
+        (d.closures_left_out.before, d.closures_left_out.after),
+        (true, false)
+    );
+    assert!(d.changes.is_empty(), "{:#?}", d.changes);
+}
+
+/// The unified diff of the renderings shows two lines of context around a change, the radius
+/// `diff` sets (tighter than the three of `diff -u`; common practice, no source): another
+/// radius changes every unified diff a reader has saved or scripted against.
+#[test]
+fn the_unified_diff_has_two_lines_of_context() {
+    let before = planned("priorities:\n  - alpha\n");
+    let after = planned("priorities:\n  - beta\n");
+    let render = |m: &Matrix| format!("l1\nl2\nl3\nl4\n{}\nl6\nl7\nl8\nl9\n", m.cells[0].package);
+    let d = diff(&before, &after, render);
+    assert_eq!(
+        d.unified,
+        "--- before\n+++ after\n@@ -3,5 +3,5 @@\n l3\n l4\n-alpha\n+beta\n l6\n l7\n"
+    );
 }
