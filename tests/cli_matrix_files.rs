@@ -1350,3 +1350,26 @@ fn a_matrix_read_with_results_must_come_from_the_registry_given() {
     assert_eq!(code, 0, "{stdout}");
     assert!(stdout.starts_with("the matrices agree\n"), "{stdout}");
 }
+
+/// Shards merged by `merge` give the bytes of one `plan` run's matrix.json, registry
+/// fingerprint included: `plan` records the snapshot it planned from, and a merged matrix
+/// that lost it would no longer have `review --results` refuse a registry other than the one
+/// it was planned from.
+#[test]
+fn merged_shards_keep_the_registry_fingerprint_of_one_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let whole = plan_into(&dir.path().join("whole"), None);
+    let first = plan_into(&dir.path().join("s1"), Some("1/2"));
+    let second = plan_into(&dir.path().join("s2"), Some("2/2"));
+    let out = dir.path().join("m");
+    let (code, _, stderr) = run_basefit(["merge", "--out", out.to_str().unwrap(), &first, &second]);
+    assert_eq!(code, 0, "{stderr}");
+    let merged = std::fs::read_to_string(out.join("matrix.json")).unwrap();
+    let json: serde_json::Value = serde_json::from_str(&merged).unwrap();
+    let fingerprint = json["registry_fingerprint"].as_str().unwrap_or_default();
+    assert!(!fingerprint.is_empty(), "{}", json["registry_fingerprint"]);
+    assert!(
+        merged == std::fs::read_to_string(&whole).unwrap(),
+        "the merged matrix.json differs from one run's"
+    );
+}
