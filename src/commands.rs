@@ -319,26 +319,37 @@ fn read_matrix_for_results(
     inputs: &Inputs,
     paths: &InputPaths,
     command: &str,
+    out: &mut Output,
 ) -> Result<Matrix, BadInput> {
     require_results_context(inputs, paths, command)?;
     let matrix = read_matrix(path)?;
     require_planned_images(&matrix, path, inputs, paths)?;
-    require_planned_registry(&matrix, path, inputs, paths)?;
+    require_planned_registry(&matrix, path, inputs, paths, out)?;
     Ok(matrix)
 }
 
 /// Refuses a registry other than the snapshot a matrix read from a file was planned from
 /// (when the matrix records it): recorded versions would be looked up, and surprise installs
 /// solved, in releases the predictions never saw, so advice would point at the wrong thing.
+/// A fingerprint an earlier basefit made another way cannot be compared: a note says so.
 fn require_planned_registry(
     matrix: &Matrix,
     matrix_path: &std::path::Path,
     inputs: &Inputs,
     paths: &InputPaths,
+    out: &mut Output,
 ) -> Result<(), BadInput> {
     let Some(planned) = &matrix.registry_fingerprint else {
         return Ok(());
     };
+    if !planned.starts_with(plan::replan::REGISTRY_FINGERPRINT_FORMAT) {
+        out.stderr.push(format!(
+            "note: {} records its registry's fingerprint as an earlier basefit made it, which cannot be compared: make sure {} is the snapshot it was planned from, or plan again",
+            matrix_path.display(),
+            registry_files(paths).join(", ")
+        ));
+        return Ok(());
+    }
     let given = plan::replan::registry_fingerprint(&inputs.registry);
     if *planned == given {
         return Ok(());
@@ -936,8 +947,9 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
         )
         .into());
     }
+    let mut notes = Output::default();
     let matrix = match &o.matrix {
-        Some(p) => read_matrix_for_results(p, &inputs, &o.inputs, "review")?,
+        Some(p) => read_matrix_for_results(p, &inputs, &o.inputs, "review", &mut notes)?,
         None => {
             // Results are read against the images only when images are given, so without
             // them every result would end up outside an empty matrix.
@@ -1004,6 +1016,7 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
             || !review.outside_matrix.is_empty()
             || undecided > 0,
     );
+    out.stderr.append(&mut notes.stderr);
     data_quality_note(&inputs, &mut out);
     outside_matrix_note(
         &review,
@@ -1303,9 +1316,10 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         .into());
     }
     let inputs = load(&o.inputs, o.strict)?;
+    let mut out = Output::default();
     let mut matrix = match &o.matrix {
         Some(p) if !o.inputs.results.is_empty() => {
-            read_matrix_for_results(p, &inputs, &o.inputs, "render")?
+            read_matrix_for_results(p, &inputs, &o.inputs, "render", &mut out)?
         }
         Some(p) => read_matrix(p)?,
         None => {
@@ -1317,7 +1331,6 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     };
     // Results given but none usable are refused as in `review`, not rendered as a matrix
     // without recorded installs.
-    let mut out = Output::default();
     if !o.inputs.results.is_empty() {
         let review = review_results(&matrix, &inputs, &o.inputs, o.plan.budget)?;
         let earlier = matrix.cells.iter().filter(|c| c.recorded.is_some()).count();

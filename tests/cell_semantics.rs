@@ -1627,8 +1627,11 @@ fn a_release_with_no_build_at_all_is_not_blamed_on_the_platform() {
   - name: dunlin
     versions:
       - {version: 2.0.0, builds: {source: false}}
+  - name: knot
+    versions:
+      - {version: 0.3.0, depends: [{name: dunlin}]}
 "#;
-    let inputs = inputs(registry, "priorities: [plover, dunlin]\n");
+    let inputs = inputs(registry, "priorities: [plover, dunlin, knot]\n");
     let options = PlanOptions::default();
     let text = |name: &str| {
         let e = explain(&inputs, name, "deb", &options).unwrap();
@@ -1651,6 +1654,23 @@ fn a_release_with_no_build_at_all_is_not_blamed_on_the_platform() {
     let dunlin = text("dunlin");
     assert!(dunlin.contains("no build for any platform"), "{dunlin}");
     assert!(!dunlin.contains("linux/glibc/x86_64"), "{dunlin}");
+    // A package that depends on it is blocked by it, and the blocker says why the same way:
+    // "has no build for this platform" there sent the reader to another platform too (a
+    // review of the change found the blockers and dependents left out).
+    let knot = explain(&inputs, "knot", "deb", &options).unwrap();
+    let blockers: Vec<(&str, &str)> = knot
+        .cell
+        .blockers
+        .iter()
+        .map(|b| (b.package.as_str(), b.reason.as_str()))
+        .collect();
+    assert_eq!(
+        blockers,
+        [("dunlin", "dunlin has no build for any platform")],
+        "{knot:?}"
+    );
+    let lines = knot.cell.explanation.join("\n");
+    assert!(!lines.contains("this platform"), "{lines}");
 }
 
 /// `syslibs`' evidence per package lists only packages with native evidence: one with none,

@@ -2321,6 +2321,37 @@ fn a_null_requirement_is_listed_as_an_empty_one() {
         ],
         Some(("version records", ["3", "3", "0"])),
     );
+    // A key left without a value in block style is placed at its own line: the YAML reader
+    // puts such a null at the next token, lines further on, even inside the next package
+    // (a review of the change found lines 7 and 12 reported here).
+    let block = write(
+        d.path(),
+        "block.yaml",
+        "packages:
+  - name: dunlin
+    versions:
+      - version: 1.2.0
+        runtime:
+
+        depends:
+          - name: knot
+            req:
+
+  - name: knot
+    versions:
+      - {version: 0.1.0}
+",
+    );
+    assert_check_finds(
+        &block,
+        &images,
+        &[
+            "(empty-requirement): 2",
+            "block.yaml:5  dunlin@1.2.0: runtime requirement is empty: read as any runtime",
+            "block.yaml:9  dunlin@1.2.0: requirement on knot is empty: read as any version",
+        ],
+        Some(("version records", ["2", "2", "0"])),
+    );
     let (code, stdout, stderr) =
         check_priorities(d.path(), "priorities:\n  - {name: fernwood, req: ~}\n");
     assert_eq!(code, 1, "{stderr}");

@@ -899,6 +899,8 @@ fn diff_names_cells_whose_dependencies_moved() {
     rebuilt["cells"][b]["closure"][root]["build"] = other.into();
     rebuilt["cells"][a]["outcome"] = "fails".into();
     rebuilt["cells"][a]["cause"] = "runtime-too-old".into();
+    // As a failing cell reads: a matrix whose cell contradicts itself is refused.
+    rebuilt["cells"][a]["explanation"] = serde_json::json!(["needs a newer runtime"]);
     rebuilt["cells"][a]["closure"] = serde_json::json!([]);
     rebuilt["cells"][a]["closure_size"] = 0.into();
     rebuilt["cells"][a]

@@ -563,7 +563,7 @@ fn the_manifest_header_asks_to_add_only_what_can_be_added() {
 ";
     assert_eq!(
         header(registry, "priorities:\n- murk\n"),
-        "1 of them needs libraries no system package is known for (last column): check the image has them by hand, or it may fail to install"
+        "1 of them needs a library no system package is known for (last column): check the image has it by hand, or it may fail to install"
     );
     assert_eq!(
         header(registry, "priorities:\n- fenbolt\n"),
@@ -571,7 +571,7 @@ fn the_manifest_header_asks_to_add_only_what_can_be_added() {
     );
     assert_eq!(
         header(registry, "priorities:\n- murk\n- fenbolt\n"),
-        "2 of them need what the image lacks (last column): add the packages named first, and check the image by hand for the libraries no package is known for, or they may fail to install"
+        "2 of them need what the image lacks (last column): add the packages named first, and check the image by hand for the library no package is known for, or they may fail to install"
     );
 }
 

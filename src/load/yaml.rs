@@ -406,10 +406,10 @@ impl<'a> Ctx<'a> {
                             .unwrap_or_else(|| format!("; known fields: {}", known.join(", ")));
                         return Err(self.err(k, format!("{what}: unknown field `{key}`{hint}")));
                     }
-                    if entries.iter().any(|(seen, _)| *seen == key) {
+                    if entries.iter().any(|(seen, _, _)| *seen == key) {
                         return Err(self.err(k, format!("{what}: field `{key}` given twice")));
                     }
-                    entries.push((key, &**v));
+                    entries.push((key, &**v, k.line));
                 }
                 Ok(MapReader {
                     ctx: *self,
@@ -467,7 +467,9 @@ pub struct MapReader<'n, 'a> {
     pub ctx: Ctx<'a>,
     pub node: &'n Node,
     what: &'static str,
-    entries: Vec<(&'n str, &'n Node)>,
+    /// Each key with its value and the key's own line: a value left empty in block style is
+    /// placed by the YAML reader at the next token, which may be lines further on.
+    entries: Vec<(&'n str, &'n Node, usize)>,
 }
 
 impl<'n> MapReader<'n, '_> {
@@ -479,8 +481,8 @@ impl<'n> MapReader<'n, '_> {
     pub fn get(&self, key: &str) -> Option<&'n Node> {
         self.entries
             .iter()
-            .find(|(k, _)| *k == key)
-            .map(|(_, v)| *v)
+            .find(|(k, _, _)| *k == key)
+            .map(|(_, v, _)| *v)
             .filter(|v| !v.is_null())
     }
 
@@ -522,9 +524,10 @@ impl<'n> MapReader<'n, '_> {
     /// requirement, whose loaders note empty text (`empty-requirement`) since an export that
     /// lost the value reads so, and one may write a null as well as `""`.
     pub fn opt_text_at(&self, key: &str) -> Result<Option<At<&'n str>>, BadInput> {
-        // `get` reads a null as absent.
-        match self.entries.iter().find(|(k, _)| *k == key) {
-            Some((_, node)) if node.is_null() => Ok(Some(At::new("", node.line))),
+        // `get` reads a null as absent. A null is placed at its key's line: one written as
+        // nothing at all (`runtime:` at a line's end) has no place of its own.
+        match self.entries.iter().find(|(k, _, _)| *k == key) {
+            Some((_, node, key_line)) if node.is_null() => Ok(Some(At::new("", *key_line))),
             _ => self.opt_str_at(key),
         }
     }

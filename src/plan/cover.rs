@@ -315,12 +315,20 @@ fn best_bundle<'a>(
             .sum();
         let per_package = gain / bundle.len() as f64;
         if best.is_none_or(|(b, rate)| {
-            per_package > rate || (per_package == rate && bundle.len() < b.len())
+            let tie = same_rate(per_package, rate);
+            (!tie && per_package > rate) || (tie && bundle.len() < b.len())
         }) {
             best = Some((bundle, per_package));
         }
     }
     best.map(|(b, _)| b.clone())
+}
+
+/// Whether two rates of weight per package are the same but for rounding: sums of the same
+/// weights taken in another order (0.1 + 0.2 against 0.3) differ in their last bits, and a
+/// tie must not turn on that.
+fn same_rate(a: f64, b: f64) -> bool {
+    (a - b).abs() <= 1e-9 * a.abs().max(b.abs()).max(1.0)
 }
 
 #[cfg(test)]
@@ -657,6 +665,27 @@ mod tests {
         assert_eq!(
             adds(&advise(&blocked)),
             [vec!["libxml2-dev"], vec!["zlib1g-dev"], vec!["libssl-dev"]]
+        );
+        // Rates equal but for rounding tie too.
+        let smaller = [
+            Blocked {
+                weight: 0.1,
+                missing: needs(&["a", "b", "c"]),
+            },
+            Blocked {
+                weight: 0.2,
+                missing: needs(&["a", "b", "c"]),
+            },
+            Blocked {
+                weight: 0.2,
+                missing: needs(&["x", "y"]),
+            },
+        ];
+        // {a, b, c}: (0.1 + 0.2) / 3, a hair above 0.1; {x, y}: 0.2 / 2 = 0.1. A tie but for
+        // rounding, so the smaller bundle goes first.
+        assert_eq!(
+            adds(&advise(&smaller)),
+            [vec!["x", "y"], vec!["a", "b", "c"]]
         );
         // With weights: after {a, b} (2 per package), {c, d, e} completes three items of
         // weight 1 and {f, g} one of weight 2, both 1 per package: the smaller bundle goes

@@ -1037,7 +1037,12 @@ pub fn summarise(m: &Matrix) -> Summary {
     }
 }
 
-/// How a cell's outcome disagrees with the rest of it, as no cell `plan` writes does.
+/// How a cell's outcome disagrees with the rest of it, as no cell `plan` writes does: a cell
+/// that resolves names its release, a closure of at least one package and no failure cause; a
+/// failure names its cause and explains it; `budget-exhausted` is the cause of undecided cells
+/// and of no other (an undecided cell `plan_only` left unplanned has none); a native failure
+/// resolved first, so it names its release; a listed closure has the size the cell gives; and
+/// only a cell that resolves, or then fails on what the image lacks, names a release.
 fn contradiction(cell: &Cell) -> Option<String> {
     let native_failure = matches!(
         cell.cause,
@@ -1052,8 +1057,28 @@ fn contradiction(cell: &Cell) -> Option<String> {
         Some(format!(
             "`{outcome}` with a closure_size of 0 (the closure holds the package itself)"
         ))
+    } else if cell.outcome.resolves() && cell.cause.is_some() {
+        Some(format!("`{outcome}` names a failure cause"))
     } else if cell.outcome == Outcome::Fails && cell.cause.is_none() {
         Some("`fails` names no cause".to_string())
+    } else if cell.cause == Some(Cause::BudgetExhausted) && cell.outcome != Outcome::Undecided {
+        Some(format!(
+            "`{outcome}` with the cause budget-exhausted, which only an undecided cell has"
+        ))
+    } else if let Some(cause) = cell.cause.filter(|c| *c != Cause::BudgetExhausted)
+        && cell.outcome == Outcome::Undecided
+    {
+        Some(format!(
+            "`undecided` with the cause {}: the cause of an undecided cell is budget-exhausted",
+            cause.as_str()
+        ))
+    } else if cell.outcome == Outcome::Fails && cell.explanation.is_empty() {
+        Some("`fails` gives no explanation".to_string())
+    } else if native_failure && cell.root_version.is_none() {
+        Some(format!(
+            "`fails` ({}) names no root_version, though only a cell that resolved fails on what the image lacks",
+            cell.cause.map_or("", |c| c.as_str())
+        ))
     } else if !cell.closure.is_empty() && cell.closure.len() != cell.closure_size {
         Some(format!(
             "a closure of {} packages with a closure_size of {}",

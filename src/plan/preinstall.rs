@@ -612,16 +612,26 @@ pub fn preinstall_text(p: &Preinstall) -> String {
     if !p.at_risk.is_empty() {
         let n = p.at_risk.len();
         let addable = p.at_risk.iter().any(|r| !r.system_packages.is_empty());
-        let unmapped = p.at_risk.iter().any(|r| !r.unmapped_libraries.is_empty());
+        let mut unmapped: Vec<&str> = p
+            .at_risk
+            .iter()
+            .flat_map(|r| &r.unmapped_libraries)
+            .map(|l| l.name.as_str())
+            .collect();
+        unmapped.sort_unstable();
+        unmapped.dedup();
+        let libraries = crate::report::one_or_many(unmapped.len(), "the library", "the libraries");
         // "add that first" where nothing can be added sent readers looking for a package.
-        let what = match (addable, unmapped) {
-            (true, false) => "what the image lacks (last column): add that first",
-            (true, true) => {
-                "what the image lacks (last column): add the packages named first, and check the image by hand for the libraries no package is known for"
-            }
-            _ => {
-                "libraries no system package is known for (last column): check the image has them by hand"
-            }
+        let what = match (addable, unmapped.is_empty()) {
+            (true, true) => "what the image lacks (last column): add that first".to_string(),
+            (true, false) => format!(
+                "what the image lacks (last column): add the packages named first, and check the image by hand for {libraries} no package is known for"
+            ),
+            _ => format!(
+                "{} no system package is known for (last column): check the image has {} by hand",
+                crate::report::one_or_many(unmapped.len(), "a library", "libraries"),
+                crate::report::one_or_many(unmapped.len(), "it", "them")
+            ),
         };
         let _ = writeln!(
             s,

@@ -298,10 +298,19 @@ fn packages_print(registry: &crate::model::Registry) -> u64 {
 
 /// The fingerprint of a registry snapshot that a matrix records
 /// ([`crate::plan::Matrix::registry_fingerprint`]): equal for snapshots that hold the same
-/// packages and releases, whatever their files' order.
+/// packages and releases, whatever their files' order. It starts with
+/// [`REGISTRY_FINGERPRINT_FORMAT`], so that a fingerprint made another way (by an earlier
+/// basefit) is told from one of another registry.
 pub fn registry_fingerprint(registry: &crate::model::Registry) -> String {
-    format!("{:016x}", packages_print(registry))
+    format!(
+        "{REGISTRY_FINGERPRINT_FORMAT}{:016x}",
+        packages_print(registry)
+    )
 }
+
+/// How a [`registry_fingerprint`] of this basefit begins: changed whenever what it prints, or
+/// how, changes (the hasher, or how a registry file reads into releases).
+pub const REGISTRY_FINGERPRINT_FORMAT: &str = "r2-";
 
 /// The splitmix64 finaliser: spreads every input bit over the whole word.
 fn scramble(mut x: u64) -> u64 {

@@ -338,13 +338,12 @@ pub(crate) fn unusable(
     }
     // Likewise a release with no build for any platform: "no build for linux/musl/x86_64"
     // would send the reader to another platform in vain.
-    let mut unbuildable: Vec<u32> = Vec::new();
+    let mut no_build: Vec<u32> = Vec::new();
     if let Some(idx) = tally.get_mut(&Admission::NoBuild) {
         idx.retain(|&i| {
-            let build = &releases[i as usize].build;
-            let none = !build.source && build.prebuilt.is_empty();
+            let none = unbuildable(&releases[i as usize]);
             if none {
-                unbuildable.push(i);
+                no_build.push(i);
             }
             !none
         });
@@ -371,8 +370,8 @@ pub(crate) fn unusable(
             crate::report::it_or_them(n)
         ));
     }
-    if !unbuildable.is_empty() {
-        let n = unbuildable.len();
+    if !no_build.is_empty() {
+        let n = no_build.len();
         let (versions, have) = if n == 1 {
             ("version", "has")
         } else {
@@ -473,9 +472,11 @@ fn met_oldest_first(
     false
 }
 
-/// The cause's label for a blocker whose releases in `set` are all refused, unless each has
-/// a runtime requirement no runtime meets: the cause keeps a direction then, and "needs a
-/// newer runtime" would send the reader to build an image no runtime can make.
+/// The cause's label for a blocker whose releases in `set` are all refused, unless no image
+/// can install any of them: each has a runtime requirement no runtime meets (the cause keeps
+/// a direction then, and "needs a newer runtime" would send the reader to build an image no
+/// runtime can make) or no build for any platform ("no build for this platform" would send
+/// the reader to another platform in vain).
 fn refusal_label(
     registry: &crate::model::Registry,
     package: PackageId,
@@ -483,15 +484,29 @@ fn refusal_label(
     cause: Cause,
 ) -> &'static str {
     let pkg = registry.package(package);
-    let mut releases = indices(set, pkg.releases.len()).peekable();
-    let never = pkg.declared
-        && releases.peek().is_some()
-        && releases.all(|i| runtime_unmeetable(registry, &pkg.releases[i as usize]));
-    if never {
-        "needs a runtime no version can be"
-    } else {
-        cause.label()
+    let releases: Vec<&crate::model::Release> = indices(set, pkg.releases.len())
+        .map(|i| &pkg.releases[i as usize])
+        .collect();
+    if !pkg.declared || releases.is_empty() {
+        return cause.label();
     }
+    let no_runtime = releases.iter().all(|r| runtime_unmeetable(registry, r));
+    let no_build = releases.iter().all(|r| unbuildable(r));
+    let neither = releases
+        .iter()
+        .all(|r| runtime_unmeetable(registry, r) || unbuildable(r));
+    match (no_runtime, no_build, neither) {
+        (true, _, _) => "needs a runtime no version can be",
+        (_, true, _) => "has no build for any platform",
+        (_, _, true) => "has no release any image can install",
+        _ => cause.label(),
+    }
+}
+
+/// Whether `release` has neither a source build nor a prebuilt build for any platform: no
+/// image can install it, whatever its platform.
+fn unbuildable(release: &crate::model::Release) -> bool {
+    !release.build.source && release.build.prebuilt.is_empty()
 }
 
 /// Whether `release` has a runtime requirement no runtime version meets (`<0.0.0`,
