@@ -461,14 +461,11 @@ impl Matrix {
     }
 
     /// Whether every cell reads as `plan` writes cells: each version it names (`root_version`,
-    /// and each closure package's) is a semver version, and its outcome agrees with the rest
-    /// (a cell that resolves names its release and a closure of at least one package, a
-    /// failure its cause, a listed closure has the size the cell gives, and only a cell that
-    /// resolves, or then fails on what the image lacks, names a release). A review compares
-    /// installed versions with them, so a hand-edited `banana` would be reported as a drift to
-    /// `banana`; and a matrix file carries no seal, so a hand edit that makes a cell contradict
-    /// itself (`fails` beside a closure and no cause) would be merged, rendered and diffed as
-    /// a prediction.
+    /// and each closure package's) is a semver version, and its outcome agrees with the rest of
+    /// it (the rules are `contradiction`'s). A review compares installed versions with them,
+    /// so a hand-edited `banana` would be reported as a drift to `banana`; and a matrix file
+    /// carries no seal, so a hand edit that makes a cell contradict itself (`fails` beside a
+    /// closure and no cause) would be merged, rendered and diffed as a prediction.
     pub fn check_cells(&self) -> Result<(), String> {
         for (i, cell) in self.cells.iter().enumerate() {
             let at = || {
