@@ -1314,3 +1314,45 @@ fn a_development_dependency_is_not_part_of_the_candidates_joint_release() {
         "with it the joint solve moves kept packages to versions that certainly fail natively on i: K 0.5.0 (missing-system-library: add libxml2-dev)"
     );
 }
+
+/// A kept entry the joint solve holds at another version than it installs alone says so,
+/// in the text and as `alone` in JSON: the support matrix shows the version alone, and a
+/// reader comparing it with the manifest took the difference for a mistake (an end-to-end
+/// review). An entry at its own version carries no such field.
+#[test]
+fn a_kept_entry_held_at_another_version_than_alone_says_so() {
+    let registry = "packages:
+- name: base
+  versions:
+  - {version: 1.0.0}
+  - {version: 2.0.0}
+- name: anchor
+  versions:
+  - {version: 1.0.0, depends: [{name: base, req: '^1'}]}
+- name: leaf
+  versions:
+  - {version: 1.0.0, depends: [{name: base, req: '^1'}]}
+  - {version: 2.0.0, depends: [{name: base, req: '^2'}]}
+";
+    let images = "images:\n- {id: deb, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
+    let p = native_preinstall(registry, images, "priorities:\n- anchor\n- leaf\n");
+    let kept: Vec<(&str, &str, Option<&str>)> = p
+        .kept
+        .iter()
+        .map(|k| (k.name.as_str(), k.version.as_str(), k.alone.as_deref()))
+        .collect();
+    assert_eq!(
+        kept,
+        [("anchor", "1.0.0", None), ("leaf", "1.0.0", Some("2.0.0"))]
+    );
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    let lines: Vec<&str> = text.lines().filter(|l| l.starts_with("kept ")).collect();
+    assert_eq!(
+        lines,
+        ["kept leaf at 1.0.0: alone it installs 2.0.0; the entries before it hold it there"],
+        "{text}"
+    );
+    let json = serde_json::to_value(&p).unwrap();
+    assert_eq!(json["kept"][1]["alone"], "2.0.0", "{json}");
+    assert!(json["kept"][0].get("alone").is_none(), "{json}");
+}

@@ -15,6 +15,11 @@ use std::fmt::Write;
 pub struct Kept {
     pub name: String,
     pub version: String,
+    /// The version the entry installs when planned alone, where the joint solve chose another:
+    /// the set holds it back (or forward) to fit the entries before it, which a reader
+    /// comparing the manifest with the support matrix would otherwise take for a mistake.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub alone: Option<String>,
 }
 
 /// A priority entry left out of the pre-install set.
@@ -117,6 +122,8 @@ struct Root {
     name: String,
     id: PackageId,
     set: IndexSet,
+    /// The version it installs planned alone.
+    alone: String,
 }
 
 /// The joint solve of `roots`. `budget` is per root: a joint solve decides every root's
@@ -378,6 +385,7 @@ pub fn preinstall(
                 entry.req.as_ref().unwrap_or(&any),
                 entry.prerelease,
             ),
+            alone: cell.root_version.clone().unwrap_or_default(),
         };
         let mut with: Vec<&Root> = kept.iter().collect();
         with.push(&candidate);
@@ -461,6 +469,7 @@ pub fn preinstall(
         .map(|r| Kept {
             name: r.name.clone(),
             version: String::new(),
+            alone: None,
         })
         .collect();
     if let Solved::Installs { closure, .. } = &final_solve.solved {
@@ -472,12 +481,11 @@ pub fn preinstall(
             let version = registry.package(p.package).releases[p.index as usize]
                 .version
                 .to_string();
-            if let Some(k) = kept
-                .iter()
-                .position(|r| r.id == p.package)
-                .and_then(|i| kept_rows.get_mut(i))
+            if let Some(i) = kept.iter().position(|r| r.id == p.package)
+                && let Some(k) = kept_rows.get_mut(i)
             {
                 k.version = version.clone();
+                k.alone = (kept[i].alone != version).then(|| kept[i].alone.clone());
             }
             manifest.push(Pinned {
                 name: registry.name(p.package).to_string(),
@@ -674,6 +682,15 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         s.push_str("manifest: (empty)\n");
     } else {
         s.push_str(&crate::report::text::table(&rows));
+    }
+    for k in &p.kept {
+        if let Some(alone) = &k.alone {
+            let _ = writeln!(
+                s,
+                "kept {} at {}: alone it installs {alone}; the entries before it hold it there",
+                k.name, k.version
+            );
+        }
     }
     for l in &p.left_out {
         let _ = writeln!(s, "left out {}: {}", l.name, l.reason);
