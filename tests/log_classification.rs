@@ -1042,3 +1042,22 @@ fn compiler_warnings_and_notes_quoting_network_words_are_no_findings() {
         "{findings:?} from {log}"
     );
 }
+
+/// A runtime refusal is acted on even when a missing header (not a configure probe's) comes
+/// earlier in the log: the refusal is definitive, the header often a probe of an optional
+/// feature. With equal rank, the earlier header would win.
+#[test]
+fn a_runtime_refusal_outranks_an_earlier_missing_header() {
+    let log = "src/ext/parse.c:3:10: fatal error: zstd.h: No such file or directory\nruntime refused: requires >=4.0, found 3.2.0\n";
+    let findings = classify(log);
+    assert_eq!(findings.len(), 2, "{findings:?}");
+    let p = primary(&findings).unwrap();
+    assert_eq!(
+        p.cause,
+        LogCause::RuntimeRefused {
+            required: ">=4.0".into(),
+            found: "3.2.0".into()
+        }
+    );
+    assert_eq!(p.line, 2);
+}

@@ -1587,3 +1587,29 @@ fn surprise_install_advice_names_the_libraries_beside_the_compiler() {
         "{bare}"
     );
 }
+
+/// An install of a C++ build that the plan found missing both the toolchain and a library
+/// proves the real image has a C and C++ toolchain and the library: the advice sets
+/// `toolchain: true` and adds the library, and does not call it a C compiler only (which is
+/// advice for builds that compile no C++).
+#[test]
+fn an_install_of_a_cxx_build_needing_a_library_asks_for_the_toolchain_and_the_library() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("zip-cxx", "zlib", "src/ext/inflate.cpp")
+    );
+    let images = format!("images:\n{}", image("bare", "debian", ""));
+    let args = inputs(dir.path(), &registry, &images, &["zip-cxx"]);
+    let results =
+        "results:\n  - {package: zip-cxx, image: bare, outcome: installed, version: \"1.0.0\"}\n";
+    let args = with_results(dir.path(), args, results);
+    let cell = reviewed_cells(&args);
+    let c = cell("zip-cxx", "bare");
+    assert_eq!(c["verdict"], "surprise-install", "{c}");
+    let s = c["suggestion"].as_str().unwrap();
+    assert!(
+        s.ends_with("the real image has a C and C++ toolchain; set toolchain: true on it, and add zlib1g-dev to its packages"),
+        "{s}"
+    );
+}

@@ -1975,3 +1975,63 @@ fn a_configure_probe_s_missing_header_does_not_hide_the_real_cause() {
         "{c:?}"
     );
 }
+
+/// When retries installed two releases other than the predicted one, the review reports the
+/// last of them (file order), so a drift names what the latest attempt took. gumleaf on
+/// deb-2.8 is predicted 1.4.2 (demo-data/STORIES.md).
+#[test]
+fn retries_that_took_two_other_releases_report_the_last() {
+    for (first, second) in [("1.2.0", "2.0.0"), ("2.0.0", "1.2.0")] {
+        let review = review_of(&format!(
+            "results:\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{first}\"}}\n  - {{package: gumleaf, image: deb-2.8, outcome: installed, version: \"{second}\"}}\n"
+        ));
+        let c = cell(&review, "gumleaf", "deb-2.8");
+        assert_eq!(
+            c.installed_version.as_deref(),
+            Some(second),
+            "{first} then {second}: {c:?}"
+        );
+        let s = c.suggestion.as_deref().unwrap();
+        assert!(
+            s.starts_with(&format!("installed {second} where 1.4.2 was predicted: ")),
+            "{s}"
+        );
+    }
+}
+
+/// A missing C++ compiler on an image that declares no toolchain at all is advice to add the
+/// whole toolchain, not the C++ compiler alone as on an image with a C compiler only: the
+/// image has no C compiler either. quill-xml on deb-3.2-slim (no toolchain, no libxml2-dev;
+/// demo-data/STORIES.md).
+#[test]
+fn a_missing_cxx_compiler_on_an_image_without_toolchain_asks_for_the_toolchain() {
+    let review = review_of(
+        "results:\n  - {package: quill-xml, image: deb-3.2-slim, outcome: failed, log: \"/bin/sh: 1: g++: not found\"}\n",
+    );
+    let c = cell(&review, "quill-xml", "deb-3.2-slim");
+    assert_eq!(c.verdict, Verdict::AgreedFailure);
+    let s = c.suggestion.as_deref().unwrap();
+    assert_eq!(
+        s,
+        "deb-3.2-slim lacks a C toolchain: add build-essential; the plan finds libxml2-dev missing too, which the build had not reached"
+    );
+}
+
+/// A build killed (or out of memory) on a cell at risk confirms the failure but not the risk:
+/// it stopped before any missing package could show, so `cause_agrees` is false, not unknown.
+/// burrow-lite is at risk on deb-3.2-slim (demo-data/STORIES.md).
+#[test]
+fn a_kill_on_an_at_risk_cell_does_not_confirm_what_it_was_at_risk_for() {
+    for log in [
+        "Killed",
+        "c++: fatal error: Killed signal terminated program cc1plus",
+        "virtual memory exhausted: Cannot allocate memory",
+    ] {
+        let review = review_of(&format!(
+            "results:\n  - {{package: burrow-lite, image: deb-3.2-slim, outcome: failed, log: \"{log}\"}}\n"
+        ));
+        let c = cell(&review, "burrow-lite", "deb-3.2-slim");
+        assert_eq!(c.verdict, Verdict::RiskConfirmed, "{log}");
+        assert_eq!(c.cause_agrees, Some(false), "{log}: {c:?}");
+    }
+}
