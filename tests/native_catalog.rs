@@ -552,3 +552,65 @@ fn stand_ins_need_a_dev_package_and_distinct_names() {
         );
     }
 }
+
+/// Which compilers a family's packages carry: RHEL's toolchain is `gcc`, `gcc-c++` and `make`
+/// (from memory, as in `toolchain_packages`), so `gcc` and `gcc-c++` without `make` carry no
+/// compiler a build can use; Alpine's C toolchain needs `musl-dev` for libc's headers and
+/// start files (common practice, no source; Alpine's `build-base` depends on it, from memory),
+/// so `gcc` and `make` alone are no C toolchain; Debian's `g++` brings `gcc` and `libc6-dev`
+/// (`apt-cache depends g++` on Debian 12) but not `make`, so `g++` alone gives neither C nor
+/// C++. Guards `make` in RHEL's toolchain, `musl-dev` in Alpine's C toolchain and that a C++
+/// compiler counts only beside a C toolchain (mutation testing: each survived before).
+#[test]
+fn compilers_carried_need_every_toolchain_package() {
+    use basefit::native::{c_toolchain_packages, compilers_carried, toolchain_packages};
+    let set = |names: &[&str]| -> std::collections::BTreeSet<String> {
+        names.iter().map(|n| n.to_string()).collect()
+    };
+    assert_eq!(
+        toolchain_packages(OsFamily::Rhel),
+        &["gcc", "gcc-c++", "make"]
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Rhel, &set(&["gcc", "gcc-c++"])),
+        (false, false)
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Rhel, &set(&["gcc", "gcc-c++", "make"])),
+        (true, true)
+    );
+    assert_eq!(
+        c_toolchain_packages(OsFamily::Alpine),
+        &["gcc", "make", "musl-dev"]
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Alpine, &set(&["gcc", "make"])),
+        (false, false)
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Alpine, &set(&["gcc", "make", "musl-dev"])),
+        (true, false)
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Debian, &set(&["g++"])),
+        (false, false)
+    );
+    assert_eq!(
+        compilers_carried(OsFamily::Debian, &set(&["g++", "make"])),
+        (true, true)
+    );
+}
+
+/// A declared library name is matched by id or alias whatever its case (README: looked up
+/// "by id or alias"; names and aliases are compared lower-cased): `LibXML2` and `ZLIB` are the
+/// catalog's libxml2 and zlib, while pkg-config modules and link names stay exact. Guards the
+/// lower-casing in `by_name` (mutation testing: without it both were unknown libraries).
+#[test]
+fn declared_names_match_ids_in_any_case() {
+    let catalog = Catalog::builtin();
+    let id = |name: &str| catalog.by_declared_name(name).map(|l| l.id.clone());
+    assert_eq!(id("LibXML2").as_deref(), Some("libxml2"));
+    assert_eq!(id("ZLIB").as_deref(), Some("zlib"));
+    assert_eq!(id("libxml-2.0").as_deref(), Some("libxml2"));
+    assert_eq!(id("kookaburra-nonesuch"), None);
+}

@@ -1613,3 +1613,181 @@ fn an_install_of_a_cxx_build_needing_a_library_asks_for_the_toolchain_and_the_li
         "{s}"
     );
 }
+/// Assembly sources (`.s`, and `.S`, which gcc preprocesses) and C++ sources ending in `.cxx`
+/// are native sources (common practice, no source): a source build shipping only one of them
+/// likely needs a toolchain, so an image without one is told to add it. Guards the endings
+/// `.cxx`, `.s` and `.S` of the native source list (mutation testing: dropping any of them
+/// let such a release install on an image without a compiler).
+#[test]
+fn cxx_and_assembly_sources_alone_show_a_native_build() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}{}",
+        package("quoll-cxx", "", "src/ext/core.cxx"),
+        package("quoll-asm", "", "src/ext/crc.s"),
+        package("quoll-cpp-asm", "", "src/ext/crc.S"),
+    );
+    let images = format!(
+        "images:\n{}{}",
+        image(
+            "slim",
+            "debian",
+            "    toolchain: false\n    packages: [ca-certificates]\n"
+        ),
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["quoll-cxx", "quoll-asm", "quoll-cpp-asm"],
+    );
+    expect_explained(
+        &args,
+        &[
+            ("quoll-cxx", "slim", 1, "build-essential"),
+            ("quoll-asm", "slim", 1, "build-essential"),
+            ("quoll-cpp-asm", "slim", 1, "build-essential"),
+            ("quoll-cxx", "full", 0, "installs"),
+            ("quoll-asm", "full", 0, "installs"),
+        ],
+    );
+    let (_, stdout, _) = run(&["explain", "quoll-cpp-asm", "slim"], &args);
+    assert!(stdout.contains("ships src/ext/crc.S"), "{stdout}");
+}
+
+/// A `.hpp` header is C++'s (common practice, no source): a source build declaring zlib and
+/// shipping only `include/core.hpp` needs a C++ compiler, so an image with a C compiler only is
+/// told to add `g++` (Debian's C++ compiler package, as in the tests above), naming the header.
+/// Guards `.hpp` in the C++ endings (mutation testing: without it the header read as a known
+/// non-C++ source, and the C-only image was told it lacked nothing).
+#[test]
+fn an_hpp_header_alone_needs_the_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("wombat-hpp", "zlib", "include/core.hpp")
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    toolchain: false\n    packages: [gcc, make, libc6-dev, zlib1g-dev]\n"
+        ),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["wombat-hpp"]);
+    let (code, stdout, stderr) = run(&["explain", "wombat-hpp", "d-c"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout.contains("has a C compiler but no C++ compiler; add: g++"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("ships include/core.hpp, a C++ source"),
+        "{stdout}"
+    );
+}
+
+/// A shipped pkg-config file of a catalog module (`lib/pkgconfig/libzstd.pc`, module
+/// `libzstd` of the catalog's libzstd entry, Debian's `libzstd-dev` as in the catalog's
+/// archive extract) is likely evidence of that library: with no other native file, the release
+/// still needs `libzstd-dev` on an image with a toolchain. Guards the `.pc` lookup (mutation
+/// testing: skipping it let the release install).
+#[test]
+fn a_shipped_pkg_config_file_names_its_library() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("numbat-zst", "", "lib/pkgconfig/libzstd.pc")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["numbat-zst"]);
+    let (code, stdout, stderr) = run(&["explain", "numbat-zst", "full"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(stdout.contains("libzstd-dev"), "{stdout}");
+    assert!(
+        stdout.contains("naming pkg-config module libzstd"),
+        "{stdout}"
+    );
+}
+
+/// A dependency on a package a user catalog lists under `native_helpers` (not marked
+/// `native_helper` in the registry) is likely evidence of a native build: on an image without
+/// a toolchain the dependent is told to add `build-essential`, naming the helper. Guards the
+/// catalog's helper list (mutation testing: reading only the registry's flag let it install).
+#[test]
+fn a_dependency_on_a_catalog_native_helper_needs_a_toolchain() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = "packages:\n  - name: forgewright\n    versions:\n      - version: \"1.0.0\"\n  - name: kettle-ext\n    versions:\n      - version: \"1.0.0\"\n        depends:\n          - {name: forgewright, req: \"^1\"}\n";
+    let images = format!(
+        "images:\n{}",
+        image(
+            "slim",
+            "debian",
+            "    toolchain: false\n    packages: [ca-certificates]\n"
+        ),
+    );
+    let mut args = inputs(dir.path(), registry, &images, &["kettle-ext"]);
+    let catalog = write(
+        dir.path(),
+        "catalog.yaml",
+        "native_helpers: [forgewright]\nlibraries: []\n",
+    );
+    args.extend([
+        "--catalog".to_string(),
+        catalog.to_str().unwrap().to_string(),
+    ]);
+    let (code, stdout, stderr) = run(&["explain", "kettle-ext", "slim"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(stdout.contains("build-essential"), "{stdout}");
+    assert!(
+        stdout.contains("depends on native-build helper forgewright"),
+        "{stdout}"
+    );
+}
+
+/// A library named in a summary is found whatever the case it is written in: "LibXML2"
+/// mentions the catalog's libxml2, a possible need. Guards the lower-casing of name and
+/// summary words (mutation testing: without it the mention was missed and nothing was needed).
+#[test]
+fn a_summary_mentions_a_library_in_any_case() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = "packages:\n  - name: bilby-docs\n    summary: Readers for LibXML2 documents\n    versions:\n      - version: \"1.0.0\"\n";
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), registry, &images, &["bilby-docs"]);
+    let (code, stdout, stderr) = run(&["explain", "bilby-docs", "full"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(stdout.contains("libxml2-dev"), "{stdout}");
+    assert!(stdout.contains("mentions `libxml2`"), "{stdout}");
+}
+
+/// A prebuilt build compiles nothing: on an image with a C compiler only, a prebuilt release
+/// shipping a C++ source and declaring zlib installs when the image has zlib's runtime package
+/// (`zlib1g`, as in the catalog's Debian extract), and is not told to add `g++`. Guards that
+/// only source builds are asked for the C++ compiler (mutation testing: asking prebuilt ones
+/// too made the cell fail).
+#[test]
+fn a_prebuilt_build_on_a_c_only_image_needs_no_cxx_compiler() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = "packages:\n  - name: potoroo-bin\n    versions:\n      - version: \"1.0.0\"\n        builds:\n          prebuilt: [linux/glibc/x86_64]\n        native:\n          libraries: [zlib]\n          files: [src/ext/core.cpp]\n";
+    let images = format!(
+        "images:\n{}",
+        image(
+            "d-c",
+            "debian",
+            "    toolchain: false\n    packages: [gcc, make, libc6-dev, zlib1g]\n"
+        ),
+    );
+    let args = inputs(dir.path(), registry, &images, &["potoroo-bin"]);
+    let (code, stdout, stderr) = run(&["explain", "potoroo-bin", "d-c"], &args);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    assert!(stdout.contains("installs"), "{stdout}");
+    assert!(!stdout.contains("g++"), "{stdout}");
+}
