@@ -1193,6 +1193,32 @@ pub fn build_imageplan(mut inputs: Inputs, o: &ImageplanCommand) -> Result<Image
     })
 }
 
+/// Notes `--runtimes` values that are one runtime by precedence (`1.4` and `1.4.0`, or
+/// `1.4.0+b1` and `1.4.0`: build metadata does not count, Semantic Versioning 2.0.0, section
+/// 10): coverage shows one row for them, and a row gone without a word reads as a lost input.
+fn runtimes_merged_note(given: &[semver::Version], out: &mut Output) {
+    let mut sorted = given.to_vec();
+    sorted.sort();
+    for group in sorted.chunk_by(|a, b| a.cmp_precedence(b).is_eq()) {
+        if let [first, ..] = group
+            && group.len() > 1
+        {
+            let mut shown: Vec<String> = group.iter().map(|v| v.to_string()).collect();
+            shown.dedup();
+            out.stderr.push(match shown.as_slice() {
+                [one] => format!(
+                    "note: --runtimes names {one} {} times (a missing part counts as 0): coverage shows it once",
+                    group.len()
+                ),
+                _ => format!(
+                    "note: --runtimes {} are one runtime by precedence (build metadata aside; a missing part counts as 0): coverage shows it once, as {first}",
+                    shown.join(", ")
+                ),
+            });
+        }
+    }
+}
+
 /// `imageplan`: coverage by runtime, system packages and pre-install sets per image, written
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
@@ -1200,6 +1226,7 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
     let p = build_imageplan(inputs, o)?;
     let mut out = Output::default();
+    runtimes_merged_note(&o.runtimes, &mut out);
     if let Some(dir) = &o.out {
         let mut files = vec![(dir.join("imageplan.yaml"), report::to_yaml(&p).into_bytes())];
         // One chart per base image; the first keeps the plain name the docs promise. Ids that

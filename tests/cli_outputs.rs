@@ -477,6 +477,28 @@ fn imageplan_runtimes_read_as_images_do_and_repeat_no_precedence() {
         .map(|l| l.split_whitespace().next().unwrap_or_default())
         .collect();
     assert_eq!(rows, ["2.8.0", "3.1.0", "3.1.2"], "{stdout}");
+    // The merge is said, not silent: a row gone without a word read as a lost input (an
+    // end-to-end review). 3.1 and 3.1.0 are one runtime too.
+    let notes: Vec<&str> = stderr
+        .lines()
+        .filter(|l| l.starts_with("note: --runtimes"))
+        .collect();
+    assert_eq!(
+        notes,
+        [
+            "note: --runtimes 3.1.2, 3.1.2+x are one runtime by precedence (build metadata aside; a missing part counts as 0): coverage shows it once, as 3.1.2"
+        ],
+        "{stderr}"
+    );
+    let mut args = DEMO.to_vec();
+    args.extend(["--image", "deb-2.4", "--runtimes", "3.1,3.1.0,2.8"]);
+    let (_, _, stderr) = run(&["imageplan"], &args);
+    assert!(
+        stderr.contains(
+            "note: --runtimes names 3.1.0 2 times (a missing part counts as 0): coverage shows it once"
+        ),
+        "{stderr}"
+    );
 
     let mut args = DEMO.to_vec();
     args.extend(["--image", "deb-2.4", "--runtimes", "3.1,newest"]);
