@@ -331,7 +331,8 @@ fn read_matrix_for_results(
 /// Refuses a registry other than the snapshot a matrix read from a file was planned from
 /// (when the matrix records it): recorded versions would be looked up, and surprise installs
 /// solved, in releases the predictions never saw, so advice would point at the wrong thing.
-/// A fingerprint an earlier basefit made another way cannot be compared: a note says so.
+/// A fingerprint another version of basefit made another way cannot be compared: a note
+/// says so.
 fn require_planned_registry(
     matrix: &Matrix,
     matrix_path: &std::path::Path,
@@ -344,7 +345,7 @@ fn require_planned_registry(
     };
     if !planned.starts_with(plan::replan::REGISTRY_FINGERPRINT_FORMAT) {
         out.stderr.push(format!(
-            "note: {} records its registry's fingerprint as an earlier basefit made it, which cannot be compared: make sure {} is the snapshot it was planned from, or plan again",
+            "note: {} records its registry's fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure {} is the snapshot it was planned from, or plan again",
             matrix_path.display(),
             registry_files(paths).join(", ")
         ));

@@ -1895,3 +1895,46 @@ fn a_family_with_nothing_missing_gets_no_command() {
     assert!(!text.contains("per OS family"), "{text}");
     assert!(!text.contains("apt-get"), "{text}");
 }
+
+/// A release with no build anywhere is told apart whatever else refuses it here: one that also
+/// needs a newer runtime was explained as "needs a newer runtime" with the cause
+/// runtime-too-old, sending the reader to a newer image where it cannot install either (a
+/// review of the change). A package whose releases are each impossible for one reason or the
+/// other blocks its dependents as having no release any image can install.
+#[test]
+fn no_build_anywhere_outranks_the_runtime_and_mixed_impossible_releases_are_named() {
+    let registry = r#"packages:
+  - name: gecko
+    versions:
+      - {version: 1.0.0, runtime: ">=4.0", builds: {source: false}}
+  - name: emu
+    versions:
+      - {version: 1.0.0, runtime: "<0.0.0"}
+      - {version: 1.1.0, builds: {}}
+  - name: wren
+    versions:
+      - {version: 0.1.0, depends: [{name: emu}]}
+"#;
+    let inputs = inputs(registry, "priorities: [gecko, wren]\n");
+    let options = PlanOptions::default();
+    let gecko = explain(&inputs, "gecko", "deb", &options).unwrap();
+    assert_eq!(gecko.cell.cause, Some(Cause::NoBuildForPlatform));
+    let lines = gecko.cell.explanation.join("\n");
+    assert!(
+        lines.contains("1 version has no build for any platform"),
+        "{lines}"
+    );
+    assert!(!lines.contains("newer runtime"), "{lines}");
+    let wren = explain(&inputs, "wren", "deb", &options).unwrap();
+    let blockers: Vec<(&str, &str)> = wren
+        .cell
+        .blockers
+        .iter()
+        .map(|b| (b.package.as_str(), b.reason.as_str()))
+        .collect();
+    assert_eq!(
+        blockers,
+        [("emu", "emu has no release any image can install")],
+        "{wren:?}"
+    );
+}

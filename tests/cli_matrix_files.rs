@@ -356,7 +356,7 @@ fn a_cell_that_contradicts_itself_is_refused_by_every_reader() {
         .position(|c| c["outcome"] == "fails" && !c["root_version"].is_null())
         .expect("the demo has a native failure");
     type Edit<'a> = (&'a str, usize, &'a dyn Fn(&mut serde_json::Value), &'a str);
-    let edits: [Edit; 10] = [
+    let edits: [Edit; 11] = [
         (
             "no-root.json",
             installs,
@@ -426,6 +426,12 @@ fn a_cell_that_contradicts_itself_is_refused_by_every_reader() {
                 c["cause"] = "missing-toolchain".into();
             },
             "`fails` gives no explanation",
+        ),
+        (
+            "native-no-root.json",
+            native,
+            &|c| c["root_version"] = serde_json::Value::Null,
+            "names no root_version, though only a cell that resolved fails on what the image lacks",
         ),
     ];
     for (name, i, edit, want) in edits {
@@ -1382,7 +1388,7 @@ fn a_matrix_read_with_results_must_come_from_the_registry_given() {
         assert_ne!(code, 2, "{command}: {stderr}");
         assert!(
             stderr.contains(&format!(
-                "note: {} records its registry's fingerprint as an earlier basefit made it, which cannot be compared: make sure demo-data/registry.yaml is the snapshot it was planned from, or plan again",
+                "note: {} records its registry's fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure demo-data/registry.yaml is the snapshot it was planned from, or plan again",
                 earlier.display()
             )),
             "{command}: {stderr}"

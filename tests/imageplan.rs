@@ -1349,7 +1349,9 @@ fn a_kept_entry_held_at_another_version_than_alone_says_so() {
     let lines: Vec<&str> = text.lines().filter(|l| l.starts_with("kept ")).collect();
     assert_eq!(
         lines,
-        ["kept leaf at 1.0.0: alone it installs 2.0.0; the entries before it hold it there"],
+        [
+            "kept leaf at 1.0.0: alone it installs 2.0.0; the joint solve with the other kept entries holds it there"
+        ],
         "{text}"
     );
     let json = serde_json::to_value(&p).unwrap();

@@ -1246,3 +1246,16 @@ fn a_new_release_at_the_ceiling_that_does_not_suit_keeps_the_cell() {
     assert_eq!((stats.reused, stats.solved), (1, 0), "{stats:?}");
     assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
 }
+
+/// The demo registry's fingerprint, pinned: a matrix records it, and `review`/`render` refuse
+/// a registry whose fingerprint differs. A change to how it is made (the hasher, or how a
+/// registry file reads into releases) must come with a new
+/// `REGISTRY_FINGERPRINT_FORMAT`, or every matrix written before is refused against an
+/// unchanged registry (a review found exactly that after the hasher changed). When this
+/// test fails for such a change, bump the format and the expected value together.
+#[test]
+fn the_demo_registry_fingerprint_is_pinned_to_its_format() {
+    let fingerprint = basefit::plan::replan::registry_fingerprint(&demo().registry);
+    assert_eq!(fingerprint, "r2-a6138e593df7de12");
+    assert!(fingerprint.starts_with(basefit::plan::replan::REGISTRY_FINGERPRINT_FORMAT));
+}

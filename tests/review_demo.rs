@@ -2035,3 +2035,22 @@ fn a_kill_on_an_at_risk_cell_does_not_confirm_what_it_was_at_risk_for() {
         assert_eq!(c.cause_agrees, Some(false), "{log}: {c:?}");
     }
 }
+
+/// A runtime refusal on a cell predicted to install whose requirement basefit cannot read
+/// (`~=3.0` is no semver requirement) is neither a stale snapshot nor another reading of a
+/// requirement basefit knows: the advice says so and sends the reader to the release the
+/// installer read it from (a review found it calling the snapshot stale).
+#[test]
+fn a_runtime_refusal_with_an_unreadable_requirement_is_not_called_a_stale_snapshot() {
+    let review = review_of(
+        "results:
+  - {package: tidewater-http, image: deb-2.4, outcome: failed, log: \"runtime refused: requires ~=3.0, found 2.4.9\"}
+",
+    );
+    let c = cell(&review, "tidewater-http", "deb-2.4");
+    assert_eq!(c.verdict, Verdict::SurpriseFailure);
+    assert_eq!(
+        c.suggestion.as_deref().unwrap(),
+        "the installer refused runtime 2.4.9 for a requirement basefit cannot read, `~=3.0`, while by the snapshot every release the prediction chose admits it: find which release the installer read it from, and compare that release's metadata with the snapshot's"
+    );
+}

@@ -285,9 +285,9 @@ fn best_single<'a>(
         }
     }
     let mut best: Option<(&str, f64)> = None;
-    // Name order plus strict comparison gives ties to the first name.
+    // Name order plus strict comparison gives ties (up to rounding) to the first name.
     for (p, g) in gains {
-        if g > 0.0 && best.is_none_or(|(_, b)| g > b) {
+        if g > 0.0 && best.is_none_or(|(_, b)| g > b && !same_rate(g, b)) {
             best = Some((p, g));
         }
     }
@@ -328,7 +328,8 @@ fn best_bundle<'a>(
 /// weights taken in another order (0.1 + 0.2 against 0.3) differ in their last bits, and a
 /// tie must not turn on that.
 fn same_rate(a: f64, b: f64) -> bool {
-    (a - b).abs() <= 1e-9 * a.abs().max(b.abs()).max(1.0)
+    // Relative, so that weights of any scale order alike.
+    (a - b).abs() <= 1e-9 * a.abs().max(b.abs())
 }
 
 #[cfg(test)]
@@ -711,6 +712,43 @@ mod tests {
             adds(&advise(&tie)),
             [vec!["a", "b"], vec!["f", "g"], vec!["c", "d", "e"]]
         );
+    }
+
+    /// Ties up to rounding go to the first name for single packages too, and the order does
+    /// not depend on the weights' scale: 0.1 + 0.2 behind package `b` against 0.3 behind `a`
+    /// tie (the sum is 0.30000000000000004), and so do the same weights times 1e-12, which
+    /// an absolute tolerance would have tied whatever they were (a review of the change).
+    #[test]
+    fn ties_up_to_rounding_and_at_any_scale_go_to_the_first_name() {
+        for scale in [1.0, 1e-12, 1e12] {
+            let blocked = [
+                Blocked {
+                    weight: 0.1 * scale,
+                    missing: needs(&["b"]),
+                },
+                Blocked {
+                    weight: 0.2 * scale,
+                    missing: needs(&["b"]),
+                },
+                Blocked {
+                    weight: 0.3 * scale,
+                    missing: needs(&["a"]),
+                },
+            ];
+            assert_eq!(adds(&advise(&blocked)), [vec!["a"], vec!["b"]], "{scale}");
+            // Not a tie: 0.3 against 0.31, at every scale.
+            let apart = [
+                Blocked {
+                    weight: 0.31 * scale,
+                    missing: needs(&["b"]),
+                },
+                Blocked {
+                    weight: 0.3 * scale,
+                    missing: needs(&["a"]),
+                },
+            ];
+            assert_eq!(adds(&advise(&apart)), [vec!["b"], vec!["a"]], "{scale}");
+        }
     }
 
     #[test]

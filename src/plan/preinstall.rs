@@ -16,8 +16,9 @@ pub struct Kept {
     pub name: String,
     pub version: String,
     /// The version the entry installs when planned alone, where the joint solve chose another:
-    /// the set holds it back (or forward) to fit the entries before it, which a reader
-    /// comparing the manifest with the support matrix would otherwise take for a mistake.
+    /// the set holds it back (or forward) to fit the other kept entries, before or after it,
+    /// which a reader comparing the manifest with the support matrix would otherwise take for
+    /// a mistake.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub alone: Option<String>,
 }
@@ -687,7 +688,7 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         if let Some(alone) = &k.alone {
             let _ = writeln!(
                 s,
-                "kept {} at {}: alone it installs {alone}; the entries before it hold it there",
+                "kept {} at {}: alone it installs {alone}; the joint solve with the other kept entries holds it there",
                 k.name, k.version
             );
         }

@@ -336,10 +336,11 @@ pub(crate) fn unusable(
             });
         }
     }
-    // Likewise a release with no build for any platform: "no build for linux/musl/x86_64"
-    // would send the reader to another platform in vain.
+    // Likewise a release with no build for any platform, whatever else refuses it here (a
+    // runtime is judged first): "no build for linux/musl/x86_64" would send the reader to
+    // another platform in vain, and "needs a newer runtime" to a newer image in vain.
     let mut no_build: Vec<u32> = Vec::new();
-    if let Some(idx) = tally.get_mut(&Admission::NoBuild) {
+    for idx in tally.values_mut() {
         idx.retain(|&i| {
             let none = unbuildable(&releases[i as usize]);
             if none {
@@ -348,11 +349,14 @@ pub(crate) fn unusable(
             !none
         });
     }
+    no_build.sort_unstable();
     tally.retain(|_, idx| !idx.is_empty());
-    let cause = if tally.is_empty() {
-        cause_of_refusals(&refusals(view, package, set))
-    } else {
+    let cause = if !tally.is_empty() {
         cause_of_refusals(&tally)
+    } else if impossible.is_empty() && !no_build.is_empty() {
+        Cause::NoBuildForPlatform
+    } else {
+        cause_of_refusals(&refusals(view, package, set))
     };
     let image = view.image;
     let mut parts = Vec::new();

@@ -537,17 +537,21 @@ fn suggest(
         // requirement otherwise than basefit does, or it saw a requirement that no chosen
         // release has in the snapshot.
         LogCause::RuntimeRefused { required, found } if cell.outcome.resolves() => {
-            let admits = crate::model::Requirement::parse(required).is_ok_and(|req| {
+            let admits = crate::model::Requirement::parse(required).map(|req| {
                 crate::solve::image::runtime_verdict(&req, &image.runtime) == Admission::Admissible
             });
-            Some(if admits {
-                format!(
+            Some(match admits {
+                Ok(true) => format!(
                     "the installer refused runtime {found} for a requirement, `{required}`, that basefit reads as admitting it: the installer reads runtime requirements otherwise than basefit (pre-releases, partial versions); compare its rule with basefit's before trusting this image's predictions"
-                )
-            } else {
-                format!(
+                ),
+                Ok(false) => format!(
                     "the installer refused runtime {found} (requires {required}), but by the snapshot every release the prediction chose admits it: the snapshot is older than the registry the install used, or the install took other releases than predicted; refresh the snapshot and plan again"
-                )
+                ),
+                // Not a requirement basefit can read, so neither a stale snapshot nor another
+                // reading is shown: the snapshot holds none such for the releases chosen.
+                Err(_) => format!(
+                    "the installer refused runtime {found} for a requirement basefit cannot read, `{required}`, while by the snapshot every release the prediction chose admits it: find which release the installer read it from, and compare that release's metadata with the snapshot's"
+                ),
             })
         }
         LogCause::RuntimeRefused { required, found } => Some(format!(
