@@ -2223,18 +2223,20 @@ fn a_bulk_yanked_cell_reads_on_as_true() {
         "images:\n  - {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64, packages: [build-essential]}\n",
     );
     let priorities = write(d.path(), "priorities.yaml", "priorities:\n  - wallaby-io\n");
-    let out = Command::new(env!("CARGO_BIN_EXE_basefit"))
-        .args(["explain", "wallaby-io", "deb", "--quiet", "--bulk"])
-        .args([&versions, &deps])
-        .arg("--images")
-        .arg(&images)
-        .arg("--priorities")
-        .arg(&priorities)
-        .output()
-        .unwrap();
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert_eq!(out.status.code(), Some(0), "{stdout}{stderr}");
+    let (code, stdout, stderr) = common::run_basefit([
+        "explain".as_ref(),
+        "wallaby-io".as_ref(),
+        "deb".as_ref(),
+        "--quiet".as_ref(),
+        "--bulk".as_ref(),
+        versions.as_os_str(),
+        deps.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+        "--priorities".as_ref(),
+        priorities.as_os_str(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
     assert!(
         stdout.contains("wallaby-io on deb: installs (1.0.0)"),
         "{stdout}"
