@@ -192,3 +192,51 @@ fn the_unified_diff_has_two_lines_of_context() {
         "--- before\n+++ after\n@@ -3,5 +3,5 @@\n l3\n l4\n-alpha\n+beta\n l6\n l7\n"
     );
 }
+
+/// A cell that resolves its constraints but fails on the image (a declared library the image
+/// lacks) has a closure too, and what the image would install once the library is added
+/// moves with the snapshot: its dependency changes are listed like an installing cell's (they
+/// were left out, and `diff` said no cell's dependencies changed).
+#[test]
+fn a_native_failure_lists_its_dependency_changes() {
+    let registry = |aa: &str| {
+        format!(
+            "packages:
+  - name: kestrel
+    versions:
+      - version: 1.0.0
+        depends: [{{name: aa, req: '*'}}]
+        native: {{libraries: [libyaml], files: [ext/k.c]}}
+  - {{name: aa, versions: [{{version: {aa}}}]}}
+"
+        )
+    };
+    let before = planned_from(
+        &registry("1.0.0"),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let after = planned_from(
+        &registry("1.1.0"),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    for m in [&before, &after] {
+        assert_eq!(
+            m.cells[0].cause,
+            Some(basefit::solve::Cause::MissingSystemLibrary),
+            "{:?}",
+            m.cells[0]
+        );
+    }
+    let d = diff(&before, &after, |_| String::new());
+    assert_eq!(d.changes.len(), 1, "{d:#?}");
+    assert_eq!(
+        dependency_lines(&d.changes[0]),
+        [(
+            "aa".to_string(),
+            "1.0.0 source".to_string(),
+            "1.1.0 source".to_string()
+        )]
+    );
+}

@@ -156,14 +156,15 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
         let builds = !closures.before && !closures.after;
         let b = was.map(|c| CellBrief::of(c, builds));
         let a = Some(CellBrief::of(c, builds));
-        // Closures compare only where both sides list them, and only between two that
-        // resolve: a cell that stops resolving loses them all, which its outcome says.
+        // Closures compare only where both sides list them, and only between two cells that
+        // resolved their constraints (a native failure did too): a cell that stops resolving
+        // loses its closure, which its outcome says.
         let dependencies = match was {
             Some(was)
                 if !closures.before
                     && !closures.after
-                    && was.outcome.resolves()
-                    && c.outcome.resolves() =>
+                    && was.closure_size > 0
+                    && c.closure_size > 0 =>
             {
                 dependency_changes(&c.package, &was.closure, &c.closure)
             }
