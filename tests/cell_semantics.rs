@@ -1938,3 +1938,56 @@ fn no_build_anywhere_outranks_the_runtime_and_mixed_impossible_releases_are_name
         "{wren:?}"
     );
 }
+
+/// Under a conflict, a dependency whose newer line the image refuses is a step of the proof,
+/// not a blocker: heron needs cormorant <1.4 and lark ^3; lark 3.0.0 needs cormorant ^1.2 (no
+/// such release below 1.4) and lark 3.1.0 a newer runtime and cormorant ^2. The cell fails on
+/// the conflict over cormorant at every runtime, so "lark 3.1.0 needs a newer runtime" as a
+/// blocker sent readers to upgrade the image for nothing (from an end-to-end review). The
+/// explanation keeps the refusal as a line.
+#[test]
+fn a_partly_refused_dependency_is_no_blocker_of_a_conflict() {
+    let registry = r#"packages:
+  - name: heron
+    versions:
+      - version: "1.0.0"
+        depends: [{name: cormorant, req: "<1.4"}, {name: lark, req: "^3"}]
+  - name: lark
+    versions:
+      - {version: "3.0.0", depends: [{name: cormorant, req: "^1.2"}]}
+      - {version: "3.1.0", runtime: ">=4.0", depends: [{name: cormorant, req: "^2"}]}
+  - name: cormorant
+    versions: [{version: "1.0.0"}, {version: "1.4.0"}, {version: "2.0.0"}]
+"#;
+    let inputs = inputs_on(RUNTIMES, registry, "priorities: [heron]\n");
+    for image in ["mid", "new"] {
+        let cell = explain(&inputs, "heron", image, &PlanOptions::default())
+            .unwrap()
+            .cell;
+        assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{image}");
+        let blockers: Vec<(&str, &str)> = cell
+            .blockers
+            .iter()
+            .map(|b| (b.package.as_str(), b.reason.as_str()))
+            .collect();
+        assert_eq!(
+            blockers,
+            [(
+                "cormorant",
+                "conflicting requirements on cormorant (from lark and heron)"
+            )],
+            "{image}: {:?}",
+            cell.explanation
+        );
+    }
+    let cell = explain(&inputs, "heron", "mid", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert!(
+        cell.explanation
+            .iter()
+            .any(|l| l.starts_with("no version of lark can be used here: 3.1.0")),
+        "{:?}",
+        cell.explanation
+    );
+}

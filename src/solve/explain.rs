@@ -783,8 +783,9 @@ pub fn explain(
         .order
         .sort_by_key(|f| !matches!(f, Fact::Depends(Node::Root, ..)));
     let mut lines = Vec::new();
-    // Each with the cause it stands for, so that the ones a chosen cause disowns can go.
-    let mut blockers: Vec<(Blocker, Cause)> = Vec::new();
+    // Each with the cause it stands for, so that the ones a chosen cause disowns can go, and
+    // whether the image refuses only some of the releases wanted (see below).
+    let mut blockers: Vec<(Blocker, Cause, bool)> = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
     let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
     // A requirement no published release meets is a cause in itself: say so where it is stated.
@@ -844,6 +845,7 @@ pub fn explain(
                             reason,
                         },
                         cause,
+                        registry.package(*p).declared && !all,
                     ));
                 }
             }
@@ -908,6 +910,7 @@ pub fn explain(
                                     reason: format!("{name} (wanted {}) {why}", sib.req),
                                 },
                                 sib.cause,
+                                false,
                             ));
                         }
                         if let Some((cause, phrase)) =
@@ -927,6 +930,7 @@ pub fn explain(
                                     reason,
                                 },
                                 cause,
+                                false,
                             ));
                         }
                     }
@@ -1014,7 +1018,11 @@ pub fn explain(
                 registry.name(p),
                 by.join(" and ")
             );
-            blockers.push((Blocker { package: p, reason }, Cause::DependencyConflict));
+            blockers.push((
+                Blocker { package: p, reason },
+                Cause::DependencyConflict,
+                false,
+            ));
         }
     }
     lines.push(format!(
@@ -1026,9 +1034,17 @@ pub fn explain(
     // fails in another way only blocks the releases left over, and as the cell's one-line
     // reason it would contradict the cause.
     if from_root {
-        blockers.retain(|(_, c)| *c == cause);
+        blockers.retain(|(_, c, _)| *c == cause);
     }
-    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _)| b).collect();
+    // Under a conflict, a dependency the image refuses only some wanted releases of is a step
+    // of the proof, not a blocker: its other releases met the conflict, and whether the
+    // refused ones would install elsewhere is unknown (`explain`'s runtime hint solves again
+    // to find out). Named a blocker, "needs a newer runtime" sent readers to upgrade an image
+    // for a package that conflicts at every runtime.
+    if cause == Cause::DependencyConflict {
+        blockers.retain(|(_, c, partial)| *c == Cause::DependencyConflict || !partial);
+    }
+    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _, _)| b).collect();
     blockers.dedup();
     (
         Failure {
