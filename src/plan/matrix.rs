@@ -755,11 +755,29 @@ fn apply_native(inputs: &Inputs, image: &Image, closure: &[solve::Pin], cell: &m
     } else if a.worst_missing().is_some() || !a.unknown_libraries.is_empty() {
         cell.outcome = Outcome::AtRisk;
         let mut why = Vec::new();
-        if a.worst_missing().is_some() {
-            why.push(match cell.missing_system_packages.is_empty() {
-                true => "probably needs a C toolchain".to_string(),
-                false => format!("probably needs: {}", cell.missing_system_packages.join(" ")),
-            });
+        if let Some(worst) = a.worst_missing() {
+            // "probably" for likely needs and "may" for possible ones, as the native needs
+            // and `cxx_missing` grade them: one word for both read a guess as a finding.
+            let graded = |c: Confidence| -> Vec<&str> {
+                a.missing
+                    .iter()
+                    .filter(|(_, mc)| *mc == c)
+                    .map(|(p, _)| p.as_str())
+                    .collect()
+            };
+            let (likely, possible) = (graded(Confidence::Likely), graded(Confidence::Possible));
+            if !likely.is_empty() {
+                why.push(format!("probably needs: {}", likely.join(" ")));
+            }
+            if !possible.is_empty() {
+                why.push(format!("may need: {}", possible.join(" ")));
+            }
+            if a.missing.is_empty() {
+                why.push(match worst {
+                    Confidence::Possible => "may need a C toolchain".to_string(),
+                    _ => "probably needs a C toolchain".to_string(),
+                });
+            }
             if a.cxx_missing.is_some() {
                 why.push(format!("the C++ compiler for {cxx_because}"));
             }
