@@ -155,12 +155,15 @@ fn a_rhel_toolchain_includes_the_cxx_compiler() {
     assert_eq!(code, 0, "{stdout}{stderr}");
     assert!(stdout.contains("installs"), "{stdout}");
     // No shipped source shows the language (a `.h` header is C's and C++'s alike, a build
-    // file neither's): C++ stays possible, so the cell is at risk.
+    // file neither's): C++ stays possible, so the cell is at risk, and the explanation says
+    // "may need", as the matrix's `cxx_missing` says possible ("probably" read a guess as a
+    // finding beside it; from an end-to-end review).
     for package in ["unsaid-proto", "header-proto"] {
         let (code, stdout, _) = run(&["explain", package, "el-c"], &args);
         assert_eq!(code, 1, "{stdout}");
         assert!(stdout.contains("at-risk"), "{stdout}");
-        assert!(stdout.contains("probably needs: gcc-c++"), "{stdout}");
+        assert!(stdout.contains("may need: gcc-c++"), "{stdout}");
+        assert!(!stdout.contains("probably needs"), "{stdout}");
     }
     for (package, img) in [
         ("cpp-proto", "el-cxx"),
@@ -800,7 +803,7 @@ fn compilers_follow_packages_bases_and_build_systems() {
     let args_r = with_results(dir.path(), args.clone(), results);
     let cell = reviewed_cells(&args_r);
     let c = cell("zip-cmake", "c-only");
-    assert_eq!(c["verdict"], "risk-confirmed", "{c}");
+    assert_eq!(c["verdict"], "risk-unconfirmed", "{c}");
     assert_eq!(c["cause_agrees"], false, "{c}");
     let full = cell("zip-cmake", "gxx-make");
     assert_eq!(full["log_cause"]["tool"], "cc1plus", "{full}");

@@ -1224,10 +1224,16 @@ fn a_confirmed_risk_is_checked_against_what_the_cell_was_at_risk_for() {
             "results:\n  - {{package: burrow-lite, image: el9-3.0, outcome: failed, log: \"{log}\"}}\n"
         )
     };
+    // Only a log showing what the cell was at risk for confirms the risk; any other failure
+    // is an unconfirmed risk (README, "Reviewing recorded installs").
     let agreement = |log: &str| {
         let review = review_of(&failed(log));
         let c = cell(&review, "burrow-lite", "el9-3.0");
-        assert_eq!(c.verdict, Verdict::RiskConfirmed, "{log}");
+        let confirmed = match c.cause_agrees {
+            Some(true) => Verdict::RiskConfirmed,
+            _ => Verdict::RiskUnconfirmed,
+        };
+        assert_eq!(c.verdict, confirmed, "{log}");
         c.cause_agrees
     };
     assert_eq!(agreement("/usr/bin/ld: cannot find -lpq"), Some(true));
@@ -1405,15 +1411,16 @@ fn an_agreed_failure_says_when_its_log_shows_no_known_cause() {
     let (_, text) = review_file(
         dir.path(),
         "results.yaml",
-        "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: failed, log: \"something odd happened\"}\n  - {package: burrow-lite, image: alpine-2.6, outcome: installed}\n",
+        "results:\n  - {package: quill-xml, image: alpine-2.6, outcome: failed, log: \"something odd happened\"}\n  - {package: burrow-lite, image: alpine-2.6, outcome: installed}\n",
         "table",
     );
+    // quill-xml is predicted to fail on alpine-2.6 (demo-data/STORIES.md).
     let agreed = text
         .split("agreed failures:")
         .nth(1)
         .expect("an agreed section");
     assert!(
-        agreed.contains("burrow-lite on el9-3.0: risk-confirmed")
+        agreed.contains("quill-xml on alpine-2.6: agreed-failure")
             && agreed.contains("      no known cause in the log"),
         "{text}"
     );
@@ -2017,8 +2024,9 @@ fn a_missing_cxx_compiler_on_an_image_without_toolchain_asks_for_the_toolchain()
     );
 }
 
-/// A build killed (or out of memory) on a cell at risk confirms the failure but not the risk:
-/// it stopped before any missing package could show, so `cause_agrees` is false, not unknown.
+/// A build killed (or out of memory) on a cell at risk agrees with the failure but not the
+/// risk: it stopped before any missing package could show, so `cause_agrees` is false, not
+/// unknown, and the risk is unconfirmed.
 /// burrow-lite is at risk on deb-3.2-slim (demo-data/STORIES.md).
 #[test]
 fn a_kill_on_an_at_risk_cell_does_not_confirm_what_it_was_at_risk_for() {
@@ -2031,7 +2039,7 @@ fn a_kill_on_an_at_risk_cell_does_not_confirm_what_it_was_at_risk_for() {
             "results:\n  - {{package: burrow-lite, image: deb-3.2-slim, outcome: failed, log: \"{log}\"}}\n"
         ));
         let c = cell(&review, "burrow-lite", "deb-3.2-slim");
-        assert_eq!(c.verdict, Verdict::RiskConfirmed, "{log}");
+        assert_eq!(c.verdict, Verdict::RiskUnconfirmed, "{log}");
         assert_eq!(c.cause_agrees, Some(false), "{log}: {c:?}");
     }
 }
@@ -2053,4 +2061,57 @@ fn a_runtime_refusal_with_an_unreadable_requirement_is_not_called_a_stale_snapsh
         c.suggestion.as_deref().unwrap(),
         "the installer refused runtime 2.4.9 for a requirement basefit cannot read, `~=3.0`, while by the snapshot every release the prediction chose admits it: find which release the installer read it from, and compare that release's metadata with the snapshot's"
     );
+}
+
+/// A failure on a cell at risk whose log is missing, or shows nothing basefit can read, does
+/// not confirm the risk: the cell may have failed for any reason (a crash in a post-install
+/// script), and "risk-confirmed" marked agreed read as proof the image needs the packages the
+/// cell was at risk for (from an end-to-end review). It is `risk-unconfirmed`, unsettled in
+/// every rendering, and the text review lists it apart from agreed failures. burrow-lite is at
+/// risk on el9-3.0 (demo-data/STORIES.md).
+#[test]
+fn an_at_risk_failure_that_shows_no_native_cause_is_not_a_confirmed_risk() {
+    for results in [
+        "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: failed}\n",
+        "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: failed, log: \"Segmentation fault (core dumped) in post-install script\"}\n",
+    ] {
+        let review = review_of(results);
+        let c = cell(&review, "burrow-lite", "el9-3.0");
+        assert_eq!(c.verdict, Verdict::RiskUnconfirmed, "{results}");
+        assert_eq!(c.cause_agrees, None, "{results}");
+        assert!(!c.verdict.is_surprise());
+        let text = basefit::report::text::review_text(&review);
+        let (agreed, rest) = text
+            .split_once("flaky, drifted, undecided, or at risk and failed without showing why:")
+            .unwrap_or_else(|| panic!("{text}"));
+        assert!(!agreed.contains("burrow-lite on el9-3.0"), "{text}");
+        assert!(
+            rest.contains("burrow-lite on el9-3.0: risk-unconfirmed"),
+            "{text}"
+        );
+    }
+    // The rendered matrix marks it unsettled, not agreed.
+    let dir = tempfile::tempdir().unwrap();
+    let results = common::write(
+        dir.path(),
+        "r.yaml",
+        "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: failed}\n",
+    );
+    let results = results.display().to_string();
+    let (code, stdout, stderr) = common::run_basefit(
+        ["render", "--format", "csv", "--quiet"]
+            .into_iter()
+            .chain(common::DEMO)
+            .chain(["--results", results.as_str()]),
+    );
+    assert_eq!(code, 0, "{stderr}");
+    let mut rows = csv::Reader::from_reader(stdout.as_bytes());
+    let headers = rows.headers().unwrap().clone();
+    let col = |name: &str| headers.iter().position(|h| h == name).unwrap();
+    let row = rows
+        .records()
+        .map(|r| r.unwrap())
+        .find(|r| &r[col("package")] == "burrow-lite" && &r[col("image")] == "el9-3.0")
+        .unwrap();
+    assert_eq!(&row[col("mark")], "unsettled", "{stdout}");
 }

@@ -61,11 +61,17 @@ impl Mark {
         let verdict = check.verdict.trim();
         if verdict.starts_with("surprise") {
             Mark::Surprise
-        } else if (verdict.starts_with("agreed")
-            || verdict == crate::verify::Verdict::RiskConfirmed.as_str())
+        } else if verdict.starts_with("agreed")
             && check.recorded.trim() != "flaky"
             && check.cause_agrees != Some(false)
         {
+            Mark::Agreed
+        } else if verdict == crate::verify::Verdict::RiskConfirmed.as_str()
+            && check.recorded.trim() != "flaky"
+            && check.cause_agrees == Some(true)
+        {
+            // A risk is confirmed only by a log showing what the cell was at risk for (an
+            // earlier basefit also called a failure with no such log so).
             Mark::Agreed
         } else {
             Mark::Unsettled
@@ -97,7 +103,7 @@ impl Mark {
             Mark::Agreed => "recorded installs agree with the prediction",
             Mark::Surprise => "recorded installs contradict the prediction",
             Mark::Unsettled => {
-                "recorded installs neither agree nor contradict: flaky, another version or failure cause than predicted, or an undecided prediction"
+                "recorded installs neither agree nor contradict: flaky, another version or failure cause than predicted, a risk the log does not show, or an undecided prediction"
             }
         }
     }
@@ -363,5 +369,17 @@ mod tests {
             ..check("failed", "agreed-failure")
         };
         assert_eq!(Mark::of(&same_cause), Mark::Agreed);
+        // A risk counts as confirmed only where the log showed what the cell was at risk for.
+        let risk = |cause_agrees| RecordedCheck {
+            cause_agrees,
+            ..check("failed", "risk-confirmed")
+        };
+        assert_eq!(Mark::of(&risk(Some(true))), Mark::Agreed);
+        assert_eq!(Mark::of(&risk(None)), Mark::Unsettled);
+        assert_eq!(Mark::of(&risk(Some(false))), Mark::Unsettled);
+        assert_eq!(
+            Mark::of(&check("failed", "risk-unconfirmed")),
+            Mark::Unsettled
+        );
     }
 }

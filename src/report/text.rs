@@ -729,12 +729,12 @@ pub fn review_text(r: &crate::verify::Review) -> String {
         .filter(|c| {
             matches!(
                 c.verdict,
-                Verdict::Flaky | Verdict::Drift | Verdict::Undecided
+                Verdict::Flaky | Verdict::Drift | Verdict::Undecided | Verdict::RiskUnconfirmed
             )
         })
         .collect();
     if !other.is_empty() {
-        out.push_str("\nflaky, drifted or undecided:\n");
+        out.push_str("\nflaky, drifted, undecided, or at risk and failed without showing why:\n");
         for cell in other {
             review_cell(&mut out, cell);
         }

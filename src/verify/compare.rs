@@ -15,8 +15,13 @@ pub enum Verdict {
     AgreedInstall,
     /// Predicted to fail, and it failed.
     AgreedFailure,
-    /// Predicted at risk, and it failed: the risk was real.
+    /// Predicted at risk, and it failed, and the log shows a native need the cell was at risk
+    /// for: the risk was real.
     RiskConfirmed,
+    /// Predicted at risk, and it failed, but the log does not show what the cell was at risk
+    /// for (no log, a cause the log does not show, or another one, a kill among them): the
+    /// failure agrees with the doubt, yet confirms no native need, so it is not read as one.
+    RiskUnconfirmed,
     /// Predicted to install (cleanly), but it failed.
     SurpriseFailure,
     /// Predicted to fail, but it installed: the metadata is stricter than reality.
@@ -40,6 +45,7 @@ impl Verdict {
             Verdict::AgreedInstall => "agreed-install",
             Verdict::AgreedFailure => "agreed-failure",
             Verdict::RiskConfirmed => "risk-confirmed",
+            Verdict::RiskUnconfirmed => "risk-unconfirmed",
             Verdict::SurpriseFailure => "surprise-failure",
             Verdict::SurpriseInstall => "surprise-install",
             Verdict::Drift => "drift",
@@ -1131,7 +1137,15 @@ pub fn compare_within(
             );
             match cell.outcome {
                 Outcome::Fails => Verdict::AgreedFailure,
-                Outcome::AtRisk if !refused => Verdict::RiskConfirmed,
+                Outcome::AtRisk if !refused => {
+                    let shown = primary
+                        .as_ref()
+                        .and_then(|p| risk_agrees(catalog, images, cell, &p.cause));
+                    match shown {
+                        Some(true) => Verdict::RiskConfirmed,
+                        _ => Verdict::RiskUnconfirmed,
+                    }
+                }
                 _ => Verdict::SurpriseFailure,
             }
         } else if installed_version.is_some()
@@ -1197,7 +1211,9 @@ pub fn compare_within(
             installed_version,
             cause_agrees: match (verdict, &log_cause) {
                 (Verdict::AgreedFailure, Some(c)) => agrees((catalog, images), cell, c),
-                (Verdict::RiskConfirmed, Some(c)) => risk_agrees(catalog, images, cell, c),
+                (Verdict::RiskConfirmed | Verdict::RiskUnconfirmed, Some(c)) => {
+                    risk_agrees(catalog, images, cell, c)
+                }
                 _ => None,
             },
             evidence: primary.as_ref().map(|p| p.evidence.clone()),
