@@ -1450,3 +1450,102 @@ fn native_list_items_are_trimmed() {
     assert_eq!(native.libraries, ["libxml2", "zlib"]);
     assert_eq!(native.files, ["src/a.c", "src/b.h"]);
 }
+
+/// The batched reader trims a cell with white space on one side only, as the row-by-row
+/// reader does (`str::trim`): a bulk dump with ` pkg-a` must name `pkg-a`. From a mutation
+/// review, where only cells padded on both sides were tested.
+#[test]
+fn batched_cells_are_trimmed_on_either_side_alone() {
+    use std::ops::ControlFlow;
+    let text = "name,flag\n pkg-a,yes\npkg-b ,no\n\tpkg-c,1\n";
+    let table = basefit::load::table::Table::from_reader(
+        "t.csv",
+        Box::new(text.as_bytes()),
+        &["name", "flag"],
+        &["name"],
+    )
+    .unwrap();
+    let name = table.column("name");
+    let mut names = Vec::new();
+    table
+        .for_each_batch(|batch| {
+            for row in batch.rows() {
+                names.push(row.unwrap().text(name).unwrap().to_string());
+            }
+            ControlFlow::Continue(())
+        })
+        .unwrap();
+    assert_eq!(names, ["pkg-a", "pkg-b", "pkg-c"]);
+}
+
+/// `t` and `f` read as true and false, as SQL exports (PostgreSQL's `COPY ... CSV`) write
+/// booleans, in the batched reader's flag cells too. From a mutation review: `f` was tested
+/// nowhere, and a dump of `f` flags would have been refused row by row.
+#[test]
+fn sql_style_flags_read_both_ways() {
+    use basefit::load::table::parse_flag;
+    assert_eq!(parse_flag("t"), Some(true));
+    assert_eq!(parse_flag("f"), Some(false));
+    assert_eq!(parse_flag("1"), Some(true));
+    assert_eq!(parse_flag("0"), Some(false));
+    let d = tempfile::tempdir().unwrap();
+    let versions = d.path().join("versions.csv");
+    let deps = d.path().join("deps.csv");
+    std::fs::write(
+        &versions,
+        "package,version,yanked\npkg-a,1.0.0,f\npkg-a,1.1.0,t\n",
+    )
+    .unwrap();
+    std::fs::write(&deps, "package,version,dependency,req\n").unwrap();
+    let (registry, ledger) = basefit::load::read_bulk(&versions, &deps).unwrap();
+    assert!(ledger.unbalanced().is_empty());
+    let id = registry.id("pkg-a").unwrap();
+    let yanked: Vec<(String, bool)> = registry
+        .package(id)
+        .releases
+        .iter()
+        .map(|r| (r.version.to_string(), r.yanked))
+        .collect();
+    assert_eq!(
+        yanked,
+        [("1.0.0".to_string(), false), ("1.1.0".to_string(), true)]
+    );
+}
+
+/// An error reading cannot go on past (here bytes that are not UTF-8) ends the batched
+/// reading only after the rows before it, misshapen ones included, were handed over, so a
+/// file's earlier problems are still reported beside it. From a mutation review, where
+/// dropping the batch that held the error passed every test.
+#[test]
+fn rows_before_a_fatal_error_are_handed_over() {
+    use std::ops::ControlFlow;
+    let text: &'static [u8] = b"name,kind\na,x\nb\nc,\xff\nd,y\n";
+    let table = basefit::load::table::Table::from_reader(
+        "t.csv",
+        Box::new(text),
+        &["name", "kind"],
+        &["name"],
+    )
+    .unwrap();
+    let mut seen = Vec::new();
+    let end = table.for_each_batch(|batch| {
+        seen.extend(
+            batch
+                .rows()
+                .map(|r| r.map(|r| r.line).map_err(|e| e.to_string())),
+        );
+        ControlFlow::Continue(())
+    });
+    assert_eq!(
+        seen,
+        [
+            Ok(2),
+            Err("t.csv:3: expected 2 fields as in the header, found 1".to_string())
+        ]
+    );
+    let e = end.unwrap_err();
+    assert_eq!(
+        (e.line, e.message.as_str()),
+        (Some(4), "not UTF-8 text (binary data?)")
+    );
+}
