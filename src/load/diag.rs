@@ -1008,3 +1008,48 @@ impl SchemaErrors {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Records read but neither used nor left out are lost, and say so as surely as records
+    /// counted twice: the check is equality, not one side of it. From a mutation review, where
+    /// a one-sided check passed every test.
+    #[test]
+    fn lost_records_unbalance_the_ledger_as_extra_ones_do() {
+        let mut ledger = Ledger::default();
+        ledger.read_many(RecordKind::Version, 3);
+        ledger.used_many(RecordKind::Version, 2);
+        assert_eq!(ledger.unbalanced(), [RecordKind::Version]);
+        ledger.left_out_with_owner(RecordKind::Version, 1);
+        assert!(ledger.unbalanced().is_empty());
+        ledger.used(RecordKind::Version);
+        assert_eq!(ledger.unbalanced(), [RecordKind::Version]);
+    }
+
+    /// Of two problems leaving out images with one id, the first is the one told (as
+    /// documented on [`Ledger::left_out_image`]). From a mutation review.
+    #[test]
+    fn the_first_problem_of_a_left_out_image_id_is_told() {
+        let mut ledger = Ledger::default();
+        for (line, detail) in [(3, "first reason"), (7, "second reason")] {
+            ledger.leave_out(
+                RecordKind::Image,
+                ProblemKind::BadImage,
+                Origin {
+                    file: "i.yaml".into(),
+                    line,
+                },
+                "deb",
+                detail,
+            );
+        }
+        let told = ledger.left_out_image("deb").unwrap();
+        assert_eq!(
+            (told.origin.line, told.detail.as_str()),
+            (3, "first reason")
+        );
+        assert_eq!(ledger.left_out_images()["deb"].origin.line, 3);
+    }
+}
