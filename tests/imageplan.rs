@@ -1358,3 +1358,93 @@ fn a_kept_entry_held_at_another_version_than_alone_says_so() {
     assert_eq!(json["kept"][1]["alone"], "2.0.0", "{json}");
     assert!(json["kept"][0].get("alone").is_none(), "{json}");
 }
+
+/// The chart's vertical axis runs up: a share of 100% is drawn at the plot's top (y 40, the
+/// top margin) and 0% on the axis line (y 300), the target line between them where its share
+/// puts it. From a mutation review, where a chart drawn upside down passed every test.
+#[test]
+fn svg_draws_higher_coverage_higher_up() {
+    let point = |runtime: &str, share: f64| CoveragePoint {
+        runtime: runtime.to_string(),
+        share: Some(share),
+        short_share: Some(1.0 - share),
+        failing_share: Some(1.0 - share),
+        resolves: Vec::new(),
+        undecided: 0,
+        undecided_entries: Vec::new(),
+        reaches_target: Some(share >= 0.75),
+    };
+    let c = Coverage {
+        base_image: "deb".to_string(),
+        family: "debian".to_string(),
+        platform: "linux/glibc/x86_64".to_string(),
+        target: 0.75,
+        points: vec![point("3.0.0", 0.0), point("3.1.0", 1.0)],
+        oldest_reaching_target: Some("3.1.0".to_string()),
+        target_unknown_at: Vec::new(),
+        steps: Vec::new(),
+        native_skipped: false,
+    };
+    let svg = coverage_svg(&c);
+    let cy = |runtime: &str| {
+        let at = svg.find(&format!("<title>{runtime}: ")).unwrap();
+        let circle = &svg[svg[..at].rfind("<circle").unwrap()..at];
+        let start = circle.find("cy=\"").unwrap() + 4;
+        circle[start..start + circle[start..].find('"').unwrap()].to_string()
+    };
+    assert_eq!(cy("3.0.0"), "300.0", "{svg}");
+    assert_eq!(cy("3.1.0"), "40.0", "{svg}");
+    // 75% is a quarter of the 260-unit plot height below its top.
+    assert!(
+        svg.contains("<line class=\"target\" x1=\"60\" y1=\"105.0\""),
+        "{svg}"
+    );
+}
+
+/// Without `--base`, the first image of each (family, platform) is a base: two images of one
+/// family on two platforms are two bases, and a second image of a pair is none. From a
+/// mutation review, where keying by family alone passed every test.
+#[test]
+fn default_bases_are_one_per_family_and_platform() {
+    let mut ledger = basefit::Ledger::default();
+    let images = read_images_str(
+        "i.yaml",
+        "images:
+- {id: deb-x86, runtime: 3.1.0, family: debian, platform: linux/glibc/x86_64}
+- {id: deb-arm, runtime: 3.1.0, family: debian, platform: linux/glibc/aarch64}
+- {id: deb-x86-new, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64}
+- {id: alp, runtime: 3.1.0, family: alpine, platform: linux/musl/x86_64}
+",
+        &mut ledger,
+    )
+    .unwrap();
+    let bases: Vec<&str> = basefit::plan::coverage::default_bases(&images.images)
+        .iter()
+        .map(|i| i.id.as_str())
+        .collect();
+    assert_eq!(bases, ["deb-x86", "deb-arm", "alp"]);
+}
+
+/// With every priority weight zero no runtime's verdict is open: there is no coverage to
+/// decide, so `target_unknown_at` stays empty (the JSON and YAML documents carry it; listing
+/// every runtime there would send the reader to raise `--budget` for nothing). From a
+/// mutation review.
+#[test]
+fn zero_weights_leave_no_runtime_open() {
+    let priorities = "priorities:
+- {name: anchor, weight: 0}
+- {name: brine, weight: 0}
+";
+    let inp = inputs(COVERAGE_REGISTRY, ONE_IMAGE, priorities);
+    let c = coverage(
+        &inp,
+        &inp.images.images[0],
+        &[v("3.0.0"), v("3.1.0")],
+        0.9,
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    assert!(c.points.iter().all(|p| p.share.is_none()), "{c:?}");
+    assert_eq!(c.target_unknown_at, Vec::<String>::new());
+    assert_eq!(c.oldest_reaching_target, None);
+}
