@@ -405,6 +405,16 @@ fn csv_reads_back_to_the_same_values() {
                 basefit::report::layout::Mark::Unsettled => "unsettled",
             });
             assert_eq!(get("mark"), Some(mark));
+            // Each by its own column: a swap of these two passed this test before (from a
+            // mutation review).
+            text(
+                "recorded_version",
+                rec_check.and_then(|r| r.version.as_deref()).unwrap_or(""),
+            );
+            text(
+                "recorded_detail",
+                rec_check.map_or("", |r| r.detail.as_str()),
+            );
             text("explanation", &cell.explanation.join(" / "));
             assert_eq!(get("notice"), Some(NOTICE));
         }
@@ -1082,4 +1092,64 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
     assert_eq!(basefit::report::csv::defuse("-2+3"), "'-2+3");
     assert_eq!(basefit::report::csv::defuse("+1"), "'+1");
     assert_eq!(basefit::report::csv::defuse("@SUM(A1)"), "'@SUM(A1)");
+}
+
+// ---------------------------------------------------------------- mutation review
+
+/// A cell the matrix does not hold counts against its image's share of priority weight, as a
+/// cell that does not resolve would: with two packages of equal weight, one installing and
+/// the other's cell gone, the image resolves 50%, not 100%. From a mutation review, where
+/// leaving the missing cell's weight out of the total passed every test.
+#[test]
+fn a_missing_cells_weight_counts_as_not_resolving() {
+    let mut m = load("demo-matrix.json");
+    for (i, p) in m.packages.iter_mut().enumerate() {
+        p.weight = if i < 2 { 1.0 } else { 0.0 };
+    }
+    let (first, second, img) = (
+        m.packages[0].name.clone(),
+        m.packages[1].name.clone(),
+        m.images[0].id.clone(),
+    );
+    m.cells.retain(|c| !(c.package == first && c.image == img));
+    let kept = m
+        .cells
+        .iter_mut()
+        .find(|c| c.package == second && c.image == img)
+        .unwrap();
+    kept.outcome = Outcome::Installs;
+    let md = markdown(&m);
+    let row = md
+        .lines()
+        .find(|l| l.starts_with(&format!("| {img} | ")))
+        .unwrap_or_else(|| panic!("no images row for {img}:\n{md}"));
+    assert!(row.ends_with("| 50% |"), "{row}");
+}
+
+/// A one-line reason is cut to 320 characters, the ellipsis included. From a mutation
+/// review, where a cut one character longer passed every test.
+#[test]
+fn long_reasons_are_cut_to_320_characters() {
+    let mut m = load("demo-matrix.json");
+    let cell = &mut m.cells[0];
+    cell.outcome = Outcome::Fails;
+    cell.blockers.clear();
+    cell.explanation = vec!["x".repeat(400)];
+    let md = markdown(&m);
+    let cut = format!("{}…", "x".repeat(319));
+    assert!(md.contains(&cut), "{md}");
+    assert!(!md.contains(&"x".repeat(320)), "{md}");
+}
+
+/// Records end with a line feed alone, as every other file basefit writes does (RFC 4180
+/// section 2 asks for CRLF; Python's `csv` module and the `csv` crate read either), so the
+/// bytes are the same on every platform and diff cleanly. A CR appears only inside a quoted
+/// value that holds one. From a mutation review, where CRLF output passed every test.
+#[test]
+fn csv_records_end_with_a_line_feed_alone() {
+    let m = load("demo-matrix.json");
+    let text = csv(&m);
+    assert!(!text.contains('\r'), "{text}");
+    assert_eq!(text.lines().count(), m.cells.len() + 1);
+    assert!(text.ends_with("\n"));
 }
