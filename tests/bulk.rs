@@ -1478,7 +1478,7 @@ fn batched_cells_are_trimmed_on_either_side_alone() {
     assert_eq!(names, ["pkg-a", "pkg-b", "pkg-c"]);
 }
 
-/// `t` and `f` read as true and false, as SQL exports (PostgreSQL's `COPY ... CSV`) write
+/// `t` and `f` read as true and false, as SQL exports (PostgreSQL's `COPY ... CSV`, from memory) write
 /// booleans, in the batched reader's flag cells too. From a mutation review: `f` was tested
 /// nowhere, and a dump of `f` flags would have been refused row by row.
 #[test]
