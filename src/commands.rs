@@ -46,6 +46,16 @@ impl Output {
     }
 }
 
+/// A prediction report's JSON or YAML document with the notice first, as its text ends with
+/// it: a pipeline reading the document (running `syslibs`' install commands in an image
+/// build) would otherwise never see that predictions need real installs to confirm them.
+#[derive(serde::Serialize)]
+struct Noticed<'a, T> {
+    notice: String,
+    #[serde(flatten)]
+    report: &'a T,
+}
+
 /// Loads inputs, and with `strict` refuses any data-quality problem, naming the first by its
 /// own place. Otherwise problems may still be at stand-in places: a command that shows them
 /// calls [`Inputs::place_deferred`] first (only `check` does).
@@ -632,7 +642,13 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     }
     let summary = plan::summarise(matrix);
     let shared = blockers::shared_blockers(matrix, o.blockers);
-    let document = || serde_json::json!({ "summary": summary, "shared_blockers": shared });
+    let document = || {
+        serde_json::json!({
+            "notice": matrix.notice,
+            "summary": summary,
+            "shared_blockers": shared,
+        })
+    };
     out.stdout = match o.format {
         Format::Json => report::to_json(&document()),
         Format::Yaml => report::to_yaml(&document()),
@@ -1010,8 +1026,11 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     // could have been a surprise: the gate cannot pass without it.
     let mut out = Output::report(
         o.format,
-        &review,
-        text::review_text,
+        &Noticed {
+            notice: plan::matrix::notice(matrix.native_skipped),
+            report: &review,
+        },
+        |n| text::review_text(n.report),
         surprises > o.max_surprises
             || !review.results_left_out.is_empty()
             || !review.outside_matrix.is_empty()
@@ -1088,7 +1107,16 @@ pub fn system(o: &SystemCommand) -> Result<Output> {
         .images
         .iter()
         .any(|i| i.lacks_anything() || !i.undecided.is_empty());
-    Ok(Output::report(o.format, &r, text::system_text, any_missing))
+    let noticed = Noticed {
+        notice: plan::matrix::NOTICE.to_string(),
+        report: &r,
+    };
+    Ok(Output::report(
+        o.format,
+        &noticed,
+        |n| text::system_text(n.report),
+        any_missing,
+    ))
 }
 
 pub struct ImageplanCommand {
@@ -1265,7 +1293,6 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
         }
         Format::Table => {}
     }
-    // The system report's text already ends with the notice, so it is not repeated here.
     let mut s = String::new();
     if p.native_skipped {
         s.push_str(plan::matrix::NATIVE_SKIPPED_NOTICE);
@@ -1276,18 +1303,18 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
         s.push('\n');
     }
     match &p.system {
-        Some(system) => s.push_str(&text::system_text(system)),
-        None => {
-            s.push_str("system packages per image: not checked (--no-native)\n\n");
-            s.push_str(plan::matrix::NOTICE);
-            s.push('\n');
-        }
+        Some(system) => s.push_str(&text::system_body(system)),
+        None => s.push_str("system packages per image: not checked (--no-native)\n"),
     }
     s.push('\n');
     for pre in &p.preinstall {
         s.push_str(&plan::preinstall::preinstall_text(pre));
         s.push('\n');
     }
+    // Last, after the manifests readers copy into an image build (a `--no-native` plan says
+    // so at the top already).
+    s.push_str(plan::matrix::NOTICE);
+    s.push('\n');
     out.stdout = report::visible(&s).into_owned();
     Ok(out)
 }

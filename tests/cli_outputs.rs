@@ -1581,3 +1581,54 @@ fn diff_warns_of_a_no_native_side_only_when_the_sides_differ_in_it() {
     );
     assert!(!out.contains(MAY_REFLECT), "{out}");
 }
+
+/// `plan`, `review` and `syslibs` print their JSON and YAML documents with the notice that
+/// their text ends with: `syslibs`' JSON carries install commands a pipeline may run in an
+/// image build, and none of the three said that predictions need real installs to confirm
+/// them (from an end-to-end review). YAML is read back with serde_yaml.
+#[test]
+fn prediction_reports_carry_the_notice_in_json_and_yaml() {
+    let notice = basefit::plan::matrix::NOTICE;
+    for command in ["plan", "review", "syslibs"] {
+        for format in ["json", "yaml"] {
+            let mut args = vec![command, "--quiet", "--format", format];
+            args.extend(DEMO);
+            if command == "review" {
+                args.extend(["--results", "demo-data/results.yaml"]);
+            }
+            let (code, stdout, stderr) = run_basefit(&args);
+            assert!(code <= 1, "{command} {format}: {stderr}");
+            let v: serde_json::Value = match format {
+                "json" => serde_json::from_str(&stdout).unwrap(),
+                _ => serde_yaml::from_str(&stdout).unwrap(),
+            };
+            assert_eq!(v["notice"], notice, "{command} {format}: {stdout}");
+        }
+    }
+}
+
+/// Every command's `--help` has one layout, and each `--format` value says what it prints:
+/// `render`'s values had no descriptions, so clap printed its help in the compact layout
+/// while every other command's was long (from an end-to-end review).
+#[test]
+fn every_format_value_is_described_in_help() {
+    for command in [
+        "check",
+        "plan",
+        "explain",
+        "review",
+        "syslibs",
+        "imageplan",
+        "render",
+        "diff",
+    ] {
+        let (code, help, stderr) = run_basefit([command, "--help"]);
+        assert_eq!(code, 0, "{command}: {stderr}");
+        let formats = help
+            .split_once("--format <FORMAT>")
+            .unwrap_or_else(|| panic!("{command}: {help}"))
+            .1;
+        assert!(formats.contains("Possible values:"), "{command}: {help}");
+        assert!(formats.contains("- json: "), "{command}: {help}");
+    }
+}

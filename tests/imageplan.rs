@@ -1448,3 +1448,26 @@ fn zero_weights_leave_no_runtime_open() {
     assert_eq!(c.target_unknown_at, Vec::<String>::new());
     assert_eq!(c.oldest_reaching_target, None);
 }
+
+/// The text report ends with the notice, once, after the pre-install manifests that readers
+/// copy into an image build: it stood between the system packages and the manifests (from
+/// an end-to-end review).
+#[test]
+fn the_text_report_ends_with_the_notice() {
+    let notice = basefit::plan::matrix::NOTICE;
+    for extra in [&[][..], &["--no-native"][..]] {
+        let (code, stdout, stderr) = common::run_basefit(
+            ["imageplan", "--quiet"]
+                .into_iter()
+                .chain(common::DEMO)
+                .chain(extra.iter().copied()),
+        );
+        assert!(code <= 1, "{stderr}");
+        assert!(stdout.trim_end().ends_with(notice), "{extra:?}: {stdout}");
+        assert_eq!(stdout.matches(notice).count(), 1, "{extra:?}: {stdout}");
+        let manifest = stdout
+            .find("Pre-install set of")
+            .unwrap_or_else(|| panic!("{stdout}"));
+        assert!(manifest < stdout.find(notice).unwrap(), "{stdout}");
+    }
+}

@@ -23,6 +23,7 @@ use std::path::{Path, PathBuf};
 pub enum Format {
     /// A readable table.
     Table,
+    /// One JSON document.
     Json,
     /// The JSON document's content as YAML, every string quoted.
     Yaml,
@@ -31,10 +32,15 @@ pub enum Format {
 /// What `render` prints to stdout: the matrix in one of the formats it writes with `--out`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum MatrixFormat {
+    /// A Markdown table with numbered notes.
     Markdown,
+    /// One self-contained HTML page.
     Html,
+    /// One row per cell.
     Csv,
+    /// The matrix document, as `plan --out` writes it.
     Json,
+    /// The matrix document as YAML.
     Yaml,
 }
 

@@ -952,6 +952,14 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
 
 /// The system-package report for people.
 pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
+    let mut out = system_body(r);
+    let _ = writeln!(out, "\n{NOTICE}");
+    out
+}
+
+/// [`system_text`] without the closing notice, for a report that goes on after it
+/// (`imageplan` ends with its pre-install manifests, and the notice belongs after those).
+pub fn system_body(r: &crate::plan::system::SystemReport) -> String {
     let mut out = String::new();
     out.push_str(
         "native evidence per package (the newest release chosen on any image; an image that chooses an older one may see other evidence):\n",
@@ -1128,7 +1136,6 @@ pub fn system_text(r: &crate::plan::system::SystemReport) -> String {
             let _ = writeln!(out, "  {}: {}", f.family, f.command);
         }
     }
-    let _ = writeln!(out, "\n{NOTICE}");
     out
 }
 
