@@ -1991,3 +1991,133 @@ fn a_partly_refused_dependency_is_no_blocker_of_a_conflict() {
         cell.explanation
     );
 }
+
+/// One release that needs two requirements of one package that no published version meets
+/// together says "all of them", not "any of them": the requirements are one release's pair,
+/// not alternatives (`requirement_text`; README, "What the outcomes mean": a requirement pair
+/// with no version in common is a dependency conflict). Mutation review: the "all" branch
+/// could be dropped unseen.
+#[test]
+fn one_releases_unmeetable_requirement_pair_says_all_of_them() {
+    let registry = r#"packages:
+  - name: bittern
+    versions: [{version: "1.0.0"}, {version: "2.0.0"}]
+  - name: r-pair
+    versions: [{version: "1.0.0", depends: [{name: bittern, req: "^1"}, {name: bittern, req: "^2"}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [r-pair]\n");
+    let cell = explain(&inputs, "r-pair", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict));
+    assert!(
+        cell.explanation.iter().any(|l| l
+            == "r-pair 1.0.0 depends on bittern ^1 and ^2 (no published version meets all of them)"),
+        "{:?}",
+        cell.explanation
+    );
+}
+
+/// A set of releases reads as its runs of consecutive releases, all of them up to four, and
+/// past four the first three and how many more (`sets::describe`). Mutation review: the limit
+/// could move by one unseen.
+#[test]
+fn a_set_of_releases_reads_as_up_to_four_runs() {
+    let registry = r#"packages:
+  - name: skua
+    versions:
+      - {version: "1.0.0", runtime: ">=4"}
+      - {version: "1.1.0", runtime: ">=4"}
+      - {version: "1.2.0", runtime: ">=4"}
+      - {version: "1.3.0", runtime: ">=4"}
+      - {version: "1.4.0", runtime: ">=4"}
+      - {version: "1.5.0", runtime: ">=4"}
+      - {version: "1.6.0", runtime: ">=4"}
+      - {version: "1.7.0", runtime: ">=4"}
+      - {version: "1.8.0", runtime: ">=4"}
+"#;
+    let first_line = |req: &str| {
+        let prio = format!("priorities:\n  - {{name: skua, req: \"{req}\"}}\n");
+        let inputs = inputs(registry, &prio);
+        let cell = explain(&inputs, "skua", "deb", &PlanOptions::default())
+            .unwrap()
+            .cell;
+        assert_eq!(cell.cause, Some(Cause::RuntimeTooOld), "{req}");
+        cell.explanation[0].clone()
+    };
+    assert_eq!(
+        first_line("=1.0.0 || =1.2.0 || =1.4.0 || >=1.6.0, <1.8.0"),
+        "the entry asks for skua =1.0.0 || =1.2.0 || =1.4.0 || >=1.6.0, <1.8.0 (1.0.0, 1.2.0, \
+         1.4.0, 1.6.0 to 1.7.0)"
+    );
+    assert_eq!(
+        first_line("=1.0.0 || =1.2.0 || =1.4.0 || =1.6.0 || =1.8.0"),
+        "the entry asks for skua =1.0.0 || =1.2.0 || =1.4.0 || =1.6.0 || =1.8.0 (1.0.0, 1.2.0, \
+         1.4.0, and 2 more runs)"
+    );
+}
+
+/// A yanked release is never chosen, on any image (README, "What the outcomes mean": "yanked
+/// releases are never chosen"), so a package whose one release is yanked fails as having only
+/// yanked versions even where that release also needs a newer runtime: "runtime-too-old" would
+/// send the reader to a newer image that cannot install it either. Mutation review: a yank
+/// read only on releases that suit the image went unseen.
+#[test]
+fn a_yanked_release_the_runtime_also_refuses_reads_as_yanked() {
+    let registry = r#"packages:
+  - name: gannet
+    versions: [{version: "1.0.0", runtime: ">=4", yanked: true}]
+"#;
+    let inputs = inputs(registry, "priorities: [gannet]\n");
+    let cell = explain(&inputs, "gannet", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::OnlyYankedOrPrerelease), "{cell:?}");
+}
+
+/// A release that needs a newer runtime and has a prebuilt build for another platform only is
+/// judged by its runtime first (`image::fit_with`; the explanation's "a runtime is judged
+/// first"), so the cell reads runtime-too-old, not no-build-for-platform. Mutation review: the
+/// order of the two checks could be swapped unseen.
+#[test]
+fn a_release_refused_by_runtime_and_platform_is_judged_by_its_runtime_first() {
+    let registry = r#"packages:
+  - name: shag
+    versions: [{version: "1.0.0", runtime: ">=4", builds: {prebuilt: [linux/musl/x86_64]}}]
+"#;
+    let inputs = inputs(registry, "priorities: [shag]\n");
+    let cell = explain(&inputs, "shag", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::RuntimeTooOld), "{cell:?}");
+}
+
+/// A dependency whose one release has both a runtime requirement no runtime meets and no
+/// build for any platform is blocked the way its explanation line reads: the runtime is judged
+/// first there (`explain::unusable`), so the blocker says "needs a runtime no version can be"
+/// too, not "has no build for any platform" (README, "What the outcomes mean": the blockers go
+/// with the cause). Mutation review: the order of the two labels could be swapped unseen.
+#[test]
+fn a_blocker_impossible_both_ways_reads_as_its_explanation_line() {
+    let registry = r#"packages:
+  - name: moa
+    versions: [{version: "1.0.0", runtime: "<0.0.0", builds: {source: false}}]
+  - name: kea
+    versions: [{version: "0.1.0", depends: [{name: moa}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [kea]\n");
+    let cell = explain(&inputs, "kea", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    let lines = cell.explanation.join("\n");
+    assert!(
+        lines.contains("needs a runtime no version can be"),
+        "{lines}"
+    );
+    let blockers: Vec<(&str, &str)> = cell
+        .blockers
+        .iter()
+        .map(|b| (b.package.as_str(), b.reason.as_str()))
+        .collect();
+    assert_eq!(blockers, [("moa", "moa needs a runtime no version can be")]);
+}
