@@ -2121,3 +2121,40 @@ fn a_blocker_impossible_both_ways_reads_as_its_explanation_line() {
         .collect();
     assert_eq!(blockers, [("moa", "moa needs a runtime no version can be")]);
 }
+
+/// Two dependencies asking for versions of one package that do not overlap are named as the
+/// conflict, and the package they disagree on is a blocker that says who asks (README, "What
+/// the outcomes mean": (4) conflicting requirements). Mutation review: a conflict between
+/// exactly two went unnamed unseen.
+#[test]
+fn a_conflict_between_two_dependents_is_named_with_its_blocker() {
+    let registry = r#"packages:
+  - name: petrel
+    versions: [{version: "1.0.0"}, {version: "2.0.0"}]
+  - name: fulmar
+    versions: [{version: "1.0.0", depends: [{name: petrel, req: "^1"}]}]
+  - name: prion
+    versions: [{version: "1.0.0", depends: [{name: petrel, req: "^2"}]}]
+  - name: albatross
+    versions: [{version: "1.0.0", depends: [{name: fulmar}, {name: prion}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [albatross]\n");
+    let cell = explain(&inputs, "albatross", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict));
+    assert!(
+        cell.explanation
+            .iter()
+            .any(|l| l.ends_with("need versions of petrel that do not overlap")),
+        "{:?}",
+        cell.explanation
+    );
+    assert!(
+        cell.blockers.iter().any(|b| b.package == "petrel"
+            && b.reason
+                .starts_with("conflicting requirements on petrel (from ")),
+        "{:?}",
+        cell.blockers
+    );
+}
