@@ -1259,3 +1259,86 @@ fn the_demo_registry_fingerprint_is_pinned_to_its_format() {
     assert_eq!(fingerprint, "r2-a6138e593df7de12");
     assert!(fingerprint.starts_with(basefit::plan::replan::REGISTRY_FINGERPRINT_FORMAT));
 }
+
+/// app needs lib `*`; the image runs 3.0.0. lib 3.0.0 is yanked (refused while suiting),
+/// 2.0.0 needs runtime `>=4` (passed over for not suiting), so 1.0.0 is picked. When 2.0.0
+/// asks for `>=3` instead, a cold solve picks it: the cached cell must not be reused on the
+/// strength of 1.0.0 and 3.0.0 answering as before (the passed-over release must still not
+/// suit). Each release has its own runtime requirement, so no two look alike before or
+/// after and the ceiling (3.0.0) stays: only that check sees the change.
+#[test]
+fn a_passed_over_release_that_comes_to_suit_the_image_is_solved_again() {
+    let registry = |two: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '*'}}]}}
+- name: lib
+  versions:
+  - {{version: 1.0.0, runtime: '>=1'}}
+  - {{version: 2.0.0, runtime: '{two}'}}
+  - {{version: 3.0.0, yanked: true, runtime: '>=2'}}
+"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(">=4"),
+        &registry(">=3"),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    let lib = cold.matrix.cells[0]
+        .closure
+        .iter()
+        .find(|p| p.name == "lib");
+    assert_eq!(
+        lib.map(|p| p.version.as_str()),
+        Some("2.0.0"),
+        "{:?}",
+        cold.matrix.cells[0]
+    );
+    assert_eq!(stats.solved, 1);
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+    assert!(
+        cache_json(&warm) == cache_json(&cold),
+        "warm cache differs from cold"
+    );
+}
+
+/// lib 2.0.0 is yanked but suits the image, so the solve records it as refused while
+/// suiting. It then gains a runtime requirement the image does not meet, still yanked: a
+/// cold solve records it as not suiting (which also changes candidate counts, as a release
+/// the image can never use does not count), so the cell must be solved again and the warm
+/// cache equal the cold one. No release looks like its neighbours before or after (each
+/// has its own runtime requirement), so only the check that refused releases still suit
+/// the image sees the change.
+#[test]
+fn a_refused_release_that_stops_suiting_among_unlike_neighbours_is_solved_again() {
+    let registry = |two: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '*'}}]}}
+- name: lib
+  versions:
+  - {{version: 1.0.0, runtime: '>=1'}}
+  - {{version: 2.0.0, yanked: true{two}}}
+  - {{version: 3.0.0, yanked: true, runtime: '>=2'}}
+"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(""),
+        &registry(", runtime: '>=4'"),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    assert_eq!(stats.solved, 1, "{stats:?}");
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+    assert!(
+        cache_json(&warm) == cache_json(&cold),
+        "warm cache differs from cold"
+    );
+}
