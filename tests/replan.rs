@@ -1342,3 +1342,32 @@ fn a_refused_release_that_stops_suiting_among_unlike_neighbours_is_solved_again(
         "warm cache differs from cold"
     );
 }
+
+/// A package's summary is read by the native step (a catalog library it mentions is a
+/// possible need), so a package whose own fields changed is not one whose listing stayed the
+/// same: its cells are solved again even though every release answers as before, and the
+/// warm plan names the need the cold one does.
+#[test]
+fn a_changed_summary_is_read_again_by_the_native_step() {
+    let registry = |summary: &str| {
+        format!(
+            "packages:\n- name: parser\n  summary: {summary}\n  versions: [{{version: 1.0.0}}]\n"
+        )
+    };
+    let before = registry("draws thumbnails of its trees");
+    let after = registry("draws libpng thumbnails of its trees");
+    let options = PlanOptions::default();
+    let (warm, stats, cold) = warm_and_cold(&before, &after, &["parser"], &options);
+    let first = plan(&small_inputs(&before, &["parser"]), &options);
+    assert!(
+        to_json(&cold.matrix) != to_json(&first),
+        "the summary must matter: {:?}",
+        cold.matrix.cells[0]
+    );
+    assert_eq!(stats.solved, 1, "{stats:?}");
+    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
+    assert!(
+        cache_json(&warm) == cache_json(&cold),
+        "warm cache differs from cold"
+    );
+}
