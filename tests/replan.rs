@@ -1371,3 +1371,41 @@ fn a_changed_summary_is_read_again_by_the_native_step() {
         "warm cache differs from cold"
     );
 }
+
+/// A look-alike stands in for the old newest release only when it is published just after
+/// it. Here `*` admits lib 1.0.0 but not 2.0.0-rc.1 (a pre-release, Semantic Versioning
+/// 2.0.0 section 9, which the semver crate's `*` leaves out), and lib 2.0.0, published
+/// after both and declaring what 1.0.0 does, lies in exactly the sets 1.0.0 lies in. It does
+/// not sit next to 1.0.0, so the cell is solved again: a cold solve picks 2.0.0, and a kept
+/// cell would name the release after 1.0.0 (the pre-release) in its place.
+#[test]
+fn a_look_alike_that_is_not_next_to_the_release_it_matches_is_solved_again() {
+    let registry = |extra: &str| {
+        format!(
+            "packages:
+- name: app
+  versions:
+  - {{version: 1.0.0, depends: [{{name: lib, req: '*'}}]}}
+- name: lib
+  versions:
+  - {{version: 1.0.0}}
+  - {{version: 2.0.0-rc.1}}
+{extra}"
+        )
+    };
+    let (warm, stats, cold) = warm_and_cold(
+        &registry(""),
+        &registry("  - {version: 2.0.0}\n"),
+        &["app"],
+        &PlanOptions::default(),
+    );
+    let lib = cold.matrix.cells[0].closure.iter().find(|p| p.name == "lib");
+    assert_eq!(lib.map(|p| p.version.as_str()), Some("2.0.0"));
+    assert_eq!(stats.solved, 1, "{stats:?}");
+    assert!(
+        to_json(&warm.matrix) == to_json(&cold.matrix),
+        "{:?}",
+        warm.matrix.cells[0]
+    );
+    assert!(cache_json(&warm) == cache_json(&cold), "warm cache differs from cold");
+}
