@@ -1399,7 +1399,10 @@ fn a_look_alike_that_is_not_next_to_the_release_it_matches_is_solved_again() {
         &["app"],
         &PlanOptions::default(),
     );
-    let lib = cold.matrix.cells[0].closure.iter().find(|p| p.name == "lib");
+    let lib = cold.matrix.cells[0]
+        .closure
+        .iter()
+        .find(|p| p.name == "lib");
     assert_eq!(lib.map(|p| p.version.as_str()), Some("2.0.0"));
     assert_eq!(stats.solved, 1, "{stats:?}");
     assert!(
@@ -1407,5 +1410,41 @@ fn a_look_alike_that_is_not_next_to_the_release_it_matches_is_solved_again() {
         "{:?}",
         warm.matrix.cells[0]
     );
-    assert!(cache_json(&warm) == cache_json(&cold), "warm cache differs from cold");
+    assert!(
+        cache_json(&warm) == cache_json(&cold),
+        "warm cache differs from cold"
+    );
+}
+
+/// A cell is found again by its package and image, but a priority entry that now pins the
+/// package (`lib ^1` where it named `lib` alone) or lets pre-releases in asks another
+/// question of the same registry: the cell is solved again and reads as a cold plan's.
+#[test]
+fn a_priority_entry_whose_requirement_changed_is_solved_again() {
+    let text = "packages:\n- name: lib\n  versions: [{version: 1.0.0}, {version: 2.0.0}, {version: 3.0.0-rc.1}]\n";
+    let options = PlanOptions::default();
+    let before = small_inputs(text, &["lib"]);
+    let (cache, _) = replan(&before, &options, None, None);
+    assert_eq!(cache.matrix.cells[0].root_version.as_deref(), Some("2.0.0"));
+    let pinned = {
+        let mut inputs = small_inputs(text, &["lib"]);
+        inputs.priorities.entries[0].req = Some(basefit::model::Requirement::parse("^1").unwrap());
+        inputs
+    };
+    let prerelease = {
+        let mut inputs = small_inputs(text, &["lib"]);
+        inputs.priorities.entries[0].prerelease = true;
+        inputs
+    };
+    for (after, expected) in [(pinned, "1.0.0"), (prerelease, "3.0.0-rc.1")] {
+        let (cold, _) = replan(&after, &options, None, None);
+        assert_eq!(cold.matrix.cells[0].root_version.as_deref(), Some(expected));
+        let (warm, stats) = replan(&after, &options, Some(cache.clone()), None);
+        assert_eq!(stats.solved, 1, "{expected}: {stats:?}");
+        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{expected}");
+        assert!(
+            cache_json(&warm) == cache_json(&cold),
+            "{expected}: warm cache differs"
+        );
+    }
 }
