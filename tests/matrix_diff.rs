@@ -240,3 +240,35 @@ fn a_native_failure_lists_its_dependency_changes() {
         )]
     );
 }
+
+/// The text names what changed in a cell whose outcome and version stayed: its recorded
+/// result, the system packages it lacks. The line read "alpha on deb: installs 1.0.0" with
+/// nothing to show what moved (from an end-to-end review).
+#[test]
+fn the_text_names_a_changed_recorded_result_and_missing_packages() {
+    let mut before = planned("priorities:\n  - alpha\n  - beta\n");
+    let mut after = before.clone();
+    after.cells[0].recorded = Some(RecordedCheck {
+        recorded: "installed".into(),
+        verdict: "agreed-install".into(),
+        version: None,
+        detail: String::new(),
+        attempts: 1,
+        cause_agrees: None,
+    });
+    before.cells[1].missing_system_packages = vec!["libxml2-dev".into()];
+    let d = diff(&before, &after, |_| String::new());
+    let text = basefit::report::text::diff_text(&d);
+    assert!(
+        text.contains(
+            "alpha on deb: installs 1.0.0 [no recorded install] -> installs 1.0.0 [recorded installed]"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains(
+            "beta on deb: installs 1.0.0 [lacks libxml2-dev] -> installs 1.0.0 [lacks no system package]"
+        ),
+        "{text}"
+    );
+}

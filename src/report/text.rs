@@ -922,6 +922,31 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
                 }
             }
         }
+        // The rest of a brief is named where it differs: a cell whose outcome stayed would
+        // otherwise be listed as changed with nothing to show for it.
+        let lacks = |b: &Option<crate::verify::diff::CellBrief>| {
+            b.as_ref().map(|b| b.missing_system_packages.clone())
+        };
+        if c.before.is_some() && c.after.is_some() && lacks(&c.before) != lacks(&c.after) {
+            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
+                let missing = lacks(side).unwrap_or_default();
+                text.push_str(&match missing.is_empty() {
+                    true => " [lacks no system package]".to_string(),
+                    false => format!(" [lacks {}]", missing.join(" ")),
+                });
+            }
+        }
+        let recorded = |b: &Option<crate::verify::diff::CellBrief>| {
+            b.as_ref().and_then(|b| b.recorded.clone())
+        };
+        if c.before.is_some() && c.after.is_some() && recorded(&c.before) != recorded(&c.after) {
+            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
+                text.push_str(&match recorded(side) {
+                    Some(r) => format!(" [recorded {r}]"),
+                    None => " [no recorded install]".to_string(),
+                });
+            }
+        }
         let _ = match before == after {
             true => writeln!(out, "  {} on {}: {after}", c.package, c.image),
             false => writeln!(out, "  {} on {}: {before} -> {after}", c.package, c.image),
