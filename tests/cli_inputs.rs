@@ -2055,10 +2055,12 @@ fn a_result_for_an_undeclared_dependency_name_is_noted() {
 }
 
 /// A priority entry left out (a negative weight) does not make a later, valid entry of the
-/// same name a duplicate; and CSV rows without a rank come after the ranked ones.
+/// same name a duplicate; and CSV rows without a rank come after the ranked ones, each noted
+/// at its line (it moved without a word; from an end-to-end review), while a list with no
+/// ranks at all keeps file order without a note.
 #[test]
 fn left_out_and_unranked_priority_entries_keep_their_place() {
-    use basefit::load::diag::Ledger;
+    use basefit::load::diag::{Ledger, ProblemKind};
     let mut ledger = Ledger::default();
     let list = basefit::load::priorities::read_priorities_str(
         "p.yaml",
@@ -2075,9 +2077,24 @@ fn left_out_and_unranked_priority_entries_keep_their_place() {
 
     let d = dir();
     let path = write(d.path(), "p.csv", b"rank,name\n,beta\n1,alpha\n");
-    let list = basefit::load::priorities::read_priorities(&path, &mut Ledger::default()).unwrap();
+    let mut ledger = Ledger::default();
+    let list = basefit::load::priorities::read_priorities(&path, &mut ledger).unwrap();
     let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
     assert_eq!(names, ["alpha", "beta"]);
+    let noted: Vec<(ProblemKind, usize, &str, bool)> = ledger
+        .problems
+        .iter()
+        .map(|p| (p.kind, p.origin.line, p.subject.as_str(), p.left_out))
+        .collect();
+    assert_eq!(noted, [(ProblemKind::UnrankedEntry, 2, "beta", false)]);
+    assert!(ledger.unbalanced().is_empty());
+
+    let path = write(d.path(), "q.csv", b"rank,name\n,beta\n,alpha\n");
+    let mut ledger = Ledger::default();
+    let list = basefit::load::priorities::read_priorities(&path, &mut ledger).unwrap();
+    let names: Vec<&str> = list.entries.iter().map(|e| e.name.as_str()).collect();
+    assert_eq!(names, ["beta", "alpha"]);
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
 }
 
 /// `check` on a priorities file beside a good registry and images: (exit code, stdout, stderr).

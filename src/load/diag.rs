@@ -533,6 +533,9 @@ pub enum ProblemKind {
     OrphanDependency,
     /// A priority list whose every weight is zero: shares of weight are undefined; used.
     AllWeightsZero,
+    /// A priority CSV row with an empty rank among ranked rows: its place is unknown; used,
+    /// after every ranked row.
+    UnrankedEntry,
 }
 
 impl ProblemKind {
@@ -584,6 +587,9 @@ impl ProblemKind {
             }
             ProblemKind::AllWeightsZero => {
                 "priority lists whose weights are all zero (shares of weight not computed)"
+            }
+            ProblemKind::UnrankedEntry => {
+                "priority rows with no rank among ranked rows (placed after every ranked row)"
             }
         }
     }

@@ -25,6 +25,8 @@ struct RawEntry {
     weight: Option<At<f64>>,
     req: Option<At<String>>,
     prerelease: bool,
+    /// A CSV row with no rank in a list whose other rows have one: its place is unknown.
+    unranked: bool,
 }
 
 /// Reads a priority list; `.csv` files are read as CSV, anything else as YAML.
@@ -71,6 +73,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
                 weight: None,
                 req: None,
                 prerelease: false,
+                unranked: false,
             });
         }
         let m = ctx.map(node, "priority entry", ENTRY_FIELDS)?;
@@ -85,6 +88,7 @@ fn read_yaml(file: &str, text: &str) -> Result<Vec<RawEntry>, BadInput> {
                 .opt_text_at("req")?
                 .map(|r| At::new(r.value.to_owned(), r.line)),
             prerelease: m.opt_bool("prerelease")?.unwrap_or(false),
+            unranked: false,
         })
     })
 }
@@ -148,6 +152,7 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
                 weight: number(c_weight, "weight")?.map(|w| At::new(w, row.line)),
                 req: row.get(c_req).map(|r| At::new(r.to_owned(), row.line)),
                 prerelease,
+                unranked: false,
             })
         })();
         out.extend(errors.keep(entry));
@@ -160,8 +165,13 @@ fn read_csv(path: &Path) -> Result<Vec<RawEntry>, BadInput> {
             "no priority entries after the header",
         ));
     }
-    // An explicit rank column orders the list; rows keep file order among equal ranks.
+    // An explicit rank column orders the list; rows keep file order among equal ranks. A row
+    // without a rank among ranked ones has no known place: it goes last, with a note, since
+    // the order decides which entries a pre-install set keeps.
     if out.iter().any(|e| e.rank.is_some()) {
+        for e in out.iter_mut() {
+            e.unranked = e.rank.is_none();
+        }
         out.sort_by(|a, b| {
             let ra = a.rank.unwrap_or(f64::INFINITY);
             let rb = b.rank.unwrap_or(f64::INFINITY);
@@ -255,6 +265,15 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
                 "the weights up to this entry add up to more than 1.7e308, the largest number \
                  basefit can hold; the weights of a priority list must add up to a finite number",
             ));
+        }
+        if e.unranked {
+            ledger.note(
+                ProblemKind::UnrankedEntry,
+                origin.clone(),
+                &e.name,
+                "`rank` is empty where other rows have one: placed after every ranked row \
+                 (give it a rank to place it)",
+            );
         }
         seen.insert(e.name.clone(), e.line);
         ledger.used(RecordKind::Priority);
