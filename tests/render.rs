@@ -1153,3 +1153,44 @@ fn csv_records_end_with_a_line_feed_alone() {
     assert_eq!(text.lines().count(), m.cells.len() + 1);
     assert!(text.ends_with("\n"));
 }
+
+/// A command the advice quotes between backticks is a code span in the Markdown notes, shown
+/// as written; the text around it is escaped as before, and in a text with a backtick
+/// without a partner (one in a name) every backtick stays escaped text. Checked with comrak, a general-purpose GitHub-flavoured
+/// Markdown library. The backticks were escaped, so the page showed them as text around a
+/// command that did not read as one (from an end-to-end review).
+#[test]
+fn quoted_commands_in_notes_are_code_spans() {
+    let mut m: basefit::plan::Matrix =
+        serde_json::from_str(&std::fs::read_to_string("tests/data/demo-matrix.json").unwrap())
+            .unwrap();
+    let failing = m
+        .cells
+        .iter()
+        .position(|c| c.outcome == basefit::plan::matrix::Outcome::Fails)
+        .unwrap();
+    let (package, image) = (
+        m.cells[failing].package.clone(),
+        m.cells[failing].image.clone(),
+    );
+    m.cells[failing].explanation =
+        vec![format!("see `basefit explain {package} {image}` for <why>")];
+    let other = m
+        .cells
+        .iter()
+        .rposition(|c| c.outcome == basefit::plan::matrix::Outcome::Fails && c.package != package)
+        .unwrap();
+    m.cells[other].explanation = vec!["a`b and `c` stay text".to_string()];
+    let md = markdown(&m);
+    let mut options = comrak::Options::default();
+    options.extension.table = true;
+    options.extension.autolink = true;
+    let html = comrak::markdown_to_html(&md, &options);
+    assert!(
+        html.contains(&format!("<code>basefit explain {package} {image}</code>")),
+        "{html}"
+    );
+    assert!(html.contains("for &lt;why&gt;"), "{html}");
+    assert!(html.contains("a`b and `c` stay text"), "{html}");
+    assert!(!html.contains("<why>"), "{html}");
+}

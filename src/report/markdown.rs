@@ -71,6 +71,42 @@ pub fn escape_markdown(s: &str) -> String {
     out
 }
 
+/// [`escape_markdown`], except that text between a pair of backticks (a command basefit's
+/// advice quotes, `` `basefit explain saltbush deb-2.4` ``) becomes a code span, whose
+/// content Markdown shows as written: escaped, the backticks showed as text and the command
+/// did not read as one. Only where every backtick has a partner and no span is empty; else
+/// everything is escaped.
+///
+/// ```
+/// use basefit::report::markdown::escape_markdown_code;
+/// assert_eq!(escape_markdown_code("run `basefit check` <now>"), "run `basefit check` \\<now\\>");
+/// assert_eq!(escape_markdown_code("a`b"), "a\\`b");
+/// ```
+pub fn escape_markdown_code(s: &str) -> String {
+    let line = one_line(s);
+    let parts: Vec<&str> = line.split('`').collect();
+    let paired = parts.len() % 2 == 1
+        && parts
+            .iter()
+            .skip(1)
+            .step_by(2)
+            .all(|code| !code.trim().is_empty());
+    if !paired {
+        return escape_markdown(&line);
+    }
+    let mut out = String::with_capacity(line.len() + 8);
+    for (i, part) in parts.iter().enumerate() {
+        if i % 2 == 1 {
+            out.push('`');
+            out.push_str(part);
+            out.push('`');
+        } else {
+            out.push_str(&escape_markdown(part));
+        }
+    }
+    out
+}
+
 /// One note under the table; cells of one package that fail the same way share it.
 struct Note {
     row: usize,
@@ -317,7 +353,7 @@ fn note_text(cell: &Cell) -> String {
     }
     let reason = layout::reason(cell);
     if !reason.is_empty() {
-        let _ = write!(text, " — {}", escape_markdown(&reason));
+        let _ = write!(text, " — {}", escape_markdown_code(&reason));
     }
     let unnamed: Vec<&str> = cell
         .missing_system_packages
@@ -353,7 +389,7 @@ fn note_text(cell: &Cell) -> String {
         }
         let detail = one_line(&rec.detail);
         if !detail.is_empty() {
-            let _ = write!(text, ": {}", escape_markdown(&detail));
+            let _ = write!(text, ": {}", escape_markdown_code(&detail));
         }
     }
     text
