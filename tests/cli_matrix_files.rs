@@ -1210,6 +1210,11 @@ fn a_review_comparing_nothing_names_the_cells_outside_the_matrix() {
             stderr.contains("results.yaml:4: dotterel on deb-3.2 is not in the matrix"),
             "{n}: {stderr}"
         );
+        // Three reasons are shown, never a fourth beside a count that leaves it out.
+        assert!(
+            !stderr.contains("whimbrel on deb-3.2 is not in the matrix"),
+            "{n}: {stderr}"
+        );
         match more {
             Some(more) => assert!(
                 stderr.contains(&format!("  {more} (`basefit check` lists them)")),
@@ -1421,6 +1426,30 @@ fn a_matrix_read_with_results_must_come_from_the_registry_given() {
     let (code, stdout, _) = run_basefit(["diff", &matrix, after.to_str().unwrap()]);
     assert_eq!(code, 0, "{stdout}");
     assert!(stdout.starts_with("the matrices agree\n"), "{stdout}");
+}
+
+/// `render` planning afresh records the registry snapshot in the matrix it writes, as `plan`
+/// does, so a later `review --matrix` of the rendered matrix.json refuses another snapshot
+/// (README: `plan`, `merge` and `render` write `registry_fingerprint`). From a mutation review
+/// of src/commands.rs, where rendering without the fingerprint went unnoticed.
+#[test]
+fn a_rendered_matrix_records_the_registry_it_was_planned_from() {
+    let dir = tempfile::tempdir().unwrap();
+    let planned = plan_into(&dir.path().join("plan"), None);
+    let planned: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(planned).unwrap()).unwrap();
+    let (code, stdout, stderr) = run_on_demo("render", &["--format", "json"]);
+    assert_eq!(code, 0, "{stderr}");
+    let rendered: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert!(
+        rendered["registry_fingerprint"].is_string(),
+        "{}",
+        rendered["registry_fingerprint"]
+    );
+    assert_eq!(
+        rendered["registry_fingerprint"],
+        planned["registry_fingerprint"]
+    );
 }
 
 /// Shards merged by `merge` give the bytes of one `plan` run's matrix.json, registry
