@@ -524,6 +524,26 @@ fn a_matrix_from_a_file_is_refused_with_images_it_was_not_planned_from() {
             "{command}: {err}"
         );
     }
+    // One image without the record: that image alone goes unchecked, and the note counts it
+    // (from a mutation review of src/commands.rs, where a note only for two or more survived).
+    let mut one_old: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    for image in one_old["images"].as_array_mut().unwrap() {
+        if image["id"] == "deb-3.2-slim" {
+            image.as_object_mut().unwrap().remove("packages");
+        }
+    }
+    let one_old_matrix = common::write(dir.path(), "one-old.json", one_old.to_string());
+    for command in ["review", "render"] {
+        let (code, _, err) = run_on(command, &repacked, &one_old_matrix);
+        assert_ne!(code, 2, "{command}: {err}");
+        assert!(
+            err.contains(
+                "records no system packages for 1 of its images (written by an older basefit)"
+            ),
+            "{command}: {err}"
+        );
+    }
     for command in ["review", "render"] {
         let (code, _, err) = run(command, &changed);
         assert_eq!(code, 2, "{command}: {err}");
@@ -2114,4 +2134,34 @@ fn an_at_risk_failure_that_shows_no_native_cause_is_not_a_confirmed_risk() {
         .find(|r| &r[col("package")] == "burrow-lite" && &r[col("image")] == "el9-3.0")
         .unwrap();
     assert_eq!(&row[col("mark")], "unsettled", "{stdout}");
+}
+
+/// `commands::review` called from the library with no results file is refused as having
+/// nothing to review, not as a comparison whose results were all left out (the binary cannot
+/// get there: `--results` is required and every results reader refuses a file holding none).
+/// From a mutation review of src/commands.rs, where dropping that refusal survived.
+#[test]
+fn a_review_with_no_recorded_result_says_there_is_nothing_to_review() {
+    let o = basefit::commands::ReviewCommand {
+        inputs: basefit::load::InputPaths {
+            registry: vec!["demo-data/registry.yaml".into()],
+            images: Some("matrices/demo-images.yaml".into()),
+            priorities: Some("demo-data/priorities.yaml".into()),
+            ..Default::default()
+        },
+        strict: false,
+        plan: basefit::plan::PlanOptions::default(),
+        matrix: None,
+        max_surprises: 0,
+        format: basefit::report::Format::Table,
+    };
+    let e = basefit::commands::review(&o).expect_err("a review of no result is refused");
+    let bad = e
+        .downcast_ref::<basefit::load::BadInput>()
+        .expect("an input error, exit 2");
+    let message = bad.to_string();
+    assert!(
+        message.contains("holds no recorded install result: nothing to review"),
+        "{message}"
+    );
 }
