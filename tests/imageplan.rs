@@ -1471,3 +1471,33 @@ fn the_text_report_ends_with_the_notice() {
         assert!(manifest < stdout.find(notice).unwrap(), "{stdout}");
     }
 }
+
+/// An image named twice with `--image` is planned once: one coverage, one system-package
+/// section and one pre-install set, the same document as naming it once (from a mutation
+/// review of src/commands.rs, where planning it twice survived).
+#[test]
+fn an_image_named_twice_is_planned_once() {
+    let run = |images: &[&str]| {
+        let mut args = vec!["imageplan", "--quiet", "--format", "json"];
+        for id in images {
+            args.extend(["--image", id]);
+        }
+        args.extend(common::DEMO);
+        let (code, stdout, stderr) = common::run_basefit(&args);
+        assert!(code < 2, "{stderr}");
+        stdout
+    };
+    let twice = run(&["deb-3.2", "deb-3.2"]);
+    let json: serde_json::Value = serde_json::from_str(&twice).unwrap();
+    assert_eq!(
+        json["preinstall"].as_array().map(Vec::len),
+        Some(1),
+        "{twice}"
+    );
+    assert_eq!(
+        json["system"]["images"].as_array().map(Vec::len),
+        Some(1),
+        "{twice}"
+    );
+    assert_eq!(twice, run(&["deb-3.2"]));
+}
