@@ -569,6 +569,9 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         )
         .into());
     }
+    if let Some(dir) = &o.out {
+        refuse_writing_over_inputs(&o.inputs, MATRIX_FILES.map(|name| dir.join(name)))?;
+    }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
     let mut out = Output::default();
@@ -842,6 +845,52 @@ fn written_over<'a>(
             .find(|name| crate::load::diag::same_file(input, &dir.join(name)))?;
         Some((input, *name))
     })
+}
+
+/// The input files of `paths`, each with the flag that names it.
+fn input_files(paths: &InputPaths) -> Vec<(&'static str, &std::path::Path)> {
+    let mut files: Vec<(&'static str, &std::path::Path)> = Vec::new();
+    files.extend(paths.registry.iter().map(|p| ("--registry", p.as_path())));
+    if let Some((versions, deps)) = &paths.bulk {
+        files.extend([("--bulk", versions.as_path()), ("--bulk", deps.as_path())]);
+    }
+    files.extend(paths.images.iter().map(|p| ("--images", p.as_path())));
+    files.extend(
+        paths
+            .priorities
+            .iter()
+            .map(|p| ("--priorities", p.as_path())),
+    );
+    files.extend(paths.results.iter().map(|p| ("--results", p.as_path())));
+    files.extend(paths.catalog.iter().map(|p| ("--catalog", p.as_path())));
+    files
+}
+
+/// Refuses a run that would write one of `outputs` (the files its `--out` writes) over an
+/// input it reads: the input would be replaced by the output (`plan --images out/matrix.yaml
+/// --out out` wrote the matrix over the images file, and exited 0).
+fn refuse_writing_over_inputs(
+    paths: &InputPaths,
+    outputs: impl IntoIterator<Item = std::path::PathBuf>,
+) -> Result<(), BadInput> {
+    let files = input_files(paths);
+    for output in outputs {
+        if let Some((flag, input)) = files
+            .iter()
+            .find(|(_, input)| crate::load::diag::same_file(input, &output))
+        {
+            return Err(BadInput::file(
+                "command line",
+                format!(
+                    "{flag} {} is the {} that --out {} would write: write into another folder",
+                    input.display(),
+                    output.file_name().unwrap_or_default().to_string_lossy(),
+                    output.parent().unwrap_or(&output).display()
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Writes `matrix.yaml` and `matrix.json` into `dir`.
@@ -1277,6 +1326,7 @@ pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
                 .expect("some number is free");
             files.push((dir.join(name), plan::coverage::coverage_svg(c).into_bytes()));
         }
+        refuse_writing_over_inputs(&o.inputs, files.iter().map(|(path, _)| path.clone()))?;
         report::write_all_atomic(&files)?;
         for (path, _) in &files {
             out.stderr.push(format!("wrote {}", path.display()));
@@ -1369,6 +1419,9 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
             ),
         )
         .into());
+    }
+    if let Some(dir) = &o.out {
+        refuse_writing_over_inputs(&o.inputs, RENDERED_FILES.map(|name| dir.join(name)))?;
     }
     let inputs = load(&o.inputs, o.strict)?;
     let mut out = Output::default();

@@ -1632,3 +1632,50 @@ fn every_format_value_is_described_in_help() {
         assert!(formats.contains("- json: "), "{command}: {help}");
     }
 }
+
+/// `--out` never writes over an input: `plan --images out/matrix.yaml --out out` replaced the
+/// images file with the matrix, and `render --results out/matrix.csv --out out` the recorded
+/// results with the rendered CSV, both exiting 0 (from a mutation review of the command
+/// layer). Each is refused (exit 2) naming the flag and the file, and the input is left as it
+/// was; `imageplan`'s charts are checked as well.
+#[test]
+fn out_never_writes_over_an_input() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().to_str().unwrap().to_string();
+    let images = std::fs::read_to_string("matrices/demo-images.yaml").unwrap();
+    let results = std::fs::read_to_string("demo-data/results.yaml").unwrap();
+    let cases: [(&str, &str, &str, &str); 4] = [
+        ("plan", "--images", "matrix.yaml", images.as_str()),
+        ("plan", "--images", "matrix.json", images.as_str()),
+        ("render", "--results", "matrix.csv", results.as_str()),
+        ("imageplan", "--images", "coverage.svg", images.as_str()),
+    ];
+    for (command, flag, name, content) in cases {
+        let input = common::write(dir.path(), name, content);
+        let input = input.to_str().unwrap().to_string();
+        let mut args: Vec<String> = vec![command.into(), "--quiet".into()];
+        args.extend(DEMO.map(String::from));
+        match flag {
+            "--images" => {
+                let at = args.iter().position(|a| a == "--images").unwrap();
+                args[at + 1] = input.clone();
+            }
+            _ => args.extend([flag.to_string(), input.clone()]),
+        }
+        args.extend(["--out".to_string(), out.clone()]);
+        let (code, _, stderr) = run_basefit(&args);
+        assert_eq!(code, 2, "{command} {flag} {name}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "{flag} {input} is the {name} that --out {out} would write"
+            )),
+            "{command}: {stderr}"
+        );
+        assert_eq!(
+            std::fs::read_to_string(&input).unwrap(),
+            content,
+            "{command}"
+        );
+        std::fs::remove_file(&input).unwrap();
+    }
+}
