@@ -623,6 +623,8 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
             stats.solved
         ));
     }
+    // Each shard's run notes them too: a shard is a plan of its own for whoever reads its log.
+    data_quality_note(&inputs, &mut out);
     if let Some(s) = o.shard {
         let (cells, total) = (
             matrix.cells.len(),
@@ -657,7 +659,6 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Format::Yaml => report::to_yaml(&document()),
         Format::Table => report::visible(&text::plan_text(&summary, &shared)).into_owned(),
     };
-    data_quality_note(&inputs, &mut out);
     Ok(out)
 }
 
@@ -931,12 +932,14 @@ pub fn explain(o: &ExplainCommand) -> Result<Output> {
         Planner::plans("explain").without_priorities(),
     )?;
     let e = plan::explain::explain(&inputs, &o.package, &o.image, &o.plan)?;
-    Ok(Output::report(
+    let mut out = Output::report(
         o.format,
         &e,
         report::text::explain_text,
         plan::explain::needs_attention(e.cell.outcome),
-    ))
+    );
+    data_quality_note(&inputs, &mut out);
+    Ok(out)
 }
 
 /// Reads a matrix written by `plan` (YAML when its name ends in `.yaml` or `.yml`, in any
@@ -1160,12 +1163,14 @@ pub fn system(o: &SystemCommand) -> Result<Output> {
         notice: plan::matrix::NOTICE.to_string(),
         report: &r,
     };
-    Ok(Output::report(
+    let mut out = Output::report(
         o.format,
         &noticed,
         |n| text::system_text(n.report),
         any_missing,
-    ))
+    );
+    data_quality_note(&inputs, &mut out);
+    Ok(out)
 }
 
 pub struct ImageplanCommand {
@@ -1302,8 +1307,9 @@ fn runtimes_merged_note(given: &[semver::Version], out: &mut Output) {
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
-    let p = build_imageplan(inputs, o)?;
     let mut out = Output::default();
+    data_quality_note(&inputs, &mut out);
+    let p = build_imageplan(inputs, o)?;
     runtimes_merged_note(&o.runtimes, &mut out);
     if let Some(dir) = &o.out {
         let mut files = vec![(dir.join("imageplan.yaml"), report::to_yaml(&p).into_bytes())];

@@ -1679,3 +1679,31 @@ fn out_never_writes_over_an_input() {
         std::fs::remove_file(&input).unwrap();
     }
 }
+
+/// Every command that plans from the inputs notes their data-quality problems on stderr, as
+/// `plan`, `review` and `render` did: a shard of a plan, `explain`, `syslibs` and `imageplan`
+/// said nothing (from a mutation review of the command layer). The demo registry has such
+/// problems (demo-data/STORIES.md).
+#[test]
+fn every_planning_command_notes_data_quality_problems() {
+    let dir = tempfile::tempdir().unwrap();
+    let shard_out = dir.path().to_str().unwrap();
+    let runs: [&[&str]; 7] = [
+        &["plan"],
+        &["plan", "--shard", "1/2", "--out", shard_out],
+        &["explain", "saltbush", "deb-2.4"],
+        &["syslibs"],
+        &["imageplan"],
+        &["review", "--results", "demo-data/results.yaml"],
+        &["render", "--format", "csv"],
+    ];
+    for run in runs {
+        let (code, _, stderr) = run_basefit(run.iter().copied().chain(["--quiet"]).chain(DEMO));
+        assert!(code <= 1, "{run:?}: {stderr}");
+        assert!(
+            stderr
+                .contains("data-quality problems in the inputs (run `basefit check` for the list)"),
+            "{run:?}: {stderr}"
+        );
+    }
+}
