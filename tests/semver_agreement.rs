@@ -775,3 +775,42 @@ fn prerelease_runtime_against_requirements_naming_its_release() {
         assert_eq!(runtime_verdict(&r, &rc1), want, "{req} on {rc1}");
     }
 }
+
+/// A pre-release comparator of another patch release does not make an alternative compare a
+/// pre-release runtime whole: README ("Runtime images": only an alternative that names a
+/// pre-release of that same version compares the runtime as the pre-release) and the semver
+/// crate's own condition for a pre-release to match at all (`VersionReq::matches` takes
+/// 3.2.1-rc.1 only from a comparator on 3.2.1 with a pre-release). So 3.2.1-rc.1 counts as
+/// 3.2.1, which `>=3.2.0-rc.1` admits.
+#[test]
+fn a_prerelease_comparator_of_another_patch_sees_the_runtime_as_its_release() {
+    let rc = Version::parse("3.2.1-rc.1").unwrap();
+    let text = ">=3.2.0-rc.1";
+    assert!(!VersionReq::parse(text).unwrap().matches(&rc));
+    assert!(
+        VersionReq::parse(text)
+            .unwrap()
+            .matches(&Version::new(3, 2, 1))
+    );
+    let req = Requirement::parse(text).unwrap();
+    assert_eq!(runtime_verdict(&req, &rc), Admission::Admissible);
+}
+
+/// A runtime equal to the lower bound of a requirement no version meets is refused for the
+/// bound it misses, the upper one: semver's `VersionReq::matches` takes 3.0.0 for `>=3.0` and
+/// not for `<2.0`, so the requirement's own bounds put every version it could hold below the
+/// runtime: too new, as README ("Runtime images") gives `<0.0.0` too new and `>=5, <4` too old.
+#[test]
+fn a_runtime_at_the_lower_bound_of_an_empty_requirement_is_too_new() {
+    let runtime = Version::new(3, 0, 0);
+    assert!(VersionReq::parse(">=3.0").unwrap().matches(&runtime));
+    assert!(!VersionReq::parse("<2.0").unwrap().matches(&runtime));
+    for text in [">=3.0, <2.0", ">=3.0.0, <2"] {
+        let req = Requirement::parse(text).unwrap();
+        assert_eq!(
+            runtime_verdict(&req, &runtime),
+            Admission::NeedsOlderRuntime,
+            "{text}"
+        );
+    }
+}
