@@ -2158,3 +2158,114 @@ fn a_conflict_between_two_dependents_is_named_with_its_blocker() {
         cell.blockers
     );
 }
+
+/// Every dependency that all of a failing run of releases cannot meet is named, not only the
+/// one the solver met first (README, "fails": "Every dependency that all of a failing run of
+/// releases cannot meet on the image ... is named"), also when the run holds more than one
+/// release. Both orders of listing give the same cause, by README's ranking (a runtime too old
+/// before one too new).
+#[test]
+fn a_run_of_several_releases_names_every_dependency_it_cannot_meet() {
+    let registry = r#"packages:
+  - name: wantsold
+    versions: [{version: "1.0.0", runtime: "<1"}]
+  - name: wantsnew
+    versions: [{version: "1.0.0", runtime: ">=9"}]
+  - name: pair-a
+    versions:
+      - {version: "1.0.0", depends: [{name: wantsold}, {name: wantsnew}]}
+      - {version: "1.1.0", depends: [{name: wantsold}, {name: wantsnew}]}
+  - name: pair-b
+    versions:
+      - {version: "1.0.0", depends: [{name: wantsnew}, {name: wantsold}]}
+      - {version: "1.1.0", depends: [{name: wantsnew}, {name: wantsold}]}
+"#;
+    let inputs = inputs(registry, "priorities: [pair-a, pair-b]\n");
+    let options = PlanOptions::default();
+    for name in ["pair-a", "pair-b"] {
+        let cell = explain(&inputs, name, "deb", &options).unwrap().cell;
+        let mut b: Vec<&str> = cell.blockers.iter().map(|b| b.package.as_str()).collect();
+        b.sort();
+        assert_eq!(
+            (cell.cause, b),
+            (Some(Cause::RuntimeTooOld), vec!["wantsnew", "wantsold"]),
+            "{name}: {:?}",
+            cell.explanation
+        );
+    }
+}
+
+/// A dependency whose wanted releases are refused in different ways takes the first cause of
+/// README's order for it ("fails" (5): `runtime-too-old`, `runtime-too-new`,
+/// `no-build-for-platform`, `only-yanked-or-prerelease`, in that order): a yanked release
+/// beside one built only for another platform gives `no-build-for-platform`.
+#[test]
+fn a_dependency_yanked_or_built_elsewhere_fails_for_its_platform() {
+    let registry = r#"packages:
+  - name: muslish
+    versions:
+      - {version: "1.0.0", yanked: true}
+      - {version: "1.1.0", builds: {prebuilt: [linux/musl/x86_64]}}
+  - name: app
+    versions: [{version: "1.0.0", depends: [{name: muslish}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [app]\n");
+    let cell = explain(&inputs, "app", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(
+        cell.cause,
+        Some(Cause::NoBuildForPlatform),
+        "{:?}",
+        cell.explanation
+    );
+}
+
+/// A requirement on a published package that none of its versions meets is a
+/// `dependency-conflict` (README, "fails"), also when one of its versions is yanked: only a
+/// package with nothing but yanked or pre-release versions reads "has only yanked or
+/// pre-release versions".
+#[test]
+fn a_requirement_no_version_meets_beside_a_yanked_release_is_a_conflict() {
+    let registry = r#"packages:
+  - name: dep
+    versions:
+      - {version: "1.0.0", yanked: true}
+      - {version: "2.0.0"}
+  - name: app
+    versions: [{version: "1.0.0", depends: [{name: dep, req: "^3"}]}]
+"#;
+    let inputs = inputs(registry, "priorities: [app]\n");
+    let cell = explain(&inputs, "app", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    let lines = cell.explanation.join("\n");
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{lines}");
+    assert!(
+        lines.contains("dep has no published version matching the requirement"),
+        "{lines}"
+    );
+    assert!(!lines.contains("only yanked"), "{lines}");
+}
+
+/// A package with one release names it by its version where its refusals are counted: a lone
+/// release is never "any version" (`sets::describe`, `sets::is_every_version`: "and it has
+/// more than one"), so the count "1 version" is not left to stand for the package.
+#[test]
+fn a_lone_refused_release_is_named_by_its_version() {
+    let registry = r#"packages:
+  - name: solo
+    versions: [{version: "1.0.0", runtime: ">=5"}]
+"#;
+    let inputs = inputs(registry, "priorities: [solo]\n");
+    let cell = explain(&inputs, "solo", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert!(
+        cell.explanation.iter().any(|l| l
+            == "no version of solo can be used here: 1.0.0: 1 version needs a newer runtime \
+                (>=5; the image has 3.1.5)"),
+        "{:?}",
+        cell.explanation
+    );
+}
