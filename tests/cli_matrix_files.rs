@@ -1295,6 +1295,57 @@ fn a_package_with_two_rows_is_refused_by_readers_and_by_merge() {
     );
 }
 
+/// An image with two columns is refused as a package with two rows is: cells are looked up by
+/// name, so `diff` would otherwise compare only one of the columns (`Matrix::check_names`:
+/// "every package has one row and every image one column").
+#[test]
+fn an_image_with_two_columns_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("whole"), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    let n = m["images"].as_array().unwrap().len();
+    let image = m["images"][0].clone();
+    let id = image["id"].as_str().unwrap().to_string();
+    let cells = m["cells"].as_array().unwrap().clone();
+    let mut doubled = Vec::new();
+    for row in cells.chunks(n) {
+        doubled.extend(row.iter().cloned());
+        doubled.push(row[0].clone());
+    }
+    m["images"].as_array_mut().unwrap().push(image);
+    m["cells"] = doubled.into();
+    let twice = common::write(dir.path(), "twice.json", serde_json::to_string(&m).unwrap());
+    let (code, _, stderr) = run_basefit(["diff", &matrix, twice.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!("twice.json: image `{id}` has two columns")),
+        "{stderr}"
+    );
+}
+
+/// Package rows whose weights are each finite but add up past the largest number are refused,
+/// as the priority list's loader refuses such a list (`the weights up to this entry add up to
+/// more than 1.7e308`; `Matrix::check_rows`): no share of an infinite total means anything.
+#[test]
+fn a_matrix_whose_weights_add_up_past_the_largest_number_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("whole"), None);
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    assert!(m["packages"].as_array().unwrap().len() >= 2);
+    m["packages"][0]["weight"] = 1e308.into();
+    m["packages"][1]["weight"] = 1e308.into();
+    let huge = common::write(dir.path(), "huge.json", serde_json::to_string(&m).unwrap());
+    let (code, _, stderr) = run_basefit(["diff", &matrix, huge.to_str().unwrap()]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr
+            .contains("huge.json: the package rows' weights add up to more than a number can hold"),
+        "{stderr}"
+    );
+}
+
 #[test]
 fn a_matrix_file_extension_is_read_in_any_case() {
     // Priority lists and results choose their reader by extension in any case; a matrix
