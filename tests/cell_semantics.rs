@@ -1937,6 +1937,13 @@ fn no_build_anywhere_outranks_the_runtime_and_mixed_impossible_releases_are_name
         [("emu", "emu has no release any image can install")],
         "{wren:?}"
     );
+    // The impossible runtime follows the other refused release, whose cause stays
+    // no-build-for-platform (README, "Runtime images"); it set the direction of the cause
+    // (runtime-too-new) instead (from a mutation review).
+    assert_eq!(wren.cell.cause, Some(Cause::NoBuildForPlatform), "{wren:?}");
+    let inputs = inputs_on(IMAGES, registry, "priorities: [emu]\n");
+    let emu = explain(&inputs, "emu", "deb", &options).unwrap();
+    assert_eq!(emu.cell.cause, Some(Cause::NoBuildForPlatform), "{emu:?}");
 }
 
 /// Under a conflict, a dependency whose newer line the image refuses is a step of the proof,

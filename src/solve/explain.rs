@@ -353,7 +353,9 @@ pub(crate) fn unusable(
     tally.retain(|_, idx| !idx.is_empty());
     let cause = if !tally.is_empty() {
         cause_of_refusals(&tally)
-    } else if impossible.is_empty() && !no_build.is_empty() {
+    } else if !no_build.is_empty() {
+        // Releases with no runtime possible follow the others (README, "Runtime images"),
+        // whose cause stays no-build-for-platform.
         Cause::NoBuildForPlatform
     } else {
         cause_of_refusals(&refusals(view, package, set))
