@@ -292,3 +292,45 @@ fn a_compiler_error_is_a_definite_failure_no_package_fixes() {
     assert_eq!(library.verdict, Verdict::AgreedFailure);
     assert_eq!(library.cause_agrees, None);
 }
+
+/// Every shared object a catalog library's Debian runtime package ships under the soname a
+/// loader looks for (and the file it names) maps back to that library, so a log missing it
+/// gets the library's packages as advice. A soname is not always `lib<link name>.so.N`:
+/// libyaml's is `libyaml-0.so.2` (link name `yaml`), and the log was called a library the
+/// catalog does not know (from an end-to-end review). Source: Debian's package archive,
+/// Debian 12 (bookworm), the `shared` rows of tests/data/debian-archive/extract.tsv (`dpkg -c`
+/// of the runtime packages, every `lib*.so.*` name resolving to the file a link name's
+/// `lib<name>.so` resolves to; see its README).
+#[test]
+fn every_debian_shared_object_of_a_catalog_library_maps_to_it() {
+    let extract = std::fs::read_to_string("tests/data/debian-archive/extract.tsv").unwrap();
+    let catalog = Catalog::builtin();
+    let mut checked = 0;
+    let mut wrong = Vec::new();
+    for line in extract.lines().skip(1) {
+        let cols: Vec<&str> = line.split('\t').collect();
+        let ["shared", file, package] = cols[..] else {
+            continue;
+        };
+        let cause = LogCause::MissingSharedObject {
+            soname: file.to_string(),
+        };
+        let found = library_of(&catalog, &cause);
+        let right = found.is_some_and(|lib| {
+            lib.families
+                .get(&OsFamily::Debian)
+                .is_some_and(|deb| deb.runtime.iter().any(|r| r == package))
+        });
+        if !right {
+            wrong.push(format!("{file} ({package}): {:?}", found.map(|l| &l.id)));
+        }
+        checked += 1;
+    }
+    assert!(
+        wrong.is_empty(),
+        "{} of {checked}:\n{}",
+        wrong.len(),
+        wrong.join("\n")
+    );
+    assert!(checked > 150, "only {checked} shared objects");
+}

@@ -351,7 +351,10 @@ pub fn library_of<'c>(
         LogCause::MissingLibrary { link } => catalog.by_link(link),
         LogCause::MissingPkgConfig { module } => catalog.by_pkg_config(module),
         LogCause::MissingSharedObject { soname } => {
-            catalog.by_link(logs::link_name_of_shared_object(soname)?)
+            let stem = logs::link_name_of_shared_object(soname)?;
+            catalog
+                .by_link(stem)
+                .or_else(|| catalog.by_link(logs::unversioned_stem(stem)?))
         }
         LogCause::NoCompiler { tool } => {
             catalog.by_declared_name(logs::catalog_compiler(tool)?.library)

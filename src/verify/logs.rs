@@ -720,6 +720,26 @@ pub fn link_name_of_shared_object(file: &str) -> Option<&str> {
     (!name.is_empty() && version_ok).then_some(name)
 }
 
+/// A shared object's stem without the version some libraries put in their file name
+/// (`yaml-0` of `libyaml-0.so.2`, `event_core-2.1` of `libevent_core-2.1.so.7`): their link
+/// name is the rest (`yaml`, `event_core`; Debian 12's archive, where each `lib<link>.so`
+/// resolves to such a file).
+///
+/// ```
+/// use basefit::verify::logs::unversioned_stem;
+/// assert_eq!(unversioned_stem("yaml-0"), Some("yaml"));
+/// assert_eq!(unversioned_stem("event_core-2.1"), Some("event_core"));
+/// assert_eq!(unversioned_stem("png16"), None);
+/// assert_eq!(unversioned_stem("glib-2.0x"), None);
+/// ```
+pub fn unversioned_stem(stem: &str) -> Option<&str> {
+    let (name, version) = stem.rsplit_once('-')?;
+    let numeric = version
+        .split('.')
+        .all(|n| !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()));
+    (!name.is_empty() && numeric).then_some(name)
+}
+
 fn missing_pkg_config(t: &str) -> Option<&str> {
     if let Some(p) = t.find(" was not found in the pkg-config search path")
         && let Some(q) = t[..p].rfind("Package ")

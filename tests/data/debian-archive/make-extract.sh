@@ -12,7 +12,8 @@
 # shared object the dev package's lib<name>.so resolves to (symlinks followed
 # through the dev package's same-source dependencies and the catalog's runtime
 # packages, also downloaded; linker scripts read), which is what a build linked
-# with -l<name> needs at run time.
+# with -l<name> needs at run time, and one `shared` row for every lib*.so.* name
+# that package ships resolving to that same file (the soname a loader looks for).
 #
 # How names are derived from a file list (amd64, multiarch x86_64-linux-gnu):
 #   header     a file under /usr/include, /usr/include/x86_64-linux-gnu or any
@@ -239,6 +240,15 @@ normalize() {   # an absolute path with . and .. taken out
   done
   printf '/%s' "${out[@]}"
 }
+resolve() {   # a path with its symlinks followed through the downloaded file lists
+  local p=$1 t
+  for _ in $(seq 30); do
+    [ "${ftype[$p]:-}" = l ] || break
+    t=${ftarget[$p]}
+    case "$t" in /*) p=$(normalize "$t") ;; *) p=$(normalize "${p%/*}/$t") ;; esac
+  done
+  printf '%s' "$p"
+}
 : > "$work/runtime.tsv"
 runtime_bad=0
 while IFS=$'\t' read -r kind name dev; do
@@ -284,6 +294,14 @@ while IFS=$'\t' read -r kind name dev; do
         echo "make-extract: lib$name.so resolves to $path in $dev itself" >&2; runtime_bad=1
       else
         printf 'runtime\t%s\t%s\n' "$name" "$pkg" >> "$work/runtime.tsv"
+        # Shared-object rows: every lib*.so.* name the runtime package ships that resolves
+        # to the same file, the soname a loader looks for among them.
+        for cand in $(awk -F'\t' -v pkg="$pkg" -v ma="$multiarch" '
+            $4 == pkg && $1 ~ ("^(/usr)?/lib/" ma "/(.*/)?lib[^/]+\\.so\\.[^/]*$") { print $1 }' "$work/files.tsv"); do
+          if [ "$(resolve "$cand")" = "$path" ]; then
+            printf 'shared\t%s\t%s\n' "${cand##*/}" "$pkg" >> "$work/runtime.tsv"
+          fi
+        done
       fi
     done
   done
