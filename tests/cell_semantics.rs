@@ -16,6 +16,15 @@ fn inputs(registry: &str, priorities: &str) -> Inputs {
     inputs_on(IMAGES, registry, priorities)
 }
 
+/// The cell of `package`, the one priority entry, planned from `registry` on [`IMAGES`]'s
+/// image.
+fn entry_cell(registry: &str, package: &str) -> basefit::plan::matrix::Cell {
+    let inputs = inputs(registry, &format!("priorities: [{package}]\n"));
+    explain(&inputs, package, "deb", &PlanOptions::default())
+        .unwrap()
+        .cell
+}
+
 fn inputs_on(images: &str, registry: &str, priorities: &str) -> Inputs {
     let dir = tempfile::tempdir().unwrap();
     std::fs::write(dir.path().join("r.yaml"), registry).unwrap();
@@ -163,10 +172,7 @@ fn blockers_of_a_cause_read_off_the_root_fail_the_same_way() {
   - name: bittern
     versions: [{version: "1.0.0"}]
 "#;
-    let inputs = inputs(registry, "priorities: [quarry]\n");
-    let cell = explain(&inputs, "quarry", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "quarry");
     assert_eq!(cell.cause, Some(Cause::RuntimeTooOld));
     assert!(cell.blockers.is_empty(), "{:?}", cell.blockers);
     assert!(
@@ -2012,10 +2018,7 @@ fn one_releases_unmeetable_requirement_pair_says_all_of_them() {
   - name: r-pair
     versions: [{version: "1.0.0", depends: [{name: bittern, req: "^1"}, {name: bittern, req: "^2"}]}]
 "#;
-    let inputs = inputs(registry, "priorities: [r-pair]\n");
-    let cell = explain(&inputs, "r-pair", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "r-pair");
     assert_eq!(cell.cause, Some(Cause::DependencyConflict));
     assert!(
         cell.explanation.iter().any(|l| l
@@ -2075,10 +2078,7 @@ fn a_yanked_release_the_runtime_also_refuses_reads_as_yanked() {
   - name: gannet
     versions: [{version: "1.0.0", runtime: ">=4", yanked: true}]
 "#;
-    let inputs = inputs(registry, "priorities: [gannet]\n");
-    let cell = explain(&inputs, "gannet", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "gannet");
     assert_eq!(cell.cause, Some(Cause::OnlyYankedOrPrerelease), "{cell:?}");
 }
 
@@ -2092,10 +2092,7 @@ fn a_release_refused_by_runtime_and_platform_is_judged_by_its_runtime_first() {
   - name: shag
     versions: [{version: "1.0.0", runtime: ">=4", builds: {prebuilt: [linux/musl/x86_64]}}]
 "#;
-    let inputs = inputs(registry, "priorities: [shag]\n");
-    let cell = explain(&inputs, "shag", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "shag");
     assert_eq!(cell.cause, Some(Cause::RuntimeTooOld), "{cell:?}");
 }
 
@@ -2112,10 +2109,7 @@ fn a_blocker_impossible_both_ways_reads_as_its_explanation_line() {
   - name: kea
     versions: [{version: "0.1.0", depends: [{name: moa}]}]
 "#;
-    let inputs = inputs(registry, "priorities: [kea]\n");
-    let cell = explain(&inputs, "kea", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "kea");
     let lines = cell.explanation.join("\n");
     assert!(
         lines.contains("needs a runtime no version can be"),
@@ -2145,10 +2139,7 @@ fn a_conflict_between_two_dependents_is_named_with_its_blocker() {
   - name: albatross
     versions: [{version: "1.0.0", depends: [{name: fulmar}, {name: prion}]}]
 "#;
-    let inputs = inputs(registry, "priorities: [albatross]\n");
-    let cell = explain(&inputs, "albatross", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "albatross");
     assert_eq!(cell.cause, Some(Cause::DependencyConflict));
     assert!(
         cell.explanation
@@ -2216,10 +2207,7 @@ fn a_dependency_yanked_or_built_elsewhere_fails_for_its_platform() {
   - name: app
     versions: [{version: "1.0.0", depends: [{name: muslish}]}]
 "#;
-    let inputs = inputs(registry, "priorities: [app]\n");
-    let cell = explain(&inputs, "app", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "app");
     assert_eq!(
         cell.cause,
         Some(Cause::NoBuildForPlatform),
@@ -2242,10 +2230,7 @@ fn a_requirement_no_version_meets_beside_a_yanked_release_is_a_conflict() {
   - name: app
     versions: [{version: "1.0.0", depends: [{name: dep, req: "^3"}]}]
 "#;
-    let inputs = inputs(registry, "priorities: [app]\n");
-    let cell = explain(&inputs, "app", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "app");
     let lines = cell.explanation.join("\n");
     assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{lines}");
     assert!(
@@ -2264,10 +2249,7 @@ fn a_lone_refused_release_is_named_by_its_version() {
   - name: solo
     versions: [{version: "1.0.0", runtime: ">=5"}]
 "#;
-    let inputs = inputs(registry, "priorities: [solo]\n");
-    let cell = explain(&inputs, "solo", "deb", &PlanOptions::default())
-        .unwrap()
-        .cell;
+    let cell = entry_cell(registry, "solo");
     assert!(
         cell.explanation.iter().any(|l| l
             == "no version of solo can be used here: 1.0.0: 1 version needs a newer runtime \

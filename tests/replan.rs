@@ -1117,6 +1117,19 @@ fn cache_json(cache: &PlanCache) -> String {
     serde_json::to_string(cache).unwrap()
 }
 
+/// A warm re-plan's matrix and cache are a cold plan's, byte for byte; `what` names the case.
+fn assert_warm_is_cold(warm: &PlanCache, cold: &PlanCache, what: &str) {
+    assert!(
+        to_json(&warm.matrix) == to_json(&cold.matrix),
+        "{what}: warm matrix differs: {:?}",
+        warm.matrix.cells
+    );
+    assert!(
+        cache_json(warm) == cache_json(cold),
+        "{what}: warm cache differs"
+    );
+}
+
 #[test]
 fn a_package_table_out_of_name_order_is_not_trusted() {
     // A repeated entry shifts every later table index by one, so a basis would point at the
@@ -1299,11 +1312,7 @@ fn a_passed_over_release_that_comes_to_suit_the_image_is_solved_again() {
         cold.matrix.cells[0]
     );
     assert_eq!(stats.solved, 1);
-    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
-    assert!(
-        cache_json(&warm) == cache_json(&cold),
-        "warm cache differs from cold"
-    );
+    assert_warm_is_cold(&warm, &cold, "");
 }
 
 /// lib 2.0.0 is yanked but suits the image, so the solve records it as refused while
@@ -1336,11 +1345,7 @@ fn a_refused_release_that_stops_suiting_among_unlike_neighbours_is_solved_again(
         &PlanOptions::default(),
     );
     assert_eq!(stats.solved, 1, "{stats:?}");
-    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
-    assert!(
-        cache_json(&warm) == cache_json(&cold),
-        "warm cache differs from cold"
-    );
+    assert_warm_is_cold(&warm, &cold, "");
 }
 
 /// A package's summary is read by the native step (a catalog library it mentions is a
@@ -1365,11 +1370,7 @@ fn a_changed_summary_is_read_again_by_the_native_step() {
         cold.matrix.cells[0]
     );
     assert_eq!(stats.solved, 1, "{stats:?}");
-    assert!(to_json(&warm.matrix) == to_json(&cold.matrix));
-    assert!(
-        cache_json(&warm) == cache_json(&cold),
-        "warm cache differs from cold"
-    );
+    assert_warm_is_cold(&warm, &cold, "");
 }
 
 /// A look-alike stands in for the old newest release only when it is published just after
@@ -1405,15 +1406,7 @@ fn a_look_alike_that_is_not_next_to_the_release_it_matches_is_solved_again() {
         .find(|p| p.name == "lib");
     assert_eq!(lib.map(|p| p.version.as_str()), Some("2.0.0"));
     assert_eq!(stats.solved, 1, "{stats:?}");
-    assert!(
-        to_json(&warm.matrix) == to_json(&cold.matrix),
-        "{:?}",
-        warm.matrix.cells[0]
-    );
-    assert!(
-        cache_json(&warm) == cache_json(&cold),
-        "warm cache differs from cold"
-    );
+    assert_warm_is_cold(&warm, &cold, "");
 }
 
 /// A cell is found again by its package and image, but a priority entry that now pins the
@@ -1441,10 +1434,6 @@ fn a_priority_entry_whose_requirement_changed_is_solved_again() {
         assert_eq!(cold.matrix.cells[0].root_version.as_deref(), Some(expected));
         let (warm, stats) = replan(&after, &options, Some(cache.clone()), None);
         assert_eq!(stats.solved, 1, "{expected}: {stats:?}");
-        assert!(to_json(&warm.matrix) == to_json(&cold.matrix), "{expected}");
-        assert!(
-            cache_json(&warm) == cache_json(&cold),
-            "{expected}: warm cache differs"
-        );
+        assert_warm_is_cold(&warm, &cold, expected);
     }
 }
