@@ -572,6 +572,20 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     if let Some(dir) = &o.out {
         refuse_writing_over_inputs(&o.inputs, MATRIX_FILES.map(|name| dir.join(name)))?;
     }
+    if let Some(cache) = &o.cache
+        && let Some((flag, input)) = input_files(&o.inputs)
+            .into_iter()
+            .find(|(_, input)| crate::load::diag::same_file(input, cache))
+    {
+        return Err(BadInput::file(
+            cache.display().to_string(),
+            format!(
+                "--cache names {flag} {}, an input of this run, which the plan would overwrite; give the cache a file of its own",
+                input.display()
+            ),
+        )
+        .into());
+    }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("plan"))?;
     let mut out = Output::default();
@@ -697,6 +711,9 @@ fn read_cache(
         }
         return whole.map(Some);
     }
+    // Not this version's cache: it may be any file given by mistake, which deleting would
+    // destroy.
+    let what = "basefit plan cache (if it is a damaged one, delete it to plan from scratch; if it is another file, give --cache a path of its own)";
     let header: Header = parse_json(path, &text, what)?;
     match header {
         // This version's cache that does not read: damaged, reported where it breaks.

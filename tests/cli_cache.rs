@@ -344,3 +344,36 @@ fn a_cache_of_another_shard_is_named_in_a_note() {
     assert!(!stderr.contains("holds the cells of"), "{stderr}");
     assert_eq!(counts(&stderr).1, 0);
 }
+
+/// `--cache` naming an input of the run is refused before anything is read or written, and a
+/// file that is no cache of this version is not called one to delete: `--cache images.yaml`
+/// said "delete it to plan from scratch" of the images file (from an end-to-end review).
+#[test]
+fn a_cache_path_that_is_an_input_is_refused_and_no_other_file_is_called_deletable() {
+    let d = tempfile::tempdir().unwrap();
+    let images = root().join("matrices/demo-images.yaml");
+    let before = read(images.clone());
+    let (code, _, stderr) = plan(&images, &d.path().join("out"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "--cache names --images {}, an input of this run",
+            images.display()
+        )),
+        "{stderr}"
+    );
+    assert_eq!(read(images), before);
+    // Some other file that is no cache: the advice covers both readings.
+    let other = d.path().join("notes.txt");
+    std::fs::write(&other, "remember the milk\n").unwrap();
+    let (code, _, stderr) = plan(&other, &d.path().join("out"));
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("if it is another file, give --cache a path of its own"),
+        "{stderr}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(&other).unwrap(),
+        "remember the milk\n"
+    );
+}
