@@ -361,7 +361,7 @@ fn run_render(a: RenderArgs) -> anyhow::Result<Output> {
 
 #[derive(Clone, Copy, clap::ValueEnum)]
 enum FuseMethod {
-    /// Sum of ranks, lowest first.
+    /// Sum of ranks, lowest first (with --missing exclude, the mean over the lists holding it).
     RankSum,
     /// Borda count.
     Borda,
