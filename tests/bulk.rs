@@ -445,9 +445,9 @@ fn dependency_problems_stay_at_the_version_row_until_placed() {
     assert_eq!(
         dependency_problems(&ledger),
         [
-            "versions.csv:3 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
-            "versions.csv:3 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
-            "versions.csv:3 pkg-a@1.1.0: requires pkg-c ^0.4, which no published version satisfies",
+            "versions.csv:3 pkg-a@v1.1: depends on `pkg-gone`, which the registry does not have",
+            "versions.csv:3 pkg-a@v1.1: depends on `pkg-gone`, which the registry does not have",
+            "versions.csv:3 pkg-a@v1.1: requires pkg-c ^0.4, which no published version satisfies",
             "versions.csv:5 pkg-b@2.1.0: requires pkg-c >=1, which no published version satisfies",
         ]
     );
@@ -478,9 +478,9 @@ fn dependency_problems_name_the_dependency_row() {
     assert_eq!(
         dependency_problems(&ledger),
         [
-            "deps.csv:6 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
-            "deps.csv:11 pkg-a@1.1.0: depends on `pkg-gone`, which the registry does not have",
-            "deps.csv:9 pkg-a@1.1.0: requires pkg-c ^0.4, which no published version satisfies",
+            "deps.csv:6 pkg-a@v1.1: depends on `pkg-gone`, which the registry does not have",
+            "deps.csv:11 pkg-a@v1.1: depends on `pkg-gone`, which the registry does not have",
+            "deps.csv:9 pkg-a@v1.1: requires pkg-c ^0.4, which no published version satisfies",
             "deps.csv:12 pkg-b@2.1.0: requires pkg-c >=1, which no published version satisfies",
         ]
     );
@@ -536,16 +536,16 @@ fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
     assert_eq!(
         places(&[first], None),
         [
-            "deps.csv:11 pkg-a@1.1.0",
+            "deps.csv:11 pkg-a@v1.1",
             "deps.csv:12 pkg-b@2.1.0",
-            "deps.csv:6 pkg-a@1.1.0",
-            "deps.csv:9 pkg-a@1.1.0",
+            "deps.csv:6 pkg-a@v1.1",
+            "deps.csv:9 pkg-a@v1.1",
         ]
     );
     let at_versions = [
-        "versions.csv:3 pkg-a@1.1.0",
-        "versions.csv:3 pkg-a@1.1.0",
-        "versions.csv:3 pkg-a@1.1.0",
+        "versions.csv:3 pkg-a@v1.1",
+        "versions.csv:3 pkg-a@v1.1",
+        "versions.csv:3 pkg-a@v1.1",
         "versions.csv:5 pkg-b@2.1.0",
     ];
     assert_eq!(places(&[first, header_only], Some(changed)), at_versions);
@@ -557,9 +557,9 @@ fn dependency_problems_stay_at_the_version_row_when_the_file_changed() {
     assert_eq!(
         places(&[first, cut.as_bytes()], Some(changed)),
         [
-            "deps.csv:9 pkg-a@1.1.0",
-            "versions.csv:3 pkg-a@1.1.0",
-            "versions.csv:3 pkg-a@1.1.0",
+            "deps.csv:9 pkg-a@v1.1",
+            "versions.csv:3 pkg-a@v1.1",
+            "versions.csv:3 pkg-a@v1.1",
             "versions.csv:5 pkg-b@2.1.0",
         ]
     );
@@ -1079,7 +1079,7 @@ fn dependency_problems_from_a_pipe_say_they_are_not_placed() {
     };
     let text = run(Format::Table);
     assert_eq!(text.matches(&sentence).count(), 1, "{text}");
-    assert!(text.contains("versions.csv:3  pkg-a@1.1.0"), "{text}");
+    assert!(text.contains("versions.csv:3  pkg-a@v1.1"), "{text}");
     let json: serde_json::Value = serde_json::from_str(&run(Format::Json)).unwrap();
     let unplaced = &json["unplaced"];
     assert_eq!(unplaced.as_array().map(Vec::len), Some(1), "{json}");
@@ -1431,7 +1431,7 @@ fn a_dependency_row_whose_kind_changed_is_not_where_its_problem_is_placed() {
         .collect();
     assert_eq!(
         places,
-        ["versions.csv:3 pkg-a@1.1.0", "deps.csv:11 pkg-a@1.1.0"]
+        ["versions.csv:3 pkg-a@v1.1", "deps.csv:11 pkg-a@v1.1"]
     );
 }
 
@@ -1547,5 +1547,30 @@ fn rows_before_a_fatal_error_are_handed_over() {
     assert_eq!(
         (e.line, e.message.as_str()),
         (Some(4), "not UTF-8 text (binary data?)")
+    );
+}
+
+/// A problem about a release names its version as the record writes it: of `dup,1.0.0` and
+/// `dup,1.0` (read as 1.0.0 too), the second is left out for its unreadable dependency, and
+/// the problem named `dup@1.0.0`, the record that is kept (from an end-to-end review).
+#[test]
+fn a_release_problem_names_the_version_as_written() {
+    let versions = format!("{V_HEAD}dup,1.0.0,,,,,,,,,\ndup,1.0,,,,,,,,,\n");
+    let deps = format!("{D_HEAD}dup,1.0,dup-dep,not a req,\n");
+    let (_, ledger) = load(&versions, &deps).unwrap();
+    let subjects: Vec<(ProblemKind, &str)> = ledger
+        .problems
+        .iter()
+        .map(|p| (p.kind, p.subject.as_str()))
+        .collect();
+    assert!(
+        subjects.contains(&(ProblemKind::UnreadableRequirement, "dup@1.0")),
+        "{:?}",
+        ledger.problems
+    );
+    assert!(
+        !subjects.iter().any(|(_, s)| *s == "dup@1.0.0"),
+        "{:?}",
+        ledger.problems
     );
 }

@@ -1041,8 +1041,8 @@ impl Load {
                 Some((line, kind, detail)) => {
                     // Cloned: the builder is borrowed mutably to record the problem.
                     let version = builder.registry.package(package).releases[place as usize]
-                        .version
-                        .clone();
+                        .written_version()
+                        .into_owned();
                     let bad_dep = BadDependency {
                         file: &file,
                         line: *line,

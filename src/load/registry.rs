@@ -541,7 +541,7 @@ impl RegistryBuilder {
             mut release,
         } = staged;
         if let Some(bad) = bad {
-            self.leave_out_for_dependency(package, &release.version, dep_count, bad);
+            self.leave_out_for_dependency(package, &release.written_version(), dep_count, bad);
             return;
         }
         release.deps = deps;
@@ -553,11 +553,11 @@ impl RegistryBuilder {
     pub fn leave_out_for_dependency(
         &mut self,
         package: PackageId,
-        version: &semver::Version,
+        written_version: &str,
         dep_count: u64,
         bad: BadDependency<'_>,
     ) {
-        let subject = format!("{}@{version}", self.registry.name(package));
+        let subject = format!("{}@{written_version}", self.registry.name(package));
         let origin = Origin {
             file: bad.file.to_string(),
             line: bad.line,
@@ -584,7 +584,7 @@ impl RegistryBuilder {
             return;
         };
         let origin = origin_of(&self.registry.files, twin.file, twin.line);
-        let subject = format!("{}@{}", pkg.name, twin.version);
+        let subject = format!("{}@{}", pkg.name, twin.written_version());
         let detail = format!(
             "same version as the record at line {}, which is left out for a dependency",
             first.line
@@ -677,7 +677,7 @@ impl RegistryBuilder {
                                 RecordKind::Version,
                                 ProblemKind::DuplicateVersion,
                                 origin_of(files, r.file, r.line),
-                                format!("{}@{}", pkg.name, r.version),
+                                format!("{}@{}", pkg.name, r.written_version()),
                                 if prev.file == r.file {
                                     format!("same version as the record at line {}", prev.line)
                                 } else {
@@ -702,7 +702,7 @@ impl RegistryBuilder {
                     ledger.note(
                         ProblemKind::SamePrecedence,
                         origin_of(&registry.files, w[1].file, w[1].line),
-                        format!("{}@{}", pkg.name, w[1].version),
+                        format!("{}@{}", pkg.name, w[1].written_version()),
                         format!(
                             "differs from {} only in build metadata, which gives no precedence; \
                              basefit takes {} as the newer, by the text after `+`",
@@ -821,7 +821,12 @@ fn registry_checks(
                         dep: at,
                     }),
                 }
-                ledger.note(kind, origin, format!("{}@{}", pkg.name, r.version), detail);
+                ledger.note(
+                    kind,
+                    origin,
+                    format!("{}@{}", pkg.name, r.written_version()),
+                    detail,
+                );
             }
         }
         if pkg.releases.is_empty() {

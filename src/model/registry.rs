@@ -164,6 +164,15 @@ pub struct Release {
 }
 
 impl Release {
+    /// The version as its record writes it (`1.0` for a release read as 1.0.0), so a problem
+    /// about the record names the record a reader finds at its line.
+    pub fn written_version(&self) -> std::borrow::Cow<'_, str> {
+        match &self.raw_version {
+            Some(raw) => std::borrow::Cow::Borrowed(raw),
+            None => std::borrow::Cow::Owned(self.version.to_string()),
+        }
+    }
+
     pub fn runtime_deps(&self) -> impl Iterator<Item = &Dep> {
         self.deps.iter().filter(|d| d.kind == DepKind::Runtime)
     }
