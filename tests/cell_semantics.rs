@@ -1952,14 +1952,16 @@ fn no_build_anywhere_outranks_the_runtime_and_mixed_impossible_releases_are_name
     assert_eq!(emu.cell.cause, Some(Cause::NoBuildForPlatform), "{emu:?}");
 }
 
-/// Under a conflict, a dependency whose newer line the image refuses is a step of the proof,
-/// not a blocker: heron needs cormorant <1.4 and lark ^3; lark 3.0.0 needs cormorant ^1.2 (no
+/// Under a conflict, a dependency the image refuses is a step of the proof, and a blocker
+/// that says so: heron needs cormorant <1.4 and lark ^3; lark 3.0.0 needs cormorant ^1.2 (no
 /// such release below 1.4) and lark 3.1.0 a newer runtime and cormorant ^2. The cell fails on
-/// the conflict over cormorant at every runtime, so "lark 3.1.0 needs a newer runtime" as a
-/// blocker sent readers to upgrade the image for nothing (from an end-to-end review). The
-/// explanation keeps the refusal as a line.
+/// the conflict over cormorant at every runtime, so a bare "lark 3.1.0 needs a newer runtime"
+/// sent readers to upgrade the image for nothing (from an end-to-end review). Where the
+/// refused release is the way out (app needs aa >=1 and bb ^1; aa 2.0.0 needs a newer
+/// runtime, aa 1.0.0 and bb conflict over cc), the same blocker leads to the fix, so it is
+/// kept, with the conflict beside it (from a review of the first fix, which dropped it).
 #[test]
-fn a_partly_refused_dependency_is_no_blocker_of_a_conflict() {
+fn a_refused_dependency_beside_a_conflict_is_a_blocker_that_names_the_conflict() {
     let registry = r#"packages:
   - name: heron
     versions:
@@ -1971,38 +1973,66 @@ fn a_partly_refused_dependency_is_no_blocker_of_a_conflict() {
       - {version: "3.1.0", runtime: ">=4.0", depends: [{name: cormorant, req: "^2"}]}
   - name: cormorant
     versions: [{version: "1.0.0"}, {version: "1.4.0"}, {version: "2.0.0"}]
+  - name: app
+    versions:
+      - version: "1.0.0"
+        depends: [{name: aa, req: ">=1"}, {name: bb, req: "^1"}]
+  - name: aa
+    versions:
+      - {version: "1.0.0", depends: [{name: cc, req: "^1"}]}
+      - {version: "2.0.0", runtime: ">=4.0"}
+  - name: bb
+    versions: [{version: "1.0.0", depends: [{name: cc, req: "^2"}]}]
+  - name: cc
+    versions: [{version: "1.0.0"}, {version: "2.0.0"}]
 "#;
-    let inputs = inputs_on(RUNTIMES, registry, "priorities: [heron]\n");
-    for image in ["mid", "new"] {
-        let cell = explain(&inputs, "heron", image, &PlanOptions::default())
+    let inputs = inputs_on(RUNTIMES, registry, "priorities: [heron, app]\n");
+    let beside = " (beside a conflict: another image alone may not be enough)";
+    let blockers_of = |package: &str| {
+        let cell = explain(&inputs, package, "mid", &PlanOptions::default())
             .unwrap()
             .cell;
-        assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{image}");
-        let blockers: Vec<(&str, &str)> = cell
+        assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{package}");
+        let mut blockers: Vec<(String, String)> = cell
             .blockers
             .iter()
-            .map(|b| (b.package.as_str(), b.reason.as_str()))
+            .map(|b| (b.package.clone(), b.reason.clone()))
             .collect();
-        assert_eq!(
-            blockers,
-            [(
-                "cormorant",
-                "conflicting requirements on cormorant (from lark and heron)"
-            )],
-            "{image}: {:?}",
-            cell.explanation
-        );
-    }
-    let cell = explain(&inputs, "heron", "mid", &PlanOptions::default())
-        .unwrap()
-        .cell;
+        blockers.sort();
+        (blockers, cell.explanation)
+    };
+    let (heron, lines) = blockers_of("heron");
+    assert_eq!(
+        heron,
+        [
+            (
+                "cormorant".to_string(),
+                "conflicting requirements on cormorant (from lark and heron)".to_string()
+            ),
+            (
+                "lark".to_string(),
+                format!("lark 3.1.0 needs a newer runtime{beside}")
+            ),
+        ],
+        "{lines:?}"
+    );
     assert!(
-        cell.explanation
+        lines
             .iter()
             .any(|l| l.starts_with("no version of lark can be used here: 3.1.0")),
-        "{:?}",
-        cell.explanation
+        "{lines:?}"
     );
+    let (app, lines) = blockers_of("app");
+    assert!(
+        app.iter().any(|(p, r)| p == "aa"
+            && r.starts_with("aa 2.0.0 needs a newer runtime")
+            && r.ends_with(beside)),
+        "{app:?} {lines:?}"
+    );
+    // On the newer image the refused release installs the entry.
+    let newer = explain(&inputs, "app", "new", &PlanOptions::default()).unwrap();
+    assert_eq!(newer.cell.root_version.as_deref(), Some("1.0.0"));
+    assert!(newer.cell.cause.is_none(), "{:?}", newer.cell);
 }
 
 /// One release that needs two requirements of one package that no published version meets

@@ -785,9 +785,8 @@ pub fn explain(
         .order
         .sort_by_key(|f| !matches!(f, Fact::Depends(Node::Root, ..)));
     let mut lines = Vec::new();
-    // Each with the cause it stands for, so that the ones a chosen cause disowns can go, and
-    // whether the image refuses only some of the releases wanted (see below).
-    let mut blockers: Vec<(Blocker, Cause, bool)> = Vec::new();
+    // Each with the cause it stands for, so that the ones a chosen cause disowns can go.
+    let mut blockers: Vec<(Blocker, Cause)> = Vec::new();
     let mut leaf_causes: Vec<(PackageId, Cause)> = Vec::new();
     let mut constrained_by: BTreeMap<PackageId, Vec<Node>> = BTreeMap::new();
     // A requirement no published release meets is a cause in itself: say so where it is stated.
@@ -847,7 +846,6 @@ pub fn explain(
                             reason,
                         },
                         cause,
-                        registry.package(*p).declared && !all,
                     ));
                 }
             }
@@ -912,7 +910,6 @@ pub fn explain(
                                     reason: format!("{name} (wanted {}) {why}", sib.req),
                                 },
                                 sib.cause,
-                                false,
                             ));
                         }
                         if let Some((cause, phrase)) =
@@ -932,7 +929,6 @@ pub fn explain(
                                     reason,
                                 },
                                 cause,
-                                false,
                             ));
                         }
                     }
@@ -1020,11 +1016,7 @@ pub fn explain(
                 registry.name(p),
                 by.join(" and ")
             );
-            blockers.push((
-                Blocker { package: p, reason },
-                Cause::DependencyConflict,
-                false,
-            ));
+            blockers.push((Blocker { package: p, reason }, Cause::DependencyConflict));
         }
     }
     lines.push(format!(
@@ -1036,17 +1028,21 @@ pub fn explain(
     // fails in another way only blocks the releases left over, and as the cell's one-line
     // reason it would contradict the cause.
     if from_root {
-        blockers.retain(|(_, c, _)| *c == cause);
+        blockers.retain(|(_, c)| *c == cause);
     }
-    // Under a conflict, a dependency the image refuses only some wanted releases of is a step
-    // of the proof, not a blocker: its other releases met the conflict, and whether the
-    // refused ones would install elsewhere is unknown (`explain`'s runtime hint solves again
-    // to find out). Named a blocker, "needs a newer runtime" sent readers to upgrade an image
-    // for a package that conflicts at every runtime.
+    // Under a conflict, a dependency the image refuses is one step of the proof: another
+    // image may admit it and install the entry, or meet the conflict still (`explain`'s
+    // runtime hint solves again to find out). Said bare, "needs a newer runtime" sent readers
+    // to upgrade an image for a package that conflicts at every runtime.
     if cause == Cause::DependencyConflict {
-        blockers.retain(|(_, c, partial)| *c == Cause::DependencyConflict || !partial);
+        for (b, c) in blockers.iter_mut() {
+            if *c != Cause::DependencyConflict {
+                b.reason
+                    .push_str(" (beside a conflict: another image alone may not be enough)");
+            }
+        }
     }
-    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _, _)| b).collect();
+    let mut blockers: Vec<Blocker> = blockers.into_iter().map(|(b, _)| b).collect();
     blockers.dedup();
     (
         Failure {
