@@ -71,16 +71,18 @@ pub fn escape_markdown(s: &str) -> String {
     out
 }
 
-/// [`escape_markdown`], except that text between a pair of backticks (a command basefit's
-/// advice quotes, `` `basefit explain saltbush deb-2.4` ``) becomes a code span, whose
-/// content Markdown shows as written: escaped, the backticks showed as text and the command
-/// did not read as one. Only where every backtick has a partner and no span is empty; else
-/// everything is escaped.
+/// [`escape_markdown`], except that a command basefit's advice quotes between backticks
+/// (`` `basefit explain saltbush deb-2.4` ``) becomes a code span, whose content Markdown
+/// shows as written: escaped, the backticks showed as text and the command did not read as
+/// one. Only where every backtick has a partner and every quoted part is such a command;
+/// else (a name or a log line holding backticks) everything is escaped, so no backtick of
+/// the input goes missing.
 ///
 /// ```
 /// use basefit::report::markdown::escape_markdown_code;
 /// assert_eq!(escape_markdown_code("run `basefit check` <now>"), "run `basefit check` \\<now\\>");
 /// assert_eq!(escape_markdown_code("a`b"), "a\\`b");
+/// assert_eq!(escape_markdown_code("`x` and `basefit check`"), r"\`x\` and \`basefit check\`");
 /// ```
 pub fn escape_markdown_code(s: &str) -> String {
     let line = one_line(s);
@@ -90,7 +92,7 @@ pub fn escape_markdown_code(s: &str) -> String {
             .iter()
             .skip(1)
             .step_by(2)
-            .all(|code| !code.trim().is_empty());
+            .all(|code| code.starts_with("basefit "));
     if !paired {
         return escape_markdown(&line);
     }
