@@ -873,7 +873,7 @@ fn cross_check_html(m: &Matrix) -> Vec<std::collections::BTreeMap<String, usize>
             (k("surprise"), "contradict the prediction"),
             (
                 k("unsettled"),
-                "neither (flaky, another version or cause, undecided)",
+                "neither (flaky, another version or failure cause than predicted, a risk the log does not show, or an undecided prediction)",
             ),
         ]
         .into_iter()

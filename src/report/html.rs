@@ -547,13 +547,11 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
         out.push_str("</p>\n");
         if k.recorded() > 0 {
             let mut parts = Vec::new();
+            let neither = format!("neither ({})", layout::UNSETTLED_KINDS);
             for (n, what) in [
                 (k.agreed, "agree"),
                 (k.surprises, "contradict the prediction"),
-                (
-                    k.unsettled,
-                    "neither (flaky, another version or cause, undecided)",
-                ),
+                (k.unsettled, neither.as_str()),
             ] {
                 if n > 0 {
                     parts.push(format!("{n} {what}"));

@@ -102,12 +102,25 @@ impl Mark {
         match self {
             Mark::Agreed => "recorded installs agree with the prediction",
             Mark::Surprise => "recorded installs contradict the prediction",
-            Mark::Unsettled => {
-                "recorded installs neither agree nor contradict: flaky, another version or failure cause than predicted, a risk the log does not show, or an undecided prediction"
-            }
+            Mark::Unsettled => concat!(
+                "recorded installs neither agree nor contradict: ",
+                unsettled_kinds!()
+            ),
         }
     }
 }
+
+/// What makes a recorded install neither agree nor contradict, as every rendering's legend and
+/// counts say it: one text, so a new kind (an unconfirmed risk) reaches all of them.
+macro_rules! unsettled_kinds {
+    () => {
+        "flaky, another version or failure cause than predicted, a risk the log does not show, or an undecided prediction"
+    };
+}
+pub(crate) use unsettled_kinds;
+
+/// [`unsettled_kinds`] as a value.
+pub(crate) const UNSETTLED_KINDS: &str = unsettled_kinds!();
 
 /// The mark of a cell, when it has recorded installs.
 pub(crate) fn mark_of(cell: &Cell) -> Option<Mark> {

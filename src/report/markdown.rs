@@ -308,10 +308,10 @@ fn render(m: &Matrix, labels: NoteLabels) -> String {
         let _ = writeln!(
             out,
             "\nRecorded installs cover {recorded} {}: {} agree, {surprises} contradict the \
-             prediction, {unsettled} neither (flaky, another version or failure cause, or an \
-             undecided prediction).",
+             prediction, {unsettled} neither ({}).",
             if recorded == 1 { "cell" } else { "cells" },
-            recorded - surprises - unsettled
+            recorded - surprises - unsettled,
+            layout::UNSETTLED_KINDS
         );
     }
     out
