@@ -661,16 +661,21 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
     }
     let summary = plan::summarise(matrix);
     let shared = blockers::shared_blockers(matrix, o.blockers);
-    let document = || {
-        serde_json::json!({
-            "notice": matrix.notice,
-            "summary": summary,
-            "shared_blockers": shared,
-        })
+    #[derive(serde::Serialize)]
+    struct PlanReport<'a> {
+        summary: &'a plan::matrix::Summary,
+        shared_blockers: &'a [blockers::SharedBlocker],
+    }
+    let document = Noticed {
+        notice: matrix.notice.clone(),
+        report: &PlanReport {
+            summary: &summary,
+            shared_blockers: &shared,
+        },
     };
     out.stdout = match o.format {
-        Format::Json => report::to_json(&document()),
-        Format::Yaml => report::to_yaml(&document()),
+        Format::Json => report::to_json(&document),
+        Format::Yaml => report::to_yaml(&document),
         Format::Table => report::visible(&text::plan_text(&summary, &shared)).into_owned(),
     };
     Ok(out)
