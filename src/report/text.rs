@@ -913,40 +913,25 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
     };
     for c in &d.changes {
         let (mut before, mut after) = (brief(&c.before), brief(&c.after));
-        // The entry's own build is named only where it is what changed.
-        let build = |b: &Option<crate::verify::diff::CellBrief>| b.as_ref().and_then(|b| b.build);
-        if before == after && build(&c.before) != build(&c.after) {
-            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
-                if let Some(b) = build(side) {
-                    text.push_str(&format!(" [{}]", b.as_str()));
-                }
-            }
+        // The rest of a brief is named on both sides where it differs: a cell whose outcome
+        // stayed would otherwise be listed as changed with the same text twice. The entry's
+        // own build only where it is all that changed.
+        if before == after {
+            name_difference(c, (&mut before, &mut after), |b| {
+                b.build
+                    .map_or(String::new(), |k| format!(" [{}]", k.as_str()))
+            });
         }
-        // The rest of a brief is named where it differs: a cell whose outcome stayed would
-        // otherwise be listed as changed with nothing to show for it.
-        let lacks = |b: &Option<crate::verify::diff::CellBrief>| {
-            b.as_ref().map(|b| b.missing_system_packages.clone())
-        };
-        if c.before.is_some() && c.after.is_some() && lacks(&c.before) != lacks(&c.after) {
-            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
-                let missing = lacks(side).unwrap_or_default();
-                text.push_str(&match missing.is_empty() {
-                    true => " [lacks no system package]".to_string(),
-                    false => format!(" [lacks {}]", missing.join(" ")),
-                });
+        name_difference(c, (&mut before, &mut after), |b| {
+            match b.missing_system_packages.is_empty() {
+                true => " [lacks no system package]".to_string(),
+                false => format!(" [lacks {}]", b.missing_system_packages.join(" ")),
             }
-        }
-        let recorded = |b: &Option<crate::verify::diff::CellBrief>| {
-            b.as_ref().and_then(|b| b.recorded.clone())
-        };
-        if c.before.is_some() && c.after.is_some() && recorded(&c.before) != recorded(&c.after) {
-            for (text, side) in [(&mut before, &c.before), (&mut after, &c.after)] {
-                text.push_str(&match recorded(side) {
-                    Some(r) => format!(" [recorded {r}]"),
-                    None => " [no recorded install]".to_string(),
-                });
-            }
-        }
+        });
+        name_difference(c, (&mut before, &mut after), |b| match &b.recorded {
+            Some(r) => format!(" [recorded {r}]"),
+            None => " [no recorded install]".to_string(),
+        });
         let _ = match before == after {
             true => writeln!(out, "  {} on {}: {after}", c.package, c.image),
             false => writeln!(out, "  {} on {}: {before} -> {after}", c.package, c.image),
@@ -1162,6 +1147,22 @@ pub fn system_body(r: &crate::plan::system::SystemReport) -> String {
         }
     }
     out
+}
+
+/// Appends `show` of each side of a changed cell to that side's text when the two differ and
+/// the cell is on both sides.
+fn name_difference(
+    c: &crate::verify::diff::CellChange,
+    (before, after): (&mut String, &mut String),
+    show: impl Fn(&crate::verify::diff::CellBrief) -> String,
+) {
+    if let (Some(b), Some(a)) = (&c.before, &c.after) {
+        let (shown_before, shown_after) = (show(b), show(a));
+        if shown_before != shown_after {
+            before.push_str(&shown_before);
+            after.push_str(&shown_after);
+        }
+    }
 }
 
 /// A shared blocker's reasons for one line: a hub blocks entries through many version ranges,
