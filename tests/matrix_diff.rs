@@ -272,3 +272,37 @@ fn the_text_names_a_changed_recorded_result_and_missing_packages() {
         "{text}"
     );
 }
+
+/// A cell whose only change is its own build (a source build turned prebuilt) names the build
+/// on both sides, and only then: beside another change the build is not named.
+#[test]
+fn the_text_names_the_entrys_build_where_it_is_all_that_changed() {
+    let registry = |builds: &str| {
+        format!("packages:\n  - name: kestrel\n    versions: [{{version: 1.0.0{builds}}}]\n")
+    };
+    let before = planned_from(
+        &registry(""),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let after = planned_from(
+        &registry(", builds: {prebuilt: [linux/glibc/x86_64]}"),
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let text = basefit::report::text::diff_text(&diff(&before, &after, |_| String::new()));
+    assert!(
+        text.contains("kestrel on deb: installs 1.0.0 [source] -> installs 1.0.0 [prebuilt]"),
+        "{text}"
+    );
+    let later = planned_from(
+        "packages:\n  - name: kestrel\n    versions: [{version: 1.0.0}, {version: 2.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}]\n",
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let text = basefit::report::text::diff_text(&diff(&before, &later, |_| String::new()));
+    assert!(
+        text.contains("kestrel on deb: installs 1.0.0 -> installs 2.0.0\n"),
+        "{text}"
+    );
+}
