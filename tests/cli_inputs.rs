@@ -2464,3 +2464,44 @@ fn a_results_csv_row_with_an_empty_outcome_is_refused() {
         "{stderr}"
     );
 }
+
+/// Dependency rows left out with the version they belong to have no problem of their own;
+/// `check` says how many of the left-out count went so, and JSON carries the number: the
+/// table's "left out 2" beside no problem naming a dependency row read as rows lost (from an
+/// end-to-end review). Here `q,1.0.0` duplicates `q,1.0` (both 1.0.0) and takes its two
+/// dependency rows with it.
+#[test]
+fn check_says_which_left_out_rows_went_with_their_version() {
+    let dir = tempfile::tempdir().unwrap();
+    let versions = common::write(
+        dir.path(),
+        "v.csv",
+        "package,version\nq,1.0\nq,1.0.0\nbeta,1.0.0\n",
+    );
+    let deps = common::write(
+        dir.path(),
+        "d.csv",
+        "package,version,dependency,req\nq,1.0.0,beta,*\nq,1.0,beta,*\nq,1.0.0,beta,>=5\n",
+    );
+    let (v, d) = (versions.to_str().unwrap(), deps.to_str().unwrap());
+    let (code, stdout, stderr) = common::run_basefit(["check", "--bulk", v, d]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stdout.contains(
+            "  2 of the dependency records left out went with the record they belong to (a version or package left out below)"
+        ),
+        "{stdout}"
+    );
+    let (_, json, _) = common::run_basefit(["check", "--bulk", v, d, "--format", "json"]);
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let dependency = json["records"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r[0] == "dependency records")
+        .unwrap();
+    assert_eq!(
+        dependency[1],
+        serde_json::json!({"read": 3, "used": 1, "left_out": 2, "left_out_with_owner": 2})
+    );
+}

@@ -625,6 +625,13 @@ pub struct Tally {
     pub read: u64,
     pub used: u64,
     pub left_out: u64,
+    /// Of `left_out`, those left out with the record they belong to: no problem names them.
+    #[serde(skip_serializing_if = "is_zero")]
+    pub left_out_with_owner: u64,
+}
+
+fn is_zero(n: &u64) -> bool {
+    *n == 0
 }
 
 /// Every record read is counted here as used or left out, and every problem is listed.
@@ -728,7 +735,9 @@ impl Ledger {
     /// assert!(ledger.problems.is_empty());
     /// ```
     pub fn left_out_with_owner(&mut self, kind: RecordKind, count: u64) {
-        self.tallies.entry(kind).or_default().left_out += count;
+        let tally = self.tallies.entry(kind).or_default();
+        tally.left_out += count;
+        tally.left_out_with_owner += count;
     }
 
     /// Records that `kind` records were not checked against `reference`, which was not given.

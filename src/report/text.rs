@@ -132,6 +132,18 @@ pub fn check_text(ledger: &Ledger) -> String {
         ]);
     }
     out.push_str(&table(&rows));
+    // Records left out with their owner have no problem of their own (listing each would
+    // bury the owner's): say where the count comes from, or the table reads as records lost.
+    for (kind, t) in &ledger.tallies {
+        if t.left_out_with_owner > 0 {
+            let _ = writeln!(
+                out,
+                "  {} of the {} left out went with the record they belong to (a version or package left out below)",
+                t.left_out_with_owner,
+                kind.label()
+            );
+        }
+    }
     let skipped = skipped_checks(ledger);
     if !skipped.is_empty() {
         out.push_str("\nnot checked, for want of an input (these names were not verified):\n");
