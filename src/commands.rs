@@ -528,12 +528,34 @@ pub fn check(o: &CheckOptions) -> Result<Output, BadInput> {
     // The report names each problem's place; the other commands only count problems.
     inputs.place_deferred(o.inputs.progress.as_ref());
     let ledger = &inputs.ledger;
-    Ok(Output::report(
+    // A registry with nothing usable holds no problem record, yet every planning command
+    // refuses it: "no problems found" and exit 0 would pass it.
+    let empty = registry_left_nothing(&inputs, &o.inputs);
+    let empty = empty.map(|(files, noun, why)| {
+        format!(
+            "{files}: the registry has no usable {noun} ({why}): every command that plans refuses it"
+        )
+    });
+    let mut out = Output::report(
         o.format,
         &text::check_report(ledger),
-        |_| text::check_text(ledger),
-        !ledger.is_clean(),
-    ))
+        |_| match &empty {
+            None => text::check_text(ledger),
+            Some(line) => format!(
+                "{}\n{line}\n",
+                text::check_text(ledger).replacen(
+                    "no problems found",
+                    "no problem in the records read",
+                    1
+                )
+            ),
+        },
+        !ledger.is_clean() || empty.is_some(),
+    );
+    if let (Some(line), Format::Json | Format::Yaml) = (&empty, o.format) {
+        out.stderr.push(format!("note: {line}"));
+    }
+    Ok(out)
 }
 
 pub struct PlanCommand {

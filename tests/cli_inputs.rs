@@ -2505,3 +2505,27 @@ fn check_says_which_left_out_rows_went_with_their_version() {
         serde_json::json!({"read": 3, "used": 1, "left_out": 2, "left_out_with_owner": 2})
     );
 }
+
+/// `check` on a registry with nothing usable says so and exits 1, where `plan` refuses it
+/// (exit 2): it said "no problems found" and exited 0 (from an end-to-end review).
+#[test]
+fn check_reports_a_registry_with_no_usable_package() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = common::write(dir.path(), "empty.yaml", "packages: []\n");
+    let empty = empty.to_str().unwrap();
+    let (code, stdout, stderr) = common::run_basefit(["check", "--registry", empty]);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(!stdout.contains("no problems found"), "{stdout}");
+    assert!(
+        stdout.contains(&format!(
+            "{empty}: the registry has no usable package (the file declares none): every command that plans refuses it"
+        )),
+        "{stdout}"
+    );
+    let (code, _, stderr) = common::run_basefit(["check", "--registry", empty, "--format", "json"]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stderr.contains("note: ") && stderr.contains("no usable package"),
+        "{stderr}"
+    );
+}
