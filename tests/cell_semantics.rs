@@ -2288,3 +2288,21 @@ fn a_lone_refused_release_is_named_by_its_version() {
         cell.explanation
     );
 }
+
+/// Platform words are read in lower case on both sides: a registry export that upper-cased
+/// its prebuilt platforms made every prebuilt-only release fail for the platform on the very
+/// image it was built for, without a word (from an end-to-end review).
+#[test]
+fn platform_words_match_whatever_their_case() {
+    let registry = r#"packages:
+  - name: simd
+    versions: [{version: "1.0.0", builds: {source: false, prebuilt: [Linux/GLIBC/X86_64]}}]
+"#;
+    let images = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: LINUX/glibc/x86_64, toolchain: true}\n";
+    let inputs = inputs_on(images, registry, "priorities: [simd]\n");
+    let cell = explain(&inputs, "simd", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.root_version.as_deref(), Some("1.0.0"), "{cell:?}");
+    assert!(cell.cause.is_none(), "{cell:?}");
+}

@@ -14,13 +14,17 @@ pub struct PackageId(pub u32);
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub struct PlatformId(pub u16);
 
-/// The platform a prebuilt build targets, or an image runs: `os/libc/arch`.
+/// The platform a prebuilt build targets, or an image runs: `os/libc/arch`, in lower case
+/// whatever the case written, since the words name the same systems (common practice, no
+/// source): an export that upper-cased the column would otherwise turn every prebuilt-only
+/// release into a platform failure without a word.
 ///
 /// ```
 /// use basefit::model::Platform;
 /// let p = Platform::parse("linux/glibc/x86_64").unwrap();
 /// assert_eq!(p.libc, "glibc");
 /// assert_eq!(p.to_string(), "linux/glibc/x86_64");
+/// assert_eq!(Platform::parse("Linux/GLIBC/X86_64"), Ok(p));
 /// assert!(Platform::parse("linux/x86_64").is_err());
 /// ```
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
@@ -36,9 +40,9 @@ impl Platform {
         match parts.as_slice() {
             [os, libc, arch] if !os.is_empty() && !libc.is_empty() && !arch.is_empty() => {
                 Ok(Platform {
-                    os: os.to_string(),
-                    libc: libc.to_string(),
-                    arch: arch.to_string(),
+                    os: os.to_ascii_lowercase(),
+                    libc: libc.to_ascii_lowercase(),
+                    arch: arch.to_ascii_lowercase(),
                 })
             }
             _ => Err(format!(
