@@ -615,3 +615,33 @@ fn declared_names_match_ids_in_any_case() {
     assert_eq!(id("libxml-2.0").as_deref(), Some("libxml2"));
     assert_eq!(id("kookaburra-nonesuch"), None);
 }
+
+/// README's example of a catalog file reads as the catalog it describes, so the only place
+/// that shows the keys stays true.
+#[test]
+fn the_readme_catalog_example_reads() {
+    let readme = std::fs::read_to_string("README.md").unwrap();
+    let start = readme
+        .find("native_helpers: [quillforge-build]")
+        .expect("the example in README, \"System-library catalog\"");
+    let end = start + readme[start..].find("```").unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("site.yaml");
+    std::fs::write(&path, &readme[start..end]).unwrap();
+    let catalog = Catalog::with_override(&path).unwrap();
+    let lib = catalog.get("quokka-codec").expect("the example's library");
+    assert_eq!(catalog.by_link("quokkacodec").map(|l| &l.id), Some(&lib.id));
+    assert_eq!(
+        catalog.by_pkg_config("quokka-codec").map(|l| &l.id),
+        Some(&lib.id)
+    );
+    assert_eq!(
+        catalog.by_header("quokka/codec.h").map(|l| &l.id),
+        Some(&lib.id)
+    );
+    assert_eq!(lib.families[&OsFamily::Alpine].runtime, ["quokka-libs"]);
+    assert_eq!(
+        lib.families[&OsFamily::Debian].dev.as_deref(),
+        Some("libquokka-dev")
+    );
+}
