@@ -645,3 +645,42 @@ fn the_readme_catalog_example_reads() {
         Some("libquokka-dev")
     );
 }
+
+/// A catalog file's problems come in one report, as the YAML readers give them: a repeated
+/// id and a header another library claims were told one per run, and a family's problem
+/// names its library (it said "library `families`", read as a library of that name). From an
+/// end-to-end review.
+#[test]
+fn a_catalog_files_problems_come_together_and_name_their_library() {
+    let e = refused(
+        "libraries:
+  - id: quokka-codec
+    headers: [quokka/codec.h]
+  - id: quokka-codec
+    headers: [quokka/other.h]
+  - id: numbat-gfx
+    headers: [zlib.h]
+",
+    );
+    assert!(
+        e.contains("site.yaml:4: library `quokka-codec` is listed twice"),
+        "{e}"
+    );
+    assert!(
+        e.contains("site.yaml:7: library `numbat-gfx`: header `zlib.h` is also library `zlib`'s"),
+        "{e}"
+    );
+    let e =
+        refused("libraries:\n  - id: numbat-gfx\n    families:\n      arch: {dev: numbat-dev}\n");
+    assert!(
+        e.contains("library `numbat-gfx`: `families`: unknown family `arch`"),
+        "{e}"
+    );
+    let e = refused(
+        "libraries:\n  - id: numbat-gfx\n    families:\n      debian: {dev: numbat-dev, source: guessed}\n",
+    );
+    assert!(
+        e.contains("library `numbat-gfx`, family debian: `source`: expected verified or memory"),
+        "{e}"
+    );
+}

@@ -153,15 +153,18 @@ impl Catalog {
         }
         self.native_helpers.extend(top.str_list("native_helpers")?);
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
+        // Every problem of the file in one report, as the YAML readers give them.
+        let mut errors = crate::load::diag::SchemaErrors::new();
         let mut seen = BTreeSet::new();
         let mut lines = Vec::new();
         for (line, lib, claim_lines) in libraries {
             if !seen.insert(lib.id.clone()) {
-                return Err(BadInput::at(
+                errors.keep::<()>(Err(BadInput::at(
                     file,
                     line,
                     format!("library `{}` is listed twice", lib.id),
-                ));
+                )));
+                continue;
             }
             lines.push((line, lib.id.clone(), claim_lines));
             match self.libraries.iter_mut().find(|l| l.id == lib.id) {
@@ -191,17 +194,18 @@ impl Catalog {
                     // The line of the clashing value, as for every other field's value; the
                     // entry's line only if the value's is unknown.
                     let line = claim_lines.get(&(what, value.clone())).copied();
-                    return Err(BadInput::at(
+                    errors.keep::<()>(Err(BadInput::at(
                         file,
                         line.unwrap_or(line_of_entry),
                         format!(
                             "library `{id}`: {what} `{value}` is also library `{}`'s; give it to one library (an entry with that library's id replaces it)",
                             self.libraries[other].id
                         ),
-                    ));
+                    )));
                 }
             }
         }
+        errors.finish()?;
         self.reindex();
         Ok(())
     }
@@ -471,7 +475,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
         }) else {
             return Err(ctx.err(
                 f,
-                "library `families`: expected a mapping of family to packages",
+                format!("library `{id}`: `families`: expected a mapping of family to packages"),
             ));
         };
         for (k, v) in pairs {
@@ -480,7 +484,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                 ctx.err(
                     k,
                     format!(
-                        "library `families`: unknown family `{name}`; expected {}",
+                        "library `{id}`: `families`: unknown family `{name}`; expected {}",
                         OsFamily::expected()
                     ),
                 )
@@ -500,7 +504,9 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                 Some(other) => {
                     return Err(ctx.err(
                         v,
-                        format!("family `source`: expected verified or memory, found `{other}`"),
+                        format!(
+                            "library `{id}`, family {name}: `source`: expected verified or memory, found `{other}`"
+                        ),
                     ));
                 }
             };
