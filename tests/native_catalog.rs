@@ -684,3 +684,22 @@ fn a_catalog_files_problems_come_together_and_name_their_library() {
         "{e}"
     );
 }
+
+/// A catalog's `native_helpers` are package names, refused as a registry's would be, and its
+/// `debian_release` is the release alone, since reports print it after the word Debian
+/// ("Debian Debian 13 (trixie)"). From an end-to-end review.
+#[test]
+fn helper_names_and_the_debian_release_label_are_checked() {
+    let e = refused("native_helpers: [\"bad name\"]\nlibraries: []\n");
+    assert!(
+        e.contains("site.yaml:1:")
+            && e.contains("`native_helpers` name")
+            && e.contains("white space"),
+        "{e}"
+    );
+    let e = refused("debian_release: \"Debian 13 (trixie)\"\nlibraries: []\n");
+    assert!(
+        e.contains("site.yaml:1:") && e.contains("give the release alone"),
+        "{e}"
+    );
+}

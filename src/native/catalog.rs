@@ -149,9 +149,28 @@ impl Catalog {
         let ctx = Ctx { file };
         let top = ctx.map(&doc, "catalog", TOP_FIELDS)?;
         if let Some(release) = top.opt_str("debian_release")? {
+            // Printed after the word "Debian": "Debian Debian 13" read as a typo of the tool.
+            if release.trim_start().to_lowercase().starts_with("debian") {
+                return Err(ctx.err(
+                    top.get("debian_release").unwrap_or(&doc),
+                    format!(
+                        "`debian_release` `{release}`: give the release alone (`12 (bookworm)`); reports print it after the word Debian"
+                    ),
+                ));
+            }
             self.debian_release = release.to_string();
         }
-        self.native_helpers.extend(top.str_list("native_helpers")?);
+        // Package names, as a registry's are: one no registry could hold names no package.
+        for helper in top.str_list_at("native_helpers")? {
+            if let Some(why) = crate::load::diag::name_problem(&helper.value) {
+                return Err(BadInput::at(
+                    file,
+                    helper.line,
+                    crate::load::diag::bad_name_detail("`native_helpers` name", &helper.value, why),
+                ));
+            }
+            self.native_helpers.insert(helper.value);
+        }
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
         // Every problem of the file in one report, as the YAML readers give them.
         let mut errors = crate::load::diag::SchemaErrors::new();
