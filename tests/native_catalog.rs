@@ -703,3 +703,21 @@ fn helper_names_and_the_debian_release_label_are_checked() {
         "{e}"
     );
 }
+
+/// A field's problem names its library and family: "library `cxx`: expected true or false"
+/// read as a library named `cxx` (from an end-to-end review).
+#[test]
+fn a_fields_problem_names_its_library() {
+    let e = refused("libraries:\n  - id: numbat-gfx\n    cxx: maybe\n");
+    assert!(
+        e.contains("site.yaml:3: library `numbat-gfx`, `cxx`: expected true or false"),
+        "{e}"
+    );
+    let e = refused(
+        "libraries:\n  - id: numbat-gfx\n    families:\n      alpine: {dev: [numbat-dev]}\n",
+    );
+    assert!(
+        e.contains("site.yaml:4: library `numbat-gfx`, family alpine, `dev`"),
+        "{e}"
+    );
+}

@@ -377,9 +377,10 @@ impl<'a> Ctx<'a> {
     pub fn map<'n>(
         &self,
         node: &'n Node,
-        what: &'static str,
+        what: impl Into<std::borrow::Cow<'static, str>>,
         known: &'static [&'static str],
     ) -> Result<MapReader<'n, 'a>, BadInput> {
+        let what = what.into();
         match &node.value {
             Value::Map(pairs) => {
                 let mut entries = Vec::with_capacity(pairs.len());
@@ -466,7 +467,10 @@ fn quoted_found(text: &str, meant: bool, expected: &str) -> String {
 pub struct MapReader<'n, 'a> {
     pub ctx: Ctx<'a>,
     pub node: &'n Node,
-    what: &'static str,
+    /// What the map is, as messages about its fields begin: a record kind (`image`), or one
+    /// record by name where its fields' names could read as names of records (`library
+    /// `zlib`,`).
+    what: std::borrow::Cow<'static, str>,
     /// Each key with its value and the key's own line: a value left empty in block style is
     /// placed by the YAML reader at the next token, which may be lines further on.
     entries: Vec<(&'n str, &'n Node, usize)>,

@@ -440,11 +440,16 @@ pub fn install_command(family: OsFamily, packages: &[String]) -> String {
 type ClaimLines = HashMap<(&'static str, String), usize>;
 
 fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLines), BadInput> {
-    let m = ctx.map(node, "library", LIBRARY_FIELDS)?;
-    let id = m.required_str("id")?.trim().to_string();
+    let id = ctx
+        .map(node, "library", LIBRARY_FIELDS)?
+        .required_str("id")?
+        .trim()
+        .to_string();
     if id.is_empty() {
         return Err(ctx.err(node, "library: `id` is empty"));
     }
+    // Messages about a field name the library: "library `cxx`" read as a library named so.
+    let m = ctx.map(node, format!("library `{id}`,"), LIBRARY_FIELDS)?;
     let mut claim_lines = ClaimLines::new();
     if let Some(n) = m.get("id") {
         claim_lines.insert(("name or alias", id.clone()), n.line);
@@ -516,7 +521,9 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                     format!("library `{id}`: `families`: family `{name}` given twice"),
                 ));
             }
-            let fm = ctx.map(v, "family packages", FAMILY_FIELDS)?;
+            // Checked as a record first, so an unknown field reads "family packages: ...".
+            ctx.map(v, "family packages", FAMILY_FIELDS)?;
+            let fm = ctx.map(v, format!("library `{id}`, family {name},"), FAMILY_FIELDS)?;
             let source = match fm.opt_str("source")? {
                 None | Some("memory") => FactSource::Memory,
                 Some("verified") => FactSource::Verified,
@@ -558,7 +565,7 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             let dev = match fm.get("dev") {
                 None => None,
                 Some(node) => {
-                    let name = ctx.str(node, "family `dev`")?;
+                    let name = ctx.str(node, &format!("library `{id}`, family {name}, `dev`"))?;
                     check("dev", name, node.line)?;
                     Some(name.to_string())
                 }
@@ -567,7 +574,10 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             // packages needs all of them at run time.
             let mut runtime: Vec<String> = Vec::new();
             if let Some(node) = fm.get("runtime") {
-                for item in ctx.str_list_at(Some(node), "family `runtime`")? {
+                for item in ctx.str_list_at(
+                    Some(node),
+                    &format!("library `{id}`, family {name}, `runtime`"),
+                )? {
                     check("runtime", &item.value, item.line)?;
                     if runtime.contains(&item.value) {
                         return Err(BadInput::at(
@@ -596,7 +606,10 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             for key in ["alternatives", "pulled_in_by"] {
                 let mut names: Vec<String> = Vec::new();
                 if let Some(node) = fm.get(key) {
-                    for item in ctx.str_list_at(Some(node), &format!("family `{key}`"))? {
+                    for item in ctx.str_list_at(
+                        Some(node),
+                        &format!("library `{id}`, family {name}, `{key}`"),
+                    )? {
                         check(key, &item.value, item.line)?;
                         let at = |message: String| BadInput::at(ctx.file, item.line, message);
                         if dev.is_none() {
