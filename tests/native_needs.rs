@@ -1794,3 +1794,51 @@ fn a_prebuilt_build_on_a_c_only_image_needs_no_cxx_compiler() {
     assert!(stdout.contains("installs"), "{stdout}");
     assert!(!stdout.contains("g++"), "{stdout}");
 }
+
+/// A cell at risk for a library the catalog does not know is confirmed by a log missing that
+/// library under the name it was declared by (`frobnitz` or `libfrobnitz`, the log missing
+/// `-lfrobnitz`, `frobnitz.pc` or `libfrobnitz.so.1`); it was `risk-unconfirmed`, though the
+/// log showed exactly what the cell was at risk for (README, the verdict table; from an
+/// end-to-end review). A library it did not declare confirms nothing.
+#[test]
+fn a_log_missing_an_uncatalogued_library_the_cell_needed_confirms_the_risk() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = "packages:
+  - name: frob-native
+    versions: [{version: 1.0.0, native: {libraries: [libfrobnitz]}}]
+";
+    let images = format!(
+        "images:\n{}",
+        image("deb", "debian", "    toolchain: true\n")
+    );
+    let args = inputs(dir.path(), registry, &images, &["frob-native"]);
+    for (log, verdict) in [
+        (
+            "/usr/bin/ld: cannot find -lfrobnitz: No such file or directory",
+            "risk-confirmed",
+        ),
+        (
+            "Package frobnitz was not found in the pkg-config search path.",
+            "risk-confirmed",
+        ),
+        (
+            "ImportError: libfrobnitz.so.1: cannot open shared object file: No such file or directory",
+            "risk-confirmed",
+        ),
+        (
+            "/usr/bin/ld: cannot find -lquux: No such file or directory",
+            "risk-unconfirmed",
+        ),
+    ] {
+        let args = with_results(
+            dir.path(),
+            args.clone(),
+            &format!(
+                "results:\n  - {{package: frob-native, image: deb, outcome: failed, log: \"{log}\"}}\n"
+            ),
+        );
+        let c = reviewed_cells(&args)("frob-native", "deb");
+        assert_eq!(c["predicted"], "at-risk", "{c}");
+        assert_eq!(c["verdict"], verdict, "{log}: {c}");
+    }
+}

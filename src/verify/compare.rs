@@ -311,8 +311,46 @@ fn risk_agrees(
                 .collect::<Vec<_>>(),
         )),
         LogCause::RuntimeRefused { .. } | LogCause::OutOfMemory | LogCause::Killed => Some(false),
+        // A library the catalog does not know, that the cell was at risk for under the same
+        // name (declared `frobnitz` or `libfrobnitz`, the log missing `-lfrobnitz`).
+        LogCause::MissingLibrary { .. }
+        | LogCause::MissingPkgConfig { .. }
+        | LogCause::MissingSharedObject { .. }
+            if uncatalogued_need_named(catalog, cell, log) =>
+        {
+            Some(true)
+        }
         _ => None,
     }
+}
+
+/// Whether `log` misses, by link name, pkg-config module or shared object, a library the
+/// cell needs that the catalog does not know (a need it was at risk for without a package to
+/// name).
+fn uncatalogued_need_named(
+    catalog: &Catalog,
+    cell: &crate::plan::matrix::Cell,
+    log: &LogCause,
+) -> bool {
+    let named = match log {
+        LogCause::MissingLibrary { link } => link.as_str(),
+        LogCause::MissingPkgConfig { module } => module.as_str(),
+        LogCause::MissingSharedObject { soname } => {
+            match logs::link_name_of_shared_object(soname) {
+                Some(stem) => stem,
+                None => return false,
+            }
+        }
+        _ => return false,
+    };
+    let named = named.to_lowercase();
+    cell.native_needs.iter().any(|need| {
+        need.library.as_deref().is_some_and(|library| {
+            let library = library.to_lowercase();
+            catalog.by_declared_name(&library).is_none()
+                && (library == named || library.strip_prefix("lib") == Some(named.as_str()))
+        })
+    })
 }
 
 /// The failed attempt whose log a cell's review acts on, with that log's findings: the one
