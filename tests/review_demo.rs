@@ -2100,6 +2100,13 @@ fn an_at_risk_failure_that_shows_no_native_cause_is_not_a_confirmed_risk() {
         assert_eq!(c.verdict, Verdict::RiskUnconfirmed, "{results}");
         assert_eq!(c.cause_agrees, None, "{results}");
         assert!(!c.verdict.is_surprise());
+        // It says why, as README lists the reasons: the line was empty (from an end-to-end
+        // review).
+        let why = match results.contains("log:") {
+            false => "no log was recorded, so nothing shows whether it failed for what it was at risk for (libpq-devel): record the install's log",
+            true => "the log shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for (libpq-devel): read the log for the failing step",
+        };
+        assert_eq!(c.suggestion.as_deref(), Some(why), "{results}");
         let text = basefit::report::text::review_text(&review);
         let (agreed, rest) = text
             .split_once("flaky, drifted, undecided, or at risk and failed without showing why:")

@@ -1237,6 +1237,22 @@ pub fn compare_within(
                 &cell.package,
                 &cell.image,
             )),
+            // Nothing in the log to act on: say why the risk stays open, and what settles it.
+            Verdict::RiskUnconfirmed if log_cause.is_none() => {
+                let at_risk_for = match cell.missing_system_packages.as_slice() {
+                    [] => "its native build".to_string(),
+                    packages => packages.join(" "),
+                };
+                let recorded = deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some());
+                Some(match recorded {
+                    false => format!(
+                        "no log was recorded, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): record the install's log"
+                    ),
+                    true => format!(
+                        "the log shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): read the log for the failing step"
+                    ),
+                })
+            }
             _ => log_cause
                 .as_ref()
                 .and_then(|c| suggest(registry, images, catalog, cell, c, seen_need)),
