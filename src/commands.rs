@@ -513,6 +513,23 @@ fn review_results(
             ),
         ));
     }
+    // Results on cells the solver left undecided compare with no prediction either: with
+    // nothing else, `render` would show a page of them and exit 0.
+    if review
+        .cells
+        .iter()
+        .all(|c| c.verdict == crate::verify::Verdict::Undecided)
+    {
+        let n = review.cells.len();
+        return Err(BadInput::file(
+            results_files(paths),
+            format!(
+                "no recorded result could be compared with the predictions: the {n} {} they fall on {} undecided (the solver ran out of --budget {budget}; raise it)",
+                crate::report::one_or_many(n, "cell", "cells"),
+                crate::report::one_or_many(n, "was", "were"),
+            ),
+        ));
+    }
     Ok(review)
 }
 

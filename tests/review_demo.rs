@@ -1926,7 +1926,9 @@ fn advice_on_an_undecided_cell_claims_nothing_of_its_closure() {
     let results = common::write(
         dir.path(),
         "r.yaml",
-        "results:\n  - {package: mopoke-docs, image: deb-3.2, outcome: failed, log: \"x.c:1:10: fatal error: libxml/parser.h: No such file or directory\"}\n",
+        // A second result on a cell decided within the budget: a review whose every result
+        // falls on undecided cells compares nothing and is refused.
+        "results:\n  - {package: mopoke-docs, image: deb-3.2, outcome: failed, log: \"x.c:1:10: fatal error: libxml/parser.h: No such file or directory\"}\n  - {package: dunnart-json, image: deb-2.4, outcome: installed}\n",
     );
     let (_, json, stderr) = common::run_basefit(
         ["review", "--budget", "3", "--format", "json"]
@@ -1936,7 +1938,12 @@ fn advice_on_an_undecided_cell_claims_nothing_of_its_closure() {
     );
     let v: serde_json::Value =
         serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {stderr}"));
-    let c = &v["cells"][0];
+    let c = v["cells"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["package"] == "mopoke-docs")
+        .unwrap();
     assert_eq!(c["verdict"], "undecided", "{c}");
     let s = c["suggestion"].as_str().unwrap();
     assert!(
@@ -2103,8 +2110,12 @@ fn an_at_risk_failure_that_shows_no_native_cause_is_not_a_confirmed_risk() {
         // It says why, as README lists the reasons: the line was empty (from an end-to-end
         // review).
         let why = match results.contains("log:") {
-            false => "no log was recorded, so nothing shows whether it failed for what it was at risk for (libpq-devel): record the install's log",
-            true => "the log shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for (libpq-devel): read the log for the failing step",
+            false => {
+                "no log was recorded, so nothing shows whether it failed for what it was at risk for (libpq-devel): record the install's log"
+            }
+            true => {
+                "the log shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for (libpq-devel): read the log for the failing step"
+            }
         };
         assert_eq!(c.suggestion.as_deref(), Some(why), "{results}");
         let text = basefit::report::text::review_text(&review);
@@ -2171,4 +2182,25 @@ fn a_review_with_no_recorded_result_says_there_is_nothing_to_review() {
         message.contains("holds no recorded install result: nothing to review"),
         "{message}"
     );
+}
+
+/// A review whose every result falls on cells the solver left undecided compares nothing, as
+/// one whose results were all left out: `review` and `render` refuse it (exit 2, README: "exit 2
+/// when no result can be compared"); `render` showed a page of unsettled cells and exited 0
+/// (from an end-to-end review).
+#[test]
+fn results_only_on_undecided_cells_compare_nothing() {
+    for command in ["review", "render"] {
+        let (code, _, stderr) = common::run_basefit(
+            [command, "--budget", "1", "--quiet"]
+                .into_iter()
+                .chain(common::DEMO)
+                .chain(["--results", "demo-data/results.yaml"]),
+        );
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr.contains("no recorded result could be compared with the predictions: the 11 cells they fall on were undecided"),
+            "{command}: {stderr}"
+        );
+    }
 }
