@@ -111,12 +111,21 @@ fn is_zero(n: &u64) -> bool {
 /// Where line `line` of a record's `log` is, in words: the record's own `log` text comes
 /// first, then the log file's part that was read, whose lines count from the first line read
 /// when only its tail was (so a number is never passed off as a line of the whole file).
+///
+/// ```
+/// use basefit::verify::compare::log_line_place;
+/// assert_eq!(log_line_place(0, 0, 3), "line 3");
+/// assert_eq!(log_line_place(1, 0, 1), "line 1 of the record's `log` text");
+/// assert_eq!(log_line_place(1, 0, 4), "line 3 of the log file");
+/// ```
 pub fn log_line_place(inline_lines: usize, skipped: u64, line: usize) -> String {
     if inline_lines > 0 && line <= inline_lines {
         return format!("line {line} of the record's `log` text");
     }
     let line = line - inline_lines;
     match skipped {
+        // Beside the record's own text, a bare number would read as either part's.
+        0 if inline_lines > 0 => format!("line {line} of the log file"),
         0 => format!("line {line}"),
         skipped => format!(
             "line {line} of the part of the log file read, which skips its first {skipped} bytes"
