@@ -1061,3 +1061,18 @@ fn a_runtime_refusal_outranks_an_earlier_missing_header() {
     );
     assert_eq!(p.line, 2);
 }
+
+/// A shared object's stem loses only a trailing version of dot-separated numbers after its
+/// last dash (the doc of `unversioned_stem`; Debian 12 names such as `libyaml-0.so.2`, and
+/// `libdbus-glib-1.so.2` of libdbus-glib-1-2, whose name has a dash of its own): nothing is
+/// taken for a version that is not one, and no empty link name is left (from a mutation review
+/// of src/verify/compare.rs).
+#[test]
+fn an_unversioned_stem_drops_only_a_whole_trailing_version() {
+    use basefit::verify::logs::unversioned_stem;
+    assert_eq!(unversioned_stem("dbus-glib-1"), Some("dbus-glib"));
+    assert_eq!(unversioned_stem("event_core-2.1"), Some("event_core"));
+    for not_versioned in ["yaml-", "glib-2.", "glib-.0", "glib-2..0", "-2", "-2.0"] {
+        assert_eq!(unversioned_stem(not_versioned), None, "{not_versioned}");
+    }
+}

@@ -1842,3 +1842,62 @@ fn a_log_missing_an_uncatalogued_library_the_cell_needed_confirms_the_risk() {
         assert_eq!(c["verdict"], verdict, "{log}: {c}");
     }
 }
+
+/// A cell at risk for the whole toolchain (C++ sources, an image declaring no compiler) is
+/// confirmed by a log missing the C++ compiler: the toolchain package brings it, so the log
+/// shows a compiler the cell was at risk for (README, "Reviewing recorded installs":
+/// `risk-confirmed`, "its log showing a library or compiler the cell was at risk for"). The
+/// log line is dash's (Debian's /bin/sh) own, from `sh -c 'g++ -c x.cc'` with no g++ on the
+/// path (from a mutation review of src/verify/compare.rs: a C++-compiler risk read only as a
+/// risk for the C++ compiler package called it unconfirmed).
+#[test]
+fn a_missing_cxx_compiler_confirms_a_risk_for_the_whole_toolchain() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!("packages:\n{}", package("hash-cpp", "", "src/ext/hash.cpp"));
+    for (family, toolchain) in [("debian", "build-essential"), ("alpine", "build-base")] {
+        let images = format!("images:\n{}", image("bare", family, ""));
+        let args = inputs(dir.path(), &registry, &images, &["hash-cpp"]);
+        let (_, stdout, _) = run(&["explain", "hash-cpp", "bare"], &args);
+        assert!(
+            stdout.starts_with("hash-cpp on bare: at-risk")
+                && stdout.contains(&format!("missing system packages: {toolchain}\n")),
+            "{stdout}"
+        );
+        let args = with_results(
+            dir.path(),
+            args,
+            "results:\n  - {package: hash-cpp, image: bare, outcome: failed, log: \"/bin/sh: 1: g++: not found\"}\n",
+        );
+        let cell = reviewed_cells(&args)("hash-cpp", "bare");
+        assert_eq!(cell["verdict"], "risk-confirmed", "{family}: {cell}");
+        assert_eq!(cell["cause_agrees"], true, "{family}: {cell}");
+    }
+}
+
+/// An image that lacks no package the catalog can name, yet has a cell at risk for a library
+/// with no package of its family, is not "nothing missing": `syslibs` says so, names the
+/// library, and exits 1 (README, "What `syslibs` counts": "the text says no package the
+/// catalog can name is missing but needed libraries are unmapped"). Objective-C++ on alpine,
+/// for which no package is known (from a mutation review of src/report/text.rs).
+#[test]
+fn syslibs_says_an_image_lacking_only_unmapped_libraries_lacks_something() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("numbat-objcpp", "", "src/ext/view.mm")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("alp", "alpine", "    packages: [build-base]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let (code, stdout, stderr) = run(&["syslibs"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout.contains(
+            "\n  alp (alpine): no package to add that the catalog can name, but needed libraries are unmapped:\n"
+        ) && stdout.contains("no alpine package known for (check the image by hand, or give them with --catalog): gobjc++ [likely] (numbat-objcpp)"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("nothing missing"), "{stdout}");
+}
