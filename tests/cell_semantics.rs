@@ -1619,6 +1619,25 @@ fn a_dependency_declared_twice_is_one_line_of_the_tree() {
     assert!(!text.contains("(shown above)"), "{text}");
 }
 
+/// A dependency two packages of the closure share is a tree line under each, the second
+/// marked `(shown above)` (README, `explain`: "the resolved closure as a tree"): unmarked, the
+/// second line reads as a second copy of the package in the closure (from a mutation review of
+/// src/report/text.rs).
+#[test]
+fn a_dependency_shared_by_two_packages_is_marked_where_it_repeats() {
+    let registry = "packages:\n  - name: top\n    versions:\n      - {version: \"1.0.0\", depends: [{name: left, req: \"^1\"}, {name: right, req: \"^1\"}]}\n  - name: left\n    versions: [{version: \"1.0.0\", depends: [{name: leaf, req: \"^1\"}]}]\n  - name: right\n    versions: [{version: \"1.0.0\", depends: [{name: leaf, req: \"^1\"}]}]\n  - name: leaf\n    versions: [{version: \"1.0.0\"}]\n";
+    let inputs = inputs(registry, "priorities: [top]\n");
+    let e = explain(&inputs, "top", "deb", &PlanOptions::default()).unwrap();
+    let text = basefit::report::text::explain_text(&e);
+    let leaves: Vec<&str> = text
+        .lines()
+        .filter(|l| l.trim_start().starts_with("leaf 1.0.0"))
+        .collect();
+    assert_eq!(leaves.len(), 2, "{text}");
+    assert!(!leaves[0].contains("(shown above)"), "{text}");
+    assert!(leaves[1].ends_with(" (shown above)"), "{text}");
+}
+
 /// A release with no build for any platform is told apart in the explanation: "without a
 /// source build or a prebuilt build for linux/glibc/x86_64" sent the reader to another
 /// platform, where it cannot install either. A release with a prebuilt build for another
@@ -2305,4 +2324,92 @@ fn platform_words_match_whatever_their_case() {
         .cell;
     assert_eq!(cell.root_version.as_deref(), Some("1.0.0"), "{cell:?}");
     assert!(cell.cause.is_none(), "{cell:?}");
+}
+
+/// The release hint names the newest release that resolves as a pre-release when it is one
+/// and lies outside the entry's requirement (README, `explain`: "named as a pre-release or as
+/// outside the entry's requirement when it is one"): `prerelease: true` admits pre-releases,
+/// but 2.0.0-rc.1 is outside `^1` all the same, and a reader should not take it for a release
+/// (from a mutation review of src/report/text.rs).
+#[test]
+fn a_pre_release_outside_the_requirement_is_named_as_one_in_the_release_hint() {
+    let registry = r#"packages:
+  - name: tern
+    versions:
+      - {version: "1.0.0", runtime: ">=9"}
+      - {version: "2.0.0-rc.1"}
+  - name: heron
+    versions:
+      - {version: "1.0.0", runtime: ">=9"}
+      - {version: "2.0.0"}
+"#;
+    let inputs = inputs(
+        registry,
+        "priorities:\n  - {name: tern, req: \"^1\", prerelease: true}\n  - {name: heron, req: \"^1\"}\n",
+    );
+    let hints = |name: &str| {
+        let e = explain(&inputs, name, "deb", &PlanOptions::default()).unwrap();
+        common::hint_lines(&basefit::report::text::explain_text(&e))
+    };
+    assert!(
+        hints("tern").contains(
+            &"newest release that resolves on this image: 2.0.0-rc.1 (installs); a pre-release outside the entry's requirement `^1`".to_string()
+        ),
+        "{:?}",
+        hints("tern")
+    );
+    assert!(
+        hints("heron").contains(
+            &"newest release that resolves on this image: 2.0.0 (installs); outside the entry's requirement `^1`".to_string()
+        ),
+        "{:?}",
+        hints("heron")
+    );
+}
+
+/// Every release the release hint tried is named in one of its lines, whatever mix of
+/// unresolved constraints and budget exhaustion they show (README, `explain`: hints "claim
+/// only what their tries found"): from a mutation review of src/report/text.rs, where beside
+/// a release the solver gave up on, the line on those whose constraints do not resolve could
+/// be dropped, leaving them unaccounted for.
+#[test]
+fn the_release_hint_names_every_release_it_tried() {
+    use basefit::plan::explain::ReleaseHint;
+    use basefit::plan::matrix::Outcome::{Fails, Undecided};
+    let hint = ReleaseHint {
+        trials: vec![
+            trial("2.0.0", Fails, Some(Cause::RuntimeTooOld)),
+            trial("1.0.0", Undecided, Some(Cause::BudgetExhausted)),
+        ],
+        untried: 0,
+        yanked: 0,
+        not_admitted: None,
+        not_asked_for: Vec::new(),
+    };
+    assert_eq!(
+        hint_lines(None, Some(hint)),
+        [
+            "pinned to 1.0.0, the solver ran out of budget (raise --budget)",
+            "pinned to 2.0.0, its version constraints do not resolve",
+            "whether any of its releases resolves on this image is unknown",
+        ]
+    );
+    // A release that resolves, older than one the solver gave up on: a newer one may resolve.
+    let hint = ReleaseHint {
+        trials: vec![
+            trial("2.0.0", Undecided, Some(Cause::BudgetExhausted)),
+            trial("1.0.0", basefit::plan::matrix::Outcome::Installs, None),
+        ],
+        untried: 0,
+        yanked: 0,
+        not_admitted: None,
+        not_asked_for: Vec::new(),
+    };
+    assert_eq!(
+        hint_lines(None, Some(hint)),
+        [
+            "newest release that resolves on this image: 1.0.0 (installs)",
+            "on the newer 2.0.0 the solver ran out of budget, so a newer one may resolve too (raise --budget)",
+        ]
+    );
 }

@@ -306,3 +306,36 @@ fn the_text_names_the_entrys_build_where_it_is_all_that_changed() {
         "{text}"
     );
 }
+
+/// A dependency whose build alone changed (source turned prebuilt at the same version) names
+/// the build on both sides of its line, and only then: "aa 1.0.0 -> 1.0.0" would list it as
+/// moved with nothing to show for it (from a mutation review of src/report/text.rs).
+#[test]
+fn the_text_names_a_dependencys_build_where_it_is_all_that_changed() {
+    let registry = |aa: &str| {
+        format!(
+            "packages:\n  - name: kestrel\n    versions: [{{version: 1.0.0, depends: [{{name: aa, req: '*'}}]}}]\n  - {{name: aa, versions: [{aa}]}}\n"
+        )
+    };
+    let plan = |aa: &str| {
+        planned_from(
+            &registry(aa),
+            "priorities:\n  - kestrel\n",
+            &PlanOptions::default(),
+        )
+    };
+    let before = plan("{version: 1.0.0}");
+    let after = plan("{version: 1.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}");
+    let text = basefit::report::text::diff_text(&diff(&before, &after, |_| String::new()));
+    assert!(
+        text.contains("\n    dependencies: aa 1.0.0 (source) -> 1.0.0 (prebuilt)\n"),
+        "{text}"
+    );
+    let later =
+        plan("{version: 1.0.0}, {version: 2.0.0, builds: {prebuilt: [linux/glibc/x86_64]}}");
+    let text = basefit::report::text::diff_text(&diff(&before, &later, |_| String::new()));
+    assert!(
+        text.contains("\n    dependencies: aa 1.0.0 -> 2.0.0\n"),
+        "{text}"
+    );
+}
