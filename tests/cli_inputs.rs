@@ -2492,6 +2492,15 @@ fn check_says_which_left_out_rows_went_with_their_version() {
         ),
         "{stdout}"
     );
+    // Only where some did: the version left out went with no record (from a mutation review of
+    // src/report/text.rs, where a "0 of the ..." line for every kind went unnoticed).
+    assert_eq!(
+        stdout
+            .matches("went with the record they belong to")
+            .count(),
+        1,
+        "{stdout}"
+    );
     let (_, json, _) = common::run_basefit(["check", "--bulk", v, d, "--format", "json"]);
     let json: serde_json::Value = serde_json::from_str(&json).unwrap();
     let dependency = json["records"]

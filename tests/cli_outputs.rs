@@ -1707,3 +1707,84 @@ fn every_planning_command_notes_data_quality_problems() {
         );
     }
 }
+
+/// The text summary of `plan` counts failures by cause as its JSON summary does (README,
+/// `plan`: "prints the summary"): every cause with its count, none dropped (from a mutation
+/// review of src/report/text.rs, where the line could go unnoticed).
+#[test]
+fn the_plan_summary_counts_each_failure_cause_as_the_json_does() {
+    let (code, text, stderr) = run(&["plan"], &DEMO);
+    assert!(code < 2, "{stderr}");
+    let (_, json, _) = run(&["plan"], &[&DEMO[..], &["--format", "json"]].concat());
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let causes = v["summary"]["causes"].as_object().unwrap();
+    assert!(causes.len() > 3, "{json}");
+    let expected: Vec<String> = causes.iter().map(|(c, n)| format!("{c} {n}")).collect();
+    let line = format!("\nfailure causes: {}\n", expected.join(", "));
+    assert!(text.contains(&line), "{line:?} not in {text}");
+}
+
+/// `syslibs` text gives each image's greedy order as steps numbered from 1, with the gains and
+/// packages its JSON holds, and one install command per OS family (README, `syslibs`: "a
+/// greedy order to add them ... one install command per OS family"): from a mutation review
+/// of src/report/text.rs, where neither the numbering nor the family commands were checked.
+#[test]
+fn syslibs_text_numbers_the_advice_and_gives_each_familys_command() {
+    let (code, text, stderr) = run(&["syslibs"], &DEMO);
+    assert!(code < 2, "{stderr}");
+    let (_, json, _) = run(&["syslibs"], &[&DEMO[..], &["--format", "json"]].concat());
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let words = |a: &serde_json::Value, sep: &str| {
+        a.as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s.as_str().unwrap())
+            .collect::<Vec<_>>()
+            .join(sep)
+    };
+    let mut steps = 0;
+    for image in v["images"].as_array().unwrap() {
+        for (n, s) in image["advice"].as_array().unwrap().iter().enumerate() {
+            let line = format!(
+                "\n      {}. {}  +{:.2} (total {:.2}): {}\n",
+                n + 1,
+                words(&s["add"], " "),
+                s["gain"].as_f64().unwrap(),
+                s["cumulative"].as_f64().unwrap(),
+                words(&s["unblocks"], ", ")
+            );
+            assert!(text.contains(&line), "{line:?} not in {text}");
+            steps += 1;
+        }
+    }
+    assert!(steps > 1, "{json}");
+    let families = v["families"].as_array().unwrap();
+    assert!(families.len() > 1, "{json}");
+    let section = text
+        .split("\nper OS family, everything missing on any of its images:\n")
+        .nth(1)
+        .unwrap_or_else(|| panic!("{text}"));
+    for f in families {
+        let line = format!(
+            "  {}: {}\n",
+            f["family"].as_str().unwrap(),
+            f["command"].as_str().unwrap()
+        );
+        assert!(section.contains(&line), "{line:?} not in {text}");
+    }
+}
+
+/// The check report says how many problems it found in how many categories, as its JSON
+/// holds them, plural where more than one (from a mutation review of src/report/text.rs; the
+/// demo's inputs have several problems in several categories).
+#[test]
+fn the_check_report_counts_its_problems_and_categories() {
+    let (_, text, stderr) = run(&["check"], &DEMO);
+    let (_, json, _) = run(&["check"], &[&DEMO[..], &["--format", "json"]].concat());
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let groups = v["problems"].as_array().unwrap();
+    let total: u64 = groups.iter().map(|g| g["total"].as_u64().unwrap()).sum();
+    assert!(groups.len() > 1 && total > 1, "{json}");
+    let line = format!("\n{total} problems in {} categories\n", groups.len());
+    assert!(text.contains(&line), "{line:?} not in {text}{stderr}");
+}

@@ -633,6 +633,12 @@ fn a_runtime_refusal_is_acted_on_and_every_finding_is_kept() {
             && text.contains("also in the log: missing header zlib.h (line 1)"),
         "{text}"
     );
+    // The cause acted on is not among the others (from a mutation review of
+    // src/report/text.rs, where it could be listed twice).
+    assert!(
+        text.contains("also in the log: missing header zlib.h (line 1)\n"),
+        "{text}"
+    );
 }
 
 /// The largest single allocation made in this test binary: a log read whole shows up as one
@@ -858,6 +864,13 @@ fn the_tail_cut_keeps_a_whole_line_and_places_lines_by_their_source() {
         ),
         "{at}"
     );
+    // The place of the evidence says what was skipped; no second line repeats it (from a
+    // mutation review of src/report/text.rs).
+    let text = basefit::report::text::review_text(&review);
+    assert!(
+        !text.contains("only the log file's tail was read"),
+        "{text}"
+    );
     // Nothing known in the tail: the skip is still told.
     common::write(dir.path(), "dots.log", vec![b'.'; window as usize + 10]);
     let yaml = common::write(
@@ -872,6 +885,12 @@ fn the_tail_cut_keeps_a_whole_line_and_places_lines_by_their_source() {
         "{}",
         c.log_skipped
     );
+    let text = basefit::report::text::review_text(&review);
+    let told = format!(
+        "\n      only the log file's tail was read: its first {} bytes were skipped\n",
+        c.log_skipped
+    );
+    assert!(text.contains(&told), "{text}");
 }
 
 #[test]
@@ -1323,6 +1342,29 @@ fn the_review_counts_at_risk_cells_apart() {
     );
     assert!(
         text.contains("failure predictions: precision 75.0%, recall 60.0%\nat-risk predictions (counted with the installs above): 1 failed, 0 installed\n"),
+        "{text}"
+    );
+}
+
+/// The at-risk count is shown when at-risk cells only installed, too: the installs row holds
+/// them (from a mutation review of src/report/text.rs, where the line was tested only with
+/// one that failed). burrow-lite is at risk on el9-3.0; here it installed.
+#[test]
+fn the_review_counts_at_risk_cells_that_only_installed() {
+    let results = "results:\n  - {package: burrow-lite, image: el9-3.0, outcome: installed}\n";
+    let review = review_of(results);
+    assert_eq!(
+        (
+            review.confusion.at_risk_failed,
+            review.confusion.at_risk_installed
+        ),
+        (0, 1)
+    );
+    let text = basefit::report::text::review_text(&review);
+    assert!(
+        text.contains(
+            "\nat-risk predictions (counted with the installs above): 0 failed, 1 installed\n"
+        ),
         "{text}"
     );
 }
