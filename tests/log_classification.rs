@@ -1063,8 +1063,9 @@ fn a_runtime_refusal_outranks_an_earlier_missing_header() {
 }
 
 /// A shared object's stem loses only a trailing version of dot-separated numbers after its
-/// last dash (the doc of `unversioned_stem`; Debian 12 names such as `libyaml-0.so.2`, and
-/// `libdbus-glib-1.so.2` of libdbus-glib-1-2, whose name has a dash of its own): nothing is
+/// last dash (the doc of `unversioned_stem`; Debian 12 names such as `libyaml-0.so.2`, in the
+/// archive extract, and `libdbus-glib-1.so.2` of libdbus-glib-1-2, whose name has a dash of its
+/// own, from memory): nothing is
 /// taken for a version that is not one, and no empty link name is left (from a mutation review
 /// of src/verify/compare.rs).
 #[test]
