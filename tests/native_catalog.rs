@@ -7,6 +7,12 @@ use basefit::model::OsFamily;
 use basefit::native::Catalog;
 use basefit::native::catalog::FactSource;
 
+/// Checks that a user catalog file holding `text` is refused with an error containing `want`.
+fn assert_refused_with(text: &str, want: &str) {
+    let e = refused(text);
+    assert!(e.contains(want), "wanted {want} in {e}");
+}
+
 /// The error a user catalog file named `site.yaml` holding `text` is refused with.
 fn refused(text: &str) -> String {
     let dir = tempfile::tempdir().unwrap();
@@ -670,18 +676,13 @@ fn a_catalog_files_problems_come_together_and_name_their_library() {
         e.contains("site.yaml:7: library `numbat-gfx`: header `zlib.h` is also library `zlib`'s"),
         "{e}"
     );
-    let e =
-        refused("libraries:\n  - id: numbat-gfx\n    families:\n      arch: {dev: numbat-dev}\n");
-    assert!(
-        e.contains("library `numbat-gfx`: `families`: unknown family `arch`"),
-        "{e}"
+    assert_refused_with(
+        "libraries:\n  - id: numbat-gfx\n    families:\n      arch: {dev: numbat-dev}\n",
+        "library `numbat-gfx`: `families`: unknown family `arch`",
     );
-    let e = refused(
+    assert_refused_with(
         "libraries:\n  - id: numbat-gfx\n    families:\n      debian: {dev: numbat-dev, source: guessed}\n",
-    );
-    assert!(
-        e.contains("library `numbat-gfx`, family debian: `source`: expected verified or memory"),
-        "{e}"
+        "library `numbat-gfx`, family debian: `source`: expected verified or memory",
     );
 }
 
@@ -708,16 +709,12 @@ fn helper_names_and_the_debian_release_label_are_checked() {
 /// read as a library named `cxx` (from an end-to-end review).
 #[test]
 fn a_fields_problem_names_its_library() {
-    let e = refused("libraries:\n  - id: numbat-gfx\n    cxx: maybe\n");
-    assert!(
-        e.contains("site.yaml:3: library `numbat-gfx`, `cxx`: expected true or false"),
-        "{e}"
+    assert_refused_with(
+        "libraries:\n  - id: numbat-gfx\n    cxx: maybe\n",
+        "site.yaml:3: library `numbat-gfx`, `cxx`: expected true or false",
     );
-    let e = refused(
+    assert_refused_with(
         "libraries:\n  - id: numbat-gfx\n    families:\n      alpine: {dev: [numbat-dev]}\n",
-    );
-    assert!(
-        e.contains("site.yaml:4: library `numbat-gfx`, family alpine, `dev`"),
-        "{e}"
+        "site.yaml:4: library `numbat-gfx`, family alpine, `dev`",
     );
 }
