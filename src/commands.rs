@@ -556,17 +556,7 @@ pub fn check(o: &CheckOptions) -> Result<Output, BadInput> {
     let mut out = Output::report(
         o.format,
         &text::check_report(ledger),
-        |_| match &empty {
-            None => text::check_text(ledger),
-            Some(line) => format!(
-                "{}\n{line}\n",
-                text::check_text(ledger).replacen(
-                    "no problems found",
-                    "no problem in the records read",
-                    1
-                )
-            ),
-        },
+        |_| text::check_text(ledger, empty.as_deref()),
         !ledger.is_clean() || empty.is_some(),
     );
     if let (Some(line), Format::Json | Format::Yaml) = (&empty, o.format) {
@@ -612,9 +602,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         refuse_writing_over_inputs(&o.inputs, MATRIX_FILES.map(|name| dir.join(name)))?;
     }
     if let Some(cache) = &o.cache
-        && let Some((flag, input)) = input_files(&o.inputs)
-            .into_iter()
-            .find(|(_, input)| crate::load::diag::same_file(input, cache))
+        && let Some((flag, input)) = input_at(&o.inputs, cache)
     {
         return Err(BadInput::file(
             cache.display().to_string(),
@@ -928,6 +916,16 @@ fn input_files(paths: &InputPaths) -> Vec<(&'static str, &std::path::Path)> {
     files
 }
 
+/// The input of `paths` that `path` names, however spelled or linked, with its flag.
+fn input_at<'p>(
+    paths: &'p InputPaths,
+    path: &std::path::Path,
+) -> Option<(&'static str, &'p std::path::Path)> {
+    input_files(paths)
+        .into_iter()
+        .find(|(_, input)| crate::load::diag::same_file(input, path))
+}
+
 /// Refuses a run that would write one of `outputs` (the files its `--out` writes) over an
 /// input it reads: the input would be replaced by the output (`plan --images out/matrix.yaml
 /// --out out` wrote the matrix over the images file, and exited 0).
@@ -935,12 +933,8 @@ fn refuse_writing_over_inputs(
     paths: &InputPaths,
     outputs: impl IntoIterator<Item = std::path::PathBuf>,
 ) -> Result<(), BadInput> {
-    let files = input_files(paths);
     for output in outputs {
-        if let Some((flag, input)) = files
-            .iter()
-            .find(|(_, input)| crate::load::diag::same_file(input, &output))
-        {
+        if let Some((flag, input)) = input_at(paths, &output) {
             return Err(BadInput::file(
                 "command line",
                 format!(

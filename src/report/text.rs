@@ -114,8 +114,9 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
 }
 
 /// The data-quality report for people: records read and used, then each problem kind with
-/// its total and a few examples.
-pub fn check_text(ledger: &Ledger) -> String {
+/// its total and a few examples. `unusable`: why the registry leaves nothing to plan with,
+/// when it does (no problem record says so, and "no problems found" would pass it).
+pub fn check_text(ledger: &Ledger, unusable: Option<&str>) -> String {
     let mut out = String::new();
     let mut rows = vec![vec![
         "records".to_string(),
@@ -165,11 +166,15 @@ pub fn check_text(ledger: &Ledger) -> String {
             let _ = writeln!(out, "  {}", u.sentence());
         }
     }
+    if let Some(line) = unusable {
+        let _ = writeln!(out, "\n{line}");
+    }
     let groups = ledger.by_kind();
     if groups.is_empty() {
-        out.push_str(match skipped.is_empty() {
-            true => "\nno problems found\n",
-            false => "\nno problems found in what could be checked\n",
+        out.push_str(match (unusable, skipped.is_empty()) {
+            (Some(_), _) => "\nno problem in the records read\n",
+            (None, true) => "\nno problems found\n",
+            (None, false) => "\nno problems found in what could be checked\n",
         });
         return out;
     }

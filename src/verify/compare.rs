@@ -1214,6 +1214,7 @@ pub fn compare_within(
             Verdict::AgreedInstall
         };
         let log_cause = primary.as_ref().map(|p| p.cause.clone());
+        let log_recorded = deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some());
         let suggestion = match verdict {
             Verdict::SurpriseInstall => {
                 let failed = attempts
@@ -1252,8 +1253,7 @@ pub fn compare_within(
                     [] => "its native build".to_string(),
                     packages => packages.join(" "),
                 };
-                let recorded = deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some());
-                Some(match recorded {
+                Some(match log_recorded {
                     false => format!(
                         "no log was recorded, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): record the install's log"
                     ),
@@ -1295,7 +1295,7 @@ pub fn compare_within(
             log_cause,
             findings,
             log_unread: deciding.and_then(|r| r.log_unread.clone()),
-            log_recorded: deciding.is_some_and(|r| r.log.is_some() || r.log_unread.is_some()),
+            log_recorded,
             suggestion,
         });
     }
