@@ -1077,3 +1077,42 @@ fn an_unversioned_stem_drops_only_a_whole_trailing_version() {
         assert_eq!(unversioned_stem(not_versioned), None, "{not_versioned}");
     }
 }
+
+/// The pkg-config program missing, in the shells' words (run for real with a PATH that holds
+/// nothing) and in autoconf's (the message of `PKG_CHECK_MODULES` in the pkg.m4 this machine
+/// has, as configure prints it after `configure: error: `).
+#[test]
+fn pkg_config_program_missing() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("empty-bin");
+    std::fs::create_dir(&empty).unwrap();
+    for shell in ["/bin/bash", "/bin/sh"] {
+        let Some(out) = run_with_path(
+            shell,
+            &["-c", "pkg-config --cflags libxml-2.0"],
+            dir.path(),
+            Some(empty.to_str().unwrap()),
+        ) else {
+            skip("pkg_config_program_missing", &format!("{shell} is missing"));
+            continue;
+        };
+        let log = stderr(&out);
+        // source: the shell at this path on this machine, failing to find pkg-config
+        assert_eq!(
+            causes(&classify(&log)),
+            [&LogCause::NoPkgConfig],
+            "{shell}: {log}"
+        );
+    }
+    let Ok(m4) = std::fs::read_to_string("/usr/share/aclocal/pkg.m4") else {
+        skip("pkg_config_program_missing", "no /usr/share/aclocal/pkg.m4");
+        return;
+    };
+    let line = m4
+        .lines()
+        .find(|l| l.contains("could not be found or is too old"))
+        .expect("pkg.m4 words the missing program so");
+    // source: pkg.m4 on this machine (Debian 12's pkgconf)
+    let log = format!("configure: error: {}", line.trim_start_matches('['));
+    assert_eq!(causes(&classify(&log)), [&LogCause::NoPkgConfig], "{log}");
+}

@@ -1901,3 +1901,131 @@ fn syslibs_says_an_image_lacking_only_unmapped_libraries_lacks_something() {
     );
     assert!(!stdout.contains("nothing missing"), "{stdout}");
 }
+
+/// A build that cannot run the pkg-config program: `review` names the package that ships it,
+/// and where the image declares it, says the declaration may be out of date instead. Neither
+/// confirms the predicted missing library (the build stopped before it), nor a risk.
+#[test]
+fn a_missing_pkg_config_program_names_its_package() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("perch-xml", "libxml2", "src/ext/parse.c"),
+        package("perch-plain", "", "src/ext/fast.c")
+    );
+    let images = format!(
+        "images:\n{}{}{}",
+        image("d-bare", "debian", "    packages: [build-essential]\n"),
+        image(
+            "d-pc",
+            "debian",
+            "    packages: [build-essential, pkg-config, libxml2-dev]\n"
+        ),
+        image("r-bare", "rhel", "    packages: [gcc, gcc-c++, make]\n"),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["perch-xml", "perch-plain"],
+    );
+    // dash on this machine when pkg-config is not on the PATH; its wording if sh is absent.
+    let shell = std::process::Command::new("/bin/sh")
+        .args(["-c", "pkg-config --cflags libxml-2.0"])
+        .env("PATH", "/nonexistent")
+        .output()
+        .ok()
+        .map(|o| String::from_utf8_lossy(&o.stderr).trim().to_string())
+        .filter(|s| s.contains("pkg-config"))
+        .unwrap_or_else(|| "/bin/sh: 1: pkg-config: not found".into());
+    let results = ["d-bare", "d-pc", "r-bare"]
+        .iter()
+        .flat_map(|img| {
+            ["perch-xml", "perch-plain"].map(|p| {
+                format!(
+                    "  - package: {p}\n    image: {img}\n    outcome: failed\n    log: {shell:?}\n"
+                )
+            })
+        })
+        .collect::<String>();
+    let args = with_results(dir.path(), args, &format!("results:\n{results}"));
+    let cells = reviewed_cells(&args);
+
+    let xml_bare = cells("perch-xml", "d-bare");
+    assert_eq!(
+        xml_bare["log_cause"]["cause"], "no-pkg-config",
+        "{xml_bare}"
+    );
+    assert_eq!(xml_bare["verdict"], "agreed-failure", "{xml_bare}");
+    assert_eq!(
+        xml_bare["cause_agrees"],
+        serde_json::Value::Null,
+        "{xml_bare}"
+    );
+    assert_eq!(
+        xml_bare["suggestion"],
+        "the build runs the pkg-config program, which d-bare lacks (basefit does not predict this need): add pkgconf; the plan finds libxml2-dev missing too, which the build had not reached",
+        "{xml_bare}"
+    );
+    // A cell predicted to install that failed so: the advice is the same, with nothing else
+    // missing.
+    let plain_bare = cells("perch-plain", "d-bare");
+    assert_eq!(plain_bare["verdict"], "surprise-failure", "{plain_bare}");
+    assert_eq!(
+        plain_bare["suggestion"],
+        "the build runs the pkg-config program, which d-bare lacks (basefit does not predict this need): add pkgconf",
+        "{plain_bare}"
+    );
+    let declared = cells("perch-xml", "d-pc");
+    assert!(
+        declared["suggestion"].as_str().unwrap().starts_with(
+            "d-pc declares pkg-config, yet the build found no pkg-config program: check that the real image installs it"
+        ),
+        "{declared}"
+    );
+    // source: from memory, rhel's package of /usr/bin/pkg-config
+    assert!(
+        cells("perch-plain", "r-bare")["suggestion"]
+            .as_str()
+            .unwrap()
+            .ends_with("add pkgconf-pkg-config"),
+    );
+}
+
+/// The Debian package named for the pkg-config program ships it, and the other name counted
+/// as declaring it depends on that one. Source: Debian's archive through `dpkg -S` and
+/// `apt-cache show` on this machine (Debian 12); skipped with a message where they cannot say.
+#[test]
+fn debian_pkg_config_packages_ship_the_program() {
+    use basefit::model::OsFamily;
+    let packages = basefit::native::pkg_config_packages(OsFamily::Debian);
+    let owner = std::process::Command::new("dpkg")
+        .args(["-S", "/usr/bin/pkg-config"])
+        .output()
+        .ok()
+        .filter(|o| o.status.success())
+        .map(|o| String::from_utf8_lossy(&o.stdout).into_owned());
+    let Some(owner) = owner else {
+        eprintln!("skipped debian_pkg_config_packages_ship_the_program: dpkg cannot say");
+        return;
+    };
+    // `pkgconf:amd64: /usr/bin/pkg-config`
+    let shipped_by = owner.split(':').next().unwrap_or_default().trim();
+    assert_eq!(shipped_by, packages[0], "{owner}");
+    let show = std::process::Command::new("apt-cache")
+        .args(["show", packages[1]])
+        .output()
+        .ok()
+        .map(|o| String::from_utf8_lossy(&o.stdout).into_owned())
+        .unwrap_or_default();
+    let depends = show
+        .lines()
+        .find_map(|l| l.strip_prefix("Depends: "))
+        .unwrap_or_else(|| panic!("apt-cache show {} gave no Depends: {show}", packages[1]));
+    assert!(
+        depends
+            .split(',')
+            .any(|d| d.split_whitespace().next() == Some(packages[0])),
+        "{depends}"
+    );
+}

@@ -355,6 +355,19 @@ pub fn cxx_compiler_package(family: OsFamily) -> &'static str {
     }
 }
 
+/// The packages that give an image of `family` the `pkg-config` program, the one to add
+/// first. On debian `pkgconf` ships `/usr/bin/pkg-config` (`dpkg -S` on Debian 12, this
+/// project's machine) and `pkg-config` is the transitional package that depends on it
+/// (`apt-cache show pkg-config` there); alpine's `pkgconf`, and rhel's `pkgconf-pkg-config` with
+/// its older name `pkgconfig`, are from memory. None of them comes with a toolchain package.
+pub fn pkg_config_packages(family: OsFamily) -> &'static [&'static str] {
+    match family {
+        OsFamily::Debian => &["pkgconf", "pkg-config"],
+        OsFamily::Alpine => &["pkgconf"],
+        OsFamily::Rhel => &["pkgconf-pkg-config", "pkgconfig"],
+    }
+}
+
 /// Which compilers a set of system packages of `family` gives: (C, C++). The whole toolchain
 /// ([`toolchain_packages`]) gives both; the C packages ([`c_toolchain_packages`]) give C, and
 /// with the C++ compiler package C++ too.

@@ -5,7 +5,8 @@ pub mod catalog;
 
 pub use catalog::{
     Catalog, Library, c_toolchain_packages, compiler_packages, compilers_carried,
-    cxx_compiler_brings, cxx_compiler_package, install_command, toolchain_packages,
+    cxx_compiler_brings, cxx_compiler_package, install_command, pkg_config_packages,
+    toolchain_packages,
 };
 
 use crate::model::{Image, PackageId, Registry};

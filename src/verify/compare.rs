@@ -264,6 +264,17 @@ fn agrees(
             &[Cause::MissingSystemLibrary, Cause::MissingToolchain]
         }
         LogCause::NoCompiler { .. } | LogCause::NoMake => &[Cause::MissingToolchain],
+        // The plan does not model the pkg-config program: a build stopped for it got past
+        // resolution, and may or may not have gone on to miss what was predicted.
+        LogCause::NoPkgConfig
+            if matches!(
+                predicted,
+                Cause::MissingSystemLibrary | Cause::MissingToolchain
+            ) =>
+        {
+            return None;
+        }
+        LogCause::NoPkgConfig => &[],
         LogCause::RuntimeRefused { .. } => &[Cause::RuntimeTooOld, Cause::RuntimeTooNew],
         // A build that ran out of memory or was killed stopped before any predicted cause
         // could show: it confirms none of them.
@@ -410,16 +421,15 @@ pub fn library_of<'c>(
     }
 }
 
-/// The system packages other than compilers that the prediction found the cell lacking, as
-/// a clause for advice about a missing compiler: the build stopped at the compiler, and with
-/// only that added the next install fails for the library.
-fn also_missing(cell: &crate::plan::matrix::Cell, family: crate::model::OsFamily) -> String {
-    let compilers = crate::native::compiler_packages(family);
+/// The system packages the prediction found the cell lacking, other than the `named` ones the
+/// advice already names, as a clause for advice about a missing program: the build stopped
+/// there, and with only that added the next install fails for the rest.
+fn also_missing(cell: &crate::plan::matrix::Cell, named: &[&str]) -> String {
     let rest: Vec<&str> = cell
         .missing_system_packages
         .iter()
         .map(String::as_str)
-        .filter(|p| !compilers.contains(p))
+        .filter(|p| !named.contains(p))
         .collect();
     match rest.is_empty() {
         true => String::new(),
@@ -551,7 +561,7 @@ fn suggest(
             Some(format!(
                 "{image_id} has a C compiler only, and the build needs a C++ compiler ({tool}): add {}{}",
                 crate::native::cxx_compiler_package(image.family),
-                also_missing(cell, image.family)
+                also_missing(cell, &crate::native::compiler_packages(image.family))
             ))
         }
         // As for headers above: advice to add what the image declares would go in a circle.
@@ -570,7 +580,7 @@ fn suggest(
         LogCause::NoCompiler { .. } | LogCause::NoMake => Some(format!(
             "{image_id} lacks a C toolchain: add {}{}",
             crate::native::toolchain_packages(image.family).join(" "),
-            also_missing(cell, image.family)
+            also_missing(cell, &crate::native::compiler_packages(image.family))
         )),
         LogCause::RuntimeRefused { required, .. }
             if let Some((found, declared)) = undeclared_runtime(images, cell, cause) =>
@@ -613,6 +623,21 @@ fn suggest(
         LogCause::RuntimeRefused { required, found } => Some(format!(
             "the installer refused runtime {found} (requires {required}): the runtime requirement in the metadata may be missing or wrong"
         )),
+        LogCause::NoPkgConfig => {
+            let packages = crate::native::pkg_config_packages(image.family);
+            Some(
+                match packages.iter().find(|p| image.system_packages.contains(**p)) {
+                    Some(declared) => format!(
+                        "{image_id} declares {declared}, yet the build found no pkg-config program: check that the real image installs it (its declaration may be out of date) and that the build's PATH reaches it"
+                    ),
+                    None => format!(
+                        "the build runs the pkg-config program, which {image_id} lacks (basefit does not predict this need): add {}{}",
+                        packages[0],
+                        also_missing(cell, &[])
+                    ),
+                },
+            )
+        }
         LogCause::BuildError => Some(
             "the build failed with a compiler error that names no missing system package: read the log line; no change to the image is known to fix it".into(),
         ),

@@ -32,6 +32,12 @@
 //!   found`) and CMake (`No CMAKE_C_COMPILER could be found`, `CMake was unable to find a build
 //!   program corresponding to "Unix Makefiles"`). Compiler names may carry a directory, a target
 //!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`).
+//! - [`LogCause::NoPkgConfig`]: the `pkg-config` program itself is missing (not a module): the
+//!   shell's `pkg-config: not found` as above (`pkgconf` and target-prefixed names too), Go's
+//!   `exec: "pkg-config": executable file not found`, autoconf's `The pkg-config script could
+//!   not be found or is too old` (pkg.m4, as shipped by Debian 12's pkgconf) and CMake's `Could
+//!   NOT find PkgConfig (missing: PKG_CONFIG_EXECUTABLE)` (from memory). Other programs a shell
+//!   cannot find are not findings: builds run `git` and the like where failing is harmless.
 //! - [`LogCause::RuntimeRefused`]: the form defined below.
 //! - [`LogCause::BuildError`]: any other GCC or Clang error at a source location,
 //!   `FILE:LINE[:COL]: error: MESSAGE` or `FILE:LINE[:COL]: fatal error: MESSAGE` (gcc `x.c:3:12:
@@ -115,6 +121,9 @@ pub enum LogCause {
     NoCompiler { tool: String },
     /// `make` is not installed.
     NoMake,
+    /// The `pkg-config` program is not installed (a module it cannot find is
+    /// [`LogCause::MissingPkgConfig`]).
+    NoPkgConfig,
     /// The installer refused the runtime version; see the module docs for the line format.
     RuntimeRefused { required: String, found: String },
     /// The compiler rejected the source for a reason that names no missing header: a GCC or
@@ -150,6 +159,7 @@ impl LogCause {
             LogCause::MissingSharedObject { .. } => "missing-shared-object",
             LogCause::NoCompiler { .. } => "no-compiler",
             LogCause::NoMake => "no-make",
+            LogCause::NoPkgConfig => "no-pkg-config",
             LogCause::RuntimeRefused { .. } => "runtime-refused",
             LogCause::BuildError => "build-error",
             LogCause::Network => "network",
@@ -175,7 +185,7 @@ impl LogCause {
             | LogCause::MissingLibrary { .. }
             | LogCause::MissingPkgConfig { .. }
             | LogCause::MissingSharedObject { .. } => 1,
-            LogCause::NoCompiler { .. } | LogCause::NoMake => 2,
+            LogCause::NoCompiler { .. } | LogCause::NoMake | LogCause::NoPkgConfig => 2,
             LogCause::BuildError => 3,
             LogCause::OutOfMemory | LogCause::Killed => 4,
             LogCause::Network | LogCause::Timeout => 5,
@@ -197,6 +207,7 @@ impl fmt::Display for LogCause {
             }
             LogCause::NoCompiler { tool } => write!(f, "no compiler ({tool})"),
             LogCause::NoMake => f.write_str("no make"),
+            LogCause::NoPkgConfig => f.write_str("no pkg-config program"),
             LogCause::RuntimeRefused { required, found } => {
                 write!(f, "runtime refused: requires {required}, found {found}")
             }
@@ -498,6 +509,7 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
                 });
             }
             Some(Program::Make) => return Some(LogCause::NoMake),
+            Some(Program::PkgConfig) => return Some(LogCause::NoPkgConfig),
             None => {}
         }
     }
@@ -508,6 +520,9 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     }
     if MAKE_PHRASES.iter().any(|p| lower.contains(p)) {
         return Some(LogCause::NoMake);
+    }
+    if PKG_CONFIG_PHRASES.iter().any(|p| lower.contains(p)) {
+        return Some(LogCause::NoPkgConfig);
     }
     if let Some((required, found)) = runtime_refused(text, lower) {
         return Some(LogCause::RuntimeRefused {
@@ -835,6 +850,7 @@ fn quoted_or_word(s: &str) -> Option<&str> {
 enum Program {
     Compiler,
     Make,
+    PkgConfig,
 }
 
 const COMPILERS: [&str; 8] = [
@@ -882,6 +898,13 @@ fn program_kind(name: &str) -> Option<Program> {
     let base = without_version(base);
     if matches!(base, "make" | "gmake") {
         return Some(Program::Make);
+    }
+    // pkgconf installs its program under both names; cross builds prefix the target.
+    if ["pkg-config", "pkgconf"].iter().any(|p| {
+        base.strip_suffix(p)
+            .is_some_and(|head| head.is_empty() || head.ends_with('-'))
+    }) {
+        return Some(Program::PkgConfig);
     }
     // A target prefix (`x86_64-linux-gnu-gcc`) still means gcc.
     let compiler = COMPILERS.iter().any(|c| {
@@ -953,6 +976,14 @@ fn missing_compiler_proper(lower: &str) -> Option<&'static str> {
 const MAKE_PHRASES: [&str; 2] = [
     "unable to find a build program corresponding to \"unix makefiles\"",
     "cmake_make_program is not set",
+];
+
+/// The build systems' words for a missing `pkg-config` program, lower case: autoconf's
+/// `PKG_CHECK_MODULES` (pkg.m4 as Debian 12's pkgconf ships it, read on this project's machine)
+/// and CMake's `find_package(PkgConfig REQUIRED)` (from memory).
+const PKG_CONFIG_PHRASES: [&str; 2] = [
+    "the pkg-config script could not be found",
+    "could not find pkgconfig (missing: pkg_config_executable)",
 ];
 
 const RUNTIME_MARKER: &str = "runtime refused: requires ";
@@ -1235,6 +1266,8 @@ mod tests {
     fn other_missing_programs_are_not_findings() {
         // source: dash wording, as for any other program
         assert!(causes("sh: 1: ninja: not found").is_empty());
+        // common practice, no source: version scripts run git and go on when it is missing
+        assert!(causes("/bin/sh: 1: git: not found").is_empty());
         // source: waf-style configure chatter; prose before the colon is no program name
         assert!(causes("Checking for program 'clang': not found").is_empty());
     }
@@ -1348,9 +1381,10 @@ mod tests {
 
     #[test]
     fn every_phrase_passes_the_anchor_gate() {
-        let lists: [&[&str]; 6] = [
+        let lists: [&[&str]; 7] = [
             &LINK_MARKERS,
             &MAKE_PHRASES,
+            &PKG_CONFIG_PHRASES,
             &OOM_PHRASES,
             &NETWORK_PHRASES,
             &TIMEOUT_PHRASES,
@@ -1366,8 +1400,36 @@ mod tests {
     }
 
     #[test]
+    fn missing_pkg_config_program() {
+        for log in [
+            // source: dash wording, as for any other program
+            "/bin/sh: 1: pkg-config: not found",
+            // source: bash wording
+            "bash: line 3: x86_64-linux-gnu-pkg-config: command not found",
+            "make: pkgconf: No such file or directory",
+            // source: Go's os/exec wording, as cgo prints it
+            "pkg-config: exec: \"pkg-config\": executable file not found in $PATH",
+            // source: pkg.m4's PKG_CHECK_MODULES, as configure prints it
+            "configure: error: The pkg-config script could not be found or is too old.  Make sure it",
+            // source: CMake's FindPkgConfig (from memory)
+            "  Could NOT find PkgConfig (missing: PKG_CONFIG_EXECUTABLE)",
+        ] {
+            assert_eq!(one(log), LogCause::NoPkgConfig, "{log}");
+        }
+        // A module pkg-config cannot find is no missing program.
+        assert_eq!(
+            one("Package libfoo was not found in the pkg-config search path."),
+            LogCause::MissingPkgConfig {
+                module: "libfoo".into()
+            }
+        );
+        assert!(causes("checking for pkg-config... no").is_empty());
+    }
+
+    #[test]
     fn labels_and_flakiness() {
         assert_eq!(LogCause::NoMake.label(), "no-make");
+        assert_eq!(LogCause::NoPkgConfig.label(), "no-pkg-config");
         assert!(LogCause::Network.likely_flaky());
         assert!(LogCause::Timeout.likely_flaky());
         assert!(!LogCause::OutOfMemory.likely_flaky());
