@@ -630,13 +630,16 @@ fn a_runtime_refusal_is_acted_on_and_every_finding_is_kept() {
     assert!(
         text.contains("log (")
             && text.contains("): error: runtime refused")
-            && text.contains("also in the log: missing header zlib.h (line 1)"),
+            && text
+                .contains("also in the log: missing header zlib.h (line 1, in a configure probe"),
         "{text}"
     );
     // The cause acted on is not among the others (from a mutation review of
     // src/report/text.rs, where it could be listed twice).
     assert!(
-        text.contains("also in the log: missing header zlib.h (line 1)\n"),
+        text.contains(
+            "also in the log: missing header zlib.h (line 1, in a configure probe, which may fail by design)\n"
+        ),
         "{text}"
     );
 }
@@ -824,7 +827,7 @@ fn only_the_tail_of_a_big_log_is_read() {
     );
     let at = c.evidence_at.as_deref().unwrap();
     let want = format!(
-        "big.yaml:2 line 1 of the part of the log file read, which skips its first {} bytes",
+        "big.yaml:2 line 1 of the part of big.log read, which skips its first {} bytes",
         zeros + 1
     );
     assert!(at.ends_with(&want), "{at}");
@@ -860,7 +863,7 @@ fn the_tail_cut_keeps_a_whole_line_and_places_lines_by_their_source() {
     let at = c.evidence_at.as_deref().unwrap();
     assert!(
         at.ends_with(
-            "cut.yaml:2 line 1 of the part of the log file read, which skips its first 2 bytes"
+            "cut.yaml:2 line 1 of the part of cut.log read, which skips its first 2 bytes"
         ),
         "{at}"
     );
@@ -2040,6 +2043,15 @@ fn a_configure_probe_s_missing_header_does_not_hide_the_real_cause() {
         s.contains("add libxml2-dev to alpine-2.6") && !s.contains("zstd"),
         "{s}"
     );
+    // The probe's header is still listed, as a probe's: read bare, it looks like a second
+    // library the image lacks.
+    let text = basefit::report::text::review_text(&review);
+    assert!(
+        text.contains(
+            "also in the log: missing header zstd.h (line 2, in a configure probe, which may fail by design)"
+        ),
+        "{text}"
+    );
     // Alone, the probe's header is still what the log shows.
     let review = review_of(
         "results:\n  - {package: quill-xml, image: alpine-2.6, outcome: failed, log: \"conftest.c:3:10: fatal error: zstd.h: No such file or directory\"}\n",
@@ -2245,4 +2257,33 @@ fn results_only_on_undecided_cells_compare_nothing() {
             "{command}: {stderr}"
         );
     }
+}
+
+/// A finding in a log file names the file as the record wrote it, so a reader of a results
+/// file with many log files can open the right one (from an end-to-end review: a record with
+/// only a `log_file` placed its lines by a bare number). gumleaf on deb-2.4 fails for zlib
+/// (demo-data/STORIES.md).
+#[test]
+fn a_finding_in_a_log_file_names_the_file() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::create_dir(dir.path().join("logs")).unwrap();
+    common::write(
+        dir.path(),
+        "logs/gumleaf.log",
+        "checking for zlib.h... no\nconftest.c:3:10: fatal error: zstd.h: No such file or directory\nx.c:1:10: fatal error: zlib.h: No such file or directory\n",
+    );
+    let yaml = common::write(
+        dir.path(),
+        "r.yaml",
+        "results:\n  - {package: gumleaf, image: deb-2.4, outcome: failed, log_file: logs/gumleaf.log}\n",
+    );
+    let review = review_at(yaml);
+    let c = cell(&review, "gumleaf", "deb-2.4");
+    let at = c.evidence_at.as_deref().unwrap();
+    assert!(at.ends_with("r.yaml:2 line 3 of logs/gumleaf.log"), "{at}");
+    let text = basefit::report::text::review_text(&review);
+    assert!(
+        text.contains("also in the log: missing header zstd.h (line 2 of logs/gumleaf.log, in a configure probe"),
+        "{text}"
+    );
 }

@@ -384,6 +384,7 @@ fn assemble(
         let mut log_unread = None;
         let mut log_skipped = 0;
         let mut log_inline_lines = 0;
+        let mut log_file = None;
         if let Some(At { value: path, line }) = &r.log_file {
             let full: PathBuf = base.join(path);
             match read_log_file(base, path, &full, SCAN_TAIL_BYTES as u64) {
@@ -392,6 +393,7 @@ fn assemble(
                 // given, so neither part cuts the other.
                 Ok(tail) => {
                     log_skipped = tail.skipped;
+                    log_file = Some(path.clone());
                     log = Some(match log {
                         Some(inline) => {
                             log_inline_lines = inline.matches('\n').count() + 1;
@@ -432,6 +434,7 @@ fn assemble(
             log_unread,
             log_skipped,
             log_inline_lines,
+            log_file,
             origin,
         });
     }
@@ -689,17 +692,23 @@ mod tests {
             ]
         );
         assert_eq!(
-            crate::verify::compare::log_line_place(r.log_inline_lines, r.log_skipped, 1),
+            crate::verify::compare::log_line_place(
+                r.log_inline_lines,
+                r.log_skipped,
+                r.log_file.as_deref(),
+                1
+            ),
             "line 1 of the record's `log` text"
         );
         assert_eq!(
             crate::verify::compare::log_line_place(
                 r.log_inline_lines,
                 r.log_skipped,
+                r.log_file.as_deref(),
                 findings[1].line
             ),
             format!(
-                "line {} of the part of the log file read, which skips its first {} bytes",
+                "line {} of the part of huge.log read, which skips its first {} bytes",
                 read_lines + 1,
                 r.log_skipped
             )

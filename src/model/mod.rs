@@ -236,5 +236,8 @@ pub struct RecordedResult {
     /// Lines of the record's own `log` text that come before the log file's in `log` (0 when
     /// no log file was read): line numbers past them are the file's.
     pub log_inline_lines: usize,
+    /// The log file as the record names it, when it was read: findings past the record's own
+    /// text name it.
+    pub log_file: Option<String>,
     pub origin: Origin,
 }

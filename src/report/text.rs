@@ -818,9 +818,19 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
         .iter()
         .filter(|f| Some(&f.cause) != c.log_cause.as_ref())
         .map(|f| {
-            let place =
-                crate::verify::compare::log_line_place(c.log_inline_lines, c.log_skipped, f.line);
-            format!("{} ({place})", f.cause)
+            let place = crate::verify::compare::log_line_place(
+                c.log_inline_lines,
+                c.log_skipped,
+                c.log_file.as_deref(),
+                f.line,
+            );
+            match crate::verify::logs::is_probe_finding(f) {
+                true => format!(
+                    "{} ({place}, in a configure probe, which may fail by design)",
+                    f.cause
+                ),
+                false => format!("{} ({place})", f.cause),
+            }
         })
         .collect();
     if !others.is_empty() {

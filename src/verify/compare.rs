@@ -99,6 +99,9 @@ pub struct CellReview {
     /// [`log_line_place`]), for placing `findings` lines.
     #[serde(skip)]
     pub log_inline_lines: usize,
+    /// That attempt's log file as the record names it, when it was read.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub log_file: Option<String>,
     /// For failures: whether the recorded cause matches the predicted cause class.
     pub cause_agrees: Option<bool>,
     pub suggestion: Option<String>,
@@ -111,25 +114,36 @@ fn is_zero(n: &u64) -> bool {
 /// Where line `line` of a record's `log` is, in words: the record's own `log` text comes
 /// first, then the log file's part that was read, whose lines count from the first line read
 /// when only its tail was (so a number is never passed off as a line of the whole file).
+/// `file` is the log file's path as the record wrote it, when one was read.
 ///
 /// ```
 /// use basefit::verify::compare::log_line_place;
-/// assert_eq!(log_line_place(0, 0, 3), "line 3");
-/// assert_eq!(log_line_place(1, 0, 1), "line 1 of the record's `log` text");
-/// assert_eq!(log_line_place(1, 0, 4), "line 3 of the log file");
+/// assert_eq!(log_line_place(0, 0, None, 3), "line 3");
+/// assert_eq!(log_line_place(0, 0, Some("logs/a.log"), 3), "line 3 of logs/a.log");
+/// assert_eq!(log_line_place(1, 0, Some("a.log"), 1), "line 1 of the record's `log` text");
+/// assert_eq!(log_line_place(1, 0, Some("a.log"), 4), "line 3 of a.log");
+/// assert_eq!(
+///     log_line_place(0, 512, Some("a.log"), 2),
+///     "line 2 of the part of a.log read, which skips its first 512 bytes"
+/// );
 /// ```
-pub fn log_line_place(inline_lines: usize, skipped: u64, line: usize) -> String {
+pub fn log_line_place(
+    inline_lines: usize,
+    skipped: u64,
+    file: Option<&str>,
+    line: usize,
+) -> String {
     if inline_lines > 0 && line <= inline_lines {
         return format!("line {line} of the record's `log` text");
     }
     let line = line - inline_lines;
+    let file = file.unwrap_or("the log file");
     match skipped {
-        // Beside the record's own text, a bare number would read as either part's.
-        0 if inline_lines > 0 => format!("line {line} of the log file"),
-        0 => format!("line {line}"),
-        skipped => format!(
-            "line {line} of the part of the log file read, which skips its first {skipped} bytes"
-        ),
+        0 if inline_lines == 0 && file == "the log file" => format!("line {line}"),
+        0 => format!("line {line} of {file}"),
+        skipped => {
+            format!("line {line} of the part of {file} read, which skips its first {skipped} bytes")
+        }
     }
 }
 
@@ -1312,11 +1326,17 @@ pub fn compare_within(
                 format!(
                     "{} {}",
                     r.origin,
-                    log_line_place(r.log_inline_lines, r.log_skipped, p.line)
+                    log_line_place(
+                        r.log_inline_lines,
+                        r.log_skipped,
+                        r.log_file.as_deref(),
+                        p.line
+                    )
                 )
             }),
             log_skipped: deciding.map_or(0, |r| r.log_skipped),
             log_inline_lines: deciding.map_or(0, |r| r.log_inline_lines),
+            log_file: deciding.and_then(|r| r.log_file.clone()),
             log_cause,
             findings,
             log_unread: deciding.and_then(|r| r.log_unread.clone()),

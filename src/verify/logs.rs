@@ -311,8 +311,15 @@ pub fn primary(findings: &[LogFinding]) -> Option<&LogFinding> {
         .min_by_key(|f| (is_probe_finding(f), f.cause.rank()))
 }
 
-/// A missing header reported from a configure probe (`conftest.c:3:10: fatal error: ...`).
-fn is_probe_finding(f: &LogFinding) -> bool {
+/// A missing header reported from a configure probe (`conftest.c:3:10: fatal error: ...`):
+/// configure expects many probes to fail, so such a finding says little on its own.
+///
+/// ```
+/// use basefit::verify::logs::{classify, is_probe_finding};
+/// let found = classify("conftest.c:3:10: fatal error: foo.h: No such file or directory");
+/// assert!(is_probe_finding(&found[0]));
+/// ```
+pub fn is_probe_finding(f: &LogFinding) -> bool {
     matches!(f.cause, LogCause::MissingHeader { .. })
         && f.evidence
             .trim_start()
