@@ -718,3 +718,24 @@ fn a_fields_problem_names_its_library() {
         "site.yaml:4: library `numbat-gfx`, family alpine, `dev`",
     );
 }
+
+/// `check --catalog` says how many library entries the catalog file gave, as for every other
+/// input: alone it printed an empty table and "no problems found", which did not show that the
+/// file was read at all.
+#[test]
+fn check_counts_the_catalog_file_s_libraries() {
+    let dir = tempfile::tempdir().unwrap();
+    let file = common::write(
+        dir.path(),
+        "site.yaml",
+        "libraries:\n  - id: frobnitz\n    headers: [frob.h]\n    families:\n      debian: {dev: libfrob-dev, runtime: [libfrob1]}\n  - id: zlib\n    headers: [zlib.h]\n    link: [z]\n    pkg_config: [zlib]\n    families:\n      debian: {dev: zlib1g-dev, runtime: [zlib1g]}\n",
+    );
+    let (code, out, err) =
+        common::run_basefit(["check", "--quiet", "--catalog", file.to_str().unwrap()]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        out.lines().any(|l| l.split_whitespace().collect::<Vec<_>>()
+            == ["catalog-file", "libraries", "2", "2", "0"]),
+        "{out}"
+    );
+}

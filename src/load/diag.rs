@@ -420,6 +420,8 @@ pub enum RecordKind {
     Priority,
     Result,
     SourceEntry,
+    /// A library entry of a catalog file given with `--catalog`.
+    CatalogLibrary,
 }
 
 impl RecordKind {
@@ -432,6 +434,7 @@ impl RecordKind {
             RecordKind::Priority => "priority entries",
             RecordKind::Result => "recorded results",
             RecordKind::SourceEntry => "source-list entries",
+            RecordKind::CatalogLibrary => "catalog-file libraries",
         }
     }
 }

@@ -137,14 +137,21 @@ impl Catalog {
 
     /// The shipped catalog with a user file applied on top.
     pub fn with_override(path: &Path) -> Result<Catalog, BadInput> {
+        Ok(Catalog::with_override_counted(path)?.0)
+    }
+
+    /// [`Catalog::with_override`], and how many library entries the file gave.
+    pub fn with_override_counted(path: &Path) -> Result<(Catalog, usize), BadInput> {
         let mut catalog = Catalog::builtin();
         let text = read_text(path)?;
-        catalog.apply(&path.display().to_string(), &text)?;
-        Ok(catalog)
+        let entries = catalog.apply(&path.display().to_string(), &text)?;
+        Ok((catalog, entries))
     }
 
     /// Applies a catalog file: entries replace those with the same id, new ids are added.
-    pub fn apply(&mut self, file: &str, text: &str) -> Result<(), BadInput> {
+    /// Returns how many library entries the file gave (every one is used, or the file is
+    /// refused).
+    pub fn apply(&mut self, file: &str, text: &str) -> Result<usize, BadInput> {
         let doc = yaml::parse(file, text)?;
         let ctx = Ctx { file };
         let top = ctx.map(&doc, "catalog", TOP_FIELDS)?;
@@ -172,6 +179,7 @@ impl Catalog {
             self.native_helpers.insert(helper.value);
         }
         let libraries = yaml::collect_errors(top.seq("libraries")?, |n| parse_library(ctx, n))?;
+        let entries = libraries.len();
         // Every problem of the file in one report, as the YAML readers give them.
         let mut errors = crate::load::diag::SchemaErrors::new();
         let mut seen = BTreeSet::new();
@@ -226,7 +234,7 @@ impl Catalog {
         }
         errors.finish()?;
         self.reindex();
-        Ok(())
+        Ok(entries)
     }
 
     fn reindex(&mut self) {
