@@ -339,3 +339,25 @@ fn the_text_names_a_dependencys_build_where_it_is_all_that_changed() {
         "{text}"
     );
 }
+
+/// Two matrices that differ only in their notice (a newer basefit's wording) agree: the
+/// notice is the crate's, not part of the prediction, as `MatrixDiff::differ` documents (from
+/// a mutation review of src/verify/diff.rs: comparing the notices passed every test).
+#[test]
+fn matrices_differing_only_in_their_notice_agree() {
+    let before = planned("priorities:\n  - alpha\n");
+    let mut after = before.clone();
+    after.notice = format!("{} Reworded.", before.notice);
+    let d = diff(&before, &after, |_| String::new());
+    assert!(!d.differ && !d.any(), "{d:#?}");
+    // With a side planned without closures, the same holds.
+    let mut no_closures = after.clone();
+    no_closures.cells.iter_mut().for_each(|c| {
+        c.closure.clear();
+        c.closure_size = c.closure_size.max(1);
+    });
+    let mut before_nc = no_closures.clone();
+    before_nc.notice = before.notice.clone();
+    let d = diff(&before_nc, &no_closures, |_| String::new());
+    assert!(d.closures_left_out.before && !d.any(), "{d:#?}");
+}
