@@ -535,6 +535,10 @@ fn html_lets_no_tag_come_from_the_input_and_its_data_reads_back() {
             i += 1;
         }
     }
+    // A carriage return in a name (a CR LF pair above) is a character reference in every
+    // attribute: a parser turns a raw CR LF into LF, and the hook would no longer be the
+    // name (from a mutation review of src/report/html.rs).
+    assert!(!page.contains('\r'), "a raw carriage return in the page");
     // The notice is the crate's, whatever the matrix file says.
     assert!(page.contains(NOTICE));
     assert!(!page.contains("<b>not the notice</b>"));
@@ -793,6 +797,25 @@ fn cross_check_html(m: &Matrix) -> Vec<std::collections::BTreeMap<String, usize>
             continue;
         };
         assert_eq!(outcome, cell.outcome.as_str());
+        // The cell's own text is its version where it resolves (from a mutation review of
+        // src/report/html.rs: an at-risk cell showing its cause or label passed), and its
+        // label ends with what its mark means, which the aria-hidden mark cannot tell a
+        // screen reader; the mark's tooltip says the same.
+        let after_tag = &page[page.find(tag).unwrap()..];
+        let txt = unescape_html(between(after_tag, "<span class=\"txt\">", "</span>"));
+        if let (true, Some(v)) = (cell.outcome.resolves(), cell.root_version.as_deref()) {
+            assert_eq!(txt, v, "{tag}");
+        }
+        if let Some(check) = &cell.recorded {
+            let mark = Mark::of(check);
+            assert!(label.ends_with(&format!("; {}", mark.meaning())), "{label}");
+            let title = match mark {
+                Mark::Agreed => "recorded installs agree",
+                _ => mark.meaning(),
+            };
+            let span = between(after_tag, "<span class=\"mark ", "</span>");
+            assert_eq!(attr(span, "title").as_deref(), Some(title), "{span}");
+        }
         let rest = said
             .strip_prefix(layout_label(cell.outcome))
             .unwrap_or_else(|| panic!("{label}"));
@@ -1193,4 +1216,181 @@ fn quoted_commands_in_notes_are_code_spans() {
     assert!(html.contains("for &lt;why&gt;"), "{html}");
     assert!(html.contains("a`b and `c` stay text"), "{html}");
     assert!(!html.contains("<why>"), "{html}");
+}
+
+/// The embedded command to add a cell's missing system packages is there only for cells that
+/// miss some, and uses the package manager of the cell's own image's family: from a mutation
+/// review of src/report/html.rs, where an empty `apt-get install` for every other cell, or the
+/// first image's family for every cell, passed every test.
+#[test]
+fn html_install_commands_are_for_cells_missing_packages_on_their_own_family() {
+    use basefit::model::OsFamily;
+    let m = demo_data_matrix();
+    let page = html(&m);
+    let data_open = format!("<script type=\"application/json\" id=\"{DATA_ID}\">");
+    let json = between(&page, &data_open, "</script>");
+    let value: serde_json::Value = serde_json::from_str(json).expect("JSON");
+    let commands = value["install_commands"]
+        .as_object()
+        .expect("install_commands");
+    let family_of = |id: &str| {
+        let img = m.images.iter().find(|i| i.id == id).expect("an image");
+        OsFamily::parse(&img.family).expect("a family")
+    };
+    let mut families = std::collections::BTreeSet::new();
+    for (i, cell) in m.cells.iter().enumerate() {
+        let command = commands.get(&i.to_string()).and_then(|c| c.as_str());
+        if cell.missing_system_packages.is_empty() {
+            assert_eq!(command, None, "{cell:?}");
+        } else {
+            let family = family_of(&cell.image);
+            families.insert(format!("{family:?}"));
+            let want = basefit::native::install_command(family, &cell.missing_system_packages);
+            assert_eq!(command, Some(want.as_str()), "{cell:?}");
+        }
+    }
+    assert!(
+        families.len() > 1,
+        "missing packages on one family only: {families:?}"
+    );
+}
+
+/// The filter counts: each family's the number of its images, each outcome's the number of
+/// cells with it over every image (from a mutation review of src/report/html.rs: every image
+/// counted for each family, or the first image's cells alone, passed every test).
+#[test]
+fn html_filter_counts_are_per_family_and_over_every_image() {
+    let m = load("demo-matrix.json");
+    let page = html(&m);
+    let count_after = |at: &str| -> usize {
+        let from = &page[page.find(at).unwrap_or_else(|| panic!("no {at}"))..];
+        between(from, "<span class=\"count\">", "</span>")
+            .parse()
+            .unwrap()
+    };
+    let mut families: Vec<&str> = Vec::new();
+    for img in &m.images {
+        if !families.contains(&img.family.as_str()) {
+            families.push(&img.family);
+        }
+    }
+    assert!(families.len() > 1);
+    for (i, fam) in families.iter().enumerate() {
+        let want = m.images.iter().filter(|img| img.family == *fam).count();
+        assert!(want < m.images.len());
+        assert_eq!(
+            count_after(&format!("id=\"filter-family-{i}\"")),
+            want,
+            "{fam}"
+        );
+    }
+    let first = &m.images[0].id;
+    let mut differs = false;
+    for o in Outcome::ALL {
+        let want = m.cells.iter().filter(|c| c.outcome == o).count();
+        let on_first = m
+            .cells
+            .iter()
+            .filter(|c| c.outcome == o && &c.image == first)
+            .count();
+        differs |= want != on_first && want > 0;
+        let got = count_after(&format!("id=\"filter-outcome-{}\"", o.as_str()));
+        assert_eq!(got, want, "{o:?}");
+    }
+    assert!(differs);
+}
+
+/// A row head shows the weight as given (2.5, not rounded) and a summary only when it has
+/// text: a blank one leaves no empty summary line (from a mutation review of
+/// src/report/html.rs).
+#[test]
+fn html_row_heads_show_the_weight_and_only_real_summaries() {
+    let mut m = load("demo-matrix.json");
+    m.packages[0].summary = Some("   ".into());
+    m.packages[0].weight = 2.5;
+    m.packages[1].summary = Some("a reed warbler".into());
+    let page = html(&m);
+    let heads: Vec<&str> = page
+        .split("<th scope=\"row\" class=\"row-head\">")
+        .skip(1)
+        .map(|s| &s[..s.find("</th>").unwrap()])
+        .collect();
+    assert!(!heads[0].contains("class=\"summary\""), "{}", heads[0]);
+    assert!(
+        heads[0].contains("<span class=\"weight\">w 2.5</span>"),
+        "{}",
+        heads[0]
+    );
+    assert!(
+        heads[1].contains("<span class=\"summary\" title=\"a reed warbler\">a reed warbler</span>"),
+        "{}",
+        heads[1]
+    );
+}
+
+/// A page with no cells says why the grid is empty, and a page with cells does not (from a
+/// mutation review of src/report/html.rs: the two cases swapped passed every test).
+#[test]
+fn html_says_when_a_matrix_has_no_cells() {
+    const EMPTY: &str = "This matrix has no cells: it lists no packages or no images.";
+    let full = load("demo-matrix.json");
+    let no_images = Matrix {
+        images: Vec::new(),
+        ..full.clone()
+    };
+    let no_packages = Matrix {
+        packages: Vec::new(),
+        cells: Vec::new(),
+        ..full.clone()
+    };
+    assert!(!html(&full).contains(EMPTY));
+    assert!(html(&no_images).contains(EMPTY));
+    assert!(html(&no_packages).contains(EMPTY));
+}
+
+/// A matrix planned with `--no-native` opens with the "Version solving only" banner in HTML
+/// and Markdown, before any cell, and one planned with native checks does not (from a
+/// mutation review of src/report/html.rs and src/report/markdown.rs: the legend alone still
+/// mentioned it, so dropping either banner passed every test).
+#[test]
+fn a_no_native_matrix_opens_with_its_banner_in_html_and_markdown() {
+    use basefit::plan::matrix::NATIVE_SKIPPED_NOTICE;
+    let with = load("demo-matrix.json");
+    assert!(!with.native_skipped);
+    let without = Matrix {
+        native_skipped: true,
+        ..with.clone()
+    };
+    let banner = format!("> **Version solving only.** {NATIVE_SKIPPED_NOTICE}\n");
+    let md = markdown(&without);
+    let at = md.find(&banner).unwrap_or_else(|| panic!("{md}"));
+    assert!(at < md.find("| # | package |").unwrap());
+    assert!(!markdown(&with).contains("**Version solving only.**"));
+
+    let page = html(&without);
+    let aside = between(
+        &page,
+        "<aside class=\"notice\" id=\"notice-native\"",
+        "</aside>",
+    );
+    assert!(aside.contains("Version solving only."), "{aside}");
+    assert!(aside.contains(NATIVE_SKIPPED_NOTICE), "{aside}");
+    assert!(page.find("id=\"notice-native\"").unwrap() < page.find("id=\"grid\"").unwrap());
+    assert!(!html(&with).contains("id=\"notice-native\""));
+}
+
+/// A backtick with no partner is escaped even when a command follows it: closing it would
+/// add a backtick the input does not have (from a mutation review of
+/// src/report/markdown.rs).
+#[test]
+fn a_lone_backtick_before_a_command_is_escaped_not_closed() {
+    use basefit::report::markdown::escape_markdown_code;
+    assert_eq!(
+        escape_markdown_code("run `basefit check"),
+        "run \\`basefit check"
+    );
+    assert_eq!(
+        escape_markdown_code("`basefit a` then `basefit b"),
+        "\\`basefit a\\` then \\`basefit b"
+    );
 }
