@@ -1688,9 +1688,18 @@ fn fuse_lists(o: &FuseCommand) -> Result<Output> {
     let yaml =
         plan::fusion::to_priority_yaml_leaving_out(&fused, o.method, o.missing, &lists, &emptied);
     let mut out = Output::default();
+    // Each line says what became of its row: a date that cannot be read is the same text
+    // whether the row was left out (under --window) or only noted (without one).
     for p in &ledger.problems {
-        out.stderr
-            .push(format!("{}: {}: {}", p.origin, p.subject, p.detail));
+        let fate = if p.left_out {
+            "row left out"
+        } else {
+            "noted; the row is used"
+        };
+        out.stderr.push(format!(
+            "{}: {}: {} ({fate})",
+            p.origin, p.subject, p.detail
+        ));
     }
     for (file, why) in &emptied {
         out.stderr.push(format!(

@@ -324,3 +324,43 @@ fn a_constant_given_to_a_method_without_one_is_refused() {
         );
     }
 }
+
+/// An unreadable date is only noted without `--window` (the row is used) and leaves its row
+/// out under one, in the same words; a negative score always leaves its row out. Each stderr
+/// line says which, so a reader can tell whether the package took part in the fusion.
+#[test]
+fn each_problem_line_says_whether_its_row_was_used() {
+    let dir = tempfile::tempdir().unwrap();
+    let source = dir.path().join("dated.csv");
+    std::fs::write(
+        &source,
+        "name,score,date\nweb,900,2026-10-01\nzip,50,2026-13-01\nimg,-3,2026-10-02\n",
+    )
+    .unwrap();
+    let (code, stderr) = fuse(&[OsStr::new("--source"), source.as_os_str()]);
+    assert_eq!(code, 1, "{stderr}");
+    let line = |row: u32| {
+        let at = format!("{}:{row}:", source.display());
+        stderr
+            .lines()
+            .find(|l| l.starts_with(&at))
+            .unwrap_or_else(|| panic!("no line for row {row} in {stderr}"))
+            .to_string()
+    };
+    assert!(
+        line(3).ends_with("found `2026-13-01` (noted; the row is used)"),
+        "{stderr}"
+    );
+    assert!(line(4).ends_with("is negative (row left out)"), "{stderr}");
+    let (code, stderr) = fuse(&[
+        OsStr::new("--window"),
+        OsStr::new("2026-10-01..2026-10-31"),
+        OsStr::new("--source"),
+        source.as_os_str(),
+    ]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(
+        stderr.contains("found `2026-13-01` (row left out)"),
+        "{stderr}"
+    );
+}
