@@ -273,6 +273,41 @@ fn the_text_names_a_changed_recorded_result_and_missing_packages() {
     );
 }
 
+/// A side planned with `--no-native` checked no system package: its cells are not said to lack
+/// none. Diffing a native plan against a `--no-native` one printed "fails 1.0.0
+/// (missing-system-library) [lacks libyaml-dev] -> installs 1.0.0 [lacks no system package]",
+/// which reads as if the image had gained the package (from an end-to-end review).
+#[test]
+fn a_side_planned_without_native_checks_is_not_said_to_lack_nothing() {
+    let registry = "packages:
+  - name: kestrel
+    versions:
+      - version: 1.0.0
+        native: {libraries: [libyaml], files: [ext/k.c]}
+";
+    let before = planned_from(
+        registry,
+        "priorities:\n  - kestrel\n",
+        &PlanOptions::default(),
+    );
+    let after = planned_from(
+        registry,
+        "priorities:\n  - kestrel\n",
+        &PlanOptions {
+            native: false,
+            ..PlanOptions::default()
+        },
+    );
+    assert!(after.native_skipped, "{after:?}");
+    let d = diff(&before, &after, |_| String::new());
+    let text = basefit::report::text::diff_text(&d);
+    assert!(
+        text.contains("[lacks libyaml-dev] -> installs 1.0.0 [system packages not checked]"),
+        "{text}"
+    );
+    assert!(!text.contains("lacks no system package"), "{text}");
+}
+
 /// A cell whose only change is its own build (a source build turned prebuilt) names the build
 /// on both sides, and only then: beside another change the build is not named.
 #[test]

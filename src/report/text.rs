@@ -949,12 +949,26 @@ pub fn diff_text(d: &crate::verify::diff::MatrixDiff) -> String {
                     .map_or(String::new(), |k| format!(" [{}]", k.as_str()))
             });
         }
-        name_difference(c, (&mut before, &mut after), |b| {
-            match b.missing_system_packages.is_empty() {
-                true => " [lacks no system package]".to_string(),
-                false => format!(" [lacks {}]", b.missing_system_packages.join(" ")),
+        // A side planned with --no-native checked no system package, so it lacks none only
+        // as far as nobody looked: say so rather than that it lacks nothing.
+        let lacks = |b: &crate::verify::diff::CellBrief, skipped: bool| match (
+            skipped,
+            b.missing_system_packages.is_empty(),
+        ) {
+            (true, _) => " [system packages not checked]".to_string(),
+            (false, true) => " [lacks no system package]".to_string(),
+            (false, false) => format!(" [lacks {}]", b.missing_system_packages.join(" ")),
+        };
+        if let (Some(b), Some(a)) = (&c.before, &c.after) {
+            let shown = (
+                lacks(b, d.native_skipped.before),
+                lacks(a, d.native_skipped.after),
+            );
+            if shown.0 != shown.1 {
+                before.push_str(&shown.0);
+                after.push_str(&shown.1);
             }
-        });
+        }
         name_difference(c, (&mut before, &mut after), |b| match &b.recorded {
             Some(r) => format!(" [recorded {r}]"),
             None => " [no recorded install]".to_string(),
