@@ -1788,3 +1788,42 @@ fn the_check_report_counts_its_problems_and_categories() {
     let line = format!("\n{total} problems in {} categories\n", groups.len());
     assert!(text.contains(&line), "{line:?} not in {text}{stderr}");
 }
+
+/// `plan`'s weight resolving is a lower bound on an image with undecided cells (they may yet
+/// resolve), and says so as `imageplan`'s coverage does (`>=`). With a budget that decides
+/// nothing it printed a bare "0.0%" beside 1 undecided cell (from an end-to-end review).
+#[test]
+fn plan_marks_the_weight_resolving_of_an_image_with_undecided_cells_as_a_lower_bound() {
+    let d = tempfile::tempdir().unwrap();
+    let registry = common::write(
+        d.path(),
+        "r.yaml",
+        "packages:\n  - name: alpha\n    versions: [{version: \"1.0.0\", depends: [{name: beta, req: \"*\"}]}]\n  - name: beta\n    versions: [{version: \"1.0.0\"}]\n",
+    );
+    let images = common::write(
+        d.path(),
+        "i.yaml",
+        "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n",
+    );
+    let priorities = common::write(d.path(), "p.yaml", "priorities:\n  - alpha\n");
+    let args = |budget: &str| {
+        vec![
+            "plan".to_string(),
+            "--registry".into(),
+            registry.display().to_string(),
+            "--images".into(),
+            images.display().to_string(),
+            "--priorities".into(),
+            priorities.display().to_string(),
+            "--budget".into(),
+            budget.into(),
+        ]
+    };
+    let (code, stdout, stderr) = common::run_basefit(args("1"));
+    assert_eq!(code, 0, "{stderr}");
+    let row = stdout.lines().find(|l| l.starts_with("deb ")).unwrap();
+    assert!(row.contains(" 1 ") && row.ends_with(">=0.0%"), "{stdout}");
+    let (_, stdout, _) = common::run_basefit(args("20000"));
+    let row = stdout.lines().find(|l| l.starts_with("deb ")).unwrap();
+    assert!(row.ends_with(" 100.0%"), "{stdout}");
+}

@@ -234,7 +234,12 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
             i.at_risk.to_string(),
             i.fails.to_string(),
             i.undecided.to_string(),
-            super::percent_or_na(i.weight_share, 1),
+            // Undecided cells may yet resolve: the share is then a lower bound, marked as
+            // `imageplan` marks its coverage.
+            match (i.undecided, i.weight_share) {
+                (1.., Some(_)) => format!(">={}", super::percent_or_na(i.weight_share, 1)),
+                _ => super::percent_or_na(i.weight_share, 1),
+            },
         ]);
     }
     out.push_str(&table(&rows));
