@@ -7,7 +7,7 @@ mod common;
 
 use basefit::load::{InputPaths, Inputs, load_inputs};
 use basefit::plan::PlanOptions;
-use basefit::plan::explain::explain;
+use basefit::plan::explain::{Direction, explain};
 use basefit::solve::Cause;
 
 const IMAGES: &str = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n";
@@ -1227,6 +1227,41 @@ fn the_runtime_hint_follows_the_cause_past_a_gap() {
     let hint = e.runtime_hint.as_ref().unwrap();
     assert_eq!(hint.resolves_at().unwrap().version, "2.1.3");
     assert!(hint.toward_cause.is_none());
+}
+
+/// A `runtime-too-new` cell that resolves only at a newer runtime: the hint toward the cause
+/// lists the older declared runtimes nearest the image's first, as `TowardCause::trials`
+/// documents (from a mutation review of src/plan/explain.rs: only the newer direction was
+/// tested, so listing the oldest first went unnoticed).
+#[test]
+fn the_runtime_hint_toward_older_runtimes_starts_nearest_the_image() {
+    let image = |id: &str, rt: &str| {
+        format!(
+            "  - {{id: {id}, runtime: {rt}, family: debian, platform: linux/glibc/x86_64, toolchain: true}}\n"
+        )
+    };
+    // The newest release wants a runtime no image declares, below the image's: too new (the
+    // package's own refusal outranks its older release's dependency). That older release
+    // installs from 2.1 on, where its dependency does, so the lowest runtime that resolves is
+    // newer.
+    let registry = "packages:\n  - name: wombat-fs\n    versions:\n      - {version: \"2.0.0\", runtime: \">=1.9.0, <1.9.5\"}\n      - {version: \"1.0.0\", depends: [{name: numbat-io, req: \"^1\"}]}\n  - name: numbat-io\n    versions: [{version: \"1.0.0\", runtime: \">=2.1\"}]\n";
+    let all = format!(
+        "images:\n{}{}{}{}",
+        image("oldest", "1.5.0"),
+        image("older", "1.8.0"),
+        image("here", "2.0.0"),
+        image("newer", "2.1.3")
+    );
+    let inputs = inputs_on(&all, registry, "priorities: [wombat-fs]\n");
+    let e = explain(&inputs, "wombat-fs", "here", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.cause, Some(Cause::RuntimeTooNew), "{:?}", e.cell);
+    let hint = e.runtime_hint.as_ref().unwrap();
+    assert_eq!(hint.resolves_at().unwrap().version, "2.1.3");
+    let toward = hint.toward_cause.as_ref().expect("a try toward the cause");
+    assert_eq!(toward.direction, Direction::Older);
+    let tried: Vec<&str> = toward.trials.iter().map(|t| t.version.as_str()).collect();
+    assert_eq!(tried, ["1.8.0", "1.5.0"]);
+    assert!(toward.resolves_at().is_none());
 }
 
 /// A package whose releases miss the image's runtime in both directions: the newest release
