@@ -1264,15 +1264,22 @@ fn the_runtime_hint_toward_older_runtimes_starts_nearest_the_image() {
     assert!(toward.resolves_at().is_none());
 }
 
-/// A package whose releases miss the image's runtime in both directions: the newest release
-/// decides the direction, since that is the one a newer runtime would reach (README, "What the
-/// outcomes mean"). The order of the two checks once went untested.
+/// A package whose releases miss the image's runtime in both directions is `runtime-too-old`
+/// whichever release needs the newer runtime: README's order of causes puts `runtime-too-old`
+/// before `runtime-too-new` ("What the outcomes mean", (5)). The order of the two checks once
+/// went untested, and this test's comment once said the newest release decides, which the
+/// second registry below (the newest release wanting an older runtime) shows it does not (a
+/// mutation review of src/plan found the comment and the code apart).
 #[test]
-fn releases_that_miss_the_runtime_both_ways_name_the_newest_ones_direction() {
-    let registry = "packages:\n  - name: kite\n    versions:\n      - {version: \"1.0.0\", runtime: \"<3\"}\n      - {version: \"2.0.0\", runtime: \">=4\"}\n";
-    let inputs = inputs(registry, "priorities:\n  - {name: kite}\n");
-    let e = explain(&inputs, "kite", "deb", &PlanOptions::default()).unwrap();
-    assert_eq!(e.cell.cause, Some(Cause::RuntimeTooOld), "{:?}", e.cell);
+fn releases_that_miss_the_runtime_both_ways_are_runtime_too_old() {
+    for registry in [
+        "packages:\n  - name: kite\n    versions:\n      - {version: \"1.0.0\", runtime: \"<3\"}\n      - {version: \"2.0.0\", runtime: \">=4\"}\n",
+        "packages:\n  - name: kite\n    versions:\n      - {version: \"1.0.0\", runtime: \">=4\"}\n      - {version: \"2.0.0\", runtime: \"<3\"}\n",
+    ] {
+        let inputs = inputs(registry, "priorities:\n  - {name: kite}\n");
+        let e = explain(&inputs, "kite", "deb", &PlanOptions::default()).unwrap();
+        assert_eq!(e.cell.cause, Some(Cause::RuntimeTooOld), "{:?}", e.cell);
+    }
 }
 
 /// An unnamed native build (shipped sources) beside a named library need of the same
