@@ -1826,4 +1826,34 @@ fn plan_marks_the_weight_resolving_of_an_image_with_undecided_cells_as_a_lower_b
     let (_, stdout, _) = common::run_basefit(args("20000"));
     let row = stdout.lines().find(|l| l.starts_with("deb ")).unwrap();
     assert!(row.ends_with(" 100.0%"), "{stdout}");
+    // The rendered Markdown and HTML summaries say the same (the review left them bare).
+    for (budget, markdown_cell, html_share) in [
+        (
+            "1",
+            "| 1 | >=0% |",
+            "at least <strong>0%</strong> of priority weight resolves",
+        ),
+        (
+            "20000",
+            "| 0 | 100% |",
+            "<strong>100%</strong> of priority weight resolves",
+        ),
+    ] {
+        let out = tempfile::tempdir().unwrap();
+        let mut render = args(budget);
+        render[0] = "render".into();
+        render.extend(["--out".into(), out.path().display().to_string()]);
+        let (code, _, stderr) = common::run_basefit(render);
+        assert_eq!(code, 0, "{stderr}");
+        let markdown = std::fs::read_to_string(out.path().join("matrix.md")).unwrap();
+        let row = markdown.lines().find(|l| l.starts_with("| deb |")).unwrap();
+        assert!(row.ends_with(markdown_cell), "{row}");
+        let html = std::fs::read_to_string(out.path().join("matrix.html")).unwrap();
+        assert!(html.contains(html_share), "budget {budget}");
+        assert_eq!(
+            html.contains("at least <strong>"),
+            budget == "1",
+            "budget {budget}"
+        );
+    }
 }

@@ -530,10 +530,12 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
         out.push_str("</p>\n<p class=\"image-share\">");
         let resolving = k.installs + k.at_risk;
         match k.weight_share {
+            // Undecided cells may yet resolve: the share is then a lower bound.
             Some(share) => {
                 let _ = write!(
                     out,
-                    "<strong>{}</strong> of priority weight resolves ({resolving} of {rows} packages)",
+                    "{}<strong>{}</strong> of priority weight resolves ({resolving} of {rows} packages)",
+                    if k.undecided > 0 { "at least " } else { "" },
                     layout::percent(Some(share)),
                 );
             }

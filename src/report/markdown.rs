@@ -298,7 +298,8 @@ fn render(m: &Matrix, labels: NoteLabels) -> String {
             k.at_risk,
             k.fails,
             k.undecided,
-            layout::percent(k.weight_share),
+            // Markdown tables read `>=` as text; undecided cells may yet resolve.
+            super::at_least_if_undecided(k.undecided, layout::percent(k.weight_share)),
         );
     }
     let recorded: usize = counts.iter().map(|k| k.recorded()).sum();

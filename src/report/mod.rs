@@ -94,6 +94,23 @@ pub fn percent_or_na(share: Option<f64>, decimals: usize) -> String {
     share.map_or_else(|| "n/a".to_string(), |s| percent(s, decimals))
 }
 
+/// A share of priority weight that resolves as printed beside an image's counts: with
+/// undecided cells it is a lower bound (they may yet resolve), marked `>=` as `imageplan` marks
+/// its coverage.
+///
+/// ```
+/// use basefit::report::at_least_if_undecided;
+/// assert_eq!(at_least_if_undecided(2, "40.0%".into()), ">=40.0%");
+/// assert_eq!(at_least_if_undecided(0, "40.0%".into()), "40.0%");
+/// assert_eq!(at_least_if_undecided(2, "n/a".into()), "n/a");
+/// ```
+pub fn at_least_if_undecided(undecided: usize, shown: String) -> String {
+    match undecided > 0 && shown != "n/a" {
+        true => format!(">={shown}"),
+        false => shown,
+    }
+}
+
 /// How many places a target share needs to print as itself (`--target 0.9753` is 97.53%, not
 /// 97.5%): at least one, at most nine, where a nearer value is past anything a user types.
 pub fn target_decimals(target: f64) -> usize {

@@ -236,10 +236,7 @@ pub fn plan_text(summary: &Summary, blockers: &[SharedBlocker]) -> String {
             i.undecided.to_string(),
             // Undecided cells may yet resolve: the share is then a lower bound, marked as
             // `imageplan` marks its coverage.
-            match (i.undecided, i.weight_share) {
-                (1.., Some(_)) => format!(">={}", super::percent_or_na(i.weight_share, 1)),
-                _ => super::percent_or_na(i.weight_share, 1),
-            },
+            super::at_least_if_undecided(i.undecided, super::percent_or_na(i.weight_share, 1)),
         ]);
     }
     out.push_str(&table(&rows));
