@@ -739,3 +739,25 @@ fn check_counts_the_catalog_file_s_libraries() {
         "{out}"
     );
 }
+
+/// `Catalog::knows` with no recorded build (a need from a matrix written before builds were
+/// recorded) asks for both ways, as its doc says: a library whose family names only a `dev`
+/// package is known for source builds, not for prebuilt ones, and so not when the build is
+/// unknown. Guards the "both" (mutation testing: "either" passed it, unnoticed, since every
+/// need basefit plans today records its build).
+#[test]
+fn a_need_without_a_recorded_build_is_known_only_both_ways() {
+    use basefit::solve::BuildKind;
+    let mut catalog = Catalog::builtin();
+    catalog
+        .apply(
+            "site.yaml",
+            "libraries:\n  - id: quollcodec\n    headers: [quollcodec.h]\n    families:\n      debian: {dev: libquollcodec-dev}\n",
+        )
+        .unwrap();
+    let debian = OsFamily::Debian;
+    assert!(catalog.knows("quollcodec", debian, Some(BuildKind::Source)));
+    assert!(!catalog.knows("quollcodec", debian, Some(BuildKind::Prebuilt)));
+    assert!(!catalog.knows("quollcodec", debian, None));
+    assert!(catalog.knows("zlib", debian, None));
+}

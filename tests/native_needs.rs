@@ -2029,3 +2029,112 @@ fn debian_pkg_config_packages_ship_the_program() {
         "{depends}"
     );
 }
+
+/// A release shipping one native file names it alone, "ships src/ext/glue.c", with no
+/// "and 0 more native source or build files"; with two it counts the other one. Guards the
+/// count of further native files (mutation testing: counting from one file appended "and 0
+/// more" to every single-file release, unnoticed).
+#[test]
+fn one_native_file_is_named_without_a_count_of_more() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("quoll-glue", "", "src/ext/glue.c"),
+        package("quoll-pair", "", "src/ext/glue.c, Makefile"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image(
+            "slim",
+            "debian",
+            "    toolchain: false\n    packages: [ca-certificates]\n"
+        ),
+    );
+    let args = inputs(
+        dir.path(),
+        &registry,
+        &images,
+        &["quoll-glue", "quoll-pair"],
+    );
+    let (code, stdout, stderr) = run(&["explain", "quoll-glue", "slim"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(
+        stdout.contains("via quoll-glue: ships src/ext/glue.c\n"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("more"), "{stdout}");
+    let (_, stdout, _) = run(&["explain", "quoll-pair", "slim"], &args);
+    assert!(
+        stdout.contains("ships src/ext/glue.c and 1 more native source or build files"),
+        "{stdout}"
+    );
+}
+
+/// A shipped header is a catalog header only when its whole file name is one: `myzlib.h`
+/// ends with zlib's `zlib.h` but is no copy of it, so a release shipping it builds natively
+/// (it installs on an image with a toolchain) without needing `zlib1g-dev`, while one shipping
+/// `include/zlib.h` does (Debian's zlib development package, as in the catalog's archive
+/// extract). Guards the `/` before the header in the path match (mutation testing: a bare
+/// suffix match made the first release need zlib).
+#[test]
+fn a_header_name_ending_in_a_catalog_header_is_not_that_header() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}{}",
+        package("quoll-myz", "", "src/ext/myzlib.h"),
+        package("quoll-z", "", "include/zlib.h"),
+    );
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["quoll-myz", "quoll-z"]);
+    expect_explained(
+        &args,
+        &[
+            ("quoll-myz", "full", 0, "installs"),
+            ("quoll-z", "full", 1, "zlib1g-dev"),
+        ],
+    );
+}
+
+/// A word of a summary keeps its `+` signs: "gobjc++" mentions the catalog's Objective-C++
+/// compiler entry (`gobjc++`, Debian's package of that name), not the Objective-C one
+/// (`gobjc`), so the cell may need `gobjc++`. Guards `+` as a word character (mutation
+/// testing: splitting at it read the mention as `gobjc`).
+#[test]
+fn a_summary_word_keeps_its_plus_signs() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = "packages:\n  - name: numbat-views\n    summary: Views compiled with gobjc++\n    versions:\n      - version: \"1.0.0\"\n";
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), registry, &images, &["numbat-views"]);
+    let (code, stdout, stderr) = run(&["explain", "numbat-views", "full"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(stdout.contains("mentions `gobjc++`"), "{stdout}");
+    assert!(stdout.contains("may need: gobjc++\n"), "{stdout}");
+}
+
+/// An unnamed native build is subsumed by a named need of the same confidence: a release
+/// shipping `include/zlib.h` (a likely zlib need) and `src/ext/glue.c` (a likely native build)
+/// lists one need, zlib's; no "(unnamed native build)" line repeats the build. Guards the strict comparison in the subsumption (mutation testing:
+/// keeping an unnamed build of equal confidence listed it beside zlib).
+#[test]
+fn an_unnamed_build_beside_a_named_need_of_equal_confidence_is_not_listed() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("quoll-zglue", "", "include/zlib.h, src/ext/glue.c")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), &registry, &images, &["quoll-zglue"]);
+    let (code, stdout, stderr) = run(&["explain", "quoll-zglue", "full"], &args);
+    assert_eq!(code, 1, "{stdout}{stderr}");
+    assert!(stdout.contains("zlib [likely] via quoll-zglue"), "{stdout}");
+    assert!(!stdout.contains("unnamed native build"), "{stdout}");
+}
