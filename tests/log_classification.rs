@@ -147,6 +147,39 @@ fn pkg_config_missing_module() {
     );
 }
 
+/// pkgconf's `Package 'foo', required by 'bar', not found` names a missing module only with
+/// its "not found": a line of the same shape that says the module was found names nothing
+/// missing. Guards the "not found" check (mutation testing: without it the found module was
+/// reported missing).
+#[test]
+fn a_pkgconf_required_by_line_needs_its_not_found() {
+    // source: from memory, pkgconf's wording; the second line is invented, of the same shape
+    assert_eq!(
+        causes(&classify(
+            "Package 'zlib', required by 'libpng16', not found"
+        )),
+        [&LogCause::MissingPkgConfig {
+            module: "zlib".into()
+        }]
+    );
+    assert!(
+        classify("Package 'zlib', required by 'libpng16', found in /usr/lib/pkgconfig").is_empty()
+    );
+}
+
+/// A compiler's version suffix may hold points (`clang-15.0`, `gcc-12.2`, as the module docs
+/// of `verify::logs` allow): the shell's "not found" for such a name is a missing compiler.
+/// Guards the `.` in version suffixes (mutation testing: digits alone left these lines
+/// unrecognised).
+#[test]
+fn a_compiler_version_suffix_may_hold_points() {
+    // source: dash's wording (see shells_without_compiler_or_make), with invented versions
+    for tool in ["clang-15.0", "x86_64-linux-gnu-gcc-12.2"] {
+        let log = format!("/bin/sh: 1: {tool}: not found");
+        assert_eq!(causes(&classify(&log)), [&compiler(tool)], "{log}");
+    }
+}
+
 /// Header paths as the system-library catalog lists them (libcurl, libpq, libxml2). libxml2
 /// keeps its headers under `/usr/include/libxml2`, so even with its dev package installed gcc
 /// misses `libxml/parser.h` unless given pkg-config's `-I`; either way the message is gcc's.
@@ -784,6 +817,30 @@ error: runtime refused: requires >=3.8, <4, found 3.7.2
             "evidence": "conftest.c:1:10: fatal error: zlib.h: No such file or directory"
         })
     );
+}
+
+/// A header missing in an autoconf probe comes after every other finding, a later missing
+/// header and a missing `make` included: configure expects its probes to fail, so the build
+/// stopped for what follows (the module docs of `verify::logs`, `primary`). Guards the probe
+/// demotion in `primary` (mutation testing: without it the probe's header, earlier and of the
+/// same rank, was the primary cause).
+#[test]
+fn a_configure_probe_header_comes_after_every_other_finding() {
+    // source: GNU gcc wording (see gcc_missing_header) as an autoconf probe prints it, and
+    // dash's "not found" (see shells_without_compiler_or_make)
+    let log = "\
+conftest.c:1:10: fatal error: ndbm.h: No such file or directory
+src/ext/inflate.c:3:10: fatal error: zlib.h: No such file or directory
+";
+    let findings = classify(log);
+    assert_eq!(causes(&findings), [&header("ndbm.h"), &header("zlib.h")]);
+    let first = primary(&findings).unwrap();
+    assert_eq!((&first.cause, first.line), (&header("zlib.h"), 2));
+    let log = "\
+conftest.c:1:10: fatal error: ndbm.h: No such file or directory
+/bin/sh: 1: make: not found
+";
+    assert_eq!(primary(&classify(log)).unwrap().cause, LogCause::NoMake);
 }
 
 /// Reads a results file naming `log` as the log file of one failure, the way `review` does.

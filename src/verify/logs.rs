@@ -1305,6 +1305,31 @@ mod tests {
         assert!(causes("runtime refused: requires 2.0").is_empty());
     }
 
+    /// The requirement runs up to the last `, found ` of the line (module docs, "The
+    /// runtime-refused form"), so one holding those words keeps them. Guards `rfind`
+    /// (mutation testing: the first `, found ` cut the requirement short).
+    #[test]
+    fn a_runtime_requirement_runs_to_the_last_found() {
+        assert_eq!(
+            one("runtime refused: requires ^2 (pinned, found in lock), found 1.9"),
+            LogCause::RuntimeRefused {
+                required: "^2 (pinned, found in lock)".into(),
+                found: "1.9".into()
+            }
+        );
+    }
+
+    /// Older GNU makes report a recipe's missing program as `make[2]: g++: Command not found`
+    /// (from memory, as the comment in `missing_program` says): a missing C++ compiler.
+    /// Guards that wording (mutation testing: without it the line was not recognised).
+    #[test]
+    fn an_older_make_s_command_not_found() {
+        assert_eq!(
+            one("make[2]: g++: Command not found"),
+            LogCause::NoCompiler { tool: "g++".into() }
+        );
+    }
+
     #[test]
     fn exit_code_137_needs_a_code_word_and_digit_bounds() {
         assert!(exit_137("exit code: 137"));
@@ -1313,6 +1338,15 @@ mod tests {
         assert!(!exit_137("exit code 1370"));
         assert!(!exit_137("exit code 2137"));
         assert!(!exit_137("downloaded 137 files"));
+    }
+
+    /// `signal 9` is SIGKILL only as a whole number: `signal 95` (an invented line) is another
+    /// signal. Guards the digit check after it (mutation testing: without it the line read as
+    /// a kill).
+    #[test]
+    fn signal_9_is_a_whole_number() {
+        assert_eq!(one("worker 3 terminated by signal 9"), LogCause::Killed);
+        assert!(causes("worker 3 terminated by signal 95").is_empty());
     }
 
     #[test]
