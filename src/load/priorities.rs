@@ -305,3 +305,45 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
     }
     Ok(PriorityList { entries })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// README, "Priority list": with a `rank` column the list follows it, equal ranks keeping
+    /// file order (so of a name given twice at one rank the earlier row is kept); the entries
+    /// kept are then numbered from 1 in that order, the one left out taking no number. From a
+    /// mutation review: neither the tie order nor the numbering was guarded.
+    #[test]
+    fn equal_ranks_keep_file_order_and_entries_count_from_one() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("p.csv");
+        std::fs::write(
+            &path,
+            "rank,name\n2,gumleaf\n1,wattle\n2,fernwood\n2,gumleaf\n1,bottlebrush\n",
+        )
+        .unwrap();
+        let mut ledger = Ledger::default();
+        let list = read_priorities(&path, &mut ledger).unwrap();
+        let got: Vec<(usize, &str, usize)> = list
+            .entries
+            .iter()
+            .map(|e| (e.rank, e.name.as_str(), e.origin.line))
+            .collect();
+        assert_eq!(
+            got,
+            [
+                (1, "wattle", 3),
+                (2, "bottlebrush", 6),
+                (3, "gumleaf", 2),
+                (4, "fernwood", 4)
+            ]
+        );
+        let left_out: Vec<(usize, &str)> = ledger
+            .problems
+            .iter()
+            .map(|p| (p.origin.line, p.detail.as_str()))
+            .collect();
+        assert_eq!(left_out, [(5, "already listed at line 2")]);
+    }
+}
