@@ -2538,3 +2538,56 @@ fn check_reports_a_registry_with_no_usable_package() {
         "{stderr}"
     );
 }
+
+/// Priority lists and recorded results are read by their file name's extension in any case
+/// (README, "Input formats": "Extensions match in any case"), and a CSV `rank` must be a
+/// finite number: `inf` and `NaN` read as floats but give a row no place among the others
+/// (common practice, no source). From a mutation review: neither was guarded.
+#[test]
+fn extensions_match_in_any_case_and_ranks_must_be_finite() {
+    let d = dir();
+    let reg = write(d.path(), "registry.yaml", GOOD_REGISTRY.as_bytes());
+    let img = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let run = |flag: &str, name: &str, text: &str| {
+        let file = write(d.path(), name, text.as_bytes());
+        common::run_basefit([
+            "check".as_ref(),
+            "--registry".as_ref(),
+            reg.as_os_str(),
+            "--images".as_ref(),
+            img.as_os_str(),
+            flag.as_ref(),
+            file.as_os_str(),
+        ])
+    };
+    for (flag, name, text) in [
+        ("--priorities", "P.CSV", "name,weight\nfernwood,2\n"),
+        (
+            "--results",
+            "R.Csv",
+            "package,image,outcome\nfernwood,plain,installed\n",
+        ),
+        (
+            "--results",
+            "R.JSONL",
+            "{\"package\": \"fernwood\", \"image\": \"plain\", \"outcome\": \"installed\"}\n",
+        ),
+    ] {
+        let (code, stdout, stderr) = run(flag, name, text);
+        assert_eq!(code, 0, "{name}: {stdout}{stderr}");
+    }
+    for rank in ["inf", "NaN", "-inf"] {
+        let (code, _, stderr) = run(
+            "--priorities",
+            "ranked.csv",
+            &format!("rank,name\n1,fernwood\n{rank},fernwood-extra\n"),
+        );
+        assert_eq!(code, 2, "{rank}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "ranked.csv:3: `rank`: expected a number, found `{rank}`"
+            )),
+            "{rank}: {stderr}"
+        );
+    }
+}
