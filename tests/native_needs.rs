@@ -2138,3 +2138,41 @@ fn an_unnamed_build_beside_a_named_need_of_equal_confidence_is_not_listed() {
     assert!(stdout.contains("zlib [likely] via quoll-zglue"), "{stdout}");
     assert!(!stdout.contains("unnamed native build"), "{stdout}");
 }
+
+/// An image that adds back the C++ compiler package its base removed compiles C++ again: its
+/// C compiler comes from the inherited flag, and the flag with the C++ compiler package is a
+/// C and C++ toolchain (from a mutation review of src/native: it stayed C-only, and a C++
+/// build there read "probably needs a C toolchain" with no package to add).
+#[test]
+fn an_image_adding_back_the_cxx_compiler_compiles_cxx_again() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("quoll-cpp", "", "src/ext/core.cpp")
+    );
+    let images = "images:\n  - {id: base, runtime: 3.2.0, family: debian, platform: linux/glibc/x86_64, toolchain: true, packages: [g++]}\n  - {id: mid, extends: base, remove: [g++]}\n  - {id: child, extends: mid, add: [g++]}\n";
+    let args = inputs(dir.path(), &registry, images, &["quoll-cpp"]);
+    expect_explained(
+        &args,
+        &[
+            (
+                "quoll-cpp",
+                "base",
+                0,
+                "quoll-cpp on base: installs (1.0.0)",
+            ),
+            (
+                "quoll-cpp",
+                "mid",
+                1,
+                "probably needs: g++; the C++ compiler for quoll-cpp",
+            ),
+            (
+                "quoll-cpp",
+                "child",
+                0,
+                "quoll-cpp on child: installs (1.0.0)",
+            ),
+        ],
+    );
+}

@@ -533,7 +533,11 @@ fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusa
         family,
         platform,
         toolchain: flag_c || carries_c,
-        cxx: flag_cxx || carries_cxx,
+        // A C compiler by the flag (its own or inherited) with the C++ compiler package
+        // compiles C++: an image that adds back the g++ its base removed has it again.
+        cxx: flag_cxx
+            || carries_cxx
+            || (flag_c && packages.contains(crate::native::cxx_compiler_package(family))),
         system_packages: packages,
         extends: d.extends.as_ref().map(|e| e.value.clone()),
         origin: Origin {
