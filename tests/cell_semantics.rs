@@ -2368,6 +2368,39 @@ fn platform_words_match_whatever_their_case() {
     assert!(cell.cause.is_none(), "{cell:?}");
 }
 
+/// The other names of one architecture or C library match too: Debian's and Go's `amd64` and
+/// `arm64`, `gnu` for glibc (common practice, no source). A registry export written so made
+/// every prebuilt-only release fail for the platform without a word (from an end-to-end
+/// review), while an image on another architecture still refuses it.
+#[test]
+fn platform_words_match_under_their_other_names() {
+    let registry = r#"packages:
+  - name: simd
+    versions: [{version: "1.0.0", builds: {source: false, prebuilt: [linux/gnu/amd64, linux/musl/arm64]}}]
+"#;
+    let images = "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n  - {id: alp, runtime: 3.1.5, family: alpine, platform: linux/musl/aarch64, toolchain: true}\n  - {id: deb-arm, runtime: 3.1.5, family: debian, platform: linux/glibc/arm64, toolchain: true}\n";
+    let inputs = inputs_on(images, registry, "priorities: [simd]\n");
+    for (image, installs) in [("deb", true), ("alp", true), ("deb-arm", false)] {
+        let cell = explain(&inputs, "simd", image, &PlanOptions::default())
+            .unwrap()
+            .cell;
+        assert_eq!(cell.root_version.is_some(), installs, "{image}: {cell:?}");
+    }
+    let e = explain(&inputs, "simd", "deb-arm", &PlanOptions::default()).unwrap();
+    assert_eq!(
+        e.cell.cause,
+        Some(Cause::NoBuildForPlatform),
+        "{:?}",
+        e.cell
+    );
+    // Explanations name the platforms by the one name basefit reads them by.
+    let text = e.cell.explanation.join("\n");
+    assert!(
+        text.contains("prebuilt build for linux/glibc/aarch64") && !text.contains("arm64"),
+        "{text}"
+    );
+}
+
 /// The release hint names the newest release that resolves as a pre-release when it is one
 /// and lies outside the entry's requirement (README, `explain`: "named as a pre-release or as
 /// outside the entry's requirement when it is one"): `prerelease: true` admits pre-releases,

@@ -401,19 +401,16 @@ fn shortened_path(names: &[&str]) -> String {
     )
 }
 
-/// Image `d` on top of its base (already built), or on its own when it extends nothing.
 /// Debian's architecture name for a platform's (common practice, from memory); `None` for one
 /// this list does not know.
 fn debian_arch(arch: &str) -> Option<&'static str> {
-    Some(match arch {
-        "x86_64" | "amd64" => "amd64",
-        "aarch64" | "arm64" => "arm64",
-        "i386" | "i686" => "i386",
-        "armv7" | "armhf" => "armhf",
-        "ppc64le" | "ppc64el" => "ppc64el",
-        "s390x" => "s390x",
-        "riscv64" => "riscv64",
-        _ => return None,
+    Some(match crate::model::canonical_arch(arch)? {
+        "x86_64" => "amd64",
+        "aarch64" => "arm64",
+        "i686" => "i386",
+        "armv7" => "armhf",
+        "ppc64le" => "ppc64el",
+        other => other,
     })
 }
 
@@ -443,6 +440,7 @@ fn native_package_name(
     })
 }
 
+/// Image `d` on top of its base (already built), or on its own when it extends nothing.
 fn build(d: &Declared, base: Option<&Image>, file: &str) -> Result<Image, Refusal> {
     let missing = |what: &str| At::new(what.to_string(), d.line);
     let runtime_text = d

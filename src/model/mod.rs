@@ -12,7 +12,7 @@ pub use lazy::PerPackage;
 
 pub use registry::{
     Build, Dep, DepKind, NativeHints, Package, PackageId, Platform, PlatformId, Registry, Release,
-    ReleaseDate,
+    ReleaseDate, canonical_arch,
 };
 pub use requirement::{ReqId, Requirement};
 

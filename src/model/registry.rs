@@ -15,16 +15,20 @@ pub struct PackageId(pub u32);
 pub struct PlatformId(pub u16);
 
 /// The platform a prebuilt build targets, or an image runs: `os/libc/arch`, in lower case
-/// whatever the case written, since the words name the same systems (common practice, no
-/// source): an export that upper-cased the column would otherwise turn every prebuilt-only
-/// release into a platform failure without a word.
+/// whatever the case written, and with the other names of one architecture or C library read
+/// as one ([`canonical_arch`], `gnu` for `glibc`), since the words name the same systems
+/// (common practice, no source): an export that upper-cased the column, or wrote Debian's
+/// `amd64` where the images say `x86_64`, would otherwise turn every prebuilt-only release
+/// into a platform failure without a word.
 ///
 /// ```
 /// use basefit::model::Platform;
 /// let p = Platform::parse("linux/glibc/x86_64").unwrap();
 /// assert_eq!(p.libc, "glibc");
 /// assert_eq!(p.to_string(), "linux/glibc/x86_64");
-/// assert_eq!(Platform::parse("Linux/GLIBC/X86_64"), Ok(p));
+/// assert_eq!(Platform::parse("Linux/GLIBC/X86_64"), Ok(p.clone()));
+/// assert_eq!(Platform::parse("linux/gnu/amd64"), Ok(p));
+/// assert_eq!(Platform::parse("linux/musl/arm64").unwrap().to_string(), "linux/musl/aarch64");
 /// assert!(Platform::parse("linux/x86_64").is_err());
 /// ```
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
@@ -39,10 +43,15 @@ impl Platform {
         let parts: Vec<&str> = s.trim().split('/').collect();
         match parts.as_slice() {
             [os, libc, arch] if !os.is_empty() && !libc.is_empty() && !arch.is_empty() => {
+                let libc = libc.to_ascii_lowercase();
+                let arch = arch.to_ascii_lowercase();
                 Ok(Platform {
                     os: os.to_ascii_lowercase(),
-                    libc: libc.to_ascii_lowercase(),
-                    arch: arch.to_ascii_lowercase(),
+                    libc: match libc.as_str() {
+                        "gnu" => "glibc".to_string(),
+                        _ => libc,
+                    },
+                    arch: canonical_arch(&arch).map_or(arch, str::to_string),
                 })
             }
             _ => Err(format!(
@@ -50,6 +59,30 @@ impl Platform {
             )),
         }
     }
+}
+
+/// The one name basefit reads an architecture by, for the names other systems give it
+/// (Debian's and Go's `amd64` and `arm64`, Windows' `x64`, Debian's `i386`, `armhf` and
+/// `ppc64el`; common practice, from memory); `None` for a name this list does not know, which
+/// is kept as written.
+///
+/// ```
+/// use basefit::model::canonical_arch;
+/// assert_eq!(canonical_arch("amd64"), Some("x86_64"));
+/// assert_eq!(canonical_arch("aarch64"), Some("aarch64"));
+/// assert_eq!(canonical_arch("sparc64"), None);
+/// ```
+pub fn canonical_arch(arch: &str) -> Option<&'static str> {
+    Some(match arch {
+        "x86_64" | "amd64" | "x64" | "x86-64" => "x86_64",
+        "aarch64" | "arm64" => "aarch64",
+        "i686" | "i386" | "386" => "i686",
+        "armv7" | "armhf" | "armv7l" => "armv7",
+        "ppc64le" | "ppc64el" => "ppc64le",
+        "s390x" => "s390x",
+        "riscv64" => "riscv64",
+        _ => return None,
+    })
 }
 
 impl fmt::Display for Platform {
