@@ -326,6 +326,49 @@ fn package_that_fails_alone_is_left_out_without_naming_others() {
     assert!(p.left_out[0].reason.contains("does not install alone"));
 }
 
+/// An entry left out that the kept entries' dependencies install all the same (a pre-release
+/// one pins exactly, which the entry without `prerelease: true` does not take) says so: the
+/// manifest row of the same name beside "left out" read as a contradiction (from an
+/// end-to-end review).
+#[test]
+fn an_entry_left_out_that_the_manifest_installs_all_the_same_says_so() {
+    let inp = inputs(
+        "packages:
+- name: nimbrel
+  versions:
+  - {version: 0.1.0-rc.2}
+- name: earlybird
+  versions:
+  - {version: 1.0.0, depends: [{name: nimbrel, req: '=0.1.0-rc.2'}]}
+- name: plain
+  versions:
+  - {version: 1.0.0, runtime: '>=9'}
+",
+        "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        "priorities: [earlybird, nimbrel, plain]\n",
+    );
+    let p = preinstall(
+        &inp,
+        &inp.images.images[0],
+        &PlanOptions::default(),
+        &SetCache::default(),
+    );
+    let out: Vec<(&str, Option<&str>)> = p
+        .left_out
+        .iter()
+        .map(|l| (l.name.as_str(), l.in_manifest.as_deref()))
+        .collect();
+    assert_eq!(out, [("nimbrel", Some("0.1.0-rc.2")), ("plain", None)]);
+    let text = basefit::plan::preinstall::preinstall_text(&p);
+    assert!(
+        text.contains(
+            "; the manifest installs nimbrel 0.1.0-rc.2 all the same, which the kept entries' dependencies take\n"
+        ),
+        "{text}"
+    );
+    assert!(!text.contains("plain 1.0.0"), "{text}");
+}
+
 /// Tag names in document order, checked for balance; panics on a mismatch.
 fn check_balanced(svg: &str) -> usize {
     let mut stack: Vec<String> = Vec::new();

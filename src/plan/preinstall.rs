@@ -32,6 +32,11 @@ pub struct LeftOut {
     /// that, with this package, has no joint solution (one name for a pairwise conflict).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub conflicts_with: Vec<String>,
+    /// The version the manifest installs all the same, when the kept entries' dependencies
+    /// take the package (a pre-release one pins, say): "left out" beside a manifest row of
+    /// the same name read as a contradiction.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub in_manifest: Option<String>,
 }
 
 /// The pre-install plan of one image.
@@ -349,6 +354,7 @@ pub fn preinstall(
                 name: entry.name.clone(),
                 reason: "undecided alone: the solver ran out of budget before an answer, so whether it installs is unknown (raise --budget)".to_string(),
                 conflicts_with: Vec::new(),
+                in_manifest: None,
             });
             continue;
         }
@@ -363,6 +369,7 @@ pub fn preinstall(
                 name: entry.name.clone(),
                 reason: format!("does not install alone ({cause}): {why}"),
                 conflicts_with: Vec::new(),
+                in_manifest: None,
             });
             continue;
         }
@@ -373,6 +380,7 @@ pub fn preinstall(
                 name: entry.name.clone(),
                 reason: "not in the registry".to_string(),
                 conflicts_with: Vec::new(),
+                in_manifest: None,
             });
             continue;
         };
@@ -402,6 +410,7 @@ pub fn preinstall(
                         name: entry.name.clone(),
                         reason,
                         conflicts_with: Vec::new(),
+                        in_manifest: None,
                     }),
                     None => kept.push(candidate),
                 }
@@ -412,6 +421,7 @@ pub fn preinstall(
                     "the joint solve with the kept packages gave up after {steps} steps"
                 ),
                 conflicts_with: Vec::new(),
+                in_manifest: None,
             }),
             Solved::Fails(_) => {
                 let all: Vec<&Root> = kept.iter().collect();
@@ -454,6 +464,7 @@ pub fn preinstall(
                         }
                     ),
                     conflicts_with: names,
+                    in_manifest: None,
                 });
             }
         }
@@ -503,8 +514,15 @@ pub fn preinstall(
                 name: k.name,
                 reason: "the joint solve of the kept set did not complete".to_string(),
                 conflicts_with: Vec::new(),
+                in_manifest: None,
             });
         }
+    }
+    for l in &mut left_out {
+        l.in_manifest = manifest
+            .iter()
+            .find(|m: &&Pinned| m.name == l.name)
+            .map(|m| m.version.clone());
     }
     Preinstall {
         image: image.id.clone(),
@@ -694,7 +712,15 @@ pub fn preinstall_text(p: &Preinstall) -> String {
         }
     }
     for l in &p.left_out {
-        let _ = writeln!(s, "left out {}: {}", l.name, l.reason);
+        let _ = write!(s, "left out {}: {}", l.name, l.reason);
+        if let Some(version) = &l.in_manifest {
+            let _ = write!(
+                s,
+                "; the manifest installs {} {version} all the same, which the kept entries' dependencies take",
+                l.name
+            );
+        }
+        s.push('\n');
     }
     let listed = |what: &str, confidence: Confidence, needed_by: &[Pinned]| {
         let by: Vec<String> = needed_by
