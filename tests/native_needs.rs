@@ -58,6 +58,20 @@ fn expect_explained(args: &[String], cases: &[(&str, &str, i32, &str)]) {
     }
 }
 
+/// `explain PACKAGE full` on `registry` with one debian image `full` carrying
+/// `build-essential`: asserts the exit code given and returns stdout.
+fn explained_on_full(registry: &str, package: &str, code: i32) -> String {
+    let dir = tempfile::tempdir().unwrap();
+    let images = format!(
+        "images:\n{}",
+        image("full", "debian", "    packages: [build-essential]\n"),
+    );
+    let args = inputs(dir.path(), registry, &images, &[package]);
+    let (got, stdout, stderr) = run(&["explain", package, "full"], &args);
+    assert_eq!(got, code, "{stdout}{stderr}");
+    stdout
+}
+
 /// `review --format json` on `args`: a lookup of a reviewed cell by package and image.
 fn reviewed_cells(args: &[String]) -> impl Fn(&str, &str) -> serde_json::Value {
     let (_, json, stderr) = run(&["review", "--format", "json"], args);
@@ -1699,18 +1713,11 @@ fn an_hpp_header_alone_needs_the_cxx_compiler() {
 /// testing: skipping it let the release install).
 #[test]
 fn a_shipped_pkg_config_file_names_its_library() {
-    let dir = tempfile::tempdir().unwrap();
     let registry = format!(
         "packages:\n{}",
         package("numbat-zst", "", "lib/pkgconfig/libzstd.pc")
     );
-    let images = format!(
-        "images:\n{}",
-        image("full", "debian", "    packages: [build-essential]\n"),
-    );
-    let args = inputs(dir.path(), &registry, &images, &["numbat-zst"]);
-    let (code, stdout, stderr) = run(&["explain", "numbat-zst", "full"], &args);
-    assert_eq!(code, 1, "{stdout}{stderr}");
+    let stdout = explained_on_full(&registry, "numbat-zst", 1);
     assert!(stdout.contains("libzstd-dev"), "{stdout}");
     assert!(
         stdout.contains("naming pkg-config module libzstd"),
@@ -1758,15 +1765,8 @@ fn a_dependency_on_a_catalog_native_helper_needs_a_toolchain() {
 /// summary words (mutation testing: without it the mention was missed and nothing was needed).
 #[test]
 fn a_summary_mentions_a_library_in_any_case() {
-    let dir = tempfile::tempdir().unwrap();
     let registry = "packages:\n  - name: bilby-docs\n    summary: Readers for LibXML2 documents\n    versions:\n      - version: \"1.0.0\"\n";
-    let images = format!(
-        "images:\n{}",
-        image("full", "debian", "    packages: [build-essential]\n"),
-    );
-    let args = inputs(dir.path(), registry, &images, &["bilby-docs"]);
-    let (code, stdout, stderr) = run(&["explain", "bilby-docs", "full"], &args);
-    assert_eq!(code, 1, "{stdout}{stderr}");
+    let stdout = explained_on_full(registry, "bilby-docs", 1);
     assert!(stdout.contains("libxml2-dev"), "{stdout}");
     assert!(stdout.contains("mentions `libxml2`"), "{stdout}");
 }
@@ -2104,15 +2104,8 @@ fn a_header_name_ending_in_a_catalog_header_is_not_that_header() {
 /// testing: splitting at it read the mention as `gobjc`).
 #[test]
 fn a_summary_word_keeps_its_plus_signs() {
-    let dir = tempfile::tempdir().unwrap();
     let registry = "packages:\n  - name: numbat-views\n    summary: Views compiled with gobjc++\n    versions:\n      - version: \"1.0.0\"\n";
-    let images = format!(
-        "images:\n{}",
-        image("full", "debian", "    packages: [build-essential]\n"),
-    );
-    let args = inputs(dir.path(), registry, &images, &["numbat-views"]);
-    let (code, stdout, stderr) = run(&["explain", "numbat-views", "full"], &args);
-    assert_eq!(code, 1, "{stdout}{stderr}");
+    let stdout = explained_on_full(registry, "numbat-views", 1);
     assert!(stdout.contains("mentions `gobjc++`"), "{stdout}");
     assert!(stdout.contains("may need: gobjc++\n"), "{stdout}");
 }
@@ -2123,18 +2116,11 @@ fn a_summary_word_keeps_its_plus_signs() {
 /// keeping an unnamed build of equal confidence listed it beside zlib).
 #[test]
 fn an_unnamed_build_beside_a_named_need_of_equal_confidence_is_not_listed() {
-    let dir = tempfile::tempdir().unwrap();
     let registry = format!(
         "packages:\n{}",
         package("quoll-zglue", "", "include/zlib.h, src/ext/glue.c")
     );
-    let images = format!(
-        "images:\n{}",
-        image("full", "debian", "    packages: [build-essential]\n"),
-    );
-    let args = inputs(dir.path(), &registry, &images, &["quoll-zglue"]);
-    let (code, stdout, stderr) = run(&["explain", "quoll-zglue", "full"], &args);
-    assert_eq!(code, 1, "{stdout}{stderr}");
+    let stdout = explained_on_full(&registry, "quoll-zglue", 1);
     assert!(stdout.contains("zlib [likely] via quoll-zglue"), "{stdout}");
     assert!(!stdout.contains("unnamed native build"), "{stdout}");
 }
