@@ -761,3 +761,31 @@ fn a_need_without_a_recorded_build_is_known_only_both_ways() {
     assert!(!catalog.knows("quollcodec", debian, None));
     assert!(catalog.knows("zlib", debian, None));
 }
+
+/// Several problems inside one library entry come in one report, each at its line: a field's
+/// and each family's are read apart (they came one per run, so fixing a catalog file took as
+/// many runs as it had problems).
+#[test]
+fn the_problems_inside_one_library_entry_come_together() {
+    let e = refused(
+        "libraries:
+  - id: quokka-codec
+    headers: [\"\"]
+    aliases: [\"2.0\"]
+    families:
+      arch: {dev: quokka-dev}
+      debian: {dev: Quokka-Dev}
+      alpine: {source: guessed, dev: quokka-dev}
+",
+    );
+    for want in [
+        "site.yaml:3: library `quokka-codec`: `headers` has an empty entry",
+        "site.yaml:4: library `quokka-codec`: alias `2.0` has no letter",
+        "site.yaml:6:",
+        "unknown family `arch`",
+        "site.yaml:7: library `quokka-codec`, family debian: `dev` package `Quokka-Dev` is not a Debian package name",
+        "library `quokka-codec`, family alpine: `source`: expected verified or memory",
+    ] {
+        assert!(e.contains(want), "wanted {want} in {e}");
+    }
+}

@@ -11,6 +11,7 @@ use crate::solve::image::BuildKind;
 use serde::Serialize;
 use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::Path;
+use std::rc::Rc;
 
 const BUILTIN: &str = include_str!("catalog.yaml");
 const TOP_FIELDS: &[&str] = &["debian_release", "libraries", "native_helpers"];
@@ -471,6 +472,8 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
     }
     // Messages about a field name the library: "library `cxx`" read as a library named so.
     let m = ctx.map(node, format!("library `{id}`,"), LIBRARY_FIELDS)?;
+    // Every problem of the entry in one report: its fields and families are read apart.
+    let mut errors = crate::load::diag::SchemaErrors::new();
     let mut claim_lines = ClaimLines::new();
     if let Some(n) = m.get("id") {
         claim_lines.insert(("name or alias", id.clone()), n.line);
@@ -494,14 +497,16 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
         }
         Ok(items.into_iter().map(|item| item.value).collect())
     };
-    let headers = list("headers", "header")?;
-    let link = list("link", "link name")?;
-    let pkg_config = list("pkg_config", "pkg-config module")?;
+    let headers = errors.keep(list("headers", "header")).unwrap_or_default();
+    let link = errors.keep(list("link", "link name")).unwrap_or_default();
+    let pkg_config = errors
+        .keep(list("pkg_config", "pkg-config module"))
+        .unwrap_or_default();
     // An alias is looked up as a word of a package's name or summary: one without a letter
     // (`1`, `2.0`) would take a version number there for the library.
-    for alias in m.str_list_at("aliases")? {
+    for alias in errors.keep(m.str_list_at("aliases")).unwrap_or_default() {
         if !alias.value.chars().any(|c| c.is_alphabetic()) {
-            return Err(BadInput::at(
+            errors.push(BadInput::at(
                 ctx.file,
                 alias.line,
                 format!(
@@ -511,21 +516,26 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             ));
         }
     }
-    let aliases = list("aliases", "name or alias")?;
+    let aliases = errors
+        .keep(list("aliases", "name or alias"))
+        .unwrap_or_default();
     let mut families = BTreeMap::new();
     if let Some(f) = m.get("families") {
-        let Some(pairs) = (match &f.value {
-            yaml::Value::Map(p) => Some(p),
-            _ => None,
-        }) else {
-            return Err(ctx.err(
-                f,
-                format!("library `{id}`: `families`: expected a mapping of family to packages"),
-            ));
+        let pairs: &[(Rc<Node>, Rc<Node>)] = match &f.value {
+            yaml::Value::Map(p) => p,
+            _ => {
+                errors.push(ctx.err(
+                    f,
+                    format!("library `{id}`: `families`: expected a mapping of family to packages"),
+                ));
+                &[]
+            }
         };
         for (k, v) in pairs {
-            let name = ctx.str(k, "family name")?;
-            let family = OsFamily::parse(name).ok_or_else(|| {
+            let Some(name) = errors.keep(ctx.str(k, "family name")) else {
+                continue;
+            };
+            let Some(family) = errors.keep(OsFamily::parse(name).ok_or_else(|| {
                 ctx.err(
                     k,
                     format!(
@@ -533,161 +543,182 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
                         OsFamily::expected()
                     ),
                 )
-            })?;
+            })) else {
+                continue;
+            };
             // Checked on the family read, not the key's text, so two spellings of one family
             // are caught too: otherwise the later would replace the earlier without a word.
             if families.contains_key(&family) {
-                return Err(ctx.err(
+                errors.push(ctx.err(
                     k,
                     format!("library `{id}`: `families`: family `{name}` given twice"),
                 ));
+                continue;
             }
-            // Checked as a record first, so an unknown field reads "family packages: ...".
-            ctx.map(v, "family packages", FAMILY_FIELDS)?;
-            let fm = ctx.map(v, format!("library `{id}`, family {name},"), FAMILY_FIELDS)?;
-            let source = match fm.opt_str("source")? {
-                None | Some("memory") => FactSource::Memory,
-                Some("verified") => FactSource::Verified,
-                Some(other) => {
-                    return Err(ctx.err(
-                        v,
-                        format!(
-                            "library `{id}`, family {name}: `source`: expected verified or memory, found `{other}`"
-                        ),
-                    ));
-                }
-            };
-            let check = |field: &str, name: &str, line: usize| -> Result<(), BadInput> {
-                let problem = if !crate::model::is_system_package_name(name) {
-                    Some("is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit".to_string())
-                } else if family == OsFamily::Debian && !is_debian_package_name(name) {
-                    let hint = if is_debian_package_name(&name.to_lowercase()) {
-                        format!(" (`{}`?)", name.to_lowercase())
-                    } else {
-                        String::new()
-                    };
-                    Some(format!(
-                        "is not a Debian package name{hint}; Debian Policy 5.6.1 allows only lower-case letters, digits and `+ - .`, at least two characters, starting with a letter or digit"
-                    ))
-                } else {
-                    None
-                };
-                match problem {
-                    Some(problem) => Err(BadInput::at(
-                        ctx.file,
-                        line,
-                        format!(
-                            "library `{id}`, family {family}: `{field}` package `{name}` {problem}"
-                        ),
-                    )),
-                    None => Ok(()),
-                }
-            };
-            let dev = match fm.get("dev") {
-                None => None,
-                Some(node) => {
-                    let name = ctx.str(node, &format!("library `{id}`, family {name}, `dev`"))?;
-                    check("dev", name, node.line)?;
-                    Some(name.to_string())
-                }
-            };
-            // One package or a list of them: a library whose shared objects ship in several
-            // packages needs all of them at run time.
-            let mut runtime: Vec<String> = Vec::new();
-            if let Some(node) = fm.get("runtime") {
-                for item in ctx.str_list_at(
-                    Some(node),
-                    &format!("library `{id}`, family {name}, `runtime`"),
-                )? {
-                    check("runtime", &item.value, item.line)?;
-                    if runtime.contains(&item.value) {
-                        return Err(BadInput::at(
-                            ctx.file,
-                            item.line,
-                            format!(
-                                "library `{id}`, family {family}: `runtime` package `{}` is listed twice",
-                                item.value
-                            ),
-                        ));
-                    }
-                    runtime.push(item.value);
-                }
-                if runtime.is_empty() {
-                    return Err(ctx.err(
-                        node,
-                        format!(
-                            "library `{id}`, family {family}: `runtime` names no package; give a package or a list of them, or leave `runtime` out"
-                        ),
-                    ));
-                }
+            if let Some(packages) = errors.keep(parse_family(ctx, &id, family, name, v)) {
+                families.insert(family, packages);
             }
-            // Packages that stand in for `dev`, two ways (see `FamilyPackages`); a name is
-            // refused when it repeats `dev` or one listed before, in either list.
-            let mut stand_ins: Vec<Vec<String>> = Vec::new();
-            for key in ["alternatives", "pulled_in_by"] {
-                let mut names: Vec<String> = Vec::new();
-                if let Some(node) = fm.get(key) {
-                    for item in ctx.str_list_at(
-                        Some(node),
-                        &format!("library `{id}`, family {name}, `{key}`"),
-                    )? {
-                        check(key, &item.value, item.line)?;
-                        let at = |message: String| BadInput::at(ctx.file, item.line, message);
-                        if dev.is_none() {
-                            return Err(at(format!(
-                                "library `{id}`, family {family}: `{key}` names packages that stand in for `dev`, which is not given"
-                            )));
-                        }
-                        let seen = names.contains(&item.value)
-                            || stand_ins.iter().flatten().any(|n| *n == item.value)
-                            || dev.as_ref() == Some(&item.value);
-                        if seen {
-                            return Err(at(format!(
-                                "library `{id}`, family {family}: `{key}` package `{}` is listed twice, or is `dev` itself",
-                                item.value
-                            )));
-                        }
-                        names.push(item.value);
-                    }
-                }
-                stand_ins.push(names);
-            }
-            let pulled_in_by = stand_ins.pop().unwrap_or_default();
-            let alternatives = stand_ins.pop().unwrap_or_default();
-            if dev.is_none() && runtime.is_empty() {
-                return Err(ctx.err(
-                    v,
-                    format!(
-                        "library `{id}`, family {family}: names no package; give `dev`, `runtime` or both, or leave the family out"
-                    ),
-                ));
-            }
-            families.insert(
-                family,
-                FamilyPackages {
-                    dev,
-                    runtime,
-                    alternatives,
-                    pulled_in_by,
-                    source,
-                },
-            );
         }
     }
+    let summary = errors
+        .keep(m.opt_str("summary"))
+        .flatten()
+        .unwrap_or_default()
+        .to_string();
+    let cxx = errors
+        .keep(m.opt_bool_at("cxx"))
+        .flatten()
+        .is_some_and(|c| c.value);
+    errors.finish()?;
     Ok((
         m.line(),
         Library {
             id,
-            summary: m.opt_str("summary")?.unwrap_or_default().to_string(),
+            summary,
             aliases,
             headers,
             link,
             pkg_config,
-            cxx: m.opt_bool_at("cxx")?.is_some_and(|c| c.value),
+            cxx,
             families,
         },
         claim_lines,
     ))
+}
+
+/// The packages of one family entry of library `id` (`name` as the file spells the family).
+fn parse_family(
+    ctx: Ctx<'_>,
+    id: &str,
+    family: OsFamily,
+    name: &str,
+    v: &Node,
+) -> Result<FamilyPackages, BadInput> {
+    // Checked as a record first, so an unknown field reads "family packages: ...".
+    ctx.map(v, "family packages", FAMILY_FIELDS)?;
+    let fm = ctx.map(v, format!("library `{id}`, family {name},"), FAMILY_FIELDS)?;
+    let source = match fm.opt_str("source")? {
+        None | Some("memory") => FactSource::Memory,
+        Some("verified") => FactSource::Verified,
+        Some(other) => {
+            return Err(ctx.err(
+                v,
+                format!(
+                    "library `{id}`, family {name}: `source`: expected verified or memory, found `{other}`"
+                ),
+            ));
+        }
+    };
+    let check = |field: &str, name: &str, line: usize| -> Result<(), BadInput> {
+        let problem = if !crate::model::is_system_package_name(name) {
+            Some("is not a package name; expected letters, digits and `+ . - _`, starting with a letter or digit".to_string())
+        } else if family == OsFamily::Debian && !is_debian_package_name(name) {
+            let hint = if is_debian_package_name(&name.to_lowercase()) {
+                format!(" (`{}`?)", name.to_lowercase())
+            } else {
+                String::new()
+            };
+            Some(format!(
+                "is not a Debian package name{hint}; Debian Policy 5.6.1 allows only lower-case letters, digits and `+ - .`, at least two characters, starting with a letter or digit"
+            ))
+        } else {
+            None
+        };
+        match problem {
+            Some(problem) => Err(BadInput::at(
+                ctx.file,
+                line,
+                format!("library `{id}`, family {family}: `{field}` package `{name}` {problem}"),
+            )),
+            None => Ok(()),
+        }
+    };
+    let dev = match fm.get("dev") {
+        None => None,
+        Some(node) => {
+            let name = ctx.str(node, &format!("library `{id}`, family {name}, `dev`"))?;
+            check("dev", name, node.line)?;
+            Some(name.to_string())
+        }
+    };
+    // One package or a list of them: a library whose shared objects ship in several
+    // packages needs all of them at run time.
+    let mut runtime: Vec<String> = Vec::new();
+    if let Some(node) = fm.get("runtime") {
+        for item in ctx.str_list_at(
+            Some(node),
+            &format!("library `{id}`, family {name}, `runtime`"),
+        )? {
+            check("runtime", &item.value, item.line)?;
+            if runtime.contains(&item.value) {
+                return Err(BadInput::at(
+                    ctx.file,
+                    item.line,
+                    format!(
+                        "library `{id}`, family {family}: `runtime` package `{}` is listed twice",
+                        item.value
+                    ),
+                ));
+            }
+            runtime.push(item.value);
+        }
+        if runtime.is_empty() {
+            return Err(ctx.err(
+                node,
+                format!(
+                    "library `{id}`, family {family}: `runtime` names no package; give a package or a list of them, or leave `runtime` out"
+                ),
+            ));
+        }
+    }
+    // Packages that stand in for `dev`, two ways (see `FamilyPackages`); a name is
+    // refused when it repeats `dev` or one listed before, in either list.
+    let mut stand_ins: Vec<Vec<String>> = Vec::new();
+    for key in ["alternatives", "pulled_in_by"] {
+        let mut names: Vec<String> = Vec::new();
+        if let Some(node) = fm.get(key) {
+            for item in ctx.str_list_at(
+                Some(node),
+                &format!("library `{id}`, family {name}, `{key}`"),
+            )? {
+                check(key, &item.value, item.line)?;
+                let at = |message: String| BadInput::at(ctx.file, item.line, message);
+                if dev.is_none() {
+                    return Err(at(format!(
+                        "library `{id}`, family {family}: `{key}` names packages that stand in for `dev`, which is not given"
+                    )));
+                }
+                let seen = names.contains(&item.value)
+                    || stand_ins.iter().flatten().any(|n| *n == item.value)
+                    || dev.as_ref() == Some(&item.value);
+                if seen {
+                    return Err(at(format!(
+                        "library `{id}`, family {family}: `{key}` package `{}` is listed twice, or is `dev` itself",
+                        item.value
+                    )));
+                }
+                names.push(item.value);
+            }
+        }
+        stand_ins.push(names);
+    }
+    let pulled_in_by = stand_ins.pop().unwrap_or_default();
+    let alternatives = stand_ins.pop().unwrap_or_default();
+    if dev.is_none() && runtime.is_empty() {
+        return Err(ctx.err(
+            v,
+            format!(
+                "library `{id}`, family {family}: names no package; give `dev`, `runtime` or both, or leave the family out"
+            ),
+        ));
+    }
+    Ok(FamilyPackages {
+        dev,
+        runtime,
+        alternatives,
+        pulled_in_by,
+        source,
+    })
 }
 
 /// Whether `name` can be a Debian package name. Debian Policy Manual, section 5.6.1
