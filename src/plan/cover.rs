@@ -840,4 +840,45 @@ mod tests {
             assert_eq!((steps[0].gain, steps[0].cumulative), (0.0, 0.0), "{w}");
         }
     }
+
+    /// `out_of_range`'s doc: indices of `element_count` or more lie outside the universe.
+    /// Mutation review: `e > element_count` let the index equal to the count in unnoticed.
+    #[test]
+    fn an_element_equal_to_the_count_is_out_of_range() {
+        let sets = [CoverSet {
+            cost: 1.0,
+            elements: vec![0, 3],
+        }];
+        let result = greedy_set_cover(3, &sets);
+        assert_eq!(result.out_of_range, [3]);
+        assert_eq!(result.uncoverable.len(), 1);
+        assert_eq!(result.uncoverable[0], 1..3);
+        assert_eq!(result.chosen, [0]);
+    }
+
+    /// A set whose cost is not a finite number of at least 0 is never chosen, even when a
+    /// usable set covers its elements. Mutation review: keeping its members let a cost of -1
+    /// win every ratio and gave a cover of negative cost.
+    #[test]
+    fn an_unusable_set_is_never_chosen() {
+        let sets = [
+            CoverSet {
+                cost: -1.0,
+                elements: vec![0, 1],
+            },
+            CoverSet {
+                cost: f64::NAN,
+                elements: vec![0],
+            },
+            CoverSet {
+                cost: 2.0,
+                elements: vec![0, 1],
+            },
+        ];
+        let result = greedy_set_cover(2, &sets);
+        assert_eq!(result.chosen, [2]);
+        assert_eq!(result.cost, 2.0);
+        assert_eq!(result.unusable_sets, [0, 1]);
+        assert!(result.uncoverable.is_empty());
+    }
 }
