@@ -1611,4 +1611,101 @@ mod tests {
         assert_eq!(fused[0].score, 0.5);
         assert_eq!(fused[1].score, 0.5);
     }
+
+    /// "-0" and "0" are the same rank (`number` adds zero so they tie): they share the mean
+    /// position and are listed by name, as the entries' doc says ties are. Mutation review:
+    /// without the `+ 0.0`, `-0` sorted before `0` and `b` was listed first.
+    #[test]
+    fn a_rank_of_minus_zero_ties_with_zero() {
+        let mut ledger = Ledger::default();
+        let list = read_source_str("top.csv", "name,rank\nb,-0\na,0\n", None, &mut ledger).unwrap();
+        let got: Vec<(&str, f64)> = list
+            .entries()
+            .iter()
+            .map(|e| (e.name.as_str(), e.rank))
+            .collect();
+        assert_eq!(got, [("a", 1.5), ("b", 1.5)]);
+        assert!(ledger.problems.is_empty());
+    }
+
+    /// A scored list whose scores are all zero measured nothing: under share-sum it gives
+    /// every entry a share of 0 and leaves the other lists' shares as they are. Mutation
+    /// review: dividing by its zero maximum made every share of that list NaN, and the
+    /// names on it sorted first with weight NaN.
+    #[test]
+    fn an_all_zero_list_adds_nothing_to_share_sum() {
+        let lists = [
+            SourceList::scored("zero", [("z", 0.0), ("y", 0.0)]).unwrap(),
+            SourceList::scored("dl", [("a", 3.0), ("z", 1.0)]).unwrap(),
+        ];
+        let fused = fuse(&lists, Method::ShareSum, Missing::WorstPlusOne).unwrap();
+        // By hand: dl shares 0.75 and 0.25; zero adds 0 to z and y.
+        assert_eq!(order(&fused), ["a", "z", "y"]);
+        assert_eq!(
+            fused.iter().map(|f| f.score).collect::<Vec<_>>(),
+            [0.75, 0.25, 0.0]
+        );
+        assert_eq!(
+            priority_weights(&fused, Method::ShareSum),
+            [1.0, 1.0 / 3.0, 0.0]
+        );
+    }
+
+    /// Rows of a scored CSV whose sum would overflow are left out at their line, as
+    /// `SourceList::scored` refuses them. Mutation review: without the check the sum became
+    /// infinite and share-sum's shares NaN.
+    #[test]
+    fn csv_summed_score_overflow_leaves_the_row_out() {
+        let mut ledger = Ledger::default();
+        let text = "name,score\na,1e308\na,1e308\nb,1\n";
+        let list = read_source_str("dl.csv", text, None, &mut ledger).unwrap();
+        assert_eq!(list.entries()[0].score, Some(1e308));
+        let tally = &ledger.tallies[&RecordKind::SourceEntry];
+        assert_eq!((tally.read, tally.used, tally.left_out), (3, 2, 1));
+        let seen: Vec<(String, ProblemKind, &str)> = ledger
+            .problems
+            .iter()
+            .map(|p| (p.origin.to_string(), p.kind, p.detail.as_str()))
+            .collect();
+        assert_eq!(
+            seen,
+            [(
+                "dl.csv:3".to_string(),
+                ProblemKind::BadValue,
+                "summed score exceeds the largest representable number"
+            )]
+        );
+    }
+
+    /// `fuse`'s doc: scores do not depend on the order of the lists, to the bit. Mutation
+    /// review: summing each package's terms in list order instead of smallest first gave
+    /// x = 1/61 + 1/61 + 1/62 one way and a different last bit the other (found by trying
+    /// small ranks).
+    #[test]
+    fn scores_are_the_same_bits_whatever_the_list_order() {
+        let lists = [
+            ranked("l1", &["x", "y"]),
+            ranked("l2", &["x", "y"]),
+            ranked("l3", &["y", "x"]),
+        ];
+        let fused = fuse(&lists, Method::RECIPROCAL, Missing::WorstPlusOne).unwrap();
+        let mut reversed = lists.to_vec();
+        reversed.reverse();
+        let back = fuse(&reversed, Method::RECIPROCAL, Missing::WorstPlusOne).unwrap();
+        for (a, b) in fused.iter().zip(&back) {
+            assert_eq!(a.score.to_bits(), b.score.to_bits(), "{}", a.name);
+        }
+    }
+
+    /// The reciprocal constant may be 0 ("a finite number of at least 0", as the error
+    /// says): every rank r then earns 1/r. Mutation review: `k > 0` went unnoticed.
+    #[test]
+    fn a_reciprocal_constant_of_zero_is_allowed() {
+        let lists = [ranked("l1", &["a", "b", "c", "d"])];
+        let fused = fuse(&lists, Method::Reciprocal { k: 0.0 }, Missing::Exclude).unwrap();
+        assert_eq!(
+            fused.iter().map(|f| f.score).collect::<Vec<_>>(),
+            [1.0, 0.5, 1.0 / 3.0, 0.25]
+        );
+    }
 }
