@@ -969,9 +969,9 @@ pub fn to_priority_yaml_leaving_out(
     for (f, w) in fused.iter().zip(priority_weights(fused, method)) {
         let _ = writeln!(
             out,
-            "  - name: {}\n    weight: {:?}",
+            "  - name: {}\n    weight: {}",
             crate::report::yaml_string(&f.name),
-            w
+            crate::report::yaml_float(w)
         );
     }
     out
@@ -1707,5 +1707,28 @@ mod tests {
             fused.iter().map(|f| f.score).collect::<Vec<_>>(),
             [1.0, 0.5, 1.0 / 3.0, 0.25]
         );
+    }
+
+    /// Small weights are written as YAML 1.1 floats, with a point and a signed exponent
+    /// (YAML 1.1 type repository, float: `[-+]?([0-9][0-9_]*)?\.[0-9.]*([eE][-+][0-9]+)?`),
+    /// as the rest of basefit's YAML is: `1e-7`, as written before, is a string to a YAML
+    /// 1.1 reader such as PyYAML (`yaml.safe_load("w: 1e-7")` gives `{'w': '1e-7'}`, checked
+    /// on the machine).
+    #[test]
+    fn small_weights_are_yaml_1_1_floats() {
+        let lists = [SourceList::scored("dl", [("a", 1e7), ("b", 1.0)]).unwrap()];
+        let fused = fuse(&lists, Method::ShareSum, Missing::WorstPlusOne).unwrap();
+        let weights = priority_weights(&fused, Method::ShareSum);
+        assert_eq!(weights, [1.0, 1e-7]);
+        let yaml = to_priority_yaml(&fused, Method::ShareSum, Missing::WorstPlusOne, &lists);
+        assert!(
+            yaml.ends_with(
+                "  - name: \"a\"\n    weight: 1.0\n  - name: \"b\"\n    weight: 1.0e-7\n"
+            ),
+            "{yaml}"
+        );
+        let mut ledger = Ledger::default();
+        let back = read_priorities_str("fused.yaml", &yaml, &mut ledger).unwrap();
+        assert_eq!(back.entries[1].weight, 1e-7);
     }
 }

@@ -580,6 +580,12 @@ fn yaml_scalar(out: &mut String, value: &serde_yaml::Value) {
     }
 }
 
+/// A float as basefit's YAML writes it: shortest round-trip digits, with the `.` and signed
+/// exponent YAML 1.1 wants (`1.0e-7`, not `1e-7`); see [`yaml_number`].
+pub(crate) fn yaml_float(x: f64) -> String {
+    yaml_number(&serde_yaml::Number::from(x))
+}
+
 /// A number as serde_yaml writes it, except a float whose form YAML 1.1 would not read as a
 /// float: its regular expression (YAML 1.1 type repository, float) wants a `.` in the
 /// mantissa and a sign in the exponent, so `1e-7` becomes `1.0e-7` and `1e300` `1.0e+300`.
