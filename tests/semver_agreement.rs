@@ -814,3 +814,19 @@ fn a_runtime_at_the_lower_bound_of_an_empty_requirement_is_too_new() {
         );
     }
 }
+
+/// A requirement is read trimmed (its text is what reports print, so ` ^1 ` and `^1` print
+/// alike), and an alternative left empty around `||` is refused rather than dropped: `^1 ||`
+/// is a mistake in the record, not `^1`. The `semver` crate refuses an empty requirement
+/// text (`VersionReq::parse("")`), checked here.
+#[test]
+fn requirement_text_is_trimmed_and_empty_alternatives_are_refused() {
+    assert!(VersionReq::parse("").is_err());
+    let req = Requirement::parse("  ^1.2 || >=3  ").unwrap();
+    assert_eq!(req.to_string(), "^1.2 || >=3");
+    assert_eq!(req.alternatives.len(), 2);
+    for text in ["^1 ||", "|| ^1", "^1 || || >=3", "^1 ||   "] {
+        let why = Requirement::parse(text).unwrap_err();
+        assert!(why.contains("empty alternative"), "{text}: {why}");
+    }
+}
