@@ -39,11 +39,13 @@ const TABLE: &[(&str, Option<&str>, &str)] = &[
     ("^1.2.3", None, "requirement"),
     (">=1.0", None, "requirement"),
     ("*", None, "requirement"),
+    ("~1.2", None, "requirement"),
     // Wildcard components (`x`, `X`, `*`) are requirement syntax: the `semver` crate's
     // VersionReq reads `3.x` as `>=3.0.0, <4.0.0`, so no single version is meant.
     ("3.x", None, "wildcard"),
     ("3.1.*", None, "wildcard"),
     ("3.X.1", None, "wildcard"),
+    ("3.x-beta", None, "wildcard"),
     // A tag that merely starts with x is a pre-release tag.
     ("1.0.xyz", Some("1.0.0-xyz"), "`.`"),
     ("1..2", None, "after the version"),
@@ -173,4 +175,14 @@ fn a_wildcard_version_is_a_requirement_to_the_semver_crate() {
             "{wild}"
         );
     }
+}
+
+/// Each change is named once in the note, however many components it applies to.
+#[test]
+fn a_note_names_each_change_once() {
+    let VersionRead::Normalised(v, how) = read_version("01.02.03") else {
+        panic!("01.02.03 should be normalised")
+    };
+    assert_eq!(v.to_string(), "1.2.3");
+    assert_eq!(how, "leading zeros removed");
 }
