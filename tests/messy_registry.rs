@@ -438,3 +438,160 @@ fn noted_as(ledger: &Ledger, kind: ProblemKind) -> Vec<(String, usize, String, b
         })
         .collect()
 }
+
+/// A package declared twice merges into its first record (`declare_package`'s doc): the
+/// first summary stands, a later one fills only a missing summary, and a native-helper mark
+/// on either record marks the package, since a later record without the field says nothing
+/// against it.
+#[test]
+fn a_package_declared_twice_keeps_its_first_summary_and_any_helper_mark() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "twice.yaml",
+        concat!(
+            "packages:\n",
+            "  - {name: kestrel-build, summary: first words, native_helper: true, versions: [{version: 1.0.0}]}\n",
+            "  - {name: kestrel-build, summary: second words, versions: [{version: 1.1.0}]}\n",
+            "  - {name: kestrel-plain, versions: [{version: 1.0.0}]}\n",
+            "  - {name: kestrel-plain, summary: late words, native_helper: true, versions: [{version: 1.1.0}]}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    let pkg = |name: &str| registry.package(registry.id(name).unwrap());
+    let build = pkg("kestrel-build");
+    assert_eq!(build.summary.as_deref(), Some("first words"));
+    assert!(build.native_helper);
+    assert_eq!(build.releases.len(), 2);
+    let plain = pkg("kestrel-plain");
+    assert_eq!(plain.summary.as_deref(), Some("late words"));
+    assert!(plain.native_helper);
+    let dup = noted_as(&ledger, ProblemKind::DuplicatePackage);
+    assert_eq!(dup.len(), 2, "{:?}", ledger.problems);
+}
+
+/// A dependency requirement of white space only is as empty as none at all: read as any
+/// version, and noted (`empty-requirement`) at the requirement's line, as an empty runtime
+/// requirement is.
+#[test]
+fn a_blank_dependency_requirement_is_noted_as_empty() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "blank.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: tern-base\n",
+            "    versions: [{version: 1.0.0}]\n",
+            "  - name: tern\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        depends:\n",
+            "          - name: tern-base\n",
+            "            req: \"  \"\n",
+            "          - {name: tern-base, req: \"\"}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (registry, ledger) = b.finish();
+    let empty: Vec<_> = noted_as(&ledger, ProblemKind::EmptyRequirement)
+        .into_iter()
+        .map(|(_, line, subject, left_out)| (line, subject, left_out))
+        .collect();
+    assert_eq!(
+        empty,
+        [
+            (9, "tern@1.0.0".to_string(), false),
+            (10, "tern@1.0.0".to_string(), false)
+        ],
+        "{:?}",
+        ledger.problems
+    );
+    let tern = registry.package(registry.id("tern").unwrap());
+    assert_eq!(tern.releases[0].deps.len(), 2);
+}
+
+/// Every release whose runtime requirement admits no runtime is noted, not only the first:
+/// the builder remembers the verdict per requirement (a bulk dump repeats a few requirements
+/// over millions of versions), and a remembered verdict must be the same verdict.
+#[test]
+fn each_release_with_the_same_unsatisfiable_runtime_is_noted() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "rt2.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: egret\n",
+            "    versions:\n",
+            "      - {version: 1.0.0, runtime: \"<0.0.0\"}\n",
+            "      - {version: 1.1.0, runtime: \">=2\"}\n",
+            "      - {version: 1.2.0, runtime: \"<0.0.0\"}\n",
+            "      - {version: 1.3.0, runtime: \">=2\"}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (_, ledger) = b.finish();
+    let noted: Vec<_> = noted_as(&ledger, ProblemKind::UnsatisfiableRuntime)
+        .into_iter()
+        .map(|(_, line, subject, _)| (line, subject))
+        .collect();
+    assert_eq!(
+        noted,
+        [
+            (4, "egret@1.0.0".to_string()),
+            (6, "egret@1.2.0".to_string())
+        ],
+        "{:?}",
+        ledger.problems
+    );
+}
+
+/// A requirement nothing satisfies on a package that has usable versions is blamed on the
+/// published versions, even when some other version records of it were left out: "every
+/// version record was left out" is said only when none is left.
+#[test]
+fn an_unsatisfiable_requirement_blames_every_record_left_out_only_when_none_is_usable() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "left.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: plume-some\n",
+            "    versions: [{version: 1.0.0}, {version: nightly}]\n",
+            "  - name: plume-none\n",
+            "    versions: [{version: nightly}]\n",
+            "  - name: plume\n",
+            "    versions:\n",
+            "      - version: 1.0.0\n",
+            "        depends:\n",
+            "          - {name: plume-some, req: \"^9\"}\n",
+            "          - {name: plume-none, req: \"^9\"}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (_, ledger) = b.finish();
+    let details: Vec<&str> = ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == ProblemKind::UnsatisfiableRequirement)
+        .map(|p| p.detail.as_str())
+        .collect();
+    assert_eq!(
+        details,
+        [
+            "requires plume-some ^9, which no published version satisfies",
+            "requires plume-none ^9, but every version record of plume-none was left out (1; see its problems)",
+        ]
+    );
+}
