@@ -60,13 +60,6 @@ impl Requirement {
     pub fn matches(&self, version: &Version) -> bool {
         self.alternatives.iter().any(|r| r.matches(version))
     }
-
-    /// Whether any alternative names a pre-release.
-    pub fn names_prerelease(&self) -> bool {
-        self.alternatives
-            .iter()
-            .any(|r| r.comparators.iter().any(|c| !c.pre.is_empty()))
-    }
 }
 
 impl fmt::Display for Requirement {
