@@ -108,7 +108,7 @@ pub fn shared_blockers(m: &Matrix, top: usize) -> Vec<SharedBlocker> {
                 package: name.to_string(),
                 reasons: reasons
                     .get(name)
-                    .map(|r| by_weight(&fold_narrower(name, r)))
+                    .map(|r| by_weight(&merge_wanted(name, &fold_narrower(name, r))))
                     .unwrap_or_default(),
                 blocks: blocked.iter().map(|b| b.1.to_string()).collect(),
                 blocked_weight,
@@ -207,18 +207,71 @@ impl<'r> Ranged<'r> {
     }
 }
 
+/// Merges reasons that differ only in the requirement the entries asked the blocker with,
+/// `core (wanted ^1) needs a newer runtime` and `core (wanted ^1, <2) needs a newer runtime`,
+/// into one naming each requirement once (`core (wanted ^1 or ^1, <2) needs ...`), with
+/// their weights: side by side they read as two problems. Other reasons are kept as they are.
+fn merge_wanted(package: &str, reasons: &BTreeMap<&str, f64>) -> BTreeMap<String, f64> {
+    let head = format!("{package} (wanted ");
+    // Per cause, the requirements and their summed weight; requirements hold no `) `.
+    let mut wanted: BTreeMap<&str, (Vec<&str>, f64)> = BTreeMap::new();
+    let mut out: BTreeMap<String, f64> = BTreeMap::new();
+    for (&reason, &weight) in reasons {
+        match reason
+            .strip_prefix(head.as_str())
+            .and_then(|rest| rest.split_once(") "))
+        {
+            Some((req, why)) => {
+                let entry = wanted.entry(why).or_default();
+                entry.0.push(req);
+                entry.1 += weight;
+            }
+            None => *out.entry(reason.to_string()).or_default() += weight,
+        }
+    }
+    for (why, (reqs, weight)) in wanted {
+        *out.entry(format!("{head}{}) {why}", reqs.join(" or ")))
+            .or_default() += weight;
+    }
+    out
+}
+
 /// Reasons with the most weight first; equal weights keep the text order, so output does not
 /// depend on the order cells were read in.
-fn by_weight(reasons: &BTreeMap<&str, f64>) -> Vec<String> {
-    let mut list: Vec<(&str, f64)> = reasons.iter().map(|(r, w)| (*r, *w)).collect();
+fn by_weight(reasons: &BTreeMap<String, f64>) -> Vec<String> {
+    let mut list: Vec<(&str, f64)> = reasons.iter().map(|(r, w)| (r.as_str(), *w)).collect();
     list.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(b.0)));
     list.into_iter().map(|(r, _)| r.to_string()).collect()
 }
 
 #[cfg(test)]
 mod tests {
-    use super::fold_narrower;
+    use super::{fold_narrower, merge_wanted};
     use std::collections::BTreeMap;
+
+    #[test]
+    fn reasons_differing_only_in_the_requirement_merge() {
+        let map: BTreeMap<&str, f64> = [
+            ("core (wanted ^1) needs a newer runtime", 1.0),
+            ("core (wanted ^1, <2) needs a newer runtime", 2.0),
+            ("core (wanted ^3) needs an older runtime", 4.0),
+            ("core 1.0.0 needs a newer runtime", 8.0),
+        ]
+        .into_iter()
+        .collect();
+        let merged: Vec<(String, f64)> = merge_wanted("core", &map).into_iter().collect();
+        assert_eq!(
+            merged,
+            [
+                (
+                    "core (wanted ^1 or ^1, <2) needs a newer runtime".to_string(),
+                    3.0
+                ),
+                ("core (wanted ^3) needs an older runtime".to_string(), 4.0),
+                ("core 1.0.0 needs a newer runtime".to_string(), 8.0),
+            ]
+        );
+    }
 
     fn folded(reasons: &[(&'static str, f64)]) -> Vec<(&'static str, f64)> {
         let map: BTreeMap<&str, f64> = reasons.iter().copied().collect();
