@@ -31,6 +31,27 @@ struct CountingInput<R> {
     /// crate drops one only when its first read holds all three bytes, which a pipe need not
     /// deliver.
     head: Option<Vec<u8>>,
+    /// Where the bytes delivered so far leave the quoting of the current cell.
+    quoting: Quoting,
+    /// Offsets (in the bytes delivered) of text that follows a quoted cell's closing quote
+    /// before the next `,` or line end, with the byte found there.
+    stray: std::collections::VecDeque<(u64, u8)>,
+}
+
+/// The quoting state of the cell being delivered, as RFC 4180 reads it: a quote opens a quoted
+/// cell only as the cell's first byte, and a quoted cell ends at its closing quote.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Quoting {
+    /// At the first byte of a cell.
+    CellStart,
+    /// Inside a cell that did not start with a quote (a quote there is ordinary text).
+    Plain,
+    /// Inside a quoted cell.
+    Quoted,
+    /// A quote inside a quoted cell: the closing one, or the first of a doubled pair.
+    QuoteInQuoted,
+    /// After a closing quote and white space only.
+    Closed,
 }
 
 const BYTE_ORDER_MARK: &[u8] = b"\xEF\xBB\xBF";
@@ -44,6 +65,61 @@ impl<R: std::io::Read> CountingInput<R> {
             last_visible: None,
             ended: false,
             head: Some(Vec::new()),
+            quoting: Quoting::CellStart,
+            stray: std::collections::VecDeque::new(),
+        }
+    }
+
+    /// Follows the quoting of `bytes`, which start at offset `base` of the bytes delivered,
+    /// and notes text after a closing quote. The csv crate reads `"kp-a"x` as `kp-ax`, one
+    /// cell, and `"1.0".1` as `1.0.1`, without a word: a record silently read otherwise than
+    /// written, which RFC 4180 has no reading for.
+    fn follow_quotes(&mut self, base: u64, bytes: &[u8]) {
+        let mut i = 0;
+        while i < bytes.len() {
+            match self.quoting {
+                Quoting::CellStart | Quoting::Plain => {
+                    let Some(p) = memchr::memchr(b'"', &bytes[i..]) else {
+                        self.quoting = match bytes.last() {
+                            Some(b',' | b'\n') => Quoting::CellStart,
+                            _ => Quoting::Plain,
+                        };
+                        return;
+                    };
+                    let at = i + p;
+                    let starts_cell = if at == i {
+                        self.quoting == Quoting::CellStart
+                    } else {
+                        matches!(bytes[at - 1], b',' | b'\n')
+                    };
+                    self.quoting = if starts_cell {
+                        Quoting::Quoted
+                    } else {
+                        Quoting::Plain
+                    };
+                    i = at + 1;
+                }
+                Quoting::Quoted => match memchr::memchr(b'"', &bytes[i..]) {
+                    None => return,
+                    Some(p) => {
+                        self.quoting = Quoting::QuoteInQuoted;
+                        i += p + 1;
+                    }
+                },
+                Quoting::QuoteInQuoted | Quoting::Closed => {
+                    let b = bytes[i];
+                    self.quoting = match b {
+                        b'"' if self.quoting == Quoting::QuoteInQuoted => Quoting::Quoted,
+                        b',' | b'\n' => Quoting::CellStart,
+                        b' ' | b'\t' | b'\r' => Quoting::Closed,
+                        _ => {
+                            self.stray.push_back((base + i as u64, b));
+                            Quoting::Plain
+                        }
+                    };
+                    i += 1;
+                }
+            }
         }
     }
 
@@ -88,6 +164,7 @@ impl<R: std::io::Read> std::io::Read for CountingInput<R> {
         if let Some(&b) = buf[..n].iter().rev().find(|b| !b.is_ascii_whitespace()) {
             self.last_visible = Some(b);
         }
+        self.follow_quotes(self.delivered, &buf[..n]);
         self.delivered += n as u64;
         Ok(n)
     }
@@ -367,6 +444,9 @@ impl Table {
             if unclosed {
                 return Err(unclosed_quote(file, table.header_line));
             }
+            if let Some(e) = table.stray_text(&header_record, table.header_line) {
+                return Err(e);
+            }
             if header_record.len() != 1 || !header_record[0].trim().is_empty() {
                 break;
             }
@@ -462,6 +542,9 @@ impl Table {
                 if unclosed {
                     return Err(unclosed_quote(&self.file, row.line));
                 }
+                if let Some(e) = self.stray_text(&row.record, row.line) {
+                    return Ok(Shaped::Misshapen(e));
+                }
                 Ok(match self.check_width(&row.record, row.line) {
                     Ok(true) => Shaped::Blank,
                     Ok(false) => Shaped::Row,
@@ -506,6 +589,42 @@ impl Table {
                 .next_back()
                 .is_some_and(|cell| cell.contains('\n'))
             && input.last_visible != Some(b'"')
+    }
+
+    /// Text after a closing quote within `record`, which the csv crate would have joined to
+    /// the quoted text: an error at the record's line, since the cell it gives is not the one
+    /// written. Reading goes on past it.
+    fn stray_text(&mut self, record: &csv::StringRecord, line: usize) -> Option<BadInput> {
+        let start = record.position().map_or(0, |p| p.byte());
+        let end = self.reader.position().byte();
+        let stray = &mut self.reader.get_mut().stray;
+        while stray.front().is_some_and(|&(at, _)| at < start) {
+            stray.pop_front();
+        }
+        let mut first = None;
+        while let Some(&(at, byte)) = stray.front() {
+            if at >= end {
+                break;
+            }
+            first.get_or_insert(byte);
+            stray.pop_front();
+        }
+        let byte = first?;
+        let shown = if byte.is_ascii_graphic() {
+            format!("`{}`", byte as char)
+        } else {
+            format!("byte 0x{byte:02x}")
+        };
+        Some(BadInput::at(
+            &self.file,
+            line,
+            format!(
+                "text ({shown}) follows the closing quote of a quoted cell: a quoted cell ends at \
+                 its closing quote (RFC 4180), and reading on would join the two into a value \
+                 never written (`\"kp-a\"x` as `kp-ax`); quote the whole cell, with `\"\"` for a \
+                 quote inside it"
+            ),
+        ))
     }
 
     /// Checks that a row has as many fields as the header; `Ok(true)` for a blank line, which
@@ -753,6 +872,64 @@ mod tests {
         let whole = read(Box::new(text.as_bytes()));
         assert_eq!(read(Box::new(Trickle(text.as_bytes()))), whole, "{text:?}");
         whole
+    }
+
+    #[test]
+    fn text_after_a_closing_quote_is_an_error_at_its_row_and_reading_goes_on() {
+        // RFC 4180, section 2 (rules 5 to 7): a quoted field is enclosed in double quotes,
+        // with a quote inside it doubled, so nothing may follow the closing quote but the
+        // next `,` or the line end. The csv crate reads `"kp-a"x` as `kp-ax` without a word.
+        let (seen, error) = until_error("a,b\n\"kp-a\"x,1\nc,2\n");
+        assert_eq!(seen, Vec::<usize>::new());
+        let (line, message) = error.unwrap();
+        assert_eq!(line, Some(2));
+        assert!(
+            message.contains("(`x`) follows the closing quote"),
+            "{message}"
+        );
+        // In the second cell, after a CRLF row, and in a cell spanning lines alike.
+        for (text, at) in [
+            ("a,b\r\nx,\"1.0\".1\r\n", 2),
+            ("a,b\nx,1\r\n\"two\nlines\"!,2\n", 3),
+            ("a,b\n\"x\" y,1\n", 2),
+        ] {
+            let (_, error) = until_error(text);
+            assert_eq!(error.map(|e| e.0), Some(Some(at)), "{text:?}");
+        }
+        // The rows after it are read: the error is the row's own, as a row of another width.
+        let mut table = Table::from_reader(
+            "t.csv",
+            Box::new("a,b\n\"p\"q,1\nc,2\n".as_bytes()),
+            &["a", "b"],
+            &["a"],
+        )
+        .unwrap();
+        let mut errors = crate::load::diag::SchemaErrors::new();
+        let mut read = Vec::new();
+        while let Some(row) = table.next_row_collecting(&mut errors) {
+            read.push((row.line, row.record[0].to_string()));
+        }
+        assert_eq!(read, [(3, "c".to_string())]);
+        assert!(errors.finish().is_err());
+        // A header cell alike: `"pack"age` would otherwise name the column `package`.
+        let header = Table::from_reader(
+            "t.csv",
+            Box::new("\"a\"a,b\nx,1\n".as_bytes()),
+            &["aa", "b"],
+            &["aa"],
+        );
+        assert_eq!(header.err().map(|e| e.line), Some(Some(1)));
+    }
+
+    #[test]
+    fn quotes_that_rfc_4180_allows_or_the_reader_keeps_as_text_read_as_before() {
+        // Doubled quotes, an empty quoted cell, white space after a closing quote (trimmed
+        // as every cell is), a quote inside an unquoted cell (kept as text) and a quoted cell
+        // holding `,` and a line break.
+        let text = "a,b\n\"x\"\"y\",1\n\"\",2\r\n\"p\" ,3\nab\"c,4\n\"q,\nr\",5\n";
+        assert_eq!(until_error(text), (vec![2, 3, 4, 5, 6], None));
+        let got = lines(text).into_iter().map(|(_, c)| c).collect::<Vec<_>>();
+        assert_eq!(got, ["x\"y", "", "p ", "ab\"c", "q,\nr"]);
     }
 
     #[test]
