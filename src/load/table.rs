@@ -482,6 +482,20 @@ impl Table {
         }
         for h in &headers {
             if !known.contains(&h.as_str()) {
+                // A file whose lines end in a lone `\r` is one line to a reader that ends
+                // lines at `\n`: its header runs into the rows, and a column named after the
+                // closest known one would hide why.
+                if h.contains('\r') {
+                    return Err(BadInput::at(
+                        file,
+                        header_line,
+                        format!(
+                            "unknown column `{h}`: the header holds a carriage return, so the \
+                             file's lines seem to end in `\\r` alone; lines must end in `\\n` \
+                             or `\\r\\n`"
+                        ),
+                    ));
+                }
                 let hint = closest(h, known)
                     .map(|c| format!("; did you mean `{c}`?"))
                     .unwrap_or_else(|| format!("; known columns: {}", known.join(", ")));
@@ -919,6 +933,26 @@ mod tests {
             &["aa"],
         );
         assert_eq!(header.err().map(|e| e.line), Some(Some(1)));
+    }
+
+    #[test]
+    fn lines_ending_in_a_lone_carriage_return_are_named_as_such() {
+        // Lines end in `\n` or `\r\n` (docs/bulk-format.md); a file written with lone `\r`
+        // reads as one line, and "did you mean `b`?" would not say why.
+        let err = Table::from_reader(
+            "t.csv",
+            Box::new("a,b\rx,1\r".as_bytes()),
+            &["a", "b"],
+            &["a"],
+        )
+        .err()
+        .unwrap();
+        assert_eq!(err.line, Some(1));
+        assert!(
+            err.message.contains("end in `\\r` alone"),
+            "{}",
+            err.message
+        );
     }
 
     #[test]
