@@ -1574,3 +1574,29 @@ fn a_release_problem_names_the_version_as_written() {
         ledger.problems
     );
 }
+
+/// `native_helper`, like `summary`, is package-level: the first non-empty value in file order
+/// is used and later ones are ignored (docs/bulk-format.md, "Package-level columns"), whichever
+/// way they disagree, and on rows of the package that are not adjacent.
+#[test]
+fn the_first_native_helper_cell_given_wins() {
+    let versions = format!(
+        "{V_HEAD}\
+         pkg-on,1.0.0,,,,,,,,,\n\
+         pkg-off,1.0.0,,,,,,,,,false\n\
+         pkg-on,1.1.0,,,,,,,,,true\n\
+         pkg-off,1.1.0,,,,,,,,,true\n\
+         pkg-on,1.2.0,,,,,,,,,no\n"
+    );
+    let (registry, ledger) = load(&versions, D_HEAD).unwrap();
+    assert!(ledger.problems.is_empty(), "{:?}", ledger.problems);
+    let helper = |name: &str| registry.package(registry.id(name).unwrap()).native_helper;
+    assert!(
+        helper("pkg-on"),
+        "the first value given, `true`, wins over a later `no`"
+    );
+    assert!(
+        !helper("pkg-off"),
+        "the first value given, `false`, wins over a later `true`"
+    );
+}
