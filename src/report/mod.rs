@@ -1206,6 +1206,18 @@ mod tests {
     }
 
     #[test]
+    fn json_documents_end_with_one_line_break() {
+        // "Pretty JSON with a trailing newline" (`to_json`): a document printed to a terminal
+        // or written as a file ends its last line (POSIX calls a text file's lines
+        // newline-terminated; common practice, no source beyond that definition).
+        let text = to_json(&serde_json::json!({"a": [1, 2]}));
+        assert_eq!(text, "{\n  \"a\": [\n    1,\n    2\n  ]\n}\n");
+        let mut streamed = Vec::new();
+        write_json(&vec!["x"], &mut streamed).unwrap();
+        assert_eq!(String::from_utf8(streamed).unwrap(), "[\n  \"x\"\n]\n");
+    }
+
+    #[test]
     fn zero_and_shares_that_round_to_zero_print_without_a_sign() {
         let empty: f64 = std::iter::empty::<f64>().sum();
         assert!(
@@ -1263,6 +1275,10 @@ mod tests {
         // Reaching by the tolerance of `coverage::reaches`, a share prints as the target,
         // not below it.
         assert_eq!(percent_beside(0.95 - 1e-16, 0.95, false), "95.0%");
+        // At a target of 100% a share summed in floats can fall an ulp short of 1 while the
+        // entries short of it weigh nothing (`coverage::reaches` then says it reaches): it
+        // prints as the target, not as the 99.9% the clamp of `percent` would give.
+        assert_eq!(percent_beside(1.0 - f64::EPSILON, 1.0, false), "100.0%");
         assert_eq!(percent_beside(0.9999, 0.9999999999999, true), "99.9%");
     }
 }
