@@ -335,6 +335,7 @@ fn read_matrix_for_results(
     let matrix = read_matrix(path)?;
     require_planned_images(&matrix, path, inputs, paths)?;
     require_planned_registry(&matrix, path, inputs, paths, out)?;
+    require_planned_catalog(&matrix, path, inputs, paths, out)?;
     Ok(matrix)
 }
 
@@ -374,9 +375,48 @@ fn require_planned_registry(
     ))
 }
 
-/// Records the registry `matrix` was planned from, for a later `--matrix` read to check.
-fn stamp_registry(matrix: &mut Matrix, inputs: &Inputs) {
+/// Records the registry and catalog `matrix` was planned from, for a later `--matrix` read to
+/// check.
+fn stamp_inputs(matrix: &mut Matrix, inputs: &Inputs) {
     matrix.registry_fingerprint = Some(plan::replan::registry_fingerprint(&inputs.registry));
+    matrix.catalog_fingerprint = Some(plan::replan::catalog_fingerprint(&inputs.catalog));
+}
+
+/// Refuses a catalog other than the one a matrix read from a file was planned with (when the
+/// matrix records it): logs would be read, and advice given, by other libraries than the
+/// predictions were made with, so a risk the plan's catalog confirms would read unconfirmed.
+fn require_planned_catalog(
+    matrix: &Matrix,
+    matrix_path: &std::path::Path,
+    inputs: &Inputs,
+    paths: &InputPaths,
+    out: &mut Output,
+) -> Result<(), BadInput> {
+    let Some(planned) = &matrix.catalog_fingerprint else {
+        return Ok(());
+    };
+    let given_files = match &paths.catalog {
+        Some(p) => p.display().to_string(),
+        None => "the shipped catalog (no --catalog)".to_string(),
+    };
+    if !planned.starts_with(plan::replan::CATALOG_FINGERPRINT_FORMAT) {
+        out.stderr.push(format!(
+            "note: {} records its catalog's fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure {given_files} is the catalog it was planned with, or plan again",
+            matrix_path.display(),
+        ));
+        return Ok(());
+    }
+    let given = plan::replan::catalog_fingerprint(&inputs.catalog);
+    if *planned == given {
+        return Ok(());
+    }
+    Err(BadInput::file(
+        given_files,
+        format!(
+            "is not the system-library catalog the matrix {} was planned with (fingerprint {given}, the matrix records {planned}): give the --catalog it was planned with (or none, if it was planned with the shipped one), or plan again",
+            matrix_path.display()
+        ),
+    ))
 }
 
 /// Refuses an images file that does not declare every image of a matrix read from a file as
@@ -639,7 +679,7 @@ pub fn plan(o: &PlanCommand) -> Result<Output> {
         Some(_) => plan::replan::replan(&inputs, &o.plan, previous, o.shard),
         None => plan::replan::plan_uncached(&inputs, &o.plan, o.shard),
     };
-    stamp_registry(&mut cache.matrix, &inputs);
+    stamp_inputs(&mut cache.matrix, &inputs);
     let matrix = &cache.matrix;
     if let Some(dir) = &o.out {
         let bar = o.plan.progress.as_ref();
@@ -1494,7 +1534,7 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         None => {
             require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
             let mut matrix = plan::plan(&inputs, &o.plan);
-            stamp_registry(&mut matrix, &inputs);
+            stamp_inputs(&mut matrix, &inputs);
             matrix
         }
     };

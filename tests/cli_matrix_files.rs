@@ -1525,3 +1525,90 @@ fn merged_shards_keep_the_registry_fingerprint_of_one_run() {
         "the merged matrix.json differs from one run's"
     );
 }
+
+/// A matrix read with recorded results must have been planned with the catalog given: logs are
+/// read, and advice given, by the catalog's libraries, so another one silently turned advice
+/// about a library the plan's catalog knows into "the catalog does not know it" (from an
+/// end-to-end review of the bulk path). A catalog that reads the same matches; a matrix
+/// without the record is not checked.
+#[test]
+fn a_matrix_read_with_results_must_come_from_the_catalog_given() {
+    let dir = tempfile::tempdir().unwrap();
+    let matrix = plan_into(&dir.path().join("p"), None);
+    let planned: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    assert!(
+        planned["catalog_fingerprint"]
+            .as_str()
+            .is_some_and(|f| f.starts_with(basefit::plan::replan::CATALOG_FINGERPRINT_FORMAT)),
+        "{planned}"
+    );
+    let site = common::write(
+        dir.path(),
+        "site.yaml",
+        "libraries:\n  - id: quokka-codec\n    headers: [quokka/codec.h]\n    families:\n      debian: {dev: libquokka-dev}\n",
+    );
+    let empty = common::write(dir.path(), "empty.yaml", "libraries: []\n");
+    let with = |matrix: &str, catalog: Option<&str>, command: &str| {
+        let mut args = vec![
+            command,
+            "--quiet",
+            "--matrix",
+            matrix,
+            "--results",
+            "demo-data/results.yaml",
+            "--images",
+            "matrices/demo-images.yaml",
+            "--registry",
+            "demo-data/registry.yaml",
+        ];
+        if let Some(c) = catalog {
+            args.extend(["--catalog", c]);
+        }
+        run_basefit(args)
+    };
+    for command in ["review", "render"] {
+        let (code, _, stderr) = with(&matrix, Some(site.to_str().unwrap()), command);
+        assert_eq!(code, 2, "{command}: {stderr}");
+        assert!(
+            stderr.contains(&format!(
+                "site.yaml: is not the system-library catalog the matrix {matrix} was planned with"
+            )),
+            "{command}: {stderr}"
+        );
+        // A catalog file that changes nothing is the same catalog.
+        let (code, _, stderr) = with(&matrix, Some(empty.to_str().unwrap()), command);
+        assert_ne!(code, 2, "{command}: {stderr}");
+    }
+    // Planned with the site catalog, read without it.
+    let out = dir.path().join("s");
+    let (code, _, stderr) = run_on_demo(
+        "plan",
+        &[
+            "--out",
+            out.to_str().unwrap(),
+            "--catalog",
+            site.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(code, 0, "{stderr}");
+    let with_site = format!("{}/matrix.json", out.display());
+    let (code, _, stderr) = with(&with_site, None, "review");
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains("the shipped catalog (no --catalog): is not the system-library catalog"),
+        "{stderr}"
+    );
+    let (code, _, stderr) = with(&with_site, Some(site.to_str().unwrap()), "review");
+    assert_ne!(code, 2, "{stderr}");
+    // Without the record (a matrix from before it), nothing is checked.
+    let mut m = planned.clone();
+    m.as_object_mut().unwrap().remove("catalog_fingerprint");
+    let old = common::write(dir.path(), "old.json", serde_json::to_string(&m).unwrap());
+    let (code, _, stderr) = with(
+        old.to_str().unwrap(),
+        Some(site.to_str().unwrap()),
+        "review",
+    );
+    assert_ne!(code, 2, "{stderr}");
+}

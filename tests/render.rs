@@ -129,6 +129,7 @@ fn hostile() -> Matrix {
         shard: None,
         planned_from: None,
         registry_fingerprint: None,
+        catalog_fingerprint: None,
         notice: "<b>not the notice</b>".into(),
         native_skipped: false,
         images,
@@ -617,6 +618,7 @@ fn partial_and_odd_matrices_render_without_panicking() {
         shard: None,
         planned_from: None,
         registry_fingerprint: None,
+        catalog_fingerprint: None,
     };
     let no_images = Matrix {
         images: Vec::new(),
@@ -1085,6 +1087,7 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
         shard: None,
         planned_from: None,
         registry_fingerprint: None,
+        catalog_fingerprint: None,
         notice: String::new(),
         native_skipped: false,
         packages: vec![PackageRow {

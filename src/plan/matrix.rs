@@ -359,6 +359,13 @@ pub struct Matrix {
     /// not checked.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub registry_fingerprint: Option<String>,
+    /// A fingerprint of the system-library catalog the matrix was planned with (the shipped
+    /// one with any `--catalog` file applied), written with `registry_fingerprint`: `review`
+    /// and `render` given the matrix and recorded results refuse another catalog, which would
+    /// read logs and advise by other libraries than the predictions were made with. Absent in
+    /// matrices written before it, which are not checked.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub catalog_fingerprint: Option<String>,
 }
 
 impl Matrix {
@@ -414,6 +421,7 @@ impl Matrix {
     ///     shard: None,
     ///     planned_from: None,
     ///     registry_fingerprint: None,
+    ///     catalog_fingerprint: None,
     /// };
     /// assert!(m.check_layout().is_ok());
     /// m.packages.push(basefit::plan::matrix::PackageRow {
@@ -903,6 +911,7 @@ pub fn plan_only(
         shard: None,
         planned_from: None,
         registry_fingerprint: None,
+        catalog_fingerprint: None,
     }
 }
 

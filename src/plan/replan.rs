@@ -308,6 +308,20 @@ pub fn registry_fingerprint(registry: &crate::model::Registry) -> String {
     )
 }
 
+/// The fingerprint of the system-library catalog a matrix was planned with
+/// ([`crate::plan::Matrix::catalog_fingerprint`]): equal for catalogs that read the same,
+/// whichever files they came from. It starts with [`CATALOG_FINGERPRINT_FORMAT`], for the
+/// same reason as [`registry_fingerprint`].
+pub fn catalog_fingerprint(catalog: &crate::native::Catalog) -> String {
+    let mut h = Fingerprinter::new();
+    h.str(&serde_json::to_string(catalog).unwrap_or_default());
+    format!("{CATALOG_FINGERPRINT_FORMAT}{:016x}", h.0)
+}
+
+/// How a [`catalog_fingerprint`] of this basefit begins: changed whenever what it prints, or
+/// how, changes.
+pub const CATALOG_FINGERPRINT_FORMAT: &str = "c1-";
+
 /// How a [`registry_fingerprint`] of this basefit begins: changed whenever what it prints, or
 /// how, changes (the hasher, or how a registry file reads into releases).
 pub const REGISTRY_FINGERPRINT_FORMAT: &str = "r2-";
@@ -1446,6 +1460,7 @@ fn replan_keeping(
         planned_from: shard.map(|_| planned_from(inputs, options)),
         // Left to the command that writes the matrix: a re-plan's fixed cost would double.
         registry_fingerprint: None,
+        catalog_fingerprint: None,
     };
     (
         PlanCache {
@@ -1673,8 +1688,10 @@ pub fn merge_shards(parts: Vec<Matrix>) -> Result<Matrix, MergeError> {
         cells,
         shard: None,
         planned_from: None,
-        // Equal on every part: their `planned_from`, which covers the registry, agree.
+        // Equal on every part: their `planned_from`, which covers the registry and the
+        // catalog, agree.
         registry_fingerprint: first.registry_fingerprint.clone(),
+        catalog_fingerprint: first.catalog_fingerprint.clone(),
     })
 }
 

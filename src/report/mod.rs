@@ -389,6 +389,7 @@ pub fn write_matrix_yaml(m: &crate::plan::Matrix, w: &mut dyn Write) -> std::io:
         shard: m.shard,
         planned_from: m.planned_from.clone(),
         registry_fingerprint: m.registry_fingerprint.clone(),
+        catalog_fingerprint: m.catalog_fingerprint.clone(),
     };
     yaml_with_items(&head, "cells", &m.cells, w)
 }

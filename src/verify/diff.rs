@@ -211,12 +211,14 @@ pub fn diff(before: &Matrix, after: &Matrix, render: impl Fn(&Matrix) -> String)
         Matrix {
             notice: after.notice.clone(),
             registry_fingerprint: after.registry_fingerprint.clone(),
+            catalog_fingerprint: after.catalog_fingerprint.clone(),
             ..without_closures(before)
         } != without_closures(after)
     } else {
         Matrix {
             notice: after.notice.clone(),
             registry_fingerprint: after.registry_fingerprint.clone(),
+            catalog_fingerprint: after.catalog_fingerprint.clone(),
             ..before.clone()
         } != *after
     };
