@@ -1397,3 +1397,53 @@ fn a_lone_backtick_before_a_command_is_escaped_not_closed() {
         "\\`basefit a\\` then \\`basefit b"
     );
 }
+
+/// The page's footer row gives an image's share of priority weight as a lower bound when the
+/// image has undecided cells, as its summary does ("at least"): they may yet resolve (README,
+/// "The weight resolving on an image with undecided cells is a lower bound"). From a review
+/// of the change that marked the summary only: the footer still read a bare "50%" beside it.
+#[test]
+fn the_html_footer_marks_a_share_with_undecided_cells_as_a_lower_bound() {
+    let mut m = load("demo-matrix.json");
+    for (i, p) in m.packages.iter_mut().enumerate() {
+        p.weight = if i < 2 { 1.0 } else { 0.0 };
+    }
+    let (first, second) = (m.packages[0].name.clone(), m.packages[1].name.clone());
+    let (undecided_image, decided_image) = (m.images[0].id.clone(), m.images[1].id.clone());
+    for c in m.cells.iter_mut() {
+        if c.package == first && c.image == undecided_image {
+            *c = Cell {
+                cause: Some(Cause::BudgetExhausted),
+                ..cell(&first, &undecided_image, Outcome::Undecided)
+            };
+        } else if c.package == second || c.package == first {
+            let (package, image) = (c.package.clone(), c.image.clone());
+            *c = Cell {
+                root_version: Some("1.0.0".into()),
+                closure_size: 1,
+                ..cell(&package, &image, Outcome::Installs)
+            };
+        }
+    }
+    let page = html::html(&m);
+    let foot = |image: &str| {
+        let at = page
+            .find(&format!("<td class=\"foot\" data-image=\"{image}\""))
+            .unwrap_or_else(|| panic!("no footer cell for {image}"));
+        page[at..at + page[at..].find("</td>").unwrap()].to_string()
+    };
+    assert!(
+        foot(&undecided_image).ends_with("<span class=\"foot-share\">at least 50%</span>"),
+        "{}",
+        foot(&undecided_image)
+    );
+    assert!(
+        foot(&decided_image).ends_with("<span class=\"foot-share\">100%</span>"),
+        "{}",
+        foot(&decided_image)
+    );
+    assert!(
+        page.contains("at least <strong>50%</strong> of priority weight resolves"),
+        "the summary says so too"
+    );
+}

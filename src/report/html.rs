@@ -271,7 +271,7 @@ pub fn html(m: &Matrix) -> String {
             escape_html(&img.family),
             k.installs + k.at_risk,
             m.packages.len(),
-            layout::percent(k.weight_share),
+            at_least_if_undecided(k),
         );
     }
     out.push_str("</tr>\n</tfoot>\n<tbody>\n");
@@ -474,6 +474,18 @@ fn grid_cell(
         );
     }
     out.push_str("</td>\n");
+}
+
+/// An image's share of priority weight as the page prints it beside its counts: with
+/// undecided cells it is a lower bound (they may yet resolve), said "at least" as the image
+/// summary below says it (README, "The weight resolving on an image with undecided cells
+/// is a lower bound").
+fn at_least_if_undecided(k: &ColumnCounts) -> String {
+    let shown = layout::percent(k.weight_share);
+    match k.undecided > 0 && k.weight_share.is_some() {
+        true => format!("at least {shown}"),
+        false => shown,
+    }
 }
 
 fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
