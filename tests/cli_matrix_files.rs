@@ -1612,3 +1612,75 @@ fn a_matrix_read_with_results_must_come_from_the_catalog_given() {
     );
     assert_ne!(code, 2, "{stderr}");
 }
+
+/// A matrix an earlier basefit planned from a registry that writes a platform under another
+/// name (`linux/glibc/amd64`) is not refused as planned from another snapshot: this basefit
+/// reads that registry's releases otherwise (as `linux/glibc/x86_64`), so it prints the same
+/// file otherwise, and the format of its fingerprint says so; a note asks to check the
+/// registry. `r2-b651c9a16bfde1aa` is what basefit at commit 8e590e8 (format `r2-`, before
+/// platform words were read under their other names) recorded for this registry, run on this
+/// project's machine. From a review of that change, which kept the format and so refused the
+/// very file the matrix was planned from.
+#[test]
+fn a_fingerprint_from_before_platform_names_were_read_as_one_is_noted_not_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path.to_str().unwrap().to_string()
+    };
+    let registry = write(
+        "registry.yaml",
+        "packages:\n  - name: tinkerbark\n    versions:\n      - {version: \"1.0.0\", builds: {source: false, prebuilt: [linux/glibc/amd64]}}\n  - name: quollpack\n    versions:\n      - {version: \"1.0.0\"}\n",
+    );
+    let images = write(
+        "images.yaml",
+        "images:\n  - {id: deb, runtime: 3.1.5, family: debian, platform: linux/glibc/x86_64, toolchain: true}\n",
+    );
+    let priorities = write(
+        "priorities.yaml",
+        "priorities:\n  - {name: tinkerbark, weight: 3}\n  - {name: quollpack, weight: 1}\n",
+    );
+    let results = write(
+        "results.yaml",
+        "results:\n  - {package: tinkerbark, image: deb, outcome: installed, version: \"1.0.0\"}\n",
+    );
+    let out = dir.path().join("out");
+    let (code, _, stderr) = run_basefit([
+        "plan",
+        "--quiet",
+        "--registry",
+        &registry,
+        "--images",
+        &images,
+        "--priorities",
+        &priorities,
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let matrix = out.join("matrix.json");
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&matrix).unwrap()).unwrap();
+    m["registry_fingerprint"] = "r2-b651c9a16bfde1aa".into();
+    let earlier = write("earlier.json", &serde_json::to_string(&m).unwrap());
+    let (code, _, stderr) = run_basefit([
+        "review",
+        "--quiet",
+        "--matrix",
+        &earlier,
+        "--results",
+        &results,
+        "--images",
+        &images,
+        "--registry",
+        &registry,
+    ]);
+    assert_ne!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "note: {earlier} records its registry's fingerprint in a form this basefit does not make"
+        )),
+        "{stderr}"
+    );
+}

@@ -323,8 +323,10 @@ pub fn catalog_fingerprint(catalog: &crate::native::Catalog) -> String {
 pub const CATALOG_FINGERPRINT_FORMAT: &str = "c1-";
 
 /// How a [`registry_fingerprint`] of this basefit begins: changed whenever what it prints, or
-/// how, changes (the hasher, or how a registry file reads into releases).
-pub const REGISTRY_FINGERPRINT_FORMAT: &str = "r2-";
+/// how, changes (the hasher, or how a registry file reads into releases). `r3-`: platform
+/// words read under their other names (`linux/glibc/amd64` is `linux/glibc/x86_64`), so a
+/// registry that writes them prints otherwise than it did under `r2-`.
+pub const REGISTRY_FINGERPRINT_FORMAT: &str = "r3-";
 
 /// The splitmix64 finaliser: spreads every input bit over the whole word.
 fn scramble(mut x: u64) -> u64 {
