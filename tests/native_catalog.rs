@@ -789,3 +789,49 @@ fn the_problems_inside_one_library_entry_come_together() {
         assert!(e.contains(want), "wanted {want} in {e}");
     }
 }
+
+/// A catalog file lists at most 20 problems (`SchemaErrors::CAP`, DEVELOPERS "Adding an input
+/// format": "collect up to 20 per file before failing"), then says there are more, however the
+/// problems fall into library entries. From a review of the change that brought each entry's
+/// problems together: 21 entries with two problems each listed 40, followed by "there are
+/// more errors than these first 20".
+#[test]
+fn a_catalog_file_lists_at_most_twenty_problems() {
+    let mut text = String::from("libraries:\n");
+    for i in 0..21 {
+        text.push_str(&format!(
+            "  - id: quokkalib{i}\n    headers: [\"\"]\n    link: [\"\"]\n"
+        ));
+    }
+    let e = refused(&text);
+    let problems = e
+        .lines()
+        .filter(|l| l.contains("site.yaml:") && !l.contains("there are more errors"))
+        .count();
+    assert_eq!(problems, 20, "{e}");
+    assert!(
+        e.lines()
+            .last()
+            .is_some_and(|l| l
+                .ends_with("there are more errors than these first 20: fix these and run again")),
+        "{e}"
+    );
+}
+
+/// Each problem of a library's `aliases` is reported once: an `aliases` that is no list, and
+/// an empty alias (which has no letter). From a review of the change that brought an entry's
+/// problems together: both were read twice, and each printed twice.
+#[test]
+fn each_alias_problem_is_reported_once() {
+    for (aliases, want) in [
+        ("{a: b}", "`aliases`: expected a list, found a mapping"),
+        ("[quokka, \"\"]", "alias `` has no letter"),
+    ] {
+        let e = refused(&format!(
+            "libraries:\n  - id: quokka-codec\n    aliases: {aliases}\n"
+        ));
+        let lines: Vec<&str> = e.lines().collect();
+        assert_eq!(lines.len(), 1, "{aliases}: {e}");
+        assert!(lines[0].contains(want), "{aliases}: {e}");
+    }
+}

@@ -989,11 +989,17 @@ impl SchemaErrors {
         }
     }
 
-    pub fn push(&mut self, e: BadInput) {
-        if self.errors.len() < Self::CAP {
-            self.errors.push(e);
-        } else {
-            self.more = true;
+    /// Records `e`, and each error it combines ([`BadInput::combine`]) as one of its own: a
+    /// reader that collects the problems of one record before giving them here (a catalog's
+    /// library entry) must not carry the file past the cap.
+    pub fn push(&mut self, mut e: BadInput) {
+        let combined = std::mem::take(&mut e.more);
+        for one in std::iter::once(e).chain(combined) {
+            if self.errors.len() < Self::CAP {
+                self.errors.push(one);
+            } else {
+                self.more = true;
+            }
         }
     }
 

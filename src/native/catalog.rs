@@ -504,8 +504,11 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
         .unwrap_or_default();
     // An alias is looked up as a word of a package's name or summary: one without a letter
     // (`1`, `2.0`) would take a version number there for the library.
-    for alias in errors.keep(m.str_list_at("aliases")).unwrap_or_default() {
+    let alias_items = errors.keep(m.str_list_at("aliases"));
+    let mut aliases_read = alias_items.is_some();
+    for alias in alias_items.into_iter().flatten() {
         if !alias.value.chars().any(|c| c.is_alphabetic()) {
+            aliases_read = false;
             errors.push(BadInput::at(
                 ctx.file,
                 alias.line,
@@ -516,9 +519,14 @@ fn parse_library(ctx: Ctx<'_>, node: &Node) -> Result<(usize, Library, ClaimLine
             ));
         }
     }
-    let aliases = errors
-        .keep(list("aliases", "name or alias"))
-        .unwrap_or_default();
+    // Read again only when the reading above found nothing wrong: a list that is no list, or
+    // an empty alias (which has no letter), would otherwise be reported twice.
+    let aliases = match aliases_read {
+        true => errors
+            .keep(list("aliases", "name or alias"))
+            .unwrap_or_default(),
+        false => Vec::new(),
+    };
     let mut families = BTreeMap::new();
     if let Some(f) = m.get("families") {
         let pairs: &[(Rc<Node>, Rc<Node>)] = match &f.value {
