@@ -1979,7 +1979,7 @@ fn a_missing_pkg_config_program_names_its_package() {
     let declared = cells("perch-xml", "d-pc");
     assert!(
         declared["suggestion"].as_str().unwrap().starts_with(
-            "d-pc declares pkg-config, yet the build found no pkg-config program: check that the real image installs it"
+            "d-pc declares pkg-config, yet the build found no usable pkg-config program: check that the real image installs it"
         ),
         "{declared}"
     );

@@ -642,7 +642,7 @@ fn suggest(
             Some(
                 match packages.iter().find(|p| image.system_packages.contains(**p)) {
                     Some(declared) => format!(
-                        "{image_id} declares {declared}, yet the build found no pkg-config program: check that the real image installs it (its declaration may be out of date) and that the build's PATH reaches it"
+                        "{image_id} declares {declared}, yet the build found no usable pkg-config program: check that the real image installs it (its declaration may be out of date), that the build's PATH reaches it, and, for a cross build, that the target's pkg-config is there"
                     ),
                     None => format!(
                         "the build runs the pkg-config program, which {image_id} lacks (basefit does not predict this need): add {}{}",
