@@ -482,7 +482,7 @@ fn grid_cell(
 /// is a lower bound").
 fn at_least_if_undecided(k: &ColumnCounts) -> String {
     let shown = layout::percent(k.weight_share);
-    match k.undecided > 0 && k.weight_share.is_some() {
+    match super::share_is_lower_bound(k.undecided, &shown) {
         true => format!("at least {shown}"),
         false => shown,
     }
@@ -544,11 +544,14 @@ fn images_section(out: &mut String, m: &Matrix, counts: &[ColumnCounts]) {
         match k.weight_share {
             // Undecided cells may yet resolve: the share is then a lower bound.
             Some(share) => {
+                let shown = layout::percent(Some(share));
                 let _ = write!(
                     out,
-                    "{}<strong>{}</strong> of priority weight resolves ({resolving} of {rows} packages)",
-                    if k.undecided > 0 { "at least " } else { "" },
-                    layout::percent(Some(share)),
+                    "{}<strong>{shown}</strong> of priority weight resolves ({resolving} of {rows} packages)",
+                    match super::share_is_lower_bound(k.undecided, &shown) {
+                        true => "at least ",
+                        false => "",
+                    },
                 );
             }
             None => {

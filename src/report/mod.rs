@@ -103,12 +103,20 @@ pub fn percent_or_na(share: Option<f64>, decimals: usize) -> String {
 /// assert_eq!(at_least_if_undecided(2, "40.0%".into()), ">=40.0%");
 /// assert_eq!(at_least_if_undecided(0, "40.0%".into()), "40.0%");
 /// assert_eq!(at_least_if_undecided(2, "n/a".into()), "n/a");
+/// // Nothing lies above all of it: the undecided cells weigh nothing.
+/// assert_eq!(at_least_if_undecided(2, "100.0%".into()), "100.0%");
 /// ```
 pub fn at_least_if_undecided(undecided: usize, shown: String) -> String {
-    match undecided > 0 && shown != "n/a" {
+    match share_is_lower_bound(undecided, &shown) {
         true => format!(">={shown}"),
         false => shown,
     }
+}
+
+/// Whether a share printed as `shown` beside `undecided` undecided cells is a lower bound:
+/// they may yet resolve, unless nothing is left above it (the HTML page says "at least").
+pub(crate) fn share_is_lower_bound(undecided: usize, shown: &str) -> bool {
+    undecided > 0 && shown != "n/a" && !shown.starts_with("100")
 }
 
 /// How many places a target share needs to print as itself (`--target 0.9753` is 97.53%, not
