@@ -1559,6 +1559,37 @@ fn a_risk_for_an_unmapped_library_is_confirmed_by_its_log() {
     assert_eq!(cell["cause_agrees"], true, "{cell}");
 }
 
+/// A cell at risk for a library no package of its family ships (Objective-C++ on alpine)
+/// that failed without a log says what it was at risk for all the same: its native build,
+/// not an empty list (from a mutation review of src/verify/compare.rs, where the empty list
+/// survived).
+#[test]
+fn an_unconfirmed_risk_with_no_package_to_name_names_the_native_build() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = format!(
+        "packages:\n{}",
+        package("numbat-objcpp", "", "src/ext/view.mm")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("alp", "alpine", "    packages: [build-base]\n")
+    );
+    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let args = with_results(
+        dir.path(),
+        args,
+        "results:\n  - {package: numbat-objcpp, image: alp, outcome: failed}\n",
+    );
+    let cell = reviewed_cells(&args)("numbat-objcpp", "alp");
+    assert_eq!(cell["verdict"], "risk-unconfirmed", "{cell}");
+    assert_eq!(cell["missing_system_packages"], serde_json::Value::Null);
+    assert_eq!(
+        cell["suggestion"],
+        "no log was recorded, so nothing shows whether it failed for what it was at risk for (its native build): record the install's log",
+        "{cell}"
+    );
+}
+
 /// A surprise install on an image declared without (enough of) a compiler proves the real image
 /// has the libraries the release certainly needs too: the advice names them beside the
 /// compiler, or the next plan predicts the failure again for the library (an end-to-end review

@@ -1456,7 +1456,7 @@ pub fn annotate(matrix: &mut Matrix, review: &Review) {
 
 #[cfg(test)]
 mod tests {
-    use super::{Standing, drift_step};
+    use super::{Standing, drift_step, log_line_place};
 
     #[test]
     fn drift_advice_follows_the_direction_of_the_version() {
@@ -1483,5 +1483,38 @@ mod tests {
         assert!(step.contains("differ only in build metadata"), "{step}");
         let step = drift("nightly", "1.4.2", &held);
         assert!(step.contains("disagree"), "{step}");
+        // A newer version on an image nothing could be looked up on (`compare` called with
+        // images lacking the cell's) blames only the snapshot's age, not the plan's choice
+        // (from a mutation review, where taking it for an admitted one survived).
+        let step = drift("1.5.0", "1.4.2", &Standing::Unknown);
+        assert!(
+            step.contains("may be older") && !step.contains("did not pick it"),
+            "{step}"
+        );
+        // A package the snapshot lacks entirely points at the snapshot's age whichever way
+        // the version went (a `--matrix` written without a registry fingerprint is not checked
+        // against the registry; from a mutation review, where reading an older install as a
+        // mirror's survived).
+        let gone = Standing::NotInSnapshot {
+            package_known: false,
+        };
+        let step = drift("1.2.0", "1.4.2", &gone);
+        assert!(
+            step.contains("gumleaf is not in the registry snapshot, which may be older"),
+            "{step}"
+        );
+    }
+
+    /// A line after the record's own `log` text, from a log file whose name the caller does
+    /// not give, is placed in "the log file", not passed off as a line of the whole log (from
+    /// a mutation review, where dropping the `inline_lines == 0` guard survived: the loader
+    /// always names a file it read, so only callers of this public function see it).
+    #[test]
+    fn a_line_after_the_inline_text_is_placed_in_the_log_file() {
+        assert_eq!(log_line_place(2, 0, None, 5), "line 3 of the log file");
+        assert_eq!(
+            log_line_place(2, 0, None, 2),
+            "line 2 of the record's `log` text"
+        );
     }
 }
