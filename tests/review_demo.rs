@@ -1056,6 +1056,39 @@ fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
     assert_eq!(unread("tidewater-http"), serde_json::Value::Null);
 }
 
+/// An at-risk cell whose failed attempt names a log file that could not be read is not told
+/// that "the log shows no cause basefit reads" (README, "Reviewing recorded installs": the
+/// review says the log file could not be read and why, "never that its cause was not
+/// recognised"), nor that no log was recorded: it says the file could not be read, and with a
+/// `log` text beside it that the text showed nothing known (found by a mutation review of
+/// src/verify/compare.rs, where reading such a record as having no log survived; the advice
+/// then read "the log shows no cause basefit reads" under the line saying the file could not
+/// be read). burrow-lite on el9-3.0 is at risk for libpq-devel (demo-data/STORIES.md).
+#[test]
+fn an_unconfirmed_risk_whose_log_file_is_unread_says_so() {
+    let dir = tempfile::tempdir().unwrap();
+    for (record, says) in [
+        (
+            "log_file: missing.log",
+            "the log file could not be read, so nothing shows whether it failed for what it was at risk for (libpq-devel): make the record's `log_file` readable and review again",
+        ),
+        (
+            "log: \"Segmentation fault\", log_file: missing.log",
+            "the log file could not be read and the record's `log` text shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for (libpq-devel): make the record's `log_file` readable and review again",
+        ),
+    ] {
+        let yaml = format!(
+            "results:\n  - {{package: burrow-lite, image: el9-3.0, outcome: failed, {record}}}\n"
+        );
+        let (_, json) = review_file(dir.path(), "results.yaml", &yaml, "json");
+        let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+        let c = &v["cells"][0];
+        assert_eq!(c["verdict"], "risk-unconfirmed", "{c}");
+        assert_eq!(c["log_recorded"], true, "{c}");
+        assert_eq!(c["suggestion"], says, "{c}");
+    }
+}
+
 #[test]
 fn a_record_whose_log_file_is_unread_still_has_its_own_log_text_read() {
     let dir = tempfile::tempdir().unwrap();

@@ -1292,11 +1292,21 @@ pub fn compare_within(
                     [] => "its native build".to_string(),
                     packages => packages.join(" "),
                 };
-                Some(match log_recorded {
-                    false => format!(
+                // A log file that could not be read leaves the cause unknown for want of it,
+                // not unrecognised (README: the review "never" says so of such a log).
+                let unread = deciding.filter(|r| r.log_unread.is_some());
+                Some(match (log_recorded, unread) {
+                    (false, _) => format!(
                         "no log was recorded, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): record the install's log"
                     ),
-                    true => format!(
+                    (true, Some(r)) => format!(
+                        "the log file could not be read{}, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): make the record's `log_file` readable and review again",
+                        match r.log {
+                            Some(_) => " and the record's `log` text shows no cause basefit reads",
+                            None => "",
+                        }
+                    ),
+                    (true, None) => format!(
                         "the log shows no cause basefit reads, so nothing shows whether it failed for what it was at risk for ({at_risk_for}): read the log for the failing step"
                     ),
                 })
