@@ -342,8 +342,6 @@ fn read_matrix_for_results(
 /// Refuses a registry other than the snapshot a matrix read from a file was planned from
 /// (when the matrix records it): recorded versions would be looked up, and surprise installs
 /// solved, in releases the predictions never saw, so advice would point at the wrong thing.
-/// A fingerprint another version of basefit made another way cannot be compared: a note
-/// says so.
 fn require_planned_registry(
     matrix: &Matrix,
     matrix_path: &std::path::Path,
@@ -351,35 +349,21 @@ fn require_planned_registry(
     paths: &InputPaths,
     out: &mut Output,
 ) -> Result<(), BadInput> {
-    let Some(planned) = &matrix.registry_fingerprint else {
-        return Ok(());
-    };
-    if !planned.starts_with(plan::replan::REGISTRY_FINGERPRINT_FORMAT) {
-        out.stderr.push(format!(
-            "note: {} records its registry's fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure {} is the snapshot it was planned from, or plan again",
-            matrix_path.display(),
-            registry_files(paths).join(", ")
-        ));
-        return Ok(());
-    }
-    let given = plan::replan::registry_fingerprint(&inputs.registry);
-    if *planned == given {
-        return Ok(());
-    }
-    Err(BadInput::file(
-        registry_files(paths).join(", "),
-        format!(
-            "is not the registry snapshot the matrix {} was planned from (fingerprint {given}, the matrix records {planned}): give the registry it was planned from, or plan again",
-            matrix_path.display()
-        ),
-    ))
-}
-
-/// Records the registry and catalog `matrix` was planned from, for a later `--matrix` read to
-/// check.
-fn stamp_inputs(matrix: &mut Matrix, inputs: &Inputs) {
-    matrix.registry_fingerprint = Some(plan::replan::registry_fingerprint(&inputs.registry));
-    matrix.catalog_fingerprint = Some(plan::replan::catalog_fingerprint(&inputs.catalog));
+    require_planned_print(
+        PlannedPrint {
+            recorded: matrix.registry_fingerprint.as_deref(),
+            format: plan::replan::REGISTRY_FINGERPRINT_FORMAT,
+            files: registry_files(paths).join(", "),
+            whose: "registry's",
+            kind: "registry snapshot",
+            short: "snapshot",
+            verb: "planned from",
+            give: "give the registry it was planned from",
+        },
+        || plan::replan::registry_fingerprint(&inputs.registry),
+        matrix_path,
+        out,
+    )
 }
 
 /// Refuses a catalog other than the one a matrix read from a file was planned with (when the
@@ -392,31 +376,77 @@ fn require_planned_catalog(
     paths: &InputPaths,
     out: &mut Output,
 ) -> Result<(), BadInput> {
-    let Some(planned) = &matrix.catalog_fingerprint else {
+    require_planned_print(
+        PlannedPrint {
+            recorded: matrix.catalog_fingerprint.as_deref(),
+            format: plan::replan::CATALOG_FINGERPRINT_FORMAT,
+            files: match &paths.catalog {
+                Some(p) => p.display().to_string(),
+                None => "the shipped catalog (no --catalog)".to_string(),
+            },
+            whose: "catalog's",
+            kind: "system-library catalog",
+            short: "catalog",
+            verb: "planned with",
+            give: "give the --catalog it was planned with (or none, if it was planned with the shipped one)",
+        },
+        || plan::replan::catalog_fingerprint(&inputs.catalog),
+        matrix_path,
+        out,
+    )
+}
+
+/// What a matrix records of one input it was planned from, and the words for it.
+struct PlannedPrint<'a> {
+    recorded: Option<&'a str>,
+    format: &'static str,
+    /// The input files given, as an error names them.
+    files: String,
+    whose: &'static str,
+    kind: &'static str,
+    short: &'static str,
+    verb: &'static str,
+    give: &'static str,
+}
+
+/// Refuses an input whose fingerprint (`given`, made only when needed) differs from the one
+/// the matrix records. A fingerprint another version of basefit made another way cannot be
+/// compared: a note says so. A matrix without one is not checked.
+fn require_planned_print(
+    print: PlannedPrint<'_>,
+    given: impl FnOnce() -> String,
+    matrix_path: &std::path::Path,
+    out: &mut Output,
+) -> Result<(), BadInput> {
+    let Some(planned) = print.recorded else {
         return Ok(());
     };
-    let given_files = match &paths.catalog {
-        Some(p) => p.display().to_string(),
-        None => "the shipped catalog (no --catalog)".to_string(),
-    };
-    if !planned.starts_with(plan::replan::CATALOG_FINGERPRINT_FORMAT) {
+    let (files, m) = (&print.files, matrix_path.display());
+    if !planned.starts_with(print.format) {
         out.stderr.push(format!(
-            "note: {} records its catalog's fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure {given_files} is the catalog it was planned with, or plan again",
-            matrix_path.display(),
+            "note: {m} records its {} fingerprint in a form this basefit does not make (another version of basefit wrote it), so it cannot be compared: make sure {files} is the {} it was {}, or plan again",
+            print.whose, print.short, print.verb
         ));
         return Ok(());
     }
-    let given = plan::replan::catalog_fingerprint(&inputs.catalog);
-    if *planned == given {
+    let given = given();
+    if planned == given {
         return Ok(());
     }
     Err(BadInput::file(
-        given_files,
+        print.files.clone(),
         format!(
-            "is not the system-library catalog the matrix {} was planned with (fingerprint {given}, the matrix records {planned}): give the --catalog it was planned with (or none, if it was planned with the shipped one), or plan again",
-            matrix_path.display()
+            "is not the {} the matrix {m} was {} (fingerprint {given}, the matrix records {planned}): {}, or plan again",
+            print.kind, print.verb, print.give
         ),
     ))
+}
+
+/// Records the registry and catalog `matrix` was planned from, for a later `--matrix` read to
+/// check.
+fn stamp_inputs(matrix: &mut Matrix, inputs: &Inputs) {
+    matrix.registry_fingerprint = Some(plan::replan::registry_fingerprint(&inputs.registry));
+    matrix.catalog_fingerprint = Some(plan::replan::catalog_fingerprint(&inputs.catalog));
 }
 
 /// Refuses an images file that does not declare every image of a matrix read from a file as

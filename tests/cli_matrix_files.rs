@@ -38,6 +38,32 @@ fn run_on_one_image(dir: &Path, image: &str, args: &[&str]) -> (i32, String) {
     (code, stderr)
 }
 
+/// `command` (`review` or `render`) reading `matrix` with the demo's recorded results and
+/// images, the registry given and, if any, a catalog file.
+fn read_with_demo_results(
+    command: &str,
+    matrix: &str,
+    registry: &str,
+    catalog: Option<&str>,
+) -> (i32, String, String) {
+    let mut args = vec![
+        command,
+        "--quiet",
+        "--matrix",
+        matrix,
+        "--results",
+        "demo-data/results.yaml",
+        "--images",
+        "matrices/demo-images.yaml",
+        "--registry",
+        registry,
+    ];
+    if let Some(c) = catalog {
+        args.extend(["--catalog", c]);
+    }
+    run_basefit(args)
+}
+
 /// Runs `args` and asserts it is refused as an input error (exit 2) naming `want` on stderr,
 /// with nothing on stdout that could pass for a report.
 fn assert_refused(args: &[&str], want: &str) {
@@ -1379,18 +1405,7 @@ fn a_matrix_read_with_results_must_come_from_the_registry_given() {
     )
     .unwrap();
     let with = |registry: &str, matrix: &str, command: &str| {
-        run_basefit([
-            command,
-            "--quiet",
-            "--matrix",
-            matrix,
-            "--results",
-            "demo-data/results.yaml",
-            "--images",
-            "matrices/demo-images.yaml",
-            "--registry",
-            registry,
-        ])
+        read_with_demo_results(command, matrix, registry, None)
     };
     for command in ["review", "render"] {
         let (code, _, stderr) = with(grown.to_str().unwrap(), &matrix, command);
@@ -1550,22 +1565,7 @@ fn a_matrix_read_with_results_must_come_from_the_catalog_given() {
     );
     let empty = common::write(dir.path(), "empty.yaml", "libraries: []\n");
     let with = |matrix: &str, catalog: Option<&str>, command: &str| {
-        let mut args = vec![
-            command,
-            "--quiet",
-            "--matrix",
-            matrix,
-            "--results",
-            "demo-data/results.yaml",
-            "--images",
-            "matrices/demo-images.yaml",
-            "--registry",
-            "demo-data/registry.yaml",
-        ];
-        if let Some(c) = catalog {
-            args.extend(["--catalog", c]);
-        }
-        run_basefit(args)
+        read_with_demo_results(command, matrix, "demo-data/registry.yaml", catalog)
     };
     for command in ["review", "render"] {
         let (code, _, stderr) = with(&matrix, Some(site.to_str().unwrap()), command);
