@@ -137,9 +137,14 @@ pub fn log_line_place(
         return format!("line {line} of the record's `log` text");
     }
     let line = line - inline_lines;
-    let file = file.unwrap_or("the log file");
+    let file = match file {
+        Some(file) => file,
+        // A log of one part: its line numbers are the log's own.
+        None if inline_lines == 0 && skipped == 0 => return format!("line {line}"),
+        // Beside the record's own text, a bare number would read as either part's.
+        None => "the log file",
+    };
     match skipped {
-        0 if inline_lines == 0 && file == "the log file" => format!("line {line}"),
         0 => format!("line {line} of {file}"),
         skipped => {
             format!("line {line} of the part of {file} read, which skips its first {skipped} bytes")
