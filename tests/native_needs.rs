@@ -72,6 +72,20 @@ fn explained_on_full(registry: &str, package: &str, code: i32) -> String {
     stdout
 }
 
+/// Inputs in `dir` for one package shipping an Objective-C++ source (`numbat-objcpp`) and one
+/// alpine image `alp` with `build-base`: a risk for a library no alpine package is known for.
+fn objcpp_on_alpine(dir: &Path) -> Vec<String> {
+    let registry = format!(
+        "packages:\n{}",
+        package("numbat-objcpp", "", "src/ext/view.mm")
+    );
+    let images = format!(
+        "images:\n{}",
+        image("alp", "alpine", "    packages: [build-base]\n")
+    );
+    inputs(dir, &registry, &images, &["numbat-objcpp"])
+}
+
 /// `review --format json` on `args`: a lookup of a reviewed cell by package and image.
 fn reviewed_cells(args: &[String]) -> impl Fn(&str, &str) -> serde_json::Value {
     let (_, json, stderr) = run(&["review", "--format", "json"], args);
@@ -1540,15 +1554,7 @@ fn a_package_with_a_malformed_arch_part_is_refused() {
 #[test]
 fn a_risk_for_an_unmapped_library_is_confirmed_by_its_log() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = format!(
-        "packages:\n{}",
-        package("numbat-objcpp", "", "src/ext/view.mm")
-    );
-    let images = format!(
-        "images:\n{}",
-        image("alp", "alpine", "    packages: [build-base]\n")
-    );
-    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let args = objcpp_on_alpine(dir.path());
     let args = with_results(
         dir.path(),
         args,
@@ -1566,15 +1572,7 @@ fn a_risk_for_an_unmapped_library_is_confirmed_by_its_log() {
 #[test]
 fn an_unconfirmed_risk_with_no_package_to_name_names_the_native_build() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = format!(
-        "packages:\n{}",
-        package("numbat-objcpp", "", "src/ext/view.mm")
-    );
-    let images = format!(
-        "images:\n{}",
-        image("alp", "alpine", "    packages: [build-base]\n")
-    );
-    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let args = objcpp_on_alpine(dir.path());
     let args = with_results(
         dir.path(),
         args,
@@ -1913,15 +1911,7 @@ fn a_missing_cxx_compiler_confirms_a_risk_for_the_whole_toolchain() {
 #[test]
 fn syslibs_says_an_image_lacking_only_unmapped_libraries_lacks_something() {
     let dir = tempfile::tempdir().unwrap();
-    let registry = format!(
-        "packages:\n{}",
-        package("numbat-objcpp", "", "src/ext/view.mm")
-    );
-    let images = format!(
-        "images:\n{}",
-        image("alp", "alpine", "    packages: [build-base]\n")
-    );
-    let args = inputs(dir.path(), &registry, &images, &["numbat-objcpp"]);
+    let args = objcpp_on_alpine(dir.path());
     let (code, stdout, stderr) = run(&["syslibs"], &args);
     assert_eq!(code, 1, "{stdout}{stderr}");
     assert!(
