@@ -1430,6 +1430,14 @@ fn runtimes_merged_note(given: &[semver::Version], out: &mut Output) {
 /// `imageplan`: coverage by runtime, system packages and pre-install sets per image, written
 /// as `imageplan.yaml` and `coverage.svg` with `--out`.
 pub fn imageplan(o: &ImageplanCommand) -> Result<Output> {
+    // The files whose names do not depend on the plan are checked before it is computed, which
+    // on a registry dump takes a while; the charts of further base images after it.
+    if let Some(dir) = &o.out {
+        refuse_writing_over_inputs(
+            &o.inputs,
+            ["imageplan.yaml", "coverage.svg"].map(|name| dir.join(name)),
+        )?;
+    }
     let inputs = load(&o.inputs, o.strict)?;
     require_matrix_inputs(&inputs, &o.inputs, Planner::plans("imageplan"))?;
     let mut out = Output::default();

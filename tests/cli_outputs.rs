@@ -1680,6 +1680,40 @@ fn out_never_writes_over_an_input() {
     }
 }
 
+/// `imageplan --out` refused to write over an input only after loading and planning, which on
+/// a registry dump takes a while: a registry named `imageplan.yaml` in the `--out` folder is
+/// refused before any input is read, so a broken priorities file beside it is not reported first.
+#[test]
+fn imageplan_refuses_writing_over_an_input_before_planning() {
+    let dir = tempfile::tempdir().unwrap();
+    let registry = std::fs::read_to_string("demo-data/registry.yaml").unwrap();
+    let input = common::write(dir.path(), "imageplan.yaml", &registry);
+    let broken = common::write(dir.path(), "priorities.yaml", "priorities: [\n");
+    let out = dir.path().to_str().unwrap();
+    let (code, _, stderr) = run_basefit([
+        "imageplan",
+        "--quiet",
+        "--registry",
+        input.to_str().unwrap(),
+        "--images",
+        "matrices/demo-images.yaml",
+        "--priorities",
+        broken.to_str().unwrap(),
+        "--out",
+        out,
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert!(
+        stderr.contains(&format!(
+            "--registry {} is the imageplan.yaml that --out {out} would write",
+            input.display()
+        )),
+        "{stderr}"
+    );
+    assert!(!stderr.contains("priorities.yaml"), "{stderr}");
+    assert_eq!(std::fs::read_to_string(&input).unwrap(), registry);
+}
+
 /// Every command that plans from the inputs notes their data-quality problems on stderr, as
 /// `plan`, `review` and `render` did: a shard of a plan, `explain`, `syslibs` and `imageplan`
 /// said nothing (from a mutation review of the command layer). The demo registry has such

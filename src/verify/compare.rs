@@ -838,9 +838,11 @@ fn surprise_install_step(
     if let Some((toolchain, packages)) = only {
         let i = installed.unwrap_or("?");
         let p = cell.root_version.as_deref().unwrap_or("?");
-        // The toolchain's own packages are among those to add when it is missing.
+        // The toolchain's own packages are among those to add when it is missing, so none to
+        // name leaves only the flag, which `other_release_needs` keeps set only for a certain
+        // C++ build (a C-only one is turned into the C compiler's packages).
         let has = if packages.is_empty() {
-            "a C toolchain".to_string()
+            "a C and C++ toolchain".to_string()
         } else {
             packages.join(" ")
         };
