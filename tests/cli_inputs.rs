@@ -1101,6 +1101,57 @@ fn unreadable_prebuilt_platform_leaves_out_only_its_version() {
     );
 }
 
+/// A platform with its libc and architecture swapped (`linux/amd64/glibc`, the order Docker
+/// and Go write `os/arch` in, with the libc tacked on) is refused at its line, for an image and
+/// a prebuilt build alike. Read as written it named a platform nothing is built for: an
+/// end-to-end review found such an image planned without a word, every prebuilt-only release
+/// failing on it and its `libxml2-dev:amd64` read as another architecture's package, so the
+/// advice said to add what the image has.
+#[test]
+fn a_platform_with_libc_and_architecture_swapped_is_refused_at_its_line() {
+    let d = dir();
+    let reg = write(
+        d.path(),
+        "registry.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: fernwood\n",
+            "    versions:\n",
+            "      - {version: 1.0.0}\n",
+            "      - version: 1.1.0\n",
+            "        builds:\n",
+            "          prebuilt: [linux/x86_64/glibc]\n",
+        )
+        .as_bytes(),
+    );
+    let img = write(
+        d.path(),
+        "images.yaml",
+        concat!(
+            "images:\n",
+            "  - {id: plain, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            "  - id: swapped\n",
+            "    runtime: 3.1.0\n",
+            "    family: debian\n",
+            "    platform: linux/amd64/glibc\n",
+            "    packages: [libxml2-dev:amd64]\n",
+            "  - {id: alp, runtime: 3.0.0, family: alpine, platform: linux/musl/musl}\n",
+        )
+        .as_bytes(),
+    );
+    assert_check_finds(
+        &reg,
+        &img,
+        &[
+            "registry.yaml:7  fernwood@1.1.0: prebuilt platform `linux/x86_64/glibc`: `x86_64`, in the C library's place, is an architecture: expected a platform as os/libc/arch",
+            "images.yaml:6  swapped: platform `linux/amd64/glibc`: `amd64`, in the C library's place, is an architecture: expected a platform as os/libc/arch, e.g. linux/glibc/x86_64",
+            "images.yaml:8  alp: platform `linux/musl/musl`: `musl`, in the architecture's place, is a C library",
+            "images that cannot be built (left out) (bad-image): 2",
+        ],
+        None,
+    );
+}
+
 /// An image platform not of the form os/libc/arch leaves out that image, at the line of the
 /// platform and in the words a registry's `prebuilt` platform gets, and the images built on
 /// it as other left-out bases do; the rest of the file is used. It used to be a schema error

@@ -30,6 +30,8 @@ pub struct PlatformId(pub u16);
 /// assert_eq!(Platform::parse("linux/gnu/amd64"), Ok(p));
 /// assert_eq!(Platform::parse("linux/musl/arm64").unwrap().to_string(), "linux/musl/aarch64");
 /// assert!(Platform::parse("linux/x86_64").is_err());
+/// assert!(Platform::parse("linux/amd64/glibc").is_err());
+/// assert!(Platform::parse("linux/musl/musl").is_err());
 /// ```
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 pub struct Platform {
@@ -45,6 +47,29 @@ impl Platform {
             [os, libc, arch] if !os.is_empty() && !libc.is_empty() && !arch.is_empty() => {
                 let libc = libc.to_ascii_lowercase();
                 let arch = arch.to_ascii_lowercase();
+                // Docker and Go write `os/arch`, so `linux/amd64/glibc` is an easy slip; read
+                // as written it names a platform nothing is built for, and an image declared
+                // on it would fail every prebuilt-only release and lose its `:amd64` packages
+                // without a word.
+                let misplaced = if canonical_arch(&libc).is_some() {
+                    Some(format!(
+                        "`{}`, in the C library's place, is an architecture",
+                        parts[1]
+                    ))
+                } else if is_libc_word(&arch) {
+                    Some(format!(
+                        "`{}`, in the architecture's place, is a C library",
+                        parts[2]
+                    ))
+                } else {
+                    None
+                };
+                if let Some(misplaced) = misplaced {
+                    return Err(format!(
+                        "`{s}`: {misplaced}: expected a platform as os/libc/arch, e.g. \
+                         linux/glibc/x86_64"
+                    ));
+                }
                 Ok(Platform {
                     os: os.to_ascii_lowercase(),
                     libc: match libc.as_str() {
@@ -59,6 +84,12 @@ impl Platform {
             )),
         }
     }
+}
+
+/// Whether `word` (lower case) names a C library rather than an architecture, so that an
+/// `os/arch/libc` platform, the words swapped, is told apart from an unknown architecture.
+fn is_libc_word(word: &str) -> bool {
+    matches!(word, "glibc" | "gnu" | "musl")
 }
 
 /// The one name basefit reads an architecture by, for the names other systems give it
