@@ -2488,3 +2488,128 @@ fn the_release_hint_names_every_release_it_tried() {
         ]
     );
 }
+
+/// Of a root's releases, one needing an older runtime and one with no build for the image's
+/// platform (but a build for another): the runtime is named, as README orders causes
+/// ("What the outcomes mean": runtime-too-old, runtime-too-new, no-build-for-platform). From a
+/// mutation review, where checking the platform before an older runtime went unnoticed.
+#[test]
+fn older_runtime_outranks_a_missing_build_for_this_platform() {
+    let registry = r#"packages:
+  - name: quoll
+    versions:
+      - {version: 1.0.0, runtime: "<3.0"}
+      - {version: 1.1.0, builds: {source: false, prebuilt: [linux/musl/x86_64]}}
+"#;
+    let cell = entry_cell(registry, "quoll");
+    assert_eq!(cell.cause, Some(Cause::RuntimeTooNew), "{cell:?}");
+}
+
+/// The runtime requirements a refusal names are distinct (two releases asking `>=4.0` show it
+/// once), and past three the rest are counted. From a mutation review: neither the dedup nor
+/// the cap of three was pinned.
+#[test]
+fn runtime_requirements_in_a_refusal_are_distinct_and_capped_at_three() {
+    let registry = r#"packages:
+  - name: numbat
+    versions:
+      - {version: 1.0.0, runtime: ">=4.0"}
+      - {version: 1.1.0, runtime: ">=4.0"}
+      - {version: 1.2.0, runtime: ">=4.1"}
+  - name: bilby
+    versions:
+      - {version: 1.0.0, runtime: ">=4.0"}
+      - {version: 1.1.0, runtime: ">=4.1"}
+      - {version: 1.2.0, runtime: ">=4.2"}
+      - {version: 1.3.0, runtime: ">=4.3"}
+      - {version: 1.4.0, runtime: ">=4.4"}
+"#;
+    let numbat = entry_cell(registry, "numbat");
+    let lines = numbat.explanation.join("\n");
+    assert!(
+        lines.contains("3 versions need a newer runtime (>=4.0; >=4.1; the image has 3.1.5)"),
+        "{lines}"
+    );
+    let bilby = entry_cell(registry, "bilby");
+    let lines = bilby.explanation.join("\n");
+    assert!(
+        lines.contains(
+            "5 versions need a newer runtime (>=4.0; >=4.1; >=4.2 and 2 more; the image has 3.1.5)"
+        ),
+        "{lines}"
+    );
+}
+
+/// Dependencies beside the one the solver met that fail the same release are named in the
+/// order of their names, not the order the release lists them, and one whose requirement no
+/// published version meets says so rather than giving the conflict's general label. From a
+/// mutation review: neither the sort nor that phrase was pinned.
+#[test]
+fn unmet_sibling_dependencies_are_sorted_by_name_and_say_what_fails() {
+    let registry = r#"packages:
+  - name: dingo
+    versions: [{version: 1.0.0}]
+  - name: bandicoot
+    versions: [{version: 1.0.0}]
+  - name: kite
+    versions:
+      - version: 1.0.0
+        depends:
+          - {name: zorilla, req: "^1"}
+          - {name: dingo, req: "^9"}
+          - {name: ghost-a, req: "^1"}
+          - {name: bandicoot, req: "^9"}
+"#;
+    let cell = entry_cell(registry, "kite");
+    let blockers: Vec<(&str, &str)> = cell
+        .blockers
+        .iter()
+        .map(|b| (b.package.as_str(), b.reason.as_str()))
+        .collect();
+    assert_eq!(
+        blockers,
+        [
+            // The siblings, by name (the release lists zorilla, dingo, ghost-a).
+            (
+                "dingo",
+                "dingo (wanted ^9) has no published version matching the requirement"
+            ),
+            (
+                "ghost-a",
+                "ghost-a (wanted ^1) is missing from the registry"
+            ),
+            (
+                "zorilla",
+                "zorilla (wanted ^1) is missing from the registry"
+            ),
+            // The dependency the solver met, stated after them.
+            (
+                "bandicoot",
+                "bandicoot (wanted ^9) has no published version matching the requirement"
+            ),
+        ],
+        "{cell:?}"
+    );
+}
+
+/// A root whose one unyanked release fails on a conflict between its dependencies, its other
+/// release yanked: the conflict is the cause, since "has only yanked or pre-release versions"
+/// would be untrue of the release that was tried. From a mutation review: with no other package
+/// failing on its own, only the conflict says the unyanked release was tried.
+#[test]
+fn conflict_outranks_the_roots_yanked_release() {
+    let registry = r#"packages:
+  - name: cassowary
+    versions: [{version: 1.0.0}, {version: 2.0.0}]
+  - name: lyrebird
+    versions: [{version: 1.0.0, depends: [{name: cassowary, req: "^1"}]}]
+  - name: potoroo
+    versions: [{version: 1.0.0, depends: [{name: cassowary, req: "^2"}]}]
+  - name: galah
+    versions:
+      - {version: 1.0.0, yanked: true}
+      - {version: 2.0.0, depends: [{name: lyrebird, req: "^1"}, {name: potoroo, req: "^1"}]}
+"#;
+    let cell = entry_cell(registry, "galah");
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{cell:?}");
+}
