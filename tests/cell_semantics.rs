@@ -2613,3 +2613,39 @@ fn conflict_outranks_the_roots_yanked_release() {
     let cell = entry_cell(registry, "galah");
     assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{cell:?}");
 }
+
+/// Two packages that the entry's dependencies ask for in versions that do not overlap are
+/// named in the order of their names, not in the order the registry lists them (package ids
+/// follow the order of the input, which output must not). From a mutation review: the sort was
+/// not pinned.
+#[test]
+fn conflicting_packages_are_named_in_name_order() {
+    let registry = r#"packages:
+  - name: yak
+    versions: [{version: 1.0.0}, {version: 2.0.0}]
+  - name: anoa
+    versions: [{version: 1.0.0}, {version: 2.0.0}]
+  - name: lyrebird
+    versions:
+      - {version: 1.0.0, depends: [{name: yak, req: "^1"}]}
+      - {version: 2.0.0, depends: [{name: anoa, req: "^1"}]}
+  - name: potoroo
+    versions: [{version: 1.0.0, depends: [{name: yak, req: "^2"}, {name: anoa, req: "^2"}]}]
+  - name: galah
+    versions:
+      - {version: 1.0.0, depends: [{name: lyrebird}, {name: potoroo, req: "^1"}]}
+"#;
+    let cell = entry_cell(registry, "galah");
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict), "{cell:?}");
+    let named: Vec<&str> = cell
+        .explanation
+        .iter()
+        .filter(|l| l.ends_with("that do not overlap"))
+        .map(|l| l.rsplit(" of ").next().unwrap_or(""))
+        .collect();
+    assert_eq!(
+        named,
+        ["anoa that do not overlap", "yak that do not overlap"],
+        "{cell:?}"
+    );
+}
