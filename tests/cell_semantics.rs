@@ -2649,3 +2649,25 @@ fn conflicting_packages_are_named_in_name_order() {
         "{cell:?}"
     );
 }
+
+/// A dependency whose only release is yanked is named beside the one the solver failed on, though
+/// the solver itself read that release as refused (it walks each candidate's releases when it
+/// chooses what to decide next). From a mutation review of the explanation: it pins the case; the
+/// mutant that counts any release the solver recorded as meeting the requirement still survives
+/// it (why was not traced).
+#[test]
+fn a_yanked_only_dependency_is_named_beside_the_failing_one() {
+    let registry = r#"packages:
+  - name: lyre
+    versions: [{version: 1.0.0, runtime: ">=9"}]
+  - name: emu
+    versions: [{version: 1.0.0, yanked: true}]
+  - name: galah
+    versions:
+      - {version: 1.0.0, depends: [{name: lyre, req: "^1"}, {name: emu, req: "^1"}]}
+"#;
+    let cell = entry_cell(registry, "galah");
+    let mut blocked: Vec<&str> = cell.blockers.iter().map(|b| b.package.as_str()).collect();
+    blocked.sort();
+    assert_eq!(blocked, ["emu", "lyre"], "{cell:?}");
+}
