@@ -1120,3 +1120,101 @@ fn contradiction(cell: &Cell) -> Option<String> {
         None
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn column(id: &str) -> ImageColumn {
+        ImageColumn {
+            id: id.into(),
+            runtime: "3.1.0".into(),
+            family: "debian".into(),
+            platform: "linux/glibc/x86_64".into(),
+            toolchain: true,
+            cxx: Some(true),
+            packages: Some(Vec::new()),
+        }
+    }
+
+    /// A weight too small to leave a quotient beside a huge one still resolves something:
+    /// its share must not print as 0%, which reads as nothing resolving.
+    #[test]
+    fn a_share_that_underflows_stays_above_zero() {
+        assert_eq!(weight_share(1e-300, 1e300), Some(f64::MIN_POSITIVE));
+    }
+
+    /// An images file that drops the toolchain plans native needs differently, so a
+    /// `--matrix` planned with one must be refused against it.
+    #[test]
+    fn differences_name_a_toolchain_taken_away() {
+        let planned = column("deb");
+        let now = ImageColumn {
+            toolchain: false,
+            ..planned.clone()
+        };
+        assert_eq!(
+            planned.differences(&now),
+            ["toolchain false here, true in the matrix"]
+        );
+    }
+
+    /// Per package, at-risk cells are counted apart from clean installs; per image, they
+    /// resolve and so carry their weight into the share; every cause is counted, the
+    /// undecided cells' budget-exhausted too.
+    #[test]
+    fn summary_counts_at_risk_apart_and_as_resolving() {
+        let cell = |package: &str, image: &str, outcome: Outcome, cause: Option<Cause>| Cell {
+            cause,
+            ..Cell::new(package, image, outcome)
+        };
+        let row = |rank: usize, name: &str, weight: f64| PackageRow {
+            rank,
+            name: name.into(),
+            weight,
+            summary: None,
+        };
+        let m = Matrix {
+            notice: NOTICE.into(),
+            native_skipped: false,
+            images: vec![column("a"), column("b")],
+            packages: vec![row(1, "quokka", 3.0), row(2, "numbat", 1.0)],
+            cells: vec![
+                cell("quokka", "a", Outcome::Installs, None),
+                cell("quokka", "b", Outcome::AtRisk, None),
+                cell("numbat", "a", Outcome::Fails, Some(Cause::MissingToolchain)),
+                cell(
+                    "numbat",
+                    "b",
+                    Outcome::Undecided,
+                    Some(Cause::BudgetExhausted),
+                ),
+            ],
+            shard: None,
+            planned_from: None,
+            registry_fingerprint: None,
+            catalog_fingerprint: None,
+        };
+        let s = summarise(&m);
+        let quokka = &s.packages[0];
+        assert_eq!(
+            (quokka.installs_on, quokka.at_risk_on, quokka.images),
+            (1, 1, 2)
+        );
+        let shares: Vec<Option<f64>> = s.images.iter().map(|i| i.weight_share).collect();
+        assert_eq!(shares, [Some(0.75), Some(0.75)]);
+        let counts: Vec<[usize; 4]> = s
+            .images
+            .iter()
+            .map(|i| [i.installs, i.at_risk, i.fails, i.undecided])
+            .collect();
+        assert_eq!(counts, [[1, 0, 1, 0], [0, 1, 0, 1]]);
+        assert_eq!(
+            s.causes,
+            BTreeMap::from([
+                (Cause::BudgetExhausted.as_str().to_string(), 1),
+                (Cause::MissingToolchain.as_str().to_string(), 1),
+            ])
+        );
+    }
+}
