@@ -2671,3 +2671,38 @@ fn a_yanked_only_dependency_is_named_beside_the_failing_one() {
     blocked.sort();
     assert_eq!(blocked, ["emu", "lyre"], "{cell:?}");
 }
+
+/// An entry whose requirement is `*` asks for nothing beyond the package: its explanation
+/// names the package alone, as an entry without a requirement's does, rather than quoting a
+/// `*` that narrows nothing.
+#[test]
+fn an_entry_asking_for_any_version_is_explained_without_its_star() {
+    let registry = "packages:\n  - name: bunting\n    versions: [{version: banana}]\n";
+    let inputs = inputs(registry, "priorities:\n  - {name: bunting, req: \"*\"}\n");
+    let cell = explain(&inputs, "bunting", "deb", &PlanOptions::default())
+        .unwrap()
+        .cell;
+    assert_eq!(cell.cause, Some(Cause::DependencyConflict));
+    assert_eq!(
+        cell.explanation[0],
+        "the entry asks for bunting (no usable version)"
+    );
+}
+
+/// A cell failing for a declared library the image lacks, that also needs a library the
+/// catalog cannot name, says so beside the packages to add: adding them alone would not make
+/// it install.
+#[test]
+fn a_missing_library_failure_names_the_unmapped_library_beside_it() {
+    let registry = r#"packages:
+  - name: oddball
+    versions: [{version: "1.0.0", native: {libraries: [libxml2, libnowhere-at-all]}}]
+"#;
+    let cell = entry_cell(registry, "oddball");
+    assert_eq!(cell.cause, Some(Cause::MissingSystemLibrary), "{cell:#?}");
+    assert_eq!(
+        cell.explanation.last().unwrap(),
+        "a declared native library is missing on deb; add: libxml2-dev; it also needs \
+         libraries the catalog has no package for on this image: libnowhere-at-all"
+    );
+}

@@ -1891,3 +1891,16 @@ fn plan_marks_the_weight_resolving_of_an_image_with_undecided_cells_as_a_lower_b
         );
     }
 }
+
+/// `review` without `--matrix` plans only the cells with results; planned with `--no-native`,
+/// its predictions never looked at system libraries, and its notice must say so as a whole
+/// plan's does, or an agreed install would read as a checked one.
+#[test]
+fn a_review_planned_with_no_native_says_so() {
+    let mut args = DEMO.to_vec();
+    args.extend(["--results", "demo-data/results.yaml", "--no-native"]);
+    let (_, json, err) = run(&["review"], &[&args[..], &["--format", "json"]].concat());
+    let json: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {err}"));
+    assert_eq!(json["notice"], basefit::plan::matrix::notice(true), "{err}");
+}

@@ -1082,6 +1082,14 @@ fn no_native_outputs_say_native_needs_were_not_checked() {
         text.contains("system packages per image: not checked (--no-native)"),
         "{text}"
     );
+    // The coverage table's shares too, under its own heading: read alone, they would pass
+    // for checked ones.
+    assert!(
+        text.contains(
+            "version solving only (--no-native): shares leave out what the base image lacks"
+        ),
+        "{text}"
+    );
     assert!(!text.contains("nothing missing"), "{text}");
     let mut json_args = args.clone();
     json_args.extend(["--format".to_string(), "json".to_string()]);
