@@ -350,6 +350,29 @@ mod tests {
     }
 
     #[test]
+    fn visible_writes_a_carriage_return_as_backslash_r() {
+        // README ("Commands"): control characters from the inputs print as escapes; a lone
+        // `\r` would move the cursor back and let the text after it overwrite the line.
+        assert_eq!(visible("pkg\rfake"), "pkg\\rfake");
+        assert_eq!(visible("a\r\nb"), "a\\r\nb");
+    }
+
+    #[test]
+    fn a_reason_is_cut_only_beyond_its_limit() {
+        let cell_saying = |text: String| Cell {
+            explanation: vec![text],
+            ..Cell::new("kp-a", "img-1", Outcome::Fails)
+        };
+        // Exactly at the limit the reason is whole; one character more and it ends in `…`
+        // within the limit.
+        let whole = "r".repeat(REASON_CHARS);
+        assert_eq!(reason(&cell_saying(whole.clone())), whole);
+        let cut = reason(&cell_saying("r".repeat(REASON_CHARS + 1)));
+        assert_eq!(cut.chars().count(), REASON_CHARS);
+        assert_eq!(cut, format!("{}…", "r".repeat(REASON_CHARS - 1)));
+    }
+
+    #[test]
     fn unknown_verdicts_are_not_taken_as_agreement() {
         let check = |recorded: &str, verdict: &str| RecordedCheck {
             recorded: recorded.into(),
@@ -390,6 +413,13 @@ mod tests {
         assert_eq!(Mark::of(&risk(Some(true))), Mark::Agreed);
         assert_eq!(Mark::of(&risk(None)), Mark::Unsettled);
         assert_eq!(Mark::of(&risk(Some(false))), Mark::Unsettled);
+        // A flaky cell is unsettled even when one attempt's log shows the risk: another
+        // attempt installed, so the log does not confirm it for the image.
+        let flaky_risk = RecordedCheck {
+            cause_agrees: Some(true),
+            ..check("flaky", "risk-confirmed")
+        };
+        assert_eq!(Mark::of(&flaky_risk), Mark::Unsettled);
         assert_eq!(
             Mark::of(&check("failed", "risk-unconfirmed")),
             Mark::Unsettled
