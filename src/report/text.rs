@@ -1221,7 +1221,157 @@ fn shown_reasons(reasons: &[String]) -> String {
 
 #[cfg(test)]
 mod tests {
-    use super::shown_reasons;
+    use super::{
+        causes, check_text, release_hint_lines, runtime_hint_lines, shown_reasons, table, versions,
+    };
+    use crate::plan::explain::{ReleaseHint, RuntimeHint};
+
+    fn trial(version: &str, outcome: Outcome, cause: Cause) -> Trial {
+        Trial {
+            version: version.into(),
+            outcome,
+            cause: Some(cause),
+        }
+    }
+
+    #[test]
+    fn a_runtime_hint_with_undecided_runtimes_still_names_those_that_do_not_resolve() {
+        let hint = RuntimeHint {
+            trials: vec![
+                trial("1.0.0", Outcome::Fails, Cause::RuntimeTooOld),
+                trial("2.0.0", Outcome::Undecided, Cause::BudgetExhausted),
+            ],
+            toward_cause: None,
+        };
+        assert_eq!(
+            runtime_hint_lines(&hint),
+            [
+                "at runtime 2.0.0 the solver ran out of budget, so whether it resolves there is unknown (raise --budget)",
+                "at runtime 1.0.0 its version constraints do not resolve",
+            ]
+        );
+    }
+
+    #[test]
+    fn a_release_hint_over_one_of_several_releases_says_how_many_it_tried() {
+        // One release tried and others left untried is not "its only release".
+        let hint = |untried| ReleaseHint {
+            trials: vec![trial("2.0.0", Outcome::Fails, Cause::DependencyConflict)],
+            untried,
+            yanked: 0,
+            not_admitted: None,
+            not_asked_for: Vec::new(),
+        };
+        let several = release_hint_lines(&hint(3));
+        assert_eq!(several.len(), 1);
+        assert!(
+            several[0].starts_with("none of its") && !several[0].contains("only"),
+            "{several:?}"
+        );
+        assert_eq!(
+            release_hint_lines(&hint(0)),
+            ["its only release does not resolve on this image"]
+        );
+    }
+
+    #[test]
+    fn a_release_whose_constraints_resolve_is_not_said_not_to_resolve() {
+        let hint = ReleaseHint {
+            trials: vec![trial("2.0.0", Outcome::Fails, Cause::MissingSystemLibrary)],
+            untried: 0,
+            yanked: 0,
+            not_admitted: None,
+            not_asked_for: Vec::new(),
+        };
+        assert_eq!(
+            release_hint_lines(&hint),
+            [
+                "pinned to 2.0.0, its version constraints resolve, but it fails: missing-system-library",
+                "its only release does not install on this image",
+            ]
+        );
+    }
+
+    #[test]
+    fn causes_in_a_sentence_are_named_once_each_in_order() {
+        let trial = |cause| Trial {
+            version: "1.0.0".into(),
+            outcome: Outcome::Fails,
+            cause: Some(cause),
+        };
+        let trials = [
+            trial(Cause::MissingToolchain),
+            trial(Cause::MissingSystemLibrary),
+            trial(Cause::MissingToolchain),
+        ];
+        let refs: Vec<&Trial> = trials.iter().collect();
+        assert_eq!(causes(&refs), "missing-system-library, missing-toolchain");
+    }
+    use crate::plan::explain::Trial;
+    use crate::plan::matrix::Outcome;
+    use crate::solve::Cause;
+
+    #[test]
+    fn versions_in_a_sentence_name_six_and_count_only_a_real_rest() {
+        let trials: Vec<Trial> = (1..=7)
+            .map(|i| Trial {
+                version: format!("1.{i}.0"),
+                outcome: Outcome::Fails,
+                cause: Some(Cause::DependencyConflict),
+            })
+            .collect();
+        let refs: Vec<&Trial> = trials.iter().collect();
+        // Six fit whole: "and 0 more" would read as a list cut short.
+        assert_eq!(
+            versions(&refs[..6]),
+            "1.1.0, 1.2.0, 1.3.0, 1.4.0, 1.5.0, 1.6.0"
+        );
+        assert_eq!(
+            versions(&refs),
+            "1.1.0, 1.2.0, 1.3.0, 1.4.0, 1.5.0, 1.6.0, and 1 more"
+        );
+    }
+    use crate::load::diag::{Origin, ProblemKind};
+
+    #[test]
+    fn the_check_report_counts_one_problem_in_one_category_in_the_singular() {
+        let mut ledger = crate::load::Ledger::default();
+        let at = |line| Origin {
+            file: "r.yaml".into(),
+            line,
+        };
+        ledger.note(
+            ProblemKind::NormalisedVersion,
+            at(3),
+            "kp-a",
+            "v1.0 read as 1.0.0",
+        );
+        assert!(
+            check_text(&ledger, None).contains("\n1 problem in 1 category\n"),
+            "{}",
+            check_text(&ledger, None)
+        );
+        ledger.note(
+            ProblemKind::NormalisedVersion,
+            at(4),
+            "kp-b",
+            "v2 read as 2.0.0",
+        );
+        assert!(check_text(&ledger, None).contains("\n2 problems in 1 category\n"));
+    }
+
+    #[test]
+    fn a_table_pads_columns_by_two_spaces_and_rules_the_header_to_its_width() {
+        let rows = |r: &[&[&str]]| -> Vec<Vec<String>> {
+            r.iter()
+                .map(|row| row.iter().map(|c| c.to_string()).collect())
+                .collect()
+        };
+        // Widths count characters, not bytes; the rule spans the columns and the two-space
+        // gaps between them, not a gap after the last.
+        let got = table(&rows(&[&["image", "n"], &["dëb-1", "12"], &["x", "3"]]));
+        assert_eq!(got, "image  n\n---------\ndëb-1  12\nx      3\n");
+    }
 
     #[test]
     fn a_shared_blockers_line_shows_three_reasons_and_counts_the_rest() {
