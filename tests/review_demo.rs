@@ -1740,6 +1740,13 @@ fn an_install_of_a_release_the_image_refuses_is_a_surprise() {
             out.contains(&format!("cindergate on g2: {verdict} (predicted installs")),
             "{version}: {out}"
         );
+        // Grouped under its own heading: the fallbacks after it read as failures ("failed,
+        // no log recorded"), which this install is not.
+        assert_eq!(
+            out.contains("\n  installed a release the image cannot take, by the snapshot:\n"),
+            verdict == "surprise-version",
+            "{version}: {out}"
+        );
     }
 }
 
