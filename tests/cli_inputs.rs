@@ -2642,3 +2642,34 @@ fn extensions_match_in_any_case_and_ranks_must_be_finite() {
         );
     }
 }
+
+/// One data-quality problem is noted as one: from a mutation review, where the note's noun
+/// taking the plural at any count passed every test.
+#[test]
+fn one_data_quality_problem_is_noted_in_the_singular() {
+    let d = dir();
+    let registry = write(
+        d.path(),
+        "registry.yaml",
+        "packages:\n  - name: fernwood\n    versions:\n      - {version: 1.0.0, depends: [{name: no-such-name, req: \"^1\"}]}\n",
+    );
+    let images = write(d.path(), "images.yaml", GOOD_IMAGES.as_bytes());
+    let priorities = write(
+        d.path(),
+        "priorities.yaml",
+        "priorities:\n  - {name: fernwood, weight: 1}\n",
+    );
+    let (code, _, stderr) = common::run_basefit([
+        "plan".as_ref(),
+        "--quiet".as_ref(),
+        "--registry".as_ref(),
+        registry.as_os_str(),
+        "--images".as_ref(),
+        images.as_os_str(),
+        "--priorities".as_ref(),
+        priorities.as_os_str(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let note = "note: 1 data-quality problem in the inputs (run `basefit check` for the list)";
+    assert!(stderr.lines().any(|l| l == note), "{stderr}");
+}

@@ -1074,7 +1074,8 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
         .iter()
         .enumerate()
         .map(|(i, p)| {
-            let mut img = image(&format!("img{i}"), &format!("{p}fam"));
+            // The id too: it is input text like the runtime and family.
+            let mut img = image(&format!("{p}img{i}"), &format!("{p}fam"));
             img.runtime = format!("{p}2+3");
             img
         })
@@ -1093,7 +1094,9 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
         packages: vec![PackageRow {
             rank: 1,
             name: "kiwi-pkg".into(),
-            weight: 1.0,
+            // Not a round number: the weight column is the matrix's value as written, not
+            // one rounded for display.
+            weight: 0.125,
             summary: None,
         }],
         images: images.clone(),
@@ -1114,6 +1117,8 @@ fn csv_defuses_every_formula_prefix_in_image_fields() {
             rec.get(col("family")),
             Some(format!("'{}", img.family).as_str())
         );
+        assert_eq!(rec.get(col("image")), Some(format!("'{}", img.id).as_str()));
+        assert_eq!(rec.get(col("weight")), Some("0.125"));
     }
     assert_eq!(basefit::report::csv::defuse("-2+3"), "'-2+3");
     assert_eq!(basefit::report::csv::defuse("+1"), "'+1");
