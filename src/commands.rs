@@ -1583,8 +1583,9 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
         let earlier = matrix.cells.iter().filter(|c| c.recorded.is_some()).count();
         if let (Some(path), 1..) = (&o.matrix, earlier) {
             out.stderr.push(format!(
-                "note: {} carried recorded results for {earlier} cells from an earlier rendering; they are replaced by those of --results",
-                path.display()
+                "note: {} carried recorded results for {earlier} {} from an earlier rendering; they are replaced by those of --results",
+                path.display(),
+                report::one_or_many(earlier, "cell", "cells")
             ));
         }
         crate::verify::annotate(&mut matrix, &review);

@@ -1329,6 +1329,24 @@ fn render_shows_only_the_results_it_was_given() {
         "{stderr}"
     );
 
+    // One cell carried over is counted as one: from a mutation review, where a note given
+    // only from two carried cells up passed every test.
+    let second = dir.path().join("second");
+    let mut once = again.to_vec();
+    once.truncate(once.len() - 2);
+    once.extend(["--out", second.to_str().unwrap()]);
+    let (code, _, stderr) = run(&["render"], &once);
+    assert_eq!(code, 0, "{stderr}");
+    let carried = second.join("matrix.json");
+    let mut twice = again.to_vec();
+    twice[1] = carried.to_str().unwrap();
+    let (code, _, stderr) = run(&["render"], &twice);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stderr.contains("carried recorded results for 1 cell from an earlier rendering"),
+        "{stderr}"
+    );
+
     let mut over = again.to_vec();
     over.truncate(over.len() - 2);
     over.extend(["--out", first.to_str().unwrap()]);
@@ -1903,4 +1921,21 @@ fn a_review_planned_with_no_native_says_so() {
     let json: serde_json::Value =
         serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {err}"));
     assert_eq!(json["notice"], basefit::plan::matrix::notice(true), "{err}");
+}
+
+/// `explain` looks at one cell and plans no list: it runs without `--priorities`. From a
+/// mutation review, where refusing it for want of a priority list passed every test.
+#[test]
+fn explain_needs_no_priority_list() {
+    let (code, stdout, stderr) = run(
+        &["explain", "quill-xml", "alpine-2.6"],
+        &[
+            "--registry",
+            "demo-data/registry.yaml",
+            "--images",
+            "matrices/demo-images.yaml",
+        ],
+    );
+    assert!(code == 0 || code == 1, "exit {code}: {stderr}");
+    assert!(stdout.contains("quill-xml"), "{stdout}");
 }
