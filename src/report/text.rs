@@ -648,11 +648,20 @@ fn release_hint_lines(h: &ReleaseHint) -> Vec<String> {
             format!("its only release that is not yanked does not {verb} on this image")
         }
         (true, true) => format!("its only release does not {verb} on this image"),
+        // One release tried with older ones left untried: "none of its 1 newest releases"
+        // would read as a miscount.
+        (true, false) if h.trials.len() == 1 => {
+            format!("its newest release does not {verb} on this image (older ones were not tried)")
+        }
         (true, false) => format!("none of {scope} {verb}s on this image"),
         (false, true) if h.yanked > 0 => {
             "whether its only release that is not yanked resolves on this image is unknown".into()
         }
         (false, true) => "whether its only release resolves on this image is unknown".into(),
+        (false, false) if h.trials.len() == 1 => {
+            "whether its newest release resolves on this image is unknown (older ones were not tried)"
+                .into()
+        }
         (false, false) => format!("whether any of {scope} resolves on this image is unknown"),
     });
     out
@@ -1262,15 +1271,24 @@ mod tests {
             not_admitted: None,
             not_asked_for: Vec::new(),
         };
-        let several = release_hint_lines(&hint(3));
-        assert_eq!(several.len(), 1);
-        assert!(
-            several[0].starts_with("none of its") && !several[0].contains("only"),
-            "{several:?}"
+        // ... nor "none of its 1 newest releases", which reads as a miscount.
+        assert_eq!(
+            release_hint_lines(&hint(3)),
+            ["its newest release does not resolve on this image (older ones were not tried)"]
         );
         assert_eq!(
             release_hint_lines(&hint(0)),
             ["its only release does not resolve on this image"]
+        );
+        let undecided = ReleaseHint {
+            trials: vec![trial("2.0.0", Outcome::Undecided, Cause::BudgetExhausted)],
+            ..hint(3)
+        };
+        assert_eq!(
+            release_hint_lines(&undecided).last().map(String::as_str),
+            Some(
+                "whether its newest release resolves on this image is unknown (older ones were not tried)"
+            )
         );
     }
 
