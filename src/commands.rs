@@ -67,7 +67,9 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
         let groups = inputs.ledger.by_kind();
         let parts: Vec<String> = groups
             .iter()
-            .map(|(k, v)| format!("{} {}", v.len(), k.label()))
+            // Label first, as `check` lists them: the labels are plural, so "1 dependencies"
+            // would read as a slip.
+            .map(|(k, v)| format!("{}: {}", k.label(), v.len()))
             .collect();
         let first = &inputs.ledger.problems[0];
         // The place named may be a stand-in: say so rather than pass it off as the problem's own.
@@ -85,7 +87,7 @@ pub fn load(paths: &InputPaths, strict: bool) -> Result<Inputs, BadInput> {
                 "--strict: {}: {} (in all: {}){unplaced}",
                 first.subject,
                 first.detail,
-                parts.join(", ")
+                parts.join("; ")
             ),
         ));
     }

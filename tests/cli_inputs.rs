@@ -535,8 +535,8 @@ fn bulk_dependency_problems_name_the_dependency_row_under_strict() {
     assert_eq!(code, 2, "{stderr}");
     let want = format!(
         "{}:5: --strict: pkg-a@1.0.0: requires pkg-c ^0.4, which no published version satisfies \
-         (in all: 1 dependencies on names not in the registry, \
-         1 dependency requirements no published version satisfies)",
+         (in all: dependencies on names not in the registry: 1; \
+         dependency requirements no published version satisfies: 1)",
         deps.display()
     );
     assert!(stderr.contains(&want), "{want}\n{stderr}");
