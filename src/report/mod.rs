@@ -923,6 +923,11 @@ mod tests {
             ("a b", 13),
             ("-x", 14),
             ("é", 15),
+            // YAML 1.1 reads `1_000` as the integer 1000 and `1e3` as a float (its int and
+            // float types allow `_`; yaml.org/type/int.html, from memory): a key that starts
+            // with a digit is quoted.
+            ("1_000", 16),
+            ("1e3", 17),
         ]
         .into_iter()
         .collect();
@@ -942,6 +947,8 @@ mod tests {
             "\"a b\": 13\n",
             "\"-x\": 14\n",
             "\"é\": 15\n",
+            "\"1_000\": 16\n",
+            "\"1e3\": 17\n",
         ] {
             assert!(text.contains(quoted), "{quoted:?} in {text}");
         }
