@@ -27,8 +27,7 @@ enum Command {
         after_help = "Example:\n  basefit check --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --results demo-data/results.yaml"
     )]
     Check(CheckArgs),
-    /// Solve every priority entry on every image and print the predicted matrix's summary
-    /// (with --out, also write the matrix as matrix.yaml and matrix.json).
+    /// Solve every priority entry on every image and print a summary; --out writes the matrix.
     #[command(
         after_help = "Example:\n  basefit plan --registry demo-data/registry.yaml --images matrices/demo-images.yaml \\\n    --priorities demo-data/priorities.yaml --out out/"
     )]
