@@ -629,14 +629,28 @@ impl Table {
         } else {
             format!("byte 0x{byte:02x}")
         };
+        // A quote left open mid-file runs on to the next `"` in the file, which then reads as
+        // its closing quote: the reader, looking at this line, sees no closing quote at all,
+        // so say where the cell ended and what most likely happened.
+        let inside = record.as_slice().bytes().filter(|&b| b == b'\n').count();
+        let spanned = if inside == 0 {
+            String::new()
+        } else {
+            format!(
+                " (a quoted cell opened on this line runs on to line {}, where the quote that \
+                 closes it stands: most likely a `\"` is missing on this line, or one should \
+                 have been doubled)",
+                line + inside
+            )
+        };
         Some(BadInput::at(
             &self.file,
             line,
             format!(
-                "text ({shown}) follows the closing quote of a quoted cell: a quoted cell ends at \
-                 its closing quote (RFC 4180), and reading on would join the two into a value \
-                 never written (`\"kp-a\"x` as `kp-ax`); quote the whole cell, with `\"\"` for a \
-                 quote inside it"
+                "text ({shown}) follows the closing quote of a quoted cell{spanned}: a quoted \
+                 cell ends at its closing quote (RFC 4180), and reading on would join the two \
+                 into a value never written (`\"kp-a\"x` as `kp-ax`); quote the whole cell, \
+                 with `\"\"` for a quote inside it"
             ),
         ))
     }
@@ -910,6 +924,18 @@ mod tests {
             let (_, error) = until_error(text);
             assert_eq!(error.map(|e| e.0), Some(Some(at)), "{text:?}");
         }
+        // A quote left open mid-file closes at the next quote lines later: the message names
+        // that line, since the row's own line shows no closing quote.
+        let (_, error) = until_error("a,b\n\"x,1\nc,2\nd,\"3\n");
+        let (line, message) = error.unwrap();
+        assert_eq!(line, Some(2));
+        assert!(
+            message.contains("opened on this line runs on to line 4")
+                && message.contains("a `\"` is missing on this line"),
+            "{message}"
+        );
+        let (_, error) = until_error("a,b\n\"kp-a\"x,1\n");
+        assert!(!error.unwrap().1.contains("runs on"));
         // The rows after it are read: the error is the row's own, as a row of another width.
         let mut table = Table::from_reader(
             "t.csv",
