@@ -595,3 +595,41 @@ fn an_unsatisfiable_requirement_blames_every_record_left_out_only_when_none_is_u
         ]
     );
 }
+
+/// A package with one release, yanked, reads "its only version is yanked": "all 1 versions"
+/// reads as if the count had been filled into a sentence written for many.
+#[test]
+fn a_lone_yanked_version_is_named_in_the_singular() {
+    use basefit::load::RegistryBuilder;
+    use basefit::load::registry::read_yaml_str;
+    let mut b = RegistryBuilder::new();
+    read_yaml_str(
+        "yanks.yaml",
+        concat!(
+            "packages:\n",
+            "  - name: lone\n",
+            "    versions:\n",
+            "      - {version: \"1.0.0\", yanked: true}\n",
+            "  - name: pair\n",
+            "    versions:\n",
+            "      - {version: \"1.0.0\", yanked: true}\n",
+            "      - {version: \"2.0.0\", yanked: true}\n",
+        ),
+        &mut b,
+    )
+    .unwrap();
+    let (_, ledger) = b.finish();
+    let details: Vec<(&str, &str)> = ledger
+        .problems
+        .iter()
+        .filter(|p| p.kind == ProblemKind::NoInstallableVersion)
+        .map(|p| (p.subject.as_str(), p.detail.as_str()))
+        .collect();
+    assert_eq!(
+        details,
+        [
+            ("lone", "its only version is yanked"),
+            ("pair", "all 2 versions are yanked")
+        ]
+    );
+}

@@ -841,7 +841,10 @@ fn registry_checks(
                 ProblemKind::NoInstallableVersion,
                 origin_of(&registry.files, pkg.file, pkg.line),
                 &*pkg.name,
-                format!("all {} versions are yanked", pkg.releases.len()),
+                match pkg.releases.len() {
+                    1 => "its only version is yanked".to_string(),
+                    n => format!("all {n} versions are yanked"),
+                },
             );
         }
     }
