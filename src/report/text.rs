@@ -773,9 +773,10 @@ pub fn review_text(r: &crate::verify::Review) -> String {
     if !r.results_left_out.is_empty() {
         let _ = writeln!(
             out,
-            "\n{} recorded {} left out and not compared; any of them may be a surprise, so this review is incomplete (exit 1):",
+            "\n{} recorded {} left out and not compared; {} may be a surprise, so this review is incomplete (exit 1):",
             r.results_left_out.len(),
-            super::one_or_many(r.results_left_out.len(), "result was", "results were")
+            super::one_or_many(r.results_left_out.len(), "result was", "results were"),
+            super::one_or_many(r.results_left_out.len(), "it", "any of them")
         );
         for line in &r.results_left_out {
             let _ = writeln!(out, "  {line}");
