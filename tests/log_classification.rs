@@ -87,6 +87,25 @@ fn gcc_missing_header() {
     assert!(findings[0].evidence.contains("fatal error"));
 }
 
+/// A header forced in with `-include` (build systems force config headers so) is missing from
+/// the command line, not from a source line: gcc gives `<command-line>` as its location.
+#[test]
+fn gcc_missing_forced_include() {
+    let dir = c_file_including("stddef.h");
+    let Some(out) = run(
+        "gcc",
+        &["-include", ABSENT_HEADER, "-c", "probe.c", "-o", "probe.o"],
+        dir.path(),
+    ) else {
+        return skip("gcc_missing_forced_include", "gcc is not installed");
+    };
+    assert!(!out.status.success());
+    let log = stderr(&out);
+    // source: GNU gcc on this machine (12.2.0 printed `<command-line>: fatal error: ...`)
+    assert!(log.contains("<command-line>: fatal error:"), "{log}");
+    assert_eq!(causes(&classify(&log)), [&header(ABSENT_HEADER)], "{log}");
+}
+
 #[test]
 fn gcc_missing_header_in_colour_with_crlf() {
     let dir = c_file_including(ABSENT_HEADER);

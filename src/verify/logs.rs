@@ -569,7 +569,7 @@ fn missing_header(t: &str) -> Option<&str> {
     if let Some(p) = t.find("fatal error: ") {
         let rest = &t[p + "fatal error: ".len()..];
         if let Some(q) = rest.find(": No such file or directory")
-            && location_file(&t[..p]).is_some()
+            && (location_file(&t[..p]).is_some() || forced_include(&t[..p]))
             && let Some(name) = plausible_name(&rest[..q])
         {
             return Some(name);
@@ -591,6 +591,16 @@ fn missing_header(t: &str) -> Option<&str> {
         }
     }
     None
+}
+
+/// Whether `prefix` ends in gcc's location for a file forced in with `-include`
+/// (`<command-line>: `), which is a header as much as one a source line includes.
+fn forced_include(prefix: &str) -> bool {
+    prefix
+        .trim_end()
+        .rsplit(char::is_whitespace)
+        .next()
+        .is_some_and(|w| w == "<command-line>:")
 }
 
 /// The file of the compiler location that is the last word of `prefix`, `file:line:` or
