@@ -234,7 +234,7 @@ fn a_release_another_image_would_install_outranks_a_missing_dependency_of_the_ot
     let lines = &quill.cell.explanation;
     assert!(
         lines.iter().any(|l| {
-            l.starts_with("no version of quill can be used here: 2.0.0:")
+            l.starts_with("no version of quill in 2.0.0 can be used here:")
                 && l.contains("1 version needs a newer runtime (>=4.0; the image has 3.5.0)")
         }) && lines.iter().any(|l| l == "nonesuch is not in the registry"),
         "{lines:?}"
@@ -2080,7 +2080,7 @@ fn a_refused_dependency_beside_a_conflict_is_a_blocker_that_names_the_conflict()
     assert!(
         lines
             .iter()
-            .any(|l| l.starts_with("no version of lark can be used here: 3.1.0")),
+            .any(|l| l.starts_with("no version of lark in 3.1.0 can be used here")),
         "{lines:?}"
     );
     let (app, lines) = blockers_of("app");
@@ -2343,7 +2343,7 @@ fn a_lone_refused_release_is_named_by_its_version() {
     let cell = entry_cell(registry, "solo");
     assert!(
         cell.explanation.iter().any(|l| l
-            == "no version of solo can be used here: 1.0.0: 1 version needs a newer runtime \
+            == "no version of solo in 1.0.0 can be used here: 1 version needs a newer runtime \
                 (>=5; the image has 3.1.5)"),
         "{:?}",
         cell.explanation

@@ -417,12 +417,43 @@ pub(crate) fn unusable(
     }
     // Counts that cover every release already say which versions: "any version: 2 versions
     // yanked" would only repeat them.
-    let phrase = if is_every_version(registry, package, set) {
-        parts.join(", ")
-    } else {
-        format!("{}: {}", describe(registry, package, set), parts.join(", "))
+    let phrase = match scope_of(registry, package, set) {
+        None => parts.join(", "),
+        Some(scope) => format!("{scope}: {}", parts.join(", ")),
     };
     (cause, phrase)
+}
+
+/// The releases a phrase of [`unusable`] starts with, when it names some: those of `set`
+/// when they are not all of the package's.
+fn scope_of(
+    registry: &crate::model::Registry,
+    package: PackageId,
+    set: &IndexSet,
+) -> Option<String> {
+    let releases = registry.package(package).releases.len();
+    (indices(set, releases).next().is_some() && !is_every_version(registry, package, set))
+        .then(|| describe(registry, package, set))
+}
+
+/// "no version of `name` can be used here", scoped to the releases `phrase` (of [`unusable`]
+/// for `set`) is about when they are not all of the package's: "no version of X can be used
+/// here: 0.3.0: 1 version yanked" read as if X had no usable version at all, though an older
+/// one installs.
+fn no_version_line(
+    view: &ImageView<'_>,
+    package: PackageId,
+    set: &IndexSet,
+    phrase: &str,
+) -> String {
+    let name = view.registry.name(package);
+    let scoped = scope_of(view.registry, package, set).and_then(|scope| {
+        let counts = phrase.strip_prefix(&format!("{scope}: "))?;
+        Some(format!(
+            "no version of {name} in {scope} can be used here: {counts}"
+        ))
+    });
+    scoped.unwrap_or_else(|| format!("no version of {name} can be used here: {phrase}"))
 }
 
 /// Whether some release of `package` in `set` is admissible, recording in `record`, when so,
@@ -824,7 +855,7 @@ pub fn explain(
                 let (cause, phrase) = unusable(view, *p, set);
                 let name = registry.name(*p);
                 lines.push(if registry.package(*p).declared {
-                    format!("no version of {name} can be used here: {phrase}")
+                    no_version_line(view, *p, set, &phrase)
                 } else {
                     format!("{name} {phrase}")
                 });
@@ -889,7 +920,7 @@ pub fn explain(
                         for sib in siblings.get_mut(ap).map(std::mem::take).unwrap_or_default() {
                             let name = registry.name(sib.package);
                             let unmet = if registry.package(sib.package).declared {
-                                format!("no version of {name} can be used here: {}", sib.phrase)
+                                no_version_line(view, sib.package, &sib.set, &sib.phrase)
                             } else {
                                 format!("{name} {}", sib.phrase)
                             };
