@@ -57,7 +57,7 @@ use std::sync::OnceLock;
 use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Bumped whenever what a cell depends on, or how it is computed, changes.
-pub const CACHE_FORMAT: u32 = 34;
+pub const CACHE_FORMAT: u32 = 35;
 
 /// What precedes the seal at the end of a cache file ([`PlanCache::to_sealed_json`]).
 const SEAL_KEY: &str = ",\"seal\":\"";
