@@ -379,3 +379,102 @@ impl DependencyProvider for CellProvider<'_, '_> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::load::images::read_images_str;
+    use crate::load::{RegistryBuilder, registry::read_yaml_str};
+    use crate::model::{Image, Registry};
+    use crate::solve::{SetCache, Solved, solve_joint};
+
+    /// Four releases of one package, all admissible on the image.
+    const KELP: &str = "packages:\n- name: kelp\n  versions:\n  - {version: 1.0.0}\n  - {version: 2.0.0}\n  - {version: 3.0.0}\n  - {version: 4.0.0}\n";
+
+    fn setup(yaml: &str) -> (Registry, Image) {
+        let mut b = RegistryBuilder::new();
+        read_yaml_str("r.yaml", yaml, &mut b).unwrap();
+        let (registry, _) = b.finish();
+        let images = read_images_str(
+            "i.yaml",
+            "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            &mut Default::default(),
+        )
+        .unwrap();
+        (registry, images.images[0].clone())
+    }
+
+    #[test]
+    fn a_package_named_twice_in_a_joint_solve_meets_both_restrictions() {
+        let (registry, image) = setup(KELP);
+        let sets = SetCache::default();
+        let view = ImageView::new(&registry, &image, &sets);
+        let kelp = registry.id("kelp").unwrap();
+        // Worked by hand: only 1.0.0 (index 0) lies in both sets, so the newest release the
+        // second entry alone would allow (4.0.0) must not be installed.
+        let roots = vec![(kelp, IndexSet::singleton(0u32)), (kelp, IndexSet::full())];
+        let Solved::Installs { closure, .. } = solve_joint(&view, &roots, 1_000).solved else {
+            panic!("expected an install");
+        };
+        assert_eq!(closure.iter().map(|p| p.index).collect::<Vec<_>>(), [0]);
+    }
+
+    #[test]
+    fn a_pick_records_the_stretches_its_range_holds() {
+        let (registry, image) = setup(KELP);
+        let sets = SetCache::default();
+        let view = ImageView::new(&registry, &image, &sets);
+        let kelp = registry.id("kelp").unwrap();
+        let covered = |range: IndexSet| {
+            let mut observed = Observed::default();
+            pick(&view, kelp, &range, &mut observed);
+            observed.covered
+        };
+        // Below release 2, open at the bottom: the stretches after releases 0 and 1.
+        assert_eq!(covered(IndexSet::strictly_lower_than(2u32)), [(kelp, 0, 2)]);
+        // Up to and including release 2: release 2's own stretch is not held.
+        assert_eq!(covered(IndexSet::lower_than(2u32)), [(kelp, 0, 2)]);
+        // One release alone holds no stretch, so nothing is recorded.
+        assert_eq!(covered(IndexSet::singleton(3u32)), []);
+    }
+
+    #[test]
+    fn finish_merges_touching_and_nested_runs_of_one_package_only() {
+        let (p, q, r) = (PackageId(0), PackageId(1), PackageId(2));
+        let mut observed = Observed {
+            covered: vec![
+                (p, 2, 3),
+                (p, 0, 2),
+                (q, 5, 6),
+                (q, 1, 2),
+                (r, 2, 3),
+                (r, 0, 6),
+            ],
+            ..Observed::default()
+        };
+        observed.finish();
+        assert_eq!(
+            observed.covered,
+            [(p, 0, 3), (q, 1, 2), (q, 5, 6), (r, 0, 6)]
+        );
+    }
+
+    #[test]
+    fn a_range_that_holds_the_last_release_is_not_open_ended_but_past_it_is() {
+        let (registry, image) = setup(KELP);
+        let sets = SetCache::default();
+        let view = ImageView::new(&registry, &image, &sets);
+        let kelp = registry.id("kelp").unwrap();
+        let noted = |range: IndexSet| {
+            let provider = CellProvider::new(&view, kelp, IndexSet::full(), 1_000);
+            provider.note_range(kelp, &range, 4);
+            let observed = provider.take_observed();
+            (observed.open_ended, observed.splits)
+        };
+        // Index 4 is one past the last release: a release published later would land there.
+        assert_eq!(noted(IndexSet::lower_than(4u32)), (vec![kelp], vec![]));
+        // Ending at release 2 included holds it without the stretch after it.
+        assert_eq!(noted(IndexSet::lower_than(2u32)), (vec![], vec![(kelp, 2)]));
+        assert_eq!(noted(IndexSet::lower_than(3u32)), (vec![], vec![(kelp, 3)]));
+    }
+}
