@@ -263,3 +263,65 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
         steps,
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::load::images::read_images_str;
+    use crate::load::{RegistryBuilder, registry::read_yaml_str};
+
+    fn solve(yaml: &str, root: &str) -> (crate::model::Registry, CellSolve) {
+        let mut b = RegistryBuilder::new();
+        read_yaml_str("r.yaml", yaml, &mut b).unwrap();
+        let (registry, _) = b.finish();
+        let images = read_images_str(
+            "i.yaml",
+            "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+            &mut Default::default(),
+        )
+        .unwrap();
+        let sets = SetCache::default();
+        let view = ImageView::new(&registry, &images.images[0], &sets);
+        let spec = RootSpec {
+            package: root,
+            req: None,
+            prerelease: false,
+        };
+        let out = solve_cell(&view, &spec, 1_000);
+        (registry, out)
+    }
+
+    #[test]
+    fn a_name_only_depended_on_is_missing_and_watched_as_a_whole() {
+        let (registry, out) = solve(
+            "packages:\n- name: kelp\n  versions:\n  - {version: 1.0.0, depends: [{name: ghost, req: '*'}]}\n",
+            "ghost",
+        );
+        let ghost = registry.id("ghost").unwrap();
+        let Solved::Fails(failure) = out.solved else {
+            panic!("expected a failure")
+        };
+        assert_eq!(failure.cause, Cause::MissingFromRegistry);
+        assert_eq!(failure.lines, ["ghost is not in the registry"]);
+        assert_eq!(out.steps, 0);
+        // Declaring it later must send the cell back to the solver.
+        assert_eq!(out.observed.explained, [ghost]);
+    }
+
+    #[test]
+    fn a_requirement_repeated_on_itself_is_named_once() {
+        let (_, out) = solve(
+            "packages:\n- name: kelp\n  versions:\n  - {version: 1.0.0, depends: [{name: kelp, req: '^2'}, {name: kelp, req: '^2'}]}\n",
+            "kelp",
+        );
+        let Solved::Fails(failure) = out.solved else {
+            panic!("expected a failure")
+        };
+        let text = failure.lines.join("\n");
+        assert!(
+            text.contains("kelp 1.0.0 depends on kelp ^2, which excludes itself"),
+            "{text}"
+        );
+        assert!(!text.contains("^2, ^2"), "{text}");
+    }
+}
