@@ -468,3 +468,70 @@ impl Registry {
         })
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::load::{RegistryBuilder, registry::read_yaml_str};
+
+    fn registry(yaml: &str) -> Registry {
+        let mut b = RegistryBuilder::new();
+        read_yaml_str("r.yaml", yaml, &mut b).unwrap();
+        b.finish().0
+    }
+
+    #[test]
+    fn a_release_is_found_by_precedence_only_when_one_of_that_precedence_is_listed() {
+        let r = registry(
+            "packages:\n- name: kelp\n  versions:\n  - {version: 1.4.1}\n  - {version: 1.4.2+b}\n  - {version: 1.4.3}\n",
+        );
+        let kelp = r.id("kelp").unwrap();
+        let v = |s: &str| Version::parse(s).unwrap();
+        // Build metadata does not count in precedence (Semantic Versioning 2.0.0, section 10),
+        // but it does in the exact lookup.
+        assert_eq!(r.find_release(kelp, &v("1.4.2")), None);
+        assert_eq!(r.find_release(kelp, &v("1.4.2+b")), Some(1));
+        assert_eq!(r.find_release_by_precedence(kelp, &v("1.4.2")), Some(1));
+        assert_eq!(
+            r.find_release_by_precedence(kelp, &v("1.4.2+other")),
+            Some(1)
+        );
+        // A precedence the snapshot does not list is not read as its neighbour.
+        assert_eq!(r.find_release_by_precedence(kelp, &v("1.4.0")), None);
+        assert_eq!(r.find_release_by_precedence(kelp, &v("1.4.2-rc.1")), None);
+        assert_eq!(r.find_release_by_precedence(kelp, &v("1.5.0")), None);
+    }
+
+    #[test]
+    fn century_years_are_leap_years_only_when_divisible_by_400() {
+        // Gregorian calendar rule (common practice, no source).
+        assert!(ReleaseDate::parse("1900-02-29").is_none());
+        assert!(ReleaseDate::parse("2100-02-29").is_none());
+        assert_eq!(
+            ReleaseDate::parse("2000-02-29"),
+            Some(ReleaseDate(20000229))
+        );
+    }
+
+    #[test]
+    fn most_depended_on_counts_runtime_dependencies_and_breaks_ties_by_id() {
+        let r = registry(
+            "packages:\n\
+             - name: app\n  versions:\n  - {version: 1.0.0, depends: [{name: lib, req: '^1'}, {name: tool, req: '^1', kind: development}]}\n  - {version: 1.1.0, depends: [{name: tool, req: '^1', kind: development}]}\n\
+             - name: lib\n  versions:\n  - {version: 1.0.0}\n\
+             - name: tool\n  versions:\n  - {version: 1.0.0}\n\
+             - name: zed\n  versions:\n  - {version: 1.0.0}\n",
+        );
+        let ranked: Vec<(&str, u64)> = r
+            .most_depended_on()
+            .into_iter()
+            .map(|(id, n)| (r.name(id), n))
+            .collect();
+        // Development dependencies never count; the three with none follow in id order.
+        let mut tied = vec!["app", "tool", "zed"];
+        tied.sort_by_key(|n| r.id(n).unwrap());
+        assert_eq!(ranked[0], ("lib", 1));
+        assert_eq!(ranked[1..].iter().map(|x| x.0).collect::<Vec<_>>(), tied);
+        assert!(ranked[1..].iter().all(|x| x.1 == 0));
+    }
+}
