@@ -1549,6 +1549,68 @@ fn a_range_asked_past_the_last_release_sees_a_release_published_after_it() {
 }
 
 #[test]
+fn merging_refuses_shards_missing_the_last_cells_of_the_matrix() {
+    // A shard cut short at its end leaves no gap among the positions the parts hold: only the
+    // count of cells tells the merged matrix would be short.
+    let inputs = demo();
+    let options = PlanOptions::default();
+    let count = 3;
+    let mut parts: Vec<Matrix> = (1..=count)
+        .map(|index| {
+            replan(&inputs, &options, None, Some(Shard { index, count }))
+                .0
+                .matrix
+        })
+        .collect();
+    let total: usize = parts.iter().map(|p| p.cells.len()).sum();
+    let last = (total - 1) % count;
+    let dropped = parts[last].cells.pop().unwrap();
+    let err = merge_shards(parts).unwrap_err();
+    assert_eq!(err.part, Some(last), "{}", err.message);
+    assert!(
+        err.message
+            .contains(&format!("lacks its cell for {}", dropped.package)),
+        "{}",
+        err.message
+    );
+}
+
+#[test]
+fn merging_refuses_shards_planned_from_other_entry_requirements() {
+    // The matrix rows show an entry's name, rank, weight and summary, not its requirement or
+    // pre-release flag: only what the shard records it was planned from tells these apart.
+    let inputs = demo();
+    let mut flagged = demo();
+    flagged.priorities.entries[0].prerelease = !flagged.priorities.entries[0].prerelease;
+    let options = PlanOptions::default();
+    let shard = |inputs: &Inputs, index| {
+        replan(inputs, &options, None, Some(Shard { index, count: 2 }))
+            .0
+            .matrix
+    };
+    let (one, two) = (shard(&inputs, 1), shard(&flagged, 2));
+    assert!(one.packages == two.packages && one.images == two.images);
+    let err = merge_shards(vec![one, two]).unwrap_err();
+    assert!(
+        err.message.contains("planned from other inputs"),
+        "{}",
+        err.message
+    );
+}
+
+#[test]
+fn a_seal_written_otherwise_than_as_sixteen_hex_digits_does_not_hold() {
+    // `u64::from_str_radix` takes a leading `+` (Rust's documentation of `from_str_radix`),
+    // so the same value can be written in 17 characters.
+    let (cache, _) = replan(&demo(), &PlanOptions::default(), None, None);
+    let text = cache.to_sealed_json();
+    assert!(PlanCache::seal_holds(&text));
+    let at = text.rfind(",\"seal\":\"").unwrap() + ",\"seal\":\"".len();
+    let plus = format!("{}+{}", &text[..at], &text[at..]);
+    assert!(!PlanCache::seal_holds(&plus));
+}
+
+#[test]
 fn the_last_two_releases_below_the_ceiling_coming_to_look_alike_are_solved_again() {
     // lib 1.1.0 gives lib three candidates in `<2`, as many as other's three releases: lib is
     // decided first (the tie goes its way), at 1.1.0, and other follows at 1.0.0. Once other
