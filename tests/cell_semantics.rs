@@ -1264,6 +1264,128 @@ fn the_runtime_hint_toward_older_runtimes_starts_nearest_the_image() {
     assert!(toward.resolves_at().is_none());
 }
 
+/// A `runtime-too-new` cell that resolves at no declared runtime gets no hint toward the
+/// cause: there is no success to contrast with the verdict, and the text says it resolves
+/// nowhere. From a mutation review of src/plan/explain.rs, where taking the last runtime
+/// tried for the lowest success (a newer one here) added an "older runtimes" line unnoticed.
+#[test]
+fn a_cell_that_resolves_at_no_runtime_gets_no_hint_toward_the_cause() {
+    let image = |id: &str, rt: &str| {
+        format!(
+            "  - {{id: {id}, runtime: {rt}, family: debian, platform: linux/glibc/x86_64, toolchain: true}}\n"
+        )
+    };
+    let registry =
+        "packages:\n  - name: dingo-db\n    versions: [{version: \"1.0.0\", runtime: \"<1.0\"}]\n";
+    let all = format!(
+        "images:\n{}{}{}",
+        image("oldest", "1.5.0"),
+        image("here", "2.0.0"),
+        image("newer", "2.1.3")
+    );
+    let inputs = inputs_on(&all, registry, "priorities: [dingo-db]\n");
+    let e = explain(&inputs, "dingo-db", "here", &PlanOptions::default()).unwrap();
+    assert_eq!(e.cell.cause, Some(Cause::RuntimeTooNew), "{:?}", e.cell);
+    let hint = e.runtime_hint.as_ref().unwrap();
+    assert!(hint.resolves_at().is_none());
+    assert!(hint.toward_cause.is_none(), "{:?}", hint.toward_cause);
+    let text = basefit::report::text::explain_text(&e);
+    assert!(
+        text.contains("it resolves at none of the declared images' runtimes (1.5.0, 2.0.0, 2.1.3)"),
+        "{text}"
+    );
+    assert!(!text.contains("as the cause points"), "{text}");
+}
+
+/// The release hint tries the 40 newest releases (yanked ones aside) and counts the rest as
+/// untried: the 40th newest is tried, the 41st is not. From a mutation review of
+/// src/plan/explain.rs, where trying one release fewer, or counting one untried release too
+/// few, passed every test.
+#[test]
+fn the_release_hint_tries_exactly_the_forty_newest_releases() {
+    // `count` releases 1.0.0 .. 1.{count-1}.0; only 1.0.0 installs on the image (the others
+    // want a runtime no image has), and the entry's requirement leaves it out, so the cell
+    // fails and the hint has to reach 1.0.0 to find it.
+    let registry = |count: usize| {
+        let mut r = String::from("packages:\n  - name: numbat\n    versions:\n");
+        r.push_str("      - {version: \"1.0.0\"}\n");
+        for minor in 1..count {
+            r.push_str(&format!(
+                "      - {{version: \"1.{minor}.0\", runtime: \">=99\"}}\n"
+            ));
+        }
+        r
+    };
+    let priorities = "priorities:\n  - {name: numbat, req: \">=1.1\"}\n";
+
+    // 40 releases: the 40th newest is 1.0.0, tried, and it resolves.
+    let e = explain(
+        &inputs(&registry(40), priorities),
+        "numbat",
+        "deb",
+        &PlanOptions::default(),
+    )
+    .unwrap();
+    let hint = e.release_hint.as_ref().unwrap();
+    assert_eq!(hint.trials.len(), 40);
+    assert_eq!(hint.untried, 0);
+    assert_eq!(hint.resolves().map(|t| t.version.as_str()), Some("1.0.0"));
+
+    // 41 releases: 1.0.0 is the 41st newest, left untried.
+    let e = explain(
+        &inputs(&registry(41), priorities),
+        "numbat",
+        "deb",
+        &PlanOptions::default(),
+    )
+    .unwrap();
+    let hint = e.release_hint.as_ref().unwrap();
+    assert_eq!(hint.trials.len(), 40);
+    assert_eq!(hint.untried, 1);
+    assert!(hint.resolves().is_none());
+    let text = basefit::report::text::explain_text(&e);
+    assert!(
+        text.contains("none of its 40 newest releases resolves on this image"),
+        "{text}"
+    );
+}
+
+/// A release hint that finds a release the entry asks for (the newest fails on a missing
+/// library, an older one installs) says nothing about the entry's requirement. From a
+/// mutation review of src/plan/explain.rs, where calling that release outside the
+/// requirement passed every test.
+#[test]
+fn a_release_hint_within_the_requirement_is_not_called_outside_it() {
+    let registry = "packages:\n  - name: wallaby\n    versions:\n      - {version: \"1.0.0\"}\n      - version: \"2.0.0\"\n        native:\n          libraries: [libxml2]\n";
+    let e = explain(
+        &inputs(registry, "priorities:\n  - {name: wallaby, req: \">=1\"}\n"),
+        "wallaby",
+        "deb",
+        &PlanOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(
+        e.cell.cause,
+        Some(Cause::MissingSystemLibrary),
+        "{:?}",
+        e.cell
+    );
+    let hint = e.release_hint.as_ref().unwrap();
+    assert_eq!(hint.resolves().map(|t| t.version.as_str()), Some("1.0.0"));
+    assert_eq!(hint.not_admitted, None);
+    assert!(hint.not_asked_for.is_empty(), "{:?}", hint.not_asked_for);
+    let text = basefit::report::text::explain_text(&e);
+    let line = text
+        .lines()
+        .map(str::trim)
+        .find(|l| l.starts_with("newest release that resolves on this image:"))
+        .expect(&text);
+    assert_eq!(
+        line,
+        "newest release that resolves on this image: 1.0.0 (installs)"
+    );
+}
+
 /// A package whose releases miss the image's runtime in both directions is `runtime-too-old`
 /// whichever release needs the newer runtime: README's order of causes puts `runtime-too-old`
 /// before `runtime-too-new` ("What the outcomes mean", (5)). The order of the two checks once
