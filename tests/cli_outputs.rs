@@ -1939,3 +1939,42 @@ fn explain_needs_no_priority_list() {
     assert!(code == 0 || code == 1, "exit {code}: {stderr}");
     assert!(stdout.contains("quill-xml"), "{stdout}");
 }
+
+/// `explain` exits 1 for a cell whose outcome is not `installs`, at-risk and undecided
+/// included, and 0 for
+/// one that installs (README, "Exit codes"); its JSON's `native_skipped` follows
+/// `--no-native`. From a mutation review of src/plan/explain.rs, where an at-risk cell exiting
+/// 0 and a flipped `native_skipped` passed every test.
+#[test]
+fn explain_exits_by_outcome_and_says_whether_native_was_skipped() {
+    // Outcomes from demo-data/expected.yaml.
+    for (package, image, outcome, want) in [
+        ("gumleaf", "deb-2.4", "installs", 0),
+        ("skink-html", "deb-3.2-slim", "at-risk", 1),
+    ] {
+        let (code, json, err) = run(
+            &["explain", package, image],
+            &[&DEMO[..], &["--format", "json"]].concat(),
+        );
+        let json: serde_json::Value =
+            serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {err}"));
+        assert_eq!(json["cell"]["outcome"], outcome, "{package} on {image}");
+        assert_eq!(code, want, "{package} on {image}: {err}");
+        assert_eq!(json["native_skipped"], false, "{package} on {image}");
+    }
+    // Undecided is not `installs` either: the demo's saltbush on deb-2.4 runs out of a budget
+    // of 8 steps (tests/solver_budget.rs).
+    let mut args = DEMO.to_vec();
+    args.extend(["--budget", "8", "--format", "json"]);
+    let (code, json, err) = run(&["explain", "saltbush", "deb-2.4"], &args);
+    let json: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {err}"));
+    assert_eq!(json["cell"]["outcome"], "undecided", "{err}");
+    assert_eq!(code, 1, "{err}");
+    let mut args = DEMO.to_vec();
+    args.extend(["--no-native", "--format", "json"]);
+    let (_, json, err) = run(&["explain", "gumleaf", "deb-2.4"], &args);
+    let json: serde_json::Value =
+        serde_json::from_str(&json).unwrap_or_else(|e| panic!("{e}: {err}"));
+    assert_eq!(json["native_skipped"], true, "{err}");
+}
