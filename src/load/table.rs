@@ -33,9 +33,25 @@ struct CountingInput<R> {
     head: Option<Vec<u8>>,
     /// Where the bytes delivered so far leave the quoting of the current cell.
     quoting: Quoting,
-    /// Offsets (in the bytes delivered) of text that follows a quoted cell's closing quote
-    /// before the next `,` or line end, with the byte found there.
-    stray: std::collections::VecDeque<(u64, u8)>,
+    /// Text that follows a quoted cell's closing quote before the next `,` or line end.
+    stray: std::collections::VecDeque<Stray>,
+    /// Line feeds delivered before the bytes [`CountingInput::follow_quotes`] has reached.
+    breaks: usize,
+    /// The line of the opening quote of the quoted cell being delivered (or last delivered).
+    opened_line: usize,
+}
+
+/// Text after a closing quote, as [`CountingInput::follow_quotes`] finds it.
+#[derive(Clone, Copy)]
+struct Stray {
+    /// Offset in the bytes delivered.
+    at: u64,
+    /// The byte found there.
+    byte: u8,
+    /// The 1-based lines of the quoted cell's opening quote and of the stray byte (so of its
+    /// closing quote): apart when a quote left open ran on to a later quote.
+    opened_line: usize,
+    line: usize,
 }
 
 /// The quoting state of the cell being delivered, as RFC 4180 reads it: a quote opens a quoted
@@ -67,7 +83,17 @@ impl<R: std::io::Read> CountingInput<R> {
             head: Some(Vec::new()),
             quoting: Quoting::CellStart,
             stray: std::collections::VecDeque::new(),
+            breaks: 0,
+            opened_line: 1,
         }
+    }
+
+    /// The 1-based line of `bytes[at]`, counting the line feeds of `bytes` from `counted`
+    /// (moved to `at`) into [`CountingInput::breaks`], so each byte is counted once.
+    fn line_at(&mut self, bytes: &[u8], counted: &mut usize, at: usize) -> usize {
+        self.breaks += memchr::memchr_iter(b'\n', &bytes[*counted..at]).count();
+        *counted = at;
+        self.breaks + 1
     }
 
     /// Follows the quoting of `bytes`, which start at offset `base` of the bytes delivered,
@@ -75,6 +101,14 @@ impl<R: std::io::Read> CountingInput<R> {
     /// cell, and `"1.0".1` as `1.0.1`, without a word: a record silently read otherwise than
     /// written, which RFC 4180 has no reading for.
     fn follow_quotes(&mut self, base: u64, bytes: &[u8]) {
+        let mut counted = 0;
+        self.follow_quotes_counting(base, bytes, &mut counted);
+        self.line_at(bytes, &mut counted, bytes.len());
+    }
+
+    /// [`CountingInput::follow_quotes`], with the line feeds of `bytes` before `counted`
+    /// already counted.
+    fn follow_quotes_counting(&mut self, base: u64, bytes: &[u8], counted: &mut usize) {
         let mut i = 0;
         while i < bytes.len() {
             match self.quoting {
@@ -93,6 +127,7 @@ impl<R: std::io::Read> CountingInput<R> {
                         matches!(bytes[at - 1], b',' | b'\n')
                     };
                     self.quoting = if starts_cell {
+                        self.opened_line = self.line_at(bytes, counted, at);
                         Quoting::Quoted
                     } else {
                         Quoting::Plain
@@ -113,7 +148,13 @@ impl<R: std::io::Read> CountingInput<R> {
                         b',' | b'\n' => Quoting::CellStart,
                         b' ' | b'\t' | b'\r' => Quoting::Closed,
                         _ => {
-                            self.stray.push_back((base + i as u64, b));
+                            let stray = Stray {
+                                at: base + i as u64,
+                                byte: b,
+                                opened_line: self.opened_line,
+                                line: self.line_at(bytes, counted, i),
+                            };
+                            self.stray.push_back(stray);
                             Quoting::Plain
                         }
                     };
@@ -612,18 +653,23 @@ impl Table {
         let start = record.position().map_or(0, |p| p.byte());
         let end = self.reader.position().byte();
         let stray = &mut self.reader.get_mut().stray;
-        while stray.front().is_some_and(|&(at, _)| at < start) {
+        while stray.front().is_some_and(|s| s.at < start) {
             stray.pop_front();
         }
         let mut first = None;
-        while let Some(&(at, byte)) = stray.front() {
-            if at >= end {
+        while let Some(&s) = stray.front() {
+            if s.at >= end {
                 break;
             }
-            first.get_or_insert(byte);
+            first.get_or_insert(s);
             stray.pop_front();
         }
-        let byte = first?;
+        let Stray {
+            byte,
+            opened_line,
+            line: closed_line,
+            ..
+        } = first?;
         let shown = if byte.is_ascii_graphic() {
             format!("`{}`", byte as char)
         } else {
@@ -631,16 +677,20 @@ impl Table {
         };
         // A quote left open mid-file runs on to the next `"` in the file, which then reads as
         // its closing quote: the reader, looking at this line, sees no closing quote at all,
-        // so say where the cell ended and what most likely happened.
-        let inside = record.as_slice().bytes().filter(|&b| b == b'\n').count();
-        let spanned = if inside == 0 {
+        // so say where the cell ended and what most likely happened. Only that cell's own
+        // lines tell: another cell of the row may span lines as written.
+        let spanned = if closed_line <= opened_line {
             String::new()
         } else {
+            let opened = if opened_line == line {
+                "this line".to_string()
+            } else {
+                format!("line {opened_line}")
+            };
             format!(
-                " (a quoted cell opened on this line runs on to line {}, where the quote that \
-                 closes it stands: most likely a `\"` is missing on this line, or one should \
-                 have been doubled)",
-                line + inside
+                " (a quoted cell opened on {opened} runs on to line {closed_line}, where the \
+                 quote that closes it stands: most likely a `\"` is missing on {opened}, or one \
+                 should have been doubled)"
             )
         };
         Some(BadInput::at(
@@ -936,6 +986,24 @@ mod tests {
         );
         let (_, error) = until_error("a,b\n\"kp-a\"x,1\n");
         assert!(!error.unwrap().1.contains("runs on"));
+        // Only the cell the stray text follows counts: a line break in another cell of the
+        // row, after it or before it, is no quote left open.
+        for text in [
+            "a,b\n\"kp-a\"x,\"two\nlines\"\n",
+            "a,b\n\"two\nlines\",\"x\"y\n",
+        ] {
+            let (_, error) = until_error(text);
+            let message = error.unwrap().1;
+            assert!(!message.contains("runs on"), "{text:?}: {message}");
+        }
+        let (_, error) = until_error("a,b\n\"two\nlines\",\"x\n\"y\n");
+        let (line, message) = error.unwrap();
+        assert_eq!(line, Some(2));
+        assert!(
+            message.contains("a quoted cell opened on line 3 runs on to line 4")
+                && message.contains("a `\"` is missing on line 3"),
+            "{message}"
+        );
         // The rows after it are read: the error is the row's own, as a row of another width.
         let mut table = Table::from_reader(
             "t.csv",
