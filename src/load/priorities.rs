@@ -297,9 +297,11 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
             first.origin.clone(),
             "priorities",
             format!(
-                "all {} entries have weight 0: no share of priority weight can be computed \
-                 (shown as n/a)",
-                entries.len()
+                "{} weight 0: no share of priority weight can be computed (shown as n/a)",
+                match entries.len() {
+                    1 => "its only entry has".to_string(),
+                    n => format!("all {n} entries have"),
+                }
             ),
         );
     }
@@ -309,6 +311,26 @@ fn assemble(file: &str, raw: Vec<RawEntry>, ledger: &mut Ledger) -> Result<Prior
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// One entry of weight 0 reads in the singular, as a package whose only version is yanked
+    /// does: "all 1 entries" reads as a slip.
+    #[test]
+    fn all_weights_zero_counts_a_lone_entry_in_the_singular() {
+        let detail = |text: &str| {
+            let mut ledger = Ledger::default();
+            read_priorities_str("p.yaml", text, &mut ledger).unwrap();
+            ledger.problems[0].detail.clone()
+        };
+        assert_eq!(
+            detail("priorities:\n  - {name: wattle, weight: 0}\n"),
+            "its only entry has weight 0: no share of priority weight can be computed \
+             (shown as n/a)"
+        );
+        assert!(
+            detail("priorities:\n  - {name: wattle, weight: 0}\n  - {name: gumleaf, weight: 0}\n")
+                .starts_with("all 2 entries have weight 0:")
+        );
+    }
 
     /// README, "Priority list": with a `rank` column the list follows it, equal ranks keeping
     /// file order (so of a name given twice at one rank the earlier row is kept); the entries
