@@ -1217,11 +1217,12 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     );
     out.stderr.append(&mut notes.stderr);
     data_quality_note(&inputs, &mut out);
-    outside_matrix_note(
-        &review,
-        "any could have been a surprise, so the review exits 1; plan the matrix with those packages and images, or review without --matrix, which plans them",
-        &mut out,
-    );
+    let remedy = if review.outside_matrix.len() == 1 {
+        "it could have been a surprise, so the review exits 1; plan the matrix with its package and image, or review without --matrix, which plans it"
+    } else {
+        "any could have been a surprise, so the review exits 1; plan the matrix with those packages and images, or review without --matrix, which plans them"
+    };
+    outside_matrix_note(&review, remedy, &mut out);
     if undecided > 0 {
         out.stderr.push(format!(
             "note: {undecided} {} with recorded results {} undecided (the solver ran out of --budget), so {} not compared and the review exits 1; raise --budget",
