@@ -106,6 +106,15 @@ fn gcc_missing_forced_include() {
     assert_eq!(causes(&classify(&log)), [&header(ABSENT_HEADER)], "{log}");
 }
 
+/// The same without gcc installed, where the test above skips: the line as gcc printed it.
+#[test]
+fn gcc_missing_forced_include_as_printed() {
+    // source: GNU gcc 12.2.0 (Debian 12.2.0-14+deb12u1), `gcc -include absent_zz.h -c p.c`
+    let log = "<command-line>: fatal error: absent_zz.h: No such file or directory\n\
+               compilation terminated.\n";
+    assert_eq!(causes(&classify(log)), [&header("absent_zz.h")], "{log}");
+}
+
 #[test]
 fn gcc_missing_header_in_colour_with_crlf() {
     let dir = c_file_including(ABSENT_HEADER);

@@ -11,7 +11,7 @@
 //! with `LC_ALL=C`; a localised compiler message is simply not recognised.
 //!
 //! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
-//!   directory`, clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
+//!   directory` (`<command-line>: fatal error: ...` for one forced in with `-include`), clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
 //!   file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
 //! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
 //!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
