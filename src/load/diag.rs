@@ -785,17 +785,32 @@ impl Ledger {
     }
 
     pub fn merge(&mut self, other: Ledger) {
-        for (kind, t) in other.tallies {
+        // Taken apart whole, so a field added to either struct later cannot be dropped here
+        // without a compile error (one once was: `left_out_with_owner`).
+        let Ledger {
+            tallies,
+            problems,
+            deferred,
+            skipped,
+            unplaced,
+        } = other;
+        for (kind, t) in tallies {
+            let Tally {
+                read,
+                used,
+                left_out,
+                left_out_with_owner,
+            } = t;
             let mine = self.tallies.entry(kind).or_default();
-            mine.read += t.read;
-            mine.used += t.used;
-            mine.left_out += t.left_out;
-            mine.left_out_with_owner += t.left_out_with_owner;
+            mine.read += read;
+            mine.used += used;
+            mine.left_out += left_out;
+            mine.left_out_with_owner += left_out_with_owner;
         }
-        self.problems.extend(other.problems);
-        self.deferred.extend(other.deferred);
-        self.unplaced.extend(other.unplaced);
-        for (reference, kinds) in other.skipped {
+        self.problems.extend(problems);
+        self.deferred.extend(deferred);
+        self.unplaced.extend(unplaced);
+        for (reference, kinds) in skipped {
             self.skipped.entry(reference).or_default().extend(kinds);
         }
     }
