@@ -1201,3 +1201,79 @@ fn pkg_config_program_missing() {
     let log = format!("configure: error: {}", line.trim_start_matches('['));
     assert_eq!(causes(&classify(&log)), [&LogCause::NoPkgConfig], "{log}");
 }
+
+/// Launchers that exec their argument report a missing compiler, make or pkg-config in their
+/// own words, as does Python's `subprocess`: made for real with an empty `PATH`.
+#[test]
+fn launchers_and_python_without_the_program() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("empty-bin");
+    std::fs::create_dir(&empty).unwrap();
+    let empty = empty.to_str().unwrap();
+    let mut ran = 0;
+    for (launcher, args) in [
+        ("/usr/bin/env", &["cc"][..]),
+        ("/usr/bin/nice", &["cc"]),
+        ("/usr/bin/nohup", &["cc"]),
+        ("/usr/bin/timeout", &["5", "cc"]),
+    ] {
+        let Some(out) = run_with_path(launcher, args, dir.path(), Some(empty)) else {
+            skip("launchers_and_python_without_the_program", launcher);
+            continue;
+        };
+        ran += 1;
+        let log = stderr(&out);
+        // source: coreutils at this path on this machine, failing to exec cc (`/usr/bin/env:
+        // 'cc': No such file or directory`, `... failed to run command 'cc': ...`)
+        assert_eq!(
+            causes(&classify(&log)),
+            [&compiler("cc")],
+            "{launcher}: {log}"
+        );
+    }
+    let xargs = Command::new("/usr/bin/xargs")
+        .env("PATH", empty)
+        .env("LC_ALL", "C")
+        .stdin(std::process::Stdio::null())
+        .arg("make")
+        .output();
+    if let Ok(out) = xargs {
+        ran += 1;
+        let log = stderr(&out);
+        // source: findutils' xargs on this machine, `/usr/bin/xargs: make: No such file or
+        // directory`
+        assert_eq!(causes(&classify(&log)), [&LogCause::NoMake], "{log}");
+    }
+    for (program, cause) in [
+        ("gcc", compiler("gcc")),
+        ("make", LogCause::NoMake),
+        ("pkg-config", LogCause::NoPkgConfig),
+    ] {
+        let script = format!("import subprocess; subprocess.run(['{program}', '--version'])");
+        let Some(out) = run_with_path(
+            "/usr/bin/python3",
+            &["-c", &script],
+            dir.path(),
+            Some(empty),
+        ) else {
+            skip("launchers_and_python_without_the_program", "no python3");
+            break;
+        };
+        ran += 1;
+        let log = stderr(&out);
+        // source: Python 3 on this machine, `FileNotFoundError: [Errno 2] No such file or
+        // directory: 'gcc'` at the end of its traceback
+        assert_eq!(causes(&classify(&log)), [&cause], "{log}");
+    }
+    if ran == 0 {
+        skip("launchers_and_python_without_the_program", "nothing to run");
+    }
+    // A launcher that found the program, and Python missing a data file, are no findings.
+    assert_eq!(
+        causes(&classify(
+            "FileNotFoundError: [Errno 2] No such file or directory: 'setup.cfg'\n\
+             /usr/bin/env: 'python9': No such file or directory\n"
+        )),
+        Vec::<&LogCause>::new()
+    );
+}

@@ -31,7 +31,10 @@
 //!   not found``), autoconf (`C compiler cannot create executables`, `no acceptable C compiler
 //!   found`) and CMake (`No CMAKE_C_COMPILER could be found`, `CMake was unable to find a build
 //!   program corresponding to "Unix Makefiles"`). Compiler names may carry a directory, a target
-//!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`).
+//!   prefix and a version suffix (`/usr/bin/x86_64-linux-gnu-gcc-12`). Launchers that exec
+//!   the program say so in their words (`/usr/bin/env: 'cc': No such file or directory`,
+//!   `timeout: failed to run command 'cc': ...`; `env`, `nice`, `nohup`, `timeout`, `xargs`),
+//!   and Python's `subprocess` as `FileNotFoundError: [Errno 2] No such file or directory: 'gcc'`.
 //! - [`LogCause::NoPkgConfig`]: the `pkg-config` program itself is missing (not a module): the
 //!   shell's `pkg-config: not found` as above (`pkgconf` and target-prefixed names too), Go's
 //!   `exec: "pkg-config": executable file not found`, autoconf's `The pkg-config script could
@@ -820,6 +823,22 @@ fn missing_program(t: &str) -> Option<&str> {
     {
         return quoted_or_word(program);
     }
+    // Launchers that exec their argument and report its absence themselves (coreutils and
+    // findutils on this project's machine): `/usr/bin/env: 'cc': No such file or directory`,
+    // `nice: 'cc': ...`, `timeout: failed to run command 'cc': ...`, `nohup: failed to run
+    // command 'cc': ...`, `xargs: cc: ...`.
+    if let Some(program) = launcher_missing(t) {
+        return quoted_or_word(program);
+    }
+    // Python's subprocess, whose execvp failed: `FileNotFoundError: [Errno 2] No such file or
+    // directory: 'gcc'` (Python 3.11 on this project's machine). Only the program kinds the
+    // caller keeps count, so a data file of another name is no finding.
+    if let Some(p) = t.find("[Errno 2] No such file or directory: '")
+        && let Some(program) =
+            t[p + "[Errno 2] No such file or directory: '".len()..].strip_suffix('\'')
+    {
+        return quoted_or_word(program);
+    }
     // zsh.
     if let Some(p) = t.find("command not found: ") {
         return quoted_or_word(&t[p + "command not found: ".len()..]);
@@ -854,6 +873,19 @@ fn missing_program(t: &str) -> Option<&str> {
         }
     }
     None
+}
+
+/// The program a launcher (`env`, `nice`, `nohup`, `timeout`, `xargs`) could not exec, from
+/// its own message: `LAUNCHER: PROGRAM: No such file or directory` or `LAUNCHER: failed to
+/// run command PROGRAM: No such file or directory`, the launcher possibly with a directory.
+fn launcher_missing(t: &str) -> Option<&str> {
+    let rest = t.strip_suffix(": No such file or directory")?;
+    let (tool, rest) = rest.split_once(": ")?;
+    let tool = tool.rsplit('/').next().unwrap_or(tool);
+    if !matches!(tool, "env" | "nice" | "nohup" | "timeout" | "xargs") {
+        return None;
+    }
+    Some(rest.strip_prefix("failed to run command ").unwrap_or(rest))
 }
 
 /// A single program name: one word, quotes removed. Anything with spaces is prose such as
