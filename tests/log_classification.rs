@@ -1202,6 +1202,34 @@ fn pkg_config_program_missing() {
     assert_eq!(causes(&classify(&log)), [&LogCause::NoPkgConfig], "{log}");
 }
 
+/// gcc with `-Werror` turns a `#warning` into an error at a source location; the words it
+/// quotes are the source's, not the linker's, pkg-config's or the loader's.
+#[test]
+fn a_werror_warning_quoting_other_tools_is_a_build_error() {
+    let dir = source_file(
+        "w.c",
+        "#warning \"ld: cannot find -lzz\"\n\
+         #warning \"Package zz was not found in the pkg-config search path.\"\n\
+         #warning \"libzz.so.1: cannot open shared object file: No such file or directory\"\n\
+         int main(void) { return 0; }\n",
+    );
+    let Some(out) = run("gcc", &["-Werror", "-c", "w.c"], dir.path()) else {
+        return skip(
+            "a_werror_warning_quoting_other_tools_is_a_build_error",
+            "gcc is not installed",
+        );
+    };
+    assert!(!out.status.success());
+    let log = stderr(&out);
+    // source: gcc on this machine, `w.c:1:2: error: #warning "ld: cannot find -lzz"
+    // [-Werror=cpp]` and the like
+    assert!(
+        log.contains("error: #warning \"ld: cannot find -lzz\""),
+        "{log}"
+    );
+    assert_eq!(causes(&classify(&log)), [&LogCause::BuildError], "{log}");
+}
+
 /// Launchers that exec their argument report a missing compiler, make or pkg-config in their
 /// own words, as does Python's `subprocess`: made for real with an empty `PATH`.
 #[test]
@@ -1276,4 +1304,18 @@ fn launchers_and_python_without_the_program() {
         )),
         Vec::<&LogCause>::new()
     );
+}
+
+/// autoconf's `config.log`, often printed when configure fails, records configure's own errors
+/// at the script's line: they are configure's words, read as such, and no compiler error.
+// source: from memory, autoconf's AC_MSG_ERROR writes `configure:LINENO: error: MESSAGE` to
+// config.log; the messages are those of the README's autoconf rows.
+#[test]
+fn configure_errors_in_config_log_are_configures_words() {
+    let log = "configure:4321: error: C compiler cannot create executables\n";
+    assert_eq!(causes(&classify(log)), [&compiler("cc")]);
+    let log = "configure:5012: error: The pkg-config script could not be found or is too old.\n";
+    assert_eq!(causes(&classify(log)), [&LogCause::NoPkgConfig]);
+    let log = "configure:6100: error: cannot find required auxiliary files: install-sh\n";
+    assert_eq!(causes(&classify(log)), Vec::<&LogCause>::new());
 }

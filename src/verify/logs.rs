@@ -46,8 +46,10 @@
 //!   `FILE:LINE[:COL]: error: MESSAGE` or `FILE:LINE[:COL]: fatal error: MESSAGE` (gcc `x.c:3:12:
 //!   error: 'y' undeclared (first use in this function)`). The missing-header messages above are
 //!   such lines too and stay missing headers. Such a line is the compiler's verdict on the
-//!   source, so the identifiers it quotes are not read as other causes (`'ECONNREFUSED'
-//!   undeclared` is no network failure). Errors in autoconf's probe files (`conftest.c` and the
+//!   source, so the identifiers and text it quotes are not read as other causes (`'ECONNREFUSED'
+//!   undeclared` is no network failure, a `#warning "ld: cannot find -lzz"` made an error by
+//!   `-Werror` no missing library). `configure:LINE: error:` lines, which `config.log` holds,
+//!   are configure's own words and no compiler error. Errors in autoconf's probe files (`conftest.c` and the
 //!   like) are not findings: configure compiles them expecting many to fail. The linker's
 //!   `undefined reference` lines and `collect2: error: ld returned 1 exit status` carry no
 //!   source location and are not recognised.
@@ -487,7 +489,13 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
     if compiler_remark(text, &["warning: ", "note: "]) {
         return None;
     }
-    if let Some(soname) = missing_shared_object(text) {
+    // A compiler error at a source location is the compiler's verdict on the source, so the
+    // words it quotes are not the loader's, the linker's, pkg-config's or a shell's: gcc
+    // -Werror turns `#warning "ld: cannot find -lzz"` into `w.c:1:2: error: #warning "ld:
+    // cannot find -lzz" [-Werror=cpp]` (gcc 12 on this project's machine). Only a missing
+    // header, itself such a line, is read from it.
+    let verdict = compiler_error(text);
+    if !verdict && let Some(soname) = missing_shared_object(text) {
         return Some(LogCause::MissingSharedObject {
             soname: soname.to_owned(),
         });
@@ -501,38 +509,40 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
             header: header.to_owned(),
         });
     }
-    if let Some(link) = missing_library(text) {
-        return Some(LogCause::MissingLibrary {
-            link: link.to_owned(),
-        });
-    }
-    if let Some(module) = missing_pkg_config(text) {
-        return Some(LogCause::MissingPkgConfig {
-            module: module.to_owned(),
-        });
-    }
-    if let Some(program) = missing_program(text) {
-        match program_kind(program) {
-            Some(Program::Compiler) => {
-                return Some(LogCause::NoCompiler {
-                    tool: program.to_owned(),
-                });
-            }
-            Some(Program::Make) => return Some(LogCause::NoMake),
-            Some(Program::PkgConfig) => return Some(LogCause::NoPkgConfig),
-            None => {}
+    if !verdict {
+        if let Some(link) = missing_library(text) {
+            return Some(LogCause::MissingLibrary {
+                link: link.to_owned(),
+            });
         }
-    }
-    if let Some(tool) = compiler_phrase(lower) {
-        return Some(LogCause::NoCompiler {
-            tool: tool.to_owned(),
-        });
-    }
-    if MAKE_PHRASES.iter().any(|p| lower.contains(p)) {
-        return Some(LogCause::NoMake);
-    }
-    if PKG_CONFIG_PHRASES.iter().any(|p| lower.contains(p)) {
-        return Some(LogCause::NoPkgConfig);
+        if let Some(module) = missing_pkg_config(text) {
+            return Some(LogCause::MissingPkgConfig {
+                module: module.to_owned(),
+            });
+        }
+        if let Some(program) = missing_program(text) {
+            match program_kind(program) {
+                Some(Program::Compiler) => {
+                    return Some(LogCause::NoCompiler {
+                        tool: program.to_owned(),
+                    });
+                }
+                Some(Program::Make) => return Some(LogCause::NoMake),
+                Some(Program::PkgConfig) => return Some(LogCause::NoPkgConfig),
+                None => {}
+            }
+        }
+        if let Some(tool) = compiler_phrase(lower) {
+            return Some(LogCause::NoCompiler {
+                tool: tool.to_owned(),
+            });
+        }
+        if MAKE_PHRASES.iter().any(|p| lower.contains(p)) {
+            return Some(LogCause::NoMake);
+        }
+        if PKG_CONFIG_PHRASES.iter().any(|p| lower.contains(p)) {
+            return Some(LogCause::NoPkgConfig);
+        }
     }
     if let Some((required, found)) = runtime_refused(text, lower) {
         return Some(LogCause::RuntimeRefused {
@@ -541,7 +551,7 @@ fn match_segment(text: &str, lower: &str) -> Option<LogCause> {
         });
     }
     // Before memory, kills and the network: words quoted from the source are not theirs.
-    if compiler_error(text) {
+    if verdict {
         return Some(LogCause::BuildError);
     }
     if OOM_PHRASES.iter().any(|p| lower.contains(p)) {
@@ -646,8 +656,17 @@ fn compiler_error(t: &str) -> bool {
         let before = &t[..p];
         let before = before.strip_suffix("fatal ").unwrap_or(before);
         !t[p + m.len()..].trim().is_empty()
-            && location_file(before).is_some_and(|file| !is_configure_probe(file))
+            && location_file(before)
+                .is_some_and(|file| !is_configure_probe(file) && !is_configure_script(file))
     })
+}
+
+/// Whether `file` is autoconf's `configure` script, whose errors `config.log` records at the
+/// script's line (`configure:4321: error: C compiler cannot create executables`; from memory,
+/// autoconf's `AC_MSG_ERROR` writes `$as_me:$LINENO: error: MESSAGE` there): configure's own
+/// verdict, not the compiler's, so its words are read as any other line's.
+fn is_configure_script(file: &str) -> bool {
+    file.rsplit(['/', '\\']).next() == Some("configure")
 }
 
 /// Whether `file` is one of autoconf's probe sources. Common practice, no source: from memory,
