@@ -1319,3 +1319,48 @@ fn configure_errors_in_config_log_are_configures_words() {
     let log = "configure:6100: error: cannot find required auxiliary files: install-sh\n";
     assert_eq!(causes(&classify(log)), Vec::<&LogCause>::new());
 }
+
+/// gcc's source quote under a warning, behind the prefix a builder puts before every line:
+/// the quoted code's words (`ECONNREFUSED`, `timed_out`) are no network failure, which would
+/// make a failed install read as flaky and leave it out of the counts.
+#[test]
+fn source_quotes_behind_builder_prefixes_are_no_findings() {
+    let dir = source_file(
+        "nw.c",
+        "#include <errno.h>\n#undef ECONNREFUSED\n#define ECONNREFUSED 1\n\
+         int main(void) { int connection_refused; return ECONNREFUSED; }\n",
+    );
+    let Some(out) = run("gcc", &["-Wall", "-c", "nw.c"], dir.path()) else {
+        return skip(
+            "source_quotes_behind_builder_prefixes_are_no_findings",
+            "gcc is not installed",
+        );
+    };
+    let log = stderr(&out);
+    // source: gcc on this machine, `nw.c:4:...: warning: unused variable
+    // 'connection_refused'`, then `    4 | int main(void) { int connection_refused; ...` and
+    // the caret line
+    assert!(log.contains("    4 | int main"), "{log}");
+    // Prefixes: docker buildkit's step and time, git's `remote: `, a bracketed job name and
+    // CI time stamps (common practice, no source).
+    for prefix in ["#8 1.234 ", "remote: ", "[build] ", "[12:00:01] ", "  "] {
+        let wrapped: String = log.lines().map(|l| format!("{prefix}{l}\n")).collect();
+        assert_eq!(
+            causes(&classify(&wrapped)),
+            Vec::<&LogCause>::new(),
+            "{wrapped}"
+        );
+    }
+    // A builder's own `| ` separator still lets the error behind it through.
+    let dir = c_file_including(ABSENT_HEADER);
+    let out = run("gcc", &["-c", "probe.c"], dir.path()).unwrap();
+    let wrapped: String = stderr(&out)
+        .lines()
+        .map(|l| format!("[build] | {l}\n"))
+        .collect();
+    assert_eq!(
+        causes(&classify(&wrapped)),
+        [&header(ABSENT_HEADER)],
+        "{wrapped}"
+    );
+}

@@ -285,7 +285,29 @@ fn quotes_source(text: &str) -> bool {
     let text = without_timestamp(text);
     let digits = text.bytes().take_while(u8::is_ascii_digit).count();
     let rest = text[digits..].trim_start_matches(' ');
-    rest.starts_with('|') && (digits > 0 || text.starts_with('|'))
+    (rest.starts_with('|') && (digits > 0 || text.starts_with('|'))) || prefixed_quote(text)
+}
+
+/// Whether `text` holds gcc's source quote behind a prefix a builder put before every line
+/// (docker's `#8 1.234 `, git's `remote: `): gcc writes the line number right-aligned in five
+/// columns, then ` | ` (`    4 | return ECONNREFUSED;`), and the caret line with blanks in
+/// place of the number (`      |      ^~~`; gcc 12 on this project's machine). A builder's own
+/// `] | ` separator has neither the number nor the blanks.
+fn prefixed_quote(text: &str) -> bool {
+    text.match_indices("| ").any(|(p, _)| {
+        let before = &text[..p];
+        let Some(head) = before.strip_suffix(' ') else {
+            return false;
+        };
+        let number = head.trim_end_matches(|c: char| c.is_ascii_digit());
+        let digits = head.len() - number.len();
+        if digits == 0 {
+            // The caret line: five columns of blanks, then the one before `|`.
+            return before.len() - before.trim_end_matches(' ').len() >= 6;
+        }
+        let blanks = number.len() - number.trim_end_matches(' ').len();
+        blanks >= 1 && blanks + digits >= 5
+    })
 }
 
 /// `text` without a leading time stamp, as CI systems put before every log line
