@@ -1364,3 +1364,17 @@ fn source_quotes_behind_builder_prefixes_are_no_findings() {
         "{wrapped}"
     );
 }
+
+/// GNU make reporting a recipe killed by SIGKILL (the kernel's OOM killer sends that signal),
+/// made for real: the recipe's shell kills itself.
+#[test]
+fn make_reports_a_killed_recipe() {
+    let dir = source_file("Makefile", "all:\n\tsh -c 'kill -9 $$$$'\n");
+    let Some(out) = run("make", &[], dir.path()) else {
+        return skip("make_reports_a_killed_recipe", "make is not installed");
+    };
+    let log = stderr(&out);
+    // source: GNU make on this machine, `make: *** [Makefile:2: all] Killed`
+    assert!(log.contains("] Killed"), "{log}");
+    assert_eq!(causes(&classify(&log)), [&LogCause::Killed], "{log}");
+}

@@ -55,8 +55,8 @@
 //!   source location and are not recognised.
 //! - [`LogCause::OutOfMemory`]: `out of memory` (including `cc1: out of memory allocating`),
 //!   `Cannot allocate memory`, `virtual memory exhausted`, `std::bad_alloc`, OOM-killer notes.
-//! - [`LogCause::Killed`]: the shell's `Killed` job report, gcc's `Killed signal terminated
-//!   program`, `SIGKILL`, `signal 9`, `signal: killed`, and exit code or status 137.
+//! - [`LogCause::Killed`]: the shell's `Killed` job report, make's `make: *** [Makefile:2: all]
+//!   Killed`, gcc's `Killed signal terminated program`, `SIGKILL`, `signal 9`, `signal: killed`, and exit code or status 137.
 //! - [`LogCause::Network`]: refused, reset, aborted or timed-out connections, DNS failures
 //!   (`Could not resolve host`, `Temporary failure in name resolution`, `EAI_AGAIN`), TLS
 //!   handshake timeouts, unreachable networks and gateway errors (502, 503, 504).
@@ -1108,6 +1108,15 @@ fn killed(text: &str, lower: &str) -> bool {
             .match_indices("signal 9")
             .any(|(i, m)| !next_is_digit(lower, i + m.len()))
         || exit_137(lower)
+        || make_killed(text)
+}
+
+/// GNU make's report of a recipe killed by SIGKILL, `make: *** [Makefile:2: all] Killed`
+/// (make 4.3 on this project's machine; `make[2]: ***` in a sub-make): the signal's name
+/// follows the target's brackets.
+fn make_killed(text: &str) -> bool {
+    text.strip_suffix("] Killed")
+        .is_some_and(|head| head.contains(": *** ["))
 }
 
 /// The shell's job report: `bash: line 1:  4242 Killed   cc ...`, or `Killed` opening a line.
