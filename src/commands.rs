@@ -341,6 +341,28 @@ fn read_matrix_for_results(
     Ok(matrix)
 }
 
+/// Refuses `--no-native` beside a matrix planned with system libraries checked: its cells keep
+/// the verdicts of that check, so the flag would be silently ignored and the reader would take
+/// the rendering or review for a version-solving-only one.
+fn refuse_no_native_on_checked_matrix(
+    options: &PlanOptions,
+    matrix: &Matrix,
+    path: &std::path::Path,
+) -> Result<(), BadInput> {
+    if options.native || matrix.native_skipped {
+        return Ok(());
+    }
+    Err(BadInput::file(
+        "command line",
+        format!(
+            "--no-native does not apply to --matrix {}: it was planned with system libraries \
+             checked, and its cells keep those verdicts; plan it again with --no-native, or \
+             leave the flag out",
+            path.display()
+        ),
+    ))
+}
+
 /// Refuses a registry other than the snapshot a matrix read from a file was planned from
 /// (when the matrix records it): recorded versions would be looked up, and surprise installs
 /// solved, in releases the predictions never saw, so advice would point at the wrong thing.
@@ -1145,7 +1167,11 @@ pub fn review(o: &ReviewCommand) -> Result<Output> {
     }
     let mut notes = Output::default();
     let matrix = match &o.matrix {
-        Some(p) => read_matrix_for_results(p, &inputs, &o.inputs, "review", &mut notes)?,
+        Some(p) => {
+            let matrix = read_matrix_for_results(p, &inputs, &o.inputs, "review", &mut notes)?;
+            refuse_no_native_on_checked_matrix(&o.plan, &matrix, p)?;
+            matrix
+        }
         None => {
             // Results are read against the images only when images are given, so without
             // them every result would end up outside an empty matrix.
@@ -1568,10 +1594,15 @@ pub fn render(o: &RenderCommand) -> Result<Output> {
     let inputs = load(&o.inputs, o.strict)?;
     let mut out = Output::default();
     let mut matrix = match &o.matrix {
-        Some(p) if !o.inputs.results.is_empty() => {
-            read_matrix_for_results(p, &inputs, &o.inputs, "render", &mut out)?
+        Some(p) => {
+            let matrix = if o.inputs.results.is_empty() {
+                read_matrix(p)?
+            } else {
+                read_matrix_for_results(p, &inputs, &o.inputs, "render", &mut out)?
+            };
+            refuse_no_native_on_checked_matrix(&o.plan, &matrix, p)?;
+            matrix
         }
-        Some(p) => read_matrix(p)?,
         None => {
             require_matrix_inputs(&inputs, &o.inputs, Planner::plans_without_matrix("render"))?;
             let mut matrix = plan::plan(&inputs, &o.plan);

@@ -1685,3 +1685,50 @@ fn a_fingerprint_from_before_platform_names_were_read_as_one_is_noted_not_refuse
         "{stderr}"
     );
 }
+
+/// `--no-native` beside a `--matrix` planned with system libraries checked was accepted and
+/// ignored: the rendering and the review kept the native verdicts while the command line said
+/// they were left out. It is refused (exit 2) for `review` and for `render` with or without
+/// results; a matrix planned with `--no-native` still takes the flag.
+#[test]
+fn no_native_is_refused_beside_a_matrix_planned_with_native_checks() {
+    let dir = tempfile::tempdir().unwrap();
+    let checked = plan_into(&dir.path().join("checked"), None);
+    let want = format!("--no-native does not apply to --matrix {checked}");
+    let mut review = vec![
+        "review",
+        "--matrix",
+        &checked,
+        "--results",
+        "demo-data/results.yaml",
+    ];
+    review.extend(DEMO);
+    review.push("--no-native");
+    assert_refused(&review, &want);
+    for results in [true, false] {
+        let mut render = vec!["render", "--format", "csv", "--matrix", &checked];
+        render.extend(DEMO);
+        if results {
+            render.extend(["--results", "demo-data/results.yaml"]);
+        }
+        render.push("--no-native");
+        assert_refused(&render, &want);
+    }
+    let skipped = dir.path().join("skipped");
+    let out = skipped.to_str().unwrap();
+    let (code, _, stderr) = run_on_demo("plan", &["--out", out, "--no-native"]);
+    assert_eq!(code, 0, "{stderr}");
+    let matrix = format!("{out}/matrix.json");
+    let mut render = vec![
+        "render",
+        "--format",
+        "csv",
+        "--matrix",
+        &matrix,
+        "--no-native",
+    ];
+    render.extend(DEMO);
+    let (code, stdout, stderr) = run_basefit(&render);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(!stdout.is_empty());
+}
