@@ -1378,3 +1378,60 @@ fn make_reports_a_killed_recipe() {
     assert!(log.contains("] Killed"), "{log}");
     assert_eq!(causes(&classify(&log)), [&LogCause::Killed], "{log}");
 }
+
+/// docker compose pads a short service name with blanks up to its `| ` so that the columns of
+/// all services align (`db-1            | ...`; common practice, no source): the line behind
+/// such padding is the service's own, not a gcc caret line, and a missing header or library
+/// there was read as no finding at all. gcc's caret and fix-it lines behind a builder's
+/// prefix, which start with blanks after their `| `, stay quotes.
+#[test]
+fn errors_behind_compose_padding_are_read() {
+    let dir = c_file_including(ABSENT_HEADER);
+    let Some(out) = run("gcc", &["-c", "probe.c"], dir.path()) else {
+        return skip(
+            "errors_behind_compose_padding_are_read",
+            "gcc is not installed",
+        );
+    };
+    let compose = |log: &str| -> String {
+        log.lines()
+            .map(|l| format!("db-1              | {l}\n"))
+            .collect()
+    };
+    let wrapped = compose(&stderr(&out));
+    assert_eq!(
+        causes(&classify(&wrapped)),
+        [&header(ABSENT_HEADER)],
+        "{wrapped}"
+    );
+    let dir = c_file_including("stddef.h");
+    let args = ["probe.c", "-lbasefit_absent_lib", "-o", "probe"];
+    let out = run("gcc", &args, dir.path()).unwrap();
+    let wrapped = compose(&stderr(&out));
+    // source: GNU ld via gcc on this machine, `/usr/bin/ld: cannot find -lbasefit_absent_lib:
+    // No such file or directory`
+    assert_eq!(
+        causes(&classify(&wrapped)),
+        [&library("basefit_absent_lib")],
+        "{wrapped}"
+    );
+    // gcc's fix-it line under the caret spells the identifier it suggests.
+    let dir = source_file(
+        "fx.c",
+        "#include <errno.h>\nint main(void) { return ECONREFUSED; }\n",
+    );
+    let out = run("gcc", &["-c", "fx.c"], dir.path()).unwrap();
+    let log = stderr(&out);
+    // source: gcc on this machine, `did you mean 'ECONNREFUSED'?`, then the quote, the caret
+    // line and `      |                         ECONNREFUSED`
+    assert!(
+        log.contains("|                         ECONNREFUSED"),
+        "{log}"
+    );
+    let wrapped: String = log.lines().map(|l| format!("#8 1.234 {l}\n")).collect();
+    assert_eq!(
+        causes(&classify(&wrapped)),
+        [&LogCause::BuildError],
+        "{wrapped}"
+    );
+}

@@ -302,8 +302,13 @@ fn prefixed_quote(text: &str) -> bool {
         let number = head.trim_end_matches(|c: char| c.is_ascii_digit());
         let digits = head.len() - number.len();
         if digits == 0 {
-            // The caret line: five columns of blanks, then the one before `|`.
-            return before.len() - before.trim_end_matches(' ').len() >= 6;
+            // The caret line: five columns of blanks, then the one before `|`. What gcc puts
+            // after it starts in the source's column, so with a blank unless that is the
+            // first; docker compose pads a short service name with blanks as wide before
+            // its own `| ` (`db-1        | x.c:1:10: fatal error: ...`), then the line as is.
+            let after = &text[p + "| ".len()..];
+            return before.len() - before.trim_end_matches(' ').len() >= 6
+                && (after.is_empty() || after.starts_with([' ', '^', '~', '|', '+']));
         }
         let blanks = number.len() - number.trim_end_matches(' ').len();
         blanks >= 1 && blanks + digits >= 5
