@@ -1435,3 +1435,51 @@ fn errors_behind_compose_padding_are_read() {
         "{wrapped}"
     );
 }
+
+/// Launchers in a UTF-8 locale (C.UTF-8, which many images set) quote the program with
+/// typographic quotes, and behind a builder's prefix the launcher is not the line's first
+/// word: both were read as no finding. Made for real with an empty `PATH`.
+#[test]
+fn launchers_in_utf8_and_behind_prefixes() {
+    let dir = tempfile::tempdir().unwrap();
+    let empty = dir.path().join("empty-bin");
+    std::fs::create_dir(&empty).unwrap();
+    for (launcher, args) in [
+        ("/usr/bin/env", &["cc"][..]),
+        ("/usr/bin/timeout", &["5", "cc"]),
+    ] {
+        let Ok(out) = Command::new(launcher)
+            .args(args)
+            .env("PATH", &empty)
+            .env("LC_ALL", "C.UTF-8")
+            .env_remove("LANGUAGE")
+            .output()
+        else {
+            skip("launchers_in_utf8_and_behind_prefixes", launcher);
+            continue;
+        };
+        let log = stderr(&out);
+        if !log.contains('\u{2018}') {
+            skip("launchers_in_utf8_and_behind_prefixes", "no C.UTF-8 locale");
+            continue;
+        }
+        // source: coreutils on this machine in C.UTF-8, `/usr/bin/env: ‘cc’: No such file or
+        // directory`, `/usr/bin/timeout: failed to run command ‘cc’: ...`
+        assert_eq!(causes(&classify(&log)), [&compiler("cc")], "{log}");
+    }
+    // Run as plain `env`, as a shell finds it on PATH: `env: 'cc': No such file or directory`.
+    let Ok(out) = Command::new("bash")
+        .args(["-c", "exec -a env /usr/bin/env PATH=/nonexistent cc"])
+        .env("LC_ALL", "C")
+        .output()
+    else {
+        return skip("launchers_in_utf8_and_behind_prefixes", "no bash");
+    };
+    let log = stderr(&out);
+    // source: coreutils' env on this machine, run under the name `env`
+    assert!(log.starts_with("env: 'cc': "), "{log}");
+    for prefix in ["#8 1.234 ", "remote: ", "[build] "] {
+        let wrapped: String = log.lines().map(|l| format!("{prefix}{l}\n")).collect();
+        assert_eq!(causes(&classify(&wrapped)), [&compiler("cc")], "{wrapped}");
+    }
+}

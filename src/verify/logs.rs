@@ -926,8 +926,9 @@ fn missing_program(t: &str) -> Option<&str> {
 /// run command PROGRAM: No such file or directory`, the launcher possibly with a directory.
 fn launcher_missing(t: &str) -> Option<&str> {
     let rest = t.strip_suffix(": No such file or directory")?;
-    let (tool, rest) = rest.split_once(": ")?;
-    let tool = tool.rsplit('/').next().unwrap_or(tool);
+    // From the right: a builder's prefix (`#8 1.234 `, `remote: `) may come before the launcher.
+    let (tool, rest) = rest.rsplit_once(": ")?;
+    let tool = tool.rsplit([' ', '/']).next().unwrap_or(tool);
     if !matches!(tool, "env" | "nice" | "nohup" | "timeout" | "xargs") {
         return None;
     }
@@ -937,7 +938,11 @@ fn launcher_missing(t: &str) -> Option<&str> {
 /// A single program name: one word, quotes removed. Anything with spaces is prose such as
 /// `checking for clang: not found`, not a program the shell tried.
 fn quoted_or_word(s: &str) -> Option<&str> {
-    let s = s.trim().trim_matches(['\'', '"', '`']);
+    // Typographic quotes too: coreutils quotes so in a UTF-8 locale, C.UTF-8 included
+    // (`/usr/bin/env: ‘cc’: No such file or directory`, coreutils on this project's machine).
+    let s = s
+        .trim()
+        .trim_matches(['\'', '"', '`', '\u{2018}', '\u{2019}']);
     let ok = !s.is_empty() && s.len() <= 200 && !s.contains(char::is_whitespace);
     ok.then_some(s)
 }
