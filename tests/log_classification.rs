@@ -422,6 +422,12 @@ fn make_without_the_recipes_compiler() {
     let log = stderr(&out);
     // source: GNU make on this machine, failing to find g++
     assert_eq!(causes(&classify(&log)), [&compiler("g++")], "{log}");
+    // Behind a builder's prefix (docker buildkit's step and time, git's `remote: `), make is
+    // not the line's first word; it was read as no finding.
+    for prefix in ["#8 1.234 ", "remote: ", "[build] "] {
+        let wrapped: String = log.lines().map(|l| format!("{prefix}{l}\n")).collect();
+        assert_eq!(causes(&classify(&wrapped)), [&compiler("g++")], "{wrapped}");
+    }
 }
 
 #[test]

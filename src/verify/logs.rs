@@ -861,11 +861,13 @@ fn missing_program(t: &str) -> Option<&str> {
     // GNU make running a recipe without a shell: `make: g++: No such file or directory`
     // (make 4.3, made for real on this project's machine), `make[2]: g++: Command not found`
     // (older makes, from memory).
-    if let Some((tool, rest)) = t.split_once(": ")
+    // From the right, as for launchers below: a builder's prefix may come before `make`.
+    if let Some(rest) = t
+        .strip_suffix(": No such file or directory")
+        .or_else(|| t.strip_suffix(": Command not found"))
+        && let Some((tool, program)) = rest.rsplit_once(": ")
+        && let Some(tool) = tool.rsplit(' ').next()
         && matches!(tool.split('[').next().unwrap_or(tool), "make" | "gmake")
-        && let Some(program) = rest
-            .strip_suffix(": No such file or directory")
-            .or_else(|| rest.strip_suffix(": Command not found"))
     {
         return quoted_or_word(program);
     }
