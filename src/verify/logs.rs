@@ -308,7 +308,7 @@ fn prefixed_quote(text: &str) -> bool {
             // its own `| ` (`db-1        | x.c:1:10: fatal error: ...`), then the line as is.
             let after = &text[p + "| ".len()..];
             return before.len() - before.trim_end_matches(' ').len() >= 6
-                && (after.is_empty() || after.starts_with([' ', '^', '~', '|', '+']));
+                && after.starts_with([' ', '^', '~', '|', '+']);
         }
         let blanks = number.len() - number.trim_end_matches(' ').len();
         blanks >= 1 && blanks + digits >= 5
