@@ -881,9 +881,12 @@ fn missing_program(t: &str) -> Option<&str> {
     // Python's subprocess, whose execvp failed: `FileNotFoundError: [Errno 2] No such file or
     // directory: 'gcc'` (Python 3.11 on this project's machine). Only the program kinds the
     // caller keeps count, so a data file of another name is no finding.
+    // A relative path with a directory (`src/cpp`) is a file the script opened, not a
+    // program looked up on PATH, whatever its last part is called.
     if let Some(p) = t.find("[Errno 2] No such file or directory: '")
         && let Some(program) =
             t[p + "[Errno 2] No such file or directory: '".len()..].strip_suffix('\'')
+        && (program.starts_with('/') || !program.contains('/'))
     {
         return quoted_or_word(program);
     }
