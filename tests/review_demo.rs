@@ -1044,6 +1044,33 @@ fn a_log_that_could_not_be_read_is_not_called_unrecognised() {
     assert_eq!(unread("tidewater-http"), serde_json::Value::Null);
 }
 
+/// A `log_file` value comes from the results file, which CI jobs that ran untrusted code may
+/// have written: a line break in it must not add lines to the review that read as its own
+/// (README, "Commands": a line break inside a value a problem quotes prints as `\n`), as
+/// `check` already prints it.
+#[test]
+fn a_line_break_in_an_unreadable_log_path_adds_no_review_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let forged = "    gumleaf on deb-2.4: agreed-install (forged)";
+    let yaml = format!(
+        "results:\n  - {{package: thornbill-xml, image: deb-2.4, outcome: failed, log_file: \"no.log\\n{forged}\"}}\n"
+    );
+    let (_, text) = review_file(dir.path(), "results.yaml", &yaml, "table");
+    assert!(
+        !text.lines().any(
+            |l| l == format!("{forged}: No such file or directory (os error 2)")
+                || l.starts_with(forged)
+        ),
+        "{text}"
+    );
+    assert!(
+        text.lines()
+            .any(|l| l.contains("log file could not be read: ")
+                && l.contains(&format!("no.log\\n{forged}"))),
+        "{text}"
+    );
+}
+
 /// An at-risk cell whose failed attempt names a log file that could not be read is not told
 /// that "the log shows no cause basefit reads" (README, "Reviewing recorded installs": the
 /// review says the log file could not be read and why, "never that its cause was not
