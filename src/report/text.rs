@@ -9,10 +9,12 @@ use crate::plan::explain::{
 use crate::plan::matrix::{NATIVE_SKIPPED_NOTICE, NOTICE, Summary};
 use serde::Serialize;
 use std::fmt::Write;
+use unicode_width::UnicodeWidthStr;
 
 /// Lays out rows as aligned columns; the first row is the header.
 pub fn table(rows: &[Vec<String>]) -> String {
-    // Escaped before measuring, so a row with an escaped name still lines up.
+    // Escaped before measuring, so a row with an escaped name still lines up; measured in
+    // terminal columns, not characters, since names may hold wide or combining characters.
     let rows: Vec<Vec<std::borrow::Cow<'_, str>>> = rows
         .iter()
         .map(|r| r.iter().map(|c| super::visible(c)).collect())
@@ -21,7 +23,7 @@ pub fn table(rows: &[Vec<String>]) -> String {
     let mut widths = vec![0usize; cols];
     for r in &rows {
         for (i, c) in r.iter().enumerate() {
-            widths[i] = widths[i].max(c.chars().count());
+            widths[i] = widths[i].max(UnicodeWidthStr::width(c.as_ref()));
         }
     }
     let mut out = String::new();
@@ -31,7 +33,7 @@ pub fn table(rows: &[Vec<String>]) -> String {
             if i + 1 == r.len() {
                 line.push_str(c);
             } else {
-                let pad = widths[i] - c.chars().count();
+                let pad = widths[i].saturating_sub(UnicodeWidthStr::width(c.as_ref()));
                 line.push_str(c);
                 line.push_str(&" ".repeat(pad + 2));
             }
@@ -1246,6 +1248,33 @@ mod tests {
         causes, check_text, release_hint_lines, runtime_hint_lines, shown_reasons, table, versions,
     };
     use crate::plan::explain::{ReleaseHint, RuntimeHint};
+
+    /// Columns line up on a terminal when a name holds wide characters: a CJK ideograph takes
+    /// two columns (Unicode Standard Annex #11, East Asian Width: U+78A7 is `W`; from memory,
+    /// and what `unicode-width` says) and a combining accent none, so counting characters put
+    /// every later column off by one per such character.
+    #[test]
+    fn columns_line_up_by_display_width() {
+        let rows = vec![
+            vec!["package".to_string(), "installs".to_string()],
+            vec!["\u{78a7}\u{78a7}-kp".to_string(), "2/3".to_string()],
+            vec!["e\u{301}-kp".to_string(), "1/3".to_string()],
+            vec!["plain-kp".to_string(), "0/3".to_string()],
+        ];
+        let text = table(&rows);
+        let starts: Vec<usize> = text
+            .lines()
+            .filter(|l| !l.starts_with('-'))
+            .map(|l| {
+                let at = l.rfind(' ').unwrap() + 1;
+                unicode_width::UnicodeWidthStr::width(&l[..at])
+            })
+            .collect();
+        assert!(
+            starts.windows(2).all(|w| w[0] == w[1]),
+            "{starts:?}\n{text}"
+        );
+    }
 
     fn trial(version: &str, outcome: Outcome, cause: Cause) -> Trial {
         Trial {
