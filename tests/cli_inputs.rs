@@ -2673,3 +2673,36 @@ fn one_data_quality_problem_is_noted_in_the_singular() {
     let note = "note: 1 data-quality problem in the inputs (run `basefit check` for the list)";
     assert!(stderr.lines().any(|l| l == note), "{stderr}");
 }
+
+/// A file name may hold a line break (a CI artifact named from a job's output): printed raw in
+/// a problem's place or an error, it would add lines that read as basefit's own, as a value
+/// quoted from the input would (README, "Commands": such a line break prints as `\n`).
+#[cfg(unix)]
+#[test]
+fn a_line_break_in_a_file_name_adds_no_report_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let forged = "basefit: forged line";
+    let registry = write(
+        dir.path(),
+        &format!("r\n{forged}.yaml"),
+        "packages:\n  - name: kp-a\n    versions: [{version: \"1.x\"}, {version: \"1.0.0\"}]\n",
+    );
+    let (_, out, err) = common::run_basefit([
+        "check".as_ref(),
+        "--registry".as_ref(),
+        registry.as_os_str(),
+    ]);
+    for text in [&out, &err] {
+        assert!(!text.lines().any(|l| l.starts_with(forged)), "{text}");
+    }
+    assert!(out.contains(&format!("r\\n{forged}.yaml:3")), "{out}");
+    let missing = dir.path().join(format!("gone\n{forged}.yaml"));
+    let (code, _, err) =
+        common::run_basefit(["check".as_ref(), "--registry".as_ref(), missing.as_os_str()]);
+    assert_eq!(code, 2, "{err}");
+    assert!(!err.lines().any(|l| l.starts_with(forged)), "{err}");
+    assert!(
+        err.contains(&format!("gone\\n{forged}.yaml: cannot read")),
+        "{err}"
+    );
+}

@@ -84,9 +84,10 @@ impl BadInput {
     }
 
     fn fmt_one(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let file = shown_file(&self.file);
         match self.line {
-            Some(line) => write!(f, "{}:{}: {}", self.file, line, self.message),
-            None => write!(f, "{}: {}", self.file, self.message),
+            Some(line) => write!(f, "{file}:{line}: {}", self.message),
+            None => write!(f, "{file}: {}", self.message),
         }
     }
 }
@@ -390,7 +391,18 @@ pub struct Origin {
 
 impl fmt::Display for Origin {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}:{}", self.file, self.line)
+        write!(f, "{}:{}", shown_file(&self.file), self.line)
+    }
+}
+
+/// A file's name where a message places something: a line break in it would start a line that
+/// reads as one of the report's own, so it prints as `\n`. Other control characters are
+/// escaped where messages are printed ([`crate::report::visible`]); JSON keeps the name as is.
+fn shown_file(file: &str) -> std::borrow::Cow<'_, str> {
+    if file.contains('\n') {
+        std::borrow::Cow::Owned(file.replace('\n', "\\n"))
+    } else {
+        std::borrow::Cow::Borrowed(file)
     }
 }
 
