@@ -264,24 +264,30 @@ fn run(view: &ImageView<'_>, provider: CellProvider<'_, '_>, root_id: PackageId)
     }
 }
 
+/// A registry read from YAML text and one debian image at runtime 3.0.0, for the solver's
+/// unit tests.
+#[cfg(test)]
+pub(crate) fn test_registry_and_image(yaml: &str) -> (crate::model::Registry, crate::model::Image) {
+    let mut b = crate::load::RegistryBuilder::new();
+    crate::load::registry::read_yaml_str("r.yaml", yaml, &mut b).unwrap();
+    let (registry, _) = b.finish();
+    let images = crate::load::images::read_images_str(
+        "i.yaml",
+        "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
+        &mut Default::default(),
+    )
+    .unwrap();
+    (registry, images.images[0].clone())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::load::images::read_images_str;
-    use crate::load::{RegistryBuilder, registry::read_yaml_str};
 
     fn solve(yaml: &str, root: &str) -> (crate::model::Registry, CellSolve) {
-        let mut b = RegistryBuilder::new();
-        read_yaml_str("r.yaml", yaml, &mut b).unwrap();
-        let (registry, _) = b.finish();
-        let images = read_images_str(
-            "i.yaml",
-            "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
-            &mut Default::default(),
-        )
-        .unwrap();
+        let (registry, image) = test_registry_and_image(yaml);
         let sets = SetCache::default();
-        let view = ImageView::new(&registry, &images.images[0], &sets);
+        let view = ImageView::new(&registry, &image, &sets);
         let spec = RootSpec {
             package: root,
             req: None,

@@ -383,8 +383,6 @@ impl DependencyProvider for CellProvider<'_, '_> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::load::images::read_images_str;
-    use crate::load::{RegistryBuilder, registry::read_yaml_str};
     use crate::model::{Image, Registry};
     use crate::solve::{SetCache, Solved, solve_joint};
 
@@ -392,16 +390,7 @@ mod tests {
     const KELP: &str = "packages:\n- name: kelp\n  versions:\n  - {version: 1.0.0}\n  - {version: 2.0.0}\n  - {version: 3.0.0}\n  - {version: 4.0.0}\n";
 
     fn setup(yaml: &str) -> (Registry, Image) {
-        let mut b = RegistryBuilder::new();
-        read_yaml_str("r.yaml", yaml, &mut b).unwrap();
-        let (registry, _) = b.finish();
-        let images = read_images_str(
-            "i.yaml",
-            "images:\n- {id: deb, runtime: 3.0.0, family: debian, platform: linux/glibc/x86_64}\n",
-            &mut Default::default(),
-        )
-        .unwrap();
-        (registry, images.images[0].clone())
+        crate::solve::test_registry_and_image(yaml)
     }
 
     #[test]
