@@ -11,8 +11,8 @@
 //! with `LC_ALL=C`; a localised compiler message is simply not recognised.
 //!
 //! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
-//!   directory` (`<command-line>: fatal error: ...` for one forced in with `-include`), clang `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include
-//!   file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
+//!   directory` (`<command-line>: fatal error: ...` for one forced in with `-include`), clang
+//!   `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
 //! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
 //!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
 //!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
@@ -49,14 +49,16 @@
 //!   source, so the identifiers and text it quotes are not read as other causes (`'ECONNREFUSED'
 //!   undeclared` is no network failure, a `#warning "ld: cannot find -lzz"` made an error by
 //!   `-Werror` no missing library). `configure:LINE: error:` lines, which `config.log` holds,
-//!   are configure's own words and no compiler error. Errors in autoconf's probe files (`conftest.c` and the
-//!   like) are not findings: configure compiles them expecting many to fail. The linker's
+//!   are configure's own words and no compiler error. Errors in autoconf's probe files
+//!   (`conftest.c` and the like) are not findings: configure compiles them expecting many to
+//!   fail. The linker's
 //!   `undefined reference` lines and `collect2: error: ld returned 1 exit status` carry no
 //!   source location and are not recognised.
 //! - [`LogCause::OutOfMemory`]: `out of memory` (including `cc1: out of memory allocating`),
 //!   `Cannot allocate memory`, `virtual memory exhausted`, `std::bad_alloc`, OOM-killer notes.
 //! - [`LogCause::Killed`]: the shell's `Killed` job report, make's `make: *** [Makefile:2: all]
-//!   Killed`, gcc's `Killed signal terminated program`, `SIGKILL`, `signal 9`, `signal: killed`, and exit code or status 137.
+//!   Killed`, gcc's `Killed signal terminated program`, `SIGKILL`, `signal 9`, `signal:
+//!   killed`, and exit code or status 137.
 //! - [`LogCause::Network`]: refused, reset, aborted or timed-out connections, DNS failures
 //!   (`Could not resolve host`, `Temporary failure in name resolution`, `EAI_AGAIN`), TLS
 //!   handshake timeouts, unreachable networks and gateway errors (502, 503, 504).
