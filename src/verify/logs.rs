@@ -12,7 +12,8 @@
 //!
 //! - [`LogCause::MissingHeader`]: gcc `a.c:1:10: fatal error: foo/bar.h: No such file or
 //!   directory` (`<command-line>: fatal error: ...` for one forced in with `-include`), clang
-//!   `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include file: 'foo.h'`. autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
+//!   `fatal error: 'foo/bar.h' file not found`, MSVC `Cannot open include file: 'foo.h'`.
+//!   autoconf's deliberate probe for `ac_nonexistent.h` is not a finding.
 //! - [`LogCause::MissingLibrary`]: GNU ld / gold `ld: cannot find -lfoo` (with or without the
 //!   trailing `: No such file or directory`), lld `ld.lld: error: unable to find library -lfoo`,
 //!   Apple ld `library not found for -lfoo` and `ld: library 'foo' not found`.
