@@ -84,7 +84,7 @@ impl BadInput {
     }
 
     fn fmt_one(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let file = shown_file(&self.file);
+        let file = on_one_line(&self.file);
         match self.line {
             Some(line) => write!(f, "{file}:{line}: {}", self.message),
             None => write!(f, "{file}: {}", self.message),
@@ -391,18 +391,19 @@ pub struct Origin {
 
 impl fmt::Display for Origin {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{}:{}", shown_file(&self.file), self.line)
+        write!(f, "{}:{}", on_one_line(&self.file), self.line)
     }
 }
 
-/// A file's name where a message places something: a line break in it would start a line that
-/// reads as one of the report's own, so it prints as `\n`. Other control characters are
-/// escaped where messages are printed ([`crate::report::visible`]); JSON keeps the name as is.
-fn shown_file(file: &str) -> std::borrow::Cow<'_, str> {
-    if file.contains('\n') {
-        std::borrow::Cow::Owned(file.replace('\n', "\\n"))
+/// `s` on one line of a message: a line break in a value quoted from the inputs (a file's
+/// name, a `log_file` path) would start a line that reads as one of the report's own, so it
+/// prints as `\n`. Other control characters are escaped where messages are printed
+/// ([`crate::report::visible`]); JSON keeps the value as is.
+pub(crate) fn on_one_line(s: &str) -> std::borrow::Cow<'_, str> {
+    if s.contains('\n') {
+        std::borrow::Cow::Owned(s.replace('\n', "\\n"))
     } else {
-        std::borrow::Cow::Borrowed(file)
+        std::borrow::Cow::Borrowed(s)
     }
 }
 

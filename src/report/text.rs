@@ -814,7 +814,11 @@ fn review_cell(out: &mut String, c: &crate::verify::compare::CellReview) {
         let _ = writeln!(out, "      log ({at}): {e}");
     }
     if let Some(why) = &c.log_unread {
-        let _ = writeln!(out, "      log file could not be read: {}", no_breaks(why));
+        let _ = writeln!(
+            out,
+            "      log file could not be read: {}",
+            crate::load::diag::on_one_line(why)
+        );
     }
     // Surprises are grouped under this already; elsewhere silence would read as "no log".
     let failed = c.attempts.contains(&crate::model::RecordedOutcome::Failed);
@@ -1229,17 +1233,6 @@ fn shown_reasons(reasons: &[String]) -> String {
         let _ = write!(line, "; and {} other reasons", reasons.len() - SHOWN);
     }
     line
-}
-
-/// A value quoted from a results file (a `log_file` path) on one report line: a line break in
-/// it would add lines that read as the review's own, and `visible` keeps line breaks for the
-/// text that has them by design.
-fn no_breaks(s: &str) -> std::borrow::Cow<'_, str> {
-    if s.contains('\n') {
-        std::borrow::Cow::Owned(s.replace('\n', "\\n"))
-    } else {
-        std::borrow::Cow::Borrowed(s)
-    }
 }
 
 #[cfg(test)]
